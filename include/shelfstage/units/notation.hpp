@@ -1,0 +1,50 @@
+// Engineering values: SI prefix notation and the IEC 60062 letter-and-digit code, both ways.
+#pragma once
+#include <cstddef>
+#include <string>
+#include <string_view>
+
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::units {
+
+/// The physical unit a value may carry as a suffix.
+enum class Unit { none, ohm, farad, volt, ampere, watt, hertz };
+
+/// A parse failure: says what was wrong and where (0-based column in the text).
+class ParseError : public InputError {
+ public:
+  ParseError(const std::string& message, std::size_t column) : InputError(message), column_(column) {}
+  std::size_t column() const noexcept { return column_; }
+
+ private:
+  std::size_t column_;
+};
+
+/// Parses an engineering value. Accepts
+///  - SI notation: `4.7k`, `100n`, `2.2u`, `2.2µ`, `1M`, `0.47`, `1e3`, `10meg` (SPICE style);
+///  - the IEC 60062 code, the multiplier letter standing for the decimal point:
+///    `4K7`, `R47`, `2M2`, `4n7`, `1R0`, `2u2`, `p68`;
+///  - an optional unit after the number: `Ω`/`ohm`/`ohms`/`R` (only at the end), `F`, `V`,
+///    `A`, `W`, `Hz`. When `expect` is not Unit::none a unit suffix must match it.
+/// Surrounding white space is allowed. Prefixes: p n u µ m k K M G (and `meg`).
+/// NaN, infinities and empty text are errors. Throws ParseError naming the text and column.
+double parse_value(std::string_view text, Unit expect = Unit::none);
+
+/// As parse_value, but returns false instead of throwing.
+bool try_parse_value(std::string_view text, double& out, Unit expect = Unit::none) noexcept;
+
+/// Formats a value as a technician writes it: three significant digits, trailing zeros
+/// dropped, SI prefix: 4700 -> "4.7k", 2.2e-7 -> "220n", 1e6 -> "1M", 0.47 -> "0.47",
+/// 10 -> "10", 1.5e-12 -> "1.5p". With a unit, the symbol follows ("4.7kΩ", "100nF").
+/// Ohms below 1 are printed without prefix ("0.47"), as a resistor is marked.
+std::string format_value(double value, Unit unit = Unit::none, int significant = 3);
+
+/// The IEC 60062 letter-and-digit code for a resistance or capacitance (in ohms or farads):
+/// 4700 -> "4K7", 0.47 -> "R47", 2.2e6 -> "2M2", 1 -> "1R0", 4.7e-9 -> "4n7", 1e-7 -> "100n".
+std::string format_code(double value, Unit unit);
+
+/// The unit symbol ("Ω", "F", "V", "A", "W", "Hz"), empty for Unit::none.
+std::string_view unit_symbol(Unit unit);
+
+}  // namespace shelfstage::units
