@@ -1,0 +1,82 @@
+// The exact solver: modified nodal analysis over a Circuit. DC operating point by damped
+// Newton-Raphson with gmin and source stepping; AC small-signal sweeps and noise,
+// linearised at the operating point. The reference inside the program for any stage.
+#pragma once
+#include <complex>
+#include <string>
+#include <vector>
+
+#include "shelfstage/circuit/netlist.hpp"
+
+namespace shelfstage::circuit {
+
+/// Small-signal figures of a transistor at the operating point.
+struct DeviceOp {
+  std::string designator;
+  double i_main_a = 0;   ///< drain or collector current (N frame: positive into the drain)
+  double i_ctrl_a = 0;   ///< gate or base current
+  double v_ctrl_v = 0;   ///< vgs or vbe (N frame)
+  double v_main_v = 0;   ///< vds or vce (N frame)
+  double gm_s = 0, go_s = 0, gpi_s = 0;
+  double c_in_f = 0;     ///< Cgs or Cbe at the operating point
+  double c_fb_f = 0;     ///< Cgd or Cbc at the operating point
+  devices::JfetRegion jfet_region = devices::JfetRegion::saturation;  ///< JFETs
+  bool bjt_saturated = false;  ///< BJTs: vbc > 0 (forward-biased collector)
+};
+
+/// A DC solution.
+struct OperatingPoint {
+  std::vector<double> node_v;         ///< by net index; ground is 0
+  std::vector<double> source_i;       ///< current of each voltage source, in element order of sources (into +, SPICE sign)
+  std::vector<DeviceOp> devices;      ///< in element order
+  int iterations = 0;
+  std::string method;                 ///< "newton", "gmin stepping", "source stepping"
+  double v(const Circuit& c, const std::string& net) const;
+};
+
+struct SolverOptions {
+  double celsius = devices::kNominalCelsius;
+  int max_iterations = 200;
+  double abstol_a = 1e-12;  ///< current tolerance
+  double vntol_v = 1e-7;    ///< voltage tolerance
+  double reltol = 1e-7;
+};
+
+/// Solves the DC operating point. Throws InputError when validation fails and
+/// InfeasibleError when no method converges.
+OperatingPoint solve_dc(const Circuit& circuit, const SolverOptions& options = {});
+
+/// Complex node voltages at one frequency, the sources driven by their ac_volts.
+std::vector<std::complex<double>> solve_ac(const Circuit& circuit, const OperatingPoint& op, double f_hz);
+
+/// Transfer from the AC sources to one net over a list of frequencies.
+std::vector<std::complex<double>> ac_sweep(const Circuit& circuit, const OperatingPoint& op,
+                                           const std::string& out_net, const std::vector<double>& f_hz);
+
+/// Noise at one frequency: output noise density at out_net (V/sqrt(Hz)) and the same
+/// referred to the input (divided by the magnitude of the transfer from the AC source).
+/// Sources: resistor thermal 4kT/R, JFET channel 8kT*gm/3, BJT shot 2q*Ic and 2q*Ib
+/// (the noise models of ngspice's resistor, JFET level 1 and BJT, without flicker noise).
+struct NoisePoint {
+  double output_v_rthz = 0;
+  double input_v_rthz = 0;
+  double gain = 0;  ///< |transfer| at that frequency
+};
+NoisePoint noise(const Circuit& circuit, const OperatingPoint& op, const std::string& out_net, double f_hz,
+                 double celsius = devices::kNominalCelsius);
+
+/// Frequencies log-spaced, points per decade.
+std::vector<double> log_sweep(double f_lo_hz, double f_hi_hz, int per_decade);
+
+/// The -3 dB points of a band-pass response (relative to the largest magnitude found),
+/// refined by bisection on the solver. f_low 0 when the response is flat down to f_lo.
+struct Corners {
+  double mid_gain = 0;  ///< signed real gain at the frequency of largest magnitude
+  double f_mid_hz = 0;
+  double f_low_hz = 0;
+  double f_high_hz = 0;
+};
+Corners find_corners(const Circuit& circuit, const OperatingPoint& op, const std::string& out_net,
+                     double f_lo_hz = 0.01, double f_hi_hz = 1e9);
+
+}  // namespace shelfstage::circuit

@@ -1,0 +1,486 @@
+// Modified nodal analysis: DC by damped Newton-Raphson (junction limiting, gmin stepping,
+// source stepping), AC by complex linear solves at the operating point, noise by the adjoint.
+#include "shelfstage/circuit/solver.hpp"
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <numbers>
+
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::circuit {
+
+namespace {
+
+using devices::BjtInstance;
+using devices::JfetInstance;
+
+constexpr double kGminJunction = 1e-12;  // SPICE's GMIN across every junction
+
+struct Layout {
+  std::size_t nodes = 0;    // non-ground nets
+  std::size_t sources = 0;  // voltage sources
+  std::vector<std::size_t> source_row;  // per element index, for vsources
+  std::size_t size() const { return nodes + sources; }
+};
+
+Layout layout(const Circuit& c) {
+  Layout l;
+  l.nodes = c.net_count() - 1;
+  l.source_row.assign(c.elements().size(), 0);
+  for (std::size_t i = 0; i < c.elements().size(); ++i) {
+    if (c.elements()[i].c.kind == ElementKind::vsource) l.source_row[i] = l.nodes + l.sources++;
+  }
+  return l;
+}
+
+// Index of net v in the unknown vector, or -1 for ground.
+inline long row(std::size_t v) { return static_cast<long>(v) - 1; }
+
+template <class M, class T>
+void stamp_g(M& A, std::size_t a, std::size_t b, T g) {
+  const long ra = row(a), rb = row(b);
+  if (ra >= 0) A(ra, ra) += g;
+  if (rb >= 0) A(rb, rb) += g;
+  if (ra >= 0 && rb >= 0) {
+    A(ra, rb) -= g;
+    A(rb, ra) -= g;
+  }
+}
+
+// A current into terminal `into` (leaving it toward the device) that depends on v(p)-v(n)
+// with transconductance g: adds g to A(into, p) and -g to A(into, n).
+template <class M, class T>
+void stamp_vccs(M& A, std::size_t into, std::size_t p, std::size_t n, T g) {
+  const long r = row(into);
+  if (r < 0) return;
+  if (row(p) >= 0) A(r, row(p)) += g;
+  if (row(n) >= 0) A(r, row(n)) -= g;
+}
+
+template <class V, class T>
+void stamp_i(V& b, std::size_t node, T current_out) {
+  if (row(node) >= 0) b(row(node)) -= current_out;
+}
+
+double node_v(const Eigen::VectorXd& x, std::size_t v) { return v == 0 ? 0.0 : x(row(v)); }
+
+// SPICE's pnjlim: limits the step of a junction voltage so the exponential stays tame.
+double pnjlim(double vnew, double vold, double vt, double vcrit) {
+  if (vnew > vcrit && std::abs(vnew - vold) > 2 * vt) {
+    if (vold > 0) {
+      const double arg = 1 + (vnew - vold) / vt;
+      return arg > 0 ? vold + vt * std::log(arg) : vcrit;
+    }
+    return vt * std::log(vnew / vt);
+  }
+  return vnew;
+}
+
+struct JunctionState {
+  double vbe = 0, vbc = 0;  // BJT, N frame, last limited values
+};
+
+struct DcState {
+  std::vector<JunctionState> bjt;
+};
+
+// Assembles the Newton system at x. gshunt: conductance from every node to ground (gmin
+// stepping); scale: source stepping factor.
+void assemble_dc(const Circuit& c, const Layout& l, const Eigen::VectorXd& x, double gshunt, double scale,
+                 DcState& st, bool limit, Eigen::MatrixXd& A, Eigen::VectorXd& b) {
+  A.setZero(static_cast<long>(l.size()), static_cast<long>(l.size()));
+  b.setZero(static_cast<long>(l.size()));
+  for (std::size_t n = 0; n < l.nodes; ++n) A(static_cast<long>(n), static_cast<long>(n)) += gshunt;
+  const auto& els = c.elements();
+  for (std::size_t i = 0; i < els.size(); ++i) {
+    const Component& e = els[i].c;
+    switch (e.kind) {
+      case ElementKind::resistor:
+        stamp_g(A, e.pins[0], e.pins[1], 1.0 / e.value);
+        break;
+      case ElementKind::capacitor:
+        break;
+      case ElementKind::vsource: {
+        const long k = static_cast<long>(l.source_row[i]);
+        if (row(e.pins[0]) >= 0) {
+          A(row(e.pins[0]), k) += 1;
+          A(k, row(e.pins[0])) += 1;
+        }
+        if (row(e.pins[1]) >= 0) {
+          A(row(e.pins[1]), k) -= 1;
+          A(k, row(e.pins[1])) -= 1;
+        }
+        b(k) = scale * e.value;
+        break;
+      }
+      case ElementKind::jfet: {
+        const JfetInstance& q = c.jfets()[e.device];
+        const double p = devices::polarity(q.kind);
+        const std::size_t d = e.pins[0], g = e.pins[1], s = e.pins[2];
+        const double vgs = p * (node_v(x, g) - node_v(x, s));
+        const double vds = p * (node_v(x, d) - node_v(x, s));
+        const auto ev = devices::jfet_eval(q, vgs, vds);
+        // Current into the drain (actual frame) and its linearisation.
+        const double id = p * ev.id_a;
+        const double ieq = id - ev.gm_s * (p * vgs) - ev.gds_s * (p * vds);
+        stamp_vccs(A, d, g, s, ev.gm_s);
+        stamp_vccs(A, d, d, s, ev.gds_s);
+        stamp_vccs(A, s, g, s, -ev.gm_s);
+        stamp_vccs(A, s, d, s, -ev.gds_s);
+        stamp_i(b, d, ieq);
+        stamp_i(b, s, -ieq);
+        stamp_g(A, g, s, kGminJunction);
+        stamp_g(A, g, d, kGminJunction);
+        break;
+      }
+      case ElementKind::bjt: {
+        const BjtInstance& q = c.bjts()[e.device];
+        const double p = devices::polarity(q.kind);
+        const std::size_t cn = e.pins[0], bn = e.pins[1], en = e.pins[2];
+        double vbe = p * (node_v(x, bn) - node_v(x, en));
+        double vbc = p * (node_v(x, bn) - node_v(x, cn));
+        JunctionState& js = st.bjt[e.device];
+        if (limit) {
+          const double vcrit = q.vt_v * std::log(q.vt_v / (std::numbers::sqrt2 * q.is_a));
+          vbe = pnjlim(vbe, js.vbe, q.vt_v, vcrit);
+          vbc = pnjlim(vbc, js.vbc, q.vt_v, vcrit);
+        }
+        js.vbe = vbe;
+        js.vbc = vbc;
+        const auto ev = devices::bjt_eval(q, vbe, vbc);
+        // Actual-frame currents into collector and base; derivatives are frame-invariant.
+        const double ic = p * ev.ic_a, ib = p * ev.ib_a;
+        const double ic_eq = ic - ev.dic_dvbe * (p * vbe) - ev.dic_dvbc * (p * vbc);
+        const double ib_eq = ib - ev.dib_dvbe * (p * vbe) - ev.dib_dvbc * (p * vbc);
+        stamp_vccs(A, cn, bn, en, ev.dic_dvbe);
+        stamp_vccs(A, cn, bn, cn, ev.dic_dvbc);
+        stamp_vccs(A, bn, bn, en, ev.dib_dvbe);
+        stamp_vccs(A, bn, bn, cn, ev.dib_dvbc);
+        stamp_vccs(A, en, bn, en, -(ev.dic_dvbe + ev.dib_dvbe));
+        stamp_vccs(A, en, bn, cn, -(ev.dic_dvbc + ev.dib_dvbc));
+        stamp_i(b, cn, ic_eq);
+        stamp_i(b, bn, ib_eq);
+        stamp_i(b, en, -(ic_eq + ib_eq));
+        stamp_g(A, bn, en, kGminJunction);
+        stamp_g(A, bn, cn, kGminJunction);
+        break;
+      }
+    }
+  }
+}
+
+// Newton from x; true on convergence.
+bool newton(const Circuit& c, const Layout& l, Eigen::VectorXd& x, double gshunt, double scale, DcState& st,
+            const SolverOptions& o, int& iterations) {
+  Eigen::MatrixXd A;
+  Eigen::VectorXd b;
+  for (int it = 0; it < o.max_iterations; ++it) {
+    ++iterations;
+    assemble_dc(c, l, x, gshunt, scale, st, true, A, b);
+    Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
+    Eigen::VectorXd xn = lu.solve(b);
+    if (!xn.allFinite()) return false;
+    Eigen::VectorXd dx = xn - x;
+    // Damping: no node moves more than 2 V in one step.
+    double worst = 0;
+    for (std::size_t n = 0; n < l.nodes; ++n) worst = std::max(worst, std::abs(dx(static_cast<long>(n))));
+    if (worst > 2.0) dx *= 2.0 / worst;
+    x += dx;
+    bool done = worst <= 2.0;
+    for (long k = 0; k < static_cast<long>(l.nodes) && done; ++k)
+      done = std::abs(dx(k)) <= o.reltol * std::abs(x(k)) + o.vntol_v;
+    if (done && it > 0) {
+      // Confirm the junction limiting did not bend the last step.
+      DcState check = st;
+      Eigen::MatrixXd A2;
+      Eigen::VectorXd b2;
+      assemble_dc(c, l, x, gshunt, scale, check, false, A2, b2);
+      const Eigen::VectorXd r = A2 * x - b2;
+      if (r.head(static_cast<long>(l.nodes)).cwiseAbs().maxCoeff() < 1e-9 + o.abstol_a * 1e3) return true;
+    }
+  }
+  return false;
+}
+
+DeviceOp device_op(const Circuit& c, const Component& e, const Eigen::VectorXd& x) {
+  DeviceOp op;
+  op.designator = e.designator;
+  if (e.kind == ElementKind::jfet) {
+    const JfetInstance& q = c.jfets()[e.device];
+    const double p = devices::polarity(q.kind);
+    const double vgs = p * (node_v(x, e.pins[1]) - node_v(x, e.pins[2]));
+    const double vds = p * (node_v(x, e.pins[0]) - node_v(x, e.pins[2]));
+    const auto ev = devices::jfet_eval(q, vgs, vds);
+    op.i_main_a = ev.id_a;
+    op.v_ctrl_v = vgs;
+    op.v_main_v = vds;
+    op.gm_s = ev.gm_s;
+    op.go_s = ev.gds_s;
+    op.jfet_region = ev.region;
+    op.c_in_f = devices::depletion_capacitance(q.cgs_f, vgs, devices::kJfetPb, devices::kJfetM);
+    op.c_fb_f = devices::depletion_capacitance(q.cgd_f, vgs - vds, devices::kJfetPb, devices::kJfetM);
+  } else {
+    const BjtInstance& q = c.bjts()[e.device];
+    const double p = devices::polarity(q.kind);
+    const double vbe = p * (node_v(x, e.pins[1]) - node_v(x, e.pins[2]));
+    const double vbc = p * (node_v(x, e.pins[1]) - node_v(x, e.pins[0]));
+    const auto ev = devices::bjt_eval(q, vbe, vbc);
+    op.i_main_a = ev.ic_a;
+    op.i_ctrl_a = ev.ib_a;
+    op.v_ctrl_v = vbe;
+    op.v_main_v = vbe - vbc;
+    op.gm_s = ev.dic_dvbe;
+    op.go_s = -ev.dic_dvbc;
+    op.gpi_s = ev.dib_dvbe;
+    op.bjt_saturated = vbc > 0.0;
+    op.c_in_f = devices::depletion_capacitance(q.cje_f, vbe, devices::kBjtVj, devices::kBjtM);
+    op.c_fb_f = devices::depletion_capacitance(q.cjc_f, vbc, devices::kBjtVj, devices::kBjtM);
+  }
+  return op;
+}
+
+}  // namespace
+
+double OperatingPoint::v(const Circuit& c, const std::string& net) const {
+  const auto n = c.find_net(net);
+  if (!n) throw InputError(fmt::format("no net '{}' in the circuit", net));
+  return node_v[*n];
+}
+
+OperatingPoint solve_dc(const Circuit& c, const SolverOptions& o) {
+  c.validate();
+  const Layout l = layout(c);
+  DcState st;
+  st.bjt.resize(c.bjts().size());
+  Eigen::VectorXd x = Eigen::VectorXd::Zero(static_cast<long>(l.size()));
+  int iterations = 0;
+  std::string method = "newton";
+  bool ok = newton(c, l, x, 0.0, 1.0, st, o, iterations);
+  if (!ok) {
+    // gmin stepping: a shunt from every node to ground, relaxed decade by decade.
+    method = "gmin stepping";
+    x.setZero();
+    st.bjt.assign(c.bjts().size(), {});
+    ok = true;
+    for (double g = 1e-2; g >= 1e-13 && ok; g /= 10) ok = newton(c, l, x, g, 1.0, st, o, iterations);
+    ok = ok && newton(c, l, x, 0.0, 1.0, st, o, iterations);
+  }
+  if (!ok) {
+    // Source stepping: ramp every source from zero, halving the step on failure.
+    method = "source stepping";
+    x.setZero();
+    st.bjt.assign(c.bjts().size(), {});
+    double scale = 0, step = 0.1;
+    ok = true;
+    while (scale < 1.0 && step > 1e-4) {
+      Eigen::VectorXd keep = x;
+      DcState keep_st = st;
+      const double next = std::min(1.0, scale + step);
+      if (newton(c, l, x, 0.0, next, st, o, iterations)) {
+        scale = next;
+        step = std::min(step * 1.5, 0.25);
+      } else {
+        x = keep;
+        st = keep_st;
+        step /= 2;
+      }
+    }
+    ok = scale >= 1.0;
+  }
+  if (!ok) throw InfeasibleError("DC operating point did not converge (Newton, gmin and source stepping all failed)");
+
+  OperatingPoint op;
+  op.iterations = iterations;
+  op.method = method;
+  op.node_v.assign(c.net_count(), 0.0);
+  for (std::size_t v = 1; v < c.net_count(); ++v) op.node_v[v] = x(row(v));
+  for (std::size_t i = 0; i < c.elements().size(); ++i) {
+    const Component& e = c.elements()[i].c;
+    if (e.kind == ElementKind::vsource) op.source_i.push_back(x(static_cast<long>(l.source_row[i])));
+    if (e.kind == ElementKind::jfet || e.kind == ElementKind::bjt) op.devices.push_back(device_op(c, e, x));
+  }
+  return op;
+}
+
+namespace {
+
+using cd = std::complex<double>;
+
+Eigen::MatrixXcd ac_matrix(const Circuit& c, const Layout& l, const OperatingPoint& op, double f_hz,
+                           Eigen::VectorXcd* rhs) {
+  const double w = 2 * std::numbers::pi * f_hz;
+  const cd jw(0, w);
+  Eigen::MatrixXcd A = Eigen::MatrixXcd::Zero(static_cast<long>(l.size()), static_cast<long>(l.size()));
+  if (rhs) *rhs = Eigen::VectorXcd::Zero(static_cast<long>(l.size()));
+  std::size_t dev = 0;
+  Eigen::VectorXd x(static_cast<long>(l.size()));
+  x.setZero();
+  for (std::size_t v = 1; v < c.net_count(); ++v) x(row(v)) = op.node_v[v];
+  const auto& els = c.elements();
+  for (std::size_t i = 0; i < els.size(); ++i) {
+    const Component& e = els[i].c;
+    switch (e.kind) {
+      case ElementKind::resistor:
+        stamp_g(A, e.pins[0], e.pins[1], cd(1.0 / e.value));
+        break;
+      case ElementKind::capacitor:
+        stamp_g(A, e.pins[0], e.pins[1], jw * e.value);
+        break;
+      case ElementKind::vsource: {
+        const long k = static_cast<long>(l.source_row[i]);
+        if (row(e.pins[0]) >= 0) {
+          A(row(e.pins[0]), k) += 1.0;
+          A(k, row(e.pins[0])) += 1.0;
+        }
+        if (row(e.pins[1]) >= 0) {
+          A(row(e.pins[1]), k) -= 1.0;
+          A(k, row(e.pins[1])) -= 1.0;
+        }
+        if (rhs) (*rhs)(k) = e.ac_volts;
+        break;
+      }
+      case ElementKind::jfet: {
+        const DeviceOp& d = op.devices[dev++];
+        const std::size_t dn = e.pins[0], g = e.pins[1], s = e.pins[2];
+        stamp_vccs(A, dn, g, s, cd(d.gm_s));
+        stamp_vccs(A, dn, dn, s, cd(d.go_s));
+        stamp_vccs(A, s, g, s, cd(-d.gm_s));
+        stamp_vccs(A, s, dn, s, cd(-d.go_s));
+        stamp_g(A, g, s, jw * d.c_in_f + kGminJunction);
+        stamp_g(A, g, dn, jw * d.c_fb_f + kGminJunction);
+        break;
+      }
+      case ElementKind::bjt: {
+        ++dev;
+        const BjtInstance& q = c.bjts()[e.device];
+        const double p = devices::polarity(q.kind);
+        const std::size_t cn = e.pins[0], bn = e.pins[1], en = e.pins[2];
+        const double vbe = p * (node_v(x, bn) - node_v(x, en));
+        const double vbc = p * (node_v(x, bn) - node_v(x, cn));
+        const auto ev = devices::bjt_eval(q, vbe, vbc);
+        stamp_vccs(A, cn, bn, en, cd(ev.dic_dvbe));
+        stamp_vccs(A, cn, bn, cn, cd(ev.dic_dvbc));
+        stamp_vccs(A, bn, bn, en, cd(ev.dib_dvbe));
+        stamp_vccs(A, bn, bn, cn, cd(ev.dib_dvbc));
+        stamp_vccs(A, en, bn, en, cd(-(ev.dic_dvbe + ev.dib_dvbe)));
+        stamp_vccs(A, en, bn, cn, cd(-(ev.dic_dvbc + ev.dib_dvbc)));
+        const DeviceOp& d = op.devices[dev - 1];
+        stamp_g(A, bn, en, jw * d.c_in_f + kGminJunction);
+        stamp_g(A, bn, cn, jw * d.c_fb_f + kGminJunction);
+        break;
+      }
+    }
+  }
+  return A;
+}
+
+}  // namespace
+
+std::vector<std::complex<double>> solve_ac(const Circuit& c, const OperatingPoint& op, double f_hz) {
+  const Layout l = layout(c);
+  Eigen::VectorXcd rhs;
+  const Eigen::MatrixXcd A = ac_matrix(c, l, op, f_hz, &rhs);
+  const Eigen::VectorXcd sol = A.partialPivLu().solve(rhs);
+  std::vector<cd> v(c.net_count(), cd(0));
+  for (std::size_t n = 1; n < c.net_count(); ++n) v[n] = sol(row(n));
+  return v;
+}
+
+std::vector<std::complex<double>> ac_sweep(const Circuit& c, const OperatingPoint& op, const std::string& out_net,
+                                           const std::vector<double>& f_hz) {
+  const auto n = c.find_net(out_net);
+  if (!n) throw InputError(fmt::format("no net '{}' in the circuit", out_net));
+  std::vector<cd> out;
+  out.reserve(f_hz.size());
+  for (double f : f_hz) out.push_back(solve_ac(c, op, f)[*n]);
+  return out;
+}
+
+NoisePoint noise(const Circuit& c, const OperatingPoint& op, const std::string& out_net, double f_hz,
+                 double celsius) {
+  const auto on = c.find_net(out_net);
+  if (!on || *on == 0) throw InputError(fmt::format("no net '{}' in the circuit", out_net));
+  const Layout l = layout(c);
+  Eigen::VectorXcd rhs;
+  const Eigen::MatrixXcd A = ac_matrix(c, l, op, f_hz, &rhs);
+  const auto lu = A.partialPivLu();
+  const cd h = lu.solve(rhs)(row(*on));
+  // Adjoint: z = A^-T e_out gives the transfer from a current injected at any node.
+  Eigen::VectorXcd e = Eigen::VectorXcd::Zero(static_cast<long>(l.size()));
+  e(row(*on)) = 1.0;
+  const Eigen::VectorXcd z = A.transpose().partialPivLu().solve(e);
+  auto zt = [&](std::size_t v) { return v == 0 ? cd(0) : z(row(v)); };
+  const double kt = devices::kBoltzmann * (celsius + devices::kZeroCelsius);
+  double s_out = 0;
+  auto add = [&](std::size_t a, std::size_t b, double s_i) { s_out += std::norm(zt(a) - zt(b)) * s_i; };
+  std::size_t dev = 0;
+  for (const auto& el : c.elements()) {
+    const Component& k = el.c;
+    if (k.kind == ElementKind::resistor) add(k.pins[0], k.pins[1], 4 * kt / k.value);
+    if (k.kind == ElementKind::jfet) {
+      const DeviceOp& d = op.devices[dev++];
+      add(k.pins[0], k.pins[2], 8.0 * kt * std::abs(d.gm_s) / 3.0);
+    }
+    if (k.kind == ElementKind::bjt) {
+      const DeviceOp& d = op.devices[dev++];
+      add(k.pins[0], k.pins[2], 2 * devices::kCharge * std::abs(d.i_main_a));
+      add(k.pins[1], k.pins[2], 2 * devices::kCharge * std::abs(d.i_ctrl_a));
+    }
+  }
+  NoisePoint np;
+  np.output_v_rthz = std::sqrt(s_out);
+  np.gain = std::abs(h);
+  np.input_v_rthz = np.gain > 0 ? np.output_v_rthz / np.gain : 0;
+  return np;
+}
+
+std::vector<double> log_sweep(double lo, double hi, int per_decade) {
+  std::vector<double> f;
+  const double step = 1.0 / per_decade;
+  for (double e = std::log10(lo); e <= std::log10(hi) + 1e-9; e += step) f.push_back(std::pow(10.0, e));
+  return f;
+}
+
+Corners find_corners(const Circuit& c, const OperatingPoint& op, const std::string& out_net, double f_lo,
+                     double f_hi) {
+  const auto n = c.find_net(out_net);
+  if (!n) throw InputError(fmt::format("no net '{}' in the circuit", out_net));
+  auto mag = [&](double f) { return std::abs(solve_ac(c, op, f)[*n]); };
+  const std::vector<double> fs = log_sweep(f_lo, f_hi, 10);
+  std::vector<double> m(fs.size());
+  std::size_t best = 0;
+  for (std::size_t i = 0; i < fs.size(); ++i) {
+    m[i] = mag(fs[i]);
+    if (m[i] > m[best]) best = i;
+  }
+  Corners r;
+  r.f_mid_hz = fs[best];
+  const cd hm = solve_ac(c, op, fs[best])[*n];
+  r.mid_gain = (hm.real() < 0 ? -1.0 : 1.0) * std::abs(hm);
+  const double target = m[best] / std::numbers::sqrt2;
+  auto bisect = [&](double a, double b) {  // a inside the band (above target), b outside
+    for (int i = 0; i < 40; ++i) {
+      const double mid = std::sqrt(a * b);
+      (mag(mid) >= target ? a : b) = mid;
+    }
+    return std::sqrt(a * b);
+  };
+  for (std::size_t i = best; i-- > 0;) {
+    if (m[i] < target) {
+      r.f_low_hz = bisect(fs[i + 1], fs[i]);
+      break;
+    }
+  }
+  for (std::size_t i = best + 1; i < fs.size(); ++i) {
+    if (m[i] < target) {
+      r.f_high_hz = bisect(fs[i - 1], fs[i]);
+      break;
+    }
+  }
+  return r;
+}
+
+}  // namespace shelfstage::circuit

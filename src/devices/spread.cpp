@@ -1,0 +1,198 @@
+// The spread model of a transistor type: a convex polygon of real JFET pieces in log space,
+// an hFE interval for BJTs, and corners and seeded samples drawn from the same model.
+#include "shelfstage/devices/spread.hpp"
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <fmt/format.h>
+#include <limits>
+
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::devices {
+
+namespace {
+
+double geo_mean(double a, double b) { return std::sqrt(a * b); }
+
+struct Pt {
+  double x, y;
+};
+
+// Vertices of {x in [xl,xh], y in [yl,yh], y - 2x in [bl,bh]}, counter-clockwise.
+std::vector<Pt> polygon(double xl, double xh, double yl, double yh, double bl, double bh) {
+  // Each boundary as a*x + b*y = c.
+  struct Line {
+    double a, b, c;
+  };
+  std::vector<Line> lines = {{1, 0, xl}, {1, 0, xh}, {0, 1, yl}, {0, 1, yh}};
+  if (std::isfinite(bl)) lines.push_back({-2, 1, bl});
+  if (std::isfinite(bh)) lines.push_back({-2, 1, bh});
+  const double eps = 1e-9;
+  auto inside = [&](Pt p) {
+    return p.x >= xl - eps && p.x <= xh + eps && p.y >= yl - eps && p.y <= yh + eps &&
+           p.y - 2 * p.x >= bl - eps && p.y - 2 * p.x <= bh + eps;
+  };
+  std::vector<Pt> pts;
+  for (std::size_t i = 0; i < lines.size(); ++i) {
+    for (std::size_t j = i + 1; j < lines.size(); ++j) {
+      const double det = lines[i].a * lines[j].b - lines[j].a * lines[i].b;
+      if (std::abs(det) < 1e-12) continue;
+      Pt p{(lines[i].c * lines[j].b - lines[j].c * lines[i].b) / det,
+           (lines[i].a * lines[j].c - lines[j].a * lines[i].c) / det};
+      if (!inside(p)) continue;
+      bool dup = false;
+      for (const Pt& q : pts) dup = dup || (std::abs(q.x - p.x) < 1e-7 && std::abs(q.y - p.y) < 1e-7);
+      if (!dup) pts.push_back(p);
+    }
+  }
+  if (pts.empty()) return pts;
+  Pt c{0, 0};
+  for (const Pt& p : pts) {
+    c.x += p.x / static_cast<double>(pts.size());
+    c.y += p.y / static_cast<double>(pts.size());
+  }
+  std::sort(pts.begin(), pts.end(), [&](Pt a, Pt b) {
+    return std::atan2(a.y - c.y, a.x - c.x) < std::atan2(b.y - c.y, b.x - c.x);
+  });
+  return pts;
+}
+
+}  // namespace
+
+DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options) : record_(record) {
+  if (is_jfet(record.kind)) {
+    const JfetParams& p = record.jfet;
+    const double id_lo = std::min(p.idss_a.min, p.idss_a.max);
+    const double id_hi = std::max(p.idss_a.min, p.idss_a.max);
+    const double vp_lo = std::min(std::abs(p.vp_v.min), std::abs(p.vp_v.max));
+    const double vp_hi = std::max(std::abs(p.vp_v.min), std::abs(p.vp_v.max));
+    if (!(id_lo > 0) || !(vp_lo > 0))
+      throw InputError(fmt::format("device {}: IDSS and VP ranges must be non-zero", record.name));
+    const double id_typ = p.idss_a.typ ? *p.idss_a.typ : geo_mean(id_lo, id_hi);
+    const double vp_typ = p.vp_v.typ ? std::abs(*p.vp_v.typ) : geo_mean(vp_lo, vp_hi);
+    const double beta_typ = id_typ / (vp_typ * vp_typ);
+    const double k = std::max(1.0, options.beta_spread);
+    build_jfet(vp_lo, vp_hi, id_lo, id_hi, beta_typ / k, beta_typ * k, beta_typ, vp_typ);
+    description_ = "datasheet spread";
+  } else {
+    const Range& h = record.bjt.hfe;
+    hfe_lo_ = std::min(h.min, h.max);
+    hfe_hi_ = std::max(h.min, h.max);
+    if (!(hfe_lo_ > 0)) throw InputError(fmt::format("device {}: hFE range must be positive", record.name));
+    nominal_.hfe = h.typ ? std::clamp(*h.typ, hfe_lo_, hfe_hi_) : geo_mean(hfe_lo_, hfe_hi_);
+    nominal_.tag = "nominal";
+    corners_ = {{0, 0, hfe_lo_, "hFE min"}, {0, 0, hfe_hi_, "hFE max"}};
+    description_ = "datasheet spread";
+  }
+}
+
+DeviceSpread::DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piece) : record_(record) {
+  const double u = std::clamp(piece.uncertainty, 0.0, 0.5);
+  if (is_jfet(record.kind)) {
+    if (!piece.idss_a || !piece.vp_v)
+      throw InputError(fmt::format("piece {}: a JFET piece needs both idss and vp", piece.label));
+    const double id = *piece.idss_a, vp = std::abs(*piece.vp_v);
+    if (!(id > 0) || !(vp > 0)) throw InputError(fmt::format("piece {}: idss and vp must be non-zero", piece.label));
+    build_jfet(vp * (1 - u), vp * (1 + u), id * (1 - u), id * (1 + u), std::nullopt, std::nullopt, id / (vp * vp), vp);
+    description_ = fmt::format("measured piece {} (+/-{:g}%)", piece.label, u * 100);
+  } else {
+    if (!piece.hfe || !(*piece.hfe > 0)) throw InputError(fmt::format("piece {}: a BJT piece needs hfe", piece.label));
+    hfe_lo_ = *piece.hfe * (1 - u);
+    hfe_hi_ = *piece.hfe * (1 + u);
+    nominal_.hfe = *piece.hfe;
+    nominal_.tag = "nominal";
+    corners_ = {{0, 0, hfe_lo_, "hFE min"}, {0, 0, hfe_hi_, "hFE max"}};
+    description_ = fmt::format("measured piece {} (+/-{:g}%)", piece.label, u * 100);
+  }
+}
+
+void DeviceSpread::build_jfet(double vp_lo, double vp_hi, double id_lo, double id_hi,
+                              std::optional<double> beta_lo, std::optional<double> beta_hi,
+                              double beta_nom, double vp_nom) {
+  x_lo_ = std::log(vp_lo);
+  x_hi_ = std::log(vp_hi);
+  y_lo_ = std::log(id_lo);
+  y_hi_ = std::log(id_hi);
+  const double inf = std::numeric_limits<double>::infinity();
+  b_lo_ = beta_lo ? std::log(*beta_lo) : -inf;
+  b_hi_ = beta_hi ? std::log(*beta_hi) : inf;
+  std::vector<Pt> poly = polygon(x_lo_, x_hi_, y_lo_, y_hi_, b_lo_, b_hi_);
+  // NOTES 5: an inconsistent record (band and box apart) widens the band until they meet.
+  for (int i = 0; poly.empty() && i < 60; ++i) {
+    b_lo_ -= 0.25;
+    b_hi_ += 0.25;
+    poly = polygon(x_lo_, x_hi_, y_lo_, y_hi_, b_lo_, b_hi_);
+  }
+  corners_.clear();
+  for (std::size_t i = 0; i < poly.size(); ++i) {
+    PieceFigures f;
+    f.vp_abs_v = std::exp(poly[i].x);
+    f.idss_a = std::exp(poly[i].y);
+    f.tag = fmt::format("corner {} (IDSS {:.3g} mA, |VP| {:.3g} V)", i + 1, f.idss_a * 1e3, f.vp_abs_v);
+    corners_.push_back(f);
+  }
+  // Nominal: typical BETA at the typical |VP| (set by the caller), pulled into the polygon.
+  nominal_.tag = "nominal";
+  const double x_nom = std::clamp(std::log(vp_nom), x_lo_, x_hi_);
+  const double b_nom = std::clamp(std::log(beta_nom), b_lo_, b_hi_);
+  nominal_.vp_abs_v = std::exp(x_nom);
+  nominal_.idss_a = std::exp(std::clamp(b_nom + 2 * x_nom, y_lo_, y_hi_));
+}
+
+bool DeviceSpread::contains(const PieceFigures& f, double slack) const {
+  if (is_jfet(record_.kind)) {
+    const double x = std::log(f.vp_abs_v), y = std::log(f.idss_a);
+    return x >= x_lo_ - slack && x <= x_hi_ + slack && y >= y_lo_ - slack && y <= y_hi_ + slack &&
+           y - 2 * x >= b_lo_ - slack && y - 2 * x <= b_hi_ + slack;
+  }
+  return f.hfe >= hfe_lo_ * (1 - slack) && f.hfe <= hfe_hi_ * (1 + slack);
+}
+
+std::vector<PieceFigures> DeviceSpread::samples(std::size_t n, std::uint64_t seed) const {
+  std::mt19937_64 rng(seed);
+  std::uniform_real_distribution<double> u01(0.0, 1.0);
+  std::vector<PieceFigures> out;
+  out.reserve(n);
+  if (is_jfet(record_.kind)) {
+    const double inf = std::numeric_limits<double>::infinity();
+    // Finite sampling range for BETA: the band, or (measured piece) what the box allows.
+    const double bl = b_lo_ > -inf ? b_lo_ : y_lo_ - 2 * x_hi_;
+    const double bh = b_hi_ < inf ? b_hi_ : y_hi_ - 2 * x_lo_;
+    std::size_t tries = 0;
+    while (out.size() < n) {
+      const double x = x_lo_ + (x_hi_ - x_lo_) * u01(rng);
+      const double b = bl + (bh - bl) * u01(rng);
+      const double y = b + 2 * x;
+      if (++tries > 1000 * (n + 1)) {
+        // Degenerate polygon: fall back to points between the nominal and a corner.
+        const PieceFigures& c = corners_[out.size() % corners_.size()];
+        const double t = u01(rng);
+        PieceFigures f{std::exp((1 - t) * std::log(nominal_.idss_a) + t * std::log(c.idss_a)),
+                       std::exp((1 - t) * std::log(nominal_.vp_abs_v) + t * std::log(c.vp_abs_v)), 0, {}};
+        f.tag = fmt::format("MC {}", out.size() + 1);
+        out.push_back(f);
+        continue;
+      }
+      if (y < y_lo_ || y > y_hi_) continue;
+      PieceFigures f{std::exp(y), std::exp(x), 0, fmt::format("MC {}", out.size() + 1)};
+      out.push_back(f);
+    }
+  } else {
+    const double lo = std::log(hfe_lo_), hi = std::log(hfe_hi_);
+    for (std::size_t i = 0; i < n; ++i)
+      out.push_back({0, 0, std::exp(lo + (hi - lo) * u01(rng)), fmt::format("MC {}", i + 1)});
+  }
+  return out;
+}
+
+JfetInstance DeviceSpread::jfet(const PieceFigures& f, double celsius) const {
+  return jfet_at(record_.jfet, record_.kind, f.idss_a, f.vp_abs_v, celsius);
+}
+
+BjtInstance DeviceSpread::bjt(const PieceFigures& f, double celsius) const {
+  return bjt_at(record_.bjt, record_.kind, f.hfe, celsius);
+}
+
+}  // namespace shelfstage::devices
