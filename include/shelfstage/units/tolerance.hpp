@@ -16,7 +16,9 @@ struct Tolerance {
   friend bool operator==(const Tolerance&, const Tolerance&) = default;
 };
 
-/// Parses `5%`, `5`, `±5%`, `+-5%`, `1 %`, `0.1%`, `-20/+80%`, `+80/-20%`, `-10+50%`.
+/// Parses `5%`, `5`, `±5%`, `+-5%`, `1 %`, `0.1%`, `-20/+80%`, `+80/-20%`, `-10+50%`, and the
+/// IEC 60062 letters B C D F G J K M (0.1 ... 20 %) and Z (-20/+80 %). A lone `+5%` or `-5%`
+/// is refused as ambiguous; above +1000 % is refused.
 /// Throws units::ParseError (an InputError) on anything else, or a tolerance of 100 % or more below.
 Tolerance parse_tolerance(std::string_view text);
 
@@ -24,7 +26,8 @@ Tolerance parse_tolerance(std::string_view text);
 std::string format_tolerance(const Tolerance& tol);
 
 /// Parses a voltage gain: a plain magnitude in V/V (`10`, `10x`, `10V/V`) or decibels
-/// (`20dB`, `20 dB`). Returns the magnitude in V/V (> 0). Throws units::ParseError.
+/// (`20dB`, `20 dB`, `-6dB`: attenuation is allowed). Returns the magnitude in V/V (> 0).
+/// Throws units::ParseError for zero, a signed V/V figure, NaN, or beyond 1e-24 ... 1e24.
 double parse_gain(std::string_view text);
 
 /// 20*log10(|v|).

@@ -1,0 +1,378 @@
+// Engineering values: SI prefix notation and the IEC 60062 letter-and-digit code, both ways.
+//
+// NOTES
+//  1. Parsing never goes through a product such as 2.2 * 1e-6: the digits and the prefix
+//     exponent are written out again as one decimal ("2.2e-6") and converted once, so that
+//     parse_value("2u2") == 2.2e-6 exactly, the same double as the literal.
+//  2. Prefix letters: p n u µ (U+00B5) μ (U+03BC) m k M G and `meg`. Upper-case P, N, U and K
+//     are accepted because parts are marked that way ("100P", "4N7", "10UF", "4K7") and SI
+//     gives them no other meaning here (peta is not accepted); `m` (milli) and `M` (mega) are
+//     never folded. `f` and `a` (femto, atto) are not prefixes, so farads and amperes must be
+//     written upper-case (`F`, `A`).
+//  3. `R` is the ohm: as the decimal marker of the code (4R7) or as a unit at the very end
+//     (100R). It is refused where a unit other than ohms is expected, so that a capacitor's
+//     "4R7" (EIA style for 4.7 pF) is caught instead of read as 4.7 ohms. `F` likewise marks
+//     the point of a capacitance of farads (IEC 60062: 4F7).
+//  4. format_value prints micro as the ASCII "u" (SPICE reads it; every keyboard has it).
+#include "shelfstage/units/notation.hpp"
+
+#include <array>
+#include <cmath>
+#include <optional>
+
+#include <fmt/format.h>
+
+#include "scan.hpp"
+
+namespace shelfstage::units {
+
+namespace {
+
+using detail::fail;
+using detail::fail_at;
+using detail::match;
+using detail::match_ci;
+using detail::quoted;
+
+struct Prefix {
+  std::string_view text;
+  int exponent;
+  bool any_case;
+};
+
+// Longest first: "meg" before "m".
+constexpr std::array<Prefix, 16> prefixes{{
+    {"meg", 6, true},
+    {"\xC2\xB5", -6, false},  // U+00B5 MICRO SIGN
+    {"\xCE\xBC", -6, false},  // U+03BC GREEK SMALL LETTER MU
+    {"p", -12, false},
+    {"P", -12, false},
+    {"n", -9, false},
+    {"N", -9, false},
+    {"u", -6, false},
+    {"U", -6, false},
+    {"m", -3, false},
+    {"k", 3, false},
+    {"K", 3, false},
+    {"M", 6, false},
+    {"G", 9, false},
+    {"g", 9, false},
+    {"", 0, false},
+}};
+
+bool match_prefix(std::string_view text, std::size_t& pos, int& exponent, bool allow_meg = true) {
+  for (const Prefix& p : prefixes) {
+    if (p.text.empty()) break;
+    if (!allow_meg && p.any_case) continue;
+    if (p.any_case ? match_ci(text, pos, p.text) : match(text, pos, p.text)) {
+      exponent = p.exponent;
+      return true;
+    }
+  }
+  return false;
+}
+
+struct UnitWord {
+  std::string_view text;
+  Unit unit;
+  bool any_case;
+};
+
+// Longest first: "ohms" before "ohm". `R` is handled apart (only at the end).
+constexpr std::array<UnitWord, 10> unit_words{{
+    {"ohms", Unit::ohm, true},
+    {"ohm", Unit::ohm, true},
+    {"\xCE\xA9", Unit::ohm, false},      // U+03A9 GREEK CAPITAL LETTER OMEGA
+    {"\xE2\x84\xA6", Unit::ohm, false},  // U+2126 OHM SIGN
+    {"Hz", Unit::hertz, true},
+    {"F", Unit::farad, false},
+    {"V", Unit::volt, true},
+    {"A", Unit::ampere, false},
+    {"W", Unit::watt, true},
+    {"", Unit::none, false},
+}};
+
+bool match_unit(std::string_view text, std::size_t& pos, Unit& unit) {
+  for (const UnitWord& w : unit_words) {
+    if (w.text.empty()) break;
+    if (w.any_case ? match_ci(text, pos, w.text) : match(text, pos, w.text)) {
+      unit = w.unit;
+      return true;
+    }
+  }
+  // `R` as the unit only at the very end, so that "4R7" stays a code.
+  std::size_t p = pos;
+  if (match_ci(text, p, "r")) {
+    std::size_t rest = p;
+    detail::skip_space(text, rest);
+    if (rest == text.size()) {
+      pos = p;
+      unit = Unit::ohm;
+      return true;
+    }
+  }
+  return false;
+}
+
+std::string_view unit_noun(Unit unit) {
+  switch (unit) {
+    case Unit::ohm: return "ohms";
+    case Unit::farad: return "farads";
+    case Unit::volt: return "volts";
+    case Unit::ampere: return "amperes";
+    case Unit::watt: return "watts";
+    case Unit::hertz: return "hertz";
+    case Unit::none: break;
+  }
+  return "a plain number";
+}
+
+bool is_letter(std::string_view c) {
+  if (c.empty()) return false;
+  const auto b = static_cast<unsigned char>(c[0]);
+  return (b >= 'a' && b <= 'z') || (b >= 'A' && b <= 'Z') || b >= 0x80;
+}
+
+// Floor division by 3, times 3: the engineering exponent of a decimal exponent.
+int engineering(int exponent) { return (exponent >= 0 ? exponent / 3 : -((-exponent + 2) / 3)) * 3; }
+
+// Drops trailing zeros (and a trailing point) from a decimal written with a point.
+std::string trim_fraction(std::string s) {
+  if (s.find('.') == std::string::npos) return s;
+  while (!s.empty() && s.back() == '0') s.pop_back();
+  if (!s.empty() && s.back() == '.') s.pop_back();
+  return s;
+}
+
+// digits (a significand) placed with int_len digits before the point: ("470", 1) -> "4.7".
+std::string place_point(const std::string& digits, int int_len) {
+  std::string s;
+  if (int_len <= 0) {
+    s = "0." + std::string(static_cast<std::size_t>(-int_len), '0') + digits;
+  } else if (static_cast<std::size_t>(int_len) >= digits.size()) {
+    s = digits + std::string(static_cast<std::size_t>(int_len) - digits.size(), '0');
+  } else {
+    s = digits.substr(0, static_cast<std::size_t>(int_len)) + "." + digits.substr(static_cast<std::size_t>(int_len));
+  }
+  return trim_fraction(s);
+}
+
+std::string_view prefix_symbol(int exponent) {
+  switch (exponent) {
+    case -12: return "p";
+    case -9: return "n";
+    case -6: return "u";
+    case -3: return "m";
+    case 3: return "k";
+    case 6: return "M";
+    case 9: return "G";
+    default: return "";
+  }
+}
+
+}  // namespace
+
+double parse_value(std::string_view text, Unit expect) {
+  constexpr std::string_view what = "value";
+  std::size_t pos = 0;
+  detail::skip_space(text, pos);
+  if (pos == text.size()) fail(what, text, 0, "empty");
+  const std::size_t start = pos;
+
+  bool negative = false;
+  if (!match(text, pos, "+")) negative = detail::match_minus(text, pos);
+  const std::size_t number_pos = pos;
+  detail::Decimal d = detail::scan_decimal(text, pos);
+  long exponent = 0;
+  std::optional<Unit> unit;  // the unit written, if any
+  std::size_t unit_pos = 0;
+
+  // The IEC 60062 code: a multiplier letter stands for the decimal point and digits follow it
+  // (4K7, R47, 2M2, 4n7, p68). Digits before the letter may be absent (R47), a point may not.
+  bool code = false;
+  if (!d.point) {
+    std::size_t p = pos;
+    int e = 0;
+    std::optional<Unit> marks;  // R and F stand for the point and name the unit too
+    if (match_ci(text, p, "r")) {
+      marks = Unit::ohm;
+    } else if (match(text, p, "F")) {
+      marks = Unit::farad;
+    } else if (!match_prefix(text, p, e, false)) {
+      p = pos;
+    }
+    if (p != pos && p < text.size() && detail::is_digit(text[p])) {
+      code = true;
+      if (marks) {
+        unit = marks;
+        unit_pos = pos;
+      }
+      exponent = e;
+      pos = p;
+      while (pos < text.size() && detail::is_digit(text[pos])) d.frac_digits += text[pos++];
+    }
+  }
+
+  bool prefix_given = false;
+  if (!code) {
+    if (!d.has_digits()) {
+      const std::string_view c = detail::char_at(text, number_pos);
+      fail_at(what, text, number_pos,
+              c.empty() ? std::string("expected a number") : fmt::format("expected a number, found '{}'", quoted(c)));
+    }
+    detail::scan_exponent(text, pos, exponent);
+    std::size_t p = pos;
+    detail::skip_space(text, p);
+    int e = 0;
+    if (match_prefix(text, p, e)) {
+      exponent += e;
+      prefix_given = true;
+      pos = p;
+    }
+  }
+
+  // The unit, then nothing but white space.
+  std::size_t p = pos;
+  detail::skip_space(text, p);
+  Unit written = Unit::none;
+  const std::size_t written_pos = p;
+  bool unit_given = false;
+  if (match_unit(text, p, written)) {
+    unit_given = true;
+    pos = p;
+    if (unit && *unit != written) {
+      fail_at(what, text, written_pos,
+              fmt::format("unit '{}' after the code letter '{}', which marks {}",
+                          quoted(text.substr(written_pos, p - written_pos)), text[unit_pos], unit_noun(*unit)));
+    }
+    if (!unit) {
+      unit = written;
+      unit_pos = written_pos;
+    }
+  }
+  detail::skip_space(text, pos);
+  if (pos != text.size()) {
+    const std::string_view c = detail::char_at(text, pos);
+    std::size_t q = pos;
+    int e = 0;
+    if (match_prefix(text, q, e)) {
+      fail_at(what, text, pos, fmt::format("second multiplier '{}' (a value takes one)", quoted(c)));
+    } else if (c == ",") {
+      fail_at(what, text, pos, "unexpected ',' (write the decimal point as '.')");
+    } else if (is_letter(c) && !unit_given && !prefix_given && !code) {
+      fail_at(what, text, pos, fmt::format("unknown multiplier '{}'", quoted(c)));
+    } else if (is_letter(c) && !unit_given) {
+      fail_at(what, text, pos, fmt::format("unknown unit '{}'", quoted(c)));
+    } else {
+      fail_at(what, text, pos, fmt::format("unexpected '{}'", quoted(c)));
+    }
+  }
+  if (expect != Unit::none && unit && *unit != expect) {
+    // The unit as written: a word such as "ohm" or "Hz", or the one letter R of a code.
+    std::size_t word_end = unit_pos;
+    Unit ignored = Unit::none;
+    if (!match_unit(text, word_end, ignored)) word_end = unit_pos + 1;
+    fail_at(what, text, unit_pos,
+            fmt::format("unit '{}' where {} are expected", quoted(text.substr(unit_pos, word_end - unit_pos)),
+                        unit_noun(expect)));
+  }
+
+  const std::optional<double> value = detail::to_double(negative, d, exponent);
+  const bool zero = d.int_digits.find_first_not_of('0') == std::string::npos &&
+                    d.frac_digits.find_first_not_of('0') == std::string::npos;
+  if (zero) return 0.0;  // "-0" is zero, not a signed zero
+  if (!value || std::fabs(*value) < detail::min_magnitude || std::fabs(*value) > detail::max_magnitude) {
+    fail(what, text, start, "out of range (the magnitude must lie between 1e-24 and 1e24)");
+  }
+  return *value;
+}
+
+bool try_parse_value(std::string_view text, double& out, Unit expect) noexcept {
+  try {
+    out = parse_value(text, expect);
+    return true;
+  } catch (...) {
+    return false;
+  }
+}
+
+std::string format_value(double value, Unit unit, int significant) {
+  const std::string_view symbol = unit_symbol(unit);
+  if (std::isnan(value)) return "nan";
+  if (std::isinf(value)) return value < 0 ? "-inf" : "inf";
+  if (value == 0) return fmt::format("0{}", symbol);
+  if (significant < 1) significant = 1;
+  if (significant > 17) significant = 17;
+
+  const detail::Rounded r = detail::round_significant(value, significant);
+  const std::string_view sign = value < 0 ? "-" : "";
+  // A resistor marked 0.47 (and a plain ratio) reads better without a prefix below 1.
+  if ((unit == Unit::ohm || unit == Unit::none) && r.exponent >= -3 && r.exponent < 0) {
+    return fmt::format("{}{}{}", sign, place_point(r.digits, r.exponent + 1), symbol);
+  }
+  const int p = engineering(r.exponent);
+  if (p < -12 || p > 9) {  // beyond the prefixes: plain scientific, which parse_value reads back
+    return fmt::format("{}{}e{}{}", sign, place_point(r.digits, 1), r.exponent, symbol);
+  }
+  return fmt::format("{}{}{}{}", sign, place_point(r.digits, r.exponent - p + 1), prefix_symbol(p), symbol);
+}
+
+std::string format_code(double value, Unit unit) {
+  if (unit != Unit::ohm && unit != Unit::farad) {
+    throw InputError(fmt::format("IEC 60062 code: a value in {} has no code (only ohms and farads)", unit_noun(unit)));
+  }
+  if (!std::isfinite(value) || value < 0 || (value == 0 && unit == Unit::farad)) {
+    throw InputError(fmt::format("IEC 60062 code: {} '{}' must be positive", unit_noun(unit), value));
+  }
+  if (value == 0) return "0R";  // zero-ohm link (common practice)
+
+  // The letter that stands for the decimal point, by engineering exponent: resistance
+  // R K M G, capacitance p n u m F (IEC 60062; micro printed as "u"; tera left out, as
+  // parse_value does not read it).
+  const bool ohms = unit == Unit::ohm;
+  const int lowest = ohms ? 0 : -12;
+  const int highest = ohms ? 9 : 0;
+  const detail::Rounded r = detail::round_significant(value, 3);
+  int p = engineering(r.exponent);
+  if (p < lowest) p = lowest;
+  if (p > highest) p = highest;
+  char letter = 'R';
+  if (ohms) {
+    constexpr std::string_view letters = "RKMG";
+    letter = letters[static_cast<std::size_t>(p / 3)];
+  } else {
+    constexpr std::string_view letters = "pnumF";
+    letter = letters[static_cast<std::size_t>((p + 12) / 3)];
+  }
+
+  const int int_len = r.exponent - p + 1;
+  std::string digits = r.digits;
+  while (digits.size() > 1 && digits.back() == '0' && static_cast<int>(digits.size()) > int_len) digits.pop_back();
+  if (int_len <= 0) {  // below the smallest letter: R47, p68, R047; at least two digits
+    std::string frac = std::string(static_cast<std::size_t>(-int_len), '0') + digits;
+    if (frac.size() < 2) frac += '0';
+    return fmt::format("{}{}", letter, frac);
+  }
+  const auto n = static_cast<std::size_t>(int_len);
+  if (digits.size() <= n) {
+    std::string whole = digits + std::string(n - digits.size(), '0');
+    // 1R0, 4K0: a lone digit keeps a zero after the letter, so the letter reads as a point.
+    return n == 1 ? fmt::format("{}{}0", whole, letter) : fmt::format("{}{}", whole, letter);
+  }
+  return fmt::format("{}{}{}", digits.substr(0, n), letter, digits.substr(n));
+}
+
+std::string_view unit_symbol(Unit unit) {
+  switch (unit) {
+    case Unit::ohm: return "\xCE\xA9";  // U+03A9, the form Unicode recommends for the ohm
+    case Unit::farad: return "F";
+    case Unit::volt: return "V";
+    case Unit::ampere: return "A";
+    case Unit::watt: return "W";
+    case Unit::hertz: return "Hz";
+    case Unit::none: break;
+  }
+  return "";
+}
+
+}  // namespace shelfstage::units
