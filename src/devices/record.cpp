@@ -1,0 +1,50 @@
+// Names of the transistor kinds, as the stock and device CSV files write them.
+#include "shelfstage/devices/record.hpp"
+
+#include <array>
+
+namespace shelfstage::devices {
+
+namespace {
+
+struct KindName {
+  DeviceKind kind;
+  std::string_view name;
+};
+constexpr std::array<KindName, 4> kind_names{{
+    {DeviceKind::njfet, "NJFET"},
+    {DeviceKind::pjfet, "PJFET"},
+    {DeviceKind::npn, "NPN"},
+    {DeviceKind::pnp, "PNP"},
+}};
+
+bool equal_ci(std::string_view a, std::string_view b) {
+  if (a.size() != b.size()) return false;
+  for (std::size_t i = 0; i < a.size(); ++i) {
+    char c = a[i];
+    if (c >= 'a' && c <= 'z') c = static_cast<char>(c - 'a' + 'A');
+    if (c != b[i]) return false;  // b is one of the upper-case names above
+  }
+  return true;
+}
+
+}  // namespace
+
+std::string_view kind_name(DeviceKind kind) {
+  for (const KindName& k : kind_names) {
+    if (k.kind == kind) return k.name;
+  }
+  return "?";
+}
+
+bool parse_kind(std::string_view text, DeviceKind& out) {
+  for (const KindName& k : kind_names) {
+    if (equal_ci(text, k.name)) {
+      out = k.kind;
+      return true;
+    }
+  }
+  return false;
+}
+
+}  // namespace shelfstage::devices
