@@ -78,10 +78,16 @@ class Database {
   std::optional<devices::MeasuredPiece> piece(std::string_view label) const;
   /// Stores a measured piece; the device must exist; labels are unique.
   void add_piece(const devices::MeasuredPiece& piece);
+  /// Stores many measured pieces in one transaction (CSV import): all or nothing.
+  void add_pieces(const std::vector<devices::MeasuredPiece>& pieces);
 
   // --- ledger and health -------------------------------------------------------------
+  /// Entries in order of writing. InputError when filter.since is not a date like
+  /// 2026-12-01 or a UTC date-time like 2026-12-01T21:53[:00][Z].
   std::vector<LedgerEntry> ledger(const LedgerFilter& filter = {}) const;
-  /// Ledger invariant, integrity_check, foreign_key_check.
+  /// Ledger invariant, integrity_check, foreign_key_check, and: 0 <= reserved <= qty,
+  /// reserved equal to the reservations held, removed lines empty, transistor lines of
+  /// their device's kind, the schema's guard triggers present.
   CheckReport check() const;
 
   /// Low-level handle for layers above that add tables through migrations (designs,

@@ -5,7 +5,9 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <vector>
 
+#include "shelfstage/devices/record.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::store {
@@ -17,6 +19,10 @@ std::string_view kind_code(PartKind kind);
 /// Parses a kind code (case-insensitive); false for anything else.
 bool parse_kind_code(std::string_view text, PartKind& out);
 inline bool is_passive(PartKind k) { return k == PartKind::resistor || k == PartKind::capacitor; }
+/// The part kind of a transistor type: NJFET -> njfet, ..., PNP -> pnp.
+PartKind part_kind(devices::DeviceKind kind);
+/// The transistor type of a part kind; false for R and C.
+bool device_kind(PartKind kind, devices::DeviceKind& out);
 
 /// One stock line: a value in one bin. The same value may sit in several bins (several lines).
 struct Part {
@@ -33,11 +39,36 @@ struct Part {
   int reserved = 0;               ///< pieces held for planned builds (<= qty)
   std::string bin;
   std::string note;
+  bool removed = false;           ///< taken off the shelf (Database::remove_part); history kept
 
   int available() const { return qty - reserved; }
   /// Polarised capacitor (electrolytic or tantalum): series use and reverse voltage forbidden.
   bool polarised() const;
 };
+
+/// Checks the fields of a part on their own (not whether its device exists): one message per
+/// problem, naming the field and the value ("qty -3 is negative"); empty when the part is
+/// sound. Rules: R and C have a finite value > 0 (C at most 1 F, which catches "4.7" meant
+/// as 4.7u) and no device; transistors have a device and no value; 0 <= reserved <= qty;
+/// a tolerance within [0, 1) below and [0, 10] above; power (R only) and volts (C only)
+/// finite and > 0; a dielectric only on C.
+std::vector<std::string> part_problems(const Part& part);
+
+/// Checks a transistor type on its own: one message per problem, naming the device, the
+/// field and the value; empty when sound. JFET: 0 < idss_min <= idss_max; vp_min <= vp_max
+/// (numerically), both negative for N-channel and both positive for P-channel; typicals
+/// inside their range; lambda, cgs, cgd >= 0. BJT: 0 < hfe_min <= hfe_max; is, vaf > 0;
+/// cje, cjc, vce_sat >= 0. Every figure finite; the name not empty.
+std::vector<std::string> device_problems(const devices::DeviceRecord& device);
+
+/// Checks a measured piece against its device's kind: a label; uncertainty in [0, 1);
+/// JFET pieces carry idss (> 0) and/or vp (signed as the channel type) and no hfe; BJT
+/// pieces carry hfe (> 0) and no idss or vp.
+std::vector<std::string> piece_problems(const devices::MeasuredPiece& piece, const devices::DeviceRecord& device);
+
+/// A short human description: "R 4.7k 5% 0.25W bin A3", "C 100u -20/+80% 25V electrolytic",
+/// "NPN BC549C bin T1". Used for ledger lines and messages.
+std::string describe(const Part& part);
 
 /// One append-only ledger line: a change of quantity on hand, and why.
 struct LedgerEntry {

@@ -1,0 +1,714 @@
+// CSV in and out of the stock: an RFC 4180 reader and writer, and the stock, device and
+// measured-piece files with every bad row reported and nothing taken from a bad file.
+#include "shelfstage/store/csv.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cctype>
+#include <charconv>
+#include <climits>
+#include <cmath>
+#include <map>
+#include <optional>
+#include <set>
+
+#include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/tolerance.hpp"
+
+namespace shelfstage::store {
+namespace {
+
+using units::Unit;
+
+std::string_view trim(std::string_view s) {
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
+  return s;
+}
+
+std::string lower(std::string_view s) {
+  std::string out(s);
+  for (char& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return out;
+}
+
+bool all_digits(std::string_view s) {
+  return !s.empty() && std::all_of(s.begin(), s.end(), [](char c) { return c >= '0' && c <= '9'; });
+}
+
+/// Text as it goes between quotes in a message: control bytes as \xNN, cut after 40 bytes.
+std::string shown(std::string_view text) {
+  std::string out;
+  const std::size_t limit = 40;
+  for (std::size_t i = 0; i < text.size() && i < limit; ++i) {
+    const auto c = static_cast<unsigned char>(text[i]);
+    if (c < 0x20 || c == 0x7f)
+      out += fmt::format("\\x{:02X}", c);
+    else
+      out += static_cast<char>(c);
+  }
+  if (text.size() > limit) out += "...";
+  return out;
+}
+
+/// A units parse error reworded for a column: "value '4.7q': ..." -> "power '4.7q': ...".
+std::string reworded(std::string_view field, const std::exception& e) {
+  const std::string m = e.what();
+  const auto q = m.find(" '");
+  if (q != std::string::npos) return std::string(field) + m.substr(q);
+  return fmt::format("{}: {}", field, m);
+}
+
+// --- RFC 4180 reading ------------------------------------------------------------------
+
+struct SyntaxError {
+  std::size_t line;
+  std::string message;
+};
+
+bool is_blank(char c) { return c == ' ' || c == '\t'; }
+
+/// Splits text into records; throws SyntaxError.
+std::vector<CsvRow> split(std::string_view text) {
+  std::vector<CsvRow> rows;
+  std::size_t pos = 0;
+  const std::size_t n = text.size();
+  if (text.substr(0, 3) == "\xEF\xBB\xBF") pos = 3;  // UTF-8 byte-order mark
+  std::size_t line = 1;
+
+  // Consumes one line end at pos (CRLF, LF or a lone CR), if there is one.
+  auto line_end = [&]() -> bool {
+    if (pos < n && text[pos] == '\r') {
+      ++pos;
+      if (pos < n && text[pos] == '\n') ++pos;
+      ++line;
+      return true;
+    }
+    if (pos < n && text[pos] == '\n') {
+      ++pos;
+      ++line;
+      return true;
+    }
+    return false;
+  };
+
+  while (pos < n) {
+    // A line of nothing but spaces is blank: skip it.
+    std::size_t look = pos;
+    while (look < n && is_blank(text[look])) ++look;
+    if (look == n) break;
+    if (text[look] == '\r' || text[look] == '\n') {
+      pos = look;
+      line_end();
+      continue;
+    }
+
+    CsvRow row;
+    row.line = line;
+    while (true) {
+      std::string field;
+      std::size_t start = pos;
+      while (start < n && is_blank(text[start])) ++start;
+      if (start < n && text[start] == '"') {
+        const std::size_t open_line = line;
+        pos = start + 1;
+        while (true) {
+          if (pos >= n) throw SyntaxError{open_line, "unterminated quoted field (the quote opens on this line)"};
+          const char c = text[pos];
+          if (c == '"') {
+            if (pos + 1 < n && text[pos + 1] == '"') {
+              field += '"';
+              pos += 2;
+              continue;
+            }
+            ++pos;
+            break;
+          }
+          if (c == '\n' && !(pos > 0 && text[pos - 1] == '\r')) ++line;
+          if (c == '\r') ++line;
+          field += c;
+          ++pos;
+        }
+        while (pos < n && is_blank(text[pos])) ++pos;
+        if (pos < n && text[pos] != ',' && text[pos] != '\r' && text[pos] != '\n')
+          throw SyntaxError{line, fmt::format("text after the closing quote of field {} (a quote inside a quoted "
+                                              "field is written twice: \"\")",
+                                              row.fields.size() + 1)};
+      } else {
+        while (pos < n && text[pos] != ',' && text[pos] != '\r' && text[pos] != '\n') field += text[pos++];
+      }
+      row.fields.push_back(std::move(field));
+      if (pos < n && text[pos] == ',') {
+        ++pos;
+        continue;
+      }
+      line_end();
+      break;
+    }
+    rows.push_back(std::move(row));
+  }
+  return rows;
+}
+
+// --- column tables ---------------------------------------------------------------------
+
+/// The problems found in a file, and the all-or-nothing rule.
+class Problems {
+ public:
+  explicit Problems(std::string_view source) : source_(source) {}
+  void add(std::size_t line, std::string_view message) {
+    list_.push_back(fmt::format("{}:{}: {}", source_, line, message));
+    if (bad_lines_.insert(line).second) ++bad_rows_;
+  }
+  bool any() const { return !list_.empty(); }
+  /// Throws CsvError when any row was bad.
+  void finish() const {
+    if (list_.empty()) return;
+    throw CsvError(fmt::format("{}: {} bad {}, nothing imported", source_, bad_rows_, bad_rows_ == 1 ? "row" : "rows"),
+                   list_);
+  }
+
+ private:
+  std::string source_;
+  std::vector<std::string> list_;
+  std::set<std::size_t> bad_lines_;
+  std::size_t bad_rows_ = 0;
+};
+
+/// A CSV file with a header: data rows and the column of each name.
+class Sheet {
+ public:
+  Sheet(std::string_view text, std::string_view source, std::vector<std::string_view> known,
+        std::vector<std::string_view> required)
+      : source_(source), known_(std::move(known)) {
+    std::vector<CsvRow> all = read_csv(text, source);
+    if (all.empty())
+      throw CsvError(fmt::format("{}: empty file, nothing imported", source),
+                     {fmt::format("{}:1: the first row must name the columns ({})", source, known_list())});
+    const CsvRow& header = all.front();
+    std::vector<std::string> problems;
+    for (std::size_t i = 0; i < header.fields.size(); ++i) {
+      const std::string name = lower(trim(header.fields[i]));
+      if (name.empty()) {
+        nameless_.push_back(i);
+        continue;
+      }
+      if (std::find(known_.begin(), known_.end(), name) == known_.end()) {
+        problems.push_back(fmt::format("{}:{}: unknown column '{}' (columns: {})", source, header.line,
+                                       shown(header.fields[i]), known_list()));
+      } else if (!columns_.emplace(name, i).second) {
+        problems.push_back(fmt::format("{}:{}: duplicate column '{}'", source, header.line, name));
+      }
+    }
+    for (std::string_view r : required)
+      if (!columns_.count(std::string(r)))
+        problems.push_back(fmt::format("{}:{}: missing column '{}'", source, header.line, r));
+    if (!problems.empty()) throw CsvError(fmt::format("{}: bad header, nothing imported", source), problems);
+    width_ = header.fields.size();
+    for (std::size_t i = 1; i < all.size(); ++i) {
+      const auto& f = all[i].fields;
+      if (std::all_of(f.begin(), f.end(), [](const std::string& s) { return trim(s).empty(); })) continue;
+      rows_.push_back(std::move(all[i]));
+    }
+  }
+
+  const std::vector<CsvRow>& rows() const { return rows_; }
+
+  /// Checks a row's shape; false (and problems noted) when it cannot be read.
+  bool shape_ok(const CsvRow& row, Problems& problems) const {
+    if (row.fields.size() > width_) {
+      problems.add(row.line, fmt::format("{} fields but the header names {} columns", row.fields.size(), width_));
+      return false;
+    }
+    for (std::size_t i : nameless_) {
+      if (i < row.fields.size() && !trim(row.fields[i]).empty()) {
+        problems.add(row.line, fmt::format("'{}' in column {}, which has no name in the header",
+                                           shown(trim(row.fields[i])), i + 1));
+        return false;
+      }
+    }
+    return true;
+  }
+
+  /// The trimmed field of the named column; empty when the column or the field is absent.
+  std::string_view get(const CsvRow& row, std::string_view name) const {
+    const auto it = columns_.find(std::string(name));
+    if (it == columns_.end() || it->second >= row.fields.size()) return {};
+    return trim(row.fields[it->second]);
+  }
+
+ private:
+  std::string known_list() const {
+    std::string out;
+    for (auto k : known_) {
+      if (!out.empty()) out += ", ";
+      out += k;
+    }
+    return out;
+  }
+  std::string source_;
+  std::vector<std::string_view> known_;
+  std::map<std::string, std::size_t> columns_;
+  std::vector<std::size_t> nameless_;
+  std::size_t width_ = 0;
+  std::vector<CsvRow> rows_;
+};
+
+// --- field readers: each notes its problem and returns nullopt ----------------------------
+
+/// A whole count >= 0: "12", "+12", "12.0".
+std::optional<int> read_count(std::string_view field, std::string_view text, std::size_t line, Problems& p) {
+  if (text.empty()) {
+    p.add(line, fmt::format("{} is missing", field));
+    return std::nullopt;
+  }
+  std::string_view s = text;
+  bool negative = false;
+  if (s.front() == '+' || s.front() == '-') {
+    negative = s.front() == '-';
+    s.remove_prefix(1);
+  }
+  if (const auto dot = s.find('.'); dot != std::string_view::npos && dot > 0 &&
+                                    std::all_of(s.begin() + static_cast<std::ptrdiff_t>(dot) + 1, s.end(),
+                                                [](char c) { return c == '0'; }))
+    s = s.substr(0, dot);
+  if (!all_digits(s)) {
+    p.add(line, fmt::format("{} '{}' is not a whole number", field, shown(text)));
+    return std::nullopt;
+  }
+  if (negative && s.find_first_not_of('0') != std::string_view::npos) {
+    p.add(line, fmt::format("{} '{}' is negative", field, shown(text)));
+    return std::nullopt;
+  }
+  long long v = 0;
+  const auto [end, ec] = std::from_chars(s.data(), s.data() + s.size(), v);
+  if (ec != std::errc() || end != s.data() + s.size() || v > INT_MAX) {
+    p.add(line, fmt::format("{} '{}' is too large", field, shown(text)));
+    return std::nullopt;
+  }
+  return static_cast<int>(v);
+}
+
+/// An engineering value with an optional unit suffix; empty text is nullopt without a problem
+/// unless required.
+std::optional<double> read_value(std::string_view field, std::string_view text, Unit unit, std::size_t line,
+                                  Problems& p, bool required = false) {
+  if (text.empty()) {
+    if (required) p.add(line, fmt::format("{} is missing", field));
+    return std::nullopt;
+  }
+  try {
+    return units::parse_value(text, unit);
+  } catch (const InputError& e) {
+    p.add(line, reworded(field, e));
+    return std::nullopt;
+  }
+}
+
+/// A power rating in watts: 0.25, 0.25W, 250mW, or a fraction 1/4, 1/4W, 1/4 W.
+std::optional<double> read_power(std::string_view text, std::size_t line, Problems& p) {
+  if (text.empty()) return std::nullopt;
+  if (const auto slash = text.find('/'); slash != std::string_view::npos) {
+    std::string_view s = text;
+    if (!s.empty() && (s.back() == 'W' || s.back() == 'w')) s = trim(s.substr(0, s.size() - 1));
+    const auto num = trim(s.substr(0, slash));
+    const auto den = trim(s.substr(slash + 1));
+    unsigned long a = 0, b = 0;
+    if (all_digits(num) && all_digits(den) && num.size() < 10 && den.size() < 10) {
+      std::from_chars(num.data(), num.data() + num.size(), a);
+      std::from_chars(den.data(), den.data() + den.size(), b);
+      if (b != 0 && a != 0) return static_cast<double>(a) / static_cast<double>(b);
+    }
+    p.add(line, fmt::format("power '{}' is not a rating in watts (0.25, 1/4, 1/4W, 250mW)", shown(text)));
+    return std::nullopt;
+  }
+  return read_value("power", text, Unit::watt, line, p);
+}
+
+/// A fraction written as a percentage ("3%") or plainly ("0.03"); a plain number of 1 or
+/// more is refused as a likely percentage without its sign.
+std::optional<double> read_fraction(std::string_view field, std::string_view text, std::size_t line, Problems& p) {
+  if (text.empty()) return std::nullopt;
+  std::string_view s = text;
+  const bool percent = s.back() == '%';
+  if (percent) s = trim(s.substr(0, s.size() - 1));
+  double v = 0;
+  if (!units::try_parse_value(s, v) || !std::isfinite(v)) {
+    p.add(line, fmt::format("{} '{}' is not a percentage or fraction (3% or 0.03)", field, shown(text)));
+    return std::nullopt;
+  }
+  if (percent) return v / 100.0;
+  if (v >= 1.0) {
+    p.add(line, fmt::format("{} '{}' reads as {} %; write {}% if that is meant", field, shown(text), v * 100.0,
+                            shown(text)));
+    return std::nullopt;
+  }
+  return v;
+}
+
+/// A temperature coefficient: a plain number or a percentage, with an optional "/K".
+std::optional<double> read_tempco(std::string_view field, std::string_view text, Unit unit, std::size_t line,
+                                  Problems& p) {
+  if (text.empty()) return std::nullopt;
+  std::string_view s = text;
+  if (s.size() >= 2 && (s.substr(s.size() - 2) == "/K" || s.substr(s.size() - 2) == "/k"))
+    s = trim(s.substr(0, s.size() - 2));
+  const bool percent = !s.empty() && s.back() == '%';
+  if (percent) s = trim(s.substr(0, s.size() - 1));
+  double v = 0;
+  if (!units::try_parse_value(s, v, percent ? Unit::none : unit)) {
+    p.add(line, fmt::format("{} '{}' is not a temperature coefficient", field, shown(text)));
+    return std::nullopt;
+  }
+  return percent ? v / 100.0 : v;
+}
+
+/// The shortest SI-notation text that reads back as exactly v.
+std::string exact(double v) {
+  for (int digits = 6; digits <= 17; ++digits) {
+    std::string t = units::format_value(v, Unit::none, digits);
+    double back = 0;
+    if (units::try_parse_value(t, back) && back == v) return t;
+  }
+  return fmt::format("{}", v);
+}
+
+std::string plain(double v) { return fmt::format("{}", v); }
+
+/// Finds a name case-insensitively; the spelling of the list, or nullopt.
+template <class T, class Name>
+const T* find_name(const std::vector<T>& list, std::string_view want, Name name) {
+  const std::string w = lower(want);
+  for (const auto& item : list)
+    if (lower(name(item)) == w) return &item;
+  return nullptr;
+}
+
+std::string join_row(const std::vector<std::string>& fields) {
+  std::string out;
+  for (std::size_t i = 0; i < fields.size(); ++i) {
+    if (i > 0) out += ',';
+    out += csv_field(fields[i]);
+  }
+  out += '\n';  // LF, as Unix tools expect; the reader takes CRLF as well
+  return out;
+}
+
+}  // namespace
+
+// --- public ------------------------------------------------------------------------------
+
+std::vector<CsvRow> read_csv(std::string_view text) {
+  try {
+    return split(text);
+  } catch (const SyntaxError& e) {
+    const std::string m = fmt::format("line {}: {}", e.line, e.message);
+    throw CsvError(m, {m});
+  }
+}
+
+std::vector<CsvRow> read_csv(std::string_view text, std::string_view source) {
+  try {
+    return split(text);
+  } catch (const SyntaxError& e) {
+    throw CsvError(fmt::format("{}: not readable as CSV, nothing imported", source),
+                   {fmt::format("{}:{}: {}", source, e.line, e.message)});
+  }
+}
+
+std::string csv_field(std::string_view field) {
+  const bool needs = field.find_first_of(",\"\r\n") != std::string_view::npos ||
+                     (!field.empty() && (is_blank(field.front()) || is_blank(field.back())));
+  if (!needs) return std::string(field);
+  std::string out = "\"";
+  for (char c : field) {
+    if (c == '"') out += '"';
+    out += c;
+  }
+  out += '"';
+  return out;
+}
+
+// --- stock -------------------------------------------------------------------------------
+
+std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
+                                  const std::vector<std::string>& known_devices) {
+  const Sheet sheet(text, source,
+                    {"kind", "value", "qty", "tol", "power", "volts", "dielectric", "package", "bin", "note"},
+                    {"kind", "value", "qty"});
+  Problems problems(source);
+  std::vector<Part> out;
+  for (const CsvRow& row : sheet.rows()) {
+    if (!sheet.shape_ok(row, problems)) continue;
+    const std::size_t line = row.line;
+    bool bad = false;
+    auto note = [&](std::string_view m) {
+      problems.add(line, m);
+      bad = true;
+    };
+    Part p;
+
+    const auto kind_text = sheet.get(row, "kind");
+    bool kind_ok = false;
+    if (kind_text.empty())
+      note("kind is missing");
+    else if (!(kind_ok = parse_kind_code(kind_text, p.kind)))
+      note(fmt::format("kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", shown(kind_text)));
+
+    const auto value_text = sheet.get(row, "value");
+    if (value_text.empty()) {
+      note("value is missing");
+    } else if (kind_ok && is_passive(p.kind)) {
+      const Unit unit = p.kind == PartKind::resistor ? Unit::ohm : Unit::farad;
+      if (auto v = read_value("value", value_text, unit, line, problems)) p.value = *v;
+      else bad = true;
+    } else if (kind_ok) {
+      const auto* name = find_name(known_devices, value_text, [](const std::string& s) { return s; });
+      if (name == nullptr)
+        note(fmt::format("value '{}' is not a device in the device list (import it first with devices import)",
+                         shown(value_text)));
+      else
+        p.device = *name;
+    }
+
+    if (auto q = read_count("qty", sheet.get(row, "qty"), line, problems)) p.qty = *q;
+    else bad = true;
+
+    if (const auto t = sheet.get(row, "tol"); !t.empty()) {
+      try {
+        p.tol = units::parse_tolerance(t);
+      } catch (const InputError& e) {
+        note(reworded("tol", e));
+      }
+    }
+    if (const auto t = sheet.get(row, "power"); !t.empty()) {
+      if (auto w = read_power(t, line, problems)) p.power_w = *w;
+      else bad = true;
+    }
+    if (const auto t = sheet.get(row, "volts"); !t.empty()) {
+      if (auto v = read_value("volts", t, Unit::volt, line, problems)) p.volts = *v;
+      else bad = true;
+    }
+    p.dielectric = std::string(sheet.get(row, "dielectric"));
+    p.package = std::string(sheet.get(row, "package"));
+    p.bin = std::string(sheet.get(row, "bin"));
+    p.note = std::string(sheet.get(row, "note"));
+    if (bad || !kind_ok) continue;
+    const auto issues = part_problems(p);
+    for (const auto& issue : issues) problems.add(line, issue);
+    if (issues.empty()) out.push_back(std::move(p));
+  }
+  problems.finish();
+  return out;
+}
+
+std::string write_stock_csv(const std::vector<Part>& parts) {
+  std::string out = join_row({"kind", "value", "qty", "tol", "power", "volts", "dielectric", "package", "bin", "note"});
+  for (const Part& p : parts) {
+    out += join_row({std::string(kind_code(p.kind)), is_passive(p.kind) ? exact(p.value) : p.device,
+                     std::to_string(p.qty), p.tol ? units::format_tolerance(*p.tol) : std::string(),
+                     p.power_w ? plain(*p.power_w) : std::string(), p.volts ? plain(*p.volts) : std::string(),
+                     p.dielectric, p.package, p.bin, p.note});
+  }
+  return out;
+}
+
+// --- devices -------------------------------------------------------------------------------
+
+namespace {
+
+constexpr std::string_view kJfetColumns[] = {"idss_min", "idss_max", "idss_typ", "vp_min", "vp_max", "vp_typ",
+                                             "lambda",   "cgs",      "cgd",      "tc_idss", "tc_vp"};
+constexpr std::string_view kBjtColumns[] = {"hfe_min", "hfe_max", "hfe_typ", "is", "vaf", "cje", "cjc", "vce_sat"};
+
+}  // namespace
+
+std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std::string_view source) {
+  std::vector<std::string_view> known = {"name", "kind"};
+  known.insert(known.end(), std::begin(kJfetColumns), std::end(kJfetColumns));
+  known.insert(known.end(), std::begin(kBjtColumns), std::end(kBjtColumns));
+  known.push_back("note");
+  const Sheet sheet(text, source, known, {"name", "kind"});
+  Problems problems(source);
+  std::vector<devices::DeviceRecord> out;
+  std::map<std::string, std::size_t> seen;  // lower-case name -> line
+  for (const CsvRow& row : sheet.rows()) {
+    if (!sheet.shape_ok(row, problems)) continue;
+    const std::size_t line = row.line;
+    bool bad = false;
+    auto note = [&](std::string_view m) {
+      problems.add(line, m);
+      bad = true;
+    };
+    devices::DeviceRecord d;
+    d.name = std::string(sheet.get(row, "name"));
+    d.note = std::string(sheet.get(row, "note"));
+    if (d.name.empty()) {
+      note("name is missing");
+    } else if (const auto [it, fresh] = seen.emplace(lower(d.name), line); !fresh) {
+      note(fmt::format("name '{}' already appears on line {}", shown(d.name), it->second));
+    }
+    const auto kind_text = sheet.get(row, "kind");
+    if (kind_text.empty()) {
+      note("kind is missing");
+      continue;
+    }
+    if (!devices::parse_kind(kind_text, d.kind)) {
+      note(fmt::format("kind '{}' is not one of NJFET, PJFET, NPN, PNP", shown(kind_text)));
+      continue;
+    }
+    const bool jfet = devices::is_jfet(d.kind);
+    // Figures of the other family on this row point at a shifted or mistyped row.
+    for (std::string_view c : jfet ? std::vector<std::string_view>(std::begin(kBjtColumns), std::end(kBjtColumns))
+                                   : std::vector<std::string_view>(std::begin(kJfetColumns), std::end(kJfetColumns)))
+      if (!sheet.get(row, c).empty())
+        note(fmt::format("{} '{}' given for kind {} (a {} figure)", c, shown(sheet.get(row, c)),
+                         devices::kind_name(d.kind), jfet ? "BJT" : "JFET"));
+
+    auto figure = [&](std::string_view col, Unit unit, bool required, double& into) {
+      if (auto v = read_value(col, sheet.get(row, col), unit, line, problems, required))
+        into = *v;
+      else if (required || !sheet.get(row, col).empty())
+        bad = true;
+    };
+    auto typical = [&](std::string_view col, Unit unit, std::optional<double>& into) {
+      if (auto v = read_value(col, sheet.get(row, col), unit, line, problems)) into = *v;
+      else if (!sheet.get(row, col).empty()) bad = true;
+    };
+    auto tempco = [&](std::string_view col, Unit unit, double& into) {
+      if (auto v = read_tempco(col, sheet.get(row, col), unit, line, problems)) into = *v;
+      else if (!sheet.get(row, col).empty()) bad = true;
+    };
+    if (jfet) {
+      auto& j = d.jfet;
+      figure("idss_min", Unit::ampere, true, j.idss_a.min);
+      figure("idss_max", Unit::ampere, true, j.idss_a.max);
+      typical("idss_typ", Unit::ampere, j.idss_a.typ);
+      figure("vp_min", Unit::volt, true, j.vp_v.min);
+      figure("vp_max", Unit::volt, true, j.vp_v.max);
+      typical("vp_typ", Unit::volt, j.vp_v.typ);
+      figure("lambda", Unit::none, false, j.lambda_per_v);
+      figure("cgs", Unit::farad, false, j.cgs_f);
+      figure("cgd", Unit::farad, false, j.cgd_f);
+      tempco("tc_idss", Unit::none, j.tc_idss_per_k);
+      tempco("tc_vp", Unit::volt, j.tc_vp_v_per_k);
+      // The two ends of a datasheet range come in either order (-0.5 .. -3 or -3 .. -0.5).
+      if (j.idss_a.min > j.idss_a.max) std::swap(j.idss_a.min, j.idss_a.max);
+      if (j.vp_v.min > j.vp_v.max) std::swap(j.vp_v.min, j.vp_v.max);
+    } else {
+      auto& b = d.bjt;
+      figure("hfe_min", Unit::none, true, b.hfe.min);
+      figure("hfe_max", Unit::none, true, b.hfe.max);
+      typical("hfe_typ", Unit::none, b.hfe.typ);
+      figure("is", Unit::ampere, false, b.is_a);
+      figure("vaf", Unit::volt, false, b.vaf_v);
+      figure("cje", Unit::farad, false, b.cje_f);
+      figure("cjc", Unit::farad, false, b.cjc_f);
+      figure("vce_sat", Unit::volt, false, b.vce_sat_v);
+      if (b.hfe.min > b.hfe.max) std::swap(b.hfe.min, b.hfe.max);
+    }
+    if (bad) continue;
+    const auto issues = device_problems(d);
+    for (const auto& issue : issues) problems.add(line, issue);
+    if (issues.empty()) out.push_back(std::move(d));
+  }
+  problems.finish();
+  return out;
+}
+
+std::string write_devices_csv(const std::vector<devices::DeviceRecord>& records) {
+  std::vector<std::string> header = {"name", "kind"};
+  header.insert(header.end(), std::begin(kJfetColumns), std::end(kJfetColumns));
+  header.insert(header.end(), std::begin(kBjtColumns), std::end(kBjtColumns));
+  header.emplace_back("note");
+  std::string out = join_row(header);
+  auto opt = [](const std::optional<double>& v) { return v ? exact(*v) : std::string(); };
+  for (const auto& d : records) {
+    std::vector<std::string> f = {d.name, std::string(devices::kind_name(d.kind))};
+    if (devices::is_jfet(d.kind)) {
+      const auto& j = d.jfet;
+      for (auto s : {exact(j.idss_a.min), exact(j.idss_a.max), opt(j.idss_a.typ), exact(j.vp_v.min), exact(j.vp_v.max),
+                     opt(j.vp_v.typ), exact(j.lambda_per_v), exact(j.cgs_f), exact(j.cgd_f), exact(j.tc_idss_per_k),
+                     exact(j.tc_vp_v_per_k)})
+        f.push_back(s);
+      f.insert(f.end(), std::size(kBjtColumns), std::string());
+    } else {
+      const auto& b = d.bjt;
+      f.insert(f.end(), std::size(kJfetColumns), std::string());
+      for (auto s : {exact(b.hfe.min), exact(b.hfe.max), opt(b.hfe.typ), exact(b.is_a), exact(b.vaf_v), exact(b.cje_f),
+                     exact(b.cjc_f), exact(b.vce_sat_v)})
+        f.push_back(s);
+    }
+    f.push_back(d.note);
+    out += join_row(f);
+  }
+  return out;
+}
+
+// --- measured pieces -------------------------------------------------------------------------
+
+std::vector<devices::MeasuredPiece> parse_pieces_csv(std::string_view text, std::string_view source,
+                                                     const std::vector<devices::DeviceRecord>& known) {
+  const Sheet sheet(text, source, {"label", "device", "idss", "vp", "hfe", "uncertainty", "note"},
+                    {"label", "device"});
+  Problems problems(source);
+  std::vector<devices::MeasuredPiece> out;
+  std::map<std::string, std::size_t> seen;
+  for (const CsvRow& row : sheet.rows()) {
+    if (!sheet.shape_ok(row, problems)) continue;
+    const std::size_t line = row.line;
+    bool bad = false;
+    auto note = [&](std::string_view m) {
+      problems.add(line, m);
+      bad = true;
+    };
+    devices::MeasuredPiece m;
+    m.label = std::string(sheet.get(row, "label"));
+    m.note = std::string(sheet.get(row, "note"));
+    if (m.label.empty()) {
+      note("label is missing");
+    } else if (const auto [it, fresh] = seen.emplace(lower(m.label), line); !fresh) {
+      note(fmt::format("label '{}' already appears on line {}", shown(m.label), it->second));
+    }
+    const auto device_text = sheet.get(row, "device");
+    const devices::DeviceRecord* dev = nullptr;
+    if (device_text.empty()) {
+      note("device is missing");
+    } else {
+      dev = find_name(known, device_text, [](const devices::DeviceRecord& d) { return d.name; });
+      if (dev == nullptr)
+        note(fmt::format("device '{}' is not in the device list (import it first with devices import)",
+                         shown(device_text)));
+      else
+        m.device = dev->name;
+    }
+    auto measured = [&](std::string_view col, Unit unit, std::optional<double>& into) {
+      into = read_value(col, sheet.get(row, col), unit, line, problems);
+      if (!into && !sheet.get(row, col).empty()) bad = true;
+    };
+    measured("idss", Unit::ampere, m.idss_a);
+    measured("vp", Unit::volt, m.vp_v);
+    measured("hfe", Unit::none, m.hfe);
+    if (const auto u = sheet.get(row, "uncertainty"); !u.empty()) {
+      if (auto f = read_fraction("uncertainty", u, line, problems)) m.uncertainty = *f;
+      else bad = true;
+    }
+    if (bad || dev == nullptr) continue;
+    const auto issues = piece_problems(m, *dev);
+    for (const auto& issue : issues) problems.add(line, issue);
+    if (issues.empty()) out.push_back(std::move(m));
+  }
+  problems.finish();
+  return out;
+}
+
+std::string write_pieces_csv(const std::vector<devices::MeasuredPiece>& pieces) {
+  std::string out = join_row({"label", "device", "idss", "vp", "hfe", "uncertainty", "note"});
+  auto opt = [](const std::optional<double>& v) { return v ? exact(*v) : std::string(); };
+  for (const auto& m : pieces)
+    out += join_row({m.label, m.device, opt(m.idss_a), opt(m.vp_v), opt(m.hfe), plain(m.uncertainty), m.note});
+  return out;
+}
+
+}  // namespace shelfstage::store

@@ -1,0 +1,656 @@
+// The stock database: opening, migrating, and every stock change as one ledgered transaction.
+//
+// NOTES (numbered invariants; check() verifies each):
+//  1. parts.qty == sum(ledger.delta) for every line (schema trigger ledger_apply).
+//  2. 0 <= parts.reserved <= parts.qty; parts.reserved == sum(reservations.qty).
+//  3. A removed line has qty 0 and no reservations; it stays for the ledger's sake.
+//  4. A transistor line names an existing device of its own kind.
+// Every connection: busy timeout 5 s, foreign_keys ON, journal_mode WAL, synchronous FULL.
+// Every read-modify-write: one BEGIN IMMEDIATE transaction (Impl::immediate).
+//
+// Opening a file:   missing --> InputError        not SQLite / not ours --> DatabaseError
+//                   user_version > kSchemaVersion --> DatabaseError (newer program needed)
+//                   user_version < kSchemaVersion --> migrate forward in one transaction
+#include "shelfstage/store/database.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <array>
+#include <cctype>
+#include <climits>
+#include <cmath>
+#include <cstdlib>
+#include <fstream>
+
+#include "schema.hpp"
+#include "shelfstage/error.hpp"
+#include "shelfstage/store/detail/sqlite.hpp"
+
+namespace shelfstage::store {
+namespace {
+
+using detail::Connection;
+using detail::Statement;
+
+constexpr int kBusyTimeoutMs = 5000;
+constexpr double kSameValue = 1e-9;  ///< relative difference under which two values are one
+
+struct Migration {
+  int version;
+  std::string_view sql;
+};
+constexpr std::array<Migration, 2> kMigrations{{{1, detail::kSchemaV1}, {2, detail::kSchemaV2}}};
+static_assert(kMigrations.back().version == kSchemaVersion, "one migration per schema version");
+
+constexpr const char* kPartColumns =
+    "id, kind, value, device, tol_minus, tol_plus, power_w, volts, dielectric, package, qty, reserved, bin, "
+    "note, removed";
+
+constexpr const char* kDeviceColumns =
+    "name, kind, idss_min, idss_max, idss_typ, vp_min, vp_max, vp_typ, lambda, cgs, cgd, tc_idss, tc_vp, "
+    "hfe_min, hfe_max, hfe_typ, is_a, vaf, cje, cjc, vce_sat, note";
+
+constexpr const char* kPieceColumns = "label, device, idss, vp, hfe, uncertainty, note";
+
+std::string trimmed(std::string_view s) {
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
+  return std::string(s);
+}
+
+std::string join(const std::vector<std::string>& items, std::string_view sep) {
+  std::string out;
+  for (const auto& s : items) {
+    if (!out.empty()) out += sep;
+    out += s;
+  }
+  return out;
+}
+
+Part read_part(const Statement& st) {
+  Part p;
+  p.id = st.int64(0);
+  const std::string kind = st.text(1);
+  if (!parse_kind_code(kind, p.kind)) throw DatabaseError(fmt::format("stock line {}: unknown kind '{}'", p.id, kind));
+  p.value = st.real(2);
+  p.device = st.opt_text(3).value_or("");
+  const auto minus = st.opt_real(4);
+  const auto plus = st.opt_real(5);
+  if (minus && plus) p.tol = units::Tolerance{*minus, *plus};
+  p.power_w = st.opt_real(6);
+  p.volts = st.opt_real(7);
+  p.dielectric = st.text(8);
+  p.package = st.text(9);
+  p.qty = st.int32(10);
+  p.reserved = st.int32(11);
+  p.bin = st.text(12);
+  p.note = st.text(13);
+  p.removed = st.int64(14) != 0;
+  return p;
+}
+
+devices::DeviceRecord read_device(const Statement& st) {
+  devices::DeviceRecord d;
+  d.name = st.text(0);
+  const std::string kind = st.text(1);
+  if (!devices::parse_kind(kind, d.kind))
+    throw DatabaseError(fmt::format("device '{}': unknown kind '{}'", d.name, kind));
+  if (devices::is_jfet(d.kind)) {
+    auto& j = d.jfet;
+    j.idss_a = {st.real(2), st.real(3), st.opt_real(4)};
+    j.vp_v = {st.real(5), st.real(6), st.opt_real(7)};
+    j.lambda_per_v = st.real(8);
+    j.cgs_f = st.real(9);
+    j.cgd_f = st.real(10);
+    j.tc_idss_per_k = st.opt_real(11).value_or(j.tc_idss_per_k);
+    j.tc_vp_v_per_k = st.opt_real(12).value_or(j.tc_vp_v_per_k);
+  } else {
+    auto& b = d.bjt;
+    b.hfe = {st.real(13), st.real(14), st.opt_real(15)};
+    b.is_a = st.opt_real(16).value_or(b.is_a);
+    b.vaf_v = st.opt_real(17).value_or(b.vaf_v);
+    b.cje_f = st.real(18);
+    b.cjc_f = st.real(19);
+    b.vce_sat_v = st.opt_real(20).value_or(b.vce_sat_v);
+  }
+  d.note = st.text(21);
+  return d;
+}
+
+devices::MeasuredPiece read_piece(const Statement& st) {
+  devices::MeasuredPiece m;
+  m.label = st.text(0);
+  m.device = st.text(1);
+  m.idss_a = st.opt_real(2);
+  m.vp_v = st.opt_real(3);
+  m.hfe = st.opt_real(4);
+  m.uncertainty = st.real(5);
+  m.note = st.text(6);
+  return m;
+}
+
+std::optional<devices::DeviceRecord> find_device(const Connection& conn, std::string_view name) {
+  auto st = conn.prepare(fmt::format("SELECT {} FROM devices WHERE name = ?", kDeviceColumns));
+  st.bind(1, name);
+  if (!st.step()) return std::nullopt;
+  return read_device(st);
+}
+
+/// Reads the 16-byte header: refuses files that are not SQLite before SQLite touches them.
+void check_header(const std::filesystem::path& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw DatabaseError(fmt::format("{}: cannot read the file", path.string()));
+  char magic[16] = {};
+  in.read(magic, sizeof magic);
+  const auto got = in.gcount();
+  if (got == 0)
+    throw DatabaseError(fmt::format("{}: empty file, not a shelfstage database (remove it and run `shelfstage init`)",
+                                    path.string()));
+  if (got < 16 || std::string_view(magic, 16) != std::string_view("SQLite format 3\0", 16))
+    throw DatabaseError(fmt::format("{}: not a shelfstage database (not an SQLite file)", path.string()));
+}
+
+void base_settings(const Connection& conn) {
+  conn.busy_timeout(kBusyTimeoutMs);
+  conn.exec("PRAGMA foreign_keys = ON");
+  if (conn.prepare("PRAGMA foreign_keys").scalar<int>() != 1)
+    throw DatabaseError(fmt::format("{}: this SQLite cannot enforce foreign keys", conn.label()));
+}
+
+void journal_settings(const Connection& conn) {
+  std::string mode = conn.prepare("PRAGMA journal_mode = WAL").scalar<std::string>();
+  for (char& c : mode) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  if (mode != "wal")
+    throw DatabaseError(fmt::format("{}: cannot use write-ahead logging (journal mode stays '{}')", conn.label(), mode));
+  conn.exec("PRAGMA synchronous = FULL");
+}
+
+[[noreturn]] void throw_newer(const Connection& conn, int version) {
+  throw DatabaseError(fmt::format("{}: schema version {} is newer than this shelfstage ({}); upgrade shelfstage",
+                                  conn.label(), version, kSchemaVersion));
+}
+
+/// Brings the schema from its current version to kSchemaVersion in one transaction.
+void migrate(Database::Impl& impl, bool fresh) {
+  const Connection& conn = impl.conn;
+  impl.immediate([&] {
+    // Read again under the write lock: another program may have migrated meanwhile.
+    const int from = conn.prepare("PRAGMA user_version").scalar<int>();
+    if (from > kSchemaVersion) throw_newer(conn, from);
+    if (fresh) {
+      if (conn.prepare("SELECT count(*) FROM sqlite_schema").scalar<int>() != 0)
+        throw InputError(fmt::format("{} already exists; refusing to overwrite it", conn.label()));
+      conn.exec(fmt::format("PRAGMA application_id = {}", detail::kApplicationId));
+    }
+    for (const auto& m : kMigrations)
+      if (m.version > from) conn.exec(std::string(m.sql));
+    conn.exec(fmt::format("PRAGMA user_version = {}", kSchemaVersion));
+    auto fk = conn.prepare("PRAGMA foreign_key_check");
+    if (fk.step())
+      throw DatabaseError(fmt::format("{}: migration from version {} broke a foreign key in table {}; nothing changed",
+                                      conn.label(), from, fk.text(0)));
+  });
+  impl.version = kSchemaVersion;
+}
+
+/// "YYYY-MM-DD" with an optional "THH[:MM[:SS]]" (or a space for T) and an optional Z.
+std::string normalise_since(std::string_view text) {
+  std::string s = trimmed(text);
+  auto bad = [&]() -> InputError {
+    return InputError(fmt::format("since '{}' is not a UTC date or date-time like 2026-12-01 or 2026-12-01T21:53", text));
+  };
+  if (!s.empty() && (s.back() == 'Z' || s.back() == 'z')) s.pop_back();
+  if (s.size() > 10 && s[10] == ' ') s[10] = 'T';
+  static constexpr std::string_view kPattern = "dddd-dd-ddTdd:dd:dd";
+  if (s.size() < 10 || s.size() > kPattern.size()) throw bad();
+  for (std::size_t i = 0; i < s.size(); ++i) {
+    const char want = kPattern[i];
+    if (want == 'd' ? !std::isdigit(static_cast<unsigned char>(s[i])) : s[i] != want) throw bad();
+  }
+  if (s.size() != 10 && s.size() != 13 && s.size() != 16 && s.size() != 19) throw bad();
+  const int month = std::stoi(s.substr(5, 2));
+  const int day = std::stoi(s.substr(8, 2));
+  if (month < 1 || month > 12 || day < 1 || day > 31) throw bad();
+  return s;
+}
+
+}  // namespace
+
+// --- Impl helpers ----------------------------------------------------------------------
+
+std::optional<Part> Database::Impl::load_part(std::int64_t id) const {
+  auto st = conn.prepare(fmt::format("SELECT {} FROM parts WHERE id = ?", kPartColumns));
+  st.bind(1, id);
+  if (!st.step()) return std::nullopt;
+  return read_part(st);
+}
+
+std::int64_t Database::Impl::record_change(std::int64_t part_id, int delta, std::string_view reason,
+                                           std::optional<std::int64_t> build_id) {
+  if (delta == 0) return 0;
+  const auto p = load_part(part_id);
+  if (!p) throw InputError(fmt::format("no stock line {}", part_id));
+  const std::int64_t after = std::int64_t{p->qty} + delta;
+  if (after < 0)
+    throw InfeasibleError(fmt::format("not enough stock: {} has {} on hand, {} needed", describe(*p), p->qty, -delta));
+  if (after < p->reserved)
+    throw InfeasibleError(fmt::format("not enough stock: {} has {} on hand and {} reserved, {} needed", describe(*p),
+                                      p->qty, p->reserved, -delta));
+  if (after > INT_MAX) throw InputError(fmt::format("{}: qty {} would be too large", describe(*p), after));
+  conn.prepare("INSERT INTO ledger (at, part_id, part_desc, delta, reason, build_id) VALUES (?, ?, ?, ?, ?, ?)")
+      .bind_all(detail::utc_now(), part_id, describe(*p), delta, reason, build_id)
+      .run();
+  const std::int64_t ledger_id = conn.last_insert_rowid();
+  // Pieces coming back to a removed line put it on the shelf again (NOTES 3).
+  if (p->removed && after > 0) conn.prepare("UPDATE parts SET removed = 0 WHERE id = ?").bind(1, part_id).run();
+  return ledger_id;
+}
+
+std::int64_t Database::Impl::reserve(std::optional<std::string> design_id, std::int64_t part_id, int qty) {
+  const auto p = load_part(part_id);
+  if (!p) throw InputError(fmt::format("no stock line {}", part_id));
+  if (qty <= 0) throw InputError(fmt::format("reserve qty {} must be above zero", qty));
+  if (p->removed) throw InputError(fmt::format("stock line {} ({}) was removed", part_id, describe(*p)));
+  if (qty > p->available())
+    throw InfeasibleError(fmt::format("not enough stock: {} has {} available ({} on hand, {} reserved), {} needed",
+                                      describe(*p), p->available(), p->qty, p->reserved, qty));
+  conn.prepare("INSERT INTO reservations (design_id, part_id, qty, created) VALUES (?, ?, ?, ?)")
+      .bind_all(design_id, part_id, qty, detail::utc_now())
+      .run();
+  return conn.last_insert_rowid();
+}
+
+// --- opening ---------------------------------------------------------------------------
+
+Database::Database(std::unique_ptr<Impl> impl) : impl_(std::move(impl)) {}
+Database::Database(Database&&) noexcept = default;
+Database& Database::operator=(Database&&) noexcept = default;
+Database::~Database() = default;
+
+Database Database::create(const std::filesystem::path& path) {
+  std::error_code ec;
+  if (std::filesystem::exists(path, ec))
+    throw InputError(fmt::format("{} already exists; refusing to overwrite it", path.string()));
+  if (path.has_parent_path()) {
+    std::filesystem::create_directories(path.parent_path(), ec);
+    if (ec) throw InputError(fmt::format("cannot create folder {}: {}", path.parent_path().string(), ec.message()));
+  }
+  auto impl = std::make_unique<Impl>();
+  impl->path = path;
+  bool remove_on_failure = true;
+  try {
+    impl->conn = Connection(path, SQLITE_OPEN_READWRITE | SQLITE_OPEN_CREATE);
+    base_settings(impl->conn);
+    journal_settings(impl->conn);
+    migrate(*impl, true);
+  } catch (const InputError&) {
+    remove_on_failure = false;  // someone else's database appeared meanwhile: leave it be
+    throw;
+  } catch (...) {
+    if (remove_on_failure) {
+      impl->conn = Connection();
+      for (const char* suffix : {"", "-wal", "-shm", "-journal"})
+        std::filesystem::remove(path.string() + suffix, ec);
+    }
+    throw;
+  }
+  return Database(std::move(impl));
+}
+
+Database Database::open(const std::filesystem::path& path) {
+  std::error_code ec;
+  if (!std::filesystem::exists(path, ec))
+    throw InputError(fmt::format("{}: no stock database here; create one with `shelfstage init`", path.string()));
+  if (std::filesystem::is_directory(path, ec))
+    throw InputError(fmt::format("{} is a folder, not a stock database", path.string()));
+  check_header(path);
+  auto impl = std::make_unique<Impl>();
+  impl->path = path;
+  impl->conn = Connection(path, SQLITE_OPEN_READWRITE);
+  const Connection& conn = impl->conn;
+  base_settings(conn);
+  // Identify the file before changing anything in it (the journal mode is persistent).
+  const auto app_id = conn.prepare("PRAGMA application_id").scalar<std::int64_t>();
+  const int version = conn.prepare("PRAGMA user_version").scalar<int>();
+  if (app_id != detail::kApplicationId)
+    throw DatabaseError(fmt::format("{}: not a shelfstage database (an SQLite file of another program)", path.string()));
+  if (version > kSchemaVersion) throw_newer(conn, version);
+  if (version < 1)
+    throw DatabaseError(fmt::format("{}: schema version {} is not a shelfstage schema", path.string(), version));
+  journal_settings(conn);
+  impl->version = version;
+  if (version < kSchemaVersion) migrate(*impl, false);
+  return Database(std::move(impl));
+}
+
+int Database::schema_version() const { return impl_->version; }
+const std::filesystem::path& Database::path() const { return impl_->path; }
+
+// --- parts -----------------------------------------------------------------------------
+
+std::vector<Part> Database::parts() const {
+  std::vector<Part> out;
+  auto st = impl_->conn.prepare(fmt::format("SELECT {} FROM parts WHERE removed = 0", kPartColumns));
+  while (st.step()) out.push_back(read_part(st));
+  auto lower = [](std::string s) {
+    for (char& c : s) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+    return s;
+  };
+  std::sort(out.begin(), out.end(), [&](const Part& a, const Part& b) {
+    if (a.kind != b.kind) return a.kind < b.kind;
+    if (a.value != b.value) return a.value < b.value;
+    if (a.device != b.device) return lower(a.device) < lower(b.device);
+    if (a.bin != b.bin) return a.bin < b.bin;
+    return a.id < b.id;
+  });
+  return out;
+}
+
+std::optional<Part> Database::part(std::int64_t id) const { return impl_->load_part(id); }
+
+namespace {
+
+std::int64_t add_part_locked(Database::Impl& impl, const Part& in, std::string_view reason) {
+  Part p = in;
+  p.device = trimmed(p.device);
+  p.bin = trimmed(p.bin);
+  p.dielectric = trimmed(p.dielectric);
+  p.package = trimmed(p.package);
+  p.note = trimmed(p.note);
+  const auto problems = part_problems(p);
+  if (!problems.empty()) throw InputError(fmt::format("{}: {}", describe(p), join(problems, "; ")));
+  if (!is_passive(p.kind)) {
+    const auto dev = find_device(impl.conn, p.device);
+    if (!dev)
+      throw InputError(fmt::format("device '{}' is not in the device list; import it first (devices import)", p.device));
+    if (part_kind(dev->kind) != p.kind)
+      throw InputError(fmt::format("kind {} does not match device '{}' ({})", kind_code(p.kind), dev->name,
+                                   devices::kind_name(dev->kind)));
+    p.device = dev->name;  // the spelling of the device list
+  }
+  const std::optional<std::string> device = is_passive(p.kind) ? std::nullopt : std::optional(p.device);
+  const std::optional<double> minus = p.tol ? std::optional(p.tol->minus) : std::nullopt;
+  const std::optional<double> plus = p.tol ? std::optional(p.tol->plus) : std::nullopt;
+  const std::string kind(kind_code(p.kind));
+
+  // An identical line (live ones first, then a removed one to revive) takes the pieces.
+  auto find = impl.conn.prepare(
+      "SELECT id, removed, note FROM parts WHERE kind = ? AND abs(value - ?) <= ? * abs(?) AND device IS ? "
+      "AND tol_minus IS ? AND tol_plus IS ? AND power_w IS ? AND volts IS ? "
+      "AND dielectric = ? COLLATE NOCASE AND package = ? COLLATE NOCASE AND bin = ? COLLATE NOCASE "
+      "ORDER BY removed, id LIMIT 1");
+  find.bind_all(kind, p.value, kSameValue, p.value, device, minus, plus, p.power_w, p.volts, p.dielectric, p.package,
+                p.bin);
+  std::int64_t id = 0;
+  if (find.step()) {
+    id = find.int64(0);
+    if (find.int64(1) != 0) impl.conn.prepare("UPDATE parts SET removed = 0 WHERE id = ?").bind(1, id).run();
+    if (find.text(2).empty() && !p.note.empty())
+      impl.conn.prepare("UPDATE parts SET note = ? WHERE id = ?").bind_all(p.note, id).run();
+  } else {
+    impl.conn
+        .prepare(
+            "INSERT INTO parts (kind, value, device, tol_minus, tol_plus, power_w, volts, dielectric, package, bin, "
+            "note) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)")
+        .bind_all(kind, p.value, device, minus, plus, p.power_w, p.volts, p.dielectric, p.package, p.bin, p.note)
+        .run();
+    id = impl.conn.last_insert_rowid();
+  }
+  impl.record_change(id, p.qty, reason);
+  if (p.reserved > 0) impl.reserve(std::nullopt, id, p.reserved);
+  return id;
+}
+
+}  // namespace
+
+std::int64_t Database::add_part(const Part& part, std::string_view reason) {
+  return impl_->immediate([&] { return add_part_locked(*impl_, part, reason); });
+}
+
+void Database::add_parts(const std::vector<Part>& parts, std::string_view reason) {
+  impl_->immediate([&] {
+    for (const auto& p : parts) add_part_locked(*impl_, p, reason);
+  });
+}
+
+void Database::adjust(std::int64_t part_id, int delta, std::string_view reason) {
+  impl_->immediate([&] {
+    const auto p = impl_->load_part(part_id);
+    if (!p) throw InputError(fmt::format("no stock line {}", part_id));
+    if (p->removed) throw InputError(fmt::format("stock line {} ({}) was removed", part_id, describe(*p)));
+    const std::int64_t after = std::int64_t{p->qty} + delta;
+    if (after < 0)
+      throw InputError(fmt::format("adjust {:+}: {} has {} on hand; the count cannot go below zero", delta,
+                                   describe(*p), p->qty));
+    if (after < p->reserved)
+      throw InputError(fmt::format("adjust {:+}: {} has {} on hand and {} reserved; release the reservation first",
+                                   delta, describe(*p), p->qty, p->reserved));
+    impl_->record_change(part_id, delta, reason);
+  });
+}
+
+void Database::remove_part(std::int64_t part_id, std::string_view reason) {
+  impl_->immediate([&] {
+    const auto p = impl_->load_part(part_id);
+    if (!p) throw InputError(fmt::format("no stock line {}", part_id));
+    if (p->removed) throw InputError(fmt::format("stock line {} ({}) is already removed", part_id, describe(*p)));
+    if (p->reserved > 0)
+      throw InputError(fmt::format("stock line {} ({}) has {} pieces reserved; release them first", part_id,
+                                   describe(*p), p->reserved));
+    impl_->record_change(part_id, -p->qty, reason);
+    impl_->conn.prepare("UPDATE parts SET removed = 1 WHERE id = ?").bind(1, part_id).run();
+  });
+}
+
+// --- devices and pieces ----------------------------------------------------------------
+
+std::vector<devices::DeviceRecord> Database::device_records() const {
+  std::vector<devices::DeviceRecord> out;
+  auto st = impl_->conn.prepare(fmt::format("SELECT {} FROM devices ORDER BY name", kDeviceColumns));
+  while (st.step()) out.push_back(read_device(st));
+  return out;
+}
+
+std::optional<devices::DeviceRecord> Database::device(std::string_view name) const {
+  return find_device(impl_->conn, trimmed(name));
+}
+
+void Database::put_devices(const std::vector<devices::DeviceRecord>& records) {
+  impl_->immediate([&] {
+    const auto& conn = impl_->conn;
+    for (auto d : records) {
+      d.name = trimmed(d.name);
+      const auto problems = device_problems(d);
+      if (!problems.empty()) throw InputError(join(problems, "; "));
+      if (const auto old = find_device(conn, d.name); old && old->kind != d.kind) {
+        const int users = conn.prepare("SELECT (SELECT count(*) FROM parts WHERE device = ?1) + "
+                                       "(SELECT count(*) FROM pieces WHERE device = ?1)")
+                              .bind(1, d.name)
+                              .scalar<int>();
+        if (users > 0)
+          throw InputError(fmt::format("device '{}': kind {} cannot become {} while {} stock lines or pieces use it",
+                                       old->name, devices::kind_name(old->kind), devices::kind_name(d.kind), users));
+      }
+      const bool jfet = devices::is_jfet(d.kind);
+      using OptD = std::optional<double>;
+      auto j = [&](double v) { return jfet ? OptD(v) : std::nullopt; };
+      auto b = [&](double v) { return jfet ? std::nullopt : OptD(v); };
+      const auto& jp = d.jfet;
+      const auto& bp = d.bjt;
+      conn.prepare(fmt::format(
+                       "INSERT INTO devices ({}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, "
+                       "?, ?) ON CONFLICT(name) DO UPDATE SET kind = excluded.kind, idss_min = excluded.idss_min, "
+                       "idss_max = excluded.idss_max, idss_typ = excluded.idss_typ, vp_min = excluded.vp_min, "
+                       "vp_max = excluded.vp_max, vp_typ = excluded.vp_typ, lambda = excluded.lambda, "
+                       "cgs = excluded.cgs, cgd = excluded.cgd, tc_idss = excluded.tc_idss, tc_vp = excluded.tc_vp, "
+                       "hfe_min = excluded.hfe_min, hfe_max = excluded.hfe_max, hfe_typ = excluded.hfe_typ, "
+                       "is_a = excluded.is_a, vaf = excluded.vaf, cje = excluded.cje, cjc = excluded.cjc, "
+                       "vce_sat = excluded.vce_sat, note = excluded.note",
+                       kDeviceColumns))
+          .bind_all(d.name, std::string(devices::kind_name(d.kind)), j(jp.idss_a.min), j(jp.idss_a.max),
+                    jfet ? jp.idss_a.typ : std::nullopt, j(jp.vp_v.min), j(jp.vp_v.max),
+                    jfet ? jp.vp_v.typ : std::nullopt, j(jp.lambda_per_v), j(jp.cgs_f), j(jp.cgd_f),
+                    j(jp.tc_idss_per_k), j(jp.tc_vp_v_per_k), b(bp.hfe.min), b(bp.hfe.max),
+                    jfet ? std::nullopt : bp.hfe.typ, b(bp.is_a), b(bp.vaf_v), b(bp.cje_f), b(bp.cjc_f),
+                    b(bp.vce_sat_v), trimmed(d.note))
+          .run();
+    }
+  });
+}
+
+std::vector<devices::MeasuredPiece> Database::pieces() const {
+  std::vector<devices::MeasuredPiece> out;
+  auto st = impl_->conn.prepare(fmt::format("SELECT {} FROM pieces ORDER BY device, label", kPieceColumns));
+  while (st.step()) out.push_back(read_piece(st));
+  return out;
+}
+
+std::optional<devices::MeasuredPiece> Database::piece(std::string_view label) const {
+  auto st = impl_->conn.prepare(fmt::format("SELECT {} FROM pieces WHERE label = ?", kPieceColumns));
+  st.bind(1, trimmed(label));
+  if (!st.step()) return std::nullopt;
+  return read_piece(st);
+}
+
+namespace {
+
+void add_piece_locked(Database::Impl& impl, devices::MeasuredPiece m) {
+  m.label = trimmed(m.label);
+  m.device = trimmed(m.device);
+  m.note = trimmed(m.note);
+  const auto dev = find_device(impl.conn, m.device);
+  if (!dev) throw InputError(fmt::format("piece '{}': device '{}' is not in the device list", m.label, m.device));
+  const auto problems = piece_problems(m, *dev);
+  if (!problems.empty()) throw InputError(join(problems, "; "));
+  if (impl.conn.prepare("SELECT count(*) FROM pieces WHERE label = ?").bind(1, m.label).scalar<int>() > 0)
+    throw InputError(fmt::format("piece label '{}' is already used", m.label));
+  impl.conn
+      .prepare("INSERT INTO pieces (label, device, idss, vp, hfe, uncertainty, note) VALUES (?, ?, ?, ?, ?, ?, ?)")
+      .bind_all(m.label, dev->name, m.idss_a, m.vp_v, m.hfe, m.uncertainty, m.note)
+      .run();
+}
+
+}  // namespace
+
+void Database::add_piece(const devices::MeasuredPiece& piece) {
+  impl_->immediate([&] { add_piece_locked(*impl_, piece); });
+}
+
+void Database::add_pieces(const std::vector<devices::MeasuredPiece>& pieces) {
+  impl_->immediate([&] {
+    for (const auto& m : pieces) add_piece_locked(*impl_, m);
+  });
+}
+
+// --- ledger and health -------------------------------------------------------------------
+
+std::vector<LedgerEntry> Database::ledger(const LedgerFilter& filter) const {
+  std::optional<std::string> since;
+  if (filter.since) since = normalise_since(*filter.since);
+  std::optional<std::string> device;
+  if (filter.device) device = trimmed(*filter.device);
+  auto st = impl_->conn.prepare(
+      "SELECT l.id, l.at, l.part_id, l.part_desc, l.delta, l.reason, l.build_id FROM ledger l "
+      "JOIN parts p ON p.id = l.part_id WHERE (?1 IS NULL OR l.at >= ?1) "
+      "AND (?2 IS NULL OR (p.kind IN ('R', 'C') AND abs(p.value - ?2) <= ?4 * abs(?2))) "
+      "AND (?3 IS NULL OR p.device = ?3) ORDER BY l.id");
+  st.bind_all(since, filter.value, device, kSameValue);
+  std::vector<LedgerEntry> out;
+  while (st.step()) {
+    LedgerEntry e;
+    e.id = st.int64(0);
+    e.when = st.text(1);
+    e.part_id = st.int64(2);
+    e.part = st.text(3);
+    e.delta = st.int32(4);
+    e.reason = st.text(5);
+    e.build_id = st.opt_int64(6);
+    out.push_back(std::move(e));
+  }
+  return out;
+}
+
+CheckReport Database::check() const {
+  return impl_->snapshot([&] {
+    const auto& conn = impl_->conn;
+    CheckReport r;
+    auto integrity = conn.prepare("PRAGMA integrity_check");
+    while (integrity.step())
+      if (const auto line = integrity.text(0); line != "ok") r.integrity.push_back(line);
+
+    auto fk = conn.prepare("PRAGMA foreign_key_check");
+    while (fk.step())
+      r.foreign_keys.push_back(fmt::format("{} row {} refers to a missing {} row", fk.text(0),
+                                           fk.is_null(1) ? std::string("?") : std::to_string(fk.int64(1)), fk.text(2)));
+
+    auto describe_line = [&](std::int64_t id) {
+      const auto p = impl_->load_part(id);
+      return p ? fmt::format("stock line {} ({})", id, describe(*p)) : fmt::format("stock line {}", id);
+    };
+
+    // NOTES 1: qty equals the ledger sum.
+    auto sums = conn.prepare(
+        "SELECT p.id, p.qty, coalesce((SELECT sum(delta) FROM ledger l WHERE l.part_id = p.id), 0) AS s "
+        "FROM parts p WHERE p.qty <> s ORDER BY p.id");
+    while (sums.step())
+      r.ledger.push_back(fmt::format("{}: qty {} but the ledger sums to {}", describe_line(sums.int64(0)),
+                                     sums.int64(1), sums.int64(2)));
+
+    // NOTES 2 and 3.
+    auto counts = conn.prepare(
+        "SELECT p.id, p.qty, p.reserved, p.removed, "
+        "coalesce((SELECT sum(qty) FROM reservations r WHERE r.part_id = p.id), 0) AS held "
+        "FROM parts p WHERE p.qty < 0 OR p.reserved < 0 OR p.reserved > p.qty OR p.reserved <> held "
+        "OR (p.removed <> 0 AND (p.qty <> 0 OR p.reserved <> 0)) ORDER BY p.id");
+    while (counts.step()) {
+      const auto id = counts.int64(0);
+      const auto qty = counts.int64(1);
+      const auto reserved = counts.int64(2);
+      const auto held = counts.int64(4);
+      if (qty < 0) r.other.push_back(fmt::format("{}: qty {} is negative", describe_line(id), qty));
+      if (reserved < 0) r.other.push_back(fmt::format("{}: reserved {} is negative", describe_line(id), reserved));
+      if (reserved > qty)
+        r.other.push_back(fmt::format("{}: reserved {} is more than qty {}", describe_line(id), reserved, qty));
+      if (reserved != held)
+        r.other.push_back(
+            fmt::format("{}: reserved {} but reservations hold {}", describe_line(id), reserved, held));
+      if (counts.int64(3) != 0 && (qty != 0 || reserved != 0))
+        r.other.push_back(fmt::format("{}: removed but still counts {} pieces ({} reserved)", describe_line(id), qty,
+                                      reserved));
+    }
+
+    // NOTES 4.
+    auto kinds = conn.prepare(
+        "SELECT p.id, p.kind, d.kind FROM parts p JOIN devices d ON d.name = p.device WHERE p.kind <> d.kind");
+    while (kinds.step())
+      r.other.push_back(fmt::format("{}: kind {} but device kind {}", describe_line(kinds.int64(0)), kinds.text(1),
+                                    kinds.text(2)));
+
+    // The triggers that keep NOTES 1 and 2.
+    for (const char* name : {"ledger_no_update", "ledger_no_delete", "ledger_apply", "reservations_hold",
+                             "reservations_release", "reservations_change"}) {
+      if (conn.prepare("SELECT count(*) FROM sqlite_schema WHERE type = 'trigger' AND name = ?")
+              .bind(1, name)
+              .scalar<int>() == 0)
+        r.other.push_back(fmt::format("trigger {} is missing", name));
+    }
+    return r;
+  });
+}
+
+std::filesystem::path default_database_path() {
+  auto env = [](const char* name) -> std::string {
+    const char* v = std::getenv(name);
+    return v != nullptr ? std::string(v) : std::string();
+  };
+  if (auto db = env("SHELFSTAGE_DB"); !db.empty()) return db;
+  // XDG Base Directory Specification: a relative XDG_DATA_HOME is invalid and ignored.
+  if (auto xdg = env("XDG_DATA_HOME"); !xdg.empty() && std::filesystem::path(xdg).is_absolute())
+    return std::filesystem::path(xdg) / "shelfstage" / "stock.db";
+  if (auto home = env("HOME"); !home.empty())
+    return std::filesystem::path(home) / ".local" / "share" / "shelfstage" / "stock.db";
+  throw InputError("no database path: HOME is not set; give --db FILE or set SHELFSTAGE_DB");
+}
+
+}  // namespace shelfstage::store

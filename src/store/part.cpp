@@ -1,0 +1,251 @@
+// Stock line basics: kind codes, field checks, the short description used in the ledger.
+#include "shelfstage/store/part.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <array>
+#include <cctype>
+#include <cmath>
+
+#include "shelfstage/units/notation.hpp"
+
+namespace shelfstage::store {
+namespace {
+
+struct KindName {
+  PartKind kind;
+  std::string_view code;
+};
+constexpr std::array<KindName, 6> kKinds{{{PartKind::resistor, "R"},
+                                          {PartKind::capacitor, "C"},
+                                          {PartKind::njfet, "NJFET"},
+                                          {PartKind::pjfet, "PJFET"},
+                                          {PartKind::npn, "NPN"},
+                                          {PartKind::pnp, "PNP"}}};
+
+std::string lower(std::string_view s) {
+  std::string out(s);
+  for (char& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return out;
+}
+
+std::string_view trim(std::string_view s) {
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
+  return s;
+}
+
+/// True when `word` appears in `text` as a whole word (letters and digits around it end it).
+bool has_word(const std::string& text, std::string_view word) {
+  for (std::size_t at = text.find(word); at != std::string::npos; at = text.find(word, at + 1)) {
+    const bool left_ok = at == 0 || !std::isalnum(static_cast<unsigned char>(text[at - 1]));
+    const std::size_t end = at + word.size();
+    const bool right_ok = end >= text.size() || !std::isalnum(static_cast<unsigned char>(text[end]));
+    if (left_ok && right_ok) return true;
+  }
+  return false;
+}
+
+}  // namespace
+
+std::string_view kind_code(PartKind kind) {
+  for (const auto& k : kKinds)
+    if (k.kind == kind) return k.code;
+  return "?";
+}
+
+bool parse_kind_code(std::string_view text, PartKind& out) {
+  const std::string want = lower(trim(text));
+  for (const auto& k : kKinds) {
+    if (lower(k.code) == want) {
+      out = k.kind;
+      return true;
+    }
+  }
+  return false;
+}
+
+PartKind part_kind(devices::DeviceKind kind) {
+  switch (kind) {
+    case devices::DeviceKind::njfet: return PartKind::njfet;
+    case devices::DeviceKind::pjfet: return PartKind::pjfet;
+    case devices::DeviceKind::npn: return PartKind::npn;
+    case devices::DeviceKind::pnp: return PartKind::pnp;
+  }
+  return PartKind::njfet;
+}
+
+bool device_kind(PartKind kind, devices::DeviceKind& out) {
+  switch (kind) {
+    case PartKind::njfet: out = devices::DeviceKind::njfet; return true;
+    case PartKind::pjfet: out = devices::DeviceKind::pjfet; return true;
+    case PartKind::npn: out = devices::DeviceKind::npn; return true;
+    case PartKind::pnp: out = devices::DeviceKind::pnp; return true;
+    case PartKind::resistor:
+    case PartKind::capacitor: return false;
+  }
+  return false;
+}
+
+bool Part::polarised() const {
+  if (kind != PartKind::capacitor) return false;
+  const std::string d = lower(dielectric);
+  // Bipolar ("non-polar") electrolytics are made for AC and may be reversed.
+  for (std::string_view np : {"bipolar", "non-polar", "nonpolar", "non polar", "np", "bp"})
+    if (has_word(d, np)) return false;
+  for (std::string_view pol : {"electrolytic", "tantalum", "elco", "elko"})
+    if (d.find(pol) != std::string::npos) return true;
+  return false;
+}
+
+std::vector<std::string> part_problems(const Part& p) {
+  std::vector<std::string> out;
+  const bool passive = is_passive(p.kind);
+  if (passive) {
+    if (!std::isfinite(p.value) || p.value <= 0.0) {
+      out.push_back(fmt::format("value {} must be above zero", p.value));
+    } else if (p.kind == PartKind::capacitor && p.value > 1.0) {
+      // 1 F and more are supercapacitors, never a coupling or bypass part; far more often
+      // the unit was left out ("4.7" meant as 4.7 uF).
+      out.push_back(fmt::format("value {} is {} F for a capacitor; write e.g. 4.7u for microfarads",
+                                p.value, units::format_value(p.value)));
+    }
+    if (!p.device.empty()) out.push_back(fmt::format("device '{}' given for kind {} (only transistors name a device)", p.device, kind_code(p.kind)));
+  } else {
+    if (trim(p.device).empty()) out.push_back(fmt::format("device is missing for kind {}", kind_code(p.kind)));
+    if (p.value != 0.0) out.push_back(fmt::format("value {} given for kind {} (a transistor names a device)", p.value, kind_code(p.kind)));
+    if (p.tol) out.push_back(fmt::format("tol {} given for kind {}", units::format_tolerance(*p.tol), kind_code(p.kind)));
+  }
+  if (p.qty < 0) out.push_back(fmt::format("qty {} is negative", p.qty));
+  if (p.reserved < 0) out.push_back(fmt::format("reserved {} is negative", p.reserved));
+  if (p.reserved > p.qty && p.qty >= 0)
+    out.push_back(fmt::format("reserved {} is more than qty {}", p.reserved, p.qty));
+  if (p.tol) {
+    const auto& t = *p.tol;
+    if (!std::isfinite(t.minus) || !std::isfinite(t.plus) || t.minus < 0.0 || t.minus >= 1.0 ||
+        t.plus < 0.0 || t.plus > 10.0)
+      out.push_back(fmt::format("tol -{}/+{} (fractions) is not a sane tolerance", t.minus, t.plus));
+  }
+  if (p.power_w) {
+    if (p.kind != PartKind::resistor)
+      out.push_back(fmt::format("power {} given for kind {} (a resistor rating)", *p.power_w, kind_code(p.kind)));
+    else if (!std::isfinite(*p.power_w) || *p.power_w <= 0.0)
+      out.push_back(fmt::format("power {} must be above zero", *p.power_w));
+  }
+  if (p.volts) {
+    if (p.kind != PartKind::capacitor)
+      out.push_back(fmt::format("volts {} given for kind {} (a capacitor rating)", *p.volts, kind_code(p.kind)));
+    else if (!std::isfinite(*p.volts) || *p.volts <= 0.0)
+      out.push_back(fmt::format("volts {} must be above zero", *p.volts));
+  }
+  if (!p.dielectric.empty() && p.kind != PartKind::capacitor)
+    out.push_back(fmt::format("dielectric '{}' given for kind {} (capacitors only)", p.dielectric,
+                              kind_code(p.kind)));
+  return out;
+}
+
+namespace {
+
+/// Adds "device 'X': NAME VALUE must be ..." problems for a datasheet range.
+void check_range(std::vector<std::string>& out, const std::string& who, std::string_view name,
+                 const devices::Range& r) {
+  if (!std::isfinite(r.min) || !std::isfinite(r.max)) {
+    out.push_back(fmt::format("{}: {}_min {} / {}_max {} must be finite", who, name, r.min, name, r.max));
+    return;
+  }
+  if (r.min > r.max) out.push_back(fmt::format("{}: {}_min {} is above {}_max {}", who, name, r.min, name, r.max));
+  if (r.typ) {
+    if (!std::isfinite(*r.typ))
+      out.push_back(fmt::format("{}: {}_typ {} must be finite", who, name, *r.typ));
+    else if (*r.typ < std::min(r.min, r.max) || *r.typ > std::max(r.min, r.max))
+      out.push_back(fmt::format("{}: {}_typ {} lies outside {}_min {} .. {}_max {}", who, name, *r.typ, name,
+                                r.min, name, r.max));
+  }
+}
+
+void check_at_least(std::vector<std::string>& out, const std::string& who, std::string_view name, double v,
+                    double lowest, bool strict) {
+  if (!std::isfinite(v) || (strict ? v <= lowest : v < lowest))
+    out.push_back(fmt::format("{}: {} {} must be {} {}", who, name, v, strict ? "above" : "at least", lowest));
+}
+
+}  // namespace
+
+std::vector<std::string> device_problems(const devices::DeviceRecord& d) {
+  std::vector<std::string> out;
+  const std::string who = fmt::format("device '{}'", d.name);
+  if (trim(d.name).empty()) out.push_back("device name is empty");
+  if (devices::is_jfet(d.kind)) {
+    const auto& j = d.jfet;
+    check_range(out, who, "idss", j.idss_a);
+    check_at_least(out, who, "idss_min", j.idss_a.min, 0.0, true);
+    check_range(out, who, "vp", j.vp_v);
+    const bool n = d.kind == devices::DeviceKind::njfet;
+    // VGS(off) is negative for an N-channel part and positive for a P-channel one.
+    for (auto [name, v] : {std::pair{"vp_min", j.vp_v.min}, std::pair{"vp_max", j.vp_v.max}}) {
+      if (std::isfinite(v) && (n ? v >= 0.0 : v <= 0.0))
+        out.push_back(fmt::format("{}: {} {} must be {} for {}", who, name, v, n ? "negative" : "positive",
+                                  n ? "an N-channel JFET" : "a P-channel JFET"));
+    }
+    check_at_least(out, who, "lambda", j.lambda_per_v, 0.0, false);
+    check_at_least(out, who, "cgs", j.cgs_f, 0.0, false);
+    check_at_least(out, who, "cgd", j.cgd_f, 0.0, false);
+    if (!std::isfinite(j.tc_idss_per_k)) out.push_back(fmt::format("{}: tc_idss {} must be finite", who, j.tc_idss_per_k));
+    if (!std::isfinite(j.tc_vp_v_per_k)) out.push_back(fmt::format("{}: tc_vp {} must be finite", who, j.tc_vp_v_per_k));
+  } else {
+    const auto& b = d.bjt;
+    check_range(out, who, "hfe", b.hfe);
+    check_at_least(out, who, "hfe_min", b.hfe.min, 0.0, true);
+    check_at_least(out, who, "is", b.is_a, 0.0, true);
+    check_at_least(out, who, "vaf", b.vaf_v, 0.0, true);
+    check_at_least(out, who, "cje", b.cje_f, 0.0, false);
+    check_at_least(out, who, "cjc", b.cjc_f, 0.0, false);
+    check_at_least(out, who, "vce_sat", b.vce_sat_v, 0.0, false);
+  }
+  return out;
+}
+
+std::vector<std::string> piece_problems(const devices::MeasuredPiece& m, const devices::DeviceRecord& d) {
+  std::vector<std::string> out;
+  const std::string who = fmt::format("piece '{}'", m.label);
+  if (trim(m.label).empty()) out.push_back("piece label is empty");
+  if (!std::isfinite(m.uncertainty) || m.uncertainty < 0.0 || m.uncertainty >= 1.0)
+    out.push_back(fmt::format("{}: uncertainty {} must be a fraction in [0, 1)", who, m.uncertainty));
+  if (devices::is_jfet(d.kind)) {
+    if (m.hfe) out.push_back(fmt::format("{}: hfe given for JFET '{}'", who, d.name));
+    if (!m.idss_a && !m.vp_v) out.push_back(fmt::format("{}: neither idss nor vp measured", who));
+    if (m.idss_a && (!std::isfinite(*m.idss_a) || *m.idss_a <= 0.0))
+      out.push_back(fmt::format("{}: idss {} must be above zero", who, *m.idss_a));
+    const bool n = d.kind == devices::DeviceKind::njfet;
+    if (m.vp_v && (!std::isfinite(*m.vp_v) || (n ? *m.vp_v >= 0.0 : *m.vp_v <= 0.0)))
+      out.push_back(fmt::format("{}: vp {} must be {} for {} '{}'", who, *m.vp_v, n ? "negative" : "positive",
+                                devices::kind_name(d.kind), d.name));
+  } else {
+    if (m.idss_a || m.vp_v) out.push_back(fmt::format("{}: idss/vp given for BJT '{}'", who, d.name));
+    if (!m.hfe)
+      out.push_back(fmt::format("{}: hfe not measured", who));
+    else if (!std::isfinite(*m.hfe) || *m.hfe <= 0.0)
+      out.push_back(fmt::format("{}: hfe {} must be above zero", who, *m.hfe));
+  }
+  return out;
+}
+
+std::string describe(const Part& p) {
+  std::string out(kind_code(p.kind));
+  if (is_passive(p.kind)) {
+    out += ' ';
+    out += units::format_value(p.value);
+  } else {
+    out += ' ';
+    out += p.device;
+  }
+  if (p.tol) out += ' ' + units::format_tolerance(*p.tol);
+  if (p.power_w) out += fmt::format(" {}W", *p.power_w);
+  if (p.volts) out += fmt::format(" {}V", *p.volts);
+  if (!p.dielectric.empty()) out += ' ' + p.dielectric;
+  if (!p.bin.empty()) out += " bin " + p.bin;
+  return out;
+}
+
+}  // namespace shelfstage::store
