@@ -1,0 +1,126 @@
+// A stage topology: its roles, its netlist builder and its fast closed-form evaluator.
+// Each topology is one self-contained file in src/stages/ plus one line in registry.cpp.
+#pragma once
+#include <array>
+#include <cstddef>
+#include <span>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "shelfstage/circuit/netlist.hpp"
+#include "shelfstage/devices/models.hpp"
+
+namespace shelfstage::stages {
+
+/// How a role is wired and what it is.
+struct Role {
+  std::string_view name;        ///< INTERFACE.md role name: RD, RS1, CIN ...
+  std::string_view designator;  ///< default designator on the schematic: R3, C1 ...
+  char kind;                    ///< 'R' or 'C'
+  bool optional;                ///< the synthesizer may leave it out (value 0)
+  /// Electrolytic allowed? (coupling and bypass capacitors: yes, fitted by their DC.)
+  bool polar_ok;
+  /// Capacitors: the nets of the two ends; `pos_net` sits at the higher DC voltage with an
+  /// N-channel or NPN device (the ends swap for P-channel and PNP).
+  std::string_view pos_net;
+  std::string_view neg_net;
+  std::string_view what;        ///< "drain load", "bypassed source resistor" ...
+};
+
+inline constexpr std::size_t kMaxRoles = 10;
+
+/// Role values in ohms or farads, by role index; 0 means an optional role left out.
+struct Values {
+  std::array<double, kMaxRoles> v{};
+  double& operator[](std::size_t i) { return v[i]; }
+  double operator[](std::size_t i) const { return v[i]; }
+};
+
+/// The transistor piece a stage is evaluated with (one of the two instances is used).
+struct Transistor {
+  devices::DeviceKind kind = devices::DeviceKind::njfet;
+  devices::JfetInstance jfet;
+  devices::BjtInstance bjt;
+};
+
+/// What the stage is asked to work in.
+struct Conditions {
+  double supply_v = 12;   ///< supply magnitude; the rail is negative for P-channel and PNP
+  double load_ohm = 10e3;
+  double source_ohm = 0;
+  double celsius = devices::kNominalCelsius;
+  double hd2_peak_v = 1.0;      ///< output peak at which second-harmonic distortion is given
+  double noise_f_hz = 1000.0;   ///< frequency of the input noise figure
+};
+
+/// DC across a capacitor, or power in a resistor, for rating checks.
+struct Stress {
+  std::size_t role = 0;
+  double power_w = 0;  ///< resistors: I^2 R at the operating point
+  double dc_v = 0;     ///< capacitors: DC across, >= 0 (from plus_net to the other end)
+  std::string_view plus_net;  ///< capacitors: the net at the higher DC voltage (the + lead)
+};
+
+/// The figures of one stage at one set of values, device and conditions. Voltages are
+/// actual node voltages (negative rails for P-channel and PNP); currents are magnitudes.
+struct Performance {
+  bool valid = false;   ///< a bias point exists (the device conducts)
+  bool active = false;  ///< saturation (JFET) or forward-active (BJT) with the swing's margin >= 0
+  std::string problem;  ///< why not valid or not active, for people
+  double gain = 0;      ///< signed mid-band V/V from the source (behind source_ohm) to the load
+  double bias_current_a = 0;  ///< drain or collector current
+  double v_in = 0;      ///< gate or base DC volts
+  double v_common = 0;  ///< source or emitter DC volts
+  double v_out = 0;     ///< drain or collector DC volts
+  double zin_ohm = 0;   ///< input impedance at mid-band (after source_ohm)
+  double zout_ohm = 0;  ///< output impedance at mid-band, seen by the load
+  double f_low_hz = 0;  ///< -3 dB points relative to mid-band
+  double f_high_hz = 0;
+  double swing_peak_v = 0;  ///< largest symmetric undistorted output peak at the load
+  double swing_up_v = 0;    ///< output excursion limits, each side
+  double swing_down_v = 0;
+  double hd2 = 0;           ///< second-harmonic ratio at Conditions::hd2_peak_v
+  double noise_v_rthz = 0;  ///< input-referred noise density at Conditions::noise_f_hz
+  double supply_current_a = 0;
+  std::vector<Stress> stress;  ///< per role present
+};
+
+/// How much the fast evaluator computes: the search asks for `core` (bias, gain, Zin,
+/// Zout, swing, corners), reports ask for `full` (adds HD2, noise, stress).
+enum class Detail { core, full };
+
+/// Names of the nets every stage netlist uses: the signal source drives "sig" through
+/// RSIG into "in" (then CIN); the load RL hangs on "out"; the supply is "vdd".
+inline constexpr std::string_view kNetSignal = "sig", kNetIn = "in", kNetOut = "out", kNetSupply = "vdd";
+
+class Topology {
+ public:
+  virtual ~Topology() = default;
+  virtual std::string_view name() const = 0;      ///< INTERFACE.md name: "jfet-cs-self"
+  virtual std::string_view summary() const = 0;   ///< one line for people
+  virtual bool accepts(devices::DeviceKind kind) const = 0;
+  virtual std::span<const Role> roles() const = 0;
+  /// Index of a role by name, or roles().size() when unknown.
+  std::size_t role_index(std::string_view role) const;
+  /// Names of the device-terminal nets ("gate","source","drain" or "base","emitter","collector").
+  virtual std::array<std::string_view, 3> node_names() const = 0;
+
+  /// The whole test bench as a circuit: supply, signal source with RSIG (1 mΩ when
+  /// source_ohm is 0), the stage, and the load. Designators as roles().designator.
+  virtual circuit::Circuit netlist(const Values& values, const Transistor& q, const Conditions& c) const = 0;
+
+  /// The fast closed-form evaluator (the search calls it millions of times).
+  virtual Performance evaluate(const Values& values, const Transistor& q, const Conditions& c,
+                               Detail detail = Detail::core) const = 0;
+};
+
+/// Every topology, in a fixed order.
+std::span<const Topology* const> registry();
+/// A topology by name, or nullptr.
+const Topology* find_topology(std::string_view name);
+
+/// Parallel resistance (0 means absent and is skipped; infinite inputs are fine).
+double par(double a, double b);
+
+}  // namespace shelfstage::stages

@@ -1,0 +1,146 @@
+// bjt-ce-divider: BJT common emitter, divider bias, split emitter resistor.
+#include <algorithm>
+#include <fmt/format.h>
+
+#include "common.hpp"
+
+namespace shelfstage::stages {
+namespace {
+
+enum : std::size_t { R1, R2, RC, RE1, RE2, CE, CIN, COUT };
+
+constexpr Role kRoles[] = {
+    {"R1", "R1", 'R', false, false, "", "", "supply to base: upper divider leg"},
+    {"R2", "R2", 'R', false, false, "", "", "base to ground: lower divider leg"},
+    {"RC", "R3", 'R', false, false, "", "", "supply to collector: the load the gain develops across"},
+    {"RE1", "R4", 'R', true, false, "", "", "emitter to x, unbypassed: sets the gain"},
+    {"RE2", "R5", 'R', true, false, "", "", "x to ground, bypassed: adds bias only"},
+    {"CE", "C2", 'C', true, true, "x", "0", "bypass across RE2"},
+    {"CIN", "C1", 'C', false, true, "base", "in", "input coupling"},
+    {"COUT", "C3", 'C', false, true, "collector", "out", "output coupling"},
+};
+
+class BjtCeDivider final : public Topology {
+ public:
+  std::string_view name() const override { return "bjt-ce-divider"; }
+  std::string_view summary() const override {
+    return "BJT common emitter, divider bias: high gain, moderate input impedance";
+  }
+  bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
+  std::span<const Role> roles() const override { return kRoles; }
+  std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
+
+  circuit::Circuit netlist(const Values& v, const Transistor& q, const Conditions& c) const override {
+    auto net = detail::bench(q, c);
+    detail::add_role(net, kRoles, v, CIN, "base", "in");
+    detail::add_role(net, kRoles, v, R1, "vdd", "base");
+    detail::add_role(net, kRoles, v, R2, "base", "0");
+    detail::add_role(net, kRoles, v, RC, "vdd", "collector");
+    const bool split = v[RE1] > 0 && v[RE2] > 0;
+    detail::add_role(net, kRoles, v, RE1, "emitter", split ? "x" : "0");
+    detail::add_role(net, kRoles, v, RE2, split ? "x" : "emitter", "0");
+    if (v[RE2] > 0) detail::add_role(net, kRoles, v, CE, split ? "x" : "emitter", "0");
+    detail::add_role(net, kRoles, v, COUT, "collector", "out");
+    net.bjt("Q1", "collector", "base", (v[RE1] > 0 || v[RE2] > 0) ? "emitter" : "0", q.bjt);
+    return net;
+  }
+
+  Performance evaluate(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
+    Performance p;
+    const auto& t = q.bjt;
+    const double vth = c.supply_v * v[R2] / (v[R1] + v[R2]);
+    const double rth = par(v[R1], v[R2]);
+    const double re_dc = v[RE1] + v[RE2];
+    const detail::BjtBias b = detail::bjt_bias(t, vth, rth, re_dc, v[RC], c.supply_v);
+    if (!b.conducts) {
+      p.problem = "cut off: the base divider does not reach VBE";
+      return p;
+    }
+    p.valid = true;
+    const double k = detail::pol(q);
+    p.bias_current_a = b.ic_a;
+    p.v_in = k * b.vb_v;
+    p.v_common = k * b.ve_v;
+    p.v_out = k * b.vc_v;
+    const double idiv = (c.supply_v - b.vb_v) / v[R1];  // current in the upper leg
+    p.supply_current_a = b.ic_a + idiv;
+    p.active = b.vce_v > t.vce_sat_v;
+    if (!p.active) p.problem = fmt::format("saturated: VCE {:.2f} V", b.vce_v);
+
+    const double r_deg = v[RE1] + (v[CE] > 0 ? 0.0 : v[RE2]);
+    const double gm = b.gm_s, rpi = b.rpi_ohm, beta = gm * rpi;
+    const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
+    const double rs2 = par(rsig, rth);  // the base's source resistance
+    const double rib = rpi + (beta + 1.0) * r_deg;
+    p.zin_ohm = par(rth, rib);
+    // Output resistance of the degenerated transistor: ro*(1 + gm*(Rdeg || (rpi + Rs''))).
+    const double r_e = r_deg > 0 ? par(r_deg, rpi + rs2) : 0.0;
+    const double r_dev = b.ro_ohm * (1.0 + gm * r_e) + r_e;
+    const double rl_ac = par(v[RC], c.load_ohm);
+    const double rl = par(rl_ac, r_dev);
+    const double divider = p.zin_ohm / (p.zin_ohm + c.source_ohm);
+    p.gain = -divider * beta * rl / rib;
+    p.zout_ohm = par(v[RC], r_dev);
+
+    // Swing: up to cut-off (IC*RAC); down to the edge of saturation, the emitter moving
+    // with the signal current through RE1.
+    p.swing_up_v = b.ic_a * rl_ac;
+    p.swing_down_v = std::max(0.0, (b.vce_v - t.vce_sat_v) / (1.0 + r_deg / rl_ac));
+    p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+
+    detail::LfSection lf[3];
+    std::size_t n = 0;
+    lf[n++] = {1.0 / (v[CIN] * (c.source_ohm + p.zin_ohm)), 0.0};
+    lf[n++] = {1.0 / (v[COUT] * (p.zout_ohm + c.load_ohm)), 0.0};
+    if (v[CE] > 0 && v[RE2] > 0) {
+      const double look = v[RE1] + (rpi + rs2) / (beta + 1.0);
+      lf[n++] = {1.0 / (v[CE] * par(v[RE2], look)), 1.0 / (v[CE] * v[RE2])};
+    }
+    p.f_low_hz = detail::lf_corner_hz(std::span<const detail::LfSection>(lf, n));
+    // High corner: the hybrid-pi network (base, emitter, collector) solved exactly.
+    detail::HybridPi m;
+    m.g_src = 1.0 / rs2;
+    m.gpi = 1.0 / rpi;
+    m.cpi = detail::cbe_at(t, b.vbe_v);
+    m.cmu = detail::cbc_at(t, b.vb_v - b.vc_v);
+    m.gm = gm;
+    m.go = std::isinf(b.ro_ohm) ? 0.0 : 1.0 / b.ro_ohm;
+    m.g_e = detail::g_of(r_deg);
+    m.g_c = 1.0 / rl_ac;
+    p.f_high_hz = detail::hybrid_pi_corner_hz(m);
+
+    if (d == Detail::full) {
+      // Effective degeneration for the exponential law includes the base source through beta.
+      const double f = 1.0 + gm * (r_deg + rs2 / (beta + 1.0));
+      p.hd2 = c.hd2_peak_v / (4.0 * b.ic_a * rl_ac * f);
+      const double kt4 = detail::thermal_v2(1.0, c.celsius);
+      const double q2 = 2.0 * devices::kCharge;
+      const double dd = 1.0 + (rs2 + r_deg) / rpi + gm * r_deg;
+      double v2 = kt4 * rs2;                                          // source and divider
+      const double kc = (1.0 + (rs2 + r_deg) / rpi) / gm;
+      v2 += q2 * b.ic_a * kc * kc;                                   // collector shot
+      v2 += q2 * b.ib_a * (rs2 + r_deg) * (rs2 + r_deg);             // base shot
+      v2 += kt4 * r_deg;                                              // RE1
+      v2 += kt4 * (1.0 / v[RC] + 1.0 / c.load_ohm) * (dd / gm) * (dd / gm);  // RC and the load
+      const double dth = rth / (rth + c.source_ohm);
+      p.noise_v_rthz = std::sqrt(v2) / dth;
+      const double i1 = idiv, i2 = b.vb_v / v[R2];
+      p.stress = {{R1, i1 * i1 * v[R1], 0, {}}, {R2, i2 * i2 * v[R2], 0, {}}, {RC, b.ic_a * b.ic_a * v[RC], 0, {}}};
+      if (v[RE1] > 0) p.stress.push_back({RE1, b.ie_a * b.ie_a * v[RE1], 0, {}});
+      if (v[RE2] > 0) p.stress.push_back({RE2, b.ie_a * b.ie_a * v[RE2], 0, {}});
+      if (v[CE] > 0) p.stress.push_back(detail::cap_stress(kRoles, CE, b.ie_a * v[RE2], q));
+      p.stress.push_back(detail::cap_stress(kRoles, CIN, b.vb_v, q));
+      p.stress.push_back(detail::cap_stress(kRoles, COUT, b.vc_v, q));
+    }
+    return p;
+  }
+};
+
+}  // namespace
+
+const Topology& bjt_ce_divider() {
+  static const BjtCeDivider t;
+  return t;
+}
+
+}  // namespace shelfstage::stages

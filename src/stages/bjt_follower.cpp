@@ -1,0 +1,135 @@
+// bjt-follower: BJT emitter follower (common collector), divider bias.
+#include <algorithm>
+#include <complex>
+#include <numbers>
+#include <fmt/format.h>
+
+#include "common.hpp"
+
+namespace shelfstage::stages {
+namespace {
+
+enum : std::size_t { R1, R2, RE, CIN, COUT };
+
+constexpr Role kRoles[] = {
+    {"R1", "R1", 'R', false, false, "", "", "supply to base: upper divider leg"},
+    {"R2", "R2", 'R', false, false, "", "", "base to ground: lower divider leg"},
+    {"RE", "R3", 'R', false, false, "", "", "emitter to ground: sets the current and drives the load"},
+    {"CIN", "C1", 'C', false, true, "base", "in", "input coupling"},
+    {"COUT", "C2", 'C', false, true, "emitter", "out", "output coupling"},
+};
+
+class BjtFollower final : public Topology {
+ public:
+  std::string_view name() const override { return "bjt-follower"; }
+  std::string_view summary() const override {
+    return "BJT emitter follower: gain just under one, low output impedance for a heavy load";
+  }
+  bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
+  std::span<const Role> roles() const override { return kRoles; }
+  std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
+
+  circuit::Circuit netlist(const Values& v, const Transistor& q, const Conditions& c) const override {
+    auto net = detail::bench(q, c);
+    detail::add_role(net, kRoles, v, CIN, "base", "in");
+    detail::add_role(net, kRoles, v, R1, "vdd", "base");
+    detail::add_role(net, kRoles, v, R2, "base", "0");
+    detail::add_role(net, kRoles, v, RE, "emitter", "0");
+    detail::add_role(net, kRoles, v, COUT, "emitter", "out");
+    net.bjt("Q1", "vdd", "base", "emitter", q.bjt);
+    return net;
+  }
+
+  Performance evaluate(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
+    Performance p;
+    const auto& t = q.bjt;
+    const double vth = c.supply_v * v[R2] / (v[R1] + v[R2]);
+    const double rth = par(v[R1], v[R2]);
+    const detail::BjtBias b = detail::bjt_bias(t, vth, rth, v[RE], 0.0, c.supply_v);
+    if (!b.conducts) {
+      p.problem = "cut off: the base divider does not reach VBE";
+      return p;
+    }
+    p.valid = true;
+    const double k = detail::pol(q);
+    p.bias_current_a = b.ic_a;
+    p.v_in = k * b.vb_v;
+    p.v_common = k * b.ve_v;
+    p.v_out = k * c.supply_v;
+    const double idiv = (c.supply_v - b.vb_v) / v[R1];
+    p.supply_current_a = b.ic_a + idiv;
+    p.active = b.vce_v > t.vce_sat_v;
+    if (!p.active) p.problem = fmt::format("saturated: VCE {:.2f} V", b.vce_v);
+
+    const double gm = b.gm_s, rpi = b.rpi_ohm, beta = gm * rpi;
+    const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
+    const double rs2 = par(rsig, rth);
+    const double re_ac = par(par(v[RE], c.load_ohm), b.ro_ohm);
+    const double rib = rpi + (beta + 1.0) * re_ac;
+    p.zin_ohm = par(rth, rib);
+    const double a_int = (beta + 1.0) * re_ac / rib;
+    p.gain = a_int * p.zin_ohm / (p.zin_ohm + c.source_ohm);
+    p.zout_ohm = par(par(v[RE], b.ro_ohm), (rpi + rs2) / (beta + 1.0));
+    // Swing: down until the transistor cuts off (IE into RE || RL); up until VCE reaches
+    // saturation.
+    const double r_ac = par(v[RE], c.load_ohm);
+    p.swing_down_v = b.ie_a * r_ac;
+    p.swing_up_v = std::max(0.0, b.vce_v - t.vce_sat_v);
+    p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+
+    detail::LfSection lf[2] = {{1.0 / (v[CIN] * (c.source_ohm + p.zin_ohm)), 0.0},
+                               {1.0 / (v[COUT] * (p.zout_ohm + c.load_ohm)), 0.0}};
+    p.f_low_hz = detail::lf_corner_hz(lf);
+    // High corner from the hybrid-pi follower, solved exactly: with Ypi = 1/rpi + s*Cpi,
+    // GL = 1/RE', Rs'' = Rsig || RTh, and Cmu from base to AC ground,
+    // H(s) = (gm + Ypi) / Rs'' / ((1/Rs'' + s Cmu)(gm + Ypi + GL) + Ypi GL).
+    const double cpi = detail::cbe_at(t, b.vbe_v), cmu = detail::cbc_at(t, b.vb_v - c.supply_v);
+    const double gl = 1.0 / re_ac;
+    auto h = [&](double w) {
+      const std::complex<double> s(0.0, w), ypi = 1.0 / rpi + s * cpi;
+      return std::abs((gm + ypi) / rs2 / ((1.0 / rs2 + s * cmu) * (gm + ypi + gl) + ypi * gl));
+    };
+    const double h0 = h(1.0);
+    double w = 1.0, prev = 1.0;
+    while (w < 1e14 && h(w) >= h0 / std::numbers::sqrt2) {
+      prev = w;
+      w *= 1.2;
+    }
+    double lo = prev, hi = w;
+    for (int i = 0; i < 50; ++i) {
+      const double mid = std::sqrt(lo * hi);
+      (h(mid) >= h0 / std::numbers::sqrt2 ? lo : hi) = mid;
+    }
+    p.f_high_hz = std::sqrt(lo * hi) / (2.0 * std::numbers::pi);
+
+    if (d == Detail::full) {
+      const double f = 1.0 + gm * (re_ac + rs2 / (beta + 1.0));
+      p.hd2 = c.hd2_peak_v / (4.0 * b.ic_a * re_ac * f);
+      const double kt4 = detail::thermal_v2(1.0, c.celsius);
+      const double q2 = 2.0 * devices::kCharge;
+      const double gx = gm + 1.0 / rpi;
+      const double kc = (1.0 + rs2 / rpi) / gx;
+      double v2 = kt4 * rs2;
+      v2 += q2 * b.ic_a * kc * kc;                                           // collector shot
+      v2 += q2 * b.ib_a * ((1.0 - gm * rs2) / gx) * ((1.0 - gm * rs2) / gx);  // base shot
+      v2 += kt4 * (1.0 / v[RE] + 1.0 / c.load_ohm) * kc * kc;                // RE and the load
+      p.noise_v_rthz = std::sqrt(v2) / (rth / (rth + c.source_ohm));
+      const double i1 = idiv, i2 = b.vb_v / v[R2];
+      p.stress = {{R1, i1 * i1 * v[R1], 0, {}},
+                  {R2, i2 * i2 * v[R2], 0, {}},
+                  {RE, b.ie_a * b.ie_a * v[RE], 0, {}},
+                  detail::cap_stress(kRoles, CIN, b.vb_v, q),
+                  detail::cap_stress(kRoles, COUT, b.ve_v, q)};
+    }
+    return p;
+  }
+};
+
+}  // namespace
+
+const Topology& bjt_follower() {
+  static const BjtFollower t;
+  return t;
+}
+
+}  // namespace shelfstage::stages

@@ -1,0 +1,241 @@
+// Closed-form building blocks shared by the stage evaluators.
+#include "common.hpp"
+
+#include <algorithm>
+#include <complex>
+#include <limits>
+#include <numbers>
+
+#include "shelfstage/devices/models.hpp"
+
+namespace shelfstage::stages {
+
+double par(double a, double b) {
+  if (a <= 0) return b;
+  if (b <= 0) return a;
+  if (std::isinf(a)) return b;
+  if (std::isinf(b)) return a;
+  return a * b / (a + b);
+}
+
+namespace detail {
+
+JfetBias jfet_bias(const devices::JfetInstance& q, double vg, double rs, double rd, double vdd) {
+  JfetBias b;
+  const double vp = q.vp_abs_v;
+  if (vg + vp <= 0) return b;  // gate held below pinch-off: cut off
+  double beta = q.beta();
+  double vds = vdd;
+  for (int it = 0; it < 4; ++it) {
+    // ID = beta*u^2 with u = VGS - VTO = vg - ID*rs + vp:  rs*beta*u^2 + u - (vg + vp) = 0.
+    double u;
+    if (rs > 0) {
+      const double k = rs * beta;
+      u = (-1.0 + std::sqrt(1.0 + 4.0 * k * (vg + vp))) / (2.0 * k);
+    } else {
+      u = vg + vp;
+    }
+    b.vgst_v = u;
+    b.id_a = beta * u * u;
+    const double vds_new = vdd - b.id_a * (rd + rs);
+    b.beta_eff = beta;
+    if (std::abs(vds_new - vds) < 1e-9 || q.lambda_per_v == 0) {
+      vds = vds_new;
+      break;
+    }
+    vds = vds_new;
+    beta = q.beta() * (1.0 + q.lambda_per_v * std::max(0.0, vds));
+  }
+  b.beta_eff = beta;
+  b.conducts = true;
+  b.vs_v = b.id_a * rs;
+  b.vgs_v = vg - b.vs_v;
+  b.vd_v = vdd - b.id_a * rd;
+  b.vds_v = b.vd_v - b.vs_v;
+  b.gm_s = 2.0 * beta * b.vgst_v;
+  const double gds = q.beta() * b.vgst_v * b.vgst_v * q.lambda_per_v;
+  b.ro_ohm = gds > 0 ? 1.0 / gds : std::numeric_limits<double>::infinity();
+  return b;
+}
+
+BjtBias bjt_bias(const devices::BjtInstance& q, double vth, double rth, double re, double rc, double vcc) {
+  BjtBias b;
+  const double inv_vaf = (q.vaf_v > 0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
+  // Unknown VBE; IC = IS*exp(VBE/VT)*(1 + VCB/VAF), IB = IS*exp(VBE/VT)/BF (forward active).
+  // KVL: vth = IB*rth + VBE + IE*re. Newton on VBE with the Early factor from the last VCE.
+  double vbe = 0.65;
+  double early = 1.0;
+  for (int it = 0; it < 60; ++it) {
+    const double e = std::exp(vbe / q.vt_v);
+    const double is_e = q.is_a * (e - 1.0);
+    const double ib = is_e / q.bf;
+    const double ic = is_e * early;
+    const double ie = ic + ib;
+    const double f = ib * rth + vbe + ie * re - vth;
+    const double dis = q.is_a * e / q.vt_v;
+    const double df = dis / q.bf * rth + 1.0 + (dis * early + dis / q.bf) * re;
+    double step = f / df;
+    step = std::clamp(step, -0.1, 0.1);
+    vbe -= step;
+    // Early factor 1 - VBC/VAF from the present estimate.
+    const double vc = vcc - ic * rc;
+    const double vb = vth - ib * rth;
+    early = 1.0 + std::max(0.0, vc - vb) * inv_vaf;
+    if (std::abs(step) < 1e-10) break;
+  }
+  const double e = std::exp(vbe / q.vt_v);
+  const double is_e = q.is_a * (e - 1.0);
+  b.vbe_v = vbe;
+  b.ib_a = is_e / q.bf;
+  b.ic_a = is_e * early;
+  b.ie_a = b.ic_a + b.ib_a;
+  b.vb_v = vth - b.ib_a * rth;
+  b.ve_v = b.ie_a * re;
+  b.vc_v = vcc - b.ic_a * rc;
+  b.vce_v = b.vc_v - b.ve_v;
+  b.conducts = b.ic_a > 1e-9 && b.vb_v > 0.3;
+  b.gm_s = b.ic_a / q.vt_v;
+  b.beta_ac = q.bf * early;
+  b.rpi_ohm = q.bf / (is_e / q.vt_v);  // dIB/dVBE = IS*e/(VT*BF)
+  // Output conductance dIC/dVCE at fixed VBE: Ibe/VAF in the Gummel-Poon form.
+  b.ro_ohm = inv_vaf > 0 ? q.vaf_v / std::max(is_e, 1e-30) : std::numeric_limits<double>::infinity();
+  return b;
+}
+
+double lf_corner_hz(std::span<const LfSection> s) {
+  if (s.empty()) return 0.0;
+  // |H(w)|^2 = prod (w^2 + z^2) / (w^2 + p^2), normalised to 1 at high frequency.
+  auto h2 = [&](double w) {
+    double r = 1.0;
+    for (const auto& x : s) r *= (w * w + x.zero_rad * x.zero_rad) / (w * w + x.pole_rad * x.pole_rad);
+    return r;
+  };
+  double hi = 1.0;
+  for (const auto& x : s) hi = std::max(hi, 10.0 * x.pole_rad);
+  if (h2(1e-9) >= 0.5) return 0.0;  // a shelf that never falls 3 dB
+  // Monotonic in w for these sections: bisection in log w.
+  double lo = 1e-9;
+  for (int i = 0; i < 80; ++i) {
+    const double mid = std::sqrt(lo * hi);
+    (h2(mid) < 0.5 ? lo : hi) = mid;
+  }
+  return std::sqrt(lo * hi) / (2 * std::numbers::pi);
+}
+
+double hf_corner_hz(double b1, double b2, double z, double p) {
+  auto h2 = [&](double w) {
+    const double num = z > 0 ? 1.0 + (w / z) * (w / z) : 1.0;
+    const double re = 1.0 - b2 * w * w, im = b1 * w;
+    double r = num / (re * re + im * im);
+    if (p > 0) r /= 1.0 + (w / p) * (w / p);
+    return r;
+  };
+  // The response may peak slightly; find the first fall below -3 dB scanning upward.
+  double w = 1.0, prev = 1.0;
+  while (w < 1e14 && h2(w) >= 0.5) {
+    prev = w;
+    w *= 1.2;
+  }
+  if (w >= 1e14) return 1e14 / (2 * std::numbers::pi);
+  double lo = prev, hi = w;
+  for (int i = 0; i < 50; ++i) {
+    const double mid = std::sqrt(lo * hi);
+    (h2(mid) >= 0.5 ? lo : hi) = mid;
+  }
+  return std::sqrt(lo * hi) / (2 * std::numbers::pi);
+}
+
+double hybrid_pi_gain(const HybridPi& m, double w) {
+  using cd = std::complex<double>;
+  const cd s(0.0, w);
+  const cd ypi = m.gpi + s * m.cpi, ymu = s * m.cmu;
+  // Unknowns (vb, ve, vc); a unit Thevenin source drives g_src into the base.
+  cd a[3][4] = {
+      {m.g_src + ypi + ymu, -ypi, -ymu, m.g_src},
+      {-ypi - m.gm, ypi + m.gm + m.go + m.g_e, -m.go, 0.0},
+      {m.gm - ymu, -m.gm - m.go, ymu + m.go + m.g_c, 0.0},
+  };
+  for (int col = 0; col < 3; ++col) {  // Gaussian elimination with partial pivoting
+    int piv = col;
+    for (int r = col + 1; r < 3; ++r)
+      if (std::abs(a[r][col]) > std::abs(a[piv][col])) piv = r;
+    if (piv != col)
+      for (int k = 0; k < 4; ++k) std::swap(a[col][k], a[piv][k]);
+    for (int r = col + 1; r < 3; ++r) {
+      const cd f = a[r][col] / a[col][col];
+      for (int k = col; k < 4; ++k) a[r][k] -= f * a[col][k];
+    }
+  }
+  cd x[3];
+  for (int r = 2; r >= 0; --r) {
+    cd sum = a[r][3];
+    for (int k = r + 1; k < 3; ++k) sum -= a[r][k] * x[k];
+    x[r] = sum / a[r][r];
+  }
+  return std::abs(m.out_at_emitter ? x[1] : x[2]);
+}
+
+double hybrid_pi_corner_hz(const HybridPi& m) {
+  const double h0 = hybrid_pi_gain(m, 1.0);
+  const double target = h0 / std::numbers::sqrt2;
+  double w = 10.0, prev = 1.0;
+  while (w < 1e13 && hybrid_pi_gain(m, w) >= target) {
+    prev = w;
+    w *= 1.5;
+  }
+  if (w >= 1e13) return 1e13 / (2 * std::numbers::pi);
+  double lo = prev, hi = w;
+  for (int i = 0; i < 30; ++i) {
+    const double mid = std::sqrt(lo * hi);
+    (hybrid_pi_gain(m, mid) >= target ? lo : hi) = mid;
+  }
+  return std::sqrt(lo * hi) / (2 * std::numbers::pi);
+}
+
+double cgs_at(const devices::JfetInstance& q, double vgs) {
+  return devices::depletion_capacitance(q.cgs_f, vgs, devices::kJfetPb, devices::kJfetM);
+}
+double cgd_at(const devices::JfetInstance& q, double vgd) {
+  return devices::depletion_capacitance(q.cgd_f, vgd, devices::kJfetPb, devices::kJfetM);
+}
+double cbe_at(const devices::BjtInstance& q, double vbe) {
+  return devices::depletion_capacitance(q.cje_f, vbe, devices::kBjtVj, devices::kBjtM);
+}
+double cbc_at(const devices::BjtInstance& q, double vbc) {
+  return devices::depletion_capacitance(q.cjc_f, vbc, devices::kBjtVj, devices::kBjtM);
+}
+
+double thermal_v2(double r, double celsius) {
+  return 4.0 * devices::kBoltzmann * (celsius + devices::kZeroCelsius) * r;
+}
+
+circuit::Circuit bench(const Transistor& q, const Conditions& c) {
+  circuit::Circuit net;
+  net.vsource("VDD", "supply", std::string(kNetSupply), "0", pol(q) * c.supply_v);
+  net.vsource("VSIG", "signal", std::string(kNetSignal), "0", 0.0, 1.0);
+  net.resistor("RSIG", "source", std::string(kNetSignal), std::string(kNetIn), c.source_ohm > 0 ? c.source_ohm : 1e-3);
+  net.resistor("RL", "load", std::string(kNetOut), "0", c.load_ohm);
+  return net;
+}
+
+void add_role(circuit::Circuit& net, std::span<const Role> roles, const Values& v, std::size_t i,
+              const std::string& a, const std::string& b) {
+  if (!(v[i] > 0)) return;
+  const Role& r = roles[i];
+  if (r.kind == 'R')
+    net.resistor(std::string(r.designator), std::string(r.name), a, b, v[i]);
+  else
+    net.capacitor(std::string(r.designator), std::string(r.name), a, b, v[i]);
+}
+
+Stress cap_stress(std::span<const Role> roles, std::size_t role, double dc_n_v, const Transistor& q) {
+  const double actual = pol(q) * dc_n_v;  // V(pos_net) - V(neg_net) in the real circuit
+  Stress s;
+  s.role = role;
+  s.dc_v = std::abs(actual);
+  s.plus_net = actual >= 0 ? roles[role].pos_net : roles[role].neg_net;
+  return s;
+}
+
+}  // namespace detail
+}  // namespace shelfstage::stages

@@ -1,0 +1,111 @@
+// Shared closed-form pieces of the stage evaluators: bias solutions, corner finders,
+// and the small helpers every topology file uses. Private to the stages layer.
+#pragma once
+#include <cmath>
+#include <span>
+
+#include "shelfstage/circuit/netlist.hpp"
+#include "shelfstage/stages/topology.hpp"
+
+namespace shelfstage::stages::detail {
+
+/// JFET bias (N frame): gate at vg_v through a DC-free gate path, source resistor rs_ohm
+/// to ground, drain resistor rd_ohm to vdd_v. Square law with lambda (by fixed point on VDS).
+struct JfetBias {
+  bool conducts = false;
+  double id_a = 0, vgs_v = 0, vgst_v = 0, vs_v = 0, vd_v = 0, vds_v = 0;
+  double beta_eff = 0;  ///< BETA * (1 + lambda*VDS): the square-law factor at this VDS
+  double gm_s = 0, ro_ohm = 0;
+  bool saturated() const { return conducts && vds_v >= vgst_v; }
+};
+JfetBias jfet_bias(const devices::JfetInstance& q, double vg_v, double rs_ohm, double rd_ohm, double vdd_v);
+
+/// BJT bias (NPN frame): base fed from a Thevenin source vth_v behind rth_ohm, emitter
+/// resistor re_ohm, collector resistor rc_ohm to vcc_v. Exponential law with Early effect,
+/// solved by Newton on VBE.
+struct BjtBias {
+  bool conducts = false;
+  double ic_a = 0, ib_a = 0, ie_a = 0, vbe_v = 0, vb_v = 0, ve_v = 0, vc_v = 0, vce_v = 0;
+  double gm_s = 0, rpi_ohm = 0, ro_ohm = 0, beta_ac = 0;
+};
+BjtBias bjt_bias(const devices::BjtInstance& q, double vth_v, double rth_ohm, double re_ohm, double rc_ohm,
+                 double vcc_v);
+
+/// A low-frequency section of the response: a high-pass pole (zero at DC), or a shelf
+/// (a pole with a zero above DC, as a bypassed resistor makes).
+struct LfSection {
+  double pole_rad = 0;  ///< rad/s
+  double zero_rad = 0;  ///< rad/s; 0: a zero at DC (coupling capacitor)
+};
+/// The -3 dB frequency (Hz) of the product of the sections, relative to their product at
+/// high frequency. 0 when there are none.
+double lf_corner_hz(std::span<const LfSection> sections);
+
+/// The -3 dB frequency (Hz) of H(s) = (1 - s/z) / (1 + b1*s + b2*s^2) (a two-pole stage
+/// with a right-half-plane feed-forward zero z, rad/s; z <= 0 means none); combined with
+/// an extra single pole p_rad (0: none).
+double hf_corner_hz(double b1_s, double b2_s2, double z_rad, double p_rad = 0);
+
+/// Positive root of a*a*x... : solves f(x) = 0 for an increasing f on [lo, hi] by bisection.
+template <class F>
+double bisect(F f, double lo, double hi, int steps = 60) {
+  for (int i = 0; i < steps; ++i) {
+    const double mid = 0.5 * (lo + hi);
+    (f(mid) < 0 ? lo : hi) = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+/// Small-signal hybrid-pi model of one transistor stage above the coupling corners:
+/// base (gate) fed from a Thevenin source through 1/g_src, emitter (source) to ground
+/// through g_e, collector (drain) to ground through g_c; gpi, cpi between base and
+/// emitter, cmu between base and collector, gm*vbe from collector to emitter, go across
+/// collector-emitter. A JFET has gpi = 0. An AC-grounded terminal has a huge conductance.
+struct HybridPi {
+  double g_src = 0, gpi = 0, cpi = 0, cmu = 0, gm = 0, go = 0, g_e = 0, g_c = 0;
+  bool out_at_emitter = false;  ///< followers take the output at the emitter (source)
+};
+/// |output / Thevenin source| at angular frequency w (rad/s), by a 3x3 complex solve.
+double hybrid_pi_gain(const HybridPi& m, double w);
+/// The upper -3 dB frequency (Hz) of that response, relative to its low-frequency value.
+double hybrid_pi_corner_hz(const HybridPi& m);
+/// Conductance of a resistor that may be absent (0 ohms: a short, given a huge conductance).
+inline double g_of(double r_ohm) { return r_ohm > 0 ? 1.0 / r_ohm : 1e9; }
+
+/// Depletion capacitances of a JFET at a bias (N frame voltages).
+double cgs_at(const devices::JfetInstance& q, double vgs_v);
+double cgd_at(const devices::JfetInstance& q, double vgd_v);
+double cbe_at(const devices::BjtInstance& q, double vbe_v);
+double cbc_at(const devices::BjtInstance& q, double vbc_v);
+
+/// Thermal noise density squared of a resistor, V^2/Hz.
+double thermal_v2(double r_ohm, double celsius);
+
+/// The netlist scaffold shared by every stage: supply VDD on "vdd" (negative for P/PNP),
+/// signal source VSIG (AC 1) on "sig", RSIG from "sig" to "in", load RL on "out".
+circuit::Circuit bench(const Transistor& q, const Conditions& c);
+/// Adds a role's part if present (value > 0), with its designator.
+void add_role(circuit::Circuit& net, std::span<const Role> roles, const Values& v, std::size_t role,
+              const std::string& a, const std::string& b);
+/// The stress line of a capacitor whose pos_net sits dc_n_v above its neg_net in the N
+/// frame (negative dc_n_v: the other way round); the + lead follows the device polarity.
+Stress cap_stress(std::span<const Role> roles, std::size_t role, double dc_n_v, const Transistor& q);
+/// Polarity of the device: +1 N/NPN, -1 P/PNP.
+inline double pol(const Transistor& q) { return devices::polarity(q.kind); }
+
+}  // namespace shelfstage::stages::detail
+
+namespace shelfstage::stages::detail {
+
+/// The JFET common-source stage with any gate bias: what both CS topologies share.
+struct CsCircuit {
+  double vg_v = 0;         ///< DC gate voltage (N frame): 0 for self-bias, the divider tap otherwise
+  double r_gate_ohm = 0;   ///< AC resistance from gate to ground (RG, or R1 || R2)
+  double rd = 0, rs1 = 0, rs2 = 0, cs = 0, cin = 0, cout = 0;
+  double bias_network_a = 0;  ///< supply current of the gate network (divider)
+};
+/// Evaluates it; `bias` receives the operating point (for the topology's stress list).
+Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Conditions& c, Detail detail,
+                    JfetBias& bias);
+
+}  // namespace shelfstage::stages::detail

@@ -1,0 +1,188 @@
+// The exact evaluation of a stage: every figure from the MNA solver on the stage's netlist.
+#include "shelfstage/stages/exact.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <complex>
+#include <numbers>
+
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::stages {
+
+namespace {
+
+using circuit::Circuit;
+using circuit::ElementKind;
+using circuit::OperatingPoint;
+
+// The circuit at mid-band for large signals: each capacitor becomes a DC source holding
+// the voltage it charged to, so the quasi-static sweep sees the AC load lines.
+Circuit held(const Circuit& c, const OperatingPoint& op) {
+  Circuit h;
+  for (const auto& el : c.elements()) {
+    const auto& e = el.c;
+    const std::string a = c.net_name(e.pins[0]), b = c.net_name(e.pins[1]);
+    switch (e.kind) {
+      case ElementKind::resistor: h.resistor(e.designator, e.role, a, b, e.value); break;
+      case ElementKind::capacitor:
+        h.vsource(e.designator, e.role, a, b, op.node_v[e.pins[0]] - op.node_v[e.pins[1]]);
+        break;
+      case ElementKind::vsource: h.vsource(e.designator, e.role, a, b, e.value, e.ac_volts); break;
+      case ElementKind::jfet: h.jfet(e.designator, a, b, c.net_name(e.pins[2]), c.jfets()[e.device]); break;
+      case ElementKind::bjt: h.bjt(e.designator, a, b, c.net_name(e.pins[2]), c.bjts()[e.device]); break;
+    }
+  }
+  return h;
+}
+
+struct SweepPoint {
+  double out_v = 0;
+  bool edge = false;  // the device has left its linear region
+};
+
+SweepPoint sweep_at(Circuit& h, const Transistor& q, double x, double ic0, const circuit::SolverOptions& so) {
+  h.set_value("VSIG", x);
+  SweepPoint s;
+  OperatingPoint op;
+  try {
+    op = circuit::solve_dc(h, so);
+  } catch (const Error&) {
+    s.edge = true;
+    return s;
+  }
+  s.out_v = op.v(h, std::string(kNetOut));
+  const circuit::DeviceOp& d = op.devices.front();
+  if (devices::is_jfet(q.kind)) {
+    s.edge = d.jfet_region != devices::JfetRegion::saturation || d.v_ctrl_v > 0.0;
+  } else {
+    s.edge = d.v_main_v < q.bjt.vce_sat_v || d.i_main_a < 0.01 * ic0;
+  }
+  return s;
+}
+
+}  // namespace
+
+Performance evaluate_exact(const Topology& t, const Values& v, const Transistor& q, const Conditions& c,
+                           Detail detail) {
+  Performance p;
+  Circuit net = t.netlist(v, q, c);
+  circuit::SolverOptions so;
+  so.celsius = c.celsius;
+  const OperatingPoint op = circuit::solve_dc(net, so);
+  const auto* dev = net.find("Q1");
+  const circuit::DeviceOp& d = op.devices.front();
+  const double k = devices::polarity(q.kind);
+  p.valid = std::abs(d.i_main_a) > 1e-9;
+  p.bias_current_a = std::abs(d.i_main_a);
+  p.v_out = op.node_v[dev->c.pins[0]];
+  p.v_in = op.node_v[dev->c.pins[1]];
+  p.v_common = op.node_v[dev->c.pins[2]];
+  p.supply_current_a = std::abs(op.source_i.front());
+  if (devices::is_jfet(q.kind))
+    p.active = d.jfet_region == devices::JfetRegion::saturation && d.v_ctrl_v <= 0.0;
+  else
+    p.active = d.v_main_v > q.bjt.vce_sat_v;
+  if (!p.valid) p.problem = "cut off";
+
+  const auto corners = circuit::find_corners(net, op, std::string(kNetOut), 0.01, 1e10);
+  p.gain = corners.mid_gain;
+  p.f_low_hz = corners.f_low_hz;
+  p.f_high_hz = corners.f_high_hz;
+  // Impedances are read well inside the band: far above the coupling corners, far below
+  // the device capacitances' effect.
+  double fm = 1000.0;
+  if (p.f_low_hz > 0) fm = std::max(fm, 30.0 * p.f_low_hz);
+  if (p.f_high_hz > 0) fm = std::min(fm, p.f_high_hz / 300.0);
+  if (p.f_low_hz > 0 && p.f_high_hz > 0 && 30.0 * p.f_low_hz > p.f_high_hz / 300.0)
+    fm = std::sqrt(p.f_low_hz * p.f_high_hz);
+  {
+    const auto vs = circuit::solve_ac(net, op, fm);
+    const auto in = *net.find_net(std::string(kNetIn)), sig = *net.find_net(std::string(kNetSignal));
+    const double rsig = net.find("RSIG")->c.value;
+    const std::complex<double> i_in = (vs[sig] - vs[in]) / rsig;
+    p.zin_ohm = std::abs(vs[in] / i_in);
+    Circuit open = net;
+    open.set_value("RL", 1e12);
+    const auto vo = circuit::solve_ac(open, op, fm);
+    const auto out = *net.find_net(std::string(kNetOut));
+    p.zout_ohm = std::abs(c.load_ohm * (vo[out] / vs[out] - 1.0));
+  }
+
+  // Swing: step the input each way until the device leaves its linear region.
+  {
+    Circuit h = held(net, op);
+    const double out0 = op.v(net, std::string(kNetOut));
+    const double ic0 = std::abs(d.i_main_a);
+    const double x_max = 4.0 * c.supply_v / std::max(0.05, std::abs(p.gain));
+    double excursion[2] = {0, 0};  // by the input's sign
+    for (int side = 0; side < 2; ++side) {
+      const double sgn = side == 0 ? 1.0 : -1.0;
+      double lo = 0, hi = x_max / 256;
+      SweepPoint at_hi = sweep_at(h, q, sgn * hi, ic0, so);
+      while (!at_hi.edge && hi < x_max) {
+        lo = hi;
+        hi *= 2;
+        at_hi = sweep_at(h, q, sgn * hi, ic0, so);
+      }
+      for (int i = 0; i < 40 && at_hi.edge; ++i) {
+        const double mid = 0.5 * (lo + hi);
+        (sweep_at(h, q, sgn * mid, ic0, so).edge ? hi : lo) = mid;
+      }
+      excursion[side] = std::abs(sweep_at(h, q, sgn * lo, ic0, so).out_v - out0);
+    }
+    // "Up" in the N frame is the drain or collector (or follower output) rising toward the
+    // positive rail; the input's sign that moves the output up depends on the gain's sign.
+    const bool inverting = p.gain < 0;
+    const double out_up_actual = inverting ? excursion[1] : excursion[0];
+    const double out_down_actual = inverting ? excursion[0] : excursion[1];
+    p.swing_up_v = k > 0 ? out_up_actual : out_down_actual;
+    p.swing_down_v = k > 0 ? out_down_actual : out_up_actual;
+    p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+
+    if (detail == Detail::full && p.swing_peak_v > 0) {
+      // HD2 from the quasi-static transfer: a cosine at the input, Fourier coefficients of
+      // the output, the amplitude set so the fundamental equals hd2_peak_v.
+      const double out_mid = out0;
+      double amp = c.hd2_peak_v / std::abs(p.gain);
+      constexpr int kN = 64;
+      for (int pass = 0; pass < 2; ++pass) {
+        double a1 = 0, a2 = 0, b2 = 0;
+        for (int i = 0; i < kN; ++i) {
+          const double th = 2 * std::numbers::pi * i / kN;
+          const double y = sweep_at(h, q, amp * std::cos(th), ic0, so).out_v - out_mid;
+          a1 += 2.0 / kN * y * std::cos(th);
+          a2 += 2.0 / kN * y * std::cos(2 * th);
+          b2 += 2.0 / kN * y * std::sin(2 * th);
+        }
+        if (pass == 0) {
+          amp *= c.hd2_peak_v / std::abs(a1);
+        } else {
+          p.hd2 = std::hypot(a2, b2) / std::abs(a1);
+        }
+      }
+    }
+  }
+
+  if (detail == Detail::full) {
+    p.noise_v_rthz = circuit::noise(net, op, std::string(kNetOut), c.noise_f_hz, c.celsius).input_v_rthz;
+    const auto roles = t.roles();
+    for (const auto& el : net.elements()) {
+      const auto& e = el.c;
+      const std::size_t r = t.role_index(e.role);
+      if (r >= roles.size()) continue;
+      const double dv = op.node_v[e.pins[0]] - op.node_v[e.pins[1]];
+      Stress s;
+      s.role = r;
+      if (e.kind == ElementKind::resistor) s.power_w = dv * dv / e.value;
+      if (e.kind == ElementKind::capacitor) {
+        s.dc_v = std::abs(dv);
+        s.plus_net = dv >= 0 ? roles[r].pos_net : roles[r].neg_net;
+      }
+      p.stress.push_back(s);
+    }
+  }
+  return p;
+}
+
+}  // namespace shelfstage::stages

@@ -1,0 +1,96 @@
+// The JFET common-source evaluator shared by the self-biased and divider-biased topologies.
+#include <algorithm>
+#include <fmt/format.h>
+#include <numbers>
+
+#include "common.hpp"
+
+namespace shelfstage::stages::detail {
+
+Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Conditions& c, Detail detail,
+                    JfetBias& b) {
+  Performance p;
+  const double vdd = c.supply_v;
+  // An unbypassed RS2 (no CS) degenerates like RS1.
+  const double r_deg = s.rs1 + (s.cs > 0 ? 0.0 : s.rs2);
+  const double rs_dc = s.rs1 + s.rs2;
+  b = jfet_bias(q, s.vg_v, rs_dc, s.rd, vdd);
+  if (!b.conducts) {
+    p.problem = "cut off: the gate sits beyond pinch-off";
+    return p;
+  }
+  p.valid = true;
+  p.bias_current_a = b.id_a;
+  p.v_in = s.vg_v;
+  p.v_common = b.vs_v;
+  p.v_out = b.vd_v;
+  p.supply_current_a = b.id_a + s.bias_network_a;
+  const double gm = b.gm_s, ro = b.ro_ohm;
+  const double rl_ac = par(s.rd, c.load_ohm);
+  // Degenerated common source with output resistance (exact small-signal result):
+  // Av = -gm*ro*RL' / (RL' + ro + (1 + gm*ro)*Rdeg).
+  const double av_gate = std::isinf(ro) ? -gm * rl_ac / (1.0 + gm * r_deg)
+                                        : -gm * ro * rl_ac / (rl_ac + ro + (1.0 + gm * ro) * r_deg);
+  const double divider = s.r_gate_ohm / (s.r_gate_ohm + c.source_ohm);
+  p.gain = av_gate * divider;
+  p.zin_ohm = s.r_gate_ohm;
+  const double r_dev = std::isinf(ro) ? ro : ro + (1.0 + gm * ro) * r_deg;
+  p.zout_ohm = par(s.rd, r_dev);
+
+  // Swing. Up: the current falls to zero, the drain rises by ID*(RD||RL).
+  p.swing_up_v = b.id_a * rl_ac;
+  // Down: the drain falls by a, the current grows by a/RL', the source rises by that
+  // current through Rdeg; stop where VDS meets VGS - VP (triode) or VGS reaches 0 (gate
+  // conduction).
+  auto margin = [&](double a) {
+    const double id = b.id_a + a / rl_ac;
+    const double vds = b.vds_v - a - (a / rl_ac) * r_deg;
+    return std::sqrt(id / b.beta_eff) - vds;  // increasing in a; zero at the triode edge
+  };
+  double down = 0;
+  if (margin(0) < 0) down = bisect(margin, 0.0, b.vds_v);
+  const double gate_limit = (q.vp_abs_v * q.vp_abs_v * b.beta_eff - b.id_a) * rl_ac;
+  p.swing_down_v = std::max(0.0, std::min(down, gate_limit));
+  p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+  p.active = b.saturated() && b.vgs_v <= 0.0;
+  if (!b.saturated()) p.problem = fmt::format("in the triode region: VDS {:.2f} V < VGS-VP {:.2f} V", b.vds_v, b.vgst_v);
+  if (b.vgs_v > 0.0) p.problem = fmt::format("gate forward-biased: VGS {:+.2f} V", b.vgs_v);
+
+  // Low corners: input and output coupling, and the source bypass shelf.
+  LfSection lf[3];
+  std::size_t n = 0;
+  if (s.cin > 0) lf[n++] = {1.0 / (s.cin * (c.source_ohm + s.r_gate_ohm)), 0.0};
+  if (s.cout > 0) lf[n++] = {1.0 / (s.cout * (p.zout_ohm + c.load_ohm)), 0.0};
+  if (s.cs > 0 && s.rs2 > 0) {
+    const double look = s.rs1 + 1.0 / gm + (std::isinf(ro) ? 0.0 : (rl_ac / (gm * ro)));
+    lf[n++] = {1.0 / (s.cs * par(s.rs2, look)), 1.0 / (s.cs * s.rs2)};
+  }
+  p.f_low_hz = lf_corner_hz(std::span<const LfSection>(lf, n));
+
+  // High corner: the hybrid-pi network (gate, source, drain) solved exactly.
+  const double deg = 1.0 + gm * r_deg;
+  HybridPi m;
+  m.g_src = 1.0 / par(c.source_ohm > 0 ? c.source_ohm : 1e-3, s.r_gate_ohm);
+  m.cpi = cgs_at(q, b.vgs_v);
+  m.cmu = cgd_at(q, b.vgs_v - b.vds_v);
+  m.gm = gm;
+  m.go = std::isinf(ro) ? 0.0 : 1.0 / ro;
+  m.g_e = g_of(r_deg);
+  m.g_c = 1.0 / rl_ac;
+  p.f_high_hz = hybrid_pi_corner_hz(m);
+
+  if (detail == Detail::full) {
+    p.hd2 = c.hd2_peak_v / (8.0 * b.id_a * rl_ac * deg);
+    const double kt4 = thermal_v2(1.0, c.celsius);  // 4kT
+    const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
+    double v2 = kt4 * par(rsig, s.r_gate_ohm);              // source and gate resistors
+    v2 += (2.0 / 3.0) * kt4 / gm;                            // channel: 8kT/(3 gm)
+    v2 += kt4 * r_deg;                                       // unbypassed source resistor
+    const double back = deg / gm;                            // drain current to gate voltage
+    v2 += kt4 * (1.0 / s.rd + 1.0 / c.load_ohm) * back * back;  // RD and the load
+    p.noise_v_rthz = std::sqrt(v2) / divider;
+  }
+  return p;
+}
+
+}  // namespace shelfstage::stages::detail

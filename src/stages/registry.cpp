@@ -1,0 +1,34 @@
+// The one place every topology is registered: adding a topology is one line here.
+#include <array>
+
+#include "shelfstage/stages/topology.hpp"
+
+namespace shelfstage::stages {
+
+const Topology& jfet_cs_self();
+const Topology& jfet_cs_divider();
+const Topology& jfet_follower();
+const Topology& bjt_ce_divider();
+const Topology& bjt_follower();
+
+std::span<const Topology* const> registry() {
+  static const std::array<const Topology*, 5> all = {
+      &jfet_cs_self(), &jfet_cs_divider(), &jfet_follower(), &bjt_ce_divider(), &bjt_follower(),
+  };
+  return all;
+}
+
+const Topology* find_topology(std::string_view name) {
+  for (const Topology* t : registry())
+    if (t->name() == name) return t;
+  return nullptr;
+}
+
+std::size_t Topology::role_index(std::string_view role) const {
+  const auto r = roles();
+  for (std::size_t i = 0; i < r.size(); ++i)
+    if (r[i].name == role) return i;
+  return r.size();
+}
+
+}  // namespace shelfstage::stages
