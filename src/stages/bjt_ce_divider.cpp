@@ -96,7 +96,6 @@ class BjtCeDivider final : public Topology {
       const double look = v[RE1] + (rpi + rs2) / (beta + 1.0);
       lf[n++] = {1.0 / (v[CE] * par(v[RE2], look)), 1.0 / (v[CE] * v[RE2])};
     }
-    p.f_low_hz = detail::lf_corner_hz(std::span<const detail::LfSection>(lf, n));
     // High corner: the hybrid-pi network (base, emitter, collector) solved exactly.
     detail::HybridPi m;
     m.g_src = 1.0 / rs2;
@@ -107,7 +106,7 @@ class BjtCeDivider final : public Topology {
     m.go = std::isinf(b.ro_ohm) ? 0.0 : 1.0 / b.ro_ohm;
     m.g_e = detail::g_of(r_deg);
     m.g_c = 1.0 / rl_ac;
-    p.f_high_hz = detail::hybrid_pi_corner_hz(m);
+    detail::finish_response(p, std::span<const detail::LfSection>(lf, n), m, c);
 
     if (d == Detail::full) {
       // Effective degeneration for the exponential law includes the base source through beta.
@@ -133,6 +132,66 @@ class BjtCeDivider final : public Topology {
       p.stress.push_back(detail::cap_stress(kRoles, COUT, b.vc_v, q));
     }
     return p;
+  }
+
+  // Design (bench rules, common practice): emitter at about a tenth of the supply and at
+  // least 1 V; the divider carrying ten (or twenty) times the base current, or less when the
+  // input impedance asks for it; RE1 and RC from the gain, re = VT/IC included.
+  void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
+               const std::function<void(const Values&)>& emit) const override {
+    const auto& t = q.bjt;
+    for (double ic : {0.2e-3, 0.5e-3, 1e-3, 2e-3, 4e-3}) {
+      const double ib = ic / t.bf;
+      for (double ve : {std::max(1.0, 0.1 * c.supply_v), std::max(1.2, 0.16 * c.supply_v)}) {
+        if (ve > c.supply_v / 3) continue;
+        const double vbe = t.vt_v * std::log(ic / t.is_a);
+        const double vb = ve + vbe;
+        for (double k : {20.0, 10.0, 4.0}) {
+          const double idiv = k * ib;
+          if (g.max_current_a > 0 && ic + idiv > g.max_current_a) continue;
+          std::vector<double> r1s, r2s, re_tot;
+          shelf.nearest((c.supply_v - vb) / (idiv + ib), 1, r1s);
+          shelf.nearest(vb / idiv, 1, r2s);
+          shelf.nearest(ve / (ic + ib), 1, re_tot);
+          if (r1s.empty() || r2s.empty() || re_tot.empty()) continue;
+          const double rth = par(r1s[0], r2s[0]);
+          for (auto [re1, re2] : detail::leg_splits(shelf, re_tot[0])) {
+            const double gm = ic / t.vt_v;
+            const double zin = par(rth, t.bf * (1.0 / gm + re1));
+            if (zin < g.zin_min_ohm * 1.02) continue;
+            const double a_int = g.gain * (zin + c.source_ohm) / zin;
+            const double rc = detail::load_resistor_for_gain(a_int, gm, re1, c.load_ohm);
+            if (rc <= 0 || ic * rc + ve + 0.3 > c.supply_v) continue;
+            std::vector<double> rcs;
+            shelf.nearest(rc, 2, rcs);
+            for (double x : rcs) {
+              Values v;
+              v[R1] = r1s[0];
+              v[R2] = r2s[0];
+              v[RC] = x;
+              v[RE1] = re1;
+              v[RE2] = re2;
+              emit(v);
+            }
+          }
+        }
+      }
+    }
+  }
+
+  Values capacitor_targets(const Values& v, const Transistor& q, const Conditions& c, double f) const override {
+    Values t = v;
+    const auto& d = q.bjt;
+    const double rth = par(v[R1], v[R2]);
+    const detail::BjtBias b = detail::bjt_bias(d, c.supply_v * v[R2] / (v[R1] + v[R2]), rth, v[RE1] + v[RE2],
+                                               v[RC], c.supply_v);
+    const double gm = b.conducts ? b.gm_s : 1e-3;
+    const double zin = par(rth, d.bf * (1.0 / gm + v[RE1]));
+    t[CIN] = detail::cap_for(c.source_ohm + zin, f / 6);
+    t[COUT] = detail::cap_for(v[RC] + c.load_ohm, f / 6);
+    const double look = v[RE1] + (d.bf / gm + par(c.source_ohm > 0 ? c.source_ohm : 1e-3, rth)) / (d.bf + 1.0);
+    t[CE] = v[RE2] > 0 ? detail::cap_for(par(v[RE2], look), f / 4) : 0.0;
+    return t;
   }
 };
 

@@ -79,28 +79,18 @@ class BjtFollower final : public Topology {
 
     detail::LfSection lf[2] = {{1.0 / (v[CIN] * (c.source_ohm + p.zin_ohm)), 0.0},
                                {1.0 / (v[COUT] * (p.zout_ohm + c.load_ohm)), 0.0}};
-    p.f_low_hz = detail::lf_corner_hz(lf);
-    // High corner from the hybrid-pi follower, solved exactly: with Ypi = 1/rpi + s*Cpi,
-    // GL = 1/RE', Rs'' = Rsig || RTh, and Cmu from base to AC ground,
-    // H(s) = (gm + Ypi) / Rs'' / ((1/Rs'' + s Cmu)(gm + Ypi + GL) + Ypi GL).
-    const double cpi = detail::cbe_at(t, b.vbe_v), cmu = detail::cbc_at(t, b.vb_v - c.supply_v);
-    const double gl = 1.0 / re_ac;
-    auto h = [&](double w) {
-      const std::complex<double> s(0.0, w), ypi = 1.0 / rpi + s * cpi;
-      return std::abs((gm + ypi) / rs2 / ((1.0 / rs2 + s * cmu) * (gm + ypi + gl) + ypi * gl));
-    };
-    const double h0 = h(1.0);
-    double w = 1.0, prev = 1.0;
-    while (w < 1e14 && h(w) >= h0 / std::numbers::sqrt2) {
-      prev = w;
-      w *= 1.2;
-    }
-    double lo = prev, hi = w;
-    for (int i = 0; i < 50; ++i) {
-      const double mid = std::sqrt(lo * hi);
-      (h(mid) >= h0 / std::numbers::sqrt2 ? lo : hi) = mid;
-    }
-    p.f_high_hz = std::sqrt(lo * hi) / (2.0 * std::numbers::pi);
+    // High corner: the hybrid-pi network with the collector at AC ground, output at the emitter.
+    detail::HybridPi m;
+    m.g_src = 1.0 / rs2;
+    m.gpi = 1.0 / rpi;
+    m.cpi = detail::cbe_at(t, b.vbe_v);
+    m.cmu = detail::cbc_at(t, b.vb_v - c.supply_v);
+    m.gm = gm;
+    m.go = std::isinf(b.ro_ohm) ? 0.0 : 1.0 / b.ro_ohm;
+    m.g_e = 1.0 / par(v[RE], c.load_ohm);
+    m.g_c = 1e9;
+    m.out_at_emitter = true;
+    detail::finish_response(p, lf, m, c);
 
     if (d == Detail::full) {
       const double f = 1.0 + gm * (re_ac + rs2 / (beta + 1.0));
@@ -122,6 +112,53 @@ class BjtFollower final : public Topology {
                   detail::cap_stress(kRoles, COUT, b.ve_v, q)};
     }
     return p;
+  }
+
+  // Design: emitter near half the supply for the widest swing (and a little lower for a
+  // heavy load); the current from the load it must drive; the divider as stiff as the
+  // input impedance allows.
+  void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
+               const std::function<void(const Values&)>& emit) const override {
+    const auto& t = q.bjt;
+    for (double ic : {0.5e-3, 1e-3, 2e-3, 5e-3, 10e-3}) {
+      const double ib = ic / t.bf;
+      for (double ve_frac : {0.45, 0.35}) {
+        const double ve = ve_frac * c.supply_v;
+        const double vb = ve + t.vt_v * std::log(ic / t.is_a);
+        for (double k : {20.0, 8.0, 3.0}) {
+          const double idiv = k * ib;
+          if (g.max_current_a > 0 && ic + idiv > g.max_current_a) continue;
+          std::vector<double> r1s, r2s, res;
+          shelf.nearest((c.supply_v - vb) / (idiv + ib), 2, r1s);
+          shelf.nearest(vb / idiv, 1, r2s);
+          shelf.nearest(ve / (ic + ib), 2, res);
+          for (double a : r1s)
+            for (double bb : r2s)
+              for (double re : res) {
+                const double zin = par(par(a, bb), t.bf * par(re, c.load_ohm));
+                if (zin < g.zin_min_ohm * 1.02) continue;
+                Values v;
+                v[R1] = a;
+                v[R2] = bb;
+                v[RE] = re;
+                emit(v);
+              }
+        }
+      }
+    }
+  }
+
+  Values capacitor_targets(const Values& v, const Transistor& q, const Conditions& c, double f) const override {
+    Values t = v;
+    const auto& d = q.bjt;
+    const double rth = par(v[R1], v[R2]);
+    const detail::BjtBias b = detail::bjt_bias(d, c.supply_v * v[R2] / (v[R1] + v[R2]), rth, v[RE], 0.0, c.supply_v);
+    const double gm = b.conducts ? b.gm_s : 1e-3;
+    const double zin = par(rth, d.bf * par(v[RE], c.load_ohm));
+    const double zout = par(v[RE], (d.bf / gm + par(c.source_ohm > 0 ? c.source_ohm : 1e-3, rth)) / (d.bf + 1.0));
+    t[CIN] = detail::cap_for(c.source_ohm + zin, f / 6);
+    t[COUT] = detail::cap_for(zout + c.load_ohm, f / 6);
+    return t;
   }
 };
 

@@ -192,6 +192,53 @@ double hybrid_pi_corner_hz(const HybridPi& m) {
   return std::sqrt(lo * hi) / (2 * std::numbers::pi);
 }
 
+void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c) {
+  p.f_low_hz = lf_corner_hz(lf);
+  p.f_high_hz = hybrid_pi_corner_hz(m);
+  if (c.band_lo_hz > 0) {
+    const double w = 2 * std::numbers::pi * c.band_lo_hz;
+    double h2 = 1.0;
+    for (const auto& x : lf) h2 *= (w * w + x.zero_rad * x.zero_rad) / (w * w + x.pole_rad * x.pole_rad);
+    p.loss_lo_db = std::max(0.0, -10.0 * std::log10(h2));
+  }
+  if (c.band_hi_hz > 0) {
+    const double r = hybrid_pi_gain(m, 2 * std::numbers::pi * c.band_hi_hz) / hybrid_pi_gain(m, 1.0);
+    p.loss_hi_db = std::max(0.0, -20.0 * std::log10(r));
+  }
+}
+
+double cap_for(double r_ohm, double f_hz) { return 1.0 / (2 * std::numbers::pi * r_ohm * f_hz); }
+
+std::vector<std::pair<double, double>> leg_splits(const ValueSource& shelf, double r_total) {
+  std::vector<std::pair<double, double>> out;
+  std::vector<double> near;
+  shelf.nearest(r_total, 2, near);
+  for (double r : near) {
+    out.emplace_back(0.0, r);  // fully bypassed
+    out.emplace_back(r, 0.0);  // no bypass
+  }
+  std::vector<double> r1s;
+  shelf.spread(0.03 * r_total, 0.85 * r_total, 6, r1s);
+  for (double r1 : r1s) {
+    std::vector<double> r2;
+    shelf.nearest(r_total - r1, 1, r2);
+    if (!r2.empty()) out.emplace_back(r1, r2.front());
+  }
+  return out;
+}
+
+double load_resistor_for_gain(double a_int, double gm, double r_deg, double load_ohm) {
+  const double rl_ac = a_int * (1.0 / gm + r_deg);
+  if (!(rl_ac > 0) || rl_ac >= 0.98 * load_ohm) return 0.0;
+  return 1.0 / (1.0 / rl_ac - 1.0 / load_ohm);
+}
+
+void unique_values(std::vector<double>& v) {
+  std::sort(v.begin(), v.end());
+  v.erase(std::unique(v.begin(), v.end(), [](double a, double b) { return std::abs(a - b) <= 1e-9 * std::abs(b); }),
+          v.end());
+}
+
 double cgs_at(const devices::JfetInstance& q, double vgs) {
   return devices::depletion_capacitance(q.cgs_f, vgs, devices::kJfetPb, devices::kJfetM);
 }

@@ -69,6 +69,11 @@ struct HybridPi {
 double hybrid_pi_gain(const HybridPi& m, double w);
 /// The upper -3 dB frequency (Hz) of that response, relative to its low-frequency value.
 double hybrid_pi_corner_hz(const HybridPi& m);
+/// Sets f_low, f_high and the band-edge losses of p from the low-frequency sections and
+/// the hybrid-pi model.
+void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c);
+/// Capacitance that puts a first-order corner at f_hz through r_ohm.
+double cap_for(double r_ohm, double f_hz);
 /// Conductance of a resistor that may be absent (0 ohms: a short, given a huge conductance).
 inline double g_of(double r_ohm) { return r_ohm > 0 ? 1.0 / r_ohm : 1e9; }
 
@@ -107,5 +112,23 @@ struct CsCircuit {
 /// Evaluates it; `bias` receives the operating point (for the topology's stress list).
 Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Conditions& c, Detail detail,
                     JfetBias& bias);
+
+}  // namespace shelfstage::stages::detail
+
+namespace shelfstage::stages::detail {
+
+/// Ways to split a source or emitter leg of about r_total ohms into an unbypassed part
+/// (first) and a bypassed part (second; 0: none): fully bypassed, fully unbypassed, and a
+/// few splits in between, each on values the shelf can make.
+std::vector<std::pair<double, double>> leg_splits(const ValueSource& shelf, double r_total);
+
+/// The drain or collector resistor that gives an internal gain a_int (gate or base to the
+/// load) with transconductance gm and unbypassed degeneration r_deg into load_ohm:
+/// RL' = a_int * (1/gm + r_deg), RD = 1 / (1/RL' - 1/load). Returns 0 when no resistor
+/// can (RL' >= load).
+double load_resistor_for_gain(double a_int, double gm, double r_deg, double load_ohm);
+
+/// Distinct values, in order.
+void unique_values(std::vector<double>& v);
 
 }  // namespace shelfstage::stages::detail

@@ -89,6 +89,14 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
   p.gain = corners.mid_gain;
   p.f_low_hz = corners.f_low_hz;
   p.f_high_hz = corners.f_high_hz;
+  {
+    const auto out = *net.find_net(std::string(kNetOut));
+    const double mid = std::abs(corners.mid_gain);
+    if (c.band_lo_hz > 0)
+      p.loss_lo_db = std::max(0.0, -20.0 * std::log10(std::abs(circuit::solve_ac(net, op, c.band_lo_hz)[out]) / mid));
+    if (c.band_hi_hz > 0)
+      p.loss_hi_db = std::max(0.0, -20.0 * std::log10(std::abs(circuit::solve_ac(net, op, c.band_hi_hz)[out]) / mid));
+  }
   // Impedances are read well inside the band: far above the coupling corners, far below
   // the device capacitances' effect.
   double fm = 1000.0;

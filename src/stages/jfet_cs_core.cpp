@@ -65,7 +65,6 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
     const double look = s.rs1 + 1.0 / gm + (std::isinf(ro) ? 0.0 : (rl_ac / (gm * ro)));
     lf[n++] = {1.0 / (s.cs * par(s.rs2, look)), 1.0 / (s.cs * s.rs2)};
   }
-  p.f_low_hz = lf_corner_hz(std::span<const LfSection>(lf, n));
 
   // High corner: the hybrid-pi network (gate, source, drain) solved exactly.
   const double deg = 1.0 + gm * r_deg;
@@ -77,7 +76,7 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
   m.go = std::isinf(ro) ? 0.0 : 1.0 / ro;
   m.g_e = g_of(r_deg);
   m.g_c = 1.0 / rl_ac;
-  p.f_high_hz = hybrid_pi_corner_hz(m);
+  finish_response(p, std::span<const LfSection>(lf, n), m, c);
 
   if (detail == Detail::full) {
     p.hd2 = c.hd2_peak_v / (8.0 * b.id_a * rl_ac * deg);

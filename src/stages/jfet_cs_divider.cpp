@@ -73,6 +73,66 @@ class JfetCsDivider final : public Topology {
     }
     return p;
   }
+
+  // Design: a source voltage a good fraction of the supply (the larger, the less the bias
+  // moves with IDSS and VP); for a few drain currents RS = VS/ID and the gate voltage
+  // VG = VS + VGS(ID); the divider from the input impedance; RD from the gain.
+  void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
+               const std::function<void(const Values&)>& emit) const override {
+    const auto& j = q.jfet;
+    for (double vs_frac : {0.12, 0.2, 0.3}) {
+      const double vs = vs_frac * c.supply_v;
+      for (double frac : {0.2, 0.35, 0.5}) {
+        const double id = frac * j.idss_a;
+        if (g.max_current_a > 0 && id > g.max_current_a) continue;
+        const double vg = vs - j.vp_abs_v * (1.0 - std::sqrt(frac));
+        if (vg <= 0.05 * c.supply_v) continue;  // the self-biased stage covers this
+        const double r = vg / c.supply_v;
+        for (double rpar : {std::max(1e6, g.zin_min_ohm * 1.15), std::max(220e3, g.zin_min_ohm * 1.15)}) {
+          std::vector<double> r1s, r2s, rs_tot;
+          shelf.nearest(rpar / r, 2, r1s);
+          shelf.nearest(rpar / (1.0 - r), 2, r2s);
+          shelf.nearest(vs / id, 1, rs_tot);
+          for (double a : r1s) {
+            for (double bb : r2s) {
+              if (par(a, bb) < g.zin_min_ohm * 1.06) continue;
+              const double a_int = g.gain * (par(a, bb) + c.source_ohm) / par(a, bb);
+              for (double rt : rs_tot) {
+                const detail::JfetBias b = detail::jfet_bias(j, c.supply_v * bb / (a + bb), rt, 0.0, c.supply_v);
+                if (!b.conducts) continue;
+                for (auto [r1, r2] : detail::leg_splits(shelf, rt)) {
+                  const double rd = detail::load_resistor_for_gain(a_int, b.gm_s, r1, c.load_ohm);
+                  if (rd <= 0 || b.id_a * (rd + r1 + r2) > c.supply_v) continue;
+                  std::vector<double> rds;
+                  shelf.nearest(rd, 2, rds);
+                  for (double x : rds) {
+                    Values v;
+                    v[R1] = a;
+                    v[R2] = bb;
+                    v[RD] = x;
+                    v[RS1] = r1;
+                    v[RS2] = r2;
+                    emit(v);
+                  }
+                }
+              }
+            }
+          }
+        }
+      }
+    }
+  }
+
+  Values capacitor_targets(const Values& v, const Transistor& q, const Conditions& c, double f) const override {
+    Values t = v;
+    const double vg = c.supply_v * v[R2] / (v[R1] + v[R2]);
+    const detail::JfetBias b = detail::jfet_bias(q.jfet, vg, v[RS1] + v[RS2], v[RD], c.supply_v);
+    const double gm = b.conducts ? b.gm_s : 1e-3;
+    t[CIN] = detail::cap_for(c.source_ohm + par(v[R1], v[R2]), f / 6);
+    t[COUT] = detail::cap_for(v[RD] + c.load_ohm, f / 6);
+    t[CS] = v[RS2] > 0 ? detail::cap_for(par(v[RS2], v[RS1] + 1.0 / gm), f / 4) : 0.0;
+    return t;
+  }
 };
 
 }  // namespace

@@ -67,6 +67,55 @@ class JfetCsSelf final : public Topology {
     }
     return p;
   }
+
+  // Design: RG from the input impedance; for a few drain currents (fractions of IDSS)
+  // the self-bias resistor RS = -VGS/ID; each split of it; RD from the gain.
+  void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
+               const std::function<void(const Values&)>& emit) const override {
+    const auto& j = q.jfet;
+    std::vector<double> rgs;
+    shelf.nearest(std::max(1e6, g.zin_min_ohm * 1.15), 3, rgs);
+    std::erase_if(rgs, [&](double r) { return r < g.zin_min_ohm * 1.06; });
+    if (rgs.size() > 2) rgs.resize(2);
+    for (double rg : rgs) {
+      const double a_int = g.gain * (rg + c.source_ohm) / rg;
+      for (double frac : {0.12, 0.2, 0.3, 0.42, 0.6}) {
+        const double id = frac * j.idss_a;
+        if (g.max_current_a > 0 && id > g.max_current_a) continue;
+        const double rs = j.vp_abs_v * (1.0 - std::sqrt(frac)) / id;
+        std::vector<double> rs_tot;
+        shelf.nearest(rs, 2, rs_tot);
+        for (double rt : rs_tot) {
+          const detail::JfetBias b = detail::jfet_bias(j, 0.0, rt, 0.0, c.supply_v);
+          if (!b.conducts) continue;
+          for (auto [r1, r2] : detail::leg_splits(shelf, rt)) {
+            const double rd = detail::load_resistor_for_gain(a_int, b.gm_s, r1, c.load_ohm);
+            if (rd <= 0 || b.id_a * (rd + r1 + r2) > c.supply_v) continue;
+            std::vector<double> rds;
+            shelf.nearest(rd, 2, rds);
+            for (double x : rds) {
+              Values v;
+              v[RG] = rg;
+              v[RD] = x;
+              v[RS1] = r1;
+              v[RS2] = r2;
+              emit(v);
+            }
+          }
+        }
+      }
+    }
+  }
+
+  Values capacitor_targets(const Values& v, const Transistor& q, const Conditions& c, double f) const override {
+    Values t = v;
+    const detail::JfetBias b = detail::jfet_bias(q.jfet, 0.0, v[RS1] + v[RS2], v[RD], c.supply_v);
+    const double gm = b.conducts ? b.gm_s : 1e-3;
+    t[CIN] = detail::cap_for(c.source_ohm + v[RG], f / 6);
+    t[COUT] = detail::cap_for(v[RD] + c.load_ohm, f / 6);
+    t[CS] = v[RS2] > 0 ? detail::cap_for(par(v[RS2], v[RS1] + 1.0 / gm), f / 4) : 0.0;
+    return t;
+  }
 };
 
 }  // namespace

@@ -73,16 +73,17 @@ class JfetFollower final : public Topology {
 
     detail::LfSection lf[2] = {{1.0 / (v[CIN] * (c.source_ohm + v[RG])), 0.0},
                                {1.0 / (v[COUT] * (p.zout_ohm + c.load_ohm)), 0.0}};
-    p.f_low_hz = detail::lf_corner_hz(lf);
-    // High corner, exact for the follower with Cgs and Cgd (Cgd to AC ground):
-    // H = A0 (1 + s Cgs/gm) / (1 + b1 s + b2 s^2), with GL = 1/(RS||RL||ro), Rs' = Rsig||RG,
-    // b1 = (Cgs + Rs' Cgd (gm + GL) + Rs' Cgs GL) / (gm + GL), b2 = Rs' Cgd Cgs / (gm + GL).
-    const double cgs = detail::cgs_at(j, b.vgs_v), cgd = detail::cgd_at(j, b.vgs_v - b.vds_v);
-    const double gl = 1.0 / rsl;
-    const double rsrc = par(c.source_ohm > 0 ? c.source_ohm : 1e-3, v[RG]);
-    const double b1 = (cgs + rsrc * cgd * (gm + gl) + rsrc * cgs * gl) / (gm + gl);
-    const double b2 = rsrc * cgd * cgs / (gm + gl);
-    p.f_high_hz = detail::hf_corner_hz(b1, b2, cgs > 0 ? gm / cgs : 0.0);
+    // High corner: the hybrid-pi network with the drain at AC ground, output at the source.
+    detail::HybridPi m;
+    m.g_src = 1.0 / par(c.source_ohm > 0 ? c.source_ohm : 1e-3, v[RG]);
+    m.cpi = detail::cgs_at(j, b.vgs_v);
+    m.cmu = detail::cgd_at(j, b.vgs_v - b.vds_v);
+    m.gm = gm;
+    m.go = std::isinf(b.ro_ohm) ? 0.0 : 1.0 / b.ro_ohm;
+    m.g_e = 1.0 / r_ac;
+    m.g_c = 1e9;
+    m.out_at_emitter = true;
+    detail::finish_response(p, lf, m, c);
 
     if (d == Detail::full) {
       p.hd2 = c.hd2_peak_v / (8.0 * b.id_a * r_ac * (1.0 + gm * r_ac));
@@ -96,6 +97,42 @@ class JfetFollower final : public Topology {
                   detail::cap_stress(kRoles, COUT, b.vs_v, q)};
     }
     return p;
+  }
+
+  // Design: RG from the input impedance; RS over a range of drain currents (the gain is
+  // near one whatever RS is; the current sets the swing into the load).
+  void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
+               const std::function<void(const Values&)>& emit) const override {
+    const auto& j = q.jfet;
+    std::vector<double> rgs;
+    shelf.nearest(std::max(1e6, g.zin_min_ohm * 1.15), 3, rgs);
+    std::erase_if(rgs, [&](double r) { return r < g.zin_min_ohm * 1.06; });
+    if (rgs.size() > 2) rgs.resize(2);
+    for (double rg : rgs) {
+      std::vector<double> rss;
+      for (double frac : {0.1, 0.2, 0.3, 0.45, 0.6, 0.8}) {
+        const double id = frac * j.idss_a;
+        if (g.max_current_a > 0 && id > g.max_current_a) continue;
+        shelf.nearest(j.vp_abs_v * (1.0 - std::sqrt(frac)) / id, 2, rss);
+      }
+      detail::unique_values(rss);
+      for (double rs : rss) {
+        if (rs * 1e-3 > c.supply_v) continue;
+        Values v;
+        v[RG] = rg;
+        v[RS] = rs;
+        emit(v);
+      }
+    }
+  }
+
+  Values capacitor_targets(const Values& v, const Transistor& q, const Conditions& c, double f) const override {
+    Values t = v;
+    const detail::JfetBias b = detail::jfet_bias(q.jfet, 0.0, v[RS], 0.0, c.supply_v);
+    const double zout = b.conducts ? par(v[RS], 1.0 / b.gm_s) : v[RS];
+    t[CIN] = detail::cap_for(c.source_ohm + v[RG], f / 6);
+    t[COUT] = detail::cap_for(zout + c.load_ohm, f / 6);
+    return t;
   }
 };
 

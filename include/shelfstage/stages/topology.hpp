@@ -3,6 +3,7 @@
 #pragma once
 #include <array>
 #include <cstddef>
+#include <functional>
 #include <span>
 #include <string>
 #include <string_view>
@@ -50,6 +51,8 @@ struct Conditions {
   double load_ohm = 10e3;
   double source_ohm = 0;
   double celsius = devices::kNominalCelsius;
+  double band_lo_hz = 0;        ///< band edges at which the loss is reported (0: none)
+  double band_hi_hz = 0;
   double hd2_peak_v = 1.0;      ///< output peak at which second-harmonic distortion is given
   double noise_f_hz = 1000.0;   ///< frequency of the input noise figure
 };
@@ -77,6 +80,8 @@ struct Performance {
   double zout_ohm = 0;  ///< output impedance at mid-band, seen by the load
   double f_low_hz = 0;  ///< -3 dB points relative to mid-band
   double f_high_hz = 0;
+  double loss_lo_db = 0;    ///< loss at Conditions::band_lo_hz relative to mid-band, dB >= 0
+  double loss_hi_db = 0;    ///< loss at Conditions::band_hi_hz relative to mid-band, dB >= 0
   double swing_peak_v = 0;  ///< largest symmetric undistorted output peak at the load
   double swing_up_v = 0;    ///< output excursion limits, each side
   double swing_down_v = 0;
@@ -93,6 +98,27 @@ enum class Detail { core, full };
 /// Names of the nets every stage netlist uses: the signal source drives "sig" through
 /// RSIG into "in" (then CIN); the load RL hangs on "out"; the supply is "vdd".
 inline constexpr std::string_view kNetSignal = "sig", kNetIn = "in", kNetOut = "out", kNetSupply = "vdd";
+
+/// What a topology's design equations may ask of the synthesizer: which values the shelf
+/// can make (single parts and combinations), so proposals land on real values.
+class ValueSource {
+ public:
+  virtual ~ValueSource() = default;
+  /// Appends up to n achievable resistances nearest to target_ohm (log distance), nearest first.
+  virtual void nearest(double target_ohm, std::size_t n, std::vector<double>& out) const = 0;
+  /// Appends achievable resistances in [lo_ohm, hi_ohm], spread evenly on a log scale,
+  /// at most max_n of them.
+  virtual void spread(double lo_ohm, double hi_ohm, std::size_t max_n, std::vector<double>& out) const = 0;
+};
+
+/// The targets a topology designs toward (the request, in the N frame).
+struct Goal {
+  double gain = 10;           ///< |V/V| from the source to the load
+  double zin_min_ohm = 0;     ///< lowest acceptable input impedance
+  double swing_peak_v = 0;    ///< required output peak (0: none)
+  double max_current_a = 0;   ///< supply current limit (0: none)
+  double f_low_hz = 20;       ///< lowest frequency to pass (capacitors are sized for it)
+};
 
 class Topology {
  public:
@@ -113,6 +139,18 @@ class Topology {
   /// The fast closed-form evaluator (the search calls it millions of times).
   virtual Performance evaluate(const Values& values, const Transistor& q, const Conditions& c,
                                Detail detail = Detail::core) const = 0;
+
+  /// The design equations: proposes resistor sets (capacitor roles left 0) for the goal with
+  /// the nominal piece q, drawing only on values the shelf can make. Each proposal goes to
+  /// emit; the synthesizer sizes the capacitors, evaluates and ranks.
+  virtual void propose(const Goal& goal, const Transistor& q, const Conditions& c, const ValueSource& shelf,
+                       const std::function<void(const Values&)>& emit) const = 0;
+
+  /// The smallest capacitance (farads) each capacitor role needs so that its corner sits
+  /// well below f_low_hz (the coupling poles at a quarter of it, a bypass pole at half), given
+  /// the resistors in `values`. Optional capacitors whose resistor is absent get 0.
+  virtual Values capacitor_targets(const Values& values, const Transistor& q, const Conditions& c,
+                                   double f_low_hz) const = 0;
 };
 
 /// Every topology, in a fixed order.
