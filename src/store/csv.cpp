@@ -9,6 +9,7 @@
 #include <charconv>
 #include <climits>
 #include <cmath>
+#include <functional>
 #include <map>
 #include <optional>
 #include <set>
@@ -432,8 +433,16 @@ std::string csv_field(std::string_view field) {
 
 // --- stock -------------------------------------------------------------------------------
 
-std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
-                                  const std::vector<std::string>& known_devices) {
+namespace {
+
+/// A device named on a stock row: its spelling in the device list and, when known, its kind.
+struct NamedDevice {
+  std::string name;
+  std::optional<devices::DeviceKind> kind;
+};
+using DeviceLookup = std::function<std::optional<NamedDevice>(std::string_view)>;
+
+std::vector<Part> parse_stock(std::string_view text, std::string_view source, const DeviceLookup& lookup) {
   const Sheet sheet(text, source,
                     {"kind", "value", "qty", "tol", "power", "volts", "dielectric", "package", "bin", "note"},
                     {"kind", "value", "qty"});
@@ -464,12 +473,17 @@ std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source
       if (auto v = read_value("value", value_text, unit, line, problems)) p.value = *v;
       else bad = true;
     } else if (kind_ok) {
-      const auto* name = find_name(known_devices, value_text, [](const std::string& s) { return s; });
-      if (name == nullptr)
+      const auto found = lookup(value_text);
+      devices::DeviceKind want{};
+      store::device_kind(p.kind, want);
+      if (!found)
         note(fmt::format("value '{}' is not a device in the device list (import it first with devices import)",
                          shown(value_text)));
+      else if (found->kind && *found->kind != want)
+        note(fmt::format("value '{}' is a device of kind {}, not {}", found->name, devices::kind_name(*found->kind),
+                         kind_code(p.kind)));
       else
-        p.device = *name;
+        p.device = found->name;
     }
 
     if (auto q = read_count("qty", sheet.get(row, "qty"), line, problems)) p.qty = *q;
@@ -501,6 +515,26 @@ std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source
   }
   problems.finish();
   return out;
+}
+
+}  // namespace
+
+std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
+                                  const std::vector<std::string>& known_devices) {
+  return parse_stock(text, source, [&](std::string_view name) -> std::optional<NamedDevice> {
+    const auto* found = find_name(known_devices, name, [](const std::string& s) { return s; });
+    if (found == nullptr) return std::nullopt;
+    return NamedDevice{*found, std::nullopt};
+  });
+}
+
+std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
+                                  const std::vector<devices::DeviceRecord>& known_devices) {
+  return parse_stock(text, source, [&](std::string_view name) -> std::optional<NamedDevice> {
+    const auto* found = find_name(known_devices, name, [](const devices::DeviceRecord& d) { return d.name; });
+    if (found == nullptr) return std::nullopt;
+    return NamedDevice{found->name, found->kind};
+  });
 }
 
 std::string write_stock_csv(const std::vector<Part>& parts) {

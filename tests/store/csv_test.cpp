@@ -204,6 +204,22 @@ TEST_CASE("stock: odd rows a tired person types") {
   CHECK(one(",,,,,").empty());      // a row of empty fields is skipped
 }
 
+TEST_CASE("stock: with device records, a transistor row must match its device's kind") {
+  devices::DeviceRecord j;
+  j.name = "SJ-101";
+  j.kind = devices::DeviceKind::njfet;
+  const std::vector<devices::DeviceRecord> known = {j};
+  const auto ok = store::parse_stock_csv("kind,value,qty\nNJFET,sj-101,2\n", "stock.csv", known);
+  REQUIRE(ok.size() == 1);
+  CHECK(ok[0].device == "SJ-101");
+  const auto p = problems_of(
+      [&] { (void)store::parse_stock_csv("kind,value,qty\nNPN,SJ-101,2\nPNP,SJ-102,1\n", "stock.csv", known); });
+  CHECK(p == std::vector<std::string>{
+                 "stock.csv:2: value 'SJ-101' is a device of kind NJFET, not NPN",
+                 "stock.csv:3: value 'SJ-102' is not a device in the device list (import it first with devices "
+                 "import)"});
+}
+
 TEST_CASE("stock: header problems name the column") {
   auto header = [](const std::string& text) { return problems_of([&] { (void)stock(text); }); };
   CHECK(header("kind,value,qty,colour\n") ==
@@ -399,9 +415,7 @@ TEST_CASE("the demo shelf files parse and import cleanly") {
   if (devices_text.empty()) return;  // the demo data is written elsewhere; nothing to check yet
   const auto devs = store::parse_devices_csv(devices_text, "devices.csv");
   CHECK_FALSE(devs.empty());
-  std::vector<std::string> names;
-  for (const auto& d : devs) names.push_back(d.name);
-  const auto parts = store::parse_stock_csv(read_file(demo / "stock.csv"), "stock.csv", names);
+  const auto parts = store::parse_stock_csv(read_file(demo / "stock.csv"), "stock.csv", devs);
   CHECK_FALSE(parts.empty());
   const auto pieces = store::parse_pieces_csv(read_file(demo / "pieces.csv"), "pieces.csv", devs);
   store::testing::TempDir tmp;

@@ -54,6 +54,10 @@ class CsvError : public InputError {
 /// part takes the spelling of the list.
 std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
                                   const std::vector<std::string>& known_devices);
+/// As above, and a transistor row whose kind differs from its device's kind is a bad row
+/// ("value 'SJ-101' is a device of kind NJFET, not NPN").
+std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
+                                  const std::vector<devices::DeviceRecord>& known_devices);
 
 /// The stock as CSV with every column, one row per stock line (quantities on hand;
 /// reservations are not exported). parse_stock_csv(write_stock_csv(p)) gives p back.

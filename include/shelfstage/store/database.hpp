@@ -53,17 +53,24 @@ class Database {
   const std::filesystem::path& path() const;
 
   // --- parts -------------------------------------------------------------------------
-  /// All stock lines, ordered by kind, value, bin.
+  /// All stock lines on the shelf (not removed ones), ordered by kind (R, C, NJFET, PJFET,
+  /// NPN, PNP), value, device, bin.
   std::vector<Part> parts() const;
+  /// The line with this id, a removed one too (Part::removed), or nullopt.
   std::optional<Part> part(std::int64_t id) const;
-  /// Adds pieces: if a line with the same kind, value/device, tolerance, ratings,
-  /// dielectric, package and bin exists, its quantity grows; otherwise a new line.
-  /// Writes a ledger entry. Returns the line id. Validates (InputError).
+  /// Adds pieces: if a line with the same kind, value (within 1e-9 relative)/device,
+  /// tolerance, ratings, dielectric, package and bin (the last three without regard to
+  /// case) exists, its quantity grows (a removed such line comes back); otherwise a new
+  /// line. Writes a ledger entry (none for qty 0); part.reserved > 0 is held as a
+  /// reservation of no design. Returns the line id. Validates with part_problems, and a
+  /// transistor's device must exist with the same kind (InputError). Device names compare
+  /// without regard to case; the line takes the device list's spelling.
   std::int64_t add_part(const Part& part, std::string_view reason);
   /// Adds many lines in one transaction (CSV import): all or nothing.
   void add_parts(const std::vector<Part>& parts, std::string_view reason);
   /// Changes the quantity on hand by delta (a recount, a loss). Refuses to go below the
-  /// reserved count or below zero (InputError). Writes a ledger entry.
+  /// reserved count or below zero, and refuses unknown or removed lines (InputError).
+  /// Writes a ledger entry (none for delta 0).
   void adjust(std::int64_t part_id, int delta, std::string_view reason);
   /// Takes a line off the shelf: its quantity goes to zero through the ledger and the line
   /// is hidden from listings (the ledger keeps its history). Refuses when pieces are reserved.
@@ -94,6 +101,7 @@ class Database {
   /// builds). Opaque here; see store/detail/sqlite.hpp.
   struct Impl;
   Impl& impl() { return *impl_; }
+  const Impl& impl() const { return *impl_; }
 
  private:
   explicit Database(std::unique_ptr<Impl> impl);
