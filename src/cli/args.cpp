@@ -1,0 +1,131 @@
+// Reading what a person types on the command line: counts, signed changes, values, ranges, files.
+#include "args.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cerrno>
+#include <charconv>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+#include <iterator>
+#include <limits>
+#include <sstream>
+
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::cli {
+
+namespace detail {
+namespace {
+
+std::string_view trim(std::string_view s) {
+  const auto first = s.find_first_not_of(" \t\r\n");
+  if (first == std::string_view::npos) return {};
+  const auto last = s.find_last_not_of(" \t\r\n");
+  return s.substr(first, last - first + 1);
+}
+
+/// A signed whole number; false when the text is anything else. `too_big` tells overflow apart.
+bool whole_number(std::string_view text, long long& out, bool& too_big) {
+  too_big = false;
+  std::string_view s = trim(text);
+  bool negative = false;
+  if (!s.empty() && (s.front() == '+' || s.front() == '-')) {
+    negative = s.front() == '-';
+    s.remove_prefix(1);
+  }
+  if (s.empty() || !std::all_of(s.begin(), s.end(), [](char c) { return c >= '0' && c <= '9'; })) return false;
+  unsigned long long magnitude = 0;
+  const auto [ptr, ec] = std::from_chars(s.data(), s.data() + s.size(), magnitude);
+  if (ec == std::errc::result_out_of_range ||
+      magnitude > static_cast<unsigned long long>(std::numeric_limits<int>::max())) {
+    too_big = true;
+    return false;
+  }
+  if (ec != std::errc() || ptr != s.data() + s.size()) return false;
+  out = negative ? -static_cast<long long>(magnitude) : static_cast<long long>(magnitude);
+  return true;
+}
+
+}  // namespace
+}  // namespace detail
+
+int parse_count(std::string_view field, std::string_view text) {
+  long long n = 0;
+  bool too_big = false;
+  if (!detail::whole_number(text, n, too_big)) {
+    if (too_big) throw InputError(fmt::format("{} '{}' is too large", field, text));
+    throw InputError(fmt::format("{} '{}' is not a whole number", field, text));
+  }
+  if (n < 0) throw InputError(fmt::format("{} '{}' must not be negative", field, text));
+  return static_cast<int>(n);
+}
+
+int parse_delta(std::string_view field, std::string_view text) {
+  long long n = 0;
+  bool too_big = false;
+  if (!detail::whole_number(text, n, too_big)) {
+    if (too_big) throw InputError(fmt::format("{} '{}' is too large", field, text));
+    throw InputError(fmt::format("{} '{}' is not a whole number (write +5 or -3)", field, text));
+  }
+  if (n == 0) throw InputError(fmt::format("{} '{}' changes nothing", field, text));
+  return static_cast<int>(n);
+}
+
+double parse_quantity(std::string_view field, std::string_view text, units::Unit unit) {
+  try {
+    return units::parse_value(text, unit);
+  } catch (const units::ParseError& e) {
+    throw InputError(name_field(e.what(), field));
+  }
+}
+
+std::string name_field(std::string_view message, std::string_view field) {
+  const auto space = message.find(" '");
+  const auto word = message.substr(0, space);
+  if (space == std::string_view::npos || word.empty() || word.find(' ') != std::string_view::npos) {
+    return fmt::format("{}: {}", field, message);
+  }
+  return std::string(field) + std::string(message.substr(space));
+}
+
+devices::Range parse_range(std::string_view field, std::string_view text, units::Unit unit) {
+  devices::Range r;
+  const auto dots = text.find("..");
+  if (dots == std::string_view::npos) {
+    r.min = r.max = parse_quantity(field, text, unit);
+    return r;
+  }
+  const auto low = text.substr(0, dots);
+  const auto high = text.substr(dots + 2);
+  if (detail::trim(low).empty() || detail::trim(high).empty()) {
+    throw InputError(fmt::format("{} '{}' needs both ends, as in 1m..5m", field, text));
+  }
+  r.min = parse_quantity(field, low, unit);
+  r.max = parse_quantity(field, high, unit);
+  if (r.min > r.max) std::swap(r.min, r.max);
+  return r;
+}
+
+std::string read_input(const std::string& path, std::istream& in) {
+  if (path == "-") {
+    std::ostringstream text;
+    text << in.rdbuf();
+    return text.str();
+  }
+  std::error_code ec;
+  if (std::filesystem::is_directory(path, ec)) {
+    throw InputError(fmt::format("cannot read '{}': it is a folder, not a file", path));
+  }
+  std::ifstream file(path, std::ios::binary);
+  if (!file) throw InputError(fmt::format("cannot read '{}': {}", path, std::strerror(errno)));
+  std::string text{std::istreambuf_iterator<char>(file), std::istreambuf_iterator<char>()};
+  if (file.bad()) throw InputError(fmt::format("cannot read '{}': read error", path));
+  return text;
+}
+
+std::string input_name(const std::string& path) { return path == "-" ? "stdin" : path; }
+
+}  // namespace shelfstage::cli

@@ -1,0 +1,38 @@
+// Reading what a person types on the command line: counts, signed changes, values, ranges, files.
+#pragma once
+#include <istream>
+#include <string>
+#include <string_view>
+
+#include "shelfstage/devices/record.hpp"
+#include "shelfstage/units/notation.hpp"
+
+namespace shelfstage::cli {
+
+/// A count of pieces: a whole number, 0 or more ("12", "+12"). Throws InputError naming the
+/// field and the text: "qty 'ten' is not a whole number".
+int parse_count(std::string_view field, std::string_view text);
+
+/// A change of a count: a signed whole number other than zero ("+5", "-3", "5").
+int parse_delta(std::string_view field, std::string_view text);
+
+/// A value in SI or IEC 60062 notation with an optional unit suffix that must match `unit`
+/// ("4k7", "100n", "6.3V"). The error names the field: "--volts '6,3': ...".
+double parse_quantity(std::string_view field, std::string_view text, units::Unit unit);
+
+/// A units::ParseError message ("value '6,3': ... at column 2") with its leading word
+/// replaced by the option or column the person typed it into ("--volts '6,3': ...").
+std::string name_field(std::string_view message, std::string_view field);
+
+/// A datasheet range "MIN..MAX" (either order; the ends as parse_quantity reads them), or
+/// one value for both ends. The result has min <= max.
+devices::Range parse_range(std::string_view field, std::string_view text, units::Unit unit);
+
+/// The whole content of a file, or of `in` when path is "-". Throws InputError naming the
+/// file when it cannot be read.
+std::string read_input(const std::string& path, std::istream& in);
+
+/// The name a file goes by in messages: its path as given, "stdin" for "-".
+std::string input_name(const std::string& path);
+
+}  // namespace shelfstage::cli

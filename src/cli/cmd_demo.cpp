@@ -1,0 +1,113 @@
+// `shelfstage demo`: loads the demo shelf into a fresh database and shows what the program does.
+#include <fmt/format.h>
+
+#include <filesystem>
+#include <memory>
+#include <random>
+
+#include "commands.hpp"
+#include "demo_data.hpp"
+#include "shelfstage/error.hpp"
+#include "shelfstage/store/csv.hpp"
+#include "stock_view.hpp"
+
+namespace shelfstage::cli {
+
+namespace {
+
+struct DemoOptions {};
+
+/// Removes a temporary database (and SQLite's side files) when the demo ends, however it ends.
+class TemporaryFile {
+ public:
+  TemporaryFile() {
+    std::random_device rd;
+    path_ = std::filesystem::temp_directory_path() / fmt::format("shelfstage-demo-{:08x}{:08x}.db", rd(), rd());
+  }
+  TemporaryFile(const TemporaryFile&) = delete;
+  TemporaryFile& operator=(const TemporaryFile&) = delete;
+  ~TemporaryFile() {
+    std::error_code ec;
+    for (const char* suffix : {"", "-wal", "-shm", "-journal"}) std::filesystem::remove(path_.string() + suffix, ec);
+  }
+  const std::filesystem::path& path() const { return path_; }
+
+ private:
+  std::filesystem::path path_;
+};
+
+struct Loaded {
+  std::size_t devices = 0, lines = 0, pieces = 0;
+};
+
+/// Loads the compiled-in demo CSVs: device types first (stock lines refer to them), then the
+/// stock, then the measured pieces.
+Loaded load_demo_shelf(store::Database& db) {
+  Loaded n;
+  const auto records = store::parse_devices_csv(kDemoDevicesCsv, "demo devices.csv");
+  db.put_devices(records);
+  n.devices = records.size();
+  std::vector<std::string> names;
+  for (const auto& d : records) names.push_back(d.name);
+  const auto parts = store::parse_stock_csv(kDemoStockCsv, "demo stock.csv", names);
+  db.add_parts(parts, "demo shelf");
+  n.lines = parts.size();
+  const auto pieces = store::parse_pieces_csv(kDemoPiecesCsv, "demo pieces.csv", records);
+  db.add_pieces(pieces);
+  n.pieces = pieces.size();
+  return n;
+}
+
+/// What the demo shows once the shelf is loaded.
+void show_demo(store::Database& db, Context& ctx) {
+  const auto parts = db.parts();
+  if (ctx.global.json) {
+    print_json(ctx, stock_json(parts));
+    return;
+  }
+  ctx.out << stock_table(parts);
+  ctx.out << "\nDesigning stages from this shelf (`shelfstage design`) comes with the stage\n"
+             "synthesizer, which is not part of this build yet.\n";
+}
+
+void run_demo(const DemoOptions& /*o*/, Context& ctx) {
+  // The demo never touches $SHELFSTAGE_DB or the standard database: only a file named with
+  // --db (which must not exist yet) or a temporary one.
+  std::unique_ptr<TemporaryFile> temporary;
+  std::filesystem::path path;
+  if (!ctx.global.db.empty()) {
+    path = ctx.global.db;
+    std::error_code ec;
+    if (std::filesystem::exists(path, ec)) {
+      throw InputError(fmt::format("{} already exists; the demo loads into a new file only", path.string()));
+    }
+  } else {
+    temporary = std::make_unique<TemporaryFile>();
+    path = temporary->path();
+  }
+  auto db = store::Database::create(path);
+  const Loaded n = load_demo_shelf(db);
+  if (!ctx.global.json) {
+    ctx.out << fmt::format(
+        "Demo shelf: an invented workshop's parts drawer with {} stock lines, {} transistor types\n"
+        "and {} measured pieces, loaded into {}.\n\n",
+        n.lines, n.devices, n.pieces,
+        temporary ? "a temporary database that is deleted when the demo ends" : path.string());
+  }
+  show_demo(db, ctx);
+}
+
+}  // namespace
+
+void setup_demo(CLI::App& parent, Context& ctx) {
+  auto o = std::make_shared<DemoOptions>();
+  CLI::App* cmd = parent.add_subcommand("demo", "Try shelfstage on an invented workshop's parts drawer");
+  cmd->footer(
+      "Loads the demo shelf (built into the program: a mixed E12 resistor drawer, ceramics,\n"
+      "film caps, electrolytics of several voltage ratings, a few JFET and BJT types) into a\n"
+      "temporary database, shows it, and deletes it. Your own stock is never touched.\n"
+      "With --db FILE the demo database is kept in FILE, which must not exist yet.");
+  cmd->callback([o, &ctx] { run_demo(*o, ctx); });
+}
+
+}  // namespace shelfstage::cli

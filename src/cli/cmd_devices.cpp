@@ -1,0 +1,226 @@
+// `shelfstage devices ...`: the transistor types on the shelf, as their datasheets give them.
+#include <fmt/format.h>
+
+#include <memory>
+#include <optional>
+
+#include "args.hpp"
+#include "commands.hpp"
+#include "devices_view.hpp"
+#include "shelfstage/error.hpp"
+#include "shelfstage/store/csv.hpp"
+
+namespace shelfstage::cli {
+
+using devices::DeviceKind;
+using devices::DeviceRecord;
+using units::Unit;
+
+namespace {
+
+// --- devices add --------------------------------------------------------------------------
+
+struct DevicesAddOptions {
+  std::string name, kind;
+  // JFET
+  std::optional<std::string> idss, vp, idss_typ, vp_typ, lambda, cgs, cgd, tc_idss, tc_vp;
+  // BJT
+  std::optional<std::string> hfe, hfe_typ, is, vaf, cje, cjc, vce_sat;
+  std::string note;
+  bool replace = false;
+};
+
+/// "an NJFET", "a PNP": the article as the letter is spoken (en, pee).
+std::string with_article(std::string_view kind) {
+  return std::string(kind.starts_with('N') ? "an " : "a ") + std::string(kind);
+}
+
+/// Names the first option given that does not belong to the device's kind.
+void refuse_foreign(const std::vector<std::pair<const char*, const std::optional<std::string>*>>& options,
+                    std::string_view kind) {
+  for (const auto& [flag, value] : options) {
+    if (*value) throw InputError(fmt::format("{} '{}' does not apply to {}", flag, **value, with_article(kind)));
+  }
+}
+
+DeviceRecord record_from_options(const DevicesAddOptions& o) {
+  DeviceRecord d;
+  d.name = o.name;
+  if (d.name.find_first_not_of(" \t") == std::string::npos) throw InputError("device name '' is empty");
+  if (!devices::parse_kind(o.kind, d.kind)) {
+    throw InputError(fmt::format("--kind '{}' is not one of NJFET, PJFET, NPN, PNP", o.kind));
+  }
+  d.note = o.note;
+  const std::string kind(devices::kind_name(d.kind));
+  if (devices::is_jfet(d.kind)) {
+    refuse_foreign({{"--hfe", &o.hfe}, {"--hfe-typ", &o.hfe_typ}, {"--is", &o.is}, {"--vaf", &o.vaf},
+                    {"--cje", &o.cje}, {"--cjc", &o.cjc}, {"--vce-sat", &o.vce_sat}},
+                   kind);
+    if (!o.idss || !o.vp) throw InputError(fmt::format("{} needs --idss MIN..MAX and --vp MIN..MAX", with_article(kind)));
+    auto& j = d.jfet;
+    j.idss_a = parse_range("--idss", *o.idss, Unit::ampere);
+    j.vp_v = parse_range("--vp", *o.vp, Unit::volt);
+    if (o.idss_typ) j.idss_a.typ = parse_quantity("--idss-typ", *o.idss_typ, Unit::ampere);
+    if (o.vp_typ) j.vp_v.typ = parse_quantity("--vp-typ", *o.vp_typ, Unit::volt);
+    if (o.lambda) j.lambda_per_v = parse_quantity("--lambda", *o.lambda, Unit::none);
+    if (o.cgs) j.cgs_f = parse_quantity("--cgs", *o.cgs, Unit::farad);
+    if (o.cgd) j.cgd_f = parse_quantity("--cgd", *o.cgd, Unit::farad);
+    if (o.tc_idss) j.tc_idss_per_k = parse_quantity("--tc-idss", *o.tc_idss, Unit::none);
+    if (o.tc_vp) j.tc_vp_v_per_k = parse_quantity("--tc-vp", *o.tc_vp, Unit::none);
+  } else {
+    refuse_foreign({{"--idss", &o.idss}, {"--vp", &o.vp}, {"--idss-typ", &o.idss_typ}, {"--vp-typ", &o.vp_typ},
+                    {"--lambda", &o.lambda}, {"--cgs", &o.cgs}, {"--cgd", &o.cgd}, {"--tc-idss", &o.tc_idss},
+                    {"--tc-vp", &o.tc_vp}},
+                   kind);
+    if (!o.hfe) throw InputError(fmt::format("{} needs --hfe MIN..MAX", with_article(kind)));
+    auto& b = d.bjt;
+    b.hfe = parse_range("--hfe", *o.hfe, Unit::none);
+    if (o.hfe_typ) b.hfe.typ = parse_quantity("--hfe-typ", *o.hfe_typ, Unit::none);
+    if (o.is) b.is_a = parse_quantity("--is", *o.is, Unit::ampere);
+    if (o.vaf) b.vaf_v = parse_quantity("--vaf", *o.vaf, Unit::volt);
+    if (o.cje) b.cje_f = parse_quantity("--cje", *o.cje, Unit::farad);
+    if (o.cjc) b.cjc_f = parse_quantity("--cjc", *o.cjc, Unit::farad);
+    if (o.vce_sat) b.vce_sat_v = parse_quantity("--vce-sat", *o.vce_sat, Unit::volt);
+  }
+  return d;
+}
+
+void run_devices_add(const DevicesAddOptions& o, Context& ctx) {
+  const DeviceRecord record = record_from_options(o);
+  auto db = ctx.open_database();
+  const bool existed = db.device(record.name).has_value();
+  if (existed && !o.replace) {
+    throw InputError(fmt::format("device '{}' is already in the list; add --replace to overwrite its figures",
+                                 record.name));
+  }
+  db.put_devices({record});
+  if (ctx.global.json) {
+    print_json(ctx, {{"schema", 1}, {"replaced", existed}, {"device", device_json(record)}});
+    return;
+  }
+  ctx.out << fmt::format("{} {} {}.\n", existed ? "Replaced" : "Added", devices::kind_name(record.kind),
+                         record.name);
+}
+
+void setup_devices_add(CLI::App& devices_cmd, Context& ctx) {
+  auto o = std::make_shared<DevicesAddOptions>();
+  CLI::App* cmd = devices_cmd.add_subcommand("add", "Describe a transistor type from its datasheet");
+  cmd->add_option("NAME", o->name, "The type's name as written on the bag (what stock lines refer to)")
+      ->required();
+  cmd->add_option("--kind", o->kind, "NJFET, PJFET, NPN or PNP")->required();
+  const char* jfet = "JFET (datasheet figures)";
+  cmd->add_option("--idss", o->idss, "IDSS range in amperes, MIN..MAX: 1m..5m")->group(jfet);
+  cmd->add_option("--idss-typ", o->idss_typ, "Typical IDSS, when the datasheet gives one")->group(jfet);
+  cmd->add_option("--vp", o->vp, "VGS(off) range, signed as on the datasheet: -0.5..-3")->group(jfet);
+  cmd->add_option("--vp-typ", o->vp_typ, "Typical VGS(off)")->group(jfet);
+  cmd->add_option("--lambda", o->lambda, "Channel-length modulation, 1/V: 0.005")->group(jfet);
+  cmd->add_option("--cgs", o->cgs, "Gate-source capacitance: 4.5p")->group(jfet);
+  cmd->add_option("--cgd", o->cgd, "Gate-drain capacitance: 1.5p")->group(jfet);
+  cmd->add_option("--tc-idss", o->tc_idss, "IDSS temperature coefficient, fraction per kelvin (default -0.003)")
+      ->group(jfet);
+  cmd->add_option("--tc-vp", o->tc_vp, "|VP| temperature coefficient, volts per kelvin (default 0.002)")
+      ->group(jfet);
+  const char* bjt = "BJT (datasheet figures)";
+  cmd->add_option("--hfe", o->hfe, "hFE range, MIN..MAX: 110..450")->group(bjt);
+  cmd->add_option("--hfe-typ", o->hfe_typ, "Typical hFE")->group(bjt);
+  cmd->add_option("--is", o->is, "Saturation current IS in amperes: 1e-14 (default)")->group(bjt);
+  cmd->add_option("--vaf", o->vaf, "Early voltage VAF in volts: 80 (default 100)")->group(bjt);
+  cmd->add_option("--cje", o->cje, "Base-emitter capacitance: 6p")->group(bjt);
+  cmd->add_option("--cjc", o->cjc, "Base-collector capacitance: 3p")->group(bjt);
+  cmd->add_option("--vce-sat", o->vce_sat, "Saturation edge VCE(sat) used for swing, volts (default 0.2)")
+      ->group(bjt);
+  cmd->add_option("--note", o->note, "Free text kept with the type");
+  cmd->add_flag("--replace", o->replace, "Overwrite the figures of a type already in the list");
+  cmd->footer(
+      "Give the datasheet's guaranteed range: designs are checked over the whole spread.\n"
+      "Values take SI or IEC 60062 notation (1m, 4p5, 2u2).\n"
+      "  shelfstage devices add SJ-101 --kind NJFET --idss 1m..5m --vp -0.5..-3 --lambda 0.005\n"
+      "  shelfstage devices add SQ-410 --kind NPN --hfe 110..450 --vaf 80 --cje 6p --cjc 3p");
+  cmd->callback([o, &ctx] { run_devices_add(*o, ctx); });
+}
+
+// --- devices list -------------------------------------------------------------------------
+
+struct DevicesListOptions {};
+
+void run_devices_list(const DevicesListOptions& /*o*/, Context& ctx) {
+  const auto db = ctx.open_database();
+  const auto records = db.device_records();
+  const auto pieces = db.pieces();
+  if (ctx.global.json) {
+    print_json(ctx, devices_json(records, pieces));
+  } else {
+    ctx.out << devices_table(records, pieces);
+  }
+}
+
+void setup_devices_list(CLI::App& devices_cmd, Context& ctx) {
+  auto o = std::make_shared<DevicesListOptions>();
+  CLI::App* cmd = devices_cmd.add_subcommand("list", "Show the transistor types and the measured pieces");
+  cmd->footer(
+      "Ranges print as MIN..MAX with units (IDSS 1mA..5mA, VP -3V..-0.5V); TYP is the typical\n"
+      "value when known. Measured pieces replace the datasheet range by the bench reading.\n"
+      "With --json: {\"schema\":1,\"devices\":[...],\"pieces\":[...]}, keys as the CSV columns,\n"
+      "plain SI numbers.");
+  cmd->callback([o, &ctx] { run_devices_list(*o, ctx); });
+}
+
+// --- devices import -----------------------------------------------------------------------
+
+struct DevicesImportOptions {
+  std::string file;
+  bool pieces = false;  ///< the file holds measured pieces, not types
+};
+
+void run_devices_import(const DevicesImportOptions& o, Context& ctx) {
+  auto db = ctx.open_database();
+  const std::string text = read_input(o.file, ctx.in);
+  const std::string source = input_name(o.file);
+  std::size_t count = 0;
+  if (o.pieces) {
+    const auto pieces = store::parse_pieces_csv(text, source, db.device_records());
+    db.add_pieces(pieces);
+    count = pieces.size();
+  } else {
+    const auto records = store::parse_devices_csv(text, source);
+    db.put_devices(records);
+    count = records.size();
+  }
+  if (ctx.global.json) {
+    print_json(ctx, {{"schema", 1}, {"source", source}, {o.pieces ? "pieces" : "devices", count}});
+    return;
+  }
+  const char* what = o.pieces ? (count == 1 ? "measured piece" : "measured pieces")
+                              : (count == 1 ? "device type" : "device types");
+  ctx.out << fmt::format("Imported {} {} from {}.\n", count, what, source);
+}
+
+void setup_devices_import(CLI::App& devices_cmd, Context& ctx) {
+  auto o = std::make_shared<DevicesImportOptions>();
+  CLI::App* cmd = devices_cmd.add_subcommand("import", "Add or replace transistor types (or measured pieces) from CSV");
+  cmd->add_option("FILE", o->file, "The CSV file; - reads standard input")->required();
+  cmd->add_flag("--pieces", o->pieces, "The file holds transistors measured on the bench, not types");
+  cmd->footer(
+      "Types: columns name, kind (NJFET, PJFET, NPN, PNP); for JFETs idss_min, idss_max,\n"
+      "vp_min, vp_max (signed as on the datasheet, either order), lambda, cgs, cgd; for BJTs\n"
+      "hfe_min, hfe_max, is, vaf, cje, cjc; optional idss_typ, vp_typ, hfe_typ, note. A type\n"
+      "already in the list is replaced.\n"
+      "Measured pieces (--pieces): label (as written on the bag), device, idss and vp (JFET)\n"
+      "or hfe (BJT), uncertainty (3% or 0.03; default 3%), note. Import the types first.\n"
+      "If any row is bad, nothing is imported and every bad row is listed with its line number.");
+  cmd->callback([o, &ctx] { run_devices_import(*o, ctx); });
+}
+
+}  // namespace
+
+// --- devices ------------------------------------------------------------------------------
+
+void setup_devices(CLI::App& parent, Context& ctx) {
+  CLI::App* cmd = parent.add_subcommand("devices", "The transistor types you stock, as their datasheets describe them");
+  cmd->require_subcommand(1);
+  setup_devices_add(*cmd, ctx);
+  setup_devices_list(*cmd, ctx);
+  setup_devices_import(*cmd, ctx);
+}
+
+}  // namespace shelfstage::cli

@@ -1,0 +1,67 @@
+// The shelfstage commands: the context they share and one setup function per command.
+//
+// Each command lives in its own file, cmd_<name>.cpp: a small options struct, a
+// setup_<name>(CLI::App& parent, Context&) that adds the subcommand and binds the options,
+// and a run_<name>(const Options&, Context&) that calls the library and formats the result.
+// Adding a command is one new file plus one setup line in main.cpp. Commands never print
+// errors themselves: they throw shelfstage::Error and run_app() turns it into
+// `error: ...` and the exit status.
+#pragma once
+#include <CLI/CLI.hpp>
+#include <nlohmann/json.hpp>
+
+#include <filesystem>
+#include <iosfwd>
+#include <string>
+
+#include "shelfstage/store/database.hpp"
+
+namespace shelfstage::cli {
+
+/// Options of the root command, valid before or after the subcommand.
+struct GlobalOptions {
+  std::string db;     ///< --db FILE; empty when not given
+  bool json = false;  ///< --json: one JSON document on stdout instead of tables
+};
+
+/// What every command gets: the global options and the streams to use (std::cout,
+/// std::cerr, std::cin in the program; string streams in tests).
+struct Context {
+  Context(std::ostream& out_stream, std::ostream& err_stream, std::istream& in_stream)
+      : out(out_stream), err(err_stream), in(in_stream) {}
+
+  GlobalOptions global;
+  std::ostream& out;
+  std::ostream& err;
+  std::istream& in;
+
+  /// --db, else store::default_database_path() ($SHELFSTAGE_DB, else the XDG data folder).
+  std::filesystem::path database_path() const;
+  /// Opens the database at database_path(). A missing file is an InputError that
+  /// suggests `shelfstage init`.
+  store::Database open_database() const;
+};
+
+/// Sets up the root command: description, --db, --json, --version (printing
+/// `version_text`), subcommand fall-through so global options work after a subcommand.
+void setup_root(CLI::App& app, Context& ctx, const std::string& version_text);
+
+/// Parses the command line and runs the chosen command. Returns the exit status:
+///  0 success, and for --help and --version (printed on ctx.out);
+///  1 a usage error from the parser, or an InputError;
+///  2 an InfeasibleError; 3 a DatabaseError (shelfstage::Error::code());
+///  1 also for anything unexpected, printed as `error: internal: ...`.
+/// Every failure prints one `error: ...` line on ctx.err; a CsvError adds one line per bad row.
+int run_app(CLI::App& app, Context& ctx, int argc, const char* const* argv);
+
+// One per command file.
+void setup_init(CLI::App& parent, Context& ctx);
+void setup_stock(CLI::App& parent, Context& ctx);
+void setup_devices(CLI::App& parent, Context& ctx);
+void setup_check(CLI::App& parent, Context& ctx);
+void setup_demo(CLI::App& parent, Context& ctx);
+
+/// Writes a JSON document on ctx.out (indented two spaces, then a newline).
+void print_json(Context& ctx, const nlohmann::ordered_json& doc);
+
+}  // namespace shelfstage::cli

@@ -1,0 +1,151 @@
+// How the transistor types and measured pieces look to a person (tables) and to a script (JSON).
+#include "devices_view.hpp"
+
+#include <fmt/format.h>
+
+#include "shelfstage/report/table.hpp"
+
+namespace shelfstage::cli {
+
+using devices::DeviceRecord;
+using devices::MeasuredPiece;
+using report::Align;
+using report::TextTable;
+using units::Unit;
+
+namespace detail {
+namespace {
+
+std::string typ_text(const devices::Range& r, Unit unit) { return r.typ ? quantity_text(*r.typ, unit) : std::string(); }
+
+std::string optional_text(const std::optional<double>& v, Unit unit) {
+  return v ? quantity_text(*v, unit) : std::string();
+}
+
+/// A capacitance, blank when not given (0 in the record means "not modelled").
+std::string capacitance_text(double farads) {
+  return farads == 0 ? std::string() : units::format_value(farads, Unit::farad);
+}
+
+/// A plain count such as hFE: no prefix letters ("287", "1.2k" would read oddly).
+std::string plain(double v) { return fmt::format("{:g}", v); }
+
+std::string hfe_range_text(const devices::Range& r) {
+  return r.min == r.max ? plain(r.min) : plain(r.min) + ".." + plain(r.max);
+}
+
+nlohmann::ordered_json or_null(const std::optional<double>& v) {
+  return v ? nlohmann::ordered_json(*v) : nlohmann::ordered_json(nullptr);
+}
+
+}  // namespace
+}  // namespace detail
+
+std::string quantity_text(double value, Unit unit) {
+  // Datasheets write gate voltages as -0.5 V, not -500 mV.
+  const double magnitude = value < 0 ? -value : value;
+  if (unit == Unit::volt && magnitude >= 0.01 && magnitude < 1000) {
+    return fmt::format("{:.3g}V", value);
+  }
+  return units::format_value(value, unit);
+}
+
+std::string range_text(const devices::Range& range, Unit unit) {
+  if (range.min == range.max) return quantity_text(range.min, unit);
+  return quantity_text(range.min, unit) + ".." + quantity_text(range.max, unit);
+}
+
+std::string devices_table(const std::vector<DeviceRecord>& records, const std::vector<MeasuredPiece>& pieces) {
+  if (records.empty()) {
+    return "No transistor types yet. Add them with `shelfstage devices add` or "
+           "`shelfstage devices import FILE.csv`.\n";
+  }
+  TextTable jfets({{"NAME"}, {"TYPE"}, {"IDSS", Align::right}, {"TYP", Align::right}, {"VP", Align::right},
+                   {"TYP", Align::right}, {"LAMBDA", Align::right}, {"CGS", Align::right},
+                   {"CGD", Align::right}, {"NOTE"}});
+  TextTable bjts({{"NAME"}, {"TYPE"}, {"HFE", Align::right}, {"TYP", Align::right}, {"IS", Align::right},
+                  {"VAF", Align::right}, {"CJE", Align::right}, {"CJC", Align::right}, {"NOTE"}});
+  for (const auto& d : records) {
+    const std::string kind(devices::kind_name(d.kind));
+    if (devices::is_jfet(d.kind)) {
+      const auto& j = d.jfet;
+      jfets.add_row({d.name, kind, range_text(j.idss_a, Unit::ampere), detail::typ_text(j.idss_a, Unit::ampere),
+                     range_text(j.vp_v, Unit::volt), detail::typ_text(j.vp_v, Unit::volt),
+                     fmt::format("{:g}/V", j.lambda_per_v), detail::capacitance_text(j.cgs_f),
+                     detail::capacitance_text(j.cgd_f), d.note});
+    } else {
+      const auto& b = d.bjt;
+      bjts.add_row({d.name, kind, detail::hfe_range_text(b.hfe), b.hfe.typ ? detail::plain(*b.hfe.typ) : "",
+                    units::format_value(b.is_a, Unit::ampere), quantity_text(b.vaf_v, Unit::volt),
+                    detail::capacitance_text(b.cje_f), detail::capacitance_text(b.cjc_f), d.note});
+    }
+  }
+  std::string out;
+  const report::TableLayout layout{.indent = "  "};
+  if (jfets.row_count() > 0) out += fmt::format("JFET types ({})\n{}", jfets.row_count(), jfets.render(layout));
+  if (bjts.row_count() > 0) {
+    if (!out.empty()) out += '\n';
+    out += fmt::format("BJT types ({})\n{}", bjts.row_count(), bjts.render(layout));
+  }
+  if (!pieces.empty()) {
+    TextTable measured({{"LABEL"}, {"DEVICE"}, {"IDSS", Align::right}, {"VP", Align::right},
+                        {"HFE", Align::right}, {"UNCERTAINTY", Align::right}, {"NOTE"}});
+    for (const auto& p : pieces) {
+      measured.add_row({p.label, p.device, detail::optional_text(p.idss_a, Unit::ampere),
+                        detail::optional_text(p.vp_v, Unit::volt), p.hfe ? detail::plain(*p.hfe) : "",
+                        fmt::format("±{:g}%", p.uncertainty * 100.0), p.note});
+    }
+    out += fmt::format("\nMeasured pieces ({})\n{}", measured.row_count(), measured.render(layout));
+  }
+  return out;
+}
+
+nlohmann::ordered_json device_json(const DeviceRecord& d) {
+  nlohmann::ordered_json j;
+  j["name"] = d.name;
+  j["kind"] = devices::kind_name(d.kind);
+  if (devices::is_jfet(d.kind)) {
+    const auto& p = d.jfet;
+    j["idss_min"] = p.idss_a.min;
+    j["idss_max"] = p.idss_a.max;
+    j["idss_typ"] = detail::or_null(p.idss_a.typ);
+    j["vp_min"] = p.vp_v.min;
+    j["vp_max"] = p.vp_v.max;
+    j["vp_typ"] = detail::or_null(p.vp_v.typ);
+    j["lambda"] = p.lambda_per_v;
+    j["cgs"] = p.cgs_f;
+    j["cgd"] = p.cgd_f;
+    j["tc_idss"] = p.tc_idss_per_k;
+    j["tc_vp"] = p.tc_vp_v_per_k;
+  } else {
+    const auto& p = d.bjt;
+    j["hfe_min"] = p.hfe.min;
+    j["hfe_max"] = p.hfe.max;
+    j["hfe_typ"] = detail::or_null(p.hfe.typ);
+    j["is"] = p.is_a;
+    j["vaf"] = p.vaf_v;
+    j["cje"] = p.cje_f;
+    j["cjc"] = p.cjc_f;
+    j["vce_sat"] = p.vce_sat_v;
+  }
+  j["note"] = d.note;
+  return j;
+}
+
+nlohmann::ordered_json piece_json(const MeasuredPiece& p) {
+  return {{"label", p.label},         {"device", p.device},
+          {"idss", detail::or_null(p.idss_a)}, {"vp", detail::or_null(p.vp_v)},
+          {"hfe", detail::or_null(p.hfe)},     {"uncertainty", p.uncertainty},
+          {"note", p.note}};
+}
+
+nlohmann::ordered_json devices_json(const std::vector<DeviceRecord>& records,
+                                    const std::vector<MeasuredPiece>& pieces) {
+  nlohmann::ordered_json list = nlohmann::ordered_json::array();
+  for (const auto& d : records) list.push_back(device_json(d));
+  nlohmann::ordered_json measured = nlohmann::ordered_json::array();
+  for (const auto& p : pieces) measured.push_back(piece_json(p));
+  return {{"schema", 1}, {"devices", std::move(list)}, {"pieces", std::move(measured)}};
+}
+
+}  // namespace shelfstage::cli

@@ -1,0 +1,39 @@
+// How the transistor types and measured pieces look to a person (tables) and to a script (JSON).
+#pragma once
+#include <nlohmann/json.hpp>
+
+#include <string>
+#include <vector>
+
+#include "shelfstage/devices/record.hpp"
+#include "shelfstage/units/notation.hpp"
+
+namespace shelfstage::cli {
+
+/// A figure in notation with its unit ("2.5mA", "4.5pF"); volts as datasheets write gate
+/// voltages, plain decimals ("-0.5V", not "-500mV").
+std::string quantity_text(double value, units::Unit unit);
+
+/// A datasheet range in notation with its unit: "1mA..5mA", "-3V..-0.5V"; one value when
+/// both ends agree.
+std::string range_text(const devices::Range& range, units::Unit unit);
+
+/// The tables `devices list` prints: JFET types, BJT types, then the measured pieces.
+std::string devices_table(const std::vector<devices::DeviceRecord>& records,
+                          const std::vector<devices::MeasuredPiece>& pieces);
+
+/// One device type with the device CSV's column names as keys and plain SI numbers:
+/// name, kind, then for a JFET idss_min, idss_max, idss_typ, vp_min, vp_max, vp_typ, lambda,
+/// cgs, cgd, tc_idss (fraction per kelvin), tc_vp (volts per kelvin); for a BJT hfe_min,
+/// hfe_max, hfe_typ, is, vaf, cje, cjc, vce_sat; then note. A missing typical value is null.
+nlohmann::ordered_json device_json(const devices::DeviceRecord& record);
+
+/// A measured piece: label, device, idss, vp, hfe (null when not measured), uncertainty
+/// (a fraction), note.
+nlohmann::ordered_json piece_json(const devices::MeasuredPiece& piece);
+
+/// {"schema":1,"devices":[...],"pieces":[...]}.
+nlohmann::ordered_json devices_json(const std::vector<devices::DeviceRecord>& records,
+                                    const std::vector<devices::MeasuredPiece>& pieces);
+
+}  // namespace shelfstage::cli

@@ -1,0 +1,18 @@
+// The shelfstage program: the root command and the list of subcommands.
+#include <iostream>
+
+#include "commands.hpp"
+
+int main(int argc, char** argv) {
+  using namespace shelfstage::cli;
+  Context ctx(std::cout, std::cerr, std::cin);
+  CLI::App app{"", "shelfstage"};
+  setup_root(app, ctx, "shelfstage " SHELFSTAGE_VERSION);
+  // One line per command; each lives in src/cli/cmd_<name>.cpp.
+  setup_init(app, ctx);
+  setup_stock(app, ctx);
+  setup_devices(app, ctx);
+  setup_check(app, ctx);
+  setup_demo(app, ctx);
+  return run_app(app, ctx, argc, argv);
+}

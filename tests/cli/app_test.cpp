@@ -1,0 +1,151 @@
+// Tests of the root command: exit statuses, the `error:` line, help and version, global options.
+#include <doctest/doctest.h>
+#include <sqlite3.h>
+
+#include <sstream>
+#include <stdexcept>
+#include <vector>
+
+#include "commands.hpp"
+#include "shelfstage/error.hpp"
+#include "temp_dir.hpp"
+
+using namespace shelfstage;
+using namespace shelfstage::cli;
+
+namespace {
+
+struct Result {
+  int status = -1;
+  std::string out, err;
+};
+
+/// Runs the program in-process, as main() does, with extra test-only commands that throw.
+Result run(std::vector<std::string> args, std::string input = "") {
+  std::ostringstream out, err;
+  std::istringstream in(input);
+  Context ctx(out, err, in);
+  CLI::App app{"", "shelfstage"};
+  setup_root(app, ctx, "shelfstage test");
+  setup_init(app, ctx);
+  setup_stock(app, ctx);
+  setup_devices(app, ctx);
+  setup_check(app, ctx);
+  setup_demo(app, ctx);
+  app.add_subcommand("test-infeasible")->callback([] { throw InfeasibleError("not enough 4.7k in stock"); });
+  app.add_subcommand("test-bug")->callback([] { throw std::logic_error("index out of range"); });
+  args.insert(args.begin(), "shelfstage");
+  std::vector<const char*> argv;
+  for (const auto& a : args) argv.push_back(a.c_str());
+  Result r;
+  r.status = run_app(app, ctx, static_cast<int>(argv.size()), argv.data());
+  r.out = out.str();
+  r.err = err.str();
+  return r;
+}
+
+int line_count(const std::string& text) {
+  int n = 0;
+  for (char c : text) n += c == '\n';
+  return n;
+}
+
+}  // namespace
+
+TEST_CASE("--version and --help print on stdout and exit 0") {
+  const auto v = run({"--version"});
+  CHECK(v.status == 0);
+  CHECK(v.out == "shelfstage test\n");
+  const auto h = run({"--help"});
+  CHECK(h.status == 0);
+  CHECK(h.out.find("stock") != std::string::npos);
+  CHECK(h.err.empty());
+  const auto sub = run({"stock", "add", "--help"});
+  CHECK(sub.status == 0);
+  CHECK(sub.out.find("--tol") != std::string::npos);
+}
+
+TEST_CASE("usage errors: exit 1 and one `error:` line on stderr (INTERFACE.md)") {
+  for (const auto& args : std::vector<std::vector<std::string>>{
+           {}, {"frobnicate"}, {"stock"}, {"stock", "add", "R", "4k7"}, {"stock", "list", "--colour"}}) {
+    const auto r = run(args);
+    CHECK(r.status == 1);
+    CHECK(r.out.empty());
+    CHECK(r.err.starts_with("error: "));
+    CHECK(line_count(r.err) == 1);
+  }
+}
+
+TEST_CASE("library errors keep their exit status: input 1, infeasible 2, database 3") {
+  test::TempDir dir;
+  const auto missing = (dir / "none.db").string();
+  const auto r1 = run({"stock", "list", "--db", missing});
+  CHECK(r1.status == 1);
+  CHECK(r1.err.starts_with("error: "));
+  CHECK(r1.err.find(missing) != std::string::npos);
+  const auto r2 = run({"test-infeasible"});
+  CHECK(r2.status == 2);
+  CHECK(r2.err == "error: not enough 4.7k in stock\n");
+}
+
+TEST_CASE("a database from a newer shelfstage is refused with exit 3 and left alone") {
+  test::TempDir dir;
+  const auto path = (dir / "stock.db").string();
+  REQUIRE(run({"--db", path, "init"}).status == 0);
+  // Pretend a newer program wrote the file: SQLite's user_version holds the schema version.
+  sqlite3* raw = nullptr;
+  REQUIRE(sqlite3_open(path.c_str(), &raw) == SQLITE_OK);
+  const std::string bump = "PRAGMA user_version = " + std::to_string(store::kSchemaVersion + 1);
+  REQUIRE(sqlite3_exec(raw, bump.c_str(), nullptr, nullptr, nullptr) == SQLITE_OK);
+  sqlite3_close(raw);
+  for (const auto& args : std::vector<std::vector<std::string>>{
+           {"stock", "list"}, {"stock", "add", "R", "4k7", "5"}, {"check"}}) {
+    auto with_db = args;
+    with_db.insert(with_db.end(), {"--db", path});
+    const auto r = run(with_db);
+    CHECK(r.status == 3);
+    CHECK(r.err.starts_with("error: "));
+    CHECK(r.err.find("newer") != std::string::npos);
+  }
+  // Still the newer version: nothing migrated it down or rewrote it.
+  REQUIRE(sqlite3_open(path.c_str(), &raw) == SQLITE_OK);
+  sqlite3_stmt* stmt = nullptr;
+  REQUIRE(sqlite3_prepare_v2(raw, "PRAGMA user_version", -1, &stmt, nullptr) == SQLITE_OK);
+  REQUIRE(sqlite3_step(stmt) == SQLITE_ROW);
+  CHECK(sqlite3_column_int(stmt, 0) == store::kSchemaVersion + 1);
+  sqlite3_finalize(stmt);
+  sqlite3_close(raw);
+}
+
+TEST_CASE("a CSV with bad rows: the summary line, then one line per bad row, exit 1") {
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  REQUIRE(run({"--db", db, "init"}).status == 0);
+  const auto r = run({"--db", db, "stock", "import", "-"}, "kind,value,qty\nR,4k7,ten\nR,1k,5\nX,1k,2\n");
+  CHECK(r.status == 1);
+  CHECK(r.err.starts_with("error: "));
+  CHECK(line_count(r.err) == 3);  // the summary, then lines 2 and 4
+  CHECK(r.err.find("stdin:2:") != std::string::npos);
+  CHECK(r.err.find("stdin:4:") != std::string::npos);
+  const auto list = run({"--db", db, "stock", "list", "--json"});
+  CHECK(list.status == 0);
+  CHECK(list.out.find("\"parts\": []") != std::string::npos);  // all or nothing
+}
+
+TEST_CASE("an unexpected exception is reported as internal, exit 1") {
+  const auto r = run({"test-bug"});
+  CHECK(r.status == 1);
+  CHECK(r.err == "error: internal: index out of range (please report this)\n");
+}
+
+TEST_CASE("global options work before and after the subcommand") {
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  REQUIRE(run({"init", "--db", db}).status == 0);
+  REQUIRE(run({"--db", db, "stock", "add", "R", "4k7", "5"}).status == 0);
+  const auto before = run({"--json", "--db", db, "stock", "list"});
+  const auto after = run({"stock", "list", "--json", "--db", db});
+  CHECK(before.status == 0);
+  CHECK(before.out.starts_with("{"));
+  CHECK(before.out == after.out);
+}

@@ -1,0 +1,90 @@
+// Tests of how transistor types and measured pieces are shown: ranges in notation, the JSON keys.
+#include "devices_view.hpp"
+
+#include <doctest/doctest.h>
+
+using namespace shelfstage;
+using namespace shelfstage::cli;
+using devices::DeviceKind;
+using devices::DeviceRecord;
+
+namespace {
+
+DeviceRecord jfet() {
+  DeviceRecord d;
+  d.name = "SJ-101";
+  d.kind = DeviceKind::njfet;
+  d.jfet.idss_a = {1e-3, 5e-3, 2.5e-3};
+  d.jfet.vp_v = {-3.0, -0.5, std::nullopt};
+  d.jfet.lambda_per_v = 0.005;
+  d.jfet.cgs_f = 4.5e-12;
+  d.jfet.cgd_f = 1.5e-12;
+  return d;
+}
+
+DeviceRecord bjt() {
+  DeviceRecord d;
+  d.name = "SQ-410";
+  d.kind = DeviceKind::npn;
+  d.bjt.hfe = {110, 450, 250};
+  d.bjt.is_a = 1.5e-14;
+  d.bjt.vaf_v = 80;
+  d.bjt.cje_f = 6e-12;
+  d.bjt.cjc_f = 3e-12;
+  return d;
+}
+
+}  // namespace
+
+TEST_CASE("ranges print in notation with units, signed as on a datasheet") {
+  CHECK(range_text({1e-3, 5e-3, std::nullopt}, units::Unit::ampere) == "1mA..5mA");
+  CHECK(range_text({-3.0, -0.5, std::nullopt}, units::Unit::volt) == "-3V..-0.5V");
+  CHECK(range_text({2e-3, 2e-3, std::nullopt}, units::Unit::ampere) == "2mA");
+  CHECK(quantity_text(4.5e-12, units::Unit::farad) == "4.5pF");
+  CHECK(quantity_text(80, units::Unit::volt) == "80V");
+}
+
+TEST_CASE("the table has a JFET section, a BJT section and the measured pieces") {
+  devices::MeasuredPiece piece;
+  piece.label = "J1";
+  piece.device = "SJ-101";
+  piece.idss_a = 2.9e-3;
+  piece.vp_v = -1.45;
+  const std::string table = devices_table({jfet(), bjt()}, {piece});
+  const auto j = table.find("JFET types (1)");
+  const auto b = table.find("BJT types (1)");
+  const auto m = table.find("Measured pieces (1)");
+  REQUIRE(j != std::string::npos);
+  REQUIRE(b != std::string::npos);
+  REQUIRE(m != std::string::npos);
+  CHECK(j < b);
+  CHECK(b < m);
+  CHECK(table.find("1mA..5mA") != std::string::npos);
+  CHECK(table.find("110..450") != std::string::npos);
+  CHECK(table.find("2.9mA") != std::string::npos);
+  CHECK(table.find("\u00B13%") != std::string::npos);
+  CHECK(devices_table({}, {}).find("devices import") != std::string::npos);
+}
+
+TEST_CASE("device JSON keys are the device CSV's column names (INTERFACE.md), values plain SI") {
+  const auto doc = devices_json({jfet(), bjt()}, {});
+  CHECK(doc["schema"] == 1);
+  REQUIRE(doc["devices"].size() == 2);
+  const auto& j = doc["devices"][0];
+  for (const char* key : {"name", "kind", "idss_min", "idss_max", "vp_min", "vp_max", "lambda", "cgs", "cgd",
+                          "idss_typ", "vp_typ", "note"}) {
+    CHECK_MESSAGE(j.contains(key), key);
+  }
+  CHECK(j["kind"] == "NJFET");
+  CHECK(j["idss_max"].get<double>() == doctest::Approx(5e-3));
+  CHECK(j["vp_min"].get<double>() == doctest::Approx(-3.0));
+  CHECK(j["vp_typ"].is_null());
+  CHECK(j["cgs"].get<double>() == doctest::Approx(4.5e-12));
+  const auto& b = doc["devices"][1];
+  for (const char* key : {"name", "kind", "hfe_min", "hfe_max", "is", "vaf", "cje", "cjc", "hfe_typ", "note"}) {
+    CHECK_MESSAGE(b.contains(key), key);
+  }
+  CHECK(b["hfe_typ"].get<double>() == doctest::Approx(250.0));
+  CHECK(b["is"].get<double>() == doctest::Approx(1.5e-14));
+  CHECK(doc["pieces"].is_array());
+}

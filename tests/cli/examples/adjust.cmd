@@ -1,0 +1,11 @@
+# Counts never go below zero (common practice for a stock ledger); every change needs a reason.
+--db @DB@ init
+--db @DB@ stock add R 4k7 3 --tol 5% --power 0.25 --bin A6
+--db @DB@ stock add R 4k7 20 --tol 5% --power 0.25 --bin A11
+--db @DB@ stock adjust R:4k7@A6 -5 --reason "lost on the floor"
+--db @DB@ stock adjust R:4k7 -1 --reason "used in a repair"
+--db @DB@ stock adjust R:4k7@A6 -1 --reason "used in a repair"
+--db @DB@ stock adjust 2 +4 --reason recount
+--db @DB@ stock adjust 1 0 --reason recount
+--db @DB@ stock adjust 1 -1
+--db @DB@ stock list

@@ -1,0 +1,2 @@
+# The version line, as the project's CMakeLists.txt sets it.
+--version
