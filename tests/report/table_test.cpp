@@ -11,6 +11,12 @@ using namespace shelfstage::report;
 
 namespace {
 
+TableLayout no_rule() {
+  TableLayout layout;
+  layout.rule = false;
+  return layout;
+}
+
 std::vector<std::string> lines_of(const std::string& text) {
   std::vector<std::string> lines;
   std::istringstream in(text);
@@ -57,18 +63,18 @@ TEST_CASE("a column with no content is left out, unless asked to keep it") {
   TextTable t({{"VALUE"}, {"RESERVED"}, {"BIN"}});
   t.add_row({"10k", "", "A7"});
   CHECK(lines_of(t.render())[0] == "VALUE  BIN");
-  CHECK(lines_of(t.render({.drop_empty_columns = false}))[0] == "VALUE  RESERVED  BIN");
+  CHECK(lines_of(t.render([] { TableLayout l; l.drop_empty_columns = false; return l; }()))[0] == "VALUE  RESERVED  BIN");
 }
 
 TEST_CASE("an empty table is its header") {
   TextTable t({{"VALUE"}, {"BIN"}});
-  CHECK(t.render({.rule = false}) == "VALUE  BIN\n");
+  CHECK(t.render(no_rule()) == "VALUE  BIN\n");
 }
 
 TEST_CASE("a line break in a cell prints as a space, so one row stays one line") {
   TextTable t({{"NOTE"}});
   t.add_row({"two\nlines\tand a tab"});
-  const auto lines = lines_of(t.render({.rule = false}));
+  const auto lines = lines_of(t.render(no_rule()));
   REQUIRE(lines.size() == 2);
   CHECK(lines[1] == "two lines and a tab");
 }
