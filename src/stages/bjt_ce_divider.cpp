@@ -106,9 +106,9 @@ class BjtCeDivider final : public Topology {
     m.go = std::isinf(b.ro_ohm) ? 0.0 : 1.0 / b.ro_ohm;
     m.g_e = detail::g_of(r_deg);
     m.g_c = 1.0 / rl_ac;
-    detail::finish_response(p, std::span<const detail::LfSection>(lf, n), m, c);
+    detail::finish_response(p, std::span<const detail::LfSection>(lf, n), m, c, d);
 
-    if (d == Detail::full) {
+    if (d != Detail::core) {
       // Effective degeneration for the exponential law includes the base source through beta.
       const double f = 1.0 + gm * (r_deg + rs2 / (beta + 1.0));
       p.hd2 = c.hd2_peak_v / (4.0 * b.ic_a * rl_ac * f);
@@ -153,25 +153,29 @@ class BjtCeDivider final : public Topology {
           shelf.nearest((c.supply_v - vb) / (idiv + ib), 1, r1s);
           shelf.nearest(vb / idiv, 1, r2s);
           shelf.nearest(ve / (ic + ib), 1, re_tot);
-          if (r1s.empty() || r2s.empty() || re_tot.empty()) continue;
-          const double rth = par(r1s[0], r2s[0]);
-          for (auto [re1, re2] : detail::leg_splits(shelf, re_tot[0])) {
-            const double gm = ic / t.vt_v;
-            const double zin = par(rth, t.bf * (1.0 / gm + re1));
-            if (zin < g.zin_min_ohm * 1.02) continue;
-            const double a_int = g.gain * (zin + c.source_ohm) / zin;
-            const double rc = detail::load_resistor_for_gain(a_int, gm, re1, c.load_ohm);
-            if (rc <= 0 || ic * rc + ve + 0.3 > c.supply_v) continue;
-            std::vector<double> rcs;
-            shelf.nearest(rc, 2, rcs);
-            for (double x : rcs) {
-              Values v;
-              v[R1] = r1s[0];
-              v[R2] = r2s[0];
-              v[RC] = x;
-              v[RE1] = re1;
-              v[RE2] = re2;
-              emit(v);
+          if (re_tot.empty()) continue;
+          const double gm = ic / t.vt_v;
+          for (double r1 : r1s) {
+            for (double r2 : r2s) {
+              const double rth = par(r1, r2);
+              for (auto [re1, re2] : detail::leg_splits(shelf, re_tot[0])) {
+                const double zin = par(rth, t.bf * (1.0 / gm + re1));
+                if (zin < g.zin_min_ohm * 1.02) continue;
+                const double a_int = g.gain * (zin + c.source_ohm) / zin;
+                const double rc = detail::load_resistor_for_gain(a_int, gm, re1, c.load_ohm);
+                if (rc <= 0 || ic * rc + ve + 0.3 > c.supply_v) continue;
+                std::vector<double> rcs;
+                shelf.nearest(rc, 2, rcs);
+                for (double x : rcs) {
+                  Values v;
+                  v[R1] = r1;
+                  v[R2] = r2;
+                  v[RC] = x;
+                  v[RE1] = re1;
+                  v[RE2] = re2;
+                  emit(v);
+                }
+              }
             }
           }
         }

@@ -90,9 +90,9 @@ class BjtFollower final : public Topology {
     m.g_e = 1.0 / par(v[RE], c.load_ohm);
     m.g_c = 1e9;
     m.out_at_emitter = true;
-    detail::finish_response(p, lf, m, c);
+    detail::finish_response(p, lf, m, c, d);
 
-    if (d == Detail::full) {
+    if (d != Detail::core) {
       const double f = 1.0 + gm * (re_ac + rs2 / (beta + 1.0));
       p.hd2 = c.hd2_peak_v / (4.0 * b.ic_a * re_ac * f);
       const double kt4 = detail::thermal_v2(1.0, c.celsius);

@@ -110,12 +110,15 @@ double lf_corner_hz(std::span<const LfSection> s) {
     for (const auto& x : s) r *= (w * w + x.zero_rad * x.zero_rad) / (w * w + x.pole_rad * x.pole_rad);
     return r;
   };
-  double hi = 1.0;
-  for (const auto& x : s) hi = std::max(hi, 10.0 * x.pole_rad);
+  // Each section passes at most all of the signal, so the product is already 3 dB down at
+  // the largest pole's shelf; and it is up within 3 dB by twice the sum of the poles.
+  double sum = 0;
+  for (const auto& x : s) sum += x.pole_rad;
+  double hi = 2.0 * sum + 1e-12;
   if (h2(1e-9) >= 0.5) return 0.0;  // a shelf that never falls 3 dB
-  // Monotonic in w for these sections: bisection in log w.
   double lo = 1e-9;
-  for (int i = 0; i < 80; ++i) {
+  // Monotonic in w for these sections: bisection in log w.
+  for (int i = 0; i < 60; ++i) {
     const double mid = std::sqrt(lo * hi);
     (h2(mid) < 0.5 ? lo : hi) = mid;
   }
@@ -145,56 +148,81 @@ double hf_corner_hz(double b1, double b2, double z, double p) {
   return std::sqrt(lo * hi) / (2 * std::numbers::pi);
 }
 
+namespace {
+// Complex arithmetic by hand: GCC's operator/ on std::complex calls __divdc3 (NaN and
+// overflow care this well-scaled 3x3 does not need) and std::abs calls hypot; together
+// they were most of an evaluation's time.
+struct Cx {
+  double re = 0, im = 0;
+};
+inline Cx operator+(Cx a, Cx b) { return {a.re + b.re, a.im + b.im}; }
+inline Cx operator-(Cx a, Cx b) { return {a.re - b.re, a.im - b.im}; }
+inline Cx operator*(Cx a, Cx b) { return {a.re * b.re - a.im * b.im, a.re * b.im + a.im * b.re}; }
+inline Cx operator/(Cx a, Cx b) {
+  const double d = b.re * b.re + b.im * b.im;
+  return {(a.re * b.re + a.im * b.im) / d, (a.im * b.re - a.re * b.im) / d};
+}
+inline double norm2(Cx a) { return a.re * a.re + a.im * a.im; }
+}  // namespace
+
 double hybrid_pi_gain(const HybridPi& m, double w) {
-  using cd = std::complex<double>;
-  const cd s(0.0, w);
-  const cd ypi = m.gpi + s * m.cpi, ymu = s * m.cmu;
+  const Cx ypi{m.gpi, w * m.cpi}, ymu{0.0, w * m.cmu};
+  const Cx gsrc{m.g_src, 0}, gm{m.gm, 0}, go{m.go, 0}, ge{m.g_e, 0}, gc{m.g_c, 0};
   // Unknowns (vb, ve, vc); a unit Thevenin source drives g_src into the base.
-  cd a[3][4] = {
-      {m.g_src + ypi + ymu, -ypi, -ymu, m.g_src},
-      {-ypi - m.gm, ypi + m.gm + m.go + m.g_e, -m.go, 0.0},
-      {m.gm - ymu, -m.gm - m.go, ymu + m.go + m.g_c, 0.0},
+  Cx a[3][4] = {
+      {gsrc + ypi + ymu, Cx{} - ypi, Cx{} - ymu, gsrc},
+      {Cx{} - ypi - gm, ypi + gm + go + ge, Cx{} - go, Cx{}},
+      {gm - ymu, Cx{} - gm - go, ymu + go + gc, Cx{}},
   };
   for (int col = 0; col < 3; ++col) {  // Gaussian elimination with partial pivoting
     int piv = col;
     for (int r = col + 1; r < 3; ++r)
-      if (std::abs(a[r][col]) > std::abs(a[piv][col])) piv = r;
+      if (norm2(a[r][col]) > norm2(a[piv][col])) piv = r;
     if (piv != col)
       for (int k = 0; k < 4; ++k) std::swap(a[col][k], a[piv][k]);
     for (int r = col + 1; r < 3; ++r) {
-      const cd f = a[r][col] / a[col][col];
-      for (int k = col; k < 4; ++k) a[r][k] -= f * a[col][k];
+      const Cx f = a[r][col] / a[col][col];
+      for (int k = col; k < 4; ++k) a[r][k] = a[r][k] - f * a[col][k];
     }
   }
-  cd x[3];
+  Cx x[3];
   for (int r = 2; r >= 0; --r) {
-    cd sum = a[r][3];
-    for (int k = r + 1; k < 3; ++k) sum -= a[r][k] * x[k];
+    Cx sum = a[r][3];
+    for (int k = r + 1; k < 3; ++k) sum = sum - a[r][k] * x[k];
     x[r] = sum / a[r][r];
   }
-  return std::abs(m.out_at_emitter ? x[1] : x[2]);
+  return std::sqrt(norm2(m.out_at_emitter ? x[1] : x[2]));
 }
 
 double hybrid_pi_corner_hz(const HybridPi& m) {
   const double h0 = hybrid_pi_gain(m, 1.0);
   const double target = h0 / std::numbers::sqrt2;
-  double w = 10.0, prev = 1.0;
-  while (w < 1e13 && hybrid_pi_gain(m, w) >= target) {
-    prev = w;
-    w *= 1.5;
+  // Start from the open-circuit time-constant estimate and bracket the crossing.
+  const double rb = 1.0 / (m.g_src + m.gpi);
+  const double tau = rb * m.cpi + (rb + 1.0 / (m.g_c + m.go) + m.gm * rb / (m.g_c + m.go)) * m.cmu;
+  double w = tau > 0 ? 1.0 / tau : 1e9;
+  double lo = w, hi = w;
+  if (hybrid_pi_gain(m, w) >= target) {
+    while (hi < 1e14 && hybrid_pi_gain(m, hi) >= target) hi *= 4;
+    lo = hi / 4;
+    if (hi >= 1e14) return 1e14 / (2 * std::numbers::pi);
+  } else {
+    while (lo > 1e-3 && hybrid_pi_gain(m, lo) < target) lo /= 4;
+    hi = lo * 4;
   }
-  if (w >= 1e13) return 1e13 / (2 * std::numbers::pi);
-  double lo = prev, hi = w;
-  for (int i = 0; i < 30; ++i) {
+  for (int i = 0; i < 24; ++i) {
     const double mid = std::sqrt(lo * hi);
     (hybrid_pi_gain(m, mid) >= target ? lo : hi) = mid;
   }
   return std::sqrt(lo * hi) / (2 * std::numbers::pi);
 }
 
-void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c) {
-  p.f_low_hz = lf_corner_hz(lf);
-  p.f_high_hz = hybrid_pi_corner_hz(m);
+void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c,
+                     Detail detail) {
+  if (detail == Detail::full) {
+    p.f_low_hz = lf_corner_hz(lf);
+    p.f_high_hz = hybrid_pi_corner_hz(m);
+  }
   if (c.band_lo_hz > 0) {
     const double w = 2 * std::numbers::pi * c.band_lo_hz;
     double h2 = 1.0;
@@ -228,8 +256,11 @@ std::vector<std::pair<double, double>> leg_splits(const ValueSource& shelf, doub
 }
 
 double load_resistor_for_gain(double a_int, double gm, double r_deg, double load_ohm) {
-  const double rl_ac = a_int * (1.0 / gm + r_deg);
-  if (!(rl_ac > 0) || rl_ac >= 0.98 * load_ohm) return 0.0;
+  double rl_ac = a_int * (1.0 / gm + r_deg);
+  if (!(rl_ac > 0)) return 0.0;
+  // Out of reach into this load: propose the most the load allows (RD = 9 RL), so the
+  // search can say how close the stage comes.
+  rl_ac = std::min(rl_ac, 0.9 * load_ohm);
   return 1.0 / (1.0 / rl_ac - 1.0 / load_ohm);
 }
 
@@ -237,6 +268,14 @@ void unique_values(std::vector<double>& v) {
   std::sort(v.begin(), v.end());
   v.erase(std::unique(v.begin(), v.end(), [](double a, double b) { return std::abs(a - b) <= 1e-9 * std::abs(b); }),
           v.end());
+}
+
+double triode_edge_excursion(double beta, double id0, double vds0, double k, double r_ac) {
+  if (beta * vds0 * vds0 <= id0) return 0.0;  // already at or past the edge
+  const double a2 = beta * k * k, a1 = -(2.0 * beta * k * vds0 + 1.0 / r_ac), a0 = beta * vds0 * vds0 - id0;
+  const double disc = std::max(0.0, a1 * a1 - 4.0 * a2 * a0);
+  // Smaller root, written to avoid cancellation.
+  return (2.0 * a0) / (-a1 + std::sqrt(disc));
 }
 
 double cgs_at(const devices::JfetInstance& q, double vgs) {

@@ -69,13 +69,20 @@ struct HybridPi {
 double hybrid_pi_gain(const HybridPi& m, double w);
 /// The upper -3 dB frequency (Hz) of that response, relative to its low-frequency value.
 double hybrid_pi_corner_hz(const HybridPi& m);
-/// Sets f_low, f_high and the band-edge losses of p from the low-frequency sections and
-/// the hybrid-pi model.
-void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c);
+/// Sets the band-edge losses of p (always) and f_low, f_high (Detail::full only: the -3 dB
+/// searches cost more than everything else in an evaluation) from the low-frequency
+/// sections and the hybrid-pi model.
+void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c,
+                     Detail detail);
 /// Capacitance that puts a first-order corner at f_hz through r_ohm.
 double cap_for(double r_ohm, double f_hz);
 /// Conductance of a resistor that may be absent (0 ohms: a short, given a huge conductance).
 inline double g_of(double r_ohm) { return r_ohm > 0 ? 1.0 / r_ohm : 1e9; }
+
+/// The output excursion a at which a JFET leaves saturation when its drain-source voltage
+/// falls by k*a while its current rises by a/r_ac: the smaller root of
+/// beta*(vds0 - k*a)^2 = id0 + a/r_ac (the triode edge VDS = VGS - VP of the square law).
+double triode_edge_excursion(double beta, double id0, double vds0, double k, double r_ac);
 
 /// Depletion capacitances of a JFET at a bias (N frame voltages).
 double cgs_at(const devices::JfetInstance& q, double vgs_v);
@@ -124,8 +131,8 @@ std::vector<std::pair<double, double>> leg_splits(const ValueSource& shelf, doub
 
 /// The drain or collector resistor that gives an internal gain a_int (gate or base to the
 /// load) with transconductance gm and unbypassed degeneration r_deg into load_ohm:
-/// RL' = a_int * (1/gm + r_deg), RD = 1 / (1/RL' - 1/load). Returns 0 when no resistor
-/// can (RL' >= load).
+/// RL' = a_int * (1/gm + r_deg), RD = 1 / (1/RL' - 1/load). When RL' would reach the load,
+/// returns the largest sensible value (RL' = 0.9 load) so the search learns how close it got.
 double load_resistor_for_gain(double a_int, double gm, double r_deg, double load_ohm);
 
 /// Distinct values, in order.

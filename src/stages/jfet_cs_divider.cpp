@@ -60,7 +60,7 @@ class JfetCsDivider final : public Topology {
     p.v_in *= k;
     p.v_common *= k;
     p.v_out *= k;
-    if (d == Detail::full && p.valid) {
+    if (d != Detail::core && p.valid) {
       const double i2 = b.id_a * b.id_a;
       const double idiv = s.bias_network_a;
       const double vg = s.vg_v;

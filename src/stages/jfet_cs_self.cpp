@@ -56,7 +56,7 @@ class JfetCsSelf final : public Topology {
     p.v_in *= k;
     p.v_common *= k;
     p.v_out *= k;
-    if (d == Detail::full && p.valid) {
+    if (d != Detail::core && p.valid) {
       const double i2 = b.id_a * b.id_a;
       p.stress = {{RG, 0, 0, {}}, {RD, i2 * v[RD], 0, {}}};
       if (v[RS1] > 0) p.stress.push_back({RS1, i2 * v[RS1], 0, {}});

@@ -65,8 +65,7 @@ class JfetFollower final : public Topology {
     // VDS meets VGS - VP, or the gate reaches the source (VGS = 0).
     const double r_ac = par(v[RS], c.load_ohm);
     p.swing_down_v = b.id_a * r_ac;
-    auto margin = [&](double a) { return std::sqrt((b.id_a + a / r_ac) / b.beta_eff) - (b.vds_v - a); };
-    const double up = margin(0) < 0 ? detail::bisect(margin, 0.0, b.vds_v) : 0.0;
+    const double up = detail::triode_edge_excursion(b.beta_eff, b.id_a, b.vds_v, 1.0, r_ac);
     const double gate_limit = (j.vp_abs_v * j.vp_abs_v * b.beta_eff - b.id_a) * r_ac;
     p.swing_up_v = std::max(0.0, std::min(up, gate_limit));
     p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
@@ -83,9 +82,9 @@ class JfetFollower final : public Topology {
     m.g_e = 1.0 / r_ac;
     m.g_c = 1e9;
     m.out_at_emitter = true;
-    detail::finish_response(p, lf, m, c);
+    detail::finish_response(p, lf, m, c, d);
 
-    if (d == Detail::full) {
+    if (d != Detail::core) {
       p.hd2 = c.hd2_peak_v / (8.0 * b.id_a * r_ac * (1.0 + gm * r_ac));
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;

@@ -91,9 +91,10 @@ struct Performance {
   std::vector<Stress> stress;  ///< per role present
 };
 
-/// How much the fast evaluator computes: the search asks for `core` (bias, gain, Zin,
-/// Zout, swing, corners), reports ask for `full` (adds HD2, noise, stress).
-enum class Detail { core, full };
+/// How much the fast evaluator computes: `core` (bias, gain, Zin, Zout, swing, band-edge
+/// losses) for the search; `stress` adds part stress, HD2 and noise; `full` adds the -3 dB
+/// corners (their searches cost more than all the rest).
+enum class Detail { core, stress, full };
 
 /// Names of the nets every stage netlist uses: the signal source drives "sig" through
 /// RSIG into "in" (then CIN); the load RL hangs on "out"; the supply is "vdd".

@@ -1,0 +1,108 @@
+// The synthesizer: complete stages from what is on the shelf, evaluated at nominal and at
+// the worst-case corners of device spread, part tolerances, supply and temperature, ranked.
+#pragma once
+#include <functional>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "shelfstage/devices/record.hpp"
+#include "shelfstage/devices/spread.hpp"
+#include "shelfstage/stages/topology.hpp"
+#include "shelfstage/store/part.hpp"
+#include "shelfstage/synth/shelf.hpp"
+#include "shelfstage/synth/spec.hpp"
+
+namespace shelfstage::synth {
+
+/// What the shelf holds, as the synthesizer reads it.
+struct Inventory {
+  std::vector<store::Part> parts;                 ///< every stock line (R, C and transistors)
+  std::vector<devices::DeviceRecord> devices;     ///< device records
+  std::vector<devices::MeasuredPiece> pieces;     ///< measured pieces
+};
+
+/// One role of a candidate and the parts that fill it.
+struct RolePart {
+  std::string role;        ///< RD, RS1, CIN ...
+  std::string designator;  ///< R2, C1 ...
+  char kind = 'R';
+  Combo combo;             ///< value, bounds and recipe (groups index Shelf::groups())
+  std::string recipe;      ///< "10k+150"
+  std::vector<double> values;   ///< nominal value of each piece
+  units::Tolerance tol;         ///< of the combination, from its bounds
+  double rating = 0;            ///< W or V of the combination; 0 unknown
+  std::string dielectric;       ///< capacitors
+  bool polarised = false;
+  std::string plus_net;         ///< polarised capacitors: the net the + lead goes to
+};
+
+/// [min, max] over the corners.
+struct Range {
+  double min = 0, max = 0;
+  void add(double v);
+  bool empty = true;
+};
+
+struct Worst {
+  Range gain, bias_current, swing_peak, v_in, v_common, v_out, zin, zout, f_low, f_high, supply_current;
+  Range loss_lo_db, loss_hi_db;
+  int evaluations = 0;
+};
+
+/// One designed stage.
+struct Candidate {
+  int rank = 0;
+  std::string id;
+  const stages::Topology* topology = nullptr;
+  devices::DeviceRecord device;
+  std::optional<devices::MeasuredPiece> piece;
+  stages::Transistor nominal_device;   ///< the nominal piece at nominal temperature
+  std::vector<RolePart> parts;          ///< roles present, in the topology's order
+  stages::Values values;
+  stages::Conditions conditions;        ///< nominal supply, load, source, temperature
+  stages::Performance nominal;          ///< fast evaluator at nominal, Detail::full
+  Worst worst;
+  double score = 0;
+  double error_nominal = 0;   ///< |gain|/G - 1 at nominal
+  double error_worst = 0;     ///< the largest |gain/G - 1| over the corners
+  std::optional<double> yield;  ///< Monte Carlo fraction meeting the spec (top K only)
+  int pieces = 0;               ///< parts per copy, transistor included
+  int purchases = 0;            ///< pieces not on the shelf (shopping suggestions only)
+  std::vector<std::string> cautions;
+};
+
+/// Why nothing fits, and what would help.
+struct Diagnosis {
+  std::string binding;    ///< the constraint that eliminated the most candidates ("gain", "swing", ...)
+  std::string detail;     ///< one or two sentences for people
+  std::vector<std::string> suggestions;  ///< purchases: "buy 2 x 6.8k 5% (RS2 of jfet-cs-self)"
+  std::optional<Candidate> with_purchases;  ///< the best design if those were bought
+};
+
+struct DesignResult {
+  Spec spec;
+  std::vector<Candidate> candidates;  ///< best first, at most spec.top
+  Diagnosis diagnosis;                ///< filled when candidates is empty
+  long proposals = 0;                 ///< stages proposed by the design equations
+  long evaluations = 0;               ///< fast evaluations made
+  double seconds = 0;
+};
+
+/// Progress: (work done, work total, what) — called from the calling thread only.
+using Progress = std::function<void(double done, double total, const std::string& what)>;
+
+/// Designs stages for the spec from the inventory. Throws InputError for a bad spec or an
+/// unknown topology, device or piece; never throws for "nothing fits" (see diagnosis).
+DesignResult design(const Spec& spec, const Inventory& inventory, const Progress& progress = {});
+
+/// Re-evaluates one candidate with everything (corners and yield), e.g. for `show`.
+void evaluate_candidate(Candidate& c, const Spec& spec);
+
+/// A stable identifier for a candidate: topology, device and part values hashed.
+std::string candidate_id(const Candidate& c, int copies);
+
+/// The devices::DeviceSpread of a candidate (record, or measured piece).
+devices::DeviceSpread spread_of(const Candidate& c);
+
+}  // namespace shelfstage::synth

@@ -1,0 +1,86 @@
+// What the shelf can make: every value reachable from the stock with single parts and
+// series or parallel pairs (triples on request), with recipes, bounds, ratings and the
+// pieces each consumes. Sorted for nearest-value search.
+#pragma once
+#include <array>
+#include <cstdint>
+#include <span>
+#include <string>
+#include <vector>
+
+#include "shelfstage/stages/topology.hpp"
+#include "shelfstage/store/part.hpp"
+
+namespace shelfstage::synth {
+
+/// One kind of part on the shelf: the same value, tolerance, rating and dielectric,
+/// summed over bins (on hand minus reserved).
+struct StockGroup {
+  store::PartKind kind = store::PartKind::resistor;
+  double value = 0;            ///< ohms or farads
+  units::Tolerance tol;        ///< the stated one, or the kind's default
+  double rating = 0;           ///< watts (R) or volts (C); 0 when the stock does not say
+  std::string dielectric;
+  bool polarised = false;
+  int available = 0;
+  std::vector<std::int64_t> lines;  ///< stock line ids holding it, in bin order
+  std::vector<int> line_available;  ///< pieces available on each line
+  bool purchase = false;            ///< not on the shelf: a value one could buy
+};
+
+enum class Join { single, series, parallel };
+
+/// One achievable value and its recipe.
+struct Combo {
+  double nominal = 0, lo = 0, hi = 0;  ///< worst-case bounds from the parts' bounds
+  double rating = 0;   ///< watts the combination may dissipate (R) or volts it may hold (C); 0 unknown
+  Join join = Join::single;
+  std::uint8_t count = 1;                 ///< pieces
+  std::array<std::uint32_t, 3> group{};   ///< StockGroup indices
+  bool polarised = false;
+  bool purchase = false;                  ///< needs a part not on the shelf
+};
+
+/// Default tolerances when the stock does not state one (documented in README):
+/// resistors 5 %, electrolytic and tantalum -20/+20 %, other capacitors 10 %.
+units::Tolerance default_tolerance(const store::Part& p);
+
+/// A value as bench notes write it: the IEC 60062 code with a lower-case k and no trailing
+/// R on whole ohms ("2k2", "10k", "150", "4R7", "100n", "2u2").
+std::string compact_value(double value, bool resistor);
+
+class Shelf final : public stages::ValueSource {
+ public:
+  struct Options {
+    int combine = 2;              ///< 1, 2 or 3 parts per value
+    bool add_purchases = false;   ///< add E24 resistors and E6 capacitors one could buy
+    double purchase_volts = 50;   ///< rating of the capacitors one could buy
+  };
+  Shelf(const std::vector<store::Part>& parts, Options options);
+
+  const std::vector<StockGroup>& groups() const { return groups_; }
+  std::span<const Combo> resistors() const { return r_; }
+  std::span<const Combo> capacitors() const { return c_; }
+
+  // ValueSource (resistances):
+  void nearest(double target_ohm, std::size_t n, std::vector<double>& out) const override;
+  void spread(double lo_ohm, double hi_ohm, std::size_t max_n, std::vector<double>& out) const override;
+
+  /// The recipe for a resistance the shelf can make (exact nominal from nearest/spread):
+  /// fewest pieces, then tightest bounds. nullptr if none.
+  const Combo* resistor(double nominal_ohm) const;
+  /// The smallest capacitance whose lower bound reaches min_f and whose rating holds
+  /// dc_v (with a 25 % margin); polarised parts only when allow_polarised. nullptr if none.
+  const Combo* capacitor_at_least(double min_f, double dc_v, bool allow_polarised) const;
+
+  /// "10k", "10k+150", "2k2||6k8" (IEC 60062 style values joined).
+  std::string recipe(const Combo& c) const;
+
+ private:
+  void build(std::vector<Combo>& out, store::PartKind kind, int combine);
+  std::vector<StockGroup> groups_;
+  std::vector<Combo> r_, c_;       // sorted by nominal, then pieces
+  std::vector<double> r_values_;   // distinct resistor nominals, sorted
+};
+
+}  // namespace shelfstage::synth

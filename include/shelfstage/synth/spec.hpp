@@ -1,0 +1,43 @@
+// The design request: what the stage must do, in SI units, and its validation.
+#pragma once
+#include <cstdint>
+#include <optional>
+#include <string>
+#include <utility>
+#include <vector>
+
+namespace shelfstage::synth {
+
+/// A request as `shelfstage design` takes it (INTERFACE.md), every value in SI.
+struct Spec {
+  double gain = 0;                ///< |V/V| from the source to the load
+  double load_ohm = 0;
+  double supply_lo_v = 0;         ///< supply range; equal ends for a fixed supply
+  double supply_hi_v = 0;
+  double zin_min_ohm = 0;
+  double source_ohm = 0;
+  std::optional<std::pair<double, double>> band_hz;  ///< flat within 1 dB across it
+  std::optional<double> swing_vpp;                   ///< output swing at every corner
+  std::optional<double> max_current_a;               ///< supply current limit
+  std::optional<std::pair<double, double>> temp_c;   ///< ambient range
+  int copies = 1;
+  std::vector<std::string> topologies;  ///< empty: all
+  std::vector<std::string> devices;     ///< empty: every stocked type
+  std::optional<std::string> piece;     ///< design for this measured piece only
+  int top = 5;
+  int combine = 2;         ///< parts per achievable value: 1, 2 (pairs) or 3 (triples)
+  double gain_tol = 0.10;  ///< gain window that counts as meeting the spec in the yield
+  std::uint64_t seed = 1;  ///< Monte Carlo seed
+  int mc_samples = 500;
+
+  double supply_nominal_v() const { return 0.5 * (supply_lo_v + supply_hi_v); }
+  double temp_nominal_c() const;
+  /// The lowest frequency the capacitors are sized for: the band's lower edge, else 20 Hz.
+  double f_low_target_hz() const { return band_hz ? band_hz->first : 20.0; }
+};
+
+/// Checks a request for nonsense (negative load, band upside down, zero copies, NaN ...).
+/// Throws InputError naming the field and its value.
+void validate(const Spec& spec);
+
+}  // namespace shelfstage::synth

@@ -1,0 +1,426 @@
+// The search: for every topology and stocked device (or measured piece), the topology's
+// design equations propose resistor sets on values the shelf can make; capacitors are
+// sized for the band; every candidate draws on one quantity pool for all its copies;
+// survivors are evaluated at the corners, ranked, and the best get a Monte Carlo yield.
+#include "shelfstage/synth/design.hpp"
+
+#include <algorithm>
+#include <atomic>
+#include <chrono>
+#include <cmath>
+#include <fmt/format.h>
+#include <map>
+#include <mutex>
+#include <thread>
+#include <unordered_set>
+
+#include "detail.hpp"
+#include "shelfstage/error.hpp"
+#include "shelfstage/units/notation.hpp"
+
+namespace shelfstage::synth {
+
+namespace {
+
+// One search job: a topology with one device type (or one measured piece).
+struct Job {
+  const stages::Topology* topology = nullptr;
+  const devices::DeviceRecord* device = nullptr;
+  const devices::MeasuredPiece* piece = nullptr;
+  int device_available = 0;
+};
+
+// What a job learned about failures, for the diagnosis.
+struct Tally {
+  std::map<std::string, long> failures;  // constraint -> candidates it stopped at nominal
+  std::map<std::string, long> corner_failures;  // ... that passed at nominal, stopped at a corner
+  double best_gain = 0;                  // largest |gain| of an active stage
+  double best_swing = 0;                 // largest swing peak among active stages
+  double best_zin = 0;
+  std::string capacitor_need;            // the last capacitor the shelf could not supply
+  long proposals = 0, evaluations = 0;
+  void merge(const Tally& o) {
+    for (const auto& [k, v] : o.failures) failures[k] += v;
+    for (const auto& [k, v] : o.corner_failures) corner_failures[k] += v;
+    best_gain = std::max(best_gain, o.best_gain);
+    best_swing = std::max(best_swing, o.best_swing);
+    best_zin = std::max(best_zin, o.best_zin);
+    if (!o.capacitor_need.empty()) capacitor_need = o.capacitor_need;
+    proposals += o.proposals;
+    evaluations += o.evaluations;
+  }
+};
+
+std::uint64_t fnv1a(const std::string& s) {
+  std::uint64_t h = 1469598103934665603ULL;
+  for (unsigned char ch : s) {
+    h ^= ch;
+    h *= 1099511628211ULL;
+  }
+  return h;
+}
+
+constexpr double kPiecePoints = 1.0;
+
+double score_of(const Candidate& c) {
+  // README "How candidates are ranked": percent points of gain error, half the nominal
+  // plus the whole worst case, and one point per piece: an extra piece must buy a percent.
+  return 100.0 * (0.5 * std::abs(c.error_nominal) + c.error_worst) + kPiecePoints * c.pieces;
+}
+
+class Searcher {
+ public:
+  Searcher(const Spec& spec, const Shelf& shelf) : spec_(spec), shelf_(shelf) {}
+
+  std::vector<Candidate> run(const Job& job, Tally& tally) const {
+    const auto& t = *job.topology;
+    const devices::DeviceSpread spread =
+        job.piece ? devices::DeviceSpread(*job.device, *job.piece) : devices::DeviceSpread(*job.device);
+    const double t_nom = spec_.temp_nominal_c();
+    const stages::Transistor q = detail::make_transistor(spread, spread.nominal(), t_nom);
+    const stages::Conditions cond = detail::conditions(spec_, spec_.supply_nominal_v(), t_nom);
+    const stages::Conditions cond_hi = detail::conditions(spec_, spec_.supply_hi_v, t_nom);
+    stages::Goal goal;
+    goal.gain = spec_.gain;
+    goal.zin_min_ohm = spec_.zin_min_ohm;
+    goal.swing_peak_v = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0;
+    goal.max_current_a = spec_.max_current_a.value_or(0);
+    goal.f_low_hz = spec_.f_low_target_hz();
+
+    std::vector<Candidate> found;
+    std::unordered_set<std::uint64_t> seen;
+    const auto roles = t.roles();
+    t.propose(goal, q, cond, shelf_, [&](const stages::Values& proposal) {
+      ++tally.proposals;
+      std::string key(reinterpret_cast<const char*>(proposal.v.data()), roles.size() * sizeof(double));
+      if (!seen.insert(fnv1a(key)).second) return;
+      Candidate c;
+      c.topology = &t;
+      c.device = *job.device;
+      if (job.piece) c.piece = *job.piece;
+      c.nominal_device = q;
+      c.conditions = cond;
+      c.values = proposal;
+      // Resistors: the recipes for the proposed values.
+      for (std::size_t i = 0; i < roles.size(); ++i) {
+        if (roles[i].kind != 'R' || !(proposal[i] > 0)) continue;
+        const Combo* combo = shelf_.resistor(proposal[i]);
+        if (!combo) return;
+        add_part(c, i, *combo);
+      }
+      // Capacitors: sized for the band, rated for the DC they hold at the highest supply.
+      const stages::Values targets = t.capacitor_targets(c.values, q, cond, goal.f_low_hz);
+      stages::Values trial = c.values;
+      for (std::size_t i = 0; i < roles.size(); ++i)
+        if (roles[i].kind == 'C') trial[i] = targets[i];
+      const auto pre = t.evaluate(trial, q, cond_hi, stages::Detail::stress);
+      ++tally.evaluations;
+      if (!pre.valid) {
+        ++tally.failures["bias"];
+        return;
+      }
+      for (std::size_t i = 0; i < roles.size(); ++i) {
+        if (roles[i].kind != 'C' || !(targets[i] > 0)) continue;
+        double dc = 0;
+        std::string_view plus;
+        for (const auto& s : pre.stress)
+          if (s.role == i) {
+            dc = s.dc_v;
+            plus = s.plus_net;
+          }
+        const double peak = goal.swing_peak_v > 0 ? goal.swing_peak_v : pre.swing_peak_v;
+        // An electrolytic only where it sits on a DC bias (common practice: a few tenths of
+        // a volt forward at least; the in-band signal across a coupling or bypass capacitor
+        // is small). The corner pass then checks it is never reversed.
+        const bool allow_pol = roles[i].polar_ok && dc >= 0.3;
+        const Combo* combo = shelf_.capacitor_at_least(targets[i], dc + peak, allow_pol);
+        if (!combo) {
+          ++tally.failures["capacitor"];
+          tally.capacitor_need = fmt::format("{} of {} needs at least {} {}rated above {:.3g} V", roles[i].name, t.name(),
+                                             units::format_value(targets[i], units::Unit::farad),
+                                             allow_pol ? "" : "non-polarised ", 1.25 * (dc + peak));
+          return;
+        }
+        add_part(c, i, *combo);
+        c.values[i] = combo->nominal;
+        if (combo->polarised) c.parts.back().plus_net = std::string(plus);
+      }
+      std::sort(c.parts.begin(), c.parts.end(),
+                [&](const RolePart& a, const RolePart& b) { return t.role_index(a.role) < t.role_index(b.role); });
+      // One quantity pool: every role and every copy.
+      if (!pool_ok(c, job)) {
+        ++tally.failures["stock"];
+        return;
+      }
+      c.nominal = t.evaluate(c.values, q, cond, stages::Detail::core);
+      ++tally.evaluations;
+      const std::string v = detail::violation(spec_, c.nominal);
+      if (c.nominal.valid && c.nominal.active) {
+        tally.best_gain = std::max(tally.best_gain, std::abs(c.nominal.gain));
+        tally.best_swing = std::max(tally.best_swing, c.nominal.swing_peak_v);
+        tally.best_zin = std::max(tally.best_zin, c.nominal.zin_ohm);
+      }
+      if (!v.empty()) {
+        ++tally.failures[v];
+        return;
+      }
+      if (!detail::gain_ok(spec_, c.nominal.gain)) {
+        ++tally.failures["gain"];
+        return;
+      }
+      c.error_nominal = std::abs(c.nominal.gain) / spec_.gain - 1.0;
+      c.pieces = 1;
+      for (const auto& rp : c.parts) {
+        c.pieces += rp.combo.count;
+        if (rp.combo.purchase) c.purchases += rp.combo.count;
+      }
+      found.push_back(std::move(c));
+    });
+
+    // Corners only for the most promising (the corner pass costs ~100 evaluations each).
+    constexpr std::size_t kKeep = 40;
+    std::sort(found.begin(), found.end(), [](const Candidate& a, const Candidate& b) {
+      return 100.0 * std::abs(a.error_nominal) + kPiecePoints * a.pieces <
+             100.0 * std::abs(b.error_nominal) + kPiecePoints * b.pieces;
+    });
+    if (found.size() > kKeep) found.resize(kKeep);
+    std::vector<Candidate> kept;
+    for (auto& c : found) {
+      const std::string v = detail::evaluate_worst(c, spec_, tally.evaluations);
+      if (!v.empty()) {
+        ++tally.corner_failures[v.substr(0, v.find(':'))];
+        continue;
+      }
+      c.nominal = t.evaluate(c.values, q, cond, stages::Detail::full);
+      ++tally.evaluations;
+      c.score = score_of(c);
+      kept.push_back(std::move(c));
+    }
+    return kept;
+  }
+
+ private:
+  void add_part(Candidate& c, std::size_t role, const Combo& combo) const {
+    const auto& r = c.topology->roles()[role];
+    RolePart rp;
+    rp.role = std::string(r.name);
+    rp.designator = std::string(r.designator);
+    rp.kind = r.kind;
+    rp.combo = combo;
+    rp.recipe = shelf_.recipe(combo);
+    for (std::size_t k = 0; k < combo.count; ++k) rp.values.push_back(shelf_.groups()[combo.group[k]].value);
+    rp.tol = {1.0 - combo.lo / combo.nominal, combo.hi / combo.nominal - 1.0};
+    rp.rating = combo.rating;
+    rp.dielectric = shelf_.groups()[combo.group[0]].dielectric;
+    rp.polarised = combo.polarised;
+    c.parts.push_back(rp);
+  }
+
+  bool pool_ok(const Candidate& c, const Job& job) const {
+    if (job.device_available < spec_.copies) return false;
+    std::map<std::uint32_t, int> need;
+    for (const auto& rp : c.parts)
+      for (std::size_t k = 0; k < rp.combo.count; ++k) need[rp.combo.group[k]] += spec_.copies;
+    for (const auto& [g, n] : need)
+      if (shelf_.groups()[g].available < n) return false;
+    return true;
+  }
+
+  const Spec& spec_;
+  const Shelf& shelf_;
+};
+
+std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
+  // Transistors on the shelf, by device name.
+  std::map<std::string, int> stocked;
+  for (const auto& p : inv.parts)
+    if (!store::is_passive(p.kind)) stocked[p.device] += p.available();
+  for (const auto& name : spec.devices) {
+    const bool known = std::any_of(inv.devices.begin(), inv.devices.end(), [&](const auto& d) { return d.name == name; });
+    if (!known) throw InputError(fmt::format("device '{}' is not in the device list (see `shelfstage devices list`)", name));
+  }
+  for (const auto& name : spec.topologies)
+    if (!stages::find_topology(name)) {
+      std::string all;
+      for (const auto* t : stages::registry()) all += (all.empty() ? "" : ", ") + std::string(t->name());
+      throw InputError(fmt::format("topology '{}' is not one of {}", name, all));
+    }
+  const devices::MeasuredPiece* piece = nullptr;
+  if (spec.piece) {
+    for (const auto& p : inv.pieces)
+      if (p.label == *spec.piece) piece = &p;
+    if (!piece) throw InputError(fmt::format("piece '{}' is not among the measured pieces", *spec.piece));
+  }
+  std::vector<Job> jobs;
+  for (const auto* t : stages::registry()) {
+    if (!spec.topologies.empty() && std::find(spec.topologies.begin(), spec.topologies.end(), t->name()) == spec.topologies.end())
+      continue;
+    for (const auto& d : inv.devices) {
+      if (!t->accepts(d.kind)) continue;
+      if (!spec.devices.empty() && std::find(spec.devices.begin(), spec.devices.end(), d.name) == spec.devices.end()) continue;
+      if (piece && piece->device != d.name) continue;
+      Job j;
+      j.topology = t;
+      j.device = &d;
+      j.piece = piece;
+      j.device_available = piece ? 1 : (stocked.count(d.name) ? stocked[d.name] : 0);
+      jobs.push_back(j);
+    }
+  }
+  return jobs;
+}
+
+// Runs every job on the machine's cores; the calling thread reports progress.
+std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, Tally& tally,
+                                const Progress& progress) {
+  Searcher searcher(spec, shelf);
+  std::vector<std::vector<Candidate>> out(jobs.size());
+  std::vector<Tally> tallies(jobs.size());
+  std::atomic<std::size_t> next{0}, done{0};
+  auto worker = [&] {
+    for (std::size_t i = next++; i < jobs.size(); i = next++) {
+      out[i] = searcher.run(jobs[i], tallies[i]);
+      ++done;
+    }
+  };
+  const unsigned n = std::max(1u, std::min<unsigned>(std::thread::hardware_concurrency(), static_cast<unsigned>(jobs.size())));
+  std::vector<std::thread> threads;
+  for (unsigned k = 1; k < n; ++k) threads.emplace_back(worker);
+  worker();
+  for (auto& th : threads) th.join();
+  if (progress) progress(static_cast<double>(done), static_cast<double>(jobs.size()), "stages searched");
+  std::vector<Candidate> all;
+  for (std::size_t i = 0; i < jobs.size(); ++i) {
+    tally.merge(tallies[i]);
+    for (auto& c : out[i]) all.push_back(std::move(c));
+  }
+  std::stable_sort(all.begin(), all.end(), [](const Candidate& a, const Candidate& b) {
+    if (a.score != b.score) return a.score < b.score;
+    return a.pieces < b.pieces;
+  });
+  return all;
+}
+
+std::string describe_binding(const std::string& binding, const Spec& spec, const Tally& t) {
+  if (binding == "gain")
+    return fmt::format("no stage reaches a gain of {:.3g} into {}: the largest any stocked device reaches is {:.3g}",
+                       spec.gain, units::format_value(spec.load_ohm, units::Unit::ohm), t.best_gain);
+  if (binding == "swing")
+    return fmt::format("no stage swings {:.3g} Vpp at every corner: the best reaches {:.3g} Vpp at nominal",
+                       spec.swing_vpp.value_or(0), 2 * t.best_swing);
+  if (binding == "zin")
+    return fmt::format("no stage keeps its input impedance above {}: the best reaches {}",
+                       units::format_value(spec.zin_min_ohm, units::Unit::ohm), units::format_value(t.best_zin, units::Unit::ohm));
+  if (binding == "current") return "every stage that works draws more than the current limit";
+  if (binding == "band") return "no stage stays flat within 1 dB across the band at every corner";
+  if (binding == "bias") return "no stage holds its transistor in the active region at every corner";
+  if (binding == "stock") return "the stages that would work need more pieces than the shelf holds";
+  if (binding == "capacitor")
+    return "the shelf holds no capacitor large enough, or rated high enough, for the band and the supply (" +
+           t.capacitor_need + ")";
+  if (binding == "rating") return "every stage that works runs a part beyond its rating";
+  if (binding == "polarity") return "every stage that works would reverse-bias an electrolytic";
+  return "nothing on the shelf makes a working stage for this request";
+}
+
+}  // namespace
+
+std::string candidate_id(const Candidate& c, int copies) {
+  std::string key = fmt::format("{}|{}|{}|{}", c.topology->name(), c.device.name, c.piece ? c.piece->label : "", copies);
+  for (const auto& rp : c.parts) {
+    key += "|" + rp.role + "=";
+    for (std::size_t k = 0; k < rp.combo.count; ++k) key += fmt::format("{}:{},", rp.combo.group[k], rp.values[k]);
+  }
+  return fmt::format("s{:08x}", static_cast<std::uint32_t>(fnv1a(key) ^ (fnv1a(key) >> 32)));
+}
+
+DesignResult design(const Spec& spec, const Inventory& inv, const Progress& progress) {
+  validate(spec);
+  const auto start = std::chrono::steady_clock::now();
+  DesignResult r;
+  r.spec = spec;
+  const std::vector<Job> jobs = make_jobs(spec, inv);
+  Shelf::Options so;
+  so.combine = spec.combine;
+  const Shelf shelf(inv.parts, so);
+  Tally tally;
+  std::vector<Candidate> all = run_jobs(spec, shelf, jobs, tally, progress);
+  r.proposals = tally.proposals;
+  r.evaluations = tally.evaluations;
+  // Drop near-duplicates (same id), keep the top K, then the yield for those.
+  std::unordered_set<std::string> ids;
+  for (auto& c : all) {
+    c.id = candidate_id(c, spec.copies);
+    if (!ids.insert(c.id).second) continue;
+    r.candidates.push_back(std::move(c));
+    if (static_cast<int>(r.candidates.size()) >= spec.top) break;
+  }
+  for (std::size_t i = 0; i < r.candidates.size(); ++i) {
+    auto& c = r.candidates[i];
+    c.rank = static_cast<int>(i) + 1;
+    c.yield = detail::monte_carlo(c, spec);
+    r.evaluations += spec.mc_samples;
+    if (progress) progress(static_cast<double>(i + 1), static_cast<double>(r.candidates.size()), "Monte Carlo");
+  }
+  if (r.candidates.empty()) {
+    // Which constraint stopped the most candidates (those that got furthest count first:
+    // a stage that works at nominal but not at a corner), and what purchases would help.
+    const auto& stops = tally.corner_failures.empty() ? tally.failures : tally.corner_failures;
+    std::string binding = "gain";
+    long most = -1;
+    for (const auto& [k, v] : stops)
+      if (v > most) {
+        most = v;
+        binding = k;
+      }
+    if (tally.proposals == 0) binding = jobs.empty() ? "devices" : "gain";
+    r.diagnosis.binding = binding;
+    r.diagnosis.detail = jobs.empty() ? "no stocked transistor fits the chosen topologies and device filters"
+                                      : describe_binding(binding, spec, tally);
+    if (!tally.corner_failures.empty())
+      r.diagnosis.detail += "; stages that work at nominal fail at the worst-case corners of the device spread, "
+                            "tolerances or supply (a measured piece, --piece, narrows the spread)";
+    auto list = [](const std::map<std::string, long>& m) {
+      std::string out;
+      for (const auto& [k, v] : m) out += fmt::format("{}{} {}", out.empty() ? "" : ", ", v, k);
+      return out;
+    };
+    if (!tally.failures.empty() || !tally.corner_failures.empty())
+      r.diagnosis.detail += fmt::format(" ({} stages proposed; stopped at nominal: {}; at the corners: {})",
+                                        tally.proposals, tally.failures.empty() ? "none" : list(tally.failures),
+                                        tally.corner_failures.empty() ? "none" : list(tally.corner_failures));
+    if (!jobs.empty()) {
+      Shelf::Options po = so;
+      po.add_purchases = true;
+      po.purchase_volts = std::max(50.0, 2.0 * spec.supply_hi_v);
+      const Shelf market(inv.parts, po);
+      Tally t2;
+      std::vector<Candidate> bought = run_jobs(spec, market, jobs, t2, {});
+      std::stable_sort(bought.begin(), bought.end(), [](const Candidate& a, const Candidate& b) {
+        return std::make_pair(a.purchases, a.score) < std::make_pair(b.purchases, b.score);
+      });
+      if (!bought.empty()) {
+        Candidate& best = bought.front();
+        best.id = candidate_id(best, spec.copies);
+        for (const auto& rp : best.parts) {
+          if (!rp.combo.purchase) continue;
+          for (std::size_t k = 0; k < rp.combo.count; ++k) {
+            const auto& g = market.groups()[rp.combo.group[k]];
+            if (!g.purchase) continue;
+            r.diagnosis.suggestions.push_back(fmt::format(
+                "buy {} x {} {}{} for {} of {} with {}", spec.copies,
+                units::format_value(g.value, g.kind == store::PartKind::resistor ? units::Unit::ohm : units::Unit::farad),
+                units::format_tolerance(g.tol),
+                g.kind == store::PartKind::capacitor ? fmt::format(" {}V {}", g.rating, g.dielectric) : std::string(),
+                rp.role, best.topology->name(), best.device.name));
+          }
+        }
+        r.diagnosis.with_purchases = best;
+      }
+    }
+  }
+  r.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return r;
+}
+
+}  // namespace shelfstage::synth

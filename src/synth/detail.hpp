@@ -1,0 +1,23 @@
+// Internals shared by the synthesizer's files.
+#pragma once
+#include <string>
+
+#include "shelfstage/synth/design.hpp"
+
+namespace shelfstage::synth::detail {
+
+stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices::PieceFigures& f, double celsius);
+stages::Conditions conditions(const Spec& spec, double supply, double celsius);
+/// The first hard constraint a performance breaks ("bias", "swing", "current", "zin",
+/// "band"), or empty.
+std::string violation(const Spec& spec, const stages::Performance& p);
+/// The nominal gain is within the spec's gain window.
+bool gain_ok(const Spec& spec, double gain);
+/// Power and voltage ratings and electrolytic polarity against one operating point.
+std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p);
+/// Fills c.worst and c.error_worst; returns the first violated constraint or empty.
+std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations);
+/// Fraction of Monte Carlo builds meeting the spec.
+double monte_carlo(const Candidate& c, const Spec& spec);
+
+}  // namespace shelfstage::synth::detail

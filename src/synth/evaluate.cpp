@@ -1,0 +1,219 @@
+// Corners and yield of one candidate: the device spread's corners, the parts' tolerance
+// extremes, the supply range and the temperature range; Monte Carlo builds for the yield.
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <random>
+
+#include "detail.hpp"
+
+namespace shelfstage::synth {
+
+void Range::add(double v) {
+  if (empty) {
+    min = max = v;
+    empty = false;
+  } else {
+    min = std::min(min, v);
+    max = std::max(max, v);
+  }
+}
+
+namespace detail {
+
+stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices::PieceFigures& f, double celsius) {
+  stages::Transistor q;
+  q.kind = s.record().kind;
+  if (devices::is_jfet(q.kind))
+    q.jfet = s.jfet(f, celsius);
+  else
+    q.bjt = s.bjt(f, celsius);
+  return q;
+}
+
+stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
+  stages::Conditions c;
+  c.supply_v = supply;
+  c.load_ohm = spec.load_ohm;
+  c.source_ohm = spec.source_ohm;
+  c.celsius = celsius;
+  if (spec.band_hz) {
+    c.band_lo_hz = spec.band_hz->first;
+    c.band_hi_hz = spec.band_hz->second;
+  }
+  c.hd2_peak_v = spec.swing_vpp ? *spec.swing_vpp / 2 : 1.0;
+  return c;
+}
+
+std::string violation(const Spec& spec, const stages::Performance& p) {
+  if (!p.valid || !p.active) return "bias";
+  if (spec.swing_vpp && p.swing_peak_v < *spec.swing_vpp / 2) return "swing";
+  if (spec.max_current_a && p.supply_current_a > *spec.max_current_a) return "current";
+  if (p.zin_ohm < spec.zin_min_ohm) return "zin";
+  if (spec.band_hz && (p.loss_lo_db > 1.0 || p.loss_hi_db > 1.0)) return "band";
+  return {};
+}
+
+bool gain_ok(const Spec& spec, double gain) { return std::abs(std::abs(gain) / spec.gain - 1.0) <= spec.gain_tol; }
+
+std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p) {
+  const double peak = spec.swing_vpp ? *spec.swing_vpp / 2 : p.swing_peak_v;
+  for (const auto& s : p.stress) {
+    const auto& role = c.topology->roles()[s.role];
+    const RolePart* part = nullptr;
+    for (const auto& rp : c.parts)
+      if (rp.role == role.name) part = &rp;
+    if (!part) continue;
+    if (role.kind == 'R') {
+      // Common practice: a resistor runs at no more than half its rating; an unstated
+      // rating is taken as 0.25 W.
+      const double rating = part->rating > 0 ? part->rating : 0.25;
+      if (s.power_w > 0.5 * rating) return fmt::format("rating: {} dissipates {:.3g} W", role.name, s.power_w);
+    } else {
+      if (part->rating > 0 && part->rating < 1.25 * (s.dc_v + peak))
+        return fmt::format("rating: {} holds {:.3g} V DC", role.name, s.dc_v);
+      if (part->polarised && !part->plus_net.empty() && s.dc_v > 0.05 && s.plus_net != part->plus_net)
+        return fmt::format("polarity: {} would be reverse-biased at a corner", role.name);
+    }
+  }
+  return {};
+}
+
+namespace {
+
+// Values with each role at its bound in the direction that moves a metric up (+1) or down.
+stages::Values pushed(const Candidate& c, const std::vector<int>& dir, int sense) {
+  stages::Values v = c.values;
+  const auto roles = c.topology->roles();
+  for (const auto& rp : c.parts) {
+    const std::size_t i = c.topology->role_index(rp.role);
+    if (i >= roles.size() || dir[i] == 0) continue;
+    v[i] = dir[i] * sense > 0 ? rp.combo.hi : rp.combo.lo;
+  }
+  return v;
+}
+
+}  // namespace
+
+// NOTES (worst case):
+//  1. Device: the spread's corner pieces and its nominal piece; supply: both ends;
+//     temperature: both ends when a range is given.
+//  2. Parts: for each metric (|gain|, bias current, swing), the sign of its change with each
+//     part across that part's bounds, taken once at nominal; at every device, supply and
+//     temperature corner the parts are then set all one way and all the other way. The
+//     metric's extremes over a box are at such vertices when each part moves it one way.
+//  3. Node voltages, impedances and corners are ranged over every point evaluated.
+//  4. Hard constraints must hold at every point evaluated; ratings are checked at nominal
+//     parts on every corner.
+std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations) {
+  const auto& t = *c.topology;
+  const devices::DeviceSpread spread = spread_of(c);
+  const double t_nom = spec.temp_nominal_c();
+  const stages::Conditions nom_cond = conditions(spec, spec.supply_nominal_v(), t_nom);
+  const stages::Transistor q_nom = make_transistor(spread, spread.nominal(), t_nom);
+  const auto roles = t.roles();
+
+  // Directions of the three metrics with each part.
+  std::vector<int> d_gain(roles.size(), 0), d_cur(roles.size(), 0), d_swing(roles.size(), 0);
+  for (const auto& rp : c.parts) {
+    const std::size_t i = t.role_index(rp.role);
+    stages::Values lo = c.values, hi = c.values;
+    lo[i] = rp.combo.lo;
+    hi[i] = rp.combo.hi;
+    const auto pl = t.evaluate(lo, q_nom, nom_cond), ph = t.evaluate(hi, q_nom, nom_cond);
+    evaluations += 2;
+    auto sgn = [](double a, double b) { return b > a ? 1 : (b < a ? -1 : 0); };
+    d_gain[i] = sgn(std::abs(pl.gain), std::abs(ph.gain));
+    d_cur[i] = sgn(pl.bias_current_a, ph.bias_current_a);
+    d_swing[i] = sgn(pl.swing_peak_v, ph.swing_peak_v);
+  }
+  const stages::Values sets[6] = {c.values,           pushed(c, d_gain, +1), pushed(c, d_gain, -1),
+                                  pushed(c, d_cur, +1), pushed(c, d_cur, -1),  pushed(c, d_swing, -1)};
+
+  std::vector<devices::PieceFigures> figs = spread.corners();
+  figs.push_back(spread.nominal());
+  std::vector<double> supplies = {spec.supply_lo_v};
+  if (spec.supply_hi_v > spec.supply_lo_v) supplies.push_back(spec.supply_hi_v);
+  std::vector<double> temps = {t_nom};
+  if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
+
+  Worst w;
+  std::string failed;
+  c.error_worst = 0;
+  for (const auto& f : figs) {
+    for (double temp : temps) {
+      const stages::Transistor q = make_transistor(spread, f, temp);
+      for (double vs : supplies) {
+        const stages::Conditions cond = conditions(spec, vs, temp);
+        for (int k = 0; k < 6; ++k) {
+          const auto p = t.evaluate(sets[k], q, cond, k == 0 ? stages::Detail::full : stages::Detail::core);
+          ++evaluations;
+          ++w.evaluations;
+          if (failed.empty()) failed = violation(spec, p);
+          if (!p.valid) continue;
+          w.gain.add(p.gain);
+          w.bias_current.add(p.bias_current_a);
+          w.swing_peak.add(p.swing_peak_v);
+          w.v_in.add(p.v_in);
+          w.v_common.add(p.v_common);
+          w.v_out.add(p.v_out);
+          w.zin.add(p.zin_ohm);
+          w.zout.add(p.zout_ohm);
+          w.f_low.add(p.f_low_hz);
+          w.f_high.add(p.f_high_hz);
+          w.supply_current.add(p.supply_current_a);
+          w.loss_lo_db.add(p.loss_lo_db);
+          w.loss_hi_db.add(p.loss_hi_db);
+          c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
+          if (k == 0 && failed.empty() && vs == spec.supply_hi_v) failed = check_ratings(spec, c, p);
+        }
+      }
+    }
+  }
+  c.worst = w;
+  return failed;
+}
+
+double monte_carlo(const Candidate& c, const Spec& spec) {
+  if (spec.mc_samples <= 0) return 0;
+  const auto& t = *c.topology;
+  const devices::DeviceSpread spread = spread_of(c);
+  const auto pieces = spread.samples(static_cast<std::size_t>(spec.mc_samples), spec.seed);
+  std::mt19937_64 rng(spec.seed ^ 0x9e3779b97f4a7c15ULL);
+  std::uniform_real_distribution<double> u(0.0, 1.0);
+  const double t_lo = spec.temp_c ? spec.temp_c->first : spec.temp_nominal_c();
+  const double t_hi = spec.temp_c ? spec.temp_c->second : spec.temp_nominal_c();
+  int good = 0;
+  for (const auto& f : pieces) {
+    // Parts uniform within their bounds (a flat distribution over the tolerance band).
+    stages::Values v = c.values;
+    for (const auto& rp : c.parts) {
+      const std::size_t i = t.role_index(rp.role);
+      v[i] = rp.combo.lo + (rp.combo.hi - rp.combo.lo) * u(rng);
+    }
+    const double supply = spec.supply_lo_v + (spec.supply_hi_v - spec.supply_lo_v) * u(rng);
+    const double temp = t_lo + (t_hi - t_lo) * u(rng);
+    const auto p = t.evaluate(v, make_transistor(spread, f, temp), conditions(spec, supply, temp));
+    if (violation(spec, p).empty() && gain_ok(spec, p.gain)) ++good;
+  }
+  return static_cast<double>(good) / static_cast<double>(pieces.size());
+}
+
+}  // namespace detail
+
+devices::DeviceSpread spread_of(const Candidate& c) {
+  return c.piece ? devices::DeviceSpread(c.device, *c.piece) : devices::DeviceSpread(c.device);
+}
+
+void evaluate_candidate(Candidate& c, const Spec& spec) {
+  long n = 0;
+  const devices::DeviceSpread spread = spread_of(c);
+  c.conditions = detail::conditions(spec, spec.supply_nominal_v(), spec.temp_nominal_c());
+  c.nominal_device = detail::make_transistor(spread, spread.nominal(), spec.temp_nominal_c());
+  c.nominal = c.topology->evaluate(c.values, c.nominal_device, c.conditions, stages::Detail::full);
+  c.error_nominal = std::abs(c.nominal.gain) / spec.gain - 1.0;
+  detail::evaluate_worst(c, spec, n);
+  c.yield = detail::monte_carlo(c, spec);
+}
+
+}  // namespace shelfstage::synth
