@@ -51,6 +51,19 @@ std::string parse_error_text(const CLI::App& app, const CLI::ParseError& e) {
   return e.what() + hint;
 }
 
+/// Every command's help ends with a note on the root's options, which CLI11 shows only in
+/// the root's help but which work after any command.
+void note_global_options(CLI::App& app, bool is_root) {
+  const auto subs = app.get_subcommands([](CLI::App*) { return true; });
+  if (!is_root && subs.empty()) {
+    std::string footer = app.get_footer();
+    if (!footer.empty()) footer += "\n";
+    footer += "Also: --db FILE picks the stock database; --json prints one JSON document.";
+    app.footer(footer);
+  }
+  for (CLI::App* sub : subs) note_global_options(*sub, false);
+}
+
 }  // namespace
 }  // namespace detail
 
@@ -73,6 +86,7 @@ void setup_root(CLI::App& app, Context& ctx, const std::string& version_text) {
 }
 
 int run_app(CLI::App& app, Context& ctx, int argc, const char* const* argv) {
+  detail::note_global_options(app, true);
   try {
     app.parse(argc, argv);
     return 0;

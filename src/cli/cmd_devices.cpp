@@ -105,31 +105,31 @@ void run_devices_add(const DevicesAddOptions& o, Context& ctx) {
 void setup_devices_add(CLI::App& devices_cmd, Context& ctx) {
   auto o = std::make_shared<DevicesAddOptions>();
   CLI::App* cmd = devices_cmd.add_subcommand("add", "Describe a transistor type from its datasheet");
-  cmd->add_option("NAME", o->name, "The type's name as written on the bag (what stock lines refer to)")
+  cmd->add_option("NAME", o->name, "The type's name as written on the bag (what stock lines refer to)")->type_name("")
       ->required();
-  cmd->add_option("--kind", o->kind, "NJFET, PJFET, NPN or PNP")->required();
+  cmd->add_option("--kind", o->kind, "NJFET, PJFET, NPN or PNP")->type_name("KIND")->required();
   const char* jfet = "JFET (datasheet figures)";
-  cmd->add_option("--idss", o->idss, "IDSS range in amperes, MIN..MAX: 1m..5m")->group(jfet);
-  cmd->add_option("--idss-typ", o->idss_typ, "Typical IDSS, when the datasheet gives one")->group(jfet);
-  cmd->add_option("--vp", o->vp, "VGS(off) range, signed as on the datasheet: -0.5..-3")->group(jfet);
-  cmd->add_option("--vp-typ", o->vp_typ, "Typical VGS(off)")->group(jfet);
-  cmd->add_option("--lambda", o->lambda, "Channel-length modulation, 1/V: 0.005")->group(jfet);
-  cmd->add_option("--cgs", o->cgs, "Gate-source capacitance: 4.5p")->group(jfet);
-  cmd->add_option("--cgd", o->cgd, "Gate-drain capacitance: 1.5p")->group(jfet);
-  cmd->add_option("--tc-idss", o->tc_idss, "IDSS temperature coefficient, fraction per kelvin (default -0.003)")
+  cmd->add_option("--idss", o->idss, "IDSS range in amperes, MIN..MAX: 1m..5m")->type_name("MIN..MAX")->group(jfet);
+  cmd->add_option("--idss-typ", o->idss_typ, "Typical IDSS, when the datasheet gives one")->type_name("A")->group(jfet);
+  cmd->add_option("--vp", o->vp, "VGS(off) range, signed as on the datasheet: -0.5..-3")->type_name("MIN..MAX")->group(jfet);
+  cmd->add_option("--vp-typ", o->vp_typ, "Typical VGS(off)")->type_name("V")->group(jfet);
+  cmd->add_option("--lambda", o->lambda, "Channel-length modulation, 1/V: 0.005")->type_name("1/V")->group(jfet);
+  cmd->add_option("--cgs", o->cgs, "Gate-source capacitance: 4.5p")->type_name("F")->group(jfet);
+  cmd->add_option("--cgd", o->cgd, "Gate-drain capacitance: 1.5p")->type_name("F")->group(jfet);
+  cmd->add_option("--tc-idss", o->tc_idss, "IDSS temperature coefficient, fraction per kelvin (default -0.003)")->type_name("1/K")
       ->group(jfet);
-  cmd->add_option("--tc-vp", o->tc_vp, "|VP| temperature coefficient, volts per kelvin (default 0.002)")
+  cmd->add_option("--tc-vp", o->tc_vp, "|VP| temperature coefficient, volts per kelvin (default 0.002)")->type_name("V/K")
       ->group(jfet);
   const char* bjt = "BJT (datasheet figures)";
-  cmd->add_option("--hfe", o->hfe, "hFE range, MIN..MAX: 110..450")->group(bjt);
-  cmd->add_option("--hfe-typ", o->hfe_typ, "Typical hFE")->group(bjt);
-  cmd->add_option("--is", o->is, "Saturation current IS in amperes: 1e-14 (default)")->group(bjt);
-  cmd->add_option("--vaf", o->vaf, "Early voltage VAF in volts: 80 (default 100)")->group(bjt);
-  cmd->add_option("--cje", o->cje, "Base-emitter capacitance: 6p")->group(bjt);
-  cmd->add_option("--cjc", o->cjc, "Base-collector capacitance: 3p")->group(bjt);
-  cmd->add_option("--vce-sat", o->vce_sat, "Saturation edge VCE(sat) used for swing, volts (default 0.2)")
+  cmd->add_option("--hfe", o->hfe, "hFE range, MIN..MAX: 110..450")->type_name("MIN..MAX")->group(bjt);
+  cmd->add_option("--hfe-typ", o->hfe_typ, "Typical hFE")->type_name("NUMBER")->group(bjt);
+  cmd->add_option("--is", o->is, "Saturation current IS in amperes: 1e-14 (default)")->type_name("A")->group(bjt);
+  cmd->add_option("--vaf", o->vaf, "Early voltage VAF in volts: 80 (default 100)")->type_name("V")->group(bjt);
+  cmd->add_option("--cje", o->cje, "Base-emitter capacitance: 6p")->type_name("F")->group(bjt);
+  cmd->add_option("--cjc", o->cjc, "Base-collector capacitance: 3p")->type_name("F")->group(bjt);
+  cmd->add_option("--vce-sat", o->vce_sat, "Saturation edge VCE(sat) used for swing, volts (default 0.2)")->type_name("V")
       ->group(bjt);
-  cmd->add_option("--note", o->note, "Free text kept with the type");
+  cmd->add_option("--note", o->note, "Free text kept with the type")->type_name("TEXT");
   cmd->add_flag("--replace", o->replace, "Overwrite the figures of a type already in the list");
   cmd->footer(
       "Give the datasheet's guaranteed range: designs are checked over the whole spread.\n"
@@ -198,7 +198,7 @@ void run_devices_import(const DevicesImportOptions& o, Context& ctx) {
 void setup_devices_import(CLI::App& devices_cmd, Context& ctx) {
   auto o = std::make_shared<DevicesImportOptions>();
   CLI::App* cmd = devices_cmd.add_subcommand("import", "Add or replace transistor types (or measured pieces) from CSV");
-  cmd->add_option("FILE", o->file, "The CSV file; - reads standard input")->required();
+  cmd->add_option("FILE", o->file, "The CSV file; - reads standard input")->type_name("")->required();
   cmd->add_flag("--pieces", o->pieces, "The file holds transistors measured on the bench, not types");
   cmd->footer(
       "Types: columns name, kind (NJFET, PJFET, NPN, PNP); for JFETs idss_min, idss_max,\n"
@@ -218,6 +218,11 @@ void setup_devices_import(CLI::App& devices_cmd, Context& ctx) {
 void setup_devices(CLI::App& parent, Context& ctx) {
   CLI::App* cmd = parent.add_subcommand("devices", "The transistor types you stock, as their datasheets describe them");
   cmd->require_subcommand(1);
+  cmd->footer(
+      "A device type holds the datasheet's ranges (IDSS and VGS(off) for a JFET, hFE for a BJT)\n"
+      "and a few model figures; designs are checked across the whole range. A measured piece\n"
+      "narrows the range to the bench reading. Stock lines of transistors name a type.\n"
+      "Run `shelfstage devices COMMAND --help` for each command.");
   setup_devices_add(*cmd, ctx);
   setup_devices_list(*cmd, ctx);
   setup_devices_import(*cmd, ctx);

@@ -115,20 +115,21 @@ void run_stock_add(const StockAddOptions& o, Context& ctx) {
 void setup_stock_add(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockAddOptions>();
   CLI::App* cmd = stock.add_subcommand("add", "Put pieces on the shelf (a new line, or more of an existing one)");
-  cmd->add_option("KIND", o->kind, "R, C, NJFET, PJFET, NPN or PNP")->required();
+  cmd->add_option("KIND", o->kind, "R, C, NJFET, PJFET, NPN or PNP")->type_name("")->required();
   cmd->add_option("VALUE", o->value,
                   "R: ohms, C: farads, in SI or IEC 60062 notation (4.7k, 4k7, 100n, 2u2);\n"
                   "a transistor: its device name from `shelfstage devices list`")
+      ->type_name("")
       ->required();
-  cmd->add_option("QTY", o->qty, "How many pieces (0 records a value you are out of)")->required();
-  cmd->add_option("--tol", o->tol, "Tolerance: 5%, 1%, or -20/+80% for asymmetric (R and C)");
+  cmd->add_option("QTY", o->qty, "How many pieces (0 records a value you are out of)")->type_name("")->required();
+  cmd->add_option("--tol", o->tol, "Tolerance: 5%, 1%, or -20/+80% for asymmetric (R and C)")->type_name("TOL");
   cmd->add_option("--power", o->power, "Resistor power rating in watts: 0.25, 0.6, 1")->type_name("W");
   cmd->add_option("--volts", o->volts, "Capacitor voltage rating: 6.3, 16, 50")->type_name("V");
-  cmd->add_option("--dielectric", o->dielectric, "Capacitor dielectric: C0G, X7R, film, electrolytic, tantalum");
-  cmd->add_option("--bin", o->bin, "Where the pieces live: drawer, bag or box label (A6, B12)");
-  cmd->add_option("--package", o->package, "Package note: 0207 axial, 5 mm radial, TO-92");
-  cmd->add_option("--note", o->note, "Free text kept with the line");
-  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: added by hand)");
+  cmd->add_option("--dielectric", o->dielectric, "Capacitor dielectric: C0G, X7R, film, electrolytic, tantalum")->type_name("TYPE");
+  cmd->add_option("--bin", o->bin, "Where the pieces live: drawer, bag or box label (A6, B12)")->type_name("BIN");
+  cmd->add_option("--package", o->package, "Package note: 0207 axial, 5 mm radial, TO-92")->type_name("TEXT");
+  cmd->add_option("--note", o->note, "Free text kept with the line")->type_name("TEXT");
+  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: added by hand)")->type_name("TEXT");
   cmd->footer(
       "Pieces of the same kind, value, tolerance, ratings, dielectric, package and bin join\n"
       "the existing line; anything different is a new line. Every change is written to the\n"
@@ -186,8 +187,8 @@ void run_stock_list(const StockListOptions& o, Context& ctx) {
 void setup_stock_list(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockListOptions>();
   CLI::App* cmd = stock.add_subcommand("list", "Show what is on the shelf, grouped by kind");
-  cmd->add_option("--kind", o->kind, "Only R, C, NJFET, PJFET, NPN, PNP, or JFET / BJT for both polarities");
-  cmd->add_option("--bin", o->bin, "Only this bin");
+  cmd->add_option("--kind", o->kind, "Only R, C, NJFET, PJFET, NPN, PNP, or JFET / BJT for both polarities")->type_name("KIND");
+  cmd->add_option("--bin", o->bin, "Only this bin")->type_name("BIN");
   cmd->add_flag("--low", o->low, fmt::format("Only lines with {} or fewer pieces available (to reorder)", kLowMark));
   cmd->footer(fmt::format(
       "Values print in notation with their unit (4.7kΩ, 100nF). QTY is on hand, RESERVED is\n"
@@ -223,7 +224,7 @@ void run_stock_import(const StockImportOptions& o, Context& ctx) {
 void setup_stock_import(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockImportOptions>();
   CLI::App* cmd = stock.add_subcommand("import", "Add the lines of a stock CSV file (all or nothing)");
-  cmd->add_option("FILE", o->file, "The CSV file; - reads standard input")->required();
+  cmd->add_option("FILE", o->file, "The CSV file; - reads standard input")->type_name("")->required();
   cmd->footer(
       "The first row names the columns, in any order: kind, value, qty (required) and tol,\n"
       "power, volts, dielectric, bin, package, note. kind is R, C, NJFET, PJFET, NPN or PNP;\n"
@@ -283,10 +284,10 @@ void run_stock_adjust(const StockAdjustOptions& o, Context& ctx) {
 void setup_stock_adjust(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockAdjustOptions>();
   CLI::App* cmd = stock.add_subcommand("adjust", "Correct the count of one line after a recount or a loss");
-  cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN] such as R:4k7@A6")
+  cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN] such as R:4k7@A6")->type_name("")
       ->required();
-  cmd->add_option("DELTA", o->delta, "Pieces to add (+5) or take away (-3)")->required();
-  cmd->add_option("--reason", o->reason, "Why, for the ledger: recount, lost, used in a repair")->required();
+  cmd->add_option("DELTA", o->delta, "Pieces to add (+5) or take away (-3)")->type_name("")->required();
+  cmd->add_option("--reason", o->reason, "Why, for the ledger: recount, lost, used in a repair")->type_name("TEXT")->required();
   cmd->footer(
       "The count never goes below zero or below what is reserved for planned builds.\n"
       "  shelfstage stock adjust 23 -3 --reason \"used in the tremolo repair\"\n"
@@ -317,8 +318,8 @@ void run_stock_remove(const StockRemoveOptions& o, Context& ctx) {
 void setup_stock_remove(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockRemoveOptions>();
   CLI::App* cmd = stock.add_subcommand("remove", "Take a whole line off the shelf");
-  cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN]")->required();
-  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: taken off the shelf)");
+  cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN]")->type_name("")->required();
+  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: taken off the shelf)")->type_name("TEXT");
   cmd->footer(
       "The pieces go to zero through the ledger, which keeps the line's history; the line no\n"
       "longer shows in `stock list`. Refused while pieces of it are reserved for a build.");
@@ -332,6 +333,11 @@ void setup_stock_remove(CLI::App& stock, Context& ctx) {
 void setup_stock(CLI::App& parent, Context& ctx) {
   CLI::App* stock = parent.add_subcommand("stock", "Add, list, import, export and correct the parts on the shelf");
   stock->require_subcommand(1);
+  stock->footer(
+      "A stock line is one value (or transistor type) in one bin. Name a line by the ID that\n"
+      "`stock list` shows, or by KIND:VALUE[@BIN] (R:4k7@A6, C:100n, NPN:SQ-410).\n"
+      "Every change of a count goes through the ledger with its reason.\n"
+      "Run `shelfstage stock COMMAND --help` for each command.");
   setup_stock_add(*stock, ctx);
   setup_stock_list(*stock, ctx);
   setup_stock_import(*stock, ctx);

@@ -6,6 +6,7 @@
 #include <stdexcept>
 #include <vector>
 
+#include "cli_runner.hpp"
 #include "commands.hpp"
 #include "shelfstage/error.hpp"
 #include "temp_dir.hpp"
@@ -15,34 +16,9 @@ using namespace shelfstage::cli;
 
 namespace {
 
-struct Result {
-  int status = -1;
-  std::string out, err;
-};
+using Result = test::CliResult;
 
-/// Runs the program in-process, as main() does, with extra test-only commands that throw.
-Result run(std::vector<std::string> args, std::string input = "") {
-  std::ostringstream out, err;
-  std::istringstream in(input);
-  Context ctx(out, err, in);
-  CLI::App app{"", "shelfstage"};
-  setup_root(app, ctx, "shelfstage test");
-  setup_init(app, ctx);
-  setup_stock(app, ctx);
-  setup_devices(app, ctx);
-  setup_check(app, ctx);
-  setup_demo(app, ctx);
-  app.add_subcommand("test-infeasible")->callback([] { throw InfeasibleError("not enough 4.7k in stock"); });
-  app.add_subcommand("test-bug")->callback([] { throw std::logic_error("index out of range"); });
-  args.insert(args.begin(), "shelfstage");
-  std::vector<const char*> argv;
-  for (const auto& a : args) argv.push_back(a.c_str());
-  Result r;
-  r.status = run_app(app, ctx, static_cast<int>(argv.size()), argv.data());
-  r.out = out.str();
-  r.err = err.str();
-  return r;
-}
+Result run(std::vector<std::string> args, const std::string& input = "") { return test::run_cli(std::move(args), input); }
 
 int line_count(const std::string& text) {
   int n = 0;
