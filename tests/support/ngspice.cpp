@@ -1,0 +1,154 @@
+// Runs ngspice in batch mode on a scratch netlist and parses the values it prints.
+#include "ngspice.hpp"
+
+#include <array>
+#include <cctype>
+#include <cstdio>
+#include <filesystem>
+#include <fstream>
+#include <random>
+#include <regex>
+#include <sstream>
+#include <stdexcept>
+#include <sys/wait.h>
+
+namespace shelfstage::test {
+
+namespace {
+
+std::string lower(std::string s) {
+  for (char& c : s) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return s;
+}
+
+std::string quote(const std::string& s) {
+  std::string q = "'";
+  for (char c : s) q += c == '\'' ? std::string("'\\''") : std::string(1, c);
+  return q + "'";
+}
+
+// A scratch folder removed when the run is over.
+struct Scratch {
+  std::filesystem::path path;
+  Scratch() {
+    std::random_device rd;
+    path = std::filesystem::temp_directory_path() /
+           ("shelfstage-ngspice-" + std::to_string(rd()) + "-" + std::to_string(rd()));
+    std::filesystem::create_directories(path);
+  }
+  Scratch(const Scratch&) = delete;
+  Scratch& operator=(const Scratch&) = delete;
+  ~Scratch() {
+    std::error_code ec;
+    std::filesystem::remove_all(path, ec);
+  }
+};
+
+}  // namespace
+
+std::string ngspice_program() {
+  const std::string p = SHELFSTAGE_NGSPICE;
+  if (p.empty() || p.ends_with("NOTFOUND"))
+    throw std::runtime_error(
+        "ngspice was not found when the build was configured (SHELFSTAGE_NGSPICE is empty): "
+        "install the Debian package 'ngspice' and configure again");
+  return p;
+}
+
+std::map<std::string, double> parse_values(const std::string& text) {
+  // "name = 1.23e-04" with an optional "at= 5.6e+03" after it (meas max/min).
+  static const std::regex line_re(
+      R"(^\s*([A-Za-z_][A-Za-z0-9_().,#@\[\]:+-]*)\s*=\s*([-+]?[0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?)(?:\s+at\s*=\s*([-+]?[0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?))?\s*$)");
+  std::map<std::string, double> out;
+  std::istringstream in(text);
+  std::string line;
+  std::smatch m;
+  while (std::getline(in, line)) {
+    if (!line.empty() && line.back() == '\r') line.pop_back();
+    if (!std::regex_match(line, m, line_re)) continue;
+    const std::string name = lower(m[1].str());
+    out[name] = std::stod(m[2].str());
+    if (m[3].matched) out[name + ".at"] = std::stod(m[3].str());
+  }
+  return out;
+}
+
+std::map<std::string, std::vector<double>> parse_fourier(const std::string& text) {
+  static const std::regex head_re(R"(^\s*Fourier analysis for\s+(.+?):\s*$)");
+  std::map<std::string, std::vector<double>> out;
+  std::istringstream in(text);
+  std::string line;
+  std::smatch m;
+  while (std::getline(in, line)) {
+    if (!std::regex_match(line, m, head_re)) continue;
+    const std::string name = lower(m[1].str());
+    // Skip to the dashed rule under the column titles, then read "index freq mag phase ...".
+    while (std::getline(in, line) && line.find("--------") == std::string::npos) {
+    }
+    std::vector<double> mags;
+    while (std::getline(in, line)) {
+      std::istringstream row(line);
+      int index = 0;
+      double freq = 0, mag = 0;
+      if (!(row >> index >> freq >> mag)) break;
+      if (index != static_cast<int>(mags.size())) break;
+      mags.push_back(mag);
+    }
+    out[name] = mags;
+  }
+  return out;
+}
+
+double SpiceRun::get(const std::string& name) const {
+  if (auto v = find(name)) return *v;
+  throw std::runtime_error("ngspice printed no value for '" + name + "'; its output:\n" + output +
+                           "\nthe netlist:\n" + netlist);
+}
+
+std::optional<double> SpiceRun::find(const std::string& name) const {
+  const auto it = values.find(lower(name));
+  if (it == values.end()) return std::nullopt;
+  return it->second;
+}
+
+std::vector<std::string> SpiceRun::error_lines() const {
+  std::vector<std::string> bad;
+  std::istringstream in(output);
+  std::string line;
+  while (std::getline(in, line)) {
+    const std::string l = lower(line);
+    if (l.find("error") != std::string::npos || l.find("unknown") != std::string::npos ||
+        l.find("could not") != std::string::npos || l.find("warning") != std::string::npos ||
+        l.find("failed") != std::string::npos)
+      bad.push_back(line);
+  }
+  return bad;
+}
+
+SpiceRun run_ngspice(const std::string& netlist) {
+  const std::string program = ngspice_program();
+  Scratch dir;
+  const auto file = dir.path / "stage.cir";
+  {
+    std::ofstream f(file);
+    f << netlist;
+    if (!f) throw std::runtime_error("cannot write " + file.string());
+  }
+  // Run inside the scratch folder so nothing ngspice might write lands elsewhere.
+  const std::string cmd = "cd " + quote(dir.path.string()) + " && " + quote(program) + " -b stage.cir 2>&1";
+  FILE* pipe = ::popen(cmd.c_str(), "r");
+  if (!pipe) throw std::runtime_error("cannot start " + program);
+  SpiceRun run;
+  run.netlist = netlist;
+
+  std::array<char, 4096> buf{};
+  std::size_t n = 0;
+  while ((n = std::fread(buf.data(), 1, buf.size(), pipe)) > 0) run.output.append(buf.data(), n);
+  const int status = ::pclose(pipe);
+  run.exit_status = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  run.values = parse_values(run.output);
+  run.fourier = parse_fourier(run.output);
+  return run;
+}
+
+}  // namespace shelfstage::test
