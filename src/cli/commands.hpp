@@ -60,6 +60,7 @@ void setup_stock(CLI::App& parent, Context& ctx);
 void setup_devices(CLI::App& parent, Context& ctx);
 void setup_check(CLI::App& parent, Context& ctx);
 void setup_demo(CLI::App& parent, Context& ctx);
+void setup_design(CLI::App& parent, Context& ctx);
 
 /// Writes a JSON document on ctx.out (indented two spaces, then a newline).
 void print_json(Context& ctx, const nlohmann::ordered_json& doc);

@@ -14,5 +14,6 @@ int main(int argc, char** argv) {
   setup_devices(app, ctx);
   setup_check(app, ctx);
   setup_demo(app, ctx);
+  setup_design(app, ctx);
   return run_app(app, ctx, argc, argv);
 }

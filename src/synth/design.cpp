@@ -60,14 +60,6 @@ std::uint64_t fnv1a(const std::string& s) {
   return h;
 }
 
-constexpr double kPiecePoints = 1.0;
-
-double score_of(const Candidate& c) {
-  // README "How candidates are ranked": percent points of gain error, half the nominal
-  // plus the whole worst case, and one point per piece: an extra piece must buy a percent.
-  return 100.0 * (0.5 * std::abs(c.error_nominal) + c.error_worst) + kPiecePoints * c.pieces;
-}
-
 class Searcher {
  public:
   Searcher(const Spec& spec, const Shelf& shelf) : spec_(spec), shelf_(shelf) {}
@@ -180,8 +172,8 @@ class Searcher {
     // Corners only for the most promising (the corner pass costs ~100 evaluations each).
     constexpr std::size_t kKeep = 40;
     std::sort(found.begin(), found.end(), [](const Candidate& a, const Candidate& b) {
-      return 100.0 * std::abs(a.error_nominal) + kPiecePoints * a.pieces <
-             100.0 * std::abs(b.error_nominal) + kPiecePoints * b.pieces;
+      return 100.0 * std::abs(a.error_nominal) + detail::kPiecePoints * a.pieces <
+             100.0 * std::abs(b.error_nominal) + detail::kPiecePoints * b.pieces;
     });
     if (found.size() > kKeep) found.resize(kKeep);
     std::vector<Candidate> kept;
@@ -193,7 +185,8 @@ class Searcher {
       }
       c.nominal = t.evaluate(c.values, q, cond, stages::Detail::full);
       ++tally.evaluations;
-      c.score = score_of(c);
+      c.score = detail::score_of(c);
+      detail::add_cautions(c, spec_);
       kept.push_back(std::move(c));
     }
     return kept;
@@ -208,7 +201,10 @@ class Searcher {
     rp.kind = r.kind;
     rp.combo = combo;
     rp.recipe = shelf_.recipe(combo);
-    for (std::size_t k = 0; k < combo.count; ++k) rp.values.push_back(shelf_.groups()[combo.group[k]].value);
+    for (std::size_t k = 0; k < combo.count; ++k) {
+      rp.values.push_back(shelf_.groups()[combo.group[k]].value);
+      rp.lines.push_back(shelf_.groups()[combo.group[k]].lines);
+    }
     rp.tol = {1.0 - combo.lo / combo.nominal, combo.hi / combo.nominal - 1.0};
     rp.rating = combo.rating;
     rp.dielectric = shelf_.groups()[combo.group[0]].dielectric;
@@ -329,7 +325,8 @@ std::string candidate_id(const Candidate& c, int copies) {
   std::string key = fmt::format("{}|{}|{}|{}", c.topology->name(), c.device.name, c.piece ? c.piece->label : "", copies);
   for (const auto& rp : c.parts) {
     key += "|" + rp.role + "=";
-    for (std::size_t k = 0; k < rp.combo.count; ++k) key += fmt::format("{}:{},", rp.combo.group[k], rp.values[k]);
+    for (std::size_t k = 0; k < rp.values.size(); ++k)
+      key += fmt::format("{:.6g}:{},", rp.values[k], k < rp.lines.size() && !rp.lines[k].empty() ? rp.lines[k].front() : 0);
   }
   return fmt::format("s{:08x}", static_cast<std::uint32_t>(fnv1a(key) ^ (fnv1a(key) >> 32)));
 }

@@ -21,6 +21,10 @@ void Range::add(double v) {
 
 namespace detail {
 
+double score_of(const Candidate& c) {
+  return 100.0 * (0.5 * std::abs(c.error_nominal) + c.error_worst) + kPiecePoints * c.pieces;
+}
+
 stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices::PieceFigures& f, double celsius) {
   stages::Transistor q;
   q.kind = s.record().kind;
@@ -174,6 +178,32 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations) {
   return failed;
 }
 
+std::string describe_net(const Candidate& c, const std::string& net) {
+  if (net == "0") return "ground";
+  if (net == "in") return "input (source) side";
+  if (net == "out") return "output (load) side";
+  if (net == "x") return devices::is_jfet(c.device.kind) ? "RS1-RS2 junction" : "RE1-RE2 junction";
+  if (net == "vdd") return "supply";
+  return net;
+}
+
+void add_cautions(Candidate& c, const Spec& spec) {
+  c.cautions.clear();
+  if (spec.supply_hi_v > 60)
+    c.cautions.push_back(
+        "hazardous voltage: the supply exceeds 60 V DC; work de-energised, discharge capacitors before "
+        "handling, and follow local codes and licensed practice");
+  for (const auto& rp : c.parts) {
+    if (rp.polarised)
+      c.cautions.push_back(fmt::format("{} ({}) is polarised: its + lead goes to the {}; never reverse it",
+                                       rp.designator, rp.role,
+                                       rp.plus_net.empty() ? "higher-voltage side" : describe_net(c, rp.plus_net)));
+    if (rp.rating <= 0)
+      c.cautions.push_back(fmt::format("{} ({}): the stock does not state its {} rating; check it before fitting",
+                                       rp.designator, rp.role, rp.kind == 'R' ? "power" : "voltage"));
+  }
+}
+
 double monte_carlo(const Candidate& c, const Spec& spec) {
   if (spec.mc_samples <= 0) return 0;
   const auto& t = *c.topology;
@@ -213,6 +243,8 @@ void evaluate_candidate(Candidate& c, const Spec& spec) {
   c.nominal = c.topology->evaluate(c.values, c.nominal_device, c.conditions, stages::Detail::full);
   c.error_nominal = std::abs(c.nominal.gain) / spec.gain - 1.0;
   detail::evaluate_worst(c, spec, n);
+  c.score = detail::score_of(c);
+  detail::add_cautions(c, spec);
   c.yield = detail::monte_carlo(c, spec);
 }
 

@@ -185,12 +185,12 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
   };
   for (auto i : idx) make(Join::single, {i});
   if (combine >= 2) {
-    // A partner smaller than 1/1000 of the other changes the value by less than any
-    // tolerance: such pairs are left out.
+    // A partner that moves the value by less than 1 % (a hundredth of the other in series,
+    // a hundred times it in parallel) is lost in the tolerances: such pairs are left out.
     for (std::size_t a = 0; a < idx.size(); ++a) {
       for (std::size_t b = a; b < idx.size(); ++b) {
         const StockGroup &ga = groups_[idx[a]], &gb = groups_[idx[b]];
-        if (gb.value > 1000.0 * ga.value) break;
+        if (gb.value > 100.0 * ga.value) break;
         if (!enough({idx[a], idx[b]})) continue;
         const bool series_ok = kind == store::PartKind::resistor || (!ga.polarised && !gb.polarised);
         if (series_ok) make(Join::series, {idx[a], idx[b]});

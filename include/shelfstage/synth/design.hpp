@@ -1,6 +1,7 @@
 // The synthesizer: complete stages from what is on the shelf, evaluated at nominal and at
 // the worst-case corners of device spread, part tolerances, supply and temperature, ranked.
 #pragma once
+#include <cstdint>
 #include <functional>
 #include <optional>
 #include <string>
@@ -30,6 +31,8 @@ struct RolePart {
   Combo combo;             ///< value, bounds and recipe (groups index Shelf::groups())
   std::string recipe;      ///< "10k+150"
   std::vector<double> values;   ///< nominal value of each piece
+  /// For each piece of the recipe: the stock lines (ids) that hold it, in bin order.
+  std::vector<std::vector<std::int64_t>> lines;
   units::Tolerance tol;         ///< of the combination, from its bounds
   double rating = 0;            ///< W or V of the combination; 0 unknown
   std::string dielectric;       ///< capacitors

@@ -1,0 +1,35 @@
+// Designs as JSON: the request and the candidates exactly as INTERFACE.md states them,
+// plus extension keys; and back again, so a kept design can be shown, picked and built.
+#pragma once
+#include <nlohmann/json.hpp>
+#include <vector>
+
+#include "shelfstage/synth/design.hpp"
+
+namespace shelfstage::report {
+
+using Json = nlohmann::ordered_json;
+
+/// The request in SI: gain, load, supply (number or [low, high]), zin, source_z, band,
+/// swing, max_current, copies; extensions temp, topologies, devices, piece, gain_tol, seed,
+/// samples, combine, top.
+Json spec_json(const synth::Spec& spec);
+/// The request back from spec_json's output (InputError on a malformed document).
+synth::Spec spec_from_json(const nlohmann::json& j);
+
+/// One candidate: rank, id, topology, score, device {name, kind, model}, parts [{role,
+/// designator, value, tol, recipe {join, values}} + extensions], nominal {...}, worst
+/// {[min, max] ...}; extensions yield, pieces, piece, error_nominal, error_worst, cautions.
+Json candidate_json(const synth::Candidate& c);
+
+/// Rebuilds a candidate from candidate_json's output with the current device records and
+/// pieces (InputError when its topology, device or piece is gone). Its figures are not
+/// read back: call synth::evaluate_candidate to compute them afresh.
+synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devices,
+                                     const std::vector<devices::MeasuredPiece>& pieces);
+
+/// The whole `design --json` document: {"schema":1,"spec":{...},"candidates":[...]} and,
+/// when nothing fits, "diagnosis".
+Json design_json(const synth::DesignResult& r);
+
+}  // namespace shelfstage::report

@@ -1,0 +1,27 @@
+// Designs for people: the request on one line, and the ranked candidates as a table a
+// bench engineer can scan (figures on one line, the recipes under them).
+#pragma once
+#include <string>
+
+#include "shelfstage/synth/design.hpp"
+
+namespace shelfstage::report {
+
+/// "gain 10 (20 dB) into 10kΩ from 1kΩ, supply 12 V, Zin ≥ 100kΩ, band 20 Hz..20 kHz, swing 2 Vpp, 1 copy"
+std::string spec_line(const synth::Spec& spec);
+
+/// The ranked candidates: rank, id, topology, device, gain nominal and worst range, bias
+/// current, swing (nominal and worst), band (-3 dB corners), yield, pieces; then each
+/// role with its recipe ("RD 10k+150  RS2 2k2||6k8").
+std::string candidates_table(const synth::DesignResult& r);
+
+/// The roles of one candidate with their recipes on one line.
+std::string recipe_line(const synth::Candidate& c);
+
+/// Why nothing fits, and the purchases that would help, as lines for stderr.
+std::string diagnosis_text(const synth::DesignResult& r);
+
+/// "1.2mA", "-10.0", ... helpers used by the tables.
+std::string fixed3(double v);
+
+}  // namespace shelfstage::report

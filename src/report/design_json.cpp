@@ -1,0 +1,254 @@
+// Designs to JSON and back (INTERFACE.md keys; numbers in plain SI).
+#include "shelfstage/report/design_json.hpp"
+
+#include <fmt/format.h>
+
+#include "shelfstage/error.hpp"
+#include "shelfstage/units/tolerance.hpp"
+
+namespace shelfstage::report {
+
+namespace {
+
+Json pair_or_null(const std::optional<std::pair<double, double>>& p) {
+  if (!p) return nullptr;
+  return Json::array({p->first, p->second});
+}
+
+Json range(const synth::Range& r) {
+  if (r.empty) return nullptr;
+  return Json::array({r.min, r.max});
+}
+
+std::string_view join_name(synth::Join j) {
+  switch (j) {
+    case synth::Join::single: return "single";
+    case synth::Join::series: return "series";
+    case synth::Join::parallel: return "parallel";
+  }
+  return "single";
+}
+
+synth::Join join_from(const std::string& s) {
+  if (s == "series") return synth::Join::series;
+  if (s == "parallel") return synth::Join::parallel;
+  if (s == "single") return synth::Join::single;
+  throw InputError(fmt::format("saved design: recipe join '{}' is not single, series or parallel", s));
+}
+
+// Names of the three device-terminal nodes as INTERFACE.md spells them.
+std::array<std::string, 3> node_keys(const synth::Candidate& c) {
+  if (devices::is_jfet(c.device.kind)) return {"gate", "source", "drain"};
+  return {"base", "emitter", "collector"};
+}
+
+}  // namespace
+
+Json spec_json(const synth::Spec& s) {
+  Json j;
+  j["gain"] = s.gain;
+  j["load"] = s.load_ohm;
+  if (s.supply_lo_v == s.supply_hi_v)
+    j["supply"] = s.supply_lo_v;
+  else
+    j["supply"] = Json::array({s.supply_lo_v, s.supply_hi_v});
+  j["zin"] = s.zin_min_ohm;
+  j["source_z"] = s.source_ohm;
+  j["band"] = pair_or_null(s.band_hz);
+  j["swing"] = s.swing_vpp ? Json(*s.swing_vpp) : Json(nullptr);
+  j["max_current"] = s.max_current_a ? Json(*s.max_current_a) : Json(nullptr);
+  j["copies"] = s.copies;
+  j["temp"] = pair_or_null(s.temp_c);
+  j["topologies"] = s.topologies;
+  j["devices"] = s.devices;
+  j["piece"] = s.piece ? Json(*s.piece) : Json(nullptr);
+  j["gain_tol"] = s.gain_tol;
+  j["top"] = s.top;
+  j["combine"] = s.combine;
+  j["seed"] = s.seed;
+  j["samples"] = s.mc_samples;
+  return j;
+}
+
+synth::Spec spec_from_json(const nlohmann::json& j) {
+  try {
+    synth::Spec s;
+    s.gain = j.at("gain").get<double>();
+    s.load_ohm = j.at("load").get<double>();
+    if (j.at("supply").is_array()) {
+      s.supply_lo_v = j["supply"][0].get<double>();
+      s.supply_hi_v = j["supply"][1].get<double>();
+    } else {
+      s.supply_lo_v = s.supply_hi_v = j["supply"].get<double>();
+    }
+    s.zin_min_ohm = j.at("zin").get<double>();
+    s.source_ohm = j.at("source_z").get<double>();
+    if (j.contains("band") && j["band"].is_array()) s.band_hz = std::make_pair(j["band"][0].get<double>(), j["band"][1].get<double>());
+    if (j.contains("swing") && j["swing"].is_number()) s.swing_vpp = j["swing"].get<double>();
+    if (j.contains("max_current") && j["max_current"].is_number()) s.max_current_a = j["max_current"].get<double>();
+    s.copies = j.at("copies").get<int>();
+    if (j.contains("temp") && j["temp"].is_array()) s.temp_c = std::make_pair(j["temp"][0].get<double>(), j["temp"][1].get<double>());
+    if (j.contains("topologies")) s.topologies = j["topologies"].get<std::vector<std::string>>();
+    if (j.contains("devices")) s.devices = j["devices"].get<std::vector<std::string>>();
+    if (j.contains("piece") && j["piece"].is_string()) s.piece = j["piece"].get<std::string>();
+    s.gain_tol = j.value("gain_tol", 0.10);
+    s.top = j.value("top", 5);
+    s.combine = j.value("combine", 2);
+    s.seed = j.value("seed", std::uint64_t{1});
+    s.mc_samples = j.value("samples", 500);
+    return s;
+  } catch (const nlohmann::json::exception& e) {
+    throw InputError(fmt::format("saved design: the request does not read back ({})", e.what()));
+  }
+}
+
+Json candidate_json(const synth::Candidate& c) {
+  Json j;
+  j["rank"] = c.rank;
+  j["id"] = c.id;
+  j["topology"] = std::string(c.topology->name());
+  j["score"] = c.score;
+  Json dev;
+  dev["name"] = c.device.name;
+  dev["kind"] = std::string(devices::kind_name(c.device.kind));
+  Json model;
+  if (devices::is_jfet(c.device.kind)) {
+    model["idss"] = c.nominal_device.jfet.idss_a;
+    model["vp"] = devices::polarity(c.device.kind) * -c.nominal_device.jfet.vp_abs_v;
+    model["lambda"] = c.nominal_device.jfet.lambda_per_v;
+  } else {
+    model["is"] = c.nominal_device.bjt.is_a;
+    model["bf"] = c.nominal_device.bjt.bf;
+    model["vaf"] = c.nominal_device.bjt.vaf_v;
+  }
+  dev["model"] = model;
+  j["device"] = dev;
+  j["piece"] = c.piece ? Json(c.piece->label) : Json(nullptr);
+  Json parts = Json::array();
+  for (const auto& rp : c.parts) {
+    Json p;
+    p["role"] = rp.role;
+    p["designator"] = rp.designator;
+    p["value"] = rp.combo.nominal;
+    p["tol"] = units::format_tolerance(rp.tol);
+    p["recipe"] = {{"join", join_name(rp.combo.join)}, {"values", rp.values}};
+    p["kind"] = std::string(1, rp.kind);
+    p["text"] = rp.recipe;
+    p["bounds"] = Json::array({rp.combo.lo, rp.combo.hi});
+    p["rating"] = rp.rating > 0 ? Json(rp.rating) : Json(nullptr);
+    if (rp.kind == 'C') p["dielectric"] = rp.dielectric;
+    p["polarised"] = rp.polarised;
+    p["plus_net"] = rp.plus_net.empty() ? Json(nullptr) : Json(rp.plus_net);
+    p["lines"] = rp.lines;
+    parts.push_back(p);
+  }
+  j["parts"] = parts;
+  const auto keys = node_keys(c);
+  const auto& n = c.nominal;
+  j["nominal"] = {{"gain", n.gain},
+                  {"bias_current", n.bias_current_a},
+                  {"nodes", {{keys[0], n.v_in}, {keys[1], n.v_common}, {keys[2], n.v_out}}},
+                  {"zin", n.zin_ohm},
+                  {"zout", n.zout_ohm},
+                  {"f_low", n.f_low_hz},
+                  {"f_high", n.f_high_hz},
+                  {"swing_peak", n.swing_peak_v},
+                  {"supply_current", n.supply_current_a},
+                  {"swing_up", n.swing_up_v},
+                  {"swing_down", n.swing_down_v},
+                  {"loss_low_db", n.loss_lo_db},
+                  {"loss_high_db", n.loss_hi_db},
+                  {"hd2", n.hd2},
+                  {"noise", n.noise_v_rthz}};
+  const auto& w = c.worst;
+  j["worst"] = {{"gain", range(w.gain)},
+                {"bias_current", range(w.bias_current)},
+                {"swing_peak", range(w.swing_peak)},
+                {"nodes", {{keys[0], range(w.v_in)}, {keys[1], range(w.v_common)}, {keys[2], range(w.v_out)}}},
+                {"zin", range(w.zin)},
+                {"zout", range(w.zout)},
+                {"f_low", range(w.f_low)},
+                {"f_high", range(w.f_high)},
+                {"supply_current", range(w.supply_current)},
+                {"evaluations", w.evaluations}};
+  j["yield"] = c.yield ? Json(*c.yield) : Json(nullptr);
+  j["pieces"] = c.pieces;
+  j["error_nominal"] = c.error_nominal;
+  j["error_worst"] = c.error_worst;
+  j["cautions"] = c.cautions;
+  return j;
+}
+
+synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
+                                     const std::vector<devices::MeasuredPiece>& pieces) {
+  synth::Candidate c;
+  try {
+    const std::string topo = j.at("topology").get<std::string>();
+    c.topology = stages::find_topology(topo);
+    if (!c.topology) throw InputError(fmt::format("saved design: topology '{}' is unknown to this shelfstage", topo));
+    c.id = j.at("id").get<std::string>();
+    c.rank = j.value("rank", 0);
+    const std::string dev = j.at("device").at("name").get<std::string>();
+    const auto it = std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return d.name == dev; });
+    if (it == devs.end()) throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev));
+    c.device = *it;
+    if (j.contains("piece") && j["piece"].is_string()) {
+      const std::string label = j["piece"].get<std::string>();
+      const auto pit = std::find_if(pieces.begin(), pieces.end(), [&](const auto& p) { return p.label == label; });
+      if (pit == pieces.end()) throw InputError(fmt::format("saved design: measured piece '{}' is gone", label));
+      c.piece = *pit;
+    }
+    for (const auto& p : j.at("parts")) {
+      synth::RolePart rp;
+      rp.role = p.at("role").get<std::string>();
+      rp.designator = p.at("designator").get<std::string>();
+      rp.kind = p.at("kind").get<std::string>().at(0);
+      rp.recipe = p.value("text", std::string());
+      rp.values = p.at("recipe").at("values").get<std::vector<double>>();
+      rp.combo.join = join_from(p.at("recipe").at("join").get<std::string>());
+      rp.combo.count = static_cast<std::uint8_t>(rp.values.size());
+      rp.combo.nominal = p.at("value").get<double>();
+      rp.combo.lo = p.at("bounds")[0].get<double>();
+      rp.combo.hi = p.at("bounds")[1].get<double>();
+      rp.tol = {1.0 - rp.combo.lo / rp.combo.nominal, rp.combo.hi / rp.combo.nominal - 1.0};
+      rp.rating = p["rating"].is_number() ? p["rating"].get<double>() : 0.0;
+      rp.combo.rating = rp.rating;
+      rp.dielectric = p.value("dielectric", std::string());
+      rp.polarised = p.value("polarised", false);
+      rp.combo.polarised = rp.polarised;
+      if (p.contains("plus_net") && p["plus_net"].is_string()) rp.plus_net = p["plus_net"].get<std::string>();
+      rp.lines = p.at("lines").get<std::vector<std::vector<std::int64_t>>>();
+      const std::size_t i = c.topology->role_index(rp.role);
+      if (i >= c.topology->roles().size())
+        throw InputError(fmt::format("saved design: {} has no role {}", c.topology->name(), rp.role));
+      c.values[i] = rp.combo.nominal;
+      c.parts.push_back(rp);
+    }
+    c.pieces = j.value("pieces", 0);
+    c.score = j.value("score", 0.0);
+  } catch (const nlohmann::json::exception& e) {
+    throw InputError(fmt::format("saved design: the candidate does not read back ({})", e.what()));
+  }
+  return c;
+}
+
+Json design_json(const synth::DesignResult& r) {
+  Json j;
+  j["schema"] = 1;
+  j["spec"] = spec_json(r.spec);
+  Json cands = Json::array();
+  for (const auto& c : r.candidates) cands.push_back(candidate_json(c));
+  j["candidates"] = cands;
+  if (r.candidates.empty()) {
+    Json d;
+    d["binding"] = r.diagnosis.binding;
+    d["detail"] = r.diagnosis.detail;
+    d["suggestions"] = r.diagnosis.suggestions;
+    d["with_purchases"] = r.diagnosis.with_purchases ? candidate_json(*r.diagnosis.with_purchases) : Json(nullptr);
+    j["diagnosis"] = d;
+  }
+  j["search"] = {{"proposals", r.proposals}, {"evaluations", r.evaluations}, {"seconds", r.seconds}};
+  return j;
+}
+
+}  // namespace shelfstage::report

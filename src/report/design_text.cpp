@@ -1,0 +1,101 @@
+// The design tables people read.
+#include "shelfstage/report/design_text.hpp"
+
+#include <cmath>
+#include <fmt/format.h>
+
+#include "shelfstage/report/table.hpp"
+#include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/tolerance.hpp"
+
+namespace shelfstage::report {
+
+namespace {
+using units::format_value;
+using units::Unit;
+}  // namespace
+
+std::string fixed3(double v) {
+  // Three significant figures, plain decimals (gains read better as 10.0 than 10).
+  if (v == 0) return "0";
+  const int mag = static_cast<int>(std::floor(std::log10(std::abs(v))));
+  const int decimals = std::max(0, 2 - mag);
+  return fmt::format("{:.{}f}", v, decimals);
+}
+
+std::string spec_line(const synth::Spec& s) {
+  std::string out = fmt::format("gain {} ({:.1f} dB) into {}", fixed3(s.gain), units::to_db(s.gain),
+                                format_value(s.load_ohm, Unit::ohm));
+  if (s.source_ohm > 0) out += fmt::format(" from {}", format_value(s.source_ohm, Unit::ohm));
+  if (s.supply_lo_v == s.supply_hi_v)
+    out += fmt::format(", supply {}", format_value(s.supply_lo_v, Unit::volt));
+  else
+    out += fmt::format(", supply {}..{}", format_value(s.supply_lo_v, Unit::volt), format_value(s.supply_hi_v, Unit::volt));
+  if (s.zin_min_ohm > 0) out += fmt::format(", Zin ≥ {}", format_value(s.zin_min_ohm, Unit::ohm));
+  if (s.band_hz)
+    out += fmt::format(", band {}..{}", format_value(s.band_hz->first, Unit::hertz), format_value(s.band_hz->second, Unit::hertz));
+  if (s.swing_vpp) out += fmt::format(", swing {} Vpp", format_value(*s.swing_vpp));
+  if (s.max_current_a) out += fmt::format(", ≤ {}", format_value(*s.max_current_a, Unit::ampere));
+  if (s.temp_c) out += fmt::format(", {:g}..{:g} °C", s.temp_c->first, s.temp_c->second);
+  out += fmt::format(", {} cop{}", s.copies, s.copies == 1 ? "y" : "ies");
+  if (s.piece) out += fmt::format(", piece {}", *s.piece);
+  return out;
+}
+
+std::string recipe_line(const synth::Candidate& c) {
+  std::string out;
+  for (const auto& rp : c.parts) out += fmt::format("{}{} {}", out.empty() ? "" : "  ", rp.role, rp.recipe);
+  return out;
+}
+
+std::string candidates_table(const synth::DesignResult& r) {
+  TextTable t({{"#", Align::right},
+               {"id"},
+               {"stage"},
+               {"device"},
+               {"gain", Align::right},
+               {"worst", Align::right},
+               {"bias", Align::right},
+               {"swing", Align::right},
+               {"band (-3 dB)", Align::right},
+               {"yield", Align::right},
+               {"pcs", Align::right}});
+  std::string out;
+  for (const auto& c : r.candidates) {
+    const auto& n = c.nominal;
+    const auto& w = c.worst;
+    std::string device = c.device.name + (c.piece ? " [" + c.piece->label + "]" : "");
+    t.add_row({std::to_string(c.rank), c.id, std::string(c.topology->name()), device, fixed3(n.gain),
+               fmt::format("{}..{}", fixed3(w.gain.min), fixed3(w.gain.max)), format_value(n.bias_current_a, Unit::ampere),
+               fmt::format("{} ({})", format_value(n.swing_peak_v, Unit::volt), format_value(w.swing_peak.min)),
+               fmt::format("{}..{}", format_value(n.f_low_hz, Unit::hertz), format_value(n.f_high_hz, Unit::hertz)),
+               c.yield ? fmt::format("{:.0f}%", *c.yield * 100) : "", std::to_string(c.pieces)});
+  }
+  // Render the figures, then put each candidate's recipes under its line.
+  const std::string table = t.render();
+  std::size_t pos = 0, line = 0;
+  while (pos < table.size()) {
+    const std::size_t end = table.find('\n', pos);
+    out += table.substr(pos, end - pos + 1);
+    if (line >= 2 && line - 2 < r.candidates.size()) out += "      " + recipe_line(r.candidates[line - 2]) + "\n";
+    pos = end + 1;
+    ++line;
+  }
+  return out;
+}
+
+std::string diagnosis_text(const synth::DesignResult& r) {
+  std::string out = fmt::format("error: no stage meets the request: {}\n", r.diagnosis.detail);
+  if (!r.diagnosis.suggestions.empty()) {
+    out += "what would make it feasible:\n";
+    for (const auto& s : r.diagnosis.suggestions) out += "  " + s + "\n";
+    if (r.diagnosis.with_purchases) {
+      const auto& c = *r.diagnosis.with_purchases;
+      out += fmt::format("  then: {} with {}, gain {} ({}..{} worst case): {}\n", c.topology->name(), c.device.name,
+                         fixed3(c.nominal.gain), fixed3(c.worst.gain.min), fixed3(c.worst.gain.max), recipe_line(c));
+    }
+  }
+  return out;
+}
+
+}  // namespace shelfstage::report
