@@ -12,6 +12,7 @@
 #include <map>
 #include <mutex>
 #include <thread>
+#include <unordered_map>
 #include <unordered_set>
 
 #include "detail.hpp"
@@ -81,28 +82,26 @@ class Searcher {
 
     std::vector<Candidate> found;
     std::unordered_set<std::uint64_t> seen;
+    // Capacitor choices repeat across proposals (the same RG, the same band): remember them.
+    std::unordered_map<std::uint64_t, const Combo*> cap_cache;
     const auto roles = t.roles();
     t.propose(goal, q, cond, shelf_, [&](const stages::Values& proposal) {
       ++tally.proposals;
       std::string key(reinterpret_cast<const char*>(proposal.v.data()), roles.size() * sizeof(double));
       if (!seen.insert(fnv1a(key)).second) return;
-      Candidate c;
-      c.topology = &t;
-      c.device = *job.device;
-      if (job.piece) c.piece = *job.piece;
-      c.nominal_device = q;
-      c.conditions = cond;
-      c.values = proposal;
-      // Resistors: the recipes for the proposed values.
+      // A light draft first: values and the combos that make them; a Candidate (strings,
+      // device record, part list) only for a proposal that works at nominal.
+      stages::Values values = proposal;
+      std::array<const Combo*, stages::kMaxRoles> combos{};
+      std::array<std::string_view, stages::kMaxRoles> plus{};
       for (std::size_t i = 0; i < roles.size(); ++i) {
         if (roles[i].kind != 'R' || !(proposal[i] > 0)) continue;
-        const Combo* combo = shelf_.resistor(proposal[i]);
-        if (!combo) return;
-        add_part(c, i, *combo);
+        combos[i] = shelf_.resistor(proposal[i]);
+        if (!combos[i]) return;
       }
       // Capacitors: sized for the band, rated for the DC they hold at the highest supply.
-      const stages::Values targets = t.capacitor_targets(c.values, q, cond, goal.f_low_hz);
-      stages::Values trial = c.values;
+      const stages::Values targets = t.capacitor_targets(values, q, cond, goal.f_low_hz);
+      stages::Values trial = values;
       for (std::size_t i = 0; i < roles.size(); ++i)
         if (roles[i].kind == 'C') trial[i] = targets[i];
       const auto pre = t.evaluate(trial, q, cond_hi, stages::Detail::stress);
@@ -114,18 +113,22 @@ class Searcher {
       for (std::size_t i = 0; i < roles.size(); ++i) {
         if (roles[i].kind != 'C' || !(targets[i] > 0)) continue;
         double dc = 0;
-        std::string_view plus;
-        for (const auto& s : pre.stress)
-          if (s.role == i) {
-            dc = s.dc_v;
-            plus = s.plus_net;
+        for (const auto& st : pre.stress)
+          if (st.role == i) {
+            dc = st.dc_v;
+            plus[i] = st.plus_net;
           }
         const double peak = goal.swing_peak_v > 0 ? goal.swing_peak_v : pre.swing_peak_v;
         // An electrolytic only where it sits on a DC bias (common practice: a few tenths of
         // a volt forward at least; the in-band signal across a coupling or bypass capacitor
         // is small). The corner pass then checks it is never reversed.
         const bool allow_pol = roles[i].polar_ok && dc >= 0.3;
-        const Combo* combo = shelf_.capacitor_at_least(targets[i], dc + peak, allow_pol);
+        const auto qk = static_cast<std::uint64_t>(std::llround(std::log(targets[i]) * 200.0)) * 1000003ULL +
+                        static_cast<std::uint64_t>(std::llround((dc + peak) * 4.0)) * 2 + (allow_pol ? 1 : 0);
+        auto hit = cap_cache.find(qk);
+        const Combo* combo = hit != cap_cache.end()
+                                 ? hit->second
+                                 : cap_cache.emplace(qk, shelf_.capacitor_at_least(targets[i], dc + peak, allow_pol)).first->second;
         if (!combo) {
           ++tally.failures["capacitor"];
           tally.capacitor_need = fmt::format("{} of {} needs at least {} {}rated above {:.3g} V", roles[i].name, t.name(),
@@ -133,39 +136,47 @@ class Searcher {
                                              allow_pol ? "" : "non-polarised ", 1.25 * (dc + peak));
           return;
         }
-        add_part(c, i, *combo);
-        c.values[i] = combo->nominal;
-        if (combo->polarised) c.parts.back().plus_net = std::string(plus);
+        combos[i] = combo;
+        values[i] = combo->nominal;
       }
-      std::sort(c.parts.begin(), c.parts.end(),
-                [&](const RolePart& a, const RolePart& b) { return t.role_index(a.role) < t.role_index(b.role); });
       // One quantity pool: every role and every copy.
-      if (!pool_ok(c, job)) {
+      if (!pool_ok(combos, job)) {
         ++tally.failures["stock"];
         return;
       }
-      c.nominal = t.evaluate(c.values, q, cond, stages::Detail::core);
+      const stages::Performance nominal = t.evaluate(values, q, cond, stages::Detail::core);
       ++tally.evaluations;
-      const std::string v = detail::violation(spec_, c.nominal);
-      if (c.nominal.valid && c.nominal.active) {
-        tally.best_gain = std::max(tally.best_gain, std::abs(c.nominal.gain));
-        tally.best_swing = std::max(tally.best_swing, c.nominal.swing_peak_v);
-        tally.best_zin = std::max(tally.best_zin, c.nominal.zin_ohm);
+      const std::string v = detail::violation(spec_, nominal);
+      if (nominal.valid && nominal.active) {
+        tally.best_gain = std::max(tally.best_gain, std::abs(nominal.gain));
+        tally.best_swing = std::max(tally.best_swing, nominal.swing_peak_v);
+        tally.best_zin = std::max(tally.best_zin, nominal.zin_ohm);
       }
       if (!v.empty()) {
         ++tally.failures[v];
         return;
       }
-      if (!detail::gain_ok(spec_, c.nominal.gain)) {
+      if (!detail::gain_ok(spec_, nominal.gain)) {
         ++tally.failures["gain"];
         return;
       }
-      c.error_nominal = std::abs(c.nominal.gain) / spec_.gain - 1.0;
+      Candidate c;
+      c.topology = &t;
+      c.device = *job.device;
+      if (job.piece) c.piece = *job.piece;
+      c.nominal_device = q;
+      c.conditions = cond;
+      c.values = values;
+      c.nominal = nominal;
       c.pieces = 1;
-      for (const auto& rp : c.parts) {
-        c.pieces += rp.combo.count;
-        if (rp.combo.purchase) c.purchases += rp.combo.count;
+      for (std::size_t i = 0; i < roles.size(); ++i) {
+        if (!combos[i]) continue;
+        add_part(c, i, *combos[i]);
+        if (combos[i]->polarised) c.parts.back().plus_net = std::string(plus[i]);
+        c.pieces += combos[i]->count;
+        if (combos[i]->purchase) c.purchases += combos[i]->count;
       }
+      c.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
       found.push_back(std::move(c));
     });
 
@@ -200,11 +211,7 @@ class Searcher {
     rp.designator = std::string(r.designator);
     rp.kind = r.kind;
     rp.combo = combo;
-    rp.recipe = shelf_.recipe(combo);
-    for (std::size_t k = 0; k < combo.count; ++k) {
-      rp.values.push_back(shelf_.groups()[combo.group[k]].value);
-      rp.lines.push_back(shelf_.groups()[combo.group[k]].lines);
-    }
+    for (std::size_t k = 0; k < combo.count; ++k) rp.values.push_back(shelf_.groups()[combo.group[k]].value);
     rp.tol = {1.0 - combo.lo / combo.nominal, combo.hi / combo.nominal - 1.0};
     rp.rating = combo.rating;
     rp.dielectric = shelf_.groups()[combo.group[0]].dielectric;
@@ -212,13 +219,22 @@ class Searcher {
     c.parts.push_back(rp);
   }
 
-  bool pool_ok(const Candidate& c, const Job& job) const {
+  bool pool_ok(const std::array<const Combo*, stages::kMaxRoles>& combos, const Job& job) const {
     if (job.device_available < spec_.copies) return false;
-    std::map<std::uint32_t, int> need;
-    for (const auto& rp : c.parts)
-      for (std::size_t k = 0; k < rp.combo.count; ++k) need[rp.combo.group[k]] += spec_.copies;
-    for (const auto& [g, n] : need)
-      if (shelf_.groups()[g].available < n) return false;
+    // At most 3 x kMaxRoles groups: a flat list beats a map here.
+    std::array<std::pair<std::uint32_t, int>, 3 * stages::kMaxRoles> need{};
+    std::size_t n = 0;
+    for (const Combo* c : combos) {
+      if (!c) continue;
+      for (std::size_t k = 0; k < c->count; ++k) {
+        std::size_t j = 0;
+        while (j < n && need[j].first != c->group[k]) ++j;
+        if (j == n) need[n++] = {c->group[k], 0};
+        need[j].second += spec_.copies;
+      }
+    }
+    for (std::size_t j = 0; j < n; ++j)
+      if (shelf_.groups()[need[j].first].available < need[j].second) return false;
     return true;
   }
 
@@ -321,6 +337,15 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
 
 }  // namespace
 
+// The recipe text and the stock lines of each part: only for candidates that are shown.
+static void finalize(Candidate& c, const Shelf& shelf) {
+  for (auto& rp : c.parts) {
+    rp.recipe = shelf.recipe(rp.combo);
+    rp.lines.clear();
+    for (std::size_t k = 0; k < rp.combo.count; ++k) rp.lines.push_back(shelf.groups()[rp.combo.group[k]].lines);
+  }
+}
+
 std::string candidate_id(const Candidate& c, int copies) {
   std::string key = fmt::format("{}|{}|{}|{}", c.topology->name(), c.device.name, c.piece ? c.piece->label : "", copies);
   for (const auto& rp : c.parts) {
@@ -347,6 +372,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   // Drop near-duplicates (same id), keep the top K, then the yield for those.
   std::unordered_set<std::string> ids;
   for (auto& c : all) {
+    finalize(c, shelf);
     c.id = candidate_id(c, spec.copies);
     if (!ids.insert(c.id).second) continue;
     r.candidates.push_back(std::move(c));
@@ -398,6 +424,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
       });
       if (!bought.empty()) {
         Candidate& best = bought.front();
+        finalize(best, market);
         best.id = candidate_id(best, spec.copies);
         for (const auto& rp : best.parts) {
           if (!rp.combo.purchase) continue;

@@ -6,6 +6,7 @@
 #include <cmath>
 #include <fmt/format.h>
 #include <map>
+#include <thread>
 #include <tuple>
 
 #include "shelfstage/units/eseries.hpp"
@@ -140,10 +141,15 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
         add(store::PartKind::capacitor, m * dec, {0.20, 0.20}, options.purchase_volts, "electrolytic", true);
     add(store::PartKind::capacitor, 1e-3, {0.20, 0.20}, options.purchase_volts, "electrolytic", true);
   }
+  // Resistors and capacitors are independent: build them on two threads.
+  std::thread caps([&] { build(c_, store::PartKind::capacitor, options.combine); });
   build(r_, store::PartKind::resistor, options.combine);
-  build(c_, store::PartKind::capacitor, options.combine);
-  for (const Combo& c : r_)
+  caps.join();
+  for (const Combo& c : r_) {
     if (r_values_.empty() || !same(r_values_.back(), c.nominal)) r_values_.push_back(c.nominal);
+    if (c.count == 1 && !c.purchase && (r_singles_.empty() || !same(r_singles_.back(), c.nominal)))
+      r_singles_.push_back(c.nominal);
+  }
 }
 
 void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
@@ -220,8 +226,8 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
       }
   }
   std::sort(out.begin(), out.end(), [](const Combo& a, const Combo& b) {
-    return std::make_tuple(a.nominal, a.purchase, a.count, (a.hi - a.lo) / a.nominal) <
-           std::make_tuple(b.nominal, b.purchase, b.count, (b.hi - b.lo) / b.nominal);
+    if (a.nominal != b.nominal) return a.nominal < b.nominal;
+    return std::make_tuple(a.purchase, a.count, a.hi - a.lo) < std::make_tuple(b.purchase, b.count, b.hi - b.lo);
   });
 }
 
@@ -238,19 +244,9 @@ void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) cons
   }
   // Always offer the nearest single parts on either side as well: one piece beats two
   // when the difference hides in the tolerance.
-  const auto lb = std::lower_bound(r_.begin(), r_.end(), target, [](const Combo& c, double t) { return c.nominal < t; });
-  for (auto up = lb; up != r_.end(); ++up)
-    if (up->count == 1 && !up->purchase) {
-      out.push_back(up->nominal);
-      break;
-    }
-  for (auto dn = lb; dn != r_.begin();) {
-    --dn;
-    if (dn->count == 1 && !dn->purchase) {
-      out.push_back(dn->nominal);
-      break;
-    }
-  }
+  const auto s1 = std::lower_bound(r_singles_.begin(), r_singles_.end(), target);
+  if (s1 != r_singles_.end()) out.push_back(*s1);
+  if (s1 != r_singles_.begin()) out.push_back(*(s1 - 1));
 }
 
 void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>& out) const {

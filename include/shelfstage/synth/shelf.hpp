@@ -81,6 +81,7 @@ class Shelf final : public stages::ValueSource {
   std::vector<StockGroup> groups_;
   std::vector<Combo> r_, c_;       // sorted by nominal, then pieces
   std::vector<double> r_values_;   // distinct resistor nominals, sorted
+  std::vector<double> r_singles_;  // distinct single-part stocked resistor values, sorted
 };
 
 }  // namespace shelfstage::synth
