@@ -97,8 +97,11 @@ const store::Part& select_part(const PartSelector& selector, const std::vector<s
       if (!which.empty()) which += ", ";
       which += fmt::format("{} ({})", p->id, describe_part(*p));
     }
-    throw InputError(fmt::format("stock line '{}' matches {} lines: {}; give the line id or add @BIN",
-                                 selector.text, found.size(), which));
+    // @BIN helps only when it was not given and the lines sit in different bins.
+    bool bins_differ = false;
+    for (const auto* p : found) bins_differ = bins_differ || !detail::iequal(p->bin, found.front()->bin);
+    throw InputError(fmt::format("stock line '{}' matches {} lines: {}; give the line id{}", selector.text,
+                                 found.size(), which, !selector.bin && bins_differ ? " or add @BIN" : ""));
   }
   return *found.front();
 }

@@ -78,6 +78,12 @@ TEST_CASE("select_part finds one line, or lists the candidates") {
   CHECK(ambiguous.starts_with("stock line 'R:4k7' matches 2 lines: 1 ("));
   CHECK(ambiguous.find(", 2 (") != std::string::npos);
   CHECK(ambiguous.ends_with("give the line id or add @BIN"));
+  // Two lines in one bin that differ in tolerance: only the id tells them apart.
+  auto precise = part(5, PartKind::resistor, 4700, "A6");
+  precise.tol = units::Tolerance{0.01, 0.01};
+  auto same_bin = shelf;
+  same_bin.push_back(precise);
+  CHECK(message_of([&] { select_part(parse_selector("R:4k7@A6"), same_bin); }).ends_with("give the line id"));
   CHECK(message_of([&] { select_part(parse_selector("9"), shelf); }).starts_with("stock line 9 does not exist"));
   CHECK(message_of([&] { select_part(parse_selector("R:10k"), shelf); })
             .starts_with("stock line 'R:10k' matches nothing"));
