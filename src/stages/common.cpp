@@ -270,12 +270,28 @@ void unique_values(std::vector<double>& v) {
           v.end());
 }
 
-double triode_edge_excursion(double beta, double id0, double vds0, double k, double r_ac) {
-  if (beta * vds0 * vds0 <= id0) return 0.0;  // already at or past the edge
-  const double a2 = beta * k * k, a1 = -(2.0 * beta * k * vds0 + 1.0 / r_ac), a0 = beta * vds0 * vds0 - id0;
-  const double disc = std::max(0.0, a1 * a1 - 4.0 * a2 * a0);
-  // Smaller root, written to avoid cancellation.
-  return (2.0 * a0) / (-a1 + std::sqrt(disc));
+double triode_edge_excursion(double beta0, double lambda, double id0, double vds0, double k, double r_ac) {
+  // The quadratic in a for a fixed lambda factor, the factor then moved to the edge's VDS;
+  // lambda*VDS is a small correction, so a few rounds settle it.
+  double beta = beta0 * (1.0 + lambda * std::max(0.0, vds0));
+  double a = 0.0;
+  for (int round = 0; round < 4; ++round) {
+    if (beta * vds0 * vds0 <= id0) return 0.0;  // already at or past the edge
+    const double a2 = beta * k * k, a1 = -(2.0 * beta * k * vds0 + 1.0 / r_ac), a0 = beta * vds0 * vds0 - id0;
+    const double disc = std::max(0.0, a1 * a1 - 4.0 * a2 * a0);
+    // Smaller root, written to avoid cancellation.
+    a = (2.0 * a0) / (-a1 + std::sqrt(disc));
+    if (lambda == 0.0) break;
+    beta = beta0 * (1.0 + lambda * std::max(0.0, vds0 - k * a));
+  }
+  return a;
+}
+
+double gate_conduction_excursion(double beta, double lambda, double vp_abs, double id0, double vds0, double k,
+                                 double r_ac) {
+  const double i_sat = beta * vp_abs * vp_abs;  // IDSS without lambda
+  const double a = (i_sat * (1.0 + lambda * vds0) - id0) / (1.0 / r_ac + i_sat * lambda * k);
+  return std::max(0.0, a);
 }
 
 double cgs_at(const devices::JfetInstance& q, double vgs) {

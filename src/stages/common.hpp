@@ -81,8 +81,14 @@ inline double g_of(double r_ohm) { return r_ohm > 0 ? 1.0 / r_ohm : 1e9; }
 
 /// The output excursion a at which a JFET leaves saturation when its drain-source voltage
 /// falls by k*a while its current rises by a/r_ac: the smaller root of
-/// beta*(vds0 - k*a)^2 = id0 + a/r_ac (the triode edge VDS = VGS - VP of the square law).
-double triode_edge_excursion(double beta, double id0, double vds0, double k, double r_ac);
+/// beta*(1 + lambda*VDS)*(vds0 - k*a)^2 = id0 + a/r_ac at VDS = vds0 - k*a (the triode edge
+/// VDS = VGS - VP of the square law; beta is BETA without the lambda factor, which is
+/// taken at the edge: with several volts of swing it differs from its value at the bias).
+double triode_edge_excursion(double beta, double lambda_per_v, double id0, double vds0, double k, double r_ac);
+/// The output excursion at which VGS reaches 0 (gate conduction) under the same load line:
+/// beta*VP^2*(1 + lambda*(vds0 - k*a)) = id0 + a/r_ac, solved for a (>= 0).
+double gate_conduction_excursion(double beta, double lambda_per_v, double vp_abs_v, double id0, double vds0, double k,
+                                 double r_ac);
 
 /// Depletion capacitances of a JFET at a bias (N frame voltages).
 double cgs_at(const devices::JfetInstance& q, double vgs_v);

@@ -4,6 +4,7 @@
 #include <numbers>
 
 #include "common.hpp"
+#include "distortion.hpp"
 
 namespace shelfstage::stages::detail {
 
@@ -42,8 +43,9 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
   // Down: the drain falls by a, the current grows by a/RL', the source rises by that
   // current through Rdeg; stop where VDS meets VGS - VP (triode) or VGS reaches 0 (gate
   // conduction).
-  const double down = triode_edge_excursion(b.beta_eff, b.id_a, b.vds_v, 1.0 + r_deg / rl_ac, rl_ac);
-  const double gate_limit = (q.vp_abs_v * q.vp_abs_v * b.beta_eff - b.id_a) * rl_ac;
+  const double kd = 1.0 + r_deg / rl_ac;  // VDS falls by kd per volt of output
+  const double down = triode_edge_excursion(q.beta(), q.lambda_per_v, b.id_a, b.vds_v, kd, rl_ac);
+  const double gate_limit = gate_conduction_excursion(q.beta(), q.lambda_per_v, q.vp_abs_v, b.id_a, b.vds_v, kd, rl_ac);
   p.swing_down_v = std::max(0.0, std::min(down, gate_limit));
   p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
   p.active = b.saturated() && b.vgs_v <= 0.0;
@@ -73,19 +75,14 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
   finish_response(p, std::span<const LfSection>(lf, n), m, c, detail);
 
   if (detail != Detail::core) {
-    // Second-order expansion of ID = BETA*(Vov + vgs)^2*(1 + lambda*VDS) around the bias, with
-    // vgs = v - Rdeg*i and vds = -(RL' + Rdeg)*i: i = g1*v + g2*v^2 with
-    // g1 = gm/D, D = 1 + gm*Rdeg + gds*(RL' + Rdeg), h = 1 - Rdeg*g1 (the share of v across
-    // gate-source) and g2 = (BETA*(1 + lambda*VDS)*h^2 - 2*BETA*Vov*lambda*(RL' + Rdeg)*g1*h)/D.
-    // HD2 = |g2|*v/(2*g1) at v = Vo/(g1*RL'). Without lambda this is Vo/(8*ID*RL'*(1 + gm*Rdeg));
-    // the lambda cross term (the drain swing modulating the channel) lowers it by roughly
+    // Second-order expansion of ID = BETA*(Vov + vgs)^2*(1 + lambda*VDS) on the mid-band
+    // network. In closed form, with vgs = v - Rdeg*i and vds = -(RL' + Rdeg)*i: i = g1*v + g2*v^2,
+    // g1 = gm/D, D = 1 + gm*Rdeg + gds*(RL' + Rdeg), h = 1 - Rdeg*g1,
+    // g2 = (BETA*(1 + lambda*VDS)*h^2 - 2*BETA*Vov*lambda*(RL' + Rdeg)*g1*h)/D, and
+    // HD2 = |g2|*Vo/(2*g1^2*RL'). Without lambda this is Vo/(8*ID*RL'*(1 + gm*Rdeg)); the
+    // lambda cross term (the drain swing modulating the channel) lowers it by roughly
     // 4*lambda*ID*RL', tens of percent for common parts.
-    const double gds = q.beta() * b.vgst_v * b.vgst_v * q.lambda_per_v;
-    const double rt = rl_ac + r_deg;
-    const double den = 1.0 + gm * r_deg + gds * rt;
-    const double g1 = gm / den, h = 1.0 - r_deg * g1;
-    const double g2 = (b.beta_eff * h * h - 2.0 * q.beta() * b.vgst_v * q.lambda_per_v * rt * g1 * h) / den;
-    p.hd2 = std::abs(g2) * c.hd2_peak_v / (2.0 * g1 * g1 * rl_ac);
+    p.hd2 = second_harmonic(m, jfet_second_order(q, b.vgst_v, b.vds_v), c.hd2_peak_v);
     const double kt4 = thermal_v2(1.0, c.celsius);  // 4kT
     const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
     double v2 = kt4 * par(rsig, s.r_gate_ohm);              // source and gate resistors

@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include "common.hpp"
+#include "distortion.hpp"
 
 namespace shelfstage::stages {
 namespace {
@@ -65,8 +66,9 @@ class JfetFollower final : public Topology {
     // VDS meets VGS - VP, or the gate reaches the source (VGS = 0).
     const double r_ac = par(v[RS], c.load_ohm);
     p.swing_down_v = b.id_a * r_ac;
-    const double up = detail::triode_edge_excursion(b.beta_eff, b.id_a, b.vds_v, 1.0, r_ac);
-    const double gate_limit = (j.vp_abs_v * j.vp_abs_v * b.beta_eff - b.id_a) * r_ac;
+    const double up = detail::triode_edge_excursion(j.beta(), j.lambda_per_v, b.id_a, b.vds_v, 1.0, r_ac);
+    const double gate_limit =
+        detail::gate_conduction_excursion(j.beta(), j.lambda_per_v, j.vp_abs_v, b.id_a, b.vds_v, 1.0, r_ac);
     p.swing_up_v = std::max(0.0, std::min(up, gate_limit));
     p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
 
@@ -85,7 +87,9 @@ class JfetFollower final : public Topology {
     detail::finish_response(p, lf, m, c, d);
 
     if (d != Detail::core) {
-      p.hd2 = c.hd2_peak_v / (8.0 * b.id_a * r_ac * (1.0 + gm * r_ac));
+      // Second-order expansion of the square law with lambda on the mid-band network (without
+      // lambda: Vo/(8*ID*RS'*(1 + gm*RS'))).
+      p.hd2 = detail::second_harmonic(m, detail::jfet_second_order(j, b.vgst_v, b.vds_v), c.hd2_peak_v);
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
       double v2 = kt4 * par(rsig, v[RG]);
