@@ -61,6 +61,76 @@ SweepPoint sweep_at(Circuit& h, const Transistor& q, double x, double ic0, const
   return s;
 }
 
+// Mid-band as Performance defines it: every coupling and bypass capacitor a short and every
+// device capacitance open, i.e. the stage with its capacitors held at their DC voltages (AC
+// shorts: `held`), solved at 0 Hz. Gain, input impedance (after the source resistance) and
+// output impedance seen by the load (from the open-circuit and loaded outputs) come from it.
+// (Read instead on the real circuit at some frequency inside the band, the coupling
+// capacitors' reactance adds to a follower's few-ohm output impedance, and a follower's or a
+// low-gain common source's response rises above mid-band toward its upper corner.)
+struct MidBand {
+  double gain = 0, zin_ohm = 0, zout_ohm = 0;
+};
+
+MidBand mid_band(const Circuit& net, const OperatingPoint& op, const circuit::SolverOptions& so, double load_ohm) {
+  Circuit h = held(net, op);
+  const OperatingPoint hop = circuit::solve_dc(h, so);
+  const auto in = *h.find_net(std::string(kNetIn)), sig = *h.find_net(std::string(kNetSignal));
+  const auto out = *h.find_net(std::string(kNetOut));
+  const auto vs = circuit::solve_ac(h, hop, 0.0);
+  MidBand m;
+  m.gain = vs[out].real();
+  const double rsig = h.find("RSIG")->c.value;
+  m.zin_ohm = std::abs(vs[in] / ((vs[sig] - vs[in]) / rsig));
+  // No DC flows in RL (the held output capacitor carries the output's DC), so the operating
+  // point stands with the load removed.
+  h.set_value("RL", 1e12);
+  const auto vo = circuit::solve_ac(h, hop, 0.0);
+  m.zout_ohm = std::abs(load_ohm * (vo[out] / vs[out] - 1.0));
+  return m;
+}
+
+// The -3 dB points relative to the mid-band gain, found outward from the part of the swept
+// response closest to it; 0 where the response does not fall that far within 0.01 Hz..10 GHz.
+struct Band {
+  double f_low_hz = 0, f_high_hz = 0;
+};
+
+Band band_edges(const Circuit& net, const OperatingPoint& op, double mid) {
+  constexpr double kLo = 0.01, kHi = 1e10;
+  const auto out = *net.find_net(std::string(kNetOut));
+  auto mag = [&](double f) { return std::abs(circuit::solve_ac(net, op, f)[out]); };
+  const double target = mid / std::numbers::sqrt2;
+  const std::vector<double> fs = circuit::log_sweep(kLo, kHi, 10);
+  std::vector<double> m(fs.size());
+  std::size_t centre = 0;
+  for (std::size_t i = 0; i < fs.size(); ++i) {
+    m[i] = mag(fs[i]);
+    if (std::abs(std::log(m[i] / mid)) < std::abs(std::log(m[centre] / mid))) centre = i;
+  }
+  auto bisect = [&](double inside, double outside) {
+    for (int i = 0; i < 40; ++i) {
+      const double f = std::sqrt(inside * outside);
+      (mag(f) >= target ? inside : outside) = f;
+    }
+    return std::sqrt(inside * outside);
+  };
+  Band b;
+  for (std::size_t i = centre; i-- > 0;) {
+    if (m[i] < target) {
+      b.f_low_hz = bisect(fs[i + 1], fs[i]);
+      break;
+    }
+  }
+  for (std::size_t i = centre + 1; i < fs.size(); ++i) {
+    if (m[i] < target) {
+      b.f_high_hz = bisect(fs[i - 1], fs[i]);
+      break;
+    }
+  }
+  return b;
+}
+
 }  // namespace
 
 Performance evaluate_exact(const Topology& t, const Values& v, const Transistor& q, const Conditions& c,
@@ -85,38 +155,21 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
     p.active = d.v_main_v > q.bjt.vce_sat_v;
   if (!p.valid) p.problem = "cut off";
 
-  const auto corners = circuit::find_corners(net, op, std::string(kNetOut), 0.01, 1e10);
-  p.gain = corners.mid_gain;
-  p.f_low_hz = corners.f_low_hz;
-  p.f_high_hz = corners.f_high_hz;
+  const MidBand mb = mid_band(net, op, so, c.load_ohm);
+  p.gain = mb.gain;
+  p.zin_ohm = mb.zin_ohm;
+  p.zout_ohm = mb.zout_ohm;
+  const Band band = band_edges(net, op, std::abs(mb.gain));
+  p.f_low_hz = band.f_low_hz;
+  p.f_high_hz = band.f_high_hz;
   {
     const auto out = *net.find_net(std::string(kNetOut));
-    const double mid = std::abs(corners.mid_gain);
+    const double mid = std::abs(mb.gain);
     if (c.band_lo_hz > 0)
       p.loss_lo_db = std::max(0.0, -20.0 * std::log10(std::abs(circuit::solve_ac(net, op, c.band_lo_hz)[out]) / mid));
     if (c.band_hi_hz > 0)
       p.loss_hi_db = std::max(0.0, -20.0 * std::log10(std::abs(circuit::solve_ac(net, op, c.band_hi_hz)[out]) / mid));
   }
-  // Impedances are read well inside the band: far above the coupling corners, far below
-  // the device capacitances' effect.
-  double fm = 1000.0;
-  if (p.f_low_hz > 0) fm = std::max(fm, 30.0 * p.f_low_hz);
-  if (p.f_high_hz > 0) fm = std::min(fm, p.f_high_hz / 300.0);
-  if (p.f_low_hz > 0 && p.f_high_hz > 0 && 30.0 * p.f_low_hz > p.f_high_hz / 300.0)
-    fm = std::sqrt(p.f_low_hz * p.f_high_hz);
-  {
-    const auto vs = circuit::solve_ac(net, op, fm);
-    const auto in = *net.find_net(std::string(kNetIn)), sig = *net.find_net(std::string(kNetSignal));
-    const double rsig = net.find("RSIG")->c.value;
-    const std::complex<double> i_in = (vs[sig] - vs[in]) / rsig;
-    p.zin_ohm = std::abs(vs[in] / i_in);
-    Circuit open = net;
-    open.set_value("RL", 1e12);
-    const auto vo = circuit::solve_ac(open, op, fm);
-    const auto out = *net.find_net(std::string(kNetOut));
-    p.zout_ohm = std::abs(c.load_ohm * (vo[out] / vs[out] - 1.0));
-  }
-
   // Swing: step the input each way until the device leaves its linear region.
   {
     Circuit h = held(net, op);
