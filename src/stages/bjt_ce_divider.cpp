@@ -1,8 +1,11 @@
 // bjt-ce-divider: BJT common emitter, divider bias, split emitter resistor.
 #include <algorithm>
+#include <complex>
 #include <fmt/format.h>
+#include <numbers>
 
 #include "common.hpp"
+#include "distortion.hpp"
 
 namespace shelfstage::stages {
 namespace {
@@ -18,6 +21,41 @@ constexpr Role kRoles[] = {
     {"CE", "C2", 'C', true, true, "x", "0", "bypass across RE2"},
     {"CIN", "C1", 'C', false, true, "base", "in", "input coupling"},
     {"COUT", "C3", 'C', false, true, "collector", "out", "output coupling"},
+};
+
+// The low-frequency response with the input coupling and the emitter bypass solved together:
+// as the bypass fails the emitter impedance Ze rises, and with it the base's input impedance
+// (beta + 1)*Ze, which moves the input coupling corner. Two independent sections miss that
+// (by 10-15 % on f_low when the corners sit close together). ro is neglected here, so the
+// output coupling stays a section of its own:
+//   H(s) = beta/Zb * Zp/(Rsig + 1/(s CIN) + Zp) * s/(s + p_out),
+//   Zb = rpi + (beta + 1)*(RE1 + RE2/(1 + s CE RE2)), Zp = RTh || Zb.
+struct CeLowResponse {
+  double beta = 0, rpi = 0, rth = 0, rsig = 0, re1 = 0, re2 = 0, ce = 0, cin = 0, p_out = 0;
+
+  std::complex<double> input(std::complex<double> ze, std::complex<double> z_cin) const {
+    const std::complex<double> zb = rpi + (beta + 1.0) * ze;
+    const std::complex<double> zp = rth * zb / (rth + zb);
+    return beta / zb * zp / (rsig + z_cin + zp);
+  }
+  /// |H(jw)|^2 relative to mid-band.
+  double h2(double w) const {
+    const std::complex<double> s(0.0, w);
+    const std::complex<double> ze = re1 + re2 / (1.0 + s * ce * re2);
+    const double r = std::abs(input(ze, 1.0 / (s * cin)) / input(re1, 0.0));
+    return r * r * w * w / (w * w + p_out * p_out);
+  }
+  /// The -3 dB frequency, Hz.
+  double corner_hz() const {
+    double hi = std::max({p_out, 1.0 / (cin * (rsig + rth)), 1.0 / (ce * re2)});
+    for (int i = 0; i < 40 && h2(hi) < 0.5; ++i) hi *= 4.0;
+    double lo = hi * 1e-12;
+    for (int i = 0; i < 80; ++i) {
+      const double mid = std::sqrt(lo * hi);
+      (h2(mid) < 0.5 ? lo : hi) = mid;
+    }
+    return std::sqrt(lo * hi) / (2 * std::numbers::pi);
+  }
 };
 
 class BjtCeDivider final : public Topology {
@@ -71,15 +109,25 @@ class BjtCeDivider final : public Topology {
     const double gm = b.gm_s, rpi = b.rpi_ohm, beta = gm * rpi;
     const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
     const double rs2 = par(rsig, rth);  // the base's source resistance
-    const double rib = rpi + (beta + 1.0) * r_deg;
-    p.zin_ohm = par(rth, rib);
-    // Output resistance of the degenerated transistor: ro*(1 + gm*(Rdeg || (rpi + Rs''))).
-    const double r_e = r_deg > 0 ? par(r_deg, rpi + rs2) : 0.0;
-    const double r_dev = b.ro_ohm * (1.0 + gm * r_e) + r_e;
     const double rl_ac = par(v[RC], c.load_ohm);
-    const double rl = par(rl_ac, r_dev);
+    const double ro = b.ro_ohm;
+    // Resistance into the base with ro carrying part of the emitter current, from the
+    // hybrid-pi model with ro (the form textbooks give for the common emitter with an emitter
+    // resistance, e.g. Sedra & Smith, Microelectronic Circuits; cited from memory):
+    // Rib = rpi + (beta + 1)*Rdeg*(ro + RL'/(beta + 1))/(ro + Rdeg + RL').
+    const double rib = std::isinf(ro) ? rpi + (beta + 1.0) * r_deg
+                                      : rpi + (beta + 1.0) * r_deg * (ro + rl_ac / (beta + 1.0)) / (ro + r_deg + rl_ac);
+    p.zin_ohm = par(rth, rib);
+    // Output resistance of the degenerated transistor with a source resistance Rs'' at the
+    // base: ro*(1 + gm*Re'*rpi/(rpi + Rs'')) + Re', Re' = Rdeg || (rpi + Rs'') (the base
+    // moves with the emitter through Rs'', which takes back part of the feedback).
+    const double r_e = r_deg > 0 ? par(r_deg, rpi + rs2) : 0.0;
+    const double r_dev = ro * (1.0 + gm * r_e * rpi / (rpi + rs2)) + r_e;
     const double divider = p.zin_ohm / (p.zin_ohm + c.source_ohm);
-    p.gain = -divider * beta * rl / rib;
+    // Base to collector, exact for the hybrid-pi with ro at mid-band:
+    // vc/vb = -(beta - (Rib - rpi)/ro)*(RL' || ro)/Rib.
+    const double av_base = std::isinf(ro) ? -beta * rl_ac / rib : -(beta - (rib - rpi) / ro) * par(rl_ac, ro) / rib;
+    p.gain = divider * av_base;
     p.zout_ohm = par(v[RC], r_dev);
 
     // Swing: up to cut-off (IC*RAC); down to the edge of saturation, the emitter moving
@@ -107,11 +155,18 @@ class BjtCeDivider final : public Topology {
     m.g_e = detail::g_of(r_deg);
     m.g_c = 1.0 / rl_ac;
     detail::finish_response(p, std::span<const detail::LfSection>(lf, n), m, c, d);
+    if (v[CE] > 0 && v[RE2] > 0) {
+      // The bypass interacts with the input coupling: solve them together (CeLowResponse).
+      const CeLowResponse lr{beta, rpi, rth, c.source_ohm, v[RE1], v[RE2], v[CE], v[CIN], lf[1].pole_rad};
+      if (d == Detail::full) p.f_low_hz = lr.corner_hz();
+      if (c.band_lo_hz > 0)
+        p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz)));
+    }
 
     if (d != Detail::core) {
-      // Effective degeneration for the exponential law includes the base source through beta.
-      const double f = 1.0 + gm * (r_deg + rs2 / (beta + 1.0));
-      p.hd2 = c.hd2_peak_v / (4.0 * b.ic_a * rl_ac * f);
+      // Second-order expansion of the exponential law with the Early effect on the mid-band
+      // network (to first order: Vo/(4*IC*RL'*(1 + gm*(Rdeg + Rs''/(beta + 1))))).
+      p.hd2 = detail::second_harmonic(m, detail::bjt_second_order(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm), c.hd2_peak_v);
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double q2 = 2.0 * devices::kCharge;
       const double dd = 1.0 + (rs2 + r_deg) / rpi + gm * r_deg;

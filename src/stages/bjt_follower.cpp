@@ -5,6 +5,7 @@
 #include <fmt/format.h>
 
 #include "common.hpp"
+#include "distortion.hpp"
 
 namespace shelfstage::stages {
 namespace {
@@ -17,6 +18,41 @@ constexpr Role kRoles[] = {
     {"RE", "R3", 'R', false, false, "", "", "emitter to ground: sets the current and drives the load"},
     {"CIN", "C1", 'C', false, true, "base", "in", "input coupling"},
     {"COUT", "C2", 'C', false, true, "emitter", "out", "output coupling"},
+};
+
+// The low-frequency response with both coupling capacitors solved together: the load
+// reaches the base through the emitter ((beta + 1)*Ze), so the output coupling moves the
+// input impedance and with it the input corner (two independent sections miss that by up to
+// 10 % on f_low). With Zc = 1/(s C), RE' = RE || ro:
+//   H(s) = Zp/(Rsig + Zc_in + Zp) * (beta + 1)*Ze/Zb * RL/(RL + Zc_out),
+//   Ze = RE' || (RL + Zc_out), Zb = rpi + (beta + 1)*Ze, Zp = RTh || Zb.
+struct FollowerLowResponse {
+  double beta = 0, rpi = 0, rth = 0, rsig = 0, re = 0, rl = 0, cin = 0, cout = 0;
+
+  std::complex<double> transfer(std::complex<double> z_cin, std::complex<double> z_cout) const {
+    const std::complex<double> branch = rl + z_cout;
+    const std::complex<double> ze = re * branch / (re + branch);
+    const std::complex<double> zb = rpi + (beta + 1.0) * ze;
+    const std::complex<double> zp = rth * zb / (rth + zb);
+    return zp / (rsig + z_cin + zp) * (beta + 1.0) * ze / zb * rl / branch;
+  }
+  /// |H(jw)|^2 relative to mid-band.
+  double h2(double w) const {
+    const std::complex<double> s(0.0, w);
+    const double r = std::abs(transfer(1.0 / (s * cin), 1.0 / (s * cout)) / transfer(0.0, 0.0));
+    return r * r;
+  }
+  /// The -3 dB frequency, Hz.
+  double corner_hz() const {
+    double hi = std::max(1.0 / (cin * (rsig + rth)), 1.0 / (cout * rl));
+    for (int i = 0; i < 40 && h2(hi) < 0.5; ++i) hi *= 4.0;
+    double lo = hi * 1e-12;
+    for (int i = 0; i < 80; ++i) {
+      const double mid = std::sqrt(lo * hi);
+      (h2(mid) < 0.5 ? lo : hi) = mid;
+    }
+    return std::sqrt(lo * hi) / (2 * std::numbers::pi);
+  }
 };
 
 class BjtFollower final : public Topology {
@@ -91,10 +127,18 @@ class BjtFollower final : public Topology {
     m.g_c = 1e9;
     m.out_at_emitter = true;
     detail::finish_response(p, lf, m, c, d);
+    {
+      // The two coupling corners interact through the base: solve them together.
+      const FollowerLowResponse lr{beta, rpi, rth, c.source_ohm, par(v[RE], b.ro_ohm), c.load_ohm, v[CIN], v[COUT]};
+      if (d == Detail::full) p.f_low_hz = lr.corner_hz();
+      if (c.band_lo_hz > 0)
+        p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz)));
+    }
 
     if (d != Detail::core) {
-      const double f = 1.0 + gm * (re_ac + rs2 / (beta + 1.0));
-      p.hd2 = c.hd2_peak_v / (4.0 * b.ic_a * re_ac * f);
+      // Second-order expansion of the exponential law with the Early effect (the collector
+      // at AC ground, so VCE moves against the output) on the mid-band network.
+      p.hd2 = detail::second_harmonic(m, detail::bjt_second_order(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm), c.hd2_peak_v);
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double q2 = 2.0 * devices::kCharge;
       const double gx = gm + 1.0 / rpi;
