@@ -246,11 +246,11 @@ std::vector<std::pair<double, double>> leg_splits(const ValueSource& shelf, doub
     out.emplace_back(r, 0.0);  // no bypass
   }
   std::vector<double> r1s;
-  shelf.spread(0.03 * r_total, 0.85 * r_total, 6, r1s);
+  shelf.spread(0.03 * r_total, 0.85 * r_total, 8, r1s);
   for (double r1 : r1s) {
     std::vector<double> r2;
-    shelf.nearest(r_total - r1, 1, r2);
-    if (!r2.empty()) out.emplace_back(r1, r2.front());
+    shelf.nearest(r_total - r1, 1, r2);  // the nearest, and the single parts either side
+    for (double x : r2) out.emplace_back(r1, x);
   }
   return out;
 }
@@ -262,6 +262,16 @@ double load_resistor_for_gain(double a_int, double gm, double r_deg, double load
   // search can say how close the stage comes.
   rl_ac = std::min(rl_ac, 0.9 * load_ohm);
   return 1.0 / (1.0 / rl_ac - 1.0 / load_ohm);
+}
+
+std::vector<double> gate_resistors(const ValueSource& shelf, double zin_min_ohm) {
+  const double lo = std::max(zin_min_ohm * 1.06, 10e3);
+  std::vector<double> out;
+  shelf.spread(lo, std::max(10e6, lo), 16, out);
+  shelf.nearest(std::max(1e6, lo), 1, out);
+  std::erase_if(out, [&](double r) { return r < lo * 0.999; });
+  unique_values(out);
+  return out;
 }
 
 void unique_values(std::vector<double>& v) {

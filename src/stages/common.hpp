@@ -141,6 +141,11 @@ std::vector<std::pair<double, double>> leg_splits(const ValueSource& shelf, doub
 /// returns the largest sensible value (RL' = 0.9 load) so the search learns how close it got.
 double load_resistor_for_gain(double a_int, double gm, double r_deg, double load_ohm);
 
+/// Gate resistors to try for an input impedance of at least zin_min_ohm (5 % parts at
+/// their low end still above it): the shelf's values from there up to 10M, spread on a log
+/// scale, and the one nearest 1M (the bench's usual choice).
+std::vector<double> gate_resistors(const ValueSource& shelf, double zin_min_ohm);
+
 /// Distinct values, in order.
 void unique_values(std::vector<double>& v);
 

@@ -73,34 +73,31 @@ class JfetCsSelf final : public Topology {
   void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
                const std::function<void(const Values&)>& emit) const override {
     const auto& j = q.jfet;
-    std::vector<double> rgs;
-    shelf.nearest(std::max(1e6, g.zin_min_ohm * 1.15), 3, rgs);
-    std::erase_if(rgs, [&](double r) { return r < g.zin_min_ohm * 1.06; });
-    if (rgs.size() > 2) rgs.resize(2);
+    const std::vector<double> rgs = detail::gate_resistors(shelf, g.zin_min_ohm);
+    // Source resistors over the shelf's values between those that set 70 % and 3 % of IDSS.
+    auto rs_for = [&](double frac) { return j.vp_abs_v * (1.0 - std::sqrt(frac)) / (frac * j.idss_a); };
+    double frac_max = 0.7;
+    if (g.max_current_a > 0) frac_max = std::min(frac_max, g.max_current_a / j.idss_a);
+    if (frac_max < 0.02) return;
+    std::vector<double> rs_tot;
+    shelf.spread(rs_for(frac_max), rs_for(0.03), 16, rs_tot);
     for (double rg : rgs) {
       const double a_int = g.gain * (rg + c.source_ohm) / rg;
-      for (double frac : {0.12, 0.2, 0.3, 0.42, 0.6}) {
-        const double id = frac * j.idss_a;
-        if (g.max_current_a > 0 && id > g.max_current_a) continue;
-        const double rs = j.vp_abs_v * (1.0 - std::sqrt(frac)) / id;
-        std::vector<double> rs_tot;
-        shelf.nearest(rs, 2, rs_tot);
-        for (double rt : rs_tot) {
-          const detail::JfetBias b = detail::jfet_bias(j, 0.0, rt, 0.0, c.supply_v);
-          if (!b.conducts) continue;
-          for (auto [r1, r2] : detail::leg_splits(shelf, rt)) {
-            const double rd = detail::load_resistor_for_gain(a_int, b.gm_s, r1, c.load_ohm);
-            if (rd <= 0 || b.id_a * (rd + r1 + r2) > c.supply_v) continue;
-            std::vector<double> rds;
-            shelf.nearest(rd, 2, rds);
-            for (double x : rds) {
-              Values v;
-              v[RG] = rg;
-              v[RD] = x;
-              v[RS1] = r1;
-              v[RS2] = r2;
-              emit(v);
-            }
+      for (double rt : rs_tot) {
+        const detail::JfetBias b = detail::jfet_bias(j, 0.0, rt, 0.0, c.supply_v);
+        if (!b.conducts) continue;
+        for (auto [r1, r2] : detail::leg_splits(shelf, rt)) {
+          const double rd = detail::load_resistor_for_gain(a_int, b.gm_s, r1, c.load_ohm);
+          if (rd <= 0 || b.id_a * (rd + r1 + r2) > c.supply_v) continue;
+          std::vector<double> rds;
+          shelf.nearest(rd, 2, rds);
+          for (double x : rds) {
+            Values v;
+            v[RG] = rg;
+            v[RD] = x;
+            v[RS1] = r1;
+            v[RS2] = r2;
+            emit(v);
           }
         }
       }

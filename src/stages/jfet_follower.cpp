@@ -107,10 +107,7 @@ class JfetFollower final : public Topology {
   void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
                const std::function<void(const Values&)>& emit) const override {
     const auto& j = q.jfet;
-    std::vector<double> rgs;
-    shelf.nearest(std::max(1e6, g.zin_min_ohm * 1.15), 3, rgs);
-    std::erase_if(rgs, [&](double r) { return r < g.zin_min_ohm * 1.06; });
-    if (rgs.size() > 2) rgs.resize(2);
+    const std::vector<double> rgs = detail::gate_resistors(shelf, g.zin_min_ohm);
     for (double rg : rgs) {
       std::vector<double> rss;
       for (double frac : {0.1, 0.2, 0.3, 0.45, 0.6, 0.8}) {

@@ -31,27 +31,6 @@ struct Job {
   int device_available = 0;
 };
 
-// What a job learned about failures, for the diagnosis.
-struct Tally {
-  std::map<std::string, long> failures;  // constraint -> candidates it stopped at nominal
-  std::map<std::string, long> corner_failures;  // ... that passed at nominal, stopped at a corner
-  double best_gain = 0;                  // largest |gain| of an active stage
-  double best_swing = 0;                 // largest swing peak among active stages
-  double best_zin = 0;
-  std::string capacitor_need;            // the last capacitor the shelf could not supply
-  long proposals = 0, evaluations = 0;
-  void merge(const Tally& o) {
-    for (const auto& [k, v] : o.failures) failures[k] += v;
-    for (const auto& [k, v] : o.corner_failures) corner_failures[k] += v;
-    best_gain = std::max(best_gain, o.best_gain);
-    best_swing = std::max(best_swing, o.best_swing);
-    best_zin = std::max(best_zin, o.best_zin);
-    if (!o.capacitor_need.empty()) capacitor_need = o.capacitor_need;
-    proposals += o.proposals;
-    evaluations += o.evaluations;
-  }
-};
-
 std::uint64_t fnv1a(const std::string& s) {
   std::uint64_t h = 1469598103934665603ULL;
   for (unsigned char ch : s) {
@@ -65,182 +44,264 @@ class Searcher {
  public:
   Searcher(const Spec& spec, const Shelf& shelf) : spec_(spec), shelf_(shelf) {}
 
-  std::vector<Candidate> run(const Job& job, Tally& tally) const {
-    const auto& t = *job.topology;
-    const devices::DeviceSpread spread =
-        job.piece ? devices::DeviceSpread(*job.device, *job.piece) : devices::DeviceSpread(*job.device);
-    const double t_nom = spec_.temp_nominal_c();
-    const stages::Transistor q = detail::make_transistor(spread, spread.nominal(), t_nom);
-    const stages::Conditions cond = detail::conditions(spec_, spec_.supply_nominal_v(), t_nom);
-    const stages::Conditions cond_hi = detail::conditions(spec_, spec_.supply_hi_v, t_nom);
-    stages::Goal goal;
-    goal.gain = spec_.gain;
-    goal.zin_min_ohm = spec_.zin_min_ohm;
-    goal.swing_peak_v = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0;
-    goal.max_current_a = spec_.max_current_a.value_or(0);
-    goal.f_low_hz = spec_.f_low_target_hz();
-
+  std::vector<Candidate> run(const Job& job, SearchStats& stats) const {
+    const StageBuilder builder(spec_, shelf_, *job.topology, *job.device, job.piece, job.device_available);
+    const auto roles = job.topology->roles();
     std::vector<Candidate> found;
     std::unordered_set<std::uint64_t> seen;
-    // Capacitor choices repeat across proposals (the same RG, the same band): remember them.
-    std::unordered_map<std::uint64_t, const Combo*> cap_cache;
-    const auto roles = t.roles();
-    t.propose(goal, q, cond, shelf_, [&](const stages::Values& proposal) {
-      ++tally.proposals;
-      std::string key(reinterpret_cast<const char*>(proposal.v.data()), roles.size() * sizeof(double));
-      if (!seen.insert(fnv1a(key)).second) return;
-      // A light draft first: values and the combos that make them; a Candidate (strings,
-      // device record, part list) only for a proposal that works at nominal.
-      stages::Values values = proposal;
-      std::array<const Combo*, stages::kMaxRoles> combos{};
-      std::array<std::string_view, stages::kMaxRoles> plus{};
-      for (std::size_t i = 0; i < roles.size(); ++i) {
-        if (roles[i].kind != 'R' || !(proposal[i] > 0)) continue;
-        combos[i] = shelf_.resistor(proposal[i]);
-        if (!combos[i]) return;
-      }
-      // Capacitors: sized for the band, rated for the DC they hold at the highest supply.
-      const stages::Values targets = t.capacitor_targets(values, q, cond, goal.f_low_hz);
-      stages::Values trial = values;
-      for (std::size_t i = 0; i < roles.size(); ++i)
-        if (roles[i].kind == 'C') trial[i] = targets[i];
-      const auto pre = t.evaluate(trial, q, cond_hi, stages::Detail::stress);
-      ++tally.evaluations;
-      if (!pre.valid) {
-        ++tally.failures["bias"];
-        return;
-      }
-      for (std::size_t i = 0; i < roles.size(); ++i) {
-        if (roles[i].kind != 'C' || !(targets[i] > 0)) continue;
-        double dc = 0;
-        for (const auto& st : pre.stress)
-          if (st.role == i) {
-            dc = st.dc_v;
-            plus[i] = st.plus_net;
-          }
-        const double peak = goal.swing_peak_v > 0 ? goal.swing_peak_v : pre.swing_peak_v;
-        // An electrolytic only where it sits on a DC bias (common practice: a few tenths of
-        // a volt forward at least; the in-band signal across a coupling or bypass capacitor
-        // is small). The corner pass then checks it is never reversed.
-        const bool allow_pol = roles[i].polar_ok && dc >= 0.3;
-        const auto qk = static_cast<std::uint64_t>(std::llround(std::log(targets[i]) * 200.0)) * 1000003ULL +
-                        static_cast<std::uint64_t>(std::llround((dc + peak) * 4.0)) * 2 + (allow_pol ? 1 : 0);
-        auto hit = cap_cache.find(qk);
-        const Combo* combo = hit != cap_cache.end()
-                                 ? hit->second
-                                 : cap_cache.emplace(qk, shelf_.capacitor_at_least(targets[i], dc + peak, allow_pol)).first->second;
-        if (!combo) {
-          ++tally.failures["capacitor"];
-          tally.capacitor_need = fmt::format("{} of {} needs at least {} {}rated above {:.3g} V", roles[i].name, t.name(),
-                                             units::format_value(targets[i], units::Unit::farad),
-                                             allow_pol ? "" : "non-polarised ", 1.25 * (dc + peak));
-          return;
-        }
-        combos[i] = combo;
-        values[i] = combo->nominal;
-      }
-      // One quantity pool: every role and every copy.
-      if (!pool_ok(combos, job)) {
-        ++tally.failures["stock"];
-        return;
-      }
-      const stages::Performance nominal = t.evaluate(values, q, cond, stages::Detail::core);
-      ++tally.evaluations;
-      const std::string v = detail::violation(spec_, nominal);
-      if (nominal.valid && nominal.active) {
-        tally.best_gain = std::max(tally.best_gain, std::abs(nominal.gain));
-        tally.best_swing = std::max(tally.best_swing, nominal.swing_peak_v);
-        tally.best_zin = std::max(tally.best_zin, nominal.zin_ohm);
-      }
-      if (!v.empty()) {
-        ++tally.failures[v];
-        return;
-      }
-      if (!detail::gain_ok(spec_, nominal.gain)) {
-        ++tally.failures["gain"];
-        return;
-      }
-      Candidate c;
-      c.topology = &t;
-      c.device = *job.device;
-      if (job.piece) c.piece = *job.piece;
-      c.nominal_device = q;
-      c.conditions = cond;
-      c.values = values;
-      c.nominal = nominal;
-      c.pieces = 1;
-      for (std::size_t i = 0; i < roles.size(); ++i) {
-        if (!combos[i]) continue;
-        add_part(c, i, *combos[i]);
-        if (combos[i]->polarised) c.parts.back().plus_net = std::string(plus[i]);
-        c.pieces += combos[i]->count;
-        if (combos[i]->purchase) c.purchases += combos[i]->count;
-      }
-      c.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
-      found.push_back(std::move(c));
-    });
-
-    // Corners only for the most promising (the corner pass costs ~100 evaluations each).
-    constexpr std::size_t kKeep = 40;
-    std::sort(found.begin(), found.end(), [](const Candidate& a, const Candidate& b) {
-      return 100.0 * std::abs(a.error_nominal) + detail::kPiecePoints * a.pieces <
-             100.0 * std::abs(b.error_nominal) + detail::kPiecePoints * b.pieces;
-    });
-    if (found.size() > kKeep) found.resize(kKeep);
+    job.topology->propose(builder.goal(), builder.nominal_device(), builder.conditions(), shelf_,
+                          [&](const stages::Values& proposal) {
+                            ++stats.proposals;
+                            std::string key(reinterpret_cast<const char*>(proposal.v.data()),
+                                            roles.size() * sizeof(double));
+                            if (!seen.insert(fnv1a(key)).second) return;
+                            Candidate c;
+                            if (builder.complete(proposal, c, stats)) found.push_back(std::move(c));
+                          });
+    // The full corner pass (~100 evaluations) only for the most promising, chosen by a
+    // quick estimate over the device's corner pieces.
+    constexpr std::size_t kKeep = 24;
+    constexpr int kVariants = 12;
+    std::vector<std::pair<double, std::size_t>> order;
+    for (std::size_t i = 0; i < found.size(); ++i) order.emplace_back(builder.quick_score(found[i], stats), i);
+    std::sort(order.begin(), order.end());
     std::vector<Candidate> kept;
-    for (auto& c : found) {
-      const std::string v = detail::evaluate_worst(c, spec_, tally.evaluations);
-      if (!v.empty()) {
-        ++tally.corner_failures[v.substr(0, v.find(':'))];
-        continue;
+    // Up to kKeep families of designs; in each, the kVariants best variants in one resistor
+    // (their quick estimates are near-ties the full pass settles).
+    std::vector<std::size_t> chosen, heads;
+    std::vector<int> members;
+    for (const auto& [score, i] : order) {
+      std::size_t f = 0;
+      while (f < heads.size() && !is_variant(found[heads[f]], found[i])) ++f;
+      if (f == heads.size()) {
+        if (heads.size() >= kKeep) continue;
+        heads.push_back(i);
+        members.push_back(0);
       }
-      c.nominal = t.evaluate(c.values, q, cond, stages::Detail::full);
-      ++tally.evaluations;
-      c.score = detail::score_of(c);
-      detail::add_cautions(c, spec_);
-      kept.push_back(std::move(c));
+      if (members[f] >= kVariants) continue;
+      ++members[f];
+      chosen.push_back(i);
     }
+    for (std::size_t i : chosen)
+      if (builder.assess(found[i], stats)) kept.push_back(std::move(found[i]));
     return kept;
   }
 
  private:
-  void add_part(Candidate& c, std::size_t role, const Combo& combo) const {
-    const auto& r = c.topology->roles()[role];
-    RolePart rp;
-    rp.role = std::string(r.name);
-    rp.designator = std::string(r.designator);
-    rp.kind = r.kind;
-    rp.combo = combo;
-    for (std::size_t k = 0; k < combo.count; ++k) rp.values.push_back(shelf_.groups()[combo.group[k]].value);
-    rp.tol = {1.0 - combo.lo / combo.nominal, combo.hi / combo.nominal - 1.0};
-    rp.rating = combo.rating;
-    rp.dielectric = shelf_.groups()[combo.group[0]].dielectric;
-    rp.polarised = combo.polarised;
-    c.parts.push_back(rp);
-  }
-
-  bool pool_ok(const std::array<const Combo*, stages::kMaxRoles>& combos, const Job& job) const {
-    if (job.device_available < spec_.copies) return false;
-    // At most 3 x kMaxRoles groups: a flat list beats a map here.
-    std::array<std::pair<std::uint32_t, int>, 3 * stages::kMaxRoles> need{};
-    std::size_t n = 0;
-    for (const Combo* c : combos) {
-      if (!c) continue;
-      for (std::size_t k = 0; k < c->count; ++k) {
-        std::size_t j = 0;
-        while (j < n && need[j].first != c->group[k]) ++j;
-        if (j == n) need[n++] = {c->group[k], 0};
-        need[j].second += spec_.copies;
-      }
-    }
-    for (std::size_t j = 0; j < n; ++j)
-      if (shelf_.groups()[need[j].first].available < need[j].second) return false;
-    return true;
-  }
-
   const Spec& spec_;
   const Shelf& shelf_;
 };
+
+}  // namespace
+
+// --- StageBuilder ----------------------------------------------------------------------
+
+struct StageBuilder::Cache {
+  // Capacitor choices repeat across proposals (the same RG, the same band): remember them.
+  std::mutex mutex;
+  std::unordered_map<std::uint64_t, const Combo*> caps;
+};
+
+StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
+                           const devices::DeviceRecord& device, const devices::MeasuredPiece* piece,
+                           int device_available)
+    : spec_(spec),
+      shelf_(shelf),
+      topology_(topology),
+      device_(device),
+      piece_(piece),
+      device_available_(device_available),
+      spread_(piece ? devices::DeviceSpread(device, *piece) : devices::DeviceSpread(device)),
+      cache_(std::make_unique<Cache>()) {
+  const double t_nom = spec.temp_nominal_c();
+  q_ = detail::make_transistor(spread_, spread_.nominal(), t_nom);
+  cond_ = detail::conditions(spec, spec.supply_nominal_v(), t_nom);
+  cond_hi_ = detail::conditions(spec, spec.supply_hi_v, t_nom);
+}
+
+StageBuilder::~StageBuilder() = default;
+
+stages::Goal StageBuilder::goal() const {
+  stages::Goal g;
+  g.gain = spec_.gain;
+  g.zin_min_ohm = spec_.zin_min_ohm;
+  g.swing_peak_v = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0;
+  g.max_current_a = spec_.max_current_a.value_or(0);
+  g.f_low_hz = spec_.f_low_target_hz();
+  return g;
+}
+
+bool StageBuilder::complete(const stages::Values& proposal, Candidate& out, SearchStats& stats) const {
+  const auto& t = topology_;
+  const auto roles = t.roles();
+  // A light draft first: values and the combos that make them; a Candidate (strings,
+  // device record, part list) only for a proposal that works at nominal.
+  stages::Values values = proposal;
+  std::array<const Combo*, stages::kMaxRoles> combos{};
+  std::array<std::string_view, stages::kMaxRoles> plus{};
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (roles[i].kind == 'C') values[i] = 0;
+    if (roles[i].kind != 'R' || !(proposal[i] > 0)) continue;
+    combos[i] = shelf_.resistor(proposal[i]);
+    if (!combos[i]) return false;
+  }
+  // Capacitors: sized for the band, rated for the DC they hold at the highest supply.
+  const double f_low = spec_.f_low_target_hz();
+  const stages::Values targets = t.capacitor_targets(values, q_, cond_, f_low);
+  stages::Values trial = values;
+  for (std::size_t i = 0; i < roles.size(); ++i)
+    if (roles[i].kind == 'C') trial[i] = targets[i];
+  const auto pre = t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
+  ++stats.evaluations;
+  if (!pre.valid) {
+    ++stats.failures["bias"];
+    return false;
+  }
+  const double peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 : pre.swing_peak_v;
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (roles[i].kind != 'C' || !(targets[i] > 0)) continue;
+    double dc = 0;
+    for (const auto& st : pre.stress)
+      if (st.role == i) {
+        dc = st.dc_v;
+        plus[i] = st.plus_net;
+      }
+    // An electrolytic only where it sits on a DC bias (common practice: a few tenths of a
+    // volt forward at least; the in-band signal across a coupling or bypass capacitor is
+    // small). The corner pass then checks it is never reversed.
+    const bool allow_pol = roles[i].polar_ok && dc >= 0.3;
+    const auto key = static_cast<std::uint64_t>(std::llround(std::log(targets[i]) * 200.0)) * 1000003ULL +
+                     static_cast<std::uint64_t>(std::llround((dc + peak) * 4.0)) * 2 + (allow_pol ? 1 : 0);
+    const Combo* combo = nullptr;
+    {
+      std::lock_guard lock(cache_->mutex);
+      auto hit = cache_->caps.find(key);
+      if (hit == cache_->caps.end())
+        hit = cache_->caps.emplace(key, shelf_.capacitor_at_least(targets[i], dc + peak, allow_pol)).first;
+      combo = hit->second;
+    }
+    if (!combo) {
+      ++stats.failures["capacitor"];
+      stats.capacitor_need = fmt::format("{} of {} needs at least {} {}rated above {:.3g} V", roles[i].name, t.name(),
+                                         units::format_value(targets[i], units::Unit::farad),
+                                         allow_pol ? "" : "non-polarised ", 1.25 * (dc + peak));
+      return false;
+    }
+    combos[i] = combo;
+    values[i] = combo->nominal;
+  }
+  // One quantity pool: every role and every copy.
+  if (!pool_ok(combos)) {
+    ++stats.failures["stock"];
+    return false;
+  }
+  const stages::Performance nominal = t.evaluate(values, q_, cond_, stages::Detail::core);
+  ++stats.evaluations;
+  const std::string v = detail::violation(spec_, nominal);
+  if (nominal.valid && nominal.active) {
+    stats.best_gain = std::max(stats.best_gain, std::abs(nominal.gain));
+    stats.best_swing = std::max(stats.best_swing, nominal.swing_peak_v);
+    stats.best_zin = std::max(stats.best_zin, nominal.zin_ohm);
+  }
+  if (!v.empty()) {
+    ++stats.failures[v];
+    return false;
+  }
+  if (!detail::gain_ok(spec_, nominal.gain)) {
+    ++stats.failures["gain"];
+    return false;
+  }
+  Candidate& c = out;
+  c.topology = &t;
+  c.device = device_;
+  if (piece_) c.piece = *piece_;
+  c.nominal_device = q_;
+  c.conditions = cond_;
+  c.values = values;
+  c.nominal = nominal;
+  c.pieces = 1;
+  c.parts.clear();
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (!combos[i]) continue;
+    add_part(c, i, *combos[i]);
+    if (combos[i]->polarised) c.parts.back().plus_net = std::string(plus[i]);
+    c.pieces += combos[i]->count;
+    if (combos[i]->purchase) c.purchases += combos[i]->count;
+  }
+  c.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
+  return true;
+}
+
+double StageBuilder::quick_score(const Candidate& c, SearchStats& stats) const {
+  double worst = std::abs(c.error_nominal);
+  for (const auto& f : spread_.corners()) {
+    const auto p = topology_.evaluate(c.values, detail::make_transistor(spread_, f, spec_.temp_nominal_c()), cond_);
+    ++stats.evaluations;
+    if (!p.valid || !p.active) return 1e6;
+    worst = std::max(worst, std::abs(std::abs(p.gain) / spec_.gain - 1.0));
+  }
+  return 100.0 * (0.5 * std::abs(c.error_nominal) + worst) + detail::kPiecePoints * c.pieces;
+}
+
+bool StageBuilder::assess(Candidate& c, SearchStats& stats) const {
+  const std::string v = detail::evaluate_worst(c, spec_, stats.evaluations);
+  if (!v.empty()) {
+    ++stats.corner_failures[v.substr(0, v.find(':'))];
+    return false;
+  }
+  c.nominal = topology_.evaluate(c.values, q_, cond_, stages::Detail::full);
+  ++stats.evaluations;
+  c.score = detail::score_of(c);
+  detail::add_cautions(c, spec_);
+  return true;
+}
+
+void StageBuilder::add_part(Candidate& c, std::size_t role, const Combo& combo) const {
+  const auto& r = topology_.roles()[role];
+  RolePart rp;
+  rp.role = std::string(r.name);
+  rp.designator = std::string(r.designator);
+  rp.kind = r.kind;
+  rp.combo = combo;
+  for (std::size_t k = 0; k < combo.count; ++k) rp.values.push_back(shelf_.groups()[combo.group[k]].value);
+  rp.tol = {1.0 - combo.lo / combo.nominal, combo.hi / combo.nominal - 1.0};
+  rp.rating = combo.rating;
+  rp.dielectric = shelf_.groups()[combo.group[0]].dielectric;
+  rp.polarised = combo.polarised;
+  c.parts.push_back(rp);
+}
+
+bool StageBuilder::pool_ok(const std::array<const Combo*, stages::kMaxRoles>& combos) const {
+  if (device_available_ < spec_.copies) return false;
+  // At most 3 x kMaxRoles groups: a flat list beats a map here.
+  std::array<std::pair<std::uint32_t, int>, 3 * stages::kMaxRoles> need{};
+  std::size_t n = 0;
+  for (const Combo* c : combos) {
+    if (!c) continue;
+    for (std::size_t k = 0; k < c->count; ++k) {
+      std::size_t j = 0;
+      while (j < n && need[j].first != c->group[k]) ++j;
+      if (j == n) need[n++] = {c->group[k], 0};
+      need[j].second += spec_.copies;
+    }
+  }
+  for (std::size_t j = 0; j < n; ++j)
+    if (shelf_.groups()[need[j].first].available < need[j].second) return false;
+  return true;
+}
+
+void SearchStats::merge(const SearchStats& o) {
+  for (const auto& [k, v] : o.failures) failures[k] += v;
+  for (const auto& [k, v] : o.corner_failures) corner_failures[k] += v;
+  best_gain = std::max(best_gain, o.best_gain);
+  best_swing = std::max(best_swing, o.best_swing);
+  best_zin = std::max(best_zin, o.best_zin);
+  if (!o.capacitor_need.empty()) capacitor_need = o.capacitor_need;
+  proposals += o.proposals;
+  evaluations += o.evaluations;
+}
+
+namespace {
 
 std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   // Transistors on the shelf, by device name.
@@ -283,11 +344,11 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
 }
 
 // Runs every job on the machine's cores; the calling thread reports progress.
-std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, Tally& tally,
+std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, SearchStats& tally,
                                 const Progress& progress) {
   Searcher searcher(spec, shelf);
   std::vector<std::vector<Candidate>> out(jobs.size());
-  std::vector<Tally> tallies(jobs.size());
+  std::vector<SearchStats> tallies(jobs.size());
   std::atomic<std::size_t> next{0}, done{0};
   auto worker = [&] {
     for (std::size_t i = next++; i < jobs.size(); i = next++) {
@@ -313,7 +374,7 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
   return all;
 }
 
-std::string describe_binding(const std::string& binding, const Spec& spec, const Tally& t) {
+std::string describe_binding(const std::string& binding, const Spec& spec, const SearchStats& t) {
   if (binding == "gain")
     return fmt::format("no stage reaches a gain of {:.3g} into {}: the largest any stocked device reaches is {:.3g}",
                        spec.gain, units::format_value(spec.load_ohm, units::Unit::ohm), t.best_gain);
@@ -338,6 +399,16 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
 }  // namespace
 
 // The recipe text and the stock lines of each part: only for candidates that are shown.
+bool is_variant(const Candidate& a, const Candidate& b) {
+  if (a.topology != b.topology || a.device.name != b.device.name) return false;
+  if ((a.piece ? a.piece->label : "") != (b.piece ? b.piece->label : "")) return false;
+  const auto roles = a.topology->roles();
+  int differ = 0;
+  for (std::size_t i = 0; i < roles.size(); ++i)
+    if (roles[i].kind == 'R' && std::abs(a.values[i] - b.values[i]) > 1e-9 * std::max(a.values[i], b.values[i])) ++differ;
+  return differ <= 1;
+}
+
 static void finalize(Candidate& c, const Shelf& shelf) {
   for (auto& rp : c.parts) {
     rp.recipe = shelf.recipe(rp.combo);
@@ -365,16 +436,18 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   Shelf::Options so;
   so.combine = spec.combine;
   const Shelf shelf(inv.parts, so);
-  Tally tally;
+  SearchStats tally;
   std::vector<Candidate> all = run_jobs(spec, shelf, jobs, tally, progress);
   r.proposals = tally.proposals;
   r.evaluations = tally.evaluations;
-  // Drop near-duplicates (same id), keep the top K, then the yield for those.
-  std::unordered_set<std::string> ids;
+  // Keep the top K distinct designs (one-resistor variants of a better one are left out),
+  // then the yield for those.
   for (auto& c : all) {
+    const bool variant = std::any_of(r.candidates.begin(), r.candidates.end(),
+                                     [&](const Candidate& kept) { return is_variant(kept, c); });
+    if (variant) continue;
     finalize(c, shelf);
     c.id = candidate_id(c, spec.copies);
-    if (!ids.insert(c.id).second) continue;
     r.candidates.push_back(std::move(c));
     if (static_cast<int>(r.candidates.size()) >= spec.top) break;
   }
@@ -417,7 +490,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
       po.add_purchases = true;
       po.purchase_volts = std::max(50.0, 2.0 * spec.supply_hi_v);
       const Shelf market(inv.parts, po);
-      Tally t2;
+      SearchStats t2;
       std::vector<Candidate> bought = run_jobs(spec, market, jobs, t2, {});
       std::stable_sort(bought.begin(), bought.end(), [](const Candidate& a, const Candidate& b) {
         return std::make_pair(a.purchases, a.score) < std::make_pair(b.purchases, b.score);

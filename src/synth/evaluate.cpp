@@ -154,7 +154,10 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations) {
           ++evaluations;
           ++w.evaluations;
           if (failed.empty()) failed = violation(spec, p);
-          if (!p.valid) continue;
+          if (!failed.empty()) {  // rejected: its ranges no longer matter
+            c.worst = w;
+            return failed;
+          }
           w.gain.add(p.gain);
           w.bias_current.add(p.bias_current_a);
           w.swing_peak.add(p.swing_peak_v);
@@ -169,7 +172,10 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations) {
           w.loss_lo_db.add(p.loss_lo_db);
           w.loss_hi_db.add(p.loss_hi_db);
           c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
-          if (k == 0 && failed.empty() && vs == spec.supply_hi_v) failed = check_ratings(spec, c, p);
+          if (k == 0 && vs == spec.supply_hi_v) {
+            failed = check_ratings(spec, c, p);
+            if (!failed.empty()) return failed;
+          }
         }
       }
     }

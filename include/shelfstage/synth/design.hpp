@@ -3,6 +3,8 @@
 #pragma once
 #include <cstdint>
 #include <functional>
+#include <map>
+#include <memory>
 #include <optional>
 #include <string>
 #include <vector>
@@ -92,6 +94,60 @@ struct DesignResult {
   double seconds = 0;
 };
 
+/// What a search learned on the way: why candidates were stopped and how close they came.
+struct SearchStats {
+  std::map<std::string, long> failures;         ///< constraint -> proposals it stopped at nominal
+  std::map<std::string, long> corner_failures;  ///< ... that worked at nominal, stopped at a corner
+  double best_gain = 0;    ///< largest |gain| of a stage in its active region
+  double best_swing = 0;   ///< largest swing peak among those
+  double best_zin = 0;
+  std::string capacitor_need;  ///< the last capacitor the shelf could not supply
+  long proposals = 0, evaluations = 0;
+  void merge(const SearchStats& o);
+};
+
+/// Turns resistor sets into candidates for one topology and one device type (or measured
+/// piece): what the guided search does with each proposal, available on its own so a
+/// brute-force check can drive it with every combination.
+class StageBuilder {
+ public:
+  StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
+               const devices::DeviceRecord& device, const devices::MeasuredPiece* piece, int device_available);
+  ~StageBuilder();
+  StageBuilder(const StageBuilder&) = delete;
+  StageBuilder& operator=(const StageBuilder&) = delete;
+
+  /// Capacitors sized for the band and rated for the DC they hold, the quantity pool
+  /// checked for every copy, the nominal constraints and the gain window. Returns true and
+  /// fills out when the stage works at nominal; otherwise counts the reason in stats.
+  bool complete(const stages::Values& resistors, Candidate& out, SearchStats& stats) const;
+  /// The worst-case pass, score and cautions (no yield). True when every corner holds;
+  /// otherwise counts the reason in stats.corner_failures.
+  bool assess(Candidate& c, SearchStats& stats) const;
+  /// A quick worst-case estimate (the device's corner pieces, nominal parts) used to pick
+  /// which candidates get the full corner pass.
+  double quick_score(const Candidate& c, SearchStats& stats) const;
+
+  const stages::Transistor& nominal_device() const { return q_; }
+  const stages::Conditions& conditions() const { return cond_; }
+  stages::Goal goal() const;
+
+ private:
+  void add_part(Candidate& c, std::size_t role, const Combo& combo) const;
+  bool pool_ok(const std::array<const Combo*, stages::kMaxRoles>& combos) const;
+  struct Cache;
+  const Spec& spec_;
+  const Shelf& shelf_;
+  const stages::Topology& topology_;
+  const devices::DeviceRecord& device_;
+  const devices::MeasuredPiece* piece_;
+  int device_available_;
+  devices::DeviceSpread spread_;
+  stages::Transistor q_;
+  stages::Conditions cond_, cond_hi_;
+  std::unique_ptr<Cache> cache_;
+};
+
 /// Progress: (work done, work total, what) — called from the calling thread only.
 using Progress = std::function<void(double done, double total, const std::string& what)>;
 
@@ -101,6 +157,11 @@ DesignResult design(const Spec& spec, const Inventory& inventory, const Progress
 
 /// Re-evaluates one candidate with everything (corners and yield), e.g. for `show`.
 void evaluate_candidate(Candidate& c, const Spec& spec);
+
+/// True when b is a variant of a: same topology and device (or piece), and at most one
+/// resistor role with another value (capacitors follow their sizing rule). The ranked list
+/// shows only the best of such variants, so its places go to designs that differ.
+bool is_variant(const Candidate& a, const Candidate& b);
 
 /// A stable identifier for a candidate: topology, device and part values hashed.
 std::string candidate_id(const Candidate& c, int copies);

@@ -1,0 +1,264 @@
+// The synthesizer against outside checks: a brute-force enumeration of every combination on
+// a small shelf, the quantity pool, ngspice at the device corners, and nonsense requests.
+#include "shelfstage/synth/design.hpp"
+
+#include <doctest/doctest.h>
+
+#include <algorithm>
+#include <cmath>
+#include <map>
+
+#include "fixture.hpp"
+#include "shelfstage/circuit/spice.hpp"
+#include "shelfstage/error.hpp"
+#include "support/ngspice.hpp"
+
+using namespace shelfstage;
+
+namespace {
+
+// Pieces of each stock group a candidate uses, for all copies.
+std::map<double, int> pieces_by_value(const synth::Candidate& c, int copies) {
+  std::map<double, int> n;
+  for (const auto& rp : c.parts)
+    for (double v : rp.values) n[v] += copies;
+  return n;
+}
+
+int stock_of(const synth::Inventory& inv, double value) {
+  int n = 0;
+  for (const auto& p : inv.parts)
+    if (store::is_passive(p.kind) && std::abs(p.value - value) < 1e-9 * value) n += p.available();
+  return n;
+}
+
+}  // namespace
+
+TEST_CASE("only stocked values and quantities: one piece short and the best design is not offered") {
+  for (int copies : {1, 3}) {
+    CAPTURE(copies);
+    synth::Inventory inv = test::small_shelf(20, {test::npn()});
+    synth::Spec spec = test::basic_spec(8);
+    spec.copies = copies;
+    spec.topologies = {"bjt-ce-divider"};
+    spec.top = 3;
+    const auto first = synth::design(spec, inv);
+    REQUIRE_FALSE(first.candidates.empty());
+    const auto& best = first.candidates.front();
+    // Every candidate fits the stock, for every copy.
+    for (const auto& c : first.candidates)
+      for (const auto& [v, n] : pieces_by_value(c, copies)) CHECK(n <= stock_of(inv, v));
+    // Leave one piece fewer of a value the best design needs than it needs.
+    const auto need = pieces_by_value(best, copies);
+    const double value = need.begin()->first;
+    for (auto& p : inv.parts)
+      if (store::is_passive(p.kind) && std::abs(p.value - value) < 1e-9 * value) p.qty = need.begin()->second - 1;
+    const auto second = synth::design(spec, inv);
+    for (const auto& c : second.candidates) {
+      CHECK(c.id != best.id);
+      for (const auto& [v, n] : pieces_by_value(c, copies)) CHECK(n <= stock_of(inv, v));
+    }
+  }
+}
+
+TEST_CASE("on a small shelf the top 10 equal those of a brute-force enumeration of every combination") {
+  // The enumerator below tries every combination of achievable resistances for every
+  // resistor role (optional roles also absent); capacitors follow the same sizing rule as
+  // the search (they do not enter the score). Both share the evaluation (StageBuilder),
+  // so the comparison checks the search's coverage, not the physics.
+  synth::Inventory inv = test::small_shelf(10, {test::njfet()});
+  synth::Spec spec = test::basic_spec(4);
+  spec.topologies = {"jfet-cs-self"};
+  spec.combine = 1;
+  spec.top = 10;
+  spec.mc_samples = 0;
+  const auto guided = synth::design(spec, inv);
+
+  synth::Shelf::Options so;
+  so.combine = 1;
+  const synth::Shelf shelf(inv.parts, so);
+  const auto* topo = stages::find_topology("jfet-cs-self");
+  const synth::StageBuilder builder(spec, shelf, *topo, inv.devices[0], nullptr, 10);
+  std::vector<double> rs;
+  for (const auto& c : shelf.resistors()) rs.push_back(c.nominal);
+  std::vector<double> rs_opt = rs;
+  rs_opt.push_back(0);  // absent
+  synth::SearchStats stats;
+  std::vector<synth::Candidate> all;
+  // Roles: RG, RD, RS1, RS2 (+ CS when RS2 is present).
+  for (double rg : rs)
+    for (double rd : rs)
+      for (double rs1 : rs_opt)
+        for (double rs2 : rs_opt) {
+          stages::Values v;
+          v[0] = rg;
+          v[1] = rd;
+          v[2] = rs1;
+          v[3] = rs2;
+          synth::Candidate c;
+          if (!builder.complete(v, c, stats)) continue;
+          if (builder.assess(c, stats)) all.push_back(std::move(c));
+        }
+  std::stable_sort(all.begin(), all.end(), [](const auto& a, const auto& b) {
+    return a.score != b.score ? a.score < b.score : a.pieces < b.pieces;
+  });
+  // The same listing rule as the search: one-resistor variants of a better design are left out.
+  std::vector<synth::Candidate> listed;
+  for (auto& c : all)
+    if (std::none_of(listed.begin(), listed.end(), [&](const auto& k) { return synth::is_variant(k, c); }))
+      listed.push_back(std::move(c));
+  all = std::move(listed);
+  REQUIRE(all.size() >= 10);
+  for (std::size_t i = 0; i < 5; ++i) {
+    const auto& a = all[i];
+    MESSAGE("exhaustive " << a.score << " nom " << a.error_nominal << " worst " << a.error_worst << " pcs " << a.pieces
+                          << " RG " << a.values[0] << " RD " << a.values[1] << " RS1 " << a.values[2] << " RS2 " << a.values[3]
+                          << " I " << a.nominal.bias_current_a);
+    if (i < guided.candidates.size()) {
+      const auto& g = guided.candidates[i];
+      MESSAGE("guided " << g.score << " nom " << g.error_nominal << " worst " << g.error_worst << " pcs " << g.pieces
+                        << " RG " << g.values[0] << " RD " << g.values[1] << " RS1 " << g.values[2] << " RS2 " << g.values[3]
+                        << " I " << g.nominal.bias_current_a);
+    }
+  }
+  REQUIRE(guided.candidates.size() == 10);
+  for (std::size_t i = 0; i < 10; ++i) {
+    CAPTURE(i);
+    CHECK(guided.candidates[i].score == doctest::Approx(all[i].score).epsilon(1e-9));
+  }
+  CHECK(guided.candidates[0].values.v == all[0].values.v);
+}
+
+TEST_CASE("ngspice at the device corners lands inside the reported worst-case ranges") {
+  // Reference: ngspice (Debian package) on the exported netlist of each top candidate, with
+  // the device at each corner of its spread and every part at nominal.
+  synth::Inventory inv = test::small_shelf(10, {test::njfet(), test::npn()});
+  synth::Spec spec = test::basic_spec(6);
+  spec.top = 3;
+  const auto r = synth::design(spec, inv);
+  REQUIRE_FALSE(r.candidates.empty());
+  for (const auto& c : r.candidates) {
+    CAPTURE(c.id);
+    const auto spread = synth::spread_of(c);
+    auto pieces = spread.corners();
+    pieces.push_back(spread.nominal());
+    for (const auto& f : pieces) {
+      CAPTURE(f.tag);
+      stages::Transistor q;
+      q.kind = c.device.kind;
+      if (devices::is_jfet(q.kind))
+        q.jfet = spread.jfet(f);
+      else
+        q.bjt = spread.bjt(f);
+      const auto net = c.topology->netlist(c.values, q, c.conditions);
+      circuit::SpiceOptions o;
+      o.analyses = {".control", "op", "print i(vdd)", "ac dec 20 100 10k", "meas ac g1k find vm(out) at=1k", ".endc"};
+      const auto run = test::run_ngspice(circuit::to_spice(net, o));
+      const double gain = run.get("g1k");
+      const double supply_i = std::abs(run.get("i(vdd)"));
+      // 1 % slack for the agreement of the models themselves (the analysis-engine tests).
+      const double gmin = std::min(std::abs(c.worst.gain.min), std::abs(c.worst.gain.max));
+      const double gmax = std::max(std::abs(c.worst.gain.min), std::abs(c.worst.gain.max));
+      CHECK(gain >= gmin * 0.99);
+      CHECK(gain <= gmax * 1.01);
+      CHECK(supply_i >= c.worst.supply_current.min * 0.99);
+      CHECK(supply_i <= c.worst.supply_current.max * 1.01);
+      if (f.tag == "nominal") {
+        // Nominal figures agree with ngspice as in the analysis engine: gain within 2 %.
+        CHECK(gain == doctest::Approx(std::abs(c.nominal.gain)).epsilon(0.02));
+        CHECK(supply_i == doctest::Approx(c.nominal.supply_current_a).epsilon(0.01));
+      }
+    }
+  }
+}
+
+TEST_CASE("nonsense requests are refused with a clear error naming the field") {
+  synth::Inventory inv = test::small_shelf(10, {test::njfet()});
+  auto refused = [&](synth::Spec s, const std::string& field) {
+    try {
+      synth::design(s, inv);
+      FAIL("accepted: " << field);
+    } catch (const InputError& e) {
+      CHECK(std::string(e.what()).find(field) != std::string::npos);
+    }
+  };
+  auto s = test::basic_spec(5);
+  s.load_ohm = -10e3;
+  refused(s, "load");
+  s = test::basic_spec(5);
+  s.band_hz = std::make_pair(20e3, 20.0);
+  refused(s, "band");
+  s = test::basic_spec(5);
+  s.copies = 0;
+  refused(s, "copies");
+  s = test::basic_spec(std::nan(""));
+  refused(s, "gain");
+  s = test::basic_spec(5);
+  s.topologies = {"jfet-cascode"};
+  refused(s, "jfet-cascode");
+  s = test::basic_spec(5);
+  s.devices = {"XJ-9"};
+  refused(s, "XJ-9");
+  s = test::basic_spec(5);
+  s.supply_lo_v = 9.6;
+  s.supply_hi_v = 7;
+  refused(s, "supply");
+}
+
+TEST_CASE("a sound but impossible request gives no candidate, the binding constraint and how close it came") {
+  synth::Inventory inv = test::small_shelf(10, {test::njfet()});
+  auto s = test::basic_spec(400);  // far beyond one JFET stage into 10k
+  s.topologies = {"jfet-cs-self", "jfet-cs-divider"};
+  const auto r = synth::design(s, inv);
+  CHECK(r.candidates.empty());
+  CHECK(r.diagnosis.binding == "gain");
+  CHECK(r.diagnosis.detail.find("largest any stocked device reaches") != std::string::npos);
+}
+
+TEST_CASE("a design that needs a value the shelf lacks comes with the purchase that makes it feasible") {
+  // Only a few resistor values: the self-biased stage cannot be made without buying one.
+  synth::Inventory inv;
+  inv.devices.push_back(test::njfet());
+  inv.parts = {test::resistor(1, 1e6, 5), test::resistor(2, 10, 5), test::capacitor(3, 1e-6, 5, 63, "film"),
+               test::capacitor(4, 220e-6, 5, 25, "electrolytic"), test::transistor(5, inv.devices[0], 5)};
+  auto s = test::basic_spec(3);
+  s.topologies = {"jfet-cs-self"};
+  const auto r = synth::design(s, inv);
+  CHECK(r.candidates.empty());
+  REQUIRE_FALSE(r.diagnosis.suggestions.empty());
+  CHECK(r.diagnosis.suggestions.front().find("buy") == 0);
+  REQUIRE(r.diagnosis.with_purchases);
+  CHECK(r.diagnosis.with_purchases->purchases >= 1);
+}
+
+TEST_CASE("a measured piece narrows the spread, and the ranking shows it") {
+  synth::Inventory inv = test::small_shelf(10, {test::njfet()});
+  devices::MeasuredPiece piece;
+  piece.label = "J5";
+  piece.device = "TJ-1";
+  piece.idss_a = 4.1e-3;
+  piece.vp_v = -1.8;
+  piece.uncertainty = 0.03;
+  inv.pieces.push_back(piece);
+  auto s = test::basic_spec(4);
+  s.topologies = {"jfet-cs-self"};
+  const auto spread = synth::design(s, inv);
+  s.piece = "J5";
+  const auto measured = synth::design(s, inv);
+  REQUIRE_FALSE(measured.candidates.empty());
+  REQUIRE_FALSE(spread.candidates.empty());
+  CHECK(measured.candidates.front().error_worst < spread.candidates.front().error_worst);
+  CHECK(measured.candidates.front().score < spread.candidates.front().score);
+}
+
+TEST_CASE("the Monte Carlo yield is reproducible for a seed") {
+  synth::Inventory inv = test::small_shelf(10, {test::njfet()});
+  auto s = test::basic_spec(4);
+  s.topologies = {"jfet-cs-self"};
+  s.mc_samples = 200;
+  const auto a = synth::design(s, inv), b = synth::design(s, inv);
+  REQUIRE_FALSE(a.candidates.empty());
+  CHECK(a.candidates.front().yield == b.candidates.front().yield);
+  CHECK(*a.candidates.front().yield >= 0.0);
+  CHECK(*a.candidates.front().yield <= 1.0);
+}

@@ -1,0 +1,112 @@
+// What the shelf can make: combination laws, worst-case bounds, ratings, quantities.
+#include "shelfstage/synth/shelf.hpp"
+
+#include <doctest/doctest.h>
+
+#include <algorithm>
+
+#include "fixture.hpp"
+
+using namespace shelfstage;
+using synth::Join;
+using synth::Shelf;
+
+namespace {
+const synth::Combo* find(std::span<const synth::Combo> cs, double nominal, Join join) {
+  for (const auto& c : cs)
+    if (std::abs(c.nominal - nominal) < 1e-9 * nominal && c.join == join) return &c;
+  return nullptr;
+}
+}  // namespace
+
+TEST_CASE("series and parallel resistors follow R1 + R2 and R1 R2 / (R1 + R2), bounds from the parts' bounds") {
+  std::vector<store::Part> parts = {test::resistor(1, 10e3, 3), test::resistor(2, 150, 2)};
+  Shelf shelf(parts, {});
+  const auto* s = find(shelf.resistors(), 10150, Join::series);
+  REQUIRE(s);
+  CHECK(s->count == 2);
+  CHECK(s->lo == doctest::Approx(0.95 * 10150));  // both parts 5 % low
+  CHECK(s->hi == doctest::Approx(1.05 * 10150));
+  CHECK(shelf.recipe(*s) == "150+10k");
+  const auto* p = find(shelf.resistors(), 10e3 * 150 / 10150, Join::parallel);
+  REQUIRE(p);  // 10k across 150 moves it by 1.5 %: worth a pair
+  CHECK(shelf.recipe(*p) == "150||10k");
+}
+
+TEST_CASE("a pair that changes the value by less than 1 % is left out (lost in the tolerance)") {
+  std::vector<store::Part> parts = {test::resistor(1, 100, 3), test::resistor(2, 22e3, 3)};
+  Shelf shelf(parts, {});
+  CHECK(find(shelf.resistors(), 22100, Join::series) == nullptr);
+  CHECK(find(shelf.resistors(), 100 * 22e3 / 22100, Join::parallel) == nullptr);
+  CHECK(find(shelf.resistors(), 200, Join::series) != nullptr);
+}
+
+TEST_CASE("two pieces of one value need a quantity of at least two") {
+  std::vector<store::Part> one = {test::resistor(1, 4.7e3, 1)};
+  CHECK(find(Shelf(one, {}).resistors(), 9.4e3, Join::series) == nullptr);
+  std::vector<store::Part> two = {test::resistor(1, 4.7e3, 2)};
+  CHECK(find(Shelf(two, {}).resistors(), 9.4e3, Join::series) != nullptr);
+}
+
+TEST_CASE("the same value in two bins is one group with both lines, in natural bin order") {
+  std::vector<store::Part> parts = {test::resistor(1, 1e3, 2, "A10"), test::resistor(2, 1e3, 3, "A2")};
+  Shelf shelf(parts, {});
+  REQUIRE(shelf.groups().size() == 1);
+  CHECK(shelf.groups()[0].available == 5);
+  CHECK(shelf.groups()[0].lines == std::vector<std::int64_t>{2, 1});  // A2 before A10
+}
+
+TEST_CASE("reserved pieces are not available to the synthesizer") {
+  auto p = test::resistor(1, 1e3, 3);
+  p.reserved = 3;
+  Shelf shelf(std::vector<store::Part>{p}, {});
+  CHECK(shelf.resistors().empty());
+}
+
+TEST_CASE("capacitors: parallel adds, series only for non-polarised parts, ratings combine") {
+  std::vector<store::Part> parts = {test::capacitor(1, 10e-6, 2, 25, "electrolytic"),
+                                    test::capacitor(2, 100e-9, 2, 63, "film")};
+  Shelf shelf(parts, {});
+  CHECK(find(shelf.capacitors(), 20e-6, Join::parallel) != nullptr);
+  CHECK(find(shelf.capacitors(), 5e-6, Join::series) == nullptr);  // electrolytics are not put in series
+  const auto* fs = find(shelf.capacitors(), 50e-9, Join::series);
+  REQUIRE(fs);
+  CHECK(fs->rating == doctest::Approx(126));  // two equal film capacitors share the voltage
+  const auto* par = find(shelf.capacitors(), 20e-6, Join::parallel);
+  CHECK(par->rating == doctest::Approx(25));
+  CHECK(par->polarised);
+}
+
+TEST_CASE("resistor power ratings of combinations: the first part to reach its rating limits the pair") {
+  auto a = test::resistor(1, 1e3, 1);
+  auto b = test::resistor(2, 3e3, 1);
+  b.power_w = 0.5;
+  Shelf shelf(std::vector<store::Part>{a, b}, {});
+  // Series: I^2 limited by min(0.25 W / 1k, 0.5 W / 3k) = 0.5 / 3k; total 4k dissipates 4k x that.
+  CHECK(find(shelf.resistors(), 4e3, Join::series)->rating == doctest::Approx(0.5 / 3e3 * 4e3));
+  // Parallel: V^2 limited by 0.25 W x 1k; total 750 ohm dissipates V^2 / 750.
+  CHECK(find(shelf.resistors(), 750, Join::parallel)->rating == doctest::Approx(250.0 / 750.0));
+}
+
+TEST_CASE("capacitor_at_least takes the smallest adequate part, rated for the DC, polarised only when allowed") {
+  std::vector<store::Part> parts = {test::capacitor(1, 10e-6, 5, 6.3, "electrolytic"),
+                                    test::capacitor(2, 22e-6, 5, 25, "electrolytic"),
+                                    test::capacitor(3, 1e-6, 5, 63, "film")};
+  Shelf shelf(parts, {.combine = 1});
+  // 7 V DC: the 6.3 V part is refused though it is large enough.
+  const auto* c = shelf.capacitor_at_least(5e-6, 7, true);
+  REQUIRE(c);
+  CHECK(c->nominal == doctest::Approx(22e-6));
+  CHECK(shelf.capacitor_at_least(5e-6, 7, false) == nullptr);  // only film is allowed, and it is too small
+  CHECK(shelf.capacitor_at_least(0.8e-6, 7, false)->nominal == doctest::Approx(1e-6));
+}
+
+TEST_CASE("nearest offers the nearest values and the nearest single parts on either side") {
+  std::vector<store::Part> parts = {test::resistor(1, 10e3, 5), test::resistor(2, 150, 5), test::resistor(3, 12e3, 5)};
+  Shelf shelf(parts, {});
+  std::vector<double> out;
+  shelf.nearest(10.2e3, 1, out);
+  CHECK(std::find(out.begin(), out.end(), 10150.0) != out.end());  // 10k+150, the nearest
+  CHECK(std::find(out.begin(), out.end(), 10e3) != out.end());     // and the singles around it
+  CHECK(std::find(out.begin(), out.end(), 12e3) != out.end());
+}
