@@ -23,31 +23,45 @@ constexpr Role kRoles[] = {
     {"COUT", "C3", 'C', false, true, "collector", "out", "output coupling"},
 };
 
-// The low-frequency response with the input coupling and the emitter bypass solved together:
-// as the bypass fails the emitter impedance Ze rises, and with it the base's input impedance
-// (beta + 1)*Ze, which moves the input coupling corner. Two independent sections miss that
-// (by 10-15 % on f_low when the corners sit close together). ro is neglected here, so the
-// output coupling stays a section of its own:
-//   H(s) = beta/Zb * Zp/(Rsig + 1/(s CIN) + Zp) * s/(s + p_out),
-//   Zb = rpi + (beta + 1)*(RE1 + RE2/(1 + s CE RE2)), Zp = RTh || Zb.
+// The low-frequency response solved as one network: the input coupling, the emitter bypass
+// and the output coupling interact through the transistor (as the bypass fails, the emitter
+// impedance Ze rises, and with it the base's input impedance and the device's output
+// resistance). Independent sections miss that by 5-15 % on f_low when the corners sit close
+// together. The hybrid-pi with ro, complex impedances throughout (Zc = 1/(s C)):
+//   Ze = RE1 + RE2/(1 + s CE RE2), Rc = RC || (RL + Zc_out),
+//   Rib = rpi + Ze*((beta + 1)*ro + Rc)/(ro + Ze + Rc), Zp = RTh || Rib,
+//   H = Zp/(Rsig + Zc_in + Zp) * -(beta - (Rib - rpi)/ro)*(Rc || ro)/Rib * RL/(RL + Zc_out)
+// (the mid-band gain of evaluate() is H with every Zc = 0 and CE a short).
 struct CeLowResponse {
-  double beta = 0, rpi = 0, rth = 0, rsig = 0, re1 = 0, re2 = 0, ce = 0, cin = 0, p_out = 0;
+  double beta = 0, rpi = 0, rth = 0, rsig = 0, re1 = 0, re2 = 0, ce = 0, cin = 0, rc = 0, rl = 0, cout = 0;
+  double ro = 0;  ///< infinite: no Early effect
 
-  std::complex<double> input(std::complex<double> ze, std::complex<double> z_cin) const {
-    const std::complex<double> zb = rpi + (beta + 1.0) * ze;
-    const std::complex<double> zp = rth * zb / (rth + zb);
-    return beta / zb * zp / (rsig + z_cin + zp);
+  using cd = std::complex<double>;
+  cd transfer(cd ze, cd z_cin, cd z_cout) const {
+    const cd rcl = rc * (rl + z_cout) / (rc + rl + z_cout);
+    cd rib, av;
+    if (std::isinf(ro)) {
+      rib = rpi + (beta + 1.0) * ze;
+      av = -beta * rcl / rib;
+    } else {
+      rib = rpi + ze * ((beta + 1.0) * ro + rcl) / (ro + ze + rcl);
+      av = -(beta - (rib - rpi) / ro) * (rcl * ro / (rcl + ro)) / rib;
+    }
+    const cd zp = rth * rib / (rth + rib);
+    return zp / (rsig + z_cin + zp) * av * rl / (rl + z_cout);
   }
+  cd emitter(cd s) const { return re1 + (ce > 0 ? re2 / (1.0 + s * ce * re2) : cd(re2)); }
   /// |H(jw)|^2 relative to mid-band.
   double h2(double w) const {
-    const std::complex<double> s(0.0, w);
-    const std::complex<double> ze = re1 + re2 / (1.0 + s * ce * re2);
-    const double r = std::abs(input(ze, 1.0 / (s * cin)) / input(re1, 0.0));
-    return r * r * w * w / (w * w + p_out * p_out);
+    const cd s(0.0, w);
+    const double r = std::abs(transfer(emitter(s), 1.0 / (s * cin), 1.0 / (s * cout)) /
+                              transfer(ce > 0 ? cd(re1) : cd(re1 + re2), 0.0, 0.0));
+    return r * r;
   }
   /// The -3 dB frequency, Hz.
   double corner_hz() const {
-    double hi = std::max({p_out, 1.0 / (cin * (rsig + rth)), 1.0 / (ce * re2)});
+    double hi = std::max(1.0 / (cin * (rsig + rth)), 1.0 / (cout * rl));
+    if (ce > 0 && re2 > 0) hi = std::max(hi, 1.0 / (ce * re2));
     for (int i = 0; i < 40 && h2(hi) < 0.5; ++i) hi *= 4.0;
     double lo = hi * 1e-12;
     for (int i = 0; i < 80; ++i) {
@@ -136,14 +150,6 @@ class BjtCeDivider final : public Topology {
     p.swing_down_v = std::max(0.0, (b.vce_v - t.vce_sat_v) / (1.0 + r_deg / rl_ac));
     p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
 
-    detail::LfSection lf[3];
-    std::size_t n = 0;
-    lf[n++] = {1.0 / (v[CIN] * (c.source_ohm + p.zin_ohm)), 0.0};
-    lf[n++] = {1.0 / (v[COUT] * (p.zout_ohm + c.load_ohm)), 0.0};
-    if (v[CE] > 0 && v[RE2] > 0) {
-      const double look = v[RE1] + (rpi + rs2) / (beta + 1.0);
-      lf[n++] = {1.0 / (v[CE] * par(v[RE2], look)), 1.0 / (v[CE] * v[RE2])};
-    }
     // High corner: the hybrid-pi network (base, emitter, collector) solved exactly.
     detail::HybridPi m;
     m.g_src = 1.0 / rs2;
@@ -154,10 +160,12 @@ class BjtCeDivider final : public Topology {
     m.go = std::isinf(b.ro_ohm) ? 0.0 : 1.0 / b.ro_ohm;
     m.g_e = detail::g_of(r_deg);
     m.g_c = 1.0 / rl_ac;
-    detail::finish_response(p, std::span<const detail::LfSection>(lf, n), m, c, d);
-    if (v[CE] > 0 && v[RE2] > 0) {
-      // The bypass interacts with the input coupling: solve them together (CeLowResponse).
-      const CeLowResponse lr{beta, rpi, rth, c.source_ohm, v[RE1], v[RE2], v[CE], v[CIN], lf[1].pole_rad};
+    // The low-frequency side comes from CeLowResponse below, not from separate sections.
+    detail::finish_response(p, {}, m, c, d);
+    {
+      // The couplings and the bypass interact through the transistor: one network (CeLowResponse).
+      const CeLowResponse lr{beta,  rpi,    rth,         c.source_ohm, v[RE1], v[RE2], v[RE2] > 0 ? v[CE] : 0.0,
+                             v[CIN], v[RC], c.load_ohm, v[COUT],      ro};
       if (d == Detail::full) p.f_low_hz = lr.corner_hz();
       if (c.band_lo_hz > 0)
         p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz)));

@@ -113,8 +113,6 @@ class BjtFollower final : public Topology {
     p.swing_up_v = std::max(0.0, b.vce_v - t.vce_sat_v);
     p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
 
-    detail::LfSection lf[2] = {{1.0 / (v[CIN] * (c.source_ohm + p.zin_ohm)), 0.0},
-                               {1.0 / (v[COUT] * (p.zout_ohm + c.load_ohm)), 0.0}};
     // High corner: the hybrid-pi network with the collector at AC ground, output at the emitter.
     detail::HybridPi m;
     m.g_src = 1.0 / rs2;
@@ -126,7 +124,8 @@ class BjtFollower final : public Topology {
     m.g_e = 1.0 / par(v[RE], c.load_ohm);
     m.g_c = 1e9;
     m.out_at_emitter = true;
-    detail::finish_response(p, lf, m, c, d);
+    // The low-frequency side comes from FollowerLowResponse below, not from separate sections.
+    detail::finish_response(p, {}, m, c, d);
     {
       // The two coupling corners interact through the base: solve them together.
       const FollowerLowResponse lr{beta, rpi, rth, c.source_ohm, par(v[RE], b.ro_ohm), c.load_ohm, v[CIN], v[COUT]};
