@@ -1,0 +1,16 @@
+// Tests of src/stages/jfet_cs_self.cpp: the self-biased JFET common source, fast evaluator
+// and evaluate_exact, against ngspice (operating point, gain, corners, noise, HD2, clipping).
+#include <doctest/doctest.h>
+
+#include "stage_bench.hpp"
+
+using namespace shelfstage;
+using namespace shelfstage::test;
+
+TEST_CASE("jfet-cs-self against ngspice: corners of the spread, N and P channel, 5 V to 15 V") {
+  const stages::Topology& t = *stages::find_topology("jfet-cs-self");
+  ErrorLog log;
+  const auto cases = standard_cases(t);
+  for (const StageCase& sc : cases) check_case(log, sc);
+  log.report(fmt::format("jfet-cs-self: {} cases, worst relative error against ngspice", cases.size()));
+}
