@@ -51,22 +51,24 @@ struct CeLowResponse {
     return zp / (rsig + z_cin + zp) * av * rl / (rl + z_cout);
   }
   cd emitter(cd s) const { return re1 + (ce > 0 ? re2 / (1.0 + s * ce * re2) : cd(re2)); }
-  /// |H(jw)|^2 relative to mid-band.
-  double h2(double w) const {
+  cd mid() const { return transfer(ce > 0 ? cd(re1) : cd(re1 + re2), 0.0, 0.0); }
+  /// |H(jw)|^2 relative to mid-band (ref = mid()).
+  double h2(double w, cd ref) const {
     const cd s(0.0, w);
-    const double r = std::abs(transfer(emitter(s), 1.0 / (s * cin), 1.0 / (s * cout)) /
-                              transfer(ce > 0 ? cd(re1) : cd(re1 + re2), 0.0, 0.0));
-    return r * r;
+    return std::norm(transfer(emitter(s), 1.0 / (s * cin), 1.0 / (s * cout)) / ref);
   }
-  /// The -3 dB frequency, Hz.
+  /// The -3 dB frequency, Hz: bracketed by the sections' poles (the corner lies between the
+  /// largest and their sum), then bisection in log w.
   double corner_hz() const {
-    double hi = std::max(1.0 / (cin * (rsig + rth)), 1.0 / (cout * rl));
-    if (ce > 0 && re2 > 0) hi = std::max(hi, 1.0 / (ce * re2));
-    for (int i = 0; i < 40 && h2(hi) < 0.5; ++i) hi *= 4.0;
-    double lo = hi * 1e-12;
-    for (int i = 0; i < 80; ++i) {
-      const double mid = std::sqrt(lo * hi);
-      (h2(mid) < 0.5 ? lo : hi) = mid;
+    const cd ref = mid();
+    const double p_in = 1.0 / (cin * (rsig + rth)), p_out = 1.0 / (cout * rl);
+    const double p_e = (ce > 0 && re2 > 0) ? 1.0 / (ce * (re2 * (re1 + rpi / (beta + 1.0)) / (re2 + re1 + rpi / (beta + 1.0)))) : 0.0;
+    double lo = 0.25 * std::max({p_in, p_out, p_e}), hi = 4.0 * (p_in + p_out + p_e);
+    for (int i = 0; i < 40 && h2(lo, ref) >= 0.5; ++i) lo *= 0.25;
+    for (int i = 0; i < 40 && h2(hi, ref) < 0.5; ++i) hi *= 4.0;
+    for (int i = 0; i < 32; ++i) {
+      const double m = std::sqrt(lo * hi);
+      (h2(m, ref) < 0.5 ? lo : hi) = m;
     }
     return std::sqrt(lo * hi) / (2 * std::numbers::pi);
   }
@@ -168,7 +170,7 @@ class BjtCeDivider final : public Topology {
                              v[CIN], v[RC], c.load_ohm, v[COUT],      ro};
       if (d == Detail::full) p.f_low_hz = lr.corner_hz();
       if (c.band_lo_hz > 0)
-        p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz)));
+        p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz, lr.mid())));
     }
 
     if (d != Detail::core) {

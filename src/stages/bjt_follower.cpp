@@ -36,20 +36,23 @@ struct FollowerLowResponse {
     const std::complex<double> zp = rth * zb / (rth + zb);
     return zp / (rsig + z_cin + zp) * (beta + 1.0) * ze / zb * rl / branch;
   }
-  /// |H(jw)|^2 relative to mid-band.
-  double h2(double w) const {
+  std::complex<double> mid() const { return transfer(0.0, 0.0); }
+  /// |H(jw)|^2 relative to mid-band (ref = mid()).
+  double h2(double w, std::complex<double> ref) const {
     const std::complex<double> s(0.0, w);
-    const double r = std::abs(transfer(1.0 / (s * cin), 1.0 / (s * cout)) / transfer(0.0, 0.0));
-    return r * r;
+    return std::norm(transfer(1.0 / (s * cin), 1.0 / (s * cout)) / ref);
   }
-  /// The -3 dB frequency, Hz.
+  /// The -3 dB frequency, Hz: bracketed by the two poles (the corner lies between the larger
+  /// and their sum), then bisection in log w.
   double corner_hz() const {
-    double hi = std::max(1.0 / (cin * (rsig + rth)), 1.0 / (cout * rl));
-    for (int i = 0; i < 40 && h2(hi) < 0.5; ++i) hi *= 4.0;
-    double lo = hi * 1e-12;
-    for (int i = 0; i < 80; ++i) {
-      const double mid = std::sqrt(lo * hi);
-      (h2(mid) < 0.5 ? lo : hi) = mid;
+    const std::complex<double> ref = mid();
+    const double p_in = 1.0 / (cin * (rsig + rth)), p_out = 1.0 / (cout * rl);
+    double lo = 0.25 * std::max(p_in, p_out), hi = 4.0 * (p_in + p_out);
+    for (int i = 0; i < 40 && h2(lo, ref) >= 0.5; ++i) lo *= 0.25;
+    for (int i = 0; i < 40 && h2(hi, ref) < 0.5; ++i) hi *= 4.0;
+    for (int i = 0; i < 32; ++i) {
+      const double m = std::sqrt(lo * hi);
+      (h2(m, ref) < 0.5 ? lo : hi) = m;
     }
     return std::sqrt(lo * hi) / (2 * std::numbers::pi);
   }
@@ -131,7 +134,7 @@ class BjtFollower final : public Topology {
       const FollowerLowResponse lr{beta, rpi, rth, c.source_ohm, par(v[RE], b.ro_ohm), c.load_ohm, v[CIN], v[COUT]};
       if (d == Detail::full) p.f_low_hz = lr.corner_hz();
       if (c.band_lo_hz > 0)
-        p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz)));
+        p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz, lr.mid())));
     }
 
     if (d != Detail::core) {
