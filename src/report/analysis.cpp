@@ -1,0 +1,632 @@
+// The analysis of one stage: both evaluators, part stress against ratings, cautions, corners.
+#include "shelfstage/report/analysis.hpp"
+
+#include <algorithm>
+#include <cctype>
+#include <cmath>
+#include <fmt/format.h>
+
+#include "shelfstage/circuit/spice.hpp"
+#include "shelfstage/error.hpp"
+#include "shelfstage/report/design_text.hpp"
+#include "shelfstage/report/table.hpp"
+#include "shelfstage/stages/exact.hpp"
+#include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/tolerance.hpp"
+
+namespace shelfstage::report {
+
+namespace detail {
+namespace {
+
+using units::format_value;
+using units::Unit;
+
+// Smallest differences that count, per unit, so that figures at or near zero (a gate at 0 V,
+// the solver's 2 µV of junction leakage) do not show as a disagreement.
+constexpr double kFloorV = 1e-3, kFloorA = 1e-9, kFloorGain = 1e-3, kFloorOhm = 1e-3, kFloorHz = 1e-6,
+                 kFloorDb = 0.01, kFloorHd2 = 1e-5, kFloorNoise = 1e-12, kFloorW = 1e-6;
+
+// Capacitor margin: the DC plus the signal peak should stay under the rating by a quarter
+// (common practice; the synthesizer asks the same of the parts it picks).
+constexpr double kCapMargin = 1.25;
+// Resistors: at most half the rating (common practice).
+constexpr double kResistorDerating = 0.5;
+// Safety: above this supply the usual cautions apply (DOMAIN.md section 5).
+constexpr double kHazardousSupplyV = 60.0;
+
+bool same_name(std::string_view a, std::string_view b) {
+  if (a.size() != b.size()) return false;
+  for (std::size_t i = 0; i < a.size(); ++i)
+    if (std::toupper(static_cast<unsigned char>(a[i])) != std::toupper(static_cast<unsigned char>(b[i]))) return false;
+  return true;
+}
+
+// A transistor of a kind the topology takes (netlist building only looks at the polarity).
+stages::Transistor placeholder(const stages::Topology& t) {
+  stages::Transistor q;
+  for (auto k : {devices::DeviceKind::njfet, devices::DeviceKind::npn, devices::DeviceKind::pjfet,
+                 devices::DeviceKind::pnp}) {
+    if (t.accepts(k)) {
+      q.kind = k;
+      break;
+    }
+  }
+  q.jfet.kind = q.kind;
+  q.bjt.kind = q.kind;
+  return q;
+}
+
+// The roles whose parts the netlist actually places.
+std::vector<bool> placed(const stages::Topology& t, const stages::Values& v) {
+  const auto roles = t.roles();
+  std::vector<bool> out(roles.size(), false);
+  const circuit::Circuit net = t.netlist(v, placeholder(t), stages::Conditions{});
+  for (const auto& el : net.elements()) {
+    const std::size_t i = t.role_index(el.c.role);
+    if (i < roles.size()) out[i] = true;
+  }
+  return out;
+}
+
+std::string describe_net(const stages::Topology& t, std::string_view net) {
+  if (net == "0") return "ground";
+  if (net == stages::kNetIn) return "input side";
+  if (net == stages::kNetOut) return "output side";
+  if (net == stages::kNetSupply) return "supply";
+  if (net == "x") {
+    // The junction of the split source (emitter) resistor.
+    const auto names = t.node_names();
+    return names[1] == "source" ? "RS1-RS2 junction" : "RE1-RE2 junction";
+  }
+  return std::string(net);
+}
+
+const stages::Stress* stress_of(const stages::Performance& p, std::size_t role) {
+  for (const auto& s : p.stress)
+    if (s.role == role) return &s;
+  return nullptr;
+}
+
+std::string current_name(const stages::Topology& t) {
+  return t.node_names()[2] == "drain" ? "drain current" : "collector current";
+}
+
+std::string gain_text(double g) { return fmt::format("{} ({:.1f} dB)", fixed3(g), units::to_db(g)); }
+std::string hz_text(double f) { return f > 0 ? format_value(f, Unit::hertz) : "none found"; }
+std::string db_text(double db) { return fmt::format("{:.2f} dB", db); }
+std::string hd2_text(double h) { return fmt::format("{:.3g} %", h * 100); }
+std::string noise_text(double n) { return fmt::format("{:.3g} nV/√Hz", n * 1e9); }
+
+Json or_null(double v) { return v > 0 ? Json(v) : Json(nullptr); }
+
+Json performance_json(const stages::Topology& t, const stages::Performance& p) {
+  const auto names = t.node_names();
+  Json j;
+  j["valid"] = p.valid;
+  j["active"] = p.active;
+  j["problem"] = p.problem.empty() ? Json(nullptr) : Json(p.problem);
+  j["gain"] = p.gain;
+  j["gain_db"] = p.gain != 0 ? Json(units::to_db(p.gain)) : Json(nullptr);
+  j["bias_current"] = p.bias_current_a;
+  j["nodes"] = {{std::string(names[0]), p.v_in}, {std::string(names[1]), p.v_common}, {std::string(names[2]), p.v_out}};
+  j["zin"] = p.zin_ohm;
+  j["zout"] = p.zout_ohm;
+  j["f_low"] = or_null(p.f_low_hz);
+  j["f_high"] = or_null(p.f_high_hz);
+  j["loss_low_db"] = p.loss_lo_db;
+  j["loss_high_db"] = p.loss_hi_db;
+  j["swing_up"] = p.swing_up_v;
+  j["swing_down"] = p.swing_down_v;
+  j["swing_peak"] = p.swing_peak_v;
+  j["hd2"] = p.hd2;
+  j["noise"] = p.noise_v_rthz;
+  j["supply_current"] = p.supply_current_a;
+  return j;
+}
+
+// One figure of both evaluators: its JSON key, label, floor and formatter.
+struct FigureRow {
+  std::string key;
+  std::string label;
+  double exact = 0, closed = 0, floor = 0;
+  std::string (*format)(double) = nullptr;
+};
+
+std::string volts(double v) { return format_value(v, Unit::volt); }
+std::string amps(double v) { return format_value(v, Unit::ampere); }
+std::string ohms(double v) { return format_value(v, Unit::ohm); }
+
+std::vector<FigureRow> figure_rows(const Analysis& a) {
+  const auto& t = *a.stage.topology;
+  const auto& c = a.stage.conditions;
+  const auto names = t.node_names();
+  const stages::Performance& f = a.closed_form;
+  const stages::Performance& e = a.best();
+  std::vector<FigureRow> rows = {
+      {"nodes." + std::string(names[0]), fmt::format("V({})", names[0]), e.v_in, f.v_in, kFloorV, volts},
+      {"nodes." + std::string(names[1]), fmt::format("V({})", names[1]), e.v_common, f.v_common, kFloorV, volts},
+      {"nodes." + std::string(names[2]), fmt::format("V({})", names[2]), e.v_out, f.v_out, kFloorV, volts},
+      {"bias_current", current_name(t), e.bias_current_a, f.bias_current_a, kFloorA, amps},
+      {"supply_current", "supply current", e.supply_current_a, f.supply_current_a, kFloorA, amps},
+      {"gain", "gain, source to load", e.gain, f.gain, kFloorGain, gain_text},
+      {"zin", "input impedance", e.zin_ohm, f.zin_ohm, kFloorOhm, ohms},
+      {"zout", "output impedance", e.zout_ohm, f.zout_ohm, kFloorOhm, ohms},
+      {"f_low", "-3 dB low", e.f_low_hz, f.f_low_hz, kFloorHz, hz_text},
+      {"f_high", "-3 dB high", e.f_high_hz, f.f_high_hz, kFloorHz, hz_text},
+  };
+  if (c.band_lo_hz > 0)
+    rows.push_back({"loss_low_db", fmt::format("loss at {}", format_value(c.band_lo_hz, Unit::hertz)), e.loss_lo_db,
+                    f.loss_lo_db, kFloorDb, db_text});
+  if (c.band_hi_hz > 0)
+    rows.push_back({"loss_high_db", fmt::format("loss at {}", format_value(c.band_hi_hz, Unit::hertz)), e.loss_hi_db,
+                    f.loss_hi_db, kFloorDb, db_text});
+  rows.push_back({"swing_up", "swing up (peak)", e.swing_up_v, f.swing_up_v, kFloorV, volts});
+  rows.push_back({"swing_down", "swing down (peak)", e.swing_down_v, f.swing_down_v, kFloorV, volts});
+  rows.push_back({"swing_peak", "symmetric swing (peak)", e.swing_peak_v, f.swing_peak_v, kFloorV, volts});
+  rows.push_back({"hd2", fmt::format("HD2 at {} peak out", format_value(c.hd2_peak_v, Unit::volt)), e.hd2, f.hd2,
+                  kFloorHd2, hd2_text});
+  rows.push_back({"noise", fmt::format("input noise at {}", format_value(c.noise_f_hz, Unit::hertz)), e.noise_v_rthz,
+                  f.noise_v_rthz, kFloorNoise, noise_text});
+  return rows;
+}
+
+// A stress for the table: below what a meter reads (1 nW, 1 mV) it is shown as 0.
+std::string watts_shown(double w) { return format_value(w < 1e-9 ? 0.0 : w, Unit::watt); }
+std::string volts_shown(double v) { return format_value(std::abs(v) < 1e-3 ? 0.0 : v, Unit::volt); }
+
+std::string part_label(const PartStress& p) { return fmt::format("{} ({})", p.designator, p.name); }
+
+void judge_part(const stages::Topology& t, PartStress& p, std::vector<std::string>& warnings) {
+  const double rating = p.info.rating;
+  if (p.kind == 'R') {
+    if (rating > 0) {
+      p.use = p.power_w / (kResistorDerating * rating);
+      p.over = p.use > 1.0;
+    }
+    if (p.over) {
+      const double worst = std::max(p.power_w, p.power_closed_w);
+      warnings.push_back(fmt::format("{} dissipates {}, more than {} its {} rating (common practice: at most half)",
+                                     part_label(p), format_value(worst, Unit::watt),
+                                     worst > rating ? "all of" : "half", format_value(rating, Unit::watt)));
+    }
+    return;
+  }
+  const double dc = std::max(p.dc_v, p.dc_closed_v);
+  if (rating > 0) {
+    p.use = kCapMargin * (dc + p.peak_v) / rating;
+    p.over = p.use > 1.0;
+  }
+  if (p.over) {
+    const bool beyond = dc + p.peak_v > rating;
+    warnings.push_back(fmt::format("{} holds {} DC plus up to {} of signal: {} its {} rating", part_label(p),
+                                   format_value(dc, Unit::volt), format_value(p.peak_v, Unit::volt),
+                                   beyond ? "more than" : "less than a quarter of margin on",
+                                   format_value(rating, Unit::volt)));
+  }
+  // A polarised part wants its + lead at the higher DC voltage; a volt fraction either way
+  // is no bias at all (common practice: an electrolytic tolerates that).
+  if (p.info.polarised && !p.info.fitted_plus_net.empty() && p.dc_v > 0.05 && p.info.fitted_plus_net != p.plus_net) {
+    p.reversed = true;
+    warnings.push_back(fmt::format("{} is polarised and fitted with its + lead to the {}, but the {} sits {} higher: "
+                                   "turn it round",
+                                   part_label(p), describe_net(t, p.info.fitted_plus_net), describe_net(t, p.plus_net),
+                                   format_value(p.dc_v, Unit::volt)));
+  }
+}
+
+}  // namespace
+}  // namespace detail
+
+using detail::same_name;
+using units::format_value;
+using units::Unit;
+
+bool differs(double a, double b, double floor) {
+  const double d = std::abs(a - b);
+  return d > floor && d > 0.01 * std::max(std::abs(a), std::abs(b));
+}
+
+std::string role_list(const stages::Topology& t) {
+  std::string out;
+  for (const auto& r : t.roles()) {
+    if (!out.empty()) out += ' ';
+    out += r.optional ? fmt::format("[{}]", r.name) : std::string(r.name);
+  }
+  return out;
+}
+
+namespace {
+// What parts come in: resistors from 0.1 Ω to 1 GΩ, capacitors from 1 pF to 1 F.
+constexpr double kMinOhm = 0.1, kMaxOhm = 1e9, kMinFarad = 1e-12, kMaxFarad = 1.0;
+}  // namespace
+
+stages::Values role_values(const stages::Topology& t, const std::vector<std::pair<std::string, double>>& given) {
+  const auto roles = t.roles();
+  stages::Values v;
+  std::vector<bool> seen(roles.size(), false);
+  const std::string listing = fmt::format("{} takes {} (optional roles in brackets)", t.name(), role_list(t));
+  for (const auto& [name, value] : given) {
+    std::size_t i = 0;
+    while (i < roles.size() && !same_name(roles[i].name, name)) ++i;
+    if (i == roles.size()) throw InputError(fmt::format("role '{}' is unknown: {}", name, listing));
+    const Unit unit = roles[i].kind == 'R' ? Unit::ohm : Unit::farad;
+    if (seen[i])
+      throw InputError(fmt::format("role {} is given twice ({} and {})", roles[i].name, format_value(v[i], unit),
+                                   format_value(value, unit)));
+    if (!std::isfinite(value) || value <= 0)
+      throw InputError(fmt::format("role {} '{:g}': a part's value must be positive (leave an optional role out "
+                                   "instead)",
+                                   roles[i].name, value));
+    // A value far outside what parts come in is a slip of the unit (CIN=100 for 100n).
+    const double lo = roles[i].kind == 'R' ? kMinOhm : kMinFarad, hi = roles[i].kind == 'R' ? kMaxOhm : kMaxFarad;
+    if (value < lo || value > hi)
+      throw InputError(fmt::format("role {} '{}' is not a plausible {} ({}..{}): mind the prefix, as in {}",
+                                   roles[i].name, format_value(value, unit),
+                                   roles[i].kind == 'R' ? "resistance" : "capacitance", format_value(lo, unit),
+                                   format_value(hi, unit), roles[i].kind == 'R' ? "4k7 or 1M" : "100n or 10u"));
+    seen[i] = true;
+    v[i] = value;
+  }
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (!roles[i].optional && !seen[i])
+      throw InputError(fmt::format("role {} ({}) is missing: {}", roles[i].name, roles[i].what, listing));
+  }
+  // An optional part the netlist does not place needs a partner (a bypass capacitor needs the
+  // resistor it bypasses): find which missing role, once present, places it.
+  const std::vector<bool> in_net = detail::placed(t, v);
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (!seen[i] || in_net[i]) continue;
+    std::string partner;
+    for (std::size_t k = 0; k < roles.size() && partner.empty(); ++k) {
+      if (seen[k]) continue;
+      stages::Values w = v;
+      w[k] = roles[k].kind == 'R' ? 1e3 : 1e-6;
+      if (detail::placed(t, w)[i]) partner = std::string(roles[k].name);
+    }
+    if (!partner.empty())
+      throw InputError(fmt::format("role {} ({}) has no place without {}: give {} too, or leave {} out", roles[i].name,
+                                   roles[i].what, partner, partner, roles[i].name));
+    throw InputError(fmt::format("role {} ({}) has no place in this {}", roles[i].name, roles[i].what, t.name()));
+  }
+  return v;
+}
+
+Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread* spread) {
+  if (!stage.topology) throw InputError("analysis: no topology given");
+  const auto& t = *stage.topology;
+  const auto roles = t.roles();
+  if (!t.accepts(stage.transistor.kind))
+    throw InputError(fmt::format("{} does not take a {} ({})", t.name(), devices::kind_name(stage.transistor.kind),
+                                 t.summary()));
+  for (std::size_t i = 0; i < roles.size(); ++i)
+    if (!roles[i].optional && !(stage.values[i] > 0))
+      throw InputError(fmt::format("role {} ({}) is missing: {} takes {}", roles[i].name, roles[i].what, t.name(),
+                                   role_list(t)));
+
+  Analysis a;
+  a.stage = stage;
+  auto& c = a.stage.conditions;
+  const auto& q = stage.transistor;
+  if (!(c.hd2_peak_v > 0)) {
+    // 1 V peak, unless the stage cannot swing 2 V: then half of what it can.
+    const auto core = t.evaluate(stage.values, q, c, stages::Detail::core);
+    c.hd2_peak_v = 1.0;
+    if (core.valid && core.swing_peak_v > 0 && core.swing_peak_v < 2.0) c.hd2_peak_v = 0.5 * core.swing_peak_v;
+  }
+  a.closed_form = t.evaluate(stage.values, q, c, stages::Detail::full);
+  try {
+    a.exact = stages::evaluate_exact(t, stage.values, q, c, stages::Detail::full);
+  } catch (const Error& e) {
+    a.exact_problem = e.what();
+  }
+  const stages::Performance& best = a.best();
+
+  // Parts: stress from the exact solution (the closed form as the fallback and beside it).
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (!(stage.values[i] > 0)) continue;
+    PartStress p;
+    p.role = i;
+    p.name = std::string(roles[i].name);
+    p.kind = roles[i].kind;
+    p.value = stage.values[i];
+    p.info.role = p.name;
+    for (const auto& info : stage.parts)
+      if (same_name(info.role, p.name)) p.info = info;
+    p.designator = p.info.designator.empty() ? std::string(roles[i].designator) : p.info.designator;
+    const stages::Stress* fs = detail::stress_of(a.closed_form, i);
+    const stages::Stress* es = a.exact ? detail::stress_of(*a.exact, i) : nullptr;
+    if (!es) es = fs;
+    if (p.kind == 'R') {
+      p.power_w = es ? es->power_w : 0.0;
+      p.power_closed_w = fs ? fs->power_w : 0.0;
+    } else {
+      p.dc_v = es ? es->dc_v : 0.0;
+      p.dc_closed_v = fs ? fs->dc_v : 0.0;
+      p.plus_net = es ? std::string(es->plus_net) : std::string();
+      // The largest signal anywhere in the stage is the output's (inputs are smaller by the
+      // gain; a follower's input equals its output): a bound for every capacitor.
+      p.peak_v = std::max(best.swing_peak_v, 0.0);
+    }
+    detail::judge_part(t, p, a.warnings);
+    a.parts.push_back(p);
+  }
+
+  // The bias point itself.
+  if (!best.valid) {
+    a.warnings.insert(a.warnings.begin(),
+                      fmt::format("the transistor does not conduct ({}): the stage does not amplify",
+                                  best.problem.empty() ? a.closed_form.problem : best.problem));
+  } else if (!best.active) {
+    const std::string why = !best.problem.empty() ? best.problem
+                            : !a.closed_form.problem.empty() ? a.closed_form.problem
+                                                             : "out of its amplifying region";
+    a.warnings.insert(a.warnings.begin(),
+                      fmt::format("the transistor is {} at the bias point: the small-signal figures do not describe "
+                                  "a linear amplifier",
+                                  why));
+  }
+
+  // Cautions.
+  if (c.supply_v > detail::kHazardousSupplyV)
+    a.cautions.push_back(fmt::format(
+        "hazardous voltage: the {} supply is above 60 V DC; work de-energised, discharge every capacitor before "
+        "handling, mind capacitor voltage ratings and polarity, and follow local codes and licensed practice, which "
+        "take precedence over this program",
+        format_value(c.supply_v, Unit::volt)));
+  std::vector<std::string> unrated;
+  for (const auto& p : a.parts) {
+    if (p.info.polarised && !p.reversed)
+      a.cautions.push_back(fmt::format("{} is polarised: its + lead goes to the {}", detail::part_label(p),
+                                       detail::describe_net(t, p.info.fitted_plus_net.empty() ? p.plus_net
+                                                                                              : p.info.fitted_plus_net)));
+    if (!(p.info.rating > 0)) unrated.push_back(p.designator);
+  }
+  if (!unrated.empty())
+    a.cautions.push_back(fmt::format("no rating stated for {}: compare the stress listed with the parts fitted "
+                                     "(common practice: resistors at most half their power rating, capacitors rated "
+                                     "above the DC plus the signal peak with margin)",
+                                     fmt::join(unrated, ", ")));
+
+  if (spread) {
+    a.spread = spread->description();
+    for (const auto& f : spread->corners()) {
+      stages::Transistor qc;
+      qc.kind = q.kind;
+      if (devices::is_jfet(q.kind))
+        qc.jfet = spread->jfet(f, c.celsius);
+      else
+        qc.bjt = spread->bjt(f, c.celsius);
+      a.corners.push_back({f, t.evaluate(stage.values, qc, c, stages::Detail::core)});
+    }
+  }
+  return a;
+}
+
+Json analysis_json(const Analysis& a) {
+  const auto& t = *a.stage.topology;
+  const auto& q = a.stage.transistor;
+  const auto& c = a.stage.conditions;
+  Json j;
+  j["schema"] = 1;
+  j["topology"] = std::string(t.name());
+  Json model;
+  if (devices::is_jfet(q.kind)) {
+    model["idss"] = q.jfet.idss_a;
+    model["vp"] = -devices::polarity(q.kind) * q.jfet.vp_abs_v;
+    model["lambda"] = q.jfet.lambda_per_v;
+  } else {
+    model["is"] = q.bjt.is_a;
+    model["bf"] = q.bjt.bf;
+    model["vaf"] = q.bjt.vaf_v;
+  }
+  j["device"] = {{"name", a.stage.device},
+                 {"kind", std::string(devices::kind_name(q.kind))},
+                 {"piece", a.stage.piece.empty() ? Json(nullptr) : Json(a.stage.piece)},
+                 {"model", model}};
+  j["conditions"] = {{"supply", devices::polarity(q.kind) * c.supply_v},
+                     {"load", c.load_ohm},
+                     {"source_z", c.source_ohm},
+                     {"temp", c.celsius},
+                     {"band", c.band_lo_hz > 0 || c.band_hi_hz > 0 ? Json::array({c.band_lo_hz, c.band_hi_hz})
+                                                                     : Json(nullptr)},
+                     {"hd2_at", c.hd2_peak_v},
+                     {"noise_at", c.noise_f_hz}};
+  j["exact"] = a.exact ? detail::performance_json(t, *a.exact) : Json(nullptr);
+  j["exact_problem"] = a.exact_problem.empty() ? Json(nullptr) : Json(a.exact_problem);
+  j["closed_form"] = detail::performance_json(t, a.closed_form);
+  Json diff = Json::array();
+  if (a.exact)
+    for (const auto& r : detail::figure_rows(a))
+      if (differs(r.exact, r.closed, r.floor)) diff.push_back(r.key);
+  j["differs"] = diff;
+  Json parts = Json::array();
+  for (const auto& p : a.parts) {
+    Json pj;
+    pj["role"] = p.name;
+    pj["designator"] = p.designator;
+    pj["kind"] = std::string(1, p.kind);
+    pj["value"] = p.value;
+    pj["recipe"] = p.info.recipe.empty() ? Json(nullptr) : Json(p.info.recipe);
+    pj["tol"] = p.info.tol.empty() ? Json(nullptr) : Json(p.info.tol);
+    if (p.kind == 'R') {
+      pj["power"] = p.power_w;
+      pj["power_closed_form"] = p.power_closed_w;
+    } else {
+      pj["dielectric"] = p.info.dielectric.empty() ? Json(nullptr) : Json(p.info.dielectric);
+      pj["dc"] = p.dc_v;
+      pj["dc_closed_form"] = p.dc_closed_v;
+      pj["signal_peak"] = p.peak_v;
+      pj["plus_net"] = p.plus_net.empty() ? Json(nullptr) : Json(p.plus_net);
+      pj["polarised"] = p.info.polarised;
+      pj["fitted_plus_net"] = p.info.fitted_plus_net.empty() ? Json(nullptr) : Json(p.info.fitted_plus_net);
+    }
+    pj["rating"] = p.info.rating > 0 ? Json(p.info.rating) : Json(nullptr);
+    pj["use"] = p.info.rating > 0 ? Json(p.use) : Json(nullptr);
+    pj["over"] = p.over;
+    pj["reversed"] = p.reversed;
+    parts.push_back(pj);
+  }
+  j["parts"] = parts;
+  j["warnings"] = a.warnings;
+  j["cautions"] = a.cautions;
+  j["spread"] = a.spread.empty() ? Json(nullptr) : Json(a.spread);
+  Json corners = Json::array();
+  for (const auto& cf : a.corners) {
+    Json cj;
+    cj["tag"] = cf.piece.tag;
+    if (devices::is_jfet(q.kind)) {
+      cj["idss"] = cf.piece.idss_a;
+      cj["vp"] = -devices::polarity(q.kind) * cf.piece.vp_abs_v;
+    } else {
+      cj["hfe"] = cf.piece.hfe;
+    }
+    cj["figures"] = detail::performance_json(t, cf.performance);
+    corners.push_back(cj);
+  }
+  j["corners"] = corners;
+  return j;
+}
+
+std::string figures_text(const Analysis& a) {
+  std::string out;
+  if (a.exact) {
+    out += "Nominal figures: the netlist solved exactly (MNA); the closed form beside it where the two differ by "
+           "more than 1 %.\n";
+    TextTable t({{""}, {"exact", Align::right}, {"closed form", Align::right}});
+    for (const auto& r : detail::figure_rows(a))
+      t.add_row({r.label, r.format(r.exact), differs(r.exact, r.closed, r.floor) ? r.format(r.closed) : ""});
+    out += t.render({"  "});
+  } else {
+    out += fmt::format("Nominal figures from the closed form alone: the exact solver failed ({}).\n", a.exact_problem);
+    TextTable t({{""}, {"closed form", Align::right}});
+    for (const auto& r : detail::figure_rows(a)) t.add_row({r.label, r.format(r.closed)});
+    out += t.render({"  "});
+  }
+  return out;
+}
+
+std::string parts_text(const Analysis& a) {
+  const auto& t = *a.stage.topology;
+  TextTable table({{"role"},
+                   {"part"},
+                   {"value", Align::right},
+                   {"recipe"},
+                   {"tol"},
+                   {"stress", Align::right},
+                   {"closed form", Align::right},
+                   {"rating", Align::right},
+                   {"use", Align::right},
+                   {"note"}});
+  for (const auto& p : a.parts) {
+    std::string stress, closed, rating, note;
+    if (p.kind == 'R') {
+      stress = detail::watts_shown(p.power_w);
+      if (differs(p.power_w, p.power_closed_w, detail::kFloorW)) closed = detail::watts_shown(p.power_closed_w);
+      rating = p.info.rating > 0 ? format_value(p.info.rating, Unit::watt) : "not stated";
+    } else {
+      stress = fmt::format("{} DC + {} pk", detail::volts_shown(p.dc_v), detail::volts_shown(p.peak_v));
+      if (differs(p.dc_v, p.dc_closed_v, detail::kFloorV))
+        closed = fmt::format("{} DC", detail::volts_shown(p.dc_closed_v));
+      rating = p.info.rating > 0 ? format_value(p.info.rating, Unit::volt) : "not stated";
+      if (p.dc_v > 0.05) note = fmt::format("+ to {}", detail::describe_net(t, p.plus_net));
+      if (!p.info.dielectric.empty()) note = p.info.dielectric + (note.empty() ? "" : ", " + note);
+    }
+    if (p.over) note += note.empty() ? "OVER RATING" : "; OVER RATING";
+    if (p.reversed) note += note.empty() ? "REVERSED" : "; REVERSED";
+    const Unit unit = p.kind == 'R' ? Unit::ohm : Unit::farad;
+    table.add_row({p.name, p.designator, format_value(p.value, unit), p.info.recipe, p.info.tol, stress, closed, rating,
+                   p.info.rating > 0 ? fmt::format("{:.0f}%", p.use * 100) : "", note});
+  }
+  std::string out =
+      "Parts and their stress (use: share of what the part may take: resistors half their rating, capacitors their "
+      "rating less a quarter of margin):\n";
+  out += table.render({"  "});
+  return out;
+}
+
+std::string corners_text(const Analysis& a) {
+  if (a.corners.empty()) return {};
+  const auto& t = *a.stage.topology;
+  const auto& q = a.stage.transistor;
+  const bool jfet = devices::is_jfet(q.kind);
+  const auto names = t.node_names();
+  std::vector<Column> cols = {{"piece"}};
+  if (jfet) {
+    cols.push_back({"IDSS", Align::right});
+    cols.push_back({"VP", Align::right});
+  } else {
+    cols.push_back({"hFE", Align::right});
+  }
+  for (const char* title : {"bias", "", "", "gain", "swing pk", "state"}) cols.push_back({title, Align::right});
+  cols[cols.size() - 5].title = fmt::format("V({})", names[1]);
+  cols[cols.size() - 4].title = fmt::format("V({})", names[2]);
+  cols.back().align = Align::left;
+  TextTable table(cols);
+  for (const auto& cf : a.corners) {
+    const auto& p = cf.performance;
+    std::string tag = cf.piece.tag;
+    if (const auto paren = tag.find(" ("); paren != std::string::npos) tag = tag.substr(0, paren);
+    std::vector<std::string> row = {tag};
+    if (jfet) {
+      row.push_back(format_value(cf.piece.idss_a, Unit::ampere));
+      row.push_back(format_value(-devices::polarity(q.kind) * cf.piece.vp_abs_v, Unit::volt));
+    } else {
+      row.push_back(fmt::format("{:.0f}", cf.piece.hfe));
+    }
+    if (p.valid) {
+      row.push_back(format_value(p.bias_current_a, Unit::ampere));
+      row.push_back(format_value(p.v_common, Unit::volt));
+      row.push_back(format_value(p.v_out, Unit::volt));
+      row.push_back(fixed3(p.gain));
+      row.push_back(format_value(p.swing_peak_v, Unit::volt));
+      row.push_back(p.active ? "ok" : p.problem);
+    } else {
+      row.insert(row.end(), {"", "", "", "", "", p.problem.empty() ? "cut off" : p.problem});
+    }
+    table.add_row(row);
+  }
+  std::string out = fmt::format("The closed form at the device's corner pieces ({}, {:g} °C), to show how far another "
+                                "piece moves the bias:\n",
+                                a.spread, a.stage.conditions.celsius);
+  out += table.render({"  "});
+  return out;
+}
+
+std::string stage_spice(const StageUnderTest& s) {
+  if (!s.topology) throw InputError("SPICE export: no topology given");
+  const auto& t = *s.topology;
+  const circuit::Circuit net = t.netlist(s.values, s.transistor, s.conditions);
+  circuit::SpiceOptions o;
+  // ASCII only: some SPICE versions stumble over other characters, even in the title.
+  o.title = fmt::format("shelfstage: {} with {}{}, supply {} V, load {} ohm, source {} ohm", t.name(),
+                        s.device.empty() ? std::string(devices::kind_name(s.transistor.kind)) : s.device,
+                        s.piece.empty() ? " (nominal piece)" : " (measured piece " + s.piece + ")",
+                        format_value(devices::polarity(s.transistor.kind) * s.conditions.supply_v),
+                        format_value(s.conditions.load_ohm), format_value(s.conditions.source_ohm));
+  o.celsius = s.conditions.celsius;
+  std::string nodes;
+  if (const auto* q = net.find("Q1")) {
+    for (std::size_t pin : q->c.pins) {
+      const std::string n = circuit::spice_net(net, pin);
+      if (n != "0") nodes += fmt::format(" v({})", n);
+    }
+  }
+  o.analyses = {
+      "* Run with: ngspice -b THIS_FILE (prints the operating point, the mid-band gain and the -3 dB corners)",
+      ".control",
+      "op",
+      "print" + nodes,
+      "let supply_current = abs(i(vdd))",
+      "print supply_current",
+      "ac dec 20 0.1 1e9",
+      "meas ac gain_mid_db max vdb(out)",
+      "let edge_db = gain_mid_db - 3",
+      "meas ac f_low when vdb(out)=$&edge_db rise=1",
+      "meas ac f_high when vdb(out)=$&edge_db fall=last",
+      ".endc",
+  };
+  return circuit::to_spice(net, o);
+}
+
+}  // namespace shelfstage::report
