@@ -61,6 +61,13 @@ void setup_devices(CLI::App& parent, Context& ctx);
 void setup_check(CLI::App& parent, Context& ctx);
 void setup_demo(CLI::App& parent, Context& ctx);
 void setup_design(CLI::App& parent, Context& ctx);
+void setup_pick(CLI::App& parent, Context& ctx);
+void setup_reserve(CLI::App& parent, Context& ctx);
+void setup_release(CLI::App& parent, Context& ctx);
+void setup_build(CLI::App& parent, Context& ctx);
+void setup_builds(CLI::App& parent, Context& ctx);
+void setup_ledger(CLI::App& parent, Context& ctx);
+void setup_shop(CLI::App& parent, Context& ctx);
 
 /// Writes a JSON document on ctx.out (indented two spaces, then a newline).
 void print_json(Context& ctx, const nlohmann::ordered_json& doc);

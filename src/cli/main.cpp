@@ -15,5 +15,12 @@ int main(int argc, char** argv) {
   setup_check(app, ctx);
   setup_demo(app, ctx);
   setup_design(app, ctx);
+  setup_pick(app, ctx);
+  setup_reserve(app, ctx);
+  setup_release(app, ctx);
+  setup_build(app, ctx);
+  setup_builds(app, ctx);
+  setup_ledger(app, ctx);
+  setup_shop(app, ctx);
   return run_app(app, ctx, argc, argv);
 }
