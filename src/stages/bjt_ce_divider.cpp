@@ -176,7 +176,8 @@ class BjtCeDivider final : public Topology {
     if (d != Detail::core) {
       // Second-order expansion of the exponential law with the Early effect on the mid-band
       // network (to first order: Vo/(4*IC*RL'*(1 + gm*(Rdeg + Rs''/(beta + 1))))).
-      p.hd2 = detail::second_harmonic(m, detail::bjt_second_order(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm), c.hd2_peak_v);
+      if (d == Detail::full)
+        p.hd2 = detail::second_harmonic(m, detail::bjt_second_order(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm), c.hd2_peak_v);
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double q2 = 2.0 * devices::kCharge;
       const double dd = 1.0 + (rs2 + r_deg) / rpi + gm * r_deg;

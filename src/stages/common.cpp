@@ -194,8 +194,25 @@ double hybrid_pi_gain(const HybridPi& m, double w) {
   return std::sqrt(norm2(m.out_at_emitter ? x[1] : x[2]));
 }
 
+double hybrid_pi_dc_gain(const HybridPi& m) {
+  // The same network with the capacitances open: a real 3x3 solve (Cramer's rule).
+  const double a[3][3] = {{m.g_src + m.gpi, -m.gpi, 0.0},
+                          {-m.gpi - m.gm, m.gpi + m.gm + m.go + m.g_e, -m.go},
+                          {m.gm, -m.gm - m.go, m.go + m.g_c}};
+  auto det3 = [](const double x[3][3]) {
+    return x[0][0] * (x[1][1] * x[2][2] - x[1][2] * x[2][1]) - x[0][1] * (x[1][0] * x[2][2] - x[1][2] * x[2][0]) +
+           x[0][2] * (x[1][0] * x[2][1] - x[1][1] * x[2][0]);
+  };
+  const double d = det3(a);
+  const int col = m.out_at_emitter ? 1 : 2;
+  double b[3][3];
+  for (int r = 0; r < 3; ++r)
+    for (int k = 0; k < 3; ++k) b[r][k] = k == col ? (r == 0 ? m.g_src : 0.0) : a[r][k];
+  return std::abs(det3(b) / d);
+}
+
 double hybrid_pi_corner_hz(const HybridPi& m) {
-  const double h0 = hybrid_pi_gain(m, 1.0);
+  const double h0 = hybrid_pi_dc_gain(m);
   const double target = h0 / std::numbers::sqrt2;
   // Start from the open-circuit time-constant estimate and bracket the crossing.
   const double rb = 1.0 / (m.g_src + m.gpi);
@@ -230,7 +247,7 @@ void finish_response(Performance& p, std::span<const LfSection> lf, const Hybrid
     p.loss_lo_db = std::max(0.0, -10.0 * std::log10(h2));
   }
   if (c.band_hi_hz > 0) {
-    const double r = hybrid_pi_gain(m, 2 * std::numbers::pi * c.band_hi_hz) / hybrid_pi_gain(m, 1.0);
+    const double r = hybrid_pi_gain(m, 2 * std::numbers::pi * c.band_hi_hz) / hybrid_pi_dc_gain(m);
     p.loss_hi_db = std::max(0.0, -20.0 * std::log10(r));
   }
 }

@@ -67,6 +67,8 @@ struct HybridPi {
 };
 /// |output / Thevenin source| at angular frequency w (rad/s), by a 3x3 complex solve.
 double hybrid_pi_gain(const HybridPi& m, double w);
+/// The same at zero frequency (capacitances open), by a real 3x3 solve.
+double hybrid_pi_dc_gain(const HybridPi& m);
 /// The upper -3 dB frequency (Hz) of that response, relative to its low-frequency value.
 double hybrid_pi_corner_hz(const HybridPi& m);
 /// Sets the band-edge losses of p (always) and f_low, f_high (Detail::full only: the -3 dB

@@ -82,7 +82,8 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
     // HD2 = |g2|*Vo/(2*g1^2*RL'). Without lambda this is Vo/(8*ID*RL'*(1 + gm*Rdeg)); the
     // lambda cross term (the drain swing modulating the channel) lowers it by roughly
     // 4*lambda*ID*RL', tens of percent for common parts.
-    p.hd2 = second_harmonic(m, jfet_second_order(q, b.vgst_v, b.vds_v), c.hd2_peak_v);
+    if (detail == Detail::full)
+      p.hd2 = second_harmonic(m, jfet_second_order(q, b.vgst_v, b.vds_v), c.hd2_peak_v);
     const double kt4 = thermal_v2(1.0, c.celsius);  // 4kT
     const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
     double v2 = kt4 * par(rsig, s.r_gate_ohm);              // source and gate resistors

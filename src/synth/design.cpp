@@ -47,7 +47,7 @@ class Searcher {
   std::vector<Candidate> run(const Job& job, SearchStats& stats) const {
     const StageBuilder builder(spec_, shelf_, *job.topology, *job.device, job.piece, job.device_available);
     const auto roles = job.topology->roles();
-    std::vector<Candidate> found;
+    std::vector<StageBuilder::Draft> found;
     std::unordered_set<std::uint64_t> seen;
     job.topology->propose(builder.goal(), builder.nominal_device(), builder.conditions(), shelf_,
                           [&](const stages::Values& proposal) {
@@ -55,8 +55,8 @@ class Searcher {
                             std::string key(reinterpret_cast<const char*>(proposal.v.data()),
                                             roles.size() * sizeof(double));
                             if (!seen.insert(fnv1a(key)).second) return;
-                            Candidate c;
-                            if (builder.complete(proposal, c, stats)) found.push_back(std::move(c));
+                            StageBuilder::Draft d;
+                            if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
                           });
     // The full corner pass (~100 evaluations) only for the most promising, chosen by a
     // quick estimate over the device's corner pieces.
@@ -70,9 +70,17 @@ class Searcher {
     // (their quick estimates are near-ties the full pass settles).
     std::vector<std::size_t> chosen, heads;
     std::vector<int> members;
+    // Variants in one resistor (same topology and device within a job).
+    auto variant = [&](const StageBuilder::Draft& a, const StageBuilder::Draft& b) {
+      int differ = 0;
+      for (std::size_t r = 0; r < roles.size(); ++r)
+        if (roles[r].kind == 'R' && std::abs(a.values[r] - b.values[r]) > 1e-9 * std::max(a.values[r], b.values[r]))
+          ++differ;
+      return differ <= 1;
+    };
     for (const auto& [score, i] : order) {
       std::size_t f = 0;
-      while (f < heads.size() && !is_variant(found[heads[f]], found[i])) ++f;
+      while (f < heads.size() && !variant(found[heads[f]], found[i])) ++f;
       if (f == heads.size()) {
         if (heads.size() >= kKeep) continue;
         heads.push_back(i);
@@ -82,8 +90,10 @@ class Searcher {
       ++members[f];
       chosen.push_back(i);
     }
-    for (std::size_t i : chosen)
-      if (builder.assess(found[i], stats)) kept.push_back(std::move(found[i]));
+    for (std::size_t i : chosen) {
+      Candidate c = builder.candidate(found[i]);
+      if (builder.assess(c, stats)) kept.push_back(std::move(c));
+    }
     return kept;
   }
 
@@ -115,6 +125,7 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
       cache_(std::make_unique<Cache>()) {
   const double t_nom = spec.temp_nominal_c();
   q_ = detail::make_transistor(spread_, spread_.nominal(), t_nom);
+  for (const auto& f : spread_.corners()) corner_devices_.push_back(detail::make_transistor(spread_, f, t_nom));
   cond_ = detail::conditions(spec, spec.supply_nominal_v(), t_nom);
   cond_hi_ = detail::conditions(spec, spec.supply_hi_v, t_nom);
 }
@@ -131,7 +142,14 @@ stages::Goal StageBuilder::goal() const {
   return g;
 }
 
-bool StageBuilder::complete(const stages::Values& proposal, Candidate& out, SearchStats& stats) const {
+bool StageBuilder::complete(const stages::Values& resistors, Candidate& out, SearchStats& stats) const {
+  Draft d;
+  if (!draft(resistors, d, stats)) return false;
+  out = candidate(d);
+  return true;
+}
+
+bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats& stats) const {
   const auto& t = topology_;
   const auto roles = t.roles();
   // A light draft first: values and the combos that make them; a Candidate (strings,
@@ -151,6 +169,26 @@ bool StageBuilder::complete(const stages::Values& proposal, Candidate& out, Sear
   stages::Values trial = values;
   for (std::size_t i = 0; i < roles.size(); ++i)
     if (roles[i].kind == 'C') trial[i] = targets[i];
+  {
+    // Most proposals miss the gain window or a constraint already with ideal capacitors:
+    // one evaluation settles them before any capacitor is looked up.
+    const auto ideal = t.evaluate(trial, q_, cond_, stages::Detail::core);
+    ++stats.evaluations;
+    if (ideal.valid && ideal.active) {
+      stats.best_gain = std::max(stats.best_gain, std::abs(ideal.gain));
+      stats.best_swing = std::max(stats.best_swing, ideal.swing_peak_v);
+      stats.best_zin = std::max(stats.best_zin, ideal.zin_ohm);
+    }
+    const std::string v = detail::violation(spec_, ideal);
+    if (!v.empty() && v != "band") {
+      ++stats.failures[v];
+      return false;
+    }
+    if (!detail::gain_ok(spec_, ideal.gain)) {
+      ++stats.failures["gain"];
+      return false;
+    }
+  }
   const auto pre = t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
   ++stats.evaluations;
   if (!pre.valid) {
@@ -211,31 +249,42 @@ bool StageBuilder::complete(const stages::Values& proposal, Candidate& out, Sear
     ++stats.failures["gain"];
     return false;
   }
-  Candidate& c = out;
-  c.topology = &t;
+  out.values = values;
+  out.combos = combos;
+  out.plus = plus;
+  out.nominal = nominal;
+  out.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
+  out.pieces = 1;
+  for (const Combo* cb : combos)
+    if (cb) out.pieces += cb->count;
+  return true;
+}
+
+Candidate StageBuilder::candidate(const Draft& d) const {
+  Candidate c;
+  c.topology = &topology_;
   c.device = device_;
   if (piece_) c.piece = *piece_;
   c.nominal_device = q_;
   c.conditions = cond_;
-  c.values = values;
-  c.nominal = nominal;
+  c.values = d.values;
+  c.nominal = d.nominal;
   c.pieces = 1;
-  c.parts.clear();
-  for (std::size_t i = 0; i < roles.size(); ++i) {
-    if (!combos[i]) continue;
-    add_part(c, i, *combos[i]);
-    if (combos[i]->polarised) c.parts.back().plus_net = std::string(plus[i]);
-    c.pieces += combos[i]->count;
-    if (combos[i]->purchase) c.purchases += combos[i]->count;
+  for (std::size_t i = 0; i < topology_.roles().size(); ++i) {
+    if (!d.combos[i]) continue;
+    add_part(c, i, *d.combos[i]);
+    if (d.combos[i]->polarised) c.parts.back().plus_net = std::string(d.plus[i]);
+    c.pieces += d.combos[i]->count;
+    if (d.combos[i]->purchase) c.purchases += d.combos[i]->count;
   }
-  c.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
-  return true;
+  c.error_nominal = d.error_nominal;
+  return c;
 }
 
-double StageBuilder::quick_score(const Candidate& c, SearchStats& stats) const {
+double StageBuilder::quick_score(const Draft& c, SearchStats& stats) const {
   double worst = std::abs(c.error_nominal);
-  for (const auto& f : spread_.corners()) {
-    const auto p = topology_.evaluate(c.values, detail::make_transistor(spread_, f, spec_.temp_nominal_c()), cond_);
+  for (const auto& q : corner_devices_) {
+    const auto p = topology_.evaluate(c.values, q, cond_);
     ++stats.evaluations;
     if (!p.valid || !p.active) return 1e6;
     worst = std::max(worst, std::abs(std::abs(p.gain) / spec_.gain - 1.0));

@@ -225,10 +225,18 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
         }
       }
   }
-  std::sort(out.begin(), out.end(), [](const Combo& a, const Combo& b) {
-    if (a.nominal != b.nominal) return a.nominal < b.nominal;
+  // Sort small keys, then gather: moving 16-byte keys beats moving the combos themselves.
+  std::vector<std::pair<double, std::uint32_t>> keys(out.size());
+  for (std::uint32_t i = 0; i < out.size(); ++i) keys[i] = {out[i].nominal, i};
+  std::sort(keys.begin(), keys.end(), [&](const auto& x, const auto& y) {
+    if (x.first != y.first) return x.first < y.first;
+    const Combo &a = out[x.second], &b = out[y.second];
     return std::make_tuple(a.purchase, a.count, a.hi - a.lo) < std::make_tuple(b.purchase, b.count, b.hi - b.lo);
   });
+  std::vector<Combo> sorted;
+  sorted.reserve(out.size());
+  for (const auto& k : keys) sorted.push_back(out[k.second]);
+  out = std::move(sorted);
 }
 
 void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) const {

@@ -92,7 +92,7 @@ struct Performance {
 };
 
 /// How much the fast evaluator computes: `core` (bias, gain, Zin, Zout, swing, band-edge
-/// losses) for the search; `stress` adds part stress, HD2 and noise; `full` adds the -3 dB
+/// losses) for the search; `stress` adds part stress and noise; `full` adds HD2 and the -3 dB
 /// corners (their searches cost more than all the rest).
 enum class Detail { core, stress, full };
 

@@ -2,6 +2,7 @@
 // the worst-case corners of device spread, part tolerances, supply and temperature, ranked.
 #pragma once
 #include <cstdint>
+#include <array>
 #include <functional>
 #include <map>
 #include <memory>
@@ -121,12 +122,25 @@ class StageBuilder {
   /// checked for every copy, the nominal constraints and the gain window. Returns true and
   /// fills out when the stage works at nominal; otherwise counts the reason in stats.
   bool complete(const stages::Values& resistors, Candidate& out, SearchStats& stats) const;
+
+  /// What complete() decides, without the strings and lists of a Candidate: the search
+  /// keeps thousands of these and turns only the chosen into candidates.
+  struct Draft {
+    stages::Values values;
+    std::array<const Combo*, stages::kMaxRoles> combos{};
+    std::array<std::string_view, stages::kMaxRoles> plus{};  ///< + lead nets of polarised parts
+    stages::Performance nominal;
+    double error_nominal = 0;
+    int pieces = 0;
+  };
+  bool draft(const stages::Values& resistors, Draft& out, SearchStats& stats) const;
+  Candidate candidate(const Draft& d) const;
+  double quick_score(const Draft& d, SearchStats& stats) const;
   /// The worst-case pass, score and cautions (no yield). True when every corner holds;
   /// otherwise counts the reason in stats.corner_failures.
   bool assess(Candidate& c, SearchStats& stats) const;
   /// A quick worst-case estimate (the device's corner pieces, nominal parts) used to pick
   /// which candidates get the full corner pass.
-  double quick_score(const Candidate& c, SearchStats& stats) const;
 
   const stages::Transistor& nominal_device() const { return q_; }
   const stages::Conditions& conditions() const { return cond_; }
@@ -144,6 +158,7 @@ class StageBuilder {
   int device_available_;
   devices::DeviceSpread spread_;
   stages::Transistor q_;
+  std::vector<stages::Transistor> corner_devices_;
   stages::Conditions cond_, cond_hi_;
   std::unique_ptr<Cache> cache_;
 };
