@@ -61,6 +61,8 @@ void setup_devices(CLI::App& parent, Context& ctx);
 void setup_check(CLI::App& parent, Context& ctx);
 void setup_demo(CLI::App& parent, Context& ctx);
 void setup_design(CLI::App& parent, Context& ctx);
+void setup_show(CLI::App& parent, Context& ctx);
+void setup_analyze(CLI::App& parent, Context& ctx);
 void setup_pick(CLI::App& parent, Context& ctx);
 void setup_reserve(CLI::App& parent, Context& ctx);
 void setup_release(CLI::App& parent, Context& ctx);

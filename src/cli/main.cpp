@@ -15,6 +15,8 @@ int main(int argc, char** argv) {
   setup_check(app, ctx);
   setup_demo(app, ctx);
   setup_design(app, ctx);
+  setup_show(app, ctx);
+  setup_analyze(app, ctx);
   setup_pick(app, ctx);
   setup_reserve(app, ctx);
   setup_release(app, ctx);

@@ -1,0 +1,195 @@
+// `shelfstage show ID`: the full analysis of a kept design, recomputed from today's device list.
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <memory>
+#include <optional>
+
+#include "commands.hpp"
+#include "stage_view.hpp"
+#include "shelfstage/error.hpp"
+#include "shelfstage/report/analysis.hpp"
+#include "shelfstage/report/design_json.hpp"
+#include "shelfstage/report/design_text.hpp"
+#include "shelfstage/report/table.hpp"
+#include "shelfstage/store/designs.hpp"
+#include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/tolerance.hpp"
+
+namespace shelfstage::cli {
+
+namespace {
+
+using units::format_value;
+using units::Unit;
+
+/// The options of `show`; a later `--plot FILE` (response plots) adds a field here and a line
+/// in setup_show.
+struct ShowOptions {
+  std::string id;
+  std::optional<std::string> spice;  ///< --spice FILE: the netlist for ngspice
+};
+
+/// A combination's tolerance for people: "5%", "3.2%" or "-10/+20%" (two significant digits).
+std::string tol_text(const units::Tolerance& t) {
+  const std::string minus = fmt::format("{:.2g}", t.minus * 100), plus = fmt::format("{:.2g}", t.plus * 100);
+  return minus == plus ? plus + "%" : fmt::format("-{}/+{}%", minus, plus);
+}
+
+/// The stage of a kept design, with what the stock says about each part.
+report::StageUnderTest stage_of(const synth::Candidate& c) {
+  report::StageUnderTest s;
+  s.topology = c.topology;
+  s.values = c.values;
+  s.transistor = c.nominal_device;
+  s.conditions = c.conditions;
+  s.device = c.device.name;
+  if (c.piece) s.piece = c.piece->label;
+  for (const auto& rp : c.parts) {
+    report::PartInfo info;
+    info.role = rp.role;
+    info.designator = rp.designator;
+    info.recipe = rp.recipe;
+    info.tol = tol_text(rp.tol);
+    info.dielectric = rp.dielectric;
+    info.rating = rp.rating;
+    info.polarised = rp.polarised;
+    info.fitted_plus_net = rp.plus_net;
+    s.parts.push_back(info);
+  }
+  return s;
+}
+
+std::string range_text(const synth::Range& r, std::string (*format)(double)) {
+  if (r.empty) return "—";
+  return fmt::format("{} .. {}", format(r.min), format(r.max));
+}
+
+std::string volts(double v) { return format_value(v, Unit::volt); }
+std::string amps(double v) { return format_value(v, Unit::ampere); }
+std::string ohms(double v) { return format_value(v, Unit::ohm); }
+std::string hertz(double v) { return v > 0 ? format_value(v, Unit::hertz) : "none"; }
+
+std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
+  const auto& w = c.worst;
+  const auto names = c.topology->node_names();
+  std::string out = fmt::format(
+      "Worst case over {} evaluations (closed form: device corners, part tolerances at their bounds, supply {}, "
+      "{}):\n",
+      w.evaluations,
+      spec.supply_lo_v == spec.supply_hi_v
+          ? volts(spec.supply_lo_v)
+          : fmt::format("{}..{}", volts(spec.supply_lo_v), volts(spec.supply_hi_v)),
+      spec.temp_c ? fmt::format("{:g}..{:g} °C", spec.temp_c->first, spec.temp_c->second)
+                  : fmt::format("{:g} °C", spec.temp_nominal_c()));
+  report::TextTable t({{""}, {"min .. max", report::Align::right}});
+  t.add_row({"gain", range_text(w.gain, report::fixed3)});
+  t.add_row({names[2] == "drain" ? "drain current" : "collector current", range_text(w.bias_current, amps)});
+  t.add_row({fmt::format("V({})", names[0]), range_text(w.v_in, volts)});
+  t.add_row({fmt::format("V({})", names[1]), range_text(w.v_common, volts)});
+  t.add_row({fmt::format("V({})", names[2]), range_text(w.v_out, volts)});
+  t.add_row({"symmetric swing (peak)", range_text(w.swing_peak, volts)});
+  t.add_row({"input impedance", range_text(w.zin, ohms)});
+  t.add_row({"output impedance", range_text(w.zout, ohms)});
+  t.add_row({"-3 dB low", range_text(w.f_low, hertz)});
+  t.add_row({"-3 dB high", range_text(w.f_high, hertz)});
+  t.add_row({"supply current", range_text(w.supply_current, amps)});
+  if (spec.band_hz) {
+    t.add_row({fmt::format("loss at {}", format_value(spec.band_hz->first, Unit::hertz)),
+               range_text(w.loss_lo_db, [](double d) { return fmt::format("{:.2f} dB", d); })});
+    t.add_row({fmt::format("loss at {}", format_value(spec.band_hz->second, Unit::hertz)),
+               range_text(w.loss_hi_db, [](double d) { return fmt::format("{:.2f} dB", d); })});
+  }
+  out += t.render({"  "});
+  return out;
+}
+
+std::string yield_text(const synth::Candidate& c, const synth::Spec& spec) {
+  if (!c.yield || spec.mc_samples <= 0) return "Yield: not computed (no Monte Carlo samples asked for).\n";
+  return fmt::format(
+      "Yield: {:.0f} % of {} Monte Carlo builds (pieces from the device spread, parts uniform within their "
+      "tolerance, seed {}) keep the gain within ±{:g} % of {} and meet every other limit of the request.\n",
+      *c.yield * 100, spec.mc_samples, spec.seed, spec.gain_tol * 100, report::fixed3(spec.gain));
+}
+
+void run_show(const ShowOptions& o, Context& ctx) {
+  auto db = ctx.open_database();
+  const store::SavedDesign saved = store::load_design(db, o.id);
+  nlohmann::json spec_doc, cand_doc;
+  try {
+    spec_doc = nlohmann::json::parse(saved.spec_json);
+    cand_doc = nlohmann::json::parse(saved.candidate_json);
+  } catch (const nlohmann::json::exception& e) {
+    throw DatabaseError(fmt::format("design '{}': the kept text is not JSON ({})", saved.id, e.what()));
+  }
+  const synth::Spec spec = report::spec_from_json(spec_doc);
+  synth::Candidate c = report::candidate_from_json(cand_doc, db.device_records(), db.pieces());
+  c.id = saved.id;
+  synth::evaluate_candidate(c, spec);
+
+  const report::StageUnderTest stage = stage_of(c);
+  const devices::DeviceSpread spread = synth::spread_of(c);
+  const report::Analysis a = report::analyze_stage(stage, &spread);
+  if (o.spice) write_spice(*o.spice, stage);
+
+  // The kept design's cautions, and the hazard caution of the analysis when the design's
+  // own list lacks one.
+  std::vector<std::string> cautions = c.cautions;
+  const auto hazard = [](const std::string& s) { return s.starts_with("hazardous voltage"); };
+  if (std::none_of(cautions.begin(), cautions.end(), hazard))
+    for (const auto& s : a.cautions)
+      if (hazard(s)) cautions.insert(cautions.begin(), s);
+
+  if (ctx.global.json) {
+    report::Json doc;
+    doc["schema"] = 1;
+    doc["id"] = saved.id;
+    doc["created"] = saved.created;
+    doc["spec"] = report::spec_json(spec);
+    doc["candidate"] = report::candidate_json(c);
+    report::Json analysis = report::analysis_json(a);
+    analysis.erase("schema");
+    doc["analysis"] = analysis;
+    doc["cautions"] = cautions;
+    doc["spice"] = o.spice ? report::Json(*o.spice) : report::Json(nullptr);
+    print_json(ctx, doc);
+    return;
+  }
+
+  const auto& t = *c.topology;
+  ctx.out << fmt::format("Design {} (kept {}): {} with {}{}\n", saved.id, saved.created, t.name(), c.device.name,
+                         c.piece ? " [measured piece " + c.piece->label + "]" : "");
+  ctx.out << fmt::format("  {}\n", t.summary());
+  ctx.out << "Request: " << report::spec_line(spec) << "\n\n";
+  ctx.out << report::parts_text(a) << "\n";
+  ctx.out << report::figures_text(a) << "\n";
+  ctx.out << worst_text(c, spec) << "\n";
+  ctx.out << yield_text(c, spec);
+  print_list(ctx.out, "Warnings", a.warnings);
+  print_list(ctx.out, "Cautions", cautions);
+  if (const std::string corners = report::corners_text(a); !corners.empty()) ctx.out << "\n" << corners;
+  if (o.spice)
+    ctx.out << fmt::format("\nSPICE netlist written to {} (run it with: ngspice -b {}).\n", *o.spice, *o.spice);
+}
+
+}  // namespace
+
+void setup_show(CLI::App& parent, Context& ctx) {
+  auto o = std::make_shared<ShowOptions>();
+  CLI::App* cmd = parent.add_subcommand("show", "The full analysis of a kept design: bias, signal, worst case, ratings");
+  cmd->add_option("ID", o->id, "Design id from `shelfstage design` (or its first four or more characters)")
+      ->type_name("")
+      ->required();
+  cmd->add_option("--spice", o->spice, "Also write the stage's SPICE netlist (with .op and .ac) to FILE for ngspice")
+      ->type_name("FILE");
+  cmd->footer(
+      "Recomputes the design from the device list as it is now: the nominal figures from the\n"
+      "netlist solved exactly and from the closed form (both shown where they differ by more\n"
+      "than 1 %), the worst case over the device corners, part tolerances, supply and\n"
+      "temperature, the Monte Carlo yield, the stress of every part against its rating\n"
+      "(resistors at most half their rating, common practice), cautions, and the figures at\n"
+      "each corner piece of the device.");
+  cmd->callback([o, &ctx] { run_show(*o, ctx); });
+}
+
+}  // namespace shelfstage::cli

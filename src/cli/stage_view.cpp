@@ -1,0 +1,30 @@
+// Shared output of `show` and `analyze`: the SPICE file and warning lists.
+#include "stage_view.hpp"
+
+#include <fmt/format.h>
+
+#include <cerrno>
+#include <cstring>
+#include <fstream>
+#include <ostream>
+
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::cli {
+
+void write_spice(const std::string& path, const report::StageUnderTest& stage) {
+  const std::string text = report::stage_spice(stage);
+  std::ofstream f(path, std::ios::binary | std::ios::trunc);
+  if (!f) throw InputError(fmt::format("--spice '{}': cannot write the file: {}", path, std::strerror(errno)));
+  f << text;
+  f.close();
+  if (!f) throw InputError(fmt::format("--spice '{}': writing the file failed", path));
+}
+
+void print_list(std::ostream& out, const std::string& title, const std::vector<std::string>& lines) {
+  if (lines.empty()) return;
+  out << "\n" << title << ":\n";
+  for (const auto& l : lines) out << "  - " << l << "\n";
+}
+
+}  // namespace shelfstage::cli

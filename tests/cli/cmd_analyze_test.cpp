@@ -1,0 +1,152 @@
+// Tests of `shelfstage analyze`: a stage given part by part with a measured piece from the
+// demo shelf, checked against the self-bias solution by hand; ratings; every input mistake.
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <nlohmann/json.hpp>
+
+#include "stage_cli.hpp"
+#include "temp_dir.hpp"
+
+using namespace shelfstage;
+
+namespace {
+
+struct Shelf {
+  test::TempDir dir;
+  std::string db = (dir / "stock.db").string();
+  Shelf() { REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0); }
+};
+
+// jfet-cs-self with measured piece J1 of SJ-101 (data-demo/pieces.csv: IDSS 2.9 mA, VP -1.45 V).
+std::vector<std::string> stage_args(const Shelf& s, std::vector<std::string> more = {}) {
+  std::vector<std::string> a = {"analyze", "jfet-cs-self", "--db", s.db, "--device", "SJ-101", "--piece", "J1",
+                                "--supply", "12", "--load", "10k", "--part", "RG=1M", "--part", "RD=4k7",
+                                "--part", "RS1=470", "--part", "CIN=100n", "--part", "cout=1u"};
+  a.insert(a.end(), more.begin(), more.end());
+  return a;
+}
+
+test::StageCliResult expect_error(const std::vector<std::string>& args) {
+  const auto r = test::run_stage_cli(args);
+  CHECK(r.status == 1);
+  CHECK(r.out.empty());
+  CHECK(r.err.starts_with("error: "));
+  CHECK(r.err.find('\n') == r.err.size() - 1);  // one line
+  return r;
+}
+
+}  // namespace
+
+TEST_CASE("analyze --json: the measured piece's bias matches the self-bias solution by hand") {
+  Shelf s;
+  const auto r = test::run_stage_cli(stage_args(s, {"--json"}));
+  REQUIRE(r.status == 0);
+  const auto doc = nlohmann::json::parse(r.out);
+  CHECK(doc["schema"] == 1);
+  CHECK(doc["device"]["name"] == "SJ-101");
+  CHECK(doc["device"]["piece"] == "J1");
+  const double idss = doc["device"]["model"]["idss"].get<double>();
+  const double vp = std::abs(doc["device"]["model"]["vp"].get<double>());
+  const double lambda = doc["device"]["model"]["lambda"].get<double>();
+  CHECK(idss == doctest::Approx(2.9e-3));  // the bench measurement, data-demo/pieces.csv
+  CHECK(vp == doctest::Approx(1.45));
+  // Sedra & Smith, JFET self-bias: ID = IDSS (1 - ID RS/|VP|)^2 (1 + lambda VDS) (the
+  // lambda factor as in DOMAIN.md section 1), by fixed-point iteration on VDS.
+  double id = 0, vds = 0;
+  for (int i = 0; i < 50; ++i) {
+    const double is = idss * (1 + lambda * vds), k = 470 / vp;
+    const double a = is * k * k, b = -(2 * is * k + 1), c = is;
+    id = (-b - std::sqrt(b * b - 4 * a * c)) / (2 * a);
+    vds = 12 - id * (4700 + 470);
+  }
+  const auto& e = doc["exact"];
+  CHECK(e["bias_current"].get<double>() == doctest::Approx(id).epsilon(0.005));
+  CHECK(e["nodes"]["drain"].get<double>() == doctest::Approx(12 - id * 4700).epsilon(0.005));
+  CHECK(doc["closed_form"]["bias_current"].get<double>() == doctest::Approx(id).epsilon(0.005));
+  CHECK(doc["parts"].size() == 5);
+  CHECK(doc["conditions"]["band"][0].get<double>() == 20);  // the default band edges
+  CHECK(doc["corners"].size() >= 3);  // the measured piece's small polygon
+}
+
+TEST_CASE("analyze: text with a rating exceeded warns (exit 0), with a sound rating does not") {
+  Shelf s;
+  const auto over = test::run_stage_cli(stage_args(s, {"--rating", "COUT=6.3V", "--rating", "RD=0.25W"}));
+  REQUIRE(over.status == 0);
+  CHECK(over.out.find("Device: SJ-101 NJFET, measured piece J1") != std::string::npos);
+  CHECK(over.out.find("Warnings:\n  - C3 (COUT) holds") != std::string::npos);
+  CHECK(over.out.find("more than its 6.3V rating") != std::string::npos);
+  CHECK(over.out.find("no rating given for RG, RS1, CIN") != std::string::npos);
+  CHECK(over.out.find("corner pieces") != std::string::npos);
+  const auto fine = test::run_stage_cli(stage_args(s, {"--rating", "COUT=25V"}));
+  REQUIRE(fine.status == 0);
+  CHECK(fine.out.find("Warnings:") == std::string::npos);
+}
+
+TEST_CASE("analyze: every mistake is bad input (exit 1) with one error line naming the field and value") {
+  Shelf s;
+  const std::vector<std::string> base = {"analyze", "jfet-cs-self", "--db", s.db, "--device", "SJ-101",
+                                         "--supply", "12", "--load", "10k"};
+  auto with = [&](std::vector<std::string> parts) {
+    std::vector<std::string> a = base;
+    for (auto& p : parts) {
+      a.push_back("--part");
+      a.push_back(p);
+    }
+    return a;
+  };
+  SUBCASE("a required role missing") {
+    const auto r = expect_error(with({"RG=1M", "CIN=100n", "COUT=1u"}));
+    CHECK(r.err.find("role RD") != std::string::npos);
+    CHECK(r.err.find("RG RD [RS1] [RS2] [CS] CIN COUT") != std::string::npos);
+  }
+  SUBCASE("an unknown role") {
+    const auto r = expect_error(with({"RG=1M", "RD=4k7", "RX=1k", "CIN=100n", "COUT=1u"}));
+    CHECK(r.err.find("'RX'") != std::string::npos);
+    CHECK(r.err.find("RG RD [RS1] [RS2] [CS] CIN COUT") != std::string::npos);
+  }
+  SUBCASE("an unknown topology") {
+    std::vector<std::string> a = with({"RG=1M"});
+    a[1] = "jfet-cs";
+    const auto r = expect_error(a);
+    CHECK(r.err.find("'jfet-cs'") != std::string::npos);
+    for (const char* t : {"jfet-cs-self", "jfet-cs-divider", "jfet-follower", "bjt-ce-divider", "bjt-follower"})
+      CHECK(r.err.find(t) != std::string::npos);
+  }
+  SUBCASE("a bad value") {
+    const auto r = expect_error(with({"RG=1M", "RD=4.7q", "CIN=100n", "COUT=1u"}));
+    CHECK(r.err == "error: --part RD '4.7q': unknown multiplier 'q' at column 4\n");
+  }
+  SUBCASE("a slip of the prefix: 100 F") {
+    const auto r = expect_error(with({"RG=1M", "RD=4k7", "CIN=100", "COUT=1u"}));
+    CHECK(r.err.find("CIN '100F'") != std::string::npos);
+  }
+  SUBCASE("no '='") {
+    const auto r = expect_error(with({"RG=1M", "RD4k7", "CIN=100n", "COUT=1u"}));
+    CHECK(r.err.find("'RD4k7'") != std::string::npos);
+  }
+  SUBCASE("a bypass capacitor without its resistor") {
+    const auto r = expect_error(with({"RG=1M", "RD=4k7", "CS=100u", "CIN=100n", "COUT=1u"}));
+    CHECK(r.err.find("without RS2") != std::string::npos);
+  }
+  SUBCASE("an unknown device, a device of the wrong kind, a piece of another device") {
+    auto a = with({"RG=1M", "RD=4k7", "CIN=100n", "COUT=1u"});
+    a[5] = "SJ-999";
+    CHECK(expect_error(a).err.find("'SJ-999'") != std::string::npos);
+    a[5] = "SQ-410";
+    CHECK(expect_error(a).err.find("'SQ-410' (NPN)") != std::string::npos);
+    a[5] = "SJ-101";
+    a.push_back("--piece");
+    a.push_back("Q3");
+    CHECK(expect_error(a).err.find("'Q3' is a piece of SQ-410") != std::string::npos);
+  }
+  SUBCASE("a negative supply, a rating for a part not given") {
+    auto a = with({"RG=1M", "RD=4k7", "CIN=100n", "COUT=1u"});
+    a[7] = "-12";
+    CHECK(expect_error(a).err.find("--supply '-12'") != std::string::npos);
+    a[7] = "12";
+    a.push_back("--rating");
+    a.push_back("RS1=0.25W");
+    CHECK(expect_error(a).err.find("RS1 is not among the parts given") != std::string::npos);
+  }
+}

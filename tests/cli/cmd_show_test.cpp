@@ -1,0 +1,102 @@
+// Tests of `shelfstage show`: a design kept by `design` in a scratch database, shown again
+// with both evaluators, the worst case, the yield, ratings, cautions and a SPICE netlist.
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <fstream>
+#include <iterator>
+#include <nlohmann/json.hpp>
+
+#include "stage_cli.hpp"
+#include "temp_dir.hpp"
+
+using namespace shelfstage;
+
+namespace {
+
+// The demo shelf in a scratch database and one design kept from it; returns the best id.
+std::string keep_a_design(const std::string& db) {
+  REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0);
+  const auto d = test::run_stage_cli({"design", "--db", db, "--gain", "10", "--load", "10k", "--supply", "12", "--zin",
+                                      "100k", "--source-z", "1k", "--band", "20..20k", "--swing", "2", "--json"});
+  REQUIRE(d.status == 0);
+  const auto doc = nlohmann::json::parse(d.out);
+  REQUIRE(!doc["candidates"].empty());
+  return doc["candidates"][0]["id"].get<std::string>();
+}
+
+}  // namespace
+
+TEST_CASE("show --json: the kept design recomputed, its figures within the request it was made for") {
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  const std::string id = keep_a_design(db);
+  const auto r = test::run_stage_cli({"show", id, "--db", db, "--json"});
+  REQUIRE(r.status == 0);
+  CHECK(r.err.empty());
+  const auto doc = nlohmann::json::parse(r.out);  // one JSON document on stdout, nothing else
+  CHECK(doc["schema"] == 1);
+  CHECK(doc["id"] == id);
+  CHECK(doc["spec"]["gain"].get<double>() == doctest::Approx(10));
+  const auto& a = doc["analysis"];
+  const auto& c = doc["candidate"];
+  REQUIRE(a["exact"].is_object());
+  // The design met the request's gain window (10 % by default) at nominal: so must the
+  // netlist solved exactly, within the 1 % the two evaluators may differ by before both show.
+  const double g = std::abs(a["exact"]["gain"].get<double>());
+  CHECK(g > 9.0 * 0.99);
+  CHECK(g < 11.0 * 1.01);
+  CHECK(a["exact"]["gain_db"].get<double>() == doctest::Approx(20 * std::log10(g)));
+  // Ohm's law at the collector or drain: the supply less the drop across the load resistor.
+  const std::string out_node = a["topology"].get<std::string>().starts_with("bjt") ? "collector" : "drain";
+  const std::string load_role = out_node == "collector" ? "RC" : "RD";
+  for (const auto& p : a["parts"]) {
+    if (p["role"] != load_role) continue;
+    const double v_out = a["exact"]["nodes"][out_node].get<double>();
+    const double i = a["exact"]["bias_current"].get<double>();
+    // The base current does not flow in RC; the drain current all does.
+    CHECK(12 - v_out == doctest::Approx(i * p["value"].get<double>()).epsilon(0.01));
+  }
+  // The same parts as the kept design, each with its recipe and rating from the stock.
+  REQUIRE(a["parts"].size() == c["parts"].size());
+  for (std::size_t k = 0; k < c["parts"].size(); ++k) {
+    CHECK(a["parts"][k]["role"] == c["parts"][k]["role"]);
+    CHECK(a["parts"][k]["value"].get<double>() == doctest::Approx(c["parts"][k]["value"].get<double>()));
+    CHECK(a["parts"][k]["recipe"] == c["parts"][k]["text"]);
+  }
+  CHECK(c["worst"]["gain"].is_array());
+  CHECK(c["yield"].is_number());
+  CHECK(!a["corners"].empty());
+  CHECK(doc["spice"].is_null());
+}
+
+TEST_CASE("show: the text a person reads, by id prefix, with a SPICE netlist for ngspice") {
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  const std::string id = keep_a_design(db);
+  const auto spice = (dir / "stage.cir").string();
+  const auto r = test::run_stage_cli({"--db", db, "show", id.substr(0, 5), "--spice", spice});
+  REQUIRE(r.status == 0);
+  for (const char* part : {"Design ", "Request: gain 10.0 (20.0 dB) into 10kΩ from 1kΩ, supply 12V",
+                           "Parts and their stress", "Nominal figures", "Worst case over", "Yield: ",
+                           "corner pieces", "SPICE netlist written to"})
+    CHECK_MESSAGE(r.out.find(part) != std::string::npos, part);
+  CHECK(r.out.find(id) != std::string::npos);
+  std::ifstream f(spice);
+  const std::string netlist{std::istreambuf_iterator<char>(f), std::istreambuf_iterator<char>()};
+  CHECK(netlist.starts_with("* shelfstage: "));
+  CHECK(netlist.find("\n.control\nop\n") != std::string::npos);
+  CHECK(netlist.find("ac dec 20 0.1 1e9") != std::string::npos);
+  CHECK(netlist.ends_with(".end\n"));
+}
+
+TEST_CASE("show: an unknown id is bad input (exit 1) and the error names it") {
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0);
+  const auto r = test::run_stage_cli({"show", "zz99zz99", "--db", db});
+  CHECK(r.status == 1);
+  CHECK(r.out.empty());
+  CHECK(r.err.starts_with("error: "));
+  CHECK(r.err.find("zz99zz99") != std::string::npos);
+}
