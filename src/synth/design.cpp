@@ -42,10 +42,10 @@ std::uint64_t fnv1a(const std::string& s) {
 
 class Searcher {
  public:
-  Searcher(const Spec& spec, const Shelf& shelf) : spec_(spec), shelf_(shelf) {}
+  Searcher(const Spec& spec, const Shelf& shelf, bool probe) : spec_(spec), shelf_(shelf), probe_(probe) {}
 
   std::vector<Candidate> run(const Job& job, SearchStats& stats) const {
-    const StageBuilder builder(spec_, shelf_, *job.topology, *job.device, job.piece, job.device_available);
+    const StageBuilder builder(spec_, shelf_, *job.topology, *job.device, job.piece, job.device_available, probe_);
     const auto roles = job.topology->roles();
     std::vector<StageBuilder::Draft> found;
     std::unordered_set<std::uint64_t> seen;
@@ -63,6 +63,7 @@ class Searcher {
     constexpr std::size_t kKeep = 24;
     constexpr int kVariants = 12;
     std::vector<std::pair<double, std::size_t>> order;
+    if (probe_) return {};  // a probe only learns how close the stages come (stats)
     for (std::size_t i = 0; i < found.size(); ++i) order.emplace_back(builder.quick_score(found[i], stats), i);
     std::sort(order.begin(), order.end());
     std::vector<Candidate> kept;
@@ -100,6 +101,7 @@ class Searcher {
  private:
   const Spec& spec_;
   const Shelf& shelf_;
+  bool probe_;
 };
 
 }  // namespace
@@ -114,13 +116,14 @@ struct StageBuilder::Cache {
 
 StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
                            const devices::DeviceRecord& device, const devices::MeasuredPiece* piece,
-                           int device_available)
+                           int device_available, bool probe)
     : spec_(spec),
       shelf_(shelf),
       topology_(topology),
       device_(device),
       piece_(piece),
       device_available_(device_available),
+      probe_(probe),
       spread_(piece ? devices::DeviceSpread(device, *piece) : devices::DeviceSpread(device)),
       cache_(std::make_unique<Cache>()) {
   const double t_nom = spec.temp_nominal_c();
@@ -139,6 +142,7 @@ stages::Goal StageBuilder::goal() const {
   g.swing_peak_v = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0;
   g.max_current_a = spec_.max_current_a.value_or(0);
   g.f_low_hz = spec_.f_low_target_hz();
+  g.probe = probe_;
   return g;
 }
 
@@ -394,8 +398,8 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
 
 // Runs every job on the machine's cores; the calling thread reports progress.
 std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, SearchStats& tally,
-                                const Progress& progress) {
-  Searcher searcher(spec, shelf);
+                                const Progress& progress, bool probe = false) {
+  Searcher searcher(spec, shelf, probe);
   std::vector<std::vector<Candidate>> out(jobs.size());
   std::vector<SearchStats> tallies(jobs.size());
   std::atomic<std::size_t> next{0}, done{0};
@@ -519,6 +523,12 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
         binding = k;
       }
     if (tally.proposals == 0) binding = jobs.empty() ? "devices" : "gain";
+    if (binding == "gain" && !jobs.empty()) {
+      // How close the stages come: probe with the largest load resistors the headroom allows.
+      SearchStats probe;
+      run_jobs(spec, shelf, jobs, probe, {}, true);
+      tally.best_gain = std::max(tally.best_gain, probe.best_gain);
+    }
     r.diagnosis.binding = binding;
     r.diagnosis.detail = jobs.empty() ? "no stocked transistor fits the chosen topologies and device filters"
                                       : describe_binding(binding, spec, tally);

@@ -119,6 +119,10 @@ struct Goal {
   double swing_peak_v = 0;    ///< required output peak (0: none)
   double max_current_a = 0;   ///< supply current limit (0: none)
   double f_low_hz = 20;       ///< lowest frequency to pass (capacitors are sized for it)
+  /// Probing how far the stage can go: where the gain is out of reach within the headroom,
+  /// propose the largest load resistor the headroom allows instead of nothing (used to say
+  /// how close a failed request came).
+  bool probe = false;
 };
 
 class Topology {

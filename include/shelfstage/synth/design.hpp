@@ -113,7 +113,8 @@ struct SearchStats {
 class StageBuilder {
  public:
   StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
-               const devices::DeviceRecord& device, const devices::MeasuredPiece* piece, int device_available);
+               const devices::DeviceRecord& device, const devices::MeasuredPiece* piece, int device_available,
+               bool probe = false);
   ~StageBuilder();
   StageBuilder(const StageBuilder&) = delete;
   StageBuilder& operator=(const StageBuilder&) = delete;
@@ -156,6 +157,7 @@ class StageBuilder {
   const devices::DeviceRecord& device_;
   const devices::MeasuredPiece* piece_;
   int device_available_;
+  bool probe_;
   devices::DeviceSpread spread_;
   stages::Transistor q_;
   std::vector<stages::Transistor> corner_devices_;
