@@ -180,8 +180,11 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     ++stats.evaluations;
     if (ideal.valid && ideal.active) {
       stats.best_gain = std::max(stats.best_gain, std::abs(ideal.gain));
-      stats.best_swing = std::max(stats.best_swing, ideal.swing_peak_v);
-      stats.best_zin = std::max(stats.best_zin, ideal.zin_ohm);
+      // Swing and Zin count only for stages with the gain asked for.
+      if (detail::gain_ok(spec_, ideal.gain)) {
+        stats.best_swing = std::max(stats.best_swing, ideal.swing_peak_v);
+        stats.best_zin = std::max(stats.best_zin, ideal.zin_ohm);
+      }
     }
     const std::string v = detail::violation(spec_, ideal);
     if (!v.empty() && v != "band") {
@@ -242,8 +245,11 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   const std::string v = detail::violation(spec_, nominal);
   if (nominal.valid && nominal.active) {
     stats.best_gain = std::max(stats.best_gain, std::abs(nominal.gain));
-    stats.best_swing = std::max(stats.best_swing, nominal.swing_peak_v);
-    stats.best_zin = std::max(stats.best_zin, nominal.zin_ohm);
+    // Swing and Zin count only for stages with the gain asked for.
+    if (detail::gain_ok(spec_, nominal.gain)) {
+      stats.best_swing = std::max(stats.best_swing, nominal.swing_peak_v);
+      stats.best_zin = std::max(stats.best_zin, nominal.zin_ohm);
+    }
   }
   if (!v.empty()) {
     ++stats.failures[v];
@@ -523,8 +529,10 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
         binding = k;
       }
     if (tally.proposals == 0) binding = jobs.empty() ? "devices" : "gain";
-    if (binding == "gain" && !jobs.empty()) {
-      // How close the stages come: probe with the largest load resistors the headroom allows.
+    if (!jobs.empty() && tally.best_gain < spec.gain * (1.0 - spec.gain_tol)) {
+      // No working stage reached the gain: that binds first. How close the stages come:
+      // probe with the largest load resistors the headroom allows.
+      binding = "gain";
       SearchStats probe;
       run_jobs(spec, shelf, jobs, probe, {}, true);
       tally.best_gain = std::max(tally.best_gain, probe.best_gain);
