@@ -1,0 +1,112 @@
+// The schematic of a stage, drawn from its netlist graph: each component placed at the spot a
+// per-role template gives it, every net wired orthogonally between exactly the pins the graph
+// puts on it, and the drawing rendered as SVG with our own symbol style.
+//
+// NOTES
+//  1. Geometry is in grid units (one unit = Schematic::unit px); every pin sits on the grid.
+//  2. Placement is keyed by the component's role (RD, RS1, CIN, ... and the bench's
+//     "supply", "signal", "source", "load", "device"); a follower (the transistor's upper pin
+//     on the supply net) moves the output coupling to the lower pin's height. A role without
+//     a place is an InputError naming it: a new topology needs its roles placed here.
+//  3. A two-terminal part's ends are ordered by a rank of their nets: vertically the supply
+//     on top, ground at the bottom; horizontally along the signal path (source, input,
+//     control pin, the stage's output pin, output).
+//  4. The supply net and ground are rails (horizontal lines at fixed heights) that every pin
+//     on them reaches by a vertical wire. Any other net is one straight trunk (vertical or
+//     horizontal, through the span of its pins' projections) with a straight perpendicular
+//     stub from each pin; the trunk is the one of least wire length among those through a
+//     pin, a stub or trunk that leaves a pin back over its own symbol or crosses a symbol's
+//     body is refused, and one that leaves a pin sideways costs a little.
+//  5. A junction dot marks every point where three or more wire ends, pins or pass-throughs
+//     meet; nothing else joins (wires of different nets never touch).
+#pragma once
+#include <cstddef>
+#include <map>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "shelfstage/circuit/netlist.hpp"
+#include "shelfstage/draw/svg.hpp"
+
+namespace shelfstage::draw {
+
+/// What the drawing says about a part beyond the netlist.
+struct PartNote {
+  std::string value;      ///< "4k7"; empty: the netlist value in IEC 60062 code
+  std::string detail;     ///< a further line: recipe "4k7+150", device type, "source"
+  bool polarised = false; ///< capacitors: an electrolytic (drawn with a filled - plate and +)
+  std::string plus_net;   ///< polarised: the net its + lead goes to (must be one of its pins' nets)
+};
+
+struct SchematicOptions {
+  std::map<std::string, PartNote> notes;  ///< by designator
+  /// Designators drawn in the muted style of the test bench (signal source, its resistance,
+  /// the load); their labels say what they stand for.
+  std::vector<std::string> bench = {"VSIG", "RSIG", "RL"};
+};
+
+enum class SymbolKind { resistor, capacitor, electrolytic, njfet, pjfet, npn, pnp, dc_source, ac_source };
+
+/// An axis-aligned box in grid units.
+struct Box {
+  double x0 = 0, y0 = 0, x1 = 0, y1 = 0;
+  bool contains(Point p, double margin = 0) const {
+    return p.x > x0 - margin && p.x < x1 + margin && p.y > y0 - margin && p.y < y1 + margin;
+  }
+};
+
+struct PlacedSymbol {
+  std::string designator, role;
+  SymbolKind kind = SymbolKind::resistor;
+  Point centre;
+  bool vertical = true;        ///< two-terminal parts: along y
+  std::size_t first_end = 0;   ///< pin index at the top (vertical) or left (horizontal) end
+  std::size_t plus_pin = 0;    ///< electrolytic and sources: the pin of the + terminal
+  Box body;                    ///< no wire may cross it
+  std::vector<std::string> label;  ///< designator line, value, detail
+  enum class Side { left, right, above, below } label_side = Side::right;
+  bool bench = false;
+};
+
+struct PlacedPin {
+  std::string designator;
+  std::size_t pin = 0;     ///< index into the component's pins (SPICE order)
+  std::size_t net = 0;     ///< vertex index in the circuit
+  Point at;
+  Point dir;               ///< unit vector along the lead, away from the symbol
+};
+
+struct Wire {
+  Point a, b;
+  std::size_t net = 0;
+};
+
+/// A labelled terminal or rail name drawn on a net.
+struct NetMark {
+  std::size_t net = 0;
+  Point at;
+  std::string text;
+  bool terminal = false;   ///< an open circle (the stage's input or output)
+};
+
+struct Schematic {
+  double unit = 20;                 ///< px per grid unit
+  double width = 0, height = 0;     ///< grid units, margins included
+  std::vector<PlacedSymbol> symbols;
+  std::vector<PlacedPin> pins;
+  std::vector<Wire> wires;
+  std::vector<Point> junctions;
+  std::vector<NetMark> marks;
+  Point ground_symbol;              ///< where the ground sign hangs from the ground rail
+  std::vector<std::string> net_names;  ///< by net index
+};
+
+/// Places and wires the circuit. Throws InputError for a role the template does not know, a
+/// component of a kind it cannot draw, or a polarised note whose plus_net is not on the part.
+Schematic lay_out(const circuit::Circuit& circuit, const SchematicOptions& options = {});
+
+/// The drawing as one <svg> document; `title` is its accessible name.
+std::string schematic_svg(const Schematic& s, std::string_view title);
+
+}  // namespace shelfstage::draw

@@ -1,0 +1,609 @@
+// The schematic of a stage: role-keyed placement, rail and trunk wiring from the netlist's
+// nets, junctions, and the SVG rendering with our own symbol style.
+#include "shelfstage/draw/schematic.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <numbers>
+#include <optional>
+
+#include "shelfstage/error.hpp"
+#include "shelfstage/units/notation.hpp"
+
+namespace shelfstage::draw {
+
+namespace {
+
+using circuit::ElementKind;
+using Side = PlacedSymbol::Side;
+
+constexpr double kRailSupply = 2;   // y of the supply rail
+constexpr double kRailGround = 27;  // y of the ground rail
+constexpr double kWidth = 36;
+constexpr double kHeight = 29.5;
+
+constexpr double kForbidden = 1e6;  // a route that must not be drawn
+constexpr double kSideways = 0.5;   // a wire leaving a pin across its lead
+constexpr double kCrossing = 50;    // two nets crossing without joining (allowed, avoided)
+
+// Our palette: deep ink for the stage, slate for the test bench, brick for values.
+const char* const kInk = "#1d2b3a";
+const char* const kBench = "#8a94a6";
+const char* const kValue = "#9a3412";
+const char* const kMuted = "#64748b";
+const char* const kResistorFill = "#f6efdd";
+const char* const kDeviceFill = "#e6eef7";
+
+struct Slot {
+  double x, y;
+  bool vertical;
+  Side side;
+};
+
+// NOTES 2: the template. Grid units; see the header for the rules.
+std::optional<Slot> slot_for(std::string_view role, bool follower) {
+  if (role == "supply") return Slot{31, 16, true, Side::right};
+  if (role == "signal") return Slot{2, 18, true, Side::right};
+  if (role == "source") return Slot{5, 14, false, Side::above};
+  if (role == "load") return Slot{28, 21, true, Side::right};
+  if (role == "device") return Slot{18, 12, true, Side::right};
+  if (role == "CIN") return Slot{10, 14, false, Side::above};
+  if (role == "R1") return Slot{13, 6, true, Side::left};
+  if (role == "RG" || role == "R2") return Slot{13, 19, true, Side::left};
+  if (role == "RD" || role == "RC") return Slot{19, 6, true, Side::left};
+  if (role == "COUT") return follower ? Slot{23, 16, false, Side::below} : Slot{23, 9, false, Side::above};
+  if (role == "RS1" || role == "RE1") return Slot{19, 17, true, Side::left};
+  if (role == "RS2" || role == "RE2") return Slot{19, 23, true, Side::left};
+  if (role == "CS" || role == "CE") return Slot{22, 23, true, Side::right};
+  if (role == "RS" || role == "RE") return Slot{19, 19, true, Side::left};
+  return std::nullopt;
+}
+
+// NOTES 3: which end of a two-terminal part goes on top (vertical) or left (horizontal).
+double vertical_rank(std::string_view net) {
+  if (net == "vdd") return 0;
+  if (net == "drain" || net == "collector") return 1;
+  if (net == "gate" || net == "base" || net == "sig" || net == "in" || net == "out") return 2;
+  if (net == "source" || net == "emitter") return 3;
+  if (net == "x") return 4;
+  if (net == "0") return 5;
+  return 2.5;
+}
+
+double horizontal_rank(std::string_view net) {
+  if (net == "sig") return 0;
+  if (net == "in") return 1;
+  if (net == "gate" || net == "base") return 2;
+  if (net == "drain" || net == "collector" || net == "source" || net == "emitter") return 3;
+  if (net == "out") return 4;
+  return 2.5;
+}
+
+bool is_rail(std::string_view net) { return net == "vdd" || net == "0"; }
+
+bool same(Point a, Point b) { return std::abs(a.x - b.x) < 1e-9 && std::abs(a.y - b.y) < 1e-9; }
+
+/// Whether p lies on the segment (ends included).
+bool on_segment(Point p, const Wire& w) {
+  const double eps = 1e-9;
+  if (std::abs(w.a.x - w.b.x) < eps)
+    return std::abs(p.x - w.a.x) < eps && p.y >= std::min(w.a.y, w.b.y) - eps && p.y <= std::max(w.a.y, w.b.y) + eps;
+  return std::abs(p.y - w.a.y) < eps && p.x >= std::min(w.a.x, w.b.x) - eps && p.x <= std::max(w.a.x, w.b.x) + eps;
+}
+
+bool crosses_box(const Wire& w, const Box& b) {
+  // The segment (a point across its thin dimension) meets the open interior of the box.
+  const double lo_x = std::min(w.a.x, w.b.x), hi_x = std::max(w.a.x, w.b.x);
+  const double lo_y = std::min(w.a.y, w.b.y), hi_y = std::max(w.a.y, w.b.y);
+  return lo_x < b.x1 && hi_x > b.x0 && lo_y < b.y1 && hi_y > b.y0;
+}
+
+/// Two segments of different nets: touching (sharing any point) is forbidden unless it is a
+/// clean perpendicular crossing of two interiors, which is only discouraged.
+double conflict(const Wire& a, const Wire& b) {
+  const bool a_vert = std::abs(a.a.x - a.b.x) < 1e-9, b_vert = std::abs(b.a.x - b.b.x) < 1e-9;
+  if (a_vert == b_vert) {
+    // Parallel: forbidden if collinear and overlapping.
+    if (a_vert && std::abs(a.a.x - b.a.x) < 1e-9)
+      return std::max(std::min(a.a.y, a.b.y), std::min(b.a.y, b.b.y)) <=
+                     std::min(std::max(a.a.y, a.b.y), std::max(b.a.y, b.b.y)) + 1e-9
+                 ? kForbidden
+                 : 0;
+    if (!a_vert && std::abs(a.a.y - b.a.y) < 1e-9)
+      return std::max(std::min(a.a.x, a.b.x), std::min(b.a.x, b.b.x)) <=
+                     std::min(std::max(a.a.x, a.b.x), std::max(b.a.x, b.b.x)) + 1e-9
+                 ? kForbidden
+                 : 0;
+    return 0;
+  }
+  const Wire& v = a_vert ? a : b;
+  const Wire& h = a_vert ? b : a;
+  const Point x{v.a.x, h.a.y};
+  if (!on_segment(x, v) || !on_segment(x, h)) return 0;
+  const bool end = same(x, v.a) || same(x, v.b) || same(x, h.a) || same(x, h.b);
+  return end ? kForbidden : kCrossing;
+}
+
+struct Router {
+  std::vector<Box> bodies;
+  std::vector<PlacedPin> all_pins;
+  std::vector<Wire> done;  // wires of nets already routed
+
+  double segment_cost(const Wire& w) const {
+    double c = 0;
+    for (const auto& b : bodies)
+      if (crosses_box(w, b)) c += kForbidden;
+    for (const auto& p : all_pins)
+      if (p.net != w.net && on_segment(p.at, w)) c += kForbidden;
+    for (const auto& o : done) c += conflict(w, o);
+    return c;
+  }
+
+  /// Wires for one net along a trunk (vertical at `at` when vertical, else horizontal),
+  /// with their cost; an empty result with a forbidden cost when impossible.
+  std::pair<std::vector<Wire>, double> along(const std::vector<PlacedPin>& pins, bool vertical, double at,
+                                             std::size_t net) const {
+    std::vector<Wire> wires;
+    double cost = 0;
+    double lo = std::numeric_limits<double>::infinity(), hi = -lo;
+    for (const auto& p : pins) {
+      const double along_coord = vertical ? p.at.y : p.at.x;
+      lo = std::min(lo, along_coord);
+      hi = std::max(hi, along_coord);
+      const Point foot = vertical ? Point{at, p.at.y} : Point{p.at.x, at};
+      if (!same(foot, p.at)) {
+        wires.push_back({p.at, foot, net});
+        const Point d{foot.x - p.at.x, foot.y - p.at.y};
+        const double len = std::abs(d.x) + std::abs(d.y);
+        const Point u{d.x / len, d.y / len};
+        if (same(u, Point{-p.dir.x, -p.dir.y}))
+          cost += kForbidden;
+        else if (!same(u, p.dir))
+          cost += kSideways;
+      }
+    }
+    for (const auto& p : pins) {
+      // A pin on the trunk: the trunk must not run back over the pin's own symbol.
+      const Point foot = vertical ? Point{at, p.at.y} : Point{p.at.x, at};
+      if (!same(foot, p.at)) continue;
+      const double c = vertical ? p.at.y : p.at.x;
+      const bool goes_minus = lo < c - 1e-9, goes_plus = hi > c + 1e-9;
+      const double back = vertical ? -p.dir.y : -p.dir.x;  // the trunk direction over the symbol
+      const bool along_axis = vertical ? std::abs(p.dir.x) < 1e-9 : std::abs(p.dir.y) < 1e-9;
+      if (along_axis) {
+        if ((back < 0 && goes_minus) || (back > 0 && goes_plus)) cost += kForbidden;
+      } else if (goes_minus || goes_plus) {
+        cost += kSideways;
+      }
+    }
+    if (hi > lo) {
+      // Split the trunk where stubs land so that every T is a segment end (simpler tests).
+      std::vector<double> cuts{lo, hi};
+      for (const auto& w : wires) cuts.push_back(vertical ? w.b.y : w.b.x);
+      for (const auto& p : pins) cuts.push_back(vertical ? p.at.y : p.at.x);
+      std::sort(cuts.begin(), cuts.end());
+      cuts.erase(std::unique(cuts.begin(), cuts.end(), [](double a, double b) { return std::abs(a - b) < 1e-9; }),
+                 cuts.end());
+      for (std::size_t i = 0; i + 1 < cuts.size(); ++i) {
+        if (cuts[i] < lo - 1e-9 || cuts[i + 1] > hi + 1e-9) continue;
+        wires.push_back(vertical ? Wire{{at, cuts[i]}, {at, cuts[i + 1]}, net}
+                                 : Wire{{cuts[i], at}, {cuts[i + 1], at}, net});
+      }
+    }
+    for (const auto& w : wires) cost += std::abs(w.a.x - w.b.x) + std::abs(w.a.y - w.b.y) + segment_cost(w);
+    return {wires, cost};
+  }
+};
+
+SymbolKind symbol_kind(const circuit::Circuit& c, const circuit::Component& e, const PartNote* note) {
+  switch (e.kind) {
+    case ElementKind::resistor: return SymbolKind::resistor;
+    case ElementKind::capacitor: return note && note->polarised ? SymbolKind::electrolytic : SymbolKind::capacitor;
+    case ElementKind::vsource: return e.role == "supply" ? SymbolKind::dc_source : SymbolKind::ac_source;
+    case ElementKind::jfet:
+      return c.jfets()[e.device].kind == devices::DeviceKind::pjfet ? SymbolKind::pjfet : SymbolKind::njfet;
+    case ElementKind::bjt:
+      return c.bjts()[e.device].kind == devices::DeviceKind::pnp ? SymbolKind::pnp : SymbolKind::npn;
+  }
+  return SymbolKind::resistor;
+}
+
+std::string default_value(const circuit::Component& e) {
+  switch (e.kind) {
+    case ElementKind::resistor: return units::format_code(e.value, units::Unit::ohm);
+    case ElementKind::capacitor: return units::format_code(e.value, units::Unit::farad);
+    case ElementKind::vsource:
+      return e.role == "supply" ? units::format_value(e.value, units::Unit::volt)
+                                : units::format_value(e.ac_volts, units::Unit::volt) + " ac";
+    default: return {};
+  }
+}
+
+bool is_transistor(SymbolKind k) {
+  return k == SymbolKind::njfet || k == SymbolKind::pjfet || k == SymbolKind::npn || k == SymbolKind::pnp;
+}
+
+}  // namespace
+
+Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
+  Schematic s;
+  s.width = kWidth;
+  s.height = kHeight;
+  for (std::size_t v = 0; v < c.net_count(); ++v) s.net_names.push_back(c.net_name(v));
+
+  // A follower: the transistor's upper pin (drain or collector) on the supply net.
+  bool follower = false;
+  for (const auto& el : c.elements())
+    if ((el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt) && c.net_name(el.c.pins[0]) == "vdd")
+      follower = true;
+
+  for (const auto& el : c.elements()) {
+    const auto& e = el.c;
+    const auto slot = slot_for(e.role, follower);
+    if (!slot)
+      throw InputError(fmt::format("schematic: no place for {} (role '{}'); the drawing template does not know it",
+                                   e.designator, e.role));
+    const auto it = o.notes.find(e.designator);
+    const PartNote* note = it == o.notes.end() ? nullptr : &it->second;
+    PlacedSymbol sym;
+    sym.designator = e.designator;
+    sym.role = e.role;
+    sym.kind = symbol_kind(c, e, note);
+    sym.centre = {slot->x, slot->y};
+    sym.vertical = slot->vertical;
+    sym.label_side = slot->side;
+    sym.bench = std::find(o.bench.begin(), o.bench.end(), e.designator) != o.bench.end();
+    const Point q = sym.centre;
+    if (is_transistor(sym.kind)) {
+      // Pins in SPICE order: drain/collector on top, gate/base to the left, source/emitter below.
+      s.pins.push_back({e.designator, 0, e.pins[0], {q.x + 1, q.y - 2}, {0, -1}});
+      s.pins.push_back({e.designator, 1, e.pins[1], {q.x - 2, q.y}, {-1, 0}});
+      s.pins.push_back({e.designator, 2, e.pins[2], {q.x + 1, q.y + 2}, {0, 1}});
+      sym.body = {q.x - 1.2, q.y - 1.6, q.x + 1.85, q.y + 1.6};
+    } else {
+      const std::string n0 = c.net_name(e.pins[0]), n1 = c.net_name(e.pins[1]);
+      sym.first_end = sym.vertical ? (vertical_rank(n0) <= vertical_rank(n1) ? 0 : 1)
+                                   : (horizontal_rank(n0) <= horizontal_rank(n1) ? 0 : 1);
+      const std::size_t second = 1 - sym.first_end;
+      const Point d = sym.vertical ? Point{0, 1} : Point{1, 0};
+      s.pins.push_back({e.designator, sym.first_end, e.pins[sym.first_end], {q.x - 2 * d.x, q.y - 2 * d.y},
+                        {-d.x, -d.y}});
+      s.pins.push_back({e.designator, second, e.pins[second], {q.x + 2 * d.x, q.y + 2 * d.y}, d});
+      sym.body = sym.vertical ? Box{q.x - 0.6, q.y - 1.3, q.x + 0.6, q.y + 1.3}
+                              : Box{q.x - 1.3, q.y - 0.6, q.x + 1.3, q.y + 0.6};
+      if (sym.kind == SymbolKind::ac_source || sym.kind == SymbolKind::dc_source)
+        sym.body = {q.x - 1, q.y - 1.2, q.x + 1, q.y + 1.2};
+      // The + terminal: a source's first pin when its value is positive (SPICE: plus,
+      // minus); an electrolytic's pin on the noted net.
+      if (sym.kind == SymbolKind::dc_source) sym.plus_pin = e.value >= 0 ? 0 : 1;
+      if (sym.kind == SymbolKind::electrolytic) {
+        if (c.net_name(e.pins[0]) == note->plus_net)
+          sym.plus_pin = 0;
+        else if (c.net_name(e.pins[1]) == note->plus_net)
+          sym.plus_pin = 1;
+        else
+          throw InputError(fmt::format("schematic: {} is polarised with its + lead on net '{}', which is not one of "
+                                       "its nets ({}, {})",
+                                       e.designator, note->plus_net, n0, n1));
+      }
+    }
+    // Labels: designator (and role), value, detail.
+    std::string first = e.designator;
+    if (!sym.bench && e.role != "device" && e.role != "supply" && e.role != e.designator) first += " " + e.role;
+    sym.label.push_back(first);
+    const std::string value = note && !note->value.empty() ? note->value : default_value(e);
+    if (!value.empty()) sym.label.push_back(value);
+    if (note && !note->detail.empty()) sym.label.push_back(note->detail);
+    s.symbols.push_back(std::move(sym));
+  }
+
+  Router r;
+  for (const auto& sym : s.symbols) r.bodies.push_back(sym.body);
+  r.all_pins = s.pins;
+
+  // Nets: the rails first (NOTES 4), then the rest in net order.
+  std::vector<std::size_t> order;
+  for (std::size_t v = 0; v < c.net_count(); ++v)
+    if (is_rail(c.net_name(v))) order.push_back(v);
+  for (std::size_t v = 0; v < c.net_count(); ++v)
+    if (!is_rail(c.net_name(v))) order.push_back(v);
+
+  for (std::size_t net : order) {
+    std::vector<PlacedPin> pins;
+    for (const auto& p : s.pins)
+      if (p.net == net) pins.push_back(p);
+    if (pins.size() < 2 && !is_rail(c.net_name(net))) continue;
+    if (pins.empty()) continue;
+    std::pair<std::vector<Wire>, double> best{{}, std::numeric_limits<double>::infinity()};
+    if (is_rail(c.net_name(net))) {
+      best = r.along(pins, false, c.net_name(net) == "vdd" ? kRailSupply : kRailGround, net);
+    } else {
+      for (const auto& p : pins)
+        for (bool vertical : {true, false}) {
+          auto cand = r.along(pins, vertical, vertical ? p.at.x : p.at.y, net);
+          if (cand.second < best.second) best = std::move(cand);
+        }
+    }
+    if (best.second >= kForbidden)
+      throw InputError(fmt::format("schematic: net '{}' cannot be wired without crossing a part",
+                                   c.net_name(net)));
+    for (const auto& w : best.first) {
+      s.wires.push_back(w);
+      r.done.push_back(w);
+    }
+  }
+
+  // NOTES 5: junctions.
+  std::vector<Point> points;
+  for (const auto& w : s.wires) points.push_back(w.a), points.push_back(w.b);
+  for (const auto& p : s.pins) points.push_back(p.at);
+  for (const auto& p : points) {
+    if (std::any_of(s.junctions.begin(), s.junctions.end(), [&](Point j) { return same(j, p); })) continue;
+    int degree = 0;
+    for (const auto& w : s.wires) {
+      if (same(w.a, p) || same(w.b, p))
+        degree += 1;
+      else if (on_segment(p, w))
+        degree += 2;
+    }
+    for (const auto& q : s.pins)
+      if (same(q.at, p)) degree += 1;
+    if (degree >= 3) s.junctions.push_back(p);
+  }
+
+  // Marks: the stage's input and output terminals, the supply rail's name; the ground sign.
+  auto bench_part = [&](const std::string& d) { return std::find(o.bench.begin(), o.bench.end(), d) != o.bench.end(); };
+  for (const auto& [name, text] : {std::pair<std::string, std::string>{"in", "in"}, {"out", "out"}}) {
+    const auto v = c.find_net(name);
+    if (!v) continue;
+    for (const auto& p : s.pins)
+      if (p.net == *v && !bench_part(p.designator)) {
+        s.marks.push_back({*v, {p.at.x + 0.5 * p.dir.x, p.at.y + 0.5 * p.dir.y}, text, true});
+        break;
+      }
+  }
+  double supply_left = kWidth, ground_left = kWidth;
+  for (const auto& w : s.wires) {
+    if (c.net_name(w.net) == "vdd") supply_left = std::min({supply_left, w.a.x, w.b.x});
+    if (c.net_name(w.net) == "0") ground_left = std::min({ground_left, w.a.x, w.b.x});
+  }
+  if (const auto vdd = c.find_net("vdd")) {
+    std::string text = "VDD";
+    if (const auto* src = c.find("VDD"))
+      text += " " + std::string(src->c.value >= 0 ? "+" : "\u2212") +
+              units::format_value(std::abs(src->c.value), units::Unit::volt);
+    s.marks.push_back({*vdd, {supply_left, kRailSupply}, text, false});
+  }
+  s.ground_symbol = {ground_left < kWidth ? ground_left : 2, kRailGround};
+  return s;
+}
+
+namespace {
+
+/// Drawing in px: grid point to px, and the small painting helpers.
+struct Pen {
+  Svg& svg;
+  double u;
+  Point px(Point g) const { return {g.x * u, g.y * u}; }
+  void line(Point a, Point b, const std::string& colour, double width) const {
+    svg.line(px(a), px(b), Paint().stroke(colour, width).round());
+  }
+  void polyline(std::vector<Point> pts, const std::string& colour, double width) const {
+    for (auto& p : pts) p = px(p);
+    svg.polyline(pts, Paint().stroke(colour, width).fill("none").round());
+  }
+  void filled(std::vector<Point> pts, const std::string& colour) const {
+    for (auto& p : pts) p = px(p);
+    svg.polygon(pts, Paint().stroke(colour, 1).fill(colour).round());
+  }
+};
+
+/// Local frame of a two-terminal part: t along the axis from the first end (-2) to the
+/// second (+2), n across it.
+struct Local {
+  Point c;
+  bool vertical;
+  Point at(double t, double n) const { return vertical ? Point{c.x + n, c.y + t} : Point{c.x + t, c.y + n}; }
+};
+
+void plus_sign(const Pen& pen, Point at, const std::string& colour) {
+  pen.line({at.x - 0.18, at.y}, {at.x + 0.18, at.y}, colour, 1.4);
+  pen.line({at.x, at.y - 0.18}, {at.x, at.y + 0.18}, colour, 1.4);
+}
+
+void arrow(const Pen& pen, Point tip, Point dir, const std::string& colour) {
+  const double len = std::hypot(dir.x, dir.y);
+  const Point d{dir.x / len, dir.y / len}, n{-d.y, d.x};
+  const double l = 0.45, w = 0.22;
+  pen.filled({tip, {tip.x - l * d.x + w * n.x, tip.y - l * d.y + w * n.y},
+              {tip.x - l * d.x - w * n.x, tip.y - l * d.y - w * n.y}},
+             colour);
+}
+
+void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
+  const std::string ink = s.bench ? kBench : kInk;
+  const double w = 1.8;
+  const Local L{s.centre, s.vertical};
+  // Which side (-1: the first end, +1: the second) the + terminal is on.
+  const double plus_side = s.plus_pin == s.first_end ? -1 : 1;
+  switch (s.kind) {
+    case SymbolKind::resistor: {
+      pen.line(L.at(-2, 0), L.at(-1.1, 0), ink, w);
+      pen.line(L.at(1.1, 0), L.at(2, 0), ink, w);
+      const Point a = pen.px(L.at(-1.1, -0.38)), b = pen.px(L.at(1.1, 0.38));
+      pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
+                   Paint().stroke(ink, w).fill(s.bench ? "#f1f3f6" : kResistorFill),
+                   {{"rx", "3"}});
+      break;
+    }
+    case SymbolKind::capacitor:
+      pen.line(L.at(-2, 0), L.at(-0.2, 0), ink, w);
+      pen.line(L.at(0.2, 0), L.at(2, 0), ink, w);
+      pen.line(L.at(-0.2, -0.8), L.at(-0.2, 0.8), ink, 3);
+      pen.line(L.at(0.2, -0.8), L.at(0.2, 0.8), ink, 3);
+      break;
+    case SymbolKind::electrolytic: {
+      // The + plate an open bar, the - plate a solid one, and a + sign by the + lead.
+      const double p = plus_side;
+      pen.line(L.at(-2, 0), L.at(-0.4 * 1, 0), ink, w);
+      pen.line(L.at(0.4, 0), L.at(2, 0), ink, w);
+      const Point a = pen.px(L.at(0.18 * p, -0.8)), b = pen.px(L.at(0.4 * p, 0.8));
+      pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
+                   Paint().stroke(ink, 1.6).fill("#ffffff"));
+      const Point c = pen.px(L.at(-0.18 * p, -0.8)), d = pen.px(L.at(-0.4 * p, 0.8));
+      pen.svg.rect(std::min(c.x, d.x), std::min(c.y, d.y), std::abs(d.x - c.x), std::abs(d.y - c.y),
+                   Paint().stroke(ink, 1.6).fill(ink));
+      // The + sign on the side away from the label (across: +x for a vertical part, +y for a
+      // horizontal one).
+      const double across = s.label_side == Side::right || s.label_side == Side::below ? -0.75 : 0.75;
+      plus_sign(pen, L.at(0.95 * p, across), kValue);
+      break;
+    }
+    case SymbolKind::dc_source: {
+      const double p = plus_side;
+      pen.line(L.at(-2, 0), L.at(-0.22, 0), ink, w);
+      pen.line(L.at(0.22, 0), L.at(2, 0), ink, w);
+      pen.line(L.at(0.22 * p, -0.85), L.at(0.22 * p, 0.85), ink, 1.8);   // long plate: +
+      pen.line(L.at(-0.22 * p, -0.45), L.at(-0.22 * p, 0.45), ink, 4);  // short plate: -
+      plus_sign(pen, L.at(0.75 * p, -0.7), kValue);
+      break;
+    }
+    case SymbolKind::ac_source: {
+      pen.line(L.at(-2, 0), L.at(-0.9, 0), ink, w);
+      pen.line(L.at(0.9, 0), L.at(2, 0), ink, w);
+      pen.svg.circle(pen.px(s.centre), 0.9 * pen.u, Paint().stroke(ink, w).fill("#ffffff"));
+      std::vector<Point> wave;
+      for (int i = 0; i <= 16; ++i) {
+        const double t = i / 16.0;
+        wave.push_back({s.centre.x - 0.55 + 1.1 * t, s.centre.y - 0.3 * std::sin(2 * std::numbers::pi * t)});
+      }
+      pen.polyline(wave, ink, 1.5);
+      break;
+    }
+    case SymbolKind::njfet:
+    case SymbolKind::pjfet: {
+      const Point q = s.centre;
+      pen.svg.circle(pen.px({q.x + 0.35, q.y}), 1.45 * pen.u, Paint().stroke(ink, 1.2).fill(kDeviceFill));
+      pen.line({q.x - 0.1, q.y - 1.1}, {q.x - 0.1, q.y + 1.1}, ink, 3.2);
+      pen.polyline({{q.x - 0.1, q.y - 0.7}, {q.x + 1, q.y - 0.7}, {q.x + 1, q.y - 2}}, ink, w);
+      pen.polyline({{q.x - 0.1, q.y + 0.7}, {q.x + 1, q.y + 0.7}, {q.x + 1, q.y + 2}}, ink, w);
+      pen.line({q.x - 2, q.y}, {q.x - 0.1, q.y}, ink, w);
+      if (s.kind == SymbolKind::njfet)
+        arrow(pen, {q.x - 0.14, q.y}, {1, 0}, ink);  // N channel: the arrow points into the channel
+      else
+        arrow(pen, {q.x - 0.75, q.y}, {-1, 0}, ink);
+      break;
+    }
+    case SymbolKind::npn:
+    case SymbolKind::pnp: {
+      const Point q = s.centre;
+      pen.svg.circle(pen.px({q.x + 0.35, q.y}), 1.45 * pen.u, Paint().stroke(ink, 1.2).fill(kDeviceFill));
+      pen.line({q.x - 0.35, q.y - 0.9}, {q.x - 0.35, q.y + 0.9}, ink, 3.2);
+      pen.line({q.x - 2, q.y}, {q.x - 0.35, q.y}, ink, w);
+      pen.polyline({{q.x - 0.35, q.y - 0.4}, {q.x + 1, q.y - 1.1}, {q.x + 1, q.y - 2}}, ink, w);
+      pen.polyline({{q.x - 0.35, q.y + 0.4}, {q.x + 1, q.y + 1.1}, {q.x + 1, q.y + 2}}, ink, w);
+      const Point a{q.x - 0.35, q.y + 0.4}, b{q.x + 1, q.y + 1.1};
+      const Point d{b.x - a.x, b.y - a.y};
+      if (s.kind == SymbolKind::npn)
+        arrow(pen, {a.x + 0.85 * d.x, a.y + 0.85 * d.y}, d, ink);  // NPN: the emitter arrow points out
+      else
+        arrow(pen, {a.x + 0.2 * d.x, a.y + 0.2 * d.y}, {-d.x, -d.y}, ink);
+      break;
+    }
+  }
+}
+
+void draw_label(const Pen& pen, const PlacedSymbol& s) {
+  if (s.label.empty()) return;
+  const double gap = 0.68;  // line spacing, grid units
+  const double n = static_cast<double>(s.label.size());
+  Point at;
+  std::string anchor = "start";
+  const bool transistor = is_transistor(s.kind);
+  const bool source = s.kind == SymbolKind::ac_source || s.kind == SymbolKind::dc_source;
+  switch (s.label_side) {
+    case Side::right:
+      at = {s.centre.x + (transistor ? 2.1 : source ? 1.2 : 0.85), s.centre.y - gap * (n - 1) / 2 + 0.2};
+      break;
+    case Side::left:
+      at = {s.centre.x - 0.85, s.centre.y - gap * (n - 1) / 2 + 0.2};
+      anchor = "end";
+      break;
+    case Side::above:
+      at = {s.centre.x, s.centre.y - 0.95 - gap * (n - 1)};
+      anchor = "middle";
+      break;
+    case Side::below:
+      at = {s.centre.x, s.centre.y + 1.55};
+      anchor = "middle";
+      break;
+  }
+  for (std::size_t i = 0; i < s.label.size(); ++i) {
+    const Point p = pen.px({at.x, at.y + gap * static_cast<double>(i)});
+    if (i == 0) {
+      // Designator in bold, the role after it in a quieter tone.
+      const auto space = s.label[0].find(' ');
+      const std::string des = s.label[0].substr(0, space);
+      const std::string role = space == std::string::npos ? std::string() : s.label[0].substr(space + 1);
+      std::string markup = fmt::format(
+          "<text x=\"{}\" y=\"{}\" font-size=\"12.5\" text-anchor=\"{}\" fill=\"{}\"><tspan font-weight=\"bold\">{}"
+          "</tspan>",
+          num(p.x), num(p.y), anchor, s.bench ? kBench : kInk, xml_escape(des));
+      if (!role.empty())
+        markup += fmt::format("<tspan font-size=\"10.5\" fill=\"{}\"> {}</tspan>", kMuted, xml_escape(role));
+      markup += "</text>";
+      pen.svg.raw(markup);
+    } else if (i == 1) {
+      pen.svg.text(p, s.label[i], 12.5, anchor, s.bench ? kBench : kValue, "bold");
+    } else {
+      pen.svg.text(p, s.label[i], 10.5, anchor, kMuted);
+    }
+  }
+}
+
+}  // namespace
+
+std::string schematic_svg(const Schematic& s, std::string_view title) {
+  Svg svg(s.width * s.unit, s.height * s.unit, title);
+  const Pen pen{svg, s.unit};
+  svg.rect(0, 0, s.width * s.unit, s.height * s.unit, Paint().stroke("none").fill("#fffdf8"));
+  // Wires under the symbols; each net its own group, named for people and tests.
+  std::vector<std::size_t> nets;
+  for (const auto& w : s.wires)
+    if (std::find(nets.begin(), nets.end(), w.net) == nets.end()) nets.push_back(w.net);
+  for (std::size_t net : nets) {
+    const std::string& name = net < s.net_names.size() ? s.net_names[net] : std::string();
+    svg.open("g", Paint().stroke(kInk, 2).round(), {{"data-net", name == "0" ? "ground" : name}});
+    for (const auto& w : s.wires)
+      if (w.net == net) svg.line(pen.px(w.a), pen.px(w.b), {});
+    svg.close();
+  }
+  for (const auto& j : s.junctions) svg.circle(pen.px(j), 3.6, Paint().stroke("none").fill(kInk));
+  for (const auto& sym : s.symbols) {
+    svg.open("g", {}, {{"data-part", sym.designator}});
+    svg.title(fmt::format("{}", fmt::join(sym.label, " · ")));
+    draw_symbol(pen, sym);
+    draw_label(pen, sym);
+    svg.close();
+  }
+  // Ground sign.
+  const Point g = s.ground_symbol;
+  pen.line(g, {g.x, g.y + 0.55}, kInk, 2);
+  pen.line({g.x - 0.6, g.y + 0.55}, {g.x + 0.6, g.y + 0.55}, kInk, 2.2);
+  pen.line({g.x - 0.38, g.y + 0.8}, {g.x + 0.38, g.y + 0.8}, kInk, 2.2);
+  pen.line({g.x - 0.16, g.y + 1.05}, {g.x + 0.16, g.y + 1.05}, kInk, 2.2);
+  for (const auto& m : s.marks) {
+    if (m.terminal) {
+      svg.circle(pen.px(m.at), 0.24 * s.unit, Paint().stroke(kInk, 1.8).fill("#ffffff"));
+      svg.text(pen.px({m.at.x, m.at.y - 0.5}), m.text, 11.5, "middle", kInk, "bold");
+    } else {
+      svg.text(pen.px({m.at.x, m.at.y - 0.35}), m.text, 11.5, "start", kInk, "bold");
+    }
+  }
+  return svg.str();
+}
+
+}  // namespace shelfstage::draw
