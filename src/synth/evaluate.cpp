@@ -166,8 +166,10 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations) {
           w.v_out.add(p.v_out);
           w.zin.add(p.zin_ohm);
           w.zout.add(p.zout_ohm);
-          w.f_low.add(p.f_low_hz);
-          w.f_high.add(p.f_high_hz);
+          if (k == 0) {  // the -3 dB corners are computed at full detail only
+            w.f_low.add(p.f_low_hz);
+            w.f_high.add(p.f_high_hz);
+          }
           w.supply_current.add(p.supply_current_a);
           w.loss_lo_db.add(p.loss_lo_db);
           w.loss_hi_db.add(p.loss_hi_db);
