@@ -228,15 +228,9 @@ class BjtCeDivider final : public Topology {
                 const double zin = par(rth, t.bf * (1.0 / gm + re1));
                 if (zin < g.zin_min_ohm * 1.02) continue;
                 const double a_int = g.gain * (zin + c.source_ohm) / zin;
-                // The gain's collector resistor, if the headroom allows it (collector above
-                // saturation by the swing and a few tenths); when probing, the largest it allows.
-                const double want = detail::load_resistor_for_gain(a_int, gm, re1, c.load_ohm);
+                // The collector above saturation by the swing and a few tenths.
                 const double room = (c.supply_v - ve - t.vce_sat_v - g.swing_peak_v - 0.3) / ic;
-                if (want > room && !g.probe) continue;
-                const double rc = std::min(want, room);
-                if (rc <= 0) continue;
-                std::vector<double> rcs;
-                shelf.nearest(rc, 2, rcs);
+                const auto rcs = detail::load_resistors(shelf, g, a_int, gm, re1, c.load_ohm, room);
                 for (double x : rcs) {
                   Values v;
                   v[R1] = r1;

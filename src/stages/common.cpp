@@ -281,6 +281,20 @@ double load_resistor_for_gain(double a_int, double gm, double r_deg, double load
   return 1.0 / (1.0 / rl_ac - 1.0 / load_ohm);
 }
 
+std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, double a_int, double gm, double r_deg,
+                                   double load_ohm, double room_ohm) {
+  std::vector<double> out;
+  const double want = load_resistor_for_gain(a_int, gm, r_deg, load_ohm);
+  if (want > room_ohm && !g.probe) return out;
+  const double r = std::min(want, room_ohm);
+  if (r > 0) shelf.nearest(r, 2, out);
+  return out;
+}
+
+double jfet_drain_room(const JfetBias& b, const Goal& g, const Conditions& c) {
+  return (c.supply_v - b.vs_v - b.vgst_v - g.swing_peak_v - 0.5) / b.id_a;
+}
+
 std::vector<double> gate_resistors(const ValueSource& shelf, double zin_min_ohm) {
   const double lo = std::max(zin_min_ohm * 1.06, 10e3);
   std::vector<double> out;

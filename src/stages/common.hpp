@@ -148,6 +148,16 @@ double load_resistor_for_gain(double a_int, double gm, double r_deg, double load
 /// scale, and the one nearest 1M (the bench's usual choice).
 std::vector<double> gate_resistors(const ValueSource& shelf, double zin_min_ohm);
 
+/// The drain or collector resistors to try: the shelf's nearest to the one that gives the
+/// internal gain a_int (load_resistor_for_gain), when the headroom allows it (room_ohm: the
+/// largest resistor the headroom allows); when probing, the largest the headroom allows.
+std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, double a_int, double gm, double r_deg,
+                                   double load_ohm, double room_ohm);
+
+/// The largest drain resistor a JFET common source's headroom allows: the drain above the
+/// triode edge by the requested swing and half a volt.
+double jfet_drain_room(const JfetBias& b, const Goal& g, const Conditions& c);
+
 /// Distinct values, in order.
 void unique_values(std::vector<double>& v);
 

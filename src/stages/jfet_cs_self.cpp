@@ -89,15 +89,8 @@ class JfetCsSelf final : public Topology {
         const detail::JfetBias b = detail::jfet_bias(j, 0.0, rt, 0.0, c.supply_v);
         if (!b.conducts) continue;
         for (auto [r1, r2] : detail::leg_splits(shelf, rt)) {
-          // The gain's drain resistor, if the headroom allows it (drain above the triode edge
-          // by the swing and half a volt); when probing, the largest it allows.
-          const double want = detail::load_resistor_for_gain(a_int, b.gm_s, r1, c.load_ohm);
-          const double room = (c.supply_v - b.vs_v - b.vgst_v - g.swing_peak_v - 0.5) / b.id_a;
-          if (want > room && !g.probe) continue;
-          const double rd = std::min(want, room);
-          if (rd <= 0) continue;
-          std::vector<double> rds;
-          shelf.nearest(rd, 2, rds);
+          const auto rds = detail::load_resistors(shelf, g, a_int, b.gm_s, r1, c.load_ohm,
+                                                  detail::jfet_drain_room(b, g, c));
           for (double x : rds) {
             Values v;
             v[RG] = rg;
