@@ -100,3 +100,23 @@ TEST_CASE("show: an unknown id is bad input (exit 1) and the error names it") {
   CHECK(r.err.starts_with("error: "));
   CHECK(r.err.find("zz99zz99") != std::string::npos);
 }
+
+TEST_CASE("show: above 60 V DC the hazardous-voltage caution defers to local codes (DOMAIN.md section 5)") {
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0);
+  auto caution_of = [&](const std::string& supply) {
+    const auto d = test::run_stage_cli(
+        {"design", "--db", db, "--gain", "5", "--load", "10k", "--supply", supply, "--zin", "100k", "--json"});
+    REQUIRE(d.status == 0);
+    const std::string id = nlohmann::json::parse(d.out)["candidates"][0]["id"].get<std::string>();
+    const auto r = test::run_stage_cli({"show", id, "--db", db});
+    REQUIRE(r.status == 0);
+    const auto start = r.out.find("hazardous voltage");
+    return start == std::string::npos ? std::string() : r.out.substr(start, r.out.find('\n', start) - start);
+  };
+  const std::string high = caution_of("70");
+  CHECK(high.find("60 V DC") != std::string::npos);
+  CHECK(high.find("local codes and licensed practice") != std::string::npos);
+  CHECK(caution_of("12").empty());
+}
