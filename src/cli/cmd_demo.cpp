@@ -4,10 +4,13 @@
 #include <filesystem>
 #include <memory>
 #include <random>
+#include <sstream>
 
 #include "commands.hpp"
 #include "demo_data.hpp"
+#include "design_run.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/picklist.hpp"
 #include "shelfstage/store/csv.hpp"
 #include "stock_view.hpp"
 
@@ -58,16 +61,51 @@ Loaded load_demo_shelf(store::Database& db) {
   return n;
 }
 
-/// What the demo shows once the shelf is loaded.
+/// The request the demo designs for: a gain-of-ten stage for a line-level source.
+synth::Spec demo_spec() {
+  DesignOptions o;
+  o.gain = "10";
+  o.load = "10k";
+  o.supply = "12";
+  o.zin = "100k";
+  o.source_z = "1k";
+  o.band = "20..20k";
+  o.swing = "2";
+  return spec_from_options(o);
+}
+
+inline constexpr const char* kDemoRequest =
+    "design --gain 10 --load 10k --supply 12 --zin 100k --source-z 1k --band 20..20k --swing 2";
+
+/// What the demo shows once the shelf is loaded: the shelf, a design made from it, and the
+/// pick list of the best candidate.
 void show_demo(store::Database& db, Context& ctx) {
   const auto parts = db.parts();
+  const synth::Spec spec = demo_spec();
   if (ctx.global.json) {
-    print_json(ctx, stock_json(parts));
+    // run_design_on prints its own JSON document: catch it and put it inside the demo's.
+    std::ostringstream design_out;
+    Context inner(design_out, ctx.err, ctx.in);
+    inner.global = ctx.global;
+    const auto r = run_design_on(db, spec, true, inner);
+    const auto& best = r.candidates.front();
+    const auto pick = report::make_pick_list(best, spec.copies, db.parts());
+    nlohmann::ordered_json doc;
+    doc["schema"] = 1;
+    doc["stock"] = stock_json(parts)["parts"];
+    doc["request"] = std::string("shelfstage ") + kDemoRequest;
+    doc["design"] = nlohmann::ordered_json::parse(design_out.str());
+    doc["pick"] = report::pick_json(pick);
+    print_json(ctx, doc);
     return;
   }
   ctx.out << stock_table(parts);
-  ctx.out << "\nDesigning stages from this shelf (`shelfstage design`) comes with the stage\n"
-             "synthesizer, which is not part of this build yet.\n";
+  ctx.out << fmt::format("\nA stage from this shelf: `shelfstage {}`\n\n", kDemoRequest);
+  const auto r = run_design_on(db, spec, true, ctx);
+  const auto& best = r.candidates.front();
+  const auto pick = report::make_pick_list(best, spec.copies, db.parts());
+  ctx.out << fmt::format("\nThe pick list of #1 (`shelfstage pick {}`):\n\n", best.id);
+  ctx.out << report::pick_text(pick);
 }
 
 void run_demo(const DemoOptions& /*o*/, Context& ctx) {
@@ -105,7 +143,8 @@ void setup_demo(CLI::App& parent, Context& ctx) {
   cmd->footer(
       "Loads the demo shelf (built into the program: a mixed E12 resistor drawer, ceramics,\n"
       "film caps, electrolytics of several voltage ratings, a few JFET and BJT types) into a\n"
-      "temporary database, shows it, and deletes it. Your own stock is never touched.\n"
+      "temporary database, shows it, designs a gain-of-ten stage from it, prints the pick\n"
+      "list of the best design, and deletes the database. Your own stock is never touched.\n"
       "With --db FILE the demo database is kept in FILE, which must not exist yet.");
   cmd->callback([o, &ctx] { run_demo(*o, ctx); });
 }

@@ -30,6 +30,14 @@ inline CliResult run_cli(std::vector<std::string> args, const std::string& input
   setup_devices(app, ctx);
   setup_check(app, ctx);
   setup_demo(app, ctx);
+  setup_design(app, ctx);
+  setup_pick(app, ctx);
+  setup_reserve(app, ctx);
+  setup_release(app, ctx);
+  setup_build(app, ctx);
+  setup_builds(app, ctx);
+  setup_ledger(app, ctx);
+  setup_shop(app, ctx);
   app.add_subcommand("test-infeasible")->callback([] { throw InfeasibleError("not enough 4.7k in stock"); });
   app.add_subcommand("test-bug")->callback([] { throw std::logic_error("index out of range"); });
   args.insert(args.begin(), "shelfstage");

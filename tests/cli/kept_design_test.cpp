@@ -1,0 +1,45 @@
+// Tests of kept designs read back: the request and candidate round trip, copies, and the
+// pick list as a withdrawal plan.
+#include "kept_design.hpp"
+
+#include <doctest/doctest.h>
+
+#include "shelf_fixture.hpp"
+
+using namespace shelfstage;
+using shelfstage::test::DemoShelf;
+
+TEST_CASE("load_kept: the design as `design --json` printed it, copies from the request") {
+  DemoShelf shelf(2);
+  auto db = store::Database::open(shelf.db);
+  const auto d = cli::load_kept(db, shelf.design);
+  CHECK(d.saved.id == shelf.design);
+  CHECK(d.candidate.id == shelf.design);
+  CHECK(d.spec.gain == doctest::Approx(10));
+  CHECK(d.spec.load_ohm == doctest::Approx(10e3));
+  CHECK(d.spec.copies == 2);
+  CHECK(cli::copies_of(d, std::nullopt) == 2);
+  CHECK(cli::copies_of(d, 5) == 5);
+  CHECK_THROWS_AS(cli::copies_of(d, 0), InputError);
+  CHECK_FALSE(d.candidate.parts.empty());
+  for (const auto& rp : d.candidate.parts) CHECK(rp.lines.size() == rp.values.size());
+  // By a prefix, too.
+  CHECK(cli::load_kept(db, shelf.design.substr(0, 5)).saved.id == shelf.design);
+}
+
+TEST_CASE("pick_planner: the pick list's lines as withdrawals, or the shortfall as text") {
+  DemoShelf shelf;
+  auto db = store::Database::open(shelf.db);
+  const auto d = cli::load_kept(db, shelf.design);
+  const auto stock = db.parts();
+  const auto plan = cli::pick_planner(d.candidate, 1)(stock, {});
+  CHECK(plan.short_text.empty());
+  const auto pick = report::make_pick_list(d.candidate, 1, stock);
+  REQUIRE(plan.take.size() == pick.lines.size());
+  for (std::size_t i = 0; i < plan.take.size(); ++i) {
+    CHECK(plan.take[i].part_id == pick.lines[i].part_id);
+    CHECK(plan.take[i].qty == pick.lines[i].qty);
+  }
+  const auto none = cli::pick_planner(d.candidate, 1)({}, {});
+  CHECK(none.short_text.rfind("not enough stock for 1 copy of " + shelf.design + ": ", 0) == 0);
+}

@@ -1,0 +1,52 @@
+// Test fixture: a database holding the demo shelf (data-demo/) and one kept design made
+// from it, for the commands that act on kept designs.
+#pragma once
+#include <doctest/doctest.h>
+
+#include <nlohmann/json.hpp>
+
+#include <string>
+
+#include "cli_runner.hpp"
+#include "temp_dir.hpp"
+
+namespace shelfstage::test {
+
+/// The request the fixture designs for (the demo's): a gain of ten into 10k from 12 V.
+inline const std::vector<std::string> kDemoRequest{"design", "--gain", "10", "--load", "10k", "--supply", "12",
+                                                   "--zin", "100k", "--source-z", "1k", "--band", "20..20k",
+                                                   "--swing", "2"};
+
+struct DemoShelf {
+  TempDir dir;
+  std::string db = (dir / "stock.db").string();
+  std::string design;  ///< id of the best candidate, kept in the database
+
+  explicit DemoShelf(int copies = 1) {
+    const std::string src = SHELFSTAGE_SOURCE_DIR;
+    REQUIRE(run({"init"}).status == 0);
+    REQUIRE(run({"devices", "import", src + "/data-demo/devices.csv"}).status == 0);
+    REQUIRE(run({"stock", "import", src + "/data-demo/stock.csv"}).status == 0);
+    auto args = kDemoRequest;
+    args.insert(args.end(), {"--copies", std::to_string(copies), "--top", "3", "--samples", "50", "--json"});
+    const auto r = run(args);
+    REQUIRE(r.status == 0);
+    design = nlohmann::json::parse(r.out).at("candidates").at(0).at("id").get<std::string>();
+  }
+
+  /// `shelfstage --db DB ARGS...` in-process.
+  CliResult run(std::vector<std::string> args, const std::string& input = "") const {
+    args.insert(args.begin(), {"--db", db});
+    return run_cli(std::move(args), input);
+  }
+  /// The same with --json, parsed (REQUIREs exit 0).
+  nlohmann::json json(std::vector<std::string> args) const {
+    args.push_back("--json");
+    const auto r = run(std::move(args));
+    INFO(r.err);
+    REQUIRE(r.status == 0);
+    return nlohmann::json::parse(r.out);
+  }
+};
+
+}  // namespace shelfstage::test
