@@ -70,6 +70,7 @@ void setup_build(CLI::App& parent, Context& ctx);
 void setup_builds(CLI::App& parent, Context& ctx);
 void setup_ledger(CLI::App& parent, Context& ctx);
 void setup_shop(CLI::App& parent, Context& ctx);
+void setup_report(CLI::App& parent, Context& ctx);
 
 /// Writes a JSON document on ctx.out (indented two spaces, then a newline).
 void print_json(Context& ctx, const nlohmann::ordered_json& doc);

@@ -24,5 +24,6 @@ int main(int argc, char** argv) {
   setup_builds(app, ctx);
   setup_ledger(app, ctx);
   setup_shop(app, ctx);
+  setup_report(app, ctx);
   return run_app(app, ctx, argc, argv);
 }

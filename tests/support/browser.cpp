@@ -109,6 +109,27 @@ std::string dump_dom(const std::string& path) {
   return slurp(out);
 }
 
+std::string print_pdf(const std::string& path) {
+  const std::string program = chromium_program();
+  Scratch s;
+  const auto pdf = s.path / "page.pdf";
+  const std::string url = "file://" + std::filesystem::absolute(path).string();
+  const std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) + " --no-pdf-header-footer --print-to-pdf=" +
+                          quote(pdf.string()) + " " + quote(url) + " >/dev/null 2>/dev/null";
+  run_shell(cmd);
+  return std::filesystem::exists(pdf) ? slurp(pdf) : std::string();
+}
+
+int pdf_pages(const std::string& pdf) {
+  int n = 0;
+  for (std::size_t at = pdf.find("/Type /Page"); at != std::string::npos; at = pdf.find("/Type /Page", at + 1)) {
+    const std::size_t next = at + 11;
+    if (next < pdf.size() && pdf[next] == 's') continue;  // /Type /Pages: the page tree
+    ++n;
+  }
+  return n;
+}
+
 std::uint32_t Image::pixel(int x, int y) const {
   const std::size_t i = (static_cast<std::size_t>(y) * static_cast<std::size_t>(width) + static_cast<std::size_t>(x)) * 4;
   return (static_cast<std::uint32_t>(rgba[i]) << 24) | (static_cast<std::uint32_t>(rgba[i + 1]) << 16) |

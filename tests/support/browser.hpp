@@ -30,6 +30,13 @@ BrowserRun render(const std::string& path, int width, int height);
 /// not well formed.
 std::string dump_dom(const std::string& path);
 
+/// Prints the page to PDF as Chromium does for paper (the print stylesheet applies), without
+/// Chromium's header and footer, and returns the PDF's bytes (empty if none was written).
+std::string print_pdf(const std::string& path);
+
+/// The number of pages of a PDF as Chromium writes it (its /Type /Page objects).
+int pdf_pages(const std::string& pdf);
+
 /// An 8-bit RGB or RGBA image, 4 bytes per pixel (alpha 255 for RGB).
 struct Image {
   int width = 0, height = 0;

@@ -1,0 +1,198 @@
+// Tests of the HTML report, rendered in headless Chromium (the outside reference for "a browser
+// shows it"): designs from the demo shelf in every topology, N and P, and one above 60 V. Each
+// report must load nothing from elsewhere, parse as XML as a whole (so every inline SVG does),
+// paint a page that is not blank with no console output, print to PDF, and name every part.
+#include "shelfstage/report/html_report.hpp"
+
+#include <doctest/doctest.h>
+
+#include <filesystem>
+#include <fstream>
+#include <map>
+#include <random>
+#include <regex>
+
+#include "report_fixture.hpp"
+#include "shelfstage/error.hpp"
+#include "support/browser.hpp"
+
+using namespace shelfstage;
+
+namespace {
+
+struct Case {
+  const char* topology;
+  const char* device;
+  double gain;
+  double supply_v;
+  double swing_vpp;
+};
+
+const Case kCases[] = {
+    {"jfet-cs-self", "SJ-101", 5, 12, 2},      {"jfet-cs-divider", "SJ-P31", 3, 15, 2},
+    {"jfet-follower", "SJ-202", 0.8, 12, 1},   {"bjt-ce-divider", "SQ-410", 10, 12, 2},
+    {"bjt-follower", "SQ-510", 0.9, 9, 2},
+};
+
+/// Capacitors and resistors rated for a 70 V supply, added to the demo shelf for the hazard case.
+const char* const kHighVoltageStock =
+    "C,1u,10,20%,,160,electrolytic,Z1,radial,\n"
+    "C,2u2,10,20%,,160,electrolytic,Z1,radial,\n"
+    "C,3u3,10,20%,,160,electrolytic,Z1,radial,\n"
+    "C,4u7,10,20%,,160,electrolytic,Z1,radial,\n"
+    "C,10u,10,20%,,160,electrolytic,Z1,radial,\n"
+    "C,47u,10,20%,,160,electrolytic,Z1,radial,\n"
+    "C,100u,10,20%,,160,electrolytic,Z1,radial,\n"
+    "C,220n,10,10%,,250,film,Z2,box,\n"
+    "C,1u,10,10%,,250,film,Z2,box,\n";
+
+std::string temp_dir() {
+  std::random_device rd;
+  const auto d = std::filesystem::temp_directory_path() / ("shelfstage-report-test-" + std::to_string(rd()));
+  std::filesystem::create_directories(d);
+  return d.string();
+}
+
+report::ReportInput input_for(const Case& k, const synth::Inventory& inv) {
+  report::ReportInput in;
+  in.spec = test::request(k.topology, k.device, k.gain, k.supply_v, k.swing_vpp);
+  in.candidate = test::design_one(in.spec, inv);
+  in.id = in.candidate.id;
+  in.created = "2024-05-01 10:00:00";
+  in.generator = "shelfstage (test)";
+  in.pick = report::make_pick_list(in.candidate, 2, inv.parts);
+  in.bias_samples = 80;
+  return in;
+}
+
+/// Checks that hold for every report; returns the dumped DOM.
+std::string check_report(const report::ReportInput& in, const std::string& html, const std::string& dir,
+                         const std::string& name) {
+  INFO(name);
+  // Self-contained: no scripts, no external references of any kind (the only URLs are the two
+  // XML namespaces), a content security policy that forbids fetching anything.
+  CHECK(html.starts_with("<!DOCTYPE html>"));
+  CHECK(html.find("<script") == std::string::npos);
+  CHECK(html.find("<link") == std::string::npos);
+  CHECK(html.find("<img") == std::string::npos);
+  CHECK(html.find("@import") == std::string::npos);
+  CHECK(html.find("default-src 'none'") != std::string::npos);
+  const std::regex url_re(R"(https?://[^"' )]*)");
+  for (auto it = std::sregex_iterator(html.begin(), html.end(), url_re); it != std::sregex_iterator(); ++it) {
+    const std::string u = it->str();
+    CHECK_MESSAGE((u == "http://www.w3.org/2000/svg" || u == "http://www.w3.org/1999/xhtml"), u);
+  }
+  for (std::size_t at = html.find("url("); at != std::string::npos; at = html.find("url(", at + 1))
+    CHECK(html.compare(at, 5, "url(#") == 0);
+  CHECK(html.find("@media print") != std::string::npos);
+
+  const std::string page = dir + "/" + name + ".html";
+  std::ofstream(page, std::ios::binary) << html;
+  // The whole document through Chromium's XML parser: every inline SVG is well-formed XML.
+  const std::string xhtml = dir + "/" + name + ".xhtml";
+  std::ofstream(xhtml, std::ios::binary) << html;
+  const std::string xml_dom = test::dump_dom(xhtml);
+  CHECK(xml_dom.find("parsererror") == std::string::npos);
+  std::size_t svgs = 0;
+  for (std::size_t at = html.find("<svg"); at != std::string::npos; at = html.find("<svg", at + 1)) ++svgs;
+  CHECK(svgs == 6);  // schematic, gain, phase, bias, transfer, sine
+
+  // Rendered: not blank, and not a word on the console.
+  const auto run = test::render(page, 1200, 2400);
+  CHECK_MESSAGE(run.console.empty(), run.log);
+  REQUIRE(!run.screenshot.empty());
+  const auto img = test::decode_png(run.screenshot);
+  CHECK(img.width == 1200);
+  CHECK(test::distinct_colours(img) > 200);
+  CHECK(test::inked_fraction(img) > 0.5);  // the paper column on the grey page, and what is on it
+
+  // Every part by its designator, in the page as the browser built it.
+  const std::string dom = test::dump_dom(page);
+  for (const auto& rp : in.candidate.parts) CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
+  CHECK(dom.find(">Q1<") != std::string::npos);
+  for (const char* id : {"schematic", "response", "bias", "swing", "parts", "pick", "figures", "cautions"})
+    CHECK_MESSAGE(dom.find(std::string("<section id=\"") + id + "\"") != std::string::npos, id);
+
+  // It prints: a PDF of a few A4 pages.
+  const std::string pdf = test::print_pdf(page);
+  REQUIRE(pdf.starts_with("%PDF-"));
+  const int pages = test::pdf_pages(pdf);
+  CHECK(pages >= 2);
+  CHECK(pages <= 12);
+  return dom;
+}
+
+}  // namespace
+
+TEST_CASE("the browser harness sees console errors and blank pages (so the checks below can fail)") {
+  const std::string dir = temp_dir();
+  std::ofstream(dir + "/bad.html") << "<!DOCTYPE html><html><body><script>nosuchfunction()</script></body></html>";
+  const auto run = test::render(dir + "/bad.html", 400, 300);
+  CHECK(!run.console.empty());
+  const auto img = test::decode_png(run.screenshot);
+  CHECK(test::distinct_colours(img) == 1);
+  CHECK(test::inked_fraction(img) == 0.0);
+  std::filesystem::remove_all(dir);
+}
+
+TEST_CASE("html_report: every topology, N and P, renders whole in Chromium") {
+  const auto inv = test::demo_inventory();
+  const std::string dir = temp_dir();
+  for (const auto& k : kCases) {
+    const auto in = input_for(k, inv);
+    const std::string html = report::html_report(in);
+    const std::string dom = check_report(in, html, dir, k.topology);
+    // The pick list's bins and the request's band are in it.
+    REQUIRE(in.pick);
+    for (const auto& l : in.pick->lines)
+      if (!l.bin.empty()) CHECK(dom.find(">" + l.bin + "<") != std::string::npos);
+    CHECK(dom.find("requested band") != std::string::npos);
+    // Electrolytics: the schematic marks them and the cautions say which way they go.
+    for (const auto& rp : in.candidate.parts)
+      if (rp.polarised) CHECK(dom.find(rp.designator + " (" + rp.role + ") is polarised") != std::string::npos);
+    CHECK(dom.find("Hazardous voltage") == std::string::npos);
+  }
+  if (std::getenv("SHELFSTAGE_KEEP_REPORTS") == nullptr) std::filesystem::remove_all(dir);
+}
+
+TEST_CASE("html_report: above 60 V the hazardous-voltage caution defers to local codes and licensed practice") {
+  const auto inv = test::demo_inventory(kHighVoltageStock);
+  const Case k{"jfet-cs-self", "SJ-202", 5, 70, 2};
+  const auto in = input_for(k, inv);
+  const std::string html = report::html_report(in);
+  const std::string dir = temp_dir();
+  const std::string dom = check_report(in, html, dir, "hazard");
+  CHECK(dom.find("Hazardous voltage") != std::string::npos);
+  CHECK(dom.find("local codes and licensed practice") != std::string::npos);
+  std::filesystem::remove_all(dir);
+}
+
+TEST_CASE("html_report: without stock the parts are listed with their recipes") {
+  const auto inv = test::demo_inventory();
+  auto in = input_for(kCases[0], inv);
+  in.pick.reset();
+  const std::string html = report::html_report(in);
+  CHECK(html.find("No stock was given for a pick list") != std::string::npos);
+  for (const auto& rp : in.candidate.parts) CHECK(html.find(">" + rp.designator + "<") != std::string::npos);
+}
+
+TEST_CASE("schematic_notes: IEC 60062 values, recipes, polarity and the bench") {
+  const auto inv = test::demo_inventory();
+  const auto in = input_for(kCases[3], inv);
+  const auto o = report::schematic_notes(in.candidate);
+  for (const auto& rp : in.candidate.parts) {
+    REQUIRE(o.notes.count(rp.designator) == 1);
+    const auto& n = o.notes.at(rp.designator);
+    // IEC 60062 code: the multiplier letter stands for the decimal point (4k7, 100n, 2u2).
+    CHECK(n.value.find('.') == std::string::npos);
+    CHECK(n.polarised == rp.polarised);
+    if (rp.polarised) CHECK(!n.plus_net.empty());
+  }
+  CHECK(o.notes.at("Q1").value == in.candidate.device.name);
+  // IEC 60062 writes 10 kOhm as 10K and 1 kOhm as 1K0 (bench notes use the lower-case k).
+  CHECK(o.notes.at("RL").value == "10k");
+  CHECK(o.notes.at("RSIG").value == "1k0");
+  report::ReportInput bad = in;
+  bad.candidate.topology = nullptr;
+  CHECK_THROWS_AS(report::html_report(bad), InputError);
+}
