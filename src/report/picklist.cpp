@@ -507,10 +507,11 @@ std::string short_summary(const PickList& p) {
 std::string shopping_text(const std::vector<ShortItem>& items) {
   TextTable t({{"QTY", Align::right}, {"KIND"}, {"VALUE", Align::right}, {"TOL"}, {"RATING"}, {"FOR"}});
   for (const auto& s : items) {
+    // The rating of the stock the design drew on: a higher one does as well.
     std::string rating = rating_text(s.kind, s.rating);
+    if (!rating.empty()) rating = "at least " + rating;
     if (s.kind == store::PartKind::capacitor && !s.dielectric.empty())
       rating = rating.empty() ? s.dielectric : rating + " " + s.dielectric;
-    if (s.kind == store::PartKind::resistor && s.rating > 0) rating = "at least " + rating;
     t.add_row({std::to_string(s.qty), std::string(kind_letter(s.kind)), item_value_text(s.kind, s.value, s.device),
                tol_text(s.tol), rating, fmt::format("{}", fmt::join(s.designators, " "))});
   }

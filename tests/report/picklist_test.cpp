@@ -277,3 +277,13 @@ TEST_CASE("pick_csv: a header, one row per line and per short item") {
 TEST_CASE("make_pick_list refuses zero copies") {
   CHECK_THROWS_AS((void)make_pick_list(ce_stage(), 0, ce_shelf()), InputError);
 }
+
+TEST_CASE("shopping_text: quantity, value, tolerance and the least rating to order") {
+  auto shelf = ce_shelf();
+  shelf[2].qty = 0;  // no 10k
+  shelf[7].qty = 0;  // no 220u (16 V electrolytic)
+  const auto text = report::shopping_text(make_pick_list(ce_stage(), 2, shelf).short_items);
+  CHECK(text.find("4  R       10k  5%   at least 0.25W") != std::string::npos);
+  CHECK(text.find("R2.1 R2.2 R3.1 R3.2") != std::string::npos);
+  CHECK(text.find("2  C      220u  20%  at least 16V electrolytic") != std::string::npos);
+}
