@@ -9,6 +9,7 @@
 #include "stage_view.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/analysis.hpp"
+#include "shelfstage/report/curves.hpp"
 #include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/table.hpp"
@@ -23,11 +24,11 @@ namespace {
 using units::format_value;
 using units::Unit;
 
-/// The options of `show`; a later `--plot FILE` (response plots) adds a field here and a line
-/// in setup_show.
+/// The options of `show`.
 struct ShowOptions {
   std::string id;
   std::optional<std::string> spice;  ///< --spice FILE: the netlist for ngspice
+  bool plot = false;                 ///< --plot: the frequency response as a terminal plot
 };
 
 /// A combination's tolerance for people: "5%", "3.2%" or "-10/+20%" (two significant digits).
@@ -152,6 +153,11 @@ void run_show(const ShowOptions& o, Context& ctx) {
     doc["analysis"] = analysis;
     doc["cautions"] = cautions;
     doc["spice"] = o.spice ? report::Json(*o.spice) : report::Json(nullptr);
+    if (o.plot) {
+      const report::Response r = report::frequency_response(c, spec);
+      doc["response"] = {{"f_hz", r.f_hz}, {"gain_db", r.nominal.gain_db}, {"gain_lo_db", r.gain_lo_db},
+                         {"gain_hi_db", r.gain_hi_db}};
+    }
     print_json(ctx, doc);
     return;
   }
@@ -168,6 +174,7 @@ void run_show(const ShowOptions& o, Context& ctx) {
   print_list(ctx.out, "Warnings", a.warnings);
   print_list(ctx.out, "Cautions", cautions);
   if (const std::string corners = report::corners_text(a); !corners.empty()) ctx.out << "\n" << corners;
+  if (o.plot) ctx.out << "\n" << report::response_text(report::frequency_response(c, spec));
   if (o.spice)
     ctx.out << fmt::format("\nSPICE netlist written to {} (run it with: ngspice -b {}).\n", *o.spice, *o.spice);
 }
@@ -180,6 +187,8 @@ void setup_show(CLI::App& parent, Context& ctx) {
   cmd->add_option("ID", o->id, "Design id from `shelfstage design` (or its first four or more characters)")
       ->type_name("")
       ->required();
+  cmd->add_flag("--plot", o->plot,
+                "Also print the frequency response in the terminal: nominal, the device corners' envelope, the band");
   cmd->add_option("--spice", o->spice, "Also write the stage's SPICE netlist (with .op and .ac) to FILE for ngspice")
       ->type_name("FILE");
   cmd->footer(
