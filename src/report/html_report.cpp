@@ -128,6 +128,40 @@ std::string range_text(const synth::Range& r, std::string (*f)(double)) {
 
 // --- sections ---------------------------------------------------------------------------
 
+bool is_hazard(const std::string& s) { return s.starts_with("hazardous voltage"); }
+
+/// The cautions to show: the kept design's, the analysis's hazard caution when the design's
+/// own list lacks one, and every polarised part with the way it goes in.
+std::vector<std::string> all_cautions(const ReportInput& in, const Analysis& a) {
+  std::vector<std::string> cautions = in.candidate.cautions;
+  if (std::none_of(cautions.begin(), cautions.end(), is_hazard))
+    for (const auto& s : a.cautions)
+      if (is_hazard(s)) cautions.insert(cautions.begin(), s);
+  for (const auto& rp : in.candidate.parts)
+    if (rp.polarised) {
+      const bool named = std::any_of(cautions.begin(), cautions.end(), [&](const std::string& s) {
+        return s.starts_with(rp.designator + " ");
+      });
+      if (!named)
+        cautions.push_back(fmt::format("{} ({}) is polarised: its + lead goes to the {}", rp.designator, rp.role,
+                                       net_for_people(rp.plus_net, in.candidate)));
+    }
+  return cautions;
+}
+
+/// The hazard caution as a boxed paragraph (empty when there is none).
+std::string hazard_box(const std::vector<std::string>& cautions) {
+  std::string h;
+  for (const auto& s : cautions)
+    if (is_hazard(s)) {
+      std::string text = s.substr(std::string_view("hazardous voltage").size());
+      if (text.starts_with(":")) text = text.substr(1);
+      if (text.starts_with(" ")) text = text.substr(1);
+      h += "<div class=\"hazard\"><b>Hazardous voltage.</b> " + esc(text) + "</div>";
+    }
+  return h;
+}
+
 std::string header_section(const ReportInput& in, const Analysis& a) {
   const auto& c = in.candidate;
   const auto& p = a.best();
@@ -149,6 +183,7 @@ std::string header_section(const ReportInput& in, const Analysis& a) {
       {amps(p.supply_current_a), "supply current"},
       {c.yield ? fmt::format("{:.0f} %", *c.yield * 100) : std::string("\u2014"), "Monte Carlo yield"},
   };
+  h += hazard_box(all_cautions(in, a));
   h += "<div class=\"strip\">";
   for (const auto& [value, what] : cards)
     h += fmt::format("<div class=\"card\"><b>{}</b><span>{}</span></div>", esc(value), esc(what));
@@ -525,29 +560,13 @@ std::string figures_section(const ReportInput& in, const Analysis& a) {
 }
 
 std::string cautions_section(const ReportInput& in, const Analysis& a) {
-  std::vector<std::string> cautions = in.candidate.cautions;
-  const auto hazard = [](const std::string& s) { return s.starts_with("hazardous voltage"); };
-  if (std::none_of(cautions.begin(), cautions.end(), hazard))
-    for (const auto& s : a.cautions)
-      if (hazard(s)) cautions.insert(cautions.begin(), s);
-  // Every polarised part named with the way it goes in.
-  for (const auto& rp : in.candidate.parts)
-    if (rp.polarised) {
-      const bool named = std::any_of(cautions.begin(), cautions.end(), [&](const std::string& s) {
-        return s.starts_with(rp.designator + " ");
-      });
-      if (!named)
-        cautions.push_back(fmt::format("{} ({}) is polarised: its + lead goes to the {}", rp.designator, rp.role,
-                                       net_for_people(rp.plus_net, in.candidate)));
-    }
-  std::string h = "<section id=\"cautions\"><h2>Cautions</h2>";
-  for (const auto& s : cautions)
-    if (hazard(s)) h += "<div class=\"hazard\"><b>Hazardous voltage.</b> " + esc(s) + "</div>";
+  const std::vector<std::string> cautions = all_cautions(in, a);
+  std::string h = "<section id=\"cautions\"><h2>Cautions</h2>" + hazard_box(cautions);
   if (a.warnings.empty() && cautions.empty()) return h + "<p class=\"ok\">None.</p></section>";
   h += "<ul class=\"cautions\">";
   for (const auto& s : a.warnings) h += "<li class=\"warn\">" + esc(s) + "</li>";
   for (const auto& s : cautions)
-    if (!hazard(s)) h += "<li>" + esc(s) + "</li>";
+    if (!is_hazard(s)) h += "<li>" + esc(s) + "</li>";
   return h + "</ul></section>";
 }
 

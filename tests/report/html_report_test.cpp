@@ -34,7 +34,7 @@ const Case kCases[] = {
     {"bjt-follower", "SQ-510", 0.9, 9, 2},
 };
 
-/// Capacitors and resistors rated for a 70 V supply, added to the demo shelf for the hazard case.
+/// Capacitors rated for a 70 V supply, added to the demo shelf for the hazard case.
 const char* const kHighVoltageStock =
     "C,1u,10,20%,,160,electrolytic,Z1,radial,\n"
     "C,2u2,10,20%,,160,electrolytic,Z1,radial,\n"
@@ -162,8 +162,14 @@ TEST_CASE("html_report: above 60 V the hazardous-voltage caution defers to local
   const std::string html = report::html_report(in);
   const std::string dir = temp_dir();
   const std::string dom = check_report(in, html, dir, "hazard");
-  CHECK(dom.find("Hazardous voltage") != std::string::npos);
+  // DOMAIN.md section 5: the caution, deferring to local codes and licensed practice, first
+  // thing on the page (before the schematic) and again among the cautions.
+  const auto first = dom.find("Hazardous voltage");
+  REQUIRE(first != std::string::npos);
+  CHECK(first < dom.find("<section id=\"schematic\""));
+  CHECK(dom.find("Hazardous voltage", dom.find("<section id=\"cautions\"")) != std::string::npos);
   CHECK(dom.find("local codes and licensed practice") != std::string::npos);
+  CHECK(dom.find("discharge") != std::string::npos);
   std::filesystem::remove_all(dir);
 }
 
