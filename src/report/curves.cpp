@@ -178,8 +178,18 @@ Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, 
   const double celsius = spec.temp_nominal_c();
   const devices::DeviceSpread spread = synth::spread_of(c);
   r.nominal = sweep(c, piece_transistor(spread, spread.nominal(), celsius), r.f_hz, celsius, "nominal");
-  for (const auto& f : spread.corners())
+  for (const auto& f : spread.corners()) {
     r.corners.push_back(sweep(c, piece_transistor(spread, f, celsius), r.f_hz, celsius, f.tag));
+    // An inverting stage sits at +/-180 degrees: put every corner on the nominal's branch
+    // (whole turns), so the envelope spans the spread, not the wrap.
+    auto& k = r.corners.back();
+    if (k.solved && r.nominal.solved) {
+      const auto peak = static_cast<std::size_t>(std::max_element(r.nominal.gain_db.begin(), r.nominal.gain_db.end()) -
+                                                 r.nominal.gain_db.begin());
+      const double turn = 360 * std::round((r.nominal.phase_deg[peak] - k.phase_deg[peak]) / 360);
+      for (double& p : k.phase_deg) p += turn;
+    }
+  }
 
   const std::size_t n = r.f_hz.size();
   r.gain_lo_db.assign(n, kNaN);
