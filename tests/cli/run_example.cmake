@@ -1,18 +1,18 @@
-# Runs one CLI example (cmake -P): NAME.cmd is replayed and its transcript compared to NAME.out.
+# Runs one CLI example (cmake -P): NAME.cmd is replayed and its session record compared to NAME.out.
 #
 # Called by CTest with -DBIN=<shelfstage> -DCMD=<NAME.cmd> -DSRC=<source dir> -DWORK=<scratch dir>.
 #
 # NAME.cmd, one step per line:
 #   # text                 a comment (say where the expected behaviour comes from)
-#   ARGS...                run `shelfstage ARGS`; the transcript gets "$ shelfstage ARGS" (as
+#   ARGS...                run `shelfstage ARGS`; the session record gets "$ shelfstage ARGS" (as
 #                          written), then its stdout, then its stderr, then "[exit N]" when N != 0
-#   ARGS... > FILE         the same, stdout into FILE instead of the transcript
+#   ARGS... > FILE         the same, stdout into FILE instead of the session record
 #   ARGS... < FILE         the same, stdin from FILE (otherwise stdin is empty)
 #   %same FILE1 FILE2      the two files must be byte-identical
 #   %absent GLOB           no file may match GLOB (e.g. a temporary database left behind)
 # Arguments are split as a POSIX shell would (quotes, backslashes); no ';' in a line.
 # Placeholders: @WORK@ the scratch folder (emptied first), @DB@ = @WORK@/stock.db,
-# @SRC@ the source tree, @EXAMPLES@ the folder of the .cmd file. In the transcript those
+# @SRC@ the source tree, @EXAMPLES@ the folder of the .cmd file. In the session record those
 # paths are written back as placeholders, so NAME.out does not depend on where the tree is.
 #
 # Every example runs with HOME=@WORK@/home, TMPDIR=@WORK@/tmp, and no SHELFSTAGE_DB or
@@ -54,7 +54,7 @@ function(unexpand out text)
 endfunction()
 
 file(READ "${CMD}" script)
-set(transcript "")
+set(record "")
 set(failures "")
 while(NOT script STREQUAL "")
   string(FIND "${script}" "\n" nl)
@@ -109,7 +109,7 @@ while(NOT script STREQUAL "")
     else()
       message(FATAL_ERROR "${CMD}: unknown directive ${directive}")
     endif()
-    string(APPEND transcript "${line}: ${verdict}\n")
+    string(APPEND record "${line}: ${verdict}\n")
     continue()
   endif()
 
@@ -143,33 +143,33 @@ while(NOT script STREQUAL "")
                     OUTPUT_FILE "${output_file}" ERROR_VARIABLE err RESULT_VARIABLE rc)
     set(out "")
   endif()
-  string(APPEND transcript "$ shelfstage ${line}\n${out}${err}")
+  string(APPEND record "$ shelfstage ${line}\n${out}${err}")
   if(NOT rc STREQUAL "0")
-    string(APPEND transcript "[exit ${rc}]\n")
+    string(APPEND record "[exit ${rc}]\n")
   endif()
 endwhile()
 
-unexpand(transcript "${transcript}")
-file(WRITE "${WORK}/actual.out" "${transcript}")
+unexpand(record "${record}")
+file(WRITE "${WORK}/actual.out" "${record}")
 
 if(DEFINED ENV{SHELFSTAGE_UPDATE_EXAMPLES} AND NOT "$ENV{SHELFSTAGE_UPDATE_EXAMPLES}" STREQUAL "")
-  file(WRITE "${expected_file}" "${transcript}")
+  file(WRITE "${expected_file}" "${record}")
   message(STATUS "wrote ${expected_file}")
   return()
 endif()
 if(NOT EXISTS "${expected_file}")
-  message(FATAL_ERROR "${expected_file} is missing; the transcript is in ${WORK}/actual.out")
+  message(FATAL_ERROR "${expected_file} is missing; the session record is in ${WORK}/actual.out")
 endif()
 file(READ "${expected_file}" expected)
-if(NOT expected STREQUAL transcript)
+if(NOT expected STREQUAL record)
   find_program(DIFF diff)
   if(DIFF)
     execute_process(COMMAND "${DIFF}" -u "${expected_file}" "${WORK}/actual.out" OUTPUT_VARIABLE d)
     message("${d}")
   else()
-    message("expected:\n${expected}\nactual:\n${transcript}")
+    message("expected:\n${expected}\nactual:\n${record}")
   endif()
-  message(FATAL_ERROR "${name}: the transcript differs from ${name}.out (actual: ${WORK}/actual.out)")
+  message(FATAL_ERROR "${name}: the session record differs from ${name}.out (actual: ${WORK}/actual.out)")
 endif()
 if(NOT failures STREQUAL "")
   message(FATAL_ERROR "${name}:\n${failures}")
