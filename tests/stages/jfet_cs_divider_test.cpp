@@ -11,6 +11,7 @@ TEST_CASE("jfet-cs-divider against ngspice: corners of the spread, N and P chann
   const stages::Topology& t = *stages::find_topology("jfet-cs-divider");
   ErrorLog log;
   const auto cases = standard_cases(t);
+  REQUIRE(cases.size() >= 12);  // every case below is checked against ngspice in check_case()
   for (const StageCase& sc : cases) check_case(log, sc);
   log.report(fmt::format("jfet-cs-divider: {} cases, worst relative error against ngspice", cases.size()));
 }

@@ -11,6 +11,7 @@ TEST_CASE("jfet-cs-self against ngspice: corners of the spread, N and P channel,
   const stages::Topology& t = *stages::find_topology("jfet-cs-self");
   ErrorLog log;
   const auto cases = standard_cases(t);
+  REQUIRE(cases.size() >= 12);  // every case below is checked against ngspice in check_case()
   for (const StageCase& sc : cases) check_case(log, sc);
   log.report(fmt::format("jfet-cs-self: {} cases, worst relative error against ngspice", cases.size()));
 }
