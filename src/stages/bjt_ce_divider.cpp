@@ -63,14 +63,7 @@ struct CeLowResponse {
     const cd ref = mid();
     const double p_in = 1.0 / (cin * (rsig + rth)), p_out = 1.0 / (cout * rl);
     const double p_e = (ce > 0 && re2 > 0) ? 1.0 / (ce * (re2 * (re1 + rpi / (beta + 1.0)) / (re2 + re1 + rpi / (beta + 1.0)))) : 0.0;
-    double lo = 0.25 * std::max({p_in, p_out, p_e}), hi = 4.0 * (p_in + p_out + p_e);
-    for (int i = 0; i < 40 && h2(lo, ref) >= 0.5; ++i) lo *= 0.25;
-    for (int i = 0; i < 40 && h2(hi, ref) < 0.5; ++i) hi *= 4.0;
-    for (int i = 0; i < 32; ++i) {
-      const double m = std::sqrt(lo * hi);
-      (h2(m, ref) < 0.5 ? lo : hi) = m;
-    }
-    return std::sqrt(lo * hi) / (2 * std::numbers::pi);
+    return detail::lf_crossing_hz([&](double w) { return h2(w, ref) < 0.5; }, 0.25 * std::max({p_in, p_out, p_e}), 4.0 * (p_in + p_out + p_e));
   }
 };
 

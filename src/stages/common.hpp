@@ -2,6 +2,7 @@
 // and the small helpers every topology file uses. Private to the stages layer.
 #pragma once
 #include <cmath>
+#include <numbers>
 #include <span>
 
 #include "shelfstage/circuit/netlist.hpp"
@@ -91,6 +92,20 @@ double triode_edge_excursion(double beta, double lambda_per_v, double id0, doubl
 /// beta*VP^2*(1 + lambda*(vds0 - k*a)) = id0 + a/r_ac, solved for a (>= 0).
 double gate_conduction_excursion(double beta, double lambda_per_v, double vp_abs_v, double id0, double vds0, double k,
                                  double r_ac);
+
+/// The -3 dB frequency (Hz) of a high-pass response given as below3db(w): true when the
+/// response at w (rad/s) is more than 3 dB down. The bracket [lo, hi] is widened until it
+/// holds the crossing, then halved in log w.
+template <class Below>
+double lf_crossing_hz(Below below3db, double lo, double hi) {
+  for (int i = 0; i < 40 && !below3db(lo); ++i) lo *= 0.25;
+  for (int i = 0; i < 40 && below3db(hi); ++i) hi *= 4.0;
+  for (int i = 0; i < 32; ++i) {
+    const double m = std::sqrt(lo * hi);
+    (below3db(m) ? lo : hi) = m;
+  }
+  return std::sqrt(lo * hi) / (2 * std::numbers::pi);
+}
 
 /// Depletion capacitances of a JFET at a bias (N frame voltages).
 double cgs_at(const devices::JfetInstance& q, double vgs_v);
