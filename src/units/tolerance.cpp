@@ -142,7 +142,9 @@ Tolerance parse_tolerance(std::string_view text) {
     const double plus = first_minus ? second.percent : first.percent;
     tol = {minus / 100.0, plus / 100.0};
   }
-  if (tol.minus >= 1.0) fail(what, text, pos, "the part cannot lie 100 % or more below its value");
+  // Above 99 % below nominal a "part" is no part; the limit also keeps every accepted
+  // tolerance printable without rounding up to 100 % (fuzzing found 99.99999999999999%).
+  if (tol.minus > 0.99) fail(what, text, pos, "the part cannot lie more than 99 % below its value");
   if (tol.plus > 10.0) fail(what, text, pos, "more than +1000 % is no tolerance");
   return tol;
 }
