@@ -437,6 +437,24 @@ NoisePoint noise(const Circuit& c, const OperatingPoint& op, const std::string& 
   return np;
 }
 
+Circuit with_capacitors_held(const Circuit& c, const OperatingPoint& op) {
+  Circuit h;
+  for (const auto& el : c.elements()) {
+    const auto& e = el.c;
+    const std::string a = c.net_name(e.pins[0]), b = c.net_name(e.pins[1]);
+    switch (e.kind) {
+      case ElementKind::resistor: h.resistor(e.designator, e.role, a, b, e.value); break;
+      case ElementKind::capacitor:
+        h.vsource(e.designator, e.role, a, b, op.node_v[e.pins[0]] - op.node_v[e.pins[1]]);
+        break;
+      case ElementKind::vsource: h.vsource(e.designator, e.role, a, b, e.value, e.ac_volts); break;
+      case ElementKind::jfet: h.jfet(e.designator, a, b, c.net_name(e.pins[2]), c.jfets()[e.device]); break;
+      case ElementKind::bjt: h.bjt(e.designator, a, b, c.net_name(e.pins[2]), c.bjts()[e.device]); break;
+    }
+  }
+  return h;
+}
+
 std::vector<double> log_sweep(double lo, double hi, int per_decade) {
   std::vector<double> f;
   const double step = 1.0 / per_decade;

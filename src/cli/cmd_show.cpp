@@ -32,35 +32,6 @@ struct ShowOptions {
 };
 
 /// A combination's tolerance for people: "5%", "3.2%" or "-10/+20%" (two significant digits).
-std::string tol_text(const units::Tolerance& t) {
-  const std::string minus = fmt::format("{:.2g}", t.minus * 100), plus = fmt::format("{:.2g}", t.plus * 100);
-  return minus == plus ? plus + "%" : fmt::format("-{}/+{}%", minus, plus);
-}
-
-/// The stage of a kept design, with what the stock says about each part.
-report::StageUnderTest stage_of(const synth::Candidate& c) {
-  report::StageUnderTest s;
-  s.topology = c.topology;
-  s.values = c.values;
-  s.transistor = c.nominal_device;
-  s.conditions = c.conditions;
-  s.device = c.device.name;
-  if (c.piece) s.piece = c.piece->label;
-  for (const auto& rp : c.parts) {
-    report::PartInfo info;
-    info.role = rp.role;
-    info.designator = rp.designator;
-    info.recipe = rp.recipe;
-    info.tol = tol_text(rp.tol);
-    info.dielectric = rp.dielectric;
-    info.rating = rp.rating;
-    info.polarised = rp.polarised;
-    info.fitted_plus_net = rp.plus_net;
-    s.parts.push_back(info);
-  }
-  return s;
-}
-
 std::string range_text(const synth::Range& r, std::string (*format)(double)) {
   if (r.empty) return "—";
   return fmt::format("{} .. {}", format(r.min), format(r.max));
@@ -128,7 +99,7 @@ void run_show(const ShowOptions& o, Context& ctx) {
   c.id = saved.id;
   synth::evaluate_candidate(c, spec);
 
-  const report::StageUnderTest stage = stage_of(c);
+  const report::StageUnderTest stage = report::stage_under_test(c);
   const devices::DeviceSpread spread = synth::spread_of(c);
   const report::Analysis a = report::analyze_stage(stage, &spread);
   if (o.spice) write_spice(*o.spice, stage);

@@ -95,26 +95,6 @@ bool inside(const std::vector<std::pair<double, double>>& poly, double x, double
   return in;
 }
 
-/// The circuit with every capacitor replaced by a source holding its DC voltage.
-circuit::Circuit held(const circuit::Circuit& c, const circuit::OperatingPoint& op) {
-  using circuit::ElementKind;
-  circuit::Circuit h;
-  for (const auto& el : c.elements()) {
-    const auto& e = el.c;
-    const std::string a = c.net_name(e.pins[0]), b = c.net_name(e.pins[1]);
-    switch (e.kind) {
-      case ElementKind::resistor: h.resistor(e.designator, e.role, a, b, e.value); break;
-      case ElementKind::capacitor:
-        h.vsource(e.designator, e.role, a, b, op.node_v[e.pins[0]] - op.node_v[e.pins[1]]);
-        break;
-      case ElementKind::vsource: h.vsource(e.designator, e.role, a, b, e.value, e.ac_volts); break;
-      case ElementKind::jfet: h.jfet(e.designator, a, b, c.net_name(e.pins[2]), c.jfets()[e.device]); break;
-      case ElementKind::bjt: h.bjt(e.designator, a, b, c.net_name(e.pins[2]), c.bjts()[e.device]); break;
-    }
-  }
-  return h;
-}
-
 double interpolate(const std::vector<double>& xs, const std::vector<double>& ys, double x) {
   const auto it = std::lower_bound(xs.begin(), xs.end(), x);
   if (it == xs.begin()) return ys.front();
@@ -361,7 +341,7 @@ Transfer transfer_curve(const synth::Candidate& c, const synth::Spec& spec) {
   circuit::SolverOptions so;
   so.celsius = celsius;
   const auto op = circuit::solve_dc(net, so);
-  circuit::Circuit h = held(net, op);
+  circuit::Circuit h = circuit::with_capacitors_held(net, op);
   const std::string out = std::string(stages::kNetOut);
   auto at = [&](double x) {
     h.set_value("VSIG", x);

@@ -16,26 +16,6 @@ using circuit::Circuit;
 using circuit::ElementKind;
 using circuit::OperatingPoint;
 
-// The circuit at mid-band for large signals: each capacitor becomes a DC source holding
-// the voltage it charged to, so the quasi-static sweep sees the AC load lines.
-Circuit held(const Circuit& c, const OperatingPoint& op) {
-  Circuit h;
-  for (const auto& el : c.elements()) {
-    const auto& e = el.c;
-    const std::string a = c.net_name(e.pins[0]), b = c.net_name(e.pins[1]);
-    switch (e.kind) {
-      case ElementKind::resistor: h.resistor(e.designator, e.role, a, b, e.value); break;
-      case ElementKind::capacitor:
-        h.vsource(e.designator, e.role, a, b, op.node_v[e.pins[0]] - op.node_v[e.pins[1]]);
-        break;
-      case ElementKind::vsource: h.vsource(e.designator, e.role, a, b, e.value, e.ac_volts); break;
-      case ElementKind::jfet: h.jfet(e.designator, a, b, c.net_name(e.pins[2]), c.jfets()[e.device]); break;
-      case ElementKind::bjt: h.bjt(e.designator, a, b, c.net_name(e.pins[2]), c.bjts()[e.device]); break;
-    }
-  }
-  return h;
-}
-
 struct SweepPoint {
   double out_v = 0;
   bool edge = false;  // the device has left its linear region
@@ -73,7 +53,7 @@ struct MidBand {
 };
 
 MidBand mid_band(const Circuit& net, const OperatingPoint& op, const circuit::SolverOptions& so, double load_ohm) {
-  Circuit h = held(net, op);
+  Circuit h = circuit::with_capacitors_held(net, op);
   const OperatingPoint hop = circuit::solve_dc(h, so);
   const auto in = *h.find_net(std::string(kNetIn)), sig = *h.find_net(std::string(kNetSignal));
   const auto out = *h.find_net(std::string(kNetOut));
@@ -172,7 +152,7 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
   }
   // Swing: step the input each way until the device leaves its linear region.
   {
-    Circuit h = held(net, op);
+    Circuit h = circuit::with_capacitors_held(net, op);
     const double out0 = op.v(net, std::string(kNetOut));
     const double ic0 = std::abs(d.i_main_a);
     const double x_max = 4.0 * c.supply_v / std::max(0.05, std::abs(p.gain));

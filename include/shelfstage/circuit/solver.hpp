@@ -65,6 +65,10 @@ struct NoisePoint {
 NoisePoint noise(const Circuit& circuit, const OperatingPoint& op, const std::string& out_net, double f_hz,
                  double celsius = devices::kNominalCelsius);
 
+/// The circuit at mid-band for large signals: every capacitor replaced by a voltage source
+/// holding the DC voltage it charged to at op, so a DC sweep sees the AC load lines.
+Circuit with_capacitors_held(const Circuit& circuit, const OperatingPoint& op);
+
 /// Frequencies log-spaced, points per decade.
 std::vector<double> log_sweep(double f_lo_hz, double f_hi_hz, int per_decade);
 
