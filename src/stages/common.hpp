@@ -173,6 +173,20 @@ std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, doub
 /// triode edge by the requested swing and half a volt.
 double jfet_drain_room(const JfetBias& b, const Goal& g, const Conditions& c);
 
+/// The common-source design step both JFET CS topologies share: with the gate at vg_v and a
+/// source leg of about rs_total_ohm, every split of the leg (leg_splits) and every drain
+/// resistor for the internal gain a_int within the headroom (load_resistors), handed to
+/// emit(rd, rs1, rs2).
+template <class Emit>
+void jfet_cs_legs(const ValueSource& shelf, const Goal& g, const Conditions& c, const devices::JfetInstance& j,
+                  double vg_v, double rs_total_ohm, double a_int, Emit emit) {
+  const JfetBias b = jfet_bias(j, vg_v, rs_total_ohm, 0.0, c.supply_v);
+  if (!b.conducts) return;
+  for (auto [rs1, rs2] : leg_splits(shelf, rs_total_ohm))
+    for (double rd : load_resistors(shelf, g, a_int, b.gm_s, rs1, c.load_ohm, jfet_drain_room(b, g, c)))
+      emit(rd, rs1, rs2);
+}
+
 /// Distinct values, in order.
 void unique_values(std::vector<double>& v);
 

@@ -86,20 +86,14 @@ class JfetCsSelf final : public Topology {
     for (double rg : rgs) {
       const double a_int = g.gain * (rg + c.source_ohm) / rg;
       for (double rt : rs_tot) {
-        const detail::JfetBias b = detail::jfet_bias(j, 0.0, rt, 0.0, c.supply_v);
-        if (!b.conducts) continue;
-        for (auto [r1, r2] : detail::leg_splits(shelf, rt)) {
-          const auto rds = detail::load_resistors(shelf, g, a_int, b.gm_s, r1, c.load_ohm,
-                                                  detail::jfet_drain_room(b, g, c));
-          for (double x : rds) {
-            Values v;
-            v[RG] = rg;
-            v[RD] = x;
-            v[RS1] = r1;
-            v[RS2] = r2;
-            emit(v);
-          }
-        }
+        detail::jfet_cs_legs(shelf, g, c, j, 0.0, rt, a_int, [&](double rd, double rs1, double rs2) {
+          Values v;
+          v[RG] = rg;
+          v[RD] = rd;
+          v[RS1] = rs1;
+          v[RS2] = rs2;
+          emit(v);
+        });
       }
     }
   }
