@@ -15,6 +15,13 @@ using units::format_value;
 using units::Unit;
 }  // namespace
 
+std::string upper_corner(double f_hz) {
+  // The device models carry no transit time or base resistance: an upper corner beyond
+  // 1 GHz says only that the stage is not what limits the bandwidth.
+  if (f_hz > 1e9) return ">1GHz";
+  return format_value(f_hz, Unit::hertz);
+}
+
 std::string fixed3(double v) {
   // Three significant figures, plain decimals (gains read better as 10.0 than 10).
   if (v == 0) return "0";
@@ -68,7 +75,7 @@ std::string candidates_table(const synth::DesignResult& r) {
     t.add_row({std::to_string(c.rank), c.id, std::string(c.topology->name()), device, fixed3(n.gain),
                fmt::format("{}..{}", fixed3(w.gain.min), fixed3(w.gain.max)), format_value(n.bias_current_a, Unit::ampere),
                fmt::format("{} ({})", format_value(n.swing_peak_v, Unit::volt), format_value(w.swing_peak.min)),
-               fmt::format("{}..{}", format_value(n.f_low_hz, Unit::hertz), format_value(n.f_high_hz, Unit::hertz)),
+               fmt::format("{}..{}", format_value(n.f_low_hz, Unit::hertz), upper_corner(n.f_high_hz)),
                c.yield ? fmt::format("{:.0f}%", *c.yield * 100) : "", std::to_string(c.pieces)});
   }
   // Render the figures, then put each candidate's recipes under its line.

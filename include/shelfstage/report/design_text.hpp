@@ -21,6 +21,9 @@ std::string recipe_line(const synth::Candidate& c);
 /// Why nothing fits, and the purchases that would help, as lines for stderr.
 std::string diagnosis_text(const synth::DesignResult& r);
 
+/// An upper -3 dB corner for a table: ">1GHz" beyond the models' validity, else the value.
+std::string upper_corner(double f_hz);
+
 /// "1.2mA", "-10.0", ... helpers used by the tables.
 std::string fixed3(double v);
 
