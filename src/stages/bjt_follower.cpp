@@ -54,6 +54,7 @@ struct FollowerLowResponse {
 class BjtFollower final : public Topology {
  public:
   std::string_view name() const override { return "bjt-follower"; }
+  bool is_buffer() const override { return true; }
   std::string_view summary() const override {
     return "BJT emitter follower: gain just under one, low output impedance for a heavy load";
   }

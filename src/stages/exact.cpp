@@ -6,6 +6,9 @@
 #include <complex>
 #include <numbers>
 
+#include <fmt/format.h>
+#include <span>
+
 #include "shelfstage/error.hpp"
 
 namespace shelfstage::stages {
@@ -13,6 +16,7 @@ namespace shelfstage::stages {
 namespace {
 
 using circuit::Circuit;
+using circuit::Element;
 using circuit::ElementKind;
 using circuit::OperatingPoint;
 
@@ -21,7 +25,10 @@ struct SweepPoint {
   bool edge = false;  // the device has left its linear region
 };
 
-SweepPoint sweep_at(Circuit& h, const Transistor& q, double x, double ic0, const circuit::SolverOptions& so) {
+// One input level of the quasi-static sweep: the output, and whether any device has left its
+// linear region (devices in element order, as the solver reports them).
+SweepPoint sweep_at(Circuit& h, std::span<const Transistor> qs, double x, const std::vector<double>& ic0,
+                    const circuit::SolverOptions& so) {
   h.set_value("VSIG", x);
   SweepPoint s;
   OperatingPoint op;
@@ -32,11 +39,12 @@ SweepPoint sweep_at(Circuit& h, const Transistor& q, double x, double ic0, const
     return s;
   }
   s.out_v = op.v(h, std::string(kNetOut));
-  const circuit::DeviceOp& d = op.devices.front();
-  if (devices::is_jfet(q.kind)) {
-    s.edge = d.jfet_region != devices::JfetRegion::saturation || d.v_ctrl_v > 0.0;
-  } else {
-    s.edge = d.v_main_v < q.bjt.vce_sat_v || d.i_main_a < 0.01 * ic0;
+  for (std::size_t i = 0; i < op.devices.size() && i < qs.size(); ++i) {
+    const circuit::DeviceOp& d = op.devices[i];
+    if (devices::is_jfet(qs[i].kind))
+      s.edge = s.edge || d.jfet_region != devices::JfetRegion::saturation || d.v_ctrl_v > 0.0;
+    else
+      s.edge = s.edge || d.v_main_v < qs[i].bjt.vce_sat_v || d.i_main_a < 0.01 * ic0[i];
   }
   return s;
 }
@@ -113,27 +121,41 @@ Band band_edges(const Circuit& net, const OperatingPoint& op, double mid) {
 
 }  // namespace
 
-Performance evaluate_exact(const Topology& t, const Values& v, const Transistor& q, const Conditions& c,
-                           Detail detail) {
+Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs, const Conditions& c,
+                             Detail detail, OperatingPoint* op_out) {
   Performance p;
-  Circuit net = t.netlist(v, q, c);
+  if (qs.empty()) throw InputError("evaluate_circuit: no transistor given");
   circuit::SolverOptions so;
   so.celsius = c.celsius;
   const OperatingPoint op = circuit::solve_dc(net, so);
-  const auto* dev = net.find("Q1");
+  if (op.devices.size() != qs.size())
+    throw InputError(fmt::format("evaluate_circuit: {} transistors given for {} in the circuit", qs.size(), op.devices.size()));
+  const Transistor& q = qs.front();
+  const Element* dev = nullptr;
+  for (const auto& el : net.elements())
+    if (!dev && (el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt)) dev = &el;
   const circuit::DeviceOp& d = op.devices.front();
   const double k = devices::polarity(q.kind);
-  p.valid = std::abs(d.i_main_a) > 1e-9;
+  p.valid = true;
+  p.active = true;
+  std::vector<double> ic0;
+  for (std::size_t i = 0; i < qs.size(); ++i) {
+    const circuit::DeviceOp& di = op.devices[i];
+    ic0.push_back(std::abs(di.i_main_a));
+    if (!(std::abs(di.i_main_a) > 1e-9)) {
+      p.valid = false;
+      p.problem = qs.size() == 1 ? std::string("cut off") : di.designator + " cut off";
+    }
+    if (devices::is_jfet(qs[i].kind))
+      p.active = p.active && di.jfet_region == devices::JfetRegion::saturation && di.v_ctrl_v <= 0.0;
+    else
+      p.active = p.active && di.v_main_v > qs[i].bjt.vce_sat_v;
+  }
   p.bias_current_a = std::abs(d.i_main_a);
   p.v_out = op.node_v[dev->c.pins[0]];
   p.v_in = op.node_v[dev->c.pins[1]];
   p.v_common = op.node_v[dev->c.pins[2]];
   p.supply_current_a = std::abs(op.source_i.front());
-  if (devices::is_jfet(q.kind))
-    p.active = d.jfet_region == devices::JfetRegion::saturation && d.v_ctrl_v <= 0.0;
-  else
-    p.active = d.v_main_v > q.bjt.vce_sat_v;
-  if (!p.valid) p.problem = "cut off";
 
   const MidBand mb = mid_band(net, op, so, c.load_ohm);
   p.gain = mb.gain;
@@ -154,23 +176,22 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
   {
     Circuit h = circuit::with_capacitors_held(net, op);
     const double out0 = op.v(net, std::string(kNetOut));
-    const double ic0 = std::abs(d.i_main_a);
     const double x_max = 4.0 * c.supply_v / std::max(0.05, std::abs(p.gain));
     double excursion[2] = {0, 0};  // by the input's sign
     for (int side = 0; side < 2; ++side) {
       const double sgn = side == 0 ? 1.0 : -1.0;
       double lo = 0, hi = x_max / 256;
-      SweepPoint at_hi = sweep_at(h, q, sgn * hi, ic0, so);
+      SweepPoint at_hi = sweep_at(h, qs, sgn * hi, ic0, so);
       while (!at_hi.edge && hi < x_max) {
         lo = hi;
         hi *= 2;
-        at_hi = sweep_at(h, q, sgn * hi, ic0, so);
+        at_hi = sweep_at(h, qs, sgn * hi, ic0, so);
       }
       for (int i = 0; i < 40 && at_hi.edge; ++i) {
         const double mid = 0.5 * (lo + hi);
-        (sweep_at(h, q, sgn * mid, ic0, so).edge ? hi : lo) = mid;
+        (sweep_at(h, qs, sgn * mid, ic0, so).edge ? hi : lo) = mid;
       }
-      excursion[side] = std::abs(sweep_at(h, q, sgn * lo, ic0, so).out_v - out0);
+      excursion[side] = std::abs(sweep_at(h, qs, sgn * lo, ic0, so).out_v - out0);
     }
     // "Up" in the N frame is the drain or collector (or follower output) rising toward the
     // positive rail; the input's sign that moves the output up depends on the gain's sign.
@@ -191,7 +212,7 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
         double a1 = 0, a2 = 0, b2 = 0;
         for (int i = 0; i < kN; ++i) {
           const double th = 2 * std::numbers::pi * i / kN;
-          const double y = sweep_at(h, q, amp * std::cos(th), ic0, so).out_v - out_mid;
+          const double y = sweep_at(h, qs, amp * std::cos(th), ic0, so).out_v - out_mid;
           a1 += 2.0 / kN * y * std::cos(th);
           a2 += 2.0 / kN * y * std::cos(2 * th);
           b2 += 2.0 / kN * y * std::sin(2 * th);
@@ -205,8 +226,18 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
     }
   }
 
-  if (detail == Detail::full) {
+  if (detail == Detail::full)
     p.noise_v_rthz = circuit::noise(net, op, std::string(kNetOut), c.noise_f_hz, c.celsius).input_v_rthz;
+  if (op_out) *op_out = op;
+  return p;
+}
+
+Performance evaluate_exact(const Topology& t, const Values& v, const Transistor& q, const Conditions& c,
+                           Detail detail) {
+  const Circuit net = t.netlist(v, q, c);
+  OperatingPoint op;
+  Performance p = evaluate_circuit(net, std::span<const Transistor>(&q, 1), c, detail, &op);
+  if (detail == Detail::full) {
     const auto roles = t.roles();
     for (const auto& el : net.elements()) {
       const auto& e = el.c;

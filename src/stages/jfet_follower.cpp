@@ -21,6 +21,7 @@ constexpr Role kRoles[] = {
 class JfetFollower final : public Topology {
  public:
   std::string_view name() const override { return "jfet-follower"; }
+  bool is_buffer() const override { return true; }
   std::string_view summary() const override {
     return "JFET source follower: gain just under one, high input and low output impedance";
   }

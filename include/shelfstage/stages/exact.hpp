@@ -1,6 +1,8 @@
 // The exact evaluation of a stage: its netlist solved by the MNA solver, giving the same
 // Performance figures as the fast evaluator, so the two can be compared.
 #pragma once
+#include <span>
+
 #include "shelfstage/circuit/solver.hpp"
 #include "shelfstage/stages/topology.hpp"
 
@@ -13,5 +15,13 @@ namespace shelfstage::stages {
 /// Throws InfeasibleError if the operating point does not converge.
 Performance evaluate_exact(const Topology& t, const Values& values, const Transistor& q, const Conditions& c,
                            Detail detail = Detail::full);
+
+/// The same figures for any stage-shaped circuit (nets "sig", "in", "out", supply first among
+/// the sources, the signal source "VSIG", the load "RL"), e.g. a chain of stages: qs are its
+/// transistors in element order. Node voltages and bias current are the first transistor's;
+/// active means every transistor is in its linear region. No part stress (no topology roles).
+/// The operating point is returned through op_out when given.
+Performance evaluate_circuit(const circuit::Circuit& net, std::span<const Transistor> qs, const Conditions& c,
+                             Detail detail = Detail::full, circuit::OperatingPoint* op_out = nullptr);
 
 }  // namespace shelfstage::stages

@@ -131,6 +131,9 @@ class Topology {
   virtual std::string_view name() const = 0;      ///< INTERFACE.md name: "jfet-cs-self"
   virtual std::string_view summary() const = 0;   ///< one line for people
   virtual bool accepts(devices::DeviceKind kind) const = 0;
+  /// A buffer (gain just under one, high input and low output impedance): chains put one in
+  /// front to lift the input impedance or behind to drive a low load.
+  virtual bool is_buffer() const { return false; }
   virtual std::span<const Role> roles() const = 0;
   /// Index of a role by name, or roles().size() when unknown.
   std::size_t role_index(std::string_view role) const;

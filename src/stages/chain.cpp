@@ -1,0 +1,142 @@
+// A chain of stages: one circuit for the solver and the writer, and the fast evaluation.
+#include "shelfstage/stages/chain.hpp"
+
+#include <algorithm>
+#include <cctype>
+#include <cmath>
+#include <fmt/format.h>
+
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::stages {
+
+std::size_t input_coupling_role(const Topology& t) { return t.role_index("CIN"); }
+
+std::string chain_designator(std::size_t stage, std::string_view designator) {
+  std::size_t digits = designator.size();
+  while (digits > 0 && std::isdigit(static_cast<unsigned char>(designator[digits - 1]))) --digits;
+  const std::string letters(designator.substr(0, digits));
+  const int number = digits < designator.size() ? std::stoi(std::string(designator.substr(digits))) : 0;
+  return fmt::format("{}{}", letters, 100 * (static_cast<int>(stage) + 1) + number);
+}
+
+std::string chain_net(std::size_t stage, std::size_t count, std::string_view net) {
+  if (net == "0" || net == kNetSupply || net == kNetSignal) return std::string(net);
+  if (net == kNetIn) return stage == 0 ? std::string(kNetIn) : fmt::format("link{}", stage);
+  if (net == kNetOut) return stage + 1 == count ? std::string(kNetOut) : fmt::format("link{}", stage + 1);
+  return fmt::format("{}{}", net, stage + 1);
+}
+
+circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditions& c) {
+  if (stages.empty()) throw InputError("chain: no stages");
+  const double pol = devices::polarity(stages.front().q.kind);
+  for (const auto& s : stages) {
+    if (!s.topology) throw InputError("chain: a stage has no topology");
+    if (devices::polarity(s.q.kind) != pol)
+      throw InputError("chain: stages of both polarities cannot share one supply (N-channel/NPN with P-channel/PNP)");
+  }
+  circuit::Circuit out;
+  const std::size_t n = stages.size();
+  for (std::size_t k = 0; k < n; ++k) {
+    Conditions ck = c;
+    const circuit::Circuit one = stages[k].topology->netlist(stages[k].values, stages[k].q, ck);
+    std::size_t jfet = 0, bjt = 0;
+    // After the first stage, the input capacitor is left out and the net it fed (gate or
+    // base) joins the link from the previous stage's COUT.
+    std::string joined;
+    if (k > 0)
+      for (const auto& el : one.elements())
+        if (el.c.role == "CIN") joined = one.net_name(el.c.pins[0]) == kNetIn ? one.net_name(el.c.pins[1]) : one.net_name(el.c.pins[0]);
+    for (const auto& el : one.elements()) {
+      const auto& e = el.c;
+      if (k > 0 && e.role == "CIN") continue;
+      // The bench parts once: supply and signal from the first stage, the load on the last.
+      const bool bench = e.role == "supply" || e.role == "signal" || e.role == "source" || e.role == "load";
+      if (bench && e.role == "load" && k + 1 != n) continue;
+      if (bench && e.role != "load" && k != 0) continue;
+      auto net = [&](std::size_t pin) {
+        const std::string& own = one.net_name(e.pins[pin]);
+        return chain_net(k, n, !joined.empty() && own == joined ? std::string(kNetIn) : own);
+      };
+      const std::string des = bench ? e.designator : chain_designator(k, e.designator);
+      switch (e.kind) {
+        case circuit::ElementKind::resistor: out.resistor(des, e.role, net(0), net(1), e.value); break;
+        case circuit::ElementKind::capacitor: out.capacitor(des, e.role, net(0), net(1), e.value); break;
+        case circuit::ElementKind::vsource: out.vsource(des, e.role, net(0), net(1), e.value, e.ac_volts); break;
+        case circuit::ElementKind::jfet: out.jfet(des, net(0), net(1), net(2), one.jfets()[jfet++]); break;
+        case circuit::ElementKind::bjt: out.bjt(des, net(0), net(1), net(2), one.bjts()[bjt++]); break;
+      }
+    }
+  }
+  return out;
+}
+
+std::vector<Transistor> chain_transistors(std::span<const ChainStage> stages) {
+  std::vector<Transistor> qs;
+  for (const auto& s : stages) qs.push_back(s.q);
+  return qs;
+}
+
+ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Conditions& c, Detail detail) {
+  ChainPerformance r;
+  const std::size_t n = stages.size();
+  if (n == 0) throw InputError("chain: no stages");
+  r.each.resize(n);
+  r.conditions.assign(n, c);
+  // From the load back: each stage's load is the next stage's input impedance.
+  double load = c.load_ohm;
+  for (std::size_t k = n; k-- > 0;) {
+    Conditions& ck = r.conditions[k];
+    ck.load_ohm = load;
+    ck.source_ohm = k == 0 ? c.source_ohm : 0.0;
+    r.each[k] = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, detail);
+    load = r.each[k].zin_ohm > 0 ? r.each[k].zin_ohm : 1e12;
+  }
+  Performance& w = r.whole;
+  const Performance& first = r.each.front();
+  const Performance& last = r.each.back();
+  w.valid = true;
+  w.active = true;
+  w.gain = 1.0;
+  double lo2 = 0, inv_hi2 = 0;
+  for (std::size_t k = 0; k < n; ++k) {
+    const Performance& p = r.each[k];
+    if (!p.valid || !p.active) {
+      w.valid = w.valid && p.valid;
+      w.active = false;
+      if (w.problem.empty()) w.problem = fmt::format("stage {}: {}", k + 1, p.problem);
+    }
+    w.gain *= p.gain;
+    w.supply_current_a += p.supply_current_a;
+    w.loss_lo_db += p.loss_lo_db;
+    w.loss_hi_db += p.loss_hi_db;
+    lo2 += p.f_low_hz * p.f_low_hz;
+    if (p.f_high_hz > 0) inv_hi2 += 1.0 / (p.f_high_hz * p.f_high_hz);
+  }
+  // Output-referred swing: stage k's limits times the gain after it.
+  w.swing_up_v = w.swing_down_v = w.swing_peak_v = 1e300;
+  double after = 1.0;
+  for (std::size_t k = n; k-- > 0;) {
+    const Performance& p = r.each[k];
+    const double g = std::abs(after);
+    // An inverting stage after this one swaps its up and down.
+    const bool swap = after < 0;
+    w.swing_up_v = std::min(w.swing_up_v, g * (swap ? p.swing_down_v : p.swing_up_v));
+    w.swing_down_v = std::min(w.swing_down_v, g * (swap ? p.swing_up_v : p.swing_down_v));
+    after *= p.gain;
+  }
+  w.swing_peak_v = std::min(w.swing_up_v, w.swing_down_v);
+  w.bias_current_a = first.bias_current_a;
+  w.v_in = first.v_in;
+  w.v_common = first.v_common;
+  w.v_out = first.v_out;
+  w.zin_ohm = first.zin_ohm;
+  w.zout_ohm = last.zout_ohm;
+  w.f_low_hz = std::sqrt(lo2);
+  w.f_high_hz = inv_hi2 > 0 ? 1.0 / std::sqrt(inv_hi2) : 0.0;
+  w.hd2 = last.hd2;
+  w.noise_v_rthz = first.noise_v_rthz;
+  return r;
+}
+
+}  // namespace shelfstage::stages
