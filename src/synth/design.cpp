@@ -23,14 +23,6 @@ namespace shelfstage::synth {
 
 namespace {
 
-// One search job: a topology with one device type (or one measured piece).
-struct Job {
-  const stages::Topology* topology = nullptr;
-  const devices::DeviceRecord* device = nullptr;
-  const devices::MeasuredPiece* piece = nullptr;
-  int device_available = 0;
-};
-
 std::uint64_t fnv1a(const std::string& s) {
   std::uint64_t h = 1469598103934665603ULL;
   for (unsigned char ch : s) {
@@ -40,16 +32,36 @@ std::uint64_t fnv1a(const std::string& s) {
   return h;
 }
 
+// The shelf's values with fewer choices per question (Spec::search_breadth below 1): the
+// design equations then propose fewer sets. Chains use it for their many stage pools.
+class ThinnedValues final : public stages::ValueSource {
+ public:
+  ThinnedValues(const stages::ValueSource& inner, double breadth) : inner_(inner), breadth_(breadth) {}
+  void nearest(double target_ohm, std::size_t n, std::vector<double>& out) const override {
+    inner_.nearest(target_ohm, std::max<std::size_t>(1, static_cast<std::size_t>(std::lround(static_cast<double>(n) * breadth_))), out);
+  }
+  void spread(double lo_ohm, double hi_ohm, std::size_t max_n, std::vector<double>& out) const override {
+    inner_.spread(lo_ohm, hi_ohm, std::max<std::size_t>(2, static_cast<std::size_t>(std::lround(static_cast<double>(max_n) * breadth_))), out);
+  }
+
+ private:
+  const stages::ValueSource& inner_;
+  double breadth_;
+};
+
 class Searcher {
  public:
   Searcher(const Spec& spec, const Shelf& shelf, bool probe) : spec_(spec), shelf_(shelf), probe_(probe) {}
 
-  std::vector<Candidate> run(const Job& job, SearchStats& stats) const {
+  std::vector<Candidate> run(const detail::Job& job, SearchStats& stats) const {
     const StageBuilder builder(spec_, shelf_, *job.topology, *job.device, job.piece, job.device_available, probe_);
     const auto roles = job.topology->roles();
     std::vector<StageBuilder::Draft> found;
     std::unordered_set<std::uint64_t> seen;
-    job.topology->propose(builder.goal(), builder.nominal_device(), builder.conditions(), shelf_,
+    const ThinnedValues thinned(shelf_, spec_.search_breadth);
+    const stages::ValueSource& values =
+        spec_.search_breadth < 1.0 ? static_cast<const stages::ValueSource&>(thinned) : shelf_;
+    job.topology->propose(builder.goal(), builder.nominal_device(), builder.conditions(), values,
                           [&](const stages::Values& proposal) {
                             ++stats.proposals;
                             std::string key(reinterpret_cast<const char*>(proposal.v.data()),
@@ -60,8 +72,8 @@ class Searcher {
                           });
     // The full corner pass (~100 evaluations) only for the most promising, chosen by a
     // quick estimate over the device's corner pieces.
-    constexpr std::size_t kKeep = 24;
-    constexpr int kVariants = 12;
+    const auto kKeep = static_cast<std::size_t>(spec_.search_families);
+    const int kVariants = spec_.search_variants;
     std::vector<std::pair<double, std::size_t>> order;
     if (probe_) return {};  // a probe only learns how close the stages come (stats)
     for (std::size_t i = 0; i < found.size(); ++i) order.emplace_back(builder.quick_score(found[i], stats), i);
@@ -360,7 +372,7 @@ void SearchStats::merge(const SearchStats& o) {
   evaluations += o.evaluations;
 }
 
-namespace {
+namespace detail {
 
 std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   // Transistors on the shelf, by device name.
@@ -404,7 +416,7 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
 
 // Runs every job on the machine's cores; the calling thread reports progress.
 std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, SearchStats& tally,
-                                const Progress& progress, bool probe = false) {
+                                const Progress& progress, bool probe) {
   Searcher searcher(spec, shelf, probe);
   std::vector<std::vector<Candidate>> out(jobs.size());
   std::vector<SearchStats> tallies(jobs.size());
@@ -433,6 +445,10 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
   return all;
 }
 
+}  // namespace detail
+
+namespace {
+
 std::string describe_binding(const std::string& binding, const Spec& spec, const SearchStats& t) {
   if (binding == "gain")
     return fmt::format("no stage reaches a gain of {:.3g} into {}: the largest any stocked device reaches is {:.3g}",
@@ -459,6 +475,20 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
 
 // The recipe text and the stock lines of each part: only for candidates that are shown.
 bool is_variant(const Candidate& a, const Candidate& b) {
+  if (a.is_chain() || b.is_chain()) {
+    // Chains: the same stages in the same order, one resistor different in all.
+    if (a.stages.size() != b.stages.size()) return false;
+    int differ = 0;
+    for (std::size_t k = 0; k < a.stages.size(); ++k) {
+      const Candidate &x = a.stages[k], &y = b.stages[k];
+      if (x.topology != y.topology || x.device.name != y.device.name) return false;
+      const auto roles = x.topology->roles();
+      for (std::size_t i = 0; i < roles.size(); ++i)
+        if (roles[i].kind == 'R' && std::abs(x.values[i] - y.values[i]) > 1e-9 * std::max(x.values[i], y.values[i]))
+          ++differ;
+    }
+    return differ <= 1;
+  }
   if (a.topology != b.topology || a.device.name != b.device.name) return false;
   if ((a.piece ? a.piece->label : "") != (b.piece ? b.piece->label : "")) return false;
   const auto roles = a.topology->roles();
@@ -468,7 +498,7 @@ bool is_variant(const Candidate& a, const Candidate& b) {
   return differ <= 1;
 }
 
-static void finalize(Candidate& c, const Shelf& shelf) {
+void detail::finalize(Candidate& c, const Shelf& shelf) {
   for (auto& rp : c.parts) {
     rp.recipe = shelf.recipe(rp.combo);
     rp.lines.clear();
@@ -477,6 +507,11 @@ static void finalize(Candidate& c, const Shelf& shelf) {
 }
 
 std::string candidate_id(const Candidate& c, int copies) {
+  if (c.is_chain()) {
+    std::string key = fmt::format("chain|{}", copies);
+    for (const auto& s : c.stages) key += "|" + candidate_id(s, copies);
+    return fmt::format("c{:08x}", static_cast<std::uint32_t>(fnv1a(key) ^ (fnv1a(key) >> 32)));
+  }
   std::string key = fmt::format("{}|{}|{}|{}", c.topology->name(), c.device.name, c.piece ? c.piece->label : "", copies);
   for (const auto& rp : c.parts) {
     key += "|" + rp.role + "=";
@@ -491,12 +526,26 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   const auto start = std::chrono::steady_clock::now();
   DesignResult r;
   r.spec = spec;
-  const std::vector<Job> jobs = make_jobs(spec, inv);
+  const std::vector<detail::Job> jobs = detail::make_jobs(spec, inv);
   Shelf::Options so;
   so.combine = spec.combine;
   const Shelf shelf(inv.parts, so);
   SearchStats tally;
-  std::vector<Candidate> all = run_jobs(spec, shelf, jobs, tally, progress);
+  std::vector<Candidate> all;
+  if (spec.stages_min <= 1) all = detail::run_jobs(spec, shelf, jobs, tally, progress);
+  // Chains when no single stage holds the gain window at every corner (or when asked for).
+  const bool single_meets = std::any_of(all.begin(), all.end(), [&](const Candidate& c) {
+    return c.error_worst <= spec.gain_tol;
+  });
+  if (spec.stages_max >= 2 && !spec.piece && !single_meets) {
+    if (progress) progress(0, 1, "chains");
+    for (auto& c : detail::design_chains(spec, inv, shelf, tally)) all.push_back(std::move(c));
+    std::stable_sort(all.begin(), all.end(), [](const Candidate& a, const Candidate& b) {
+      if (a.score != b.score) return a.score < b.score;
+      return a.pieces < b.pieces;
+    });
+    if (progress) progress(1, 1, "chains");
+  }
   r.proposals = tally.proposals;
   r.evaluations = tally.evaluations;
   // Keep the top K distinct designs (one-resistor variants of a better one are left out),
@@ -505,7 +554,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
     const bool variant = std::any_of(r.candidates.begin(), r.candidates.end(),
                                      [&](const Candidate& kept) { return is_variant(kept, c); });
     if (variant) continue;
-    finalize(c, shelf);
+    if (!c.is_chain()) detail::finalize(c, shelf);
     c.id = candidate_id(c, spec.copies);
     r.candidates.push_back(std::move(c));
     if (static_cast<int>(r.candidates.size()) >= spec.top) break;
@@ -534,12 +583,14 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
       // probe with the largest load resistors the headroom allows.
       binding = "gain";
       SearchStats probe;
-      run_jobs(spec, shelf, jobs, probe, {}, true);
+      detail::run_jobs(spec, shelf, jobs, probe, {}, true);
       tally.best_gain = std::max(tally.best_gain, probe.best_gain);
     }
     r.diagnosis.binding = binding;
     r.diagnosis.detail = jobs.empty() ? "no stocked transistor fits the chosen topologies and device filters"
                                       : describe_binding(binding, spec, tally);
+    if (spec.stages_max >= 2 && !spec.piece && !jobs.empty())
+      r.diagnosis.detail += fmt::format("; no chain of up to {} stages meets it either", spec.stages_max);
     if (!tally.corner_failures.empty())
       r.diagnosis.detail += "; stages that work at nominal fail at the worst-case corners of the device spread, "
                             "tolerances or supply (a measured piece, --piece, narrows the spread)";
@@ -558,13 +609,13 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
       po.purchase_volts = std::max(50.0, 2.0 * spec.supply_hi_v);
       const Shelf market(inv.parts, po);
       SearchStats t2;
-      std::vector<Candidate> bought = run_jobs(spec, market, jobs, t2, {});
+      std::vector<Candidate> bought = detail::run_jobs(spec, market, jobs, t2, {});
       std::stable_sort(bought.begin(), bought.end(), [](const Candidate& a, const Candidate& b) {
         return std::make_pair(a.purchases, a.score) < std::make_pair(b.purchases, b.score);
       });
       if (!bought.empty()) {
         Candidate& best = bought.front();
-        finalize(best, market);
+        detail::finalize(best, market);
         best.id = candidate_id(best, spec.copies);
         for (const auto& rp : best.parts) {
           if (!rp.combo.purchase) continue;

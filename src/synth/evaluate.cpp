@@ -6,6 +6,7 @@
 #include <random>
 
 #include "detail.hpp"
+#include "shelfstage/stages/chain.hpp"
 
 namespace shelfstage::synth {
 
@@ -212,8 +213,53 @@ void add_cautions(Candidate& c, const Spec& spec) {
   }
 }
 
+namespace {
+
+// A chain's builds: each stage its own piece and parts, one supply and temperature for all.
+double monte_carlo_chain(const Candidate& c, const Spec& spec) {
+  const std::size_t n = c.stages.size();
+  std::vector<devices::DeviceSpread> spreads;
+  std::vector<std::vector<devices::PieceFigures>> pieces;
+  for (std::size_t k = 0; k < n; ++k) {
+    spreads.push_back(spread_of(c.stages[k]));
+    pieces.push_back(spreads.back().samples(static_cast<std::size_t>(spec.mc_samples), spec.seed + 7919 * k));
+  }
+  std::mt19937_64 rng(spec.seed ^ 0x9e3779b97f4a7c15ULL);
+  std::uniform_real_distribution<double> u(0.0, 1.0);
+  const double t_lo = spec.temp_c ? spec.temp_c->first : spec.temp_nominal_c();
+  const double t_hi = spec.temp_c ? spec.temp_c->second : spec.temp_nominal_c();
+  // The exact solver's gain over the fast chain's at nominal: the same correction the
+  // ranking applies.
+  std::vector<stages::ChainStage> list(n);
+  for (std::size_t k = 0; k < n; ++k)
+    list[k] = {c.stages[k].topology, c.stages[k].values, c.stages[k].nominal_device};
+  const auto nominal = stages::evaluate_chain(list, c.conditions);
+  const double ratio = nominal.whole.gain != 0 ? c.nominal.gain / nominal.whole.gain : 1.0;
+  int good = 0;
+  for (std::size_t i = 0; i < static_cast<std::size_t>(spec.mc_samples); ++i) {
+    const double supply = spec.supply_lo_v + (spec.supply_hi_v - spec.supply_lo_v) * u(rng);
+    const double temp = t_lo + (t_hi - t_lo) * u(rng);
+    for (std::size_t k = 0; k < n; ++k) {
+      const Candidate& s = c.stages[k];
+      list[k].q = make_transistor(spreads[k], pieces[k][i], temp);
+      list[k].values = s.values;
+      for (const auto& rp : s.parts) {
+        const std::size_t r = s.topology->role_index(rp.role);
+        list[k].values[r] = rp.combo.lo + (rp.combo.hi - rp.combo.lo) * u(rng);
+      }
+    }
+    auto p = stages::evaluate_chain(list, conditions(spec, supply, temp)).whole;
+    p.gain *= ratio;
+    if (violation(spec, p).empty() && gain_ok(spec, p.gain)) ++good;
+  }
+  return static_cast<double>(good) / static_cast<double>(spec.mc_samples);
+}
+
+}  // namespace
+
 double monte_carlo(const Candidate& c, const Spec& spec) {
   if (spec.mc_samples <= 0) return 0;
+  if (c.is_chain()) return monte_carlo_chain(c, spec);
   const auto& t = *c.topology;
   const devices::DeviceSpread spread = spread_of(c);
   const auto pieces = spread.samples(static_cast<std::size_t>(spec.mc_samples), spec.seed);
@@ -245,6 +291,13 @@ devices::DeviceSpread spread_of(const Candidate& c) {
 
 void evaluate_candidate(Candidate& c, const Spec& spec) {
   long n = 0;
+  if (c.is_chain()) {
+    // Figures even when a constraint no longer holds (the stock or the request changed).
+    detail::chain_corners(c, spec, n);
+    detail::chain_exact(c, spec);
+    c.yield = detail::monte_carlo(c, spec);
+    return;
+  }
   const devices::DeviceSpread spread = spread_of(c);
   c.conditions = detail::conditions(spec, spec.supply_nominal_v(), spec.temp_nominal_c());
   c.nominal_device = detail::make_transistor(spread, spread.nominal(), spec.temp_nominal_c());

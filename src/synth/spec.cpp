@@ -50,6 +50,9 @@ void validate(const Spec& s) {
   require(s.combine >= 1 && s.combine <= 3, "combine", s.combine, "must be 1, 2 or 3 parts per value");
   require(finite(s.gain_tol) && s.gain_tol > 0 && s.gain_tol < 1, "gain-tol", s.gain_tol, "must be a fraction between 0 and 1");
   require(s.mc_samples >= 0 && s.mc_samples <= 1000000, "samples", s.mc_samples, "must be from 0 to 1000000");
+  require(s.stages_min >= 1 && s.stages_min <= 3, "stages", s.stages_min, "must be from 1 to 3 (e.g. 1..3)");
+  require(s.stages_max >= s.stages_min && s.stages_max <= 3, "stages", s.stages_max,
+          "must run from low to high, at most 3 (e.g. 1..3)");
   if (s.piece) require(s.copies == 1, "copies", s.copies, "must be 1 when designing for one measured piece");
 }
 

@@ -41,6 +41,7 @@ struct RolePart {
   std::string dielectric;       ///< capacitors
   bool polarised = false;
   std::string plus_net;         ///< polarised capacitors: the net the + lead goes to
+  int stage = 0;                ///< in a chain's part list: the stage (1, 2, 3); 0 for a single stage
 };
 
 /// [min, max] over the corners.
@@ -76,6 +77,15 @@ struct Candidate {
   int pieces = 0;               ///< parts per copy, transistor included
   int purchases = 0;            ///< pieces not on the shelf (shopping suggestions only)
   std::vector<std::string> cautions;
+  /// A chain: its stages, in signal order, each a whole single-stage candidate evaluated into
+  /// the next stage's input (its conditions say the load and source it sees; its designators
+  /// carry the stage in the hundreds: R103, Q201). The chain itself has no topology; its
+  /// parts are every stage's parts, its device the first stage's, its nominal figures those
+  /// of the exact solver on the whole chain, its worst gain the product of the stages' ranges.
+  std::vector<Candidate> stages;
+  bool is_chain() const { return !stages.empty(); }
+  /// "jfet-follower > jfet-cs-self" for a chain, the topology's name for a stage.
+  std::string topology_name() const;
 };
 
 /// Why nothing fits, and what would help.

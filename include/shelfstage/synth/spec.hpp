@@ -25,6 +25,18 @@ struct Spec {
   std::vector<std::string> devices;     ///< empty: every stocked type
   std::optional<std::string> piece;     ///< design for this measured piece only
   int top = 5;
+  /// Stages in a row: single stages when stages_min is 1; chains of up to stages_max stages
+  /// when no single stage meets the request within the gain window at every corner (or
+  /// always, when stages_min >= 2).
+  /// The search's breadth: families of designs (one-resistor variants of each other) that
+  /// get the full corner pass per topology and device, and variants per family.
+  int search_families = 24;
+  int search_variants = 12;
+  /// Fraction of the shelf's nearby values the design equations are offered per question
+  /// (1: all they ask for; chains' stage pools use less).
+  double search_breadth = 1.0;
+  int stages_min = 1;
+  int stages_max = 3;
   int combine = 2;         ///< parts per achievable value: 1, 2 (pairs) or 3 (triples)
   double gain_tol = 0.10;  ///< gain window that counts as meeting the spec in the yield
   std::uint64_t seed = 1;  ///< Monte Carlo seed

@@ -1,0 +1,585 @@
+// Chains of two or three stages, for requests no single stage meets: a gain beyond one
+// device, an input impedance a BJT stage cannot give, a load too heavy for a gain stage.
+//
+// How the search goes (README "Chains"):
+//  1. Plans: sequences of gain stages (A) and buffers (B): B-A, A-B, A-A, B-B, B-A-B, A-A-B,
+//     B-A-A, A-A-A, within --stages and the request (a gain of about one plans buffers only).
+//  2. Stage pools, from the load back: the last stage is designed into the load with the
+//     requested swing; each earlier stage into the input impedance the stages after it
+//     present (the median of each following topology's pool), for the peak it must pass on;
+//     the first also for the source and the requested input impedance. Gain stages aim at
+//     an equal share of the gain, within a wide window; buffers at just under one. Every
+//     pool is an ordinary single-stage search on the one shared shelf.
+//  3. A graph (Boost.Graph): every pooled stage is a vertex in its position; an edge joins a
+//     stage to a stage of the next position when the second's input impedance is at least
+//     twice the first's output impedance (common practice: Zout well under the next Zin, at
+//     least a half) and both share the supply's polarity. The edge carries the loading: the
+//     first stage's gain evaluated into the second's input impedance.
+//  4. Every path through the graph is a chain; its gain is the product along the path. The
+//     paths nearest the requested gain are drawn on one quantity pool (every stage, every
+//     copy, the transistors too), evaluated whole (each stage into the next, fast), then at
+//     their corners stage by stage (each stage's worst case in the conditions the chain puts
+//     it in; the chain's gain range is the product of the stages' ranges, the pieces being
+//     independent), and the best are solved whole by the exact solver, which gives the
+//     figures shown.
+#include <algorithm>
+#include <boost/graph/adjacency_list.hpp>
+#include <cmath>
+#include <fmt/format.h>
+#include <map>
+#include <set>
+#include <atomic>
+#include <thread>
+
+#include "detail.hpp"
+#include "shelfstage/error.hpp"
+#include "shelfstage/stages/chain.hpp"
+#include "shelfstage/stages/exact.hpp"
+
+namespace shelfstage::synth {
+
+std::string Candidate::topology_name() const {
+  if (!is_chain()) return topology ? std::string(topology->name()) : std::string();
+  std::string s;
+  for (const auto& st : stages) s += (s.empty() ? "" : " > ") + st.topology_name();
+  return s;
+}
+
+namespace detail {
+
+namespace {
+
+/// A gain stage or a buffer.
+enum class Slot { gain, buffer };
+using Plan = std::vector<Slot>;
+
+/// Gain assumed for a buffer when sharing out the gain (a JFET follower into a high load
+/// gives about 0.8-0.9, a BJT follower 0.95-0.99).
+constexpr double kBufferGain = 0.9;
+/// Pool sizes: distinct designs kept per stage search.
+constexpr int kPoolTop = 8;
+/// Chains carried from the graph to the corner pass, and from there to the exact solver.
+constexpr std::size_t kToCorners = 60, kToExact = 12;
+
+std::vector<Plan> plans_for(const Spec& spec) {
+  using enum Slot;
+  const std::vector<Plan> all = {{buffer, gain}, {gain, buffer},         {gain, gain},         {buffer, buffer},
+                                 {buffer, gain, buffer}, {gain, gain, buffer}, {buffer, gain, gain}, {gain, gain, gain}};
+  std::vector<Plan> out;
+  const bool unity = spec.gain <= 1.2;
+  for (const auto& p : all) {
+    const int n = static_cast<int>(p.size());
+    if (n < std::max(2, spec.stages_min) || n > spec.stages_max) continue;
+    const bool has_gain = std::find(p.begin(), p.end(), gain) != p.end();
+    if (unity == has_gain) continue;
+    out.push_back(p);
+  }
+  return out;
+}
+
+/// A pooled stage: a single-stage candidate designed for one position of a plan.
+struct Pooled {
+  Candidate c;
+  std::size_t plan_pos = 0;
+};
+
+struct VertexProp {
+  std::size_t index = 0;  ///< into the layer's pooled stages
+  std::size_t layer = 0;
+};
+struct EdgeProp {
+  double gain = 0;     ///< the tail stage's gain into the head stage's input impedance
+  double loss_db = 0;  ///< its loss at the band edges (low plus high), into that impedance
+};
+using Graph = boost::adjacency_list<boost::vecS, boost::vecS, boost::directedS, VertexProp, EdgeProp>;
+
+/// A chain found in the graph, before its corner pass.
+struct Path {
+  std::vector<const Candidate*> stages;
+  double gain = 0;   ///< estimated from the edges
+  double rank = 0;   ///< |gain error| and pieces, for the order of the corner pass
+};
+
+stages::ChainStage chain_stage(const Candidate& c) { return {c.topology, c.values, c.nominal_device}; }
+
+std::vector<stages::ChainStage> chain_list(const Candidate& ch) {
+  std::vector<stages::ChainStage> list;
+  for (const auto& s : ch.stages) list.push_back(chain_stage(s));
+  return list;
+}
+
+void rescore(Candidate& ch, const Spec& spec) {
+  const double g = spec.gain;
+  ch.error_nominal = std::abs(ch.nominal.gain) / g - 1.0;
+  ch.error_worst = std::max({std::abs(std::abs(ch.worst.gain.min) / g - 1.0),
+                             std::abs(std::abs(ch.worst.gain.max) / g - 1.0), std::abs(ch.error_nominal)});
+  ch.score = score_of(ch) + kStagePoints * static_cast<double>(ch.stages.size() - 1);
+}
+
+class ChainSearch {
+ public:
+  ChainSearch(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally)
+      : spec_(spec), inv_(inv), shelf_(shelf), tally_(tally) {
+    for (const auto& p : inv.parts)
+      if (!store::is_passive(p.kind)) stocked_[p.device] += p.available();
+    if (spec.band_hz) {
+      band_lo_ = spec.band_hz->first;
+      band_hi_ = spec.band_hz->second;
+    }
+  }
+
+  std::vector<Candidate> run() {
+    // Fewer stages first: when a chain of two holds the gain window at every corner, a chain
+    // of three is not searched (it would need to be far better to pay for its stage).
+    std::vector<Candidate> out;
+    std::size_t depth = 0;
+    for (const Plan& plan : plans_for(spec_)) {
+      if (plan.size() != depth) {
+        const bool met = std::any_of(out.begin(), out.end(), [&](const Candidate& c) { return c.error_worst <= spec_.gain_tol; });
+        if (met) break;
+        depth = plan.size();
+      }
+      for (auto& c : search_plan(plan)) out.push_back(std::move(c));
+    }
+    std::stable_sort(out.begin(), out.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
+    return out;
+  }
+
+ private:
+  /// The request one position of a chain puts to a single stage.
+  Spec stage_spec(const stages::Topology& t, std::size_t pos, double gain, double load, double peak) const {
+    Spec s = spec_;
+    s.topologies = {std::string(t.name())};
+    s.piece.reset();
+    s.gain = gain;
+    s.gain_tol = t.is_buffer() ? 0.2 : 0.45;
+    s.load_ohm = load;
+    s.source_ohm = pos == 0 ? spec_.source_ohm : 0.0;
+    s.zin_min_ohm = pos == 0 ? spec_.zin_min_ohm : 0.0;
+    s.swing_vpp.reset();
+    if (peak > 0) s.swing_vpp = 2.0 * peak;
+    // Each stage flat across twice the band (capacitors for half the lower edge), so the
+    // chain's summed loss at the band edges stays small.
+    if (spec_.band_hz) s.band_hz = std::make_pair(spec_.band_hz->first / 2, spec_.band_hz->second * 2);
+    s.top = kPoolTop;
+    s.search_families = kPoolTop;
+    s.search_variants = 3;
+    s.search_breadth = 0.5;
+    s.mc_samples = 0;
+    s.stages_min = s.stages_max = 1;
+    return s;
+  }
+
+  /// What one position of a plan asks of one topology.
+  struct PoolRequest {
+    const stages::Topology* topology = nullptr;
+    std::size_t pos = 0;
+    double gain = 0, load = 0, peak = 0;
+    std::string key() const { return fmt::format("{}|{}|{:.3g}|{:.2g}|{:.2g}", topology->name(), pos == 0, gain, load, peak); }
+  };
+
+  std::vector<Candidate> design_pool(const PoolRequest& r, SearchStats& stats) const {
+    const Spec s = stage_spec(*r.topology, r.pos, r.gain, r.load, r.peak);
+    std::vector<Candidate> found = run_jobs(s, shelf_, make_jobs(s, inv_), stats, {});
+    std::vector<Candidate> kept;
+    for (auto& c : found) {
+      if (std::any_of(kept.begin(), kept.end(), [&](const Candidate& k) { return is_variant(k, c); })) continue;
+      kept.push_back(std::move(c));
+      if (static_cast<int>(kept.size()) >= kPoolTop) break;
+    }
+    return kept;
+  }
+
+  /// The pools of the requests, designing those not yet designed (on both cores).
+  std::vector<const std::vector<Candidate>*> pools(const std::vector<PoolRequest>& requests) {
+    std::vector<const PoolRequest*> todo;
+    std::set<std::string> queued;
+    for (const auto& r : requests)
+      if (!pools_.count(r.key()) && queued.insert(r.key()).second) todo.push_back(&r);
+    std::vector<std::vector<Candidate>> made(todo.size());
+    std::vector<SearchStats> stats(todo.size());
+    std::atomic<std::size_t> next{0};
+    auto worker = [&] {
+      for (std::size_t i = next++; i < todo.size(); i = next++) made[i] = design_pool(*todo[i], stats[i]);
+    };
+    {
+      std::vector<std::thread> threads;
+      const unsigned n = std::min<unsigned>(std::max(1u, std::thread::hardware_concurrency()), static_cast<unsigned>(todo.size()));
+      for (unsigned k = 1; k < n; ++k) threads.emplace_back(worker);
+      worker();
+      for (auto& th : threads) th.join();
+    }
+    for (std::size_t i = 0; i < todo.size(); ++i) {
+      tally_.proposals += stats[i].proposals;
+      tally_.evaluations += stats[i].evaluations;
+      pools_.emplace(todo[i]->key(), std::move(made[i]));
+    }
+    std::vector<const std::vector<Candidate>*> out;
+    for (const auto& r : requests) out.push_back(&pools_.at(r.key()));
+    return out;
+  }
+
+  /// The last stage's band-edge losses into the load.
+  double last_loss(const Candidate& c) {
+    stages::Conditions cc = c.conditions;
+    cc.band_lo_hz = band_lo_;
+    cc.band_hi_hz = band_hi_;
+    const auto p = c.topology->evaluate(c.values, c.nominal_device, cc);
+    ++tally_.evaluations;
+    return p.loss_lo_db + p.loss_hi_db;
+  }
+
+  std::vector<const stages::Topology*> topologies(Slot slot) const {
+    std::vector<const stages::Topology*> out;
+    for (const auto* t : stages::registry()) {
+      if (t->is_buffer() != (slot == Slot::buffer)) continue;
+      if (!spec_.topologies.empty() &&
+          std::find(spec_.topologies.begin(), spec_.topologies.end(), t->name()) == spec_.topologies.end())
+        continue;
+      out.push_back(t);
+    }
+    return out;
+  }
+
+  std::vector<Candidate> search_plan(const Plan& plan) {
+    const std::size_t n = plan.size();
+    const int gain_stages = static_cast<int>(std::count(plan.begin(), plan.end(), Slot::gain));
+    const int buffers = static_cast<int>(n) - gain_stages;
+    // Each gain stage's share, on a grid of six steps per decade so that plans share pools
+    // (the pools' gain window is wide; the graph search finds the products that fit).
+    const double exact_share =
+        gain_stages > 0 ? std::pow(spec_.gain / std::pow(kBufferGain, buffers), 1.0 / gain_stages) : kBufferGain;
+    const double share = gain_stages > 0 ? std::pow(10.0, std::round(6.0 * std::log10(exact_share)) / 6.0) : kBufferGain;
+    const double out_peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0.0;
+
+    // Pools from the load back.
+    std::vector<std::vector<const Candidate*>> layers(n);
+    for (std::size_t pos = n; pos-- > 0;) {
+      double after = 1.0;  // gain assumed after this position
+      for (std::size_t k = pos + 1; k < n; ++k) after *= plan[k] == Slot::gain ? share : kBufferGain;
+      const double peak = out_peak / after;
+      std::vector<double> loads;
+      if (pos + 1 == n) {
+        loads.push_back(spec_.load_ohm);
+      } else {
+        std::map<const stages::Topology*, std::vector<double>> zins;
+        for (const Candidate* c : layers[pos + 1]) zins[c->topology].push_back(c->nominal.zin_ohm);
+        std::vector<double> medians;
+        for (auto& [t, z] : zins) {
+          std::nth_element(z.begin(), z.begin() + static_cast<long>(z.size() / 2), z.end());
+          medians.push_back(z[z.size() / 2]);
+        }
+        // Loads within a factor of three of each other make the same designs: the lowest.
+        std::sort(medians.begin(), medians.end());
+        for (const double m : medians)
+          if (loads.empty() || m > 3.0 * loads.back()) loads.push_back(m);
+      }
+      std::vector<PoolRequest> requests;
+      for (const auto* t : topologies(plan[pos]))
+        for (const double load : loads)
+          requests.push_back({t, pos, plan[pos] == Slot::gain ? share : kBufferGain, load, peak});
+      for (const auto* p : pools(requests))
+        for (const auto& c : *p) layers[pos].push_back(&c);
+      if (layers[pos].empty()) return {};
+    }
+
+    // The graph: stages as vertices by position, edges where the loading is acceptable.
+    Graph g;
+    std::vector<std::vector<Graph::vertex_descriptor>> vs(n);
+    for (std::size_t pos = 0; pos < n; ++pos)
+      for (std::size_t i = 0; i < layers[pos].size(); ++i) vs[pos].push_back(boost::add_vertex({i, pos}, g));
+    for (std::size_t pos = 0; pos + 1 < n; ++pos) {
+      for (std::size_t i = 0; i < layers[pos].size(); ++i) {
+        const Candidate& a = *layers[pos][i];
+        const double pa = devices::polarity(a.device.kind);
+        for (std::size_t j = 0; j < layers[pos + 1].size(); ++j) {
+          const Candidate& b = *layers[pos + 1][j];
+          if (devices::polarity(b.device.kind) != pa) continue;
+          const double zin = b.nominal.zin_ohm;
+          if (!(zin >= 2.0 * a.nominal.zout_ohm)) continue;
+          stages::Conditions ca = a.conditions;
+          ca.load_ohm = zin;
+          ca.band_lo_hz = band_lo_;
+          ca.band_hi_hz = band_hi_;
+          const auto p = a.topology->evaluate(a.values, a.nominal_device, ca);
+          ++tally_.evaluations;
+          if (!p.valid || !p.active) continue;
+          const double loss = p.loss_lo_db + p.loss_hi_db;
+          if (loss > 1.0) continue;
+          boost::add_edge(vs[pos][i], vs[pos + 1][j], EdgeProp{p.gain, loss}, g);
+        }
+      }
+    }
+
+    // Every path; keep those nearest the requested gain.
+    std::vector<Path> paths;
+    std::vector<const Candidate*> stack;
+    // The band-edge losses add up along a path (in dB): the chain must stay within 1 dB.
+    auto walk = [&](auto&& self, Graph::vertex_descriptor v, double gain, double loss) -> void {
+      const VertexProp& vp = g[v];
+      const Candidate* c = layers[vp.layer][vp.index];
+      stack.push_back(c);
+      if (vp.layer + 1 == n) {
+        const double total = gain * c->nominal.gain;  // the last stage was designed into the load
+        const double err = std::abs(std::abs(total) / spec_.gain - 1.0);
+        if (err <= std::max(0.25, 2 * spec_.gain_tol) && loss + last_loss(*c) <= 1.0) {
+          int pieces = 0;
+          for (const Candidate* s : stack) pieces += s->pieces;
+          paths.push_back({stack, total, 100.0 * err + kPiecePoints * pieces});
+        }
+      } else {
+        for (auto [e, end] = boost::out_edges(v, g); e != end; ++e)
+          if (loss + g[*e].loss_db <= 1.0) self(self, boost::target(*e, g), gain * g[*e].gain, loss + g[*e].loss_db);
+      }
+      stack.pop_back();
+    };
+    for (const auto v : vs[0]) walk(walk, v, 1.0, 0.0);
+    std::sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
+
+    std::vector<Candidate> assessed;
+    std::size_t tried = 0;
+    for (const Path& path : paths) {
+      if (tried >= kToCorners) break;
+      Candidate ch = link(path);
+      if (!pool_ok(ch)) {
+        ++tally_.failures["stock"];
+        continue;
+      }
+      ++tried;
+      if (assess(ch)) assessed.push_back(std::move(ch));
+    }
+    std::stable_sort(assessed.begin(), assessed.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
+    std::vector<Candidate> out;
+    for (auto& c : assessed) {
+      if (out.size() >= kToExact) break;
+      if (std::any_of(out.begin(), out.end(), [&](const Candidate& k) { return is_variant(k, c); })) continue;
+      if (solve_whole(c)) out.push_back(std::move(c));
+    }
+    return out;
+  }
+
+  /// One quantity pool for the whole chain: every stage's parts and transistor, every copy.
+  bool pool_ok(const Candidate& ch) const {
+    std::map<std::uint32_t, int> groups;
+    std::map<std::string, int> devices;
+    for (const Candidate& s : ch.stages) {
+      for (const auto& rp : s.parts)
+        for (std::size_t k = 0; k < rp.combo.count; ++k) groups[rp.combo.group[k]] += spec_.copies;
+      devices[s.device.name] += spec_.copies;
+    }
+    for (const auto& [gi, need] : groups)
+      if (shelf_.groups()[gi].available < need) return false;
+    for (const auto& [name, need] : devices) {
+      const auto it = stocked_.find(name);
+      if (it == stocked_.end() || it->second < need) return false;
+    }
+    return true;
+  }
+
+  /// The stages of a path joined: designators as on a chain's board (R103, R201 ...), and
+  /// one capacitor between stages (the input capacitor of each stage after the first goes).
+  static Candidate link(const Path& path) {
+    Candidate ch;
+    for (std::size_t k = 0; k < path.stages.size(); ++k) {
+      Candidate s = *path.stages[k];
+      if (k > 0) {
+        const std::size_t cin = stages::input_coupling_role(*s.topology);
+        const auto it = std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "CIN"; });
+        if (it != s.parts.end()) {
+          s.pieces -= static_cast<int>(it->combo.count);
+          s.purchases -= it->combo.purchase ? static_cast<int>(it->combo.count) : 0;
+          s.parts.erase(it);
+        }
+        if (cin < s.topology->roles().size()) s.values[cin] = stages::kLinkedCin;
+      }
+      for (auto& rp : s.parts) {
+        rp.designator = stages::chain_designator(k, rp.designator);
+        rp.stage = static_cast<int>(k) + 1;
+      }
+      ch.stages.push_back(std::move(s));
+    }
+    return ch;
+  }
+
+  /// The corner pass of a linked chain; false (and the reason counted) when it fails.
+  bool assess(Candidate& ch) {
+    long evals = 0;
+    const std::string v = chain_corners(ch, spec_, evals);
+    tally_.evaluations += evals;
+    if (!v.empty()) {
+      ++tally_.corner_failures[v.substr(0, v.find(':'))];
+      return false;
+    }
+    return true;
+  }
+
+  /// The exact solution of the whole chain, then the parts as the bench sees them.
+  bool solve_whole(Candidate& ch) {
+    ++tally_.evaluations;
+    if (const std::string v = chain_exact(ch, spec_); !v.empty()) {
+      ++tally_.failures[v.substr(0, v.find(':'))];
+      return false;
+    }
+    ch.parts.clear();
+    for (auto& s : ch.stages) {
+      finalize(s, shelf_);
+      for (const auto& rp : s.parts) ch.parts.push_back(rp);
+    }
+    return true;
+  }
+
+  const Spec& spec_;
+  const Inventory& inv_;
+  const Shelf& shelf_;
+  SearchStats& tally_;
+  std::map<std::string, int> stocked_;
+  double band_lo_ = 0, band_hi_ = 0;
+  std::map<std::string, std::vector<Candidate>> pools_;
+};
+
+}  // namespace
+
+std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
+  const std::size_t n = ch.stages.size();
+  const double t_nom = spec.temp_nominal_c();
+  for (auto& s : ch.stages) {
+    const devices::DeviceSpread spread = spread_of(s);
+    s.nominal_device = make_transistor(spread, spread.nominal(), t_nom);
+  }
+  const std::vector<stages::ChainStage> list = chain_list(ch);
+  const stages::Conditions cond = conditions(spec, spec.supply_nominal_v(), t_nom);
+  const stages::ChainPerformance cp = stages::evaluate_chain(list, cond, stages::Detail::core);
+  evaluations += static_cast<long>(n);
+  if (const std::string v = violation(spec, cp.whole); !v.empty()) return v + ": the whole chain";
+  // From the last stage back, so each knows the smallest gain after it (for its peak).
+  double after_min = 1.0, after_max = 1.0;
+  Worst w;
+  const double out_peak = spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0;
+  for (std::size_t k = n; k-- > 0;) {
+    Candidate& s = ch.stages[k];
+    s.conditions = cp.conditions[k];
+    Spec sub = spec;
+    sub.gain = std::abs(cp.each[k].gain);
+    sub.load_ohm = s.conditions.load_ohm;
+    sub.source_ohm = s.conditions.source_ohm;
+    sub.zin_min_ohm = k == 0 ? spec.zin_min_ohm : 0.0;
+    sub.max_current_a.reset();
+    sub.swing_vpp.reset();
+    if (out_peak > 0) sub.swing_vpp = 2.0 * out_peak / after_min;
+    sub.topologies = {std::string(s.topology->name())};
+    const std::string v = evaluate_worst(s, sub, evaluations);
+    if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
+    s.nominal = s.topology->evaluate(s.values, s.nominal_device, s.conditions, stages::Detail::full);
+    s.error_nominal = s.error_worst = s.score = 0;
+    add_cautions(s, sub);
+    const double lo = std::min(std::abs(s.worst.gain.min), std::abs(s.worst.gain.max));
+    const double hi = std::max(std::abs(s.worst.gain.min), std::abs(s.worst.gain.max));
+    // Output-referred swing: this stage's smallest peak times the smallest gain after it.
+    w.swing_peak.add(s.worst.swing_peak.min * after_min);
+    w.swing_peak.add(s.worst.swing_peak.max * after_max);
+    w.supply_current.min += s.worst.supply_current.min;
+    w.supply_current.max += s.worst.supply_current.max;
+    after_min *= lo;
+    after_max *= hi;
+  }
+  w.supply_current.empty = false;
+  if (spec.max_current_a && w.supply_current.max > *spec.max_current_a) return "current";
+  // The capacitor between stages now holds the DC from the stage's output node to the next
+  // stage's gate or base instead of to ground: its rating, and an electrolytic's polarity,
+  // at every corner of both.
+  for (std::size_t k = 0; k + 1 < n; ++k) {
+    Candidate& s = ch.stages[k];
+    const auto it = std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "COUT"; });
+    if (it == s.parts.end()) continue;
+    const auto& role = s.topology->roles()[s.topology->role_index("COUT")];
+    const std::string inner(role.pos_net == stages::kNetOut ? role.neg_net : role.pos_net);
+    const auto names = s.topology->node_names();
+    const Range& node = inner == names[2] ? s.worst.v_out : s.worst.v_common;
+    const Range& next = ch.stages[k + 1].worst.v_in;
+    const double pol = devices::polarity(s.device.kind);
+    const double lo = std::min(pol * node.min, pol * node.max) - std::max(pol * next.min, pol * next.max);
+    const double hi = std::max(pol * node.min, pol * node.max) - std::min(pol * next.min, pol * next.max);
+    if (it->polarised) {
+      // An electrolytic wants a forward DC of a few tenths of a volt at every corner (common
+      // practice); where the next stage's input sits higher, it turns round.
+      if (lo >= 0.3) {
+        it->plus_net = inner;
+      } else if (hi <= -0.3) {
+        it->plus_net = std::string(stages::kNetOut);
+      } else {
+        return fmt::format("polarity: {} (COUT of stage {}) has {:.2f}..{:.2f} V across it with stage {}'s bias",
+                           it->designator, k + 1, lo, hi, k + 2);
+      }
+    }
+    const double peak = spec.swing_vpp ? *spec.swing_vpp / 2 : s.nominal.swing_peak_v;
+    if (it->rating > 0 && it->rating < 1.25 * (std::max(std::abs(lo), std::abs(hi)) + peak))
+      return fmt::format("rating: {} (COUT of stage {}) holds up to {:.3g} V DC", it->designator, k + 1,
+                         std::max(std::abs(lo), std::abs(hi)));
+  }
+  const Candidate& first = ch.stages.front();
+  const double sign = cp.whole.gain < 0 ? -1.0 : 1.0;
+  w.gain.add(sign * after_min);
+  w.gain.add(sign * after_max);
+  w.bias_current = first.worst.bias_current;
+  w.v_in = first.worst.v_in;
+  w.v_common = first.worst.v_common;
+  w.v_out = first.worst.v_out;
+  w.zin = first.worst.zin;
+  w.zout = ch.stages.back().worst.zout;
+  for (const auto& s : ch.stages) w.evaluations += s.worst.evaluations;
+  ch.worst = w;
+  ch.topology = nullptr;
+  ch.device = first.device;
+  ch.piece = first.piece;
+  ch.nominal_device = first.nominal_device;
+  ch.conditions = cond;
+  ch.nominal = cp.whole;
+  ch.pieces = 0;
+  ch.purchases = 0;
+  for (const auto& s : ch.stages) {
+    ch.pieces += s.pieces;
+    ch.purchases += s.purchases;
+  }
+  // Every stage's cautions, the hazardous-voltage one once.
+  ch.cautions.clear();
+  for (std::size_t k = 0; k < n; ++k)
+    for (const auto& text : ch.stages[k].cautions) {
+      if (text.rfind("hazardous voltage", 0) == 0) {
+        if (std::find(ch.cautions.begin(), ch.cautions.end(), text) == ch.cautions.end())
+          ch.cautions.insert(ch.cautions.begin(), text);
+      } else {
+        ch.cautions.push_back(fmt::format("stage {}: {}", k + 1, text));
+      }
+    }
+  rescore(ch, spec);
+  return {};
+}
+
+std::string chain_exact(Candidate& ch, const Spec& spec) {
+  const std::vector<stages::ChainStage> list = chain_list(ch);
+  const stages::Performance fast = stages::evaluate_chain(list, ch.conditions).whole;
+  stages::Performance p;
+  try {
+    const circuit::Circuit net = stages::chain_netlist(list, ch.conditions);
+    p = stages::evaluate_circuit(net, stages::chain_transistors(list), ch.conditions, stages::Detail::full);
+  } catch (const Error& e) {
+    return fmt::format("bias: {}", e.what());
+  }
+  if (const std::string v = violation(spec, p); !v.empty()) return v;
+  const double ratio = fast.gain != 0 ? std::abs(p.gain / fast.gain) : 1.0;
+  ch.worst.gain.min *= ratio;
+  ch.worst.gain.max *= ratio;
+  ch.nominal = p;
+  rescore(ch, spec);
+  return {};
+}
+
+std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally) {
+  if (spec.stages_max < 2 || spec.piece) return {};
+  ChainSearch search(spec, inv, shelf, tally);
+  return search.run();
+}
+
+}  // namespace detail
+
+}  // namespace shelfstage::synth
