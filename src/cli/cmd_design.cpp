@@ -68,6 +68,9 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
   cmd.add_option("--top", o.top, "How many candidates to list (default 5)")->check(CLI::Range(1, 1000));
   cmd.add_option("--combine", o.combine, "Parts per value: 1 singles, 2 pairs (default), 3 triples")->check(CLI::Range(1, 3));
   cmd.add_option("--gain-tol", o.gain_tol, "Gain window that counts as meeting the spec (default 10%)");
+  cmd.add_option("--stages", o.stages,
+                 "Stages in a row: 1 (single stages only), 2..3 (chains only) or 1..3 (default: chains when no "
+                 "single stage holds the gain window at every corner)");
   cmd.add_option("--seed", o.seed, "Seed of the Monte Carlo yield (default 1: reproducible)");
   cmd.add_option("--samples", o.samples, "Monte Carlo builds per listed candidate (default 500)")->check(CLI::Range(0, 1000000));
   cmd.add_flag("--no-save", o.no_save, "Do not keep the candidates in the database");
@@ -120,6 +123,26 @@ synth::Spec spec_from_options(const DesignOptions& o) {
   }
   s.seed = o.seed;
   s.mc_samples = o.samples;
+  {
+    // "2", "1..3": whole numbers from 1 to 3.
+    const auto dots = o.stages.find("..");
+    auto whole = [&](const std::string& t) {
+      std::size_t used = 0;
+      int v = 0;
+      try {
+        v = std::stoi(t, &used);
+      } catch (const std::exception&) {
+        used = 0;
+      }
+      if (used == 0 || used != t.size() || v < 1 || v > 3)
+        throw InputError(fmt::format("--stages '{}': give 1, 2 or 3 stages, or a range such as 1..3", o.stages));
+      return v;
+    };
+    s.stages_min = whole(dots == std::string::npos ? o.stages : o.stages.substr(0, dots));
+    s.stages_max = dots == std::string::npos ? s.stages_min : whole(o.stages.substr(dots + 2));
+    if (s.stages_max < s.stages_min)
+      throw InputError(fmt::format("--stages '{}': the range is upside down (fewest first)", o.stages));
+  }
   synth::validate(s);
   return s;
 }

@@ -9,6 +9,7 @@
 #include "stage_view.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/analysis.hpp"
+#include "shelfstage/report/chain_view.hpp"
 #include "shelfstage/report/curves.hpp"
 #include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/design_text.hpp"
@@ -84,6 +85,62 @@ std::string yield_text(const synth::Candidate& c, const synth::Spec& spec) {
       *c.yield * 100, spec.mc_samples, spec.seed, spec.gain_tol * 100, report::fixed3(spec.gain));
 }
 
+// A chain: the stages side by side and the whole, then each stage's parts and their stress.
+void show_chain(const ShowOptions& o, Context& ctx, const store::SavedDesign& saved, const synth::Spec& spec,
+                const synth::Candidate& c) {
+  std::vector<report::Analysis> analyses;
+  for (const auto& s : c.stages) {
+    const devices::DeviceSpread spread = synth::spread_of(s);
+    analyses.push_back(report::analyze_stage(report::stage_under_test(s), &spread));
+  }
+  if (o.spice) write_text_file("--spice", *o.spice, report::chain_spice(c));
+  if (ctx.global.json) {
+    report::Json doc;
+    doc["schema"] = 1;
+    doc["id"] = saved.id;
+    doc["created"] = saved.created;
+    doc["spec"] = report::spec_json(spec);
+    doc["candidate"] = report::candidate_json(c);
+    report::Json list = report::Json::array();
+    for (const auto& a : analyses) {
+      report::Json j = report::analysis_json(a);
+      j.erase("schema");
+      list.push_back(std::move(j));
+    }
+    doc["analysis"] = {{"stages", list}};
+    doc["cautions"] = c.cautions;
+    doc["spice"] = o.spice ? report::Json(*o.spice) : report::Json(nullptr);
+    if (o.plot) {
+      const report::Response r = report::frequency_response(c, spec);
+      doc["response"] = {{"f_hz", r.f_hz}, {"gain_db", r.nominal.gain_db}, {"gain_lo_db", r.gain_lo_db},
+                         {"gain_hi_db", r.gain_hi_db}};
+    }
+    print_json(ctx, doc);
+    return;
+  }
+  ctx.out << fmt::format("Design {} (kept {}): a chain of {} stages, {}\n", saved.id, saved.created, c.stages.size(),
+                         c.topology_name());
+  for (std::size_t k = 0; k < c.stages.size(); ++k)
+    ctx.out << fmt::format("  stage {}: {} with {}: {}\n", k + 1, c.stages[k].topology->name(),
+                           report::device_text(c.stages[k]), c.stages[k].topology->summary());
+  ctx.out << "Request: " << report::spec_line(spec) << "\n\n";
+  ctx.out << report::chain_figures_text(c, spec) << "\n";
+  for (std::size_t k = 0; k < c.stages.size(); ++k) {
+    ctx.out << fmt::format("Stage {} ({}):\n", k + 1, c.stages[k].topology->name());
+    ctx.out << report::parts_text(analyses[k]) << "\n";
+  }
+  ctx.out << yield_text(c, spec);
+  std::vector<std::string> warnings;
+  for (std::size_t k = 0; k < analyses.size(); ++k)
+    for (const auto& w : analyses[k].warnings) warnings.push_back(fmt::format("stage {}: {}", k + 1, w));
+  print_list(ctx.out, "Warnings", warnings);
+  print_list(ctx.out, "Cautions", c.cautions);
+  if (o.plot) ctx.out << "\n" << report::response_text(report::frequency_response(c, spec));
+  if (o.spice)
+    ctx.out << fmt::format("\nSPICE netlist of the whole chain written to {} (run it with: ngspice -b {}).\n", *o.spice,
+                           *o.spice);
+}
+
 void run_show(const ShowOptions& o, Context& ctx) {
   auto db = ctx.open_database();
   const store::SavedDesign saved = store::load_design(db, o.id);
@@ -98,6 +155,10 @@ void run_show(const ShowOptions& o, Context& ctx) {
   synth::Candidate c = report::candidate_from_json(cand_doc, db.device_records(), db.pieces());
   c.id = saved.id;
   synth::evaluate_candidate(c, spec);
+  if (c.is_chain()) {
+    show_chain(o, ctx, saved, spec, c);
+    return;
+  }
 
   const report::StageUnderTest stage = report::stage_under_test(c);
   const devices::DeviceSpread spread = synth::spread_of(c);

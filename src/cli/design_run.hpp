@@ -24,6 +24,7 @@ struct DesignOptions {
   std::string gain_tol = "10%";
   std::uint64_t seed = 1;
   int samples = 500;
+  std::string stages = "1..3";  ///< --stages: depth of chains, "1", "2..3", "1..3"
   bool no_save = false;
 };
 

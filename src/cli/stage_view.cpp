@@ -12,13 +12,16 @@
 
 namespace shelfstage::cli {
 
-void write_spice(const std::string& path, const report::StageUnderTest& stage) {
-  const std::string text = report::stage_spice(stage);
+void write_text_file(const std::string& option, const std::string& path, const std::string& text) {
   std::ofstream f(path, std::ios::binary | std::ios::trunc);
-  if (!f) throw InputError(fmt::format("--spice '{}': cannot write the file: {}", path, std::strerror(errno)));
+  if (!f) throw InputError(fmt::format("{} '{}': cannot write the file: {}", option, path, std::strerror(errno)));
   f << text;
   f.close();
-  if (!f) throw InputError(fmt::format("--spice '{}': writing the file failed", path));
+  if (!f) throw InputError(fmt::format("{} '{}': writing the file failed", option, path));
+}
+
+void write_spice(const std::string& path, const report::StageUnderTest& stage) {
+  write_text_file("--spice", path, report::stage_spice(stage));
 }
 
 void print_list(std::ostream& out, const std::string& title, const std::vector<std::string>& lines) {

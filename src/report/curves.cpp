@@ -2,6 +2,10 @@
 // bias spread with its safe region, and the large-signal transfer.
 #include "shelfstage/report/curves.hpp"
 
+#include <functional>
+
+#include "shelfstage/stages/chain.hpp"
+
 #include <fmt/format.h>
 
 #include <algorithm>
@@ -46,12 +50,12 @@ bool is_follower(const circuit::Circuit& net) {
   return false;
 }
 
-ResponseCurve sweep(const synth::Candidate& c, const stages::Transistor& q, const std::vector<double>& f,
-                    double celsius, const std::string& tag) {
+ResponseCurve sweep(const std::function<circuit::Circuit()>& build, const std::vector<double>& f, double celsius,
+                    const std::string& tag) {
   ResponseCurve r;
   r.tag = tag;
   try {
-    const circuit::Circuit net = c.topology->netlist(c.values, q, c.conditions);
+    const circuit::Circuit net = build();
     circuit::SolverOptions so;
     so.celsius = celsius;
     const auto op = circuit::solve_dc(net, so);
@@ -157,9 +161,31 @@ Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, 
 
   const double celsius = spec.temp_nominal_c();
   const devices::DeviceSpread spread = synth::spread_of(c);
-  r.nominal = sweep(c, piece_transistor(spread, spread.nominal(), celsius), r.f_hz, celsius, "nominal");
-  for (const auto& f : spread.corners()) {
-    r.corners.push_back(sweep(c, piece_transistor(spread, f, celsius), r.f_hz, celsius, f.tag));
+  // A stage: its corner pieces. A chain: each stage's corner pieces in turn, the other
+  // stages at their nominal pieces.
+  std::vector<stages::ChainStage> list;
+  for (const auto& s : c.stages) list.push_back({s.topology, s.values, s.nominal_device});
+  auto build = [&](std::size_t stage, const stages::Transistor* q) {
+    return [&c, list, stage, q]() mutable {
+      if (!c.is_chain()) return c.topology->netlist(c.values, q ? *q : c.nominal_device, c.conditions);
+      if (q) list[stage].q = *q;
+      return stages::chain_netlist(list, c.conditions);
+    };
+  };
+  std::vector<std::pair<std::size_t, devices::DeviceSpread>> spreads;
+  if (c.is_chain())
+    for (std::size_t k = 0; k < c.stages.size(); ++k) spreads.emplace_back(k, synth::spread_of(c.stages[k]));
+  else
+    spreads.emplace_back(0, spread);
+  {
+    const stages::Transistor q = c.is_chain() ? c.stages.front().nominal_device : piece_transistor(spread, spread.nominal(), celsius);
+    r.nominal = sweep(build(0, c.is_chain() ? nullptr : &q), r.f_hz, celsius, "nominal");
+  }
+  for (const auto& [stage, sp] : spreads)
+  for (const auto& f : sp.corners()) {
+    const stages::Transistor q = piece_transistor(sp, f, celsius);
+    r.corners.push_back(sweep(build(stage, &q), r.f_hz, celsius,
+                              c.is_chain() ? fmt::format("stage {} {}", stage + 1, f.tag) : f.tag));
     // An inverting stage sits at +/-180 degrees: put every corner on the nominal's branch
     // (whole turns), so the envelope spans the spread, not the wrap.
     auto& k = r.corners.back();

@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include "shelfstage/error.hpp"
+#include "shelfstage/stages/chain.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::report {
@@ -67,6 +68,7 @@ Json spec_json(const synth::Spec& s) {
   j["combine"] = s.combine;
   j["seed"] = s.seed;
   j["samples"] = s.mc_samples;
+  j["stages"] = Json::array({s.stages_min, s.stages_max});
   return j;
 }
 
@@ -96,6 +98,10 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
     s.combine = j.value("combine", 2);
     s.seed = j.value("seed", std::uint64_t{1});
     s.mc_samples = j.value("samples", 500);
+    if (j.contains("stages") && j["stages"].is_array()) {
+      s.stages_min = j["stages"][0].get<int>();
+      s.stages_max = j["stages"][1].get<int>();
+    }
     return s;
   } catch (const nlohmann::json::exception& e) {
     throw InputError(fmt::format("saved design: the request does not read back ({})", e.what()));
@@ -106,7 +112,7 @@ Json candidate_json(const synth::Candidate& c) {
   Json j;
   j["rank"] = c.rank;
   j["id"] = c.id;
-  j["topology"] = std::string(c.topology->name());
+  j["topology"] = c.is_chain() ? std::string("chain") : std::string(c.topology->name());
   j["score"] = c.score;
   Json dev;
   dev["name"] = c.device.name;
@@ -140,6 +146,7 @@ Json candidate_json(const synth::Candidate& c) {
     p["polarised"] = rp.polarised;
     p["plus_net"] = rp.plus_net.empty() ? Json(nullptr) : Json(rp.plus_net);
     p["lines"] = rp.lines;
+    if (rp.stage > 0) p["stage"] = rp.stage;
     parts.push_back(p);
   }
   j["parts"] = parts;
@@ -176,12 +183,57 @@ Json candidate_json(const synth::Candidate& c) {
   j["error_nominal"] = c.error_nominal;
   j["error_worst"] = c.error_worst;
   j["cautions"] = c.cautions;
+  if (c.is_chain()) {
+    // Each stage shaped like a single-stage candidate, evaluated into the next stage's input;
+    // the chain's own nominal and worst are the whole chain's (nodes: the first stage's).
+    Json st = Json::array();
+    for (std::size_t k = 0; k < c.stages.size(); ++k) {
+      Json s = candidate_json(c.stages[k]);
+      s.erase("rank");
+      s.erase("id");
+      s.erase("yield");
+      s.erase("score");
+      s.erase("error_nominal");
+      s.erase("error_worst");
+      s["stage"] = k + 1;
+      s["load"] = c.stages[k].conditions.load_ohm;
+      s["source_z"] = c.stages[k].conditions.source_ohm;
+      st.push_back(std::move(s));
+    }
+    j["stages"] = std::move(st);
+    j["chain"] = c.topology_name();
+  }
   return j;
 }
 
 synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
                                      const std::vector<devices::MeasuredPiece>& pieces) {
   synth::Candidate c;
+  if (j.contains("stages") && j["stages"].is_array() && !j["stages"].empty()) {
+    // A chain: its stages read back one by one; the chain's parts are theirs.
+    for (const auto& sj : j["stages"]) {
+      Json s = sj;
+      s["id"] = j.value("id", std::string());
+      c.stages.push_back(candidate_from_json(s, devs, pieces));
+    }
+    for (std::size_t k = 0; k < c.stages.size(); ++k) {
+      auto& s = c.stages[k];
+      const auto& sj = j["stages"][k];
+      // After the first stage the previous COUT couples the stage: no CIN of its own.
+      const std::size_t cin = stages::input_coupling_role(*s.topology);
+      if (k > 0 && cin < s.topology->roles().size() && s.values[cin] == 0) s.values[cin] = stages::kLinkedCin;
+      s.conditions.load_ohm = sj.value("load", 0.0);
+      s.conditions.source_ohm = sj.value("source_z", 0.0);
+      for (const auto& rp : s.parts) c.parts.push_back(rp);
+    }
+    c.id = j.value("id", std::string());
+    c.rank = j.value("rank", 0);
+    c.device = c.stages.front().device;
+    c.piece = c.stages.front().piece;
+    c.pieces = j.value("pieces", 0);
+    c.score = j.value("score", 0.0);
+    return c;
+  }
   try {
     const std::string topo = j.at("topology").get<std::string>();
     c.topology = stages::find_topology(topo);
@@ -218,6 +270,7 @@ synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<
       rp.combo.polarised = rp.polarised;
       if (p.contains("plus_net") && p["plus_net"].is_string()) rp.plus_net = p["plus_net"].get<std::string>();
       rp.lines = p.at("lines").get<std::vector<std::vector<std::int64_t>>>();
+      rp.stage = p.value("stage", 0);
       const std::size_t i = c.topology->role_index(rp.role);
       if (i >= c.topology->roles().size())
         throw InputError(fmt::format("saved design: {} has no role {}", c.topology->name(), rp.role));

@@ -51,7 +51,23 @@ std::string spec_line(const synth::Spec& s) {
 
 std::string recipe_line(const synth::Candidate& c) {
   std::string out;
-  for (const auto& rp : c.parts) out += fmt::format("{}{} {}", out.empty() ? "" : "  ", rp.role, rp.recipe);
+  int stage = 0;
+  for (const auto& rp : c.parts) {
+    // A chain's parts go stage by stage: "1: RG 1M  RS 2k2 | 2: RD 4k7 ..."
+    std::string lead = out.empty() ? "" : "  ";
+    if (rp.stage > 0 && rp.stage != stage) {
+      lead = fmt::format("{}{}: ", out.empty() ? "" : " | ", rp.stage);
+      stage = rp.stage;
+    }
+    out += fmt::format("{}{} {}", lead, rp.role, rp.recipe);
+  }
+  return out;
+}
+
+std::string device_text(const synth::Candidate& c) {
+  if (!c.is_chain()) return c.device.name + (c.piece ? " [" + c.piece->label + "]" : "");
+  std::string out;
+  for (const auto& s : c.stages) out += (out.empty() ? "" : " > ") + device_text(s);
   return out;
 }
 
@@ -71,8 +87,7 @@ std::string candidates_table(const synth::DesignResult& r) {
   for (const auto& c : r.candidates) {
     const auto& n = c.nominal;
     const auto& w = c.worst;
-    std::string device = c.device.name + (c.piece ? " [" + c.piece->label + "]" : "");
-    t.add_row({std::to_string(c.rank), c.id, std::string(c.topology->name()), device, fixed3(n.gain),
+    t.add_row({std::to_string(c.rank), c.id, c.topology_name(), device_text(c), fixed3(n.gain),
                fmt::format("{}..{}", fixed3(w.gain.min), fixed3(w.gain.max)), format_value(n.bias_current_a, Unit::ampere),
                fmt::format("{} ({})", format_value(n.swing_peak_v, Unit::volt), format_value(w.swing_peak.min)),
                fmt::format("{}..{}", format_value(n.f_low_hz, Unit::hertz), upper_corner(n.f_high_hz)),
@@ -98,7 +113,7 @@ std::string diagnosis_text(const synth::DesignResult& r) {
     for (const auto& s : r.diagnosis.suggestions) out += "  " + s + "\n";
     if (r.diagnosis.with_purchases) {
       const auto& c = *r.diagnosis.with_purchases;
-      out += fmt::format("  then: {} with {}, gain {} ({}..{} worst case): {}\n", c.topology->name(), c.device.name,
+      out += fmt::format("  then: {} with {}, gain {} ({}..{} worst case): {}\n", c.topology_name(), device_text(c),
                          fixed3(c.nominal.gain), fixed3(c.worst.gain.min), fixed3(c.worst.gain.max), recipe_line(c));
     }
   }

@@ -2,6 +2,8 @@
 // assembly and polarity notes and the short items; JSON, CSV and text views.
 #include "shelfstage/report/picklist.hpp"
 
+#include "shelfstage/stages/chain.hpp"
+
 #include <fmt/format.h>
 
 #include <algorithm>
@@ -107,8 +109,15 @@ struct Need {
   std::string dielectric;
 };
 
-std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::Part>& stock) {
+std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::Part>& stock,
+                           const std::string& q_designator = "Q1") {
   std::vector<Need> out;
+  if (c.is_chain()) {
+    // Stage by stage, each with its own transistor (Q101, Q201 ...).
+    for (std::size_t k = 0; k < c.stages.size(); ++k)
+      for (auto& n : needs_of(c.stages[k], stock, stages::chain_designator(k, "Q1"))) out.push_back(std::move(n));
+    return out;
+  }
   for (const auto& rp : c.parts) {
     const int n = static_cast<int>(rp.values.size());
     for (int k = 0; k < n; ++k) {
@@ -129,7 +138,7 @@ std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::P
   // The transistor: every line holding its device type, in bin order.
   Need q;
   q.role = "Q";
-  q.base = "Q1";
+  q.base = q_designator;
   q.kind = store::part_kind(c.device.kind);
   q.device = c.device.name;
   std::vector<const store::Part*> holders;
@@ -207,20 +216,29 @@ bool bin_less(std::string_view a, std::string_view b) {
 }
 
 std::string net_for_people(std::string_view net, const synth::Candidate& c) {
+  if (c.is_chain()) return fmt::format("net {}", net);
   const bool jfet = devices::is_jfet(c.device.kind);
+  // The transistor's designator: Q1, or Q101, Q201 ... in a chain's stage.
+  std::string q = "Q1";
+  if (!c.parts.empty() && c.parts.front().stage > 0)
+    q = stages::chain_designator(static_cast<std::size_t>(c.parts.front().stage - 1), "Q1");
+  const int stage = c.parts.empty() ? 0 : c.parts.front().stage;
   if (net == "0") return "ground";
-  if (net == "in") return "the input side (toward the signal source)";
-  if (net == "out") return "the output side (toward the load)";
+  if (net == "in")
+    return stage > 1 ? fmt::format("the input side (toward stage {})", stage - 1)
+                     : std::string("the input side (toward the signal source)");
+  if (net == "out") return stage > 0 ? fmt::format("the output side (toward stage {} or the load)", stage + 1)
+                                     : std::string("the output side (toward the load)");
   if (net == "x") {
     const std::string upper = jfet ? "RS1" : "RE1";
     const std::string lower_role = jfet ? "RS2" : "RE2";
     const bool has_upper =
         std::any_of(c.parts.begin(), c.parts.end(), [&](const synth::RolePart& rp) { return rp.role == upper; });
-    if (!has_upper) return fmt::format("the {} of Q1 ({} is left out)", jfet ? "source" : "emitter", upper);
+    if (!has_upper) return fmt::format("the {} of {} ({} is left out)", jfet ? "source" : "emitter", q, upper);
     return fmt::format("the {}\u2013{} junction", upper, lower_role);
   }
   for (const char* terminal : {"gate", "drain", "source", "base", "collector", "emitter"})
-    if (net == terminal) return fmt::format("the {} of Q1", net);
+    if (net == terminal) return fmt::format("the {} of {}", net, q);
   if (net == "vdd" || net == "vcc" || net == "supply") return "the supply";
   return fmt::format("net {}", net);
 }
@@ -239,10 +257,11 @@ int PickList::pieces() const {
 PickList make_pick_list(const synth::Candidate& c, int copies, const std::vector<store::Part>& stock,
                         const std::map<std::int64_t, int>& held) {
   if (copies < 1) throw InputError(fmt::format("copies {} must be at least 1", copies));
-  if (c.topology == nullptr) throw InputError(fmt::format("design '{}' has no stage topology", c.id));
+  if (c.topology == nullptr && !c.is_chain())
+    throw InputError(fmt::format("design '{}' has no stage topology", c.id));
   PickList out;
   out.design_id = c.id;
-  out.topology = std::string(c.topology->name());
+  out.topology = c.topology_name();
   out.device = c.device.name;
   if (c.piece) out.piece = c.piece->label;
   out.copies = copies;
@@ -307,7 +326,7 @@ PickList make_pick_list(const synth::Candidate& c, int copies, const std::vector
     s.qty = static_cast<int>(places.size());
     s.needed = copies;
     s.designators = places;
-    s.roles = {need.role == "Q" ? std::string("Q1") : need.role};
+    s.roles = {need.role == "Q" ? need.base : need.role};
     auto it = std::find_if(out.short_items.begin(), out.short_items.end(), [&](const ShortItem& o) { return same_item(o, s); });
     if (it == out.short_items.end()) {
       out.short_items.push_back(std::move(s));
@@ -320,9 +339,15 @@ PickList make_pick_list(const synth::Candidate& c, int copies, const std::vector
     }
   }
 
-  // How combinations go together, and which way electrolytics go in.
-  const auto roles = c.topology->roles();
-  for (const auto& rp : c.parts) {
+  // How combinations go together, and which way electrolytics go in (stage by stage).
+  std::vector<const synth::Candidate*> stage_list;
+  if (c.is_chain())
+    for (const auto& s : c.stages) stage_list.push_back(&s);
+  else
+    stage_list.push_back(&c);
+  for (const synth::Candidate* sc : stage_list) {
+  const auto roles = sc->topology->roles();
+  for (const auto& rp : sc->parts) {
     const int n = static_cast<int>(rp.values.size());
     std::vector<std::string> pieces;
     for (int k = 0; k < n; ++k) pieces.push_back(place(rp.designator, k, n, 1, 1));
@@ -345,18 +370,19 @@ PickList make_pick_list(const synth::Candidate& c, int copies, const std::vector
       pol.designator = fmt::format("{}", fmt::join(pieces, ", "));
       pol.role = rp.role;
       pol.plus_net = rp.plus_net;
-      const std::size_t i = c.topology->role_index(rp.role);
+      const std::size_t i = sc->topology->role_index(rp.role);
       if (i < roles.size()) {
         const auto& r = roles[i];
         pol.minus_net = std::string(rp.plus_net == r.pos_net ? r.neg_net : r.pos_net);
       }
-      pol.plus = net_for_people(pol.plus_net, c);
-      pol.minus = pol.minus_net.empty() ? std::string("the other end") : net_for_people(pol.minus_net, c);
+      pol.plus = net_for_people(pol.plus_net, *sc);
+      pol.minus = pol.minus_net.empty() ? std::string("the other end") : net_for_people(pol.minus_net, *sc);
       pol.text = fmt::format("{} ({}, {} {}): + lead to {}, - lead to {}", pol.designator, rp.role,
                              synth::compact_value(rp.combo.nominal, false),
                              rp.dielectric.empty() ? std::string("polarised") : rp.dielectric, pol.plus, pol.minus);
       out.polarities.push_back(std::move(pol));
     }
+  }
   }
   return out;
 }

@@ -17,6 +17,8 @@ std::string candidates_table(const synth::DesignResult& r);
 
 /// The roles of one candidate with their recipes on one line.
 std::string recipe_line(const synth::Candidate& c);
+/// The device for people: "SJ-101 [bag 3]", or each stage's for a chain: "SJ-101 > KB-547".
+std::string device_text(const synth::Candidate& c);
 
 /// Why nothing fits, and the purchases that would help, as lines for stderr.
 std::string diagnosis_text(const synth::DesignResult& r);
