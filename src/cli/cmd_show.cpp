@@ -89,9 +89,12 @@ std::string yield_text(const synth::Candidate& c, const synth::Spec& spec) {
 void show_chain(const ShowOptions& o, Context& ctx, const store::SavedDesign& saved, const synth::Spec& spec,
                 const synth::Candidate& c) {
   std::vector<report::Analysis> analyses;
-  for (const auto& s : c.stages) {
+  for (std::size_t k = 0; k < c.stages.size(); ++k) {
+    const auto& s = c.stages[k];
     const devices::DeviceSpread spread = synth::spread_of(s);
     analyses.push_back(report::analyze_stage(report::stage_under_test(s), &spread));
+    // After the first stage the previous COUT couples the stage: it has no CIN of its own.
+    if (k > 0) std::erase_if(analyses.back().parts, [](const report::PartStress& p) { return p.name == "CIN"; });
   }
   if (o.spice) write_text_file("--spice", *o.spice, report::chain_spice(c));
   if (ctx.global.json) {

@@ -92,6 +92,13 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
     r.each[k] = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, detail);
     load = r.each[k].zin_ohm > 0 ? r.each[k].zin_ohm : 1e12;
   }
+  // A follower's output impedance depends on what drives it: each stage's Zout with the
+  // previous stage's output impedance as its source (the gains stay those from the node).
+  for (std::size_t k = 1; k < n; ++k) {
+    Conditions ck = r.conditions[k];
+    ck.source_ohm = r.each[k - 1].zout_ohm;
+    r.each[k].zout_ohm = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, Detail::core).zout_ohm;
+  }
   Performance& w = r.whole;
   const Performance& first = r.each.front();
   const Performance& last = r.each.back();

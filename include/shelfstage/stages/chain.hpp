@@ -47,7 +47,8 @@ circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditi
 /// The fast evaluation of a chain. Each stage sees the next stage's input impedance as its
 /// load (evaluated from the last stage back to the first), and is driven from the previous
 /// stage's output node (source 0; the first stage from c.source_ohm), so the mid-band gain is
-/// the product of the stage gains. Whole-chain figures: gain, Zin (first stage), Zout (last),
+/// the product of the stage gains (each stage's Zout is taken with the previous stage's
+/// output impedance as its source). Whole-chain figures: gain, Zin (first stage), Zout (last),
 /// supply current (sum), swing (the smallest output peak any stage allows, referred to the
 /// output), band-edge losses (sum of the stages' in dB), corners by the usual cascade
 /// approximation (f_low = sqrt(sum f_low_i^2), 1/f_high = sqrt(sum 1/f_high_i^2)),

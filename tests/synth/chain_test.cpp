@@ -1,0 +1,134 @@
+// Chains from the synthesizer: a request no single stage meets gets a chain; the chain's
+// figures agree with ngspice (Debian package ngspice) run on the whole chain's netlist (gain
+// within 3 %, the acceptance); all stages draw on one quantity pool; and a single
+// stage that meets the request is not displaced by a chain.
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <fmt/format.h>
+#include <map>
+
+#include "fixture.hpp"
+#include "shelfstage/circuit/spice.hpp"
+#include "shelfstage/error.hpp"
+#include "shelfstage/stages/chain.hpp"
+#include "support/ngspice.hpp"
+
+namespace shelfstage::test {
+
+namespace {
+
+synth::Spec chain_spec() {
+  // A gain beyond one device on this shelf, from a high-impedance source (1 MOhm input).
+  synth::Spec s = basic_spec(60);
+  s.zin_min_ohm = 1e6;
+  s.source_ohm = 10e3;
+  s.mc_samples = 50;
+  s.top = 3;
+  return s;
+}
+
+std::vector<stages::ChainStage> chain_of(const synth::Candidate& c) {
+  std::vector<stages::ChainStage> list;
+  for (const auto& s : c.stages) list.push_back({s.topology, s.values, s.nominal_device});
+  return list;
+}
+
+/// ngspice's mid-band gain of the whole chain (at the band's geometric middle).
+double spice_gain(const synth::Candidate& c, double f_hz) {
+  const circuit::Circuit net = stages::chain_netlist(chain_of(c), c.conditions);
+  circuit::SpiceOptions o;
+  o.title = c.topology_name();
+  o.analyses = {".control", "op", "ac dec 20 1 1e7", fmt::format("meas ac gmid find vm(out) at={:.6g}", f_hz),
+                fmt::format("meas ac gre find vr(out) at={:.6g}", f_hz), ".endc"};
+  const SpiceRun r = run_ngspice(circuit::to_spice(net, o));
+  CHECK_MESSAGE(r.error_lines().empty(), r.output);
+  return (r.get("gre") < 0 ? -1.0 : 1.0) * r.get("gmid");
+}
+
+}  // namespace
+
+TEST_CASE("a request no single stage meets gets a chain, and ngspice agrees with its gain within 3 %") {
+  const synth::Inventory inv = small_shelf(10, {njfet(), npn()});
+  synth::Spec single = chain_spec();
+  single.stages_min = single.stages_max = 1;
+  const auto r1 = synth::design(single, inv);
+  REQUIRE(r1.candidates.empty());  // the premise: no single stage reaches it
+
+  const synth::Spec spec = chain_spec();
+  const auto r = synth::design(spec, inv);
+  REQUIRE_FALSE(r.candidates.empty());
+  for (const auto& c : r.candidates) {
+    CAPTURE(c.topology_name());
+    REQUIRE(c.is_chain());
+    CHECK(c.stages.size() >= 2);
+    CHECK(c.stages.size() <= 3);
+    CHECK(c.id.front() == 'c');
+    // Nominal figures from the exact solver on the whole chain; the worst range holds them.
+    CHECK(std::abs(c.nominal.gain) == doctest::Approx(spec.gain).epsilon(spec.gain_tol * 2));
+    CHECK(c.worst.gain.min <= c.nominal.gain);
+    CHECK(c.worst.gain.max >= c.nominal.gain);
+    CHECK(c.nominal.zin_ohm >= spec.zin_min_ohm);
+    CHECK(c.nominal.swing_peak_v >= *spec.swing_vpp / 2);
+    // The output of stage i drives stage i+1: its load is the next stage's input impedance.
+    for (std::size_t k = 0; k + 1 < c.stages.size(); ++k)
+      CHECK(c.stages[k].conditions.load_ohm == doctest::Approx(c.stages[k + 1].nominal.zin_ohm).epsilon(1e-6));
+    CHECK(c.stages.back().conditions.load_ohm == spec.load_ohm);
+    const double g = spice_gain(c, 1e3);
+    MESSAGE(fmt::format("{}: ngspice {:.5g}, shelfstage {:.5g} ({:+.3f} %), worst {:.4g}..{:.4g}", c.topology_name(), g,
+                        c.nominal.gain, 100 * (c.nominal.gain / g - 1), c.worst.gain.min, c.worst.gain.max));
+    CHECK(std::abs(c.nominal.gain / g - 1) < 0.03);
+    REQUIRE(c.yield.has_value());
+    CHECK(*c.yield > 0.0);
+  }
+}
+
+TEST_CASE("every stage of a chain draws on one quantity pool, transistors included") {
+  // Two pieces of each value: stages that would both use a value for several roles cannot.
+  const synth::Inventory inv = small_shelf(2, {njfet(), npn()});
+  synth::Spec spec = chain_spec();
+  spec.mc_samples = 0;
+  const auto r = synth::design(spec, inv);
+  for (const auto& c : r.candidates) {
+    std::map<std::int64_t, int> used;
+    for (const auto& rp : c.parts)
+      for (const auto& lines : rp.lines) {
+        REQUIRE_FALSE(lines.empty());
+        ++used[lines.front()];  // single-line values on this shelf
+      }
+    for (const auto& [line, n] : used) {
+      const auto it = std::find_if(inv.parts.begin(), inv.parts.end(), [&](const store::Part& p) { return p.id == line; });
+      REQUIRE(it != inv.parts.end());
+      CHECK(n * spec.copies <= it->qty);
+    }
+  }
+}
+
+TEST_CASE("a single stage that meets the request is not displaced by a chain; --stages 2..3 asks for chains") {
+  const synth::Inventory inv = small_shelf(10, {njfet(), npn()});
+  synth::Spec spec = basic_spec(4);
+  spec.mc_samples = 0;
+  const auto r = synth::design(spec, inv);
+  REQUIRE_FALSE(r.candidates.empty());
+  CHECK(r.candidates.front().error_worst <= spec.gain_tol);
+  for (const auto& c : r.candidates) CHECK_FALSE(c.is_chain());
+
+  spec.stages_min = 2;
+  spec.stages_max = 3;
+  const auto forced = synth::design(spec, inv);
+  for (const auto& c : forced.candidates) CHECK(c.is_chain());
+}
+
+TEST_CASE("--stages is checked") {
+  synth::Spec spec = basic_spec(4);
+  spec.stages_min = 0;
+  CHECK_THROWS_AS(synth::validate(spec), InputError);
+  spec.stages_min = 3;
+  spec.stages_max = 2;
+  CHECK_THROWS_AS(synth::validate(spec), InputError);
+  spec.stages_min = 1;
+  spec.stages_max = 4;
+  CHECK_THROWS_AS(synth::validate(spec), InputError);
+}
+
+}  // namespace shelfstage::test
