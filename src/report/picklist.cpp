@@ -215,7 +215,7 @@ bool bin_less(std::string_view a, std::string_view b) {
   return a < b;  // equal but for case or leading zeros: any fixed order
 }
 
-std::string net_for_people(std::string_view net, const synth::Candidate& c) {
+std::string net_for_people(std::string_view net, const synth::Candidate& c, std::size_t stage_count) {
   if (c.is_chain()) return fmt::format("net {}", net);
   const bool jfet = devices::is_jfet(c.device.kind);
   // The transistor's designator: Q1, or Q101, Q201 ... in a chain's stage.
@@ -227,8 +227,10 @@ std::string net_for_people(std::string_view net, const synth::Candidate& c) {
   if (net == "in")
     return stage > 1 ? fmt::format("the input side (toward stage {})", stage - 1)
                      : std::string("the input side (toward the signal source)");
-  if (net == "out") return stage > 0 ? fmt::format("the output side (toward stage {} or the load)", stage + 1)
-                                     : std::string("the output side (toward the load)");
+  if (net == "out")
+    return stage > 0 && static_cast<std::size_t>(stage) < stage_count
+               ? fmt::format("the output side (toward stage {})", stage + 1)
+               : std::string("the output side (toward the load)");
   if (net == "x") {
     const std::string upper = jfet ? "RS1" : "RE1";
     const std::string lower_role = jfet ? "RS2" : "RE2";
@@ -375,8 +377,8 @@ PickList make_pick_list(const synth::Candidate& c, int copies, const std::vector
         const auto& r = roles[i];
         pol.minus_net = std::string(rp.plus_net == r.pos_net ? r.neg_net : r.pos_net);
       }
-      pol.plus = net_for_people(pol.plus_net, *sc);
-      pol.minus = pol.minus_net.empty() ? std::string("the other end") : net_for_people(pol.minus_net, *sc);
+      pol.plus = net_for_people(pol.plus_net, *sc, stage_list.size());
+      pol.minus = pol.minus_net.empty() ? std::string("the other end") : net_for_people(pol.minus_net, *sc, stage_list.size());
       pol.text = fmt::format("{} ({}, {} {}): + lead to {}, - lead to {}", pol.designator, rp.role,
                              synth::compact_value(rp.combo.nominal, false),
                              rp.dielectric.empty() ? std::string("polarised") : rp.dielectric, pol.plus, pol.minus);

@@ -107,7 +107,9 @@ bool bin_less(std::string_view a, std::string_view b);
 /// (RE1–RE2 for a BJT; the source or emitter when RS1/RE1 is left out), "in" -> "the input
 /// side (toward the signal source)", "out" -> "the output side (toward the load)", "drain"
 /// -> "the drain of Q1", ...
-std::string net_for_people(std::string_view net, const synth::Candidate& c);
+/// In a chain's stage (its parts carry the stage number) the transistor is Q101, Q201 ...,
+/// and "in"/"out" face the neighbouring stages (stage_count: stages in the chain).
+std::string net_for_people(std::string_view net, const synth::Candidate& c, std::size_t stage_count = 1);
 
 /// The value of a pick or short item as bench notes write it: "4k7", "100n", or the device.
 std::string item_value_text(store::PartKind kind, double value, std::string_view device);
