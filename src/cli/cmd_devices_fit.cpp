@@ -144,8 +144,9 @@ void setup_devices_fit(CLI::App& devices_cmd, Context& ctx) {
       "--label or --store keeps it as a measured piece with the larger of its two relative\n"
       "uncertainties, for `design --piece LABEL`.\n"
       "With --json: {\"schema\":1,\"idss\",\"vp\",\"idss_uncertainty\",\"vp_uncertainty\",...,\"readings\":[...]}.\n"
-      "  shelfstage devices fit --self-bias 220:0.481 --self-bias 2k2:1.31\n"
-      "  shelfstage devices fit --self-bias 100:0.35 --self-bias 1k:1.1 --self-bias 4k7:1.6 --device SJ-101 --label J4");
+      "  shelfstage devices fit --self-bias 100:0.2116 --self-bias 2k2:0.9041\n"
+      "  shelfstage devices fit --self-bias 100:0.2116 --self-bias 470:0.5385 --self-bias 2k2:0.9041 \\\n"
+      "      --device SJ-101 --label J4");
   cmd->callback([o, &ctx] { run_devices_fit(*o, ctx); });
 }
 

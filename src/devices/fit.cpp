@@ -23,11 +23,12 @@ using units::Unit;
 /// Gate and source voltages as datasheets write them ("-1.45V"), other figures in notation.
 std::string volts_text(double v) { return fmt::format("{:.3g}V", v); }
 
-/// "reading 2 (RS 1kΩ, VS 0.8V)": the reading as the person gave it, counted from 1.
-std::string reading_text(std::size_t i, const SelfBiasReading& r) {
-  return fmt::format("self-bias reading {} (RS {}, VS {})", i + 1, units::format_value(r.rs_ohm, Unit::ohm),
-                     volts_text(r.vs_v));
+/// "2 (RS 1kΩ, VS 0.8V)" and "self-bias reading 2 (RS 1kΩ, VS 0.8V)": the reading as the
+/// person gave it, counted from 1.
+std::string reading_figures(std::size_t i, const SelfBiasReading& r) {
+  return fmt::format("{} (RS {}, VS {})", i + 1, units::format_value(r.rs_ohm, Unit::ohm), volts_text(r.vs_v));
 }
+std::string reading_text(std::size_t i, const SelfBiasReading& r) { return "self-bias reading " + reading_figures(i, r); }
 
 /// The square law across one source resistor: |VS| and its derivatives with respect to
 /// ln IDSS and ln |VP|, and d ln VS / d ln RS.
@@ -244,8 +245,9 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
   check_order(readings, x_v, accuracy);
   const std::size_t lo_i = static_cast<std::size_t>(rs_lo - rs.begin());
   const std::size_t hi_i = static_cast<std::size_t>(rs_hi - rs.begin());
-  const std::string span_text =
-      fmt::format("{} to {}", reading_text(lo_i, readings[lo_i]), reading_text(hi_i, readings[hi_i]));
+  // "self-bias readings 1 (RS 100Ω, VS 0.21V) to 3 (RS 2.2kΩ, VS 0.9V)": the smallest and largest RS.
+  const std::string span_text = fmt::format("self-bias readings {} to {}", reading_figures(lo_i, readings[lo_i]),
+                                            reading_figures(hi_i, readings[hi_i]));
 
   // --- NOTES 1: the straight line sqrt(ID) = a - b |VS| ---
   const auto n = static_cast<double>(readings.size());
