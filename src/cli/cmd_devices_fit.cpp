@@ -25,7 +25,7 @@ struct DevicesFitOptions {
   std::optional<std::string> kind, device, label;
   bool store = false;
   std::string meter = "0.5%", rs_tol = "1%";
-  std::optional<std::string> note;
+  std::optional<std::string> note, drain_supply, lambda;
 };
 
 /// "1k:0.82" -> {1000, 0.82}; "470:-0.35" for a P-channel piece.
@@ -70,7 +70,16 @@ void run_devices_fit(const DevicesFitOptions& o, Context& ctx) {
     kind = record->kind;
   }
 
-  const auto fit = devices::fit_self_bias(readings, kind, accuracy);
+  devices::BenchConditions bench;
+  if (o.drain_supply) bench.drain_supply_v = parse_quantity("--drain-supply", *o.drain_supply, Unit::volt);
+  if (o.lambda) {
+    if (!o.drain_supply)
+      throw InputError(fmt::format("--lambda '{}' goes with --drain-supply (lambda acts through VDS)", *o.lambda));
+    bench.lambda_per_v = parse_quantity("--lambda", *o.lambda, Unit::none);
+  } else if (record) {
+    bench.lambda_per_v = record->jfet.lambda_per_v;
+  }
+  const auto fit = devices::fit_self_bias(readings, kind, accuracy, bench);
 
   std::optional<devices::MeasuredPiece> piece;
   if (record) {
@@ -95,14 +104,14 @@ void run_devices_fit(const DevicesFitOptions& o, Context& ctx) {
   const auto departures = piece ? warn_departures(*record, *piece, ctx) : std::vector<std::string>{};
 
   if (ctx.global.json) {
-    auto doc = fit_json(fit, accuracy);
+    auto doc = fit_json(fit, accuracy, bench);
     doc["device"] = record ? nlohmann::ordered_json(record->name) : nlohmann::ordered_json(nullptr);
     doc["departures"] = departures;
     doc["piece"] = store ? piece_json(*piece) : nlohmann::ordered_json(nullptr);
     print_json(ctx, doc);
     return;
   }
-  ctx.out << fit_text(fit, accuracy);
+  ctx.out << fit_text(fit, accuracy, bench);
   if (record) {
     ctx.out << fmt::format("{} {}'s datasheet range (IDSS {}, VP {}).\n",
                            departures.empty() ? "Within" : "Outside", record->name,
@@ -126,6 +135,10 @@ void setup_devices_fit(CLI::App& devices_cmd, Context& ctx) {
   cmd->add_option("--label", o->label, "Store the piece under this label (needs --device)")->type_name("LABEL");
   cmd->add_flag("--store", o->store, "Store the piece under the next free label DEVICE-N (needs --device)");
   cmd->add_option("--note", o->note, "Free text kept with a stored piece")->type_name("TEXT");
+  cmd->add_option("--drain-supply", o->drain_supply, "The drain supply of the readings: refers IDSS to VDS = 0")
+      ->type_name("V");
+  cmd->add_option("--lambda", o->lambda, "Channel-length modulation for --drain-supply (default: the --device's)")
+      ->type_name("1/V");
   cmd->add_option("--meter-accuracy", o->meter, "Voltmeter accuracy, a share of the reading (default 0.5%)")
       ->type_name("PERCENT");
   cmd->add_option("--rs-tol", o->rs_tol, "Source resistor tolerance (default 1%, metal film)")->type_name("PERCENT");
@@ -140,6 +153,9 @@ void setup_devices_fit(CLI::App& devices_cmd, Context& ctx) {
       "--meter-accuracy and --rs-tol, each a bound on every reading; with three or more readings\n"
       "they widen when the readings scatter more than those allow. Readings no square-law piece\n"
       "gives (a larger RS with a smaller VS or a larger ID, ...) are refused, naming them.\n"
+      "IDSS comes out at the bench's drain-source voltage; with --drain-supply (and lambda from\n"
+      "--lambda or the --device) it is referred to VDS = 0, as designs take it, and a supply\n"
+      "below |VP| (the piece out of saturation) is refused.\n"
       "With --device the piece is compared with the type's datasheet (warnings on standard error);\n"
       "--label or --store keeps it as a measured piece with the larger of its two relative\n"
       "uncertainties, for `design --piece LABEL`.\n"

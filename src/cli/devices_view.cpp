@@ -162,7 +162,8 @@ std::string signed_volts(double v, double reading) {
 }  // namespace
 }  // namespace detail
 
-std::string fit_text(const devices::SelfBiasFit& fit, const devices::ReadingAccuracy& accuracy) {
+std::string fit_text(const devices::SelfBiasFit& fit, const devices::ReadingAccuracy& accuracy,
+                     const devices::BenchConditions& bench) {
   std::string out = fmt::format("{} from {} self-bias readings\n", devices::kind_name(fit.kind), fit.readings.size());
   TextTable figures({{""}, {"", Align::right}, {""}});
   figures.add_row({"IDSS", quantity_text(fit.idss_a, Unit::ampere),
@@ -194,10 +195,17 @@ std::string fit_text(const devices::SelfBiasFit& fit, const devices::ReadingAccu
                        fit.widened_by_scatter ? ", which widens it" : "");
   }
   out += ".\n";
+  if (bench.drain_supply_v) {
+    out += fmt::format("IDSS at VDS = 0 (lambda {:g}/V, drain supply {}).\n", bench.lambda_per_v,
+                       quantity_text(*bench.drain_supply_v, Unit::volt));
+  } else {
+    out += "IDSS at the bench's drain-source voltage (--drain-supply refers it to VDS = 0).\n";
+  }
   return out;
 }
 
-nlohmann::ordered_json fit_json(const devices::SelfBiasFit& fit, const devices::ReadingAccuracy& accuracy) {
+nlohmann::ordered_json fit_json(const devices::SelfBiasFit& fit, const devices::ReadingAccuracy& accuracy,
+                                const devices::BenchConditions& bench) {
   nlohmann::ordered_json readings = nlohmann::ordered_json::array();
   for (const auto& r : fit.readings) {
     readings.push_back({{"rs", r.rs_ohm}, {"vs", r.vs_v}, {"id", r.id_a}, {"fitted_vs", r.fitted_vs_v},
@@ -215,6 +223,9 @@ nlohmann::ordered_json fit_json(const devices::SelfBiasFit& fit, const devices::
           {"coverage_factor", 2},
           {"meter_accuracy", accuracy.meter},
           {"rs_tol", accuracy.resistor},
+          {"drain_supply", bench.drain_supply_v ? nlohmann::ordered_json(*bench.drain_supply_v)
+                                                : nlohmann::ordered_json(nullptr)},
+          {"lambda", bench.lambda_per_v},
           {"scatter", fit.readings.size() > 2 ? nlohmann::ordered_json(fit.scatter) : nlohmann::ordered_json(nullptr)},
           {"readings", std::move(readings)},
           {"notes", fit.notes}};

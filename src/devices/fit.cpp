@@ -36,22 +36,40 @@ struct SelfBiasPoint {
   double vs_v = 0;
   double d_ln_idss = 0;  ///< d|VS| / d ln IDSS, volts
   double d_ln_vp = 0;    ///< d|VS| / d ln |VP|, volts
-  double rs_gain = 0;    ///< d ln|VS| / d ln RS = 1/(1 + gm RS)
+  double rs_gain = 0;    ///< d ln|VS| / d ln RS = 1/(1 + gm RS) without lambda
 };
 
-SelfBiasPoint self_bias_point(double idss_a, double vp_abs_v, double rs_ohm) {
-  // u = |VS|/|VP| solves c (1 - u)^2 = u with c = RS IDSS/|VP|; the root below 1 written as
-  // 2c / ((2c + 1) + sqrt(4c + 1)) (the product of the two roots is 1), stable for small c.
+/// u = |VS|/|VP| solves F(u) = c (1 - u)^2 m(u) - u = 0, c = RS IDSS/|VP|, with the channel-
+/// length factor m(u) = 1 + lambda (VDD - |VP| u) (1 without a drain supply). Without lambda the
+/// root below 1 is 2c / ((2c + 1) + sqrt(4c + 1)) (the product of the two roots is 1; stable
+/// for small c); with it, a few Newton steps from there (lambda |VP| is small). Derivatives
+/// by the implicit function theorem: du/dt = -(dF/dt)/(dF/du).
+SelfBiasPoint self_bias_point(double idss_a, double vp_abs_v, double rs_ohm, const BenchConditions& bench) {
   const double c = rs_ohm * idss_a / vp_abs_v;
-  const double u = 2.0 * c / ((2.0 * c + 1.0) + std::sqrt(4.0 * c + 1.0));
-  const double one_minus = 1.0 - u;
-  const double gm_rs = 2.0 * c * one_minus;  // gm RS, gm = 2 IDSS (1 - u)/|VP|
-  const double du_dc = one_minus * one_minus / (1.0 + gm_rs);
-  return {vp_abs_v * u, vp_abs_v * c * du_dc, vp_abs_v * (u - c * du_dc), 1.0 / (1.0 + gm_rs)};
+  const double lambda = bench.drain_supply_v ? bench.lambda_per_v : 0.0;
+  const double vdd = bench.drain_supply_v ? std::abs(*bench.drain_supply_v) : 0.0;
+  auto m = [&](double u) { return 1.0 + lambda * (vdd - vp_abs_v * u); };
+  auto root = [](double k) { return 2.0 * k / ((2.0 * k + 1.0) + std::sqrt(4.0 * k + 1.0)); };
+  double u = root(c * m(0.0));
+  auto dF_du = [&](double x) {
+    return c * (-2.0 * (1.0 - x) * m(x) - (1.0 - x) * (1.0 - x) * lambda * vp_abs_v) - 1.0;
+  };
+  for (int it = 0; lambda != 0.0 && it < 50; ++it) {
+    const double f = c * (1.0 - u) * (1.0 - u) * m(u) - u;
+    const double next = std::clamp(u - f / dF_du(u), 0.0, 1.0);
+    const bool done = std::abs(next - u) <= 1e-15;
+    u = next;
+    if (done) break;
+  }
+  const double fu = dF_du(u);
+  const double dF_dln_idss = u;                                                   // c (1-u)^2 m = u
+  const double dF_dln_vp = -u - c * (1.0 - u) * (1.0 - u) * lambda * vp_abs_v * u;  // c ~ 1/|VP|, m
+  const double du_dln_idss = -dF_dln_idss / fu, du_dln_vp = -dF_dln_vp / fu;
+  return {vp_abs_v * u, vp_abs_v * du_dln_idss, vp_abs_v * (u + du_dln_vp), -1.0 / fu};
 }
 
 /// The weighted relative residuals of the readings against a piece (ln IDSS, ln |VP|), and
-/// their Jacobian. `x_v` are the readings' magnitudes.
+/// their Jacobian.
 struct Weighted {
   Eigen::VectorXd r;
   Eigen::MatrixX2d j;
@@ -64,35 +82,41 @@ constexpr double kOutlierSigmas = 4.0;
 /// No reading is taken as more exact than this (a floor that keeps zero stated accuracy finite).
 constexpr double kSigmaFloor = 1e-6;
 
-Weighted weigh(const std::vector<double>& rs, const std::vector<double>& x_v, double ln_idss, double ln_vp,
-               double sigma_meter, double sigma_resistor) {
-  const auto n = static_cast<Eigen::Index>(rs.size());
-  Weighted w{Eigen::VectorXd(n), Eigen::MatrixX2d(n, 2), 0};
-  const double idss = std::exp(ln_idss), vp = std::exp(ln_vp);
-  for (Eigen::Index i = 0; i < n; ++i) {
-    const auto k = static_cast<std::size_t>(i);
-    const SelfBiasPoint p = self_bias_point(idss, vp, rs[k]);
-    const double sigma = std::max(kSigmaFloor, std::hypot(sigma_meter, p.rs_gain * sigma_resistor));
-    const double scale = 1.0 / (x_v[k] * sigma);
-    w.r(i) = (x_v[k] - p.vs_v) * scale;
-    w.j(i, 0) = -p.d_ln_idss * scale;
-    w.j(i, 1) = -p.d_ln_vp * scale;
-  }
-  w.cost = w.r.squaredNorm();
-  return w;
-}
-
-/// The readings as the fit sees them: resistors, |VS|, and the standard uncertainties.
+/// The readings as the fit sees them: resistors, |VS|, the standard uncertainties and the bench.
 struct Readings {
   std::vector<double> rs_ohm, vs_abs_v;
   double sigma_meter = 0, sigma_resistor = 0;
+  BenchConditions bench;
   Readings without(std::size_t i) const {
     Readings r = *this;
     r.rs_ohm.erase(r.rs_ohm.begin() + static_cast<std::ptrdiff_t>(i));
     r.vs_abs_v.erase(r.vs_abs_v.begin() + static_cast<std::ptrdiff_t>(i));
     return r;
   }
+  Readings only(std::size_t i) const {
+    Readings r = *this;
+    r.rs_ohm = {rs_ohm[i]};
+    r.vs_abs_v = {vs_abs_v[i]};
+    return r;
+  }
 };
+
+Weighted weigh(const Readings& p, double ln_idss, double ln_vp) {
+  const auto n = static_cast<Eigen::Index>(p.rs_ohm.size());
+  Weighted w{Eigen::VectorXd(n), Eigen::MatrixX2d(n, 2), 0};
+  const double idss = std::exp(ln_idss), vp = std::exp(ln_vp);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    const auto k = static_cast<std::size_t>(i);
+    const SelfBiasPoint pt = self_bias_point(idss, vp, p.rs_ohm[k], p.bench);
+    const double sigma = std::max(kSigmaFloor, std::hypot(p.sigma_meter, pt.rs_gain * p.sigma_resistor));
+    const double scale = 1.0 / (p.vs_abs_v[k] * sigma);
+    w.r(i) = (p.vs_abs_v[k] - pt.vs_v) * scale;
+    w.j(i, 0) = -pt.d_ln_idss * scale;
+    w.j(i, 1) = -pt.d_ln_vp * scale;
+  }
+  w.cost = w.r.squaredNorm();
+  return w;
+}
 
 struct Refined {
   double ln_idss = 0, ln_vp = 0;
@@ -101,7 +125,7 @@ struct Refined {
 
 /// NOTES 2: Gauss-Newton with step halving from a start, until the step vanishes.
 Refined refine(const Readings& p, double ln_idss, double ln_vp) {
-  Weighted w = weigh(p.rs_ohm, p.vs_abs_v, ln_idss, ln_vp, p.sigma_meter, p.sigma_resistor);
+  Weighted w = weigh(p, ln_idss, ln_vp);
   const double ln_limit = std::log(10.0 * std::max(kFitMaxVpV, kFitMaxIdssA));
   for (int it = 0; it < 200; ++it) {
     const Eigen::Matrix2d normal = w.j.transpose() * w.j;
@@ -110,8 +134,7 @@ Refined refine(const Readings& p, double ln_idss, double ln_vp) {
     double f = 1.0;
     bool better = false;
     for (int h = 0; h < 40; ++h, f *= 0.5) {
-      Weighted trial =
-          weigh(p.rs_ohm, p.vs_abs_v, ln_idss + f * step(0), ln_vp + f * step(1), p.sigma_meter, p.sigma_resistor);
+      Weighted trial = weigh(p, ln_idss + f * step(0), ln_vp + f * step(1));
       if (trial.cost <= w.cost) {
         ln_idss += f * step(0);
         ln_vp += f * step(1);
@@ -137,13 +160,11 @@ std::optional<std::pair<std::size_t, double>> lone_outlier(const Readings& p, co
   std::optional<std::pair<std::size_t, double>> best;
   double best_cost = std::numeric_limits<double>::infinity();
   for (std::size_t i = 0; i < n; ++i) {
-    const Readings rest = p.without(i);
-    const Refined f = refine(rest, full.ln_idss, full.ln_vp);
+    const Refined f = refine(p.without(i), full.ln_idss, full.ln_vp);
     if (!(f.w.cost < best_cost)) continue;
     best_cost = f.w.cost;
     // The left-out reading against the others' law.
-    const Weighted one = weigh({p.rs_ohm[i]}, {p.vs_abs_v[i]}, f.ln_idss, f.ln_vp, p.sigma_meter, p.sigma_resistor);
-    best = std::pair{i, std::abs(one.r(0))};
+    best = std::pair{i, std::abs(weigh(p.only(i), f.ln_idss, f.ln_vp).r(0))};
   }
   const double rest_scatter = std::sqrt(best_cost / static_cast<double>(n - 3));
   if (!best || rest_scatter > 2.0 || best->second <= kOutlierSigmas) return std::nullopt;
@@ -199,19 +220,28 @@ double SelfBiasFit::piece_uncertainty() const {
   return round_up_2(std::max(rel_idss, rel_vp));
 }
 
-double self_bias_source_voltage(double idss_a, double vp_abs_v, double rs_ohm) {
+double self_bias_source_voltage(double idss_a, double vp_abs_v, double rs_ohm, const BenchConditions& bench) {
   if (!(idss_a > 0) || !(vp_abs_v > 0) || !(rs_ohm >= 0))
     throw InputError(fmt::format("self-bias: IDSS {:g}, |VP| {:g} and RS {:g} must be above zero", idss_a,
                                  vp_abs_v, rs_ohm));
-  return self_bias_point(idss_a, vp_abs_v, rs_ohm).vs_v;
+  return self_bias_point(idss_a, vp_abs_v, rs_ohm, bench).vs_v;
 }
 
 SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind kind,
-                          const ReadingAccuracy& accuracy) {
+                          const ReadingAccuracy& accuracy, const BenchConditions& bench) {
   if (!is_jfet(kind))
     throw InputError(fmt::format("kind {} is not a JFET: self-bias readings fit JFETs only", kind_name(kind)));
   check_fraction("meter accuracy", accuracy.meter);
   check_fraction("resistor tolerance", accuracy.resistor);
+  if (!std::isfinite(bench.lambda_per_v) || bench.lambda_per_v < 0 || bench.lambda_per_v > 0.2)
+    throw InputError(fmt::format("lambda {:g}/V must lie between 0 and 0.2/V", bench.lambda_per_v));
+  if (bench.drain_supply_v) {
+    const double vdd = *bench.drain_supply_v;
+    if (!std::isfinite(vdd) || vdd == 0)
+      throw InputError(fmt::format("drain supply {} must not be zero", volts_text(vdd)));
+    if (kind == DeviceKind::njfet && vdd < 0)
+      throw InputError(fmt::format("drain supply {}: an N-channel drain needs a positive supply", volts_text(vdd)));
+  }
   if (readings.size() < 2)
     throw InputError(fmt::format("self-bias readings: {} given, two or more are needed (two resistors fix IDSS and VP)",
                                  readings.size()));
@@ -235,6 +265,9 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
       throw InputError(fmt::format("{}: give every P-channel reading as measured (negative) or every one as a "
                                    "magnitude, not a mixture",
                                    reading_text(i, r)));
+    if (bench.drain_supply_v && std::abs(r.vs_v) >= std::abs(*bench.drain_supply_v))
+      throw InputError(fmt::format("{}: the source cannot sit at or beyond the drain supply {}", reading_text(i, r),
+                                   volts_text(*bench.drain_supply_v)));
     rs.push_back(r.rs_ohm);
     x_v.push_back(std::abs(r.vs_v));
   }
@@ -270,7 +303,7 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
   }
 
   // --- NOTES 2: Gauss-Newton on the weighted source voltages ---
-  const Readings problem{rs, x_v, accuracy.meter / std::sqrt(3.0), accuracy.resistor / std::sqrt(3.0)};
+  const Readings problem{rs, x_v, accuracy.meter / std::sqrt(3.0), accuracy.resistor / std::sqrt(3.0), bench};
   const Refined fitted = refine(problem, 2.0 * std::log(a), std::log(a / b));
   const double ln_idss = fitted.ln_idss, ln_vp = fitted.ln_vp;
   const Weighted& w = fitted.w;
@@ -287,6 +320,13 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
         span_text, units::format_value(out.idss_a, Unit::ampere), volts_text(vp),
         units::format_value(kFitMaxIdssA, Unit::ampere), volts_text(kFitMaxVpV),
         units::format_value(x_v[lo_i] / rs[lo_i], Unit::ampere), units::format_value(x_v[hi_i] / rs[hi_i], Unit::ampere)));
+  }
+
+  if (bench.drain_supply_v && std::abs(*bench.drain_supply_v) < vp) {
+    throw InputError(fmt::format(
+        "drain supply {} is below the fitted |VP| {}: the piece was not in saturation, where the square law "
+        "holds; take the readings again with the drain supply well above |VP|",
+        volts_text(*bench.drain_supply_v), volts_text(vp)));
   }
 
   // --- NOTES 3: uncertainty ---
@@ -319,7 +359,7 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
     f.rs_ohm = rs[i];
     f.vs_v = sign * x_v[i];
     f.id_a = x_v[i] / rs[i];
-    f.fitted_vs_v = sign * self_bias_source_voltage(out.idss_a, vp, rs[i]);
+    f.fitted_vs_v = sign * self_bias_source_voltage(out.idss_a, vp, rs[i], bench);
     f.residual_v = f.vs_v - f.fitted_vs_v;
     out.readings.push_back(f);
   }

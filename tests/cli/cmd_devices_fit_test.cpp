@@ -56,6 +56,30 @@ TEST_CASE("devices fit: readings simulated in ngspice give back IDSS 2.9 mA and 
   CHECK(text.out.find("2.2kΩ") != std::string::npos);
 }
 
+TEST_CASE("devices fit --drain-supply: with the type's lambda, IDSS referred to VDS = 0 (ngspice with LAMBDA)") {
+  // The same piece with the SJ-101's lambda, 0.005/V (NJF VTO=-1.45 BETA=1.37931m
+  // LAMBDA=0.005, drain on 12 V, `.op`): V(source) 0.2207 V at 100 ohms, 0.5523 V at 470,
+  // 0.9154 V at 2k2. Without the supply the fitted IDSS is the one at VDS near 11.5 V, about
+  // 0.005*11.5 = 5.7 % above BETA*VTO^2; with it, IDSS at VDS = 0.
+  DemoShelf shelf;
+  const std::vector<std::string> readings{"--self-bias", "100:0.2207", "--self-bias", "470:0.5523",
+                                          "--self-bias", "2k2:0.9154", "--device", "SJ-101"};
+  const auto bench = shelf.json(with({"devices", "fit"}, readings));
+  CHECK(bench["drain_supply"].is_null());
+  CHECK(bench["idss"].get<double>() / 2.9e-3 - 1 == doctest::Approx(0.057).epsilon(0.1));
+  const auto referred = shelf.json(with({"devices", "fit", "--drain-supply", "12"}, readings));
+  CHECK(referred["lambda"].get<double>() == doctest::Approx(0.005));
+  CHECK(referred["idss"].get<double>() == doctest::Approx(2.9e-3).epsilon(0.01));
+  CHECK(referred["vp"].get<double>() == doctest::Approx(-1.45).epsilon(0.01));
+  // A supply below |VP| means the readings were not taken in saturation.
+  const auto low = shelf.run(with({"devices", "fit", "--drain-supply", "1"}, readings));
+  CHECK(low.status == 1);
+  CHECK(low.err.find("error: drain supply 1V is below the fitted |VP|") == 0);
+  const auto stray = shelf.run(with({"devices", "fit", "--lambda", "0.01"}, readings));
+  CHECK(stray.status == 1);
+  CHECK(stray.err == "error: --lambda '0.01' goes with --drain-supply (lambda acts through VDS)\n");
+}
+
 TEST_CASE("devices fit: a P-channel piece's negative readings give a positive VP") {
   // ngspice PJF VTO=-1.6 BETA=2.5m LAMBDA=0 (IDSS 6.4 mA, VP +1.6 V), drain on -12 V, `.op`:
   // V(source) -0.2912 V at 68 ohms, -0.6873 V at 330, -1.0667 V at 1k5 (rounded to four digits).

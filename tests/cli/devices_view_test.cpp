@@ -95,7 +95,7 @@ TEST_CASE("fit text and JSON: the figures with their uncertainty, each reading w
   const std::vector<devices::SelfBiasReading> readings{{500, 1.0}, {3000, 1.5}};
   const devices::ReadingAccuracy acc{0.005, 0.01};
   const auto fit = devices::fit_self_bias(readings, DeviceKind::njfet, acc);
-  const auto text = fit_text(fit, acc);
+  const auto text = fit_text(fit, acc, {});
   CHECK(text.starts_with("NJFET from 2 self-bias readings\n"));
   CHECK(text.find("IDSS    8mA  ± ") != std::string::npos);
   CHECK(text.find("VP      -2V  ± ") != std::string::npos);
@@ -104,7 +104,12 @@ TEST_CASE("fit text and JSON: the figures with their uncertainty, each reading w
   CHECK(text.find("meter accuracy 0.5% and the\nresistor tolerance 1%.") != std::string::npos);
   CHECK(text.find("scatter") == std::string::npos);  // two readings: nothing to scatter
 
-  const auto j = fit_json(fit, acc);
+  CHECK(text.find("IDSS at the bench's drain-source voltage") != std::string::npos);
+  CHECK(fit_text(fit, acc, {0.005, 12.0}).find("IDSS at VDS = 0 (lambda 0.005/V, drain supply 12V).") !=
+        std::string::npos);
+
+  const auto j = fit_json(fit, acc, {});
+  CHECK(j["drain_supply"].is_null());
   CHECK(j["schema"] == 1);
   CHECK(j["idss"].get<double>() == doctest::Approx(8e-3));
   CHECK(j["vp"].get<double>() == doctest::Approx(-2.0));

@@ -133,6 +133,40 @@ TEST_CASE("ngspice: channel-length modulation moves the fitted IDSS by (1 + lamb
                       100 * (fit2.idss_a / idss - 1), 100 * (fit2.vp_v / vp - 1), fit2.scatter));
   CHECK(rel_err(fit2.vp_v, vp) < 0.01);
   CHECK(rel_err(fit2.idss_a, idss * (1 + lambda * mean_vds)) < 0.01);
+
+  // Told the drain supply and lambda, the fit models ngspice's law itself and gives IDSS at
+  // VDS = 0 (BETA*VTO^2), as the models here take it.
+  const auto fit3 = fit_self_bias(supplied, DeviceKind::njfet, {}, {lambda, 15.0});
+  MESSAGE(fmt::format("drain on 15 V, lambda given: IDSS error {:.2e}, VP error {:.2e}", rel_err(fit3.idss_a, idss),
+                      rel_err(fit3.vp_v, vp)));
+  CHECK(rel_err(fit3.idss_a, idss) < 0.01);
+  CHECK(rel_err(fit3.vp_v, vp) < 0.01);
+  CHECK(rel_err(fit3.idss_a, idss) < 1e-6);
+  CHECK(rel_err(fit3.vp_v, vp) < 1e-6);
+  for (const auto& r : fit3.readings) {
+    CHECK(std::abs(r.residual_v) < 1e-6);
+    CHECK(r.fitted_vs_v == doctest::Approx(self_bias_source_voltage(fit3.idss_a, 2.2, r.rs_ohm, {lambda, 15.0})));
+  }
+}
+
+TEST_CASE("ngspice: a P-channel piece with lambda on a -12 V drain supply, referred to VDS = 0") {
+  // PJF VTO=-1.6 BETA=2.5m LAMBDA=0.02 (IDSS = 6.4 mA at VDS = 0, VP +1.6 V).
+  const double lambda = 0.02;
+  const auto readings = spice_readings(fmt::format(".model jmod pjf(vto=-1.6 beta=2.5e-3 lambda={})", lambda),
+                                       "vdd{i} d{i} 0 -12", {68, 330, 1500});
+  const auto fit = fit_self_bias(readings, DeviceKind::pjfet, {}, {lambda, -12.0});
+  CHECK(rel_err(fit.idss_a, 6.4e-3) < 1e-6);
+  CHECK(rel_err(fit.vp_v, 1.6) < 1e-6);
+}
+
+TEST_CASE("ngspice: readings taken below pinch-off's drain voltage (triode) are refused when the supply is given") {
+  // NJF VTO=-2.2 with the drain on 1 V: VDS stays below VGS - VTO, the piece works as a
+  // resistor, not on the saturation square law. Told the supply, the fit says so.
+  const auto readings = spice_readings(".model jmod njf(vto=-2.2 beta=0.74e-3 lambda=0)", "vdd{i} d{i} 0 1",
+                                       {100, 470, 2200});
+  const std::string e = error_of([&] { fit_self_bias(readings, DeviceKind::njfet, {}, {0.0, 1.0}); });
+  CHECK_MESSAGE(e.starts_with("drain supply 1V is below the fitted |VP|"), e);
+  CHECK(e.find("not in saturation") != std::string::npos);
 }
 
 TEST_CASE("Two readings on IDSS 8 mA, VP -2 V: the figures exactly (hand computation)") {
@@ -288,6 +322,13 @@ TEST_CASE("Readings no square-law piece can give are refused, naming the reading
         std::string::npos);
   // The current hardly changes with RS: a square law through it pinches off near 400 V.
   CHECK(error_of([&] { fit({{1000, 1.0}, {2000, 1.99}}); }).find("beyond any small-signal JFET") != std::string::npos);
+  // The drain supply: of the wrong sign, or below a reading.
+  CHECK(error_of([&] { fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.01, -9.0}); }) ==
+        "drain supply -9V: an N-channel drain needs a positive supply");
+  CHECK(error_of([&] { fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.01, 0.9}); }) ==
+        "self-bias reading 2 (RS 1kΩ, VS 1V): the source cannot sit at or beyond the drain supply 0.9V");
+  CHECK(error_of([&] { fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.5, 9.0}); }) ==
+        "lambda 0.5/V must lie between 0 and 0.2/V");
   // Accuracy options out of range.
   CHECK(error_of([&] { fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {0.7, 0.01}); })
             .find("meter accuracy 70%") != std::string::npos);

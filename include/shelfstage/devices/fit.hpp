@@ -2,6 +2,7 @@
 // BJT's hFE from its base and collector currents, and how a measured piece compares with its
 // datasheet.
 #pragma once
+#include <optional>
 #include <span>
 #include <string>
 #include <vector>
@@ -31,6 +32,16 @@ struct ReadingAccuracy {
   /// Source resistor tolerance, a fraction. Default 1 %: metal film (DOMAIN.md, section 3).
   /// Resistors measured with the meter: pass the meter's accuracy.
   double resistor = 0.01;
+};
+
+/// How the piece was wired on the bench, beyond the readings themselves. Without a drain
+/// supply the fitted IDSS is the piece's at the bench's drain-source voltage (as a datasheet
+/// states IDSS at its own VDS). With one, the fit models channel-length modulation, ID =
+/// IDSS (1 - VGS/VP)^2 (1 + lambda VDS) with VDS = VDD - |VS| (SPICE level 1), so IDSS comes out
+/// at VDS = 0 as the models here take it; and it checks that the piece was in saturation.
+struct BenchConditions {
+  double lambda_per_v = 0;              ///< 1/V, the type's figure; used with a drain supply only
+  std::optional<double> drain_supply_v; ///< drain to ground; signed by the kind or a magnitude
 };
 
 /// Limits beyond which a fitted piece is no small-signal JFET but a sign of wrong readings
@@ -99,14 +110,17 @@ struct SelfBiasFit {
 ///     kind; a pair in which the larger RS does not give the larger |VS| and the smaller ID
 ///     (beyond what the stated accuracy allows; every JFET's current falls as its gate goes
 ///     more negative); a line with ID not falling as |VS| grows; a fit beyond kFitMaxIdssA or
-///     kFitMaxVpV.
-/// Throws InputError for those; kind must be a JFET kind and the accuracies fractions in [0, 0.5].
+///     kFitMaxVpV. With a drain supply: a source at or above it, or a supply below the fitted
+///     |VP| (the piece was not in saturation, where the square law holds).
+/// Throws InputError for those; kind must be a JFET kind, the accuracies fractions in
+/// [0, 0.5], lambda in [0, 0.2] per volt.
 SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind kind = DeviceKind::njfet,
-                          const ReadingAccuracy& accuracy = {});
+                          const ReadingAccuracy& accuracy = {}, const BenchConditions& bench = {});
 
 /// |VS| of a square-law piece self-biased with the gate at ground and rs_ohm from source to
-/// ground (saturation, no channel-length modulation): the root with |VS| < |VP|.
-double self_bias_source_voltage(double idss_a, double vp_abs_v, double rs_ohm);
+/// ground, in saturation: the root with |VS| < |VP|. With bench.drain_supply_v, channel-length
+/// modulation as in BenchConditions (idss_a is then the VDS = 0 figure).
+double self_bias_source_voltage(double idss_a, double vp_abs_v, double rs_ohm, const BenchConditions& bench = {});
 
 /// hFE = IC/IB from a measured base and collector current (magnitudes). Throws InputError when
 /// either is not above zero or not finite, or when IB is not below IC.

@@ -20,6 +20,9 @@ devices fit --self-bias 1k:1
 --db @DB@ devices import @SRC@/data-demo/devices.csv
 --db @DB@ stock import @SRC@/data-demo/stock.csv
 --db @DB@ devices fit --self-bias 100:0.2116 --self-bias 470:0.5385 --self-bias 2k2:0.9041 --device SJ-101 --label J9
+# The same piece simulated with the SJ-101's lambda (0.005/V, drain on 12 V): told the supply,
+# the fit refers IDSS to VDS = 0 and gives back 2.9 mA; without it, IDSS at the bench's VDS.
+--db @DB@ devices fit --self-bias 100:0.2207 --self-bias 470:0.5523 --self-bias 2k2:0.9154 --device SJ-101 --drain-supply 12
 --db @DB@ devices measure SJ-101 --idss 2.9m --vp 1.45
 --db @DB@ devices measure SJ-101 --idss 7m --vp -1.45 --label hot
 --db @DB@ devices measure SQ-410 --ib 10u --ic 2.87m --uncertainty 5%
