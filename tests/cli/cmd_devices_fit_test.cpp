@@ -2,6 +2,7 @@
 // stored, and designed for (their narrower spread shows in the worst-case gain).
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <cmath>
 
 #include "shelf_fixture.hpp"
@@ -27,6 +28,17 @@ double worst_gain_span(const nlohmann::json& design) {
   const auto& c = design.at("candidates").at(0);
   const auto& w = c.at("worst").at("gain");
   return std::abs(w[1].get<double>() - w[0].get<double>()) / std::abs(c.at("nominal").at("gain").get<double>());
+}
+
+/// The command exits 1 with one line `error: ...` that contains `says`, and prints nothing else.
+void check_refused(const DemoShelf& shelf, const std::vector<std::string>& args, const std::string& says) {
+  const auto r = shelf.run(args);
+  CAPTURE(r.err);
+  CHECK(r.status == 1);
+  CHECK(r.out.empty());
+  CHECK(r.err.starts_with("error: "));
+  CHECK(r.err.find(says) != std::string::npos);
+  CHECK(std::count(r.err.begin(), r.err.end(), '\n') == 1);
 }
 
 }  // namespace
@@ -129,18 +141,10 @@ TEST_CASE("devices fit --device --label stores the piece; design --piece shows i
 }
 
 TEST_CASE("devices fit: impossible readings and misuse are refused with one error line, nothing stored") {
-  DemoShelf shelf;
+  const DemoShelf shelf;
   REQUIRE(shelf.run({"devices", "measure", "SJ-101", "--idss", "2.9m", "--vp", "-1.45", "--label", "J1"}).status == 0);
   const auto before = shelf.json({"devices", "list"})["pieces"].size();
-  auto refused = [&](std::vector<std::string> args, const std::string& says) {
-    const auto r = shelf.run(std::move(args));
-    CAPTURE(r.err);
-    CHECK(r.status == 1);
-    CHECK(r.out.empty());
-    CHECK(r.err.starts_with("error: "));
-    CHECK(r.err.find(says) != std::string::npos);
-    CHECK(std::count(r.err.begin(), r.err.end(), '\n') == 1);
-  };
+  auto refused = [&](std::vector<std::string> args, const std::string& says) { check_refused(shelf, args, says); };
   refused({"devices", "fit", "--self-bias", "1k:1", "--self-bias", "2k2:0.8", "--device", "SJ-101", "--label", "X1"},
           "self-bias reading 1 (RS 1kΩ, VS 1V) and self-bias reading 2 (RS 2.2kΩ, VS 0.8V) contradict each other");
   refused({"devices", "fit", "--self-bias", "1k:1"}, "two or more are needed");
@@ -194,16 +198,10 @@ TEST_CASE("devices measure: a BJT's hFE given, or IC/IB from two currents") {
 }
 
 TEST_CASE("devices measure: misuse is refused with one error line, nothing stored") {
-  DemoShelf shelf;
+  const DemoShelf shelf;
   REQUIRE(shelf.run({"devices", "measure", "SJ-101", "--idss", "2.9m", "--vp", "-1.45", "--label", "J1"}).status == 0);
   const auto before = shelf.json({"devices", "list"})["pieces"].size();
-  auto refused = [&](std::vector<std::string> args, const std::string& says) {
-    const auto r = shelf.run(std::move(args));
-    CAPTURE(r.err);
-    CHECK(r.status == 1);
-    CHECK(r.err.starts_with("error: "));
-    CHECK(r.err.find(says) != std::string::npos);
-  };
+  auto refused = [&](std::vector<std::string> args, const std::string& says) { check_refused(shelf, args, says); };
   refused({"devices", "measure", "SQ-410", "--ib", "1m", "--ic", "1m"}, "must be below the collector current");
   refused({"devices", "measure", "SQ-410", "--ib", "0", "--ic", "1m"}, "base current IB 0A must be above zero");
   refused({"devices", "measure", "SQ-410", "--ib", "10u"}, "--ib '10u' needs --ic as well");
