@@ -204,6 +204,34 @@ void check_order(std::span<const SelfBiasReading> readings, const std::vector<do
   }
 }
 
+/// Checks each reading on its own (NOTES 4) and gives the resistors and the |VS|.
+void check_each(std::span<const SelfBiasReading> readings, DeviceKind kind, const BenchConditions& bench,
+                std::vector<double>& rs, std::vector<double>& x_v) {
+  const bool n_channel = kind == DeviceKind::njfet;
+  const bool p_negative = !n_channel && readings.front().vs_v < 0;
+  for (std::size_t i = 0; i < readings.size(); ++i) {
+    const auto& r = readings[i];
+    if (!std::isfinite(r.rs_ohm) || r.rs_ohm <= 0)
+      throw InputError(fmt::format("{}: RS must be above zero", reading_text(i, r)));
+    if (!std::isfinite(r.vs_v) || r.vs_v == 0)
+      throw InputError(fmt::format("{}: VS must not be zero (no drain current flows: is the drain supplied?)",
+                                   reading_text(i, r)));
+    if (n_channel && r.vs_v < 0)
+      throw InputError(fmt::format("{}: an N-channel source sits above ground; a negative reading means swapped "
+                                   "meter leads or a P-channel part",
+                                   reading_text(i, r)));
+    if (!n_channel && (r.vs_v < 0) != p_negative)
+      throw InputError(fmt::format("{}: give every P-channel reading as measured (negative) or every one as a "
+                                   "magnitude, not a mixture",
+                                   reading_text(i, r)));
+    if (bench.drain_supply_v && std::abs(r.vs_v) >= std::abs(*bench.drain_supply_v))
+      throw InputError(fmt::format("{}: the source cannot sit at or beyond the drain supply {}", reading_text(i, r),
+                                   volts_text(*bench.drain_supply_v)));
+    rs.push_back(r.rs_ohm);
+    x_v.push_back(std::abs(r.vs_v));
+  }
+}
+
 /// Rounds a positive fraction up to two significant digits (0.02345 -> 0.024).
 double round_up_2(double x) {
   if (!(x > 0) || !std::isfinite(x)) return x;
@@ -248,29 +276,8 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
 
   // --- each reading on its own ---
   const bool n_channel = kind == DeviceKind::njfet;
-  const bool p_negative = !n_channel && readings.front().vs_v < 0;
   std::vector<double> rs, x_v;  // resistor, |VS|
-  for (std::size_t i = 0; i < readings.size(); ++i) {
-    const auto& r = readings[i];
-    if (!std::isfinite(r.rs_ohm) || r.rs_ohm <= 0)
-      throw InputError(fmt::format("{}: RS must be above zero", reading_text(i, r)));
-    if (!std::isfinite(r.vs_v) || r.vs_v == 0)
-      throw InputError(fmt::format("{}: VS must not be zero (no drain current flows: is the drain supplied?)",
-                                   reading_text(i, r)));
-    if (n_channel && r.vs_v < 0)
-      throw InputError(fmt::format("{}: an N-channel source sits above ground; a negative reading means swapped "
-                                   "meter leads or a P-channel part",
-                                   reading_text(i, r)));
-    if (!n_channel && (r.vs_v < 0) != p_negative)
-      throw InputError(fmt::format("{}: give every P-channel reading as measured (negative) or every one as a "
-                                   "magnitude, not a mixture",
-                                   reading_text(i, r)));
-    if (bench.drain_supply_v && std::abs(r.vs_v) >= std::abs(*bench.drain_supply_v))
-      throw InputError(fmt::format("{}: the source cannot sit at or beyond the drain supply {}", reading_text(i, r),
-                                   volts_text(*bench.drain_supply_v)));
-    rs.push_back(r.rs_ohm);
-    x_v.push_back(std::abs(r.vs_v));
-  }
+  check_each(readings, kind, bench, rs, x_v);
   const auto [rs_lo, rs_hi] = std::minmax_element(rs.begin(), rs.end());
   if (*rs_hi <= *rs_lo * (1 + 1e-9))
     throw InputError(fmt::format("self-bias readings: every one uses RS {}; two different source resistors are needed",
