@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <cerrno>
 #include <charconv>
+#include <cmath>
 #include <cstring>
 #include <filesystem>
 #include <fstream>
@@ -89,6 +90,23 @@ std::string name_field(std::string_view message, std::string_view field) {
     return fmt::format("{}: {}", field, message);
   }
   return std::string(field) + std::string(message.substr(space));
+}
+
+double parse_fraction(std::string_view field, std::string_view text) {
+  std::string_view s = detail::trim(text);
+  const bool percent = !s.empty() && s.back() == '%';
+  if (percent) s = detail::trim(s.substr(0, s.size() - 1));
+  double v = 0;
+  if (!units::try_parse_value(s, v) || !std::isfinite(v)) {
+    throw InputError(fmt::format("{} '{}' is not a percentage or fraction (3% or 0.03)", field, text));
+  }
+  if (v < 0) throw InputError(fmt::format("{} '{}' must not be negative", field, text));
+  if (percent) return v / 100.0;
+  if (v >= 1.0) {
+    throw InputError(fmt::format("{} '{}' reads as {:g} %; write {}% if that is meant", field, text, v * 100.0,
+                                 detail::trim(text)));
+  }
+  return v;
 }
 
 devices::Range parse_range(std::string_view field, std::string_view text, units::Unit unit) {

@@ -24,6 +24,11 @@ double parse_quantity(std::string_view field, std::string_view text, units::Unit
 /// replaced by the option or column the person typed it into ("--volts '6,3': ...").
 std::string name_field(std::string_view message, std::string_view field);
 
+/// A fraction written as a percentage ("3%", "0.5 %") or as a plain fraction ("0.03"), as
+/// the pieces CSV's uncertainty column reads it. A plain number of 1 or more is refused
+/// (write 3% for three percent); so are negative or non-finite values. The error names the field.
+double parse_fraction(std::string_view field, std::string_view text);
+
 /// A datasheet range "MIN..MAX" (either order; the ends as parse_quantity reads them), or
 /// one value for both ends. The result has min <= max.
 devices::Range parse_range(std::string_view field, std::string_view text, units::Unit unit);

@@ -221,11 +221,14 @@ void setup_devices(CLI::App& parent, Context& ctx) {
   cmd->footer(
       "A device type holds the datasheet's ranges (IDSS and VGS(off) for a JFET, hFE for a BJT)\n"
       "and a few model figures; designs are checked across the whole range. A measured piece\n"
-      "narrows the range to the bench reading. Stock lines of transistors name a type.\n"
+      "narrows the range to the bench reading (`devices measure`, or `devices fit` from\n"
+      "self-bias readings). Stock lines of transistors name a type.\n"
       "Run `shelfstage devices COMMAND --help` for each command.");
   setup_devices_add(*cmd, ctx);
   setup_devices_list(*cmd, ctx);
   setup_devices_import(*cmd, ctx);
+  setup_devices_measure(*cmd, ctx);
+  setup_devices_fit(*cmd, ctx);
 }
 
 }  // namespace shelfstage::cli

@@ -71,6 +71,9 @@ void setup_builds(CLI::App& parent, Context& ctx);
 void setup_ledger(CLI::App& parent, Context& ctx);
 void setup_shop(CLI::App& parent, Context& ctx);
 void setup_report(CLI::App& parent, Context& ctx);
+// Subcommands of `devices` with a file of their own (cmd_devices_<name>.cpp), added by setup_devices.
+void setup_devices_fit(CLI::App& devices_cmd, Context& ctx);
+void setup_devices_measure(CLI::App& devices_cmd, Context& ctx);
 
 /// Writes a JSON document on ctx.out (indented two spaces, then a newline).
 void print_json(Context& ctx, const nlohmann::ordered_json& doc);

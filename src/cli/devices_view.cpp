@@ -3,6 +3,8 @@
 
 #include <fmt/format.h>
 
+#include <cmath>
+
 #include "shelfstage/report/table.hpp"
 
 namespace shelfstage::cli {
@@ -137,6 +139,96 @@ nlohmann::ordered_json piece_json(const MeasuredPiece& p) {
           {"idss", detail::or_null(p.idss_a)}, {"vp", detail::or_null(p.vp_v)},
           {"hfe", detail::or_null(p.hfe)},     {"uncertainty", p.uncertainty},
           {"note", p.note}};
+}
+
+namespace detail {
+namespace {
+
+std::string percent_text(double fraction) { return fmt::format("{:.2g}%", 100.0 * fraction); }
+
+/// "±61.5uA (1.7%)": an uncertainty in notation and as a share of the value.
+std::string plus_minus(double value, double uncertainty, Unit unit, std::string_view suffix = "") {
+  return fmt::format("± {}{} ({})", units::format_value(uncertainty, unit), suffix,
+                     percent_text(uncertainty / std::abs(value)));
+}
+
+/// A residual with its sign: "+1.2mV", "-35uV"; "0V" below a part in 1e9 of the reading
+/// (rounding, far below any meter's resolution).
+std::string signed_volts(double v, double reading) {
+  if (std::abs(v) <= 1e-9 * std::abs(reading)) return "0V";
+  return (v > 0 ? "+" : "-") + units::format_value(std::abs(v), Unit::volt);
+}
+
+}  // namespace
+}  // namespace detail
+
+std::string fit_text(const devices::SelfBiasFit& fit, const devices::ReadingAccuracy& accuracy,
+                     const devices::BenchConditions& bench) {
+  std::string out = fmt::format("{} from {} self-bias readings\n", devices::kind_name(fit.kind), fit.readings.size());
+  TextTable figures({{""}, {"", Align::right}, {""}});
+  figures.add_row({"IDSS", quantity_text(fit.idss_a, Unit::ampere),
+                   detail::plus_minus(fit.idss_a, fit.idss_uncertainty_a, Unit::ampere)});
+  figures.add_row({"VP", quantity_text(fit.vp_v, Unit::volt),
+                   detail::plus_minus(fit.vp_v, fit.vp_uncertainty_v, Unit::volt)});
+  // Transconductance as datasheets write gfs: mA/V.
+  figures.add_row({"gm0", units::format_value(fit.gm0_s, Unit::ampere) + "/V",
+                   detail::plus_minus(fit.gm0_s, fit.gm0_uncertainty_s, Unit::ampere, "/V") + "  = 2 IDSS/|VP|"});
+  // The figures need no header: render without the rule and drop the (empty) title line.
+  std::string rows = figures.render({.indent = "  ", .rule = false});
+  out += rows.substr(rows.find('\n') + 1);
+  const report::TableLayout layout{.indent = "  "};
+
+  TextTable readings({{"#", Align::right}, {"RS", Align::right}, {"VS", Align::right}, {"ID", Align::right},
+                      {"FITTED VS", Align::right}, {"RESIDUAL", Align::right}});
+  for (std::size_t i = 0; i < fit.readings.size(); ++i) {
+    const auto& r = fit.readings[i];
+    readings.add_row({std::to_string(i + 1), units::format_value(r.rs_ohm, Unit::ohm), quantity_text(r.vs_v, Unit::volt),
+                      units::format_value(r.id_a, Unit::ampere), quantity_text(r.fitted_vs_v, Unit::volt),
+                      detail::signed_volts(r.residual_v, r.vs_v)});
+  }
+  out += "\n" + readings.render(layout);
+  out += fmt::format("\n± is the expanded uncertainty (k = 2, about 95 %) from the meter accuracy {} and the\n"
+                     "resistor tolerance {}",
+                     detail::percent_text(accuracy.meter), detail::percent_text(accuracy.resistor));
+  if (fit.readings.size() > 2) {
+    out += fmt::format("; the readings scatter {:.2g} times as much as those allow{}", fit.scatter,
+                       fit.widened_by_scatter ? ", which widens it" : "");
+  }
+  out += ".\n";
+  if (bench.drain_supply_v) {
+    out += fmt::format("IDSS at VDS = 0 (lambda {:g}/V, drain supply {}).\n", bench.lambda_per_v,
+                       quantity_text(*bench.drain_supply_v, Unit::volt));
+  } else {
+    out += "IDSS at the bench's drain-source voltage (--drain-supply refers it to VDS = 0).\n";
+  }
+  return out;
+}
+
+nlohmann::ordered_json fit_json(const devices::SelfBiasFit& fit, const devices::ReadingAccuracy& accuracy,
+                                const devices::BenchConditions& bench) {
+  nlohmann::ordered_json readings = nlohmann::ordered_json::array();
+  for (const auto& r : fit.readings) {
+    readings.push_back({{"rs", r.rs_ohm}, {"vs", r.vs_v}, {"id", r.id_a}, {"fitted_vs", r.fitted_vs_v},
+                        {"residual", r.residual_v}});
+  }
+  return {{"schema", 1},
+          {"kind", devices::kind_name(fit.kind)},
+          {"idss", fit.idss_a},
+          {"vp", fit.vp_v},
+          {"idss_uncertainty", fit.idss_uncertainty_a},
+          {"vp_uncertainty", fit.vp_uncertainty_v},
+          {"gm0", fit.gm0_s},
+          {"gm0_uncertainty", fit.gm0_uncertainty_s},
+          {"correlation", fit.correlation},
+          {"coverage_factor", 2},
+          {"meter_accuracy", accuracy.meter},
+          {"rs_tol", accuracy.resistor},
+          {"drain_supply", bench.drain_supply_v ? nlohmann::ordered_json(*bench.drain_supply_v)
+                                                : nlohmann::ordered_json(nullptr)},
+          {"lambda", bench.lambda_per_v},
+          {"scatter", fit.readings.size() > 2 ? nlohmann::ordered_json(fit.scatter) : nlohmann::ordered_json(nullptr)},
+          {"readings", std::move(readings)},
+          {"notes", fit.notes}};
 }
 
 nlohmann::ordered_json devices_json(const std::vector<DeviceRecord>& records,

@@ -5,6 +5,7 @@
 #include <string>
 #include <vector>
 
+#include "shelfstage/devices/fit.hpp"
 #include "shelfstage/devices/record.hpp"
 #include "shelfstage/units/notation.hpp"
 
@@ -35,5 +36,18 @@ nlohmann::ordered_json piece_json(const devices::MeasuredPiece& piece);
 /// {"schema":1,"devices":[...],"pieces":[...]}.
 nlohmann::ordered_json devices_json(const std::vector<devices::DeviceRecord>& records,
                                     const std::vector<devices::MeasuredPiece>& pieces);
+
+/// What `devices fit` prints: IDSS, VP and gm0 with their expanded uncertainties, the
+/// readings with the fitted source voltage and the residual, and how the uncertainty was made.
+std::string fit_text(const devices::SelfBiasFit& fit, const devices::ReadingAccuracy& accuracy,
+                     const devices::BenchConditions& bench);
+
+/// {"schema":1,"kind","idss","vp","idss_uncertainty","vp_uncertainty","gm0","gm0_uncertainty",
+/// "correlation","coverage_factor":2,"meter_accuracy","rs_tol","drain_supply" (null when not
+/// given: IDSS is then the bench VDS's),"lambda","scatter" (null with two readings),
+/// "readings":[{"rs","vs","id","fitted_vs","residual"}],"notes":[...]}: plain SI, vp and vs
+/// signed as on a datasheet (negative for N-channel VP, negative P-channel VS).
+nlohmann::ordered_json fit_json(const devices::SelfBiasFit& fit, const devices::ReadingAccuracy& accuracy,
+                                const devices::BenchConditions& bench);
 
 }  // namespace shelfstage::cli

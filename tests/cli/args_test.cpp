@@ -73,6 +73,18 @@ TEST_CASE("parse_range: datasheet ranges in either order") {
   CHECK(message_of([] { parse_range("--idss", "1m..x", units::Unit::ampere); }).starts_with("--idss 'x': "));
 }
 
+TEST_CASE("parse_fraction: a percentage or a plain fraction, as the pieces CSV reads uncertainty") {
+  CHECK(parse_fraction("--uncertainty", "3%") == doctest::Approx(0.03));
+  CHECK(parse_fraction("--uncertainty", " 0.5 % ") == doctest::Approx(0.005));
+  CHECK(parse_fraction("--uncertainty", "0.03") == doctest::Approx(0.03));
+  CHECK(parse_fraction("--rs-tol", "0%") == 0.0);
+  CHECK(message_of([] { parse_fraction("--uncertainty", "3"); }) ==
+        "--uncertainty '3' reads as 300 %; write 3% if that is meant");
+  CHECK(message_of([] { parse_fraction("--uncertainty", "-1%"); }) == "--uncertainty '-1%' must not be negative");
+  CHECK(message_of([] { parse_fraction("--meter-accuracy", "half"); }) ==
+        "--meter-accuracy 'half' is not a percentage or fraction (3% or 0.03)");
+}
+
 TEST_CASE("read_input: a file, standard input, or an error naming the file") {
   test::TempDir dir;
   const auto file = dir / "stock.csv";

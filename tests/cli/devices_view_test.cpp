@@ -88,3 +88,33 @@ TEST_CASE("device JSON keys are the device CSV's column names (INTERFACE.md), va
   CHECK(b["is"].get<double>() == doctest::Approx(1.5e-14));
   CHECK(doc["pieces"].is_array());
 }
+
+TEST_CASE("fit text and JSON: the figures with their uncertainty, each reading with its residual") {
+  // Hand computation (tests/devices/fit_test.cpp): IDSS 8 mA and VP -2 V give 1 V across 500
+  // ohms and 1.5 V across 3 kohms, so these two readings fit that piece exactly.
+  const std::vector<devices::SelfBiasReading> readings{{500, 1.0}, {3000, 1.5}};
+  const devices::ReadingAccuracy acc{0.005, 0.01};
+  const auto fit = devices::fit_self_bias(readings, DeviceKind::njfet, acc);
+  const auto text = fit_text(fit, acc, {});
+  CHECK(text.starts_with("NJFET from 2 self-bias readings\n"));
+  CHECK(text.find("IDSS    8mA  ± ") != std::string::npos);
+  CHECK(text.find("VP      -2V  ± ") != std::string::npos);
+  CHECK(text.find("gm0   8mA/V") != std::string::npos);  // 2 IDSS/|VP| = 8 mA/V
+  CHECK(text.find("  2   3kΩ  1.5V  500uA       1.5V        0V\n") != std::string::npos);
+  CHECK(text.find("meter accuracy 0.5% and the\nresistor tolerance 1%.") != std::string::npos);
+  CHECK(text.find("scatter") == std::string::npos);  // two readings: nothing to scatter
+
+  CHECK(text.find("IDSS at the bench's drain-source voltage") != std::string::npos);
+  CHECK(fit_text(fit, acc, {0.005, 12.0}).find("IDSS at VDS = 0 (lambda 0.005/V, drain supply 12V).") !=
+        std::string::npos);
+
+  const auto j = fit_json(fit, acc, {});
+  CHECK(j["drain_supply"].is_null());
+  CHECK(j["schema"] == 1);
+  CHECK(j["idss"].get<double>() == doctest::Approx(8e-3));
+  CHECK(j["vp"].get<double>() == doctest::Approx(-2.0));
+  CHECK(j["scatter"].is_null());
+  CHECK(j["coverage_factor"] == 2);
+  CHECK(j["readings"][0]["id"].get<double>() == doctest::Approx(2e-3));
+  CHECK(j["readings"][1]["rs"].get<double>() == doctest::Approx(3000));
+}
