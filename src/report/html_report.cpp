@@ -2,6 +2,8 @@
 // stylesheet, and each section built from the analysis, the curves and the drawing layer.
 #include "shelfstage/report/html_report.hpp"
 
+#include "html_parts.hpp"
+
 #include <fmt/format.h>
 
 #include <algorithm>
@@ -13,17 +15,22 @@
 #include "shelfstage/report/analysis.hpp"
 #include "shelfstage/report/curves.hpp"
 #include "shelfstage/report/design_text.hpp"
+#include "shelfstage/stages/chain.hpp"
 #include "shelfstage/synth/shelf.hpp"
 #include "shelfstage/units/notation.hpp"
 
 namespace shelfstage::report {
 
-namespace {
-
-using units::format_value;
-using units::Unit;
+namespace html {
 
 std::string esc(std::string_view s) { return draw::xml_escape(s); }
+
+int chain_stage_of(const synth::Candidate& c) { return c.parts.empty() ? 0 : c.parts.front().stage; }
+
+std::string transistor_designator(const synth::Candidate& c) {
+  const int stage = chain_stage_of(c);
+  return stage > 0 ? stages::chain_designator(static_cast<std::size_t>(stage - 1), "Q1") : std::string("Q1");
+}
 
 std::string volts(double v) { return format_value(v, Unit::volt); }
 std::string amps(double v) { return format_value(v, Unit::ampere); }
@@ -51,6 +58,7 @@ bool p_type(devices::DeviceKind k) { return k == devices::DeviceKind::pjfet || k
 
 // The page's style: our own palette (ink, paper, brick), grid layouts that collapse for
 // print. No character in it needs escaping in XML (no '<' or '&').
+extern const char* const kStyle;
 const char* const kStyle = R"css(
 :root { --ink: #1d2b3a; --muted: #5b6474; --accent: #9a3412; --rule: #d9dce3; --paper: #fffdf8; --band: #f3efe4; }
 * { box-sizing: border-box; }
@@ -98,7 +106,7 @@ footer { margin-top: 28px; font-size: 12px; color: var(--muted); border-top: 1px
 /// A table from a header and rows; cells are escaped; a header starting with '#' is numeric
 /// (right-aligned, the '#' dropped).
 std::string table(const std::vector<std::string>& head, const std::vector<std::vector<std::string>>& rows,
-                  const std::vector<std::string>& row_class = {}) {
+                  const std::vector<std::string>& row_class) {
   std::string h = "<table><thead><tr>";
   std::vector<bool> numeric;
   for (const auto& c : head) {
@@ -193,7 +201,11 @@ std::string header_section(const ReportInput& in, const Analysis& a) {
 
 std::string schematic_section(const ReportInput& in) {
   const auto& c = in.candidate;
-  const circuit::Circuit net = c.topology->netlist(c.values, c.nominal_device, c.conditions);
+  const int stage = chain_stage_of(c);
+  const circuit::Circuit net =
+      stage > 0 ? stages::chain_stage_netlist({c.topology, c.values, c.nominal_device}, static_cast<std::size_t>(stage - 1),
+                                              c.conditions)
+                : c.topology->netlist(c.values, c.nominal_device, c.conditions);
   const auto s = draw::lay_out(net, schematic_notes(c));
   return "<section id=\"schematic\"><h2>Schematic</h2>" +
          figure(draw::schematic_svg(s, fmt::format("Schematic of {} with {}", c.topology->name(), c.device.name)),
@@ -475,7 +487,7 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
     rows.push_back({p.designator, p.name, value, recipe, p.info.tol, p.info.dielectric, stress, rating, use, plus, check});
     cls.push_back(k);
   }
-  rows.push_back({"Q1", "device", c.device.name + (c.piece ? " (" + c.piece->label + ")" : ""), kind_text(c.device.kind),
+  rows.push_back({transistor_designator(c), "device", c.device.name + (c.piece ? " (" + c.piece->label + ")" : ""), kind_text(c.device.kind),
                   "", "", fmt::format("{} at {}", amps(a.best().bias_current_a), volts(std::abs(a.best().v_out - a.best().v_common))),
                   "", "", "", "\u2014"});
   cls.emplace_back();
@@ -570,7 +582,9 @@ std::string cautions_section(const ReportInput& in, const Analysis& a) {
   return h + "</ul></section>";
 }
 
-}  // namespace
+}  // namespace html
+
+using namespace html;
 
 draw::SchematicOptions schematic_notes(const synth::Candidate& c) {
   draw::SchematicOptions o;
@@ -593,7 +607,7 @@ draw::SchematicOptions schematic_notes(const synth::Candidate& c) {
     }
     o.notes[rp.designator] = n;
   }
-  o.notes["Q1"] = {c.device.name + (c.piece ? " " + c.piece->label : ""), kind_text(c.device.kind), false, ""};
+  o.notes[transistor_designator(c)] = {c.device.name + (c.piece ? " " + c.piece->label : ""), kind_text(c.device.kind), false, ""};
   o.notes["VDD"] = {volts(c.conditions.supply_v), "supply", false, ""};
   o.notes["VSIG"] = {"signal", "", false, ""};
   o.notes["RSIG"] = {c.conditions.source_ohm > 0 ? synth::compact_value(c.conditions.source_ohm, true) : "0 (ideal)",
@@ -604,6 +618,7 @@ draw::SchematicOptions schematic_notes(const synth::Candidate& c) {
 
 std::string html_report(const ReportInput& in) {
   const auto& c = in.candidate;
+  if (c.is_chain()) return chain_html_report(in);
   if (!c.topology) throw InputError("report: the design has no topology");
   const devices::DeviceSpread spread = synth::spread_of(c);
   const Analysis a = analyze_stage(stage_under_test(c), &spread);

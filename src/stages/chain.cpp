@@ -27,6 +27,43 @@ std::string chain_net(std::size_t stage, std::size_t count, std::string_view net
   return fmt::format("{}{}", net, stage + 1);
 }
 
+namespace {
+
+// Copies one stage's test bench into `out`: designators by chain_designator (bench parts keep
+// theirs), after the first stage no input capacitor (the net it fed joins "in"), nets through
+// `rename`; bench parts only where `bench` allows them.
+template <class Rename, class Bench>
+void append_stage(circuit::Circuit& out, const ChainStage& st, std::size_t k, const Conditions& c, Rename rename,
+                  Bench bench_wanted) {
+  const circuit::Circuit one = st.topology->netlist(st.values, st.q, c);
+  std::size_t jfet = 0, bjt = 0;
+  std::string joined;
+  if (k > 0)
+    for (const auto& el : one.elements())
+      if (el.c.role == "CIN")
+        joined = one.net_name(el.c.pins[0]) == kNetIn ? one.net_name(el.c.pins[1]) : one.net_name(el.c.pins[0]);
+  for (const auto& el : one.elements()) {
+    const auto& e = el.c;
+    if (k > 0 && e.role == "CIN") continue;
+    const bool bench = e.role == "supply" || e.role == "signal" || e.role == "source" || e.role == "load";
+    if (bench && !bench_wanted(e.role)) continue;
+    auto net = [&](std::size_t pin) {
+      const std::string& own = one.net_name(e.pins[pin]);
+      return rename(!joined.empty() && own == joined ? std::string(kNetIn) : own);
+    };
+    const std::string des = bench ? e.designator : chain_designator(k, e.designator);
+    switch (e.kind) {
+      case circuit::ElementKind::resistor: out.resistor(des, e.role, net(0), net(1), e.value); break;
+      case circuit::ElementKind::capacitor: out.capacitor(des, e.role, net(0), net(1), e.value); break;
+      case circuit::ElementKind::vsource: out.vsource(des, e.role, net(0), net(1), e.value, e.ac_volts); break;
+      case circuit::ElementKind::jfet: out.jfet(des, net(0), net(1), net(2), one.jfets()[jfet++]); break;
+      case circuit::ElementKind::bjt: out.bjt(des, net(0), net(1), net(2), one.bjts()[bjt++]); break;
+    }
+  }
+}
+
+}  // namespace
+
 circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditions& c) {
   if (stages.empty()) throw InputError("chain: no stages");
   const double pol = devices::polarity(stages.front().q.kind);
@@ -38,36 +75,19 @@ circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditi
   circuit::Circuit out;
   const std::size_t n = stages.size();
   for (std::size_t k = 0; k < n; ++k) {
-    Conditions ck = c;
-    const circuit::Circuit one = stages[k].topology->netlist(stages[k].values, stages[k].q, ck);
-    std::size_t jfet = 0, bjt = 0;
-    // After the first stage, the input capacitor is left out and the net it fed (gate or
-    // base) joins the link from the previous stage's COUT.
-    std::string joined;
-    if (k > 0)
-      for (const auto& el : one.elements())
-        if (el.c.role == "CIN") joined = one.net_name(el.c.pins[0]) == kNetIn ? one.net_name(el.c.pins[1]) : one.net_name(el.c.pins[0]);
-    for (const auto& el : one.elements()) {
-      const auto& e = el.c;
-      if (k > 0 && e.role == "CIN") continue;
-      // The bench parts once: supply and signal from the first stage, the load on the last.
-      const bool bench = e.role == "supply" || e.role == "signal" || e.role == "source" || e.role == "load";
-      if (bench && e.role == "load" && k + 1 != n) continue;
-      if (bench && e.role != "load" && k != 0) continue;
-      auto net = [&](std::size_t pin) {
-        const std::string& own = one.net_name(e.pins[pin]);
-        return chain_net(k, n, !joined.empty() && own == joined ? std::string(kNetIn) : own);
-      };
-      const std::string des = bench ? e.designator : chain_designator(k, e.designator);
-      switch (e.kind) {
-        case circuit::ElementKind::resistor: out.resistor(des, e.role, net(0), net(1), e.value); break;
-        case circuit::ElementKind::capacitor: out.capacitor(des, e.role, net(0), net(1), e.value); break;
-        case circuit::ElementKind::vsource: out.vsource(des, e.role, net(0), net(1), e.value, e.ac_volts); break;
-        case circuit::ElementKind::jfet: out.jfet(des, net(0), net(1), net(2), one.jfets()[jfet++]); break;
-        case circuit::ElementKind::bjt: out.bjt(des, net(0), net(1), net(2), one.bjts()[bjt++]); break;
-      }
-    }
+    // The bench parts once: supply and signal from the first stage, the load on the last.
+    append_stage(
+        out, stages[k], k, c, [&](const std::string& net) { return chain_net(k, n, net); },
+        [&](const std::string& role) { return role == "load" ? k + 1 == n : k == 0; });
   }
+  return out;
+}
+
+circuit::Circuit chain_stage_netlist(const ChainStage& stage, std::size_t k, const Conditions& c) {
+  if (!stage.topology) throw InputError("chain: a stage has no topology");
+  circuit::Circuit out;
+  append_stage(
+      out, stage, k, c, [](const std::string& net) { return net; }, [](const std::string&) { return true; });
   return out;
 }
 

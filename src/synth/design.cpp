@@ -5,6 +5,7 @@
 #include "shelfstage/synth/design.hpp"
 
 #include <algorithm>
+#include <cctype>
 #include <atomic>
 #include <chrono>
 #include <cmath>
@@ -391,8 +392,14 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
     }
   const devices::MeasuredPiece* piece = nullptr;
   if (spec.piece) {
+    // Labels compare without regard to case, as the database keeps them unique.
+    auto same = [](std::string_view a, std::string_view b) {
+      return a.size() == b.size() && std::equal(a.begin(), a.end(), b.begin(), [](char x, char y) {
+               return std::tolower(static_cast<unsigned char>(x)) == std::tolower(static_cast<unsigned char>(y));
+             });
+    };
     for (const auto& p : inv.pieces)
-      if (p.label == *spec.piece) piece = &p;
+      if (same(p.label, *spec.piece)) piece = &p;
     if (!piece) throw InputError(fmt::format("piece '{}' is not among the measured pieces", *spec.piece));
   }
   std::vector<Job> jobs;

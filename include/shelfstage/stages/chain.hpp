@@ -44,6 +44,11 @@ std::string chain_net(std::size_t stage, std::size_t count, std::string_view net
 /// supply, so they must share one polarity (InputError otherwise).
 circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditions& c);
 
+/// One stage of a chain as its own test bench (supply, a source standing for what drives it,
+/// the load it sees in c), with the chain's designators (R203, Q201) and, after the first
+/// stage, no input capacitor: for drawing and analysing a stage as the chain builds it.
+circuit::Circuit chain_stage_netlist(const ChainStage& stage, std::size_t k, const Conditions& c);
+
 /// The fast evaluation of a chain. Each stage sees the next stage's input impedance as its
 /// load (evaluated from the last stage back to the first), and is driven from the previous
 /// stage's output node (source 0; the first stage from c.source_ohm), so the mid-band gain is
