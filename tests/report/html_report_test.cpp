@@ -5,6 +5,7 @@
 #include "shelfstage/report/html_report.hpp"
 
 #include <doctest/doctest.h>
+#include <fmt/format.h>
 
 #include <filesystem>
 #include <fstream>
@@ -152,6 +153,71 @@ TEST_CASE("html_report: every topology, N and P, renders whole in Chromium") {
       if (rp.polarised) CHECK(dom.find(rp.designator + " (" + rp.role + ") is polarised") != std::string::npos);
     CHECK(dom.find("Hazardous voltage") == std::string::npos);
   }
+  if (std::getenv("SHELFSTAGE_KEEP_REPORTS") == nullptr) std::filesystem::remove_all(dir);
+}
+
+TEST_CASE("html_report: a chain renders whole, the chain first and then each stage as built in it") {
+  const auto inv = test::demo_inventory();
+  // A heavy load at a gain one stage cannot hold: a gain stage, then a follower.
+  synth::Spec spec;
+  spec.gain = 5;
+  spec.load_ohm = 150;
+  spec.supply_lo_v = spec.supply_hi_v = 12;
+  spec.zin_min_ohm = 100e3;
+  spec.band_hz = std::pair{20.0, 20e3};
+  spec.swing_vpp = 1.0;
+  spec.top = 1;
+  spec.mc_samples = 100;
+  const auto r = synth::design(spec, inv);
+  REQUIRE_FALSE(r.candidates.empty());
+  report::ReportInput in;
+  in.spec = spec;
+  in.candidate = r.candidates.front();
+  REQUIRE(in.candidate.is_chain());
+  synth::evaluate_candidate(in.candidate, spec);
+  in.id = in.candidate.id;
+  in.created = "2024-05-01 10:00:00";
+  in.generator = "shelfstage (test)";
+  in.pick = report::make_pick_list(in.candidate, 1, inv.parts);
+  in.bias_samples = 60;
+  const std::string html = report::html_report(in);
+  CHECK(html.find("<script") == std::string::npos);
+  CHECK(html.find("default-src 'none'") != std::string::npos);
+  // Every id once (the stages' sections and plots are renamed s1-..., s2-...), and every
+  // url(#...) reference names one of them.
+  std::map<std::string, int> ids;
+  const std::regex id_re(R"re(id="([^"]+)")re");
+  for (auto it = std::sregex_iterator(html.begin(), html.end(), id_re); it != std::sregex_iterator(); ++it) ++ids[(*it)[1]];
+  for (const auto& [id, n] : ids) CHECK_MESSAGE(n == 1, id);
+  const std::regex ref_re(R"re(url\(#([^)]+)\))re");
+  for (auto it = std::sregex_iterator(html.begin(), html.end(), ref_re); it != std::sregex_iterator(); ++it)
+    CHECK_MESSAGE(ids.count((*it)[1]) == 1, (*it)[1]);
+
+  const std::string dir = temp_dir();
+  const std::string page = dir + "/chain.html";
+  std::ofstream(page, std::ios::binary) << html;
+  const std::string xhtml = dir + "/chain.xhtml";
+  std::ofstream(xhtml, std::ios::binary) << html;
+  CHECK(test::dump_dom(xhtml).find("parsererror") == std::string::npos);
+  const auto run = test::render(page, 1200, 2400);
+  CHECK_MESSAGE(run.console.empty(), run.log);
+  REQUIRE(!run.screenshot.empty());
+  const auto img = test::decode_png(run.screenshot);
+  CHECK(test::distinct_colours(img) > 200);
+  CHECK(test::inked_fraction(img) > 0.5);
+  const std::string dom = test::dump_dom(page);
+  for (const auto& rp : in.candidate.parts) CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
+  for (std::size_t k = 0; k < in.candidate.stages.size(); ++k) {
+    const std::string q = fmt::format("Q{}01", k + 1);
+    CHECK_MESSAGE(dom.find(">" + q + "<") != std::string::npos, q);
+    CHECK(dom.find(fmt::format("<section id=\"s{}-schematic\"", k + 1)) != std::string::npos);
+    CHECK(dom.find(fmt::format("<section id=\"s{}-bias\"", k + 1)) != std::string::npos);
+  }
+  for (const char* id : {"stages", "response", "pick", "cautions"})
+    CHECK_MESSAGE(dom.find(std::string("<section id=\"") + id + "\"") != std::string::npos, id);
+  const std::string pdf = test::print_pdf(page);
+  REQUIRE(pdf.starts_with("%PDF-"));
+  CHECK(test::pdf_pages(pdf) >= 2);
   if (std::getenv("SHELFSTAGE_KEEP_REPORTS") == nullptr) std::filesystem::remove_all(dir);
 }
 
