@@ -45,15 +45,20 @@ DesignResult design_with_purchases(const Spec& spec, const Inventory& inventory,
   s.top = std::max(1, top);
   s.mc_samples = 0;
   DesignResult r = design(s, market);
-  for (auto& c : r.candidates) {
+  // Stock lines first, purchases after; count the pieces only a purchase supplies.
+  auto settle = [](Candidate& c) {
     c.purchases = 0;
-    c.yield.reset();  // no Monte Carlo was run
     for (auto& rp : c.parts) {
       for (auto& lines : rp.lines) {
         std::stable_partition(lines.begin(), lines.end(), [](std::int64_t id) { return !is_purchase_line(id); });
         if (!lines.empty() && std::all_of(lines.begin(), lines.end(), is_purchase_line)) ++c.purchases;
       }
     }
+  };
+  for (auto& c : r.candidates) {
+    settle(c);
+    for (auto& stage : c.stages) settle(stage);  // a chain's pick list reads its stages' parts
+    c.yield.reset();  // no Monte Carlo was run
   }
   r.spec = spec;
   return r;
