@@ -60,6 +60,8 @@ constexpr double kBufferGain = 0.9;
 constexpr int kPoolTop = 8;
 /// Chains carried from the graph to the corner pass, and from there to the exact solver.
 constexpr std::size_t kToCorners = 60, kToExact = 12;
+/// Paths whose last gain stage is redesigned for the exact gain left to it.
+constexpr std::size_t kRefine = 6;
 
 std::vector<Plan> plans_for(const Spec& spec) {
   using enum Slot;
@@ -158,9 +160,10 @@ class ChainSearch {
     s.zin_min_ohm = pos == 0 ? spec_.zin_min_ohm : 0.0;
     s.swing_vpp.reset();
     if (peak > 0) s.swing_vpp = 2.0 * peak;
-    // Each stage flat across twice the band (capacitors for half the lower edge), so the
-    // chain's summed loss at the band edges stays small.
-    if (spec_.band_hz) s.band_hz = std::make_pair(spec_.band_hz->first / 2, spec_.band_hz->second * 2);
+    // Each stage flat across the band with its capacitors sized as for a single stage (the
+    // coupling corners at a quarter of the lower edge); the graph keeps the chains whose
+    // summed loss at the band edges stays within 1 dB.
+    if (spec_.band_hz) s.band_hz = spec_.band_hz;
     s.top = kPoolTop;
     s.search_families = kPoolTop;
     s.search_variants = 3;
@@ -175,11 +178,25 @@ class ChainSearch {
     const stages::Topology* topology = nullptr;
     std::size_t pos = 0;
     double gain = 0, load = 0, peak = 0;
-    std::string key() const { return fmt::format("{}|{}|{:.3g}|{:.2g}|{:.2g}", topology->name(), pos == 0, gain, load, peak); }
+    /// A refinement (see refine()): this gain within spec.gain_tol / 2, this device, the
+    /// input impedance at least zin, the whole shelf offered.
+    bool exact = false;
+    std::string device;
+    double zin = 0;
+    std::string key() const {
+      return fmt::format("{}|{}|{:.4g}|{:.3g}|{:.2g}|{}|{}|{:.2g}", topology->name(), pos == 0, gain, load, peak, exact,
+                         device, zin);
+    }
   };
 
   std::vector<Candidate> design_pool(const PoolRequest& r, SearchStats& stats) const {
-    const Spec s = stage_spec(*r.topology, r.pos, r.gain, r.load, r.peak);
+    Spec s = stage_spec(*r.topology, r.pos, r.gain, r.load, r.peak);
+    if (r.exact) {
+      s.gain_tol = spec_.gain_tol / 2;
+      s.devices = {r.device};
+      s.zin_min_ohm = std::max(s.zin_min_ohm, r.zin);
+      s.search_breadth = 1.0;
+    }
     std::vector<Candidate> found = run_jobs(s, shelf_, make_jobs(s, inv_), stats, {});
     std::vector<Candidate> kept;
     for (auto& c : found) {
@@ -277,7 +294,15 @@ class ChainSearch {
       std::vector<PoolRequest> requests;
       for (const auto* t : topologies(plan[pos]))
         for (const double load : loads)
-          requests.push_back({t, pos, plan[pos] == Slot::gain ? share : kBufferGain, load, peak});
+        {
+          PoolRequest q;
+          q.topology = t;
+          q.pos = pos;
+          q.gain = plan[pos] == Slot::gain ? share : kBufferGain;
+          q.load = load;
+          q.peak = peak;
+          requests.push_back(q);
+        }
       for (const auto* p : pools(requests))
         for (const auto& c : *p) layers[pos].push_back(&c);
       if (layers[pos].empty()) return {};
@@ -297,6 +322,7 @@ class ChainSearch {
           if (devices::polarity(b.device.kind) != pa) continue;
           const double zin = b.nominal.zin_ohm;
           if (!(zin >= 2.0 * a.nominal.zout_ohm)) continue;
+          if (!link_polarity_ok(a, b)) continue;
           stages::Conditions ca = a.conditions;
           ca.load_ohm = zin;
           ca.band_lo_hz = band_lo_;
@@ -335,12 +361,22 @@ class ChainSearch {
     };
     for (const auto v : vs[0]) walk(walk, v, 1.0, 0.0);
     std::sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
+    // The pools' gains are coarse: the best paths get their gain stage nearest the load
+    // redesigned for exactly the gain the other stages leave it.
+    {
+      std::vector<Path> refined;
+      for (std::size_t i = 0; i < paths.size() && i < kRefine; ++i)
+        for (auto& q : refine(paths[i], plan)) refined.push_back(std::move(q));
+      for (auto& q : refined) paths.push_back(std::move(q));
+      std::stable_sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
+    }
 
     std::vector<Candidate> assessed;
     std::size_t tried = 0;
     for (const Path& path : paths) {
       if (tried >= kToCorners) break;
       Candidate ch = link(path);
+      unpolarise_links(ch);
       if (!pool_ok(ch)) {
         ++tally_.failures["stock"];
         continue;
@@ -354,6 +390,55 @@ class ChainSearch {
       if (out.size() >= kToExact) break;
       if (std::any_of(out.begin(), out.end(), [&](const Candidate& k) { return is_variant(k, c); })) continue;
       if (solve_whole(c)) out.push_back(std::move(c));
+    }
+    return out;
+  }
+
+  /// Paths like p with its last gain stage redesigned for the gain the others leave it, into
+  /// the same load, from the same source, keeping the input impedance the stage before needs.
+  std::vector<Path> refine(const Path& p, const Plan& plan) {
+    std::size_t r = plan.size();
+    for (std::size_t k = plan.size(); k-- > 0;)
+      if (plan[k] == Slot::gain) {
+        r = k;
+        break;
+      }
+    if (r == plan.size()) return {};
+    const std::size_t n = p.stages.size();
+    std::vector<stages::ChainStage> list;
+    for (const Candidate* c : p.stages) list.push_back({c->topology, c->values, c->nominal_device});
+    const stages::Conditions cond = conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c());
+    const stages::ChainPerformance cp = stages::evaluate_chain(list, cond, stages::Detail::core);
+    const double others = std::abs(cp.whole.gain / cp.each[r].gain);
+    if (!(others > 0) || !std::isfinite(others)) return {};
+    const Candidate& old = *p.stages[r];
+    PoolRequest req;
+    req.topology = old.topology;
+    req.pos = r;
+    req.gain = spec_.gain / others;
+    req.load = cp.conditions[r].load_ohm;
+    double after = 1.0;
+    for (std::size_t k = r + 1; k < n; ++k) after *= std::abs(cp.each[k].gain);
+    req.peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 / after : 0.0;
+    req.exact = true;
+    req.device = old.device.name;
+    req.zin = r > 0 ? 2.0 * cp.each[r - 1].zout_ohm : 0.0;
+    std::vector<Path> out;
+    for (const Candidate& c : *pools({req}).front()) {
+      Path q = p;
+      q.stages[r] = &c;
+      if (r > 0 && !link_polarity_ok(*q.stages[r - 1], c)) continue;
+      if (r + 1 < n && !link_polarity_ok(c, *q.stages[r + 1])) continue;
+      list[r] = {c.topology, c.values, c.nominal_device};
+      const auto whole = stages::evaluate_chain(list, cond, stages::Detail::core).whole;
+      tally_.evaluations += static_cast<long>(n);
+      if (!whole.valid || !whole.active || whole.loss_lo_db + whole.loss_hi_db > 1.0) continue;
+      const double err = std::abs(std::abs(whole.gain) / spec_.gain - 1.0);
+      int pieces = 0;
+      for (const Candidate* st : q.stages) pieces += st->pieces;
+      q.gain = whole.gain;
+      q.rank = 100.0 * err + kPiecePoints * pieces;
+      out.push_back(std::move(q));
     }
     return out;
   }
@@ -399,6 +484,55 @@ class ChainSearch {
       ch.stages.push_back(std::move(s));
     }
     return ch;
+  }
+
+  /// The DC a coupling capacitor from stage a's output node to stage b's input would hold,
+  /// at the nominal pieces (N frame: positive when a's node sits higher).
+  static double link_dc(const Candidate& a, const Candidate& b) {
+    const auto& role = a.topology->roles()[a.topology->role_index("COUT")];
+    const std::string inner(role.pos_net == stages::kNetOut ? role.neg_net : role.pos_net);
+    const double node = inner == a.topology->node_names()[2] ? a.nominal.v_out : a.nominal.v_common;
+    return devices::polarity(a.device.kind) * (node - b.nominal.v_in);
+  }
+
+  /// Whether a can drive b through its COUT: an electrolytic needs a DC well clear of zero
+  /// (a volt at nominal, so the corners keep its sign), else the shelf must have a
+  /// non-polarised capacitor of its value (unpolarise_links fits it).
+  bool link_polarity_ok(const Candidate& a, const Candidate& b) const {
+    const auto it = std::find_if(a.parts.begin(), a.parts.end(), [](const RolePart& rp) { return rp.role == "COUT"; });
+    if (it == a.parts.end() || !it->polarised) return true;
+    const double dc = link_dc(a, b);
+    if (std::abs(dc) >= 1.0) return true;
+    const double volts = std::max(std::abs(a.nominal.v_out), std::abs(b.nominal.v_in)) + a.nominal.swing_peak_v;
+    return shelf_.capacitor_at_least(it->combo.lo, volts, false) != nullptr;
+  }
+
+  /// A polarised coupling capacitor between two stages holds the difference of their bias
+  /// points, which the corners can reverse when it is small: then a non-polarised one of at
+  /// least its value from the shelf instead, when the shelf has one (common practice: film
+  /// between stages biased near each other).
+  void unpolarise_links(Candidate& ch) const {
+    for (std::size_t k = 0; k + 1 < ch.stages.size(); ++k) {
+      Candidate& s = ch.stages[k];
+      const auto it = std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "COUT"; });
+      if (it == s.parts.end() || !it->polarised) continue;
+      const std::size_t i = s.topology->role_index("COUT");
+      if (std::abs(link_dc(s, ch.stages[k + 1])) >= 1.5) continue;  // well clear: the corner pass decides
+      const double volts =
+          std::max(std::abs(s.nominal.v_out), std::abs(ch.stages[k + 1].nominal.v_in)) + s.nominal.swing_peak_v;
+      const Combo* cb = shelf_.capacitor_at_least(it->combo.lo, volts, false);
+      if (!cb) continue;
+      s.pieces += static_cast<int>(cb->count) - static_cast<int>(it->combo.count);
+      it->combo = *cb;
+      it->values.clear();
+      for (std::size_t j = 0; j < cb->count; ++j) it->values.push_back(shelf_.groups()[cb->group[j]].value);
+      it->tol = {1.0 - cb->lo / cb->nominal, cb->hi / cb->nominal - 1.0};
+      it->rating = cb->rating;
+      it->dielectric = shelf_.groups()[cb->group[0]].dielectric;
+      it->polarised = false;
+      it->plus_net.clear();
+      s.values[i] = cb->nominal;
+    }
   }
 
   /// The corner pass of a linked chain; false (and the reason counted) when it fails.
@@ -566,6 +700,7 @@ std::string chain_exact(Candidate& ch, const Spec& spec) {
     return fmt::format("bias: {}", e.what());
   }
   if (const std::string v = violation(spec, p); !v.empty()) return v;
+  if (!gain_ok(spec, p.gain)) return "gain: the whole chain";
   const double ratio = fast.gain != 0 ? std::abs(p.gain / fast.gain) : 1.0;
   ch.worst.gain.min *= ratio;
   ch.worst.gain.max *= ratio;

@@ -47,6 +47,7 @@ inline synth::Spec request(const std::string& topology, const std::string& devic
   s.swing_vpp = swing_vpp;
   s.topologies = {topology};
   s.devices = {device};
+  s.stages_max = 1;  // one stage of that topology (where a chain would rank first)
   s.top = 1;
   s.mc_samples = 60;
   s.gain_tol = 0.25;
