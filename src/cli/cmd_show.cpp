@@ -85,6 +85,26 @@ std::string yield_text(const synth::Candidate& c, const synth::Spec& spec) {
       *c.yield * 100, spec.mc_samples, spec.seed, spec.gain_tol * 100, report::fixed3(spec.gain));
 }
 
+// The JSON document of `show`: the design, its analysis, cautions, and the response with --plot.
+report::Json show_json(const ShowOptions& o, const store::SavedDesign& saved, const synth::Spec& spec,
+                       const synth::Candidate& c, const report::Json& analysis, const std::vector<std::string>& cautions) {
+  report::Json doc;
+  doc["schema"] = 1;
+  doc["id"] = saved.id;
+  doc["created"] = saved.created;
+  doc["spec"] = report::spec_json(spec);
+  doc["candidate"] = report::candidate_json(c);
+  doc["analysis"] = analysis;
+  doc["cautions"] = cautions;
+  doc["spice"] = o.spice ? report::Json(*o.spice) : report::Json(nullptr);
+  if (o.plot) {
+    const report::Response r = report::frequency_response(c, spec);
+    doc["response"] = {{"f_hz", r.f_hz}, {"gain_db", r.nominal.gain_db}, {"gain_lo_db", r.gain_lo_db},
+                       {"gain_hi_db", r.gain_hi_db}};
+  }
+  return doc;
+}
+
 // A chain: the stages side by side and the whole, then each stage's parts and their stress.
 void show_chain(const ShowOptions& o, Context& ctx, const store::SavedDesign& saved, const synth::Spec& spec,
                 const synth::Candidate& c) {
@@ -98,27 +118,13 @@ void show_chain(const ShowOptions& o, Context& ctx, const store::SavedDesign& sa
   }
   if (o.spice) write_text_file("--spice", *o.spice, report::chain_spice(c));
   if (ctx.global.json) {
-    report::Json doc;
-    doc["schema"] = 1;
-    doc["id"] = saved.id;
-    doc["created"] = saved.created;
-    doc["spec"] = report::spec_json(spec);
-    doc["candidate"] = report::candidate_json(c);
     report::Json list = report::Json::array();
     for (const auto& a : analyses) {
       report::Json j = report::analysis_json(a);
       j.erase("schema");
       list.push_back(std::move(j));
     }
-    doc["analysis"] = {{"stages", list}};
-    doc["cautions"] = c.cautions;
-    doc["spice"] = o.spice ? report::Json(*o.spice) : report::Json(nullptr);
-    if (o.plot) {
-      const report::Response r = report::frequency_response(c, spec);
-      doc["response"] = {{"f_hz", r.f_hz}, {"gain_db", r.nominal.gain_db}, {"gain_lo_db", r.gain_lo_db},
-                         {"gain_hi_db", r.gain_hi_db}};
-    }
-    print_json(ctx, doc);
+    print_json(ctx, show_json(o, saved, spec, c, {{"stages", list}}, c.cautions));
     return;
   }
   ctx.out << fmt::format("Design {} (kept {}): a chain of {} stages, {}\n", saved.id, saved.created, c.stages.size(),
@@ -177,23 +183,9 @@ void run_show(const ShowOptions& o, Context& ctx) {
       if (hazard(s)) cautions.insert(cautions.begin(), s);
 
   if (ctx.global.json) {
-    report::Json doc;
-    doc["schema"] = 1;
-    doc["id"] = saved.id;
-    doc["created"] = saved.created;
-    doc["spec"] = report::spec_json(spec);
-    doc["candidate"] = report::candidate_json(c);
     report::Json analysis = report::analysis_json(a);
     analysis.erase("schema");
-    doc["analysis"] = analysis;
-    doc["cautions"] = cautions;
-    doc["spice"] = o.spice ? report::Json(*o.spice) : report::Json(nullptr);
-    if (o.plot) {
-      const report::Response r = report::frequency_response(c, spec);
-      doc["response"] = {{"f_hz", r.f_hz}, {"gain_db", r.nominal.gain_db}, {"gain_lo_db", r.gain_lo_db},
-                         {"gain_hi_db", r.gain_hi_db}};
-    }
-    print_json(ctx, doc);
+    print_json(ctx, show_json(o, saved, spec, c, analysis, cautions));
     return;
   }
 

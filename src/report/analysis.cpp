@@ -612,11 +612,16 @@ std::string stage_spice(const StageUnderTest& s) {
       if (n != "0") nodes += fmt::format(" v({})", n);
     }
   }
-  o.analyses = {
+  o.analyses = spice_run_lines(nodes);
+  return circuit::to_spice(net, o);
+}
+
+std::vector<std::string> spice_run_lines(const std::string& print_nodes) {
+  return {
       "* Run with: ngspice -b THIS_FILE (prints the operating point, the mid-band gain and the -3 dB corners)",
       ".control",
       "op",
-      "print" + nodes,
+      "print" + print_nodes,
       "let supply_current = abs(i(vdd))",
       "print supply_current",
       "ac dec 20 0.1 1e9",
@@ -626,7 +631,6 @@ std::string stage_spice(const StageUnderTest& s) {
       "meas ac f_high when vdb(out)=$&edge_db fall=last",
       ".endc",
   };
-  return circuit::to_spice(net, o);
 }
 
 }  // namespace shelfstage::report

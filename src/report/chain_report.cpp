@@ -75,21 +75,11 @@ std::string chain_header(const ReportInput& in, const std::vector<std::string>& 
   h += fmt::format("<p class=\"muted\">Request: {}</p>", esc(spec_line(in.spec)));
   h += fmt::format("<p class=\"muted\">Kept {}; every figure below recomputed from the device list as it is now.</p>",
                    esc(in.created));
-  const std::vector<std::pair<std::string, std::string>> cards = {
-      {fmt::format("{} ({})", signed3(p.gain), db(units::to_db(p.gain))), "gain, source to load"},
-      {signed3(c.worst.gain.min) + " \u2026 " + signed3(c.worst.gain.max), "worst-case gain"},
-      {hertz(p.f_low_hz) + " \u2026 " + hertz(p.f_high_hz), "\u22123 dB band"},
-      {volts(p.swing_peak_v), "symmetric output peak"},
-      {ohms(p.zin_ohm), "input impedance"},
-      {ohms(p.zout_ohm), "output impedance"},
-      {amps(p.supply_current_a), "supply current"},
-      {c.yield ? fmt::format("{:.0f} %", *c.yield * 100) : std::string("\u2014"), "Monte Carlo yield"},
-  };
+  const auto cards = figure_cards(p, c.yield, {signed3(c.worst.gain.min) + " \u2026 " + signed3(c.worst.gain.max),
+                                               "worst-case gain"});
+
   h += hazard_box(cautions);
-  h += "<div class=\"strip\">";
-  for (const auto& [value, what] : cards)
-    h += fmt::format("<div class=\"card\"><b>{}</b><span>{}</span></div>", esc(value), esc(what));
-  return h + "</div></header>";
+  return h + card_strip(cards) + "</header>";
 }
 
 std::string stages_section(const ReportInput& in) {

@@ -6,6 +6,7 @@
 
 #include "shelfstage/circuit/spice.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/analysis.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/stages/chain.hpp"
@@ -103,20 +104,7 @@ std::string chain_spice(const synth::Candidate& c) {
       if (n != "0" && nodes.find(" v(" + n + ")") == std::string::npos) nodes += fmt::format(" v({})", n);
     }
   }
-  o.analyses = {
-      "* Run with: ngspice -b THIS_FILE (prints the operating point, the mid-band gain and the -3 dB corners)",
-      ".control",
-      "op",
-      "print" + nodes,
-      "let supply_current = abs(i(vdd))",
-      "print supply_current",
-      "ac dec 20 0.1 1e9",
-      "meas ac gain_mid_db max vdb(out)",
-      "let edge_db = gain_mid_db - 3",
-      "meas ac f_low when vdb(out)=$&edge_db rise=1",
-      "meas ac f_high when vdb(out)=$&edge_db fall=last",
-      ".endc",
-  };
+  o.analyses = spice_run_lines(nodes);
   return circuit::to_spice(net, o);
 }
 

@@ -1,8 +1,10 @@
 // Internal to the report layer: the pieces of the HTML report shared by the single-stage
 // report (html_report.cpp) and the chain report (chain_report.cpp). Not installed.
 #pragma once
+#include <optional>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 #include "shelfstage/report/analysis.hpp"
@@ -39,6 +41,13 @@ std::string figure(const std::string& svg, const std::string& caption);
 std::string range_text(const synth::Range& r, std::string (*f)(double));
 bool is_hazard(const std::string& s);
 std::string hazard_box(const std::vector<std::string>& cautions);
+/// The header's eight figure cards of a performance: gain, `second`, band, swing, Zin,
+/// Zout, supply current, yield.
+std::vector<std::pair<std::string, std::string>> figure_cards(const stages::Performance& p,
+                                                              const std::optional<double>& yield,
+                                                              const std::pair<std::string, std::string>& second);
+/// The header's strip of figure cards: (value, what it is).
+std::string card_strip(const std::vector<std::pair<std::string, std::string>>& cards);
 
 std::string schematic_section(const ReportInput& in);
 std::string response_section(const ReportInput& in, const Response& r);

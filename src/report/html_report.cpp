@@ -158,6 +158,28 @@ std::vector<std::string> all_cautions(const ReportInput& in, const Analysis& a) 
 }
 
 /// The hazard caution as a boxed paragraph (empty when there is none).
+std::vector<std::pair<std::string, std::string>> figure_cards(const stages::Performance& p,
+                                                              const std::optional<double>& yield,
+                                                              const std::pair<std::string, std::string>& second) {
+  return {
+      {fmt::format("{} ({})", signed3(p.gain), db(units::to_db(p.gain))), "gain, source to load"},
+      second,
+      {hertz(p.f_low_hz) + " \u2026 " + hertz(p.f_high_hz), "\u22123 dB band"},
+      {volts(p.swing_peak_v), "symmetric output peak"},
+      {ohms(p.zin_ohm), "input impedance"},
+      {ohms(p.zout_ohm), "output impedance"},
+      {amps(p.supply_current_a), "supply current"},
+      {yield ? fmt::format("{:.0f} %", *yield * 100) : std::string("\u2014"), "Monte Carlo yield"},
+  };
+}
+
+std::string card_strip(const std::vector<std::pair<std::string, std::string>>& cards) {
+  std::string h = "<div class=\"strip\">";
+  for (const auto& [value, what] : cards)
+    h += fmt::format("<div class=\"card\"><b>{}</b><span>{}</span></div>", esc(value), esc(what));
+  return h + "</div>";
+}
+
 std::string hazard_box(const std::vector<std::string>& cautions) {
   std::string h;
   for (const auto& s : cautions)
@@ -181,21 +203,9 @@ std::string header_section(const ReportInput& in, const Analysis& a) {
   h += fmt::format("<p class=\"muted\">Kept {}; every figure below recomputed from the device list as it is now.</p>",
                    esc(in.created));
   const auto names = c.topology->node_names();
-  const std::vector<std::pair<std::string, std::string>> cards = {
-      {fmt::format("{} ({})", signed3(p.gain), db(units::to_db(p.gain))), "gain, source to load"},
-      {amps(p.bias_current_a), std::string(names[2]) + " current"},
-      {hertz(p.f_low_hz) + " \u2026 " + hertz(p.f_high_hz), "\u22123 dB band"},
-      {volts(p.swing_peak_v), "symmetric output peak"},
-      {ohms(p.zin_ohm), "input impedance"},
-      {ohms(p.zout_ohm), "output impedance"},
-      {amps(p.supply_current_a), "supply current"},
-      {c.yield ? fmt::format("{:.0f} %", *c.yield * 100) : std::string("\u2014"), "Monte Carlo yield"},
-  };
+  const auto cards = figure_cards(p, c.yield, {amps(p.bias_current_a), std::string(names[2]) + " current"});
   h += hazard_box(all_cautions(in, a));
-  h += "<div class=\"strip\">";
-  for (const auto& [value, what] : cards)
-    h += fmt::format("<div class=\"card\"><b>{}</b><span>{}</span></div>", esc(value), esc(what));
-  h += "</div></header>";
+  h += card_strip(cards) + "</header>";
   return h;
 }
 
