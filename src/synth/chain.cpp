@@ -601,8 +601,26 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
     sub.swing_vpp.reset();
     if (out_peak > 0) sub.swing_vpp = 2.0 * out_peak / after_min;
     sub.topologies = {std::string(s.topology->name())};
-    const std::string v = evaluate_worst(s, sub, evaluations);
-    if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
+    // The next stage's input impedance moves over its own corners (a follower's with hFE):
+    // this stage is checked into the lowest (the heaviest load: least gain and swing), and its
+    // gain range widened by the highest.
+    if (k + 1 < n && !ch.stages[k + 1].worst.zin.empty) {
+      const Range& z = ch.stages[k + 1].worst.zin;
+      Candidate light = s;
+      Spec sub_hi = sub;
+      sub_hi.load_ohm = z.max;
+      const std::string v_hi = evaluate_worst(light, sub_hi, evaluations);
+      if (!v_hi.empty()) return fmt::format("{}: stage {}", v_hi, k + 1);
+      sub.load_ohm = z.min;
+      const std::string v = evaluate_worst(s, sub, evaluations);
+      if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
+      s.worst.gain.add(light.worst.gain.min);
+      s.worst.gain.add(light.worst.gain.max);
+      s.worst.evaluations += light.worst.evaluations;
+    } else {
+      const std::string v = evaluate_worst(s, sub, evaluations);
+      if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
+    }
     s.nominal = s.topology->evaluate(s.values, s.nominal_device, s.conditions, stages::Detail::full);
     s.error_nominal = s.error_worst = s.score = 0;
     add_cautions(s, sub);
