@@ -419,8 +419,11 @@ std::vector<CsvRow> read_csv(std::string_view text, std::string_view source) {
 }
 
 std::string csv_field(std::string_view field) {
+  // A field that starts with a byte-order mark is quoted too: first in a file, unquoted, the
+  // reader would take the mark for the file's own and drop it (found by fuzzing).
   const bool needs = field.find_first_of(",\"\r\n") != std::string_view::npos ||
-                     (!field.empty() && (is_blank(field.front()) || is_blank(field.back())));
+                     (!field.empty() && (is_blank(field.front()) || is_blank(field.back()))) ||
+                     field.substr(0, 3) == "\xEF\xBB\xBF";
   if (!needs) return std::string(field);
   std::string out = "\"";
   for (char c : field) {
