@@ -150,35 +150,14 @@ std::string chain_html_report(const ReportInput& in) {
     stage_html += prefix_ids(h, fmt::format("s{}-", k + 1));
   }
 
-  std::string h =
-      "<!DOCTYPE html>\n<html xmlns=\"http://www.w3.org/1999/xhtml\" lang=\"en\"><head><meta charset=\"utf-8\"/>"
-      "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>"
-      "<meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; style-src 'unsafe-inline'\"/>";
-  h += fmt::format("<meta name=\"generator\" content=\"{}\"/>", esc(in.generator));
-  h += fmt::format("<title>{}</title>", esc(fmt::format("Design {}: chain {}", in.id, c.topology_name())));
-  h += fmt::format("<style>{}</style></head><body><main>", kStyle);
+  std::string h = page_start(in, fmt::format("Design {}: chain {}", in.id, c.topology_name()));
   h += chain_header(in, cautions);
   h += stages_section(in);
   h += response_section(in, r);
   h += stage_html;
   h += pick_section(in);
-  std::string cs = "<section id=\"cautions\"><h2>Cautions</h2>" + hazard_box(cautions);
-  if (warnings.empty() && cautions.empty()) {
-    cs += "<p class=\"ok\">None.</p>";
-  } else {
-    cs += "<ul class=\"cautions\">";
-    for (const auto& w : warnings) cs += "<li class=\"warn\">" + esc(w) + "</li>";
-    for (const auto& t : cautions)
-      if (!is_hazard(t)) cs += "<li>" + esc(t) + "</li>";
-    cs += "</ul>";
-  }
-  h += cs + "</section>";
-  h += fmt::format(
-      "<footer>Made by {}. This file is complete in itself: it loads no scripts, fonts or images. Figures are "
-      "computed by the program's own models; check a build on the bench before relying on it.</footer>",
-      esc(in.generator.empty() ? std::string("shelfstage") : in.generator));
-  h += "</main></body></html>\n";
-  return h;
+  h += cautions_block(warnings, cautions);
+  return h + page_end(in);
 }
 
 }  // namespace shelfstage::report::html

@@ -41,6 +41,12 @@ std::string figure(const std::string& svg, const std::string& caption);
 std::string range_text(const synth::Range& r, std::string (*f)(double));
 bool is_hazard(const std::string& s);
 std::string hazard_box(const std::vector<std::string>& cautions);
+/// The document up to the opening <main> (title, generator, the stylesheet, a policy that
+/// forbids fetching anything), and from the footer to the end.
+std::string page_start(const ReportInput& in, const std::string& title);
+std::string page_end(const ReportInput& in);
+/// The cautions section: warnings first, the hazard boxed.
+std::string cautions_block(const std::vector<std::string>& warnings, const std::vector<std::string>& cautions);
 /// The header's eight figure cards of a performance: gain, `second`, band, swing, Zin,
 /// Zout, supply current, yield.
 std::vector<std::pair<std::string, std::string>> figure_cards(const stages::Performance& p,

@@ -173,6 +173,34 @@ std::vector<std::pair<std::string, std::string>> figure_cards(const stages::Perf
   };
 }
 
+std::string page_start(const ReportInput& in, const std::string& title) {
+  std::string h =
+      "<!DOCTYPE html>\n<html xmlns=\"http://www.w3.org/1999/xhtml\" lang=\"en\"><head><meta charset=\"utf-8\"/>"
+      "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>"
+      "<meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; style-src 'unsafe-inline'\"/>";
+  h += fmt::format("<meta name=\"generator\" content=\"{}\"/>", esc(in.generator));
+  h += fmt::format("<title>{}</title>", esc(title));
+  return h + fmt::format("<style>{}</style></head><body><main>", kStyle);
+}
+
+std::string page_end(const ReportInput& in) {
+  return fmt::format(
+             "<footer>Made by {}. This file is complete in itself: it loads no scripts, fonts or images. Figures are "
+             "computed by the program's own models; check a build on the bench before relying on it.</footer>",
+             esc(in.generator.empty() ? std::string("shelfstage") : in.generator)) +
+         "</main></body></html>\n";
+}
+
+std::string cautions_block(const std::vector<std::string>& warnings, const std::vector<std::string>& cautions) {
+  std::string h = "<section id=\"cautions\"><h2>Cautions</h2>" + hazard_box(cautions);
+  if (warnings.empty() && cautions.empty()) return h + "<p class=\"ok\">None.</p></section>";
+  h += "<ul class=\"cautions\">";
+  for (const auto& s : warnings) h += "<li class=\"warn\">" + esc(s) + "</li>";
+  for (const auto& s : cautions)
+    if (!is_hazard(s)) h += "<li>" + esc(s) + "</li>";
+  return h + "</ul></section>";
+}
+
 std::string card_strip(const std::vector<std::pair<std::string, std::string>>& cards) {
   std::string h = "<div class=\"strip\">";
   for (const auto& [value, what] : cards)
@@ -583,13 +611,7 @@ std::string figures_section(const ReportInput& in, const Analysis& a) {
 
 std::string cautions_section(const ReportInput& in, const Analysis& a) {
   const std::vector<std::string> cautions = all_cautions(in, a);
-  std::string h = "<section id=\"cautions\"><h2>Cautions</h2>" + hazard_box(cautions);
-  if (a.warnings.empty() && cautions.empty()) return h + "<p class=\"ok\">None.</p></section>";
-  h += "<ul class=\"cautions\">";
-  for (const auto& s : a.warnings) h += "<li class=\"warn\">" + esc(s) + "</li>";
-  for (const auto& s : cautions)
-    if (!is_hazard(s)) h += "<li>" + esc(s) + "</li>";
-  return h + "</ul></section>";
+  return cautions_block(a.warnings, cautions);
 }
 
 }  // namespace html
@@ -641,13 +663,7 @@ std::string html_report(const ReportInput& in) {
     // Drawn as "could not be solved".
   }
 
-  std::string h =
-      "<!DOCTYPE html>\n<html xmlns=\"http://www.w3.org/1999/xhtml\" lang=\"en\"><head><meta charset=\"utf-8\"/>"
-      "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>"
-      "<meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; style-src 'unsafe-inline'\"/>";
-  h += fmt::format("<meta name=\"generator\" content=\"{}\"/>", esc(in.generator));
-  h += fmt::format("<title>{}</title>", esc(fmt::format("Design {}: {} with {}", in.id, c.topology->name(), c.device.name)));
-  h += fmt::format("<style>{}</style></head><body><main>", kStyle);
+  std::string h = page_start(in, fmt::format("Design {}: {} with {}", in.id, c.topology->name(), c.device.name));
   h += header_section(in, a);
   h += schematic_section(in);
   h += response_section(in, r);
@@ -657,12 +673,7 @@ std::string html_report(const ReportInput& in) {
   h += pick_section(in);
   h += figures_section(in, a);
   h += cautions_section(in, a);
-  h += fmt::format(
-      "<footer>Made by {}. This file is complete in itself: it loads no scripts, fonts or images. Figures are "
-      "computed by the program's own models; check a build on the bench before relying on it.</footer>",
-      esc(in.generator.empty() ? std::string("shelfstage") : in.generator));
-  h += "</main></body></html>\n";
-  return h;
+  return h + page_end(in);
 }
 
 }  // namespace shelfstage::report
