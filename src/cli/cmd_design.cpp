@@ -208,8 +208,9 @@ void setup_design(CLI::App& parent, Context& ctx) {
       "type is tried; resistor and capacitor values come only from the stock (single parts and series or "
       "parallel pairs, within the quantities on hand for all copies). Each candidate is checked at nominal "
       "and at the worst-case corners of device spread, part tolerances, supply and temperature, then ranked "
-      "by gain error and spread; the best get a Monte Carlo yield. Candidates are kept in the database under "
-      "their id for show, pick and build.");
+      "by gain error and spread; the best get a Monte Carlo yield. When no single stage holds the gain "
+      "within --gain-tol at every corner, chains of two or three stages are designed too (--stages). Candidates "
+      "are kept in the database under their id for show, pick and build.");
   auto opts = std::make_shared<DesignCommand>();
   bind_design_options(*cmd, opts->o);
   cmd->callback([opts, &ctx] { run_design(opts->o, ctx); });
