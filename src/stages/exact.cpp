@@ -161,9 +161,11 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
   p.gain = mb.gain;
   p.zin_ohm = mb.zin_ohm;
   p.zout_ohm = mb.zout_ohm;
-  const Band band = band_edges(net, op, std::abs(mb.gain));
-  p.f_low_hz = band.f_low_hz;
-  p.f_high_hz = band.f_high_hz;
+  if (detail == Detail::full) {  // as in the closed form: the corners' searches cost the most
+    const Band band = band_edges(net, op, std::abs(mb.gain));
+    p.f_low_hz = band.f_low_hz;
+    p.f_high_hz = band.f_high_hz;
+  }
   {
     const auto out = *net.find_net(std::string(kNetOut));
     const double mid = std::abs(mb.gain);

@@ -27,6 +27,7 @@
 #include <cmath>
 #include <fmt/format.h>
 #include <map>
+#include <optional>
 #include <set>
 #include <atomic>
 #include <thread>
@@ -101,6 +102,20 @@ struct Path {
   double gain = 0;   ///< estimated from the edges
   double rank = 0;   ///< |gain error| and pieces, for the order of the corner pass
 };
+
+/// Runs fn(i) for i in [0, n) on the machine's cores (fn must not share state unguarded).
+template <class Fn>
+void parallel_for(std::size_t n, const Fn& fn) {
+  std::atomic<std::size_t> next{0};
+  auto worker = [&] {
+    for (std::size_t i = next++; i < n; i = next++) fn(i);
+  };
+  const unsigned k = std::min<unsigned>(std::max(1u, std::thread::hardware_concurrency()), static_cast<unsigned>(n));
+  std::vector<std::thread> threads;
+  for (unsigned t = 1; t < k; ++t) threads.emplace_back(worker);
+  worker();
+  for (auto& th : threads) th.join();
+}
 
 stages::ChainStage chain_stage(const Candidate& c) { return {c.topology, c.values, c.nominal_device}; }
 
@@ -215,17 +230,7 @@ class ChainSearch {
       if (!pools_.count(r.key()) && queued.insert(r.key()).second) todo.push_back(&r);
     std::vector<std::vector<Candidate>> made(todo.size());
     std::vector<SearchStats> stats(todo.size());
-    std::atomic<std::size_t> next{0};
-    auto worker = [&] {
-      for (std::size_t i = next++; i < todo.size(); i = next++) made[i] = design_pool(*todo[i], stats[i]);
-    };
-    {
-      std::vector<std::thread> threads;
-      const unsigned n = std::min<unsigned>(std::max(1u, std::thread::hardware_concurrency()), static_cast<unsigned>(todo.size()));
-      for (unsigned k = 1; k < n; ++k) threads.emplace_back(worker);
-      worker();
-      for (auto& th : threads) th.join();
-    }
+    parallel_for(todo.size(), [&](std::size_t i) { made[i] = design_pool(*todo[i], stats[i]); });
     for (std::size_t i = 0; i < todo.size(); ++i) {
       tally_.proposals += stats[i].proposals;
       tally_.evaluations += stats[i].evaluations;
@@ -362,27 +367,41 @@ class ChainSearch {
     for (const auto v : vs[0]) walk(walk, v, 1.0, 0.0);
     std::sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
     // The pools' gains are coarse: the best paths get their gain stage nearest the load
-    // redesigned for exactly the gain the other stages leave it.
+    // redesigned for exactly the gain the other stages leave it (the pools on both cores).
     {
-      std::vector<Path> refined;
-      for (std::size_t i = 0; i < paths.size() && i < kRefine; ++i)
-        for (auto& q : refine(paths[i], plan)) refined.push_back(std::move(q));
-      for (auto& q : refined) paths.push_back(std::move(q));
+      std::vector<Refinement> jobs;
+      for (std::size_t i = 0; i < paths.size() && jobs.size() < kRefine; ++i)
+        if (auto j = refinement(paths[i], plan)) jobs.push_back(std::move(*j));
+      std::vector<PoolRequest> requests;
+      for (const auto& j : jobs) requests.push_back(j.request);
+      const auto made = pools(requests);
+      for (std::size_t i = 0; i < jobs.size(); ++i)
+        for (auto& q : refined(jobs[i], *made[i])) paths.push_back(std::move(q));
       std::stable_sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
     }
 
-    std::vector<Candidate> assessed;
-    std::size_t tried = 0;
+    std::vector<Candidate> linked;
     for (const Path& path : paths) {
-      if (tried >= kToCorners) break;
+      if (linked.size() >= kToCorners) break;
       Candidate ch = link(path);
       unpolarise_links(ch);
       if (!pool_ok(ch)) {
         ++tally_.failures["stock"];
         continue;
       }
-      ++tried;
-      if (assess(ch)) assessed.push_back(std::move(ch));
+      linked.push_back(std::move(ch));
+    }
+    // The corner passes on both cores; what they found is tallied after.
+    std::vector<std::string> failed(linked.size());
+    std::vector<long> evals(linked.size(), 0);
+    parallel_for(linked.size(), [&](std::size_t i) { failed[i] = chain_corners(linked[i], spec_, evals[i]); });
+    std::vector<Candidate> assessed;
+    for (std::size_t i = 0; i < linked.size(); ++i) {
+      tally_.evaluations += evals[i];
+      if (failed[i].empty())
+        assessed.push_back(std::move(linked[i]));
+      else
+        ++tally_.corner_failures[failed[i].substr(0, failed[i].find(':'))];
     }
     std::stable_sort(assessed.begin(), assessed.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
     std::vector<Candidate> out;
@@ -394,26 +413,34 @@ class ChainSearch {
     return out;
   }
 
-  /// Paths like p with its last gain stage redesigned for the gain the others leave it, into
+  /// A path whose last gain stage is to be redesigned for the gain the others leave it, into
   /// the same load, from the same source, keeping the input impedance the stage before needs.
-  std::vector<Path> refine(const Path& p, const Plan& plan) {
+  struct Refinement {
+    Path path;
+    std::size_t stage = 0;
+    PoolRequest request;
+  };
+
+  std::optional<Refinement> refinement(const Path& p, const Plan& plan) const {
     std::size_t r = plan.size();
     for (std::size_t k = plan.size(); k-- > 0;)
       if (plan[k] == Slot::gain) {
         r = k;
         break;
       }
-    if (r == plan.size()) return {};
+    if (r == plan.size()) return std::nullopt;
     const std::size_t n = p.stages.size();
     std::vector<stages::ChainStage> list;
-    for (const Candidate* c : p.stages) list.push_back({c->topology, c->values, c->nominal_device});
+    for (const Candidate* c : p.stages) list.push_back(chain_stage(*c));
     const stages::Conditions cond = conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c());
     const stages::ChainPerformance cp = stages::evaluate_chain(list, cond, stages::Detail::core);
     const double others = std::abs(cp.whole.gain / cp.each[r].gain);
-    if (!(others > 0) || !std::isfinite(others)) return {};
-    const Candidate& old = *p.stages[r];
-    PoolRequest req;
-    req.topology = old.topology;
+    if (!(others > 0) || !std::isfinite(others)) return std::nullopt;
+    Refinement j;
+    j.path = p;
+    j.stage = r;
+    PoolRequest& req = j.request;
+    req.topology = p.stages[r]->topology;
     req.pos = r;
     req.gain = spec_.gain / others;
     req.load = cp.conditions[r].load_ohm;
@@ -421,15 +448,24 @@ class ChainSearch {
     for (std::size_t k = r + 1; k < n; ++k) after *= std::abs(cp.each[k].gain);
     req.peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 / after : 0.0;
     req.exact = true;
-    req.device = old.device.name;
+    req.device = p.stages[r]->device.name;
     req.zin = r > 0 ? 2.0 * cp.each[r - 1].zout_ohm : 0.0;
+    return j;
+  }
+
+  /// The paths a refinement makes with the stages it designed.
+  std::vector<Path> refined(const Refinement& j, const std::vector<Candidate>& made) {
+    const std::size_t n = j.path.stages.size(), r = j.stage;
+    std::vector<stages::ChainStage> list;
+    for (const Candidate* c : j.path.stages) list.push_back(chain_stage(*c));
+    const stages::Conditions cond = conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c());
     std::vector<Path> out;
-    for (const Candidate& c : *pools({req}).front()) {
-      Path q = p;
+    for (const Candidate& c : made) {
+      Path q = j.path;
       q.stages[r] = &c;
       if (r > 0 && !link_polarity_ok(*q.stages[r - 1], c)) continue;
       if (r + 1 < n && !link_polarity_ok(c, *q.stages[r + 1])) continue;
-      list[r] = {c.topology, c.values, c.nominal_device};
+      list[r] = chain_stage(c);
       const auto whole = stages::evaluate_chain(list, cond, stages::Detail::core).whole;
       tally_.evaluations += static_cast<long>(n);
       if (!whole.valid || !whole.active || whole.loss_lo_db + whole.loss_hi_db > 1.0) continue;
@@ -535,22 +571,10 @@ class ChainSearch {
     }
   }
 
-  /// The corner pass of a linked chain; false (and the reason counted) when it fails.
-  bool assess(Candidate& ch) {
-    long evals = 0;
-    const std::string v = chain_corners(ch, spec_, evals);
-    tally_.evaluations += evals;
-    if (!v.empty()) {
-      ++tally_.corner_failures[v.substr(0, v.find(':'))];
-      return false;
-    }
-    return true;
-  }
-
   /// The exact solution of the whole chain, then the parts as the bench sees them.
   bool solve_whole(Candidate& ch) {
     ++tally_.evaluations;
-    if (const std::string v = chain_exact(ch, spec_); !v.empty()) {
+    if (const std::string v = chain_exact(ch, spec_, stages::Detail::core); !v.empty()) {
       ++tally_.failures[v.substr(0, v.find(':'))];
       return false;
     }
@@ -707,21 +731,23 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
   return {};
 }
 
-std::string chain_exact(Candidate& ch, const Spec& spec) {
+std::string chain_exact(Candidate& ch, const Spec& spec, stages::Detail detail, bool scale_worst) {
   const std::vector<stages::ChainStage> list = chain_list(ch);
   const stages::Performance fast = stages::evaluate_chain(list, ch.conditions).whole;
   stages::Performance p;
   try {
     const circuit::Circuit net = stages::chain_netlist(list, ch.conditions);
-    p = stages::evaluate_circuit(net, stages::chain_transistors(list), ch.conditions, stages::Detail::full);
+    p = stages::evaluate_circuit(net, stages::chain_transistors(list), ch.conditions, detail);
   } catch (const Error& e) {
     return fmt::format("bias: {}", e.what());
   }
   if (const std::string v = violation(spec, p); !v.empty()) return v;
   if (!gain_ok(spec, p.gain)) return "gain: the whole chain";
-  const double ratio = fast.gain != 0 ? std::abs(p.gain / fast.gain) : 1.0;
-  ch.worst.gain.min *= ratio;
-  ch.worst.gain.max *= ratio;
+  if (scale_worst) {
+    const double ratio = fast.gain != 0 ? std::abs(p.gain / fast.gain) : 1.0;
+    ch.worst.gain.min *= ratio;
+    ch.worst.gain.max *= ratio;
+  }
   ch.nominal = p;
   rescore(ch, spec);
   return {};

@@ -562,6 +562,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
                                      [&](const Candidate& kept) { return is_variant(kept, c); });
     if (variant) continue;
     if (!c.is_chain()) detail::finalize(c, shelf);
+    if (c.is_chain()) detail::chain_exact(c, spec, stages::Detail::full, false);  // corners, HD2, noise of those shown
     c.id = candidate_id(c, spec.copies);
     r.candidates.push_back(std::move(c));
     if (static_cast<int>(r.candidates.size()) >= spec.top) break;

@@ -57,7 +57,10 @@ std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, con
 std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations);
 /// The whole chain by the exact solver: its figures replace the fast ones and the worst
 /// gain range moves with the exact-to-fast ratio. Returns the constraint broken or empty.
-std::string chain_exact(Candidate& ch, const Spec& spec);
+/// The search solves with Detail::core; the chains shown are solved again with Detail::full
+/// (corners, HD2, noise) and scale_worst false (their range is scaled already).
+std::string chain_exact(Candidate& ch, const Spec& spec, stages::Detail detail = stages::Detail::full,
+                        bool scale_worst = true);
 /// Points a chain pays for each stage beyond the first (README "How candidates are ranked").
 inline constexpr double kStagePoints = 3.0;
 

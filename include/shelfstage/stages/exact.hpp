@@ -12,6 +12,7 @@ namespace shelfstage::stages {
 /// the signal current), Zout (from the open-circuit and loaded outputs), input noise, and
 /// the output swing from a quasi-static large-signal sweep (coupling and bypass capacitors
 /// held at their DC voltages, the input stepped until the output leaves its linear range).
+/// As with the closed form, the -3 dB corners, HD2, noise and part stress need Detail::full.
 /// Throws InfeasibleError if the operating point does not converge.
 Performance evaluate_exact(const Topology& t, const Values& values, const Transistor& q, const Conditions& c,
                            Detail detail = Detail::full);
