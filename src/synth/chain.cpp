@@ -6,7 +6,8 @@
 //     B-A-A, A-A-A, within --stages and the request (a gain of about one plans buffers only).
 //  2. Stage pools, from the load back: the last stage is designed into the load with the
 //     requested swing; each earlier stage into the input impedance the stages after it
-//     present (the median of each following topology's pool), for the peak it must pass on;
+//     present (the median over each following topology's pool at nominal, and of the lowest
+//     over its corners), for the peak it must pass on;
 //     the first also for the source and the requested input impedance. Gain stages aim at
 //     an equal share of the gain, within a wide window; buffers at just under one. Every
 //     pool is an ordinary single-stage search on the one shared shelf.
@@ -285,12 +286,20 @@ class ChainSearch {
         loads.push_back(spec_.load_ohm);
       } else {
         std::map<const stages::Topology*, std::vector<double>> zins;
-        for (const Candidate* c : layers[pos + 1]) zins[c->topology].push_back(c->nominal.zin_ohm);
-        std::vector<double> medians;
-        for (auto& [t, z] : zins) {
-          std::nth_element(z.begin(), z.begin() + static_cast<long>(z.size() / 2), z.end());
-          medians.push_back(z[z.size() / 2]);
+        // What each next topology presents: its input impedance at nominal, and the lowest
+        // it falls to over its corners (a follower's falls with hFE), so that a stage that
+        // keeps its swing into the heavier load is among those tried.
+        std::map<const stages::Topology*, std::vector<double>> lowest;
+        for (const Candidate* c : layers[pos + 1]) {
+          zins[c->topology].push_back(c->nominal.zin_ohm);
+          lowest[c->topology].push_back(c->worst.zin.empty ? c->nominal.zin_ohm : c->worst.zin.min);
         }
+        std::vector<double> medians;
+        for (auto* m : {&zins, &lowest})
+          for (auto& [t, z] : *m) {
+            std::nth_element(z.begin(), z.begin() + static_cast<long>(z.size() / 2), z.end());
+            medians.push_back(z[z.size() / 2]);
+          }
         // Loads within a factor of three of each other make the same designs: the lowest.
         std::sort(medians.begin(), medians.end());
         for (const double m : medians)
