@@ -22,20 +22,8 @@ using namespace shelfstage;
 
 namespace {
 
-struct Case {
-  const char* topology;
-  const char* device;
-  double gain;
-  double supply_v;
-  double swing_vpp;
-};
-
-// One design per topology; the P-channel JFET and the PNP cover the mirrored rails.
-const Case kCases[] = {
-    {"jfet-cs-self", "SJ-101", 5, 12, 2},      {"jfet-cs-divider", "SJ-P31", 3, 15, 2},
-    {"jfet-follower", "SJ-202", 0.8, 12, 1},   {"bjt-ce-divider", "SQ-410", 10, 12, 2},
-    {"bjt-follower", "SQ-510", 0.9, 9, 2},
-};
+using Case = test::TopologyCase;
+const auto& kCases = test::kTopologyCases;
 
 const synth::Inventory& inventory() {
   static const synth::Inventory inv = test::demo_inventory();

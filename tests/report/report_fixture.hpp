@@ -21,6 +21,21 @@ inline std::string read_source_file(const std::string& relative) {
   return ss.str();
 }
 
+/// One design per topology from the demo shelf; the P-channel JFET and the PNP cover the
+/// mirrored rails.
+struct TopologyCase {
+  const char* topology;
+  const char* device;
+  double gain;
+  double supply_v;
+  double swing_vpp;
+};
+inline constexpr TopologyCase kTopologyCases[] = {
+    {"jfet-cs-self", "SJ-101", 5, 12, 2},      {"jfet-cs-divider", "SJ-P31", 3, 15, 2},
+    {"jfet-follower", "SJ-202", 0.8, 12, 1},   {"bjt-ce-divider", "SQ-410", 10, 12, 2},
+    {"bjt-follower", "SQ-510", 0.9, 9, 2},
+};
+
 /// The demo shelf, stock lines numbered from 1 as a database would; `extra_stock` rows (CSV
 /// without a header, the demo's columns) are added to it.
 inline synth::Inventory demo_inventory(const std::string& extra_stock = {}) {

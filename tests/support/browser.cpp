@@ -1,6 +1,8 @@
 // Runs headless Chromium on a file, collects its console lines and screenshot; decodes PNG.
 #include "browser.hpp"
 
+#include "scratch.hpp"
+
 #include <zlib.h>
 
 #include <cstdlib>
@@ -29,22 +31,6 @@ std::string slurp(const std::filesystem::path& p) {
   return ss.str();
 }
 
-// A scratch folder (the browser profile and its outputs) removed when the run is over.
-struct Scratch {
-  std::filesystem::path path;
-  Scratch() {
-    std::random_device rd;
-    path = std::filesystem::temp_directory_path() /
-           ("shelfstage-browser-" + std::to_string(rd()) + "-" + std::to_string(rd()));
-    std::filesystem::create_directories(path);
-  }
-  Scratch(const Scratch&) = delete;
-  Scratch& operator=(const Scratch&) = delete;
-  ~Scratch() {
-    std::error_code ec;
-    std::filesystem::remove_all(path, ec);
-  }
-};
 
 std::string flags(const Scratch& s) {
   return "--headless --no-sandbox --disable-gpu --no-first-run --disable-background-networking "
@@ -78,7 +64,7 @@ std::string chromium_program() {
 
 BrowserRun render(const std::string& path, int width, int height) {
   const std::string program = chromium_program();
-  Scratch s;
+  Scratch s("shelfstage-browser-");
   const auto png = s.path / "shot.png";
   const auto err = s.path / "stderr.txt";
   const std::string url = "file://" + std::filesystem::absolute(path).string();
@@ -99,7 +85,7 @@ BrowserRun render(const std::string& path, int width, int height) {
 
 std::string dump_dom(const std::string& path) {
   const std::string program = chromium_program();
-  Scratch s;
+  Scratch s("shelfstage-browser-");
   const auto out = s.path / "dom.html";
   const std::string url = "file://" + std::filesystem::absolute(path).string();
   const std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) + " --dump-dom " + quote(url) + " >" +
@@ -111,7 +97,7 @@ std::string dump_dom(const std::string& path) {
 
 std::string print_pdf(const std::string& path) {
   const std::string program = chromium_program();
-  Scratch s;
+  Scratch s("shelfstage-browser-");
   const auto pdf = s.path / "page.pdf";
   const std::string url = "file://" + std::filesystem::absolute(path).string();
   const std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) + " --no-pdf-header-footer --print-to-pdf=" +

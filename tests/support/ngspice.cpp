@@ -1,6 +1,8 @@
 // Runs ngspice in batch mode on a scratch netlist and parses the values it prints.
 #include "ngspice.hpp"
 
+#include "scratch.hpp"
+
 #include <array>
 #include <cctype>
 #include <cstdio>
@@ -27,22 +29,6 @@ std::string quote(const std::string& s) {
   return q + "'";
 }
 
-// A scratch folder removed when the run is over.
-struct Scratch {
-  std::filesystem::path path;
-  Scratch() {
-    std::random_device rd;
-    path = std::filesystem::temp_directory_path() /
-           ("shelfstage-ngspice-" + std::to_string(rd()) + "-" + std::to_string(rd()));
-    std::filesystem::create_directories(path);
-  }
-  Scratch(const Scratch&) = delete;
-  Scratch& operator=(const Scratch&) = delete;
-  ~Scratch() {
-    std::error_code ec;
-    std::filesystem::remove_all(path, ec);
-  }
-};
 
 }  // namespace
 
@@ -127,7 +113,7 @@ std::vector<std::string> SpiceRun::error_lines() const {
 
 SpiceRun run_ngspice(const std::string& netlist) {
   const std::string program = ngspice_program();
-  Scratch dir;
+  Scratch dir("shelfstage-ngspice-");
   const auto file = dir.path / "stage.cir";
   {
     std::ofstream f(file);
