@@ -100,7 +100,6 @@ using Graph = boost::adjacency_list<boost::vecS, boost::vecS, boost::directedS, 
 /// A chain found in the graph, before its corner pass.
 struct Path {
   std::vector<const Candidate*> stages;
-  double gain = 0;   ///< estimated from the edges
   double rank = 0;   ///< |gain error| and pieces, for the order of the corner pass
 };
 
@@ -194,7 +193,7 @@ class ChainSearch {
     const stages::Topology* topology = nullptr;
     std::size_t pos = 0;
     double gain = 0, load = 0, peak = 0;
-    /// A refinement (see refine()): this gain within spec.gain_tol / 2, this device, the
+    /// A refinement (see refinement()): this gain within spec.gain_tol / 2, this device, the
     /// input impedance at least zin, the whole shelf offered.
     bool exact = false;
     std::string device;
@@ -365,7 +364,7 @@ class ChainSearch {
         if (err <= std::max(0.25, 2 * spec_.gain_tol) && loss + last_loss(*c) <= 1.0) {
           int pieces = 0;
           for (const Candidate* s : stack) pieces += s->pieces;
-          paths.push_back({stack, total, 100.0 * err + kPiecePoints * pieces});
+          paths.push_back({stack, 100.0 * err + kPiecePoints * pieces});
         }
       } else {
         for (auto [e, end] = boost::out_edges(v, g); e != end; ++e)
@@ -481,7 +480,6 @@ class ChainSearch {
       const double err = std::abs(std::abs(whole.gain) / spec_.gain - 1.0);
       int pieces = 0;
       for (const Candidate* st : q.stages) pieces += st->pieces;
-      q.gain = whole.gain;
       q.rank = 100.0 * err + kPiecePoints * pieces;
       out.push_back(std::move(q));
     }
