@@ -62,7 +62,7 @@ void run_report(const ReportOptions& o, Context& ctx) {
   report::ReportInput in;
   in.id = d.saved.id;
   in.created = d.saved.created;
-  in.generator = "shelfstage";
+  in.generator = "shelfstage " SHELFSTAGE_VERSION;
   in.spec = d.spec;
   in.candidate = d.candidate;
   in.pick = report::make_pick_list(d.candidate, copies, db.parts(), store::held_for(db, d.saved.id));

@@ -133,16 +133,6 @@ StageUnderTest stage_under_test(const synth::Candidate& c) {
   return s;
 }
 
-stages::Transistor piece_transistor(const devices::DeviceSpread& spread, const devices::PieceFigures& f,
-                                    double celsius) {
-  stages::Transistor q;
-  q.kind = spread.record().kind;
-  if (devices::is_jfet(q.kind))
-    q.jfet = spread.jfet(f, celsius);
-  else
-    q.bjt = spread.bjt(f, celsius);
-  return q;
-}
 
 Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, int per_decade) {
   if (per_decade < 2) throw InputError(fmt::format("points per decade {} must be at least 2", per_decade));
@@ -178,12 +168,12 @@ Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, 
   else
     spreads.emplace_back(0, spread);
   {
-    const stages::Transistor q = c.is_chain() ? c.stages.front().nominal_device : piece_transistor(spread, spread.nominal(), celsius);
+    const stages::Transistor q = c.is_chain() ? c.stages.front().nominal_device : synth::make_transistor(spread, spread.nominal(), celsius);
     r.nominal = sweep(build(0, c.is_chain() ? nullptr : &q), r.f_hz, celsius, "nominal");
   }
   for (const auto& [stage, sp] : spreads)
   for (const auto& f : sp.corners()) {
-    const stages::Transistor q = piece_transistor(sp, f, celsius);
+    const stages::Transistor q = synth::make_transistor(sp, f, celsius);
     r.corners.push_back(sweep(build(stage, &q), r.f_hz, celsius,
                               c.is_chain() ? fmt::format("stage {} {}", stage + 1, f.tag) : f.tag));
     // An inverting stage sits at +/-180 degrees: put every corner on the nominal's branch
@@ -261,7 +251,7 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
   const auto& t = *c.topology;
   const devices::DeviceSpread spread = synth::spread_of(c);
   const double celsius = spec.temp_nominal_c();
-  const stages::Transistor q0 = piece_transistor(spread, spread.nominal(), celsius);
+  const stages::Transistor q0 = synth::make_transistor(spread, spread.nominal(), celsius);
   const bool follower = is_follower(t.netlist(c.values, q0, c.conditions));
   const auto names = t.node_names();
   BiasSpread b;
@@ -286,7 +276,7 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
 
   if (auto p = point(c.values, q0, c.conditions, "nominal")) b.nominal = *p;
   for (const auto& f : spread.corners())
-    if (auto p = point(c.values, piece_transistor(spread, f, celsius), c.conditions, f.tag)) b.corners.push_back(*p);
+    if (auto p = point(c.values, synth::make_transistor(spread, f, celsius), c.conditions, f.tag)) b.corners.push_back(*p);
 
   // Monte Carlo builds drawn in the synthesizer's order (synth/evaluate.cpp, monte_carlo).
   if (samples > 0) {
@@ -301,7 +291,7 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
       stages::Conditions cond = c.conditions;
       cond.supply_v = spec.supply_lo_v + (spec.supply_hi_v - spec.supply_lo_v) * u(rng);
       cond.celsius = t_lo + (t_hi - t_lo) * u(rng);
-      if (auto p = point(v, piece_transistor(spread, f, cond.celsius), cond, f.tag))
+      if (auto p = point(v, synth::make_transistor(spread, f, cond.celsius), cond, f.tag))
         b.samples.push_back(*p);
       else
         ++b.failed;
@@ -362,7 +352,7 @@ Transfer transfer_curve(const synth::Candidate& c, const synth::Spec& spec) {
   const auto& t = *c.topology;
   const devices::DeviceSpread spread = synth::spread_of(c);
   const double celsius = spec.temp_nominal_c();
-  const stages::Transistor q = piece_transistor(spread, spread.nominal(), celsius);
+  const stages::Transistor q = synth::make_transistor(spread, spread.nominal(), celsius);
   const circuit::Circuit net = t.netlist(c.values, q, c.conditions);
   circuit::SolverOptions so;
   so.celsius = celsius;

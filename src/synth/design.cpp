@@ -140,8 +140,8 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
       spread_(piece ? devices::DeviceSpread(device, *piece) : devices::DeviceSpread(device)),
       cache_(std::make_unique<Cache>()) {
   const double t_nom = spec.temp_nominal_c();
-  q_ = detail::make_transistor(spread_, spread_.nominal(), t_nom);
-  for (const auto& f : spread_.corners()) corner_devices_.push_back(detail::make_transistor(spread_, f, t_nom));
+  q_ = make_transistor(spread_, spread_.nominal(), t_nom);
+  for (const auto& f : spread_.corners()) corner_devices_.push_back(make_transistor(spread_, f, t_nom));
   cond_ = detail::conditions(spec, spec.supply_nominal_v(), t_nom);
   cond_hi_ = detail::conditions(spec, spec.supply_hi_v, t_nom);
 }

@@ -13,7 +13,6 @@ inline constexpr double kPiecePoints = 1.0;
 /// the whole worst case, and kPiecePoints per piece. Lower is better.
 double score_of(const Candidate& c);
 
-stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices::PieceFigures& f, double celsius);
 stages::Conditions conditions(const Spec& spec, double supply, double celsius);
 /// The first hard constraint a performance breaks ("bias", "swing", "current", "zin",
 /// "band"), or empty.

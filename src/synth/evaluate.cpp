@@ -26,15 +26,6 @@ double score_of(const Candidate& c) {
   return 100.0 * (0.5 * std::abs(c.error_nominal) + c.error_worst) + kPiecePoints * c.pieces;
 }
 
-stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices::PieceFigures& f, double celsius) {
-  stages::Transistor q;
-  q.kind = s.record().kind;
-  if (devices::is_jfet(q.kind))
-    q.jfet = s.jfet(f, celsius);
-  else
-    q.bjt = s.bjt(f, celsius);
-  return q;
-}
 
 stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
   stages::Conditions c;
@@ -285,6 +276,16 @@ double monte_carlo(const Candidate& c, const Spec& spec) {
 
 }  // namespace detail
 
+stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices::PieceFigures& f, double celsius) {
+  stages::Transistor q;
+  q.kind = s.record().kind;
+  if (devices::is_jfet(q.kind))
+    q.jfet = s.jfet(f, celsius);
+  else
+    q.bjt = s.bjt(f, celsius);
+  return q;
+}
+
 devices::DeviceSpread spread_of(const Candidate& c) {
   return c.piece ? devices::DeviceSpread(c.device, *c.piece) : devices::DeviceSpread(c.device);
 }
@@ -300,7 +301,7 @@ void evaluate_candidate(Candidate& c, const Spec& spec) {
   }
   const devices::DeviceSpread spread = spread_of(c);
   c.conditions = detail::conditions(spec, spec.supply_nominal_v(), spec.temp_nominal_c());
-  c.nominal_device = detail::make_transistor(spread, spread.nominal(), spec.temp_nominal_c());
+  c.nominal_device = make_transistor(spread, spread.nominal(), spec.temp_nominal_c());
   c.nominal = c.topology->evaluate(c.values, c.nominal_device, c.conditions, stages::Detail::full);
   c.error_nominal = std::abs(c.nominal.gain) / spec.gain - 1.0;
   detail::evaluate_worst(c, spec, n);

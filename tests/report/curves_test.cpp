@@ -76,7 +76,7 @@ TEST_CASE("frequency_response: the nominal curve matches ngspice's AC analysis o
 
     // ngspice at a few of the sweep's own frequencies: the low edge, mid-band, the high edge.
     const auto spread = synth::spread_of(d.c);
-    const auto q = report::piece_transistor(spread, spread.nominal(), d.spec.temp_nominal_c());
+    const auto q = synth::make_transistor(spread, spread.nominal(), d.spec.temp_nominal_c());
     const auto net = d.c.topology->netlist(d.c.values, q, d.c.conditions);
     std::vector<std::size_t> idx;
     for (double f : {r.f_low_hz > 0 ? r.f_low_hz : 10.0, 1000.0, r.f_high_hz > 0 ? r.f_high_hz : 1e6}) {
@@ -139,7 +139,7 @@ TEST_CASE("bias_spread: the nominal operating point matches ngspice's .op; corne
     const auto names = d.c.topology->node_names();
     CHECK(b.node == std::string(follower ? names[1] : names[2]));
 
-    const auto q = report::piece_transistor(spread, spread.nominal(), d.spec.temp_nominal_c());
+    const auto q = synth::make_transistor(spread, spread.nominal(), d.spec.temp_nominal_c());
     const auto net = d.c.topology->netlist(d.c.values, q, d.c.conditions);
     const std::string dev = spice_device(net);
     const bool jfet = devices::is_jfet(q.kind);
@@ -190,7 +190,7 @@ TEST_CASE("transfer_curve: matches ngspice's .dc sweep of the stage with its cap
     // ngspice: the operating point of the real netlist, then every capacitor replaced by a
     // source at the voltage ngspice found across it, and the signal source swept.
     const auto spread = synth::spread_of(d.c);
-    const auto q = report::piece_transistor(spread, spread.nominal(), d.spec.temp_nominal_c());
+    const auto q = synth::make_transistor(spread, spread.nominal(), d.spec.temp_nominal_c());
     const auto net = d.c.topology->netlist(d.c.values, q, d.c.conditions);
     circuit::SpiceOptions so;
     so.celsius = d.spec.temp_nominal_c();

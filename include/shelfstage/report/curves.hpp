@@ -20,9 +20,6 @@ namespace shelfstage::report {
 /// dielectric, polarity and the net its + lead is fitted to).
 StageUnderTest stage_under_test(const synth::Candidate& c);
 
-/// A transistor piece of the spread at a temperature, as a stage takes it.
-stages::Transistor piece_transistor(const devices::DeviceSpread& spread, const devices::PieceFigures& f,
-                                    double celsius);
 
 /// One curve of the frequency response.
 struct ResponseCurve {

@@ -193,6 +193,9 @@ bool is_variant(const Candidate& a, const Candidate& b);
 /// A stable identifier for a candidate: topology, device and part values hashed.
 std::string candidate_id(const Candidate& c, int copies);
 
+/// A piece of the spread (its figures at a temperature) as a stage takes it.
+stages::Transistor make_transistor(const devices::DeviceSpread& spread, const devices::PieceFigures& f, double celsius);
+
 /// The devices::DeviceSpread of a candidate (record, or measured piece).
 devices::DeviceSpread spread_of(const Candidate& c);
 
