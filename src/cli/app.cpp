@@ -67,6 +67,26 @@ void note_global_options(CLI::App& app, bool is_root) {
 }  // namespace
 }  // namespace detail
 
+void setup_commands(CLI::App& app, Context& ctx) {
+  // One line per command; each lives in src/cli/cmd_<name>.cpp.
+  setup_init(app, ctx);
+  setup_stock(app, ctx);
+  setup_devices(app, ctx);
+  setup_check(app, ctx);
+  setup_demo(app, ctx);
+  setup_design(app, ctx);
+  setup_show(app, ctx);
+  setup_analyze(app, ctx);
+  setup_pick(app, ctx);
+  setup_reserve(app, ctx);
+  setup_release(app, ctx);
+  setup_build(app, ctx);
+  setup_builds(app, ctx);
+  setup_ledger(app, ctx);
+  setup_shop(app, ctx);
+  setup_report(app, ctx);
+}
+
 void setup_root(CLI::App& app, Context& ctx, const std::string& version_text) {
   app.description(
       "shelfstage designs small-signal JFET and BJT amplifier stages from the resistors and\n"

@@ -55,6 +55,9 @@ void setup_root(CLI::App& app, Context& ctx, const std::string& version_text);
 int run_app(CLI::App& app, Context& ctx, int argc, const char* const* argv);
 
 // One per command file.
+/// Every command, in the order `--help` lists them (each one's setup_NAME below).
+void setup_commands(CLI::App& app, Context& ctx);
+
 void setup_init(CLI::App& parent, Context& ctx);
 void setup_stock(CLI::App& parent, Context& ctx);
 void setup_devices(CLI::App& parent, Context& ctx);
