@@ -19,11 +19,6 @@ namespace {
 using units::format_value;
 using units::Unit;
 
-std::vector<stages::ChainStage> chain_list(const synth::Candidate& c) {
-  std::vector<stages::ChainStage> list;
-  for (const auto& s : c.stages) list.push_back({s.topology, s.values, s.nominal_device});
-  return list;
-}
 
 std::string ohms(double v) { return v > 0 ? format_value(v, Unit::ohm) : std::string("\u2014"); }
 
@@ -55,7 +50,7 @@ std::string chain_figures_text(const synth::Candidate& c, const synth::Spec& spe
   }
   std::string out = "Stage by stage (closed form; each stage into the input impedance of the next):\n";
   out += t.render({"  "});
-  const std::vector<stages::ChainStage> list = chain_list(c);
+  const std::vector<stages::ChainStage> list = synth::chain_stages(c);
   const stages::Performance fast = stages::evaluate_chain(list, c.conditions, stages::Detail::full).whole;
   const auto& x = c.nominal;
   TextTable w({{""}, {"exact", Align::right}, {"cascade", Align::right}});
@@ -87,7 +82,7 @@ std::string chain_figures_text(const synth::Candidate& c, const synth::Spec& spe
 
 std::string chain_spice(const synth::Candidate& c) {
   if (!c.is_chain()) throw InputError(fmt::format("design '{}' is not a chain", c.id));
-  const std::vector<stages::ChainStage> list = chain_list(c);
+  const std::vector<stages::ChainStage> list = synth::chain_stages(c);
   const circuit::Circuit net = stages::chain_netlist(list, c.conditions);
   circuit::SpiceOptions o;
   std::string names;

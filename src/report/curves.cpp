@@ -153,8 +153,7 @@ Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, 
   const devices::DeviceSpread spread = synth::spread_of(c);
   // A stage: its corner pieces. A chain: each stage's corner pieces in turn, the other
   // stages at their nominal pieces.
-  std::vector<stages::ChainStage> list;
-  for (const auto& s : c.stages) list.push_back({s.topology, s.values, s.nominal_device});
+  std::vector<stages::ChainStage> list = synth::chain_stages(c);
   auto build = [&](std::size_t stage, const stages::Transistor* q) {
     return [&c, list, stage, q]() mutable {
       if (!c.is_chain()) return c.topology->netlist(c.values, q ? *q : c.nominal_device, c.conditions);

@@ -12,6 +12,13 @@ namespace shelfstage::stages {
 
 std::size_t input_coupling_role(const Topology& t) { return t.role_index("CIN"); }
 
+std::string_view output_node(const Topology& t) {
+  const auto& role = t.roles()[t.role_index("COUT")];
+  return role.pos_net == kNetOut ? role.neg_net : role.pos_net;
+}
+
+bool output_at_main(const Topology& t) { return output_node(t) == t.node_names()[2]; }
+
 std::string chain_designator(std::size_t stage, std::string_view designator) {
   std::size_t digits = designator.size();
   while (digits > 0 && std::isdigit(static_cast<unsigned char>(designator[digits - 1]))) --digits;

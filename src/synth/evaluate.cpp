@@ -221,9 +221,7 @@ double monte_carlo_chain(const Candidate& c, const Spec& spec) {
   const double t_hi = spec.temp_c ? spec.temp_c->second : spec.temp_nominal_c();
   // The exact solver's gain over the fast chain's at nominal: the same correction the
   // ranking applies.
-  std::vector<stages::ChainStage> list(n);
-  for (std::size_t k = 0; k < n; ++k)
-    list[k] = {c.stages[k].topology, c.stages[k].values, c.stages[k].nominal_device};
+  std::vector<stages::ChainStage> list = chain_stages(c);
   const auto nominal = stages::evaluate_chain(list, c.conditions);
   const double ratio = nominal.whole.gain != 0 ? c.nominal.gain / nominal.whole.gain : 1.0;
   int good = 0;

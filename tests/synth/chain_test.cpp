@@ -28,15 +28,10 @@ synth::Spec chain_spec() {
   return s;
 }
 
-std::vector<stages::ChainStage> chain_of(const synth::Candidate& c) {
-  std::vector<stages::ChainStage> list;
-  for (const auto& s : c.stages) list.push_back({s.topology, s.values, s.nominal_device});
-  return list;
-}
 
 /// ngspice's mid-band gain of the whole chain (at the band's geometric middle).
 double spice_gain(const synth::Candidate& c, double f_hz) {
-  const circuit::Circuit net = stages::chain_netlist(chain_of(c), c.conditions);
+  const circuit::Circuit net = stages::chain_netlist(synth::chain_stages(c), c.conditions);
   circuit::SpiceOptions o;
   o.title = c.topology_name();
   o.analyses = {".control", "op", "ac dec 20 1 1e7", fmt::format("meas ac gmid find vm(out) at={:.6g}", f_hz),

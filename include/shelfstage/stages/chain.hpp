@@ -27,6 +27,12 @@ inline constexpr double kLinkedCin = 1.0;
 /// The input coupling role ("CIN") of a topology, or roles().size() when it has none.
 std::size_t input_coupling_role(const Topology& t);
 
+/// The device node a stage's COUT takes the signal from (its end away from "out"): "drain",
+/// "collector", "source" or "emitter"; and whether that is the main terminal (node_names()[2],
+/// whose DC a Performance gives as v_out; else v_common).
+std::string_view output_node(const Topology& t);
+bool output_at_main(const Topology& t);
+
 /// The designator a stage's part carries in a chain: stage index (from 0) k and the stage's
 /// own designator "R3" give "R" + (100 (k + 1) + 3), i.e. "R103", "R203", "Q101" (common
 /// practice on multi-stage boards: the hundreds say which stage a part belongs to).

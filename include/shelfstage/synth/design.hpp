@@ -12,6 +12,7 @@
 
 #include "shelfstage/devices/record.hpp"
 #include "shelfstage/devices/spread.hpp"
+#include "shelfstage/stages/chain.hpp"
 #include "shelfstage/stages/topology.hpp"
 #include "shelfstage/store/part.hpp"
 #include "shelfstage/synth/shelf.hpp"
@@ -195,6 +196,10 @@ std::string candidate_id(const Candidate& c, int copies);
 
 /// A piece of the spread (its figures at a temperature) as a stage takes it.
 stages::Transistor make_transistor(const devices::DeviceSpread& spread, const devices::PieceFigures& f, double celsius);
+
+/// A stage candidate as a chain takes it (topology, values, nominal piece); a chain's stages.
+stages::ChainStage chain_stage(const Candidate& c);
+std::vector<stages::ChainStage> chain_stages(const Candidate& chain);
 
 /// The devices::DeviceSpread of a candidate (record, or measured piece).
 devices::DeviceSpread spread_of(const Candidate& c);
