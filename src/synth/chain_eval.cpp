@@ -50,16 +50,31 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
   const std::vector<stages::ChainStage> list = chain_stages(ch);
   const stages::Conditions cond = conditions(spec, spec.supply_nominal_v(), t_nom);
   const stages::ChainPerformance cp = stages::evaluate_chain(list, cond, stages::Detail::core);
+  ch.conditions = cond;
   evaluations += static_cast<long>(n);
   if (const std::string v = violation(spec, cp.whole); !v.empty()) return v + ": the whole chain";
   // From the last stage back, so each knows the smallest gain after it (for its peak).
   double after_min = 1.0, after_max = 1.0;
   Worst w;
   const double out_peak = spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0;
+  std::vector<Spec> subs(n);
   for (std::size_t k = n; k-- > 0;) {
     Candidate& s = ch.stages[k];
     s.conditions = cp.conditions[k];
-    Spec sub = spec;
+    // The coupling capacitor to the next stage holds the DC between the two stages' bias
+    // points, not the DC to ground a stage alone would put on it: its polarity and rating are
+    // checked for the link below, not in the stage's own corner pass.
+    RolePart* link = nullptr;
+    std::string link_plus;
+    if (k + 1 < n)
+      for (auto& rp : s.parts)
+        if (rp.role == "COUT") link = &rp;
+    if (link) {
+      link_plus = link->plus_net;
+      link->plus_net.clear();
+    }
+    Spec& sub = subs[k];
+    sub = spec;
     sub.gain = std::abs(cp.each[k].gain);
     sub.load_ohm = s.conditions.load_ohm;
     sub.source_ohm = s.conditions.source_ohm;
@@ -71,26 +86,26 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
     // The next stage's input impedance moves over its own corners (a follower's with hFE):
     // this stage is checked into the lowest (the heaviest load: least gain and swing), and its
     // gain range widened by the highest.
-    if (k + 1 < n && !ch.stages[k + 1].worst.zin.empty) {
-      const Range& z = ch.stages[k + 1].worst.zin;
-      Candidate light = s;
-      Spec sub_hi = sub;
-      sub_hi.load_ohm = z.max;
-      const std::string v_hi = evaluate_worst(light, sub_hi, evaluations);
-      if (!v_hi.empty()) return fmt::format("{}: stage {}", v_hi, k + 1);
-      sub.load_ohm = z.min;
-      const std::string v = evaluate_worst(s, sub, evaluations);
-      if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
-      s.worst.gain.add(light.worst.gain.min);
-      s.worst.gain.add(light.worst.gain.max);
-      s.worst.evaluations += light.worst.evaluations;
-    } else {
-      const std::string v = evaluate_worst(s, sub, evaluations);
-      if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
-    }
+    const std::string v = [&]() -> std::string {
+      if (k + 1 < n && !ch.stages[k + 1].worst.zin.empty) {
+        const Range& z = ch.stages[k + 1].worst.zin;
+        Candidate light = s;
+        Spec sub_hi = sub;
+        sub_hi.load_ohm = z.max;
+        if (std::string v_hi = evaluate_worst(light, sub_hi, evaluations); !v_hi.empty()) return v_hi;
+        sub.load_ohm = z.min;
+        if (std::string v_lo = evaluate_worst(s, sub, evaluations); !v_lo.empty()) return v_lo;
+        s.worst.gain.add(light.worst.gain.min);
+        s.worst.gain.add(light.worst.gain.max);
+        s.worst.evaluations += light.worst.evaluations;
+        return {};
+      }
+      return evaluate_worst(s, sub, evaluations);
+    }();
+    if (link) link->plus_net = link_plus;
+    if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
     s.nominal = s.topology->evaluate(s.values, s.nominal_device, s.conditions, stages::Detail::full);
     s.error_nominal = s.error_worst = s.score = 0;
-    add_cautions(s, sub);
     const double lo = std::min(std::abs(s.worst.gain.min), std::abs(s.worst.gain.max));
     const double hi = std::max(std::abs(s.worst.gain.min), std::abs(s.worst.gain.max));
     // Output-referred swing: this stage's smallest peak times the smallest gain after it.
@@ -157,7 +172,9 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
     ch.pieces += s.pieces;
     ch.purchases += s.purchases;
   }
-  // Every stage's cautions, the hazardous-voltage one once.
+  // Every stage's cautions (after the links have turned their electrolytics), the
+  // hazardous-voltage one once.
+  for (std::size_t k = 0; k < n; ++k) add_cautions(ch.stages[k], subs[k]);
   ch.cautions.clear();
   for (std::size_t k = 0; k < n; ++k)
     for (const auto& text : ch.stages[k].cautions) {

@@ -291,9 +291,16 @@ devices::DeviceSpread spread_of(const Candidate& c) {
 void evaluate_candidate(Candidate& c, const Spec& spec) {
   long n = 0;
   if (c.is_chain()) {
-    // Figures even when a constraint no longer holds (the stock or the request changed).
-    detail::chain_corners(c, spec, n);
-    detail::chain_exact(c, spec);
+    // A constraint that no longer holds (the device list changed) is said, not hidden: the
+    // figures after it are not computed.
+    std::string broken = detail::chain_corners(c, spec, n);
+    if (broken.empty()) broken = detail::chain_exact(c, spec);
+    if (!broken.empty()) {
+      c.cautions.insert(c.cautions.begin(),
+                        "this chain no longer holds at every corner with today's device list (" + broken +
+                            "); design it again before building it");
+      return;
+    }
     c.yield = detail::monte_carlo(c, spec);
     return;
   }

@@ -187,3 +187,30 @@ TEST_CASE("show: a chain, stage by stage and whole; its exported netlist runs in
           spice_db, " dB");
   CHECK(std::abs(spice_db - 20 * std::log10(std::abs(gain))) < 0.26);
 }
+
+TEST_CASE("show: a kept chain recomputes to the figures it was designed with (an electrolytic turned round by the link)") {
+  // Regression: a JFET follower whose COUT sits below the next stage's base has its
+  // electrolytic turned round in the chain; read back, its own corner pass judged that
+  // orientation against ground and `show` printed zeros. The kept chain must recompute to the
+  // same gain, with no caution that it no longer holds, and its cautions must give the +
+  // lead the way the pick list does.
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0);
+  const auto d = test::run_stage_cli({"design", "--db", db, "--gain", "60dB", "--load", "47k", "--supply", "24", "--zin",
+                                      "10M", "--band", "5..50k", "--swing", "10", "--top", "3", "--json"});
+  REQUIRE(d.status == 0);
+  const auto doc = nlohmann::json::parse(d.out);
+  REQUIRE_FALSE(doc["candidates"].empty());
+  for (const auto& cand : doc["candidates"]) {
+    REQUIRE(cand["topology"] == "chain");
+    const std::string id = cand["id"].get<std::string>();
+    const auto j = test::run_stage_cli({"--db", db, "show", id, "--json"});
+    REQUIRE(j.status == 0);
+    const auto shown = nlohmann::json::parse(j.out);
+    CHECK(shown["candidate"]["nominal"]["gain"].get<double>() ==
+          doctest::Approx(cand["nominal"]["gain"].get<double>()).epsilon(1e-6));
+    for (const auto& c : shown["cautions"]) CHECK(c.get<std::string>().find("no longer holds") == std::string::npos);
+    CHECK(shown["cautions"] == cand["cautions"]);
+  }
+}
