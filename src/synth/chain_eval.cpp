@@ -174,7 +174,7 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
   }
   // Every stage's cautions (after the links have turned their electrolytics), the
   // hazardous-voltage one once.
-  for (std::size_t k = 0; k < n; ++k) add_cautions(ch.stages[k], subs[k]);
+  for (std::size_t k = 0; k < n; ++k) add_cautions(ch.stages[k], subs[k], k + 1 < n ? static_cast<int>(k) + 2 : 0);
   ch.cautions.clear();
   for (std::size_t k = 0; k < n; ++k)
     for (const auto& text : ch.stages[k].cautions) {

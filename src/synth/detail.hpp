@@ -24,9 +24,10 @@ std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Pe
 /// Fills c.worst and c.error_worst; returns the first violated constraint or empty.
 std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations);
 /// A stage net as a person at the bench would name it ("ground", "RS1-RS2 junction").
-std::string describe_net(const Candidate& c, const std::string& net);
+/// next_stage: in a chain, the stage the output feeds (0: the load).
+std::string describe_net(const Candidate& c, const std::string& net, int next_stage = 0);
 /// Fills c.cautions: hazardous supply, electrolytic polarity, unstated ratings.
-void add_cautions(Candidate& c, const Spec& spec);
+void add_cautions(Candidate& c, const Spec& spec, int next_stage = 0);
 /// Fraction of Monte Carlo builds meeting the spec (a chain: every stage drawn at once).
 double monte_carlo(const Candidate& c, const Spec& spec);
 

@@ -178,7 +178,8 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations) {
   return failed;
 }
 
-std::string describe_net(const Candidate& c, const std::string& net) {
+std::string describe_net(const Candidate& c, const std::string& net, int next_stage) {
+  if (net == "out" && next_stage > 0) return fmt::format("output side (toward stage {})", next_stage);
   if (net == "0") return "ground";
   if (net == "in") return "input (source) side";
   if (net == "out") return "output (load) side";
@@ -187,7 +188,7 @@ std::string describe_net(const Candidate& c, const std::string& net) {
   return net;
 }
 
-void add_cautions(Candidate& c, const Spec& spec) {
+void add_cautions(Candidate& c, const Spec& spec, int next_stage) {
   c.cautions.clear();
   if (spec.supply_hi_v > 60)
     c.cautions.push_back(
@@ -197,7 +198,7 @@ void add_cautions(Candidate& c, const Spec& spec) {
     if (rp.polarised)
       c.cautions.push_back(fmt::format("{} ({}) is polarised: its + lead goes to the {}; never reverse it",
                                        rp.designator, rp.role,
-                                       rp.plus_net.empty() ? "higher-voltage side" : describe_net(c, rp.plus_net)));
+                                       rp.plus_net.empty() ? "higher-voltage side" : describe_net(c, rp.plus_net, next_stage)));
     if (rp.rating <= 0)
       c.cautions.push_back(fmt::format("{} ({}): the stock does not state its {} rating; check it before fitting",
                                        rp.designator, rp.role, rp.kind == 'R' ? "power" : "voltage"));
