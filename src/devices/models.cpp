@@ -109,7 +109,7 @@ JfetInstance jfet_at(const JfetParams& p, DeviceKind kind, double idss_a, double
   return q;
 }
 
-BjtInstance bjt_at(const BjtParams& p, DeviceKind kind, double bf, double celsius) {
+BjtInstance bjt_at(const BjtParams& p, DeviceKind kind, double bf, double celsius, double vbe_shift_v) {
   // SPICE's saturation-current temperature law with XTI = 3, EG = 1.11 eV, N = 1.
   constexpr double kXti = 3.0, kEg = 1.11;
   const double t = celsius + kZeroCelsius;
@@ -117,7 +117,8 @@ BjtInstance bjt_at(const BjtParams& p, DeviceKind kind, double bf, double celsiu
   BjtInstance q;
   q.kind = kind;
   q.vt_v = thermal_voltage(celsius);
-  q.is_a = p.is_a * std::pow(t / tn, kXti) * std::exp(kEg * (t / tn - 1.0) / q.vt_v);
+  const double is_piece = p.is_a * std::exp(-vbe_shift_v / thermal_voltage(kNominalCelsius));
+  q.is_a = is_piece * std::pow(t / tn, kXti) * std::exp(kEg * (t / tn - 1.0) / q.vt_v);
   q.bf = bf * std::max(0.2, 1.0 + 0.005 * (celsius - kNominalCelsius));
   q.vaf_v = p.vaf_v;
   q.cje_f = p.cje_f;

@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <array>
+#include <cctype>
 #include <cmath>
 #include <fmt/format.h>
 #include <limits>
@@ -61,7 +62,24 @@ std::vector<Pt> polygon(double xl, double xh, double yl, double yh, double bl, d
 
 }  // namespace
 
-DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options) : record_(record) {
+std::string_view spread_model_name(SpreadModel m) { return m == SpreadModel::box ? "box" : "correlated"; }
+
+bool parse_spread_model(std::string_view text, SpreadModel& out) {
+  std::string t;
+  for (char ch : text) t += static_cast<char>(std::tolower(static_cast<unsigned char>(ch)));
+  if (t == "correlated" || t == "band" || t == "diagonal") {
+    out = SpreadModel::correlated;
+    return true;
+  }
+  if (t == "box" || t == "full") {
+    out = SpreadModel::box;
+    return true;
+  }
+  return false;
+}
+
+DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options)
+    : record_(record), model_(options.model) {
   if (is_jfet(record.kind)) {
     const JfetParams& p = record.jfet;
     const double id_lo = std::min(p.idss_a.min, p.idss_a.max);
@@ -73,22 +91,31 @@ DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options) : 
     const double id_typ = p.idss_a.typ ? *p.idss_a.typ : geo_mean(id_lo, id_hi);
     const double vp_typ = p.vp_v.typ ? std::abs(*p.vp_v.typ) : geo_mean(vp_lo, vp_hi);
     const double beta_typ = id_typ / (vp_typ * vp_typ);
-    const double k = std::max(1.0, options.beta_spread);
-    build_jfet(vp_lo, vp_hi, id_lo, id_hi, beta_typ / k, beta_typ * k, beta_typ, vp_typ);
-    description_ = "datasheet spread";
+    if (options.model == SpreadModel::box) {
+      build_jfet(vp_lo, vp_hi, id_lo, id_hi, std::nullopt, std::nullopt, beta_typ, vp_typ);
+      description_ = fmt::format("whole datasheet box (IDSS {:.3g}..{:.3g} mA x |VP| {:.3g}..{:.3g} V)", id_lo * 1e3,
+                                 id_hi * 1e3, vp_lo, vp_hi);
+    } else {
+      // NOTES 3: the band holds both diagonal pieces and the typical one, with a margin.
+      const double beta_small = id_lo / (vp_lo * vp_lo), beta_large = id_hi / (vp_hi * vp_hi);
+      const double k = std::max(1.0, options.band_margin);
+      const double lo = std::min({beta_small, beta_large, beta_typ}) / k;
+      const double hi = std::max({beta_small, beta_large, beta_typ}) * k;
+      build_jfet(vp_lo, vp_hi, id_lo, id_hi, lo, hi, beta_typ, vp_typ);
+      description_ = fmt::format("correlated datasheet spread (BETA {:.3g}..{:.3g} mA/V², both diagonal pieces; "
+                                 "IDSS {:.3g}..{:.3g} mA, |VP| {:.3g}..{:.3g} V)",
+                                 lo * 1e3, hi * 1e3, id_lo * 1e3, id_hi * 1e3, vp_lo, vp_hi);
+    }
   } else {
     const Range& h = record.bjt.hfe;
-    hfe_lo_ = std::min(h.min, h.max);
-    hfe_hi_ = std::max(h.min, h.max);
-    if (!(hfe_lo_ > 0)) throw InputError(fmt::format("device {}: hFE range must be positive", record.name));
-    nominal_.hfe = h.typ ? std::clamp(*h.typ, hfe_lo_, hfe_hi_) : geo_mean(hfe_lo_, hfe_hi_);
-    nominal_.tag = "nominal";
-    corners_ = {{0, 0, hfe_lo_, "hFE min"}, {0, 0, hfe_hi_, "hFE max"}};
-    description_ = "datasheet spread";
+    const double lo = std::min(h.min, h.max), hi = std::max(h.min, h.max);
+    if (!(lo > 0)) throw InputError(fmt::format("device {}: hFE range must be positive", record.name));
+    build_bjt(lo, hi, h.typ ? std::clamp(*h.typ, lo, hi) : geo_mean(lo, hi));
+    description_ = fmt::format("datasheet spread (hFE {:g}..{:g}, VBE ±{:g} mV)", lo, hi, vbe_spread_ * 1e3);
   }
 }
 
-DeviceSpread::DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piece) : record_(record) {
+DeviceSpread::DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piece) : record_(record), measured_(true) {
   const double u = std::clamp(piece.uncertainty, 0.0, 0.5);
   if (is_jfet(record.kind)) {
     if (!piece.idss_a || !piece.vp_v)
@@ -99,12 +126,39 @@ DeviceSpread::DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piec
     description_ = fmt::format("measured piece {} (+/-{:g}%)", piece.label, u * 100);
   } else {
     if (!piece.hfe || !(*piece.hfe > 0)) throw InputError(fmt::format("piece {}: a BJT piece needs hfe", piece.label));
-    hfe_lo_ = *piece.hfe * (1 - u);
-    hfe_hi_ = *piece.hfe * (1 + u);
-    nominal_.hfe = *piece.hfe;
-    nominal_.tag = "nominal";
-    corners_ = {{0, 0, hfe_lo_, "hFE min"}, {0, 0, hfe_hi_, "hFE max"}};
-    description_ = fmt::format("measured piece {} (+/-{:g}%)", piece.label, u * 100);
+    build_bjt(*piece.hfe * (1 - u), *piece.hfe * (1 + u), *piece.hfe);
+    description_ = fmt::format("measured piece {} (hFE +/-{:g}%, VBE ±{:g} mV)", piece.label, u * 100, vbe_spread_ * 1e3);
+  }
+}
+
+std::string_view DeviceSpread::model_name() const {
+  if (measured_) return "measured";
+  return spread_model_name(model_);
+}
+
+std::vector<PieceFigures> DeviceSpread::diagonal_pieces() const {
+  if (!is_jfet(record_.kind) || measured_) return {};
+  PieceFigures small{std::exp(y_lo_), std::exp(x_lo_), 0, "diagonal piece: smallest IDSS, smallest |VP|"};
+  PieceFigures large{std::exp(y_hi_), std::exp(x_hi_), 0, "diagonal piece: largest IDSS, largest |VP|"};
+  return {small, large};
+}
+
+void DeviceSpread::build_bjt(double hfe_lo, double hfe_hi, double hfe_nom) {
+  hfe_lo_ = hfe_lo;
+  hfe_hi_ = hfe_hi;
+  vbe_spread_ = std::max(0.0, record_.bjt.vbe_spread_v);
+  nominal_.hfe = hfe_nom;
+  nominal_.tag = "nominal";
+  corners_.clear();
+  for (double hfe : {hfe_lo_, hfe_hi_}) {
+    for (double dv : {-vbe_spread_, vbe_spread_}) {
+      PieceFigures f;
+      f.hfe = hfe;
+      f.vbe_shift_v = dv;
+      f.tag = fmt::format("hFE {} ({:g}), VBE {:+g} mV", hfe == hfe_lo_ ? "min" : "max", hfe, dv * 1e3);
+      corners_.push_back(f);
+      if (vbe_spread_ == 0) break;
+    }
   }
 }
 
@@ -119,7 +173,8 @@ void DeviceSpread::build_jfet(double vp_lo, double vp_hi, double id_lo, double i
   b_lo_ = beta_lo ? std::log(*beta_lo) : -inf;
   b_hi_ = beta_hi ? std::log(*beta_hi) : inf;
   std::vector<Pt> poly = polygon(x_lo_, x_hi_, y_lo_, y_hi_, b_lo_, b_hi_);
-  // NOTES 5: an inconsistent record (band and box apart) widens the band until they meet.
+  // The band always meets the box (it holds both diagonal pieces); kept as a guard for
+  // callers that pass a band of their own.
   for (int i = 0; poly.empty() && i < 60; ++i) {
     b_lo_ -= 0.25;
     b_hi_ += 0.25;
@@ -130,7 +185,20 @@ void DeviceSpread::build_jfet(double vp_lo, double vp_hi, double id_lo, double i
     PieceFigures f;
     f.vp_abs_v = std::exp(poly[i].x);
     f.idss_a = std::exp(poly[i].y);
-    f.tag = fmt::format("corner {} (IDSS {:.3g} mA, |VP| {:.3g} V)", i + 1, f.idss_a * 1e3, f.vp_abs_v);
+    // Which datasheet limits the piece sits on, for people.
+    const auto at = [](double v, double end) { return std::abs(v - end) < 1e-7; };
+    const bool vlo = at(poly[i].x, x_lo_), vhi = at(poly[i].x, x_hi_);
+    const bool ilo = at(poly[i].y, y_lo_), ihi = at(poly[i].y, y_hi_);
+    std::string where;
+    if ((vlo && ilo) || (vhi && ihi))
+      where = "diagonal piece, ";
+    else if ((vlo && ihi) || (vhi && ilo))
+      where = "anti-diagonal piece, ";
+    else if (vlo || vhi)
+      where = vlo ? "smallest |VP|, " : "largest |VP|, ";
+    else if (ilo || ihi)
+      where = ilo ? "smallest IDSS, " : "largest IDSS, ";
+    f.tag = fmt::format("corner {} ({}IDSS {:.3g} mA, |VP| {:.3g} V)", i + 1, where, f.idss_a * 1e3, f.vp_abs_v);
     corners_.push_back(f);
   }
   // Nominal: typical BETA at the typical |VP| (set by the caller), pulled into the polygon.
@@ -147,7 +215,8 @@ bool DeviceSpread::contains(const PieceFigures& f, double slack) const {
     return x >= x_lo_ - slack && x <= x_hi_ + slack && y >= y_lo_ - slack && y <= y_hi_ + slack &&
            y - 2 * x >= b_lo_ - slack && y - 2 * x <= b_hi_ + slack;
   }
-  return f.hfe >= hfe_lo_ * (1 - slack) && f.hfe <= hfe_hi_ * (1 + slack);
+  return f.hfe >= hfe_lo_ * (1 - slack) && f.hfe <= hfe_hi_ * (1 + slack) &&
+         std::abs(f.vbe_shift_v) <= vbe_spread_ + slack;
 }
 
 std::vector<PieceFigures> DeviceSpread::samples(std::size_t n, std::uint64_t seed) const {
@@ -181,8 +250,11 @@ std::vector<PieceFigures> DeviceSpread::samples(std::size_t n, std::uint64_t see
     }
   } else {
     const double lo = std::log(hfe_lo_), hi = std::log(hfe_hi_);
-    for (std::size_t i = 0; i < n; ++i)
-      out.push_back({0, 0, std::exp(lo + (hi - lo) * u01(rng)), fmt::format("MC {}", i + 1)});
+    for (std::size_t i = 0; i < n; ++i) {
+      PieceFigures f{0, 0, std::exp(lo + (hi - lo) * u01(rng)), fmt::format("MC {}", i + 1)};
+      f.vbe_shift_v = vbe_spread_ * (2 * u01(rng) - 1);
+      out.push_back(f);
+    }
   }
   return out;
 }
@@ -192,7 +264,7 @@ JfetInstance DeviceSpread::jfet(const PieceFigures& f, double celsius) const {
 }
 
 BjtInstance DeviceSpread::bjt(const PieceFigures& f, double celsius) const {
-  return bjt_at(record_.bjt, record_.kind, f.hfe, celsius);
+  return bjt_at(record_.bjt, record_.kind, f.hfe, celsius, f.vbe_shift_v);
 }
 
 }  // namespace shelfstage::devices

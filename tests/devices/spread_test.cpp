@@ -1,5 +1,5 @@
-// Tests of src/devices/spread.cpp: the JFET IDSS/VP correlation model (DOMAIN.md section 1,
-// "Spread"), its corners and seeded Monte Carlo, measured pieces, and BJT hFE spread.
+// Tests of src/devices/spread.cpp: the JFET IDSS/VP spread models (correlated band and whole box),
+// its corners and seeded Monte Carlo, measured pieces, and BJT hFE and VBE spread.
 #include "shelfstage/devices/spread.hpp"
 
 #include <doctest/doctest.h>
@@ -35,56 +35,110 @@ DeviceRecord npn_record() {
 
 bool near(double a, double b, double rel = 1e-6) { return std::abs(a - b) <= rel * std::abs(b); }
 
-}  // namespace
-
-TEST_CASE("JFET corners lie in the datasheet box, and BETA = IDSS/VP^2 stays in its band") {
-  const DeviceSpread s(njfet_record());
-  REQUIRE(s.corners().size() >= 3);
-  const double beta_typ = std::sqrt(1e-3 * 8e-3) / (0.8 * 4.0);  // geometric means of the ends
+// The extremes of a figure over a spread's corners.
+template <class F>
+std::pair<double, double> extent(const DeviceSpread& s, F f) {
+  double lo = 1e9, hi = 0;
   for (const auto& c : s.corners()) {
-    CAPTURE(c.tag);
-    CHECK(c.idss_a >= 1e-3 * (1 - 1e-9));
-    CHECK(c.idss_a <= 8e-3 * (1 + 1e-9));
-    CHECK(c.vp_abs_v >= 0.8 * (1 - 1e-9));
-    CHECK(c.vp_abs_v <= 4.0 * (1 + 1e-9));
-    const double beta = c.idss_a / (c.vp_abs_v * c.vp_abs_v);
-    CHECK(beta >= beta_typ / 1.6 * (1 - 1e-9));
-    CHECK(beta <= beta_typ * 1.6 * (1 + 1e-9));
-    CHECK(s.contains(c));
+    lo = std::min(lo, f(c));
+    hi = std::max(hi, f(c));
   }
-  CHECK(s.contains(s.nominal()));
-  // The corners reach both ends of the IDSS range; |VP| reaches as far as the BETA band
-  // allows inside the IDSS range (NOTES 2-3 in spread.hpp): sqrt(IDSS_min/BETA_max) and
-  // sqrt(IDSS_max/BETA_min).
-  auto by = [&](auto f) {
-    double lo = 1e9, hi = 0;
-    for (const auto& c : s.corners()) {
-      lo = std::min(lo, f(c));
-      hi = std::max(hi, f(c));
-    }
-    return std::pair{lo, hi};
-  };
-  const auto [id_lo, id_hi] = by([](const PieceFigures& c) { return c.idss_a; });
-  const auto [vp_lo, vp_hi] = by([](const PieceFigures& c) { return c.vp_abs_v; });
-  CHECK(near(id_lo, 1e-3));
-  CHECK(near(id_hi, 8e-3));
-  CHECK(near(vp_lo, std::max(0.8, std::sqrt(1e-3 / (beta_typ * 1.6)))));
-  CHECK(near(vp_hi, std::min(4.0, std::sqrt(8e-3 / (beta_typ / 1.6)))));
+  return {lo, hi};
 }
 
-TEST_CASE("No JFET corner pairs the smallest IDSS with the largest |VP|, or the largest IDSS with the smallest") {
-  const DeviceSpread s(njfet_record());
-  for (const auto& c : s.corners()) {
-    CAPTURE(c.tag);
-    CHECK_FALSE((near(c.idss_a, 1e-3, 1e-3) && near(c.vp_abs_v, 4.0, 1e-3)));
-    CHECK_FALSE((near(c.idss_a, 8e-3, 1e-3) && near(c.vp_abs_v, 0.8, 1e-3)));
+bool has_piece(const DeviceSpread& s, double idss, double vp) {
+  return std::any_of(s.corners().begin(), s.corners().end(),
+                     [&](const PieceFigures& c) { return near(c.idss_a, idss, 1e-6) && near(c.vp_abs_v, vp, 1e-6); });
+}
+
+}  // namespace
+
+// The promise a worst case makes (a datasheet's IDSS and VGS(off) limits are each met by
+// some piece; its diagonal pieces are the most real extremes): checked for both models on
+// records of several shapes, including typicals off the geometric mean.
+TEST_CASE("Both JFET models reach every datasheet limit of IDSS and VP and hold both diagonal pieces") {
+  std::vector<DeviceRecord> records = {njfet_record()};
+  DeviceRecord narrow_vp = njfet_record();  // IDSS spreads far more than VP^2
+  narrow_vp.jfet.idss_a = {0.5e-3, 20e-3, 6e-3};
+  narrow_vp.jfet.vp_v = {-1.5, -2.5, -2.0};
+  records.push_back(narrow_vp);
+  DeviceRecord wide_vp = njfet_record();  // VP^2 spreads far more than IDSS
+  wide_vp.jfet.idss_a = {2e-3, 3e-3, {}};
+  wide_vp.jfet.vp_v = {-0.6, -6.0, -1.0};
+  records.push_back(wide_vp);
+  DeviceRecord p = njfet_record();
+  p.kind = DeviceKind::pjfet;
+  p.jfet.vp_v = {0.6, 2.8, {}};
+  records.push_back(p);
+  for (const auto& r : records) {
+    for (SpreadModel m : {SpreadModel::correlated, SpreadModel::box}) {
+      const DeviceSpread s(r, {m});
+      CAPTURE(s.description());
+      const double id_lo = std::min(r.jfet.idss_a.min, r.jfet.idss_a.max), id_hi = std::max(r.jfet.idss_a.min, r.jfet.idss_a.max);
+      const double vp_lo = std::min(std::abs(r.jfet.vp_v.min), std::abs(r.jfet.vp_v.max));
+      const double vp_hi = std::max(std::abs(r.jfet.vp_v.min), std::abs(r.jfet.vp_v.max));
+      const auto [i0, i1] = extent(s, [](const PieceFigures& c) { return c.idss_a; });
+      const auto [v0, v1] = extent(s, [](const PieceFigures& c) { return c.vp_abs_v; });
+      CHECK(near(i0, id_lo));
+      CHECK(near(i1, id_hi));
+      CHECK(near(v0, vp_lo));
+      CHECK(near(v1, vp_hi));
+      CHECK(has_piece(s, id_lo, vp_lo));
+      CHECK(has_piece(s, id_hi, vp_hi));
+      const auto diagonal = s.diagonal_pieces();
+      REQUIRE(diagonal.size() == 2);
+      for (const auto& d : diagonal) CHECK(s.contains(d));
+      for (const auto& c : s.corners()) {
+        CAPTURE(c.tag);
+        CHECK(s.contains(c));
+        CHECK(c.idss_a >= id_lo * (1 - 1e-9));
+        CHECK(c.idss_a <= id_hi * (1 + 1e-9));
+        CHECK(c.vp_abs_v >= vp_lo * (1 - 1e-9));
+        CHECK(c.vp_abs_v <= vp_hi * (1 + 1e-9));
+      }
+      CHECK(s.contains(s.nominal()));
+      // Pieces at each VP limit span IDSS as far as the model allows there.
+      CHECK(std::count_if(s.corners().begin(), s.corners().end(),
+                          [&](const PieceFigures& c) { return near(c.vp_abs_v, vp_lo, 1e-6); }) >= 1);
+      CHECK(std::count_if(s.corners().begin(), s.corners().end(),
+                          [&](const PieceFigures& c) { return near(c.vp_abs_v, vp_hi, 1e-6); }) >= 1);
+    }
   }
-  // Those pieces do not exist in the model at all.
-  CHECK_FALSE(s.contains({1e-3, 4.0, 0, ""}));
-  CHECK_FALSE(s.contains({8e-3, 0.8, 0, ""}));
-  // Pieces outside the box are rejected too.
-  CHECK_FALSE(s.contains({0.5e-3, 1.0, 0, ""}));
-  CHECK_FALSE(s.contains({3e-3, 5.0, 0, ""}));
+}
+
+TEST_CASE("The correlated band cuts off only the anti-diagonal pieces; the box holds them") {
+  const DeviceRecord r = njfet_record();
+  const DeviceSpread band(r), box(r, {SpreadModel::box});
+  CHECK(band.model_name() == "correlated");
+  CHECK(box.model_name() == "box");
+  CHECK(band.description().find("correlated") != std::string::npos);
+  CHECK(box.description().find("box") != std::string::npos);
+  // BETA spans at least the diagonal pieces' BETAs (here 1.56 mA/V^2 and 0.5 mA/V^2).
+  const auto [b0, b1] = extent(band, [](const PieceFigures& c) { return c.idss_a / (c.vp_abs_v * c.vp_abs_v); });
+  CHECK(b0 <= 8e-3 / 16.0 * (1 + 1e-9));
+  CHECK(b1 >= 1e-3 / 0.64 * (1 - 1e-9));
+  // The anti-diagonal pieces: outside the band, corners of the box.
+  CHECK_FALSE(band.contains({1e-3, 4.0, 0, ""}));
+  CHECK_FALSE(band.contains({8e-3, 0.8, 0, ""}));
+  CHECK(box.contains({1e-3, 4.0, 0, ""}));
+  CHECK(box.contains({8e-3, 0.8, 0, ""}));
+  CHECK(box.corners().size() == 4);
+  CHECK(has_piece(box, 1e-3, 4.0));
+  CHECK(has_piece(box, 8e-3, 0.8));
+  // Either model rejects pieces outside the datasheet box.
+  for (const DeviceSpread* s : {&band, &box}) {
+    CHECK_FALSE(s->contains({0.5e-3, 1.0, 0, ""}));
+    CHECK_FALSE(s->contains({3e-3, 5.0, 0, ""}));
+  }
+  // Corner tags say where a piece sits.
+  CHECK(std::any_of(band.corners().begin(), band.corners().end(),
+                    [](const PieceFigures& c) { return c.tag.find("diagonal piece") != std::string::npos; }));
+  SpreadModel m;
+  CHECK(parse_spread_model("BOX", m));
+  CHECK(m == SpreadModel::box);
+  CHECK(parse_spread_model("correlated", m));
+  CHECK(m == SpreadModel::correlated);
+  CHECK_FALSE(parse_spread_model("wide", m));
 }
 
 TEST_CASE("JFET Monte Carlo: reproducible for a seed, every sample inside the model, spread over it") {
@@ -109,9 +163,10 @@ TEST_CASE("JFET Monte Carlo: reproducible for a seed, every sample inside the mo
   // 2000 draws come close to every side of the polygon.
   CHECK(id_lo < 1.15e-3);
   CHECK(id_hi > 7.0e-3);
-  CHECK(vp_lo < 0.88);  // the model's smallest |VP| is 0.84 V
-  CHECK(vp_hi > 3.6);  // and its largest 3.81 V
-  // Correlation (DOMAIN.md 1): large |VP| goes with large IDSS.
+  CHECK(vp_lo < 0.85);  // the datasheet's smallest |VP| is 0.8 V
+  CHECK(vp_hi > 3.7);   // and its largest 4 V
+  // Correlation (a piece with a large |VP| tends to have a large IDSS): large |VP| goes with
+  // large IDSS in the correlated model; in the box the two are independent.
   double mx = 0, my = 0;
   for (const auto& p : a) {
     mx += std::log(p.vp_abs_v) / 2000;
@@ -125,6 +180,14 @@ TEST_CASE("JFET Monte Carlo: reproducible for a seed, every sample inside the mo
     syy += dy * dy;
   }
   CHECK(sxy / std::sqrt(sxx * syy) > 0.7);
+  // The box draws over the whole box: anti-diagonal pieces come out too.
+  const DeviceSpread box(njfet_record(), {SpreadModel::box});
+  int small_idss_large_vp = 0;
+  for (const auto& p : box.samples(2000, 42)) {
+    CHECK(box.contains(p));
+    small_idss_large_vp += (p.idss_a < 1.5e-3 && p.vp_abs_v > 3.0) ? 1 : 0;
+  }
+  CHECK(small_idss_large_vp > 0);
 }
 
 TEST_CASE("A measured JFET piece narrows the spread to its uncertainty") {
@@ -165,23 +228,29 @@ TEST_CASE("A measured JFET piece narrows the spread to its uncertainty") {
 
 TEST_CASE("BJT hFE spread: corners at the datasheet ends, samples inside, measured piece +/- its uncertainty") {
   const DeviceSpread s(npn_record());
-  REQUIRE(s.corners().size() == 2);
+  // hFE ends crossed with VBE's spread (30 mV each way by default): four corners.
+  REQUIRE(s.corners().size() == 4);
   CHECK(s.corners()[0].hfe == doctest::Approx(100));
-  CHECK(s.corners()[1].hfe == doctest::Approx(400));
+  CHECK(s.corners()[3].hfe == doctest::Approx(400));
+  CHECK(s.corners()[0].vbe_shift_v == doctest::Approx(-0.03));
+  CHECK(s.corners()[1].vbe_shift_v == doctest::Approx(0.03));
   CHECK(s.nominal().hfe == doctest::Approx(200));
+  CHECK(s.nominal().vbe_shift_v == 0);
+  // A piece 30 mV higher in VBE at the same current has IS smaller by exp(30 mV / VT).
+  CHECK(s.bjt(s.corners()[1]).is_a / s.bjt(s.nominal()).is_a == doctest::Approx(std::exp(-0.03 / thermal_voltage(25))));
   const auto a = s.samples(300, 5), b = s.samples(300, 5);
   for (std::size_t i = 0; i < a.size(); ++i) {
     CHECK(a[i].hfe == b[i].hfe);
     CHECK(s.contains(a[i]));
   }
-  CHECK(s.bjt(s.corners()[1]).bf == doctest::Approx(400));
+  CHECK(s.bjt(s.corners()[3]).bf == doctest::Approx(400));
   MeasuredPiece m;
   m.label = "Q7";
   m.hfe = 260;
   m.uncertainty = 0.05;
   const DeviceSpread ms(npn_record(), m);
   CHECK(ms.corners()[0].hfe == doctest::Approx(247));
-  CHECK(ms.corners()[1].hfe == doctest::Approx(273));
+  CHECK(ms.corners()[3].hfe == doctest::Approx(273));
   CHECK_FALSE(ms.contains({0, 0, 200, ""}));
   DeviceRecord bad = npn_record();
   bad.bjt.hfe = {0, 0, {}};

@@ -85,6 +85,8 @@ inline constexpr double kBjtVj = 0.75, kBjtM = 0.33;
 /// (IDSS scaled by (1 + tc_idss*dT), |VP| by + tc_vp*dT; BJT IS by the SPICE XTI=3, EG=1.11
 /// law, BF by +0.5 %/K (common practice figure, from memory: hFE rises ~0.5 %/K)).
 JfetInstance jfet_at(const JfetParams& p, DeviceKind kind, double idss_a, double vp_abs_v, double celsius);
-BjtInstance bjt_at(const BjtParams& p, DeviceKind kind, double bf, double celsius);
+/// vbe_shift_v: the piece's VBE above the type's at the same current (IS scaled by
+/// exp(-vbe_shift_v/VT) at 25 °C, before the temperature law).
+BjtInstance bjt_at(const BjtParams& p, DeviceKind kind, double bf, double celsius, double vbe_shift_v = 0.0);
 
 }  // namespace shelfstage::devices

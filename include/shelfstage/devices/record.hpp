@@ -47,6 +47,11 @@ struct BjtParams {
   double cje_f = 0;        ///< base-emitter depletion capacitance, farads
   double cjc_f = 0;        ///< base-collector depletion capacitance, farads
   double vce_sat_v = 0.2;  ///< edge of saturation used for swing, volts
+  /// Spread of VBE between pieces of the type at one collector current, volts each way (a
+  /// piece's IS moves by exp(-+spread/VT)). Default 30 mV: a judgement for small-signal types
+  /// (unselected pieces of one type commonly differ by a few tens of millivolts; from
+  /// memory), conservative rather than typical.
+  double vbe_spread_v = 0.03;
 };
 
 /// One stocked transistor type.
