@@ -32,6 +32,25 @@ std::optional<std::size_t> Circuit::find_net(const std::string& name) const {
 
 void Circuit::add_edge(std::size_t a, std::size_t b, const Component& c) { boost::add_edge(a, b, c, graph_); }
 
+void Circuit::append(const Circuit& from, const Carry& carry) {
+  for (const auto& el : from.elements()) {
+    const Component& e = el.c;
+    if (carry.keep && !carry.keep(e)) continue;
+    auto pin = [&](std::size_t i) {
+      const std::string& own = from.net_name(e.pins[i]);
+      return carry.net ? carry.net(e, own) : own;
+    };
+    const std::string des = carry.designator ? carry.designator(e) : e.designator;
+    switch (e.kind) {
+      case ElementKind::resistor: resistor(des, e.role, pin(0), pin(1), e.value); break;
+      case ElementKind::capacitor: capacitor(des, e.role, pin(0), pin(1), e.value); break;
+      case ElementKind::vsource: vsource(des, e.role, pin(0), pin(1), e.value, e.ac_volts); break;
+      case ElementKind::jfet: jfet(des, pin(0), pin(1), pin(2), from.jfets()[e.device]); break;
+      case ElementKind::bjt: bjt(des, pin(0), pin(1), pin(2), from.bjts()[e.device]); break;
+    }
+  }
+}
+
 namespace {
 Component two_terminal(ElementKind kind, const std::string& des, const std::string& role, std::size_t a,
                        std::size_t b, double value) {

@@ -146,4 +146,23 @@ std::string read_input(const std::string& path, std::istream& in) {
 
 std::string input_name(const std::string& path) { return path == "-" ? "stdin" : path; }
 
+Supply parse_supply(std::string_view field, const std::string& text, bool allow_range) {
+  const auto dots = text.find("..");
+  if (dots != std::string::npos && !allow_range)
+    throw InputError(fmt::format("{} '{}': give one voltage (9, or -9 for a negative rail)", field, text));
+  const double a = parse_quantity(field, dots == std::string::npos ? text : text.substr(0, dots), units::Unit::volt);
+  const double b = dots == std::string::npos ? a : parse_quantity(field, text.substr(dots + 2), units::Unit::volt);
+  if (!std::isfinite(a) || !std::isfinite(b) || a == 0 || b == 0)
+    throw InputError(fmt::format("{} '{}' must be a voltage other than zero (9, 7..9.6, -9)", field, text));
+  if ((a < 0) != (b < 0))
+    throw InputError(fmt::format("{} '{}': a range must not cross 0 V (one rail: 7..9.6 or -7..-9.6)", field, text));
+  Supply s;
+  s.negative = a < 0;
+  if (!s.negative && b < a)
+    throw InputError(fmt::format("{} '{}': the range is upside down (low end first)", field, text));
+  s.lo_v = std::min(std::abs(a), std::abs(b));
+  s.hi_v = std::max(std::abs(a), std::abs(b));
+  return s;
+}
+
 }  // namespace shelfstage::cli

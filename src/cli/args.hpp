@@ -33,6 +33,15 @@ double parse_fraction(std::string_view field, std::string_view text);
 /// one value for both ends. The result has min <= max.
 devices::Range parse_range(std::string_view field, std::string_view text, units::Unit unit);
 
+/// A supply as the user wired it: "9", "7..9.6" (low end first), "-9" or a range of
+/// negatives in either order ("-7..-9.6"): a negative rail puts ground at the battery's +
+/// terminal. Zero and ranges crossing 0 V are refused with the field and the text.
+struct Supply {
+  double lo_v = 0, hi_v = 0;  ///< magnitudes, lo <= hi
+  bool negative = false;
+};
+Supply parse_supply(std::string_view field, const std::string& text, bool allow_range = true);
+
 /// The whole content of a file, or of `in` when path is "-". Throws InputError naming the
 /// file when it cannot be read.
 std::string read_input(const std::string& path, std::istream& in);

@@ -101,8 +101,9 @@ double positive(std::string_view field, const std::string& text, Unit unit, std:
 
 stages::Conditions conditions_from(const AnalyzeOptions& o) {
   stages::Conditions c;
-  c.supply_v = positive("--supply", o.supply, Unit::volt,
-                        " (give its magnitude: the rail is negative for P-channel and PNP devices by itself)");
+  const Supply supply = parse_supply("--supply", o.supply, false);
+  c.supply_v = supply.lo_v;
+  c.negative_rail = supply.negative;
   c.load_ohm = positive("--load", o.load, Unit::ohm);
   c.source_ohm = parse_quantity("--source-z", o.source_z, Unit::ohm);
   if (!std::isfinite(c.source_ohm) || c.source_ohm < 0)
@@ -199,8 +200,8 @@ void run_analyze(const AnalyzeOptions& o, Context& ctx) {
   const auto& c = a.stage.conditions;
   ctx.out << fmt::format("Stage: {}: {}\n", t.name(), t.summary());
   ctx.out << device_line(s, spread) << "\n";
-  ctx.out << fmt::format("Conditions: supply {}, load {}, source {}\n\n",
-                         format_value(devices::polarity(record.kind) * c.supply_v, Unit::volt),
+  ctx.out << fmt::format("Conditions: {}{} rail (ground at the battery's {} terminal), load {}, source {}\n\n",
+                         c.negative_rail ? "-" : "+", format_value(c.supply_v, Unit::volt), c.negative_rail ? "+" : "-",
                          format_value(c.load_ohm, Unit::ohm), format_value(c.source_ohm, Unit::ohm));
   ctx.out << report::parts_text(a) << "\n";
   ctx.out << report::figures_text(a);
@@ -234,7 +235,7 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
       ->type_name("")
       ->required();
   cmd->add_option("--device", o->device, "Transistor type from the device list")->type_name("NAME")->required();
-  cmd->add_option("--supply", o->supply, "Supply voltage (its magnitude: 9, 12V)")->type_name("V")->required();
+  cmd->add_option("--supply", o->supply, "Supply voltage: 9 for a positive rail, -9 for a negative one")->type_name("V")->required();
   cmd->add_option("--load", o->load, "Load resistance at the output (10k, 4k7)")->type_name("OHMS")->required();
   cmd->add_option("--source-z", o->source_z, "Output resistance of the source driving the stage (default 0)")
       ->type_name("OHMS");

@@ -52,7 +52,10 @@ void run_design(const DesignOptions& o, Context& ctx) {
 void bind_design_options(CLI::App& cmd, DesignOptions& o) {
   cmd.add_option("--gain", o.gain, "Voltage gain from the source to the load: V/V (10) or dB (20dB)")->required();
   cmd.add_option("--load", o.load, "Load resistance at the output (10k, 4k7)")->required();
-  cmd.add_option("--supply", o.supply, "Supply voltage, or its range over a battery's life (9, 7..9.6)")->required();
+  cmd.add_option("--supply", o.supply,
+                 "Supply voltage, or its range over a battery's life (9, 7..9.6); negative for a negative rail "
+                 "(-9, -7..-9.6: ground at the battery's + terminal)")
+      ->required();
   cmd.add_option("--zin", o.zin, "Lowest acceptable input impedance (1M, 100k; 0 for none)")->required();
   cmd.add_option("--source-z", o.source_z, "Output resistance of the source driving the stage (default 0)");
   cmd.add_option("--band", o.band, "Band to pass flat within 1 dB (20..20k); capacitors are sized for it");
@@ -71,6 +74,9 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
   cmd.add_option("--stages", o.stages,
                  "Stages in a row: 1 (single stages only), 2..3 (chains only) or 1..3 (default: chains when no "
                  "single stage holds the gain window at every corner)");
+  cmd.add_option("--spread", o.spread,
+                 "Which transistor pieces the worst case covers: correlated (default: JFETs between and around the "
+                 "datasheet's IDSS-VP diagonal, every limit of each reached) or box (every IDSS with every VP)");
   cmd.add_option("--seed", o.seed, "Seed of the Monte Carlo yield (default 1: reproducible)");
   cmd.add_option("--samples", o.samples, "Monte Carlo builds per listed candidate (default 500)")->check(CLI::Range(0, 1000000));
   cmd.add_flag("--no-save", o.no_save, "Do not keep the candidates in the database");
@@ -84,10 +90,10 @@ synth::Spec spec_from_options(const DesignOptions& o) {
     throw InputError(name_field(e.what(), "--gain"));
   }
   s.load_ohm = parse_positive("--load", o.load, units::Unit::ohm);
-  const auto supply = parse_span("--supply", o.supply, units::Unit::volt, true);
-  if (!(supply.first > 0)) throw InputError(fmt::format("--supply '{}' must be positive", o.supply));
-  s.supply_lo_v = supply.first;
-  s.supply_hi_v = supply.second;
+  const Supply supply = parse_supply("--supply", o.supply);
+  s.supply_lo_v = supply.lo_v;
+  s.supply_hi_v = supply.hi_v;
+  s.negative_rail = supply.negative;
   s.zin_min_ohm = parse_quantity("--zin", o.zin, units::Unit::ohm);
   if (!(s.zin_min_ohm >= 0)) throw InputError(fmt::format("--zin '{}' must be zero or positive", o.zin));
   s.source_ohm = parse_quantity("--source-z", o.source_z, units::Unit::ohm);
@@ -121,6 +127,8 @@ synth::Spec spec_from_options(const DesignOptions& o) {
   } catch (const units::ParseError& e) {
     throw InputError(name_field(e.what(), "--gain-tol"));
   }
+  if (!devices::parse_spread_model(o.spread, s.spread))
+    throw InputError(fmt::format("--spread '{}': give correlated or box", o.spread));
   s.seed = o.seed;
   s.mc_samples = o.samples;
   {

@@ -25,6 +25,7 @@ struct DesignOptions {
   std::uint64_t seed = 1;
   int samples = 500;
   std::string stages = "1..3";  ///< --stages: depth of chains, "1", "2..3", "1..3"
+  std::string spread = "correlated";  ///< --spread: correlated or box
   bool no_save = false;
 };
 

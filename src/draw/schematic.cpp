@@ -234,15 +234,44 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
   s.height = kHeight;
   for (std::size_t v = 0; v < c.net_count(); ++v) s.net_names.push_back(c.net_name(v));
 
+  // NOTES 3a: a stage turned over on its rail: the supply's sign against the device's polarity.
+  bool flipped = false;
+  {
+    double rail = 1;
+    if (const auto* vdd = c.find("VDD")) rail = vdd->c.value < 0 ? -1 : 1;
+    for (const auto& el : c.elements()) {
+      if (el.c.kind == ElementKind::jfet) flipped = (c.jfets()[el.c.device].kind == devices::DeviceKind::pjfet) == (rail > 0);
+      if (el.c.kind == ElementKind::bjt) flipped = (c.bjts()[el.c.device].kind == devices::DeviceKind::pnp) == (rail > 0);
+    }
+  }
+  // A net as the stage's N frame names it (the rails swap places in a turned-over stage).
+  auto n_frame = [&](std::string_view net) -> std::string_view {
+    if (!flipped) return net;
+    if (net == "vdd") return "0";
+    if (net == "0") return "vdd";
+    return net;
+  };
+  auto is_bench_role = [](std::string_view role) {
+    return role == "supply" || role == "signal" || role == "source" || role == "load";
+  };
+
   // A follower: the transistor's upper pin (drain or collector) on the supply net.
   bool follower = false;
   for (const auto& el : c.elements())
-    if ((el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt) && c.net_name(el.c.pins[0]) == "vdd")
+    if ((el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt) && n_frame(c.net_name(el.c.pins[0])) == "vdd")
       follower = true;
 
   for (const auto& el : c.elements()) {
     const auto& e = el.c;
-    const auto slot = slot_for(e.role, follower);
+    auto slot = slot_for(e.role, follower);
+    const bool mirrored = flipped && !is_bench_role(e.role);
+    if (slot && mirrored) {
+      slot->y = kRailSupply + kRailGround - slot->y;
+      if (slot->side == Side::above)
+        slot->side = Side::below;
+      else if (slot->side == Side::below)
+        slot->side = Side::above;
+    }
     if (!slot)
       throw InputError(fmt::format("schematic: no place for {} (role '{}'); the drawing template does not know it",
                                    e.designator, e.role));
@@ -258,14 +287,19 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
     sym.bench = std::find(o.bench.begin(), o.bench.end(), e.designator) != o.bench.end();
     const Point q = sym.centre;
     if (is_transistor(sym.kind)) {
-      // Pins in SPICE order: drain/collector on top, gate/base to the left, source/emitter below.
-      s.pins.push_back({e.designator, 0, e.pins[0], {q.x + 1, q.y - 2}, {0, -1}});
+      // Pins in SPICE order: drain/collector on top, gate/base to the left, source/emitter below
+      // (the other way up in a turned-over stage).
+      const double m = mirrored ? -1 : 1;
+      sym.flipped = mirrored;
+      s.pins.push_back({e.designator, 0, e.pins[0], {q.x + 1, q.y - 2 * m}, {0, -m}});
       s.pins.push_back({e.designator, 1, e.pins[1], {q.x - 2, q.y}, {-1, 0}});
-      s.pins.push_back({e.designator, 2, e.pins[2], {q.x + 1, q.y + 2}, {0, 1}});
+      s.pins.push_back({e.designator, 2, e.pins[2], {q.x + 1, q.y + 2 * m}, {0, m}});
       sym.body = {q.x - 1.2, q.y - 1.6, q.x + 1.85, q.y + 1.6};
     } else {
       const std::string n0 = c.net_name(e.pins[0]), n1 = c.net_name(e.pins[1]);
-      sym.first_end = sym.vertical ? (vertical_rank(n0) <= vertical_rank(n1) ? 0 : 1)
+      // A mirrored part ranks its ends as the N frame does, upside down.
+      auto v_rank = [&](const std::string& n) { return mirrored ? 5.0 - vertical_rank(n_frame(n)) : vertical_rank(n); };
+      sym.first_end = sym.vertical ? (v_rank(n0) <= v_rank(n1) ? 0 : 1)
                                    : (horizontal_rank(n0) <= horizontal_rank(n1) ? 0 : 1);
       const std::size_t second = 1 - sym.first_end;
       const Point d = sym.vertical ? Point{0, 1} : Point{1, 0};
@@ -486,10 +520,11 @@ void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
     case SymbolKind::njfet:
     case SymbolKind::pjfet: {
       const Point q = s.centre;
+      const double m = s.flipped ? -1 : 1;  // drain on top, or (turned over) at the bottom
       pen.svg.circle(pen.px({q.x + 0.35, q.y}), 1.45 * pen.u, Paint().stroke(ink, 1.2).fill(kDeviceFill));
       pen.line({q.x - 0.1, q.y - 1.1}, {q.x - 0.1, q.y + 1.1}, ink, 3.2);
-      pen.polyline({{q.x - 0.1, q.y - 0.7}, {q.x + 1, q.y - 0.7}, {q.x + 1, q.y - 2}}, ink, w);
-      pen.polyline({{q.x - 0.1, q.y + 0.7}, {q.x + 1, q.y + 0.7}, {q.x + 1, q.y + 2}}, ink, w);
+      pen.polyline({{q.x - 0.1, q.y - 0.7 * m}, {q.x + 1, q.y - 0.7 * m}, {q.x + 1, q.y - 2 * m}}, ink, w);
+      pen.polyline({{q.x - 0.1, q.y + 0.7 * m}, {q.x + 1, q.y + 0.7 * m}, {q.x + 1, q.y + 2 * m}}, ink, w);
       pen.line({q.x - 2, q.y}, {q.x - 0.1, q.y}, ink, w);
       if (s.kind == SymbolKind::njfet)
         arrow(pen, {q.x - 0.14, q.y}, {1, 0}, ink);  // N channel: the arrow points into the channel
@@ -500,12 +535,13 @@ void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
     case SymbolKind::npn:
     case SymbolKind::pnp: {
       const Point q = s.centre;
+      const double m = s.flipped ? -1 : 1;  // collector on top, or (turned over) at the bottom
       pen.svg.circle(pen.px({q.x + 0.35, q.y}), 1.45 * pen.u, Paint().stroke(ink, 1.2).fill(kDeviceFill));
       pen.line({q.x - 0.35, q.y - 0.9}, {q.x - 0.35, q.y + 0.9}, ink, 3.2);
       pen.line({q.x - 2, q.y}, {q.x - 0.35, q.y}, ink, w);
-      pen.polyline({{q.x - 0.35, q.y - 0.4}, {q.x + 1, q.y - 1.1}, {q.x + 1, q.y - 2}}, ink, w);
-      pen.polyline({{q.x - 0.35, q.y + 0.4}, {q.x + 1, q.y + 1.1}, {q.x + 1, q.y + 2}}, ink, w);
-      const Point a{q.x - 0.35, q.y + 0.4}, b{q.x + 1, q.y + 1.1};
+      pen.polyline({{q.x - 0.35, q.y - 0.4 * m}, {q.x + 1, q.y - 1.1 * m}, {q.x + 1, q.y - 2 * m}}, ink, w);
+      pen.polyline({{q.x - 0.35, q.y + 0.4 * m}, {q.x + 1, q.y + 1.1 * m}, {q.x + 1, q.y + 2 * m}}, ink, w);
+      const Point a{q.x - 0.35, q.y + 0.4 * m}, b{q.x + 1, q.y + 1.1 * m};
       const Point d{b.x - a.x, b.y - a.y};
       if (s.kind == SymbolKind::npn)
         arrow(pen, {a.x + 0.85 * d.x, a.y + 0.85 * d.y}, d, ink);  // NPN: the emitter arrow points out

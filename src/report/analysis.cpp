@@ -424,7 +424,7 @@ Json analysis_json(const Analysis& a) {
                  {"kind", std::string(devices::kind_name(q.kind))},
                  {"piece", a.stage.piece.empty() ? Json(nullptr) : Json(a.stage.piece)},
                  {"model", model}};
-  j["conditions"] = {{"supply", devices::polarity(q.kind) * c.supply_v},
+  j["conditions"] = {{"supply", (c.negative_rail ? -c.supply_v : c.supply_v)},
                      {"load", c.load_ohm},
                      {"source_z", c.source_ohm},
                      {"temp", c.celsius},
@@ -602,7 +602,7 @@ std::string stage_spice(const StageUnderTest& s) {
   o.title = fmt::format("shelfstage: {} with {}{}, supply {} V, load {} ohm, source {} ohm", t.name(),
                         s.device.empty() ? std::string(devices::kind_name(s.transistor.kind)) : s.device,
                         s.piece.empty() ? " (nominal piece)" : " (measured piece " + s.piece + ")",
-                        format_value(devices::polarity(s.transistor.kind) * s.conditions.supply_v),
+                        format_value(s.conditions.negative_rail ? -s.conditions.supply_v : s.conditions.supply_v),
                         format_value(s.conditions.load_ohm), format_value(s.conditions.source_ohm));
   o.celsius = s.conditions.celsius;
   std::string nodes;

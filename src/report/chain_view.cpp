@@ -88,7 +88,7 @@ std::string chain_spice(const synth::Candidate& c) {
   std::string names;
   for (const auto& s : c.stages) names += (names.empty() ? "" : " > ") + std::string(s.topology->name());
   o.title = fmt::format("shelfstage chain: {}, supply {} V, load {} ohm, source {} ohm", names,
-                        format_value(devices::polarity(c.stages.front().nominal_device.kind) * c.conditions.supply_v),
+                        format_value(c.conditions.negative_rail ? -c.conditions.supply_v : c.conditions.supply_v),
                         format_value(c.conditions.load_ohm), format_value(c.conditions.source_ohm));
   o.celsius = c.conditions.celsius;
   std::string nodes;

@@ -31,23 +31,10 @@ std::string tol_text(const units::Tolerance& t) {
   return minus == plus ? plus + "%" : fmt::format("-{}/+{}%", minus, plus);
 }
 
-double pol(const stages::Transistor& q) {
-  return (q.kind == devices::DeviceKind::pjfet || q.kind == devices::DeviceKind::pnp) ? -1.0 : 1.0;
-}
-
 /// A role's value by name (0 when the topology has no such role or leaves it out).
 double role_value(const synth::Candidate& c, std::string_view name) {
   const std::size_t i = c.topology->role_index(name);
   return i < c.topology->roles().size() ? c.values[i] : 0.0;
-}
-
-/// The stage is a follower when the transistor's upper pin sits on the supply.
-bool is_follower(const circuit::Circuit& net) {
-  for (const auto& el : net.elements())
-    if ((el.c.kind == circuit::ElementKind::jfet || el.c.kind == circuit::ElementKind::bjt) &&
-        net.net_name(el.c.pins[0]) == std::string(stages::kNetSupply))
-      return true;
-  return false;
 }
 
 ResponseCurve sweep(const std::function<circuit::Circuit()>& build, const std::vector<double>& f, double celsius,
@@ -251,7 +238,7 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
   const devices::DeviceSpread spread = synth::spread_of(c);
   const double celsius = spec.temp_nominal_c();
   const stages::Transistor q0 = synth::make_transistor(spread, spread.nominal(), celsius);
-  const bool follower = is_follower(t.netlist(c.values, q0, c.conditions));
+  const bool follower = t.is_buffer();
   const auto names = t.node_names();
   BiasSpread b;
   b.node = std::string(follower ? names[1] : names[2]);
@@ -297,7 +284,7 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
     }
   }
 
-  // The safe region (see the header), worked in the N frame and mirrored for P devices.
+  // The safe region (see the header), worked in the N frame and placed on the rail.
   b.swing_peak_v = spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0;
   const double vpk = b.swing_peak_v;
   const double supply = c.conditions.supply_v;
@@ -336,8 +323,8 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
         poly.push_back({std::max(0.0, supply - knee(i) - vpk), i});
       }
     }
-    const double s = pol(q0);
-    for (auto& [v, i] : poly) v *= s;
+    const stages::Rail rail = stages::rail_of(q0, c.conditions);
+    for (auto& [v, i] : poly) v = rail.real(v);
     b.safe_region = std::move(poly);
     auto mark = [&](BiasPoint& p) { p.safe = inside(b.safe_region, p.v, p.i_a); };
     mark(b.nominal);

@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/design_text.hpp"
 #include "shelfstage/stages/chain.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
@@ -49,10 +50,16 @@ Json spec_json(const synth::Spec& s) {
   Json j;
   j["gain"] = s.gain;
   j["load"] = s.load_ohm;
+  // Signed as the user gave it; a range in numeric order ([-9.6, -7] on a negative rail).
+  const double k = s.rail_sign();
   if (s.supply_lo_v == s.supply_hi_v)
-    j["supply"] = s.supply_lo_v;
+    j["supply"] = k * s.supply_lo_v;
+  else if (s.negative_rail)
+    j["supply"] = Json::array({-s.supply_hi_v, -s.supply_lo_v});
   else
     j["supply"] = Json::array({s.supply_lo_v, s.supply_hi_v});
+  j["rail"] = rail_words(s);
+  j["spread"] = std::string(devices::spread_model_name(s.spread));
   j["zin"] = s.zin_min_ohm;
   j["source_z"] = s.source_ohm;
   j["band"] = pair_or_null(s.band_hz);
@@ -83,6 +90,13 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
     } else {
       s.supply_lo_v = s.supply_hi_v = j["supply"].get<double>();
     }
+    s.negative_rail = s.supply_lo_v < 0 || s.supply_hi_v < 0;
+    const double a = std::abs(s.supply_lo_v), b = std::abs(s.supply_hi_v);
+    s.supply_lo_v = std::min(a, b);
+    s.supply_hi_v = std::max(a, b);
+    if (j.contains("spread") && j["spread"].is_string() &&
+        !devices::parse_spread_model(j["spread"].get<std::string>(), s.spread))
+      throw InputError(fmt::format("saved design: spread '{}' is not correlated or box", j["spread"].get<std::string>()));
     s.zin_min_ohm = j.at("zin").get<double>();
     s.source_ohm = j.at("source_z").get<double>();
     if (j.contains("band") && j["band"].is_array()) s.band_hz = std::make_pair(j["band"][0].get<double>(), j["band"][1].get<double>());

@@ -30,14 +30,25 @@ std::string fixed3(double v) {
   return fmt::format("{:.{}f}", v, decimals);
 }
 
+std::string rail_words(const synth::Spec& s) {
+  const std::string sign = s.negative_rail ? "-" : "+";
+  const std::string volts = s.supply_lo_v == s.supply_hi_v
+                                ? format_value(s.supply_lo_v, Unit::volt)
+                                : fmt::format("{}..{}", format_value(s.supply_lo_v), format_value(s.supply_hi_v, Unit::volt));
+  return fmt::format("{}{} rail, ground at the battery's {} terminal", sign, volts, s.negative_rail ? "+" : "-");
+}
+
+std::string spread_words(const synth::Spec& s) {
+  return s.spread == devices::SpreadModel::box
+             ? "whole-box spread (every datasheet IDSS with every VP)"
+             : "correlated spread (JFETs about the datasheet's IDSS-VP diagonal, every limit reached)";
+}
+
 std::string spec_line(const synth::Spec& s) {
   std::string out = fmt::format("gain {} ({:.1f} dB) into {}", fixed3(s.gain), units::to_db(s.gain),
                                 format_value(s.load_ohm, Unit::ohm));
   if (s.source_ohm > 0) out += fmt::format(" from {}", format_value(s.source_ohm, Unit::ohm));
-  if (s.supply_lo_v == s.supply_hi_v)
-    out += fmt::format(", supply {}", format_value(s.supply_lo_v, Unit::volt));
-  else
-    out += fmt::format(", supply {}..{}", format_value(s.supply_lo_v, Unit::volt), format_value(s.supply_hi_v, Unit::volt));
+  out += ", " + rail_words(s);
   if (s.zin_min_ohm > 0) out += fmt::format(", Zin ≥ {}", format_value(s.zin_min_ohm, Unit::ohm));
   if (s.band_hz)
     out += fmt::format(", band {}..{}", format_value(s.band_hz->first, Unit::hertz), format_value(s.band_hz->second, Unit::hertz));
@@ -46,6 +57,7 @@ std::string spec_line(const synth::Spec& s) {
   if (s.temp_c) out += fmt::format(", {:g}..{:g} °C", s.temp_c->first, s.temp_c->second);
   out += fmt::format(", {} cop{}", s.copies, s.copies == 1 ? "y" : "ies");
   if (s.piece) out += fmt::format(", piece {}", *s.piece);
+  out += ", " + spread_words(s);
   return out;
 }
 

@@ -77,8 +77,8 @@ class BjtCeDivider final : public Topology {
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
 
-  circuit::Circuit netlist(const Values& v, const Transistor& q, const Conditions& c) const override {
-    auto net = detail::bench(q, c);
+  circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
+    auto net = detail::bench(c);
     detail::add_role(net, kRoles, v, CIN, "base", "in");
     detail::add_role(net, kRoles, v, R1, "vdd", "base");
     detail::add_role(net, kRoles, v, R2, "base", "0");
@@ -92,7 +92,7 @@ class BjtCeDivider final : public Topology {
     return net;
   }
 
-  Performance evaluate(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
+  Performance evaluate_n(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
     Performance p;
     const auto& t = q.bjt;
     const double vth = c.supply_v * v[R2] / (v[R1] + v[R2]);
@@ -104,11 +104,10 @@ class BjtCeDivider final : public Topology {
       return p;
     }
     p.valid = true;
-    const double k = detail::pol(q);
     p.bias_current_a = b.ic_a;
-    p.v_in = k * b.vb_v;
-    p.v_common = k * b.ve_v;
-    p.v_out = k * b.vc_v;
+    p.v_in = b.vb_v;
+    p.v_common = b.ve_v;
+    p.v_out = b.vc_v;
     const double idiv = (c.supply_v - b.vb_v) / v[R1];  // current in the upper leg
     p.supply_current_a = b.ic_a + idiv;
     p.active = b.vce_v > t.vce_sat_v;
@@ -183,12 +182,12 @@ class BjtCeDivider final : public Topology {
       const double dth = rth / (rth + c.source_ohm);
       p.noise_v_rthz = std::sqrt(v2) / dth;
       const double i1 = idiv, i2 = b.vb_v / v[R2];
-      p.stress = {{R1, i1 * i1 * v[R1], 0, {}}, {R2, i2 * i2 * v[R2], 0, {}}, {RC, b.ic_a * b.ic_a * v[RC], 0, {}}};
-      if (v[RE1] > 0) p.stress.push_back({RE1, b.ie_a * b.ie_a * v[RE1], 0, {}});
-      if (v[RE2] > 0) p.stress.push_back({RE2, b.ie_a * b.ie_a * v[RE2], 0, {}});
-      if (v[CE] > 0) p.stress.push_back(detail::cap_stress(kRoles, CE, b.ie_a * v[RE2], q));
-      p.stress.push_back(detail::cap_stress(kRoles, CIN, b.vb_v, q));
-      p.stress.push_back(detail::cap_stress(kRoles, COUT, b.vc_v, q));
+      p.stress = {detail::res_stress(R1, i1 * i1 * v[R1]), detail::res_stress(R2, i2 * i2 * v[R2]), detail::res_stress(RC, b.ic_a * b.ic_a * v[RC])};
+      if (v[RE1] > 0) p.stress.push_back(detail::res_stress(RE1, b.ie_a * b.ie_a * v[RE1]));
+      if (v[RE2] > 0) p.stress.push_back(detail::res_stress(RE2, b.ie_a * b.ie_a * v[RE2]));
+      if (v[CE] > 0) p.stress.push_back(detail::cap_stress(CE, b.ie_a * v[RE2], v[RE1] > 0 ? "x" : "emitter"));
+      p.stress.push_back(detail::cap_stress(CIN, b.vb_v));
+      p.stress.push_back(detail::cap_stress(COUT, b.vc_v));
     }
     return p;
   }

@@ -62,8 +62,8 @@ class BjtFollower final : public Topology {
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
 
-  circuit::Circuit netlist(const Values& v, const Transistor& q, const Conditions& c) const override {
-    auto net = detail::bench(q, c);
+  circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
+    auto net = detail::bench(c);
     detail::add_role(net, kRoles, v, CIN, "base", "in");
     detail::add_role(net, kRoles, v, R1, "vdd", "base");
     detail::add_role(net, kRoles, v, R2, "base", "0");
@@ -73,7 +73,7 @@ class BjtFollower final : public Topology {
     return net;
   }
 
-  Performance evaluate(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
+  Performance evaluate_n(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
     Performance p;
     const auto& t = q.bjt;
     const double vth = c.supply_v * v[R2] / (v[R1] + v[R2]);
@@ -84,11 +84,10 @@ class BjtFollower final : public Topology {
       return p;
     }
     p.valid = true;
-    const double k = detail::pol(q);
     p.bias_current_a = b.ic_a;
-    p.v_in = k * b.vb_v;
-    p.v_common = k * b.ve_v;
-    p.v_out = k * c.supply_v;
+    p.v_in = b.vb_v;
+    p.v_common = b.ve_v;
+    p.v_out = c.supply_v;
     const double idiv = (c.supply_v - b.vb_v) / v[R1];
     p.supply_current_a = b.ic_a + idiv;
     p.active = b.vce_v > t.vce_sat_v;
@@ -146,11 +145,11 @@ class BjtFollower final : public Topology {
       v2 += kt4 * (1.0 / v[RE] + 1.0 / c.load_ohm) * kc * kc;                // RE and the load
       p.noise_v_rthz = std::sqrt(v2) / (rth / (rth + c.source_ohm));
       const double i1 = idiv, i2 = b.vb_v / v[R2];
-      p.stress = {{R1, i1 * i1 * v[R1], 0, {}},
-                  {R2, i2 * i2 * v[R2], 0, {}},
-                  {RE, b.ie_a * b.ie_a * v[RE], 0, {}},
-                  detail::cap_stress(kRoles, CIN, b.vb_v, q),
-                  detail::cap_stress(kRoles, COUT, b.ve_v, q)};
+      p.stress = {detail::res_stress(R1, i1 * i1 * v[R1]),
+                  detail::res_stress(R2, i2 * i2 * v[R2]),
+                  detail::res_stress(RE, b.ie_a * b.ie_a * v[RE]),
+                  detail::cap_stress(CIN, b.vb_v),
+                  detail::cap_stress(COUT, b.ve_v)};
     }
     return p;
   }

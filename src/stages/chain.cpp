@@ -43,42 +43,31 @@ template <class Rename, class Bench>
 void append_stage(circuit::Circuit& out, const ChainStage& st, std::size_t k, const Conditions& c, Rename rename,
                   Bench bench_wanted) {
   const circuit::Circuit one = st.topology->netlist(st.values, st.q, c);
-  std::size_t jfet = 0, bjt = 0;
   std::string joined;
   if (k > 0)
     for (const auto& el : one.elements())
       if (el.c.role == "CIN")
         joined = one.net_name(el.c.pins[0]) == kNetIn ? one.net_name(el.c.pins[1]) : one.net_name(el.c.pins[0]);
-  for (const auto& el : one.elements()) {
-    const auto& e = el.c;
-    if (k > 0 && e.role == "CIN") continue;
-    const bool bench = e.role == "supply" || e.role == "signal" || e.role == "source" || e.role == "load";
-    if (bench && !bench_wanted(e.role)) continue;
-    auto net = [&](std::size_t pin) {
-      const std::string& own = one.net_name(e.pins[pin]);
-      return rename(!joined.empty() && own == joined ? std::string(kNetIn) : own);
-    };
-    const std::string des = bench ? e.designator : chain_designator(k, e.designator);
-    switch (e.kind) {
-      case circuit::ElementKind::resistor: out.resistor(des, e.role, net(0), net(1), e.value); break;
-      case circuit::ElementKind::capacitor: out.capacitor(des, e.role, net(0), net(1), e.value); break;
-      case circuit::ElementKind::vsource: out.vsource(des, e.role, net(0), net(1), e.value, e.ac_volts); break;
-      case circuit::ElementKind::jfet: out.jfet(des, net(0), net(1), net(2), one.jfets()[jfet++]); break;
-      case circuit::ElementKind::bjt: out.bjt(des, net(0), net(1), net(2), one.bjts()[bjt++]); break;
-    }
-  }
+  circuit::Circuit::Carry carry;
+  carry.keep = [&](const circuit::Component& e) {
+    if (k > 0 && e.role == "CIN") return false;
+    return !is_bench_role(e.role) || bench_wanted(e.role);
+  };
+  carry.designator = [&](const circuit::Component& e) {
+    return is_bench_role(e.role) ? e.designator : chain_designator(k, e.designator);
+  };
+  carry.net = [&](const circuit::Component&, const std::string& own) {
+    return rename(!joined.empty() && own == joined ? std::string(kNetIn) : own);
+  };
+  out.append(one, carry);
 }
 
 }  // namespace
 
 circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditions& c) {
   if (stages.empty()) throw InputError("chain: no stages");
-  const double pol = devices::polarity(stages.front().q.kind);
-  for (const auto& s : stages) {
+  for (const auto& s : stages)
     if (!s.topology) throw InputError("chain: a stage has no topology");
-    if (devices::polarity(s.q.kind) != pol)
-      throw InputError("chain: stages of both polarities cannot share one supply (N-channel/NPN with P-channel/PNP)");
-  }
   circuit::Circuit out;
   const std::size_t n = stages.size();
   for (std::size_t k = 0; k < n; ++k) {

@@ -352,9 +352,9 @@ double thermal_v2(double r, double celsius) {
   return 4.0 * devices::kBoltzmann * (celsius + devices::kZeroCelsius) * r;
 }
 
-circuit::Circuit bench(const Transistor& q, const Conditions& c) {
+circuit::Circuit bench(const Conditions& c) {
   circuit::Circuit net;
-  net.vsource("VDD", "supply", std::string(kNetSupply), "0", pol(q) * c.supply_v);
+  net.vsource("VDD", "supply", std::string(kNetSupply), "0", c.negative_rail ? -c.supply_v : c.supply_v);
   net.vsource("VSIG", "signal", std::string(kNetSignal), "0", 0.0, 1.0);
   net.resistor("RSIG", "source", std::string(kNetSignal), std::string(kNetIn), c.source_ohm > 0 ? c.source_ohm : 1e-3);
   net.resistor("RL", "load", std::string(kNetOut), "0", c.load_ohm);
@@ -371,12 +371,12 @@ void add_role(circuit::Circuit& net, std::span<const Role> roles, const Values& 
     net.capacitor(std::string(r.designator), std::string(r.name), a, b, v[i]);
 }
 
-Stress cap_stress(std::span<const Role> roles, std::size_t role, double dc_n_v, const Transistor& q) {
-  const double actual = pol(q) * dc_n_v;  // V(pos_net) - V(neg_net) in the real circuit
+Stress cap_stress(std::size_t role, double dc_n_v, std::string_view pos, std::string_view neg) {
   Stress s;
   s.role = role;
-  s.dc_v = std::abs(actual);
-  s.plus_net = actual >= 0 ? roles[role].pos_net : roles[role].neg_net;
+  s.dc_n_v = dc_n_v;
+  s.pos_n = pos;
+  s.neg_n = neg;
   return s;
 }
 

@@ -116,15 +116,23 @@ double cbc_at(const devices::BjtInstance& q, double vbc_v);
 /// Thermal noise density squared of a resistor, V^2/Hz.
 double thermal_v2(double r_ohm, double celsius);
 
-/// The netlist scaffold shared by every stage: supply VDD on "vdd" (negative for P/PNP),
-/// signal source VSIG (AC 1) on "sig", RSIG from "sig" to "in", load RL on "out".
-circuit::Circuit bench(const Transistor& q, const Conditions& c);
+/// The netlist scaffold shared by every stage: supply VDD on "vdd" (at -supply on a negative
+/// rail), signal source VSIG (AC 1) on "sig", RSIG from "sig" to "in", load RL on "out".
+circuit::Circuit bench(const Conditions& c);
 /// Adds a role's part if present (value > 0), with its designator.
 void add_role(circuit::Circuit& net, std::span<const Role> roles, const Values& v, std::size_t role,
               const std::string& a, const std::string& b);
-/// The stress line of a capacitor whose pos_net sits dc_n_v above its neg_net in the N
-/// frame (negative dc_n_v: the other way round); the + lead follows the device polarity.
-Stress cap_stress(std::span<const Role> roles, std::size_t role, double dc_n_v, const Transistor& q);
+/// The stress line of a resistor dissipating power_w.
+inline Stress res_stress(std::size_t role, double power_w) {
+  Stress s;
+  s.role = role;
+  s.power_w = power_w;
+  return s;
+}
+/// The stress line of a capacitor whose pos end sits dc_n_v above its neg end in the N frame
+/// (negative dc_n_v: the other way round); pos and neg name the netlist's nets of those ends
+/// when they differ from the role's pos_net and neg_net. Topology::evaluate puts it on the rail.
+Stress cap_stress(std::size_t role, double dc_n_v, std::string_view pos = {}, std::string_view neg = {});
 /// Polarity of the device: +1 N/NPN, -1 P/PNP.
 inline double pol(const Transistor& q) { return devices::polarity(q.kind); }
 

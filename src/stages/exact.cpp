@@ -250,8 +250,17 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
       s.role = r;
       if (e.kind == ElementKind::resistor) s.power_w = dv * dv / e.value;
       if (e.kind == ElementKind::capacitor) {
+        // The netlist's own nets (on the user's rail), as the fast evaluator names them.
         s.dc_v = std::abs(dv);
-        s.plus_net = dv >= 0 ? roles[r].pos_net : roles[r].neg_net;
+        const auto end = [&](std::size_t pin) -> std::string_view {
+          const std::string& n = net.net_name(e.pins[pin]);
+          for (std::string_view known : {std::string_view("0"), kNetSupply, kNetIn, kNetOut, std::string_view("x"),
+                                         t.node_names()[0], t.node_names()[1], t.node_names()[2]})
+            if (n == known) return known;
+          return roles[r].pos_net;  // not reached for a topology's own netlist
+        };
+        s.plus_net = end(dv >= 0 ? 0 : 1);
+        s.minus_net = end(dv >= 0 ? 1 : 0);
       }
       p.stress.push_back(s);
     }

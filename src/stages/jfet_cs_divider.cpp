@@ -30,8 +30,8 @@ class JfetCsDivider final : public Topology {
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"gate", "source", "drain"}; }
 
-  circuit::Circuit netlist(const Values& v, const Transistor& q, const Conditions& c) const override {
-    auto net = detail::bench(q, c);
+  circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
+    auto net = detail::bench(c);
     detail::add_role(net, kRoles, v, CIN, "gate", "in");
     detail::add_role(net, kRoles, v, R1, "vdd", "gate");
     detail::add_role(net, kRoles, v, R2, "gate", "0");
@@ -45,7 +45,7 @@ class JfetCsDivider final : public Topology {
     return net;
   }
 
-  Performance evaluate(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
+  Performance evaluate_n(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
     detail::CsCircuit s;
     s.vg_v = c.supply_v * v[R2] / (v[R1] + v[R2]);
     s.r_gate_ohm = par(v[R1], v[R2]);
@@ -58,20 +58,16 @@ class JfetCsDivider final : public Topology {
     s.cout = v[COUT];
     detail::JfetBias b;
     Performance p = detail::jfet_cs(s, q.jfet, c, d, b);
-    const double k = detail::pol(q);
-    p.v_in *= k;
-    p.v_common *= k;
-    p.v_out *= k;
     if (d != Detail::core && p.valid) {
       const double i2 = b.id_a * b.id_a;
       const double idiv = s.bias_network_a;
       const double vg = s.vg_v;
-      p.stress = {{R1, idiv * idiv * v[R1], 0, {}}, {R2, idiv * idiv * v[R2], 0, {}}, {RD, i2 * v[RD], 0, {}}};
-      if (v[RS1] > 0) p.stress.push_back({RS1, i2 * v[RS1], 0, {}});
-      if (v[RS2] > 0) p.stress.push_back({RS2, i2 * v[RS2], 0, {}});
-      if (v[CS] > 0) p.stress.push_back(detail::cap_stress(kRoles, CS, b.id_a * v[RS2], q));
-      p.stress.push_back(detail::cap_stress(kRoles, CIN, vg, q));
-      p.stress.push_back(detail::cap_stress(kRoles, COUT, b.vd_v, q));
+      p.stress = {detail::res_stress(R1, idiv * idiv * v[R1]), detail::res_stress(R2, idiv * idiv * v[R2]), detail::res_stress(RD, i2 * v[RD])};
+      if (v[RS1] > 0) p.stress.push_back(detail::res_stress(RS1, i2 * v[RS1]));
+      if (v[RS2] > 0) p.stress.push_back(detail::res_stress(RS2, i2 * v[RS2]));
+      if (v[CS] > 0) p.stress.push_back(detail::cap_stress(CS, b.id_a * v[RS2], v[RS1] > 0 ? "x" : "source"));
+      p.stress.push_back(detail::cap_stress(CIN, vg));
+      p.stress.push_back(detail::cap_stress(COUT, b.vd_v));
     }
     return p;
   }

@@ -22,14 +22,14 @@ class JfetCsSelf final : public Topology {
  public:
   std::string_view name() const override { return "jfet-cs-self"; }
   std::string_view summary() const override {
-    return "JFET common source, self-biased: gate at 0 V through RG, bias from the source resistors";
+    return "JFET common source, self-biased: gate returned through RG to the source resistors' rail, bias from those resistors";
   }
   bool accepts(devices::DeviceKind k) const override { return devices::is_jfet(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"gate", "source", "drain"}; }
 
-  circuit::Circuit netlist(const Values& v, const Transistor& q, const Conditions& c) const override {
-    auto net = detail::bench(q, c);
+  circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
+    auto net = detail::bench(c);
     detail::add_role(net, kRoles, v, CIN, "gate", "in");
     detail::add_role(net, kRoles, v, RG, "gate", "0");
     detail::add_role(net, kRoles, v, RD, "vdd", "drain");
@@ -42,7 +42,7 @@ class JfetCsSelf final : public Topology {
     return net;
   }
 
-  Performance evaluate(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
+  Performance evaluate_n(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
     detail::CsCircuit s;
     s.vg_v = 0;
     s.r_gate_ohm = v[RG];
@@ -54,18 +54,14 @@ class JfetCsSelf final : public Topology {
     s.cout = v[COUT];
     detail::JfetBias b;
     Performance p = detail::jfet_cs(s, q.jfet, c, d, b);
-    const double k = detail::pol(q);
-    p.v_in *= k;
-    p.v_common *= k;
-    p.v_out *= k;
     if (d != Detail::core && p.valid) {
       const double i2 = b.id_a * b.id_a;
-      p.stress = {{RG, 0, 0, {}}, {RD, i2 * v[RD], 0, {}}};
-      if (v[RS1] > 0) p.stress.push_back({RS1, i2 * v[RS1], 0, {}});
-      if (v[RS2] > 0) p.stress.push_back({RS2, i2 * v[RS2], 0, {}});
-      if (v[CS] > 0) p.stress.push_back(detail::cap_stress(kRoles, CS, b.id_a * v[RS2], q));
-      p.stress.push_back(detail::cap_stress(kRoles, CIN, 0.0, q));
-      p.stress.push_back(detail::cap_stress(kRoles, COUT, b.vd_v, q));
+      p.stress = {detail::res_stress(RG, 0), detail::res_stress(RD, i2 * v[RD])};
+      if (v[RS1] > 0) p.stress.push_back(detail::res_stress(RS1, i2 * v[RS1]));
+      if (v[RS2] > 0) p.stress.push_back(detail::res_stress(RS2, i2 * v[RS2]));
+      if (v[CS] > 0) p.stress.push_back(detail::cap_stress(CS, b.id_a * v[RS2], v[RS1] > 0 ? "x" : "source"));
+      p.stress.push_back(detail::cap_stress(CIN, 0.0));
+      p.stress.push_back(detail::cap_stress(COUT, b.vd_v));
     }
     return p;
   }

@@ -29,8 +29,8 @@ class JfetFollower final : public Topology {
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"gate", "source", "drain"}; }
 
-  circuit::Circuit netlist(const Values& v, const Transistor& q, const Conditions& c) const override {
-    auto net = detail::bench(q, c);
+  circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
+    auto net = detail::bench(c);
     detail::add_role(net, kRoles, v, CIN, "gate", "in");
     detail::add_role(net, kRoles, v, RG, "gate", "0");
     detail::add_role(net, kRoles, v, RS, "source", "0");
@@ -39,7 +39,7 @@ class JfetFollower final : public Topology {
     return net;
   }
 
-  Performance evaluate(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
+  Performance evaluate_n(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
     Performance p;
     const auto& j = q.jfet;
     const detail::JfetBias b = detail::jfet_bias(j, 0.0, v[RS], 0.0, c.supply_v);
@@ -52,10 +52,9 @@ class JfetFollower final : public Topology {
     if (!p.active) p.problem = fmt::format("in the triode region: VDS {:.2f} V < VGS-VP {:.2f} V", b.vds_v, b.vgst_v);
     p.bias_current_a = b.id_a;
     p.supply_current_a = b.id_a;
-    const double k = detail::pol(q);
     p.v_in = 0;
-    p.v_common = k * b.vs_v;
-    p.v_out = k * c.supply_v;
+    p.v_common = b.vs_v;
+    p.v_out = c.supply_v;
     const double gm = b.gm_s;
     const double rsl = par(par(v[RS], c.load_ohm), b.ro_ohm);  // RS || RL || ro
     const double a_int = gm * rsl / (1.0 + gm * rsl);
@@ -98,8 +97,8 @@ class JfetFollower final : public Topology {
       v2 += (2.0 / 3.0) * kt4 / gm;
       v2 += kt4 * (1.0 / v[RS] + 1.0 / c.load_ohm) / (gm * gm);
       p.noise_v_rthz = std::sqrt(v2) / divider;
-      p.stress = {{RG, 0, 0, {}}, {RS, b.id_a * b.id_a * v[RS], 0, {}}, detail::cap_stress(kRoles, CIN, 0.0, q),
-                  detail::cap_stress(kRoles, COUT, b.vs_v, q)};
+      p.stress = {detail::res_stress(RG, 0), detail::res_stress(RS, b.id_a * b.id_a * v[RS]), detail::cap_stress(CIN, 0.0),
+                  detail::cap_stress(COUT, b.vs_v)};
     }
     return p;
   }

@@ -24,11 +24,4 @@ const Topology* find_topology(std::string_view name) {
   return nullptr;
 }
 
-std::size_t Topology::role_index(std::string_view role) const {
-  const auto r = roles();
-  for (std::size_t i = 0; i < r.size(); ++i)
-    if (r[i].name == role) return i;
-  return r.size();
-}
-
 }  // namespace shelfstage::stages

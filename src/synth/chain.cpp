@@ -14,7 +14,7 @@
 //  3. A graph (Boost.Graph): every pooled stage is a vertex in its position; an edge joins a
 //     stage to a stage of the next position when the second's input impedance is at least
 //     twice the first's output impedance (common practice: Zout well under the next Zin, at
-//     least a half) and both share the supply's polarity. The edge carries the loading: the
+//     least a half) (N and P stages mix on the one rail). The edge carries the loading: the
 //     first stage's gain evaluated into the second's input impedance.
 //  4. Every path through the graph is a chain; its gain is the product along the path. The
 //     paths nearest the requested gain are drawn on one quantity pool (every stage, every
@@ -301,10 +301,8 @@ class ChainSearch {
     for (std::size_t pos = 0; pos + 1 < n; ++pos) {
       for (std::size_t i = 0; i < layers[pos].size(); ++i) {
         const Candidate& a = *layers[pos][i];
-        const double pa = devices::polarity(a.device.kind);
         for (std::size_t j = 0; j < layers[pos + 1].size(); ++j) {
           const Candidate& b = *layers[pos + 1][j];
-          if (devices::polarity(b.device.kind) != pa) continue;
           const double zin = b.nominal.zin_ohm;
           if (!(zin >= 2.0 * a.nominal.zout_ohm)) continue;
           if (!link_polarity_ok(a, b)) continue;
@@ -502,10 +500,10 @@ class ChainSearch {
   }
 
   /// The DC a coupling capacitor from stage a's output node to stage b's input would hold,
-  /// at the nominal pieces (N frame: positive when a's node sits higher).
+  /// at the nominal pieces (positive when a's node sits higher; both on the one rail).
   static double link_dc(const Candidate& a, const Candidate& b) {
     const double node = stages::output_at_main(*a.topology) ? a.nominal.v_out : a.nominal.v_common;
-    return devices::polarity(a.device.kind) * (node - b.nominal.v_in);
+    return node - b.nominal.v_in;
   }
 
   /// Whether a can drive b through its COUT: an electrolytic needs a DC well clear of zero

@@ -128,9 +128,9 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
     const std::string inner(stages::output_node(*s.topology));
     const Range& node = stages::output_at_main(*s.topology) ? s.worst.v_out : s.worst.v_common;
     const Range& next = ch.stages[k + 1].worst.v_in;
-    const double pol = devices::polarity(s.device.kind);
-    const double lo = std::min(pol * node.min, pol * node.max) - std::max(pol * next.min, pol * next.max);
-    const double hi = std::max(pol * node.min, pol * node.max) - std::min(pol * next.min, pol * next.max);
+    // Real node voltages on the one rail: positive when the stage's node sits higher.
+    const double lo = node.min - next.max;
+    const double hi = node.max - next.min;
     if (it->polarised) {
       // An electrolytic wants a forward DC of a few tenths of a volt at every corner (common
       // practice); where the next stage's input sits higher, it turns round.

@@ -30,6 +30,7 @@ double score_of(const Candidate& c) {
 stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
   stages::Conditions c;
   c.supply_v = supply;
+  c.negative_rail = spec.negative_rail;
   c.load_ohm = spec.load_ohm;
   c.source_ohm = spec.source_ohm;
   c.celsius = celsius;

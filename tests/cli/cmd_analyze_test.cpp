@@ -140,10 +140,12 @@ TEST_CASE("analyze: every mistake is bad input (exit 1) with one error line nami
     a.push_back("Q3");
     CHECK(expect_error(a).err.find("'Q3' is a piece of SQ-410") != std::string::npos);
   }
-  SUBCASE("a negative supply, a rating for a part not given") {
+  SUBCASE("a supply of zero or a range, a rating for a part not given") {
     auto a = with({"RG=1M", "RD=4k7", "CIN=100n", "COUT=1u"});
-    a[7] = "-12";
-    CHECK(expect_error(a).err.find("--supply '-12'") != std::string::npos);
+    a[7] = "0";
+    CHECK(expect_error(a).err.find("--supply '0'") != std::string::npos);
+    a[7] = "9..12";
+    CHECK(expect_error(a).err.find("--supply '9..12'") != std::string::npos);
     a[7] = "12";
     a.push_back("--rating");
     a.push_back("RS1=0.25W");

@@ -78,7 +78,7 @@ TEST_CASE("show: the text a person reads, by id prefix, with a SPICE netlist for
   const auto spice = (dir / "stage.cir").string();
   const auto r = test::run_stage_cli({"--db", db, "show", id.substr(0, 5), "--spice", spice});
   REQUIRE(r.status == 0);
-  for (const char* part : {"Design ", "Request: gain 10.0 (20.0 dB) into 10kΩ from 1kΩ, supply 12V",
+  for (const char* part : {"Design ", "Request: gain 10.0 (20.0 dB) into 10kΩ from 1kΩ, +12V rail, ground at the battery's - terminal",
                            "Parts and their stress", "Nominal figures", "Worst case over", "Yield: ",
                            "corner pieces", "SPICE netlist written to"})
     CHECK_MESSAGE(r.out.find(part) != std::string::npos, part);

@@ -219,11 +219,24 @@ TEST_CASE("a polarised capacitor fitted the wrong way round warns; the right way
     CHECK(a.warnings.empty());
     CHECK(has_caution(a, "C3 (COUT) is polarised: its + lead goes to the drain"));
   }
-  SUBCASE("P-channel mirrors every voltage: the drain sits below ground, + goes to the output side") {
-    const Analysis a = report::analyze_stage(self_bias_stage(kSupply, kRd, devices::DeviceKind::pjfet));
+  SUBCASE("P-channel on a negative rail mirrors every voltage: the drain sits below ground, + to the output side") {
+    StageUnderTest p = self_bias_stage(kSupply, kRd, devices::DeviceKind::pjfet);
+    p.conditions.negative_rail = true;
+    const Analysis a = report::analyze_stage(p);
     REQUIRE(a.exact);
     CHECK(a.exact->v_out < 0);
     CHECK(part(a, "COUT").plus_net == "out");
+  }
+  SUBCASE("P-channel on a positive rail, as one battery powers it: the stage turned over, every node above ground") {
+    const Analysis a = report::analyze_stage(self_bias_stage(kSupply, kRd, devices::DeviceKind::pjfet));
+    REQUIRE(a.exact);
+    CHECK(a.exact->v_out > 0);
+    CHECK(a.exact->v_in == doctest::Approx(kSupply).epsilon(1e-4));  // the gate returned to the rail
+    CHECK(a.exact->v_common > a.exact->v_out);  // the source toward the + rail
+    CHECK(part(a, "COUT").plus_net == "drain");
+    CHECK(part(a, "CIN").plus_net == "gate");
+    // The closed form places it on the rail the same way.
+    CHECK(a.closed_form.v_out == doctest::Approx(a.exact->v_out).epsilon(0.01));
   }
 }
 

@@ -152,12 +152,14 @@ TEST_CASE("bias_spread: the nominal operating point matches ngspice's .op; corne
     CHECK(b.nominal.v == doctest::Approx(run.get(fmt::format("v({})", b.node))).epsilon(1e-3));
     CHECK(b.nominal.i_a == doctest::Approx(std::abs(run.get("iq"))).epsilon(1e-3));
 
-    // P devices sit on a negative rail: their node voltages and safe region are negative.
-    const bool p = q.kind == devices::DeviceKind::pjfet || q.kind == devices::DeviceKind::pnp;
-    CHECK((b.nominal.v < 0) == p);
+    // Every stage here is on a positive rail (P devices turned over, as one battery powers
+    // them): node voltages and the safe region lie between ground and the rail.
+    CHECK(b.nominal.v > 0);
+    CHECK(b.nominal.v < d.spec.supply_hi_v);
     REQUIRE(!b.safe_region.empty());
     for (const auto& [v, i] : b.safe_region) {
-      CHECK((p ? v <= 1e-12 : v >= -1e-12));
+      CHECK(v >= -1e-12);
+      CHECK(v <= d.spec.supply_hi_v + 1e-12);
       CHECK(i >= 0);
     }
     // The cut-off rule (DOMAIN: the output rises until the current reaches zero, about

@@ -136,11 +136,36 @@ TEST_CASE("chain netlist: one coupling capacitor between stages, designators by 
   CHECK(stages::chain_net(1, 3, "drain") == "drain2");
 }
 
-TEST_CASE("chain netlist: stages of both polarities cannot share a supply") {
-  ChainCase cc = make_chain("n > p", {{"jfet-cs-self", njfet_record()}}, 12, 10e3, 0);
-  const ChainCase p = make_chain("p", {{"bjt-follower", pnp_record()}}, 12, 10e3, 0);
-  cc.stages.push_back(p.stages.front());
-  CHECK_THROWS_AS(stages::chain_netlist(cc.stages, cc.c), InputError);
+TEST_CASE("chain netlist: stages of both polarities share one supply and one ground, every node on the rail") {
+  for (const bool negative : {false, true}) {
+    CAPTURE(negative);
+    ChainCase cc = make_chain("n > p", {{"jfet-cs-self", njfet_record()}}, 12, 10e3, 0);
+    const ChainCase p = make_chain("p", {{"bjt-follower", pnp_record()}}, 12, 10e3, 0);
+    cc.stages.push_back(p.stages.front());
+    cc.c.negative_rail = negative;
+    const circuit::Circuit net = stages::chain_netlist(cc.stages, cc.c);
+    CHECK_NOTHROW(net.validate());
+    int supplies = 0;
+    for (const auto& el : net.elements())
+      if (el.c.role == "supply") {
+        ++supplies;
+        CHECK(el.c.value == doctest::Approx(negative ? -12.0 : 12.0));
+      }
+    CHECK(supplies == 1);
+    circuit::SolverOptions so;
+    const circuit::OperatingPoint op = circuit::solve_dc(net, so);
+    for (std::size_t v = 0; v < net.net_count(); ++v) {
+      CAPTURE(net.net_name(v));
+      // Every node between ground and the rail (a self-biased gate a hair below ground).
+      if (negative) {
+        CHECK(op.node_v[v] <= 1e-3);
+        CHECK(op.node_v[v] >= -12.0 - 1e-9);
+      } else {
+        CHECK(op.node_v[v] >= -1e-3);
+        CHECK(op.node_v[v] <= 12.0 + 1e-9);
+      }
+    }
+  }
 }
 
 TEST_CASE("chains against ngspice: gain of the cascade within 3 %, exact within 0.5 %, bias within 0.1 %") {
@@ -154,11 +179,21 @@ TEST_CASE("chains against ngspice: gain of the cascade within 3 %, exact within 
       make_chain("jfet-cs-divider > bjt-ce-divider > bjt-follower",
                  {{"jfet-cs-divider", njfet_record()}, {"bjt-ce-divider", npn_record()}, {"bjt-follower", npn_record()}},
                  15, 1e3, 1e3, low_corners),
-      make_chain("P-channel and PNP: jfet-cs-self > bjt-follower",
+      make_chain("P-channel and PNP on a positive rail: jfet-cs-self > bjt-follower",
                  {{"jfet-cs-self", pjfet_record()}, {"bjt-follower", pnp_record()}}, 9, 2.2e3, 0, low_corners),
+      make_chain("N-channel then PNP on one rail: jfet-cs-self > bjt-follower",
+                 {{"jfet-cs-self", njfet_record()}, {"bjt-follower", pnp_record()}}, 12, 2.2e3, 0, low_corners),
       make_chain("bjt-ce-divider > bjt-ce-divider from 1k", {{"bjt-ce-divider", npn_record()}, {"bjt-ce-divider", npn_record()}},
                  12, 10e3, 1e3, low_corners),
   };
+  {
+    // The P chain on the negative rail it was once always given: the mirror of the above.
+    ChainCase neg = make_chain("P-channel and PNP on a negative rail: jfet-cs-self > bjt-follower",
+                               {{"jfet-cs-self", pjfet_record()}, {"bjt-follower", pnp_record()}}, 9, 2.2e3, 0,
+                               low_corners);
+    neg.c.negative_rail = true;
+    cases.push_back(neg);
+  }
   for (const auto& cc : cases) {
     CAPTURE(cc.label);
     const double f_mid = 1e3;

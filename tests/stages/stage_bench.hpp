@@ -400,6 +400,7 @@ struct Tolerances {
   double corner = 0.05;
   double noise = 0.10;
   double hd2 = 0.15;
+  double hd2_floor = 1.5e-5;  ///< absolute: the transient's own second harmonic (spice_hd2)
   double swing = 0.10;
 };
 
@@ -503,7 +504,9 @@ inline void check_against(ErrorLog& log, const StageCase& sc, const std::string&
     check_close(log, pre + "f_high", sc.label, p.f_high_hz, ng.f_high_hz, tol.corner);
   }
   check_close(log, pre + "input noise", sc.label, p.noise_v_rthz, ng.noise_v_rthz, tol.noise);
-  check_close(log, pre + "HD2", sc.label, p.hd2, ng_hd2, tol.hd2);
+  // ngspice's figure carries the coupling networks' start-up drift, about 1e-5 of the
+  // fundamental (spice_hd2): below that the two cannot be told apart.
+  check_close(log, pre + "HD2", sc.label, p.hd2, ng_hd2, tol.hd2, tol.hd2_floor);
   check_close(log, pre + "swing up", sc.label, p.swing_up_v, ng_swing.up_v, tol.swing);
   check_close(log, pre + "swing down", sc.label, p.swing_down_v, ng_swing.down_v, tol.swing);
 }

@@ -3,6 +3,7 @@
 // and its control pair) that share one designator and name all three pins.
 #pragma once
 #include <array>
+#include <functional>
 #include <map>
 #include <optional>
 #include <string>
@@ -85,6 +86,17 @@ class Circuit {
   void set_value(const std::string& designator, double value);
   /// Finds an element by designator.
   const Element* find(const std::string& designator) const;
+
+  /// How append() carries elements over: the net each pin goes to, which elements come, and
+  /// their designators (empty functions: same net, every element, same designator).
+  struct Carry {
+    std::function<std::string(const Component&, const std::string&)> net;
+    std::function<bool(const Component&)> keep;
+    std::function<std::string(const Component&)> designator;
+  };
+  /// Appends the elements of `from` to this circuit (roles, values and devices kept) as
+  /// `carry` says. The nets' DC paths are not checked until validate().
+  void append(const Circuit& from, const Carry& carry);
 
   /// Checks the circuit can be solved; throws InputError naming the node or part:
   /// every net has a DC path to ground through resistors, sources and transistor main

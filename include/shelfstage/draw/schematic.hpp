@@ -11,6 +11,10 @@
 //  3. A two-terminal part's ends are ordered by a rank of their nets: vertically the supply
 //     on top, ground at the bottom; horizontally along the signal path (source, input,
 //     control pin, the stage's output pin, output).
+//  3a. A stage turned over on its rail (a P device on a positive supply, an N device on a
+//     negative one: stages::Rail) is drawn as people draw it: the stage's own parts mirrored
+//     top to bottom (source or emitter toward the + rail on top, drain or collector toward
+//     ground), the bench (supply, signal source, load) where it always is.
 //  4. The supply net and ground are rails (horizontal lines at fixed heights) that every pin
 //     on them reaches by a vertical wire. Any other net is one straight trunk (vertical or
 //     horizontal, through the span of its pins' projections) with a straight perpendicular
@@ -67,6 +71,7 @@ struct PlacedSymbol {
   std::vector<std::string> label;  ///< designator line, value, detail
   enum class Side { left, right, above, below } label_side = Side::right;
   bool bench = false;
+  bool flipped = false;        ///< transistors: drawn upside down (source or emitter on top)
 };
 
 struct PlacedPin {

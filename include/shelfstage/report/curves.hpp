@@ -75,7 +75,7 @@ struct BiasSpread {
   /// reach zero) and without leaving the active region (VDS above the overdrive of the
   /// weakest corner piece, VCE above the device's saturation edge), with the source or
   /// emitter moving by the signal current through the unbypassed resistor; and under the
-  /// request's current limit. Voltages as the circuit has them (negative for P-channel and PNP).
+  /// request's current limit. Voltages as the circuit has them on the user's rail (stages::Rail).
   std::vector<std::pair<double, double>> safe_region;
 };
 

@@ -7,8 +7,14 @@
 
 namespace shelfstage::report {
 
-/// "gain 10 (20 dB) into 10kΩ from 1kΩ, supply 12 V, Zin ≥ 100kΩ, band 20 Hz..20 kHz, swing 2 Vpp, 1 copy"
+/// "gain 10 (20 dB) into 10kΩ from 1kΩ, +12V rail, ground at the battery's - terminal,
+/// Zin ≥ 100kΩ, band 20 Hz..20 kHz, swing 2 Vpp, 1 copy, correlated spread (...)"
 std::string spec_line(const synth::Spec& spec);
+/// The supply as the user wired it: "+9V rail, ground at the battery's - terminal",
+/// "-7..9.6V rail, ground at the battery's + terminal".
+std::string rail_words(const synth::Spec& spec);
+/// Which spread model made the worst case, for people.
+std::string spread_words(const synth::Spec& spec);
 
 /// The ranked candidates: rank, id, topology, device, gain nominal and worst range, bias
 /// current, swing (nominal and worst), band (-3 dB corners), yield, pieces; then each

@@ -47,7 +47,7 @@ std::string chain_net(std::size_t stage, std::size_t count, std::string_view net
 /// c.source_ohm) once, every stage's parts and transistor (designators renamed by
 /// chain_designator; the input capacitor of every stage after the first left out, see
 /// kLinkedCin), the load c.load_ohm on the last stage's output. All stages share one
-/// supply, so they must share one polarity (InputError otherwise).
+/// supply and one ground; N and P stages mix, each placed on the rail as Rail says.
 circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditions& c);
 
 /// One stage of a chain as its own test bench (supply, a source standing for what drives it,

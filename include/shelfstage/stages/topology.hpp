@@ -22,8 +22,8 @@ struct Role {
   bool optional;                ///< the synthesizer may leave it out (value 0)
   /// Electrolytic allowed? (coupling and bypass capacitors: yes, fitted by their DC.)
   bool polar_ok;
-  /// Capacitors: the nets of the two ends; `pos_net` sits at the higher DC voltage with an
-  /// N-channel or NPN device (the ends swap for P-channel and PNP).
+  /// Capacitors: the nets of the two ends in the stage's N frame (see Rail); `pos_net` sits
+  /// at the higher DC voltage with an N-channel or NPN device on a positive rail.
   std::string_view pos_net;
   std::string_view neg_net;
   std::string_view what;        ///< "drain load", "bypassed source resistor" ...
@@ -47,7 +47,10 @@ struct Transistor {
 
 /// What the stage is asked to work in.
 struct Conditions {
-  double supply_v = 12;   ///< supply magnitude; the rail is negative for P-channel and PNP
+  double supply_v = 12;   ///< supply magnitude (volts, > 0)
+  /// The supply as the user wired it: false for a positive rail (ground at the battery's -
+  /// terminal), true for a negative one (ground at its + terminal). See Rail.
+  bool negative_rail = false;
   double load_ohm = 10e3;
   double source_ohm = 0;
   double celsius = devices::kNominalCelsius;
@@ -62,7 +65,14 @@ struct Stress {
   std::size_t role = 0;
   double power_w = 0;  ///< resistors: I^2 R at the operating point
   double dc_v = 0;     ///< capacitors: DC across, >= 0 (from plus_net to the other end)
-  std::string_view plus_net;  ///< capacitors: the net at the higher DC voltage (the + lead)
+  std::string_view plus_net;  ///< capacitors: the netlist's net at the higher DC voltage (the + lead)
+  std::string_view minus_net; ///< capacitors: the netlist's net at the other end
+  /// Capacitors, as a topology's evaluator states them: the DC from pos to neg end in the N
+  /// frame, and the nets of those ends as its netlist names them in that frame (empty: the
+  /// role's pos_net and neg_net). Topology::evaluate turns these into dc_v, plus_net and
+  /// minus_net on the user's rail.
+  double dc_n_v = 0;
+  std::string_view pos_n, neg_n;
 };
 
 /// The figures of one stage at one set of values, device and conditions. Voltages are
@@ -90,6 +100,31 @@ struct Performance {
   double supply_current_a = 0;
   std::vector<Stress> stress;  ///< per role present
 };
+
+/// Where a stage sits on the user's supply. Every topology states its circuit in the N frame
+/// (an N-channel or NPN device, the rail "vdd" at +supply above ground "0"); Topology::netlist
+/// and Topology::evaluate place it on the rail the user gave:
+///  - N device on a positive rail, P device on a negative one: as stated (mirrored for P);
+///  - otherwise (a P device on a positive rail, as one battery powers it; an N device on a
+///    negative one) the stage is turned over: its N-frame ground is the rail and its N-frame
+///    rail is ground, so every node sits between ground and the rail, and the signal source
+///    and load stay on ground with the other stages of a chain.
+/// A node's real DC voltage is offset_v + pol * (its N-frame voltage); the bench nets "sig",
+/// "in" and "out" (source and load side, DC-free) are at 0 V either way.
+struct Rail {
+  double sign = 1;      ///< +1 positive supply, -1 negative
+  double pol = 1;       ///< device polarity: +1 N-channel/NPN, -1 P-channel/PNP
+  bool flipped = false; ///< the stage is turned over (see above)
+  double offset_v = 0;  ///< real volts of the N-frame ground
+  double real(double v_n) const { return offset_v + pol * v_n; }
+  /// The netlist's net for an N-frame net: "0" and "vdd" swap when flipped.
+  std::string_view net(std::string_view n_frame) const;
+};
+Rail rail_of(const Transistor& q, const Conditions& c);
+/// True for the nets of the bench around a stage (signal, source and load side).
+bool is_bench_net(std::string_view net);
+/// True for the roles of the bench's parts: "supply", "signal", "source" (RSIG), "load" (RL).
+bool is_bench_role(std::string_view role);
 
 /// How much the fast evaluator computes: `core` (bias, gain, Zin, Zout, swing, band-edge
 /// losses) for the search; `stress` adds part stress and noise; `full` adds HD2 and the -3 dB
@@ -140,13 +175,15 @@ class Topology {
   /// Names of the device-terminal nets ("gate","source","drain" or "base","emitter","collector").
   virtual std::array<std::string_view, 3> node_names() const = 0;
 
-  /// The whole test bench as a circuit: supply, signal source with RSIG (1 mΩ when
-  /// source_ohm is 0), the stage, and the load. Designators as roles().designator.
-  virtual circuit::Circuit netlist(const Values& values, const Transistor& q, const Conditions& c) const = 0;
+  /// The whole test bench as a circuit: supply VDD on "vdd" (at -supply on a negative rail),
+  /// signal source with RSIG (1 mΩ when source_ohm is 0), the stage placed on the rail (Rail),
+  /// and the load. Designators as roles().designator.
+  circuit::Circuit netlist(const Values& values, const Transistor& q, const Conditions& c) const;
 
-  /// The fast closed-form evaluator (the search calls it millions of times).
-  virtual Performance evaluate(const Values& values, const Transistor& q, const Conditions& c,
-                               Detail detail = Detail::core) const = 0;
+  /// The fast closed-form evaluator (the search calls it millions of times): node voltages
+  /// and capacitor stress on the user's rail.
+  Performance evaluate(const Values& values, const Transistor& q, const Conditions& c,
+                       Detail detail = Detail::core) const;
 
   /// The design equations: proposes resistor sets (capacitor roles left 0) for the goal with
   /// the nominal piece q, drawing only on values the shelf can make. Each proposal goes to
@@ -159,6 +196,16 @@ class Topology {
   /// the resistors in `values`. Optional capacitors whose resistor is absent get 0.
   virtual Values capacitor_targets(const Values& values, const Transistor& q, const Conditions& c,
                                    double f_low_hz) const = 0;
+
+ protected:
+  /// The test bench in the N frame: the bench parts from detail::bench, the stage's parts
+  /// between "vdd" and "0" as an N device takes them.
+  virtual circuit::Circuit wire(const Values& values, const Transistor& q, const Conditions& c) const = 0;
+  /// The closed form in the N frame: node voltages as an N device on a positive rail has
+  /// them, capacitor stress as dc_n_v (and pos_n, neg_n where the netlist's nets differ from
+  /// the role's).
+  virtual Performance evaluate_n(const Values& values, const Transistor& q, const Conditions& c,
+                                 Detail detail) const = 0;
 };
 
 /// Every topology, in a fixed order.

@@ -6,14 +6,21 @@
 #include <utility>
 #include <vector>
 
+#include "shelfstage/devices/spread.hpp"
+
 namespace shelfstage::synth {
 
 /// A request as `shelfstage design` takes it (INTERFACE.md), every value in SI.
 struct Spec {
   double gain = 0;                ///< |V/V| from the source to the load
   double load_ohm = 0;
-  double supply_lo_v = 0;         ///< supply range; equal ends for a fixed supply
+  double supply_lo_v = 0;         ///< supply range, magnitudes; equal ends for a fixed supply
   double supply_hi_v = 0;
+  /// A negative supply (`--supply -9`): ground at the battery's + terminal. Every stage is
+  /// placed on the rail as stages::Rail says; node voltages come out negative.
+  bool negative_rail = false;
+  /// Which JFET pieces the worst case and the Monte Carlo cover (DeviceSpread).
+  devices::SpreadModel spread = devices::SpreadModel::correlated;
   double zin_min_ohm = 0;
   double source_ohm = 0;
   std::optional<std::pair<double, double>> band_hz;  ///< flat within 1 dB across it
@@ -43,6 +50,8 @@ struct Spec {
   int mc_samples = 500;
 
   double supply_nominal_v() const { return 0.5 * (supply_lo_v + supply_hi_v); }
+  /// The rail's sign: +1, or -1 for a negative supply.
+  double rail_sign() const { return negative_rail ? -1.0 : 1.0; }
   double temp_nominal_c() const;
   /// The lowest frequency the capacitors are sized for: the band's lower edge, else 20 Hz.
   double f_low_target_hz() const { return band_hz ? band_hz->first : 20.0; }

@@ -1,0 +1,74 @@
+// What every topology shares: placing its N-frame circuit and figures on the user's rail
+// (the N/P mirror and the turned-over stage, done once here), and role lookup.
+#include "shelfstage/stages/topology.hpp"
+
+#include <cmath>
+
+namespace shelfstage::stages {
+
+bool is_bench_role(std::string_view role) {
+  return role == "supply" || role == "signal" || role == "source" || role == "load";
+}
+
+bool is_bench_net(std::string_view net) { return net == kNetSignal || net == kNetIn || net == kNetOut; }
+
+Rail rail_of(const Transistor& q, const Conditions& c) {
+  Rail r;
+  r.sign = c.negative_rail ? -1.0 : 1.0;
+  r.pol = devices::polarity(q.kind);
+  r.flipped = r.sign != r.pol;
+  r.offset_v = r.flipped ? r.sign * c.supply_v : 0.0;
+  return r;
+}
+
+std::string_view Rail::net(std::string_view n) const {
+  if (!flipped) return n;
+  if (n == "0") return kNetSupply;
+  if (n == kNetSupply) return "0";
+  return n;
+}
+
+std::size_t Topology::role_index(std::string_view role) const {
+  const auto r = roles();
+  for (std::size_t i = 0; i < r.size(); ++i)
+    if (r[i].name == role) return i;
+  return r.size();
+}
+
+circuit::Circuit Topology::netlist(const Values& values, const Transistor& q, const Conditions& c) const {
+  circuit::Circuit n_frame = wire(values, q, c);
+  const Rail rail = rail_of(q, c);
+  if (!rail.flipped) return n_frame;
+  // Turned over: the stage's own parts swap "0" and "vdd"; the bench (supply, source, load)
+  // stays on ground.
+  circuit::Circuit out;
+  circuit::Circuit::Carry carry;
+  carry.net = [&](const circuit::Component& e, const std::string& net) {
+    return is_bench_role(e.role) ? net : std::string(rail.net(net));
+  };
+  out.append(n_frame, carry);
+  return out;
+}
+
+Performance Topology::evaluate(const Values& values, const Transistor& q, const Conditions& c, Detail detail) const {
+  Performance p = evaluate_n(values, q, c, detail);
+  const Rail rail = rail_of(q, c);
+  p.v_in = rail.real(p.v_in);
+  p.v_common = rail.real(p.v_common);
+  p.v_out = rail.real(p.v_out);
+  const auto r = roles();
+  for (Stress& s : p.stress) {
+    if (s.role >= r.size() || r[s.role].kind != 'C') continue;
+    const std::string_view pos = s.pos_n.empty() ? r[s.role].pos_net : s.pos_n;
+    const std::string_view neg = s.neg_n.empty() ? r[s.role].neg_net : s.neg_n;
+    // Real DC of each end: bench nets sit at 0 V, the stage's nets at offset + pol * V_n.
+    const double actual = rail.pol * s.dc_n_v + (is_bench_net(pos) ? 0.0 : rail.offset_v) -
+                          (is_bench_net(neg) ? 0.0 : rail.offset_v);
+    s.dc_v = std::abs(actual);
+    s.plus_net = actual >= 0 ? rail.net(pos) : rail.net(neg);
+    s.minus_net = actual >= 0 ? rail.net(neg) : rail.net(pos);
+  }
+  return p;
+}
+
+}  // namespace shelfstage::stages
