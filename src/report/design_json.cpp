@@ -144,6 +144,8 @@ Json candidate_json(const synth::Candidate& c) {
   dev["model"] = model;
   j["device"] = dev;
   j["piece"] = c.piece ? Json(c.piece->label) : Json(nullptr);
+  // Which pieces the worst case covers: "correlated", "box" or "measured".
+  j["spread"] = c.piece ? std::string("measured") : std::string(devices::spread_model_name(c.spread_model));
   Json parts = Json::array();
   for (const auto& rp : c.parts) {
     Json p;
@@ -159,6 +161,14 @@ Json candidate_json(const synth::Candidate& c) {
     if (rp.kind == 'C') p["dielectric"] = rp.dielectric;
     p["polarised"] = rp.polarised;
     p["plus_net"] = rp.plus_net.empty() ? Json(nullptr) : Json(rp.plus_net);
+    if (rp.kind == 'C') {
+      // The DC across, from the + lead (or the end higher at nominal) to the other, over the
+      // nominal build and every corner, from the exact solver; and the exported netlist's
+      // nets of those leads (V(plus_node) - V(minus_node) is that DC).
+      p["dc"] = range(rp.dc);
+      p["plus_node"] = rp.plus_node.empty() ? Json(nullptr) : Json(rp.plus_node);
+      p["minus_node"] = rp.minus_node.empty() ? Json(nullptr) : Json(rp.minus_node);
+    }
     p["lines"] = rp.lines;
     if (rp.stage > 0) p["stage"] = rp.stage;
     parts.push_back(p);
@@ -242,6 +252,7 @@ synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<
     }
     c.id = j.value("id", std::string());
     c.rank = j.value("rank", 0);
+    c.spread_model = c.stages.front().spread_model;
     c.device = c.stages.front().device;
     c.piece = c.stages.front().piece;
     c.pieces = j.value("pieces", 0);
@@ -258,6 +269,10 @@ synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<
     const auto it = std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return d.name == dev; });
     if (it == devs.end()) throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev));
     c.device = *it;
+    if (j.contains("spread") && j["spread"].is_string()) {
+      devices::SpreadModel m;
+      if (devices::parse_spread_model(j["spread"].get<std::string>(), m)) c.spread_model = m;
+    }
     if (j.contains("piece") && j["piece"].is_string()) {
       const std::string label = j["piece"].get<std::string>();
       const auto pit = std::find_if(pieces.begin(), pieces.end(), [&](const auto& p) { return p.label == label; });
@@ -283,6 +298,12 @@ synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<
       rp.polarised = p.value("polarised", false);
       rp.combo.polarised = rp.polarised;
       if (p.contains("plus_net") && p["plus_net"].is_string()) rp.plus_net = p["plus_net"].get<std::string>();
+      if (p.contains("dc") && p["dc"].is_array()) {
+        rp.dc.add(p["dc"][0].get<double>());
+        rp.dc.add(p["dc"][1].get<double>());
+      }
+      if (p.contains("plus_node") && p["plus_node"].is_string()) rp.plus_node = p["plus_node"].get<std::string>();
+      if (p.contains("minus_node") && p["minus_node"].is_string()) rp.minus_node = p["minus_node"].get<std::string>();
       rp.lines = p.at("lines").get<std::vector<std::vector<std::int64_t>>>();
       rp.stage = p.value("stage", 0);
       const std::size_t i = c.topology->role_index(rp.role);

@@ -157,6 +157,46 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
   w.zout_ohm = last.zout_ohm;
   w.f_low_hz = std::sqrt(lo2);
   w.f_high_hz = inv_hi2 > 0 ? 1.0 / std::sqrt(inv_hi2) : 0.0;
+  if (detail == Detail::full) {
+    // The -3 dB points of the product of the stages' responses: where their losses, each
+    // into its own load, add up to 3 dB (the loss of a cascade is the sum of the stages').
+    auto loss = [&](double f, bool low) {
+      double sum = 0;
+      for (std::size_t k = 0; k < n; ++k) {
+        Conditions ck = r.conditions[k];
+        ck.band_lo_hz = low ? f : 0.0;
+        ck.band_hi_hz = low ? 0.0 : f;
+        const Performance p = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, Detail::core);
+        sum += low ? p.loss_lo_db : p.loss_hi_db;
+      }
+      return sum;
+    };
+    const double third = 10.0 * std::log10(2.0);  // 3.01 dB
+    double f_lo_max = 0, f_hi_min = 0;
+    for (const auto& p : r.each) {
+      f_lo_max = std::max(f_lo_max, p.f_low_hz);
+      if (p.f_high_hz > 0) f_hi_min = f_hi_min > 0 ? std::min(f_hi_min, p.f_high_hz) : p.f_high_hz;
+    }
+    if (f_lo_max > 0) {
+      // At the highest stage corner the chain is at least 3 dB down; search upward.
+      double lo = f_lo_max, hi = 2 * f_lo_max;
+      for (int i = 0; i < 40 && loss(hi, true) > third; ++i) lo = hi, hi *= 2;
+      for (int i = 0; i < 40; ++i) {
+        const double mid = std::sqrt(lo * hi);
+        (loss(mid, true) > third ? lo : hi) = mid;
+      }
+      w.f_low_hz = std::sqrt(lo * hi);
+    }
+    if (f_hi_min > 0 && f_hi_min < 1e13) {
+      double hi = f_hi_min, lo = 0.5 * f_hi_min;
+      for (int i = 0; i < 40 && loss(lo, false) > third; ++i) hi = lo, lo *= 0.5;
+      for (int i = 0; i < 40; ++i) {
+        const double mid = std::sqrt(lo * hi);
+        (loss(mid, false) > third ? hi : lo) = mid;
+      }
+      w.f_high_hz = std::sqrt(lo * hi);
+    }
+  }
   w.hd2 = last.hd2;
   w.noise_v_rthz = first.noise_v_rthz;
   return r;

@@ -372,7 +372,7 @@ class ChainSearch {
     // The corner passes on both cores; what they found is tallied after.
     std::vector<std::string> failed(linked.size());
     std::vector<long> evals(linked.size(), 0);
-    parallel_for(linked.size(), [&](std::size_t i) { failed[i] = chain_corners(linked[i], spec_, evals[i]); });
+    parallel_for(linked.size(), [&](std::size_t i) { failed[i] = chain_corners(linked[i], spec_, evals[i], Depth::search); });
     std::vector<Candidate> assessed;
     for (std::size_t i = 0; i < linked.size(); ++i) {
       tally_.evaluations += evals[i];

@@ -5,6 +5,7 @@
 #include <fmt/format.h>
 
 #include "detail.hpp"
+#include "shelfstage/circuit/solver.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/stages/chain.hpp"
 #include "shelfstage/stages/exact.hpp"
@@ -40,7 +41,33 @@ void rescore(Candidate& ch, const Spec& spec) {
 
 }  // namespace
 
-std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
+// A stage's part by role, or nullptr.
+RolePart* part_of(Candidate& s, std::string_view role) {
+  const auto it = std::find_if(s.parts.begin(), s.parts.end(), [&](const RolePart& rp) { return rp.role == role; });
+  return it == s.parts.end() ? nullptr : &*it;
+}
+
+// NOTES (a chain's worst case):
+//  1. Each stage is checked at its own corners (its piece, its parts, the supply and
+//     temperature ranges) in the conditions the chain puts it in: into the next stage's input
+//     impedance at its lowest over that stage's corners (the heaviest load: least gain and
+//     swing), its gain range widened by the highest; fed from the source (the first stage) or
+//     from its input node (the gain from there; the previous stage's gain already holds the
+//     loading). The stages' pieces and parts are independent, so the chain's gain range is the
+//     product of the stages' ranges; the shared supply and temperature are treated as if
+//     they were not (conservative).
+//  2. Output swing: the smallest over the stages of each stage's peak times the gain after it,
+//     at the lower ends and at the upper ends; never beyond the last stage's own.
+//  3. Supply current: the sum of the stages'. Zin, node voltages and bias current: the first
+//     stage's. Zout: the last stage's, fed from the previous stage's output impedance at both
+//     ends of its range (Depth::full).
+//  4. The coupling capacitor between stages holds the DC from the stage's output node to the
+//     next stage's input, bounded by the two stages' node ranges; an electrolytic must keep
+//     kPolarForwardV forward across all of it (turned round when the next stage sits higher),
+//     and its rating must hold the largest.
+//  5. Depth::full then puts every stage at its own build of lowest (highest) -3 dB corner at
+//     once, at both supply ends, for the chain's corner ranges (finish_chain).
+std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth) {
   const std::size_t n = ch.stages.size();
   const double t_nom = spec.temp_nominal_c();
   for (auto& s : ch.stages) {
@@ -56,6 +83,7 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
   // From the last stage back, so each knows the smallest gain after it (for its peak).
   double after_min = 1.0, after_max = 1.0;
   Worst w;
+  Range swing_hi;  // the upper ends of the output-referred swing, for the smallest (NOTES 2)
   const double out_peak = spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0;
   std::vector<Spec> subs(n);
   for (std::size_t k = n; k-- > 0;) {
@@ -64,11 +92,8 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
     // The coupling capacitor to the next stage holds the DC between the two stages' bias
     // points, not the DC to ground a stage alone would put on it: its polarity and rating are
     // checked for the link below, not in the stage's own corner pass.
-    RolePart* link = nullptr;
+    RolePart* link = k + 1 < n ? part_of(s, "COUT") : nullptr;
     std::string link_plus;
-    if (k + 1 < n)
-      for (auto& rp : s.parts)
-        if (rp.role == "COUT") link = &rp;
     if (link) {
       link_plus = link->plus_net;
       link->plus_net.clear();
@@ -83,69 +108,75 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
     sub.swing_vpp.reset();
     if (out_peak > 0) sub.swing_vpp = 2.0 * out_peak / after_min;
     sub.topologies = {std::string(s.topology->name())};
+    s.nominal = s.topology->evaluate(s.values, s.nominal_device, s.conditions,
+                                     depth == Depth::full ? stages::Detail::full : stages::Detail::core);
     // The next stage's input impedance moves over its own corners (a follower's with hFE):
-    // this stage is checked into the lowest (the heaviest load: least gain and swing), and its
-    // gain range widened by the highest.
+    // this stage is checked into the lowest, and its gain range widened by the highest.
     const std::string v = [&]() -> std::string {
       if (k + 1 < n && !ch.stages[k + 1].worst.zin.empty) {
         const Range& z = ch.stages[k + 1].worst.zin;
         Candidate light = s;
         Spec sub_hi = sub;
         sub_hi.load_ohm = z.max;
-        if (std::string v_hi = evaluate_worst(light, sub_hi, evaluations); !v_hi.empty()) return v_hi;
+        if (std::string v_hi = evaluate_worst(light, sub_hi, evaluations, depth); !v_hi.empty()) return v_hi;
         sub.load_ohm = z.min;
-        if (std::string v_lo = evaluate_worst(s, sub, evaluations); !v_lo.empty()) return v_lo;
+        if (std::string v_lo = evaluate_worst(s, sub, evaluations, depth); !v_lo.empty()) return v_lo;
         s.worst.gain.add(light.worst.gain.min);
         s.worst.gain.add(light.worst.gain.max);
+        s.worst.zin.add(light.worst.zin.min);
+        s.worst.zin.add(light.worst.zin.max);
         s.worst.evaluations += light.worst.evaluations;
         return {};
       }
-      return evaluate_worst(s, sub, evaluations);
+      return evaluate_worst(s, sub, evaluations, depth);
     }();
     if (link) link->plus_net = link_plus;
     if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
-    s.nominal = s.topology->evaluate(s.values, s.nominal_device, s.conditions, stages::Detail::full);
     s.error_nominal = s.error_worst = s.score = 0;
     const double lo = std::min(std::abs(s.worst.gain.min), std::abs(s.worst.gain.max));
     const double hi = std::max(std::abs(s.worst.gain.min), std::abs(s.worst.gain.max));
-    // Output-referred swing: this stage's smallest peak times the smallest gain after it.
+    // NOTES 2: output-referred swing.
     w.swing_peak.add(s.worst.swing_peak.min * after_min);
-    w.swing_peak.add(s.worst.swing_peak.max * after_max);
+    swing_hi.add(s.worst.swing_peak.max * after_max);
     w.supply_current.min += s.worst.supply_current.min;
     w.supply_current.max += s.worst.supply_current.max;
     after_min *= lo;
     after_max *= hi;
   }
   w.supply_current.empty = false;
+  w.swing_peak.max = std::max(w.swing_peak.min, swing_hi.min);
   if (spec.max_current_a && w.supply_current.max > *spec.max_current_a) return "current";
-  // The capacitor between stages now holds the DC from the stage's output node to the next
-  // stage's gate or base instead of to ground: its rating, and an electrolytic's polarity,
-  // at every corner of both.
+  // NOTES 4: the capacitor between stages, at every corner of both.
   for (std::size_t k = 0; k + 1 < n; ++k) {
     Candidate& s = ch.stages[k];
-    const auto it = std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "COUT"; });
-    if (it == s.parts.end()) continue;
+    RolePart* link = part_of(s, "COUT");
+    if (!link) continue;
     const std::string inner(stages::output_node(*s.topology));
     const Range& node = stages::output_at_main(*s.topology) ? s.worst.v_out : s.worst.v_common;
     const Range& next = ch.stages[k + 1].worst.v_in;
     // Real node voltages on the one rail: positive when the stage's node sits higher.
     const double lo = node.min - next.max;
     const double hi = node.max - next.min;
-    if (it->polarised) {
-      // An electrolytic wants a forward DC of a few tenths of a volt at every corner (common
-      // practice); where the next stage's input sits higher, it turns round.
-      if (lo >= 0.3) {
-        it->plus_net = inner;
-      } else if (hi <= -0.3) {
-        it->plus_net = std::string(stages::kNetOut);
+    if (link->polarised) {
+      // An electrolytic wants a forward DC at every corner; where the next stage's input
+      // sits higher, it turns round.
+      if (lo >= kPolarForwardV) {
+        link->plus_net = inner;
+      } else if (hi <= -kPolarForwardV) {
+        link->plus_net = std::string(stages::kNetOut);
       } else {
         return fmt::format("polarity: {} (COUT of stage {}) has {:.2f}..{:.2f} V across it with stage {}'s bias",
-                           it->designator, k + 1, lo, hi, k + 2);
+                           link->designator, k + 1, lo, hi, k + 2);
       }
     }
+    // Its DC from the + lead (a non-polarised part: the end higher at nominal).
+    const bool inner_plus = link->polarised ? link->plus_net == inner : lo + hi >= 0;
+    link->dc = {};
+    link->dc.add(inner_plus ? lo : -hi);
+    link->dc.add(inner_plus ? hi : -lo);
     const double peak = spec.swing_vpp ? *spec.swing_vpp / 2 : s.nominal.swing_peak_v;
-    if (it->rating > 0 && it->rating < 1.25 * (std::max(std::abs(lo), std::abs(hi)) + peak))
-      return fmt::format("rating: {} (COUT of stage {}) holds up to {:.3g} V DC", it->designator, k + 1,
+    if (link->rating > 0 && link->rating < 1.25 * (std::max(std::abs(lo), std::abs(hi)) + peak))
+      return fmt::format("rating: {} (COUT of stage {}) holds up to {:.3g} V DC", link->designator, k + 1,
                          std::max(std::abs(lo), std::abs(hi)));
   }
   const Candidate& first = ch.stages.front();
@@ -158,11 +189,30 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations) {
   w.v_out = first.worst.v_out;
   w.zin = first.worst.zin;
   w.zout = ch.stages.back().worst.zout;
+  if (depth == Depth::full && n > 1) {
+    // NOTES 3: the last stage's output impedance fed from the previous stage's at both ends.
+    Candidate& last = ch.stages.back();
+    const Range& zprev = ch.stages[n - 2].worst.zout;
+    Spec plain = subs[n - 1];
+    plain.band_hz.reset();
+    plain.swing_vpp.reset();
+    plain.zin_min_ohm = 0;
+    w.zout = {};
+    for (double z : {zprev.min, zprev.max}) {
+      Candidate fed = last;
+      plain.source_ohm = z;
+      if (const std::string v = evaluate_worst(fed, plain, evaluations, Depth::full); !v.empty())
+        return fmt::format("{}: stage {} fed from stage {}", v, n, n - 1);
+      w.zout.add(fed.worst.zout.min);
+      w.zout.add(fed.worst.zout.max);
+    }
+  }
   for (const auto& s : ch.stages) w.evaluations += s.worst.evaluations;
   ch.worst = w;
   ch.topology = nullptr;
   ch.device = first.device;
   ch.piece = first.piece;
+  ch.spread_model = first.spread_model;
   ch.nominal_device = first.nominal_device;
   ch.conditions = cond;
   ch.nominal = cp.whole;
@@ -208,6 +258,172 @@ std::string chain_exact(Candidate& ch, const Spec& spec, stages::Detail detail, 
   }
   ch.nominal = p;
   rescore(ch, spec);
+  return {};
+}
+
+namespace {
+
+// The chain with every stage at a build of its own (piece at its temperature, part values).
+std::vector<stages::ChainStage> at_builds(const Candidate& ch, const std::vector<const Build*>& builds) {
+  std::vector<stages::ChainStage> list = chain_stages(ch);
+  for (std::size_t k = 0; k < list.size(); ++k) {
+    if (!builds[k]) continue;
+    const devices::DeviceSpread spread = spread_of(ch.stages[k]);
+    list[k].q = make_transistor(spread, builds[k]->piece, builds[k]->celsius);
+    list[k].values = builds[k]->values;
+    const std::size_t cin = stages::input_coupling_role(*ch.stages[k].topology);
+    if (k > 0 && cin < ch.stages[k].topology->roles().size()) list[k].values[cin] = stages::kLinkedCin;
+  }
+  return list;
+}
+
+// NOTES 5: the chain's -3 dB corners with every stage at its own extreme build at once, at
+// both supply ends, by the fast cascade scaled by the exact solver's ratio at nominal (which
+// holds the stages' loading of each other's upper corners); the two that matter most to a
+// band (highest f_low, lowest f_high) are also solved exactly at the lower supply.
+std::string chain_band_corners(Candidate& ch, const Spec& spec) {
+  const std::size_t n = ch.stages.size();
+  const std::vector<stages::ChainStage> nominal = chain_stages(ch);
+  const stages::Performance fast0 = stages::evaluate_chain(nominal, ch.conditions, stages::Detail::full).whole;
+  const double r_lo = fast0.f_low_hz > 0 && ch.nominal.f_low_hz > 0 ? ch.nominal.f_low_hz / fast0.f_low_hz : 1.0;
+  const double r_hi = fast0.f_high_hz > 0 && ch.nominal.f_high_hz > 0 ? ch.nominal.f_high_hz / fast0.f_high_hz : 1.0;
+  Range f_low, f_high;
+  for (int which = 0; which < 4; ++which) {
+    std::vector<const Build*> builds(n, nullptr);
+    for (std::size_t k = 0; k < n; ++k) {
+      const Worst& sw = ch.stages[k].worst;
+      const auto& at = which < 2 ? sw.f_low_at : sw.f_high_at;
+      builds[k] = at[static_cast<std::size_t>(which % 2)] ? &*at[static_cast<std::size_t>(which % 2)] : nullptr;
+    }
+    const std::vector<stages::ChainStage> list = at_builds(ch, builds);
+    for (double vs : {spec.supply_lo_v, spec.supply_hi_v}) {
+      const stages::Conditions cond = conditions(spec, vs, spec.temp_nominal_c());
+      const stages::Performance p = stages::evaluate_chain(list, cond, stages::Detail::full).whole;
+      if (which < 2 && p.f_low_hz > 0) f_low.add(p.f_low_hz * r_lo);
+      if (which >= 2 && p.f_high_hz > 0) f_high.add(p.f_high_hz * r_hi);
+      // The exact solution where a band is lost first.
+      if (vs == spec.supply_lo_v && (which == 1 || which == 2)) {
+        try {
+          const circuit::Circuit net = stages::chain_netlist(list, cond);
+          const stages::Performance e = stages::evaluate_circuit(net, stages::chain_transistors(list), cond);
+          if (which == 1 && e.f_low_hz > 0) f_low.add(e.f_low_hz);
+          if (which == 2 && e.f_high_hz > 0) f_high.add(e.f_high_hz);
+        } catch (const Error& err) {
+          return fmt::format("bias: {} (stages at their band corners)", err.what());
+        }
+      }
+    }
+  }
+  if (ch.nominal.f_low_hz > 0) f_low.add(ch.nominal.f_low_hz);
+  if (ch.nominal.f_high_hz > 0) f_high.add(ch.nominal.f_high_hz);
+  ch.worst.f_low = f_low;
+  ch.worst.f_high = f_high;
+  return {};
+}
+
+// The DC across every capacitor of the chain from the exact solver on the whole chain: at the
+// nominal pieces, and with each stage at each of its corner pieces in turn (the others
+// nominal), at both supply ends and both temperature ends; joined with the stages' own ranges
+// (a coupling capacitor's: its bound from both stages' node ranges, chain_corners).
+std::string verify_chain_polarity(Candidate& ch, const Spec& spec) {
+  const std::size_t n = ch.stages.size();
+  std::vector<devices::DeviceSpread> spreads;
+  for (const auto& s : ch.stages) spreads.push_back(spread_of(s));
+  std::vector<double> temps = {spec.temp_nominal_c()};
+  if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
+  // Each capacitor: its stage's part, its designator as the chain netlist has it.
+  struct Leads {
+    RolePart* part = nullptr;
+    std::string plus, minus;
+  };
+  std::vector<Leads> leads;
+  for (std::size_t k = 0; k < n; ++k) {
+    Candidate& s = ch.stages[k];
+    for (auto& rp : s.parts) {
+      if (rp.kind != 'C') continue;
+      const bool link = k + 1 < n && rp.role == "COUT";
+      if (!link) rp.dc = s.worst.cap_dc[s.topology->role_index(rp.role)];
+      leads.push_back({&rp, {}, {}});
+    }
+  }
+  bool first = true;
+  auto solve = [&](const std::vector<stages::ChainStage>& list, double vs, double temp,
+                   const std::string& what) -> std::string {
+    const stages::Conditions cond = conditions(spec, vs, temp);
+    const circuit::Circuit net = stages::chain_netlist(list, cond);
+    circuit::SolverOptions so;
+    so.celsius = temp;
+    circuit::OperatingPoint op;
+    try {
+      op = circuit::solve_dc(net, so);
+    } catch (const Error& e) {
+      return fmt::format("bias: the exact solver finds no operating point ({}, {})", what, e.what());
+    }
+    for (auto& l : leads) {
+      const auto* el = net.find(l.part->designator);
+      if (!el) continue;
+      const std::string a = net.net_name(el->c.pins[0]), b = net.net_name(el->c.pins[1]);
+      const double va = op.node_v[el->c.pins[0]], vb = op.node_v[el->c.pins[1]];
+      if (first) {
+        // The + lead: the fitted one (the stage's own net name, renamed as the chain names it).
+        bool a_plus = va >= vb;
+        if (l.part->polarised && !l.part->plus_net.empty()) {
+          const std::size_t k = static_cast<std::size_t>(l.part->stage > 0 ? l.part->stage - 1 : 0);
+          a_plus = a == stages::chain_net(k, n, l.part->plus_net);
+        }
+        l.plus = a_plus ? a : b;
+        l.minus = a_plus ? b : a;
+        l.part->plus_node = l.plus;
+        l.part->minus_node = l.minus;
+      }
+      const double dc = l.plus == a ? va - vb : vb - va;
+      l.part->dc.add(dc);
+      if (l.part->polarised && dc < 0)
+        return fmt::format("polarity: {} ({}) would hold {:.2f} V from its + lead (exact solution, {})",
+                           l.part->designator, l.part->role, dc, what);
+    }
+    first = false;
+    return {};
+  };
+  const std::vector<stages::ChainStage> nominal = chain_stages(ch);
+  if (std::string v = solve(nominal, spec.supply_nominal_v(), spec.temp_nominal_c(), "nominal"); !v.empty()) return v;
+  for (double temp : temps)
+    for (double vs : {spec.supply_lo_v, spec.supply_hi_v}) {
+      if (std::string v = solve(nominal, vs, temp, "nominal pieces"); !v.empty()) return v;
+      for (std::size_t k = 0; k < n; ++k)
+        for (const auto& f : spreads[k].corners()) {
+          std::vector<stages::ChainStage> list = nominal;
+          list[k].q = make_transistor(spreads[k], f, temp);
+          if (std::string v = solve(list, vs, temp, fmt::format("stage {} {}", k + 1, f.tag)); !v.empty()) return v;
+        }
+    }
+  return {};
+}
+
+}  // namespace
+
+std::string finish_chain(Candidate& ch, const Spec& spec) {
+  long evaluations = 0;
+  if (std::string v = chain_corners(ch, spec, evaluations, Depth::full); !v.empty()) return v;
+  if (std::string v = chain_exact(ch, spec, stages::Detail::full, true); !v.empty()) return v;
+  if (std::string v = chain_band_corners(ch, spec); !v.empty()) return v;
+  // Every range holds the whole chain's nominal figures (the exact solution).
+  Worst& w = ch.worst;
+  const stages::Performance& p = ch.nominal;
+  w.swing_peak.add(p.swing_peak_v);
+  w.zin.add(p.zin_ohm);
+  w.zout.add(p.zout_ohm);
+  w.supply_current.add(p.supply_current_a);
+  w.bias_current.add(p.bias_current_a);
+  w.v_in.add(p.v_in);
+  w.v_common.add(p.v_common);
+  w.v_out.add(p.v_out);
+  w.loss_lo_db.add(p.loss_lo_db);
+  w.loss_hi_db.add(p.loss_hi_db);
+  if (std::string v = verify_chain_polarity(ch, spec); !v.empty()) return v;
+  ch.parts.clear();
+  for (const auto& s : ch.stages)
+    for (const auto& rp : s.parts) ch.parts.push_back(rp);
   return {};
 }
 

@@ -137,7 +137,7 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
       piece_(piece),
       device_available_(device_available),
       probe_(probe),
-      spread_(piece ? devices::DeviceSpread(device, *piece) : devices::DeviceSpread(device)),
+      spread_(piece ? devices::DeviceSpread(device, *piece) : devices::DeviceSpread(device, {spec.spread})),
       cache_(std::make_unique<Cache>()) {
   const double t_nom = spec.temp_nominal_c();
   q_ = make_transistor(spread_, spread_.nominal(), t_nom);
@@ -288,6 +288,7 @@ Candidate StageBuilder::candidate(const Draft& d) const {
   c.topology = &topology_;
   c.device = device_;
   if (piece_) c.piece = *piece_;
+  c.spread_model = spec_.spread;
   c.nominal_device = q_;
   c.conditions = cond_;
   c.values = d.values;
@@ -316,7 +317,7 @@ double StageBuilder::quick_score(const Draft& c, SearchStats& stats) const {
 }
 
 bool StageBuilder::assess(Candidate& c, SearchStats& stats) const {
-  const std::string v = detail::evaluate_worst(c, spec_, stats.evaluations);
+  const std::string v = detail::evaluate_worst(c, spec_, stats.evaluations, detail::Depth::search);
   if (!v.empty()) {
     ++stats.corner_failures[v.substr(0, v.find(':'))];
     return false;
@@ -528,6 +529,36 @@ std::string candidate_id(const Candidate& c, int copies) {
   return fmt::format("s{:08x}", static_cast<std::uint32_t>(fnv1a(key) ^ (fnv1a(key) >> 32)));
 }
 
+namespace {
+
+// The best K distinct designs of a ranked list (one-resistor variants of a better one are
+// left out), each finished as it is shown (the full worst case, the exact solver's DC across
+// every capacitor): one that fails there gives its place to the next. Best first.
+std::vector<Candidate> finish_top(std::vector<Candidate>& ranked, const Spec& spec, const Shelf& shelf,
+                                  SearchStats& tally) {
+  std::vector<Candidate> shown;
+  for (auto& c : ranked) {
+    const bool variant =
+        std::any_of(shown.begin(), shown.end(), [&](const Candidate& kept) { return is_variant(kept, c); });
+    if (variant) continue;
+    if (!c.is_chain()) detail::finalize(c, shelf);
+    if (const std::string v = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec); !v.empty()) {
+      ++tally.corner_failures[v.substr(0, v.find(':'))];
+      continue;
+    }
+    c.id = candidate_id(c, spec.copies);
+    shown.push_back(std::move(c));
+    if (static_cast<int>(shown.size()) >= spec.top) break;
+  }
+  std::stable_sort(shown.begin(), shown.end(), [](const Candidate& a, const Candidate& b) {
+    if (a.score != b.score) return a.score < b.score;
+    return a.pieces < b.pieces;
+  });
+  return shown;
+}
+
+}  // namespace
+
 DesignResult design(const Spec& spec, const Inventory& inv, const Progress& progress) {
   validate(spec);
   const auto start = std::chrono::steady_clock::now();
@@ -538,35 +569,28 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   so.combine = spec.combine;
   const Shelf shelf(inv.parts, so);
   SearchStats tally;
-  std::vector<Candidate> all;
-  if (spec.stages_min <= 1) all = detail::run_jobs(spec, shelf, jobs, tally, progress);
-  // Chains when no single stage holds the gain window at every corner (or when asked for).
-  const bool single_meets = std::any_of(all.begin(), all.end(), [&](const Candidate& c) {
+  // Singles first, finished as shown; chains when none of those holds the gain window at
+  // every corner (or when asked for), finished the same way; then the best of both.
+  if (spec.stages_min <= 1) {
+    std::vector<Candidate> singles = detail::run_jobs(spec, shelf, jobs, tally, progress);
+    r.candidates = finish_top(singles, spec, shelf, tally);
+  }
+  const bool single_meets = std::any_of(r.candidates.begin(), r.candidates.end(), [&](const Candidate& c) {
     return c.error_worst <= spec.gain_tol;
   });
   if (spec.stages_max >= 2 && !spec.piece && !single_meets) {
     if (progress) progress(0, 1, "chains");
-    for (auto& c : detail::design_chains(spec, inv, shelf, tally)) all.push_back(std::move(c));
-    std::stable_sort(all.begin(), all.end(), [](const Candidate& a, const Candidate& b) {
+    std::vector<Candidate> chains = detail::design_chains(spec, inv, shelf, tally);
+    for (auto& c : finish_top(chains, spec, shelf, tally)) r.candidates.push_back(std::move(c));
+    std::stable_sort(r.candidates.begin(), r.candidates.end(), [](const Candidate& a, const Candidate& b) {
       if (a.score != b.score) return a.score < b.score;
       return a.pieces < b.pieces;
     });
+    if (static_cast<int>(r.candidates.size()) > spec.top) r.candidates.resize(static_cast<std::size_t>(spec.top));
     if (progress) progress(1, 1, "chains");
   }
   r.proposals = tally.proposals;
   r.evaluations = tally.evaluations;
-  // Keep the top K distinct designs (one-resistor variants of a better one are left out),
-  // then the yield for those.
-  for (auto& c : all) {
-    const bool variant = std::any_of(r.candidates.begin(), r.candidates.end(),
-                                     [&](const Candidate& kept) { return is_variant(kept, c); });
-    if (variant) continue;
-    if (!c.is_chain()) detail::finalize(c, shelf);
-    if (c.is_chain()) detail::chain_exact(c, spec, stages::Detail::full, false);  // corners, HD2, noise of those shown
-    c.id = candidate_id(c, spec.copies);
-    r.candidates.push_back(std::move(c));
-    if (static_cast<int>(r.candidates.size()) >= spec.top) break;
-  }
   for (std::size_t i = 0; i < r.candidates.size(); ++i) {
     auto& c = r.candidates[i];
     c.rank = static_cast<int>(i) + 1;

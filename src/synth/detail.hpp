@@ -21,8 +21,20 @@ std::string violation(const Spec& spec, const stages::Performance& p);
 bool gain_ok(const Spec& spec, double gain);
 /// Power and voltage ratings and electrolytic polarity against one operating point.
 std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p);
+/// How far a worst-case pass goes: `search` for every candidate the search assesses (what
+/// decides feasibility and the score), `full` for the candidates shown (every figure, every
+/// piece's own part directions, the -3 dB corners over the capacitors' tolerances). NOTES in
+/// worst.cpp.
+enum class Depth { search, full };
+/// An electrolytic's smallest forward DC at any point checked (volts).
+inline constexpr double kPolarForwardV = 0.1;
 /// Fills c.worst and c.error_worst; returns the first violated constraint or empty.
-std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations);
+std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth);
+/// The DC across every capacitor of a single stage, from the exact solver at nominal and every
+/// corner (NOTES in worst.cpp): fills each capacitor's dc, plus_node and minus_node. Returns
+/// "polarity: ..." when a polarised part would be reversed, "bias: ..." when the solver finds
+/// no operating point; empty when all holds. Needs c.worst from a full-depth pass.
+std::string verify_polarity(Candidate& c, const Spec& spec);
 /// A stage net as a person at the bench would name it ("ground", "RS1-RS2 junction").
 /// next_stage: in a chain, the stage the output feeds (0: the load).
 std::string describe_net(const Candidate& c, const std::string& net, int next_stage = 0);
@@ -54,13 +66,21 @@ std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, con
 /// corners in the conditions the chain puts it in; fills the chain's figures from the fast
 /// evaluation, its worst range, pieces, cautions and score. Returns the first constraint
 /// broken ("swing: stage 2") or empty.
-std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations);
+std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth);
 /// The whole chain by the exact solver: its figures replace the fast ones and the worst
 /// gain range moves with the exact-to-fast ratio. Returns the constraint broken or empty.
 /// The search solves with Detail::core; the chains shown are solved again with Detail::full
 /// (corners, HD2, noise) and scale_worst false (their range is scaled already).
 std::string chain_exact(Candidate& ch, const Spec& spec, stages::Detail detail = stages::Detail::full,
                         bool scale_worst = true);
+/// A chain as it is shown: the full corner pass, the exact solution, the chain's -3 dB corners
+/// with every stage at its own extreme at once, every range holding the nominal, and the DC
+/// across every capacitor from the exact solver (NOTES in chain_eval.cpp). Returns the first
+/// constraint broken or empty.
+std::string finish_chain(Candidate& ch, const Spec& spec);
+/// A single stage as it is shown: the full-depth worst case, score and cautions, and the DC
+/// across every capacitor from the exact solver. Returns the first constraint broken or empty.
+std::string finish_stage(Candidate& c, const Spec& spec);
 /// Points a chain pays for each stage beyond the first (README "How candidates are ranked").
 inline constexpr double kStagePoints = 3.0;
 

@@ -69,114 +69,16 @@ std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Pe
     } else {
       if (part->rating > 0 && part->rating < 1.25 * (s.dc_v + peak))
         return fmt::format("rating: {} holds {:.3g} V DC", role.name, s.dc_v);
-      if (part->polarised && !part->plus_net.empty() && s.dc_v > 0.05 && s.plus_net != part->plus_net)
-        return fmt::format("polarity: {} would be reverse-biased at a corner", role.name);
-    }
-  }
-  return {};
-}
-
-namespace {
-
-// Values with each role at its bound in the direction that moves a metric up (+1) or down.
-stages::Values pushed(const Candidate& c, const std::vector<int>& dir, int sense) {
-  stages::Values v = c.values;
-  const auto roles = c.topology->roles();
-  for (const auto& rp : c.parts) {
-    const std::size_t i = c.topology->role_index(rp.role);
-    if (i >= roles.size() || dir[i] == 0) continue;
-    v[i] = dir[i] * sense > 0 ? rp.combo.hi : rp.combo.lo;
-  }
-  return v;
-}
-
-}  // namespace
-
-// NOTES (worst case):
-//  1. Device: the spread's corner pieces and its nominal piece; supply: both ends;
-//     temperature: both ends when a range is given.
-//  2. Parts: for each metric (|gain|, bias current, swing), the sign of its change with each
-//     part across that part's bounds, taken once at nominal; at every device, supply and
-//     temperature corner the parts are then set all one way and all the other way. The
-//     metric's extremes over a box are at such vertices when each part moves it one way.
-//  3. Node voltages, impedances and corners are ranged over every point evaluated.
-//  4. Hard constraints must hold at every point evaluated; ratings are checked at nominal
-//     parts on every corner.
-std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations) {
-  const auto& t = *c.topology;
-  const devices::DeviceSpread spread = spread_of(c);
-  const double t_nom = spec.temp_nominal_c();
-  const stages::Conditions nom_cond = conditions(spec, spec.supply_nominal_v(), t_nom);
-  const stages::Transistor q_nom = make_transistor(spread, spread.nominal(), t_nom);
-  const auto roles = t.roles();
-
-  // Directions of the three metrics with each part.
-  std::vector<int> d_gain(roles.size(), 0), d_cur(roles.size(), 0), d_swing(roles.size(), 0);
-  for (const auto& rp : c.parts) {
-    const std::size_t i = t.role_index(rp.role);
-    stages::Values lo = c.values, hi = c.values;
-    lo[i] = rp.combo.lo;
-    hi[i] = rp.combo.hi;
-    const auto pl = t.evaluate(lo, q_nom, nom_cond), ph = t.evaluate(hi, q_nom, nom_cond);
-    evaluations += 2;
-    auto sgn = [](double a, double b) { return b > a ? 1 : (b < a ? -1 : 0); };
-    d_gain[i] = sgn(std::abs(pl.gain), std::abs(ph.gain));
-    d_cur[i] = sgn(pl.bias_current_a, ph.bias_current_a);
-    d_swing[i] = sgn(pl.swing_peak_v, ph.swing_peak_v);
-  }
-  const stages::Values sets[6] = {c.values,           pushed(c, d_gain, +1), pushed(c, d_gain, -1),
-                                  pushed(c, d_cur, +1), pushed(c, d_cur, -1),  pushed(c, d_swing, -1)};
-
-  std::vector<devices::PieceFigures> figs = spread.corners();
-  figs.push_back(spread.nominal());
-  std::vector<double> supplies = {spec.supply_lo_v};
-  if (spec.supply_hi_v > spec.supply_lo_v) supplies.push_back(spec.supply_hi_v);
-  std::vector<double> temps = {t_nom};
-  if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
-
-  Worst w;
-  std::string failed;
-  c.error_worst = 0;
-  for (const auto& f : figs) {
-    for (double temp : temps) {
-      const stages::Transistor q = make_transistor(spread, f, temp);
-      for (double vs : supplies) {
-        const stages::Conditions cond = conditions(spec, vs, temp);
-        for (int k = 0; k < 6; ++k) {
-          const auto p = t.evaluate(sets[k], q, cond, k == 0 ? stages::Detail::full : stages::Detail::core);
-          ++evaluations;
-          ++w.evaluations;
-          if (failed.empty()) failed = violation(spec, p);
-          if (!failed.empty()) {  // rejected: its ranges no longer matter
-            c.worst = w;
-            return failed;
-          }
-          w.gain.add(p.gain);
-          w.bias_current.add(p.bias_current_a);
-          w.swing_peak.add(p.swing_peak_v);
-          w.v_in.add(p.v_in);
-          w.v_common.add(p.v_common);
-          w.v_out.add(p.v_out);
-          w.zin.add(p.zin_ohm);
-          w.zout.add(p.zout_ohm);
-          if (k == 0) {  // the -3 dB corners are computed at full detail only
-            w.f_low.add(p.f_low_hz);
-            w.f_high.add(p.f_high_hz);
-          }
-          w.supply_current.add(p.supply_current_a);
-          w.loss_lo_db.add(p.loss_lo_db);
-          w.loss_hi_db.add(p.loss_hi_db);
-          c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
-          if (k == 0 && vs == spec.supply_hi_v) {
-            failed = check_ratings(spec, c, p);
-            if (!failed.empty()) return failed;
-          }
-        }
+      // An electrolytic keeps a forward DC of at least kPolarForwardV (common practice: a
+      // polarised part is never left near zero or reversed) at every point checked.
+      if (part->polarised && !part->plus_net.empty()) {
+        const double forward = s.plus_net == part->plus_net ? s.dc_v : -s.dc_v;
+        if (forward < kPolarForwardV)
+          return fmt::format("polarity: {} would hold {:.2f} V from its + lead at a corner", role.name, forward);
       }
     }
   }
-  c.worst = w;
-  return failed;
+  return {};
 }
 
 std::string describe_net(const Candidate& c, const std::string& net, int next_stage) {
@@ -287,33 +189,35 @@ stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices
 }
 
 devices::DeviceSpread spread_of(const Candidate& c) {
-  return c.piece ? devices::DeviceSpread(c.device, *c.piece) : devices::DeviceSpread(c.device);
+  return c.piece ? devices::DeviceSpread(c.device, *c.piece) : devices::DeviceSpread(c.device, {c.spread_model});
 }
 
-void evaluate_candidate(Candidate& c, const Spec& spec) {
+std::string detail::finish_stage(Candidate& c, const Spec& spec) {
   long n = 0;
-  if (c.is_chain()) {
-    // A constraint that no longer holds (the device list changed) is said, not hidden: the
-    // figures after it are not computed.
-    std::string broken = detail::chain_corners(c, spec, n);
-    if (broken.empty()) broken = detail::chain_exact(c, spec);
-    if (!broken.empty()) {
-      c.cautions.insert(c.cautions.begin(),
-                        "this chain no longer holds at every corner with today's device list (" + broken +
-                            "); design it again before building it");
-      return;
-    }
-    c.yield = detail::monte_carlo(c, spec);
-    return;
-  }
+  c.spread_model = spec.spread;
   const devices::DeviceSpread spread = spread_of(c);
   c.conditions = detail::conditions(spec, spec.supply_nominal_v(), spec.temp_nominal_c());
   c.nominal_device = make_transistor(spread, spread.nominal(), spec.temp_nominal_c());
   c.nominal = c.topology->evaluate(c.values, c.nominal_device, c.conditions, stages::Detail::full);
   c.error_nominal = std::abs(c.nominal.gain) / spec.gain - 1.0;
-  detail::evaluate_worst(c, spec, n);
+  if (std::string v = detail::evaluate_worst(c, spec, n, Depth::full); !v.empty()) return v;
+  if (std::string v = detail::verify_polarity(c, spec); !v.empty()) return v;
   c.score = detail::score_of(c);
   detail::add_cautions(c, spec);
+  return {};
+}
+
+void evaluate_candidate(Candidate& c, const Spec& spec) {
+  // A constraint that no longer holds (the device list changed) is said, not hidden.
+  if (c.is_chain())
+    for (auto& s : c.stages) s.spread_model = spec.spread;
+  const std::string broken = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec);
+  if (!broken.empty()) {
+    c.cautions.insert(c.cautions.begin(), fmt::format("this {} no longer holds at every corner with today's device "
+                                                      "list ({}); design it again before building it",
+                                                      c.is_chain() ? "chain" : "design", broken));
+    return;
+  }
   c.yield = detail::monte_carlo(c, spec);
 }
 

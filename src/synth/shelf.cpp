@@ -190,17 +190,37 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
     return true;
   };
   for (auto i : idx) make(Join::single, {i});
+  // A combination must buy accuracy (NOTES in shelf.hpp): the piece that moves the value
+  // least must move it by more than the tolerance of the piece that sets it.
+  auto widest = [&](std::uint32_t g) { return std::max(groups_[g].tol.minus, groups_[g].tol.plus); };
+  auto worth = [&](Join join, std::initializer_list<std::uint32_t> gs) {
+    // gs in ascending value: in series the smallest adds least to the rest; in parallel the
+    // largest takes least from the rest.
+    const std::vector<std::uint32_t> v(gs);
+    const bool adds = (kind == store::PartKind::resistor) == (join == Join::series);
+    double rest = 0, least = 0;
+    std::uint32_t main = v.back();
+    if (adds) {
+      least = groups_[v.front()].value;
+      for (std::size_t i = 1; i < v.size(); ++i) rest += groups_[v[i]].value;
+      return least / rest > widest(main);
+    }
+    main = v.front();
+    double inv = 0;
+    for (std::size_t i = 0; i + 1 < v.size(); ++i) inv += 1.0 / groups_[v[i]].value;
+    rest = 1.0 / inv;
+    least = groups_[v.back()].value;
+    return rest / (rest + least) > widest(main);
+  };
   if (combine >= 2) {
-    // A partner that moves the value by less than 1 % (a hundredth of the other in series,
-    // a hundred times it in parallel) is lost in the tolerances: such pairs are left out.
     for (std::size_t a = 0; a < idx.size(); ++a) {
       for (std::size_t b = a; b < idx.size(); ++b) {
         const StockGroup &ga = groups_[idx[a]], &gb = groups_[idx[b]];
-        if (gb.value > 100.0 * ga.value) break;
+        if (gb.value > 100.0 * ga.value) break;  // moves by under 1 %: no tolerance is that tight
         if (!enough({idx[a], idx[b]})) continue;
         const bool series_ok = kind == store::PartKind::resistor || (!ga.polarised && !gb.polarised);
-        if (series_ok) make(Join::series, {idx[a], idx[b]});
-        make(Join::parallel, {idx[a], idx[b]});
+        if (series_ok && worth(Join::series, {idx[a], idx[b]})) make(Join::series, {idx[a], idx[b]});
+        if (worth(Join::parallel, {idx[a], idx[b]})) make(Join::parallel, {idx[a], idx[b]});
       }
     }
   }
@@ -220,8 +240,9 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
           if (groups_[top[c]].value > 100.0 * groups_[top[a]].value) break;
           if (!enough({top[a], top[b], top[c]})) continue;
           const bool pol = groups_[top[a]].polarised || groups_[top[b]].polarised || groups_[top[c]].polarised;
-          if (kind == store::PartKind::resistor || !pol) make(Join::series, {top[a], top[b], top[c]});
-          make(Join::parallel, {top[a], top[b], top[c]});
+          if ((kind == store::PartKind::resistor || !pol) && worth(Join::series, {top[a], top[b], top[c]}))
+            make(Join::series, {top[a], top[b], top[c]});
+          if (worth(Join::parallel, {top[a], top[b], top[c]})) make(Join::parallel, {top[a], top[b], top[c]});
         }
       }
   }

@@ -101,7 +101,8 @@ TEST_CASE("every stage of a chain draws on one quantity pool, transistors includ
 
 TEST_CASE("a single stage that meets the request is not displaced by a chain; --stages 2..3 asks for chains") {
   const synth::Inventory inv = small_shelf(10, {njfet(), npn()});
-  synth::Spec spec = basic_spec(4);
+  synth::Spec spec = basic_spec(3);
+  spec.gain_tol = 0.15;
   spec.mc_samples = 0;
   const auto r = synth::design(spec, inv);
   REQUIRE_FALSE(r.candidates.empty());

@@ -20,17 +20,52 @@ const synth::Combo* find(std::span<const synth::Combo> cs, double nominal, Join 
 }  // namespace
 
 TEST_CASE("series and parallel resistors follow R1 + R2 and R1 R2 / (R1 + R2), bounds from the parts' bounds") {
-  std::vector<store::Part> parts = {test::resistor(1, 10e3, 3), test::resistor(2, 150, 2)};
+  std::vector<store::Part> parts = {test::resistor(1, 10e3, 3), test::resistor(2, 680, 2)};
   Shelf shelf(parts, {});
-  const auto* s = find(shelf.resistors(), 10150, Join::series);
-  REQUIRE(s);
+  const auto* s = find(shelf.resistors(), 10680, Join::series);
+  REQUIRE(s);  // 680 moves 10k by 6.8 %, more than its 5 %: worth a pair
   CHECK(s->count == 2);
-  CHECK(s->lo == doctest::Approx(0.95 * 10150));  // both parts 5 % low
-  CHECK(s->hi == doctest::Approx(1.05 * 10150));
-  CHECK(shelf.recipe(*s) == "150+10k");
-  const auto* p = find(shelf.resistors(), 10e3 * 150 / 10150, Join::parallel);
-  REQUIRE(p);  // 10k across 150 moves it by 1.5 %: worth a pair
-  CHECK(shelf.recipe(*p) == "150||10k");
+  CHECK(s->lo == doctest::Approx(0.95 * 10680));  // both parts 5 % low
+  CHECK(s->hi == doctest::Approx(1.05 * 10680));
+  CHECK(shelf.recipe(*s) == "680+10k");
+  const auto* p = find(shelf.resistors(), 10e3 * 680 / 10680, Join::parallel);
+  REQUIRE(p);  // 10k across 680 moves it by 6.4 %
+  CHECK(shelf.recipe(*p) == "680||10k");
+}
+
+// NOTES 1 in shelf.hpp: a pair must move its main piece by more than that piece's tolerance.
+TEST_CASE("a pair that moves the value by less than its main piece's tolerance is not offered") {
+  SUBCASE("5 % parts: 6k81+270k moves 270k by 2.5 %, 56+3k9 moves 3k9 by 1.4 %") {
+    std::vector<store::Part> parts = {test::resistor(1, 6810, 3), test::resistor(2, 270e3, 3), test::resistor(3, 56, 3),
+                                      test::resistor(4, 3900, 3)};
+    Shelf shelf(parts, {});
+    CHECK(find(shelf.resistors(), 276810, Join::series) == nullptr);
+    CHECK(find(shelf.resistors(), 3956, Join::series) == nullptr);
+    CHECK(find(shelf.resistors(), 3900.0 * 270e3 / 273900, Join::parallel) == nullptr);  // 1.4 %
+    CHECK(find(shelf.resistors(), 6810.0 * 3900 / 10710, Join::parallel) != nullptr);    // 36 %
+  }
+  SUBCASE("the same 2 % move is worth it on 1 % parts: 4k75||220k") {
+    std::vector<store::Part> parts = {test::resistor(1, 4750, 3, "A1", 0.01), test::resistor(2, 220e3, 3, "A1", 0.01)};
+    Shelf shelf(parts, {});
+    CHECK(find(shelf.resistors(), 4750.0 * 220e3 / 224750, Join::parallel) != nullptr);
+    // ... and 4k75||220k of 5 % parts is not.
+    Shelf loose(std::vector<store::Part>{test::resistor(1, 4750, 3), test::resistor(2, 220e3, 3)}, {});
+    CHECK(find(loose.resistors(), 4750.0 * 220e3 / 224750, Join::parallel) == nullptr);
+  }
+  SUBCASE("an asymmetric tolerance counts by its wider side: -20/+80 % electrolytics") {
+    auto a = test::capacitor(1, 100e-6, 3, 25, "electrolytic");
+    auto b = test::capacitor(2, 47e-6, 3, 25, "electrolytic");
+    a.tol = b.tol = units::Tolerance{0.20, 0.80};  // minus, plus
+    Shelf shelf(std::vector<store::Part>{a, b}, {});
+    CHECK(find(shelf.capacitors(), 147e-6, Join::parallel) == nullptr);  // adds 47 % to 100u: inside +80 %
+    CHECK(find(shelf.capacitors(), 200e-6, Join::parallel) != nullptr);  // two of one value double it
+  }
+  SUBCASE("triples: every piece must count") {
+    std::vector<store::Part> parts = {test::resistor(1, 10e3, 3), test::resistor(2, 4700, 3), test::resistor(3, 100, 3)};
+    Shelf shelf(parts, {.combine = 3});
+    CHECK(find(shelf.resistors(), 14800, Join::series) == nullptr);  // 100 adds 0.7 % to 14k7
+    CHECK(find(shelf.resistors(), 24700, Join::series) != nullptr);  // 4k7 adds 23 % to 20k
+  }
 }
 
 TEST_CASE("a pair that changes the value by less than 1 % is left out (lost in the tolerance)") {
@@ -102,11 +137,11 @@ TEST_CASE("capacitor_at_least takes the smallest adequate part, rated for the DC
 }
 
 TEST_CASE("nearest offers the nearest values and the nearest single parts on either side") {
-  std::vector<store::Part> parts = {test::resistor(1, 10e3, 5), test::resistor(2, 150, 5), test::resistor(3, 12e3, 5)};
+  std::vector<store::Part> parts = {test::resistor(1, 10e3, 5), test::resistor(2, 680, 5), test::resistor(3, 12e3, 5)};
   Shelf shelf(parts, {});
   std::vector<double> out;
-  shelf.nearest(10.2e3, 1, out);
-  CHECK(std::find(out.begin(), out.end(), 10150.0) != out.end());  // 10k+150, the nearest
+  shelf.nearest(10.7e3, 1, out);
+  CHECK(std::find(out.begin(), out.end(), 10680.0) != out.end());  // 10k+680, the nearest
   CHECK(std::find(out.begin(), out.end(), 10e3) != out.end());     // and the singles around it
   CHECK(std::find(out.begin(), out.end(), 12e3) != out.end());
 }

@@ -61,8 +61,9 @@ circuit::Circuit chain_stage_netlist(const ChainStage& stage, std::size_t k, con
 /// the product of the stage gains (each stage's Zout is taken with the previous stage's
 /// output impedance as its source). Whole-chain figures: gain, Zin (first stage), Zout (last),
 /// supply current (sum), swing (the smallest output peak any stage allows, referred to the
-/// output), band-edge losses (sum of the stages' in dB), corners by the usual cascade
-/// approximation (f_low = sqrt(sum f_low_i^2), 1/f_high = sqrt(sum 1/f_high_i^2)),
+/// output), band-edge losses (sum of the stages' in dB), the -3 dB corners where the stages'
+/// losses add up to 3 dB (Detail::full; the coarser details give the usual approximation
+/// f_low = sqrt(sum f_low_i^2), 1/f_high = sqrt(sum 1/f_high_i^2)),
 /// HD2 and noise of the stage that dominates them (the last and the first).
 struct ChainPerformance {
   Performance whole;

@@ -27,6 +27,13 @@ struct Inventory {
   std::vector<devices::MeasuredPiece> pieces;     ///< measured pieces
 };
 
+/// [min, max] over the corners.
+struct Range {
+  double min = 0, max = 0;
+  void add(double v);
+  bool empty = true;
+};
+
 /// One role of a candidate and the parts that fill it.
 struct RolePart {
   std::string role;        ///< RD, RS1, CIN ...
@@ -43,18 +50,31 @@ struct RolePart {
   bool polarised = false;
   std::string plus_net;         ///< polarised capacitors: the net the + lead goes to
   int stage = 0;                ///< in a chain's part list: the stage (1, 2, 3); 0 for a single stage
+  /// Capacitors: the DC across the part, from its + lead (a non-polarised part: the end at the
+  /// higher voltage at nominal) to the other, over the nominal build and every corner, from
+  /// the exact solver (detail::verify_polarity): the one figure every output reads. Empty
+  /// until verified.
+  Range dc;
+  std::string plus_node, minus_node;  ///< the exported netlist's nets of the two leads
 };
 
-/// [min, max] over the corners.
-struct Range {
-  double min = 0, max = 0;
-  void add(double v);
-  bool empty = true;
+/// One build the worst case evaluated: a piece at a temperature, the part values, the supply.
+struct Build {
+  devices::PieceFigures piece;
+  double celsius = 0;
+  stages::Values values;
+  double supply_v = 0;
 };
 
 struct Worst {
   Range gain, bias_current, swing_peak, v_in, v_common, v_out, zin, zout, f_low, f_high, supply_current;
   Range loss_lo_db, loss_hi_db;
+  /// Capacitors, by role index: the DC across from the fitted + lead (a non-polarised part:
+  /// the end higher at nominal), over every point evaluated with part stress.
+  std::array<Range, stages::kMaxRoles> cap_dc;
+  /// Full depth: the builds that gave the lowest and highest -3 dB corners ([0] min, [1] max),
+  /// so a chain can put every stage at its own extreme at once.
+  std::array<std::optional<Build>, 2> f_low_at, f_high_at;
   int evaluations = 0;
 };
 
@@ -65,6 +85,7 @@ struct Candidate {
   const stages::Topology* topology = nullptr;
   devices::DeviceRecord device;
   std::optional<devices::MeasuredPiece> piece;
+  devices::SpreadModel spread_model = devices::SpreadModel::correlated;  ///< which pieces the worst case covers
   stages::Transistor nominal_device;   ///< the nominal piece at nominal temperature
   std::vector<RolePart> parts;          ///< roles present, in the topology's order
   stages::Values values;

@@ -1,6 +1,15 @@
 // What the shelf can make: every value reachable from the stock with single parts and
 // series or parallel pairs (triples on request), with recipes, bounds, ratings and the
 // pieces each consumes. Sorted for nearest-value search.
+//
+// NOTES
+//  1. A combination must buy accuracy: the piece that moves its value least (in series the
+//     smallest, in parallel the largest) must move it by more than the tolerance of the piece
+//     that sets it (the larger side of an asymmetric one). 6k81+270k of 5 % parts moves 270k by
+//     2.5 %, inside its own 5 %: it is not offered; 4k75||220k of 1 % parts moves 4k75 by 2.1 %:
+//     it is. (Where no single part reaches a value, any pair that does moves its main piece by
+//     more than a tolerance.)
+//  2. Electrolytics are never put in series; capacitors of other kinds are.
 #pragma once
 #include <array>
 #include <cstdint>

@@ -1,0 +1,332 @@
+// The worst case of one stage: every corner piece of the spread model, both ends of the supply
+// and temperature ranges, and the parts pushed to the ends of their tolerances in the
+// direction that moves each figure furthest.
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <fmt/format.h>
+
+#include "detail.hpp"
+#include "shelfstage/circuit/solver.hpp"
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::synth::detail {
+
+namespace {
+
+// The figures a worst case ranges over.
+enum Figure : int { kGain, kBias, kSwing, kSupply, kZin, kZout, kVin, kVcommon, kVout, kLossLo, kLossHi, kFigures };
+
+double figure(const stages::Performance& p, int f) {
+  switch (f) {
+    case kGain: return std::abs(p.gain);
+    case kBias: return p.bias_current_a;
+    case kSwing: return p.swing_peak_v;
+    case kSupply: return p.supply_current_a;
+    case kZin: return p.zin_ohm;
+    case kZout: return p.zout_ohm;
+    case kVin: return p.v_in;
+    case kVcommon: return p.v_common;
+    case kVout: return p.v_out;
+    case kLossLo: return p.loss_lo_db;
+    case kLossHi: return p.loss_hi_db;
+    default: return 0;
+  }
+}
+
+// A figure pushed up (+1) or down (-1).
+struct Push {
+  int figure;
+  int sense;
+};
+// The search's pushes: what decides whether a stage holds and how it scores.
+constexpr Push kSearchPushes[] = {{kGain, +1}, {kGain, -1}, {kBias, +1},   {kBias, -1},
+                                  {kSwing, -1}, {kSupply, +1}, {kZin, -1}, {kLossLo, +1}, {kLossHi, +1}};
+
+// For each figure, the sign of its change with each part across that part's bounds.
+using Signs = std::array<std::int8_t, stages::kMaxRoles>;
+using Directions = std::array<Signs, kFigures>;
+
+Directions directions(const Candidate& c, const stages::Transistor& q, const stages::Conditions& cond,
+                      long& evaluations) {
+  Directions d{};
+  const auto& t = *c.topology;
+  for (const auto& rp : c.parts) {
+    const std::size_t i = t.role_index(rp.role);
+    if (i >= t.roles().size()) continue;
+    stages::Values lo = c.values, hi = c.values;
+    lo[i] = rp.combo.lo;
+    hi[i] = rp.combo.hi;
+    const auto pl = t.evaluate(lo, q, cond), ph = t.evaluate(hi, q, cond);
+    evaluations += 2;
+    for (int f = 0; f < kFigures; ++f) {
+      const double a = figure(pl, f), b = figure(ph, f);
+      d[static_cast<std::size_t>(f)][i] = static_cast<std::int8_t>(b > a ? 1 : (b < a ? -1 : 0));
+    }
+  }
+  return d;
+}
+
+// One set of part values to evaluate: each part at the bound given by `way` (+1 high, -1 low,
+// 0 nominal), and how much of the evaluator it needs.
+struct PartSet {
+  Signs way{};
+  stages::Detail detail = stages::Detail::core;
+};
+
+void add_set(std::vector<PartSet>& sets, const Signs& way, stages::Detail detail) {
+  for (auto& s : sets)
+    if (s.way == way) {
+      s.detail = std::max(s.detail, detail);
+      return;
+    }
+  sets.push_back({way, detail});
+}
+
+// The sets for one piece: nominal parts first, then each push (the full depth: every figure
+// both ways). Sets pushed for the band-edge losses are evaluated in full, so that they range
+// the -3 dB corners too; every set in full depth, and the nominal and bias sets in the
+// search, carry part stress for the rating and polarity checks.
+std::vector<PartSet> part_sets(const Directions& d, Depth depth) {
+  std::vector<PartSet> sets;
+  const bool full = depth == Depth::full;
+  add_set(sets, Signs{}, full ? stages::Detail::full : stages::Detail::stress);
+  std::vector<Push> pushes(std::begin(kSearchPushes), std::end(kSearchPushes));
+  if (full) {
+    pushes.clear();
+    for (int f = 0; f < kFigures; ++f) pushes.insert(pushes.end(), {{f, +1}, {f, -1}});
+  }
+  for (const Push& p : pushes) {
+    Signs way{};
+    for (std::size_t i = 0; i < way.size(); ++i)
+      way[i] = static_cast<std::int8_t>(d[static_cast<std::size_t>(p.figure)][i] * p.sense);
+    stages::Detail detail = stages::Detail::core;
+    if (full) detail = (p.figure == kLossLo || p.figure == kLossHi) ? stages::Detail::full : stages::Detail::stress;
+    if (!full && p.figure == kBias) detail = stages::Detail::stress;
+    add_set(sets, way, detail);
+  }
+  return sets;
+}
+
+stages::Values values_of(const Candidate& c, const Signs& way) {
+  stages::Values v = c.values;
+  const auto& t = *c.topology;
+  for (const auto& rp : c.parts) {
+    const std::size_t i = t.role_index(rp.role);
+    if (i >= t.roles().size() || way[i] == 0) continue;
+    v[i] = way[i] > 0 ? rp.combo.hi : rp.combo.lo;
+  }
+  return v;
+}
+
+// The net a capacitor's DC is taken from: the fitted + lead of a polarised part, else the end
+// higher at nominal (orient: the nominal build's stress, when it has one).
+std::string_view oriented_plus(const RolePart& rp, const stages::Performance& orient, std::size_t role) {
+  if (rp.polarised && !rp.plus_net.empty()) return rp.plus_net;
+  for (const auto& s : orient.stress)
+    if (s.role == role) return s.plus_net;
+  return rp.plus_net;
+}
+
+void add_cap_dc(Worst& w, const Candidate& c, const stages::Performance& p) {
+  for (const auto& s : p.stress) {
+    if (s.role >= c.topology->roles().size() || c.topology->roles()[s.role].kind != 'C') continue;
+    const auto it = std::find_if(c.parts.begin(), c.parts.end(),
+                                 [&](const RolePart& rp) { return rp.role == c.topology->roles()[s.role].name; });
+    if (it == c.parts.end()) continue;
+    const std::string_view plus = oriented_plus(*it, c.nominal, s.role);
+    w.cap_dc[s.role].add(s.plus_net == plus ? s.dc_v : -s.dc_v);
+  }
+}
+
+void add_figures(Worst& w, const stages::Performance& p, bool corners) {
+  w.gain.add(p.gain);
+  w.bias_current.add(p.bias_current_a);
+  w.swing_peak.add(p.swing_peak_v);
+  w.v_in.add(p.v_in);
+  w.v_common.add(p.v_common);
+  w.v_out.add(p.v_out);
+  w.zin.add(p.zin_ohm);
+  w.zout.add(p.zout_ohm);
+  w.supply_current.add(p.supply_current_a);
+  w.loss_lo_db.add(p.loss_lo_db);
+  w.loss_hi_db.add(p.loss_hi_db);
+  if (corners) {  // the -3 dB corners are computed at full detail only
+    w.f_low.add(p.f_low_hz);
+    w.f_high.add(p.f_high_hz);
+  }
+}
+
+}  // namespace
+
+// NOTES (worst case of one stage):
+//  1. Points: every corner piece of the spread model and the nominal piece, crossed with both
+//     ends of the supply range and of the temperature range (the nominal temperature when no
+//     range is given).
+//  2. Parts: for each figure, the sign of its change with each part across that part's
+//     bounds (resistors and capacitors alike, each at its own tolerance, asymmetric ones
+//     included); the parts are then set all one way and all the other way. A figure that is
+//     monotonic in each part over the box of bounds takes its extremes at those vertices.
+//     Depth::search: signs taken once, at the nominal piece, for the figures that decide
+//     whether the stage holds and how it scores (gain both ways, bias current both ways, the
+//     smallest swing, the largest supply current, the smallest input impedance, the largest
+//     band-edge losses). Depth::full (the candidates shown): signs taken at every piece, for
+//     every figure both ways: gain, bias and supply current, swing, Zin, Zout, the three node
+//     voltages and both band-edge losses. Without a band, the losses are taken at the
+//     nominal -3 dB points, so that the sets pushed for them range the corners.
+//  3. The -3 dB corners are ranged over the sets evaluated in full (nominal parts, and the
+//     sets pushed for the band-edge losses: the capacitors at their tolerance ends).
+//  4. Every range holds the nominal figures (a figure need not be monotonic in the supply).
+//  5. Hard constraints must hold at every point evaluated; ratings and electrolytic polarity
+//     at every point evaluated with stress (all in full depth; the nominal and bias sets in
+//     the search).
+std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth) {
+  const auto& t = *c.topology;
+  const devices::DeviceSpread spread = spread_of(c);
+  const double t_nom = spec.temp_nominal_c();
+  const stages::Conditions nom_cond = conditions(spec, spec.supply_nominal_v(), t_nom);
+  // Without a band the losses are probed at the nominal -3 dB points (NOTES 2).
+  stages::Conditions probe = nom_cond;
+  if (!spec.band_hz && depth == Depth::full) {
+    const stages::Transistor q0 = make_transistor(spread, spread.nominal(), t_nom);
+    const auto p0 = t.evaluate(c.values, q0, nom_cond, stages::Detail::full);
+    ++evaluations;
+    probe.band_lo_hz = p0.f_low_hz;
+    probe.band_hi_hz = std::isfinite(p0.f_high_hz) && p0.f_high_hz < 1e12 ? p0.f_high_hz : 0.0;
+  }
+
+  std::vector<devices::PieceFigures> pieces = spread.corners();
+  pieces.push_back(spread.nominal());
+  std::vector<double> supplies = {spec.supply_lo_v};
+  if (spec.supply_hi_v > spec.supply_lo_v) supplies.push_back(spec.supply_hi_v);
+  std::vector<double> temps = {t_nom};
+  if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
+
+  Worst w;
+  c.error_worst = 0;
+  std::vector<PartSet> search_sets;
+  if (depth == Depth::search)
+    search_sets = part_sets(directions(c, make_transistor(spread, spread.nominal(), t_nom), probe, evaluations), depth);
+  for (const auto& f : pieces) {
+    const std::vector<PartSet> sets =
+        depth == Depth::search ? search_sets
+                               : part_sets(directions(c, make_transistor(spread, f, t_nom), probe, evaluations), depth);
+    for (double temp : temps) {
+      const stages::Transistor q = make_transistor(spread, f, temp);
+      for (double vs : supplies) {
+        const stages::Conditions cond = conditions(spec, vs, temp);
+        for (const PartSet& set : sets) {
+          const auto p = t.evaluate(values_of(c, set.way), q, cond, set.detail);
+          ++evaluations;
+          ++w.evaluations;
+          std::string failed = violation(spec, p);
+          if (failed.empty() && set.detail != stages::Detail::core) failed = check_ratings(spec, c, p);
+          if (!failed.empty()) {  // rejected: its ranges no longer matter
+            c.worst = w;
+            return failed;
+          }
+          add_figures(w, p, set.detail == stages::Detail::full);
+          if (set.detail != stages::Detail::core) add_cap_dc(w, c, p);
+          if (set.detail == stages::Detail::full) {
+            // The builds at the extremes of the -3 dB corners (for a chain's joint corners).
+            const Build b{f, temp, values_of(c, set.way), vs};
+            auto keep = [&](std::array<std::optional<Build>, 2>& at, const Range& r, double v) {
+              if (v <= r.min) at[0] = b;
+              if (v >= r.max) at[1] = b;
+            };
+            keep(w.f_low_at, w.f_low, p.f_low_hz);
+            keep(w.f_high_at, w.f_high, p.f_high_hz);
+          }
+          c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
+        }
+      }
+    }
+  }
+  // NOTES 4: the nominal build belongs to every range.
+  if (c.nominal.valid) {
+    add_figures(w, c.nominal, c.nominal.f_low_hz > 0 || c.nominal.f_high_hz > 0);
+    add_cap_dc(w, c, c.nominal);
+  }
+  c.worst = w;
+  return {};
+}
+
+// NOTES (polarity, the one source of truth):
+//  1. The exact solver's operating point of the stage's netlist, at every corner piece and the
+//     nominal piece, both supply ends and both temperature ends, with the parts at nominal and
+//     pushed both ways for the bias current: the DC across every capacitor from its fitted +
+//     lead (a non-polarised part: the end higher at nominal) to the other.
+//  2. Those figures, with the closed form's over every point of the full worst case (Worst::
+//     cap_dc), are the part's `dc` range; its leads' nets in the exported netlist are
+//     plus_node and minus_node. The pick list, show, report and JSON read them.
+//  3. A polarised part whose DC falls below zero at any of those points fails ("polarity").
+std::string verify_polarity(Candidate& c, const Spec& spec) {
+  const auto& t = *c.topology;
+  const devices::DeviceSpread spread = spread_of(c);
+  const double t_nom = spec.temp_nominal_c();
+  long evaluations = 0;
+  const stages::Conditions nom_cond = conditions(spec, spec.supply_nominal_v(), t_nom);
+  const Directions d = directions(c, make_transistor(spread, spread.nominal(), t_nom), nom_cond, evaluations);
+  Signs up{}, down{};
+  for (std::size_t i = 0; i < up.size(); ++i) {
+    up[i] = d[kBias][i];
+    down[i] = static_cast<std::int8_t>(-d[kBias][i]);
+  }
+  std::vector<Signs> ways = {Signs{}, up, down};
+  std::vector<devices::PieceFigures> pieces = spread.corners();
+  pieces.insert(pieces.begin(), spread.nominal());
+  std::vector<double> supplies = {spec.supply_nominal_v(), spec.supply_lo_v, spec.supply_hi_v};
+  std::vector<double> temps = {t_nom};
+  if (spec.temp_c) temps = {t_nom, spec.temp_c->first, spec.temp_c->second};
+
+  // Each part's leads: the + net first, fixed at the nominal build.
+  struct Leads {
+    RolePart* part = nullptr;
+    std::string plus, minus;
+  };
+  std::vector<Leads> leads;
+  for (auto& rp : c.parts)
+    if (rp.kind == 'C') {
+      rp.dc = c.worst.cap_dc[t.role_index(rp.role)];
+      leads.push_back({&rp, {}, {}});
+    }
+  circuit::SolverOptions so;
+  bool first = true;
+  for (const auto& f : pieces)
+    for (double temp : temps) {
+      const stages::Transistor q = make_transistor(spread, f, temp);
+      so.celsius = temp;
+      for (double vs : supplies)
+        for (const Signs& way : ways) {
+          const circuit::Circuit net = t.netlist(values_of(c, way), q, conditions(spec, vs, temp));
+          circuit::OperatingPoint op;
+          try {
+            op = circuit::solve_dc(net, so);
+          } catch (const Error& e) {
+            return fmt::format("bias: the exact solver finds no operating point ({})", e.what());
+          }
+          for (auto& l : leads) {
+            const auto* el = net.find(l.part->designator);
+            if (!el) continue;
+            const std::string a = net.net_name(el->c.pins[0]), b = net.net_name(el->c.pins[1]);
+            const double va = op.node_v[el->c.pins[0]], vb = op.node_v[el->c.pins[1]];
+            if (first) {
+              const bool a_plus = l.part->polarised && !l.part->plus_net.empty() ? a == l.part->plus_net : va >= vb;
+              l.plus = a_plus ? a : b;
+              l.minus = a_plus ? b : a;
+              l.part->plus_node = l.plus;
+              l.part->minus_node = l.minus;
+            }
+            const double dc = l.plus == a ? va - vb : vb - va;
+            l.part->dc.add(dc);
+            if (l.part->polarised && dc < 0)
+              return fmt::format("polarity: {} ({}) would hold {:.2f} V from its + lead (exact solution at {})",
+                                 l.part->designator, l.part->role, dc, f.tag);
+          }
+          first = false;
+        }
+    }
+  return {};
+}
+
+}  // namespace shelfstage::synth::detail
