@@ -437,10 +437,12 @@ NoisePoint noise(const Circuit& c, const OperatingPoint& op, const std::string& 
   return np;
 }
 
-Circuit with_capacitors_held(const Circuit& c, const OperatingPoint& op) {
+Circuit with_capacitors_held(const Circuit& c, const OperatingPoint& op,
+                             const std::function<bool(const Component&)>& open) {
   Circuit h;
   for (const auto& el : c.elements()) {
     const auto& e = el.c;
+    if (e.kind == ElementKind::capacitor && open && open(e)) continue;
     const std::string a = c.net_name(e.pins[0]), b = c.net_name(e.pins[1]);
     switch (e.kind) {
       case ElementKind::resistor: h.resistor(e.designator, e.role, a, b, e.value); break;

@@ -57,6 +57,7 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
                  "(-9, -7..-9.6: ground at the battery's + terminal)")
       ->required();
   cmd.add_option("--zin", o.zin, "Lowest acceptable input impedance (1M, 100k; 0 for none)")->required();
+  cmd.add_option("--load-cap", o.load_cap, "Capacitance across the load, e.g. a cable's (470p); default none");
   cmd.add_option("--source-z", o.source_z, "Output resistance of the source driving the stage (default 0)");
   cmd.add_option("--band", o.band, "Band to pass flat within 1 dB (20..20k); capacitors are sized for it");
   cmd.add_option("--swing", o.swing, "Output swing the stage must deliver at every corner, Vpp (2, 5Vpp)");
@@ -90,6 +91,7 @@ synth::Spec spec_from_options(const DesignOptions& o) {
     throw InputError(name_field(e.what(), "--gain"));
   }
   s.load_ohm = parse_positive("--load", o.load, units::Unit::ohm);
+  if (o.load_cap) s.load_farads = parse_positive("--load-cap", *o.load_cap, units::Unit::farad);
   const Supply supply = parse_supply("--supply", o.supply);
   s.supply_lo_v = supply.lo_v;
   s.supply_hi_v = supply.hi_v;

@@ -16,7 +16,7 @@ namespace shelfstage::cli {
 struct DesignOptions {
   std::string gain, load, supply, zin;
   std::string source_z = "0";
-  std::optional<std::string> band, swing, max_current, temp, piece;
+  std::optional<std::string> band, swing, max_current, temp, piece, load_cap;
   int copies = 1;
   std::vector<std::string> topologies, devices;
   int top = 5;

@@ -49,6 +49,7 @@ std::optional<Slot> slot_for(std::string_view role, bool follower) {
   if (role == "signal") return Slot{2, 18, true, Side::right};
   if (role == "source") return Slot{5, 14, false, Side::above};
   if (role == "load") return Slot{28, 21, true, Side::right};
+  if (role == "load capacitance") return Slot{33, 21, true, Side::right};
   if (role == "device") return Slot{18, 12, true, Side::right};
   if (role == "CIN") return Slot{10, 14, false, Side::above};
   if (role == "R1") return Slot{13, 6, true, Side::left};
@@ -252,7 +253,7 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
     return net;
   };
   auto is_bench_role = [](std::string_view role) {
-    return role == "supply" || role == "signal" || role == "source" || role == "load";
+    return role == "supply" || role == "signal" || role == "source" || role == "load" || role == "load capacitance";
   };
 
   // A follower: the transistor's upper pin (drain or collector) on the supply net.

@@ -206,6 +206,17 @@ void judge_part(const stages::Topology& t, PartStress& p, std::vector<std::strin
   }
   // A polarised part wants its + lead at the higher DC voltage; a volt fraction either way
   // is no bias at all (common practice: an electrolytic tolerates that).
+  if (p.dc_range) {
+    // The verified range: reversed only where the DC from the + lead falls below zero.
+    if (p.info.polarised && p.dc_min_v < 0) {
+      p.reversed = true;
+      warnings.push_back(fmt::format("{} is polarised and fitted with its + lead to the {}, but it holds down to {} "
+                                     "from that lead at a corner: turn it round or fit a non-polarised part",
+                                     part_label(p), describe_net(t, p.info.fitted_plus_net),
+                                     format_value(p.dc_min_v, Unit::volt)));
+    }
+    return;
+  }
   if (p.info.polarised && !p.info.fitted_plus_net.empty() && p.dc_v > 0.05 && p.info.fitted_plus_net != p.plus_net) {
     p.reversed = true;
     warnings.push_back(fmt::format("{} is polarised and fitted with its + lead to the {}, but the {} sits {} higher: "
@@ -344,6 +355,15 @@ Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread*
       p.dc_v = es ? es->dc_v : 0.0;
       p.dc_closed_v = fs ? fs->dc_v : 0.0;
       p.plus_net = es ? std::string(es->plus_net) : std::string();
+      if (p.info.dc_known) {
+        // The design's verified range is the one figure (a chain's coupling capacitor holds
+        // the DC between two stages, which this stage's own operating point does not show).
+        p.dc_range = true;
+        p.dc_min_v = p.info.dc_min_v;
+        p.dc_max_v = p.info.dc_max_v;
+        p.dc_v = p.dc_closed_v = std::max(std::abs(p.dc_min_v), std::abs(p.dc_max_v));
+        if (!p.info.fitted_plus_net.empty()) p.plus_net = p.info.fitted_plus_net;
+      }
       // The largest signal anywhere in the stage is the output's (inputs are smaller by the
       // gain; a follower's input equals its output): a bound for every capacitor.
       p.peak_v = std::max(best.swing_peak_v, 0.0);
@@ -456,6 +476,8 @@ Json analysis_json(const Analysis& a) {
       pj["dielectric"] = p.info.dielectric.empty() ? Json(nullptr) : Json(p.info.dielectric);
       pj["dc"] = p.dc_v;
       pj["dc_closed_form"] = p.dc_closed_v;
+      // The design's verified range (from the + lead), when the analysis was given one.
+      pj["dc_range"] = p.dc_range ? Json::array({p.dc_min_v, p.dc_max_v}) : Json(nullptr);
       pj["signal_peak"] = p.peak_v;
       pj["plus_net"] = p.plus_net.empty() ? Json(nullptr) : Json(p.plus_net);
       pj["polarised"] = p.info.polarised;
@@ -525,7 +547,11 @@ std::string parts_text(const Analysis& a) {
       if (differs(p.power_w, p.power_closed_w, detail::kFloorW)) closed = detail::watts_shown(p.power_closed_w);
       rating = p.info.rating > 0 ? format_value(p.info.rating, Unit::watt) : "not stated";
     } else {
-      stress = fmt::format("{} DC + {} pk", detail::volts_shown(p.dc_v), detail::volts_shown(p.peak_v));
+      // A verified range reads "1.2..3.4V DC": the DC from the + lead over every corner.
+      const bool spans = p.dc_range && differs(p.dc_min_v, p.dc_max_v, detail::kFloorV);
+      const std::string dc = spans ? fmt::format("{}..{}", detail::volts_shown(p.dc_min_v), detail::volts_shown(p.dc_max_v))
+                                   : detail::volts_shown(p.dc_range ? p.dc_max_v : p.dc_v);
+      stress = fmt::format("{} DC + {} pk", dc, detail::volts_shown(p.peak_v));
       if (differs(p.dc_v, p.dc_closed_v, detail::kFloorV))
         closed = fmt::format("{} DC", detail::volts_shown(p.dc_closed_v));
       rating = p.info.rating > 0 ? format_value(p.info.rating, Unit::volt) : "not stated";

@@ -115,6 +115,11 @@ StageUnderTest stage_under_test(const synth::Candidate& c) {
     info.rating = rp.rating;
     info.polarised = rp.polarised;
     info.fitted_plus_net = rp.plus_net;
+    if (rp.kind == 'C' && !rp.dc.empty) {
+      info.dc_known = true;
+      info.dc_min_v = rp.dc.min;
+      info.dc_max_v = rp.dc.max;
+    }
     s.parts.push_back(info);
   }
   return s;
@@ -343,7 +348,8 @@ Transfer transfer_curve(const synth::Candidate& c, const synth::Spec& spec) {
   circuit::SolverOptions so;
   so.celsius = celsius;
   const auto op = circuit::solve_dc(net, so);
-  circuit::Circuit h = circuit::with_capacitors_held(net, op);
+  circuit::Circuit h = circuit::with_capacitors_held(
+      net, op, [](const circuit::Component& e) { return e.role == stages::kRoleLoadCapacitance; });
   const std::string out = std::string(stages::kNetOut);
   auto at = [&](double x) {
     h.set_value("VSIG", x);

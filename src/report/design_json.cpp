@@ -50,6 +50,7 @@ Json spec_json(const synth::Spec& s) {
   Json j;
   j["gain"] = s.gain;
   j["load"] = s.load_ohm;
+  j["load_cap"] = s.load_farads > 0 ? Json(s.load_farads) : Json(nullptr);
   // Signed as the user gave it; a range in numeric order ([-9.6, -7] on a negative rail).
   const double k = s.rail_sign();
   if (s.supply_lo_v == s.supply_hi_v)
@@ -84,6 +85,7 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
     synth::Spec s;
     s.gain = j.at("gain").get<double>();
     s.load_ohm = j.at("load").get<double>();
+    if (j.contains("load_cap") && j["load_cap"].is_number()) s.load_farads = j["load_cap"].get<double>();
     if (j.at("supply").is_array()) {
       s.supply_lo_v = j["supply"][0].get<double>();
       s.supply_hi_v = j["supply"][1].get<double>();

@@ -47,6 +47,7 @@ std::string spread_words(const synth::Spec& s) {
 std::string spec_line(const synth::Spec& s) {
   std::string out = fmt::format("gain {} ({:.1f} dB) into {}", fixed3(s.gain), units::to_db(s.gain),
                                 format_value(s.load_ohm, Unit::ohm));
+  if (s.load_farads > 0) out += fmt::format(" || {}", format_value(s.load_farads, Unit::farad));
   if (s.source_ohm > 0) out += fmt::format(" from {}", format_value(s.source_ohm, Unit::ohm));
   out += ", " + rail_words(s);
   if (s.zin_min_ohm > 0) out += fmt::format(", Zin ≥ {}", format_value(s.zin_min_ohm, Unit::ohm));

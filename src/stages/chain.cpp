@@ -100,13 +100,16 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
   r.each.resize(n);
   r.conditions.assign(n, c);
   // From the load back: each stage's load is the next stage's input impedance.
-  double load = c.load_ohm;
+  // The next stage's input capacitance (its Miller capacitance) loads each stage too.
+  double load = c.load_ohm, load_farads = c.load_farads;
   for (std::size_t k = n; k-- > 0;) {
     Conditions& ck = r.conditions[k];
     ck.load_ohm = load;
+    ck.load_farads = load_farads;
     ck.source_ohm = k == 0 ? c.source_ohm : 0.0;
     r.each[k] = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, detail);
     load = r.each[k].zin_ohm > 0 ? r.each[k].zin_ohm : 1e12;
+    load_farads = std::max(0.0, r.each[k].c_in_f);
   }
   // A follower's output impedance depends on what drives it: each stage's Zout with the
   // previous stage's output impedance as its source (the gains stay those from the node).

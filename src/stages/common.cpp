@@ -2,6 +2,7 @@
 #include "common.hpp"
 
 #include <algorithm>
+#include <array>
 #include <complex>
 #include <limits>
 #include <numbers>
@@ -165,9 +166,12 @@ inline Cx operator/(Cx a, Cx b) {
 inline double norm2(Cx a) { return a.re * a.re + a.im * a.im; }
 }  // namespace
 
-double hybrid_pi_gain(const HybridPi& m, double w) {
+namespace {
+// Node voltages (base, emitter, collector) of the network driven by a unit Thevenin source.
+std::array<Cx, 3> hybrid_pi_solve(const HybridPi& m, double w) {
   const Cx ypi{m.gpi, w * m.cpi}, ymu{0.0, w * m.cmu};
-  const Cx gsrc{m.g_src, 0}, gm{m.gm, 0}, go{m.go, 0}, ge{m.g_e, 0}, gc{m.g_c, 0};
+  const Cx gsrc{m.g_src, 0}, gm{m.gm, 0}, go{m.go, 0};
+  const Cx ge{m.g_e, m.out_at_emitter ? w * m.c_load : 0.0}, gc{m.g_c, m.out_at_emitter ? 0.0 : w * m.c_load};
   // Unknowns (vb, ve, vc); a unit Thevenin source drives g_src into the base.
   Cx a[3][4] = {
       {gsrc + ypi + ymu, Cx{} - ypi, Cx{} - ymu, gsrc},
@@ -185,13 +189,28 @@ double hybrid_pi_gain(const HybridPi& m, double w) {
       for (int k = col; k < 4; ++k) a[r][k] = a[r][k] - f * a[col][k];
     }
   }
-  Cx x[3];
+  std::array<Cx, 3> x;
   for (int r = 2; r >= 0; --r) {
     Cx sum = a[r][3];
-    for (int k = r + 1; k < 3; ++k) sum = sum - a[r][k] * x[k];
-    x[r] = sum / a[r][r];
+    for (int k = r + 1; k < 3; ++k) sum = sum - a[r][k] * x[static_cast<std::size_t>(k)];
+    x[static_cast<std::size_t>(r)] = sum / a[r][r];
   }
+  return x;
+}
+}  // namespace
+
+double hybrid_pi_gain(const HybridPi& m, double w) {
+  const auto x = hybrid_pi_solve(m, w);
   return std::sqrt(norm2(m.out_at_emitter ? x[1] : x[2]));
+}
+
+double hybrid_pi_input_capacitance(const HybridPi& m, double w) {
+  // The current the Thevenin source (1 V behind 1/g_src) drives into the base, over vb: the
+  // device's input admittance (the bias network is inside the Thevenin source).
+  const auto x = hybrid_pi_solve(m, w);
+  const Cx i{m.g_src * (1.0 - x[0].re), -m.g_src * x[0].im};
+  const Cx y = i / x[0];
+  return y.im / w;
 }
 
 double hybrid_pi_dc_gain(const HybridPi& m) {
@@ -234,8 +253,12 @@ double hybrid_pi_corner_hz(const HybridPi& m) {
   return std::sqrt(lo * hi) / (2 * std::numbers::pi);
 }
 
-void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c,
+void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& device, const Conditions& c,
                      Detail detail) {
+  HybridPi m = device;
+  m.c_load = c.load_farads;
+  // Input capacitance well below the upper corner (the Miller multiplication holds there).
+  p.c_in_f = hybrid_pi_input_capacitance(m, 2 * std::numbers::pi * 10.0);
   if (detail == Detail::full) {
     p.f_low_hz = lf_corner_hz(lf);
     p.f_high_hz = hybrid_pi_corner_hz(m);
@@ -358,6 +381,7 @@ circuit::Circuit bench(const Conditions& c) {
   net.vsource("VSIG", "signal", std::string(kNetSignal), "0", 0.0, 1.0);
   net.resistor("RSIG", "source", std::string(kNetSignal), std::string(kNetIn), c.source_ohm > 0 ? c.source_ohm : 1e-3);
   net.resistor("RL", "load", std::string(kNetOut), "0", c.load_ohm);
+  if (c.load_farads > 0) net.capacitor("CL", std::string(kRoleLoadCapacitance), std::string(kNetOut), "0", c.load_farads);
   return net;
 }
 

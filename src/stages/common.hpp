@@ -64,17 +64,22 @@ double bisect(F f, double lo, double hi, int steps = 60) {
 /// collector-emitter. A JFET has gpi = 0. An AC-grounded terminal has a huge conductance.
 struct HybridPi {
   double g_src = 0, gpi = 0, cpi = 0, cmu = 0, gm = 0, go = 0, g_e = 0, g_c = 0;
+  double c_load = 0;            ///< capacitance from the output node to ground (Conditions::load_farads)
   bool out_at_emitter = false;  ///< followers take the output at the emitter (source)
 };
+/// The capacitance looking into the base (gate) of the network at angular frequency w: the
+/// imaginary part of the device's input admittance over w (Cpi, and Cmu multiplied by the
+/// gain across it: the Miller effect), farads.
+double hybrid_pi_input_capacitance(const HybridPi& m, double w);
 /// |output / Thevenin source| at angular frequency w (rad/s), by a 3x3 complex solve.
 double hybrid_pi_gain(const HybridPi& m, double w);
 /// The same at zero frequency (capacitances open), by a real 3x3 solve.
 double hybrid_pi_dc_gain(const HybridPi& m);
 /// The upper -3 dB frequency (Hz) of that response, relative to its low-frequency value.
 double hybrid_pi_corner_hz(const HybridPi& m);
-/// Sets the band-edge losses of p (always) and f_low, f_high (Detail::full only: the -3 dB
-/// searches cost more than everything else in an evaluation) from the low-frequency
-/// sections and the hybrid-pi model.
+/// Sets the band-edge losses of p (always), its input capacitance (always), and f_low, f_high
+/// (Detail::full only: the -3 dB searches cost more than everything else in an evaluation)
+/// from the low-frequency sections and the hybrid-pi model with the load's capacitance.
 void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c,
                      Detail detail);
 /// Capacitance that puts a first-order corner at f_hz through r_ohm.

@@ -20,6 +20,9 @@ using circuit::Element;
 using circuit::ElementKind;
 using circuit::OperatingPoint;
 
+// The load's capacitance is open at mid-band, as the devices' are: it is not held.
+bool is_load_capacitance(const circuit::Component& e) { return e.role == kRoleLoadCapacitance; }
+
 struct SweepPoint {
   double out_v = 0;
   bool edge = false;  // the device has left its linear region
@@ -61,7 +64,7 @@ struct MidBand {
 };
 
 MidBand mid_band(const Circuit& net, const OperatingPoint& op, const circuit::SolverOptions& so, double load_ohm) {
-  Circuit h = circuit::with_capacitors_held(net, op);
+  Circuit h = circuit::with_capacitors_held(net, op, is_load_capacitance);
   const OperatingPoint hop = circuit::solve_dc(h, so);
   const auto in = *h.find_net(std::string(kNetIn)), sig = *h.find_net(std::string(kNetSignal));
   const auto out = *h.find_net(std::string(kNetOut));
@@ -176,7 +179,7 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
   }
   // Swing: step the input each way until the device leaves its linear region.
   {
-    Circuit h = circuit::with_capacitors_held(net, op);
+    Circuit h = circuit::with_capacitors_held(net, op, is_load_capacitance);
     const double out0 = op.v(net, std::string(kNetOut));
     const double x_max = 4.0 * c.supply_v / std::max(0.05, std::abs(p.gain));
     double excursion[2] = {0, 0};  // by the input's sign
@@ -232,6 +235,15 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
     p.noise_v_rthz = circuit::noise(net, op, std::string(kNetOut), c.noise_f_hz, c.celsius).input_v_rthz;
   if (op_out) *op_out = op;
   return p;
+}
+
+std::pair<double, double> band_of_circuit(const Circuit& net, const Conditions& c) {
+  circuit::SolverOptions so;
+  so.celsius = c.celsius;
+  const OperatingPoint op = circuit::solve_dc(net, so);
+  const MidBand mb = mid_band(net, op, so, c.load_ohm);
+  const Band b = band_edges(net, op, std::abs(mb.gain));
+  return {b.f_low_hz, b.f_high_hz};
 }
 
 Performance evaluate_exact(const Topology& t, const Values& v, const Transistor& q, const Conditions& c,

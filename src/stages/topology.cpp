@@ -7,7 +7,7 @@
 namespace shelfstage::stages {
 
 bool is_bench_role(std::string_view role) {
-  return role == "supply" || role == "signal" || role == "source" || role == "load";
+  return role == "supply" || role == "signal" || role == "source" || role == "load" || role == kRoleLoadCapacitance;
 }
 
 bool is_bench_net(std::string_view net) { return net == kNetSignal || net == kNetIn || net == kNetOut; }

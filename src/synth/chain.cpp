@@ -111,10 +111,11 @@ class ChainSearch {
       : spec_(spec), inv_(inv), shelf_(shelf), tally_(tally) {
     for (const auto& p : inv.parts)
       if (!store::is_passive(p.kind)) stocked_[p.device] += p.available();
-    if (spec.band_hz) {
-      band_lo_ = spec.band_hz->first;
-      band_hi_ = spec.band_hz->second;
-    }
+    // The links are judged at the frequency the capacitors are sized for (the band's low edge,
+    // else 20 Hz): a stage's coupling into the next stage's real input impedance must still
+    // pass it, band or no band.
+    band_lo_ = spec.f_low_target_hz();
+    if (spec.band_hz) band_hi_ = spec.band_hz->second;
   }
 
   std::vector<Candidate> run() {

@@ -65,8 +65,7 @@ RolePart* part_of(Candidate& s, std::string_view role) {
 //     next stage's input, bounded by the two stages' node ranges; an electrolytic must keep
 //     kPolarForwardV forward across all of it (turned round when the next stage sits higher),
 //     and its rating must hold the largest.
-//  5. Depth::full then puts every stage at its own build of lowest (highest) -3 dB corner at
-//     once, at both supply ends, for the chain's corner ranges (finish_chain).
+//  5. The chain's -3 dB corners are sought on the whole chain (chain_band_corners).
 std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth) {
   const std::size_t n = ch.stages.size();
   const double t_nom = spec.temp_nominal_c();
@@ -102,6 +101,7 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, De
     sub = spec;
     sub.gain = std::abs(cp.each[k].gain);
     sub.load_ohm = s.conditions.load_ohm;
+    sub.load_farads = s.conditions.load_farads;
     sub.source_ohm = s.conditions.source_ohm;
     sub.zin_min_ohm = k == 0 ? spec.zin_min_ohm : 0.0;
     sub.max_current_a.reset();
@@ -263,57 +263,76 @@ std::string chain_exact(Candidate& ch, const Spec& spec, stages::Detail detail, 
 
 namespace {
 
-// The chain with every stage at a build of its own (piece at its temperature, part values).
-std::vector<stages::ChainStage> at_builds(const Candidate& ch, const std::vector<const Build*>& builds) {
-  std::vector<stages::ChainStage> list = chain_stages(ch);
-  for (std::size_t k = 0; k < list.size(); ++k) {
-    if (!builds[k]) continue;
-    const devices::DeviceSpread spread = spread_of(ch.stages[k]);
-    list[k].q = make_transistor(spread, builds[k]->piece, builds[k]->celsius);
-    list[k].values = builds[k]->values;
-    const std::size_t cin = stages::input_coupling_role(*ch.stages[k].topology);
-    if (k > 0 && cin < ch.stages[k].topology->roles().size()) list[k].values[cin] = stages::kLinkedCin;
-  }
-  return list;
-}
-
-// NOTES 5: the chain's -3 dB corners with every stage at its own extreme build at once, at
-// both supply ends, by the fast cascade scaled by the exact solver's ratio at nominal (which
-// holds the stages' loading of each other's upper corners); the two that matter most to a
-// band (highest f_low, lowest f_high) are also solved exactly at the lower supply.
+// NOTES 5: the chain's -3 dB corners at their extremes. The stages load each other (the next
+// stage's input impedance and Miller capacitance), so the extremes are sought on the whole
+// chain (the fast cascade, which carries both): for each corner and sense, at both supply
+// ends and both temperature ends, every stage's piece is chosen in turn among its corner
+// pieces to push the chain's corner furthest (two rounds), then every part of every stage is
+// set to the end of its tolerance that pushes it further. The cascade's figures are scaled by
+// the exact solver's ratio at nominal; the two extremes a band loses first (the highest
+// f_low, the lowest f_high, at the lower supply) are solved exactly as well, and every
+// figure joins the range.
 std::string chain_band_corners(Candidate& ch, const Spec& spec) {
   const std::size_t n = ch.stages.size();
   const std::vector<stages::ChainStage> nominal = chain_stages(ch);
   const stages::Performance fast0 = stages::evaluate_chain(nominal, ch.conditions, stages::Detail::full).whole;
   const double r_lo = fast0.f_low_hz > 0 && ch.nominal.f_low_hz > 0 ? ch.nominal.f_low_hz / fast0.f_low_hz : 1.0;
   const double r_hi = fast0.f_high_hz > 0 && ch.nominal.f_high_hz > 0 ? ch.nominal.f_high_hz / fast0.f_high_hz : 1.0;
-  Range f_low, f_high;
-  for (int which = 0; which < 4; ++which) {
-    std::vector<const Build*> builds(n, nullptr);
-    for (std::size_t k = 0; k < n; ++k) {
-      const Worst& sw = ch.stages[k].worst;
-      const auto& at = which < 2 ? sw.f_low_at : sw.f_high_at;
-      builds[k] = at[static_cast<std::size_t>(which % 2)] ? &*at[static_cast<std::size_t>(which % 2)] : nullptr;
-    }
-    const std::vector<stages::ChainStage> list = at_builds(ch, builds);
-    for (double vs : {spec.supply_lo_v, spec.supply_hi_v}) {
-      const stages::Conditions cond = conditions(spec, vs, spec.temp_nominal_c());
-      const stages::Performance p = stages::evaluate_chain(list, cond, stages::Detail::full).whole;
-      if (which < 2 && p.f_low_hz > 0) f_low.add(p.f_low_hz * r_lo);
-      if (which >= 2 && p.f_high_hz > 0) f_high.add(p.f_high_hz * r_hi);
-      // The exact solution where a band is lost first.
-      if (vs == spec.supply_lo_v && (which == 1 || which == 2)) {
-        try {
-          const circuit::Circuit net = stages::chain_netlist(list, cond);
-          const stages::Performance e = stages::evaluate_circuit(net, stages::chain_transistors(list), cond);
-          if (which == 1 && e.f_low_hz > 0) f_low.add(e.f_low_hz);
-          if (which == 2 && e.f_high_hz > 0) f_high.add(e.f_high_hz);
-        } catch (const Error& err) {
-          return fmt::format("bias: {} (stages at their band corners)", err.what());
-        }
-      }
-    }
+  std::vector<devices::DeviceSpread> spreads;
+  std::vector<std::vector<devices::PieceFigures>> pieces;
+  for (const auto& s : ch.stages) {
+    spreads.push_back(spread_of(s));
+    pieces.push_back(spreads.back().corners());
+    pieces.back().push_back(spreads.back().nominal());
   }
+  std::vector<double> temps = {spec.temp_nominal_c()};
+  if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
+  Range f_low, f_high;
+  for (const bool low : {true, false})
+    for (const double sense : {1.0, -1.0})
+      for (double vs : {spec.supply_lo_v, spec.supply_hi_v})
+        for (double temp : temps) {
+          const stages::Conditions cond = conditions(spec, vs, temp);
+          auto corner = [&](const std::vector<stages::ChainStage>& list) {
+            const auto p = stages::evaluate_chain(list, cond, stages::Detail::full).whole;
+            return low ? p.f_low_hz : p.f_high_hz;
+          };
+          std::vector<stages::ChainStage> list = nominal;
+          for (std::size_t k = 0; k < n; ++k) list[k].q = make_transistor(spreads[k], pieces[k].back(), temp);
+          double best = corner(list);
+          for (int round = 0; round < 2; ++round)
+            for (std::size_t k = 0; k < n; ++k)
+              for (const auto& f : pieces[k]) {
+                std::vector<stages::ChainStage> trial = list;
+                trial[k].q = make_transistor(spreads[k], f, temp);
+                const double v = corner(trial);
+                if (v > 0 && sense * v > sense * best) {
+                  best = v;
+                  list = std::move(trial);
+                }
+              }
+          // Every part of every stage to the end that pushes the corner further.
+          std::vector<stages::ChainStage> pushed = list;
+          for (std::size_t k = 0; k < n; ++k)
+            for (const auto& rp : ch.stages[k].parts) {
+              const std::size_t i = ch.stages[k].topology->role_index(rp.role);
+              std::vector<stages::ChainStage> lo = list, hi = list;
+              lo[k].values[i] = rp.combo.lo;
+              hi[k].values[i] = rp.combo.hi;
+              pushed[k].values[i] = sense * (corner(hi) - corner(lo)) >= 0 ? rp.combo.hi : rp.combo.lo;
+            }
+          const double v = corner(pushed);
+          if (v > 0) (low ? f_low : f_high).add(v * (low ? r_lo : r_hi));
+          if (vs == spec.supply_lo_v && temp == temps.front() && ((low && sense > 0) || (!low && sense < 0))) {
+            try {
+              const auto [el, eh] = stages::band_of_circuit(stages::chain_netlist(pushed, cond), cond);
+              if (low && el > 0) f_low.add(el);
+              if (!low && eh > 0) f_high.add(eh);
+            } catch (const Error& err) {
+              return fmt::format("bias: {} (stages at their band corners)", err.what());
+            }
+          }
+        }
   if (ch.nominal.f_low_hz > 0) f_low.add(ch.nominal.f_low_hz);
   if (ch.nominal.f_high_hz > 0) f_high.add(ch.nominal.f_high_hz);
   ch.worst.f_low = f_low;

@@ -32,6 +32,7 @@ stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
   c.supply_v = supply;
   c.negative_rail = spec.negative_rail;
   c.load_ohm = spec.load_ohm;
+  c.load_farads = spec.load_farads;
   c.source_ohm = spec.source_ohm;
   c.celsius = celsius;
   if (spec.band_hz) {

@@ -24,6 +24,8 @@ void validate(const Spec& s) {
   require(finite(s.gain) && s.gain > 0, "gain", s.gain, "must be a positive number (V/V, or dB with a dB suffix)");
   require(s.gain <= 1e5, "gain", s.gain, "is beyond what a small-signal stage can be asked for");
   require(finite(s.load_ohm) && s.load_ohm > 0, "load", s.load_ohm, "must be a positive resistance");
+  require(finite(s.load_farads) && s.load_farads >= 0 && s.load_farads < 1e-3, "load-cap", s.load_farads,
+          "must be zero or a capacitance below 1 mF (a cable's is tens of pF per metre)");
   require(finite(s.supply_lo_v) && s.supply_lo_v > 0, "supply", s.supply_lo_v, "must be a positive voltage");
   require(finite(s.supply_hi_v) && s.supply_hi_v >= s.supply_lo_v, "supply", s.supply_hi_v,
           "range must run from low to high (e.g. 7..9.6)");

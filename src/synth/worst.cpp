@@ -227,16 +227,6 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
           }
           add_figures(w, p, set.detail == stages::Detail::full);
           if (set.detail != stages::Detail::core) add_cap_dc(w, c, p);
-          if (set.detail == stages::Detail::full) {
-            // The builds at the extremes of the -3 dB corners (for a chain's joint corners).
-            const Build b{f, temp, values_of(c, set.way), vs};
-            auto keep = [&](std::array<std::optional<Build>, 2>& at, const Range& r, double v) {
-              if (v <= r.min) at[0] = b;
-              if (v >= r.max) at[1] = b;
-            };
-            keep(w.f_low_at, w.f_low, p.f_low_hz);
-            keep(w.f_high_at, w.f_high, p.f_high_hz);
-          }
           c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
         }
       }

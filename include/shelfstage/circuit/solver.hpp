@@ -2,6 +2,7 @@
 // Newton-Raphson with gmin and source stepping; AC small-signal sweeps and noise,
 // linearised at the operating point. The reference inside the program for any stage.
 #pragma once
+#include <functional>
 #include <complex>
 #include <string>
 #include <vector>
@@ -66,8 +67,11 @@ NoisePoint noise(const Circuit& circuit, const OperatingPoint& op, const std::st
                  double celsius = devices::kNominalCelsius);
 
 /// The circuit at mid-band for large signals: every capacitor replaced by a voltage source
-/// holding the DC voltage it charged to at op, so a DC sweep sees the AC load lines.
-Circuit with_capacitors_held(const Circuit& circuit, const OperatingPoint& op);
+/// holding the DC voltage it charged to at op, so a DC sweep sees the AC load lines. A
+/// capacitor for which `open` returns true is left out instead (open, as a small capacitance
+/// is at mid-band: a load's or a device's).
+Circuit with_capacitors_held(const Circuit& circuit, const OperatingPoint& op,
+                             const std::function<bool(const Component&)>& open = {});
 
 /// Frequencies log-spaced, points per decade.
 std::vector<double> log_sweep(double f_lo_hz, double f_hi_hz, int per_decade);

@@ -47,7 +47,7 @@ struct SchematicOptions {
   std::map<std::string, PartNote> notes;  ///< by designator
   /// Designators drawn in the muted style of the test bench (signal source, its resistance,
   /// the load); their labels say what they stand for.
-  std::vector<std::string> bench = {"VSIG", "RSIG", "RL"};
+  std::vector<std::string> bench = {"VSIG", "RSIG", "RL", "CL"};
 };
 
 enum class SymbolKind { resistor, capacitor, electrolytic, njfet, pjfet, npn, pnp, dc_source, ac_source };

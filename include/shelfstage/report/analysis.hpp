@@ -26,6 +26,12 @@ struct PartInfo {
   double rating = 0;            ///< W for resistors, V for capacitors; 0: not stated
   bool polarised = false;       ///< electrolytic or tantalum
   std::string fitted_plus_net;  ///< polarised: the net its + lead is fitted to; empty: not known
+  /// Capacitors: the DC across from the + lead (or the end higher at nominal) as the design
+  /// verified it over the nominal build and every corner (synth::RolePart::dc): when given,
+  /// the analysis takes the part's DC and polarity from it instead of from its own operating
+  /// point (a chain's coupling capacitor sits between two stages, not on the stage's load).
+  bool dc_known = false;
+  double dc_min_v = 0, dc_max_v = 0;
 };
 
 /// A stage to analyse: topology, role values, the transistor piece and the conditions.
@@ -53,8 +59,10 @@ struct PartStress {
   PartInfo info;
   double power_w = 0;        ///< resistors: I^2 R from the exact solution (else the closed form)
   double power_closed_w = 0; ///< resistors: the closed form's figure
-  double dc_v = 0;           ///< capacitors: DC across, >= 0
+  double dc_v = 0;           ///< capacitors: DC across, >= 0 (the largest, when a range is known)
   double dc_closed_v = 0;
+  bool dc_range = false;     ///< capacitors: dc_min_v..dc_max_v hold the verified range (PartInfo)
+  double dc_min_v = 0, dc_max_v = 0;
   double peak_v = 0;         ///< capacitors: signal peak taken on top of the DC (the output swing peak)
   std::string plus_net;      ///< capacitors: the net at the higher DC voltage (where a + lead goes)
   /// Share of what the part may take: resistors P / (rating / 2) (common practice: at most half

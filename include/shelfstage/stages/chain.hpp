@@ -55,8 +55,8 @@ circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditi
 /// stage, no input capacitor: for drawing and analysing a stage as the chain builds it.
 circuit::Circuit chain_stage_netlist(const ChainStage& stage, std::size_t k, const Conditions& c);
 
-/// The fast evaluation of a chain. Each stage sees the next stage's input impedance as its
-/// load (evaluated from the last stage back to the first), and is driven from the previous
+/// The fast evaluation of a chain. Each stage sees the next stage's input impedance and input
+/// capacitance (Miller included) as its load (evaluated from the last stage back to the first), and is driven from the previous
 /// stage's output node (source 0; the first stage from c.source_ohm), so the mid-band gain is
 /// the product of the stage gains (each stage's Zout is taken with the previous stage's
 /// output impedance as its source). Whole-chain figures: gain, Zin (first stage), Zout (last),

@@ -2,6 +2,7 @@
 // Performance figures as the fast evaluator, so the two can be compared.
 #pragma once
 #include <span>
+#include <utility>
 
 #include "shelfstage/circuit/solver.hpp"
 #include "shelfstage/stages/topology.hpp"
@@ -16,6 +17,11 @@ namespace shelfstage::stages {
 /// Throws InfeasibleError if the operating point does not converge.
 Performance evaluate_exact(const Topology& t, const Values& values, const Transistor& q, const Conditions& c,
                            Detail detail = Detail::full);
+
+/// The -3 dB points alone of any stage-shaped circuit (as evaluate_circuit finds them, without
+/// its other figures): {f_low, f_high}, 0 where the response does not fall that far.
+/// Throws InfeasibleError if the operating point does not converge.
+std::pair<double, double> band_of_circuit(const circuit::Circuit& net, const Conditions& c);
 
 /// The same figures for any stage-shaped circuit (nets "sig", "in", "out", supply first among
 /// the sources, the signal source "VSIG", the load "RL"), e.g. a chain of stages: qs are its

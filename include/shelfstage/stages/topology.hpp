@@ -52,6 +52,7 @@ struct Conditions {
   /// terminal), true for a negative one (ground at its + terminal). See Rail.
   bool negative_rail = false;
   double load_ohm = 10e3;
+  double load_farads = 0;  ///< capacitance across the load (a cable, the next stage's input)
   double source_ohm = 0;
   double celsius = devices::kNominalCelsius;
   double band_lo_hz = 0;        ///< band edges at which the loss is reported (0: none)
@@ -97,6 +98,7 @@ struct Performance {
   double swing_down_v = 0;
   double hd2 = 0;           ///< second-harmonic ratio at Conditions::hd2_peak_v
   double noise_v_rthz = 0;  ///< input-referred noise density at Conditions::noise_f_hz
+  double c_in_f = 0;        ///< capacitance into the gate or base at mid-band (Miller included)
   double supply_current_a = 0;
   std::vector<Stress> stress;  ///< per role present
 };
@@ -123,7 +125,8 @@ struct Rail {
 Rail rail_of(const Transistor& q, const Conditions& c);
 /// True for the nets of the bench around a stage (signal, source and load side).
 bool is_bench_net(std::string_view net);
-/// True for the roles of the bench's parts: "supply", "signal", "source" (RSIG), "load" (RL).
+/// True for the roles of the bench's parts: "supply", "signal", "source" (RSIG), "load" (RL),
+/// "load capacitance" (CL, when Conditions::load_farads is given).
 bool is_bench_role(std::string_view role);
 
 /// How much the fast evaluator computes: `core` (bias, gain, Zin, Zout, swing, band-edge
@@ -134,6 +137,8 @@ enum class Detail { core, stress, full };
 /// Names of the nets every stage netlist uses: the signal source drives "sig" through
 /// RSIG into "in" (then CIN); the load RL hangs on "out"; the supply is "vdd".
 inline constexpr std::string_view kNetSignal = "sig", kNetIn = "in", kNetOut = "out", kNetSupply = "vdd";
+/// The role of the bench's capacitor across the load (CL), present when Conditions::load_farads is.
+inline constexpr std::string_view kRoleLoadCapacitance = "load capacitance";
 
 /// What a topology's design equations may ask of the synthesizer: which values the shelf
 /// can make (single parts and combinations), so proposals land on real values.

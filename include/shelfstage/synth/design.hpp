@@ -58,23 +58,12 @@ struct RolePart {
   std::string plus_node, minus_node;  ///< the exported netlist's nets of the two leads
 };
 
-/// One build the worst case evaluated: a piece at a temperature, the part values, the supply.
-struct Build {
-  devices::PieceFigures piece;
-  double celsius = 0;
-  stages::Values values;
-  double supply_v = 0;
-};
-
 struct Worst {
   Range gain, bias_current, swing_peak, v_in, v_common, v_out, zin, zout, f_low, f_high, supply_current;
   Range loss_lo_db, loss_hi_db;
   /// Capacitors, by role index: the DC across from the fitted + lead (a non-polarised part:
   /// the end higher at nominal), over every point evaluated with part stress.
   std::array<Range, stages::kMaxRoles> cap_dc;
-  /// Full depth: the builds that gave the lowest and highest -3 dB corners ([0] min, [1] max),
-  /// so a chain can put every stage at its own extreme at once.
-  std::array<std::optional<Build>, 2> f_low_at, f_high_at;
   int evaluations = 0;
 };
 

@@ -14,6 +14,7 @@ namespace shelfstage::synth {
 struct Spec {
   double gain = 0;                ///< |V/V| from the source to the load
   double load_ohm = 0;
+  double load_farads = 0;         ///< capacitance across the load (a cable); 0: none
   double supply_lo_v = 0;         ///< supply range, magnitudes; equal ends for a fixed supply
   double supply_hi_v = 0;
   /// A negative supply (`--supply -9`): ground at the battery's + terminal. Every stage is

@@ -1,0 +1,357 @@
+// The worst case as a promise, checked from outside with ngspice (Debian package ngspice): the
+// candidates listed for varied requests on the demo shelf are built as netlists with every
+// transistor at pieces the datasheet allows (both diagonal pieces of a JFET's IDSS-VP box, its
+// pieces at each VP limit, a BJT's hFE ends; the whole box's corners for --spread box), the
+// parts at nominal, all at one end of their tolerance, all at the other and at seeded mixes of
+// ends, and the supply at both ends. Every figure ngspice gives (mid-band gain, -3 dB corners,
+// input and output impedance, bias and supply current, node voltages) must lie in the range
+// the design claims, and every electrolytic must have V(+) >= V(-) at every one of those
+// builds (its + lead as the design names it: plus_node).
+#include <doctest/doctest.h>
+
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <fstream>
+#include <future>
+#include <map>
+#include <random>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "shelfstage/circuit/spice.hpp"
+#include "shelfstage/stages/chain.hpp"
+#include "shelfstage/store/csv.hpp"
+#include "shelfstage/synth/design.hpp"
+#include "support/ngspice.hpp"
+
+namespace shelfstage::test {
+
+namespace {
+
+std::string source_file(const std::string& relative) {
+  std::ifstream in(std::string(SHELFSTAGE_SOURCE_DIR) + "/" + relative, std::ios::binary);
+  REQUIRE_MESSAGE(in.good(), "cannot read ", relative);
+  std::ostringstream ss;
+  ss << in.rdbuf();
+  return ss.str();
+}
+
+synth::Inventory demo_shelf() {
+  synth::Inventory inv;
+  inv.devices = store::parse_devices_csv(source_file("data-demo/devices.csv"), "devices.csv");
+  inv.parts = store::parse_stock_csv(source_file("data-demo/stock.csv"), "stock.csv", inv.devices);
+  std::int64_t id = 1;
+  for (auto& p : inv.parts) p.id = id++;
+  return inv;
+}
+
+/// The pieces a practitioner would try for one stage: the datasheet's limits.
+std::vector<devices::PieceFigures> limit_pieces(const devices::DeviceSpread& s) {
+  std::vector<devices::PieceFigures> out;
+  if (devices::is_jfet(s.record().kind)) {
+    for (const auto& p : s.diagonal_pieces()) out.push_back(p);
+    // Pieces at each VP limit that the model allows (for the box, its anti-diagonal corners).
+    for (const auto& c : s.corners())
+      if (std::none_of(out.begin(), out.end(), [&](const devices::PieceFigures& o) {
+            return std::abs(o.idss_a - c.idss_a) < 1e-9 && std::abs(o.vp_abs_v - c.vp_abs_v) < 1e-9;
+          }))
+        out.push_back(c);
+  } else {
+    const devices::Range& h = s.record().bjt.hfe;
+    out.push_back({0, 0, std::min(h.min, h.max), "hFE min"});
+    out.push_back({0, 0, std::max(h.min, h.max), "hFE max"});
+  }
+  out.push_back(s.nominal());
+  return out;
+}
+
+/// One build of a listed design, ready to simulate.
+struct Build {
+  std::string label;
+  std::vector<stages::ChainStage> stages;
+  stages::Conditions cond;
+};
+
+/// What ngspice says of a build.
+struct Sim {
+  double gain = 0, f_low = 0, f_high = 0, zin = 0, zout = 0, supply_a = 0, bias_a = 0;
+  double v_in = 0, v_common = 0, v_out = 0;
+  std::map<std::string, double> dc;  ///< V(plus_node) - V(minus_node) by designator
+};
+
+circuit::Circuit netlist_of(const synth::Candidate& c, const Build& b) {
+  if (c.is_chain()) return stages::chain_netlist(b.stages, b.cond);
+  return b.stages.front().topology->netlist(b.stages.front().values, b.stages.front().q, b.cond);
+}
+
+Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_zin) {
+  const circuit::Circuit net = netlist_of(c, b);
+  const circuit::Element* q = nullptr;
+  for (const auto& el : net.elements())
+    if (!q && (el.c.kind == circuit::ElementKind::jfet || el.c.kind == circuit::ElementKind::bjt)) q = &el;
+  REQUIRE(q != nullptr);
+  const bool jfet = q->c.kind == circuit::ElementKind::jfet;
+  std::vector<std::string> lines = {".control", "op"};
+  auto v_of = [&](std::size_t pin) {
+    const std::string n = circuit::spice_net(net, q->c.pins[pin]);
+    return n == "0" ? std::string("0") : "v(" + n + ")";
+  };
+  // The first transistor's pins (ngspice prints nothing for ground: that one is 0).
+  const std::string pins[3] = {v_of(1), v_of(2), v_of(0)};  // gate/base, source/emitter, drain/collector
+  std::string print = "print";
+  for (const auto& p : pins)
+    if (p != "0") print += " " + p;
+  std::map<std::string, std::pair<std::string, std::string>> caps;
+  for (const auto& rp : c.parts)
+    if (rp.kind == 'C' && rp.polarised) {
+      REQUIRE_MESSAGE(!rp.plus_node.empty(), rp.designator, " has no + lead named");
+      caps[rp.designator] = {rp.plus_node, rp.minus_node};
+      for (const auto& n : {rp.plus_node, rp.minus_node})
+        if (n != "0") print += " v(" + n + ")";
+    }
+  lines.push_back(print);
+  lines.push_back(fmt::format("let iq = abs(@{}[{}])", circuit::spice_name(q->c), jfet ? "id" : "ic"));
+  lines.push_back("print iq");
+  lines.push_back("let supply_current = abs(i(vdd))");
+  lines.push_back("print supply_current");
+  lines.push_back("ac dec 40 0.01 1e10");
+  lines.push_back(fmt::format("meas ac gmid find vm(out) at={:.6g}", f_mid));
+  lines.push_back(fmt::format("meas ac gre find vr(out) at={:.6g}", f_mid));
+  lines.push_back(fmt::format("meas ac gdb find vdb(out) at={:.6g}", f_mid));
+  // Zin where neither the coupling capacitor nor the input capacitance counts (the figure is
+  // the mid-band resistance: capacitances open, coupling capacitors shorts).
+  lines.push_back(fmt::format("meas ac vinm find vm(in) at={:.6g}", f_zin));
+  lines.push_back("let isig = mag(i(vsig))");
+  lines.push_back(fmt::format("meas ac isigm find isig at={:.6g}", f_zin));
+  lines.push_back("let edge_db = gdb - 3.0103");
+  lines.push_back("meas ac f_low when vdb(out)=$&edge_db rise=1");
+  lines.push_back("meas ac f_high when vdb(out)=$&edge_db fall=last");
+  lines.push_back("alter rl = 1e12");
+  lines.push_back(fmt::format("ac lin 3 {:.6g} {:.6g}", 0.99 * f_mid, 1.01 * f_mid));
+  lines.push_back(fmt::format("meas ac vopen find vm(out) at={:.6g}", f_mid));
+  lines.push_back(".endc");
+  circuit::SpiceOptions o;
+  o.title = c.topology_name() + " " + b.label;
+  o.celsius = b.cond.celsius;
+  o.analyses = lines;
+  const SpiceRun r = run_ngspice(circuit::to_spice(net, o));
+  INFO(r.output);
+  Sim s;
+  s.gain = (r.get("gre") < 0 ? -1.0 : 1.0) * r.get("gmid");
+  s.f_low = r.find("f_low").value_or(0.0);
+  s.f_high = r.find("f_high").value_or(0.0);
+  s.zin = r.get("vinm") / r.get("isigm");
+  s.zout = b.cond.load_ohm * (r.get("vopen") / r.get("gmid") - 1.0);
+  s.supply_a = r.get("supply_current");
+  s.bias_a = r.get("iq");
+  auto v = [&](const std::string& p) { return p == "0" ? 0.0 : r.get(p); };
+  s.v_in = v(pins[0]);
+  s.v_common = v(pins[1]);
+  s.v_out = v(pins[2]);
+  for (const auto& [des, nodes] : caps) s.dc[des] = v(nodes.first == "0" ? "0" : "v(" + nodes.first + ")") -
+                                                    v(nodes.second == "0" ? "0" : "v(" + nodes.second + ")");
+  return s;
+}
+
+/// The builds a practitioner checks: every stage at a limit piece (all stages at the same
+/// kind of limit at once, for a chain), parts at nominal, at either end of their tolerance
+/// and at seeded mixes of ends, the supply at both ends.
+std::vector<Build> builds_of(const synth::Candidate& c, const synth::Spec& spec) {
+  const std::vector<synth::Candidate> stages = c.is_chain() ? c.stages : std::vector<synth::Candidate>{c};
+  std::vector<std::vector<devices::PieceFigures>> pieces;
+  std::vector<devices::DeviceSpread> spreads;
+  for (const auto& s : stages) {
+    spreads.push_back(synth::spread_of(s));
+    pieces.push_back(limit_pieces(spreads.back()));
+  }
+  std::size_t piece_sets = 0;
+  for (const auto& p : pieces) piece_sets = std::max(piece_sets, p.size());
+  std::mt19937 rng(7);
+  std::vector<Build> out;
+  for (std::size_t ps = 0; ps < piece_sets; ++ps) {
+    // Part settings: 0 nominal, 1 all low, 2 all high, 3.. seeded mixes of ends.
+    for (int parts = 0; parts < 5; ++parts) {
+      for (double supply : {spec.supply_lo_v, spec.supply_hi_v}) {
+        Build b;
+        b.cond = c.conditions;
+        b.cond.supply_v = supply;
+        b.cond.negative_rail = spec.negative_rail;
+        std::string label = fmt::format("supply {:g} V, parts {}", supply,
+                                        parts == 0 ? "nominal" : parts == 1 ? "all low" : parts == 2 ? "all high" : "mixed");
+        for (std::size_t k = 0; k < stages.size(); ++k) {
+          const synth::Candidate& s = stages[k];
+          const auto& f = pieces[k][std::min(ps, pieces[k].size() - 1)];
+          stages::ChainStage st = synth::chain_stage(s);
+          st.q = synth::make_transistor(spreads[k], f, spec.temp_nominal_c());
+          for (const auto& rp : s.parts) {
+            const std::size_t i = s.topology->role_index(rp.role);
+            int way = parts == 1 ? -1 : parts == 2 ? 1 : 0;
+            if (parts >= 3) way = static_cast<int>(rng() % 2) * 2 - 1;
+            if (way != 0) st.values[i] = way > 0 ? rp.combo.hi : rp.combo.lo;
+          }
+          b.stages.push_back(st);
+          label += fmt::format("; stage {} {}", k + 1, f.tag);
+        }
+        b.label = label;
+        out.push_back(std::move(b));
+      }
+    }
+  }
+  return out;
+}
+
+/// CHECKs lo <= v <= hi with a relative slack (the fast evaluator's agreement with ngspice)
+/// and an absolute floor.
+void check_in(const std::string& what, double v, const synth::Range& r, double rel, double floor,
+              const std::string& where) {
+  REQUIRE_MESSAGE(!r.empty, what, ": no range claimed");
+  const double lo = r.min - rel * std::abs(r.min) - floor, hi = r.max + rel * std::abs(r.max) + floor;
+  CHECK_MESSAGE((v >= lo && v <= hi), fmt::format("{} = {:.6g} outside the claimed {:.6g} .. {:.6g} ({})", what, v,
+                                                  r.min, r.max, where));
+}
+
+struct Request {
+  std::string label;
+  synth::Spec spec;
+};
+
+synth::Spec base(double gain, double load, double supply_lo, double supply_hi, double zin) {
+  synth::Spec s;
+  s.gain = gain;
+  s.load_ohm = load;
+  s.supply_lo_v = supply_lo;
+  s.supply_hi_v = supply_hi;
+  s.zin_min_ohm = zin;
+  s.top = 2;
+  s.mc_samples = 0;
+  return s;
+}
+
+std::vector<Request> requests() {
+  std::vector<Request> out;
+  {
+    synth::Spec s = base(0.9, 10e3, 7, 9.6, 1e6);  // a high-impedance buffer from a 9 V battery
+    s.gain_tol = 0.2;
+    s.band_hz = std::pair{20.0, 20e3};
+    out.push_back({"buffer from a 9 V battery", s});
+  }
+  {
+    synth::Spec s = base(10, 10e3, 12, 12, 100e3);  // a sensor preamp from a 10k source
+    s.source_ohm = 10e3;
+    s.band_hz = std::pair{10.0, 10e3};
+    s.swing_vpp = 2;
+    out.push_back({"sensor preamp", s});
+  }
+  {
+    synth::Spec s = base(3, 600, 15, 15, 47e3);  // a 600 ohm line driver
+    s.swing_vpp = 4;
+    out.push_back({"600 ohm line driver", s});
+  }
+  {
+    synth::Spec s = base(4, 10e3, 9, 9, 47e3);  // P-channel and PNP only, on a positive rail
+    s.devices = {"SJ-P31", "SQ-510"};
+    s.band_hz = std::pair{20.0, 20e3};
+    s.stages_max = 1;
+    out.push_back({"P-type shelf, +9 V", s});
+  }
+  {
+    synth::Spec s = base(4, 10e3, 9, 9, 47e3);  // the same on a negative rail
+    s.devices = {"SJ-P31", "SQ-510"};
+    s.negative_rail = true;
+    s.stages_max = 1;
+    out.push_back({"P-type shelf, -9 V", s});
+  }
+  {
+    synth::Spec s = base(2, 10e3, 12, 12, 1e6);  // JFETs over the whole box
+    s.topologies = {"jfet-cs-divider", "jfet-follower", "jfet-cs-self"};
+    s.spread = devices::SpreadModel::box;
+    s.gain_tol = 0.3;
+    s.stages_max = 1;
+    out.push_back({"JFET stage, whole-box spread", s});
+  }
+  {
+    synth::Spec s = base(100, 10e3, 9, 9, 1e6);  // a chain: gain 100 from a 1 MOhm input
+    s.stages_min = 2;
+    s.top = 1;
+    out.push_back({"gain-100 chain", s});
+  }
+  return out;
+}
+
+}  // namespace
+
+TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, tolerance ends and supply ends") {
+  const synth::Inventory inv = demo_shelf();
+  int designs = 0, runs = 0;
+  for (const auto& req : requests()) {
+    CAPTURE(req.label);
+    const synth::DesignResult r = synth::design(req.spec, inv);
+    REQUIRE_MESSAGE(!r.candidates.empty(), req.label, ": ", r.diagnosis.detail);
+    for (const auto& c : r.candidates) {
+      CAPTURE(c.topology_name());
+      ++designs;
+      const auto& w = c.worst;
+      // Every range contains its nominal (the figures shown).
+      for (const auto& [name, range, v] :
+           std::vector<std::tuple<std::string, synth::Range, double>>{{"gain", w.gain, c.nominal.gain},
+                                                                      {"zin", w.zin, c.nominal.zin_ohm},
+                                                                      {"zout", w.zout, c.nominal.zout_ohm},
+                                                                      {"f_low", w.f_low, c.nominal.f_low_hz},
+                                                                      {"f_high", w.f_high, c.nominal.f_high_hz},
+                                                                      {"swing", w.swing_peak, c.nominal.swing_peak_v},
+                                                                      {"supply current", w.supply_current,
+                                                                       c.nominal.supply_current_a}}) {
+        CAPTURE(name);
+        REQUIRE_FALSE(range.empty);
+        CHECK(range.min <= v * (1 + 1e-9) + 1e-12);
+        CHECK(range.max >= v * (1 - 1e-9) - 1e-12);
+      }
+      // No swing beyond the supply.
+      CHECK(w.swing_peak.max <= req.spec.supply_hi_v);
+      // Nodes on the user's rail.
+      for (double v : {w.v_in.min, w.v_in.max, w.v_out.min, w.v_out.max, w.v_common.min, w.v_common.max}) {
+        if (req.spec.negative_rail) {
+          CHECK(v <= 1e-3);
+        } else {
+          CHECK(v >= -1e-3);
+        }
+      }
+      double f_mid = req.spec.band_hz ? std::sqrt(req.spec.band_hz->first * req.spec.band_hz->second) : 1e3;
+      REQUIRE(f_mid > 20 * w.f_low.max);
+      REQUIRE((w.f_high.min == 0 || f_mid < w.f_high.min / 20));
+      const double f_zin = 40 * w.f_low.max;
+      const std::vector<Build> builds = builds_of(c, req.spec);
+      // Two at a time (ngspice is one process per build).
+      std::vector<Sim> sims(builds.size());
+      for (std::size_t i = 0; i < builds.size(); i += 2) {
+        auto a = std::async(std::launch::async, [&, i] { return simulate(c, builds[i], f_mid, f_zin); });
+        if (i + 1 < builds.size()) sims[i + 1] = simulate(c, builds[i + 1], f_mid, f_zin);
+        sims[i] = a.get();
+      }
+      for (std::size_t i = 0; i < builds.size(); ++i) {
+        const Sim& s = sims[i];
+        const std::string& where = builds[i].label;
+        ++runs;
+        // Slack: the closed form agrees with ngspice to 0.05 % on gain and bias, 0.6 % on the
+        // -3 dB corners (tests/stages); zin and zout are read from an AC solution at f_mid.
+        check_in("gain", s.gain, w.gain, 0.003, 0, where);
+        check_in("bias current", s.bias_a, w.bias_current, 0.003, 1e-9, where);
+        check_in("supply current", s.supply_a, w.supply_current, 0.003, 1e-9, where);
+        check_in("V(gate/base)", s.v_in, w.v_in, 0.003, 2e-3, where);
+        check_in("V(source/emitter)", s.v_common, w.v_common, 0.003, 2e-3, where);
+        check_in("V(drain/collector)", s.v_out, w.v_out, 0.003, 2e-3, where);
+        check_in("zin", s.zin, w.zin, 0.01, 0, where);
+        check_in("zout", s.zout, w.zout, 0.01, 0.05, where);
+        if (s.f_low > 0) check_in("f_low", s.f_low, w.f_low, 0.015, 0, where);
+        if (s.f_high > 0 && s.f_high < 1e9) check_in("f_high", s.f_high, w.f_high, 0.015, 0, where);
+        for (const auto& [des, dc] : s.dc)
+          CHECK_MESSAGE(dc >= 0, fmt::format("{} (polarised) holds {:.4f} V from its + lead ({})", des, dc, where));
+      }
+    }
+  }
+  MESSAGE(fmt::format("{} listed designs, {} ngspice builds", designs, runs));
+}
+
+}  // namespace shelfstage::test
