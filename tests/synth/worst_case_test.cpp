@@ -171,20 +171,25 @@ std::vector<Build> builds_of(const synth::Candidate& c, const synth::Spec& spec)
   std::mt19937 rng(7);
   std::vector<Build> out;
   for (std::size_t ps = 0; ps < piece_sets; ++ps) {
-    // Part settings: 0 nominal, 1 all low, 2 all high, 3.. seeded mixes of ends.
+    // Part settings: 0 nominal, 1 all low, 2 all high, 3.. seeded mixes of ends; the supply
+    // at both ends; the temperature at both ends of a range.
+    std::vector<double> temps = {spec.temp_nominal_c()};
+    if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
     for (int parts = 0; parts < 5; ++parts) {
-      for (double supply : {spec.supply_lo_v, spec.supply_hi_v}) {
+      for (double supply : {spec.supply_lo_v, spec.supply_hi_v})
+      for (double temp : temps) {
         Build b;
         b.cond = c.conditions;
         b.cond.supply_v = supply;
+        b.cond.celsius = temp;
         b.cond.negative_rail = spec.negative_rail;
-        std::string label = fmt::format("supply {:g} V, parts {}", supply,
+        std::string label = fmt::format("supply {:g} V, {:g} °C, parts {}", supply, temp,
                                         parts == 0 ? "nominal" : parts == 1 ? "all low" : parts == 2 ? "all high" : "mixed");
         for (std::size_t k = 0; k < stages.size(); ++k) {
           const synth::Candidate& s = stages[k];
           const auto& f = pieces[k][std::min(ps, pieces[k].size() - 1)];
           stages::ChainStage st = synth::chain_stage(s);
-          st.q = synth::make_transistor(spreads[k], f, spec.temp_nominal_c());
+          st.q = synth::make_transistor(spreads[k], f, temp);
           for (const auto& rp : s.parts) {
             const std::size_t i = s.topology->role_index(rp.role);
             int way = parts == 1 ? -1 : parts == 2 ? 1 : 0;
@@ -277,6 +282,36 @@ std::vector<Request> requests() {
     s.top = 1;
     out.push_back({"gain-100 chain", s});
   }
+  {
+    synth::Spec s = base(3, 220, 4.5, 5.5, 10e3);  // a 5 V stage into 220 ohm, over 0..50 C
+    s.temp_c = std::pair{0.0, 50.0};
+    s.swing_vpp = 0.5;
+    s.top = 1;
+    out.push_back({"5 V into 220 ohm, 0..50 C", s});
+  }
+  {
+    synth::Spec s = base(30, 10e3, 9, 9, 470e3);  // a chain from P-type parts only, +9 V
+    s.devices = {"SJ-P31", "SQ-510"};
+    s.stages_min = 2;
+    s.band_hz = std::pair{20.0, 20e3};
+    s.top = 1;
+    out.push_back({"P-type chain, +9 V", s});
+  }
+  {
+    synth::Spec s = base(30, 10e3, 9, 9, 470e3);  // the same on a negative rail
+    s.devices = {"SJ-P31", "SQ-510"};
+    s.negative_rail = true;
+    s.stages_min = 2;
+    s.top = 1;
+    out.push_back({"P-type chain, -9 V", s});
+  }
+  {
+    synth::Spec s = base(20, 2.2e3, 12, 12, 1e6);  // N and P types free to mix in a chain
+    s.devices = {"SJ-101", "SQ-510", "SQ-410"};
+    s.stages_min = 2;
+    s.top = 2;
+    out.push_back({"chain of N and P types", s});
+  }
   return out;
 }
 
@@ -292,6 +327,11 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
     for (const auto& c : r.candidates) {
       CAPTURE(c.topology_name());
       ++designs;
+      std::string devices;
+      for (const auto& st : c.is_chain() ? c.stages : std::vector<synth::Candidate>{c})
+        devices += (devices.empty() ? "" : " > ") + st.device.name;
+      MESSAGE(fmt::format("{}: {} with {}, gain {:.4g} ({:.4g}..{:.4g})", req.label, c.topology_name(), devices,
+                          c.nominal.gain, c.worst.gain.min, c.worst.gain.max));
       const auto& w = c.worst;
       // Every range contains its nominal (the figures shown).
       for (const auto& [name, range, v] :
