@@ -10,6 +10,7 @@
 #include "demo_data.hpp"
 #include "design_run.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/picklist.hpp"
 #include "shelfstage/store/csv.hpp"
 #include "stock_view.hpp"
@@ -89,7 +90,8 @@ void show_demo(store::Database& db, Context& ctx) {
     inner.global = ctx.global;
     const auto r = run_design_on(db, spec, true, inner);
     const auto& best = r.candidates.front();
-    const auto pick = report::make_pick_list(best, spec.copies, db.parts());
+    auto pick = report::make_pick_list(best, spec.copies, db.parts());
+    pick.rail = report::rail_words(spec);
     nlohmann::ordered_json doc;
     doc["schema"] = 1;
     doc["stock"] = stock_json(parts)["parts"];
@@ -103,7 +105,8 @@ void show_demo(store::Database& db, Context& ctx) {
   ctx.out << fmt::format("\nA stage from this shelf: `shelfstage {}`\n\n", kDemoRequest);
   const auto r = run_design_on(db, spec, true, ctx);
   const auto& best = r.candidates.front();
-  const auto pick = report::make_pick_list(best, spec.copies, db.parts());
+  auto pick = report::make_pick_list(best, spec.copies, db.parts());
+  pick.rail = report::rail_words(spec);
   ctx.out << fmt::format("\nThe pick list of #1 (`shelfstage pick {}`):\n\n", best.id);
   ctx.out << report::pick_text(pick);
 }

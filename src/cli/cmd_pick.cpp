@@ -5,6 +5,7 @@
 
 #include "commands.hpp"
 #include "kept_design.hpp"
+#include "shelfstage/report/design_text.hpp"
 #include "shelfstage/error.hpp"
 
 namespace shelfstage::cli {
@@ -22,7 +23,8 @@ void run_pick(const PickOptions& o, Context& ctx) {
   auto db = ctx.open_database();
   const KeptDesign d = load_kept(db, o.id);
   const int copies = copies_of(d, o.copies);
-  const auto pick = report::make_pick_list(d.candidate, copies, db.parts(), store::held_for(db, d.saved.id));
+  auto pick = report::make_pick_list(d.candidate, copies, db.parts(), store::held_for(db, d.saved.id));
+  pick.rail = report::rail_words(d.spec);
   if (ctx.global.json)
     print_json(ctx, report::pick_json(pick));
   else if (o.csv)

@@ -11,6 +11,7 @@
 #include "commands.hpp"
 #include "kept_design.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/html_report.hpp"
 
 namespace shelfstage::cli {
@@ -66,6 +67,7 @@ void run_report(const ReportOptions& o, Context& ctx) {
   in.spec = d.spec;
   in.candidate = d.candidate;
   in.pick = report::make_pick_list(d.candidate, copies, db.parts(), store::held_for(db, d.saved.id));
+  in.pick->rail = report::rail_words(d.spec);
   in.bias_samples = o.samples.value_or(std::min(d.spec.mc_samples, 500));
   const std::string html = report::html_report(in);
 

@@ -164,6 +164,7 @@ Json candidate_json(const synth::Candidate& c) {
     p["polarised"] = rp.polarised;
     p["plus_net"] = rp.plus_net.empty() ? Json(nullptr) : Json(rp.plus_net);
     if (rp.kind == 'C') {
+      p["minus_net"] = rp.minus_net.empty() ? Json(nullptr) : Json(rp.minus_net);
       // The DC across, from the + lead (or the end higher at nominal) to the other, over the
       // nominal build and every corner, from the exact solver; and the exported netlist's
       // nets of those leads (V(plus_node) - V(minus_node) is that DC).
@@ -300,6 +301,7 @@ synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<
       rp.polarised = p.value("polarised", false);
       rp.combo.polarised = rp.polarised;
       if (p.contains("plus_net") && p["plus_net"].is_string()) rp.plus_net = p["plus_net"].get<std::string>();
+      if (p.contains("minus_net") && p["minus_net"].is_string()) rp.minus_net = p["minus_net"].get<std::string>();
       if (p.contains("dc") && p["dc"].is_array()) {
         rp.dc.add(p["dc"][0].get<double>());
         rp.dc.add(p["dc"][1].get<double>());

@@ -372,8 +372,11 @@ PickList make_pick_list(const synth::Candidate& c, int copies, const std::vector
       pol.designator = fmt::format("{}", fmt::join(pieces, ", "));
       pol.role = rp.role;
       pol.plus_net = rp.plus_net;
+      // The other lead as the design's analysis found it on the rail (a design kept before that
+      // was known: the role's other end).
+      pol.minus_net = rp.minus_net;
       const std::size_t i = sc->topology->role_index(rp.role);
-      if (i < roles.size()) {
+      if (pol.minus_net.empty() && i < roles.size()) {
         const auto& r = roles[i];
         pol.minus_net = std::string(rp.plus_net == r.pos_net ? r.neg_net : r.pos_net);
       }
@@ -464,6 +467,7 @@ Json pick_json(const PickList& p) {
                         {"minus", pol.minus},
                         {"text", pol.text}});
   j["polarity"] = polarity;
+  j["rail"] = p.rail.empty() ? Json(nullptr) : Json(p.rail);
   return j;
 }
 
@@ -489,6 +493,7 @@ std::string pick_csv(const PickList& p) {
 std::string pick_text(const PickList& p) {
   std::string out = fmt::format("Pick list for {} ({} with {}), {} cop{}: {} pieces from {} stock lines.\n", p.design_id,
                                 p.topology, p.device, p.copies, p.copies == 1 ? "y" : "ies", p.pieces(), p.lines.size());
+  if (!p.rail.empty()) out += fmt::format("Supply: {}.\n", p.rail);
   if (p.copies > 1) out += "Designators carry the copy number: R3.2 is R3 of copy 2.\n";
   if (!p.lines.empty()) {
     TextTable t({{"BIN"}, {"KIND"}, {"VALUE", Align::right}, {"TOL"}, {"RATING", Align::right}, {"TYPE"},

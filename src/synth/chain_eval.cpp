@@ -362,6 +362,10 @@ std::string verify_chain_polarity(Candidate& ch, const Spec& spec) {
       if (rp.kind != 'C') continue;
       const bool link = k + 1 < n && rp.role == "COUT";
       if (!link) rp.dc = s.worst.cap_dc[s.topology->role_index(rp.role)];
+      // The stage's own name of the other lead (for people: "ground", "toward stage 2").
+      for (const auto& st : s.nominal.stress)
+        if (st.role == s.topology->role_index(rp.role) && !rp.plus_net.empty())
+          rp.minus_net = std::string(st.plus_net == rp.plus_net ? st.minus_net : st.plus_net);
       leads.push_back({&rp, {}, {}});
     }
   }

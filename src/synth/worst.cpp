@@ -306,6 +306,7 @@ std::string verify_polarity(Candidate& c, const Spec& spec) {
               l.minus = a_plus ? b : a;
               l.part->plus_node = l.plus;
               l.part->minus_node = l.minus;
+              if (l.part->polarised && !l.part->plus_net.empty()) l.part->minus_net = l.minus;
             }
             const double dc = l.plus == a ? va - vb : vb - va;
             l.part->dc.add(dc);

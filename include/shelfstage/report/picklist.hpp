@@ -88,6 +88,9 @@ struct PickList {
   std::vector<Assembly> assemblies;
   std::vector<Polarity> polarities;
   std::vector<ShortItem> short_items;
+  /// The supply as the design takes it, for people ("+9V rail, ground at the battery's -
+  /// terminal"); set by whoever knows the request (report::rail_words). Empty: not said.
+  std::string rail;
 
   bool complete() const { return short_items.empty(); }
   int pieces() const;                ///< pieces to take (lines only)

@@ -49,6 +49,7 @@ struct RolePart {
   std::string dielectric;       ///< capacitors
   bool polarised = false;
   std::string plus_net;         ///< polarised capacitors: the net the + lead goes to
+  std::string minus_net;        ///< capacitors: the stage's net at the other lead (from the design's analysis)
   int stage = 0;                ///< in a chain's part list: the stage (1, 2, 3); 0 for a single stage
   /// Capacitors: the DC across the part, from its + lead (a non-polarised part: the end at the
   /// higher voltage at nominal) to the other, over the nominal build and every corner, from
