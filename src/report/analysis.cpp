@@ -121,6 +121,7 @@ Json performance_json(const stages::Topology& t, const stages::Performance& p) {
   j["swing_peak"] = p.swing_peak_v;
   j["hd2"] = p.hd2;
   j["noise"] = p.noise_v_rthz;
+  j["c_in"] = p.c_in_f;
   j["supply_current"] = p.supply_current_a;
   return j;
 }
