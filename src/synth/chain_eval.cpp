@@ -350,12 +350,8 @@ std::string verify_chain_polarity(Candidate& ch, const Spec& spec) {
   for (const auto& s : ch.stages) spreads.push_back(spread_of(s));
   std::vector<double> temps = {spec.temp_nominal_c()};
   if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
-  // Each capacitor: its stage's part, its designator as the chain netlist has it.
-  struct Leads {
-    RolePart* part = nullptr;
-    std::string plus, minus;
-  };
-  std::vector<Leads> leads;
+  // Each capacitor: its stage's part; the fitted + lead as the chain's netlist names it.
+  std::vector<CapLeads> leads;
   for (std::size_t k = 0; k < n; ++k) {
     Candidate& s = ch.stages[k];
     for (auto& rp : s.parts) {
@@ -366,47 +362,12 @@ std::string verify_chain_polarity(Candidate& ch, const Spec& spec) {
       for (const auto& st : s.nominal.stress)
         if (st.role == s.topology->role_index(rp.role) && !rp.plus_net.empty())
           rp.minus_net = std::string(st.plus_net == rp.plus_net ? st.minus_net : st.plus_net);
-      leads.push_back({&rp, {}, {}});
+      leads.push_back({&rp, rp.polarised && !rp.plus_net.empty() ? stages::chain_net(k, n, rp.plus_net) : std::string(),
+                       {}, {}});
     }
   }
-  bool first = true;
-  auto solve = [&](const std::vector<stages::ChainStage>& list, double vs, double temp,
-                   const std::string& what) -> std::string {
-    const stages::Conditions cond = conditions(spec, vs, temp);
-    const circuit::Circuit net = stages::chain_netlist(list, cond);
-    circuit::SolverOptions so;
-    so.celsius = temp;
-    circuit::OperatingPoint op;
-    try {
-      op = circuit::solve_dc(net, so);
-    } catch (const Error& e) {
-      return fmt::format("bias: the exact solver finds no operating point ({}, {})", what, e.what());
-    }
-    for (auto& l : leads) {
-      const auto* el = net.find(l.part->designator);
-      if (!el) continue;
-      const std::string a = net.net_name(el->c.pins[0]), b = net.net_name(el->c.pins[1]);
-      const double va = op.node_v[el->c.pins[0]], vb = op.node_v[el->c.pins[1]];
-      if (first) {
-        // The + lead: the fitted one (the stage's own net name, renamed as the chain names it).
-        bool a_plus = va >= vb;
-        if (l.part->polarised && !l.part->plus_net.empty()) {
-          const std::size_t k = static_cast<std::size_t>(l.part->stage > 0 ? l.part->stage - 1 : 0);
-          a_plus = a == stages::chain_net(k, n, l.part->plus_net);
-        }
-        l.plus = a_plus ? a : b;
-        l.minus = a_plus ? b : a;
-        l.part->plus_node = l.plus;
-        l.part->minus_node = l.minus;
-      }
-      const double dc = l.plus == a ? va - vb : vb - va;
-      l.part->dc.add(dc);
-      if (l.part->polarised && dc < 0)
-        return fmt::format("polarity: {} ({}) would hold {:.2f} V from its + lead (exact solution, {})",
-                           l.part->designator, l.part->role, dc, what);
-    }
-    first = false;
-    return {};
+  auto solve = [&](const std::vector<stages::ChainStage>& list, double vs, double temp, const std::string& what) {
+    return read_capacitors(stages::chain_netlist(list, conditions(spec, vs, temp)), temp, leads, what);
   };
   const std::vector<stages::ChainStage> nominal = chain_stages(ch);
   if (std::string v = solve(nominal, spec.supply_nominal_v(), spec.temp_nominal_c(), "nominal"); !v.empty()) return v;

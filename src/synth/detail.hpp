@@ -30,6 +30,19 @@ enum class Depth { search, full };
 inline constexpr double kPolarForwardV = 0.1;
 /// Fills c.worst and c.error_worst; returns the first violated constraint or empty.
 std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth);
+/// A capacitor whose DC the exact solver reads: its part, the fitted + lead's net as the netlist
+/// names it (empty: not polarised), and the leads' nets once fixed.
+struct CapLeads {
+  RolePart* part = nullptr;
+  std::string fitted_plus;
+  std::string plus, minus;
+};
+/// Solves the netlist's operating point and joins the DC across each capacitor (from its +
+/// lead) to its part's dc range; the first call fixes the leads (the fitted + lead, else the
+/// end higher) and names them (plus_node, minus_node). Returns "polarity: ..." when a
+/// polarised part is reversed, "bias: ..." when the solver finds no operating point.
+std::string read_capacitors(const circuit::Circuit& net, double celsius, std::vector<CapLeads>& leads,
+                            const std::string& where);
 /// The DC across every capacitor of a single stage, from the exact solver at nominal and every
 /// corner (NOTES in worst.cpp): fills each capacitor's dc, plus_node and minus_node. Returns
 /// "polarity: ..." when a polarised part would be reversed, "bias: ..." when the solver finds

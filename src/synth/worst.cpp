@@ -241,6 +241,37 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
   return {};
 }
 
+std::string read_capacitors(const circuit::Circuit& net, double celsius, std::vector<CapLeads>& leads,
+                            const std::string& where) {
+  circuit::SolverOptions so;
+  so.celsius = celsius;
+  circuit::OperatingPoint op;
+  try {
+    op = circuit::solve_dc(net, so);
+  } catch (const Error& e) {
+    return fmt::format("bias: the exact solver finds no operating point ({}: {})", where, e.what());
+  }
+  for (auto& l : leads) {
+    const auto* el = net.find(l.part->designator);
+    if (!el) continue;
+    const std::string a = net.net_name(el->c.pins[0]), b = net.net_name(el->c.pins[1]);
+    const double va = op.node_v[el->c.pins[0]], vb = op.node_v[el->c.pins[1]];
+    if (l.plus.empty()) {
+      const bool a_plus = !l.fitted_plus.empty() ? a == l.fitted_plus : va >= vb;
+      l.plus = a_plus ? a : b;
+      l.minus = a_plus ? b : a;
+      l.part->plus_node = l.plus;
+      l.part->minus_node = l.minus;
+    }
+    const double dc = l.plus == a ? va - vb : vb - va;
+    l.part->dc.add(dc);
+    if (l.part->polarised && dc < 0)
+      return fmt::format("polarity: {} ({}) would hold {:.2f} V from its + lead (exact solution, {})",
+                         l.part->designator, l.part->role, dc, where);
+  }
+  return {};
+}
+
 // NOTES (polarity, the one source of truth):
 //  1. The exact solver's operating point of the stage's netlist, at every corner piece and the
 //     nominal piece, both supply ends and both temperature ends, with the parts at nominal and
@@ -268,55 +299,24 @@ std::string verify_polarity(Candidate& c, const Spec& spec) {
   std::vector<double> supplies = {spec.supply_nominal_v(), spec.supply_lo_v, spec.supply_hi_v};
   std::vector<double> temps = {t_nom};
   if (spec.temp_c) temps = {t_nom, spec.temp_c->first, spec.temp_c->second};
-
-  // Each part's leads: the + net first, fixed at the nominal build.
-  struct Leads {
-    RolePart* part = nullptr;
-    std::string plus, minus;
-  };
-  std::vector<Leads> leads;
+  std::vector<CapLeads> leads;
   for (auto& rp : c.parts)
     if (rp.kind == 'C') {
       rp.dc = c.worst.cap_dc[t.role_index(rp.role)];
-      leads.push_back({&rp, {}, {}});
+      leads.push_back({&rp, rp.polarised ? rp.plus_net : std::string(), {}, {}});
     }
-  circuit::SolverOptions so;
-  bool first = true;
   for (const auto& f : pieces)
     for (double temp : temps) {
       const stages::Transistor q = make_transistor(spread, f, temp);
-      so.celsius = temp;
       for (double vs : supplies)
         for (const Signs& way : ways) {
           const circuit::Circuit net = t.netlist(values_of(c, way), q, conditions(spec, vs, temp));
-          circuit::OperatingPoint op;
-          try {
-            op = circuit::solve_dc(net, so);
-          } catch (const Error& e) {
-            return fmt::format("bias: the exact solver finds no operating point ({})", e.what());
-          }
-          for (auto& l : leads) {
-            const auto* el = net.find(l.part->designator);
-            if (!el) continue;
-            const std::string a = net.net_name(el->c.pins[0]), b = net.net_name(el->c.pins[1]);
-            const double va = op.node_v[el->c.pins[0]], vb = op.node_v[el->c.pins[1]];
-            if (first) {
-              const bool a_plus = l.part->polarised && !l.part->plus_net.empty() ? a == l.part->plus_net : va >= vb;
-              l.plus = a_plus ? a : b;
-              l.minus = a_plus ? b : a;
-              l.part->plus_node = l.plus;
-              l.part->minus_node = l.minus;
-              if (l.part->polarised && !l.part->plus_net.empty()) l.part->minus_net = l.minus;
-            }
-            const double dc = l.plus == a ? va - vb : vb - va;
-            l.part->dc.add(dc);
-            if (l.part->polarised && dc < 0)
-              return fmt::format("polarity: {} ({}) would hold {:.2f} V from its + lead (exact solution at {})",
-                                 l.part->designator, l.part->role, dc, f.tag);
-          }
-          first = false;
+          if (std::string v = read_capacitors(net, temp, leads, f.tag); !v.empty()) return v;
         }
     }
+  // A single stage's netlist names its nets as the stage does.
+  for (auto& l : leads)
+    if (l.part->polarised) l.part->minus_net = l.minus;
   return {};
 }
 
