@@ -73,7 +73,7 @@ std::string describe_net(const stages::Topology& t, std::string_view net) {
   if (net == "0") return "ground";
   if (net == stages::kNetIn) return "input side";
   if (net == stages::kNetOut) return "output side";
-  if (net == stages::kNetSupply) return "supply";
+  if (net == stages::kNetSupply) return "supply rail";
   if (net == "x") {
     // The junction of the split source (emitter) resistor.
     const auto names = t.node_names();

@@ -31,11 +31,13 @@ std::string fixed3(double v) {
 }
 
 std::string rail_words(const synth::Spec& s) {
+  // "+9V", "+7..9.6V", "-9V", "-7..-9.6V": each end signed on a negative rail, as typed.
   const std::string sign = s.negative_rail ? "-" : "+";
   const std::string volts = s.supply_lo_v == s.supply_hi_v
-                                ? format_value(s.supply_lo_v, Unit::volt)
-                                : fmt::format("{}..{}", format_value(s.supply_lo_v), format_value(s.supply_hi_v, Unit::volt));
-  return fmt::format("{}{} rail, ground at the battery's {} terminal", sign, volts, s.negative_rail ? "+" : "-");
+                                ? sign + format_value(s.supply_lo_v, Unit::volt)
+                                : fmt::format("{}{}..{}{}", sign, format_value(s.supply_lo_v), s.negative_rail ? "-" : "",
+                                              format_value(s.supply_hi_v, Unit::volt));
+  return fmt::format("{} rail, ground at the battery's {} terminal", volts, s.negative_rail ? "+" : "-");
 }
 
 std::string spread_words(const synth::Spec& s) {

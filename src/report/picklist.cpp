@@ -241,7 +241,7 @@ std::string net_for_people(std::string_view net, const synth::Candidate& c, std:
   }
   for (const char* terminal : {"gate", "drain", "source", "base", "collector", "emitter"})
     if (net == terminal) return fmt::format("the {} of {}", net, q);
-  if (net == "vdd" || net == "vcc" || net == "supply") return "the supply";
+  if (net == "vdd" || net == "vcc" || net == "supply") return "the supply rail";
   return fmt::format("net {}", net);
 }
 

@@ -88,7 +88,7 @@ std::string describe_net(const Candidate& c, const std::string& net, int next_st
   if (net == "in") return "input (source) side";
   if (net == "out") return "output (load) side";
   if (net == "x") return devices::is_jfet(c.device.kind) ? "RS1-RS2 junction" : "RE1-RE2 junction";
-  if (net == "vdd") return "supply";
+  if (net == "vdd") return "supply rail";
   return net;
 }
 

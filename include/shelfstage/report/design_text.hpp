@@ -11,7 +11,7 @@ namespace shelfstage::report {
 /// Zin ≥ 100kΩ, band 20 Hz..20 kHz, swing 2 Vpp, 1 copy, correlated spread (...)"
 std::string spec_line(const synth::Spec& spec);
 /// The supply as the user wired it: "+9V rail, ground at the battery's - terminal",
-/// "-7..9.6V rail, ground at the battery's + terminal".
+/// "-7..-9.6V rail, ground at the battery's + terminal".
 std::string rail_words(const synth::Spec& spec);
 /// Which spread model made the worst case, for people.
 std::string spread_words(const synth::Spec& spec);
