@@ -31,6 +31,7 @@ struct AnalyzeOptions {
   std::vector<std::string> parts;    ///< ROLE=VALUE
   std::vector<std::string> ratings;  ///< ROLE=RATING (W or V)
   std::optional<std::string> piece, temp, band, hd2_at, spice;
+  std::string max_distortion = "1%";
 };
 
 bool same_name(std::string_view a, std::string_view b) {
@@ -126,6 +127,9 @@ stages::Conditions conditions_from(const AnalyzeOptions& o) {
     c.band_lo_hz = c.band_hi_hz = 0;
   }
   c.hd2_peak_v = o.hd2_at ? positive("--hd2-at", *o.hd2_at, Unit::volt) : 0.0;  // 0: the analysis picks
+  c.max_thd = parse_fraction("--max-distortion", o.max_distortion);
+  if (!(c.max_thd >= 1e-4 && c.max_thd <= 0.3))
+    throw InputError(fmt::format("--max-distortion '{}' is outside 0.01 %..30 %", o.max_distortion));
   return c;
 }
 
@@ -248,8 +252,12 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
   cmd->add_option("--temp", o->temp, "Ambient temperature in °C (default 25)")->type_name("C");
   cmd->add_option("--band", o->band, "Band edges at which the loss is given (default 20..20k; none)")
       ->type_name("LO..HI");
-  cmd->add_option("--hd2-at", o->hd2_at, "Output peak at which HD2 is given (default 1 V, or half the swing)")
+  cmd->add_option("--hd2-at", o->hd2_at,
+                  "Output peak at which HD2, HD3 and THD are given (default 1 V, or half the clipping peak)")
       ->type_name("V");
+  cmd->add_option("--max-distortion", o->max_distortion,
+                  "THD that still counts as undistorted: it sets the rated peak (default 1%)")
+      ->type_name("PERCENT");
   cmd->add_option("--spice", o->spice, "Also write the stage's SPICE netlist (with .op and .ac) to FILE for ngspice")
       ->type_name("FILE");
   std::string footer = "Roles (optional ones in brackets):\n";

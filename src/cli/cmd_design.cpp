@@ -75,6 +75,12 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
   cmd.add_option("--stages", o.stages,
                  "Stages in a row: 1 (single stages only), 2..3 (chains only) or 1..3 (default: chains when no "
                  "single stage holds the gain window at every corner)");
+  cmd.add_option("--max-distortion", o.max_distortion,
+                 "Total harmonic distortion an output may have and count as undistorted (default 1%): the swing "
+                 "must stay within it at every corner");
+  cmd.add_option("--prefer", o.prefer,
+                 "Rank by gain accuracy alone (accuracy, the default) or by the distortion at the requested swing "
+                 "as well (distortion)");
   cmd.add_option("--spread", o.spread,
                  "Which transistor pieces the worst case covers: correlated (default: JFETs between and around the "
                  "datasheet's IDSS-VP diagonal, every limit of each reached) or box (every IDSS with every VP)");
@@ -129,6 +135,11 @@ synth::Spec spec_from_options(const DesignOptions& o) {
   } catch (const units::ParseError& e) {
     throw InputError(name_field(e.what(), "--gain-tol"));
   }
+  s.max_thd = parse_fraction("--max-distortion", o.max_distortion);
+  if (o.prefer == "distortion")
+    s.prefer = synth::Spec::Prefer::distortion;
+  else if (o.prefer != "accuracy")
+    throw InputError(fmt::format("--prefer '{}': give accuracy or distortion", o.prefer));
   if (!devices::parse_spread_model(o.spread, s.spread))
     throw InputError(fmt::format("--spread '{}': give correlated or box", o.spread));
   s.seed = o.seed;

@@ -61,7 +61,10 @@ std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
   t.add_row({fmt::format("V({})", names[0]), range_text(w.v_in, volts)});
   t.add_row({fmt::format("V({})", names[1]), range_text(w.v_common, volts)});
   t.add_row({fmt::format("V({})", names[2]), range_text(w.v_out, volts)});
-  t.add_row({"symmetric swing (peak)", range_text(w.swing_peak, volts)});
+  t.add_row({fmt::format("rated peak (THD {:g} % or less)", 100 * spec.max_thd), range_text(w.swing_peak, volts)});
+  if (!w.thd.empty)
+    t.add_row({fmt::format("THD at {} peak", volts(spec.swing_vpp ? *spec.swing_vpp / 2 : 1.0)),
+               range_text(w.thd, [](double v) { return fmt::format("{:.3g} %", 100 * v); })});
   t.add_row({"input impedance", range_text(w.zin, ohms)});
   t.add_row({"output impedance", range_text(w.zout, ohms)});
   t.add_row({"-3 dB low", range_text(w.f_low, hertz)});

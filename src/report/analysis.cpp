@@ -119,7 +119,10 @@ Json performance_json(const stages::Topology& t, const stages::Performance& p) {
   j["swing_up"] = p.swing_up_v;
   j["swing_down"] = p.swing_down_v;
   j["swing_peak"] = p.swing_peak_v;
+  j["clip_peak"] = p.clip_peak_v;
   j["hd2"] = p.hd2;
+  j["hd3"] = p.hd3;
+  j["thd"] = p.thd;
   j["noise"] = p.noise_v_rthz;
   j["c_in"] = p.c_in_f;
   j["supply_current"] = p.supply_current_a;
@@ -164,9 +167,13 @@ std::vector<FigureRow> figure_rows(const Analysis& a) {
                     f.loss_hi_db, kFloorDb, db_text});
   rows.push_back({"swing_up", "swing up (peak)", e.swing_up_v, f.swing_up_v, kFloorV, volts});
   rows.push_back({"swing_down", "swing down (peak)", e.swing_down_v, f.swing_down_v, kFloorV, volts});
-  rows.push_back({"swing_peak", "symmetric swing (peak)", e.swing_peak_v, f.swing_peak_v, kFloorV, volts});
-  rows.push_back({"hd2", fmt::format("HD2 at {} peak out", format_value(c.hd2_peak_v, Unit::volt)), e.hd2, f.hd2,
-                  kFloorHd2, hd2_text});
+  rows.push_back({"clip_peak", "clipping (symmetric peak)", e.clip_peak_v, f.clip_peak_v, kFloorV, volts});
+  rows.push_back({"swing_peak", fmt::format("rated peak (THD {} or less)", hd2_text(c.max_thd)), e.swing_peak_v,
+                  f.swing_peak_v, kFloorV, volts});
+  const std::string at = format_value(c.hd2_peak_v, Unit::volt);
+  rows.push_back({"hd2", fmt::format("HD2 at {} peak out", at), e.hd2, f.hd2, kFloorHd2, hd2_text});
+  rows.push_back({"hd3", fmt::format("HD3 at {} peak out", at), e.hd3, f.hd3, kFloorHd2, hd2_text});
+  rows.push_back({"thd", fmt::format("THD at {} peak out", at), e.thd, f.thd, kFloorHd2, hd2_text});
   rows.push_back({"noise", fmt::format("input noise at {}", format_value(c.noise_f_hz, Unit::hertz)), e.noise_v_rthz,
                   f.noise_v_rthz, kFloorNoise, noise_text});
   return rows;
@@ -324,7 +331,7 @@ Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread*
     // 1 V peak, unless the stage cannot swing 2 V: then half of what it can.
     const auto core = t.evaluate(stage.values, q, c, stages::Detail::core);
     c.hd2_peak_v = 1.0;
-    if (core.valid && core.swing_peak_v > 0 && core.swing_peak_v < 2.0) c.hd2_peak_v = 0.5 * core.swing_peak_v;
+    if (core.valid && core.clip_peak_v > 0 && core.clip_peak_v < 2.0) c.hd2_peak_v = 0.5 * core.clip_peak_v;
   }
   a.closed_form = t.evaluate(stage.values, q, c, stages::Detail::full);
   try {
@@ -366,8 +373,9 @@ Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread*
         if (!p.info.fitted_plus_net.empty()) p.plus_net = p.info.fitted_plus_net;
       }
       // The largest signal anywhere in the stage is the output's (inputs are smaller by the
-      // gain; a follower's input equals its output): a bound for every capacitor.
-      p.peak_v = std::max(best.swing_peak_v, 0.0);
+      // gain; a follower's input equals its output), overdriven to clipping: a bound for
+      // every capacitor.
+      p.peak_v = std::max(best.clip_peak_v, 0.0);
     }
     detail::judge_part(t, p, a.warnings);
     a.parts.push_back(p);
@@ -585,7 +593,7 @@ std::string corners_text(const Analysis& a) {
   } else {
     cols.push_back({"hFE", Align::right});
   }
-  for (const char* title : {"bias", "", "", "gain", "swing pk", "state"}) cols.push_back({title, Align::right});
+  for (const char* title : {"bias", "", "", "gain", "rated pk", "state"}) cols.push_back({title, Align::right});
   cols[cols.size() - 5].title = fmt::format("V({})", names[1]);
   cols[cols.size() - 4].title = fmt::format("V({})", names[2]);
   cols.back().align = Align::left;

@@ -109,8 +109,9 @@ std::string stages_section(const ReportInput& in) {
       {"output impedance", ohms(c.nominal.zout_ohm), range_text(c.worst.zout, ohms)},
       {"\u22123 dB low", hertz(c.nominal.f_low_hz), "\u2014"},
       {"\u22123 dB high", hertz(c.nominal.f_high_hz), "\u2014"},
-      {"symmetric swing (peak)", volts(c.nominal.swing_peak_v), range_text(c.worst.swing_peak, volts)},
-      {"second harmonic", fmt::format("{:.2g} %", c.nominal.hd2 * 100), "\u2014"},
+      {"rated peak (within the THD bound)", volts(c.nominal.swing_peak_v), range_text(c.worst.swing_peak, volts)},
+      {"THD at the requested level", fmt::format("{:.2g} %", c.nominal.thd * 100),
+       range_text(c.worst.thd, [](double v) { return fmt::format("{:.2g} %", v * 100); })},
       {"input noise", format_value(c.nominal.noise_v_rthz, Unit::volt) + "/\u221aHz", "\u2014"},
       {"supply current", amps(c.nominal.supply_current_a), range_text(c.worst.supply_current, amps)},
   };

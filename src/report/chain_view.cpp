@@ -62,7 +62,9 @@ std::string chain_figures_text(const synth::Candidate& c, const synth::Spec& spe
   w.add_row({"output impedance", ohms(x.zout_ohm), ohms(fast.zout_ohm)});
   w.add_row({"-3 dB low", hz(x.f_low_hz), hz(fast.f_low_hz)});
   w.add_row({"-3 dB high", hz(x.f_high_hz), hz(fast.f_high_hz)});
-  w.add_row({"symmetric swing (peak)", format_value(x.swing_peak_v, Unit::volt), format_value(fast.swing_peak_v, Unit::volt)});
+  w.add_row({"rated peak (within the THD bound)", format_value(x.swing_peak_v, Unit::volt),
+             format_value(fast.swing_peak_v, Unit::volt)});
+  w.add_row({"THD at the requested level", fmt::format("{:.3g} %", 100 * x.thd), fmt::format("{:.3g} %", 100 * fast.thd)});
   w.add_row({"supply current", format_value(x.supply_current_a, Unit::ampere), format_value(fast.supply_current_a, Unit::ampere)});
   if (spec.band_hz) {
     w.add_row({fmt::format("loss at {}", format_value(spec.band_hz->first, Unit::hertz)),

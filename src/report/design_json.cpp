@@ -65,6 +65,8 @@ Json spec_json(const synth::Spec& s) {
   j["source_z"] = s.source_ohm;
   j["band"] = pair_or_null(s.band_hz);
   j["swing"] = s.swing_vpp ? Json(*s.swing_vpp) : Json(nullptr);
+  j["max_distortion"] = s.max_thd;
+  j["prefer"] = s.prefer == synth::Spec::Prefer::distortion ? "distortion" : "accuracy";
   j["max_current"] = s.max_current_a ? Json(*s.max_current_a) : Json(nullptr);
   j["copies"] = s.copies;
   j["temp"] = pair_or_null(s.temp_c);
@@ -103,6 +105,8 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
     s.source_ohm = j.at("source_z").get<double>();
     if (j.contains("band") && j["band"].is_array()) s.band_hz = std::make_pair(j["band"][0].get<double>(), j["band"][1].get<double>());
     if (j.contains("swing") && j["swing"].is_number()) s.swing_vpp = j["swing"].get<double>();
+    s.max_thd = j.value("max_distortion", 0.01);
+    if (j.value("prefer", std::string("accuracy")) == "distortion") s.prefer = synth::Spec::Prefer::distortion;
     if (j.contains("max_current") && j["max_current"].is_number()) s.max_current_a = j["max_current"].get<double>();
     s.copies = j.at("copies").get<int>();
     if (j.contains("temp") && j["temp"].is_array()) s.temp_c = std::make_pair(j["temp"][0].get<double>(), j["temp"][1].get<double>());
@@ -190,14 +194,23 @@ Json candidate_json(const synth::Candidate& c) {
                   {"supply_current", n.supply_current_a},
                   {"swing_up", n.swing_up_v},
                   {"swing_down", n.swing_down_v},
+                  {"swing_vpp", 2 * n.swing_peak_v},
+                  {"clip_peak", n.clip_peak_v},
                   {"loss_low_db", n.loss_lo_db},
                   {"loss_high_db", n.loss_hi_db},
                   {"hd2", n.hd2},
+                  {"hd3", n.hd3},
+                  {"thd", n.thd},
                   {"noise", n.noise_v_rthz}};
   const auto& w = c.worst;
+  synth::Range vpp = w.swing_peak;
+  vpp.min *= 2;
+  vpp.max *= 2;
   j["worst"] = {{"gain", range(w.gain)},
                 {"bias_current", range(w.bias_current)},
                 {"swing_peak", range(w.swing_peak)},
+                {"swing_vpp", range(vpp)},
+                {"thd", range(w.thd)},
                 {"nodes", {{keys[0], range(w.v_in)}, {keys[1], range(w.v_common)}, {keys[2], range(w.v_out)}}},
                 {"zin", range(w.zin)},
                 {"zout", range(w.zout)},

@@ -56,6 +56,8 @@ std::string spec_line(const synth::Spec& s) {
   if (s.band_hz)
     out += fmt::format(", band {}..{}", format_value(s.band_hz->first, Unit::hertz), format_value(s.band_hz->second, Unit::hertz));
   if (s.swing_vpp) out += fmt::format(", swing {} Vpp", format_value(*s.swing_vpp));
+  out += fmt::format(", THD ≤ {:g} %", 100 * s.max_thd);
+  if (s.prefer == synth::Spec::Prefer::distortion) out += ", preferring low distortion";
   if (s.max_current_a) out += fmt::format(", ≤ {}", format_value(*s.max_current_a, Unit::ampere));
   if (s.temp_c) out += fmt::format(", {:g}..{:g} °C", s.temp_c->first, s.temp_c->second);
   out += fmt::format(", {} cop{}", s.copies, s.copies == 1 ? "y" : "ies");
@@ -94,7 +96,8 @@ std::string candidates_table(const synth::DesignResult& r) {
                {"gain", Align::right},
                {"worst", Align::right},
                {"bias", Align::right},
-               {"swing", Align::right},
+               {"swing Vpp", Align::right},
+               {"THD", Align::right},
                {"band (-3 dB)", Align::right},
                {"yield", Align::right},
                {"pcs", Align::right}});
@@ -104,7 +107,8 @@ std::string candidates_table(const synth::DesignResult& r) {
     const auto& w = c.worst;
     t.add_row({std::to_string(c.rank), c.id, c.topology_name(), device_text(c), fixed3(n.gain),
                fmt::format("{}..{}", fixed3(w.gain.min), fixed3(w.gain.max)), format_value(n.bias_current_a, Unit::ampere),
-               fmt::format("{} ({})", format_value(n.swing_peak_v, Unit::volt), format_value(w.swing_peak.min)),
+               fmt::format("{} ({})", format_value(2 * n.swing_peak_v), format_value(2 * w.swing_peak.min)),
+               w.thd.empty ? "" : fmt::format("{:.2g}%", 100 * w.thd.max),
                fmt::format("{}..{}", format_value(n.f_low_hz, Unit::hertz), upper_corner(n.f_high_hz)),
                c.yield ? fmt::format("{:.0f}%", *c.yield * 100) : "", std::to_string(c.pieces)});
   }

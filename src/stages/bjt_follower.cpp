@@ -130,11 +130,10 @@ class BjtFollower final : public Topology {
         p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz, lr.mid())));
     }
 
+    // Third-order expansion of the exponential law with the Early effect (the collector at
+    // AC ground, so VCE moves against the output) on the mid-band network.
+    detail::finish_distortion(p, detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)), c);
     if (d != Detail::core) {
-      // Second-order expansion of the exponential law with the Early effect (the collector
-      // at AC ground, so VCE moves against the output) on the mid-band network.
-      if (d == Detail::full)
-        p.hd2 = detail::second_harmonic(m, detail::bjt_second_order(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm), c.hd2_peak_v);
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double q2 = 2.0 * devices::kCharge;
       const double gx = gm + 1.0 / rpi;

@@ -101,15 +101,20 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
   r.conditions.assign(n, c);
   // From the load back: each stage's load is the next stage's input impedance.
   // The next stage's input capacitance (its Miller capacitance) loads each stage too.
-  double load = c.load_ohm, load_farads = c.load_farads;
+  // Each stage's distortion is given at the level it carries: the output's over the gain after it.
+  double load = c.load_ohm, load_farads = c.load_farads, gain_after = 1.0;
+  std::vector<double> level_gain(n, 1.0);  // |gain| after each stage
   for (std::size_t k = n; k-- > 0;) {
     Conditions& ck = r.conditions[k];
     ck.load_ohm = load;
     ck.load_farads = load_farads;
     ck.source_ohm = k == 0 ? c.source_ohm : 0.0;
+    level_gain[k] = std::max(std::abs(gain_after), 1e-9);
+    ck.hd2_peak_v = c.hd2_peak_v / level_gain[k];
     r.each[k] = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, detail);
     load = r.each[k].zin_ohm > 0 ? r.each[k].zin_ohm : 1e12;
     load_farads = std::max(0.0, r.each[k].c_in_f);
+    gain_after *= r.each[k].gain;
   }
   // A follower's output impedance depends on what drives it: each stage's Zout with the
   // previous stage's output impedance as its source (the gains stay those from the node).
@@ -151,7 +156,36 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
     w.swing_down_v = std::min(w.swing_down_v, g * (swap ? p.swing_up_v : p.swing_down_v));
     after *= p.gain;
   }
-  w.swing_peak_v = std::min(w.swing_up_v, w.swing_down_v);
+  w.clip_peak_v = std::min(w.swing_up_v, w.swing_down_v);
+  // Distortion: each stage's harmonics at the level it carries, added as if in phase (a bound:
+  // they can be); the undistorted peak is where that sum reaches the bound.
+  auto thd_at = [&](double v_out) {
+    double sum = 0;
+    for (std::size_t k = 0; k < n; ++k) {
+      const Performance& p = r.each[k];
+      const double level = r.conditions[k].hd2_peak_v, v = v_out / level_gain[k];
+      if (!p.transfer.empty()) {
+        sum += p.transfer.thd(v);
+      } else if (level > 0) {  // HD2 in proportion to the level, HD3 to its square
+        sum += std::hypot(p.hd2 / level * v, p.hd3 / (level * level) * v * v);
+      }
+    }
+    return sum;
+  };
+  for (const auto& p : r.each) {
+    w.hd2 += p.hd2;
+    w.hd3 += p.hd3;
+  }
+  w.thd = thd_at(c.hd2_peak_v);
+  w.swing_peak_v = w.clip_peak_v;
+  if (c.max_thd > 0 && thd_at(w.clip_peak_v) > c.max_thd) {
+    double lo = 0, hi = w.clip_peak_v;
+    for (int i = 0; i < 50; ++i) {
+      const double mid = 0.5 * (lo + hi);
+      (thd_at(mid) > c.max_thd ? hi : lo) = mid;
+    }
+    w.swing_peak_v = lo;
+  }
   w.bias_current_a = first.bias_current_a;
   w.v_in = first.v_in;
   w.v_common = first.v_common;
@@ -200,7 +234,6 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
       w.f_high_hz = std::sqrt(lo * hi);
     }
   }
-  w.hd2 = last.hd2;
   w.noise_v_rthz = first.noise_v_rthz;
   return r;
 }

@@ -1,34 +1,44 @@
-// Second-harmonic distortion of a one-transistor stage at mid-band, by a second-order
-// (Volterra) expansion of the device law on the stage's small-signal network. Private to the
-// stages layer.
+// Harmonic distortion of a one-transistor stage at mid-band: the static transfer's power
+// series from the device law on the stage's small-signal network, and the output level a
+// distortion bound allows. Private to the stages layer.
 #pragma once
 #include "common.hpp"
 
 namespace shelfstage::stages::detail {
 
-/// Second-order terms of a device's currents around its bias, in the N frame, with u the
-/// control voltage (vgs or vbe) and w the main voltage (vds or vce), both deviations:
-/// main current += k_uu*u^2 + k_uw*u*w, control current += k_b*u^2.
-struct SecondOrder {
-  double k_uu = 0;  ///< A/V^2
-  double k_uw = 0;  ///< A/V^2
-  double k_b = 0;   ///< A/V^2
+/// The device's currents around its bias as power series, in the N frame, with u the control
+/// voltage (vgs or vbe) and w the main voltage (vds or vce), both deviations:
+/// main current += sum over a of main_u[a] u^a + main_uw[a] u^a w,
+/// control current += sum over a of control_u[a] u^a.
+/// The linear terms (gm, go, 1/r_pi) belong to the network (HybridPi) and are left at zero
+/// here: main_u[0..1], main_uw[0], control_u[0..1].
+struct DeviceOrders {
+  static constexpr int kOrder = Transfer::kOrder;
+  std::array<double, kOrder + 1> main_u{}, main_uw{}, control_u{};
 };
 
-/// Square law with channel-length modulation, ID = BETA*(Vov + u)^2*(1 + lambda*(VDS + w)):
-/// k_uu = BETA*(1 + lambda*VDS), k_uw = 2*BETA*Vov*lambda.
-SecondOrder jfet_second_order(const devices::JfetInstance& q, double vov_v, double vds_v);
+/// Square law with channel-length modulation, ID = BETA (Vov + u)^2 (1 + lambda (VDS + w)):
+/// u^2: BETA (1 + lambda VDS); u w: 2 BETA Vov lambda; u^2 w: BETA lambda; nothing else.
+DeviceOrders jfet_orders(const devices::JfetInstance& q, double vov_v, double vds_v);
 
-/// Gummel-Poon forward active, IC = Ibe*(1 - VBC/VAF), IB = Ibe/BF, Ibe = IS*exp(VBE/VT):
-/// k_uu = IC/(2 VT^2) - go/VT, k_uw = go/VT (go = Ibe/VAF = 1/ro), k_b = IB/(2 VT^2).
-SecondOrder bjt_second_order(double ic_a, double ib_a, double vt_v, double ro_ohm);
+/// Gummel-Poon forward active, IC = Ibe (1 + (VCE - VBE)/VAF), IB = Ibe/BF, Ibe = IS exp(VBE/VT).
+/// With go = Ibe/VAF = 1/ro: IC = IC0 e^(u/VT) + go e^(u/VT) (w - u), so
+/// u^a: IC/(a! VT^a) - go/((a-1)! VT^(a-1)); u^a w: go/(a! VT^a); base u^a: IB/(a! VT^a).
+DeviceOrders bjt_orders(double ic_a, double ib_a, double vt_v, double ro_ohm);
 
-/// The second-harmonic ratio at an output peak out_peak_v of the mid-band network m (its
-/// capacitances ignored): the linear solution for a unit source gives u1, w1 and the output
-/// o1; the second-order currents k_uu*u1^2 + k_uw*u1*w1 (drain to source) and k_b*u1^2
-/// (gate or base to source), driven into the same network, give o2; a cosine of amplitude A
-/// at the source makes a second harmonic of A^2/2*o2, so HD2 = |o2|*out_peak_v/(2*o1^2).
-/// Exact to second order in the signal: it holds at levels well below clipping.
-double second_harmonic(const HybridPi& m, const SecondOrder& k, double out_peak_v);
+/// The static transfer of the mid-band network m (its capacitances ignored) from a unit
+/// source to the output, to Transfer::kOrder: the first-order solution, then at each order n
+/// the device's currents of order n (which involve only the orders below) driven into the
+/// same network. This is the Taylor series of the implicit transfer, exact to the order kept.
+Transfer transfer(const HybridPi& m, const DeviceOrders& k);
+
+/// Total harmonic distortion for the input peak a (Transfer::thd, at an input).
+double thd_at_input(const Transfer& t, double a);
+
+/// Sets the distortion figures of p from its transfer: hd2, hd3, thd at Conditions::hd2_peak_v,
+/// clip_peak_v (the symmetric peak before clipping, from swing_peak_v as the evaluator left it)
+/// and swing_peak_v: the smaller of clip_peak_v and the level at which THD reaches
+/// Conditions::max_thd.
+void finish_distortion(Performance& p, const Transfer& t, const Conditions& c);
 
 }  // namespace shelfstage::stages::detail

@@ -2,6 +2,7 @@
 #include "shelfstage/stages/exact.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <complex>
 #include <numbers>
@@ -9,6 +10,7 @@
 #include <fmt/format.h>
 #include <span>
 
+#include "distortion.hpp"
 #include "shelfstage/error.hpp"
 
 namespace shelfstage::stages {
@@ -206,26 +208,62 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
     p.swing_up_v = k > 0 ? out_up_actual : out_down_actual;
     p.swing_down_v = k > 0 ? out_down_actual : out_up_actual;
     p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+    p.clip_peak_v = p.swing_peak_v;
 
     if (detail == Detail::full && p.swing_peak_v > 0) {
-      // HD2 from the quasi-static transfer: a cosine at the input, Fourier coefficients of
-      // the output, the amplitude set so the fundamental equals hd2_peak_v.
-      const double out_mid = out0;
-      double amp = c.hd2_peak_v / std::abs(p.gain);
-      constexpr int kN = 64;
-      for (int pass = 0; pass < 2; ++pass) {
-        double a1 = 0, a2 = 0, b2 = 0;
-        for (int i = 0; i < kN; ++i) {
-          const double th = 2 * std::numbers::pi * i / kN;
-          const double y = sweep_at(h, qs, amp * std::cos(th), ic0, so).out_v - out_mid;
-          a1 += 2.0 / kN * y * std::cos(th);
-          a2 += 2.0 / kN * y * std::cos(2 * th);
-          b2 += 2.0 / kN * y * std::sin(2 * th);
+      // Distortion from the quasi-static transfer: a cosine at the input, Fourier
+      // coefficients of the output over n points, harmonics 1 to 9.
+      auto harmonics = [&](double amp, int n) {
+        std::array<double, 10> ak{}, bk{}, mag{};
+        for (int i = 0; i < n; ++i) {
+          const double th = 2 * std::numbers::pi * i / n;
+          const double y = sweep_at(h, qs, amp * std::cos(th), ic0, so).out_v - out0;
+          for (int m = 1; m < 10; ++m) {
+            ak[m] += 2.0 / n * y * std::cos(m * th);
+            bk[m] += 2.0 / n * y * std::sin(m * th);
+          }
         }
-        if (pass == 0) {
-          amp *= c.hd2_peak_v / std::abs(a1);
-        } else {
-          p.hd2 = std::hypot(a2, b2) / std::abs(a1);
+        for (int m = 1; m < 10; ++m) mag[m] = std::hypot(ak[m], bk[m]);
+        return mag;
+      };
+      auto thd_of = [](const std::array<double, 10>& mag) {
+        double sum = 0;
+        for (int m = 2; m < 10; ++m) sum += mag[m] * mag[m];
+        return std::sqrt(sum) / mag[1];
+      };
+      // At the requested level: the amplitude set so the fundamental equals hd2_peak_v.
+      double amp = c.hd2_peak_v / std::abs(p.gain);
+      std::array<double, 10> mag = harmonics(amp, 64);
+      amp *= c.hd2_peak_v / mag[1];
+      mag = harmonics(amp, 64);
+      p.hd2 = mag[2] / mag[1];
+      p.hd3 = mag[3] / mag[1];
+      p.thd = thd_of(mag);
+      // The rated level: where THD reaches the bound, below clipping (bisection on the input
+      // in ratio, from the level HD2 and HD3 alone would give, 32 points a sweep).
+      if (c.max_thd > 0) {
+        const double amp_clip = p.clip_peak_v / std::abs(p.gain);
+        const auto at_clip = harmonics(amp_clip, 32);
+        if (thd_of(at_clip) > c.max_thd) {
+          Transfer guess;
+          const double level = mag[1];
+          guess.o[1] = 1.0;  // a series with these HD2 and HD3 per level, for the first guess
+          guess.o[2] = 2.0 * p.hd2 / level;
+          guess.o[3] = 4.0 * p.hd3 / (level * level);
+          double hi = std::min(amp_clip, guess.level_for(c.max_thd, p.clip_peak_v) / std::abs(p.gain));
+          double lo = hi;
+          auto over = [&](double a) { return thd_of(harmonics(a, 32)) > c.max_thd; };
+          while (!over(hi) && hi < amp_clip) hi = std::min(amp_clip, 2 * hi);
+          lo = 0.5 * hi;
+          for (int i = 0; i < 60 && over(lo); ++i) {
+            hi = lo;
+            lo *= 0.5;
+          }
+          for (int i = 0; i < 12; ++i) {
+            const double mid = std::sqrt(lo * hi);
+            (over(mid) ? hi : lo) = mid;
+          }
+          p.swing_peak_v = std::min(p.clip_peak_v, harmonics(lo, 32)[1]);
         }
       }
     }

@@ -74,16 +74,15 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
   m.g_c = 1.0 / rl_ac;
   finish_response(p, std::span<const LfSection>(lf, n), m, c, detail);
 
+  // Third-order expansion of ID = BETA*(Vov + vgs)^2*(1 + lambda*VDS) on the mid-band
+  // network (distortion.hpp). To second order, in closed form, with vgs = v - Rdeg*i and
+  // vds = -(RL' + Rdeg)*i: i = g1*v + g2*v^2, g1 = gm/D, D = 1 + gm*Rdeg + gds*(RL' + Rdeg),
+  // h = 1 - Rdeg*g1, g2 = (BETA*(1 + lambda*VDS)*h^2 - 2*BETA*Vov*lambda*(RL' + Rdeg)*g1*h)/D,
+  // and HD2 = |g2|*Vo/(2*g1^2*RL'). Without lambda this is Vo/(8*ID*RL'*(1 + gm*Rdeg)); the
+  // lambda cross term (the drain swing modulating the channel) lowers it by roughly
+  // 4*lambda*ID*RL', tens of percent for common parts.
+  finish_distortion(p, transfer(m, jfet_orders(q, b.vgst_v, b.vds_v)), c);
   if (detail != Detail::core) {
-    // Second-order expansion of ID = BETA*(Vov + vgs)^2*(1 + lambda*VDS) on the mid-band
-    // network. In closed form, with vgs = v - Rdeg*i and vds = -(RL' + Rdeg)*i: i = g1*v + g2*v^2,
-    // g1 = gm/D, D = 1 + gm*Rdeg + gds*(RL' + Rdeg), h = 1 - Rdeg*g1,
-    // g2 = (BETA*(1 + lambda*VDS)*h^2 - 2*BETA*Vov*lambda*(RL' + Rdeg)*g1*h)/D, and
-    // HD2 = |g2|*Vo/(2*g1^2*RL'). Without lambda this is Vo/(8*ID*RL'*(1 + gm*Rdeg)); the
-    // lambda cross term (the drain swing modulating the channel) lowers it by roughly
-    // 4*lambda*ID*RL', tens of percent for common parts.
-    if (detail == Detail::full)
-      p.hd2 = second_harmonic(m, jfet_second_order(q, b.vgst_v, b.vds_v), c.hd2_peak_v);
     const double kt4 = thermal_v2(1.0, c.celsius);  // 4kT
     const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
     double v2 = kt4 * par(rsig, s.r_gate_ohm);              // source and gate resistors

@@ -86,11 +86,10 @@ class JfetFollower final : public Topology {
     m.out_at_emitter = true;
     detail::finish_response(p, lf, m, c, d);
 
+    // Third-order expansion of the square law with lambda on the mid-band network (HD2
+    // without lambda: Vo/(8*ID*RS'*(1 + gm*RS'))).
+    detail::finish_distortion(p, detail::transfer(m, detail::jfet_orders(j, b.vgst_v, b.vds_v)), c);
     if (d != Detail::core) {
-      // Second-order expansion of the square law with lambda on the mid-band network (without
-      // lambda: Vo/(8*ID*RS'*(1 + gm*RS'))).
-      if (d == Detail::full)
-        p.hd2 = detail::second_harmonic(m, detail::jfet_second_order(j, b.vgst_v, b.vds_v), c.hd2_peak_v);
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
       double v2 = kt4 * par(rsig, v[RG]);

@@ -515,7 +515,7 @@ class ChainSearch {
     if (it == a.parts.end() || !it->polarised) return true;
     const double dc = link_dc(a, b);
     if (std::abs(dc) >= 1.0) return true;
-    const double volts = std::max(std::abs(a.nominal.v_out), std::abs(b.nominal.v_in)) + a.nominal.swing_peak_v;
+    const double volts = std::max(std::abs(a.nominal.v_out), std::abs(b.nominal.v_in)) + a.nominal.clip_peak_v;
     return shelf_.capacitor_at_least(it->combo.lo, volts, false) != nullptr;
   }
 
@@ -531,7 +531,7 @@ class ChainSearch {
       const std::size_t i = s.topology->role_index("COUT");
       if (std::abs(link_dc(s, ch.stages[k + 1])) >= 1.5) continue;  // well clear: the corner pass decides
       const double volts =
-          std::max(std::abs(s.nominal.v_out), std::abs(ch.stages[k + 1].nominal.v_in)) + s.nominal.swing_peak_v;
+          std::max(std::abs(s.nominal.v_out), std::abs(ch.stages[k + 1].nominal.v_in)) + s.nominal.clip_peak_v;
       const Combo* cb = shelf_.capacitor_at_least(it->combo.lo, volts, false);
       if (!cb) continue;
       s.pieces += static_cast<int>(cb->count) - static_cast<int>(it->combo.count);

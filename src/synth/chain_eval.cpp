@@ -36,7 +36,7 @@ void rescore(Candidate& ch, const Spec& spec) {
   ch.error_nominal = std::abs(ch.nominal.gain) / g - 1.0;
   ch.error_worst = std::max({std::abs(std::abs(ch.worst.gain.min) / g - 1.0),
                              std::abs(std::abs(ch.worst.gain.max) / g - 1.0), std::abs(ch.error_nominal)});
-  ch.score = score_of(ch) + kStagePoints * static_cast<double>(ch.stages.size() - 1);
+  ch.score = score_of(ch, spec) + kStagePoints * static_cast<double>(ch.stages.size() - 1);
 }
 
 }  // namespace
@@ -57,7 +57,9 @@ RolePart* part_of(Candidate& s, std::string_view role) {
 //     product of the stages' ranges; the shared supply and temperature are treated as if
 //     they were not (conservative).
 //  2. Output swing: the smallest over the stages of each stage's peak times the gain after it,
-//     at the lower ends and at the upper ends; never beyond the last stage's own.
+//     at the lower ends and at the upper ends; never beyond the last stage's own. Distortion:
+//     each stage's at the level it carries (the requested output over the gain after it),
+//     summed as if in phase; with a requested swing, the sum must stay within the bound.
 //  3. Supply current: the sum of the stages'. Zin, node voltages and bias current: the first
 //     stage's. Zout: the last stage's, fed from the previous stage's output impedance at both
 //     ends of its range (Depth::full).
@@ -140,12 +142,18 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, De
     swing_hi.add(s.worst.swing_peak.max * after_max);
     w.supply_current.min += s.worst.supply_current.min;
     w.supply_current.max += s.worst.supply_current.max;
+    // Distortion at the level each stage carries, added as if in phase (a bound).
+    w.thd.min += s.worst.thd.min;
+    w.thd.max += s.worst.thd.max;
     after_min *= lo;
     after_max *= hi;
   }
   w.supply_current.empty = false;
+  w.thd.empty = false;
   w.swing_peak.max = std::max(w.swing_peak.min, swing_hi.min);
   if (spec.max_current_a && w.supply_current.max > *spec.max_current_a) return "current";
+  if (spec.swing_vpp && w.thd.max > spec.max_thd)
+    return fmt::format("distortion: the whole chain reaches {:.2g} % at {:.3g} Vpp", 100 * w.thd.max, *spec.swing_vpp);
   // NOTES 4: the capacitor between stages, at every corner of both.
   for (std::size_t k = 0; k + 1 < n; ++k) {
     Candidate& s = ch.stages[k];
@@ -174,7 +182,7 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, De
     link->dc = {};
     link->dc.add(inner_plus ? lo : -hi);
     link->dc.add(inner_plus ? hi : -lo);
-    const double peak = spec.swing_vpp ? *spec.swing_vpp / 2 : s.nominal.swing_peak_v;
+    const double peak = signal_peak(spec, s.nominal);
     if (link->rating > 0 && link->rating < 1.25 * (std::max(std::abs(lo), std::abs(hi)) + peak))
       return fmt::format("rating: {} (COUT of stage {}) holds up to {:.3g} V DC", link->designator, k + 1,
                          std::max(std::abs(lo), std::abs(hi)));
@@ -404,6 +412,7 @@ std::string finish_chain(Candidate& ch, const Spec& spec) {
   w.v_out.add(p.v_out);
   w.loss_lo_db.add(p.loss_lo_db);
   w.loss_hi_db.add(p.loss_hi_db);
+  w.thd.add(p.thd);
   if (std::string v = verify_chain_polarity(ch, spec); !v.empty()) return v;
   ch.parts.clear();
   for (const auto& s : ch.stages)

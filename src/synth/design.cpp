@@ -215,7 +215,7 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     ++stats.failures["bias"];
     return false;
   }
-  const double peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 : pre.swing_peak_v;
+  const double peak = detail::signal_peak(spec_, pre);
   for (std::size_t i = 0; i < roles.size(); ++i) {
     if (roles[i].kind != 'C' || !(targets[i] > 0)) continue;
     double dc = 0;
@@ -324,7 +324,7 @@ bool StageBuilder::assess(Candidate& c, SearchStats& stats) const {
   }
   c.nominal = topology_.evaluate(c.values, q_, cond_, stages::Detail::full);
   ++stats.evaluations;
-  c.score = detail::score_of(c);
+  c.score = detail::score_of(c, spec_);
   detail::add_cautions(c, spec_);
   return true;
 }

@@ -11,12 +11,16 @@ namespace shelfstage::synth::detail {
 inline constexpr double kPiecePoints = 1.0;
 /// README "How candidates are ranked": percent points of gain error, half the nominal plus
 /// the whole worst case, and kPiecePoints per piece. Lower is better.
-double score_of(const Candidate& c);
+double score_of(const Candidate& c, const Spec& spec);
 
 stages::Conditions conditions(const Spec& spec, double supply, double celsius);
-/// The first hard constraint a performance breaks ("bias", "swing", "current", "zin",
-/// "band"), or empty.
+/// The first hard constraint a performance breaks ("bias", "swing" (clipping), "distortion"
+/// (within clipping but beyond the distortion bound), "current", "zin", "band"), or empty.
 std::string violation(const Spec& spec, const stages::Performance& p);
+
+/// The largest signal peak a stage's capacitors see on top of their DC: the stage driven to
+/// clipping (it can be overdriven), or the requested swing when that is larger.
+double signal_peak(const Spec& spec, const stages::Performance& p);
 /// The nominal gain is within the spec's gain window.
 bool gain_ok(const Spec& spec, double gain);
 /// Power and voltage ratings and electrolytic polarity against one operating point.

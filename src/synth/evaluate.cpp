@@ -22,8 +22,11 @@ void Range::add(double v) {
 
 namespace detail {
 
-double score_of(const Candidate& c) {
-  return 100.0 * (0.5 * std::abs(c.error_nominal) + c.error_worst) + kPiecePoints * c.pieces;
+double score_of(const Candidate& c, const Spec& spec) {
+  double s = 100.0 * (0.5 * std::abs(c.error_nominal) + c.error_worst) + kPiecePoints * c.pieces;
+  // --prefer distortion: ten points per percent of the worst-case THD at the requested level.
+  if (spec.prefer == Spec::Prefer::distortion && !c.worst.thd.empty) s += 1000.0 * c.worst.thd.max;
+  return s;
 }
 
 
@@ -40,12 +43,14 @@ stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
     c.band_hi_hz = spec.band_hz->second;
   }
   c.hd2_peak_v = spec.swing_vpp ? *spec.swing_vpp / 2 : 1.0;
+  c.max_thd = spec.max_thd;
   return c;
 }
 
 std::string violation(const Spec& spec, const stages::Performance& p) {
   if (!p.valid || !p.active) return "bias";
-  if (spec.swing_vpp && p.swing_peak_v < *spec.swing_vpp / 2) return "swing";
+  if (spec.swing_vpp && p.swing_peak_v < *spec.swing_vpp / 2)
+    return p.clip_peak_v >= *spec.swing_vpp / 2 ? "distortion" : "swing";
   if (spec.max_current_a && p.supply_current_a > *spec.max_current_a) return "current";
   if (p.zin_ohm < spec.zin_min_ohm) return "zin";
   if (spec.band_hz && (p.loss_lo_db > 1.0 || p.loss_hi_db > 1.0)) return "band";
@@ -54,8 +59,12 @@ std::string violation(const Spec& spec, const stages::Performance& p) {
 
 bool gain_ok(const Spec& spec, double gain) { return std::abs(std::abs(gain) / spec.gain - 1.0) <= spec.gain_tol; }
 
+double signal_peak(const Spec& spec, const stages::Performance& p) {
+  return std::max(spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0, p.clip_peak_v);
+}
+
 std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p) {
-  const double peak = spec.swing_vpp ? *spec.swing_vpp / 2 : p.swing_peak_v;
+  const double peak = signal_peak(spec, p);
   for (const auto& s : p.stress) {
     const auto& role = c.topology->roles()[s.role];
     const RolePart* part = nullptr;
@@ -203,7 +212,7 @@ std::string detail::finish_stage(Candidate& c, const Spec& spec) {
   c.error_nominal = std::abs(c.nominal.gain) / spec.gain - 1.0;
   if (std::string v = detail::evaluate_worst(c, spec, n, Depth::full); !v.empty()) return v;
   if (std::string v = detail::verify_polarity(c, spec); !v.empty()) return v;
-  c.score = detail::score_of(c);
+  c.score = detail::score_of(c, spec);
   detail::add_cautions(c, spec);
   return {};
 }

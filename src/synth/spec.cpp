@@ -40,6 +40,8 @@ void validate(const Spec& s) {
   if (s.swing_vpp) require(finite(*s.swing_vpp) && *s.swing_vpp > 0, "swing", *s.swing_vpp, "must be a positive Vpp");
   if (s.swing_vpp)
     require(*s.swing_vpp < 2 * s.supply_lo_v, "swing", *s.swing_vpp, "cannot exceed twice the supply (Vpp)");
+  require(finite(s.max_thd) && s.max_thd >= 0.0001 && s.max_thd <= 0.3, "max-distortion", s.max_thd,
+          "must be a fraction from 0.01 % to 30 % (e.g. 1%)");
   if (s.max_current_a)
     require(finite(*s.max_current_a) && *s.max_current_a > 0, "max-current", *s.max_current_a, "must be a positive current");
   if (s.temp_c) {

@@ -15,7 +15,7 @@ namespace shelfstage::synth::detail {
 namespace {
 
 // The figures a worst case ranges over.
-enum Figure : int { kGain, kBias, kSwing, kSupply, kZin, kZout, kVin, kVcommon, kVout, kLossLo, kLossHi, kFigures };
+enum Figure : int { kGain, kBias, kSwing, kSupply, kZin, kZout, kVin, kVcommon, kVout, kLossLo, kLossHi, kThd, kFigures };
 
 double figure(const stages::Performance& p, int f) {
   switch (f) {
@@ -30,6 +30,7 @@ double figure(const stages::Performance& p, int f) {
     case kVout: return p.v_out;
     case kLossLo: return p.loss_lo_db;
     case kLossHi: return p.loss_hi_db;
+    case kThd: return p.thd;
     default: return 0;
   }
 }
@@ -40,8 +41,8 @@ struct Push {
   int sense;
 };
 // The search's pushes: what decides whether a stage holds and how it scores.
-constexpr Push kSearchPushes[] = {{kGain, +1}, {kGain, -1}, {kBias, +1},   {kBias, -1},
-                                  {kSwing, -1}, {kSupply, +1}, {kZin, -1}, {kLossLo, +1}, {kLossHi, +1}};
+constexpr Push kSearchPushes[] = {{kGain, +1},   {kGain, -1}, {kBias, +1},   {kBias, -1},   {kSwing, -1},
+                                  {kSupply, +1}, {kZin, -1},  {kLossLo, +1}, {kLossHi, +1}, {kThd, +1}};
 
 // For each figure, the sign of its change with each part across that part's bounds.
 using Signs = std::array<std::int8_t, stages::kMaxRoles>;
@@ -151,6 +152,7 @@ void add_figures(Worst& w, const stages::Performance& p, bool corners) {
   w.supply_current.add(p.supply_current_a);
   w.loss_lo_db.add(p.loss_lo_db);
   w.loss_hi_db.add(p.loss_hi_db);
+  w.thd.add(p.thd);
   if (corners) {  // the -3 dB corners are computed at full detail only
     w.f_low.add(p.f_low_hz);
     w.f_high.add(p.f_high_hz);
@@ -170,9 +172,9 @@ void add_figures(Worst& w, const stages::Performance& p, bool corners) {
 //     Depth::search: signs taken once, at the nominal piece, for the figures that decide
 //     whether the stage holds and how it scores (gain both ways, bias current both ways, the
 //     smallest swing, the largest supply current, the smallest input impedance, the largest
-//     band-edge losses). Depth::full (the candidates shown): signs taken at every piece, for
-//     every figure both ways: gain, bias and supply current, swing, Zin, Zout, the three node
-//     voltages and both band-edge losses. Without a band, the losses are taken at the
+//     band-edge losses and distortion). Depth::full (the candidates shown): signs taken at
+//     every piece, for every figure both ways: gain, bias and supply current, swing, Zin, Zout,
+//     the three node voltages, both band-edge losses and the distortion. Without a band, the losses are taken at the
 //     nominal -3 dB points, so that the sets pushed for them range the corners.
 //  3. The -3 dB corners are ranged over the sets evaluated in full (nominal parts, and the
 //     sets pushed for the band-edge losses: the capacitors at their tolerance ends).

@@ -198,7 +198,7 @@ TEST_CASE("show: a kept chain recomputes to the figures it was designed with (an
   const auto db = (dir / "stock.db").string();
   REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0);
   const auto d = test::run_stage_cli({"design", "--db", db, "--gain", "60dB", "--load", "47k", "--supply", "24", "--zin",
-                                      "10M", "--band", "5..50k", "--swing", "10", "--top", "3", "--json"});
+                                      "10M", "--band", "5..50k", "--swing", "10", "--max-distortion", "3%", "--top", "3", "--json"});
   REQUIRE(d.status == 0);
   const auto doc = nlohmann::json::parse(d.out);
   REQUIRE_FALSE(doc["candidates"].empty());

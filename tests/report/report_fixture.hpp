@@ -31,7 +31,7 @@ struct TopologyCase {
   double swing_vpp;
 };
 inline constexpr TopologyCase kTopologyCases[] = {
-    {"jfet-cs-self", "SJ-101", 5, 12, 1},      {"jfet-cs-divider", "SJ-P31", 3, 15, 2},
+    {"jfet-cs-self", "SJ-101", 5, 12, 0.5},      {"jfet-cs-divider", "SJ-P31", 3, 15, 2},
     {"jfet-follower", "SJ-202", 0.8, 12, 1},   {"bjt-ce-divider", "SQ-410", 10, 12, 2},
     {"bjt-follower", "SQ-510", 0.9, 9, 2},
 };
@@ -60,6 +60,10 @@ inline synth::Spec request(const std::string& topology, const std::string& devic
   s.source_ohm = 1e3;
   s.band_hz = std::pair{20.0, 20e3};
   s.swing_vpp = swing_vpp;
+  // These requests check other things than the distortion bound: 5 % THD lets the test
+  // JFETs' whole spread reach the level at the gains asked (at the default 1 % their
+  // smallest-|VP| pieces cannot, and the test would be about that instead).
+  s.max_thd = 0.05;
   s.topologies = {topology};
   s.devices = {device};
   s.stages_max = 1;  // one stage of that topology (where a chain would rank first)

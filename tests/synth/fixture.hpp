@@ -98,6 +98,10 @@ inline synth::Spec basic_spec(double gain) {
   s.source_ohm = 600;
   s.band_hz = std::make_pair(20.0, 20e3);
   s.swing_vpp = 1;
+  // These requests check other things than the distortion bound: 5 % THD lets the test
+  // JFETs' whole spread reach the level at the gains asked (at the default 1 % their
+  // smallest-|VP| pieces cannot, and the test would be about that instead).
+  s.max_thd = 0.05;
   s.mc_samples = 100;
   return s;
 }

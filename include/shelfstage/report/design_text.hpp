@@ -17,7 +17,8 @@ std::string rail_words(const synth::Spec& spec);
 std::string spread_words(const synth::Spec& spec);
 
 /// The ranked candidates: rank, id, topology, device, gain nominal and worst range, bias
-/// current, swing (nominal and worst), band (-3 dB corners), yield, pieces; then each
+/// current, undistorted swing in Vpp (nominal and worst), worst-case THD at the requested
+/// level, band (-3 dB corners), yield, pieces; then each
 /// role with its recipe ("RD 10k+150  RS2 2k2||6k8").
 std::string candidates_table(const synth::DesignResult& r);
 

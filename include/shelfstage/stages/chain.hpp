@@ -64,7 +64,9 @@ circuit::Circuit chain_stage_netlist(const ChainStage& stage, std::size_t k, con
 /// output), band-edge losses (sum of the stages' in dB), the -3 dB corners where the stages'
 /// losses add up to 3 dB (Detail::full; the coarser details give the usual approximation
 /// f_low = sqrt(sum f_low_i^2), 1/f_high = sqrt(sum 1/f_high_i^2)),
-/// HD2 and noise of the stage that dominates them (the last and the first).
+/// distortion (each stage's HD2 and HD3 at the level it carries, added as if in phase; the
+/// undistorted peak where their sum reaches Conditions::max_thd), and the input noise of the
+/// first stage.
 struct ChainPerformance {
   Performance whole;
   std::vector<Performance> each;        ///< per stage, in its chain conditions

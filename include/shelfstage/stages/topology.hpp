@@ -57,7 +57,10 @@ struct Conditions {
   double celsius = devices::kNominalCelsius;
   double band_lo_hz = 0;        ///< band edges at which the loss is reported (0: none)
   double band_hi_hz = 0;
-  double hd2_peak_v = 1.0;      ///< output peak at which second-harmonic distortion is given
+  double hd2_peak_v = 1.0;      ///< output peak at which HD2, HD3 and THD are given (the request's)
+  /// The distortion a signal may have and still count as undistorted (total harmonic
+  /// distortion, a fraction; 0: no bound): it limits swing_peak_v.
+  double max_thd = 0.01;
   double noise_f_hz = 1000.0;   ///< frequency of the input noise figure
 };
 
@@ -74,6 +77,28 @@ struct Stress {
   /// minus_net on the user's rail.
   double dc_n_v = 0;
   std::string_view pos_n, neg_n;
+};
+
+/// A stage's static transfer around its bias at mid-band, as a power series in the source's
+/// deviation x: out = o[1] x + o[2] x^2 + ... + o[kOrder] x^kOrder (o[0] unused). A cosine
+/// x = A cos(t) gives harmonic m the amplitude sum over n >= m, n - m even, of
+/// o[n] A^n 2^(1-n) C(n, (n-m)/2). The figures below are at an output level (the
+/// fundamental's peak); a series left empty (o[1] = 0) gives none.
+struct Transfer {
+  static constexpr int kOrder = 7;
+  std::array<double, kOrder + 1> o{};
+  bool empty() const { return o[1] == 0.0; }
+  /// Harmonic amplitudes 1..kOrder for the input peak a.
+  std::array<double, kOrder + 1> harmonics_at_input(double a) const;
+  /// The input peak whose fundamental at the output is `level` (0 when none is found).
+  double input_for(double level) const;
+  /// Harmonic m over the fundamental at the output level.
+  double hd(int m, double level) const;
+  /// Total harmonic distortion at the output level, with the series' last term counted once
+  /// more as a bound on the orders left out.
+  double thd(double level) const;
+  /// The largest output level up to max_level at which thd() stays within bound.
+  double level_for(double bound, double max_level) const;
 };
 
 /// The figures of one stage at one set of values, device and conditions. Voltages are
@@ -93,10 +118,18 @@ struct Performance {
   double f_high_hz = 0;
   double loss_lo_db = 0;    ///< loss at Conditions::band_lo_hz relative to mid-band, dB >= 0
   double loss_hi_db = 0;    ///< loss at Conditions::band_hi_hz relative to mid-band, dB >= 0
-  double swing_peak_v = 0;  ///< largest symmetric undistorted output peak at the load
+  /// Largest symmetric undistorted output peak at the load: below clipping, and with THD
+  /// within Conditions::max_thd.
+  double swing_peak_v = 0;
+  double clip_peak_v = 0;   ///< largest symmetric peak before either side clips
   double swing_up_v = 0;    ///< output excursion limits, each side
   double swing_down_v = 0;
   double hd2 = 0;           ///< second-harmonic ratio at Conditions::hd2_peak_v
+  double hd3 = 0;           ///< third-harmonic ratio there
+  double thd = 0;           ///< total harmonic distortion there (harmonics 2 to 7 and more)
+  /// The mid-band static transfer as a power series (the closed forms fill it; the exact
+  /// solver leaves it empty): how a chain finds this stage's distortion at any level.
+  Transfer transfer;
   double noise_v_rthz = 0;  ///< input-referred noise density at Conditions::noise_f_hz
   double c_in_f = 0;        ///< capacitance into the gate or base at mid-band (Miller included)
   double supply_current_a = 0;

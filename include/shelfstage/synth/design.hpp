@@ -62,6 +62,7 @@ struct RolePart {
 struct Worst {
   Range gain, bias_current, swing_peak, v_in, v_common, v_out, zin, zout, f_low, f_high, supply_current;
   Range loss_lo_db, loss_hi_db;
+  Range thd;  ///< total harmonic distortion at the requested level (at 1 V peak without one)
   /// Capacitors, by role index: the DC across from the fitted + lead (a non-polarised part:
   /// the end higher at nominal), over every point evaluated with part stress.
   std::array<Range, stages::kMaxRoles> cap_dc;

@@ -26,6 +26,14 @@ struct Spec {
   double source_ohm = 0;
   std::optional<std::pair<double, double>> band_hz;  ///< flat within 1 dB across it
   std::optional<double> swing_vpp;                   ///< output swing at every corner
+  /// The distortion an output may have and still count as undistorted: total harmonic
+  /// distortion, a fraction (default 1 %, the level at which audio and instrument makers
+  /// commonly rate an output; common practice). The swing delivered must stay within it at
+  /// every corner, and a design's rated output is the largest level that does.
+  double max_thd = 0.01;
+  /// What to rank by beside the gain error: nothing more (accuracy), or the distortion at
+  /// the requested level as well (distortion: ten points per percent of worst-case THD).
+  enum class Prefer { accuracy, distortion } prefer = Prefer::accuracy;
   std::optional<double> max_current_a;               ///< supply current limit
   std::optional<std::pair<double, double>> temp_c;   ///< ambient range
   int copies = 1;
