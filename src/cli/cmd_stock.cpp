@@ -236,8 +236,8 @@ void run_stock_import(const StockImportOptions& o, Context& ctx) {
     print_json(ctx, {{"schema", 1}, {"source", source}, {"lines", parts.size()}, {"pieces", pieces}});
     return;
   }
-  ctx.out << fmt::format("Imported {} {} ({} pieces) from {}.\n", parts.size(),
-                         parts.size() == 1 ? "line" : "lines", pieces, source);
+  ctx.out << fmt::format("Imported {} {} ({} {}) from {}.\n", parts.size(), parts.size() == 1 ? "line" : "lines",
+                         pieces, pieces == 1 ? "piece" : "pieces", source);
 }
 
 void setup_stock_import(CLI::App& stock, Context& ctx) {

@@ -336,6 +336,10 @@ std::string normalise_since(std::string_view text) {
   const int month = std::stoi(s.substr(5, 2));
   const int day = std::stoi(s.substr(8, 2));
   if (month < 1 || month > 12 || day < 1 || day > 31) throw bad();
+  // ISO 8601 times of day: hours 00-23, minutes 00-59, seconds 00-60 (a leap second).
+  if (s.size() >= 13 && std::stoi(s.substr(11, 2)) > 23) throw bad();
+  if (s.size() >= 16 && std::stoi(s.substr(14, 2)) > 59) throw bad();
+  if (s.size() >= 19 && std::stoi(s.substr(17, 2)) > 60) throw bad();
   return s;
 }
 
@@ -599,13 +603,14 @@ void Database::add_parts(const std::vector<Part>& parts, std::string_view reason
 void Database::import_parts(const std::vector<Part>& parts, std::string_view reason, std::string_view source,
                             const std::vector<std::size_t>& lines) {
   impl_->immediate([&] {
+    // A row that fails is noted and the rest still run, to name every bad row; nothing is
+    // committed then. (A savepoint per row would cost a sub-journal copy of every page a row
+    // touches: several times the whole import. A failing row can leave at most its line
+    // revived, which the rollback undoes with the rest.)
     std::vector<std::string> problems;
     for (std::size_t i = 0; i < parts.size(); ++i) {
-      // Each row in a savepoint: a row that fails leaves nothing behind for the rows after it.
-      detail::Transaction row(impl_->conn);
       try {
         add_part_locked(*impl_, parts[i], reason);
-        row.commit();
       } catch (const InputError& e) {
         problems.push_back(fmt::format("{}:{}: {}", source, i < lines.size() ? lines[i] : i + 1, e.what()));
       } catch (const InfeasibleError& e) {

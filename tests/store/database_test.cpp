@@ -709,15 +709,21 @@ TEST_CASE("default_database_path: SHELFSTAGE_DB, then XDG_DATA_HOME, then HOME")
 
 namespace {
 
-/// The message of the DatabaseError a write throws ("" when it does not throw).
-template <class F>
-std::string write_refusal(F&& write) {
+/// The message of the error of type E that f throws ("" when it throws none).
+template <class E, class F>
+std::string message_of(F&& f) {
   try {
-    write();
-  } catch (const DatabaseError& e) {
+    f();
+  } catch (const E& e) {
     return e.what();
   }
   return "";
+}
+
+/// The message of the DatabaseError a write throws ("" when it does not throw).
+template <class F>
+std::string write_refusal(F&& write) {
+  return message_of<DatabaseError>(write);
 }
 
 /// The VM steps every statement of the connection has run so far (SQLite's own counter,
@@ -794,14 +800,7 @@ TEST_CASE("text is checked at the door: bins, notes, names, labels and reasons m
   TempDir tmp;
   Database db = Database::create(tmp.file("s.db"));
   db.put_devices({njfet()});
-  auto refusal = [](auto&& write) -> std::string {
-    try {
-      write();
-    } catch (const InputError& e) {
-      return e.what();
-    }
-    return "";
-  };
+  auto refusal = [](auto&& write) { return message_of<InputError>(write); };
   Part latin1 = resistor(4700, 3, "Fach \xE4");
   CHECK(refusal([&] { db.add_part(latin1, "import"); }) == "bin 'Fach \\xE4': byte 6 is not UTF-8 (0xE4)");
   Part nul = resistor(4700, 3);
