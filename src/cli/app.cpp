@@ -4,8 +4,10 @@
 #include <ostream>
 
 #include "commands.hpp"
+#include "output.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/store/csv.hpp"
+#include "shelfstage/units/text.hpp"
 
 namespace shelfstage::cli {
 
@@ -64,6 +66,91 @@ void note_global_options(CLI::App& app, bool is_root) {
   for (CLI::App* sub : subs) note_global_options(*sub, false);
 }
 
+/// A message as one clean line of reasonable length: control characters and bytes that are
+/// not UTF-8 escaped, and cut (a long value echoed in it is already cut where it is quoted;
+/// this is the guard for any that is not).
+std::string one_line(std::string_view message) {
+  constexpr std::size_t kLongestValue = 200;
+  constexpr std::size_t kLongest = 500;
+  std::string out;
+  std::size_t pos = 0;
+  while (pos < message.size()) {
+    const auto open = message.find('\'', pos);
+    const auto close = open == std::string_view::npos ? open : message.find('\'', open + 1);
+    if (close == std::string_view::npos) {
+      out += message.substr(pos);
+      break;
+    }
+    out += message.substr(pos, open + 1 - pos);
+    out += units::clip(message.substr(open + 1, close - open - 1), kLongestValue);
+    out += '\'';
+    pos = close + 1;
+  }
+  return units::clip(out, kLongest);
+}
+
+/// Runs the parsed command; returns its exit status, having printed any error.
+int run_command(CLI::App& app, Context& ctx, int argc, const char* const* argv) {
+  // After a committed change, a failure is reported as what it is: the change stands.
+  auto after_commit = [&](std::string_view what) {
+    ctx.err << "warning: the change was saved in the database, but its report failed: " << one_line(what) << '\n';
+    return static_cast<int>(ExitCode::ok);
+  };
+  try {
+    // CLI11 reads `--db=` as `--db` alone and takes the next word for its value, so that
+    // `--db= stock list` would look for the command `list`: say what is wrong instead.
+    for (int i = 1; i < argc; ++i) {
+      const std::string_view arg = argv[i];
+      if (arg.size() > 3 && arg.starts_with("--") && arg.ends_with('=') && arg.find('=') == arg.size() - 1)
+        throw CLI::ValidationError(std::string(arg.substr(0, arg.size() - 1)),
+                                   "nothing after '=': give a value, or leave the option out");
+    }
+    app.parse(argc, argv);
+    return 0;
+  } catch (const CLI::CallForHelp& e) {
+    return app.exit(e, ctx.out, ctx.err);
+  } catch (const CLI::CallForAllHelp& e) {
+    return app.exit(e, ctx.out, ctx.err);
+  } catch (const CLI::CallForVersion& e) {
+    return app.exit(e, ctx.out, ctx.err);
+  } catch (const CLI::ParseError& e) {
+    ctx.err << "error: " << one_line(parse_error_text(app, e)) << '\n';
+    return static_cast<int>(ExitCode::bad_input);
+  } catch (const store::CsvError& e) {
+    if (ctx.database_changed) return after_commit(e.what());
+    ctx.err << "error: " << one_line(e.what()) << '\n';
+    for (const auto& problem : e.problems()) ctx.err << one_line(problem) << '\n';
+    return static_cast<int>(e.code());
+  } catch (const Error& e) {
+    if (ctx.database_changed) return after_commit(e.what());
+    ctx.err << "error: " << one_line(e.what()) << '\n';
+    return static_cast<int>(e.code());
+  } catch (const std::bad_alloc&) {
+    if (ctx.database_changed) return after_commit("memory ran out");
+    ctx.err << "error: out of memory\n";
+    return static_cast<int>(ExitCode::bad_input);
+  } catch (const std::exception& e) {
+    if (ctx.database_changed) return after_commit(std::string("an internal error happened: ") + e.what());
+    // A bug, not the user's fault; still exit 1 so that scripts see a plain failure.
+    ctx.err << "error: internal: " << one_line(e.what()) << " (please report this)\n";
+    return static_cast<int>(ExitCode::bad_input);
+  }
+}
+
+/// Flushes standard output and says so when anything written to it was lost.
+int finish_output(Context& ctx, int status) {
+  ctx.out.flush();
+  if (!ctx.out.fail()) return status;
+  const auto* source = dynamic_cast<const WriteErrorSource*>(ctx.out.rdbuf());
+  const std::string what = stdout_failure(source != nullptr ? source->write_error() : 0);
+  if (ctx.database_changed && status == 0) {
+    ctx.err << "warning: the change was saved in the database, but its report was lost: " << what << '\n';
+    return status;
+  }
+  ctx.err << "error: " << what << '\n';
+  return status == 0 ? static_cast<int>(ExitCode::bad_input) : status;
+}
+
 }  // namespace
 }  // namespace detail
 
@@ -94,46 +181,26 @@ void setup_root(CLI::App& app, Context& ctx, const std::string& version_text) {
   app.add_option("--db", ctx.global.db,
                  "The stock database file. Default: $SHELFSTAGE_DB, else\n"
                  "$XDG_DATA_HOME/shelfstage/stock.db, else ~/.local/share/shelfstage/stock.db")
-      ->type_name("FILE");
+      ->type_name("FILE")
+      ->check([](const std::string& path) -> std::string {
+        if (path.empty()) return "'' is no file name: give the database file, or leave --db out for the default one";
+        return {};
+      });
   app.add_flag("--json", ctx.global.json, "Print one JSON document (schema 1, plain SI numbers) instead of tables");
   app.set_version_flag("--version", version_text, "Print the version and stop");
   app.fallthrough();  // `shelfstage stock list --json` hands --json to the root
   app.require_subcommand(1);
   app.footer(
-      "Exit status: 0 done; 1 bad input or usage; 2 no feasible design or not enough stock;\n"
-      "3 database problem (locked, corrupt, or written by a newer shelfstage).\n"
+      "Exit status: 0 done (also when a change was saved and only printing it failed: a\n"
+      "warning says so); 1 bad input or usage, or output that could not be written; 2 no\n"
+      "feasible design or not enough stock; 3 database problem (locked, damaged, read-only,\n"
+      "or written by a newer shelfstage). On 1, 2 and 3 the database is unchanged.\n"
       "Run `shelfstage COMMAND --help` for each command.");
 }
 
 int run_app(CLI::App& app, Context& ctx, int argc, const char* const* argv) {
   detail::note_global_options(app, true);
-  try {
-    app.parse(argc, argv);
-    return 0;
-  } catch (const CLI::CallForHelp& e) {
-    return app.exit(e, ctx.out, ctx.err);
-  } catch (const CLI::CallForAllHelp& e) {
-    return app.exit(e, ctx.out, ctx.err);
-  } catch (const CLI::CallForVersion& e) {
-    return app.exit(e, ctx.out, ctx.err);
-  } catch (const CLI::ParseError& e) {
-    ctx.err << "error: " << detail::parse_error_text(app, e) << '\n';
-    return static_cast<int>(ExitCode::bad_input);
-  } catch (const store::CsvError& e) {
-    ctx.err << "error: " << e.what() << '\n';
-    for (const auto& problem : e.problems()) ctx.err << problem << '\n';
-    return static_cast<int>(e.code());
-  } catch (const Error& e) {
-    ctx.err << "error: " << e.what() << '\n';
-    return static_cast<int>(e.code());
-  } catch (const std::bad_alloc&) {
-    ctx.err << "error: out of memory\n";
-    return static_cast<int>(ExitCode::bad_input);
-  } catch (const std::exception& e) {
-    // A bug, not the user's fault; still exit 1 so that scripts see a plain failure.
-    ctx.err << "error: internal: " << e.what() << " (please report this)\n";
-    return static_cast<int>(ExitCode::bad_input);
-  }
+  return detail::finish_output(ctx, detail::run_command(app, ctx, argc, argv));
 }
 
 }  // namespace shelfstage::cli

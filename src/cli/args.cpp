@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <array>
 #include <cerrno>
 #include <charconv>
 #include <cmath>
@@ -15,6 +16,7 @@
 #include <sstream>
 
 #include "shelfstage/error.hpp"
+#include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::cli {
 
@@ -57,10 +59,10 @@ int parse_count(std::string_view field, std::string_view text) {
   long long n = 0;
   bool too_big = false;
   if (!detail::whole_number(text, n, too_big)) {
-    if (too_big) throw InputError(fmt::format("{} '{}' is too large", field, text));
-    throw InputError(fmt::format("{} '{}' is not a whole number", field, text));
+    if (too_big) throw InputError(fmt::format("{} '{}' is too large", field, units::clip(text)));
+    throw InputError(fmt::format("{} '{}' is not a whole number", field, units::clip(text)));
   }
-  if (n < 0) throw InputError(fmt::format("{} '{}' must not be negative", field, text));
+  if (n < 0) throw InputError(fmt::format("{} '{}' must not be negative", field, units::clip(text)));
   return static_cast<int>(n);
 }
 
@@ -68,16 +70,24 @@ int parse_delta(std::string_view field, std::string_view text) {
   long long n = 0;
   bool too_big = false;
   if (!detail::whole_number(text, n, too_big)) {
-    if (too_big) throw InputError(fmt::format("{} '{}' is too large", field, text));
-    throw InputError(fmt::format("{} '{}' is not a whole number (write +5 or -3)", field, text));
+    if (too_big) throw InputError(fmt::format("{} '{}' is too large", field, units::clip(text)));
+    throw InputError(fmt::format("{} '{}' is not a whole number (write +5 or -3)", field, units::clip(text)));
   }
-  if (n == 0) throw InputError(fmt::format("{} '{}' changes nothing", field, text));
+  if (n == 0) throw InputError(fmt::format("{} '{}' changes nothing", field, units::clip(text)));
   return static_cast<int>(n);
 }
 
 double parse_quantity(std::string_view field, std::string_view text, units::Unit unit) {
   try {
     return units::parse_value(text, unit);
+  } catch (const units::ParseError& e) {
+    throw InputError(name_field(e.what(), field));
+  }
+}
+
+double parse_capacitance(std::string_view field, std::string_view text) {
+  try {
+    return units::parse_capacitance(text);
   } catch (const units::ParseError& e) {
     throw InputError(name_field(e.what(), field));
   }
@@ -98,15 +108,37 @@ double parse_fraction(std::string_view field, std::string_view text) {
   if (percent) s = detail::trim(s.substr(0, s.size() - 1));
   double v = 0;
   if (!units::try_parse_value(s, v) || !std::isfinite(v)) {
-    throw InputError(fmt::format("{} '{}' is not a percentage or fraction (3% or 0.03)", field, text));
+    throw InputError(fmt::format("{} '{}' is not a percentage or fraction (3% or 0.03)", field, units::clip(text)));
   }
-  if (v < 0) throw InputError(fmt::format("{} '{}' must not be negative", field, text));
+  if (v < 0) throw InputError(fmt::format("{} '{}' must not be negative", field, units::clip(text)));
   if (percent) return v / 100.0;
   if (v >= 1.0) {
-    throw InputError(fmt::format("{} '{}' reads as {:g} %; write {}% if that is meant", field, text, v * 100.0,
-                                 detail::trim(text)));
+    throw InputError(fmt::format("{} '{}' reads as {:g} %; write {}% if that is meant", field, units::clip(text), v * 100.0,
+                                 units::clip(detail::trim(text))));
   }
   return v;
+}
+
+double parse_gain_tolerance(std::string_view text) {
+  constexpr std::string_view field = "--gain-tol";
+  const auto out_of_range = [&] {
+    return InputError(fmt::format("{} '{}': the gain window must be above 0 % and below 100 % of the requested "
+                                  "gain (10% when not given)",
+                                  field, units::clip(text)));
+  };
+  // A plain percentage of 100 or more is a window, not a tolerance: say so in those words.
+  std::string_view s = detail::trim(text);
+  if (!s.empty() && s.back() == '%') s = detail::trim(s.substr(0, s.size() - 1));
+  if (double v = 0; units::try_parse_value(s, v) && (v >= 100 || v <= 0)) throw out_of_range();
+  units::Tolerance tol;
+  try {
+    tol = units::parse_tolerance(text);
+  } catch (const units::ParseError& e) {
+    throw InputError(name_field(e.what(), field));
+  }
+  const double t = std::max(tol.minus, tol.plus);
+  if (!(t > 0 && t < 1)) throw out_of_range();
+  return t;
 }
 
 devices::Range parse_range(std::string_view field, std::string_view text, units::Unit unit) {
@@ -119,7 +151,7 @@ devices::Range parse_range(std::string_view field, std::string_view text, units:
   const auto low = text.substr(0, dots);
   const auto high = text.substr(dots + 2);
   if (detail::trim(low).empty() || detail::trim(high).empty()) {
-    throw InputError(fmt::format("{} '{}' needs both ends, as in 1m..5m", field, text));
+    throw InputError(fmt::format("{} '{}' needs both ends, as in 1m..5m", field, units::clip(text)));
   }
   r.min = parse_quantity(field, low, unit);
   r.max = parse_quantity(field, high, unit);
@@ -127,24 +159,70 @@ devices::Range parse_range(std::string_view field, std::string_view text, units:
   return r;
 }
 
-std::string read_input(const std::string& path, std::istream& in) {
-  if (path == "-") {
-    std::ostringstream text;
-    text << in.rdbuf();
-    return text.str();
+namespace {
+
+/// The whole stream, refused beyond kLargestInput (an endless device such as /dev/zero, or a
+/// file that is not a list of parts).
+std::string read_limited(std::istream& in, std::string_view name) {
+  constexpr std::size_t kLargestInput = std::size_t{256} << 20;
+  std::string text;
+  std::array<char, 1 << 16> chunk{};
+  while (in) {
+    in.read(chunk.data(), static_cast<std::streamsize>(chunk.size()));
+    text.append(chunk.data(), static_cast<std::size_t>(in.gcount()));
+    if (text.size() > kLargestInput)
+      throw InputError(fmt::format("cannot read '{}': it is larger than {} MB, which no parts list is", name,
+                                   kLargestInput >> 20));
   }
-  std::error_code ec;
-  if (std::filesystem::is_directory(path, ec)) {
-    throw InputError(fmt::format("cannot read '{}': it is a folder, not a file", path));
-  }
-  std::ifstream file(path, std::ios::binary);
-  if (!file) throw InputError(fmt::format("cannot read '{}': {}", path, std::strerror(errno)));
-  std::string text{std::istreambuf_iterator<char>(file), std::istreambuf_iterator<char>()};
-  if (file.bad()) throw InputError(fmt::format("cannot read '{}': read error", path));
+  if (in.bad()) throw InputError(fmt::format("cannot read '{}': read error", name));
   return text;
 }
 
-std::string input_name(const std::string& path) { return path == "-" ? "stdin" : path; }
+}  // namespace
+
+std::string read_input(const std::string& path, std::istream& in) {
+  if (path == "-") return read_limited(in, "stdin");
+  const std::string shown = units::clip(path, 200);
+  std::error_code ec;
+  if (std::filesystem::is_directory(path, ec)) {
+    throw InputError(fmt::format("cannot read '{}': it is a folder, not a file", shown));
+  }
+  std::ifstream file(path, std::ios::binary);
+  if (!file) throw InputError(fmt::format("cannot read '{}': {}", shown, std::strerror(errno)));
+  return read_limited(file, shown);
+}
+
+std::string input_name(const std::string& path) { return path == "-" ? "stdin" : units::clip(path, 200); }
+
+CLI::Validator clean_text() {
+  return CLI::Validator(
+      [](std::string& value) -> std::string {
+        const auto fault = units::find_text_fault(value);
+        return fault ? fmt::format("'{}': {}", units::clip(value), units::fault_text(*fault)) : std::string();
+      },
+      "");
+}
+
+void add_encoding_option(CLI::App& cmd, std::string& encoding) {
+  cmd.add_option("--encoding", encoding,
+                 "The file's text encoding: utf-8 (default), latin1 (ISO 8859-1) or cp1252 (Windows-1252)")
+      ->type_name("NAME")
+      ->check(CLI::Validator(
+          [](std::string& value) -> std::string {
+            units::Encoding e{};
+            return units::parse_encoding(value, e)
+                       ? std::string()
+                       : fmt::format("'{}' is not one of utf-8, latin1, cp1252", units::clip(value));
+          },
+          ""));
+}
+
+std::string read_csv_text(const std::string& path, std::istream& in, const std::string& encoding) {
+  units::Encoding e = units::Encoding::utf8;
+  if (!encoding.empty() && !units::parse_encoding(encoding, e))
+    throw InputError(fmt::format("--encoding '{}' is not one of utf-8, latin1, cp1252", units::clip(encoding)));
+  return units::to_utf8(read_input(path, in), e);
+}
 
 Supply parse_supply(std::string_view field, const std::string& text, bool allow_range) {
   const auto dots = text.find("..");

@@ -1,11 +1,15 @@
 // Reading what a person types on the command line: counts, signed changes, values, ranges, files.
 #pragma once
+#include <CLI/CLI.hpp>
+
 #include <istream>
 #include <string>
 #include <string_view>
 
 #include "shelfstage/devices/record.hpp"
+#include "shelfstage/store/csv.hpp"
 #include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/text.hpp"
 
 namespace shelfstage::cli {
 
@@ -20,6 +24,10 @@ int parse_delta(std::string_view field, std::string_view text);
 /// ("4k7", "100n", "6.3V"). The error names the field: "--volts '6,3': ...".
 double parse_quantity(std::string_view field, std::string_view text, units::Unit unit);
 
+/// A capacitor's value (units::parse_capacitance: a bare number is refused), the error
+/// naming the field.
+double parse_capacitance(std::string_view field, std::string_view text);
+
 /// A units::ParseError message ("value '6,3': ... at column 2") with its leading word
 /// replaced by the option or column the person typed it into ("--volts '6,3': ...").
 std::string name_field(std::string_view message, std::string_view field);
@@ -28,6 +36,10 @@ std::string name_field(std::string_view message, std::string_view field);
 /// the pieces CSV's uncertainty column reads it. A plain number of 1 or more is refused
 /// (write 3% for three percent); so are negative or non-finite values. The error names the field.
 double parse_fraction(std::string_view field, std::string_view text);
+
+/// The gain window of a design request ("10%", "2.5 %", "±5%", or "-5/+10%", whose wider side
+/// counts): a share above 0 and below 1. The errors name --gain-tol and speak of the gain.
+double parse_gain_tolerance(std::string_view text);
 
 /// A datasheet range "MIN..MAX" (either order; the ends as parse_quantity reads them), or
 /// one value for both ends. The result has min <= max.
@@ -46,7 +58,32 @@ Supply parse_supply(std::string_view field, const std::string& text, bool allow_
 /// file when it cannot be read.
 std::string read_input(const std::string& path, std::istream& in);
 
-/// The name a file goes by in messages: its path as given, "stdin" for "-".
+/// The name a file goes by in messages: its path as given (cut when long), "stdin" for "-".
 std::string input_name(const std::string& path);
+
+/// A check for options whose text the stock keeps (bins, notes, names, reasons): clean text
+/// (units/text.hpp), or the parse error "--bin: 'A\xE9': byte 2 (0xE9) is not UTF-8".
+CLI::Validator clean_text();
+
+/// Adds `--encoding NAME` (utf-8, latin1, cp1252) to an import command.
+void add_encoding_option(CLI::App& cmd, std::string& encoding);
+
+/// A CSV file's text (read_input) in UTF-8, re-encoded from the declared encoding.
+std::string read_csv_text(const std::string& path, std::istream& in, const std::string& encoding);
+
+/// Runs an import; a CsvError that found text which is not UTF-8 gets a hint about
+/// --encoding added to its summary.
+template <class F>
+decltype(auto) with_encoding_hint(F&& import) {
+  try {
+    return import();
+  } catch (const store::CsvError& e) {
+    if (!e.not_utf8()) throw;
+    throw store::CsvError(std::string(e.what()) +
+                              "; if the file is Latin-1 or Windows-1252, import it with --encoding latin1 or "
+                              "--encoding cp1252",
+                          e.problems(), true);
+  }
+}
 
 }  // namespace shelfstage::cli

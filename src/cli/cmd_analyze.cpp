@@ -156,7 +156,9 @@ void run_analyze(const AnalyzeOptions& o, Context& ctx) {
     const auto [role, value] = split_assignment("--part", text, "RD=4k7");
     const stages::Role* r = find_role(t, role);
     const Unit unit = r ? (r->kind == 'R' ? Unit::ohm : Unit::farad) : Unit::none;
-    given.emplace_back(role, parse_quantity(fmt::format("--part {}", role), value, unit));
+    const std::string field = fmt::format("--part {}", role);
+    // A capacitor's value states its scale, as in the stock (a bare 1 would be one farad).
+    given.emplace_back(role, unit == Unit::farad ? parse_capacitance(field, value) : parse_quantity(field, value, unit));
   }
   const stages::Values values = report::role_values(t, given);
 

@@ -7,6 +7,7 @@
 #include "builds_view.hpp"
 #include "commands.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/units/text.hpp"
 
 namespace shelfstage::cli {
 
@@ -24,7 +25,8 @@ std::int64_t parse_build_id(const std::string& text) {
   if (!s.empty() && s.front() == '#') s.remove_prefix(1);
   bool ok = !s.empty() && s.size() <= 15;
   for (const char ch : s) ok = ok && std::isdigit(static_cast<unsigned char>(ch));
-  if (!ok) throw InputError(fmt::format("build '{}' is not a build number (see `shelfstage builds list`)", text));
+  if (!ok) throw InputError(fmt::format("build '{}' is not a build number (see `shelfstage builds list`)",
+                                       units::clip(text)));
   return std::stoll(std::string(s));
 }
 

@@ -1,6 +1,7 @@
 // `shelfstage demo`: loads the demo shelf into a fresh database and shows what the program does.
 #include <fmt/format.h>
 
+#include <cstdlib>
 #include <filesystem>
 #include <memory>
 #include <random>
@@ -21,12 +22,24 @@ namespace {
 
 struct DemoOptions {};
 
+/// $TMPDIR when set (POSIX), else /tmp; InputError when it is not a folder.
+std::filesystem::path temporary_folder() {
+  const char* env = std::getenv("TMPDIR");
+  const std::filesystem::path folder = env != nullptr && *env != '\0' ? env : "/tmp";
+  std::error_code ec;
+  if (!std::filesystem::is_directory(folder, ec))
+    throw InputError(fmt::format("TMPDIR '{}' is not a folder, and the demo needs one for its temporary database: "
+                                 "set TMPDIR to a folder, or give --db FILE for a demo database to keep",
+                                 folder.string()));
+  return folder;
+}
+
 /// Removes a temporary database (and SQLite's side files) when the demo ends, however it ends.
 class TemporaryFile {
  public:
   TemporaryFile() {
     std::random_device rd;
-    path_ = std::filesystem::temp_directory_path() / fmt::format("shelfstage-demo-{:08x}{:08x}.db", rd(), rd());
+    path_ = temporary_folder() / fmt::format("shelfstage-demo-{:08x}{:08x}.db", rd(), rd());
   }
   TemporaryFile(const TemporaryFile&) = delete;
   TemporaryFile& operator=(const TemporaryFile&) = delete;
@@ -126,7 +139,8 @@ void run_demo(const DemoOptions& /*o*/, Context& ctx) {
     temporary = std::make_unique<TemporaryFile>();
     path = temporary->path();
   }
-  auto db = store::Database::create(path);
+  // A demo database the user keeps is a change the command made; a temporary one is not.
+  auto db = temporary ? store::Database::create(path) : ctx.create_database(path);
   const Loaded n = load_demo_shelf(db);
   if (!ctx.global.json) {
     ctx.out << fmt::format(

@@ -129,12 +129,7 @@ synth::Spec spec_from_options(const DesignOptions& o) {
   s.piece = o.piece;
   s.top = o.top;
   s.combine = o.combine;
-  try {
-    const auto tol = units::parse_tolerance(o.gain_tol);
-    s.gain_tol = std::max(tol.minus, tol.plus);
-  } catch (const units::ParseError& e) {
-    throw InputError(name_field(e.what(), "--gain-tol"));
-  }
+  s.gain_tol = parse_gain_tolerance(o.gain_tol);
   s.max_thd = parse_fraction("--max-distortion", o.max_distortion);
   if (o.prefer == "distortion")
     s.prefer = synth::Spec::Prefer::distortion;
@@ -189,8 +184,11 @@ synth::DesignResult run_design_on(store::Database& db, const synth::Spec& spec, 
   if (show_progress) ctx.err << "\r" << std::string(40, ' ') << "\r" << std::flush;
   if (save && !r.candidates.empty()) {
     std::vector<store::SavedDesign> saved;
-    const std::string spec_text = report::spec_json(spec).dump();
-    for (const auto& c : r.candidates) saved.push_back({c.id, {}, spec_text, report::candidate_json(c).dump()});
+    // Kept as valid JSON whatever text an old database holds (never throws after the search).
+    constexpr auto replace = nlohmann::ordered_json::error_handler_t::replace;
+    const std::string spec_text = report::spec_json(spec).dump(-1, ' ', false, replace);
+    for (const auto& c : r.candidates)
+      saved.push_back({c.id, {}, spec_text, report::candidate_json(c).dump(-1, ' ', false, replace)});
     store::save_designs(db, saved);
   }
   if (ctx.global.json) {

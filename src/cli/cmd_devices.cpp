@@ -1,6 +1,8 @@
 // `shelfstage devices ...`: the transistor types on the shelf, as their datasheets give them.
 #include <fmt/format.h>
 
+#include <algorithm>
+#include <cctype>
 #include <memory>
 #include <optional>
 
@@ -8,7 +10,10 @@
 #include "commands.hpp"
 #include "devices_view.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/design_json.hpp"
 #include "shelfstage/store/csv.hpp"
+#include "shelfstage/store/designs.hpp"
+#include "stock_view.hpp"
 
 namespace shelfstage::cli {
 
@@ -48,7 +53,7 @@ DeviceRecord record_from_options(const DevicesAddOptions& o) {
   d.name = o.name;
   if (d.name.find_first_not_of(" \t") == std::string::npos) throw InputError("device name '' is empty");
   if (!devices::parse_kind(o.kind, d.kind)) {
-    throw InputError(fmt::format("--kind '{}' is not one of NJFET, PJFET, NPN, PNP", o.kind));
+    throw InputError(fmt::format("--kind '{}' is not one of NJFET, PJFET, NPN, PNP", units::clip(o.kind)));
   }
   d.note = o.note;
   const std::string kind(devices::kind_name(d.kind));
@@ -105,8 +110,10 @@ void run_devices_add(const DevicesAddOptions& o, Context& ctx) {
 void setup_devices_add(CLI::App& devices_cmd, Context& ctx) {
   auto o = std::make_shared<DevicesAddOptions>();
   CLI::App* cmd = devices_cmd.add_subcommand("add", "Describe a transistor type from its datasheet");
-  cmd->add_option("NAME", o->name, "The type's name as written on the bag (what stock lines refer to)")->type_name("")
-      ->required();
+  cmd->add_option("NAME", o->name, "The type's name as written on the bag (what stock lines refer to)")
+      ->type_name("")
+      ->required()
+      ->check(clean_text());
   cmd->add_option("--kind", o->kind, "NJFET, PJFET, NPN or PNP")->type_name("KIND")->required();
   const char* jfet = "JFET (datasheet figures)";
   cmd->add_option("--idss", o->idss, "IDSS range in amperes, MIN..MAX: 1m..5m")->type_name("MIN..MAX")->group(jfet);
@@ -129,7 +136,7 @@ void setup_devices_add(CLI::App& devices_cmd, Context& ctx) {
   cmd->add_option("--cjc", o->cjc, "Base-collector capacitance: 3p")->type_name("F")->group(bjt);
   cmd->add_option("--vce-sat", o->vce_sat, "Saturation edge VCE(sat) used for swing, volts (default 0.2)")->type_name("V")
       ->group(bjt);
-  cmd->add_option("--note", o->note, "Free text kept with the type")->type_name("TEXT");
+  cmd->add_option("--note", o->note, "Free text kept with the type")->type_name("TEXT")->check(clean_text());
   cmd->add_flag("--replace", o->replace, "Overwrite the figures of a type already in the list");
   cmd->footer(
       "Give the datasheet's guaranteed range: designs are checked over the whole spread.\n"
@@ -170,22 +177,25 @@ void setup_devices_list(CLI::App& devices_cmd, Context& ctx) {
 struct DevicesImportOptions {
   std::string file;
   bool pieces = false;  ///< the file holds measured pieces, not types
+  std::string encoding;
 };
 
 void run_devices_import(const DevicesImportOptions& o, Context& ctx) {
   auto db = ctx.open_database();
-  const std::string text = read_input(o.file, ctx.in);
   const std::string source = input_name(o.file);
   std::size_t count = 0;
-  if (o.pieces) {
-    const auto pieces = store::parse_pieces_csv(text, source, db.device_records());
-    db.add_pieces(pieces);
-    count = pieces.size();
-  } else {
-    const auto records = store::parse_devices_csv(text, source);
-    db.put_devices(records);
-    count = records.size();
-  }
+  with_encoding_hint([&] {
+    const std::string text = read_csv_text(o.file, ctx.in, o.encoding);
+    if (o.pieces) {
+      const auto pieces = store::parse_pieces_csv(text, source, db.device_records());
+      db.add_pieces(pieces);
+      count = pieces.size();
+    } else {
+      const auto records = store::parse_devices_csv(text, source);
+      db.put_devices(records);
+      count = records.size();
+    }
+  });
   if (ctx.global.json) {
     print_json(ctx, {{"schema", 1}, {"source", source}, {o.pieces ? "pieces" : "devices", count}});
     return;
@@ -200,6 +210,7 @@ void setup_devices_import(CLI::App& devices_cmd, Context& ctx) {
   CLI::App* cmd = devices_cmd.add_subcommand("import", "Add or replace transistor types (or measured pieces) from CSV");
   cmd->add_option("FILE", o->file, "The CSV file; - reads standard input")->type_name("")->required();
   cmd->add_flag("--pieces", o->pieces, "The file holds transistors measured on the bench, not types");
+  add_encoding_option(*cmd, o->encoding);
   cmd->footer(
       "Types: columns name, kind (NJFET, PJFET, NPN, PNP); for JFETs idss_min, idss_max,\n"
       "vp_min, vp_max (signed as on the datasheet, either order), lambda, cgs, cgd; for BJTs\n"
@@ -209,6 +220,116 @@ void setup_devices_import(CLI::App& devices_cmd, Context& ctx) {
       "or hfe (BJT), uncertainty (3% or 0.03; default 3%), note. Import the types first.\n"
       "If any row is bad, nothing is imported and every bad row is listed with its line number.");
   cmd->callback([o, &ctx] { run_devices_import(*o, ctx); });
+}
+
+// --- devices remove -----------------------------------------------------------------------
+
+struct DevicesRemoveOptions {
+  std::string name;
+  bool cascade = false;
+  std::string reason;
+};
+
+bool same_name(std::string_view a, std::string_view b) {
+  return a.size() == b.size() && std::equal(a.begin(), a.end(), b.begin(), [](char x, char y) {
+           return std::tolower(static_cast<unsigned char>(x)) == std::tolower(static_cast<unsigned char>(y));
+         });
+}
+
+/// The kept designs that use a device type (a chain's stages included).
+std::vector<std::string> designs_using(const store::Database& db, std::string_view device) {
+  std::vector<std::string> ids;
+  for (const auto& d : store::all_designs(db)) {
+    const auto doc = nlohmann::json::parse(d.candidate_json, nullptr, false);
+    const auto names = report::candidate_devices(doc);
+    if (std::any_of(names.begin(), names.end(), [&](const std::string& n) { return same_name(n, device); }))
+      ids.push_back(d.id);
+  }
+  return ids;
+}
+
+/// "3 stock lines (4, 9, 12)": a count and the first few names.
+std::string counted(std::size_t n, std::string_view one, std::string_view many, const std::vector<std::string>& names) {
+  constexpr std::size_t kShown = 5;
+  std::string list;
+  for (std::size_t i = 0; i < names.size() && i < kShown; ++i) list += (i > 0 ? ", " : "") + names[i];
+  if (names.size() > kShown) list += fmt::format(" and {} more", names.size() - kShown);
+  return fmt::format("{} {} ({})", n, n == 1 ? one : many, list);
+}
+
+std::vector<std::string> line_ids(const std::vector<store::Part>& lines) {
+  std::vector<std::string> ids;
+  for (const auto& p : lines) ids.push_back(std::to_string(p.id));
+  return ids;
+}
+
+void run_devices_remove(const DevicesRemoveOptions& o, Context& ctx) {
+  auto db = ctx.open_database();
+  const auto record = db.device(o.name);
+  if (!record) throw InputError(fmt::format("device '{}' is not in the device list", units::clip(o.name)));
+  const auto users = db.device_users(record->name);
+  const auto designs = designs_using(db, record->name);
+  if (!o.cascade && (!users.empty() || !designs.empty())) {
+    std::vector<std::string> what;
+    if (!users.lines.empty())
+      what.push_back(counted(users.lines.size(), "stock line on the shelf", "stock lines on the shelf",
+                             line_ids(users.lines)));
+    if (!users.pieces.empty())
+      what.push_back(counted(users.pieces.size(), "measured piece", "measured pieces", users.pieces));
+    if (!designs.empty()) what.push_back(counted(designs.size(), "kept design", "kept designs", designs));
+    throw InputError(fmt::format(
+        "device '{}' is still named by {}; remove those first, or add --cascade to take them with it (lines "
+        "written off through the ledger, pieces deleted, designs forgotten)",
+        record->name, fmt::join(what, ", ")));
+  }
+  const std::string reason = o.reason.empty() ? fmt::format("device {} removed", record->name) : o.reason;
+  const store::RemovedDevice r = db.remove_device(record->name, designs, o.cascade, reason);
+  std::int64_t pieces = 0;
+  for (const auto& p : r.lines) pieces += p.qty;
+  if (ctx.global.json) {
+    nlohmann::ordered_json lines = nlohmann::ordered_json::array();
+    for (const auto& p : r.lines) lines.push_back(part_json(p));
+    print_json(ctx, {{"schema", 1},
+                     {"removed", r.name},
+                     {"lines", lines},
+                     {"pieces_written_off", pieces},
+                     {"measured_pieces", r.pieces},
+                     {"designs", r.designs},
+                     {"designs_kept", r.designs_built}});
+    return;
+  }
+  ctx.out << fmt::format("Removed {} {} from the device list.\n", devices::kind_name(record->kind), r.name);
+  if (!r.lines.empty())
+    ctx.out << fmt::format("Wrote off {} pieces on {} (ledger: \"{}\").\n", pieces,
+                           counted(r.lines.size(), "stock line", "stock lines", line_ids(r.lines)), reason);
+  if (!r.pieces.empty())
+    ctx.out << fmt::format("Deleted {}.\n", counted(r.pieces.size(), "measured piece", "measured pieces", r.pieces));
+  if (!r.designs.empty())
+    ctx.out << fmt::format("Forgot {}.\n", counted(r.designs.size(), "kept design", "kept designs", r.designs));
+  if (!r.designs_built.empty())
+    ctx.out << fmt::format("Kept {}: builds record them.\n",
+                           counted(r.designs_built.size(), "design", "designs", r.designs_built));
+}
+
+void setup_devices_remove(CLI::App& devices_cmd, Context& ctx) {
+  auto o = std::make_shared<DevicesRemoveOptions>();
+  CLI::App* cmd = devices_cmd.add_subcommand("remove", "Take a transistor type off the device list");
+  cmd->add_option("NAME", o->name, "The type's name, as `devices list` shows it")->type_name("")->required();
+  cmd->add_flag("--cascade", o->cascade,
+                "Also write off its stock lines (through the ledger), delete its measured pieces and forget the "
+                "kept designs that use it");
+  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: device NAME removed)")
+      ->type_name("TEXT")
+      ->check(clean_text());
+  cmd->footer(
+      "Refused while stock lines on the shelf, measured pieces or kept designs name the type,\n"
+      "unless --cascade: then its lines go to zero through the ledger and off the shelf (their\n"
+      "history stays), its pieces are deleted and the designs that use it are forgotten, except\n"
+      "those a build records. All in one transaction. The ledger still names the type in old\n"
+      "entries; `devices add` of the same name later puts it back with new figures.\n"
+      "  shelfstage devices remove SJ-102\n"
+      "  shelfstage devices remove SQ-410 --cascade --reason \"type discontinued\"");
+  cmd->callback([o, &ctx] { run_devices_remove(*o, ctx); });
 }
 
 }  // namespace
@@ -227,6 +348,7 @@ void setup_devices(CLI::App& parent, Context& ctx) {
   setup_devices_add(*cmd, ctx);
   setup_devices_list(*cmd, ctx);
   setup_devices_import(*cmd, ctx);
+  setup_devices_remove(*cmd, ctx);
   setup_devices_measure(*cmd, ctx);
   setup_devices_fit(*cmd, ctx);
 }

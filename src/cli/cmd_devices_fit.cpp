@@ -132,9 +132,11 @@ void setup_devices_fit(CLI::App& devices_cmd, Context& ctx) {
       ->expected(1);
   cmd->add_option("--kind", o->kind, "NJFET (default) or PJFET; --device sets it")->type_name("KIND");
   cmd->add_option("--device", o->device, "The type of the piece: compare with its datasheet range")->type_name("NAME");
-  cmd->add_option("--label", o->label, "Store the piece under this label (needs --device)")->type_name("LABEL");
+  cmd->add_option("--label", o->label, "Store the piece under this label (needs --device)")
+      ->type_name("LABEL")
+      ->check(clean_text());
   cmd->add_flag("--store", o->store, "Store the piece under the next free label DEVICE-N (needs --device)");
-  cmd->add_option("--note", o->note, "Free text kept with a stored piece")->type_name("TEXT");
+  cmd->add_option("--note", o->note, "Free text kept with a stored piece")->type_name("TEXT")->check(clean_text());
   cmd->add_option("--drain-supply", o->drain_supply, "The drain supply of the readings: refers IDSS to VDS = 0")
       ->type_name("V");
   cmd->add_option("--lambda", o->lambda, "Channel-length modulation for --drain-supply (default: the --device's)")

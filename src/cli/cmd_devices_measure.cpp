@@ -83,7 +83,7 @@ MeasuredPiece piece_from_options(const DevicesMeasureOptions& o, const devices::
 void run_devices_measure(const DevicesMeasureOptions& o, Context& ctx) {
   auto db = ctx.open_database();
   const auto record = db.device(o.device);
-  if (!record) throw InputError(fmt::format("device '{}' is not in the device list", o.device));
+  if (!record) throw InputError(fmt::format("device '{}' is not in the device list", units::clip(o.device)));
   const MeasuredPiece stored = store_piece(db, piece_from_options(o, *record));
   const auto warnings = warn_departures(*record, stored, ctx);
   if (ctx.global.json) {
@@ -109,10 +109,11 @@ void setup_devices_measure(CLI::App& devices_cmd, Context& ctx) {
   cmd->add_option("--ib", o->ib, "Base current of the reading (with --ic): 10u")->type_name("A")->group(bjt);
   cmd->add_option("--ic", o->ic, "Collector current of the reading (with --ib): 2.87m")->type_name("A")->group(bjt);
   cmd->add_option("--label", o->label, "What is written on the bag or tape (default: DEVICE-1, DEVICE-2, ...)")
-      ->type_name("LABEL");
+      ->type_name("LABEL")
+      ->check(clean_text());
   cmd->add_option("--uncertainty", o->uncertainty, "How far the figures may be off: 3% (default) or 0.03")
       ->type_name("PERCENT");
-  cmd->add_option("--note", o->note, "Free text kept with the piece")->type_name("TEXT");
+  cmd->add_option("--note", o->note, "Free text kept with the piece")->type_name("TEXT")->check(clean_text());
   cmd->footer(
       "A measured piece replaces its type's datasheet range by the figures +/- the uncertainty;\n"
       "`design --piece LABEL` designs for that one piece. A figure outside the datasheet range is\n"

@@ -13,7 +13,7 @@ struct InitOptions {};
 
 void run_init(const InitOptions& /*options*/, Context& ctx) {
   const std::filesystem::path path = ctx.database_path();
-  const auto db = store::Database::create(path);
+  const auto db = ctx.create_database(path);
   if (ctx.global.json) {
     print_json(ctx, {{"schema", 1}, {"database", path.string()}, {"created", true}});
     return;

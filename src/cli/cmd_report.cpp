@@ -1,15 +1,11 @@
 // `shelfstage report ID -o FILE.html`: the design report of a kept design as one self-contained HTML file.
 #include <fmt/format.h>
 
-#include <cerrno>
-#include <cstring>
-#include <filesystem>
-#include <fstream>
 #include <memory>
-#include <random>
 
 #include "commands.hpp"
 #include "kept_design.hpp"
+#include "output.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/html_report.hpp"
@@ -25,34 +21,10 @@ struct ReportOptions {
   std::optional<int> samples;   ///< Monte Carlo builds in the bias plot
 };
 
-/// Writes text to path through a temporary file in the same folder and a rename, so that a
-/// failure leaves no partial report behind (and an old report stays whole).
-void write_whole(const std::string& path, const std::string& text) {
-  namespace fs = std::filesystem;
-  const fs::path target(path);
-  std::error_code ec;
-  if (fs::is_directory(target, ec)) throw InputError(fmt::format("-o '{}': is a folder, not a file", path));
-  std::random_device rd;
-  const fs::path tmp = target.parent_path() / fmt::format(".{}.{:08x}.tmp", target.filename().string(), rd());
-  {
-    std::ofstream f(tmp, std::ios::binary | std::ios::trunc);
-    if (!f) throw InputError(fmt::format("-o '{}': cannot write the file: {}", path, std::strerror(errno)));
-    f << text;
-    f.close();
-    if (!f) {
-      fs::remove(tmp, ec);
-      throw InputError(fmt::format("-o '{}': writing the file failed", path));
-    }
-  }
-  fs::rename(tmp, target, ec);
-  if (ec) {
-    fs::remove(tmp, ec);
-    throw InputError(fmt::format("-o '{}': cannot write the file: {}", path, ec.message()));
-  }
-}
-
 void run_report(const ReportOptions& o, Context& ctx) {
   if (o.output.empty()) throw InputError("-o: give the file to write the report to (FILE.html, or - for stdout)");
+  if (o.output == "-" && ctx.global.json)
+    throw InputError("--json with -o -: the report is HTML; write it to a file (-o FILE.html) for a JSON summary");
   if (o.samples && (*o.samples < 0 || *o.samples > 100000))
     throw InputError(fmt::format("--samples {} must be from 0 to 100000", *o.samples));
   auto db = ctx.open_database();
@@ -75,7 +47,7 @@ void run_report(const ReportOptions& o, Context& ctx) {
     ctx.out << html;
     return;
   }
-  write_whole(o.output, html);
+  write_file("-o", o.output, html);
   if (ctx.global.json) {
     nlohmann::ordered_json doc;
     doc["schema"] = 1;
@@ -113,7 +85,9 @@ void setup_report(CLI::App& parent, Context& ctx) {
       "curve and a sine at the rated output), the parts with their rating checks, the pick list,\n"
       "the figures of `show` and the cautions. It loads nothing from elsewhere (no scripts, fonts or\n"
       "images), opens offline and prints on A4. Every figure is recomputed from the device list as\n"
-      "it is now. The file is replaced whole or not at all.");
+      "it is now. The file is replaced whole or not at all (a new file is written beside it and\n"
+      "renamed over it); a symbolic link is followed and the file it names replaced; a folder,\n"
+      "device, fifo or socket is refused.");
   cmd->callback([o, &ctx] { run_report(*o, ctx); });
 }
 

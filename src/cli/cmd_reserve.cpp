@@ -23,7 +23,7 @@ void run_reserve(const ReserveOptions& o, Context& ctx) {
   const int copies = copies_of(d, o.copies);
   const int released = store::reserve_design(db, d.saved.id, pick_planner(d.candidate, copies));
   const auto held = store::reservations(db, d.saved.id);
-  int pieces = 0;
+  std::int64_t pieces = 0;
   for (const auto& r : held) pieces += r.qty;
   if (ctx.global.json) {
     nlohmann::ordered_json rows = nlohmann::ordered_json::array();

@@ -30,12 +30,6 @@ units::Tolerance parse_tol(std::string_view field, const std::string& text) {
   }
 }
 
-std::vector<std::string> device_names(const store::Database& db) {
-  std::vector<std::string> names;
-  for (const auto& d : db.device_records()) names.push_back(d.name);
-  return names;
-}
-
 bool iequal(std::string_view a, std::string_view b) {
   return a.size() == b.size() && std::equal(a.begin(), a.end(), b.begin(), [](char x, char y) {
            return std::tolower(static_cast<unsigned char>(x)) == std::tolower(static_cast<unsigned char>(y));
@@ -60,36 +54,42 @@ struct StockAddOptions {
 Part part_from_options(const StockAddOptions& o, const store::Database& db) {
   Part p;
   if (!store::parse_kind_code(o.kind, p.kind)) {
-    throw InputError(fmt::format("kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", o.kind));
+    throw InputError(fmt::format("kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", units::clip(o.kind)));
   }
   const bool resistor = p.kind == PartKind::resistor;
   const bool capacitor = p.kind == PartKind::capacitor;
-  if (resistor || capacitor) {
-    p.value = parse_quantity("value", o.value, resistor ? units::Unit::ohm : units::Unit::farad);
+  if (resistor) {
+    p.value = parse_quantity("value", o.value, units::Unit::ohm);
+  } else if (capacitor) {
+    p.value = parse_capacitance("value", o.value);
   } else {
     const auto record = db.device(o.value);
     if (!record) {
       throw InputError(fmt::format(
           "device '{}' is not in the device list; add it first (`shelfstage devices add` or `devices import`)",
-          o.value));
+          units::clip(o.value)));
     }
     p.device = record->name;
   }
   p.qty = parse_count("qty", o.qty);
   if (o.tol) {
-    if (!resistor && !capacitor) throw InputError(fmt::format("--tol '{}': transistors have no tolerance", *o.tol));
+    if (!resistor && !capacitor)
+      throw InputError(fmt::format("--tol '{}': transistors have no tolerance", units::clip(*o.tol)));
     p.tol = detail::parse_tol("--tol", *o.tol);
   }
   if (o.power) {
-    if (!resistor) throw InputError(fmt::format("--power '{}' is a resistor rating (capacitors take --volts)", *o.power));
+    if (!resistor)
+      throw InputError(
+          fmt::format("--power '{}' is a resistor rating (capacitors take --volts)", units::clip(*o.power)));
     p.power_w = parse_quantity("--power", *o.power, units::Unit::watt);
   }
   if (o.volts) {
-    if (!capacitor) throw InputError(fmt::format("--volts '{}' is a capacitor rating", *o.volts));
+    if (!capacitor) throw InputError(fmt::format("--volts '{}' is a capacitor rating", units::clip(*o.volts)));
     p.volts = parse_quantity("--volts", *o.volts, units::Unit::volt);
   }
   if (o.dielectric) {
-    if (!capacitor) throw InputError(fmt::format("--dielectric '{}' applies to capacitors only", *o.dielectric));
+    if (!capacitor)
+      throw InputError(fmt::format("--dielectric '{}' applies to capacitors only", units::clip(*o.dielectric)));
     p.dielectric = *o.dielectric;
   }
   p.bin = o.bin;
@@ -125,15 +125,26 @@ void setup_stock_add(CLI::App& stock, Context& ctx) {
   cmd->add_option("--tol", o->tol, "Tolerance: 5%, 1%, or -20/+80% for asymmetric (R and C)")->type_name("TOL");
   cmd->add_option("--power", o->power, "Resistor power rating in watts: 0.25, 0.6, 1")->type_name("W");
   cmd->add_option("--volts", o->volts, "Capacitor voltage rating: 6.3, 16, 50")->type_name("V");
-  cmd->add_option("--dielectric", o->dielectric, "Capacitor dielectric: C0G, X7R, film, electrolytic, tantalum")->type_name("TYPE");
-  cmd->add_option("--bin", o->bin, "Where the pieces live: drawer, bag or box label (A6, B12)")->type_name("BIN");
-  cmd->add_option("--package", o->package, "Package note: 0207 axial, 5 mm radial, TO-92")->type_name("TEXT");
-  cmd->add_option("--note", o->note, "Free text kept with the line")->type_name("TEXT");
-  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: added by hand)")->type_name("TEXT");
+  cmd->add_option("--dielectric", o->dielectric, "Capacitor dielectric: C0G, X7R, film, electrolytic, tantalum")
+      ->type_name("TYPE")
+      ->check(clean_text());
+  cmd->add_option("--bin", o->bin, "Where the pieces live: drawer, bag or box label (A6, B12)")
+      ->type_name("BIN")
+      ->check(clean_text());
+  cmd->add_option("--package", o->package, "Package note: 0207 axial, 5 mm radial, TO-92")
+      ->type_name("TEXT")
+      ->check(clean_text());
+  cmd->add_option("--note", o->note, "Free text kept with the line")->type_name("TEXT")->check(clean_text());
+  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: added by hand)")
+      ->type_name("TEXT")
+      ->check(clean_text());
   cmd->footer(
       "Pieces of the same kind, value, tolerance, ratings, dielectric, package and bin join\n"
       "the existing line; anything different is a new line. Every change is written to the\n"
-      "ledger. Examples:\n"
+      "ledger. A capacitor's value states its multiplier or unit (100n, 4u7, 2.2uF, 1F): a bare\n"
+      "number such as 1 or 4.7 is refused, as it is usually microfarads with the unit left out.\n"
+      "Text (bin, note, package, dielectric, reason) must be UTF-8 without control characters.\n"
+      "Examples:\n"
       "  shelfstage stock add R 4k7 25 --tol 5% --power 0.25 --bin A6\n"
       "  shelfstage stock add C 100u 10 --volts 16 --dielectric electrolytic --bin C4\n"
       "  shelfstage stock add NPN SQ-410 20 --bin D10");
@@ -160,7 +171,8 @@ std::vector<Part> filter_parts(std::vector<Part> parts, const StockListOptions& 
     } else if (detail::iequal(o.kind, "BJT")) {
       bjts = true;
     } else {
-      throw InputError(fmt::format("--kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP, JFET, BJT", o.kind));
+      throw InputError(
+        fmt::format("--kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP, JFET, BJT", units::clip(o.kind)));
     }
   }
   std::erase_if(parts, [&](const Part& p) {
@@ -203,34 +215,43 @@ void setup_stock_list(CLI::App& stock, Context& ctx) {
 
 struct StockImportOptions {
   std::string file;
+  std::string encoding;
 };
 
 void run_stock_import(const StockImportOptions& o, Context& ctx) {
   auto db = ctx.open_database();
-  const std::string text = read_input(o.file, ctx.in);
   const std::string source = input_name(o.file);
-  const auto parts = store::parse_stock_csv(text, source, detail::device_names(db));
-  db.add_parts(parts, "import from " + source);
-  int pieces = 0;
+  // Everything is read and checked before the write lock is taken: only the last step, one
+  // transaction, holds it.
+  std::vector<Part> parts;
+  with_encoding_hint([&] {
+    const std::string text = read_csv_text(o.file, ctx.in, o.encoding);
+    std::vector<std::size_t> lines;
+    parts = store::parse_stock_csv(text, source, db.device_records(), &lines);
+    db.import_parts(parts, "import from " + source, source, lines);
+  });
+  std::int64_t pieces = 0;
   for (const auto& p : parts) pieces += p.qty;
   if (ctx.global.json) {
     print_json(ctx, {{"schema", 1}, {"source", source}, {"lines", parts.size()}, {"pieces", pieces}});
     return;
   }
-  ctx.out << fmt::format("Imported {} {} ({} pieces) from {}.\n", parts.size(),
-                         parts.size() == 1 ? "line" : "lines", pieces, source);
+  ctx.out << fmt::format("Imported {} {} ({} {}) from {}.\n", parts.size(), parts.size() == 1 ? "line" : "lines",
+                         pieces, pieces == 1 ? "piece" : "pieces", source);
 }
 
 void setup_stock_import(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockImportOptions>();
   CLI::App* cmd = stock.add_subcommand("import", "Add the lines of a stock CSV file (all or nothing)");
   cmd->add_option("FILE", o->file, "The CSV file; - reads standard input")->type_name("")->required();
+  add_encoding_option(*cmd, o->encoding);
   cmd->footer(
       "The first row names the columns, in any order: kind, value, qty (required) and tol,\n"
       "power, volts, dielectric, bin, package, note. kind is R, C, NJFET, PJFET, NPN or PNP;\n"
       "value is 4.7k / 4k7 / 100n / 2u2 for R and C, a device name for transistors (import\n"
       "the devices first). Quantities add to matching lines. If any row is bad, nothing is\n"
-      "imported and every bad row is listed with its line number.");
+      "imported and every bad row is listed with its line number. Text must be UTF-8 without\n"
+      "control characters; a file saved as Latin-1 or Windows-1252 imports with --encoding.");
   cmd->callback([o, &ctx] { run_stock_import(*o, ctx); });
 }
 
@@ -287,7 +308,10 @@ void setup_stock_adjust(CLI::App& stock, Context& ctx) {
   cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN] such as R:4k7@A6")->type_name("")
       ->required();
   cmd->add_option("DELTA", o->delta, "Pieces to add (+5) or take away (-3)")->type_name("")->required();
-  cmd->add_option("--reason", o->reason, "Why, for the ledger: recount, lost, used in a repair")->type_name("TEXT")->required();
+  cmd->add_option("--reason", o->reason, "Why, for the ledger: recount, lost, used in a repair")
+      ->type_name("TEXT")
+      ->required()
+      ->check(clean_text());
   cmd->footer(
       "The count never goes below zero or below what is reserved for planned builds.\n"
       "  shelfstage stock adjust 23 -3 --reason \"used in the tremolo repair\"\n"
@@ -319,7 +343,9 @@ void setup_stock_remove(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockRemoveOptions>();
   CLI::App* cmd = stock.add_subcommand("remove", "Take a whole line off the shelf");
   cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN]")->type_name("")->required();
-  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: taken off the shelf)")->type_name("TEXT");
+  cmd->add_option("--reason", o->reason, "Why, for the ledger (default: taken off the shelf)")
+      ->type_name("TEXT")
+      ->check(clean_text());
   cmd->footer(
       "The pieces go to zero through the ledger, which keeps the line's history; the line no\n"
       "longer shows in `stock list`. Refused while pieces of it are reserved for a build.");

@@ -35,11 +35,19 @@ struct Context {
   std::ostream& err;
   std::istream& in;
 
+  /// True once a change to the stock database has been committed during this command
+  /// (set by the databases that open_database() and create_database() return). From then on
+  /// run_app reports anything that goes wrong as a warning with exit status 0: the change is
+  /// made and a retry would make it twice.
+  bool database_changed = false;
+
   /// --db, else store::default_database_path() ($SHELFSTAGE_DB, else the XDG data folder).
   std::filesystem::path database_path() const;
   /// Opens the database at database_path(). A missing file is an InputError that
   /// suggests `shelfstage init`.
-  store::Database open_database() const;
+  store::Database open_database();
+  /// Creates a new database at path (store::Database::create), watched as open_database() is.
+  store::Database create_database(const std::filesystem::path& path);
 };
 
 /// Sets up the root command: description, --db, --json, --version (printing
@@ -47,11 +55,16 @@ struct Context {
 void setup_root(CLI::App& app, Context& ctx, const std::string& version_text);
 
 /// Parses the command line and runs the chosen command. Returns the exit status:
-///  0 success, and for --help and --version (printed on ctx.out);
+///  0 success, and for --help and --version (printed on ctx.out); also when a change to the
+///    database was committed and something failed afterwards (printing the result, writing
+///    standard output): one `warning: ...` line on ctx.err says what;
 ///  1 a usage error from the parser, or an InputError;
 ///  2 an InfeasibleError; 3 a DatabaseError (shelfstage::Error::code());
 ///  1 also for anything unexpected, printed as `error: internal: ...`.
 /// Every failure prints one `error: ...` line on ctx.err; a CsvError adds one line per bad row.
+/// Standard output is flushed and checked at the end: a write that failed is an error
+/// ("error: writing standard output: No space left on device", exit 1) unless the database
+/// was changed (a warning, exit 0).
 int run_app(CLI::App& app, Context& ctx, int argc, const char* const* argv);
 
 // One per command file.
@@ -78,7 +91,9 @@ void setup_report(CLI::App& parent, Context& ctx);
 void setup_devices_fit(CLI::App& devices_cmd, Context& ctx);
 void setup_devices_measure(CLI::App& devices_cmd, Context& ctx);
 
-/// Writes a JSON document on ctx.out (indented two spaces, then a newline).
+/// Writes a JSON document on ctx.out (indented two spaces, then a newline). Text that is not
+/// UTF-8 (from a database written before text was checked) is escaped as \xNN first, so the
+/// document is always valid JSON.
 void print_json(Context& ctx, const nlohmann::ordered_json& doc);
 
 }  // namespace shelfstage::cli

@@ -10,6 +10,7 @@
 
 #include "args.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/units/text.hpp"
 #include "stock_view.hpp"
 
 namespace shelfstage::cli {
@@ -39,12 +40,13 @@ bool matches(const PartSelector& s, const store::Part& p) {
 PartSelector parse_selector(std::string_view text) {
   PartSelector s;
   s.text = std::string(text);
+  const std::string shown = units::clip(text);
   if (text.empty()) throw InputError("stock line '' is empty: give a line id or KIND:VALUE[@BIN]");
   if (std::all_of(text.begin(), text.end(), [](char c) { return c >= '0' && c <= '9'; })) {
     std::int64_t id = 0;
     const auto [ptr, ec] = std::from_chars(text.data(), text.data() + text.size(), id);
     if (ec != std::errc() || ptr != text.data() + text.size() || id <= 0) {
-      throw InputError(fmt::format("stock line '{}' is not a line id", text));
+      throw InputError(fmt::format("stock line '{}' is not a line id", shown));
     }
     s.id = id;
     return s;
@@ -52,24 +54,25 @@ PartSelector parse_selector(std::string_view text) {
   const auto colon = text.find(':');
   if (colon == std::string_view::npos) {
     throw InputError(fmt::format(
-        "stock line '{}' is neither a line id nor KIND:VALUE[@BIN] (for example 23, R:4k7 or R:4k7@A6)", text));
+        "stock line '{}' is neither a line id nor KIND:VALUE[@BIN] (for example 23, R:4k7 or R:4k7@A6)", shown));
   }
   const auto kind_text = text.substr(0, colon);
   if (!store::parse_kind_code(kind_text, s.kind)) {
-    throw InputError(fmt::format("stock line '{}': kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", text,
-                                 kind_text));
+    throw InputError(fmt::format("stock line '{}': kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", shown,
+                                 units::clip(kind_text)));
   }
   std::string_view rest = text.substr(colon + 1);
   const auto at = rest.find('@');
   if (at != std::string_view::npos) {
     s.bin = std::string(rest.substr(at + 1));
-    if (s.bin->empty()) throw InputError(fmt::format("stock line '{}': the bin after '@' is empty", text));
+    if (s.bin->empty()) throw InputError(fmt::format("stock line '{}': the bin after '@' is empty", shown));
     rest = rest.substr(0, at);
   }
-  if (rest.empty()) throw InputError(fmt::format("stock line '{}': the value after ':' is empty", text));
-  if (store::is_passive(s.kind)) {
-    s.value = parse_quantity("stock line value",
-                             rest, s.kind == store::PartKind::resistor ? units::Unit::ohm : units::Unit::farad);
+  if (rest.empty()) throw InputError(fmt::format("stock line '{}': the value after ':' is empty", shown));
+  if (s.kind == store::PartKind::resistor) {
+    s.value = parse_quantity("stock line value", rest, units::Unit::ohm);
+  } else if (s.kind == store::PartKind::capacitor) {
+    s.value = parse_capacitance("stock line value", rest);
   } else {
     s.device = std::string(rest);
   }
@@ -89,7 +92,7 @@ const store::Part& select_part(const PartSelector& selector, const std::vector<s
   }
   if (found.empty()) {
     throw InputError(fmt::format("stock line '{}' matches nothing on the shelf (see `shelfstage stock list`)",
-                                 selector.text));
+                                 units::clip(selector.text)));
   }
   if (found.size() > 1) {
     std::string which;
@@ -100,7 +103,7 @@ const store::Part& select_part(const PartSelector& selector, const std::vector<s
     // @BIN helps only when it was not given and the lines sit in different bins.
     bool bins_differ = false;
     for (const auto* p : found) bins_differ = bins_differ || !detail::iequal(p->bin, found.front()->bin);
-    throw InputError(fmt::format("stock line '{}' matches {} lines: {}; give the line id{}", selector.text,
+    throw InputError(fmt::format("stock line '{}' matches {} lines: {}; give the line id{}", units::clip(selector.text),
                                  found.size(), which, !selector.bin && bins_differ ? " or add @BIN" : ""));
   }
   return *found.front();

@@ -3,21 +3,15 @@
 
 #include <fmt/format.h>
 
-#include <cerrno>
-#include <cstring>
-#include <fstream>
 #include <ostream>
 
+#include "output.hpp"
 #include "shelfstage/error.hpp"
 
 namespace shelfstage::cli {
 
 void write_text_file(const std::string& option, const std::string& path, const std::string& text) {
-  std::ofstream f(path, std::ios::binary | std::ios::trunc);
-  if (!f) throw InputError(fmt::format("{} '{}': cannot write the file: {}", option, path, std::strerror(errno)));
-  f << text;
-  f.close();
-  if (!f) throw InputError(fmt::format("{} '{}': writing the file failed", option, path));
+  write_file(option, path, text);
 }
 
 void write_spice(const std::string& path, const report::StageUnderTest& stage) {

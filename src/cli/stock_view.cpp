@@ -7,6 +7,7 @@
 
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/text.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::cli {
@@ -105,7 +106,7 @@ std::string describe_part(const Part& part) {
   if (part.volts) text += " " + units::format_value(*part.volts, units::Unit::volt);
   if (!part.dielectric.empty()) text += " " + part.dielectric;
   if (!part.bin.empty()) text += " bin " + part.bin;
-  return text;
+  return units::escape_text(text);  // an old database may hold text that is not clean
 }
 
 std::string power_text(double watts) {
@@ -119,7 +120,8 @@ std::string stock_table(const std::vector<Part>& parts) {
     return "The shelf is empty. Add parts with `shelfstage stock add` or `shelfstage stock import FILE.csv`.\n";
   }
   std::string out;
-  int lines = 0, pieces = 0, out_count = 0, low_count = 0;
+  int lines = 0, out_count = 0, low_count = 0;
+  std::int64_t pieces = 0;  // each line counts up to INT_MAX: their sum needs 64 bits
   for (const auto& group : detail::groups()) {
     TextTable table(group.columns);
     for (const auto& p : parts) {

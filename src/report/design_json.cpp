@@ -3,9 +3,12 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
+
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/stages/chain.hpp"
+#include "shelfstage/units/text.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::report {
@@ -135,7 +138,9 @@ Json candidate_json(const synth::Candidate& c) {
   j["topology"] = c.is_chain() ? std::string("chain") : std::string(c.topology->name());
   j["score"] = c.score;
   Json dev;
-  dev["name"] = c.device.name;
+  // Names as clean text (a database from before text was checked may hold others): valid JSON
+  // always, and candidate_from_json matches them the same way.
+  dev["name"] = units::escape_text(c.device.name);
   dev["kind"] = std::string(devices::kind_name(c.device.kind));
   Json model;
   if (devices::is_jfet(c.device.kind)) {
@@ -149,7 +154,7 @@ Json candidate_json(const synth::Candidate& c) {
   }
   dev["model"] = model;
   j["device"] = dev;
-  j["piece"] = c.piece ? Json(c.piece->label) : Json(nullptr);
+  j["piece"] = c.piece ? Json(units::escape_text(c.piece->label)) : Json(nullptr);
   // Which pieces the worst case covers: "correlated", "box" or "measured".
   j["spread"] = c.piece ? std::string("measured") : std::string(devices::spread_model_name(c.spread_model));
   Json parts = Json::array();
@@ -246,6 +251,20 @@ Json candidate_json(const synth::Candidate& c) {
   return j;
 }
 
+std::vector<std::string> candidate_devices(const nlohmann::json& j) {
+  std::vector<std::string> names;
+  auto take = [&](const nlohmann::json& c) {
+    if (!c.is_object() || !c.contains("device") || !c["device"].is_object()) return;
+    const auto& name = c["device"].value("name", nlohmann::json());
+    if (name.is_string() && std::find(names.begin(), names.end(), name.get<std::string>()) == names.end())
+      names.push_back(name.get<std::string>());
+  };
+  take(j);
+  if (j.is_object() && j.contains("stages") && j["stages"].is_array())
+    for (const auto& s : j["stages"]) take(s);
+  return names;
+}
+
 synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
                                      const std::vector<devices::MeasuredPiece>& pieces) {
   synth::Candidate c;
@@ -282,7 +301,7 @@ synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<
     c.id = j.at("id").get<std::string>();
     c.rank = j.value("rank", 0);
     const std::string dev = j.at("device").at("name").get<std::string>();
-    const auto it = std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return d.name == dev; });
+    const auto it = std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev; });
     if (it == devs.end()) throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev));
     c.device = *it;
     if (j.contains("spread") && j["spread"].is_string()) {
@@ -291,7 +310,7 @@ synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<
     }
     if (j.contains("piece") && j["piece"].is_string()) {
       const std::string label = j["piece"].get<std::string>();
-      const auto pit = std::find_if(pieces.begin(), pieces.end(), [&](const auto& p) { return p.label == label; });
+      const auto pit = std::find_if(pieces.begin(), pieces.end(), [&](const auto& p) { return units::escape_text(p.label) == label; });
       if (pit == pieces.end()) throw InputError(fmt::format("saved design: measured piece '{}' is gone", label));
       c.piece = *pit;
     }

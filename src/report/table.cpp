@@ -4,18 +4,21 @@
 #include <algorithm>
 #include <stdexcept>
 
+#include "shelfstage/units/text.hpp"
+
 namespace shelfstage::report {
 
 namespace detail {
 namespace {
 
-/// Control characters (line breaks, tabs) become spaces so one row stays one line.
+/// Line breaks and tabs become spaces so one row stays one line; any other control character
+/// or byte that is not UTF-8 is escaped (units::escape_text), so no cell can drive a terminal.
 std::string printable(std::string_view text) {
   std::string out(text);
   for (char& c : out) {
-    if (static_cast<unsigned char>(c) < 0x20 || c == 0x7f) c = ' ';
+    if (c == '\n' || c == '\r' || c == '\t') c = ' ';
   }
-  return out;
+  return units::escape_text(out);
 }
 
 void append_padded(std::string& line, const std::string& cell, std::size_t width, Align align) {

@@ -98,8 +98,8 @@ BuildRecord read_build(const detail::Statement& st) {
 
 }  // namespace
 
-int BuildRecord::pieces() const {
-  int n = 0;
+std::int64_t BuildRecord::pieces() const {
+  std::int64_t n = 0;
   for (const auto& l : lines) n += l.qty;
   return n;
 }

@@ -15,6 +15,7 @@
 #include <set>
 
 #include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/text.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::store {
@@ -38,20 +39,8 @@ bool all_digits(std::string_view s) {
   return !s.empty() && std::all_of(s.begin(), s.end(), [](char c) { return c >= '0' && c <= '9'; });
 }
 
-/// Text as it goes between quotes in a message: control bytes as \xNN, cut after 40 bytes.
-std::string shown(std::string_view text) {
-  std::string out;
-  const std::size_t limit = 40;
-  for (std::size_t i = 0; i < text.size() && i < limit; ++i) {
-    const auto c = static_cast<unsigned char>(text[i]);
-    if (c < 0x20 || c == 0x7f)
-      out += fmt::format("\\x{:02X}", c);
-    else
-      out += static_cast<char>(c);
-  }
-  if (text.size() > limit) out += "...";
-  return out;
-}
+/// Text as it goes between quotes in a message: escaped, cut after 40 characters.
+std::string shown(std::string_view text) { return units::clip(text); }
 
 /// A units parse error reworded for a column: "value '4.7q': ..." -> "power '4.7q': ...".
 std::string reworded(std::string_view field, const std::exception& e) {
@@ -75,6 +64,8 @@ std::vector<CsvRow> split(std::string_view text) {
   std::vector<CsvRow> rows;
   std::size_t pos = 0;
   const std::size_t n = text.size();
+  if (text.substr(0, 2) == "\xFF\xFE" || text.substr(0, 2) == "\xFE\xFF")
+    throw SyntaxError{1, "the file is UTF-16 (it starts with a UTF-16 byte-order mark); save it as UTF-8"};
   if (text.substr(0, 3) == "\xEF\xBB\xBF") pos = 3;  // UTF-8 byte-order mark
   std::size_t line = 1;
 
@@ -111,9 +102,11 @@ std::vector<CsvRow> split(std::string_view text) {
       std::string field;
       std::size_t start = pos;
       while (start < n && is_blank(text[start])) ++start;
+      row.offsets.push_back(pos);
       if (start < n && text[start] == '"') {
         const std::size_t open_line = line;
         pos = start + 1;
+        row.offsets.back() = pos;
         while (true) {
           if (pos >= n) throw SyntaxError{open_line, "unterminated quoted field (the quote opens on this line)"};
           const char c = text[pos];
@@ -162,12 +155,12 @@ class Problems {
     list_.push_back(fmt::format("{}:{}: {}", source_, line, message));
     if (bad_lines_.insert(line).second) ++bad_rows_;
   }
+  /// Notes that some text was not UTF-8 (for the CsvError).
+  void not_utf8() { not_utf8_ = true; }
   bool any() const { return !list_.empty(); }
   /// Throws CsvError when any row was bad.
   void finish() const {
-    if (list_.empty()) return;
-    throw CsvError(fmt::format("{}: {} bad {}, nothing imported", source_, bad_rows_, bad_rows_ == 1 ? "row" : "rows"),
-                   list_);
+    if (!list_.empty()) throw_bad_rows(source_, list_, bad_rows_, not_utf8_);
   }
 
  private:
@@ -175,6 +168,7 @@ class Problems {
   std::vector<std::string> list_;
   std::set<std::size_t> bad_lines_;
   std::size_t bad_rows_ = 0;
+  bool not_utf8_ = false;
 };
 
 /// A CSV file with a header: data rows and the column of each name.
@@ -182,7 +176,7 @@ class Sheet {
  public:
   Sheet(std::string_view text, std::string_view source, std::vector<std::string_view> known,
         std::vector<std::string_view> required)
-      : source_(source), known_(std::move(known)) {
+      : text_(text), source_(source), known_(std::move(known)) {
     std::vector<CsvRow> all = read_csv(text, source);
     if (all.empty())
       throw CsvError(fmt::format("{}: empty file, nothing imported", source),
@@ -207,6 +201,8 @@ class Sheet {
         problems.push_back(fmt::format("{}:{}: missing column '{}'", source, header.line, r));
     if (!problems.empty()) throw CsvError(fmt::format("{}: bad header, nothing imported", source), problems);
     width_ = header.fields.size();
+    names_.resize(width_);
+    for (const auto& [name, i] : columns_) names_[i] = name;
     for (std::size_t i = 1; i < all.size(); ++i) {
       const auto& f = all[i].fields;
       if (std::all_of(f.begin(), f.end(), [](const std::string& s) { return trim(s).empty(); })) continue;
@@ -216,7 +212,7 @@ class Sheet {
 
   const std::vector<CsvRow>& rows() const { return rows_; }
 
-  /// Checks a row's shape; false (and problems noted) when it cannot be read.
+  /// Checks a row's shape and text; false (and problems noted) when it cannot be read.
   bool shape_ok(const CsvRow& row, Problems& problems) const {
     if (row.fields.size() > width_) {
       problems.add(row.line, fmt::format("{} fields but the header names {} columns", row.fields.size(), width_));
@@ -229,7 +225,19 @@ class Sheet {
         return false;
       }
     }
-    return true;
+    // Every field clean text (units/text.hpp), each fault named with its column and place.
+    bool clean = true;
+    for (std::size_t i = 0; i < row.fields.size(); ++i) {
+      const auto fault = units::find_text_fault(row.fields[i]);
+      if (!fault) continue;
+      if (fault->kind == units::TextFault::Kind::invalid_utf8) problems.not_utf8();
+      const std::string place =
+          fmt::format(" of the field (byte {} of the file)", file_offset(row, i, fault->offset) + 1);
+      problems.add(row.line,
+                   fmt::format("{} '{}': {}", names_[i], shown(row.fields[i]), units::fault_text(*fault, place)));
+      clean = false;
+    }
+    return clean;
   }
 
   /// The trimmed field of the named column; empty when the column or the field is absent.
@@ -240,6 +248,16 @@ class Sheet {
   }
 
  private:
+  /// The byte offset in the file of byte k of field i (a quoted field's doubled quotes are
+  /// two bytes in the file and one in the field).
+  std::size_t file_offset(const CsvRow& row, std::size_t i, std::size_t k) const {
+    std::size_t at = i < row.offsets.size() ? row.offsets[i] : 0;
+    const bool quoted = at > 0 && at <= text_.size() && text_[at - 1] == '"';
+    for (std::size_t seen = 0; seen < k && at < text_.size(); ++seen, ++at)
+      if (quoted && text_[at] == '"') ++at;
+    return at;
+  }
+
   std::string known_list() const {
     std::string out;
     for (auto k : known_) {
@@ -248,9 +266,11 @@ class Sheet {
     }
     return out;
   }
+  std::string_view text_;
   std::string source_;
   std::vector<std::string_view> known_;
   std::map<std::string, std::size_t> columns_;
+  std::vector<std::string> names_;  ///< column names by index ("" for a nameless column)
   std::vector<std::size_t> nameless_;
   std::size_t width_ = 0;
   std::vector<CsvRow> rows_;
@@ -292,15 +312,16 @@ std::optional<int> read_count(std::string_view field, std::string_view text, std
 }
 
 /// An engineering value with an optional unit suffix; empty text is nullopt without a problem
-/// unless required.
+/// unless required. `stock_capacitance`: a capacitor's value, which must state its scale
+/// (units::parse_capacitance).
 std::optional<double> read_value(std::string_view field, std::string_view text, Unit unit, std::size_t line,
-                                  Problems& p, bool required = false) {
+                                  Problems& p, bool required = false, bool stock_capacitance = false) {
   if (text.empty()) {
     if (required) p.add(line, fmt::format("{} is missing", field));
     return std::nullopt;
   }
   try {
-    return units::parse_value(text, unit);
+    return stock_capacitance ? units::parse_capacitance(text) : units::parse_value(text, unit);
   } catch (const InputError& e) {
     p.add(line, reworded(field, e));
     return std::nullopt;
@@ -375,6 +396,21 @@ std::string exact(double v) {
   return fmt::format("{}", v);
 }
 
+/// A capacitor's value as exact() writes it, with the unit when that text alone would be a
+/// bare number (0.0047 F), which the stock refuses as a capacitance.
+std::string exact_capacitance(double v) {
+  const std::string t = exact(v);
+  try {
+    units::parse_capacitance(t);
+    return t;
+  } catch (const InputError&) {
+    return t + "F";
+  }
+}
+
+/// A text field as the writers put it: clean text always (units::escape_text).
+std::string text_field(std::string_view s) { return units::escape_text(s); }
+
 std::string plain(double v) { return fmt::format("{}", v); }
 
 /// Finds a name case-insensitively; the spelling of the list, or nullopt.
@@ -387,10 +423,11 @@ const T* find_name(const std::vector<T>& list, std::string_view want, Name name)
 }
 
 std::string join_row(const std::vector<std::string>& fields) {
+  // Every field made clean text, so whatever a database holds is written so as to read back.
   std::string out;
   for (std::size_t i = 0; i < fields.size(); ++i) {
     if (i > 0) out += ',';
-    out += csv_field(fields[i]);
+    out += csv_field(text_field(fields[i]));
   }
   out += '\n';  // LF, as Unix tools expect; the reader takes CRLF as well
   return out;
@@ -399,6 +436,12 @@ std::string join_row(const std::vector<std::string>& fields) {
 }  // namespace
 
 // --- public ------------------------------------------------------------------------------
+
+void throw_bad_rows(std::string_view source, std::vector<std::string> problems, std::size_t bad_rows, bool not_utf8) {
+  std::string summary = fmt::format("{}: {} bad {}, nothing imported", source, bad_rows, bad_rows == 1 ? "row" : "rows");
+  if (not_utf8) summary += " (some text is not UTF-8)";
+  throw CsvError(summary, std::move(problems), not_utf8);
+}
 
 std::vector<CsvRow> read_csv(std::string_view text) {
   try {
@@ -445,7 +488,8 @@ struct NamedDevice {
 };
 using DeviceLookup = std::function<std::optional<NamedDevice>(std::string_view)>;
 
-std::vector<Part> parse_stock(std::string_view text, std::string_view source, const DeviceLookup& lookup) {
+std::vector<Part> parse_stock(std::string_view text, std::string_view source, const DeviceLookup& lookup,
+                              std::vector<std::size_t>* lines) {
   const Sheet sheet(text, source,
                     {"kind", "value", "qty", "tol", "power", "volts", "dielectric", "package", "bin", "note"},
                     {"kind", "value", "qty"});
@@ -472,9 +516,12 @@ std::vector<Part> parse_stock(std::string_view text, std::string_view source, co
     if (value_text.empty()) {
       note("value is missing");
     } else if (kind_ok && is_passive(p.kind)) {
-      const Unit unit = p.kind == PartKind::resistor ? Unit::ohm : Unit::farad;
-      if (auto v = read_value("value", value_text, unit, line, problems)) p.value = *v;
-      else bad = true;
+      const bool capacitor = p.kind == PartKind::capacitor;
+      if (auto v = read_value("value", value_text, capacitor ? Unit::farad : Unit::ohm, line, problems, false,
+                              capacitor))
+        p.value = *v;
+      else
+        bad = true;
     } else if (kind_ok) {
       const auto found = lookup(value_text);
       devices::DeviceKind want{};
@@ -514,7 +561,9 @@ std::vector<Part> parse_stock(std::string_view text, std::string_view source, co
     if (bad || !kind_ok) continue;
     const auto issues = part_problems(p);
     for (const auto& issue : issues) problems.add(line, issue);
-    if (issues.empty()) out.push_back(std::move(p));
+    if (!issues.empty()) continue;
+    out.push_back(std::move(p));
+    if (lines != nullptr) lines->push_back(line);
   }
   problems.finish();
   return out;
@@ -523,27 +572,33 @@ std::vector<Part> parse_stock(std::string_view text, std::string_view source, co
 }  // namespace
 
 std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
-                                  const std::vector<std::string>& known_devices) {
+                                  const std::vector<std::string>& known_devices, std::vector<std::size_t>* lines) {
+  if (lines != nullptr) lines->clear();
   return parse_stock(text, source, [&](std::string_view name) -> std::optional<NamedDevice> {
     const auto* found = find_name(known_devices, name, [](const std::string& s) { return s; });
     if (found == nullptr) return std::nullopt;
     return NamedDevice{*found, std::nullopt};
-  });
+  }, lines);
 }
 
 std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
-                                  const std::vector<devices::DeviceRecord>& known_devices) {
+                                  const std::vector<devices::DeviceRecord>& known_devices,
+                                  std::vector<std::size_t>* lines) {
+  if (lines != nullptr) lines->clear();
   return parse_stock(text, source, [&](std::string_view name) -> std::optional<NamedDevice> {
     const auto* found = find_name(known_devices, name, [](const devices::DeviceRecord& d) { return d.name; });
     if (found == nullptr) return std::nullopt;
     return NamedDevice{found->name, found->kind};
-  });
+  }, lines);
 }
 
 std::string write_stock_csv(const std::vector<Part>& parts) {
   std::string out = join_row({"kind", "value", "qty", "tol", "power", "volts", "dielectric", "package", "bin", "note"});
   for (const Part& p : parts) {
-    out += join_row({std::string(kind_code(p.kind)), is_passive(p.kind) ? exact(p.value) : p.device,
+    const std::string value = p.kind == PartKind::capacitor  ? exact_capacitance(p.value)
+                              : p.kind == PartKind::resistor ? exact(p.value)
+                                                             : p.device;
+    out += join_row({std::string(kind_code(p.kind)), value,
                      std::to_string(p.qty), p.tol ? units::format_tolerance(*p.tol) : std::string(),
                      p.power_w ? plain(*p.power_w) : std::string(), p.volts ? plain(*p.volts) : std::string(),
                      p.dielectric, p.package, p.bin, p.note});

@@ -5,6 +5,7 @@
 
 #include "shelfstage/error.hpp"
 #include "shelfstage/store/detail/sqlite.hpp"
+#include "shelfstage/units/text.hpp"
 
 namespace shelfstage::store {
 
@@ -22,6 +23,13 @@ void save_designs(Database& db, const std::vector<SavedDesign>& designs) {
   });
 }
 
+std::vector<SavedDesign> all_designs(const Database& db) {
+  std::vector<SavedDesign> out;
+  auto st = db.impl().conn.prepare("SELECT id, created, spec_json, candidate_json FROM designs ORDER BY id");
+  while (st.step()) out.push_back({st.text(0), st.text(1), st.text(2), st.text(3)});
+  return out;
+}
+
 SavedDesign load_design(const Database& db, std::string_view id) {
   const auto& impl = db.impl();
   if (id.empty()) throw InputError("design id is empty");
@@ -32,9 +40,10 @@ SavedDesign load_design(const Database& db, std::string_view id) {
       "OR (length(?1) >= 4 AND substr(id, 1, length(?1)) = ?1) ORDER BY id = ?1 DESC LIMIT 2");
   st.bind(1, key);
   while (st.step()) found.push_back({st.text(0), st.text(1), st.text(2), st.text(3)});
-  if (found.empty()) throw InputError(fmt::format("design '{}' is not in this database (run `shelfstage design` first)", key));
+  if (found.empty()) throw InputError(fmt::format("design '{}' is not in this database (run `shelfstage design` first)",
+                                             units::clip(key)));
   if (found.size() > 1 && found[0].id != key)
-    throw InputError(fmt::format("design '{}' is ambiguous: it starts {} and {}", key, found[0].id, found[1].id));
+    throw InputError(fmt::format("design '{}' is ambiguous: it starts {} and {}", units::clip(key), found[0].id, found[1].id));
   return found.front();
 }
 

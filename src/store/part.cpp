@@ -9,6 +9,7 @@
 #include <cmath>
 
 #include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/text.hpp"
 
 namespace shelfstage::store {
 namespace {
@@ -245,7 +246,8 @@ std::string describe(const Part& p) {
   if (p.volts) out += fmt::format(" {}V", *p.volts);
   if (!p.dielectric.empty()) out += ' ' + p.dielectric;
   if (!p.bin.empty()) out += " bin " + p.bin;
-  return out;
+  // Clean text even for a line an old database holds with other text: the ledger keeps it.
+  return units::escape_text(out);
 }
 
 }  // namespace shelfstage::store

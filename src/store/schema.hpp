@@ -146,4 +146,14 @@ BEGIN
 END;
 )sql";
 
+/// Version 3: device types can be taken off the list (devices.removed: the row stays, as stock
+/// lines and the ledger name it), and the index that finds a stock line by kind, bin and value
+/// in one seek (an import looks one up per row).
+/// NOTES: no stock line on the shelf (removed = 0) and no measured piece names a removed
+/// device (Database::remove_device keeps it; check() verifies it).
+inline constexpr std::string_view kSchemaV3 = R"sql(
+ALTER TABLE devices ADD COLUMN removed INTEGER NOT NULL DEFAULT 0 CHECK (removed IN (0, 1));
+CREATE INDEX parts_line ON parts(kind, bin COLLATE NOCASE, value);
+)sql";
+
 }  // namespace shelfstage::store::detail

@@ -3,14 +3,22 @@
 
 #include <fmt/format.h>
 
+#include <unistd.h>
+
+#include <cerrno>
 #include <chrono>
+#include <cstring>
 #include <ctime>
 #include <limits>
+
+#include "shelfstage/units/text.hpp"
 
 namespace shelfstage::store::detail {
 
 void throw_sqlite(sqlite3* db, int rc, std::string_view label, std::string_view what) {
   const int primary = rc & 0xff;
+  // The operating system's reason behind an I/O failure ("No space left on device").
+  const int os_error = db != nullptr ? sqlite3_system_errno(db) : 0;
   std::string detail;
   if (primary == SQLITE_BUSY || primary == SQLITE_LOCKED) {
     detail = "database is locked (another program is writing to it); try again";
@@ -18,6 +26,14 @@ void throw_sqlite(sqlite3* db, int rc, std::string_view label, std::string_view 
     detail = "not a database file";
   } else if (primary == SQLITE_CORRUPT) {
     detail = "database is corrupt";
+  } else if (primary == SQLITE_FULL || (primary == SQLITE_IOERR && (os_error == ENOSPC || os_error == EDQUOT))) {
+    detail = "the disk is full (no space left on device); nothing was written";
+  } else if (primary == SQLITE_READONLY || primary == SQLITE_CANTOPEN || primary == SQLITE_PERM) {
+    const std::string why = write_obstacle(std::filesystem::path(std::string(label)));
+    detail = why.empty() ? std::string(sqlite3_errstr(rc)) : fmt::format("cannot write: {}", why);
+  } else if (primary == SQLITE_IOERR) {
+    detail = fmt::format("input/output error ({}); the change, if any, was not made",
+                         os_error != 0 ? std::strerror(os_error) : "the disk may be full or failing");
   } else if (db != nullptr && sqlite3_errcode(db) == rc) {
     detail = sqlite3_errmsg(db);
   } else {
@@ -25,6 +41,27 @@ void throw_sqlite(sqlite3* db, int rc, std::string_view label, std::string_view 
   }
   if (what.empty()) throw DatabaseError(fmt::format("{}: {}", label, detail));
   throw DatabaseError(fmt::format("{}: {}: {}", label, what, detail));
+}
+
+std::string write_obstacle(const std::filesystem::path& path) {
+  auto reason = [](int error, std::string_view whose) -> std::string {
+    if (error == EROFS) return "it is on a read-only file system";
+    if (error == EACCES || error == EPERM) return fmt::format("you have no permission to write {}", whose);
+    return {};
+  };
+  std::error_code ec;
+  const bool exists = std::filesystem::exists(path, ec);
+  if (exists && ::access(path.c_str(), W_OK) != 0) {
+    if (auto r = reason(errno, "it"); !r.empty()) return r;
+  }
+  const std::filesystem::path folder = path.has_parent_path() ? path.parent_path() : std::filesystem::path(".");
+  if (::access(folder.c_str(), W_OK) != 0) {
+    const int error = errno;
+    if (error == ENOENT) return fmt::format("its folder {} does not exist", units::clip(folder.string()));
+    // SQLite keeps its journal files beside the database, so the folder must be writable too.
+    return reason(error, fmt::format("its folder {} (SQLite writes its journal there)", units::clip(folder.string())));
+  }
+  return {};
 }
 
 // --- Statement -----------------------------------------------------------------------
@@ -145,11 +182,28 @@ std::optional<std::string> Statement::opt_text(int col) const {
 
 // --- Connection ----------------------------------------------------------------------
 
-Connection::Connection(const std::filesystem::path& path, int flags) : label_(path.string()) {
-  const int rc = sqlite3_open_v2(path.c_str(), &db_, flags | SQLITE_OPEN_EXRESCODE, nullptr);
+Connection::Connection(const std::filesystem::path& path, int flags, bool immutable) : label_(path.string()) {
+  std::string name = path.string();
+  if (immutable) {
+    // RFC 3986 percent-encoding of the characters a file: URI gives a meaning to.
+    std::string uri = "file:";
+    for (const char c : name) {
+      if (c == '%' || c == '?' || c == '#')
+        uri += fmt::format("%{:02X}", static_cast<unsigned>(static_cast<unsigned char>(c)));
+      else
+        uri += c;
+    }
+    name = uri + "?immutable=1";
+    flags = SQLITE_OPEN_READONLY | SQLITE_OPEN_URI;
+  }
+  const int rc = sqlite3_open_v2(name.c_str(), &db_, flags | SQLITE_OPEN_EXRESCODE, nullptr);
   if (rc != SQLITE_OK) {
     // On most failures SQLite still hands back a handle that carries the message.
     std::string message = db_ != nullptr ? sqlite3_errmsg(db_) : sqlite3_errstr(rc);
+    const int primary = rc & 0xff;
+    if (primary == SQLITE_CANTOPEN || primary == SQLITE_READONLY || primary == SQLITE_PERM) {
+      if (const auto why = write_obstacle(path); !why.empty()) message = why;
+    }
     sqlite3_close_v2(db_);
     db_ = nullptr;
     throw DatabaseError(fmt::format("{}: cannot open: {}", label_, message));
@@ -157,19 +211,35 @@ Connection::Connection(const std::filesystem::path& path, int flags) : label_(pa
 }
 
 Connection::Connection(Connection&& other) noexcept
-    : db_(std::exchange(other.db_, nullptr)), label_(std::move(other.label_)) {}
+    : db_(std::exchange(other.db_, nullptr)), label_(std::move(other.label_)), cache_(std::move(other.cache_)) {}
 
 Connection& Connection::operator=(Connection&& other) noexcept {
   if (this != &other) {
-    sqlite3_close_v2(db_);
+    close();
     db_ = std::exchange(other.db_, nullptr);
     label_ = std::move(other.label_);
+    cache_ = std::move(other.cache_);
   }
   return *this;
 }
 
-// close_v2 defers the close until every statement is finalized, so order does not matter.
-Connection::~Connection() { sqlite3_close_v2(db_); }
+void Connection::close() noexcept {
+  cache_.clear();  // finalizes the kept statements
+  // close_v2 defers the close until every statement is finalized, so order does not matter.
+  sqlite3_close_v2(db_);
+  db_ = nullptr;
+}
+
+Connection::~Connection() { close(); }
+
+Connection::Lease Connection::cached(std::string_view sql) const {
+  auto it = cache_.find(sql);
+  if (it == cache_.end())
+    it = cache_.emplace(std::string(sql), Kept{std::make_unique<Statement>(db_, sql, label_), false}).first;
+  if (it->second.busy) return Lease(prepare(sql));
+  it->second.busy = true;
+  return Lease(*it->second.statement, &it->second.busy);
+}
 
 void Connection::exec(const std::string& sql) const {
   char* message = nullptr;
@@ -177,9 +247,11 @@ void Connection::exec(const std::string& sql) const {
   if (rc != SQLITE_OK) {
     std::string text = message != nullptr ? message : sqlite3_errstr(rc);
     sqlite3_free(message);
+    // Failures of the file (rather than of the SQL) are told as throw_sqlite tells them.
     const int primary = rc & 0xff;
     if (primary == SQLITE_BUSY || primary == SQLITE_LOCKED || primary == SQLITE_NOTADB ||
-        primary == SQLITE_CORRUPT)
+        primary == SQLITE_CORRUPT || primary == SQLITE_FULL || primary == SQLITE_IOERR ||
+        primary == SQLITE_READONLY || primary == SQLITE_CANTOPEN || primary == SQLITE_PERM)
       fail(rc, "");
     throw DatabaseError(fmt::format("{}: {}", label_, text));
   }

@@ -287,6 +287,20 @@ double parse_value(std::string_view text, Unit expect) {
   return *value;
 }
 
+double parse_capacitance(std::string_view text) {
+  const double v = parse_value(text, Unit::farad);
+  // Parsed, so the text is a number with what follows it: is anything after the digits?
+  std::size_t pos = 0;
+  detail::skip_space(text, pos);
+  if (!match(text, pos, "+")) detail::match_minus(text, pos);
+  detail::scan_decimal(text, pos);
+  detail::skip_space(text, pos);
+  if (pos == text.size())
+    fail("value", text, pos,
+         "a capacitance needs its multiplier or unit (100n, 4u7, 2.2uF, 1e-6, 1F); a bare number would be farads");
+  return v;
+}
+
 bool try_parse_value(std::string_view text, double& out, Unit expect) noexcept {
   try {
     out = parse_value(text, expect);

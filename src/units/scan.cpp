@@ -9,35 +9,13 @@
 #include <fmt/format.h>
 
 #include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/text.hpp"
 
 namespace shelfstage::units::detail {
 
 namespace {
 
 bool is_continuation(unsigned char c) { return c >= 0x80 && c <= 0xBF; }
-
-// Length of the well-formed UTF-8 sequence at pos (RFC 3629 lead bytes), 0 when the byte
-// there does not start one.
-std::size_t utf8_length(std::string_view text, std::size_t pos) {
-  const auto lead = static_cast<unsigned char>(text[pos]);
-  std::size_t n = 0;
-  if (lead < 0x80) {
-    return 1;
-  } else if (lead >= 0xC2 && lead <= 0xDF) {
-    n = 2;
-  } else if (lead >= 0xE0 && lead <= 0xEF) {
-    n = 3;
-  } else if (lead >= 0xF0 && lead <= 0xF4) {
-    n = 4;
-  } else {
-    return 0;
-  }
-  if (pos + n > text.size()) return 0;
-  for (std::size_t i = 1; i < n; ++i) {
-    if (!is_continuation(static_cast<unsigned char>(text[pos + i]))) return 0;
-  }
-  return n;
-}
 
 }  // namespace
 
@@ -49,33 +27,11 @@ std::size_t column_of(std::string_view text, std::size_t pos) {
   return column;
 }
 
-std::string quoted(std::string_view text) {
-  constexpr std::size_t max_chars = 40;
-  std::string out;
-  std::size_t chars = 0;
-  std::size_t pos = 0;
-  while (pos < text.size()) {
-    if (chars == max_chars) {
-      out += "...";
-      break;
-    }
-    const auto c = static_cast<unsigned char>(text[pos]);
-    const std::size_t n = utf8_length(text, pos);
-    if (n == 0 || c < 0x20 || c == 0x7F) {
-      out += fmt::format("\\x{:02X}", static_cast<unsigned>(c));
-      pos += 1;
-    } else {
-      out.append(text.substr(pos, n));
-      pos += n;
-    }
-    ++chars;
-  }
-  return out;
-}
+std::string quoted(std::string_view text) { return clip(text, 40); }
 
 std::string_view char_at(std::string_view text, std::size_t pos) {
   if (pos >= text.size()) return {};
-  const std::size_t n = utf8_length(text, pos);
+  const std::size_t n = utf8_sequence_length(text, pos);
   return text.substr(pos, n == 0 ? 1 : n);
 }
 

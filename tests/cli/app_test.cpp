@@ -2,11 +2,13 @@
 #include <doctest/doctest.h>
 #include <sqlite3.h>
 
+#include <filesystem>
 #include <sstream>
 #include <stdexcept>
 #include <vector>
 
 #include "cli_runner.hpp"
+#include "env_var.hpp"
 #include "commands.hpp"
 #include "shelfstage/error.hpp"
 #include "temp_dir.hpp"
@@ -124,4 +126,62 @@ TEST_CASE("global options work before and after the subcommand") {
   CHECK(before.status == 0);
   CHECK(before.out.starts_with("{"));
   CHECK(before.out == after.out);
+}
+
+TEST_CASE("an empty --db is refused, not taken for the default database") {
+  test::TempDir dir;
+  const test::EnvVar home("HOME", dir.path().c_str());
+  const test::EnvVar env("SHELFSTAGE_DB", nullptr);
+  const test::EnvVar xdg("XDG_DATA_HOME", nullptr);
+  for (const auto& args : std::vector<std::vector<std::string>>{
+           {"--db", "", "init"}, {"--db", "", "stock", "list"}, {"stock", "list", "--db", ""}, {"--db=", "init"}}) {
+    const auto r = run(args);
+    CHECK(r.status == 1);
+    CHECK(r.err.starts_with("error: --db: "));
+    CHECK(line_count(r.err) == 1);
+  }
+  CHECK_FALSE(std::filesystem::exists(dir / ".local"));  // the default database was not made
+}
+
+TEST_CASE("a value of 100 KB is cut in the message; bytes that are not text are escaped") {
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  REQUIRE(run({"--db", db, "init"}).status == 0);
+  const std::string huge(100000, 'x');
+  for (const auto& args : std::vector<std::vector<std::string>>{
+           {"--db", db, "show", huge}, {"--db", db, "stock", "adjust", huge, "+1", "--reason", "r"},
+           {"--db", db, "stock", "add", "R", huge, "1"}, {"--db", db, "builds", "undo", huge},
+           {"--db", db, "stock", "list", "--kind", huge}, {"--db", db, "stock", "import", huge}}) {
+    CAPTURE(args[3]);
+    const auto r = run(args);
+    CHECK(r.status == 1);
+    CHECK(r.err.size() < 400);
+    CHECK(line_count(r.err) == 1);
+  }
+  const auto r = run({"--db", db, "stock", "adjust", "R:1k@\xFF\x1B[2J", "+1", "--reason", "r"});
+  CHECK(r.status == 1);
+  CHECK(r.err.find("R:1k@\\xFF\\x1B[2J") != std::string::npos);
+}
+
+TEST_CASE("options whose text the stock keeps must be clean text, named when they are not") {
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  REQUIRE(run({"--db", db, "init"}).status == 0);
+  for (const auto& [option, value] : std::vector<std::pair<std::string, std::string>>{
+           {"--bin", "Fach \xE4"}, {"--note", "a\x7F" "b"}, {"--package", "TO\t92"},
+           {"--dielectric", "X7R\n"}, {"--reason", "\x1B[31mred"}}) {
+    CAPTURE(option);
+    const auto r = run({"--db", db, "stock", "add", "R", "1k", "5", option, value});
+    CHECK(r.status == 1);
+    CHECK(r.err.starts_with("error: " + option + ": '"));
+  }
+  CHECK(run({"--db", db, "devices", "add", "SJ-\xFF", "--kind", "NJFET", "--idss", "1m..5m", "--vp", "-1..-3"})
+            .err.starts_with("error: NAME: 'SJ-\\xFF': byte 4 is not UTF-8 (0xFF)"));
+  CHECK(run({"--db", db, "stock", "list", "--json"}).out.find("\"parts\": []") != std::string::npos);
+}
+
+TEST_CASE("--json report -o - is refused: the report is HTML, not one JSON document") {
+  const auto r = run({"--json", "report", "anything", "-o", "-"});
+  CHECK(r.status == 1);
+  CHECK(r.err.find("--json with -o -") != std::string::npos);
 }

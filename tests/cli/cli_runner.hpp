@@ -15,12 +15,13 @@ struct CliResult {
   std::string out, err;
 };
 
-/// Runs `shelfstage ARGS` with `input` on standard input. Besides the real commands it has
-/// two test-only ones: `test-infeasible` (throws InfeasibleError) and `test-bug` (throws
+/// Runs `shelfstage ARGS` with `input` on standard input and `out` as standard output (the
+/// result's `out` stays empty; see the overload below). Besides the real commands it has two
+/// test-only ones: `test-infeasible` (throws InfeasibleError) and `test-bug` (throws
 /// std::logic_error).
-inline CliResult run_cli(std::vector<std::string> args, const std::string& input = "") {
+inline CliResult run_cli_to(std::ostream& out, std::vector<std::string> args, const std::string& input = "") {
   using namespace shelfstage::cli;
-  std::ostringstream out, err;
+  std::ostringstream err;
   std::istringstream in(input);
   Context ctx(out, err, in);
   CLI::App app{"", "shelfstage"};
@@ -33,8 +34,15 @@ inline CliResult run_cli(std::vector<std::string> args, const std::string& input
   for (const auto& a : args) argv.push_back(a.c_str());
   CliResult r;
   r.status = run_app(app, ctx, static_cast<int>(argv.size()), argv.data());
-  r.out = out.str();
   r.err = err.str();
+  return r;
+}
+
+/// Runs `shelfstage ARGS` with `input` on standard input; standard output is kept in `out`.
+inline CliResult run_cli(std::vector<std::string> args, const std::string& input = "") {
+  std::ostringstream out;
+  CliResult r = run_cli_to(out, std::move(args), input);
+  r.out = out.str();
   return r;
 }
 

@@ -4,7 +4,12 @@
 
 #include <nlohmann/json.hpp>
 
+#include <fstream>
+#include <string>
+#include <vector>
+
 #include "cli_runner.hpp"
+#include "env_var.hpp"
 #include "temp_dir.hpp"
 
 using shelfstage::test::run_cli;
@@ -42,4 +47,19 @@ TEST_CASE("demo --json: one document with the stock, the design and its pick lis
   const auto again = run_cli({"--db", db, "pick", j["pick"]["design"].get<std::string>(), "--json"});
   REQUIRE(again.status == 0);
   CHECK(nlohmann::json::parse(again.out)["lines"] == j["pick"]["lines"]);
+}
+
+TEST_CASE("demo without a temporary folder: answered plainly, nothing left behind") {
+  shelfstage::test::TempDir dir;
+  for (const std::string& tmp : std::vector<std::string>{"/nonexistent", (dir / "a-file").string()}) {
+    CAPTURE(tmp);
+    if (tmp != "/nonexistent") std::ofstream(tmp) << "not a folder";
+    const shelfstage::test::EnvVar env("TMPDIR", tmp.c_str());
+    const auto r = run_cli({"demo"});
+    CHECK(r.status == 1);
+    CHECK(r.err == "error: TMPDIR '" + tmp +
+                       "' is not a folder, and the demo needs one for its temporary database: set TMPDIR to a "
+                       "folder, or give --db FILE for a demo database to keep\n");
+    CHECK(r.out.empty());
+  }
 }

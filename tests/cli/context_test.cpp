@@ -7,38 +7,13 @@
 
 #include "commands.hpp"
 #include "shelfstage/error.hpp"
+#include "env_var.hpp"
 #include "temp_dir.hpp"
 
 using namespace shelfstage;
 using namespace shelfstage::cli;
+using shelfstage::test::EnvVar;
 
-namespace {
-
-/// Sets an environment variable for one scope and puts the old value back.
-class EnvVar {
- public:
-  EnvVar(const char* name, const char* value) : name_(name) {
-    if (const char* old = std::getenv(name)) old_ = old;
-    if (value) {
-      ::setenv(name, value, 1);
-    } else {
-      ::unsetenv(name);
-    }
-  }
-  ~EnvVar() {
-    if (old_) {
-      ::setenv(name_, old_->c_str(), 1);
-    } else {
-      ::unsetenv(name_);
-    }
-  }
-
- private:
-  const char* name_;
-  std::optional<std::string> old_;
-};
-
-}  // namespace
 
 TEST_CASE("the database path: --db wins over $SHELFSTAGE_DB, which wins over the XDG data folder") {
   std::ostringstream out, err;

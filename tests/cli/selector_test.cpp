@@ -88,6 +88,9 @@ TEST_CASE("select_part finds one line, or lists the candidates") {
   CHECK(message_of([&] { select_part(parse_selector("R:10k"), shelf); })
             .starts_with("stock line 'R:10k' matches nothing"));
   // A capacitor of 4700 F is not the 4.7 kilohm resistor: the kind is part of the match.
-  CHECK(message_of([&] { select_part(parse_selector("C:4700@A6"), shelf); }).find("matches nothing") !=
+  CHECK(message_of([&] { select_part(parse_selector("C:4700F@A6"), shelf); }).find("matches nothing") !=
         std::string::npos);
+  // Written bare, a capacitance is refused as in the stock (it would be farads).
+  CHECK(message_of([&] { select_part(parse_selector("C:4700@A6"), shelf); })
+            .starts_with("stock line value '4700': a capacitance needs its multiplier or unit"));
 }

@@ -79,6 +79,14 @@ TEST_CASE("a line break in a cell prints as a space, so one row stays one line")
   CHECK(lines[1] == "two lines and a tab");
 }
 
+TEST_CASE("other control characters and bytes that are not UTF-8 print escaped, so no cell drives a terminal") {
+  TextTable t({{"BIN"}, {"NOTE"}});
+  t.add_row({std::string("A\0", 2), "\x1B[2Jred Fach \xE4"});
+  const auto lines = lines_of(t.render(no_rule()));
+  REQUIRE(lines.size() == 2);
+  CHECK(lines[1] == "A\\x00  \\x1B[2Jred Fach \\xE4");
+}
+
 TEST_CASE("short rows are padded; a row longer than the header is a programming error") {
   TextTable t({{"A"}, {"B"}});
   t.add_row({"x"});

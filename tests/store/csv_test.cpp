@@ -200,7 +200,10 @@ TEST_CASE("stock: odd rows a tired person types") {
   CHECK(one("R,1k,2.5") == "stock.csv:2: qty '2.5' is not a whole number");
   CHECK(one("R,1k,99999999999") == "stock.csv:2: qty '99999999999' is too large");
   CHECK(one("R,1k,5,1/0") .find("power '1/0'") != std::string::npos);
-  CHECK(one("C,4.7,5").find("4.7 F for a capacitor") != std::string::npos);
+  CHECK(one("C,4.7,5").find("value '4.7': a capacitance needs its multiplier or unit") != std::string::npos);
+  CHECK(one("C,1,5").find("value '1': a capacitance needs its multiplier or unit") != std::string::npos);
+  CHECK(one("C,1F,5").empty());  // one farad, said so
+  CHECK(one("C,1e-6,5").empty());
   CHECK(one("C,4R7,5").find("value '4R7'") != std::string::npos);  // EIA "4R7" pF is not ohms
   CHECK(one("R,1k,5,,,5%%").find("stock.csv:2: tol '5%%'") == 0);
   CHECK(one("R,1k,5,,16V").find("volts 16 given for kind R") != std::string::npos);
@@ -276,7 +279,7 @@ TEST_CASE("export then import into a fresh database gives the identical stock") 
   c.volts = 6.3;
   c.tol = units::Tolerance{0.1, 0.5};
   c.dielectric = "tantalum";
-  c.note = "two\nlines";
+  c.note = "dipped, bag of ten: \"spares\"";  // one line: line breaks are control characters
   in.push_back(c);
   c.value = 100e-9;
   c.dielectric = "X7R";
@@ -432,4 +435,89 @@ TEST_CASE("the demo shelf files parse and import cleanly") {
   db.add_parts(parts, "demo");
   db.add_pieces(pieces);
   CHECK(db.check().ok());
+}
+
+// --- text at the door, encodings, bad text on the way out -----------------------------------------
+
+TEST_CASE("stock: every field must be clean UTF-8; the fault is named by column, line, and byte") {
+  // "Fach ä" as Latin-1: E4 stands alone where UTF-8 needs a sequence (RFC 3629).
+  const std::string latin1 = "kind,value,qty,bin,note\nR,1k,5,Fach \xE4,\nR,2k2,5,A1,\"say \"\"\xFF\"\"\"\n";
+  try {
+    (void)stock(latin1);
+    FAIL("a Latin-1 file was accepted");
+  } catch (const CsvError& e) {
+    CHECK(std::string(e.what()) == "stock.csv: 2 bad rows, nothing imported (some text is not UTF-8)");
+    CHECK(e.not_utf8());
+    REQUIRE(e.problems().size() == 2);
+    // Byte 37 of the file is E4 (line 2 starts at byte 25); in the quoted note of line 3 the
+    // doubled quote counts twice in the file and once in the field.
+    CHECK(e.problems()[0] == "stock.csv:2: bin 'Fach \\xE4': byte 6 of the field (byte 37 of the file) is not UTF-8 (0xE4)");
+    CHECK(e.problems()[1] == "stock.csv:3: note 'say \"\\xFF\"': byte 6 of the field (byte 58 of the file) is not UTF-8 (0xFF)");
+    CHECK(static_cast<unsigned char>(latin1[36]) == 0xE4);
+    CHECK(static_cast<unsigned char>(latin1[57]) == 0xFF);
+  }
+  // Control characters: a NUL in a bin, a line break in a quoted note.
+  const auto p = problems_of([&] { (void)stock(std::string("kind,value,qty,bin,note\nR,1k,5,A") + '\0' + ",\nR,1k,5,B,\"two\nlines\"\n"); });
+  REQUIRE(p.size() == 2);
+  CAPTURE(p[0]);
+  CHECK(p[0].starts_with("stock.csv:2: bin 'A\\x00': byte 2 of the field (byte 33 of the file) is a control character (U+0000)"));
+  CHECK(p[1].starts_with("stock.csv:3: note 'two\\x0Alines': byte 4 of the field"));
+  // Text from any script in UTF-8 is fine.
+  CHECK(stock("kind,value,qty,bin,note\nR,1k,5,Schublade Ä3,µ-Bereich 抽屉\n").size() == 1);
+}
+
+TEST_CASE("a UTF-16 file is refused as such") {
+  const std::string utf16 = std::string("\xFF\xFEk\0i\0n\0d\0", 10);
+  try {
+    (void)stock(utf16);
+    FAIL("a UTF-16 file was read");
+  } catch (const CsvError& e) {
+    REQUIRE(e.problems().size() == 1);
+    CHECK(e.problems()[0] == "stock.csv:1: the file is UTF-16 (it starts with a UTF-16 byte-order mark); save it as UTF-8");
+  }
+}
+
+TEST_CASE("parse_stock_csv tells the line of each part; every wrong-kind transistor row is named") {
+  devices::DeviceRecord j;
+  j.name = "SJ-101";
+  j.kind = devices::DeviceKind::njfet;
+  std::vector<std::size_t> where;
+  const auto parts = store::parse_stock_csv("kind,value,qty\nR,1k,1\n\nR,2k,1\n\"R\",\"3k\",\"1\"\n", "s.csv",
+                                            std::vector<devices::DeviceRecord>{j}, &where);
+  CHECK(parts.size() == 3);
+  CHECK(where == std::vector<std::size_t>{2, 4, 5});
+  const auto p = problems_of([&] {
+    (void)store::parse_stock_csv("kind,value,qty\nNPN,SJ-101,1\nPNP,SJ-101,2\nNJFET,SJ-101,3\nNPN,sj-101,4\n",
+                                 "s.csv", std::vector<devices::DeviceRecord>{j});
+  });
+  CHECK(p.size() == 3);
+  for (const auto& line : p) CHECK(line.find("is a device of kind NJFET") != std::string::npos);
+}
+
+TEST_CASE("bad text a database already holds is written escaped, so the export reads back") {
+  Part p;
+  p.kind = PartKind::resistor;
+  p.value = 4700;
+  p.qty = 3;
+  p.bin = std::string("A\0\xE9", 3);
+  p.note = "ok";
+  const std::string csv = store::write_stock_csv({p});
+  CHECK(csv.find("A\\x00\\xE9") != std::string::npos);
+  CHECK(csv.find('\0') == std::string::npos);
+  const auto back = stock(csv);
+  REQUIRE(back.size() == 1);
+  CHECK(back[0].bin == "A\\x00\\xE9");
+}
+
+TEST_CASE("a capacitor of a millifarad or more is exported with its unit, so that it imports again") {
+  for (const double farads : {0.0047, 0.001, 1.0, 0.47, 100e-9, 2.2e-6}) {
+    CAPTURE(farads);
+    Part c;
+    c.kind = PartKind::capacitor;
+    c.value = farads;
+    c.qty = 1;
+    const auto back = stock(store::write_stock_csv({c}));
+    REQUIRE(back.size() == 1);
+    CHECK(back[0].value == farads);
+  }
 }

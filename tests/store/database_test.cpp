@@ -3,11 +3,18 @@
 #include "shelfstage/store/database.hpp"
 
 #include <doctest/doctest.h>
+#include <sched.h>
+#include <sys/mount.h>
+#include <sys/wait.h>
+#include <unistd.h>
 
+#include <algorithm>
+#include <climits>
 #include <cstdlib>
 #include <fstream>
 #include <map>
 
+#include "shelfstage/store/csv.hpp"
 #include "shelfstage/store/detail/sqlite.hpp"
 #include "store/fixture.hpp"
 
@@ -165,7 +172,7 @@ PRAGMA user_version = 1;
 
 }  // namespace
 
-TEST_CASE("create, then open: an empty stock at schema version 2") {
+TEST_CASE("create, then open: an empty stock at the current schema version") {
   TempDir tmp;
   const auto path = tmp.file("sub/dir/stock.db");  // folders are made as needed
   {
@@ -174,7 +181,8 @@ TEST_CASE("create, then open: an empty stock at schema version 2") {
     CHECK(db.path() == path);
   }
   Database db = Database::open(path);
-  CHECK(db.schema_version() == 2);
+  CHECK(db.schema_version() == 3);
+  CHECK_FALSE(db.read_only_reason());
   CHECK(db.parts().empty());
   CHECK(db.ledger().empty());
   CHECK(db.check().ok());
@@ -471,8 +479,8 @@ TEST_CASE("check finds a tampered quantity, a broken reserve, and a touched ledg
 
   REQUIRE(raw.exec("UPDATE parts SET reserved = 0; DROP TRIGGER ledger_no_delete") == SQLITE_OK);
   report = db.check();
-  REQUIRE(report.other.size() == 1);
-  CHECK(report.other[0] == "trigger ledger_no_delete is missing");
+  CHECK(report.other.empty());
+  CHECK(report.structure == std::vector<std::string>{"trigger ledger_no_delete is missing"});
 }
 
 TEST_CASE("check reports a dangling foreign key") {
@@ -551,7 +559,7 @@ TEST_CASE("put_devices replaces by name, and refuses a kind change while the dev
   CHECK_FALSE(db.device("SJ-103"));  // all or nothing
 }
 
-TEST_CASE("migration: a version 1 file opens at version 2 with its data kept") {
+TEST_CASE("migration: a version 1 file opens at version 3 with its data kept") {
   TempDir tmp;
   const auto path = tmp.file("old.db");
   {
@@ -573,9 +581,12 @@ TEST_CASE("migration: a version 1 file opens at version 2 with its data kept") {
     REQUIRE(raw.integer("PRAGMA user_version") == 1);
   }
   Database db = Database::open(path);
-  CHECK(db.schema_version() == 2);
+  CHECK(db.schema_version() == 3);
+  CHECK_FALSE(db.read_only_reason());  // the version 1 text, laid out otherwise, is no damage
   RawDb raw(path);
-  CHECK(raw.integer("PRAGMA user_version") == 2);
+  CHECK(raw.integer("PRAGMA user_version") == 3);
+  CHECK(raw.integer("SELECT count(*) FROM sqlite_schema WHERE type = 'index' AND name = 'parts_line'") == 1);
+  CHECK(raw.integer("SELECT count(*) FROM pragma_table_info('devices') WHERE name = 'removed'") == 1);
   const auto parts = db.parts();
   REQUIRE(parts.size() == 2);
   CHECK(parts[0].value == 4700);
@@ -613,7 +624,7 @@ TEST_CASE("a file of a newer schema is refused with DatabaseError, untouched") {
     FAIL("opened a newer file");
   } catch (const DatabaseError& e) {
     CHECK(std::string(e.what()) ==
-          path.string() + ": schema version 7 is newer than this shelfstage (2); upgrade shelfstage");
+          path.string() + ": schema version 7 is newer than this shelfstage (3); upgrade shelfstage");
   }
   RawDb raw(path);
   CHECK(raw.integer("PRAGMA user_version") == 7);
@@ -692,4 +703,283 @@ TEST_CASE("default_database_path: SHELFSTAGE_DB, then XDG_DATA_HOME, then HOME")
   restore("SHELFSTAGE_DB", db_env);
   restore("XDG_DATA_HOME", xdg);
   restore("HOME", home);
+}
+
+// --- reliability: damage, read-only files, text at the door, imports, removing devices ------
+
+namespace {
+
+/// The message of the error of type E that f throws ("" when it throws none).
+template <class E, class F>
+std::string message_of(F&& f) {
+  try {
+    f();
+  } catch (const E& e) {
+    return e.what();
+  }
+  return "";
+}
+
+/// The message of the DatabaseError a write throws ("" when it does not throw).
+template <class F>
+std::string write_refusal(F&& write) {
+  return message_of<DatabaseError>(write);
+}
+
+/// The VM steps every statement of the connection has run so far (SQLite's own counter,
+/// sqlite3_stmt_status SQLITE_STMTSTATUS_VM_STEP): a count of work that does not depend on the
+/// machine's speed.
+long long vm_steps(Database& db) {
+  long long n = 0;
+  sqlite3* h = db.impl().conn.handle();
+  for (sqlite3_stmt* st = sqlite3_next_stmt(h, nullptr); st != nullptr; st = sqlite3_next_stmt(h, st))
+    n += sqlite3_stmt_status(st, SQLITE_STMTSTATUS_VM_STEP, 0);
+  return n;
+}
+
+}  // namespace
+
+TEST_CASE("a damaged schema opens read-only: reads work, each write names the damage and `check`") {
+  TempDir tmp;
+  const auto path = tmp.file("s.db");
+  {
+    Database db = Database::create(path);
+    db.add_part(resistor(1000, 10), "import");
+  }
+  {
+    RawDb raw(path);
+    REQUIRE(raw.exec("DROP TRIGGER ledger_apply") == SQLITE_OK);
+  }
+  Database db = Database::open(path);
+  REQUIRE(db.read_only_reason());
+  CHECK(db.read_only_reason()->find("trigger ledger_apply is missing") != std::string::npos);
+  CHECK(db.parts().size() == 1);  // reads still work
+  const std::string refused = write_refusal([&] { db.add_part(resistor(1000, 5), "more"); });
+  CHECK(refused.find("the database is damaged (trigger ledger_apply is missing)") != std::string::npos);
+  CHECK(refused.find("`shelfstage check`") != std::string::npos);
+  CHECK_FALSE(write_refusal([&] { db.adjust(db.parts()[0].id, -1, "x"); }).empty());
+  CHECK(db.parts()[0].qty == 10);
+  CHECK(db.ledger().size() == 1);
+  const auto report = db.check();
+  CHECK_FALSE(report.ok());
+  CHECK(report.structure == std::vector<std::string>{"trigger ledger_apply is missing"});
+}
+
+TEST_CASE("schema damage: a foreign trigger, a trigger that says something else, a lost index, column or table") {
+  TempDir tmp;
+  const auto path = tmp.file("s.db");
+  Database::create(path);
+  auto damage_after = [&](const std::string& sql) {
+    {
+      RawDb raw(path);
+      REQUIRE(raw.exec(sql) == SQLITE_OK);
+    }
+    return Database::open(path).check().structure;
+  };
+  CHECK(damage_after("CREATE TRIGGER sneaky AFTER INSERT ON ledger BEGIN UPDATE parts SET qty = 0; END") ==
+        std::vector<std::string>{"trigger sneaky is not shelfstage's"});
+  CHECK(damage_after("DROP TRIGGER sneaky; DROP TRIGGER ledger_no_delete; CREATE TRIGGER ledger_no_delete BEFORE "
+                     "DELETE ON ledger BEGIN SELECT 1; END") ==
+        std::vector<std::string>{"trigger ledger_no_delete is not as shelfstage made it"});
+  CHECK(damage_after("DROP TRIGGER ledger_no_delete; CREATE TRIGGER ledger_no_delete BEFORE DELETE ON ledger\n"
+                     "  BEGIN   SELECT RAISE(ABORT, 'the ledger is append-only');   END -- spelt otherwise\n")
+            .empty());  // the same statement laid out otherwise is not damage
+  CHECK(damage_after("DROP INDEX parts_line") == std::vector<std::string>{"index parts_line is missing"});
+  CHECK(damage_after("CREATE INDEX parts_line ON parts(kind, bin COLLATE NOCASE, value); "
+                     "ALTER TABLE pieces DROP COLUMN note") ==
+        std::vector<std::string>{"table pieces has no column note"});
+  // Without a table the other checks cannot run; check reports what it can and does not throw.
+  const auto gone = damage_after("DROP TABLE build_lines");
+  CHECK(std::find(gone.begin(), gone.end(), "table build_lines is missing") != gone.end());
+  Database db = Database::open(path);
+  CHECK(db.read_only_reason());
+  CHECK_NOTHROW(db.parts());
+}
+
+TEST_CASE("text is checked at the door: bins, notes, names, labels and reasons must be clean UTF-8") {
+  TempDir tmp;
+  Database db = Database::create(tmp.file("s.db"));
+  db.put_devices({njfet()});
+  auto refusal = [](auto&& write) { return message_of<InputError>(write); };
+  Part latin1 = resistor(4700, 3, "Fach \xE4");
+  CHECK(refusal([&] { db.add_part(latin1, "import"); }) == "bin 'Fach \\xE4': byte 6 is not UTF-8 (0xE4)");
+  Part nul = resistor(4700, 3);
+  nul.note = std::string("a\0b", 3);
+  CHECK(refusal([&] { db.add_part(nul, "import"); }).starts_with("note 'a\\x00b': byte 2 is a control character"));
+  CHECK(refusal([&] { db.add_part(resistor(4700, 3), std::string("recount\x1B[2J")); })
+            .starts_with("reason 'recount\\x1B[2J'"));
+  CHECK(refusal([&] { db.put_devices({njfet("SJ-\xFF")}); }).starts_with("device name 'SJ-\\xFF'"));
+  devices::MeasuredPiece piece;
+  piece.label = "J\t4";
+  piece.device = "SJ-101";
+  piece.idss_a = 3e-3;
+  piece.vp_v = -1.5;
+  CHECK(refusal([&] { db.add_piece(piece); }).starts_with("label 'J\\x094'"));
+  CHECK(db.parts().empty());
+  CHECK(db.pieces().empty());
+  // Clean text from every script is welcome.
+  db.add_part(resistor(4700, 3, "Schublade Ä3 · 抽屉"), "Zählung");
+  CHECK(db.parts()[0].bin == "Schublade Ä3 · 抽屉");
+}
+
+TEST_CASE("text a database already holds still lists: reads never refuse old text") {
+  TempDir tmp;
+  const auto path = tmp.file("s.db");
+  Database db = Database::create(path);
+  const auto id = db.add_part(resistor(4700, 3), "import");
+  {
+    RawDb raw(path);
+    REQUIRE(raw.exec("UPDATE parts SET bin = CAST(X'4100E9' AS TEXT) WHERE id = " + std::to_string(id)) ==
+            SQLITE_OK);
+  }
+  const auto parts = db.parts();
+  REQUIRE(parts.size() == 1);
+  CHECK(parts[0].bin == std::string("A\0\xE9", 3));
+  CHECK(db.check().ok());
+}
+
+TEST_CASE("import_parts names every row that cannot be added, with its line, and adds nothing") {
+  TempDir tmp;
+  Database db = Database::create(tmp.file("s.db"));
+  db.put_devices({npn()});
+  // Two rows of the largest count merge into one line: the second overflows it (line 3).
+  const std::vector<Part> rows = {resistor(10e3, INT_MAX), resistor(10e3, INT_MAX), resistor(22e3, 5),
+                                  transistor(PartKind::npn, "GONE-1", 2)};
+  try {
+    db.import_parts(rows, "import", "stock.csv", {2, 3, 4, 7});
+    FAIL("the import went through");
+  } catch (const store::CsvError& e) {
+    CHECK(std::string(e.what()) == "stock.csv: 2 bad rows, nothing imported");
+    REQUIRE(e.problems().size() == 2);
+    CHECK(e.problems()[0].starts_with("stock.csv:3: R 10k 5% 0.25W bin A1: adding 2147483647 would make "
+                                      "4294967294 pieces, more than one line can count (2147483647)"));
+    CHECK(e.problems()[1].starts_with("stock.csv:7: device 'GONE-1' is not in the device list"));
+  }
+  CHECK(db.parts().empty());
+  CHECK(db.ledger().empty());
+  db.import_parts({resistor(10e3, INT_MAX), resistor(22e3, 5)}, "import", "stock.csv", {2, 3});
+  CHECK(db.parts().size() == 2);
+  check_invariant(db);
+}
+
+TEST_CASE("an import's work grows in proportion to its rows, however the rows share bins and values") {
+  // Counted in SQLite's VM steps (not seconds): twice the rows must cost about twice the
+  // steps. Before the index parts_line each row scanned every line of its kind (a quadratic
+  // import: 50,000 rows took minutes).
+  auto steps = [](int n, bool one_bin) {
+    TempDir tmp;
+    Database db = Database::create(tmp.file("s.db"));
+    std::vector<Part> rows;
+    for (int i = 0; i < n; ++i)
+      rows.push_back(one_bin ? resistor(1000.0 + i, 1, "A1") : resistor(1000.0, 1, "B" + std::to_string(i)));
+    const long long before = vm_steps(db);
+    db.add_parts(rows, "import");
+    return static_cast<double>(vm_steps(db) - before);
+  };
+  for (const bool one_bin : {true, false}) {
+    CAPTURE(one_bin);
+    const double small = steps(1000, one_bin);
+    const double large = steps(4000, one_bin);
+    CHECK(large / small < 4.4);  // linear: 4; quadratic: about 16
+  }
+}
+
+TEST_CASE("remove_device: refused while named, unless cascade; the row stays for the history") {
+  TempDir tmp;
+  Database db = Database::create(tmp.file("s.db"));
+  db.put_devices({njfet(), npn()});
+  const auto line = db.add_part(transistor(PartKind::njfet, "SJ-101", 6), "import");
+  const auto other = db.add_part(transistor(PartKind::npn, "SQ-410", 4), "import");
+  devices::MeasuredPiece piece;
+  piece.label = "J4";
+  piece.device = "SJ-101";
+  piece.idss_a = 3e-3;
+  piece.vp_v = -1.5;
+  db.add_piece(piece);
+  auto& impl = db.impl();
+  impl.immediate([&] {
+    for (const char* id : {"s1", "s2"})
+      impl.conn.prepare("INSERT INTO designs (id, created, spec_json, candidate_json) VALUES (?, 'now', '{}', '{}')")
+          .bind(1, id)
+          .run();
+    impl.reserve(std::string("s1"), line, 2);
+    impl.reserve(std::nullopt, line, 1);
+    impl.conn.prepare("INSERT INTO builds (design_id, copies, state, created) VALUES ('s2', 1, 'built', 'now')").run();
+  });
+  const auto users = db.device_users("sj-101");
+  CHECK(users.lines.size() == 1);
+  CHECK(users.pieces == std::vector<std::string>{"J4"});
+  CHECK_THROWS_AS(db.remove_device("SJ-101", {}, false, "gone"), InputError);
+  CHECK_THROWS_AS(db.remove_device("SQ-410", {"s1"}, false, "gone"), InputError);  // a design uses it
+  CHECK(db.device_records().size() == 2);
+
+  const auto r = db.remove_device("sj-101", {"s1", "s2"}, true, "type discontinued");
+  CHECK(r.name == "SJ-101");
+  REQUIRE(r.lines.size() == 1);
+  CHECK(r.lines[0].qty == 6);
+  CHECK(r.pieces == std::vector<std::string>{"J4"});
+  CHECK(r.designs == std::vector<std::string>{"s1"});
+  CHECK(r.designs_built == std::vector<std::string>{"s2"});  // a build records it: kept
+  CHECK_FALSE(db.device("SJ-101"));
+  CHECK(db.device_records().size() == 1);
+  CHECK(db.pieces().empty());
+  CHECK(db.parts().size() == 1);  // the line is off the shelf...
+  CHECK(db.part(line)->removed);
+  CHECK(db.part(line)->qty == 0);
+  CHECK(db.part(line)->reserved == 0);
+  CHECK(db.ledger().back().reason == "type discontinued");  // ...through the ledger
+  CHECK(db.ledger().back().delta == -6);
+  CHECK(db.part(other)->qty == 4);
+  check_invariant(db);
+  // A stock line naming it again is refused; the type added again comes back.
+  CHECK_THROWS_AS(db.add_part(transistor(PartKind::njfet, "SJ-101", 1), "later"), InputError);
+  db.put_devices({njfet()});
+  REQUIRE(db.device("SJ-101"));
+  db.add_part(transistor(PartKind::njfet, "SJ-101", 1), "later");
+  check_invariant(db);
+}
+
+TEST_CASE("a database on a read-only file system opens for reading; writes and creation say why not") {
+  // A tmpfs remounted read-only in a mount namespace of a child process (Linux
+  // mount_namespaces(7)); needs the privilege to mount, which root has (as in CI).
+  TempDir tmp;
+  std::filesystem::create_directories(tmp.file("ro"));
+  const pid_t child = ::fork();
+  REQUIRE(child >= 0);
+  if (child == 0) {
+    const auto dir = tmp.file("ro");
+    if (::unshare(CLONE_NEWNS) != 0 || ::mount(nullptr, "/", nullptr, MS_REC | MS_PRIVATE, nullptr) != 0 ||
+        ::mount("tmpfs", dir.c_str(), "tmpfs", 0, "size=8m") != 0)
+      ::_exit(77);
+    int code = 0;
+    try {
+      {
+        Database db = Database::create(dir / "s.db");
+        db.add_part(resistor(4700, 3), "import");
+      }
+      if (::mount(nullptr, dir.c_str(), nullptr, MS_REMOUNT | MS_RDONLY, nullptr) != 0) ::_exit(77);
+      Database db = Database::open(dir / "s.db");
+      if (db.parts().size() != 1 || db.parts()[0].qty != 3) code = 1;
+      const std::string refused = write_refusal([&] { db.add_part(resistor(4700, 1), "more"); });
+      if (refused.find("s.db: cannot change the stock: it is on a read-only file system") == std::string::npos)
+        code = 2;
+      try {
+        Database::create(dir / "t.db");
+        code = 3;
+      } catch (const InputError& e) {
+        if (std::string(e.what()).find("read-only file system") == std::string::npos) code = 4;
+      }
+    } catch (...) {
+      code = 5;
+    }
+    ::_exit(code);
+  }
+  int status = 0;
+  REQUIRE(::waitpid(child, &status, 0) == child);
+  REQUIRE(WIFEXITED(status));
+  if (WEXITSTATUS(status) == 77) {
+    MESSAGE("no mount namespace here (not root?): the read-only file system case is not exercised");
+    return;
+  }
+  CHECK(WEXITSTATUS(status) == 0);
 }

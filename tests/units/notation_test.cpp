@@ -13,6 +13,7 @@ using shelfstage::ExitCode;
 using shelfstage::InputError;
 using shelfstage::units::format_code;
 using shelfstage::units::format_value;
+using shelfstage::units::parse_capacitance;
 using shelfstage::units::parse_value;
 using shelfstage::units::ParseError;
 using shelfstage::units::try_parse_value;
@@ -360,4 +361,26 @@ TEST_CASE("unit_symbol") {
   CHECK(unit_symbol(Unit::farad) == "F");
   CHECK(unit_symbol(Unit::hertz) == "Hz");
   CHECK(unit_symbol(Unit::none).empty());
+}
+
+TEST_CASE("a capacitance states its scale: a multiplier, an exponent or the unit; a bare number is refused") {
+  // The rule is ours (a bare "1" on a bag of capacitors means 1 uF far more often than 1 F):
+  // every way of writing the scale is accepted, and only a bare number is refused.
+  CHECK(parse_capacitance("100n") == 100e-9);
+  CHECK(parse_capacitance("4u7") == 4.7e-6);
+  CHECK(parse_capacitance("2.2 uF") == 2.2e-6);
+  CHECK(parse_capacitance("1e-6") == 1e-6);
+  CHECK(parse_capacitance("1F") == 1.0);
+  CHECK(parse_capacitance("0.0047F") == 0.0047);
+  for (const char* bare : {"1", "4.7", " 1 ", "0.0047", "+1", "100"}) {
+    CAPTURE(bare);
+    CHECK_THROWS_AS(parse_capacitance(bare), ParseError);
+  }
+  try {
+    parse_capacitance("1");
+  } catch (const ParseError& e) {
+    CHECK(std::string(e.what()).starts_with("value '1': a capacitance needs its multiplier or unit"));
+  }
+  // Whatever parse_value refuses stays refused, with its own message.
+  CHECK_THROWS_WITH_AS(parse_capacitance("4R7"), doctest::Contains("value '4R7'"), ParseError);
 }

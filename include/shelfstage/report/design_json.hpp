@@ -28,6 +28,10 @@ Json candidate_json(const synth::Candidate& c);
 synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devices,
                                      const std::vector<devices::MeasuredPiece>& pieces);
 
+/// The names of the device types a candidate document (candidate_json's output) uses: its
+/// device, and each stage's in a chain; nothing for a document without them.
+std::vector<std::string> candidate_devices(const nlohmann::json& j);
+
 /// The whole `design --json` document: {"schema":1,"spec":{...},"candidates":[...]} and,
 /// when nothing fits, "diagnosis".
 Json design_json(const synth::DesignResult& r);

@@ -69,7 +69,7 @@ struct BuildRecord {
   std::string created;  ///< ISO 8601 UTC
   std::optional<std::string> undone;  ///< ISO 8601 UTC when undone
   std::vector<BuildLine> lines;
-  int pieces() const;   ///< pieces taken, all lines
+  std::int64_t pieces() const;  ///< pieces taken, all lines (64 bits: each line may hold up to INT_MAX)
 };
 
 /// One reservation row.

@@ -2,6 +2,7 @@
 #pragma once
 #include <cstdint>
 #include <filesystem>
+#include <functional>
 #include <memory>
 #include <optional>
 #include <string>
@@ -15,15 +16,34 @@ namespace shelfstage::store {
 
 /// The schema version this build writes. Older files are migrated forward on open; newer
 /// files are refused with a DatabaseError.
-inline constexpr int kSchemaVersion = 2;
+inline constexpr int kSchemaVersion = 3;
 
 /// What `check` found. ok() when every list is empty.
 struct CheckReport {
   std::vector<std::string> integrity;      ///< PRAGMA integrity_check lines other than "ok"
+  std::vector<std::string> structure;      ///< tables, indexes, triggers missing or not shelfstage's
   std::vector<std::string> foreign_keys;   ///< PRAGMA foreign_key_check rows
   std::vector<std::string> ledger;         ///< parts whose qty differs from their ledger sum
   std::vector<std::string> other;          ///< reserved > qty, negative counts, ...
-  bool ok() const { return integrity.empty() && foreign_keys.empty() && ledger.empty() && other.empty(); }
+  bool ok() const {
+    return integrity.empty() && structure.empty() && foreign_keys.empty() && ledger.empty() && other.empty();
+  }
+};
+
+/// What still names a device type (Database::device_users).
+struct DeviceUsers {
+  std::vector<Part> lines;          ///< stock lines on the shelf
+  std::vector<std::string> pieces;  ///< labels of its measured pieces
+  bool empty() const { return lines.empty() && pieces.empty(); }
+};
+
+/// What Database::remove_device did.
+struct RemovedDevice {
+  std::string name;                         ///< as the device list spelled it
+  std::vector<Part> lines;                  ///< stock lines written off and removed (as they were)
+  std::vector<std::string> pieces;          ///< measured pieces deleted
+  std::vector<std::string> designs;         ///< kept designs forgotten
+  std::vector<std::string> designs_built;   ///< kept designs left alone: builds record them
 };
 
 /// Filter for the ledger listing.
@@ -38,11 +58,18 @@ struct LedgerFilter {
 /// transaction, so a failure or a crash leaves the old state.
 class Database {
  public:
-  /// Creates a new, empty database at path. Refuses (InputError) when the file exists.
+  /// Creates a new, empty database at path. Refuses (InputError) when the file exists, or
+  /// when the path cannot be written (a read-only file system, no permission), saying which.
   static Database create(const std::filesystem::path& path);
   /// Opens an existing database, migrating an older schema forward. Missing file:
-  /// InputError naming the path and suggesting `shelfstage init`. Newer schema, corrupt or
-  /// locked: DatabaseError.
+  /// InputError naming the path and suggesting `shelfstage init`; a path that is not a
+  /// regular file (a folder, device, fifo): InputError. Newer schema, corrupt or locked:
+  /// DatabaseError.
+  ///
+  /// The schema is verified on opening (its tables, indexes and triggers against the ones
+  /// the migrations make, and user_version). A damaged file opens read-only: reads work,
+  /// and every write throws DatabaseError naming the damage and suggesting `shelfstage check`.
+  /// A file on a read-only file system, or one the user may not write, opens read-only too.
   static Database open(const std::filesystem::path& path);
 
   Database(Database&&) noexcept;
@@ -51,6 +78,11 @@ class Database {
 
   int schema_version() const;
   const std::filesystem::path& path() const;
+  /// Why writes are refused (damage, a read-only file system), or nullopt when they are not.
+  std::optional<std::string> read_only_reason() const;
+  /// Calls observer after every change this connection commits (not the migrations that
+  /// open() may run). The CLI uses it to know that a command has changed the stock.
+  void on_commit(std::function<void()> observer);
 
   // --- parts -------------------------------------------------------------------------
   /// All stock lines on the shelf (not removed ones), ordered by kind (R, C, NJFET, PJFET,
@@ -68,6 +100,11 @@ class Database {
   std::int64_t add_part(const Part& part, std::string_view reason);
   /// Adds many lines in one transaction (CSV import): all or nothing.
   void add_parts(const std::vector<Part>& parts, std::string_view reason);
+  /// As add_parts for the rows of a file: every row that cannot be added (the pieces would
+  /// make a line's count overflow, its device is gone) is named "SOURCE:LINE: ..." with
+  /// lines[i] the line of parts[i], and all of them are thrown in one CsvError; nothing is added.
+  void import_parts(const std::vector<Part>& parts, std::string_view reason, std::string_view source,
+                    const std::vector<std::size_t>& lines);
   /// Changes the quantity on hand by delta (a recount, a loss). Refuses to go below the
   /// reserved count or below zero, and refuses unknown or removed lines (InputError).
   /// Writes a ledger entry (none for delta 0).
@@ -77,10 +114,25 @@ class Database {
   void remove_part(std::int64_t part_id, std::string_view reason);
 
   // --- devices and measured pieces ---------------------------------------------------
+  /// The device list (types taken off it with remove_device are not in it).
   std::vector<devices::DeviceRecord> device_records() const;
   std::optional<devices::DeviceRecord> device(std::string_view name) const;
-  /// Adds or replaces (by name) in one transaction. Validates ranges (InputError).
+  /// Adds or replaces (by name) in one transaction; a removed type of that name comes back
+  /// with the new figures. Validates ranges and text (InputError).
   void put_devices(const std::vector<devices::DeviceRecord>& records);
+  /// The stock lines on the shelf and the measured pieces that name a device type.
+  /// InputError when the type is not in the device list.
+  DeviceUsers device_users(std::string_view name) const;
+  /// Takes a device type off the device list. Its row stays, marked removed, because stock
+  /// lines taken off the shelf and the ledger name it (a type added again later comes back).
+  /// Without cascade it is refused (InputError naming them) while stock lines on the shelf,
+  /// measured pieces, or the kept designs named in `designs` (those that use it; the store
+  /// does not look inside a design) refer to it. With cascade, in the same transaction:
+  /// reservations on its lines are released, each line is written off through the ledger with
+  /// `reason` and removed, its pieces are deleted, and the designs are forgotten except those
+  /// a build records (history, like the ledger).
+  RemovedDevice remove_device(std::string_view name, const std::vector<std::string>& designs, bool cascade,
+                              std::string_view reason);
   std::vector<devices::MeasuredPiece> pieces() const;
   std::optional<devices::MeasuredPiece> piece(std::string_view label) const;
   /// Stores a measured piece; the device must exist; labels are unique.

@@ -23,6 +23,9 @@ struct SavedDesign {
 /// parts and copies) keeps its creation time and gets the new texts.
 void save_designs(Database& db, const std::vector<SavedDesign>& designs);
 
+/// Every kept design, in order of id.
+std::vector<SavedDesign> all_designs(const Database& db);
+
 /// A design by id. An unambiguous prefix of at least four characters is accepted too.
 /// Unknown or ambiguous: InputError naming the id.
 SavedDesign load_design(const Database& db, std::string_view id);

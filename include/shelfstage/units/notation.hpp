@@ -36,6 +36,12 @@ class ParseError : public InputError {
 /// counts columns from 1, in characters; ParseError::column() is the same place from 0).
 double parse_value(std::string_view text, Unit expect = Unit::none);
 
+/// A capacitance as a stock value: parse_value(text, Unit::farad), but the text must state
+/// its scale with a multiplier (100n, 4u7, 2.2 µF), an exponent (1e-6) or the unit (1F,
+/// 0.47F). A bare number ("1", "4.7", "0.0047") is refused: on a bag or in a list it is far
+/// more often microfarads with the unit left out than farads. Throws ParseError.
+double parse_capacitance(std::string_view text);
+
 /// As parse_value, but returns false instead of throwing.
 bool try_parse_value(std::string_view text, double& out, Unit expect = Unit::none) noexcept;
 

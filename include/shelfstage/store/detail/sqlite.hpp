@@ -31,6 +31,9 @@
 
 #include <cstdint>
 #include <filesystem>
+#include <functional>
+#include <map>
+#include <memory>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -146,9 +149,36 @@ inline std::optional<std::string> Statement::get<std::optional<std::string>>(int
 /// One open connection. Move-only; closed on destruction. label() names the file in errors.
 class Connection {
  public:
+  /// A statement from the connection's cache, reset (bindings cleared) when the lease ends.
+  /// When its statement is already leased, a lease owns a fresh statement instead, so leases
+  /// of one SQL text may nest safely.
+  class Lease {
+   public:
+    Lease(Statement& st, bool* busy) : st_(&st), busy_(busy) {}
+    explicit Lease(Statement owned) : owned_(std::make_unique<Statement>(std::move(owned))), st_(owned_.get()) {}
+    Lease(const Lease&) = delete;
+    Lease& operator=(const Lease&) = delete;
+    ~Lease() {
+      if (busy_ != nullptr) {
+        sqlite3_reset(st_->handle());
+        sqlite3_clear_bindings(st_->handle());
+        *busy_ = false;
+      }
+    }
+    Statement* operator->() const { return st_; }
+    Statement& operator*() const { return *st_; }
+
+   private:
+    std::unique_ptr<Statement> owned_;
+    Statement* st_ = nullptr;
+    bool* busy_ = nullptr;
+  };
+
   Connection() = default;
-  /// sqlite3_open_v2 with flags (SQLITE_OPEN_READWRITE, | SQLITE_OPEN_CREATE, ...).
-  Connection(const std::filesystem::path& path, int flags);
+  /// sqlite3_open_v2 with flags (SQLITE_OPEN_READWRITE, | SQLITE_OPEN_CREATE, ...). With
+  /// immutable, the file is opened read-only as a URI with immutable=1 (no locks, no journal
+  /// files: for a file on a read-only file system with no write-ahead log left over).
+  Connection(const std::filesystem::path& path, int flags, bool immutable = false);
   Connection(Connection&& other) noexcept;
   Connection& operator=(Connection&& other) noexcept;
   Connection(const Connection&) = delete;
@@ -156,6 +186,9 @@ class Connection {
   ~Connection();
 
   Statement prepare(std::string_view sql) const { return Statement(db_, sql, label_); }
+  /// The statement for sql, prepared once per connection and kept (an import runs the same
+  /// few statements for every row); see Lease.
+  Lease cached(std::string_view sql) const;
   /// Runs SQL text that may hold several statements and returns no rows (schema scripts).
   void exec(const std::string& sql) const;
   std::int64_t last_insert_rowid() const { return sqlite3_last_insert_rowid(db_); }
@@ -169,8 +202,14 @@ class Connection {
   const std::string& label() const { return label_; }
 
  private:
+  struct Kept {
+    std::unique_ptr<Statement> statement;
+    bool busy = false;
+  };
+  void close() noexcept;
   sqlite3* db_ = nullptr;
   std::string label_;
+  mutable std::map<std::string, Kept, std::less<>> cache_;
 };
 
 /// Guard for one transaction: BEGIN IMMEDIATE (takes the write lock at once, waiting up to
@@ -194,6 +233,11 @@ class Transaction {
 /// Now as ISO 8601 UTC with seconds: "2026-12-01T21:53:00Z".
 std::string utc_now();
 
+/// Why the file at path (or, when it does not exist, its folder) cannot be written, for
+/// people: "it is on a read-only file system", "you may not write its folder ..."; empty when
+/// access(2) finds nothing in the way.
+std::string write_obstacle(const std::filesystem::path& path);
+
 }  // namespace shelfstage::store::detail
 
 namespace shelfstage::store {
@@ -204,18 +248,24 @@ struct Database::Impl {
   detail::Connection conn;
   std::filesystem::path path;
   int version = 0;  ///< schema version after migration (== kSchemaVersion once open)
+  std::string read_only;             ///< not empty: why every write is refused (DatabaseError)
+  std::function<void()> on_commit;  ///< called after each outermost write commits
 
   /// Runs body in one BEGIN IMMEDIATE transaction and returns what it returns; an exception
-  /// rolls everything back and propagates.
+  /// rolls everything back and propagates. Refused (DatabaseError) on a read-only database.
   template <class F>
   decltype(auto) immediate(F&& body) {
+    if (!read_only.empty()) throw DatabaseError(read_only);
+    const bool outermost = !conn.in_transaction();
     detail::Transaction tx(conn, detail::Transaction::Mode::immediate);
     if constexpr (std::is_void_v<std::invoke_result_t<F&>>) {
       body();
       tx.commit();
+      if (outermost && on_commit) on_commit();
     } else {
       auto result = body();
       tx.commit();
+      if (outermost && on_commit) on_commit();
       return result;
     }
   }
