@@ -31,6 +31,8 @@ struct DevicesAddOptions {
   std::optional<std::string> idss, vp, idss_typ, vp_typ, lambda, cgs, cgd, tc_idss, tc_vp;
   // BJT
   std::optional<std::string> hfe, hfe_typ, is, vaf, cje, cjc, vce_sat;
+  // Maximum ratings (both families)
+  std::optional<std::string> v_max, v_rev_max, p_max, p_derate;
   std::string note;
   bool replace = false;
 };
@@ -87,6 +89,20 @@ DeviceRecord record_from_options(const DevicesAddOptions& o) {
     if (o.cjc) b.cjc_f = parse_quantity("--cjc", *o.cjc, Unit::farad);
     if (o.vce_sat) b.vce_sat_v = parse_quantity("--vce-sat", *o.vce_sat, Unit::volt);
   }
+  // Ratings are magnitudes: a datasheet's -25 V for a P type is 25 V.
+  auto rating = [](const char* flag, const std::optional<std::string>& text, Unit unit) -> std::optional<double> {
+    if (!text) return std::nullopt;
+    const double v = std::abs(parse_quantity(flag, *text, unit));
+    if (!(v > 0)) throw InputError(fmt::format("{} '{}' must be above 0", flag, units::clip(*text)));
+    return v;
+  };
+  d.ratings.v_max_v = rating("--v-max", o.v_max, Unit::volt);
+  d.ratings.v_rev_max_v = rating("--v-rev-max", o.v_rev_max, Unit::volt);
+  d.ratings.p_max_w = rating("--p-max", o.p_max, Unit::watt);
+  if (o.p_derate) {
+    if (!o.p_max) throw InputError(fmt::format("--p-derate '{}' needs --p-max", units::clip(*o.p_derate)));
+    d.ratings.derate_w_per_k = std::abs(parse_quantity("--p-derate", *o.p_derate, Unit::none));
+  }
   return d;
 }
 
@@ -136,13 +152,24 @@ void setup_devices_add(CLI::App& devices_cmd, Context& ctx) {
   cmd->add_option("--cjc", o->cjc, "Base-collector capacitance: 3p")->type_name("F")->group(bjt);
   cmd->add_option("--vce-sat", o->vce_sat, "Saturation edge VCE(sat) used for swing, volts (default 0.2)")->type_name("V")
       ->group(bjt);
+  const char* ratings = "Maximum ratings (datasheet absolute maxima; optional, but a type without them is not checked)";
+  cmd->add_option("--v-max", o->v_max, "Drain-source VDS(max) or collector-emitter VCEO, volts: 25")->type_name("V")
+      ->group(ratings);
+  cmd->add_option("--v-rev-max", o->v_rev_max, "Gate-source reverse voltage, or emitter-base VEBO, volts: 25 or 6")
+      ->type_name("V")
+      ->group(ratings);
+  cmd->add_option("--p-max", o->p_max, "Total dissipation at 25 °C ambient: 350m")->type_name("W")->group(ratings);
+  cmd->add_option("--p-derate", o->p_derate,
+                  "Dissipation derating above 25 °C, watts per kelvin: 2.8m (default: to zero at 150 °C)")
+      ->type_name("W/K")
+      ->group(ratings);
   cmd->add_option("--note", o->note, "Free text kept with the type")->type_name("TEXT")->check(clean_text());
   cmd->add_flag("--replace", o->replace, "Overwrite the figures of a type already in the list");
   cmd->footer(
       "Give the datasheet's guaranteed range: designs are checked over the whole spread.\n"
       "Values take SI or IEC 60062 notation (1m, 4p5, 2u2).\n"
       "  shelfstage devices add SJ-101 --kind NJFET --idss 1m..5m --vp -0.5..-3 --lambda 0.005\n"
-      "  shelfstage devices add SQ-410 --kind NPN --hfe 110..450 --vaf 80 --cje 6p --cjc 3p");
+      "  shelfstage devices add SQ-410 --kind NPN --hfe 110..450 --vaf 80 --cje 6p --cjc 3p --v-max 40 --p-max 500m");
   cmd->callback([o, &ctx] { run_devices_add(*o, ctx); });
 }
 

@@ -70,6 +70,25 @@ std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
   t.add_row({"-3 dB low", range_text(w.f_low, hertz)});
   t.add_row({"-3 dB high", range_text(w.f_high, hertz)});
   t.add_row({"supply current", range_text(w.supply_current, amps)});
+  if (!w.device_v.empty) {
+    // The transistor's stress beside its ratings (80 % of a voltage, half the derated dissipation).
+    const auto& r = c.device.ratings;
+    const bool jfet = devices::is_jfet(c.device.kind);
+    auto of = [](const std::optional<double>& rating, const std::string& allowed) {
+      return rating ? fmt::format(" (allowed {})", allowed) : std::string(" (rating not stated)");
+    };
+    t.add_row({fmt::format("Q1 {} (the rail when cut off){}", jfet ? "VDS" : "VCE",
+                           of(r.v_max_v, r.v_max_v ? volts(synth::kDeviceVoltageShare * *r.v_max_v) : "")),
+               range_text(w.device_v, volts)});
+    t.add_row({fmt::format("Q1 {} reverse{}", jfet ? "gate-source" : "emitter-base",
+                           of(r.v_rev_max_v, r.v_rev_max_v ? volts(synth::kDeviceVoltageShare * *r.v_rev_max_v) : "")),
+               range_text(w.device_rev, volts)});
+    t.add_row({fmt::format("Q1 dissipation{}",
+                           of(r.p_max_w,
+                              r.p_max_w ? units::format_value(synth::kDevicePowerShare * w.device_p_allowed.min, Unit::watt)
+                                        : "")),
+               range_text(w.device_p, [](double v) { return units::format_value(v, Unit::watt); })});
+  }
   if (spec.band_hz) {
     t.add_row({fmt::format("loss at {}", format_value(spec.band_hz->first, Unit::hertz)),
                range_text(w.loss_lo_db, [](double d) { return fmt::format("{:.2f} dB", d); })});

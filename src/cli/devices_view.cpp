@@ -57,6 +57,14 @@ std::string range_text(const devices::Range& range, Unit unit) {
   return quantity_text(range.min, unit) + ".." + quantity_text(range.max, unit);
 }
 
+/// "25V/25V/350mW": the maximum ratings stated (VDS or VCEO, reverse, dissipation), or
+/// "not stated".
+std::string ratings_text(const devices::Ratings& r) {
+  if (!r.any()) return "not stated";
+  auto v = [](const std::optional<double>& x, Unit u) { return x ? units::format_value(*x, u) : std::string("?"); };
+  return fmt::format("{}/{}/{}", v(r.v_max_v, Unit::volt), v(r.v_rev_max_v, Unit::volt), v(r.p_max_w, Unit::watt));
+}
+
 std::string devices_table(const std::vector<DeviceRecord>& records, const std::vector<MeasuredPiece>& pieces) {
   if (records.empty()) {
     return "No transistor types yet. Add them with `shelfstage devices add` or "
@@ -64,9 +72,10 @@ std::string devices_table(const std::vector<DeviceRecord>& records, const std::v
   }
   TextTable jfets({{"NAME"}, {"TYPE"}, {"IDSS", Align::right}, {"TYP", Align::right}, {"VP", Align::right},
                    {"TYP", Align::right}, {"LAMBDA", Align::right}, {"CGS", Align::right},
-                   {"CGD", Align::right}, {"NOTE"}});
+                   {"CGD", Align::right}, {"VDS/VGS/P MAX", Align::right}, {"NOTE"}});
   TextTable bjts({{"NAME"}, {"TYPE"}, {"HFE", Align::right}, {"TYP", Align::right}, {"IS", Align::right},
-                  {"VAF", Align::right}, {"CJE", Align::right}, {"CJC", Align::right}, {"NOTE"}});
+                  {"VAF", Align::right}, {"CJE", Align::right}, {"CJC", Align::right},
+                  {"VCEO/VEBO/P MAX", Align::right}, {"NOTE"}});
   for (const auto& d : records) {
     const std::string kind(devices::kind_name(d.kind));
     if (devices::is_jfet(d.kind)) {
@@ -74,12 +83,13 @@ std::string devices_table(const std::vector<DeviceRecord>& records, const std::v
       jfets.add_row({d.name, kind, range_text(j.idss_a, Unit::ampere), detail::typ_text(j.idss_a, Unit::ampere),
                      range_text(j.vp_v, Unit::volt), detail::typ_text(j.vp_v, Unit::volt),
                      fmt::format("{:g}/V", j.lambda_per_v), detail::capacitance_text(j.cgs_f),
-                     detail::capacitance_text(j.cgd_f), d.note});
+                     detail::capacitance_text(j.cgd_f), ratings_text(d.ratings), d.note});
     } else {
       const auto& b = d.bjt;
       bjts.add_row({d.name, kind, detail::hfe_range_text(b.hfe), b.hfe.typ ? detail::plain(*b.hfe.typ) : "",
                     units::format_value(b.is_a, Unit::ampere), quantity_text(b.vaf_v, Unit::volt),
-                    detail::capacitance_text(b.cje_f), detail::capacitance_text(b.cjc_f), d.note});
+                    detail::capacitance_text(b.cje_f), detail::capacitance_text(b.cjc_f), ratings_text(d.ratings),
+                    d.note});
     }
   }
   std::string out;
@@ -131,6 +141,12 @@ nlohmann::ordered_json device_json(const DeviceRecord& d) {
     j["vce_sat"] = p.vce_sat_v;
   }
   j["note"] = d.note;
+  // Maximum ratings, magnitudes (null: not stated): VDS or VCEO, gate-source reverse or VEBO,
+  // dissipation at 25 °C and its derating in W/K.
+  j["v_max"] = detail::or_null(d.ratings.v_max_v);
+  j["v_rev_max"] = detail::or_null(d.ratings.v_rev_max_v);
+  j["p_max"] = detail::or_null(d.ratings.p_max_w);
+  j["p_derate"] = detail::or_null(d.ratings.derate_w_per_k);
   return j;
 }
 

@@ -1,4 +1,5 @@
 // Names of the transistor kinds, as the stock and device CSV files write them.
+#include <algorithm>
 #include "shelfstage/devices/record.hpp"
 
 #include <array>
@@ -45,6 +46,12 @@ bool parse_kind(std::string_view text, DeviceKind& out) {
     }
   }
   return false;
+}
+
+double Ratings::p_max_at(double celsius) const {
+  if (!p_max_w) return 0.0;
+  const double slope = derate_w_per_k ? *derate_w_per_k : *p_max_w / 125.0;
+  return std::max(0.0, *p_max_w - slope * std::max(0.0, celsius - 25.0));
 }
 
 }  // namespace shelfstage::devices

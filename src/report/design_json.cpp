@@ -223,6 +223,24 @@ Json candidate_json(const synth::Candidate& c) {
                 {"f_high", range(w.f_high)},
                 {"supply_current", range(w.supply_current)},
                 {"evaluations", w.evaluations}};
+  if (!c.is_chain()) {
+    // The transistor's stress over the worst case beside its ratings (null: not stated);
+    // the shares the check allows are voltage_share and power_share.
+    const auto& r = c.device.ratings;
+    auto opt = [](const std::optional<double>& v) { return v ? Json(*v) : Json(nullptr); };
+    j["transistor"] = {{"designator", "Q1"},
+                       {"v_main", range(w.device_v)},
+                       {"v_max", opt(r.v_max_v)},
+                       {"v_reverse", range(w.device_rev)},
+                       {"v_rev_max", opt(r.v_rev_max_v)},
+                       {"power", range(w.device_p)},
+                       {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr)
+                                                                                  : Json(w.device_p_allowed.min)},
+                       {"p_max", opt(r.p_max_w)},
+                       {"voltage_share", synth::kDeviceVoltageShare},
+                       {"power_share", synth::kDevicePowerShare},
+                       {"rated", r.any()}};
+  }
   j["yield"] = c.yield ? Json(*c.yield) : Json(nullptr);
   j["pieces"] = c.pieces;
   j["error_nominal"] = c.error_nominal;

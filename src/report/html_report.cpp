@@ -525,15 +525,43 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
     rows.push_back({p.designator, p.name, value, recipe, p.info.tol, p.info.dielectric, stress, rating, use, plus, check});
     cls.push_back(k);
   }
-  rows.push_back({transistor_designator(c), "device", c.device.name + (c.piece ? " (" + c.piece->label + ")" : ""), kind_text(c.device.kind),
-                  "", "", fmt::format("{} at {}", amps(a.best().bias_current_a), volts(std::abs(a.best().v_out - a.best().v_common))),
-                  "", "", "", "\u2014"});
-  cls.emplace_back();
+  {
+    // The transistor: its worst-case stress (the rail it may hold whole, the reverse voltage on
+    // its control junction, its dissipation) beside its ratings, as the search checked them.
+    const auto& w = c.worst;
+    const auto& rt = c.device.ratings;
+    const bool jfet = devices::is_jfet(c.device.kind);
+    std::string stress = fmt::format("{} at {}", amps(a.best().bias_current_a),
+                                     volts(std::abs(a.best().v_out - a.best().v_common)));
+    if (!w.device_v.empty)
+      stress += fmt::format("; up to {}, {} reverse, {}", volts(w.device_v.max), volts(w.device_rev.max),
+                            watts(w.device_p.max));
+    auto opt = [](const std::optional<double>& v, std::string (*f)(double)) { return v ? f(*v) : std::string("?"); };
+    const std::string rating =
+        rt.any() ? fmt::format("{} {}, {} {}, {} at 25 °C", jfet ? "VDS" : "VCEO", opt(rt.v_max_v, volts),
+                               jfet ? "VGS" : "VEBO", opt(rt.v_rev_max_v, volts), opt(rt.p_max_w, watts))
+                 : "not stated";
+    std::string use = "\u2014";
+    if (!w.device_v.empty && (rt.v_max_v || rt.p_max_w)) {
+      double share = 0;
+      if (rt.v_max_v) share = std::max(share, w.device_v.max / (synth::kDeviceVoltageShare * *rt.v_max_v));
+      if (rt.v_rev_max_v) share = std::max(share, w.device_rev.max / (synth::kDeviceVoltageShare * *rt.v_rev_max_v));
+      if (rt.p_max_w && w.device_p_allowed.min > 0)
+        share = std::max(share, w.device_p.max / (synth::kDevicePowerShare * w.device_p_allowed.min));
+      use = fmt::format("{:.0f} %", share * 100);
+    }
+    rows.push_back({transistor_designator(c), "device", c.device.name + (c.piece ? " (" + c.piece->label + ")" : ""),
+                    kind_text(c.device.kind), "", "", stress, rating, use, "",
+                    rt.any() ? "ok" : "check the ratings"});
+    cls.emplace_back(rt.any() ? "" : "note");
+  }
   return "<section id=\"parts\"><h2>Parts and ratings</h2>" +
          table({"part", "role", "value", "recipe", "tol", "dielectric", "stress", "rating", "#use", "polarity", "check"},
                rows, cls) +
          "<p class=\"muted\">Use: resistors against half their power rating, capacitors against their voltage rating "
-         "less a quarter of margin (common practice). Stress from the exact operating point; a capacitor also takes "
+         "less a quarter of margin, the transistor's voltages against 80 % of its maximum ratings and its dissipation "
+         "against half its rating derated to the warmest ambient (common practice); its voltage is the whole rail, "
+         "which it holds when cut off. Stress from the exact operating point; a capacitor also takes "
          "the output's signal peak.</p></section>";
 }
 

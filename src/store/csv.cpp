@@ -613,6 +613,8 @@ namespace {
 constexpr std::string_view kJfetColumns[] = {"idss_min", "idss_max", "idss_typ", "vp_min", "vp_max", "vp_typ",
                                              "lambda",   "cgs",      "cgd",      "tc_idss", "tc_vp"};
 constexpr std::string_view kBjtColumns[] = {"hfe_min", "hfe_max", "hfe_typ", "is", "vaf", "cje", "cjc", "vce_sat"};
+/// Maximum ratings, for both families (optional: a type without them is designed with a caution).
+constexpr std::string_view kRatingColumns[] = {"v_max", "v_rev_max", "p_max", "p_derate"};
 
 }  // namespace
 
@@ -620,6 +622,7 @@ std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std:
   std::vector<std::string_view> known = {"name", "kind"};
   known.insert(known.end(), std::begin(kJfetColumns), std::end(kJfetColumns));
   known.insert(known.end(), std::begin(kBjtColumns), std::end(kBjtColumns));
+  known.insert(known.end(), std::begin(kRatingColumns), std::end(kRatingColumns));
   known.push_back("note");
   const Sheet sheet(text, source, known, {"name", "kind"});
   Problems problems(source);
@@ -700,6 +703,15 @@ std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std:
       figure("vce_sat", Unit::volt, false, b.vce_sat_v);
       if (b.hfe.min > b.hfe.max) std::swap(b.hfe.min, b.hfe.max);
     }
+    // Ratings are magnitudes: a datasheet's -25 V for a P type is 25 V here.
+    auto rating = [&](std::string_view col, Unit unit, std::optional<double>& into) {
+      typical(col, unit, into);
+      if (into) into = std::abs(*into);
+    };
+    rating("v_max", Unit::volt, d.ratings.v_max_v);
+    rating("v_rev_max", Unit::volt, d.ratings.v_rev_max_v);
+    rating("p_max", Unit::watt, d.ratings.p_max_w);
+    rating("p_derate", Unit::none, d.ratings.derate_w_per_k);
     if (bad) continue;
     const auto issues = device_problems(d);
     for (const auto& issue : issues) problems.add(line, issue);
@@ -714,6 +726,7 @@ std::string write_devices_csv(const std::vector<devices::DeviceRecord>& records)
   header.insert(header.end(), std::begin(kJfetColumns), std::end(kJfetColumns));
   header.insert(header.end(), std::begin(kBjtColumns), std::end(kBjtColumns));
   header.emplace_back("note");
+  header.insert(header.end(), std::begin(kRatingColumns), std::end(kRatingColumns));
   std::string out = join_row(header);
   auto opt = [](const std::optional<double>& v) { return v ? exact(*v) : std::string(); };
   for (const auto& d : records) {
@@ -733,6 +746,8 @@ std::string write_devices_csv(const std::vector<devices::DeviceRecord>& records)
         f.push_back(s);
     }
     f.push_back(d.note);
+    for (const auto& v : {d.ratings.v_max_v, d.ratings.v_rev_max_v, d.ratings.p_max_w, d.ratings.derate_w_per_k})
+      f.push_back(opt(v));
     out += join_row(f);
   }
   return out;

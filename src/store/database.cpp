@@ -53,8 +53,8 @@ struct Migration {
   int version;
   std::string_view sql;
 };
-constexpr std::array<Migration, 3> kMigrations{
-    {{1, detail::kSchemaV1}, {2, detail::kSchemaV2}, {3, detail::kSchemaV3}}};
+constexpr std::array<Migration, 4> kMigrations{
+    {{1, detail::kSchemaV1}, {2, detail::kSchemaV2}, {3, detail::kSchemaV3}, {4, detail::kSchemaV4}}};
 static_assert(kMigrations.back().version == kSchemaVersion, "one migration per schema version");
 
 constexpr const char* kPartColumns =
@@ -63,7 +63,7 @@ constexpr const char* kPartColumns =
 
 constexpr const char* kDeviceColumns =
     "name, kind, idss_min, idss_max, idss_typ, vp_min, vp_max, vp_typ, lambda, cgs, cgd, tc_idss, tc_vp, "
-    "hfe_min, hfe_max, hfe_typ, is_a, vaf, cje, cjc, vce_sat, note";
+    "hfe_min, hfe_max, hfe_typ, is_a, vaf, cje, cjc, vce_sat, note, v_max, v_rev_max, p_max, p_derate";
 
 constexpr const char* kPieceColumns = "label, device, idss, vp, hfe, uncertainty, note";
 
@@ -136,6 +136,10 @@ devices::DeviceRecord read_device(const Statement& st) {
     b.vce_sat_v = st.opt_real(20).value_or(b.vce_sat_v);
   }
   d.note = st.text(21);
+  d.ratings.v_max_v = st.opt_real(22);
+  d.ratings.v_rev_max_v = st.opt_real(23);
+  d.ratings.p_max_w = st.opt_real(24);
+  d.ratings.derate_w_per_k = st.opt_real(25);
   return d;
 }
 
@@ -689,20 +693,23 @@ void Database::put_devices(const std::vector<devices::DeviceRecord>& records) {
       const auto& bp = d.bjt;
       conn.prepare(fmt::format(
                        "INSERT INTO devices ({}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, "
-                       "?, ?) ON CONFLICT(name) DO UPDATE SET kind = excluded.kind, idss_min = excluded.idss_min, "
+                       "?, ?, ?, ?, ?, ?) ON CONFLICT(name) DO UPDATE SET kind = excluded.kind, idss_min = excluded.idss_min, "
                        "idss_max = excluded.idss_max, idss_typ = excluded.idss_typ, vp_min = excluded.vp_min, "
                        "vp_max = excluded.vp_max, vp_typ = excluded.vp_typ, lambda = excluded.lambda, "
                        "cgs = excluded.cgs, cgd = excluded.cgd, tc_idss = excluded.tc_idss, tc_vp = excluded.tc_vp, "
                        "hfe_min = excluded.hfe_min, hfe_max = excluded.hfe_max, hfe_typ = excluded.hfe_typ, "
                        "is_a = excluded.is_a, vaf = excluded.vaf, cje = excluded.cje, cjc = excluded.cjc, "
-                       "vce_sat = excluded.vce_sat, note = excluded.note, removed = 0",
+                       "vce_sat = excluded.vce_sat, note = excluded.note, v_max = excluded.v_max, "
+                       "v_rev_max = excluded.v_rev_max, p_max = excluded.p_max, p_derate = excluded.p_derate, "
+                       "removed = 0",
                        kDeviceColumns))
           .bind_all(d.name, std::string(devices::kind_name(d.kind)), j(jp.idss_a.min), j(jp.idss_a.max),
                     jfet ? jp.idss_a.typ : std::nullopt, j(jp.vp_v.min), j(jp.vp_v.max),
                     jfet ? jp.vp_v.typ : std::nullopt, j(jp.lambda_per_v), j(jp.cgs_f), j(jp.cgd_f),
                     j(jp.tc_idss_per_k), j(jp.tc_vp_v_per_k), b(bp.hfe.min), b(bp.hfe.max),
                     jfet ? std::nullopt : bp.hfe.typ, b(bp.is_a), b(bp.vaf_v), b(bp.cje_f), b(bp.cjc_f),
-                    b(bp.vce_sat_v), trimmed(d.note))
+                    b(bp.vce_sat_v), trimmed(d.note), d.ratings.v_max_v, d.ratings.v_rev_max_v, d.ratings.p_max_w,
+                    d.ratings.derate_w_per_k)
           .run();
     }
   });

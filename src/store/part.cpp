@@ -204,6 +204,12 @@ std::vector<std::string> device_problems(const devices::DeviceRecord& d) {
     check_at_least(out, who, "cjc", b.cjc_f, 0.0, false);
     check_at_least(out, who, "vce_sat", b.vce_sat_v, 0.0, false);
   }
+  const auto& r = d.ratings;
+  for (auto [name, v] : {std::pair{"v_max", r.v_max_v}, std::pair{"v_rev_max", r.v_rev_max_v},
+                         std::pair{"p_max", r.p_max_w}})
+    if (v) check_at_least(out, who, name, *v, 0.0, true);
+  if (r.derate_w_per_k) check_at_least(out, who, "p_derate", *r.derate_w_per_k, 0.0, false);
+  if (r.derate_w_per_k && !r.p_max_w) out.push_back(fmt::format("{}: p_derate is given without p_max", who));
   return out;
 }
 

@@ -156,4 +156,12 @@ ALTER TABLE devices ADD COLUMN removed INTEGER NOT NULL DEFAULT 0 CHECK (removed
 CREATE INDEX parts_line ON parts(kind, bin COLLATE NOCASE, value);
 )sql";
 
+/// Version 4: a transistor type's absolute maximum ratings (magnitudes; NULL: not stated).
+inline constexpr std::string_view kSchemaV4 = R"sql(
+ALTER TABLE devices ADD COLUMN v_max REAL;      -- volts: VDS(max) or VCEO
+ALTER TABLE devices ADD COLUMN v_rev_max REAL;  -- volts: gate-source reverse or VEBO
+ALTER TABLE devices ADD COLUMN p_max REAL;      -- watts at 25 °C ambient
+ALTER TABLE devices ADD COLUMN p_derate REAL;   -- watts per kelvin above 25 °C
+)sql";
+
 }  // namespace shelfstage::store::detail

@@ -186,12 +186,23 @@ class ChainSearch {
       s.search_breadth = 1.0;
     }
     std::vector<Candidate> found = run_jobs(s, shelf_, make_jobs(s, inv_), stats, {});
+    // The best of each device type first, then the rest by score: a type whose stages score
+    // well alone (a high-voltage type's at low gain) must not crowd out the others, whose
+    // stages may be the ones that make a chain.
     std::vector<Candidate> kept;
-    for (auto& c : found) {
-      if (std::any_of(kept.begin(), kept.end(), [&](const Candidate& k) { return is_variant(k, c); })) continue;
-      kept.push_back(std::move(c));
-      if (static_cast<int>(kept.size()) >= kPoolTop) break;
-    }
+    std::vector<bool> taken(found.size(), false);
+    auto take = [&](std::size_t i) {
+      if (static_cast<int>(kept.size()) >= kPoolTop) return;
+      if (std::any_of(kept.begin(), kept.end(), [&](const Candidate& k) { return is_variant(k, found[i]); })) return;
+      kept.push_back(found[i]);
+      taken[i] = true;
+    };
+    std::set<std::string> seen;
+    for (std::size_t i = 0; i < found.size(); ++i)
+      if (seen.insert(found[i].device.name).second) take(i);
+    for (std::size_t i = 0; i < found.size(); ++i)
+      if (!taken[i]) take(i);
+    std::stable_sort(kept.begin(), kept.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
     return kept;
   }
 
@@ -325,6 +336,9 @@ class ChainSearch {
     std::vector<Path> paths;
     std::vector<const Candidate*> stack;
     // The band-edge losses add up along a path (in dB): the chain must stay within 1 dB.
+    // With a swing asked, the stages' THD at the levels they carry adds up too (in phase, as
+    // the corner pass adds it): a path over the bound at nominal cannot hold it at a corner.
+    const bool thd_counts = spec_.swing_vpp.has_value();
     auto walk = [&](auto&& self, Graph::vertex_descriptor v, double gain, double loss) -> void {
       const VertexProp& vp = g[v];
       const Candidate* c = layers[vp.layer][vp.index];
@@ -332,10 +346,15 @@ class ChainSearch {
       if (vp.layer + 1 == n) {
         const double total = gain * c->nominal.gain;  // the last stage was designed into the load
         const double err = std::abs(std::abs(total) / spec_.gain - 1.0);
-        if (err <= std::max(0.25, 2 * spec_.gain_tol) && loss + last_loss(*c) <= 1.0) {
+        double thd = 0;
+        if (thd_counts)
+          for (const Candidate* st : stack) thd += st->nominal.thd;
+        if (err <= std::max(0.25, 2 * spec_.gain_tol) && loss + last_loss(*c) <= 1.0 && thd <= spec_.max_thd) {
           int pieces = 0;
           for (const Candidate* s : stack) pieces += s->pieces;
-          paths.push_back({stack, 100.0 * err + kPiecePoints * pieces});
+          // With a swing asked, paths with THD to spare go first (only kToCorners reach the
+          // corner pass, where THD grows): a tenth of the bound costs a point.
+          paths.push_back({stack, 100.0 * err + kPiecePoints * pieces + (thd_counts ? 10.0 * thd / spec_.max_thd : 0.0)});
         }
       } else {
         for (auto [e, end] = boost::out_edges(v, g); e != end; ++e)
@@ -380,7 +399,7 @@ class ChainSearch {
       if (failed[i].empty())
         assessed.push_back(std::move(linked[i]));
       else
-        ++tally_.corner_failures[failed[i].substr(0, failed[i].find(':'))];
+        tally_.note_corner_failure(failed[i]);
     }
     std::stable_sort(assessed.begin(), assessed.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
     std::vector<Candidate> out;

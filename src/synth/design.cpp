@@ -19,6 +19,7 @@
 #include "detail.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/units/notation.hpp"
+#include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::synth {
 
@@ -193,8 +194,10 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     ++stats.evaluations;
     if (ideal.valid && ideal.active) {
       stats.best_gain = std::max(stats.best_gain, std::abs(ideal.gain));
+      stats.least_gain = std::min(stats.least_gain, std::abs(ideal.gain));
       // Swing and Zin count only for stages with the gain asked for.
       if (detail::gain_ok(spec_, ideal.gain)) {
+        stats.gain_met = true;
         stats.best_swing = std::max(stats.best_swing, ideal.swing_peak_v);
         stats.best_zin = std::max(stats.best_zin, ideal.zin_ohm);
       }
@@ -258,8 +261,10 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   const std::string v = detail::violation(spec_, nominal);
   if (nominal.valid && nominal.active) {
     stats.best_gain = std::max(stats.best_gain, std::abs(nominal.gain));
+    stats.least_gain = std::min(stats.least_gain, std::abs(nominal.gain));
     // Swing and Zin count only for stages with the gain asked for.
     if (detail::gain_ok(spec_, nominal.gain)) {
+      stats.gain_met = true;
       stats.best_swing = std::max(stats.best_swing, nominal.swing_peak_v);
       stats.best_zin = std::max(stats.best_zin, nominal.zin_ohm);
     }
@@ -319,7 +324,7 @@ double StageBuilder::quick_score(const Draft& c, SearchStats& stats) const {
 bool StageBuilder::assess(Candidate& c, SearchStats& stats) const {
   const std::string v = detail::evaluate_worst(c, spec_, stats.evaluations, detail::Depth::search);
   if (!v.empty()) {
-    ++stats.corner_failures[v.substr(0, v.find(':'))];
+    stats.note_corner_failure(v);
     return false;
   }
   c.nominal = topology_.evaluate(c.values, q_, cond_, stages::Detail::full);
@@ -366,7 +371,10 @@ bool StageBuilder::pool_ok(const std::array<const Combo*, stages::kMaxRoles>& co
 void SearchStats::merge(const SearchStats& o) {
   for (const auto& [k, v] : o.failures) failures[k] += v;
   for (const auto& [k, v] : o.corner_failures) corner_failures[k] += v;
+  for (const auto& [k, v] : o.corner_examples) corner_examples.emplace(k, v);
   best_gain = std::max(best_gain, o.best_gain);
+  least_gain = std::min(least_gain, o.least_gain);
+  gain_met = gain_met || o.gain_met;
   best_swing = std::max(best_swing, o.best_swing);
   best_zin = std::max(best_zin, o.best_zin);
   if (!o.capacitor_need.empty()) capacitor_need = o.capacitor_need;
@@ -458,9 +466,20 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
 namespace {
 
 std::string describe_binding(const std::string& binding, const Spec& spec, const SearchStats& t) {
+  if (binding == "gain" && t.least_gain < 1e300 && t.least_gain > spec.gain * (1.0 + spec.gain_tol))
+    return fmt::format("no stage comes down to a gain of {:.3g} into {}: the lowest any stocked device gives is {:.3g}",
+                       spec.gain, units::format_value(spec.load_ohm, units::Unit::ohm), t.least_gain);
+  if (binding == "gain" && t.best_gain >= spec.gain * (1.0 - spec.gain_tol))
+    return fmt::format("stages reach a gain of {:.3g} (up to {:.3g} into {}), but none that does meets the rest of the "
+                       "request",
+                       spec.gain, t.best_gain, units::format_value(spec.load_ohm, units::Unit::ohm));
   if (binding == "gain")
     return fmt::format("no stage reaches a gain of {:.3g} into {}: the largest any stocked device reaches is {:.3g}",
                        spec.gain, units::format_value(spec.load_ohm, units::Unit::ohm), t.best_gain);
+  if (binding == "swing" && spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v)
+    return fmt::format("a swing of {:.3g} Vpp does not fit in a supply of {}: a stage's output swings within its "
+                       "rail (less its transistor's headroom)",
+                       *spec.swing_vpp, units::format_value(spec.supply_lo_v, units::Unit::volt));
   if (binding == "swing")
     return fmt::format("no stage swings {:.3g} Vpp at every corner: the best reaches {:.3g} Vpp at nominal",
                        spec.swing_vpp.value_or(0), 2 * t.best_swing);
@@ -474,8 +493,16 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
   if (binding == "capacitor")
     return "the shelf holds no capacitor large enough, or rated high enough, for the band and the supply (" +
            t.capacitor_need + ")";
-  if (binding == "rating") return "every stage that works runs a part beyond its rating";
-  if (binding == "polarity") return "every stage that works would reverse-bias an electrolytic";
+  const auto example = [&](const std::string& k) {
+    const auto it = t.corner_examples.find(k);
+    return it == t.corner_examples.end() ? std::string() : " (for one: " + it->second.substr(it->second.find(':') + 2) + ")";
+  };
+  if (binding == "rating") return "every stage that works runs a part beyond its rating" + example("rating");
+  if (binding == "polarity") return "every stage that works would reverse-bias an electrolytic" + example("polarity");
+  if (binding == "distortion")
+    return fmt::format("no stage keeps its THD within {:g} % at {:.3g} Vpp at every corner", 100 * spec.max_thd,
+                       spec.swing_vpp.value_or(0)) +
+           example("distortion");
   return "nothing on the shelf makes a working stage for this request";
 }
 
@@ -543,7 +570,7 @@ std::vector<Candidate> finish_top(std::vector<Candidate>& ranked, const Spec& sp
     if (variant) continue;
     if (!c.is_chain()) detail::finalize(c, shelf);
     if (const std::string v = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec); !v.empty()) {
-      ++tally.corner_failures[v.substr(0, v.find(':'))];
+      tally.note_corner_failure(v);
       continue;
     }
     c.id = candidate_id(c, spec.copies);
@@ -591,6 +618,13 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   }
   r.proposals = tally.proposals;
   r.evaluations = tally.evaluations;
+  if (spec.gain < 1.0)
+    for (auto& c : r.candidates)
+      c.cautions.insert(c.cautions.begin(),
+                        fmt::format("a gain of {:.3g} ({:.1f} dB) is an attenuation: a divider of two resistors gives "
+                                    "it without a transistor; a stage earns its place only by its input impedance or "
+                                    "its drive into the load",
+                                    spec.gain, units::to_db(spec.gain)));
   for (std::size_t i = 0; i < r.candidates.size(); ++i) {
     auto& c = r.candidates[i];
     c.rank = static_cast<int>(i) + 1;
@@ -609,8 +643,17 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
         most = v;
         binding = k;
       }
+    // A gain the stages reach is not the reason: the next most common stop is.
+    if (binding == "gain" && tally.gain_met) {
+      most = -1;
+      for (const auto& [k, v] : stops)
+        if (k != "gain" && v > most) {
+          most = v;
+          binding = k;
+        }
+    }
     if (tally.proposals == 0) binding = jobs.empty() ? "devices" : "gain";
-    if (!jobs.empty() && tally.best_gain < spec.gain * (1.0 - spec.gain_tol)) {
+    if (!jobs.empty() && !tally.gain_met && tally.best_gain < spec.gain * (1.0 - spec.gain_tol)) {
       // No working stage reached the gain: that binds first. How close the stages come:
       // probe with the largest load resistors the headroom allows.
       binding = "gain";
@@ -618,9 +661,17 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
       detail::run_jobs(spec, shelf, jobs, probe, {}, true);
       tally.best_gain = std::max(tally.best_gain, probe.best_gain);
     }
+    // A swing beyond the supply binds before anything else: an output swings within its rail.
+    if (spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v) binding = "swing";
     r.diagnosis.binding = binding;
     r.diagnosis.detail = jobs.empty() ? "no stocked transistor fits the chosen topologies and device filters"
                                       : describe_binding(binding, spec, tally);
+    if (!jobs.empty() && spec.explain_failure && spec.stages_min <= 1) detail::explain_binding(r.diagnosis, spec, inv);
+    if (spec.gain < 1.0)
+      r.diagnosis.detail = fmt::format(
+          "a gain of {:.3g} is an attenuation of {:.1f} dB: two resistors as a divider give it without a "
+          "transistor; {}",
+          spec.gain, -units::to_db(spec.gain), r.diagnosis.detail);
     if (spec.stages_max >= 2 && !spec.piece && !jobs.empty())
       r.diagnosis.detail += fmt::format("; no chain of up to {} stages meets it either", spec.stages_max);
     if (!tally.corner_failures.empty())

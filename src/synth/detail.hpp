@@ -23,8 +23,11 @@ std::string violation(const Spec& spec, const stages::Performance& p);
 double signal_peak(const Spec& spec, const stages::Performance& p);
 /// The nominal gain is within the spec's gain window.
 bool gain_ok(const Spec& spec, double gain);
-/// Power and voltage ratings and electrolytic polarity against one operating point.
-std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p);
+/// The transistor's stress at one operating point (DeviceStress NOTES) at an ambient.
+DeviceStress device_stress(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius);
+/// Power and voltage ratings (parts and the transistor) and electrolytic polarity against one
+/// operating point at an ambient.
+std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius);
 /// How far a worst-case pass goes: `search` for every candidate the search assesses (what
 /// decides feasibility and the score), `full` for the candidates shown (every figure, every
 /// piece's own part directions, the -3 dB corners over the capacitors' tolerances). NOTES in
@@ -32,6 +35,10 @@ std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Pe
 enum class Depth { search, full };
 /// An electrolytic's smallest forward DC at any point checked (volts).
 inline constexpr double kPolarForwardV = 0.1;
+/// When nothing fits: searches again with each relaxable constraint of the spec let go in turn
+/// (single stages, the best only) and, for the first whose relaxation gives a design, names it
+/// as binding with that design's figure against the request (diagnose.cpp).
+void explain_binding(Diagnosis& d, const Spec& spec, const Inventory& inv);
 /// Fills c.worst and c.error_worst; returns the first violated constraint or empty.
 std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth);
 /// A capacitor whose DC the exact solver reads: its part, the fitted + lead's net as the netlist

@@ -63,7 +63,40 @@ double signal_peak(const Spec& spec, const stages::Performance& p) {
   return std::max(spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0, p.clip_peak_v);
 }
 
-std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p) {
+DeviceStress device_stress(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius) {
+  DeviceStress d;
+  d.v_main = std::max(std::abs(spec.supply_hi_v), std::abs(p.v_out - p.v_common));
+  if (devices::is_jfet(c.device.kind)) {
+    const double input_peak = std::abs(p.gain) > 0 ? p.clip_peak_v / std::abs(p.gain) : 0.0;
+    d.v_rev = std::abs(p.v_in - p.v_common) + input_peak;
+  }
+  // A bypass capacitor (CS, CE) keeps the DC it holds across the source or emitter resistor
+  // when the supply goes; the gate or base then sits at the other end: that much reverse.
+  for (const auto& st : p.stress) {
+    if (st.role >= c.topology->roles().size()) continue;
+    const auto& name = c.topology->roles()[st.role].name;
+    if (name == "CS" || name == "CE") d.v_rev = std::max(d.v_rev, std::abs(st.dc_v));
+  }
+  d.p_w = std::abs(p.v_out - p.v_common) * p.bias_current_a;
+  d.p_allowed_w = c.device.ratings.p_max_at(celsius);
+  return d;
+}
+
+std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius) {
+  {
+    const devices::Ratings& r = c.device.ratings;
+    const DeviceStress d = device_stress(spec, c, p, celsius);
+    const bool jfet = devices::is_jfet(c.device.kind);
+    if (r.v_max_v && d.v_main > kDeviceVoltageShare * *r.v_max_v)
+      return fmt::format("rating: {} may hold {:.3g} V against its {} of {:.3g} V", c.device.name, d.v_main,
+                         jfet ? "VDS(max)" : "VCEO", *r.v_max_v);
+    if (r.v_rev_max_v && d.v_rev > kDeviceVoltageShare * *r.v_rev_max_v)
+      return fmt::format("rating: {} takes {:.3g} V reverse against its {} of {:.3g} V", c.device.name, d.v_rev,
+                         jfet ? "gate-source rating" : "VEBO", *r.v_rev_max_v);
+    if (r.p_max_w && d.p_w > kDevicePowerShare * d.p_allowed_w)
+      return fmt::format("rating: {} dissipates {:.3g} W of the {:.3g} W it may take at {:g} °C", c.device.name,
+                         d.p_w, d.p_allowed_w, celsius);
+  }
   const double peak = signal_peak(spec, p);
   for (const auto& s : p.stress) {
     const auto& role = c.topology->roles()[s.role];
@@ -115,6 +148,25 @@ void add_cautions(Candidate& c, const Spec& spec, int next_stage) {
     if (rp.rating <= 0)
       c.cautions.push_back(fmt::format("{} ({}): the stock does not state its {} rating; check it before fitting",
                                        rp.designator, rp.role, rp.kind == 'R' ? "power" : "voltage"));
+  }
+  // The transistor: what its record does not rate was not checked.
+  const devices::Ratings& r = c.device.ratings;
+  std::vector<std::string> missing;
+  const bool jfet = devices::is_jfet(c.device.kind);
+  if (!r.v_max_v) missing.push_back(jfet ? "VDS(max)" : "VCEO");
+  if (!r.v_rev_max_v) missing.push_back(jfet ? "gate-source reverse voltage" : "VEBO");
+  if (!r.p_max_w) missing.push_back("dissipation");
+  if (!missing.empty()) {
+    std::string list;
+    for (std::size_t i = 0; i < missing.size(); ++i)
+      list += (i == 0 ? "" : i + 1 == missing.size() ? " and " : ", ") + missing[i];
+    const Worst& w = c.worst;
+    c.cautions.push_back(fmt::format(
+        "the record of {} states no {}: not checked; it must take {:.3g} V{}{} (compare with its datasheet, and "
+        "add the ratings with `devices add --replace`)",
+        c.device.name, list, w.device_v.empty ? spec.supply_hi_v : w.device_v.max,
+        w.device_rev.empty || w.device_rev.max < 0.05 ? "" : fmt::format(", {:.3g} V reverse", w.device_rev.max),
+        w.device_p.empty ? "" : fmt::format(" and dissipate {:.3g} mW", 1e3 * w.device_p.max)));
   }
 }
 

@@ -140,6 +140,13 @@ void add_cap_dc(Worst& w, const Candidate& c, const stages::Performance& p) {
   }
 }
 
+void add_device_stress(Worst& w, const DeviceStress& d) {
+  w.device_v.add(d.v_main);
+  w.device_rev.add(d.v_rev);
+  w.device_p.add(d.p_w);
+  w.device_p_allowed.add(d.p_allowed_w);
+}
+
 void add_figures(Worst& w, const stages::Performance& p, bool corners) {
   w.gain.add(p.gain);
   w.bias_current.add(p.bias_current_a);
@@ -222,13 +229,16 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
           ++evaluations;
           ++w.evaluations;
           std::string failed = violation(spec, p);
-          if (failed.empty() && set.detail != stages::Detail::core) failed = check_ratings(spec, c, p);
+          if (failed.empty() && set.detail != stages::Detail::core) failed = check_ratings(spec, c, p, temp);
           if (!failed.empty()) {  // rejected: its ranges no longer matter
             c.worst = w;
             return failed;
           }
           add_figures(w, p, set.detail == stages::Detail::full);
-          if (set.detail != stages::Detail::core) add_cap_dc(w, c, p);
+          if (set.detail != stages::Detail::core) {
+            add_cap_dc(w, c, p);
+            add_device_stress(w, device_stress(spec, c, p, temp));
+          }
           c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
         }
       }
@@ -238,6 +248,7 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
   if (c.nominal.valid) {
     add_figures(w, c.nominal, c.nominal.f_low_hz > 0 || c.nominal.f_high_hz > 0);
     add_cap_dc(w, c, c.nominal);
+    add_device_stress(w, device_stress(spec, c, c.nominal, t_nom));
   }
   c.worst = w;
   return {};

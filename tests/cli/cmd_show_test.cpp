@@ -106,6 +106,11 @@ TEST_CASE("show: above 60 V DC the hazardous-voltage caution defers to local cod
   test::TempDir dir;
   const auto db = (dir / "stock.db").string();
   REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0);
+  // A high-voltage NPN (invented): the demo's types may not take a 70 V rail (80 % of VCEO).
+  REQUIRE(test::run_stage_cli({"devices", "add", "SQ-H31", "--kind", "NPN", "--hfe", "50..250", "--v-max", "300",
+                               "--v-rev-max", "6", "--p-max", "625m", "--db", db})
+              .status == 0);
+  REQUIRE(test::run_stage_cli({"stock", "add", "NPN", "SQ-H31", "6", "--bin", "Z3", "--db", db}).status == 0);
   auto caution_of = [&](const std::string& supply) {
     const auto d = test::run_stage_cli(
         {"design", "--db", db, "--gain", "5", "--load", "10k", "--supply", supply, "--zin", "100k", "--json"});

@@ -1,5 +1,6 @@
 // Test helper for `show` and `analyze`: runs the command line in-process, as main() does,
-// with the commands those tests need (demo to make a shelf, design to keep a design).
+// with the commands those tests need (demo to make a shelf, stock and devices to add to it,
+// design to keep a design).
 #pragma once
 #include <sstream>
 #include <string>
@@ -23,6 +24,8 @@ inline StageCliResult run_stage_cli(std::vector<std::string> args) {
   CLI::App app{"", "shelfstage"};
   setup_root(app, ctx, "shelfstage test");
   setup_demo(app, ctx);
+  setup_stock(app, ctx);
+  setup_devices(app, ctx);
   setup_design(app, ctx);
   setup_show(app, ctx);
   setup_analyze(app, ctx);

@@ -211,8 +211,22 @@ TEST_CASE("html_report: a chain renders whole, the chain first and then each sta
 }
 
 TEST_CASE("html_report: above 60 V the hazardous-voltage caution defers to local codes and licensed practice") {
-  const auto inv = test::demo_inventory(kHighVoltageStock);
-  const Case k{"jfet-cs-self", "SJ-202", 5, 70, 2};
+  auto inv = test::demo_inventory(kHighVoltageStock);
+  // A high-voltage NPN (VCEO 300 V; invented, as the demo's types): none of the demo's small-
+  // signal types may take a 70 V rail (common practice: 80 % of VCEO or VDS(max) at most).
+  {
+    auto hv = *std::find_if(inv.devices.begin(), inv.devices.end(), [](const auto& d) { return d.name == "SQ-410"; });
+    hv.name = "SQ-H31";
+    hv.bjt.hfe = {50, 250, 120};
+    hv.ratings = {300.0, 6.0, 0.625, std::nullopt};
+    inv.devices.push_back(hv);
+    auto line = *std::find_if(inv.parts.begin(), inv.parts.end(), [](const auto& p) { return p.device == "SQ-410"; });
+    line.device = hv.name;
+    line.id = static_cast<std::int64_t>(inv.parts.size()) + 1;
+    line.bin = "Z3";
+    inv.parts.push_back(line);
+  }
+  const Case k{"bjt-ce-divider", "SQ-H31", 5, 70, 2};
   const auto in = input_for(k, inv);
   const std::string html = report::html_report(in);
   const std::string dir = temp_dir();

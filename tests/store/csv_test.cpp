@@ -355,6 +355,35 @@ TEST_CASE("devices: ranges in either order, signs as on a datasheet, defaults fo
   CHECK(store::write_devices_csv(again) == store::write_devices_csv(d));
 }
 
+TEST_CASE("devices: maximum ratings are optional magnitudes, kept through an export") {
+  const auto d = store::parse_devices_csv(
+      "name,kind,idss_min,idss_max,vp_min,vp_max,hfe_min,hfe_max,v_max,v_rev_max,p_max,p_derate\n"
+      "J1,PJFET,2m,15m,1,5,,,-25,-25,300m,2.4m\n"  // a P type's ratings as its datasheet signs them
+      "Q1,NPN,,,,,100,400,40,6,500mW,\n"
+      "Q2,NPN,,,,,100,400,,,,\n",
+      "devices.csv");
+  REQUIRE(d.size() == 3);
+  CHECK(d[0].ratings.v_max_v == 25.0);
+  CHECK(d[0].ratings.v_rev_max_v == 25.0);
+  CHECK(d[0].ratings.p_max_w == doctest::Approx(0.3));
+  CHECK(d[0].ratings.derate_w_per_k == doctest::Approx(2.4e-3));
+  // Derating: the rating at 25 C, less 2.4 mW per kelvin above (75 C: 300 - 120 mW).
+  CHECK(d[0].ratings.p_max_at(75) == doctest::Approx(0.18));
+  CHECK(d[0].ratings.p_max_at(0) == doctest::Approx(0.3));
+  // Without a stated derating: linear to zero at 150 C (common practice for small-signal types).
+  CHECK(d[1].ratings.p_max_at(87.5) == doctest::Approx(0.25));
+  CHECK_FALSE(d[2].ratings.any());
+  const auto again = store::parse_devices_csv(store::write_devices_csv(d), "again.csv");
+  CHECK(again[0].ratings.derate_w_per_k == d[0].ratings.derate_w_per_k);
+  CHECK(store::write_devices_csv(again) == store::write_devices_csv(d));
+  const auto bad = problems_of([] {
+    (void)store::parse_devices_csv("name,kind,hfe_min,hfe_max,v_max,p_derate\nQ1,NPN,100,400,0,1m\n", "d.csv");
+  });
+  REQUIRE(bad.size() >= 2);
+  CHECK(bad[0].find("v_max 0 must be above 0") != std::string::npos);
+  CHECK(bad[1].find("p_derate is given without p_max") != std::string::npos);
+}
+
 TEST_CASE("devices: bad rows are all reported") {
   const auto p = problems_of([] {
     (void)store::parse_devices_csv("name,kind,idss_min,idss_max,vp_min,vp_max,hfe_min,hfe_max\n"

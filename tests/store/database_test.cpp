@@ -3,6 +3,7 @@
 #include "shelfstage/store/database.hpp"
 
 #include <doctest/doctest.h>
+#include <fmt/format.h>
 #include <sched.h>
 #include <sys/mount.h>
 #include <sys/wait.h>
@@ -181,7 +182,7 @@ TEST_CASE("create, then open: an empty stock at the current schema version") {
     CHECK(db.path() == path);
   }
   Database db = Database::open(path);
-  CHECK(db.schema_version() == 3);
+  CHECK(db.schema_version() == store::kSchemaVersion);
   CHECK_FALSE(db.read_only_reason());
   CHECK(db.parts().empty());
   CHECK(db.ledger().empty());
@@ -216,8 +217,21 @@ TEST_CASE("every connection: WAL, synchronous FULL, foreign keys on, a 5 s busy 
 TEST_CASE("parts, devices and pieces come back as they went in") {
   TempDir tmp;
   Database db = Database::create(tmp.file("s.db"));
-  db.put_devices({njfet(), npn()});
+  devices::DeviceRecord rated = npn();
+  rated.ratings.v_max_v = 40;
+  rated.ratings.v_rev_max_v = 6;
+  rated.ratings.p_max_w = 0.5;
+  db.put_devices({njfet(), rated});
   CHECK(db.device_records().size() == 2);
+  {
+    const auto q = db.device(rated.name);
+    REQUIRE(q);
+    CHECK(q->ratings.v_max_v == 40.0);
+    CHECK(q->ratings.v_rev_max_v == 6.0);
+    CHECK(q->ratings.p_max_w == 0.5);
+    CHECK_FALSE(q->ratings.derate_w_per_k);
+    CHECK_FALSE(db.device("SJ-101")->ratings.any());
+  }
   const auto j = db.device("sj-101");  // names compare without case
   REQUIRE(j);
   CHECK(j->name == "SJ-101");
@@ -559,7 +573,7 @@ TEST_CASE("put_devices replaces by name, and refuses a kind change while the dev
   CHECK_FALSE(db.device("SJ-103"));  // all or nothing
 }
 
-TEST_CASE("migration: a version 1 file opens at version 3 with its data kept") {
+TEST_CASE("migration: a version 1 file opens at the current version with its data kept") {
   TempDir tmp;
   const auto path = tmp.file("old.db");
   {
@@ -581,10 +595,10 @@ TEST_CASE("migration: a version 1 file opens at version 3 with its data kept") {
     REQUIRE(raw.integer("PRAGMA user_version") == 1);
   }
   Database db = Database::open(path);
-  CHECK(db.schema_version() == 3);
+  CHECK(db.schema_version() == store::kSchemaVersion);
   CHECK_FALSE(db.read_only_reason());  // the version 1 text, laid out otherwise, is no damage
   RawDb raw(path);
-  CHECK(raw.integer("PRAGMA user_version") == 3);
+  CHECK(raw.integer("PRAGMA user_version") == store::kSchemaVersion);
   CHECK(raw.integer("SELECT count(*) FROM sqlite_schema WHERE type = 'index' AND name = 'parts_line'") == 1);
   CHECK(raw.integer("SELECT count(*) FROM pragma_table_info('devices') WHERE name = 'removed'") == 1);
   const auto parts = db.parts();
@@ -624,7 +638,7 @@ TEST_CASE("a file of a newer schema is refused with DatabaseError, untouched") {
     FAIL("opened a newer file");
   } catch (const DatabaseError& e) {
     CHECK(std::string(e.what()) ==
-          path.string() + ": schema version 7 is newer than this shelfstage (3); upgrade shelfstage");
+          path.string() + fmt::format(": schema version 7 is newer than this shelfstage ({}); upgrade shelfstage", store::kSchemaVersion));
   }
   RawDb raw(path);
   CHECK(raw.integer("PRAGMA user_version") == 7);

@@ -54,12 +54,26 @@ struct BjtParams {
   double vbe_spread_v = 0.03;
 };
 
+/// Absolute maximum ratings as a datasheet states them, magnitudes; unset: not stated.
+struct Ratings {
+  std::optional<double> v_max_v;      ///< drain-source VDS(max), or collector-emitter VCEO
+  std::optional<double> v_rev_max_v;  ///< gate-source reverse (breakdown) voltage, or VEBO
+  std::optional<double> p_max_w;      ///< total dissipation at 25 °C ambient
+  /// Dissipation derating above 25 °C, W/K. Unset with p_max_w given: linear to zero at a
+  /// junction of 150 °C, p_max_w / 125 K (the usual curve of a small-signal type).
+  std::optional<double> derate_w_per_k;
+  bool any() const { return v_max_v || v_rev_max_v || p_max_w; }
+  /// The dissipation allowed at an ambient temperature (p_max_w at or below 25 °C).
+  double p_max_at(double celsius) const;
+};
+
 /// One stocked transistor type.
 struct DeviceRecord {
   std::string name;
   DeviceKind kind = DeviceKind::njfet;
   JfetParams jfet;  ///< meaningful when is_jfet(kind)
   BjtParams bjt;    ///< meaningful otherwise
+  Ratings ratings;
   std::string note;
 };
 

@@ -66,8 +66,29 @@ struct Worst {
   /// Capacitors, by role index: the DC across from the fitted + lead (a non-polarised part:
   /// the end higher at nominal), over every point evaluated with part stress.
   std::array<Range, stages::kMaxRoles> cap_dc;
+  /// The transistor, over every point evaluated with part stress (DeviceStress).
+  Range device_v, device_rev, device_p, device_p_allowed;
   int evaluations = 0;
 };
+
+/// What a stage's transistor must withstand at one operating point, magnitudes.
+/// NOTES: voltage: the supply's upper end, which the device holds whole when it is cut off
+/// (at power-up, overdriven, or a piece that does not conduct); reverse: a JFET's gate-source
+/// DC plus the input's signal peak (the clipping peak over the gain), and, where the source or
+/// emitter is bypassed, the DC the bypass capacitor holds there when the supply goes and the
+/// gate or base falls to 0 V (a BJT's emitter-base junction is reverse-biased only then);
+/// dissipation: the DC across the main terminals times the bias current (class A into a
+/// resistive load dissipates most with no signal); allowed: the rating derated to the ambient.
+struct DeviceStress {
+  double v_main = 0;     ///< volts the device may hold between drain and source (collector and emitter)
+  double v_rev = 0;      ///< reverse volts on the gate-source (emitter-base) junction
+  double p_w = 0;        ///< dissipation
+  double p_allowed_w = 0;  ///< the rating at this ambient (0: not stated)
+};
+/// Common practice: a semiconductor's voltages at most 80 % of its absolute maximum, its
+/// dissipation at most half its rating derated to the ambient (as for resistors).
+inline constexpr double kDeviceVoltageShare = 0.8;
+inline constexpr double kDevicePowerShare = 0.5;
 
 /// One designed stage.
 struct Candidate {
@@ -122,7 +143,17 @@ struct DesignResult {
 struct SearchStats {
   std::map<std::string, long> failures;         ///< constraint -> proposals it stopped at nominal
   std::map<std::string, long> corner_failures;  ///< ... that worked at nominal, stopped at a corner
+  std::map<std::string, std::string> corner_examples;  ///< constraint -> the first such stop, in words
+  /// Counts a corner stop ("rating: SQ-410 may hold ...") under its constraint, keeping the
+  /// first of each kind in words.
+  void note_corner_failure(const std::string& why) {
+    const std::string key = why.substr(0, why.find(':'));
+    ++corner_failures[key];
+    corner_examples.emplace(key, why);
+  }
   double best_gain = 0;    ///< largest |gain| of a stage in its active region
+  double least_gain = 1e300;  ///< smallest such |gain|
+  bool gain_met = false;   ///< some stage in its active region had a gain in the window
   double best_swing = 0;   ///< largest swing peak among those
   double best_zin = 0;
   std::string capacitor_need;  ///< the last capacitor the shelf could not supply

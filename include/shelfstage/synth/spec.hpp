@@ -57,6 +57,9 @@ struct Spec {
   double gain_tol = 0.10;  ///< gain window that counts as meeting the spec in the yield
   std::uint64_t seed = 1;  ///< Monte Carlo seed
   int mc_samples = 500;
+  /// When nothing fits, find the binding constraint by searching again with each one relaxed
+  /// (diagnose.cpp). Those searches set it false.
+  bool explain_failure = true;
 
   double supply_nominal_v() const { return 0.5 * (supply_lo_v + supply_hi_v); }
   /// The rail's sign: +1, or -1 for a negative supply.
