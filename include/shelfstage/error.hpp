@@ -5,7 +5,7 @@
 
 namespace shelfstage {
 
-/// Exit statuses, as ../INTERFACE.md fixes them.
+/// Exit statuses (docs/interface.md, "Exit status"; never renumbered).
 enum class ExitCode : int {
   ok = 0,
   bad_input = 1,   ///< bad input or usage: names the offending field and value

@@ -31,10 +31,10 @@ std::string power_text(double watts);
 /// own columns, then a summary line. An empty list gives a short hint instead.
 std::string stock_table(const std::vector<store::Part>& parts);
 
-/// One stock line as INTERFACE.md fixes it: kind, value (a number in ohms or farads, or the
-/// device name), qty, reserved, bin, tol ("5%" or null), power (W or null), volts (V or
-/// null), dielectric (or null), note; and the extensions id, package (or null), available
-/// (qty - reserved) and status ("ok", "low", "out").
+/// One stock line as scripts read it (docs/interface.md; keys only ever added): kind, value
+/// (a number in ohms or farads, or the device name), qty, reserved, bin, tol ("5%" or
+/// null), power (W or null), volts (V or null), dielectric (or null), note, id, package (or
+/// null), available (qty - reserved) and status ("ok", "low", "out").
 nlohmann::ordered_json part_json(const store::Part& part);
 
 /// {"schema":1,"parts":[...]}.

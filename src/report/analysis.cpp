@@ -32,7 +32,7 @@ constexpr double kFloorV = 1e-3, kFloorA = 1e-9, kFloorGain = 1e-3, kFloorOhm = 
 constexpr double kCapMargin = 1.25;
 // Resistors: at most half the rating (common practice).
 constexpr double kResistorDerating = 0.5;
-// Safety: above this supply the usual cautions apply (DOMAIN.md section 5).
+// Safety: above this supply the hazardous-voltage caution applies (docs/physics.md, Safety).
 constexpr double kHazardousSupplyV = 60.0;
 
 bool same_name(std::string_view a, std::string_view b) {

@@ -1,4 +1,4 @@
-// Designs to JSON and back (INTERFACE.md keys; numbers in plain SI).
+// Designs to JSON and back (keys: docs/interface.md, only ever added to; numbers in plain SI).
 #include "shelfstage/report/design_json.hpp"
 
 #include <fmt/format.h>
@@ -41,7 +41,7 @@ synth::Join join_from(const std::string& s) {
   throw InputError(fmt::format("saved design: recipe join '{}' is not single, series or parallel", s));
 }
 
-// Names of the three device-terminal nodes as INTERFACE.md spells them.
+// Names of the three device-terminal nodes as the JSON spells them (docs/interface.md).
 std::array<std::string, 3> node_keys(const synth::Candidate& c) {
   if (devices::is_jfet(c.device.kind)) return {"gate", "source", "drain"};
   return {"base", "emitter", "collector"};

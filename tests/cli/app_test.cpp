@@ -43,7 +43,7 @@ TEST_CASE("--version and --help print on stdout and exit 0") {
   CHECK(sub.out.find("--tol") != std::string::npos);
 }
 
-TEST_CASE("usage errors: exit 1 and one `error:` line on stderr (INTERFACE.md)") {
+TEST_CASE("usage errors: exit 1 and one `error:` line on stderr (docs/interface.md)") {
   for (const auto& args : std::vector<std::vector<std::string>>{
            {}, {"frobnicate"}, {"stock"}, {"stock", "add", "R", "4k7"}, {"stock", "list", "--colour"}}) {
     const auto r = run(args);

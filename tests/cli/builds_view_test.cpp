@@ -1,11 +1,11 @@
-// Tests of how builds look: INTERFACE.md keys in JSON, designators split, tables.
+// Tests of how builds look: the JSON keys of docs/interface.md, designators split, tables.
 #include "builds_view.hpp"
 
 #include <doctest/doctest.h>
 
 using namespace shelfstage;
 
-TEST_CASE("build_json: INTERFACE.md keys first, designators as a list") {
+TEST_CASE("build_json: the documented keys first, designators as a list") {
   store::BuildRecord b;
   b.id = 7;
   b.design_id = "s1c4356ca";

@@ -52,7 +52,7 @@ TEST_CASE("analyze --json: the measured piece's bias matches the self-bias solut
   CHECK(idss == doctest::Approx(2.9e-3));  // the bench measurement, data-demo/pieces.csv
   CHECK(vp == doctest::Approx(1.45));
   // Sedra & Smith, JFET self-bias: ID = IDSS (1 - ID RS/|VP|)^2 (1 + lambda VDS) (the
-  // lambda factor as in DOMAIN.md section 1), by fixed-point iteration on VDS.
+  // lambda factor as in docs/physics.md, The JFET), by fixed-point iteration on VDS.
   double id = 0, vds = 0;
   for (int i = 0; i < 50; ++i) {
     const double is = idss * (1 + lambda * vds), k = 470 / vp;

@@ -1,4 +1,4 @@
-// Tests of `shelfstage builds list|undo`: INTERFACE.md JSON, states, and refusals.
+// Tests of `shelfstage builds list|undo`: the JSON of docs/interface.md, states, and refusals.
 #include <doctest/doctest.h>
 
 #include "shelf_fixture.hpp"

@@ -1,5 +1,5 @@
 // Tests of `shelfstage check`: a sound database passes, a count changed behind the ledger's
-// back is found and reported with exit status 3 (INTERFACE.md: 3 is a database problem).
+// back is found and reported with exit status 3 (docs/interface.md: 3 is a database problem).
 #include <doctest/doctest.h>
 #include <sqlite3.h>
 

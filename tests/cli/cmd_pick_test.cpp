@@ -1,11 +1,11 @@
-// Tests of `shelfstage pick`: the table, JSON per INTERFACE.md, CSV, copies, and bad input.
+// Tests of `shelfstage pick`: the table, JSON per docs/interface.md, CSV, copies, and bad input.
 #include <doctest/doctest.h>
 
 #include "shelf_fixture.hpp"
 
 using shelfstage::test::DemoShelf;
 
-TEST_CASE("pick --json: INTERFACE.md shape; every piece of one copy from the lines the design names") {
+TEST_CASE("pick --json: the documented shape; every piece of one copy from the lines the design names") {
   DemoShelf shelf;
   const auto j = shelf.json({"pick", shelf.design});
   CHECK(j["schema"] == 1);

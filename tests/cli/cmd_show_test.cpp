@@ -102,7 +102,7 @@ TEST_CASE("show: an unknown id is bad input (exit 1) and the error names it") {
   CHECK(r.err.find("zz99zz99") != std::string::npos);
 }
 
-TEST_CASE("show: above 60 V DC the hazardous-voltage caution defers to local codes (DOMAIN.md section 5)") {
+TEST_CASE("show: above 60 V DC the hazardous-voltage caution defers to local codes (docs/physics.md, Safety)") {
   test::TempDir dir;
   const auto db = (dir / "stock.db").string();
   REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0);

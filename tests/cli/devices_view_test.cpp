@@ -66,7 +66,7 @@ TEST_CASE("the table has a JFET section, a BJT section and the measured pieces")
   CHECK(devices_table({}, {}).find("devices import") != std::string::npos);
 }
 
-TEST_CASE("device JSON keys are the device CSV's column names (INTERFACE.md), values plain SI") {
+TEST_CASE("device JSON keys are the device CSV's column names (docs/interface.md), values plain SI") {
   const auto doc = devices_json({jfet(), bjt()}, {});
   CHECK(doc["schema"] == 1);
   REQUIRE(doc["devices"].size() == 2);

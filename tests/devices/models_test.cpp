@@ -1,5 +1,5 @@
 // Tests of src/devices/models.cpp: the square-law JFET, the Gummel-Poon-subset BJT, junction
-// capacitance and temperature, against the equations of the domain brief (DOMAIN.md section 1:
+// capacitance and temperature, against the textbook equations (docs/physics.md: the
 // Shichman-Hodges square law, Ebers-Moll / Gummel-Poon forward active) and the ngspice manual's
 // model equations (JFET level 1, BJT, depletion capacitance with FC).
 #include "shelfstage/devices/models.hpp"
@@ -46,7 +46,7 @@ TEST_CASE("Thermal voltage kT/q is 25.85 mV at 300 K (CODATA 2018 / SI 2019 cons
   CHECK(thermal_voltage(100.0) / thermal_voltage(0.0) == doctest::Approx(373.15 / 273.15));
 }
 
-TEST_CASE("Square law (DOMAIN.md 1, Shichman-Hodges): ID at VGS = 0 is IDSS, times 1 + lambda*VDS") {
+TEST_CASE("Square law (Shichman-Hodges): ID at VGS = 0 is IDSS, times 1 + lambda*VDS") {
   const auto q = njfet(5e-3, 2.0);
   CHECK(jfet_eval(q, 0.0, 6.0).id_a == doctest::Approx(5e-3));
   CHECK(jfet_eval(q, 0.0, 6.0).region == JfetRegion::saturation);
@@ -136,7 +136,7 @@ TEST_CASE("BJT (Gummel-Poon without high injection, as ngspice's BJT): IC at a V
   const auto flat = npn(200, 0);
   const auto f = bjt_eval(flat, vbe, vbc);
   CHECK(f.ic_a / f.ib_a == doctest::Approx(200).epsilon(1e-6));
-  // gm = IC/VT (DOMAIN.md 1).
+  // gm = IC/VT (docs/physics.md, The BJT).
   CHECK(f.dic_dvbe == doctest::Approx(f.ic_a / vt).epsilon(1e-9));
   // Early effect: IC against VCE at fixed VBE is a straight line that extrapolates to zero
   // at VCB = -VAF (textbook definition of the Early voltage).
@@ -190,7 +190,7 @@ TEST_CASE("Temperature: datasheet figures at 25 °C stay put; IDSS falls, |VP| g
   const auto b35 = bjt_at(bp, DeviceKind::npn, 200, 35.0);
   CHECK(b25.is_a == doctest::Approx(1e-14));
   CHECK(b25.bf == doctest::Approx(200));
-  // VBE at a fixed 1 mA: the bench figure is about -2 mV/K (DOMAIN.md 1, common practice).
+  // VBE at a fixed 1 mA: the bench figure is about -2 mV/K (common practice; docs/physics.md).
   const double vbe25 = b25.vt_v * std::log(1e-3 / b25.is_a), vbe35 = b35.vt_v * std::log(1e-3 / b35.is_a);
   const double tc = (vbe35 - vbe25) / 10.0;
   CHECK(tc < -1.5e-3);

@@ -1,4 +1,4 @@
-// Tests of src/devices/record.cpp: the transistor kind names of ../INTERFACE.md.
+// Tests of src/devices/record.cpp: the transistor kind names of docs/interface.md.
 #include "shelfstage/devices/record.hpp"
 
 #include <doctest/doctest.h>
@@ -7,8 +7,8 @@ using shelfstage::devices::DeviceKind;
 using shelfstage::devices::kind_name;
 using shelfstage::devices::parse_kind;
 
-// The `kind` column of stock.csv and devices.csv (INTERFACE.md): NJFET, PJFET, NPN, PNP.
-TEST_CASE("Kind names as INTERFACE.md lists them: NJFET PJFET NPN PNP") {
+// The `kind` column of stock.csv and devices.csv (docs/interface.md): NJFET, PJFET, NPN, PNP.
+TEST_CASE("Kind names as the CSV files write them: NJFET PJFET NPN PNP") {
   CHECK(kind_name(DeviceKind::njfet) == "NJFET");
   CHECK(kind_name(DeviceKind::pjfet) == "PJFET");
   CHECK(kind_name(DeviceKind::npn) == "NPN");
@@ -33,7 +33,7 @@ TEST_CASE("parse_kind reads the names in any case and nothing else") {
   CHECK(out == DeviceKind::pnp);  // untouched by the failures
 }
 
-// DOMAIN.md, sign conventions: P-channel and PNP mirror every voltage and current.
+// Sign conventions (docs/physics.md): P-channel and PNP mirror every voltage and current.
 TEST_CASE("Polarity: N-channel and NPN +1, P-channel and PNP -1") {
   CHECK(shelfstage::devices::polarity(DeviceKind::njfet) == 1.0);
   CHECK(shelfstage::devices::polarity(DeviceKind::npn) == 1.0);

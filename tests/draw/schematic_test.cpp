@@ -1,8 +1,8 @@
-// Tests of the schematic: for every stage wiring of INTERFACE.md's topology table (built here by
-// hand from the table, in N and P polarity, with and without the optional parts), the drawn
-// wires, read back purely as geometry, join exactly the pins the netlist puts on each net;
-// no wire crosses a symbol or touches another net; every tee carries a junction dot; and the
-// drawing is an SVG that Chromium parses and paints.
+// Tests of the schematic: for every stage wiring of the topology table in docs/interface.md
+// (built here by hand from the table, in N and P polarity, with and without the optional
+// parts), the drawn wires, read back purely as geometry, join exactly the pins the netlist
+// puts on each net; no wire crosses a symbol or touches another net; every tee carries a
+// junction dot; and the drawing is an SVG that Chromium parses and paints.
 #include "shelfstage/draw/schematic.hpp"
 
 #include <doctest/doctest.h>
@@ -30,7 +30,7 @@ struct Variant {
 };
 
 /// The test bench (supply, signal source behind its resistance, load) and the stage as
-/// INTERFACE.md's table wires it.
+/// docs/interface.md's table wires it.
 circuit::Circuit build(const Variant& v) {
   circuit::Circuit c;
   c.vsource("VDD", "supply", "vdd", "0", v.p_type ? -12.0 : 12.0);
@@ -202,7 +202,7 @@ std::string temp_dir() {
 
 }  // namespace
 
-TEST_CASE("lay_out: every net of every INTERFACE.md topology is wired to exactly its pins") {
+TEST_CASE("lay_out: every net of every topology is wired to exactly its pins") {
   for (const auto& v : variants()) {
     const auto c = build(v);
     const auto s = lay_out(c);

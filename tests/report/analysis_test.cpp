@@ -55,8 +55,8 @@ StageUnderTest self_bias_stage(double supply_v = kSupply, double rd = kRd,
   return s;
 }
 
-// Self-bias by hand (Sedra & Smith, Microelectronic Circuits, JFET biasing; also DOMAIN.md
-// section 2): ID = IDSS (1 - ID RS/|VP|)^2, the root with ID RS < |VP|.
+// Self-bias by hand (Sedra & Smith, Microelectronic Circuits, JFET biasing; also
+// docs/physics.md, Bias): ID = IDSS (1 - ID RS/|VP|)^2, the root with ID RS < |VP|.
 double hand_drain_current(double idss, double vp_abs, double rs) {
   const double k = rs / vp_abs;
   const double a = idss * k * k, b = -(2 * idss * k + 1), c = idss;
@@ -248,7 +248,7 @@ TEST_CASE("a transistor out of its amplifying region warns; a working one does n
   CHECK_FALSE(has_warning(good, "linear amplifier"));
 }
 
-TEST_CASE("above 60 V DC the hazardous-voltage caution appears (DOMAIN.md section 5), not below") {
+TEST_CASE("above 60 V DC the hazardous-voltage caution appears (docs/physics.md, Safety), not below") {
   CHECK(has_caution(report::analyze_stage(self_bias_stage(70, 33e3)), "hazardous voltage"));
   CHECK(has_caution(report::analyze_stage(self_bias_stage(70, 33e3)), "local codes and licensed practice"));
   CHECK_FALSE(has_caution(report::analyze_stage(self_bias_stage(60)), "hazardous voltage"));

@@ -231,7 +231,7 @@ TEST_CASE("html_report: above 60 V the hazardous-voltage caution defers to local
   const std::string html = report::html_report(in);
   const std::string dir = temp_dir();
   const std::string dom = check_report(in, html, dir, "hazard");
-  // DOMAIN.md section 5: the caution, deferring to local codes and licensed practice, first
+  // docs/physics.md, Safety: the caution, deferring to local codes and licensed practice, first
   // thing on the page (before the schematic) and again among the cautions.
   const auto first = dom.find("Hazardous voltage");
   REQUIRE(first != std::string::npos);

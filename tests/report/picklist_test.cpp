@@ -73,7 +73,7 @@ synth::RolePart role(const std::string& name, const std::string& designator, cha
   return rp;
 }
 
-/// A common-emitter stage (INTERFACE.md roles of bjt-ce-divider) on the shelf below.
+/// A common-emitter stage (the roles of bjt-ce-divider, docs/interface.md) on the shelf below.
 synth::Candidate ce_stage() {
   synth::Candidate c;
   c.id = "s0000pick";
@@ -215,9 +215,10 @@ TEST_CASE("short items: what no line can give, merged per value, with the places
 }
 
 TEST_CASE("assembly and polarity notes: combinations spelled out, + lead on the higher DC net") {
-  // DOMAIN.md 3: electrolytics are polarised and the pick list must say where the + lead
-  // goes; the bypass capacitor's + goes to the RE1-RE2 junction (above ground), the output
-  // coupling capacitor's + to the collector (above the load's 0 V DC).
+  // Common practice (docs/physics.md, Parts): electrolytics are polarised and the pick list
+  // must say where the + lead goes; the bypass capacitor's + goes to the RE1-RE2 junction
+  // (above ground), the output coupling capacitor's + to the collector (above the load's 0 V
+  // DC).
   const PickList p = make_pick_list(ce_stage(), 1, ce_shelf());
   REQUIRE(p.assemblies.size() == 2);
   CHECK(p.assemblies[0].text == "R4 (RE1): 470 || 4k75 in parallel (R4a, R4b, side by side)");
@@ -243,7 +244,7 @@ TEST_CASE("net_for_people: x is the junction, or the emitter when RE1 is left ou
   CHECK(report::net_for_people("x", c) == "the source of Q1 (RS1 is left out)");
 }
 
-TEST_CASE("pick_json: INTERFACE.md keys, numbers for R and C, the device name for transistors") {
+TEST_CASE("pick_json: the documented keys, numbers for R and C, the device name for transistors") {
   auto shelf = ce_shelf();
   shelf[8].qty = 0;  // no 470n: short
   const auto j = report::pick_json(make_pick_list(ce_stage(), 1, shelf));

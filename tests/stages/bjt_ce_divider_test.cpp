@@ -15,7 +15,7 @@ TEST_CASE("bjt-ce-divider against ngspice: hFE 100 to 400, NPN and PNP, 5 V to 2
   log.report(fmt::format("bjt-ce-divider: {} cases, worst relative error against ngspice", cases.size()));
 }
 
-// Common practice (DOMAIN.md section 1): the emitter's small-signal resistance re is "about
+// Common practice (docs/physics.md, The BJT): the emitter's small-signal resistance re is "about
 // 26 ohms divided by the emitter current in mA" at room temperature: VT/IE with VT = 25.85 mV
 // at 300 K. The solver's 1/gm = VT/IC differs from VT/IE only by alpha (half a percent at
 // hFE 200), so the rule holds to 2 %.

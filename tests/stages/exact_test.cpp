@@ -112,10 +112,10 @@ TEST_CASE("Fast evaluators against evaluate_exact over seeded random cases of ev
   }
 }
 
-// Common practice (DOMAIN.md section 2, "Loading"): a source of output impedance Zo into a
-// load ZL delivers ZL/(Zo + ZL) of its open-circuit voltage; a load equal to Zout loses half
-// the voltage, 6.02 dB. Checked for every topology with each evaluator's own Zout, so the
-// output impedance and the gain must tell one consistent Thevenin story.
+// Common practice (docs/physics.md, Small signal at mid-band): a source of output impedance
+// Zo into a load ZL delivers ZL/(Zo + ZL) of its open-circuit voltage; a load equal to Zout
+// loses half the voltage, 6.02 dB. Checked for every topology with each evaluator's own
+// Zout, so the output impedance and the gain must tell one consistent Thevenin story.
 TEST_CASE("Common practice: a load equal to the output impedance loses 6 dB, every topology") {
   for (const Topology* t : stages::registry()) {
     CAPTURE(t->name());

@@ -7,7 +7,7 @@
 using namespace shelfstage;
 using namespace shelfstage::test;
 
-// Common practice (bench rule, DOMAIN.md section 2): with gm*RS1 >> 1 the gain of a common
+// Common practice (bench rule, docs/physics.md): with gm*RS1 >> 1 the gain of a common
 // source is set by the resistors alone, |Av| -> (RD || RL)/RS1. The exact small-signal result
 // is gm*(RD || RL)/(1 + gm*RS1) (ro far above RD: lambda 0 here, as the rule assumes), so the
 // ratio to the rule is gm*RS1/(1 + gm*RS1) and climbs to one as RS1 (and gm*RS1) grows.

@@ -272,7 +272,7 @@ TEST_CASE("parts, devices and pieces come back as they went in") {
   }
   const auto all = db.parts();
   REQUIRE(all.size() == 4);
-  // Ordered by kind (R, C, NJFET, ..., as INTERFACE.md lists them), then value.
+  // Ordered by kind (R, C, NJFET, ..., as docs/interface.md lists them), then value.
   CHECK(all[0].kind == PartKind::resistor);
   CHECK(all[1].kind == PartKind::capacitor);
   CHECK(all[2].kind == PartKind::njfet);

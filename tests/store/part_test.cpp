@@ -28,7 +28,7 @@ Part resistor(double ohms, int qty) {
 
 }  // namespace
 
-TEST_CASE("kind codes: the six codes of INTERFACE.md, both ways, any case") {
+TEST_CASE("kind codes: the six codes of docs/interface.md, both ways, any case") {
   for (auto k : {PartKind::resistor, PartKind::capacitor, PartKind::njfet, PartKind::pjfet, PartKind::npn,
                  PartKind::pnp}) {
     PartKind back = PartKind::resistor;
@@ -59,7 +59,7 @@ TEST_CASE("kind codes map to the transistor kinds and back") {
 }
 
 TEST_CASE("polarised: electrolytic and tantalum capacitors are; bipolar ones and ceramics are not") {
-  // Common practice (DOMAIN.md section 3): aluminium electrolytics and tantalums are polarised;
+  // Common practice (docs/physics.md, Parts): aluminium electrolytics and tantalums are polarised;
   // bipolar ("NP") electrolytics are made for AC.
   Part c;
   c.kind = PartKind::capacitor;
@@ -177,7 +177,7 @@ devices::DeviceRecord npn() {
 }  // namespace
 
 TEST_CASE("device_problems: VGS(off) sign follows the channel, ranges are ordered") {
-  // Datasheet convention (DOMAIN.md section 1): VGS(off) < 0 for N-channel, > 0 for P-channel.
+  // Datasheet convention (docs/physics.md, Signs): VGS(off) < 0 for N-channel, > 0 for P-channel.
   CHECK(store::device_problems(njfet()).empty());
   CHECK(store::device_problems(npn()).empty());
 

@@ -48,7 +48,7 @@ TEST_CASE("Symmetric tolerances as written on parts and in catalogues: 5% ±5% +
   CHECK(parse_tolerance("5%").symmetric());
 }
 
-// Aluminium electrolytics: -20/+80 % or -10/+50 % (DOMAIN.md section 3; common practice).
+// Aluminium electrolytics: -20/+80 % or -10/+50 % (common practice; docs/physics.md, Parts).
 TEST_CASE("Asymmetric tolerances: -20/+80% +80/-20% -10+50% -20%/+80%") {
   const Tolerance electrolytic{0.20, 0.80};
   CHECK(parse_tolerance("-20/+80%") == electrolytic);

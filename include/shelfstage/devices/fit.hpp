@@ -29,7 +29,7 @@ struct ReadingAccuracy {
   /// Voltmeter accuracy, a fraction of the reading. Default 0.5 %: a common handheld
   /// multimeter's DC-volts figure (from memory; read yours from its manual).
   double meter = 0.005;
-  /// Source resistor tolerance, a fraction. Default 1 %: metal film (DOMAIN.md, section 3).
+  /// Source resistor tolerance, a fraction. Default 1 %: metal film (common practice).
   /// Resistors measured with the meter: pass the meter's accuracy.
   double resistor = 0.01;
 };

@@ -115,9 +115,10 @@ Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread*
 
 /// {"schema":1,"topology","device":{name,kind,piece,model},"conditions":{...},"exact":{...}|null,
 ///  "closed_form":{...},"differs":[keys],"parts":[...],"warnings","cautions","spread","corners"}.
-/// Figures use the INTERFACE.md nominal keys (gain, bias_current, nodes, zin, zout, f_low,
-/// f_high, swing_peak, supply_current) plus gain_db, swing_up, swing_down, loss_low_db,
-/// loss_high_db, hd2, noise (V/√Hz), active, problem; a corner not found is null.
+/// Figures use the keys of a design's nominal figures (gain, bias_current, nodes, zin, zout,
+/// f_low, f_high, swing_peak, supply_current) plus gain_db, swing_up, swing_down,
+/// loss_low_db, loss_high_db, clip_peak, hd2, hd3, thd, noise (V/√Hz), c_in, valid, active,
+/// problem; a corner not found is null. Every key: docs/interface.md.
 Json analysis_json(const Analysis& a);
 
 /// The bias point and the signal figures as a table: the exact figure, and the closed form

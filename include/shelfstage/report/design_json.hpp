@@ -1,5 +1,5 @@
-// Designs as JSON: the request and the candidates exactly as INTERFACE.md states them,
-// plus extension keys; and back again, so a kept design can be shown, picked and built.
+// Designs as JSON: the request and the candidates with the keys docs/interface.md lists
+// (only ever added to); and back again, so a kept design can be shown, picked and built.
 #pragma once
 #include <nlohmann/json.hpp>
 #include <vector>
@@ -10,16 +10,17 @@ namespace shelfstage::report {
 
 using Json = nlohmann::ordered_json;
 
-/// The request in SI: gain, load, supply (number or [low, high]), zin, source_z, band,
-/// swing, max_current, copies; extensions temp, topologies, devices, piece, gain_tol, seed,
-/// samples, combine, top.
+/// The request in SI: gain, load, load_cap, supply (number or [low, high]), rail, spread,
+/// zin, source_z, band, swing, max_distortion, prefer, max_current, copies, temp,
+/// topologies, devices, piece, gain_tol, top, combine, seed, samples, stages.
 Json spec_json(const synth::Spec& spec);
 /// The request back from spec_json's output (InputError on a malformed document).
 synth::Spec spec_from_json(const nlohmann::json& j);
 
-/// One candidate: rank, id, topology, score, device {name, kind, model}, parts [{role,
-/// designator, value, tol, recipe {join, values}} + extensions], nominal {...}, worst
-/// {[min, max] ...}; extensions yield, pieces, piece, error_nominal, error_worst, cautions.
+/// One candidate: rank, id, topology, score, device {name, kind, model}, piece, spread,
+/// parts [{role, designator, value, tol, recipe {join, values}, ...}], nominal {...}, worst
+/// {[min, max] ...}, yield, pieces, error_nominal, error_worst, cautions; a chain adds
+/// stages and chain. Every key: docs/interface.md.
 Json candidate_json(const synth::Candidate& c);
 
 /// Rebuilds a candidate from candidate_json's output with the current device records and

@@ -16,7 +16,7 @@ namespace shelfstage::stages {
 
 /// How a role is wired and what it is.
 struct Role {
-  std::string_view name;        ///< INTERFACE.md role name: RD, RS1, CIN ...
+  std::string_view name;        ///< role name (docs/interface.md): RD, RS1, CIN ...
   std::string_view designator;  ///< default designator on the schematic: R3, C1 ...
   char kind;                    ///< 'R' or 'C'
   bool optional;                ///< the synthesizer may leave it out (value 0)
@@ -201,7 +201,7 @@ struct Goal {
 class Topology {
  public:
   virtual ~Topology() = default;
-  virtual std::string_view name() const = 0;      ///< INTERFACE.md name: "jfet-cs-self"
+  virtual std::string_view name() const = 0;      ///< name as scripts use it: "jfet-cs-self"
   virtual std::string_view summary() const = 0;   ///< one line for people
   virtual bool accepts(devices::DeviceKind kind) const = 0;
   /// A buffer (gain just under one, high input and low output impedance): chains put one in

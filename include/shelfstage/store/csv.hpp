@@ -1,4 +1,4 @@
-// CSV in and out of the stock: RFC 4180 reading, the INTERFACE.md columns, all-or-nothing
+// CSV in and out of the stock: RFC 4180 reading, the columns of docs/interface.md, all-or-nothing
 // validation with every bad row named.
 #pragma once
 #include <string>
@@ -55,7 +55,7 @@ class CsvError : public InputError {
                                  bool not_utf8 = false);
 
 /// Parses and validates a stock CSV (columns: kind, value, qty, tol, power, volts,
-/// dielectric, bin, note, and the extension `package`; header required, names
+/// dielectric, package, bin, note; header required, names
 /// case-insensitive, order free, unknown or duplicate column rejected; kind, value and qty
 /// required). Either every row is good, or CsvError lists every bad row. Every field must be
 /// clean text (units/text.hpp): a bad one is named with its column, line and byte offset.
@@ -82,10 +82,10 @@ std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source
 /// (units::escape_text), so the file always reads back; the same goes for the writers below.
 std::string write_stock_csv(const std::vector<Part>& parts);
 
-/// Parses and validates a device CSV. All or nothing, as above. Columns (INTERFACE.md):
+/// Parses and validates a device CSV. All or nothing, as above. Columns (docs/interface.md):
 /// name, kind, idss_min, idss_max, vp_min, vp_max (either order; stored with
 /// Range::min <= Range::max numerically), lambda, cgs, cgd (JFET); hfe_min, hfe_max, is,
-/// vaf, cje, cjc (BJT); optional idss_typ, vp_typ, hfe_typ, note; extensions tc_idss
+/// vaf, cje, cjc (BJT); optional idss_typ, vp_typ, hfe_typ, note; also tc_idss
 /// (fraction per K), tc_vp (V per K), vce_sat (V). Required per row: name, kind, and the
 /// idss and vp ranges (JFET) or the hfe range (BJT); the other figures default to the
 /// DeviceRecord defaults. A figure of the other family on a row is an error.

@@ -12,7 +12,8 @@
 
 namespace shelfstage::store {
 
-/// What a stock line is. Codes as INTERFACE.md fixes them: R, C, NJFET, PJFET, NPN, PNP.
+/// What a stock line is. Codes as scripts and CSV files write them (docs/interface.md):
+/// R, C, NJFET, PJFET, NPN, PNP, in that order.
 enum class PartKind { resistor, capacitor, njfet, pjfet, npn, pnp };
 
 std::string_view kind_code(PartKind kind);

@@ -10,7 +10,7 @@
 
 namespace shelfstage::synth {
 
-/// A request as `shelfstage design` takes it (INTERFACE.md), every value in SI.
+/// A request as `shelfstage design` takes it (options: docs/interface.md), every value in SI.
 struct Spec {
   double gain = 0;                ///< |V/V| from the source to the load
   double load_ohm = 0;

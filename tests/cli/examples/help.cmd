@@ -1,2 +1,2 @@
-# Help exits 0 and prints on stdout; it explains the CSV columns INTERFACE.md fixes.
+# Help exits 0 and prints on stdout; it explains the stock CSV columns (docs/interface.md).
 stock import --help

@@ -1,4 +1,5 @@
-# init creates an empty database and refuses to overwrite one (INTERFACE.md), naming the path.
+# init creates an empty database and refuses to overwrite one (exit 1, docs/interface.md),
+# naming the path.
 # Without --db or $SHELFSTAGE_DB the file goes to ~/.local/share/shelfstage/ (XDG Base
 # Directory Specification default for XDG_DATA_HOME).
 init

@@ -1,4 +1,4 @@
-# stock import and stock export round-trip (INTERFACE.md): the demo shelf exported, imported
+# stock import and stock export round-trip (docs/interface.md): the demo shelf exported, imported
 # into a fresh database (from a file, and from standard input), exported again: identical.
 --db @WORK@/a.db init
 --db @WORK@/a.db devices import @SRC@/data-demo/devices.csv

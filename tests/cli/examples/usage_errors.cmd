@@ -1,5 +1,5 @@
 # Mistakes a tired person makes: exit 1 and one `error:` line naming the field and the value
-# (INTERFACE.md); nothing is written.
+# (docs/interface.md, Exit status); nothing is written.
 frobnicate
 stock
 stock frob
