@@ -12,7 +12,9 @@
 #include <fmt/format.h>
 #include <map>
 #include <mutex>
+#include <set>
 #include <thread>
+#include <tuple>
 #include <unordered_map>
 #include <unordered_set>
 
@@ -692,9 +694,21 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
       po.purchase_volts = std::max(50.0, 2.0 * spec.supply_hi_v);
       const Shelf market(inv.parts, po);
       SearchStats t2;
-      std::vector<Candidate> bought = detail::run_jobs(spec, market, jobs, t2, {});
-      std::stable_sort(bought.begin(), bought.end(), [](const Candidate& a, const Candidate& b) {
-        return std::make_pair(a.purchases, a.score) < std::make_pair(b.purchases, b.score);
+      // The smallest purchase: fewest pieces to buy, then fewest distinct values, then the
+      // best design (its score; the standard values are all the market offers).
+      Spec ms = spec;
+      ms.purchase_points = 1000.0;
+      std::vector<Candidate> bought = detail::run_jobs(ms, market, jobs, t2, {});
+      auto distinct = [&](const Candidate& c) {
+        std::set<std::size_t> groups;
+        for (const auto& rp : c.parts)
+          if (rp.combo.purchase)
+            for (std::size_t k = 0; k < rp.combo.count; ++k)
+              if (market.groups()[rp.combo.group[k]].purchase) groups.insert(rp.combo.group[k]);
+        return groups.size();
+      };
+      std::stable_sort(bought.begin(), bought.end(), [&](const Candidate& a, const Candidate& b) {
+        return std::make_tuple(a.purchases, distinct(a), a.score) < std::make_tuple(b.purchases, distinct(b), b.score);
       });
       if (!bought.empty()) {
         Candidate& best = bought.front();

@@ -26,6 +26,7 @@ double score_of(const Candidate& c, const Spec& spec) {
   double s = 100.0 * (0.5 * std::abs(c.error_nominal) + c.error_worst) + kPiecePoints * c.pieces;
   // --prefer distortion: ten points per percent of the worst-case THD at the requested level.
   if (spec.prefer == Spec::Prefer::distortion && !c.worst.thd.empty) s += 1000.0 * c.worst.thd.max;
+  s += spec.purchase_points * c.purchases;
   return s;
 }
 

@@ -60,6 +60,10 @@ struct Spec {
   /// When nothing fits, find the binding constraint by searching again with each one relaxed
   /// (diagnose.cpp). Those searches set it false.
   bool explain_failure = true;
+  /// Score points per piece not on the shelf (Candidate::purchases). 0 for designs from the
+  /// shelf; the search for what to buy sets it high, so that its own pruning keeps the designs
+  /// that buy least (fewest pieces first, then the gain error).
+  double purchase_points = 0;
 
   double supply_nominal_v() const { return 0.5 * (supply_lo_v + supply_hi_v); }
   /// The rail's sign: +1, or -1 for a negative supply.
