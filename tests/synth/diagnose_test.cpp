@@ -4,11 +4,9 @@
 // with that design's.
 #include <doctest/doctest.h>
 
-#include <fstream>
-#include <sstream>
 #include <string>
 
-#include "shelfstage/store/csv.hpp"
+#include "demo_shelf.hpp"
 #include "shelfstage/synth/design.hpp"
 #include "shelfstage/units/notation.hpp"
 
@@ -16,23 +14,8 @@ using namespace shelfstage;
 
 namespace {
 
-std::string source_file(const std::string& relative) {
-  std::ifstream in(std::string(SHELFSTAGE_SOURCE_DIR) + "/" + relative, std::ios::binary);
-  REQUIRE_MESSAGE(in.good(), "cannot read ", relative);
-  std::ostringstream ss;
-  ss << in.rdbuf();
-  return ss.str();
-}
-
-const synth::Inventory& demo_shelf() {
-  static const synth::Inventory inv = [] {
-    synth::Inventory i;
-    i.devices = store::parse_devices_csv(source_file("data-demo/devices.csv"), "devices.csv");
-    i.parts = store::parse_stock_csv(source_file("data-demo/stock.csv"), "stock.csv", i.devices);
-    std::int64_t id = 1;
-    for (auto& p : i.parts) p.id = id++;
-    return i;
-  }();
+const synth::Inventory& shelf() {
+  static const synth::Inventory inv = test::demo_shelf();
   return inv;
 }
 
@@ -56,13 +39,13 @@ TEST_CASE("a gain the input impedance forbids: the input impedance binds, with t
   // Gain 30 from one stage into 10k at 12 V with Zin >= 470k: a common emitter gets its gain
   // with a bias divider that loads the input well below that.
   synth::Spec s = request(30, 10e3, 12, 470e3);
-  const auto r = synth::design(s, demo_shelf());
+  const auto r = synth::design(s, shelf());
   REQUIRE(r.candidates.empty());
   CHECK(r.diagnosis.binding == "zin");
   CHECK(has(r.diagnosis.detail, "input impedance binds"));
   // From outside: with the limit at the Zin the diagnosis names, a design exists.
   s.zin_min_ohm = 0;
-  const auto free = synth::design(s, demo_shelf());
+  const auto free = synth::design(s, shelf());
   REQUIRE_FALSE(free.candidates.empty());
   const std::string zin = units::format_value(free.candidates.front().worst.zin.min, units::Unit::ohm);
   CHECK_MESSAGE(has(r.diagnosis.detail, zin), r.diagnosis.detail);
@@ -71,7 +54,7 @@ TEST_CASE("a gain the input impedance forbids: the input impedance binds, with t
 TEST_CASE("a current budget too small: the budget binds, with what the best stage draws") {
   synth::Spec s = request(5, 10e3, 12, 100e3);
   s.max_current_a = 50e-6;
-  const auto r = synth::design(s, demo_shelf());
+  const auto r = synth::design(s, shelf());
   REQUIRE(r.candidates.empty());
   CHECK(r.diagnosis.binding == "current");
   CHECK(has(r.diagnosis.detail, "50uA allowed"));
@@ -82,7 +65,7 @@ TEST_CASE("a swing the supply cannot give, and one beyond the rail") {
   s.supply_lo_v = 4.5;
   s.supply_hi_v = 5.5;
   s.swing_vpp = 3;
-  const auto r = synth::design(s, demo_shelf());
+  const auto r = synth::design(s, shelf());
   REQUIRE(r.candidates.empty());
   CHECK(r.diagnosis.binding == "swing");
   CHECK(has(r.diagnosis.detail, "short of the 3 Vpp asked"));
@@ -90,7 +73,7 @@ TEST_CASE("a swing the supply cannot give, and one beyond the rail") {
   s.swing_vpp = 20;  // the request's own check refuses more than twice the supply
   s.stages_min = 2;
   s.stages_max = 3;
-  const auto beyond = synth::design(s, demo_shelf());
+  const auto beyond = synth::design(s, shelf());
   REQUIRE(beyond.candidates.empty());
   CHECK(beyond.diagnosis.binding == "swing");
   CHECK(has(beyond.diagnosis.detail, "does not fit in a supply"));
@@ -103,19 +86,19 @@ TEST_CASE("never a contradiction: a reachable gain is not given as the reason") 
   s.stages_min = 2;
   s.stages_max = 3;
   s.swing_vpp = 8;
-  const auto r = synth::design(s, demo_shelf());
+  const auto r = synth::design(s, shelf());
   if (!r.candidates.empty()) return;  // a chain that swings 8 Vpp would answer it: nothing to diagnose
   CHECK_FALSE(has(r.diagnosis.detail, "no stage reaches a gain of 5"));
 }
 
 TEST_CASE("below unity: said to be an attenuation, a divider's job") {
-  const auto r = synth::design(request(0.0001, 10e3, 12, 100e3), demo_shelf());
+  const auto r = synth::design(request(0.0001, 10e3, 12, 100e3), shelf());
   REQUIRE(r.candidates.empty());
   CHECK(has(r.diagnosis.detail, "attenuation of 80.0 dB"));
   CHECK(has(r.diagnosis.detail, "divider"));
   CHECK_FALSE(has(r.diagnosis.detail, "the largest any stocked device reaches"));
   // A gain a stage can give below unity is designed, with the same word beside it.
-  const auto half = synth::design(request(0.5, 10e3, 12, 100e3), demo_shelf());
+  const auto half = synth::design(request(0.5, 10e3, 12, 100e3), shelf());
   REQUIRE_FALSE(half.candidates.empty());
   REQUIRE_FALSE(half.candidates.front().cautions.empty());
   CHECK(has(half.candidates.front().cautions.front(), "attenuation"));
@@ -125,13 +108,13 @@ TEST_CASE("a supply beyond every transistor's rating: the rating binds, named wi
   // Common practice: a transistor holds at most 80 % of its VDS(max) or VCEO; the demo's types
   // are rated 25..40 V, so a 48 V rail fits none of them.
   synth::Spec s = request(2, 10e3, 48, 100e3);
-  const auto r = synth::design(s, demo_shelf());
+  const auto r = synth::design(s, shelf());
   REQUIRE(r.candidates.empty());
   CHECK(r.diagnosis.binding == "rating");
   CHECK(has(r.diagnosis.detail, "may hold 48 V against its"));
   // With 30 V, only the types rated 40 V (32 V allowed: SQ-410, SQ-510) may carry it.
   s.supply_lo_v = s.supply_hi_v = 30;
-  const auto ok = synth::design(s, demo_shelf());
+  const auto ok = synth::design(s, shelf());
   REQUIRE_FALSE(ok.candidates.empty());
   for (const auto& c : ok.candidates) {
     REQUIRE(c.device.ratings.v_max_v.has_value());

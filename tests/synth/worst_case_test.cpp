@@ -25,28 +25,12 @@
 #include "shelfstage/stages/chain.hpp"
 #include "shelfstage/store/csv.hpp"
 #include "shelfstage/synth/design.hpp"
+#include "demo_shelf.hpp"
 #include "support/ngspice.hpp"
 
 namespace shelfstage::test {
 
 namespace {
-
-std::string source_file(const std::string& relative) {
-  std::ifstream in(std::string(SHELFSTAGE_SOURCE_DIR) + "/" + relative, std::ios::binary);
-  REQUIRE_MESSAGE(in.good(), "cannot read ", relative);
-  std::ostringstream ss;
-  ss << in.rdbuf();
-  return ss.str();
-}
-
-synth::Inventory demo_shelf() {
-  synth::Inventory inv;
-  inv.devices = store::parse_devices_csv(source_file("data-demo/devices.csv"), "devices.csv");
-  inv.parts = store::parse_stock_csv(source_file("data-demo/stock.csv"), "stock.csv", inv.devices);
-  std::int64_t id = 1;
-  for (auto& p : inv.parts) p.id = id++;
-  return inv;
-}
 
 /// The pieces a practitioner would try for one stage: the datasheet's limits.
 std::vector<devices::PieceFigures> limit_pieces(const devices::DeviceSpread& s) {
