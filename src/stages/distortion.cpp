@@ -216,13 +216,6 @@ double Transfer::input_for(double level) const {
   return a;
 }
 
-double Transfer::hd(int m, double level) const {
-  const double a = input_for(level);
-  if (!(a > 0) || m < 1 || m > kOrder) return 0.0;
-  const auto h = harmonics_at_input(a);
-  return std::abs(h[m]) / std::abs(h[1]);
-}
-
 double Transfer::thd(double level) const {
   const double a = input_for(level);
   return a > 0 ? detail::thd_at_input(*this, a) : 0.0;

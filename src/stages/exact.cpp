@@ -251,10 +251,9 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
           guess.o[2] = 2.0 * p.hd2 / level;
           guess.o[3] = 4.0 * p.hd3 / (level * level);
           double hi = std::min(amp_clip, guess.level_for(c.max_thd, p.clip_peak_v) / std::abs(p.gain));
-          double lo = hi;
           auto over = [&](double a) { return thd_of(harmonics(a, 32)) > c.max_thd; };
           while (!over(hi) && hi < amp_clip) hi = std::min(amp_clip, 2 * hi);
-          lo = 0.5 * hi;
+          double lo = 0.5 * hi;
           for (int i = 0; i < 60 && over(lo); ++i) {
             hi = lo;
             lo *= 0.5;

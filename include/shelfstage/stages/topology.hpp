@@ -92,8 +92,6 @@ struct Transfer {
   std::array<double, kOrder + 1> harmonics_at_input(double a) const;
   /// The input peak whose fundamental at the output is `level` (0 when none is found).
   double input_for(double level) const;
-  /// Harmonic m over the fundamental at the output level.
-  double hd(int m, double level) const;
   /// Total harmonic distortion at the output level, with the series' last term counted once
   /// more as a bound on the orders left out.
   double thd(double level) const;
