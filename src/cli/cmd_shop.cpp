@@ -66,7 +66,15 @@ void run_shop(const ShopOptions& o, Context& ctx) {
   spec.copies = copies;
   synth::Candidate kept = d.candidate;
   synth::evaluate_candidate(kept, spec);
-  const synth::DesignResult market = synth::design_with_purchases(spec, load_inventory(db));
+  const synth::Inventory inventory = load_inventory(db);
+  const synth::DesignResult market = synth::design_with_purchases(spec, inventory);
+  // When the kept design is short, the smallest purchase that makes the request buildable
+  // may be another design: offer it when it buys fewer pieces.
+  int short_pieces = 0;
+  for (const auto& s : pick.short_items) short_pieces += s.qty;
+  std::optional<synth::Purchase> smaller;
+  if (short_pieces > 0)
+    if (auto p = synth::smallest_purchase(spec, inventory); p && p->pieces < short_pieces) smaller = std::move(p);
   std::vector<store::Part> augmented = stock;
   const auto extra = synth::purchasable_parts(synth::purchase_volts(spec));
   augmented.insert(augmented.end(), extra.begin(), extra.end());
@@ -117,10 +125,17 @@ void run_shop(const ShopOptions& o, Context& ctx) {
                         {"buy", buy},
                         {"parts", parts}});
     }
+    report::Json smallest = nullptr;
+    if (smaller) {
+      report::Json buy = report::Json::array();
+      for (const auto& s : report::purchase_items(*smaller)) buy.push_back(report::short_item_json(s));
+      smallest = {{"design", report::candidate_json(smaller->design)}, {"pieces_to_buy", smaller->pieces}, {"buy", buy}};
+    }
     print_json(ctx, {{"schema", 1},
                      {"design", d.saved.id},
                      {"copies", copies},
                      {"short", shorts},
+                     {"smallest_purchase", smallest},
                      {"kept", {{"error_worst", kept.error_worst}, {"error_nominal", kept.error_nominal}, {"score", kept.score}}},
                      {"improvements", better}});
     return;
@@ -131,6 +146,15 @@ void run_shop(const ShopOptions& o, Context& ctx) {
   } else {
     ctx.out << fmt::format("To build {} of {}, buy:\n", copies_text, d.saved.id);
     ctx.out << report::shopping_text(pick.short_items);
+  }
+  if (smaller) {
+    const auto& c = smaller->design;
+    ctx.out << fmt::format(
+        "\nA smaller purchase for the same request: {} piece{} instead of {}, for {} with {} (worst-case gain "
+        "error {}):\n   {}\n",
+        smaller->pieces, smaller->pieces == 1 ? "" : "s", short_pieces, c.topology_name(), c.device.name,
+        percent(c.error_worst), report::recipe_line(c));
+    ctx.out << report::shopping_text(report::purchase_items(*smaller));
   }
   ctx.out << fmt::format("\nWorst-case gain error of {}: {} (nominal {}).\n", d.saved.id, percent(kept.error_worst),
                          percent(std::abs(kept.error_nominal)));

@@ -128,12 +128,16 @@ std::string candidates_table(const synth::DesignResult& r) {
 std::string diagnosis_text(const synth::DesignResult& r) {
   std::string out = fmt::format("error: no stage meets the request: {}\n", r.diagnosis.detail);
   if (!r.diagnosis.suggestions.empty()) {
-    out += "what would make it feasible:\n";
+    const int pieces = r.diagnosis.with_purchases ? r.diagnosis.with_purchases->purchases : 0;
+    out += pieces > 0 ? fmt::format("the smallest purchase that makes it feasible ({} piece{}):\n", pieces,
+                                    pieces == 1 ? "" : "s")
+                      : std::string("what would make it feasible:\n");
     for (const auto& s : r.diagnosis.suggestions) out += "  " + s + "\n";
     if (r.diagnosis.with_purchases) {
       const auto& c = *r.diagnosis.with_purchases;
-      out += fmt::format("  then: {} with {}, gain {} ({}..{} worst case): {}\n", c.topology_name(), device_text(c),
-                         fixed3(c.nominal.gain), fixed3(c.worst.gain.min), fixed3(c.worst.gain.max), recipe_line(c));
+      out += fmt::format("  then: {} with {}, gain {} ({}..{} worst case, error up to {:.1f} %): {}\n",
+                         c.topology_name(), device_text(c), fixed3(c.nominal.gain), fixed3(c.worst.gain.min),
+                         fixed3(c.worst.gain.max), 100 * c.error_worst, recipe_line(c));
     }
   }
   return out;

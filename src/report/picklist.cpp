@@ -537,6 +537,25 @@ std::string short_summary(const PickList& p) {
   return fmt::format("{}", fmt::join(parts, ", "));
 }
 
+std::vector<ShortItem> purchase_items(const synth::Purchase& p) {
+  std::vector<ShortItem> out;
+  for (const auto& l : p.buy) {
+    ShortItem s;
+    s.kind = l.kind;
+    s.value = l.value;
+    s.tol = l.tol;
+    s.rating = l.rating;
+    s.dielectric = l.dielectric;
+    s.qty = l.qty;
+    s.needed = l.qty + l.held;
+    s.roles = l.roles;
+    for (const auto& rp : p.design.parts)
+      if (std::find(l.roles.begin(), l.roles.end(), rp.role) != l.roles.end()) s.designators.push_back(rp.designator);
+    out.push_back(std::move(s));
+  }
+  return out;
+}
+
 std::string shopping_text(const std::vector<ShortItem>& items) {
   TextTable t({{"QTY", Align::right}, {"KIND"}, {"VALUE", Align::right}, {"TOL"}, {"RATING"}, {"FOR"}});
   for (const auto& s : items) {

@@ -504,8 +504,7 @@ class ChainSearch {
         const std::size_t cin = stages::input_coupling_role(*s.topology);
         const auto it = std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "CIN"; });
         if (it != s.parts.end()) {
-          s.pieces -= static_cast<int>(it->combo.count);
-          s.purchases -= it->combo.purchase ? static_cast<int>(it->combo.count) : 0;
+          s.pieces -= static_cast<int>(it->combo.count);  // (chains never search a shelf with purchases)
           s.parts.erase(it);
         }
         if (cin < s.topology->roles().size()) s.values[cin] = stages::kLinkedCin;

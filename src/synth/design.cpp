@@ -19,6 +19,7 @@
 #include <unordered_set>
 
 #include "detail.hpp"
+#include "shelfstage/synth/purchases.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/units/notation.hpp"
 #include "shelfstage/units/tolerance.hpp"
@@ -254,7 +255,8 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     values[i] = combo->nominal;
   }
   // One quantity pool: every role and every copy.
-  if (!pool_ok(combos)) {
+  const int short_by = shortfall(combos);
+  if (short_by < 0) {
     ++stats.failures["stock"];
     return false;
   }
@@ -285,8 +287,13 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   out.nominal = nominal;
   out.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
   out.pieces = 1;
-  for (const Combo* cb : combos)
-    if (cb) out.pieces += cb->count;
+  out.purchases = short_by;
+  for (const Combo* cb : combos) {
+    if (!cb) continue;
+    out.pieces += cb->count;
+    for (std::size_t k = 0; k < cb->count; ++k)
+      if (shelf_.groups()[cb->group[k]].purchase) out.purchases += spec_.copies;
+  }
   return true;
 }
 
@@ -306,8 +313,8 @@ Candidate StageBuilder::candidate(const Draft& d) const {
     add_part(c, i, *d.combos[i]);
     if (d.combos[i]->polarised) c.parts.back().plus_net = std::string(d.plus[i]);
     c.pieces += d.combos[i]->count;
-    if (d.combos[i]->purchase) c.purchases += d.combos[i]->count;
   }
+  c.purchases = d.purchases;
   c.error_nominal = d.error_nominal;
   return c;
 }
@@ -320,7 +327,8 @@ double StageBuilder::quick_score(const Draft& c, SearchStats& stats) const {
     if (!p.valid || !p.active) return 1e6;
     worst = std::max(worst, std::abs(std::abs(p.gain) / spec_.gain - 1.0));
   }
-  return 100.0 * (0.5 * std::abs(c.error_nominal) + worst) + detail::kPiecePoints * c.pieces;
+  return 100.0 * (0.5 * std::abs(c.error_nominal) + worst) + detail::kPiecePoints * c.pieces +
+         spec_.purchase_points * c.purchases;
 }
 
 bool StageBuilder::assess(Candidate& c, SearchStats& stats) const {
@@ -351,8 +359,8 @@ void StageBuilder::add_part(Candidate& c, std::size_t role, const Combo& combo) 
   c.parts.push_back(rp);
 }
 
-bool StageBuilder::pool_ok(const std::array<const Combo*, stages::kMaxRoles>& combos) const {
-  if (device_available_ < spec_.copies) return false;
+int StageBuilder::shortfall(const std::array<const Combo*, stages::kMaxRoles>& combos) const {
+  if (device_available_ < spec_.copies) return -1;
   // At most 3 x kMaxRoles groups: a flat list beats a map here.
   std::array<std::pair<std::uint32_t, int>, 3 * stages::kMaxRoles> need{};
   std::size_t n = 0;
@@ -365,9 +373,14 @@ bool StageBuilder::pool_ok(const std::array<const Combo*, stages::kMaxRoles>& co
       need[j].second += spec_.copies;
     }
   }
-  for (std::size_t j = 0; j < n; ++j)
-    if (shelf_.groups()[need[j].first].available < need[j].second) return false;
-  return true;
+  int buy = 0;
+  for (std::size_t j = 0; j < n; ++j) {
+    const StockGroup& g = shelf_.groups()[need[j].first];
+    if (g.available >= need[j].second) continue;
+    if (!g.buyable) return -1;
+    buy += need[j].second - g.available;
+  }
+  return buy;
 }
 
 void SearchStats::merge(const SearchStats& o) {
@@ -491,6 +504,10 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
   if (binding == "current") return "every stage that works draws more than the current limit";
   if (binding == "band") return "no stage stays flat within 1 dB across the band at every corner";
   if (binding == "bias") return "no stage holds its transistor in the active region at every corner";
+  if (binding == "stock" && spec.copies > 1)
+    return fmt::format("one copy can be built, but the stages that work need more pieces than the shelf holds for "
+                       "{} copies",
+                       spec.copies);
   if (binding == "stock") return "the stages that would work need more pieces than the shelf holds";
   if (binding == "capacitor")
     return "the shelf holds no capacitor large enough, or rated high enough, for the band and the supply (" +
@@ -663,12 +680,22 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
       detail::run_jobs(spec, shelf, jobs, probe, {}, true);
       tally.best_gain = std::max(tally.best_gain, probe.best_gain);
     }
+    // Several copies that the shelf holds too few pieces for: when one copy fits, the
+    // quantity binds, whatever stopped the rest.
+    if (spec.copies > 1 && tally.failures.count("stock") && !jobs.empty()) {
+      Spec one = spec;
+      one.copies = 1;
+      one.mc_samples = 0;
+      one.top = 1;
+      one.explain_failure = false;
+      if (!design(one, inv).candidates.empty()) binding = "stock";
+    }
     // A swing beyond the supply binds before anything else: an output swings within its rail.
     if (spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v) binding = "swing";
     r.diagnosis.binding = binding;
     r.diagnosis.detail = jobs.empty() ? "no stocked transistor fits the chosen topologies and device filters"
                                       : describe_binding(binding, spec, tally);
-    if (!jobs.empty() && spec.explain_failure && spec.stages_min <= 1) detail::explain_binding(r.diagnosis, spec, inv);
+    if (!jobs.empty() && spec.explain_failure && spec.stages_min <= 1 && binding != "stock") detail::explain_binding(r.diagnosis, spec, inv);
     if (spec.gain < 1.0)
       r.diagnosis.detail = fmt::format(
           "a gain of {:.3g} is an attenuation of {:.1f} dB: two resistors as a divider give it without a "
@@ -676,7 +703,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
           spec.gain, -units::to_db(spec.gain), r.diagnosis.detail);
     if (spec.stages_max >= 2 && !spec.piece && !jobs.empty())
       r.diagnosis.detail += fmt::format("; no chain of up to {} stages meets it either", spec.stages_max);
-    if (!tally.corner_failures.empty())
+    if (!tally.corner_failures.empty() && binding != "stock")
       r.diagnosis.detail += "; stages that work at nominal fail at the worst-case corners of the device spread, "
                             "tolerances or supply (a measured piece, --piece, narrows the spread)";
     auto list = [](const std::map<std::string, long>& m) {
@@ -689,45 +716,20 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
                                         tally.proposals, tally.failures.empty() ? "none" : list(tally.failures),
                                         tally.corner_failures.empty() ? "none" : list(tally.corner_failures));
     if (!jobs.empty()) {
-      Shelf::Options po = so;
-      po.add_purchases = true;
-      po.purchase_volts = std::max(50.0, 2.0 * spec.supply_hi_v);
-      const Shelf market(inv.parts, po);
-      SearchStats t2;
-      // The smallest purchase: fewest pieces to buy, then fewest distinct values, then the
-      // best design (its score; the standard values are all the market offers).
-      Spec ms = spec;
-      ms.purchase_points = 1000.0;
-      std::vector<Candidate> bought = detail::run_jobs(ms, market, jobs, t2, {});
-      auto distinct = [&](const Candidate& c) {
-        std::set<std::size_t> groups;
-        for (const auto& rp : c.parts)
-          if (rp.combo.purchase)
-            for (std::size_t k = 0; k < rp.combo.count; ++k)
-              if (market.groups()[rp.combo.group[k]].purchase) groups.insert(rp.combo.group[k]);
-        return groups.size();
-      };
-      std::stable_sort(bought.begin(), bought.end(), [&](const Candidate& a, const Candidate& b) {
-        return std::make_tuple(a.purchases, distinct(a), a.score) < std::make_tuple(b.purchases, distinct(b), b.score);
-      });
-      if (!bought.empty()) {
-        Candidate& best = bought.front();
-        detail::finalize(best, market);
-        best.id = candidate_id(best, spec.copies);
-        for (const auto& rp : best.parts) {
-          if (!rp.combo.purchase) continue;
-          for (std::size_t k = 0; k < rp.combo.count; ++k) {
-            const auto& g = market.groups()[rp.combo.group[k]];
-            if (!g.purchase) continue;
-            r.diagnosis.suggestions.push_back(fmt::format(
-                "buy {} x {} {}{} for {} of {} with {}", spec.copies,
-                units::format_value(g.value, g.kind == store::PartKind::resistor ? units::Unit::ohm : units::Unit::farad),
-                units::format_tolerance(g.tol),
-                g.kind == store::PartKind::capacitor ? fmt::format(" {}V {}", g.rating, g.dielectric) : std::string(),
-                rp.role, best.topology->name(), best.device.name));
-          }
+      if (auto bought = smallest_purchase(spec, inv)) {
+        for (const auto& l : bought->buy) {
+          const bool resistor = l.kind == store::PartKind::resistor;
+          std::string roles;
+          for (const auto& role : l.roles) roles += (roles.empty() ? "" : ", ") + role;
+          r.diagnosis.suggestions.push_back(fmt::format(
+              "buy {} x {} {}{} for {} of {} with {}{}", l.qty,
+              units::format_value(l.value, resistor ? units::Unit::ohm : units::Unit::farad),
+              units::format_tolerance(l.tol),
+              resistor ? std::string() : fmt::format(" {}V {}", l.rating, l.dielectric), roles,
+              bought->design.topology->name(), bought->design.device.name,
+              l.held > 0 ? fmt::format(" (the shelf holds {} of the {} needed)", l.held, l.held + l.qty) : std::string()));
         }
-        r.diagnosis.with_purchases = best;
+        r.diagnosis.with_purchases = std::move(bought->design);
       }
     }
   }

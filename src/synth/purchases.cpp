@@ -2,7 +2,11 @@
 #include "shelfstage/synth/purchases.hpp"
 
 #include <algorithm>
+#include <map>
+#include <set>
+#include <tuple>
 
+#include "detail.hpp"
 #include "shelfstage/synth/shelf.hpp"
 
 namespace shelfstage::synth {
@@ -36,6 +40,83 @@ std::vector<store::Part> purchasable_parts(double capacitor_volts) {
 }
 
 double purchase_volts(const Spec& spec) { return std::max(50.0, 2.0 * spec.supply_hi_v); }
+
+namespace {
+
+// What a design on a shelf with purchases needs to buy for every copy: each stock group it
+// uses more pieces of than the shelf holds (all of them for a purchasable value).
+std::vector<PurchaseLine> purchase_lines(const Candidate& c, const Shelf& shelf, int copies) {
+  std::map<std::uint32_t, std::pair<int, std::vector<std::string>>> need;  // group -> pieces, roles
+  for (const auto& rp : c.parts)
+    for (std::size_t k = 0; k < rp.combo.count; ++k) {
+      auto& [n, roles] = need[rp.combo.group[k]];
+      n += copies;
+      if (std::find(roles.begin(), roles.end(), rp.role) == roles.end()) roles.push_back(rp.role);
+    }
+  std::vector<PurchaseLine> out;
+  for (const auto& [gi, nr] : need) {
+    const StockGroup& g = shelf.groups()[gi];
+    const int held = g.purchase ? 0 : g.available;
+    if (nr.first <= held) continue;
+    PurchaseLine l;
+    l.kind = g.kind;
+    l.value = g.value;
+    l.tol = g.tol;
+    l.rating = g.rating;
+    l.dielectric = g.dielectric;
+    l.qty = nr.first - held;
+    l.held = held;
+    l.roles = nr.second;
+    out.push_back(std::move(l));
+  }
+  std::sort(out.begin(), out.end(), [](const PurchaseLine& a, const PurchaseLine& b) {
+    return std::make_tuple(a.kind, a.value) < std::make_tuple(b.kind, b.value);
+  });
+  return out;
+}
+
+}  // namespace
+
+std::optional<Purchase> smallest_purchase(const Spec& spec, const Inventory& inventory) {
+  const std::vector<detail::Job> jobs = detail::make_jobs(spec, inventory);
+  if (jobs.empty()) return std::nullopt;
+  Shelf::Options o;
+  o.combine = spec.combine;
+  o.add_purchases = true;
+  o.purchase_volts = purchase_volts(spec);
+  const Shelf market(inventory.parts, o);
+  // A piece to buy outweighs any difference in accuracy, so the search keeps the designs
+  // that buy least; the ranking below settles pieces, then distinct values, then the score.
+  Spec ms = spec;
+  ms.purchase_points = 1000.0;
+  ms.mc_samples = 0;
+  SearchStats tally;
+  std::vector<Candidate> found = detail::run_jobs(ms, market, jobs, tally, {});
+  std::vector<std::pair<std::tuple<int, std::size_t, double>, std::size_t>> order;
+  std::vector<std::vector<PurchaseLine>> lines(found.size());
+  for (std::size_t i = 0; i < found.size(); ++i) {
+    lines[i] = purchase_lines(found[i], market, spec.copies);
+    int pieces = 0;
+    for (const auto& l : lines[i]) pieces += l.qty;
+    order.push_back({{pieces, lines[i].size(), found[i].score}, i});
+  }
+  std::stable_sort(order.begin(), order.end(), [](const auto& a, const auto& b) { return a.first < b.first; });
+  for (const auto& [key, i] : order) {
+    Candidate c = found[i];
+    detail::finalize(c, market);
+    // Finished as a listed design is (the full worst case and the exact solver's DC): a
+    // purchase is suggested only for a design that holds.
+    if (!detail::finish_stage(c, ms).empty()) continue;
+    c.purchases = std::get<0>(key);
+    c.id = candidate_id(c, spec.copies);
+    Purchase p;
+    p.design = std::move(c);
+    p.buy = std::move(lines[i]);
+    p.pieces = std::get<0>(key);
+    return p;
+  }
+  return std::nullopt;
+}
 
 DesignResult design_with_purchases(const Spec& spec, const Inventory& inventory, int top) {
   Inventory market = inventory;

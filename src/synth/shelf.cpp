@@ -116,7 +116,9 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
     it->lines.push_back(p->id);
     it->line_available.push_back(p->available());
   }
+  market_ = options.add_purchases;
   if (options.add_purchases) {
+    for (auto& g : groups_) g.buyable = true;  // more of what is stocked can be bought
     // Values one could order: E24 resistors (5 %, 0.25 W) over 10 ohm..10M, E6 film
     // capacitors 1n..1u (63 V) and E6 electrolytics 1u..1000u at the purchase rating.
     auto add = [&](store::PartKind kind, double value, units::Tolerance tol, double rating, const char* diel, bool pol) {
@@ -129,6 +131,7 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
       g.polarised = pol;
       g.available = 1000000;
       g.purchase = true;
+      g.buyable = true;
       groups_.push_back(g);
     };
     for (double dec = 10; dec <= 1e6 * 1.001; dec *= 10)
@@ -149,6 +152,8 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
     if (r_values_.empty() || !same(r_values_.back(), c.nominal)) r_values_.push_back(c.nominal);
     if (c.count == 1 && !c.purchase && (r_singles_.empty() || !same(r_singles_.back(), c.nominal)))
       r_singles_.push_back(c.nominal);
+    if (market_ && !c.purchase && (r_stocked_.empty() || !same(r_stocked_.back(), c.nominal)))
+      r_stocked_.push_back(c.nominal);
   }
 }
 
@@ -260,17 +265,28 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
   out = std::move(sorted);
 }
 
+namespace {
+
+// The n values of a sorted list nearest to target (by ratio), nearest first.
+void nearest_in(const std::vector<double>& values, double target, std::size_t n, std::vector<double>& out) {
+  const auto it = std::lower_bound(values.begin(), values.end(), target);
+  auto hi = static_cast<std::ptrdiff_t>(it - values.begin());
+  auto lo = hi - 1;
+  const auto size = static_cast<std::ptrdiff_t>(values.size());
+  for (std::size_t k = 0; k < n && (lo >= 0 || hi < size); ++k) {
+    const double dl = lo >= 0 ? std::log(target / values[static_cast<std::size_t>(lo)]) : 1e300;
+    const double dh = hi < size ? std::log(values[static_cast<std::size_t>(hi)] / target) : 1e300;
+    out.push_back(dl <= dh ? values[static_cast<std::size_t>(lo--)] : values[static_cast<std::size_t>(hi++)]);
+  }
+}
+
+}  // namespace
+
 void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) const {
   if (r_values_.empty() || !(target > 0)) return;
-  const auto it = std::lower_bound(r_values_.begin(), r_values_.end(), target);
-  auto hi = static_cast<std::ptrdiff_t>(it - r_values_.begin());
-  auto lo = hi - 1;
-  const auto size = static_cast<std::ptrdiff_t>(r_values_.size());
-  for (std::size_t k = 0; k < n && (lo >= 0 || hi < size); ++k) {
-    const double dl = lo >= 0 ? std::log(target / r_values_[static_cast<std::size_t>(lo)]) : 1e300;
-    const double dh = hi < size ? std::log(r_values_[static_cast<std::size_t>(hi)] / target) : 1e300;
-    out.push_back(dl <= dh ? r_values_[static_cast<std::size_t>(lo--)] : r_values_[static_cast<std::size_t>(hi++)]);
-  }
+  nearest_in(r_values_, target, n, out);
+  // On a shelf with purchases, the nearest values that buy nothing too.
+  if (market_) nearest_in(r_stocked_, target, n, out);
   // Always offer the nearest single parts on either side as well: one piece beats two
   // when the difference hides in the tolerance.
   const auto s1 = std::lower_bound(r_singles_.begin(), r_singles_.end(), target);
@@ -278,21 +294,31 @@ void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) cons
   if (s1 != r_singles_.begin()) out.push_back(*(s1 - 1));
 }
 
+namespace {
+
+// Up to max_n values of a sorted list spaced evenly (by ratio) over [lo, hi].
+void spread_in(const std::vector<double>& values, double lo, double hi, std::size_t max_n, std::vector<double>& out) {
+  double last = -1;
+  for (std::size_t k = 0; k < max_n; ++k) {
+    const double target = lo * std::pow(hi / lo, static_cast<double>(k) / static_cast<double>(max_n - 1));
+    std::vector<double> one;
+    nearest_in(values, target, 1, one);
+    if (one.empty() || one[0] < lo * 0.999 || one[0] > hi * 1.001 || same(one[0], last)) continue;
+    out.push_back(one[0]);
+    last = one[0];
+  }
+}
+
+}  // namespace
+
 void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>& out) const {
   if (r_values_.empty() || !(lo > 0) || !(hi >= lo) || max_n == 0) return;
   if (max_n == 1) {
     nearest(std::sqrt(lo * hi), 1, out);
     return;
   }
-  double last = -1;
-  for (std::size_t k = 0; k < max_n; ++k) {
-    const double target = lo * std::pow(hi / lo, static_cast<double>(k) / static_cast<double>(max_n - 1));
-    std::vector<double> one;
-    nearest(target, 1, one);
-    if (one.empty() || one[0] < lo * 0.999 || one[0] > hi * 1.001 || same(one[0], last)) continue;
-    out.push_back(one[0]);
-    last = one[0];
-  }
+  spread_in(r_values_, lo, hi, max_n, out);
+  if (market_) spread_in(r_stocked_, lo, hi, max_n, out);
 }
 
 const Combo* Shelf::resistor(double nominal) const {
@@ -303,27 +329,34 @@ const Combo* Shelf::resistor(double nominal) const {
 }
 
 const Combo* Shelf::capacitor_at_least(double min_f, double dc_v, bool allow_polarised) const {
-  const Combo* best = nullptr;
-  auto ok = [&](const Combo& c) {
+  auto ok = [&](const Combo& c, bool purchases) {
     if (c.lo < min_f) return false;
+    if (c.purchase && !purchases) return false;
     if (c.polarised && !allow_polarised) return false;
     if (c.rating > 0 && c.rating < 1.25 * dc_v) return false;
     return true;
   };
-  auto it = std::lower_bound(c_.begin(), c_.end(), min_f, [](const Combo& c, double t) { return c.nominal < t; });
-  for (; it != c_.end(); ++it) {
-    if (!ok(*it)) continue;
-    if (!best) {
-      best = &*it;
-      continue;
+  auto find = [&](bool purchases) {
+    const Combo* best = nullptr;
+    auto it = std::lower_bound(c_.begin(), c_.end(), min_f, [](const Combo& c, double t) { return c.nominal < t; });
+    for (; it != c_.end(); ++it) {
+      if (!ok(*it, purchases)) continue;
+      if (!best) {
+        best = &*it;
+        continue;
+      }
+      if (it->nominal > 3.0 * best->nominal) break;
+      // Within a factor of three, fewer pieces and a stated rating win.
+      if (std::make_tuple(it->purchase, it->count, it->rating <= 0) <
+          std::make_tuple(best->purchase, best->count, best->rating <= 0))
+        best = &*it;
     }
-    if (it->nominal > 3.0 * best->nominal) break;
-    // Within a factor of three, fewer pieces and a stated rating win.
-    if (std::make_tuple(it->purchase, it->count, it->rating <= 0) <
-        std::make_tuple(best->purchase, best->count, best->rating <= 0))
-      best = &*it;
-  }
-  return best;
+    return best;
+  };
+  // On a shelf with purchases, a stocked capacitor of any larger value before one to buy.
+  if (market_)
+    if (const Combo* stocked = find(false)) return stocked;
+  return find(true);
 }
 
 std::string compact_value(double value, bool resistor) {

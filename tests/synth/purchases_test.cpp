@@ -6,6 +6,8 @@
 
 #include <algorithm>
 #include <cmath>
+#include <fmt/format.h>
+#include <map>
 
 #include "synth/fixture.hpp"
 
@@ -103,4 +105,150 @@ TEST_CASE("design_with_purchases: values the shelf holds come from the shelf fir
         if (!synth::is_purchase_line(lines.front())) ++shelf_first;
       }
   CHECK(shelf_first > 0);
+}
+
+// --- The smallest purchase, checked by enumeration ---------------------------------------
+
+namespace {
+
+// A shelf holding exactly what one design uses for `copies` copies (the lines its pick list
+// would take first), with its transistor.
+synth::Inventory exact_shelf(const synth::Inventory& from, const synth::Candidate& d, int copies) {
+  synth::Inventory inv;
+  inv.devices = from.devices;
+  std::map<std::int64_t, int> need;
+  for (const auto& rp : d.parts)
+    for (const auto& lines : rp.lines) need[lines.front()] += copies;
+  for (const auto& p : from.parts) {
+    if (!store::is_passive(p.kind)) {
+      if (p.device == d.device.name) inv.parts.push_back(p);
+      continue;
+    }
+    const auto it = need.find(p.id);
+    if (it == need.end()) continue;
+    store::Part q = p;
+    q.qty = it->second;
+    inv.parts.push_back(q);
+  }
+  return inv;
+}
+
+bool feasible(const synth::Spec& spec, const synth::Inventory& inv) {
+  synth::Spec s = spec;
+  s.mc_samples = 0;
+  s.top = 1;
+  s.explain_failure = false;
+  return !synth::design(s, inv).candidates.empty();
+}
+
+// Every way to add one piece: one more of each stocked line, or one of each purchasable
+// value (purchasable_parts).
+std::vector<store::Part> one_piece_additions(const synth::Inventory& inv, double volts) {
+  std::vector<store::Part> out;
+  for (const auto& p : inv.parts)
+    if (store::is_passive(p.kind)) out.push_back(p);
+  for (auto p : synth::purchasable_parts(volts)) out.push_back(p);
+  return out;
+}
+
+synth::Inventory with_piece(synth::Inventory inv, const store::Part& add, int qty) {
+  for (auto& p : inv.parts)
+    if (p.id == add.id) {
+      p.qty += qty;
+      return inv;
+    }
+  store::Part q = add;
+  q.id = 100000 + static_cast<std::int64_t>(inv.parts.size());
+  q.qty = qty;
+  q.bin = "N1";
+  inv.parts.push_back(q);
+  return inv;
+}
+
+// The purchase's lines added to the shelf as stock.
+synth::Inventory with_purchase(synth::Inventory inv, const synth::Purchase& p) {
+  for (const auto& l : p.buy) {
+    store::Part q;
+    q.kind = l.kind;
+    q.value = l.value;
+    q.tol = l.tol;
+    if (l.kind == store::PartKind::resistor)
+      q.power_w = l.rating;
+    else
+      q.volts = l.rating;
+    q.dielectric = l.dielectric;
+    q.id = 200000 + static_cast<std::int64_t>(inv.parts.size());
+    q.qty = l.qty;
+    q.bin = "N2";
+    inv.parts.push_back(q);
+  }
+  return inv;
+}
+
+struct Case {
+  const char* name;
+  const char* topology;
+  bool jfet;
+  int copies;
+  int remove;  // pieces taken from the design's gate or base resistor line
+};
+
+}  // namespace
+
+TEST_CASE("smallest_purchase: minimal on shelves where the minimum is known by enumeration") {
+  // Each shelf holds exactly one working design for the copies asked, less `remove` pieces
+  // of one resistor line. Then no design fits (checked), the smallest purchase buys exactly
+  // `remove` pieces (one piece fewer cannot help: every one-piece addition is enumerated,
+  // a top-up of each line and each purchasable value), and buying it makes the request fit.
+  for (const Case& k : {Case{"two copies short of one gate resistor", "jfet-cs-self", true, 2, 1},
+                        Case{"one copy without its gate resistor", "jfet-cs-self", true, 1, 1},
+                        Case{"two copies without a divider resistor", "bjt-ce-divider", false, 2, 2},
+                        Case{"three copies short of two pieces", "bjt-ce-divider", false, 3, 2}}) {
+    const std::string name = k.name;
+    CAPTURE(name);
+    const auto base = test::small_shelf(3, {k.jfet ? test::njfet() : test::npn()});
+    auto spec = test::basic_spec(k.jfet ? 4 : 10);
+    spec.topologies = {k.topology};
+    spec.copies = k.copies;
+    spec.mc_samples = 0;
+    spec.combine = 1;
+    const auto r = synth::design(spec, base);
+    REQUIRE_FALSE(r.candidates.empty());
+    const synth::Candidate& d = r.candidates.front();
+    auto inv = exact_shelf(base, d, k.copies);
+    REQUIRE(feasible(spec, inv));
+    // The first resistor of the design (RG or R1) loses pieces.
+    const auto first = std::find_if(d.parts.begin(), d.parts.end(), [](const synth::RolePart& rp) { return rp.kind == 'R'; });
+    REQUIRE(first != d.parts.end());
+    for (auto& p : inv.parts)
+      if (p.id == first->lines.front().front()) p.qty -= k.remove;
+    REQUIRE_FALSE(feasible(spec, inv));
+
+    const auto p = synth::smallest_purchase(spec, inv);
+    REQUIRE(p.has_value());
+    CHECK(p->pieces == k.remove);
+    int sum = 0;
+    for (const auto& l : p->buy) sum += l.qty;
+    CHECK(sum == p->pieces);
+    CHECK(p->buy.size() == 1);  // one value
+    CHECK(p->design.purchases == p->pieces);
+    CHECK(feasible(spec, with_purchase(inv, *p)));
+    if (k.remove >= 2) {
+      // No single piece makes it: enumerate them all.
+      for (const auto& add : one_piece_additions(inv, synth::purchase_volts(spec))) {
+        if (add.kind == store::PartKind::resistor && (add.value < 100 || add.value > 1e6)) continue;
+        CAPTURE(add.value);
+        CHECK_FALSE(feasible(spec, with_piece(inv, add, 1)));
+      }
+    }
+    // The infeasible answer suggests the same purchase.
+    auto s = spec;
+    s.explain_failure = false;
+    const auto none = synth::design(s, inv);
+    REQUIRE(none.candidates.empty());
+    REQUIRE(none.diagnosis.with_purchases.has_value());
+    CHECK(none.diagnosis.with_purchases->purchases == k.remove);
+    REQUIRE(none.diagnosis.suggestions.size() == 1);
+    CHECK(none.diagnosis.suggestions.front().find(fmt::format("buy {} x", k.remove)) == 0);
+  }
 }

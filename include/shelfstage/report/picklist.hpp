@@ -26,6 +26,7 @@
 #include "shelfstage/report/design_json.hpp"
 #include "shelfstage/store/part.hpp"
 #include "shelfstage/synth/design.hpp"
+#include "shelfstage/synth/purchases.hpp"
 
 namespace shelfstage::report {
 
@@ -142,5 +143,8 @@ std::string short_summary(const PickList& p);
 /// The shopping list for people: one line per item with quantity, value, tolerance, rating,
 /// dielectric and where it goes.
 std::string shopping_text(const std::vector<ShortItem>& items);
+
+/// A purchase (synth::smallest_purchase) as items to buy, with the designators they fill.
+std::vector<ShortItem> purchase_items(const synth::Purchase& p);
 
 }  // namespace shelfstage::report

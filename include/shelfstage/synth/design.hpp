@@ -109,7 +109,7 @@ struct Candidate {
   double error_worst = 0;     ///< the largest |gain/G - 1| over the corners
   std::optional<double> yield;  ///< Monte Carlo fraction meeting the spec (top K only)
   int pieces = 0;               ///< parts per copy, transistor included
-  int purchases = 0;            ///< pieces not on the shelf (shopping suggestions only)
+  int purchases = 0;            ///< pieces to buy for all copies (searches on a shelf with purchases only)
   std::vector<std::string> cautions;
   /// A chain: its stages, in signal order, each a whole single-stage candidate evaluated into
   /// the next stage's input (its conditions say the load and source it sees; its designators
@@ -187,6 +187,7 @@ class StageBuilder {
     stages::Performance nominal;
     double error_nominal = 0;
     int pieces = 0;
+    int purchases = 0;  ///< pieces to buy for every copy (a shelf with purchases only)
   };
   bool draft(const stages::Values& resistors, Draft& out, SearchStats& stats) const;
   Candidate candidate(const Draft& d) const;
@@ -203,7 +204,10 @@ class StageBuilder {
 
  private:
   void add_part(Candidate& c, std::size_t role, const Combo& combo) const;
-  bool pool_ok(const std::array<const Combo*, stages::kMaxRoles>& combos) const;
+  /// The quantity pool for every role and copy: the pieces to buy to make it up (0 when
+  /// the shelf holds them all), or -1 when it cannot be made up (too few transistors, or a
+  /// short line on a shelf without purchases).
+  int shortfall(const std::array<const Combo*, stages::kMaxRoles>& combos) const;
   struct Cache;
   const Spec& spec_;
   const Shelf& shelf_;

@@ -35,6 +35,9 @@ struct StockGroup {
   std::vector<std::int64_t> lines;  ///< stock line ids holding it, in bin order
   std::vector<int> line_available;  ///< pieces available on each line
   bool purchase = false;            ///< not on the shelf: a value one could buy
+  /// More pieces can be bought (a shelf with purchases: every stocked line may be topped up);
+  /// the search then counts a shortfall as pieces to buy instead of refusing the design.
+  bool buyable = false;
 };
 
 enum class Join { single, series, parallel };
@@ -71,7 +74,12 @@ class Shelf final : public stages::ValueSource {
   std::span<const Combo> resistors() const { return r_; }
   std::span<const Combo> capacitors() const { return c_; }
 
-  // ValueSource (resistances):
+  /// True when the shelf offers purchases (Options::add_purchases).
+  bool market() const { return market_; }
+
+  // ValueSource (resistances). On a shelf with purchases, nearest() offers the n nearest
+  // values the stock alone makes as well as the n nearest overall, so a design that buys
+  // nothing is always proposed beside the closer ones that would.
   void nearest(double target_ohm, std::size_t n, std::vector<double>& out) const override;
   void spread(double lo_ohm, double hi_ohm, std::size_t max_n, std::vector<double>& out) const override;
 
@@ -80,6 +88,7 @@ class Shelf final : public stages::ValueSource {
   const Combo* resistor(double nominal_ohm) const;
   /// The smallest capacitance whose lower bound reaches min_f and whose rating holds
   /// dc_v (with a 25 % margin); polarised parts only when allow_polarised. nullptr if none.
+  /// On a shelf with purchases, a stocked one (of any larger value) comes before one to buy.
   const Combo* capacitor_at_least(double min_f, double dc_v, bool allow_polarised) const;
 
   /// "10k", "10k+150", "2k2||6k8" (IEC 60062 style values joined).
@@ -91,6 +100,8 @@ class Shelf final : public stages::ValueSource {
   std::vector<Combo> r_, c_;       // sorted by nominal, then pieces
   std::vector<double> r_values_;   // distinct resistor nominals, sorted
   std::vector<double> r_singles_;  // distinct single-part stocked resistor values, sorted
+  std::vector<double> r_stocked_;  // distinct resistor nominals made without a purchase, sorted
+  bool market_ = false;
 };
 
 }  // namespace shelfstage::synth
