@@ -387,6 +387,7 @@ Json design_json(const synth::DesignResult& r) {
     d["detail"] = r.diagnosis.detail;
     d["suggestions"] = r.diagnosis.suggestions;
     d["with_purchases"] = r.diagnosis.with_purchases ? candidate_json(*r.diagnosis.with_purchases) : Json(nullptr);
+    d["pieces_to_buy"] = r.diagnosis.with_purchases ? r.diagnosis.with_purchases->purchases : 0;
     j["diagnosis"] = d;
   }
   j["search"] = {{"proposals", r.proposals}, {"evaluations", r.evaluations}, {"seconds", r.seconds}};

@@ -46,6 +46,26 @@ TEST_CASE("shop: every suggested redesign beats the kept worst-case error by hal
   CHECK(text.out.find("Worst-case gain error of " + shelf.design) != std::string::npos);
 }
 
+TEST_CASE("shop --json: a smaller purchase for the same request, when another design buys fewer pieces") {
+  DemoShelf shelf;
+  CHECK(shelf.json({"shop", shelf.design})["smallest_purchase"].is_null());  // nothing short
+  const auto j = shelf.json({"shop", shelf.design, "--copies", "8"});
+  int kept_short = 0;
+  for (const auto& s : j["short"]) kept_short += s["qty"].get<int>();
+  REQUIRE(kept_short > 0);
+  const auto& p = j["smallest_purchase"];
+  // On the demo shelf the kept (most exact) design is short of 20 pieces for 8 copies; another
+  // design of the same request needs 9 bought.
+  REQUIRE_FALSE(p.is_null());
+  int n = 0;
+  for (const auto& b : p["buy"]) n += b["qty"].get<int>();
+  CHECK(p["pieces_to_buy"] == n);
+  CHECK(n < kept_short);
+  CHECK(p["design"].contains("parts"));
+  const auto text = shelf.run({"shop", shelf.design, "--copies", "8"});
+  CHECK(text.out.find("A smaller purchase for the same request") != std::string::npos);
+}
+
 TEST_CASE("shop: an unknown design is bad input") {
   DemoShelf shelf;
   CHECK(shelf.run({"shop", "snothere"}).status == 1);
