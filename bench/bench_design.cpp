@@ -1,12 +1,22 @@
-// Benchmark: a whole `design` across all five topologies with spread ranking, on a
-// generated 1,000-line stock (E96 and E24 resistors over five decades, E6/E12 capacitors,
-// six device types). Prints wall time per run (median of several) and peak memory.
+// Benchmark: whole `design` searches (all five topologies, every device, spread ranking, top
+// 10 with the Monte Carlo) over a table of varied requests on generated stocks of several
+// sizes and value distributions. Each case runs in a child process of its own, so its peak
+// memory (max RSS) is its own. Prints one row per case: proposals, evaluations, seconds (the
+// best of the runs), peak memory, and the top design.
+//
+// Usage: bench_design [--runs N] [--sizes 250,1000,...] [--stocks eseries,random,hobby]
+//                     [--requests name,...] [--combine 3]
 #include <sys/resource.h>
+#include <sys/wait.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <chrono>
+#include <cmath>
 #include <cstdio>
+#include <cstring>
 #include <random>
+#include <sstream>
 #include <string>
 #include <vector>
 
@@ -17,135 +27,314 @@ using namespace shelfstage;
 
 namespace {
 
-synth::Inventory generated_stock() {
+// --- Generated stocks ---------------------------------------------------------------------
+
+class StockMaker {
+ public:
+  explicit StockMaker(unsigned seed) : rng_(seed) {}
   synth::Inventory inv;
-  std::mt19937 rng(42);
-  std::uniform_int_distribution<int> qty(0, 40);
-  std::int64_t id = 1;
-  auto add = [&](store::PartKind k, double v, units::Tolerance tol, std::optional<double> power,
-                 std::optional<double> volts, const char* diel, std::string bin) {
+
+  void add(store::PartKind k, double v, units::Tolerance tol, std::optional<double> power, std::optional<double> volts,
+           const char* diel, int qty) {
     store::Part p;
-    p.id = id++;
+    p.id = id_++;
     p.kind = k;
     p.value = v;
     p.tol = tol;
     p.power_w = power;
     p.volts = volts;
     p.dielectric = diel;
-    p.qty = qty(rng);
-    p.bin = std::move(bin);
-    inv.parts.push_back(p);
-  };
-  int bin = 0;
-  for (double dec = 10; dec <= 1e5 * 1.01; dec *= 10) {
-    for (double m : units::eseries(96)) add(store::PartKind::resistor, m * dec, {0.01, 0.01}, 0.25, {}, "", "MF" + std::to_string(bin++ / 20));
-    for (double m : units::eseries(24)) add(store::PartKind::resistor, m * dec, {0.05, 0.05}, 0.25, {}, "", "CF" + std::to_string(bin++ / 20));
-  }
-  // Second bins for the common E12 values (the same value in two places).
-  for (double dec = 100; dec <= 1e5 * 1.01; dec *= 10)
-    for (double m : units::eseries(12)) add(store::PartKind::resistor, m * dec, {0.05, 0.05}, 0.5, {}, "", "X" + std::to_string(bin++ / 10));
-  for (double dec = 10e-12; dec <= 1e-7 * 1.01; dec *= 10)
-    for (double m : units::eseries(12)) add(store::PartKind::capacitor, m * dec, {0.05, 0.05}, {}, 63, dec < 1e-9 ? "C0G" : "film", "K" + std::to_string(bin++ / 12));
-  for (double m : units::eseries(6)) add(store::PartKind::capacitor, m * 1e-7, {0.10, 0.10}, {}, 63, "film", "K" + std::to_string(bin++ / 12));
-  for (double dec = 1e-6; dec <= 1e-4 * 1.01; dec *= 10)
-    for (double m : units::eseries(6))
-      for (double v : {6.3, 16.0, 35.0}) add(store::PartKind::capacitor, m * dec, {0.20, 0.20}, {}, v, "electrolytic", "E" + std::to_string(bin++ / 12));
-  // Fill up to 1,000 lines with duplicate E24 lines in further bins.
-  while (inv.parts.size() < 1000) {
-    const auto& e = units::eseries(24);
-    add(store::PartKind::resistor, e[inv.parts.size() % e.size()] * std::pow(10.0, 1 + static_cast<double>(inv.parts.size() % 5)),
-        {0.05, 0.05}, 0.25, {}, "", "Z" + std::to_string(bin++ / 25));
-  }
-  auto jfet = [&](const char* name, devices::DeviceKind k, double i0, double i1, double v0, double v1) {
-    devices::DeviceRecord d;
-    d.name = name;
-    d.kind = k;
-    d.jfet.idss_a = {i0, i1, {}};
-    d.jfet.vp_v = {v0, v1, {}};
-    d.jfet.lambda_per_v = 0.01;
-    d.jfet.cgs_f = 5e-12;
-    d.jfet.cgd_f = 2e-12;
-    inv.devices.push_back(d);
-  };
-  auto bjt = [&](const char* name, devices::DeviceKind k, double h0, double h1) {
-    devices::DeviceRecord d;
-    d.name = name;
-    d.kind = k;
-    d.bjt.hfe = {h0, h1, {}};
-    d.bjt.is_a = 1e-14;
-    d.bjt.vaf_v = 80;
-    d.bjt.cje_f = 6e-12;
-    d.bjt.cjc_f = 3e-12;
-    inv.devices.push_back(d);
-  };
-  jfet("BJ-1", devices::DeviceKind::njfet, 1e-3, 5e-3, -3, -0.5);
-  jfet("BJ-2", devices::DeviceKind::njfet, 2e-3, 20e-3, -6, -1);
-  jfet("BJ-3", devices::DeviceKind::pjfet, 2e-3, 15e-3, 1, 5);
-  bjt("BQ-1", devices::DeviceKind::npn, 110, 450);
-  bjt("BQ-2", devices::DeviceKind::npn, 420, 800);
-  bjt("BQ-3", devices::DeviceKind::pnp, 110, 450);
-  for (const auto& d : inv.devices) {
-    store::Part p;
-    p.id = id++;
-    p.kind = d.kind == devices::DeviceKind::njfet ? store::PartKind::njfet
-             : d.kind == devices::DeviceKind::pjfet ? store::PartKind::pjfet
-             : d.kind == devices::DeviceKind::npn   ? store::PartKind::npn
-                                                    : store::PartKind::pnp;
-    p.device = d.name;
-    p.qty = 25;
-    p.bin = "T1";
+    p.qty = qty;
+    p.bin = "B" + std::to_string(bin_++ / 20);
     inv.parts.push_back(p);
   }
-  return inv;
+  int qty(int lo, int hi) { return std::uniform_int_distribution<int>(lo, hi)(rng_); }
+  double uniform() { return std::uniform_real_distribution<double>(0, 1)(rng_); }
+
+  // Capacitors of a working drawer: E6 film 1n..1u, electrolytics 1u..1000u at three ratings.
+  void capacitors() {
+    for (double dec = 1e-9; dec <= 1e-7 * 1.01; dec *= 10)
+      for (double m : units::eseries(6)) add(store::PartKind::capacitor, m * dec, {0.1, 0.1}, {}, 63, "film", qty(2, 30));
+    for (double dec = 1e-6; dec <= 1e-4 * 1.01; dec *= 10)
+      for (double m : units::eseries(6))
+        for (double v : {16.0, 35.0, 63.0})
+          add(store::PartKind::capacitor, m * dec, {0.2, 0.2}, {}, v, "electrolytic", qty(2, 20));
+    add(store::PartKind::capacitor, 1e-3, {0.2, 0.2}, {}, 35, "electrolytic", qty(1, 5));
+  }
+
+  void devices() {
+    auto jfet = [&](const char* name, devices::DeviceKind k, double i0, double i1, double v0, double v1) {
+      devices::DeviceRecord d;
+      d.name = name;
+      d.kind = k;
+      d.jfet.idss_a = {i0, i1, {}};
+      d.jfet.vp_v = {v0, v1, {}};
+      d.jfet.lambda_per_v = 0.01;
+      d.jfet.cgs_f = 5e-12;
+      d.jfet.cgd_f = 2e-12;
+      inv.devices.push_back(d);
+    };
+    auto bjt = [&](const char* name, devices::DeviceKind k, double h0, double h1, double vceo) {
+      devices::DeviceRecord d;
+      d.name = name;
+      d.kind = k;
+      d.bjt.hfe = {h0, h1, {}};
+      d.bjt.is_a = 1e-14;
+      d.bjt.vaf_v = 80;
+      d.bjt.cje_f = 6e-12;
+      d.bjt.cjc_f = 3e-12;
+      d.ratings.v_max_v = vceo;
+      d.ratings.v_rev_max_v = 6;
+      d.ratings.p_max_w = 0.5;
+      inv.devices.push_back(d);
+    };
+    jfet("BJ-1", devices::DeviceKind::njfet, 1e-3, 5e-3, -3, -0.5);
+    jfet("BJ-2", devices::DeviceKind::njfet, 2e-3, 20e-3, -6, -1);
+    jfet("BJ-3", devices::DeviceKind::pjfet, 2e-3, 15e-3, 1, 5);
+    bjt("BQ-1", devices::DeviceKind::npn, 110, 450, 45);
+    bjt("BQ-2", devices::DeviceKind::npn, 420, 800, 30);
+    bjt("BQ-3", devices::DeviceKind::pnp, 110, 450, 45);
+    bjt("BQ-4", devices::DeviceKind::npn, 60, 250, 120);
+    for (const auto& d : inv.devices) {
+      store::Part p;
+      p.id = id_++;
+      p.kind = d.kind == devices::DeviceKind::njfet   ? store::PartKind::njfet
+               : d.kind == devices::DeviceKind::pjfet ? store::PartKind::pjfet
+               : d.kind == devices::DeviceKind::npn   ? store::PartKind::npn
+                                                      : store::PartKind::pnp;
+      p.device = d.name;
+      p.qty = 25;
+      p.bin = "T1";
+      inv.parts.push_back(p);
+    }
+  }
+
+ private:
+  std::mt19937 rng_;
+  std::int64_t id_ = 1;
+  int bin_ = 0;
+};
+
+// Resistor lines until the stock holds `lines` lines, by distribution:
+//  eseries: E24 5 % then E96 1 % values over six decades from 10 ohm, round-robin by decade,
+//           then the same values again in further bins;
+//  random:  log-uniform 1 % values 10 ohm..10M (no two alike), a few pieces each;
+//  hobby:   E12 5 % values 10 ohm..10M with gaps, in small bags, many duplicated across bins.
+synth::Inventory make_stock(const std::string& dist, std::size_t lines) {
+  StockMaker m(static_cast<unsigned>(lines * 7 + dist.size()));
+  m.capacitors();
+  m.devices();
+  const auto& e96 = units::eseries(96);
+  const auto& e24 = units::eseries(24);
+  const auto& e12 = units::eseries(12);
+  std::size_t k = 0;
+  while (m.inv.parts.size() < lines) {
+    if (dist == "eseries") {
+      // Round-robin over the six decades, so that a small stock still spans them: E24 5 %
+      // first, then E96 1 %, then the same again in further bins.
+      const std::size_t round = k / (6 * (24 + 96));
+      const std::size_t i = k % (6 * (24 + 96));
+      const double dec = std::pow(10.0, 1 + static_cast<double>(i % 6));
+      const std::size_t j = i / 6;
+      if (j < 24)
+        m.add(store::PartKind::resistor, e24[j] * dec, {0.05, 0.05}, round % 2 ? 0.6 : 0.25, {}, "", m.qty(0, 40));
+      else
+        m.add(store::PartKind::resistor, e96[j - 24] * dec, {0.01, 0.01}, 0.25, {}, "", m.qty(0, 40));
+    } else if (dist == "random") {
+      const double v = 10.0 * std::pow(10.0, 6.0 * m.uniform());
+      m.add(store::PartKind::resistor, std::round(v * 1000) / 1000, {0.01, 0.01}, 0.25, {}, "", m.qty(1, 10));
+    } else {
+      const double dec = std::pow(10.0, 1 + static_cast<double>(m.qty(0, 5)));
+      const double v = e12[static_cast<std::size_t>(m.qty(0, 11))] * dec;
+      if (m.uniform() < 0.3) {
+        ++k;
+        continue;  // a gap in the drawer
+      }
+      m.add(store::PartKind::resistor, v, {0.05, 0.05}, 0.25, {}, "", m.qty(1, 8));
+    }
+    ++k;
+  }
+  return std::move(m.inv);
+}
+
+// --- Requests -----------------------------------------------------------------------------
+
+struct Request {
+  const char* name;
+  const char* text;  // as the command line would say it
+  synth::Spec spec;
+};
+
+std::vector<Request> requests() {
+  std::vector<Request> out;
+  auto base = [](double gain, double load, double supply, double zin) {
+    synth::Spec s;
+    s.gain = gain;
+    s.load_ohm = load;
+    s.supply_lo_v = s.supply_hi_v = supply;
+    s.zin_min_ohm = zin;
+    s.top = 10;
+    return s;
+  };
+  {
+    auto s = base(8, 10e3, 12, 100e3);
+    out.push_back({"plain", "gain 8 into 10k, 12 V, Zin 100k (no band, no swing)", s});
+  }
+  {
+    auto s = base(10, 10e3, 12, 100e3);
+    s.source_ohm = 1e3;
+    s.band_hz = std::make_pair(20.0, 20e3);
+    s.swing_vpp = 2;
+    out.push_back({"audio", "gain 10 into 10k, 12 V, Zin 100k, 1k source, 20..20k, 2 Vpp", s});
+  }
+  {
+    auto s = base(5, 2.2e3, 24, 1e6);
+    s.swing_vpp = 8;
+    out.push_back({"line-24v", "gain 5 into 2k2, 24 V, Zin 1M, 8 Vpp", s});
+  }
+  {
+    auto s = base(1, 600, 9, 100e3);
+    s.swing_vpp = 2;
+    s.band_hz = std::make_pair(20.0, 20e3);
+    out.push_back({"buffer", "gain 1 into 600, 9 V, Zin 100k, 20..20k, 2 Vpp", s});
+  }
+  {
+    auto s = base(3, 330, 15, 10e3);
+    s.swing_vpp = 3;
+    out.push_back({"heavy", "gain 3 into 330, 15 V, Zin 10k, 3 Vpp", s});
+  }
+  {
+    auto s = base(20, 47e3, 48, 100e3);
+    s.band_hz = std::make_pair(10.0, 50e3);
+    s.swing_vpp = 20;
+    out.push_back({"hv-48v", "gain 20 into 47k, 48 V, Zin 100k, 10..50k, 20 Vpp", s});
+  }
+  {
+    auto s = base(4, 10e3, 9, 10e6);
+    s.source_ohm = 1e6;
+    s.band_hz = std::make_pair(5.0, 20e3);
+    out.push_back({"hi-zin", "gain 4 into 10k, 9 V, Zin 10M, 1M source, 5..20k", s});
+  }
+  {
+    auto s = base(6, 4.7e3, 5, 20e3);
+    s.supply_lo_v = 4.5;
+    s.supply_hi_v = 5.5;
+    s.max_current_a = 1e-3;
+    out.push_back({"5v-1ma", "gain 6 into 4k7, 4.5..5.5 V, Zin 20k, 1 mA budget", s});
+  }
+  {
+    auto s = base(100, 10e3, 12, 1e6);
+    s.source_ohm = 10e3;
+    out.push_back({"chain", "gain 100 into 10k, 12 V, Zin 1M, 10k source (needs a chain)", s});
+  }
+  return out;
+}
+
+// --- One case in a child process ----------------------------------------------------------
+
+struct Result {
+  long proposals = 0, evaluations = 0;
+  double seconds = 0, peak_mb = 0;
+  int found = 0;
+  char top[96] = {};
+  bool ok = false;
+};
+
+Result run_case(const std::string& dist, std::size_t lines, const Request& rq, int runs, int combine) {
+  int fd[2];
+  if (pipe(fd) != 0) return {};
+  const pid_t pid = fork();
+  if (pid == 0) {
+    close(fd[0]);
+    // A cap so that a runaway case fails instead of taking the machine: 3 GB of address space.
+    rlimit lim{3UL << 30, 3UL << 30};
+    setrlimit(RLIMIT_AS, &lim);
+    Result r;
+    const synth::Inventory inv = make_stock(dist, lines);
+    synth::Spec spec = rq.spec;
+    spec.combine = combine;
+    double best = 1e300;
+    for (int i = 0; i < runs; ++i) {
+      const auto t0 = std::chrono::steady_clock::now();
+      const synth::DesignResult d = synth::design(spec, inv);
+      best = std::min(best, std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count());
+      r.proposals = d.proposals;
+      r.evaluations = d.evaluations;
+      r.found = static_cast<int>(d.candidates.size());
+      if (!d.candidates.empty())
+        std::snprintf(r.top, sizeof r.top, "%s %s err %.1f%%", d.candidates[0].topology_name().c_str(),
+                      d.candidates[0].device.name.c_str(), 100 * d.candidates[0].error_worst);
+    }
+    r.seconds = best;
+    rusage ru{};
+    getrusage(RUSAGE_SELF, &ru);
+    r.peak_mb = static_cast<double>(ru.ru_maxrss) / 1024.0;
+    r.ok = true;
+    const ssize_t n = write(fd[1], &r, sizeof r);
+    _exit(n == static_cast<ssize_t>(sizeof r) ? 0 : 1);
+  }
+  close(fd[1]);
+  Result r;
+  const ssize_t n = read(fd[0], &r, sizeof r);
+  close(fd[0]);
+  int status = 0;
+  waitpid(pid, &status, 0);
+  if (n != static_cast<ssize_t>(sizeof r)) r = Result{};
+  return r;
+}
+
+std::vector<std::string> split(const std::string& s) {
+  std::vector<std::string> out;
+  std::stringstream ss(s);
+  for (std::string item; std::getline(ss, item, ',');)
+    if (!item.empty()) out.push_back(item);
+  return out;
 }
 
 }  // namespace
 
-// Usage: bench_design [RUNS] [chain]. With "chain", a request no single stage meets on this
-// stock (gain 100 into 10k from a 1 MOhm input), so the search plans chains.
 int main(int argc, char** argv) {
-  int runs = 7;
-  bool chain = false;
-  for (int i = 1; i < argc; ++i) {
-    if (std::string(argv[i]) == "chain")
-      chain = true;
-    else
-      runs = std::max(1, std::atoi(argv[i]));
+  int runs = 3, combine = 2;
+  std::vector<std::string> sizes{"250", "1000", "4000", "10000"}, stocks{"eseries", "random", "hobby"}, names;
+  for (int i = 1; i + 1 < argc; i += 2) {
+    const std::string k = argv[i], v = argv[i + 1];
+    if (k == "--runs")
+      runs = std::max(1, std::atoi(v.c_str()));
+    else if (k == "--sizes")
+      sizes = split(v);
+    else if (k == "--stocks")
+      stocks = split(v);
+    else if (k == "--requests")
+      names = split(v);
+    else if (k == "--combine")
+      combine = std::atoi(v.c_str());
+    else {
+      std::fprintf(stderr, "bench_design: unknown option %s\n", k.c_str());
+      return 1;
+    }
   }
-  const synth::Inventory inv = generated_stock();
-  std::printf("stock: %zu lines, %zu device types\n", inv.parts.size(), inv.devices.size());
-  synth::Spec spec;
-  spec.gain = 10;
-  spec.load_ohm = 10e3;
-  spec.supply_lo_v = spec.supply_hi_v = 12;
-  spec.zin_min_ohm = 100e3;
-  spec.source_ohm = 1e3;
-  spec.band_hz = std::make_pair(20.0, 20e3);
-  spec.swing_vpp = 2;
-  spec.top = 5;
-  if (chain) {
-    spec.gain = 100;
-    spec.zin_min_ohm = 1e6;
-    spec.source_ohm = 10e3;
+  const auto all = requests();
+  std::printf("design, all topologies and devices, top 10 with Monte Carlo; best of %d run(s); combine %d\n", runs,
+              combine);
+  for (const auto& rq : all)
+    if (names.empty() || std::find(names.begin(), names.end(), rq.name) != names.end())
+      std::printf("  %-9s %s\n", rq.name, rq.text);
+  std::printf("\n%-9s %-8s %6s %10s %11s %8s %8s  %s\n", "request", "stock", "lines", "proposals", "evaluations",
+              "seconds", "peak MB", "top design");
+  for (const auto& rq : all) {
+    if (!names.empty() && std::find(names.begin(), names.end(), rq.name) == names.end()) continue;
+    for (const auto& dist : stocks)
+      for (const auto& size : sizes) {
+        const auto lines = static_cast<std::size_t>(std::atol(size.c_str()));
+        const Result r = run_case(dist, lines, rq, runs, combine);
+        if (!r.ok) {
+          std::printf("%-9s %-8s %6zu  failed (out of memory or crashed)\n", rq.name, dist.c_str(), lines);
+          continue;
+        }
+        std::printf("%-9s %-8s %6zu %10ld %11ld %8.3f %8.1f  %s\n", rq.name, dist.c_str(), lines, r.proposals,
+                    r.evaluations, r.seconds, r.peak_mb, r.found ? r.top : "(nothing fits)");
+        std::fflush(stdout);
+      }
   }
-  std::vector<double> times;
-  synth::DesignResult r;
-  for (int i = 0; i < runs; ++i) {
-    const auto t0 = std::chrono::steady_clock::now();
-    r = synth::design(spec, inv);
-    times.push_back(std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count());
-  }
-  std::sort(times.begin(), times.end());
-  rusage ru{};
-  getrusage(RUSAGE_SELF, &ru);
-  std::printf("design%s (5 topologies, spread ranking, top %d with %d-sample Monte Carlo):\n",
-              chain ? " of a request that needs a chain" : "", spec.top, spec.mc_samples);
-  std::printf("  median %.3f s, best %.3f s, worst %.3f s over %d runs\n", times[times.size() / 2], times.front(),
-              times.back(), runs);
-  std::printf("  %ld proposals, %ld evaluations, %zu candidates\n", r.proposals, r.evaluations, r.candidates.size());
-  std::printf("  peak memory (max RSS) %.1f MB\n", static_cast<double>(ru.ru_maxrss) / 1024.0);
-  if (!r.candidates.empty())
-    std::printf("  #1 %s %s gain %.3f score %.2f\n", r.candidates[0].topology_name().c_str(),
-                r.candidates[0].device.name.c_str(), r.candidates[0].nominal.gain, r.candidates[0].score);
   return 0;
 }

@@ -167,7 +167,7 @@ class BjtCeDivider final : public Topology {
 
     // Third-order expansion of the exponential law with the Early effect on the mid-band
     // network (HD2 to first order: Vo/(4*IC*RL'*(1 + gm*(Rdeg + Rs''/(beta + 1))))).
-    detail::finish_distortion(p, detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)), c);
+    detail::finish_distortion(p, c, [&] { return detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
     if (d != Detail::core) {
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double q2 = 2.0 * devices::kCharge;

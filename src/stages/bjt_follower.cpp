@@ -132,7 +132,7 @@ class BjtFollower final : public Topology {
 
     // Third-order expansion of the exponential law with the Early effect (the collector at
     // AC ground, so VCE moves against the output) on the mid-band network.
-    detail::finish_distortion(p, detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)), c);
+    detail::finish_distortion(p, c, [&] { return detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
     if (d != Detail::core) {
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double q2 = 2.0 * devices::kCharge;

@@ -41,4 +41,14 @@ double thd_at_input(const Transfer& t, double a);
 /// Conditions::max_thd.
 void finish_distortion(Performance& p, const Transfer& t, const Conditions& c);
 
+/// finish_distortion with the transfer from make() when c.distortion is on; otherwise only
+/// the clipping point (clip_peak_v = swing_peak_v), without the cost of the series.
+template <class MakeTransfer>
+void finish_distortion(Performance& p, const Conditions& c, MakeTransfer&& make) {
+  if (c.distortion)
+    finish_distortion(p, make(), c);
+  else
+    p.clip_peak_v = p.swing_peak_v;
+}
+
 }  // namespace shelfstage::stages::detail

@@ -81,7 +81,7 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
   // and HD2 = |g2|*Vo/(2*g1^2*RL'). Without lambda this is Vo/(8*ID*RL'*(1 + gm*Rdeg)); the
   // lambda cross term (the drain swing modulating the channel) lowers it by roughly
   // 4*lambda*ID*RL', tens of percent for common parts.
-  finish_distortion(p, transfer(m, jfet_orders(q, b.vgst_v, b.vds_v)), c);
+  finish_distortion(p, c, [&] { return transfer(m, jfet_orders(q, b.vgst_v, b.vds_v)); });
   if (detail != Detail::core) {
     const double kt4 = thermal_v2(1.0, c.celsius);  // 4kT
     const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;

@@ -88,7 +88,7 @@ class JfetFollower final : public Topology {
 
     // Third-order expansion of the square law with lambda on the mid-band network (HD2
     // without lambda: Vo/(8*ID*RS'*(1 + gm*RS'))).
-    detail::finish_distortion(p, detail::transfer(m, detail::jfet_orders(j, b.vgst_v, b.vds_v)), c);
+    detail::finish_distortion(p, c, [&] { return detail::transfer(m, detail::jfet_orders(j, b.vgst_v, b.vds_v)); });
     if (d != Detail::core) {
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;

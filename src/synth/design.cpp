@@ -148,6 +148,13 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
   for (const auto& f : spread_.corners()) corner_devices_.push_back(make_transistor(spread_, f, t_nom));
   cond_ = detail::conditions(spec, spec.supply_nominal_v(), t_nom);
   cond_hi_ = detail::conditions(spec, spec.supply_hi_v, t_nom);
+  // The screening passes work out the distortion only when the request bounds it; the quick
+  // estimate and the capacitors' stress never need it.
+  screen_ = cond_;
+  screen_.distortion = spec.swing_vpp.has_value();
+  cond_hi_.distortion = false;
+  gain_only_ = cond_;
+  gain_only_.distortion = false;
 }
 
 StageBuilder::~StageBuilder() = default;
@@ -193,7 +200,7 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   {
     // Most proposals miss the gain window or a constraint already with ideal capacitors:
     // one evaluation settles them before any capacitor is looked up.
-    const auto ideal = t.evaluate(trial, q_, cond_, stages::Detail::core);
+    const auto ideal = t.evaluate(trial, q_, screen_, stages::Detail::core);
     ++stats.evaluations;
     if (ideal.valid && ideal.active) {
       stats.best_gain = std::max(stats.best_gain, std::abs(ideal.gain));
@@ -260,7 +267,7 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     ++stats.failures["stock"];
     return false;
   }
-  const stages::Performance nominal = t.evaluate(values, q_, cond_, stages::Detail::core);
+  const stages::Performance nominal = t.evaluate(values, q_, screen_, stages::Detail::core);
   ++stats.evaluations;
   const std::string v = detail::violation(spec_, nominal);
   if (nominal.valid && nominal.active) {
@@ -322,7 +329,7 @@ Candidate StageBuilder::candidate(const Draft& d) const {
 double StageBuilder::quick_score(const Draft& c, SearchStats& stats) const {
   double worst = std::abs(c.error_nominal);
   for (const auto& q : corner_devices_) {
-    const auto p = topology_.evaluate(c.values, q, cond_);
+    const auto p = topology_.evaluate(c.values, q, gain_only_);
     ++stats.evaluations;
     if (!p.valid || !p.active) return 1e6;
     worst = std::max(worst, std::abs(std::abs(p.gain) / spec_.gain - 1.0));

@@ -193,7 +193,10 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
   const auto& t = *c.topology;
   const devices::DeviceSpread spread = spread_of(c);
   const double t_nom = spec.temp_nominal_c();
-  const stages::Conditions nom_cond = conditions(spec, spec.supply_nominal_v(), t_nom);
+  // The search's pass works out the distortion only when the request bounds or ranks by it.
+  const bool distortion = depth == Depth::full || spec.swing_vpp || spec.prefer == Spec::Prefer::distortion;
+  stages::Conditions nom_cond = conditions(spec, spec.supply_nominal_v(), t_nom);
+  nom_cond.distortion = distortion;
   // Without a band the losses are probed at the nominal -3 dB points (NOTES 2).
   stages::Conditions probe = nom_cond;
   if (!spec.band_hz && depth == Depth::full) {
@@ -223,7 +226,8 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
     for (double temp : temps) {
       const stages::Transistor q = make_transistor(spread, f, temp);
       for (double vs : supplies) {
-        const stages::Conditions cond = conditions(spec, vs, temp);
+        stages::Conditions cond = conditions(spec, vs, temp);
+        cond.distortion = distortion;
         for (const PartSet& set : sets) {
           const auto p = t.evaluate(values_of(c, set.way), q, cond, set.detail);
           ++evaluations;

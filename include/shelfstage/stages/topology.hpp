@@ -62,6 +62,10 @@ struct Conditions {
   /// distortion, a fraction; 0: no bound): it limits swing_peak_v.
   double max_thd = 0.01;
   double noise_f_hz = 1000.0;   ///< frequency of the input noise figure
+  /// Work out the distortion (the transfer's power series, HD2, HD3, THD and the rated level
+  /// swing_peak_v). Off, the search's passes that need only the gain or the clipping point
+  /// skip it: swing_peak_v and clip_peak_v are then both the clipping point, thd 0.
+  bool distortion = true;
 };
 
 /// DC across a capacitor, or power in a resistor, for rating checks.

@@ -220,6 +220,7 @@ class StageBuilder {
   stages::Transistor q_;
   std::vector<stages::Transistor> corner_devices_;
   stages::Conditions cond_, cond_hi_;
+  stages::Conditions screen_, gain_only_;  // cond_ with the distortion as the passes need it
   std::unique_ptr<Cache> cache_;
 };
 
