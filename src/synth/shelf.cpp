@@ -6,7 +6,10 @@
 #include <cmath>
 #include <fmt/format.h>
 #include <map>
-#include <thread>
+#include <atomic>
+#include <cstring>
+#include <memory>
+#include <mutex>
 #include <tuple>
 
 #include "shelfstage/units/eseries.hpp"
@@ -86,6 +89,22 @@ bool bin_less(const std::string& a, const std::string& b) {
   return a.size() - i < b.size() - j;
 }
 
+// Serial numbers of shelves (Shelf::serial_).
+std::atomic<std::uint64_t> next_shelf_serial{1};
+
+// The n values of a sorted list nearest to target (by ratio), nearest first.
+void nearest_in(const std::vector<double>& values, double target, std::size_t n, std::vector<double>& out) {
+  const auto it = std::lower_bound(values.begin(), values.end(), target);
+  auto hi = static_cast<std::ptrdiff_t>(it - values.begin());
+  auto lo = hi - 1;
+  const auto size = static_cast<std::ptrdiff_t>(values.size());
+  for (std::size_t k = 0; k < n && (lo >= 0 || hi < size); ++k) {
+    const double dl = lo >= 0 ? std::log(target / values[static_cast<std::size_t>(lo)]) : 1e300;
+    const double dh = hi < size ? std::log(values[static_cast<std::size_t>(hi)] / target) : 1e300;
+    out.push_back(dl <= dh ? values[static_cast<std::size_t>(lo--)] : values[static_cast<std::size_t>(hi++)]);
+  }
+}
+
 }  // namespace
 
 Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
@@ -94,14 +113,15 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
   for (const auto& p : parts)
     if (store::is_passive(p.kind) && p.available() > 0 && p.value > 0) sorted.push_back(&p);
   std::sort(sorted.begin(), sorted.end(), [](const store::Part* a, const store::Part* b) { return bin_less(a->bin, b->bin); });
+  std::unordered_map<std::string, std::size_t> index;
   for (const store::Part* p : sorted) {
     const units::Tolerance tol = default_tolerance(*p);
     const double rating = p->kind == store::PartKind::resistor ? p->power_w.value_or(0.0) : p->volts.value_or(0.0);
-    auto it = std::find_if(groups_.begin(), groups_.end(), [&](const StockGroup& g) {
-      return g.kind == p->kind && same(g.value, p->value) && g.tol == tol && same(g.rating, rating) &&
-             g.dielectric == p->dielectric;
-    });
-    if (it == groups_.end()) {
+    // One group per kind, value, tolerance, rating and dielectric (values equal to 12 digits).
+    const std::string key = fmt::format("{}|{:.12g}|{:.12g}|{:.12g}|{:.12g}|{}", static_cast<int>(p->kind), p->value,
+                                        tol.minus, tol.plus, rating, p->dielectric);
+    auto [slot, added] = index.emplace(key, groups_.size());
+    if (added) {
       StockGroup g;
       g.kind = p->kind;
       g.value = p->value;
@@ -110,8 +130,8 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
       g.dielectric = p->dielectric;
       g.polarised = p->polarised();
       groups_.push_back(g);
-      it = groups_.end() - 1;
     }
+    const auto it = groups_.begin() + static_cast<std::ptrdiff_t>(slot->second);
     it->available += p->available();
     it->lines.push_back(p->id);
     it->line_available.push_back(p->available());
@@ -144,47 +164,188 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
         add(store::PartKind::capacitor, m * dec, {0.20, 0.20}, options.purchase_volts, "electrolytic", true);
     add(store::PartKind::capacitor, 1e-3, {0.20, 0.20}, options.purchase_volts, "electrolytic", true);
   }
-  // Resistors and capacitors are independent: build them on two threads.
-  std::thread caps([&] { build(c_, store::PartKind::capacitor, options.combine); });
-  build(r_, store::PartKind::resistor, options.combine);
-  caps.join();
-  for (const Combo& c : r_) {
-    if (r_values_.empty() || !same(r_values_.back(), c.nominal)) r_values_.push_back(c.nominal);
-    if (c.count == 1 && !c.purchase && (r_singles_.empty() || !same(r_singles_.back(), c.nominal)))
-      r_singles_.push_back(c.nominal);
-    if (market_ && !c.purchase && (r_stocked_.empty() || !same(r_stocked_.back(), c.nominal)))
-      r_stocked_.push_back(c.nominal);
+  serial_ = next_shelf_serial++;
+  combine_ = options.combine;
+  build(c_, store::PartKind::capacitor, 1, options.combine);
+  build(r1_, store::PartKind::resistor, 1, 1);
+  if (options.combine >= 3) build(r3_, store::PartKind::resistor, 3, 3);
+  // Singles are sorted stocked-first and tightest-first within a value: the first of each
+  // value is its best group.
+  for (const Combo& c : r1_) {
+    if (r_index_.value.empty() || !same(r_index_.value.back(), c.nominal)) {
+      r_index_.value.push_back(c.nominal);
+      r_index_.group.push_back(c.group[0]);
+    }
+    if (c.purchase) continue;
+    if (r_singles_.empty() || !same(r_singles_.back(), c.nominal)) r_singles_.push_back(c.nominal);
+    if (market_ && (r_stock_index_.value.empty() || !same(r_stock_index_.value.back(), c.nominal))) {
+      r_stock_index_.value.push_back(c.nominal);
+      r_stock_index_.group.push_back(c.group[0]);
+    }
+  }
+  for (const Combo& c : r3_) {
+    if (r3_values_.empty() || !same(r3_values_.back(), c.nominal)) r3_values_.push_back(c.nominal);
+    if (market_ && !c.purchase && (r3_stock_values_.empty() || !same(r3_stock_values_.back(), c.nominal)))
+      r3_stock_values_.push_back(c.nominal);
   }
 }
 
-void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
+Combo Shelf::make_combo(store::PartKind kind, Join join, std::initializer_list<std::uint32_t> gs) const {
+  Combo c;
+  c.join = join;
+  c.count = static_cast<std::uint8_t>(gs.size());
+  double nom[3] = {}, lo[3] = {}, hi[3] = {}, rat[3] = {};
+  int n = 0;
+  for (auto g : gs) {
+    const StockGroup& s = groups_[g];
+    c.group[static_cast<std::size_t>(n)] = g;
+    nom[n] = s.value;
+    lo[n] = s.tol.low(s.value);
+    hi[n] = s.tol.high(s.value);
+    rat[n] = s.rating;
+    c.polarised = c.polarised || s.polarised;
+    c.purchase = c.purchase || s.purchase;
+    ++n;
+  }
+  c.nominal = combine_values(kind, join, nom, n);
+  c.lo = combine_values(kind, join, lo, n);
+  c.hi = combine_values(kind, join, hi, n);
+  c.rating = combine_rating(kind, join, nom, rat, n, c.nominal);
+  return c;
+}
+
+bool Shelf::pair_ok(store::PartKind kind, Join join, std::uint32_t a, std::uint32_t b) const {
+  const StockGroup &ga = groups_[a], &gb = groups_[b];
+  const StockGroup& small = ga.value <= gb.value ? ga : gb;
+  const StockGroup& large = ga.value <= gb.value ? gb : ga;
+  if (large.value > 100.0 * small.value) return false;  // moves by under 1 %: no tolerance is that tight
+  if (a == b && ga.available < 2) return false;
+  if (join == Join::series && kind == store::PartKind::capacitor && (ga.polarised || gb.polarised)) return false;
+  // A combination must buy accuracy (NOTES 1): in series the smallest adds least, set by the
+  // largest; in parallel the largest takes least, the smallest sets it.
+  const bool adds = (kind == store::PartKind::resistor) == (join == Join::series);
+  const StockGroup& main = adds ? large : small;
+  const double widest = std::max(main.tol.minus, main.tol.plus);
+  return adds ? small.value / large.value > widest : small.value / (small.value + large.value) > widest;
+}
+
+namespace {
+/// Singles scanned per range when pairs are found on the fly (NOTES 3 in shelf.hpp).
+constexpr std::size_t kPairScan = 64;
+}  // namespace
+
+template <class F>
+void Shelf::pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& f) const {
+  const auto& v = idx.value;
+  const auto size = static_cast<std::ptrdiff_t>(v.size());
+  auto partners = [&](std::size_t i, double ideal, Join join) {
+    const auto j0 = static_cast<std::ptrdiff_t>(std::lower_bound(v.begin(), v.end(), ideal) - v.begin());
+    const auto from = std::max<std::ptrdiff_t>(0, j0 - static_cast<std::ptrdiff_t>(n));
+    const auto to = std::min(size, j0 + static_cast<std::ptrdiff_t>(n));
+    for (auto j = from; j < to; ++j) {
+      const auto ju = static_cast<std::size_t>(j);
+      if (!pair_ok(store::PartKind::resistor, join, idx.group[i], idx.group[ju])) continue;
+      // The smaller value first, as the tables list a pair's pieces.
+      const auto [ga, gb] = v[i] <= v[ju] ? std::pair(idx.group[i], idx.group[ju]) : std::pair(idx.group[ju], idx.group[i]);
+      f(join == Join::series ? v[i] + v[ju] : v[i] * v[ju] / (v[i] + v[ju]), ga, gb, join);
+    }
+  };
+  // Series: a in [target / 101, target); parallel: a in (target, 101 target]. At most
+  // kPairScan singles of each range, spread evenly over it: a stock dense enough to hold more
+  // has pairs within a fraction of its spacing of the target from those already (NOTES 3).
+  auto scan = [&](std::size_t first, std::size_t last, Join join) {
+    if (last <= first) return;
+    const std::size_t stride = (last - first + kPairScan - 1) / kPairScan;
+    for (std::size_t i = first; i < last; i += stride)
+      partners(i, join == Join::series ? target - v[i] : v[i] * target / (v[i] - target), join);
+  };
+  const auto at = [&](double x) { return static_cast<std::size_t>(std::lower_bound(v.begin(), v.end(), x) - v.begin()); };
+  scan(at(target / 101.0), at(target), Join::series);
+  scan(static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), target) - v.begin()),
+       static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), 101.0 * target) - v.begin()), Join::parallel);
+}
+
+void Shelf::nearest_from(const ValueIndex& idx, const std::vector<double>& triples, double target, std::size_t n,
+                         std::vector<double>& out) const {
+  struct Found {
+    double distance;  // as a ratio >= 1
+    double value;
+    std::uint32_t a = 0, b = 0;  // a pair's groups
+    Join join = Join::single;
+    bool operator<(const Found& o) const { return distance < o.distance; }
+  };
+  std::vector<Found> found;
+  auto consider = [&](double value, std::uint32_t a, std::uint32_t b, Join join) {
+    found.push_back({value > target ? value / target : target / value, value, a, b, join});
+  };
+  std::vector<double> near;
+  nearest_in(idx.value, target, n, near);
+  nearest_in(triples, target, n, near);
+  for (double value : near) consider(value, 0, 0, Join::single);
+  if (combine_ >= 2) pairs_near(idx, target, n, consider);
+  // The nearest few, sorted (a value found twice counts once).
+  const std::size_t keep = std::min(found.size(), 4 * n + 4);
+  if (keep == 0) return;
+  std::nth_element(found.begin(), found.begin() + static_cast<std::ptrdiff_t>(keep - 1), found.end());
+  // Where two recipes make one value, the better first (as resistors() sorts them: stocked,
+  // fewest pieces, tightest), so that it is the one remembered.
+  std::vector<std::pair<Found, Combo>> window;
+  for (std::size_t k = 0; k < keep; ++k) {
+    const Found& f = found[k];
+    if (f.join != Join::single) {
+      window.emplace_back(f, make_combo(store::PartKind::resistor, f.join, {f.a, f.b}));
+      continue;
+    }
+    // A single or a triple: the first of its value in its table.
+    auto first_of = [&](const std::vector<Combo>& table) -> const Combo* {
+      const auto it = std::lower_bound(table.begin(), table.end(), f.value * (1 - 1e-9),
+                                       [](const Combo& c, double t) { return c.nominal < t; });
+      return it != table.end() && same(it->nominal, f.value) ? &*it : nullptr;
+    };
+    const Combo* c = first_of(r1_);
+    if (!c) c = first_of(r3_);
+    window.emplace_back(f, c ? *c : Combo{});
+  }
+  std::sort(window.begin(), window.end(), [](const auto& x, const auto& y) {
+    if (x.first.distance != y.first.distance) return x.first.distance < y.first.distance;
+    return std::make_tuple(x.second.purchase, x.second.count, x.second.hi - x.second.lo) <
+           std::make_tuple(y.second.purchase, y.second.count, y.second.hi - y.second.lo);
+  });
+  std::size_t taken = 0;
+  double last = -1;
+  for (const auto& [f, combo] : window) {
+    if (taken >= n) break;
+    if (same(f.value, last)) continue;
+    out.push_back(f.value);
+    last = f.value;
+    ++taken;
+    // A pair's recipe, remembered for resistor().
+    if (f.join != Join::single) remember(f.value, combo);
+  }
+}
+
+void Shelf::remember(double nominal, const Combo& c) const {
+  std::uint64_t key = 0;
+  std::memcpy(&key, &nominal, sizeof key);
+  {
+    std::shared_lock lock(recipes_mutex_);
+    if (recipes_.count(key)) return;
+  }
+  std::unique_lock lock(recipes_mutex_);
+  recipes_.emplace(key, c);
+}
+
+std::vector<Combo> Shelf::resistors() const {
+  std::vector<Combo> out;
+  build(out, store::PartKind::resistor, 1, combine_);
+  return out;
+}
+
+void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int min_count, int max_count) const {
   std::vector<std::uint32_t> idx;
   for (std::uint32_t i = 0; i < groups_.size(); ++i)
     if (groups_[i].kind == kind) idx.push_back(i);
   std::sort(idx.begin(), idx.end(), [&](auto a, auto b) { return groups_[a].value < groups_[b].value; });
-  auto make = [&](Join join, std::initializer_list<std::uint32_t> gs) {
-    Combo c;
-    c.join = join;
-    c.count = static_cast<std::uint8_t>(gs.size());
-    double nom[3] = {}, lo[3] = {}, hi[3] = {}, rat[3] = {};
-    int n = 0;
-    for (auto g : gs) {
-      const StockGroup& s = groups_[g];
-      c.group[static_cast<std::size_t>(n)] = g;
-      nom[n] = s.value;
-      lo[n] = s.tol.low(s.value);
-      hi[n] = s.tol.high(s.value);
-      rat[n] = s.rating;
-      c.polarised = c.polarised || s.polarised;
-      c.purchase = c.purchase || s.purchase;
-      ++n;
-    }
-    c.nominal = combine_values(kind, join, nom, n);
-    c.lo = combine_values(kind, join, lo, n);
-    c.hi = combine_values(kind, join, hi, n);
-    c.rating = combine_rating(kind, join, nom, rat, n, c.nominal);
-    out.push_back(c);
-  };
   // Pieces needed of one group within a combination must be on the shelf.
   auto enough = [&](std::initializer_list<std::uint32_t> gs) {
     for (auto g : gs) {
@@ -194,9 +355,16 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
     }
     return true;
   };
-  for (auto i : idx) make(Join::single, {i});
-  // A combination must buy accuracy (NOTES in shelf.hpp): the piece that moves the value
-  // least must move it by more than the tolerance of the piece that sets it.
+  if (min_count <= 1)
+    for (auto i : idx) out.push_back(make_combo(kind, Join::single, {i}));
+  if (min_count <= 2 && max_count >= 2) {
+    for (std::size_t a = 0; a < idx.size(); ++a)
+      for (std::size_t b = a; b < idx.size(); ++b) {
+        if (groups_[idx[b]].value > 100.0 * groups_[idx[a]].value) break;
+        for (Join join : {Join::series, Join::parallel})
+          if (pair_ok(kind, join, idx[a], idx[b])) out.push_back(make_combo(kind, join, {idx[a], idx[b]}));
+      }
+  }
   auto widest = [&](std::uint32_t g) { return std::max(groups_[g].tol.minus, groups_[g].tol.plus); };
   auto worth = [&](Join join, std::initializer_list<std::uint32_t> gs) {
     // gs in ascending value: in series the smallest adds least to the rest; in parallel the
@@ -204,32 +372,18 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
     const std::vector<std::uint32_t> v(gs);
     const bool adds = (kind == store::PartKind::resistor) == (join == Join::series);
     double rest = 0, least = 0;
-    std::uint32_t main = v.back();
     if (adds) {
       least = groups_[v.front()].value;
       for (std::size_t i = 1; i < v.size(); ++i) rest += groups_[v[i]].value;
-      return least / rest > widest(main);
+      return least / rest > widest(v.back());
     }
-    main = v.front();
     double inv = 0;
     for (std::size_t i = 0; i + 1 < v.size(); ++i) inv += 1.0 / groups_[v[i]].value;
     rest = 1.0 / inv;
     least = groups_[v.back()].value;
-    return rest / (rest + least) > widest(main);
+    return rest / (rest + least) > widest(v.front());
   };
-  if (combine >= 2) {
-    for (std::size_t a = 0; a < idx.size(); ++a) {
-      for (std::size_t b = a; b < idx.size(); ++b) {
-        const StockGroup &ga = groups_[idx[a]], &gb = groups_[idx[b]];
-        if (gb.value > 100.0 * ga.value) break;  // moves by under 1 %: no tolerance is that tight
-        if (!enough({idx[a], idx[b]})) continue;
-        const bool series_ok = kind == store::PartKind::resistor || (!ga.polarised && !gb.polarised);
-        if (series_ok && worth(Join::series, {idx[a], idx[b]})) make(Join::series, {idx[a], idx[b]});
-        if (worth(Join::parallel, {idx[a], idx[b]})) make(Join::parallel, {idx[a], idx[b]});
-      }
-    }
-  }
-  if (combine >= 3) {
+  if (max_count >= 3) {
     // Triples of one join, among the 120 best-stocked values of the kind (a bound on the
     // n^3 growth; documented in the README).
     std::vector<std::uint32_t> top = idx;
@@ -246,8 +400,9 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
           if (!enough({top[a], top[b], top[c]})) continue;
           const bool pol = groups_[top[a]].polarised || groups_[top[b]].polarised || groups_[top[c]].polarised;
           if ((kind == store::PartKind::resistor || !pol) && worth(Join::series, {top[a], top[b], top[c]}))
-            make(Join::series, {top[a], top[b], top[c]});
-          if (worth(Join::parallel, {top[a], top[b], top[c]})) make(Join::parallel, {top[a], top[b], top[c]});
+            out.push_back(make_combo(kind, Join::series, {top[a], top[b], top[c]}));
+          if (worth(Join::parallel, {top[a], top[b], top[c]}))
+            out.push_back(make_combo(kind, Join::parallel, {top[a], top[b], top[c]}));
         }
       }
   }
@@ -267,65 +422,113 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int combine) {
 
 namespace {
 
-// The n values of a sorted list nearest to target (by ratio), nearest first.
-void nearest_in(const std::vector<double>& values, double target, std::size_t n, std::vector<double>& out) {
-  const auto it = std::lower_bound(values.begin(), values.end(), target);
-  auto hi = static_cast<std::ptrdiff_t>(it - values.begin());
-  auto lo = hi - 1;
-  const auto size = static_cast<std::ptrdiff_t>(values.size());
-  for (std::size_t k = 0; k < n && (lo >= 0 || hi < size); ++k) {
-    const double dl = lo >= 0 ? std::log(target / values[static_cast<std::size_t>(lo)]) : 1e300;
-    const double dh = hi < size ? std::log(values[static_cast<std::size_t>(hi)] / target) : 1e300;
-    out.push_back(dl <= dh ? values[static_cast<std::size_t>(lo--)] : values[static_cast<std::size_t>(hi++)]);
-  }
-}
+// A small memo of nearest() answers per thread: the design equations ask for the same
+// targets again and again (the same bias point across proposals). Direct-mapped, keyed by
+// the shelf's serial number, the target's bits and n.
+struct NearestMemo {
+  struct Entry {
+    std::uint64_t shelf = 0, target = 0, n = 0;
+    std::vector<double> values;
+  };
+  std::array<Entry, 4096> entries;
+};
+thread_local std::unique_ptr<NearestMemo> nearest_memo;
 
 }  // namespace
 
 void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) const {
-  if (r_values_.empty() || !(target > 0)) return;
-  nearest_in(r_values_, target, n, out);
+  if (r_index_.value.empty() || !(target > 0)) return;
+  std::uint64_t bits = 0;
+  std::memcpy(&bits, &target, sizeof bits);
+  if (!nearest_memo) nearest_memo = std::make_unique<NearestMemo>();
+  auto& e = nearest_memo->entries[(bits ^ (bits >> 29) ^ (n * 0x9E3779B97F4A7C15ULL) ^ serial_) % 4096];
+  if (e.shelf == serial_ && e.target == bits && e.n == n) {
+    out.insert(out.end(), e.values.begin(), e.values.end());
+    return;
+  }
+  const std::size_t start = out.size();
+  nearest_from(r_index_, r3_values_, target, n, out);
   // On a shelf with purchases, the nearest values that buy nothing too.
-  if (market_) nearest_in(r_stocked_, target, n, out);
+  if (market_) nearest_from(r_stock_index_, r3_stock_values_, target, n, out);
   // Always offer the nearest single parts on either side as well: one piece beats two
   // when the difference hides in the tolerance.
   const auto s1 = std::lower_bound(r_singles_.begin(), r_singles_.end(), target);
   if (s1 != r_singles_.end()) out.push_back(*s1);
   if (s1 != r_singles_.begin()) out.push_back(*(s1 - 1));
+  e.shelf = serial_;
+  e.target = bits;
+  e.n = n;
+  e.values.assign(out.begin() + static_cast<std::ptrdiff_t>(start), out.end());
 }
-
-namespace {
-
-// Up to max_n values of a sorted list spaced evenly (by ratio) over [lo, hi].
-void spread_in(const std::vector<double>& values, double lo, double hi, std::size_t max_n, std::vector<double>& out) {
-  double last = -1;
-  for (std::size_t k = 0; k < max_n; ++k) {
-    const double target = lo * std::pow(hi / lo, static_cast<double>(k) / static_cast<double>(max_n - 1));
-    std::vector<double> one;
-    nearest_in(values, target, 1, one);
-    if (one.empty() || one[0] < lo * 0.999 || one[0] > hi * 1.001 || same(one[0], last)) continue;
-    out.push_back(one[0]);
-    last = one[0];
-  }
-}
-
-}  // namespace
 
 void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>& out) const {
-  if (r_values_.empty() || !(lo > 0) || !(hi >= lo) || max_n == 0) return;
+  if (r_index_.value.empty() || !(lo > 0) || !(hi >= lo) || max_n == 0) return;
   if (max_n == 1) {
     nearest(std::sqrt(lo * hi), 1, out);
     return;
   }
-  spread_in(r_values_, lo, hi, max_n, out);
-  if (market_) spread_in(r_stocked_, lo, hi, max_n, out);
+  auto spread_from = [&](const ValueIndex& idx, const std::vector<double>& triples) {
+    double last = -1;
+    for (std::size_t k = 0; k < max_n; ++k) {
+      const double target = lo * std::pow(hi / lo, static_cast<double>(k) / static_cast<double>(max_n - 1));
+      std::vector<double> one;
+      nearest_from(idx, triples, target, 1, one);
+      if (one.empty() || one[0] < lo * 0.999 || one[0] > hi * 1.001 || same(one[0], last)) continue;
+      out.push_back(one[0]);
+      last = one[0];
+    }
+  };
+  spread_from(r_index_, r3_values_);
+  if (market_) spread_from(r_stock_index_, r3_stock_values_);
+}
+
+std::optional<Combo> Shelf::find_recipe(double nominal) const {
+  // Pairs: fewest pieces first, then the tightest; the best group of each value (NOTES 3).
+  std::optional<Combo> best;
+  auto offer = [&](const Combo& c) {
+    if (!same(c.nominal, nominal)) return;
+    if (!best || std::make_tuple(c.purchase, c.count, c.hi - c.lo) <
+                     std::make_tuple(best->purchase, best->count, best->hi - best->lo))
+      best = c;
+  };
+  const auto& v = r_index_.value;
+  if (combine_ >= 2) {
+    auto partner = [&](std::size_t i, double ideal, Join join) {
+      const auto j = std::lower_bound(v.begin(), v.end(), ideal * (1 - 1e-9));
+      for (auto k = j; k != v.end() && *k <= ideal * (1 + 1e-9); ++k) {
+        const auto ku = static_cast<std::size_t>(k - v.begin());
+        if (pair_ok(store::PartKind::resistor, join, r_index_.group[i], r_index_.group[ku]))
+          offer(v[i] <= v[ku] ? make_combo(store::PartKind::resistor, join, {r_index_.group[i], r_index_.group[ku]})
+                              : make_combo(store::PartKind::resistor, join, {r_index_.group[ku], r_index_.group[i]}));
+      }
+    };
+    auto i = static_cast<std::size_t>(std::lower_bound(v.begin(), v.end(), nominal / 101.0) - v.begin());
+    for (; i < v.size() && v[i] < nominal; ++i) partner(i, nominal - v[i], Join::series);
+    for (; i < v.size() && v[i] <= 101.0 * nominal; ++i)
+      if (v[i] > nominal) partner(i, v[i] * nominal / (v[i] - nominal), Join::parallel);
+  }
+  if (best) return best;
+  const auto it = std::lower_bound(r3_.begin(), r3_.end(), nominal * (1 - 1e-9),
+                                   [](const Combo& c, double t) { return c.nominal < t; });
+  if (it != r3_.end() && same(it->nominal, nominal)) return *it;
+  return std::nullopt;
 }
 
 const Combo* Shelf::resistor(double nominal) const {
-  const auto it = std::lower_bound(r_.begin(), r_.end(), nominal * (1 - 1e-9),
+  const auto it = std::lower_bound(r1_.begin(), r1_.end(), nominal * (1 - 1e-9),
                                    [](const Combo& c, double t) { return c.nominal < t; });
-  if (it == r_.end() || !same(it->nominal, nominal)) return nullptr;
-  return &*it;
+  if (it != r1_.end() && same(it->nominal, nominal)) return &*it;
+  std::uint64_t key = 0;
+  std::memcpy(&key, &nominal, sizeof key);
+  {
+    std::shared_lock lock(recipes_mutex_);
+    const auto hit = recipes_.find(key);
+    if (hit != recipes_.end()) return hit->second ? &*hit->second : nullptr;
+  }
+  std::optional<Combo> found = find_recipe(nominal);
+  std::unique_lock lock(recipes_mutex_);
+  const auto& slot = recipes_.emplace(key, std::move(found)).first->second;  // nodes never move
+  return slot ? &*slot : nullptr;
 }
 
 const Combo* Shelf::capacitor_at_least(double min_f, double dc_v, bool allow_polarised) const {

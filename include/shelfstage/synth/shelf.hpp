@@ -10,8 +10,19 @@
 //     it is. (Where no single part reaches a value, any pair that does moves its main piece by
 //     more than a tolerance.)
 //  2. Electrolytics are never put in series; capacitors of other kinds are.
+//  3. Memory stays linear in the stock: resistor pairs are never tabled. nearest() and
+//     spread() find them on the fly (for each single a in reach, the partners b nearest the
+//     b that would make a+b or a||b hit the target: one binary search; on a dense stock at
+//     most 64 singles of each range, spread over it), and resistor() works
+//     out a value's recipe once and remembers it. Each distinct value makes its pairs with
+//     the best line group of that value (stocked before purchasable, then the tightest).
+//     Capacitors (a few dozen values) and triples (--combine 3, among the 120 best-stocked
+//     values) are tabled.
 #pragma once
 #include <array>
+#include <optional>
+#include <shared_mutex>
+#include <unordered_map>
 #include <cstdint>
 #include <span>
 #include <string>
@@ -71,7 +82,10 @@ class Shelf final : public stages::ValueSource {
   Shelf(const std::vector<store::Part>& parts, Options options);
 
   const std::vector<StockGroup>& groups() const { return groups_; }
-  std::span<const Combo> resistors() const { return r_; }
+  /// Every resistance the shelf can make, with recipes, sorted by nominal, then fewest
+  /// pieces, then tightest: built on each call (a table quadratic in the stock; for tests
+  /// and enumerations on small shelves, not for the search).
+  std::vector<Combo> resistors() const;
   std::span<const Combo> capacitors() const { return c_; }
 
   /// True when the shelf offers purchases (Options::add_purchases).
@@ -95,13 +109,39 @@ class Shelf final : public stages::ValueSource {
   std::string recipe(const Combo& c) const;
 
  private:
-  void build(std::vector<Combo>& out, store::PartKind kind, int combine);
+  /// Combinations of min_count..max_count pieces of the kind, sorted for lookup.
+  void build(std::vector<Combo>& out, store::PartKind kind, int min_count, int max_count) const;
+  Combo make_combo(store::PartKind kind, Join join, std::initializer_list<std::uint32_t> gs) const;
+  /// The rules a pair must pass (NOTES 1: it buys accuracy; within a factor of 100; enough
+  /// pieces when both are of one group).
+  bool pair_ok(store::PartKind kind, Join join, std::uint32_t a, std::uint32_t b) const;
+  struct ValueIndex {
+    std::vector<double> value;          ///< distinct single values, sorted
+    std::vector<std::uint32_t> group;   ///< the best group of each
+  };
+  /// Calls f(nominal, group a, group b, join) for the pairs near target from idx: for every single in reach, the
+  /// n partners either side of the ideal one, in series and in parallel.
+  template <class F>
+  void pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& f) const;
+  /// The n nearest distinct values made from idx (and the triples table) to target.
+  void nearest_from(const ValueIndex& idx, const std::vector<double>& triples, double target, std::size_t n,
+                    std::vector<double>& out) const;
+  /// Keeps a pair's recipe for resistor() unless the value has one already.
+  void remember(double nominal, const Combo& c) const;
+  /// The recipe of a pair or triple value, worked out (nullopt when none makes it).
+  std::optional<Combo> find_recipe(double nominal) const;
   std::vector<StockGroup> groups_;
-  std::vector<Combo> r_, c_;       // sorted by nominal, then pieces
-  std::vector<double> r_values_;   // distinct resistor nominals, sorted
-  std::vector<double> r_singles_;  // distinct single-part stocked resistor values, sorted
-  std::vector<double> r_stocked_;  // distinct resistor nominals made without a purchase, sorted
+  int combine_ = 2;
+  std::uint64_t serial_ = 0;        // a number no other shelf of this process has (nearest()'s memo)
+  std::vector<Combo> r1_, r3_, c_;  // single and triple resistors, capacitors: sorted by nominal, then pieces
+  ValueIndex r_index_;              // every single resistor value
+  ValueIndex r_stock_index_;        // market only: the values the stock holds
+  std::vector<double> r3_values_, r3_stock_values_;  // distinct triple nominals (all; without purchases)
+  std::vector<double> r_singles_;   // distinct single-part stocked resistor values, sorted
   bool market_ = false;
+  // Recipes of pair and triple values worked out so far (resistor()).
+  mutable std::shared_mutex recipes_mutex_;
+  mutable std::unordered_map<std::uint64_t, std::optional<Combo>> recipes_;
 };
 
 }  // namespace shelfstage::synth
