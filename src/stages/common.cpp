@@ -126,29 +126,6 @@ double lf_corner_hz(std::span<const LfSection> s) {
   return std::sqrt(lo * hi) / (2 * std::numbers::pi);
 }
 
-double hf_corner_hz(double b1, double b2, double z, double p) {
-  auto h2 = [&](double w) {
-    const double num = z > 0 ? 1.0 + (w / z) * (w / z) : 1.0;
-    const double re = 1.0 - b2 * w * w, im = b1 * w;
-    double r = num / (re * re + im * im);
-    if (p > 0) r /= 1.0 + (w / p) * (w / p);
-    return r;
-  };
-  // The response may peak slightly; find the first fall below -3 dB scanning upward.
-  double w = 1.0, prev = 1.0;
-  while (w < 1e14 && h2(w) >= 0.5) {
-    prev = w;
-    w *= 1.2;
-  }
-  if (w >= 1e14) return 1e14 / (2 * std::numbers::pi);
-  double lo = prev, hi = w;
-  for (int i = 0; i < 50; ++i) {
-    const double mid = std::sqrt(lo * hi);
-    (h2(mid) >= 0.5 ? lo : hi) = mid;
-  }
-  return std::sqrt(lo * hi) / (2 * std::numbers::pi);
-}
-
 namespace {
 // Complex arithmetic by hand: GCC's operator/ on std::complex calls __divdc3 (NaN and
 // overflow care this well-scaled 3x3 does not need) and std::abs calls hypot; together

@@ -42,21 +42,6 @@ struct LfSection {
 /// high frequency. 0 when there are none.
 double lf_corner_hz(std::span<const LfSection> sections);
 
-/// The -3 dB frequency (Hz) of H(s) = (1 - s/z) / (1 + b1*s + b2*s^2) (a two-pole stage
-/// with a right-half-plane feed-forward zero z, rad/s; z <= 0 means none); combined with
-/// an extra single pole p_rad (0: none).
-double hf_corner_hz(double b1_s, double b2_s2, double z_rad, double p_rad = 0);
-
-/// Positive root of a*a*x... : solves f(x) = 0 for an increasing f on [lo, hi] by bisection.
-template <class F>
-double bisect(F f, double lo, double hi, int steps = 60) {
-  for (int i = 0; i < steps; ++i) {
-    const double mid = 0.5 * (lo + hi);
-    (f(mid) < 0 ? lo : hi) = mid;
-  }
-  return 0.5 * (lo + hi);
-}
-
 /// Small-signal hybrid-pi model of one transistor stage above the coupling corners:
 /// base (gate) fed from a Thevenin source through 1/g_src, emitter (source) to ground
 /// through g_e, collector (drain) to ground through g_c; gpi, cpi between base and

@@ -206,7 +206,7 @@ class ChainSearch {
     return kept;
   }
 
-  /// The pools of the requests, designing those not yet designed (on both cores).
+  /// The pools of the requests, designing those not yet designed (on every core).
   std::vector<const std::vector<Candidate>*> pools(const std::vector<PoolRequest>& requests) {
     std::vector<const PoolRequest*> todo;
     std::set<std::string> queued;
@@ -365,7 +365,7 @@ class ChainSearch {
     for (const auto v : vs[0]) walk(walk, v, 1.0, 0.0);
     std::sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
     // The pools' gains are coarse: the best paths get their gain stage nearest the load
-    // redesigned for exactly the gain the other stages leave it (the pools on both cores).
+    // redesigned for exactly the gain the other stages leave it (the pools on every core).
     {
       std::vector<Refinement> jobs;
       for (std::size_t i = 0; i < paths.size() && jobs.size() < kRefine; ++i)
@@ -389,7 +389,7 @@ class ChainSearch {
       }
       linked.push_back(std::move(ch));
     }
-    // The corner passes on both cores; what they found is tallied after.
+    // The corner passes on every core; what they found is tallied after.
     std::vector<std::string> failed(linked.size());
     std::vector<long> evals(linked.size(), 0);
     parallel_for(linked.size(), [&](std::size_t i) { failed[i] = chain_corners(linked[i], spec_, evals[i], Depth::search); });

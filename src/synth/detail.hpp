@@ -83,8 +83,8 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
 void finalize(Candidate& c, const Shelf& shelf);
 
 /// Chains of two or more stages for the spec (spec.stages_max >= 2), best first, each
-/// evaluated as a whole by the exact solver; `single_best` is the score of the best single
-/// stage (a chain must beat it). Never throws for "nothing fits".
+/// evaluated as a whole by the exact solver (design() then ranks them with the single
+/// stages by the same score). Never throws for "nothing fits".
 std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally);
 /// A chain's corner pass (its stages' values, devices and parts given): each stage at its
 /// corners in the conditions the chain puts it in; fills the chain's figures from the fast

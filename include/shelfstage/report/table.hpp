@@ -36,7 +36,6 @@ class TextTable {
   void add_row(std::vector<std::string> cells);
 
   std::size_t row_count() const { return rows_.size(); }
-  std::size_t column_count() const { return columns_.size(); }
 
   /// The table as lines, each ending in '\n', without trailing blanks. An empty table
   /// (no rows) renders as its header alone.

@@ -68,7 +68,7 @@ std::vector<std::string> device_problems(const devices::DeviceRecord& device);
 std::vector<std::string> piece_problems(const devices::MeasuredPiece& piece, const devices::DeviceRecord& device);
 
 /// A short human description: "R 4.7k 5% 0.25W bin A3", "C 100u -20/+80% 25V electrolytic",
-/// "NPN BC549C bin T1". Used for ledger lines and messages; always clean text (units/text.hpp),
+/// "NPN SQ-410 bin T1". Used for ledger lines and messages; always clean text (units/text.hpp),
 /// text that is not being escaped.
 std::string describe(const Part& part);
 
