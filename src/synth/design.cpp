@@ -689,7 +689,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
     }
     // Several copies that the shelf holds too few pieces for: when one copy fits, the
     // quantity binds, whatever stopped the rest.
-    if (spec.copies > 1 && tally.failures.count("stock") && !jobs.empty()) {
+    if (spec.explain_failure && spec.copies > 1 && tally.failures.count("stock") && !jobs.empty()) {
       Spec one = spec;
       one.copies = 1;
       one.mc_samples = 0;
@@ -722,7 +722,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
       r.diagnosis.detail += fmt::format(" ({} stages proposed; stopped at nominal: {}; at the corners: {})",
                                         tally.proposals, tally.failures.empty() ? "none" : list(tally.failures),
                                         tally.corner_failures.empty() ? "none" : list(tally.corner_failures));
-    if (!jobs.empty()) {
+    if (!jobs.empty() && spec.explain_failure) {
       if (auto bought = smallest_purchase(spec, inv)) {
         for (const auto& l : bought->buy) {
           const bool resistor = l.kind == store::PartKind::resistor;

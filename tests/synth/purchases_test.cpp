@@ -242,9 +242,7 @@ TEST_CASE("smallest_purchase: minimal on shelves where the minimum is known by e
       }
     }
     // The infeasible answer suggests the same purchase.
-    auto s = spec;
-    s.explain_failure = false;
-    const auto none = synth::design(s, inv);
+    const auto none = synth::design(spec, inv);
     REQUIRE(none.candidates.empty());
     REQUIRE(none.diagnosis.with_purchases.has_value());
     CHECK(none.diagnosis.with_purchases->purchases == k.remove);

@@ -58,7 +58,8 @@ struct Spec {
   std::uint64_t seed = 1;  ///< Monte Carlo seed
   int mc_samples = 500;
   /// When nothing fits, find the binding constraint by searching again with each one relaxed
-  /// (diagnose.cpp). Those searches set it false.
+  /// (diagnose.cpp), and the smallest purchase that would help (purchases.cpp). The probe
+  /// searches of a diagnosis set it false: they only ask whether anything fits.
   bool explain_failure = true;
   /// Score points per piece not on the shelf (Candidate::purchases). 0 for designs from the
   /// shelf; the search for what to buy sets it high, so that its own pruning keeps the designs
