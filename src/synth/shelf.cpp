@@ -232,6 +232,23 @@ bool Shelf::pair_ok(store::PartKind kind, Join join, std::uint32_t a, std::uint3
 namespace {
 /// Singles scanned per range when pairs are found on the fly (NOTES 3 in shelf.hpp).
 constexpr std::size_t kPairScan = 64;
+
+// Calls visit(i, ideal partner, join) for the singles v[i] that can pair toward target: in
+// series a in [target / 101, target), in parallel a in (target, 101 target] (a pair within a
+// factor of 100). At most `limit` of each range, spread evenly over it (0: every one).
+template <class Visit>
+void pair_anchors(const std::vector<double>& v, double target, std::size_t limit, Visit&& visit) {
+  auto scan = [&](std::size_t first, std::size_t last, Join join) {
+    if (last <= first) return;
+    const std::size_t stride = limit == 0 ? 1 : (last - first + limit - 1) / limit;
+    for (std::size_t i = first; i < last; i += stride)
+      visit(i, join == Join::series ? target - v[i] : v[i] * target / (v[i] - target), join);
+  };
+  const auto below = [&](double x) { return static_cast<std::size_t>(std::lower_bound(v.begin(), v.end(), x) - v.begin()); };
+  const auto above = [&](double x) { return static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), x) - v.begin()); };
+  scan(below(target / 101.0), below(target), Join::series);
+  scan(above(target), above(101.0 * target), Join::parallel);
+}
 }  // namespace
 
 template <class F>
@@ -250,19 +267,9 @@ void Shelf::pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& 
       f(join == Join::series ? v[i] + v[ju] : v[i] * v[ju] / (v[i] + v[ju]), ga, gb, join);
     }
   };
-  // Series: a in [target / 101, target); parallel: a in (target, 101 target]. At most
-  // kPairScan singles of each range, spread evenly over it: a stock dense enough to hold more
-  // has pairs within a fraction of its spacing of the target from those already (NOTES 3).
-  auto scan = [&](std::size_t first, std::size_t last, Join join) {
-    if (last <= first) return;
-    const std::size_t stride = (last - first + kPairScan - 1) / kPairScan;
-    for (std::size_t i = first; i < last; i += stride)
-      partners(i, join == Join::series ? target - v[i] : v[i] * target / (v[i] - target), join);
-  };
-  const auto at = [&](double x) { return static_cast<std::size_t>(std::lower_bound(v.begin(), v.end(), x) - v.begin()); };
-  scan(at(target / 101.0), at(target), Join::series);
-  scan(static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), target) - v.begin()),
-       static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), 101.0 * target) - v.begin()), Join::parallel);
+  // A stock dense enough to hold more than kPairScan singles in a range has pairs within a
+  // fraction of its spacing of the target from those already (NOTES 3).
+  pair_anchors(v, target, kPairScan, partners);
 }
 
 void Shelf::nearest_from(const ValueIndex& idx, const std::vector<double>& triples, double target, std::size_t n,
@@ -502,10 +509,7 @@ std::optional<Combo> Shelf::find_recipe(double nominal) const {
                               : make_combo(store::PartKind::resistor, join, {r_index_.group[ku], r_index_.group[i]}));
       }
     };
-    auto i = static_cast<std::size_t>(std::lower_bound(v.begin(), v.end(), nominal / 101.0) - v.begin());
-    for (; i < v.size() && v[i] < nominal; ++i) partner(i, nominal - v[i], Join::series);
-    for (; i < v.size() && v[i] <= 101.0 * nominal; ++i)
-      if (v[i] > nominal) partner(i, v[i] * nominal / (v[i] - nominal), Join::parallel);
+    pair_anchors(v, nominal, 0, partner);
   }
   if (best) return best;
   const auto it = std::lower_bound(r3_.begin(), r3_.end(), nominal * (1 - 1e-9),
