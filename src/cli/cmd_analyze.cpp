@@ -12,6 +12,7 @@
 #include "commands.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/analysis.hpp"
+#include "shelfstage/stages/topology.hpp"
 #include "shelfstage/units/notation.hpp"
 #include "stage_view.hpp"
 
@@ -237,7 +238,7 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
   CLI::App* cmd = parent.add_subcommand(
       "analyze", "The full analysis of a stage given part by part (a board already built, or one on paper)");
   cmd->add_option("TOPOLOGY", o->topology,
-                  "jfet-cs-self, jfet-cs-divider, jfet-follower, bjt-ce-divider or bjt-follower")
+                  "One of: " + stages::topology_names())
       ->type_name("")
       ->required();
   cmd->add_option("--device", o->device, "Transistor type from the device list")->type_name("NAME")->required();

@@ -9,6 +9,7 @@
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/design_text.hpp"
+#include "shelfstage/stages/topology.hpp"
 #include "shelfstage/store/designs.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
@@ -65,8 +66,7 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
   cmd.add_option("--temp", o.temp, "Ambient temperature range in °C (0..50); corners include both ends");
   cmd.add_option("--copies", o.copies, "How many copies will be built: all draw on one stock")->check(CLI::Range(1, 10000));
   cmd.add_option("--topology", o.topologies,
-                 "Only these stages (repeatable): jfet-cs-self, jfet-cs-divider, jfet-follower, bjt-ce-divider, "
-                 "bjt-follower");
+                 "Only these stages (repeatable): " + stages::topology_names());
   cmd.add_option("--device", o.devices, "Only these transistor types (repeatable)");
   cmd.add_option("--piece", o.piece, "Design for one measured piece (its narrower spread); implies --copies 1");
   cmd.add_option("--top", o.top, "How many candidates to list (default 5)")->check(CLI::Range(1, 1000));

@@ -43,35 +43,31 @@ struct Slot {
   Side side;
 };
 
-// NOTES 2: the template. Grid units; see the header for the rules.
-std::optional<Slot> slot_for(std::string_view role, bool follower) {
+// NOTES 2: the template's own places (the bench and the transistor); the stage's parts from
+// the caller. Grid units; see the header for the rules.
+std::optional<Slot> slot_for(std::string_view role, const SchematicOptions& o) {
   if (role == "supply") return Slot{31, 16, true, Side::right};
   if (role == "signal") return Slot{2, 18, true, Side::right};
   if (role == "source") return Slot{5, 14, false, Side::above};
   if (role == "load") return Slot{28, 21, true, Side::right};
   if (role == "load capacitance") return Slot{33, 21, true, Side::right};
   if (role == "device") return Slot{18, 12, true, Side::right};
-  if (role == "CIN") return Slot{10, 14, false, Side::above};
-  if (role == "R1") return Slot{13, 6, true, Side::left};
-  if (role == "RG" || role == "R2") return Slot{13, 19, true, Side::left};
-  if (role == "RD" || role == "RC") return Slot{19, 6, true, Side::left};
-  if (role == "COUT") return follower ? Slot{23, 16, false, Side::below} : Slot{23, 9, false, Side::above};
-  if (role == "RS1" || role == "RE1") return Slot{19, 17, true, Side::left};
-  if (role == "RS2" || role == "RE2") return Slot{19, 23, true, Side::left};
-  if (role == "CS" || role == "CE") return Slot{22, 23, true, Side::right};
-  if (role == "RS" || role == "RE") return Slot{19, 19, true, Side::left};
-  return std::nullopt;
+  const auto it = o.places.find(role);
+  if (it == o.places.end()) return std::nullopt;
+  const Place& p = it->second;
+  const Side side = p.label == 'l' ? Side::left : p.label == 'a' ? Side::above : p.label == 'b' ? Side::below : Side::right;
+  return Slot{p.x, p.y, p.vertical, side};
 }
 
 // NOTES 3: which end of a two-terminal part goes on top (vertical) or left (horizontal).
-double vertical_rank(std::string_view net) {
+double vertical_rank(std::string_view net, const SchematicOptions& o) {
   if (net == "vdd") return 0;
   if (net == "drain" || net == "collector") return 1;
   if (net == "gate" || net == "base" || net == "sig" || net == "in" || net == "out") return 2;
   if (net == "source" || net == "emitter") return 3;
-  if (net == "x") return 4;
   if (net == "0") return 5;
-  return 2.5;
+  const auto it = o.net_levels.find(net);
+  return it == o.net_levels.end() ? 2.5 : it->second;
 }
 
 double horizontal_rank(std::string_view net) {
@@ -256,15 +252,9 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
     return role == "supply" || role == "signal" || role == "source" || role == "load" || role == "load capacitance";
   };
 
-  // A follower: the transistor's upper pin (drain or collector) on the supply net.
-  bool follower = false;
-  for (const auto& el : c.elements())
-    if ((el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt) && n_frame(c.net_name(el.c.pins[0])) == "vdd")
-      follower = true;
-
   for (const auto& el : c.elements()) {
     const auto& e = el.c;
-    auto slot = slot_for(e.role, follower);
+    auto slot = slot_for(e.role, o);
     const bool mirrored = flipped && !is_bench_role(e.role);
     if (slot && mirrored) {
       slot->y = kRailSupply + kRailGround - slot->y;
@@ -274,7 +264,7 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
         slot->side = Side::above;
     }
     if (!slot)
-      throw InputError(fmt::format("schematic: no place for {} (role '{}'); the drawing template does not know it",
+      throw InputError(fmt::format("schematic: no place for {} (role '{}'); neither the drawing template nor the stage places it",
                                    e.designator, e.role));
     const auto it = o.notes.find(e.designator);
     const PartNote* note = it == o.notes.end() ? nullptr : &it->second;
@@ -299,7 +289,7 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
     } else {
       const std::string n0 = c.net_name(e.pins[0]), n1 = c.net_name(e.pins[1]);
       // A mirrored part ranks its ends as the N frame does, upside down.
-      auto v_rank = [&](const std::string& n) { return mirrored ? 5.0 - vertical_rank(n_frame(n)) : vertical_rank(n); };
+      auto v_rank = [&](const std::string& n) { return mirrored ? 5.0 - vertical_rank(n_frame(n), o) : vertical_rank(n, o); };
       sym.first_end = sym.vertical ? (v_rank(n0) <= v_rank(n1) ? 0 : 1)
                                    : (horizontal_rank(n0) <= horizontal_rank(n1) ? 0 : 1);
       const std::size_t second = 1 - sym.first_end;

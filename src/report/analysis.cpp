@@ -69,18 +69,7 @@ std::vector<bool> placed(const stages::Topology& t, const stages::Values& v) {
   return out;
 }
 
-std::string describe_net(const stages::Topology& t, std::string_view net) {
-  if (net == "0") return "ground";
-  if (net == stages::kNetIn) return "input side";
-  if (net == stages::kNetOut) return "output side";
-  if (net == stages::kNetSupply) return "supply rail";
-  if (net == "x") {
-    // The junction of the split source (emitter) resistor.
-    const auto names = t.node_names();
-    return names[1] == "source" ? "RS1-RS2 junction" : "RE1-RE2 junction";
-  }
-  return std::string(net);
-}
+std::string describe_net(const stages::Topology& t, std::string_view net) { return t.net_words(net); }
 
 const stages::Stress* stress_of(const stages::Performance& p, std::size_t role) {
   for (const auto& s : p.stress)

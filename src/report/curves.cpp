@@ -31,12 +31,6 @@ std::string tol_text(const units::Tolerance& t) {
   return minus == plus ? plus + "%" : fmt::format("-{}/+{}%", minus, plus);
 }
 
-/// A role's value by name (0 when the topology has no such role or leaves it out).
-double role_value(const synth::Candidate& c, std::string_view name) {
-  const std::size_t i = c.topology->role_index(name);
-  return i < c.topology->roles().size() ? c.values[i] : 0.0;
-}
-
 ResponseCurve sweep(const std::function<circuit::Circuit()>& build, const std::vector<double>& f, double celsius,
                     const std::string& tag) {
   ResponseCurve r;
@@ -243,10 +237,10 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
   const devices::DeviceSpread spread = synth::spread_of(c);
   const double celsius = spec.temp_nominal_c();
   const stages::Transistor q0 = synth::make_transistor(spread, spread.nominal(), celsius);
-  const bool follower = t.is_buffer();
-  const auto names = t.node_names();
   BiasSpread b;
-  b.node = std::string(follower ? names[1] : names[2]);
+  b.line = t.load_line(c.values, c.conditions);
+  const bool follower = b.line.at_common;
+  b.node = std::string(t.node_names()[follower ? 1 : 2]);
 
   auto point = [&](const stages::Values& v, const stages::Transistor& q, const stages::Conditions& cond,
                    const std::string& tag) -> std::optional<BiasPoint> {
@@ -298,11 +292,9 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
   if (jfet)
     for (const auto& f : spread.corners()) beta_min = std::min(beta_min, spread.jfet(f, celsius).beta());
   auto knee = [&](double i) { return jfet ? std::sqrt(i / beta_min) : q0.bjt.vce_sat_v; };
-  const double rl = c.conditions.load_ohm;
-  const double r_ac = follower ? stages::par(role_value(c, jfet ? "RS" : "RE"), rl)
-                               : stages::par(role_value(c, jfet ? "RD" : "RC"), rl);
-  const double r_unbypassed = role_value(c, jfet ? "RS1" : "RE1");
-  const double r_common = r_unbypassed + role_value(c, jfet ? "RS2" : "RE2");
+  const double r_ac = b.line.r_ac_ohm;
+  const double r_unbypassed = b.line.r_unbypassed_ohm;
+  const double r_common = b.line.r_common_ohm;
   double i_max_seen = b.nominal.i_a;
   for (const auto& p : b.corners) i_max_seen = std::max(i_max_seen, p.i_a);
   for (const auto& p : b.samples) i_max_seen = std::max(i_max_seen, p.i_a);

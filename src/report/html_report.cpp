@@ -351,13 +351,8 @@ std::string bias_section(const ReportInput& in, const BiasSpread& b) {
   }
   // The DC load line through the nominal parts: V = supply - I R (common source or emitter),
   // V = I R (follower).
-  const bool follower = b.node == "source" || b.node == "emitter";
-  const auto& t = *c.topology;
-  auto role = [&](std::string_view name) {
-    const std::size_t i = t.role_index(name);
-    return i < t.roles().size() ? c.values[i] : 0.0;
-  };
-  const double r_line = follower ? role(jfet ? "RS" : "RE") : role(jfet ? "RD" : "RC");
+  const bool follower = b.line.at_common;
+  const double r_line = b.line.r_dc_ohm;
   double i_top = b.nominal.i_a;
   for (const auto& q : b.samples) i_top = std::max(i_top, q.i_a);
   for (const auto& q : b.corners) i_top = std::max(i_top, q.i_a);
@@ -671,6 +666,9 @@ draw::SchematicOptions schematic_notes(const synth::Candidate& c) {
     }
     o.notes[rp.designator] = n;
   }
+  for (const auto& role : t.roles())
+    if (role.at.x >= 0) o.places[std::string(role.name)] = {role.at.x, role.at.y, role.at.vertical, role.at.label};
+  for (const auto& inner : t.inner_nets()) o.net_levels[std::string(inner.name)] = inner.level;
   o.notes[transistor_designator(c)] = {c.device.name + (c.piece ? " " + c.piece->label : ""), kind_text(c.device.kind), false, ""};
   o.notes["VDD"] = {volts(c.conditions.supply_v), "supply", false, ""};
   o.notes["VSIG"] = {"signal", "", false, ""};

@@ -217,7 +217,6 @@ bool bin_less(std::string_view a, std::string_view b) {
 
 std::string net_for_people(std::string_view net, const synth::Candidate& c, std::size_t stage_count) {
   if (c.is_chain()) return fmt::format("net {}", net);
-  const bool jfet = devices::is_jfet(c.device.kind);
   // The transistor's designator: Q1, or Q101, Q201 ... in a chain's stage.
   std::string q = "Q1";
   if (!c.parts.empty() && c.parts.front().stage > 0)
@@ -231,13 +230,12 @@ std::string net_for_people(std::string_view net, const synth::Candidate& c, std:
     return stage > 0 && static_cast<std::size_t>(stage) < stage_count
                ? fmt::format("the output side (toward stage {})", stage + 1)
                : std::string("the output side (toward the load)");
-  if (net == "x") {
-    const std::string upper = jfet ? "RS1" : "RE1";
-    const std::string lower_role = jfet ? "RS2" : "RE2";
-    const bool has_upper =
-        std::any_of(c.parts.begin(), c.parts.end(), [&](const synth::RolePart& rp) { return rp.role == upper; });
-    if (!has_upper) return fmt::format("the {} of {} ({} is left out)", jfet ? "source" : "emitter", q, upper);
-    return fmt::format("the {}\u2013{} junction", upper, lower_role);
+  if (const stages::InnerNet* inner = c.topology ? c.topology->inner_net(net) : nullptr) {
+    const bool has_upper = inner->upper.empty() || std::any_of(c.parts.begin(), c.parts.end(), [&](const synth::RolePart& rp) {
+                             return rp.role == inner->upper;
+                           });
+    if (!has_upper) return fmt::format("the {} of {} ({} is left out)", c.topology->node_names()[1], q, inner->upper);
+    return fmt::format("the {}", inner->words);
   }
   for (const char* terminal : {"gate", "drain", "source", "base", "collector", "emitter"})
     if (net == terminal) return fmt::format("the {} of {}", net, q);

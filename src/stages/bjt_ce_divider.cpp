@@ -13,15 +13,18 @@ namespace {
 enum : std::size_t { R1, R2, RC, RE1, RE2, CE, CIN, COUT };
 
 constexpr Role kRoles[] = {
-    {"R1", "R1", 'R', false, false, "", "", "supply to base: upper divider leg"},
-    {"R2", "R2", 'R', false, false, "", "", "base to ground: lower divider leg"},
-    {"RC", "R3", 'R', false, false, "", "", "supply to collector: the load the gain develops across"},
-    {"RE1", "R4", 'R', true, false, "", "", "emitter to x, unbypassed: sets the gain"},
-    {"RE2", "R5", 'R', true, false, "", "", "x to ground, bypassed: adds bias only"},
-    {"CE", "C2", 'C', true, true, "x", "0", "bypass across RE2"},
-    {"CIN", "C1", 'C', false, true, "base", "in", "input coupling"},
-    {"COUT", "C3", 'C', false, true, "collector", "out", "output coupling"},
+    {"R1", "R1", 'R', false, false, "", "", "supply to base: upper divider leg", {13, 6, true, 'l'}},
+    {"R2", "R2", 'R', false, false, "", "", "base to ground: lower divider leg", {13, 19, true, 'l'}},
+    {"RC", "R3", 'R', false, false, "", "", "supply to collector: the load the gain develops across",
+     {19, 6, true, 'l'}},
+    {"RE1", "R4", 'R', true, false, "", "", "emitter to x, unbypassed: sets the gain", {19, 17, true, 'l'}},
+    {"RE2", "R5", 'R', true, false, "", "", "x to ground, bypassed: adds bias only", {19, 23, true, 'l'}},
+    {"CE", "C2", 'C', true, true, "x", "0", "bypass across RE2", {22, 23, true, 'r'}, true},
+    {"CIN", "C1", 'C', false, true, "base", "in", "input coupling", {10, 14, false, 'a'}},
+    {"COUT", "C3", 'C', false, true, "collector", "out", "output coupling", {23, 9, false, 'a'}},
 };
+constexpr InnerNet kInner[] = {{"x", "RE1\u2013RE2 junction", 4, "RE1"}};
+constexpr detail::CommonRoles kCommon{RC, RE1, RE2, CE, CIN, COUT};
 
 // The low-frequency response solved as one network: the input coupling, the emitter bypass
 // and the output coupling interact through the transistor (as the bypass fails, the emitter
@@ -76,6 +79,24 @@ class BjtCeDivider final : public Topology {
   bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
+  std::span<const InnerNet> inner_nets() const override { return kInner; }
+  LoadLine load_line(const Values& v, const Conditions& c) const override {
+    return detail::common_load_line(kCommon, v, c);
+  }
+  // The emitter at a tenth of the supply (at least 0.6 V), the collector halfway between
+  // saturation and the supply.
+  Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const override {
+    const auto& b = q.bjt;
+    const double hfe = k.nominal_hfe > 0 ? k.nominal_hfe : b.bf;
+    const double ie = k.current_a * (1.0 + 1.0 / hfe);
+    const double ve = std::max(0.1 * c.supply_v, 0.6);
+    const double vc = 0.5 * (c.supply_v + ve + 0.2);
+    Values v;
+    v[RC] = (c.supply_v - vc) / k.current_a;
+    detail::reference_leg(v, kCommon, ve / ie, b.vt_v / k.current_a, k);
+    detail::bjt_divider_reference(v, R1, R2, CIN, COUT, b, c, k, ve, v[RC]);
+    return v;
+  }
 
   circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
     auto net = detail::bench(c);

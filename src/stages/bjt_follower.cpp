@@ -13,11 +13,12 @@ namespace {
 enum : std::size_t { R1, R2, RE, CIN, COUT };
 
 constexpr Role kRoles[] = {
-    {"R1", "R1", 'R', false, false, "", "", "supply to base: upper divider leg"},
-    {"R2", "R2", 'R', false, false, "", "", "base to ground: lower divider leg"},
-    {"RE", "R3", 'R', false, false, "", "", "emitter to ground: sets the current and drives the load"},
-    {"CIN", "C1", 'C', false, true, "base", "in", "input coupling"},
-    {"COUT", "C2", 'C', false, true, "emitter", "out", "output coupling"},
+    {"R1", "R1", 'R', false, false, "", "", "supply to base: upper divider leg", {13, 6, true, 'l'}},
+    {"R2", "R2", 'R', false, false, "", "", "base to ground: lower divider leg", {13, 19, true, 'l'}},
+    {"RE", "R3", 'R', false, false, "", "", "emitter to ground: sets the current and drives the load",
+     {19, 19, true, 'l'}},
+    {"CIN", "C1", 'C', false, true, "base", "in", "input coupling", {10, 14, false, 'a'}},
+    {"COUT", "C2", 'C', false, true, "emitter", "out", "output coupling", {23, 16, false, 'b'}},
 };
 
 // The low-frequency response with both coupling capacitors solved together: the load
@@ -61,6 +62,19 @@ class BjtFollower final : public Topology {
   bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
+  LoadLine load_line(const Values& v, const Conditions& c) const override {
+    return {.at_common = true, .r_dc_ohm = v[RE], .r_ac_ohm = par(v[RE], c.load_ohm)};
+  }
+  // The emitter a little below half the supply.
+  Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const override {
+    const auto& b = q.bjt;
+    const double hfe = k.nominal_hfe > 0 ? k.nominal_hfe : b.bf;
+    const double ve = 0.45 * c.supply_v;
+    Values v;
+    v[RE] = ve / (k.current_a * (1.0 + 1.0 / hfe));
+    detail::bjt_divider_reference(v, R1, R2, CIN, COUT, b, c, k, ve, b.vt_v / k.current_a);
+    return v;
+  }
 
   circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
     auto net = detail::bench(c);

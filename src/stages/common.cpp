@@ -383,3 +383,52 @@ Stress cap_stress(std::size_t role, double dc_n_v, std::string_view pos, std::st
 
 }  // namespace detail
 }  // namespace shelfstage::stages
+
+namespace shelfstage::stages::detail {
+
+LoadLine common_load_line(const CommonRoles& r, const Values& v, const Conditions& c) {
+  LoadLine l;
+  l.r_dc_ohm = v[r.load];
+  l.r_ac_ohm = par(v[r.load], c.load_ohm);
+  l.r_unbypassed_ohm = v[r.leg1];
+  l.r_common_ohm = v[r.leg1] + v[r.leg2];
+  return l;
+}
+
+void reference_leg(Values& v, const CommonRoles& r, double r_total, double r_look, const ReferenceKnobs& k) {
+  const double r_unb = k.degeneration * r_total;
+  if (r_unb > 0) v[r.leg1] = r_unb;
+  if (k.degeneration < 1.0) {
+    v[r.leg2] = r_total - r_unb;
+    v[r.bypass] = cap_for(par(r_total - r_unb, r_unb + r_look), k.f_corner_hz);
+  }
+}
+
+void jfet_cs_reference(Values& v, const CommonRoles& r, const devices::JfetInstance& j, const Conditions& c,
+                       const ReferenceKnobs& k, double vg_v, double r_gate_ohm) {
+  const double id = k.current_frac * j.idss_a;
+  const double vov = j.vp_abs_v * std::sqrt(k.current_frac);
+  const double vgs = vov - j.vp_abs_v;  // <= 0
+  const double gm = 2.0 * id / vov;
+  const double vs = vg_v - vgs;
+  const double vd = 0.5 * (vs + vov + c.supply_v);
+  v[r.load] = (c.supply_v - vd) / id;
+  reference_leg(v, r, vs / id, 1.0 / gm, k);
+  v[r.cin] = cap_for(r_gate_ohm + c.source_ohm, k.f_corner_hz);
+  v[r.cout] = cap_for(v[r.load] + c.load_ohm, k.f_corner_hz);
+}
+
+void bjt_divider_reference(Values& v, std::size_t r1, std::size_t r2, std::size_t cin, std::size_t cout,
+                           const devices::BjtInstance& b, const Conditions& c, const ReferenceKnobs& k, double ve_v,
+                           double zout_ohm) {
+  const double hfe = k.nominal_hfe > 0 ? k.nominal_hfe : b.bf;
+  const double ic = k.current_a, ib = ic / hfe;
+  const double vb = ve_v + b.vt_v * std::log(ic / b.is_a);
+  v[r1] = (c.supply_v - vb) / (11.0 * ib);
+  v[r2] = vb / (10.0 * ib);
+  // The input corner sees at least the divider; the output corner at least the load.
+  v[cin] = cap_for(c.source_ohm + par(par(v[r1], v[r2]), hfe * b.vt_v / ic), k.f_corner_hz);
+  v[cout] = cap_for(c.load_ohm + zout_ohm, k.f_corner_hz);
+}
+
+}  // namespace shelfstage::stages::detail

@@ -189,3 +189,32 @@ void jfet_cs_legs(const ValueSource& shelf, const Goal& g, const Conditions& c, 
 void unique_values(std::vector<double>& v);
 
 }  // namespace shelfstage::stages::detail
+
+namespace shelfstage::stages::detail {
+
+/// The roles of a common source or emitter stage that the shared steps below fill in.
+struct CommonRoles {
+  std::size_t load, leg1, leg2, bypass, cin, cout;  ///< RD/RC, RS1/RE1, RS2/RE2, CS/CE, CIN, COUT
+};
+
+/// The load lines of a common source or emitter stage with a split, partly bypassed leg.
+LoadLine common_load_line(const CommonRoles& r, const Values& v, const Conditions& c);
+
+/// A split leg of about r_total for a reference design: the unbypassed part k.degeneration
+/// of it, the rest bypassed by a capacitor sized for k.f_corner_hz against what it looks
+/// into (r_look: 1/gm or the emitter's own resistance, beside the unbypassed part).
+void reference_leg(Values& v, const CommonRoles& r, double r_total, double r_look, const ReferenceKnobs& k);
+
+/// The JFET common-source reference design both CS topologies share, with the gate at vg_v
+/// behind r_gate_ohm: the drain halfway between the triode edge and the supply.
+void jfet_cs_reference(Values& v, const CommonRoles& r, const devices::JfetInstance& j, const Conditions& c,
+                       const ReferenceKnobs& k, double vg_v, double r_gate_ohm);
+
+/// The BJT reference designs' base divider (stiff: ten times the base current below the
+/// base) for an emitter at ve_v, and the coupling capacitors; zout_ohm is the output's own
+/// resistance.
+void bjt_divider_reference(Values& v, std::size_t r1, std::size_t r2, std::size_t cin, std::size_t cout,
+                           const devices::BjtInstance& b, const Conditions& c, const ReferenceKnobs& k, double ve_v,
+                           double zout_ohm);
+
+}  // namespace shelfstage::stages::detail

@@ -9,15 +9,18 @@ namespace {
 enum : std::size_t { R1, R2, RD, RS1, RS2, CS, CIN, COUT };
 
 constexpr Role kRoles[] = {
-    {"R1", "R1", 'R', false, false, "", "", "supply to gate: upper divider leg"},
-    {"R2", "R2", 'R', false, false, "", "", "gate to ground: lower divider leg"},
-    {"RD", "R3", 'R', false, false, "", "", "supply to drain: the load the gain develops across"},
-    {"RS1", "R4", 'R', true, false, "", "", "source to x, unbypassed: sets the gain"},
-    {"RS2", "R5", 'R', true, false, "", "", "x to ground, bypassed: with the divider, sets the bias"},
-    {"CS", "C2", 'C', true, true, "x", "0", "bypass across RS2"},
-    {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling"},
-    {"COUT", "C3", 'C', false, true, "drain", "out", "output coupling"},
+    {"R1", "R1", 'R', false, false, "", "", "supply to gate: upper divider leg", {13, 6, true, 'l'}},
+    {"R2", "R2", 'R', false, false, "", "", "gate to ground: lower divider leg", {13, 19, true, 'l'}},
+    {"RD", "R3", 'R', false, false, "", "", "supply to drain: the load the gain develops across", {19, 6, true, 'l'}},
+    {"RS1", "R4", 'R', true, false, "", "", "source to x, unbypassed: sets the gain", {19, 17, true, 'l'}},
+    {"RS2", "R5", 'R', true, false, "", "", "x to ground, bypassed: with the divider, sets the bias",
+     {19, 23, true, 'l'}},
+    {"CS", "C2", 'C', true, true, "x", "0", "bypass across RS2", {22, 23, true, 'r'}, true},
+    {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
+    {"COUT", "C3", 'C', false, true, "drain", "out", "output coupling", {23, 9, false, 'a'}},
 };
+constexpr InnerNet kInner[] = {{"x", "RS1\u2013RS2 junction", 4, "RS1"}};
+constexpr detail::CommonRoles kCommon{RD, RS1, RS2, CS, CIN, COUT};
 
 class JfetCsDivider final : public Topology {
  public:
@@ -29,6 +32,18 @@ class JfetCsDivider final : public Topology {
   bool accepts(devices::DeviceKind k) const override { return devices::is_jfet(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"gate", "source", "drain"}; }
+  std::span<const InnerNet> inner_nets() const override { return kInner; }
+  LoadLine load_line(const Values& v, const Conditions& c) const override {
+    return detail::common_load_line(kCommon, v, c);
+  }
+  Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const override {
+    Values v;
+    const double vg = k.gate_frac * c.supply_v;
+    v[R2] = 1e6;
+    v[R1] = v[R2] * (c.supply_v - vg) / vg;
+    detail::jfet_cs_reference(v, kCommon, q.jfet, c, k, vg, par(v[R1], v[R2]));
+    return v;
+  }
 
   circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
     auto net = detail::bench(c);

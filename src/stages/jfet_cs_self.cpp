@@ -9,14 +9,16 @@ namespace {
 enum : std::size_t { RG, RD, RS1, RS2, CS, CIN, COUT };
 
 constexpr Role kRoles[] = {
-    {"RG", "R1", 'R', false, false, "", "", "gate to ground: sets the input impedance"},
-    {"RD", "R2", 'R', false, false, "", "", "supply to drain: the load the gain develops across"},
-    {"RS1", "R3", 'R', true, false, "", "", "source to x, unbypassed: sets the gain"},
-    {"RS2", "R4", 'R', true, false, "", "", "x to ground, bypassed: adds bias only"},
-    {"CS", "C2", 'C', true, true, "x", "0", "bypass across RS2"},
-    {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling"},
-    {"COUT", "C3", 'C', false, true, "drain", "out", "output coupling"},
+    {"RG", "R1", 'R', false, false, "", "", "gate to ground: sets the input impedance", {13, 19, true, 'l'}},
+    {"RD", "R2", 'R', false, false, "", "", "supply to drain: the load the gain develops across", {19, 6, true, 'l'}},
+    {"RS1", "R3", 'R', true, false, "", "", "source to x, unbypassed: sets the gain", {19, 17, true, 'l'}},
+    {"RS2", "R4", 'R', true, false, "", "", "x to ground, bypassed: adds bias only", {19, 23, true, 'l'}},
+    {"CS", "C2", 'C', true, true, "x", "0", "bypass across RS2", {22, 23, true, 'r'}, true},
+    {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
+    {"COUT", "C3", 'C', false, true, "drain", "out", "output coupling", {23, 9, false, 'a'}},
 };
+constexpr InnerNet kInner[] = {{"x", "RS1\u2013RS2 junction", 4, "RS1"}};
+constexpr detail::CommonRoles kCommon{RD, RS1, RS2, CS, CIN, COUT};
 
 class JfetCsSelf final : public Topology {
  public:
@@ -27,6 +29,16 @@ class JfetCsSelf final : public Topology {
   bool accepts(devices::DeviceKind k) const override { return devices::is_jfet(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"gate", "source", "drain"}; }
+  std::span<const InnerNet> inner_nets() const override { return kInner; }
+  LoadLine load_line(const Values& v, const Conditions& c) const override {
+    return detail::common_load_line(kCommon, v, c);
+  }
+  Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const override {
+    Values v;
+    v[RG] = 1e6;
+    detail::jfet_cs_reference(v, kCommon, q.jfet, c, k, 0.0, v[RG]);
+    return v;
+  }
 
   circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
     auto net = detail::bench(c);

@@ -12,10 +12,11 @@ namespace {
 enum : std::size_t { RG, RS, CIN, COUT };
 
 constexpr Role kRoles[] = {
-    {"RG", "R1", 'R', false, false, "", "", "gate to ground: sets the input impedance"},
-    {"RS", "R2", 'R', false, false, "", "", "source to ground: sets the bias and drives the load"},
-    {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling"},
-    {"COUT", "C2", 'C', false, true, "source", "out", "output coupling"},
+    {"RG", "R1", 'R', false, false, "", "", "gate to ground: sets the input impedance", {13, 19, true, 'l'}},
+    {"RS", "R2", 'R', false, false, "", "", "source to ground: sets the bias and drives the load",
+     {19, 19, true, 'l'}},
+    {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
+    {"COUT", "C2", 'C', false, true, "source", "out", "output coupling", {23, 16, false, 'b'}},
 };
 
 class JfetFollower final : public Topology {
@@ -28,6 +29,21 @@ class JfetFollower final : public Topology {
   bool accepts(devices::DeviceKind k) const override { return devices::is_jfet(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"gate", "source", "drain"}; }
+  LoadLine load_line(const Values& v, const Conditions& c) const override {
+    return {.at_common = true, .r_dc_ohm = v[RS], .r_ac_ohm = par(v[RS], c.load_ohm)};
+  }
+  // The source resistor that gives the knobs' current at self-bias (VGS = -ID RS).
+  Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const override {
+    const auto& j = q.jfet;
+    const double id = k.current_frac * j.idss_a;
+    const double vov = j.vp_abs_v * std::sqrt(k.current_frac);
+    Values v;
+    v[RG] = 1e6;
+    v[RS] = (j.vp_abs_v - vov) / id;
+    v[CIN] = detail::cap_for(v[RG] + c.source_ohm, k.f_corner_hz);
+    v[COUT] = detail::cap_for(c.load_ohm + par(v[RS], vov / (2.0 * id)), k.f_corner_hz);
+    return v;
+  }
 
   circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
     auto net = detail::bench(c);

@@ -12,7 +12,7 @@ const Topology& bjt_ce_divider();
 const Topology& bjt_follower();
 
 std::span<const Topology* const> registry() {
-  static const std::array<const Topology*, 5> all = {
+  static const std::array all = {
       &jfet_cs_self(), &jfet_cs_divider(), &jfet_follower(), &bjt_ce_divider(), &bjt_follower(),
   };
   return all;
@@ -22,6 +22,15 @@ const Topology* find_topology(std::string_view name) {
   for (const Topology* t : registry())
     if (t->name() == name) return t;
   return nullptr;
+}
+
+std::string topology_names(std::string_view sep) {
+  std::string out;
+  for (const Topology* t : registry()) {
+    if (!out.empty()) out += sep;
+    out += t->name();
+  }
+  return out;
 }
 
 }  // namespace shelfstage::stages

@@ -35,6 +35,21 @@ std::size_t Topology::role_index(std::string_view role) const {
   return r.size();
 }
 
+const InnerNet* Topology::inner_net(std::string_view net) const {
+  for (const InnerNet& n : inner_nets())
+    if (n.name == net) return &n;
+  return nullptr;
+}
+
+std::string Topology::net_words(std::string_view net) const {
+  if (net == "0") return "ground";
+  if (net == kNetSupply) return "supply rail";
+  if (net == kNetIn) return "input side";
+  if (net == kNetOut) return "output side";
+  if (const InnerNet* n = inner_net(net)) return std::string(n->words);
+  return std::string(net);
+}
+
 circuit::Circuit Topology::netlist(const Values& values, const Transistor& q, const Conditions& c) const {
   circuit::Circuit n_frame = wire(values, q, c);
   const Rail rail = rail_of(q, c);

@@ -71,12 +71,11 @@ DeviceStress device_stress(const Spec& spec, const Candidate& c, const stages::P
     const double input_peak = std::abs(p.gain) > 0 ? p.clip_peak_v / std::abs(p.gain) : 0.0;
     d.v_rev = std::abs(p.v_in - p.v_common) + input_peak;
   }
-  // A bypass capacitor (CS, CE) keeps the DC it holds across the source or emitter resistor
+  // A capacitor across part of the common leg (Role::holds_leg: CS, CE) keeps the DC it holds
   // when the supply goes; the gate or base then sits at the other end: that much reverse.
   for (const auto& st : p.stress) {
     if (st.role >= c.topology->roles().size()) continue;
-    const auto& name = c.topology->roles()[st.role].name;
-    if (name == "CS" || name == "CE") d.v_rev = std::max(d.v_rev, std::abs(st.dc_v));
+    if (c.topology->roles()[st.role].holds_leg) d.v_rev = std::max(d.v_rev, std::abs(st.dc_v));
   }
   d.p_w = std::abs(p.v_out - p.v_common) * p.bias_current_a;
   d.p_allowed_w = c.device.ratings.p_max_at(celsius);
@@ -130,7 +129,7 @@ std::string describe_net(const Candidate& c, const std::string& net, int next_st
   if (net == "0") return "ground";
   if (net == "in") return "input (source) side";
   if (net == "out") return "output (load) side";
-  if (net == "x") return devices::is_jfet(c.device.kind) ? "RS1-RS2 junction" : "RE1-RE2 junction";
+  if (const stages::InnerNet* inner = c.topology->inner_net(net)) return std::string(inner->words);
   if (net == "vdd") return "supply rail";
   return net;
 }

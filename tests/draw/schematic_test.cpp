@@ -1,8 +1,9 @@
-// Tests of the schematic: for every stage wiring of the topology table in docs/interface.md
-// (built here by hand from the table, in N and P polarity, with and without the optional
-// parts), the drawn wires, read back purely as geometry, join exactly the pins the netlist
-// puts on each net; no wire crosses a symbol or touches another net; every tee carries a
-// junction dot; and the drawing is an SVG that Chromium parses and paints.
+// Tests of the schematic: for every registered topology's netlist (its reference design, in
+// N and P polarity, on a positive and a negative rail, with each subset of its optional
+// resistors left out), the drawn wires, read back purely as geometry, join exactly the pins
+// the netlist puts on each net; no wire crosses a symbol or touches another net; every tee
+// carries a junction dot; and the drawing is an SVG that Chromium parses and paints. The
+// stage's places come from its roles, as the report passes them.
 #include "shelfstage/draw/schematic.hpp"
 
 #include <doctest/doctest.h>
@@ -16,6 +17,7 @@
 #include <set>
 
 #include "shelfstage/error.hpp"
+#include "shelfstage/stages/topology.hpp"
 #include "support/browser.hpp"
 
 using namespace shelfstage;
@@ -26,66 +28,69 @@ namespace {
 struct Variant {
   std::string topology;
   bool p_type = false;
-  bool rs1 = true, rs2 = true;  // the optional split source/emitter parts
+  bool negative_rail = false;
+  std::vector<std::string> left_out = {};  // optional resistors left out
 };
 
-/// The test bench (supply, signal source behind its resistance, load) and the stage as
-/// docs/interface.md's table wires it.
+const stages::Topology& topology(const Variant& v) {
+  const stages::Topology* t = stages::find_topology(v.topology);
+  REQUIRE_MESSAGE(t != nullptr, v.topology);
+  return *t;
+}
+
+/// The stage's places and inner-net levels, from its roles (as the report passes them).
+SchematicOptions placed(const Variant& v, SchematicOptions o = {}) {
+  const auto& t = topology(v);
+  for (const auto& r : t.roles()) o.places[std::string(r.name)] = {r.at.x, r.at.y, r.at.vertical, r.at.label};
+  for (const auto& n : t.inner_nets()) o.net_levels[std::string(n.name)] = n.level;
+  return o;
+}
+
+/// The topology's netlist at its reference design: a piece of the variant's polarity on a
+/// 12 V rail, 1k source, 10k load.
 circuit::Circuit build(const Variant& v) {
-  circuit::Circuit c;
-  c.vsource("VDD", "supply", "vdd", "0", v.p_type ? -12.0 : 12.0);
-  c.vsource("VSIG", "signal", "sig", "0", 0.0, 1.0);
-  c.resistor("RSIG", "source", "sig", "in", 1e3);
-  c.resistor("RL", "load", "out", "0", 10e3);
-  const bool bjt = v.topology.starts_with("bjt");
-  const std::string in = bjt ? "base" : "gate", common = bjt ? "emitter" : "source", top = bjt ? "collector" : "drain";
-  const bool follower = v.topology.ends_with("follower");
-  if (v.topology == "jfet-cs-self" || v.topology == "jfet-follower") {
-    c.resistor("R1", "RG", in, "0", 1e6);
-  } else {
-    c.resistor("R1", "R1", "vdd", in, 1e6);
-    c.resistor("R2", "R2", in, "0", 470e3);
-  }
-  c.capacitor("C1", "CIN", "in", in, 100e-9);
-  if (follower) {
-    c.resistor("R3", bjt ? "RE" : "RS", common, "0", 2.2e3);
-    c.capacitor("C2", "COUT", common, "out", 10e-6);
-  } else {
-    c.resistor("R3", bjt ? "RC" : "RD", "vdd", top, 4.7e3);
-    const bool split = v.rs1 && v.rs2;
-    if (v.rs1) c.resistor("R4", bjt ? "RE1" : "RS1", common, split ? "x" : "0", 220);
-    if (v.rs2) {
-      c.resistor("R5", bjt ? "RE2" : "RS2", split ? "x" : common, "0", 1e3);
-      c.capacitor("C2", bjt ? "CE" : "CS", split ? "x" : common, "0", 100e-6);
-    }
-    c.capacitor("C3", "COUT", top, "out", 10e-6);
-  }
-  const bool grounded = !follower && !v.rs1 && !v.rs2;
-  const std::string common_net = grounded ? "0" : common;
-  const std::string top_net = follower ? "vdd" : top;
-  if (bjt) {
-    devices::BjtInstance q;
-    q.kind = v.p_type ? devices::DeviceKind::pnp : devices::DeviceKind::npn;
-    c.bjt("Q1", top_net, in, common_net, q);
-  } else {
-    devices::JfetInstance q;
-    q.kind = v.p_type ? devices::DeviceKind::pjfet : devices::DeviceKind::njfet;
-    q.idss_a = 5e-3;
-    q.vp_abs_v = 2;
-    c.jfet("Q1", top_net, in, common_net, q);
-  }
-  return c;
+  const auto& t = topology(v);
+  stages::Transistor q;
+  const bool jfet = t.accepts(devices::DeviceKind::njfet);
+  q.kind = jfet ? (v.p_type ? devices::DeviceKind::pjfet : devices::DeviceKind::njfet)
+                : (v.p_type ? devices::DeviceKind::pnp : devices::DeviceKind::npn);
+  q.jfet.kind = q.kind;
+  q.jfet.idss_a = 5e-3;
+  q.jfet.vp_abs_v = 2;
+  q.bjt.kind = q.kind;
+  stages::Conditions c;
+  c.supply_v = 12;
+  c.negative_rail = v.negative_rail;
+  c.source_ohm = 1e3;
+  stages::Values values = t.reference(q, c, {});
+  for (const auto& r : v.left_out) values[t.role_index(r)] = 0;
+  return t.netlist(values, q, c);
 }
 
 std::vector<Variant> variants() {
-  std::vector<Variant> v;
-  for (bool p : {false, true}) {
-    for (const char* t : {"jfet-cs-self", "jfet-cs-divider", "bjt-ce-divider"})
-      for (auto [a, b] : {std::pair{true, true}, {false, true}, {true, false}, {false, false}}) v.push_back({t, p, a, b});
-    v.push_back({"jfet-follower", p});
-    v.push_back({"bjt-follower", p});
+  std::vector<Variant> out;
+  for (const stages::Topology* t : stages::registry()) {
+    std::vector<std::string> optional;
+    for (const auto& r : t->roles())
+      if (r.optional && r.kind == 'R') optional.emplace_back(r.name);
+    for (bool p : {false, true})
+      for (bool neg : {false, true})
+        for (std::size_t mask = 0; mask < (std::size_t{1} << optional.size()); ++mask) {
+          Variant v{std::string(t->name()), p, neg, {}};
+          for (std::size_t k = 0; k < optional.size(); ++k)
+            if (mask & (std::size_t{1} << k)) v.left_out.push_back(optional[k]);
+          out.push_back(v);
+        }
   }
-  return v;
+  return out;
+}
+
+/// The designator of a role in the variant's netlist.
+std::string des(const Variant& v, std::string_view role) {
+  const auto& t = topology(v);
+  const std::size_t i = t.role_index(role);
+  REQUIRE_MESSAGE(i < t.roles().size(), role);
+  return std::string(t.roles()[i].designator);
 }
 
 bool on(Point p, const Wire& w) {
@@ -205,24 +210,29 @@ std::string temp_dir() {
 TEST_CASE("lay_out: every net of every topology is wired to exactly its pins") {
   for (const auto& v : variants()) {
     const auto c = build(v);
-    const auto s = lay_out(c);
-    check_wiring(c, s, v.topology + (v.p_type ? " P" : " N") + (v.rs1 ? " +RS1" : "") + (v.rs2 ? " +RS2" : ""));
+    const auto s = lay_out(c, placed(v));
+    std::string what = v.topology + (v.p_type ? " P" : " N") + (v.negative_rail ? " on -rail" : " on +rail");
+    for (const auto& r : v.left_out) what += " -" + r;
+    check_wiring(c, s, what);
   }
 }
 
 TEST_CASE("lay_out: parts are ordered along the page: supply on top, ground below, signal left to right") {
-  const auto c = build({"jfet-cs-self"});
-  const auto s = lay_out(c);
+  const Variant v{"jfet-cs-self"};
+  const auto c = build(v);
+  const auto s = lay_out(c, placed(v));
   auto pin_at = [&](const std::string& des, const std::string& net) {
     for (const auto& p : s.pins)
       if (p.designator == des && c.net_name(p.net) == net) return p.at;
     FAIL("no pin ", des, " on ", net);
     return Point{};
   };
-  CHECK(pin_at("R3", "vdd").y < pin_at("R3", "drain").y);      // RD: supply above the drain
-  CHECK(pin_at("R1", "gate").y < pin_at("R1", "0").y);         // RG: gate above ground
-  CHECK(pin_at("C1", "in").x < pin_at("C1", "gate").x);        // CIN: input left of the gate
-  CHECK(pin_at("C3", "drain").x < pin_at("C3", "out").x);      // COUT: drain left of the output
+  CHECK(pin_at(des(v, "RD"), "vdd").y < pin_at(des(v, "RD"), "drain").y);     // supply above the drain
+  CHECK(pin_at(des(v, "RG"), "gate").y < pin_at(des(v, "RG"), "0").y);        // gate above ground
+  CHECK(pin_at(des(v, "RS1"), "source").y < pin_at(des(v, "RS1"), "x").y);    // source above the junction
+  CHECK(pin_at(des(v, "RS2"), "x").y < pin_at(des(v, "RS2"), "0").y);         // the junction above ground
+  CHECK(pin_at(des(v, "CIN"), "in").x < pin_at(des(v, "CIN"), "gate").x);     // input left of the gate
+  CHECK(pin_at(des(v, "COUT"), "drain").x < pin_at(des(v, "COUT"), "out").x); // drain left of the output
   CHECK(pin_at("Q1", "drain").y < pin_at("Q1", "source").y);
   // The stage's input and output terminals sit on their nets.
   int terminals = 0;
@@ -238,55 +248,63 @@ TEST_CASE("lay_out: parts are ordered along the page: supply on top, ground belo
 }
 
 TEST_CASE("lay_out: symbols follow the device polarity and the electrolytic's + lead") {
+  const Variant cs{"jfet-cs-self"};
   SchematicOptions o;
-  o.notes["C3"] = {"10u", "25 V", true, "drain"};
-  o.notes["C2"] = {"100u", "", true, "x"};
-  auto c = build({"jfet-cs-self"});
-  auto s = lay_out(c, o);
+  const std::string cout = des(cs, "COUT"), bypass = des(cs, "CS");
+  o.notes[cout] = {"10u", "25 V", true, "drain"};
+  o.notes[bypass] = {"100u", "", true, "x"};
+  auto c = build(cs);
+  auto s = lay_out(c, placed(cs, o));
   auto symbol = [&](const std::string& d) {
     return *std::find_if(s.symbols.begin(), s.symbols.end(), [&](const PlacedSymbol& y) { return y.designator == d; });
   };
   CHECK(symbol("Q1").kind == SymbolKind::njfet);
-  CHECK(symbol("C3").kind == SymbolKind::electrolytic);
-  CHECK(c.net_name(c.find("C3")->c.pins[symbol("C3").plus_pin]) == "drain");
-  CHECK(c.net_name(c.find("C2")->c.pins[symbol("C2").plus_pin]) == "x");
-  CHECK(symbol("C1").kind == SymbolKind::capacitor);
+  CHECK(symbol(cout).kind == SymbolKind::electrolytic);
+  CHECK(c.net_name(c.find(cout)->c.pins[symbol(cout).plus_pin]) == "drain");
+  CHECK(c.net_name(c.find(bypass)->c.pins[symbol(bypass).plus_pin]) == "x");
+  CHECK(symbol(des(cs, "CIN")).kind == SymbolKind::capacitor);
   CHECK(symbol("VDD").kind == SymbolKind::dc_source);
   CHECK(symbol("VSIG").kind == SymbolKind::ac_source);
   // The label carries the designator, the role and the note's value.
-  CHECK(symbol("C3").label == std::vector<std::string>{"C3 COUT", "10u", "25 V"});
-  // Without a note the value is the netlist's, in IEC 60062 code.
-  CHECK(symbol("R3").label == std::vector<std::string>{"R3 RD", "4K7"});
+  CHECK(symbol(cout).label == std::vector<std::string>{cout + " COUT", "10u", "25 V"});
+  // Without a note the value is the netlist's, in IEC 60062 code (here RG's 1 Mohm).
+  CHECK(symbol(des(cs, "RG")).label == std::vector<std::string>{des(cs, "RG") + " RG", "1M0"});
   // P-channel and PNP devices, and the negative supply's + terminal at its ground end.
-  c = build({"jfet-cs-self", true});
-  s = lay_out(c);
+  const Variant pj{"jfet-cs-self", true, true};
+  c = build(pj);
+  s = lay_out(c, placed(pj));
   CHECK(symbol("Q1").kind == SymbolKind::pjfet);
   CHECK(c.net_name(c.find("VDD")->c.pins[symbol("VDD").plus_pin]) == "0");
-  c = build({"bjt-ce-divider", true});
-  s = lay_out(c);
+  const Variant pnp{"bjt-ce-divider", true};
+  c = build(pnp);
+  s = lay_out(c, placed(pnp));
   CHECK(symbol("Q1").kind == SymbolKind::pnp);
-  c = build({"bjt-follower"});
-  s = lay_out(c);
+  const Variant npn{"bjt-follower"};
+  c = build(npn);
+  s = lay_out(c, placed(npn));
   CHECK(symbol("Q1").kind == SymbolKind::npn);
 }
 
 TEST_CASE("lay_out: what it cannot draw is an input error naming the part") {
-  auto c = build({"jfet-cs-self"});
+  const Variant cs{"jfet-cs-self"};
+  auto c = build(cs);
   c.resistor("R9", "RX", "gate", "0", 1e3);
-  CHECK_THROWS_WITH_AS(lay_out(c), doctest::Contains("R9"), InputError);
+  CHECK_THROWS_WITH_AS(lay_out(c, placed(cs)), doctest::Contains("R9"), InputError);
+  // Without the stage's places, its first part is the one named.
+  CHECK_THROWS_WITH_AS(lay_out(build(cs)), doctest::Contains("no place"), InputError);
   SchematicOptions o;
-  o.notes["C3"] = {"10u", "", true, "gate"};  // C3 is drain to out
-  CHECK_THROWS_WITH_AS(lay_out(build({"jfet-cs-self"}), o), doctest::Contains("C3"), InputError);
+  const std::string cout = des(cs, "COUT");
+  o.notes[cout] = {"10u", "", true, "gate"};  // COUT is drain to out
+  CHECK_THROWS_WITH_AS(lay_out(build(cs), placed(cs, o)), doctest::Contains(cout.c_str()), InputError);
 }
 
 TEST_CASE("schematic_svg: Chromium parses and paints it; every designator is in it") {
   const std::string dir = temp_dir();
-  for (const auto& v : {Variant{"jfet-cs-self"}, Variant{"bjt-ce-divider", true}, Variant{"jfet-follower"}}) {
+  for (const auto& v : {Variant{"jfet-cs-self"}, Variant{"bjt-ce-divider", true, true}, Variant{"jfet-follower"}}) {
     SchematicOptions o;
-    o.notes["C3"] = {"10u", "25 V", true, v.p_type ? "out" : "collector"};
-    if (v.topology != "bjt-ce-divider") o.notes.erase("C3");
+    if (v.topology == "bjt-ce-divider") o.notes[des(v, "COUT")] = {"10u", "25 V", true, "out"};
     const auto c = build(v);
-    const std::string svg = schematic_svg(lay_out(c, o), v.topology + " <stage>");
+    const std::string svg = schematic_svg(lay_out(c, placed(v, o)), v.topology + " <stage>");
     for (const auto& el : c.elements())
       CHECK_MESSAGE(svg.find(">" + el.c.designator + "<") != std::string::npos, el.c.designator);
     const std::string path = dir + "/" + v.topology + ".svg";

@@ -240,8 +240,6 @@ TEST_CASE("net_for_people: x is the junction, or the emitter when RE1 is left ou
   CHECK(report::net_for_people("x", c) == "the emitter of Q1 (RE1 is left out)");
   CHECK(report::net_for_people("0", c) == "ground");
   CHECK(report::net_for_people("in", c) == "the input side (toward the signal source)");
-  c.device.kind = devices::DeviceKind::njfet;
-  CHECK(report::net_for_people("x", c) == "the source of Q1 (RS1 is left out)");
 }
 
 TEST_CASE("pick_json: the documented keys, numbers for R and C, the device name for transistors") {

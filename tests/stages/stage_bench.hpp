@@ -120,91 +120,19 @@ inline void set_role(const Topology& t, Values& v, std::string_view role, double
 /// Coupling capacitor for a high-pass corner at f_hz with resistance r_ohm around it.
 inline double cap_for(double f_hz, double r_ohm) { return 1.0 / (2.0 * std::numbers::pi * f_hz * r_ohm); }
 
-/// What a design asks for.
-struct Design {
-  double current_frac = 0.35;  ///< JFET: ID / IDSS
-  double current_a = 1e-3;     ///< BJT: IC
-  double degeneration = 0.5;   ///< fraction of the source/emitter resistor left unbypassed (1: no bypass)
-  double gate_frac = 0.25;     ///< divider-biased JFET: VG / VDD
-  double f_corner_hz = 2.0;    ///< each coupling corner
-};
+/// What a design asks for: the knobs of the topology's reference design.
+using Design = stages::ReferenceKnobs;
 
+/// The topology's reference design for the piece (Topology::reference).
 inline StageCase design_stage(const Topology& t, const Transistor& q, const Conditions& c, const Design& d,
                               double nominal_hfe = 0) {
   StageCase sc;
   sc.topology = &t;
   sc.q = q;
   sc.c = c;
-  Values& v = sc.values;
-  const double vdd = c.supply_v;
-  const std::string name(t.name());
-  auto split = [&](double r_total, const char* r1, const char* r2, const char* cap, double r_look) {
-    const double r_unb = d.degeneration * r_total;
-    if (r_unb > 0) set_role(t, v, r1, r_unb);
-    if (d.degeneration < 1.0) {
-      set_role(t, v, r2, r_total - r_unb);
-      set_role(t, v, cap, cap_for(d.f_corner_hz, stages::par(r_total - r_unb, r_unb + r_look)));
-    }
-  };
-  if (devices::is_jfet(q.kind)) {
-    const auto& j = q.jfet;
-    const double id = d.current_frac * j.idss_a;
-    const double vov = j.vp_abs_v * std::sqrt(d.current_frac);
-    const double vgs = vov - j.vp_abs_v;  // <= 0
-    const double gm = 2.0 * id / vov;
-    if (name == "jfet-follower") {
-      const double rs = -vgs / id;
-      set_role(t, v, "RG", 1e6);
-      set_role(t, v, "RS", rs);
-      set_role(t, v, "CIN", cap_for(d.f_corner_hz, 1e6 + c.source_ohm));
-      set_role(t, v, "COUT", cap_for(d.f_corner_hz, c.load_ohm + stages::par(rs, 1.0 / gm)));
-      return sc;
-    }
-    double vg = 0, rgate = 1e6;
-    if (name == "jfet-cs-divider") {
-      vg = d.gate_frac * vdd;
-      const double r2 = 1e6, r1 = r2 * (vdd - vg) / vg;
-      set_role(t, v, "R1", r1);
-      set_role(t, v, "R2", r2);
-      rgate = stages::par(r1, r2);
-    } else {
-      set_role(t, v, "RG", 1e6);
-    }
-    const double vs = vg - vgs;
-    const double rs = vs / id;
-    const double vd = 0.5 * (vs + vov + vdd);
-    const double rd = (vdd - vd) / id;
-    set_role(t, v, "RD", rd);
-    split(rs, "RS1", "RS2", "CS", 1.0 / gm);
-    set_role(t, v, "CIN", cap_for(d.f_corner_hz, rgate + c.source_ohm));
-    set_role(t, v, "COUT", cap_for(d.f_corner_hz, rd + c.load_ohm));
-    return sc;
-  }
-  const auto& b = q.bjt;
-  const double hfe = nominal_hfe > 0 ? nominal_hfe : b.bf;
-  const double ic = d.current_a;
-  const double ib = ic / hfe, ie = ic + ib;
-  const double vbe = b.vt_v * std::log(ic / b.is_a);
-  const double re_g = ic / b.vt_v;
-  double ve = 0;
-  if (name == "bjt-follower") {
-    ve = 0.45 * vdd;
-    set_role(t, v, "RE", ve / ie);
-  } else {
-    ve = std::max(0.1 * vdd, 0.6);
-    const double vc = 0.5 * (vdd + ve + 0.2);
-    set_role(t, v, "RC", (vdd - vc) / ic);
-    split(ve / ie, "RE1", "RE2", "CE", 1.0 / re_g);
-  }
-  const double vb = ve + vbe;
-  const double r2 = vb / (10.0 * ib), r1 = (vdd - vb) / (11.0 * ib);
-  set_role(t, v, "R1", r1);
-  set_role(t, v, "R2", r2);
-  const double rth = stages::par(r1, r2);
-  // The input corner sees at least the divider; the output corner at least the load.
-  set_role(t, v, "CIN", cap_for(d.f_corner_hz, c.source_ohm + stages::par(rth, hfe * 1.0 / re_g)));
-  const double zout = name == "bjt-follower" ? 1.0 / re_g : (vdd - 0.5 * (vdd + ve + 0.2)) / ic;
-  set_role(t, v, "COUT", cap_for(d.f_corner_hz, c.load_ohm + zout));
+  Design k = d;
+  if (nominal_hfe > 0) k.nominal_hfe = nominal_hfe;
+  sc.values = t.reference(q, c, k);
   return sc;
 }
 

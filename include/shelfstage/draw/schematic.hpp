@@ -4,13 +4,13 @@
 //
 // NOTES
 //  1. Geometry is in grid units (one unit = Schematic::unit px); every pin sits on the grid.
-//  2. Placement is keyed by the component's role (RD, RS1, CIN, ... and the bench's
-//     "supply", "signal", "source", "load", "device"); a follower (the transistor's upper pin
-//     on the supply net) moves the output coupling to the lower pin's height. A role without
-//     a place is an InputError naming it: a new topology needs its roles placed here.
+//  2. Placement is keyed by the component's role: the bench's ("supply", "signal", "source",
+//     "load", "load capacitance") and the transistor ("device") have fixed places here; the
+//     stage's own parts take the places the caller gives (SchematicOptions::places, from the
+//     topology's roles). A role without a place is an InputError naming it.
 //  3. A two-terminal part's ends are ordered by a rank of their nets: vertically the supply
-//     on top, ground at the bottom; horizontally along the signal path (source, input,
-//     control pin, the stage's output pin, output).
+//     on top, ground at the bottom (an inner net at the level the caller gives); horizontally
+//     along the signal path (source, input, control pin, the stage's output pin, output).
 //  3a. A stage turned over on its rail (a P device on a positive supply, an N device on a
 //     negative one: stages::Rail) is drawn as people draw it: the stage's own parts mirrored
 //     top to bottom (source or emitter toward the + rail on top, drain or collector toward
@@ -43,8 +43,21 @@ struct PartNote {
   std::string plus_net;   ///< polarised: the net its + lead goes to (must be one of its pins' nets)
 };
 
+/// Where a part of the stage goes (grid units; see NOTES 2).
+struct Place {
+  double x = 0, y = 0;
+  bool vertical = true;  ///< two-terminal parts: drawn along y
+  char label = 'r';      ///< label side: 'l'eft, 'r'ight, 'a'bove, 'b'elow
+};
+
 struct SchematicOptions {
   std::map<std::string, PartNote> notes;  ///< by designator
+  /// The stage's parts' places by role, as an N device on a positive rail has them (a
+  /// turned-over stage is mirrored here).
+  std::map<std::string, Place, std::less<>> places;
+  /// Heights of the stage's inner nets in the ranking of NOTES 3 (the supply 0, the main
+  /// terminal 1, the control pin 2, the common terminal 3, ground 5).
+  std::map<std::string, double, std::less<>> net_levels;
   /// Designators drawn in the muted style of the test bench (signal source, its resistance,
   /// the load); their labels say what they stand for.
   std::vector<std::string> bench = {"VSIG", "RSIG", "RL", "CL"};

@@ -65,6 +65,7 @@ struct BiasPoint {
 /// The bias point over the device's corners and Monte Carlo builds.
 struct BiasSpread {
   std::string node;                 ///< "drain", "collector", "source", "emitter"
+  stages::LoadLine line;            ///< the output terminal's load lines at the nominal parts
   BiasPoint nominal;
   std::vector<BiasPoint> corners;   ///< corner pieces, nominal parts and supply
   std::vector<BiasPoint> samples;   ///< Monte Carlo builds (see bias_spread)

@@ -14,6 +14,16 @@
 
 namespace shelfstage::stages {
 
+/// Where a part sits on the schematic's template (grid units: the supply rail at y 2, ground
+/// at y 27, the transistor at (18, 12) with its control pin at x 16, the input coupling at
+/// (10, 14), the load at x 28), as an N device on a positive rail has it; the drawing mirrors
+/// it for a stage turned over on its rail.
+struct Spot {
+  double x = -1, y = 0;   ///< centre; x < 0: no place given
+  bool vertical = true;   ///< two-terminal parts: drawn along y
+  char label = 'r';       ///< label side: 'l'eft, 'r'ight, 'a'bove, 'b'elow
+};
+
 /// How a role is wired and what it is.
 struct Role {
   std::string_view name;        ///< role name (docs/interface.md): RD, RS1, CIN ...
@@ -27,6 +37,42 @@ struct Role {
   std::string_view pos_net;
   std::string_view neg_net;
   std::string_view what;        ///< "drain load", "bypassed source resistor" ...
+  Spot at = {};                 ///< its place on the schematic
+  /// A capacitor across part of the common leg: it holds that DC when the supply goes, and
+  /// the control pin, returned to ground, then sits that far in reverse.
+  bool holds_leg = false;
+};
+
+/// A net of the stage's own that is not a device terminal (the junction of a split leg):
+/// how people call it, and its height on the schematic (the supply 0, the main terminal 1,
+/// the control pin 2, the common terminal 3, ground 5).
+struct InnerNet {
+  std::string_view name;   ///< as the netlist names it: "x"
+  std::string_view words;  ///< "RS1\u2013RS2 junction"
+  double level = 2.5;
+  /// The role between the common terminal and this net, if any: left out, the net is the
+  /// common terminal itself.
+  std::string_view upper = {};
+};
+
+/// The DC and AC load lines of the stage's output terminal, for the bias pictures.
+struct LoadLine {
+  bool at_common = false;     ///< the output is the common terminal (a follower): V = I * r_dc
+  double r_dc_ohm = 0;        ///< main terminal: V = supply - I * r_dc; common terminal: V = I * r_dc
+  double r_ac_ohm = 0;        ///< AC load on the output terminal, the load included
+  double r_common_ohm = 0;    ///< main-terminal output: DC resistance of the common leg
+  double r_unbypassed_ohm = 0;  ///< its part not bypassed
+};
+
+/// The knobs of a topology's reference design (tests and examples): a stage in its active
+/// region for the piece it is given.
+struct ReferenceKnobs {
+  double current_frac = 0.35;  ///< JFET: ID / IDSS
+  double current_a = 1e-3;     ///< BJT: IC
+  double degeneration = 0.5;   ///< fraction of a split leg left unbypassed (1: no bypass)
+  double gate_frac = 0.25;     ///< divider-biased JFET: VG / VDD
+  double f_corner_hz = 2.0;    ///< each coupling corner
+  double nominal_hfe = 0;      ///< BJT: the hFE the divider is designed for (0: the piece's)
 };
 
 inline constexpr std::size_t kMaxRoles = 10;
@@ -214,6 +260,18 @@ class Topology {
   std::size_t role_index(std::string_view role) const;
   /// Names of the device-terminal nets ("gate","source","drain" or "base","emitter","collector").
   virtual std::array<std::string_view, 3> node_names() const = 0;
+  /// The stage's own nets that are not device terminals.
+  virtual std::span<const InnerNet> inner_nets() const { return {}; }
+  /// An inner net by name, or nullptr.
+  const InnerNet* inner_net(std::string_view net) const;
+  /// How people call any net of the stage's netlist: "ground", "supply rail", "input side",
+  /// "output side", a terminal's name, an inner net's words.
+  std::string net_words(std::string_view net) const;
+  /// The output terminal's load lines at these values.
+  virtual LoadLine load_line(const Values& values, const Conditions& c) const = 0;
+  /// A reference design: values (capacitors included) that put the stage in its active
+  /// region for piece q under c, as the knobs ask.
+  virtual Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const = 0;
 
   /// The whole test bench as a circuit: supply VDD on "vdd" (at -supply on a negative rail),
   /// signal source with RSIG (1 mΩ when source_ohm is 0), the stage placed on the rail (Rail),
@@ -252,6 +310,8 @@ class Topology {
 std::span<const Topology* const> registry();
 /// A topology by name, or nullptr.
 const Topology* find_topology(std::string_view name);
+/// The names of every topology joined by `sep` ("jfet-cs-self, jfet-cs-divider, ..."), for help texts.
+std::string topology_names(std::string_view sep = ", ");
 
 /// Parallel resistance (0 means absent and is skipped; infinite inputs are fine).
 double par(double a, double b);
