@@ -30,7 +30,7 @@ StageCase random_case(const Topology& t, std::mt19937_64& rng, int index) {
   Conditions c;
   c.supply_v = std::round(log_uniform(5, 24));
   c.load_ohm = log_uniform(1e3, 100e3);
-  const bool follower = t.name().find("follower") != std::string_view::npos;
+  const bool follower = t.is_buffer();
   c.source_ohm = (u(rng) < 0.25 && !follower) ? 0.0 : log_uniform(50, 100e3);
   Design d;
   const double pick = u(rng);

@@ -282,7 +282,7 @@ inline SpiceSwing spice_swing(const StageCase& sc, const Performance& predicted,
   const double k = devices::polarity(sc.q.kind);
   const auto nets = terminal_nets(sc);
   const std::string g = vexpr(nets[0]), s = vexpr(nets[1]), d = vexpr(nets[2]);
-  const bool follower = sc.topology->name().find("follower") != std::string_view::npos;
+  const bool follower = sc.topology->is_buffer();
   const double period = 1.0 / f_hz;
   const double gain = std::abs(predicted.gain);
   // N frame: the saturation side is "down" for the common source/emitter, "up" for followers;
@@ -376,7 +376,7 @@ struct Tolerances {
 /// full degeneration, source impedances from 0 to 100 kOhm and loads from 1 kOhm to 100 kOhm.
 inline std::vector<StageCase> standard_cases(const Topology& t) {
   std::vector<StageCase> cases;
-  const bool follower = t.name().find("follower") != std::string_view::npos;
+  const bool follower = t.is_buffer();
   // A follower driven from 0 Ohm has no upper corner at all (its gain returns to one as
   // Cgs or Cbe bypasses the junction): it gets 1 kOhm instead.
   auto src = [&](double r) { return follower && r == 0 ? 1e3 : r; };
