@@ -8,6 +8,7 @@
 #include <cmath>
 #include <limits>
 
+#include "shelfstage/draw/palette.hpp"
 #include "shelfstage/units/notation.hpp"
 
 namespace shelfstage::draw {
@@ -21,9 +22,9 @@ constexpr double kAxisBelow = 40;   // x tick labels and the x title
 constexpr double kLegendRow = 17;
 constexpr double kFont = 11;
 
-const char* const kInk = "#2b2d42";
-const char* const kGridMajor = "#c9ccd3";
-const char* const kGridMinor = "#e8e9ed";
+const char* const kInk = palette::ink;
+const char* const kGridMajor = palette::grid_major;
+const char* const kGridMinor = palette::grid_minor;
 
 bool finite(Point p) { return std::isfinite(p.x) && std::isfinite(p.y); }
 
@@ -260,7 +261,7 @@ std::string Plot::svg() const {
   s.close();
   s.close();
   s.text({f.left, 17}, title, 13, "start", kInk, "bold");
-  s.rect(f.left, f.top, f.right - f.left, f.bottom - f.top, Paint().stroke("none").fill("#fbfbf8"));
+  s.rect(f.left, f.top, f.right - f.left, f.bottom - f.top, Paint().stroke("none").fill(palette::paper));
 
   // Grid.
   s.open("g", Paint().stroke("", 1), {{"class", "grid"}});
@@ -363,11 +364,11 @@ std::string Plot::svg() const {
     ly += kLegendRow;
   }
   for (const auto& n : notes) {
-    s.text({kLeft, ly}, n, kFont, "start", "#5c5f6b");
+    s.text({kLeft, ly}, n, kFont, "start", palette::muted);
     ly += kLegendRow;
   }
   bool any = !series.empty() || !envelopes.empty() || !clouds.empty() || !regions.empty();
-  if (!any) s.text({(f.left + f.right) / 2, (f.top + f.bottom) / 2}, "no data", kFont + 2, "middle", "#8d8f99");
+  if (!any) s.text({(f.left + f.right) / 2, (f.top + f.bottom) / 2}, "no data", kFont + 2, "middle", palette::muted);
   return s.str();
 }
 

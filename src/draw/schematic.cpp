@@ -10,6 +10,7 @@
 #include <numbers>
 #include <optional>
 
+#include "shelfstage/draw/palette.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/units/notation.hpp"
 
@@ -29,13 +30,14 @@ constexpr double kForbidden = 1e6;  // a route that must not be drawn
 constexpr double kSideways = 0.5;   // a wire leaving a pin across its lead
 constexpr double kCrossing = 50;    // two nets crossing without joining (allowed, avoided)
 
-// Our palette: deep ink for the stage, slate for the test bench, brick for values.
-const char* const kInk = "#1d2b3a";
-const char* const kBench = "#8a94a6";
-const char* const kValue = "#9a3412";
-const char* const kMuted = "#64748b";
-const char* const kResistorFill = "#f6efdd";
-const char* const kDeviceFill = "#e6eef7";
+// The project's palette (draw/palette.hpp): ink for the stage, grey for the test bench,
+// brick for values.
+const char* const kInk = palette::ink;
+const char* const kBench = palette::bench;
+const char* const kValue = palette::brick;
+const char* const kMuted = palette::muted;
+const char* const kResistorFill = palette::resistor_fill;
+const char* const kDeviceFill = palette::device_fill;
 
 struct Slot {
   double x, y;
@@ -460,7 +462,7 @@ void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
       pen.line(L.at(1.1, 0), L.at(2, 0), ink, w);
       const Point a = pen.px(L.at(-1.1, -0.38)), b = pen.px(L.at(1.1, 0.38));
       pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
-                   Paint().stroke(ink, w).fill(s.bench ? "#f1f3f6" : kResistorFill),
+                   Paint().stroke(ink, w).fill(s.bench ? palette::bench_fill : kResistorFill),
                    {{"rx", "3"}});
       break;
     }
@@ -477,7 +479,7 @@ void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
       pen.line(L.at(0.4, 0), L.at(2, 0), ink, w);
       const Point a = pen.px(L.at(0.18 * p, -0.8)), b = pen.px(L.at(0.4 * p, 0.8));
       pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
-                   Paint().stroke(ink, 1.6).fill("#ffffff"));
+                   Paint().stroke(ink, 1.6).fill(palette::blank));
       const Point c = pen.px(L.at(-0.18 * p, -0.8)), d = pen.px(L.at(-0.4 * p, 0.8));
       pen.svg.rect(std::min(c.x, d.x), std::min(c.y, d.y), std::abs(d.x - c.x), std::abs(d.y - c.y),
                    Paint().stroke(ink, 1.6).fill(ink));
@@ -499,7 +501,7 @@ void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
     case SymbolKind::ac_source: {
       pen.line(L.at(-2, 0), L.at(-0.9, 0), ink, w);
       pen.line(L.at(0.9, 0), L.at(2, 0), ink, w);
-      pen.svg.circle(pen.px(s.centre), 0.9 * pen.u, Paint().stroke(ink, w).fill("#ffffff"));
+      pen.svg.circle(pen.px(s.centre), 0.9 * pen.u, Paint().stroke(ink, w).fill(palette::blank));
       std::vector<Point> wave;
       for (int i = 0; i <= 16; ++i) {
         const double t = i / 16.0;
@@ -596,7 +598,7 @@ void draw_label(const Pen& pen, const PlacedSymbol& s) {
 std::string schematic_svg(const Schematic& s, std::string_view title) {
   Svg svg(s.width * s.unit, s.height * s.unit, title);
   const Pen pen{svg, s.unit};
-  svg.rect(0, 0, s.width * s.unit, s.height * s.unit, Paint().stroke("none").fill("#fffdf8"));
+  svg.rect(0, 0, s.width * s.unit, s.height * s.unit, Paint().stroke("none").fill(palette::paper));
   // Wires under the symbols; each net its own group, named for people and tests.
   std::vector<std::size_t> nets;
   for (const auto& w : s.wires)
@@ -624,7 +626,7 @@ std::string schematic_svg(const Schematic& s, std::string_view title) {
   pen.line({g.x - 0.16, g.y + 1.05}, {g.x + 0.16, g.y + 1.05}, kInk, 2.2);
   for (const auto& m : s.marks) {
     if (m.terminal) {
-      svg.circle(pen.px(m.at), 0.24 * s.unit, Paint().stroke(kInk, 1.8).fill("#ffffff"));
+      svg.circle(pen.px(m.at), 0.24 * s.unit, Paint().stroke(kInk, 1.8).fill(palette::blank));
       svg.text(pen.px({m.at.x, m.at.y - 0.5}), m.text, 11.5, "middle", kInk, "bold");
     } else {
       svg.text(pen.px({m.at.x, m.at.y - 0.35}), m.text, 11.5, "start", kInk, "bold");

@@ -97,7 +97,7 @@ std::string text_plot(const TextPlot& p) {
   std::string out = fmt::format("{:>{}}\n", p.y_unit, label_w);
   for (int r = 0; r < rows; ++r) {
     const auto rr = static_cast<std::size_t>(r);
-    out += fmt::format("{:>{}} {}", labels[rr], label_w, labels[rr].empty() ? "\u2502" : "\u2524");
+    out += fmt::format("{:>{}} {}", labels[rr], label_w, labels[rr].empty() ? "\u2502" : "\u251c");
     std::string line;
     for (const auto& c : cells[rr]) line += c;
     while (line.size() >= 1 && line.back() == ' ') line.pop_back();

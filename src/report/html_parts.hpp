@@ -19,6 +19,8 @@ using units::Unit;
 
 /// The page's stylesheet (no character needs escaping in XML).
 extern const char* const kStyle;
+/// The palette's colours as CSS variables ("--ink: #...;" in a :root rule) for kStyle.
+std::string palette_css();
 
 std::string esc(std::string_view s);
 std::string volts(double v);

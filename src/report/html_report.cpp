@@ -9,6 +9,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "shelfstage/draw/palette.hpp"
 #include "shelfstage/draw/plot.hpp"
 #include "shelfstage/draw/svg.hpp"
 #include "shelfstage/error.hpp"
@@ -56,18 +57,18 @@ std::string kind_text(devices::DeviceKind k) {
 
 bool p_type(devices::DeviceKind k) { return k == devices::DeviceKind::pjfet || k == devices::DeviceKind::pnp; }
 
-// The page's style: our own palette (ink, paper, brick), grid layouts that collapse for
-// print. No character in it needs escaping in XML (no '<' or '&').
+// The page's style: colours by name from the project's palette (draw/palette.hpp, declared
+// by palette_css as CSS variables), grid layouts that collapse for print. No character in it
+// needs escaping in XML (no '<' or '&').
 extern const char* const kStyle;
 const char* const kStyle = R"css(
-:root { --ink: #1d2b3a; --muted: #5b6474; --accent: #9a3412; --rule: #d9dce3; --paper: #fffdf8; --band: #f3efe4; }
 * { box-sizing: border-box; }
-html { background: #ebe8e0; }
+html { background: var(--surround); }
 body { margin: 0; color: var(--ink); font: 14px/1.45 'DejaVu Sans', 'Liberation Sans', Arial, sans-serif; }
 main { max-width: 1080px; margin: 0 auto; padding: 22px 30px 36px; background: var(--paper); }
 header.top { border-bottom: 3px solid var(--ink); padding-bottom: 10px; margin-bottom: 16px; }
 h1 { font-size: 22px; margin: 0 0 6px; }
-h2 { font-size: 14px; text-transform: uppercase; letter-spacing: .09em; color: var(--accent);
+h2 { font-size: 14px; text-transform: uppercase; letter-spacing: .09em; color: var(--brick);
      border-bottom: 1px solid var(--rule); padding-bottom: 4px; margin: 28px 0 10px; }
 h3 { font-size: 14px; margin: 16px 0 6px; }
 p { margin: 4px 0; }
@@ -75,7 +76,7 @@ p { margin: 4px 0; }
       border-radius: 3px; }
 .muted { color: var(--muted); }
 .strip { display: grid; grid-template-columns: repeat(auto-fill, minmax(148px, 1fr)); gap: 8px; margin-top: 12px; }
-.card { border-left: 4px solid var(--accent); background: var(--band); padding: 6px 10px; }
+.card { border-left: 4px solid var(--brick); background: var(--band); padding: 6px 10px; }
 .card b { display: block; font-size: 17px; }
 .card span { font-size: 12px; color: var(--muted); }
 figure { margin: 0 0 14px; }
@@ -87,14 +88,14 @@ th, td { text-align: left; padding: 4px 8px; border-bottom: 1px solid var(--rule
 th { background: var(--band); font-weight: 600; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 td:first-child, td:nth-child(3) { white-space: nowrap; }
-.ok { color: #166534; }
-.warn { color: #b91c1c; font-weight: bold; }
-.note { color: #92400e; }
+.ok { color: var(--good); }
+.warn { color: var(--alarm); font-weight: bold; }
+.note { color: var(--caution); }
 ul.cautions li { margin: 4px 0; }
-.hazard { border: 2px solid #b91c1c; background: #fef2f2; padding: 8px 12px; margin: 8px 0; }
+.hazard { border: 2px solid var(--alarm); background: var(--alarm-ground); padding: 8px 12px; margin: 8px 0; }
 footer { margin-top: 28px; font-size: 12px; color: var(--muted); border-top: 1px solid var(--rule); padding-top: 8px; }
 @media print {
-  html, body { background: #fff; }
+  html, body { background: var(--blank); }
   body { font-size: 10pt; }
   main { max-width: none; padding: 0; }
   section, figure, table, .card { break-inside: avoid; }
@@ -102,6 +103,16 @@ footer { margin-top: 28px; font-size: 12px; color: var(--muted); border-top: 1px
   @page { size: A4; margin: 14mm; }
 }
 )css";
+
+std::string palette_css() {
+  std::string css = ":root {";
+  for (const auto& c : draw::palette::all) {
+    std::string name(c.name);
+    std::replace(name.begin(), name.end(), '_', '-');
+    css += fmt::format(" --{}: {};", name, c.hex);
+  }
+  return css + " }\n";
+}
 
 /// A table from a header and rows; cells are escaped; a header starting with '#' is numeric
 /// (right-aligned, the '#' dropped).
@@ -180,7 +191,7 @@ std::string page_start(const ReportInput& in, const std::string& title) {
       "<meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; style-src 'unsafe-inline'\"/>";
   h += fmt::format("<meta name=\"generator\" content=\"{}\"/>", esc(in.generator));
   h += fmt::format("<title>{}</title>", esc(title));
-  return h + fmt::format("<style>{}</style></head><body><main>", kStyle);
+  return h + fmt::format("<style>{}{}</style></head><body><main>", palette_css(), kStyle);
 }
 
 std::string page_end(const ReportInput& in) {
@@ -289,7 +300,7 @@ std::string response_section(const ReportInput& in, const Response& r) {
   if (r.requested_gain_db != 0 || in.spec.gain > 0) {
     draw::Series want;
     want.name = "requested gain";
-    want.colour = "#9a3412";
+    want.colour = draw::palette::brick;
     want.width = 1.5;
     want.dash = "6 4";
     want.points = {{r.f_hz.front(), r.requested_gain_db}, {r.f_hz.back(), r.requested_gain_db}};
@@ -297,7 +308,7 @@ std::string response_section(const ReportInput& in, const Response& r) {
   }
   draw::Series corner3db;
   corner3db.name = "\u22123 dB from the peak";
-  corner3db.colour = "#64748b";
+  corner3db.colour = draw::palette::muted;
   corner3db.width = 1;
   corner3db.dash = "2 3";
   corner3db.points = {{r.f_hz.front(), r.peak_gain_db - 3.0103}, {r.f_hz.back(), r.peak_gain_db - 3.0103}};
@@ -362,7 +373,7 @@ std::string bias_section(const ReportInput& in, const BiasSpread& b) {
   if (r_line > 0 && i_top > 0) {
     draw::Series line;
     line.name = "DC load line, nominal parts";
-    line.colour = "#64748b";
+    line.colour = draw::palette::muted;
     line.width = 1.2;
     line.dash = "5 4";
     for (int k = 0; k <= 20; ++k) {
@@ -373,10 +384,10 @@ std::string bias_section(const ReportInput& in, const BiasSpread& b) {
     p.series.push_back(line);
   }
   draw::Cloud in_cloud, out_cloud, corners, nominal;
-  in_cloud.colour = "#1f6f8b";
+  in_cloud.colour = draw::palette::inside;
   in_cloud.opacity = 0.45;
   out_cloud.name = "outside";
-  out_cloud.colour = "#b91c1c";
+  out_cloud.colour = draw::palette::alarm;
   out_cloud.opacity = 0.7;
   int n_in = 0, n_out = 0;
   for (const auto& q : b.samples) {
@@ -391,13 +402,13 @@ std::string bias_section(const ReportInput& in, const BiasSpread& b) {
   in_cloud.name = fmt::format("Monte Carlo builds, safe ({})", n_in);
   out_cloud.name = fmt::format("outside ({})", n_out);
   corners.name = "device corners";
-  corners.colour = "#1d2b3a";
+  corners.colour = draw::palette::ink;
   corners.radius = 5;
   corners.hollow = true;
   corners.opacity = 1;
   for (const auto& q : b.corners) corners.points.push_back(pt(q));
   nominal.name = "nominal";
-  nominal.colour = "#9a3412";
+  nominal.colour = draw::palette::brick;
   nominal.radius = 5.5;
   nominal.opacity = 1;
   nominal.points.push_back(pt(b.nominal));
@@ -435,7 +446,7 @@ std::string swing_section(const Transfer& tr) {
   a.spans.push_back({"rated input", -in_peak, in_peak});
   draw::Series ideal, real;
   ideal.name = "small-signal gain";
-  ideal.colour = "#64748b";
+  ideal.colour = draw::palette::muted;
   ideal.width = 1.2;
   ideal.dash = "5 4";
   real.name = "stage";
@@ -469,14 +480,14 @@ std::string swing_section(const Transfer& tr) {
   draw::Series rated, rated_ideal, over, over_ideal;
   rated.name = fmt::format("at {} peak", volts(tr.rated_peak_v));
   rated_ideal.name = "undistorted";
-  rated_ideal.colour = "#64748b";
+  rated_ideal.colour = draw::palette::muted;
   rated_ideal.width = 1.2;
   rated_ideal.dash = "5 4";
   over.name = "input doubled";
-  over.colour = "#b45309";
+  over.colour = draw::palette::overdrive;
   over.width = 1.8;
   over_ideal.name = "";
-  over_ideal.colour = "#d6a36a";
+  over_ideal.colour = draw::palette::overdrive_light;
   over_ideal.width = 1;
   over_ideal.dash = "2 3";
   for (std::size_t i = 0; i < tr.phase_deg.size(); ++i) {

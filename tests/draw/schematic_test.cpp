@@ -19,6 +19,7 @@
 #include "shelfstage/error.hpp"
 #include "shelfstage/stages/topology.hpp"
 #include "support/browser.hpp"
+#include "support/palette_check.hpp"
 
 using namespace shelfstage;
 using namespace shelfstage::draw;
@@ -307,6 +308,8 @@ TEST_CASE("schematic_svg: Chromium parses and paints it; every designator is in 
     const std::string svg = schematic_svg(lay_out(c, placed(v, o)), v.topology + " <stage>");
     for (const auto& el : c.elements())
       CHECK_MESSAGE(svg.find(">" + el.c.designator + "<") != std::string::npos, el.c.designator);
+    // Every colour from the project's palette (draw/palette.hpp).
+    CHECK(test::foreign_colours(svg).empty());
     const std::string path = dir + "/" + v.topology + ".svg";
     std::ofstream(path) << svg;
     CHECK(test::dump_dom(path).find("parsererror") == std::string::npos);

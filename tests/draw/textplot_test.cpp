@@ -4,6 +4,7 @@
 
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <sstream>
 
@@ -128,8 +129,26 @@ TEST_CASE("text_plot: envelope, band and clipping") {
   // Nothing below 30 dB under the peak (plus the nice tick's rounding) is drawn.
   int rows = 0;
   for (const auto& l : ls)
-    if (l.find("\u2524") != std::string::npos || l.find("\u2502") != std::string::npos) ++rows;
+    if (l.find("\u251c") != std::string::npos || l.find("\u2502") != std::string::npos) ++rows;
   CHECK(rows <= 2 * 5 + 1);
+}
+
+TEST_CASE("text_plot: a labelled row of the y axis carries the tick \"\u251c\", every other row the plain axis") {
+  const auto ls = lines_of(text_plot(high_pass(100)));
+  int ticked = 0, plain = 0;
+  for (const auto& l : ls) {
+    const auto cs = cells(l);
+    // The axis cell follows the right-aligned label and one space.
+    const auto at = std::find_if(cs.begin(), cs.end(), [](const std::string& c) { return c == "\u251c" || c == "\u2502"; });
+    if (at == cs.end()) continue;
+    const std::string label = l.substr(0, l.find(*at));
+    const bool labelled = label.find_first_not_of(' ') != std::string::npos;
+    CHECK(labelled == (*at == "\u251c"));
+    ++(labelled ? ticked : plain);
+    CHECK(l.find("\u2524") == std::string::npos);
+  }
+  CHECK(ticked >= 3);
+  CHECK(plain >= 1);
 }
 
 TEST_CASE("text_plot: bad series are input errors") {

@@ -16,10 +16,27 @@
 #include "report_fixture.hpp"
 #include "shelfstage/error.hpp"
 #include "support/browser.hpp"
+#include "support/palette_check.hpp"
 
 using namespace shelfstage;
 
 namespace {
+
+// Every colour of the page from the project's palette (draw/palette.hpp), and every CSS
+// variable the style reads declared (a misspelt name would fall back to the browser's colour
+// without a word).
+bool palette_only(const std::string& html) {
+  const auto foreign = test::foreign_colours(html);
+  for (const auto& c : foreign) MESSAGE("not a palette colour: " << c);
+  bool declared = true;
+  const std::regex use(R"(var\(--([a-z-]+)\))");
+  for (auto it = std::sregex_iterator(html.begin(), html.end(), use); it != std::sregex_iterator(); ++it)
+    if (html.find("--" + (*it)[1].str() + ":") == std::string::npos) {
+      MESSAGE("undeclared CSS variable: " << (*it)[1].str());
+      declared = false;
+    }
+  return foreign.empty() && declared && html.find("var(--") != std::string::npos;
+}
 
 using Case = test::TopologyCase;
 const auto& kCases = test::kTopologyCases;
@@ -132,6 +149,7 @@ TEST_CASE("html_report: every topology, N and P, renders whole in Chromium") {
     const auto in = input_for(k, inv);
     const std::string html = report::html_report(in);
     const std::string dom = check_report(in, html, dir, k.topology);
+    CHECK(palette_only(html));
     // The pick list's bins and the request's band are in it.
     REQUIRE(in.pick);
     for (const auto& l : in.pick->lines)
@@ -170,6 +188,7 @@ TEST_CASE("html_report: a chain renders whole, the chain first and then each sta
   in.pick = report::make_pick_list(in.candidate, 1, inv.parts);
   in.bias_samples = 60;
   const std::string html = report::html_report(in);
+  CHECK(palette_only(html));
   CHECK(html.find("<script") == std::string::npos);
   CHECK(html.find("default-src 'none'") != std::string::npos);
   // Every id once (the stages' sections and plots are renamed s1-..., s2-...), and every

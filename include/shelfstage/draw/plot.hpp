@@ -5,6 +5,7 @@
 #include <string>
 #include <vector>
 
+#include "shelfstage/draw/palette.hpp"
 #include "shelfstage/draw/svg.hpp"
 
 namespace shelfstage::draw {
@@ -57,7 +58,7 @@ struct Axis {
 struct Series {
   std::string name{};        ///< legend entry; empty: none
   std::vector<Point> points{};
-  std::string colour = "#1f4e79";
+  std::string colour = palette::trace;
   double width = 2;
   std::string dash{};        ///< "5 3" for a dashed line
   bool legend = true;
@@ -67,7 +68,7 @@ struct Series {
 struct Envelope {
   std::string name{};
   std::vector<double> x{}, lo{}, hi{};
-  std::string colour = "#1f4e79";
+  std::string colour = palette::trace;
   double opacity = 0.18;
 };
 
@@ -75,7 +76,7 @@ struct Envelope {
 struct Span {
   std::string name{};
   double x0 = 0, x1 = 0;
-  std::string colour = "#e9c46a";
+  std::string colour = palette::span;
   double opacity = 0.22;
 };
 
@@ -83,7 +84,7 @@ struct Span {
 struct Region {
   std::string name{};
   std::vector<Point> points{};
-  std::string colour = "#2a9d8f";
+  std::string colour = palette::region;
   double opacity = 0.15;
 };
 
@@ -91,7 +92,7 @@ struct Region {
 struct Cloud {
   std::string name{};
   std::vector<Point> points{};
-  std::string colour = "#555555";
+  std::string colour = palette::marks;
   double radius = 2;
   bool hollow = false;     ///< ring instead of a disc
   double opacity = 0.6;

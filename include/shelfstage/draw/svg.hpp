@@ -26,7 +26,7 @@ std::string xml_escape(std::string_view text);
 /// 1234.567 -> "1234.57". Non-finite values become "0" (SVG cannot hold them).
 std::string num(double v);
 
-/// How a shape is painted, built by chaining: Paint().stroke("#1d3557", 2).fill("none").
+/// How a shape is painted, built by chaining: Paint().stroke(palette::ink, 2).fill("none").
 /// Attributes not set are left out (the SVG default applies, or the enclosing group's).
 class Paint {
  public:
@@ -55,7 +55,7 @@ class Paint {
     round_ = true;
     return *this;
   }
-  /// The attributes, each with a leading space: ` stroke="#000" stroke-width="2"`.
+  /// The attributes, each with a leading space: ` stroke="#1d2b3a" stroke-width="2"`.
   std::string attributes() const;
 
  private:

@@ -25,6 +25,7 @@ struct TextPlot {
 
 /// The plot as lines of UTF-8 text ending in newlines: rows from the top of the y range
 /// (Heckbert's nice ticks over the curve and envelope, limited to y_range below the peak),
+/// the y axis "│" with "├" at each labelled tick,
 /// each column the value at its log-spaced x (linear interpolation in log x), the curve's
 /// cell "•", cells between lo and hi "░"; the x axis with "┬" at the decades, "━" across the
 /// span (a decade tick inside it "┯"), decade labels under it in SI notation; a legend line. Throws InputError when x is

@@ -1,0 +1,224 @@
+// src/synth/evaluate.cpp: the Monte Carlo yield against an independent sampling written here
+// from the documented spread model, the exact limits the worst case sets on the yield, and the
+// smaller pieces the file holds (Range, make_transistor, spread_of, cautions).
+//
+// The independent sampling is tests/synth/yield_check.hpp (its comment says how it draws).
+#include "shelfstage/synth/design.hpp"
+
+#include <doctest/doctest.h>
+
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+
+#include "fixture.hpp"
+#include "yield_check.hpp"
+
+using namespace shelfstage;
+using namespace shelfstage::test;
+
+namespace {
+
+// The error below which a share q of the builds fall (NaN builds counted as failing).
+double quantile(std::vector<double> errors, double q) {
+  for (auto& e : errors)
+    if (std::isnan(e)) e = 1e300;
+  std::sort(errors.begin(), errors.end());
+  return errors[static_cast<std::size_t>(q * static_cast<double>(errors.size() - 1))];
+}
+
+// The program's yield for a gain window (evaluate_candidate: the corners again, then the
+// Monte Carlo). The window must hold the nominal gain, else the design no longer holds and no
+// yield is computed (the REQUIRE says so rather than reading a stale figure).
+double program_yield(synth::Candidate c, synth::Spec spec, double tol, int samples) {
+  spec.gain_tol = tol;
+  spec.mc_samples = samples;
+  c.yield.reset();
+  synth::evaluate_candidate(c, spec);
+  REQUIRE_MESSAGE(c.yield.has_value(), (c.cautions.empty() ? std::string() : c.cautions.front()));
+  return *c.yield;
+}
+
+// Program (N builds) against the test's own sampling (M builds) at three gain windows, chosen
+// where the test's own yield is spread between its share at the narrowest window the design
+// allows (the nominal error) and 90 %, so a Monte Carlo returning any constant fails at least
+// two of them. The two estimates are independent; the standard error of their difference is
+// sqrt(p (1 - p) (1/N + 1/M)) <= 0.5 sqrt(1/N + 1/M), 0.0137 for N = 2000, M = 4000; the
+// tolerance 0.06 is over four of those (a false alarm about 1 in 100,000 per check).
+void compare_yields(const synth::Candidate& c, const synth::Spec& spec, int n_program, int n_own, double tolerance) {
+  const auto own = own_errors(c, spec, n_own, 20240611u);
+  const double floor = std::abs(c.error_nominal) * 1.001 + 1e-9;
+  const double s0 = share_within(own, floor);
+  REQUIRE(s0 < 0.7);  // room for three distinct windows
+  for (double f : {0.2, 0.5, 0.8}) {
+    const double tol = std::max(floor, quantile(own, s0 + (0.9 - s0) * f));
+    const double expected = share_within(own, tol);
+    const double got = program_yield(c, spec, tol, n_program);
+    INFO(fmt::format("{}: gain window +/-{:.4f}: program {:.4f} over {} builds, own sampling {:.4f} over {}",
+                     c.topology_name(), tol, got, n_program, expected, n_own));
+    CHECK(std::abs(got - expected) <= tolerance);
+  }
+}
+
+synth::Candidate best(const synth::Spec& spec, const synth::Inventory& inv) {
+  synth::Spec s = spec;
+  s.mc_samples = 0;
+  auto r = synth::design(s, inv);
+  REQUIRE_FALSE(r.candidates.empty());
+  return r.candidates.front();
+}
+
+// The worst gain error a candidate claims (its worst range against the request).
+double claimed_worst(const synth::Candidate& c, const synth::Spec& spec) {
+  return std::max(std::abs(std::abs(c.worst.gain.min) / spec.gain - 1), std::abs(std::abs(c.worst.gain.max) / spec.gain - 1));
+}
+
+}  // namespace
+
+TEST_CASE("JFET stage: the yield agrees with an independent sampling of the documented spread model") {
+  const synth::Inventory inv = test::small_shelf(10, {test::njfet()});
+  synth::Spec spec = test::basic_spec(4);
+  spec.topologies = {"jfet-cs-self"};
+  spec.supply_lo_v = 10;  // a supply range and a temperature range: every source of spread drawn
+  spec.supply_hi_v = 14;
+  spec.temp_c = std::make_pair(0.0, 50.0);
+  const synth::Candidate c = best(spec, inv);
+  compare_yields(c, spec, 2000, 4000, 0.06);
+}
+
+TEST_CASE("BJT stage: the yield agrees with an independent sampling of hFE, VBE, parts, supply and temperature") {
+  const synth::Inventory inv = test::small_shelf(10, {test::npn()});
+  synth::Spec spec = test::basic_spec(8);
+  spec.topologies = {"bjt-ce-divider"};
+  spec.supply_lo_v = 10;
+  spec.supply_hi_v = 14;
+  spec.temp_c = std::make_pair(0.0, 50.0);
+  const synth::Candidate c = best(spec, inv);
+  compare_yields(c, spec, 2000, 4000, 0.06);
+}
+
+TEST_CASE("chain: the yield agrees with an independent sampling, every stage drawn at once") {
+  // The chain request of tests/synth/chain_test.cpp: a gain of 60 from a 1 MOhm input.
+  const synth::Inventory inv = test::small_shelf(10, {test::njfet(), test::npn()});
+  synth::Spec spec = test::basic_spec(60);
+  spec.zin_min_ohm = 1e6;
+  spec.source_ohm = 10e3;
+  spec.top = 1;
+  spec.stages_max = 2;
+  const synth::Candidate c = best(spec, inv);
+  REQUIRE(c.is_chain());
+  // Fewer builds (a chain costs more): N = 1000, M = 2000, standard error of the difference
+  // <= 0.5 sqrt(1/1000 + 1/2000) = 0.019; tolerance 0.08, four of those.
+  compare_yields(c, spec, 1000, 2000, 0.08);
+}
+
+TEST_CASE("the worst case bounds the yield exactly: a window holding the worst range gives 1") {
+  // docs/worst-case.md: every build within the stated tolerances, spread, supply and
+  // temperature shows a gain inside the worst range, and every constraint holds at every
+  // corner. So with the window just wider than the worst error every build counts. Narrower
+  // windows count the same builds (one seed), so the yield never falls as the window widens.
+  const synth::Inventory inv = test::small_shelf(10, {test::njfet(), test::npn()});
+  for (const std::string topology : {"jfet-cs-self", "bjt-ce-divider"}) {
+    CAPTURE(topology);
+    synth::Spec spec = test::basic_spec(4);
+    spec.topologies = {topology};
+    spec.supply_lo_v = 10;
+    spec.supply_hi_v = 14;
+    const synth::Candidate c = best(spec, inv);
+    const double worst = claimed_worst(c, spec), least = std::abs(c.error_nominal) * 1.001 + 1e-9;
+    REQUIRE(least < worst);
+    CHECK(program_yield(c, spec, worst * 1.0001 + 1e-9, 500) == 1.0);
+    double last = 0;
+    for (double t = 0; t <= 1.0; t += 0.125) {
+      const double y = program_yield(c, spec, least + (worst - least) * t, 500);
+      CHECK(y >= last);
+      last = y;
+    }
+  }
+}
+
+TEST_CASE("no samples asked for: the yield is 0 and not a made-up figure") {
+  const synth::Inventory inv = test::small_shelf(10, {test::njfet()});
+  synth::Spec spec = test::basic_spec(4);
+  spec.topologies = {"jfet-cs-self"};
+  const synth::Candidate c = best(spec, inv);
+  CHECK(program_yield(c, spec, 0.1, 0) == 0.0);
+}
+
+TEST_CASE("Range::add holds the smallest and largest value added") {
+  synth::Range r;
+  CHECK(r.empty);
+  r.add(3);
+  CHECK_FALSE(r.empty);
+  CHECK(r.min == 3);
+  CHECK(r.max == 3);
+  r.add(-1);
+  r.add(7);
+  r.add(2);
+  CHECK(r.min == -1);
+  CHECK(r.max == 7);
+}
+
+TEST_CASE("make_transistor: a JFET piece at a temperature follows the square law's IDSS and VP") {
+  // The spread's JFET at a piece's IDSS and |VP| at 25 C: the square law ID = IDSS (1 - VGS/VP)^2
+  // (the standard JFET saturation law) at VGS = 0 gives IDSS, and the pinch-off is the piece's.
+  const devices::DeviceRecord d = test::njfet();
+  const devices::DeviceSpread spread(d);
+  devices::PieceFigures f;
+  f.idss_a = 3e-3;
+  f.vp_abs_v = 1.5;
+  const stages::Transistor q = synth::make_transistor(spread, f, devices::kNominalCelsius);
+  CHECK(q.kind == devices::DeviceKind::njfet);
+  CHECK(q.jfet.idss_a == doctest::Approx(3e-3).epsilon(1e-9));
+  CHECK(q.jfet.vp_abs_v == doctest::Approx(1.5).epsilon(1e-9));
+  // docs/worst-case.md: IDSS falls 0.3 %/K (record default): 25 K warmer, about 7.5 % less
+  // (within 1 % of that, for the exact form the model takes, linear or compounded).
+  const stages::Transistor hot = synth::make_transistor(spread, f, devices::kNominalCelsius + 25);
+  CHECK(hot.jfet.idss_a / q.jfet.idss_a == doctest::Approx(1 - 0.075).epsilon(0.01));
+  // A BJT piece takes its hFE.
+  const devices::DeviceSpread bspread(test::npn());
+  devices::PieceFigures b;
+  b.hfe = 321;
+  const stages::Transistor qb = synth::make_transistor(bspread, b, devices::kNominalCelsius);
+  CHECK(qb.kind == devices::DeviceKind::npn);
+  CHECK(qb.bjt.bf == doctest::Approx(321).epsilon(1e-9));
+}
+
+TEST_CASE("spread_of: a measured piece narrows the spread to its figures +/- its uncertainty") {
+  synth::Candidate c;
+  c.device = test::njfet();
+  CHECK(synth::spread_of(c).model_name() == "correlated");
+  devices::MeasuredPiece m;
+  m.label = "J9";
+  m.idss_a = 4e-3;
+  m.vp_v = -2.0;
+  m.uncertainty = 0.05;
+  c.piece = m;
+  const devices::DeviceSpread s = synth::spread_of(c);
+  CHECK(s.model_name() == "measured");
+  for (const auto& k : s.corners()) {
+    CHECK(k.idss_a >= 4e-3 * 0.95 * (1 - 1e-9));
+    CHECK(k.idss_a <= 4e-3 * 1.05 * (1 + 1e-9));
+    CHECK(k.vp_abs_v >= 2.0 * 0.95 * (1 - 1e-9));
+    CHECK(k.vp_abs_v <= 2.0 * 1.05 * (1 + 1e-9));
+  }
+}
+
+TEST_CASE("cautions: a supply above 60 V DC is called hazardous; an electrolytic's + lead is named") {
+  // 60 V DC: the common limit of extra-low voltage in safety practice (common practice).
+  const synth::Inventory inv = test::small_shelf(10, {test::njfet()});
+  synth::Spec spec = test::basic_spec(4);
+  spec.topologies = {"jfet-cs-self"};
+  synth::Candidate c = best(spec, inv);
+  const auto has = [&](std::string_view word) {
+    return std::any_of(c.cautions.begin(), c.cautions.end(), [&](const std::string& s) { return s.find(word) != s.npos; });
+  };
+  CHECK_FALSE(has("hazardous"));
+  for (const auto& rp : c.parts)
+    if (rp.polarised) CHECK(has(rp.designator + " (" + rp.role + ") is polarised"));
+  // The same request at 61 V (the test record states no ratings, so nothing else stops it):
+  // the caution appears.
+  spec.supply_lo_v = spec.supply_hi_v = 61;
+  c = best(spec, inv);
+  CHECK(has("hazardous voltage"));
+}
