@@ -7,6 +7,8 @@
 #include <limits>
 #include <numbers>
 
+#include <fmt/format.h>
+
 #include "shelfstage/devices/models.hpp"
 
 namespace shelfstage::stages {
@@ -250,6 +252,27 @@ void finish_response(Performance& p, std::span<const LfSection> lf, const Hybrid
     const double r = hybrid_pi_gain(m, 2 * std::numbers::pi * c.band_hi_hz) / hybrid_pi_dc_gain(m);
     p.loss_hi_db = std::max(0.0, -20.0 * std::log10(r));
   }
+}
+
+bool jfet_operating_point(Performance& p, const JfetBias& b) {
+  if (!b.conducts) {
+    p.problem = "cut off";
+    return false;
+  }
+  p.valid = true;
+  p.active = b.saturated();
+  if (!p.active) p.problem = fmt::format("in the triode region: VDS {:.2f} V < VGS-VP {:.2f} V", b.vds_v, b.vgst_v);
+  p.bias_current_a = b.id_a;
+  p.supply_current_a = b.id_a;
+  return true;
+}
+
+void jfet_follower_swing(Performance& p, const devices::JfetInstance& j, const JfetBias& b, double r_ac) {
+  p.swing_down_v = b.id_a * r_ac;
+  const double up = triode_edge_excursion(j.beta(), j.lambda_per_v, b.id_a, b.vds_v, 1.0, r_ac);
+  const double gate_limit = gate_conduction_excursion(j.beta(), j.lambda_per_v, j.vp_abs_v, b.id_a, b.vds_v, 1.0, r_ac);
+  p.swing_up_v = std::max(0.0, std::min(up, gate_limit));
+  p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
 }
 
 double cap_for(double r_ohm, double f_hz) { return 1.0 / (2 * std::numbers::pi * r_ohm * f_hz); }

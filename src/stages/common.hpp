@@ -103,6 +103,14 @@ double cgd_at(const devices::JfetInstance& q, double vgd_v);
 double cbe_at(const devices::BjtInstance& q, double vbe_v);
 double cbc_at(const devices::BjtInstance& q, double vbc_v);
 
+/// The operating-point part of a JFET stage's figures: valid when it conducts, active in
+/// saturation (the problem said otherwise), the drain and supply current. Returns whether it
+/// conducts.
+bool jfet_operating_point(Performance& p, const JfetBias& b);
+/// A JFET follower's swing into the AC load r_ac on its source: down until the current
+/// reaches zero; up until VDS meets VGS - VP or the gate reaches the source.
+void jfet_follower_swing(Performance& p, const devices::JfetInstance& j, const JfetBias& b, double r_ac);
+
 /// Thermal noise density squared of a resistor, V^2/Hz.
 double thermal_v2(double r_ohm, double celsius);
 

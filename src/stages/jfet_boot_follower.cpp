@@ -123,16 +123,8 @@ class JfetBootFollower final : public Topology {
     // VGS = -ID RS1 and VDS = VDD - ID (RS1 + RS2): the self-biased solution with RS2 in
     // the drain's place (the same current through the same total), shifted up by ID RS2.
     const detail::JfetBias b = detail::jfet_bias(j, 0.0, v[RS1], v[RS2], c.supply_v);
-    if (!b.conducts) {
-      p.problem = "cut off";
-      return p;
-    }
-    p.valid = true;
-    p.active = b.saturated();
-    if (!p.active) p.problem = fmt::format("in the triode region: VDS {:.2f} V < VGS-VP {:.2f} V", b.vds_v, b.vgst_v);
+    if (!detail::jfet_operating_point(p, b)) return p;
     const double v_tap = b.id_a * v[RS2];
-    p.bias_current_a = b.id_a;
-    p.supply_current_a = b.id_a;
     p.v_in = v_tap;
     p.v_common = v_tap + b.vs_v;
     p.v_out = c.supply_v;
@@ -149,12 +141,7 @@ class JfetBootFollower final : public Topology {
     // Swing. Down: the current falls to zero across the AC load RS2 || RL. Up: the source
     // rises until VDS meets VGS - VP, or the gate reaches the source.
     const double r_ac = par(v[RS2], c.load_ohm);
-    p.swing_down_v = b.id_a * r_ac;
-    const double up = detail::triode_edge_excursion(j.beta(), j.lambda_per_v, b.id_a, b.vds_v, 1.0, r_ac);
-    const double gate_limit =
-        detail::gate_conduction_excursion(j.beta(), j.lambda_per_v, j.vp_abs_v, b.id_a, b.vds_v, 1.0, r_ac);
-    p.swing_up_v = std::max(0.0, std::min(up, gate_limit));
-    p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+    detail::jfet_follower_swing(p, j, b, r_ac);
 
     // High corner: the hybrid-pi network with RG between gate and source (where gpi sits in a
     // bipolar device: the bootstrap), the drain at AC ground, output at the source.

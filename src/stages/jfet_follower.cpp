@@ -59,15 +59,7 @@ class JfetFollower final : public Topology {
     Performance p;
     const auto& j = q.jfet;
     const detail::JfetBias b = detail::jfet_bias(j, 0.0, v[RS], 0.0, c.supply_v);
-    if (!b.conducts) {
-      p.problem = "cut off";
-      return p;
-    }
-    p.valid = true;
-    p.active = b.saturated();
-    if (!p.active) p.problem = fmt::format("in the triode region: VDS {:.2f} V < VGS-VP {:.2f} V", b.vds_v, b.vgst_v);
-    p.bias_current_a = b.id_a;
-    p.supply_current_a = b.id_a;
+    if (!detail::jfet_operating_point(p, b)) return p;
     p.v_in = 0;
     p.v_common = b.vs_v;
     p.v_out = c.supply_v;
@@ -81,12 +73,7 @@ class JfetFollower final : public Topology {
     // Swing. Down: the current falls to zero. Up: the source rises toward the supply until
     // VDS meets VGS - VP, or the gate reaches the source (VGS = 0).
     const double r_ac = par(v[RS], c.load_ohm);
-    p.swing_down_v = b.id_a * r_ac;
-    const double up = detail::triode_edge_excursion(j.beta(), j.lambda_per_v, b.id_a, b.vds_v, 1.0, r_ac);
-    const double gate_limit =
-        detail::gate_conduction_excursion(j.beta(), j.lambda_per_v, j.vp_abs_v, b.id_a, b.vds_v, 1.0, r_ac);
-    p.swing_up_v = std::max(0.0, std::min(up, gate_limit));
-    p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+    detail::jfet_follower_swing(p, j, b, r_ac);
 
     detail::LfSection lf[2] = {{1.0 / (v[CIN] * (c.source_ohm + v[RG])), 0.0},
                                {1.0 / (v[COUT] * (p.zout_ohm + c.load_ohm)), 0.0}};
