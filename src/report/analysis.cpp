@@ -11,6 +11,7 @@
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/stages/exact.hpp"
+#include "shelfstage/synth/cautions.hpp"
 #include "shelfstage/units/notation.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
@@ -32,8 +33,6 @@ constexpr double kFloorV = 1e-3, kFloorA = 1e-9, kFloorGain = 1e-3, kFloorOhm = 
 constexpr double kCapMargin = 1.25;
 // Resistors: at most half the rating (common practice).
 constexpr double kResistorDerating = 0.5;
-// Safety: above this supply the hazardous-voltage caution applies (docs/physics.md, Safety).
-constexpr double kHazardousSupplyV = 60.0;
 
 bool same_name(std::string_view a, std::string_view b) {
   if (a.size() != b.size()) return false;
@@ -386,25 +385,16 @@ Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread*
   }
 
   // Cautions.
-  if (c.supply_v > detail::kHazardousSupplyV)
-    a.cautions.push_back(fmt::format(
-        "hazardous voltage: the {} supply is above 60 V DC; work de-energised, discharge every capacitor before "
-        "handling, mind capacitor voltage ratings and polarity, and follow local codes and licensed practice, which "
-        "take precedence over this program",
-        format_value(c.supply_v, Unit::volt)));
+  if (auto hazard = synth::hazard_caution(c.supply_v); !hazard.empty()) a.cautions.push_back(hazard);
   std::vector<std::string> unrated;
   for (const auto& p : a.parts) {
     if (p.info.polarised && !p.reversed)
-      a.cautions.push_back(fmt::format("{} is polarised: its + lead goes to the {}", detail::part_label(p),
-                                       detail::describe_net(t, p.info.fitted_plus_net.empty() ? p.plus_net
-                                                                                              : p.info.fitted_plus_net)));
+      a.cautions.push_back(synth::polarised_caution(
+          detail::part_label(p),
+          detail::describe_net(t, p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net)));
     if (!(p.info.rating > 0)) unrated.push_back(p.designator);
   }
-  if (!unrated.empty())
-    a.cautions.push_back(fmt::format("no rating stated for {}: compare the stress listed with the parts fitted "
-                                     "(common practice: resistors at most half their power rating, capacitors rated "
-                                     "above the DC plus the signal peak with margin)",
-                                     fmt::join(unrated, ", ")));
+  if (!unrated.empty()) a.cautions.push_back(synth::unrated_caution(unrated));
 
   if (spread) {
     a.spread = spread->description();

@@ -17,6 +17,7 @@
 #include "shelfstage/report/curves.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/stages/chain.hpp"
+#include "shelfstage/synth/cautions.hpp"
 #include "shelfstage/synth/shelf.hpp"
 #include "shelfstage/units/notation.hpp"
 
@@ -147,7 +148,7 @@ std::string range_text(const synth::Range& r, std::string (*f)(double)) {
 
 // --- sections ---------------------------------------------------------------------------
 
-bool is_hazard(const std::string& s) { return s.starts_with("hazardous voltage"); }
+bool is_hazard(const std::string& s) { return synth::is_hazard_caution(s); }
 
 /// The cautions to show: the kept design's, the analysis's hazard caution when the design's
 /// own list lacks one, and every polarised part with the way it goes in.
@@ -158,12 +159,10 @@ std::vector<std::string> all_cautions(const ReportInput& in, const Analysis& a) 
       if (is_hazard(s)) cautions.insert(cautions.begin(), s);
   for (const auto& rp : in.candidate.parts)
     if (rp.polarised) {
-      const bool named = std::any_of(cautions.begin(), cautions.end(), [&](const std::string& s) {
-        return s.starts_with(rp.designator + " ");
-      });
-      if (!named)
-        cautions.push_back(fmt::format("{} ({}) is polarised: its + lead goes to the {}", rp.designator, rp.role,
-                                       net_for_people(rp.plus_net, in.candidate)));
+      const std::string part = fmt::format("{} ({})", rp.designator, rp.role);
+      const bool named = std::any_of(cautions.begin(), cautions.end(),
+                                     [&](const std::string& s) { return synth::is_polarised_caution(s, part); });
+      if (!named) cautions.push_back(synth::polarised_caution(part, net_for_people(rp.plus_net, in.candidate)));
     }
   return cautions;
 }

@@ -7,6 +7,7 @@
 
 #include "detail.hpp"
 #include "shelfstage/stages/chain.hpp"
+#include "shelfstage/synth/cautions.hpp"
 
 namespace shelfstage::synth {
 
@@ -136,19 +137,16 @@ std::string describe_net(const Candidate& c, const std::string& net, int next_st
 
 void add_cautions(Candidate& c, const Spec& spec, int next_stage) {
   c.cautions.clear();
-  if (spec.supply_hi_v > 60)
-    c.cautions.push_back(
-        "hazardous voltage: the supply exceeds 60 V DC; work de-energised, discharge capacitors before "
-        "handling, and follow local codes and licensed practice");
+  if (auto hazard = hazard_caution(spec.supply_hi_v); !hazard.empty()) c.cautions.push_back(hazard);
+  std::vector<std::string> unrated;
   for (const auto& rp : c.parts) {
+    const std::string part = fmt::format("{} ({})", rp.designator, rp.role);
     if (rp.polarised)
-      c.cautions.push_back(fmt::format("{} ({}) is polarised: its + lead goes to the {}; never reverse it",
-                                       rp.designator, rp.role,
-                                       rp.plus_net.empty() ? "higher-voltage side" : describe_net(c, rp.plus_net, next_stage)));
-    if (rp.rating <= 0)
-      c.cautions.push_back(fmt::format("{} ({}): the stock does not state its {} rating; check it before fitting",
-                                       rp.designator, rp.role, rp.kind == 'R' ? "power" : "voltage"));
+      c.cautions.push_back(polarised_caution(
+          part, rp.plus_net.empty() ? "higher-voltage side" : describe_net(c, rp.plus_net, next_stage)));
+    if (rp.rating <= 0) unrated.push_back(rp.designator);
   }
+  if (!unrated.empty()) c.cautions.push_back(unrated_caution(unrated));
   // The transistor: what its record does not rate was not checked.
   const devices::Ratings& r = c.device.ratings;
   std::vector<std::string> missing;
