@@ -9,6 +9,7 @@
 #include "design_run.hpp"
 #include "kept_design.hpp"
 #include "shelfstage/report/design_text.hpp"
+#include "shelfstage/report/picklist.hpp"
 #include "shelfstage/synth/purchases.hpp"
 
 namespace shelfstage::cli {
@@ -28,16 +29,16 @@ struct ShopOptions {
 
 struct Option {
   synth::Candidate candidate;
-  std::vector<report::ShortItem> buy;
+  std::vector<build::ShortItem> buy;
 };
 
 /// What a pick list on the purchase-augmented stock says to buy: pieces from purchasable
 /// lines, and whatever is still short.
-std::vector<report::ShortItem> purchases_of(const report::PickList& pick) {
-  std::vector<report::ShortItem> out = pick.short_items;
+std::vector<build::ShortItem> purchases_of(const report::PickList& pick) {
+  std::vector<build::ShortItem> out = pick.short_items;
   for (const auto& l : pick.lines) {
     if (!synth::is_purchase_line(l.part_id)) continue;
-    report::ShortItem s;
+    build::ShortItem s;
     s.kind = l.kind;
     s.value = l.value;
     s.device = l.device;
@@ -128,7 +129,7 @@ void run_shop(const ShopOptions& o, Context& ctx) {
     report::Json smallest = nullptr;
     if (smaller) {
       report::Json buy = report::Json::array();
-      for (const auto& s : report::purchase_items(*smaller)) buy.push_back(report::short_item_json(s));
+      for (const auto& s : build::purchase_items(*smaller)) buy.push_back(report::short_item_json(s));
       smallest = {{"design", report::candidate_json(smaller->design)}, {"pieces_to_buy", smaller->pieces}, {"buy", buy}};
     }
     print_json(ctx, {{"schema", 1},
@@ -154,7 +155,7 @@ void run_shop(const ShopOptions& o, Context& ctx) {
         "error {}):\n   {}\n",
         smaller->pieces, smaller->pieces == 1 ? "" : "s", short_pieces, c.topology_name(), c.device.name,
         percent(c.error_worst), report::recipe_line(c));
-    ctx.out << report::shopping_text(report::purchase_items(*smaller));
+    ctx.out << report::shopping_text(build::purchase_items(*smaller));
   }
   ctx.out << fmt::format("\nWorst-case gain error of {}: {} (nominal {}).\n", d.saved.id, percent(kept.error_worst),
                          percent(std::abs(kept.error_nominal)));
