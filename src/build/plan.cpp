@@ -125,29 +125,28 @@ std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::P
   return out;
 }
 
-/// Describes a short item from the first named line that still exists, else from the role.
-ShortItem short_item(const Need& need, const std::vector<store::Part>& stock) {
-  ShortItem s;
-  s.kind = need.kind;
-  s.value = need.value;
-  s.device = need.device;
-  s.tol = need.tol;
-  s.rating = need.rating;
-  s.dielectric = need.dielectric;
+/// Describes a missing piece from the first named line that still exists, else from the role.
+Piece piece_of(const Need& need, const std::vector<store::Part>& stock) {
+  Piece p{need.kind, need.value, need.device, need.tol, need.rating, need.dielectric};
   for (const auto id : need.lines) {
-    const auto it = std::find_if(stock.begin(), stock.end(), [&](const store::Part& p) { return p.id == id; });
+    const auto it = std::find_if(stock.begin(), stock.end(), [&](const store::Part& line) { return line.id == id; });
     if (it == stock.end()) continue;
-    s.kind = it->kind;
-    s.tol = it->tol ? it->tol : std::optional<units::Tolerance>(synth::default_tolerance(*it));
-    s.rating = line_rating(*it);
-    s.dielectric = it->dielectric;
+    p.kind = it->kind;
+    p.tol = it->tol ? it->tol : std::optional<units::Tolerance>(synth::default_tolerance(*it));
+    p.rating = line_rating(*it);
+    p.dielectric = it->dielectric;
     break;
   }
-  if (!store::is_passive(s.kind)) s.tol.reset();
-  return s;
+  return p;
 }
 
-bool same_item(const ShortItem& a, const ShortItem& b) {
+/// A stock line's piece as it states it.
+Piece piece_of(const store::Part& line) {
+  return {line.kind, store::is_passive(line.kind) ? line.value : 0.0, line.device, line.tol, line_rating(line),
+          line.dielectric};
+}
+
+bool same_piece(const Piece& a, const Piece& b) {
   auto close = [](double x, double y) { return std::abs(x - y) <= 1e-9 * std::max(std::abs(x), std::abs(y)); };
   return a.kind == b.kind && close(a.value, b.value) && iequal(a.device, b.device) && a.tol == b.tol &&
          close(a.rating, b.rating) && iequal(a.dielectric, b.dielectric);
@@ -197,14 +196,9 @@ std::vector<PickLine> merge_grants(const std::vector<Grant>& grants, Pool& pool)
     if (it == lines.end()) {
       const store::Part& p = *pool.find(g.part_id)->part;
       PickLine l;
+      static_cast<Piece&>(l) = piece_of(p);
       l.bin = p.bin;
       l.part_id = p.id;
-      l.kind = p.kind;
-      l.value = store::is_passive(p.kind) ? p.value : 0.0;
-      l.device = p.device;
-      l.tol = p.tol;
-      l.rating = line_rating(p);
-      l.dielectric = p.dielectric;
       lines.push_back(std::move(l));
       it = lines.end() - 1;
     }
@@ -224,12 +218,9 @@ std::vector<PickLine> merge_grants(const std::vector<Grant>& grants, Pool& pool)
 std::vector<ShortItem> short_items_of(const Allocation& a, int copies, const std::vector<store::Part>& stock) {
   std::vector<ShortItem> items;
   for (const auto& [need, places] : a.missing) {
-    ShortItem s = short_item(need, stock);
-    s.qty = static_cast<int>(places.size());
-    s.needed = copies;
-    s.designators = places;
-    s.roles = {need.role == "Q" ? need.base : need.role};
-    auto it = std::find_if(items.begin(), items.end(), [&](const ShortItem& o) { return same_item(o, s); });
+    ShortItem s = short_item(piece_of(need, stock), static_cast<int>(places.size()), copies, places,
+                             {need.role == "Q" ? need.base : need.role});
+    auto it = std::find_if(items.begin(), items.end(), [&](const ShortItem& o) { return same_piece(o, s); });
     if (it == items.end()) {
       items.push_back(std::move(s));
     } else {
@@ -317,21 +308,26 @@ std::string short_summary(const Plan& p) {
   return fmt::format("{}", fmt::join(parts, ", "));
 }
 
+ShortItem short_item(const Piece& what, int qty, int needed, std::vector<std::string> designators,
+                     std::vector<std::string> roles) {
+  ShortItem s;
+  static_cast<Piece&>(s) = what;
+  if (!store::is_passive(s.kind)) s.tol.reset();
+  s.qty = qty;
+  s.needed = needed;
+  s.designators = std::move(designators);
+  s.roles = std::move(roles);
+  return s;
+}
+
 std::vector<ShortItem> purchase_items(const synth::Purchase& p) {
   std::vector<ShortItem> out;
   for (const auto& l : p.buy) {
-    ShortItem s;
-    s.kind = l.kind;
-    s.value = l.value;
-    s.tol = l.tol;
-    s.rating = l.rating;
-    s.dielectric = l.dielectric;
-    s.qty = l.qty;
-    s.needed = l.qty + l.held;
-    s.roles = l.roles;
+    std::vector<std::string> designators;
     for (const auto& rp : p.design.parts)
-      if (std::find(l.roles.begin(), l.roles.end(), rp.role) != l.roles.end()) s.designators.push_back(rp.designator);
-    out.push_back(std::move(s));
+      if (std::find(l.roles.begin(), l.roles.end(), rp.role) != l.roles.end()) designators.push_back(rp.designator);
+    out.push_back(short_item({l.kind, l.value, "", l.tol, l.rating, l.dielectric}, l.qty, l.qty + l.held,
+                             std::move(designators), l.roles));
   }
   return out;
 }

@@ -15,17 +15,7 @@ int ShopOption::pieces() const {
 std::vector<ShortItem> purchases_of(const Plan& plan) {
   std::vector<ShortItem> out = plan.short_items;
   for (const auto& l : plan.lines) {
-    if (!synth::is_purchase_line(l.part_id)) continue;
-    ShortItem s;
-    s.kind = l.kind;
-    s.value = l.value;
-    s.device = l.device;
-    s.tol = l.tol;
-    s.rating = l.rating;
-    s.dielectric = l.dielectric;
-    s.qty = s.needed = l.qty;
-    s.designators = l.designators;
-    out.push_back(std::move(s));
+    if (synth::is_purchase_line(l.part_id)) out.push_back(short_item(l, l.qty, l.qty, l.designators));
   }
   return out;
 }

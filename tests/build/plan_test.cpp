@@ -125,3 +125,21 @@ TEST_CASE("short items: what no line can give, merged per value, with the places
 TEST_CASE("plan_build refuses zero copies") {
   CHECK_THROWS_AS((void)plan_build(ce_stage(), 0, ce_shelf()), InputError);
 }
+
+TEST_CASE("short_item: the one way to make a short item; a transistor carries no tolerance") {
+  build::Piece q;
+  q.kind = store::PartKind::npn;
+  q.device = "SQ-420";
+  q.tol = units::Tolerance{0.05, 0.05};
+  const auto s = build::short_item(q, 2, 3, {"Q1.2", "Q1.3"}, {"Q1"});
+  CHECK(s.device == "SQ-420");
+  CHECK_FALSE(s.tol);
+  CHECK(s.qty == 2);
+  CHECK(s.needed == 3);
+  CHECK(s.designators == std::vector<std::string>{"Q1.2", "Q1.3"});
+  CHECK(s.roles == std::vector<std::string>{"Q1"});
+  build::Piece r;
+  r.value = 10e3;
+  r.tol = units::Tolerance{0.01, 0.01};
+  CHECK(build::short_item(r, 1, 1, {"R1"}).tol == r.tol);
+}

@@ -12,9 +12,7 @@ namespace {
 build::ShopOption option(double error_worst, int pieces) {
   build::ShopOption o;
   o.candidate.error_worst = error_worst;
-  build::ShortItem s;
-  s.qty = pieces;
-  o.buy.push_back(s);
+  o.buy.push_back(build::short_item({}, pieces, pieces, {}));
   return o;
 }
 
@@ -31,10 +29,7 @@ TEST_CASE("purchases_of: the pieces from purchasable lines and what is still sho
   bought.qty = 3;
   bought.designators = {"R1.1", "R1.2", "R1.3"};
   plan.lines = {shelf_line, bought};
-  build::ShortItem missing;
-  missing.qty = 1;
-  missing.roles = {"RC"};
-  plan.short_items = {missing};
+  plan.short_items = {build::short_item({}, 1, 1, {"RC.1"}, {"RC"})};
   const auto buy = build::purchases_of(plan);
   REQUIRE(buy.size() == 2);
   CHECK(buy[0].roles == std::vector<std::string>{"RC"});

@@ -30,34 +30,39 @@
 
 namespace shelfstage::build {
 
-/// Pieces to take from one stock line.
-struct PickLine {
-  std::string bin;                 ///< the line's bin ("" when the stock does not say)
-  std::int64_t part_id = 0;        ///< the stock line
+/// What a piece is, as a stock line or an order states it.
+struct Piece {
   store::PartKind kind = store::PartKind::resistor;
   double value = 0;                ///< ohms or farads; 0 for a transistor
   std::string device;              ///< transistors: the device type
-  std::optional<units::Tolerance> tol;  ///< as the stock line states it
-  double rating = 0;               ///< watts (R) or volts (C) of the line; 0 unknown
+  std::optional<units::Tolerance> tol;
+  double rating = 0;               ///< watts (R) or volts (C); 0 unknown
   std::string dielectric;
+};
+
+/// Pieces to take from one stock line: the piece as the line states it.
+struct PickLine : Piece {
+  std::string bin;                 ///< the line's bin ("" when the stock does not say)
+  std::int64_t part_id = 0;        ///< the stock line
   int qty = 0;                     ///< pieces to take, all copies
   int from_reserved = 0;           ///< of qty, pieces the design's reservation holds
   std::vector<std::string> designators;  ///< one per piece
 };
 
-/// Pieces the shelf cannot supply: what to buy.
-struct ShortItem {
-  store::PartKind kind = store::PartKind::resistor;
-  double value = 0;                ///< ohms or farads; 0 for a transistor
-  std::string device;              ///< transistors
-  std::optional<units::Tolerance> tol;  ///< of the stock the design drew on, else the role's
-  double rating = 0;               ///< W or V needed; 0 unknown
-  std::string dielectric;
+/// Pieces the shelf cannot supply: what to buy. The piece: its tolerance that of the stock
+/// the design drew on (else the role's), its rating the W or V needed (0 unknown). Made by
+/// short_item only.
+struct ShortItem : Piece {
   int qty = 0;                     ///< pieces missing
   int needed = 0;                  ///< pieces needed in all
   std::vector<std::string> designators;  ///< the places left without a piece
   std::vector<std::string> roles;        ///< RD, CIN ...
 };
+
+/// A short item: `qty` pieces of `what` missing out of `needed`, for the places and roles
+/// given. A transistor carries no tolerance.
+ShortItem short_item(const Piece& what, int qty, int needed, std::vector<std::string> designators,
+                     std::vector<std::string> roles = {});
 
 /// The plan for `copies` copies of a design.
 struct Plan {
