@@ -6,6 +6,7 @@
 #include "commands.hpp"
 #include "kept_design.hpp"
 #include "shelfstage/report/design_text.hpp"
+#include "shelfstage/report/picklist.hpp"
 #include "shelfstage/error.hpp"
 
 namespace shelfstage::cli {

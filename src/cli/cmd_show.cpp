@@ -130,14 +130,7 @@ report::Json show_json(const ShowOptions& o, const store::SavedDesign& saved, co
 // A chain: the stages side by side and the whole, then each stage's parts and their stress.
 void show_chain(const ShowOptions& o, Context& ctx, const store::SavedDesign& saved, const synth::Spec& spec,
                 const synth::Candidate& c) {
-  std::vector<report::Analysis> analyses;
-  for (std::size_t k = 0; k < c.stages.size(); ++k) {
-    const auto& s = c.stages[k];
-    const devices::DeviceSpread spread = synth::spread_of(s);
-    analyses.push_back(report::analyze_stage(report::stage_under_test(s), &spread));
-    // After the first stage the previous COUT couples the stage: it has no CIN of its own.
-    if (k > 0) std::erase_if(analyses.back().parts, [](const report::PartStress& p) { return p.name == "CIN"; });
-  }
+  const std::vector<report::Analysis> analyses = report::analyze_chain(c);
   if (o.spice) write_text_file("--spice", *o.spice, report::chain_spice(c));
   if (ctx.global.json) {
     report::Json list = report::Json::array();
@@ -161,10 +154,7 @@ void show_chain(const ShowOptions& o, Context& ctx, const store::SavedDesign& sa
     ctx.out << report::parts_text(analyses[k]) << "\n";
   }
   ctx.out << yield_text(c, spec);
-  std::vector<std::string> warnings;
-  for (std::size_t k = 0; k < analyses.size(); ++k)
-    for (const auto& w : analyses[k].warnings) warnings.push_back(fmt::format("stage {}: {}", k + 1, w));
-  print_list(ctx.out, "Warnings", warnings);
+  print_list(ctx.out, "Warnings", report::chain_warnings(analyses));
   print_list(ctx.out, "Cautions", c.cautions);
   if (o.plot) ctx.out << "\n" << report::response_text(report::frequency_response(c, spec));
   if (o.spice)

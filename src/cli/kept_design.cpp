@@ -1,4 +1,4 @@
-// Kept designs read back for pick, reserve, build and shop; the pick list as a planner.
+// Kept designs read back for pick, reserve, build and shop; the build plan as a planner.
 #include "kept_design.hpp"
 
 #include <fmt/format.h>
@@ -38,11 +38,11 @@ void add_copies_option(CLI::App& cmd, std::optional<int>& copies) {
 
 store::Planner pick_planner(const synth::Candidate& c, int copies) {
   return [c, copies](const std::vector<store::Part>& stock, const store::Held& held) {
-    const report::PickList pick = report::make_pick_list(c, copies, stock, held);
+    const build::Plan pick = build::plan_build(c, copies, stock, held);
     store::WithdrawalPlan plan;
     if (!pick.complete()) {
       plan.short_text = fmt::format("not enough stock for {} cop{} of {}: {}", copies, copies == 1 ? "y" : "ies", c.id,
-                                    report::short_summary(pick));
+                                    build::short_summary(pick));
       return plan;
     }
     for (const auto& l : pick.lines)

@@ -1,5 +1,5 @@
 // A design kept in the database, read back for the commands that act on it (pick, reserve,
-// build, shop), and the planner that turns its pick list into a withdrawal.
+// build, shop), and the planner that turns its build plan into a withdrawal.
 #pragma once
 #include <optional>
 #include <string>
@@ -7,7 +7,7 @@
 
 #include <CLI/CLI.hpp>
 
-#include "shelfstage/report/picklist.hpp"
+#include "shelfstage/build/plan.hpp"
 #include "shelfstage/store/builds.hpp"
 #include "shelfstage/store/designs.hpp"
 #include "shelfstage/synth/design.hpp"
@@ -31,7 +31,7 @@ int copies_of(const KeptDesign& d, const std::optional<int>& asked);
 /// Adds `--copies N` (1..10000) to a command.
 void add_copies_option(CLI::App& cmd, std::optional<int>& copies);
 
-/// A store::Planner that takes the pieces of the pick list for `copies` copies; when
+/// A store::Planner that takes the pieces of the build plan for `copies` copies; when
 /// anything is short its short_text reads "not enough stock for 2 copies of s1234abcd:
 /// RD 10k 5% (1 short), ...".
 store::Planner pick_planner(const synth::Candidate& c, int copies);

@@ -11,6 +11,7 @@
 
 #include "html_parts.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/chain_view.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/stages/chain.hpp"
 
@@ -128,7 +129,9 @@ std::string chain_html_report(const ReportInput& in) {
   const Response r = frequency_response(c, in.spec);
 
   // Each stage as the chain builds it.
-  std::vector<std::string> warnings, cautions = c.cautions;
+  const std::vector<Analysis> analyses = analyze_chain(c);
+  const std::vector<std::string> warnings = chain_warnings(analyses);
+  std::vector<std::string> cautions = c.cautions;
   std::string stage_html;
   for (std::size_t k = 0; k < c.stages.size(); ++k) {
     ReportInput sin = in;
@@ -136,10 +139,7 @@ std::string chain_html_report(const ReportInput& in) {
     sin.candidate = c.stages[k];
     sin.pick.reset();
     const auto& s = sin.candidate;
-    const devices::DeviceSpread spread = synth::spread_of(s);
-    Analysis a = analyze_stage(stage_under_test(s), &spread);
-    if (k > 0) std::erase_if(a.parts, [](const PartStress& p) { return p.name == "CIN"; });
-    for (const auto& w : a.warnings) warnings.push_back(fmt::format("stage {}: {}", k + 1, w));
+    const Analysis& a = analyses[k];
     for (const auto& t : a.cautions)
       if (is_hazard(t) && std::none_of(cautions.begin(), cautions.end(), is_hazard)) cautions.insert(cautions.begin(), t);
     const BiasSpread b = bias_spread(s, sin.spec, in.bias_samples);

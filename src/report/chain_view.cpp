@@ -1,4 +1,4 @@
-// Chains for people and for ngspice.
+// Chains for people and for ngspice: the stages analysed, the figures, the netlist.
 #include "shelfstage/report/chain_view.hpp"
 
 #include <cmath>
@@ -7,6 +7,7 @@
 #include "shelfstage/circuit/spice.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/analysis.hpp"
+#include "shelfstage/report/curves.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/stages/chain.hpp"
@@ -23,6 +24,26 @@ using units::Unit;
 std::string ohms(double v) { return v > 0 ? format_value(v, Unit::ohm) : std::string("\u2014"); }
 
 }  // namespace
+
+std::vector<Analysis> analyze_chain(const synth::Candidate& c) {
+  if (!c.is_chain()) throw InputError(fmt::format("design '{}' is not a chain", c.id));
+  std::vector<Analysis> analyses;
+  for (std::size_t k = 0; k < c.stages.size(); ++k) {
+    const auto& s = c.stages[k];
+    const devices::DeviceSpread spread = synth::spread_of(s);
+    analyses.push_back(analyze_stage(stage_under_test(s), &spread));
+    // After the first stage the previous COUT couples the stage: it has no CIN of its own.
+    if (k > 0) std::erase_if(analyses.back().parts, [](const PartStress& p) { return p.name == "CIN"; });
+  }
+  return analyses;
+}
+
+std::vector<std::string> chain_warnings(const std::vector<Analysis>& stages) {
+  std::vector<std::string> warnings;
+  for (std::size_t k = 0; k < stages.size(); ++k)
+    for (const auto& w : stages[k].warnings) warnings.push_back(fmt::format("stage {}: {}", k + 1, w));
+  return warnings;
+}
 
 std::string chain_figures_text(const synth::Candidate& c, const synth::Spec& spec) {
   if (!c.is_chain()) throw InputError(fmt::format("design '{}' is not a chain", c.id));

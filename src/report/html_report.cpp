@@ -586,7 +586,7 @@ std::string pick_section(const ReportInput& in) {
   for (const auto& l : p.lines) {
     std::string tol = l.tol ? units::format_tolerance(*l.tol) : "";
     std::string rating = l.rating > 0 ? (l.kind == store::PartKind::resistor ? watts(l.rating) : volts(l.rating)) : "";
-    rows.push_back({l.bin.empty() ? "\u2014" : l.bin, fmt::format("{}", l.qty), item_value_text(l.kind, l.value, l.device),
+    rows.push_back({l.bin.empty() ? "\u2014" : l.bin, fmt::format("{}", l.qty), build::item_value_text(l.kind, l.value, l.device),
                     std::string(store::kind_code(l.kind)), tol, rating, l.dielectric, fmt::format("{}", fmt::join(l.designators, " "))});
   }
   h += table({"bin", "#take", "value", "kind", "tol", "rating", "dielectric", "designators"}, rows);
@@ -603,7 +603,7 @@ std::string pick_section(const ReportInput& in) {
   if (!p.short_items.empty()) {
     h += "<h3 class=\"warn\">Short</h3><ul>";
     for (const auto& s : p.short_items)
-      h += fmt::format("<li>{} \u00d7 {} for {}</li>", s.qty, esc(item_value_text(s.kind, s.value, s.device)),
+      h += fmt::format("<li>{} \u00d7 {} for {}</li>", s.qty, esc(build::item_value_text(s.kind, s.value, s.device)),
                        esc(fmt::format("{}", fmt::join(s.designators, " "))));
     h += "</ul>";
   }

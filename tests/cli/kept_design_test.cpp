@@ -1,5 +1,5 @@
 // Tests of kept designs read back: the request and candidate round trip, copies, and the
-// pick list as a withdrawal plan.
+// build plan as a withdrawal plan.
 #include "kept_design.hpp"
 
 #include <doctest/doctest.h>
@@ -27,14 +27,14 @@ TEST_CASE("load_kept: the design as `design --json` printed it, copies from the 
   CHECK(cli::load_kept(db, shelf.design.substr(0, 5)).saved.id == shelf.design);
 }
 
-TEST_CASE("pick_planner: the pick list's lines as withdrawals, or the shortfall as text") {
+TEST_CASE("pick_planner: the build plan's lines as withdrawals, or the shortfall as text") {
   DemoShelf shelf;
   auto db = store::Database::open(shelf.db);
   const auto d = cli::load_kept(db, shelf.design);
   const auto stock = db.parts();
   const auto plan = cli::pick_planner(d.candidate, 1)(stock, {});
   CHECK(plan.short_text.empty());
-  const auto pick = report::make_pick_list(d.candidate, 1, stock);
+  const auto pick = build::plan_build(d.candidate, 1, stock);
   REQUIRE(plan.take.size() == pick.lines.size());
   for (std::size_t i = 0; i < plan.take.size(); ++i) {
     CHECK(plan.take[i].part_id == pick.lines[i].part_id);
