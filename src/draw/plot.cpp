@@ -243,18 +243,25 @@ Frame frame_of(const Plot& p) {
   return f;
 }
 
-std::string Plot::svg() const {
-  const Frame f = frame_of(*this);
+namespace {
+
+/// The ticks of both axes over the frame's settled ranges.
+struct FrameTicks {
+  Settled x, y;
+};
+
+FrameTicks frame_ticks(const Plot& p, const Frame& f) {
   Extent ex, ey;  // only for the ticks
   ex.log = f.x_log;
   ey.log = f.y_log;
-  Axis ax = x, ay = y;
+  Axis ax = p.x, ay = p.y;
   ax.fixed = ay.fixed = true;
   ax.lo = f.x_lo, ax.hi = f.x_hi, ay.lo = f.y_lo, ay.hi = f.y_hi;
-  const Settled sx = settle(ax, ex), sy = settle(ay, ey);
+  return {settle(ax, ex), settle(ay, ey)};
+}
 
-  Svg s(width, height, title);
-  const std::string clip = (id.empty() ? std::string("plot") : id) + "-area";
+/// The clip path of the plot area, the title and the area's paper.
+void draw_background(Svg& s, const Frame& f, const std::string& clip, const std::string& title) {
   s.open("defs");
   s.open("clipPath", {}, {{"id", clip}});
   s.rect(f.left, f.top, f.right - f.left, f.bottom - f.top, {});
@@ -262,33 +269,36 @@ std::string Plot::svg() const {
   s.close();
   s.text({f.left, 17}, title, 13, "start", kInk, "bold");
   s.rect(f.left, f.top, f.right - f.left, f.bottom - f.top, Paint().stroke("none").fill(palette::paper));
+}
 
-  // Grid.
+void draw_grid(Svg& s, const Frame& f, const FrameTicks& t) {
   s.open("g", Paint().stroke("", 1), {{"class", "grid"}});
-  for (const auto& t : sx.ticks) {
-    const double px = f.to_px({t.value, f.y_lo}).x;
-    s.line({px, f.top}, {px, f.bottom}, Paint().stroke(t.major ? kGridMajor : kGridMinor));
+  for (const auto& k : t.x.ticks) {
+    const double px = f.to_px({k.value, f.y_lo}).x;
+    s.line({px, f.top}, {px, f.bottom}, Paint().stroke(k.major ? kGridMajor : kGridMinor));
   }
-  for (const auto& t : sy.ticks) {
-    const double py = f.to_px({f.x_lo, t.value}).y;
-    s.line({f.left, py}, {f.right, py}, Paint().stroke(t.major ? kGridMajor : kGridMinor));
+  for (const auto& k : t.y.ticks) {
+    const double py = f.to_px({f.x_lo, k.value}).y;
+    s.line({f.left, py}, {f.right, py}, Paint().stroke(k.major ? kGridMajor : kGridMinor));
   }
   s.close();
+}
 
-  // Data, clipped to the plot area.
-  s.open("g", {}, {{"clip-path", "url(#" + clip + ")"}});
-  for (const auto& sp : spans) {
+/// The shaded layers: spans across the plot's height, regions, and envelopes (hi forward,
+/// lo back).
+void draw_areas(Svg& s, const Frame& f, const Plot& p) {
+  for (const auto& sp : p.spans) {
     const double a = f.to_px({sp.x0, f.y_lo}).x, b = f.to_px({sp.x1, f.y_lo}).x;
     s.rect(std::min(a, b), f.top, std::abs(b - a), f.bottom - f.top,
            Paint().stroke("none").fill(sp.colour).opacity(sp.opacity));
   }
-  for (const auto& r : regions) {
+  for (const auto& r : p.regions) {
     std::vector<Point> px;
     for (const auto& pt : r.points)
       if (finite(pt)) px.push_back(f.to_px(pt));
     s.polygon(px, Paint().stroke(r.colour, 1).fill(r.colour).opacity(r.opacity));
   }
-  for (const auto& e : envelopes) {
+  for (const auto& e : p.envelopes) {
     std::vector<Point> px;
     const std::size_t n = std::min({e.x.size(), e.lo.size(), e.hi.size()});
     for (std::size_t i = 0; i < n; ++i)
@@ -297,7 +307,11 @@ std::string Plot::svg() const {
       if (std::isfinite(e.lo[i])) px.push_back(f.to_px({e.x[i], e.lo[i]}));
     s.polygon(px, Paint().stroke("none").fill(e.colour).opacity(e.opacity));
   }
-  for (const auto& se : series) {
+}
+
+/// The series as polylines, broken where a point cannot be drawn; then the clouds' markers.
+void draw_lines_and_marks(Svg& s, const Frame& f, const Plot& p) {
+  for (const auto& se : p.series) {
     std::vector<Point> run;
     auto flush = [&] {
       s.polyline(run, Paint().stroke(se.colour, se.width).fill("none").dash(se.dash).round());
@@ -312,61 +326,84 @@ std::string Plot::svg() const {
     }
     flush();
   }
-  for (const auto& c : clouds) {
+  for (const auto& c : p.clouds) {
     const Paint paint = c.hollow ? Paint().stroke(c.colour, 1.5).fill("none").opacity(c.opacity)
                                  : Paint().stroke("none").fill(c.colour).opacity(c.opacity);
     for (const auto& pt : c.points)
       if (finite(pt)) s.circle(f.to_px(pt), c.radius, paint);
   }
-  s.close();
+}
 
-  // Frame, ticks and labels.
+/// The frame, the ticks with their labels, and the axis titles.
+void draw_axes(Svg& s, const Frame& f, const FrameTicks& t, const Plot& p) {
   s.rect(f.left, f.top, f.right - f.left, f.bottom - f.top, Paint().stroke(kInk, 1).fill("none"));
-  for (const auto& t : sx.ticks) {
-    const double px = f.to_px({t.value, f.y_lo}).x;
-    s.line({px, f.bottom}, {px, f.bottom + (t.major ? 5 : 3)}, Paint().stroke(kInk, 1));
-    if (!t.label.empty()) s.text({px, f.bottom + 16}, t.label, kFont, "middle", kInk);
+  for (const auto& k : t.x.ticks) {
+    const double px = f.to_px({k.value, f.y_lo}).x;
+    s.line({px, f.bottom}, {px, f.bottom + (k.major ? 5 : 3)}, Paint().stroke(kInk, 1));
+    if (!k.label.empty()) s.text({px, f.bottom + 16}, k.label, kFont, "middle", kInk);
   }
-  for (const auto& t : sy.ticks) {
-    const double py = f.to_px({f.x_lo, t.value}).y;
+  for (const auto& k : t.y.ticks) {
+    const double py = f.to_px({f.x_lo, k.value}).y;
     s.line({f.left - 4, py}, {f.left, py}, Paint().stroke(kInk, 1));
-    s.text({f.left - 7, py + 4}, t.label, kFont, "end", kInk);
+    s.text({f.left - 7, py + 4}, k.label, kFont, "end", kInk);
   }
-  s.text({(f.left + f.right) / 2, f.bottom + 32}, x.title, kFont + 1, "middle", kInk);
+  s.text({(f.left + f.right) / 2, f.bottom + 32}, p.x.title, kFont + 1, "middle", kInk);
   const Point yt{15, (f.top + f.bottom) / 2};
-  s.text(yt, y.title, kFont + 1, "middle", kInk, {},
+  s.text(yt, p.y.title, kFont + 1, "middle", kInk, {},
          {{"transform", fmt::format("rotate(-90 {} {})", num(yt.x), num(yt.y))}});
+}
 
-  // Legend rows and notes under the x title.
-  const auto items = legend_items(*this);
-  const auto rows = legend_rows(items, width);
+/// One legend entry's key (line, swatch or dot) at (lx, ly) and its name after it.
+void draw_legend_item(Svg& s, const LegendItem& it, double lx, double ly) {
+  switch (it.kind) {
+    case LegendItem::line:
+      s.line({lx, ly - 4}, {lx + 20, ly - 4},
+             Paint().stroke(it.colour, it.width).dash(it.dash).round());
+      break;
+    case LegendItem::swatch:
+      s.rect(lx, ly - 10, 20, 11, Paint().stroke(it.colour, 1).fill(it.colour).opacity(it.opacity));
+      break;
+    case LegendItem::dot:
+      if (it.dash == "hollow")
+        s.circle({lx + 10, ly - 4}, 3.5, Paint().stroke(it.colour, 1.5).fill("none"));
+      else
+        s.circle({lx + 10, ly - 4}, 3.5, Paint().stroke("none").fill(it.colour).opacity(it.opacity));
+      break;
+  }
+  s.text({lx + 26, ly}, it.name, kFont, "start", kInk);
+}
+
+/// The legend rows and the notes under the x title.
+void draw_legend(Svg& s, const Frame& f, const Plot& p) {
+  const auto items = legend_items(p);
+  const auto rows = legend_rows(items, p.width);
   double ly = f.bottom + kAxisBelow + 12;
   for (const auto& row : rows) {
-    for (const auto& [lx, i] : row) {
-      const auto& it = items[i];
-      switch (it.kind) {
-        case LegendItem::line:
-          s.line({lx, ly - 4}, {lx + 20, ly - 4},
-                 Paint().stroke(it.colour, it.width).dash(it.dash).round());
-          break;
-        case LegendItem::swatch:
-          s.rect(lx, ly - 10, 20, 11, Paint().stroke(it.colour, 1).fill(it.colour).opacity(it.opacity));
-          break;
-        case LegendItem::dot:
-          if (it.dash == "hollow")
-            s.circle({lx + 10, ly - 4}, 3.5, Paint().stroke(it.colour, 1.5).fill("none"));
-          else
-            s.circle({lx + 10, ly - 4}, 3.5, Paint().stroke("none").fill(it.colour).opacity(it.opacity));
-          break;
-      }
-      s.text({lx + 26, ly}, it.name, kFont, "start", kInk);
-    }
+    for (const auto& [lx, i] : row) draw_legend_item(s, items[i], lx, ly);
     ly += kLegendRow;
   }
-  for (const auto& n : notes) {
+  for (const auto& n : p.notes) {
     s.text({kLeft, ly}, n, kFont, "start", palette::muted);
     ly += kLegendRow;
   }
+}
+
+}  // namespace
+
+std::string Plot::svg() const {
+  const Frame f = frame_of(*this);
+  const FrameTicks ticks = frame_ticks(*this, f);
+  Svg s(width, height, title);
+  const std::string clip = (id.empty() ? std::string("plot") : id) + "-area";
+  draw_background(s, f, clip, title);
+  draw_grid(s, f, ticks);
+  // Data, clipped to the plot area.
+  s.open("g", {}, {{"clip-path", "url(#" + clip + ")"}});
+  draw_areas(s, f, *this);
+  draw_lines_and_marks(s, f, *this);
+  s.close();
+  draw_axes(s, f, ticks, *this);
+  draw_legend(s, f, *this);
   bool any = !series.empty() || !envelopes.empty() || !clouds.empty() || !regions.empty();
   if (!any) s.text({(f.left + f.right) / 2, (f.top + f.bottom) / 2}, "no data", kFont + 2, "middle", palette::muted);
   return s.str();

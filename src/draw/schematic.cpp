@@ -225,113 +225,163 @@ bool is_transistor(SymbolKind k) {
   return k == SymbolKind::njfet || k == SymbolKind::pjfet || k == SymbolKind::npn || k == SymbolKind::pnp;
 }
 
-}  // namespace
-
-Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
-  Schematic s;
-  s.width = kWidth;
-  s.height = kHeight;
-  for (std::size_t v = 0; v < c.net_count(); ++v) s.net_names.push_back(c.net_name(v));
-
-  // NOTES 3a: a stage turned over on its rail: the supply's sign against the device's polarity.
+// NOTES 3a: a stage turned over on its rail: the supply's sign against the device's polarity.
+bool turned_over(const circuit::Circuit& c) {
   bool flipped = false;
-  {
-    double rail = 1;
-    if (const auto* vdd = c.find("VDD")) rail = vdd->c.value < 0 ? -1 : 1;
-    for (const auto& el : c.elements()) {
-      if (el.c.kind == ElementKind::jfet) flipped = (c.jfets()[el.c.device].kind == devices::DeviceKind::pjfet) == (rail > 0);
-      if (el.c.kind == ElementKind::bjt) flipped = (c.bjts()[el.c.device].kind == devices::DeviceKind::pnp) == (rail > 0);
-    }
+  double rail = 1;
+  if (const auto* vdd = c.find("VDD")) rail = vdd->c.value < 0 ? -1 : 1;
+  for (const auto& el : c.elements()) {
+    if (el.c.kind == ElementKind::jfet) flipped = (c.jfets()[el.c.device].kind == devices::DeviceKind::pjfet) == (rail > 0);
+    if (el.c.kind == ElementKind::bjt) flipped = (c.bjts()[el.c.device].kind == devices::DeviceKind::pnp) == (rail > 0);
   }
-  // A net as the stage's N frame names it (the rails swap places in a turned-over stage).
-  auto n_frame = [&](std::string_view net) -> std::string_view {
+  return flipped;
+}
+
+bool is_bench_role(std::string_view role) {
+  return role == "supply" || role == "signal" || role == "source" || role == "load" || role == "load capacitance";
+}
+
+/// What placing a part needs: the circuit, the caller's options, whether the stage is
+/// turned over, and the pins placed so far.
+struct Placing {
+  const circuit::Circuit& c;
+  const SchematicOptions& o;
+  bool flipped = false;
+  std::vector<PlacedPin>& pins;
+
+  /// A net as the stage's N frame names it (the rails swap places in a turned-over stage).
+  std::string_view n_frame(std::string_view net) const {
     if (!flipped) return net;
     if (net == "vdd") return "0";
     if (net == "0") return "vdd";
     return net;
-  };
-  auto is_bench_role = [](std::string_view role) {
-    return role == "supply" || role == "signal" || role == "source" || role == "load" || role == "load capacitance";
-  };
-
-  for (const auto& el : c.elements()) {
-    const auto& e = el.c;
-    auto slot = slot_for(e.role, o);
-    const bool mirrored = flipped && !is_bench_role(e.role);
-    if (slot && mirrored) {
-      slot->y = kRailSupply + kRailGround - slot->y;
-      if (slot->side == Side::above)
-        slot->side = Side::below;
-      else if (slot->side == Side::below)
-        slot->side = Side::above;
-    }
-    if (!slot)
-      throw InputError(fmt::format("schematic: no place for {} (role '{}'); neither the drawing template nor the stage places it",
-                                   e.designator, e.role));
-    const auto it = o.notes.find(e.designator);
-    const PartNote* note = it == o.notes.end() ? nullptr : &it->second;
-    PlacedSymbol sym;
-    sym.designator = e.designator;
-    sym.role = e.role;
-    sym.kind = symbol_kind(c, e, note);
-    sym.centre = {slot->x, slot->y};
-    sym.vertical = slot->vertical;
-    sym.label_side = slot->side;
-    sym.bench = std::find(o.bench.begin(), o.bench.end(), e.designator) != o.bench.end();
-    const Point q = sym.centre;
-    if (is_transistor(sym.kind)) {
-      // Pins in SPICE order: drain/collector on top, gate/base to the left, source/emitter below
-      // (the other way up in a turned-over stage).
-      const double m = mirrored ? -1 : 1;
-      sym.flipped = mirrored;
-      s.pins.push_back({e.designator, 0, e.pins[0], {q.x + 1, q.y - 2 * m}, {0, -m}});
-      s.pins.push_back({e.designator, 1, e.pins[1], {q.x - 2, q.y}, {-1, 0}});
-      s.pins.push_back({e.designator, 2, e.pins[2], {q.x + 1, q.y + 2 * m}, {0, m}});
-      sym.body = {q.x - 1.2, q.y - 1.6, q.x + 1.85, q.y + 1.6};
-    } else {
-      const std::string n0 = c.net_name(e.pins[0]), n1 = c.net_name(e.pins[1]);
-      // A mirrored part ranks its ends as the N frame does, upside down.
-      auto v_rank = [&](const std::string& n) { return mirrored ? 5.0 - vertical_rank(n_frame(n), o) : vertical_rank(n, o); };
-      sym.first_end = sym.vertical ? (v_rank(n0) <= v_rank(n1) ? 0 : 1)
-                                   : (horizontal_rank(n0) <= horizontal_rank(n1) ? 0 : 1);
-      const std::size_t second = 1 - sym.first_end;
-      const Point d = sym.vertical ? Point{0, 1} : Point{1, 0};
-      s.pins.push_back({e.designator, sym.first_end, e.pins[sym.first_end], {q.x - 2 * d.x, q.y - 2 * d.y},
-                        {-d.x, -d.y}});
-      s.pins.push_back({e.designator, second, e.pins[second], {q.x + 2 * d.x, q.y + 2 * d.y}, d});
-      sym.body = sym.vertical ? Box{q.x - 0.6, q.y - 1.3, q.x + 0.6, q.y + 1.3}
-                              : Box{q.x - 1.3, q.y - 0.6, q.x + 1.3, q.y + 0.6};
-      if (sym.kind == SymbolKind::ac_source || sym.kind == SymbolKind::dc_source)
-        sym.body = {q.x - 1, q.y - 1.2, q.x + 1, q.y + 1.2};
-      // The + terminal: a source's first pin when its value is positive (SPICE: plus,
-      // minus); an electrolytic's pin on the noted net.
-      if (sym.kind == SymbolKind::dc_source) sym.plus_pin = e.value >= 0 ? 0 : 1;
-      if (sym.kind == SymbolKind::electrolytic) {
-        if (c.net_name(e.pins[0]) == note->plus_net)
-          sym.plus_pin = 0;
-        else if (c.net_name(e.pins[1]) == note->plus_net)
-          sym.plus_pin = 1;
-        else
-          throw InputError(fmt::format("schematic: {} is polarised with its + lead on net '{}', which is not one of "
-                                       "its nets ({}, {})",
-                                       e.designator, note->plus_net, n0, n1));
-      }
-    }
-    // Labels: designator (and role), value, detail.
-    std::string first = e.designator;
-    if (!sym.bench && e.role != "device" && e.role != "supply" && e.role != e.designator) first += " " + e.role;
-    sym.label.push_back(first);
-    const std::string value = note && !note->value.empty() ? note->value : default_value(e);
-    if (!value.empty()) sym.label.push_back(value);
-    if (note && !note->detail.empty()) sym.label.push_back(note->detail);
-    s.symbols.push_back(std::move(sym));
   }
+};
 
+/// The slot of a part (NOTES 2), mirrored top to bottom when `mirrored` (NOTES 3a); an
+/// InputError when neither the template nor the stage places its role.
+Slot slot_of(const Placing& pl, const circuit::Component& e, bool mirrored) {
+  auto slot = slot_for(e.role, pl.o);
+  if (slot && mirrored) {
+    slot->y = kRailSupply + kRailGround - slot->y;
+    if (slot->side == Side::above)
+      slot->side = Side::below;
+    else if (slot->side == Side::below)
+      slot->side = Side::above;
+  }
+  if (!slot)
+    throw InputError(fmt::format("schematic: no place for {} (role '{}'); neither the drawing template nor the stage places it",
+                                 e.designator, e.role));
+  return *slot;
+}
+
+/// A transistor's pins and body.
+void place_transistor(const Placing& pl, PlacedSymbol& sym, const circuit::Component& e, bool mirrored) {
+  const Point q = sym.centre;
+  // Pins in SPICE order: drain/collector on top, gate/base to the left, source/emitter below
+  // (the other way up in a turned-over stage).
+  const double m = mirrored ? -1 : 1;
+  sym.flipped = mirrored;
+  pl.pins.push_back({e.designator, 0, e.pins[0], {q.x + 1, q.y - 2 * m}, {0, -m}});
+  pl.pins.push_back({e.designator, 1, e.pins[1], {q.x - 2, q.y}, {-1, 0}});
+  pl.pins.push_back({e.designator, 2, e.pins[2], {q.x + 1, q.y + 2 * m}, {0, m}});
+  sym.body = {q.x - 1.2, q.y - 1.6, q.x + 1.85, q.y + 1.6};
+}
+
+/// A two-terminal part's pins (its ends ordered as NOTES 3 ranks their nets), body and +
+/// terminal.
+void place_two_terminal(const Placing& pl, PlacedSymbol& sym, const circuit::Component& e, const PartNote* note,
+                        bool mirrored) {
+  const Point q = sym.centre;
+  const std::string n0 = pl.c.net_name(e.pins[0]), n1 = pl.c.net_name(e.pins[1]);
+  // A mirrored part ranks its ends as the N frame does, upside down.
+  auto v_rank = [&](const std::string& n) {
+    return mirrored ? 5.0 - vertical_rank(pl.n_frame(n), pl.o) : vertical_rank(n, pl.o);
+  };
+  sym.first_end = sym.vertical ? (v_rank(n0) <= v_rank(n1) ? 0 : 1)
+                               : (horizontal_rank(n0) <= horizontal_rank(n1) ? 0 : 1);
+  const std::size_t second = 1 - sym.first_end;
+  const Point d = sym.vertical ? Point{0, 1} : Point{1, 0};
+  pl.pins.push_back({e.designator, sym.first_end, e.pins[sym.first_end], {q.x - 2 * d.x, q.y - 2 * d.y},
+                     {-d.x, -d.y}});
+  pl.pins.push_back({e.designator, second, e.pins[second], {q.x + 2 * d.x, q.y + 2 * d.y}, d});
+  sym.body = sym.vertical ? Box{q.x - 0.6, q.y - 1.3, q.x + 0.6, q.y + 1.3}
+                          : Box{q.x - 1.3, q.y - 0.6, q.x + 1.3, q.y + 0.6};
+  if (sym.kind == SymbolKind::ac_source || sym.kind == SymbolKind::dc_source)
+    sym.body = {q.x - 1, q.y - 1.2, q.x + 1, q.y + 1.2};
+  // The + terminal: a source's first pin when its value is positive (SPICE: plus,
+  // minus); an electrolytic's pin on the noted net.
+  if (sym.kind == SymbolKind::dc_source) sym.plus_pin = e.value >= 0 ? 0 : 1;
+  if (sym.kind == SymbolKind::electrolytic) {
+    if (n0 == note->plus_net)
+      sym.plus_pin = 0;
+    else if (n1 == note->plus_net)
+      sym.plus_pin = 1;
+    else
+      throw InputError(fmt::format("schematic: {} is polarised with its + lead on net '{}', which is not one of "
+                                   "its nets ({}, {})",
+                                   e.designator, note->plus_net, n0, n1));
+  }
+}
+
+/// Labels: designator (and role), value, detail.
+void label(PlacedSymbol& sym, const circuit::Component& e, const PartNote* note) {
+  std::string first = e.designator;
+  if (!sym.bench && e.role != "device" && e.role != "supply" && e.role != e.designator) first += " " + e.role;
+  sym.label.push_back(first);
+  const std::string value = note && !note->value.empty() ? note->value : default_value(e);
+  if (!value.empty()) sym.label.push_back(value);
+  if (note && !note->detail.empty()) sym.label.push_back(note->detail);
+}
+
+/// One part's symbol at its slot, its pins added to pl.pins.
+PlacedSymbol place(const Placing& pl, const circuit::Component& e) {
+  const bool mirrored = pl.flipped && !is_bench_role(e.role);
+  const Slot slot = slot_of(pl, e, mirrored);
+  const auto it = pl.o.notes.find(e.designator);
+  const PartNote* note = it == pl.o.notes.end() ? nullptr : &it->second;
+  PlacedSymbol sym;
+  sym.designator = e.designator;
+  sym.role = e.role;
+  sym.kind = symbol_kind(pl.c, e, note);
+  sym.centre = {slot.x, slot.y};
+  sym.vertical = slot.vertical;
+  sym.label_side = slot.side;
+  sym.bench = std::find(pl.o.bench.begin(), pl.o.bench.end(), e.designator) != pl.o.bench.end();
+  if (is_transistor(sym.kind))
+    place_transistor(pl, sym, e, mirrored);
+  else
+    place_two_terminal(pl, sym, e, note, mirrored);
+  label(sym, e, note);
+  return sym;
+}
+
+/// The wires of one net (NOTES 4): along its rail, or the cheapest trunk through one of its
+/// pins; an InputError when every way crosses a part.
+std::vector<Wire> route_net(const Router& r, const circuit::Circuit& c, const std::vector<PlacedPin>& pins,
+                            std::size_t net) {
+  std::pair<std::vector<Wire>, double> best{{}, std::numeric_limits<double>::infinity()};
+  if (is_rail(c.net_name(net))) {
+    best = r.along(pins, false, c.net_name(net) == "vdd" ? kRailSupply : kRailGround, net);
+  } else {
+    for (const auto& p : pins)
+      for (bool vertical : {true, false}) {
+        auto cand = r.along(pins, vertical, vertical ? p.at.x : p.at.y, net);
+        if (cand.second < best.second) best = std::move(cand);
+      }
+  }
+  if (best.second >= kForbidden)
+    throw InputError(fmt::format("schematic: net '{}' cannot be wired without crossing a part", c.net_name(net)));
+  return best.first;
+}
+
+/// Wires every net: the rails first (NOTES 4), then the rest in net order, each avoiding
+/// the wires before it.
+void route(const circuit::Circuit& c, Schematic& s) {
   Router r;
   for (const auto& sym : s.symbols) r.bodies.push_back(sym.body);
   r.all_pins = s.pins;
 
-  // Nets: the rails first (NOTES 4), then the rest in net order.
   std::vector<std::size_t> order;
   for (std::size_t v = 0; v < c.net_count(); ++v)
     if (is_rail(c.net_name(v))) order.push_back(v);
@@ -344,26 +394,15 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
       if (p.net == net) pins.push_back(p);
     if (pins.size() < 2 && !is_rail(c.net_name(net))) continue;
     if (pins.empty()) continue;
-    std::pair<std::vector<Wire>, double> best{{}, std::numeric_limits<double>::infinity()};
-    if (is_rail(c.net_name(net))) {
-      best = r.along(pins, false, c.net_name(net) == "vdd" ? kRailSupply : kRailGround, net);
-    } else {
-      for (const auto& p : pins)
-        for (bool vertical : {true, false}) {
-          auto cand = r.along(pins, vertical, vertical ? p.at.x : p.at.y, net);
-          if (cand.second < best.second) best = std::move(cand);
-        }
-    }
-    if (best.second >= kForbidden)
-      throw InputError(fmt::format("schematic: net '{}' cannot be wired without crossing a part",
-                                   c.net_name(net)));
-    for (const auto& w : best.first) {
+    for (const auto& w : route_net(r, c, pins, net)) {
       s.wires.push_back(w);
       r.done.push_back(w);
     }
   }
+}
 
-  // NOTES 5: junctions.
+// NOTES 5: junctions.
+void add_junctions(Schematic& s) {
   std::vector<Point> points;
   for (const auto& w : s.wires) points.push_back(w.a), points.push_back(w.b);
   for (const auto& p : s.pins) points.push_back(p.at);
@@ -380,8 +419,10 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
       if (same(q.at, p)) degree += 1;
     if (degree >= 3) s.junctions.push_back(p);
   }
+}
 
-  // Marks: the stage's input and output terminals, the supply rail's name; the ground sign.
+/// The stage's input and output terminals, each at the first pin of a stage part on its net.
+void add_terminal_marks(const circuit::Circuit& c, const SchematicOptions& o, Schematic& s) {
   auto bench_part = [&](const std::string& d) { return std::find(o.bench.begin(), o.bench.end(), d) != o.bench.end(); };
   for (const auto& [name, text] : {std::pair<std::string, std::string>{"in", "in"}, {"out", "out"}}) {
     const auto v = c.find_net(name);
@@ -392,6 +433,10 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
         break;
       }
   }
+}
+
+/// The supply rail's name at its left end; the ground sign at the ground rail's left end.
+void add_rail_marks(const circuit::Circuit& c, Schematic& s) {
   double supply_left = kWidth, ground_left = kWidth;
   for (const auto& w : s.wires) {
     if (c.net_name(w.net) == "vdd") supply_left = std::min({supply_left, w.a.x, w.b.x});
@@ -405,6 +450,21 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
     s.marks.push_back({*vdd, {supply_left, kRailSupply}, text, false});
   }
   s.ground_symbol = {ground_left < kWidth ? ground_left : 2, kRailGround};
+}
+
+}  // namespace
+
+Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
+  Schematic s;
+  s.width = kWidth;
+  s.height = kHeight;
+  for (std::size_t v = 0; v < c.net_count(); ++v) s.net_names.push_back(c.net_name(v));
+  const Placing pl{c, o, turned_over(c), s.pins};
+  for (const auto& el : c.elements()) s.symbols.push_back(place(pl, el.c));
+  route(c, s);
+  add_junctions(s);
+  add_terminal_marks(c, o, s);
+  add_rail_marks(c, s);
   return s;
 }
 
@@ -450,98 +510,124 @@ void arrow(const Pen& pen, Point tip, Point dir, const std::string& colour) {
              colour);
 }
 
+/// What every symbol is drawn with: the pen, the part, its ink, the lead width, its local
+/// frame, and the side (-1: the first end, +1: the second) its + terminal is on.
+struct Stroke {
+  const Pen& pen;
+  const PlacedSymbol& s;
+  std::string ink;
+  double w;
+  Local L;
+  double plus_side;
+};
+
+void draw_resistor(const Stroke& k) {
+  const Pen& pen = k.pen;
+  pen.line(k.L.at(-2, 0), k.L.at(-1.1, 0), k.ink, k.w);
+  pen.line(k.L.at(1.1, 0), k.L.at(2, 0), k.ink, k.w);
+  const Point a = pen.px(k.L.at(-1.1, -0.38)), b = pen.px(k.L.at(1.1, 0.38));
+  pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
+               Paint().stroke(k.ink, k.w).fill(k.s.bench ? palette::bench_fill : kResistorFill),
+               {{"rx", "3"}});
+}
+
+void draw_capacitor(const Stroke& k) {
+  k.pen.line(k.L.at(-2, 0), k.L.at(-0.2, 0), k.ink, k.w);
+  k.pen.line(k.L.at(0.2, 0), k.L.at(2, 0), k.ink, k.w);
+  k.pen.line(k.L.at(-0.2, -0.8), k.L.at(-0.2, 0.8), k.ink, 3);
+  k.pen.line(k.L.at(0.2, -0.8), k.L.at(0.2, 0.8), k.ink, 3);
+}
+
+void draw_electrolytic(const Stroke& k) {
+  const Pen& pen = k.pen;
+  // The + plate an open bar, the - plate a solid one, and a + sign by the + lead.
+  const double p = k.plus_side;
+  pen.line(k.L.at(-2, 0), k.L.at(-0.4 * 1, 0), k.ink, k.w);
+  pen.line(k.L.at(0.4, 0), k.L.at(2, 0), k.ink, k.w);
+  const Point a = pen.px(k.L.at(0.18 * p, -0.8)), b = pen.px(k.L.at(0.4 * p, 0.8));
+  pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
+               Paint().stroke(k.ink, 1.6).fill(palette::blank));
+  const Point c = pen.px(k.L.at(-0.18 * p, -0.8)), d = pen.px(k.L.at(-0.4 * p, 0.8));
+  pen.svg.rect(std::min(c.x, d.x), std::min(c.y, d.y), std::abs(d.x - c.x), std::abs(d.y - c.y),
+               Paint().stroke(k.ink, 1.6).fill(k.ink));
+  // The + sign on the side away from the label (across: +x for a vertical part, +y for a
+  // horizontal one).
+  const double across = k.s.label_side == Side::right || k.s.label_side == Side::below ? -0.75 : 0.75;
+  plus_sign(pen, k.L.at(0.95 * p, across), kValue);
+}
+
+void draw_dc_source(const Stroke& k) {
+  const double p = k.plus_side;
+  k.pen.line(k.L.at(-2, 0), k.L.at(-0.22, 0), k.ink, k.w);
+  k.pen.line(k.L.at(0.22, 0), k.L.at(2, 0), k.ink, k.w);
+  k.pen.line(k.L.at(0.22 * p, -0.85), k.L.at(0.22 * p, 0.85), k.ink, 1.8);   // long plate: +
+  k.pen.line(k.L.at(-0.22 * p, -0.45), k.L.at(-0.22 * p, 0.45), k.ink, 4);  // short plate: -
+  plus_sign(k.pen, k.L.at(0.75 * p, -0.7), kValue);
+}
+
+void draw_ac_source(const Stroke& k) {
+  const Pen& pen = k.pen;
+  const Point q = k.s.centre;
+  pen.line(k.L.at(-2, 0), k.L.at(-0.9, 0), k.ink, k.w);
+  pen.line(k.L.at(0.9, 0), k.L.at(2, 0), k.ink, k.w);
+  pen.svg.circle(pen.px(q), 0.9 * pen.u, Paint().stroke(k.ink, k.w).fill(palette::blank));
+  std::vector<Point> wave;
+  for (int i = 0; i <= 16; ++i) {
+    const double t = i / 16.0;
+    wave.push_back({q.x - 0.55 + 1.1 * t, q.y - 0.3 * std::sin(2 * std::numbers::pi * t)});
+  }
+  pen.polyline(wave, k.ink, 1.5);
+}
+
+void draw_jfet(const Stroke& k) {
+  const Pen& pen = k.pen;
+  const std::string& ink = k.ink;
+  const double w = k.w;
+  const Point q = k.s.centre;
+  const double m = k.s.flipped ? -1 : 1;  // drain on top, or (turned over) at the bottom
+  pen.svg.circle(pen.px({q.x + 0.35, q.y}), 1.45 * pen.u, Paint().stroke(ink, 1.2).fill(kDeviceFill));
+  pen.line({q.x - 0.1, q.y - 1.1}, {q.x - 0.1, q.y + 1.1}, ink, 3.2);
+  pen.polyline({{q.x - 0.1, q.y - 0.7 * m}, {q.x + 1, q.y - 0.7 * m}, {q.x + 1, q.y - 2 * m}}, ink, w);
+  pen.polyline({{q.x - 0.1, q.y + 0.7 * m}, {q.x + 1, q.y + 0.7 * m}, {q.x + 1, q.y + 2 * m}}, ink, w);
+  pen.line({q.x - 2, q.y}, {q.x - 0.1, q.y}, ink, w);
+  if (k.s.kind == SymbolKind::njfet)
+    arrow(pen, {q.x - 0.14, q.y}, {1, 0}, ink);  // N channel: the arrow points into the channel
+  else
+    arrow(pen, {q.x - 0.75, q.y}, {-1, 0}, ink);
+}
+
+void draw_bjt(const Stroke& k) {
+  const Pen& pen = k.pen;
+  const std::string& ink = k.ink;
+  const double w = k.w;
+  const Point q = k.s.centre;
+  const double m = k.s.flipped ? -1 : 1;  // collector on top, or (turned over) at the bottom
+  pen.svg.circle(pen.px({q.x + 0.35, q.y}), 1.45 * pen.u, Paint().stroke(ink, 1.2).fill(kDeviceFill));
+  pen.line({q.x - 0.35, q.y - 0.9}, {q.x - 0.35, q.y + 0.9}, ink, 3.2);
+  pen.line({q.x - 2, q.y}, {q.x - 0.35, q.y}, ink, w);
+  pen.polyline({{q.x - 0.35, q.y - 0.4 * m}, {q.x + 1, q.y - 1.1 * m}, {q.x + 1, q.y - 2 * m}}, ink, w);
+  pen.polyline({{q.x - 0.35, q.y + 0.4 * m}, {q.x + 1, q.y + 1.1 * m}, {q.x + 1, q.y + 2 * m}}, ink, w);
+  const Point a{q.x - 0.35, q.y + 0.4 * m}, b{q.x + 1, q.y + 1.1 * m};
+  const Point d{b.x - a.x, b.y - a.y};
+  if (k.s.kind == SymbolKind::npn)
+    arrow(pen, {a.x + 0.85 * d.x, a.y + 0.85 * d.y}, d, ink);  // NPN: the emitter arrow points out
+  else
+    arrow(pen, {a.x + 0.2 * d.x, a.y + 0.2 * d.y}, {-d.x, -d.y}, ink);
+}
+
 void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
-  const std::string ink = s.bench ? kBench : kInk;
-  const double w = 1.8;
-  const Local L{s.centre, s.vertical};
-  // Which side (-1: the first end, +1: the second) the + terminal is on.
-  const double plus_side = s.plus_pin == s.first_end ? -1 : 1;
+  const Stroke k{pen, s, s.bench ? kBench : kInk, 1.8, Local{s.centre, s.vertical},
+                 s.plus_pin == s.first_end ? -1.0 : 1.0};
   switch (s.kind) {
-    case SymbolKind::resistor: {
-      pen.line(L.at(-2, 0), L.at(-1.1, 0), ink, w);
-      pen.line(L.at(1.1, 0), L.at(2, 0), ink, w);
-      const Point a = pen.px(L.at(-1.1, -0.38)), b = pen.px(L.at(1.1, 0.38));
-      pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
-                   Paint().stroke(ink, w).fill(s.bench ? palette::bench_fill : kResistorFill),
-                   {{"rx", "3"}});
-      break;
-    }
-    case SymbolKind::capacitor:
-      pen.line(L.at(-2, 0), L.at(-0.2, 0), ink, w);
-      pen.line(L.at(0.2, 0), L.at(2, 0), ink, w);
-      pen.line(L.at(-0.2, -0.8), L.at(-0.2, 0.8), ink, 3);
-      pen.line(L.at(0.2, -0.8), L.at(0.2, 0.8), ink, 3);
-      break;
-    case SymbolKind::electrolytic: {
-      // The + plate an open bar, the - plate a solid one, and a + sign by the + lead.
-      const double p = plus_side;
-      pen.line(L.at(-2, 0), L.at(-0.4 * 1, 0), ink, w);
-      pen.line(L.at(0.4, 0), L.at(2, 0), ink, w);
-      const Point a = pen.px(L.at(0.18 * p, -0.8)), b = pen.px(L.at(0.4 * p, 0.8));
-      pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
-                   Paint().stroke(ink, 1.6).fill(palette::blank));
-      const Point c = pen.px(L.at(-0.18 * p, -0.8)), d = pen.px(L.at(-0.4 * p, 0.8));
-      pen.svg.rect(std::min(c.x, d.x), std::min(c.y, d.y), std::abs(d.x - c.x), std::abs(d.y - c.y),
-                   Paint().stroke(ink, 1.6).fill(ink));
-      // The + sign on the side away from the label (across: +x for a vertical part, +y for a
-      // horizontal one).
-      const double across = s.label_side == Side::right || s.label_side == Side::below ? -0.75 : 0.75;
-      plus_sign(pen, L.at(0.95 * p, across), kValue);
-      break;
-    }
-    case SymbolKind::dc_source: {
-      const double p = plus_side;
-      pen.line(L.at(-2, 0), L.at(-0.22, 0), ink, w);
-      pen.line(L.at(0.22, 0), L.at(2, 0), ink, w);
-      pen.line(L.at(0.22 * p, -0.85), L.at(0.22 * p, 0.85), ink, 1.8);   // long plate: +
-      pen.line(L.at(-0.22 * p, -0.45), L.at(-0.22 * p, 0.45), ink, 4);  // short plate: -
-      plus_sign(pen, L.at(0.75 * p, -0.7), kValue);
-      break;
-    }
-    case SymbolKind::ac_source: {
-      pen.line(L.at(-2, 0), L.at(-0.9, 0), ink, w);
-      pen.line(L.at(0.9, 0), L.at(2, 0), ink, w);
-      pen.svg.circle(pen.px(s.centre), 0.9 * pen.u, Paint().stroke(ink, w).fill(palette::blank));
-      std::vector<Point> wave;
-      for (int i = 0; i <= 16; ++i) {
-        const double t = i / 16.0;
-        wave.push_back({s.centre.x - 0.55 + 1.1 * t, s.centre.y - 0.3 * std::sin(2 * std::numbers::pi * t)});
-      }
-      pen.polyline(wave, ink, 1.5);
-      break;
-    }
+    case SymbolKind::resistor: return draw_resistor(k);
+    case SymbolKind::capacitor: return draw_capacitor(k);
+    case SymbolKind::electrolytic: return draw_electrolytic(k);
+    case SymbolKind::dc_source: return draw_dc_source(k);
+    case SymbolKind::ac_source: return draw_ac_source(k);
     case SymbolKind::njfet:
-    case SymbolKind::pjfet: {
-      const Point q = s.centre;
-      const double m = s.flipped ? -1 : 1;  // drain on top, or (turned over) at the bottom
-      pen.svg.circle(pen.px({q.x + 0.35, q.y}), 1.45 * pen.u, Paint().stroke(ink, 1.2).fill(kDeviceFill));
-      pen.line({q.x - 0.1, q.y - 1.1}, {q.x - 0.1, q.y + 1.1}, ink, 3.2);
-      pen.polyline({{q.x - 0.1, q.y - 0.7 * m}, {q.x + 1, q.y - 0.7 * m}, {q.x + 1, q.y - 2 * m}}, ink, w);
-      pen.polyline({{q.x - 0.1, q.y + 0.7 * m}, {q.x + 1, q.y + 0.7 * m}, {q.x + 1, q.y + 2 * m}}, ink, w);
-      pen.line({q.x - 2, q.y}, {q.x - 0.1, q.y}, ink, w);
-      if (s.kind == SymbolKind::njfet)
-        arrow(pen, {q.x - 0.14, q.y}, {1, 0}, ink);  // N channel: the arrow points into the channel
-      else
-        arrow(pen, {q.x - 0.75, q.y}, {-1, 0}, ink);
-      break;
-    }
+    case SymbolKind::pjfet: return draw_jfet(k);
     case SymbolKind::npn:
-    case SymbolKind::pnp: {
-      const Point q = s.centre;
-      const double m = s.flipped ? -1 : 1;  // collector on top, or (turned over) at the bottom
-      pen.svg.circle(pen.px({q.x + 0.35, q.y}), 1.45 * pen.u, Paint().stroke(ink, 1.2).fill(kDeviceFill));
-      pen.line({q.x - 0.35, q.y - 0.9}, {q.x - 0.35, q.y + 0.9}, ink, 3.2);
-      pen.line({q.x - 2, q.y}, {q.x - 0.35, q.y}, ink, w);
-      pen.polyline({{q.x - 0.35, q.y - 0.4 * m}, {q.x + 1, q.y - 1.1 * m}, {q.x + 1, q.y - 2 * m}}, ink, w);
-      pen.polyline({{q.x - 0.35, q.y + 0.4 * m}, {q.x + 1, q.y + 1.1 * m}, {q.x + 1, q.y + 2 * m}}, ink, w);
-      const Point a{q.x - 0.35, q.y + 0.4 * m}, b{q.x + 1, q.y + 1.1 * m};
-      const Point d{b.x - a.x, b.y - a.y};
-      if (s.kind == SymbolKind::npn)
-        arrow(pen, {a.x + 0.85 * d.x, a.y + 0.85 * d.y}, d, ink);  // NPN: the emitter arrow points out
-      else
-        arrow(pen, {a.x + 0.2 * d.x, a.y + 0.2 * d.y}, {-d.x, -d.y}, ink);
-      break;
-    }
+    case SymbolKind::pnp: return draw_bjt(k);
   }
 }
 

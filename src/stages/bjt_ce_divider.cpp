@@ -70,6 +70,139 @@ struct CeLowResponse {
   }
 };
 
+// The bias point the divider sets.
+detail::BjtBias divider_bias(const Values& v, const devices::BjtInstance& t, const Conditions& c) {
+  const double vth = c.supply_v * v[R2] / (v[R1] + v[R2]);
+  const double rth = par(v[R1], v[R2]);
+  const double re_dc = v[RE1] + v[RE2];
+  return detail::bjt_bias(t, vth, rth, re_dc, v[RC], c.supply_v);
+}
+
+// The DC figures: bias current, node voltages, supply current; active unless saturated.
+void set_operating_point(Performance& p, const detail::BjtBias& b, const Values& v, const devices::BjtInstance& t,
+                         const Conditions& c) {
+  p.valid = true;
+  p.bias_current_a = b.ic_a;
+  p.v_in = b.vb_v;
+  p.v_common = b.ve_v;
+  p.v_out = b.vc_v;
+  const double idiv = (c.supply_v - b.vb_v) / v[R1];  // current in the upper leg
+  p.supply_current_a = b.ic_a + idiv;
+  p.active = b.vce_v > t.vce_sat_v;
+  if (!p.active) p.problem = fmt::format("saturated: VCE {:.2f} V", b.vce_v);
+}
+
+// The small-signal view of a conducting stage that the figures are worked from.
+struct CeSignal {
+  detail::BjtBias b;
+  double rth = 0;    // the divider's Thevenin resistance
+  double r_deg = 0;  // unbypassed emitter resistance
+  double gm = 0, rpi = 0, beta = 0, ro = 0;
+  double rs2 = 0;    // the base's source resistance
+  double rl_ac = 0;  // the collector's AC load
+};
+
+CeSignal ce_signal(const detail::BjtBias& b, const Values& v, const Conditions& c) {
+  CeSignal s;
+  s.b = b;
+  s.rth = par(v[R1], v[R2]);
+  s.r_deg = v[RE1] + (v[CE] > 0 ? 0.0 : v[RE2]);
+  s.gm = b.gm_s;
+  s.rpi = b.rpi_ohm;
+  s.beta = s.gm * s.rpi;
+  const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
+  s.rs2 = par(rsig, s.rth);
+  s.rl_ac = par(v[RC], c.load_ohm);
+  s.ro = b.ro_ohm;
+  return s;
+}
+
+// Mid-band input impedance, gain and output impedance.
+void set_mid_band(Performance& p, const CeSignal& s, const Values& v, const Conditions& c) {
+  const double rpi = s.rpi, beta = s.beta, ro = s.ro, r_deg = s.r_deg, rl_ac = s.rl_ac, rs2 = s.rs2;
+  // Resistance into the base with ro carrying part of the emitter current, from the
+  // hybrid-pi model with ro (the usual form for the common emitter with an emitter
+  // resistance):
+  // Rib = rpi + (beta + 1)*Rdeg*(ro + RL'/(beta + 1))/(ro + Rdeg + RL').
+  const double rib = std::isinf(ro) ? rpi + (beta + 1.0) * r_deg
+                                    : rpi + (beta + 1.0) * r_deg * (ro + rl_ac / (beta + 1.0)) / (ro + r_deg + rl_ac);
+  p.zin_ohm = par(s.rth, rib);
+  // Output resistance of the degenerated transistor with a source resistance Rs'' at the
+  // base: ro*(1 + gm*Re'*rpi/(rpi + Rs'')) + Re', Re' = Rdeg || (rpi + Rs'') (the base
+  // moves with the emitter through Rs'', which takes back part of the feedback).
+  const double r_e = r_deg > 0 ? par(r_deg, rpi + rs2) : 0.0;
+  const double r_dev = ro * (1.0 + s.gm * r_e * rpi / (rpi + rs2)) + r_e;
+  const double divider = p.zin_ohm / (p.zin_ohm + c.source_ohm);
+  // Base to collector, exact for the hybrid-pi with ro at mid-band:
+  // vc/vb = -(beta - (Rib - rpi)/ro)*(RL' || ro)/Rib.
+  const double av_base = std::isinf(ro) ? -beta * rl_ac / rib : -(beta - (rib - rpi) / ro) * par(rl_ac, ro) / rib;
+  p.gain = divider * av_base;
+  p.zout_ohm = par(v[RC], r_dev);
+}
+
+// Swing: up to cut-off (IC*RAC); down to the edge of saturation, the emitter moving
+// with the signal current through RE1.
+void set_swing(Performance& p, const CeSignal& s, const devices::BjtInstance& t) {
+  p.swing_up_v = s.b.ic_a * s.rl_ac;
+  p.swing_down_v = std::max(0.0, (s.b.vce_v - t.vce_sat_v) / (1.0 + s.r_deg / s.rl_ac));
+  p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+}
+
+// The hybrid-pi network (base, emitter, collector) at mid-band, for the high corner and
+// the distortion.
+detail::HybridPi hybrid_pi(const CeSignal& s, const devices::BjtInstance& t) {
+  detail::HybridPi m;
+  m.g_src = 1.0 / s.rs2;
+  m.gpi = 1.0 / s.rpi;
+  m.cpi = detail::cbe_at(t, s.b.vbe_v);
+  m.cmu = detail::cbc_at(t, s.b.vb_v - s.b.vc_v);
+  m.gm = s.gm;
+  m.go = std::isinf(s.b.ro_ohm) ? 0.0 : 1.0 / s.b.ro_ohm;
+  m.g_e = detail::g_of(s.r_deg);
+  m.g_c = 1.0 / s.rl_ac;
+  return m;
+}
+
+// The low corner and the loss at the band's low edge: the couplings and the bypass
+// interact through the transistor, so one network (CeLowResponse).
+void set_low_response(Performance& p, const CeSignal& s, const Values& v, const Conditions& c, Detail d) {
+  const CeLowResponse lr{s.beta,  s.rpi,  s.rth,      c.source_ohm, v[RE1], v[RE2], v[RE2] > 0 ? v[CE] : 0.0,
+                         v[CIN], v[RC], c.load_ohm, v[COUT],      s.ro};
+  if (d == Detail::full) p.f_low_hz = lr.corner_hz();
+  if (c.band_lo_hz > 0)
+    p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz, lr.mid())));
+}
+
+// Input-referred noise density: the source and divider, collector and base shot noise, RE1,
+// and RC with the load.
+double input_noise(const CeSignal& s, const Values& v, const Conditions& c) {
+  const double gm = s.gm, rpi = s.rpi, rs2 = s.rs2, r_deg = s.r_deg;
+  const double kt4 = detail::thermal_v2(1.0, c.celsius);
+  const double q2 = 2.0 * devices::kCharge;
+  const double dd = 1.0 + (rs2 + r_deg) / rpi + gm * r_deg;
+  double v2 = kt4 * rs2;                                          // source and divider
+  const double kc = (1.0 + (rs2 + r_deg) / rpi) / gm;
+  v2 += q2 * s.b.ic_a * kc * kc;                                 // collector shot
+  v2 += q2 * s.b.ib_a * (rs2 + r_deg) * (rs2 + r_deg);           // base shot
+  v2 += kt4 * r_deg;                                              // RE1
+  v2 += kt4 * (1.0 / v[RC] + 1.0 / c.load_ohm) * (dd / gm) * (dd / gm);  // RC and the load
+  const double dth = s.rth / (s.rth + c.source_ohm);
+  return std::sqrt(v2) / dth;
+}
+
+// Power in each resistor present, DC across each capacitor.
+std::vector<Stress> part_stress(const detail::BjtBias& b, const Values& v, const Conditions& c) {
+  const double i1 = (c.supply_v - b.vb_v) / v[R1], i2 = b.vb_v / v[R2];
+  std::vector<Stress> st = {detail::res_stress(R1, i1 * i1 * v[R1]), detail::res_stress(R2, i2 * i2 * v[R2]),
+                            detail::res_stress(RC, b.ic_a * b.ic_a * v[RC])};
+  if (v[RE1] > 0) st.push_back(detail::res_stress(RE1, b.ie_a * b.ie_a * v[RE1]));
+  if (v[RE2] > 0) st.push_back(detail::res_stress(RE2, b.ie_a * b.ie_a * v[RE2]));
+  if (v[CE] > 0) st.push_back(detail::cap_stress(CE, b.ie_a * v[RE2], v[RE1] > 0 ? "x" : "emitter"));
+  st.push_back(detail::cap_stress(CIN, b.vb_v));
+  st.push_back(detail::cap_stress(COUT, b.vc_v));
+  return st;
+}
+
 class BjtCeDivider final : public Topology {
  public:
   std::string_view name() const override { return "bjt-ce-divider"; }
@@ -116,98 +249,26 @@ class BjtCeDivider final : public Topology {
   Performance evaluate_n(const Values& v, const Transistor& q, const Conditions& c, Detail d) const override {
     Performance p;
     const auto& t = q.bjt;
-    const double vth = c.supply_v * v[R2] / (v[R1] + v[R2]);
-    const double rth = par(v[R1], v[R2]);
-    const double re_dc = v[RE1] + v[RE2];
-    const detail::BjtBias b = detail::bjt_bias(t, vth, rth, re_dc, v[RC], c.supply_v);
+    const detail::BjtBias b = divider_bias(v, t, c);
     if (!b.conducts) {
       p.problem = "cut off: the base divider does not reach VBE";
       return p;
     }
-    p.valid = true;
-    p.bias_current_a = b.ic_a;
-    p.v_in = b.vb_v;
-    p.v_common = b.ve_v;
-    p.v_out = b.vc_v;
-    const double idiv = (c.supply_v - b.vb_v) / v[R1];  // current in the upper leg
-    p.supply_current_a = b.ic_a + idiv;
-    p.active = b.vce_v > t.vce_sat_v;
-    if (!p.active) p.problem = fmt::format("saturated: VCE {:.2f} V", b.vce_v);
-
-    const double r_deg = v[RE1] + (v[CE] > 0 ? 0.0 : v[RE2]);
-    const double gm = b.gm_s, rpi = b.rpi_ohm, beta = gm * rpi;
-    const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
-    const double rs2 = par(rsig, rth);  // the base's source resistance
-    const double rl_ac = par(v[RC], c.load_ohm);
-    const double ro = b.ro_ohm;
-    // Resistance into the base with ro carrying part of the emitter current, from the
-    // hybrid-pi model with ro (the form textbooks give for the common emitter with an emitter
-    // resistance, e.g. Sedra & Smith, Microelectronic Circuits; cited from memory):
-    // Rib = rpi + (beta + 1)*Rdeg*(ro + RL'/(beta + 1))/(ro + Rdeg + RL').
-    const double rib = std::isinf(ro) ? rpi + (beta + 1.0) * r_deg
-                                      : rpi + (beta + 1.0) * r_deg * (ro + rl_ac / (beta + 1.0)) / (ro + r_deg + rl_ac);
-    p.zin_ohm = par(rth, rib);
-    // Output resistance of the degenerated transistor with a source resistance Rs'' at the
-    // base: ro*(1 + gm*Re'*rpi/(rpi + Rs'')) + Re', Re' = Rdeg || (rpi + Rs'') (the base
-    // moves with the emitter through Rs'', which takes back part of the feedback).
-    const double r_e = r_deg > 0 ? par(r_deg, rpi + rs2) : 0.0;
-    const double r_dev = ro * (1.0 + gm * r_e * rpi / (rpi + rs2)) + r_e;
-    const double divider = p.zin_ohm / (p.zin_ohm + c.source_ohm);
-    // Base to collector, exact for the hybrid-pi with ro at mid-band:
-    // vc/vb = -(beta - (Rib - rpi)/ro)*(RL' || ro)/Rib.
-    const double av_base = std::isinf(ro) ? -beta * rl_ac / rib : -(beta - (rib - rpi) / ro) * par(rl_ac, ro) / rib;
-    p.gain = divider * av_base;
-    p.zout_ohm = par(v[RC], r_dev);
-
-    // Swing: up to cut-off (IC*RAC); down to the edge of saturation, the emitter moving
-    // with the signal current through RE1.
-    p.swing_up_v = b.ic_a * rl_ac;
-    p.swing_down_v = std::max(0.0, (b.vce_v - t.vce_sat_v) / (1.0 + r_deg / rl_ac));
-    p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
-
-    // High corner: the hybrid-pi network (base, emitter, collector) solved exactly.
-    detail::HybridPi m;
-    m.g_src = 1.0 / rs2;
-    m.gpi = 1.0 / rpi;
-    m.cpi = detail::cbe_at(t, b.vbe_v);
-    m.cmu = detail::cbc_at(t, b.vb_v - b.vc_v);
-    m.gm = gm;
-    m.go = std::isinf(b.ro_ohm) ? 0.0 : 1.0 / b.ro_ohm;
-    m.g_e = detail::g_of(r_deg);
-    m.g_c = 1.0 / rl_ac;
-    // The low-frequency side comes from CeLowResponse below, not from separate sections.
+    set_operating_point(p, b, v, t, c);
+    const CeSignal s = ce_signal(b, v, c);
+    set_mid_band(p, s, v, c);
+    set_swing(p, s, t);
+    // High corner: the hybrid-pi network solved exactly. The low-frequency side comes from
+    // CeLowResponse, not from separate sections.
+    const detail::HybridPi m = hybrid_pi(s, t);
     detail::finish_response(p, {}, m, c, d);
-    {
-      // The couplings and the bypass interact through the transistor: one network (CeLowResponse).
-      const CeLowResponse lr{beta,  rpi,    rth,         c.source_ohm, v[RE1], v[RE2], v[RE2] > 0 ? v[CE] : 0.0,
-                             v[CIN], v[RC], c.load_ohm, v[COUT],      ro};
-      if (d == Detail::full) p.f_low_hz = lr.corner_hz();
-      if (c.band_lo_hz > 0)
-        p.loss_lo_db = std::max(0.0, -10.0 * std::log10(lr.h2(2 * std::numbers::pi * c.band_lo_hz, lr.mid())));
-    }
-
+    set_low_response(p, s, v, c, d);
     // Third-order expansion of the exponential law with the Early effect on the mid-band
     // network (HD2 to first order: Vo/(4*IC*RL'*(1 + gm*(Rdeg + Rs''/(beta + 1))))).
     detail::finish_distortion(p, c, [&] { return detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
     if (d != Detail::core) {
-      const double kt4 = detail::thermal_v2(1.0, c.celsius);
-      const double q2 = 2.0 * devices::kCharge;
-      const double dd = 1.0 + (rs2 + r_deg) / rpi + gm * r_deg;
-      double v2 = kt4 * rs2;                                          // source and divider
-      const double kc = (1.0 + (rs2 + r_deg) / rpi) / gm;
-      v2 += q2 * b.ic_a * kc * kc;                                   // collector shot
-      v2 += q2 * b.ib_a * (rs2 + r_deg) * (rs2 + r_deg);             // base shot
-      v2 += kt4 * r_deg;                                              // RE1
-      v2 += kt4 * (1.0 / v[RC] + 1.0 / c.load_ohm) * (dd / gm) * (dd / gm);  // RC and the load
-      const double dth = rth / (rth + c.source_ohm);
-      p.noise_v_rthz = std::sqrt(v2) / dth;
-      const double i1 = idiv, i2 = b.vb_v / v[R2];
-      p.stress = {detail::res_stress(R1, i1 * i1 * v[R1]), detail::res_stress(R2, i2 * i2 * v[R2]), detail::res_stress(RC, b.ic_a * b.ic_a * v[RC])};
-      if (v[RE1] > 0) p.stress.push_back(detail::res_stress(RE1, b.ie_a * b.ie_a * v[RE1]));
-      if (v[RE2] > 0) p.stress.push_back(detail::res_stress(RE2, b.ie_a * b.ie_a * v[RE2]));
-      if (v[CE] > 0) p.stress.push_back(detail::cap_stress(CE, b.ie_a * v[RE2], v[RE1] > 0 ? "x" : "emitter"));
-      p.stress.push_back(detail::cap_stress(CIN, b.vb_v));
-      p.stress.push_back(detail::cap_stress(COUT, b.vc_v));
+      p.noise_v_rthz = input_noise(s, v, c);
+      p.stress = part_stress(b, v, c);
     }
     return p;
   }

@@ -93,15 +93,15 @@ std::vector<Transistor> chain_transistors(std::span<const ChainStage> stages) {
   return qs;
 }
 
-ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Conditions& c, Detail detail) {
-  ChainPerformance r;
+namespace {
+
+// From the load back: each stage's load is the next stage's input impedance, and the next
+// stage's input capacitance (its Miller capacitance) loads it too; each stage's distortion
+// is given at the level it carries: the output's over the gain after it. Fills r.each and
+// r.conditions; returns each stage's |gain after it|.
+std::vector<double> evaluate_from_load(std::span<const ChainStage> stages, const Conditions& c, Detail detail,
+                                       ChainPerformance& r) {
   const std::size_t n = stages.size();
-  if (n == 0) throw InputError("chain: no stages");
-  r.each.resize(n);
-  r.conditions.assign(n, c);
-  // From the load back: each stage's load is the next stage's input impedance.
-  // The next stage's input capacitance (its Miller capacitance) loads each stage too.
-  // Each stage's distortion is given at the level it carries: the output's over the gain after it.
   double load = c.load_ohm, load_farads = c.load_farads, gain_after = 1.0;
   std::vector<double> level_gain(n, 1.0);  // |gain| after each stage
   for (std::size_t k = n; k-- > 0;) {
@@ -116,21 +116,28 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
     load_farads = std::max(0.0, r.each[k].c_in_f);
     gain_after *= r.each[k].gain;
   }
-  // A follower's output impedance depends on what drives it: each stage's Zout with the
-  // previous stage's output impedance as its source (the gains stay those from the node).
-  for (std::size_t k = 1; k < n; ++k) {
+  return level_gain;
+}
+
+// A follower's output impedance depends on what drives it: each stage's Zout with the
+// previous stage's output impedance as its source (the gains stay those from the node).
+void drive_from_previous(std::span<const ChainStage> stages, ChainPerformance& r) {
+  for (std::size_t k = 1; k < stages.size(); ++k) {
     Conditions ck = r.conditions[k];
     ck.source_ohm = r.each[k - 1].zout_ohm;
     r.each[k].zout_ohm = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, Detail::core).zout_ohm;
   }
+}
+
+// The whole's validity (the first problem), gain, supply current and band-edge losses from
+// the stages'; its corners their root sum of squares (of frequencies low, of periods high).
+void combine_stages(ChainPerformance& r) {
   Performance& w = r.whole;
-  const Performance& first = r.each.front();
-  const Performance& last = r.each.back();
   w.valid = true;
   w.active = true;
   w.gain = 1.0;
   double lo2 = 0, inv_hi2 = 0;
-  for (std::size_t k = 0; k < n; ++k) {
+  for (std::size_t k = 0; k < r.each.size(); ++k) {
     const Performance& p = r.each[k];
     if (!p.valid || !p.active) {
       w.valid = w.valid && p.valid;
@@ -144,10 +151,16 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
     lo2 += p.f_low_hz * p.f_low_hz;
     if (p.f_high_hz > 0) inv_hi2 += 1.0 / (p.f_high_hz * p.f_high_hz);
   }
-  // Output-referred swing: stage k's limits times the gain after it.
+  w.f_low_hz = std::sqrt(lo2);
+  w.f_high_hz = inv_hi2 > 0 ? 1.0 / std::sqrt(inv_hi2) : 0.0;
+}
+
+// Output-referred swing: stage k's limits times the gain after it.
+void output_swing(ChainPerformance& r) {
+  Performance& w = r.whole;
   w.swing_up_v = w.swing_down_v = w.swing_peak_v = 1e300;
   double after = 1.0;
-  for (std::size_t k = n; k-- > 0;) {
+  for (std::size_t k = r.each.size(); k-- > 0;) {
     const Performance& p = r.each[k];
     const double g = std::abs(after);
     // An inverting stage after this one swaps its up and down.
@@ -157,11 +170,17 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
     after *= p.gain;
   }
   w.clip_peak_v = std::min(w.swing_up_v, w.swing_down_v);
-  // Distortion: each stage's harmonics at the level it carries, added as if in phase (a bound:
-  // they can be); the undistorted peak is where that sum reaches the bound.
-  auto thd_at = [&](double v_out) {
+}
+
+// The chain's THD at an output peak: each stage's harmonics at the level it carries, added
+// as if in phase (a bound: they can be).
+struct ChainThd {
+  const ChainPerformance& r;
+  const std::vector<double>& level_gain;  // |gain| after each stage
+
+  double operator()(double v_out) const {
     double sum = 0;
-    for (std::size_t k = 0; k < n; ++k) {
+    for (std::size_t k = 0; k < r.each.size(); ++k) {
       const Performance& p = r.each[k];
       const double level = r.conditions[k].hd2_peak_v, v = v_out / level_gain[k];
       if (!p.transfer.empty()) {
@@ -171,7 +190,14 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
       }
     }
     return sum;
-  };
+  }
+};
+
+// Distortion at the requested level, and the undistorted peak: where the THD bound is
+// reached (bisection), or the clipping point.
+void chain_distortion(ChainPerformance& r, const Conditions& c, const std::vector<double>& level_gain) {
+  Performance& w = r.whole;
+  const ChainThd thd_at{r, level_gain};
   for (const auto& p : r.each) {
     w.hd2 += p.hd2;
     w.hd3 += p.hd3;
@@ -186,55 +212,84 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
     }
     w.swing_peak_v = lo;
   }
+}
+
+// What the whole takes from its first stage (bias, DC levels, input impedance, noise) and
+// its last (output impedance).
+void take_ends(ChainPerformance& r) {
+  Performance& w = r.whole;
+  const Performance& first = r.each.front();
+  const Performance& last = r.each.back();
   w.bias_current_a = first.bias_current_a;
   w.v_in = first.v_in;
   w.v_common = first.v_common;
   w.v_out = first.v_out;
   w.zin_ohm = first.zin_ohm;
   w.zout_ohm = last.zout_ohm;
-  w.f_low_hz = std::sqrt(lo2);
-  w.f_high_hz = inv_hi2 > 0 ? 1.0 / std::sqrt(inv_hi2) : 0.0;
-  if (detail == Detail::full) {
-    // The -3 dB points of the product of the stages' responses: where their losses, each
-    // into its own load, add up to 3 dB (the loss of a cascade is the sum of the stages').
-    auto loss = [&](double f, bool low) {
-      double sum = 0;
-      for (std::size_t k = 0; k < n; ++k) {
-        Conditions ck = r.conditions[k];
-        ck.band_lo_hz = low ? f : 0.0;
-        ck.band_hi_hz = low ? 0.0 : f;
-        const Performance p = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, Detail::core);
-        sum += low ? p.loss_lo_db : p.loss_hi_db;
-      }
-      return sum;
-    };
-    const double third = 10.0 * std::log10(2.0);  // 3.01 dB
-    double f_lo_max = 0, f_hi_min = 0;
-    for (const auto& p : r.each) {
-      f_lo_max = std::max(f_lo_max, p.f_low_hz);
-      if (p.f_high_hz > 0) f_hi_min = f_hi_min > 0 ? std::min(f_hi_min, p.f_high_hz) : p.f_high_hz;
-    }
-    if (f_lo_max > 0) {
-      // At the highest stage corner the chain is at least 3 dB down; search upward.
-      double lo = f_lo_max, hi = 2 * f_lo_max;
-      for (int i = 0; i < 40 && loss(hi, true) > third; ++i) lo = hi, hi *= 2;
-      for (int i = 0; i < 40; ++i) {
-        const double mid = std::sqrt(lo * hi);
-        (loss(mid, true) > third ? lo : hi) = mid;
-      }
-      w.f_low_hz = std::sqrt(lo * hi);
-    }
-    if (f_hi_min > 0 && f_hi_min < 1e13) {
-      double hi = f_hi_min, lo = 0.5 * f_hi_min;
-      for (int i = 0; i < 40 && loss(lo, false) > third; ++i) hi = lo, lo *= 0.5;
-      for (int i = 0; i < 40; ++i) {
-        const double mid = std::sqrt(lo * hi);
-        (loss(mid, false) > third ? hi : lo) = mid;
-      }
-      w.f_high_hz = std::sqrt(lo * hi);
-    }
-  }
   w.noise_v_rthz = first.noise_v_rthz;
+}
+
+// The loss of the cascade at f (the sum of the stages' losses, each into its own load), dB:
+// below the band when `low`, above it otherwise.
+double chain_loss_db(std::span<const ChainStage> stages, const ChainPerformance& r, double f, bool low) {
+  double sum = 0;
+  for (std::size_t k = 0; k < stages.size(); ++k) {
+    Conditions ck = r.conditions[k];
+    ck.band_lo_hz = low ? f : 0.0;
+    ck.band_hi_hz = low ? 0.0 : f;
+    const Performance p = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, Detail::core);
+    sum += low ? p.loss_lo_db : p.loss_hi_db;
+  }
+  return sum;
+}
+
+// The -3 dB points of the product of the stages' responses: where their losses add up to
+// 3 dB, searched outward from the stages' nearest corners and then bisected in log f.
+void chain_band_edges(std::span<const ChainStage> stages, ChainPerformance& r) {
+  Performance& w = r.whole;
+  auto loss = [&](double f, bool low) { return chain_loss_db(stages, r, f, low); };
+  const double third = 10.0 * std::log10(2.0);  // 3.01 dB
+  double f_lo_max = 0, f_hi_min = 0;
+  for (const auto& p : r.each) {
+    f_lo_max = std::max(f_lo_max, p.f_low_hz);
+    if (p.f_high_hz > 0) f_hi_min = f_hi_min > 0 ? std::min(f_hi_min, p.f_high_hz) : p.f_high_hz;
+  }
+  if (f_lo_max > 0) {
+    // At the highest stage corner the chain is at least 3 dB down; search upward.
+    double lo = f_lo_max, hi = 2 * f_lo_max;
+    for (int i = 0; i < 40 && loss(hi, true) > third; ++i) lo = hi, hi *= 2;
+    for (int i = 0; i < 40; ++i) {
+      const double mid = std::sqrt(lo * hi);
+      (loss(mid, true) > third ? lo : hi) = mid;
+    }
+    w.f_low_hz = std::sqrt(lo * hi);
+  }
+  if (f_hi_min > 0 && f_hi_min < 1e13) {
+    double hi = f_hi_min, lo = 0.5 * f_hi_min;
+    for (int i = 0; i < 40 && loss(lo, false) > third; ++i) hi = lo, lo *= 0.5;
+    for (int i = 0; i < 40; ++i) {
+      const double mid = std::sqrt(lo * hi);
+      (loss(mid, false) > third ? hi : lo) = mid;
+    }
+    w.f_high_hz = std::sqrt(lo * hi);
+  }
+}
+
+}  // namespace
+
+ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Conditions& c, Detail detail) {
+  ChainPerformance r;
+  const std::size_t n = stages.size();
+  if (n == 0) throw InputError("chain: no stages");
+  r.each.resize(n);
+  r.conditions.assign(n, c);
+  const std::vector<double> level_gain = evaluate_from_load(stages, c, detail, r);
+  drive_from_previous(stages, r);
+  combine_stages(r);
+  output_swing(r);
+  chain_distortion(r, c, level_gain);
+  take_ends(r);
+  if (detail == Detail::full) chain_band_edges(stages, r);
   return r;
 }
 
