@@ -247,47 +247,69 @@ class ChainSearch {
     return out;
   }
 
+  /// A plan's pooled stages by position, and the graph over them.
+  struct PlanGraph {
+    std::vector<std::vector<const Candidate*>> layers;      ///< the pooled stages of each position
+    Graph g;                                                 ///< stages as vertices by position
+    std::vector<std::vector<Graph::vertex_descriptor>> vs;  ///< each position's vertices
+  };
+
   std::vector<Candidate> search_plan(const Plan& plan) {
-    const std::size_t n = plan.size();
+    PlanGraph pg;
+    if (!pool_layers(plan, pg.layers)) return {};
+    build_graph(pg);
+    std::vector<Path> paths = all_paths(pg);
+    refine(paths, plan);
+    std::vector<Candidate> assessed = corner_pass(linked_chains(paths));
+    return solve_best(assessed);
+  }
+
+  /// Each gain stage's share, on a grid of six steps per decade so that plans share pools
+  /// (the pools' gain window is wide; the graph search finds the products that fit).
+  double gain_share(const Plan& plan) const {
     const int gain_stages = static_cast<int>(std::count(plan.begin(), plan.end(), Slot::gain));
-    const int buffers = static_cast<int>(n) - gain_stages;
-    // Each gain stage's share, on a grid of six steps per decade so that plans share pools
-    // (the pools' gain window is wide; the graph search finds the products that fit).
+    const int buffers = static_cast<int>(plan.size()) - gain_stages;
     const double exact_share =
         gain_stages > 0 ? std::pow(spec_.gain / std::pow(kBufferGain, buffers), 1.0 / gain_stages) : kBufferGain;
-    const double share = gain_stages > 0 ? std::pow(10.0, std::round(6.0 * std::log10(exact_share)) / 6.0) : kBufferGain;
-    const double out_peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0.0;
+    return gain_stages > 0 ? std::pow(10.0, std::round(6.0 * std::log10(exact_share)) / 6.0) : kBufferGain;
+  }
 
-    // Pools from the load back.
-    std::vector<std::vector<const Candidate*>> layers(n);
+  /// The loads a position is designed into: what the stages of the next position present.
+  std::vector<double> next_loads(const std::vector<const Candidate*>& next) const {
+    std::vector<double> loads;
+    std::map<const stages::Topology*, std::vector<double>> zins;
+    // What each next topology presents: its input impedance at nominal, and the lowest
+    // it falls to over its corners (a follower's falls with hFE), so that a stage that
+    // keeps its swing into the heavier load is among those tried.
+    std::map<const stages::Topology*, std::vector<double>> lowest;
+    for (const Candidate* c : next) {
+      zins[c->topology].push_back(c->nominal.zin_ohm);
+      lowest[c->topology].push_back(c->worst.zin.empty ? c->nominal.zin_ohm : c->worst.zin.min);
+    }
+    std::vector<double> medians;
+    for (auto* m : {&zins, &lowest})
+      for (auto& [t, z] : *m) {
+        std::nth_element(z.begin(), z.begin() + static_cast<long>(z.size() / 2), z.end());
+        medians.push_back(z[z.size() / 2]);
+      }
+    // Loads within a factor of three of each other make the same designs: the lowest.
+    std::sort(medians.begin(), medians.end());
+    for (const double m : medians)
+      if (loads.empty() || m > 3.0 * loads.back()) loads.push_back(m);
+    return loads;
+  }
+
+  /// Pools from the load back, into layers by position; false when a position has none.
+  bool pool_layers(const Plan& plan, std::vector<std::vector<const Candidate*>>& layers) {
+    const std::size_t n = plan.size();
+    const double share = gain_share(plan);
+    const double out_peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0.0;
+    layers.resize(n);
     for (std::size_t pos = n; pos-- > 0;) {
       double after = 1.0;  // gain assumed after this position
       for (std::size_t k = pos + 1; k < n; ++k) after *= plan[k] == Slot::gain ? share : kBufferGain;
       const double peak = out_peak / after;
-      std::vector<double> loads;
-      if (pos + 1 == n) {
-        loads.push_back(spec_.load_ohm);
-      } else {
-        std::map<const stages::Topology*, std::vector<double>> zins;
-        // What each next topology presents: its input impedance at nominal, and the lowest
-        // it falls to over its corners (a follower's falls with hFE), so that a stage that
-        // keeps its swing into the heavier load is among those tried.
-        std::map<const stages::Topology*, std::vector<double>> lowest;
-        for (const Candidate* c : layers[pos + 1]) {
-          zins[c->topology].push_back(c->nominal.zin_ohm);
-          lowest[c->topology].push_back(c->worst.zin.empty ? c->nominal.zin_ohm : c->worst.zin.min);
-        }
-        std::vector<double> medians;
-        for (auto* m : {&zins, &lowest})
-          for (auto& [t, z] : *m) {
-            std::nth_element(z.begin(), z.begin() + static_cast<long>(z.size() / 2), z.end());
-            medians.push_back(z[z.size() / 2]);
-          }
-        // Loads within a factor of three of each other make the same designs: the lowest.
-        std::sort(medians.begin(), medians.end());
-        for (const double m : medians)
-          if (loads.empty() || m > 3.0 * loads.back()) loads.push_back(m);
-      }
+      const std::vector<double> loads = pos + 1 == n ? std::vector<double>{spec_.load_ohm} : next_loads(layers[pos + 1]);
       std::vector<PoolRequest> requests;
       for (const auto* t : topologies(plan[pos]))
         for (const double load : loads)
@@ -302,37 +324,47 @@ class ChainSearch {
         }
       for (const auto* p : pools(requests))
         for (const auto& c : *p) layers[pos].push_back(&c);
-      if (layers[pos].empty()) return {};
+      if (layers[pos].empty()) return false;
     }
+    return true;
+  }
 
-    // The graph: stages as vertices by position, edges where the loading is acceptable.
-    Graph g;
-    std::vector<std::vector<Graph::vertex_descriptor>> vs(n);
+  /// The edge from a to b when the loading is acceptable: b's input impedance at least
+  /// twice a's output impedance, the link's polarity workable, a's band-edge loss into b
+  /// within 1 dB.
+  std::optional<EdgeProp> edge(const Candidate& a, const Candidate& b) {
+    const double zin = b.nominal.zin_ohm;
+    if (!(zin >= 2.0 * a.nominal.zout_ohm)) return std::nullopt;
+    if (!link_polarity_ok(a, b)) return std::nullopt;
+    stages::Conditions ca = a.conditions;
+    ca.load_ohm = zin;
+    ca.band_lo_hz = band_lo_;
+    ca.band_hi_hz = band_hi_;
+    const auto p = a.topology->evaluate(a.values, a.nominal_device, ca);
+    ++tally_.evaluations;
+    if (!p.valid || !p.active) return std::nullopt;
+    const double loss = p.loss_lo_db + p.loss_hi_db;
+    if (loss > 1.0) return std::nullopt;
+    return EdgeProp{p.gain, loss};
+  }
+
+  /// The graph: stages as vertices by position, edges where the loading is acceptable.
+  void build_graph(PlanGraph& pg) {
+    const std::size_t n = pg.layers.size();
+    pg.vs.resize(n);
     for (std::size_t pos = 0; pos < n; ++pos)
-      for (std::size_t i = 0; i < layers[pos].size(); ++i) vs[pos].push_back(boost::add_vertex({i, pos}, g));
-    for (std::size_t pos = 0; pos + 1 < n; ++pos) {
-      for (std::size_t i = 0; i < layers[pos].size(); ++i) {
-        const Candidate& a = *layers[pos][i];
-        for (std::size_t j = 0; j < layers[pos + 1].size(); ++j) {
-          const Candidate& b = *layers[pos + 1][j];
-          const double zin = b.nominal.zin_ohm;
-          if (!(zin >= 2.0 * a.nominal.zout_ohm)) continue;
-          if (!link_polarity_ok(a, b)) continue;
-          stages::Conditions ca = a.conditions;
-          ca.load_ohm = zin;
-          ca.band_lo_hz = band_lo_;
-          ca.band_hi_hz = band_hi_;
-          const auto p = a.topology->evaluate(a.values, a.nominal_device, ca);
-          ++tally_.evaluations;
-          if (!p.valid || !p.active) continue;
-          const double loss = p.loss_lo_db + p.loss_hi_db;
-          if (loss > 1.0) continue;
-          boost::add_edge(vs[pos][i], vs[pos + 1][j], EdgeProp{p.gain, loss}, g);
-        }
-      }
-    }
+      for (std::size_t i = 0; i < pg.layers[pos].size(); ++i) pg.vs[pos].push_back(boost::add_vertex({i, pos}, pg.g));
+    for (std::size_t pos = 0; pos + 1 < n; ++pos)
+      for (std::size_t i = 0; i < pg.layers[pos].size(); ++i)
+        for (std::size_t j = 0; j < pg.layers[pos + 1].size(); ++j)
+          if (const auto e = edge(*pg.layers[pos][i], *pg.layers[pos + 1][j]))
+            boost::add_edge(pg.vs[pos][i], pg.vs[pos + 1][j], *e, pg.g);
+  }
 
-    // Every path; keep those nearest the requested gain.
+  /// Every path through the graph near the requested gain, best first.
+  std::vector<Path> all_paths(const PlanGraph& pg) {
+    const std::size_t n = pg.layers.size();
+    const Graph& g = pg.g;
     std::vector<Path> paths;
     std::vector<const Candidate*> stack;
     // The band-edge losses add up along a path (in dB): the chain must stay within 1 dB.
@@ -341,7 +373,7 @@ class ChainSearch {
     const bool thd_counts = spec_.swing_vpp.has_value();
     auto walk = [&](auto&& self, Graph::vertex_descriptor v, double gain, double loss) -> void {
       const VertexProp& vp = g[v];
-      const Candidate* c = layers[vp.layer][vp.index];
+      const Candidate* c = pg.layers[vp.layer][vp.index];
       stack.push_back(c);
       if (vp.layer + 1 == n) {
         const double total = gain * c->nominal.gain;  // the last stage was designed into the load
@@ -362,22 +394,27 @@ class ChainSearch {
       }
       stack.pop_back();
     };
-    for (const auto v : vs[0]) walk(walk, v, 1.0, 0.0);
+    for (const auto v : pg.vs[0]) walk(walk, v, 1.0, 0.0);
     std::sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
-    // The pools' gains are coarse: the best paths get their gain stage nearest the load
-    // redesigned for exactly the gain the other stages leave it (the pools on every core).
-    {
-      std::vector<Refinement> jobs;
-      for (std::size_t i = 0; i < paths.size() && jobs.size() < kRefine; ++i)
-        if (auto j = refinement(paths[i], plan)) jobs.push_back(std::move(*j));
-      std::vector<PoolRequest> requests;
-      for (const auto& j : jobs) requests.push_back(j.request);
-      const auto made = pools(requests);
-      for (std::size_t i = 0; i < jobs.size(); ++i)
-        for (auto& q : refined(jobs[i], *made[i])) paths.push_back(std::move(q));
-      std::stable_sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
-    }
+    return paths;
+  }
 
+  /// The pools' gains are coarse: the best paths get their gain stage nearest the load
+  /// redesigned for exactly the gain the other stages leave it (the pools on every core).
+  void refine(std::vector<Path>& paths, const Plan& plan) {
+    std::vector<Refinement> jobs;
+    for (std::size_t i = 0; i < paths.size() && jobs.size() < kRefine; ++i)
+      if (auto j = refinement(paths[i], plan)) jobs.push_back(std::move(*j));
+    std::vector<PoolRequest> requests;
+    for (const auto& j : jobs) requests.push_back(j.request);
+    const auto made = pools(requests);
+    for (std::size_t i = 0; i < jobs.size(); ++i)
+      for (auto& q : refined(jobs[i], *made[i])) paths.push_back(std::move(q));
+    std::stable_sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
+  }
+
+  /// The best paths (up to kToCorners) joined into chains that the quantity pool holds.
+  std::vector<Candidate> linked_chains(const std::vector<Path>& paths) {
     std::vector<Candidate> linked;
     for (const Path& path : paths) {
       if (linked.size() >= kToCorners) break;
@@ -389,7 +426,12 @@ class ChainSearch {
       }
       linked.push_back(std::move(ch));
     }
-    // The corner passes on every core; what they found is tallied after.
+    return linked;
+  }
+
+  /// The corner passes on every core; what they found is tallied after. The chains that
+  /// hold, best first.
+  std::vector<Candidate> corner_pass(std::vector<Candidate> linked) {
     std::vector<std::string> failed(linked.size());
     std::vector<long> evals(linked.size(), 0);
     parallel_for(linked.size(), [&](std::size_t i) { failed[i] = chain_corners(linked[i], spec_, evals[i], Depth::search); });
@@ -402,6 +444,11 @@ class ChainSearch {
         tally_.note_corner_failure(failed[i]);
     }
     std::stable_sort(assessed.begin(), assessed.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
+    return assessed;
+  }
+
+  /// The best distinct chains (up to kToExact) that the exact solver confirms.
+  std::vector<Candidate> solve_best(std::vector<Candidate>& assessed) {
     std::vector<Candidate> out;
     for (auto& c : assessed) {
       if (out.size() >= kToExact) break;

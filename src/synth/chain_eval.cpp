@@ -68,93 +68,136 @@ RolePart* part_of(Candidate& s, std::string_view role) {
 //     kPolarForwardV forward across all of it (turned round when the next stage sits higher),
 //     and its rating must hold the largest.
 //  5. The chain's -3 dB corners are sought on the whole chain (chain_band_corners).
-std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth) {
-  const std::size_t n = ch.stages.size();
-  const double t_nom = spec.temp_nominal_c();
+
+namespace {
+
+// One corner pass over a chain: what its phases share.
+struct ChainPass {
+  Candidate& ch;
+  const Spec& spec;
+  long& evaluations;
+  Depth depth;
+  stages::ChainPerformance cp;  // the whole chain at nominal (the fast cascade)
+  std::vector<Spec> subs;       // the request each stage answers to in the chain
+};
+
+// What the pass carries from the last stage back (NOTES 2): the gain after the stage at its
+// lower and upper ends, and the chain's worst case so far.
+struct Backward {
+  double after_min = 1.0, after_max = 1.0;
+  Worst w;
+  Range swing_hi;  // the upper ends of the output-referred swing, for the smallest
+};
+
+// The whole chain at nominal: each stage's nominal device, the fast cascade, its constraints.
+std::string chain_nominal(ChainPass& pass) {
+  Candidate& ch = pass.ch;
+  const double t_nom = pass.spec.temp_nominal_c();
   for (auto& s : ch.stages) {
     const devices::DeviceSpread spread = spread_of(s);
     s.nominal_device = make_transistor(spread, spread.nominal(), t_nom);
   }
   const std::vector<stages::ChainStage> list = chain_stages(ch);
-  const stages::Conditions cond = conditions(spec, spec.supply_nominal_v(), t_nom);
-  const stages::ChainPerformance cp = stages::evaluate_chain(list, cond, stages::Detail::core);
+  const stages::Conditions cond = conditions(pass.spec, pass.spec.supply_nominal_v(), t_nom);
+  pass.cp = stages::evaluate_chain(list, cond, stages::Detail::core);
   ch.conditions = cond;
-  evaluations += static_cast<long>(n);
-  if (const std::string v = violation(spec, cp.whole); !v.empty()) return v + ": the whole chain";
-  // From the last stage back, so each knows the smallest gain after it (for its peak).
-  double after_min = 1.0, after_max = 1.0;
-  Worst w;
-  Range swing_hi;  // the upper ends of the output-referred swing, for the smallest (NOTES 2)
+  pass.evaluations += static_cast<long>(ch.stages.size());
+  if (const std::string v = violation(pass.spec, pass.cp.whole); !v.empty()) return v + ": the whole chain";
+  return {};
+}
+
+// The request stage k answers to: its gain in the chain, the conditions the chain puts it in,
+// the swing it must pass on given the smallest gain after it.
+void stage_request(Spec& sub, const Spec& spec, const Candidate& s, double gain, std::size_t k, double after_min) {
   const double out_peak = spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0;
-  std::vector<Spec> subs(n);
-  for (std::size_t k = n; k-- > 0;) {
-    Candidate& s = ch.stages[k];
-    s.conditions = cp.conditions[k];
-    // The coupling capacitor to the next stage holds the DC between the two stages' bias
-    // points, not the DC to ground a stage alone would put on it: its polarity and rating are
-    // checked for the link below, not in the stage's own corner pass.
-    RolePart* link = k + 1 < n ? part_of(s, "COUT") : nullptr;
-    std::string link_plus;
-    if (link) {
-      link_plus = link->plus_net;
-      link->plus_net.clear();
-    }
-    Spec& sub = subs[k];
-    sub = spec;
-    sub.gain = std::abs(cp.each[k].gain);
-    sub.load_ohm = s.conditions.load_ohm;
-    sub.load_farads = s.conditions.load_farads;
-    sub.source_ohm = s.conditions.source_ohm;
-    sub.zin_min_ohm = k == 0 ? spec.zin_min_ohm : 0.0;
-    sub.max_current_a.reset();
-    sub.swing_vpp.reset();
-    if (out_peak > 0) sub.swing_vpp = 2.0 * out_peak / after_min;
-    sub.topologies = {std::string(s.topology->name())};
-    s.nominal = s.topology->evaluate(s.values, s.nominal_device, s.conditions,
-                                     depth == Depth::full ? stages::Detail::full : stages::Detail::core);
-    // The next stage's input impedance moves over its own corners (a follower's with hFE):
-    // this stage is checked into the lowest, and its gain range widened by the highest.
-    const std::string v = [&]() -> std::string {
-      if (k + 1 < n && !ch.stages[k + 1].worst.zin.empty) {
-        const Range& z = ch.stages[k + 1].worst.zin;
-        Candidate light = s;
-        Spec sub_hi = sub;
-        sub_hi.load_ohm = z.max;
-        if (std::string v_hi = evaluate_worst(light, sub_hi, evaluations, depth); !v_hi.empty()) return v_hi;
-        sub.load_ohm = z.min;
-        if (std::string v_lo = evaluate_worst(s, sub, evaluations, depth); !v_lo.empty()) return v_lo;
-        s.worst.gain.add(light.worst.gain.min);
-        s.worst.gain.add(light.worst.gain.max);
-        s.worst.zin.add(light.worst.zin.min);
-        s.worst.zin.add(light.worst.zin.max);
-        s.worst.evaluations += light.worst.evaluations;
-        return {};
-      }
-      return evaluate_worst(s, sub, evaluations, depth);
-    }();
-    if (link) link->plus_net = link_plus;
-    if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
-    s.error_nominal = s.error_worst = s.score = 0;
-    const double lo = std::min(std::abs(s.worst.gain.min), std::abs(s.worst.gain.max));
-    const double hi = std::max(std::abs(s.worst.gain.min), std::abs(s.worst.gain.max));
-    // NOTES 2: output-referred swing.
-    w.swing_peak.add(s.worst.swing_peak.min * after_min);
-    swing_hi.add(s.worst.swing_peak.max * after_max);
-    w.supply_current.min += s.worst.supply_current.min;
-    w.supply_current.max += s.worst.supply_current.max;
-    // Distortion at the level each stage carries, added as if in phase (a bound).
-    w.thd.min += s.worst.thd.min;
-    w.thd.max += s.worst.thd.max;
-    after_min *= lo;
-    after_max *= hi;
+  sub = spec;
+  sub.gain = std::abs(gain);
+  sub.load_ohm = s.conditions.load_ohm;
+  sub.load_farads = s.conditions.load_farads;
+  sub.source_ohm = s.conditions.source_ohm;
+  sub.zin_min_ohm = k == 0 ? spec.zin_min_ohm : 0.0;
+  sub.max_current_a.reset();
+  sub.swing_vpp.reset();
+  if (out_peak > 0) sub.swing_vpp = 2.0 * out_peak / after_min;
+  sub.topologies = {std::string(s.topology->name())};
+}
+
+// A stage's worst case (NOTES 1). The next stage's input impedance moves over its own corners
+// (a follower's with hFE): this stage is checked into the lowest, and its gain range widened
+// by the highest.
+std::string stage_worst(Candidate& s, Spec& sub, const Candidate* next, long& evaluations, Depth depth) {
+  if (!next || next->worst.zin.empty) return evaluate_worst(s, sub, evaluations, depth);
+  const Range& z = next->worst.zin;
+  Candidate light = s;
+  Spec sub_hi = sub;
+  sub_hi.load_ohm = z.max;
+  if (std::string v_hi = evaluate_worst(light, sub_hi, evaluations, depth); !v_hi.empty()) return v_hi;
+  sub.load_ohm = z.min;
+  if (std::string v_lo = evaluate_worst(s, sub, evaluations, depth); !v_lo.empty()) return v_lo;
+  s.worst.gain.add(light.worst.gain.min);
+  s.worst.gain.add(light.worst.gain.max);
+  s.worst.zin.add(light.worst.zin.min);
+  s.worst.zin.add(light.worst.zin.max);
+  s.worst.evaluations += light.worst.evaluations;
+  return {};
+}
+
+// A stage's worst case joined to the chain's: the output-referred swing, the supply current,
+// the distortion at the level it carries added as if in phase (a bound), the gain after it.
+void accumulate(Backward& acc, const Worst& sw) {
+  const double lo = std::min(std::abs(sw.gain.min), std::abs(sw.gain.max));
+  const double hi = std::max(std::abs(sw.gain.min), std::abs(sw.gain.max));
+  acc.w.swing_peak.add(sw.swing_peak.min * acc.after_min);
+  acc.swing_hi.add(sw.swing_peak.max * acc.after_max);
+  acc.w.supply_current.min += sw.supply_current.min;
+  acc.w.supply_current.max += sw.supply_current.max;
+  acc.w.thd.min += sw.thd.min;
+  acc.w.thd.max += sw.thd.max;
+  acc.after_min *= lo;
+  acc.after_max *= hi;
+}
+
+// Stage k at its corners in the conditions the chain puts it in, joined to acc.
+std::string stage_in_chain(ChainPass& pass, std::size_t k, Backward& acc) {
+  const std::size_t n = pass.ch.stages.size();
+  Candidate& s = pass.ch.stages[k];
+  s.conditions = pass.cp.conditions[k];
+  // The coupling capacitor to the next stage holds the DC between the two stages' bias
+  // points, not the DC to ground a stage alone would put on it: its polarity and rating are
+  // checked for the link below, not in the stage's own corner pass.
+  RolePart* link = k + 1 < n ? part_of(s, "COUT") : nullptr;
+  std::string link_plus;
+  if (link) {
+    link_plus = link->plus_net;
+    link->plus_net.clear();
   }
+  Spec& sub = pass.subs[k];
+  stage_request(sub, pass.spec, s, pass.cp.each[k].gain, k, acc.after_min);
+  s.nominal = s.topology->evaluate(s.values, s.nominal_device, s.conditions,
+                                   pass.depth == Depth::full ? stages::Detail::full : stages::Detail::core);
+  const std::string v = stage_worst(s, sub, k + 1 < n ? &pass.ch.stages[k + 1] : nullptr, pass.evaluations, pass.depth);
+  if (link) link->plus_net = link_plus;
+  if (!v.empty()) return fmt::format("{}: stage {}", v, k + 1);
+  s.error_nominal = s.error_worst = s.score = 0;
+  accumulate(acc, s.worst);
+  return {};
+}
+
+// The chain's swing, current and distortion once every stage is in (NOTES 2, 3).
+std::string close_totals(Backward& acc, const Spec& spec) {
+  Worst& w = acc.w;
   w.supply_current.empty = false;
   w.thd.empty = false;
-  w.swing_peak.max = std::max(w.swing_peak.min, swing_hi.min);
+  w.swing_peak.max = std::max(w.swing_peak.min, acc.swing_hi.min);
   if (spec.max_current_a && w.supply_current.max > *spec.max_current_a) return "current";
   if (spec.swing_vpp && w.thd.max > spec.max_thd)
     return fmt::format("distortion: the whole chain reaches {:.2g} % at {:.3g} Vpp", 100 * w.thd.max, *spec.swing_vpp);
-  // NOTES 4: the capacitor between stages, at every corner of both.
+  return {};
+}
+
+// NOTES 4: the capacitor between stages, at every corner of both.
+std::string check_links(Candidate& ch, const Spec& spec) {
+  const std::size_t n = ch.stages.size();
   for (std::size_t k = 0; k + 1 < n; ++k) {
     Candidate& s = ch.stages[k];
     RolePart* link = part_of(s, "COUT");
@@ -187,51 +230,70 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, De
       return fmt::format("rating: {} (COUT of stage {}) holds up to {:.3g} V DC", link->designator, k + 1,
                          std::max(std::abs(lo), std::abs(hi)));
   }
-  const Candidate& first = ch.stages.front();
-  const double sign = cp.whole.gain < 0 ? -1.0 : 1.0;
-  w.gain.add(sign * after_min);
-  w.gain.add(sign * after_max);
+  return {};
+}
+
+// The chain's gain range (the product of the stages'), the first stage's input side, the
+// last stage's output impedance.
+void whole_chain_worst(Backward& acc, const ChainPass& pass) {
+  Worst& w = acc.w;
+  const Candidate& first = pass.ch.stages.front();
+  const double sign = pass.cp.whole.gain < 0 ? -1.0 : 1.0;
+  w.gain.add(sign * acc.after_min);
+  w.gain.add(sign * acc.after_max);
   w.bias_current = first.worst.bias_current;
   w.v_in = first.worst.v_in;
   w.v_common = first.worst.v_common;
   w.v_out = first.worst.v_out;
   w.zin = first.worst.zin;
-  w.zout = ch.stages.back().worst.zout;
-  if (depth == Depth::full && n > 1) {
-    // NOTES 3: the last stage's output impedance fed from the previous stage's at both ends.
-    Candidate& last = ch.stages.back();
-    const Range& zprev = ch.stages[n - 2].worst.zout;
-    Spec plain = subs[n - 1];
-    plain.band_hz.reset();
-    plain.swing_vpp.reset();
-    plain.zin_min_ohm = 0;
-    w.zout = {};
-    for (double z : {zprev.min, zprev.max}) {
-      Candidate fed = last;
-      plain.source_ohm = z;
-      if (const std::string v = evaluate_worst(fed, plain, evaluations, Depth::full); !v.empty())
-        return fmt::format("{}: stage {} fed from stage {}", v, n, n - 1);
-      w.zout.add(fed.worst.zout.min);
-      w.zout.add(fed.worst.zout.max);
-    }
+  w.zout = pass.ch.stages.back().worst.zout;
+}
+
+// NOTES 3: the last stage's output impedance fed from the previous stage's at both ends.
+std::string fed_zout(ChainPass& pass, Range& zout) {
+  const std::size_t n = pass.ch.stages.size();
+  const Candidate& last = pass.ch.stages.back();
+  const Range& zprev = pass.ch.stages[n - 2].worst.zout;
+  Spec plain = pass.subs[n - 1];
+  plain.band_hz.reset();
+  plain.swing_vpp.reset();
+  plain.zin_min_ohm = 0;
+  zout = {};
+  for (double z : {zprev.min, zprev.max}) {
+    Candidate fed = last;
+    plain.source_ohm = z;
+    if (const std::string v = evaluate_worst(fed, plain, pass.evaluations, Depth::full); !v.empty())
+      return fmt::format("{}: stage {} fed from stage {}", v, n, n - 1);
+    zout.add(fed.worst.zout.min);
+    zout.add(fed.worst.zout.max);
   }
+  return {};
+}
+
+// The chain takes its worst case, its nominal figures and the first stage's device; its
+// pieces and purchases are the stages'.
+void adopt(Candidate& ch, Worst& w, const stages::Performance& whole) {
   for (const auto& s : ch.stages) w.evaluations += s.worst.evaluations;
-  ch.worst = w;
+  const Candidate& first = ch.stages.front();
+  ch.worst = std::move(w);
   ch.topology = nullptr;
   ch.device = first.device;
   ch.piece = first.piece;
   ch.spread_model = first.spread_model;
   ch.nominal_device = first.nominal_device;
-  ch.conditions = cond;
-  ch.nominal = cp.whole;
+  ch.nominal = whole;
   ch.pieces = 0;
   ch.purchases = 0;
   for (const auto& s : ch.stages) {
     ch.pieces += s.pieces;
     ch.purchases += s.purchases;
   }
-  // Every stage's cautions (after the links have turned their electrolytics), the
-  // hazardous-voltage one once.
+}
+
+// Every stage's cautions (after the links have turned their electrolytics), the
+// hazardous-voltage one once.
+void gather_cautions(Candidate& ch, const std::vector<Spec>& subs) {
+  const std::size_t n = ch.stages.size();
   for (std::size_t k = 0; k < n; ++k) add_cautions(ch.stages[k], subs[k], k + 1 < n ? static_cast<int>(k) + 2 : 0);
   ch.cautions.clear();
   for (std::size_t k = 0; k < n; ++k)
@@ -243,6 +305,25 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, De
         ch.cautions.push_back(fmt::format("stage {}: {}", k + 1, text));
       }
     }
+}
+
+}  // namespace
+
+std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth) {
+  const std::size_t n = ch.stages.size();
+  ChainPass pass{ch, spec, evaluations, depth, {}, std::vector<Spec>(n)};
+  if (std::string v = chain_nominal(pass); !v.empty()) return v;
+  // From the last stage back, so each knows the smallest gain after it (for its peak).
+  Backward acc;
+  for (std::size_t k = n; k-- > 0;)
+    if (std::string v = stage_in_chain(pass, k, acc); !v.empty()) return v;
+  if (std::string v = close_totals(acc, spec); !v.empty()) return v;
+  if (std::string v = check_links(ch, spec); !v.empty()) return v;
+  whole_chain_worst(acc, pass);
+  if (depth == Depth::full && n > 1)
+    if (std::string v = fed_zout(pass, acc.w.zout); !v.empty()) return v;
+  adopt(ch, acc.w, pass.cp.whole);
+  gather_cautions(ch, pass.subs);
   rescore(ch, spec);
   return {};
 }

@@ -2,6 +2,7 @@
 // design equations propose resistor sets on values the shelf can make; capacitors are
 // sized for the band; every candidate draws on one quantity pool for all its copies;
 // survivors are evaluated at the corners, ranked, and the best get a Monte Carlo yield.
+// When nothing fits, the diagnosis names the constraint that binds and what to buy.
 #include "shelfstage/synth/design.hpp"
 
 #include <algorithm>
@@ -125,10 +126,126 @@ class Searcher {
 
 // --- StageBuilder ----------------------------------------------------------------------
 
+namespace {
+
+// Capacitor choices repeat across proposals (the same RG, the same band): remembered by
+// target, volts and whether an electrolytic may go there.
+class CapacitorCache {
+ public:
+  const Combo* find(const Shelf& shelf, double target, double volts, bool allow_pol) {
+    const auto key = static_cast<std::uint64_t>(std::llround(std::log(target) * 200.0)) * 1000003ULL +
+                     static_cast<std::uint64_t>(std::llround(volts * 4.0)) * 2 + (allow_pol ? 1 : 0);
+    std::lock_guard lock(mutex_);
+    auto hit = caps_.find(key);
+    if (hit == caps_.end()) hit = caps_.emplace(key, shelf.capacitor_at_least(target, volts, allow_pol)).first;
+    return hit->second;
+  }
+
+ private:
+  std::mutex mutex_;
+  std::unordered_map<std::uint64_t, const Combo*> caps_;
+};
+
+// The best and least gains, swing and input impedance the stages reach (SearchStats): of a
+// stage in its active region; swing and Zin count only for stages with the gain asked for.
+void note_reach(SearchStats& stats, const Spec& spec, const stages::Performance& p) {
+  if (!p.valid || !p.active) return;
+  stats.best_gain = std::max(stats.best_gain, std::abs(p.gain));
+  stats.least_gain = std::min(stats.least_gain, std::abs(p.gain));
+  if (detail::gain_ok(spec, p.gain)) {
+    stats.gain_met = true;
+    stats.best_swing = std::max(stats.best_swing, p.swing_peak_v);
+    stats.best_zin = std::max(stats.best_zin, p.zin_ohm);
+  }
+}
+
+// Whether a stage's figures keep the request's constraints and gain window (the band let go
+// when band_later: ideal capacitors do not tell it); otherwise counts the reason in stats.
+bool meets_request(const Spec& spec, const stages::Performance& p, SearchStats& stats, bool band_later) {
+  note_reach(stats, spec, p);
+  const std::string v = detail::violation(spec, p);
+  if (!v.empty() && !(band_later && v == "band")) {
+    ++stats.failures[v];
+    return false;
+  }
+  if (!detail::gain_ok(spec, p.gain)) {
+    ++stats.failures["gain"];
+    return false;
+  }
+  return true;
+}
+
+// The shelf's combos for the proposed resistors; capacitors zeroed until they are sized.
+// False when the shelf cannot make a value.
+bool fit_resistors(const Shelf& shelf, std::span<const stages::Role> roles, const stages::Values& proposal,
+                   StageBuilder::Draft& d) {
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (roles[i].kind == 'C') d.values[i] = 0;
+    if (roles[i].kind != 'R' || !(proposal[i] > 0)) continue;
+    d.combos[i] = shelf.resistor(proposal[i]);
+    if (!d.combos[i]) return false;
+  }
+  return true;
+}
+
+// What sizing a stage's capacitors reads: their targets, the stress pass at the highest
+// supply (the DC each holds), the signal peak on top, and where the combos come from.
+struct CapacitorSizing {
+  const stages::Topology& topology;
+  const stages::Values& targets;
+  const stages::Performance& pre;
+  double peak;
+  const Shelf& shelf;
+  CapacitorCache& cache;
+};
+
+// Each capacitor from the shelf: at least its target, rated for its DC and the peak. False
+// when the shelf has none (what was needed goes to stats).
+bool fit_capacitors(const CapacitorSizing& cs, StageBuilder::Draft& d, SearchStats& stats) {
+  const auto roles = cs.topology.roles();
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (roles[i].kind != 'C' || !(cs.targets[i] > 0)) continue;
+    double dc = 0;
+    for (const auto& st : cs.pre.stress)
+      if (st.role == i) {
+        dc = st.dc_v;
+        d.plus[i] = st.plus_net;
+      }
+    // An electrolytic only where it sits on a DC bias (common practice: a few tenths of a
+    // volt forward at least; the in-band signal across a coupling or bypass capacitor is
+    // small). The corner pass then checks it is never reversed.
+    const bool allow_pol = roles[i].polar_ok && dc >= 0.3;
+    const Combo* combo = cs.cache.find(cs.shelf, cs.targets[i], dc + cs.peak, allow_pol);
+    if (!combo) {
+      ++stats.failures["capacitor"];
+      stats.capacitor_need = fmt::format("{} of {} needs at least {} {}rated above {:.3g} V", roles[i].name,
+                                         cs.topology.name(), units::format_value(cs.targets[i], units::Unit::farad),
+                                         allow_pol ? "" : "non-polarised ", 1.25 * (dc + cs.peak));
+      return false;
+    }
+    d.combos[i] = combo;
+    d.values[i] = combo->nominal;
+  }
+  return true;
+}
+
+// A draft's pieces (the transistor and every combo's) and the pieces to buy for every copy
+// (the shortfall, and every copy of a part that is only a purchase).
+void count_pieces(StageBuilder::Draft& d, const Shelf& shelf, int copies, int short_by) {
+  d.pieces = 1;
+  d.purchases = short_by;
+  for (const Combo* cb : d.combos) {
+    if (!cb) continue;
+    d.pieces += cb->count;
+    for (std::size_t k = 0; k < cb->count; ++k)
+      if (shelf.groups()[cb->group[k]].purchase) d.purchases += copies;
+  }
+}
+
+}  // namespace
+
 struct StageBuilder::Cache {
-  // Capacitor choices repeat across proposals (the same RG, the same band): remember them.
-  std::mutex mutex;
-  std::unordered_map<std::uint64_t, const Combo*> caps;
+  CapacitorCache capacitors;
 };
 
 StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
@@ -182,125 +299,39 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   const auto roles = t.roles();
   // A light draft first: values and the combos that make them; a Candidate (strings,
   // device record, part list) only for a proposal that works at nominal.
-  stages::Values values = proposal;
-  std::array<const Combo*, stages::kMaxRoles> combos{};
-  std::array<std::string_view, stages::kMaxRoles> plus{};
-  for (std::size_t i = 0; i < roles.size(); ++i) {
-    if (roles[i].kind == 'C') values[i] = 0;
-    if (roles[i].kind != 'R' || !(proposal[i] > 0)) continue;
-    combos[i] = shelf_.resistor(proposal[i]);
-    if (!combos[i]) return false;
-  }
+  Draft d;
+  d.values = proposal;
+  if (!fit_resistors(shelf_, roles, proposal, d)) return false;
   // Capacitors: sized for the band, rated for the DC they hold at the highest supply.
-  const double f_low = spec_.f_low_target_hz();
-  const stages::Values targets = t.capacitor_targets(values, q_, cond_, f_low);
-  stages::Values trial = values;
+  const stages::Values targets = t.capacitor_targets(d.values, q_, cond_, spec_.f_low_target_hz());
+  stages::Values trial = d.values;
   for (std::size_t i = 0; i < roles.size(); ++i)
     if (roles[i].kind == 'C') trial[i] = targets[i];
-  {
-    // Most proposals miss the gain window or a constraint already with ideal capacitors:
-    // one evaluation settles them before any capacitor is looked up.
-    const auto ideal = t.evaluate(trial, q_, screen_, stages::Detail::core);
-    ++stats.evaluations;
-    if (ideal.valid && ideal.active) {
-      stats.best_gain = std::max(stats.best_gain, std::abs(ideal.gain));
-      stats.least_gain = std::min(stats.least_gain, std::abs(ideal.gain));
-      // Swing and Zin count only for stages with the gain asked for.
-      if (detail::gain_ok(spec_, ideal.gain)) {
-        stats.gain_met = true;
-        stats.best_swing = std::max(stats.best_swing, ideal.swing_peak_v);
-        stats.best_zin = std::max(stats.best_zin, ideal.zin_ohm);
-      }
-    }
-    const std::string v = detail::violation(spec_, ideal);
-    if (!v.empty() && v != "band") {
-      ++stats.failures[v];
-      return false;
-    }
-    if (!detail::gain_ok(spec_, ideal.gain)) {
-      ++stats.failures["gain"];
-      return false;
-    }
-  }
+  // Most proposals miss the gain window or a constraint already with ideal capacitors:
+  // one evaluation settles them before any capacitor is looked up.
+  const auto ideal = t.evaluate(trial, q_, screen_, stages::Detail::core);
+  ++stats.evaluations;
+  if (!meets_request(spec_, ideal, stats, true)) return false;
   const auto pre = t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
   ++stats.evaluations;
   if (!pre.valid) {
     ++stats.failures["bias"];
     return false;
   }
-  const double peak = detail::signal_peak(spec_, pre);
-  for (std::size_t i = 0; i < roles.size(); ++i) {
-    if (roles[i].kind != 'C' || !(targets[i] > 0)) continue;
-    double dc = 0;
-    for (const auto& st : pre.stress)
-      if (st.role == i) {
-        dc = st.dc_v;
-        plus[i] = st.plus_net;
-      }
-    // An electrolytic only where it sits on a DC bias (common practice: a few tenths of a
-    // volt forward at least; the in-band signal across a coupling or bypass capacitor is
-    // small). The corner pass then checks it is never reversed.
-    const bool allow_pol = roles[i].polar_ok && dc >= 0.3;
-    const auto key = static_cast<std::uint64_t>(std::llround(std::log(targets[i]) * 200.0)) * 1000003ULL +
-                     static_cast<std::uint64_t>(std::llround((dc + peak) * 4.0)) * 2 + (allow_pol ? 1 : 0);
-    const Combo* combo = nullptr;
-    {
-      std::lock_guard lock(cache_->mutex);
-      auto hit = cache_->caps.find(key);
-      if (hit == cache_->caps.end())
-        hit = cache_->caps.emplace(key, shelf_.capacitor_at_least(targets[i], dc + peak, allow_pol)).first;
-      combo = hit->second;
-    }
-    if (!combo) {
-      ++stats.failures["capacitor"];
-      stats.capacitor_need = fmt::format("{} of {} needs at least {} {}rated above {:.3g} V", roles[i].name, t.name(),
-                                         units::format_value(targets[i], units::Unit::farad),
-                                         allow_pol ? "" : "non-polarised ", 1.25 * (dc + peak));
-      return false;
-    }
-    combos[i] = combo;
-    values[i] = combo->nominal;
-  }
+  if (!fit_capacitors({t, targets, pre, detail::signal_peak(spec_, pre), shelf_, cache_->capacitors}, d, stats))
+    return false;
   // One quantity pool: every role and every copy.
-  const int short_by = shortfall(combos);
+  const int short_by = shortfall(d.combos);
   if (short_by < 0) {
     ++stats.failures["stock"];
     return false;
   }
-  const stages::Performance nominal = t.evaluate(values, q_, screen_, stages::Detail::core);
+  d.nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
   ++stats.evaluations;
-  const std::string v = detail::violation(spec_, nominal);
-  if (nominal.valid && nominal.active) {
-    stats.best_gain = std::max(stats.best_gain, std::abs(nominal.gain));
-    stats.least_gain = std::min(stats.least_gain, std::abs(nominal.gain));
-    // Swing and Zin count only for stages with the gain asked for.
-    if (detail::gain_ok(spec_, nominal.gain)) {
-      stats.gain_met = true;
-      stats.best_swing = std::max(stats.best_swing, nominal.swing_peak_v);
-      stats.best_zin = std::max(stats.best_zin, nominal.zin_ohm);
-    }
-  }
-  if (!v.empty()) {
-    ++stats.failures[v];
-    return false;
-  }
-  if (!detail::gain_ok(spec_, nominal.gain)) {
-    ++stats.failures["gain"];
-    return false;
-  }
-  out.values = values;
-  out.combos = combos;
-  out.plus = plus;
-  out.nominal = nominal;
-  out.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
-  out.pieces = 1;
-  out.purchases = short_by;
-  for (const Combo* cb : combos) {
-    if (!cb) continue;
-    out.pieces += cb->count;
-    for (std::size_t k = 0; k < cb->count; ++k)
-      if (shelf_.groups()[cb->group[k]].purchase) out.purchases += spec_.copies;
-  }
+  if (!meets_request(spec_, d.nominal, stats, false)) return false;
+  d.error_nominal = std::abs(d.nominal.gain) / spec_.gain - 1.0;
+  count_pieces(d, shelf_, spec_.copies, short_by);
+  out = std::move(d);
   return true;
 }
 
@@ -610,6 +641,161 @@ std::vector<Candidate> finish_top(std::vector<Candidate>& ranked, const Spec& sp
   return shown;
 }
 
+// One design run: the request, the stock, the shelf made of it, the search jobs, the tally.
+struct Run {
+  const Spec& spec;
+  const Inventory& inv;
+  const Shelf& shelf;
+  const std::vector<detail::Job>& jobs;
+  SearchStats& tally;
+  const Progress& progress;
+};
+
+// Singles first, finished as shown; chains when none of those holds the gain window at
+// every corner (or when asked for), finished the same way; then the best of both.
+std::vector<Candidate> search_designs(const Run& run) {
+  const Spec& spec = run.spec;
+  std::vector<Candidate> out;
+  if (spec.stages_min <= 1) {
+    std::vector<Candidate> singles = detail::run_jobs(spec, run.shelf, run.jobs, run.tally, run.progress);
+    out = finish_top(singles, spec, run.shelf, run.tally);
+  }
+  const bool single_meets = std::any_of(out.begin(), out.end(), [&](const Candidate& c) {
+    return c.error_worst <= spec.gain_tol;
+  });
+  if (spec.stages_max >= 2 && !spec.piece && !single_meets) {
+    if (run.progress) run.progress(0, 1, "chains");
+    std::vector<Candidate> chains = detail::design_chains(spec, run.inv, run.shelf, run.tally);
+    for (auto& c : finish_top(chains, spec, run.shelf, run.tally)) out.push_back(std::move(c));
+    std::stable_sort(out.begin(), out.end(), [](const Candidate& a, const Candidate& b) {
+      if (a.score != b.score) return a.score < b.score;
+      return a.pieces < b.pieces;
+    });
+    if (static_cast<int>(out.size()) > spec.top) out.resize(static_cast<std::size_t>(spec.top));
+    if (run.progress) run.progress(1, 1, "chains");
+  }
+  return out;
+}
+
+// The ranks, and each candidate's Monte Carlo yield.
+void rank_and_yield(DesignResult& r, const Run& run) {
+  for (std::size_t i = 0; i < r.candidates.size(); ++i) {
+    auto& c = r.candidates[i];
+    c.rank = static_cast<int>(i) + 1;
+    c.yield = detail::monte_carlo(c, run.spec);
+    r.evaluations += run.spec.mc_samples;
+    if (run.progress) run.progress(static_cast<double>(i + 1), static_cast<double>(r.candidates.size()), "Monte Carlo");
+  }
+}
+
+// The constraint that stopped the most candidates (those that got furthest count first:
+// a stage that works at nominal but not at a corner); a gain the stages reach is not the
+// reason, the next most common stop is.
+std::string most_common_stop(const SearchStats& tally) {
+  const auto& stops = tally.corner_failures.empty() ? tally.failures : tally.corner_failures;
+  std::string binding = "gain";
+  long most = -1;
+  for (const auto& [k, v] : stops)
+    if (v > most) {
+      most = v;
+      binding = k;
+    }
+  if (binding == "gain" && tally.gain_met) {
+    most = -1;
+    for (const auto& [k, v] : stops)
+      if (k != "gain" && v > most) {
+        most = v;
+        binding = k;
+      }
+  }
+  return binding;
+}
+
+// What binds when nothing fits: the most common stop, unless the gain is out of reach, one
+// copy fits where several do not, or the swing is beyond the supply.
+std::string binding_of(const Run& run) {
+  const Spec& spec = run.spec;
+  SearchStats& tally = run.tally;
+  std::string binding = most_common_stop(tally);
+  if (tally.proposals == 0) binding = run.jobs.empty() ? "devices" : "gain";
+  if (!run.jobs.empty() && !tally.gain_met && tally.best_gain < spec.gain * (1.0 - spec.gain_tol)) {
+    // No working stage reached the gain: that binds first. How close the stages come:
+    // probe with the largest load resistors the headroom allows.
+    binding = "gain";
+    SearchStats probe;
+    detail::run_jobs(spec, run.shelf, run.jobs, probe, {}, true);
+    tally.best_gain = std::max(tally.best_gain, probe.best_gain);
+  }
+  // Several copies that the shelf holds too few pieces for: when one copy fits, the
+  // quantity binds, whatever stopped the rest.
+  if (spec.explain_failure && spec.copies > 1 && tally.failures.count("stock") && !run.jobs.empty()) {
+    Spec one = spec;
+    one.copies = 1;
+    one.mc_samples = 0;
+    one.top = 1;
+    one.explain_failure = false;
+    if (!design(one, run.inv).candidates.empty()) binding = "stock";
+  }
+  // A swing beyond the supply binds before anything else: an output swings within its rail.
+  if (spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v) binding = "swing";
+  return binding;
+}
+
+// How many stages were proposed, and what stopped them at nominal and at the corners.
+std::string stop_counts(const SearchStats& tally) {
+  auto list = [](const std::map<std::string, long>& m) {
+    std::string out;
+    for (const auto& [k, v] : m) out += fmt::format("{}{} {}", out.empty() ? "" : ", ", v, k);
+    return out;
+  };
+  return fmt::format(" ({} stages proposed; stopped at nominal: {}; at the corners: {})", tally.proposals,
+                     tally.failures.empty() ? "none" : list(tally.failures),
+                     tally.corner_failures.empty() ? "none" : list(tally.corner_failures));
+}
+
+// The smallest purchase that gives a design, as lines to buy and the design it makes.
+void suggest_purchases(Diagnosis& d, const Spec& spec, const Inventory& inv) {
+  auto bought = smallest_purchase(spec, inv);
+  if (!bought) return;
+  for (const auto& l : bought->buy) {
+    const bool resistor = l.kind == store::PartKind::resistor;
+    std::string roles;
+    for (const auto& role : l.roles) roles += (roles.empty() ? "" : ", ") + role;
+    d.suggestions.push_back(fmt::format(
+        "buy {} x {} {}{} for {} of {} with {}{}", l.qty,
+        units::format_value(l.value, resistor ? units::Unit::ohm : units::Unit::farad),
+        units::format_tolerance(l.tol),
+        resistor ? std::string() : fmt::format(" {}V {}", l.rating, l.dielectric), roles,
+        bought->design.topology->name(), bought->design.device.name,
+        l.held > 0 ? fmt::format(" (the shelf holds {} of the {} needed)", l.held, l.held + l.qty) : std::string()));
+  }
+  d.with_purchases = std::move(bought->design);
+}
+
+// When nothing fits: which constraint binds, why, and what purchases would help.
+void diagnose(Diagnosis& d, const Run& run) {
+  const Spec& spec = run.spec;
+  const bool searched = !run.jobs.empty();
+  const std::string binding = binding_of(run);
+  d.binding = binding;
+  d.detail = searched ? describe_binding(binding, spec, run.tally)
+                      : "no stocked transistor fits the chosen topologies and device filters";
+  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock")
+    detail::explain_binding(d, spec, run.inv);
+  if (spec.gain < 1.0)
+    d.detail = fmt::format(
+        "a gain of {:.3g} is an attenuation of {:.1f} dB: two resistors as a divider give it without a "
+        "transistor; {}",
+        spec.gain, -units::to_db(spec.gain), d.detail);
+  if (spec.stages_max >= 2 && !spec.piece && searched)
+    d.detail += fmt::format("; no chain of up to {} stages meets it either", spec.stages_max);
+  if (!run.tally.corner_failures.empty() && binding != "stock")
+    d.detail += "; stages that work at nominal fail at the worst-case corners of the device spread, "
+                "tolerances or supply (a measured piece, --piece, narrows the spread)";
+  if (!run.tally.failures.empty() || !run.tally.corner_failures.empty()) d.detail += stop_counts(run.tally);
+  if (searched && spec.explain_failure) suggest_purchases(d, spec, run.inv);
+}
+
 }  // namespace
 
 DesignResult design(const Spec& spec, const Inventory& inv, const Progress& progress) {
@@ -622,26 +808,8 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   so.combine = spec.combine;
   const Shelf shelf(inv.parts, so);
   SearchStats tally;
-  // Singles first, finished as shown; chains when none of those holds the gain window at
-  // every corner (or when asked for), finished the same way; then the best of both.
-  if (spec.stages_min <= 1) {
-    std::vector<Candidate> singles = detail::run_jobs(spec, shelf, jobs, tally, progress);
-    r.candidates = finish_top(singles, spec, shelf, tally);
-  }
-  const bool single_meets = std::any_of(r.candidates.begin(), r.candidates.end(), [&](const Candidate& c) {
-    return c.error_worst <= spec.gain_tol;
-  });
-  if (spec.stages_max >= 2 && !spec.piece && !single_meets) {
-    if (progress) progress(0, 1, "chains");
-    std::vector<Candidate> chains = detail::design_chains(spec, inv, shelf, tally);
-    for (auto& c : finish_top(chains, spec, shelf, tally)) r.candidates.push_back(std::move(c));
-    std::stable_sort(r.candidates.begin(), r.candidates.end(), [](const Candidate& a, const Candidate& b) {
-      if (a.score != b.score) return a.score < b.score;
-      return a.pieces < b.pieces;
-    });
-    if (static_cast<int>(r.candidates.size()) > spec.top) r.candidates.resize(static_cast<std::size_t>(spec.top));
-    if (progress) progress(1, 1, "chains");
-  }
+  const Run run{spec, inv, shelf, jobs, tally, progress};
+  r.candidates = search_designs(run);
   r.proposals = tally.proposals;
   r.evaluations = tally.evaluations;
   if (spec.gain < 1.0)
@@ -651,95 +819,8 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
                                     "it without a transistor; a stage earns its place only by its input impedance or "
                                     "its drive into the load",
                                     spec.gain, units::to_db(spec.gain)));
-  for (std::size_t i = 0; i < r.candidates.size(); ++i) {
-    auto& c = r.candidates[i];
-    c.rank = static_cast<int>(i) + 1;
-    c.yield = detail::monte_carlo(c, spec);
-    r.evaluations += spec.mc_samples;
-    if (progress) progress(static_cast<double>(i + 1), static_cast<double>(r.candidates.size()), "Monte Carlo");
-  }
-  if (r.candidates.empty()) {
-    // Which constraint stopped the most candidates (those that got furthest count first:
-    // a stage that works at nominal but not at a corner), and what purchases would help.
-    const auto& stops = tally.corner_failures.empty() ? tally.failures : tally.corner_failures;
-    std::string binding = "gain";
-    long most = -1;
-    for (const auto& [k, v] : stops)
-      if (v > most) {
-        most = v;
-        binding = k;
-      }
-    // A gain the stages reach is not the reason: the next most common stop is.
-    if (binding == "gain" && tally.gain_met) {
-      most = -1;
-      for (const auto& [k, v] : stops)
-        if (k != "gain" && v > most) {
-          most = v;
-          binding = k;
-        }
-    }
-    if (tally.proposals == 0) binding = jobs.empty() ? "devices" : "gain";
-    if (!jobs.empty() && !tally.gain_met && tally.best_gain < spec.gain * (1.0 - spec.gain_tol)) {
-      // No working stage reached the gain: that binds first. How close the stages come:
-      // probe with the largest load resistors the headroom allows.
-      binding = "gain";
-      SearchStats probe;
-      detail::run_jobs(spec, shelf, jobs, probe, {}, true);
-      tally.best_gain = std::max(tally.best_gain, probe.best_gain);
-    }
-    // Several copies that the shelf holds too few pieces for: when one copy fits, the
-    // quantity binds, whatever stopped the rest.
-    if (spec.explain_failure && spec.copies > 1 && tally.failures.count("stock") && !jobs.empty()) {
-      Spec one = spec;
-      one.copies = 1;
-      one.mc_samples = 0;
-      one.top = 1;
-      one.explain_failure = false;
-      if (!design(one, inv).candidates.empty()) binding = "stock";
-    }
-    // A swing beyond the supply binds before anything else: an output swings within its rail.
-    if (spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v) binding = "swing";
-    r.diagnosis.binding = binding;
-    r.diagnosis.detail = jobs.empty() ? "no stocked transistor fits the chosen topologies and device filters"
-                                      : describe_binding(binding, spec, tally);
-    if (!jobs.empty() && spec.explain_failure && spec.stages_min <= 1 && binding != "stock") detail::explain_binding(r.diagnosis, spec, inv);
-    if (spec.gain < 1.0)
-      r.diagnosis.detail = fmt::format(
-          "a gain of {:.3g} is an attenuation of {:.1f} dB: two resistors as a divider give it without a "
-          "transistor; {}",
-          spec.gain, -units::to_db(spec.gain), r.diagnosis.detail);
-    if (spec.stages_max >= 2 && !spec.piece && !jobs.empty())
-      r.diagnosis.detail += fmt::format("; no chain of up to {} stages meets it either", spec.stages_max);
-    if (!tally.corner_failures.empty() && binding != "stock")
-      r.diagnosis.detail += "; stages that work at nominal fail at the worst-case corners of the device spread, "
-                            "tolerances or supply (a measured piece, --piece, narrows the spread)";
-    auto list = [](const std::map<std::string, long>& m) {
-      std::string out;
-      for (const auto& [k, v] : m) out += fmt::format("{}{} {}", out.empty() ? "" : ", ", v, k);
-      return out;
-    };
-    if (!tally.failures.empty() || !tally.corner_failures.empty())
-      r.diagnosis.detail += fmt::format(" ({} stages proposed; stopped at nominal: {}; at the corners: {})",
-                                        tally.proposals, tally.failures.empty() ? "none" : list(tally.failures),
-                                        tally.corner_failures.empty() ? "none" : list(tally.corner_failures));
-    if (!jobs.empty() && spec.explain_failure) {
-      if (auto bought = smallest_purchase(spec, inv)) {
-        for (const auto& l : bought->buy) {
-          const bool resistor = l.kind == store::PartKind::resistor;
-          std::string roles;
-          for (const auto& role : l.roles) roles += (roles.empty() ? "" : ", ") + role;
-          r.diagnosis.suggestions.push_back(fmt::format(
-              "buy {} x {} {}{} for {} of {} with {}{}", l.qty,
-              units::format_value(l.value, resistor ? units::Unit::ohm : units::Unit::farad),
-              units::format_tolerance(l.tol),
-              resistor ? std::string() : fmt::format(" {}V {}", l.rating, l.dielectric), roles,
-              bought->design.topology->name(), bought->design.device.name,
-              l.held > 0 ? fmt::format(" (the shelf holds {} of the {} needed)", l.held, l.held + l.qty) : std::string()));
-        }
-        r.diagnosis.with_purchases = std::move(bought->design);
-      }
-    }
-  }
+  rank_and_yield(r, run);
+  if (r.candidates.empty()) diagnose(r.diagnosis, run);
   r.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   return r;
 }

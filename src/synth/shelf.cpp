@@ -105,22 +105,21 @@ void nearest_in(const std::vector<double>& values, double target, std::size_t n,
   }
 }
 
-}  // namespace
-
-Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
-  // Group stock lines by what the part is; bins only matter for picking.
+// Stock lines grouped by what the part is (bins only matter for picking): one group per
+// kind, value, tolerance, rating and dielectric (values equal to 12 digits), in bin order.
+std::vector<StockGroup> group_stock(const std::vector<store::Part>& parts) {
   std::vector<const store::Part*> sorted;
   for (const auto& p : parts)
     if (store::is_passive(p.kind) && p.available() > 0 && p.value > 0) sorted.push_back(&p);
   std::sort(sorted.begin(), sorted.end(), [](const store::Part* a, const store::Part* b) { return bin_less(a->bin, b->bin); });
+  std::vector<StockGroup> groups;
   std::unordered_map<std::string, std::size_t> index;
   for (const store::Part* p : sorted) {
     const units::Tolerance tol = default_tolerance(*p);
     const double rating = p->kind == store::PartKind::resistor ? p->power_w.value_or(0.0) : p->volts.value_or(0.0);
-    // One group per kind, value, tolerance, rating and dielectric (values equal to 12 digits).
     const std::string key = fmt::format("{}|{:.12g}|{:.12g}|{:.12g}|{:.12g}|{}", static_cast<int>(p->kind), p->value,
                                         tol.minus, tol.plus, rating, p->dielectric);
-    auto [slot, added] = index.emplace(key, groups_.size());
+    auto [slot, added] = index.emplace(key, groups.size());
     if (added) {
       StockGroup g;
       g.kind = p->kind;
@@ -129,48 +128,58 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
       g.rating = rating;
       g.dielectric = p->dielectric;
       g.polarised = p->polarised();
-      groups_.push_back(g);
+      groups.push_back(g);
     }
-    const auto it = groups_.begin() + static_cast<std::ptrdiff_t>(slot->second);
+    const auto it = groups.begin() + static_cast<std::ptrdiff_t>(slot->second);
     it->available += p->available();
     it->lines.push_back(p->id);
     it->line_available.push_back(p->available());
   }
+  return groups;
+}
+
+// A shelf with purchases: more of what is stocked can be bought, and so can the values one
+// could order: E24 resistors (5 %, 0.25 W) over 10 ohm..10M, E6 film capacitors 1n..1u
+// (63 V) and E6 electrolytics 1u..1000u at the purchase rating.
+void add_purchasable(std::vector<StockGroup>& groups, double purchase_volts) {
+  for (auto& g : groups) g.buyable = true;
+  auto add = [&](store::PartKind kind, double value, units::Tolerance tol, double rating, const char* diel, bool pol) {
+    StockGroup g;
+    g.kind = kind;
+    g.value = value;
+    g.tol = tol;
+    g.rating = rating;
+    g.dielectric = diel;
+    g.polarised = pol;
+    g.available = 1000000;
+    g.purchase = true;
+    g.buyable = true;
+    groups.push_back(g);
+  };
+  for (double dec = 10; dec <= 1e6 * 1.001; dec *= 10)
+    for (double m : units::eseries(24)) add(store::PartKind::resistor, m * dec, {0.05, 0.05}, 0.25, "", false);
+  add(store::PartKind::resistor, 10e6, {0.05, 0.05}, 0.25, "", false);
+  for (double dec = 1e-9; dec <= 1e-7 * 1.001; dec *= 10)
+    for (double m : units::eseries(6)) add(store::PartKind::capacitor, m * dec, {0.05, 0.05}, 63, "film", false);
+  for (double dec = 1e-6; dec <= 1e-4 * 1.001; dec *= 10)
+    for (double m : units::eseries(6))
+      add(store::PartKind::capacitor, m * dec, {0.20, 0.20}, purchase_volts, "electrolytic", true);
+  add(store::PartKind::capacitor, 1e-3, {0.20, 0.20}, purchase_volts, "electrolytic", true);
+}
+
+}  // namespace
+
+Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
+  groups_ = group_stock(parts);
   market_ = options.add_purchases;
-  if (options.add_purchases) {
-    for (auto& g : groups_) g.buyable = true;  // more of what is stocked can be bought
-    // Values one could order: E24 resistors (5 %, 0.25 W) over 10 ohm..10M, E6 film
-    // capacitors 1n..1u (63 V) and E6 electrolytics 1u..1000u at the purchase rating.
-    auto add = [&](store::PartKind kind, double value, units::Tolerance tol, double rating, const char* diel, bool pol) {
-      StockGroup g;
-      g.kind = kind;
-      g.value = value;
-      g.tol = tol;
-      g.rating = rating;
-      g.dielectric = diel;
-      g.polarised = pol;
-      g.available = 1000000;
-      g.purchase = true;
-      g.buyable = true;
-      groups_.push_back(g);
-    };
-    for (double dec = 10; dec <= 1e6 * 1.001; dec *= 10)
-      for (double m : units::eseries(24)) add(store::PartKind::resistor, m * dec, {0.05, 0.05}, 0.25, "", false);
-    add(store::PartKind::resistor, 10e6, {0.05, 0.05}, 0.25, "", false);
-    for (double dec = 1e-9; dec <= 1e-7 * 1.001; dec *= 10)
-      for (double m : units::eseries(6)) add(store::PartKind::capacitor, m * dec, {0.05, 0.05}, 63, "film", false);
-    for (double dec = 1e-6; dec <= 1e-4 * 1.001; dec *= 10)
-      for (double m : units::eseries(6))
-        add(store::PartKind::capacitor, m * dec, {0.20, 0.20}, options.purchase_volts, "electrolytic", true);
-    add(store::PartKind::capacitor, 1e-3, {0.20, 0.20}, options.purchase_volts, "electrolytic", true);
-  }
+  if (options.add_purchases) add_purchasable(groups_, options.purchase_volts);
   serial_ = next_shelf_serial++;
   combine_ = options.combine;
   build(c_, store::PartKind::capacitor, 1, options.combine);
   build(r1_, store::PartKind::resistor, 1, 1);
   if (options.combine >= 3) build(r3_, store::PartKind::resistor, 3, 3);
-  // Singles are sorted stocked-first and tightest-first within a value: the first of each
-  // value is its best group.
+  // The value indexes. Singles are sorted stocked-first and tightest-first within a value:
+  // the first of each value is its best group.
   for (const Combo& c : r1_) {
     if (r_index_.value.empty() || !same(r_index_.value.back(), c.nominal)) {
       r_index_.value.push_back(c.nominal);
