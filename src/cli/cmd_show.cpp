@@ -7,6 +7,7 @@
 
 #include "commands.hpp"
 #include "stage_view.hpp"
+#include "shelfstage/synth/cautions.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/analysis.hpp"
 #include "shelfstage/report/chain_view.hpp"
@@ -189,10 +190,7 @@ void run_show(const ShowOptions& o, Context& ctx) {
   // The kept design's cautions, and the hazard caution of the analysis when the design's
   // own list lacks one.
   std::vector<std::string> cautions = c.cautions;
-  const auto hazard = [](const std::string& s) { return s.starts_with("hazardous voltage"); };
-  if (std::none_of(cautions.begin(), cautions.end(), hazard))
-    for (const auto& s : a.cautions)
-      if (hazard(s)) cautions.insert(cautions.begin(), s);
+  synth::take_hazard_caution(cautions, a.cautions);
 
   if (ctx.global.json) {
     report::Json analysis = report::analysis_json(a);

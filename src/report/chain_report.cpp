@@ -10,6 +10,7 @@
 #include <set>
 
 #include "html_parts.hpp"
+#include "shelfstage/synth/cautions.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/chain_view.hpp"
 #include "shelfstage/report/design_text.hpp"
@@ -140,8 +141,7 @@ std::string chain_html_report(const ReportInput& in) {
     sin.pick.reset();
     const auto& s = sin.candidate;
     const Analysis& a = analyses[k];
-    for (const auto& t : a.cautions)
-      if (is_hazard(t) && std::none_of(cautions.begin(), cautions.end(), is_hazard)) cautions.insert(cautions.begin(), t);
+    synth::take_hazard_caution(cautions, a.cautions);
     const BiasSpread b = bias_spread(s, sin.spec, in.bias_samples);
     std::string h = fmt::format("<section id=\"stage\"><h2>Stage {}: {} with {}</h2><p>{}</p></section>", k + 1,
                                 esc(s.topology->name()), esc(device_text(s)), esc(s.topology->summary()));

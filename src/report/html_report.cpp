@@ -154,9 +154,7 @@ bool is_hazard(const std::string& s) { return synth::is_hazard_caution(s); }
 /// own list lacks one, and every polarised part with the way it goes in.
 std::vector<std::string> all_cautions(const ReportInput& in, const Analysis& a) {
   std::vector<std::string> cautions = in.candidate.cautions;
-  if (std::none_of(cautions.begin(), cautions.end(), is_hazard))
-    for (const auto& s : a.cautions)
-      if (is_hazard(s)) cautions.insert(cautions.begin(), s);
+  synth::take_hazard_caution(cautions, a.cautions);
   for (const auto& rp : in.candidate.parts)
     if (rp.polarised) {
       const std::string part = fmt::format("{} ({})", rp.designator, rp.role);
@@ -222,7 +220,7 @@ std::string hazard_box(const std::vector<std::string>& cautions) {
   std::string h;
   for (const auto& s : cautions)
     if (is_hazard(s)) {
-      std::string text = s.substr(std::string_view("hazardous voltage").size());
+      std::string text = s.substr(std::string_view("hazardous voltage").size());  // synth::hazard_caution's head
       if (text.starts_with(":")) text = text.substr(1);
       if (text.starts_with(" ")) text = text.substr(1);
       h += "<div class=\"hazard\"><b>Hazardous voltage.</b> " + esc(text) + "</div>";

@@ -3,6 +3,8 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
+
 namespace shelfstage::synth {
 
 namespace {
@@ -20,6 +22,15 @@ std::string hazard_caution(double supply_v) {
 }
 
 bool is_hazard_caution(std::string_view line) { return line.starts_with(kHazardStart); }
+
+void take_hazard_caution(std::vector<std::string>& cautions, std::span<const std::string> others) {
+  if (std::any_of(cautions.begin(), cautions.end(), [](const std::string& s) { return is_hazard_caution(s); })) return;
+  for (const auto& s : others)
+    if (is_hazard_caution(s)) {
+      cautions.insert(cautions.begin(), s);
+      return;
+    }
+}
 
 std::string polarised_caution(std::string_view part, std::string_view plus_words) {
   return fmt::format("{}{}{}; never reverse it", part, kPolarised, plus_words);

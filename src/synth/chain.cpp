@@ -91,20 +91,6 @@ struct Path {
   double rank = 0;   ///< |gain error| and pieces, for the order of the corner pass
 };
 
-/// Runs fn(i) for i in [0, n) on the machine's cores (fn must not share state unguarded).
-template <class Fn>
-void parallel_for(std::size_t n, const Fn& fn) {
-  std::atomic<std::size_t> next{0};
-  auto worker = [&] {
-    for (std::size_t i = next++; i < n; i = next++) fn(i);
-  };
-  const unsigned k = std::min<unsigned>(std::max(1u, std::thread::hardware_concurrency()), static_cast<unsigned>(n));
-  std::vector<std::thread> threads;
-  for (unsigned t = 1; t < k; ++t) threads.emplace_back(worker);
-  worker();
-  for (auto& th : threads) th.join();
-}
-
 class ChainSearch {
  public:
   ChainSearch(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally)

@@ -489,19 +489,8 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
   Searcher searcher(spec, shelf, probe);
   std::vector<std::vector<Candidate>> out(jobs.size());
   std::vector<SearchStats> tallies(jobs.size());
-  std::atomic<std::size_t> next{0}, done{0};
-  auto worker = [&] {
-    for (std::size_t i = next++; i < jobs.size(); i = next++) {
-      out[i] = searcher.run(jobs[i], tallies[i]);
-      ++done;
-    }
-  };
-  const unsigned n = std::max(1u, std::min<unsigned>(std::thread::hardware_concurrency(), static_cast<unsigned>(jobs.size())));
-  std::vector<std::thread> threads;
-  for (unsigned k = 1; k < n; ++k) threads.emplace_back(worker);
-  worker();
-  for (auto& th : threads) th.join();
-  if (progress) progress(static_cast<double>(done), static_cast<double>(jobs.size()), "stages searched");
+  detail::parallel_for(jobs.size(), [&](std::size_t i) { out[i] = searcher.run(jobs[i], tallies[i]); });
+  if (progress) progress(static_cast<double>(jobs.size()), static_cast<double>(jobs.size()), "stages searched");
   std::vector<Candidate> all;
   for (std::size_t i = 0; i < jobs.size(); ++i) {
     tally.merge(tallies[i]);

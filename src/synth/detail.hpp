@@ -1,5 +1,9 @@
 // Internals shared by the synthesizer's files.
 #pragma once
+#include <algorithm>
+#include <atomic>
+#include <thread>
+#include <vector>
 #include <string>
 #include <vector>
 
@@ -107,5 +111,19 @@ std::string finish_chain(Candidate& ch, const Spec& spec);
 std::string finish_stage(Candidate& c, const Spec& spec);
 /// Points a chain pays for each stage beyond the first (README "How candidates are ranked").
 inline constexpr double kStagePoints = 3.0;
+
+/// The one thread pool of the search: Runs fn(i) for i in [0, n) on the machine's cores (fn must not share state unguarded).
+template <class Fn>
+void parallel_for(std::size_t n, const Fn& fn) {
+  std::atomic<std::size_t> next{0};
+  auto worker = [&] {
+    for (std::size_t i = next++; i < n; i = next++) fn(i);
+  };
+  const unsigned k = std::min<unsigned>(std::max(1u, std::thread::hardware_concurrency()), static_cast<unsigned>(n));
+  std::vector<std::thread> threads;
+  for (unsigned t = 1; t < k; ++t) threads.emplace_back(worker);
+  worker();
+  for (auto& th : threads) th.join();
+}
 
 }  // namespace shelfstage::synth::detail

@@ -5,6 +5,7 @@
 #include <span>
 #include <string>
 #include <string_view>
+#include <vector>
 
 namespace shelfstage::synth {
 
@@ -15,6 +16,9 @@ inline constexpr double kHazardousSupplyV = 60.0;
 std::string hazard_caution(double supply_v);
 /// True for a line written by hazard_caution.
 bool is_hazard_caution(std::string_view line);
+/// Puts the first hazard caution of `others` at the head of `cautions` when `cautions` has
+/// none (a kept design's list, completed from its analysis).
+void take_hazard_caution(std::vector<std::string>& cautions, std::span<const std::string> others);
 /// "C2 (CS) is polarised: its + lead goes to the source of Q1; never reverse it". `part` is the
 /// part as people call it ("C2 (CS)"), `plus_words` where its + lead goes.
 std::string polarised_caution(std::string_view part, std::string_view plus_words);
