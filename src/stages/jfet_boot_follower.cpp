@@ -32,7 +32,7 @@ constexpr Role kRoles[] = {
     {"CB", "C2", 'C', false, true, "source", "x", "bootstrap: carries the source's signal to the tap",
      {22, 17, true, 'r'}, true},
     {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
-    {"COUT", "C3", 'C', false, true, "source", "out", "output coupling", {24, 12, false, 'a'}},
+    {"COUT", "C3", 'C', false, true, "source", "out", "output coupling", {26, 14, false, 'a'}},
 };
 constexpr InnerNet kInner[] = {{"x", "RS1\u2013RS2 tap", 4}};
 
