@@ -124,23 +124,14 @@ Band band_edges(const Circuit& net, const OperatingPoint& op, double mid) {
   return b;
 }
 
-}  // namespace
-
-Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs, const Conditions& c,
-                             Detail detail, OperatingPoint* op_out) {
-  Performance p;
-  if (qs.empty()) throw InputError("evaluate_circuit: no transistor given");
-  circuit::SolverOptions so;
-  so.celsius = c.celsius;
-  const OperatingPoint op = circuit::solve_dc(net, so);
-  if (op.devices.size() != qs.size())
-    throw InputError(fmt::format("evaluate_circuit: {} transistors given for {} in the circuit", qs.size(), op.devices.size()));
-  const Transistor& q = qs.front();
+// The bias figures from the operating point: validity and the linear region for every device,
+// the first device's currents and voltages; returns each device's bias current (|IC| or |ID|).
+std::vector<double> read_bias(const Circuit& net, const OperatingPoint& op, std::span<const Transistor> qs,
+                              Performance& p) {
   const Element* dev = nullptr;
   for (const auto& el : net.elements())
     if (!dev && (el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt)) dev = &el;
   const circuit::DeviceOp& d = op.devices.front();
-  const double k = devices::polarity(q.kind);
   p.valid = true;
   p.active = true;
   std::vector<double> ic0;
@@ -161,6 +152,138 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
   p.v_in = op.node_v[dev->c.pins[1]];
   p.v_common = op.node_v[dev->c.pins[2]];
   p.supply_current_a = std::abs(op.source_i.front());
+  return ic0;
+}
+
+// The loss at each band edge asked for, relative to the mid-band gain.
+void band_losses(const Circuit& net, const OperatingPoint& op, const Conditions& c, double gain, Performance& p) {
+  const auto out = *net.find_net(std::string(kNetOut));
+  const double mid = std::abs(gain);
+  if (c.band_lo_hz > 0)
+    p.loss_lo_db = std::max(0.0, -20.0 * std::log10(std::abs(circuit::solve_ac(net, op, c.band_lo_hz)[out]) / mid));
+  if (c.band_hi_hz > 0)
+    p.loss_hi_db = std::max(0.0, -20.0 * std::log10(std::abs(circuit::solve_ac(net, op, c.band_hi_hz)[out]) / mid));
+}
+
+// The stage with its capacitors held, driven quasi-statically: what the swing and distortion
+// sweeps step through.
+struct Probe {
+  Circuit h;
+  std::span<const Transistor> qs;
+  const std::vector<double>& ic0;
+  const circuit::SolverOptions& so;
+  double out0 = 0;  // the output at rest
+  SweepPoint at(double x) { return sweep_at(h, qs, x, ic0, so); }
+};
+
+// How far the output moves with the input of one sign before a device leaves its linear region.
+double excursion_toward(Probe& pr, double sgn, double x_max) {
+  double lo = 0, hi = x_max / 256;
+  SweepPoint at_hi = pr.at(sgn * hi);
+  while (!at_hi.edge && hi < x_max) {
+    lo = hi;
+    hi *= 2;
+    at_hi = pr.at(sgn * hi);
+  }
+  for (int i = 0; i < 40 && at_hi.edge; ++i) {
+    const double mid = 0.5 * (lo + hi);
+    (pr.at(sgn * mid).edge ? hi : lo) = mid;
+  }
+  return std::abs(pr.at(sgn * lo).out_v - pr.out0);
+}
+
+// Swing: step the input each way until the device leaves its linear region.
+void measure_swing(Probe& pr, const Conditions& c, double k, Performance& p) {
+  const double x_max = 4.0 * c.supply_v / std::max(0.05, std::abs(p.gain));
+  double excursion[2] = {0, 0};  // by the input's sign
+  for (int side = 0; side < 2; ++side) excursion[side] = excursion_toward(pr, side == 0 ? 1.0 : -1.0, x_max);
+  // "Up" in the N frame is the drain or collector (or follower output) rising toward the
+  // positive rail; the input's sign that moves the output up depends on the gain's sign.
+  const bool inverting = p.gain < 0;
+  const double out_up_actual = inverting ? excursion[1] : excursion[0];
+  const double out_down_actual = inverting ? excursion[0] : excursion[1];
+  p.swing_up_v = k > 0 ? out_up_actual : out_down_actual;
+  p.swing_down_v = k > 0 ? out_down_actual : out_up_actual;
+  p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+  p.clip_peak_v = p.swing_peak_v;
+}
+
+using Harmonics = std::array<double, 10>;
+
+// Distortion from the quasi-static transfer: a cosine at the input, Fourier coefficients of
+// the output over n points, harmonics 1 to 9.
+Harmonics harmonics(Probe& pr, double amp, int n) {
+  std::array<double, 10> ak{}, bk{}, mag{};
+  for (int i = 0; i < n; ++i) {
+    const double th = 2 * std::numbers::pi * i / n;
+    const double y = pr.at(amp * std::cos(th)).out_v - pr.out0;
+    for (int m = 1; m < 10; ++m) {
+      ak[m] += 2.0 / n * y * std::cos(m * th);
+      bk[m] += 2.0 / n * y * std::sin(m * th);
+    }
+  }
+  for (int m = 1; m < 10; ++m) mag[m] = std::hypot(ak[m], bk[m]);
+  return mag;
+}
+
+double thd_of(const Harmonics& mag) {
+  double sum = 0;
+  for (int m = 2; m < 10; ++m) sum += mag[m] * mag[m];
+  return std::sqrt(sum) / mag[1];
+}
+
+// HD2, HD3 and THD at the requested level: the amplitude set so the fundamental equals
+// hd2_peak_v. Returns the harmonics there.
+Harmonics distortion_at_level(Probe& pr, const Conditions& c, Performance& p) {
+  double amp = c.hd2_peak_v / std::abs(p.gain);
+  Harmonics mag = harmonics(pr, amp, 64);
+  amp *= c.hd2_peak_v / mag[1];
+  mag = harmonics(pr, amp, 64);
+  p.hd2 = mag[2] / mag[1];
+  p.hd3 = mag[3] / mag[1];
+  p.thd = thd_of(mag);
+  return mag;
+}
+
+// The rated level: where THD reaches the bound, below clipping (bisection on the input in
+// ratio, from the level HD2 and HD3 alone would give, 32 points a sweep).
+void rated_peak(Probe& pr, const Conditions& c, const Harmonics& mag, Performance& p) {
+  const double amp_clip = p.clip_peak_v / std::abs(p.gain);
+  const auto at_clip = harmonics(pr, amp_clip, 32);
+  if (!(thd_of(at_clip) > c.max_thd)) return;
+  Transfer guess;
+  const double level = mag[1];
+  guess.o[1] = 1.0;  // a series with these HD2 and HD3 per level, for the first guess
+  guess.o[2] = 2.0 * p.hd2 / level;
+  guess.o[3] = 4.0 * p.hd3 / (level * level);
+  double hi = std::min(amp_clip, guess.level_for(c.max_thd, p.clip_peak_v) / std::abs(p.gain));
+  auto over = [&](double a) { return thd_of(harmonics(pr, a, 32)) > c.max_thd; };
+  while (!over(hi) && hi < amp_clip) hi = std::min(amp_clip, 2 * hi);
+  double lo = 0.5 * hi;
+  for (int i = 0; i < 60 && over(lo); ++i) {
+    hi = lo;
+    lo *= 0.5;
+  }
+  for (int i = 0; i < 12; ++i) {
+    const double mid = std::sqrt(lo * hi);
+    (over(mid) ? hi : lo) = mid;
+  }
+  p.swing_peak_v = std::min(p.clip_peak_v, harmonics(pr, lo, 32)[1]);
+}
+
+}  // namespace
+
+Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs, const Conditions& c,
+                             Detail detail, OperatingPoint* op_out) {
+  Performance p;
+  if (qs.empty()) throw InputError("evaluate_circuit: no transistor given");
+  circuit::SolverOptions so;
+  so.celsius = c.celsius;
+  const OperatingPoint op = circuit::solve_dc(net, so);
+  if (op.devices.size() != qs.size())
+    throw InputError(fmt::format("evaluate_circuit: {} transistors given for {} in the circuit", qs.size(), op.devices.size()));
+  const double k = devices::polarity(qs.front().kind);
+  const std::vector<double> ic0 = read_bias(net, op, qs, p);
 
   const MidBand mb = mid_band(net, op, so, c.load_ohm);
   p.gain = mb.gain;
@@ -171,101 +294,12 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
     p.f_low_hz = band.f_low_hz;
     p.f_high_hz = band.f_high_hz;
   }
-  {
-    const auto out = *net.find_net(std::string(kNetOut));
-    const double mid = std::abs(mb.gain);
-    if (c.band_lo_hz > 0)
-      p.loss_lo_db = std::max(0.0, -20.0 * std::log10(std::abs(circuit::solve_ac(net, op, c.band_lo_hz)[out]) / mid));
-    if (c.band_hi_hz > 0)
-      p.loss_hi_db = std::max(0.0, -20.0 * std::log10(std::abs(circuit::solve_ac(net, op, c.band_hi_hz)[out]) / mid));
-  }
-  // Swing: step the input each way until the device leaves its linear region.
-  {
-    Circuit h = circuit::with_capacitors_held(net, op, is_load_capacitance);
-    const double out0 = op.v(net, std::string(kNetOut));
-    const double x_max = 4.0 * c.supply_v / std::max(0.05, std::abs(p.gain));
-    double excursion[2] = {0, 0};  // by the input's sign
-    for (int side = 0; side < 2; ++side) {
-      const double sgn = side == 0 ? 1.0 : -1.0;
-      double lo = 0, hi = x_max / 256;
-      SweepPoint at_hi = sweep_at(h, qs, sgn * hi, ic0, so);
-      while (!at_hi.edge && hi < x_max) {
-        lo = hi;
-        hi *= 2;
-        at_hi = sweep_at(h, qs, sgn * hi, ic0, so);
-      }
-      for (int i = 0; i < 40 && at_hi.edge; ++i) {
-        const double mid = 0.5 * (lo + hi);
-        (sweep_at(h, qs, sgn * mid, ic0, so).edge ? hi : lo) = mid;
-      }
-      excursion[side] = std::abs(sweep_at(h, qs, sgn * lo, ic0, so).out_v - out0);
-    }
-    // "Up" in the N frame is the drain or collector (or follower output) rising toward the
-    // positive rail; the input's sign that moves the output up depends on the gain's sign.
-    const bool inverting = p.gain < 0;
-    const double out_up_actual = inverting ? excursion[1] : excursion[0];
-    const double out_down_actual = inverting ? excursion[0] : excursion[1];
-    p.swing_up_v = k > 0 ? out_up_actual : out_down_actual;
-    p.swing_down_v = k > 0 ? out_down_actual : out_up_actual;
-    p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
-    p.clip_peak_v = p.swing_peak_v;
-
-    if (detail == Detail::full && p.swing_peak_v > 0) {
-      // Distortion from the quasi-static transfer: a cosine at the input, Fourier
-      // coefficients of the output over n points, harmonics 1 to 9.
-      auto harmonics = [&](double amp, int n) {
-        std::array<double, 10> ak{}, bk{}, mag{};
-        for (int i = 0; i < n; ++i) {
-          const double th = 2 * std::numbers::pi * i / n;
-          const double y = sweep_at(h, qs, amp * std::cos(th), ic0, so).out_v - out0;
-          for (int m = 1; m < 10; ++m) {
-            ak[m] += 2.0 / n * y * std::cos(m * th);
-            bk[m] += 2.0 / n * y * std::sin(m * th);
-          }
-        }
-        for (int m = 1; m < 10; ++m) mag[m] = std::hypot(ak[m], bk[m]);
-        return mag;
-      };
-      auto thd_of = [](const std::array<double, 10>& mag) {
-        double sum = 0;
-        for (int m = 2; m < 10; ++m) sum += mag[m] * mag[m];
-        return std::sqrt(sum) / mag[1];
-      };
-      // At the requested level: the amplitude set so the fundamental equals hd2_peak_v.
-      double amp = c.hd2_peak_v / std::abs(p.gain);
-      std::array<double, 10> mag = harmonics(amp, 64);
-      amp *= c.hd2_peak_v / mag[1];
-      mag = harmonics(amp, 64);
-      p.hd2 = mag[2] / mag[1];
-      p.hd3 = mag[3] / mag[1];
-      p.thd = thd_of(mag);
-      // The rated level: where THD reaches the bound, below clipping (bisection on the input
-      // in ratio, from the level HD2 and HD3 alone would give, 32 points a sweep).
-      if (c.max_thd > 0) {
-        const double amp_clip = p.clip_peak_v / std::abs(p.gain);
-        const auto at_clip = harmonics(amp_clip, 32);
-        if (thd_of(at_clip) > c.max_thd) {
-          Transfer guess;
-          const double level = mag[1];
-          guess.o[1] = 1.0;  // a series with these HD2 and HD3 per level, for the first guess
-          guess.o[2] = 2.0 * p.hd2 / level;
-          guess.o[3] = 4.0 * p.hd3 / (level * level);
-          double hi = std::min(amp_clip, guess.level_for(c.max_thd, p.clip_peak_v) / std::abs(p.gain));
-          auto over = [&](double a) { return thd_of(harmonics(a, 32)) > c.max_thd; };
-          while (!over(hi) && hi < amp_clip) hi = std::min(amp_clip, 2 * hi);
-          double lo = 0.5 * hi;
-          for (int i = 0; i < 60 && over(lo); ++i) {
-            hi = lo;
-            lo *= 0.5;
-          }
-          for (int i = 0; i < 12; ++i) {
-            const double mid = std::sqrt(lo * hi);
-            (over(mid) ? hi : lo) = mid;
-          }
-          p.swing_peak_v = std::min(p.clip_peak_v, harmonics(lo, 32)[1]);
-        }
-      }
-    }
+  band_losses(net, op, c, mb.gain, p);
+  Probe pr{circuit::with_capacitors_held(net, op, is_load_capacitance), qs, ic0, so, op.v(net, std::string(kNetOut))};
+  measure_swing(pr, c, k, p);
+  if (detail == Detail::full && p.swing_peak_v > 0) {
+    const Harmonics mag = distortion_at_level(pr, c, p);
+    if (c.max_thd > 0) rated_peak(pr, c, mag, p);
   }
 
   if (detail == Detail::full)
