@@ -255,8 +255,11 @@ double self_bias_source_voltage(double idss_a, double vp_abs_v, double rs_ohm, c
   return self_bias_point(idss_a, vp_abs_v, rs_ohm, bench).vs_v;
 }
 
-SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind kind,
-                          const ReadingAccuracy& accuracy, const BenchConditions& bench) {
+namespace {
+
+/// Rejects a fit request that cannot stand before any reading is looked at.
+void check_request(std::span<const SelfBiasReading> readings, DeviceKind kind, const ReadingAccuracy& accuracy,
+                   const BenchConditions& bench) {
   if (!is_jfet(kind))
     throw InputError(fmt::format("kind {} is not a JFET: self-bias readings fit JFETs only", kind_name(kind)));
   check_fraction("meter accuracy", accuracy.meter);
@@ -273,60 +276,66 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
   if (readings.size() < 2)
     throw InputError(fmt::format("self-bias readings: {} given, two or more are needed (two resistors fix IDSS and VP)",
                                  readings.size()));
+}
 
-  // --- each reading on its own ---
-  const bool n_channel = kind == DeviceKind::njfet;
+/// The readings checked and reduced to resistors and |VS|, with the smallest and largest RS.
+struct Sample {
   std::vector<double> rs, x_v;  // resistor, |VS|
-  check_each(readings, kind, bench, rs, x_v);
-  const auto [rs_lo, rs_hi] = std::minmax_element(rs.begin(), rs.end());
+  std::size_t lo_i = 0, hi_i = 0;
+  std::string span_text;  // the readings with the smallest and largest RS, for messages
+};
+
+/// Each reading on its own, then the pairs against each other.
+Sample sample_of(std::span<const SelfBiasReading> readings, DeviceKind kind, const ReadingAccuracy& accuracy,
+                 const BenchConditions& bench) {
+  Sample s;
+  check_each(readings, kind, bench, s.rs, s.x_v);
+  const auto [rs_lo, rs_hi] = std::minmax_element(s.rs.begin(), s.rs.end());
   if (*rs_hi <= *rs_lo * (1 + 1e-9))
     throw InputError(fmt::format("self-bias readings: every one uses RS {}; two different source resistors are needed",
                                  units::format_value(*rs_lo, Unit::ohm)));
-  check_order(readings, x_v, accuracy);
-  const std::size_t lo_i = static_cast<std::size_t>(rs_lo - rs.begin());
-  const std::size_t hi_i = static_cast<std::size_t>(rs_hi - rs.begin());
+  check_order(readings, s.x_v, accuracy);
+  s.lo_i = static_cast<std::size_t>(rs_lo - s.rs.begin());
+  s.hi_i = static_cast<std::size_t>(rs_hi - s.rs.begin());
   // "self-bias readings 1 (RS 100Ω, VS 0.21V) to 3 (RS 2.2kΩ, VS 0.9V)": the smallest and largest RS.
-  const std::string span_text = fmt::format("self-bias readings {} to {}", reading_figures(lo_i, readings[lo_i]),
-                                            reading_figures(hi_i, readings[hi_i]));
+  s.span_text = fmt::format("self-bias readings {} to {}", reading_figures(s.lo_i, readings[s.lo_i]),
+                            reading_figures(s.hi_i, readings[s.hi_i]));
+  return s;
+}
 
-  // --- NOTES 1: the straight line sqrt(ID) = a - b |VS| ---
-  const auto n = static_cast<double>(readings.size());
+/// NOTES 1: the straight line sqrt(ID) = a - b |VS|; returns {a, b}.
+std::pair<double, double> straight_line(const Sample& s) {
+  const auto n = static_cast<double>(s.rs.size());
   double mx = 0, my = 0;
-  for (std::size_t i = 0; i < rs.size(); ++i) {
-    mx += x_v[i] / n;
-    my += std::sqrt(x_v[i] / rs[i]) / n;
+  for (std::size_t i = 0; i < s.rs.size(); ++i) {
+    mx += s.x_v[i] / n;
+    my += std::sqrt(s.x_v[i] / s.rs[i]) / n;
   }
   double sxx = 0, sxy = 0;
-  for (std::size_t i = 0; i < rs.size(); ++i) {
-    sxx += (x_v[i] - mx) * (x_v[i] - mx);
-    sxy += (x_v[i] - mx) * (std::sqrt(x_v[i] / rs[i]) - my);
+  for (std::size_t i = 0; i < s.rs.size(); ++i) {
+    sxx += (s.x_v[i] - mx) * (s.x_v[i] - mx);
+    sxy += (s.x_v[i] - mx) * (std::sqrt(s.x_v[i] / s.rs[i]) - my);
   }
   const double b = sxx > 0 ? -sxy / sxx : 0.0;
   const double a = my + b * mx;
   if (!(sxx > 0) || !(b > 0) || !(a > 0)) {
     throw InputError(fmt::format("{}: no square-law piece gives these readings: the drain current does not fall as "
                                  "the gate goes more negative",
-                                 span_text));
+                                 s.span_text));
   }
+  return {a, b};
+}
 
-  // --- NOTES 2: Gauss-Newton on the weighted source voltages ---
-  const Readings problem{rs, x_v, accuracy.meter / std::sqrt(3.0), accuracy.resistor / std::sqrt(3.0), bench};
-  const Refined fitted = refine(problem, 2.0 * std::log(a), std::log(a / b));
-  const double ln_idss = fitted.ln_idss, ln_vp = fitted.ln_vp;
-  const Weighted& w = fitted.w;
-
-  SelfBiasFit out;
-  out.kind = kind;
-  out.idss_a = std::exp(ln_idss);
-  const double vp = std::exp(ln_vp);
-  out.vp_v = n_channel ? -vp : vp;
+/// Rejects a fitted IDSS and |VP| beyond any small-signal JFET, or a bench not in saturation.
+void check_fitted(const SelfBiasFit& out, double vp, const Sample& s, const BenchConditions& bench) {
   if (!(out.idss_a <= kFitMaxIdssA) || !(vp <= kFitMaxVpV)) {
     throw InputError(fmt::format(
         "{}: the readings imply IDSS {} and |VP| {}, beyond any small-signal JFET (IDSS up to {}, |VP| up to {}): "
         "the drain current hardly changes between the resistors ({} and {})",
-        span_text, units::format_value(out.idss_a, Unit::ampere), volts_text(vp),
+        s.span_text, units::format_value(out.idss_a, Unit::ampere), volts_text(vp),
         units::format_value(kFitMaxIdssA, Unit::ampere), volts_text(kFitMaxVpV),
-        units::format_value(x_v[lo_i] / rs[lo_i], Unit::ampere), units::format_value(x_v[hi_i] / rs[hi_i], Unit::ampere)));
+        units::format_value(s.x_v[s.lo_i] / s.rs[s.lo_i], Unit::ampere),
+        units::format_value(s.x_v[s.hi_i] / s.rs[s.hi_i], Unit::ampere)));
   }
 
   if (bench.drain_supply_v && std::abs(*bench.drain_supply_v) < vp) {
@@ -335,10 +344,13 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
         "holds; take the readings again with the drain supply well above |VP|",
         volts_text(*bench.drain_supply_v), volts_text(vp)));
   }
+}
 
-  // --- NOTES 3: uncertainty ---
+/// NOTES 3: the uncertainty of IDSS, VP and gm0, widened by the readings' scatter.
+void add_uncertainty(SelfBiasFit& out, const Weighted& w, std::size_t count, double vp) {
+  const auto n = static_cast<double>(count);
   Eigen::Matrix2d cov = (w.j.transpose() * w.j).inverse();
-  if (readings.size() > 2) {
+  if (count > 2) {
     const double reduced = w.cost / (n - 2.0);
     out.scatter = std::sqrt(reduced);
     if (reduced > 1.0) {
@@ -359,17 +371,44 @@ SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind 
   out.gm0_s = 2.0 * out.idss_a / vp;
   out.gm0_uncertainty_s = k * out.gm0_s * std::sqrt(std::max(0.0, cov(0, 0) + cov(1, 1) - 2.0 * cov(0, 1)));
   out.correlation = (rel_idss > 0 && rel_vp > 0) ? cov(0, 1) / (rel_idss * rel_vp) : 0.0;
+}
 
+/// Each reading beside the fitted law's source voltage for its resistor.
+void add_readings(SelfBiasFit& out, const Sample& s, double vp, const BenchConditions& bench, bool n_channel) {
   const double sign = n_channel ? 1.0 : -1.0;
-  for (std::size_t i = 0; i < rs.size(); ++i) {
+  for (std::size_t i = 0; i < s.rs.size(); ++i) {
     FittedReading f;
-    f.rs_ohm = rs[i];
-    f.vs_v = sign * x_v[i];
-    f.id_a = x_v[i] / rs[i];
-    f.fitted_vs_v = sign * self_bias_source_voltage(out.idss_a, vp, rs[i], bench);
+    f.rs_ohm = s.rs[i];
+    f.vs_v = sign * s.x_v[i];
+    f.id_a = s.x_v[i] / s.rs[i];
+    f.fitted_vs_v = sign * self_bias_source_voltage(out.idss_a, vp, s.rs[i], bench);
     f.residual_v = f.vs_v - f.fitted_vs_v;
     out.readings.push_back(f);
   }
+}
+
+}  // namespace
+
+SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind kind,
+                          const ReadingAccuracy& accuracy, const BenchConditions& bench) {
+  check_request(readings, kind, accuracy, bench);
+  const bool n_channel = kind == DeviceKind::njfet;
+  const Sample sample = sample_of(readings, kind, accuracy, bench);
+  const auto [a, b] = straight_line(sample);
+
+  // --- NOTES 2: Gauss-Newton on the weighted source voltages ---
+  const Readings problem{sample.rs, sample.x_v, accuracy.meter / std::sqrt(3.0), accuracy.resistor / std::sqrt(3.0),
+                         bench};
+  const Refined fitted = refine(problem, 2.0 * std::log(a), std::log(a / b));
+
+  SelfBiasFit out;
+  out.kind = kind;
+  out.idss_a = std::exp(fitted.ln_idss);
+  const double vp = std::exp(fitted.ln_vp);
+  out.vp_v = n_channel ? -vp : vp;
+  check_fitted(out, vp, sample, bench);
+  add_uncertainty(out, fitted.w, readings.size(), vp);
+  add_readings(out, sample, vp, bench, n_channel);
   if (out.scatter > 2.0) {
     if (const auto lone = lone_outlier(problem, fitted)) {
       const auto i = lone->first;
