@@ -87,6 +87,77 @@ struct DcState {
   std::vector<JunctionState> bjt;
 };
 
+// A voltage source's branch row k: the current variable into its pins, and its value (scaled
+// for source stepping) on the right-hand side.
+void stamp_vsource_dc(const Component& e, long k, double scale, Eigen::MatrixXd& A, Eigen::VectorXd& b) {
+  if (row(e.pins[0]) >= 0) {
+    A(row(e.pins[0]), k) += 1;
+    A(k, row(e.pins[0])) += 1;
+  }
+  if (row(e.pins[1]) >= 0) {
+    A(row(e.pins[1]), k) -= 1;
+    A(k, row(e.pins[1])) -= 1;
+  }
+  b(k) = scale * e.value;
+}
+
+// A JFET linearised at x.
+void stamp_jfet_dc(const Circuit& c, const Component& e, const Eigen::VectorXd& x, Eigen::MatrixXd& A,
+                   Eigen::VectorXd& b) {
+  const JfetInstance& q = c.jfets()[e.device];
+  const double p = devices::polarity(q.kind);
+  const std::size_t d = e.pins[0], g = e.pins[1], s = e.pins[2];
+  const double vgs = p * (node_v(x, g) - node_v(x, s));
+  const double vds = p * (node_v(x, d) - node_v(x, s));
+  const auto ev = devices::jfet_eval(q, vgs, vds);
+  // Current into the drain (actual frame) and its linearisation.
+  const double id = p * ev.id_a;
+  const double ieq = id - ev.gm_s * (p * vgs) - ev.gds_s * (p * vds);
+  stamp_vccs(A, d, g, s, ev.gm_s);
+  stamp_vccs(A, d, d, s, ev.gds_s);
+  stamp_vccs(A, s, g, s, -ev.gm_s);
+  stamp_vccs(A, s, d, s, -ev.gds_s);
+  stamp_i(b, d, ieq);
+  stamp_i(b, s, -ieq);
+  stamp_g(A, g, s, kGminJunction);
+  stamp_g(A, g, d, kGminJunction);
+}
+
+// A BJT linearised at x, its junction voltages limited against the last ones (if `limit`)
+// and kept in st for the next iteration.
+void stamp_bjt_dc(const Circuit& c, const Component& e, const Eigen::VectorXd& x, DcState& st, bool limit,
+                  Eigen::MatrixXd& A, Eigen::VectorXd& b) {
+  const BjtInstance& q = c.bjts()[e.device];
+  const double p = devices::polarity(q.kind);
+  const std::size_t cn = e.pins[0], bn = e.pins[1], en = e.pins[2];
+  double vbe = p * (node_v(x, bn) - node_v(x, en));
+  double vbc = p * (node_v(x, bn) - node_v(x, cn));
+  JunctionState& js = st.bjt[e.device];
+  if (limit) {
+    const double vcrit = q.vt_v * std::log(q.vt_v / (std::numbers::sqrt2 * q.is_a));
+    vbe = pnjlim(vbe, js.vbe, q.vt_v, vcrit);
+    vbc = pnjlim(vbc, js.vbc, q.vt_v, vcrit);
+  }
+  js.vbe = vbe;
+  js.vbc = vbc;
+  const auto ev = devices::bjt_eval(q, vbe, vbc);
+  // Actual-frame currents into collector and base; derivatives are frame-invariant.
+  const double ic = p * ev.ic_a, ib = p * ev.ib_a;
+  const double ic_eq = ic - ev.dic_dvbe * (p * vbe) - ev.dic_dvbc * (p * vbc);
+  const double ib_eq = ib - ev.dib_dvbe * (p * vbe) - ev.dib_dvbc * (p * vbc);
+  stamp_vccs(A, cn, bn, en, ev.dic_dvbe);
+  stamp_vccs(A, cn, bn, cn, ev.dic_dvbc);
+  stamp_vccs(A, bn, bn, en, ev.dib_dvbe);
+  stamp_vccs(A, bn, bn, cn, ev.dib_dvbc);
+  stamp_vccs(A, en, bn, en, -(ev.dic_dvbe + ev.dib_dvbe));
+  stamp_vccs(A, en, bn, cn, -(ev.dic_dvbc + ev.dib_dvbc));
+  stamp_i(b, cn, ic_eq);
+  stamp_i(b, bn, ib_eq);
+  stamp_i(b, en, -(ic_eq + ib_eq));
+  stamp_g(A, bn, en, kGminJunction);
+  stamp_g(A, bn, cn, kGminJunction);
+}
+
 // Assembles the Newton system at x. gshunt: conductance from every node to ground (gmin
 // stepping); scale: source stepping factor.
 void assemble_dc(const Circuit& c, const Layout& l, const Eigen::VectorXd& x, double gshunt, double scale,
@@ -103,71 +174,15 @@ void assemble_dc(const Circuit& c, const Layout& l, const Eigen::VectorXd& x, do
         break;
       case ElementKind::capacitor:
         break;
-      case ElementKind::vsource: {
-        const long k = static_cast<long>(l.source_row[i]);
-        if (row(e.pins[0]) >= 0) {
-          A(row(e.pins[0]), k) += 1;
-          A(k, row(e.pins[0])) += 1;
-        }
-        if (row(e.pins[1]) >= 0) {
-          A(row(e.pins[1]), k) -= 1;
-          A(k, row(e.pins[1])) -= 1;
-        }
-        b(k) = scale * e.value;
+      case ElementKind::vsource:
+        stamp_vsource_dc(e, static_cast<long>(l.source_row[i]), scale, A, b);
         break;
-      }
-      case ElementKind::jfet: {
-        const JfetInstance& q = c.jfets()[e.device];
-        const double p = devices::polarity(q.kind);
-        const std::size_t d = e.pins[0], g = e.pins[1], s = e.pins[2];
-        const double vgs = p * (node_v(x, g) - node_v(x, s));
-        const double vds = p * (node_v(x, d) - node_v(x, s));
-        const auto ev = devices::jfet_eval(q, vgs, vds);
-        // Current into the drain (actual frame) and its linearisation.
-        const double id = p * ev.id_a;
-        const double ieq = id - ev.gm_s * (p * vgs) - ev.gds_s * (p * vds);
-        stamp_vccs(A, d, g, s, ev.gm_s);
-        stamp_vccs(A, d, d, s, ev.gds_s);
-        stamp_vccs(A, s, g, s, -ev.gm_s);
-        stamp_vccs(A, s, d, s, -ev.gds_s);
-        stamp_i(b, d, ieq);
-        stamp_i(b, s, -ieq);
-        stamp_g(A, g, s, kGminJunction);
-        stamp_g(A, g, d, kGminJunction);
+      case ElementKind::jfet:
+        stamp_jfet_dc(c, e, x, A, b);
         break;
-      }
-      case ElementKind::bjt: {
-        const BjtInstance& q = c.bjts()[e.device];
-        const double p = devices::polarity(q.kind);
-        const std::size_t cn = e.pins[0], bn = e.pins[1], en = e.pins[2];
-        double vbe = p * (node_v(x, bn) - node_v(x, en));
-        double vbc = p * (node_v(x, bn) - node_v(x, cn));
-        JunctionState& js = st.bjt[e.device];
-        if (limit) {
-          const double vcrit = q.vt_v * std::log(q.vt_v / (std::numbers::sqrt2 * q.is_a));
-          vbe = pnjlim(vbe, js.vbe, q.vt_v, vcrit);
-          vbc = pnjlim(vbc, js.vbc, q.vt_v, vcrit);
-        }
-        js.vbe = vbe;
-        js.vbc = vbc;
-        const auto ev = devices::bjt_eval(q, vbe, vbc);
-        // Actual-frame currents into collector and base; derivatives are frame-invariant.
-        const double ic = p * ev.ic_a, ib = p * ev.ib_a;
-        const double ic_eq = ic - ev.dic_dvbe * (p * vbe) - ev.dic_dvbc * (p * vbc);
-        const double ib_eq = ib - ev.dib_dvbe * (p * vbe) - ev.dib_dvbc * (p * vbc);
-        stamp_vccs(A, cn, bn, en, ev.dic_dvbe);
-        stamp_vccs(A, cn, bn, cn, ev.dic_dvbc);
-        stamp_vccs(A, bn, bn, en, ev.dib_dvbe);
-        stamp_vccs(A, bn, bn, cn, ev.dib_dvbc);
-        stamp_vccs(A, en, bn, en, -(ev.dic_dvbe + ev.dib_dvbe));
-        stamp_vccs(A, en, bn, cn, -(ev.dic_dvbc + ev.dib_dvbc));
-        stamp_i(b, cn, ic_eq);
-        stamp_i(b, bn, ib_eq);
-        stamp_i(b, en, -(ic_eq + ib_eq));
-        stamp_g(A, bn, en, kGminJunction);
-        stamp_g(A, bn, cn, kGminJunction);
+      case ElementKind::bjt:
+        stamp_bjt_dc(c, e, x, st, limit, A, b);
         break;
-      }
     }
   }
 }
