@@ -59,18 +59,15 @@ struct SyntaxError {
 
 bool is_blank(char c) { return c == ' ' || c == '\t'; }
 
-/// Splits text into records; throws SyntaxError.
-std::vector<CsvRow> split(std::string_view text) {
-  std::vector<CsvRow> rows;
+/// The reader's place in the text: the offset and the line (from 1) it is on.
+struct Cursor {
+  std::string_view text;
   std::size_t pos = 0;
-  const std::size_t n = text.size();
-  if (text.substr(0, 2) == "\xFF\xFE" || text.substr(0, 2) == "\xFE\xFF")
-    throw SyntaxError{1, "the file is UTF-16 (it starts with a UTF-16 byte-order mark); save it as UTF-8"};
-  if (text.substr(0, 3) == "\xEF\xBB\xBF") pos = 3;  // UTF-8 byte-order mark
   std::size_t line = 1;
 
   // Consumes one line end at pos (CRLF, LF or a lone CR), if there is one.
-  auto line_end = [&]() -> bool {
+  bool line_end() {
+    const std::size_t n = text.size();
     if (pos < n && text[pos] == '\r') {
       ++pos;
       if (pos < n && text[pos] == '\n') ++pos;
@@ -83,65 +80,91 @@ std::vector<CsvRow> split(std::string_view text) {
       return true;
     }
     return false;
-  };
+  }
+};
 
-  while (pos < n) {
-    // A line of nothing but spaces is blank: skip it.
-    std::size_t look = pos;
-    while (look < n && is_blank(text[look])) ++look;
-    if (look == n) break;
-    if (text[look] == '\r' || text[look] == '\n') {
-      pos = look;
-      line_end();
-      continue;
-    }
+/// Skips lines of nothing but spaces; false once nothing but blanks is left.
+bool skip_blank_lines(Cursor& c) {
+  const std::size_t n = c.text.size();
+  while (c.pos < n) {
+    std::size_t look = c.pos;
+    while (look < n && is_blank(c.text[look])) ++look;
+    if (look == n) return false;
+    if (c.text[look] != '\r' && c.text[look] != '\n') return true;
+    c.pos = look;
+    c.line_end();
+  }
+  return false;
+}
 
-    CsvRow row;
-    row.line = line;
-    while (true) {
-      std::string field;
-      std::size_t start = pos;
-      while (start < n && is_blank(text[start])) ++start;
-      row.offsets.push_back(pos);
-      if (start < n && text[start] == '"') {
-        const std::size_t open_line = line;
-        pos = start + 1;
-        row.offsets.back() = pos;
-        while (true) {
-          if (pos >= n) throw SyntaxError{open_line, "unterminated quoted field (the quote opens on this line)"};
-          const char c = text[pos];
-          if (c == '"') {
-            if (pos + 1 < n && text[pos + 1] == '"') {
-              field += '"';
-              pos += 2;
-              continue;
-            }
-            ++pos;
-            break;
-          }
-          if (c == '\n' && !(pos > 0 && text[pos - 1] == '\r')) ++line;
-          if (c == '\r') ++line;
-          field += c;
-          ++pos;
-        }
-        while (pos < n && is_blank(text[pos])) ++pos;
-        if (pos < n && text[pos] != ',' && text[pos] != '\r' && text[pos] != '\n')
-          throw SyntaxError{line, fmt::format("text after the closing quote of field {} (a quote inside a quoted "
-                                              "field is written twice: \"\")",
-                                              row.fields.size() + 1)};
-      } else {
-        while (pos < n && text[pos] != ',' && text[pos] != '\r' && text[pos] != '\n') field += text[pos++];
-      }
-      row.fields.push_back(std::move(field));
-      if (pos < n && text[pos] == ',') {
-        ++pos;
+/// The quoted field whose quote is at `quote`, up to the separator after the closing quote.
+std::string quoted_field(Cursor& c, std::size_t quote, CsvRow& row) {
+  const std::string_view text = c.text;
+  const std::size_t n = text.size();
+  std::string field;
+  const std::size_t open_line = c.line;
+  c.pos = quote + 1;
+  row.offsets.back() = c.pos;
+  while (true) {
+    if (c.pos >= n) throw SyntaxError{open_line, "unterminated quoted field (the quote opens on this line)"};
+    const char ch = text[c.pos];
+    if (ch == '"') {
+      if (c.pos + 1 < n && text[c.pos + 1] == '"') {
+        field += '"';
+        c.pos += 2;
         continue;
       }
-      line_end();
+      ++c.pos;
       break;
     }
-    rows.push_back(std::move(row));
+    if (ch == '\n' && !(c.pos > 0 && text[c.pos - 1] == '\r')) ++c.line;
+    if (ch == '\r') ++c.line;
+    field += ch;
+    ++c.pos;
   }
+  while (c.pos < n && is_blank(text[c.pos])) ++c.pos;
+  if (c.pos < n && text[c.pos] != ',' && text[c.pos] != '\r' && text[c.pos] != '\n')
+    throw SyntaxError{c.line, fmt::format("text after the closing quote of field {} (a quote inside a quoted "
+                                          "field is written twice: \"\")",
+                                          row.fields.size() + 1)};
+  return field;
+}
+
+/// One record from c.pos, through its line end.
+CsvRow read_record(Cursor& c) {
+  const std::string_view text = c.text;
+  const std::size_t n = text.size();
+  CsvRow row;
+  row.line = c.line;
+  while (true) {
+    std::string field;
+    std::size_t start = c.pos;
+    while (start < n && is_blank(text[start])) ++start;
+    row.offsets.push_back(c.pos);
+    if (start < n && text[start] == '"') {
+      field = quoted_field(c, start, row);
+    } else {
+      while (c.pos < n && text[c.pos] != ',' && text[c.pos] != '\r' && text[c.pos] != '\n') field += text[c.pos++];
+    }
+    row.fields.push_back(std::move(field));
+    if (c.pos < n && text[c.pos] == ',') {
+      ++c.pos;
+      continue;
+    }
+    c.line_end();
+    break;
+  }
+  return row;
+}
+
+/// Splits text into records; throws SyntaxError.
+std::vector<CsvRow> split(std::string_view text) {
+  std::vector<CsvRow> rows;
+  Cursor c{text};
+  if (text.substr(0, 2) == "\xFF\xFE" || text.substr(0, 2) == "\xFE\xFF")
+    throw SyntaxError{1, "the file is UTF-16 (it starts with a UTF-16 byte-order mark); save it as UTF-8"};
+  if (text.substr(0, 3) == "\xEF\xBB\xBF") c.pos = 3;  // UTF-8 byte-order mark
+  while (skip_blank_lines(c)) rows.push_back(read_record(c));
   return rows;
 }
 
@@ -616,105 +639,134 @@ constexpr std::string_view kBjtColumns[] = {"hfe_min", "hfe_max", "hfe_typ", "is
 /// Maximum ratings, for both families (optional: a type without them is designed with a caution).
 constexpr std::string_view kRatingColumns[] = {"v_max", "v_rev_max", "p_max", "p_derate"};
 
-}  // namespace
-
-std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std::string_view source) {
+/// Every column a device file may have.
+std::vector<std::string_view> device_columns() {
   std::vector<std::string_view> known = {"name", "kind"};
   known.insert(known.end(), std::begin(kJfetColumns), std::end(kJfetColumns));
   known.insert(known.end(), std::begin(kBjtColumns), std::end(kBjtColumns));
   known.insert(known.end(), std::begin(kRatingColumns), std::end(kRatingColumns));
   known.push_back("note");
-  const Sheet sheet(text, source, known, {"name", "kind"});
+  return known;
+}
+
+/// One row of a device file being read: its fields, the problems found, and whether any
+/// makes the row bad.
+struct DeviceRow {
+  const Sheet& sheet;
+  const CsvRow& row;
+  Problems& problems;
+  bool bad = false;
+
+  std::string_view get(std::string_view col) const { return sheet.get(row, col); }
+  void note(std::string_view m) {
+    problems.add(row.line, m);
+    bad = true;
+  }
+  void figure(std::string_view col, Unit unit, bool required, double& into) {
+    if (auto v = read_value(col, get(col), unit, row.line, problems, required))
+      into = *v;
+    else if (required || !get(col).empty())
+      bad = true;
+  }
+  void typical(std::string_view col, Unit unit, std::optional<double>& into) {
+    if (auto v = read_value(col, get(col), unit, row.line, problems)) into = *v;
+    else if (!get(col).empty()) bad = true;
+  }
+  void tempco(std::string_view col, Unit unit, double& into) {
+    if (auto v = read_tempco(col, get(col), unit, row.line, problems)) into = *v;
+    else if (!get(col).empty()) bad = true;
+  }
+  // Ratings are magnitudes: a datasheet's -25 V for a P type is 25 V here.
+  void rating(std::string_view col, Unit unit, std::optional<double>& into) {
+    typical(col, unit, into);
+    if (into) into = std::abs(*into);
+  }
+};
+
+/// Name and kind; false when the kind is missing or unknown (nothing more can be read).
+bool read_name_and_kind(DeviceRow& r, std::map<std::string, std::size_t>& seen, devices::DeviceRecord& d) {
+  d.name = std::string(r.get("name"));
+  d.note = std::string(r.get("note"));
+  if (d.name.empty()) {
+    r.note("name is missing");
+  } else if (const auto [it, fresh] = seen.emplace(lower(d.name), r.row.line); !fresh) {
+    r.note(fmt::format("name '{}' already appears on line {}", shown(d.name), it->second));
+  }
+  const auto kind_text = r.get("kind");
+  if (kind_text.empty()) {
+    r.note("kind is missing");
+    return false;
+  }
+  if (!devices::parse_kind(kind_text, d.kind)) {
+    r.note(fmt::format("kind '{}' is not one of NJFET, PJFET, NPN, PNP", shown(kind_text)));
+    return false;
+  }
+  return true;
+}
+
+/// Figures of the other family on this row point at a shifted or mistyped row.
+void check_other_family(DeviceRow& r, devices::DeviceKind kind) {
+  const bool jfet = devices::is_jfet(kind);
+  for (std::string_view c : jfet ? std::vector<std::string_view>(std::begin(kBjtColumns), std::end(kBjtColumns))
+                                 : std::vector<std::string_view>(std::begin(kJfetColumns), std::end(kJfetColumns)))
+    if (!r.get(c).empty())
+      r.note(fmt::format("{} '{}' given for kind {} (a {} figure)", c, shown(r.get(c)), devices::kind_name(kind),
+                         jfet ? "BJT" : "JFET"));
+}
+
+void read_jfet_figures(DeviceRow& r, devices::JfetParams& j) {
+  r.figure("idss_min", Unit::ampere, true, j.idss_a.min);
+  r.figure("idss_max", Unit::ampere, true, j.idss_a.max);
+  r.typical("idss_typ", Unit::ampere, j.idss_a.typ);
+  r.figure("vp_min", Unit::volt, true, j.vp_v.min);
+  r.figure("vp_max", Unit::volt, true, j.vp_v.max);
+  r.typical("vp_typ", Unit::volt, j.vp_v.typ);
+  r.figure("lambda", Unit::none, false, j.lambda_per_v);
+  r.figure("cgs", Unit::farad, false, j.cgs_f);
+  r.figure("cgd", Unit::farad, false, j.cgd_f);
+  r.tempco("tc_idss", Unit::none, j.tc_idss_per_k);
+  r.tempco("tc_vp", Unit::volt, j.tc_vp_v_per_k);
+  // The two ends of a datasheet range come in either order (-0.5 .. -3 or -3 .. -0.5).
+  if (j.idss_a.min > j.idss_a.max) std::swap(j.idss_a.min, j.idss_a.max);
+  if (j.vp_v.min > j.vp_v.max) std::swap(j.vp_v.min, j.vp_v.max);
+}
+
+void read_bjt_figures(DeviceRow& r, devices::BjtParams& b) {
+  r.figure("hfe_min", Unit::none, true, b.hfe.min);
+  r.figure("hfe_max", Unit::none, true, b.hfe.max);
+  r.typical("hfe_typ", Unit::none, b.hfe.typ);
+  r.figure("is", Unit::ampere, false, b.is_a);
+  r.figure("vaf", Unit::volt, false, b.vaf_v);
+  r.figure("cje", Unit::farad, false, b.cje_f);
+  r.figure("cjc", Unit::farad, false, b.cjc_f);
+  r.figure("vce_sat", Unit::volt, false, b.vce_sat_v);
+  if (b.hfe.min > b.hfe.max) std::swap(b.hfe.min, b.hfe.max);
+}
+
+}  // namespace
+
+std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std::string_view source) {
+  const Sheet sheet(text, source, device_columns(), {"name", "kind"});
   Problems problems(source);
   std::vector<devices::DeviceRecord> out;
   std::map<std::string, std::size_t> seen;  // lower-case name -> line
   for (const CsvRow& row : sheet.rows()) {
     if (!sheet.shape_ok(row, problems)) continue;
-    const std::size_t line = row.line;
-    bool bad = false;
-    auto note = [&](std::string_view m) {
-      problems.add(line, m);
-      bad = true;
-    };
+    DeviceRow r{sheet, row, problems};
     devices::DeviceRecord d;
-    d.name = std::string(sheet.get(row, "name"));
-    d.note = std::string(sheet.get(row, "note"));
-    if (d.name.empty()) {
-      note("name is missing");
-    } else if (const auto [it, fresh] = seen.emplace(lower(d.name), line); !fresh) {
-      note(fmt::format("name '{}' already appears on line {}", shown(d.name), it->second));
-    }
-    const auto kind_text = sheet.get(row, "kind");
-    if (kind_text.empty()) {
-      note("kind is missing");
-      continue;
-    }
-    if (!devices::parse_kind(kind_text, d.kind)) {
-      note(fmt::format("kind '{}' is not one of NJFET, PJFET, NPN, PNP", shown(kind_text)));
-      continue;
-    }
-    const bool jfet = devices::is_jfet(d.kind);
-    // Figures of the other family on this row point at a shifted or mistyped row.
-    for (std::string_view c : jfet ? std::vector<std::string_view>(std::begin(kBjtColumns), std::end(kBjtColumns))
-                                   : std::vector<std::string_view>(std::begin(kJfetColumns), std::end(kJfetColumns)))
-      if (!sheet.get(row, c).empty())
-        note(fmt::format("{} '{}' given for kind {} (a {} figure)", c, shown(sheet.get(row, c)),
-                         devices::kind_name(d.kind), jfet ? "BJT" : "JFET"));
-
-    auto figure = [&](std::string_view col, Unit unit, bool required, double& into) {
-      if (auto v = read_value(col, sheet.get(row, col), unit, line, problems, required))
-        into = *v;
-      else if (required || !sheet.get(row, col).empty())
-        bad = true;
-    };
-    auto typical = [&](std::string_view col, Unit unit, std::optional<double>& into) {
-      if (auto v = read_value(col, sheet.get(row, col), unit, line, problems)) into = *v;
-      else if (!sheet.get(row, col).empty()) bad = true;
-    };
-    auto tempco = [&](std::string_view col, Unit unit, double& into) {
-      if (auto v = read_tempco(col, sheet.get(row, col), unit, line, problems)) into = *v;
-      else if (!sheet.get(row, col).empty()) bad = true;
-    };
-    if (jfet) {
-      auto& j = d.jfet;
-      figure("idss_min", Unit::ampere, true, j.idss_a.min);
-      figure("idss_max", Unit::ampere, true, j.idss_a.max);
-      typical("idss_typ", Unit::ampere, j.idss_a.typ);
-      figure("vp_min", Unit::volt, true, j.vp_v.min);
-      figure("vp_max", Unit::volt, true, j.vp_v.max);
-      typical("vp_typ", Unit::volt, j.vp_v.typ);
-      figure("lambda", Unit::none, false, j.lambda_per_v);
-      figure("cgs", Unit::farad, false, j.cgs_f);
-      figure("cgd", Unit::farad, false, j.cgd_f);
-      tempco("tc_idss", Unit::none, j.tc_idss_per_k);
-      tempco("tc_vp", Unit::volt, j.tc_vp_v_per_k);
-      // The two ends of a datasheet range come in either order (-0.5 .. -3 or -3 .. -0.5).
-      if (j.idss_a.min > j.idss_a.max) std::swap(j.idss_a.min, j.idss_a.max);
-      if (j.vp_v.min > j.vp_v.max) std::swap(j.vp_v.min, j.vp_v.max);
-    } else {
-      auto& b = d.bjt;
-      figure("hfe_min", Unit::none, true, b.hfe.min);
-      figure("hfe_max", Unit::none, true, b.hfe.max);
-      typical("hfe_typ", Unit::none, b.hfe.typ);
-      figure("is", Unit::ampere, false, b.is_a);
-      figure("vaf", Unit::volt, false, b.vaf_v);
-      figure("cje", Unit::farad, false, b.cje_f);
-      figure("cjc", Unit::farad, false, b.cjc_f);
-      figure("vce_sat", Unit::volt, false, b.vce_sat_v);
-      if (b.hfe.min > b.hfe.max) std::swap(b.hfe.min, b.hfe.max);
-    }
-    // Ratings are magnitudes: a datasheet's -25 V for a P type is 25 V here.
-    auto rating = [&](std::string_view col, Unit unit, std::optional<double>& into) {
-      typical(col, unit, into);
-      if (into) into = std::abs(*into);
-    };
-    rating("v_max", Unit::volt, d.ratings.v_max_v);
-    rating("v_rev_max", Unit::volt, d.ratings.v_rev_max_v);
-    rating("p_max", Unit::watt, d.ratings.p_max_w);
-    rating("p_derate", Unit::none, d.ratings.derate_w_per_k);
-    if (bad) continue;
+    if (!read_name_and_kind(r, seen, d)) continue;
+    check_other_family(r, d.kind);
+    if (devices::is_jfet(d.kind))
+      read_jfet_figures(r, d.jfet);
+    else
+      read_bjt_figures(r, d.bjt);
+    r.rating("v_max", Unit::volt, d.ratings.v_max_v);
+    r.rating("v_rev_max", Unit::volt, d.ratings.v_rev_max_v);
+    r.rating("p_max", Unit::watt, d.ratings.p_max_w);
+    r.rating("p_derate", Unit::none, d.ratings.derate_w_per_k);
+    if (r.bad) continue;
     const auto issues = device_problems(d);
-    for (const auto& issue : issues) problems.add(line, issue);
+    for (const auto& issue : issues) problems.add(row.line, issue);
     if (issues.empty()) out.push_back(std::move(d));
   }
   problems.finish();
