@@ -148,10 +148,8 @@ std::string device_line(const report::StageUnderTest& s, const devices::DeviceSp
                      s.conditions.celsius);
 }
 
-void run_analyze(const AnalyzeOptions& o, Context& ctx) {
-  const stages::Topology& t = topology_named(o.topology);
-
-  // The parts: role names checked against the topology, values in the role's unit.
+/// The parts: role names checked against the topology, values in the role's unit.
+stages::Values part_values(const stages::Topology& t, const AnalyzeOptions& o) {
   std::vector<std::pair<std::string, double>> given;
   for (const auto& text : o.parts) {
     const auto [role, value] = split_assignment("--part", text, "RD=4k7");
@@ -161,11 +159,13 @@ void run_analyze(const AnalyzeOptions& o, Context& ctx) {
     // A capacitor's value states its scale, as in the stock (a bare 1 would be one farad).
     given.emplace_back(role, unit == Unit::farad ? parse_capacitance(field, value) : parse_quantity(field, value, unit));
   }
-  const stages::Values values = report::role_values(t, given);
+  return report::role_values(t, given);
+}
 
-  report::StageUnderTest s;
-  s.topology = &t;
-  s.values = values;
+/// The --rating options, each for a part given and at most one per role.
+std::vector<report::PartInfo> part_ratings(const stages::Topology& t, const stages::Values& values,
+                                           const AnalyzeOptions& o) {
+  std::vector<report::PartInfo> parts;
   for (const auto& text : o.ratings) {
     const auto [role, value] = split_assignment("--rating", text, "RD=0.25W or CIN=16V");
     const stages::Role* r = find_role(t, role);
@@ -176,12 +176,17 @@ void run_analyze(const AnalyzeOptions& o, Context& ctx) {
     report::PartInfo info;
     info.role = std::string(r->name);
     info.rating = positive(fmt::format("--rating {}", r->name), value, r->kind == 'R' ? Unit::watt : Unit::volt);
-    if (std::any_of(s.parts.begin(), s.parts.end(), [&](const auto& p) { return p.role == info.role; }))
+    if (std::any_of(parts.begin(), parts.end(), [&](const auto& p) { return p.role == info.role; }))
       throw InputError(fmt::format("--rating '{}': {} has a rating already", text, r->name));
-    s.parts.push_back(info);
+    parts.push_back(info);
   }
-  s.conditions = conditions_from(o);
+  return parts;
+}
 
+/// The device from the list (or its measured piece) fitted to the stage at its temperature;
+/// returns its spread for the corner pieces.
+devices::DeviceSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::StageUnderTest& s) {
+  const stages::Topology& t = *s.topology;
   auto db = ctx.open_database();
   const devices::DeviceRecord record = device_named(db, o.device);
   if (!t.accepts(record.kind))
@@ -189,7 +194,7 @@ void run_analyze(const AnalyzeOptions& o, Context& ctx) {
                                  t.name(), t.summary()));
   std::optional<devices::MeasuredPiece> piece;
   if (o.piece) piece = piece_named(db, *o.piece, record);
-  const devices::DeviceSpread spread = piece ? devices::DeviceSpread(record, *piece) : devices::DeviceSpread(record);
+  devices::DeviceSpread spread = piece ? devices::DeviceSpread(record, *piece) : devices::DeviceSpread(record);
   s.device = record.name;
   if (piece) s.piece = piece->label;
   s.transistor.kind = record.kind;
@@ -197,24 +202,12 @@ void run_analyze(const AnalyzeOptions& o, Context& ctx) {
     s.transistor.jfet = spread.jfet(spread.nominal(), s.conditions.celsius);
   else
     s.transistor.bjt = spread.bjt(spread.nominal(), s.conditions.celsius);
+  return spread;
+}
 
-  const report::Analysis a = report::analyze_stage(s, &spread);
-  if (o.spice) write_spice(*o.spice, s);
-  if (ctx.global.json) {
-    print_json(ctx, report::analysis_json(a));
-    return;
-  }
-  const auto& c = a.stage.conditions;
-  ctx.out << fmt::format("Stage: {}: {}\n", t.name(), t.summary());
-  ctx.out << device_line(s, spread) << "\n";
-  ctx.out << fmt::format("Conditions: {}{} rail (ground at the battery's {} terminal), load {}, source {}\n\n",
-                         c.negative_rail ? "-" : "+", format_value(c.supply_v, Unit::volt), c.negative_rail ? "+" : "-",
-                         format_value(c.load_ohm, Unit::ohm), format_value(c.source_ohm, Unit::ohm));
-  ctx.out << report::parts_text(a) << "\n";
-  ctx.out << report::figures_text(a);
-  print_list(ctx.out, "Warnings", a.warnings);
-  // Parts given by value have no stock rating: say how to give one, in place of the
-  // analysis's general note.
+/// The analysis's cautions, with its general note on unstated ratings replaced: parts given
+/// by value have no stock rating, so say how to give one.
+std::vector<std::string> analyze_cautions(const report::Analysis& a) {
   std::vector<std::string> cautions, unrated;
   for (const auto& p : a.parts)
     if (!(p.info.rating > 0)) unrated.push_back(p.name);
@@ -225,10 +218,45 @@ void run_analyze(const AnalyzeOptions& o, Context& ctx) {
                                    "--rating ROLE=0.25W (resistors) or --rating ROLE=16V (capacitors) to have them "
                                    "checked",
                                    fmt::join(unrated, ", ")));
-  print_list(ctx.out, "Cautions", cautions);
+  return cautions;
+}
+
+/// The analysis as text.
+void print_analysis(Context& ctx, const AnalyzeOptions& o, const report::Analysis& a,
+                    const report::StageUnderTest& s, const devices::DeviceSpread& spread) {
+  const stages::Topology& t = *s.topology;
+  const auto& c = a.stage.conditions;
+  ctx.out << fmt::format("Stage: {}: {}\n", t.name(), t.summary());
+  ctx.out << device_line(s, spread) << "\n";
+  ctx.out << fmt::format("Conditions: {}{} rail (ground at the battery's {} terminal), load {}, source {}\n\n",
+                         c.negative_rail ? "-" : "+", format_value(c.supply_v, Unit::volt), c.negative_rail ? "+" : "-",
+                         format_value(c.load_ohm, Unit::ohm), format_value(c.source_ohm, Unit::ohm));
+  ctx.out << report::parts_text(a) << "\n";
+  ctx.out << report::figures_text(a);
+  print_list(ctx.out, "Warnings", a.warnings);
+  print_list(ctx.out, "Cautions", analyze_cautions(a));
   if (const std::string corners = report::corners_text(a); !corners.empty()) ctx.out << "\n" << corners;
   if (o.spice)
     ctx.out << fmt::format("\nSPICE netlist written to {} (run it with: ngspice -b {}).\n", *o.spice, *o.spice);
+}
+
+void run_analyze(const AnalyzeOptions& o, Context& ctx) {
+  const stages::Topology& t = topology_named(o.topology);
+  const stages::Values values = part_values(t, o);
+
+  report::StageUnderTest s;
+  s.topology = &t;
+  s.values = values;
+  s.parts = part_ratings(t, values, o);
+  s.conditions = conditions_from(o);
+  const devices::DeviceSpread spread = fit_device(ctx, o, s);
+
+  const report::Analysis a = report::analyze_stage(s, &spread);
+  if (o.spice) write_spice(*o.spice, s);
+  if (ctx.global.json)
+    print_json(ctx, report::analysis_json(a));
+  else
+    print_analysis(ctx, o, a, s, spread);
 }
 
 }  // namespace
