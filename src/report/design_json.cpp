@@ -131,12 +131,10 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
   }
 }
 
-Json candidate_json(const synth::Candidate& c) {
-  Json j;
-  j["rank"] = c.rank;
-  j["id"] = c.id;
-  j["topology"] = c.is_chain() ? std::string("chain") : std::string(c.topology->name());
-  j["score"] = c.score;
+namespace {
+
+// The device: its name, kind and nominal model parameters.
+Json device_json(const synth::Candidate& c) {
   Json dev;
   // Names as clean text (a database from before text was checked may hold others): valid JSON
   // always, and candidate_from_json matches them the same way.
@@ -153,117 +151,150 @@ Json candidate_json(const synth::Candidate& c) {
     model["vaf"] = c.nominal_device.bjt.vaf_v;
   }
   dev["model"] = model;
-  j["device"] = dev;
-  j["piece"] = c.piece ? Json(units::escape_text(c.piece->label)) : Json(nullptr);
-  // Which pieces the worst case covers: "correlated", "box" or "measured".
-  j["spread"] = c.piece ? std::string("measured") : std::string(devices::spread_model_name(c.spread_model));
-  Json parts = Json::array();
-  for (const auto& rp : c.parts) {
-    Json p;
-    p["role"] = rp.role;
-    p["designator"] = rp.designator;
-    p["value"] = rp.combo.nominal;
-    p["tol"] = units::format_tolerance(rp.tol);
-    p["recipe"] = {{"join", join_name(rp.combo.join)}, {"values", rp.values}};
-    p["kind"] = std::string(1, rp.kind);
-    p["text"] = rp.recipe;
-    p["bounds"] = Json::array({rp.combo.lo, rp.combo.hi});
-    p["rating"] = rp.rating > 0 ? Json(rp.rating) : Json(nullptr);
-    if (rp.kind == 'C') p["dielectric"] = rp.dielectric;
-    p["polarised"] = rp.polarised;
-    p["plus_net"] = rp.plus_net.empty() ? Json(nullptr) : Json(rp.plus_net);
-    if (rp.kind == 'C') {
-      p["minus_net"] = rp.minus_net.empty() ? Json(nullptr) : Json(rp.minus_net);
-      // The DC across, from the + lead (or the end higher at nominal) to the other, over the
-      // nominal build and every corner, from the exact solver; and the exported netlist's
-      // nets of those leads (V(plus_node) - V(minus_node) is that DC).
-      p["dc"] = range(rp.dc);
-      p["plus_node"] = rp.plus_node.empty() ? Json(nullptr) : Json(rp.plus_node);
-      p["minus_node"] = rp.minus_node.empty() ? Json(nullptr) : Json(rp.minus_node);
-    }
-    p["lines"] = rp.lines;
-    if (rp.stage > 0) p["stage"] = rp.stage;
-    parts.push_back(p);
+  return dev;
+}
+
+// One part of the build: value, recipe, bounds, rating, and for a capacitor its DC across.
+Json part_json(const synth::RolePart& rp) {
+  Json p;
+  p["role"] = rp.role;
+  p["designator"] = rp.designator;
+  p["value"] = rp.combo.nominal;
+  p["tol"] = units::format_tolerance(rp.tol);
+  p["recipe"] = {{"join", join_name(rp.combo.join)}, {"values", rp.values}};
+  p["kind"] = std::string(1, rp.kind);
+  p["text"] = rp.recipe;
+  p["bounds"] = Json::array({rp.combo.lo, rp.combo.hi});
+  p["rating"] = rp.rating > 0 ? Json(rp.rating) : Json(nullptr);
+  if (rp.kind == 'C') p["dielectric"] = rp.dielectric;
+  p["polarised"] = rp.polarised;
+  p["plus_net"] = rp.plus_net.empty() ? Json(nullptr) : Json(rp.plus_net);
+  if (rp.kind == 'C') {
+    p["minus_net"] = rp.minus_net.empty() ? Json(nullptr) : Json(rp.minus_net);
+    // The DC across, from the + lead (or the end higher at nominal) to the other, over the
+    // nominal build and every corner, from the exact solver; and the exported netlist's
+    // nets of those leads (V(plus_node) - V(minus_node) is that DC).
+    p["dc"] = range(rp.dc);
+    p["plus_node"] = rp.plus_node.empty() ? Json(nullptr) : Json(rp.plus_node);
+    p["minus_node"] = rp.minus_node.empty() ? Json(nullptr) : Json(rp.minus_node);
   }
-  j["parts"] = parts;
+  p["lines"] = rp.lines;
+  if (rp.stage > 0) p["stage"] = rp.stage;
+  return p;
+}
+
+// The nominal build's figures.
+Json nominal_json(const synth::Candidate& c) {
   const auto keys = node_keys(c);
   const auto& n = c.nominal;
-  j["nominal"] = {{"gain", n.gain},
-                  {"bias_current", n.bias_current_a},
-                  {"nodes", {{keys[0], n.v_in}, {keys[1], n.v_common}, {keys[2], n.v_out}}},
-                  {"zin", n.zin_ohm},
-                  {"zout", n.zout_ohm},
-                  {"f_low", n.f_low_hz},
-                  {"f_high", n.f_high_hz},
-                  {"swing_peak", n.swing_peak_v},
-                  {"supply_current", n.supply_current_a},
-                  {"swing_up", n.swing_up_v},
-                  {"swing_down", n.swing_down_v},
-                  {"swing_vpp", 2 * n.swing_peak_v},
-                  {"clip_peak", n.clip_peak_v},
-                  {"loss_low_db", n.loss_lo_db},
-                  {"loss_high_db", n.loss_hi_db},
-                  {"hd2", n.hd2},
-                  {"hd3", n.hd3},
-                  {"thd", n.thd},
-                  {"noise", n.noise_v_rthz}};
+  return {{"gain", n.gain},
+          {"bias_current", n.bias_current_a},
+          {"nodes", {{keys[0], n.v_in}, {keys[1], n.v_common}, {keys[2], n.v_out}}},
+          {"zin", n.zin_ohm},
+          {"zout", n.zout_ohm},
+          {"f_low", n.f_low_hz},
+          {"f_high", n.f_high_hz},
+          {"swing_peak", n.swing_peak_v},
+          {"supply_current", n.supply_current_a},
+          {"swing_up", n.swing_up_v},
+          {"swing_down", n.swing_down_v},
+          {"swing_vpp", 2 * n.swing_peak_v},
+          {"clip_peak", n.clip_peak_v},
+          {"loss_low_db", n.loss_lo_db},
+          {"loss_high_db", n.loss_hi_db},
+          {"hd2", n.hd2},
+          {"hd3", n.hd3},
+          {"thd", n.thd},
+          {"noise", n.noise_v_rthz}};
+}
+
+// The worst case's ranges.
+Json worst_json(const synth::Candidate& c) {
+  const auto keys = node_keys(c);
   const auto& w = c.worst;
   synth::Range vpp = w.swing_peak;
   vpp.min *= 2;
   vpp.max *= 2;
-  j["worst"] = {{"gain", range(w.gain)},
-                {"bias_current", range(w.bias_current)},
-                {"swing_peak", range(w.swing_peak)},
-                {"swing_vpp", range(vpp)},
-                {"thd", range(w.thd)},
-                {"nodes", {{keys[0], range(w.v_in)}, {keys[1], range(w.v_common)}, {keys[2], range(w.v_out)}}},
-                {"zin", range(w.zin)},
-                {"zout", range(w.zout)},
-                {"f_low", range(w.f_low)},
-                {"f_high", range(w.f_high)},
-                {"supply_current", range(w.supply_current)},
-                {"evaluations", w.evaluations}};
-  if (!c.is_chain()) {
-    // The transistor's stress over the worst case beside its ratings (null: not stated);
-    // the shares the check allows are voltage_share and power_share.
-    const auto& r = c.device.ratings;
-    auto opt = [](const std::optional<double>& v) { return v ? Json(*v) : Json(nullptr); };
-    j["transistor"] = {{"designator", "Q1"},
-                       {"v_main", range(w.device_v)},
-                       {"v_max", opt(r.v_max_v)},
-                       {"v_reverse", range(w.device_rev)},
-                       {"v_rev_max", opt(r.v_rev_max_v)},
-                       {"power", range(w.device_p)},
-                       {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr)
-                                                                                  : Json(w.device_p_allowed.min)},
-                       {"p_max", opt(r.p_max_w)},
-                       {"voltage_share", synth::kDeviceVoltageShare},
-                       {"power_share", synth::kDevicePowerShare},
-                       {"rated", r.any()}};
+  return {{"gain", range(w.gain)},
+          {"bias_current", range(w.bias_current)},
+          {"swing_peak", range(w.swing_peak)},
+          {"swing_vpp", range(vpp)},
+          {"thd", range(w.thd)},
+          {"nodes", {{keys[0], range(w.v_in)}, {keys[1], range(w.v_common)}, {keys[2], range(w.v_out)}}},
+          {"zin", range(w.zin)},
+          {"zout", range(w.zout)},
+          {"f_low", range(w.f_low)},
+          {"f_high", range(w.f_high)},
+          {"supply_current", range(w.supply_current)},
+          {"evaluations", w.evaluations}};
+}
+
+// The transistor's stress over the worst case beside its ratings (null: not stated);
+// the shares the check allows are voltage_share and power_share.
+Json transistor_json(const synth::Candidate& c) {
+  const auto& w = c.worst;
+  const auto& r = c.device.ratings;
+  auto opt = [](const std::optional<double>& v) { return v ? Json(*v) : Json(nullptr); };
+  return {{"designator", "Q1"},
+          {"v_main", range(w.device_v)},
+          {"v_max", opt(r.v_max_v)},
+          {"v_reverse", range(w.device_rev)},
+          {"v_rev_max", opt(r.v_rev_max_v)},
+          {"power", range(w.device_p)},
+          {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr)
+                                                                     : Json(w.device_p_allowed.min)},
+          {"p_max", opt(r.p_max_w)},
+          {"voltage_share", synth::kDeviceVoltageShare},
+          {"power_share", synth::kDevicePowerShare},
+          {"rated", r.any()}};
+}
+
+// A chain's stages, each shaped like a single-stage candidate, evaluated into the next
+// stage's input; the chain's own nominal and worst are the whole chain's (nodes: the first
+// stage's).
+Json stages_json(const synth::Candidate& c) {
+  Json st = Json::array();
+  for (std::size_t k = 0; k < c.stages.size(); ++k) {
+    Json s = candidate_json(c.stages[k]);
+    s.erase("rank");
+    s.erase("id");
+    s.erase("yield");
+    s.erase("score");
+    s.erase("error_nominal");
+    s.erase("error_worst");
+    s["stage"] = k + 1;
+    s["load"] = c.stages[k].conditions.load_ohm;
+    s["source_z"] = c.stages[k].conditions.source_ohm;
+    st.push_back(std::move(s));
   }
+  return st;
+}
+
+}  // namespace
+
+Json candidate_json(const synth::Candidate& c) {
+  Json j;
+  j["rank"] = c.rank;
+  j["id"] = c.id;
+  j["topology"] = c.is_chain() ? std::string("chain") : std::string(c.topology->name());
+  j["score"] = c.score;
+  j["device"] = device_json(c);
+  j["piece"] = c.piece ? Json(units::escape_text(c.piece->label)) : Json(nullptr);
+  // Which pieces the worst case covers: "correlated", "box" or "measured".
+  j["spread"] = c.piece ? std::string("measured") : std::string(devices::spread_model_name(c.spread_model));
+  Json parts = Json::array();
+  for (const auto& rp : c.parts) parts.push_back(part_json(rp));
+  j["parts"] = parts;
+  j["nominal"] = nominal_json(c);
+  j["worst"] = worst_json(c);
+  if (!c.is_chain()) j["transistor"] = transistor_json(c);
   j["yield"] = c.yield ? Json(*c.yield) : Json(nullptr);
   j["pieces"] = c.pieces;
   j["error_nominal"] = c.error_nominal;
   j["error_worst"] = c.error_worst;
   j["cautions"] = c.cautions;
   if (c.is_chain()) {
-    // Each stage shaped like a single-stage candidate, evaluated into the next stage's input;
-    // the chain's own nominal and worst are the whole chain's (nodes: the first stage's).
-    Json st = Json::array();
-    for (std::size_t k = 0; k < c.stages.size(); ++k) {
-      Json s = candidate_json(c.stages[k]);
-      s.erase("rank");
-      s.erase("id");
-      s.erase("yield");
-      s.erase("score");
-      s.erase("error_nominal");
-      s.erase("error_worst");
-      s["stage"] = k + 1;
-      s["load"] = c.stages[k].conditions.load_ohm;
-      s["source_z"] = c.stages[k].conditions.source_ohm;
-      st.push_back(std::move(s));
-    }
-    j["stages"] = std::move(st);
+    j["stages"] = stages_json(c);
     j["chain"] = c.topology_name();
   }
   return j;
@@ -283,83 +314,103 @@ std::vector<std::string> candidate_devices(const nlohmann::json& j) {
   return names;
 }
 
+namespace {
+
+// A chain read back: its stages one by one; the chain's parts are theirs.
+synth::Candidate chain_from_json(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
+                                 const std::vector<devices::MeasuredPiece>& pieces) {
+  synth::Candidate c;
+  for (const auto& sj : j["stages"]) {
+    Json s = sj;
+    s["id"] = j.value("id", std::string());
+    c.stages.push_back(candidate_from_json(s, devs, pieces));
+  }
+  for (std::size_t k = 0; k < c.stages.size(); ++k) {
+    auto& s = c.stages[k];
+    const auto& sj = j["stages"][k];
+    // After the first stage the previous COUT couples the stage: no CIN of its own.
+    const std::size_t cin = stages::input_coupling_role(*s.topology);
+    if (k > 0 && cin < s.topology->roles().size() && s.values[cin] == 0) s.values[cin] = stages::kLinkedCin;
+    s.conditions.load_ohm = sj.value("load", 0.0);
+    s.conditions.source_ohm = sj.value("source_z", 0.0);
+    for (const auto& rp : s.parts) c.parts.push_back(rp);
+  }
+  c.id = j.value("id", std::string());
+  c.rank = j.value("rank", 0);
+  c.spread_model = c.stages.front().spread_model;
+  c.device = c.stages.front().device;
+  c.piece = c.stages.front().piece;
+  c.pieces = j.value("pieces", 0);
+  c.score = j.value("score", 0.0);
+  return c;
+}
+
+// The device record, spread model and measured piece a saved single stage names.
+void read_device(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
+                 const std::vector<devices::MeasuredPiece>& pieces, synth::Candidate& c) {
+  const std::string dev = j.at("device").at("name").get<std::string>();
+  const auto it = std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev; });
+  if (it == devs.end()) throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev));
+  c.device = *it;
+  if (j.contains("spread") && j["spread"].is_string()) {
+    devices::SpreadModel m;
+    if (devices::parse_spread_model(j["spread"].get<std::string>(), m)) c.spread_model = m;
+  }
+  if (j.contains("piece") && j["piece"].is_string()) {
+    const std::string label = j["piece"].get<std::string>();
+    const auto pit = std::find_if(pieces.begin(), pieces.end(), [&](const auto& p) { return units::escape_text(p.label) == label; });
+    if (pit == pieces.end()) throw InputError(fmt::format("saved design: measured piece '{}' is gone", label));
+    c.piece = *pit;
+  }
+}
+
+// One saved part (part_json's output) read back.
+synth::RolePart part_from_json(const nlohmann::json& p) {
+  synth::RolePart rp;
+  rp.role = p.at("role").get<std::string>();
+  rp.designator = p.at("designator").get<std::string>();
+  rp.kind = p.at("kind").get<std::string>().at(0);
+  rp.recipe = p.value("text", std::string());
+  rp.values = p.at("recipe").at("values").get<std::vector<double>>();
+  rp.combo.join = join_from(p.at("recipe").at("join").get<std::string>());
+  rp.combo.count = static_cast<std::uint8_t>(rp.values.size());
+  rp.combo.nominal = p.at("value").get<double>();
+  rp.combo.lo = p.at("bounds")[0].get<double>();
+  rp.combo.hi = p.at("bounds")[1].get<double>();
+  rp.tol = {1.0 - rp.combo.lo / rp.combo.nominal, rp.combo.hi / rp.combo.nominal - 1.0};
+  rp.rating = p["rating"].is_number() ? p["rating"].get<double>() : 0.0;
+  rp.combo.rating = rp.rating;
+  rp.dielectric = p.value("dielectric", std::string());
+  rp.polarised = p.value("polarised", false);
+  rp.combo.polarised = rp.polarised;
+  if (p.contains("plus_net") && p["plus_net"].is_string()) rp.plus_net = p["plus_net"].get<std::string>();
+  if (p.contains("minus_net") && p["minus_net"].is_string()) rp.minus_net = p["minus_net"].get<std::string>();
+  if (p.contains("dc") && p["dc"].is_array()) {
+    rp.dc.add(p["dc"][0].get<double>());
+    rp.dc.add(p["dc"][1].get<double>());
+  }
+  if (p.contains("plus_node") && p["plus_node"].is_string()) rp.plus_node = p["plus_node"].get<std::string>();
+  if (p.contains("minus_node") && p["minus_node"].is_string()) rp.minus_node = p["minus_node"].get<std::string>();
+  rp.lines = p.at("lines").get<std::vector<std::vector<std::int64_t>>>();
+  rp.stage = p.value("stage", 0);
+  return rp;
+}
+
+}  // namespace
+
 synth::Candidate candidate_from_json(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
                                      const std::vector<devices::MeasuredPiece>& pieces) {
+  if (j.contains("stages") && j["stages"].is_array() && !j["stages"].empty()) return chain_from_json(j, devs, pieces);
   synth::Candidate c;
-  if (j.contains("stages") && j["stages"].is_array() && !j["stages"].empty()) {
-    // A chain: its stages read back one by one; the chain's parts are theirs.
-    for (const auto& sj : j["stages"]) {
-      Json s = sj;
-      s["id"] = j.value("id", std::string());
-      c.stages.push_back(candidate_from_json(s, devs, pieces));
-    }
-    for (std::size_t k = 0; k < c.stages.size(); ++k) {
-      auto& s = c.stages[k];
-      const auto& sj = j["stages"][k];
-      // After the first stage the previous COUT couples the stage: no CIN of its own.
-      const std::size_t cin = stages::input_coupling_role(*s.topology);
-      if (k > 0 && cin < s.topology->roles().size() && s.values[cin] == 0) s.values[cin] = stages::kLinkedCin;
-      s.conditions.load_ohm = sj.value("load", 0.0);
-      s.conditions.source_ohm = sj.value("source_z", 0.0);
-      for (const auto& rp : s.parts) c.parts.push_back(rp);
-    }
-    c.id = j.value("id", std::string());
-    c.rank = j.value("rank", 0);
-    c.spread_model = c.stages.front().spread_model;
-    c.device = c.stages.front().device;
-    c.piece = c.stages.front().piece;
-    c.pieces = j.value("pieces", 0);
-    c.score = j.value("score", 0.0);
-    return c;
-  }
   try {
     const std::string topo = j.at("topology").get<std::string>();
     c.topology = stages::find_topology(topo);
     if (!c.topology) throw InputError(fmt::format("saved design: topology '{}' is unknown to this shelfstage", topo));
     c.id = j.at("id").get<std::string>();
     c.rank = j.value("rank", 0);
-    const std::string dev = j.at("device").at("name").get<std::string>();
-    const auto it = std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev; });
-    if (it == devs.end()) throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev));
-    c.device = *it;
-    if (j.contains("spread") && j["spread"].is_string()) {
-      devices::SpreadModel m;
-      if (devices::parse_spread_model(j["spread"].get<std::string>(), m)) c.spread_model = m;
-    }
-    if (j.contains("piece") && j["piece"].is_string()) {
-      const std::string label = j["piece"].get<std::string>();
-      const auto pit = std::find_if(pieces.begin(), pieces.end(), [&](const auto& p) { return units::escape_text(p.label) == label; });
-      if (pit == pieces.end()) throw InputError(fmt::format("saved design: measured piece '{}' is gone", label));
-      c.piece = *pit;
-    }
+    read_device(j, devs, pieces, c);
     for (const auto& p : j.at("parts")) {
-      synth::RolePart rp;
-      rp.role = p.at("role").get<std::string>();
-      rp.designator = p.at("designator").get<std::string>();
-      rp.kind = p.at("kind").get<std::string>().at(0);
-      rp.recipe = p.value("text", std::string());
-      rp.values = p.at("recipe").at("values").get<std::vector<double>>();
-      rp.combo.join = join_from(p.at("recipe").at("join").get<std::string>());
-      rp.combo.count = static_cast<std::uint8_t>(rp.values.size());
-      rp.combo.nominal = p.at("value").get<double>();
-      rp.combo.lo = p.at("bounds")[0].get<double>();
-      rp.combo.hi = p.at("bounds")[1].get<double>();
-      rp.tol = {1.0 - rp.combo.lo / rp.combo.nominal, rp.combo.hi / rp.combo.nominal - 1.0};
-      rp.rating = p["rating"].is_number() ? p["rating"].get<double>() : 0.0;
-      rp.combo.rating = rp.rating;
-      rp.dielectric = p.value("dielectric", std::string());
-      rp.polarised = p.value("polarised", false);
-      rp.combo.polarised = rp.polarised;
-      if (p.contains("plus_net") && p["plus_net"].is_string()) rp.plus_net = p["plus_net"].get<std::string>();
-      if (p.contains("minus_net") && p["minus_net"].is_string()) rp.minus_net = p["minus_net"].get<std::string>();
-      if (p.contains("dc") && p["dc"].is_array()) {
-        rp.dc.add(p["dc"][0].get<double>());
-        rp.dc.add(p["dc"][1].get<double>());
-      }
-      if (p.contains("plus_node") && p["plus_node"].is_string()) rp.plus_node = p["plus_node"].get<std::string>();
-      if (p.contains("minus_node") && p["minus_node"].is_string()) rp.minus_node = p["minus_node"].get<std::string>();
-      rp.lines = p.at("lines").get<std::vector<std::vector<std::int64_t>>>();
-      rp.stage = p.value("stage", 0);
+      synth::RolePart rp = part_from_json(p);
       const std::size_t i = c.topology->role_index(rp.role);
       if (i >= c.topology->roles().size())
         throw InputError(fmt::format("saved design: {} has no role {}", c.topology->name(), rp.role));
