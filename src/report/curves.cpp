@@ -120,11 +120,11 @@ StageUnderTest stage_under_test(const synth::Candidate& c) {
 }
 
 
-Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, int per_decade) {
-  if (per_decade < 2) throw InputError(fmt::format("points per decade {} must be at least 2", per_decade));
-  Response r;
-  r.band_hz = spec.band_hz;
-  r.requested_gain_db = spec.gain > 0 ? 20 * std::log10(spec.gain) : 0;
+namespace {
+
+// The sweep's frequencies: whole decades from a decade below the lower edge (of the stage's
+// or the spec's band) to a decade above the upper.
+std::vector<double> response_frequencies(const synth::Candidate& c, const synth::Spec& spec, int per_decade) {
   double lo = c.nominal.f_low_hz > 0 ? c.nominal.f_low_hz : 20.0;
   double hi = c.nominal.f_high_hz > 0 ? c.nominal.f_high_hz : 1e6;
   if (spec.band_hz) {
@@ -133,8 +133,11 @@ Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, 
   }
   lo = std::clamp(std::pow(10.0, std::floor(std::log10(lo / 10) + 1e-9)), 0.01, 1e9);
   hi = std::clamp(std::pow(10.0, std::ceil(std::log10(hi * 10) - 1e-9)), lo * 10, 1e10);
-  r.f_hz = circuit::log_sweep(lo, hi, per_decade);
+  return circuit::log_sweep(lo, hi, per_decade);
+}
 
+// The nominal sweep and one per device corner into r.
+void sweep_corners(const synth::Candidate& c, const synth::Spec& spec, Response& r) {
   const double celsius = spec.temp_nominal_c();
   const devices::DeviceSpread spread = synth::spread_of(c);
   // A stage: its corner pieces. A chain: each stage's corner pieces in turn, the other
@@ -171,7 +174,10 @@ Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, 
       for (double& p : k.phase_deg) p += turn;
     }
   }
+}
 
+// The gain and phase envelope over the nominal and every solved corner.
+void response_envelope(Response& r) {
   const std::size_t n = r.f_hz.size();
   r.gain_lo_db.assign(n, kNaN);
   r.gain_hi_db.assign(n, kNaN);
@@ -188,23 +194,39 @@ Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, 
   };
   widen(r.nominal);
   for (const auto& k : r.corners) widen(k);
+}
 
-  if (r.nominal.solved) {
-    const auto& g = r.nominal.gain_db;
-    const auto peak = static_cast<std::size_t>(std::max_element(g.begin(), g.end()) - g.begin());
-    r.peak_gain_db = g[peak];
-    const double level = g[peak] - 10 * std::log10(2.0);
-    for (std::size_t i = peak; i-- > 0;)
-      if (g[i] < level) {
-        r.f_low_hz = crossing(r.f_hz, g, i, i + 1, level);
-        break;
-      }
-    for (std::size_t i = peak + 1; i < n; ++i)
-      if (g[i] < level) {
-        r.f_high_hz = crossing(r.f_hz, g, i - 1, i, level);
-        break;
-      }
-  }
+// The nominal's peak gain and its -3 dB edges.
+void band_edges(Response& r) {
+  if (!r.nominal.solved) return;
+  const std::size_t n = r.f_hz.size();
+  const auto& g = r.nominal.gain_db;
+  const auto peak = static_cast<std::size_t>(std::max_element(g.begin(), g.end()) - g.begin());
+  r.peak_gain_db = g[peak];
+  const double level = g[peak] - 10 * std::log10(2.0);
+  for (std::size_t i = peak; i-- > 0;)
+    if (g[i] < level) {
+      r.f_low_hz = crossing(r.f_hz, g, i, i + 1, level);
+      break;
+    }
+  for (std::size_t i = peak + 1; i < n; ++i)
+    if (g[i] < level) {
+      r.f_high_hz = crossing(r.f_hz, g, i - 1, i, level);
+      break;
+    }
+}
+
+}  // namespace
+
+Response frequency_response(const synth::Candidate& c, const synth::Spec& spec, int per_decade) {
+  if (per_decade < 2) throw InputError(fmt::format("points per decade {} must be at least 2", per_decade));
+  Response r;
+  r.band_hz = spec.band_hz;
+  r.requested_gain_db = spec.gain > 0 ? 20 * std::log10(spec.gain) : 0;
+  r.f_hz = response_frequencies(c, spec, per_decade);
+  sweep_corners(c, spec, r);
+  response_envelope(r);
+  band_edges(r);
   return r;
 }
 
@@ -230,67 +252,72 @@ std::string response_text(const Response& r, int columns) {
   return out;
 }
 
-BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int samples) {
-  if (samples < 0 || samples > 100000)
-    throw InputError(fmt::format("bias samples {} must be from 0 to 100000", samples));
-  const auto& t = *c.topology;
-  const devices::DeviceSpread spread = synth::spread_of(c);
-  const double celsius = spec.temp_nominal_c();
-  const stages::Transistor q0 = synth::make_transistor(spread, spread.nominal(), celsius);
-  BiasSpread b;
-  b.line = t.load_line(c.values, c.conditions);
-  const bool follower = b.line.at_common;
-  b.node = std::string(t.node_names()[follower ? 1 : 2]);
+namespace {
 
-  auto point = [&](const stages::Values& v, const stages::Transistor& q, const stages::Conditions& cond,
-                   const std::string& tag) -> std::optional<BiasPoint> {
-    try {
-      const circuit::Circuit net = t.netlist(v, q, cond);
-      circuit::SolverOptions so;
-      so.celsius = cond.celsius;
-      const auto op = circuit::solve_dc(net, so);
-      BiasPoint p;
-      p.v = op.v(net, b.node);
-      p.i_a = std::abs(op.devices.front().i_main_a);
-      p.tag = tag;
-      return p;
-    } catch (const Error&) {
-      return std::nullopt;
-    }
-  };
+// What the bias points of one stage are worked from.
+struct BiasSetup {
+  const synth::Candidate& c;
+  const synth::Spec& spec;
+  const devices::DeviceSpread& spread;
+  const stages::Transistor& q0;
+  double celsius;
+};
 
-  if (auto p = point(c.values, q0, c.conditions, "nominal")) b.nominal = *p;
-  for (const auto& f : spread.corners())
-    if (auto p = point(c.values, synth::make_transistor(spread, f, celsius), c.conditions, f.tag)) b.corners.push_back(*p);
-
-  // Monte Carlo builds drawn in the synthesizer's order (synth/evaluate.cpp, monte_carlo).
-  if (samples > 0) {
-    const auto pieces = spread.samples(static_cast<std::size_t>(samples), spec.seed);
-    std::mt19937_64 rng(spec.seed ^ 0x9e3779b97f4a7c15ULL);
-    std::uniform_real_distribution<double> u(0.0, 1.0);
-    const double t_lo = spec.temp_c ? spec.temp_c->first : spec.temp_nominal_c();
-    const double t_hi = spec.temp_c ? spec.temp_c->second : spec.temp_nominal_c();
-    for (const auto& f : pieces) {
-      stages::Values v = c.values;
-      for (const auto& rp : c.parts) v[t.role_index(rp.role)] = rp.combo.lo + (rp.combo.hi - rp.combo.lo) * u(rng);
-      stages::Conditions cond = c.conditions;
-      cond.supply_v = spec.supply_lo_v + (spec.supply_hi_v - spec.supply_lo_v) * u(rng);
-      cond.celsius = t_lo + (t_hi - t_lo) * u(rng);
-      if (auto p = point(v, synth::make_transistor(spread, f, cond.celsius), cond, f.tag))
-        b.samples.push_back(*p);
-      else
-        ++b.failed;
-    }
+// The DC operating point at the watched node of one build, or none if it does not solve.
+std::optional<BiasPoint> bias_point(const stages::Topology& t, const std::string& node, const stages::Values& v,
+                                    const stages::Transistor& q, const stages::Conditions& cond,
+                                    const std::string& tag) {
+  try {
+    const circuit::Circuit net = t.netlist(v, q, cond);
+    circuit::SolverOptions so;
+    so.celsius = cond.celsius;
+    const auto op = circuit::solve_dc(net, so);
+    BiasPoint p;
+    p.v = op.v(net, node);
+    p.i_a = std::abs(op.devices.front().i_main_a);
+    p.tag = tag;
+    return p;
+  } catch (const Error&) {
+    return std::nullopt;
   }
+}
 
-  // The safe region (see the header), worked in the N frame and placed on the rail.
-  b.swing_peak_v = spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0;
+// Monte Carlo builds drawn in the synthesizer's order (synth/evaluate.cpp, monte_carlo).
+void sample_bias(const BiasSetup& s, int samples, BiasSpread& b) {
+  const auto& c = s.c;
+  const auto& spec = s.spec;
+  const auto& t = *c.topology;
+  const auto pieces = s.spread.samples(static_cast<std::size_t>(samples), spec.seed);
+  std::mt19937_64 rng(spec.seed ^ 0x9e3779b97f4a7c15ULL);
+  std::uniform_real_distribution<double> u(0.0, 1.0);
+  const double t_lo = spec.temp_c ? spec.temp_c->first : spec.temp_nominal_c();
+  const double t_hi = spec.temp_c ? spec.temp_c->second : spec.temp_nominal_c();
+  for (const auto& f : pieces) {
+    stages::Values v = c.values;
+    for (const auto& rp : c.parts) v[t.role_index(rp.role)] = rp.combo.lo + (rp.combo.hi - rp.combo.lo) * u(rng);
+    stages::Conditions cond = c.conditions;
+    cond.supply_v = spec.supply_lo_v + (spec.supply_hi_v - spec.supply_lo_v) * u(rng);
+    cond.celsius = t_lo + (t_hi - t_lo) * u(rng);
+    if (auto p = bias_point(t, b.node, v, synth::make_transistor(s.spread, f, cond.celsius), cond, f.tag))
+      b.samples.push_back(*p);
+    else
+      ++b.failed;
+  }
+}
+
+// The safe region (see the header), worked in the N frame and placed on the rail; every
+// point marked in or out of it.
+void safe_region(const BiasSetup& s, BiasSpread& b) {
+  const auto& c = s.c;
+  const auto& q0 = s.q0;
+  const bool follower = b.line.at_common;
+  b.swing_peak_v = s.spec.swing_vpp ? *s.spec.swing_vpp / 2 : 0.0;
   const double vpk = b.swing_peak_v;
   const double supply = c.conditions.supply_v;
   const bool jfet = devices::is_jfet(q0.kind);
   double beta_min = jfet ? q0.jfet.beta() : 0;
   if (jfet)
-    for (const auto& f : spread.corners()) beta_min = std::min(beta_min, spread.jfet(f, celsius).beta());
+    for (const auto& f : s.spread.corners()) beta_min = std::min(beta_min, s.spread.jfet(f, s.celsius).beta());
   auto knee = [&](double i) { return jfet ? std::sqrt(i / beta_min) : q0.bjt.vce_sat_v; };
   const double r_ac = b.line.r_ac_ohm;
   const double r_unbypassed = b.line.r_unbypassed_ohm;
@@ -300,34 +327,56 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
   for (const auto& p : b.samples) i_max_seen = std::max(i_max_seen, p.i_a);
   const double i_lo = r_ac > 0 ? vpk / r_ac : 0.0;
   double i_hi = std::max(2 * i_max_seen, 1.5 * i_lo);
-  if (spec.max_current_a) i_hi = std::min(i_hi, *spec.max_current_a);
-  if (i_hi > i_lo && i_hi > 0) {
-    constexpr int kSteps = 48;
-    std::vector<std::pair<double, double>> poly;
-    if (!follower) {
-      for (int k = 0; k <= kSteps; ++k) {
-        const double i = i_lo + (i_hi - i_lo) * k / kSteps;
-        const double v_lo = i * r_common + knee(i) + vpk * (1 + (r_ac > 0 ? r_unbypassed / r_ac : 0));
-        poly.push_back({std::min(v_lo, supply), i});
-      }
-      poly.push_back({supply, i_hi});
-      poly.push_back({supply, i_lo});
-    } else {
-      poly.push_back({0, i_lo});
-      poly.push_back({0, i_hi});
-      for (int k = kSteps; k >= 0; --k) {
-        const double i = i_lo + (i_hi - i_lo) * k / kSteps;
-        poly.push_back({std::max(0.0, supply - knee(i) - vpk), i});
-      }
+  if (s.spec.max_current_a) i_hi = std::min(i_hi, *s.spec.max_current_a);
+  if (!(i_hi > i_lo && i_hi > 0)) return;
+  constexpr int kSteps = 48;
+  std::vector<std::pair<double, double>> poly;
+  if (!follower) {
+    for (int k = 0; k <= kSteps; ++k) {
+      const double i = i_lo + (i_hi - i_lo) * k / kSteps;
+      const double v_lo = i * r_common + knee(i) + vpk * (1 + (r_ac > 0 ? r_unbypassed / r_ac : 0));
+      poly.push_back({std::min(v_lo, supply), i});
     }
-    const stages::Rail rail = stages::rail_of(q0, c.conditions);
-    for (auto& [v, i] : poly) v = rail.real(v);
-    b.safe_region = std::move(poly);
-    auto mark = [&](BiasPoint& p) { p.safe = inside(b.safe_region, p.v, p.i_a); };
-    mark(b.nominal);
-    for (auto& p : b.corners) mark(p);
-    for (auto& p : b.samples) mark(p);
+    poly.push_back({supply, i_hi});
+    poly.push_back({supply, i_lo});
+  } else {
+    poly.push_back({0, i_lo});
+    poly.push_back({0, i_hi});
+    for (int k = kSteps; k >= 0; --k) {
+      const double i = i_lo + (i_hi - i_lo) * k / kSteps;
+      poly.push_back({std::max(0.0, supply - knee(i) - vpk), i});
+    }
   }
+  const stages::Rail rail = stages::rail_of(q0, c.conditions);
+  for (auto& [v, i] : poly) v = rail.real(v);
+  b.safe_region = std::move(poly);
+  auto mark = [&](BiasPoint& p) { p.safe = inside(b.safe_region, p.v, p.i_a); };
+  mark(b.nominal);
+  for (auto& p : b.corners) mark(p);
+  for (auto& p : b.samples) mark(p);
+}
+
+}  // namespace
+
+BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int samples) {
+  if (samples < 0 || samples > 100000)
+    throw InputError(fmt::format("bias samples {} must be from 0 to 100000", samples));
+  const auto& t = *c.topology;
+  const devices::DeviceSpread spread = synth::spread_of(c);
+  const double celsius = spec.temp_nominal_c();
+  const stages::Transistor q0 = synth::make_transistor(spread, spread.nominal(), celsius);
+  BiasSpread b;
+  b.line = t.load_line(c.values, c.conditions);
+  b.node = std::string(t.node_names()[b.line.at_common ? 1 : 2]);
+
+  if (auto p = bias_point(t, b.node, c.values, q0, c.conditions, "nominal")) b.nominal = *p;
+  for (const auto& f : spread.corners())
+    if (auto p = bias_point(t, b.node, c.values, synth::make_transistor(spread, f, celsius), c.conditions, f.tag))
+      b.corners.push_back(*p);
+
+  const BiasSetup setup{c, spec, spread, q0, celsius};
+  if (samples > 0) sample_bias(setup, samples, b);
+  safe_region(setup, b);
   return b;
 }
 
