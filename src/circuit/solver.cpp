@@ -50,6 +50,20 @@ void stamp_g(M& A, std::size_t a, std::size_t b, T g) {
   }
 }
 
+// A voltage source's branch row k (DC or AC): its current variable into its + and - pins, and
+// the source's equation v(+) - v(-) = right-hand side.
+template <class M>
+void stamp_branch(M& A, const Component& e, long k) {
+  if (row(e.pins[0]) >= 0) {
+    A(row(e.pins[0]), k) += 1.0;
+    A(k, row(e.pins[0])) += 1.0;
+  }
+  if (row(e.pins[1]) >= 0) {
+    A(row(e.pins[1]), k) -= 1.0;
+    A(k, row(e.pins[1])) -= 1.0;
+  }
+}
+
 // A current into terminal `into` (leaving it toward the device) that depends on v(p)-v(n)
 // with transconductance g: adds g to A(into, p) and -g to A(into, n).
 template <class M, class T>
@@ -90,14 +104,7 @@ struct DcState {
 // A voltage source's branch row k: the current variable into its pins, and its value (scaled
 // for source stepping) on the right-hand side.
 void stamp_vsource_dc(const Component& e, long k, double scale, Eigen::MatrixXd& A, Eigen::VectorXd& b) {
-  if (row(e.pins[0]) >= 0) {
-    A(row(e.pins[0]), k) += 1;
-    A(k, row(e.pins[0])) += 1;
-  }
-  if (row(e.pins[1]) >= 0) {
-    A(row(e.pins[1]), k) -= 1;
-    A(k, row(e.pins[1])) -= 1;
-  }
+  stamp_branch(A, e, k);
   b(k) = scale * e.value;
 }
 
@@ -346,14 +353,7 @@ Eigen::MatrixXcd ac_matrix(const Circuit& c, const Layout& l, const OperatingPoi
         break;
       case ElementKind::vsource: {
         const long k = static_cast<long>(l.source_row[i]);
-        if (row(e.pins[0]) >= 0) {
-          A(row(e.pins[0]), k) += 1.0;
-          A(k, row(e.pins[0])) += 1.0;
-        }
-        if (row(e.pins[1]) >= 0) {
-          A(row(e.pins[1]), k) -= 1.0;
-          A(k, row(e.pins[1])) -= 1.0;
-        }
+        stamp_branch(A, e, k);
         if (rhs) (*rhs)(k) = e.ac_volts;
         break;
       }
