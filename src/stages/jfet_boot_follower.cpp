@@ -215,15 +215,7 @@ class JfetBootFollower final : public Topology {
   }
 
   Values capacitor_targets(const Values& v, const Transistor& q, const Conditions& c, double f) const override {
-    Values t = v;
-    const detail::JfetBias b = detail::jfet_bias(q.jfet, 0.0, v[RS1], v[RS2], c.supply_v);
-    const double inv_gm = b.conducts ? 1.0 / b.gm_s : v[RS1];
-    // CIN against RG alone (the input impedance once the bootstrap fails: the safe side);
-    // CB against RS1 beside the loop through the source and RS2; COUT against the load.
-    t[CIN] = detail::cap_for(c.source_ohm + v[RG], f / 6);
-    t[CB] = detail::cap_for(par(v[RS1], par(inv_gm, c.load_ohm) + v[RS2]), f / 10);
-    t[COUT] = detail::cap_for(par(v[RS2], inv_gm) + c.load_ohm, f / 6);
-    return t;
+    return with_capacitors(v, q, c, f / 6, f / 10);
   }
 
   // The source midway between where RS1 alone puts it and the supply less the overdrive; RG 1M.
@@ -235,11 +227,22 @@ class JfetBootFollower final : public Topology {
     v[RG] = 1e6;
     v[RS1] = (j.vp_abs_v - vov) / id;
     v[RS2] = std::max(0.5 * (c.supply_v - vov - id * v[RS1]) / id, 0.05 * v[RS1]);
-    const double inv_gm = vov / (2.0 * id);
-    v[CIN] = detail::cap_for(v[RG] + c.source_ohm, k.f_corner_hz);
-    v[CB] = detail::cap_for(par(v[RS1], par(inv_gm, c.load_ohm) + v[RS2]), k.f_corner_hz);
-    v[COUT] = detail::cap_for(c.load_ohm + par(v[RS2], inv_gm), k.f_corner_hz);
-    return v;
+    return with_capacitors(v, q, c, k.f_corner_hz, k.f_corner_hz);
+  }
+
+ private:
+  // The capacitors for coupling corners at f_couple and the bootstrap's at f_boot: CIN against
+  // RG alone (the input impedance once the bootstrap fails: the safe side), CB against RS1
+  // beside the loop through the source and RS2, COUT against the load.
+  static Values with_capacitors(const Values& v, const Transistor& q, const Conditions& c, double f_couple,
+                                double f_boot) {
+    Values t = v;
+    const detail::JfetBias b = detail::jfet_bias(q.jfet, 0.0, v[RS1], v[RS2], c.supply_v);
+    const double inv_gm = b.conducts ? 1.0 / b.gm_s : v[RS1];
+    t[CIN] = detail::cap_for(c.source_ohm + v[RG], f_couple);
+    t[CB] = detail::cap_for(par(v[RS1], par(inv_gm, c.load_ohm) + v[RS2]), f_boot);
+    t[COUT] = detail::cap_for(par(v[RS2], inv_gm) + c.load_ohm, f_couple);
+    return t;
   }
 };
 
