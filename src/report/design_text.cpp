@@ -15,6 +15,17 @@ using units::format_value;
 using units::Unit;
 }  // namespace
 
+namespace {
+
+/// The worst THD at the request's level; "clips" where some corner cannot reach that level
+/// (the evaluators then state a THD of 1: nothing to promise there).
+std::string thd_cell(const synth::Range& thd) {
+  if (thd.empty) return "";
+  return thd.max >= 1.0 ? "clips" : fmt::format("{:.2g}%", 100 * thd.max);
+}
+
+}  // namespace
+
 std::string upper_corner(double f_hz) {
   // The device models carry no transit time or base resistance: an upper corner beyond
   // 1 GHz says only that the stage is not what limits the bandwidth.
@@ -108,7 +119,7 @@ std::string candidates_table(const synth::DesignResult& r) {
     t.add_row({std::to_string(c.rank), c.id, c.topology_name(), device_text(c), fixed3(n.gain),
                fmt::format("{}..{}", fixed3(w.gain.min), fixed3(w.gain.max)), format_value(n.bias_current_a, Unit::ampere),
                fmt::format("{} ({})", format_value(2 * n.swing_peak_v), format_value(2 * w.swing_peak.min)),
-               w.thd.empty ? "" : fmt::format("{:.2g}%", 100 * w.thd.max),
+               thd_cell(w.thd),
                fmt::format("{}..{}", format_value(n.f_low_hz, Unit::hertz), upper_corner(n.f_high_hz)),
                c.yield ? fmt::format("{:.0f}%", *c.yield * 100) : "", std::to_string(c.pieces)});
   }
