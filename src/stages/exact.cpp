@@ -61,6 +61,29 @@ SweepPoint sweep_at(Circuit& h, std::span<const Transistor> qs, double x, const 
 // (Read instead on the real circuit at some frequency inside the band, the coupling
 // capacitors' reactance adds to a follower's few-ohm output impedance, and a follower's or a
 // low-gain common source's response rises above mid-band toward its upper corner.)
+// The flat divider of the input coupling capacitor (the capacitor on "in") against the input's
+// capacitance (topology.hpp, input_divider), read from the held circuit `h` at 10 Hz, where
+// the coupling is a short and the devices' capacitances (Miller or bootstrap included) draw
+// their current: the input admittance's imaginary part over omega, with RSIG set to the input
+// resistance for the reading, so that the current through it is well conditioned.
+double input_divider_of(const Circuit& net, Circuit h, const OperatingPoint& hop, double zin_ohm) {
+  const auto in = net.find_net(std::string(kNetIn));
+  if (!in || !(zin_ohm > 0)) return 1.0;
+  double c_couple = 0;
+  for (const auto& el : net.elements())
+    if (el.c.kind == ElementKind::capacitor && !is_bench_role(el.c.role) &&
+        (el.c.pins[0] == *in || el.c.pins[1] == *in))
+      c_couple = el.c.value;
+  if (!(c_couple > 0)) return 1.0;
+  const double rsig = h.find("RSIG")->c.value, r_probe = std::min(zin_ohm, 1e9);
+  h.set_value("RSIG", r_probe);
+  const double w = 2 * std::numbers::pi * 10.0;
+  const auto v = circuit::solve_ac(h, hop, w / (2 * std::numbers::pi));
+  const auto hin = *h.find_net(std::string(kNetIn)), hsig = *h.find_net(std::string(kNetSignal));
+  const std::complex<double> y = (v[hsig] - v[hin]) / r_probe / v[hin];
+  return input_divider(rsig, zin_ohm, y.imag() / w, c_couple);
+}
+
 struct MidBand {
   double gain = 0, zin_ohm = 0, zout_ohm = 0;
 };
@@ -80,6 +103,8 @@ MidBand mid_band(const Circuit& net, const OperatingPoint& op, const circuit::So
   h.set_value("RL", 1e12);
   const auto vo = circuit::solve_ac(h, hop, 0.0);
   m.zout_ohm = std::abs(load_ohm * (vo[out] / vs[out] - 1.0));
+  h.set_value("RL", load_ohm);
+  m.gain *= input_divider_of(net, h, hop, std::abs(vs[in]) > 0 ? m.zin_ohm : 0.0);
   return m;
 }
 

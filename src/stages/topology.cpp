@@ -2,6 +2,7 @@
 // (the N/P mirror and the turned-over stage, done once here), and role lookup.
 #include "shelfstage/stages/topology.hpp"
 
+#include <algorithm>
 #include <cmath>
 
 namespace shelfstage::stages {
@@ -65,8 +66,41 @@ circuit::Circuit Topology::netlist(const Values& values, const Transistor& q, co
   return out;
 }
 
+double input_divider(double source_ohm, double r_in_ohm, double c_in_f, double c_couple_f) {
+  if (!(r_in_ohm > 0) || !(c_in_f > 0) || !(c_couple_f > 0) || !std::isfinite(r_in_ohm)) return 1.0;
+  return 1.0 / (1.0 + r_in_ohm * c_in_f / ((std::max(source_ohm, 0.0) + r_in_ohm) * c_couple_f));
+}
+
+namespace {
+
+// The role of the capacitor that couples the signal in ("in" at one end), or roles.size().
+std::size_t input_coupling(std::span<const Role> roles) {
+  for (std::size_t i = 0; i < roles.size(); ++i)
+    if (roles[i].kind == 'C' && (roles[i].pos_net == kNetIn || roles[i].neg_net == kNetIn)) return i;
+  return roles.size();
+}
+
+// The input's flat capacitive divider (Performance::gain) applied to the closed form's figures:
+// the gain and the transfer's input (o[n] scales with the n-th power); the harmonics at an
+// output level and the output's swing stay as they are.
+void apply_input_divider(Performance& p, const Values& values, std::span<const Role> roles, const Conditions& c) {
+  const std::size_t cin = input_coupling(roles);
+  if (cin >= roles.size()) return;
+  const double k = input_divider(c.source_ohm, p.zin_ohm, p.c_in_f, values[cin]);
+  if (k == 1.0) return;
+  p.gain *= k;
+  double kn = 1.0;
+  for (double& o : p.transfer.o) {
+    o *= kn;
+    kn *= k;
+  }
+}
+
+}  // namespace
+
 Performance Topology::evaluate(const Values& values, const Transistor& q, const Conditions& c, Detail detail) const {
   Performance p = evaluate_n(values, q, c, detail);
+  if (p.valid) apply_input_divider(p, values, roles(), c);
   const Rail rail = rail_of(q, c);
   p.v_in = rail.real(p.v_in);
   p.v_common = rail.real(p.v_common);

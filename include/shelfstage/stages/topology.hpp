@@ -155,7 +155,10 @@ struct Performance {
   bool valid = false;   ///< a bias point exists (the device conducts)
   bool active = false;  ///< saturation (JFET) or forward-active (BJT) with the swing's margin >= 0
   std::string problem;  ///< why not valid or not active, for people
-  double gain = 0;      ///< signed mid-band V/V from the source (behind source_ohm) to the load
+  /// Signed mid-band V/V from the source (behind source_ohm) to the load: every coupling and
+  /// bypass capacitor short and every device capacitance open, but for the input coupling
+  /// capacitor against the input capacitance c_in_f (a flat divider: input_divider()).
+  double gain = 0;
   double bias_current_a = 0;  ///< drain or collector current
   double v_in = 0;      ///< gate or base DC volts
   double v_common = 0;  ///< source or emitter DC volts
@@ -312,6 +315,14 @@ std::span<const Topology* const> registry();
 const Topology* find_topology(std::string_view name);
 /// The names of every topology joined by `sep` ("jfet-cs-self, jfet-cs-divider, ..."), for help texts.
 std::string topology_names(std::string_view sep = ", ");
+
+/// The flat capacitive divider at a stage's input: the coupling capacitor c_couple_f in series
+/// from a source of source_ohm into an input of r_in_ohm in parallel with c_in_f. The network
+/// is a band-pass, Zin/(Rs + 1/sC + Zin) = s C R / (1 + s (Rs C + R Cin + R C) + s^2 Rs C R Cin),
+/// whose flat top is R C / (Rs C + R Cin + R C): below the resistive divider R / (Rs + R) by
+/// the factor returned, 1 / (1 + R Cin / ((Rs + R) C)). It matters only where the input is
+/// megohms and the coupling capacitor small (C / Cin of a few hundred); 1 when any is absent.
+double input_divider(double source_ohm, double r_in_ohm, double c_in_f, double c_couple_f);
 
 /// Parallel resistance (0 means absent and is skipped; infinite inputs are fine).
 double par(double a, double b);
