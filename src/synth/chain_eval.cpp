@@ -271,7 +271,8 @@ std::string fed_zout(ChainPass& pass, Range& zout) {
 }
 
 // The chain takes its worst case, its nominal figures and the first stage's device; its
-// pieces and purchases are the stages'.
+// pieces and purchases are the stages'. Every range of w is built from the stages' worst
+// cases, which carry the model margin already (the gain's compounds stage by stage).
 void adopt(Candidate& ch, Worst& w, const stages::Performance& whole) {
   for (const auto& s : ch.stages) w.evaluations += s.worst.evaluations;
   const Candidate& first = ch.stages.front();
@@ -424,6 +425,8 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
         }
   if (ch.nominal.f_low_hz > 0) f_low.add(ch.nominal.f_low_hz);
   if (ch.nominal.f_high_hz > 0) f_high.add(ch.nominal.f_high_hz);
+  widen(f_low, kModelMargin.impedance_corner);  // solved on the whole chain, so margined here
+  widen(f_high, kModelMargin.impedance_corner);
   ch.worst.f_low = f_low;
   ch.worst.f_high = f_high;
   return {};

@@ -43,6 +43,29 @@ inline constexpr double kPolarForwardV = 0.1;
 /// (single stages, the best only) and, for the first whose relaxation gives a design, names it
 /// as binding with that design's figure against the request (diagnose.cpp).
 void explain_binding(Diagnosis& d, const Spec& spec, const Inventory& inv);
+/// How far the closed-form evaluator may sit from a full circuit simulation of the same build
+/// (measured against ngspice in tests/stages: gain within 0.05 %, bias and node voltages
+/// within 0.05 %, the -3 dB corners within 0.06 %, the clipping swing within 4.3 %, THD at the
+/// rated level at most 10 % low; rounded up): every claimed range is widened by it, and the
+/// constraints on swing, distortion, Zin and supply current hold with it, so that a simulation of a listed
+/// build at a corner lands inside the claim and not on its edge (docs/worst-case.md).
+struct ModelMargin {
+  double gain = 0.001;              ///< share of each end (a chain's compounds stage by stage)
+  double current = 0.003;           ///< bias and supply current
+  double node = 0.003;              ///< node voltages: share ...
+  double node_floor_v = 2e-3;       ///< ... and floor
+  double impedance_corner = 0.01;   ///< Zin, Zout and the -3 dB corners (Zin: see above)
+  double swing = 0.05;              ///< the smallest swing, lowered
+  double thd = 0.10;                ///< the largest THD, raised
+};
+inline constexpr ModelMargin kModelMargin{};
+/// Moves a range's ends outward by share of their size plus floor; an end off zero never
+/// crosses it.
+void widen(Range& r, double share, double floor = 0.0);
+/// Widens every range of one stage's worst case w by kModelMargin.
+void add_model_margin(Worst& w);
+/// The worst relative gain error of a gain range against the target magnitude.
+double worst_gain_error(const Range& gain, double target);
 /// Fills c.worst and c.error_worst; returns the first violated constraint or empty.
 std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth);
 /// A capacitor whose DC the exact solver reads: its part, the fitted + lead's net as the netlist

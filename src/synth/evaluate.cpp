@@ -51,10 +51,13 @@ stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
 
 std::string violation(const Spec& spec, const stages::Performance& p) {
   if (!p.valid || !p.active) return "bias";
-  if (spec.swing_vpp && p.swing_peak_v < *spec.swing_vpp / 2)
+  // Swing, distortion, supply current and Zin with their model margins (kModelMargin), as the claimed
+  // ranges show them.
+  if (spec.swing_vpp && p.swing_peak_v * (1.0 - kModelMargin.swing) < *spec.swing_vpp / 2)
     return p.clip_peak_v >= *spec.swing_vpp / 2 ? "distortion" : "swing";
-  if (spec.max_current_a && p.supply_current_a > *spec.max_current_a) return "current";
-  if (p.zin_ohm < spec.zin_min_ohm) return "zin";
+  if (spec.swing_vpp && p.thd * (1.0 + kModelMargin.thd) > spec.max_thd) return "distortion";
+  if (spec.max_current_a && p.supply_current_a * (1.0 + kModelMargin.current) > *spec.max_current_a) return "current";
+  if (p.zin_ohm * (1.0 - kModelMargin.impedance_corner) < spec.zin_min_ohm) return "zin";
   if (spec.band_hz && (p.loss_lo_db > 1.0 || p.loss_hi_db > 1.0)) return "band";
   return {};
 }

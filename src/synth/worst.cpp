@@ -168,6 +168,33 @@ void add_figures(Worst& w, const stages::Performance& p, bool corners) {
 
 }  // namespace
 
+// Moves a range's ends outward by a share of their size and a floor, an end off zero never
+// across it (a node on one side of ground, a positive impedance or corner stays there); an
+// end at zero (a gate returned to ground, where the model has no gate current) moves by the
+// floor.
+void widen(Range& r, double share, double floor) {
+  if (r.empty) return;
+  const double lo = r.min - share * std::abs(r.min) - floor;
+  const double hi = r.max + share * std::abs(r.max) + floor;
+  r.min = r.min > 0 ? std::max(0.0, lo) : lo;
+  r.max = r.max < 0 ? std::min(0.0, hi) : hi;
+}
+
+void add_model_margin(Worst& w) {
+  widen(w.gain, kModelMargin.gain);
+  widen(w.bias_current, kModelMargin.current);
+  widen(w.supply_current, kModelMargin.current);
+  for (Range* r : {&w.v_in, &w.v_common, &w.v_out}) widen(*r, kModelMargin.node, kModelMargin.node_floor_v);
+  for (Range* r : {&w.zin, &w.zout, &w.f_low, &w.f_high}) widen(*r, kModelMargin.impedance_corner);
+  if (!w.swing_peak.empty) w.swing_peak.min *= 1.0 - kModelMargin.swing;
+  if (!w.thd.empty) w.thd.max *= 1.0 + kModelMargin.thd;
+}
+
+double worst_gain_error(const Range& gain, double target) {
+  if (gain.empty) return 0.0;
+  return std::max(std::abs(std::abs(gain.min) / target - 1.0), std::abs(std::abs(gain.max) / target - 1.0));
+}
+
 // NOTES (worst case of one stage):
 //  1. Points: every corner piece of the spread model and the nominal piece, crossed with both
 //     ends of the supply range and of the temperature range (the nominal temperature when no
@@ -189,6 +216,8 @@ void add_figures(Worst& w, const stages::Performance& p, bool corners) {
 //  5. Hard constraints must hold at every point evaluated; ratings and electrolytic polarity
 //     at every point evaluated with stress (all in full depth; the nominal and bias sets in
 //     the search).
+//  6. The ranges then widen by the model margin (kModelMargin), and the worst gain error is
+//     read from the widened gain range.
 std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth) {
   const auto& t = *c.topology;
   const devices::DeviceSpread spread = spread_of(c);
@@ -254,6 +283,8 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
     add_cap_dc(w, c, c.nominal);
     add_device_stress(w, device_stress(spec, c, c.nominal, t_nom));
   }
+  add_model_margin(w);  // NOTES 6
+  c.error_worst = std::max(c.error_worst, worst_gain_error(w.gain, spec.gain));
   c.worst = w;
   return {};
 }

@@ -327,6 +327,16 @@ std::vector<Request> requests() {
     s.top = 2;
     out.push_back({"chain of N and P types", s});
   }
+  {
+    // A 20 MOhm buffer fed from 100k on a negative 9 V rail: the input's capacitive divider
+    // counts at this impedance (docs/physics.md).
+    synth::Spec s = base(0.8, 4.7e3, 9, 9, 20e6);
+    s.source_ohm = 100e3;
+    s.negative_rail = true;
+    s.gain_tol = 0.25;
+    s.stages_max = 1;
+    out.push_back({"20 MOhm buffer from 100k, -9 V", s});
+  }
   return out;
 }
 
@@ -366,12 +376,13 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
       }
       // No swing beyond the supply.
       CHECK(w.swing_peak.max <= req.spec.supply_hi_v);
-      // Nodes on the user's rail.
+      // Nodes on the user's rail (a node at ground may claim the model margin's 2 mV floor
+      // either side, docs/worst-case.md).
       for (double v : {w.v_in.min, w.v_in.max, w.v_out.min, w.v_out.max, w.v_common.min, w.v_common.max}) {
         if (req.spec.negative_rail) {
-          CHECK(v <= 1e-3);
+          CHECK(v <= 2.001e-3);
         } else {
-          CHECK(v >= -1e-3);
+          CHECK(v >= -2.001e-3);
         }
       }
       double f_mid = req.spec.band_hz ? std::sqrt(req.spec.band_hz->first * req.spec.band_hz->second) : 1e3;
@@ -398,25 +409,24 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
         const Sim& s = sims[i];
         const std::string& where = builds[i].label;
         ++runs;
-        // Slack: the closed form agrees with ngspice to 0.05 % on gain and bias, 0.6 % on the
-        // -3 dB corners (tests/stages); zin and zout are read from an AC solution at f_mid.
-        check_in("gain", s.gain, w.gain, 0.003, 0, where);
-        check_in("bias current", s.bias_a, w.bias_current, 0.003, 1e-9, where);
-        check_in("supply current", s.supply_a, w.supply_current, 0.003, 1e-9, where);
-        check_in("V(gate/base)", s.v_in, w.v_in, 0.003, 2e-3, where);
-        check_in("V(source/emitter)", s.v_common, w.v_common, 0.003, 2e-3, where);
-        check_in("V(drain/collector)", s.v_out, w.v_out, 0.003, 2e-3, where);
-        check_in("zin", s.zin, w.zin, 0.01, 0, where);
-        check_in("zout", s.zout, w.zout, 0.01, 0.05, where);
-        if (s.f_low > 0) check_in("f_low", s.f_low, w.f_low, 0.015, 0, where);
-        if (s.f_high > 0 && s.f_high < 1e9) check_in("f_high", s.f_high, w.f_high, 0.015, 0, where);
-        // The promise: within the bound at the requested level (10 %: the closed form's
-        // agreement with ngspice's THD at a rated level, tests/stages), and inside the claim.
+        // No slack: the claimed ranges carry the model margin (docs/worst-case.md), so ngspice
+        // lands inside them; the floors are ngspice's printed precision only.
+        check_in("gain", s.gain, w.gain, 0, 0, where);
+        check_in("bias current", s.bias_a, w.bias_current, 0, 1e-12, where);
+        check_in("supply current", s.supply_a, w.supply_current, 0, 1e-12, where);
+        check_in("V(gate/base)", s.v_in, w.v_in, 0, 1e-6, where);
+        check_in("V(source/emitter)", s.v_common, w.v_common, 0, 1e-6, where);
+        check_in("V(drain/collector)", s.v_out, w.v_out, 0, 1e-6, where);
+        check_in("zin", s.zin, w.zin, 0, 0, where);
+        check_in("zout", s.zout, w.zout, 0, 0.05, where);
+        if (s.f_low > 0) check_in("f_low", s.f_low, w.f_low, 0, 0, where);
+        if (s.f_high > 0 && s.f_high < 1e9) check_in("f_high", s.f_high, w.f_high, 0, 0, where);
+        // The promise: within the bound at the requested level, and inside the claim.
         if (level > 0) {
-          CHECK_MESSAGE(s.thd <= req.spec.max_thd * 1.10,
+          CHECK_MESSAGE(s.thd <= req.spec.max_thd,
                         fmt::format("THD {:.4f} at {:g} V peak above the bound {:g} ({})", s.thd, level,
                                     req.spec.max_thd, where));
-          check_in("THD", s.thd, synth::Range{0.0, w.thd.max, false}, 0.10, 1e-4, where);
+          check_in("THD", s.thd, synth::Range{0.0, w.thd.max, false}, 0, 1e-5, where);
           ++thd_runs;
           thd_share = std::max(thd_share, s.thd / req.spec.max_thd);
         }
