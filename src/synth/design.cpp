@@ -761,6 +761,14 @@ void suggest_purchases(Diagnosis& d, const Spec& spec, const Inventory& inv) {
   d.with_purchases = std::move(bought->design);
 }
 
+// A divider of two resistors fed from the source into the load with an input impedance of at
+// least Zin reaches at most RL / (Rs + max(Zin, RL)) (the series resistor Zin - RL, nothing
+// across the load). An attenuation within that reach is worth a word: the divider gives it
+// without a transistor.
+bool divider_reaches(const Spec& spec) {
+  return spec.gain < 1.0 && spec.gain <= spec.load_ohm / (spec.source_ohm + std::max(spec.zin_min_ohm, spec.load_ohm));
+}
+
 // When nothing fits: which constraint binds, why, and what purchases would help.
 void diagnose(Diagnosis& d, const Run& run) {
   const Spec& spec = run.spec;
@@ -771,7 +779,7 @@ void diagnose(Diagnosis& d, const Run& run) {
                       : "no stocked transistor fits the chosen topologies and device filters";
   if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock")
     detail::explain_binding(d, spec, run.inv);
-  if (spec.gain < 1.0)
+  if (divider_reaches(spec))
     d.detail = fmt::format(
         "a gain of {:.3g} is an attenuation of {:.1f} dB: two resistors as a divider give it without a "
         "transistor; {}",
@@ -801,7 +809,7 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   r.candidates = search_designs(run);
   r.proposals = tally.proposals;
   r.evaluations = tally.evaluations;
-  if (spec.gain < 1.0)
+  if (divider_reaches(spec))
     for (auto& c : r.candidates)
       c.cautions.insert(c.cautions.begin(),
                         fmt::format("a gain of {:.3g} ({:.1f} dB) is an attenuation: a divider of two resistors gives "

@@ -98,10 +98,26 @@ TEST_CASE("below unity: said to be an attenuation, a divider's job") {
   CHECK(has(r.diagnosis.detail, "divider"));
   CHECK_FALSE(has(r.diagnosis.detail, "the largest any stocked device reaches"));
   // A gain a stage can give below unity is designed, with the same word beside it.
-  const auto half = synth::design(request(0.5, 10e3, 12, 100e3), shelf());
+  const auto half = synth::design(request(0.5, 10e3, 12, 10e3), shelf());
   REQUIRE_FALSE(half.candidates.empty());
   REQUIRE_FALSE(half.candidates.front().cautions.empty());
   CHECK(has(half.candidates.front().cautions.front(), "attenuation"));
+}
+
+TEST_CASE("below unity, but beyond any divider's reach: no divider advice") {
+  // Voltage-divider rule: R1 in series, R2 across a load RL, Zin = R1 + R2 || RL, gain
+  // (R2 || RL) / Zin <= RL / Zin. Half into 10k with Zin >= 100k is out of a divider's reach
+  // (at most 0.1), so a stage is the answer and nothing says otherwise.
+  const auto half = synth::design(request(0.5, 10e3, 12, 100e3), shelf());
+  REQUIRE_FALSE(half.candidates.empty());
+  for (const auto& text : half.candidates.front().cautions) CHECK_FALSE(has(text, "attenuation"));
+  // A buffer into 1k with Zin >= 1M from 5 V: none on this shelf, and the diagnosis does not
+  // send the reader to a divider (at most 0.001 there).
+  synth::Spec s = request(0.95, 1e3, 5, 1e6);
+  s.swing_vpp = 1;
+  const auto r = synth::design(s, shelf());
+  REQUIRE(r.candidates.empty());
+  CHECK_FALSE(has(r.diagnosis.detail, "divider"));
 }
 
 TEST_CASE("a supply beyond every transistor's rating: the rating binds, named with its figures") {
