@@ -23,7 +23,7 @@ Json option_json(const build::ShopOption& opt) {
   Json parts = Json::array();
   for (const auto& rp : opt.candidate.parts)
     parts.push_back({{"role", rp.role}, {"designator", rp.designator}, {"value", rp.combo.nominal}, {"recipe", rp.recipe}});
-  return {{"topology", std::string(opt.candidate.topology->name())},
+  return {{"topology", opt.candidate.topology_name()},
           {"device", opt.candidate.device.name},
           {"error_worst", opt.candidate.error_worst},
           {"error_nominal", opt.candidate.error_nominal},
@@ -86,7 +86,7 @@ std::string shop_text(const std::string& design_id, const build::Shopping& s) {
   for (const auto& opt : s.options) {
     const auto& c = opt.candidate;
     out += fmt::format("\n{}. {} with {}: worst-case gain error {} (nominal {}), {} pieces to buy\n", ++n,
-                       c.topology->name(), c.device.name, percent(c.error_worst), percent(std::abs(c.error_nominal)),
+                       c.topology_name(), c.device.name, percent(c.error_worst), percent(std::abs(c.error_nominal)),
                        opt.pieces());
     out += "   " + recipe_line(c) + "\n";
     out += shopping_text(opt.buy);
