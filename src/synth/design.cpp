@@ -755,7 +755,7 @@ void suggest_purchases(Diagnosis& d, const Spec& spec, const Inventory& inv) {
         units::format_value(l.value, resistor ? units::Unit::ohm : units::Unit::farad),
         units::format_tolerance(l.tol),
         resistor ? std::string() : fmt::format(" {}V {}", l.rating, l.dielectric), roles,
-        bought->design.topology->name(), bought->design.device.name,
+        bought->design.topology_name(), bought->design.device.name,
         l.held > 0 ? fmt::format(" (the shelf holds {} of the {} needed)", l.held, l.held + l.qty) : std::string()));
   }
   d.with_purchases = std::move(bought->design);
