@@ -72,13 +72,14 @@ double vertical_rank(std::string_view net, const SchematicOptions& o) {
   return it == o.net_levels.end() ? 2.5 : it->second;
 }
 
-double horizontal_rank(std::string_view net) {
+double horizontal_rank(std::string_view net, const SchematicOptions& o) {
   if (net == "sig") return 0;
   if (net == "in") return 1;
   if (net == "gate" || net == "base") return 2;
   if (net == "drain" || net == "collector" || net == "source" || net == "emitter") return 3;
   if (net == "out") return 4;
-  return 2.5;
+  const auto it = o.net_orders.find(net);
+  return it == o.net_orders.end() ? 2.5 : it->second;
 }
 
 bool is_rail(std::string_view net) { return net == "vdd" || net == "0"; }
@@ -299,7 +300,7 @@ void place_two_terminal(const Placing& pl, PlacedSymbol& sym, const circuit::Com
     return mirrored ? 5.0 - vertical_rank(pl.n_frame(n), pl.o) : vertical_rank(n, pl.o);
   };
   sym.first_end = sym.vertical ? (v_rank(n0) <= v_rank(n1) ? 0 : 1)
-                               : (horizontal_rank(n0) <= horizontal_rank(n1) ? 0 : 1);
+                               : (horizontal_rank(n0, pl.o) <= horizontal_rank(n1, pl.o) ? 0 : 1);
   const std::size_t second = 1 - sym.first_end;
   const Point d = sym.vertical ? Point{0, 1} : Point{1, 0};
   pl.pins.push_back({e.designator, sym.first_end, e.pins[sym.first_end], {q.x - 2 * d.x, q.y - 2 * d.y},

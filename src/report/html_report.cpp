@@ -676,7 +676,10 @@ draw::SchematicOptions schematic_notes(const synth::Candidate& c) {
   }
   for (const auto& role : t.roles())
     if (role.at.x >= 0) o.places[std::string(role.name)] = {role.at.x, role.at.y, role.at.vertical, role.at.label};
-  for (const auto& inner : t.inner_nets()) o.net_levels[std::string(inner.name)] = inner.level;
+  for (const auto& inner : t.inner_nets()) {
+    o.net_levels[std::string(inner.name)] = inner.level;
+    o.net_orders[std::string(inner.name)] = inner.order;
+  }
   o.notes[transistor_designator(c)] = {c.device.name + (c.piece ? " " + c.piece->label : ""), kind_text(c.device.kind), false, ""};
   o.notes["VDD"] = {volts(c.conditions.supply_v), "supply", false, ""};
   o.notes["VSIG"] = {"signal", "", false, ""};

@@ -43,7 +43,10 @@ const stages::Topology& topology(const Variant& v) {
 SchematicOptions placed(const Variant& v, SchematicOptions o = {}) {
   const auto& t = topology(v);
   for (const auto& r : t.roles()) o.places[std::string(r.name)] = {r.at.x, r.at.y, r.at.vertical, r.at.label};
-  for (const auto& n : t.inner_nets()) o.net_levels[std::string(n.name)] = n.level;
+  for (const auto& n : t.inner_nets()) {
+    o.net_levels[std::string(n.name)] = n.level;
+    o.net_orders[std::string(n.name)] = n.order;
+  }
   return o;
 }
 

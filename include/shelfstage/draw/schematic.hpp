@@ -10,7 +10,8 @@
 //     topology's roles). A role without a place is an InputError naming it.
 //  3. A two-terminal part's ends are ordered by a rank of their nets: vertically the supply
 //     on top, ground at the bottom (an inner net at the level the caller gives); horizontally
-//     along the signal path (source, input, control pin, the stage's output pin, output).
+//     along the signal path (source, input, control pin, the stage's output pin, output; an
+//     inner net at the place the caller gives).
 //  3a. A stage turned over on its rail (a P device on a positive supply, an N device on a
 //     negative one: stages::Rail) is drawn as people draw it: the stage's own parts mirrored
 //     top to bottom (source or emitter toward the + rail on top, drain or collector toward
@@ -58,6 +59,9 @@ struct SchematicOptions {
   /// Heights of the stage's inner nets in the ranking of NOTES 3 (the supply 0, the main
   /// terminal 1, the control pin 2, the common terminal 3, ground 5).
   std::map<std::string, double, std::less<>> net_levels;
+  /// Places of the stage's inner nets along the signal path, left to right (NOTES 3: the
+  /// signal 0, the input 1, the control pin 2, the output terminal 3, the output 4).
+  std::map<std::string, double, std::less<>> net_orders;
   /// Designators drawn in the muted style of the test bench (signal source, its resistance,
   /// the load); their labels say what they stand for.
   std::vector<std::string> bench = {"VSIG", "RSIG", "RL", "CL"};

@@ -53,6 +53,9 @@ struct InnerNet {
   /// The role between the common terminal and this net, if any: left out, the net is the
   /// common terminal itself.
   std::string_view upper = {};
+  /// Its place along the signal path on the schematic, left to right (the signal 0, the input
+  /// 1, the control pin 2, the output terminal 3, the output 4).
+  double order = 2.5;
 };
 
 /// The DC and AC load lines of the stage's output terminal, for the bias pictures.
