@@ -148,7 +148,7 @@ inline double norm2(Cx a) { return a.re * a.re + a.im * a.im; }
 namespace {
 // Node voltages (base, emitter, collector) of the network driven by a unit Thevenin source.
 std::array<Cx, 3> hybrid_pi_solve(const HybridPi& m, double w) {
-  const Cx ypi{m.gpi, w * m.cpi}, ymu{0.0, w * m.cmu};
+  const Cx ypi{m.gpi, w * m.cpi}, ymu{m.g_f, w * m.cmu};
   const Cx gsrc{m.g_src, 0}, gm{m.gm, 0}, go{m.go, 0};
   const Cx ge{m.g_e, m.out_at_emitter ? w * m.c_load : 0.0}, gc{m.g_c, m.out_at_emitter ? 0.0 : w * m.c_load};
   // Unknowns (vb, ve, vc); a unit Thevenin source drives g_src into the base.
@@ -194,9 +194,9 @@ double hybrid_pi_input_capacitance(const HybridPi& m, double w) {
 
 double hybrid_pi_dc_gain(const HybridPi& m) {
   // The same network with the capacitances open: a real 3x3 solve (Cramer's rule).
-  const double a[3][3] = {{m.g_src + m.gpi, -m.gpi, 0.0},
+  const double a[3][3] = {{m.g_src + m.gpi + m.g_f, -m.gpi, -m.g_f},
                           {-m.gpi - m.gm, m.gpi + m.gm + m.go + m.g_e, -m.go},
-                          {m.gm, -m.gm - m.go, m.go + m.g_c}};
+                          {m.gm - m.g_f, -m.gm - m.go, m.go + m.g_c + m.g_f}};
   auto det3 = [](const double x[3][3]) {
     return x[0][0] * (x[1][1] * x[2][2] - x[1][2] * x[2][1]) - x[0][1] * (x[1][0] * x[2][2] - x[1][2] * x[2][0]) +
            x[0][2] * (x[1][0] * x[2][1] - x[1][1] * x[2][0]);

@@ -49,6 +49,7 @@ double lf_corner_hz(std::span<const LfSection> sections);
 /// collector-emitter. A JFET has gpi = 0. An AC-grounded terminal has a huge conductance.
 struct HybridPi {
   double g_src = 0, gpi = 0, cpi = 0, cmu = 0, gm = 0, go = 0, g_e = 0, g_c = 0;
+  double g_f = 0;               ///< base (gate) to collector (drain): a feedback resistor
   double c_load = 0;            ///< capacitance from the output node to ground (Conditions::load_farads)
   bool out_at_emitter = false;  ///< followers take the output at the emitter (source)
 };

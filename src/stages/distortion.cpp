@@ -62,9 +62,9 @@ struct Network {
   int perm[3];
   explicit Network(const HybridPi& m) {
     const double rows[3][3] = {
-        {m.g_src + m.gpi, -m.gpi, 0.0},
+        {m.g_src + m.gpi + m.g_f, -m.gpi, -m.g_f},
         {-m.gpi - m.gm, m.gpi + m.gm + m.go + m.g_e, -m.go},
-        {m.gm, -m.gm - m.go, m.go + m.g_c},
+        {m.gm - m.g_f, -m.gm - m.go, m.go + m.g_c + m.g_f},
     };
     for (int r = 0; r < 3; ++r) {
       perm[r] = r;
