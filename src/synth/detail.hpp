@@ -46,7 +46,7 @@ void explain_binding(Diagnosis& d, const Spec& spec, const Inventory& inv);
 /// How far the closed-form evaluator may sit from a full circuit simulation of the same build
 /// (measured against ngspice in tests/stages: gain within 0.05 %, bias and node voltages
 /// within 0.05 %, the -3 dB corners within 0.06 %, the clipping swing within 4.3 %, THD at the
-/// rated level at most 10 % low; rounded up): every claimed range is widened by it, and the
+/// rated level at most 11 % low; rounded up): every claimed range is widened by it, and the
 /// constraints on swing, distortion, Zin and supply current hold with it, so that a simulation of a listed
 /// build at a corner lands inside the claim and not on its edge (docs/worst-case.md).
 struct ModelMargin {
@@ -56,7 +56,7 @@ struct ModelMargin {
   double node_floor_v = 2e-3;       ///< ... and floor
   double impedance_corner = 0.01;   ///< Zin, Zout and the -3 dB corners (Zin: see above)
   double swing = 0.05;              ///< the smallest swing, lowered
-  double thd = 0.10;                ///< the largest THD, raised
+  double thd = 0.15;                ///< the largest THD, raised
 };
 inline constexpr ModelMargin kModelMargin{};
 /// Moves a range's ends outward by share of their size plus floor; an end off zero never
