@@ -258,7 +258,7 @@ void emit_legs(Values v, const Goal& g, const Conditions& c, const ValueSource& 
   if (vc - ve < std::max(1.0, t.vce_sat_v + g.swing_peak_v + 0.3) || vc >= c.supply_v - 0.2) return;
   if (g.max_current_a > 0 && ic + irf > g.max_current_a) return;
   std::vector<double> rcs;
-  shelf.nearest((c.supply_v - vc) / (ic + irf), 2, rcs);
+  shelf.nearest((c.supply_v - vc) / (ic + irf), 1, rcs);
   std::vector<std::pair<double, double>> legs = {{0.0, 0.0}};
   if (ve > 0) {
     std::vector<double> re;
@@ -370,7 +370,7 @@ class BjtCeShunt final : public Topology {
     const double rin_lo = std::max(g.zin_min_ohm * 1.05, 100.0);
     std::vector<double> rins;
     shelf.spread(rin_lo, rin_lo * 10.0, 3, rins);
-    for (double ic : {0.2e-3, 0.5e-3, 1e-3, 2e-3, 4e-3}) {
+    for (double ic : {0.3e-3, 1e-3, 3e-3}) {
       const double ib = ic / t.bf, vbe = t.vt_v * std::log(ic / t.is_a);
       for (double rin : rins) {
         std::vector<double> rfs;
