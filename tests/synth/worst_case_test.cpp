@@ -337,6 +337,17 @@ std::vector<Request> requests() {
     s.stages_max = 1;
     out.push_back({"20 MOhm buffer from 100k, -9 V", s});
   }
+  {
+    // Collector-to-base feedback only, with a band and a swing: RF, RB and RIN at their
+    // tolerance ends move both the bias and the ratio.
+    synth::Spec s = base(10, 10e3, 12, 12, 10e3);
+    s.topologies = {"bjt-ce-shunt"};
+    s.band_hz = std::pair{20.0, 20e3};
+    s.swing_vpp = 2;
+    s.gain_tol = 0.2;
+    s.stages_max = 1;
+    out.push_back({"shunt-feedback stage, 12 V", s});
+  }
   return out;
 }
 
