@@ -318,13 +318,8 @@ class BjtCeShunt final : public Topology {
     detail::add_role(net, kRoles, v, RIN, "xin", "base");
     detail::add_role(net, kRoles, v, RF, "collector", "base");
     detail::add_role(net, kRoles, v, RB, "base", "0");
-    detail::add_role(net, kRoles, v, RC, "vdd", "collector");
-    const bool split = v[RE1] > 0 && v[RE2] > 0;
-    detail::add_role(net, kRoles, v, RE1, "emitter", split ? "x" : "0");
-    detail::add_role(net, kRoles, v, RE2, split ? "x" : "emitter", "0");
-    if (v[RE2] > 0) detail::add_role(net, kRoles, v, CE, split ? "x" : "emitter", "0");
-    detail::add_role(net, kRoles, v, COUT, "collector", "out");
-    net.bjt("Q1", "collector", "base", (v[RE1] > 0 || v[RE2] > 0) ? "emitter" : "0", q.bjt);
+    const std::string common = detail::wire_common_leg(net, kRoles, v, kCommon, "collector", "emitter");
+    net.bjt("Q1", "collector", "base", common, q.bjt);
     return net;
   }
 

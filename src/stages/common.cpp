@@ -409,6 +409,17 @@ Stress cap_stress(std::size_t role, double dc_n_v, std::string_view pos, std::st
 
 namespace shelfstage::stages::detail {
 
+std::string wire_common_leg(circuit::Circuit& net, std::span<const Role> roles, const Values& v, const CommonRoles& r,
+                            const std::string& main, const std::string& common) {
+  add_role(net, roles, v, r.load, "vdd", main);
+  const bool split = v[r.leg1] > 0 && v[r.leg2] > 0;
+  add_role(net, roles, v, r.leg1, common, split ? "x" : "0");
+  add_role(net, roles, v, r.leg2, split ? "x" : common, "0");
+  if (v[r.leg2] > 0) add_role(net, roles, v, r.bypass, split ? "x" : common, "0");
+  add_role(net, roles, v, r.cout, main, "out");
+  return (v[r.leg1] > 0 || v[r.leg2] > 0) ? common : "0";
+}
+
 LoadLine common_load_line(const CommonRoles& r, const Values& v, const Conditions& c) {
   LoadLine l;
   l.r_dc_ohm = v[r.load];

@@ -206,6 +206,14 @@ struct CommonRoles {
   std::size_t load, leg1, leg2, bypass, cin, cout;  ///< RD/RC, RS1/RE1, RS2/RE2, CS/CE, CIN, COUT
 };
 
+/// The output side of a common source or emitter stage, as every such topology wires it: the
+/// load resistor from the supply to the main terminal (`main`), the split leg (leg1 from the
+/// common terminal to x, leg2 from x to ground, the bypass across leg2; one part alone runs
+/// from the common terminal to ground) and the output coupling. Returns the net the device's
+/// common terminal goes to: `common`, or ground without a leg.
+std::string wire_common_leg(circuit::Circuit& net, std::span<const Role> roles, const Values& v, const CommonRoles& r,
+                            const std::string& main, const std::string& common);
+
 /// The load lines of a common source or emitter stage with a split, partly bypassed leg.
 LoadLine common_load_line(const CommonRoles& r, const Values& v, const Conditions& c);
 

@@ -50,13 +50,8 @@ class JfetCsDivider final : public Topology {
     detail::add_role(net, kRoles, v, CIN, "gate", "in");
     detail::add_role(net, kRoles, v, R1, "vdd", "gate");
     detail::add_role(net, kRoles, v, R2, "gate", "0");
-    detail::add_role(net, kRoles, v, RD, "vdd", "drain");
-    const bool split = v[RS1] > 0 && v[RS2] > 0;
-    detail::add_role(net, kRoles, v, RS1, "source", split ? "x" : "0");
-    detail::add_role(net, kRoles, v, RS2, split ? "x" : "source", "0");
-    if (v[RS2] > 0) detail::add_role(net, kRoles, v, CS, split ? "x" : "source", "0");
-    detail::add_role(net, kRoles, v, COUT, "drain", "out");
-    net.jfet("Q1", "drain", "gate", (v[RS1] > 0 || v[RS2] > 0) ? "source" : "0", q.jfet);
+    const std::string common = detail::wire_common_leg(net, kRoles, v, kCommon, "drain", "source");
+    net.jfet("Q1", "drain", "gate", common, q.jfet);
     return net;
   }
 
