@@ -7,18 +7,18 @@
 #include <fmt/format.h>
 
 #include <cmath>
-#include <sstream>
 
 #include "report_fixture.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/units/notation.hpp"
+#include "support/lines.hpp"
 #include "support/ngspice.hpp"
 
 using namespace shelfstage;
 
 namespace {
 
-/// A request one stage cannot meet (gain 5 into 150 Ω): a gain stage and then a follower.
+/// The fixture's chain request and its best design, evaluated.
 struct ChainCase {
   synth::Spec spec;
   synth::Candidate chain;
@@ -27,24 +27,15 @@ struct ChainCase {
 const ChainCase& chain_case() {
   static const ChainCase cc = [] {
     ChainCase out;
-    auto& spec = out.spec;
-    spec.gain = 5;
-    spec.load_ohm = 150;
-    spec.supply_lo_v = spec.supply_hi_v = 12;
-    spec.zin_min_ohm = 100e3;
-    spec.band_hz = std::pair{20.0, 20e3};
-    spec.swing_vpp = 1.0;
-    spec.top = 1;
-    spec.mc_samples = 60;
-    out.chain = test::design_one(spec, test::demo_inventory());
+    out.spec = test::chain_request();
+    out.chain = test::design_one(out.spec, test::demo_inventory());
     return out;
   }();
   return cc;
 }
 
 std::string row_of(const std::string& text, const std::string& lead) {
-  std::istringstream in(text);
-  for (std::string l; std::getline(in, l);)
+  for (const std::string& l : test::lines_of(text))
     if (l.rfind(lead, 0) == 0) return l;
   return {};
 }

@@ -8,21 +8,16 @@
 #include <doctest/doctest.h>
 
 #include <cmath>
-#include <sstream>
 
 #include "report_fixture.hpp"
 #include "shelfstage/units/notation.hpp"
+#include "support/lines.hpp"
 
 using namespace shelfstage;
 
 namespace {
 
-std::vector<std::string> lines_of(const std::string& text) {
-  std::vector<std::string> out;
-  std::istringstream in(text);
-  for (std::string l; std::getline(in, l);) out.push_back(l);
-  return out;
-}
+using test::lines_of;
 
 /// How many pieces a recipe takes: "10k+150" two, "2k2||6k8" two, "4k7" one.
 int pieces_in(const std::string& recipe) {

@@ -1,7 +1,7 @@
 // Tests of src/stages/topology.cpp: what every topology shares. The stage placed on the user's
 // rail (Rail, Topology::netlist, Topology::evaluate) for each device polarity on each rail,
-// checked against ngspice's operating point of the netlist it writes; the + lead of every
-// capacitor at the higher DC voltage; role and net lookup and the words for nets.
+// checked against ngspice's operating point of the netlist it writes, with the + lead of
+// every capacitor at the higher DC voltage; role and net lookup and the words for nets.
 #include <doctest/doctest.h>
 
 #include <set>
@@ -88,7 +88,29 @@ TEST_CASE("rail_of: turned over exactly when the device's polarity and the rail'
   }
 }
 
-TEST_CASE("netlist and evaluate on every rail: node voltages as ngspice finds them on the netlist written") {
+namespace {
+
+/// Each capacitor's + lead at the higher DC voltage, and its DC as the solution v has it. An
+/// electrolytic must see its + lead positive (common practice: reverse bias destroys it).
+void check_capacitors(const StageCase& sc, const Performance& p, const std::map<std::string, double>& v) {
+  const auto roles = sc.topology->roles();
+  int capacitors = 0;
+  for (const stages::Stress& s : p.stress) {
+    if (roles[s.role].kind != 'C') continue;
+    ++capacitors;
+    INFO(roles[s.role].name);
+    REQUIRE(v.count(std::string(s.plus_net)));
+    REQUIRE(v.count(std::string(s.minus_net)));
+    const double across = v.at(std::string(s.plus_net)) - v.at(std::string(s.minus_net));
+    CHECK(across >= -1e-3);
+    CHECK(std::abs(across - s.dc_v) < 0.02 * sc.c.supply_v);
+  }
+  CHECK(capacitors >= 2);  // CIN and COUT at least
+}
+
+}  // namespace
+
+TEST_CASE("netlist and evaluate on every rail: node voltages and capacitor + leads as ngspice finds them") {
   for (const auto& rc : rail_cases()) {
     const StageCase sc = rail_stage(rc);
     INFO(sc.label);
@@ -104,6 +126,7 @@ TEST_CASE("netlist and evaluate on every rail: node voltages as ngspice finds th
     CHECK(std::abs(p.v_in - v.at(nets[0])) < tol);
     CHECK(std::abs(p.v_common - v.at(nets[1])) < tol);
     CHECK(std::abs(p.v_out - v.at(nets[2])) < tol);
+    check_capacitors(sc, p, v);
     // Every node lies between ground and the rail the user gave (a battery's two terminals).
     const double lo = rc.negative_rail ? -sc.c.supply_v : 0.0, hi = rc.negative_rail ? 0.0 : sc.c.supply_v;
     for (const auto& [n, volts] : v) {
@@ -119,31 +142,6 @@ TEST_CASE("netlist and evaluate on every rail: node voltages as ngspice finds th
     std::set<std::string> rl_nets;
     for (std::size_t pin : rl->c.pins) rl_nets.insert(circuit::spice_net(net, pin));
     CHECK(rl_nets == std::set<std::string>{"out", "0"});
-  }
-}
-
-TEST_CASE("evaluate: each capacitor's + lead named at the higher DC voltage, its DC as ngspice measures it") {
-  // An electrolytic must see its + lead positive (common practice: reverse bias destroys it),
-  // so plus_net must be the end ngspice finds higher, on every rail and polarity.
-  for (const auto& rc : rail_cases()) {
-    const StageCase sc = rail_stage(rc);
-    INFO(sc.label);
-    const stages::Topology& t = *sc.topology;
-    const Performance p = t.evaluate(sc.values, sc.q, sc.c, stages::Detail::stress);
-    const auto v = spice_op(sc);
-    const auto roles = t.roles();
-    int capacitors = 0;
-    for (const stages::Stress& s : p.stress) {
-      if (roles[s.role].kind != 'C') continue;
-      ++capacitors;
-      INFO(roles[s.role].name);
-      REQUIRE(v.count(std::string(s.plus_net)));
-      REQUIRE(v.count(std::string(s.minus_net)));
-      const double across = v.at(std::string(s.plus_net)) - v.at(std::string(s.minus_net));
-      CHECK(across >= -1e-3);
-      CHECK(std::abs(across - s.dc_v) < 0.02 * sc.c.supply_v);
-    }
-    CHECK(capacitors >= 2);  // CIN and COUT at least
   }
 }
 
