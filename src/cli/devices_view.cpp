@@ -5,6 +5,7 @@
 
 #include <cmath>
 
+#include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/store/part.hpp"
 
@@ -35,10 +36,6 @@ std::string plain(double v) { return fmt::format("{:g}", v); }
 
 std::string hfe_range_text(const devices::Range& r) {
   return r.min == r.max ? plain(r.min) : plain(r.min) + ".." + plain(r.max);
-}
-
-nlohmann::ordered_json or_null(const std::optional<double>& v) {
-  return v ? nlohmann::ordered_json(*v) : nlohmann::ordered_json(nullptr);
 }
 
 }  // namespace
@@ -121,17 +118,17 @@ nlohmann::ordered_json device_json(const DeviceRecord& d) {
   // The figures of its family, the note, then the maximum ratings (null: not stated).
   const Family own = devices::is_jfet(d.kind) ? Family::jfet : Family::bjt;
   for (const auto& c : store::device_columns())
-    if (c.family == own) j[std::string(c.name)] = detail::or_null(c.get(d));
+    if (c.family == own) j[std::string(c.name)] = report::number_or_null(c.get(d));
   j["note"] = d.note;
   for (const auto& c : store::device_columns())
-    if (c.family == Family::rating) j[std::string(c.name)] = detail::or_null(c.get(d));
+    if (c.family == Family::rating) j[std::string(c.name)] = report::number_or_null(c.get(d));
   return j;
 }
 
 nlohmann::ordered_json piece_json(const MeasuredPiece& p) {
   return {{"label", p.label},         {"device", p.device},
-          {"idss", detail::or_null(p.idss_a)}, {"vp", detail::or_null(p.vp_v)},
-          {"hfe", detail::or_null(p.hfe)},     {"uncertainty", p.uncertainty},
+          {"idss", report::number_or_null(p.idss_a)}, {"vp", report::number_or_null(p.vp_v)},
+          {"hfe", report::number_or_null(p.hfe)},     {"uncertainty", p.uncertainty},
           {"note", p.note}};
 }
 

@@ -8,6 +8,7 @@
 
 #include "shelfstage/circuit/spice.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/stages/exact.hpp"
@@ -91,7 +92,7 @@ Json performance_json(const stages::Topology& t, const stages::Performance& p) {
   Json j;
   j["valid"] = p.valid;
   j["active"] = p.active;
-  j["problem"] = p.problem.empty() ? Json(nullptr) : Json(p.problem);
+  j["problem"] = text_or_null(p.problem);
   j["gain"] = p.gain;
   j["gain_db"] = p.gain != 0 ? Json(units::to_db(p.gain)) : Json(nullptr);
   j["bias_current"] = p.bias_current_a;
@@ -455,7 +456,7 @@ Json device_json(const StageUnderTest& stage) {
   }
   return {{"name", stage.device},
           {"kind", std::string(devices::kind_name(q.kind))},
-          {"piece", stage.piece.empty() ? Json(nullptr) : Json(stage.piece)},
+          {"piece", text_or_null(stage.piece)},
           {"model", model}};
 }
 
@@ -468,8 +469,6 @@ Json conditions_json(const stages::Conditions& c) {
           {"hd2_at", c.hd2_peak_v},
           {"noise_at", c.noise_f_hz}};
 }
-
-Json text_or_null(const std::string& s) { return s.empty() ? Json(nullptr) : Json(s); }
 
 Json part_json(const PartStress& p) {
   Json pj;
