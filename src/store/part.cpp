@@ -1,4 +1,5 @@
-// Stock line basics: kind codes, field checks, the short description used in the ledger.
+// Stock line basics: kind codes, field checks, the short description used in the ledger, and
+// the one table of a transistor type's figure columns.
 #include "shelfstage/store/part.hpp"
 
 #include <fmt/format.h>

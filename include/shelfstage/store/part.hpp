@@ -1,5 +1,6 @@
-// Plain data of the stock: a part on the shelf and a ledger line. No SQLite here, so the
-// synthesizer can take a snapshot of the stock without depending on the database.
+// Plain data of the stock: a part on the shelf, the figure columns of a transistor type, and
+// a ledger line; the checks of each. No SQLite here, so the synthesizer can take a snapshot
+// of the stock without depending on the database.
 #pragma once
 #include <cstdint>
 #include <optional>
