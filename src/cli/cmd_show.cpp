@@ -6,6 +6,7 @@
 #include <optional>
 
 #include "commands.hpp"
+#include "kept_design.hpp"
 #include "stage_view.hpp"
 #include "shelfstage/synth/cautions.hpp"
 #include "shelfstage/error.hpp"
@@ -165,17 +166,10 @@ void show_chain(const ShowOptions& o, Context& ctx, const store::SavedDesign& sa
 
 void run_show(const ShowOptions& o, Context& ctx) {
   auto db = ctx.open_database();
-  const store::SavedDesign saved = store::load_design(db, o.id);
-  nlohmann::json spec_doc, cand_doc;
-  try {
-    spec_doc = nlohmann::json::parse(saved.spec_json);
-    cand_doc = nlohmann::json::parse(saved.candidate_json);
-  } catch (const nlohmann::json::exception& e) {
-    throw DatabaseError(fmt::format("design '{}': the kept text is not JSON ({})", saved.id, e.what()));
-  }
-  const synth::Spec spec = report::spec_from_json(spec_doc);
-  synth::Candidate c = report::candidate_from_json(cand_doc, db.device_records(), db.pieces());
-  c.id = saved.id;
+  KeptDesign kept = load_kept(db, o.id);
+  const store::SavedDesign& saved = kept.saved;
+  const synth::Spec& spec = kept.spec;
+  synth::Candidate& c = kept.candidate;
   synth::evaluate_candidate(c, spec);
   if (c.is_chain()) {
     show_chain(o, ctx, saved, spec, c);

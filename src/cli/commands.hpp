@@ -3,8 +3,8 @@
 // Each command lives in its own file, cmd_<name>.cpp: a small options struct, a
 // setup_<name>(CLI::App& parent, Context&) that adds the subcommand and binds the options,
 // and a run_<name>(const Options&, Context&) that calls the library and formats the result.
-// Adding a command is one new file plus one setup line in main.cpp. Commands never print
-// errors themselves: they throw shelfstage::Error and run_app() turns it into
+// Adding a command is one new file, its setup function declared below and called from
+// setup_commands() (app.cpp). Commands never print errors themselves: they throw shelfstage::Error and run_app() turns it into
 // `error: ...` and the exit status.
 #pragma once
 #include <CLI/CLI.hpp>

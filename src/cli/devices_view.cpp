@@ -5,7 +5,9 @@
 
 #include <cmath>
 
+#include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/table.hpp"
+#include "shelfstage/store/part.hpp"
 
 namespace shelfstage::cli {
 
@@ -34,10 +36,6 @@ std::string plain(double v) { return fmt::format("{:g}", v); }
 
 std::string hfe_range_text(const devices::Range& r) {
   return r.min == r.max ? plain(r.min) : plain(r.min) + ".." + plain(r.max);
-}
-
-nlohmann::ordered_json or_null(const std::optional<double>& v) {
-  return v ? nlohmann::ordered_json(*v) : nlohmann::ordered_json(nullptr);
 }
 
 }  // namespace
@@ -113,47 +111,24 @@ std::string devices_table(const std::vector<DeviceRecord>& records, const std::v
 }
 
 nlohmann::ordered_json device_json(const DeviceRecord& d) {
+  using Family = store::DeviceColumn::Family;
   nlohmann::ordered_json j;
   j["name"] = d.name;
   j["kind"] = devices::kind_name(d.kind);
-  if (devices::is_jfet(d.kind)) {
-    const auto& p = d.jfet;
-    j["idss_min"] = p.idss_a.min;
-    j["idss_max"] = p.idss_a.max;
-    j["idss_typ"] = detail::or_null(p.idss_a.typ);
-    j["vp_min"] = p.vp_v.min;
-    j["vp_max"] = p.vp_v.max;
-    j["vp_typ"] = detail::or_null(p.vp_v.typ);
-    j["lambda"] = p.lambda_per_v;
-    j["cgs"] = p.cgs_f;
-    j["cgd"] = p.cgd_f;
-    j["tc_idss"] = p.tc_idss_per_k;
-    j["tc_vp"] = p.tc_vp_v_per_k;
-  } else {
-    const auto& p = d.bjt;
-    j["hfe_min"] = p.hfe.min;
-    j["hfe_max"] = p.hfe.max;
-    j["hfe_typ"] = detail::or_null(p.hfe.typ);
-    j["is"] = p.is_a;
-    j["vaf"] = p.vaf_v;
-    j["cje"] = p.cje_f;
-    j["cjc"] = p.cjc_f;
-    j["vce_sat"] = p.vce_sat_v;
-  }
+  // The figures of its family, the note, then the maximum ratings (null: not stated).
+  const Family own = devices::is_jfet(d.kind) ? Family::jfet : Family::bjt;
+  for (const auto& c : store::device_columns())
+    if (c.family == own) j[std::string(c.name)] = report::number_or_null(c.get(d));
   j["note"] = d.note;
-  // Maximum ratings, magnitudes (null: not stated): VDS or VCEO, gate-source reverse or VEBO,
-  // dissipation at 25 °C and its derating in W/K.
-  j["v_max"] = detail::or_null(d.ratings.v_max_v);
-  j["v_rev_max"] = detail::or_null(d.ratings.v_rev_max_v);
-  j["p_max"] = detail::or_null(d.ratings.p_max_w);
-  j["p_derate"] = detail::or_null(d.ratings.derate_w_per_k);
+  for (const auto& c : store::device_columns())
+    if (c.family == Family::rating) j[std::string(c.name)] = report::number_or_null(c.get(d));
   return j;
 }
 
 nlohmann::ordered_json piece_json(const MeasuredPiece& p) {
   return {{"label", p.label},         {"device", p.device},
-          {"idss", detail::or_null(p.idss_a)}, {"vp", detail::or_null(p.vp_v)},
-          {"hfe", detail::or_null(p.hfe)},     {"uncertainty", p.uncertainty},
+          {"idss", report::number_or_null(p.idss_a)}, {"vp", report::number_or_null(p.vp_v)},
+          {"hfe", report::number_or_null(p.hfe)},     {"uncertainty", p.uncertainty},
           {"note", p.note}};
 }
 

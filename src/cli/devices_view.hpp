@@ -23,10 +23,11 @@ std::string range_text(const devices::Range& range, units::Unit unit);
 std::string devices_table(const std::vector<devices::DeviceRecord>& records,
                           const std::vector<devices::MeasuredPiece>& pieces);
 
-/// One device type with the device CSV's column names as keys and plain SI numbers:
-/// name, kind, then for a JFET idss_min, idss_max, idss_typ, vp_min, vp_max, vp_typ, lambda,
-/// cgs, cgd, tc_idss (fraction per kelvin), tc_vp (volts per kelvin); for a BJT hfe_min,
-/// hfe_max, hfe_typ, is, vaf, cje, cjc, vce_sat; then note. A missing typical value is null.
+/// One device type with the device CSV's column names as keys (store::device_columns()) and
+/// plain SI numbers: name, kind, then for a JFET idss_min, idss_max, idss_typ, vp_min, vp_max,
+/// vp_typ, lambda, cgs, cgd, tc_idss (fraction per kelvin), tc_vp (volts per kelvin); for a
+/// BJT hfe_min, hfe_max, hfe_typ, is, vaf, cje, cjc, vce_sat; then note and the maximum
+/// ratings v_max, v_rev_max, p_max, p_derate. A missing typical value or rating is null.
 nlohmann::ordered_json device_json(const devices::DeviceRecord& record);
 
 /// A measured piece: label, device, idss, vp, hfe (null when not measured), uncertainty

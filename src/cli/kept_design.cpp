@@ -1,4 +1,5 @@
-// Kept designs read back for pick, reserve, build and shop; the build plan as a planner.
+// Kept designs read back for show, pick, reserve, build, shop and report; the build plan as
+// a planner.
 #include "kept_design.hpp"
 
 #include <fmt/format.h>

@@ -1,5 +1,5 @@
-// A design kept in the database, read back for the commands that act on it (pick, reserve,
-// build, shop), and the planner that turns its build plan into a withdrawal.
+// A design kept in the database, read back for the commands that act on it (show, pick,
+// reserve, build, shop, report), and the planner that turns its build plan into a withdrawal.
 #pragma once
 #include <optional>
 #include <string>

@@ -1,4 +1,5 @@
-// The shelfstage program: the root command and the list of subcommands, on checked standard streams.
+// The shelfstage program: the root command and its subcommands (setup_commands, app.cpp), on
+// checked standard streams.
 #include <csignal>
 #include <iostream>
 #include <ostream>

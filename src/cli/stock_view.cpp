@@ -5,6 +5,7 @@
 
 #include <functional>
 
+#include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/units/notation.hpp"
 #include "shelfstage/units/text.hpp"
@@ -73,13 +74,6 @@ std::vector<Group> groups() {
        }},
   };
 }
-
-template <typename T>
-nlohmann::ordered_json or_null(const std::optional<T>& v) {
-  return v ? nlohmann::ordered_json(*v) : nlohmann::ordered_json(nullptr);
-}
-
-nlohmann::ordered_json or_null(const std::string& s) { return s.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(s); }
 
 }  // namespace
 }  // namespace detail
@@ -156,12 +150,12 @@ nlohmann::ordered_json part_json(const Part& part) {
   j["reserved"] = part.reserved;
   j["bin"] = part.bin;
   j["tol"] = part.tol ? nlohmann::ordered_json(units::format_tolerance(*part.tol)) : nlohmann::ordered_json(nullptr);
-  j["power"] = detail::or_null(part.power_w);
-  j["volts"] = detail::or_null(part.volts);
-  j["dielectric"] = detail::or_null(part.dielectric);
+  j["power"] = report::number_or_null(part.power_w);
+  j["volts"] = report::number_or_null(part.volts);
+  j["dielectric"] = report::text_or_null(part.dielectric);
   j["note"] = part.note;
   j["id"] = part.id;
-  j["package"] = detail::or_null(part.package);
+  j["package"] = report::text_or_null(part.package);
   j["available"] = part.available();
   const auto status = stock_status(part);
   j["status"] = status.empty() ? std::string_view("ok") : status;

@@ -8,6 +8,7 @@
 
 #include "shelfstage/circuit/spice.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/design_text.hpp"
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/stages/exact.hpp"
@@ -68,8 +69,6 @@ std::vector<bool> placed(const stages::Topology& t, const stages::Values& v) {
   return out;
 }
 
-std::string describe_net(const stages::Topology& t, std::string_view net) { return t.net_words(net); }
-
 const stages::Stress* stress_of(const stages::Performance& p, std::size_t role) {
   for (const auto& s : p.stress)
     if (s.role == role) return &s;
@@ -93,7 +92,7 @@ Json performance_json(const stages::Topology& t, const stages::Performance& p) {
   Json j;
   j["valid"] = p.valid;
   j["active"] = p.active;
-  j["problem"] = p.problem.empty() ? Json(nullptr) : Json(p.problem);
+  j["problem"] = text_or_null(p.problem);
   j["gain"] = p.gain;
   j["gain_db"] = p.gain != 0 ? Json(units::to_db(p.gain)) : Json(nullptr);
   j["bias_current"] = p.bias_current_a;
@@ -208,7 +207,7 @@ void judge_part(const stages::Topology& t, PartStress& p, std::vector<std::strin
       p.reversed = true;
       warnings.push_back(fmt::format("{} is polarised and fitted with its + lead to the {}, but it holds down to {} "
                                      "from that lead at a corner: turn it round or fit a non-polarised part",
-                                     part_label(p), describe_net(t, p.info.fitted_plus_net),
+                                     part_label(p), t.net_words(p.info.fitted_plus_net),
                                      format_value(p.dc_min_v, Unit::volt)));
     }
     return;
@@ -217,7 +216,7 @@ void judge_part(const stages::Topology& t, PartStress& p, std::vector<std::strin
     p.reversed = true;
     warnings.push_back(fmt::format("{} is polarised and fitted with its + lead to the {}, but the {} sits {} higher: "
                                    "turn it round",
-                                   part_label(p), describe_net(t, p.info.fitted_plus_net), describe_net(t, p.plus_net),
+                                   part_label(p), t.net_words(p.info.fitted_plus_net), t.net_words(p.plus_net),
                                    format_value(p.dc_v, Unit::volt)));
   }
 }
@@ -299,7 +298,10 @@ stages::Values role_values(const stages::Topology& t, const std::vector<std::pai
   return v;
 }
 
-Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread* spread) {
+namespace {
+
+// The stage must be complete and take the transistor: else InputError.
+void check_stage(const StageUnderTest& stage) {
   if (!stage.topology) throw InputError("analysis: no topology given");
   const auto& t = *stage.topology;
   const auto roles = t.roles();
@@ -310,114 +312,138 @@ Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread*
     if (!roles[i].optional && !(stage.values[i] > 0))
       throw InputError(fmt::format("role {} ({}) is missing: {} takes {}", roles[i].name, roles[i].what, t.name(),
                                    role_list(t)));
+}
 
-  Analysis a;
-  a.stage = stage;
-  auto& c = a.stage.conditions;
-  const auto& q = stage.transistor;
-  if (!(c.hd2_peak_v > 0)) {
-    // 1 V peak, unless the stage cannot swing 2 V: then half of what it can.
-    const auto core = t.evaluate(stage.values, q, c, stages::Detail::core);
-    c.hd2_peak_v = 1.0;
-    if (core.valid && core.clip_peak_v > 0 && core.clip_peak_v < 2.0) c.hd2_peak_v = 0.5 * core.clip_peak_v;
+// The output level HD2 is given at: 1 V peak, unless the stage cannot swing 2 V: then half
+// of what it can.
+double hd2_level(const StageUnderTest& stage) {
+  const auto core =
+      stage.topology->evaluate(stage.values, stage.transistor, stage.conditions, stages::Detail::core);
+  if (core.valid && core.clip_peak_v > 0 && core.clip_peak_v < 2.0) return 0.5 * core.clip_peak_v;
+  return 1.0;
+}
+
+// Role i's part: stress from the exact solution (the closed form as the fallback and beside it).
+PartStress part_stress(const Analysis& a, std::size_t i) {
+  const auto& stage = a.stage;
+  const auto role = stage.topology->roles()[i];
+  PartStress p;
+  p.role = i;
+  p.name = std::string(role.name);
+  p.kind = role.kind;
+  p.value = stage.values[i];
+  p.info.role = p.name;
+  for (const auto& info : stage.parts)
+    if (same_name(info.role, p.name)) p.info = info;
+  p.designator = p.info.designator.empty() ? std::string(role.designator) : p.info.designator;
+  const stages::Stress* fs = detail::stress_of(a.closed_form, i);
+  const stages::Stress* es = a.exact ? detail::stress_of(*a.exact, i) : nullptr;
+  if (!es) es = fs;
+  if (p.kind == 'R') {
+    p.power_w = es ? es->power_w : 0.0;
+    p.power_closed_w = fs ? fs->power_w : 0.0;
+    return p;
   }
-  a.closed_form = t.evaluate(stage.values, q, c, stages::Detail::full);
-  try {
-    a.exact = stages::evaluate_exact(t, stage.values, q, c, stages::Detail::full);
-  } catch (const Error& e) {
-    a.exact_problem = e.what();
+  p.dc_v = es ? es->dc_v : 0.0;
+  p.dc_closed_v = fs ? fs->dc_v : 0.0;
+  p.plus_net = es ? std::string(es->plus_net) : std::string();
+  if (p.info.dc_known) {
+    // The design's verified range is the one figure (a chain's coupling capacitor holds
+    // the DC between two stages, which this stage's own operating point does not show).
+    p.dc_range = true;
+    p.dc_min_v = p.info.dc_min_v;
+    p.dc_max_v = p.info.dc_max_v;
+    p.dc_v = p.dc_closed_v = std::max(std::abs(p.dc_min_v), std::abs(p.dc_max_v));
+    if (!p.info.fitted_plus_net.empty()) p.plus_net = p.info.fitted_plus_net;
   }
+  // The largest signal anywhere in the stage is the output's (inputs are smaller by the
+  // gain; a follower's input equals its output), overdriven to clipping: a bound for
+  // every capacitor.
+  p.peak_v = std::max(a.best().clip_peak_v, 0.0);
+  return p;
+}
+
+// What is wrong with the bias point itself, if anything (empty: it amplifies).
+std::string bias_warning(const Analysis& a) {
   const stages::Performance& best = a.best();
+  if (!best.valid)
+    return fmt::format("the transistor does not conduct ({}): the stage does not amplify",
+                       best.problem.empty() ? a.closed_form.problem : best.problem);
+  if (best.active) return {};
+  const std::string why = !best.problem.empty()            ? best.problem
+                          : !a.closed_form.problem.empty() ? a.closed_form.problem
+                                                           : "out of its amplifying region";
+  return fmt::format("the transistor is {} at the bias point: the small-signal figures do not describe "
+                     "a linear amplifier",
+                     why);
+}
 
-  // Parts: stress from the exact solution (the closed form as the fallback and beside it).
-  for (std::size_t i = 0; i < roles.size(); ++i) {
-    if (!(stage.values[i] > 0)) continue;
-    PartStress p;
-    p.role = i;
-    p.name = std::string(roles[i].name);
-    p.kind = roles[i].kind;
-    p.value = stage.values[i];
-    p.info.role = p.name;
-    for (const auto& info : stage.parts)
-      if (same_name(info.role, p.name)) p.info = info;
-    p.designator = p.info.designator.empty() ? std::string(roles[i].designator) : p.info.designator;
-    const stages::Stress* fs = detail::stress_of(a.closed_form, i);
-    const stages::Stress* es = a.exact ? detail::stress_of(*a.exact, i) : nullptr;
-    if (!es) es = fs;
-    if (p.kind == 'R') {
-      p.power_w = es ? es->power_w : 0.0;
-      p.power_closed_w = fs ? fs->power_w : 0.0;
-    } else {
-      p.dc_v = es ? es->dc_v : 0.0;
-      p.dc_closed_v = fs ? fs->dc_v : 0.0;
-      p.plus_net = es ? std::string(es->plus_net) : std::string();
-      if (p.info.dc_known) {
-        // The design's verified range is the one figure (a chain's coupling capacitor holds
-        // the DC between two stages, which this stage's own operating point does not show).
-        p.dc_range = true;
-        p.dc_min_v = p.info.dc_min_v;
-        p.dc_max_v = p.info.dc_max_v;
-        p.dc_v = p.dc_closed_v = std::max(std::abs(p.dc_min_v), std::abs(p.dc_max_v));
-        if (!p.info.fitted_plus_net.empty()) p.plus_net = p.info.fitted_plus_net;
-      }
-      // The largest signal anywhere in the stage is the output's (inputs are smaller by the
-      // gain; a follower's input equals its output), overdriven to clipping: a bound for
-      // every capacitor.
-      p.peak_v = std::max(best.clip_peak_v, 0.0);
-    }
-    detail::judge_part(t, p, a.warnings);
-    a.parts.push_back(p);
-  }
-
-  // The bias point itself.
-  if (!best.valid) {
-    a.warnings.insert(a.warnings.begin(),
-                      fmt::format("the transistor does not conduct ({}): the stage does not amplify",
-                                  best.problem.empty() ? a.closed_form.problem : best.problem));
-  } else if (!best.active) {
-    const std::string why = !best.problem.empty() ? best.problem
-                            : !a.closed_form.problem.empty() ? a.closed_form.problem
-                                                             : "out of its amplifying region";
-    a.warnings.insert(a.warnings.begin(),
-                      fmt::format("the transistor is {} at the bias point: the small-signal figures do not describe "
-                                  "a linear amplifier",
-                                  why));
-  }
-
-  // Cautions.
-  if (auto hazard = synth::hazard_caution(c.supply_v); !hazard.empty()) a.cautions.push_back(hazard);
+// Hazardous supply, polarised parts (which way round), parts without a stated rating.
+std::vector<std::string> stage_cautions(const Analysis& a) {
+  const auto& t = *a.stage.topology;
+  std::vector<std::string> out;
+  if (auto hazard = synth::hazard_caution(a.stage.conditions.supply_v); !hazard.empty()) out.push_back(hazard);
   std::vector<std::string> unrated;
   for (const auto& p : a.parts) {
     if (p.info.polarised && !p.reversed)
-      a.cautions.push_back(synth::polarised_caution(
-          detail::part_label(p),
-          detail::describe_net(t, p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net)));
+      out.push_back(synth::polarised_caution(
+          detail::part_label(p), t.net_words(p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net)));
     if (!(p.info.rating > 0)) unrated.push_back(p.designator);
   }
-  if (!unrated.empty()) a.cautions.push_back(synth::unrated_caution(unrated));
+  if (!unrated.empty()) out.push_back(synth::unrated_caution(unrated));
+  return out;
+}
 
+// The closed form (Detail::core) at each of the spread's corner pieces.
+std::vector<CornerFigures> corner_figures(const StageUnderTest& stage, const devices::DeviceSpread& spread) {
+  const auto& c = stage.conditions;
+  std::vector<CornerFigures> out;
+  for (const auto& f : spread.corners()) {
+    stages::Transistor qc;
+    qc.kind = stage.transistor.kind;
+    if (devices::is_jfet(qc.kind))
+      qc.jfet = spread.jfet(f, c.celsius);
+    else
+      qc.bjt = spread.bjt(f, c.celsius);
+    out.push_back({f, stage.topology->evaluate(stage.values, qc, c, stages::Detail::core)});
+  }
+  return out;
+}
+
+}  // namespace
+
+Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread* spread) {
+  check_stage(stage);
+  const auto& t = *stage.topology;
+  Analysis a;
+  a.stage = stage;
+  auto& c = a.stage.conditions;
+  if (!(c.hd2_peak_v > 0)) c.hd2_peak_v = hd2_level(stage);
+  a.closed_form = t.evaluate(stage.values, stage.transistor, c, stages::Detail::full);
+  try {
+    a.exact = stages::evaluate_exact(t, stage.values, stage.transistor, c, stages::Detail::full);
+  } catch (const Error& e) {
+    a.exact_problem = e.what();
+  }
+  for (std::size_t i = 0; i < t.roles().size(); ++i) {
+    if (!(stage.values[i] > 0)) continue;
+    PartStress p = part_stress(a, i);
+    detail::judge_part(t, p, a.warnings);
+    a.parts.push_back(p);
+  }
+  if (auto w = bias_warning(a); !w.empty()) a.warnings.insert(a.warnings.begin(), w);
+  a.cautions = stage_cautions(a);
   if (spread) {
     a.spread = spread->description();
-    for (const auto& f : spread->corners()) {
-      stages::Transistor qc;
-      qc.kind = q.kind;
-      if (devices::is_jfet(q.kind))
-        qc.jfet = spread->jfet(f, c.celsius);
-      else
-        qc.bjt = spread->bjt(f, c.celsius);
-      a.corners.push_back({f, t.evaluate(stage.values, qc, c, stages::Detail::core)});
-    }
+    a.corners = corner_figures(a.stage, *spread);
   }
   return a;
 }
 
-Json analysis_json(const Analysis& a) {
-  const auto& t = *a.stage.topology;
-  const auto& q = a.stage.transistor;
-  const auto& c = a.stage.conditions;
-  Json j;
-  j["schema"] = 1;
-  j["topology"] = std::string(t.name());
+namespace {
+
+Json device_json(const StageUnderTest& stage) {
+  const auto& q = stage.transistor;
   Json model;
   if (devices::is_jfet(q.kind)) {
     model["idss"] = q.jfet.idss_a;
@@ -428,20 +454,75 @@ Json analysis_json(const Analysis& a) {
     model["bf"] = q.bjt.bf;
     model["vaf"] = q.bjt.vaf_v;
   }
-  j["device"] = {{"name", a.stage.device},
-                 {"kind", std::string(devices::kind_name(q.kind))},
-                 {"piece", a.stage.piece.empty() ? Json(nullptr) : Json(a.stage.piece)},
-                 {"model", model}};
-  j["conditions"] = {{"supply", (c.negative_rail ? -c.supply_v : c.supply_v)},
-                     {"load", c.load_ohm},
-                     {"source_z", c.source_ohm},
-                     {"temp", c.celsius},
-                     {"band", c.band_lo_hz > 0 || c.band_hi_hz > 0 ? Json::array({c.band_lo_hz, c.band_hi_hz})
-                                                                     : Json(nullptr)},
-                     {"hd2_at", c.hd2_peak_v},
-                     {"noise_at", c.noise_f_hz}};
+  return {{"name", stage.device},
+          {"kind", std::string(devices::kind_name(q.kind))},
+          {"piece", text_or_null(stage.piece)},
+          {"model", model}};
+}
+
+Json conditions_json(const stages::Conditions& c) {
+  return {{"supply", (c.negative_rail ? -c.supply_v : c.supply_v)},
+          {"load", c.load_ohm},
+          {"source_z", c.source_ohm},
+          {"temp", c.celsius},
+          {"band", c.band_lo_hz > 0 || c.band_hi_hz > 0 ? Json::array({c.band_lo_hz, c.band_hi_hz}) : Json(nullptr)},
+          {"hd2_at", c.hd2_peak_v},
+          {"noise_at", c.noise_f_hz}};
+}
+
+Json part_json(const PartStress& p) {
+  Json pj;
+  pj["role"] = p.name;
+  pj["designator"] = p.designator;
+  pj["kind"] = std::string(1, p.kind);
+  pj["value"] = p.value;
+  pj["recipe"] = text_or_null(p.info.recipe);
+  pj["tol"] = text_or_null(p.info.tol);
+  if (p.kind == 'R') {
+    pj["power"] = p.power_w;
+    pj["power_closed_form"] = p.power_closed_w;
+  } else {
+    pj["dielectric"] = text_or_null(p.info.dielectric);
+    pj["dc"] = p.dc_v;
+    pj["dc_closed_form"] = p.dc_closed_v;
+    // The design's verified range (from the + lead), when the analysis was given one.
+    pj["dc_range"] = p.dc_range ? Json::array({p.dc_min_v, p.dc_max_v}) : Json(nullptr);
+    pj["signal_peak"] = p.peak_v;
+    pj["plus_net"] = text_or_null(p.plus_net);
+    pj["polarised"] = p.info.polarised;
+    pj["fitted_plus_net"] = text_or_null(p.info.fitted_plus_net);
+  }
+  pj["rating"] = p.info.rating > 0 ? Json(p.info.rating) : Json(nullptr);
+  pj["use"] = p.info.rating > 0 ? Json(p.use) : Json(nullptr);
+  pj["over"] = p.over;
+  pj["reversed"] = p.reversed;
+  return pj;
+}
+
+Json corner_json(const stages::Topology& t, devices::DeviceKind kind, const CornerFigures& cf) {
+  Json cj;
+  cj["tag"] = cf.piece.tag;
+  if (devices::is_jfet(kind)) {
+    cj["idss"] = cf.piece.idss_a;
+    cj["vp"] = -devices::polarity(kind) * cf.piece.vp_abs_v;
+  } else {
+    cj["hfe"] = cf.piece.hfe;
+  }
+  cj["figures"] = detail::performance_json(t, cf.performance);
+  return cj;
+}
+
+}  // namespace
+
+Json analysis_json(const Analysis& a) {
+  const auto& t = *a.stage.topology;
+  Json j;
+  j["schema"] = 1;
+  j["topology"] = std::string(t.name());
+  j["device"] = device_json(a.stage);
+  j["conditions"] = conditions_json(a.stage.conditions);
   j["exact"] = a.exact ? detail::performance_json(t, *a.exact) : Json(nullptr);
-  j["exact_problem"] = a.exact_problem.empty() ? Json(nullptr) : Json(a.exact_problem);
+  j["exact_problem"] = text_or_null(a.exact_problem);
   j["closed_form"] = detail::performance_json(t, a.closed_form);
   Json diff = Json::array();
   if (a.exact)
@@ -449,51 +530,13 @@ Json analysis_json(const Analysis& a) {
       if (differs(r.exact, r.closed, r.floor)) diff.push_back(r.key);
   j["differs"] = diff;
   Json parts = Json::array();
-  for (const auto& p : a.parts) {
-    Json pj;
-    pj["role"] = p.name;
-    pj["designator"] = p.designator;
-    pj["kind"] = std::string(1, p.kind);
-    pj["value"] = p.value;
-    pj["recipe"] = p.info.recipe.empty() ? Json(nullptr) : Json(p.info.recipe);
-    pj["tol"] = p.info.tol.empty() ? Json(nullptr) : Json(p.info.tol);
-    if (p.kind == 'R') {
-      pj["power"] = p.power_w;
-      pj["power_closed_form"] = p.power_closed_w;
-    } else {
-      pj["dielectric"] = p.info.dielectric.empty() ? Json(nullptr) : Json(p.info.dielectric);
-      pj["dc"] = p.dc_v;
-      pj["dc_closed_form"] = p.dc_closed_v;
-      // The design's verified range (from the + lead), when the analysis was given one.
-      pj["dc_range"] = p.dc_range ? Json::array({p.dc_min_v, p.dc_max_v}) : Json(nullptr);
-      pj["signal_peak"] = p.peak_v;
-      pj["plus_net"] = p.plus_net.empty() ? Json(nullptr) : Json(p.plus_net);
-      pj["polarised"] = p.info.polarised;
-      pj["fitted_plus_net"] = p.info.fitted_plus_net.empty() ? Json(nullptr) : Json(p.info.fitted_plus_net);
-    }
-    pj["rating"] = p.info.rating > 0 ? Json(p.info.rating) : Json(nullptr);
-    pj["use"] = p.info.rating > 0 ? Json(p.use) : Json(nullptr);
-    pj["over"] = p.over;
-    pj["reversed"] = p.reversed;
-    parts.push_back(pj);
-  }
+  for (const auto& p : a.parts) parts.push_back(part_json(p));
   j["parts"] = parts;
   j["warnings"] = a.warnings;
   j["cautions"] = a.cautions;
-  j["spread"] = a.spread.empty() ? Json(nullptr) : Json(a.spread);
+  j["spread"] = text_or_null(a.spread);
   Json corners = Json::array();
-  for (const auto& cf : a.corners) {
-    Json cj;
-    cj["tag"] = cf.piece.tag;
-    if (devices::is_jfet(q.kind)) {
-      cj["idss"] = cf.piece.idss_a;
-      cj["vp"] = -devices::polarity(q.kind) * cf.piece.vp_abs_v;
-    } else {
-      cj["hfe"] = cf.piece.hfe;
-    }
-    cj["figures"] = detail::performance_json(t, cf.performance);
-    corners.push_back(cj);
-  }
+  for (const auto& cf : a.corners) corners.push_back(corner_json(t, a.stage.transistor.kind, cf));
   j["corners"] = corners;
   return j;
 }
@@ -543,7 +586,7 @@ std::string parts_text(const Analysis& a) {
       if (differs(p.dc_v, p.dc_closed_v, detail::kFloorV))
         closed = fmt::format("{} DC", detail::volts_shown(p.dc_closed_v));
       rating = p.info.rating > 0 ? format_value(p.info.rating, Unit::volt) : "not stated";
-      if (p.dc_v > 0.05) note = fmt::format("+ to {}", detail::describe_net(t, p.plus_net));
+      if (p.dc_v > 0.05) note = fmt::format("+ to {}", t.net_words(p.plus_net));
       if (!p.info.dielectric.empty()) note = p.info.dielectric + (note.empty() ? "" : ", " + note);
     }
     if (p.over) note += note.empty() ? "OVER RATING" : "; OVER RATING";

@@ -20,7 +20,6 @@ namespace {
 using units::format_value;
 using units::Unit;
 
-
 std::string ohms(double v) { return v > 0 ? format_value(v, Unit::ohm) : std::string("\u2014"); }
 
 }  // namespace

@@ -13,6 +13,10 @@
 
 namespace shelfstage::report {
 
+Json text_or_null(const std::string& s) { return s.empty() ? Json(nullptr) : Json(s); }
+
+Json number_or_null(const std::optional<double>& v) { return v ? Json(*v) : Json(nullptr); }
+
 namespace {
 
 Json pair_or_null(const std::optional<std::pair<double, double>>& p) {
@@ -168,15 +172,15 @@ Json part_json(const synth::RolePart& rp) {
   p["rating"] = rp.rating > 0 ? Json(rp.rating) : Json(nullptr);
   if (rp.kind == 'C') p["dielectric"] = rp.dielectric;
   p["polarised"] = rp.polarised;
-  p["plus_net"] = rp.plus_net.empty() ? Json(nullptr) : Json(rp.plus_net);
+  p["plus_net"] = text_or_null(rp.plus_net);
   if (rp.kind == 'C') {
-    p["minus_net"] = rp.minus_net.empty() ? Json(nullptr) : Json(rp.minus_net);
+    p["minus_net"] = text_or_null(rp.minus_net);
     // The DC across, from the + lead (or the end higher at nominal) to the other, over the
     // nominal build and every corner, from the exact solver; and the exported netlist's
     // nets of those leads (V(plus_node) - V(minus_node) is that DC).
     p["dc"] = range(rp.dc);
-    p["plus_node"] = rp.plus_node.empty() ? Json(nullptr) : Json(rp.plus_node);
-    p["minus_node"] = rp.minus_node.empty() ? Json(nullptr) : Json(rp.minus_node);
+    p["plus_node"] = text_or_null(rp.plus_node);
+    p["minus_node"] = text_or_null(rp.minus_node);
   }
   p["lines"] = rp.lines;
   if (rp.stage > 0) p["stage"] = rp.stage;
@@ -234,16 +238,15 @@ Json worst_json(const synth::Candidate& c) {
 Json transistor_json(const synth::Candidate& c) {
   const auto& w = c.worst;
   const auto& r = c.device.ratings;
-  auto opt = [](const std::optional<double>& v) { return v ? Json(*v) : Json(nullptr); };
   return {{"designator", "Q1"},
           {"v_main", range(w.device_v)},
-          {"v_max", opt(r.v_max_v)},
+          {"v_max", number_or_null(r.v_max_v)},
           {"v_reverse", range(w.device_rev)},
-          {"v_rev_max", opt(r.v_rev_max_v)},
+          {"v_rev_max", number_or_null(r.v_rev_max_v)},
           {"power", range(w.device_p)},
           {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr)
                                                                      : Json(w.device_p_allowed.min)},
-          {"p_max", opt(r.p_max_w)},
+          {"p_max", number_or_null(r.p_max_w)},
           {"voltage_share", synth::kDeviceVoltageShare},
           {"power_share", synth::kDevicePowerShare},
           {"rated", r.any()}};

@@ -11,11 +11,9 @@
 namespace shelfstage::report {
 
 namespace {
+
 using units::format_value;
 using units::Unit;
-}  // namespace
-
-namespace {
 
 /// The worst THD at the request's level; "clips" where some corner cannot reach that level
 /// (the evaluators then state a THD of 1: nothing to promise there).

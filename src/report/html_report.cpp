@@ -8,6 +8,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <optional>
 
 #include "shelfstage/draw/palette.hpp"
 #include "shelfstage/draw/plot.hpp"
@@ -337,28 +338,14 @@ std::string response_section(const ReportInput& in, const Response& r) {
   return h + "</section>";
 }
 
-std::string bias_section(const ReportInput& in, const BiasSpread& b) {
+namespace {
+
+draw::Point bias_point(const BiasPoint& q) { return draw::Point{q.v, q.i_a * 1e3}; }
+
+// The DC load line through the nominal parts: V = supply - I R (common source or emitter),
+// V = I R (follower), up to 1.3 times the largest current drawn; none without a resistance.
+std::optional<draw::Series> dc_load_line(const ReportInput& in, const BiasSpread& b) {
   const auto& c = in.candidate;
-  const bool jfet = devices::is_jfet(c.device.kind);
-  const std::string current_name = jfet ? "drain current" : "collector current";
-  draw::Plot p;
-  p.id = "bias";
-  p.title = fmt::format("Bias point: V({}) and {}", b.node, current_name);
-  p.width = 1000;
-  p.height = 400;
-  p.x.title = fmt::format("V({}) (V)", b.node);
-  p.y.title = current_name + " (mA)";
-  p.y.include_zero = true;
-  auto pt = [](const BiasPoint& q) { return draw::Point{q.v, q.i_a * 1e3}; };
-  if (!b.safe_region.empty()) {
-    draw::Region reg;
-    reg.name = b.swing_peak_v > 0 ? fmt::format("safe: active with room for \u00b1{}", volts(b.swing_peak_v))
-                                  : "safe: active region";
-    for (const auto& [v, i] : b.safe_region) reg.points.push_back({v, i * 1e3});
-    p.regions.push_back(reg);
-  }
-  // The DC load line through the nominal parts: V = supply - I R (common source or emitter),
-  // V = I R (follower).
   const bool follower = b.line.at_common;
   const double r_line = b.line.r_dc_ohm;
   double i_top = b.nominal.i_a;
@@ -367,32 +354,35 @@ std::string bias_section(const ReportInput& in, const BiasSpread& b) {
   i_top *= 1.3;
   const double s = p_type(c.device.kind) ? -1 : 1;
   const double vs = c.conditions.supply_v;
-  if (r_line > 0 && i_top > 0) {
-    draw::Series line;
-    line.name = "DC load line, nominal parts";
-    line.colour = draw::palette::muted;
-    line.width = 1.2;
-    line.dash = "5 4";
-    for (int k = 0; k <= 20; ++k) {
-      const double i = i_top * k / 20;
-      const double v = follower ? i * r_line : vs - i * r_line;
-      line.points.push_back({s * v, i * 1e3});
-    }
-    p.series.push_back(line);
+  if (!(r_line > 0 && i_top > 0)) return std::nullopt;
+  draw::Series line;
+  line.name = "DC load line, nominal parts";
+  line.colour = draw::palette::muted;
+  line.width = 1.2;
+  line.dash = "5 4";
+  for (int k = 0; k <= 20; ++k) {
+    const double i = i_top * k / 20;
+    const double v = follower ? i * r_line : vs - i * r_line;
+    line.points.push_back({s * v, i * 1e3});
   }
+  return line;
+}
+
+// The Monte Carlo builds (safe, outside), the device corners and the nominal piece as point
+// clouds on the plot; returns how many builds lie in the safe region.
+int add_bias_clouds(draw::Plot& p, const BiasSpread& b) {
   draw::Cloud in_cloud, out_cloud, corners, nominal;
   in_cloud.colour = draw::palette::inside;
   in_cloud.opacity = 0.45;
-  out_cloud.name = "outside";
   out_cloud.colour = draw::palette::alarm;
   out_cloud.opacity = 0.7;
   int n_in = 0, n_out = 0;
   for (const auto& q : b.samples) {
     if (q.safe) {
-      in_cloud.points.push_back(pt(q));
+      in_cloud.points.push_back(bias_point(q));
       ++n_in;
     } else {
-      out_cloud.points.push_back(pt(q));
+      out_cloud.points.push_back(bias_point(q));
       ++n_out;
     }
   }
@@ -403,17 +393,21 @@ std::string bias_section(const ReportInput& in, const BiasSpread& b) {
   corners.radius = 5;
   corners.hollow = true;
   corners.opacity = 1;
-  for (const auto& q : b.corners) corners.points.push_back(pt(q));
+  for (const auto& q : b.corners) corners.points.push_back(bias_point(q));
   nominal.name = "nominal";
   nominal.colour = draw::palette::brick;
   nominal.radius = 5.5;
   nominal.opacity = 1;
-  nominal.points.push_back(pt(b.nominal));
+  nominal.points.push_back(bias_point(b.nominal));
   if (!b.samples.empty()) p.clouds.push_back(in_cloud);
   if (n_out > 0) p.clouds.push_back(out_cloud);
   p.clouds.push_back(corners);
   p.clouds.push_back(nominal);
+  return n_in;
+}
 
+std::string bias_caption(const ReportInput& in, const BiasSpread& b, int n_in) {
+  const bool jfet = devices::is_jfet(in.candidate.device.kind);
   std::string caption = fmt::format(
       "Operating points from the exact solver: the nominal piece, the {} corner pieces of the device (nominal parts "
       "and supply), and {} Monte Carlo builds drawn as the yield draws them (pieces from the device spread, parts "
@@ -426,7 +420,31 @@ std::string bias_section(const ReportInput& in, const BiasSpread& b) {
                  : fmt::format(", where the device stays in its {} region", jfet ? "saturation" : "active");
   caption += jfet ? " (VDS above the overdrive of the weakest corner piece)." : " (VCE above its saturation edge).";
   if (b.failed > 0) caption += fmt::format(" {} builds had no operating point.", b.failed);
-  return "<section id=\"bias\"><h2>Bias spread</h2>" + figure(p.svg(), caption) + "</section>";
+  return caption;
+}
+
+}  // namespace
+
+std::string bias_section(const ReportInput& in, const BiasSpread& b) {
+  const std::string current_name = devices::is_jfet(in.candidate.device.kind) ? "drain current" : "collector current";
+  draw::Plot p;
+  p.id = "bias";
+  p.title = fmt::format("Bias point: V({}) and {}", b.node, current_name);
+  p.width = 1000;
+  p.height = 400;
+  p.x.title = fmt::format("V({}) (V)", b.node);
+  p.y.title = current_name + " (mA)";
+  p.y.include_zero = true;
+  if (!b.safe_region.empty()) {
+    draw::Region reg;
+    reg.name = b.swing_peak_v > 0 ? fmt::format("safe: active with room for \u00b1{}", volts(b.swing_peak_v))
+                                  : "safe: active region";
+    for (const auto& [v, i] : b.safe_region) reg.points.push_back({v, i * 1e3});
+    p.regions.push_back(reg);
+  }
+  if (auto line = dc_load_line(in, b)) p.series.push_back(*line);
+  const int n_in = add_bias_clouds(p, b);
+  return "<section id=\"bias\"><h2>Bias spread</h2>" + figure(p.svg(), bias_caption(in, b, n_in)) + "</section>";
 }
 
 std::string swing_section(const Transfer& tr) {

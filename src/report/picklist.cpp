@@ -5,6 +5,7 @@
 
 #include <algorithm>
 
+#include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/table.hpp"
 #include "shelfstage/stages/chain.hpp"
 #include "shelfstage/store/csv.hpp"
@@ -145,8 +146,6 @@ Json value_json(store::PartKind kind, double value, const std::string& device) {
   return value;
 }
 
-Json or_null(const std::string& s) { return s.empty() ? Json(nullptr) : Json(s); }
-
 }  // namespace
 
 Json short_item_json(const build::ShortItem& s) {
@@ -156,9 +155,9 @@ Json short_item_json(const build::ShortItem& s) {
   o["qty"] = s.qty;
   o["designators"] = s.designators;
   o["value_text"] = build::item_value_text(s.kind, s.value, s.device);
-  o["tol"] = or_null(tol_text(s.tol));
+  o["tol"] = text_or_null(tol_text(s.tol));
   o["rating"] = s.rating > 0 ? Json(s.rating) : Json(nullptr);
-  o["dielectric"] = or_null(s.dielectric);
+  o["dielectric"] = text_or_null(s.dielectric);
   o["needed"] = s.needed;
   o["roles"] = s.roles;
   return o;
@@ -182,9 +181,9 @@ Json pick_json(const PickList& p) {
     o["designators"] = l.designators;
     o["part_id"] = l.part_id;
     o["value_text"] = build::item_value_text(l.kind, l.value, l.device);
-    o["tol"] = or_null(tol_text(l.tol));
+    o["tol"] = text_or_null(tol_text(l.tol));
     o["rating"] = l.rating > 0 ? Json(l.rating) : Json(nullptr);
-    o["dielectric"] = or_null(l.dielectric);
+    o["dielectric"] = text_or_null(l.dielectric);
     o["from_reserved"] = l.from_reserved;
     lines.push_back(o);
   }
@@ -211,7 +210,7 @@ Json pick_json(const PickList& p) {
                         {"minus", pol.minus},
                         {"text", pol.text}});
   j["polarity"] = polarity;
-  j["rail"] = p.rail.empty() ? Json(nullptr) : Json(p.rail);
+  j["rail"] = text_or_null(p.rail);
   return j;
 }
 

@@ -511,82 +511,105 @@ struct NamedDevice {
 };
 using DeviceLookup = std::function<std::optional<NamedDevice>(std::string_view)>;
 
+/// The columns of a stock file, in the order the writer puts them.
+constexpr std::string_view kStockColumns[] = {"kind", "value", "qty",     "tol", "power",
+                                              "volts", "dielectric", "package", "bin", "note"};
+
+/// A stock row's value: a resistance or capacitance for a passive part, else a type of the
+/// device list of the row's kind. False when it is bad (reported on the row's line).
+bool read_stock_value(std::string_view text, const DeviceLookup& lookup, std::size_t line, Problems& problems,
+                      Part& p) {
+  if (is_passive(p.kind)) {
+    const bool capacitor = p.kind == PartKind::capacitor;
+    const auto v = read_value("value", text, capacitor ? Unit::farad : Unit::ohm, line, problems, false, capacitor);
+    if (v) p.value = *v;
+    return v.has_value();
+  }
+  const auto found = lookup(text);
+  devices::DeviceKind want{};
+  store::device_kind(p.kind, want);
+  if (!found) {
+    problems.add(line, fmt::format("value '{}' is not a device in the device list (import it first with devices "
+                                   "import)",
+                                   shown(text)));
+    return false;
+  }
+  if (found->kind && *found->kind != want) {
+    problems.add(line, fmt::format("value '{}' is a device of kind {}, not {}", found->name,
+                                   devices::kind_name(*found->kind), kind_code(p.kind)));
+    return false;
+  }
+  p.device = found->name;
+  return true;
+}
+
+/// A stock row's optional ratings: tol, power, volts. False when one is bad (reported).
+bool read_stock_ratings(const Sheet& sheet, const CsvRow& row, Problems& problems, Part& p) {
+  bool ok = true;
+  if (const auto t = sheet.get(row, "tol"); !t.empty()) {
+    try {
+      p.tol = units::parse_tolerance(t);
+    } catch (const InputError& e) {
+      problems.add(row.line, reworded("tol", e));
+      ok = false;
+    }
+  }
+  if (const auto t = sheet.get(row, "power"); !t.empty()) {
+    if (auto w = read_power(t, row.line, problems)) p.power_w = *w;
+    else ok = false;
+  }
+  if (const auto t = sheet.get(row, "volts"); !t.empty()) {
+    if (auto v = read_value("volts", t, Unit::volt, row.line, problems)) p.volts = *v;
+    else ok = false;
+  }
+  return ok;
+}
+
+/// A stock row as a part; nullopt with every bad field reported on the row's line.
+std::optional<Part> read_stock_row(const Sheet& sheet, const CsvRow& row, const DeviceLookup& lookup,
+                                   Problems& problems) {
+  const std::size_t line = row.line;
+  bool bad = false;
+  Part p;
+  const auto kind_text = sheet.get(row, "kind");
+  bool kind_ok = false;
+  if (kind_text.empty())
+    problems.add(line, "kind is missing");
+  else if (!(kind_ok = parse_kind_code(kind_text, p.kind)))
+    problems.add(line, fmt::format("kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", shown(kind_text)));
+
+  const auto value_text = sheet.get(row, "value");
+  if (value_text.empty()) {
+    problems.add(line, "value is missing");
+    bad = true;
+  } else if (kind_ok && !read_stock_value(value_text, lookup, line, problems, p)) {
+    bad = true;
+  }
+  if (auto q = read_count("qty", sheet.get(row, "qty"), line, problems)) p.qty = *q;
+  else bad = true;
+  if (!read_stock_ratings(sheet, row, problems, p)) bad = true;
+  p.dielectric = std::string(sheet.get(row, "dielectric"));
+  p.package = std::string(sheet.get(row, "package"));
+  p.bin = std::string(sheet.get(row, "bin"));
+  p.note = std::string(sheet.get(row, "note"));
+  if (bad || !kind_ok) return std::nullopt;
+  const auto issues = part_problems(p);
+  for (const auto& issue : issues) problems.add(line, issue);
+  if (!issues.empty()) return std::nullopt;
+  return p;
+}
+
 std::vector<Part> parse_stock(std::string_view text, std::string_view source, const DeviceLookup& lookup,
                               std::vector<std::size_t>* lines) {
-  const Sheet sheet(text, source,
-                    {"kind", "value", "qty", "tol", "power", "volts", "dielectric", "package", "bin", "note"},
-                    {"kind", "value", "qty"});
+  const Sheet sheet(text, source, {std::begin(kStockColumns), std::end(kStockColumns)}, {"kind", "value", "qty"});
   Problems problems(source);
   std::vector<Part> out;
   for (const CsvRow& row : sheet.rows()) {
     if (!sheet.shape_ok(row, problems)) continue;
-    const std::size_t line = row.line;
-    bool bad = false;
-    auto note = [&](std::string_view m) {
-      problems.add(line, m);
-      bad = true;
-    };
-    Part p;
-
-    const auto kind_text = sheet.get(row, "kind");
-    bool kind_ok = false;
-    if (kind_text.empty())
-      note("kind is missing");
-    else if (!(kind_ok = parse_kind_code(kind_text, p.kind)))
-      note(fmt::format("kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", shown(kind_text)));
-
-    const auto value_text = sheet.get(row, "value");
-    if (value_text.empty()) {
-      note("value is missing");
-    } else if (kind_ok && is_passive(p.kind)) {
-      const bool capacitor = p.kind == PartKind::capacitor;
-      if (auto v = read_value("value", value_text, capacitor ? Unit::farad : Unit::ohm, line, problems, false,
-                              capacitor))
-        p.value = *v;
-      else
-        bad = true;
-    } else if (kind_ok) {
-      const auto found = lookup(value_text);
-      devices::DeviceKind want{};
-      store::device_kind(p.kind, want);
-      if (!found)
-        note(fmt::format("value '{}' is not a device in the device list (import it first with devices import)",
-                         shown(value_text)));
-      else if (found->kind && *found->kind != want)
-        note(fmt::format("value '{}' is a device of kind {}, not {}", found->name, devices::kind_name(*found->kind),
-                         kind_code(p.kind)));
-      else
-        p.device = found->name;
-    }
-
-    if (auto q = read_count("qty", sheet.get(row, "qty"), line, problems)) p.qty = *q;
-    else bad = true;
-
-    if (const auto t = sheet.get(row, "tol"); !t.empty()) {
-      try {
-        p.tol = units::parse_tolerance(t);
-      } catch (const InputError& e) {
-        note(reworded("tol", e));
-      }
-    }
-    if (const auto t = sheet.get(row, "power"); !t.empty()) {
-      if (auto w = read_power(t, line, problems)) p.power_w = *w;
-      else bad = true;
-    }
-    if (const auto t = sheet.get(row, "volts"); !t.empty()) {
-      if (auto v = read_value("volts", t, Unit::volt, line, problems)) p.volts = *v;
-      else bad = true;
-    }
-    p.dielectric = std::string(sheet.get(row, "dielectric"));
-    p.package = std::string(sheet.get(row, "package"));
-    p.bin = std::string(sheet.get(row, "bin"));
-    p.note = std::string(sheet.get(row, "note"));
-    if (bad || !kind_ok) continue;
-    const auto issues = part_problems(p);
-    for (const auto& issue : issues) problems.add(line, issue);
-    if (!issues.empty()) continue;
-    out.push_back(std::move(p));
-    if (lines != nullptr) lines->push_back(line);
+    auto p = read_stock_row(sheet, row, lookup, problems);
+    if (!p) continue;
+    out.push_back(std::move(*p));
+    if (lines != nullptr) lines->push_back(row.line);
   }
   problems.finish();
   return out;
@@ -616,7 +639,7 @@ std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source
 }
 
 std::string write_stock_csv(const std::vector<Part>& parts) {
-  std::string out = join_row({"kind", "value", "qty", "tol", "power", "volts", "dielectric", "package", "bin", "note"});
+  std::string out = join_row({std::begin(kStockColumns), std::end(kStockColumns)});
   for (const Part& p : parts) {
     const std::string value = p.kind == PartKind::capacitor  ? exact_capacitance(p.value)
                               : p.kind == PartKind::resistor ? exact(p.value)
@@ -633,18 +656,23 @@ std::string write_stock_csv(const std::vector<Part>& parts) {
 
 namespace {
 
-constexpr std::string_view kJfetColumns[] = {"idss_min", "idss_max", "idss_typ", "vp_min", "vp_max", "vp_typ",
-                                             "lambda",   "cgs",      "cgd",      "tc_idss", "tc_vp"};
-constexpr std::string_view kBjtColumns[] = {"hfe_min", "hfe_max", "hfe_typ", "is", "vaf", "cje", "cjc", "vce_sat"};
-/// Maximum ratings, for both families (optional: a type without them is designed with a caution).
-constexpr std::string_view kRatingColumns[] = {"v_max", "v_rev_max", "p_max", "p_derate"};
+using Family = DeviceColumn::Family;
+
+/// The names of one family's figure columns, in the table's order.
+std::vector<std::string_view> column_names(Family family) {
+  std::vector<std::string_view> out;
+  for (const DeviceColumn& c : device_columns())
+    if (c.family == family) out.push_back(c.name);
+  return out;
+}
 
 /// Every column a device file may have.
-std::vector<std::string_view> device_columns() {
+std::vector<std::string_view> device_file_columns() {
   std::vector<std::string_view> known = {"name", "kind"};
-  known.insert(known.end(), std::begin(kJfetColumns), std::end(kJfetColumns));
-  known.insert(known.end(), std::begin(kBjtColumns), std::end(kBjtColumns));
-  known.insert(known.end(), std::begin(kRatingColumns), std::end(kRatingColumns));
+  for (Family f : {Family::jfet, Family::bjt, Family::rating}) {
+    const auto names = column_names(f);
+    known.insert(known.end(), names.begin(), names.end());
+  }
   known.push_back("note");
   return known;
 }
@@ -662,24 +690,21 @@ struct DeviceRow {
     problems.add(row.line, m);
     bad = true;
   }
-  void figure(std::string_view col, Unit unit, bool required, double& into) {
-    if (auto v = read_value(col, get(col), unit, row.line, problems, required))
-      into = *v;
-    else if (required || !get(col).empty())
-      bad = true;
+  /// Reads one figure column into the record (nothing when an optional one is empty).
+  void read(const DeviceColumn& col, devices::DeviceRecord& d) {
+    const auto text = get(col.name);
+    const bool required = col.form == DeviceColumn::Form::required;
+    const std::optional<double> v = col.form == DeviceColumn::Form::tempco
+                                        ? read_tempco(col.name, text, col.unit, row.line, problems)
+                                        : read_value(col.name, text, col.unit, row.line, problems, required);
+    // Ratings are magnitudes: a datasheet's -25 V for a P type is 25 V here.
+    if (v) col.set(d, col.form == DeviceColumn::Form::rating ? std::abs(*v) : *v);
+    else if (required || !text.empty()) bad = true;
   }
-  void typical(std::string_view col, Unit unit, std::optional<double>& into) {
-    if (auto v = read_value(col, get(col), unit, row.line, problems)) into = *v;
-    else if (!get(col).empty()) bad = true;
-  }
-  void tempco(std::string_view col, Unit unit, double& into) {
-    if (auto v = read_tempco(col, get(col), unit, row.line, problems)) into = *v;
-    else if (!get(col).empty()) bad = true;
-  }
-  // Ratings are magnitudes: a datasheet's -25 V for a P type is 25 V here.
-  void rating(std::string_view col, Unit unit, std::optional<double>& into) {
-    typical(col, unit, into);
-    if (into) into = std::abs(*into);
+  /// Reads every figure column of a family.
+  void read_family(Family family, devices::DeviceRecord& d) {
+    for (const DeviceColumn& c : device_columns())
+      if (c.family == family) read(c, d);
   }
 };
 
@@ -707,46 +732,32 @@ bool read_name_and_kind(DeviceRow& r, std::map<std::string, std::size_t>& seen, 
 /// Figures of the other family on this row point at a shifted or mistyped row.
 void check_other_family(DeviceRow& r, devices::DeviceKind kind) {
   const bool jfet = devices::is_jfet(kind);
-  for (std::string_view c : jfet ? std::vector<std::string_view>(std::begin(kBjtColumns), std::end(kBjtColumns))
-                                 : std::vector<std::string_view>(std::begin(kJfetColumns), std::end(kJfetColumns)))
+  for (std::string_view c : column_names(jfet ? Family::bjt : Family::jfet))
     if (!r.get(c).empty())
       r.note(fmt::format("{} '{}' given for kind {} (a {} figure)", c, shown(r.get(c)), devices::kind_name(kind),
                          jfet ? "BJT" : "JFET"));
 }
 
-void read_jfet_figures(DeviceRow& r, devices::JfetParams& j) {
-  r.figure("idss_min", Unit::ampere, true, j.idss_a.min);
-  r.figure("idss_max", Unit::ampere, true, j.idss_a.max);
-  r.typical("idss_typ", Unit::ampere, j.idss_a.typ);
-  r.figure("vp_min", Unit::volt, true, j.vp_v.min);
-  r.figure("vp_max", Unit::volt, true, j.vp_v.max);
-  r.typical("vp_typ", Unit::volt, j.vp_v.typ);
-  r.figure("lambda", Unit::none, false, j.lambda_per_v);
-  r.figure("cgs", Unit::farad, false, j.cgs_f);
-  r.figure("cgd", Unit::farad, false, j.cgd_f);
-  r.tempco("tc_idss", Unit::none, j.tc_idss_per_k);
-  r.tempco("tc_vp", Unit::volt, j.tc_vp_v_per_k);
+/// The figures of the record's family and its ratings.
+void read_figures(DeviceRow& r, devices::DeviceRecord& d) {
+  r.read_family(devices::is_jfet(d.kind) ? Family::jfet : Family::bjt, d);
   // The two ends of a datasheet range come in either order (-0.5 .. -3 or -3 .. -0.5).
-  if (j.idss_a.min > j.idss_a.max) std::swap(j.idss_a.min, j.idss_a.max);
-  if (j.vp_v.min > j.vp_v.max) std::swap(j.vp_v.min, j.vp_v.max);
-}
-
-void read_bjt_figures(DeviceRow& r, devices::BjtParams& b) {
-  r.figure("hfe_min", Unit::none, true, b.hfe.min);
-  r.figure("hfe_max", Unit::none, true, b.hfe.max);
-  r.typical("hfe_typ", Unit::none, b.hfe.typ);
-  r.figure("is", Unit::ampere, false, b.is_a);
-  r.figure("vaf", Unit::volt, false, b.vaf_v);
-  r.figure("cje", Unit::farad, false, b.cje_f);
-  r.figure("cjc", Unit::farad, false, b.cjc_f);
-  r.figure("vce_sat", Unit::volt, false, b.vce_sat_v);
-  if (b.hfe.min > b.hfe.max) std::swap(b.hfe.min, b.hfe.max);
+  auto order = [](devices::Range& range) {
+    if (range.min > range.max) std::swap(range.min, range.max);
+  };
+  if (devices::is_jfet(d.kind)) {
+    order(d.jfet.idss_a);
+    order(d.jfet.vp_v);
+  } else {
+    order(d.bjt.hfe);
+  }
+  r.read_family(Family::rating, d);
 }
 
 }  // namespace
 
 std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std::string_view source) {
-  const Sheet sheet(text, source, device_columns(), {"name", "kind"});
+  const Sheet sheet(text, source, device_file_columns(), {"name", "kind"});
   Problems problems(source);
   std::vector<devices::DeviceRecord> out;
   std::map<std::string, std::size_t> seen;  // lower-case name -> line
@@ -756,14 +767,7 @@ std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std:
     devices::DeviceRecord d;
     if (!read_name_and_kind(r, seen, d)) continue;
     check_other_family(r, d.kind);
-    if (devices::is_jfet(d.kind))
-      read_jfet_figures(r, d.jfet);
-    else
-      read_bjt_figures(r, d.bjt);
-    r.rating("v_max", Unit::volt, d.ratings.v_max_v);
-    r.rating("v_rev_max", Unit::volt, d.ratings.v_rev_max_v);
-    r.rating("p_max", Unit::watt, d.ratings.p_max_w);
-    r.rating("p_derate", Unit::none, d.ratings.derate_w_per_k);
+    read_figures(r, d);
     if (r.bad) continue;
     const auto issues = device_problems(d);
     for (const auto& issue : issues) problems.add(row.line, issue);
@@ -774,32 +778,26 @@ std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std:
 }
 
 std::string write_devices_csv(const std::vector<devices::DeviceRecord>& records) {
+  // The figures of both families (the other family's left empty), the note, the ratings.
   std::vector<std::string> header = {"name", "kind"};
-  header.insert(header.end(), std::begin(kJfetColumns), std::end(kJfetColumns));
-  header.insert(header.end(), std::begin(kBjtColumns), std::end(kBjtColumns));
+  for (Family f : {Family::jfet, Family::bjt}) {
+    const auto names = column_names(f);
+    header.insert(header.end(), names.begin(), names.end());
+  }
   header.emplace_back("note");
-  header.insert(header.end(), std::begin(kRatingColumns), std::end(kRatingColumns));
+  const auto ratings = column_names(Family::rating);
+  header.insert(header.end(), ratings.begin(), ratings.end());
   std::string out = join_row(header);
   auto opt = [](const std::optional<double>& v) { return v ? exact(*v) : std::string(); };
   for (const auto& d : records) {
+    const Family own = devices::is_jfet(d.kind) ? Family::jfet : Family::bjt;
     std::vector<std::string> f = {d.name, std::string(devices::kind_name(d.kind))};
-    if (devices::is_jfet(d.kind)) {
-      const auto& j = d.jfet;
-      for (auto s : {exact(j.idss_a.min), exact(j.idss_a.max), opt(j.idss_a.typ), exact(j.vp_v.min), exact(j.vp_v.max),
-                     opt(j.vp_v.typ), exact(j.lambda_per_v), exact(j.cgs_f), exact(j.cgd_f), exact(j.tc_idss_per_k),
-                     exact(j.tc_vp_v_per_k)})
-        f.push_back(s);
-      f.insert(f.end(), std::size(kBjtColumns), std::string());
-    } else {
-      const auto& b = d.bjt;
-      f.insert(f.end(), std::size(kJfetColumns), std::string());
-      for (auto s : {exact(b.hfe.min), exact(b.hfe.max), opt(b.hfe.typ), exact(b.is_a), exact(b.vaf_v), exact(b.cje_f),
-                     exact(b.cjc_f), exact(b.vce_sat_v)})
-        f.push_back(s);
-    }
+    for (Family family : {Family::jfet, Family::bjt})
+      for (const DeviceColumn& c : device_columns())
+        if (c.family == family) f.push_back(family == own ? opt(c.get(d)) : std::string());
     f.push_back(d.note);
-    for (const auto& v : {d.ratings.v_max_v, d.ratings.v_rev_max_v, d.ratings.p_max_w, d.ratings.derate_w_per_k})
-      f.push_back(opt(v));
+    for (const DeviceColumn& c : device_columns())
+      if (c.family == Family::rating) f.push_back(opt(c.get(d)));
     out += join_row(f);
   }
   return out;

@@ -61,9 +61,36 @@ constexpr const char* kPartColumns =
     "id, kind, value, device, tol_minus, tol_plus, power_w, volts, dielectric, package, qty, reserved, bin, "
     "note, removed";
 
-constexpr const char* kDeviceColumns =
-    "name, kind, idss_min, idss_max, idss_typ, vp_min, vp_max, vp_typ, lambda, cgs, cgd, tc_idss, tc_vp, "
-    "hfe_min, hfe_max, hfe_typ, is_a, vaf, cje, cjc, vce_sat, note, v_max, v_rev_max, p_max, p_derate";
+using Family = DeviceColumn::Family;
+
+/// A figure's column in the devices table: its name in a device file (store::device_columns),
+/// but for `is`, an SQL keyword, which is is_a.
+std::string_view sql_column(const DeviceColumn& c) { return c.name == "is" ? "is_a" : c.name; }
+
+/// The devices table's columns after name and kind, in the order SELECT and INSERT list them:
+/// the JFET and BJT figures, the note (nullptr), the ratings.
+const std::vector<const DeviceColumn*>& device_table_columns() {
+  static const std::vector<const DeviceColumn*> order = [] {
+    std::vector<const DeviceColumn*> out;
+    for (Family f : {Family::jfet, Family::bjt, Family::rating}) {
+      if (f == Family::rating) out.push_back(nullptr);
+      for (const DeviceColumn& c : device_columns())
+        if (c.family == f) out.push_back(&c);
+    }
+    return out;
+  }();
+  return order;
+}
+
+/// "name, kind, idss_min, ..., note, v_max, ...": the devices table's columns.
+const std::string& device_column_list() {
+  static const std::string list = [] {
+    std::string out = "name, kind";
+    for (const DeviceColumn* c : device_table_columns()) out += fmt::format(", {}", c ? sql_column(*c) : "note");
+    return out;
+  }();
+  return list;
+}
 
 constexpr const char* kPieceColumns = "label, device, idss, vp, hfe, uncertainty, note";
 
@@ -117,29 +144,16 @@ devices::DeviceRecord read_device(const Statement& st) {
   const std::string kind = st.text(1);
   if (!devices::parse_kind(kind, d.kind))
     throw DatabaseError(fmt::format("device '{}': unknown kind '{}'", d.name, kind));
-  if (devices::is_jfet(d.kind)) {
-    auto& j = d.jfet;
-    j.idss_a = {st.real(2), st.real(3), st.opt_real(4)};
-    j.vp_v = {st.real(5), st.real(6), st.opt_real(7)};
-    j.lambda_per_v = st.real(8);
-    j.cgs_f = st.real(9);
-    j.cgd_f = st.real(10);
-    j.tc_idss_per_k = st.opt_real(11).value_or(j.tc_idss_per_k);
-    j.tc_vp_v_per_k = st.opt_real(12).value_or(j.tc_vp_v_per_k);
-  } else {
-    auto& b = d.bjt;
-    b.hfe = {st.real(13), st.real(14), st.opt_real(15)};
-    b.is_a = st.opt_real(16).value_or(b.is_a);
-    b.vaf_v = st.opt_real(17).value_or(b.vaf_v);
-    b.cje_f = st.real(18);
-    b.cjc_f = st.real(19);
-    b.vce_sat_v = st.opt_real(20).value_or(b.vce_sat_v);
+  // The other family's figures are NULL; an optional figure left NULL keeps the record's default.
+  const Family other = devices::is_jfet(d.kind) ? Family::bjt : Family::jfet;
+  int col = 2;
+  for (const DeviceColumn* c : device_table_columns()) {
+    if (c == nullptr)
+      d.note = st.text(col);
+    else if (c->family != other)
+      if (const auto v = st.opt_real(col)) c->set(d, *v);
+    ++col;
   }
-  d.note = st.text(21);
-  d.ratings.v_max_v = st.opt_real(22);
-  d.ratings.v_rev_max_v = st.opt_real(23);
-  d.ratings.p_max_w = st.opt_real(24);
-  d.ratings.derate_w_per_k = st.opt_real(25);
   return d;
 }
 
@@ -157,7 +171,7 @@ devices::MeasuredPiece read_piece(const Statement& st) {
 
 /// A device on the list (not a removed one) by name, without regard to case.
 std::optional<devices::DeviceRecord> find_device(const Connection& conn, std::string_view name) {
-  auto st = conn.cached(fmt::format("SELECT {} FROM devices WHERE name = ? AND removed = 0", kDeviceColumns));
+  auto st = conn.cached(fmt::format("SELECT {} FROM devices WHERE name = ? AND removed = 0", device_column_list()));
   st->bind(1, name);
   if (!st->step()) return std::nullopt;
   return read_device(*st);
@@ -658,7 +672,7 @@ void Database::remove_part(std::int64_t part_id, std::string_view reason) {
 
 std::vector<devices::DeviceRecord> Database::device_records() const {
   std::vector<devices::DeviceRecord> out;
-  auto st = impl_->conn.prepare(fmt::format("SELECT {} FROM devices WHERE removed = 0 ORDER BY name", kDeviceColumns));
+  auto st = impl_->conn.prepare(fmt::format("SELECT {} FROM devices WHERE removed = 0 ORDER BY name", device_column_list()));
   while (st.step()) out.push_back(read_device(st));
   return out;
 }
@@ -685,32 +699,27 @@ void Database::put_devices(const std::vector<devices::DeviceRecord>& records) {
           throw InputError(fmt::format("device '{}': kind {} cannot become {} while {} stock lines or pieces use it",
                                        old->name, devices::kind_name(old->kind), devices::kind_name(d.kind), users));
       }
-      const bool jfet = devices::is_jfet(d.kind);
-      using OptD = std::optional<double>;
-      auto j = [&](double v) { return jfet ? OptD(v) : std::nullopt; };
-      auto b = [&](double v) { return jfet ? std::nullopt : OptD(v); };
-      const auto& jp = d.jfet;
-      const auto& bp = d.bjt;
-      conn.prepare(fmt::format(
-                       "INSERT INTO devices ({}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, "
-                       "?, ?, ?, ?, ?, ?) ON CONFLICT(name) DO UPDATE SET kind = excluded.kind, idss_min = excluded.idss_min, "
-                       "idss_max = excluded.idss_max, idss_typ = excluded.idss_typ, vp_min = excluded.vp_min, "
-                       "vp_max = excluded.vp_max, vp_typ = excluded.vp_typ, lambda = excluded.lambda, "
-                       "cgs = excluded.cgs, cgd = excluded.cgd, tc_idss = excluded.tc_idss, tc_vp = excluded.tc_vp, "
-                       "hfe_min = excluded.hfe_min, hfe_max = excluded.hfe_max, hfe_typ = excluded.hfe_typ, "
-                       "is_a = excluded.is_a, vaf = excluded.vaf, cje = excluded.cje, cjc = excluded.cjc, "
-                       "vce_sat = excluded.vce_sat, note = excluded.note, v_max = excluded.v_max, "
-                       "v_rev_max = excluded.v_rev_max, p_max = excluded.p_max, p_derate = excluded.p_derate, "
-                       "removed = 0",
-                       kDeviceColumns))
-          .bind_all(d.name, std::string(devices::kind_name(d.kind)), j(jp.idss_a.min), j(jp.idss_a.max),
-                    jfet ? jp.idss_a.typ : std::nullopt, j(jp.vp_v.min), j(jp.vp_v.max),
-                    jfet ? jp.vp_v.typ : std::nullopt, j(jp.lambda_per_v), j(jp.cgs_f), j(jp.cgd_f),
-                    j(jp.tc_idss_per_k), j(jp.tc_vp_v_per_k), b(bp.hfe.min), b(bp.hfe.max),
-                    jfet ? std::nullopt : bp.hfe.typ, b(bp.is_a), b(bp.vaf_v), b(bp.cje_f), b(bp.cjc_f),
-                    b(bp.vce_sat_v), trimmed(d.note), d.ratings.v_max_v, d.ratings.v_rev_max_v, d.ratings.p_max_w,
-                    d.ratings.derate_w_per_k)
-          .run();
+      std::string values = "?, ?", updates = "kind = excluded.kind";
+      for (const DeviceColumn* c : device_table_columns()) {
+        const std::string_view name = c ? sql_column(*c) : "note";
+        values += ", ?";
+        updates += fmt::format(", {0} = excluded.{0}", name);
+      }
+      auto insert = conn.prepare(fmt::format("INSERT INTO devices ({}) VALUES ({}) ON CONFLICT(name) DO UPDATE SET {}, "
+                                             "removed = 0",
+                                             device_column_list(), values, updates));
+      insert.bind(1, d.name).bind(2, devices::kind_name(d.kind));
+      // The other family's figures are stored as NULL.
+      const Family other = devices::is_jfet(d.kind) ? Family::bjt : Family::jfet;
+      int index = 3;
+      for (const DeviceColumn* c : device_table_columns()) {
+        if (c == nullptr)
+          insert.bind(index, trimmed(d.note));
+        else
+          insert.bind(index, c->family == other ? std::nullopt : c->get(d));
+        ++index;
+      }
+      insert.run();
     }
   });
 }

@@ -1,4 +1,5 @@
-// Stock line basics: kind codes, field checks, the short description used in the ledger.
+// Stock line basics: kind codes, field checks, the short description used in the ledger, and
+// the one table of a transistor type's figure columns.
 #include "shelfstage/store/part.hpp"
 
 #include <fmt/format.h>
@@ -172,6 +173,54 @@ void check_at_least(std::vector<std::string>& out, const std::string& who, std::
 }
 
 }  // namespace
+
+namespace {
+
+using Column = DeviceColumn;
+using devices::DeviceRecord;
+using F = DeviceColumn::Family;
+using Form = DeviceColumn::Form;
+using units::Unit;
+
+// A column whose figure `at` reaches in a record (a plain number or an optional one), as
+// the record is read (const) and written.
+template <class At>
+constexpr Column column(std::string_view name, F family, Unit unit, Form form, At) {
+  return {name, family, unit, form, [](const DeviceRecord& d) -> std::optional<double> { return At{}(d); },
+          [](DeviceRecord& d, double v) { At{}(d) = v; }};
+}
+
+const Column kDeviceColumns[] = {
+    column("idss_min", F::jfet, Unit::ampere, Form::required, [](auto& d) -> auto& { return d.jfet.idss_a.min; }),
+    column("idss_max", F::jfet, Unit::ampere, Form::required, [](auto& d) -> auto& { return d.jfet.idss_a.max; }),
+    column("idss_typ", F::jfet, Unit::ampere, Form::typical, [](auto& d) -> auto& { return d.jfet.idss_a.typ; }),
+    column("vp_min", F::jfet, Unit::volt, Form::required, [](auto& d) -> auto& { return d.jfet.vp_v.min; }),
+    column("vp_max", F::jfet, Unit::volt, Form::required, [](auto& d) -> auto& { return d.jfet.vp_v.max; }),
+    column("vp_typ", F::jfet, Unit::volt, Form::typical, [](auto& d) -> auto& { return d.jfet.vp_v.typ; }),
+    column("lambda", F::jfet, Unit::none, Form::defaulted, [](auto& d) -> auto& { return d.jfet.lambda_per_v; }),
+    column("cgs", F::jfet, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.jfet.cgs_f; }),
+    column("cgd", F::jfet, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.jfet.cgd_f; }),
+    column("tc_idss", F::jfet, Unit::none, Form::tempco, [](auto& d) -> auto& { return d.jfet.tc_idss_per_k; }),
+    column("tc_vp", F::jfet, Unit::volt, Form::tempco, [](auto& d) -> auto& { return d.jfet.tc_vp_v_per_k; }),
+    column("hfe_min", F::bjt, Unit::none, Form::required, [](auto& d) -> auto& { return d.bjt.hfe.min; }),
+    column("hfe_max", F::bjt, Unit::none, Form::required, [](auto& d) -> auto& { return d.bjt.hfe.max; }),
+    column("hfe_typ", F::bjt, Unit::none, Form::typical, [](auto& d) -> auto& { return d.bjt.hfe.typ; }),
+    column("is", F::bjt, Unit::ampere, Form::defaulted, [](auto& d) -> auto& { return d.bjt.is_a; }),
+    column("vaf", F::bjt, Unit::volt, Form::defaulted, [](auto& d) -> auto& { return d.bjt.vaf_v; }),
+    column("cje", F::bjt, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.bjt.cje_f; }),
+    column("cjc", F::bjt, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.bjt.cjc_f; }),
+    column("vce_sat", F::bjt, Unit::volt, Form::defaulted, [](auto& d) -> auto& { return d.bjt.vce_sat_v; }),
+    // Maximum ratings, magnitudes: VDS or VCEO, gate-source reverse or VEBO, dissipation at
+    // 25 °C and its derating in W/K.
+    column("v_max", F::rating, Unit::volt, Form::rating, [](auto& d) -> auto& { return d.ratings.v_max_v; }),
+    column("v_rev_max", F::rating, Unit::volt, Form::rating, [](auto& d) -> auto& { return d.ratings.v_rev_max_v; }),
+    column("p_max", F::rating, Unit::watt, Form::rating, [](auto& d) -> auto& { return d.ratings.p_max_w; }),
+    column("p_derate", F::rating, Unit::none, Form::rating, [](auto& d) -> auto& { return d.ratings.derate_w_per_k; }),
+};
+
+}  // namespace
+
+std::span<const DeviceColumn> device_columns() { return kDeviceColumns; }
 
 std::vector<std::string> device_problems(const devices::DeviceRecord& d) {
   std::vector<std::string> out;

@@ -172,117 +172,141 @@ std::string_view prefix_symbol(int exponent) {
 
 }  // namespace
 
-double parse_value(std::string_view text, Unit expect) {
-  constexpr std::string_view what = "value";
-  std::size_t pos = 0;
-  detail::skip_space(text, pos);
-  if (pos == text.size()) fail(what, text, 0, "empty");
-  const std::size_t start = pos;
+namespace {
 
+constexpr std::string_view kWhat = "value";
+
+// What parse_value has read of a value so far.
+struct Reading {
   bool negative = false;
-  if (!match(text, pos, "+")) negative = detail::match_minus(text, pos);
-  const std::size_t number_pos = pos;
-  detail::Decimal d = detail::scan_decimal(text, pos);
+  detail::Decimal d;
   long exponent = 0;
   std::optional<Unit> unit;  // the unit written, if any
-  std::size_t unit_pos = 0;
-
-  // The IEC 60062 code: a multiplier letter stands for the decimal point and digits follow it
-  // (4K7, R47, 2M2, 4n7, p68). Digits before the letter may be absent (R47), a point may not.
-  bool code = false;
-  if (!d.point) {
-    std::size_t p = pos;
-    int e = 0;
-    std::optional<Unit> marks;  // R and F stand for the point and name the unit too
-    if (match_ci(text, p, "r")) {
-      marks = Unit::ohm;
-    } else if (match(text, p, "F")) {
-      marks = Unit::farad;
-    } else if (!match_prefix(text, p, e, false)) {
-      p = pos;
-    }
-    if (p != pos && p < text.size() && detail::is_digit(text[p])) {
-      code = true;
-      if (marks) {
-        unit = marks;
-        unit_pos = pos;
-      }
-      exponent = e;
-      pos = p;
-      while (pos < text.size() && detail::is_digit(text[pos])) d.frac_digits += text[pos++];
-    }
-  }
-
+  std::size_t unit_pos = 0;  // where it is written
+  bool code = false;         // an IEC 60062 code
   bool prefix_given = false;
-  if (!code) {
-    if (!d.has_digits()) {
-      const std::string_view c = detail::char_at(text, number_pos);
-      fail_at(what, text, number_pos,
-              c.empty() ? std::string("expected a number") : fmt::format("expected a number, found '{}'", quoted(c)));
-    }
-    detail::scan_exponent(text, pos, exponent);
-    std::size_t p = pos;
-    detail::skip_space(text, p);
-    int e = 0;
-    if (match_prefix(text, p, e)) {
-      exponent += e;
-      prefix_given = true;
-      pos = p;
-    }
-  }
+  bool unit_given = false;
+};
 
-  // The unit, then nothing but white space.
+// The IEC 60062 code: a multiplier letter stands for the decimal point and digits follow it
+// (4K7, R47, 2M2, 4n7, p68). Digits before the letter may be absent (R47), a point may not.
+void read_code(std::string_view text, std::size_t& pos, Reading& r) {
+  if (r.d.point) return;
+  std::size_t p = pos;
+  int e = 0;
+  std::optional<Unit> marks;  // R and F stand for the point and name the unit too
+  if (match_ci(text, p, "r")) {
+    marks = Unit::ohm;
+  } else if (match(text, p, "F")) {
+    marks = Unit::farad;
+  } else if (!match_prefix(text, p, e, false)) {
+    p = pos;
+  }
+  if (p == pos || p >= text.size() || !detail::is_digit(text[p])) return;
+  r.code = true;
+  if (marks) {
+    r.unit = marks;
+    r.unit_pos = pos;
+  }
+  r.exponent = e;
+  pos = p;
+  while (pos < text.size() && detail::is_digit(text[pos])) r.d.frac_digits += text[pos++];
+}
+
+// A plain number's exponent and multiplier (not after a code).
+void read_multiplier(std::string_view text, std::size_t& pos, std::size_t number_pos, Reading& r) {
+  if (!r.d.has_digits()) {
+    const std::string_view c = detail::char_at(text, number_pos);
+    fail_at(kWhat, text, number_pos,
+            c.empty() ? std::string("expected a number") : fmt::format("expected a number, found '{}'", quoted(c)));
+  }
+  detail::scan_exponent(text, pos, r.exponent);
+  std::size_t p = pos;
+  detail::skip_space(text, p);
+  int e = 0;
+  if (match_prefix(text, p, e)) {
+    r.exponent += e;
+    r.prefix_given = true;
+    pos = p;
+  }
+}
+
+// The unit, if one is written; it must agree with a code letter that names one.
+void read_unit(std::string_view text, std::size_t& pos, Reading& r) {
   std::size_t p = pos;
   detail::skip_space(text, p);
   Unit written = Unit::none;
   const std::size_t written_pos = p;
-  bool unit_given = false;
-  if (match_unit(text, p, written)) {
-    unit_given = true;
-    pos = p;
-    if (unit && *unit != written) {
-      fail_at(what, text, written_pos,
-              fmt::format("unit '{}' after the code letter '{}', which marks {}",
-                          quoted(text.substr(written_pos, p - written_pos)), text[unit_pos], unit_noun(*unit)));
-    }
-    if (!unit) {
-      unit = written;
-      unit_pos = written_pos;
-    }
+  if (!match_unit(text, p, written)) return;
+  r.unit_given = true;
+  pos = p;
+  if (r.unit && *r.unit != written) {
+    fail_at(kWhat, text, written_pos,
+            fmt::format("unit '{}' after the code letter '{}', which marks {}",
+                        quoted(text.substr(written_pos, p - written_pos)), text[r.unit_pos], unit_noun(*r.unit)));
   }
-  detail::skip_space(text, pos);
-  if (pos != text.size()) {
-    const std::string_view c = detail::char_at(text, pos);
-    std::size_t q = pos;
-    int e = 0;
-    if (match_prefix(text, q, e)) {
-      fail_at(what, text, pos, fmt::format("second multiplier '{}' (a value takes one)", quoted(c)));
-    } else if (c == ",") {
-      fail_at(what, text, pos, "unexpected ',' (write the decimal point as '.')");
-    } else if (is_letter(c) && !unit_given && !prefix_given && !code) {
-      fail_at(what, text, pos, fmt::format("unknown multiplier '{}'", quoted(c)));
-    } else if (is_letter(c) && !unit_given) {
-      fail_at(what, text, pos, fmt::format("unknown unit '{}'", quoted(c)));
-    } else {
-      fail_at(what, text, pos, fmt::format("unexpected '{}'", quoted(c)));
-    }
+  if (!r.unit) {
+    r.unit = written;
+    r.unit_pos = written_pos;
   }
-  if (expect != Unit::none && unit && *unit != expect) {
-    // The unit as written: a word such as "ohm" or "Hz", or the one letter R of a code.
-    std::size_t word_end = unit_pos;
-    Unit ignored = Unit::none;
-    if (!match_unit(text, word_end, ignored)) word_end = unit_pos + 1;
-    fail_at(what, text, unit_pos,
-            fmt::format("unit '{}' where {} are expected", quoted(text.substr(unit_pos, word_end - unit_pos)),
-                        unit_noun(expect)));
-  }
+}
 
-  const std::optional<double> value = detail::to_double(negative, d, exponent);
-  const bool zero = d.int_digits.find_first_not_of('0') == std::string::npos &&
-                    d.frac_digits.find_first_not_of('0') == std::string::npos;
+// Nothing but white space may follow: else the error that names what is there.
+void refuse_trailing(std::string_view text, std::size_t pos, const Reading& r) {
+  detail::skip_space(text, pos);
+  if (pos == text.size()) return;
+  const std::string_view c = detail::char_at(text, pos);
+  std::size_t q = pos;
+  int e = 0;
+  if (match_prefix(text, q, e)) {
+    fail_at(kWhat, text, pos, fmt::format("second multiplier '{}' (a value takes one)", quoted(c)));
+  } else if (c == ",") {
+    fail_at(kWhat, text, pos, "unexpected ',' (write the decimal point as '.')");
+  } else if (is_letter(c) && !r.unit_given && !r.prefix_given && !r.code) {
+    fail_at(kWhat, text, pos, fmt::format("unknown multiplier '{}'", quoted(c)));
+  } else if (is_letter(c) && !r.unit_given) {
+    fail_at(kWhat, text, pos, fmt::format("unknown unit '{}'", quoted(c)));
+  } else {
+    fail_at(kWhat, text, pos, fmt::format("unexpected '{}'", quoted(c)));
+  }
+}
+
+// The unit written must be the one expected (none expected: any).
+void check_unit(std::string_view text, Unit expect, const Reading& r) {
+  if (expect == Unit::none || !r.unit || *r.unit == expect) return;
+  // The unit as written: a word such as "ohm" or "Hz", or the one letter R of a code.
+  std::size_t word_end = r.unit_pos;
+  Unit ignored = Unit::none;
+  if (!match_unit(text, word_end, ignored)) word_end = r.unit_pos + 1;
+  fail_at(kWhat, text, r.unit_pos,
+          fmt::format("unit '{}' where {} are expected", quoted(text.substr(r.unit_pos, word_end - r.unit_pos)),
+                      unit_noun(expect)));
+}
+
+}  // namespace
+
+double parse_value(std::string_view text, Unit expect) {
+  std::size_t pos = 0;
+  detail::skip_space(text, pos);
+  if (pos == text.size()) fail(kWhat, text, 0, "empty");
+  const std::size_t start = pos;
+
+  Reading r;
+  if (!match(text, pos, "+")) r.negative = detail::match_minus(text, pos);
+  const std::size_t number_pos = pos;
+  r.d = detail::scan_decimal(text, pos);
+  read_code(text, pos, r);
+  if (!r.code) read_multiplier(text, pos, number_pos, r);
+  read_unit(text, pos, r);
+  refuse_trailing(text, pos, r);
+  check_unit(text, expect, r);
+
+  const std::optional<double> value = detail::to_double(r.negative, r.d, r.exponent);
+  const bool zero = r.d.int_digits.find_first_not_of('0') == std::string::npos &&
+                    r.d.frac_digits.find_first_not_of('0') == std::string::npos;
   if (zero) return 0.0;  // "-0" is zero, not a signed zero
   if (!value || std::fabs(*value) < detail::min_magnitude || std::fabs(*value) > detail::max_magnitude) {
-    fail(what, text, start, "out of range (the magnitude must lie between 1e-24 and 1e24)");
+    fail(kWhat, text, start, "out of range (the magnitude must lie between 1e-24 and 1e24)");
   }
   return *value;
 }

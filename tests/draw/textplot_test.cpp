@@ -9,17 +9,13 @@
 #include <sstream>
 
 #include "shelfstage/error.hpp"
+#include "support/lines.hpp"
 
 using namespace shelfstage::draw;
 
 namespace {
 
-std::vector<std::string> lines_of(const std::string& s) {
-  std::vector<std::string> v;
-  std::istringstream in(s);
-  for (std::string l; std::getline(in, l);) v.push_back(l);
-  return v;
-}
+using shelfstage::test::lines_of;
 
 /// Code points of a UTF-8 line (every glyph of the plot is one cell).
 std::vector<std::string> cells(const std::string& line) {

@@ -165,16 +165,7 @@ TEST_CASE("html_report: every topology, N and P, renders whole in Chromium") {
 
 TEST_CASE("html_report: a chain renders whole, the chain first and then each stage as built in it") {
   const auto inv = test::demo_inventory();
-  // A heavy load at a gain one stage cannot hold: a gain stage, then a follower.
-  synth::Spec spec;
-  spec.gain = 5;
-  spec.load_ohm = 150;
-  spec.supply_lo_v = spec.supply_hi_v = 12;
-  spec.zin_min_ohm = 100e3;
-  spec.band_hz = std::pair{20.0, 20e3};
-  spec.swing_vpp = 1.0;
-  spec.top = 1;
-  spec.mc_samples = 100;
+  const synth::Spec spec = test::chain_request();
   const auto r = synth::design(spec, inv);
   REQUIRE_FALSE(r.candidates.empty());
   report::ReportInput in;

@@ -73,6 +73,21 @@ inline synth::Spec request(const std::string& topology, const std::string& devic
   return s;
 }
 
+/// A request one stage cannot meet, a gain of 5 into a heavy load (150 Ω): the best design is
+/// a chain, a gain stage and then a follower.
+inline synth::Spec chain_request() {
+  synth::Spec spec;
+  spec.gain = 5;
+  spec.load_ohm = 150;
+  spec.supply_lo_v = spec.supply_hi_v = 12;
+  spec.zin_min_ohm = 100e3;
+  spec.band_hz = std::pair{20.0, 20e3};
+  spec.swing_vpp = 1.0;
+  spec.top = 1;
+  spec.mc_samples = 100;
+  return spec;
+}
+
 /// The best candidate for the request, evaluated as `show` and `report` evaluate it; throws
 /// when nothing fits (the test then fails with the diagnosis).
 inline synth::Candidate design_one(const synth::Spec& spec, const synth::Inventory& inv) {

@@ -7,6 +7,8 @@
 #include <stdexcept>
 #include <vector>
 
+#include "support/lines.hpp"
+
 using namespace shelfstage::report;
 
 namespace {
@@ -17,12 +19,7 @@ TableLayout no_rule() {
   return layout;
 }
 
-std::vector<std::string> lines_of(const std::string& text) {
-  std::vector<std::string> lines;
-  std::istringstream in(text);
-  for (std::string line; std::getline(in, line);) lines.push_back(line);
-  return lines;
-}
+using shelfstage::test::lines_of;
 
 }  // namespace
 

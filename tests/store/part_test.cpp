@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <set>
 
 #include "shelfstage/store/part.hpp"
 
@@ -260,4 +261,50 @@ TEST_CASE("describe: kind, value in SI notation, tolerance, ratings, bin") {
   q.device = "SQ-410";
   q.bin = "T1";
   CHECK(store::describe(q) == "NPN SQ-410 bin T1");
+}
+
+TEST_CASE("device_columns: each figure once, in its SI unit, read and written at its own place in the record") {
+  using store::DeviceColumn;
+  const auto cols = store::device_columns();
+  std::set<std::string_view> names;
+  for (const DeviceColumn& c : cols) CHECK(names.insert(c.name).second);
+  // The families in order: the JFET figures, the BJT figures, the maximum ratings.
+  CHECK(std::is_sorted(cols.begin(), cols.end(),
+                       [](const DeviceColumn& a, const DeviceColumn& b) { return a.family < b.family; }));
+  // The SI units a datasheet states them in (IEC 60747: IDSS a current, VGS(off) a voltage,
+  // Ciss a capacitance; hFE a plain ratio; PD a power).
+  auto unit_of = [&](std::string_view name) {
+    for (const DeviceColumn& c : cols)
+      if (c.name == name) return c.unit;
+    FAIL("no column ", std::string(name));
+    return units::Unit::none;
+  };
+  CHECK(unit_of("idss_min") == units::Unit::ampere);
+  CHECK(unit_of("vp_typ") == units::Unit::volt);
+  CHECK(unit_of("cgd") == units::Unit::farad);
+  CHECK(unit_of("hfe_max") == units::Unit::none);
+  CHECK(unit_of("vce_sat") == units::Unit::volt);
+  CHECK(unit_of("p_max") == units::Unit::watt);
+  // Each column's setter reaches the figure its getter reads, and no other column's.
+  for (std::size_t i = 0; i < cols.size(); ++i) {
+    INFO(cols[i].name);
+    devices::DeviceRecord d;
+    std::vector<std::optional<double>> before;
+    for (const DeviceColumn& c : cols) before.push_back(c.get(d));
+    cols[i].set(d, 1234.5);
+    for (std::size_t k = 0; k < cols.size(); ++k) {
+      INFO(cols[k].name);
+      if (k == i)
+        CHECK(cols[k].get(d) == std::optional<double>(1234.5));
+      else
+        CHECK(cols[k].get(d) == before[k]);
+    }
+  }
+  // Optional figures read empty on a record that does not give them; the others have values.
+  const devices::DeviceRecord blank;
+  for (const DeviceColumn& c : cols) {
+    INFO(c.name);
+    const bool optional = c.form == DeviceColumn::Form::typical || c.form == DeviceColumn::Form::rating;
+    CHECK(c.get(blank).has_value() == !optional);
+  }
 }

@@ -98,7 +98,8 @@ struct Cloud {
   double opacity = 0.6;
 };
 
-/// A plot. Draw order: spans, regions, envelopes, grid, series, clouds, legend.
+/// A plot. Draw order: title and paper, grid; then, clipped to the plot area, spans, regions,
+/// envelopes, series, clouds; then the frame with its ticks and axis titles, the legend, the notes.
 struct Plot {
   std::string id{};          ///< prefix for element ids (clip path), unique in the page
   std::string title{};       ///< above the plot; also the accessible label

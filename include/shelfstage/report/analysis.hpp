@@ -129,13 +129,13 @@ std::string parts_text(const Analysis& a);
 /// The closed form at the device's corner pieces (empty when no spread was given).
 std::string corners_text(const Analysis& a);
 
-/// The stage's test bench as a SPICE netlist for ngspice, with a .control block that prints
-/// the operating point and the supply current, sweeps 0.1 Hz .. 1 GHz and measures the
-/// mid-band gain (dB) and the -3 dB corners (f_low, f_high).
 /// The .control block the exported netlists end with: the operating point (print_nodes: the
 /// " v(x) v(y)" to print), the supply current, the mid-band gain and the -3 dB corners.
 std::vector<std::string> spice_run_lines(const std::string& print_nodes);
 
+/// The stage's test bench as a SPICE netlist for ngspice, with a .control block that prints
+/// the operating point and the supply current, sweeps 0.1 Hz .. 1 GHz and measures the
+/// mid-band gain (dB) and the -3 dB corners (f_low, f_high).
 std::string stage_spice(const StageUnderTest& stage);
 
 }  // namespace shelfstage::report

@@ -2,6 +2,8 @@
 // (only ever added to); and back again, so a kept design can be shown, picked and built.
 #pragma once
 #include <nlohmann/json.hpp>
+#include <optional>
+#include <string>
 #include <vector>
 
 #include "shelfstage/synth/design.hpp"
@@ -9,6 +11,11 @@
 namespace shelfstage::report {
 
 using Json = nlohmann::ordered_json;
+
+/// A text as JSON, null when it is empty (a field not known or not given).
+Json text_or_null(const std::string& s);
+/// A number as JSON, null when it is not given.
+Json number_or_null(const std::optional<double>& v);
 
 /// The request in SI: gain, load, load_cap, supply (number or [low, high]), rail, spread,
 /// zin, source_z, band, swing, max_distortion, prefer, max_current, copies, temp,

@@ -7,8 +7,8 @@
 
 namespace shelfstage::report {
 
-/// "gain 10 (20 dB) into 10kΩ from 1kΩ, +12V rail, ground at the battery's - terminal,
-/// Zin ≥ 100kΩ, band 20 Hz..20 kHz, swing 2 Vpp, 1 copy, correlated spread (...)"
+/// "gain 10.0 (20.0 dB) into 10kΩ from 1kΩ, +12V rail, ground at the battery's - terminal,
+/// Zin ≥ 100kΩ, band 20Hz..20kHz, swing 2 Vpp, THD ≤ 1 %, 1 copy, correlated spread (...)"
 std::string spec_line(const synth::Spec& spec);
 /// The supply as the user wired it: "+9V rail, ground at the battery's - terminal",
 /// "-7..-9.6V rail, ground at the battery's + terminal".
@@ -33,7 +33,8 @@ std::string diagnosis_text(const synth::DesignResult& r);
 /// An upper -3 dB corner for a table: ">1GHz" beyond the models' validity, else the value.
 std::string upper_corner(double f_hz);
 
-/// "1.2mA", "-10.0", ... helpers used by the tables.
+/// Three significant figures in plain decimals, for gains: "10.0", "-2.35", "0.998"; a
+/// figure of four or more digits keeps them all ("4568").
 std::string fixed3(double v);
 
 }  // namespace shelfstage::report

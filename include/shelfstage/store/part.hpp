@@ -1,13 +1,16 @@
-// Plain data of the stock: a part on the shelf and a ledger line. No SQLite here, so the
-// synthesizer can take a snapshot of the stock without depending on the database.
+// Plain data of the stock: a part on the shelf, the figure columns of a transistor type, and
+// a ledger line; the checks of each. No SQLite here, so the synthesizer can take a snapshot
+// of the stock without depending on the database.
 #pragma once
 #include <cstdint>
 #include <optional>
+#include <span>
 #include <string>
 #include <string_view>
 #include <vector>
 
 #include "shelfstage/devices/record.hpp"
+#include "shelfstage/units/notation.hpp"
 #include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::store {
@@ -61,6 +64,27 @@ std::vector<std::string> part_problems(const Part& part);
 /// inside their range; lambda, cgs, cgd >= 0. BJT: 0 < hfe_min <= hfe_max; is, vaf > 0;
 /// cje, cjc, vce_sat >= 0. Every figure finite; the name not empty.
 std::vector<std::string> device_problems(const devices::DeviceRecord& device);
+
+/// One figure of a transistor type: its column in a device file and its key in a type's JSON
+/// (docs/interface.md), the one list both are written from.
+struct DeviceColumn {
+  enum class Family { jfet, bjt, rating };
+  /// How a file gives it: required; optional with the record's default; an optional typical
+  /// value; a temperature coefficient (a number or a percentage, "/K" allowed); a maximum
+  /// rating (optional, kept as a magnitude).
+  enum class Form { required, defaulted, typical, tempco, rating };
+  std::string_view name;  ///< "idss_min"
+  Family family;
+  units::Unit unit;
+  Form form;
+  /// The record's figure; empty for an optional one not given.
+  std::optional<double> (*get)(const devices::DeviceRecord&);
+  void (*set)(devices::DeviceRecord&, double);
+};
+
+/// Every figure column in the order files and JSON list them: the JFET figures, the BJT
+/// figures, the maximum ratings.
+std::span<const DeviceColumn> device_columns();
 
 /// Checks a measured piece against its device's kind: a label; uncertainty in [0, 1);
 /// JFET pieces carry idss (> 0) and/or vp (signed as the channel type) and no hfe; BJT
