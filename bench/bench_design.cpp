@@ -54,7 +54,8 @@ class StockMaker {
   // Capacitors of a working drawer: E6 film 1n..1u, electrolytics 1u..1000u at three ratings.
   void capacitors() {
     for (double dec = 1e-9; dec <= 1e-7 * 1.01; dec *= 10)
-      for (double m : units::eseries(6)) add(store::PartKind::capacitor, m * dec, {0.1, 0.1}, {}, 63, "film", qty(2, 30));
+      for (double m : units::eseries(6))
+        add(store::PartKind::capacitor, m * dec, {0.1, 0.1}, {}, 63, "film", qty(2, 30));
     for (double dec = 1e-6; dec <= 1e-4 * 1.01; dec *= 10)
       for (double m : units::eseries(6))
         for (double v : {16.0, 35.0, 63.0})

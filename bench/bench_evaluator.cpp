@@ -76,13 +76,25 @@ Bench make(std::string_view name, std::initializer_list<std::pair<std::string_vi
 
 std::vector<Bench> benches() {
   return {
-      make("jfet-cs-self", {{"RG", 1e6}, {"RD", 4.7e3}, {"RS1", 470}, {"RS2", 560}, {"CS", 100e-6}, {"CIN", 100e-9},
-                            {"COUT", 10e-6}}),
-      make("jfet-cs-divider", {{"R1", 3.3e6}, {"R2", 1e6}, {"RD", 4.7e3}, {"RS1", 1.5e3}, {"RS2", 2.4e3},
-                               {"CS", 100e-6}, {"CIN", 100e-9}, {"COUT", 10e-6}}),
+      make("jfet-cs-self",
+           {{"RG", 1e6}, {"RD", 4.7e3}, {"RS1", 470}, {"RS2", 560}, {"CS", 100e-6}, {"CIN", 100e-9}, {"COUT", 10e-6}}),
+      make("jfet-cs-divider", {{"R1", 3.3e6},
+                               {"R2", 1e6},
+                               {"RD", 4.7e3},
+                               {"RS1", 1.5e3},
+                               {"RS2", 2.4e3},
+                               {"CS", 100e-6},
+                               {"CIN", 100e-9},
+                               {"COUT", 10e-6}}),
       make("jfet-follower", {{"RG", 1e6}, {"RS", 1e3}, {"CIN", 100e-9}, {"COUT", 10e-6}}),
-      make("bjt-ce-divider", {{"R1", 47e3}, {"R2", 10e3}, {"RC", 4.7e3}, {"RE1", 220}, {"RE2", 820}, {"CE", 100e-6},
-                              {"CIN", 10e-6}, {"COUT", 10e-6}}),
+      make("bjt-ce-divider", {{"R1", 47e3},
+                              {"R2", 10e3},
+                              {"RC", 4.7e3},
+                              {"RE1", 220},
+                              {"RE2", 820},
+                              {"CE", 100e-6},
+                              {"CIN", 10e-6},
+                              {"COUT", 10e-6}}),
       make("bjt-follower", {{"R1", 22e3}, {"R2", 27e3}, {"RE", 2.2e3}, {"CIN", 10e-6}, {"COUT", 10e-6}}),
   };
 }
@@ -189,9 +201,10 @@ int main(int argc, char** argv) {
                    fmt::format("{:.1f}", exact_core / 1e3), fmt::format("{:.1f}", exact_full / 1e3), op_us, op_net,
                    ratio});
   }
-  fmt::print("Time per candidate: fast evaluator ({} and {} calls), exact MNA evaluation ({} and {}),\n"
-             "ngspice operating point ({} `op` in one ngspice -b process; 'w/o start' subtracts a run with none)\n\n",
-             kCore, kFull, kExactCore, kExactFull, kOps);
+  fmt::print(
+      "Time per candidate: fast evaluator ({} and {} calls), exact MNA evaluation ({} and {}),\n"
+      "ngspice operating point ({} `op` in one ngspice -b process; 'w/o start' subtracts a run with none)\n\n",
+      kCore, kFull, kExactCore, kExactFull, kOps);
   fmt::print("{}", table.render());
   return 0;
 }

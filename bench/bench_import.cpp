@@ -69,8 +69,8 @@ std::string generated_csv(int rows) {
       const double v = e12[static_cast<std::size_t>(k) % e12.size()] * std::pow(10.0, -9 + (k / 12) % 4);
       csv += "C," + units::format_value(v) + "," + std::to_string(1 + k % 30) + ",10%,,63,film," + bin + ",\n";
     } else {
-      csv += std::string(k % 20 == 9 ? "NJFET,SJ-101," : "NPN,SQ-410,") + std::to_string(1 + k % 10) + ",,,,," +
-             bin + ",\n";
+      csv += std::string(k % 20 == 9 ? "NJFET,SJ-101," : "NPN,SQ-410,") + std::to_string(1 + k % 10) + ",,,,," + bin +
+             ",\n";
     }
   }
   return csv;

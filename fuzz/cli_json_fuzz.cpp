@@ -1,10 +1,9 @@
-// libFuzzer target: any bytes as text a stock holds (bin, note, device name, ledger reason), through --json and CSV output and back.
-// The input's four NUL-separated fields are written into a scratch database twice over: through
-// the program (`stock add --bin ... --note ...`, which must take clean text and refuse any other
-// with exit 1, naming the option) and straight into the file, as a database written before text
-// was checked may hold them. Every listing must then succeed: its JSON must parse and give back
-// each text escaped (units::escape_text, the text itself when clean), and the CSV export must
-// import again. Anything else aborts (a find).
+// libFuzzer target: any bytes as text a stock holds (bin, note, device name, ledger reason), through --json and CSV
+// output and back. The input's four NUL-separated fields are written into a scratch database twice over: through the
+// program (`stock add --bin ... --note ...`, which must take clean text and refuse any other with exit 1, naming the
+// option) and straight into the file, as a database written before text was checked may hold them. Every listing must
+// then succeed: its JSON must parse and give back each text escaped (units::escape_text, the text itself when clean),
+// and the CSV export must import again. Anything else aborts (a find).
 #include <unistd.h>
 
 #include <nlohmann/json.hpp>
@@ -99,29 +98,34 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
   {
     auto raw = store::Database::open(db);
     auto& impl = raw.impl();
-    impl.conn.prepare("INSERT OR IGNORE INTO devices (name, kind, hfe_min, hfe_max, is_a, vaf, cje, cjc, vce_sat) "
-                      "VALUES (?, 'NPN', 100, 300, 1e-14, 80, 0, 0, 0.2)")
+    impl.conn
+        .prepare(
+            "INSERT OR IGNORE INTO devices (name, kind, hfe_min, hfe_max, is_a, vaf, cje, cjc, vce_sat) "
+            "VALUES (?, 'NPN', 100, 300, 1e-14, 80, 0, 0, 0.2)")
         .bind(1, device)
         .run();
     impl.conn.prepare("INSERT INTO parts (kind, value, bin, note) VALUES ('R', 2200, ?, ?)").bind_all(bin, note).run();
     const auto id = impl.conn.last_insert_rowid();
-    impl.conn.prepare("INSERT INTO ledger (at, part_id, part_desc, delta, reason) VALUES ('2026-01-01T00:00:00Z', ?, ?, 4, ?)")
+    impl.conn
+        .prepare(
+            "INSERT INTO ledger (at, part_id, part_desc, delta, reason) VALUES ('2026-01-01T00:00:00Z', ?, ?, 4, ?)")
         .bind_all(id, "R 2.2k bin " + bin, reason)
         .run();
   }
   const auto stock = listing({"--db", db, "--json", "stock", "list"});
   bool found = false;
   for (const auto& p : stock["parts"])
-    found = found || (p["value"] == 2200.0 && p["bin"] == units::escape_text(bin) && p["note"] == units::escape_text(note));
+    found =
+        found || (p["value"] == 2200.0 && p["bin"] == units::escape_text(bin) && p["note"] == units::escape_text(note));
   if (!found) bug();
   const auto ledger = listing({"--db", db, "--json", "ledger"});
   if (ledger["entries"].back()["reason"] != units::escape_text(reason)) bug();
   const auto devices = listing({"--db", db, "--json", "devices", "list"});
   (void)devices;
   // The tables for people: every line clean text (nothing that could drive a terminal).
-  for (const auto& table : {std::vector<std::string>{"--db", db, "stock", "list"},
-                            std::vector<std::string>{"--db", db, "ledger"},
-                            std::vector<std::string>{"--db", db, "devices", "list"}}) {
+  for (const auto& table :
+       {std::vector<std::string>{"--db", db, "stock", "list"}, std::vector<std::string>{"--db", db, "ledger"},
+        std::vector<std::string>{"--db", db, "devices", "list"}}) {
     const auto r = test::run_cli(table);
     if (r.status != 0) bug();
     std::string_view out = r.out;

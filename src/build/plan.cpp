@@ -22,7 +22,8 @@ char lower(char c) { return static_cast<char>(std::tolower(static_cast<unsigned 
 bool digit(char c) { return std::isdigit(static_cast<unsigned char>(c)) != 0; }
 
 bool iequal(std::string_view a, std::string_view b) {
-  return a.size() == b.size() && std::equal(a.begin(), a.end(), b.begin(), [](char x, char y) { return lower(x) == lower(y); });
+  return a.size() == b.size() &&
+         std::equal(a.begin(), a.end(), b.begin(), [](char x, char y) { return lower(x) == lower(y); });
 }
 
 double line_rating(const store::Part& p) {
@@ -67,7 +68,7 @@ struct Grant {
 /// One piece of one role, needed `copies` times.
 struct Need {
   std::string role;
-  std::string base;       // designator of the role, "Q1" for the transistor
+  std::string base;  // designator of the role, "Q1" for the transistor
   int piece = 0, piece_count = 1;
   store::PartKind kind = store::PartKind::resistor;
   double value = 0;
@@ -142,7 +143,7 @@ Piece piece_of(const Need& need, const std::vector<store::Part>& stock) {
 
 /// A stock line's piece as it states it.
 Piece piece_of(const store::Part& line) {
-  return {line.kind, store::is_passive(line.kind) ? line.value : 0.0, line.device, line.tol, line_rating(line),
+  return {line.kind,      store::is_passive(line.kind) ? line.value : 0.0, line.device, line.tol, line_rating(line),
           line.dielectric};
 }
 
@@ -283,8 +284,7 @@ int Plan::pieces() const {
 Plan plan_build(const synth::Candidate& c, int copies, const std::vector<store::Part>& stock,
                 const std::map<std::int64_t, int>& held) {
   if (copies < 1) throw InputError(fmt::format("copies {} must be at least 1", copies));
-  if (c.topology == nullptr && !c.is_chain())
-    throw InputError(fmt::format("design '{}' has no stage topology", c.id));
+  if (c.topology == nullptr && !c.is_chain()) throw InputError(fmt::format("design '{}' has no stage topology", c.id));
   Plan out;
   out.design_id = c.id;
   out.topology = c.topology_name();

@@ -51,7 +51,8 @@ Shopping plan_shopping(const synth::Candidate& kept, const synth::Spec& spec, in
   // When the kept design is short, the smallest purchase that makes the request buildable
   // may be another design: offer it when it buys fewer pieces.
   if (out.short_pieces > 0)
-    if (auto p = synth::smallest_purchase(request, inventory); p && p->pieces < out.short_pieces) out.smaller = std::move(p);
+    if (auto p = synth::smallest_purchase(request, inventory); p && p->pieces < out.short_pieces)
+      out.smaller = std::move(p);
   std::vector<store::Part> augmented = inventory.parts;
   const auto extra = synth::purchasable_parts(synth::purchase_volts(request));
   augmented.insert(augmented.end(), extra.begin(), extra.end());

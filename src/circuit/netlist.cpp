@@ -52,8 +52,8 @@ void Circuit::append(const Circuit& from, const Carry& carry) {
 }
 
 namespace {
-Component two_terminal(ElementKind kind, const std::string& des, const std::string& role, std::size_t a,
-                       std::size_t b, double value) {
+Component two_terminal(ElementKind kind, const std::string& des, const std::string& role, std::size_t a, std::size_t b,
+                       double value) {
   Component c;
   c.kind = kind;
   c.designator = des;
@@ -64,8 +64,8 @@ Component two_terminal(ElementKind kind, const std::string& des, const std::stri
 }
 }  // namespace
 
-void Circuit::resistor(const std::string& des, const std::string& role, const std::string& a,
-                       const std::string& b, double ohms) {
+void Circuit::resistor(const std::string& des, const std::string& role, const std::string& a, const std::string& b,
+                       double ohms) {
   const auto c = two_terminal(ElementKind::resistor, des, role, net(a), net(b), ohms);
   add_edge(c.pins[0], c.pins[1], c);
   elements_.push_back({c});
@@ -86,8 +86,8 @@ void Circuit::vsource(const std::string& des, const std::string& role, const std
   elements_.push_back({c});
 }
 
-void Circuit::jfet(const std::string& des, const std::string& drain, const std::string& gate,
-                   const std::string& source, const devices::JfetInstance& q) {
+void Circuit::jfet(const std::string& des, const std::string& drain, const std::string& gate, const std::string& source,
+                   const devices::JfetInstance& q) {
   Component c;
   c.kind = ElementKind::jfet;
   c.designator = des;
@@ -171,8 +171,10 @@ void Circuit::validate() const {
     if (comp[v] == comp[0]) continue;
     std::string what;
     for (const auto& e : elements_) {
-      if (e.c.kind == ElementKind::jfet && e.c.pins[1] == v) what = fmt::format(" (floating gate of {})", e.c.designator);
-      if (e.c.kind == ElementKind::bjt && e.c.pins[1] == v) what = fmt::format(" (floating base of {})", e.c.designator);
+      if (e.c.kind == ElementKind::jfet && e.c.pins[1] == v)
+        what = fmt::format(" (floating gate of {})", e.c.designator);
+      if (e.c.kind == ElementKind::bjt && e.c.pins[1] == v)
+        what = fmt::format(" (floating base of {})", e.c.designator);
     }
     if (v == 0) continue;
     throw InputError(fmt::format("net '{}' has no DC path to ground{}", net_name(v), what));
@@ -185,8 +187,8 @@ void Circuit::validate() const {
     if (e.c.kind != ElementKind::vsource) continue;
     const auto a = sets.find_set(e.c.pins[0]), b = sets.find_set(e.c.pins[1]);
     if (a == b)
-      throw InputError(fmt::format("voltage source {} closes a loop of voltage sources at net '{}'",
-                                   e.c.designator, net_name(e.c.pins[0])));
+      throw InputError(fmt::format("voltage source {} closes a loop of voltage sources at net '{}'", e.c.designator,
+                                   net_name(e.c.pins[0])));
     sets.link(a, b);
   }
 }

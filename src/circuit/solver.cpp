@@ -20,8 +20,8 @@ using devices::JfetInstance;
 constexpr double kGminJunction = 1e-12;  // SPICE's GMIN across every junction
 
 struct Layout {
-  std::size_t nodes = 0;    // non-ground nets
-  std::size_t sources = 0;  // voltage sources
+  std::size_t nodes = 0;                // non-ground nets
+  std::size_t sources = 0;              // voltage sources
   std::vector<std::size_t> source_row;  // per element index, for vsources
   std::size_t size() const { return nodes + sources; }
 };
@@ -167,8 +167,8 @@ void stamp_bjt_dc(const Circuit& c, const Component& e, const Eigen::VectorXd& x
 
 // Assembles the Newton system at x. gshunt: conductance from every node to ground (gmin
 // stepping); scale: source stepping factor.
-void assemble_dc(const Circuit& c, const Layout& l, const Eigen::VectorXd& x, double gshunt, double scale,
-                 DcState& st, bool limit, Eigen::MatrixXd& A, Eigen::VectorXd& b) {
+void assemble_dc(const Circuit& c, const Layout& l, const Eigen::VectorXd& x, double gshunt, double scale, DcState& st,
+                 bool limit, Eigen::MatrixXd& A, Eigen::VectorXd& b) {
   A.setZero(static_cast<long>(l.size()), static_cast<long>(l.size()));
   b.setZero(static_cast<long>(l.size()));
   for (std::size_t n = 0; n < l.nodes; ++n) A(static_cast<long>(n), static_cast<long>(n)) += gshunt;
@@ -176,20 +176,11 @@ void assemble_dc(const Circuit& c, const Layout& l, const Eigen::VectorXd& x, do
   for (std::size_t i = 0; i < els.size(); ++i) {
     const Component& e = els[i].c;
     switch (e.kind) {
-      case ElementKind::resistor:
-        stamp_g(A, e.pins[0], e.pins[1], 1.0 / e.value);
-        break;
-      case ElementKind::capacitor:
-        break;
-      case ElementKind::vsource:
-        stamp_vsource_dc(e, static_cast<long>(l.source_row[i]), scale, A, b);
-        break;
-      case ElementKind::jfet:
-        stamp_jfet_dc(c, e, x, A, b);
-        break;
-      case ElementKind::bjt:
-        stamp_bjt_dc(c, e, x, st, limit, A, b);
-        break;
+      case ElementKind::resistor: stamp_g(A, e.pins[0], e.pins[1], 1.0 / e.value); break;
+      case ElementKind::capacitor: break;
+      case ElementKind::vsource: stamp_vsource_dc(e, static_cast<long>(l.source_row[i]), scale, A, b); break;
+      case ElementKind::jfet: stamp_jfet_dc(c, e, x, A, b); break;
+      case ElementKind::bjt: stamp_bjt_dc(c, e, x, st, limit, A, b); break;
     }
   }
 }
@@ -345,12 +336,8 @@ Eigen::MatrixXcd ac_matrix(const Circuit& c, const Layout& l, const OperatingPoi
   for (std::size_t i = 0; i < els.size(); ++i) {
     const Component& e = els[i].c;
     switch (e.kind) {
-      case ElementKind::resistor:
-        stamp_g(A, e.pins[0], e.pins[1], cd(1.0 / e.value));
-        break;
-      case ElementKind::capacitor:
-        stamp_g(A, e.pins[0], e.pins[1], jw * e.value);
-        break;
+      case ElementKind::resistor: stamp_g(A, e.pins[0], e.pins[1], cd(1.0 / e.value)); break;
+      case ElementKind::capacitor: stamp_g(A, e.pins[0], e.pins[1], jw * e.value); break;
       case ElementKind::vsource: {
         const long k = static_cast<long>(l.source_row[i]);
         stamp_branch(A, e, k);
@@ -414,8 +401,7 @@ std::vector<std::complex<double>> ac_sweep(const Circuit& c, const OperatingPoin
   return out;
 }
 
-NoisePoint noise(const Circuit& c, const OperatingPoint& op, const std::string& out_net, double f_hz,
-                 double celsius) {
+NoisePoint noise(const Circuit& c, const OperatingPoint& op, const std::string& out_net, double f_hz, double celsius) {
   const auto on = c.find_net(out_net);
   if (!on || *on == 0) throw InputError(fmt::format("no net '{}' in the circuit", out_net));
   const Layout l = layout(c);
@@ -479,8 +465,7 @@ std::vector<double> log_sweep(double lo, double hi, int per_decade) {
   return f;
 }
 
-Corners find_corners(const Circuit& c, const OperatingPoint& op, const std::string& out_net, double f_lo,
-                     double f_hi) {
+Corners find_corners(const Circuit& c, const OperatingPoint& op, const std::string& out_net, double f_lo, double f_hi) {
   const auto n = c.find_net(out_net);
   if (!n) throw InputError(fmt::format("no net '{}' in the circuit", out_net));
   auto mag = [&](double f) { return std::abs(solve_ac(c, op, f)[*n]); };

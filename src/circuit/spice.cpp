@@ -40,12 +40,11 @@ std::string to_spice(const Circuit& c, const SpiceOptions& o) {
     const std::string a = spice_net(c, e.pins[0]), b = spice_net(c, e.pins[1]);
     switch (e.kind) {
       case ElementKind::resistor:
-      case ElementKind::capacitor:
-        out += fmt::format("{} {} {} {:.10g}\n", name, a, b, e.value);
-        break;
+      case ElementKind::capacitor: out += fmt::format("{} {} {} {:.10g}\n", name, a, b, e.value); break;
       case ElementKind::vsource:
         if (e.ac_volts != 0 && !o.signal_transient.empty())
-          out += fmt::format("{} {} {} DC {:.10g} AC {:.10g} {}\n", name, a, b, e.value, e.ac_volts, o.signal_transient);
+          out +=
+              fmt::format("{} {} {} DC {:.10g} AC {:.10g} {}\n", name, a, b, e.value, e.ac_volts, o.signal_transient);
         else if (e.ac_volts != 0)
           out += fmt::format("{} {} {} DC {:.10g} AC {:.10g}\n", name, a, b, e.value, e.ac_volts);
         else
@@ -56,8 +55,8 @@ std::string to_spice(const Circuit& c, const SpiceOptions& o) {
         const std::string model = "M" + name;
         out += fmt::format("{} {} {} {} {}\n", name, a, b, spice_net(c, e.pins[2]), model);
         // SPICE gives a depletion JFET a negative VTO for both channel types.
-        models += fmt::format(".model {} {}(VTO={:.10g} BETA={:.10g} LAMBDA={:.10g} CGS={:.10g} CGD={:.10g})\n",
-                              model, q.kind == devices::DeviceKind::pjfet ? "PJF" : "NJF", -q.vp_abs_v, q.beta(),
+        models += fmt::format(".model {} {}(VTO={:.10g} BETA={:.10g} LAMBDA={:.10g} CGS={:.10g} CGD={:.10g})\n", model,
+                              q.kind == devices::DeviceKind::pjfet ? "PJF" : "NJF", -q.vp_abs_v, q.beta(),
                               q.lambda_per_v, q.cgs_f, q.cgd_f);
         break;
       }

@@ -113,8 +113,8 @@ double parse_fraction(std::string_view field, std::string_view text) {
   if (v < 0) throw InputError(fmt::format("{} '{}' must not be negative", field, units::clip(text)));
   if (percent) return v / 100.0;
   if (v >= 1.0) {
-    throw InputError(fmt::format("{} '{}' reads as {:g} %; write {}% if that is meant", field, units::clip(text), v * 100.0,
-                                 units::clip(detail::trim(text))));
+    throw InputError(fmt::format("{} '{}' reads as {:g} %; write {}% if that is meant", field, units::clip(text),
+                                 v * 100.0, units::clip(detail::trim(text))));
   }
   return v;
 }
@@ -122,9 +122,10 @@ double parse_fraction(std::string_view field, std::string_view text) {
 double parse_gain_tolerance(std::string_view text) {
   constexpr std::string_view field = "--gain-tol";
   const auto out_of_range = [&] {
-    return InputError(fmt::format("{} '{}': the gain window must be above 0 % and below 100 % of the requested "
-                                  "gain (10% when not given)",
-                                  field, units::clip(text)));
+    return InputError(
+        fmt::format("{} '{}': the gain window must be above 0 % and below 100 % of the requested "
+                    "gain (10% when not given)",
+                    field, units::clip(text)));
   };
   // A plain percentage of 100 or more is a window, not a tolerance: say so in those words.
   std::string_view s = detail::trim(text);
@@ -171,8 +172,8 @@ std::string read_limited(std::istream& in, std::string_view name) {
     in.read(chunk.data(), static_cast<std::streamsize>(chunk.size()));
     text.append(chunk.data(), static_cast<std::size_t>(in.gcount()));
     if (text.size() > kLargestInput)
-      throw InputError(fmt::format("cannot read '{}': it is larger than {} MB, which no parts list is", name,
-                                   kLargestInput >> 20));
+      throw InputError(
+          fmt::format("cannot read '{}': it is larger than {} MB, which no parts list is", name, kLargestInput >> 20));
   }
   if (in.bad()) throw InputError(fmt::format("cannot read '{}': read error", name));
   return text;

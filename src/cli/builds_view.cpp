@@ -35,7 +35,8 @@ report::TableLayout indented() {
 nlohmann::ordered_json build_json(const store::BuildRecord& b) {
   nlohmann::ordered_json lines = nlohmann::ordered_json::array();
   for (const auto& l : b.lines)
-    lines.push_back({{"part_id", l.part_id}, {"part", l.part}, {"qty", l.qty}, {"designators", split_designators(l.designators)}});
+    lines.push_back(
+        {{"part_id", l.part_id}, {"part", l.part}, {"qty", l.qty}, {"designators", split_designators(l.designators)}});
   return {{"id", b.id},
           {"design", b.design_id},
           {"copies", b.copies},
@@ -59,8 +60,13 @@ std::string build_lines_table(const store::BuildRecord& b) {
 std::string builds_table(const std::vector<store::BuildRecord>& builds) {
   if (builds.empty()) return "No builds yet. `shelfstage build ID` builds a kept design.\n";
   using report::Align;
-  report::TextTable t({{"BUILD", Align::right}, {"DESIGN"}, {"COPIES", Align::right}, {"PIECES", Align::right},
-                       {"STATE"}, {"WHEN"}, {"UNDONE"}});
+  report::TextTable t({{"BUILD", Align::right},
+                       {"DESIGN"},
+                       {"COPIES", Align::right},
+                       {"PIECES", Align::right},
+                       {"STATE"},
+                       {"WHEN"},
+                       {"UNDONE"}});
   for (const auto& b : builds)
     t.add_row({std::to_string(b.id), b.design_id, std::to_string(b.copies), std::to_string(b.pieces()), b.state,
                b.created, b.undone.value_or("")});

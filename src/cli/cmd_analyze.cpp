@@ -157,7 +157,8 @@ stages::Values part_values(const stages::Topology& t, const AnalyzeOptions& o) {
     const Unit unit = r ? (r->kind == 'R' ? Unit::ohm : Unit::farad) : Unit::none;
     const std::string field = fmt::format("--part {}", role);
     // A capacitor's value states its scale, as in the stock (a bare 1 would be one farad).
-    given.emplace_back(role, unit == Unit::farad ? parse_capacitance(field, value) : parse_quantity(field, value, unit));
+    given.emplace_back(role,
+                       unit == Unit::farad ? parse_capacitance(field, value) : parse_quantity(field, value, unit));
   }
   return report::role_values(t, given);
 }
@@ -169,8 +170,9 @@ std::vector<report::PartInfo> part_ratings(const stages::Topology& t, const stag
   for (const auto& text : o.ratings) {
     const auto [role, value] = split_assignment("--rating", text, "RD=0.25W or CIN=16V");
     const stages::Role* r = find_role(t, role);
-    if (!r) throw InputError(fmt::format("--rating '{}': {} has no role {} (roles: {})", text, t.name(), role,
-                                         report::role_list(t)));
+    if (!r)
+      throw InputError(
+          fmt::format("--rating '{}': {} has no role {} (roles: {})", text, t.name(), role, report::role_list(t)));
     if (!(values[t.role_index(r->name)] > 0))
       throw InputError(fmt::format("--rating '{}': {} is not among the parts given", text, r->name));
     report::PartInfo info;
@@ -214,16 +216,17 @@ std::vector<std::string> analyze_cautions(const report::Analysis& a) {
   for (const auto& line : a.cautions)
     if (!line.starts_with("no rating stated")) cautions.push_back(line);
   if (!unrated.empty())
-    cautions.push_back(fmt::format("no rating given for {}: compare the stress listed with the parts fitted, or give "
-                                   "--rating ROLE=0.25W (resistors) or --rating ROLE=16V (capacitors) to have them "
-                                   "checked",
-                                   fmt::join(unrated, ", ")));
+    cautions.push_back(
+        fmt::format("no rating given for {}: compare the stress listed with the parts fitted, or give "
+                    "--rating ROLE=0.25W (resistors) or --rating ROLE=16V (capacitors) to have them "
+                    "checked",
+                    fmt::join(unrated, ", ")));
   return cautions;
 }
 
 /// The analysis as text.
-void print_analysis(Context& ctx, const AnalyzeOptions& o, const report::Analysis& a,
-                    const report::StageUnderTest& s, const devices::DeviceSpread& spread) {
+void print_analysis(Context& ctx, const AnalyzeOptions& o, const report::Analysis& a, const report::StageUnderTest& s,
+                    const devices::DeviceSpread& spread) {
   const stages::Topology& t = *s.topology;
   const auto& c = a.stage.conditions;
   ctx.out << fmt::format("Stage: {}: {}\n", t.name(), t.summary());
@@ -265,12 +268,11 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
   auto o = std::make_shared<AnalyzeOptions>();
   CLI::App* cmd = parent.add_subcommand(
       "analyze", "The full analysis of a stage given part by part (a board already built, or one on paper)");
-  cmd->add_option("TOPOLOGY", o->topology,
-                  "One of: " + stages::topology_names())
-      ->type_name("")
-      ->required();
+  cmd->add_option("TOPOLOGY", o->topology, "One of: " + stages::topology_names())->type_name("")->required();
   cmd->add_option("--device", o->device, "Transistor type from the device list")->type_name("NAME")->required();
-  cmd->add_option("--supply", o->supply, "Supply voltage: 9 for a positive rail, -9 for a negative one")->type_name("V")->required();
+  cmd->add_option("--supply", o->supply, "Supply voltage: 9 for a positive rail, -9 for a negative one")
+      ->type_name("V")
+      ->required();
   cmd->add_option("--load", o->load, "Load resistance at the output (10k, 4k7)")->type_name("OHMS")->required();
   cmd->add_option("--source-z", o->source_z, "Output resistance of the source driving the stage (default 0)")
       ->type_name("OHMS");

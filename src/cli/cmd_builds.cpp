@@ -25,8 +25,8 @@ std::int64_t parse_build_id(const std::string& text) {
   if (!s.empty() && s.front() == '#') s.remove_prefix(1);
   bool ok = !s.empty() && s.size() <= 15;
   for (const char ch : s) ok = ok && std::isdigit(static_cast<unsigned char>(ch));
-  if (!ok) throw InputError(fmt::format("build '{}' is not a build number (see `shelfstage builds list`)",
-                                       units::clip(text)));
+  if (!ok)
+    throw InputError(fmt::format("build '{}' is not a build number (see `shelfstage builds list`)", units::clip(text)));
   return std::stoll(std::string(s));
 }
 

@@ -28,9 +28,10 @@ std::filesystem::path temporary_folder() {
   const std::filesystem::path folder = env != nullptr && *env != '\0' ? env : "/tmp";
   std::error_code ec;
   if (!std::filesystem::is_directory(folder, ec))
-    throw InputError(fmt::format("TMPDIR '{}' is not a folder, and the demo needs one for its temporary database: "
-                                 "set TMPDIR to a folder, or give --db FILE for a demo database to keep",
-                                 folder.string()));
+    throw InputError(
+        fmt::format("TMPDIR '{}' is not a folder, and the demo needs one for its temporary database: "
+                    "set TMPDIR to a folder, or give --db FILE for a demo database to keep",
+                    folder.string()));
   return folder;
 }
 

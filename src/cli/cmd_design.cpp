@@ -64,13 +64,14 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
   cmd.add_option("--swing", o.swing, "Output swing the stage must deliver at every corner, Vpp (2, 5Vpp)");
   cmd.add_option("--max-current", o.max_current, "Supply current budget per copy (2m, 1.5mA)");
   cmd.add_option("--temp", o.temp, "Ambient temperature range in °C (0..50); corners include both ends");
-  cmd.add_option("--copies", o.copies, "How many copies will be built: all draw on one stock")->check(CLI::Range(1, 10000));
-  cmd.add_option("--topology", o.topologies,
-                 "Only these stages (repeatable): " + stages::topology_names());
+  cmd.add_option("--copies", o.copies, "How many copies will be built: all draw on one stock")
+      ->check(CLI::Range(1, 10000));
+  cmd.add_option("--topology", o.topologies, "Only these stages (repeatable): " + stages::topology_names());
   cmd.add_option("--device", o.devices, "Only these transistor types (repeatable)");
   cmd.add_option("--piece", o.piece, "Design for one measured piece (its narrower spread); implies --copies 1");
   cmd.add_option("--top", o.top, "How many candidates to list (default 5)")->check(CLI::Range(1, 1000));
-  cmd.add_option("--combine", o.combine, "Parts per value: 1 singles, 2 pairs (default), 3 triples")->check(CLI::Range(1, 3));
+  cmd.add_option("--combine", o.combine, "Parts per value: 1 singles, 2 pairs (default), 3 triples")
+      ->check(CLI::Range(1, 3));
   cmd.add_option("--gain-tol", o.gain_tol, "Gain window that counts as meeting the spec (default 10%)");
   cmd.add_option("--stages", o.stages,
                  "Stages in a row: 1 (single stages only), 2..3 (chains only) or 1..3 (default: chains when no "
@@ -85,7 +86,8 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
                  "Which transistor pieces the worst case covers: correlated (default: JFETs between and around the "
                  "datasheet's IDSS-VP diagonal, every limit of each reached) or box (every IDSS with every VP)");
   cmd.add_option("--seed", o.seed, "Seed of the Monte Carlo yield (default 1: reproducible)");
-  cmd.add_option("--samples", o.samples, "Monte Carlo builds per listed candidate (default 500)")->check(CLI::Range(0, 1000000));
+  cmd.add_option("--samples", o.samples, "Monte Carlo builds per listed candidate (default 500)")
+      ->check(CLI::Range(0, 1000000));
   cmd.add_flag("--no-save", o.no_save, "Do not keep the candidates in the database");
 }
 
@@ -199,11 +201,13 @@ synth::DesignResult run_design_on(store::Database& db, const synth::Spec& spec, 
                            r.seconds);
     ctx.out << report::candidates_table(r);
     const auto& best = r.candidates.front();
-    ctx.out << fmt::format("\nScore: gain error in percent points, half the nominal plus the worst case, plus one per piece.\n");
+    ctx.out << fmt::format(
+        "\nScore: gain error in percent points, half the nominal plus the worst case, plus one per piece.\n");
     if (save)
-      ctx.out << fmt::format("Kept in the database: `shelfstage show {}` for the full analysis, `shelfstage pick {}` for "
-                             "the pick list.\n",
-                             best.id, best.id);
+      ctx.out << fmt::format(
+          "Kept in the database: `shelfstage show {}` for the full analysis, `shelfstage pick {}` for "
+          "the pick list.\n",
+          best.id, best.id);
     if (!best.cautions.empty()) {
       ctx.out << "\nCautions for #1:\n";
       for (const auto& c : best.cautions) ctx.out << "  - " << c << "\n";

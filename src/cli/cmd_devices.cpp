@@ -60,10 +60,16 @@ DeviceRecord record_from_options(const DevicesAddOptions& o) {
   d.note = o.note;
   const std::string kind(devices::kind_name(d.kind));
   if (devices::is_jfet(d.kind)) {
-    refuse_foreign({{"--hfe", &o.hfe}, {"--hfe-typ", &o.hfe_typ}, {"--is", &o.is}, {"--vaf", &o.vaf},
-                    {"--cje", &o.cje}, {"--cjc", &o.cjc}, {"--vce-sat", &o.vce_sat}},
+    refuse_foreign({{"--hfe", &o.hfe},
+                    {"--hfe-typ", &o.hfe_typ},
+                    {"--is", &o.is},
+                    {"--vaf", &o.vaf},
+                    {"--cje", &o.cje},
+                    {"--cjc", &o.cjc},
+                    {"--vce-sat", &o.vce_sat}},
                    kind);
-    if (!o.idss || !o.vp) throw InputError(fmt::format("{} needs --idss MIN..MAX and --vp MIN..MAX", with_article(kind)));
+    if (!o.idss || !o.vp)
+      throw InputError(fmt::format("{} needs --idss MIN..MAX and --vp MIN..MAX", with_article(kind)));
     auto& j = d.jfet;
     j.idss_a = parse_range("--idss", *o.idss, Unit::ampere);
     j.vp_v = parse_range("--vp", *o.vp, Unit::volt);
@@ -75,8 +81,14 @@ DeviceRecord record_from_options(const DevicesAddOptions& o) {
     if (o.tc_idss) j.tc_idss_per_k = parse_quantity("--tc-idss", *o.tc_idss, Unit::none);
     if (o.tc_vp) j.tc_vp_v_per_k = parse_quantity("--tc-vp", *o.tc_vp, Unit::none);
   } else {
-    refuse_foreign({{"--idss", &o.idss}, {"--vp", &o.vp}, {"--idss-typ", &o.idss_typ}, {"--vp-typ", &o.vp_typ},
-                    {"--lambda", &o.lambda}, {"--cgs", &o.cgs}, {"--cgd", &o.cgd}, {"--tc-idss", &o.tc_idss},
+    refuse_foreign({{"--idss", &o.idss},
+                    {"--vp", &o.vp},
+                    {"--idss-typ", &o.idss_typ},
+                    {"--vp-typ", &o.vp_typ},
+                    {"--lambda", &o.lambda},
+                    {"--cgs", &o.cgs},
+                    {"--cgd", &o.cgd},
+                    {"--tc-idss", &o.tc_idss},
                     {"--tc-vp", &o.tc_vp}},
                    kind);
     if (!o.hfe) throw InputError(fmt::format("{} needs --hfe MIN..MAX", with_article(kind)));
@@ -111,16 +123,15 @@ void run_devices_add(const DevicesAddOptions& o, Context& ctx) {
   auto db = ctx.open_database();
   const bool existed = db.device(record.name).has_value();
   if (existed && !o.replace) {
-    throw InputError(fmt::format("device '{}' is already in the list; add --replace to overwrite its figures",
-                                 record.name));
+    throw InputError(
+        fmt::format("device '{}' is already in the list; add --replace to overwrite its figures", record.name));
   }
   db.put_devices({record});
   if (ctx.global.json) {
     print_json(ctx, {{"schema", 1}, {"replaced", existed}, {"device", device_json(record)}});
     return;
   }
-  ctx.out << fmt::format("{} {} {}.\n", existed ? "Replaced" : "Added", devices::kind_name(record.kind),
-                         record.name);
+  ctx.out << fmt::format("{} {} {}.\n", existed ? "Replaced" : "Added", devices::kind_name(record.kind), record.name);
 }
 
 void setup_devices_add(CLI::App& devices_cmd, Context& ctx) {
@@ -134,14 +145,18 @@ void setup_devices_add(CLI::App& devices_cmd, Context& ctx) {
   const char* jfet = "JFET (datasheet figures)";
   cmd->add_option("--idss", o->idss, "IDSS range in amperes, MIN..MAX: 1m..5m")->type_name("MIN..MAX")->group(jfet);
   cmd->add_option("--idss-typ", o->idss_typ, "Typical IDSS, when the datasheet gives one")->type_name("A")->group(jfet);
-  cmd->add_option("--vp", o->vp, "VGS(off) range, signed as on the datasheet: -0.5..-3")->type_name("MIN..MAX")->group(jfet);
+  cmd->add_option("--vp", o->vp, "VGS(off) range, signed as on the datasheet: -0.5..-3")
+      ->type_name("MIN..MAX")
+      ->group(jfet);
   cmd->add_option("--vp-typ", o->vp_typ, "Typical VGS(off)")->type_name("V")->group(jfet);
   cmd->add_option("--lambda", o->lambda, "Channel-length modulation, 1/V: 0.005")->type_name("1/V")->group(jfet);
   cmd->add_option("--cgs", o->cgs, "Gate-source capacitance: 4.5p")->type_name("F")->group(jfet);
   cmd->add_option("--cgd", o->cgd, "Gate-drain capacitance: 1.5p")->type_name("F")->group(jfet);
-  cmd->add_option("--tc-idss", o->tc_idss, "IDSS temperature coefficient, fraction per kelvin (default -0.003)")->type_name("1/K")
+  cmd->add_option("--tc-idss", o->tc_idss, "IDSS temperature coefficient, fraction per kelvin (default -0.003)")
+      ->type_name("1/K")
       ->group(jfet);
-  cmd->add_option("--tc-vp", o->tc_vp, "|VP| temperature coefficient, volts per kelvin (default 0.002)")->type_name("V/K")
+  cmd->add_option("--tc-vp", o->tc_vp, "|VP| temperature coefficient, volts per kelvin (default 0.002)")
+      ->type_name("V/K")
       ->group(jfet);
   const char* bjt = "BJT (datasheet figures)";
   cmd->add_option("--hfe", o->hfe, "hFE range, MIN..MAX: 110..450")->type_name("MIN..MAX")->group(bjt);
@@ -150,10 +165,12 @@ void setup_devices_add(CLI::App& devices_cmd, Context& ctx) {
   cmd->add_option("--vaf", o->vaf, "Early voltage VAF in volts: 80 (default 100)")->type_name("V")->group(bjt);
   cmd->add_option("--cje", o->cje, "Base-emitter capacitance: 6p")->type_name("F")->group(bjt);
   cmd->add_option("--cjc", o->cjc, "Base-collector capacitance: 3p")->type_name("F")->group(bjt);
-  cmd->add_option("--vce-sat", o->vce_sat, "Saturation edge VCE(sat) used for swing, volts (default 0.2)")->type_name("V")
+  cmd->add_option("--vce-sat", o->vce_sat, "Saturation edge VCE(sat) used for swing, volts (default 0.2)")
+      ->type_name("V")
       ->group(bjt);
   const char* ratings = "Maximum ratings (datasheet absolute maxima; optional, but a type without them is not checked)";
-  cmd->add_option("--v-max", o->v_max, "Drain-source VDS(max) or collector-emitter VCEO, volts: 25")->type_name("V")
+  cmd->add_option("--v-max", o->v_max, "Drain-source VDS(max) or collector-emitter VCEO, volts: 25")
+      ->type_name("V")
       ->group(ratings);
   cmd->add_option("--v-rev-max", o->v_rev_max, "Gate-source reverse voltage, or emitter-base VEBO, volts: 25 or 6")
       ->type_name("V")
@@ -227,8 +244,8 @@ void run_devices_import(const DevicesImportOptions& o, Context& ctx) {
     print_json(ctx, {{"schema", 1}, {"source", source}, {o.pieces ? "pieces" : "devices", count}});
     return;
   }
-  const char* what = o.pieces ? (count == 1 ? "measured piece" : "measured pieces")
-                              : (count == 1 ? "device type" : "device types");
+  const char* what =
+      o.pieces ? (count == 1 ? "measured piece" : "measured pieces") : (count == 1 ? "device type" : "device types");
   ctx.out << fmt::format("Imported {} {} from {}.\n", count, what, source);
 }
 
@@ -299,8 +316,8 @@ void run_devices_remove(const DevicesRemoveOptions& o, Context& ctx) {
   if (!o.cascade && (!users.empty() || !designs.empty())) {
     std::vector<std::string> what;
     if (!users.lines.empty())
-      what.push_back(counted(users.lines.size(), "stock line on the shelf", "stock lines on the shelf",
-                             line_ids(users.lines)));
+      what.push_back(
+          counted(users.lines.size(), "stock line on the shelf", "stock lines on the shelf", line_ids(users.lines)));
     if (!users.pieces.empty())
       what.push_back(counted(users.pieces.size(), "measured piece", "measured pieces", users.pieces));
     if (!designs.empty()) what.push_back(counted(designs.size(), "kept design", "kept designs", designs));

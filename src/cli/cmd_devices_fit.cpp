@@ -50,7 +50,8 @@ void run_devices_fit(const DevicesFitOptions& o, Context& ctx) {
     throw InputError(o.label ? fmt::format("--label '{}' stores the fitted piece and needs --device NAME", *o.label)
                              : std::string("--store needs --device NAME (the type the piece belongs to)"));
   }
-  if (o.note && !store) throw InputError(fmt::format("--note '{}' goes with a stored piece (--label or --store)", *o.note));
+  if (o.note && !store)
+    throw InputError(fmt::format("--note '{}' goes with a stored piece (--label or --store)", *o.note));
 
   DeviceKind kind = DeviceKind::njfet;
   if (o.kind && (!devices::parse_kind(*o.kind, kind) || !devices::is_jfet(kind)))
@@ -92,10 +93,10 @@ void run_devices_fit(const DevicesFitOptions& o, Context& ctx) {
   }
   if (store) {
     if (piece->uncertainty > 0.5) {
-      throw InputError(fmt::format(
-          "the fit's uncertainty ±{:g}% is too wide to design a piece by (50% at most): take readings with "
-          "source resistors further apart, or more of them",
-          piece->uncertainty * 100.0));
+      throw InputError(
+          fmt::format("the fit's uncertainty ±{:g}% is too wide to design a piece by (50% at most): take readings with "
+                      "source resistors further apart, or more of them",
+                      piece->uncertainty * 100.0));
     }
     piece->label = o.label.value_or("");
     piece = store_piece(*db, *piece);
@@ -113,9 +114,9 @@ void run_devices_fit(const DevicesFitOptions& o, Context& ctx) {
   }
   ctx.out << fit_text(fit, accuracy, bench);
   if (record) {
-    ctx.out << fmt::format("{} {}'s datasheet range (IDSS {}, VP {}).\n",
-                           departures.empty() ? "Within" : "Outside", record->name,
-                           range_text(record->jfet.idss_a, Unit::ampere), range_text(record->jfet.vp_v, Unit::volt));
+    ctx.out << fmt::format("{} {}'s datasheet range (IDSS {}, VP {}).\n", departures.empty() ? "Within" : "Outside",
+                           record->name, range_text(record->jfet.idss_a, Unit::ampere),
+                           range_text(record->jfet.vp_v, Unit::volt));
   }
   if (store) ctx.out << stored_piece_text(*piece);
 }

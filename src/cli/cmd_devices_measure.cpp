@@ -62,7 +62,8 @@ MeasuredPiece piece_from_options(const DevicesMeasureOptions& o, const devices::
     p.vp_v = record.kind == DeviceKind::njfet ? -std::abs(vp) : std::abs(vp);
   } else {
     refuse_options({{"--idss", &o.idss}, {"--vp", &o.vp}}, record);
-    if (o.hfe && (o.ib || o.ic)) throw InputError(fmt::format("--hfe '{}' and --ib/--ic: give one or the other", *o.hfe));
+    if (o.hfe && (o.ib || o.ic))
+      throw InputError(fmt::format("--hfe '{}' and --ib/--ic: give one or the other", *o.hfe));
     if (o.hfe) {
       const double hfe = parse_quantity("--hfe", *o.hfe, Unit::none);
       if (!(hfe > 0)) throw InputError(fmt::format("--hfe '{}' must be above zero", *o.hfe));
@@ -98,7 +99,9 @@ void run_devices_measure(const DevicesMeasureOptions& o, Context& ctx) {
 void setup_devices_measure(CLI::App& devices_cmd, Context& ctx) {
   auto o = std::make_shared<DevicesMeasureOptions>();
   CLI::App* cmd = devices_cmd.add_subcommand("measure", "Store one piece measured on the bench");
-  cmd->add_option("DEVICE", o->device, "The type the piece belongs to (from `devices list`)")->type_name("")->required();
+  cmd->add_option("DEVICE", o->device, "The type the piece belongs to (from `devices list`)")
+      ->type_name("")
+      ->required();
   const char* jfet = "JFET";
   cmd->add_option("--idss", o->idss, "Measured IDSS: 2.9m")->type_name("A")->group(jfet);
   cmd->add_option("--vp", o->vp, "Measured VGS(off); the sign follows the kind, so 1.45 and -1.45 both do")

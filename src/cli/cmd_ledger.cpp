@@ -26,8 +26,8 @@ void filter_part(const std::string& text, const store::Database& db, store::Ledg
   }
   double v = 0;
   if (!units::try_parse_value(text, v) || !(v > 0))
-    throw InputError(fmt::format(
-        "--part '{}' is neither a value (4k7, 100n) nor a transistor type in the device list", text));
+    throw InputError(
+        fmt::format("--part '{}' is neither a value (4k7, 100n) nor a transistor type in the device list", text));
   f.value = v;
 }
 
@@ -55,10 +55,11 @@ void run_ledger(const LedgerOptions& o, Context& ctx) {
     return;
   }
   using report::Align;
-  report::TextTable t({{"#", Align::right}, {"WHEN"}, {"CHANGE", Align::right}, {"LINE", Align::right}, {"PART"},
-                       {"REASON"}});
+  report::TextTable t(
+      {{"#", Align::right}, {"WHEN"}, {"CHANGE", Align::right}, {"LINE", Align::right}, {"PART"}, {"REASON"}});
   for (const auto& e : entries)
-    t.add_row({std::to_string(e.id), e.when, fmt::format("{:+}", e.delta), std::to_string(e.part_id), e.part, e.reason});
+    t.add_row(
+        {std::to_string(e.id), e.when, fmt::format("{:+}", e.delta), std::to_string(e.part_id), e.part, e.reason});
   ctx.out << t.render();
 }
 

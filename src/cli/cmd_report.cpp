@@ -16,9 +16,9 @@ namespace {
 
 struct ReportOptions {
   std::string id;
-  std::string output;           ///< -o FILE; "-" for stdout
-  std::optional<int> copies;    ///< the pick list's copies (default: the design's)
-  std::optional<int> samples;   ///< Monte Carlo builds in the bias plot
+  std::string output;          ///< -o FILE; "-" for stdout
+  std::optional<int> copies;   ///< the pick list's copies (default: the design's)
+  std::optional<int> samples;  ///< Monte Carlo builds in the bias plot
 };
 
 void run_report(const ReportOptions& o, Context& ctx) {
@@ -67,7 +67,8 @@ void run_report(const ReportOptions& o, Context& ctx) {
 
 void setup_report(CLI::App& parent, Context& ctx) {
   auto o = std::make_shared<ReportOptions>();
-  CLI::App* cmd = parent.add_subcommand("report", "Write the design report of a kept design: one self-contained HTML file");
+  CLI::App* cmd =
+      parent.add_subcommand("report", "Write the design report of a kept design: one self-contained HTML file");
   cmd->add_option("ID", o->id, "Design id from `shelfstage design` (or its first four or more characters)")
       ->type_name("")
       ->required();

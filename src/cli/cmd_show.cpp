@@ -52,9 +52,8 @@ std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
       "Worst case over {} evaluations (closed form: device corners, part tolerances at their bounds, supply {}, "
       "{}):\n",
       w.evaluations,
-      spec.supply_lo_v == spec.supply_hi_v
-          ? volts(spec.supply_lo_v)
-          : fmt::format("{}..{}", volts(spec.supply_lo_v), volts(spec.supply_hi_v)),
+      spec.supply_lo_v == spec.supply_hi_v ? volts(spec.supply_lo_v)
+                                           : fmt::format("{}..{}", volts(spec.supply_lo_v), volts(spec.supply_hi_v)),
       spec.temp_c ? fmt::format("{:g}..{:g} °C", spec.temp_c->first, spec.temp_c->second)
                   : fmt::format("{:g} °C", spec.temp_nominal_c()));
   report::TextTable t({{""}, {"min .. max", report::Align::right}});
@@ -86,9 +85,9 @@ std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
                            of(r.v_rev_max_v, r.v_rev_max_v ? volts(synth::kDeviceVoltageShare * *r.v_rev_max_v) : "")),
                range_text(w.device_rev, volts)});
     t.add_row({fmt::format("Q1 dissipation{}",
-                           of(r.p_max_w,
-                              r.p_max_w ? units::format_value(synth::kDevicePowerShare * w.device_p_allowed.min, Unit::watt)
-                                        : "")),
+                           of(r.p_max_w, r.p_max_w ? units::format_value(
+                                                         synth::kDevicePowerShare * w.device_p_allowed.min, Unit::watt)
+                                                   : "")),
                range_text(w.device_p, [](double v) { return units::format_value(v, Unit::watt); })});
   }
   if (spec.band_hz) {
@@ -111,7 +110,8 @@ std::string yield_text(const synth::Candidate& c, const synth::Spec& spec) {
 
 // The JSON document of `show`: the design, its analysis, cautions, and the response with --plot.
 report::Json show_json(const ShowOptions& o, const store::SavedDesign& saved, const synth::Spec& spec,
-                       const synth::Candidate& c, const report::Json& analysis, const std::vector<std::string>& cautions) {
+                       const synth::Candidate& c, const report::Json& analysis,
+                       const std::vector<std::string>& cautions) {
   report::Json doc;
   doc["schema"] = 1;
   doc["id"] = saved.id;
@@ -123,8 +123,8 @@ report::Json show_json(const ShowOptions& o, const store::SavedDesign& saved, co
   doc["spice"] = o.spice ? report::Json(*o.spice) : report::Json(nullptr);
   if (o.plot) {
     const report::Response r = report::frequency_response(c, spec);
-    doc["response"] = {{"f_hz", r.f_hz}, {"gain_db", r.nominal.gain_db}, {"gain_lo_db", r.gain_lo_db},
-                       {"gain_hi_db", r.gain_hi_db}};
+    doc["response"] = {
+        {"f_hz", r.f_hz}, {"gain_db", r.nominal.gain_db}, {"gain_lo_db", r.gain_lo_db}, {"gain_hi_db", r.gain_hi_db}};
   }
   return doc;
 }
@@ -214,7 +214,8 @@ void run_show(const ShowOptions& o, Context& ctx) {
 
 void setup_show(CLI::App& parent, Context& ctx) {
   auto o = std::make_shared<ShowOptions>();
-  CLI::App* cmd = parent.add_subcommand("show", "The full analysis of a kept design: bias, signal, worst case, ratings");
+  CLI::App* cmd =
+      parent.add_subcommand("show", "The full analysis of a kept design: bias, signal, worst case, ratings");
   cmd->add_option("ID", o->id, "Design id from `shelfstage design` (or its first four or more characters)")
       ->type_name("")
       ->required();

@@ -172,7 +172,7 @@ std::vector<Part> filter_parts(std::vector<Part> parts, const StockListOptions& 
       bjts = true;
     } else {
       throw InputError(
-        fmt::format("--kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP, JFET, BJT", units::clip(o.kind)));
+          fmt::format("--kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP, JFET, BJT", units::clip(o.kind)));
     }
   }
   std::erase_if(parts, [&](const Part& p) {
@@ -199,15 +199,16 @@ void run_stock_list(const StockListOptions& o, Context& ctx) {
 void setup_stock_list(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockListOptions>();
   CLI::App* cmd = stock.add_subcommand("list", "Show what is on the shelf, grouped by kind");
-  cmd->add_option("--kind", o->kind, "Only R, C, NJFET, PJFET, NPN, PNP, or JFET / BJT for both polarities")->type_name("KIND");
+  cmd->add_option("--kind", o->kind, "Only R, C, NJFET, PJFET, NPN, PNP, or JFET / BJT for both polarities")
+      ->type_name("KIND");
   cmd->add_option("--bin", o->bin, "Only this bin")->type_name("BIN");
   cmd->add_flag("--low", o->low, fmt::format("Only lines with {} or fewer pieces available (to reorder)", kLowMark));
-  cmd->footer(fmt::format(
-      "Values print in notation with their unit (4.7kΩ, 100nF). QTY is on hand, RESERVED is\n"
-      "held for planned builds; STATUS says `low` when {} or fewer are available and `out` when\n"
-      "none are. The ID column names a line for `stock adjust` and `stock remove`.\n"
-      "With --json: {{\"schema\":1,\"parts\":[...]}}, values in ohms and farads.",
-      kLowMark));
+  cmd->footer(
+      fmt::format("Values print in notation with their unit (4.7kΩ, 100nF). QTY is on hand, RESERVED is\n"
+                  "held for planned builds; STATUS says `low` when {} or fewer are available and `out` when\n"
+                  "none are. The ID column names a line for `stock adjust` and `stock remove`.\n"
+                  "With --json: {{\"schema\":1,\"parts\":[...]}}, values in ohms and farads.",
+                  kLowMark));
   cmd->callback([o, &ctx] { run_stock_list(*o, ctx); });
 }
 
@@ -298,14 +299,15 @@ void run_stock_adjust(const StockAdjustOptions& o, Context& ctx) {
     print_json(ctx, {{"schema", 1}, {"delta", delta}, {"part", part_json(*after)}});
     return;
   }
-  ctx.out << fmt::format("Line {} ({}): {} -> {} on hand ({:+d}, {}).\n", after->id, describe_part(*after),
-                         before.qty, after->qty, delta, o.reason);
+  ctx.out << fmt::format("Line {} ({}): {} -> {} on hand ({:+d}, {}).\n", after->id, describe_part(*after), before.qty,
+                         after->qty, delta, o.reason);
 }
 
 void setup_stock_adjust(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockAdjustOptions>();
   CLI::App* cmd = stock.add_subcommand("adjust", "Correct the count of one line after a recount or a loss");
-  cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN] such as R:4k7@A6")->type_name("")
+  cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN] such as R:4k7@A6")
+      ->type_name("")
       ->required();
   cmd->add_option("DELTA", o->delta, "Pieces to add (+5) or take away (-3)")->type_name("")->required();
   cmd->add_option("--reason", o->reason, "Why, for the ledger: recount, lost, used in a repair")
@@ -342,7 +344,9 @@ void run_stock_remove(const StockRemoveOptions& o, Context& ctx) {
 void setup_stock_remove(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockRemoveOptions>();
   CLI::App* cmd = stock.add_subcommand("remove", "Take a whole line off the shelf");
-  cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN]")->type_name("")->required();
+  cmd->add_option("LINE", o->line, "The line: its ID from `stock list`, or KIND:VALUE[@BIN]")
+      ->type_name("")
+      ->required();
   cmd->add_option("--reason", o->reason, "Why, for the ledger (default: taken off the shelf)")
       ->type_name("TEXT")
       ->check(clean_text());

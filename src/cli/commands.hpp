@@ -4,8 +4,8 @@
 // setup_<name>(CLI::App& parent, Context&) that adds the subcommand and binds the options,
 // and a run_<name>(const Options&, Context&) that calls the library and formats the result.
 // Adding a command is one new file, its setup function declared below and called from
-// setup_commands() (app.cpp). Commands never print errors themselves: they throw shelfstage::Error and run_app() turns it into
-// `error: ...` and the exit status.
+// setup_commands() (app.cpp). Commands never print errors themselves: they throw shelfstage::Error and run_app() turns
+// it into `error: ...` and the exit status.
 #pragma once
 #include <CLI/CLI.hpp>
 #include <nlohmann/json.hpp>

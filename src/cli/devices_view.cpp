@@ -68,12 +68,27 @@ std::string devices_table(const std::vector<DeviceRecord>& records, const std::v
     return "No transistor types yet. Add them with `shelfstage devices add` or "
            "`shelfstage devices import FILE.csv`.\n";
   }
-  TextTable jfets({{"NAME"}, {"TYPE"}, {"IDSS", Align::right}, {"TYP", Align::right}, {"VP", Align::right},
-                   {"TYP", Align::right}, {"LAMBDA", Align::right}, {"CGS", Align::right},
-                   {"CGD", Align::right}, {"VDS/VGS/P MAX", Align::right}, {"NOTE"}});
-  TextTable bjts({{"NAME"}, {"TYPE"}, {"HFE", Align::right}, {"TYP", Align::right}, {"IS", Align::right},
-                  {"VAF", Align::right}, {"CJE", Align::right}, {"CJC", Align::right},
-                  {"VCEO/VEBO/P MAX", Align::right}, {"NOTE"}});
+  TextTable jfets({{"NAME"},
+                   {"TYPE"},
+                   {"IDSS", Align::right},
+                   {"TYP", Align::right},
+                   {"VP", Align::right},
+                   {"TYP", Align::right},
+                   {"LAMBDA", Align::right},
+                   {"CGS", Align::right},
+                   {"CGD", Align::right},
+                   {"VDS/VGS/P MAX", Align::right},
+                   {"NOTE"}});
+  TextTable bjts({{"NAME"},
+                  {"TYPE"},
+                  {"HFE", Align::right},
+                  {"TYP", Align::right},
+                  {"IS", Align::right},
+                  {"VAF", Align::right},
+                  {"CJE", Align::right},
+                  {"CJC", Align::right},
+                  {"VCEO/VEBO/P MAX", Align::right},
+                  {"NOTE"}});
   for (const auto& d : records) {
     const std::string kind(devices::kind_name(d.kind));
     if (devices::is_jfet(d.kind)) {
@@ -98,8 +113,13 @@ std::string devices_table(const std::vector<DeviceRecord>& records, const std::v
     out += fmt::format("BJT types ({})\n{}", bjts.row_count(), bjts.render(layout));
   }
   if (!pieces.empty()) {
-    TextTable measured({{"LABEL"}, {"DEVICE"}, {"IDSS", Align::right}, {"VP", Align::right},
-                        {"HFE", Align::right}, {"UNCERTAINTY", Align::right}, {"NOTE"}});
+    TextTable measured({{"LABEL"},
+                        {"DEVICE"},
+                        {"IDSS", Align::right},
+                        {"VP", Align::right},
+                        {"HFE", Align::right},
+                        {"UNCERTAINTY", Align::right},
+                        {"NOTE"}});
     for (const auto& p : pieces) {
       measured.add_row({p.label, p.device, detail::optional_text(p.idss_a, Unit::ampere),
                         detail::optional_text(p.vp_v, Unit::volt), p.hfe ? detail::plain(*p.hfe) : "",
@@ -126,9 +146,12 @@ nlohmann::ordered_json device_json(const DeviceRecord& d) {
 }
 
 nlohmann::ordered_json piece_json(const MeasuredPiece& p) {
-  return {{"label", p.label},         {"device", p.device},
-          {"idss", report::number_or_null(p.idss_a)}, {"vp", report::number_or_null(p.vp_v)},
-          {"hfe", report::number_or_null(p.hfe)},     {"uncertainty", p.uncertainty},
+  return {{"label", p.label},
+          {"device", p.device},
+          {"idss", report::number_or_null(p.idss_a)},
+          {"vp", report::number_or_null(p.vp_v)},
+          {"hfe", report::number_or_null(p.hfe)},
+          {"uncertainty", p.uncertainty},
           {"note", p.note}};
 }
 
@@ -159,8 +182,8 @@ std::string fit_text(const devices::SelfBiasFit& fit, const devices::ReadingAccu
   TextTable figures({{""}, {"", Align::right}, {""}});
   figures.add_row({"IDSS", quantity_text(fit.idss_a, Unit::ampere),
                    detail::plus_minus(fit.idss_a, fit.idss_uncertainty_a, Unit::ampere)});
-  figures.add_row({"VP", quantity_text(fit.vp_v, Unit::volt),
-                   detail::plus_minus(fit.vp_v, fit.vp_uncertainty_v, Unit::volt)});
+  figures.add_row(
+      {"VP", quantity_text(fit.vp_v, Unit::volt), detail::plus_minus(fit.vp_v, fit.vp_uncertainty_v, Unit::volt)});
   // Transconductance as datasheets write gfs: mA/V.
   figures.add_row({"gm0", units::format_value(fit.gm0_s, Unit::ampere) + "/V",
                    detail::plus_minus(fit.gm0_s, fit.gm0_uncertainty_s, Unit::ampere, "/V") + "  = 2 IDSS/|VP|"});
@@ -169,18 +192,23 @@ std::string fit_text(const devices::SelfBiasFit& fit, const devices::ReadingAccu
   out += rows.substr(rows.find('\n') + 1);
   const report::TableLayout layout{.indent = "  "};
 
-  TextTable readings({{"#", Align::right}, {"RS", Align::right}, {"VS", Align::right}, {"ID", Align::right},
-                      {"FITTED VS", Align::right}, {"RESIDUAL", Align::right}});
+  TextTable readings({{"#", Align::right},
+                      {"RS", Align::right},
+                      {"VS", Align::right},
+                      {"ID", Align::right},
+                      {"FITTED VS", Align::right},
+                      {"RESIDUAL", Align::right}});
   for (std::size_t i = 0; i < fit.readings.size(); ++i) {
     const auto& r = fit.readings[i];
-    readings.add_row({std::to_string(i + 1), units::format_value(r.rs_ohm, Unit::ohm), quantity_text(r.vs_v, Unit::volt),
-                      units::format_value(r.id_a, Unit::ampere), quantity_text(r.fitted_vs_v, Unit::volt),
-                      detail::signed_volts(r.residual_v, r.vs_v)});
+    readings.add_row({std::to_string(i + 1), units::format_value(r.rs_ohm, Unit::ohm),
+                      quantity_text(r.vs_v, Unit::volt), units::format_value(r.id_a, Unit::ampere),
+                      quantity_text(r.fitted_vs_v, Unit::volt), detail::signed_volts(r.residual_v, r.vs_v)});
   }
   out += "\n" + readings.render(layout);
-  out += fmt::format("\n± is the expanded uncertainty (k = 2, about 95 %) from the meter accuracy {} and the\n"
-                     "resistor tolerance {}",
-                     detail::percent_text(accuracy.meter), detail::percent_text(accuracy.resistor));
+  out += fmt::format(
+      "\n± is the expanded uncertainty (k = 2, about 95 %) from the meter accuracy {} and the\n"
+      "resistor tolerance {}",
+      detail::percent_text(accuracy.meter), detail::percent_text(accuracy.resistor));
   if (fit.readings.size() > 2) {
     out += fmt::format("; the readings scatter {:.2g} times as much as those allow{}", fit.scatter,
                        fit.widened_by_scatter ? ", which widens it" : "");
@@ -199,8 +227,8 @@ nlohmann::ordered_json fit_json(const devices::SelfBiasFit& fit, const devices::
                                 const devices::BenchConditions& bench) {
   nlohmann::ordered_json readings = nlohmann::ordered_json::array();
   for (const auto& r : fit.readings) {
-    readings.push_back({{"rs", r.rs_ohm}, {"vs", r.vs_v}, {"id", r.id_a}, {"fitted_vs", r.fitted_vs_v},
-                        {"residual", r.residual_v}});
+    readings.push_back(
+        {{"rs", r.rs_ohm}, {"vs", r.vs_v}, {"id", r.id_a}, {"fitted_vs", r.fitted_vs_v}, {"residual", r.residual_v}});
   }
   return {{"schema", 1},
           {"kind", devices::kind_name(fit.kind)},
@@ -214,8 +242,8 @@ nlohmann::ordered_json fit_json(const devices::SelfBiasFit& fit, const devices::
           {"coverage_factor", 2},
           {"meter_accuracy", accuracy.meter},
           {"rs_tol", accuracy.resistor},
-          {"drain_supply", bench.drain_supply_v ? nlohmann::ordered_json(*bench.drain_supply_v)
-                                                : nlohmann::ordered_json(nullptr)},
+          {"drain_supply",
+           bench.drain_supply_v ? nlohmann::ordered_json(*bench.drain_supply_v) : nlohmann::ordered_json(nullptr)},
           {"lambda", bench.lambda_per_v},
           {"scatter", fit.readings.size() > 2 ? nlohmann::ordered_json(fit.scatter) : nlohmann::ordered_json(nullptr)},
           {"readings", std::move(readings)},

@@ -122,12 +122,10 @@ Target resolve(std::string_view option, const std::string& given) {
       return t;
     }
     if (hops == 40)
-      throw InputError(
-          fmt::format("{} '{}': cannot write: too many symbolic links", option, units::clip(given, 200)));
+      throw InputError(fmt::format("{} '{}': cannot write: too many symbolic links", option, units::clip(given, 200)));
     std::error_code ec;
     const fs::path next = fs::read_symlink(t.path, ec);
-    if (ec)
-      throw InputError(fmt::format("{} '{}': cannot write: {}", option, units::clip(given, 200), ec.message()));
+    if (ec) throw InputError(fmt::format("{} '{}': cannot write: {}", option, units::clip(given, 200), ec.message()));
     t.path = next.is_absolute() ? next : t.path.parent_path() / next;
   }
 }
@@ -172,12 +170,12 @@ void write_file(std::string_view option, const std::string& path, std::string_vi
   if (path.empty()) throw InputError(fmt::format("{} '': give a file name", option));
   // What the kernel finds at the end of the links first: /dev/stdout leads to a pipe or a
   // terminal through links of /proc that name no path.
-  if (struct stat st {}; ::stat(path.c_str(), &st) == 0 && !S_ISREG(st.st_mode)) {
+  if (struct stat st{}; ::stat(path.c_str(), &st) == 0 && !S_ISREG(st.st_mode)) {
     std::error_code ec;
     const auto real = fs::canonical(path, ec);
     const std::string which = !ec && real.string() != path ? units::clip(real.string(), 200) + " is " : "";
-    throw InputError(fmt::format("{} '{}': {}{}, not a regular file; nothing written", option, shown, which,
-                                 type_name(st.st_mode)));
+    throw InputError(
+        fmt::format("{} '{}': {}{}, not a regular file; nothing written", option, shown, which, type_name(st.st_mode)));
   }
   const Target target = resolve(option, path);
   if (target.exists && !S_ISREG(target.st.st_mode))

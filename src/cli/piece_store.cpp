@@ -39,7 +39,8 @@ std::vector<std::string> warn_departures(const devices::DeviceRecord& record, co
 }
 
 devices::MeasuredPiece store_piece(store::Database& db, devices::MeasuredPiece piece) {
-  if (piece.label.find_first_not_of(" \t") == std::string::npos) piece.label = next_piece_label(db.pieces(), piece.device);
+  if (piece.label.find_first_not_of(" \t") == std::string::npos)
+    piece.label = next_piece_label(db.pieces(), piece.device);
   db.add_piece(piece);
   if (auto stored = db.piece(piece.label)) return *stored;
   return piece;

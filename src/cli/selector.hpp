@@ -15,11 +15,11 @@ namespace shelfstage::cli {
 ///  - KIND:VALUE, optionally @BIN: `R:4k7`, `R:4k7@A6`, `C:100n@B5`, `NPN:SQ-410@D10`.
 /// The kind is required with a value so that a bare number is always an id.
 struct PartSelector {
-  std::string text;                  ///< as typed, for messages
-  std::optional<std::int64_t> id;    ///< set for the id form
+  std::string text;                ///< as typed, for messages
+  std::optional<std::int64_t> id;  ///< set for the id form
   store::PartKind kind = store::PartKind::resistor;
-  double value = 0.0;                ///< ohms or farads (R, C)
-  std::string device;                ///< device name (transistors)
+  double value = 0.0;  ///< ohms or farads (R, C)
+  std::string device;  ///< device name (transistors)
   std::optional<std::string> bin;
 };
 

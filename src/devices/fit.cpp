@@ -28,7 +28,9 @@ std::string volts_text(double v) { return fmt::format("{:.3g}V", v); }
 std::string reading_figures(std::size_t i, const SelfBiasReading& r) {
   return fmt::format("{} (RS {}, VS {})", i + 1, units::format_value(r.rs_ohm, Unit::ohm), volts_text(r.vs_v));
 }
-std::string reading_text(std::size_t i, const SelfBiasReading& r) { return "self-bias reading " + reading_figures(i, r); }
+std::string reading_text(std::size_t i, const SelfBiasReading& r) {
+  return "self-bias reading " + reading_figures(i, r);
+}
 
 /// The square law across one source resistor: |VS| and its derivatives with respect to
 /// ln IDSS and ln |VP|, and d ln VS / d ln RS.
@@ -62,7 +64,7 @@ SelfBiasPoint self_bias_point(double idss_a, double vp_abs_v, double rs_ohm, con
     if (done) break;
   }
   const double fu = dF_du(u);
-  const double dF_dln_idss = u;                                                   // c (1-u)^2 m = u
+  const double dF_dln_idss = u;                                                     // c (1-u)^2 m = u
   const double dF_dln_vp = -u - c * (1.0 - u) * (1.0 - u) * lambda * vp_abs_v * u;  // c ~ 1/|VP|, m
   const double du_dln_idss = -dF_dln_idss / fu, du_dln_vp = -dF_dln_vp / fu;
   return {vp_abs_v * u, vp_abs_v * du_dln_idss, vp_abs_v * (u + du_dln_vp), -1.0 / fu};
@@ -214,16 +216,18 @@ void check_each(std::span<const SelfBiasReading> readings, DeviceKind kind, cons
     if (!std::isfinite(r.rs_ohm) || r.rs_ohm <= 0)
       throw InputError(fmt::format("{}: RS must be above zero", reading_text(i, r)));
     if (!std::isfinite(r.vs_v) || r.vs_v == 0)
-      throw InputError(fmt::format("{}: VS must not be zero (no drain current flows: is the drain supplied?)",
-                                   reading_text(i, r)));
+      throw InputError(
+          fmt::format("{}: VS must not be zero (no drain current flows: is the drain supplied?)", reading_text(i, r)));
     if (n_channel && r.vs_v < 0)
-      throw InputError(fmt::format("{}: an N-channel source sits above ground; a negative reading means swapped "
-                                   "meter leads or a P-channel part",
-                                   reading_text(i, r)));
+      throw InputError(
+          fmt::format("{}: an N-channel source sits above ground; a negative reading means swapped "
+                      "meter leads or a P-channel part",
+                      reading_text(i, r)));
     if (!n_channel && (r.vs_v < 0) != p_negative)
-      throw InputError(fmt::format("{}: give every P-channel reading as measured (negative) or every one as a "
-                                   "magnitude, not a mixture",
-                                   reading_text(i, r)));
+      throw InputError(
+          fmt::format("{}: give every P-channel reading as measured (negative) or every one as a "
+                      "magnitude, not a mixture",
+                      reading_text(i, r)));
     if (bench.drain_supply_v && std::abs(r.vs_v) >= std::abs(*bench.drain_supply_v))
       throw InputError(fmt::format("{}: the source cannot sit at or beyond the drain supply {}", reading_text(i, r),
                                    volts_text(*bench.drain_supply_v)));
@@ -250,8 +254,8 @@ double SelfBiasFit::piece_uncertainty() const {
 
 double self_bias_source_voltage(double idss_a, double vp_abs_v, double rs_ohm, const BenchConditions& bench) {
   if (!(idss_a > 0) || !(vp_abs_v > 0) || !(rs_ohm >= 0))
-    throw InputError(fmt::format("self-bias: IDSS {:g}, |VP| {:g} and RS {:g} must be above zero", idss_a,
-                                 vp_abs_v, rs_ohm));
+    throw InputError(
+        fmt::format("self-bias: IDSS {:g}, |VP| {:g} and RS {:g} must be above zero", idss_a, vp_abs_v, rs_ohm));
   return self_bias_point(idss_a, vp_abs_v, rs_ohm, bench).vs_v;
 }
 
@@ -319,9 +323,10 @@ std::pair<double, double> straight_line(const Sample& s) {
   const double b = sxx > 0 ? -sxy / sxx : 0.0;
   const double a = my + b * mx;
   if (!(sxx > 0) || !(b > 0) || !(a > 0)) {
-    throw InputError(fmt::format("{}: no square-law piece gives these readings: the drain current does not fall as "
-                                 "the gate goes more negative",
-                                 s.span_text));
+    throw InputError(
+        fmt::format("{}: no square-law piece gives these readings: the drain current does not fall as "
+                    "the gate goes more negative",
+                    s.span_text));
   }
   return {a, b};
 }
@@ -389,8 +394,8 @@ void add_readings(SelfBiasFit& out, const Sample& s, double vp, const BenchCondi
 
 }  // namespace
 
-SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind kind,
-                          const ReadingAccuracy& accuracy, const BenchConditions& bench) {
+SelfBiasFit fit_self_bias(std::span<const SelfBiasReading> readings, DeviceKind kind, const ReadingAccuracy& accuracy,
+                          const BenchConditions& bench) {
   check_request(readings, kind, accuracy, bench);
   const bool n_channel = kind == DeviceKind::njfet;
   const Sample sample = sample_of(readings, kind, accuracy, bench);
@@ -425,7 +430,8 @@ double hfe_from_currents(double ib_a, double ic_a) {
   if (!std::isfinite(ib_a) || ib_a <= 0)
     throw InputError(fmt::format("base current IB {} must be above zero", units::format_value(ib_a, Unit::ampere)));
   if (!std::isfinite(ic_a) || ic_a <= 0)
-    throw InputError(fmt::format("collector current IC {} must be above zero", units::format_value(ic_a, Unit::ampere)));
+    throw InputError(
+        fmt::format("collector current IC {} must be above zero", units::format_value(ic_a, Unit::ampere)));
   if (ib_a >= ic_a)
     throw InputError(fmt::format("base current IB {} must be below the collector current IC {} (hFE = IC/IB above 1)",
                                  units::format_value(ib_a, Unit::ampere), units::format_value(ic_a, Unit::ampere)));

@@ -59,8 +59,8 @@ JfetEval jfet_eval(const JfetInstance& q, double vgs_v, double vds_v) {
   JfetEval e;
   e.region = f.region;
   e.id_a = -f.id_a;
-  e.gm_s = -f.gm_s;             // d/dvgs of -f(vgs - vds, -vds)
-  e.gds_s = f.gm_s + f.gds_s;   // d/dvds
+  e.gm_s = -f.gm_s;            // d/dvgs of -f(vgs - vds, -vds)
+  e.gds_s = f.gm_s + f.gds_s;  // d/dvds
   return e;
 }
 
@@ -96,8 +96,7 @@ double depletion_capacitance(double c0_f, double v, double vj_v, double m, doubl
   return c0_f * f1 * (1.0 - fc * (1.0 + m) + m * v / vj_v);
 }
 
-JfetInstance jfet_at(const JfetParams& p, DeviceKind kind, double idss_a, double vp_abs_v,
-                     double celsius) {
+JfetInstance jfet_at(const JfetParams& p, DeviceKind kind, double idss_a, double vp_abs_v, double celsius) {
   const double dt = celsius - kNominalCelsius;
   JfetInstance q;
   q.kind = kind;

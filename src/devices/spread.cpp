@@ -32,8 +32,8 @@ std::vector<Pt> polygon(double xl, double xh, double yl, double yh, double bl, d
   if (std::isfinite(bh)) lines.push_back({-2, 1, bh});
   const double eps = 1e-9;
   auto inside = [&](Pt p) {
-    return p.x >= xl - eps && p.x <= xh + eps && p.y >= yl - eps && p.y <= yh + eps &&
-           p.y - 2 * p.x >= bl - eps && p.y - 2 * p.x <= bh + eps;
+    return p.x >= xl - eps && p.x <= xh + eps && p.y >= yl - eps && p.y <= yh + eps && p.y - 2 * p.x >= bl - eps &&
+           p.y - 2 * p.x <= bh + eps;
   };
   std::vector<Pt> pts;
   for (std::size_t i = 0; i < lines.size(); ++i) {
@@ -54,9 +54,8 @@ std::vector<Pt> polygon(double xl, double xh, double yl, double yh, double bl, d
     c.x += p.x / static_cast<double>(pts.size());
     c.y += p.y / static_cast<double>(pts.size());
   }
-  std::sort(pts.begin(), pts.end(), [&](Pt a, Pt b) {
-    return std::atan2(a.y - c.y, a.x - c.x) < std::atan2(b.y - c.y, b.x - c.x);
-  });
+  std::sort(pts.begin(), pts.end(),
+            [&](Pt a, Pt b) { return std::atan2(a.y - c.y, a.x - c.x) < std::atan2(b.y - c.y, b.x - c.x); });
   return pts;
 }
 
@@ -78,8 +77,7 @@ bool parse_spread_model(std::string_view text, SpreadModel& out) {
   return false;
 }
 
-DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options)
-    : record_(record), model_(options.model) {
+DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options) : record_(record), model_(options.model) {
   if (is_jfet(record.kind)) {
     const JfetParams& p = record.jfet;
     const double id_lo = std::min(p.idss_a.min, p.idss_a.max);
@@ -102,9 +100,10 @@ DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options)
       const double lo = std::min({beta_small, beta_large, beta_typ}) / k;
       const double hi = std::max({beta_small, beta_large, beta_typ}) * k;
       build_jfet(vp_lo, vp_hi, id_lo, id_hi, lo, hi, beta_typ, vp_typ);
-      description_ = fmt::format("correlated datasheet spread (BETA {:.3g}..{:.3g} mA/V², both diagonal pieces; "
-                                 "IDSS {:.3g}..{:.3g} mA, |VP| {:.3g}..{:.3g} V)",
-                                 lo * 1e3, hi * 1e3, id_lo * 1e3, id_hi * 1e3, vp_lo, vp_hi);
+      description_ = fmt::format(
+          "correlated datasheet spread (BETA {:.3g}..{:.3g} mA/V², both diagonal pieces; "
+          "IDSS {:.3g}..{:.3g} mA, |VP| {:.3g}..{:.3g} V)",
+          lo * 1e3, hi * 1e3, id_lo * 1e3, id_hi * 1e3, vp_lo, vp_hi);
     }
   } else {
     const Range& h = record.bjt.hfe;
@@ -127,7 +126,8 @@ DeviceSpread::DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piec
   } else {
     if (!piece.hfe || !(*piece.hfe > 0)) throw InputError(fmt::format("piece {}: a BJT piece needs hfe", piece.label));
     build_bjt(*piece.hfe * (1 - u), *piece.hfe * (1 + u), *piece.hfe);
-    description_ = fmt::format("measured piece {} (hFE +/-{:g}%, VBE ±{:g} mV)", piece.label, u * 100, vbe_spread_ * 1e3);
+    description_ =
+        fmt::format("measured piece {} (hFE +/-{:g}%, VBE ±{:g} mV)", piece.label, u * 100, vbe_spread_ * 1e3);
   }
 }
 
@@ -162,9 +162,8 @@ void DeviceSpread::build_bjt(double hfe_lo, double hfe_hi, double hfe_nom) {
   }
 }
 
-void DeviceSpread::build_jfet(double vp_lo, double vp_hi, double id_lo, double id_hi,
-                              std::optional<double> beta_lo, std::optional<double> beta_hi,
-                              double beta_nom, double vp_nom) {
+void DeviceSpread::build_jfet(double vp_lo, double vp_hi, double id_lo, double id_hi, std::optional<double> beta_lo,
+                              std::optional<double> beta_hi, double beta_nom, double vp_nom) {
   x_lo_ = std::log(vp_lo);
   x_hi_ = std::log(vp_hi);
   y_lo_ = std::log(id_lo);
@@ -239,7 +238,9 @@ std::vector<PieceFigures> DeviceSpread::samples(std::size_t n, std::uint64_t see
         const PieceFigures& c = corners_[out.size() % corners_.size()];
         const double t = u01(rng);
         PieceFigures f{std::exp((1 - t) * std::log(nominal_.idss_a) + t * std::log(c.idss_a)),
-                       std::exp((1 - t) * std::log(nominal_.vp_abs_v) + t * std::log(c.vp_abs_v)), 0, {}};
+                       std::exp((1 - t) * std::log(nominal_.vp_abs_v) + t * std::log(c.vp_abs_v)),
+                       0,
+                       {}};
         f.tag = fmt::format("MC {}", out.size() + 1);
         out.push_back(f);
         continue;

@@ -15,10 +15,10 @@ namespace shelfstage::draw {
 
 namespace {
 
-constexpr double kTitleH = 26;      // title band above the plot area
-constexpr double kLeft = 64;        // room for y tick labels and the y title
+constexpr double kTitleH = 26;  // title band above the plot area
+constexpr double kLeft = 64;    // room for y tick labels and the y title
 constexpr double kRight = 16;
-constexpr double kAxisBelow = 40;   // x tick labels and the x title
+constexpr double kAxisBelow = 40;  // x tick labels and the x title
 constexpr double kLegendRow = 17;
 constexpr double kFont = 11;
 
@@ -117,7 +117,7 @@ double text_width(const std::string& s, double size) {
 
 /// Legend entries laid out in rows across the width; returns the rows' x positions.
 std::vector<std::vector<std::pair<double, std::size_t>>> legend_rows(const std::vector<LegendItem>& items,
-                                                                      double width) {
+                                                                     double width) {
   std::vector<std::vector<std::pair<double, std::size_t>>> rows;
   double x = kLeft;
   for (std::size_t i = 0; i < items.size(); ++i) {
@@ -357,8 +357,7 @@ void draw_axes(Svg& s, const Frame& f, const FrameTicks& t, const Plot& p) {
 void draw_legend_item(Svg& s, const LegendItem& it, double lx, double ly) {
   switch (it.kind) {
     case LegendItem::line:
-      s.line({lx, ly - 4}, {lx + 20, ly - 4},
-             Paint().stroke(it.colour, it.width).dash(it.dash).round());
+      s.line({lx, ly - 4}, {lx + 20, ly - 4}, Paint().stroke(it.colour, it.width).dash(it.dash).round());
       break;
     case LegendItem::swatch:
       s.rect(lx, ly - 10, 20, 11, Paint().stroke(it.colour, 1).fill(it.colour).opacity(it.opacity));

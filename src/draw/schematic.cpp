@@ -57,7 +57,10 @@ std::optional<Slot> slot_for(std::string_view role, const SchematicOptions& o) {
   const auto it = o.places.find(role);
   if (it == o.places.end()) return std::nullopt;
   const Place& p = it->second;
-  const Side side = p.label == 'l' ? Side::left : p.label == 'a' ? Side::above : p.label == 'b' ? Side::below : Side::right;
+  const Side side = p.label == 'l'   ? Side::left
+                    : p.label == 'a' ? Side::above
+                    : p.label == 'b' ? Side::below
+                                     : Side::right;
   return Slot{p.x, p.y, p.vertical, side};
 }
 
@@ -170,7 +173,7 @@ struct Router {
       const Point foot = vertical ? Point{at, p.at.y} : Point{p.at.x, at};
       if (!same(foot, p.at)) continue;
       const double c = vertical ? p.at.y : p.at.x;
-      const bool goes_minus = lo < c - 1e-9, goes_plus = hi > c + 1e-9;
+      const bool goes_minus = lo<c - 1e-9, goes_plus = hi> c + 1e-9;
       const double back = vertical ? -p.dir.y : -p.dir.x;  // the trunk direction over the symbol
       const bool along_axis = vertical ? std::abs(p.dir.x) < 1e-9 : std::abs(p.dir.y) < 1e-9;
       if (along_axis) {
@@ -232,7 +235,8 @@ bool turned_over(const circuit::Circuit& c) {
   double rail = 1;
   if (const auto* vdd = c.find("VDD")) rail = vdd->c.value < 0 ? -1 : 1;
   for (const auto& el : c.elements()) {
-    if (el.c.kind == ElementKind::jfet) flipped = (c.jfets()[el.c.device].kind == devices::DeviceKind::pjfet) == (rail > 0);
+    if (el.c.kind == ElementKind::jfet)
+      flipped = (c.jfets()[el.c.device].kind == devices::DeviceKind::pjfet) == (rail > 0);
     if (el.c.kind == ElementKind::bjt) flipped = (c.bjts()[el.c.device].kind == devices::DeviceKind::pnp) == (rail > 0);
   }
   return flipped;
@@ -271,8 +275,9 @@ Slot slot_of(const Placing& pl, const circuit::Component& e, bool mirrored) {
       slot->side = Side::above;
   }
   if (!slot)
-    throw InputError(fmt::format("schematic: no place for {} (role '{}'); neither the drawing template nor the stage places it",
-                                 e.designator, e.role));
+    throw InputError(
+        fmt::format("schematic: no place for {} (role '{}'); neither the drawing template nor the stage places it",
+                    e.designator, e.role));
   return *slot;
 }
 
@@ -303,11 +308,10 @@ void place_two_terminal(const Placing& pl, PlacedSymbol& sym, const circuit::Com
                                : (horizontal_rank(n0, pl.o) <= horizontal_rank(n1, pl.o) ? 0 : 1);
   const std::size_t second = 1 - sym.first_end;
   const Point d = sym.vertical ? Point{0, 1} : Point{1, 0};
-  pl.pins.push_back({e.designator, sym.first_end, e.pins[sym.first_end], {q.x - 2 * d.x, q.y - 2 * d.y},
-                     {-d.x, -d.y}});
+  pl.pins.push_back({e.designator, sym.first_end, e.pins[sym.first_end], {q.x - 2 * d.x, q.y - 2 * d.y}, {-d.x, -d.y}});
   pl.pins.push_back({e.designator, second, e.pins[second], {q.x + 2 * d.x, q.y + 2 * d.y}, d});
-  sym.body = sym.vertical ? Box{q.x - 0.6, q.y - 1.3, q.x + 0.6, q.y + 1.3}
-                          : Box{q.x - 1.3, q.y - 0.6, q.x + 1.3, q.y + 0.6};
+  sym.body =
+      sym.vertical ? Box{q.x - 0.6, q.y - 1.3, q.x + 0.6, q.y + 1.3} : Box{q.x - 1.3, q.y - 0.6, q.x + 1.3, q.y + 0.6};
   if (sym.kind == SymbolKind::ac_source || sym.kind == SymbolKind::dc_source)
     sym.body = {q.x - 1, q.y - 1.2, q.x + 1, q.y + 1.2};
   // The + terminal: a source's first pin when its value is positive (SPICE: plus,
@@ -319,9 +323,10 @@ void place_two_terminal(const Placing& pl, PlacedSymbol& sym, const circuit::Com
     else if (n1 == note->plus_net)
       sym.plus_pin = 1;
     else
-      throw InputError(fmt::format("schematic: {} is polarised with its + lead on net '{}', which is not one of "
-                                   "its nets ({}, {})",
-                                   e.designator, note->plus_net, n0, n1));
+      throw InputError(
+          fmt::format("schematic: {} is polarised with its + lead on net '{}', which is not one of "
+                      "its nets ({}, {})",
+                      e.designator, note->plus_net, n0, n1));
   }
 }
 
@@ -506,7 +511,8 @@ void arrow(const Pen& pen, Point tip, Point dir, const std::string& colour) {
   const double len = std::hypot(dir.x, dir.y);
   const Point d{dir.x / len, dir.y / len}, n{-d.y, d.x};
   const double l = 0.45, w = 0.22;
-  pen.filled({tip, {tip.x - l * d.x + w * n.x, tip.y - l * d.y + w * n.y},
+  pen.filled({tip,
+              {tip.x - l * d.x + w * n.x, tip.y - l * d.y + w * n.y},
               {tip.x - l * d.x - w * n.x, tip.y - l * d.y - w * n.y}},
              colour);
 }
@@ -528,8 +534,7 @@ void draw_resistor(const Stroke& k) {
   pen.line(k.L.at(1.1, 0), k.L.at(2, 0), k.ink, k.w);
   const Point a = pen.px(k.L.at(-1.1, -0.38)), b = pen.px(k.L.at(1.1, 0.38));
   pen.svg.rect(std::min(a.x, b.x), std::min(a.y, b.y), std::abs(b.x - a.x), std::abs(b.y - a.y),
-               Paint().stroke(k.ink, k.w).fill(k.s.bench ? palette::bench_fill : kResistorFill),
-               {{"rx", "3"}});
+               Paint().stroke(k.ink, k.w).fill(k.s.bench ? palette::bench_fill : kResistorFill), {{"rx", "3"}});
 }
 
 void draw_capacitor(const Stroke& k) {
@@ -561,7 +566,7 @@ void draw_dc_source(const Stroke& k) {
   const double p = k.plus_side;
   k.pen.line(k.L.at(-2, 0), k.L.at(-0.22, 0), k.ink, k.w);
   k.pen.line(k.L.at(0.22, 0), k.L.at(2, 0), k.ink, k.w);
-  k.pen.line(k.L.at(0.22 * p, -0.85), k.L.at(0.22 * p, 0.85), k.ink, 1.8);   // long plate: +
+  k.pen.line(k.L.at(0.22 * p, -0.85), k.L.at(0.22 * p, 0.85), k.ink, 1.8);  // long plate: +
   k.pen.line(k.L.at(-0.22 * p, -0.45), k.L.at(-0.22 * p, 0.45), k.ink, 4);  // short plate: -
   plus_sign(k.pen, k.L.at(0.75 * p, -0.7), kValue);
 }
@@ -617,8 +622,8 @@ void draw_bjt(const Stroke& k) {
 }
 
 void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
-  const Stroke k{pen, s, s.bench ? kBench : kInk, 1.8, Local{s.centre, s.vertical},
-                 s.plus_pin == s.first_end ? -1.0 : 1.0};
+  const Stroke k{
+      pen, s, s.bench ? kBench : kInk, 1.8, Local{s.centre, s.vertical}, s.plus_pin == s.first_end ? -1.0 : 1.0};
   switch (s.kind) {
     case SymbolKind::resistor: return draw_resistor(k);
     case SymbolKind::capacitor: return draw_capacitor(k);

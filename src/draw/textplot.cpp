@@ -66,7 +66,8 @@ struct Rows {
   int count = 0;
 
   explicit Rows(const TextPlot& p) {
-    double peak = -std::numeric_limits<double>::infinity(), top = peak, bottom = std::numeric_limits<double>::infinity();
+    double peak = -std::numeric_limits<double>::infinity(), top = peak,
+           bottom = std::numeric_limits<double>::infinity();
     for (std::size_t i = 0; i < p.y.size(); ++i) {
       if (std::isfinite(p.y[i])) peak = std::max(peak, p.y[i]);
       if (!p.hi.empty() && std::isfinite(p.hi[i])) top = std::max(top, p.hi[i]);
@@ -156,8 +157,8 @@ std::string x_axis(const TextPlot& p, const Columns& cx, std::size_t label_w) {
     int start = j - static_cast<int>(s.size()) / 2;
     start = std::max(start, 0);
     const auto st = static_cast<std::size_t>(start);
-    if (st + s.size() <= under.size() && under.substr(st == 0 ? 0 : st - 1, s.size() + (st == 0 ? 1 : 2))
-                                                 .find_first_not_of(' ') == std::string::npos)
+    if (st + s.size() <= under.size() &&
+        under.substr(st == 0 ? 0 : st - 1, s.size() + (st == 0 ? 1 : 2)).find_first_not_of(' ') == std::string::npos)
       under.replace(st, s.size(), s);
   }
   std::string out = fmt::format("{:>{}} \u2514", "", label_w);

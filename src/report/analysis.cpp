@@ -26,8 +26,8 @@ using units::Unit;
 
 // Smallest differences that count, per unit, so that figures at or near zero (a gate at 0 V,
 // the solver's 2 µV of junction leakage) do not show as a disagreement.
-constexpr double kFloorV = 1e-3, kFloorA = 1e-9, kFloorGain = 1e-3, kFloorOhm = 1e-3, kFloorHz = 1e-6,
-                 kFloorDb = 0.01, kFloorHd2 = 1e-5, kFloorNoise = 1e-12, kFloorW = 1e-6;
+constexpr double kFloorV = 1e-3, kFloorA = 1e-9, kFloorGain = 1e-3, kFloorOhm = 1e-3, kFloorHz = 1e-6, kFloorDb = 0.01,
+                 kFloorHd2 = 1e-5, kFloorNoise = 1e-12, kFloorW = 1e-6;
 
 // Capacitor margin: the DC plus the signal peak should stay under the rating by a quarter
 // (common practice; the synthesizer asks the same of the parts it picks).
@@ -45,8 +45,8 @@ bool same_name(std::string_view a, std::string_view b) {
 // A transistor of a kind the topology takes (netlist building only looks at the polarity).
 stages::Transistor placeholder(const stages::Topology& t) {
   stages::Transistor q;
-  for (auto k : {devices::DeviceKind::njfet, devices::DeviceKind::npn, devices::DeviceKind::pjfet,
-                 devices::DeviceKind::pnp}) {
+  for (auto k :
+       {devices::DeviceKind::njfet, devices::DeviceKind::npn, devices::DeviceKind::pjfet, devices::DeviceKind::pnp}) {
     if (t.accepts(k)) {
       q.kind = k;
       break;
@@ -182,8 +182,8 @@ void judge_part(const stages::Topology& t, PartStress& p, std::vector<std::strin
     if (p.over) {
       const double worst = std::max(p.power_w, p.power_closed_w);
       warnings.push_back(fmt::format("{} dissipates {}, more than {} its {} rating (common practice: at most half)",
-                                     part_label(p), format_value(worst, Unit::watt),
-                                     worst > rating ? "all of" : "half", format_value(rating, Unit::watt)));
+                                     part_label(p), format_value(worst, Unit::watt), worst > rating ? "all of" : "half",
+                                     format_value(rating, Unit::watt)));
     }
     return;
   }
@@ -205,19 +205,19 @@ void judge_part(const stages::Topology& t, PartStress& p, std::vector<std::strin
     // The verified range: reversed only where the DC from the + lead falls below zero.
     if (p.info.polarised && p.dc_min_v < 0) {
       p.reversed = true;
-      warnings.push_back(fmt::format("{} is polarised and fitted with its + lead to the {}, but it holds down to {} "
-                                     "from that lead at a corner: turn it round or fit a non-polarised part",
-                                     part_label(p), t.net_words(p.info.fitted_plus_net),
-                                     format_value(p.dc_min_v, Unit::volt)));
+      warnings.push_back(
+          fmt::format("{} is polarised and fitted with its + lead to the {}, but it holds down to {} "
+                      "from that lead at a corner: turn it round or fit a non-polarised part",
+                      part_label(p), t.net_words(p.info.fitted_plus_net), format_value(p.dc_min_v, Unit::volt)));
     }
     return;
   }
   if (p.info.polarised && !p.info.fitted_plus_net.empty() && p.dc_v > 0.05 && p.info.fitted_plus_net != p.plus_net) {
     p.reversed = true;
-    warnings.push_back(fmt::format("{} is polarised and fitted with its + lead to the {}, but the {} sits {} higher: "
-                                   "turn it round",
-                                   part_label(p), t.net_words(p.info.fitted_plus_net), t.net_words(p.plus_net),
-                                   format_value(p.dc_v, Unit::volt)));
+    warnings.push_back(fmt::format(
+        "{} is polarised and fitted with its + lead to the {}, but the {} sits {} higher: "
+        "turn it round",
+        part_label(p), t.net_words(p.info.fitted_plus_net), t.net_words(p.plus_net), format_value(p.dc_v, Unit::volt)));
   }
 }
 
@@ -261,9 +261,10 @@ stages::Values role_values(const stages::Topology& t, const std::vector<std::pai
       throw InputError(fmt::format("role {} is given twice ({} and {})", roles[i].name, format_value(v[i], unit),
                                    format_value(value, unit)));
     if (!std::isfinite(value) || value <= 0)
-      throw InputError(fmt::format("role {} '{:g}': a part's value must be positive (leave an optional role out "
-                                   "instead)",
-                                   roles[i].name, value));
+      throw InputError(
+          fmt::format("role {} '{:g}': a part's value must be positive (leave an optional role out "
+                      "instead)",
+                      roles[i].name, value));
     // A value far outside what parts come in is a slip of the unit (CIN=100 for 100n).
     const double lo = roles[i].kind == 'R' ? kMinOhm : kMinFarad, hi = roles[i].kind == 'R' ? kMaxOhm : kMaxFarad;
     if (value < lo || value > hi)
@@ -306,19 +307,18 @@ void check_stage(const StageUnderTest& stage) {
   const auto& t = *stage.topology;
   const auto roles = t.roles();
   if (!t.accepts(stage.transistor.kind))
-    throw InputError(fmt::format("{} does not take a {} ({})", t.name(), devices::kind_name(stage.transistor.kind),
-                                 t.summary()));
+    throw InputError(
+        fmt::format("{} does not take a {} ({})", t.name(), devices::kind_name(stage.transistor.kind), t.summary()));
   for (std::size_t i = 0; i < roles.size(); ++i)
     if (!roles[i].optional && !(stage.values[i] > 0))
-      throw InputError(fmt::format("role {} ({}) is missing: {} takes {}", roles[i].name, roles[i].what, t.name(),
-                                   role_list(t)));
+      throw InputError(
+          fmt::format("role {} ({}) is missing: {} takes {}", roles[i].name, roles[i].what, t.name(), role_list(t)));
 }
 
 // The output level HD2 is given at: 1 V peak, unless the stage cannot swing 2 V: then half
 // of what it can.
 double hd2_level(const StageUnderTest& stage) {
-  const auto core =
-      stage.topology->evaluate(stage.values, stage.transistor, stage.conditions, stages::Detail::core);
+  const auto core = stage.topology->evaluate(stage.values, stage.transistor, stage.conditions, stages::Detail::core);
   if (core.valid && core.clip_peak_v > 0 && core.clip_peak_v < 2.0) return 0.5 * core.clip_peak_v;
   return 1.0;
 }
@@ -373,9 +373,10 @@ std::string bias_warning(const Analysis& a) {
   const std::string why = !best.problem.empty()            ? best.problem
                           : !a.closed_form.problem.empty() ? a.closed_form.problem
                                                            : "out of its amplifying region";
-  return fmt::format("the transistor is {} at the bias point: the small-signal figures do not describe "
-                     "a linear amplifier",
-                     why);
+  return fmt::format(
+      "the transistor is {} at the bias point: the small-signal figures do not describe "
+      "a linear amplifier",
+      why);
 }
 
 // Hazardous supply, polarised parts (which way round), parts without a stated rating.
@@ -544,8 +545,9 @@ Json analysis_json(const Analysis& a) {
 std::string figures_text(const Analysis& a) {
   std::string out;
   if (a.exact) {
-    out += "Nominal figures: the netlist solved exactly (MNA); the closed form beside it where the two differ by "
-           "more than 1 %.\n";
+    out +=
+        "Nominal figures: the netlist solved exactly (MNA); the closed form beside it where the two differ by "
+        "more than 1 %.\n";
     TextTable t({{""}, {"exact", Align::right}, {"closed form", Align::right}});
     for (const auto& r : detail::figure_rows(a))
       t.add_row({r.label, r.format(r.exact), differs(r.exact, r.closed, r.floor) ? r.format(r.closed) : ""});
@@ -580,8 +582,9 @@ std::string parts_text(const Analysis& a) {
     } else {
       // A verified range reads "1.2..3.4V DC": the DC from the + lead over every corner.
       const bool spans = p.dc_range && differs(p.dc_min_v, p.dc_max_v, detail::kFloorV);
-      const std::string dc = spans ? fmt::format("{}..{}", detail::volts_shown(p.dc_min_v), detail::volts_shown(p.dc_max_v))
-                                   : detail::volts_shown(p.dc_range ? p.dc_max_v : p.dc_v);
+      const std::string dc =
+          spans ? fmt::format("{}..{}", detail::volts_shown(p.dc_min_v), detail::volts_shown(p.dc_max_v))
+                : detail::volts_shown(p.dc_range ? p.dc_max_v : p.dc_v);
       stress = fmt::format("{} DC + {} pk", dc, detail::volts_shown(p.peak_v));
       if (differs(p.dc_v, p.dc_closed_v, detail::kFloorV))
         closed = fmt::format("{} DC", detail::volts_shown(p.dc_closed_v));
@@ -643,9 +646,10 @@ std::string corners_text(const Analysis& a) {
     }
     table.add_row(row);
   }
-  std::string out = fmt::format("The closed form at the device's corner pieces ({}, {:g} °C), to show how far another "
-                                "piece moves the bias:\n",
-                                a.spread, a.stage.conditions.celsius);
+  std::string out = fmt::format(
+      "The closed form at the device's corner pieces ({}, {:g} °C), to show how far another "
+      "piece moves the bias:\n",
+      a.spread, a.stage.conditions.celsius);
   out += table.render({"  "});
   return out;
 }

@@ -38,7 +38,8 @@ std::string prefix_ids(std::string h, const std::string& prefix) {
       if (h.compare(i, l.size(), l) != 0) continue;
       const std::size_t start = i + l.size();
       std::size_t end = start;
-      while (end < h.size() && (std::isalnum(static_cast<unsigned char>(h[end])) || h[end] == '-' || h[end] == '_')) ++end;
+      while (end < h.size() && (std::isalnum(static_cast<unsigned char>(h[end])) || h[end] == '-' || h[end] == '_'))
+        ++end;
       const std::string name = h.substr(start, end - start);
       // A reference ends the name at a quote or a parenthesis (not a colour such as #1d2b3a;).
       if (!name.empty() && ids.count(name) && end < h.size() && (h[end] == '"' || h[end] == ')')) {
@@ -77,8 +78,8 @@ std::string chain_header(const ReportInput& in, const std::vector<std::string>& 
   h += fmt::format("<p class=\"muted\">Request: {}</p>", esc(spec_line(in.spec)));
   h += fmt::format("<p class=\"muted\">Kept {}; every figure below recomputed from the device list as it is now.</p>",
                    esc(in.created));
-  const auto cards = figure_cards(p, c.yield, {signed3(c.worst.gain.min) + " \u2026 " + signed3(c.worst.gain.max),
-                                               "worst-case gain"});
+  const auto cards =
+      figure_cards(p, c.yield, {signed3(c.worst.gain.min) + " \u2026 " + signed3(c.worst.gain.max), "worst-case gain"});
 
   h += hazard_box(cautions);
   return h + card_strip(cards) + "</header>";

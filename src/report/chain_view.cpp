@@ -84,16 +84,19 @@ std::string chain_figures_text(const synth::Candidate& c, const synth::Spec& spe
   w.add_row({"-3 dB high", hz(x.f_high_hz), hz(fast.f_high_hz)});
   w.add_row({"rated peak (within the THD bound)", format_value(x.swing_peak_v, Unit::volt),
              format_value(fast.swing_peak_v, Unit::volt)});
-  w.add_row({"THD at the requested level", fmt::format("{:.3g} %", 100 * x.thd), fmt::format("{:.3g} %", 100 * fast.thd)});
-  w.add_row({"supply current", format_value(x.supply_current_a, Unit::ampere), format_value(fast.supply_current_a, Unit::ampere)});
+  w.add_row(
+      {"THD at the requested level", fmt::format("{:.3g} %", 100 * x.thd), fmt::format("{:.3g} %", 100 * fast.thd)});
+  w.add_row({"supply current", format_value(x.supply_current_a, Unit::ampere),
+             format_value(fast.supply_current_a, Unit::ampere)});
   if (spec.band_hz) {
     w.add_row({fmt::format("loss at {}", format_value(spec.band_hz->first, Unit::hertz)),
                fmt::format("{:.2f} dB", x.loss_lo_db), fmt::format("{:.2f} dB", fast.loss_lo_db)});
     w.add_row({fmt::format("loss at {}", format_value(spec.band_hz->second, Unit::hertz)),
                fmt::format("{:.2f} dB", x.loss_hi_db), fmt::format("{:.2f} dB", fast.loss_hi_db)});
   }
-  out += "\nThe whole chain (exact: the chain's netlist solved as one circuit; cascade: the stages' closed forms\n"
-         "multiplied, corners by the cascade rule):\n";
+  out +=
+      "\nThe whole chain (exact: the chain's netlist solved as one circuit; cascade: the stages' closed forms\n"
+      "multiplied, corners by the cascade rule):\n";
   out += w.render({"  "});
   out += fmt::format(
       "\nWorst-case gain {}..{} (the product of the stages' ranges over their device corners, part tolerances,\n"

@@ -50,7 +50,8 @@ ResponseCurve sweep(const std::function<circuit::Circuit()>& build, const std::v
       prev = deg;
     }
     // Where the gain peaks, the phase is read within (-180, 180].
-    const auto peak = static_cast<std::size_t>(std::max_element(r.gain_db.begin(), r.gain_db.end()) - r.gain_db.begin());
+    const auto peak =
+        static_cast<std::size_t>(std::max_element(r.gain_db.begin(), r.gain_db.end()) - r.gain_db.begin());
     const double shift = -360 * std::ceil((r.phase_deg[peak] - 180) / 360);
     for (double& p : r.phase_deg) p += shift;
     r.solved = true;
@@ -119,7 +120,6 @@ StageUnderTest stage_under_test(const synth::Candidate& c) {
   return s;
 }
 
-
 namespace {
 
 // The sweep's frequencies: whole decades from a decade below the lower edge (of the stage's
@@ -156,24 +156,25 @@ void sweep_corners(const synth::Candidate& c, const synth::Spec& spec, Response&
   else
     spreads.emplace_back(0, spread);
   {
-    const stages::Transistor q = c.is_chain() ? c.stages.front().nominal_device : synth::make_transistor(spread, spread.nominal(), celsius);
+    const stages::Transistor q =
+        c.is_chain() ? c.stages.front().nominal_device : synth::make_transistor(spread, spread.nominal(), celsius);
     r.nominal = sweep(build(0, c.is_chain() ? nullptr : &q), r.f_hz, celsius, "nominal");
   }
   for (const auto& [stage, sp] : spreads)
-  for (const auto& f : sp.corners()) {
-    const stages::Transistor q = synth::make_transistor(sp, f, celsius);
-    r.corners.push_back(sweep(build(stage, &q), r.f_hz, celsius,
-                              c.is_chain() ? fmt::format("stage {} {}", stage + 1, f.tag) : f.tag));
-    // An inverting stage sits at +/-180 degrees: put every corner on the nominal's branch
-    // (whole turns), so the envelope spans the spread, not the wrap.
-    auto& k = r.corners.back();
-    if (k.solved && r.nominal.solved) {
-      const auto peak = static_cast<std::size_t>(std::max_element(r.nominal.gain_db.begin(), r.nominal.gain_db.end()) -
-                                                 r.nominal.gain_db.begin());
-      const double turn = 360 * std::round((r.nominal.phase_deg[peak] - k.phase_deg[peak]) / 360);
-      for (double& p : k.phase_deg) p += turn;
+    for (const auto& f : sp.corners()) {
+      const stages::Transistor q = synth::make_transistor(sp, f, celsius);
+      r.corners.push_back(sweep(build(stage, &q), r.f_hz, celsius,
+                                c.is_chain() ? fmt::format("stage {} {}", stage + 1, f.tag) : f.tag));
+      // An inverting stage sits at +/-180 degrees: put every corner on the nominal's branch
+      // (whole turns), so the envelope spans the spread, not the wrap.
+      auto& k = r.corners.back();
+      if (k.solved && r.nominal.solved) {
+        const auto peak = static_cast<std::size_t>(
+            std::max_element(r.nominal.gain_db.begin(), r.nominal.gain_db.end()) - r.nominal.gain_db.begin());
+        const double turn = 360 * std::round((r.nominal.phase_deg[peak] - k.phase_deg[peak]) / 360);
+        for (double& p : k.phase_deg) p += turn;
+      }
     }
-  }
 }
 
 // The gain and phase envelope over the nominal and every solved corner.
@@ -246,7 +247,9 @@ std::string response_text(const Response& r, int columns) {
   p.y_unit = "dB";
   p.columns = columns;
   std::string out = "Gain from the source to the load against frequency (Hz):\n" + draw::text_plot(p);
-  auto hz = [](double f) { return f > 0 ? units::format_value(f, units::Unit::hertz) : std::string("beyond the sweep"); };
+  auto hz = [](double f) {
+    return f > 0 ? units::format_value(f, units::Unit::hertz) : std::string("beyond the sweep");
+  };
   out += fmt::format("-3 dB points (nominal, from the peak of {:.1f} dB): {} and {}\n", r.peak_gain_db, hz(r.f_low_hz),
                      hz(r.f_high_hz));
   return out;

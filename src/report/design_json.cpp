@@ -107,16 +107,19 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
     s.supply_hi_v = std::max(a, b);
     if (j.contains("spread") && j["spread"].is_string() &&
         !devices::parse_spread_model(j["spread"].get<std::string>(), s.spread))
-      throw InputError(fmt::format("saved design: spread '{}' is not correlated or box", j["spread"].get<std::string>()));
+      throw InputError(
+          fmt::format("saved design: spread '{}' is not correlated or box", j["spread"].get<std::string>()));
     s.zin_min_ohm = j.at("zin").get<double>();
     s.source_ohm = j.at("source_z").get<double>();
-    if (j.contains("band") && j["band"].is_array()) s.band_hz = std::make_pair(j["band"][0].get<double>(), j["band"][1].get<double>());
+    if (j.contains("band") && j["band"].is_array())
+      s.band_hz = std::make_pair(j["band"][0].get<double>(), j["band"][1].get<double>());
     if (j.contains("swing") && j["swing"].is_number()) s.swing_vpp = j["swing"].get<double>();
     s.max_thd = j.value("max_distortion", 0.01);
     if (j.value("prefer", std::string("accuracy")) == "distortion") s.prefer = synth::Spec::Prefer::distortion;
     if (j.contains("max_current") && j["max_current"].is_number()) s.max_current_a = j["max_current"].get<double>();
     s.copies = j.at("copies").get<int>();
-    if (j.contains("temp") && j["temp"].is_array()) s.temp_c = std::make_pair(j["temp"][0].get<double>(), j["temp"][1].get<double>());
+    if (j.contains("temp") && j["temp"].is_array())
+      s.temp_c = std::make_pair(j["temp"][0].get<double>(), j["temp"][1].get<double>());
     if (j.contains("topologies")) s.topologies = j["topologies"].get<std::vector<std::string>>();
     if (j.contains("devices")) s.devices = j["devices"].get<std::vector<std::string>>();
     if (j.contains("piece") && j["piece"].is_string()) s.piece = j["piece"].get<std::string>();
@@ -244,8 +247,7 @@ Json transistor_json(const synth::Candidate& c) {
           {"v_reverse", range(w.device_rev)},
           {"v_rev_max", number_or_null(r.v_rev_max_v)},
           {"power", range(w.device_p)},
-          {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr)
-                                                                     : Json(w.device_p_allowed.min)},
+          {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr) : Json(w.device_p_allowed.min)},
           {"p_max", number_or_null(r.p_max_w)},
           {"voltage_share", synth::kDeviceVoltageShare},
           {"power_share", synth::kDevicePowerShare},
@@ -352,7 +354,8 @@ synth::Candidate chain_from_json(const nlohmann::json& j, const std::vector<devi
 void read_device(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
                  const std::vector<devices::MeasuredPiece>& pieces, synth::Candidate& c) {
   const std::string dev = j.at("device").at("name").get<std::string>();
-  const auto it = std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev; });
+  const auto it =
+      std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev; });
   if (it == devs.end()) throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev));
   c.device = *it;
   if (j.contains("spread") && j["spread"].is_string()) {
@@ -361,7 +364,8 @@ void read_device(const nlohmann::json& j, const std::vector<devices::DeviceRecor
   }
   if (j.contains("piece") && j["piece"].is_string()) {
     const std::string label = j["piece"].get<std::string>();
-    const auto pit = std::find_if(pieces.begin(), pieces.end(), [&](const auto& p) { return units::escape_text(p.label) == label; });
+    const auto pit =
+        std::find_if(pieces.begin(), pieces.end(), [&](const auto& p) { return units::escape_text(p.label) == label; });
     if (pit == pieces.end()) throw InputError(fmt::format("saved design: measured piece '{}' is gone", label));
     c.piece = *pit;
   }

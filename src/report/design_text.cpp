@@ -44,8 +44,8 @@ std::string rail_words(const synth::Spec& s) {
   const std::string sign = s.negative_rail ? "-" : "+";
   const std::string volts = s.supply_lo_v == s.supply_hi_v
                                 ? sign + format_value(s.supply_lo_v, Unit::volt)
-                                : fmt::format("{}{}..{}{}", sign, format_value(s.supply_lo_v), s.negative_rail ? "-" : "",
-                                              format_value(s.supply_hi_v, Unit::volt));
+                                : fmt::format("{}{}..{}{}", sign, format_value(s.supply_lo_v),
+                                              s.negative_rail ? "-" : "", format_value(s.supply_hi_v, Unit::volt));
   return fmt::format("{} rail, ground at the battery's {} terminal", volts, s.negative_rail ? "+" : "-");
 }
 
@@ -63,7 +63,8 @@ std::string spec_line(const synth::Spec& s) {
   out += ", " + rail_words(s);
   if (s.zin_min_ohm > 0) out += fmt::format(", Zin ≥ {}", format_value(s.zin_min_ohm, Unit::ohm));
   if (s.band_hz)
-    out += fmt::format(", band {}..{}", format_value(s.band_hz->first, Unit::hertz), format_value(s.band_hz->second, Unit::hertz));
+    out += fmt::format(", band {}..{}", format_value(s.band_hz->first, Unit::hertz),
+                       format_value(s.band_hz->second, Unit::hertz));
   if (s.swing_vpp) out += fmt::format(", swing {} Vpp", format_value(*s.swing_vpp));
   out += fmt::format(", THD ≤ {:g} %", 100 * s.max_thd);
   if (s.prefer == synth::Spec::Prefer::distortion) out += ", preferring low distortion";
@@ -115,10 +116,10 @@ std::string candidates_table(const synth::DesignResult& r) {
     const auto& n = c.nominal;
     const auto& w = c.worst;
     t.add_row({std::to_string(c.rank), c.id, c.topology_name(), device_text(c), fixed3(n.gain),
-               fmt::format("{}..{}", fixed3(w.gain.min), fixed3(w.gain.max)), format_value(n.bias_current_a, Unit::ampere),
+               fmt::format("{}..{}", fixed3(w.gain.min), fixed3(w.gain.max)),
+               format_value(n.bias_current_a, Unit::ampere),
                fmt::format("{} ({})", format_value(2 * n.swing_peak_v), format_value(2 * w.swing_peak.min)),
-               thd_cell(w.thd),
-               fmt::format("{}..{}", format_value(n.f_low_hz, Unit::hertz), upper_corner(n.f_high_hz)),
+               thd_cell(w.thd), fmt::format("{}..{}", format_value(n.f_low_hz, Unit::hertz), upper_corner(n.f_high_hz)),
                c.yield ? fmt::format("{:.0f}%", *c.yield * 100) : "", std::to_string(c.pieces)});
   }
   // Render the figures, then put each candidate's recipes under its line.

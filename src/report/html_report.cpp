@@ -249,10 +249,10 @@ std::string header_section(const ReportInput& in, const Analysis& a) {
 std::string schematic_section(const ReportInput& in) {
   const auto& c = in.candidate;
   const int stage = chain_stage_of(c);
-  const circuit::Circuit net =
-      stage > 0 ? stages::chain_stage_netlist({c.topology, c.values, c.nominal_device}, static_cast<std::size_t>(stage - 1),
-                                              c.conditions)
-                : c.topology->netlist(c.values, c.nominal_device, c.conditions);
+  const circuit::Circuit net = stage > 0
+                                   ? stages::chain_stage_netlist({c.topology, c.values, c.nominal_device},
+                                                                 static_cast<std::size_t>(stage - 1), c.conditions)
+                                   : c.topology->netlist(c.values, c.nominal_device, c.conditions);
   const auto s = draw::lay_out(net, schematic_notes(c));
   return "<section id=\"schematic\"><h2>Schematic</h2>" +
          figure(draw::schematic_svg(s, fmt::format("Schematic of {} with {}", c.topology->name(), c.device.name)),
@@ -265,7 +265,8 @@ std::string schematic_section(const ReportInput& in) {
 
 std::string response_section(const ReportInput& in, const Response& r) {
   std::string h = "<section id=\"response\"><h2>Frequency response</h2>";
-  if (!r.nominal.solved) return h + fmt::format("<p class=\"warn\">No response: {}</p></section>", esc(r.nominal.problem));
+  if (!r.nominal.solved)
+    return h + fmt::format("<p class=\"warn\">No response: {}</p></section>", esc(r.nominal.problem));
   const std::size_t n = r.f_hz.size();
   int solved = 0;
   for (const auto& k : r.corners) solved += k.solved;
@@ -526,7 +527,8 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
   std::vector<std::vector<std::string>> rows;
   std::vector<std::string> cls;
   for (const auto& p : a.parts) {
-    const auto rp = std::find_if(c.parts.begin(), c.parts.end(), [&](const synth::RolePart& x) { return x.role == p.name; });
+    const auto rp =
+        std::find_if(c.parts.begin(), c.parts.end(), [&](const synth::RolePart& x) { return x.role == p.name; });
     const bool r = p.kind == 'R';
     std::string recipe = rp != c.parts.end() ? rp->recipe : std::string();
     const std::string value = synth::compact_value(p.value, r);
@@ -542,8 +544,10 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
     if (p.reversed) check = "+ lead reversed", k = "warn";
     if (!(p.info.rating > 0) && k.empty()) check = "check the rating", k = "note";
     std::string plus;
-    if (!r && p.info.polarised) plus = "+ to " + net_for_people(p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net, c);
-    rows.push_back({p.designator, p.name, value, recipe, p.info.tol, p.info.dielectric, stress, rating, use, plus, check});
+    if (!r && p.info.polarised)
+      plus = "+ to " + net_for_people(p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net, c);
+    rows.push_back(
+        {p.designator, p.name, value, recipe, p.info.tol, p.info.dielectric, stress, rating, use, plus, check});
     cls.push_back(k);
   }
   {
@@ -552,8 +556,8 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
     const auto& w = c.worst;
     const auto& rt = c.device.ratings;
     const bool jfet = devices::is_jfet(c.device.kind);
-    std::string stress = fmt::format("{} at {}", amps(a.best().bias_current_a),
-                                     volts(std::abs(a.best().v_out - a.best().v_common)));
+    std::string stress =
+        fmt::format("{} at {}", amps(a.best().bias_current_a), volts(std::abs(a.best().v_out - a.best().v_common)));
     if (!w.device_v.empty)
       stress += fmt::format("; up to {}, {} reverse, {}", volts(w.device_v.max), volts(w.device_rev.max),
                             watts(w.device_p.max));
@@ -572,13 +576,13 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
       use = fmt::format("{:.0f} %", share * 100);
     }
     rows.push_back({transistor_designator(c), "device", c.device.name + (c.piece ? " (" + c.piece->label + ")" : ""),
-                    kind_text(c.device.kind), "", "", stress, rating, use, "",
-                    rt.any() ? "ok" : "check the ratings"});
+                    kind_text(c.device.kind), "", "", stress, rating, use, "", rt.any() ? "ok" : "check the ratings"});
     cls.emplace_back(rt.any() ? "" : "note");
   }
   return "<section id=\"parts\"><h2>Parts and ratings</h2>" +
-         table({"part", "role", "value", "recipe", "tol", "dielectric", "stress", "rating", "#use", "polarity", "check"},
-               rows, cls) +
+         table(
+             {"part", "role", "value", "recipe", "tol", "dielectric", "stress", "rating", "#use", "polarity", "check"},
+             rows, cls) +
          "<p class=\"muted\">Use: resistors against half their power rating, capacitors against their voltage rating "
          "less a quarter of margin, the transistor's voltages against 80 % of its maximum ratings and its dissipation "
          "against half its rating derated to the warmest ambient (common practice); its voltage is the whole rail, "
@@ -602,8 +606,9 @@ std::string pick_section(const ReportInput& in) {
   for (const auto& l : p.lines) {
     std::string tol = l.tol ? units::format_tolerance(*l.tol) : "";
     std::string rating = l.rating > 0 ? (l.kind == store::PartKind::resistor ? watts(l.rating) : volts(l.rating)) : "";
-    rows.push_back({l.bin.empty() ? "\u2014" : l.bin, fmt::format("{}", l.qty), build::item_value_text(l.kind, l.value, l.device),
-                    std::string(store::kind_code(l.kind)), tol, rating, l.dielectric, fmt::format("{}", fmt::join(l.designators, " "))});
+    rows.push_back({l.bin.empty() ? "\u2014" : l.bin, fmt::format("{}", l.qty),
+                    build::item_value_text(l.kind, l.value, l.device), std::string(store::kind_code(l.kind)), tol,
+                    rating, l.dielectric, fmt::format("{}", fmt::join(l.designators, " "))});
   }
   h += table({"bin", "#take", "value", "kind", "tol", "rating", "dielectric", "designators"}, rows);
   if (!p.assemblies.empty()) {
@@ -634,7 +639,8 @@ std::string figures_section(const ReportInput& in, const Analysis& a) {
   const auto names = c.topology->node_names();
   std::vector<std::vector<std::string>> rows = {
       {"gain (V/V)", signed3(x.gain), signed3(f.gain), range_text(w.gain, signed3)},
-      {std::string(names[2]) + " current", amps(x.bias_current_a), amps(f.bias_current_a), range_text(w.bias_current, amps)},
+      {std::string(names[2]) + " current", amps(x.bias_current_a), amps(f.bias_current_a),
+       range_text(w.bias_current, amps)},
       {fmt::format("V({})", names[0]), volts(x.v_in), volts(f.v_in), range_text(w.v_in, volts)},
       {fmt::format("V({})", names[1]), volts(x.v_common), volts(f.v_common), range_text(w.v_common, volts)},
       {fmt::format("V({})", names[2]), volts(x.v_out), volts(f.v_out), range_text(w.v_out, volts)},
@@ -643,7 +649,8 @@ std::string figures_section(const ReportInput& in, const Analysis& a) {
       {"\u22123 dB low", hertz(x.f_low_hz), hertz(f.f_low_hz), range_text(w.f_low, hertz)},
       {"\u22123 dB high", hertz(x.f_high_hz), hertz(f.f_high_hz), range_text(w.f_high, hertz)},
       {"clipping (symmetric peak)", volts(x.clip_peak_v), volts(f.clip_peak_v), "\u2014"},
-      {"rated peak (within the THD bound)", volts(x.swing_peak_v), volts(f.swing_peak_v), range_text(w.swing_peak, volts)},
+      {"rated peak (within the THD bound)", volts(x.swing_peak_v), volts(f.swing_peak_v),
+       range_text(w.swing_peak, volts)},
       {"second harmonic", fmt::format("{:.2g} %", x.hd2 * 100), fmt::format("{:.2g} %", f.hd2 * 100), "\u2014"},
       {"third harmonic", fmt::format("{:.2g} %", x.hd3 * 100), fmt::format("{:.2g} %", f.hd3 * 100), "\u2014"},
       {"THD", fmt::format("{:.2g} %", x.thd * 100), fmt::format("{:.2g} %", f.thd * 100),
@@ -698,7 +705,8 @@ draw::SchematicOptions schematic_notes(const synth::Candidate& c) {
     o.net_levels[std::string(inner.name)] = inner.level;
     o.net_orders[std::string(inner.name)] = inner.order;
   }
-  o.notes[transistor_designator(c)] = {c.device.name + (c.piece ? " " + c.piece->label : ""), kind_text(c.device.kind), false, ""};
+  o.notes[transistor_designator(c)] = {c.device.name + (c.piece ? " " + c.piece->label : ""), kind_text(c.device.kind),
+                                       false, ""};
   o.notes["VDD"] = {volts(c.conditions.supply_v), "supply", false, ""};
   o.notes["VSIG"] = {"signal", "", false, ""};
   o.notes["RSIG"] = {c.conditions.source_ohm > 0 ? synth::compact_value(c.conditions.source_ohm, true) : "0 (ideal)",

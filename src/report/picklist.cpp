@@ -60,9 +60,9 @@ std::string net_for_people(std::string_view net, const synth::Candidate& c, std:
                ? fmt::format("the output side (toward stage {})", stage + 1)
                : std::string("the output side (toward the load)");
   if (const stages::InnerNet* inner = c.topology ? c.topology->inner_net(net) : nullptr) {
-    const bool has_upper = inner->upper.empty() || std::any_of(c.parts.begin(), c.parts.end(), [&](const synth::RolePart& rp) {
-                             return rp.role == inner->upper;
-                           });
+    const bool has_upper =
+        inner->upper.empty() ||
+        std::any_of(c.parts.begin(), c.parts.end(), [&](const synth::RolePart& rp) { return rp.role == inner->upper; });
     if (!has_upper) return fmt::format("the {} of {} ({} is left out)", c.topology->node_names()[1], q, inner->upper);
     return fmt::format("the {}", inner->words);
   }
@@ -131,7 +131,8 @@ PickList make_pick_list(const synth::Candidate& c, int copies, const std::vector
       std::vector<std::string> pieces;
       for (int k = 0; k < n; ++k) pieces.push_back(build::designator(rp.designator, k, n, 1, 1));
       if (n > 1) out.assemblies.push_back(assembly_of(rp, pieces));
-      if (rp.polarised && !rp.plus_net.empty()) out.polarities.push_back(polarity_of(rp, pieces, *sc, stage_list.size()));
+      if (rp.polarised && !rp.plus_net.empty())
+        out.polarities.push_back(polarity_of(rp, pieces, *sc, stage_list.size()));
     }
   }
   return out;
@@ -220,10 +221,11 @@ std::string pick_csv(const PickList& p) {
                  const std::string& device, int qty, const std::vector<std::string>& designators,
                  const std::optional<units::Tolerance>& tol, double rating, const std::string& dielectric,
                  std::string part_id) {
-    out += fmt::format("{},{},{},{},{},{},{},{},{},{}\n", status, store::csv_field(bin), kind_letter(kind),
-                       store::csv_field(build::item_value_text(kind, value, device)), qty,
-                       store::csv_field(fmt::format("{}", fmt::join(designators, " "))), store::csv_field(tol_text(tol)),
-                       rating > 0 ? fmt::format("{:g}", rating) : std::string(), store::csv_field(dielectric), part_id);
+    out +=
+        fmt::format("{},{},{},{},{},{},{},{},{},{}\n", status, store::csv_field(bin), kind_letter(kind),
+                    store::csv_field(build::item_value_text(kind, value, device)), qty,
+                    store::csv_field(fmt::format("{}", fmt::join(designators, " "))), store::csv_field(tol_text(tol)),
+                    rating > 0 ? fmt::format("{:g}", rating) : std::string(), store::csv_field(dielectric), part_id);
   };
   for (const auto& l : p.lines)
     row("pick", l.bin, l.kind, l.value, l.device, l.qty, l.designators, l.tol, l.rating, l.dielectric,
@@ -234,21 +236,29 @@ std::string pick_csv(const PickList& p) {
 }
 
 std::string pick_text(const PickList& p) {
-  std::string out = fmt::format("Pick list for {} ({} with {}), {} cop{}: {} pieces from {} stock lines.\n", p.design_id,
-                                p.topology, p.device, p.copies, p.copies == 1 ? "y" : "ies", p.pieces(), p.lines.size());
+  std::string out =
+      fmt::format("Pick list for {} ({} with {}), {} cop{}: {} pieces from {} stock lines.\n", p.design_id, p.topology,
+                  p.device, p.copies, p.copies == 1 ? "y" : "ies", p.pieces(), p.lines.size());
   if (!p.rail.empty()) out += fmt::format("Supply: {}.\n", p.rail);
   if (p.copies > 1) out += "Designators carry the copy number: R3.2 is R3 of copy 2.\n";
   if (!p.lines.empty()) {
-    TextTable t({{"BIN"}, {"KIND"}, {"VALUE", Align::right}, {"TOL"}, {"RATING", Align::right}, {"TYPE"},
-                 {"QTY", Align::right}, {"FOR"}});
+    TextTable t({{"BIN"},
+                 {"KIND"},
+                 {"VALUE", Align::right},
+                 {"TOL"},
+                 {"RATING", Align::right},
+                 {"TYPE"},
+                 {"QTY", Align::right},
+                 {"FOR"}});
     std::string last_bin = "\x01";
     for (const auto& l : p.lines) {
       std::string bin = l.bin == last_bin ? std::string() : (l.bin.empty() ? std::string("(no bin)") : l.bin);
       last_bin = l.bin;
       std::string qty = std::to_string(l.qty);
       if (l.from_reserved > 0) qty += fmt::format(" ({} held)", l.from_reserved);
-      t.add_row({bin, std::string(kind_letter(l.kind)), build::item_value_text(l.kind, l.value, l.device), tol_text(l.tol),
-                 rating_text(l.kind, l.rating), l.dielectric, qty, fmt::format("{}", fmt::join(l.designators, " "))});
+      t.add_row({bin, std::string(kind_letter(l.kind)), build::item_value_text(l.kind, l.value, l.device),
+                 tol_text(l.tol), rating_text(l.kind, l.rating), l.dielectric, qty,
+                 fmt::format("{}", fmt::join(l.designators, " "))});
     }
     out += "\n" + t.render(indented());
   }
@@ -278,8 +288,9 @@ std::string shopping_text(const std::vector<build::ShortItem>& items) {
     if (!rating.empty()) rating = "at least " + rating;
     if (s.kind == store::PartKind::capacitor && !s.dielectric.empty())
       rating = rating.empty() ? s.dielectric : rating + " " + s.dielectric;
-    t.add_row({std::to_string(s.qty), std::string(kind_letter(s.kind)), build::item_value_text(s.kind, s.value, s.device),
-               tol_text(s.tol), rating, fmt::format("{}", fmt::join(s.designators, " "))});
+    t.add_row({std::to_string(s.qty), std::string(kind_letter(s.kind)),
+               build::item_value_text(s.kind, s.value, s.device), tol_text(s.tol), rating,
+               fmt::format("{}", fmt::join(s.designators, " "))});
   }
   return t.render(indented());
 }

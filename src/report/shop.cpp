@@ -22,7 +22,8 @@ Json items_json(const std::vector<build::ShortItem>& items) {
 Json option_json(const build::ShopOption& opt) {
   Json parts = Json::array();
   for (const auto& rp : opt.candidate.parts)
-    parts.push_back({{"role", rp.role}, {"designator", rp.designator}, {"value", rp.combo.nominal}, {"recipe", rp.recipe}});
+    parts.push_back(
+        {{"role", rp.role}, {"designator", rp.designator}, {"value", rp.combo.nominal}, {"recipe", rp.recipe}});
   return {{"topology", opt.candidate.topology_name()},
           {"device", opt.candidate.device.name},
           {"error_worst", opt.candidate.error_worst},
@@ -41,8 +42,8 @@ std::string smaller_text(const synth::Purchase& p, int short_pieces) {
   return fmt::format(
              "\nA smaller purchase for the same request: {} piece{} instead of {}, for {} with {} (worst-case gain "
              "error {}):\n   {}\n",
-             p.pieces, p.pieces == 1 ? "" : "s", short_pieces, c.topology_name(), c.device.name,
-             percent(c.error_worst), recipe_line(c)) +
+             p.pieces, p.pieces == 1 ? "" : "s", short_pieces, c.topology_name(), c.device.name, percent(c.error_worst),
+             recipe_line(c)) +
          shopping_text(build::purchase_items(p));
 }
 
@@ -56,13 +57,14 @@ Json shop_json(const std::string& design_id, const build::Shopping& s) {
     smallest = {{"design", candidate_json(s.smaller->design)},
                 {"pieces_to_buy", s.smaller->pieces},
                 {"buy", items_json(build::purchase_items(*s.smaller))}};
-  return {{"schema", 1},
-          {"design", design_id},
-          {"copies", s.plan.copies},
-          {"short", items_json(s.plan.short_items)},
-          {"smallest_purchase", smallest},
-          {"kept", {{"error_worst", s.kept.error_worst}, {"error_nominal", s.kept.error_nominal}, {"score", s.kept.score}}},
-          {"improvements", better}};
+  return {
+      {"schema", 1},
+      {"design", design_id},
+      {"copies", s.plan.copies},
+      {"short", items_json(s.plan.short_items)},
+      {"smallest_purchase", smallest},
+      {"kept", {{"error_worst", s.kept.error_worst}, {"error_nominal", s.kept.error_nominal}, {"score", s.kept.score}}},
+      {"improvements", better}};
 }
 
 std::string shop_text(const std::string& design_id, const build::Shopping& s) {

@@ -15,7 +15,14 @@ enum : std::size_t { R1, R2, RC, RE1, RE2, CE, CIN, COUT };
 constexpr Role kRoles[] = {
     {"R1", "R1", 'R', false, false, "", "", "supply to base: upper divider leg", {13, 6, true, 'l'}},
     {"R2", "R2", 'R', false, false, "", "", "base to ground: lower divider leg", {13, 19, true, 'l'}},
-    {"RC", "R3", 'R', false, false, "", "", "supply to collector: the load the gain develops across",
+    {"RC",
+     "R3",
+     'R',
+     false,
+     false,
+     "",
+     "",
+     "supply to collector: the load the gain develops across",
      {19, 6, true, 'l'}},
     {"RE1", "R4", 'R', true, false, "", "", "emitter to x, unbypassed: sets the gain", {19, 17, true, 'l'}},
     {"RE2", "R5", 'R', true, false, "", "", "x to ground, bypassed: adds bias only", {19, 23, true, 'l'}},
@@ -65,8 +72,10 @@ struct CeLowResponse {
   double corner_hz() const {
     const cd ref = mid();
     const double p_in = 1.0 / (cin * (rsig + rth)), p_out = 1.0 / (cout * rl);
-    const double p_e = (ce > 0 && re2 > 0) ? 1.0 / (ce * (re2 * (re1 + rpi / (beta + 1.0)) / (re2 + re1 + rpi / (beta + 1.0)))) : 0.0;
-    return detail::lf_crossing_hz([&](double w) { return h2(w, ref) < 0.5; }, 0.25 * std::max({p_in, p_out, p_e}), 4.0 * (p_in + p_out + p_e));
+    const double p_e =
+        (ce > 0 && re2 > 0) ? 1.0 / (ce * (re2 * (re1 + rpi / (beta + 1.0)) / (re2 + re1 + rpi / (beta + 1.0)))) : 0.0;
+    return detail::lf_crossing_hz([&](double w) { return h2(w, ref) < 0.5; }, 0.25 * std::max({p_in, p_out, p_e}),
+                                  4.0 * (p_in + p_out + p_e));
   }
 };
 
@@ -166,7 +175,7 @@ detail::HybridPi hybrid_pi(const CeSignal& s, const devices::BjtInstance& t) {
 // The low corner and the loss at the band's low edge: the couplings and the bypass
 // interact through the transistor, so one network (CeLowResponse).
 void set_low_response(Performance& p, const CeSignal& s, const Values& v, const Conditions& c, Detail d) {
-  const CeLowResponse lr{s.beta,  s.rpi,  s.rth,      c.source_ohm, v[RE1], v[RE2], v[RE2] > 0 ? v[CE] : 0.0,
+  const CeLowResponse lr{s.beta, s.rpi, s.rth,      c.source_ohm, v[RE1], v[RE2], v[RE2] > 0 ? v[CE] : 0.0,
                          v[CIN], v[RC], c.load_ohm, v[COUT],      s.ro};
   if (d == Detail::full) p.f_low_hz = lr.corner_hz();
   if (c.band_lo_hz > 0)
@@ -180,11 +189,11 @@ double input_noise(const CeSignal& s, const Values& v, const Conditions& c) {
   const double kt4 = detail::thermal_v2(1.0, c.celsius);
   const double q2 = 2.0 * devices::kCharge;
   const double dd = 1.0 + (rs2 + r_deg) / rpi + gm * r_deg;
-  double v2 = kt4 * rs2;                                          // source and divider
+  double v2 = kt4 * rs2;  // source and divider
   const double kc = (1.0 + (rs2 + r_deg) / rpi) / gm;
-  v2 += q2 * s.b.ic_a * kc * kc;                                 // collector shot
-  v2 += q2 * s.b.ib_a * (rs2 + r_deg) * (rs2 + r_deg);           // base shot
-  v2 += kt4 * r_deg;                                              // RE1
+  v2 += q2 * s.b.ic_a * kc * kc;                                         // collector shot
+  v2 += q2 * s.b.ib_a * (rs2 + r_deg) * (rs2 + r_deg);                   // base shot
+  v2 += kt4 * r_deg;                                                     // RE1
   v2 += kt4 * (1.0 / v[RC] + 1.0 / c.load_ohm) * (dd / gm) * (dd / gm);  // RC and the load
   const double dth = s.rth / (s.rth + c.source_ohm);
   return std::sqrt(v2) / dth;
@@ -260,7 +269,8 @@ class BjtCeDivider final : public Topology {
     set_low_response(p, s, v, c, d);
     // Third-order expansion of the exponential law with the Early effect on the mid-band
     // network (HD2 to first order: Vo/(4*IC*RL'*(1 + gm*(Rdeg + Rs''/(beta + 1))))).
-    detail::finish_distortion(p, c, [&] { return detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
+    detail::finish_distortion(
+        p, c, [&] { return detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
     if (d != Detail::core) {
       p.noise_v_rthz = input_noise(s, v, c);
       p.stress = part_stress(b, v, c);
@@ -320,8 +330,8 @@ class BjtCeDivider final : public Topology {
     Values t = v;
     const auto& d = q.bjt;
     const double rth = par(v[R1], v[R2]);
-    const detail::BjtBias b = detail::bjt_bias(d, c.supply_v * v[R2] / (v[R1] + v[R2]), rth, v[RE1] + v[RE2],
-                                               v[RC], c.supply_v);
+    const detail::BjtBias b =
+        detail::bjt_bias(d, c.supply_v * v[R2] / (v[R1] + v[R2]), rth, v[RE1] + v[RE2], v[RC], c.supply_v);
     const double gm = b.conducts ? b.gm_s : 1e-3;
     const double zin = par(rth, d.bf * (1.0 / gm + v[RE1]));
     t[CIN] = detail::cap_for(c.source_ohm + zin, f / 6);

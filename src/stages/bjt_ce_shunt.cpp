@@ -33,16 +33,31 @@ constexpr Role kRoles[] = {
     {"RIN", "R1", 'R', false, false, "", "", "input to base: with RF, sets the gain", {12, 18, false, 'b'}},
     {"RF", "R2", 'R', false, false, "", "", "collector to base: feedback and bias", {14, 9, true, 'l'}},
     {"RB", "R3", 'R', true, false, "", "", "base to ground: carries RF's bias current", {14, 22, true, 'l'}},
-    {"RC", "R4", 'R', false, false, "", "", "supply to collector: the load the gain develops across",
+    {"RC",
+     "R4",
+     'R',
+     false,
+     false,
+     "",
+     "",
+     "supply to collector: the load the gain develops across",
      {19, 5, true, 'r'}},
-    {"RE1", "R5", 'R', true, false, "", "", "emitter to x, unbypassed: steadies the bias and the gain",
+    {"RE1",
+     "R5",
+     'R',
+     true,
+     false,
+     "",
+     "",
+     "emitter to x, unbypassed: steadies the bias and the gain",
      {19, 17, true, 'l'}},
     {"RE2", "R6", 'R', true, false, "", "", "x to ground, bypassed: adds bias only", {19, 23, true, 'l'}},
     {"CE", "C2", 'C', true, true, "x", "0", "bypass across RE2", {22, 23, true, 'r'}, true},
     {"CIN", "C1", 'C', false, true, "xin", "in", "input coupling", {8, 16, true, 'r'}},
     {"COUT", "C3", 'C', false, true, "collector", "out", "output coupling", {23, 9, false, 'a'}},
 };
-constexpr InnerNet kInner[] = {{"x", "RE1\u2013RE2 junction", 4, "RE1"}, {"xin", "CIN\u2013RIN junction", 2.5, {}, 1.5}};
+constexpr InnerNet kInner[] = {{"x", "RE1\u2013RE2 junction", 4, "RE1"},
+                               {"xin", "CIN\u2013RIN junction", 2.5, {}, 1.5}};
 constexpr detail::CommonRoles kCommon{RC, RE1, RE2, CE, CIN, COUT};
 
 // The bias the feedback sets: Newton on VBE (exponential law, Early effect from the last VCE),
@@ -83,9 +98,7 @@ detail::BjtBias feedback_bias(const devices::BjtInstance& q, const Values& v, do
 }
 
 /// RF's current: the base current and RB's.
-double rf_current(const detail::BjtBias& b, const Values& v) {
-  return b.ib_a + (v[RB] > 0 ? b.vb_v / v[RB] : 0.0);
-}
+double rf_current(const detail::BjtBias& b, const Values& v) { return b.ib_a + (v[RB] > 0 ? b.vb_v / v[RB] : 0.0); }
 
 // The small-signal view of a conducting stage.
 struct ShuntSignal {
@@ -121,7 +134,7 @@ ShuntSignal shunt_signal(const detail::BjtBias& b, const Values& v, const device
 // The mid-band nodal matrix of (base, emitter, collector), capacitances open.
 Eigen::Matrix3d mid_matrix(const detail::HybridPi& m) {
   Eigen::Matrix3d a;
-  a << m.g_src + m.gpi + m.g_f, -m.gpi, -m.g_f,  //
+  a << m.g_src + m.gpi + m.g_f, -m.gpi, -m.g_f,           //
       -m.gpi - m.gm, m.gpi + m.gm + m.go + m.g_e, -m.go,  //
       m.gm - m.g_f, -m.gm - m.go, m.go + m.g_c + m.g_f;
   return a;
@@ -172,8 +185,8 @@ struct ShuntLowResponse {
     const cd yo = 1.0 / zo;
     const double gin = 1.0 / rin, gf = 1.0 / rf, gc = 1.0 / rc;
     Eigen::Matrix4cd a;
-    a << ys + gin, -gin, 0.0, 0.0,  //
-        -gin, gin + g_rb + gpi + gf, -gpi, -gf,  //
+    a << ys + gin, -gin, 0.0, 0.0,                //
+        -gin, gin + g_rb + gpi + gf, -gpi, -gf,   //
         0.0, -gpi - gm, gpi + gm + go + ye, -go,  //
         0.0, gm - gf, -gm - go, go + gc + gf + yo;
     const Eigen::Vector4cd x = a.partialPivLu().solve(Eigen::Vector4cd(ys, 0.0, 0.0, 0.0));
@@ -215,7 +228,7 @@ void set_low_response(Performance& p, const ShuntSignal& s, const Values& v, con
 double input_noise(const ShuntSignal& s, const Values& v, const Conditions& c, double gain) {
   const Eigen::PartialPivLU<Eigen::Matrix3d> lu(mid_matrix(s.m));
   const double kt4 = detail::thermal_v2(1.0, c.celsius), q2 = 2.0 * devices::kCharge;
-  enum { B, E, C, G };  // nodes; G: ground
+  enum { B, E, C, G };                // nodes; G: ground
   auto out = [&](int from, int to) {  // |vc| per ampere driven from `from` into `to`
     Eigen::Vector3d rhs = Eigen::Vector3d::Zero();
     if (from != G) rhs(from) -= 1.0;
@@ -344,7 +357,8 @@ class BjtCeShunt final : public Topology {
     set_swing(p, s, x, t);
     detail::finish_response(p, {}, s.m, c, d);
     set_low_response(p, s, v, c, d);
-    detail::finish_distortion(p, c, [&] { return detail::transfer(s.m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
+    detail::finish_distortion(
+        p, c, [&] { return detail::transfer(s.m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
     if (d != Detail::core) {
       p.noise_v_rthz = input_noise(s, v, c, p.gain);
       p.stress = part_stress(b, v);
@@ -397,7 +411,8 @@ class BjtCeShunt final : public Topology {
     const double gm = b.conducts ? b.gm_s : 1e-3;
     t[CIN] = detail::cap_for(c.source_ohm + v[RIN], f / 6);
     t[COUT] = detail::cap_for(v[RC] + c.load_ohm, f / 6);
-    const double look = v[RE1] + (d.bf / gm + par(par(c.source_ohm + v[RIN], v[RF]), v[RB] > 0 ? v[RB] : INFINITY)) / (d.bf + 1.0);
+    const double look =
+        v[RE1] + (d.bf / gm + par(par(c.source_ohm + v[RIN], v[RF]), v[RB] > 0 ? v[RB] : INFINITY)) / (d.bf + 1.0);
     t[CE] = v[RE2] > 0 ? detail::cap_for(par(v[RE2], look), f / 4) : 0.0;
     return t;
   }

@@ -15,7 +15,14 @@ enum : std::size_t { R1, R2, RE, CIN, COUT };
 constexpr Role kRoles[] = {
     {"R1", "R1", 'R', false, false, "", "", "supply to base: upper divider leg", {13, 6, true, 'l'}},
     {"R2", "R2", 'R', false, false, "", "", "base to ground: lower divider leg", {13, 19, true, 'l'}},
-    {"RE", "R3", 'R', false, false, "", "", "emitter to ground: sets the current and drives the load",
+    {"RE",
+     "R3",
+     'R',
+     false,
+     false,
+     "",
+     "",
+     "emitter to ground: sets the current and drives the load",
      {19, 19, true, 'l'}},
     {"CIN", "C1", 'C', false, true, "base", "in", "input coupling", {10, 14, false, 'a'}},
     {"COUT", "C2", 'C', false, true, "emitter", "out", "output coupling", {23, 16, false, 'b'}},
@@ -48,7 +55,8 @@ struct FollowerLowResponse {
   double corner_hz() const {
     const std::complex<double> ref = mid();
     const double p_in = 1.0 / (cin * (rsig + rth)), p_out = 1.0 / (cout * rl);
-    return detail::lf_crossing_hz([&](double w) { return h2(w, ref) < 0.5; }, 0.25 * std::max(p_in, p_out), 4.0 * (p_in + p_out));
+    return detail::lf_crossing_hz([&](double w) { return h2(w, ref) < 0.5; }, 0.25 * std::max(p_in, p_out),
+                                  4.0 * (p_in + p_out));
   }
 };
 
@@ -146,22 +154,21 @@ class BjtFollower final : public Topology {
 
     // Third-order expansion of the exponential law with the Early effect (the collector at
     // AC ground, so VCE moves against the output) on the mid-band network.
-    detail::finish_distortion(p, c, [&] { return detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
+    detail::finish_distortion(
+        p, c, [&] { return detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
     if (d != Detail::core) {
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
       const double q2 = 2.0 * devices::kCharge;
       const double gx = gm + 1.0 / rpi;
       const double kc = (1.0 + rs2 / rpi) / gx;
       double v2 = kt4 * rs2;
-      v2 += q2 * b.ic_a * kc * kc;                                           // collector shot
+      v2 += q2 * b.ic_a * kc * kc;                                            // collector shot
       v2 += q2 * b.ib_a * ((1.0 - gm * rs2) / gx) * ((1.0 - gm * rs2) / gx);  // base shot
-      v2 += kt4 * (1.0 / v[RE] + 1.0 / c.load_ohm) * kc * kc;                // RE and the load
+      v2 += kt4 * (1.0 / v[RE] + 1.0 / c.load_ohm) * kc * kc;                 // RE and the load
       p.noise_v_rthz = std::sqrt(v2) / (rth / (rth + c.source_ohm));
       const double i1 = idiv, i2 = b.vb_v / v[R2];
-      p.stress = {detail::res_stress(R1, i1 * i1 * v[R1]),
-                  detail::res_stress(R2, i2 * i2 * v[R2]),
-                  detail::res_stress(RE, b.ie_a * b.ie_a * v[RE]),
-                  detail::cap_stress(CIN, b.vb_v),
+      p.stress = {detail::res_stress(R1, i1 * i1 * v[R1]), detail::res_stress(R2, i2 * i2 * v[R2]),
+                  detail::res_stress(RE, b.ie_a * b.ie_a * v[RE]), detail::cap_stress(CIN, b.vb_v),
                   detail::cap_stress(COUT, b.ve_v)};
     }
     return p;

@@ -381,12 +381,13 @@ circuit::Circuit bench(const Conditions& c) {
   net.vsource("VSIG", "signal", std::string(kNetSignal), "0", 0.0, 1.0);
   net.resistor("RSIG", "source", std::string(kNetSignal), std::string(kNetIn), c.source_ohm > 0 ? c.source_ohm : 1e-3);
   net.resistor("RL", "load", std::string(kNetOut), "0", c.load_ohm);
-  if (c.load_farads > 0) net.capacitor("CL", std::string(kRoleLoadCapacitance), std::string(kNetOut), "0", c.load_farads);
+  if (c.load_farads > 0)
+    net.capacitor("CL", std::string(kRoleLoadCapacitance), std::string(kNetOut), "0", c.load_farads);
   return net;
 }
 
-void add_role(circuit::Circuit& net, std::span<const Role> roles, const Values& v, std::size_t i,
-              const std::string& a, const std::string& b) {
+void add_role(circuit::Circuit& net, std::span<const Role> roles, const Values& v, std::size_t i, const std::string& a,
+              const std::string& b) {
   if (!(v[i] > 0)) return;
   const Role& r = roles[i];
   if (r.kind == 'R')

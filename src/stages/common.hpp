@@ -141,8 +141,8 @@ namespace shelfstage::stages::detail {
 
 /// The JFET common-source stage with any gate bias: what both CS topologies share.
 struct CsCircuit {
-  double vg_v = 0;         ///< DC gate voltage (N frame): 0 for self-bias, the divider tap otherwise
-  double r_gate_ohm = 0;   ///< AC resistance from gate to ground (RG, or R1 || R2)
+  double vg_v = 0;        ///< DC gate voltage (N frame): 0 for self-bias, the divider tap otherwise
+  double r_gate_ohm = 0;  ///< AC resistance from gate to ground (RG, or R1 || R2)
   double rd = 0, rs1 = 0, rs2 = 0, cs = 0, cin = 0, cout = 0;
   double bias_network_a = 0;  ///< supply current of the gate network (divider)
 };

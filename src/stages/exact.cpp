@@ -298,15 +298,16 @@ void rated_peak(Probe& pr, const Conditions& c, const Harmonics& mag, Performanc
 
 }  // namespace
 
-Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs, const Conditions& c,
-                             Detail detail, OperatingPoint* op_out) {
+Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs, const Conditions& c, Detail detail,
+                             OperatingPoint* op_out) {
   Performance p;
   if (qs.empty()) throw InputError("evaluate_circuit: no transistor given");
   circuit::SolverOptions so;
   so.celsius = c.celsius;
   const OperatingPoint op = circuit::solve_dc(net, so);
   if (op.devices.size() != qs.size())
-    throw InputError(fmt::format("evaluate_circuit: {} transistors given for {} in the circuit", qs.size(), op.devices.size()));
+    throw InputError(
+        fmt::format("evaluate_circuit: {} transistors given for {} in the circuit", qs.size(), op.devices.size()));
   const double k = devices::polarity(qs.front().kind);
   const std::vector<double> ic0 = read_bias(net, op, qs, p);
 

@@ -24,13 +24,35 @@ namespace {
 enum : std::size_t { RG, RS1, RS2, CB, CIN, COUT };
 
 constexpr Role kRoles[] = {
-    {"RG", "R1", 'R', false, false, "", "", "gate to the tap x, bootstrapped: sets the input impedance",
+    {"RG",
+     "R1",
+     'R',
+     false,
+     false,
+     "",
+     "",
+     "gate to the tap x, bootstrapped: sets the input impedance",
      {13, 19, true, 'l'}},
     {"RS1", "R2", 'R', false, false, "", "", "source to the tap x: sets the bias", {19, 17, true, 'l'}},
-    {"RS2", "R3", 'R', false, false, "", "", "tap x to ground: lifts the source for swing; the AC load",
+    {"RS2",
+     "R3",
+     'R',
+     false,
+     false,
+     "",
+     "",
+     "tap x to ground: lifts the source for swing; the AC load",
      {19, 23, true, 'l'}},
-    {"CB", "C2", 'C', false, true, "source", "x", "bootstrap: carries the source's signal to the tap",
-     {22, 17, true, 'r'}, true},
+    {"CB",
+     "C2",
+     'C',
+     false,
+     true,
+     "source",
+     "x",
+     "bootstrap: carries the source's signal to the tap",
+     {22, 17, true, 'r'},
+     true},
     {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
     {"COUT", "C3", 'C', false, true, "source", "out", "output coupling", {26, 14, false, 'a'}},
 };
@@ -47,7 +69,8 @@ struct BootLowResponse {
   double gm = 0, go = 0, g_rg = 0, g1 = 0, g2 = 0, rsig = 0, rl = 0, cin = 0, cb = 0, cout = 0;
   double mid_gain = 0;  ///< the closed form's mid-band gain (every capacitor a short)
 
-  std::complex<double> transfer(std::complex<double> z_cin, std::complex<double> y_cb, std::complex<double> z_cout) const {
+  std::complex<double> transfer(std::complex<double> z_cin, std::complex<double> y_cb,
+                                std::complex<double> z_cout) const {
     using C = std::complex<double>;
     const C ys = 1.0 / (rsig + z_cin), y1 = g1 + y_cb, yo = 1.0 / (rl + z_cout);
     const C a[3][3] = {{ys + g_rg, 0.0, -g_rg}, {-gm, gm + go + y1 + yo, -y1}, {-g_rg, -y1, y1 + g_rg + g2}};
@@ -156,7 +179,7 @@ class JfetBootFollower final : public Topology {
     m.g_c = 1e9;
     m.out_at_emitter = true;
     detail::finish_response(p, {}, m, c, d);
-    const BootLowResponse lr{gm,     go,    g_rg,    1.0 / v[RS1], 1.0 / v[RS2], rsig,
+    const BootLowResponse lr{gm,         go,     g_rg,  1.0 / v[RS1], 1.0 / v[RS2], rsig,
                              c.load_ohm, v[CIN], v[CB], v[COUT],      p.gain};
     if (v[CIN] > 0 && v[CB] > 0 && v[COUT] > 0) {
       if (d == Detail::full) p.f_low_hz = lr.corner_hz();
@@ -170,14 +193,14 @@ class JfetBootFollower final : public Topology {
       // through the source resistance only); the channel and the source's load, as in a
       // follower (each an output current of gm times the input it stands for).
       const double kt4 = detail::thermal_v2(1.0, c.celsius);
-      const double v2 = kt4 * rsig + kt4 * g_rg * rsig * rsig +
-                        ((2.0 / 3.0) * kt4 / gm + kt4 * (1.0 / v[RS2] + 1.0 / c.load_ohm) / (gm * gm)) /
-                            (divider * divider);
+      const double v2 =
+          kt4 * rsig + kt4 * g_rg * rsig * rsig +
+          ((2.0 / 3.0) * kt4 / gm + kt4 * (1.0 / v[RS2] + 1.0 / c.load_ohm) / (gm * gm)) / (divider * divider);
       p.noise_v_rthz = std::sqrt(v2);
       const double i2 = b.id_a * b.id_a;
-      p.stress = {detail::res_stress(RG, 0),           detail::res_stress(RS1, i2 * v[RS1]),
-                  detail::res_stress(RS2, i2 * v[RS2]), detail::cap_stress(CB, b.vs_v),
-                  detail::cap_stress(CIN, v_tap),       detail::cap_stress(COUT, p.v_common)};
+      p.stress = {
+          detail::res_stress(RG, 0),      detail::res_stress(RS1, i2 * v[RS1]), detail::res_stress(RS2, i2 * v[RS2]),
+          detail::cap_stress(CB, b.vs_v), detail::cap_stress(CIN, v_tap),       detail::cap_stress(COUT, p.v_common)};
     }
     return p;
   }

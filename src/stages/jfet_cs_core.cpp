@@ -33,8 +33,8 @@ void mid_band(const CsCircuit& s, const Conditions& c, CsSignal& g, Performance&
   const double gm = g.gm, ro = g.ro, rl_ac = g.rl_ac, r_deg = g.r_deg;
   // Degenerated common source with output resistance (exact small-signal result):
   // Av = -gm*ro*RL' / (RL' + ro + (1 + gm*ro)*Rdeg).
-  const double av_gate = std::isinf(ro) ? -gm * rl_ac / (1.0 + gm * r_deg)
-                                        : -gm * ro * rl_ac / (rl_ac + ro + (1.0 + gm * ro) * r_deg);
+  const double av_gate =
+      std::isinf(ro) ? -gm * rl_ac / (1.0 + gm * r_deg) : -gm * ro * rl_ac / (rl_ac + ro + (1.0 + gm * ro) * r_deg);
   g.divider = s.r_gate_ohm / (s.r_gate_ohm + c.source_ohm);
   p.gain = av_gate * g.divider;
   p.zin_ohm = s.r_gate_ohm;
@@ -56,7 +56,8 @@ void swing(const devices::JfetInstance& q, const JfetBias& b, const CsSignal& g,
   p.swing_down_v = std::max(0.0, std::min(down, gate_limit));
   p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
   p.active = b.saturated() && b.vgs_v <= 0.0;
-  if (!b.saturated()) p.problem = fmt::format("in the triode region: VDS {:.2f} V < VGS-VP {:.2f} V", b.vds_v, b.vgst_v);
+  if (!b.saturated())
+    p.problem = fmt::format("in the triode region: VDS {:.2f} V < VGS-VP {:.2f} V", b.vds_v, b.vgst_v);
   if (b.vgs_v > 0.0) p.problem = fmt::format("gate forward-biased: VGS {:+.2f} V", b.vgs_v);
 }
 
@@ -98,10 +99,10 @@ double input_noise(const CsCircuit& s, const Conditions& c, const CsSignal& g) {
   const double deg = 1.0 + gm * r_deg;
   const double kt4 = thermal_v2(1.0, c.celsius);  // 4kT
   const double rsig = c.source_ohm > 0 ? c.source_ohm : 1e-3;
-  double v2 = kt4 * par(rsig, s.r_gate_ohm);              // source and gate resistors
-  v2 += (2.0 / 3.0) * kt4 / gm;                            // channel: 8kT/(3 gm)
-  v2 += kt4 * r_deg;                                       // unbypassed source resistor
-  const double back = deg / gm;                            // drain current to gate voltage
+  double v2 = kt4 * par(rsig, s.r_gate_ohm);                  // source and gate resistors
+  v2 += (2.0 / 3.0) * kt4 / gm;                               // channel: 8kT/(3 gm)
+  v2 += kt4 * r_deg;                                          // unbypassed source resistor
+  const double back = deg / gm;                               // drain current to gate voltage
   v2 += kt4 * (1.0 / s.rd + 1.0 / c.load_ohm) * back * back;  // RD and the load
   return std::sqrt(v2) / g.divider;
 }

@@ -13,7 +13,14 @@ constexpr Role kRoles[] = {
     {"R2", "R2", 'R', false, false, "", "", "gate to ground: lower divider leg", {13, 19, true, 'l'}},
     {"RD", "R3", 'R', false, false, "", "", "supply to drain: the load the gain develops across", {19, 6, true, 'l'}},
     {"RS1", "R4", 'R', true, false, "", "", "source to x, unbypassed: sets the gain", {19, 17, true, 'l'}},
-    {"RS2", "R5", 'R', true, false, "", "", "x to ground, bypassed: with the divider, sets the bias",
+    {"RS2",
+     "R5",
+     'R',
+     true,
+     false,
+     "",
+     "",
+     "x to ground, bypassed: with the divider, sets the bias",
      {19, 23, true, 'l'}},
     {"CS", "C2", 'C', true, true, "x", "0", "bypass across RS2", {22, 23, true, 'r'}, true},
     {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
@@ -72,7 +79,8 @@ class JfetCsDivider final : public Topology {
       const double i2 = b.id_a * b.id_a;
       const double idiv = s.bias_network_a;
       const double vg = s.vg_v;
-      p.stress = {detail::res_stress(R1, idiv * idiv * v[R1]), detail::res_stress(R2, idiv * idiv * v[R2]), detail::res_stress(RD, i2 * v[RD])};
+      p.stress = {detail::res_stress(R1, idiv * idiv * v[R1]), detail::res_stress(R2, idiv * idiv * v[R2]),
+                  detail::res_stress(RD, i2 * v[RD])};
       if (v[RS1] > 0) p.stress.push_back(detail::res_stress(RS1, i2 * v[RS1]));
       if (v[RS2] > 0) p.stress.push_back(detail::res_stress(RS2, i2 * v[RS2]));
       if (v[CS] > 0) p.stress.push_back(detail::cap_stress(CS, b.id_a * v[RS2], v[RS1] > 0 ? "x" : "source"));

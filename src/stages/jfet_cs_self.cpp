@@ -24,7 +24,8 @@ class JfetCsSelf final : public Topology {
  public:
   std::string_view name() const override { return "jfet-cs-self"; }
   std::string_view summary() const override {
-    return "JFET common source, self-biased: gate returned through RG to the source resistors' rail, bias from those resistors";
+    return "JFET common source, self-biased: gate returned through RG to the source resistors' rail, bias from those "
+           "resistors";
   }
   bool accepts(devices::DeviceKind k) const override { return devices::is_jfet(k); }
   std::span<const Role> roles() const override { return kRoles; }

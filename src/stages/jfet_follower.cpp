@@ -13,8 +13,7 @@ enum : std::size_t { RG, RS, CIN, COUT };
 
 constexpr Role kRoles[] = {
     {"RG", "R1", 'R', false, false, "", "", "gate to ground: sets the input impedance", {13, 19, true, 'l'}},
-    {"RS", "R2", 'R', false, false, "", "", "source to ground: sets the bias and drives the load",
-     {19, 19, true, 'l'}},
+    {"RS", "R2", 'R', false, false, "", "", "source to ground: sets the bias and drives the load", {19, 19, true, 'l'}},
     {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
     {"COUT", "C2", 'C', false, true, "source", "out", "output coupling", {23, 16, false, 'b'}},
 };
@@ -99,8 +98,8 @@ class JfetFollower final : public Topology {
       v2 += (2.0 / 3.0) * kt4 / gm;
       v2 += kt4 * (1.0 / v[RS] + 1.0 / c.load_ohm) / (gm * gm);
       p.noise_v_rthz = std::sqrt(v2) / divider;
-      p.stress = {detail::res_stress(RG, 0), detail::res_stress(RS, b.id_a * b.id_a * v[RS]), detail::cap_stress(CIN, 0.0),
-                  detail::cap_stress(COUT, b.vs_v)};
+      p.stress = {detail::res_stress(RG, 0), detail::res_stress(RS, b.id_a * b.id_a * v[RS]),
+                  detail::cap_stress(CIN, 0.0), detail::cap_stress(COUT, b.vs_v)};
     }
     return p;
   }

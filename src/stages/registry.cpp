@@ -15,8 +15,8 @@ const Topology& bjt_ce_shunt();
 
 std::span<const Topology* const> registry() {
   static const std::array all = {
-      &jfet_cs_self(), &jfet_cs_divider(), &jfet_follower(), &bjt_ce_divider(), &bjt_follower(), &jfet_boot_follower(),
-      &bjt_ce_shunt(),
+      &jfet_cs_self(), &jfet_cs_divider(),    &jfet_follower(), &bjt_ce_divider(),
+      &bjt_follower(), &jfet_boot_follower(), &bjt_ce_shunt(),
   };
   return all;
 }

@@ -111,8 +111,8 @@ Performance Topology::evaluate(const Values& values, const Transistor& q, const 
     const std::string_view pos = s.pos_n.empty() ? r[s.role].pos_net : s.pos_n;
     const std::string_view neg = s.neg_n.empty() ? r[s.role].neg_net : s.neg_n;
     // Real DC of each end: bench nets sit at 0 V, the stage's nets at offset + pol * V_n.
-    const double actual = rail.pol * s.dc_n_v + (is_bench_net(pos) ? 0.0 : rail.offset_v) -
-                          (is_bench_net(neg) ? 0.0 : rail.offset_v);
+    const double actual =
+        rail.pol * s.dc_n_v + (is_bench_net(pos) ? 0.0 : rail.offset_v) - (is_bench_net(neg) ? 0.0 : rail.offset_v);
     s.dc_v = std::abs(actual);
     s.plus_net = actual >= 0 ? rail.net(pos) : rail.net(neg);
     s.minus_net = actual >= 0 ? rail.net(neg) : rail.net(pos);

@@ -44,15 +44,17 @@ std::vector<Withdrawal> merged(const std::vector<Withdrawal>& take) {
 }
 
 int release_locked(Database::Impl& impl, std::string_view design_id) {
-  const int pieces =
-      impl.conn.prepare("SELECT coalesce(sum(qty), 0) FROM reservations WHERE design_id = ?").bind(1, design_id).scalar<int>();
+  const int pieces = impl.conn.prepare("SELECT coalesce(sum(qty), 0) FROM reservations WHERE design_id = ?")
+                         .bind(1, design_id)
+                         .scalar<int>();
   impl.conn.prepare("DELETE FROM reservations WHERE design_id = ?").bind(1, design_id).run();
   return pieces;
 }
 
 /// Lowers a design's reservations on one line by n pieces (newest rows first).
 void release_some(Database::Impl& impl, std::string_view design_id, std::int64_t part_id, int n) {
-  auto rows = impl.conn.prepare("SELECT id, qty FROM reservations WHERE design_id = ? AND part_id = ? ORDER BY id DESC");
+  auto rows =
+      impl.conn.prepare("SELECT id, qty FROM reservations WHERE design_id = ? AND part_id = ? ORDER BY id DESC");
   rows.bind_all(design_id, part_id);
   std::vector<std::pair<std::int64_t, int>> found;
   while (rows.step()) found.emplace_back(rows.int64(0), rows.int32(1));
@@ -169,11 +171,12 @@ void undo_build(Database& db, std::int64_t build_id) {
   auto& impl = db.impl();
   impl.immediate([&] {
     const auto found = find_build(db, build_id);
-    if (!found) throw InputError(fmt::format("build {} is not in this database (see `shelfstage builds list`)", build_id));
+    if (!found)
+      throw InputError(fmt::format("build {} is not in this database (see `shelfstage builds list`)", build_id));
     const BuildRecord& b = *found;
     if (b.state == "undone")
-      throw InputError(fmt::format("build {} of {} was already undone at {}; its pieces are back on the shelf", build_id,
-                                   b.design_id, b.undone.value_or("?")));
+      throw InputError(fmt::format("build {} of {} was already undone at {}; its pieces are back on the shelf",
+                                   build_id, b.design_id, b.undone.value_or("?")));
     const std::string reason = fmt::format("undo build {}", build_id);
     for (const auto& l : b.lines) impl.record_change(l.part_id, l.qty, reason, build_id);
     impl.conn.prepare("UPDATE builds SET state = 'undone', undone = ? WHERE id = ?")

@@ -313,9 +313,9 @@ std::optional<int> read_count(std::string_view field, std::string_view text, std
     negative = s.front() == '-';
     s.remove_prefix(1);
   }
-  if (const auto dot = s.find('.'); dot != std::string_view::npos && dot > 0 &&
-                                    std::all_of(s.begin() + static_cast<std::ptrdiff_t>(dot) + 1, s.end(),
-                                                [](char c) { return c == '0'; }))
+  if (const auto dot = s.find('.');
+      dot != std::string_view::npos && dot > 0 &&
+      std::all_of(s.begin() + static_cast<std::ptrdiff_t>(dot) + 1, s.end(), [](char c) { return c == '0'; }))
     s = s.substr(0, dot);
   if (!all_digits(s)) {
     p.add(line, fmt::format("{} '{}' is not a whole number", field, shown(text)));
@@ -338,7 +338,7 @@ std::optional<int> read_count(std::string_view field, std::string_view text, std
 /// unless required. `stock_capacitance`: a capacitor's value, which must state its scale
 /// (units::parse_capacitance).
 std::optional<double> read_value(std::string_view field, std::string_view text, Unit unit, std::size_t line,
-                                  Problems& p, bool required = false, bool stock_capacitance = false) {
+                                 Problems& p, bool required = false, bool stock_capacitance = false) {
   if (text.empty()) {
     if (required) p.add(line, fmt::format("{} is missing", field));
     return std::nullopt;
@@ -385,8 +385,8 @@ std::optional<double> read_fraction(std::string_view field, std::string_view tex
   }
   if (percent) return v / 100.0;
   if (v >= 1.0) {
-    p.add(line, fmt::format("{} '{}' reads as {} %; write {}% if that is meant", field, shown(text), v * 100.0,
-                            shown(text)));
+    p.add(line,
+          fmt::format("{} '{}' reads as {} %; write {}% if that is meant", field, shown(text), v * 100.0, shown(text)));
     return std::nullopt;
   }
   return v;
@@ -461,7 +461,8 @@ std::string join_row(const std::vector<std::string>& fields) {
 // --- public ------------------------------------------------------------------------------
 
 void throw_bad_rows(std::string_view source, std::vector<std::string> problems, std::size_t bad_rows, bool not_utf8) {
-  std::string summary = fmt::format("{}: {} bad {}, nothing imported", source, bad_rows, bad_rows == 1 ? "row" : "rows");
+  std::string summary =
+      fmt::format("{}: {} bad {}, nothing imported", source, bad_rows, bad_rows == 1 ? "row" : "rows");
   if (not_utf8) summary += " (some text is not UTF-8)";
   throw CsvError(summary, std::move(problems), not_utf8);
 }
@@ -512,7 +513,7 @@ struct NamedDevice {
 using DeviceLookup = std::function<std::optional<NamedDevice>(std::string_view)>;
 
 /// The columns of a stock file, in the order the writer puts them.
-constexpr std::string_view kStockColumns[] = {"kind", "value", "qty",     "tol", "power",
+constexpr std::string_view kStockColumns[] = {"kind",  "value",      "qty",     "tol", "power",
                                               "volts", "dielectric", "package", "bin", "note"};
 
 /// A stock row's value: a resistance or capacitance for a passive part, else a type of the
@@ -555,12 +556,16 @@ bool read_stock_ratings(const Sheet& sheet, const CsvRow& row, Problems& problem
     }
   }
   if (const auto t = sheet.get(row, "power"); !t.empty()) {
-    if (auto w = read_power(t, row.line, problems)) p.power_w = *w;
-    else ok = false;
+    if (auto w = read_power(t, row.line, problems))
+      p.power_w = *w;
+    else
+      ok = false;
   }
   if (const auto t = sheet.get(row, "volts"); !t.empty()) {
-    if (auto v = read_value("volts", t, Unit::volt, row.line, problems)) p.volts = *v;
-    else ok = false;
+    if (auto v = read_value("volts", t, Unit::volt, row.line, problems))
+      p.volts = *v;
+    else
+      ok = false;
   }
   return ok;
 }
@@ -585,8 +590,10 @@ std::optional<Part> read_stock_row(const Sheet& sheet, const CsvRow& row, const 
   } else if (kind_ok && !read_stock_value(value_text, lookup, line, problems, p)) {
     bad = true;
   }
-  if (auto q = read_count("qty", sheet.get(row, "qty"), line, problems)) p.qty = *q;
-  else bad = true;
+  if (auto q = read_count("qty", sheet.get(row, "qty"), line, problems))
+    p.qty = *q;
+  else
+    bad = true;
   if (!read_stock_ratings(sheet, row, problems, p)) bad = true;
   p.dielectric = std::string(sheet.get(row, "dielectric"));
   p.package = std::string(sheet.get(row, "package"));
@@ -620,22 +627,28 @@ std::vector<Part> parse_stock(std::string_view text, std::string_view source, co
 std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
                                   const std::vector<std::string>& known_devices, std::vector<std::size_t>* lines) {
   if (lines != nullptr) lines->clear();
-  return parse_stock(text, source, [&](std::string_view name) -> std::optional<NamedDevice> {
-    const auto* found = find_name(known_devices, name, [](const std::string& s) { return s; });
-    if (found == nullptr) return std::nullopt;
-    return NamedDevice{*found, std::nullopt};
-  }, lines);
+  return parse_stock(
+      text, source,
+      [&](std::string_view name) -> std::optional<NamedDevice> {
+        const auto* found = find_name(known_devices, name, [](const std::string& s) { return s; });
+        if (found == nullptr) return std::nullopt;
+        return NamedDevice{*found, std::nullopt};
+      },
+      lines);
 }
 
 std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
                                   const std::vector<devices::DeviceRecord>& known_devices,
                                   std::vector<std::size_t>* lines) {
   if (lines != nullptr) lines->clear();
-  return parse_stock(text, source, [&](std::string_view name) -> std::optional<NamedDevice> {
-    const auto* found = find_name(known_devices, name, [](const devices::DeviceRecord& d) { return d.name; });
-    if (found == nullptr) return std::nullopt;
-    return NamedDevice{found->name, found->kind};
-  }, lines);
+  return parse_stock(
+      text, source,
+      [&](std::string_view name) -> std::optional<NamedDevice> {
+        const auto* found = find_name(known_devices, name, [](const devices::DeviceRecord& d) { return d.name; });
+        if (found == nullptr) return std::nullopt;
+        return NamedDevice{found->name, found->kind};
+      },
+      lines);
 }
 
 std::string write_stock_csv(const std::vector<Part>& parts) {
@@ -644,8 +657,8 @@ std::string write_stock_csv(const std::vector<Part>& parts) {
     const std::string value = p.kind == PartKind::capacitor  ? exact_capacitance(p.value)
                               : p.kind == PartKind::resistor ? exact(p.value)
                                                              : p.device;
-    out += join_row({std::string(kind_code(p.kind)), value,
-                     std::to_string(p.qty), p.tol ? units::format_tolerance(*p.tol) : std::string(),
+    out += join_row({std::string(kind_code(p.kind)), value, std::to_string(p.qty),
+                     p.tol ? units::format_tolerance(*p.tol) : std::string(),
                      p.power_w ? plain(*p.power_w) : std::string(), p.volts ? plain(*p.volts) : std::string(),
                      p.dielectric, p.package, p.bin, p.note});
   }
@@ -698,8 +711,10 @@ struct DeviceRow {
                                         ? read_tempco(col.name, text, col.unit, row.line, problems)
                                         : read_value(col.name, text, col.unit, row.line, problems, required);
     // Ratings are magnitudes: a datasheet's -25 V for a P type is 25 V here.
-    if (v) col.set(d, col.form == DeviceColumn::Form::rating ? std::abs(*v) : *v);
-    else if (required || !text.empty()) bad = true;
+    if (v)
+      col.set(d, col.form == DeviceColumn::Form::rating ? std::abs(*v) : *v);
+    else if (required || !text.empty())
+      bad = true;
   }
   /// Reads every figure column of a family.
   void read_family(Family family, devices::DeviceRecord& d) {
@@ -807,8 +822,7 @@ std::string write_devices_csv(const std::vector<devices::DeviceRecord>& records)
 
 std::vector<devices::MeasuredPiece> parse_pieces_csv(std::string_view text, std::string_view source,
                                                      const std::vector<devices::DeviceRecord>& known) {
-  const Sheet sheet(text, source, {"label", "device", "idss", "vp", "hfe", "uncertainty", "note"},
-                    {"label", "device"});
+  const Sheet sheet(text, source, {"label", "device", "idss", "vp", "hfe", "uncertainty", "note"}, {"label", "device"});
   Problems problems(source);
   std::vector<devices::MeasuredPiece> out;
   std::map<std::string, std::size_t> seen;
@@ -848,8 +862,10 @@ std::vector<devices::MeasuredPiece> parse_pieces_csv(std::string_view text, std:
     measured("vp", Unit::volt, m.vp_v);
     measured("hfe", Unit::none, m.hfe);
     if (const auto u = sheet.get(row, "uncertainty"); !u.empty()) {
-      if (auto f = read_fraction("uncertainty", u, line, problems)) m.uncertainty = *f;
-      else bad = true;
+      if (auto f = read_fraction("uncertainty", u, line, problems))
+        m.uncertainty = *f;
+      else
+        bad = true;
     }
     if (bad || dev == nullptr) continue;
     const auto issues = piece_problems(m, *dev);

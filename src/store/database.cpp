@@ -287,8 +287,8 @@ void check_header(const std::filesystem::path& path) {
   in.read(magic, sizeof magic);
   const auto got = in.gcount();
   if (got == 0)
-    throw DatabaseError(fmt::format("{}: empty file, not a shelfstage database (remove it and run `shelfstage init`)",
-                                    path.string()));
+    throw DatabaseError(
+        fmt::format("{}: empty file, not a shelfstage database (remove it and run `shelfstage init`)", path.string()));
   if (got < 16 || std::string_view(magic, 16) != std::string_view("SQLite format 3\0", 16))
     throw DatabaseError(fmt::format("{}: not a shelfstage database (not an SQLite file)", path.string()));
 }
@@ -304,7 +304,8 @@ void journal_settings(const Connection& conn) {
   std::string mode = conn.prepare("PRAGMA journal_mode = WAL").scalar<std::string>();
   for (char& c : mode) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
   if (mode != "wal")
-    throw DatabaseError(fmt::format("{}: cannot use write-ahead logging (journal mode stays '{}')", conn.label(), mode));
+    throw DatabaseError(
+        fmt::format("{}: cannot use write-ahead logging (journal mode stays '{}')", conn.label(), mode));
   conn.exec("PRAGMA synchronous = FULL");
 }
 
@@ -340,7 +341,8 @@ void migrate(Database::Impl& impl, bool fresh) {
 std::string normalise_since(std::string_view text) {
   std::string s = trimmed(text);
   auto bad = [&]() -> InputError {
-    return InputError(fmt::format("since '{}' is not a UTC date or date-time like 2026-12-01 or 2026-12-01T21:53", text));
+    return InputError(
+        fmt::format("since '{}' is not a UTC date or date-time like 2026-12-01 or 2026-12-01T21:53", text));
   };
   if (!s.empty() && (s.back() == 'Z' || s.back() == 'z')) s.pop_back();
   if (s.size() > 10 && s[10] == ' ') s[10] = 'T';
@@ -385,8 +387,8 @@ std::int64_t Database::Impl::record_change(std::int64_t part_id, int delta, std:
     throw InfeasibleError(fmt::format("not enough stock: {} has {} on hand and {} reserved, {} needed", describe(*p),
                                       p->qty, p->reserved, -delta));
   if (after > INT_MAX)
-    throw InputError(fmt::format("{}: adding {} would make {} pieces, more than one line can count ({})",
-                                 describe(*p), delta, after, INT_MAX));
+    throw InputError(fmt::format("{}: adding {} would make {} pieces, more than one line can count ({})", describe(*p),
+                                 delta, after, INT_MAX));
   conn.cached("INSERT INTO ledger (at, part_id, part_desc, delta, reason, build_id) VALUES (?, ?, ?, ?, ?, ?)")
       ->bind_all(detail::utc_now(), part_id, describe(*p), delta, reason, build_id)
       .run();
@@ -441,8 +443,7 @@ Database Database::create(const std::filesystem::path& path) {
   } catch (...) {
     if (remove_on_failure) {
       impl->conn = Connection();
-      for (const char* suffix : {"", "-wal", "-shm", "-journal"})
-        std::filesystem::remove(path.string() + suffix, ec);
+      for (const char* suffix : {"", "-wal", "-shm", "-journal"}) std::filesystem::remove(path.string() + suffix, ec);
     }
     throw;
   }
@@ -455,9 +456,9 @@ Database Database::open(const std::filesystem::path& path) {
     throw InputError(fmt::format("{}: no stock database here; create one with `shelfstage init`", path.string()));
   if (std::filesystem::is_directory(path, ec))
     throw InputError(fmt::format("{} is a folder, not a stock database", path.string()));
-  if (struct stat st {}; ::stat(path.c_str(), &st) == 0 && !S_ISREG(st.st_mode))
-    throw InputError(fmt::format("{} is not a regular file (a device, fifo or socket), not a stock database",
-                                 path.string()));
+  if (struct stat st{}; ::stat(path.c_str(), &st) == 0 && !S_ISREG(st.st_mode))
+    throw InputError(
+        fmt::format("{} is not a regular file (a device, fifo or socket), not a stock database", path.string()));
   check_header(path);
   auto impl = std::make_unique<Impl>();
   impl->path = path;
@@ -480,7 +481,8 @@ Database Database::open(const std::filesystem::path& path) {
   const auto app_id = conn.prepare("PRAGMA application_id").scalar<std::int64_t>();
   const int version = conn.prepare("PRAGMA user_version").scalar<int>();
   if (app_id != detail::kApplicationId)
-    throw DatabaseError(fmt::format("{}: not a shelfstage database (an SQLite file of another program)", path.string()));
+    throw DatabaseError(
+        fmt::format("{}: not a shelfstage database (an SQLite file of another program)", path.string()));
   if (version > kSchemaVersion) throw_newer(conn, version);
   if (version < 1)
     throw DatabaseError(fmt::format("{}: schema version {} is not a shelfstage schema", path.string(), version));
@@ -491,13 +493,15 @@ Database Database::open(const std::filesystem::path& path) {
       throw DatabaseError(what + fmt::format(" and, being of schema version {}, cannot be read by this shelfstage; "
                                              "run `shelfstage check` and restore a backup",
                                              version));
-    impl->read_only = what + "; nothing was written. Reads still work: run `shelfstage check` for the whole "
-                             "report, then restore a backup (`stock export` makes one)";
+    impl->read_only = what +
+                      "; nothing was written. Reads still work: run `shelfstage check` for the whole "
+                      "report, then restore a backup (`stock export` makes one)";
   } else if (!obstacle.empty()) {
     if (version < kSchemaVersion)
-      throw DatabaseError(fmt::format("{}: schema version {} must be brought up to {} before use, which needs "
-                                      "writing, but {}",
-                                      path.string(), version, kSchemaVersion, obstacle));
+      throw DatabaseError(
+          fmt::format("{}: schema version {} must be brought up to {} before use, which needs "
+                      "writing, but {}",
+                      path.string(), version, kSchemaVersion, obstacle));
     impl->read_only = fmt::format("{}: cannot change the stock: {}; nothing was written", path.string(), obstacle);
   } else {
     journal_settings(conn);
@@ -547,15 +551,19 @@ std::int64_t add_part_locked(Database::Impl& impl, const Part& in, std::string_v
   p.dielectric = trimmed(p.dielectric);
   p.package = trimmed(p.package);
   p.note = trimmed(p.note);
-  for (const auto& [field, text] : {std::pair<const char*, const std::string&>{"device", p.device}, {"bin", p.bin},
-                                    {"dielectric", p.dielectric}, {"package", p.package}, {"note", p.note}})
+  for (const auto& [field, text] : {std::pair<const char*, const std::string&>{"device", p.device},
+                                    {"bin", p.bin},
+                                    {"dielectric", p.dielectric},
+                                    {"package", p.package},
+                                    {"note", p.note}})
     units::check_text(field, text);
   const auto problems = part_problems(p);
   if (!problems.empty()) throw InputError(fmt::format("{}: {}", describe(p), join(problems, "; ")));
   if (!is_passive(p.kind)) {
     const auto dev = find_device(impl.conn, p.device);
     if (!dev)
-      throw InputError(fmt::format("device '{}' is not in the device list; import it first (devices import)", p.device));
+      throw InputError(
+          fmt::format("device '{}' is not in the device list; import it first (devices import)", p.device));
     if (part_kind(dev->kind) != p.kind)
       throw InputError(fmt::format("kind {} does not match device '{}' ({})", kind_code(p.kind), dev->name,
                                    devices::kind_name(dev->kind)));
@@ -646,8 +654,8 @@ void Database::adjust(std::int64_t part_id, int delta, std::string_view reason) 
     if (p->removed) throw InputError(fmt::format("stock line {} ({}) was removed", part_id, describe(*p)));
     const std::int64_t after = std::int64_t{p->qty} + delta;
     if (after < 0)
-      throw InputError(fmt::format("adjust {:+}: {} has {} on hand; the count cannot go below zero", delta,
-                                   describe(*p), p->qty));
+      throw InputError(
+          fmt::format("adjust {:+}: {} has {} on hand; the count cannot go below zero", delta, describe(*p), p->qty));
     if (after < p->reserved)
       throw InputError(fmt::format("adjust {:+}: {} has {} on hand and {} reserved; release the reservation first",
                                    delta, describe(*p), p->qty, p->reserved));
@@ -672,7 +680,8 @@ void Database::remove_part(std::int64_t part_id, std::string_view reason) {
 
 std::vector<devices::DeviceRecord> Database::device_records() const {
   std::vector<devices::DeviceRecord> out;
-  auto st = impl_->conn.prepare(fmt::format("SELECT {} FROM devices WHERE removed = 0 ORDER BY name", device_column_list()));
+  auto st =
+      impl_->conn.prepare(fmt::format("SELECT {} FROM devices WHERE removed = 0 ORDER BY name", device_column_list()));
   while (st.step()) out.push_back(read_device(st));
   return out;
 }
@@ -691,8 +700,9 @@ void Database::put_devices(const std::vector<devices::DeviceRecord>& records) {
       const auto problems = device_problems(d);
       if (!problems.empty()) throw InputError(join(problems, "; "));
       if (const auto old = find_device(conn, d.name); old && old->kind != d.kind) {
-        const int users = conn.prepare("SELECT (SELECT count(*) FROM parts WHERE device = ?1 AND removed = 0) + "
-                                       "(SELECT count(*) FROM pieces WHERE device = ?1)")
+        const int users = conn.prepare(
+                                  "SELECT (SELECT count(*) FROM parts WHERE device = ?1 AND removed = 0) + "
+                                  "(SELECT count(*) FROM pieces WHERE device = ?1)")
                               .bind(1, d.name)
                               .scalar<int>();
         if (users > 0)
@@ -705,9 +715,10 @@ void Database::put_devices(const std::vector<devices::DeviceRecord>& records) {
         values += ", ?";
         updates += fmt::format(", {0} = excluded.{0}", name);
       }
-      auto insert = conn.prepare(fmt::format("INSERT INTO devices ({}) VALUES ({}) ON CONFLICT(name) DO UPDATE SET {}, "
-                                             "removed = 0",
-                                             device_column_list(), values, updates));
+      auto insert =
+          conn.prepare(fmt::format("INSERT INTO devices ({}) VALUES ({}) ON CONFLICT(name) DO UPDATE SET {}, "
+                                   "removed = 0",
+                                   device_column_list(), values, updates));
       insert.bind(1, d.name).bind(2, devices::kind_name(d.kind));
       // The other family's figures are stored as NULL.
       const Family other = devices::is_jfet(d.kind) ? Family::bjt : Family::jfet;
@@ -753,8 +764,7 @@ void add_piece_locked(Database::Impl& impl, devices::MeasuredPiece m) {
   if (!problems.empty()) throw InputError(join(problems, "; "));
   if (impl.conn.prepare("SELECT count(*) FROM pieces WHERE label = ?").bind(1, m.label).scalar<int>() > 0)
     throw InputError(fmt::format("piece label '{}' is already used", m.label));
-  impl.conn
-      .prepare("INSERT INTO pieces (label, device, idss, vp, hfe, uncertainty, note) VALUES (?, ?, ?, ?, ?, ?, ?)")
+  impl.conn.prepare("INSERT INTO pieces (label, device, idss, vp, hfe, uncertainty, note) VALUES (?, ?, ?, ?, ?, ?, ?)")
       .bind_all(m.label, dev->name, m.idss_a, m.vp_v, m.hfe, m.uncertainty, m.note)
       .run();
 }
@@ -777,8 +787,8 @@ namespace {
 
 DeviceUsers users_of(const Database::Impl& impl, std::string_view name) {
   DeviceUsers u;
-  auto lines = impl.conn.prepare(
-      fmt::format("SELECT {} FROM parts WHERE device = ? AND removed = 0 ORDER BY id", kPartColumns));
+  auto lines =
+      impl.conn.prepare(fmt::format("SELECT {} FROM parts WHERE device = ? AND removed = 0 ORDER BY id", kPartColumns));
   lines.bind(1, name);
   while (lines.step()) u.lines.push_back(read_part(lines));
   auto pieces = impl.conn.prepare("SELECT label FROM pieces WHERE device = ? ORDER BY label");
@@ -807,9 +817,10 @@ RemovedDevice Database::remove_device(std::string_view name, const std::vector<s
     r.name = listed_device(*impl_, name).name;
     const DeviceUsers users = users_of(*impl_, r.name);
     if (!cascade && (!users.empty() || !designs.empty()))
-      throw InputError(fmt::format("device '{}' is in use ({} stock lines, {} measured pieces, {} kept designs); "
-                                   "nothing removed",
-                                   r.name, users.lines.size(), users.pieces.size(), designs.size()));
+      throw InputError(
+          fmt::format("device '{}' is in use ({} stock lines, {} measured pieces, {} kept designs); "
+                      "nothing removed",
+                      r.name, users.lines.size(), users.pieces.size(), designs.size()));
     for (const auto& line : users.lines) {
       conn.prepare("DELETE FROM reservations WHERE part_id = ?").bind(1, line.id).run();
       impl_->record_change(line.id, -line.qty, reason);
@@ -907,11 +918,10 @@ CheckReport Database::check() const {
       if (reserved > qty)
         r.other.push_back(fmt::format("{}: reserved {} is more than qty {}", describe_line(id), reserved, qty));
       if (reserved != held)
-        r.other.push_back(
-            fmt::format("{}: reserved {} but reservations hold {}", describe_line(id), reserved, held));
+        r.other.push_back(fmt::format("{}: reserved {} but reservations hold {}", describe_line(id), reserved, held));
       if (counts.int64(3) != 0 && (qty != 0 || reserved != 0))
-        r.other.push_back(fmt::format("{}: removed but still counts {} pieces ({} reserved)", describe_line(id), qty,
-                                      reserved));
+        r.other.push_back(
+            fmt::format("{}: removed but still counts {} pieces ({} reserved)", describe_line(id), qty, reserved));
     }
 
     // NOTES 4 and 5 (when the table has the column: a damaged file may not).
@@ -919,19 +929,19 @@ CheckReport Database::check() const {
         "SELECT p.id, p.kind, d.kind FROM parts p JOIN devices d ON d.name = p.device "
         "WHERE p.removed = 0 AND p.kind <> d.kind");
     while (kinds.step())
-      r.other.push_back(fmt::format("{}: kind {} but device kind {}", describe_line(kinds.int64(0)), kinds.text(1),
-                                    kinds.text(2)));
+      r.other.push_back(
+          fmt::format("{}: kind {} but device kind {}", describe_line(kinds.int64(0)), kinds.text(1), kinds.text(2)));
     if (conn.prepare("SELECT count(*) FROM pragma_table_info('devices') WHERE name = 'removed'").scalar<int>() > 0) {
       auto gone = conn.prepare(
           "SELECT p.id, d.name FROM parts p JOIN devices d ON d.name = p.device WHERE p.removed = 0 AND d.removed = 1");
       while (gone.step())
-        r.other.push_back(fmt::format("{}: names device {}, which was removed", describe_line(gone.int64(0)),
-                                      gone.text(1)));
-      auto orphans = conn.prepare(
-          "SELECT m.label, d.name FROM pieces m JOIN devices d ON d.name = m.device WHERE d.removed = 1");
+        r.other.push_back(
+            fmt::format("{}: names device {}, which was removed", describe_line(gone.int64(0)), gone.text(1)));
+      auto orphans =
+          conn.prepare("SELECT m.label, d.name FROM pieces m JOIN devices d ON d.name = m.device WHERE d.removed = 1");
       while (orphans.step())
-        r.other.push_back(fmt::format("measured piece {}: names device {}, which was removed", orphans.text(0),
-                                      orphans.text(1)));
+        r.other.push_back(
+            fmt::format("measured piece {}: names device {}, which was removed", orphans.text(0), orphans.text(1)));
     }
     return r;
   });

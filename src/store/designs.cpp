@@ -40,10 +40,12 @@ SavedDesign load_design(const Database& db, std::string_view id) {
       "OR (length(?1) >= 4 AND substr(id, 1, length(?1)) = ?1) ORDER BY id = ?1 DESC LIMIT 2");
   st.bind(1, key);
   while (st.step()) found.push_back({st.text(0), st.text(1), st.text(2), st.text(3)});
-  if (found.empty()) throw InputError(fmt::format("design '{}' is not in this database (run `shelfstage design` first)",
-                                             units::clip(key)));
+  if (found.empty())
+    throw InputError(
+        fmt::format("design '{}' is not in this database (run `shelfstage design` first)", units::clip(key)));
   if (found.size() > 1 && found[0].id != key)
-    throw InputError(fmt::format("design '{}' is ambiguous: it starts {} and {}", units::clip(key), found[0].id, found[1].id));
+    throw InputError(
+        fmt::format("design '{}' is ambiguous: it starts {} and {}", units::clip(key), found[0].id, found[1].id));
   return found.front();
 }
 

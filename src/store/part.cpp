@@ -110,14 +110,19 @@ std::vector<std::string> part_problems(const Part& p) {
     } else if (p.kind == PartKind::capacitor && p.value > 1.0) {
       // 1 F and more are supercapacitors, never a coupling or bypass part; far more often
       // the unit was left out ("4.7" meant as 4.7 uF).
-      out.push_back(fmt::format("value {} is {} F for a capacitor; write e.g. 4.7u for microfarads",
-                                p.value, units::format_value(p.value)));
+      out.push_back(fmt::format("value {} is {} F for a capacitor; write e.g. 4.7u for microfarads", p.value,
+                                units::format_value(p.value)));
     }
-    if (!p.device.empty()) out.push_back(fmt::format("device '{}' given for kind {} (only transistors name a device)", p.device, kind_code(p.kind)));
+    if (!p.device.empty())
+      out.push_back(
+          fmt::format("device '{}' given for kind {} (only transistors name a device)", p.device, kind_code(p.kind)));
   } else {
     if (trim(p.device).empty()) out.push_back(fmt::format("device is missing for kind {}", kind_code(p.kind)));
-    if (p.value != 0.0) out.push_back(fmt::format("value {} given for kind {} (a transistor names a device)", p.value, kind_code(p.kind)));
-    if (p.tol) out.push_back(fmt::format("tol {} given for kind {}", units::format_tolerance(*p.tol), kind_code(p.kind)));
+    if (p.value != 0.0)
+      out.push_back(
+          fmt::format("value {} given for kind {} (a transistor names a device)", p.value, kind_code(p.kind)));
+    if (p.tol)
+      out.push_back(fmt::format("tol {} given for kind {}", units::format_tolerance(*p.tol), kind_code(p.kind)));
   }
   if (p.qty < 0) out.push_back(fmt::format("qty {} is negative", p.qty));
   if (p.reserved < 0) out.push_back(fmt::format("reserved {} is negative", p.reserved));
@@ -125,8 +130,8 @@ std::vector<std::string> part_problems(const Part& p) {
     out.push_back(fmt::format("reserved {} is more than qty {}", p.reserved, p.qty));
   if (p.tol) {
     const auto& t = *p.tol;
-    if (!std::isfinite(t.minus) || !std::isfinite(t.plus) || t.minus < 0.0 || t.minus >= 1.0 ||
-        t.plus < 0.0 || t.plus > 10.0)
+    if (!std::isfinite(t.minus) || !std::isfinite(t.plus) || t.minus < 0.0 || t.minus >= 1.0 || t.plus < 0.0 ||
+        t.plus > 10.0)
       out.push_back(fmt::format("tol -{}/+{} (fractions) is not a sane tolerance", t.minus, t.plus));
   }
   if (p.power_w) {
@@ -142,8 +147,7 @@ std::vector<std::string> part_problems(const Part& p) {
       out.push_back(fmt::format("volts {} must be above zero", *p.volts));
   }
   if (!p.dielectric.empty() && p.kind != PartKind::capacitor)
-    out.push_back(fmt::format("dielectric '{}' given for kind {} (capacitors only)", p.dielectric,
-                              kind_code(p.kind)));
+    out.push_back(fmt::format("dielectric '{}' given for kind {} (capacitors only)", p.dielectric, kind_code(p.kind)));
   return out;
 }
 
@@ -161,8 +165,8 @@ void check_range(std::vector<std::string>& out, const std::string& who, std::str
     if (!std::isfinite(*r.typ))
       out.push_back(fmt::format("{}: {}_typ {} must be finite", who, name, *r.typ));
     else if (*r.typ < std::min(r.min, r.max) || *r.typ > std::max(r.min, r.max))
-      out.push_back(fmt::format("{}: {}_typ {} lies outside {}_min {} .. {}_max {}", who, name, *r.typ, name,
-                                r.min, name, r.max));
+      out.push_back(fmt::format("{}: {}_typ {} lies outside {}_min {} .. {}_max {}", who, name, *r.typ, name, r.min,
+                                name, r.max));
   }
 }
 
@@ -186,36 +190,63 @@ using units::Unit;
 // the record is read (const) and written.
 template <class At>
 constexpr Column column(std::string_view name, F family, Unit unit, Form form, At) {
-  return {name, family, unit, form, [](const DeviceRecord& d) -> std::optional<double> { return At{}(d); },
+  return {name,
+          family,
+          unit,
+          form,
+          [](const DeviceRecord& d) -> std::optional<double> { return At{}(d); },
           [](DeviceRecord& d, double v) { At{}(d) = v; }};
 }
 
 const Column kDeviceColumns[] = {
-    column("idss_min", F::jfet, Unit::ampere, Form::required, [](auto& d) -> auto& { return d.jfet.idss_a.min; }),
-    column("idss_max", F::jfet, Unit::ampere, Form::required, [](auto& d) -> auto& { return d.jfet.idss_a.max; }),
-    column("idss_typ", F::jfet, Unit::ampere, Form::typical, [](auto& d) -> auto& { return d.jfet.idss_a.typ; }),
-    column("vp_min", F::jfet, Unit::volt, Form::required, [](auto& d) -> auto& { return d.jfet.vp_v.min; }),
-    column("vp_max", F::jfet, Unit::volt, Form::required, [](auto& d) -> auto& { return d.jfet.vp_v.max; }),
-    column("vp_typ", F::jfet, Unit::volt, Form::typical, [](auto& d) -> auto& { return d.jfet.vp_v.typ; }),
-    column("lambda", F::jfet, Unit::none, Form::defaulted, [](auto& d) -> auto& { return d.jfet.lambda_per_v; }),
-    column("cgs", F::jfet, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.jfet.cgs_f; }),
-    column("cgd", F::jfet, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.jfet.cgd_f; }),
-    column("tc_idss", F::jfet, Unit::none, Form::tempco, [](auto& d) -> auto& { return d.jfet.tc_idss_per_k; }),
-    column("tc_vp", F::jfet, Unit::volt, Form::tempco, [](auto& d) -> auto& { return d.jfet.tc_vp_v_per_k; }),
-    column("hfe_min", F::bjt, Unit::none, Form::required, [](auto& d) -> auto& { return d.bjt.hfe.min; }),
-    column("hfe_max", F::bjt, Unit::none, Form::required, [](auto& d) -> auto& { return d.bjt.hfe.max; }),
-    column("hfe_typ", F::bjt, Unit::none, Form::typical, [](auto& d) -> auto& { return d.bjt.hfe.typ; }),
-    column("is", F::bjt, Unit::ampere, Form::defaulted, [](auto& d) -> auto& { return d.bjt.is_a; }),
-    column("vaf", F::bjt, Unit::volt, Form::defaulted, [](auto& d) -> auto& { return d.bjt.vaf_v; }),
-    column("cje", F::bjt, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.bjt.cje_f; }),
-    column("cjc", F::bjt, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.bjt.cjc_f; }),
-    column("vce_sat", F::bjt, Unit::volt, Form::defaulted, [](auto& d) -> auto& { return d.bjt.vce_sat_v; }),
+    column(
+        "idss_min", F::jfet, Unit::ampere, Form::required, [](auto& d) -> auto& { return d.jfet.idss_a.min; }),
+    column(
+        "idss_max", F::jfet, Unit::ampere, Form::required, [](auto& d) -> auto& { return d.jfet.idss_a.max; }),
+    column(
+        "idss_typ", F::jfet, Unit::ampere, Form::typical, [](auto& d) -> auto& { return d.jfet.idss_a.typ; }),
+    column(
+        "vp_min", F::jfet, Unit::volt, Form::required, [](auto& d) -> auto& { return d.jfet.vp_v.min; }),
+    column(
+        "vp_max", F::jfet, Unit::volt, Form::required, [](auto& d) -> auto& { return d.jfet.vp_v.max; }),
+    column(
+        "vp_typ", F::jfet, Unit::volt, Form::typical, [](auto& d) -> auto& { return d.jfet.vp_v.typ; }),
+    column(
+        "lambda", F::jfet, Unit::none, Form::defaulted, [](auto& d) -> auto& { return d.jfet.lambda_per_v; }),
+    column(
+        "cgs", F::jfet, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.jfet.cgs_f; }),
+    column(
+        "cgd", F::jfet, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.jfet.cgd_f; }),
+    column(
+        "tc_idss", F::jfet, Unit::none, Form::tempco, [](auto& d) -> auto& { return d.jfet.tc_idss_per_k; }),
+    column(
+        "tc_vp", F::jfet, Unit::volt, Form::tempco, [](auto& d) -> auto& { return d.jfet.tc_vp_v_per_k; }),
+    column(
+        "hfe_min", F::bjt, Unit::none, Form::required, [](auto& d) -> auto& { return d.bjt.hfe.min; }),
+    column(
+        "hfe_max", F::bjt, Unit::none, Form::required, [](auto& d) -> auto& { return d.bjt.hfe.max; }),
+    column(
+        "hfe_typ", F::bjt, Unit::none, Form::typical, [](auto& d) -> auto& { return d.bjt.hfe.typ; }),
+    column(
+        "is", F::bjt, Unit::ampere, Form::defaulted, [](auto& d) -> auto& { return d.bjt.is_a; }),
+    column(
+        "vaf", F::bjt, Unit::volt, Form::defaulted, [](auto& d) -> auto& { return d.bjt.vaf_v; }),
+    column(
+        "cje", F::bjt, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.bjt.cje_f; }),
+    column(
+        "cjc", F::bjt, Unit::farad, Form::defaulted, [](auto& d) -> auto& { return d.bjt.cjc_f; }),
+    column(
+        "vce_sat", F::bjt, Unit::volt, Form::defaulted, [](auto& d) -> auto& { return d.bjt.vce_sat_v; }),
     // Maximum ratings, magnitudes: VDS or VCEO, gate-source reverse or VEBO, dissipation at
     // 25 °C and its derating in W/K.
-    column("v_max", F::rating, Unit::volt, Form::rating, [](auto& d) -> auto& { return d.ratings.v_max_v; }),
-    column("v_rev_max", F::rating, Unit::volt, Form::rating, [](auto& d) -> auto& { return d.ratings.v_rev_max_v; }),
-    column("p_max", F::rating, Unit::watt, Form::rating, [](auto& d) -> auto& { return d.ratings.p_max_w; }),
-    column("p_derate", F::rating, Unit::none, Form::rating, [](auto& d) -> auto& { return d.ratings.derate_w_per_k; }),
+    column(
+        "v_max", F::rating, Unit::volt, Form::rating, [](auto& d) -> auto& { return d.ratings.v_max_v; }),
+    column(
+        "v_rev_max", F::rating, Unit::volt, Form::rating, [](auto& d) -> auto& { return d.ratings.v_rev_max_v; }),
+    column(
+        "p_max", F::rating, Unit::watt, Form::rating, [](auto& d) -> auto& { return d.ratings.p_max_w; }),
+    column(
+        "p_derate", F::rating, Unit::none, Form::rating, [](auto& d) -> auto& { return d.ratings.derate_w_per_k; }),
 };
 
 }  // namespace
@@ -241,8 +272,10 @@ std::vector<std::string> device_problems(const devices::DeviceRecord& d) {
     check_at_least(out, who, "lambda", j.lambda_per_v, 0.0, false);
     check_at_least(out, who, "cgs", j.cgs_f, 0.0, false);
     check_at_least(out, who, "cgd", j.cgd_f, 0.0, false);
-    if (!std::isfinite(j.tc_idss_per_k)) out.push_back(fmt::format("{}: tc_idss {} must be finite", who, j.tc_idss_per_k));
-    if (!std::isfinite(j.tc_vp_v_per_k)) out.push_back(fmt::format("{}: tc_vp {} must be finite", who, j.tc_vp_v_per_k));
+    if (!std::isfinite(j.tc_idss_per_k))
+      out.push_back(fmt::format("{}: tc_idss {} must be finite", who, j.tc_idss_per_k));
+    if (!std::isfinite(j.tc_vp_v_per_k))
+      out.push_back(fmt::format("{}: tc_vp {} must be finite", who, j.tc_vp_v_per_k));
   } else {
     const auto& b = d.bjt;
     check_range(out, who, "hfe", b.hfe);
@@ -254,8 +287,8 @@ std::vector<std::string> device_problems(const devices::DeviceRecord& d) {
     check_at_least(out, who, "vce_sat", b.vce_sat_v, 0.0, false);
   }
   const auto& r = d.ratings;
-  for (auto [name, v] : {std::pair{"v_max", r.v_max_v}, std::pair{"v_rev_max", r.v_rev_max_v},
-                         std::pair{"p_max", r.p_max_w}})
+  for (auto [name, v] :
+       {std::pair{"v_max", r.v_max_v}, std::pair{"v_rev_max", r.v_rev_max_v}, std::pair{"p_max", r.p_max_w}})
     if (v) check_at_least(out, who, name, *v, 0.0, true);
   if (r.derate_w_per_k) check_at_least(out, who, "p_derate", *r.derate_w_per_k, 0.0, false);
   if (r.derate_w_per_k && !r.p_max_w) out.push_back(fmt::format("{}: p_derate is given without p_max", who));

@@ -149,8 +149,8 @@ std::int64_t Statement::int64(int col) const { return sqlite3_column_int64(stmt_
 int Statement::int32(int col) const {
   const std::int64_t v = sqlite3_column_int64(stmt_, col);
   if (v < std::numeric_limits<int>::min() || v > std::numeric_limits<int>::max())
-    throw DatabaseError(fmt::format("{}: value {} in column {} of '{}' is out of range", label_, v, col,
-                                    sqlite3_sql(stmt_)));
+    throw DatabaseError(
+        fmt::format("{}: value {} in column {} of '{}' is out of range", label_, v, col, sqlite3_sql(stmt_)));
   return static_cast<int>(v);
 }
 
@@ -249,9 +249,9 @@ void Connection::exec(const std::string& sql) const {
     sqlite3_free(message);
     // Failures of the file (rather than of the SQL) are told as throw_sqlite tells them.
     const int primary = rc & 0xff;
-    if (primary == SQLITE_BUSY || primary == SQLITE_LOCKED || primary == SQLITE_NOTADB ||
-        primary == SQLITE_CORRUPT || primary == SQLITE_FULL || primary == SQLITE_IOERR ||
-        primary == SQLITE_READONLY || primary == SQLITE_CANTOPEN || primary == SQLITE_PERM)
+    if (primary == SQLITE_BUSY || primary == SQLITE_LOCKED || primary == SQLITE_NOTADB || primary == SQLITE_CORRUPT ||
+        primary == SQLITE_FULL || primary == SQLITE_IOERR || primary == SQLITE_READONLY || primary == SQLITE_CANTOPEN ||
+        primary == SQLITE_PERM)
       fail(rc, "");
     throw DatabaseError(fmt::format("{}: {}", label_, text));
   }
@@ -281,8 +281,7 @@ Transaction::~Transaction() {
   if (done_) return;
   // Never throws: a failed rollback leaves SQLite to roll back when the connection closes.
   if (nested_) {
-    sqlite3_exec(conn_.handle(), "ROLLBACK TO shelfstage_nested; RELEASE shelfstage_nested", nullptr, nullptr,
-                 nullptr);
+    sqlite3_exec(conn_.handle(), "ROLLBACK TO shelfstage_nested; RELEASE shelfstage_nested", nullptr, nullptr, nullptr);
   } else if (conn_.in_transaction()) {
     sqlite3_exec(conn_.handle(), "ROLLBACK", nullptr, nullptr, nullptr);
   }

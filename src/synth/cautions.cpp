@@ -42,10 +42,11 @@ bool is_polarised_caution(std::string_view line, std::string_view part) {
 
 std::string unrated_caution(std::span<const std::string> parts) {
   if (parts.empty()) return {};
-  return fmt::format("no rating stated for {}: check each against the stress it takes before fitting (common "
-                     "practice: resistors at most half their power rating, capacitors rated above the DC plus the "
-                     "signal peak with margin)",
-                     fmt::join(parts, ", "));
+  return fmt::format(
+      "no rating stated for {}: check each against the stress it takes before fitting (common "
+      "practice: resistors at most half their power rating, capacitors rated above the DC plus the "
+      "signal peak with margin)",
+      fmt::join(parts, ", "));
 }
 
 }  // namespace shelfstage::synth

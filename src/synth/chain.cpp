@@ -40,7 +40,6 @@
 
 namespace shelfstage::synth {
 
-
 namespace detail {
 
 namespace {
@@ -61,8 +60,9 @@ constexpr std::size_t kRefine = 6;
 
 std::vector<Plan> plans_for(const Spec& spec) {
   using enum Slot;
-  const std::vector<Plan> all = {{buffer, gain}, {gain, buffer},         {gain, gain},         {buffer, buffer},
-                                 {buffer, gain, buffer}, {gain, gain, buffer}, {buffer, gain, gain}, {gain, gain, gain}};
+  const std::vector<Plan> all = {{buffer, gain},       {gain, buffer},         {gain, gain},
+                                 {buffer, buffer},     {buffer, gain, buffer}, {gain, gain, buffer},
+                                 {buffer, gain, gain}, {gain, gain, gain}};
   std::vector<Plan> out;
   const bool unity = spec.gain <= 1.2;
   for (const auto& p : all) {
@@ -88,7 +88,7 @@ using Graph = boost::adjacency_list<boost::vecS, boost::vecS, boost::directedS, 
 /// A chain found in the graph, before its corner pass.
 struct Path {
   std::vector<const Candidate*> stages;
-  double rank = 0;   ///< |gain error| and pieces, for the order of the corner pass
+  double rank = 0;  ///< |gain error| and pieces, for the order of the corner pass
 };
 
 class ChainSearch {
@@ -111,7 +111,8 @@ class ChainSearch {
     std::size_t depth = 0;
     for (const Plan& plan : plans_for(spec_)) {
       if (plan.size() != depth) {
-        const bool met = std::any_of(out.begin(), out.end(), [&](const Candidate& c) { return c.error_worst <= spec_.gain_tol; });
+        const bool met =
+            std::any_of(out.begin(), out.end(), [&](const Candidate& c) { return c.error_worst <= spec_.gain_tol; });
         if (met) break;
         depth = plan.size();
       }
@@ -188,7 +189,8 @@ class ChainSearch {
       if (seen.insert(found[i].device.name).second) take(i);
     for (std::size_t i = 0; i < found.size(); ++i)
       if (!taken[i]) take(i);
-    std::stable_sort(kept.begin(), kept.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
+    std::stable_sort(kept.begin(), kept.end(),
+                     [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
     return kept;
   }
 
@@ -236,7 +238,7 @@ class ChainSearch {
   /// A plan's pooled stages by position, and the graph over them.
   struct PlanGraph {
     std::vector<std::vector<const Candidate*>> layers;      ///< the pooled stages of each position
-    Graph g;                                                 ///< stages as vertices by position
+    Graph g;                                                ///< stages as vertices by position
     std::vector<std::vector<Graph::vertex_descriptor>> vs;  ///< each position's vertices
   };
 
@@ -295,11 +297,11 @@ class ChainSearch {
       double after = 1.0;  // gain assumed after this position
       for (std::size_t k = pos + 1; k < n; ++k) after *= plan[k] == Slot::gain ? share : kBufferGain;
       const double peak = out_peak / after;
-      const std::vector<double> loads = pos + 1 == n ? std::vector<double>{spec_.load_ohm} : next_loads(layers[pos + 1]);
+      const std::vector<double> loads =
+          pos + 1 == n ? std::vector<double>{spec_.load_ohm} : next_loads(layers[pos + 1]);
       std::vector<PoolRequest> requests;
       for (const auto* t : topologies(plan[pos]))
-        for (const double load : loads)
-        {
+        for (const double load : loads) {
           PoolRequest q;
           q.topology = t;
           q.pos = pos;
@@ -372,7 +374,8 @@ class ChainSearch {
           for (const Candidate* s : stack) pieces += s->pieces;
           // With a swing asked, paths with THD to spare go first (only kToCorners reach the
           // corner pass, where THD grows): a tenth of the bound costs a point.
-          paths.push_back({stack, 100.0 * err + kPiecePoints * pieces + (thd_counts ? 10.0 * thd / spec_.max_thd : 0.0)});
+          paths.push_back(
+              {stack, 100.0 * err + kPiecePoints * pieces + (thd_counts ? 10.0 * thd / spec_.max_thd : 0.0)});
         }
       } else {
         for (auto [e, end] = boost::out_edges(v, g); e != end; ++e)
@@ -420,7 +423,8 @@ class ChainSearch {
   std::vector<Candidate> corner_pass(std::vector<Candidate> linked) {
     std::vector<std::string> failed(linked.size());
     std::vector<long> evals(linked.size(), 0);
-    parallel_for(linked.size(), [&](std::size_t i) { failed[i] = chain_corners(linked[i], spec_, evals[i], Depth::search); });
+    parallel_for(linked.size(),
+                 [&](std::size_t i) { failed[i] = chain_corners(linked[i], spec_, evals[i], Depth::search); });
     std::vector<Candidate> assessed;
     for (std::size_t i = 0; i < linked.size(); ++i) {
       tally_.evaluations += evals[i];
@@ -429,7 +433,8 @@ class ChainSearch {
       else
         tally_.note_corner_failure(failed[i]);
     }
-    std::stable_sort(assessed.begin(), assessed.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
+    std::stable_sort(assessed.begin(), assessed.end(),
+                     [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
     return assessed;
   }
 
@@ -535,7 +540,8 @@ class ChainSearch {
       Candidate s = *path.stages[k];
       if (k > 0) {
         const std::size_t cin = stages::input_coupling_role(*s.topology);
-        const auto it = std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "CIN"; });
+        const auto it =
+            std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "CIN"; });
         if (it != s.parts.end()) {
           s.pieces -= static_cast<int>(it->combo.count);  // (chains never search a shelf with purchases)
           s.parts.erase(it);
@@ -577,7 +583,8 @@ class ChainSearch {
   void unpolarise_links(Candidate& ch) const {
     for (std::size_t k = 0; k + 1 < ch.stages.size(); ++k) {
       Candidate& s = ch.stages[k];
-      const auto it = std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "COUT"; });
+      const auto it =
+          std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "COUT"; });
       if (it == s.parts.end() || !it->polarised) continue;
       const std::size_t i = s.topology->role_index("COUT");
       if (std::abs(link_dc(s, ch.stages[k + 1])) >= 1.5) continue;  // well clear: the corner pass decides

@@ -454,8 +454,8 @@ std::string verify_chain_polarity(Candidate& ch, const Spec& spec) {
       for (const auto& st : s.nominal.stress)
         if (st.role == s.topology->role_index(rp.role) && !rp.plus_net.empty())
           rp.minus_net = std::string(st.plus_net == rp.plus_net ? st.minus_net : st.plus_net);
-      leads.push_back({&rp, rp.polarised && !rp.plus_net.empty() ? stages::chain_net(k, n, rp.plus_net) : std::string(),
-                       {}, {}});
+      leads.push_back(
+          {&rp, rp.polarised && !rp.plus_net.empty() ? stages::chain_net(k, n, rp.plus_net) : std::string(), {}, {}});
     }
   }
   auto solve = [&](const std::vector<stages::ChainStage>& list, double vs, double temp, const std::string& what) {

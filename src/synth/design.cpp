@@ -44,10 +44,14 @@ class ThinnedValues final : public stages::ValueSource {
  public:
   ThinnedValues(const stages::ValueSource& inner, double breadth) : inner_(inner), breadth_(breadth) {}
   void nearest(double target_ohm, std::size_t n, std::vector<double>& out) const override {
-    inner_.nearest(target_ohm, std::max<std::size_t>(1, static_cast<std::size_t>(std::lround(static_cast<double>(n) * breadth_))), out);
+    inner_.nearest(target_ohm,
+                   std::max<std::size_t>(1, static_cast<std::size_t>(std::lround(static_cast<double>(n) * breadth_))),
+                   out);
   }
   void spread(double lo_ohm, double hi_ohm, std::size_t max_n, std::vector<double>& out) const override {
-    inner_.spread(lo_ohm, hi_ohm, std::max<std::size_t>(2, static_cast<std::size_t>(std::lround(static_cast<double>(max_n) * breadth_))), out);
+    inner_.spread(
+        lo_ohm, hi_ohm,
+        std::max<std::size_t>(2, static_cast<std::size_t>(std::lround(static_cast<double>(max_n) * breadth_))), out);
   }
 
  private:
@@ -67,15 +71,14 @@ class Searcher {
     const ThinnedValues thinned(shelf_, spec_.search_breadth);
     const stages::ValueSource& values =
         spec_.search_breadth < 1.0 ? static_cast<const stages::ValueSource&>(thinned) : shelf_;
-    job.topology->propose(builder.goal(), builder.nominal_device(), builder.conditions(), values,
-                          [&](const stages::Values& proposal) {
-                            ++stats.proposals;
-                            std::string key(reinterpret_cast<const char*>(proposal.v.data()),
-                                            roles.size() * sizeof(double));
-                            if (!seen.insert(fnv1a(key)).second) return;
-                            StageBuilder::Draft d;
-                            if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
-                          });
+    job.topology->propose(
+        builder.goal(), builder.nominal_device(), builder.conditions(), values, [&](const stages::Values& proposal) {
+          ++stats.proposals;
+          std::string key(reinterpret_cast<const char*>(proposal.v.data()), roles.size() * sizeof(double));
+          if (!seen.insert(fnv1a(key)).second) return;
+          StageBuilder::Draft d;
+          if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
+        });
     // The full corner pass (~100 evaluations) only for the most promising, chosen by a
     // quick estimate over the device's corner pieces.
     const auto kKeep = static_cast<std::size_t>(spec_.search_families);
@@ -443,8 +446,10 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   for (const auto& p : inv.parts)
     if (!store::is_passive(p.kind)) stocked[p.device] += p.available();
   for (const auto& name : spec.devices) {
-    const bool known = std::any_of(inv.devices.begin(), inv.devices.end(), [&](const auto& d) { return d.name == name; });
-    if (!known) throw InputError(fmt::format("device '{}' is not in the device list (see `shelfstage devices list`)", name));
+    const bool known =
+        std::any_of(inv.devices.begin(), inv.devices.end(), [&](const auto& d) { return d.name == name; });
+    if (!known)
+      throw InputError(fmt::format("device '{}' is not in the device list (see `shelfstage devices list`)", name));
   }
   for (const auto& name : spec.topologies)
     if (!stages::find_topology(name)) {
@@ -466,11 +471,13 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   }
   std::vector<Job> jobs;
   for (const auto* t : stages::registry()) {
-    if (!spec.topologies.empty() && std::find(spec.topologies.begin(), spec.topologies.end(), t->name()) == spec.topologies.end())
+    if (!spec.topologies.empty() &&
+        std::find(spec.topologies.begin(), spec.topologies.end(), t->name()) == spec.topologies.end())
       continue;
     for (const auto& d : inv.devices) {
       if (!t->accepts(d.kind)) continue;
-      if (!spec.devices.empty() && std::find(spec.devices.begin(), spec.devices.end(), d.name) == spec.devices.end()) continue;
+      if (!spec.devices.empty() && std::find(spec.devices.begin(), spec.devices.end(), d.name) == spec.devices.end())
+        continue;
       if (piece && piece->device != d.name) continue;
       Job j;
       j.topology = t;
@@ -512,36 +519,41 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
     return fmt::format("no stage comes down to a gain of {:.3g} into {}: the lowest any stocked device gives is {:.3g}",
                        spec.gain, units::format_value(spec.load_ohm, units::Unit::ohm), t.least_gain);
   if (binding == "gain" && t.best_gain >= spec.gain * (1.0 - spec.gain_tol))
-    return fmt::format("stages reach a gain of {:.3g} (up to {:.3g} into {}), but none that does meets the rest of the "
-                       "request",
-                       spec.gain, t.best_gain, units::format_value(spec.load_ohm, units::Unit::ohm));
+    return fmt::format(
+        "stages reach a gain of {:.3g} (up to {:.3g} into {}), but none that does meets the rest of the "
+        "request",
+        spec.gain, t.best_gain, units::format_value(spec.load_ohm, units::Unit::ohm));
   if (binding == "gain")
     return fmt::format("no stage reaches a gain of {:.3g} into {}: the largest any stocked device reaches is {:.3g}",
                        spec.gain, units::format_value(spec.load_ohm, units::Unit::ohm), t.best_gain);
   if (binding == "swing" && spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v)
-    return fmt::format("a swing of {:.3g} Vpp does not fit in a supply of {}: a stage's output swings within its "
-                       "rail (less its transistor's headroom)",
-                       *spec.swing_vpp, units::format_value(spec.supply_lo_v, units::Unit::volt));
+    return fmt::format(
+        "a swing of {:.3g} Vpp does not fit in a supply of {}: a stage's output swings within its "
+        "rail (less its transistor's headroom)",
+        *spec.swing_vpp, units::format_value(spec.supply_lo_v, units::Unit::volt));
   if (binding == "swing")
     return fmt::format("no stage swings {:.3g} Vpp at every corner: the best reaches {:.3g} Vpp at nominal",
                        spec.swing_vpp.value_or(0), 2 * t.best_swing);
   if (binding == "zin")
     return fmt::format("no stage keeps its input impedance above {}: the best reaches {}",
-                       units::format_value(spec.zin_min_ohm, units::Unit::ohm), units::format_value(t.best_zin, units::Unit::ohm));
+                       units::format_value(spec.zin_min_ohm, units::Unit::ohm),
+                       units::format_value(t.best_zin, units::Unit::ohm));
   if (binding == "current") return "every stage that works draws more than the current limit";
   if (binding == "band") return "no stage stays flat within 1 dB across the band at every corner";
   if (binding == "bias") return "no stage holds its transistor in the active region at every corner";
   if (binding == "stock" && spec.copies > 1)
-    return fmt::format("one copy can be built, but the stages that work need more pieces than the shelf holds for "
-                       "{} copies",
-                       spec.copies);
+    return fmt::format(
+        "one copy can be built, but the stages that work need more pieces than the shelf holds for "
+        "{} copies",
+        spec.copies);
   if (binding == "stock") return "the stages that would work need more pieces than the shelf holds";
   if (binding == "capacitor")
     return "the shelf holds no capacitor large enough, or rated high enough, for the band and the supply (" +
            t.capacitor_need + ")";
   const auto example = [&](const std::string& k) {
     const auto it = t.corner_examples.find(k);
-    return it == t.corner_examples.end() ? std::string() : " (for one: " + it->second.substr(it->second.find(':') + 2) + ")";
+    return it == t.corner_examples.end() ? std::string()
+                                         : " (for one: " + it->second.substr(it->second.find(':') + 2) + ")";
   };
   if (binding == "rating") return "every stage that works runs a part beyond its rating" + example("rating");
   if (binding == "polarity") return "every stage that works would reverse-bias an electrolytic" + example("polarity");
@@ -575,7 +587,8 @@ bool is_variant(const Candidate& a, const Candidate& b) {
   const auto roles = a.topology->roles();
   int differ = 0;
   for (std::size_t i = 0; i < roles.size(); ++i)
-    if (roles[i].kind == 'R' && std::abs(a.values[i] - b.values[i]) > 1e-9 * std::max(a.values[i], b.values[i])) ++differ;
+    if (roles[i].kind == 'R' && std::abs(a.values[i] - b.values[i]) > 1e-9 * std::max(a.values[i], b.values[i]))
+      ++differ;
   return differ <= 1;
 }
 
@@ -593,11 +606,13 @@ std::string candidate_id(const Candidate& c, int copies) {
     for (const auto& s : c.stages) key += "|" + candidate_id(s, copies);
     return fmt::format("c{:08x}", static_cast<std::uint32_t>(fnv1a(key) ^ (fnv1a(key) >> 32)));
   }
-  std::string key = fmt::format("{}|{}|{}|{}", c.topology->name(), c.device.name, c.piece ? c.piece->label : "", copies);
+  std::string key =
+      fmt::format("{}|{}|{}|{}", c.topology->name(), c.device.name, c.piece ? c.piece->label : "", copies);
   for (const auto& rp : c.parts) {
     key += "|" + rp.role + "=";
     for (std::size_t k = 0; k < rp.values.size(); ++k)
-      key += fmt::format("{:.6g}:{},", rp.values[k], k < rp.lines.size() && !rp.lines[k].empty() ? rp.lines[k].front() : 0);
+      key += fmt::format("{:.6g}:{},", rp.values[k],
+                         k < rp.lines.size() && !rp.lines[k].empty() ? rp.lines[k].front() : 0);
   }
   return fmt::format("s{:08x}", static_cast<std::uint32_t>(fnv1a(key) ^ (fnv1a(key) >> 32)));
 }
@@ -615,7 +630,8 @@ std::vector<Candidate> finish_top(std::vector<Candidate>& ranked, const Spec& sp
         std::any_of(shown.begin(), shown.end(), [&](const Candidate& kept) { return is_variant(kept, c); });
     if (variant) continue;
     if (!c.is_chain()) detail::finalize(c, shelf);
-    if (const std::string v = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec); !v.empty()) {
+    if (const std::string v = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec);
+        !v.empty()) {
       tally.note_corner_failure(v);
       continue;
     }
@@ -649,9 +665,8 @@ std::vector<Candidate> search_designs(const Run& run) {
     std::vector<Candidate> singles = detail::run_jobs(spec, run.shelf, run.jobs, run.tally, run.progress);
     out = finish_top(singles, spec, run.shelf, run.tally);
   }
-  const bool single_meets = std::any_of(out.begin(), out.end(), [&](const Candidate& c) {
-    return c.error_worst <= spec.gain_tol;
-  });
+  const bool single_meets =
+      std::any_of(out.begin(), out.end(), [&](const Candidate& c) { return c.error_worst <= spec.gain_tol; });
   if (spec.stages_max >= 2 && !spec.piece && !single_meets) {
     if (run.progress) run.progress(0, 1, "chains");
     std::vector<Candidate> chains = detail::design_chains(spec, run.inv, run.shelf, run.tally);
@@ -752,8 +767,7 @@ void suggest_purchases(Diagnosis& d, const Spec& spec, const Inventory& inv) {
     for (const auto& role : l.roles) roles += (roles.empty() ? "" : ", ") + role;
     d.suggestions.push_back(fmt::format(
         "buy {} x {} {}{} for {} of {} with {}{}", l.qty,
-        units::format_value(l.value, resistor ? units::Unit::ohm : units::Unit::farad),
-        units::format_tolerance(l.tol),
+        units::format_value(l.value, resistor ? units::Unit::ohm : units::Unit::farad), units::format_tolerance(l.tol),
         resistor ? std::string() : fmt::format(" {}V {}", l.rating, l.dielectric), roles,
         bought->design.topology_name(), bought->design.device.name,
         l.held > 0 ? fmt::format(" (the shelf holds {} of the {} needed)", l.held, l.held + l.qty) : std::string()));
@@ -787,8 +801,9 @@ void diagnose(Diagnosis& d, const Run& run) {
   if (spec.stages_max >= 2 && !spec.piece && searched)
     d.detail += fmt::format("; no chain of up to {} stages meets it either", spec.stages_max);
   if (!run.tally.corner_failures.empty() && binding != "stock")
-    d.detail += "; stages that work at nominal fail at the worst-case corners of the device spread, "
-                "tolerances or supply (a measured piece, --piece, narrows the spread)";
+    d.detail +=
+        "; stages that work at nominal fail at the worst-case corners of the device spread, "
+        "tolerances or supply (a measured piece, --piece, narrows the spread)";
   if (!run.tally.failures.empty() || !run.tally.corner_failures.empty()) d.detail += stop_counts(run.tally);
   if (searched && spec.explain_failure) suggest_purchases(d, spec, run.inv);
 }

@@ -50,13 +50,13 @@ void explain_binding(Diagnosis& d, const Spec& spec, const Inventory& inv);
 /// constraints on swing, distortion, Zin and supply current hold with it, so that a simulation of a listed
 /// build at a corner lands inside the claim and not on its edge (docs/worst-case.md).
 struct ModelMargin {
-  double gain = 0.001;              ///< share of each end (a chain's compounds stage by stage)
-  double current = 0.003;           ///< bias and supply current
-  double node = 0.003;              ///< node voltages: share ...
-  double node_floor_v = 2e-3;       ///< ... and floor
-  double impedance_corner = 0.01;   ///< Zin, Zout and the -3 dB corners (Zin: see above)
-  double swing = 0.05;              ///< the smallest swing, lowered
-  double thd = 0.15;                ///< the largest THD, raised
+  double gain = 0.001;             ///< share of each end (a chain's compounds stage by stage)
+  double current = 0.003;          ///< bias and supply current
+  double node = 0.003;             ///< node voltages: share ...
+  double node_floor_v = 2e-3;      ///< ... and floor
+  double impedance_corner = 0.01;  ///< Zin, Zout and the -3 dB corners (Zin: see above)
+  double swing = 0.05;             ///< the smallest swing, lowered
+  double thd = 0.15;               ///< the largest THD, raised
 };
 inline constexpr ModelMargin kModelMargin{};
 /// Moves a range's ends outward by share of their size plus floor; an end off zero never
@@ -135,7 +135,8 @@ std::string finish_stage(Candidate& c, const Spec& spec);
 /// Points a chain pays for each stage beyond the first (README "How candidates are ranked").
 inline constexpr double kStagePoints = 3.0;
 
-/// The one thread pool of the search: Runs fn(i) for i in [0, n) on the machine's cores (fn must not share state unguarded).
+/// The one thread pool of the search: Runs fn(i) for i in [0, n) on the machine's cores (fn must not share state
+/// unguarded).
 template <class Fn>
 void parallel_for(std::size_t n, const Fn& fn) {
   std::atomic<std::size_t> next{0};

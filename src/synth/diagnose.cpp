@@ -57,9 +57,10 @@ const std::vector<Relaxation>& relaxations() {
        }},
       {"current", [](const Spec& s) { return s.max_current_a.has_value(); }, [](Spec& s) { s.max_current_a.reset(); },
        [](const Spec& s, const Candidate& c) {
-         return fmt::format("the current budget binds: the best stage without it ({}) draws {} at its worst corner, "
-                            "against the {} allowed",
-                            stage_words(c), amps(c.worst.supply_current.max), amps(*s.max_current_a));
+         return fmt::format(
+             "the current budget binds: the best stage without it ({}) draws {} at its worst corner, "
+             "against the {} allowed",
+             stage_words(c), amps(c.worst.supply_current.max), amps(*s.max_current_a));
        }},
       {"band", [](const Spec& s) { return s.band_hz.has_value(); }, [](Spec& s) { s.band_hz.reset(); },
        [](const Spec& s, const Candidate& c) {
@@ -70,7 +71,7 @@ const std::vector<Relaxation>& relaxations() {
              "corners{}, where {}..{} within 1 dB was asked",
              stage_words(c), format_value(c.worst.f_low.max, Unit::hertz),
              c.worst.f_high.empty || c.worst.f_high.min <= 0 ? std::string("none")
-                                                              : format_value(c.worst.f_high.min, Unit::hertz),
+                                                             : format_value(c.worst.f_high.min, Unit::hertz),
              loss > 0 ? fmt::format(" (a loss of {:.2g} dB at the band's edge)", loss) : std::string(),
              format_value(s.band_hz->first, Unit::hertz), format_value(s.band_hz->second, Unit::hertz));
        }},

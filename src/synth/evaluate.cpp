@@ -31,7 +31,6 @@ double score_of(const Candidate& c, const Spec& spec) {
   return s;
 }
 
-
 stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
   stages::Conditions c;
   c.supply_v = supply;
@@ -98,8 +97,8 @@ std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Pe
       return fmt::format("rating: {} takes {:.3g} V reverse against its {} of {:.3g} V", c.device.name, d.v_rev,
                          jfet ? "gate-source rating" : "VEBO", *r.v_rev_max_v);
     if (r.p_max_w && d.p_w > kDevicePowerShare * d.p_allowed_w)
-      return fmt::format("rating: {} dissipates {:.3g} W of the {:.3g} W it may take at {:g} °C", c.device.name,
-                         d.p_w, d.p_allowed_w, celsius);
+      return fmt::format("rating: {} dissipates {:.3g} W of the {:.3g} W it may take at {:g} °C", c.device.name, d.p_w,
+                         d.p_allowed_w, celsius);
   }
   const double peak = signal_peak(spec, p);
   for (const auto& s : p.stress) {

@@ -139,7 +139,7 @@ DesignResult design_with_purchases(const Spec& spec, const Inventory& inventory,
   for (auto& c : r.candidates) {
     settle(c);
     for (auto& stage : c.stages) settle(stage);  // a chain's pick list reads its stages' parts
-    c.yield.reset();  // no Monte Carlo was run
+    c.yield.reset();                             // no Monte Carlo was run
   }
   r.spec = spec;
   return r;

@@ -111,7 +111,8 @@ std::vector<StockGroup> group_stock(const std::vector<store::Part>& parts) {
   std::vector<const store::Part*> sorted;
   for (const auto& p : parts)
     if (store::is_passive(p.kind) && p.available() > 0 && p.value > 0) sorted.push_back(&p);
-  std::sort(sorted.begin(), sorted.end(), [](const store::Part* a, const store::Part* b) { return bin_less(a->bin, b->bin); });
+  std::sort(sorted.begin(), sorted.end(),
+            [](const store::Part* a, const store::Part* b) { return bin_less(a->bin, b->bin); });
   std::vector<StockGroup> groups;
   std::unordered_map<std::string, std::size_t> index;
   for (const store::Part* p : sorted) {
@@ -253,8 +254,12 @@ void pair_anchors(const std::vector<double>& v, double target, std::size_t limit
     for (std::size_t i = first; i < last; i += stride)
       visit(i, join == Join::series ? target - v[i] : v[i] * target / (v[i] - target), join);
   };
-  const auto below = [&](double x) { return static_cast<std::size_t>(std::lower_bound(v.begin(), v.end(), x) - v.begin()); };
-  const auto above = [&](double x) { return static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), x) - v.begin()); };
+  const auto below = [&](double x) {
+    return static_cast<std::size_t>(std::lower_bound(v.begin(), v.end(), x) - v.begin());
+  };
+  const auto above = [&](double x) {
+    return static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), x) - v.begin());
+  };
   scan(below(target / 101.0), below(target), Join::series);
   scan(above(target), above(101.0 * target), Join::parallel);
 }
@@ -272,7 +277,8 @@ void Shelf::pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& 
       const auto ju = static_cast<std::size_t>(j);
       if (!pair_ok(store::PartKind::resistor, join, idx.group[i], idx.group[ju])) continue;
       // The smaller value first, as the tables list a pair's pieces.
-      const auto [ga, gb] = v[i] <= v[ju] ? std::pair(idx.group[i], idx.group[ju]) : std::pair(idx.group[ju], idx.group[i]);
+      const auto [ga, gb] =
+          v[i] <= v[ju] ? std::pair(idx.group[i], idx.group[ju]) : std::pair(idx.group[ju], idx.group[i]);
       f(join == Join::series ? v[i] + v[ju] : v[i] * v[ju] / (v[i] + v[ju]), ga, gb, join);
     }
   };

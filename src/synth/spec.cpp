@@ -33,7 +33,8 @@ void validate(const Spec& s) {
   require(finite(s.zin_min_ohm) && s.zin_min_ohm >= 0, "zin", s.zin_min_ohm, "must be zero or a positive resistance");
   require(finite(s.source_ohm) && s.source_ohm >= 0, "source-z", s.source_ohm, "must be zero or a positive resistance");
   if (s.band_hz) {
-    require(finite(s.band_hz->first) && s.band_hz->first > 0, "band", s.band_hz->first, "low edge must be a positive frequency");
+    require(finite(s.band_hz->first) && s.band_hz->first > 0, "band", s.band_hz->first,
+            "low edge must be a positive frequency");
     require(finite(s.band_hz->second) && s.band_hz->second > s.band_hz->first, "band", s.band_hz->second,
             "high edge must be above the low edge (e.g. 20..20k)");
   }
@@ -43,16 +44,19 @@ void validate(const Spec& s) {
   require(finite(s.max_thd) && s.max_thd >= 0.0001 && s.max_thd <= 0.3, "max-distortion", s.max_thd,
           "must be a fraction from 0.01 % to 30 % (e.g. 1%)");
   if (s.max_current_a)
-    require(finite(*s.max_current_a) && *s.max_current_a > 0, "max-current", *s.max_current_a, "must be a positive current");
+    require(finite(*s.max_current_a) && *s.max_current_a > 0, "max-current", *s.max_current_a,
+            "must be a positive current");
   if (s.temp_c) {
-    require(finite(s.temp_c->first) && s.temp_c->first >= -55, "temp", s.temp_c->first, "low end must be at least -55 °C");
+    require(finite(s.temp_c->first) && s.temp_c->first >= -55, "temp", s.temp_c->first,
+            "low end must be at least -55 °C");
     require(finite(s.temp_c->second) && s.temp_c->second >= s.temp_c->first && s.temp_c->second <= 150, "temp",
             s.temp_c->second, "range must run from low to high, at most 150 °C");
   }
   require(s.copies >= 1 && s.copies <= 10000, "copies", s.copies, "must be a whole number from 1 to 10000");
   require(s.top >= 1 && s.top <= 1000, "top", s.top, "must be a whole number from 1 to 1000");
   require(s.combine >= 1 && s.combine <= 3, "combine", s.combine, "must be 1, 2 or 3 parts per value");
-  require(finite(s.gain_tol) && s.gain_tol > 0 && s.gain_tol < 1, "gain-tol", s.gain_tol, "must be a fraction between 0 and 1");
+  require(finite(s.gain_tol) && s.gain_tol > 0 && s.gain_tol < 1, "gain-tol", s.gain_tol,
+          "must be a fraction between 0 and 1");
   require(s.mc_samples >= 0 && s.mc_samples <= 1000000, "samples", s.mc_samples, "must be from 0 to 1000000");
   require(s.stages_min >= 1 && s.stages_min <= 3, "stages", s.stages_min, "must be from 1 to 3 (e.g. 1..3)");
   require(s.stages_max >= s.stages_min && s.stages_max <= 3, "stages", s.stages_max,

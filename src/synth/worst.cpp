@@ -15,7 +15,21 @@ namespace shelfstage::synth::detail {
 namespace {
 
 // The figures a worst case ranges over.
-enum Figure : int { kGain, kBias, kSwing, kSupply, kZin, kZout, kVin, kVcommon, kVout, kLossLo, kLossHi, kThd, kFigures };
+enum Figure : int {
+  kGain,
+  kBias,
+  kSwing,
+  kSupply,
+  kZin,
+  kZout,
+  kVin,
+  kVcommon,
+  kVout,
+  kLossLo,
+  kLossHi,
+  kThd,
+  kFigures
+};
 
 double figure(const stages::Performance& p, int f) {
   switch (f) {

@@ -18,6 +18,7 @@ namespace shelfstage::units {
 
 namespace {
 
+// clang-format off
 constexpr std::array<double, 3> e3{1.0, 2.2, 4.7};
 constexpr std::array<double, 6> e6{1.0, 1.5, 2.2, 3.3, 4.7, 6.8};
 constexpr std::array<double, 12> e12{1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2};
@@ -59,6 +60,7 @@ constexpr std::array<double, 192> e192{
     7.50, 7.59, 7.68, 7.77, 7.87, 7.96, 8.06, 8.16, 8.25, 8.35, 8.45, 8.56,
     8.66, 8.76, 8.87, 8.98, 9.09, 9.20, 9.31, 9.42, 9.53, 9.65, 9.76, 9.88,
 };
+// clang-format on
 
 // mantissa * 10^exponent, written out and converted once so that 4.7 in decade -9 is the
 // same double as the literal 4.7e-9.

@@ -123,8 +123,8 @@ std::optional<double> to_double(bool negative, const Decimal& d, long exponent) 
 Rounded round_significant(double value, int significant) {
   // to_chars in scientific form rounds correctly: 999.7 with 2 decimals is "1.00e+03".
   char buf[64];
-  const auto [end, ec] = std::to_chars(buf, buf + sizeof buf, std::fabs(value), std::chars_format::scientific,
-                                       significant - 1);
+  const auto [end, ec] =
+      std::to_chars(buf, buf + sizeof buf, std::fabs(value), std::chars_format::scientific, significant - 1);
   Rounded r;
   if (ec != std::errc()) return r;
   const std::string_view s(buf, static_cast<std::size_t>(end - buf));

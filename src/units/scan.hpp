@@ -20,11 +20,9 @@ std::string_view char_at(std::string_view text, std::size_t pos);
 
 /// Throws ParseError "<what> '<text>': <message> at column N", N counted from 1 for people;
 /// ParseError::column() holds the same place counted from 0.
-[[noreturn]] void fail_at(std::string_view what, std::string_view text, std::size_t pos,
-                          std::string_view message);
+[[noreturn]] void fail_at(std::string_view what, std::string_view text, std::size_t pos, std::string_view message);
 /// Throws ParseError "<what> '<text>': <message>" with column() = column_of(text, pos).
-[[noreturn]] void fail(std::string_view what, std::string_view text, std::size_t pos,
-                       std::string_view message);
+[[noreturn]] void fail(std::string_view what, std::string_view text, std::size_t pos, std::string_view message);
 
 bool is_digit(char c);
 bool is_space(char c);

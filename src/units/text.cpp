@@ -42,10 +42,10 @@ void append_utf8(std::string& out, std::uint32_t cp) {
 
 /// Windows-1252 bytes 0x80..0x9F (the code page's table as the Unicode Consortium publishes
 /// it, CP1252.TXT); 0 where the code page defines nothing (NOTES 5).
-constexpr std::array<std::uint16_t, 32> kCp1252High{
-    0x20AC, 0,      0x201A, 0x0192, 0x201E, 0x2026, 0x2020, 0x2021, 0x02C6, 0x2030, 0x0160,
-    0x2039, 0x0152, 0,      0x017D, 0,      0,      0x2018, 0x2019, 0x201C, 0x201D, 0x2022,
-    0x2013, 0x2014, 0x02DC, 0x2122, 0x0161, 0x203A, 0x0153, 0,      0x017E, 0x0178};
+constexpr std::array<std::uint16_t, 32> kCp1252High{0x20AC, 0,      0x201A, 0x0192, 0x201E, 0x2026, 0x2020, 0x2021,
+                                                    0x02C6, 0x2030, 0x0160, 0x2039, 0x0152, 0,      0x017D, 0,
+                                                    0,      0x2018, 0x2019, 0x201C, 0x201D, 0x2022, 0x2013, 0x2014,
+                                                    0x02DC, 0x2122, 0x0161, 0x203A, 0x0153, 0,      0x017E, 0x0178};
 
 /// Walks a text one character at a time: fn(pos, length, code point or nullopt for a stray
 /// byte); stops when fn returns false.

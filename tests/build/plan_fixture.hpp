@@ -13,7 +13,6 @@
 
 namespace shelfstage::test {
 
-
 inline store::Part resistor(std::int64_t id, double ohms, int qty, const std::string& bin, int reserved = 0) {
   store::Part p;
   p.id = id;
@@ -28,7 +27,7 @@ inline store::Part resistor(std::int64_t id, double ohms, int qty, const std::st
 }
 
 inline store::Part capacitor(std::int64_t id, double farads, int qty, const std::string& bin, const std::string& diel,
-                      double volts) {
+                             double volts) {
   store::Part p;
   p.id = id;
   p.kind = store::PartKind::capacitor;
@@ -51,8 +50,9 @@ inline store::Part transistor(std::int64_t id, const std::string& device, int qt
   return p;
 }
 
-inline synth::RolePart role(const std::string& name, const std::string& designator, char kind, std::vector<double> values,
-                     std::vector<std::vector<std::int64_t>> lines, synth::Join join = synth::Join::single) {
+inline synth::RolePart role(const std::string& name, const std::string& designator, char kind,
+                            std::vector<double> values, std::vector<std::vector<std::int64_t>> lines,
+                            synth::Join join = synth::Join::single) {
   synth::RolePart rp;
   rp.role = name;
   rp.designator = designator;
@@ -101,11 +101,18 @@ inline synth::Candidate ce_stage() {
 }
 
 inline std::vector<store::Part> ce_shelf() {
-  return {resistor(1, 47e3, 1, "A10"),  resistor(2, 47e3, 5, "A11"), resistor(3, 10e3, 9, "A2"),
-          resistor(4, 470, 4, "A3"),    resistor(5, 4750, 4, "A3"),  resistor(6, 1e3, 4, "A1"),
-          resistor(7, 150, 4, "A1"),    capacitor(10, 220e-6, 3, "C5", "electrolytic", 16),
-          capacitor(11, 470e-9, 3, "B6", "film", 63), capacitor(12, 4.7e-6, 3, "C1", "electrolytic", 35),
-          transistor(20, "sq-420", 1, "D11"), transistor(21, "SQ-420", 5, "D9")};
+  return {resistor(1, 47e3, 1, "A10"),
+          resistor(2, 47e3, 5, "A11"),
+          resistor(3, 10e3, 9, "A2"),
+          resistor(4, 470, 4, "A3"),
+          resistor(5, 4750, 4, "A3"),
+          resistor(6, 1e3, 4, "A1"),
+          resistor(7, 150, 4, "A1"),
+          capacitor(10, 220e-6, 3, "C5", "electrolytic", 16),
+          capacitor(11, 470e-9, 3, "B6", "film", 63),
+          capacitor(12, 4.7e-6, 3, "C1", "electrolytic", 35),
+          transistor(20, "sq-420", 1, "D11"),
+          transistor(21, "SQ-420", 5, "D9")};
 }
 
 }  // namespace shelfstage::test

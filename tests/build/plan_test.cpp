@@ -11,8 +11,8 @@
 
 using namespace shelfstage;
 using namespace shelfstage::test;
-using build::plan_build;
 using build::Plan;
+using build::plan_build;
 
 namespace {
 
@@ -28,9 +28,9 @@ TEST_CASE("bin_less: natural order as a person walks a shelf (common practice: n
   CHECK(bin_less("A2", "A10"));
   CHECK_FALSE(bin_less("A10", "A2"));
   CHECK(bin_less("A9", "B1"));
-  CHECK(bin_less("a2", "A10"));   // letters without regard to case
+  CHECK(bin_less("a2", "A10"));  // letters without regard to case
   CHECK(bin_less("A10", "A10b"));
-  CHECK(bin_less("Z99", ""));     // no bin comes last
+  CHECK(bin_less("Z99", ""));  // no bin comes last
   CHECK_FALSE(bin_less("", "A1"));
   CHECK(bin_less("drawer 2", "drawer 12"));
   CHECK_FALSE(bin_less("A2", "A2"));
@@ -97,7 +97,7 @@ TEST_CASE("reserved pieces: other designs' holds are not available, the design's
 
 TEST_CASE("short items: what no line can give, merged per value, with the places left empty") {
   auto shelf = ce_shelf();
-  shelf[2].qty = 3;  // line 3 (10k): R2 and R3 need 2 per copy
+  shelf[2].qty = 3;                 // line 3 (10k): R2 and R3 need 2 per copy
   shelf.erase(shelf.begin() + 11);  // no SQ-420 in D9; D11 holds one
   const Plan p = plan_build(ce_stage(), 2, shelf);
   REQUIRE(p.short_items.size() == 2);

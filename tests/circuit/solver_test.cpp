@@ -20,9 +20,7 @@ namespace {
 
 constexpr double kPi = std::numbers::pi;
 
-double kt(double celsius = devices::kNominalCelsius) {
-  return devices::kBoltzmann * (celsius + devices::kZeroCelsius);
-}
+double kt(double celsius = devices::kNominalCelsius) { return devices::kBoltzmann * (celsius + devices::kZeroCelsius); }
 
 devices::JfetInstance jfet(devices::DeviceKind kind = devices::DeviceKind::njfet) {
   devices::JfetInstance q;
@@ -239,7 +237,9 @@ Circuit hard_switch() {
 
 }  // namespace
 
-TEST_CASE("Hard DC case: when plain Newton runs out of iterations, gmin stepping and then source stepping reach the same answer") {
+TEST_CASE(
+    "Hard DC case: when plain Newton runs out of iterations, gmin stepping and then source stepping reach the same "
+    "answer") {
   const Circuit c = hard_switch();
   const auto ref = circuit::solve_dc(c);
   CHECK(ref.method == "newton");

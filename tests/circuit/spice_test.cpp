@@ -164,14 +164,19 @@ Circuit stage(devices::DeviceKind kind) {
 TEST_CASE("The writer's netlists run in ngspice unchanged, and every polarity biases as in our solver") {
   // Polarity: a P-channel or PNP stage must bias with every voltage mirrored, in ngspice as in
   // the solver; a wrong model type (NJF for a P part) would leave it cut off.
-  for (auto kind : {devices::DeviceKind::njfet, devices::DeviceKind::pjfet, devices::DeviceKind::npn,
-                    devices::DeviceKind::pnp}) {
+  for (auto kind :
+       {devices::DeviceKind::njfet, devices::DeviceKind::pjfet, devices::DeviceKind::npn, devices::DeviceKind::pnp}) {
     const Circuit c = stage(kind);
     circuit::SpiceOptions o;
     // Tight tolerances: ngspice's default RELTOL (1e-3) stops Newton well short of the 1e-5
     // this test asks for.
-    o.analyses = {".options reltol=1e-7 vntol=1e-10 abstol=1e-15", ".control", "op", "print i(vdd) v(b) v(s) v(d)",
-                  "ac dec 10 10 1e6", "print vm(out)[10]", ".endc"};
+    o.analyses = {".options reltol=1e-7 vntol=1e-10 abstol=1e-15",
+                  ".control",
+                  "op",
+                  "print i(vdd) v(b) v(s) v(d)",
+                  "ac dec 10 10 1e6",
+                  "print vm(out)[10]",
+                  ".endc"};
     const std::string text = circuit::to_spice(c, o);
     const auto run = test::run_ngspice(text);
     CAPTURE(devices::kind_name(kind));

@@ -20,7 +20,9 @@ namespace {
 
 using Result = test::CliResult;
 
-Result run(std::vector<std::string> args, const std::string& input = "") { return test::run_cli(std::move(args), input); }
+Result run(std::vector<std::string> args, const std::string& input = "") {
+  return test::run_cli(std::move(args), input);
+}
 
 int line_count(const std::string& text) {
   int n = 0;
@@ -76,8 +78,8 @@ TEST_CASE("a database from a newer shelfstage is refused with exit 3 and left al
   const std::string bump = "PRAGMA user_version = " + std::to_string(store::kSchemaVersion + 1);
   REQUIRE(sqlite3_exec(raw, bump.c_str(), nullptr, nullptr, nullptr) == SQLITE_OK);
   sqlite3_close(raw);
-  for (const auto& args : std::vector<std::vector<std::string>>{
-           {"stock", "list"}, {"stock", "add", "R", "4k7", "5"}, {"check"}}) {
+  for (const auto& args :
+       std::vector<std::vector<std::string>>{{"stock", "list"}, {"stock", "add", "R", "4k7", "5"}, {"check"}}) {
     auto with_db = args;
     with_db.insert(with_db.end(), {"--db", path});
     const auto r = run(with_db);
@@ -148,10 +150,13 @@ TEST_CASE("a value of 100 KB is cut in the message; bytes that are not text are 
   const auto db = (dir / "stock.db").string();
   REQUIRE(run({"--db", db, "init"}).status == 0);
   const std::string huge(100000, 'x');
-  for (const auto& args : std::vector<std::vector<std::string>>{
-           {"--db", db, "show", huge}, {"--db", db, "stock", "adjust", huge, "+1", "--reason", "r"},
-           {"--db", db, "stock", "add", "R", huge, "1"}, {"--db", db, "builds", "undo", huge},
-           {"--db", db, "stock", "list", "--kind", huge}, {"--db", db, "stock", "import", huge}}) {
+  for (const auto& args :
+       std::vector<std::vector<std::string>>{{"--db", db, "show", huge},
+                                             {"--db", db, "stock", "adjust", huge, "+1", "--reason", "r"},
+                                             {"--db", db, "stock", "add", "R", huge, "1"},
+                                             {"--db", db, "builds", "undo", huge},
+                                             {"--db", db, "stock", "list", "--kind", huge},
+                                             {"--db", db, "stock", "import", huge}}) {
     CAPTURE(args[3]);
     const auto r = run(args);
     CHECK(r.status == 1);
@@ -167,9 +172,13 @@ TEST_CASE("options whose text the stock keeps must be clean text, named when the
   test::TempDir dir;
   const auto db = (dir / "stock.db").string();
   REQUIRE(run({"--db", db, "init"}).status == 0);
-  for (const auto& [option, value] : std::vector<std::pair<std::string, std::string>>{
-           {"--bin", "Fach \xE4"}, {"--note", "a\x7F" "b"}, {"--package", "TO\t92"},
-           {"--dielectric", "X7R\n"}, {"--reason", "\x1B[31mred"}}) {
+  for (const auto& [option, value] : std::vector<std::pair<std::string, std::string>>{{"--bin", "Fach \xE4"},
+                                                                                      {"--note",
+                                                                                       "a\x7F"
+                                                                                       "b"},
+                                                                                      {"--package", "TO\t92"},
+                                                                                      {"--dielectric", "X7R\n"},
+                                                                                      {"--reason", "\x1B[31mred"}}) {
     CAPTURE(option);
     const auto r = run({"--db", db, "stock", "add", "R", "1k", "5", option, value});
     CHECK(r.status == 1);

@@ -20,9 +20,10 @@ struct Shelf {
 
 // jfet-cs-self with measured piece J1 of SJ-101 (data-demo/pieces.csv: IDSS 2.9 mA, VP -1.45 V).
 std::vector<std::string> stage_args(const Shelf& s, std::vector<std::string> more = {}) {
-  std::vector<std::string> a = {"analyze", "jfet-cs-self", "--db", s.db, "--device", "SJ-101", "--piece", "J1",
-                                "--supply", "12", "--load", "10k", "--part", "RG=1M", "--part", "RD=4k7",
-                                "--part", "RS1=470", "--part", "CIN=100n", "--part", "cout=1u"};
+  std::vector<std::string> a = {"analyze", "jfet-cs-self", "--db",     s.db,     "--device", "SJ-101",
+                                "--piece", "J1",           "--supply", "12",     "--load",   "10k",
+                                "--part",  "RG=1M",        "--part",   "RD=4k7", "--part",   "RS1=470",
+                                "--part",  "CIN=100n",     "--part",   "cout=1u"};
   a.insert(a.end(), more.begin(), more.end());
   return a;
 }
@@ -66,7 +67,7 @@ TEST_CASE("analyze --json: the measured piece's bias matches the self-bias solut
   CHECK(doc["closed_form"]["bias_current"].get<double>() == doctest::Approx(id).epsilon(0.005));
   CHECK(doc["parts"].size() == 5);
   CHECK(doc["conditions"]["band"][0].get<double>() == 20);  // the default band edges
-  CHECK(doc["corners"].size() >= 3);  // the measured piece's small polygon
+  CHECK(doc["corners"].size() >= 3);                        // the measured piece's small polygon
 }
 
 TEST_CASE("analyze: text with a rating exceeded warns (exit 0), with a sound rating does not") {
@@ -85,8 +86,8 @@ TEST_CASE("analyze: text with a rating exceeded warns (exit 0), with a sound rat
 
 TEST_CASE("analyze: every mistake is bad input (exit 1) with one error line naming the field and value") {
   Shelf s;
-  const std::vector<std::string> base = {"analyze", "jfet-cs-self", "--db", s.db, "--device", "SJ-101",
-                                         "--supply", "12", "--load", "10k"};
+  const std::vector<std::string> base = {"analyze", "jfet-cs-self", "--db", s.db,     "--device",
+                                         "SJ-101",  "--supply",     "12",   "--load", "10k"};
   auto with = [&](std::vector<std::string> parts) {
     std::vector<std::string> a = base;
     for (auto& p : parts) {

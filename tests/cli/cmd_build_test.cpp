@@ -164,9 +164,14 @@ TEST_CASE("a database written by a newer shelfstage is refused with exit 3, unto
     REQUIRE(sqlite3_exec(raw, "PRAGMA user_version = 9", nullptr, nullptr, nullptr) == SQLITE_OK);
     sqlite3_close(raw);
   }
-  for (const std::vector<std::string>& cmd :
-       {std::vector<std::string>{"build", shelf.design}, {"pick", shelf.design}, {"reserve", shelf.design},
-        {"release", shelf.design}, {"builds", "list"}, {"builds", "undo", "1"}, {"ledger"}, {"shop", shelf.design}}) {
+  for (const std::vector<std::string>& cmd : {std::vector<std::string>{"build", shelf.design},
+                                              {"pick", shelf.design},
+                                              {"reserve", shelf.design},
+                                              {"release", shelf.design},
+                                              {"builds", "list"},
+                                              {"builds", "undo", "1"},
+                                              {"ledger"},
+                                              {"shop", shelf.design}}) {
     const auto r = shelf.run(cmd);
     CHECK_MESSAGE(r.status == 3, cmd[0]);
     CHECK(r.err.find("schema version 9 is newer than this shelfstage") != std::string::npos);

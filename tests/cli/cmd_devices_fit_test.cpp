@@ -15,8 +15,8 @@ namespace {
 // Self-bias readings of an N-channel piece simulated in ngspice (NJF VTO=-1.45 BETA=1.37931m
 // LAMBDA=0, so IDSS = BETA*VTO^2 = 2.9 mA; drain on 12 V; `.op`), rounded to four digits as
 // a bench meter shows them: V(source) 0.2116 V at 100 ohms, 0.5385 V at 470, 0.9041 V at 2k2.
-const std::vector<std::string> kReadings{"--self-bias", "100:0.2116", "--self-bias", "470:0.5385",
-                                         "--self-bias", "2k2:0.9041"};
+const std::vector<std::string> kReadings{"--self-bias", "100:0.2116",  "--self-bias",
+                                         "470:0.5385",  "--self-bias", "2k2:0.9041"};
 
 std::vector<std::string> with(std::vector<std::string> a, const std::vector<std::string>& b) {
   a.insert(a.end(), b.begin(), b.end());
@@ -75,7 +75,7 @@ TEST_CASE("devices fit --drain-supply: with the type's lambda, IDSS referred to 
   // 0.005*11.5 = 5.7 % above BETA*VTO^2; with it, IDSS at VDS = 0.
   DemoShelf shelf;
   const std::vector<std::string> readings{"--self-bias", "100:0.2207", "--self-bias", "470:0.5523",
-                                          "--self-bias", "2k2:0.9154", "--device", "SJ-101"};
+                                          "--self-bias", "2k2:0.9154", "--device",    "SJ-101"};
   const auto bench = shelf.json(with({"devices", "fit"}, readings));
   CHECK(bench["drain_supply"].is_null());
   CHECK(bench["idss"].get<double>() / 2.9e-3 - 1 == doctest::Approx(0.057).epsilon(0.1));
@@ -128,8 +128,9 @@ TEST_CASE("devices fit --device --label stores the piece; design --piece shows i
   // The same request for the type (its datasheet box) and for the piece. A datasheet spread
   // of IDSS 1..5 mA and VP -0.5..-3 V against a piece known to a few percent: the piece's
   // worst-case gain range is far narrower.
-  const std::vector<std::string> request{"design", "--gain", "4", "--load", "10k", "--supply", "12", "--zin", "1M",
-                                         "--topology", "jfet-cs-self", "--top", "1", "--samples", "50"};
+  const std::vector<std::string> request{"design",       "--gain", "4",     "--load",    "10k",
+                                         "--supply",     "12",     "--zin", "1M",        "--topology",
+                                         "jfet-cs-self", "--top",  "1",     "--samples", "50"};
   const auto by_type = shelf.json(with(request, {"--device", "SJ-101"}));
   const auto by_piece = shelf.json(with(request, {"--piece", "J9"}));
   MESSAGE("worst-case gain span: datasheet " << worst_gain_span(by_type) << ", piece J9 " << worst_gain_span(by_piece));
@@ -151,12 +152,15 @@ TEST_CASE("devices fit: impossible readings and misuse are refused with one erro
   refused({"devices", "fit", "--self-bias", "1k", "--self-bias", "2k:1"}, "--self-bias '1k': write RS:VS");
   refused({"devices", "fit", "--self-bias", "1q:1", "--self-bias", "2k:1"}, "--self-bias '1q:1': RS '1q'");
   refused({"devices", "fit", "--self-bias", "470:0.6", "--self-bias", "1k:-1"}, "swapped meter leads");
-  refused(with({"devices", "fit", "--label", "J9"}, kReadings), "--label 'J9' stores the fitted piece and needs --device");
+  refused(with({"devices", "fit", "--label", "J9"}, kReadings),
+          "--label 'J9' stores the fitted piece and needs --device");
   refused(with({"devices", "fit", "--device", "SQ-410"}, kReadings), "--device 'SQ-410' is an NPN");
-  refused(with({"devices", "fit", "--device", "SJ-101", "--kind", "PJFET"}, kReadings), "contradicts --device 'SJ-101'");
+  refused(with({"devices", "fit", "--device", "SJ-101", "--kind", "PJFET"}, kReadings),
+          "contradicts --device 'SJ-101'");
   refused(with({"devices", "fit", "--device", "SJ-999"}, kReadings), "--device 'SJ-999' is not in the device list");
   refused(with({"devices", "fit", "--meter-accuracy", "2"}, kReadings), "--meter-accuracy '2' reads as 200 %");
-  refused(with({"devices", "fit", "--device", "SJ-101", "--label", "J1"}, kReadings), "piece label 'J1' is already used");
+  refused(with({"devices", "fit", "--device", "SJ-101", "--label", "J1"}, kReadings),
+          "piece label 'J1' is already used");
   CHECK(shelf.json({"devices", "list"})["pieces"].size() == before);
 }
 
@@ -174,7 +178,8 @@ TEST_CASE("devices measure: a JFET piece, its VP signed by the kind; a warning o
   j = shelf.json({"devices", "measure", "SJ-101", "--idss", "2.9m", "--vp", "-1.45"});
   CHECK(j["piece"]["label"] == "SJ-101-2");
   // P-channel: VP positive whatever the sign typed.
-  j = shelf.json({"devices", "measure", "SJ-P31", "--idss", "6m", "--vp", "-2.5", "--label", "P1", "--uncertainty", "2%"});
+  j = shelf.json(
+      {"devices", "measure", "SJ-P31", "--idss", "6m", "--vp", "-2.5", "--label", "P1", "--uncertainty", "2%"});
   CHECK(j["piece"]["vp"].get<double>() == doctest::Approx(2.5));
   CHECK(j["piece"]["uncertainty"].get<double>() == doctest::Approx(0.02));
 
@@ -212,7 +217,8 @@ TEST_CASE("devices measure: misuse is refused with one error line, nothing store
   refused({"devices", "measure", "SJ-101", "--idss", "2m", "--vp", "0"}, "--vp '0' must not be zero");
   refused({"devices", "measure", "SJ-101", "--idss", "-2m", "--vp", "1"}, "--idss '-2m' must be above zero");
   refused({"devices", "measure", "SJ-101", "--idss", "2m", "--vp", "1", "--hfe", "100"}, "--hfe '100' does not apply");
-  refused({"devices", "measure", "SJ-101", "--idss", "2m", "--vp", "1", "--label", "j1"}, "'j1' is already used");  // labels compare without regard to case
+  refused({"devices", "measure", "SJ-101", "--idss", "2m", "--vp", "1", "--label", "j1"},
+          "'j1' is already used");  // labels compare without regard to case
   refused({"devices", "measure", "SJ-101", "--idss", "2m", "--vp", "1", "--uncertainty", "3"}, "reads as 300 %");
   refused({"devices", "measure", "SJ-999", "--hfe", "100"}, "device 'SJ-999' is not in the device list");
   CHECK(shelf.json({"devices", "list"})["pieces"].size() == before);

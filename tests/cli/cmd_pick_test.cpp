@@ -27,9 +27,9 @@ TEST_CASE("pick --json: the documented shape; every piece of one copy from the l
   }
   CHECK(transistors == 1);
   // As many pieces as the kept design counts (its "pieces", transistor included).
-  const auto kept = shelf.json({"design", "--gain", "10", "--load", "10k", "--supply", "12", "--zin", "100k",
-                                "--source-z", "1k", "--band", "20..20k", "--swing", "2", "--top", "3", "--samples",
-                                "50", "--no-save"});
+  const auto kept =
+      shelf.json({"design", "--gain", "10",      "--load",  "10k", "--supply", "12", "--zin",     "100k", "--source-z",
+                  "1k",     "--band", "20..20k", "--swing", "2",   "--top",    "3",  "--samples", "50",   "--no-save"});
   CHECK(pieces == kept["candidates"][0]["pieces"].get<int>());
   // Bins in walking order (common practice: natural order, A2 before A10).
   for (std::size_t i = 1; i < j["lines"].size(); ++i) {

@@ -55,9 +55,10 @@ std::string kept_design(const shelfstage::test::TempDir& dir) {
   REQUIRE(run_program(dir, "init").status == 0);
   REQUIRE(run_program(dir, "devices import " + quote(src + "/data-demo/devices.csv")).status == 0);
   REQUIRE(run_program(dir, "stock import " + quote(src + "/data-demo/stock.csv")).status == 0);
-  const Run d = run_program(dir,
-                           "design --gain 5 --load 10k --supply 12 --zin 47k --source-z 1k --band 20..20k --swing 0.5 --max-distortion 5% "
-                           "--topology jfet-cs-self --device SJ-101 --top 1 --json");
+  const Run d = run_program(
+      dir,
+      "design --gain 5 --load 10k --supply 12 --zin 47k --source-z 1k --band 20..20k --swing 0.5 --max-distortion 5% "
+      "--topology jfet-cs-self --device SJ-101 --top 1 --json");
   REQUIRE(d.status == 0);
   const auto doc = nlohmann::json::parse(d.out);
   return doc.at("candidates").at(0).at("id").get<std::string>();

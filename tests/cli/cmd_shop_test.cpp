@@ -39,8 +39,7 @@ TEST_CASE("shop: every suggested redesign beats the kept worst-case error by hal
     CHECK(all[i - 1]["error_worst"].get<double>() <= all[i]["error_worst"].get<double>());
   for (const auto& a : all)
     for (const auto& b : all)
-      if (&a != &b)
-        CHECK_FALSE((b["pieces_to_buy"] <= a["pieces_to_buy"] && b["error_worst"] < a["error_worst"]));
+      if (&a != &b) CHECK_FALSE((b["pieces_to_buy"] <= a["pieces_to_buy"] && b["error_worst"] < a["error_worst"]));
   const auto text = shelf.run({"shop", shelf.design});
   CHECK(text.status == 0);
   CHECK(text.out.find("Worst-case gain error of " + shelf.design) != std::string::npos);

@@ -78,9 +78,10 @@ TEST_CASE("show: the text a person reads, by id prefix, with a SPICE netlist for
   const auto spice = (dir / "stage.cir").string();
   const auto r = test::run_stage_cli({"--db", db, "show", id.substr(0, 5), "--spice", spice});
   REQUIRE(r.status == 0);
-  for (const char* part : {"Design ", "Request: gain 10.0 (20.0 dB) into 10kΩ from 1kΩ, +12V rail, ground at the battery's - terminal",
-                           "Parts and their stress", "Nominal figures", "Worst case over", "Yield: ",
-                           "corner pieces", "SPICE netlist written to"})
+  for (const char* part :
+       {"Design ", "Request: gain 10.0 (20.0 dB) into 10kΩ from 1kΩ, +12V rail, ground at the battery's - terminal",
+        "Parts and their stress", "Nominal figures", "Worst case over", "Yield: ", "corner pieces",
+        "SPICE netlist written to"})
     CHECK_MESSAGE(r.out.find(part) != std::string::npos, part);
   CHECK(r.out.find(id) != std::string::npos);
   std::ifstream f(spice);
@@ -193,7 +194,8 @@ TEST_CASE("show: a chain, stage by stage and whole; its exported netlist runs in
   CHECK(std::abs(spice_db - 20 * std::log10(std::abs(gain))) < 0.26);
 }
 
-TEST_CASE("show: a kept chain recomputes to the figures it was designed with (an electrolytic turned round by the link)") {
+TEST_CASE(
+    "show: a kept chain recomputes to the figures it was designed with (an electrolytic turned round by the link)") {
   // Regression: a JFET follower whose COUT sits below the next stage's base has its
   // electrolytic turned round in the chain; read back, its own corner pass judged that
   // orientation against ground and `show` printed zeros. The kept chain must recompute to the
@@ -202,8 +204,9 @@ TEST_CASE("show: a kept chain recomputes to the figures it was designed with (an
   test::TempDir dir;
   const auto db = (dir / "stock.db").string();
   REQUIRE(test::run_stage_cli({"demo", "--db", db, "--json"}).status == 0);
-  const auto d = test::run_stage_cli({"design", "--db", db, "--gain", "60dB", "--load", "47k", "--supply", "24", "--zin",
-                                      "10M", "--band", "5..50k", "--swing", "10", "--max-distortion", "3%", "--top", "3", "--json"});
+  const auto d = test::run_stage_cli(
+      {"design", "--db",   db,       "--gain",  "60dB", "--load",           "47k", "--supply", "24", "--zin",
+       "10M",    "--band", "5..50k", "--swing", "10",   "--max-distortion", "3%",  "--top",    "3",  "--json"});
   REQUIRE(d.status == 0);
   const auto doc = nlohmann::json::parse(d.out);
   REQUIRE_FALSE(doc["candidates"].empty());

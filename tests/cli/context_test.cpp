@@ -14,7 +14,6 @@ using namespace shelfstage;
 using namespace shelfstage::cli;
 using shelfstage::test::EnvVar;
 
-
 TEST_CASE("the database path: --db wins over $SHELFSTAGE_DB, which wins over the XDG data folder") {
   std::ostringstream out, err;
   std::istringstream in;

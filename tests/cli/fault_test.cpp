@@ -1,4 +1,5 @@
-// Fault injection through whole commands: every database write failing in turn, and standard output failing at every byte.
+// Fault injection through whole commands: every database write failing in turn, and standard output failing at every
+// byte.
 //
 // The promise checked: the exit status tells the truth about the database. A command that
 // exits 0 made its whole change; one that exits 1, 2 or 3 left the stock exactly as it was.
@@ -177,19 +178,20 @@ TEST_CASE("every write of an adjustment, a removal and a device removal failing 
   CHECK(fail_every_write(base, {"stock", "adjust", "R:4k7", "-2", "--reason", "used"}) > 2);
   CHECK(fail_every_write(base, {"stock", "remove", "C:10u"}) > 2);
   CHECK(fail_every_write(base, {"devices", "remove", "SJ-101", "--cascade"}) > 2);
-  CHECK(fail_every_write(base, {"devices", "add", "SJ-102", "--kind", "NJFET", "--idss", "1m..5m", "--vp",
-                                "-0.5..-3"}) > 2);
+  CHECK(fail_every_write(base,
+                         {"devices", "add", "SJ-102", "--kind", "NJFET", "--idss", "1m..5m", "--vp", "-0.5..-3"}) > 2);
 }
 
 TEST_CASE("standard output full at any byte after a committed change: exit 0, a warning, the change made once") {
   const Pristine base;
   base.copy();
   const std::string before = state(base.work);
-  const auto reference = test::run_cli({"--db", base.work, "--json", "stock", "adjust", "R:10k", "-3", "--reason", "x"});
+  const auto reference =
+      test::run_cli({"--db", base.work, "--json", "stock", "adjust", "R:10k", "-3", "--reason", "x"});
   REQUIRE(reference.status == 0);
   const std::string after = state(base.work);
-  const auto runs = fail_every_byte(base, {"--json", "stock", "adjust", "R:10k", "-3", "--reason", "x"},
-                                    reference.out.size());
+  const auto runs =
+      fail_every_byte(base, {"--json", "stock", "adjust", "R:10k", "-3", "--reason", "x"}, reference.out.size());
   REQUIRE(runs.size() > 10);
   for (const auto& r : runs) {
     CAPTURE(r.err);

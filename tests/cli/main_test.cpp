@@ -34,8 +34,8 @@ std::string quote(const std::string& s) {
 /// `>&-` close a descriptor); standard error is kept.
 Run run(const shelfstage::test::TempDir& dir, const std::string& args, const std::string& redirections) {
   const auto err = dir / "stderr.txt";
-  const std::string cmd = quote(SHELFSTAGE_BINARY) + " --db " + quote((dir / "stock.db").string()) + " " + args +
-                          " " + redirections + " 2>" + quote(err.string());
+  const std::string cmd = quote(SHELFSTAGE_BINARY) + " --db " + quote((dir / "stock.db").string()) + " " + args + " " +
+                          redirections + " 2>" + quote(err.string());
   const int status = std::system(cmd.c_str());
   Run r;
   r.status = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
@@ -53,12 +53,12 @@ TEST_CASE("standard output closed or full: a reading command exits 1 and says wh
   REQUIRE(run(dir, "init", ">/dev/null").status == 0);
   REQUIRE(run(dir, "stock add R 4k7 10 --bin A1", ">/dev/null").status == 0);
   // POSIX: a write to a closed descriptor fails with EBADF; /dev/full (Linux null(4)) with ENOSPC.
-  for (const auto& [args, redirect, reason] : std::vector<Case>{
-           {"stock export", ">&-", "Bad file descriptor"},
-           {"stock export", ">/dev/full", "No space left on device"},
-           {"--json stock list", ">/dev/full", "No space left on device"},
-           {"ledger", ">&-", "Bad file descriptor"},
-           {"--help", ">/dev/full", "No space left on device"}}) {
+  for (const auto& [args, redirect, reason] :
+       std::vector<Case>{{"stock export", ">&-", "Bad file descriptor"},
+                         {"stock export", ">/dev/full", "No space left on device"},
+                         {"--json stock list", ">/dev/full", "No space left on device"},
+                         {"ledger", ">&-", "Bad file descriptor"},
+                         {"--help", ">/dev/full", "No space left on device"}}) {
     CAPTURE(args);
     CAPTURE(redirect);
     const Run r = run(dir, args, redirect);

@@ -68,11 +68,10 @@ TEST_CASE("selectors a tired person might type are refused with a hint") {
 
 TEST_CASE("select_part finds one line, or lists the candidates") {
   const std::vector<Part> shelf{part(1, PartKind::resistor, 4700, "A6"), part(2, PartKind::resistor, 4700, "A11"),
-                                part(3, PartKind::capacitor, 4.7e-9, "B3"),
-                                part(4, PartKind::npn, 0, "D10", "SQ-410")};
+                                part(3, PartKind::capacitor, 4.7e-9, "B3"), part(4, PartKind::npn, 0, "D10", "SQ-410")};
   CHECK(select_part(parse_selector("2"), shelf).id == 2);
   CHECK(select_part(parse_selector("R:4.7k@a11"), shelf).id == 2);  // bins ignore case
-  CHECK(select_part(parse_selector("C:4n7"), shelf).id == 3);      // 4n7 is 4.7 nF (IEC 60062)
+  CHECK(select_part(parse_selector("C:4n7"), shelf).id == 3);       // 4n7 is 4.7 nF (IEC 60062)
   CHECK(select_part(parse_selector("npn:sq-410"), shelf).id == 4);
   const auto ambiguous = message_of([&] { select_part(parse_selector("R:4k7"), shelf); });
   CHECK(ambiguous.starts_with("stock line 'R:4k7' matches 2 lines: 1 ("));
@@ -85,12 +84,14 @@ TEST_CASE("select_part finds one line, or lists the candidates") {
   same_bin.push_back(precise);
   CHECK(message_of([&] { select_part(parse_selector("R:4k7@A6"), same_bin); }).ends_with("give the line id"));
   CHECK(message_of([&] { select_part(parse_selector("9"), shelf); }).starts_with("stock line 9 does not exist"));
-  CHECK(message_of([&] { select_part(parse_selector("R:10k"), shelf); })
-            .starts_with("stock line 'R:10k' matches nothing"));
+  CHECK(message_of([&] {
+          select_part(parse_selector("R:10k"), shelf);
+        }).starts_with("stock line 'R:10k' matches nothing"));
   // A capacitor of 4700 F is not the 4.7 kilohm resistor: the kind is part of the match.
   CHECK(message_of([&] { select_part(parse_selector("C:4700F@A6"), shelf); }).find("matches nothing") !=
         std::string::npos);
   // Written bare, a capacitance is refused as in the stock (it would be farads).
-  CHECK(message_of([&] { select_part(parse_selector("C:4700@A6"), shelf); })
-            .starts_with("stock line value '4700': a capacitance needs its multiplier or unit"));
+  CHECK(message_of([&] {
+          select_part(parse_selector("C:4700@A6"), shelf);
+        }).starts_with("stock line value '4700': a capacitance needs its multiplier or unit"));
 }

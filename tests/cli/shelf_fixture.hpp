@@ -13,9 +13,9 @@
 namespace shelfstage::test {
 
 /// The request the fixture designs for (the demo's): a gain of ten into 10k from 12 V.
-inline const std::vector<std::string> kDemoRequest{"design", "--gain", "10", "--load", "10k", "--supply", "12",
-                                                   "--zin", "100k", "--source-z", "1k", "--band", "20..20k",
-                                                   "--swing", "2"};
+inline const std::vector<std::string> kDemoRequest{"design",   "--gain", "10",      "--load",  "10k",
+                                                   "--supply", "12",     "--zin",   "100k",    "--source-z",
+                                                   "1k",       "--band", "20..20k", "--swing", "2"};
 
 struct DemoShelf {
   TempDir dir;

@@ -102,8 +102,8 @@ TEST_CASE("an empty shelf says how to fill it") {
 }
 
 TEST_CASE("stock JSON: the keys and types docs/interface.md lists") {
-  const auto doc = stock_json({resistor(1, 4700, 38, "A6"), electrolytic(2, 2.2e-6, 50, 5),
-                               transistor(3, PartKind::njfet, "SJ-101", 12)});
+  const auto doc = stock_json(
+      {resistor(1, 4700, 38, "A6"), electrolytic(2, 2.2e-6, 50, 5), transistor(3, PartKind::njfet, "SJ-101", 12)});
   CHECK(doc["schema"] == 1);
   const auto& parts = doc["parts"];
   REQUIRE(parts.size() == 3);

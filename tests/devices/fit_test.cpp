@@ -92,8 +92,8 @@ TEST_CASE("ngspice: a P-channel JFET's (negative) self-bias readings give back I
   // ngspice's PJF takes a negative VTO as NJF does (the polarity lives in the model type);
   // the datasheet VP is then +1.6 V. IDSS = 2.5 mA/V^2 * 1.6^2 = 6.4 mA.
   const double idss = 2.5e-3 * 1.6 * 1.6, vp = 1.6;
-  const auto readings = spice_readings(".model jmod pjf(vto=-1.6 beta=2.5e-3 lambda=0)", "vdd{i} d{i} 0 -12",
-                                       {68, 330, 1500});
+  const auto readings =
+      spice_readings(".model jmod pjf(vto=-1.6 beta=2.5e-3 lambda=0)", "vdd{i} d{i} 0 -12", {68, 330, 1500});
   for (const auto& r : readings) REQUIRE(r.vs_v < 0);  // the source sits below ground
   const auto fit = fit_self_bias(readings, DeviceKind::pjfet);
   CHECK(rel_err(fit.idss_a, idss) < 0.01);
@@ -124,8 +124,8 @@ TEST_CASE("ngspice: channel-length modulation moves the fitted IDSS by (1 + lamb
   // With the drain on a fixed 15 V supply VDS falls as VS rises; the readings then lie off the
   // square law by a few parts in a thousand: the fit still lands within 1 % of VP, and IDSS
   // within 1 % of IDSS (1 + lambda*VDS) at the mean VDS of the readings.
-  const auto supplied = spice_readings(fmt::format(".model jmod njf(vto=-2.2 beta=0.74e-3 lambda={})", lambda),
-                                       "vdd{i} d{i} 0 15", rs);
+  const auto supplied =
+      spice_readings(fmt::format(".model jmod njf(vto=-2.2 beta=0.74e-3 lambda={})", lambda), "vdd{i} d{i} 0 15", rs);
   const auto fit2 = fit_self_bias(supplied);
   double mean_vds = 0;
   for (const auto& r : supplied) mean_vds += (15 - r.vs_v) / static_cast<double>(supplied.size());
@@ -162,8 +162,8 @@ TEST_CASE("ngspice: a P-channel piece with lambda on a -12 V drain supply, refer
 TEST_CASE("ngspice: readings taken below pinch-off's drain voltage (triode) are refused when the supply is given") {
   // NJF VTO=-2.2 with the drain on 1 V: VDS stays below VGS - VTO, the piece works as a
   // resistor, not on the saturation square law. Told the supply, the fit says so.
-  const auto readings = spice_readings(".model jmod njf(vto=-2.2 beta=0.74e-3 lambda=0)", "vdd{i} d{i} 0 1",
-                                       {100, 470, 2200});
+  const auto readings =
+      spice_readings(".model jmod njf(vto=-2.2 beta=0.74e-3 lambda=0)", "vdd{i} d{i} 0 1", {100, 470, 2200});
   const std::string e = error_of([&] { fit_self_bias(readings, DeviceKind::njfet, {}, {0.0, 1.0}); });
   CHECK_MESSAGE(e.starts_with("drain supply 1V is below the fitted |VP|"), e);
   CHECK(e.find("not in saturation") != std::string::npos);
@@ -224,8 +224,8 @@ TEST_CASE("Two readings: the uncertainty is the meter's and the resistors' carri
   CHECK(fit.correlation < -0.5);
   CHECK(fit.piece_uncertainty() >= fit.idss_uncertainty_a / fit.idss_a);
   CHECK(fit.piece_uncertainty() >= fit.vp_uncertainty_v / std::abs(fit.vp_v));
-  CHECK(fit.piece_uncertainty() < 1.1 * std::max(fit.idss_uncertainty_a / fit.idss_a,
-                                                  fit.vp_uncertainty_v / std::abs(fit.vp_v)));
+  CHECK(fit.piece_uncertainty() <
+        1.1 * std::max(fit.idss_uncertainty_a / fit.idss_a, fit.vp_uncertainty_v / std::abs(fit.vp_v)));
 }
 
 namespace {
@@ -299,39 +299,51 @@ TEST_CASE("Readings no square-law piece can give are refused, naming the reading
   using V = std::vector<SelfBiasReading>;
   auto fit = [](V v, DeviceKind k = DeviceKind::njfet) { return fit_self_bias(v, k); };
   CHECK(error_of([&] { fit({{1000, 1.0}}); }).find("1 given, two or more are needed") != std::string::npos);
-  CHECK(error_of([&] { fit({{1000, 1.0}, {1000, 1.01}}); }).find("two different source resistors") !=
-        std::string::npos);
-  CHECK(error_of([&] { fit({{0, 1.0}, {1000, 1.01}}); }) ==
-        "self-bias reading 1 (RS 0Ω, VS 1V): RS must be above zero");
-  CHECK(error_of([&] { fit({{470, 0.6}, {1000, 0}}); }).starts_with("self-bias reading 2 (RS 1kΩ, VS 0V): VS must not be zero"));
+  CHECK(error_of([&] {
+          fit({{1000, 1.0}, {1000, 1.01}});
+        }).find("two different source resistors") != std::string::npos);
+  CHECK(error_of([&] {
+          fit({{0, 1.0}, {1000, 1.01}});
+        }) == "self-bias reading 1 (RS 0Ω, VS 1V): RS must be above zero");
+  CHECK(error_of([&] {
+          fit({{470, 0.6}, {1000, 0}});
+        }).starts_with("self-bias reading 2 (RS 1kΩ, VS 0V): VS must not be zero"));
   CHECK(error_of([&] { fit({{470, 0.6}, {1000, -1.0}}); }).find("swapped meter leads") != std::string::npos);
-  CHECK(error_of([&] { fit({{470, -0.6}, {1000, 1.0}}, DeviceKind::pjfet); }).find("not a mixture") !=
-        std::string::npos);
-  CHECK(error_of([&] { fit({{470, 0.6}, {1000, 1.0}}, DeviceKind::npn); }).find("fit JFETs only") !=
-        std::string::npos);
+  CHECK(error_of([&] {
+          fit({{470, -0.6}, {1000, 1.0}}, DeviceKind::pjfet);
+        }).find("not a mixture") != std::string::npos);
+  CHECK(error_of([&] { fit({{470, 0.6}, {1000, 1.0}}, DeviceKind::npn); }).find("fit JFETs only") != std::string::npos);
   // A larger resistor with a smaller source voltage: every JFET's current falls as its gate
   // goes more negative, so VS = ID*RS must rise with RS.
-  CHECK(error_of([&] { fit({{1000, 1.0}, {2200, 0.8}}); }) ==
+  CHECK(error_of([&] {
+          fit({{1000, 1.0}, {2200, 0.8}});
+        }) ==
         "self-bias reading 1 (RS 1kΩ, VS 1V) and self-bias reading 2 (RS 2.2kΩ, VS 0.8V) contradict each other: "
         "the larger source resistor must give the larger source voltage");
   // A larger resistor with a larger current (2.5 V / 2.2k = 1.14 mA against 1 mA).
-  CHECK(error_of([&] { fit({{1000, 1.0}, {2200, 2.5}}); }).find("must give the smaller drain current") !=
-        std::string::npos);
+  CHECK(error_of([&] {
+          fit({{1000, 1.0}, {2200, 2.5}});
+        }).find("must give the smaller drain current") != std::string::npos);
   // Within the meter's accuracy the order holds, but the line sqrt(ID) against |VS| rises.
-  CHECK(error_of([&] { fit({{1000, 1.0}, {1200, 0.998}}); }).find("does not fall as the gate goes more negative") !=
-        std::string::npos);
+  CHECK(error_of([&] {
+          fit({{1000, 1.0}, {1200, 0.998}});
+        }).find("does not fall as the gate goes more negative") != std::string::npos);
   // The current hardly changes with RS: a square law through it pinches off near 400 V.
   CHECK(error_of([&] { fit({{1000, 1.0}, {2000, 1.99}}); }).find("beyond any small-signal JFET") != std::string::npos);
   // The drain supply: of the wrong sign, or below a reading.
-  CHECK(error_of([&] { fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.01, -9.0}); }) ==
-        "drain supply -9V: an N-channel drain needs a positive supply");
-  CHECK(error_of([&] { fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.01, 0.9}); }) ==
-        "self-bias reading 2 (RS 1kΩ, VS 1V): the source cannot sit at or beyond the drain supply 0.9V");
-  CHECK(error_of([&] { fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.5, 9.0}); }) ==
-        "lambda 0.5/V must lie between 0 and 0.2/V");
+  CHECK(error_of([&] {
+          fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.01, -9.0});
+        }) == "drain supply -9V: an N-channel drain needs a positive supply");
+  CHECK(error_of([&] {
+          fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.01, 0.9});
+        }) == "self-bias reading 2 (RS 1kΩ, VS 1V): the source cannot sit at or beyond the drain supply 0.9V");
+  CHECK(error_of([&] {
+          fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {}, {0.5, 9.0});
+        }) == "lambda 0.5/V must lie between 0 and 0.2/V");
   // Accuracy options out of range.
-  CHECK(error_of([&] { fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {0.7, 0.01}); })
-            .find("meter accuracy 70%") != std::string::npos);
+  CHECK(error_of([&] {
+          fit_self_bias(V{{470, 0.6}, {1000, 1.0}}, DeviceKind::njfet, {0.7, 0.01});
+        }).find("meter accuracy 70%") != std::string::npos);
 }
 
 TEST_CASE("A reading far off the others' square law is kept and named in a note") {
@@ -339,7 +351,8 @@ TEST_CASE("A reading far off the others' square law is kept and named in a note"
   // a misread meter; the fit still stands, the note names reading 5 (least squares spreads
   // its misfit: the full fit's largest residual is reading 4's).
   std::vector<SelfBiasReading> readings;
-  for (double rs : {150.0, 330.0, 680.0, 1500.0, 3300.0}) readings.push_back({rs, self_bias_source_voltage(3.6e-3, 2.2, rs)});
+  for (double rs : {150.0, 330.0, 680.0, 1500.0, 3300.0})
+    readings.push_back({rs, self_bias_source_voltage(3.6e-3, 2.2, rs)});
   readings[4].vs_v *= 1.10;
   const auto fit = fit_self_bias(readings);
   bool named = false;

@@ -147,9 +147,12 @@ TEST_CASE("BJT (Gummel-Poon without high injection, as ngspice's BJT): IC at a V
   // The output conductance the solver stamps is that slope.
   CHECK(-bjt_eval(q, vbe, vbe - 5.0).dic_dvbc == doctest::Approx(s).epsilon(1e-6));
   // Derivatives against the slopes of the currents.
-  CHECK(e.dic_dvbe == doctest::Approx(slope([&](double x) { return bjt_eval(q, x, vbc).ic_a; }, vbe, 1e-7)).epsilon(1e-5));
-  CHECK(e.dic_dvbc == doctest::Approx(slope([&](double x) { return bjt_eval(q, vbe, x).ic_a; }, vbc, 1e-7)).epsilon(1e-5));
-  CHECK(e.dib_dvbe == doctest::Approx(slope([&](double x) { return bjt_eval(q, x, vbc).ib_a; }, vbe, 1e-7)).epsilon(1e-5));
+  CHECK(e.dic_dvbe ==
+        doctest::Approx(slope([&](double x) { return bjt_eval(q, x, vbc).ic_a; }, vbe, 1e-7)).epsilon(1e-5));
+  CHECK(e.dic_dvbc ==
+        doctest::Approx(slope([&](double x) { return bjt_eval(q, vbe, x).ic_a; }, vbc, 1e-7)).epsilon(1e-5));
+  CHECK(e.dib_dvbe ==
+        doctest::Approx(slope([&](double x) { return bjt_eval(q, x, vbc).ib_a; }, vbe, 1e-7)).epsilon(1e-5));
   // A decade of current per about 59 mV at 25 °C (VT*ln 10; common practice "60 mV per decade").
   const double i1 = bjt_eval(flat, 0.60, -5).ic_a, i2 = bjt_eval(flat, 0.60 + vt * std::log(10.0), -5).ic_a;
   CHECK(i2 / i1 == doctest::Approx(10.0).epsilon(1e-6));

@@ -74,7 +74,8 @@ TEST_CASE("Both JFET models reach every datasheet limit of IDSS and VP and hold 
     for (SpreadModel m : {SpreadModel::correlated, SpreadModel::box}) {
       const DeviceSpread s(r, {m});
       CAPTURE(s.description());
-      const double id_lo = std::min(r.jfet.idss_a.min, r.jfet.idss_a.max), id_hi = std::max(r.jfet.idss_a.min, r.jfet.idss_a.max);
+      const double id_lo = std::min(r.jfet.idss_a.min, r.jfet.idss_a.max),
+                   id_hi = std::max(r.jfet.idss_a.min, r.jfet.idss_a.max);
       const double vp_lo = std::min(std::abs(r.jfet.vp_v.min), std::abs(r.jfet.vp_v.max));
       const double vp_hi = std::max(std::abs(r.jfet.vp_v.min), std::abs(r.jfet.vp_v.max));
       const auto [i0, i1] = extent(s, [](const PieceFigures& c) { return c.idss_a; });

@@ -61,11 +61,13 @@ TEST_CASE("palette: text colours on the grounds they are written on reach 4.5 : 
   // and cards, .ok/.warn/.note, the hazard notice) and the drawings' labels (schematic
   // designators, bench labels, values; plot titles, legends and notes).
   const std::pair<const char*, const char*> pairs[] = {
-      {palette::ink, palette::paper},     {palette::ink, palette::band},       {palette::ink, palette::blank},
-      {palette::muted, palette::paper},   {palette::muted, palette::band},     {palette::bench, palette::paper},
-      {palette::brick, palette::paper},   {palette::brick, palette::band},     {palette::good, palette::paper},
-      {palette::alarm, palette::paper},   {palette::alarm, palette::alarm_ground}, {palette::caution, palette::paper},
-      {palette::ink, palette::alarm_ground}, {palette::muted, palette::blank},
+      {palette::ink, palette::paper},          {palette::ink, palette::band},
+      {palette::ink, palette::blank},          {palette::muted, palette::paper},
+      {palette::muted, palette::band},         {palette::bench, palette::paper},
+      {palette::brick, palette::paper},        {palette::brick, palette::band},
+      {palette::good, palette::paper},         {palette::alarm, palette::paper},
+      {palette::alarm, palette::alarm_ground}, {palette::caution, palette::paper},
+      {palette::ink, palette::alarm_ground},   {palette::muted, palette::blank},
   };
   for (const auto& [text, ground] : pairs) {
     CAPTURE(text);

@@ -84,8 +84,8 @@ TEST_CASE("log_ticks: 1-2-5 in each decade, whole decades at the ends") {
   auto t = log_ticks(20, 20000);
   CHECK(t.lo == doctest::Approx(10));
   CHECK(t.hi == doctest::Approx(1e5));
-  CHECK(labels(t.ticks) == std::vector<std::string>{"10", "20", "50", "100", "200", "500", "1k", "2k", "5k", "10k",
-                                                    "20k", "50k", "100k"});
+  CHECK(labels(t.ticks) ==
+        std::vector<std::string>{"10", "20", "50", "100", "200", "500", "1k", "2k", "5k", "10k", "20k", "50k", "100k"});
   int majors = 0;
   for (const auto& k : t.ticks) majors += k.major;
   CHECK(majors == 5);

@@ -121,9 +121,8 @@ void check_wiring(const circuit::Circuit& c, const Schematic& s, const std::stri
   CHECK(s.pins.size() == expected_pins);
   for (const auto& el : c.elements())
     for (std::size_t k = 0; k < el.pin_count(); ++k) {
-      const auto it = std::find_if(s.pins.begin(), s.pins.end(), [&](const PlacedPin& p) {
-        return p.designator == el.c.designator && p.pin == k;
-      });
+      const auto it = std::find_if(s.pins.begin(), s.pins.end(),
+                                   [&](const PlacedPin& p) { return p.designator == el.c.designator && p.pin == k; });
       REQUIRE_MESSAGE(it != s.pins.end(), el.c.designator, " pin ", k);
       CHECK(it->net == el.c.pins[k]);
     }
@@ -231,12 +230,12 @@ TEST_CASE("lay_out: parts are ordered along the page: supply on top, ground belo
     FAIL("no pin ", des, " on ", net);
     return Point{};
   };
-  CHECK(pin_at(des(v, "RD"), "vdd").y < pin_at(des(v, "RD"), "drain").y);     // supply above the drain
-  CHECK(pin_at(des(v, "RG"), "gate").y < pin_at(des(v, "RG"), "0").y);        // gate above ground
-  CHECK(pin_at(des(v, "RS1"), "source").y < pin_at(des(v, "RS1"), "x").y);    // source above the junction
-  CHECK(pin_at(des(v, "RS2"), "x").y < pin_at(des(v, "RS2"), "0").y);         // the junction above ground
-  CHECK(pin_at(des(v, "CIN"), "in").x < pin_at(des(v, "CIN"), "gate").x);     // input left of the gate
-  CHECK(pin_at(des(v, "COUT"), "drain").x < pin_at(des(v, "COUT"), "out").x); // drain left of the output
+  CHECK(pin_at(des(v, "RD"), "vdd").y < pin_at(des(v, "RD"), "drain").y);      // supply above the drain
+  CHECK(pin_at(des(v, "RG"), "gate").y < pin_at(des(v, "RG"), "0").y);         // gate above ground
+  CHECK(pin_at(des(v, "RS1"), "source").y < pin_at(des(v, "RS1"), "x").y);     // source above the junction
+  CHECK(pin_at(des(v, "RS2"), "x").y < pin_at(des(v, "RS2"), "0").y);          // the junction above ground
+  CHECK(pin_at(des(v, "CIN"), "in").x < pin_at(des(v, "CIN"), "gate").x);      // input left of the gate
+  CHECK(pin_at(des(v, "COUT"), "drain").x < pin_at(des(v, "COUT"), "out").x);  // drain left of the output
   CHECK(pin_at("Q1", "drain").y < pin_at("Q1", "source").y);
   // The stage's input and output terminals sit on their nets.
   int terminals = 0;

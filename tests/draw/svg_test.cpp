@@ -33,7 +33,10 @@ TEST_CASE("xml_escape: the five predefined entities of XML 1.0 (section 4.6)") {
 }
 
 TEST_CASE("xml_escape: characters XML 1.0 (section 2.2) does not allow are dropped or replaced") {
-  CHECK(xml_escape(std::string("a\x01" "b\x1f" "c", 5)) == "abc");
+  CHECK(xml_escape(std::string("a\x01"
+                               "b\x1f"
+                               "c",
+                               5)) == "abc");
   CHECK(xml_escape("tab\there\nnl") == "tab\there\nnl");
   CHECK(xml_escape(std::string("x\0y", 3)) == "xy");
   // A lone continuation byte and a truncated sequence become U+FFFD.
@@ -60,7 +63,8 @@ TEST_CASE("num: compact coordinates") {
 TEST_CASE("Paint: only the attributes that were set") {
   CHECK(Paint().attributes() == "");
   CHECK(Paint().stroke("#123456", 2).attributes() == " stroke=\"#123456\" stroke-width=\"2\"");
-  CHECK(Paint().fill("none").opacity(0.25).attributes() == " fill=\"none\" fill-opacity=\"0.25\" stroke-opacity=\"0.25\"");
+  CHECK(Paint().fill("none").opacity(0.25).attributes() ==
+        " fill=\"none\" fill-opacity=\"0.25\" stroke-opacity=\"0.25\"");
   CHECK(Paint().dash("4 3").round().attributes() ==
         " stroke-dasharray=\"4 3\" stroke-linecap=\"round\" stroke-linejoin=\"round\"");
 }

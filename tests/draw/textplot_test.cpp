@@ -23,9 +23,12 @@ std::vector<std::string> cells(const std::string& line) {
   for (std::size_t i = 0; i < line.size();) {
     std::size_t n = 1;
     const auto b = static_cast<unsigned char>(line[i]);
-    if (b >= 0xF0) n = 4;
-    else if (b >= 0xE0) n = 3;
-    else if (b >= 0xC0) n = 2;
+    if (b >= 0xF0)
+      n = 4;
+    else if (b >= 0xE0)
+      n = 3;
+    else if (b >= 0xC0)
+      n = 2;
     v.push_back(line.substr(i, n));
     i += n;
   }
@@ -135,7 +138,8 @@ TEST_CASE("text_plot: a labelled row of the y axis carries the tick \"\u251c\", 
   for (const auto& l : ls) {
     const auto cs = cells(l);
     // The axis cell follows the right-aligned label and one space.
-    const auto at = std::find_if(cs.begin(), cs.end(), [](const std::string& c) { return c == "\u251c" || c == "\u2502"; });
+    const auto at =
+        std::find_if(cs.begin(), cs.end(), [](const std::string& c) { return c == "\u251c" || c == "\u2502"; });
     if (at == cs.end()) continue;
     const std::string label = l.substr(0, l.find(*at));
     const bool labelled = label.find_first_not_of(' ') != std::string::npos;

@@ -232,7 +232,7 @@ TEST_CASE("a polarised capacitor fitted the wrong way round warns; the right way
     REQUIRE(a.exact);
     CHECK(a.exact->v_out > 0);
     CHECK(a.exact->v_in == doctest::Approx(kSupply).epsilon(1e-4));  // the gate returned to the rail
-    CHECK(a.exact->v_common > a.exact->v_out);  // the source toward the + rail
+    CHECK(a.exact->v_common > a.exact->v_out);                       // the source toward the + rail
     CHECK(part(a, "COUT").plus_net == "drain");
     CHECK(part(a, "CIN").plus_net == "gate");
     // The closed form places it on the rail the same way.
@@ -311,11 +311,13 @@ TEST_CASE("role values: names in any case, optional roles left out, every mistak
         std::string::npos);
   CHECK(message({{"RG", 1e6}, {"RD", 0}, {"CIN", 1e-7}, {"COUT", 1e-6}}).find("role RD '0'") != std::string::npos);
   // A bypass capacitor needs the resistor it bypasses.
-  CHECK(message({{"RG", 1e6}, {"RD", 4.7e3}, {"CS", 1e-4}, {"CIN", 1e-7}, {"COUT", 1e-6}})
-            .find("no place without RS2") != std::string::npos);
+  CHECK(
+      message({{"RG", 1e6}, {"RD", 4.7e3}, {"CS", 1e-4}, {"CIN", 1e-7}, {"COUT", 1e-6}}).find("no place without RS2") !=
+      std::string::npos);
   // CIN=100 is 100 F: a slip of the prefix.
-  CHECK(message({{"RG", 1e6}, {"RD", 4.7e3}, {"CIN", 100}, {"COUT", 1e-6}}).find("role CIN '100F' is not a plausible") !=
-        std::string::npos);
+  CHECK(
+      message({{"RG", 1e6}, {"RD", 4.7e3}, {"CIN", 100}, {"COUT", 1e-6}}).find("role CIN '100F' is not a plausible") !=
+      std::string::npos);
   // RS2 without its bypass capacitor is a plain unbypassed resistor: allowed.
   CHECK(message({{"RG", 1e6}, {"RD", 4.7e3}, {"RS2", 470}, {"CIN", 1e-7}, {"COUT", 1e-6}}) == "no error");
 }

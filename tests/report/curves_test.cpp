@@ -118,8 +118,8 @@ TEST_CASE("frequency_response: the nominal curve matches ngspice's AC analysis o
       CHECK(again.f_low_hz == doctest::Approx(r.f_low_hz).epsilon(0.03));
     }
     // Phase: read within (-180, 180] where the gain peaks; an inverting stage sits near 180.
-    const auto peak = static_cast<std::size_t>(
-        std::max_element(r.nominal.gain_db.begin(), r.nominal.gain_db.end()) - r.nominal.gain_db.begin());
+    const auto peak = static_cast<std::size_t>(std::max_element(r.nominal.gain_db.begin(), r.nominal.gain_db.end()) -
+                                               r.nominal.gain_db.begin());
     CHECK(r.nominal.phase_deg[peak] > -180);
     CHECK(r.nominal.phase_deg[peak] <= 180);
     if (d.c.nominal.gain < 0) CHECK(std::abs(std::abs(r.nominal.phase_deg[peak]) - 180) < 45);
@@ -145,8 +145,12 @@ TEST_CASE("bias_spread: the nominal operating point matches ngspice's .op; corne
     const bool jfet = devices::is_jfet(q.kind);
     circuit::SpiceOptions so;
     so.celsius = d.spec.temp_nominal_c();
-    so.analyses = {".control", "op", fmt::format("print v({})", b.node),
-                   fmt::format("let iq = @{}[{}]", dev, jfet ? "id" : "ic"), "print iq", ".endc"};
+    so.analyses = {".control",
+                   "op",
+                   fmt::format("print v({})", b.node),
+                   fmt::format("let iq = @{}[{}]", dev, jfet ? "id" : "ic"),
+                   "print iq",
+                   ".endc"};
     const auto run = test::run_ngspice(circuit::to_spice(net, so));
     INFO(run.output);
     CHECK(b.nominal.v == doctest::Approx(run.get(fmt::format("v({})", b.node))).epsilon(1e-3));
@@ -211,7 +215,9 @@ TEST_CASE("transfer_curve: matches ngspice's .dc sweep of the stage with its cap
           h.vsource(e.designator, e.role, a, b, volt(e.pins[0]) - volt(e.pins[1]));
           break;
         case circuit::ElementKind::vsource: h.vsource(e.designator, e.role, a, b, e.value, e.ac_volts); break;
-        case circuit::ElementKind::jfet: h.jfet(e.designator, a, b, net.net_name(e.pins[2]), net.jfets()[e.device]); break;
+        case circuit::ElementKind::jfet:
+          h.jfet(e.designator, a, b, net.net_name(e.pins[2]), net.jfets()[e.device]);
+          break;
         case circuit::ElementKind::bjt: h.bjt(e.designator, a, b, net.net_name(e.pins[2]), net.bjts()[e.device]); break;
       }
     }

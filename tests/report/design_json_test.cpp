@@ -99,17 +99,17 @@ TEST_CASE("candidate_json: a single stage carries every documented key, and the 
   CHECK(j["error_worst"] == doctest::Approx(c.error_worst));
   // nominal (docs/interface.md's **`nominal`** paragraph).
   const Json& n = j["nominal"];
-  for (const char* k : {"gain", "bias_current", "nodes", "zin", "zout", "f_low", "f_high", "swing_peak", "supply_current",
-                        "swing_up", "swing_down", "swing_vpp", "clip_peak", "loss_low_db", "loss_high_db", "hd2", "hd3",
-                        "thd", "noise"})
+  for (const char* k :
+       {"gain", "bias_current", "nodes", "zin", "zout", "f_low", "f_high", "swing_peak", "supply_current", "swing_up",
+        "swing_down", "swing_vpp", "clip_peak", "loss_low_db", "loss_high_db", "hd2", "hd3", "thd", "noise"})
     CHECK_MESSAGE(n.contains(k), k);
   CHECK(n["gain"] == doctest::Approx(c.nominal.gain));
   CHECK(n["swing_vpp"] == doctest::Approx(2 * n["swing_peak"].get<double>()));
   for (const char* k : {"base", "emitter", "collector"}) CHECK_MESSAGE(n["nodes"].contains(k), k);
   // worst: [min, max] each, holding its nominal figure (docs/worst-case.md).
   const Json& w = j["worst"];
-  for (const char* k : {"gain", "bias_current", "swing_peak", "swing_vpp", "thd", "zin", "zout", "f_low", "f_high",
-                        "supply_current"}) {
+  for (const char* k :
+       {"gain", "bias_current", "swing_peak", "swing_vpp", "thd", "zin", "zout", "f_low", "f_high", "supply_current"}) {
     CAPTURE(k);
     REQUIRE(is_range(w[k]));
     CHECK(w[k][0].get<double>() <= w[k][1].get<double>());
@@ -125,15 +125,16 @@ TEST_CASE("candidate_json: a single stage carries every documented key, and the 
   for (std::size_t i = 0; i < c.parts.size(); ++i) {
     const Json& p = j["parts"][i];
     CAPTURE(c.parts[i].role);
-    for (const char* k : {"role", "designator", "value", "tol", "recipe", "kind", "text", "bounds", "rating", "polarised",
-                          "plus_net", "lines"})
+    for (const char* k : {"role", "designator", "value", "tol", "recipe", "kind", "text", "bounds", "rating",
+                          "polarised", "plus_net", "lines"})
       CHECK_MESSAGE(p.contains(k), k);
     CHECK(p["recipe"].contains("join"));
     CHECK(p["recipe"].contains("values"));
     CHECK(p["bounds"][0] == doctest::Approx(c.parts[i].combo.lo));
     CHECK(p["bounds"][1] == doctest::Approx(c.parts[i].combo.hi));
     if (c.parts[i].kind == 'C')
-      for (const char* k : {"dielectric", "minus_net", "dc", "plus_node", "minus_node"}) CHECK_MESSAGE(p.contains(k), k);
+      for (const char* k : {"dielectric", "minus_net", "dc", "plus_node", "minus_node"})
+        CHECK_MESSAGE(p.contains(k), k);
   }
   // The transistor's stress (single stages): the shares docs/interface.md states.
   CHECK(j["transistor"]["voltage_share"] == doctest::Approx(0.8));
@@ -151,7 +152,8 @@ TEST_CASE("candidate_json: no Monte Carlo, a null yield; and the candidate back 
   CHECK(back.topology == c.topology);
   CHECK(back.device.name == c.device.name);
   REQUIRE(back.parts.size() == c.parts.size());
-  for (std::size_t i = 0; i < c.parts.size(); ++i) CHECK(back.parts[i].combo.nominal == doctest::Approx(c.parts[i].combo.nominal));
+  for (std::size_t i = 0; i < c.parts.size(); ++i)
+    CHECK(back.parts[i].combo.nominal == doctest::Approx(c.parts[i].combo.nominal));
   CHECK(report::candidate_devices(j) == std::vector<std::string>{"SJ-101"});
 }
 

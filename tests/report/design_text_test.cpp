@@ -76,9 +76,9 @@ TEST_CASE("spec_line: the request in words, the gain in decibels, the rail as th
   s.piece = "bag 3";
   s.prefer = synth::Spec::Prefer::distortion;
   line = report::spec_line(s);
-  for (const char* part : {"gain 0.500 (-6.0 dB) into 10kΩ || 220pF from 600Ω", "Zin ≥ 1MΩ", "band 20Hz..20kHz",
-                           "swing 2 Vpp", "preferring low distortion", "≤ 2mA", "0..70 °C", "4 copies",
-                           "piece bag 3"}) {
+  for (const char* part :
+       {"gain 0.500 (-6.0 dB) into 10kΩ || 220pF from 600Ω", "Zin ≥ 1MΩ", "band 20Hz..20kHz", "swing 2 Vpp",
+        "preferring low distortion", "≤ 2mA", "0..70 °C", "4 copies", "piece bag 3"}) {
     INFO(part);
     CHECK(line.find(part) != std::string::npos);
   }
@@ -161,8 +161,9 @@ TEST_CASE("recipe_line and device_text: a stage's roles in order; a chain's by s
 TEST_CASE("diagnosis_text: the reason on an error line, then the purchases, counted in pieces") {
   synth::DesignResult r;
   r.diagnosis.detail = "no stage reaches a gain of 40 within the headroom";
-  CHECK(report::diagnosis_text(r) == "error: no stage meets the request: no stage reaches a gain of 40 within the "
-                                     "headroom\n");
+  CHECK(report::diagnosis_text(r) ==
+        "error: no stage meets the request: no stage reaches a gain of 40 within the "
+        "headroom\n");
   r.diagnosis.suggestions = {"buy 2 x 6.8k 5% (RS2 of jfet-cs-self)"};
   CHECK(report::diagnosis_text(r).find("what would make it feasible:\n  buy 2 x 6.8k") != std::string::npos);
   synth::Candidate c;

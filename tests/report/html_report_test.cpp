@@ -115,7 +115,8 @@ std::string check_report(const report::ReportInput& in, const std::string& html,
 
   // Every part by its designator, in the page as the browser built it.
   const std::string dom = test::dump_dom(page);
-  for (const auto& rp : in.candidate.parts) CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
+  for (const auto& rp : in.candidate.parts)
+    CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
   CHECK(dom.find(">Q1<") != std::string::npos);
   for (const char* id : {"schematic", "response", "bias", "swing", "parts", "pick", "figures", "cautions"})
     CHECK_MESSAGE(dom.find(std::string("<section id=\"") + id + "\"") != std::string::npos, id);
@@ -186,7 +187,8 @@ TEST_CASE("html_report: a chain renders whole, the chain first and then each sta
   // url(#...) reference names one of them.
   std::map<std::string, int> ids;
   const std::regex id_re(R"re(id="([^"]+)")re");
-  for (auto it = std::sregex_iterator(html.begin(), html.end(), id_re); it != std::sregex_iterator(); ++it) ++ids[(*it)[1]];
+  for (auto it = std::sregex_iterator(html.begin(), html.end(), id_re); it != std::sregex_iterator(); ++it)
+    ++ids[(*it)[1]];
   for (const auto& [id, n] : ids) CHECK_MESSAGE(n == 1, id);
   const std::regex ref_re(R"re(url\(#([^)]+)\))re");
   for (auto it = std::sregex_iterator(html.begin(), html.end(), ref_re); it != std::sregex_iterator(); ++it)
@@ -205,7 +207,8 @@ TEST_CASE("html_report: a chain renders whole, the chain first and then each sta
   CHECK(test::distinct_colours(img) > 200);
   CHECK(test::inked_fraction(img) > 0.5);
   const std::string dom = test::dump_dom(page);
-  for (const auto& rp : in.candidate.parts) CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
+  for (const auto& rp : in.candidate.parts)
+    CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
   for (std::size_t k = 0; k < in.candidate.stages.size(); ++k) {
     const std::string q = fmt::format("Q{}01", k + 1);
     CHECK_MESSAGE(dom.find(">" + q + "<") != std::string::npos, q);

@@ -31,7 +31,7 @@ struct TopologyCase {
   double swing_vpp;
 };
 inline constexpr TopologyCase kTopologyCases[] = {
-    {"jfet-cs-self", "SJ-101", 5, 12, 0.5},      {"jfet-cs-divider", "SJ-P31", 3, 15, 2},
+    {"jfet-cs-self", "SJ-101", 5, 12, 0.5},    {"jfet-cs-divider", "SJ-P31", 3, 15, 2},
     {"jfet-follower", "SJ-202", 0.8, 12, 0.8}, {"bjt-ce-divider", "SQ-410", 10, 12, 2},
     {"bjt-follower", "SQ-510", 0.9, 9, 2},
 };

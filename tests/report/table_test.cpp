@@ -60,7 +60,11 @@ TEST_CASE("a column with no content is left out, unless asked to keep it") {
   TextTable t({{"VALUE"}, {"RESERVED"}, {"BIN"}});
   t.add_row({"10k", "", "A7"});
   CHECK(lines_of(t.render())[0] == "VALUE  BIN");
-  CHECK(lines_of(t.render([] { TableLayout l; l.drop_empty_columns = false; return l; }()))[0] == "VALUE  RESERVED  BIN");
+  CHECK(lines_of(t.render([] {
+          TableLayout l;
+          l.drop_empty_columns = false;
+          return l;
+        }()))[0] == "VALUE  RESERVED  BIN");
 }
 
 TEST_CASE("an empty table is its header") {

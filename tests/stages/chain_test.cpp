@@ -106,8 +106,8 @@ double rel(double got, double ref) { return std::abs(got - ref) / std::abs(ref);
 }  // namespace
 
 TEST_CASE("chain netlist: one coupling capacitor between stages, designators by hundreds, shared supply") {
-  const ChainCase cc = make_chain("follower > cs", {{"jfet-follower", njfet_record()}, {"jfet-cs-self", njfet_record()}},
-                                  12, 10e3, 0);
+  const ChainCase cc =
+      make_chain("follower > cs", {{"jfet-follower", njfet_record()}, {"jfet-cs-self", njfet_record()}}, 12, 10e3, 0);
   const circuit::Circuit net = stages::chain_netlist(cc.stages, cc.c);
   // The bench once: one supply, one signal source, one load.
   int sources = 0, loads = 0;
@@ -176,21 +176,22 @@ TEST_CASE("chains against ngspice: gain of the cascade within 3 %, exact within 
                  12, 10e3, 10e3, low_corners),
       make_chain("bjt-ce-divider > bjt-follower into 150 ohm",
                  {{"bjt-ce-divider", npn_record()}, {"bjt-follower", npn_record()}}, 12, 150, 0, low_corners),
-      make_chain("jfet-cs-divider > bjt-ce-divider > bjt-follower",
-                 {{"jfet-cs-divider", njfet_record()}, {"bjt-ce-divider", npn_record()}, {"bjt-follower", npn_record()}},
-                 15, 1e3, 1e3, low_corners),
+      make_chain(
+          "jfet-cs-divider > bjt-ce-divider > bjt-follower",
+          {{"jfet-cs-divider", njfet_record()}, {"bjt-ce-divider", npn_record()}, {"bjt-follower", npn_record()}}, 15,
+          1e3, 1e3, low_corners),
       make_chain("P-channel and PNP on a positive rail: jfet-cs-self > bjt-follower",
                  {{"jfet-cs-self", pjfet_record()}, {"bjt-follower", pnp_record()}}, 9, 2.2e3, 0, low_corners),
       make_chain("N-channel then PNP on one rail: jfet-cs-self > bjt-follower",
                  {{"jfet-cs-self", njfet_record()}, {"bjt-follower", pnp_record()}}, 12, 2.2e3, 0, low_corners),
-      make_chain("bjt-ce-divider > bjt-ce-divider from 1k", {{"bjt-ce-divider", npn_record()}, {"bjt-ce-divider", npn_record()}},
-                 12, 10e3, 1e3, low_corners),
+      make_chain("bjt-ce-divider > bjt-ce-divider from 1k",
+                 {{"bjt-ce-divider", npn_record()}, {"bjt-ce-divider", npn_record()}}, 12, 10e3, 1e3, low_corners),
   };
   {
     // The P chain on the negative rail it was once always given: the mirror of the above.
-    ChainCase neg = make_chain("P-channel and PNP on a negative rail: jfet-cs-self > bjt-follower",
-                               {{"jfet-cs-self", pjfet_record()}, {"bjt-follower", pnp_record()}}, 9, 2.2e3, 0,
-                               low_corners);
+    ChainCase neg =
+        make_chain("P-channel and PNP on a negative rail: jfet-cs-self > bjt-follower",
+                   {{"jfet-cs-self", pjfet_record()}, {"bjt-follower", pnp_record()}}, 9, 2.2e3, 0, low_corners);
     neg.c.negative_rail = true;
     cases.push_back(neg);
   }
@@ -200,8 +201,8 @@ TEST_CASE("chains against ngspice: gain of the cascade within 3 %, exact within 
     const SpiceChain s = spice_chain(cc, f_mid);
     const stages::ChainPerformance fast = stages::evaluate_chain(cc.stages, cc.c, stages::Detail::core);
     const circuit::Circuit net = stages::chain_netlist(cc.stages, cc.c);
-    const Performance exact = stages::evaluate_circuit(net, stages::chain_transistors(cc.stages), cc.c,
-                                                       stages::Detail::core);
+    const Performance exact =
+        stages::evaluate_circuit(net, stages::chain_transistors(cc.stages), cc.c, stages::Detail::core);
     MESSAGE(fmt::format("{}: ngspice {:.5g}, cascade {:.5g} ({:+.3f} %), exact {:.5g} ({:+.3f} %)", cc.label, s.gain,
                         fast.whole.gain, 100 * (fast.whole.gain / s.gain - 1), exact.gain,
                         100 * (exact.gain / s.gain - 1)));

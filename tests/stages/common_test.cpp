@@ -154,7 +154,8 @@ TEST_CASE("hybrid-pi: common-emitter gain, input pole, Miller capacitance, follo
   CHECK(hybrid_pi_gain(m, 1.0) == doctest::Approx(2.5 / 3.5 * 200).epsilon(1e-6));
   // Cpi alone: one pole at 1 / (2 pi Cpi (rs || rpi)) = 22.28 MHz.
   m.cpi = 10e-12;
-  CHECK(hybrid_pi_corner_hz(m) == doctest::Approx(1 / (2 * std::numbers::pi * 10e-12 * (1e3 * 2.5e3 / 3.5e3))).epsilon(1e-3));
+  CHECK(hybrid_pi_corner_hz(m) ==
+        doctest::Approx(1 / (2 * std::numbers::pi * 10e-12 * (1e3 * 2.5e3 / 3.5e3))).epsilon(1e-3));
   // Miller: Cin = Cpi + Cmu (1 + gm RC) at low frequency = 10 p + 1 p x 201.
   m.cmu = 1e-12;
   CHECK(hybrid_pi_input_capacitance(m, 2 * std::numbers::pi * 10) == doctest::Approx(211e-12).epsilon(1e-4));

@@ -46,7 +46,8 @@ TEST_CASE("jfet_orders: the series of ID = BETA (Vov + u)^2 (1 + lambda (VDS + w
   const double u = 0.05, w = -0.3;
   const double linear = law(0, 0) + 2 * beta * vov * (1 + 0.02 * vds) * u + beta * vov * vov * 0.02 * w;
   double series = linear;
-  for (int a = 0; a <= DeviceOrders::kOrder; ++a) series += k.main_u[a] * std::pow(u, a) + k.main_uw[a] * std::pow(u, a) * w;
+  for (int a = 0; a <= DeviceOrders::kOrder; ++a)
+    series += k.main_u[a] * std::pow(u, a) + k.main_uw[a] * std::pow(u, a) * w;
   CHECK(series == doctest::Approx(law(u, w)).epsilon(1e-12));
   // The linear terms belong to the network: left at zero.
   CHECK(k.main_u[1] == 0);
@@ -67,7 +68,8 @@ TEST_CASE("bjt_orders: the series of IC = IS exp(VBE/VT) (1 + (VCE - VBE)/VAF) a
   const double gm = ic0 / vt - go;  // dIC/du at the bias
   const double linear = ic0 + gm * u + go * w;
   double series = linear;
-  for (int a = 0; a <= DeviceOrders::kOrder; ++a) series += k.main_u[a] * std::pow(u, a) + k.main_uw[a] * std::pow(u, a) * w;
+  for (int a = 0; a <= DeviceOrders::kOrder; ++a)
+    series += k.main_u[a] * std::pow(u, a) + k.main_uw[a] * std::pow(u, a) * w;
   CHECK(series == doctest::Approx(ic(u, w)).epsilon(1e-9));
   // The base current: IB = IS exp(VBE/VT) / BF, its terms of order two and up.
   double base = ibe0 / bf * (1 + u / vt);

@@ -43,8 +43,8 @@ StageCase random_case(const Topology& t, std::mt19937_64& rng, int index) {
                               jfet ? 0.0 : spread.nominal().hfe);
   for (std::size_t i = 0; i < t.roles().size(); ++i)
     if (sc.values[i] > 0) sc.values[i] *= std::exp(0.35 * (2 * u(rng) - 1));
-  sc.label = fmt::format("{} random case {} ({}, {} V, RL {:.3g}, Rsig {:.3g})", t.name(), index, piece.tag,
-                         c.supply_v, c.load_ohm, c.source_ohm);
+  sc.label = fmt::format("{} random case {} ({}, {} V, RL {:.3g}, Rsig {:.3g})", t.name(), index, piece.tag, c.supply_v,
+                         c.load_ohm, c.source_ohm);
   return sc;
 }
 
@@ -107,8 +107,8 @@ TEST_CASE("Fast evaluators against evaluate_exact over seeded random cases of ev
     }
     // The sweep must mostly land in the active region, or it tests nothing.
     CHECK_MESSAGE(compared >= 48, t->name(), ": only ", compared, " of 80 random cases were active");
-    log.report(fmt::format("{}: {} cases compared, {} skipped (not active); worst relative error", t->name(),
-                           compared, skipped));
+    log.report(fmt::format("{}: {} cases compared, {} skipped (not active); worst relative error", t->name(), compared,
+                           skipped));
   }
 }
 

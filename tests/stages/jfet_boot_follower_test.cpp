@@ -119,8 +119,8 @@ TEST_CASE("jfet-boot-follower: the input coupling against the gate's capacitance
       REQUIRE(fast.active);
       const Performance exact = stages::evaluate_exact(boot(), sc.values, sc.q, sc.c, stages::Detail::core);
       const SpiceFigures ng = spice_small_signal(sc, 1000.0);
-      const double divider = stages::input_divider(c.source_ohm, fast.zin_ohm, fast.c_in_f,
-                                                   sc.values[boot().role_index("CIN")]);
+      const double divider =
+          stages::input_divider(c.source_ohm, fast.zin_ohm, fast.c_in_f, sc.values[boot().role_index("CIN")]);
       largest = std::max(largest, 1.0 - divider);
       CHECK(fast.gain == doctest::Approx(ng.gain).epsilon(2e-5));
       CHECK(exact.gain == doctest::Approx(ng.gain).epsilon(2e-5));

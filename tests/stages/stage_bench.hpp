@@ -298,9 +298,9 @@ inline SpiceSwing spice_swing(const StageCase& sc, const Performance& predicted,
   SpiceSwing out;
   {
     const double amp = k * 2.5 * std::max(sat_pred, 0.05) / gain;
-    const std::vector<std::string> a = {
-        edge, ".control", fmt::format("tran {0:.6g} {1:.6g} 0 {0:.6g}", period / 4000, period / 2),
-        "meas tran onset find v(out) when v(edge)=0 fall=1", ".endc"};
+    const std::vector<std::string> a = {edge, ".control",
+                                        fmt::format("tran {0:.6g} {1:.6g} 0 {0:.6g}", period / 4000, period / 2),
+                                        "meas tran onset find v(out) when v(edge)=0 fall=1", ".endc"};
     const SpiceRun r = run_ngspice(stage_netlist(sc, a, fmt::format("SIN(0 {:.6g} {:.6g})", amp, f_hz)));
     const double v = std::abs(r.get("onset"));
     (follower ? out.up_v : out.down_v) = v;
@@ -351,12 +351,12 @@ inline void check_close(ErrorLog& log, const std::string& key, const std::string
 
 /// Tolerances of the comparisons (the acceptance figures).
 struct Tolerances {
-  double op = 0.01;       ///< node voltages and supply current
+  double op = 0.01;          ///< node voltages and supply current
   double op_floor_v = 1e-3;  ///< absolute floor for a node at 0 V (the self-biased gate)
   double gain = 0.02;
   double corner = 0.05;
   double noise = 0.10;
-  double hd2 = 0.10;  ///< the issue's acceptance: HD2 and HD3 within 10 % of ngspice's
+  double hd2 = 0.10;          ///< the issue's acceptance: HD2 and HD3 within 10 % of ngspice's
   double hd2_floor = 1.5e-5;  ///< absolute: the transient's own harmonics (spice_hd23)
   double hd3 = 0.10;
   /// HD3 this far below the 1 % bound is nothing a design turns on: there the terms that make
@@ -411,7 +411,7 @@ inline std::vector<StageCase> standard_cases(const Topology& t) {
     const devices::DeviceSpread n(njfet_record()), p(pjfet_record());
     add(n, n.nominal(), {12, 10e3, 0, 0.3, 0.35}, 0);
     const Row rows[] = {{12, 100e3, 600, 1.0, 0.25, 0.1}, {12, 2.2e3, 100e3, 0.0, 0.5}, {15, 47e3, 10e3, 0.6, 0.35},
-                        {12, 4.7e3, 0, 0.15, 0.2},   {9, 22e3, 47e3, 1.0, 0.45},   {12, 1e3, 600, 0.0, 0.3}};
+                        {12, 4.7e3, 0, 0.15, 0.2},        {9, 22e3, 47e3, 1.0, 0.45},   {12, 1e3, 600, 0.0, 0.3}};
     for (std::size_t i = 0; i < n.corners().size(); ++i) add(n, n.corners()[i], rows[i % 6], 0);
     // Low supply: the pieces with the smallest and the largest |VP|.
     auto by_vp = n.corners();
@@ -496,8 +496,8 @@ inline void check_case(ErrorLog& log, StageCase sc, const Tolerances& tol = {}) 
   REQUIRE(exact.active);
   const double f_test = 1000.0;
   REQUIRE_MESSAGE(exact.f_low_hz * 20 < f_test, sc.label, ": 1 kHz is not mid-band, f_low ", exact.f_low_hz);
-  REQUIRE_MESSAGE((exact.f_high_hz == 0 || exact.f_high_hz > 50 * f_test), sc.label,
-                  ": 1 kHz is not mid-band, f_high ", exact.f_high_hz);
+  REQUIRE_MESSAGE((exact.f_high_hz == 0 || exact.f_high_hz > 50 * f_test), sc.label, ": 1 kHz is not mid-band, f_high ",
+                  exact.f_high_hz);
   const SpiceFigures ng = spice_small_signal(sc, f_test);
   const auto [ng_hd2, ng_hd3] = spice_hd23(sc, ng.gain, f_test);
   const SpiceSwing ng_swing = spice_swing(sc, exact, f_test);

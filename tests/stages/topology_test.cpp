@@ -49,8 +49,8 @@ std::vector<RailCase> rail_cases() {
 StageCase rail_stage(const RailCase& rc) {
   const stages::Topology& t = *stages::find_topology(rc.topology);
   const devices::DeviceSpread spread(rc.record);
-  const Transistor q = devices::is_jfet(rc.record.kind) ? jfet_piece(spread, spread.nominal())
-                                                         : bjt_piece(spread, spread.nominal());
+  const Transistor q =
+      devices::is_jfet(rc.record.kind) ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal());
   Conditions c;
   c.supply_v = 12;
   c.negative_rail = rc.negative_rail;
@@ -183,8 +183,8 @@ TEST_CASE("is_bench_role and is_bench_net: the bench's parts and nets, not the s
     const auto rc = t->accepts(devices::DeviceKind::njfet) ? RailCase{"", njfet_record(), false, false}
                                                            : RailCase{"", npn_record(), false, false};
     const devices::DeviceSpread spread(rc.record);
-    const Transistor q = devices::is_jfet(rc.record.kind) ? jfet_piece(spread, spread.nominal())
-                                                           : bjt_piece(spread, spread.nominal());
+    const Transistor q =
+        devices::is_jfet(rc.record.kind) ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal());
     Conditions c;
     c.load_farads = 100e-12;
     const StageCase sc = design_stage(*t, q, c, {}, rc.record.bjt.hfe.typ.value_or(0));

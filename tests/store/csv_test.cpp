@@ -59,8 +59,8 @@ TEST_CASE("RFC 4180 2.1-2.4: records on lines, a header, fields between commas")
   using V = std::vector<std::vector<std::string>>;
   CHECK(fields("a,b,c\n1,2,3\n") == V{{"a", "b", "c"}, {"1", "2", "3"}});
   CHECK(fields("a,b,c\r\n1,2,3") == V{{"a", "b", "c"}, {"1", "2", "3"}});  // CRLF; last line unterminated
-  CHECK(fields("a,,c,\n") == V{{"a", "", "c", ""}});                         // empty fields, trailing comma
-  CHECK(fields(" a , b ") == V{{" a ", " b "}});                             // spaces belong to the field
+  CHECK(fields("a,,c,\n") == V{{"a", "", "c", ""}});                       // empty fields, trailing comma
+  CHECK(fields(" a , b ") == V{{" a ", " b "}});                           // spaces belong to the field
   CHECK(fields("").empty());
 }
 
@@ -70,7 +70,7 @@ TEST_CASE("RFC 4180 2.5-2.7: quoted fields with commas, line breaks and doubled 
   CHECK(fields("\"say \"\"hi\"\"\",x\n") == V{{"say \"hi\"", "x"}});
   CHECK(fields("\"\",x\n") == V{{"", "x"}});
   CHECK(fields("\"two\nlines\",x\r\nnext,y\n") == V{{"two\nlines", "x"}, {"next", "y"}});
-  CHECK(fields("a, \"b\" ,c\n") == V{{"a", "b", "c"}});  // spaces around a quoted field are dropped
+  CHECK(fields("a, \"b\" ,c\n") == V{{"a", "b", "c"}});       // spaces around a quoted field are dropped
   CHECK(fields("5\" floppy,x\n") == V{{"5\" floppy", "x"}});  // a lone quote inside an unquoted field
 }
 
@@ -199,7 +199,7 @@ TEST_CASE("stock: odd rows a tired person types") {
   CHECK(one("R,1k,") == "stock.csv:2: qty is missing");
   CHECK(one("R,1k,2.5") == "stock.csv:2: qty '2.5' is not a whole number");
   CHECK(one("R,1k,99999999999") == "stock.csv:2: qty '99999999999' is too large");
-  CHECK(one("R,1k,5,1/0") .find("power '1/0'") != std::string::npos);
+  CHECK(one("R,1k,5,1/0").find("power '1/0'") != std::string::npos);
   CHECK(one("C,4.7,5").find("value '4.7': a capacitance needs its multiplier or unit") != std::string::npos);
   CHECK(one("C,1,5").find("value '1': a capacitance needs its multiplier or unit") != std::string::npos);
   CHECK(one("C,1F,5").empty());  // one farad, said so
@@ -266,8 +266,8 @@ TEST_CASE("export then import into a fresh database gives the identical stock") 
     p.bin = std::move(bin);
     return p;
   };
-  std::vector<Part> in = {r(4700, 10, "A3"), r(4700, 3, "B1"), r(0.47, 2, "A0"), r(1.5e6, 1, ""),
-                          r(12345.6789, 1, "odd"), r(1.0 / 3.0, 1, "thirds")};
+  std::vector<Part> in = {r(4700, 10, "A3"), r(4700, 3, "B1"),        r(0.47, 2, "A0"),
+                          r(1.5e6, 1, ""),   r(12345.6789, 1, "odd"), r(1.0 / 3.0, 1, "thirds")};
   in[0].tol = units::Tolerance{0.05, 0.05};
   in[0].power_w = 0.25;
   in[0].note = "carbon film, \"blue\"";
@@ -386,14 +386,15 @@ TEST_CASE("devices: maximum ratings are optional magnitudes, kept through an exp
 
 TEST_CASE("devices: bad rows are all reported") {
   const auto p = problems_of([] {
-    (void)store::parse_devices_csv("name,kind,idss_min,idss_max,vp_min,vp_max,hfe_min,hfe_max\n"
-                                   "J1,NJFET,1m,5m,0.5,3,,\n"  // 2: VP positive for N-channel
-                                   "J2,NJFET,1m,,-0.5,-3,,\n"  // 3: idss_max missing
-                                   "Q1,NPN,,,,,100,x\n"        // 4: hfe_max not a number
-                                   "Q2,NPN,1m,,,,100,200\n"    // 5: a JFET figure on a BJT
-                                   "Q3,TRIODE,,,,,,\n"         // 6: unknown kind
-                                   "q1,NPN,,,,,100,200\n",     // 7: duplicate name
-                                   "devices.csv");
+    (void)store::parse_devices_csv(
+        "name,kind,idss_min,idss_max,vp_min,vp_max,hfe_min,hfe_max\n"
+        "J1,NJFET,1m,5m,0.5,3,,\n"  // 2: VP positive for N-channel
+        "J2,NJFET,1m,,-0.5,-3,,\n"  // 3: idss_max missing
+        "Q1,NPN,,,,,100,x\n"        // 4: hfe_max not a number
+        "Q2,NPN,1m,,,,100,200\n"    // 5: a JFET figure on a BJT
+        "Q3,TRIODE,,,,,,\n"         // 6: unknown kind
+        "q1,NPN,,,,,100,200\n",     // 7: duplicate name
+        "devices.csv");
   });
   REQUIRE(p.size() >= 6);
   CHECK(p[0].rfind("devices.csv:2: device 'J1': vp_min 0.5 must be negative for an N-channel JFET", 0) == 0);
@@ -433,13 +434,14 @@ TEST_CASE("pieces: percentages or fractions, checked against the device kind") {
   CHECK(store::write_pieces_csv(again) == store::write_pieces_csv(pieces));
 
   const auto p = problems_of([&] {
-    (void)store::parse_pieces_csv("label,device,idss,vp,hfe,uncertainty\n"
-                                  "J1,SJ-101,2m,1.2,,3%\n"   // 2: vp sign
-                                  "J2,SJ-999,2m,,,\n"        // 3: unknown device
-                                  "J3,SJ-101,2m,,,3\n"       // 4: "3" without % is 300 %
-                                  "Q1,SQ-410,,-0.6,200,\n"   // 5: vp on a BJT
-                                  "j3,SJ-101,2m,,,\n",       // 6: duplicate label
-                                  "pieces.csv", devs);
+    (void)store::parse_pieces_csv(
+        "label,device,idss,vp,hfe,uncertainty\n"
+        "J1,SJ-101,2m,1.2,,3%\n"  // 2: vp sign
+        "J2,SJ-999,2m,,,\n"       // 3: unknown device
+        "J3,SJ-101,2m,,,3\n"      // 4: "3" without % is 300 %
+        "Q1,SQ-410,,-0.6,200,\n"  // 5: vp on a BJT
+        "j3,SJ-101,2m,,,\n",      // 6: duplicate label
+        "pieces.csv", devs);
   });
   REQUIRE(p.size() == 5);
   CHECK(p[0] == "pieces.csv:2: piece 'J1': vp 1.2 must be negative for NJFET 'SJ-101'");
@@ -480,16 +482,20 @@ TEST_CASE("stock: every field must be clean UTF-8; the fault is named by column,
     REQUIRE(e.problems().size() == 2);
     // Byte 37 of the file is E4 (line 2 starts at byte 25); in the quoted note of line 3 the
     // doubled quote counts twice in the file and once in the field.
-    CHECK(e.problems()[0] == "stock.csv:2: bin 'Fach \\xE4': byte 6 of the field (byte 37 of the file) is not UTF-8 (0xE4)");
-    CHECK(e.problems()[1] == "stock.csv:3: note 'say \"\\xFF\"': byte 6 of the field (byte 58 of the file) is not UTF-8 (0xFF)");
+    CHECK(e.problems()[0] ==
+          "stock.csv:2: bin 'Fach \\xE4': byte 6 of the field (byte 37 of the file) is not UTF-8 (0xE4)");
+    CHECK(e.problems()[1] ==
+          "stock.csv:3: note 'say \"\\xFF\"': byte 6 of the field (byte 58 of the file) is not UTF-8 (0xFF)");
     CHECK(static_cast<unsigned char>(latin1[36]) == 0xE4);
     CHECK(static_cast<unsigned char>(latin1[57]) == 0xFF);
   }
   // Control characters: a NUL in a bin, a line break in a quoted note.
-  const auto p = problems_of([&] { (void)stock(std::string("kind,value,qty,bin,note\nR,1k,5,A") + '\0' + ",\nR,1k,5,B,\"two\nlines\"\n"); });
+  const auto p = problems_of(
+      [&] { (void)stock(std::string("kind,value,qty,bin,note\nR,1k,5,A") + '\0' + ",\nR,1k,5,B,\"two\nlines\"\n"); });
   REQUIRE(p.size() == 2);
   CAPTURE(p[0]);
-  CHECK(p[0].starts_with("stock.csv:2: bin 'A\\x00': byte 2 of the field (byte 33 of the file) is a control character (U+0000)"));
+  CHECK(p[0].starts_with(
+      "stock.csv:2: bin 'A\\x00': byte 2 of the field (byte 33 of the file) is a control character (U+0000)"));
   CHECK(p[1].starts_with("stock.csv:3: note 'two\\x0Alines': byte 4 of the field"));
   // Text from any script in UTF-8 is fine.
   CHECK(stock("kind,value,qty,bin,note\nR,1k,5,Schublade Ä3,µ-Bereich 抽屉\n").size() == 1);
@@ -502,7 +508,8 @@ TEST_CASE("a UTF-16 file is refused as such") {
     FAIL("a UTF-16 file was read");
   } catch (const CsvError& e) {
     REQUIRE(e.problems().size() == 1);
-    CHECK(e.problems()[0] == "stock.csv:1: the file is UTF-16 (it starts with a UTF-16 byte-order mark); save it as UTF-8");
+    CHECK(e.problems()[0] ==
+          "stock.csv:1: the file is UTF-16 (it starts with a UTF-16 byte-order mark); save it as UTF-8");
   }
 }
 
@@ -516,8 +523,8 @@ TEST_CASE("parse_stock_csv tells the line of each part; every wrong-kind transis
   CHECK(parts.size() == 3);
   CHECK(where == std::vector<std::size_t>{2, 4, 5});
   const auto p = problems_of([&] {
-    (void)store::parse_stock_csv("kind,value,qty\nNPN,SJ-101,1\nPNP,SJ-101,2\nNJFET,SJ-101,3\nNPN,sj-101,4\n",
-                                 "s.csv", std::vector<devices::DeviceRecord>{j});
+    (void)store::parse_stock_csv("kind,value,qty\nNPN,SJ-101,1\nPNP,SJ-101,2\nNJFET,SJ-101,3\nNPN,sj-101,4\n", "s.csv",
+                                 std::vector<devices::DeviceRecord>{j});
   });
   CHECK(p.size() == 3);
   for (const auto& line : p) CHECK(line.find("is a device of kind NJFET") != std::string::npos);

@@ -444,8 +444,7 @@ TEST_CASE("fault injection: a write failing in the middle of an import leaves th
     REQUIRE(raw.exec("CREATE TABLE fault_count (n INTEGER); INSERT INTO fault_count VALUES (0);"
                      "CREATE TRIGGER fault BEFORE INSERT ON ledger BEGIN "
                      "UPDATE fault_count SET n = n + 1; "
-                     "SELECT RAISE(ABORT, 'injected fault') WHERE (SELECT n FROM fault_count) = 3; END;") ==
-            SQLITE_OK);
+                     "SELECT RAISE(ABORT, 'injected fault') WHERE (SELECT n FROM fault_count) = 3; END;") == SQLITE_OK);
   }
   try {
     db.add_parts({resistor(100, 5), resistor(220, 5), resistor(330, 5), resistor(470, 5)}, "import");
@@ -638,7 +637,8 @@ TEST_CASE("a file of a newer schema is refused with DatabaseError, untouched") {
     FAIL("opened a newer file");
   } catch (const DatabaseError& e) {
     CHECK(std::string(e.what()) ==
-          path.string() + fmt::format(": schema version 7 is newer than this shelfstage ({}); upgrade shelfstage", store::kSchemaVersion));
+          path.string() + fmt::format(": schema version 7 is newer than this shelfstage ({}); upgrade shelfstage",
+                                      store::kSchemaVersion));
   }
   RawDb raw(path);
   CHECK(raw.integer("PRAGMA user_version") == 7);
@@ -820,8 +820,9 @@ TEST_CASE("text is checked at the door: bins, notes, names, labels and reasons m
   Part nul = resistor(4700, 3);
   nul.note = std::string("a\0b", 3);
   CHECK(refusal([&] { db.add_part(nul, "import"); }).starts_with("note 'a\\x00b': byte 2 is a control character"));
-  CHECK(refusal([&] { db.add_part(resistor(4700, 3), std::string("recount\x1B[2J")); })
-            .starts_with("reason 'recount\\x1B[2J'"));
+  CHECK(refusal([&] {
+          db.add_part(resistor(4700, 3), std::string("recount\x1B[2J"));
+        }).starts_with("reason 'recount\\x1B[2J'"));
   CHECK(refusal([&] { db.put_devices({njfet("SJ-\xFF")}); }).starts_with("device name 'SJ-\\xFF'"));
   devices::MeasuredPiece piece;
   piece.label = "J\t4";
@@ -843,8 +844,7 @@ TEST_CASE("text a database already holds still lists: reads never refuse old tex
   const auto id = db.add_part(resistor(4700, 3), "import");
   {
     RawDb raw(path);
-    REQUIRE(raw.exec("UPDATE parts SET bin = CAST(X'4100E9' AS TEXT) WHERE id = " + std::to_string(id)) ==
-            SQLITE_OK);
+    REQUIRE(raw.exec("UPDATE parts SET bin = CAST(X'4100E9' AS TEXT) WHERE id = " + std::to_string(id)) == SQLITE_OK);
   }
   const auto parts = db.parts();
   REQUIRE(parts.size() == 1);
@@ -865,8 +865,9 @@ TEST_CASE("import_parts names every row that cannot be added, with its line, and
   } catch (const store::CsvError& e) {
     CHECK(std::string(e.what()) == "stock.csv: 2 bad rows, nothing imported");
     REQUIRE(e.problems().size() == 2);
-    CHECK(e.problems()[0].starts_with("stock.csv:3: R 10k 5% 0.25W bin A1: adding 2147483647 would make "
-                                      "4294967294 pieces, more than one line can count (2147483647)"));
+    CHECK(
+        e.problems()[0].starts_with("stock.csv:3: R 10k 5% 0.25W bin A1: adding 2147483647 would make "
+                                    "4294967294 pieces, more than one line can count (2147483647)"));
     CHECK(e.problems()[1].starts_with("stock.csv:7: device 'GONE-1' is not in the device list"));
   }
   CHECK(db.parts().empty());

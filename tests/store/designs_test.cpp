@@ -79,7 +79,9 @@ TEST_CASE("designs: the creation time is ISO 8601 UTC, now, and kept when a desi
 TEST_CASE("designs: found by id or a prefix of four or more characters; unknown, short or ambiguous refused") {
   TempDir dir;
   auto db = Database::create(dir.file("shelf.db"));
-  save_designs(db, {{"s4444dddd", {}, "{}", "{}"}, {"s4444deee", {}, "{}", "{}"}, {"s4444", {}, "{}", "{}"},
+  save_designs(db, {{"s4444dddd", {}, "{}", "{}"},
+                    {"s4444deee", {}, "{}", "{}"},
+                    {"s4444", {}, "{}", "{}"},
                     {"s5555eeee", {}, "{}", "{}"}});
   CHECK(load_design(db, "s5555eeee").id == "s5555eeee");
   CHECK(load_design(db, "s555").id == "s5555eeee");

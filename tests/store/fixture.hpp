@@ -18,9 +18,8 @@ class TempDir {
   TempDir() {
     static std::atomic<int> counter{0};
     const auto stamp = std::chrono::steady_clock::now().time_since_epoch().count();
-    dir_ = std::filesystem::temp_directory_path() /
-           ("shelfstage-store-test-" + std::to_string(::getpid()) + "-" + std::to_string(stamp) + "-" +
-            std::to_string(counter++));
+    dir_ = std::filesystem::temp_directory_path() / ("shelfstage-store-test-" + std::to_string(::getpid()) + "-" +
+                                                     std::to_string(stamp) + "-" + std::to_string(counter++));
     std::filesystem::create_directories(dir_);
   }
   TempDir(const TempDir&) = delete;

@@ -30,8 +30,8 @@ Part resistor(double ohms, int qty) {
 }  // namespace
 
 TEST_CASE("kind codes: the six codes of docs/interface.md, both ways, any case") {
-  for (auto k : {PartKind::resistor, PartKind::capacitor, PartKind::njfet, PartKind::pjfet, PartKind::npn,
-                 PartKind::pnp}) {
+  for (auto k :
+       {PartKind::resistor, PartKind::capacitor, PartKind::njfet, PartKind::pjfet, PartKind::npn, PartKind::pnp}) {
     PartKind back = PartKind::resistor;
     REQUIRE(store::parse_kind_code(store::kind_code(k), back));
     CHECK(back == k);
@@ -52,8 +52,8 @@ TEST_CASE("kind codes map to the transistor kinds and back") {
   devices::DeviceKind d{};
   CHECK_FALSE(store::device_kind(PartKind::resistor, d));
   CHECK_FALSE(store::device_kind(PartKind::capacitor, d));
-  for (auto dk : {devices::DeviceKind::njfet, devices::DeviceKind::pjfet, devices::DeviceKind::npn,
-                  devices::DeviceKind::pnp}) {
+  for (auto dk :
+       {devices::DeviceKind::njfet, devices::DeviceKind::pjfet, devices::DeviceKind::npn, devices::DeviceKind::pnp}) {
     REQUIRE(store::device_kind(store::part_kind(dk), d));
     CHECK(d == dk);
   }
@@ -69,7 +69,8 @@ TEST_CASE("polarised: electrolytic and tantalum capacitors are; bipolar ones and
     c.dielectric = d;
     CHECK_MESSAGE(c.polarised(), d);
   }
-  for (const char* d : {"", "C0G", "X7R", "film", "bipolar electrolytic", "electrolytic NP", "non-polar electrolytic"}) {
+  for (const char* d :
+       {"", "C0G", "X7R", "film", "bipolar electrolytic", "electrolytic NP", "non-polar electrolytic"}) {
     c.dielectric = d;
     CHECK_MESSAGE(!c.polarised(), d);
   }

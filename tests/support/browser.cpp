@@ -31,7 +31,6 @@ std::string slurp(const std::filesystem::path& p) {
   return ss.str();
 }
 
-
 std::string flags(const Scratch& s) {
   return "--headless --no-sandbox --disable-gpu --no-first-run --disable-background-networking "
          "--disable-component-update --disable-sync --disable-extensions --user-data-dir=" +
@@ -69,9 +68,9 @@ BrowserRun render(const std::string& path, int width, int height) {
   const auto err = s.path / "stderr.txt";
   const std::string url = "file://" + std::filesystem::absolute(path).string();
   const std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) + " --enable-logging=stderr --v=0 " +
-                          "--hide-scrollbars --screenshot=" + quote(png.string()) + " --window-size=" +
-                          std::to_string(width) + "," + std::to_string(height) + " " + quote(url) + " >/dev/null 2>" +
-                          quote(err.string());
+                          "--hide-scrollbars --screenshot=" + quote(png.string()) +
+                          " --window-size=" + std::to_string(width) + "," + std::to_string(height) + " " + quote(url) +
+                          " >/dev/null 2>" + quote(err.string());
   BrowserRun r;
   r.exit_status = run_shell(cmd);
   r.log = slurp(err);
@@ -100,8 +99,9 @@ std::string print_pdf(const std::string& path) {
   Scratch s("shelfstage-browser-");
   const auto pdf = s.path / "page.pdf";
   const std::string url = "file://" + std::filesystem::absolute(path).string();
-  const std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) + " --no-pdf-header-footer --print-to-pdf=" +
-                          quote(pdf.string()) + " " + quote(url) + " >/dev/null 2>/dev/null";
+  const std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) +
+                          " --no-pdf-header-footer --print-to-pdf=" + quote(pdf.string()) + " " + quote(url) +
+                          " >/dev/null 2>/dev/null";
   run_shell(cmd);
   return std::filesystem::exists(pdf) ? slurp(pdf) : std::string();
 }
@@ -117,7 +117,8 @@ int pdf_pages(const std::string& pdf) {
 }
 
 std::uint32_t Image::pixel(int x, int y) const {
-  const std::size_t i = (static_cast<std::size_t>(y) * static_cast<std::size_t>(width) + static_cast<std::size_t>(x)) * 4;
+  const std::size_t i =
+      (static_cast<std::size_t>(y) * static_cast<std::size_t>(width) + static_cast<std::size_t>(x)) * 4;
   return (static_cast<std::uint32_t>(rgba[i]) << 24) | (static_cast<std::uint32_t>(rgba[i + 1]) << 16) |
          (static_cast<std::uint32_t>(rgba[i + 2]) << 8) | rgba[i + 3];
 }

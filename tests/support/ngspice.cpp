@@ -29,7 +29,6 @@ std::string quote(const std::string& s) {
   return q + "'";
 }
 
-
 }  // namespace
 
 std::string ngspice_program() {
@@ -87,8 +86,8 @@ std::map<std::string, std::vector<double>> parse_fourier(const std::string& text
 
 double SpiceRun::get(const std::string& name) const {
   if (auto v = find(name)) return *v;
-  throw std::runtime_error("ngspice printed no value for '" + name + "'; its output:\n" + output +
-                           "\nthe netlist:\n" + netlist);
+  throw std::runtime_error("ngspice printed no value for '" + name + "'; its output:\n" + output + "\nthe netlist:\n" +
+                           netlist);
 }
 
 std::optional<double> SpiceRun::find(const std::string& name) const {

@@ -29,14 +29,17 @@ synth::Spec chain_spec() {
   return s;
 }
 
-
 /// ngspice's mid-band gain of the whole chain (at the band's geometric middle).
 double spice_gain(const synth::Candidate& c, double f_hz) {
   const circuit::Circuit net = stages::chain_netlist(synth::chain_stages(c), c.conditions);
   circuit::SpiceOptions o;
   o.title = c.topology_name();
-  o.analyses = {".control", "op", "ac dec 20 1 1e7", fmt::format("meas ac gmid find vm(out) at={:.6g}", f_hz),
-                fmt::format("meas ac gre find vr(out) at={:.6g}", f_hz), ".endc"};
+  o.analyses = {".control",
+                "op",
+                "ac dec 20 1 1e7",
+                fmt::format("meas ac gmid find vm(out) at={:.6g}", f_hz),
+                fmt::format("meas ac gre find vr(out) at={:.6g}", f_hz),
+                ".endc"};
   const SpiceRun r = run_ngspice(circuit::to_spice(net, o));
   CHECK_MESSAGE(r.error_lines().empty(), r.output);
   return (r.get("gre") < 0 ? -1.0 : 1.0) * r.get("gmid");
@@ -98,7 +101,8 @@ TEST_CASE("every stage of a chain draws on one quantity pool, transistors includ
         ++used[lines.front()];  // single-line values on this shelf
       }
     for (const auto& [line, n] : used) {
-      const auto it = std::find_if(inv.parts.begin(), inv.parts.end(), [&](const store::Part& p) { return p.id == line; });
+      const auto it =
+          std::find_if(inv.parts.begin(), inv.parts.end(), [&](const store::Part& p) { return p.id == line; });
       REQUIRE(it != inv.parts.end());
       CHECK(n * spec.copies <= it->qty);
     }

@@ -113,13 +113,13 @@ TEST_CASE("on a small shelf the top 10 equal those of a brute-force enumeration 
   for (std::size_t i = 0; i < 5; ++i) {
     const auto& a = all[i];
     MESSAGE("exhaustive " << a.score << " nom " << a.error_nominal << " worst " << a.error_worst << " pcs " << a.pieces
-                          << " RG " << a.values[0] << " RD " << a.values[1] << " RS1 " << a.values[2] << " RS2 " << a.values[3]
-                          << " I " << a.nominal.bias_current_a);
+                          << " RG " << a.values[0] << " RD " << a.values[1] << " RS1 " << a.values[2] << " RS2 "
+                          << a.values[3] << " I " << a.nominal.bias_current_a);
     if (i < guided.candidates.size()) {
       const auto& g = guided.candidates[i];
       MESSAGE("guided " << g.score << " nom " << g.error_nominal << " worst " << g.error_worst << " pcs " << g.pieces
-                        << " RG " << g.values[0] << " RD " << g.values[1] << " RS1 " << g.values[2] << " RS2 " << g.values[3]
-                        << " I " << g.nominal.bias_current_a);
+                        << " RG " << g.values[0] << " RD " << g.values[1] << " RS1 " << g.values[2] << " RS2 "
+                        << g.values[3] << " I " << g.nominal.bias_current_a);
     }
   }
   REQUIRE(guided.candidates.size() == 10);

@@ -70,7 +70,8 @@ synth::Candidate best(const synth::Spec& spec, const synth::Inventory& inv) {
 
 // The worst gain error a candidate claims (its worst range against the request).
 double claimed_worst(const synth::Candidate& c, const synth::Spec& spec) {
-  return std::max(std::abs(std::abs(c.worst.gain.min) / spec.gain - 1), std::abs(std::abs(c.worst.gain.max) / spec.gain - 1));
+  return std::max(std::abs(std::abs(c.worst.gain.min) / spec.gain - 1),
+                  std::abs(std::abs(c.worst.gain.max) / spec.gain - 1));
 }
 
 }  // namespace
@@ -211,7 +212,8 @@ TEST_CASE("cautions: a supply above 60 V DC is called hazardous; an electrolytic
   spec.topologies = {"jfet-cs-self"};
   synth::Candidate c = best(spec, inv);
   const auto has = [&](std::string_view word) {
-    return std::any_of(c.cautions.begin(), c.cautions.end(), [&](const std::string& s) { return s.find(word) != s.npos; });
+    return std::any_of(c.cautions.begin(), c.cautions.end(),
+                       [&](const std::string& s) { return s.find(word) != s.npos; });
   };
   CHECK_FALSE(has("hazardous"));
   for (const auto& rp : c.parts)

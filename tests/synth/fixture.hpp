@@ -81,7 +81,8 @@ inline synth::Inventory small_shelf(int qty, std::initializer_list<devices::Devi
     for (double m : {1.0, 1.5, 2.2, 3.3, 4.7, 6.8}) inv.parts.push_back(resistor(id++, m * dec, qty));
   inv.parts.push_back(resistor(id++, 1e6, qty));
   for (double c : {100e-9, 220e-9, 470e-9, 1e-6}) inv.parts.push_back(capacitor(id++, c, qty, 63, "film"));
-  for (double c : {10e-6, 47e-6, 100e-6, 220e-6}) inv.parts.push_back(capacitor(id++, c, qty, 25, "electrolytic", "C1", 0.2));
+  for (double c : {10e-6, 47e-6, 100e-6, 220e-6})
+    inv.parts.push_back(capacitor(id++, c, qty, 25, "electrolytic", "C1", 0.2));
   for (const auto& d : devs) {
     inv.devices.push_back(d);
     inv.parts.push_back(transistor(id++, d, 10));

@@ -82,7 +82,8 @@ TEST_CASE("design_with_purchases: a shelf without resistors yields stages made o
       for (const auto& lines : rp.lines) {
         REQUIRE_FALSE(lines.empty());
         // Shelf lines before purchasable ones.
-        CHECK(std::is_partitioned(lines.begin(), lines.end(), [](std::int64_t id) { return !synth::is_purchase_line(id); }));
+        CHECK(std::is_partitioned(lines.begin(), lines.end(),
+                                  [](std::int64_t id) { return !synth::is_purchase_line(id); }));
         if (rp.kind == 'R') CHECK(synth::is_purchase_line(lines.front()));
       }
     }
@@ -101,7 +102,8 @@ TEST_CASE("design_with_purchases: values the shelf holds come from the shelf fir
   for (const auto& c : r.candidates)
     for (const auto& rp : c.parts)
       for (const auto& lines : rp.lines) {
-        CHECK(std::is_partitioned(lines.begin(), lines.end(), [](std::int64_t id) { return !synth::is_purchase_line(id); }));
+        CHECK(std::is_partitioned(lines.begin(), lines.end(),
+                                  [](std::int64_t id) { return !synth::is_purchase_line(id); }));
         if (!synth::is_purchase_line(lines.front())) ++shelf_first;
       }
   CHECK(shelf_first > 0);
@@ -218,7 +220,8 @@ TEST_CASE("smallest_purchase: minimal on shelves where the minimum is known by e
     auto inv = exact_shelf(base, d, k.copies);
     REQUIRE(feasible(spec, inv));
     // The first resistor of the design (RG or R1) loses pieces.
-    const auto first = std::find_if(d.parts.begin(), d.parts.end(), [](const synth::RolePart& rp) { return rp.kind == 'R'; });
+    const auto first =
+        std::find_if(d.parts.begin(), d.parts.end(), [](const synth::RolePart& rp) { return rp.kind == 'R'; });
     REQUIRE(first != d.parts.end());
     for (auto& p : inv.parts)
       if (p.id == first->lines.front().front()) p.qty -= k.remove;

@@ -61,7 +61,8 @@ TEST_CASE("a pair that moves the value by less than its main piece's tolerance i
     CHECK(find(shelf.capacitors(), 200e-6, Join::parallel) != nullptr);  // two of one value double it
   }
   SUBCASE("triples: every piece must count") {
-    std::vector<store::Part> parts = {test::resistor(1, 10e3, 3), test::resistor(2, 4700, 3), test::resistor(3, 100, 3)};
+    std::vector<store::Part> parts = {test::resistor(1, 10e3, 3), test::resistor(2, 4700, 3),
+                                      test::resistor(3, 100, 3)};
     Shelf shelf(parts, {.combine = 3});
     CHECK(find(shelf.resistors(), 14800, Join::series) == nullptr);  // 100 adds 0.7 % to 14k7
     CHECK(find(shelf.resistors(), 24700, Join::series) != nullptr);  // 4k7 adds 23 % to 20k

@@ -82,8 +82,16 @@ TEST_CASE("spec: each kind of nonsense is refused with the field and the value i
       {"a supply beyond small-signal stages", [](Spec& s) { s.supply_hi_v = 1200; }, "supply 1200:"},
       {"a negative input impedance", [](Spec& s) { s.zin_min_ohm = -1; }, "zin -1:"},
       {"a negative source impedance", [](Spec& s) { s.source_ohm = -50; }, "source-z -50:"},
-      {"a band from 0 Hz", [](Spec& s) { s.band_hz = std::pair{0.0, 20e3}; }, "band 0:"},
-      {"a band upside down", [](Spec& s) { s.band_hz = std::pair{20e3, 20.0}; }, "band 20:"},
+      {"a band from 0 Hz",
+       [](Spec& s) {
+         s.band_hz = std::pair{0.0, 20e3};
+       },
+       "band 0:"},
+      {"a band upside down",
+       [](Spec& s) {
+         s.band_hz = std::pair{20e3, 20.0};
+       },
+       "band 20:"},
       {"a swing of zero", [](Spec& s) { s.swing_vpp = 0.0; }, "swing 0:"},
       // A stage inside one rail cannot swing more than the rail peak to peak, twice counted.
       {"a swing of twice the supply", [](Spec& s) { s.swing_vpp = 18.0; }, "swing 18:"},
@@ -91,9 +99,21 @@ TEST_CASE("spec: each kind of nonsense is refused with the field and the value i
       {"a distortion bound of zero", [](Spec& s) { s.max_thd = 0; }, "max-distortion 0:"},
       {"a current limit of zero", [](Spec& s) { s.max_current_a = 0.0; }, "max-current 0:"},
       // -55 °C and 150 °C: the ends of the military temperature grade (common practice).
-      {"an ambient below -55 °C", [](Spec& s) { s.temp_c = std::pair{-60.0, 25.0}; }, "temp -60:"},
-      {"an ambient above 150 °C", [](Spec& s) { s.temp_c = std::pair{25.0, 175.0}; }, "temp 175:"},
-      {"an ambient range upside down", [](Spec& s) { s.temp_c = std::pair{50.0, 20.0}; }, "temp 20:"},
+      {"an ambient below -55 °C",
+       [](Spec& s) {
+         s.temp_c = std::pair{-60.0, 25.0};
+       },
+       "temp -60:"},
+      {"an ambient above 150 °C",
+       [](Spec& s) {
+         s.temp_c = std::pair{25.0, 175.0};
+       },
+       "temp 175:"},
+      {"an ambient range upside down",
+       [](Spec& s) {
+         s.temp_c = std::pair{50.0, 20.0};
+       },
+       "temp 20:"},
       {"zero copies", [](Spec& s) { s.copies = 0; }, "copies 0:"},
       {"no designs to show", [](Spec& s) { s.top = 0; }, "top 0:"},
       {"four parts per value", [](Spec& s) { s.combine = 4; }, "combine 4:"},

@@ -63,7 +63,7 @@ struct Build {
 struct Sim {
   double gain = 0, f_low = 0, f_high = 0, zin = 0, zout = 0, supply_a = 0, bias_a = 0;
   double v_in = 0, v_common = 0, v_out = 0;
-  double thd = 0;  ///< at the requested swing's peak (0: no swing requested)
+  double thd = 0;                    ///< at the requested swing's peak (0: no swing requested)
   std::map<std::string, double> dc;  ///< V(plus_node) - V(minus_node) by designator
 };
 
@@ -136,8 +136,9 @@ Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_z
   s.v_in = v(pins[0]);
   s.v_common = v(pins[1]);
   s.v_out = v(pins[2]);
-  for (const auto& [des, nodes] : caps) s.dc[des] = v(nodes.first == "0" ? "0" : "v(" + nodes.first + ")") -
-                                                    v(nodes.second == "0" ? "0" : "v(" + nodes.second + ")");
+  for (const auto& [des, nodes] : caps)
+    s.dc[des] = v(nodes.first == "0" ? "0" : "v(" + nodes.first + ")") -
+                v(nodes.second == "0" ? "0" : "v(" + nodes.second + ")");
   return s;
 }
 
@@ -191,31 +192,34 @@ std::vector<Build> builds_of(const synth::Candidate& c, const synth::Spec& spec)
     if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
     for (int parts = 0; parts < 5; ++parts) {
       for (double supply : {spec.supply_lo_v, spec.supply_hi_v})
-      for (double temp : temps) {
-        Build b;
-        b.cond = c.conditions;
-        b.cond.supply_v = supply;
-        b.cond.celsius = temp;
-        b.cond.negative_rail = spec.negative_rail;
-        std::string label = fmt::format("supply {:g} V, {:g} °C, parts {}", supply, temp,
-                                        parts == 0 ? "nominal" : parts == 1 ? "all low" : parts == 2 ? "all high" : "mixed");
-        for (std::size_t k = 0; k < stages.size(); ++k) {
-          const synth::Candidate& s = stages[k];
-          const auto& f = pieces[k][std::min(ps, pieces[k].size() - 1)];
-          stages::ChainStage st = synth::chain_stage(s);
-          st.q = synth::make_transistor(spreads[k], f, temp);
-          for (const auto& rp : s.parts) {
-            const std::size_t i = s.topology->role_index(rp.role);
-            int way = parts == 1 ? -1 : parts == 2 ? 1 : 0;
-            if (parts >= 3) way = static_cast<int>(rng() % 2) * 2 - 1;
-            if (way != 0) st.values[i] = way > 0 ? rp.combo.hi : rp.combo.lo;
+        for (double temp : temps) {
+          Build b;
+          b.cond = c.conditions;
+          b.cond.supply_v = supply;
+          b.cond.celsius = temp;
+          b.cond.negative_rail = spec.negative_rail;
+          std::string label = fmt::format("supply {:g} V, {:g} °C, parts {}", supply, temp,
+                                          parts == 0   ? "nominal"
+                                          : parts == 1 ? "all low"
+                                          : parts == 2 ? "all high"
+                                                       : "mixed");
+          for (std::size_t k = 0; k < stages.size(); ++k) {
+            const synth::Candidate& s = stages[k];
+            const auto& f = pieces[k][std::min(ps, pieces[k].size() - 1)];
+            stages::ChainStage st = synth::chain_stage(s);
+            st.q = synth::make_transistor(spreads[k], f, temp);
+            for (const auto& rp : s.parts) {
+              const std::size_t i = s.topology->role_index(rp.role);
+              int way = parts == 1 ? -1 : parts == 2 ? 1 : 0;
+              if (parts >= 3) way = static_cast<int>(rng() % 2) * 2 - 1;
+              if (way != 0) st.values[i] = way > 0 ? rp.combo.hi : rp.combo.lo;
+            }
+            b.stages.push_back(st);
+            label += fmt::format("; stage {} {}", k + 1, f.tag);
           }
-          b.stages.push_back(st);
-          label += fmt::format("; stage {} {}", k + 1, f.tag);
+          b.label = label;
+          out.push_back(std::move(b));
         }
-        b.label = label;
-        out.push_back(std::move(b));
-      }
     }
   }
   return out;
@@ -227,8 +231,8 @@ void check_in(const std::string& what, double v, const synth::Range& r, double r
               const std::string& where) {
   REQUIRE_MESSAGE(!r.empty, what, ": no range claimed");
   const double lo = r.min - rel * std::abs(r.min) - floor, hi = r.max + rel * std::abs(r.max) + floor;
-  CHECK_MESSAGE((v >= lo && v <= hi), fmt::format("{} = {:.6g} outside the claimed {:.6g} .. {:.6g} ({})", what, v,
-                                                  r.min, r.max, where));
+  CHECK_MESSAGE((v >= lo && v <= hi),
+                fmt::format("{} = {:.6g} outside the claimed {:.6g} .. {:.6g} ({})", what, v, r.min, r.max, where));
 }
 
 struct Request {
@@ -371,15 +375,14 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
                           c.nominal.gain, c.worst.gain.min, c.worst.gain.max));
       const auto& w = c.worst;
       // Every range contains its nominal (the figures shown).
-      for (const auto& [name, range, v] :
-           std::vector<std::tuple<std::string, synth::Range, double>>{{"gain", w.gain, c.nominal.gain},
-                                                                      {"zin", w.zin, c.nominal.zin_ohm},
-                                                                      {"zout", w.zout, c.nominal.zout_ohm},
-                                                                      {"f_low", w.f_low, c.nominal.f_low_hz},
-                                                                      {"f_high", w.f_high, c.nominal.f_high_hz},
-                                                                      {"swing", w.swing_peak, c.nominal.swing_peak_v},
-                                                                      {"supply current", w.supply_current,
-                                                                       c.nominal.supply_current_a}}) {
+      for (const auto& [name, range, v] : std::vector<std::tuple<std::string, synth::Range, double>>{
+               {"gain", w.gain, c.nominal.gain},
+               {"zin", w.zin, c.nominal.zin_ohm},
+               {"zout", w.zout, c.nominal.zout_ohm},
+               {"f_low", w.f_low, c.nominal.f_low_hz},
+               {"f_high", w.f_high, c.nominal.f_high_hz},
+               {"swing", w.swing_peak, c.nominal.swing_peak_v},
+               {"supply current", w.supply_current, c.nominal.supply_current_a}}) {
         CAPTURE(name);
         REQUIRE_FALSE(range.empty);
         CHECK(range.min <= v * (1 + 1e-9) + 1e-12);
@@ -434,9 +437,8 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
         if (s.f_high > 0 && s.f_high < 1e9) check_in("f_high", s.f_high, w.f_high, 0, 0, where);
         // The promise: within the bound at the requested level, and inside the claim.
         if (level > 0) {
-          CHECK_MESSAGE(s.thd <= req.spec.max_thd,
-                        fmt::format("THD {:.4f} at {:g} V peak above the bound {:g} ({})", s.thd, level,
-                                    req.spec.max_thd, where));
+          CHECK_MESSAGE(s.thd <= req.spec.max_thd, fmt::format("THD {:.4f} at {:g} V peak above the bound {:g} ({})",
+                                                               s.thd, level, req.spec.max_thd, where));
           check_in("THD", s.thd, synth::Range{0.0, w.thd.max, false}, 0, 1e-5, where);
           ++thd_runs;
           thd_share = std::max(thd_share, s.thd / req.spec.max_thd);
@@ -446,9 +448,10 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
       }
     }
   }
-  MESSAGE(fmt::format("{} listed designs, {} ngspice builds, {} with THD at the requested level (at most {:.0f} % "
-                      "of the bound)",
-                      designs, runs, thd_runs, 100 * thd_share));
+  MESSAGE(
+      fmt::format("{} listed designs, {} ngspice builds, {} with THD at the requested level (at most {:.0f} % "
+                  "of the bound)",
+                  designs, runs, thd_runs, 100 * thd_share));
 }
 
 }  // namespace shelfstage::test

@@ -60,8 +60,8 @@ TEST_CASE("IEC 60063 E24 table, value by value") {
 TEST_CASE("IEC 60063 E24 historic values 2.7 3.0 3.3 3.6 3.9 4.3 4.7 8.2 differ from the rounded series") {
   struct Historic {
     int index;
-    double value;     ///< IEC 60063
-    double geometric; ///< 10^(i/24) to two figures
+    double value;      ///< IEC 60063
+    double geometric;  ///< 10^(i/24) to two figures
   };
   const Historic historic[] = {{10, 2.7, 2.6}, {11, 3.0, 2.9}, {12, 3.3, 3.2}, {13, 3.6, 3.5},
                                {14, 3.9, 3.8}, {15, 4.3, 4.2}, {16, 4.7, 4.6}, {22, 8.2, 8.3}};

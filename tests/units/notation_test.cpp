@@ -63,9 +63,10 @@ TEST_CASE("IEC 60062 letter-and-digit code: 2u2 p68 4k7 0R1 1K 10R 100R K47 1G5"
   CHECK(parse_value("100R") == 100.0);
   CHECK(parse_value("K47") == 470.0);  // IEC 60062: a leading letter, like R47 (from memory)
   CHECK(parse_value("1G5") == 1.5e9);
-  CHECK(parse_value("4m7") == 4.7e-3);  // IEC 60062 capacitance 4m7 = 4.7 mF
+  CHECK(parse_value("4m7") == 4.7e-3);            // IEC 60062 capacitance 4m7 = 4.7 mF
   CHECK(parse_value("4F7", Unit::farad) == 4.7);  // IEC 60062 capacitance 4F7 = 4.7 F
-  CHECK(parse_value("4\xC2\xB5" "7") == 4.7e-6);  // 4µ7 with U+00B5 MICRO SIGN
+  CHECK(parse_value("4\xC2\xB5"
+                    "7") == 4.7e-6);  // 4µ7 with U+00B5 MICRO SIGN
 }
 
 // Mixed notation as parts are labelled on a shelf (common practice).
@@ -108,7 +109,9 @@ TEST_CASE("SI prefix notation per the SI Brochure and SPICE: 4.7k 100n 2.2u 1M 1
 TEST_CASE("Signs: a leading + or - (or U+2212 MINUS SIGN); range checks are the caller's") {
   CHECK(parse_value("-2.5") == -2.5);
   CHECK(parse_value("+2.5") == 2.5);
-  CHECK(parse_value("\xE2\x88\x92" "2.5V", Unit::volt) == -2.5);
+  CHECK(parse_value("\xE2\x88\x92"
+                    "2.5V",
+                    Unit::volt) == -2.5);
   CHECK(parse_value("-4K7") == -4.7e3);
   CHECK(parse_value("-0") == 0.0);
   CHECK_FALSE(std::signbit(parse_value("-0")));
@@ -204,8 +207,8 @@ TEST_CASE("Errors: a unit that does not fit the quantity, and R on a capacitor")
 }
 
 TEST_CASE("Errors: NaN, infinities and values beyond the SI prefixes (1e-24 ... 1e24)") {
-  for (const char* text : {"nan", "NaN", "inf", "-inf", "infinity", "1e999", "1e-999", "1e25", "-2e24",
-                           "1e-25", "1e", "e3", "k", "R", "-", "+", ".", "0x10", "1/2"}) {
+  for (const char* text : {"nan", "NaN", "inf", "-inf", "infinity", "1e999", "1e-999", "1e25", "-2e24", "1e-25", "1e",
+                           "e3", "k", "R", "-", "+", ".", "0x10", "1/2"}) {
     CAPTURE(text);
     CHECK_THROWS_AS(parse_value(text), ParseError);
   }
@@ -270,7 +273,7 @@ TEST_CASE("format_value with a unit: 4.7kΩ 100nF 2.5V 1.2mA 470nF 0.47Ω 500mV 
   CHECK(format_value(1e-7, Unit::farad) == "100nF");
   CHECK(format_value(2.5, Unit::volt) == "2.5V");
   CHECK(format_value(1.2e-3, Unit::ampere) == "1.2mA");
-  CHECK(format_value(0.47e-6, Unit::farad) == "470nF");  // farads keep their prefix below 1
+  CHECK(format_value(0.47e-6, Unit::farad) == "470nF");    // farads keep their prefix below 1
   CHECK(format_value(0.47, Unit::ohm) == "0.47\xCE\xA9");  // as a resistor is marked
   CHECK(format_value(0.5, Unit::volt) == "500mV");
   CHECK(format_value(1e4, Unit::hertz) == "10kHz");

@@ -9,7 +9,9 @@ using namespace shelfstage::units::detail;
 
 // UTF-8 (RFC 3629): continuation bytes are 10xxxxxx and start no character.
 TEST_CASE("column_of counts UTF-8 code points (RFC 3629)") {
-  const std::string_view text = "2.2\xC2\xB5" "F \xE2\x84\xA6";  // 2.2µF Ω
+  const std::string_view text =
+      "2.2\xC2\xB5"
+      "F \xE2\x84\xA6";  // 2.2µF Ω
   CHECK(column_of(text, 0) == 0);
   CHECK(column_of(text, 3) == 3);  // the micro sign
   CHECK(column_of(text, 5) == 4);  // F, after the two bytes of µ
@@ -24,7 +26,9 @@ TEST_CASE("quoted keeps UTF-8, escapes control bytes and malformed sequences, cu
   CHECK(quoted("\xC0\xAF") == "\\xC0\\xAF");  // overlong '/' is not UTF-8 (RFC 3629)
   CHECK(quoted("\xE2\x84") == "\\xE2\\x84");  // cut-off sequence
   CHECK(quoted(std::string(50, 'x')) == std::string(40, 'x') + "...");
-  CHECK(char_at("a\xC2\xB5" "b", 1) == "\xC2\xB5");
+  CHECK(char_at("a\xC2\xB5"
+                "b",
+                1) == "\xC2\xB5");
   CHECK(char_at("a\xFF", 1) == "\xFF");
   CHECK(char_at("a", 1).empty());
 }

@@ -26,18 +26,18 @@ TEST_CASE("well-formed UTF-8 is clean; the ill-formed sequences of RFC 3629 are 
   // forms and surrogates are not UTF-8).
   CHECK_FALSE(find_text_fault(""));
   CHECK_FALSE(find_text_fault("A6 drawer, 4.7 kΩ ± 5 %"));
-  CHECK_FALSE(find_text_fault("\xF0\x9F\x94\xA7 spanner"));     // U+1F527, four bytes
-  CHECK_FALSE(find_text_fault("\xF4\x8F\xBF\xBF"));             // U+10FFFF, the last code point
-  for (const auto& [text, at, byte] : std::vector<Faulty>{
-           {"Fach \xE4", 5, 0xE4},             // Latin-1 a-umlaut: a lead byte with nothing after it
-           {"\x80", 0, 0x80},                  // a lone continuation byte
-           {"ab\xC0\xAF", 2, 0xC0},            // overlong '/' (C0 and C1 never appear)
-           {"\xE0\x80\xAF", 0, 0xE0},          // overlong three-byte form
-           {"\xED\xA0\x80", 0, 0xED},          // U+D800, a surrogate
-           {"\xF0\x8F\xBF\xBF", 0, 0xF0},      // overlong four-byte form
-           {"\xF4\x90\x80\x80", 0, 0xF4},      // above U+10FFFF
-           {"\xF5\x80\x80\x80", 0, 0xF5},      // F5..FF are never lead bytes
-           {"ok\xE2\x82", 2, 0xE2}}) {         // cut short at the end
+  CHECK_FALSE(find_text_fault("\xF0\x9F\x94\xA7 spanner"));  // U+1F527, four bytes
+  CHECK_FALSE(find_text_fault("\xF4\x8F\xBF\xBF"));          // U+10FFFF, the last code point
+  for (const auto& [text, at, byte] :
+       std::vector<Faulty>{{"Fach \xE4", 5, 0xE4},         // Latin-1 a-umlaut: a lead byte with nothing after it
+                           {"\x80", 0, 0x80},              // a lone continuation byte
+                           {"ab\xC0\xAF", 2, 0xC0},        // overlong '/' (C0 and C1 never appear)
+                           {"\xE0\x80\xAF", 0, 0xE0},      // overlong three-byte form
+                           {"\xED\xA0\x80", 0, 0xED},      // U+D800, a surrogate
+                           {"\xF0\x8F\xBF\xBF", 0, 0xF0},  // overlong four-byte form
+                           {"\xF4\x90\x80\x80", 0, 0xF4},  // above U+10FFFF
+                           {"\xF5\x80\x80\x80", 0, 0xF5},  // F5..FF are never lead bytes
+                           {"ok\xE2\x82", 2, 0xE2}}) {     // cut short at the end
     CAPTURE(text);
     const auto f = find_text_fault(text);
     REQUIRE(f);
@@ -49,9 +49,12 @@ TEST_CASE("well-formed UTF-8 is clean; the ill-formed sequences of RFC 3629 are 
 
 TEST_CASE("control characters are faults, C0, DEL and C1 alike, tabs and line breaks included") {
   // Unicode general category Cc: U+0000..U+001F, U+007F, U+0080..U+009F.
-  for (const auto& [text, at, cp] : std::vector<Faulty>{
-           {std::string("A\0B", 3), 1, 0x00}, {"tab\there", 3, 0x09}, {"two\nlines", 3, 0x0A},
-           {"del\x7F", 3, 0x7F}, {"c1 \xC2\x85", 3, 0x85}, {"\x1B[31m", 0, 0x1B}}) {
+  for (const auto& [text, at, cp] : std::vector<Faulty>{{std::string("A\0B", 3), 1, 0x00},
+                                                        {"tab\there", 3, 0x09},
+                                                        {"two\nlines", 3, 0x0A},
+                                                        {"del\x7F", 3, 0x7F},
+                                                        {"c1 \xC2\x85", 3, 0x85},
+                                                        {"\x1B[31m", 0, 0x1B}}) {
     CAPTURE(text);
     const auto f = find_text_fault(text);
     REQUIRE(f);
@@ -64,7 +67,8 @@ TEST_CASE("control characters are faults, C0, DEL and C1 alike, tabs and line br
 
 TEST_CASE("fault_text counts bytes from 1 and names the place; check_text refuses exactly the faulty texts") {
   CHECK(fault_text({5, TextFault::Kind::invalid_utf8, 0xE4}) == "byte 6 is not UTF-8 (0xE4)");
-  CHECK(fault_text({0, TextFault::Kind::control, 0}, " of the note") == "byte 1 of the note is a control character (U+0000)");
+  CHECK(fault_text({0, TextFault::Kind::control, 0}, " of the note") ==
+        "byte 1 of the note is a control character (U+0000)");
   CHECK_NOTHROW(check_text("bin", "A6"));
   try {
     check_text("bin", "Fach \xE4");

@@ -37,7 +37,8 @@ TEST_CASE("Symmetric tolerances as written on parts and in catalogues: 5% ±5% +
   const Tolerance five{0.05, 0.05};
   CHECK(parse_tolerance("5%") == five);
   CHECK(parse_tolerance("5") == five);
-  CHECK(parse_tolerance("\xC2\xB1" "5%") == five);  // U+00B1 PLUS-MINUS SIGN
+  CHECK(parse_tolerance("\xC2\xB1"
+                        "5%") == five);  // U+00B1 PLUS-MINUS SIGN
   CHECK(parse_tolerance("+-5%") == five);
   CHECK(parse_tolerance("+/-5%") == five);
   CHECK(parse_tolerance(" \xC2\xB1 5 % ") == five);
@@ -55,7 +56,8 @@ TEST_CASE("Asymmetric tolerances: -20/+80% +80/-20% -10+50% -20%/+80%") {
   CHECK(parse_tolerance("+80/-20%") == electrolytic);
   CHECK(parse_tolerance("-20%/+80%") == electrolytic);
   CHECK(parse_tolerance("-20% / +80%") == electrolytic);
-  CHECK(parse_tolerance("\xE2\x88\x92" "20/+80%") == electrolytic);  // U+2212 MINUS SIGN
+  CHECK(parse_tolerance("\xE2\x88\x92"
+                        "20/+80%") == electrolytic);  // U+2212 MINUS SIGN
   CHECK(parse_tolerance("-10+50%") == Tolerance{0.10, 0.50});
   CHECK(parse_tolerance("-0/+10%") == Tolerance{0.0, 0.10});
   CHECK_FALSE(electrolytic.symmetric());

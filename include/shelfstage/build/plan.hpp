@@ -33,19 +33,19 @@ namespace shelfstage::build {
 /// What a piece is, as a stock line or an order states it.
 struct Piece {
   store::PartKind kind = store::PartKind::resistor;
-  double value = 0;                ///< ohms or farads; 0 for a transistor
-  std::string device;              ///< transistors: the device type
+  double value = 0;    ///< ohms or farads; 0 for a transistor
+  std::string device;  ///< transistors: the device type
   std::optional<units::Tolerance> tol;
-  double rating = 0;               ///< watts (R) or volts (C); 0 unknown
+  double rating = 0;  ///< watts (R) or volts (C); 0 unknown
   std::string dielectric;
 };
 
 /// Pieces to take from one stock line: the piece as the line states it.
 struct PickLine : Piece {
-  std::string bin;                 ///< the line's bin ("" when the stock does not say)
-  std::int64_t part_id = 0;        ///< the stock line
-  int qty = 0;                     ///< pieces to take, all copies
-  int from_reserved = 0;           ///< of qty, pieces the design's reservation holds
+  std::string bin;                       ///< the line's bin ("" when the stock does not say)
+  std::int64_t part_id = 0;              ///< the stock line
+  int qty = 0;                           ///< pieces to take, all copies
+  int from_reserved = 0;                 ///< of qty, pieces the design's reservation holds
   std::vector<std::string> designators;  ///< one per piece
 };
 
@@ -53,8 +53,8 @@ struct PickLine : Piece {
 /// the design drew on (else the role's), its rating the W or V needed (0 unknown). Made by
 /// short_item only.
 struct ShortItem : Piece {
-  int qty = 0;                     ///< pieces missing
-  int needed = 0;                  ///< pieces needed in all
+  int qty = 0;                           ///< pieces missing
+  int needed = 0;                        ///< pieces needed in all
   std::vector<std::string> designators;  ///< the places left without a piece
   std::vector<std::string> roles;        ///< RD, CIN ...
 };
@@ -71,11 +71,11 @@ struct Plan {
   std::string device;
   std::optional<std::string> piece;  ///< a design for one measured piece: its label
   int copies = 1;
-  std::vector<PickLine> lines;       ///< walking order: bins naturally sorted, then kind, value
+  std::vector<PickLine> lines;  ///< walking order: bins naturally sorted, then kind, value
   std::vector<ShortItem> short_items;
 
   bool complete() const { return short_items.empty(); }
-  int pieces() const;                ///< pieces to take (lines only)
+  int pieces() const;  ///< pieces to take (lines only)
 };
 
 /// Plans `copies` copies of a candidate from the stock as it is now.

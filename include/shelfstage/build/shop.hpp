@@ -29,9 +29,9 @@ struct ShopOption {
 
 /// The shopping list of a kept design.
 struct Shopping {
-  Plan plan;                ///< the kept design on the shelf as it is: its short items are what to buy
-  synth::Candidate kept;    ///< the kept design, evaluated for the copies
-  int short_pieces = 0;     ///< pieces the plan is short of
+  Plan plan;                               ///< the kept design on the shelf as it is: its short items are what to buy
+  synth::Candidate kept;                   ///< the kept design, evaluated for the copies
+  int short_pieces = 0;                    ///< pieces the plan is short of
   std::optional<synth::Purchase> smaller;  ///< a purchase of fewer pieces for the same request
   std::vector<ShopOption> options;         ///< best first, at most kShopOptions
 };

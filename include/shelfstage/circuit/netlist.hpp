@@ -65,14 +65,14 @@ class Circuit {
   const std::string& net_name(std::size_t v) const { return graph_[v].name; }
   std::size_t net_count() const { return boost::num_vertices(graph_); }
 
-  void resistor(const std::string& designator, const std::string& role, const std::string& a,
-                const std::string& b, double ohms);
+  void resistor(const std::string& designator, const std::string& role, const std::string& a, const std::string& b,
+                double ohms);
   void capacitor(const std::string& designator, const std::string& role, const std::string& plus,
                  const std::string& minus, double farads);
   void vsource(const std::string& designator, const std::string& role, const std::string& plus,
                const std::string& minus, double dc_volts, double ac_volts = 0);
-  void jfet(const std::string& designator, const std::string& drain, const std::string& gate,
-            const std::string& source, const devices::JfetInstance& q);
+  void jfet(const std::string& designator, const std::string& drain, const std::string& gate, const std::string& source,
+            const devices::JfetInstance& q);
   void bjt(const std::string& designator, const std::string& collector, const std::string& base,
            const std::string& emitter, const devices::BjtInstance& q);
 

@@ -14,24 +14,24 @@ namespace shelfstage::circuit {
 /// Small-signal figures of a transistor at the operating point.
 struct DeviceOp {
   std::string designator;
-  double i_main_a = 0;   ///< drain or collector current (N frame: positive into the drain)
-  double i_ctrl_a = 0;   ///< gate or base current
-  double v_ctrl_v = 0;   ///< vgs or vbe (N frame)
-  double v_main_v = 0;   ///< vds or vce (N frame)
+  double i_main_a = 0;  ///< drain or collector current (N frame: positive into the drain)
+  double i_ctrl_a = 0;  ///< gate or base current
+  double v_ctrl_v = 0;  ///< vgs or vbe (N frame)
+  double v_main_v = 0;  ///< vds or vce (N frame)
   double gm_s = 0, go_s = 0, gpi_s = 0;
-  double c_in_f = 0;     ///< Cgs or Cbe at the operating point
-  double c_fb_f = 0;     ///< Cgd or Cbc at the operating point
+  double c_in_f = 0;                                                  ///< Cgs or Cbe at the operating point
+  double c_fb_f = 0;                                                  ///< Cgd or Cbc at the operating point
   devices::JfetRegion jfet_region = devices::JfetRegion::saturation;  ///< JFETs
-  bool bjt_saturated = false;  ///< BJTs: vbc > 0 (forward-biased collector)
+  bool bjt_saturated = false;                                         ///< BJTs: vbc > 0 (forward-biased collector)
 };
 
 /// A DC solution.
 struct OperatingPoint {
-  std::vector<double> node_v;         ///< by net index; ground is 0
-  std::vector<double> source_i;       ///< current of each voltage source, in element order of sources (into +, SPICE sign)
-  std::vector<DeviceOp> devices;      ///< in element order
+  std::vector<double> node_v;     ///< by net index; ground is 0
+  std::vector<double> source_i;   ///< current of each voltage source, in element order of sources (into +, SPICE sign)
+  std::vector<DeviceOp> devices;  ///< in element order
   int iterations = 0;
-  std::string method;                 ///< "newton", "gmin stepping", "source stepping"
+  std::string method;  ///< "newton", "gmin stepping", "source stepping"
   double v(const Circuit& c, const std::string& net) const;
 };
 
@@ -51,8 +51,8 @@ OperatingPoint solve_dc(const Circuit& circuit, const SolverOptions& options = {
 std::vector<std::complex<double>> solve_ac(const Circuit& circuit, const OperatingPoint& op, double f_hz);
 
 /// Transfer from the AC sources to one net over a list of frequencies.
-std::vector<std::complex<double>> ac_sweep(const Circuit& circuit, const OperatingPoint& op,
-                                           const std::string& out_net, const std::vector<double>& f_hz);
+std::vector<std::complex<double>> ac_sweep(const Circuit& circuit, const OperatingPoint& op, const std::string& out_net,
+                                           const std::vector<double>& f_hz);
 
 /// Noise at one frequency: output noise density at out_net (V/sqrt(Hz)) and the same
 /// referred to the input (divided by the magnitude of the transfer from the AC source).

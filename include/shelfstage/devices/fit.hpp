@@ -40,8 +40,8 @@ struct ReadingAccuracy {
 /// IDSS (1 - VGS/VP)^2 (1 + lambda VDS) with VDS = VDD - |VS| (SPICE level 1), so IDSS comes out
 /// at VDS = 0 as the models here take it; and it checks that the piece was in saturation.
 struct BenchConditions {
-  double lambda_per_v = 0;              ///< 1/V, the type's figure; used with a drain supply only
-  std::optional<double> drain_supply_v; ///< drain to ground; signed by the kind or a magnitude
+  double lambda_per_v = 0;               ///< 1/V, the type's figure; used with a drain supply only
+  std::optional<double> drain_supply_v;  ///< drain to ground; signed by the kind or a magnitude
 };
 
 /// Limits beyond which a fitted piece is no small-signal JFET but a sign of wrong readings
@@ -62,11 +62,11 @@ struct FittedReading {
 /// factor k = 2 (about 95 %; GUM 6.2) and magnitudes.
 struct SelfBiasFit {
   DeviceKind kind = DeviceKind::njfet;
-  double idss_a = 0;              ///< > 0
-  double vp_v = 0;                ///< signed as on a datasheet: < 0 N-channel, > 0 P-channel
+  double idss_a = 0;  ///< > 0
+  double vp_v = 0;    ///< signed as on a datasheet: < 0 N-channel, > 0 P-channel
   double idss_uncertainty_a = 0;
   double vp_uncertainty_v = 0;
-  double gm0_s = 0;               ///< 2 IDSS/|VP|, the transconductance at VGS = 0
+  double gm0_s = 0;  ///< 2 IDSS/|VP|, the transconductance at VGS = 0
   double gm0_uncertainty_s = 0;
   /// Correlation of the IDSS and |VP| estimates: negative for self-bias readings (the line
   /// sqrt(ID) against |VS| pivots about the readings: steeper, it meets the ID axis higher and

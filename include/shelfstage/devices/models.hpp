@@ -6,9 +6,9 @@
 
 namespace shelfstage::devices {
 
-inline constexpr double kBoltzmann = 1.380649e-23;   ///< J/K (SI 2019, exact)
-inline constexpr double kCharge = 1.602176634e-19;   ///< C (SI 2019, exact)
-inline constexpr double kZeroCelsius = 273.15;       ///< K
+inline constexpr double kBoltzmann = 1.380649e-23;  ///< J/K (SI 2019, exact)
+inline constexpr double kCharge = 1.602176634e-19;  ///< C (SI 2019, exact)
+inline constexpr double kZeroCelsius = 273.15;      ///< K
 /// Datasheet figures are taken as stated at 25 °C, and nominal analyses run there. Exported
 /// netlists set ngspice's TEMP and TNOM to the analysis temperature and carry the instance
 /// parameters already moved to it, so SPICE applies no temperature law of its own.
@@ -33,12 +33,12 @@ struct JfetInstance {
 /// One BJT piece at one temperature.
 struct BjtInstance {
   DeviceKind kind = DeviceKind::npn;
-  double is_a = 1e-14;  ///< transport saturation current
-  double bf = 100;      ///< forward beta (SPICE BF)
-  double br = 1;        ///< reverse beta (SPICE BR)
-  double vaf_v = 100;   ///< forward Early voltage (SPICE VAF); 0 or inf: none
-  double cje_f = 0;     ///< zero-bias B-E depletion capacitance
-  double cjc_f = 0;     ///< zero-bias B-C depletion capacitance
+  double is_a = 1e-14;     ///< transport saturation current
+  double bf = 100;         ///< forward beta (SPICE BF)
+  double br = 1;           ///< reverse beta (SPICE BR)
+  double vaf_v = 100;      ///< forward Early voltage (SPICE VAF); 0 or inf: none
+  double cje_f = 0;        ///< zero-bias B-E depletion capacitance
+  double cjc_f = 0;        ///< zero-bias B-C depletion capacitance
   double vt_v = 0.025852;  ///< thermal voltage at the instance's temperature
   double vce_sat_v = 0.2;  ///< edge of saturation used for swing estimates
 };

@@ -96,9 +96,8 @@ class DeviceSpread {
   BjtInstance bjt(const PieceFigures& f, double celsius = kNominalCelsius) const;
 
  private:
-  void build_jfet(double vp_lo, double vp_hi, double id_lo, double id_hi,
-                  std::optional<double> beta_lo, std::optional<double> beta_hi, double beta_nom,
-                  double vp_nom);
+  void build_jfet(double vp_lo, double vp_hi, double id_lo, double id_hi, std::optional<double> beta_lo,
+                  std::optional<double> beta_hi, double beta_nom, double vp_nom);
   void build_bjt(double hfe_lo, double hfe_hi, double hfe_nom);
   DeviceRecord record_;
   bool measured_ = false;

@@ -13,8 +13,8 @@ namespace shelfstage::draw {
 /// One tick of an axis.
 struct Tick {
   double value = 0;
-  std::string label{};   ///< empty: an unlabelled minor tick
-  bool major = false;  ///< drawn with a stronger grid line
+  std::string label{};  ///< empty: an unlabelled minor tick
+  bool major = false;   ///< drawn with a stronger grid line
 };
 
 /// A linear axis range with its ticks.
@@ -48,19 +48,19 @@ enum class Scale { linear, log };
 /// An axis: scale, title and, optionally, a fixed range (else the data decide).
 struct Axis {
   Scale scale = Scale::linear;
-  std::string title{};       ///< "frequency (Hz)"
-  bool fixed = false;      ///< use lo..hi as given (linear: ticks still from linear_ticks)
+  std::string title{};  ///< "frequency (Hz)"
+  bool fixed = false;   ///< use lo..hi as given (linear: ticks still from linear_ticks)
   double lo = 0, hi = 1;
   bool include_zero = false;  ///< widen an automatic linear range to contain 0
 };
 
 /// A line through data points, in order. Points with a non-finite coordinate break the line.
 struct Series {
-  std::string name{};        ///< legend entry; empty: none
+  std::string name{};  ///< legend entry; empty: none
   std::vector<Point> points{};
   std::string colour = palette::trace;
   double width = 2;
-  std::string dash{};        ///< "5 3" for a dashed line
+  std::string dash{};  ///< "5 3" for a dashed line
   bool legend = true;
 };
 
@@ -94,15 +94,15 @@ struct Cloud {
   std::vector<Point> points{};
   std::string colour = palette::marks;
   double radius = 2;
-  bool hollow = false;     ///< ring instead of a disc
+  bool hollow = false;  ///< ring instead of a disc
   double opacity = 0.6;
 };
 
 /// A plot. Draw order: title and paper, grid; then, clipped to the plot area, spans, regions,
 /// envelopes, series, clouds; then the frame with its ticks and axis titles, the legend, the notes.
 struct Plot {
-  std::string id{};          ///< prefix for element ids (clip path), unique in the page
-  std::string title{};       ///< above the plot; also the accessible label
+  std::string id{};     ///< prefix for element ids (clip path), unique in the page
+  std::string title{};  ///< above the plot; also the accessible label
   double width = 640, height = 300;
   Axis x, y;
   std::vector<Span> spans{};

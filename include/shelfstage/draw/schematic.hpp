@@ -38,10 +38,10 @@ namespace shelfstage::draw {
 
 /// What the drawing says about a part beyond the netlist.
 struct PartNote {
-  std::string value;      ///< "4k7"; empty: the netlist value in IEC 60062 code
-  std::string detail;     ///< a further line: recipe "4k7+150", device type, "source"
-  bool polarised = false; ///< capacitors: an electrolytic (drawn with a filled - plate and +)
-  std::string plus_net;   ///< polarised: the net its + lead goes to (must be one of its pins' nets)
+  std::string value;       ///< "4k7"; empty: the netlist value in IEC 60062 code
+  std::string detail;      ///< a further line: recipe "4k7+150", device type, "source"
+  bool polarised = false;  ///< capacitors: an electrolytic (drawn with a filled - plate and +)
+  std::string plus_net;    ///< polarised: the net its + lead goes to (must be one of its pins' nets)
 };
 
 /// Where a part of the stage goes (grid units; see NOTES 2).
@@ -81,22 +81,22 @@ struct PlacedSymbol {
   std::string designator, role;
   SymbolKind kind = SymbolKind::resistor;
   Point centre;
-  bool vertical = true;        ///< two-terminal parts: along y
-  std::size_t first_end = 0;   ///< pin index at the top (vertical) or left (horizontal) end
-  std::size_t plus_pin = 0;    ///< electrolytic and sources: the pin of the + terminal
-  Box body;                    ///< no wire may cross it
+  bool vertical = true;            ///< two-terminal parts: along y
+  std::size_t first_end = 0;       ///< pin index at the top (vertical) or left (horizontal) end
+  std::size_t plus_pin = 0;        ///< electrolytic and sources: the pin of the + terminal
+  Box body;                        ///< no wire may cross it
   std::vector<std::string> label;  ///< designator line, value, detail
   enum class Side { left, right, above, below } label_side = Side::right;
   bool bench = false;
-  bool flipped = false;        ///< transistors: drawn upside down (source or emitter on top)
+  bool flipped = false;  ///< transistors: drawn upside down (source or emitter on top)
 };
 
 struct PlacedPin {
   std::string designator;
-  std::size_t pin = 0;     ///< index into the component's pins (SPICE order)
-  std::size_t net = 0;     ///< vertex index in the circuit
+  std::size_t pin = 0;  ///< index into the component's pins (SPICE order)
+  std::size_t net = 0;  ///< vertex index in the circuit
   Point at;
-  Point dir;               ///< unit vector along the lead, away from the symbol
+  Point dir;  ///< unit vector along the lead, away from the symbol
 };
 
 struct Wire {
@@ -109,18 +109,18 @@ struct NetMark {
   std::size_t net = 0;
   Point at;
   std::string text;
-  bool terminal = false;   ///< an open circle (the stage's input or output)
+  bool terminal = false;  ///< an open circle (the stage's input or output)
 };
 
 struct Schematic {
-  double unit = 20;                 ///< px per grid unit
-  double width = 0, height = 0;     ///< grid units, margins included
+  double unit = 20;              ///< px per grid unit
+  double width = 0, height = 0;  ///< grid units, margins included
   std::vector<PlacedSymbol> symbols;
   std::vector<PlacedPin> pins;
   std::vector<Wire> wires;
   std::vector<Point> junctions;
   std::vector<NetMark> marks;
-  Point ground_symbol;              ///< where the ground sign hangs from the ground rail
+  Point ground_symbol;                 ///< where the ground sign hangs from the ground rail
   std::vector<std::string> net_names;  ///< by net index
 };
 

@@ -51,26 +51,26 @@ bool differs(double a, double b, double floor = 0);
 
 /// What a part must withstand at the operating point, and how that meets its rating.
 struct PartStress {
-  std::size_t role = 0;      ///< index into the topology's roles
-  std::string name;          ///< role name
+  std::size_t role = 0;  ///< index into the topology's roles
+  std::string name;      ///< role name
   std::string designator;
   char kind = 'R';
-  double value = 0;          ///< ohms or farads
+  double value = 0;  ///< ohms or farads
   PartInfo info;
-  double power_w = 0;        ///< resistors: I^2 R from the exact solution (else the closed form)
-  double power_closed_w = 0; ///< resistors: the closed form's figure
-  double dc_v = 0;           ///< capacitors: DC across, >= 0 (the largest, when a range is known)
+  double power_w = 0;         ///< resistors: I^2 R from the exact solution (else the closed form)
+  double power_closed_w = 0;  ///< resistors: the closed form's figure
+  double dc_v = 0;            ///< capacitors: DC across, >= 0 (the largest, when a range is known)
   double dc_closed_v = 0;
-  bool dc_range = false;     ///< capacitors: dc_min_v..dc_max_v hold the verified range (PartInfo)
+  bool dc_range = false;  ///< capacitors: dc_min_v..dc_max_v hold the verified range (PartInfo)
   double dc_min_v = 0, dc_max_v = 0;
-  double peak_v = 0;         ///< capacitors: signal peak taken on top of the DC (the output swing peak)
-  std::string plus_net;      ///< capacitors: the net at the higher DC voltage (where a + lead goes)
+  double peak_v = 0;     ///< capacitors: signal peak taken on top of the DC (the output swing peak)
+  std::string plus_net;  ///< capacitors: the net at the higher DC voltage (where a + lead goes)
   /// Share of what the part may take: resistors P / (rating / 2) (common practice: at most half
   /// the rating), capacitors (DC + peak) / (rating / 1.25) (a quarter of margin, as the
   /// synthesizer asks). Above 1: a warning. 0 when no rating is stated.
   double use = 0;
-  bool over = false;         ///< `use` above 1
-  bool reversed = false;     ///< a polarised part fitted with its + lead at the lower DC voltage
+  bool over = false;      ///< `use` above 1
+  bool reversed = false;  ///< a polarised part fitted with its + lead at the lower DC voltage
 };
 
 /// The fast evaluator's figures at one of the device's corner pieces.
@@ -81,15 +81,15 @@ struct CornerFigures {
 
 /// Everything the analysis found.
 struct Analysis {
-  StageUnderTest stage;                    ///< with hd2_peak_v filled in
-  stages::Performance closed_form;         ///< Topology::evaluate, Detail::full
+  StageUnderTest stage;                      ///< with hd2_peak_v filled in
+  stages::Performance closed_form;           ///< Topology::evaluate, Detail::full
   std::optional<stages::Performance> exact;  ///< evaluate_exact, Detail::full; empty if it failed
-  std::string exact_problem;               ///< why `exact` is empty
-  std::vector<PartStress> parts;           ///< every role present, in the topology's order
-  std::vector<std::string> warnings;       ///< ratings exceeded, polarity reversed, not amplifying
-  std::vector<std::string> cautions;       ///< hazardous supply, polarised parts, unstated ratings
-  std::vector<CornerFigures> corners;      ///< filled when a spread is given
-  std::string spread;                      ///< DeviceSpread::description(), when given
+  std::string exact_problem;                 ///< why `exact` is empty
+  std::vector<PartStress> parts;             ///< every role present, in the topology's order
+  std::vector<std::string> warnings;         ///< ratings exceeded, polarity reversed, not amplifying
+  std::vector<std::string> cautions;         ///< hazardous supply, polarised parts, unstated ratings
+  std::vector<CornerFigures> corners;        ///< filled when a spread is given
+  std::string spread;                        ///< DeviceSpread::description(), when given
 
   /// The exact figures when the solver converged, else the closed form.
   const stages::Performance& best() const { return exact ? *exact : closed_form; }

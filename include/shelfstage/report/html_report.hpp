@@ -15,13 +15,13 @@ namespace shelfstage::report {
 
 /// What the report is made from.
 struct ReportInput {
-  std::string id;                 ///< the kept design's id
-  std::string created;            ///< when it was kept (as the store gives it)
-  std::string generator;          ///< "shelfstage 0.1.0"
+  std::string id;         ///< the kept design's id
+  std::string created;    ///< when it was kept (as the store gives it)
+  std::string generator;  ///< "shelfstage 0.1.0"
   synth::Spec spec;
-  synth::Candidate candidate;     ///< evaluated (synth::evaluate_candidate)
-  std::optional<PickList> pick;   ///< empty: the report lists the parts with their stock lines only
-  int bias_samples = 300;         ///< Monte Carlo builds in the bias plot (0 .. 100000)
+  synth::Candidate candidate;    ///< evaluated (synth::evaluate_candidate)
+  std::optional<PickList> pick;  ///< empty: the report lists the parts with their stock lines only
+  int bias_samples = 300;        ///< Monte Carlo builds in the bias plot (0 .. 100000)
 };
 
 /// The notes the schematic of a candidate carries: each part's value in IEC 60062 code (the

@@ -18,21 +18,21 @@ namespace shelfstage::report {
 
 /// A role filled by more than one piece: how they go together.
 struct Assembly {
-  std::string designator;          ///< R4
-  std::string role;                ///< RE1
+  std::string designator;  ///< R4
+  std::string role;        ///< RE1
   synth::Join join = synth::Join::series;
-  std::vector<double> values;      ///< each piece, ohms or farads
-  std::vector<std::string> pieces; ///< R4a, R4b (without copy suffix)
-  std::string text;                ///< "R4 (RE1): 470 + 4k75 in parallel (R4a, R4b)"
+  std::vector<double> values;       ///< each piece, ohms or farads
+  std::vector<std::string> pieces;  ///< R4a, R4b (without copy suffix)
+  std::string text;                 ///< "R4 (RE1): 470 + 4k75 in parallel (R4a, R4b)"
 };
 
 /// A polarised capacitor and which way it goes in.
 struct Polarity {
-  std::string designator;          ///< C2 (or C2a, C2b for a parallel pair: all the same way)
-  std::string role;                ///< CE
-  std::string plus_net, minus_net; ///< net names as the topology has them ("x", "0", "collector")
-  std::string plus, minus;         ///< the same for people ("the RE1–RE2 junction", "ground")
-  std::string text;                ///< "C2 (CE): + lead to the RE1–RE2 junction, - lead to ground"
+  std::string designator;           ///< C2 (or C2a, C2b for a parallel pair: all the same way)
+  std::string role;                 ///< CE
+  std::string plus_net, minus_net;  ///< net names as the topology has them ("x", "0", "collector")
+  std::string plus, minus;          ///< the same for people ("the RE1–RE2 junction", "ground")
+  std::string text;                 ///< "C2 (CE): + lead to the RE1–RE2 junction, - lead to ground"
 };
 
 /// The whole pick list: the plan (lines in walking order, short items) and the notes.

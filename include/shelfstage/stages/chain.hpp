@@ -56,12 +56,11 @@ circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditi
 circuit::Circuit chain_stage_netlist(const ChainStage& stage, std::size_t k, const Conditions& c);
 
 /// The fast evaluation of a chain. Each stage sees the next stage's input impedance and input
-/// capacitance (Miller included) as its load (evaluated from the last stage back to the first), and is driven from the previous
-/// stage's output node (source 0; the first stage from c.source_ohm), so the mid-band gain is
-/// the product of the stage gains (each stage's Zout is taken with the previous stage's
-/// output impedance as its source). Whole-chain figures: gain, Zin (first stage), Zout (last),
-/// supply current (sum), swing (the smallest output peak any stage allows, referred to the
-/// output), band-edge losses (sum of the stages' in dB), the -3 dB corners where the stages'
+/// capacitance (Miller included) as its load (evaluated from the last stage back to the first), and is driven from the
+/// previous stage's output node (source 0; the first stage from c.source_ohm), so the mid-band gain is the product of
+/// the stage gains (each stage's Zout is taken with the previous stage's output impedance as its source). Whole-chain
+/// figures: gain, Zin (first stage), Zout (last), supply current (sum), swing (the smallest output peak any stage
+/// allows, referred to the output), band-edge losses (sum of the stages' in dB), the -3 dB corners where the stages'
 /// losses add up to 3 dB (Detail::full; the coarser details give the usual approximation
 /// f_low = sqrt(sum f_low_i^2), 1/f_high = sqrt(sum 1/f_high_i^2)),
 /// distortion (each stage's HD2 and HD3 at the level it carries, added as if in phase; the
@@ -69,8 +68,8 @@ circuit::Circuit chain_stage_netlist(const ChainStage& stage, std::size_t k, con
 /// first stage.
 struct ChainPerformance {
   Performance whole;
-  std::vector<Performance> each;        ///< per stage, in its chain conditions
-  std::vector<Conditions> conditions;   ///< the conditions each stage was evaluated in
+  std::vector<Performance> each;       ///< per stage, in its chain conditions
+  std::vector<Conditions> conditions;  ///< the conditions each stage was evaluated in
 };
 ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Conditions& c, Detail detail = Detail::core);
 

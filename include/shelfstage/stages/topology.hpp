@@ -19,9 +19,9 @@ namespace shelfstage::stages {
 /// (10, 14), the load at x 28), as an N device on a positive rail has it; the drawing mirrors
 /// it for a stage turned over on its rail.
 struct Spot {
-  double x = -1, y = 0;   ///< centre; x < 0: no place given
-  bool vertical = true;   ///< two-terminal parts: drawn along y
-  char label = 'r';       ///< label side: 'l'eft, 'r'ight, 'a'bove, 'b'elow
+  double x = -1, y = 0;  ///< centre; x < 0: no place given
+  bool vertical = true;  ///< two-terminal parts: drawn along y
+  char label = 'r';      ///< label side: 'l'eft, 'r'ight, 'a'bove, 'b'elow
 };
 
 /// How a role is wired and what it is.
@@ -36,8 +36,8 @@ struct Role {
   /// at the higher DC voltage with an N-channel or NPN device on a positive rail.
   std::string_view pos_net;
   std::string_view neg_net;
-  std::string_view what;        ///< "drain load", "bypassed source resistor" ...
-  Spot at = {};                 ///< its place on the schematic
+  std::string_view what;  ///< "drain load", "bypassed source resistor" ...
+  Spot at = {};           ///< its place on the schematic
   /// A capacitor across part of the common leg: it holds that DC when the supply goes, and
   /// the control pin, returned to ground, then sits that far in reverse.
   bool holds_leg = false;
@@ -60,10 +60,10 @@ struct InnerNet {
 
 /// The DC and AC load lines of the stage's output terminal, for the bias pictures.
 struct LoadLine {
-  bool at_common = false;     ///< the output is the common terminal (a follower): V = I * r_dc
-  double r_dc_ohm = 0;        ///< main terminal: V = supply - I * r_dc; common terminal: V = I * r_dc
-  double r_ac_ohm = 0;        ///< AC load on the output terminal, the load included
-  double r_common_ohm = 0;    ///< main-terminal output: DC resistance of the common leg
+  bool at_common = false;       ///< the output is the common terminal (a follower): V = I * r_dc
+  double r_dc_ohm = 0;          ///< main terminal: V = supply - I * r_dc; common terminal: V = I * r_dc
+  double r_ac_ohm = 0;          ///< AC load on the output terminal, the load included
+  double r_common_ohm = 0;      ///< main-terminal output: DC resistance of the common leg
   double r_unbypassed_ohm = 0;  ///< its part not bypassed
 };
 
@@ -96,7 +96,7 @@ struct Transistor {
 
 /// What the stage is asked to work in.
 struct Conditions {
-  double supply_v = 12;   ///< supply magnitude (volts, > 0)
+  double supply_v = 12;  ///< supply magnitude (volts, > 0)
   /// The supply as the user wired it: false for a positive rail (ground at the battery's -
   /// terminal), true for a negative one (ground at its + terminal). See Rail.
   bool negative_rail = false;
@@ -104,13 +104,13 @@ struct Conditions {
   double load_farads = 0;  ///< capacitance across the load (a cable, the next stage's input)
   double source_ohm = 0;
   double celsius = devices::kNominalCelsius;
-  double band_lo_hz = 0;        ///< band edges at which the loss is reported (0: none)
+  double band_lo_hz = 0;  ///< band edges at which the loss is reported (0: none)
   double band_hi_hz = 0;
-  double hd2_peak_v = 1.0;      ///< output peak at which HD2, HD3 and THD are given (the request's)
+  double hd2_peak_v = 1.0;  ///< output peak at which HD2, HD3 and THD are given (the request's)
   /// The distortion a signal may have and still count as undistorted (total harmonic
   /// distortion, a fraction; 0: no bound): it limits swing_peak_v.
   double max_thd = 0.01;
-  double noise_f_hz = 1000.0;   ///< frequency of the input noise figure
+  double noise_f_hz = 1000.0;  ///< frequency of the input noise figure
   /// Work out the distortion (the transfer's power series, HD2, HD3, THD and the rated level
   /// swing_peak_v). Off, the search's passes that need only the gain or the clipping point
   /// skip it: swing_peak_v and clip_peak_v are then both the clipping point, thd 0.
@@ -120,10 +120,10 @@ struct Conditions {
 /// DC across a capacitor, or power in a resistor, for rating checks.
 struct Stress {
   std::size_t role = 0;
-  double power_w = 0;  ///< resistors: I^2 R at the operating point
-  double dc_v = 0;     ///< capacitors: DC across, >= 0 (from plus_net to the other end)
-  std::string_view plus_net;  ///< capacitors: the netlist's net at the higher DC voltage (the + lead)
-  std::string_view minus_net; ///< capacitors: the netlist's net at the other end
+  double power_w = 0;          ///< resistors: I^2 R at the operating point
+  double dc_v = 0;             ///< capacitors: DC across, >= 0 (from plus_net to the other end)
+  std::string_view plus_net;   ///< capacitors: the netlist's net at the higher DC voltage (the + lead)
+  std::string_view minus_net;  ///< capacitors: the netlist's net at the other end
   /// Capacitors, as a topology's evaluator states them: the DC from pos to neg end in the N
   /// frame, and the nets of those ends as its netlist names them in that frame (empty: the
   /// role's pos_net and neg_net). Topology::evaluate turns these into dc_v, plus_net and
@@ -163,24 +163,24 @@ struct Performance {
   /// capacitor against the input capacitance c_in_f (a flat divider: input_divider()).
   double gain = 0;
   double bias_current_a = 0;  ///< drain or collector current
-  double v_in = 0;      ///< gate or base DC volts
-  double v_common = 0;  ///< source or emitter DC volts
-  double v_out = 0;     ///< drain or collector DC volts
-  double zin_ohm = 0;   ///< input impedance at mid-band (after source_ohm)
-  double zout_ohm = 0;  ///< output impedance at mid-band, seen by the load
-  double f_low_hz = 0;  ///< -3 dB points relative to mid-band
+  double v_in = 0;            ///< gate or base DC volts
+  double v_common = 0;        ///< source or emitter DC volts
+  double v_out = 0;           ///< drain or collector DC volts
+  double zin_ohm = 0;         ///< input impedance at mid-band (after source_ohm)
+  double zout_ohm = 0;        ///< output impedance at mid-band, seen by the load
+  double f_low_hz = 0;        ///< -3 dB points relative to mid-band
   double f_high_hz = 0;
-  double loss_lo_db = 0;    ///< loss at Conditions::band_lo_hz relative to mid-band, dB >= 0
-  double loss_hi_db = 0;    ///< loss at Conditions::band_hi_hz relative to mid-band, dB >= 0
+  double loss_lo_db = 0;  ///< loss at Conditions::band_lo_hz relative to mid-band, dB >= 0
+  double loss_hi_db = 0;  ///< loss at Conditions::band_hi_hz relative to mid-band, dB >= 0
   /// Largest symmetric undistorted output peak at the load: below clipping, and with THD
   /// within Conditions::max_thd.
   double swing_peak_v = 0;
-  double clip_peak_v = 0;   ///< largest symmetric peak before either side clips
-  double swing_up_v = 0;    ///< output excursion limits, each side
+  double clip_peak_v = 0;  ///< largest symmetric peak before either side clips
+  double swing_up_v = 0;   ///< output excursion limits, each side
   double swing_down_v = 0;
-  double hd2 = 0;           ///< second-harmonic ratio at Conditions::hd2_peak_v
-  double hd3 = 0;           ///< third-harmonic ratio there
-  double thd = 0;           ///< total harmonic distortion there (harmonics 2 to 7 and more)
+  double hd2 = 0;  ///< second-harmonic ratio at Conditions::hd2_peak_v
+  double hd3 = 0;  ///< third-harmonic ratio there
+  double thd = 0;  ///< total harmonic distortion there (harmonics 2 to 7 and more)
   /// The mid-band static transfer as a power series (the closed forms fill it; the exact
   /// solver leaves it empty): how a chain finds this stage's distortion at any level.
   Transfer transfer;
@@ -201,10 +201,10 @@ struct Performance {
 /// A node's real DC voltage is offset_v + pol * (its N-frame voltage); the bench nets "sig",
 /// "in" and "out" (source and load side, DC-free) are at 0 V either way.
 struct Rail {
-  double sign = 1;      ///< +1 positive supply, -1 negative
-  double pol = 1;       ///< device polarity: +1 N-channel/NPN, -1 P-channel/PNP
-  bool flipped = false; ///< the stage is turned over (see above)
-  double offset_v = 0;  ///< real volts of the N-frame ground
+  double sign = 1;       ///< +1 positive supply, -1 negative
+  double pol = 1;        ///< device polarity: +1 N-channel/NPN, -1 P-channel/PNP
+  bool flipped = false;  ///< the stage is turned over (see above)
+  double offset_v = 0;   ///< real volts of the N-frame ground
   double real(double v_n) const { return offset_v + pol * v_n; }
   /// The netlist's net for an N-frame net: "0" and "vdd" swap when flipped.
   std::string_view net(std::string_view n_frame) const;
@@ -241,11 +241,11 @@ class ValueSource {
 
 /// The targets a topology designs toward (the request, in the N frame).
 struct Goal {
-  double gain = 10;           ///< |V/V| from the source to the load
-  double zin_min_ohm = 0;     ///< lowest acceptable input impedance
-  double swing_peak_v = 0;    ///< required output peak (0: none)
-  double max_current_a = 0;   ///< supply current limit (0: none)
-  double f_low_hz = 20;       ///< lowest frequency to pass (capacitors are sized for it)
+  double gain = 10;          ///< |V/V| from the source to the load
+  double zin_min_ohm = 0;    ///< lowest acceptable input impedance
+  double swing_peak_v = 0;   ///< required output peak (0: none)
+  double max_current_a = 0;  ///< supply current limit (0: none)
+  double f_low_hz = 20;      ///< lowest frequency to pass (capacitors are sized for it)
   /// Probing how far the stage can go: where the gain is out of reach within the headroom,
   /// propose the largest load resistor the headroom allows instead of nothing (used to say
   /// how close a failed request came).
@@ -255,8 +255,8 @@ struct Goal {
 class Topology {
  public:
   virtual ~Topology() = default;
-  virtual std::string_view name() const = 0;      ///< name as scripts use it: "jfet-cs-self"
-  virtual std::string_view summary() const = 0;   ///< one line for people
+  virtual std::string_view name() const = 0;     ///< name as scripts use it: "jfet-cs-self"
+  virtual std::string_view summary() const = 0;  ///< one line for people
   virtual bool accepts(devices::DeviceKind kind) const = 0;
   /// A buffer (gain just under one, high input and low output impedance): chains put one in
   /// front to lift the input impedance or behind to drive a low load.

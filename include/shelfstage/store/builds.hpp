@@ -65,8 +65,8 @@ struct BuildRecord {
   std::int64_t id = 0;
   std::string design_id;
   int copies = 0;
-  std::string state;    ///< "built" or "undone"
-  std::string created;  ///< ISO 8601 UTC
+  std::string state;                  ///< "built" or "undone"
+  std::string created;                ///< ISO 8601 UTC
   std::optional<std::string> undone;  ///< ISO 8601 UTC when undone
   std::vector<BuildLine> lines;
   std::int64_t pieces() const;  ///< pieces taken, all lines (64 bits: each line may hold up to INT_MAX)

@@ -20,11 +20,11 @@ inline constexpr int kSchemaVersion = 4;
 
 /// What `check` found. ok() when every list is empty.
 struct CheckReport {
-  std::vector<std::string> integrity;      ///< PRAGMA integrity_check lines other than "ok"
-  std::vector<std::string> structure;      ///< tables, indexes, triggers missing or not shelfstage's
-  std::vector<std::string> foreign_keys;   ///< PRAGMA foreign_key_check rows
-  std::vector<std::string> ledger;         ///< parts whose qty differs from their ledger sum
-  std::vector<std::string> other;          ///< reserved > qty, negative counts, ...
+  std::vector<std::string> integrity;     ///< PRAGMA integrity_check lines other than "ok"
+  std::vector<std::string> structure;     ///< tables, indexes, triggers missing or not shelfstage's
+  std::vector<std::string> foreign_keys;  ///< PRAGMA foreign_key_check rows
+  std::vector<std::string> ledger;        ///< parts whose qty differs from their ledger sum
+  std::vector<std::string> other;         ///< reserved > qty, negative counts, ...
   bool ok() const {
     return integrity.empty() && structure.empty() && foreign_keys.empty() && ledger.empty() && other.empty();
   }
@@ -39,18 +39,18 @@ struct DeviceUsers {
 
 /// What Database::remove_device did.
 struct RemovedDevice {
-  std::string name;                         ///< as the device list spelled it
-  std::vector<Part> lines;                  ///< stock lines written off and removed (as they were)
-  std::vector<std::string> pieces;          ///< measured pieces deleted
-  std::vector<std::string> designs;         ///< kept designs forgotten
-  std::vector<std::string> designs_built;   ///< kept designs left alone: builds record them
+  std::string name;                        ///< as the device list spelled it
+  std::vector<Part> lines;                 ///< stock lines written off and removed (as they were)
+  std::vector<std::string> pieces;         ///< measured pieces deleted
+  std::vector<std::string> designs;        ///< kept designs forgotten
+  std::vector<std::string> designs_built;  ///< kept designs left alone: builds record them
 };
 
 /// Filter for the ledger listing.
 struct LedgerFilter {
-  std::optional<std::string> since;  ///< ISO date or date-time; entries at or after it
-  std::optional<double> value;       ///< only parts of this value (R or C)
-  std::optional<std::string> device; ///< only this transistor type
+  std::optional<std::string> since;   ///< ISO date or date-time; entries at or after it
+  std::optional<double> value;        ///< only parts of this value (R or C)
+  std::optional<std::string> device;  ///< only this transistor type
 };
 
 /// A connection to one stock file. Every connection runs with WAL, synchronous=FULL,

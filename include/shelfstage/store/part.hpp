@@ -32,8 +32,8 @@ bool device_kind(PartKind kind, devices::DeviceKind& out);
 struct Part {
   std::int64_t id = 0;  ///< database row id, 0 before insertion
   PartKind kind = PartKind::resistor;
-  double value = 0.0;   ///< ohms (R) or farads (C); 0 for transistors
-  std::string device;   ///< device name (transistors); empty for R and C
+  double value = 0.0;  ///< ohms (R) or farads (C); 0 for transistors
+  std::string device;  ///< device name (transistors); empty for R and C
   std::optional<units::Tolerance> tol;
   std::optional<double> power_w;  ///< resistor power rating, watts
   std::optional<double> volts;    ///< capacitor voltage rating, volts
@@ -43,7 +43,7 @@ struct Part {
   int reserved = 0;               ///< pieces held for planned builds (<= qty)
   std::string bin;
   std::string note;
-  bool removed = false;           ///< taken off the shelf (Database::remove_part); history kept
+  bool removed = false;  ///< taken off the shelf (Database::remove_part); history kept
 
   int available() const { return qty - reserved; }
   /// Polarised capacitor (electrolytic or tantalum): series use and reverse voltage forbidden.

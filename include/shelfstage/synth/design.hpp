@@ -22,9 +22,9 @@ namespace shelfstage::synth {
 
 /// What the shelf holds, as the synthesizer reads it.
 struct Inventory {
-  std::vector<store::Part> parts;                 ///< every stock line (R, C and transistors)
-  std::vector<devices::DeviceRecord> devices;     ///< device records
-  std::vector<devices::MeasuredPiece> pieces;     ///< measured pieces
+  std::vector<store::Part> parts;              ///< every stock line (R, C and transistors)
+  std::vector<devices::DeviceRecord> devices;  ///< device records
+  std::vector<devices::MeasuredPiece> pieces;  ///< measured pieces
 };
 
 /// [min, max] over the corners.
@@ -39,18 +39,18 @@ struct RolePart {
   std::string role;        ///< RD, RS1, CIN ...
   std::string designator;  ///< R2, C1 ...
   char kind = 'R';
-  Combo combo;             ///< value, bounds and recipe (groups index Shelf::groups())
-  std::string recipe;      ///< "10k+150"
-  std::vector<double> values;   ///< nominal value of each piece
+  Combo combo;                 ///< value, bounds and recipe (groups index Shelf::groups())
+  std::string recipe;          ///< "10k+150"
+  std::vector<double> values;  ///< nominal value of each piece
   /// For each piece of the recipe: the stock lines (ids) that hold it, in bin order.
   std::vector<std::vector<std::int64_t>> lines;
-  units::Tolerance tol;         ///< of the combination, from its bounds
-  double rating = 0;            ///< W or V of the combination; 0 unknown
-  std::string dielectric;       ///< capacitors
+  units::Tolerance tol;    ///< of the combination, from its bounds
+  double rating = 0;       ///< W or V of the combination; 0 unknown
+  std::string dielectric;  ///< capacitors
   bool polarised = false;
-  std::string plus_net;         ///< polarised capacitors: the net the + lead goes to
-  std::string minus_net;        ///< capacitors: the stage's net at the other lead (from the design's analysis)
-  int stage = 0;                ///< in a chain's part list: the stage (1, 2, 3); 0 for a single stage
+  std::string plus_net;   ///< polarised capacitors: the net the + lead goes to
+  std::string minus_net;  ///< capacitors: the stage's net at the other lead (from the design's analysis)
+  int stage = 0;          ///< in a chain's part list: the stage (1, 2, 3); 0 for a single stage
   /// Capacitors: the DC across the part, from its + lead (a non-polarised part: the end at the
   /// higher voltage at nominal) to the other, over the nominal build and every corner, from
   /// the exact solver (detail::verify_polarity): the one figure every output reads. Empty
@@ -80,9 +80,9 @@ struct Worst {
 /// dissipation: the DC across the main terminals times the bias current (class A into a
 /// resistive load dissipates most with no signal); allowed: the rating derated to the ambient.
 struct DeviceStress {
-  double v_main = 0;     ///< volts the device may hold between drain and source (collector and emitter)
-  double v_rev = 0;      ///< reverse volts on the gate-source (emitter-base) junction
-  double p_w = 0;        ///< dissipation
+  double v_main = 0;       ///< volts the device may hold between drain and source (collector and emitter)
+  double v_rev = 0;        ///< reverse volts on the gate-source (emitter-base) junction
+  double p_w = 0;          ///< dissipation
   double p_allowed_w = 0;  ///< the rating at this ambient (0: not stated)
 };
 /// Common practice: a semiconductor's voltages at most 80 % of its absolute maximum, its
@@ -98,15 +98,15 @@ struct Candidate {
   devices::DeviceRecord device;
   std::optional<devices::MeasuredPiece> piece;
   devices::SpreadModel spread_model = devices::SpreadModel::correlated;  ///< which pieces the worst case covers
-  stages::Transistor nominal_device;   ///< the nominal piece at nominal temperature
-  std::vector<RolePart> parts;          ///< roles present, in the topology's order
+  stages::Transistor nominal_device;                                     ///< the nominal piece at nominal temperature
+  std::vector<RolePart> parts;                                           ///< roles present, in the topology's order
   stages::Values values;
-  stages::Conditions conditions;        ///< nominal supply, load, source, temperature
-  stages::Performance nominal;          ///< fast evaluator at nominal, Detail::full
+  stages::Conditions conditions;  ///< nominal supply, load, source, temperature
+  stages::Performance nominal;    ///< fast evaluator at nominal, Detail::full
   Worst worst;
   double score = 0;
-  double error_nominal = 0;   ///< |gain|/G - 1 at nominal
-  double error_worst = 0;     ///< the largest |gain/G - 1| over the corners
+  double error_nominal = 0;     ///< |gain|/G - 1 at nominal
+  double error_worst = 0;       ///< the largest |gain/G - 1| over the corners
   std::optional<double> yield;  ///< Monte Carlo fraction meeting the spec (top K only)
   int pieces = 0;               ///< parts per copy, transistor included
   int purchases = 0;            ///< pieces to buy for all copies (searches on a shelf with purchases only)
@@ -124,8 +124,8 @@ struct Candidate {
 
 /// Why nothing fits, and what would help.
 struct Diagnosis {
-  std::string binding;    ///< the constraint that eliminated the most candidates ("gain", "swing", ...)
-  std::string detail;     ///< one or two sentences for people
+  std::string binding;                   ///< the constraint that eliminated the most candidates ("gain", "swing", ...)
+  std::string detail;                    ///< one or two sentences for people
   std::vector<std::string> suggestions;  ///< purchases: "buy 2 x 6.8k 5% (RS2 of jfet-cs-self)"
   std::optional<Candidate> with_purchases;  ///< the best design if those were bought
 };
@@ -141,8 +141,8 @@ struct DesignResult {
 
 /// What a search learned on the way: why candidates were stopped and how close they came.
 struct SearchStats {
-  std::map<std::string, long> failures;         ///< constraint -> proposals it stopped at nominal
-  std::map<std::string, long> corner_failures;  ///< ... that worked at nominal, stopped at a corner
+  std::map<std::string, long> failures;                ///< constraint -> proposals it stopped at nominal
+  std::map<std::string, long> corner_failures;         ///< ... that worked at nominal, stopped at a corner
   std::map<std::string, std::string> corner_examples;  ///< constraint -> the first such stop, in words
   /// Counts a corner stop ("rating: SQ-410 may hold ...") under its constraint, keeping the
   /// first of each kind in words.
@@ -151,10 +151,10 @@ struct SearchStats {
     ++corner_failures[key];
     corner_examples.emplace(key, why);
   }
-  double best_gain = 0;    ///< largest |gain| of a stage in its active region
+  double best_gain = 0;       ///< largest |gain| of a stage in its active region
   double least_gain = 1e300;  ///< smallest such |gain|
-  bool gain_met = false;   ///< some stage in its active region had a gain in the window
-  double best_swing = 0;   ///< largest swing peak among those
+  bool gain_met = false;      ///< some stage in its active region had a gain in the window
+  double best_swing = 0;      ///< largest swing peak among those
   double best_zin = 0;
   std::string capacitor_need;  ///< the last capacitor the shelf could not supply
   long proposals = 0, evaluations = 0;

@@ -31,18 +31,18 @@ struct PurchaseLine {
   store::PartKind kind = store::PartKind::resistor;
   double value = 0;
   units::Tolerance tol;
-  double rating = 0;         ///< watts (R) or volts (C); 0 when the stock line does not say
+  double rating = 0;  ///< watts (R) or volts (C); 0 when the stock line does not say
   std::string dielectric;
-  int qty = 0;               ///< pieces to buy, for every copy together
-  int held = 0;              ///< pieces of this very line the shelf holds (> 0: a top-up)
+  int qty = 0;                     ///< pieces to buy, for every copy together
+  int held = 0;                    ///< pieces of this very line the shelf holds (> 0: a top-up)
   std::vector<std::string> roles;  ///< the roles it fills ("RG", "R1")
 };
 
 /// The smallest purchase that makes a request feasible with what is already in stock.
 struct Purchase {
-  Candidate design;                ///< the design it makes possible (finished, no yield)
-  std::vector<PurchaseLine> buy;   ///< by kind, then value
-  int pieces = 0;                  ///< pieces to buy in all
+  Candidate design;               ///< the design it makes possible (finished, no yield)
+  std::vector<PurchaseLine> buy;  ///< by kind, then value
+  int pieces = 0;                 ///< pieces to buy in all
 };
 
 /// The smallest purchase that lets the request be built `spec.copies` times: fewest pieces

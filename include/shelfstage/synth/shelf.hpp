@@ -37,9 +37,9 @@ namespace shelfstage::synth {
 /// summed over bins (on hand minus reserved).
 struct StockGroup {
   store::PartKind kind = store::PartKind::resistor;
-  double value = 0;            ///< ohms or farads
-  units::Tolerance tol;        ///< the stated one, or the kind's default
-  double rating = 0;           ///< watts (R) or volts (C); 0 when the stock does not say
+  double value = 0;      ///< ohms or farads
+  units::Tolerance tol;  ///< the stated one, or the kind's default
+  double rating = 0;     ///< watts (R) or volts (C); 0 when the stock does not say
   std::string dielectric;
   bool polarised = false;
   int available = 0;
@@ -56,12 +56,12 @@ enum class Join { single, series, parallel };
 /// One achievable value and its recipe.
 struct Combo {
   double nominal = 0, lo = 0, hi = 0;  ///< worst-case bounds from the parts' bounds
-  double rating = 0;   ///< watts the combination may dissipate (R) or volts it may hold (C); 0 unknown
+  double rating = 0;                   ///< watts the combination may dissipate (R) or volts it may hold (C); 0 unknown
   Join join = Join::single;
-  std::uint8_t count = 1;                 ///< pieces
-  std::array<std::uint32_t, 3> group{};   ///< StockGroup indices
+  std::uint8_t count = 1;                ///< pieces
+  std::array<std::uint32_t, 3> group{};  ///< StockGroup indices
   bool polarised = false;
-  bool purchase = false;                  ///< needs a part not on the shelf
+  bool purchase = false;  ///< needs a part not on the shelf
 };
 
 /// Default tolerances when the stock does not state one (documented in README):
@@ -75,9 +75,9 @@ std::string compact_value(double value, bool resistor);
 class Shelf final : public stages::ValueSource {
  public:
   struct Options {
-    int combine = 2;              ///< 1, 2 or 3 parts per value
-    bool add_purchases = false;   ///< add E24 resistors and E6 capacitors one could buy
-    double purchase_volts = 50;   ///< rating of the capacitors one could buy
+    int combine = 2;             ///< 1, 2 or 3 parts per value
+    bool add_purchases = false;  ///< add E24 resistors and E6 capacitors one could buy
+    double purchase_volts = 50;  ///< rating of the capacitors one could buy
   };
   Shelf(const std::vector<store::Part>& parts, Options options);
 
@@ -116,8 +116,8 @@ class Shelf final : public stages::ValueSource {
   /// pieces when both are of one group).
   bool pair_ok(store::PartKind kind, Join join, std::uint32_t a, std::uint32_t b) const;
   struct ValueIndex {
-    std::vector<double> value;          ///< distinct single values, sorted
-    std::vector<std::uint32_t> group;   ///< the best group of each
+    std::vector<double> value;         ///< distinct single values, sorted
+    std::vector<std::uint32_t> group;  ///< the best group of each
   };
   /// Calls f(nominal, group a, group b, join) for the pairs near target from idx: for every single in reach, the
   /// n partners either side of the ideal one, in series and in parallel.
@@ -137,7 +137,7 @@ class Shelf final : public stages::ValueSource {
   ValueIndex r_index_;              // every single resistor value
   ValueIndex r_stock_index_;        // market only: the values the stock holds
   std::vector<double> r3_values_, r3_stock_values_;  // distinct triple nominals (all; without purchases)
-  std::vector<double> r_singles_;   // distinct single-part stocked resistor values, sorted
+  std::vector<double> r_singles_;                    // distinct single-part stocked resistor values, sorted
   bool market_ = false;
   // Recipes of pair and triple values worked out so far (resistor()).
   mutable std::shared_mutex recipes_mutex_;

@@ -12,10 +12,10 @@ namespace shelfstage::synth {
 
 /// A request as `shelfstage design` takes it (options: docs/interface.md), every value in SI.
 struct Spec {
-  double gain = 0;                ///< |V/V| from the source to the load
+  double gain = 0;  ///< |V/V| from the source to the load
   double load_ohm = 0;
-  double load_farads = 0;         ///< capacitance across the load (a cable); 0: none
-  double supply_lo_v = 0;         ///< supply range, magnitudes; equal ends for a fixed supply
+  double load_farads = 0;  ///< capacitance across the load (a cable); 0: none
+  double supply_lo_v = 0;  ///< supply range, magnitudes; equal ends for a fixed supply
   double supply_hi_v = 0;
   /// A negative supply (`--supply -9`): ground at the battery's + terminal. Every stage is
   /// placed on the rail as stages::Rail says; node voltages come out negative.
@@ -34,8 +34,8 @@ struct Spec {
   /// What to rank by beside the gain error: nothing more (accuracy), or the distortion at
   /// the requested level as well (distortion: ten points per percent of worst-case THD).
   enum class Prefer { accuracy, distortion } prefer = Prefer::accuracy;
-  std::optional<double> max_current_a;               ///< supply current limit
-  std::optional<std::pair<double, double>> temp_c;   ///< ambient range
+  std::optional<double> max_current_a;              ///< supply current limit
+  std::optional<std::pair<double, double>> temp_c;  ///< ambient range
   int copies = 1;
   std::vector<std::string> topologies;  ///< empty: all
   std::vector<std::string> devices;     ///< empty: every stocked type

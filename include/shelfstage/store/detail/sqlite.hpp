@@ -123,13 +123,21 @@ class Statement {
 };
 
 template <>
-inline int Statement::get<int>(int col) const { return int32(col); }
+inline int Statement::get<int>(int col) const {
+  return int32(col);
+}
 template <>
-inline std::int64_t Statement::get<std::int64_t>(int col) const { return int64(col); }
+inline std::int64_t Statement::get<std::int64_t>(int col) const {
+  return int64(col);
+}
 template <>
-inline double Statement::get<double>(int col) const { return real(col); }
+inline double Statement::get<double>(int col) const {
+  return real(col);
+}
 template <>
-inline std::string Statement::get<std::string>(int col) const { return text(col); }
+inline std::string Statement::get<std::string>(int col) const {
+  return text(col);
+}
 template <>
 inline std::optional<int> Statement::get<std::optional<int>>(int col) const {
   if (is_null(col)) return std::nullopt;
@@ -140,7 +148,9 @@ inline std::optional<std::int64_t> Statement::get<std::optional<std::int64_t>>(i
   return opt_int64(col);
 }
 template <>
-inline std::optional<double> Statement::get<std::optional<double>>(int col) const { return opt_real(col); }
+inline std::optional<double> Statement::get<std::optional<double>>(int col) const {
+  return opt_real(col);
+}
 template <>
 inline std::optional<std::string> Statement::get<std::optional<std::string>>(int col) const {
   return opt_text(col);
@@ -247,8 +257,8 @@ namespace shelfstage::store {
 struct Database::Impl {
   detail::Connection conn;
   std::filesystem::path path;
-  int version = 0;  ///< schema version after migration (== kSchemaVersion once open)
-  std::string read_only;             ///< not empty: why every write is refused (DatabaseError)
+  int version = 0;                  ///< schema version after migration (== kSchemaVersion once open)
+  std::string read_only;            ///< not empty: why every write is refused (DatabaseError)
   std::function<void()> on_commit;  ///< called after each outermost write commits
 
   /// Runs body in one BEGIN IMMEDIATE transaction and returns what it returns; an exception
