@@ -13,7 +13,9 @@
 #include <fmt/format.h>
 #include <map>
 #include <mutex>
+#include <queue>
 #include <set>
+#include <span>
 #include <thread>
 #include <tuple>
 #include <unordered_map>
@@ -79,20 +81,28 @@ class Searcher {
           StageBuilder::Draft d;
           if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
         });
-    // The full corner pass (~100 evaluations) only for the most promising, chosen by a
-    // quick estimate over the device's corner pieces.
-    const auto kKeep = static_cast<std::size_t>(spec_.search_families);
-    const int kVariants = spec_.search_variants;
-    std::vector<std::pair<double, std::size_t>> order;
     if (probe_) return {};  // a probe only learns how close the stages come (stats)
-    for (std::size_t i = 0; i < found.size(); ++i) order.emplace_back(builder.quick_score(found[i], stats), i);
-    std::sort(order.begin(), order.end());
+    const std::vector<std::size_t> chosen = choose(builder, found, roles, stats);
     std::vector<Candidate> kept;
-    // Up to kKeep families of designs; in each, the kVariants best variants in one resistor
-    // (their quick estimates are near-ties the full pass settles).
-    std::vector<std::size_t> chosen, heads;
-    std::vector<int> members;
-    // Variants in one resistor (same topology and device within a job).
+    for (std::size_t i : chosen) {
+      Candidate c = builder.candidate(found[i]);
+      if (builder.assess(c, stats)) kept.push_back(std::move(c));
+    }
+    return kept;
+  }
+
+  /// The drafts that get the full corner pass (~100 evaluations each): up to
+  /// spec.search_families families of designs, and in each the spec.search_variants best
+  /// variants in one resistor (their quick estimates are near-ties the full pass settles),
+  /// taken in the order of the quick estimate. The estimate (the device's corner pieces) is
+  /// worked out only where it can change the choice: drafts come in the order of a lower
+  /// bound of it (the nominal error counted as the worst), and one whose place is already
+  /// decided (every family taken and its own full) is never estimated. The choice is the
+  /// one a full sort of every estimate would give.
+  std::vector<std::size_t> choose(const StageBuilder& builder, const std::vector<StageBuilder::Draft>& found,
+                                  std::span<const stages::Role> roles, SearchStats& stats) const {
+    const auto families = static_cast<std::size_t>(spec_.search_families);
+    const int variants = spec_.search_variants;
     auto variant = [&](const StageBuilder::Draft& a, const StageBuilder::Draft& b) {
       int differ = 0;
       for (std::size_t r = 0; r < roles.size(); ++r)
@@ -100,23 +110,48 @@ class Searcher {
           ++differ;
       return differ <= 1;
     };
-    for (const auto& [score, i] : order) {
+    using Entry = std::pair<double, std::size_t>;
+    std::vector<Entry> bound;
+    bound.reserve(found.size());
+    for (std::size_t i = 0; i < found.size(); ++i) bound.emplace_back(builder.score_floor(found[i]), i);
+    std::sort(bound.begin(), bound.end());
+    std::priority_queue<Entry, std::vector<Entry>, std::greater<>> scored;
+    std::vector<std::size_t> chosen, heads;
+    std::vector<int> members;
+    // The family a draft joins (heads.size() for a new one), or -1 when it cannot be chosen.
+    auto family_of = [&](std::size_t i) -> long {
       std::size_t f = 0;
       while (f < heads.size() && !variant(found[heads[f]], found[i])) ++f;
-      if (f == heads.size()) {
-        if (heads.size() >= kKeep) continue;
+      if (f == heads.size()) return heads.size() >= families ? -1 : static_cast<long>(f);
+      return members[f] >= variants ? -1 : static_cast<long>(f);
+    };
+    auto all_full = [&] {
+      return heads.size() >= families &&
+             std::all_of(members.begin(), members.end(), [&](int m) { return m >= variants; });
+    };
+    std::size_t next = 0;
+    while (!all_full()) {
+      // Estimate drafts until the best estimated one is known to come first.
+      while (next < bound.size() && (scored.empty() || bound[next].first <= scored.top().first)) {
+        const std::size_t i = bound[next++].second;
+        // Once every family is taken the heads never change and families only fill: a
+        // draft that cannot join now never can.
+        if (heads.size() >= families && family_of(i) < 0) continue;
+        scored.emplace(builder.quick_score(found[i], stats), i);
+      }
+      if (scored.empty()) break;
+      const std::size_t i = scored.top().second;
+      scored.pop();
+      const long f = family_of(i);
+      if (f < 0) continue;
+      if (static_cast<std::size_t>(f) == heads.size()) {
         heads.push_back(i);
         members.push_back(0);
       }
-      if (members[f] >= kVariants) continue;
-      ++members[f];
+      ++members[static_cast<std::size_t>(f)];
       chosen.push_back(i);
     }
-    for (std::size_t i : chosen) {
-      Candidate c = builder.candidate(found[i]);
-      if (builder.assess(c, stats)) kept.push_back(std::move(c));
-    }
-    return kept;
+    return chosen;
   }
 
  private:
@@ -370,6 +405,14 @@ double StageBuilder::quick_score(const Draft& c, SearchStats& stats) const {
   }
   return 100.0 * (0.5 * std::abs(c.error_nominal) + worst) + detail::kPiecePoints * c.pieces +
          spec_.purchase_points * c.purchases;
+}
+
+double StageBuilder::score_floor(const Draft& c) const {
+  // quick_score with the nominal error as the worst: never above it (the worst over the
+  // corners includes nothing below the nominal's error in this count, and the sums round
+  // the same way).
+  const double nominal = std::abs(c.error_nominal);
+  return 100.0 * (0.5 * nominal + nominal) + detail::kPiecePoints * c.pieces + spec_.purchase_points * c.purchases;
 }
 
 bool StageBuilder::assess(Candidate& c, SearchStats& stats) const {

@@ -191,12 +191,14 @@ class StageBuilder {
   };
   bool draft(const stages::Values& resistors, Draft& out, SearchStats& stats) const;
   Candidate candidate(const Draft& d) const;
+  /// A quick worst-case estimate (the device's corner pieces, nominal parts) used to pick
+  /// which candidates get the full corner pass.
   double quick_score(const Draft& d, SearchStats& stats) const;
+  /// A floor under quick_score from the draft alone (no evaluation).
+  double score_floor(const Draft& d) const;
   /// The worst-case pass, score and cautions (no yield). True when every corner holds;
   /// otherwise counts the reason in stats.corner_failures.
   bool assess(Candidate& c, SearchStats& stats) const;
-  /// A quick worst-case estimate (the device's corner pieces, nominal parts) used to pick
-  /// which candidates get the full corner pass.
 
   const stages::Transistor& nominal_device() const { return q_; }
   const stages::Conditions& conditions() const { return cond_; }
