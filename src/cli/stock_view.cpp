@@ -34,6 +34,19 @@ struct Group {
   std::function<std::vector<std::string>(const Part&)> row;
 };
 
+// A transistor line: the same columns for JFETs and BJTs.
+std::vector<std::string> transistor_row(const Part& p) {
+  return {std::to_string(p.id),
+          p.device,
+          std::string(store::kind_code(p.kind)),
+          p.bin,
+          count_text(p.qty),
+          reserved_text(p.reserved),
+          std::string(stock_status(p)),
+          p.package,
+          p.note};
+}
+
 std::vector<Group> groups() {
   const Column id{"ID", Align::right};
   const Column qty{"QTY", Align::right};
@@ -93,31 +106,11 @@ std::vector<Group> groups() {
       {"JFETs",
        [](const Part& p) { return p.kind == PartKind::njfet || p.kind == PartKind::pjfet; },
        {id, {"DEVICE"}, {"TYPE"}, {"BIN"}, qty, reserved, status, {"PACKAGE"}, {"NOTE"}},
-       [](const Part& p) {
-         return std::vector<std::string>{std::to_string(p.id),
-                                         p.device,
-                                         std::string(store::kind_code(p.kind)),
-                                         p.bin,
-                                         count_text(p.qty),
-                                         reserved_text(p.reserved),
-                                         std::string(stock_status(p)),
-                                         p.package,
-                                         p.note};
-       }},
+       transistor_row},
       {"BJTs",
        [](const Part& p) { return p.kind == PartKind::npn || p.kind == PartKind::pnp; },
        {id, {"DEVICE"}, {"TYPE"}, {"BIN"}, qty, reserved, status, {"PACKAGE"}, {"NOTE"}},
-       [](const Part& p) {
-         return std::vector<std::string>{std::to_string(p.id),
-                                         p.device,
-                                         std::string(store::kind_code(p.kind)),
-                                         p.bin,
-                                         count_text(p.qty),
-                                         reserved_text(p.reserved),
-                                         std::string(stock_status(p)),
-                                         p.package,
-                                         p.note};
-       }},
+       transistor_row},
   };
 }
 
