@@ -61,7 +61,9 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
   cmd.add_option("--load-cap", o.load_cap, "Capacitance across the load, e.g. a cable's (470p); default none");
   cmd.add_option("--source-z", o.source_z, "Output resistance of the source driving the stage (default 0)");
   cmd.add_option("--band", o.band, "Band to pass flat within 1 dB (20..20k); capacitors are sized for it");
-  cmd.add_option("--swing", o.swing, "Output swing the stage must deliver at every corner, Vpp (2, 5Vpp)");
+  cmd.add_option(
+      "--swing", o.swing,
+      "Output swing the stage must deliver at every corner, Vpp (2, 5Vpp); unset: room for a tenth of the supply");
   cmd.add_option("--max-current", o.max_current, "Supply current budget per copy (2m, 1.5mA)");
   cmd.add_option("--temp", o.temp, "Ambient temperature range in °C (0..50); corners include both ends");
   cmd.add_option("--copies", o.copies, "How many copies will be built: all draw on one stock")

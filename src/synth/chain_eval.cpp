@@ -257,6 +257,7 @@ std::string fed_zout(ChainPass& pass, Range& zout) {
   Spec plain = pass.subs[n - 1];
   plain.band_hz.reset();
   plain.swing_vpp.reset();
+  plain.least_swing = 0;  // the output impedance only
   plain.zin_min_ohm = 0;
   zout = {};
   for (double z : {zprev.min, zprev.max}) {
@@ -425,8 +426,8 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
         }
   if (ch.nominal.f_low_hz > 0) f_low.add(ch.nominal.f_low_hz);
   if (ch.nominal.f_high_hz > 0) f_high.add(ch.nominal.f_high_hz);
-  widen(f_low, kModelMargin.impedance_corner);  // solved on the whole chain, so margined here
-  widen(f_high, kModelMargin.impedance_corner);
+  widen(f_low, kModelMargin.band_corner);  // solved on the whole chain, so margined here
+  widen(f_high, kModelMargin.band_corner);
   ch.worst.f_low = f_low;
   ch.worst.f_high = f_high;
   return {};

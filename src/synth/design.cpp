@@ -318,7 +318,7 @@ stages::Goal StageBuilder::goal() const {
   stages::Goal g;
   g.gain = spec_.gain;
   g.zin_min_ohm = spec_.zin_min_ohm;
-  g.swing_peak_v = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0;
+  g.swing_peak_v = detail::least_swing_peak(spec_);
   g.max_current_a = spec_.max_current_a.value_or(0);
   g.f_low_hz = spec_.f_low_target_hz();
   g.probe = probe_;
@@ -575,8 +575,10 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
         "rail (less its transistor's headroom)",
         *spec.swing_vpp, units::format_value(spec.supply_lo_v, units::Unit::volt));
   if (binding == "swing")
-    return fmt::format("no stage swings {:.3g} Vpp at every corner: the best reaches {:.3g} Vpp at nominal",
-                       spec.swing_vpp.value_or(0), 2 * t.best_swing);
+    return fmt::format("no stage swings {:.3g} Vpp{} at every corner: the best reaches {:.3g} Vpp at nominal",
+                       2 * detail::least_swing_peak(spec),
+                       spec.swing_vpp ? "" : " (the least room kept when no swing is asked: a tenth of the supply)",
+                       2 * t.best_swing);
   if (binding == "zin")
     return fmt::format("no stage keeps its input impedance above {}: the best reaches {}",
                        units::format_value(spec.zin_min_ohm, units::Unit::ohm),

@@ -48,7 +48,11 @@ const std::vector<Relaxation>& relaxations() {
              "above the {} asked (--max-distortion)",
              *s.swing_vpp, stage_words(c), percent(c.worst.thd.max), percent(s.max_thd));
        }},
-      {"swing", [](const Spec& s) { return s.swing_vpp.has_value(); }, [](Spec& s) { s.swing_vpp.reset(); },
+      {"swing", [](const Spec& s) { return s.swing_vpp.has_value(); },
+       [](Spec& s) {
+         s.swing_vpp.reset();
+         s.least_swing = 0;
+       },
        [](const Spec& s, const Candidate& c) {
          return fmt::format(
              "the swing binds: on this supply the best stage without it ({}) delivers {:.3g} Vpp at every corner "

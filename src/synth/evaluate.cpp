@@ -54,11 +54,18 @@ std::string violation(const Spec& spec, const stages::Performance& p) {
   // ranges show them.
   if (spec.swing_vpp && p.swing_peak_v * (1.0 - kModelMargin.swing) < *spec.swing_vpp / 2)
     return p.clip_peak_v >= *spec.swing_vpp / 2 ? "distortion" : "swing";
+  // No swing asked: room before clipping all the same (the distortion is not bounded then).
+  if (!spec.swing_vpp && std::max(p.clip_peak_v, p.swing_peak_v) * (1.0 - kModelMargin.swing) < least_swing_peak(spec))
+    return "swing";
   if (spec.swing_vpp && p.thd * (1.0 + kModelMargin.thd) > spec.max_thd) return "distortion";
   if (spec.max_current_a && p.supply_current_a * (1.0 + kModelMargin.current) > *spec.max_current_a) return "current";
   if (p.zin_ohm * (1.0 - kModelMargin.impedance_corner) < spec.zin_min_ohm) return "zin";
   if (spec.band_hz && (p.loss_lo_db > 1.0 || p.loss_hi_db > 1.0)) return "band";
   return {};
+}
+
+double least_swing_peak(const Spec& spec) {
+  return spec.swing_vpp ? *spec.swing_vpp / 2 : spec.least_swing * spec.supply_lo_v / 2;
 }
 
 bool gain_ok(const Spec& spec, double gain) { return std::abs(std::abs(gain) / spec.gain - 1.0) <= spec.gain_tol; }

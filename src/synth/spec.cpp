@@ -39,6 +39,8 @@ void validate(const Spec& s) {
             "high edge must be above the low edge (e.g. 20..20k)");
   }
   if (s.swing_vpp) require(finite(*s.swing_vpp) && *s.swing_vpp > 0, "swing", *s.swing_vpp, "must be a positive Vpp");
+  require(finite(s.least_swing) && s.least_swing >= 0 && s.least_swing < 1, "least swing", s.least_swing,
+          "must be a fraction of the supply from 0 to below 1");
   if (s.swing_vpp)
     require(*s.swing_vpp < 2 * s.supply_lo_v, "swing", *s.swing_vpp, "cannot exceed twice the supply (Vpp)");
   require(finite(s.max_thd) && s.max_thd >= 0.0001 && s.max_thd <= 0.3, "max-distortion", s.max_thd,

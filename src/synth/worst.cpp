@@ -199,7 +199,8 @@ void add_model_margin(Worst& w) {
   widen(w.bias_current, kModelMargin.current);
   widen(w.supply_current, kModelMargin.current);
   for (Range* r : {&w.v_in, &w.v_common, &w.v_out}) widen(*r, kModelMargin.node, kModelMargin.node_floor_v);
-  for (Range* r : {&w.zin, &w.zout, &w.f_low, &w.f_high}) widen(*r, kModelMargin.impedance_corner);
+  for (Range* r : {&w.zin, &w.zout}) widen(*r, kModelMargin.impedance_corner);
+  for (Range* r : {&w.f_low, &w.f_high}) widen(*r, kModelMargin.band_corner);
   if (!w.swing_peak.empty) w.swing_peak.min *= 1.0 - kModelMargin.swing;
   if (!w.thd.empty) w.thd.max *= 1.0 + kModelMargin.thd;
 }

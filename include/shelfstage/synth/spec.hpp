@@ -26,6 +26,10 @@ struct Spec {
   double source_ohm = 0;
   std::optional<std::pair<double, double>> band_hz;  ///< flat within 1 dB across it
   std::optional<double> swing_vpp;                   ///< output swing at every corner
+  /// Without swing_vpp: the room before clipping a stage must keep at every corner, as a
+  /// fraction of the lowest supply, peak to peak (docs/worst-case.md "Swing and
+  /// distortion"; common practice). 0 for a pass that does not look at the swing.
+  double least_swing = 0.1;
   /// The distortion an output may have and still count as undistorted: total harmonic
   /// distortion, a fraction (default 1 %, the level at which audio and instrument makers
   /// commonly rate an output; common practice). The swing delivered must stay within it at
