@@ -284,13 +284,27 @@ class BjtCeDivider final : public Topology {
   void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
                const std::function<void(const Values&)>& emit) const override {
     const auto& t = q.bjt;
-    for (double ic : {0.2e-3, 0.5e-3, 1e-3, 2e-3, 4e-3}) {
+    // A heavy load wants a collector current several times its peak current (common
+    // practice): beyond the usual few milliamperes then too.
+    std::vector<double> currents{0.2e-3, 0.5e-3, 1e-3, 2e-3, 4e-3};
+    const double i_load = 8.0 * g.swing_peak_v / c.load_ohm;
+    if (i_load > currents.back()) currents.insert(currents.end(), {i_load, 2.0 * i_load});
+    // The emitter at a tenth or a sixth of the supply as usual; higher (a stiffer bias, the
+    // current set by RE far more than by VBE) where the collector still has room for the
+    // swing above it.
+    const double ve_room = c.supply_v - 2.0 * g.swing_peak_v - t.vce_sat_v - 1.0;
+    for (double ic : currents) {
       const double ib = ic / t.bf;
-      for (double ve : {std::max(1.0, 0.1 * c.supply_v), std::max(1.2, 0.16 * c.supply_v)}) {
-        if (ve > c.supply_v / 3) continue;
+      for (double ve :
+           {std::max(1.0, 0.1 * c.supply_v), std::max(1.2, 0.16 * c.supply_v), 0.35 * c.supply_v, 0.6 * c.supply_v}) {
+        if (ve > c.supply_v / 3 && ve > ve_room) continue;
+        // The higher emitters only up to a usual VEBO (5-6 V): the bypass capacitor holds the
+        // leg's DC when the supply goes and reverses the base-emitter junction by as much, so
+        // the rating check would drop them all (on a high rail they would crowd out the rest).
+        if (ve > 6.0 && ve > std::max(1.2, 0.16 * c.supply_v)) continue;
         const double vbe = t.vt_v * std::log(ic / t.is_a);
         const double vb = ve + vbe;
-        for (double k : {20.0, 10.0, 4.0}) {
+        for (double k : {20.0, 10.0, 4.0, 1.5}) {
           const double idiv = k * ib;
           if (g.max_current_a > 0 && ic + idiv > g.max_current_a) continue;
           std::vector<double> r1s, r2s, re_tot;
@@ -298,11 +312,21 @@ class BjtCeDivider final : public Topology {
           shelf.nearest(vb / idiv, 1, r2s);
           shelf.nearest(ve / (ic + ib), 1, re_tot);
           if (re_tot.empty()) continue;
+          // The nearest total; on a sparse shelf (nothing within 5 %) the single parts either
+          // side as well, since the current then moves with the choice.
+          const double re_want = ve / (ic + ib);
+          if (std::abs(re_tot[0] / re_want - 1.0) <= 0.05) re_tot.resize(1);
+          detail::unique_values(re_tot);
           const double gm = ic / t.vt_v;
+          std::vector<std::pair<double, double>> splits;
+          for (double total : re_tot) {
+            const auto more = detail::leg_splits(shelf, total);
+            splits.insert(splits.end(), more.begin(), more.end());
+          }
           for (double r1 : r1s) {
             for (double r2 : r2s) {
               const double rth = par(r1, r2);
-              for (auto [re1, re2] : detail::leg_splits(shelf, re_tot[0])) {
+              for (auto [re1, re2] : splits) {
                 const double zin = par(rth, t.bf * (1.0 / gm + re1));
                 if (zin < g.zin_min_ohm * 1.02) continue;
                 const double a_int = g.gain * (zin + c.source_ohm) / zin;

@@ -262,30 +262,61 @@ std::vector<Stress> part_stress(const detail::BjtBias& b, const Values& v) {
   return st;
 }
 
+// How a proposal sets its gain: by the ratio RF / (Rs + RIN) (the emitter leg split any way
+// leg_splits offers), or by the emitter leg against the collector load, RF then mostly
+// biasing (RE1 for the gain, unbypassed or over the rest of the leg bypassed).
+enum class GainBy { ratio, leg };
+
+// The emitter legs of one proposal (see GainBy): pairs of RE1, RE2.
+std::vector<std::pair<double, double>> emitter_legs(GainBy by, const Goal& g, const Conditions& c,
+                                                    const ValueSource& shelf, double rc, double gm, double re_total) {
+  if (!(re_total > 0)) return {{0.0, 0.0}};
+  if (by == GainBy::ratio) return detail::leg_splits(shelf, re_total);
+  std::vector<std::pair<double, double>> legs;
+  const double re1_gain = par(rc, c.load_ohm) / g.gain - 1.0 / gm;
+  if (!(re1_gain > 10.0)) return legs;
+  std::vector<double> re1s;
+  shelf.nearest(re1_gain, 1, re1s);
+  for (double re1 : re1s) {
+    legs.emplace_back(re1, 0.0);
+    if (re_total > 1.5 * re1) {
+      std::vector<double> re2s;
+      shelf.nearest(re_total - re1, 1, re2s);
+      for (double re2 : re2s) legs.emplace_back(re1, re2);
+    }
+  }
+  return legs;
+}
+
 // The last design step: with the collector at vc and RF carrying irf, RC to the supply from
-// the shelf and the emitter leg (none, or about ve split by leg_splits), each set to emit.
-void emit_legs(Values v, const Goal& g, const Conditions& c, const ValueSource& shelf, const devices::BjtInstance& t,
-               double ic, double ve, double vc, double irf, const std::function<void(const Values&)>& emit) {
+// the shelf and the emitter leg (none, or about ve, as GainBy says), each set to emit.
+void emit_legs(Values v, GainBy by, const Goal& g, const Conditions& c, const ValueSource& shelf,
+               const devices::BjtInstance& t, double ic, double ve, double vc, double irf,
+               const std::function<void(const Values&)>& emit) {
   // The collector a volt above the emitter at least (and the swing above saturation): RF
   // close to a short leaves a diode-connected transistor, not an amplifier.
   if (vc - ve < std::max(1.0, t.vce_sat_v + g.swing_peak_v + 0.3) || vc >= c.supply_v - 0.2) return;
   if (g.max_current_a > 0 && ic + irf > g.max_current_a) return;
   std::vector<double> rcs;
   shelf.nearest((c.supply_v - vc) / (ic + irf), 1, rcs);
-  std::vector<std::pair<double, double>> legs = {{0.0, 0.0}};
+  double re_total = 0;
   if (ve > 0) {
     std::vector<double> re;
     shelf.nearest(ve / (ic + ic / t.bf), 1, re);
     if (re.empty()) return;
-    legs = detail::leg_splits(shelf, re[0]);
+    re_total = re[0];
   }
-  for (double rc : rcs)
+  std::vector<std::pair<double, double>> legs;
+  if (by == GainBy::ratio) legs = emitter_legs(by, g, c, shelf, 0, ic / t.vt_v, re_total);
+  for (double rc : rcs) {
+    if (by == GainBy::leg) legs = emitter_legs(by, g, c, shelf, rc, ic / t.vt_v, re_total);
     for (auto [re1, re2] : legs) {
       v[RC] = rc;
       v[RE1] = re1;
       v[RE2] = re2;
       emit(v);
     }
+  }
 }
 
 class BjtCeShunt final : public Topology {
@@ -376,28 +407,38 @@ class BjtCeShunt final : public Topology {
                const std::function<void(const Values&)>& emit) const override {
     if (g.gain < 1.0 && !g.probe) return;
     const auto& t = q.bjt;
+    // RIN from well under the input impedance asked (the base and its feedback add to it;
+    // the evaluation checks the sum) to ten times it.
     const double rin_lo = std::max(g.zin_min_ohm * 1.05, 100.0);
     std::vector<double> rins;
-    shelf.spread(rin_lo, rin_lo * 10.0, 3, rins);
-    for (double ic : {0.3e-3, 1e-3, 3e-3}) {
+    shelf.spread(std::max(0.3 * rin_lo, 100.0), rin_lo * 10.0, 4, rins);
+    for (double ic : {0.1e-3, 0.3e-3, 1e-3, 3e-3}) {
       const double ib = ic / t.bf, vbe = t.vt_v * std::log(ic / t.is_a);
       for (double rin : rins) {
-        std::vector<double> rfs;
-        shelf.nearest(1.05 * g.gain * (c.source_ohm + rin), 2, rfs);
-        for (double rf : rfs)
+        // RF for the gain (the ratio), and RF for the bias alone (a few base currents through
+        // it, the collector near the middle of its range), the gain then set by the leg.
+        std::vector<std::pair<double, GainBy>> rfs;
+        std::vector<double> found;
+        shelf.nearest(1.05 * g.gain * (c.source_ohm + rin), 2, found);
+        for (double rf : found) rfs.emplace_back(rf, GainBy::ratio);
+        found.clear();
+        shelf.nearest((0.5 * c.supply_v - vbe) / (4.0 * ib), 1, found);
+        for (double rf : found) rfs.emplace_back(rf, GainBy::leg);
+        for (auto [rf, by] : rfs)
           for (double ve : {0.0, std::max(0.5, 0.1 * c.supply_v)}) {
+            if (by == GainBy::leg && ve == 0.0) continue;  // the leg sets the gain: it needs one
             Values v;
             v[RIN] = rin;
             v[RF] = rf;
             const double vb = ve + vbe;
-            emit_legs(v, g, c, shelf, t, ic, ve, vb + ib * rf, ib, emit);  // RF fed by the base alone
+            emit_legs(v, by, g, c, shelf, t, ic, ve, vb + ib * rf, ib, emit);  // RF fed by the base alone
             const double irf = (0.5 * (c.supply_v + ve + t.vce_sat_v + g.swing_peak_v) - vb) / rf;
             if (irf < 3.0 * ib) continue;
             std::vector<double> rbs;
             shelf.nearest(vb / (irf - ib), 1, rbs);
             for (double rb : rbs) {
               v[RB] = rb;
-              emit_legs(v, g, c, shelf, t, ic, ve, vb + (ib + vb / rb) * rf, ib + vb / rb, emit);
+              emit_legs(v, by, g, c, shelf, t, ic, ve, vb + (ib + vb / rb) * rf, ib + vb / rb, emit);
             }
           }
       }

@@ -287,6 +287,10 @@ std::vector<std::pair<double, double>> leg_splits(const ValueSource& shelf, doub
   }
   std::vector<double> r1s;
   shelf.spread(0.03 * r_total, 0.85 * r_total, 8, r1s);
+  // And a small unbypassed part (a percent or so): a leg set mostly by its bypassed rest,
+  // for a stiff bias with the gain still held by RE1.
+  shelf.nearest(0.012 * r_total, 1, r1s);
+  unique_values(r1s);
   for (double r1 : r1s) {
     std::vector<double> r2;
     shelf.nearest(r_total - r1, 1, r2);  // the nearest, and the single parts either side

@@ -106,20 +106,25 @@ class JfetFollower final : public Topology {
 
   // Design: RG from the input impedance; RS over a range of drain currents (the gain is
   // near one whatever RS is; the current sets the swing into the load).
-  void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
+  void propose(const Goal& g, const Transistor& q, const Conditions& /*c*/, const ValueSource& shelf,
                const std::function<void(const Values&)>& emit) const override {
     const auto& j = q.jfet;
     const std::vector<double> rgs = detail::gate_resistors(shelf, g.zin_min_ohm);
     for (double rg : rgs) {
       std::vector<double> rss;
-      for (double frac : {0.1, 0.2, 0.3, 0.45, 0.6, 0.8}) {
+      // Down to a few per cent of IDSS: a large RS sets the current nearly by itself (the
+      // source sits within |VP| of ground whatever RS is), so the gain spreads least there.
+      for (double frac : {0.02, 0.05, 0.1, 0.2, 0.3, 0.45, 0.6, 0.8}) {
         const double id = frac * j.idss_a;
         if (g.max_current_a > 0 && id > g.max_current_a) continue;
         shelf.nearest(j.vp_abs_v * (1.0 - std::sqrt(frac)) / id, 2, rss);
       }
+      // And the shelf's values across the whole range, from 0.8 IDSS down to half a per cent.
+      const double rs_lo = j.vp_abs_v * (1.0 - std::sqrt(0.8)) / (0.8 * j.idss_a);
+      const double rs_hi = j.vp_abs_v * (1.0 - std::sqrt(0.005)) / (0.005 * j.idss_a);
+      shelf.spread(rs_lo, rs_hi, 16, rss);
       detail::unique_values(rss);
       for (double rs : rss) {
-        if (rs * 1e-3 > c.supply_v) continue;
         Values v;
         v[RG] = rg;
         v[RS] = rs;

@@ -139,6 +139,11 @@ class ChainSearch {
     // coupling corners at a quarter of the lower edge); the graph keeps the chains whose
     // summed loss at the band edges stays within 1 dB.
     if (spec_.band_hz) s.band_hz = spec_.band_hz;
+    // The chain's distortion adds up stage by stage (in phase, as the corner pass adds it): a
+    // stage's pool is drawn within half the bound, so that the stages of the paths the graph
+    // finds leave room for each other (a pool at the whole bound fills with stages that spend
+    // it alone).
+    s.max_thd = spec_.max_thd / 2;
     s.top = kPoolTop;
     s.search_families = kPoolTop;
     s.search_variants = 3;
@@ -170,7 +175,7 @@ class ChainSearch {
       s.gain_tol = spec_.gain_tol / 2;
       s.devices = {r.device};
       s.zin_min_ohm = std::max(s.zin_min_ohm, r.zin);
-      s.search_breadth = 1.0;
+      s.search_breadth = 0.5;
     }
     std::vector<Candidate> found = run_jobs(s, shelf_, make_jobs(s, inv_), stats, {});
     // The best of each device type first, then the rest by score: a type whose stages score

@@ -12,6 +12,7 @@
 #include "yield_check.hpp"
 #include "shelfstage/circuit/spice.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/units/notation.hpp"
 #include "support/ngspice.hpp"
 
 using namespace shelfstage;
@@ -128,6 +129,155 @@ TEST_CASE("on a small shelf the top 10 equal those of a brute-force enumeration 
     CHECK(guided.candidates[i].score == doctest::Approx(all[i].score).epsilon(1e-9));
   }
   CHECK(guided.candidates[0].values.v == all[0].values.v);
+}
+
+namespace {
+
+// Every combination of the shelf's single resistors in every resistor role of the request's
+// one topology (optional roles also absent), each drafted and assessed as the search does,
+// listed by the search's rule (score, then pieces; one-resistor variants of a better design
+// left out). The best `n`.
+std::vector<synth::Candidate> enumerate_every(const synth::Spec& spec, const synth::Inventory& inv, std::size_t n) {
+  synth::Shelf::Options so;
+  so.combine = 1;
+  const synth::Shelf shelf(inv.parts, so);
+  const auto* topo = stages::find_topology(spec.topologies.at(0));
+  REQUIRE(topo != nullptr);
+  const synth::StageBuilder builder(spec, shelf, *topo, inv.devices.at(0), nullptr, 10);
+  std::vector<double> rs;
+  for (const auto& c : shelf.resistors()) rs.push_back(c.nominal);
+  const auto roles = topo->roles();
+  std::vector<std::size_t> slots;
+  for (std::size_t i = 0; i < roles.size(); ++i)
+    if (roles[i].kind == 'R') slots.push_back(i);
+  synth::SearchStats stats;
+  std::vector<synth::Candidate> all;
+  stages::Values v;
+  auto walk = [&](auto&& self, std::size_t k) -> void {
+    if (k == slots.size()) {
+      synth::Candidate c;
+      if (builder.complete(v, c, stats) && builder.assess(c, stats)) all.push_back(std::move(c));
+      return;
+    }
+    const std::size_t r = slots[k];
+    for (double x : rs) {
+      v[r] = x;
+      self(self, k + 1);
+    }
+    if (roles[r].optional) {
+      v[r] = 0;
+      self(self, k + 1);
+    }
+  };
+  walk(walk, 0);
+  std::stable_sort(all.begin(), all.end(), [](const auto& a, const auto& b) {
+    return a.score != b.score ? a.score < b.score : a.pieces < b.pieces;
+  });
+  std::vector<synth::Candidate> listed;
+  for (auto& c : all) {
+    if (listed.size() >= n) break;
+    if (std::none_of(listed.begin(), listed.end(), [&](const auto& k) { return synth::is_variant(k, c); }))
+      listed.push_back(std::move(c));
+  }
+  return listed;
+}
+
+// A small shelf for topologies with five resistor roles: E3 values 100 ohm..100k and 1M.
+synth::Inventory e3_shelf(const devices::DeviceRecord& d) {
+  synth::Inventory inv = test::small_shelf(10, {d});
+  std::erase_if(inv.parts, [](const store::Part& p) {
+    if (p.kind != store::PartKind::resistor) return false;
+    const double m = p.value / std::pow(10.0, std::floor(std::log10(p.value) + 1e-9));
+    return !(std::abs(m - 1.0) < 1e-6 || std::abs(m - 2.2) < 1e-6 || std::abs(m - 4.7) < 1e-6);
+  });
+  return inv;
+}
+
+}  // namespace
+
+TEST_CASE("the top designs against a brute-force enumeration, for varied requests and topologies") {
+  // The search proposes from the design equations; the enumeration tries everything. Both
+  // share the evaluation (StageBuilder), so this checks the search's coverage: with and
+  // without a band and a swing, a follower into a heavy load, a divider-biased stage,
+  // collector-to-base feedback. Where `slack` is 0 the guided top designs (up to 10) are the
+  // enumeration's; elsewhere the guided best is within `slack` score points of the
+  // enumeration's best and the gap rank by rank within twice that on average (a point is a
+  // per cent of gain error or one piece). The slack is what the search is known to miss there
+  // (the test prints the measured gaps): designs its equations do not aim at, such as a
+  // divider far stiffer than the rule of thumb with the emitter at two thirds of the supply.
+  struct Case {
+    const char* what;
+    const char* topology;
+    bool jfet;
+    double gain, load, supply, zin;
+    bool band;
+    double swing_vpp;  // 0: none
+    bool e3;           // the E3 shelf (five resistor roles), else E6
+    double slack;
+  };
+  const Case cases[] = {
+      {"JFET follower, band and swing", "jfet-follower", true, 0.8, 10e3, 12, 100e3, true, 0.3, false, 0},
+      {"JFET common source, no band, no swing", "jfet-cs-self", true, 4, 10e3, 15, 100e3, false, 0, false, 0},
+      {"BJT follower into 600 ohm, swing, no band", "bjt-follower", false, 0.95, 600, 9, 10e3, false, 2.0, false, 0.75},
+      {"BJT common emitter with a divider, no band or swing", "bjt-ce-divider", false, 8, 10e3, 12, 5e3, false, 0, true,
+       2.0},
+      {"BJT common emitter with a divider into 1k, band and swing", "bjt-ce-divider", false, 5, 1e3, 15, 3e3, true, 2.0,
+       true, 2.0},
+      {"collector-to-base feedback, band", "bjt-ce-shunt", false, 6, 10e3, 12, 2e3, true, 0, true, 2.5},
+  };
+  for (const Case& k : cases) {
+    CAPTURE(std::string(k.what));
+    const auto dev = k.jfet ? test::njfet() : test::npn();
+    synth::Inventory inv = k.e3 ? e3_shelf(dev) : test::small_shelf(10, {dev});
+    synth::Spec spec = test::basic_spec(k.gain);
+    spec.topologies = {k.topology};
+    spec.load_ohm = k.load;
+    spec.supply_lo_v = spec.supply_hi_v = k.supply;
+    spec.zin_min_ohm = k.zin;
+    spec.source_ohm = 0;
+    if (!k.band) spec.band_hz.reset();
+    spec.swing_vpp.reset();
+    if (k.swing_vpp > 0) spec.swing_vpp = k.swing_vpp;
+    spec.gain_tol = 0.25;
+    spec.stages_max = 1;
+    spec.combine = 1;
+    spec.top = 10;
+    spec.mc_samples = 0;
+    const auto guided = synth::design(spec, inv).candidates;
+    const auto every = enumerate_every(spec, inv, 10);
+    REQUIRE(every.size() >= 3);  // the request is one the shelf can answer several ways
+    double best_gap = 0, largest_gap = 0;
+    bool ok = guided.size() == every.size();
+    double gap_sum = 0;
+    for (std::size_t i = 0; i < std::min(every.size(), guided.size()); ++i) {
+      const double gap = guided[i].score - every[i].score;
+      if (i == 0) best_gap = gap;
+      largest_gap = std::max(largest_gap, gap);
+      gap_sum += gap;
+      if (k.slack == 0)
+        ok = ok && std::abs(gap) <= 1e-9 * every[i].score && (i > 0 || guided[0].values.v == every[0].values.v);
+    }
+    const double mean_gap = gap_sum / static_cast<double>(every.size());
+    if (k.slack > 0) ok = ok && best_gap <= k.slack && mean_gap <= 2 * k.slack;
+    MESSAGE(std::string(k.what) << ": " << guided.size() << " of " << every.size() << " found; best " << every[0].score
+                                << " points, guided best " << best_gap << " behind, mean gap " << mean_gap
+                                << ", largest " << largest_gap);
+    if (!ok) {
+      auto show = [](const char* who, const synth::Candidate& c) {
+        std::string v;
+        for (std::size_t r = 0; r < c.topology->roles().size(); ++r)
+          v += std::string(c.topology->roles()[r].name) + "=" +
+               units::format_value(c.values[r],
+                                   c.topology->roles()[r].kind == 'R' ? units::Unit::ohm : units::Unit::farad) +
+               " ";
+        MESSAGE(std::string(who) << " " << c.score << " (worst " << c.error_worst << ", " << c.pieces << " pieces) "
+                                 << v);
+      };
+      for (const auto& c : every) show("every", c);
+      for (const auto& c : guided) show("guided", c);
+    }
+    CHECK(ok);
+  }
 }
 
 TEST_CASE("ngspice at the device corners lands inside the reported worst-case ranges") {

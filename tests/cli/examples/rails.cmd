@@ -8,10 +8,10 @@
 --db @DB@ devices import @SRC@/data-demo/devices.csv
 --db @DB@ stock import @SRC@/data-demo/stock.csv
 --db @DB@ design --gain 4 --load 10k --supply 9 --zin 47k --device SJ-P31 --device SQ-510 --stages 1 --top 1 > @WORK@/pnp.txt
---db @DB@ pick s2de0a9ed
---db @DB@ show s2de0a9ed --spice @WORK@/pnp.cir > @WORK@/show.txt
+--db @DB@ pick s112731f8
+--db @DB@ show s112731f8 --spice @WORK@/pnp.cir > @WORK@/show.txt
 --db @DB@ design --gain 4 --load 10k --supply -9 --zin 47k --device SQ-410 --stages 1 --top 1 --spread box > @WORK@/npn.txt
---db @DB@ pick s33ada975 --json
+--db @DB@ pick s7f0e1897 --json
 # Supplies that are not one rail, and spread models that do not exist.
 --db @DB@ design --gain 4 --load 10k --supply 0 --zin 47k
 --db @DB@ design --gain 4 --load 10k --supply -9..9 --zin 47k
