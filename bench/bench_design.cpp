@@ -5,7 +5,7 @@
 // best of the runs), peak memory, and the top design.
 //
 // Usage: bench_design [--runs N] [--sizes 250,1000,...] [--stocks eseries,random,hobby]
-//                     [--requests name,...] [--combine 3]
+//                     [--requests name,...] [--combine 3] [--stages 1]
 #include <sys/resource.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -241,7 +241,7 @@ struct Result {
   bool ok = false;
 };
 
-Result run_case(const std::string& dist, std::size_t lines, const Request& rq, int runs, int combine) {
+Result run_case(const std::string& dist, std::size_t lines, const Request& rq, int runs, int combine, int stages) {
   int fd[2];
   if (pipe(fd) != 0) return {};
   const pid_t pid = fork();
@@ -254,6 +254,7 @@ Result run_case(const std::string& dist, std::size_t lines, const Request& rq, i
     const synth::Inventory inv = make_stock(dist, lines);
     synth::Spec spec = rq.spec;
     spec.combine = combine;
+    if (stages > 0) spec.stages_max = stages;
     double best = 1e300;
     for (int i = 0; i < runs; ++i) {
       const auto t0 = std::chrono::steady_clock::now();
@@ -295,7 +296,7 @@ std::vector<std::string> split(const std::string& s) {
 }  // namespace
 
 int main(int argc, char** argv) {
-  int runs = 3, combine = 2;
+  int runs = 3, combine = 2, stages = 0;
   std::vector<std::string> sizes{"250", "1000", "4000", "10000"}, stocks{"eseries", "random", "hobby"}, names;
   for (int i = 1; i + 1 < argc; i += 2) {
     const std::string k = argv[i], v = argv[i + 1];
@@ -309,6 +310,8 @@ int main(int argc, char** argv) {
       names = split(v);
     else if (k == "--combine")
       combine = std::atoi(v.c_str());
+    else if (k == "--stages")
+      stages = std::atoi(v.c_str());
     else {
       std::fprintf(stderr, "bench_design: unknown option %s\n", k.c_str());
       return 1;
@@ -327,7 +330,7 @@ int main(int argc, char** argv) {
     for (const auto& dist : stocks)
       for (const auto& size : sizes) {
         const auto lines = static_cast<std::size_t>(std::atol(size.c_str()));
-        const Result r = run_case(dist, lines, rq, runs, combine);
+        const Result r = run_case(dist, lines, rq, runs, combine, stages);
         if (!r.ok) {
           std::printf("%-9s %-8s %6zu  failed (out of memory or crashed)\n", rq.name, dist.c_str(), lines);
           continue;

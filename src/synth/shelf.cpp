@@ -449,12 +449,15 @@ namespace {
 // the shelf's serial number, the target's bits and n.
 struct NearestMemo {
   struct Entry {
-    std::uint64_t shelf = 0, target = 0, n = 0;
+    std::uint64_t shelf = 0, target = 0, n = 0, hi = 0;  // hi: spread()'s upper end
     std::vector<double> values;
   };
   std::array<Entry, 4096> entries;
 };
 thread_local std::unique_ptr<NearestMemo> nearest_memo;
+// The same for spread() answers (the emitter and source legs are split over the same
+// totals again and again), keyed by both ends' bits and the count.
+thread_local std::unique_ptr<NearestMemo> spread_memo;
 
 }  // namespace
 
@@ -489,6 +492,17 @@ void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>&
     nearest(std::sqrt(lo * hi), 1, out);
     return;
   }
+  std::uint64_t lo_bits = 0, hi_bits = 0;
+  std::memcpy(&lo_bits, &lo, sizeof lo_bits);
+  std::memcpy(&hi_bits, &hi, sizeof hi_bits);
+  if (!spread_memo) spread_memo = std::make_unique<NearestMemo>();
+  const std::uint64_t key = lo_bits ^ (hi_bits * 0x9E3779B97F4A7C15ULL) ^ (hi_bits >> 31);
+  auto& e = spread_memo->entries[(key ^ (key >> 29) ^ (max_n * 0xC2B2AE3D27D4EB4FULL) ^ serial_) % 4096];
+  if (e.shelf == serial_ && e.target == lo_bits && e.n == max_n && e.hi == hi_bits) {
+    out.insert(out.end(), e.values.begin(), e.values.end());
+    return;
+  }
+  const std::size_t start = out.size();
   auto spread_from = [&](const ValueIndex& idx, const std::vector<double>& triples) {
     double last = -1;
     for (std::size_t k = 0; k < max_n; ++k) {
@@ -502,6 +516,11 @@ void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>&
   };
   spread_from(r_index_, r3_values_);
   if (market_) spread_from(r_stock_index_, r3_stock_values_);
+  e.shelf = serial_;
+  e.target = lo_bits;
+  e.hi = hi_bits;
+  e.n = max_n;
+  e.values.assign(out.begin() + static_cast<std::ptrdiff_t>(start), out.end());
 }
 
 std::optional<Combo> Shelf::find_recipe(double nominal) const {
