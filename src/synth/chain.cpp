@@ -140,10 +140,9 @@ class ChainSearch {
     // summed loss at the band edges stays within 1 dB.
     if (spec_.band_hz) s.band_hz = spec_.band_hz;
     // The chain's distortion adds up stage by stage (in phase, as the corner pass adds it): a
-    // stage's pool is drawn within half the bound, so that the stages of the paths the graph
-    // finds leave room for each other (a pool at the whole bound fills with stages that spend
-    // it alone).
-    s.max_thd = spec_.max_thd / 2;
+    // pool ranks its stages by their distortion too, so that it does not fill with stages
+    // that spend the whole bound alone and leave the others no room.
+    if (spec_.swing_vpp) s.prefer = Spec::Prefer::distortion;
     s.top = kPoolTop;
     s.search_families = kPoolTop;
     s.search_variants = 3;

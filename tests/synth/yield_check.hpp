@@ -13,7 +13,8 @@
 //    wiring (ranges, temperature, parts) rather than a documented distribution;
 //  - every part uniform within its bounds, the supply and the temperature uniform over their
 //    ranges;
-//  - a build meets the request when it is biased and active, gives the swing, stays within the
+//  - a build meets the request when it is biased and active, gives the swing (without one, the
+//    least room before clipping docs/worst-case.md states), stays within the
 //    current budget, keeps Zin and loses at most 1 dB at the band's edges, and its gain is
 //    within gain_tol of the request (the request's meaning as README.md gives it).
 // The physics of one build (the closed forms, the device at a temperature) is shared with the
@@ -74,6 +75,9 @@ inline stages::Transistor own_piece(const devices::DeviceRecord& d, double celsi
 inline bool constraints_hold(const synth::Spec& spec, const stages::Performance& p) {
   if (!p.valid || !p.active) return false;
   if (spec.swing_vpp && p.swing_peak_v < *spec.swing_vpp / 2) return false;
+  // No swing asked: the room before clipping docs/worst-case.md asks all the same.
+  if (!spec.swing_vpp && std::max(p.clip_peak_v, p.swing_peak_v) < spec.least_swing * spec.supply_lo_v / 2)
+    return false;
   if (spec.max_current_a && p.supply_current_a > *spec.max_current_a) return false;
   if (p.zin_ohm < spec.zin_min_ohm) return false;
   if (spec.band_hz && (p.loss_lo_db > 1.0 || p.loss_hi_db > 1.0)) return false;
