@@ -140,9 +140,10 @@ class ChainSearch {
     // summed loss at the band edges stays within 1 dB.
     if (spec_.band_hz) s.band_hz = spec_.band_hz;
     // The chain's distortion adds up stage by stage (in phase, as the corner pass adds it): a
-    // pool ranks its stages by their distortion too, so that it does not fill with stages
-    // that spend the whole bound alone and leave the others no room.
-    if (spec_.swing_vpp) s.prefer = Spec::Prefer::distortion;
+    // gain stage's pool ranks its stages by their distortion too, so that it does not fill
+    // with stages that spend the whole bound alone and leave the others no room. (Buffers'
+    // pools so ranked fill with stages that drive the next stage too hard: not for them.)
+    if (spec_.swing_vpp && !t.is_buffer()) s.prefer = Spec::Prefer::distortion;
     s.top = kPoolTop;
     s.search_families = kPoolTop;
     s.search_variants = 3;

@@ -12,10 +12,10 @@
 --db @DB@ design --gain 5 --load 150 --supply 12 --zin 100k --band 20..20k --swing 1 --max-distortion 2% --stages 1
 # The pick list of the whole chain, stage by stage (R1xx, Q101 in stage 1; R2xx, Q201 in stage 2),
 # with the electrolytics' polarity as the chain biases them.
---db @DB@ pick c22e3acf8
---db @DB@ pick c22e3acf8 --copies 2 --json
+--db @DB@ pick c3b4e4f27
+--db @DB@ pick c3b4e4f27 --copies 2 --json
 # Built in one transaction, then undone: the counts come back.
---db @DB@ build c22e3acf8
+--db @DB@ build c3b4e4f27
 --db @DB@ builds undo 1
 --db @DB@ check
 # Odd depths.
