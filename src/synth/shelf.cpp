@@ -449,7 +449,7 @@ namespace {
 // the shelf's serial number, the target's bits and n.
 struct NearestMemo {
   struct Entry {
-    std::uint64_t shelf = 0, target = 0, n = 0, hi = 0;  // hi: spread()'s upper end
+    std::uint64_t shelf = 0, key = 0, key2 = 0, n = 0;  // nearest(): the target's bits; spread(): both ends' bits
     std::vector<double> values;
   };
   std::array<Entry, 4096> entries;
@@ -467,7 +467,7 @@ void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) cons
   std::memcpy(&bits, &target, sizeof bits);
   if (!nearest_memo) nearest_memo = std::make_unique<NearestMemo>();
   auto& e = nearest_memo->entries[(bits ^ (bits >> 29) ^ (n * 0x9E3779B97F4A7C15ULL) ^ serial_) % 4096];
-  if (e.shelf == serial_ && e.target == bits && e.n == n) {
+  if (e.shelf == serial_ && e.key == bits && e.n == n) {
     out.insert(out.end(), e.values.begin(), e.values.end());
     return;
   }
@@ -481,7 +481,7 @@ void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) cons
   if (s1 != r_singles_.end()) out.push_back(*s1);
   if (s1 != r_singles_.begin()) out.push_back(*(s1 - 1));
   e.shelf = serial_;
-  e.target = bits;
+  e.key = bits;
   e.n = n;
   e.values.assign(out.begin() + static_cast<std::ptrdiff_t>(start), out.end());
 }
@@ -498,7 +498,7 @@ void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>&
   if (!spread_memo) spread_memo = std::make_unique<NearestMemo>();
   const std::uint64_t key = lo_bits ^ (hi_bits * 0x9E3779B97F4A7C15ULL) ^ (hi_bits >> 31);
   auto& e = spread_memo->entries[(key ^ (key >> 29) ^ (max_n * 0xC2B2AE3D27D4EB4FULL) ^ serial_) % 4096];
-  if (e.shelf == serial_ && e.target == lo_bits && e.n == max_n && e.hi == hi_bits) {
+  if (e.shelf == serial_ && e.key == lo_bits && e.key2 == hi_bits && e.n == max_n) {
     out.insert(out.end(), e.values.begin(), e.values.end());
     return;
   }
@@ -517,8 +517,8 @@ void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>&
   spread_from(r_index_, r3_values_);
   if (market_) spread_from(r_stock_index_, r3_stock_values_);
   e.shelf = serial_;
-  e.target = lo_bits;
-  e.hi = hi_bits;
+  e.key = lo_bits;
+  e.key2 = hi_bits;
   e.n = max_n;
   e.values.assign(out.begin() + static_cast<std::ptrdiff_t>(start), out.end());
 }
