@@ -298,10 +298,6 @@ class BjtCeDivider final : public Topology {
       for (double ve :
            {std::max(1.0, 0.1 * c.supply_v), std::max(1.2, 0.16 * c.supply_v), 0.35 * c.supply_v, 0.6 * c.supply_v}) {
         if (ve > c.supply_v / 3 && ve > ve_room) continue;
-        // The higher emitters only up to a usual VEBO (5-6 V): the bypass capacitor holds the
-        // leg's DC when the supply goes and reverses the base-emitter junction by as much, so
-        // the rating check would drop them all (on a high rail they would crowd out the rest).
-        if (ve > 6.0 && ve > std::max(1.2, 0.16 * c.supply_v)) continue;
         const double vbe = t.vt_v * std::log(ic / t.is_a);
         const double vb = ve + vbe;
         for (double k : {20.0, 10.0, 4.0, 1.5}) {

@@ -356,6 +356,16 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     ++stats.failures["bias"];
     return false;
   }
+  // A capacitor across part of the common leg holds its DC when the supply goes and reverses
+  // the control junction by as much (detail::device_stress): past the device's reverse rating
+  // at nominal already, no corner will pass it, so the draft stops here rather than taking a
+  // family's place in the corner pass.
+  if (const auto& vrev = device_.ratings.v_rev_max_v)
+    for (const auto& st : pre.stress)
+      if (st.role < roles.size() && roles[st.role].holds_leg && std::abs(st.dc_v) > kDeviceVoltageShare * *vrev) {
+        ++stats.failures["rating"];
+        return false;
+      }
   if (!fit_capacitors({t, targets, pre, detail::signal_peak(spec_, pre), shelf_, cache_->capacitors}, d, stats))
     return false;
   // One quantity pool: every role and every copy.
