@@ -112,8 +112,12 @@ std::optional<double> to_double(bool negative, const Decimal& d, long exponent) 
   // Written out again as one plain decimal so that from_chars rounds once, correctly:
   // "2.2" with the prefix u becomes "2.2e-6", the same double as the literal 2.2e-6.
   std::string s = d.int_digits.empty() ? "0" : d.int_digits;
-  if (!d.frac_digits.empty()) s += "." + d.frac_digits;
-  s += "e" + std::to_string(exponent);
+  if (!d.frac_digits.empty()) {
+    s += '.';
+    s += d.frac_digits;
+  }
+  s += 'e';
+  s += std::to_string(exponent);
   double value = 0;
   const auto [end, ec] = std::from_chars(s.data(), s.data() + s.size(), value);
   if (ec != std::errc() || end != s.data() + s.size() || !std::isfinite(value)) return std::nullopt;
