@@ -243,36 +243,53 @@ double chain_loss_db(std::span<const ChainStage> stages, const ChainPerformance&
   return sum;
 }
 
+constexpr double kThirdDb = 3.0102999566398120;  // 10 log10(2)
+
+// Where the cascade's loss on one side reaches 3 dB, sought from `from_hz` (bracketed by
+// doubling or halving, then bisected in log f to a few parts in 10^8); 0 when there is none
+// (the loss stays under 3 dB down to 1 mHz, or up to 10^13 Hz).
+double band_edge_from(std::span<const ChainStage> stages, const ChainPerformance& r, bool low, double from_hz) {
+  // Below the band the loss falls as f rises; above it, it rises: `past` says f lies beyond
+  // the corner, outside the band.
+  auto past = [&](double f) { return chain_loss_db(stages, r, f, low) > kThirdDb; };
+  const double f_min = 1e-3, f_max = 1e13;
+  double f = std::clamp(from_hz > 0 && std::isfinite(from_hz) ? from_hz : (low ? 20.0 : 20e3), f_min, f_max);
+  double in, out;  // a point inside the band, and one outside it
+  if (past(f)) {
+    out = f;
+    in = low ? 2 * f : 0.5 * f;
+    for (int i = 0; i < 60 && past(in); ++i) {
+      out = in;
+      in = low ? 2 * in : 0.5 * in;
+    }
+  } else {
+    in = f;
+    out = low ? 0.5 * f : 2 * f;
+    for (int i = 0; i < 60 && !past(out); ++i) {
+      if (out < f_min || out > f_max) return 0;
+      in = out;
+      out = low ? 0.5 * out : 2 * out;
+    }
+    if (out < f_min || out > f_max) return 0;
+  }
+  for (int i = 0; i < 24; ++i) {
+    const double mid = std::sqrt(in * out);
+    (past(mid) ? out : in) = mid;
+  }
+  return std::sqrt(in * out);
+}
+
 // The -3 dB points of the product of the stages' responses: where their losses add up to
-// 3 dB, searched outward from the stages' nearest corners and then bisected in log f.
+// 3 dB, sought from the stages' nearest corners.
 void chain_band_edges(std::span<const ChainStage> stages, ChainPerformance& r) {
   Performance& w = r.whole;
-  auto loss = [&](double f, bool low) { return chain_loss_db(stages, r, f, low); };
-  const double third = 10.0 * std::log10(2.0);  // 3.01 dB
   double f_lo_max = 0, f_hi_min = 0;
   for (const auto& p : r.each) {
     f_lo_max = std::max(f_lo_max, p.f_low_hz);
     if (p.f_high_hz > 0) f_hi_min = f_hi_min > 0 ? std::min(f_hi_min, p.f_high_hz) : p.f_high_hz;
   }
-  if (f_lo_max > 0) {
-    // At the highest stage corner the chain is at least 3 dB down; search upward.
-    double lo = f_lo_max, hi = 2 * f_lo_max;
-    for (int i = 0; i < 40 && loss(hi, true) > third; ++i) lo = hi, hi *= 2;
-    for (int i = 0; i < 40; ++i) {
-      const double mid = std::sqrt(lo * hi);
-      (loss(mid, true) > third ? lo : hi) = mid;
-    }
-    w.f_low_hz = std::sqrt(lo * hi);
-  }
-  if (f_hi_min > 0 && f_hi_min < 1e13) {
-    double hi = f_hi_min, lo = 0.5 * f_hi_min;
-    for (int i = 0; i < 40 && loss(lo, false) > third; ++i) hi = lo, lo *= 0.5;
-    for (int i = 0; i < 40; ++i) {
-      const double mid = std::sqrt(lo * hi);
-      (loss(mid, false) > third ? hi : lo) = mid;
-    }
-    w.f_high_hz = std::sqrt(lo * hi);
-  }
+  if (f_lo_max > 0) w.f_low_hz = band_edge_from(stages, r, true, f_lo_max);
+  if (f_hi_min > 0 && f_hi_min < 1e13) w.f_high_hz = band_edge_from(stages, r, false, f_hi_min);
 }
 
 }  // namespace
@@ -291,6 +308,16 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
   take_ends(r);
   if (detail == Detail::full) chain_band_edges(stages, r);
   return r;
+}
+
+double chain_loss_at(std::span<const ChainStage> stages, const Conditions& c, double f_hz, bool low) {
+  const ChainPerformance r = evaluate_chain(stages, c, Detail::core);
+  return chain_loss_db(stages, r, f_hz, low);
+}
+
+double chain_band_edge(std::span<const ChainStage> stages, const Conditions& c, bool low, double from_hz) {
+  const ChainPerformance r = evaluate_chain(stages, c, Detail::core);
+  return band_edge_from(stages, r, low, from_hz);
 }
 
 }  // namespace shelfstage::stages

@@ -359,7 +359,9 @@ namespace {
 // chain (the fast cascade, which carries both): for each corner and sense, at both supply
 // ends and both temperature ends, every stage's piece is chosen in turn among its corner
 // pieces to push the chain's corner furthest (two rounds), then every part of every stage is
-// set to the end of its tolerance that pushes it further. The cascade's figures are scaled by
+// set to the end of its tolerance that pushes it further (the end that loses more at the
+// corner found, below the band; less, above it). Each corner is sought from the nominal
+// chain's, on the cascade's summed loss (chain_band_edge). The cascade's figures are scaled by
 // the exact solver's ratio at nominal; the two extremes a band loses first (the highest
 // f_low, the lowest f_high, at the lower supply) are solved exactly as well, and every
 // figure joins the range.
@@ -384,9 +386,9 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
       for (double vs : {spec.supply_lo_v, spec.supply_hi_v})
         for (double temp : temps) {
           const stages::Conditions cond = conditions(spec, vs, temp);
+          const double from = low ? fast0.f_low_hz : fast0.f_high_hz;
           auto corner = [&](const std::vector<stages::ChainStage>& list) {
-            const auto p = stages::evaluate_chain(list, cond, stages::Detail::full).whole;
-            return low ? p.f_low_hz : p.f_high_hz;
+            return stages::chain_band_edge(list, cond, low, from);
           };
           std::vector<stages::ChainStage> list = nominal;
           for (std::size_t k = 0; k < n; ++k) list[k].q = make_transistor(spreads[k], pieces[k].back(), temp);
@@ -402,15 +404,20 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
                   list = std::move(trial);
                 }
               }
-          // Every part of every stage to the end that pushes the corner further.
+          // Every part of every stage to the end that pushes the corner further: the one
+          // that loses more at the corner found (below the band that raises f_low, above it
+          // lowers f_high).
           std::vector<stages::ChainStage> pushed = list;
+          const double at = best > 0 ? best : from;
+          const double up = low ? 1.0 : -1.0;  // the corner's move per dB more loss at `at`
           for (std::size_t k = 0; k < n; ++k)
             for (const auto& rp : ch.stages[k].parts) {
               const std::size_t i = ch.stages[k].topology->role_index(rp.role);
               std::vector<stages::ChainStage> lo = list, hi = list;
               lo[k].values[i] = rp.combo.lo;
               hi[k].values[i] = rp.combo.hi;
-              pushed[k].values[i] = sense * (corner(hi) - corner(lo)) >= 0 ? rp.combo.hi : rp.combo.lo;
+              const double more = stages::chain_loss_at(hi, cond, at, low) - stages::chain_loss_at(lo, cond, at, low);
+              pushed[k].values[i] = sense * up * more >= 0 ? rp.combo.hi : rp.combo.lo;
             }
           const double v = corner(pushed);
           if (v > 0) (low ? f_low : f_high).add(v * (low ? r_lo : r_hi));

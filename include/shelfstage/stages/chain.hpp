@@ -73,6 +73,13 @@ struct ChainPerformance {
 };
 ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Conditions& c, Detail detail = Detail::core);
 
+/// The chain's loss at f_hz relative to mid-band (dB >= 0, the stages' losses summed, each in
+/// its chain conditions): on the low side of the band when `low`, else the high side.
+double chain_loss_at(std::span<const ChainStage> stages, const Conditions& c, double f_hz, bool low);
+/// One -3 dB corner of the chain (the low one when `low`), as evaluate_chain at Detail::full
+/// finds it but without the stages' own corners and distortion: sought from from_hz, which
+/// should be near it (another corner of the same chain). 0 when the chain has none.
+double chain_band_edge(std::span<const ChainStage> stages, const Conditions& c, bool low, double from_hz);
 /// The transistors of a chain circuit in element order (for evaluate_circuit).
 std::vector<Transistor> chain_transistors(std::span<const ChainStage> stages);
 
