@@ -677,22 +677,45 @@ namespace {
 // The best K distinct designs of a ranked list (one-resistor variants of a better one are
 // left out), each finished as it is shown (the full worst case, the exact solver's DC across
 // every capacitor): one that fails there gives its place to the next. Best first.
+//
+// The finishing runs on every core, a batch ahead: the candidates not yet known to be variants
+// are finished together, then taken in rank order exactly as one at a time would take them
+// (a variant of one taken in the same batch is dropped then; its work is lost, not its place).
 std::vector<Candidate> finish_top(std::vector<Candidate>& ranked, const Spec& spec, const Shelf& shelf,
                                   SearchStats& tally) {
   std::vector<Candidate> shown;
-  for (auto& c : ranked) {
-    const bool variant =
-        std::any_of(shown.begin(), shown.end(), [&](const Candidate& kept) { return is_variant(kept, c); });
-    if (variant) continue;
-    if (!c.is_chain()) detail::finalize(c, shelf);
-    if (const std::string v = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec);
-        !v.empty()) {
-      tally.note_corner_failure(v);
-      continue;
+  auto variant_of_shown = [&](const Candidate& c) {
+    return std::any_of(shown.begin(), shown.end(), [&](const Candidate& kept) { return is_variant(kept, c); });
+  };
+  const std::size_t cores = std::max(1u, std::thread::hardware_concurrency());
+  std::size_t next = 0;
+  while (static_cast<int>(shown.size()) < spec.top && next < ranked.size()) {
+    const std::size_t want = static_cast<std::size_t>(spec.top) - shown.size();
+    std::vector<std::size_t> batch;
+    for (; next < ranked.size() && batch.size() < std::max(want, cores); ++next)
+      if (!variant_of_shown(ranked[next])) batch.push_back(next);
+    std::vector<std::string> broken(batch.size());
+    std::vector<std::exception_ptr> thrown(batch.size());
+    detail::parallel_for(batch.size(), [&](std::size_t b) {
+      Candidate& c = ranked[batch[b]];
+      try {
+        if (!c.is_chain()) detail::finalize(c, shelf);
+        broken[b] = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec);
+      } catch (...) {
+        thrown[b] = std::current_exception();
+      }
+    });
+    for (std::size_t b = 0; b < batch.size() && static_cast<int>(shown.size()) < spec.top; ++b) {
+      Candidate& c = ranked[batch[b]];
+      if (variant_of_shown(c)) continue;
+      if (thrown[b]) std::rethrow_exception(thrown[b]);
+      if (!broken[b].empty()) {
+        tally.note_corner_failure(broken[b]);
+        continue;
+      }
+      c.id = candidate_id(c, spec.copies);
+      shown.push_back(std::move(c));
     }
-    c.id = candidate_id(c, spec.copies);
-    shown.push_back(std::move(c));
-    if (static_cast<int>(shown.size()) >= spec.top) break;
   }
   std::stable_sort(shown.begin(), shown.end(), [](const Candidate& a, const Candidate& b) {
     if (a.score != b.score) return a.score < b.score;

@@ -144,13 +144,24 @@ std::string finish_stage(Candidate& c, const Spec& spec);
 /// Points a chain pays for each stage beyond the first (README "How candidates are ranked").
 inline constexpr double kStagePoints = 3.0;
 
+/// Set in the threads of a parallel_for while they run its work (see below).
+inline thread_local bool in_parallel_for = false;
+
 /// The one thread pool of the search: Runs fn(i) for i in [0, n) on the machine's cores (fn must not share state
-/// unguarded).
+/// unguarded). Called from inside another parallel_for's work (a chain's stage pools each run
+/// a search), it runs on the calling thread alone: the cores are busy already, and each
+/// thread keeps its own shelf memos warm from one piece of work to the next.
 template <class Fn>
 void parallel_for(std::size_t n, const Fn& fn) {
+  if (in_parallel_for || n == 1) {  // (one piece of work: its own may use the cores)
+    for (std::size_t i = 0; i < n; ++i) fn(i);
+    return;
+  }
   std::atomic<std::size_t> next{0};
   auto worker = [&] {
+    in_parallel_for = true;
     for (std::size_t i = next++; i < n; i = next++) fn(i);
+    in_parallel_for = false;
   };
   const unsigned k = std::min<unsigned>(std::max(1u, std::thread::hardware_concurrency()), static_cast<unsigned>(n));
   std::vector<std::thread> threads;
