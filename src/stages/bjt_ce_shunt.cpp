@@ -328,6 +328,9 @@ class BjtCeShunt final : public Topology {
   bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
+  // The loop: collector, RF, base, the transistor, back to the collector; broken at RF's
+  // collector end (the collector drives RF's far higher resistance).
+  std::optional<LoopBreak> feedback_loop() const override { return LoopBreak{"RF", "collector"}; }
   std::span<const InnerNet> inner_nets() const override { return kInner; }
   LoadLine load_line(const Values& v, const Conditions& c) const override {
     LoadLine l = detail::common_load_line(kCommon, v, c);

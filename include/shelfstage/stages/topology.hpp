@@ -4,6 +4,7 @@
 #include <array>
 #include <cstddef>
 #include <functional>
+#include <optional>
 #include <span>
 #include <string>
 #include <string_view>
@@ -252,6 +253,14 @@ struct Goal {
   bool probe = false;
 };
 
+/// Where a feedback stage's loop is broken: the end of a part (a role) on a net, which the
+/// break moves onto a net of its own. The trade breaks a shunt loop at the output end of the
+/// feedback resistor, where the output's low impedance drives the resistor's high one.
+struct LoopBreak {
+  std::string_view role;  ///< "RF"
+  std::string_view net;   ///< the end moved, as the stage's netlist names it: "collector"
+};
+
 class Topology {
  public:
   virtual ~Topology() = default;
@@ -261,6 +270,8 @@ class Topology {
   /// A buffer (gain just under one, high input and low output impedance): chains put one in
   /// front to lift the input impedance or behind to drive a low load.
   virtual bool is_buffer() const { return false; }
+  /// A feedback stage: where its loop is broken to measure the loop gain (loop.hpp).
+  virtual std::optional<LoopBreak> feedback_loop() const { return std::nullopt; }
   virtual std::span<const Role> roles() const = 0;
   /// Index of a role by name, or roles().size() when unknown.
   std::size_t role_index(std::string_view role) const;

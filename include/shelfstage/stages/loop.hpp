@@ -1,0 +1,44 @@
+// The loop gain of a feedback stage, measured on its netlist by the exact solver the way the
+// trade measures it on a bench or in a simulator: the loop broken at one point by a series
+// voltage injection and, with the loop closed, a shunt current injection at the same point,
+// the two combined into the loop gain (the double injection of Middlebrook and of Tian and
+// others; docs/physics.md, "Feedback loops"). From the loop gain over frequency: its size at
+// mid-band, where it falls through one, and the phase margin there.
+#pragma once
+#include <optional>
+#include <string>
+#include <string_view>
+
+#include "shelfstage/circuit/netlist.hpp"
+#include "shelfstage/stages/topology.hpp"
+
+namespace shelfstage::stages {
+
+/// A loop's figures at one build. The loop gain T is signed so that negative feedback is
+/// positive at mid-band (T = -1 is the edge of oscillation); the closed-loop gain is the
+/// ideal one times T / (1 + T).
+struct LoopGain {
+  double mid = 0;            ///< |T| at the mid-band frequency asked for
+  double mid_phase_deg = 0;  ///< arg T there (near 0 for negative feedback)
+  /// Where |T| last falls through one, going up in frequency (the unity-gain crossover); 0
+  /// when |T| stays below one over the whole sweep (0.1 Hz to 10 GHz): no crossover, the loop
+  /// cannot oscillate.
+  double f_cross_hz = 0;
+  /// 180 degrees plus arg T at the crossover (the phase unwrapped from mid-band upward); 0
+  /// without a crossover.
+  double phase_margin_deg = 0;
+  bool crosses() const { return f_cross_hz > 0; }
+};
+
+/// The loop gain of any stage-shaped circuit (stages::Topology::netlist, a chain stage's
+/// netlist) broken at the end of the part `designator` on net `end_net`. Throws InputError
+/// when the part or net is not there, InfeasibleError when the operating point does not
+/// converge.
+LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& designator, const std::string& end_net,
+                              double celsius, double f_mid_hz);
+
+/// The loop gain of a stage of topology t (nullopt when t has no feedback loop).
+std::optional<LoopGain> loop_gain(const Topology& t, const Values& values, const Transistor& q, const Conditions& c,
+                                  double f_mid_hz);
+
+}  // namespace shelfstage::stages
