@@ -506,6 +506,11 @@ std::string finish_chain(Candidate& ch, const Spec& spec) {
   w.loss_hi_db.add(p.loss_hi_db);
   w.thd.add(p.thd);
   if (std::string v = verify_chain_polarity(ch, spec); !v.empty()) return v;
+  for (std::size_t k = 0; k < ch.stages.size(); ++k)
+    if (std::string v = assess_loop(ch.stages[k], spec, ch.cautions, fmt::format("stage {}: ", k + 1),
+                                    k > 0 ? ch.stages[k - 1].nominal.zout_ohm : -1.0);
+        !v.empty())
+      return v;
   ch.parts.clear();
   for (const auto& s : ch.stages)
     for (const auto& rp : s.parts) ch.parts.push_back(rp);

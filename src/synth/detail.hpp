@@ -141,6 +141,14 @@ std::string finish_chain(Candidate& ch, const Spec& spec);
 /// A single stage as it is shown: the full-depth worst case, score and cautions, and the DC
 /// across every capacitor from the exact solver. Returns the first constraint broken or empty.
 std::string finish_stage(Candidate& c, const Spec& spec);
+/// A feedback stage's loop over its corners (LoopFigures) into c.loop (reset for a stage
+/// without a loop); a phase margin under kLeastPhaseMarginDeg at any corner adds a caution,
+/// prefixed, to `cautions`. A chain's stage after the first is measured driven from the
+/// output impedance of the stage before (source_ohm >= 0), as it is in the chain: the loop
+/// gain of a shunt stage grows with the impedance that drives it. Returns a failure
+/// ("bias: ...") when a corner does not solve.
+std::string assess_loop(Candidate& c, const Spec& spec, std::vector<std::string>& cautions,
+                        const std::string& prefix = {}, double source_ohm = -1);
 /// Points a chain pays for each stage beyond the first (README "How candidates are ranked").
 inline constexpr double kStagePoints = 3.0;
 

@@ -214,6 +214,16 @@ TEST_CASE("gain 100 from 9 V with a 1 MOhm input: ngspice builds over datasheet-
       "{}: worst {:.4g}..{:.4g}, ngspice builds {:.4g}..{:.4g}, {} of {} within +/-10 %, program yield {:.3f}",
       c.topology_name(), c.worst.gain.min, c.worst.gain.max, g_lo, g_hi, within, builds, c.yield.value_or(-1)));
   CHECK(within >= static_cast<int>(std::ceil(0.95 * builds)));
+  // Each stage with a feedback loop carries its loop gain over the corners (stages/loop.cpp,
+  // checked against ngspice in tests/stages/loop_test.cpp); the others none.
+  for (const auto& s : c.stages) {
+    CAPTURE(s.topology->name());
+    CHECK(s.loop.has_value() == s.topology->feedback_loop().has_value());
+    if (!s.loop) continue;
+    CHECK(s.loop->mid.min <= s.loop->nominal.mid);
+    CHECK(s.loop->mid.max >= s.loop->nominal.mid);
+    CHECK(s.loop->corners >= 5);
+  }
   // The worst case "within about +/-10 %": its corners, beyond what random builds reach, may
   // pass the window by a little.
   CHECK(c.error_worst <= 0.12);

@@ -13,6 +13,7 @@
 #include "shelfstage/devices/record.hpp"
 #include "shelfstage/devices/spread.hpp"
 #include "shelfstage/stages/chain.hpp"
+#include "shelfstage/stages/loop.hpp"
 #include "shelfstage/stages/topology.hpp"
 #include "shelfstage/store/part.hpp"
 #include "shelfstage/synth/shelf.hpp"
@@ -90,6 +91,24 @@ struct DeviceStress {
 inline constexpr double kDeviceVoltageShare = 0.8;
 inline constexpr double kDevicePowerShare = 0.5;
 
+/// A feedback stage's loop gain (stages/loop.hpp) at nominal and over its corners: every
+/// corner piece of the device and the nominal one, at both supply ends and both temperature
+/// ends, the parts at nominal (their tolerances move |T| by about as much, the crossover and
+/// margin far less), in the conditions the stage works in (a chain stage: into the next).
+struct LoopFigures {
+  std::string broken_at;     ///< where the loop is broken, for people: "R2 (RF) at the collector"
+  double f_mid_hz = 0;       ///< the mid-band frequency |T| is read at
+  stages::LoopGain nominal;  ///< at the nominal piece and supply
+  Range mid;                 ///< |T| at f_mid over the corners (nominal included)
+  Range f_cross;             ///< the unity-gain crossover over the corners that have one
+  Range margin_deg;          ///< the phase margin there
+  int corners = 0;           ///< builds solved
+  int crossing = 0;          ///< ... of which the loop gain reaches one
+};
+/// Common practice: a feedback loop's phase margin at least 45 degrees (60 for a response
+/// without peaking); below it the stage rings, and near 0 it oscillates.
+inline constexpr double kLeastPhaseMarginDeg = 45.0;
+
 /// One designed stage.
 struct Candidate {
   int rank = 0;
@@ -111,6 +130,8 @@ struct Candidate {
   int pieces = 0;               ///< parts per copy, transistor included
   int purchases = 0;            ///< pieces to buy for all copies (searches on a shelf with purchases only)
   std::vector<std::string> cautions;
+  /// A feedback stage's loop (finished candidates only; a chain's stages carry their own).
+  std::optional<LoopFigures> loop;
   /// A chain: its stages, in signal order, each a whole single-stage candidate evaluated into
   /// the next stage's input (its conditions say the load and source it sees; its designators
   /// carry the stage in the hundreds: R103, Q201). The chain itself has no topology; its
