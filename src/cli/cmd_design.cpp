@@ -214,6 +214,7 @@ synth::DesignResult run_design_on(store::Database& db, const synth::Spec& spec, 
       ctx.out << "\nCautions for #1:\n";
       for (const auto& c : best.cautions) ctx.out << "  - " << c << "\n";
     }
+    if (const std::string loop = report::loop_text(best); !loop.empty()) ctx.out << "\n#1: " << loop;
   }
   if (r.candidates.empty()) {
     // The diagnosis goes to stderr as the error (exit 2); its first line is the error line.

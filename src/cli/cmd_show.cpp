@@ -155,6 +155,7 @@ void show_chain(const ShowOptions& o, Context& ctx, const store::SavedDesign& sa
     ctx.out << fmt::format("Stage {} ({}):\n", k + 1, c.stages[k].topology->name());
     ctx.out << report::parts_text(analyses[k]) << "\n";
   }
+  if (const std::string loop = report::loop_text(c); !loop.empty()) ctx.out << loop << "\n";
   ctx.out << yield_text(c, spec);
   print_list(ctx.out, "Warnings", report::chain_warnings(analyses));
   print_list(ctx.out, "Cautions", c.cautions);
@@ -201,6 +202,7 @@ void run_show(const ShowOptions& o, Context& ctx) {
   ctx.out << report::parts_text(a) << "\n";
   ctx.out << report::figures_text(a) << "\n";
   ctx.out << worst_text(c, spec) << "\n";
+  if (const std::string loop = report::loop_text(c); !loop.empty()) ctx.out << loop << "\n";
   ctx.out << yield_text(c, spec);
   print_list(ctx.out, "Warnings", a.warnings);
   print_list(ctx.out, "Cautions", cautions);

@@ -254,6 +254,26 @@ Json transistor_json(const synth::Candidate& c) {
           {"rated", r.any()}};
 }
 
+// A feedback stage's loop gain (null for a stage without a loop, and for a chain, whose
+// stages carry their own): at nominal, and its ranges over the corners.
+Json loop_json(const synth::Candidate& c) {
+  if (!c.loop) return nullptr;
+  const synth::LoopFigures& l = *c.loop;
+  return {{"broken_at", l.broken_at},
+          {"f_mid", l.f_mid_hz},
+          {"nominal",
+           {{"gain", l.nominal.mid},
+            {"phase", l.nominal.mid_phase_deg},
+            {"f_cross", l.nominal.crosses() ? Json(l.nominal.f_cross_hz) : Json(nullptr)},
+            {"phase_margin", l.nominal.crosses() ? Json(l.nominal.phase_margin_deg) : Json(nullptr)}}},
+          {"gain", range(l.mid)},
+          {"f_cross", range(l.f_cross)},
+          {"phase_margin", range(l.margin_deg)},
+          {"least_phase_margin", synth::kLeastPhaseMarginDeg},
+          {"corners", l.corners},
+          {"crossing", l.crossing}};
+}
+
 // A chain's stages, each shaped like a single-stage candidate, evaluated into the next
 // stage's input; the chain's own nominal and worst are the whole chain's (nodes: the first
 // stage's).
@@ -298,6 +318,7 @@ Json candidate_json(const synth::Candidate& c) {
   j["error_nominal"] = c.error_nominal;
   j["error_worst"] = c.error_worst;
   j["cautions"] = c.cautions;
+  j["loop"] = loop_json(c);
   if (c.is_chain()) {
     j["stages"] = stages_json(c);
     j["chain"] = c.topology_name();

@@ -135,6 +135,47 @@ std::string candidates_table(const synth::DesignResult& r) {
   return out;
 }
 
+namespace {
+
+std::string loop_lines(const synth::Candidate& s, const std::string& whose) {
+  if (!s.loop) return {};
+  const synth::LoopFigures& l = *s.loop;
+  auto hz = [](const synth::Range& r) {
+    return r.min == r.max
+               ? units::format_value(r.min, units::Unit::hertz)
+               : units::format_value(r.min, units::Unit::hertz) + ".." + units::format_value(r.max, units::Unit::hertz);
+  };
+  std::string out = fmt::format("Feedback loop{}: broken at {}, read at {}\n", whose, l.broken_at,
+                                units::format_value(l.f_mid_hz, units::Unit::hertz));
+  out += fmt::format("  loop gain {:.3g} ({:.1f} dB) at nominal, {:.3g}..{:.3g} over {} builds at the corners\n",
+                     l.nominal.mid, 20 * std::log10(std::max(l.nominal.mid, 1e-12)), l.mid.min, l.mid.max, l.corners);
+  if (l.crossing == 0) {
+    out += fmt::format("  it stays below 1 at every frequency: no crossover, this loop cannot oscillate{}\n",
+                       l.nominal.mid < 0.5
+                           ? "; so weak a loop leaves the gain to the rest of the stage (its load over its emitter "
+                             "resistance, and the transistor), not to the feedback resistors' ratio"
+                           : "");
+    return out;
+  }
+  out += fmt::format(
+      "  unity-gain crossover {}; phase margin {:.0f}..{:.0f}\u00b0{} (common practice: at least "
+      "{:.0f}\u00b0){}\n",
+      hz(l.f_cross), l.margin_deg.min, l.margin_deg.max,
+      l.crossing < l.corners ? fmt::format(" where it crosses ({} of {})", l.crossing, l.corners) : "",
+      synth::kLeastPhaseMarginDeg, l.margin_deg.min < synth::kLeastPhaseMarginDeg ? ": SHORT, see the cautions" : "");
+  return out;
+}
+
+}  // namespace
+
+std::string loop_text(const synth::Candidate& c) {
+  if (!c.is_chain()) return loop_lines(c, "");
+  std::string out;
+  for (std::size_t k = 0; k < c.stages.size(); ++k)
+    out += loop_lines(c.stages[k], fmt::format(" of stage {} ({})", k + 1, c.stages[k].topology->name()));
+  return out;
+}
+
 std::string diagnosis_text(const synth::DesignResult& r) {
   std::string out = fmt::format("error: no stage meets the request: {}\n", r.diagnosis.detail);
   if (!r.diagnosis.suggestions.empty()) {

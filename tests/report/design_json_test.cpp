@@ -141,6 +141,39 @@ TEST_CASE("candidate_json: a single stage carries every documented key, and the 
   CHECK(j["transistor"]["power_share"] == doctest::Approx(0.5));
 }
 
+TEST_CASE("candidate_json: a feedback stage's loop (docs/interface.md's `loop`), its ranges holding the nominal") {
+  const auto inv = test::demo_inventory();
+  const synth::Spec spec = test::request("bjt-ce-shunt", "SQ-410", 10, 12);
+  const synth::Candidate c = test::design_one(spec, inv);
+  REQUIRE(c.loop.has_value());
+  const Json j = report::candidate_json(c);
+  const Json& l = j["loop"];
+  REQUIRE(l.is_object());
+  for (const char* k : {"broken_at", "f_mid", "nominal", "gain", "f_cross", "phase_margin", "least_phase_margin",
+                        "corners", "crossing"})
+    CHECK_MESSAGE(l.contains(k), k);
+  CHECK(l["broken_at"].get<std::string>().find("(RF) at the collector") != std::string::npos);
+  CHECK(l["least_phase_margin"] == doctest::Approx(45));
+  // Every corner piece and the nominal one at both supply ends, and the nominal build.
+  CHECK(l["corners"].get<int>() >= 5);
+  REQUIRE(is_range(l["gain"]));
+  const double t = l["nominal"]["gain"].get<double>();
+  CHECK(t > 0);
+  CHECK(l["gain"][0].get<double>() <= t);
+  CHECK(l["gain"][1].get<double>() >= t);
+  if (l["nominal"]["f_cross"].is_number()) {
+    REQUIRE(is_range(l["phase_margin"]));
+    const double pm = l["nominal"]["phase_margin"].get<double>();
+    CHECK(l["phase_margin"][0].get<double>() <= pm);
+    CHECK(l["phase_margin"][1].get<double>() >= pm);
+  } else {
+    CHECK(l["nominal"]["phase_margin"].is_null());
+  }
+  // A stage without a feedback loop: null.
+  const synth::Candidate d = test::design_one(test::request("bjt-ce-divider", "SQ-410", 10, 12), inv);
+  CHECK(report::candidate_json(d)["loop"].is_null());
+}
+
 TEST_CASE("candidate_json: no Monte Carlo, a null yield; and the candidate back from its JSON") {
   const auto inv = test::demo_inventory();
   synth::Spec spec = test::request("jfet-cs-self", "SJ-101", 5, 12, 0.5);

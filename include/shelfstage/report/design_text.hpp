@@ -27,6 +27,11 @@ std::string recipe_line(const synth::Candidate& c);
 /// The device for people: "SJ-101 [bag 3]", or each stage's for a chain: "SJ-101 > KB-547".
 std::string device_text(const synth::Candidate& c);
 
+/// A feedback stage's loop gain (or each such stage's, in a chain) for people: where the loop
+/// is broken, its size at mid-band, the crossover and the phase margin over the corners.
+/// Empty when no stage has a feedback loop.
+std::string loop_text(const synth::Candidate& c);
+
 /// Why nothing fits, and the purchases that would help, as lines for stderr.
 std::string diagnosis_text(const synth::DesignResult& r);
 
