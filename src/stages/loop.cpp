@@ -104,13 +104,14 @@ LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& de
   const cd t_mid = p.loop(f_mid_hz);
   g.mid = std::abs(t_mid);
   g.mid_phase_deg = std::arg(t_mid) * 180.0 / std::numbers::pi;
-  // Up from mid-band, 20 points a decade, the phase unwrapped as it goes; the last fall of
+  // Up from mid-band, eight points a decade, the phase unwrapped as it goes; the last fall of
   // |T| through one is bisected in log f.
   const double f_top = 1e10;
   double f_prev = f_mid_hz, phase_prev = std::arg(t_mid);
   cd t_prev = t_mid;
   double cross_lo = 0, cross_hi = 0, phase_at_lo = 0;
-  for (double f = f_mid_hz * std::pow(10.0, 0.05); f <= f_top * 1.0001; f *= std::pow(10.0, 0.05)) {
+  const double step = std::pow(10.0, 0.125);
+  for (double f = f_mid_hz * step; f <= f_top * 1.0001; f *= step) {
     const cd t = p.loop(f);
     double d = std::arg(t) - std::arg(t_prev);
     while (d > std::numbers::pi) d -= 2 * std::numbers::pi;
@@ -128,7 +129,7 @@ LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& de
   if (cross_lo > 0) {
     double lo = cross_lo, hi = cross_hi, phase_lo = phase_at_lo;
     cd t_lo = p.loop(lo);
-    for (int i = 0; i < 30; ++i) {
+    for (int i = 0; i < 22; ++i) {
       const double mid = std::sqrt(lo * hi);
       const cd t = p.loop(mid);
       if (std::abs(t) >= 1.0) {
