@@ -759,15 +759,18 @@ std::vector<Candidate> search_designs(const Run& run) {
   return out;
 }
 
-// The ranks, and each candidate's Monte Carlo yield.
+// The ranks, and each candidate's Monte Carlo yield (on every core: each candidate's builds
+// are drawn from the request's seed alone, so the yields do not depend on the order).
 void rank_and_yield(DesignResult& r, const Run& run) {
-  for (std::size_t i = 0; i < r.candidates.size(); ++i) {
-    auto& c = r.candidates[i];
-    c.rank = static_cast<int>(i) + 1;
-    c.yield = detail::monte_carlo(c, run.spec);
+  const std::size_t n = r.candidates.size();
+  for (std::size_t i = 0; i < n; ++i) r.candidates[i].rank = static_cast<int>(i) + 1;
+  std::vector<double> yields(n, 0.0);
+  detail::parallel_for(n, [&](std::size_t i) { yields[i] = detail::monte_carlo(r.candidates[i], run.spec); });
+  for (std::size_t i = 0; i < n; ++i) {
+    r.candidates[i].yield = yields[i];
     r.evaluations += run.spec.mc_samples;
-    if (run.progress) run.progress(static_cast<double>(i + 1), static_cast<double>(r.candidates.size()), "Monte Carlo");
   }
+  if (run.progress && n > 0) run.progress(static_cast<double>(n), static_cast<double>(n), "Monte Carlo");
 }
 
 // The constraint that stopped the most candidates (those that got furthest count first:
