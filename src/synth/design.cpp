@@ -763,13 +763,12 @@ std::vector<Candidate> search_designs(const Run& run) {
 // are drawn from the request's seed alone, so the yields do not depend on the order).
 void rank_and_yield(DesignResult& r, const Run& run) {
   const std::size_t n = r.candidates.size();
-  for (std::size_t i = 0; i < n; ++i) r.candidates[i].rank = static_cast<int>(i) + 1;
-  std::vector<double> yields(n, 0.0);
-  detail::parallel_for(n, [&](std::size_t i) { yields[i] = detail::monte_carlo(r.candidates[i], run.spec); });
-  for (std::size_t i = 0; i < n; ++i) {
-    r.candidates[i].yield = yields[i];
-    r.evaluations += run.spec.mc_samples;
-  }
+  detail::parallel_for(n, [&](std::size_t i) {
+    Candidate& c = r.candidates[i];
+    c.rank = static_cast<int>(i) + 1;
+    c.yield = detail::monte_carlo(c, run.spec);
+  });
+  r.evaluations += static_cast<long>(n) * run.spec.mc_samples;
   if (run.progress && n > 0) run.progress(static_cast<double>(n), static_cast<double>(n), "Monte Carlo");
 }
 
