@@ -222,6 +222,7 @@ Json worst_json(const synth::Candidate& c) {
   synth::Range vpp = w.swing_peak;
   vpp.min *= 2;
   vpp.max *= 2;
+  const bool banded = c.conditions.band_lo_hz > 0 || c.conditions.band_hi_hz > 0;
   return {{"gain", range(w.gain)},
           {"bias_current", range(w.bias_current)},
           {"swing_peak", range(w.swing_peak)},
@@ -233,6 +234,8 @@ Json worst_json(const synth::Candidate& c) {
           {"f_low", range(w.f_low)},
           {"f_high", range(w.f_high)},
           {"supply_current", range(w.supply_current)},
+          {"loss_low_db", banded ? range(w.loss_lo_db) : Json(nullptr)},
+          {"loss_high_db", banded ? range(w.loss_hi_db) : Json(nullptr)},
           {"evaluations", w.evaluations}};
 }
 

@@ -50,8 +50,8 @@ stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
 
 std::string violation(const Spec& spec, const stages::Performance& p) {
   if (!p.valid || !p.active) return "bias";
-  // Swing, distortion, supply current and Zin with their model margins (kModelMargin), as the claimed
-  // ranges show them.
+  // Swing, distortion, supply current, Zin and the band's losses with their model margins (kModelMargin), as the
+  // claimed ranges show them.
   if (spec.swing_vpp && p.swing_peak_v * (1.0 - kModelMargin.swing) < *spec.swing_vpp / 2)
     return p.clip_peak_v >= *spec.swing_vpp / 2 ? "distortion" : "swing";
   // No swing asked: room before clipping all the same (the distortion is not bounded then).
@@ -60,7 +60,7 @@ std::string violation(const Spec& spec, const stages::Performance& p) {
   if (spec.swing_vpp && p.thd * (1.0 + kModelMargin.thd) > spec.max_thd) return "distortion";
   if (spec.max_current_a && p.supply_current_a * (1.0 + kModelMargin.current) > *spec.max_current_a) return "current";
   if (p.zin_ohm * (1.0 - kModelMargin.impedance_corner) < spec.zin_min_ohm) return "zin";
-  if (spec.band_hz && (p.loss_lo_db > 1.0 || p.loss_hi_db > 1.0)) return "band";
+  if (spec.band_hz && std::max(p.loss_lo_db, p.loss_hi_db) * (1.0 + kModelMargin.band_loss) > 1.0) return "band";
   return {};
 }
 

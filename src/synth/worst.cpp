@@ -201,6 +201,7 @@ void add_model_margin(Worst& w) {
   for (Range* r : {&w.v_in, &w.v_common, &w.v_out}) widen(*r, kModelMargin.node, kModelMargin.node_floor_v);
   for (Range* r : {&w.zin, &w.zout}) widen(*r, kModelMargin.impedance_corner);
   for (Range* r : {&w.f_low, &w.f_high}) widen(*r, kModelMargin.band_corner);
+  for (Range* r : {&w.loss_lo_db, &w.loss_hi_db}) widen(*r, kModelMargin.band_loss);
   if (!w.swing_peak.empty) w.swing_peak.min *= 1.0 - kModelMargin.swing;
   if (!w.thd.empty) w.thd.max *= 1.0 + kModelMargin.thd;
 }

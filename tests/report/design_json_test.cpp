@@ -108,8 +108,8 @@ TEST_CASE("candidate_json: a single stage carries every documented key, and the 
   for (const char* k : {"base", "emitter", "collector"}) CHECK_MESSAGE(n["nodes"].contains(k), k);
   // worst: [min, max] each, holding its nominal figure (docs/worst-case.md).
   const Json& w = j["worst"];
-  for (const char* k :
-       {"gain", "bias_current", "swing_peak", "swing_vpp", "thd", "zin", "zout", "f_low", "f_high", "supply_current"}) {
+  for (const char* k : {"gain", "bias_current", "swing_peak", "swing_vpp", "thd", "zin", "zout", "f_low", "f_high",
+                        "supply_current", "loss_low_db", "loss_high_db"}) {
     CAPTURE(k);
     REQUIRE(is_range(w[k]));
     CHECK(w[k][0].get<double>() <= w[k][1].get<double>());
