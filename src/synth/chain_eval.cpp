@@ -380,7 +380,10 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
   }
   std::vector<double> temps = {spec.temp_nominal_c()};
   if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
-  Range f_low, f_high;
+  Range f_low, f_high, loss_lo, loss_hi;
+  // The losses at the band's edges on the same pushed chains, moved as the exact solver moves
+  // the nominal chain's.
+  const double shift_lo = ch.nominal.loss_lo_db - fast0.loss_lo_db, shift_hi = ch.nominal.loss_hi_db - fast0.loss_hi_db;
   for (const bool low : {true, false})
     for (const double sense : {1.0, -1.0})
       for (double vs : {spec.supply_lo_v, spec.supply_hi_v})
@@ -421,6 +424,11 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
             }
           const double v = corner(pushed);
           if (v > 0) (low ? f_low : f_high).add(v * (low ? r_lo : r_hi));
+          if (spec.band_hz) {
+            const double edge = low ? spec.band_hz->first : spec.band_hz->second;
+            const double loss = stages::chain_loss_at(pushed, cond, edge, low) + (low ? shift_lo : shift_hi);
+            (low ? loss_lo : loss_hi).add(std::max(0.0, loss));
+          }
           if (vs == spec.supply_lo_v && temp == temps.front() && ((low && sense > 0) || (!low && sense < 0))) {
             try {
               const auto [el, eh] = stages::band_of_circuit(stages::chain_netlist(pushed, cond), cond);
@@ -437,6 +445,17 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
   widen(f_high, kModelMargin.band_corner);
   ch.worst.f_low = f_low;
   ch.worst.f_high = f_high;
+  if (spec.band_hz) {
+    loss_lo.add(ch.nominal.loss_lo_db);
+    loss_hi.add(ch.nominal.loss_hi_db);
+    widen(loss_lo, kModelMargin.band_loss);
+    widen(loss_hi, kModelMargin.band_loss);
+    ch.worst.loss_lo_db = loss_lo;
+    ch.worst.loss_hi_db = loss_hi;
+    // The band held within 1 dB at every corner, as a single stage's corners are held (violation).
+    if (std::max(loss_lo.max, loss_hi.max) > 1.0)
+      return fmt::format("band: {:.2f} dB lost at a band edge at a corner", std::max(loss_lo.max, loss_hi.max));
+  }
   return {};
 }
 
