@@ -19,6 +19,21 @@ std::string_view output_node(const Topology& t) {
 
 bool output_at_main(const Topology& t) { return output_node(t) == t.node_names()[2]; }
 
+char output_dc_field(const Topology& t) {
+  const std::string_view n = output_node(t);
+  if (n == t.node_names()[2]) return 'm';
+  if (n == t.node_names()[1]) return 'c';
+  return '2';
+}
+
+double output_dc(const Topology& t, const Performance& p) {
+  switch (output_dc_field(t)) {
+    case 'm': return p.v_out;
+    case 'c': return p.v_common;
+    default: return p.v_out2;
+  }
+}
+
 std::string chain_designator(std::size_t stage, std::string_view designator) {
   std::size_t digits = designator.size();
   while (digits > 0 && std::isdigit(static_cast<unsigned char>(designator[digits - 1]))) --digits;
@@ -89,7 +104,8 @@ circuit::Circuit chain_stage_netlist(const ChainStage& stage, std::size_t k, con
 
 std::vector<Transistor> chain_transistors(std::span<const ChainStage> stages) {
   std::vector<Transistor> qs;
-  for (const auto& s : stages) qs.push_back(s.q);
+  for (const auto& s : stages)
+    for (auto& q : transistors_of(s.q)) qs.push_back(std::move(q));
   return qs;
 }
 

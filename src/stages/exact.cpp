@@ -347,7 +347,16 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
                            Detail detail) {
   const Circuit net = t.netlist(v, q, c);
   OperatingPoint op;
-  Performance p = evaluate_circuit(net, std::span<const Transistor>(&q, 1), c, detail, &op);
+  const std::vector<Transistor> qs = transistors_of(q);
+  Performance p = evaluate_circuit(net, qs, c, detail, &op);
+  if (q.paired && op.devices.size() > 1) {  // Q2: its current, its VCE and its collector
+    p.q2_current_a = std::abs(op.devices[1].i_main_a);
+    p.q2_v_main = std::abs(op.devices[1].v_main_v);
+    int seen = 0;
+    for (const auto& el : net.elements())
+      if ((el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt) && seen++ == 1)
+        p.v_out2 = op.node_v[el.c.pins[0]];
+  }
   if (detail == Detail::full) {
     const auto roles = t.roles();
     for (const auto& el : net.elements()) {
@@ -366,6 +375,8 @@ Performance evaluate_exact(const Topology& t, const Values& v, const Transistor&
           for (std::string_view known : {std::string_view("0"), kNetSupply, kNetIn, kNetOut, std::string_view("x"),
                                          t.node_names()[0], t.node_names()[1], t.node_names()[2]})
             if (n == known) return known;
+          for (const InnerNet& inner : t.inner_nets())
+            if (n == inner.name) return inner.name;
           return roles[r].pos_net;  // not reached for a topology's own netlist
         };
         s.plus_net = end(dv >= 0 ? 0 : 1);

@@ -12,11 +12,13 @@ const Topology& bjt_ce_divider();
 const Topology& bjt_follower();
 const Topology& jfet_boot_follower();
 const Topology& bjt_ce_shunt();
+const Topology& bjt_fb_pair();
+const Topology& jfet_fb_pair();
 
 std::span<const Topology* const> registry() {
   static const std::array all = {
-      &jfet_cs_self(), &jfet_cs_divider(),    &jfet_follower(), &bjt_ce_divider(),
-      &bjt_follower(), &jfet_boot_follower(), &bjt_ce_shunt(),
+      &jfet_cs_self(),       &jfet_cs_divider(), &jfet_follower(), &bjt_ce_divider(), &bjt_follower(),
+      &jfet_boot_follower(), &bjt_ce_shunt(),    &bjt_fb_pair(),   &jfet_fb_pair(),
   };
   return all;
 }

@@ -22,6 +22,28 @@ Rail rail_of(const Transistor& q, const Conditions& c) {
   return r;
 }
 
+Transistor Transistor::second() const {
+  Transistor q;
+  q.kind = bjt2.kind;
+  q.bjt = bjt2;
+  return q;
+}
+
+std::vector<Transistor> transistors_of(const Transistor& q) {
+  if (!q.paired) return {q};
+  return {q, q.second()};
+}
+
+bool Topology::accepts_second(devices::DeviceKind first, devices::DeviceKind second) const {
+  if (devices::is_jfet(second)) return false;
+  switch (second_device()) {
+    case SecondDevice::none: return false;
+    case SecondDevice::complement: return devices::polarity(first) != devices::polarity(second);
+    case SecondDevice::same: return devices::polarity(first) == devices::polarity(second);
+  }
+  return false;
+}
+
 std::string_view Rail::net(std::string_view n) const {
   if (!flipped) return n;
   if (n == "0") return kNetSupply;
@@ -105,6 +127,7 @@ Performance Topology::evaluate(const Values& values, const Transistor& q, const 
   p.v_in = rail.real(p.v_in);
   p.v_common = rail.real(p.v_common);
   p.v_out = rail.real(p.v_out);
+  if (q.paired) p.v_out2 = rail.real(p.v_out2);
   const auto r = roles();
   for (Stress& s : p.stress) {
     if (s.role >= r.size() || r[s.role].kind != 'C') continue;

@@ -55,7 +55,7 @@ TEST_CASE("Fast evaluators against evaluate_exact over seeded random cases of ev
   for (const Topology* t : stages::registry()) {
     ErrorLog log;
     std::mt19937_64 rng(20240611);
-    int compared = 0, skipped = 0;
+    int compared = 0, skipped = 0, pair_short = 0;
     for (int i = 0; i < 80; ++i) {
       StageCase sc = random_case(*t, rng, i);
       INFO(sc.label);
@@ -101,10 +101,31 @@ TEST_CASE("Fast evaluators against evaluate_exact over seeded random cases of ev
       // expanded, 3.9e-5 exact at 15 % of the swing, 3.0e-5 exact at 3 %). evaluate_exact
       // also resolves the harmonic only to about a microvolt (64 quasi-static points, each
       // stopping at the solver's vntol of 0.1 uV).
-      check_close(log, pre + "HD2", sc.label, fast.hd2, exact.hd2, tol.hd2, std::max(2e-5, 1e-6 / sc.c.hd2_peak_v));
-      check_close(log, pre + "swing up", sc.label, fast.swing_up_v, exact.swing_up_v, tol.swing);
-      check_close(log, pre + "swing down", sc.label, fast.swing_down_v, exact.swing_down_v, tol.swing);
+      // A feedback pair's series is interpolated from its static transfer over three quarters
+      // of its swing (src/stages/pair.cpp): it resolves a second harmonic down to about 0.02 %,
+      // not below (seen: 1.3e-5 against 1.0e-4 at 15 % of the swing).
+      const double hd2_floor = t->second_device() != stages::SecondDevice::none ? 2e-4 : 2e-5;
+      check_close(log, pre + "HD2", sc.label, fast.hd2, exact.hd2, tol.hd2,
+                  std::max(hd2_floor, 1e-6 / sc.c.hd2_peak_v));
+      // A feedback pair's swing is the straight line from the bias to the first device limit.
+      // Toward Q2's cut-off it stops early: as Q2's current falls the loop gain goes with it
+      // and the output moves further per ampere than at the bias (seen: 0.156 V against
+      // 0.209 V, a stage of gain 3 whose Q2 ran at 83 uA), and in a build scattered so far that
+      // its output sits near a rail, the other side can stop well short as well. Short of the
+      // exact is safe (the search asks for less than there is), past it is not: never past it,
+      // and within 30 % in nine cases of ten.
+      const bool pair = t->second_device() != stages::SecondDevice::none;
+      for (const auto& [side, f, x] : {std::tuple{"swing up", fast.swing_up_v, exact.swing_up_v},
+                                       std::tuple{"swing down", fast.swing_down_v, exact.swing_down_v}}) {
+        if (pair && f < x) {
+          if (f < 0.7 * x) ++pair_short;
+        } else {
+          check_close(log, pre + side, sc.label, f, x, tol.swing);
+        }
+      }
     }
+    CHECK_MESSAGE(pair_short * 10 <= compared, t->name(), ": ", pair_short,
+                  " swings more than 30 % short of the exact");
     // The sweep must mostly land in the active region, or it tests nothing.
     CHECK_MESSAGE(compared >= 48, t->name(), ": only ", compared, " of 80 random cases were active");
     log.report(fmt::format("{}: {} cases compared, {} skipped (not active); worst relative error", t->name(), compared,

@@ -56,7 +56,9 @@ TEST_CASE("topology_names: every name in registry order, joined by the separator
   CHECK(bar.find(", ") == std::string::npos);
 }
 
-TEST_CASE("registry: a buffer follows in phase just under one, every other stage inverts with gain (ngspice)") {
+TEST_CASE(
+    "registry: a buffer follows in phase just under one, a feedback pair amplifies in phase (two inverting devices), "
+    "every other stage inverts with gain (ngspice)") {
   for (const stages::Topology* t : stages::registry()) {
     const bool jfet = t->accepts(DeviceKind::njfet);
     const devices::DeviceSpread spread(jfet ? njfet_record() : npn_record());
@@ -72,6 +74,8 @@ TEST_CASE("registry: a buffer follows in phase just under one, every other stage
     if (t->is_buffer()) {
       CHECK(ng.gain > 0.5);
       CHECK(ng.gain < 1.0);
+    } else if (t->second_device() == stages::SecondDevice::complement) {
+      CHECK(ng.gain > 1.0);
     } else {
       CHECK(ng.gain < -1.0);
     }

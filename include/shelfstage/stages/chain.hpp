@@ -32,6 +32,11 @@ std::size_t input_coupling_role(const Topology& t);
 /// whose DC a Performance gives as v_out; else v_common).
 std::string_view output_node(const Topology& t);
 bool output_at_main(const Topology& t);
+/// Which DC of a Performance is the output node's: 'm' v_out (the main terminal), 'c'
+/// v_common (a follower), '2' v_out2 (a pair's Q2 collector).
+char output_dc_field(const Topology& t);
+/// That DC from a Performance.
+double output_dc(const Topology& t, const Performance& p);
 
 /// The designator a stage's part carries in a chain: stage index (from 0) k and the stage's
 /// own designator "R3" give "R" + (100 (k + 1) + 3), i.e. "R103", "R203", "Q101" (common

@@ -88,12 +88,23 @@ struct Values {
   double operator[](std::size_t i) const { return v[i]; }
 };
 
-/// The transistor piece a stage is evaluated with (one of the two instances is used).
+/// The transistor piece a stage is evaluated with (one of the two instances is used). A stage
+/// with two devices (a feedback pair) also carries its second transistor, always bipolar: Q2.
 struct Transistor {
   devices::DeviceKind kind = devices::DeviceKind::njfet;
   devices::JfetInstance jfet;
   devices::BjtInstance bjt;
+  bool paired = false;        ///< a second device (Q2) is given
+  devices::BjtInstance bjt2;  ///< Q2 (its kind says NPN or PNP)
+  /// Q2 alone, as a one-device Transistor (the exact solver takes a list of those).
+  Transistor second() const;
 };
+/// The devices of a stage as the exact solver lists them: Q1, then Q2 when paired.
+std::vector<Transistor> transistors_of(const Transistor& q);
+
+/// Which second device a topology takes: none, one of the opposite polarity to Q1 (the
+/// complementary pair: NPN then PNP, or N-channel then PNP), or one of the same polarity.
+enum class SecondDevice { none, complement, same };
 
 /// What the stage is asked to work in.
 struct Conditions {
@@ -188,6 +199,12 @@ struct Performance {
   double noise_v_rthz = 0;  ///< input-referred noise density at Conditions::noise_f_hz
   double c_in_f = 0;        ///< capacitance into the gate or base at mid-band (Miller included)
   double supply_current_a = 0;
+  /// A stage with a second device (Q2): its collector current, its collector-emitter DC
+  /// (magnitude) and its collector's DC volts (the stage's output terminal), N frame for
+  /// the last until Topology::evaluate places it on the rail.
+  double q2_current_a = 0;
+  double q2_v_main = 0;
+  double v_out2 = 0;
   std::vector<Stress> stress;  ///< per role present
 };
 
@@ -251,6 +268,9 @@ struct Goal {
   /// propose the largest load resistor the headroom allows instead of nothing (used to say
   /// how close a failed request came).
   bool probe = false;
+  /// How widely to search (Spec::search_breadth): below 1 (a chain's many stage pools) the
+  /// design equations try fewer of their own choices as well as fewer shelf values.
+  double breadth = 1.0;
 };
 
 /// Where a feedback stage's loop is broken: the end of a part (a role) on a net, which the
@@ -272,6 +292,10 @@ class Topology {
   virtual bool is_buffer() const { return false; }
   /// A feedback stage: where its loop is broken to measure the loop gain (loop.hpp).
   virtual std::optional<LoopBreak> feedback_loop() const { return std::nullopt; }
+  /// A stage with two devices: which second device it takes (SecondDevice::none: one device).
+  virtual SecondDevice second_device() const { return SecondDevice::none; }
+  /// Whether a bipolar type of kind `second` may be Q2 beside a Q1 of kind `first`.
+  bool accepts_second(devices::DeviceKind first, devices::DeviceKind second) const;
   virtual std::span<const Role> roles() const = 0;
   /// Index of a role by name, or roles().size() when unknown.
   std::size_t role_index(std::string_view role) const;

@@ -1,0 +1,611 @@
+// The series-feedback pair's closed form and what both pair topologies share (pair.hpp).
+#include "pair.hpp"
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <complex>
+#include <fmt/format.h>
+#include <limits>
+#include <numbers>
+
+#include "distortion.hpp"
+#include "shelfstage/error.hpp"
+
+namespace shelfstage::stages::detail {
+
+PairParts pair_parts(const Values& v, double vcc) {
+  PairParts s;
+  s.vcc = vcc;
+  s.top = v[kTop];
+  s.bottom = v[kBottom];
+  s.r1 = v[kR1];
+  s.rc2 = v[kRC2];
+  s.rf = v[kRF];
+  s.re1 = v[kLeg1];
+  s.re2 = v[kLeg2];
+  s.ce = v[kLeg2] > 0 ? v[kBypass] : 0.0;
+  s.cin = v[kCin];
+  s.cout = v[kCout];
+  return s;
+}
+
+PairDevices pair_devices(const Transistor& q) {
+  PairDevices d;
+  d.jfet = devices::is_jfet(q.kind);
+  d.j = q.jfet;
+  d.b = q.bjt;
+  d.b2 = q.bjt2;
+  return d;
+}
+
+namespace {
+
+using cd = std::complex<double>;
+
+// The capacitors holding their DC while the source moves (the static transfer): CIN holds
+// the control pin's DC against the source's deviation `delta` behind rs, the bypass holds x,
+// COUT holds the output's DC so the load returns there.
+struct Held {
+  bool on = false;
+  double delta = 0, rs = 1e-3, vg0 = 0, vx0 = 0, vo0 = 0, rl = 0;
+};
+
+// Every node from (u, w), and the two residuals: KCL at Q1's common terminal and at its main
+// terminal (currents in minus currents out).
+struct Nodes {
+  double i1 = 0, ib1 = 0, ic2 = 0, ib2 = 0, vg = 0, ve = 0, vx = 0, vd = 0, vo = 0;
+  double r_e = 0, r_d = 0;
+};
+
+Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, const Held& h) {
+  Nodes n;
+  // Q1's base current from VBE alone (its reverse part is femtoamperes in the active region).
+  n.ib1 = d.jfet ? 0.0 : d.b.is_a * (std::exp(u / d.b.vt_v) - 1.0) / d.b.bf;
+  const double gt = s.rth() > 0 ? 1.0 / s.rth() : 0.0;
+  if (h.on) {
+    const double gs = 1.0 / h.rs;
+    n.vg = (s.vth() * gt + (h.vg0 + h.delta) * gs - n.ib1) / (gt + gs);
+  } else {
+    n.vg = s.vth() - n.ib1 * s.rth();
+  }
+  n.ve = n.vg - u;
+  n.vd = s.vcc - w;
+  n.i1 = d.jfet ? devices::jfet_eval(d.j, u, n.vd - n.ve).id_a : devices::bjt_eval(d.b, u, n.vg - n.vd).ic_a;
+  // Q2 mirrored into an NPN's frame: VBE -> VEB = w, VBC -> VCB = vo - vd. Its collector
+  // current is linear in vo through the Early term, so KCL at o gives vo directly.
+  const double ibe2 = d.b2.is_a * (std::exp(w / d.b2.vt_v) - 1.0);
+  const double inv_vaf = (d.b2.vaf_v > 0 && std::isfinite(d.b2.vaf_v)) ? 1.0 / d.b2.vaf_v : 0.0;
+  const double a = ibe2 * (1.0 + n.vd * inv_vaf), b = -ibe2 * inv_vaf;  // ic2 = a + b vo
+  double g = 1.0 / s.rc2 + 1.0 / s.rf, rhs = a + n.ve / s.rf;
+  if (h.on) {
+    g += 1.0 / h.rl;
+    rhs += h.vo0 / h.rl;
+  }
+  n.vo = rhs / (g - b);
+  const devices::BjtEval q2 = devices::bjt_eval(d.b2, w, n.vo - n.vd);
+  n.ic2 = q2.ic_a;
+  n.ib2 = q2.ib_a;
+  double leg;
+  if (h.on && s.bypassed()) {
+    n.vx = h.vx0;
+    leg = (n.ve - n.vx) / s.re1;
+  } else {
+    leg = n.ve / (s.re1 + s.re2);
+    n.vx = leg * s.re2;
+  }
+  n.r_e = n.i1 + n.ib1 - leg - (n.ve - n.vo) / s.rf;
+  n.r_d = w / s.r1 + n.ib2 - n.i1;
+  return n;
+}
+
+// Newton on (u, w) from (u0, w0); the Jacobian by differences (the residuals are cheap).
+bool solve_nodes(const PairParts& s, const PairDevices& d, const Held& h, double& u, double& w, Nodes& out) {
+  const double u_lo = d.jfet ? -d.j.vp_abs_v + 1e-4 : 0.05, u_hi = d.jfet ? 0.6 : 1.2;
+  for (int it = 0; it < 80; ++it) {
+    const Nodes n = nodes_at(s, d, u, w, h);
+    const double hs = 1e-7;
+    const Nodes nu = nodes_at(s, d, u + hs, w, h), nw = nodes_at(s, d, u, w + hs, h);
+    const double a = (nu.r_e - n.r_e) / hs, b = (nw.r_e - n.r_e) / hs;
+    const double c = (nu.r_d - n.r_d) / hs, e = (nw.r_d - n.r_d) / hs;
+    const double det = a * e - b * c;
+    if (!(std::abs(det) > 0) || !std::isfinite(det)) return false;
+    double du = (n.r_e * e - b * n.r_d) / det, dw = (a * n.r_d - c * n.r_e) / det;
+    const double k = std::max({std::abs(du) / 0.05, std::abs(dw) / 0.05, 1.0});
+    du /= k;
+    dw /= k;
+    u = std::clamp(u - du, u_lo, u_hi);
+    w = std::clamp(w - dw, 0.05, 1.2);
+    if (std::abs(du) < 1e-12 && std::abs(dw) < 1e-12) {
+      out = nodes_at(s, d, u, w, h);
+      return std::abs(out.r_e) < 1e-9 && std::abs(out.r_d) < 1e-9;
+    }
+  }
+  out = nodes_at(s, d, u, w, h);
+  return std::abs(out.r_e) < 1e-10 && std::abs(out.r_d) < 1e-10;
+}
+
+// Hybrid-pi parameters of a BJT at (vbe, vbc), in VBE and VCE: ic = gm vbe + go vce,
+// ib = gpi vbe + gbce vce (gbce: the base current's pull from the collector, which only a
+// collector junction near forward bias makes noticeable).
+void bjt_small_signal(const devices::BjtInstance& q, double vbe, double vbc, double& gm, double& gpi, double& go,
+                      double& gbce) {
+  const devices::BjtEval e = devices::bjt_eval(q, vbe, vbc);
+  gm = e.dic_dvbe + e.dic_dvbc;
+  go = -e.dic_dvbc;
+  gpi = e.dib_dvbe + e.dib_dvbc;
+  gbce = -e.dib_dvbc;
+}
+
+// The mid-band network on (g, e, d, o): conductances of every branch.
+struct PairSignal {
+  double gs = 0, gb = 0, gleg = 0, gf = 0, gr1 = 0, grc2 = 0, gl = 0;
+  double gm1 = 0, gpi1 = 0, go1 = 0, gm2 = 0, gpi2 = 0, go2 = 0, gbce1 = 0, gbce2 = 0;
+  double cpi1 = 0, cmu1 = 0, cpi2 = 0, cmu2 = 0, c_load = 0;
+};
+
+PairSignal pair_signal(const PairParts& s, const PairDevices& d, const PairBias& b, const Conditions& c) {
+  PairSignal m;
+  m.gs = 1.0 / (c.source_ohm > 0 ? c.source_ohm : 1e-3);
+  m.gb = 1.0 / s.rth();
+  m.gleg = 1.0 / (s.bypassed() ? s.re1 : s.re1 + s.re2);
+  m.gf = 1.0 / s.rf;
+  m.gr1 = 1.0 / s.r1;
+  m.grc2 = 1.0 / s.rc2;
+  m.gl = 1.0 / c.load_ohm;
+  m.gm1 = b.gm1;
+  m.gpi1 = b.gpi1;
+  m.go1 = b.go1;
+  m.gm2 = b.gm2;
+  m.gpi2 = b.gpi2;
+  m.go2 = b.go2;
+  m.gbce1 = b.gbce1;
+  m.gbce2 = b.gbce2;
+  if (d.jfet) {
+    m.cpi1 = cgs_at(d.j, b.u);
+    m.cmu1 = cgd_at(d.j, b.vg - b.vd);
+  } else {
+    m.cpi1 = cbe_at(d.b, b.u);
+    m.cmu1 = cbc_at(d.b, b.vg - b.vd);
+  }
+  m.cpi2 = cbe_at(d.b2, b.w);
+  m.cmu2 = cbc_at(d.b2, b.vo - b.vd);
+  m.c_load = c.load_farads;
+  return m;
+}
+
+// The network on (g, e, d, o) at s (0: mid-band, capacitances open); `load` false leaves the
+// load off (the output impedance).
+Eigen::Matrix4cd hf_matrix(const PairSignal& m, cd s, bool load = true) {
+  Eigen::Matrix4cd a;
+  const double gl = load ? m.gl : 0.0;
+  a << m.gs + m.gb + m.gpi1 + s * (m.cpi1 + m.cmu1), -(m.gpi1 + m.gbce1 + s * m.cpi1), m.gbce1 - s * m.cmu1, 0.0,
+      -(m.gpi1 + m.gm1 + s * m.cpi1), m.gpi1 + m.gm1 + m.go1 + m.gbce1 + m.gleg + m.gf + s * m.cpi1, -(m.go1 + m.gbce1),
+      -m.gf,  //
+      m.gm1 - s * m.cmu1, -(m.gm1 + m.go1), m.go1 + m.gr1 + m.gpi2 + s * (m.cpi2 + m.cmu2 + m.cmu1),
+      m.gbce2 - s * m.cmu2,  //
+      0.0, -m.gf, m.gm2 - s * m.cmu2, m.go2 + m.grc2 + gl + m.gf + s * (m.cmu2 + (load ? m.c_load : 0.0));
+  return a;
+}
+
+Eigen::Matrix4d mid_matrix(const PairSignal& m, bool load = true) { return hf_matrix(m, cd(0.0), load).real(); }
+
+enum { G, E, D, O };
+
+// Below mid-band: the network with CIN, the bypass and COUT (nodes in, g, e, x, d, o, out),
+// the device capacitances open. vout / vsig.
+cd lf_transfer(const PairSignal& m, const PairParts& p, cd s) {
+  using M7 = Eigen::Matrix<cd, 7, 7>;
+  using V7 = Eigen::Matrix<cd, 7, 1>;
+  enum { IN, g, e, x, d, o, out };
+  const cd ycin = s * p.cin, ycout = s * p.cout;
+  const double g1 = 1.0 / p.re1, g2 = p.re2 > 0 ? 1.0 / p.re2 : 1e9;
+  const cd yx = g1 + g2 + (p.re2 > 0 ? s * p.ce : cd(0.0));
+  M7 a = M7::Zero();
+  a(IN, IN) = m.gs + ycin;
+  a(IN, g) = -ycin;
+  a(g, IN) = -ycin;
+  a(g, g) = ycin + m.gb + m.gpi1;
+  a(g, e) = -(m.gpi1 + m.gbce1);
+  a(g, d) = m.gbce1;
+  a(e, g) = -(m.gpi1 + m.gm1);
+  a(e, e) = m.gpi1 + m.gm1 + m.go1 + m.gbce1 + g1 + m.gf;
+  a(e, x) = -g1;
+  a(e, d) = -(m.go1 + m.gbce1);
+  a(e, o) = -m.gf;
+  a(x, e) = -g1;
+  a(x, x) = yx;
+  a(d, g) = m.gm1;
+  a(d, e) = -(m.gm1 + m.go1);
+  a(d, d) = m.go1 + m.gr1 + m.gpi2;
+  a(d, o) = m.gbce2;
+  a(o, e) = -m.gf;
+  a(o, d) = m.gm2;
+  a(o, o) = m.go2 + m.grc2 + m.gf + ycout;
+  a(o, out) = -ycout;
+  a(out, o) = -ycout;
+  a(out, out) = ycout + m.gl;
+  V7 rhs = V7::Zero();
+  rhs(IN) = m.gs;
+  return a.partialPivLu().solve(rhs)(out);
+}
+
+cd hf_transfer(const PairSignal& m, double w) {
+  Eigen::Vector4cd rhs(m.gs, 0.0, 0.0, 0.0);
+  return hf_matrix(m, cd(0.0, w)).partialPivLu().solve(rhs)(O);
+}
+
+// The angular frequency where a low-pass response falls 3 dB: below3db(w) true above it.
+template <class Below>
+double hf_crossing_hz(Below below3db, double lo, double hi) {
+  for (int i = 0; i < 40 && below3db(lo); ++i) lo *= 0.25;
+  for (int i = 0; i < 40 && !below3db(hi); ++i) hi *= 4.0;
+  if (!below3db(hi)) return 0.0;
+  for (int i = 0; i < 40; ++i) {
+    const double mid = std::sqrt(lo * hi);
+    (below3db(mid) ? hi : lo) = mid;
+  }
+  return std::sqrt(lo * hi) / (2 * std::numbers::pi);
+}
+
+// The output excursions each device allows, from the mid-band solution x (per volt of the
+// source) extended in a straight line: a quantity q0 + k * source, held at or above its limit
+// (margin = q0 - limit), limits the side of the output it falls on.
+void set_swing(Performance& p, const PairBias& b, const PairDevices& d, const PairParts& s, const Eigen::Vector4d& x) {
+  double up = std::numeric_limits<double>::infinity(), down = up;
+  const double xo = x(O);
+  auto limit = [&](double margin, double k) {
+    const double per_out = k / xo;  // the quantity's change per volt of output
+    margin = std::max(margin, 0.0);
+    if (per_out < 0) up = std::min(up, margin / -per_out);
+    if (per_out > 0) down = std::min(down, margin / per_out);
+  };
+  limit(s.vcc - b.vo - d.b2.vce_sat_v, -xo);                   // Q2 saturates
+  limit(b.ic2, -(b.gm2 * x(D) + b.go2 * xo));                  // Q2 cuts off
+  limit(b.i1, b.gm1 * (x(G) - x(E)) + b.go1 * (x(D) - x(E)));  // Q1 cuts off
+  if (d.jfet) {
+    limit(b.vd - b.ve - (b.u + d.j.vp_abs_v), x(D) - x(G));  // Q1 reaches its triode edge
+    limit(-b.u, -(x(G) - x(E)));                             // Q1's gate conducts
+  } else {
+    limit(b.vd - b.ve - d.b.vce_sat_v, x(D) - x(E));  // Q1 saturates
+  }
+  p.swing_up_v = up;
+  p.swing_down_v = down;
+  p.swing_peak_v = std::min(up, down);
+}
+
+// Input-referred noise density: each source's current into the mid-band network, its share at
+// the output summed in power, over the gain.
+double input_noise(const PairSignal& m, const PairBias& b, const PairParts& s, const PairDevices& d,
+                   const Conditions& c, double gain) {
+  const Eigen::PartialPivLU<Eigen::Matrix4d> lu(mid_matrix(m));
+  const double kt4 = thermal_v2(1.0, c.celsius), q2 = 2.0 * devices::kCharge;
+  constexpr int GND = -1;
+  auto out = [&](int from, int to) {  // |vo| per ampere driven from `from` into `to`
+    Eigen::Vector4d rhs = Eigen::Vector4d::Zero();
+    if (from != GND) rhs(from) -= 1.0;
+    if (to != GND) rhs(to) += 1.0;
+    return lu.solve(rhs)(O);
+  };
+  auto add = [](double& sum, double psd, double z) { sum += psd * z * z; };
+  double v2 = 0;
+  add(v2, kt4 * m.gs, out(GND, G));
+  add(v2, kt4 * m.gb, out(GND, G));
+  add(v2, kt4 * m.gleg, out(GND, E));
+  add(v2, kt4 * m.gf, out(O, E));
+  add(v2, kt4 * m.gr1, out(GND, D));
+  add(v2, kt4 * (m.grc2 + m.gl), out(GND, O));
+  if (d.jfet) {
+    add(v2, (2.0 / 3.0) * kt4 * b.gm1, out(D, E));  // channel: 8kT gm / 3
+  } else {
+    add(v2, q2 * b.i1, out(D, E));
+    add(v2, q2 * b.ib1, out(G, E));
+  }
+  add(v2, q2 * b.ic2, out(O, GND));
+  add(v2, q2 * b.ib2, out(D, GND));
+  (void)s;
+  return std::sqrt(v2) / std::abs(gain);
+}
+
+// The static transfer at mid-band: the output's deviation for source deviations at eight
+// Chebyshev nodes over +/- a, the degree-7 interpolating polynomial's coefficients.
+Transfer static_transfer(const PairParts& s, const PairDevices& d, const PairBias& b, const Conditions& c, double a) {
+  Transfer t;
+  if (!(a > 0)) return t;
+  constexpr int n = Transfer::kOrder + 1;
+  Eigen::Matrix<double, n, n> vander;
+  Eigen::Matrix<double, n, 1> y;
+  Held h;
+  h.on = true;
+  h.rs = c.source_ohm > 0 ? c.source_ohm : 1e-3;
+  h.vg0 = b.vg;
+  h.vx0 = b.vx;
+  h.vo0 = b.vo;
+  h.rl = c.load_ohm;
+  for (int k = 0; k < n; ++k) {
+    const double tk = std::cos(std::numbers::pi * (2 * k + 1) / (2.0 * n));
+    h.delta = a * tk;
+    double u = b.u, w = b.w;
+    Nodes nd;
+    if (!solve_nodes(s, d, h, u, w, nd)) return {};
+    y(k) = nd.vo - b.vo;
+    double pw = 1.0;
+    for (int j = 0; j < n; ++j, pw *= tk) vander(k, j) = pw;
+  }
+  const Eigen::Matrix<double, n, 1> coef = vander.partialPivLu().solve(y);
+  double an = 1.0;
+  for (int j = 0; j < n; ++j, an *= a) t.o[static_cast<std::size_t>(j)] = j == 0 ? 0.0 : coef(j) / an;
+  return t;
+}
+
+}  // namespace
+
+PairBias pair_bias(const PairParts& s, const PairDevices& d) {
+  PairBias b;
+  // A start near the answer: Q2's VEB at a milliampere, Q1 carrying what R1 then takes.
+  double w = d.b2.vt_v * std::log(1e-3 / d.b2.is_a);
+  const double i1 = w / s.r1;
+  double u =
+      d.jfet ? devices::jfet_vgs_for_current(d.j, std::min(i1, 0.9 * d.j.idss_a)) : d.b.vt_v * std::log(i1 / d.b.is_a);
+  Nodes n;
+  if (!solve_nodes(s, d, Held{}, u, w, n)) return b;
+  b.solved = true;
+  b.u = u;
+  b.w = w;
+  b.i1 = n.i1;
+  b.ib1 = n.ib1;
+  b.ic2 = n.ic2;
+  b.ib2 = n.ib2;
+  b.vg = n.vg;
+  b.ve = n.ve;
+  b.vx = n.vx;
+  b.vd = n.vd;
+  b.vo = n.vo;
+  if (d.jfet) {
+    const devices::JfetEval e = devices::jfet_eval(d.j, u, n.vd - n.ve);
+    b.gm1 = e.gm_s;
+    b.go1 = e.gds_s;
+  } else {
+    bjt_small_signal(d.b, u, n.vg - n.vd, b.gm1, b.gpi1, b.go1, b.gbce1);
+  }
+  bjt_small_signal(d.b2, w, n.vo - n.vd, b.gm2, b.gpi2, b.go2, b.gbce2);
+  return b;
+}
+
+Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Conditions& c, Detail detail, PairBias& b) {
+  Performance p;
+  b = pair_bias(s, d);
+  if (!b.solved || !(b.i1 > 1e-9) || !(b.ic2 > 1e-9)) {
+    p.problem = b.solved ? "cut off: the feedback finds no point where both devices conduct"
+                         : "no operating point: the feedback pair does not settle";
+    return p;
+  }
+  p.valid = true;
+  p.bias_current_a = b.i1;
+  p.v_in = b.vg;
+  p.v_common = b.ve;
+  p.v_out = b.vd;
+  p.v_out2 = b.vo;
+  p.q2_current_a = b.ic2;
+  p.q2_v_main = s.vcc - b.vo;
+  p.supply_current_a = (s.vcc - b.vd) / s.r1 + b.ic2 + b.ib2 + (s.top > 0 ? (s.vcc - b.vg) / s.top : 0.0);
+  const double vmain1 = b.vd - b.ve;
+  if (d.jfet) {
+    const double edge = b.u + d.j.vp_abs_v;
+    if (vmain1 < edge) p.problem = fmt::format("Q1 in the triode region: VDS {:.2f} V < VGS-VP {:.2f} V", vmain1, edge);
+    if (b.u > 0.0) p.problem = fmt::format("Q1's gate conducts: VGS {:+.2f} V", b.u);
+  } else if (vmain1 <= d.b.vce_sat_v) {
+    p.problem = fmt::format("Q1 saturated: VCE {:.2f} V", vmain1);
+  }
+  if (p.problem.empty() && s.vcc - b.vo <= d.b2.vce_sat_v)
+    p.problem = fmt::format("Q2 saturated: VCE {:.2f} V", s.vcc - b.vo);
+  p.active = p.problem.empty();
+
+  const PairSignal m = pair_signal(s, d, b, c);
+  const Eigen::Matrix4d a = mid_matrix(m);
+  const Eigen::Vector4d x = a.partialPivLu().solve(Eigen::Vector4d(m.gs, 0.0, 0.0, 0.0));
+  p.gain = x(O);
+  p.zin_ohm = x(G) / ((1.0 - x(G)) * m.gs);
+  p.zout_ohm = mid_matrix(m, false).partialPivLu().solve(Eigen::Vector4d(0.0, 0.0, 0.0, 1.0))(O);
+  // The input capacitance: Cgd (Cmu) whole, Cgs (Cpi) bootstrapped by the common terminal.
+  p.c_in_f = m.cmu1 + m.cpi1 * std::max(0.0, 1.0 - x(E) / x(G));
+  set_swing(p, b, d, s, x);
+
+  const double mid = std::abs(p.gain);
+  auto lf_below = [&](double w) { return std::abs(lf_transfer(m, s, cd(0.0, w))) < mid / std::sqrt(2.0); };
+  auto hf_below = [&](double w) { return std::abs(hf_transfer(m, w)) < mid / std::sqrt(2.0); };
+  if (detail == Detail::full) {
+    const double p_in = 1.0 / (s.cin * (1.0 / m.gs + p.zin_ohm)), p_out = 1.0 / (s.cout * (c.load_ohm + p.zout_ohm));
+    const double p_e = s.bypassed() ? 1.0 / (s.ce * par(s.re1, s.re2)) : 0.0;
+    p.f_low_hz = lf_crossing_hz(lf_below, 0.25 * std::max({p_in, p_out, p_e}), 4.0 * (p_in + p_out + p_e));
+    p.f_high_hz = hf_crossing_hz(hf_below, 1e3, 1e7);
+  }
+  if (c.band_lo_hz > 0)
+    p.loss_lo_db = std::max(
+        0.0, -20.0 * std::log10(std::abs(lf_transfer(m, s, cd(0.0, 2 * std::numbers::pi * c.band_lo_hz))) / mid));
+  if (c.band_hi_hz > 0)
+    p.loss_hi_db =
+        std::max(0.0, -20.0 * std::log10(std::abs(hf_transfer(m, 2 * std::numbers::pi * c.band_hi_hz)) / mid));
+
+  finish_distortion(p, c, [&] { return static_transfer(s, d, b, c, 0.75 * p.swing_peak_v / mid); });
+  if (detail != Detail::core) {
+    p.noise_v_rthz = input_noise(m, b, s, d, c, p.gain);
+    auto res = [&](std::size_t role, double r, double v) {
+      if (r > 0) p.stress.push_back(res_stress(role, v * v / r));
+    };
+    res(kTop, s.top, s.vcc - b.vg);
+    res(kBottom, s.bottom, b.vg);
+    res(kR1, s.r1, s.vcc - b.vd);
+    res(kRC2, s.rc2, b.vo);
+    res(kRF, s.rf, b.vo - b.ve);
+    res(kLeg1, s.re1, b.ve - b.vx);
+    res(kLeg2, s.re2, b.vx);
+    if (s.bypassed()) p.stress.push_back(cap_stress(kBypass, b.vx));
+    p.stress.push_back(cap_stress(kCin, b.vg));
+    p.stress.push_back(cap_stress(kCout, b.vo));
+  }
+  return p;
+}
+
+Values pair_capacitors(const Values& v, const Conditions& c, double f) {
+  Values t = v;
+  const double rth = v[kTop] > 0 ? par(v[kTop], v[kBottom]) : v[kBottom];
+  t[kCin] = cap_for(c.source_ohm + rth, f / 6);
+  t[kCout] = cap_for(c.load_ohm, f / 6);
+  // The closed-loop gain follows 1 + RF / (RE1 + RE2 || ZCE): it shelves down where ZCE
+  // reaches RE1 || RE2, so the bypass's corner goes there.
+  t[kBypass] = v[kLeg2] > 0 ? cap_for(par(v[kLeg1], v[kLeg2]), f / 4) : 0.0;
+  return t;
+}
+
+double nearest_one(const ValueSource& shelf, double target) {
+  std::vector<double> found;
+  shelf.nearest(target, 1, found);
+  return found.empty() ? 0.0 : found.front();
+}
+
+void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const Conditions& c, double i1, double ve,
+                        double vo, double veb2, const std::function<void(const Values&)>& emit) {
+  if (!(i1 > 0) || !(ve > 0) || !(vo > ve + 0.5) || vo > c.supply_v - 0.5) return;
+  // The ratio RF / RE1 sets the gain and RE1 + RE2 the DC: those get every near value the
+  // shelf offers; Q1's and Q2's currents take the nearest one.
+  std::vector<double> r1s, rc2s, rfs;
+  r1s.push_back(nearest_one(shelf, veb2 / i1));
+  for (double ic2 : {1e-3, 3e-3, 10e-3}) {
+    if (g.max_current_a > 0 && ic2 + 1.2 * i1 > g.max_current_a) continue;
+    // Q2's current into RC2 and the load must carry the swing down.
+    if (g.swing_peak_v > 0 && ic2 * par(vo / ic2, c.load_ohm) < 1.2 * g.swing_peak_v) continue;
+    rc2s.push_back(nearest_one(shelf, vo / ic2));
+  }
+  unique_values(rc2s);
+  std::erase(r1s, 0.0);
+  std::erase(rc2s, 0.0);
+  // RF carrying a tenth, a third, or all of Q1's current: the larger RF, the larger RE1 and
+  // the smaller the bypass capacitor; the smaller, the lower the output's noise and the DC
+  // gain that moves the operating point.
+  for (double k : {0.1, 0.3, 1.0}) shelf.nearest((vo - ve) / (k * i1), 2, rfs);
+  unique_values(rfs);
+  for (double rf : rfs) {
+    const double re_total = ve / (i1 + (vo - ve) / rf);
+    // RE1 for the ratio, and for a ratio a little above it: the finite loop gain takes
+    // 1/(1 + T) of it back, and T (5 to 50 here) is not known before the evaluation.
+    std::vector<double> re1s;
+    for (double over : {1.0, 1.05, 1.12})
+      if (g.breadth >= 1.0 || over != 1.05) shelf.nearest(rf / (over * g.gain - 1.0), 1, re1s);
+    unique_values(re1s);
+    for (double re1 : re1s) {
+      std::vector<std::pair<double, double>> legs;
+      if (re_total > 0.8 * re1 && re_total < 1.25 * re1) legs.emplace_back(re1, 0.0);
+      if (re_total >= 1.25 * re1) {
+        std::vector<double> re2s;
+        shelf.nearest(re_total - re1, 1, re2s);
+        for (double re2 : re2s) legs.emplace_back(re1, re2);
+      }
+      for (auto [a, b] : legs)
+        for (double r1 : r1s)
+          for (double rc2 : rc2s) {
+            v[kR1] = r1;
+            v[kRC2] = rc2;
+            v[kRF] = rf;
+            v[kLeg1] = a;
+            v[kLeg2] = b;
+            emit(v);
+          }
+    }
+  }
+}
+
+namespace {
+
+// Every value available: the design equations' own targets.
+class IdealValues final : public ValueSource {
+ public:
+  void nearest(double target, std::size_t n, std::vector<double>& out) const override {
+    if (n > 0 && target > 0 && std::isfinite(target)) out.push_back(target);
+  }
+  void spread(double lo, double hi, std::size_t max_n, std::vector<double>& out) const override {
+    if (!(lo > 0) || !(hi >= lo) || max_n == 0) return;
+    for (std::size_t i = 0; i < max_n; ++i)
+      out.push_back(max_n == 1 ? lo : lo * std::pow(hi / lo, static_cast<double>(i) / static_cast<double>(max_n - 1)));
+  }
+};
+
+}  // namespace
+
+Values pair_reference(const Topology& t, const Transistor& q, const Conditions& c, const ReferenceKnobs& k) {
+  Goal g;
+  g.gain = 3.0 * std::pow(10.0, std::clamp(k.degeneration, 0.0, 1.0));
+  g.f_low_hz = 6.0 * k.f_corner_hz;
+  Values best;
+  double best_err = std::numeric_limits<double>::infinity();
+  t.propose(g, q, c, IdealValues{}, [&](const Values& proposal) {
+    const Values v = pair_capacitors(proposal, c, g.f_low_hz);
+    const Performance p = t.evaluate(v, q, c, Detail::core);
+    if (!p.active) return;
+    const double err = std::abs(std::log(std::abs(p.gain) / g.gain));
+    if (err < best_err) {
+      best_err = err;
+      best = v;
+    }
+  });
+  return best;
+}
+
+// ---------------------------------------------------------------------------------------
+// What both pair topologies share as a Topology.
+
+namespace {
+constexpr InnerNet kPairInner[] = {{"x", "leg junction", 4, {}}, {"collector2", "Q2 collector", 1, {}, 3.5}};
+}
+
+std::span<const InnerNet> FeedbackPair::inner_nets() const { return kPairInner; }
+
+LoadLine FeedbackPair::load_line(const Values& v, const Conditions&) const {
+  // Q1's own lines: R1 to the rail, Q2's base across it (its input resistance is far above
+  // R1's at the currents the pair runs), the common leg.
+  LoadLine l;
+  l.r_dc_ohm = v[kR1];
+  l.r_ac_ohm = v[kR1];
+  l.r_common_ohm = v[kLeg1] + v[kLeg2];
+  l.r_unbypassed_ohm = v[kLeg1] + (v[kBypass] > 0 ? 0.0 : v[kLeg2]);
+  return l;
+}
+
+Values FeedbackPair::capacitor_targets(const Values& v, const Transistor&, const Conditions& c, double f) const {
+  return pair_capacitors(v, c, f);
+}
+
+circuit::Circuit FeedbackPair::wire(const Values& v, const Transistor& q, const Conditions& c) const {
+  if (!q.paired) throw InputError(fmt::format("{}: no second transistor (Q2) given", name()));
+  auto net = bench(c);
+  const auto r = roles_;
+  const std::string pin(nodes_[0]), common(nodes_[1]), main(nodes_[2]);
+  add_role(net, r, v, kCin, pin, "in");
+  add_role(net, r, v, kTop, "vdd", pin);
+  add_role(net, r, v, kBottom, pin, "0");
+  add_role(net, r, v, kR1, "vdd", main);
+  if (devices::is_jfet(q.kind))
+    net.jfet("Q1", main, pin, common, q.jfet);
+  else
+    net.bjt("Q1", main, pin, common, q.bjt);
+  // Q2: base on Q1's main terminal, emitter on the rail (the complementary device).
+  net.bjt("Q2", "collector2", main, "vdd", q.bjt2);
+  add_role(net, r, v, kRC2, "collector2", "0");
+  add_role(net, r, v, kRF, "collector2", common);
+  add_role(net, r, v, kLeg1, common, v[kLeg2] > 0 ? "x" : "0");
+  add_role(net, r, v, kLeg2, "x", "0");
+  if (v[kLeg2] > 0) add_role(net, r, v, kBypass, "x", "0");
+  add_role(net, r, v, kCout, "collector2", "out");
+  return net;
+}
+
+Performance FeedbackPair::evaluate_n(const Values& v, const Transistor& q, const Conditions& c, Detail d) const {
+  PairBias b;
+  if (!q.paired) {
+    Performance p;
+    p.problem = "a feedback pair needs its second transistor";
+    return p;
+  }
+  return pair_evaluate(pair_parts(v, c.supply_v), pair_devices(q), c, d, b);
+}
+
+}  // namespace shelfstage::stages::detail
