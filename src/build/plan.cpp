@@ -80,16 +80,17 @@ struct Need {
   std::string dielectric;
 };
 
-/// The transistor: every line holding its device type, in bin order.
-Need transistor_need(const synth::Candidate& c, const std::vector<store::Part>& stock, const std::string& designator) {
+/// A transistor: every line holding its device type, in bin order.
+Need transistor_need(const devices::DeviceRecord& device, const std::vector<store::Part>& stock,
+                     const std::string& designator) {
   Need q;
   q.role = "Q";
   q.base = designator;
-  q.kind = store::part_kind(c.device.kind);
-  q.device = c.device.name;
+  q.kind = store::part_kind(device.kind);
+  q.device = device.name;
   std::vector<const store::Part*> holders;
   for (const auto& p : stock)
-    if (!store::is_passive(p.kind) && !p.removed && iequal(p.device, c.device.name)) holders.push_back(&p);
+    if (!store::is_passive(p.kind) && !p.removed && iequal(p.device, device.name)) holders.push_back(&p);
   std::stable_sort(holders.begin(), holders.end(),
                    [](const store::Part* a, const store::Part* b) { return bin_less(a->bin, b->bin); });
   for (const auto* p : holders) q.lines.push_back(p->id);
@@ -97,12 +98,12 @@ Need transistor_need(const synth::Candidate& c, const std::vector<store::Part>& 
 }
 
 std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::Part>& stock,
-                           const std::string& q_designator = "Q1") {
+                           std::size_t chain_stage = std::string::npos) {
   std::vector<Need> out;
   if (c.is_chain()) {
     // Stage by stage, each with its own transistor (Q101, Q201 ...).
     for (std::size_t k = 0; k < c.stages.size(); ++k)
-      for (auto& n : needs_of(c.stages[k], stock, stages::chain_designator(k, "Q1"))) out.push_back(std::move(n));
+      for (auto& n : needs_of(c.stages[k], stock, k)) out.push_back(std::move(n));
     return out;
   }
   for (const auto& rp : c.parts) {
@@ -122,7 +123,12 @@ std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::P
       out.push_back(std::move(need));
     }
   }
-  out.push_back(transistor_need(c, stock, q_designator));
+  // One line per device: Q1, and a pair's Q2 (Q101, Q102 ... in a chain).
+  auto designator = [&](std::string_view q) {
+    return chain_stage == std::string::npos ? std::string(q) : stages::chain_designator(chain_stage, q);
+  };
+  out.push_back(transistor_need(c.device, stock, designator("Q1")));
+  if (c.device2) out.push_back(transistor_need(*c.device2, stock, designator("Q2")));
   return out;
 }
 

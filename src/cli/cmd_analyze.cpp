@@ -27,6 +27,7 @@ using units::Unit;
 struct AnalyzeOptions {
   std::string topology;
   std::string device;
+  std::optional<std::string> device2;  ///< a pair's Q2
   std::string supply, load;
   std::string source_z = "0";
   std::vector<std::string> parts;    ///< ROLE=VALUE
@@ -204,6 +205,25 @@ devices::DeviceSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::
     s.transistor.jfet = spread.jfet(spread.nominal(), s.conditions.celsius);
   else
     s.transistor.bjt = spread.bjt(spread.nominal(), s.conditions.celsius);
+  // A pair's Q2: its nominal piece (the corners listed are Q1's).
+  if (t.second_device() == stages::SecondDevice::none) {
+    if (o.device2)
+      throw InputError(
+          fmt::format("--device2 '{}': {} has one transistor (Q2 belongs to a feedback pair)", *o.device2, t.name()));
+  } else {
+    if (!o.device2)
+      throw InputError(fmt::format("--device2 is missing: {} takes a second, bipolar transistor (Q2)", t.name()));
+    const devices::DeviceRecord second = device_named(db, *o.device2);
+    if (!t.accepts_second(record.kind, second.kind))
+      throw InputError(fmt::format(
+          "--device2 '{}' ({}) does not fit {} beside {} ({}): Q2 is bipolar, of the "
+          "other polarity",
+          *o.device2, devices::kind_name(second.kind), t.name(), record.name, devices::kind_name(record.kind)));
+    const devices::DeviceSpread s2(second);
+    s.transistor.paired = true;
+    s.transistor.bjt2 = s2.bjt(s2.nominal(), s.conditions.celsius);
+    s.device += "+" + second.name;
+  }
   return spread;
 }
 
@@ -270,6 +290,9 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
       "analyze", "The full analysis of a stage given part by part (a board already built, or one on paper)");
   cmd->add_option("TOPOLOGY", o->topology, "One of: " + stages::topology_names())->type_name("")->required();
   cmd->add_option("--device", o->device, "Transistor type from the device list")->type_name("NAME")->required();
+  cmd->add_option("--device2", o->device2,
+                  "A feedback pair's second transistor (Q2): a bipolar type of the other polarity")
+      ->type_name("NAME");
   cmd->add_option("--supply", o->supply, "Supply voltage: 9 for a positive rail, -9 for a negative one")
       ->type_name("V")
       ->required();

@@ -178,8 +178,8 @@ void run_show(const ShowOptions& o, Context& ctx) {
   }
 
   const report::StageUnderTest stage = report::stage_under_test(c);
-  const devices::DeviceSpread spread = synth::spread_of(c);
-  const report::Analysis a = report::analyze_stage(stage, &spread);
+  const synth::StageSpread spread = synth::spread_of(c);
+  const report::Analysis a = report::analyze_stage(stage, &spread.first());
   if (o.spice) write_spice(*o.spice, stage);
 
   // The kept design's cautions, and the hazard caution of the analysis when the design's

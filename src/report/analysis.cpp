@@ -400,8 +400,8 @@ std::vector<CornerFigures> corner_figures(const StageUnderTest& stage, const dev
   const auto& c = stage.conditions;
   std::vector<CornerFigures> out;
   for (const auto& f : spread.corners()) {
-    stages::Transistor qc;
-    qc.kind = stage.transistor.kind;
+    // A pair's Q2 stays the stage's own piece: these are Q1's corners.
+    stages::Transistor qc = stage.transistor;
     if (devices::is_jfet(qc.kind))
       qc.jfet = spread.jfet(f, c.celsius);
     else

@@ -139,7 +139,7 @@ std::vector<double> response_frequencies(const synth::Candidate& c, const synth:
 // The nominal sweep and one per device corner into r.
 void sweep_corners(const synth::Candidate& c, const synth::Spec& spec, Response& r) {
   const double celsius = spec.temp_nominal_c();
-  const devices::DeviceSpread spread = synth::spread_of(c);
+  const synth::StageSpread spread = synth::spread_of(c);
   // A stage: its corner pieces. A chain: each stage's corner pieces in turn, the other
   // stages at their nominal pieces.
   std::vector<stages::ChainStage> list = synth::chain_stages(c);
@@ -150,7 +150,7 @@ void sweep_corners(const synth::Candidate& c, const synth::Spec& spec, Response&
       return stages::chain_netlist(list, c.conditions);
     };
   };
-  std::vector<std::pair<std::size_t, devices::DeviceSpread>> spreads;
+  std::vector<std::pair<std::size_t, synth::StageSpread>> spreads;
   if (c.is_chain())
     for (std::size_t k = 0; k < c.stages.size(); ++k) spreads.emplace_back(k, synth::spread_of(c.stages[k]));
   else
@@ -261,7 +261,7 @@ namespace {
 struct BiasSetup {
   const synth::Candidate& c;
   const synth::Spec& spec;
-  const devices::DeviceSpread& spread;
+  const synth::StageSpread& spread;
   const stages::Transistor& q0;
   double celsius;
 };
@@ -320,7 +320,8 @@ void safe_region(const BiasSetup& s, BiasSpread& b) {
   const bool jfet = devices::is_jfet(q0.kind);
   double beta_min = jfet ? q0.jfet.beta() : 0;
   if (jfet)
-    for (const auto& f : s.spread.corners()) beta_min = std::min(beta_min, s.spread.jfet(f, s.celsius).beta());
+    for (const auto& f : s.spread.corners())
+      beta_min = std::min(beta_min, s.spread.first().jfet(f.first, s.celsius).beta());
   auto knee = [&](double i) { return jfet ? std::sqrt(i / beta_min) : q0.bjt.vce_sat_v; };
   const double r_ac = b.line.r_ac_ohm;
   const double r_unbypassed = b.line.r_unbypassed_ohm;
@@ -365,7 +366,7 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
   if (samples < 0 || samples > 100000)
     throw InputError(fmt::format("bias samples {} must be from 0 to 100000", samples));
   const auto& t = *c.topology;
-  const devices::DeviceSpread spread = synth::spread_of(c);
+  const synth::StageSpread spread = synth::spread_of(c);
   const double celsius = spec.temp_nominal_c();
   const stages::Transistor q0 = synth::make_transistor(spread, spread.nominal(), celsius);
   BiasSpread b;
@@ -385,7 +386,7 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
 
 Transfer transfer_curve(const synth::Candidate& c, const synth::Spec& spec) {
   const auto& t = *c.topology;
-  const devices::DeviceSpread spread = synth::spread_of(c);
+  const synth::StageSpread spread = synth::spread_of(c);
   const double celsius = spec.temp_nominal_c();
   const stages::Transistor q = synth::make_transistor(spread, spread.nominal(), celsius);
   const circuit::Circuit net = t.netlist(c.values, q, c.conditions);

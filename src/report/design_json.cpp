@@ -141,6 +141,8 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
 namespace {
 
 // The device: its name, kind and nominal model parameters.
+Json bjt_model_json(const devices::BjtInstance& b) { return {{"is", b.is_a}, {"bf", b.bf}, {"vaf", b.vaf_v}}; }
+
 Json device_json(const synth::Candidate& c) {
   Json dev;
   // Names as clean text (a database from before text was checked may hold others): valid JSON
@@ -153,12 +155,18 @@ Json device_json(const synth::Candidate& c) {
     model["vp"] = devices::polarity(c.device.kind) * -c.nominal_device.jfet.vp_abs_v;
     model["lambda"] = c.nominal_device.jfet.lambda_per_v;
   } else {
-    model["is"] = c.nominal_device.bjt.is_a;
-    model["bf"] = c.nominal_device.bjt.bf;
-    model["vaf"] = c.nominal_device.bjt.vaf_v;
+    model = bjt_model_json(c.nominal_device.bjt);
   }
   dev["model"] = model;
   return dev;
+}
+
+// A pair's second device, Q2 (null for a stage of one device).
+Json device2_json(const synth::Candidate& c) {
+  if (!c.device2) return nullptr;
+  return {{"name", units::escape_text(c.device2->name)},
+          {"kind", std::string(devices::kind_name(c.device2->kind))},
+          {"model", bjt_model_json(c.nominal_device.bjt2)}};
 }
 
 // One part of the build: value, recipe, bounds, rating, and for a capacitor its DC across.
@@ -257,6 +265,21 @@ Json transistor_json(const synth::Candidate& c) {
           {"rated", r.any()}};
 }
 
+// A pair's Q2 the same way (no reverse figure: its base-emitter junction is never reversed).
+Json transistor2_json(const synth::Candidate& c) {
+  if (!c.device2) return nullptr;
+  const auto& w = c.worst;
+  const auto& r = c.device2->ratings;
+  return {{"designator", "Q2"},
+          {"v_main", range(w.device2_v)},
+          {"v_max", number_or_null(r.v_max_v)},
+          {"power", range(w.device2_p)},
+          {"p_max", number_or_null(r.p_max_w)},
+          {"voltage_share", synth::kDeviceVoltageShare},
+          {"power_share", synth::kDevicePowerShare},
+          {"rated", r.any()}};
+}
+
 // A feedback stage's loop gain (null for a stage without a loop, and for a chain, whose
 // stages carry their own): at nominal, and its ranges over the corners.
 Json loop_json(const synth::Candidate& c) {
@@ -307,6 +330,7 @@ Json candidate_json(const synth::Candidate& c) {
   j["topology"] = c.is_chain() ? std::string("chain") : std::string(c.topology->name());
   j["score"] = c.score;
   j["device"] = device_json(c);
+  j["device2"] = device2_json(c);
   j["piece"] = c.piece ? Json(units::escape_text(c.piece->label)) : Json(nullptr);
   // Which pieces the worst case covers: "correlated", "box" or "measured".
   j["spread"] = c.piece ? std::string("measured") : std::string(devices::spread_model_name(c.spread_model));
@@ -315,7 +339,10 @@ Json candidate_json(const synth::Candidate& c) {
   j["parts"] = parts;
   j["nominal"] = nominal_json(c);
   j["worst"] = worst_json(c);
-  if (!c.is_chain()) j["transistor"] = transistor_json(c);
+  if (!c.is_chain()) {
+    j["transistor"] = transistor_json(c);
+    j["transistor2"] = transistor2_json(c);
+  }
   j["yield"] = c.yield ? Json(*c.yield) : Json(nullptr);
   j["pieces"] = c.pieces;
   j["error_nominal"] = c.error_nominal;
@@ -332,10 +359,12 @@ Json candidate_json(const synth::Candidate& c) {
 std::vector<std::string> candidate_devices(const nlohmann::json& j) {
   std::vector<std::string> names;
   auto take = [&](const nlohmann::json& c) {
-    if (!c.is_object() || !c.contains("device") || !c["device"].is_object()) return;
-    const auto& name = c["device"].value("name", nlohmann::json());
-    if (name.is_string() && std::find(names.begin(), names.end(), name.get<std::string>()) == names.end())
-      names.push_back(name.get<std::string>());
+    for (const char* key : {"device", "device2"}) {
+      if (!c.is_object() || !c.contains(key) || !c[key].is_object()) continue;
+      const auto& name = c[key].value("name", nlohmann::json());
+      if (name.is_string() && std::find(names.begin(), names.end(), name.get<std::string>()) == names.end())
+        names.push_back(name.get<std::string>());
+    }
   };
   take(j);
   if (j.is_object() && j.contains("stages") && j["stages"].is_array())
@@ -382,6 +411,14 @@ void read_device(const nlohmann::json& j, const std::vector<devices::DeviceRecor
       std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev; });
   if (it == devs.end()) throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev));
   c.device = *it;
+  if (j.contains("device2") && j["device2"].is_object()) {
+    const std::string dev2 = j["device2"].at("name").get<std::string>();
+    const auto it2 =
+        std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev2; });
+    if (it2 == devs.end())
+      throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev2));
+    c.device2 = *it2;
+  }
   if (j.contains("spread") && j["spread"].is_string()) {
     devices::SpreadModel m;
     if (devices::parse_spread_model(j["spread"].get<std::string>(), m)) c.spread_model = m;

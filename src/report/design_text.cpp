@@ -92,7 +92,8 @@ std::string recipe_line(const synth::Candidate& c) {
 }
 
 std::string device_text(const synth::Candidate& c) {
-  if (!c.is_chain()) return c.device.name + (c.piece ? " [" + c.piece->label + "]" : "");
+  if (!c.is_chain())
+    return c.device.name + (c.piece ? " [" + c.piece->label + "]" : "") + (c.device2 ? "+" + c.device2->name : "");
   std::string out;
   for (const auto& s : c.stages) out += (out.empty() ? "" : " > ") + device_text(s);
   return out;

@@ -719,8 +719,8 @@ std::string html_report(const ReportInput& in) {
   const auto& c = in.candidate;
   if (c.is_chain()) return chain_html_report(in);
   if (!c.topology) throw InputError("report: the design has no topology");
-  const devices::DeviceSpread spread = synth::spread_of(c);
-  const Analysis a = analyze_stage(stage_under_test(c), &spread);
+  const synth::StageSpread spread = synth::spread_of(c);
+  const Analysis a = analyze_stage(stage_under_test(c), &spread.first());
   const Response r = frequency_response(c, in.spec);
   const BiasSpread b = bias_spread(c, in.spec, in.bias_samples);
   Transfer tr;

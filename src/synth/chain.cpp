@@ -162,10 +162,11 @@ class ChainSearch {
     /// input impedance at least zin, the whole shelf offered.
     bool exact = false;
     std::string device;
+    std::string device2;  ///< a pair's Q2 (refinements)
     double zin = 0;
     std::string key() const {
-      return fmt::format("{}|{}|{:.4g}|{:.3g}|{:.2g}|{}|{}|{:.2g}", topology->name(), pos == 0, gain, load, peak, exact,
-                         device, zin);
+      return fmt::format("{}|{}|{:.4g}|{:.3g}|{:.2g}|{}|{}|{}|{:.2g}", topology->name(), pos == 0, gain, load, peak,
+                         exact, device, device2, zin);
     }
   };
 
@@ -174,6 +175,7 @@ class ChainSearch {
     if (r.exact) {
       s.gain_tol = spec_.gain_tol / 2;
       s.devices = {r.device};
+      if (!r.device2.empty()) s.devices.push_back(r.device2);
       s.zin_min_ohm = std::max(s.zin_min_ohm, r.zin);
       s.search_breadth = 0.5;
     }
@@ -507,6 +509,7 @@ class ChainSearch {
     req.peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 / after : 0.0;
     req.exact = true;
     req.device = p.stages[r]->device.name;
+    if (p.stages[r]->device2) req.device2 = p.stages[r]->device2->name;
     req.zin = r > 0 ? 2.0 * cp.each[r - 1].zout_ohm : 0.0;
     return j;
   }
@@ -544,6 +547,7 @@ class ChainSearch {
       for (const auto& rp : s.parts)
         for (std::size_t k = 0; k < rp.combo.count; ++k) groups[rp.combo.group[k]] += spec_.copies;
       devices[s.device.name] += spec_.copies;
+      if (s.device2) devices[s.device2->name] += spec_.copies;
     }
     for (const auto& [gi, need] : groups)
       if (shelf_.groups()[gi].available < need) return false;
@@ -582,7 +586,7 @@ class ChainSearch {
   /// The DC a coupling capacitor from stage a's output node to stage b's input would hold,
   /// at the nominal pieces (positive when a's node sits higher; both on the one rail).
   static double link_dc(const Candidate& a, const Candidate& b) {
-    const double node = stages::output_at_main(*a.topology) ? a.nominal.v_out : a.nominal.v_common;
+    const double node = stages::output_dc(*a.topology, a.nominal);
     return node - b.nominal.v_in;
   }
 

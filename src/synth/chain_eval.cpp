@@ -94,7 +94,7 @@ std::string chain_nominal(ChainPass& pass) {
   Candidate& ch = pass.ch;
   const double t_nom = pass.spec.temp_nominal_c();
   for (auto& s : ch.stages) {
-    const devices::DeviceSpread spread = spread_of(s);
+    const StageSpread spread = spread_of(s);
     s.nominal_device = make_transistor(spread, spread.nominal(), t_nom);
   }
   const std::vector<stages::ChainStage> list = chain_stages(ch);
@@ -203,7 +203,8 @@ std::string check_links(Candidate& ch, const Spec& spec) {
     RolePart* link = part_of(s, "COUT");
     if (!link) continue;
     const std::string inner(stages::output_node(*s.topology));
-    const Range& node = stages::output_at_main(*s.topology) ? s.worst.v_out : s.worst.v_common;
+    const char field = stages::output_dc_field(*s.topology);
+    const Range& node = field == 'm' ? s.worst.v_out : field == 'c' ? s.worst.v_common : s.worst.v_out2;
     const Range& next = ch.stages[k + 1].worst.v_in;
     // Real node voltages on the one rail: positive when the stage's node sits higher.
     const double lo = node.min - next.max;
@@ -371,8 +372,8 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
   const stages::Performance fast0 = stages::evaluate_chain(nominal, ch.conditions, stages::Detail::full).whole;
   const double r_lo = fast0.f_low_hz > 0 && ch.nominal.f_low_hz > 0 ? ch.nominal.f_low_hz / fast0.f_low_hz : 1.0;
   const double r_hi = fast0.f_high_hz > 0 && ch.nominal.f_high_hz > 0 ? ch.nominal.f_high_hz / fast0.f_high_hz : 1.0;
-  std::vector<devices::DeviceSpread> spreads;
-  std::vector<std::vector<devices::PieceFigures>> pieces;
+  std::vector<StageSpread> spreads;
+  std::vector<std::vector<StagePiece>> pieces;
   for (const auto& s : ch.stages) {
     spreads.push_back(spread_of(s));
     pieces.push_back(spreads.back().corners());
@@ -465,7 +466,7 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
 // (a coupling capacitor's: its bound from both stages' node ranges, chain_corners).
 std::string verify_chain_polarity(Candidate& ch, const Spec& spec) {
   const std::size_t n = ch.stages.size();
-  std::vector<devices::DeviceSpread> spreads;
+  std::vector<StageSpread> spreads;
   for (const auto& s : ch.stages) spreads.push_back(spread_of(s));
   std::vector<double> temps = {spec.temp_nominal_c()};
   if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};

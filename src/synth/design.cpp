@@ -66,7 +66,8 @@ class Searcher {
   Searcher(const Spec& spec, const Shelf& shelf, bool probe) : spec_(spec), shelf_(shelf), probe_(probe) {}
 
   std::vector<Candidate> run(const detail::Job& job, SearchStats& stats) const {
-    const StageBuilder builder(spec_, shelf_, *job.topology, *job.device, job.piece, job.device_available, probe_);
+    const StageBuilder builder(spec_, shelf_, *job.topology, *job.device, job.piece, job.device_available, probe_,
+                               job.device2, job.device2_available);
     const auto roles = job.topology->roles();
     std::vector<StageBuilder::Draft> found;
     std::unordered_set<std::uint64_t> seen;
@@ -288,7 +289,8 @@ struct StageBuilder::Cache {
 
 StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
                            const devices::DeviceRecord& device, const devices::MeasuredPiece* piece,
-                           int device_available, bool probe)
+                           int device_available, bool probe, const devices::DeviceRecord* device2,
+                           int device2_available)
     : spec_(spec),
       shelf_(shelf),
       topology_(topology),
@@ -296,7 +298,10 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
       piece_(piece),
       device_available_(device_available),
       probe_(probe),
-      spread_(piece ? devices::DeviceSpread(device, *piece) : devices::DeviceSpread(device, {spec.spread})),
+      device2_(device2),
+      device2_available_(device2_available),
+      spread_(piece ? devices::DeviceSpread(device, *piece) : devices::DeviceSpread(device, {spec.spread}),
+              device2 ? std::optional(devices::DeviceSpread(*device2, {spec.spread})) : std::nullopt),
       cache_(std::make_unique<Cache>()) {
   const double t_nom = spec.temp_nominal_c();
   q_ = make_transistor(spread_, spread_.nominal(), t_nom);
@@ -322,6 +327,7 @@ stages::Goal StageBuilder::goal() const {
   g.max_current_a = spec_.max_current_a.value_or(0);
   g.f_low_hz = spec_.f_low_target_hz();
   g.probe = probe_;
+  g.breadth = spec_.search_breadth;
   return g;
 }
 
@@ -387,13 +393,14 @@ Candidate StageBuilder::candidate(const Draft& d) const {
   Candidate c;
   c.topology = &topology_;
   c.device = device_;
+  if (device2_) c.device2 = *device2_;
   if (piece_) c.piece = *piece_;
   c.spread_model = spec_.spread;
   c.nominal_device = q_;
   c.conditions = cond_;
   c.values = d.values;
   c.nominal = d.nominal;
-  c.pieces = 1;
+  c.pieces = device2_ ? 2 : 1;
   for (std::size_t i = 0; i < topology_.roles().size(); ++i) {
     if (!d.combos[i]) continue;
     add_part(c, i, *d.combos[i]);
@@ -454,7 +461,11 @@ void StageBuilder::add_part(Candidate& c, std::size_t role, const Combo& combo) 
 }
 
 int StageBuilder::shortfall(const std::array<const Combo*, stages::kMaxRoles>& combos) const {
-  if (device_available_ < spec_.copies) return -1;
+  if (device2_ && device2_->name == device_.name) {
+    if (device_available_ < 2 * spec_.copies) return -1;  // Q1 and Q2 of one type
+  } else if (device_available_ < spec_.copies || (device2_ && device2_available_ < spec_.copies)) {
+    return -1;
+  }
   // At most 3 x kMaxRoles groups: a flat list beats a map here.
   std::array<std::pair<std::uint32_t, int>, 3 * stages::kMaxRoles> need{};
   std::size_t n = 0;
@@ -537,7 +548,19 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
       j.device = &d;
       j.piece = piece;
       j.device_available = piece ? 1 : (stocked.count(d.name) ? stocked[d.name] : 0);
-      jobs.push_back(j);
+      if (t->second_device() == stages::SecondDevice::none) {
+        jobs.push_back(j);
+        continue;
+      }
+      // A pair: every stocked bipolar type that fits as Q2 (and the device filter allows).
+      for (const auto& d2 : inv.devices) {
+        if (!t->accepts_second(d.kind, d2.kind) || !stocked.count(d2.name)) continue;
+        if (!spec.devices.empty() && std::find(spec.devices.begin(), spec.devices.end(), d2.name) == spec.devices.end())
+          continue;
+        j.device2 = &d2;
+        j.device2_available = stocked[d2.name];
+        jobs.push_back(j);
+      }
     }
   }
   return jobs;
@@ -622,6 +645,10 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
 }  // namespace
 
 // The recipe text and the stock lines of each part: only for candidates that are shown.
+namespace {
+std::string device2_name(const Candidate& c) { return c.device2 ? c.device2->name : std::string(); }
+}  // namespace
+
 bool is_variant(const Candidate& a, const Candidate& b) {
   if (a.is_chain() || b.is_chain()) {
     // Chains: the same stages in the same order, one resistor different in all.
@@ -629,7 +656,8 @@ bool is_variant(const Candidate& a, const Candidate& b) {
     int differ = 0;
     for (std::size_t k = 0; k < a.stages.size(); ++k) {
       const Candidate &x = a.stages[k], &y = b.stages[k];
-      if (x.topology != y.topology || x.device.name != y.device.name) return false;
+      if (x.topology != y.topology || x.device.name != y.device.name || device2_name(x) != device2_name(y))
+        return false;
       const auto roles = x.topology->roles();
       for (std::size_t i = 0; i < roles.size(); ++i)
         if (roles[i].kind == 'R' && std::abs(x.values[i] - y.values[i]) > 1e-9 * std::max(x.values[i], y.values[i]))
@@ -637,7 +665,7 @@ bool is_variant(const Candidate& a, const Candidate& b) {
     }
     return differ <= 1;
   }
-  if (a.topology != b.topology || a.device.name != b.device.name) return false;
+  if (a.topology != b.topology || a.device.name != b.device.name || device2_name(a) != device2_name(b)) return false;
   if ((a.piece ? a.piece->label : "") != (b.piece ? b.piece->label : "")) return false;
   const auto roles = a.topology->roles();
   int differ = 0;
@@ -663,6 +691,7 @@ std::string candidate_id(const Candidate& c, int copies) {
   }
   std::string key =
       fmt::format("{}|{}|{}|{}", c.topology->name(), c.device.name, c.piece ? c.piece->label : "", copies);
+  if (c.device2) key += "|Q2=" + c.device2->name;  // one-device ids stay as they were
   for (const auto& rp : c.parts) {
     key += "|" + rp.role + "=";
     for (std::size_t k = 0; k < rp.values.size(); ++k)

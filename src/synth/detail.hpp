@@ -34,6 +34,9 @@ double signal_peak(const Spec& spec, const stages::Performance& p);
 bool gain_ok(const Spec& spec, double gain);
 /// The transistor's stress at one operating point (DeviceStress NOTES) at an ambient.
 DeviceStress device_stress(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius);
+/// A pair's Q2 the same way: the supply's upper end (cut off, it holds it) or its VCE, its
+/// VCE times its current; no reverse figure (its base-emitter junction is never reversed).
+DeviceStress device2_stress(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius);
 /// Power and voltage ratings (parts and the transistor) and electrolytic polarity against one
 /// operating point at an ambient.
 std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius);
@@ -112,6 +115,8 @@ struct Job {
   const devices::DeviceRecord* device = nullptr;
   const devices::MeasuredPiece* piece = nullptr;
   int device_available = 0;
+  const devices::DeviceRecord* device2 = nullptr;  ///< a pair's Q2
+  int device2_available = 0;
 };
 /// Every topology x device job the spec allows (InputError for unknown names).
 std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv);

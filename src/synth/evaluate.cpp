@@ -92,21 +92,39 @@ DeviceStress device_stress(const Spec& spec, const Candidate& c, const stages::P
   return d;
 }
 
+DeviceStress device2_stress(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius) {
+  DeviceStress d;
+  d.v_main = std::max(std::abs(spec.supply_hi_v), p.q2_v_main);
+  d.p_w = p.q2_v_main * p.q2_current_a;
+  d.p_allowed_w = c.device2 ? c.device2->ratings.p_max_at(celsius) : 0.0;
+  return d;
+}
+
+namespace {
+
+// One device's stress against its record's ratings (common practice: kDeviceVoltageShare and
+// kDevicePowerShare of them); empty when it holds.
+std::string rate_device(const devices::DeviceRecord& record, const DeviceStress& d, double celsius) {
+  const devices::Ratings& r = record.ratings;
+  const bool jfet = devices::is_jfet(record.kind);
+  if (r.v_max_v && d.v_main > kDeviceVoltageShare * *r.v_max_v)
+    return fmt::format("rating: {} may hold {:.3g} V against its {} of {:.3g} V", record.name, d.v_main,
+                       jfet ? "VDS(max)" : "VCEO", *r.v_max_v);
+  if (r.v_rev_max_v && d.v_rev > kDeviceVoltageShare * *r.v_rev_max_v)
+    return fmt::format("rating: {} takes {:.3g} V reverse against its {} of {:.3g} V", record.name, d.v_rev,
+                       jfet ? "gate-source rating" : "VEBO", *r.v_rev_max_v);
+  if (r.p_max_w && d.p_w > kDevicePowerShare * d.p_allowed_w)
+    return fmt::format("rating: {} dissipates {:.3g} W of the {:.3g} W it may take at {:g} °C", record.name, d.p_w,
+                       d.p_allowed_w, celsius);
+  return {};
+}
+
+}  // namespace
+
 std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius) {
-  {
-    const devices::Ratings& r = c.device.ratings;
-    const DeviceStress d = device_stress(spec, c, p, celsius);
-    const bool jfet = devices::is_jfet(c.device.kind);
-    if (r.v_max_v && d.v_main > kDeviceVoltageShare * *r.v_max_v)
-      return fmt::format("rating: {} may hold {:.3g} V against its {} of {:.3g} V", c.device.name, d.v_main,
-                         jfet ? "VDS(max)" : "VCEO", *r.v_max_v);
-    if (r.v_rev_max_v && d.v_rev > kDeviceVoltageShare * *r.v_rev_max_v)
-      return fmt::format("rating: {} takes {:.3g} V reverse against its {} of {:.3g} V", c.device.name, d.v_rev,
-                         jfet ? "gate-source rating" : "VEBO", *r.v_rev_max_v);
-    if (r.p_max_w && d.p_w > kDevicePowerShare * d.p_allowed_w)
-      return fmt::format("rating: {} dissipates {:.3g} W of the {:.3g} W it may take at {:g} °C", c.device.name, d.p_w,
-                         d.p_allowed_w, celsius);
-  }
+  if (std::string v = rate_device(c.device, device_stress(spec, c, p, celsius), celsius); !v.empty()) return v;
+  if (c.device2)
+    if (std::string v = rate_device(*c.device2, device2_stress(spec, c, p, celsius), celsius); !v.empty()) return v;
   const double peak = signal_peak(spec, p);
   for (const auto& s : p.stress) {
     const auto& role = c.topology->roles()[s.role];
@@ -156,25 +174,28 @@ void add_cautions(Candidate& c, const Spec& spec, int next_stage) {
     if (rp.rating <= 0) unrated.push_back(rp.designator);
   }
   if (!unrated.empty()) c.cautions.push_back(unrated_caution(unrated));
-  // The transistor: what its record does not rate was not checked.
-  const devices::Ratings& r = c.device.ratings;
-  std::vector<std::string> missing;
-  const bool jfet = devices::is_jfet(c.device.kind);
-  if (!r.v_max_v) missing.push_back(jfet ? "VDS(max)" : "VCEO");
-  if (!r.v_rev_max_v) missing.push_back(jfet ? "gate-source reverse voltage" : "VEBO");
-  if (!r.p_max_w) missing.push_back("dissipation");
-  if (!missing.empty()) {
+  // The transistors: what a record does not rate was not checked.
+  const Worst& w = c.worst;
+  auto unrated_device = [&](const devices::DeviceRecord& d, const Range& v, const Range& rev, const Range& pw) {
+    const devices::Ratings& r = d.ratings;
+    std::vector<std::string> missing;
+    const bool jfet = devices::is_jfet(d.kind);
+    if (!r.v_max_v) missing.push_back(jfet ? "VDS(max)" : "VCEO");
+    if (!r.v_rev_max_v) missing.push_back(jfet ? "gate-source reverse voltage" : "VEBO");
+    if (!r.p_max_w) missing.push_back("dissipation");
+    if (missing.empty()) return;
     std::string list;
     for (std::size_t i = 0; i < missing.size(); ++i)
       list += (i == 0 ? "" : i + 1 == missing.size() ? " and " : ", ") + missing[i];
-    const Worst& w = c.worst;
     c.cautions.push_back(fmt::format(
         "the record of {} states no {}: not checked; it must take {:.3g} V{}{} (compare with its datasheet, and "
         "add the ratings with `devices add --replace`)",
-        c.device.name, list, w.device_v.empty ? spec.supply_hi_v : w.device_v.max,
-        w.device_rev.empty || w.device_rev.max < 0.05 ? "" : fmt::format(", {:.3g} V reverse", w.device_rev.max),
-        w.device_p.empty ? "" : fmt::format(" and dissipate {:.3g} mW", 1e3 * w.device_p.max)));
-  }
+        d.name, list, v.empty ? spec.supply_hi_v : v.max,
+        rev.empty || rev.max < 0.05 ? "" : fmt::format(", {:.3g} V reverse", rev.max),
+        pw.empty ? "" : fmt::format(" and dissipate {:.3g} mW", 1e3 * pw.max)));
+  };
+  unrated_device(c.device, w.device_v, w.device_rev, w.device_p);
+  if (c.device2) unrated_device(*c.device2, w.device2_v, Range{}, w.device2_p);
 }
 
 namespace {
@@ -182,8 +203,8 @@ namespace {
 // A chain's builds: each stage its own piece and parts, one supply and temperature for all.
 double monte_carlo_chain(const Candidate& c, const Spec& spec) {
   const std::size_t n = c.stages.size();
-  std::vector<devices::DeviceSpread> spreads;
-  std::vector<std::vector<devices::PieceFigures>> pieces;
+  std::vector<StageSpread> spreads;
+  std::vector<std::vector<StagePiece>> pieces;
   for (std::size_t k = 0; k < n; ++k) {
     spreads.push_back(spread_of(c.stages[k]));
     pieces.push_back(spreads.back().samples(static_cast<std::size_t>(spec.mc_samples), spec.seed + 7919 * k));
@@ -223,7 +244,7 @@ double monte_carlo(const Candidate& c, const Spec& spec) {
   if (spec.mc_samples <= 0) return 0;
   if (c.is_chain()) return monte_carlo_chain(c, spec);
   const auto& t = *c.topology;
-  const devices::DeviceSpread spread = spread_of(c);
+  const StageSpread spread = spread_of(c);
   const auto pieces = spread.samples(static_cast<std::size_t>(spec.mc_samples), spec.seed);
   std::mt19937_64 rng(spec.seed ^ 0x9e3779b97f4a7c15ULL);
   std::uniform_real_distribution<double> u(0.0, 1.0);
@@ -257,14 +278,17 @@ stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices
   return q;
 }
 
-devices::DeviceSpread spread_of(const Candidate& c) {
-  return c.piece ? devices::DeviceSpread(c.device, *c.piece) : devices::DeviceSpread(c.device, {c.spread_model});
+StageSpread spread_of(const Candidate& c) {
+  devices::DeviceSpread first =
+      c.piece ? devices::DeviceSpread(c.device, *c.piece) : devices::DeviceSpread(c.device, {c.spread_model});
+  if (!c.device2) return StageSpread(std::move(first));
+  return StageSpread(std::move(first), devices::DeviceSpread(*c.device2, {c.spread_model}));
 }
 
 std::string detail::finish_stage(Candidate& c, const Spec& spec) {
   long n = 0;
   c.spread_model = spec.spread;
-  const devices::DeviceSpread spread = spread_of(c);
+  const StageSpread spread = spread_of(c);
   c.conditions = detail::conditions(spec, spec.supply_nominal_v(), spec.temp_nominal_c());
   c.nominal_device = make_transistor(spread, spread.nominal(), spec.temp_nominal_c());
   c.nominal = c.topology->evaluate(c.values, c.nominal_device, c.conditions, stages::Detail::full);

@@ -25,8 +25,8 @@ std::string assess_loop(Candidate& c, const Spec& spec, std::vector<std::string>
   // Mid-band: the middle of the stage's own band, on a log scale.
   const double lo = c.nominal.f_low_hz, hi = c.nominal.f_high_hz;
   lf.f_mid_hz = lo > 0 && hi > lo ? std::sqrt(lo * hi) : 1e3;
-  const devices::DeviceSpread spread = spread_of(c);
-  std::vector<devices::PieceFigures> pieces = spread.corners();
+  const StageSpread spread = spread_of(c);
+  std::vector<StagePiece> pieces = spread.corners();
   pieces.push_back(spread.nominal());
   std::vector<double> temps = {spec.temp_nominal_c()};
   if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};

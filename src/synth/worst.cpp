@@ -161,6 +161,11 @@ void add_device_stress(Worst& w, const DeviceStress& d) {
   w.device_p_allowed.add(d.p_allowed_w);
 }
 
+void add_device2_stress(Worst& w, const DeviceStress& d) {
+  w.device2_v.add(d.v_main);
+  w.device2_p.add(d.p_w);
+}
+
 void add_figures(Worst& w, const stages::Performance& p, bool corners) {
   w.gain.add(p.gain);
   w.bias_current.add(p.bias_current_a);
@@ -168,6 +173,7 @@ void add_figures(Worst& w, const stages::Performance& p, bool corners) {
   w.v_in.add(p.v_in);
   w.v_common.add(p.v_common);
   w.v_out.add(p.v_out);
+  if (p.q2_current_a > 0) w.v_out2.add(p.v_out2);
   w.zin.add(p.zin_ohm);
   w.zout.add(p.zout_ohm);
   w.supply_current.add(p.supply_current_a);
@@ -236,7 +242,7 @@ double worst_gain_error(const Range& gain, double target) {
 //     read from the widened gain range.
 std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth) {
   const auto& t = *c.topology;
-  const devices::DeviceSpread spread = spread_of(c);
+  const StageSpread spread = spread_of(c);
   const double t_nom = spec.temp_nominal_c();
   // The search's pass works out the distortion only when the request bounds or ranks by it.
   const bool distortion = depth == Depth::full || spec.swing_vpp || spec.prefer == Spec::Prefer::distortion;
@@ -252,7 +258,7 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
     probe.band_hi_hz = std::isfinite(p0.f_high_hz) && p0.f_high_hz < 1e12 ? p0.f_high_hz : 0.0;
   }
 
-  std::vector<devices::PieceFigures> pieces = spread.corners();
+  std::vector<StagePiece> pieces = spread.corners();
   pieces.push_back(spread.nominal());
   std::vector<double> supplies = {spec.supply_lo_v};
   if (spec.supply_hi_v > spec.supply_lo_v) supplies.push_back(spec.supply_hi_v);
@@ -287,6 +293,7 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
           if (set.detail != stages::Detail::core) {
             add_cap_dc(w, c, p);
             add_device_stress(w, device_stress(spec, c, p, temp));
+            if (c.device2) add_device2_stress(w, device2_stress(spec, c, p, temp));
           }
           c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
         }
@@ -298,6 +305,7 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
     add_figures(w, c.nominal, c.nominal.f_low_hz > 0 || c.nominal.f_high_hz > 0);
     add_cap_dc(w, c, c.nominal);
     add_device_stress(w, device_stress(spec, c, c.nominal, t_nom));
+    if (c.device2) add_device2_stress(w, device2_stress(spec, c, c.nominal, t_nom));
   }
   add_model_margin(w);  // NOTES 6
   c.error_worst = std::max(c.error_worst, worst_gain_error(w.gain, spec.gain));
@@ -347,7 +355,7 @@ std::string read_capacitors(const circuit::Circuit& net, double celsius, std::ve
 //  3. A polarised part whose DC falls below zero at any of those points fails ("polarity").
 std::string verify_polarity(Candidate& c, const Spec& spec) {
   const auto& t = *c.topology;
-  const devices::DeviceSpread spread = spread_of(c);
+  const StageSpread spread = spread_of(c);
   const double t_nom = spec.temp_nominal_c();
   long evaluations = 0;
   const stages::Conditions nom_cond = conditions(spec, spec.supply_nominal_v(), t_nom);
@@ -358,7 +366,7 @@ std::string verify_polarity(Candidate& c, const Spec& spec) {
     down[i] = static_cast<std::int8_t>(-d[kBias][i]);
   }
   std::vector<Signs> ways = {Signs{}, up, down};
-  std::vector<devices::PieceFigures> pieces = spread.corners();
+  std::vector<StagePiece> pieces = spread.corners();
   pieces.insert(pieces.begin(), spread.nominal());
   std::vector<double> supplies = {spec.supply_nominal_v(), spec.supply_lo_v, spec.supply_hi_v};
   std::vector<double> temps = {t_nom};

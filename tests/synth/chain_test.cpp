@@ -206,7 +206,7 @@ TEST_CASE("gain 100 from 9 V with a 1 MOhm input: ngspice builds over datasheet-
     for (std::size_t k = 0; k < list.size(); ++k) {
       for (const auto& rp : stage_of[k]->parts)
         list[k].values[stage_of[k]->topology->role_index(rp.role)] = dice.between(rp.combo.lo, rp.combo.hi);
-      list[k].q = own_piece(stage_of[k]->device, spec.temp_nominal_c(), dice);
+      list[k].q = own_pieces(*stage_of[k], spec.temp_nominal_c(), dice);
     }
     stages::Conditions cond = c.conditions;
     cond.supply_v = dice.between(spec.supply_lo_v, spec.supply_hi_v);

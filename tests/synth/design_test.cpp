@@ -295,12 +295,7 @@ TEST_CASE("ngspice at the device corners lands inside the reported worst-case ra
     pieces.push_back(spread.nominal());
     for (const auto& f : pieces) {
       CAPTURE(f.tag);
-      stages::Transistor q;
-      q.kind = c.device.kind;
-      if (devices::is_jfet(q.kind))
-        q.jfet = spread.jfet(f);
-      else
-        q.bjt = spread.bjt(f);
+      const stages::Transistor q = synth::make_transistor(spread, f, devices::kNominalCelsius);
       const auto net = c.topology->netlist(c.values, q, c.conditions);
       circuit::SpiceOptions o;
       o.analyses = {".control", "op", "print i(vdd)", "ac dec 20 100 10k", "meas ac g1k find vm(out) at=1k", ".endc"};

@@ -188,14 +188,14 @@ TEST_CASE("make_transistor: a JFET piece at a temperature follows the square law
 TEST_CASE("spread_of: a measured piece narrows the spread to its figures +/- its uncertainty") {
   synth::Candidate c;
   c.device = test::njfet();
-  CHECK(synth::spread_of(c).model_name() == "correlated");
+  CHECK(synth::spread_of(c).first().model_name() == "correlated");
   devices::MeasuredPiece m;
   m.label = "J9";
   m.idss_a = 4e-3;
   m.vp_v = -2.0;
   m.uncertainty = 0.05;
   c.piece = m;
-  const devices::DeviceSpread s = synth::spread_of(c);
+  const devices::DeviceSpread s = synth::spread_of(c).first();
   CHECK(s.model_name() == "measured");
   for (const auto& k : s.corners()) {
     CHECK(k.idss_a >= 4e-3 * 0.95 * (1 - 1e-9));

@@ -52,6 +52,19 @@ std::vector<devices::PieceFigures> limit_pieces(const devices::DeviceSpread& s) 
   return out;
 }
 
+/// The same for a stage of one or two devices: every limit piece of Q1 with every one of Q2.
+std::vector<synth::StagePiece> limit_pieces(const synth::StageSpread& s) {
+  std::vector<synth::StagePiece> out;
+  for (const auto& a : limit_pieces(s.first())) {
+    if (!s.second()) {
+      out.push_back({a, std::nullopt, a.tag});
+      continue;
+    }
+    for (const auto& b : limit_pieces(*s.second())) out.push_back({a, b, "Q1 " + a.tag + ", Q2 " + b.tag});
+  }
+  return out;
+}
+
 /// One build of a listed design, ready to simulate.
 struct Build {
   std::string label;
@@ -175,8 +188,8 @@ double simulate_thd(const synth::Candidate& c, const Build& b, double gain, doub
 /// and at seeded mixes of ends, the supply at both ends.
 std::vector<Build> builds_of(const synth::Candidate& c, const synth::Spec& spec) {
   const std::vector<synth::Candidate> stages = c.is_chain() ? c.stages : std::vector<synth::Candidate>{c};
-  std::vector<std::vector<devices::PieceFigures>> pieces;
-  std::vector<devices::DeviceSpread> spreads;
+  std::vector<std::vector<synth::StagePiece>> pieces;
+  std::vector<synth::StageSpread> spreads;
   for (const auto& s : stages) {
     spreads.push_back(synth::spread_of(s));
     pieces.push_back(limit_pieces(spreads.back()));

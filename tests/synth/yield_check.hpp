@@ -71,6 +71,16 @@ inline stages::Transistor own_piece(const devices::DeviceRecord& d, double celsi
   return q;
 }
 
+/// A stage's devices drawn the same way: Q1, and a feedback pair's Q2 from its own record.
+inline stages::Transistor own_pieces(const synth::Candidate& s, double celsius, Dice& dice) {
+  stages::Transistor q = own_piece(s.device, celsius, dice);
+  if (s.device2) {
+    q.paired = true;
+    q.bjt2 = own_piece(*s.device2, celsius, dice).bjt;
+  }
+  return q;
+}
+
 // The request's hard constraints (README.md: what "meets the request" means), gain aside.
 inline bool constraints_hold(const synth::Spec& spec, const stages::Performance& p) {
   if (!p.valid || !p.active) return false;
@@ -108,13 +118,13 @@ inline double own_build(const synth::Candidate& c, const synth::Spec& spec, Dice
     const double fast = stages::evaluate_chain(list, c.conditions).whole.gain;
     for (std::size_t k = 0; k < c.stages.size(); ++k) {
       list[k].values = draw_values(c.stages[k]);
-      list[k].q = own_piece(c.stages[k].device, temp, dice);
+      list[k].q = own_pieces(c.stages[k], temp, dice);
     }
     p = stages::evaluate_chain(list, cond).whole;
     p.gain *= c.nominal.gain / fast;
   } else {
     const stages::Values v = draw_values(c);
-    p = c.topology->evaluate(v, own_piece(c.device, temp, dice), cond);
+    p = c.topology->evaluate(v, own_pieces(c, temp, dice), cond);
   }
   return constraints_hold(spec, p) ? std::abs(std::abs(p.gain) / spec.gain - 1.0) : std::nan("");
 }

@@ -18,6 +18,7 @@
 #include "shelfstage/store/part.hpp"
 #include "shelfstage/synth/shelf.hpp"
 #include "shelfstage/synth/spec.hpp"
+#include "shelfstage/synth/stage_spread.hpp"
 
 namespace shelfstage::synth {
 
@@ -63,12 +64,14 @@ struct RolePart {
 struct Worst {
   Range gain, bias_current, swing_peak, v_in, v_common, v_out, zin, zout, f_low, f_high, supply_current;
   Range loss_lo_db, loss_hi_db;
-  Range thd;  ///< total harmonic distortion at the requested level (at 1 V peak without one)
+  Range v_out2;  ///< a pair's Q2 collector (its output terminal)
+  Range thd;     ///< total harmonic distortion at the requested level (at 1 V peak without one)
   /// Capacitors, by role index: the DC across from the fitted + lead (a non-polarised part:
   /// the end higher at nominal), over every point evaluated with part stress.
   std::array<Range, stages::kMaxRoles> cap_dc;
   /// The transistor, over every point evaluated with part stress (DeviceStress).
   Range device_v, device_rev, device_p, device_p_allowed;
+  Range device2_v, device2_p;  ///< a pair's Q2: volts it may hold, its dissipation
   int evaluations = 0;
 };
 
@@ -115,6 +118,8 @@ struct Candidate {
   std::string id;
   const stages::Topology* topology = nullptr;
   devices::DeviceRecord device;
+  /// A stage with two devices (a feedback pair): the second, Q2 (always bipolar).
+  std::optional<devices::DeviceRecord> device2;
   std::optional<devices::MeasuredPiece> piece;
   devices::SpreadModel spread_model = devices::SpreadModel::correlated;  ///< which pieces the worst case covers
   stages::Transistor nominal_device;                                     ///< the nominal piece at nominal temperature
@@ -189,7 +194,7 @@ class StageBuilder {
  public:
   StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
                const devices::DeviceRecord& device, const devices::MeasuredPiece* piece, int device_available,
-               bool probe = false);
+               bool probe = false, const devices::DeviceRecord* device2 = nullptr, int device2_available = 0);
   ~StageBuilder();
   StageBuilder(const StageBuilder&) = delete;
   StageBuilder& operator=(const StageBuilder&) = delete;
@@ -239,7 +244,9 @@ class StageBuilder {
   const devices::MeasuredPiece* piece_;
   int device_available_;
   bool probe_;
-  devices::DeviceSpread spread_;
+  const devices::DeviceRecord* device2_;
+  int device2_available_;
+  StageSpread spread_;
   stages::Transistor q_;
   std::vector<stages::Transistor> corner_devices_;
   stages::Conditions cond_, cond_hi_;
@@ -265,14 +272,15 @@ bool is_variant(const Candidate& a, const Candidate& b);
 /// A stable identifier for a candidate: topology, device and part values hashed.
 std::string candidate_id(const Candidate& c, int copies);
 
-/// A piece of the spread (its figures at a temperature) as a stage takes it.
+/// A piece of one device's spread (its figures at a temperature) as a one-device stage takes it.
 stages::Transistor make_transistor(const devices::DeviceSpread& spread, const devices::PieceFigures& f, double celsius);
 
 /// A stage candidate as a chain takes it (topology, values, nominal piece); a chain's stages.
 stages::ChainStage chain_stage(const Candidate& c);
 std::vector<stages::ChainStage> chain_stages(const Candidate& chain);
 
-/// The devices::DeviceSpread of a candidate (record, or measured piece).
-devices::DeviceSpread spread_of(const Candidate& c);
+/// The pieces a candidate's worst case covers: its device's spread (record, or measured
+/// piece), with its second device's for a pair.
+StageSpread spread_of(const Candidate& c);
 
 }  // namespace shelfstage::synth
