@@ -295,6 +295,7 @@ Plan plan_build(const synth::Candidate& c, int copies, const std::vector<store::
   out.design_id = c.id;
   out.topology = c.topology_name();
   out.device = c.device.name;
+  if (c.device2) out.device2 = c.device2->name;
   if (c.piece) out.piece = c.piece->label;
   out.copies = copies;
   Pool pool(stock, held);

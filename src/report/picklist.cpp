@@ -171,6 +171,7 @@ Json pick_json(const PickList& p) {
   j["copies"] = p.copies;
   j["topology"] = p.topology;
   j["device"] = p.device;
+  j["device2"] = p.device2.empty() ? Json(nullptr) : Json(p.device2);
   j["piece"] = p.piece ? Json(*p.piece) : Json(nullptr);
   Json lines = Json::array();
   for (const auto& l : p.lines) {
@@ -236,9 +237,9 @@ std::string pick_csv(const PickList& p) {
 }
 
 std::string pick_text(const PickList& p) {
-  std::string out =
-      fmt::format("Pick list for {} ({} with {}), {} cop{}: {} pieces from {} stock lines.\n", p.design_id, p.topology,
-                  p.device, p.copies, p.copies == 1 ? "y" : "ies", p.pieces(), p.lines.size());
+  std::string out = fmt::format("Pick list for {} ({} with {}), {} cop{}: {} pieces from {} stock lines.\n",
+                                p.design_id, p.topology, p.device2.empty() ? p.device : p.device + " and " + p.device2,
+                                p.copies, p.copies == 1 ? "y" : "ies", p.pieces(), p.lines.size());
   if (!p.rail.empty()) out += fmt::format("Supply: {}.\n", p.rail);
   if (p.copies > 1) out += "Designators carry the copy number: R3.2 is R3 of copy 2.\n";
   if (!p.lines.empty()) {

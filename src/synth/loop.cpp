@@ -21,7 +21,7 @@ std::string assess_loop(Candidate& c, const Spec& spec, std::vector<std::string>
   std::string designator(c.topology->roles()[role].designator);
   for (const auto& rp : c.parts)
     if (rp.role == brk->role) designator = rp.designator;
-  lf.broken_at = fmt::format("{} ({}) at the {}", designator, brk->role, brk->net);
+  lf.broken_at = fmt::format("{} ({}) at the {}", designator, brk->role, c.topology->net_words(brk->net));
   // Mid-band: the middle of the stage's own band, on a log scale.
   const double lo = c.nominal.f_low_hz, hi = c.nominal.f_high_hz;
   lf.f_mid_hz = lo > 0 && hi > lo ? std::sqrt(lo * hi) : 1e3;

@@ -69,6 +69,7 @@ struct Plan {
   std::string design_id;
   std::string topology;
   std::string device;
+  std::string device2;               ///< a feedback pair's second transistor type (empty: none)
   std::optional<std::string> piece;  ///< a design for one measured piece: its label
   int copies = 1;
   std::vector<PickLine> lines;  ///< walking order: bins naturally sorted, then kind, value
