@@ -19,7 +19,7 @@ constexpr Role kRoles[] = {
     {"RB1", "R1", 'R', false, false, "", "", "supply to base: upper bias divider leg", {13, 6, true, 'l'}},
     {"RB2", "R2", 'R', false, false, "", "", "base to ground: lower bias divider leg", {13, 20, true, 'l'}},
     {"RC1", "R3", 'R', false, false, "", "", "supply to Q1's collector: drives Q2's base", {19, 6, true, 'l'}},
-    {"RC2", "R4", 'R', false, false, "", "", "Q2's collector to ground: Q2's load", {26, 21, true, 'r'}},
+    {"RC2", "R4", 'R', false, false, "", "", "Q2's collector to ground: Q2's load", {26, 21, true, 'l'}},
     {"RF",
      "R5",
      'R',
@@ -33,7 +33,7 @@ constexpr Role kRoles[] = {
     {"RE2", "R7", 'R', true, false, "", "", "x to ground, bypassed: lowers the DC gain", {19, 24, true, 'l'}},
     {"CE", "C2", 'C', true, true, "x", "0", "bypass across RE2", {22, 24, true, 'r'}, true},
     {"CIN", "C1", 'C', false, true, "base", "in", "input coupling", {10, 14, false, 'a'}},
-    {"COUT", "C3", 'C', false, true, "collector2", "out", "output coupling", {26, 9, false, 'a'}},
+    {"COUT", "C3", 'C', false, true, "collector2", "out", "output coupling", {26, 13, false, 'a'}},
 };
 static_assert(std::size(kRoles) == kPairRoles);
 
@@ -78,13 +78,9 @@ class BjtFbPair final : public FeedbackPair {
         for (double rth : rths) {
           const double vth = vb + ib1 * rth;
           if (vth > 0.8 * vcc) continue;
-          // The divider's ratio sets the base: the upper leg gets the shelf's near values,
-          // the lower the nearest (the loop holds the output whatever the base's last percent).
-          std::vector<double> tops;
-          if (g.breadth >= 1.0)
-            shelf.nearest(rth * vcc / vth, 1, tops);
-          else
-            tops.push_back(nearest_one(shelf, rth * vcc / vth));
+          // The divider's nearest values: the loop holds the output whatever the base's last
+          // per cent.
+          std::vector<double> tops = {nearest_one(shelf, rth * vcc / vth)};
           const double bottom = nearest_one(shelf, rth * vcc / (vcc - vth));
           for (double top : tops) {
             Values v;

@@ -483,6 +483,8 @@ void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const
   std::vector<double> r1s, rc2s, rfs;
   r1s.push_back(nearest_one(shelf, veb2 / i1));
   for (double ic2 : {1e-3, 3e-3, 10e-3}) {
+    // Ten milliamperes only for a heavy load (a few kilohms or less), where Q2 must carry it.
+    if (ic2 > 5e-3 && c.load_ohm > 3e3) continue;
     if (g.max_current_a > 0 && ic2 + 1.2 * i1 > g.max_current_a) continue;
     // Q2's current into RC2 and the load must carry the swing down.
     if (g.swing_peak_v > 0 && ic2 * par(vo / ic2, c.load_ohm) < 1.2 * g.swing_peak_v) continue;
@@ -491,18 +493,18 @@ void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const
   unique_values(rc2s);
   std::erase(r1s, 0.0);
   std::erase(rc2s, 0.0);
-  // RF carrying a tenth, a third, or all of Q1's current: the larger RF, the larger RE1 and
+  // RF carrying a fifth or all of Q1's current: the larger RF, the larger RE1 and
   // the smaller the bypass capacitor; the smaller, the lower the output's noise and the DC
   // gain that moves the operating point.
-  for (double k : {0.1, 0.3, 1.0}) shelf.nearest((vo - ve) / (k * i1), 2, rfs);
+  for (double k : {0.2, 1.0}) shelf.nearest((vo - ve) / (k * i1), 1, rfs);
   unique_values(rfs);
   for (double rf : rfs) {
     const double re_total = ve / (i1 + (vo - ve) / rf);
     // RE1 for the ratio, and for a ratio a little above it: the finite loop gain takes
     // 1/(1 + T) of it back, and T (5 to 50 here) is not known before the evaluation.
     std::vector<double> re1s;
-    for (double over : {1.0, 1.05, 1.12})
-      if (g.breadth >= 1.0 || over != 1.05) shelf.nearest(rf / (over * g.gain - 1.0), 1, re1s);
+    for (double over : {1.0, 1.08})
+      if (g.breadth >= 1.0 || over == 1.0) shelf.nearest(rf / (over * g.gain - 1.0), 1, re1s);
     unique_values(re1s);
     for (double re1 : re1s) {
       std::vector<std::pair<double, double>> legs;
