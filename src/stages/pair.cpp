@@ -482,9 +482,8 @@ void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const
   // shelf offers; Q1's and Q2's currents take the nearest one.
   std::vector<double> r1s, rc2s, rfs;
   r1s.push_back(nearest_one(shelf, veb2 / i1));
+  // Q2 at one to ten milliamperes: the more current, the larger Q2's gm and the loop gain.
   for (double ic2 : {1e-3, 3e-3, 10e-3}) {
-    // Ten milliamperes only for a heavy load (a few kilohms or less), where Q2 must carry it.
-    if (ic2 > 5e-3 && c.load_ohm > 3e3) continue;
     if (g.max_current_a > 0 && ic2 + 1.2 * i1 > g.max_current_a) continue;
     // Q2's current into RC2 and the load must carry the swing down.
     if (g.swing_peak_v > 0 && ic2 * par(vo / ic2, c.load_ohm) < 1.2 * g.swing_peak_v) continue;
@@ -493,10 +492,11 @@ void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const
   unique_values(rc2s);
   std::erase(r1s, 0.0);
   std::erase(rc2s, 0.0);
-  // RF carrying a fifth or all of Q1's current: the larger RF, the larger RE1 and
-  // the smaller the bypass capacitor; the smaller, the lower the output's noise and the DC
-  // gain that moves the operating point.
-  for (double k : {0.2, 1.0}) shelf.nearest((vo - ve) / (k * i1), 1, rfs);
+  // RF carrying a fifth of Q1's current to twice it: the larger RF, the larger RE1 and the
+  // smaller the bypass capacitor; the smaller, the larger the loop gain (RF loads Q2's
+  // collector less than RE1's share of it feeds back) and the lower the DC gain that moves the
+  // operating point.
+  for (double k : {0.2, 0.6, 2.0}) shelf.nearest((vo - ve) / (k * i1), 1, rfs);
   unique_values(rfs);
   for (double rf : rfs) {
     const double re_total = ve / (i1 + (vo - ve) / rf);

@@ -59,6 +59,17 @@ inline devices::DeviceRecord npn(std::string name = "TQ-1") {
   return d;
 }
 
+inline devices::DeviceRecord pnp(std::string name = "TP-1") {
+  devices::DeviceRecord d = npn(std::move(name));
+  d.kind = devices::DeviceKind::pnp;
+  d.bjt.hfe = {120, 350, 220};
+  d.bjt.is_a = 1.2e-14;
+  d.bjt.vaf_v = 60;
+  d.bjt.cje_f = 8e-12;
+  d.bjt.cjc_f = 4.5e-12;
+  return d;
+}
+
 inline store::Part transistor(std::int64_t id, const devices::DeviceRecord& d, int qty) {
   store::Part p;
   p.id = id;
