@@ -200,42 +200,23 @@ Eigen::Matrix4d mid_matrix(const PairSignal& m, bool load = true) { return hf_ma
 
 enum { G, E, D, O };
 
-// Below mid-band: the network with CIN, the bypass and COUT (nodes in, g, e, x, d, o, out),
-// the device capacitances open. vout / vsig.
+// Below mid-band: the network with CIN, the bypass and COUT, the device capacitances open.
+// The three capacitors' nodes fold into the four (pin, common, main, output): the source
+// reaches the pin through Rs and CIN in series, the common terminal's leg is RE1 in series with
+// RE2 || CE, and the output drives the load through COUT. vout / vsig.
 cd lf_transfer(const PairSignal& m, const PairParts& p, cd s) {
-  using M7 = Eigen::Matrix<cd, 7, 7>;
-  using V7 = Eigen::Matrix<cd, 7, 1>;
-  enum { IN, g, e, x, d, o, out };
+  PairSignal lf = m;
+  lf.cpi1 = lf.cmu1 = lf.cpi2 = lf.cmu2 = lf.c_load = 0.0;
   const cd ycin = s * p.cin, ycout = s * p.cout;
-  const double g1 = 1.0 / p.re1, g2 = p.re2 > 0 ? 1.0 / p.re2 : 1e9;
-  const cd yx = g1 + g2 + (p.re2 > 0 ? s * p.ce : cd(0.0));
-  M7 a = M7::Zero();
-  a(IN, IN) = m.gs + ycin;
-  a(IN, g) = -ycin;
-  a(g, IN) = -ycin;
-  a(g, g) = ycin + m.gb + m.gpi1;
-  a(g, e) = -(m.gpi1 + m.gbce1);
-  a(g, d) = m.gbce1;
-  a(e, g) = -(m.gpi1 + m.gm1);
-  a(e, e) = m.gpi1 + m.gm1 + m.go1 + m.gbce1 + g1 + m.gf;
-  a(e, x) = -g1;
-  a(e, d) = -(m.go1 + m.gbce1);
-  a(e, o) = -m.gf;
-  a(x, e) = -g1;
-  a(x, x) = yx;
-  a(d, g) = m.gm1;
-  a(d, e) = -(m.gm1 + m.go1);
-  a(d, d) = m.go1 + m.gr1 + m.gpi2;
-  a(d, o) = m.gbce2;
-  a(o, e) = -m.gf;
-  a(o, d) = m.gm2;
-  a(o, o) = m.go2 + m.grc2 + m.gf + ycout;
-  a(o, out) = -ycout;
-  a(out, o) = -ycout;
-  a(out, out) = ycout + m.gl;
-  V7 rhs = V7::Zero();
-  rhs(IN) = m.gs;
-  return a.partialPivLu().solve(rhs)(out);
+  const cd y_src = m.gs * ycin / (m.gs + ycin);
+  const cd z_leg = p.re2 > 0 ? p.re1 + 1.0 / (1.0 / p.re2 + s * p.ce) : cd(p.re1 + p.re2);
+  const cd y_load = ycout * m.gl / (ycout + m.gl);
+  Eigen::Matrix4cd a = hf_matrix(lf, cd(0.0), false);
+  a(G, G) += y_src - m.gs;
+  a(E, E) += 1.0 / z_leg - m.gleg;
+  a(O, O) += y_load;
+  const cd vo = a.partialPivLu().solve(Eigen::Vector4cd(y_src, 0.0, 0.0, 0.0))(O);
+  return vo * ycout / (ycout + m.gl);
 }
 
 cd hf_transfer(const PairSignal& m, double w) {
@@ -555,7 +536,10 @@ Values pair_reference(const Topology& t, const Transistor& q, const Conditions& 
     const Values v = pair_capacitors(proposal, c, g.f_low_hz);
     const Performance p = t.evaluate(v, q, c, Detail::core);
     if (!p.active) return;
-    const double err = std::abs(std::log(std::abs(p.gain) / g.gain));
+    // Near the gain asked, and of those the stiffest loop: the gain closest to the ratio
+    // 1 + RF/RE1 (its shortfall is 1/(1 + T)).
+    const double ratio = 1.0 + v[kRF] / v[kLeg1];
+    const double err = std::abs(std::log(std::abs(p.gain) / g.gain)) + (ratio / std::abs(p.gain) - 1.0);
     if (err < best_err) {
       best_err = err;
       best = v;

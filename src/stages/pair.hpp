@@ -90,8 +90,9 @@ void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const
                         double vo, double veb2, const std::function<void(const Values&)>& emit);
 
 /// A reference design for a pair (Topology::reference): the topology's own design equations
-/// on ideal values for a gain of 10 (knobs: degeneration 0 asks for 3, 1 for 30), the
-/// proposal closest to it that is active, its capacitors for corners at k.f_corner_hz.
+/// on ideal values for a gain of 10 (knobs: degeneration 0 asks for 3, 1 for 30), of the
+/// active proposals the one nearest the gain with the stiffest loop, its capacitors for
+/// corners at k.f_corner_hz.
 Values pair_reference(const Topology& t, const Transistor& q, const Conditions& c, const ReferenceKnobs& k);
 
 /// Everything both pairs share as a Topology: roles by PairRole, wiring, the closed form,
