@@ -90,6 +90,21 @@ std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
                                                    : "")),
                range_text(w.device_p, [](double v) { return units::format_value(v, Unit::watt); })});
   }
+  if (c.device2 && !w.device2_v.empty) {
+    // A pair's Q2 the same way, its dissipation against the rating at the warmest ambient.
+    const auto& r = c.device2->ratings;
+    const double warmest = spec.temp_c ? spec.temp_c->second : spec.temp_nominal_c();
+    t.add_row({fmt::format("Q2 VCE (the rail when cut off){}",
+                           r.v_max_v ? fmt::format(" (allowed {})", volts(synth::kDeviceVoltageShare * *r.v_max_v))
+                                     : std::string(" (rating not stated)")),
+               range_text(w.device2_v, volts)});
+    t.add_row({fmt::format("Q2 dissipation{}",
+                           r.p_max_w ? fmt::format(" (allowed {})",
+                                                   units::format_value(synth::kDevicePowerShare * r.p_max_at(warmest),
+                                                                       Unit::watt))
+                                     : std::string(" (rating not stated)")),
+               range_text(w.device2_p, [](double v) { return units::format_value(v, Unit::watt); })});
+  }
   if (spec.band_hz) {
     t.add_row({fmt::format("loss at {}", format_value(spec.band_hz->first, Unit::hertz)),
                range_text(w.loss_lo_db, [](double d) { return fmt::format("{:.2f} dB", d); })});
@@ -195,8 +210,9 @@ void run_show(const ShowOptions& o, Context& ctx) {
   }
 
   const auto& t = *c.topology;
-  ctx.out << fmt::format("Design {} (kept {}): {} with {}{}\n", saved.id, saved.created, t.name(), c.device.name,
-                         c.piece ? " [measured piece " + c.piece->label + "]" : "");
+  ctx.out << fmt::format("Design {} (kept {}): {} with {}{}{}\n", saved.id, saved.created, t.name(), c.device.name,
+                         c.piece ? " [measured piece " + c.piece->label + "]" : "",
+                         c.device2 ? " and " + c.device2->name + " (Q2)" : "");
   ctx.out << fmt::format("  {}\n", t.summary());
   ctx.out << "Request: " << report::spec_line(spec) << "\n\n";
   ctx.out << report::parts_text(a) << "\n";

@@ -5,10 +5,12 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <limits>
 #include <numbers>
 #include <optional>
+#include <string>
 
 #include "shelfstage/draw/palette.hpp"
 #include "shelfstage/error.hpp"
@@ -45,15 +47,31 @@ struct Slot {
   Side side;
 };
 
-// NOTES 2: the template's own places (the bench and the transistor); the stage's parts from
-// the caller. Grid units; see the header for the rules.
-std::optional<Slot> slot_for(std::string_view role, const SchematicOptions& o) {
+// NOTES 2a: a stage's second transistor: Q2, or Q102, Q202 ... in a chain's stage (the
+// number, less the stage's hundreds, is 2).
+bool second_device(std::string_view designator) {
+  std::size_t digits = designator.size();
+  while (digits > 0 && std::isdigit(static_cast<unsigned char>(designator[digits - 1]))) --digits;
+  if (digits == designator.size() || designator.size() - digits > 6) return false;
+  return std::stoi(std::string(designator.substr(digits))) % 100 == 2;
+}
+
+// NOTES 2: the template's own places (the bench and the transistors); the stage's parts from
+// the caller. Grid units; see the header for the rules. `paired`: the stage has a second
+// transistor.
+std::optional<Slot> slot_for(std::string_view role, std::string_view designator, bool paired,
+                             const SchematicOptions& o) {
   if (role == "supply") return Slot{31, 16, true, Side::right};
   if (role == "signal") return Slot{2, 18, true, Side::right};
   if (role == "source") return Slot{5, 14, false, Side::above};
   if (role == "load") return Slot{28, 21, true, Side::right};
   if (role == "load capacitance") return Slot{33, 21, true, Side::right};
-  if (role == "device") return Slot{18, 12, true, Side::right};
+  // NOTES 2a: the second transistor up and to the right of the first, its base level with
+  // the end of the first's load resistor (x 19, y 8), its collector at x 24: a coupling
+  // capacitor's length (4) short of the load at x 28. The collector's net then runs down at
+  // x 24, past the first's right side, so both transistors carry their labels on the left.
+  if (role == "device" && second_device(designator)) return Slot{23, 8, true, Side::left};
+  if (role == "device") return Slot{18, 12, true, paired ? Side::left : Side::right};
   const auto it = o.places.find(role);
   if (it == o.places.end()) return std::nullopt;
   const Place& p = it->second;
@@ -229,17 +247,18 @@ bool is_transistor(SymbolKind k) {
   return k == SymbolKind::njfet || k == SymbolKind::pjfet || k == SymbolKind::npn || k == SymbolKind::pnp;
 }
 
-// NOTES 3a: a stage turned over on its rail: the supply's sign against the device's polarity.
+// NOTES 3a: a stage turned over on its rail: the supply's sign against the polarity of its
+// first transistor (a pair's second is of the other polarity and does not turn the stage).
 bool turned_over(const circuit::Circuit& c) {
-  bool flipped = false;
   double rail = 1;
   if (const auto* vdd = c.find("VDD")) rail = vdd->c.value < 0 ? -1 : 1;
   for (const auto& el : c.elements()) {
+    if (second_device(el.c.designator)) continue;
     if (el.c.kind == ElementKind::jfet)
-      flipped = (c.jfets()[el.c.device].kind == devices::DeviceKind::pjfet) == (rail > 0);
-    if (el.c.kind == ElementKind::bjt) flipped = (c.bjts()[el.c.device].kind == devices::DeviceKind::pnp) == (rail > 0);
+      return (c.jfets()[el.c.device].kind == devices::DeviceKind::pjfet) == (rail > 0);
+    if (el.c.kind == ElementKind::bjt) return (c.bjts()[el.c.device].kind == devices::DeviceKind::pnp) == (rail > 0);
   }
-  return flipped;
+  return false;
 }
 
 bool is_bench_role(std::string_view role) {
@@ -252,6 +271,7 @@ struct Placing {
   const circuit::Circuit& c;
   const SchematicOptions& o;
   bool flipped = false;
+  bool paired = false;  ///< the stage has a second transistor (NOTES 2a)
   std::vector<PlacedPin>& pins;
 
   /// A net as the stage's N frame names it (the rails swap places in a turned-over stage).
@@ -266,7 +286,7 @@ struct Placing {
 /// The slot of a part (NOTES 2), mirrored top to bottom when `mirrored` (NOTES 3a); an
 /// InputError when neither the template nor the stage places its role.
 Slot slot_of(const Placing& pl, const circuit::Component& e, bool mirrored) {
-  auto slot = slot_for(e.role, pl.o);
+  auto slot = slot_for(e.role, e.designator, pl.paired, pl.o);
   if (slot && mirrored) {
     slot->y = kRailSupply + kRailGround - slot->y;
     if (slot->side == Side::above)
@@ -285,9 +305,13 @@ Slot slot_of(const Placing& pl, const circuit::Component& e, bool mirrored) {
 void place_transistor(const Placing& pl, PlacedSymbol& sym, const circuit::Component& e, bool mirrored) {
   const Point q = sym.centre;
   // Pins in SPICE order: drain/collector on top, gate/base to the left, source/emitter below
-  // (the other way up in a turned-over stage).
-  const double m = mirrored ? -1 : 1;
-  sym.flipped = mirrored;
+  // (the other way up in a turned-over stage). A transistor whose source or emitter sits on
+  // the supply (a pair's complementary second device) stands the other way up, that terminal
+  // toward its rail.
+  const bool common_on_supply = pl.n_frame(pl.c.net_name(e.pins[2])) == "vdd";
+  const bool upside_down = mirrored != common_on_supply;
+  const double m = upside_down ? -1 : 1;
+  sym.flipped = upside_down;
   pl.pins.push_back({e.designator, 0, e.pins[0], {q.x + 1, q.y - 2 * m}, {0, -m}});
   pl.pins.push_back({e.designator, 1, e.pins[1], {q.x - 2, q.y}, {-1, 0}});
   pl.pins.push_back({e.designator, 2, e.pins[2], {q.x + 1, q.y + 2 * m}, {0, m}});
@@ -465,7 +489,10 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
   s.width = kWidth;
   s.height = kHeight;
   for (std::size_t v = 0; v < c.net_count(); ++v) s.net_names.push_back(c.net_name(v));
-  const Placing pl{c, o, turned_over(c), s.pins};
+  const bool paired = std::any_of(c.elements().begin(), c.elements().end(), [](const auto& el) {
+    return (el.c.kind == ElementKind::bjt || el.c.kind == ElementKind::jfet) && second_device(el.c.designator);
+  });
+  const Placing pl{c, o, turned_over(c), paired, s.pins};
   for (const auto& el : c.elements()) s.symbols.push_back(place(pl, el.c));
   route(c, s);
   add_junctions(s);
@@ -650,7 +677,15 @@ void draw_label(const Pen& pen, const PlacedSymbol& s) {
       at = {s.centre.x + (transistor ? 2.1 : source ? 1.2 : 0.85), s.centre.y - gap * (n - 1) / 2 + 0.2};
       break;
     case Side::left:
-      at = {s.centre.x - 0.85, s.centre.y - gap * (n - 1) / 2 + 0.2};
+      if (transistor) {
+        // Beside the control lead on the common terminal's side (under it, or over it for a
+        // symbol standing common terminal up), ending under the circle's left half: the
+        // leads and nets on the other side stay clear.
+        const double first = s.flipped ? s.centre.y - 1.6 - gap * (n - 1) : s.centre.y + 2.0;
+        at = {s.centre.x + 0.5, first};
+      } else {
+        at = {s.centre.x - 0.85, s.centre.y - gap * (n - 1) / 2 + 0.2};
+      }
       anchor = "end";
       break;
     case Side::above:

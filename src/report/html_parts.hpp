@@ -35,6 +35,8 @@ std::string kind_text(devices::DeviceKind k);
 int chain_stage_of(const synth::Candidate& c);
 /// Q1, or Q101, Q201 ... for a chain's stage.
 std::string transistor_designator(const synth::Candidate& c);
+/// A pair's second transistor: Q2, or Q102, Q202 ... for a chain's stage.
+std::string second_transistor_designator(const synth::Candidate& c);
 
 /// A table; a header starting with '#' is numeric (right-aligned).
 std::string table(const std::vector<std::string>& head, const std::vector<std::vector<std::string>>& rows,

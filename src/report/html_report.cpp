@@ -30,10 +30,19 @@ std::string esc(std::string_view s) { return draw::xml_escape(s); }
 
 int chain_stage_of(const synth::Candidate& c) { return c.parts.empty() ? 0 : c.parts.front().stage; }
 
-std::string transistor_designator(const synth::Candidate& c) {
+namespace {
+/// A stage's designator as its netlist has it: as given for a single stage, renumbered for
+/// a chain's stage (stages::chain_designator).
+std::string stage_designator(const synth::Candidate& c, std::string_view designator) {
   const int stage = chain_stage_of(c);
-  return stage > 0 ? stages::chain_designator(static_cast<std::size_t>(stage - 1), "Q1") : std::string("Q1");
+  return stage > 0 ? stages::chain_designator(static_cast<std::size_t>(stage - 1), designator)
+                   : std::string(designator);
 }
+}  // namespace
+
+std::string transistor_designator(const synth::Candidate& c) { return stage_designator(c, "Q1"); }
+
+std::string second_transistor_designator(const synth::Candidate& c) { return stage_designator(c, "Q2"); }
 
 std::string volts(double v) { return format_value(v, Unit::volt); }
 std::string amps(double v) { return format_value(v, Unit::ampere); }
@@ -234,7 +243,8 @@ std::string header_section(const ReportInput& in, const Analysis& a) {
   const auto& p = a.best();
   std::string h = "<header class=\"top\">";
   h += fmt::format("<h1>Design <span class=\"id\">{}</span>: {} with {}{}</h1>", esc(in.id), esc(c.topology->name()),
-                   esc(c.device.name), c.piece ? esc(" (measured piece " + c.piece->label + ")") : "");
+                   esc(c.device.name + (c.device2 ? " and " + c.device2->name : "")),
+                   c.piece ? esc(" (measured piece " + c.piece->label + ")") : "");
   h += fmt::format("<p>{}</p>", esc(c.topology->summary()));
   h += fmt::format("<p class=\"muted\">Request: {}</p>", esc(spec_line(in.spec)));
   h += fmt::format("<p class=\"muted\">Kept {}; every figure below recomputed from the device list as it is now.</p>",
@@ -579,14 +589,39 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
                     kind_text(c.device.kind), "", "", stress, rating, use, "", rt.any() ? "ok" : "check the ratings"});
     cls.emplace_back(rt.any() ? "" : "note");
   }
+  if (c.device2) {
+    // A pair's second transistor the same way: the rail it may hold whole and its
+    // dissipation (its base-emitter junction is never reversed), against its own ratings;
+    // its dissipation against what it may take at the warmest ambient asked.
+    const auto& w = c.worst;
+    const auto& rt = c.device2->ratings;
+    std::string stress = fmt::format("{} at {}", amps(a.best().q2_current_a), volts(a.best().q2_v_main));
+    if (!w.device2_v.empty) stress += fmt::format("; up to {}, {}", volts(w.device2_v.max), watts(w.device2_p.max));
+    auto opt = [](const std::optional<double>& v, std::string (*f)(double)) { return v ? f(*v) : std::string("?"); };
+    const std::string rating = rt.any() ? fmt::format("VCEO {}, VEBO {}, {} at 25 °C", opt(rt.v_max_v, volts),
+                                                      opt(rt.v_rev_max_v, volts), opt(rt.p_max_w, watts))
+                                        : "not stated";
+    std::string use = "\u2014";
+    if (!w.device2_v.empty && (rt.v_max_v || rt.p_max_w)) {
+      const double warmest = std::max(in.spec.temp_nominal_c(), in.spec.temp_c ? in.spec.temp_c->second : -273.15);
+      const double allowed = rt.p_max_at(warmest);
+      double share = 0;
+      if (rt.v_max_v) share = std::max(share, w.device2_v.max / (synth::kDeviceVoltageShare * *rt.v_max_v));
+      if (rt.p_max_w && allowed > 0) share = std::max(share, w.device2_p.max / (synth::kDevicePowerShare * allowed));
+      use = fmt::format("{:.0f} %", share * 100);
+    }
+    rows.push_back({second_transistor_designator(c), "device", c.device2->name, kind_text(c.device2->kind), "", "",
+                    stress, rating, use, "", rt.any() ? "ok" : "check the ratings"});
+    cls.emplace_back(rt.any() ? "" : "note");
+  }
   return "<section id=\"parts\"><h2>Parts and ratings</h2>" +
          table(
              {"part", "role", "value", "recipe", "tol", "dielectric", "stress", "rating", "#use", "polarity", "check"},
              rows, cls) +
          "<p class=\"muted\">Use: resistors against half their power rating, capacitors against their voltage rating "
-         "less a quarter of margin, the transistor's voltages against 80 % of its maximum ratings and its dissipation "
-         "against half its rating derated to the warmest ambient (common practice); its voltage is the whole rail, "
-         "which it holds when cut off. Stress from the exact operating point; a capacitor also takes "
+         "less a quarter of margin, each transistor's voltages against 80 % of its maximum ratings and its "
+         "dissipation against half its rating derated to the warmest ambient (common practice); its voltage is the "
+         "whole rail, which it holds when cut off. Stress from the exact operating point; a capacitor also takes "
          "the output's signal peak.</p></section>";
 }
 
@@ -707,6 +742,7 @@ draw::SchematicOptions schematic_notes(const synth::Candidate& c) {
   }
   o.notes[transistor_designator(c)] = {c.device.name + (c.piece ? " " + c.piece->label : ""), kind_text(c.device.kind),
                                        false, ""};
+  if (c.device2) o.notes[second_transistor_designator(c)] = {c.device2->name, kind_text(c.device2->kind), false, ""};
   o.notes["VDD"] = {volts(c.conditions.supply_v), "supply", false, ""};
   o.notes["VSIG"] = {"signal", "", false, ""};
   o.notes["RSIG"] = {c.conditions.source_ohm > 0 ? synth::compact_value(c.conditions.source_ohm, true) : "0 (ideal)",
@@ -730,7 +766,8 @@ std::string html_report(const ReportInput& in) {
     // Drawn as "could not be solved".
   }
 
-  std::string h = page_start(in, fmt::format("Design {}: {} with {}", in.id, c.topology->name(), c.device.name));
+  std::string h = page_start(in, fmt::format("Design {}: {} with {}{}", in.id, c.topology->name(), c.device.name,
+                                             c.device2 ? " and " + c.device2->name : ""));
   h += header_section(in, a);
   h += schematic_section(in);
   h += response_section(in, r);

@@ -28,7 +28,7 @@ constexpr Role kRoles[] = {
      {13, 6, true, 'l'}},
     {"RG2", "R2", 'R', false, false, "", "", "gate to ground: sets the input impedance", {13, 20, true, 'l'}},
     {"RD", "R3", 'R', false, false, "", "", "supply to drain: drives Q2's base", {19, 6, true, 'l'}},
-    {"RC2", "R4", 'R', false, false, "", "", "Q2's collector to ground: Q2's load", {26, 21, true, 'r'}},
+    {"RC2", "R4", 'R', false, false, "", "", "Q2's collector to ground: Q2's load", {26, 21, true, 'l'}},
     {"RF",
      "R5",
      'R',
@@ -42,7 +42,7 @@ constexpr Role kRoles[] = {
     {"RS2", "R7", 'R', true, false, "", "", "x to ground, bypassed: lowers the DC gain", {19, 24, true, 'l'}},
     {"CS", "C2", 'C', true, true, "x", "0", "bypass across RS2", {22, 24, true, 'r'}, true},
     {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
-    {"COUT", "C3", 'C', false, true, "collector2", "out", "output coupling", {26, 9, false, 'a'}},
+    {"COUT", "C3", 'C', false, true, "collector2", "out", "output coupling", {26, 13, false, 'a'}},
 };
 static_assert(std::size(kRoles) == kPairRoles);
 

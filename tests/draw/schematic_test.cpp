@@ -2,12 +2,14 @@
 // N and P polarity, on a positive and a negative rail, with each subset of its optional
 // resistors left out), the drawn wires, read back purely as geometry, join exactly the pins
 // the netlist puts on each net; no wire crosses a symbol or touches another net; every tee
-// carries a junction dot; and the drawing is an SVG that Chromium parses and paints. The
-// stage's places come from its roles, as the report passes them.
+// carries a junction dot; a pair's second transistor has a place of its own and is drawn as
+// its own kind; and the drawing is an SVG that Chromium parses and paints. The stage's places
+// come from its roles, as the report passes them.
 #include "shelfstage/draw/schematic.hpp"
 
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
@@ -62,11 +64,21 @@ circuit::Circuit build(const Variant& v) {
   q.jfet.idss_a = 5e-3;
   q.jfet.vp_abs_v = 2;
   q.bjt.kind = q.kind;
+  // A pair takes its second, bipolar transistor (Q2) beside the first: of the other polarity
+  // for a complementary pair, of the same for a like pair.
+  if (t.second_device() != stages::SecondDevice::none) {
+    const bool npn2 = (t.second_device() == stages::SecondDevice::same) != v.p_type;
+    q.paired = true;
+    q.bjt2.kind = npn2 ? devices::DeviceKind::npn : devices::DeviceKind::pnp;
+  }
   stages::Conditions c;
   c.supply_v = 12;
   c.negative_rail = v.negative_rail;
   c.source_ohm = 1e3;
   stages::Values values = t.reference(q, c, {});
+  // A reference design, not an empty one: every part the stage cannot do without has a value.
+  for (std::size_t i = 0; i < t.roles().size(); ++i)
+    CHECK_MESSAGE((t.roles()[i].optional || values[i] > 0), v.topology, " ", t.roles()[i].name);
   for (const auto& r : v.left_out) values[t.role_index(r)] = 0;
   return t.netlist(values, q, c);
 }
@@ -288,6 +300,75 @@ TEST_CASE("lay_out: symbols follow the device polarity and the electrolytic's + 
   CHECK(symbol("Q1").kind == SymbolKind::npn);
 }
 
+TEST_CASE("lay_out: a pair draws its second transistor apart from the first, as its own kind") {
+  int pairs = 0;
+  for (const stages::Topology* t : stages::registry()) {
+    if (t->second_device() == stages::SecondDevice::none) continue;
+    ++pairs;
+    for (bool p : {false, true})
+      for (bool neg : {false, true}) {
+        const Variant v{std::string(t->name()), p, neg};
+        INFO(v.topology, p ? " P" : " N", neg ? " on -rail" : " on +rail");
+        const auto c = build(v);
+        const auto s = lay_out(c, placed(v));
+        std::vector<PlacedSymbol> qs;
+        for (const auto& y : s.symbols)
+          if (y.role == "device") qs.push_back(y);
+        REQUIRE(qs.size() == 2);
+        const auto& q1 = qs[0].designator == "Q1" ? qs[0] : qs[1];
+        const auto& q2 = qs[0].designator == "Q1" ? qs[1] : qs[0];
+        REQUIRE(q1.designator == "Q1");
+        REQUIRE(q2.designator == "Q2");
+        // Two symbols at two places, their bodies apart; the second to the right of the first.
+        CHECK_FALSE(same(q1.centre, q2.centre));
+        const bool apart = q1.body.x1 <= q2.body.x0 || q2.body.x1 <= q1.body.x0 || q1.body.y1 <= q2.body.y0 ||
+                           q2.body.y1 <= q1.body.y0;
+        CHECK(apart);
+        CHECK(q2.centre.x > q1.centre.x);
+        // Each symbol is the netlist's own kind: Q2 a bipolar of the other polarity.
+        const auto* e2 = c.find("Q2");
+        REQUIRE(e2 != nullptr);
+        const auto kind2 = c.bjts()[e2->c.device].kind;
+        CHECK(q2.kind == (kind2 == devices::DeviceKind::pnp ? SymbolKind::pnp : SymbolKind::npn));
+        CHECK(q2.kind == (p ? SymbolKind::npn : SymbolKind::pnp));
+        const bool jfet = t->accepts(devices::DeviceKind::njfet);
+        CHECK(q1.kind ==
+              (jfet ? (p ? SymbolKind::pjfet : SymbolKind::njfet) : (p ? SymbolKind::pnp : SymbolKind::npn)));
+        // Q2 stands with its emitter toward the rail it sits on, its collector away from it.
+        auto pin = [&](const std::string& d, std::size_t k) {
+          const auto it = std::find_if(s.pins.begin(), s.pins.end(),
+                                       [&](const PlacedPin& x) { return x.designator == d && x.pin == k; });
+          REQUIRE(it != s.pins.end());
+          return *it;
+        };
+        const PlacedPin emitter = pin("Q2", 2), collector = pin("Q2", 0);
+        const std::string rail = c.net_name(emitter.net);
+        REQUIRE((rail == "vdd" || rail == "0"));
+        const double rail_y = rail == "vdd" ? 2.0 : 27.0;
+        CHECK(std::abs(emitter.at.y - rail_y) < std::abs(collector.at.y - rail_y));
+        // The first transistor stands as in a one-device stage: its main terminal toward the
+        // supply unless the stage is turned over (the second's polarity does not turn it).
+        const bool turned = p != neg;
+        CHECK((pin("Q1", 0).at.y < pin("Q1", 2).at.y) == !turned);
+        // Q2's collector net in its place among the others: RC2 hangs from it toward the rail
+        // away from Q2's emitter, RF runs from the common terminal on the left to it, COUT
+        // from it to the output on the right.
+        auto end_on = [&](const std::string& role, const std::string& net) {
+          const std::string d = des(v, role);
+          for (std::size_t k = 0; k < 2; ++k)
+            if (c.net_name(pin(d, k).net) == net) return pin(d, k).at;
+          FAIL("no pin of ", d, " on ", net);
+          return Point{};
+        };
+        const std::string common(t->node_names()[1]), other_rail = rail == "vdd" ? "0" : "vdd";
+        CHECK((end_on("RC2", "collector2").y < end_on("RC2", other_rail).y) == !turned);
+        CHECK(end_on("RF", common).x < end_on("RF", "collector2").x);
+        CHECK(end_on("COUT", "collector2").x < end_on("COUT", "out").x);
+      }
+  }
+  CHECK(pairs >= 2);
+}
+
 TEST_CASE("lay_out: what it cannot draw is an input error naming the part") {
   const Variant cs{"jfet-cs-self"};
   auto c = build(cs);
@@ -303,7 +384,8 @@ TEST_CASE("lay_out: what it cannot draw is an input error naming the part") {
 
 TEST_CASE("schematic_svg: Chromium parses and paints it; every designator is in it") {
   const std::string dir = temp_dir();
-  for (const auto& v : {Variant{"jfet-cs-self"}, Variant{"bjt-ce-divider", true, true}, Variant{"jfet-follower"}}) {
+  for (const auto& v : {Variant{"jfet-cs-self"}, Variant{"bjt-ce-divider", true, true}, Variant{"jfet-follower"},
+                        Variant{"bjt-fb-pair"}}) {
     SchematicOptions o;
     if (v.topology == "bjt-ce-divider") o.notes[des(v, "COUT")] = {"10u", "25 V", true, "out"};
     const auto c = build(v);

@@ -1,7 +1,8 @@
 // Tests of the HTML report, rendered in headless Chromium (the outside reference for "a browser
-// shows it"): designs from the demo shelf in every topology, N and P, and one above 60 V. Each
-// report must load nothing from elsewhere, parse as XML as a whole (so every inline SVG does),
-// paint a page that is not blank with no console output, print to PDF, and name every part.
+// shows it"): designs from the demo shelf in every topology, N and P, a feedback pair with both
+// its transistors, and one above 60 V. Each report must load nothing from elsewhere, parse as
+// XML as a whole (so every inline SVG does), paint a page that is not blank with no console
+// output, print to PDF, and name every part.
 #include "shelfstage/report/html_report.hpp"
 
 #include <doctest/doctest.h>
@@ -12,9 +13,11 @@
 #include <map>
 #include <random>
 #include <regex>
+#include <tuple>
 
 #include "report_fixture.hpp"
 #include "shelfstage/error.hpp"
+#include "shelfstage/units/notation.hpp"
 #include "support/browser.hpp"
 #include "support/palette_check.hpp"
 
@@ -52,6 +55,17 @@ const char* const kHighVoltageStock =
     "C,100u,10,20%,,160,electrolytic,Z1,radial,\n"
     "C,220n,10,10%,,250,film,Z2,box,\n"
     "C,1u,10,10%,,250,film,Z2,box,\n";
+
+/// How the report names a transistor's kind.
+std::string kind_words(devices::DeviceKind k) {
+  switch (k) {
+    case devices::DeviceKind::njfet: return "N-channel JFET";
+    case devices::DeviceKind::pjfet: return "P-channel JFET";
+    case devices::DeviceKind::npn: return "NPN transistor";
+    case devices::DeviceKind::pnp: return "PNP transistor";
+  }
+  return "transistor";
+}
 
 std::string temp_dir() {
   std::random_device rd;
@@ -223,6 +237,71 @@ TEST_CASE("html_report: a chain renders whole, the chain first and then each sta
   if (std::getenv("SHELFSTAGE_KEEP_REPORTS") == nullptr) std::filesystem::remove_all(dir);
 }
 
+TEST_CASE("html_report: a feedback pair shows both transistors, in the schematic and among the parts") {
+  const auto inv = test::demo_inventory();
+  // Gain 100 into 10k from 9 V with a high input impedance: the demo shelf's bipolar pair.
+  synth::Spec spec;
+  spec.gain = 100;
+  spec.load_ohm = 10e3;
+  spec.supply_lo_v = spec.supply_hi_v = 9;
+  spec.zin_min_ohm = 300e3;
+  spec.topologies = {"bjt-fb-pair"};
+  spec.stages_max = 1;
+  spec.top = 1;
+  spec.mc_samples = 60;
+  report::ReportInput in;
+  in.spec = spec;
+  in.candidate = test::design_one(spec, inv);
+  const auto& c = in.candidate;
+  REQUIRE(c.device2);
+  REQUIRE(c.topology->second_device() != stages::SecondDevice::none);
+  in.id = c.id;
+  in.created = "2024-05-01 10:00:00";
+  in.generator = "shelfstage (test)";
+  in.pick = report::make_pick_list(c, 1, inv.parts);
+  in.bias_samples = 60;
+  const std::string html = report::html_report(in);
+  CHECK(palette_only(html));
+  const std::string dir = temp_dir();
+  const std::string dom = check_report(in, html, dir, "pair");
+  // Q2 has its row among the parts: its type and kind, its stress beside its ratings.
+  const auto parts = dom.find("<section id=\"parts\"");
+  REQUIRE(parts != std::string::npos);
+  const std::string table = dom.substr(parts, dom.find("</section>", parts) - parts);
+  const std::string q1_row =
+      "<td>Q1</td><td>device</td><td>" + c.device.name + "</td><td>" + kind_words(c.device.kind) + "</td>";
+  const std::string q2_row =
+      "<td>Q2</td><td>device</td><td>" + c.device2->name + "</td><td>" + kind_words(c.device2->kind) + "</td>";
+  CHECK(table.find(q1_row) != std::string::npos);
+  CHECK(table.find(q2_row) != std::string::npos);
+  const auto& r2 = c.device2->ratings;
+  const std::string rated =
+      r2.v_max_v ? "VCEO " + units::format_value(*r2.v_max_v, units::Unit::volt) : std::string("not stated");
+  CHECK(table.find(rated, table.find(q2_row)) != std::string::npos);
+  // The schematic draws both, each labelled with its own type and kind.
+  const auto schematic = dom.find("<section id=\"schematic\"");
+  REQUIRE(schematic != std::string::npos);
+  const std::string drawing = dom.substr(schematic, dom.find("</section>", schematic) - schematic);
+  for (const auto& [q, name, kind] : {std::tuple{std::string("Q1"), c.device.name, c.device.kind},
+                                      std::tuple{std::string("Q2"), c.device2->name, c.device2->kind}}) {
+    const auto group = drawing.find("data-part=\"" + q + "\"");
+    REQUIRE_MESSAGE(group != std::string::npos, q);
+    const std::string part = drawing.substr(group, drawing.find("</g>", group) - group);
+    CHECK_MESSAGE(part.find(">" + q + "<") != std::string::npos, q);
+    CHECK_MESSAGE(part.find(">" + name + "<") != std::string::npos, q);
+    CHECK_MESSAGE(part.find(">" + kind_words(kind) + "<") != std::string::npos, q);
+  }
+  // In a chain the pair's transistors take their stage's numbers (the second stage: Q201, Q202).
+  synth::Candidate staged = c;
+  for (auto& rp : staged.parts) rp.stage = 2;
+  const auto notes = report::schematic_notes(staged).notes;
+  CHECK(notes.count("Q201") == 1);
+  REQUIRE(notes.count("Q202") == 1);
+  CHECK(notes.at("Q202").value == c.device2->name);
+  CHECK(notes.count("Q2") == 0);
+  if (std::getenv("SHELFSTAGE_KEEP_REPORTS") == nullptr) std::filesystem::remove_all(dir);
+}
+
 TEST_CASE("html_report: above 60 V the hazardous-voltage caution defers to local codes and licensed practice") {
   auto inv = test::demo_inventory(kHighVoltageStock);
   // A high-voltage NPN (VCEO 300 V; invented, as the demo's types): none of the demo's small-
@@ -277,6 +356,7 @@ TEST_CASE("schematic_notes: IEC 60062 values, recipes, polarity and the bench") 
     if (rp.polarised) CHECK(!n.plus_net.empty());
   }
   CHECK(o.notes.at("Q1").value == in.candidate.device.name);
+  CHECK(o.notes.count("Q2") == 0);  // one transistor
   // IEC 60062 writes 10 kOhm as 10K and 1 kOhm as 1K0 (bench notes use the lower-case k).
   CHECK(o.notes.at("RL").value == "10k");
   CHECK(o.notes.at("RSIG").value == "1k0");

@@ -8,14 +8,20 @@
 //     "load", "load capacitance") and the transistor ("device") have fixed places here; the
 //     stage's own parts take the places the caller gives (SchematicOptions::places, from the
 //     topology's roles). A role without a place is an InputError naming it.
+//  2a. A stage with two transistors (a feedback pair): the second (Q2; Q102, Q202 ... in a
+//     chain's stage) has its own place up and to the right of the first, its base level with
+//     the first's main terminal, its collector toward the load; a transistor whose emitter or
+//     source sits on the supply stands that terminal up, toward its rail, and is drawn as
+//     its own kind (NPN or PNP). Both carry their labels on the left, beside the base lead on
+//     the common terminal's side, where the nets around them leave room.
 //  3. A two-terminal part's ends are ordered by a rank of their nets: vertically the supply
 //     on top, ground at the bottom (an inner net at the level the caller gives); horizontally
 //     along the signal path (source, input, control pin, the stage's output pin, output; an
 //     inner net at the place the caller gives).
-//  3a. A stage turned over on its rail (a P device on a positive supply, an N device on a
-//     negative one: stages::Rail) is drawn as people draw it: the stage's own parts mirrored
-//     top to bottom (source or emitter toward the + rail on top, drain or collector toward
-//     ground), the bench (supply, signal source, load) where it always is.
+//  3a. A stage turned over on its rail (its first transistor a P device on a positive supply,
+//     an N device on a negative one: stages::Rail) is drawn as people draw it: the stage's
+//     own parts mirrored top to bottom (source or emitter toward the + rail on top, drain or
+//     collector toward ground), the bench (supply, signal source, load) where it always is.
 //  4. The supply net and ground are rails (horizontal lines at fixed heights) that every pin
 //     on them reaches by a vertical wire. Any other net is one straight trunk (vertical or
 //     horizontal, through the span of its pins' projections) with a straight perpendicular
