@@ -57,10 +57,25 @@ struct Nodes {
   double r_e = 0, r_d = 0;
 };
 
+// devices::bjt_eval's collector and base currents (the same equations) with each junction's
+// exponential taken once: a reverse-biased junction past 40 VT contributes exp() < 5e-18 of IS,
+// taken as 0 (its -IS stays).
+struct BjtCurrents {
+  double ic = 0, ib = 0;
+};
+BjtCurrents bjt_currents(const devices::BjtInstance& q, double ebe, double vbc) {
+  const double x = vbc / q.vt_v;
+  const double ebc = x < -40.0 ? 0.0 : std::exp(std::min(x, 40.0));
+  const double ibe = q.is_a * (ebe - 1.0), ibc = q.is_a * (ebc - 1.0);
+  const double inv_vaf = (q.vaf_v > 0.0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
+  return {(ibe - ibc) * (1.0 - vbc * inv_vaf) - ibc / q.br, ibe / q.bf + ibc / q.br};
+}
+
 Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, const Held& h) {
   Nodes n;
   // Q1's base current from VBE alone (its reverse part is femtoamperes in the active region).
-  n.ib1 = d.jfet ? 0.0 : d.b.is_a * (std::exp(u / d.b.vt_v) - 1.0) / d.b.bf;
+  const double ebe1 = d.jfet ? 0.0 : std::exp(u / d.b.vt_v);
+  n.ib1 = d.jfet ? 0.0 : d.b.is_a * (ebe1 - 1.0) / d.b.bf;
   const double gt = s.rth() > 0 ? 1.0 / s.rth() : 0.0;
   if (h.on) {
     const double gs = 1.0 / h.rs;
@@ -70,10 +85,11 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
   }
   n.ve = n.vg - u;
   n.vd = s.vcc - w;
-  n.i1 = d.jfet ? devices::jfet_eval(d.j, u, n.vd - n.ve).id_a : devices::bjt_eval(d.b, u, n.vg - n.vd).ic_a;
+  n.i1 = d.jfet ? devices::jfet_eval(d.j, u, n.vd - n.ve).id_a : bjt_currents(d.b, ebe1, n.vg - n.vd).ic;
   // Q2 mirrored into an NPN's frame: VBE -> VEB = w, VBC -> VCB = vo - vd. Its collector
   // current is linear in vo through the Early term, so KCL at o gives vo directly.
-  const double ibe2 = d.b2.is_a * (std::exp(w / d.b2.vt_v) - 1.0);
+  const double ebe2 = std::exp(w / d.b2.vt_v);
+  const double ibe2 = d.b2.is_a * (ebe2 - 1.0);
   const double inv_vaf = (d.b2.vaf_v > 0 && std::isfinite(d.b2.vaf_v)) ? 1.0 / d.b2.vaf_v : 0.0;
   const double a = ibe2 * (1.0 + n.vd * inv_vaf), b = -ibe2 * inv_vaf;  // ic2 = a + b vo
   double g = 1.0 / s.rc2 + 1.0 / s.rf, rhs = a + n.ve / s.rf;
@@ -82,9 +98,9 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
     rhs += h.vo0 / h.rl;
   }
   n.vo = rhs / (g - b);
-  const devices::BjtEval q2 = devices::bjt_eval(d.b2, w, n.vo - n.vd);
-  n.ic2 = q2.ic_a;
-  n.ib2 = q2.ib_a;
+  const BjtCurrents q2 = bjt_currents(d.b2, ebe2, n.vo - n.vd);
+  n.ic2 = q2.ic;
+  n.ib2 = q2.ib;
   double leg;
   if (h.on && s.bypassed()) {
     n.vx = h.vx0;
@@ -339,8 +355,28 @@ PairBias pair_bias(const PairParts& s, const PairDevices& d) {
   const double i1 = w / s.r1;
   double u =
       d.jfet ? devices::jfet_vgs_for_current(d.j, std::min(i1, 0.9 * d.j.idss_a)) : d.b.vt_v * std::log(i1 / d.b.is_a);
+  // The search evaluates one stage many times over (corners, tolerance ends): the last
+  // operating point this thread found is the better start when it is near (Newton lands on
+  // the same point to 1e-11 V from either).
+  thread_local double last_u = 0, last_w = 0;
+  thread_local bool last_jfet = false;
   Nodes n;
-  if (!solve_nodes(s, d, Held{}, u, w, n)) return b;
+  bool solved = false;
+  if (last_w > 0 && last_jfet == d.jfet && std::abs(last_w - w) < 0.15 && std::abs(last_u - u) < 0.3) {
+    double uw = last_u, ww = last_w;
+    solved = solve_nodes(s, d, Held{}, uw, ww, n);
+    if (solved) {
+      u = uw;
+      w = ww;
+    }
+  }
+  if (!solved && !solve_nodes(s, d, Held{}, u, w, n)) {
+    last_w = 0;
+    return b;
+  }
+  last_u = u;
+  last_w = w;
+  last_jfet = d.jfet;
   b.solved = true;
   b.u = u;
   b.w = w;
