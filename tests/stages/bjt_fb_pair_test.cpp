@@ -10,32 +10,7 @@ using namespace shelfstage;
 using namespace shelfstage::test;
 
 TEST_CASE("bjt-fb-pair against ngspice: NPN-PNP and PNP-NPN, hFE 100 to 400, 5 V to 24 V") {
-  const stages::Topology& t = *stages::find_topology("bjt-fb-pair");
-  ErrorLog log;
-  // The harness's conditions and knobs are the same for every topology; where the pair's own
-  // design equations find no active design (a JFET of |VP| 4 V on 5 V leaves Q2 no room),
-  // the case is left out, and most must remain.
-  std::vector<StageCase> cases;
-  for (StageCase& sc : standard_cases(t)) {
-    if (t.evaluate(sc.values, sc.q, sc.c).active)
-      cases.push_back(std::move(sc));
-    else
-      MESSAGE(sc.label, ": no reference design");
-  }
-  REQUIRE(cases.size() >= 12);
-  // The output falls until Q2 cuts off. The closed form's straight line from the bias reaches
-  // Q2's zero current first (as its current falls the loop gain goes with it and the output
-  // moves further per ampere than at the bias): up to a quarter short of ngspice's cut-off
-  // extreme, never past it (seen: 2.12 V against 2.61 V, 2.24 V against 2.85 V).
-  // THD at the rated level: the series, interpolated from the static transfer over three
-  // quarters of the swing, reads the rise toward clipping early, so the rated level comes out
-  // low, on the safe side: its THD up to 60 % over ngspice's there (seen: +51 %), never below
-  // it by more than the usual 10 %.
-  Tolerances tol;
-  tol.swing_short = 0.25;
-  tol.thd_over = 0.6;
-  for (const StageCase& sc : cases) check_case(log, sc, tol);
-  log.report(fmt::format("bjt-fb-pair: {} cases, worst relative error against ngspice", cases.size()));
+  check_pair_cases(*stages::find_topology("bjt-fb-pair"));
 }
 
 TEST_CASE("bjt-fb-pair: the gain follows 1 + RF / RE1 across both devices' hFE limits, in ngspice") {
