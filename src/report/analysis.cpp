@@ -138,7 +138,8 @@ std::vector<FigureRow> figure_rows(const Analysis& a) {
       {"nodes." + std::string(names[0]), fmt::format("V({})", names[0]), e.v_in, f.v_in, kFloorV, volts},
       {"nodes." + std::string(names[1]), fmt::format("V({})", names[1]), e.v_common, f.v_common, kFloorV, volts},
       {"nodes." + std::string(names[2]), fmt::format("V({})", names[2]), e.v_out, f.v_out, kFloorV, volts},
-      {"bias_current", current_name(t), e.bias_current_a, f.bias_current_a, kFloorA, amps},
+      {"bias_current", (a.stage.transistor.paired ? "Q1 " : "") + current_name(t), e.bias_current_a, f.bias_current_a,
+       kFloorA, amps},
       {"supply_current", "supply current", e.supply_current_a, f.supply_current_a, kFloorA, amps},
       {"gain", "gain, source to load", e.gain, f.gain, kFloorGain, gain_text},
       {"zin", "input impedance", e.zin_ohm, f.zin_ohm, kFloorOhm, ohms},
@@ -146,6 +147,10 @@ std::vector<FigureRow> figure_rows(const Analysis& a) {
       {"f_low", "-3 dB low", e.f_low_hz, f.f_low_hz, kFloorHz, hz_text},
       {"f_high", "-3 dB high", e.f_high_hz, f.f_high_hz, kFloorHz, hz_text},
   };
+  if (a.stage.transistor.paired)  // a pair's output terminal, and Q2's current
+    rows.insert(rows.begin() + 3,
+                {{"nodes.collector2", "V(Q2 collector)", e.v_out2, f.v_out2, kFloorV, volts},
+                 {"q2_current", "Q2 collector current", e.q2_current_a, f.q2_current_a, kFloorA, amps}});
   if (c.band_lo_hz > 0)
     rows.push_back({"loss_low_db", fmt::format("loss at {}", format_value(c.band_lo_hz, Unit::hertz)), e.loss_lo_db,
                     f.loss_lo_db, kFloorDb, db_text});

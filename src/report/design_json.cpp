@@ -202,9 +202,11 @@ Json part_json(const synth::RolePart& rp) {
 Json nominal_json(const synth::Candidate& c) {
   const auto keys = node_keys(c);
   const auto& n = c.nominal;
+  Json nodes = {{keys[0], n.v_in}, {keys[1], n.v_common}, {keys[2], n.v_out}};
+  if (c.device2) nodes["collector2"] = n.v_out2;  // a pair's output terminal (Q2's collector)
   return {{"gain", n.gain},
           {"bias_current", n.bias_current_a},
-          {"nodes", {{keys[0], n.v_in}, {keys[1], n.v_common}, {keys[2], n.v_out}}},
+          {"nodes", nodes},
           {"zin", n.zin_ohm},
           {"zout", n.zout_ohm},
           {"f_low", n.f_low_hz},
