@@ -54,6 +54,12 @@ stages::Transistor placeholder(const stages::Topology& t) {
   }
   q.jfet.kind = q.kind;
   q.bjt.kind = q.kind;
+  if (t.second_device() != stages::SecondDevice::none) {  // a pair's Q2, of the kind it takes
+    q.paired = true;
+    const bool n_first = devices::polarity(q.kind) > 0;
+    q.bjt2.kind = (t.second_device() == stages::SecondDevice::same) == n_first ? devices::DeviceKind::npn
+                                                                               : devices::DeviceKind::pnp;
+  }
   return q;
 }
 

@@ -404,8 +404,9 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
   Performance p;
   b = pair_bias(s, d);
   if (!b.solved || !(b.i1 > 1e-9) || !(b.ic2 > 1e-9)) {
-    p.problem = b.solved ? "cut off: the feedback finds no point where both devices conduct"
-                         : "no operating point: the feedback pair does not settle";
+    p.problem = b.solved
+                    ? "cut off: the feedback finds no point where both devices conduct"
+                    : "without an operating point: the feedback pair does not settle (a device saturated or cut off)";
     return p;
   }
   p.valid = true;
