@@ -154,3 +154,30 @@ TEST_CASE("analyze: every mistake is bad input (exit 1) with one error line nami
     CHECK(expect_error(a).err.find("RS1 is not among the parts given") != std::string::npos);
   }
 }
+
+TEST_CASE("analyze a feedback pair: --device2 names Q2, required for a pair and refused for one transistor") {
+  Shelf s;
+  const std::vector<std::string> pair = {"analyze",  "bjt-fb-pair", "--db",   s.db,       "--device", "SQ-420",
+                                         "--supply", "9",           "--load", "10k",      "--part",   "RB1=4.7M",
+                                         "--part",   "RB2=2.2M",    "--part", "RC1=6k8",  "--part",   "RC2=4k7",
+                                         "--part",   "RF=22k",      "--part", "RE1=220",  "--part",   "RE2=10k",
+                                         "--part",   "CE=220u",     "--part", "CIN=100n", "--part",   "COUT=10u"};
+  auto with = [&](std::vector<std::string> more) {
+    std::vector<std::string> a = pair;
+    a.insert(a.end(), more.begin(), more.end());
+    return a;
+  };
+  CHECK(expect_error(pair).err.find("--device2") != std::string::npos);
+  CHECK(expect_error(with({"--device2", "SQ-410"})).err.find("SQ-410") != std::string::npos);  // the same polarity
+  CHECK(expect_error(with({"--device2", "SJ-101"})).err.find("SJ-101") != std::string::npos);  // not bipolar
+  CHECK(expect_error(stage_args(s, {"--device2", "SQ-510"})).err.find("--device2") != std::string::npos);
+  const auto r = test::run_stage_cli(with({"--device2", "SQ-510", "--json"}));
+  REQUIRE(r.status == 0);
+  const auto j = nlohmann::json::parse(r.out);
+  // The pair amplifies in phase, about 1 + RF/RE1 (101) less its loop's share; its output is
+  // Q2's collector, near the middle of the rail (hand figures: the divider puts the base at
+  // 2.6 V, Q1 at Q2's VEB over RC1, about 0.1 mA).
+  const double gain = j["exact"]["gain"].get<double>();
+  CHECK(gain > 70);
+  CHECK(gain < 101);
+}
