@@ -365,6 +365,26 @@ std::vector<Request> requests() {
     s.stages_max = 1;
     out.push_back({"shunt-feedback stage, 12 V", s});
   }
+  {
+    // The two-transistor pair alone: both devices at their limit pieces, every pairing.
+    synth::Spec s = base(100, 10e3, 8.4, 9.6, 100e3);
+    s.topologies = {"bjt-fb-pair"};
+    s.band_hz = std::pair{20.0, 20e3};
+    s.swing_vpp = 2;
+    s.stages_max = 1;
+    s.top = 1;
+    out.push_back({"feedback pair, gain 100, 8.4..9.6 V", s});
+  }
+  {
+    // The JFET-input pair turned over on a negative rail (P-channel JFET, NPN Q2 or the N mirror).
+    synth::Spec s = base(20, 22e3, 15, 15, 1e6);
+    s.topologies = {"jfet-fb-pair"};
+    s.negative_rail = true;
+    s.band_hz = std::pair{20.0, 20e3};
+    s.stages_max = 1;
+    s.top = 1;
+    out.push_back({"JFET-input pair, -15 V", s});
+  }
   return out;
 }
 
@@ -383,7 +403,7 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
       ++designs;
       std::string devices;
       for (const auto& st : c.is_chain() ? c.stages : std::vector<synth::Candidate>{c})
-        devices += (devices.empty() ? "" : " > ") + st.device.name;
+        devices += (devices.empty() ? "" : " > ") + st.device.name + (st.device2 ? "+" + st.device2->name : "");
       MESSAGE(fmt::format("{}: {} with {}, gain {:.4g} ({:.4g}..{:.4g})", req.label, c.topology_name(), devices,
                           c.nominal.gain, c.worst.gain.min, c.worst.gain.max));
       const auto& w = c.worst;
