@@ -17,8 +17,6 @@ std::string_view output_node(const Topology& t) {
   return role.pos_net == kNetOut ? role.neg_net : role.pos_net;
 }
 
-bool output_at_main(const Topology& t) { return output_node(t) == t.node_names()[2]; }
-
 char output_dc_field(const Topology& t) {
   const std::string_view n = output_node(t);
   if (n == t.node_names()[2]) return 'm';

@@ -352,21 +352,7 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   for (std::size_t i = 0; i < roles.size(); ++i)
     if (roles[i].kind == 'C') trial[i] = targets[i];
   // Most proposals miss the gain window or a constraint already with ideal capacitors:
-  // one evaluation settles them before any capacitor is looked up. Where the request bounds
-  // the distortion, a proposal whose gain misses the window without any constraint broken is
-  // settled first without the distortion's series (the costliest part of an evaluation,
-  // several times the rest for a feedback pair): the series changes neither the gain nor a
-  // constraint's failure into a pass, only which constraint a failure is counted under, so
-  // only a clean gain miss is settled that way.
-  if (screen_.distortion) {
-    const auto rough = t.evaluate(trial, q_, gain_only_, stages::Detail::core);
-    ++stats.evaluations;
-    if (rough.valid && rough.active && !detail::gain_ok(spec_, rough.gain) && detail::violation(spec_, rough).empty()) {
-      note_reach(stats, spec_, rough);
-      ++stats.failures["gain"];
-      return false;
-    }
-  }
+  // one evaluation settles them before any capacitor is looked up.
   const auto ideal = t.evaluate(trial, q_, screen_, stages::Detail::core);
   ++stats.evaluations;
   if (!meets_request(spec_, ideal, stats, true)) return false;

@@ -27,11 +27,9 @@ inline constexpr double kLinkedCin = 1.0;
 /// The input coupling role ("CIN") of a topology, or roles().size() when it has none.
 std::size_t input_coupling_role(const Topology& t);
 
-/// The device node a stage's COUT takes the signal from (its end away from "out"): "drain",
-/// "collector", "source" or "emitter"; and whether that is the main terminal (node_names()[2],
-/// whose DC a Performance gives as v_out; else v_common).
+/// The net a stage's COUT takes the signal from (its end away from "out"): "drain",
+/// "collector", "source", "emitter", or a pair's "collector2".
 std::string_view output_node(const Topology& t);
-bool output_at_main(const Topology& t);
 /// Which DC of a Performance is the output node's: 'm' v_out (the main terminal), 'c'
 /// v_common (a follower), '2' v_out2 (a pair's Q2 collector).
 char output_dc_field(const Topology& t);
