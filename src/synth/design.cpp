@@ -900,6 +900,14 @@ void diagnose(Diagnosis& d, const Run& run) {
   d.binding = binding;
   d.detail = searched ? describe_binding(binding, spec, run.tally)
                       : "no stocked transistor fits the chosen topologies and device filters";
+  // A pair takes two types: a filter naming only its input device leaves it no Q2.
+  if (!searched && !spec.devices.empty())
+    for (const auto* t : stages::registry())
+      if (t->second_device() != stages::SecondDevice::none &&
+          std::find(spec.topologies.begin(), spec.topologies.end(), t->name()) != spec.topologies.end()) {
+        d.detail += " (a feedback pair takes two types: name its second transistor, Q2, with --device as well)";
+        break;
+      }
   if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock")
     detail::explain_binding(d, spec, run.inv);
   if (divider_reaches(spec))

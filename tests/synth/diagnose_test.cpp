@@ -141,3 +141,14 @@ TEST_CASE("a supply beyond every transistor's rating: the rating binds, named wi
     CHECK(c.worst.device_p.max <= synth::kDevicePowerShare * c.worst.device_p_allowed.min + 1e-12);
   }
 }
+
+TEST_CASE("a pair with only its input device named says its second transistor must be named too") {
+  synth::Spec s = request(30, 10e3, 12, 100e3);
+  s.topologies = {"bjt-fb-pair"};
+  s.devices = {"SQ-420"};
+  const auto r = synth::design(s, shelf());
+  REQUIRE(r.candidates.empty());
+  CHECK(has(r.diagnosis.detail, "second transistor, Q2, with --device"));
+  s.devices.push_back("SQ-510");  // named: the pair is designed
+  CHECK_FALSE(synth::design(s, shelf()).candidates.empty());
+}
