@@ -162,9 +162,8 @@ void bjt_small_signal(const devices::BjtInstance& q, double vbe, double vbc, dou
 }
 
 // The mid-band network on (g, e, d, o): conductances of every branch.
-struct PairSignal {
+struct PairSignal : PairGains {
   double gs = 0, gb = 0, gleg = 0, gf = 0, gr1 = 0, grc2 = 0, gl = 0;
-  double gm1 = 0, gpi1 = 0, go1 = 0, gm2 = 0, gpi2 = 0, go2 = 0, gbce1 = 0, gbce2 = 0;
   double cpi1 = 0, cmu1 = 0, cpi2 = 0, cmu2 = 0, c_load = 0;
 };
 
@@ -177,14 +176,7 @@ PairSignal pair_signal(const PairParts& s, const PairDevices& d, const PairBias&
   m.gr1 = 1.0 / s.r1;
   m.grc2 = 1.0 / s.rc2;
   m.gl = 1.0 / c.load_ohm;
-  m.gm1 = b.gm1;
-  m.gpi1 = b.gpi1;
-  m.go1 = b.go1;
-  m.gm2 = b.gm2;
-  m.gpi2 = b.gpi2;
-  m.go2 = b.go2;
-  m.gbce1 = b.gbce1;
-  m.gbce2 = b.gbce2;
+  static_cast<PairGains&>(m) = b;
   if (d.jfet) {
     m.cpi1 = cgs_at(d.j, b.u);
     m.cmu1 = cgd_at(d.j, b.vg - b.vd);

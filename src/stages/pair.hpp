@@ -58,14 +58,18 @@ struct PairDevices {
 };
 PairDevices pair_devices(const Transistor& q);
 
+/// Both devices' small-signal parameters at the operating point.
+struct PairGains {
+  double gm1 = 0, gpi1 = 0, go1 = 0, gm2 = 0, gpi2 = 0, go2 = 0;
+  double gbce1 = 0, gbce2 = 0;  ///< base current per volt of VCE (pair.cpp, bjt_small_signal)
+};
+
 /// The operating point of the pair (N frame) and its small-signal parameters.
-struct PairBias {
+struct PairBias : PairGains {
   bool solved = false;
   double u = 0, w = 0;  ///< Q1's VBE or VGS; Q2's VEB
   double i1 = 0, ib1 = 0, ic2 = 0, ib2 = 0;
   double vg = 0, ve = 0, vx = 0, vd = 0, vo = 0;
-  double gm1 = 0, gpi1 = 0, go1 = 0, gm2 = 0, gpi2 = 0, go2 = 0;
-  double gbce1 = 0, gbce2 = 0;  ///< base current per volt of VCE (pair.cpp, bjt_small_signal)
 };
 /// The DC operating point (Newton on u and w).
 PairBias pair_bias(const PairParts& s, const PairDevices& d);
