@@ -43,8 +43,17 @@ constexpr Role kRoles[] = {
     {"CS", "C2", 'C', true, true, "x", "0", "bypass across RS2", {22, 24, true, 'r'}, true},
     {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
     {"COUT", "C3", 'C', false, true, "collector2", "out", "output coupling", {26, 13, false, 'a'}},
+    {"CF",
+     "C4",
+     'C',
+     true,
+     false,
+     "collector2",
+     "source",
+     "across RF: compensation, where the loop's phase margin is short",
+     {22, 12, false, 'a'}},
 };
-static_assert(std::size(kRoles) == kPairRoles);
+static_assert(std::size(kRoles) == kCf + 1);
 
 class JfetFbPair final : public FeedbackPair {
  public:
@@ -88,7 +97,7 @@ class JfetFbPair final : public FeedbackPair {
             v[kBottom] = nearest_one(shelf, rth * vcc / (vcc - vg));
             if (!(v[kTop] > 0) || !(v[kBottom] > 0)) continue;
           }
-          pair_feedback_legs(v, shelf, g, c, i1, vs, vo, veb2, emit);
+          pair_feedback_legs(v, shelf, g, c, PairPlan{i1, vs, vo, veb2}, emit);
         }
       }
     }

@@ -13,8 +13,9 @@
 
 namespace shelfstage::stages::detail {
 
-PairParts pair_parts(const Values& v, double vcc) {
+PairParts pair_parts(const Values& v, double vcc, bool same) {
   PairParts s;
+  s.same = same;
   s.vcc = vcc;
   s.top = v[kTop];
   s.bottom = v[kBottom];
@@ -26,6 +27,8 @@ PairParts pair_parts(const Values& v, double vcc) {
   s.ce = v[kLeg2] > 0 ? v[kBypass] : 0.0;
   s.cin = v[kCin];
   s.cout = v[kCout];
+  s.cf = v[kCf];
+  s.re3 = same ? v[kRE3] : 0.0;
   return s;
 }
 
@@ -53,7 +56,7 @@ struct Held {
 // Every node from (u, w), and the two residuals: KCL at Q1's common terminal and at its main
 // terminal (currents in minus currents out).
 struct Nodes {
-  double i1 = 0, ib1 = 0, ic2 = 0, ib2 = 0, vg = 0, ve = 0, vx = 0, vd = 0, vo = 0;
+  double i1 = 0, ib1 = 0, ic2 = 0, ib2 = 0, vg = 0, ve = 0, vx = 0, vd = 0, vo = 0, ve2 = 0;
   double r_e = 0, r_d = 0;
 };
 
@@ -73,32 +76,76 @@ BjtCurrents bjt_currents(const devices::BjtInstance& q, double ebe, double vbc) 
 
 Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, const Held& h) {
   Nodes n;
-  // Q1's base current from VBE alone (its reverse part is femtoamperes in the active region).
   const double ebe1 = d.jfet ? 0.0 : std::exp(u / d.b.vt_v);
-  n.ib1 = d.jfet ? 0.0 : d.b.is_a * (ebe1 - 1.0) / d.b.bf;
+  const double ib1_fwd = d.jfet ? 0.0 : d.b.is_a * (ebe1 - 1.0) / d.b.bf;
   const double gt = s.rth() > 0 ? 1.0 / s.rth() : 0.0;
-  if (h.on) {
-    const double gs = 1.0 / h.rs;
-    n.vg = (s.vth() * gt + (h.vg0 + h.delta) * gs - n.ib1) / (gt + gs);
-  } else {
-    n.vg = s.vth() - n.ib1 * s.rth();
-  }
-  n.ve = n.vg - u;
-  n.vd = s.vcc - w;
-  n.i1 = d.jfet ? devices::jfet_eval(d.j, u, n.vd - n.ve).id_a : bjt_currents(d.b, ebe1, n.vg - n.vd).ic;
-  // Q2 mirrored into an NPN's frame: VBE -> VEB = w, VBC -> VCB = vo - vd. Its collector
-  // current is linear in vo through the Early term, so KCL at o gives vo directly.
+  // Q2 in an NPN's frame (the complementary form's PNP mirrored: VBE -> VEB = w). Its
+  // collector current is linear in its VCB through the Early term, ic2 = ibe2 (1 + vcb k), so
+  // KCL at o (and, in the same-polarity form, Q2's emitter on RE3) gives vo (and vd) by a
+  // linear solve; the reverse junction's femtoamperes follow from bjt_currents.
   const double ebe2 = std::exp(w / d.b2.vt_v);
   const double ibe2 = d.b2.is_a * (ebe2 - 1.0);
-  const double inv_vaf = (d.b2.vaf_v > 0 && std::isfinite(d.b2.vaf_v)) ? 1.0 / d.b2.vaf_v : 0.0;
-  const double a = ibe2 * (1.0 + n.vd * inv_vaf), b = -ibe2 * inv_vaf;  // ic2 = a + b vo
-  double g = 1.0 / s.rc2 + 1.0 / s.rf, rhs = a + n.ve / s.rf;
-  if (h.on) {
-    g += 1.0 / h.rl;
-    rhs += h.vo0 / h.rl;
+  const double k = (d.b2.vaf_v > 0 && std::isfinite(d.b2.vaf_v)) ? 1.0 / d.b2.vaf_v : 0.0;
+  // Q1's base current has a reverse part, IS (exp(VBC / VT) - 1) / BR: -IS / BR in the active
+  // region, but a Q1 a few tenths of a volt from saturation draws a base current through its
+  // collector junction that grows e-fold every 26 mV of the output's swing (the second
+  // harmonic it makes was nine times the rest, seen). The pin's voltage and the junction's
+  // bias depend on each other: Newton on the reverse part from its reverse-biased value (one
+  // pass in the active region).
+  double ebc1 = 0.0, ib1_rev = d.jfet ? 0.0 : -d.b.is_a / d.b.br;
+  for (int pass = 0; pass < 8; ++pass) {
+    n.ib1 = ib1_fwd + ib1_rev;
+    if (h.on) {
+      const double gs = 1.0 / h.rs;
+      n.vg = (s.vth() * gt + (h.vg0 + h.delta) * gs - n.ib1) / (gt + gs);
+    } else {
+      n.vg = s.vth() - n.ib1 * s.rth();
+    }
+    n.ve = n.vg - u;
+    double g = 1.0 / s.rc2 + 1.0 / s.rf, rhs = n.ve / s.rf;
+    if (h.on) {
+      g += 1.0 / h.rl;
+      rhs += h.vo0 / h.rl;
+    }
+    if (s.same) {
+      // vd = w + RE3 (ic2 + ib2), ic2 = ibe2 (1 + (vo - vd) k); at o, RC2 from the rail feeds
+      // Q2's collector and RF: (g) vo + ic2 = vcc / RC2 + rhs.
+      const double a = s.re3 * ibe2 * k;
+      const double a11 = 1.0 + a, a12 = -a, b1 = w + s.re3 * ibe2 * (1.0 + 1.0 / d.b2.bf);
+      const double a21 = -ibe2 * k, a22 = g + ibe2 * k, b2 = s.vcc / s.rc2 + rhs - ibe2;
+      const double det = a11 * a22 - a12 * a21;
+      n.vd = (b1 * a22 - a12 * b2) / det;
+      n.vo = (a11 * b2 - a21 * b1) / det;
+      n.ve2 = n.vd - w;
+    } else {
+      // The rail less Q2's VEB; ic2 = a + b vo with VCB = vo - vd (mirrored), out of o's KCL.
+      n.vd = s.vcc - w;
+      n.ve2 = s.vcc;
+      const double a = ibe2 * (1.0 + n.vd * k), b = -ibe2 * k;
+      n.vo = (rhs + a) / (g - b);
+    }
+    if (d.jfet) break;
+    const double x1 = (n.vg - n.vd) / d.b.vt_v;
+    ebc1 = x1 < -40.0 ? 0.0 : std::exp(std::min(x1, 40.0));
+    const double next = d.b.is_a * (ebc1 - 1.0) / d.b.br;
+    // Newton on ib1_rev: the pin falls by r_pin per ampere of base current (the collector
+    // junction's own pull on vd is second order), so `next` falls by its slope times r_pin.
+    const double r_pin = h.on ? 1.0 / (gt + 1.0 / h.rs) : s.rth();
+    const double slope = d.b.is_a * ebc1 / (d.b.br * d.b.vt_v) * r_pin;
+    const double step = (next - ib1_rev) / (1.0 + slope);
+    ib1_rev += step;
+    if (std::abs(step) * (r_pin + 1.0) < 1e-13) break;
   }
-  n.vo = rhs / (g - b);
-  const BjtCurrents q2 = bjt_currents(d.b2, ebe2, n.vo - n.vd);
+  n.ib1 = ib1_fwd + ib1_rev;
+  if (d.jfet) {
+    n.i1 = devices::jfet_eval(d.j, u, n.vd - n.ve).id_a;
+  } else {
+    // devices::bjt_eval's collector current with both exponentials at hand.
+    const double ibe = d.b.is_a * (ebe1 - 1.0), ibc = d.b.is_a * (ebc1 - 1.0);
+    const double inv_vaf = (d.b.vaf_v > 0.0 && std::isfinite(d.b.vaf_v)) ? 1.0 / d.b.vaf_v : 0.0;
+    n.i1 = (ibe - ibc) * (1.0 - (n.vg - n.vd) * inv_vaf) - ibc / d.b.br;
+  }
+  const BjtCurrents q2 = bjt_currents(d.b2, ebe2, s.same ? n.vd - n.vo : n.vo - n.vd);
   n.ic2 = q2.ic;
   n.ib2 = q2.ib;
   double leg;
@@ -110,7 +157,9 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
     n.vx = leg * s.re2;
   }
   n.r_e = n.i1 + n.ib1 - leg - (n.ve - n.vo) / s.rf;
-  n.r_d = w / s.r1 + n.ib2 - n.i1;
+  // At Q1's main terminal: R1's current in; Q1's current out, and Q2's base current out (the
+  // same-polarity form's NPN) or in (the complementary form's PNP).
+  n.r_d = (s.same ? (s.vcc - n.vd) / s.r1 - n.ib2 : w / s.r1 + n.ib2) - n.i1;
   return n;
 }
 
@@ -161,14 +210,18 @@ void bjt_small_signal(const devices::BjtInstance& q, double vbe, double vbc, dou
   gbce = -e.dib_dvbc;
 }
 
-// The mid-band network on (g, e, d, o): conductances of every branch.
+// The small-signal network on (g, e, d, o) and, in the same-polarity form, Q2's emitter e2:
+// conductances of every branch.
 struct PairSignal : PairGains {
-  double gs = 0, gb = 0, gleg = 0, gf = 0, gr1 = 0, grc2 = 0, gl = 0;
-  double cpi1 = 0, cmu1 = 0, cpi2 = 0, cmu2 = 0, c_load = 0;
+  bool same = false;
+  double gs = 0, gb = 0, gleg = 0, gf = 0, gr1 = 0, grc2 = 0, gl = 0, gre3 = 0;
+  double cpi1 = 0, cmu1 = 0, cpi2 = 0, cmu2 = 0, c_load = 0, cf = 0;
+  int n() const { return same ? 5 : 4; }
 };
 
 PairSignal pair_signal(const PairParts& s, const PairDevices& d, const PairBias& b, const Conditions& c) {
   PairSignal m;
+  m.same = s.same;
   m.gs = 1.0 / (c.source_ohm > 0 ? c.source_ohm : 1e-3);
   m.gb = 1.0 / s.rth();
   m.gleg = 1.0 / (s.bypassed() ? s.re1 : s.re1 + s.re2);
@@ -176,6 +229,7 @@ PairSignal pair_signal(const PairParts& s, const PairDevices& d, const PairBias&
   m.gr1 = 1.0 / s.r1;
   m.grc2 = 1.0 / s.rc2;
   m.gl = 1.0 / c.load_ohm;
+  m.gre3 = s.same ? 1.0 / s.re3 : 0.0;
   static_cast<PairGains&>(m) = b;
   if (d.jfet) {
     m.cpi1 = cgs_at(d.j, b.u);
@@ -185,31 +239,79 @@ PairSignal pair_signal(const PairParts& s, const PairDevices& d, const PairBias&
     m.cmu1 = cbc_at(d.b, b.vg - b.vd);
   }
   m.cpi2 = cbe_at(d.b2, b.w);
-  m.cmu2 = cbc_at(d.b2, b.vo - b.vd);
+  m.cmu2 = cbc_at(d.b2, s.same ? b.vd - b.vo : b.vo - b.vd);
   m.c_load = c.load_farads;
+  m.cf = s.cf;
   return m;
 }
 
-// The network on (g, e, d, o) at s (0: mid-band, capacitances open); `load` false leaves the
-// load off (the output impedance).
-Eigen::Matrix4cd hf_matrix(const PairSignal& m, cd s, bool load = true) {
-  Eigen::Matrix4cd a;
-  const double gl = load ? m.gl : 0.0;
-  a << m.gs + m.gb + m.gpi1 + s * (m.cpi1 + m.cmu1), -(m.gpi1 + m.gbce1 + s * m.cpi1), m.gbce1 - s * m.cmu1, 0.0,
-      -(m.gpi1 + m.gm1 + s * m.cpi1), m.gpi1 + m.gm1 + m.go1 + m.gbce1 + m.gleg + m.gf + s * m.cpi1, -(m.go1 + m.gbce1),
-      -m.gf,  //
-      m.gm1 - s * m.cmu1, -(m.gm1 + m.go1), m.go1 + m.gr1 + m.gpi2 + s * (m.cpi2 + m.cmu2 + m.cmu1),
-      m.gbce2 - s * m.cmu2,  //
-      0.0, -m.gf, m.gm2 - s * m.cmu2, m.go2 + m.grc2 + gl + m.gf + s * (m.cmu2 + (load ? m.c_load : 0.0));
+enum { G, E, D, O, E2 };
+constexpr int GND = -1;  // ground, and the rail (an AC ground)
+
+using Mat = Eigen::Matrix<cd, Eigen::Dynamic, Eigen::Dynamic, 0, 5, 5>;
+using Vec = Eigen::Matrix<cd, Eigen::Dynamic, 1, 0, 5, 1>;
+using RMat = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, 5, 5>;
+using RVec = Eigen::Matrix<double, Eigen::Dynamic, 1, 0, 5, 1>;
+
+// Nodal stamps on a matrix whose ground is GND.
+struct Stamps {
+  Mat& a;
+  void y(int p, int q, cd v) {  // an admittance between p and q
+    if (p != GND) a(p, p) += v;
+    if (q != GND) a(q, q) += v;
+    if (p != GND && q != GND) {
+      a(p, q) -= v;
+      a(q, p) -= v;
+    }
+  }
+  void g(int from, int to, int cp, int cn, double gm) {  // gm (v(cp) - v(cn)) from node `from` into `to`
+    auto add = [&](int r, int col, double v) {
+      if (r != GND && col != GND) a(r, col) += v;
+    };
+    add(from, cp, gm);
+    add(from, cn, -gm);
+    add(to, cp, -gm);
+    add(to, cn, gm);
+  }
+  // A transistor's hybrid-pi (a JFET: gpi and gbce 0): ic = gm vbe + go vce, ib = gpi vbe +
+  // gbce vce, cpi from base to emitter, cmu from base to collector.
+  void device(int b, int c, int e, double gm, double gpi, double go, double gbce, cd s, double cpi, double cmu) {
+    y(b, e, gpi + s * cpi);
+    y(b, c, s * cmu);
+    y(c, e, go);
+    g(c, e, b, e, gm);
+    g(b, e, c, e, gbce);
+  }
+};
+
+// The network at s (0: mid-band, capacitances open; CF open there too); `load` false leaves
+// the load off (the output impedance).
+Mat hf_matrix(const PairSignal& m, cd s, bool load = true) {
+  Mat a = Mat::Zero(m.n(), m.n());
+  Stamps st{a};
+  st.y(G, GND, m.gs + m.gb);
+  st.y(E, GND, m.gleg);
+  st.y(O, E, m.gf + s * m.cf);
+  st.y(D, GND, m.gr1);
+  st.y(O, GND, m.grc2 + (load ? m.gl + s * m.c_load : cd(0.0)));
+  st.device(G, D, E, m.gm1, m.gpi1, m.go1, m.gbce1, s, m.cpi1, m.cmu1);
+  const int e2 = m.same ? E2 : GND;
+  if (m.same) st.y(E2, GND, m.gre3);
+  st.device(D, O, e2, m.gm2, m.gpi2, m.go2, m.gbce2, s, m.cpi2, m.cmu2);
   return a;
 }
 
-Eigen::Matrix4d mid_matrix(const PairSignal& m, bool load = true) { return hf_matrix(m, cd(0.0), load).real(); }
+RMat mid_matrix(const PairSignal& m, bool load = true) { return hf_matrix(m, cd(0.0), load).real(); }
 
-enum { G, E, D, O };
+// A unit current into node `at` (the source's Norton current into the pin: gs per volt).
+RVec unit_at(int n, int at, double v = 1.0) {
+  RVec r = RVec::Zero(n);
+  r(at) = v;
+  return r;
+}
 
 // Below mid-band: the network with CIN, the bypass and COUT, the device capacitances open.
-// The three capacitors' nodes fold into the four (pin, common, main, output): the source
+// The three capacitors' nodes fold into the network's (pin, common, main, output): the source
 // reaches the pin through Rs and CIN in series, the common terminal's leg is RE1 in series with
 // RE2 || CE, and the output drives the load through COUT. vout / vsig.
 cd lf_transfer(const PairSignal& m, const PairParts& p, cd s) {
@@ -219,16 +321,21 @@ cd lf_transfer(const PairSignal& m, const PairParts& p, cd s) {
   const cd y_src = m.gs * ycin / (m.gs + ycin);
   const cd z_leg = p.re2 > 0 ? p.re1 + 1.0 / (1.0 / p.re2 + s * p.ce) : cd(p.re1 + p.re2);
   const cd y_load = ycout * m.gl / (ycout + m.gl);
-  Eigen::Matrix4cd a = hf_matrix(lf, cd(0.0), false);
+  lf.cf = 0.0;
+  Mat a = hf_matrix(lf, cd(0.0), false);
   a(G, G) += y_src - m.gs;
   a(E, E) += 1.0 / z_leg - m.gleg;
   a(O, O) += y_load;
-  const cd vo = a.partialPivLu().solve(Eigen::Vector4cd(y_src, 0.0, 0.0, 0.0))(O);
+  Stamps{a}.y(O, E, s * p.cf);
+  Vec rhs = Vec::Zero(m.n());
+  rhs(G) = y_src;
+  const cd vo = a.partialPivLu().solve(rhs)(O);
   return vo * ycout / (ycout + m.gl);
 }
 
 cd hf_transfer(const PairSignal& m, double w) {
-  Eigen::Vector4cd rhs(m.gs, 0.0, 0.0, 0.0);
+  Vec rhs = Vec::Zero(m.n());
+  rhs(G) = m.gs;
   return hf_matrix(m, cd(0.0, w)).partialPivLu().solve(rhs)(O);
 }
 
@@ -248,7 +355,7 @@ double hf_crossing_hz(Below below3db, double lo, double hi) {
 // The output excursions each device allows, from the mid-band solution x (per volt of the
 // source) extended in a straight line: a quantity q0 + k * source, held at or above its limit
 // (margin = q0 - limit), limits the side of the output it falls on.
-void set_swing(Performance& p, const PairBias& b, const PairDevices& d, const PairParts& s, const Eigen::Vector4d& x) {
+void set_swing(Performance& p, const PairBias& b, const PairDevices& d, const PairParts& s, const RVec& x) {
   double up = std::numeric_limits<double>::infinity(), down = up;
   const double xo = x(O);
   auto limit = [&](double margin, double k) {
@@ -257,8 +364,14 @@ void set_swing(Performance& p, const PairBias& b, const PairDevices& d, const Pa
     if (per_out < 0) up = std::min(up, margin / -per_out);
     if (per_out > 0) down = std::min(down, margin / per_out);
   };
-  limit(s.vcc - b.vo - d.b2.vce_sat_v, -xo);                   // Q2 saturates
-  limit(b.ic2, -(b.gm2 * x(D) + b.go2 * xo));                  // Q2 cuts off
+  if (s.same) {
+    const double xe2 = x(E2);
+    limit(b.vo - b.ve2 - d.b2.vce_sat_v, xo - xe2);           // Q2 saturates
+    limit(b.ic2, b.gm2 * (x(D) - xe2) + b.go2 * (xo - xe2));  // Q2 cuts off
+  } else {
+    limit(s.vcc - b.vo - d.b2.vce_sat_v, -xo);   // Q2 saturates
+    limit(b.ic2, -(b.gm2 * x(D) + b.go2 * xo));  // Q2 cuts off
+  }
   limit(b.i1, b.gm1 * (x(G) - x(E)) + b.go1 * (x(D) - x(E)));  // Q1 cuts off
   if (d.jfet) {
     limit(b.vd - b.ve - (b.u + d.j.vp_abs_v), x(D) - x(G));  // Q1 reaches its triode edge
@@ -273,13 +386,11 @@ void set_swing(Performance& p, const PairBias& b, const PairDevices& d, const Pa
 
 // Input-referred noise density: each source's current into the mid-band network, its share at
 // the output summed in power, over the gain.
-double input_noise(const PairSignal& m, const PairBias& b, const PairParts& s, const PairDevices& d,
-                   const Conditions& c, double gain) {
-  const Eigen::PartialPivLU<Eigen::Matrix4d> lu(mid_matrix(m));
+double input_noise(const PairSignal& m, const PairBias& b, const PairDevices& d, const Conditions& c, double gain) {
+  const Eigen::PartialPivLU<RMat> lu(mid_matrix(m));
   const double kt4 = thermal_v2(1.0, c.celsius), q2 = 2.0 * devices::kCharge;
-  constexpr int GND = -1;
   auto out = [&](int from, int to) {  // |vo| per ampere driven from `from` into `to`
-    Eigen::Vector4d rhs = Eigen::Vector4d::Zero();
+    RVec rhs = RVec::Zero(m.n());
     if (from != GND) rhs(from) -= 1.0;
     if (to != GND) rhs(to) += 1.0;
     return lu.solve(rhs)(O);
@@ -298,21 +409,24 @@ double input_noise(const PairSignal& m, const PairBias& b, const PairParts& s, c
     add(v2, q2 * b.i1, out(D, E));
     add(v2, q2 * b.ib1, out(G, E));
   }
-  add(v2, q2 * b.ic2, out(O, GND));
-  add(v2, q2 * b.ib2, out(D, GND));
-  (void)s;
+  const int e2 = m.same ? E2 : GND;
+  if (m.same) add(v2, kt4 * m.gre3, out(GND, E2));
+  add(v2, q2 * b.ic2, out(O, e2));
+  add(v2, q2 * b.ib2, out(D, e2));
   return std::sqrt(v2) / std::abs(gain);
 }
 
-// The static transfer at mid-band: the output's deviation for source deviations at eight
-// Chebyshev nodes over +/- a, the degree-7 interpolating polynomial's coefficients.
+// The static transfer at mid-band as a power series in the source's deviation. Where a device
+// limit sits close outside the interval (a Q1 a few tenths of a volt from saturation), a
+// polynomial through points spread over +/- a gets the low orders wrong (seen: HD2 a ninth of
+// the exact at a seventh of the swing), and those decide the distortion at the levels a
+// request names: the first three orders come from differences at +/- a/8 and +/- a/4 (fourth-
+// and second-order accurate), the orders four to seven from a least-squares fit of what is left
+// at eight Chebyshev nodes over +/- a.
 Transfer static_transfer(const PairParts& s, const PairDevices& d, const PairBias& b, const Conditions& c, double a,
-                         const Eigen::Vector4d& x) {
+                         const RVec& x) {
   Transfer t;
   if (!(a > 0)) return t;
-  constexpr int n = Transfer::kOrder + 1;
-  Eigen::Matrix<double, n, n> vander;
-  Eigen::Matrix<double, n, 1> y;
   Held h;
   h.on = true;
   h.rs = c.source_ohm > 0 ? c.source_ohm : 1e-3;
@@ -320,21 +434,36 @@ Transfer static_transfer(const PairParts& s, const PairDevices& d, const PairBia
   h.vx0 = b.vx;
   h.vo0 = b.vo;
   h.rl = c.load_ohm;
-  for (int k = 0; k < n; ++k) {
-    const double tk = std::cos(std::numbers::pi * (2 * k + 1) / (2.0 * n));
-    h.delta = a * tk;
-    // Newton from the mid-band solution's straight line (x per volt of the source): u moves
-    // with the control pin less the common terminal, w against Q1's main terminal.
-    double u = b.u + (x(G) - x(E)) * h.delta, w = b.w - x(D) * h.delta;
+  // How u and w move per volt of the source on the mid-band solution's straight line: u with
+  // the control pin less the common terminal; w against Q1's main terminal (the rail fixes
+  // Q2's emitter) or with it less Q2's emitter (the same-polarity form).
+  const double du = x(G) - x(E), dw = s.same ? x(D) - x(E2) : -x(D);
+  bool ok = true;
+  auto out = [&](double delta) {  // the output's deviation for the source's
+    h.delta = delta;
+    double u = b.u + du * delta, w = b.w + dw * delta;
     Nodes nd;
-    if (!solve_nodes(s, d, h, u, w, nd)) return {};
-    y(k) = nd.vo - b.vo;
-    double pw = 1.0;
-    for (int j = 0; j < n; ++j, pw *= tk) vander(k, j) = pw;
+    if (!solve_nodes(s, d, h, u, w, nd)) ok = false;
+    return nd.vo - b.vo;
+  };
+  const double e = a / 8;
+  const double p1 = out(e), m1 = out(-e), p2 = out(2 * e), m2 = out(-2 * e);
+  t.o[1] = (8 * (p1 - m1) - (p2 - m2)) / (12 * e);
+  t.o[2] = (16 * (p1 + m1) - (p2 + m2)) / (24 * e * e);
+  t.o[3] = ((p2 - m2) - 2 * (p1 - m1)) / (12 * e * e * e);
+  constexpr int n = Transfer::kOrder + 1, high = Transfer::kOrder - 3;
+  Eigen::Matrix<double, n, high> fit;
+  Eigen::Matrix<double, n, 1> y;
+  for (int k = 0; k < n; ++k) {
+    const double tk = std::cos(std::numbers::pi * (2 * k + 1) / (2.0 * n)), xk = a * tk;
+    y(k) = out(xk) - ((t.o[3] * xk + t.o[2]) * xk + t.o[1]) * xk;
+    double pw = tk * tk * tk;
+    for (int j = 0; j < high; ++j) fit(k, j) = (pw *= tk);
   }
-  const Eigen::Matrix<double, n, 1> coef = vander.partialPivLu().solve(y);
-  double an = 1.0;
-  for (int j = 0; j < n; ++j, an *= a) t.o[static_cast<std::size_t>(j)] = j == 0 ? 0.0 : coef(j) / an;
+  if (!ok) return {};
+  const Eigen::Matrix<double, high, 1> coef = fit.colPivHouseholderQr().solve(y);
+  double an = a * a * a;  // the fit is in tk = x / a
+  for (int j = 0; j < high; ++j) t.o[static_cast<std::size_t>(j + 4)] = coef(j) / (an *= a);
   return t;
 }
 
@@ -342,19 +471,20 @@ Transfer static_transfer(const PairParts& s, const PairDevices& d, const PairBia
 
 PairBias pair_bias(const PairParts& s, const PairDevices& d) {
   PairBias b;
-  // A start near the answer: Q2's VEB at a milliampere, Q1 carrying what R1 then takes.
+  // A start near the answer: Q2's VEB (VBE) at a milliampere, Q1 carrying what R1 then takes.
   double w = d.b2.vt_v * std::log(1e-3 / d.b2.is_a);
-  const double i1 = w / s.r1;
+  const double i1 = s.same ? std::max((s.vcc - w - 1e-3 * s.re3) / s.r1, 1e-7) : w / s.r1;
   double u =
       d.jfet ? devices::jfet_vgs_for_current(d.j, std::min(i1, 0.9 * d.j.idss_a)) : d.b.vt_v * std::log(i1 / d.b.is_a);
   // The search evaluates one stage many times over (corners, tolerance ends): the last
   // operating point this thread found is the better start when it is near (Newton lands on
   // the same point to 1e-11 V from either).
   thread_local double last_u = 0, last_w = 0;
-  thread_local bool last_jfet = false;
+  thread_local bool last_jfet = false, last_same = false;
   Nodes n;
   bool solved = false;
-  if (last_w > 0 && last_jfet == d.jfet && std::abs(last_w - w) < 0.15 && std::abs(last_u - u) < 0.3) {
+  if (last_w > 0 && last_jfet == d.jfet && last_same == s.same && std::abs(last_w - w) < 0.15 &&
+      std::abs(last_u - u) < 0.3) {
     double uw = last_u, ww = last_w;
     solved = solve_nodes(s, d, Held{}, uw, ww, n);
     if (solved) {
@@ -369,6 +499,7 @@ PairBias pair_bias(const PairParts& s, const PairDevices& d) {
   last_u = u;
   last_w = w;
   last_jfet = d.jfet;
+  last_same = s.same;
   b.solved = true;
   b.u = u;
   b.w = w;
@@ -381,6 +512,7 @@ PairBias pair_bias(const PairParts& s, const PairDevices& d) {
   b.vx = n.vx;
   b.vd = n.vd;
   b.vo = n.vo;
+  b.ve2 = n.ve2;
   if (d.jfet) {
     const devices::JfetEval e = devices::jfet_eval(d.j, u, n.vd - n.ve);
     b.gm1 = e.gm_s;
@@ -388,7 +520,7 @@ PairBias pair_bias(const PairParts& s, const PairDevices& d) {
   } else {
     bjt_small_signal(d.b, u, n.vg - n.vd, b.gm1, b.gpi1, b.go1, b.gbce1);
   }
-  bjt_small_signal(d.b2, w, n.vo - n.vd, b.gm2, b.gpi2, b.go2, b.gbce2);
+  bjt_small_signal(d.b2, w, s.same ? n.vd - n.vo : n.vo - n.vd, b.gm2, b.gpi2, b.go2, b.gbce2);
   return b;
 }
 
@@ -408,8 +540,11 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
   p.v_out = b.vd;
   p.v_out2 = b.vo;
   p.q2_current_a = b.ic2;
-  p.q2_v_main = s.vcc - b.vo;
-  p.supply_current_a = (s.vcc - b.vd) / s.r1 + b.ic2 + b.ib2 + (s.top > 0 ? (s.vcc - b.vg) / s.top : 0.0);
+  p.q2_v_main = b.vce2();
+  // From the rail: R1's current, Q2's emitter current (complementary) or RC2's (same
+  // polarity), the divider's.
+  p.supply_current_a = (s.vcc - b.vd) / s.r1 + (s.same ? (s.vcc - b.vo) / s.rc2 : b.ic2 + b.ib2) +
+                       (s.top > 0 ? (s.vcc - b.vg) / s.top : 0.0);
   const double vmain1 = b.vd - b.ve;
   if (d.jfet) {
     const double edge = b.u + d.j.vp_abs_v;
@@ -418,16 +553,14 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
   } else if (vmain1 <= d.b.vce_sat_v) {
     p.problem = fmt::format("Q1 saturated: VCE {:.2f} V", vmain1);
   }
-  if (p.problem.empty() && s.vcc - b.vo <= d.b2.vce_sat_v)
-    p.problem = fmt::format("Q2 saturated: VCE {:.2f} V", s.vcc - b.vo);
+  if (p.problem.empty() && b.vce2() <= d.b2.vce_sat_v) p.problem = fmt::format("Q2 saturated: VCE {:.2f} V", b.vce2());
   p.active = p.problem.empty();
 
   const PairSignal m = pair_signal(s, d, b, c);
-  const Eigen::Matrix4d a = mid_matrix(m);
-  const Eigen::Vector4d x = a.partialPivLu().solve(Eigen::Vector4d(m.gs, 0.0, 0.0, 0.0));
+  const RVec x = mid_matrix(m).partialPivLu().solve(unit_at(m.n(), G, m.gs));
   p.gain = x(O);
   p.zin_ohm = x(G) / ((1.0 - x(G)) * m.gs);
-  p.zout_ohm = mid_matrix(m, false).partialPivLu().solve(Eigen::Vector4d(0.0, 0.0, 0.0, 1.0))(O);
+  p.zout_ohm = mid_matrix(m, false).partialPivLu().solve(unit_at(m.n(), O))(O);
   // The input capacitance: Cgd (Cmu) whole, Cgs (Cpi) bootstrapped by the common terminal.
   p.c_in_f = m.cmu1 + m.cpi1 * std::max(0.0, 1.0 - x(E) / x(G));
   set_swing(p, b, d, s, x);
@@ -450,20 +583,22 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
 
   finish_distortion(p, c, [&] { return static_transfer(s, d, b, c, 0.75 * p.swing_peak_v / mid, x); });
   if (detail != Detail::core) {
-    p.noise_v_rthz = input_noise(m, b, s, d, c, p.gain);
+    p.noise_v_rthz = input_noise(m, b, d, c, p.gain);
     auto res = [&](std::size_t role, double r, double v) {
       if (r > 0) p.stress.push_back(res_stress(role, v * v / r));
     };
     res(kTop, s.top, s.vcc - b.vg);
     res(kBottom, s.bottom, b.vg);
     res(kR1, s.r1, s.vcc - b.vd);
-    res(kRC2, s.rc2, b.vo);
+    res(kRC2, s.rc2, s.same ? s.vcc - b.vo : b.vo);
+    res(kRE3, s.re3, b.ve2);
     res(kRF, s.rf, b.vo - b.ve);
     res(kLeg1, s.re1, b.ve - b.vx);
     res(kLeg2, s.re2, b.vx);
     if (s.bypassed()) p.stress.push_back(cap_stress(kBypass, b.vx));
     p.stress.push_back(cap_stress(kCin, b.vg));
     p.stress.push_back(cap_stress(kCout, b.vo));
+    if (s.cf > 0) p.stress.push_back(cap_stress(kCf, b.vo - b.ve));
   }
   return p;
 }
@@ -485,27 +620,43 @@ double nearest_one(const ValueSource& shelf, double target) {
   return found.empty() ? 0.0 : found.front();
 }
 
-void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const Conditions& c, double i1, double ve,
-                        double vo, double veb2, const std::function<void(const Values&)>& emit) {
-  if (!(i1 > 0) || !(ve > 0) || !(vo > ve + 0.5) || vo > c.supply_v - 0.5) return;
+void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const Conditions& c, const PairPlan& plan,
+                        const std::function<void(const Values&)>& emit) {
+  const double i1 = plan.i1, ve = plan.ve, vo = plan.vo, vcc = c.supply_v;
+  if (!(i1 > 0) || !(ve > 0) || !(vo > ve + 0.5) || vo > vcc - 0.5) return;
+  if (plan.same && !(plan.vd - plan.vbe2 > 0.2 && plan.vd < vo)) return;
   // The ratio RF / RE1 sets the gain and RE1 + RE2 the DC: those get every near value the
   // shelf offers; Q1's and Q2's currents take the nearest one.
-  std::vector<double> r1s, rc2s, rfs;
-  r1s.push_back(nearest_one(shelf, veb2 / i1));
+  struct Drive {
+    double r1, rc2, re3;
+  };
+  std::vector<Drive> drives;
   // Q2 at one to ten milliamperes: the more current, the larger Q2's gm and the loop gain.
+  // Its load (RC2 to ground below the output, or to the rail above it) carries the output's
+  // excursion toward Q2's cut-off.
+  const double load_volts = plan.same ? vcc - vo : vo;
   for (double ic2 : {1e-3, 3e-3, 10e-3}) {
     if (g.max_current_a > 0 && ic2 + 1.2 * i1 > g.max_current_a) continue;
-    // Q2's current into RC2 and the load must carry the swing down.
-    if (g.swing_peak_v > 0 && ic2 * par(vo / ic2, c.load_ohm) < 1.2 * g.swing_peak_v) continue;
-    rc2s.push_back(nearest_one(shelf, vo / ic2));
+    if (g.swing_peak_v > 0 && ic2 * par(load_volts / ic2, c.load_ohm) < 1.2 * g.swing_peak_v) continue;
+    Drive d{};
+    d.rc2 = nearest_one(shelf, load_volts / ic2);
+    if (plan.same) {
+      d.r1 = nearest_one(shelf, (vcc - plan.vd) / (i1 + ic2 / plan.q2_hfe));
+      d.re3 = nearest_one(shelf, (plan.vd - plan.vbe2) / ic2);
+      if (!(d.re3 > 0)) continue;
+    } else {
+      d.r1 = nearest_one(shelf, plan.veb2 / i1);
+    }
+    if (d.r1 > 0 && d.rc2 > 0 && std::none_of(drives.begin(), drives.end(), [&](const Drive& o) {
+          return o.r1 == d.r1 && o.rc2 == d.rc2 && o.re3 == d.re3;
+        }))
+      drives.push_back(d);
   }
-  unique_values(rc2s);
-  std::erase(r1s, 0.0);
-  std::erase(rc2s, 0.0);
   // RF carrying a fifth of Q1's current to twice it: the larger RF, the larger RE1 and the
   // smaller the bypass capacitor; the smaller, the larger the loop gain (RF loads Q2's
   // collector less than RE1's share of it feeds back) and the lower the DC gain that moves the
   // operating point.
+  std::vector<double> rfs;
   for (double k : {0.2, 0.6, 2.0}) shelf.nearest((vo - ve) / (k * i1), 1, rfs);
   unique_values(rfs);
   for (double rf : rfs) {
@@ -525,15 +676,70 @@ void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const
         for (double re2 : re2s) legs.emplace_back(re1, re2);
       }
       for (auto [a, b] : legs)
-        for (double r1 : r1s)
-          for (double rc2 : rc2s) {
-            v[kR1] = r1;
-            v[kRC2] = rc2;
-            v[kRF] = rf;
-            v[kLeg1] = a;
-            v[kLeg2] = b;
-            emit(v);
-          }
+        for (const Drive& d : drives) {
+          v[kR1] = d.r1;
+          v[kRC2] = d.rc2;
+          if (plan.same) v[kRE3] = d.re3;
+          v[kRF] = rf;
+          v[kLeg1] = a;
+          v[kLeg2] = b;
+          emit(v);
+        }
+    }
+  }
+}
+
+// Design (common practice for the pair): Q1 at a tenth of a milliampere to a milliampere,
+// its emitter at a tenth or a fifth of the supply (a larger RE1 + RE2 lowers the DC gain that
+// carries VBE's spread to the output), the base divider carrying ten base currents or as
+// light as the input impedance asked allows. The complementary form puts the output halfway
+// up the supply. The same-polarity form gives Q1 a volt or a tenth of the supply across it
+// (its collector swings only by the output's swing over Q2's gain), puts Q2's emitter a VBE
+// below Q1's collector and the output halfway between Q2's emitter and the rail. The rest
+// from the shared feedback step.
+void propose_bjt_pair(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf, bool same,
+                      const std::function<void(const Values&)>& emit) {
+  if ((g.gain < 1.5 && !g.probe) || !q.paired) return;
+  const auto& t1 = q.bjt;
+  const auto& t2 = q.bjt2;
+  const double vcc = c.supply_v;
+  const double vbe2 = t2.vt_v * std::log(2e-3 / t2.is_a);
+  const double r_lo = std::max(1.06 * g.zin_min_ohm, 1e3);
+  for (double i1 : {0.1e-3, 0.3e-3, 1e-3}) {
+    const double ib1 = i1 / t1.bf, vbe1 = t1.vt_v * std::log(i1 / t1.is_a);
+    const double vo_c = 0.5 * (vcc - t2.vce_sat_v);
+    // A low gain needs the emitter higher: KCL at the emitter puts RE1 + RE2 at or above RE1
+    // only for ve (G + 1) >= 2 vo or so (RF carrying Q1's current).
+    std::vector<double> ves = {std::max(0.1 * vcc, 0.6), 0.2 * vcc};
+    if (const double low_gain = 2.5 * vo_c / (g.gain + 1.0); low_gain > 0.2 * vcc)
+      ves.push_back(std::min(low_gain, vo_c - 1.0));
+    for (double ve : ves) {
+      std::vector<PairPlan> plans;
+      if (same) {
+        for (double vce1 : {std::max(1.0, 0.1 * vcc), std::max(2.0, 0.2 * vcc)}) {
+          PairPlan p{i1, ve, 0.0, 0.0, true, ve + vce1, vbe2, t2.bf};
+          p.vo = 0.5 * (vcc + p.vd - vbe2 + t2.vce_sat_v);
+          plans.push_back(p);
+          if (g.breadth < 1.0) break;
+        }
+      } else {
+        plans.push_back(PairPlan{i1, ve, vo_c, vbe2});
+      }
+      const double vb = ve + vbe1;
+      std::vector<double> rths = {std::max(r_lo, vb / (10.0 * ib1))};
+      if (g.breadth >= 1.0) rths.push_back(std::max(r_lo, vb / (3.0 * ib1)));
+      unique_values(rths);
+      for (double rth : rths) {
+        const double vth = vb + ib1 * rth;
+        if (vth > 0.8 * vcc) continue;
+        // The divider's nearest values: the loop holds the output whatever the base's last
+        // per cent.
+        Values v;
+        v[kTop] = nearest_one(shelf, rth * vcc / vth);
+        v[kBottom] = nearest_one(shelf, rth * vcc / (vcc - vth));
+        if (v[kTop] > 0 && v[kBottom] > 0)
+          for (const PairPlan& p : plans) pair_feedback_legs(v, shelf, g, c, p, emit);
+      }
     }
   }
 }
@@ -565,6 +771,15 @@ Values pair_reference(const Topology& t, const Transistor& q, const Conditions& 
     const Values v = pair_capacitors(proposal, c, g.f_low_hz);
     const Performance p = t.evaluate(v, q, c, Detail::core);
     if (!p.active) return;
+    // A design that holds its bias over either device's hFE at half and twice the piece's
+    // (the base divider's drop and the loop's DC gain move the output with it).
+    for (double k1 : {0.5, 2.0})
+      for (double k2 : {0.5, 2.0}) {
+        Transistor qs = q;
+        qs.bjt.bf *= k1;
+        qs.bjt2.bf *= k2;
+        if (!t.evaluate(v, qs, c, Detail::core).active) return;
+      }
     // Near the gain asked, and of those the stiffest loop: the gain closest to the ratio
     // 1 + RF/RE1 (its shortfall is 1/(1 + T)).
     const double ratio = 1.0 + v[kRF] / v[kLeg1];
@@ -582,9 +797,14 @@ Values pair_reference(const Topology& t, const Transistor& q, const Conditions& 
 
 namespace {
 constexpr InnerNet kPairInner[] = {{"x", "leg junction", 4, {}}, {"collector2", "Q2 collector", 1, {}, 3.5}};
-}
+constexpr InnerNet kSameInner[] = {
+    {"x", "leg junction", 4, {}}, {"collector2", "Q2 collector", 1, {}, 3.5}, {"emitter2", "Q2 emitter", 4.5, {}, 3.5}};
+}  // namespace
 
-std::span<const InnerNet> FeedbackPair::inner_nets() const { return kPairInner; }
+std::span<const InnerNet> FeedbackPair::inner_nets() const {
+  if (same()) return kSameInner;
+  return kPairInner;
+}
 
 LoadLine FeedbackPair::load_line(const Values& v, const Conditions&) const {
   // Q1's own lines: R1 to the rail, Q2's base across it (its input resistance is far above
@@ -614,10 +834,18 @@ circuit::Circuit FeedbackPair::wire(const Values& v, const Transistor& q, const 
     net.jfet("Q1", main, pin, common, q.jfet);
   else
     net.bjt("Q1", main, pin, common, q.bjt);
-  // Q2: base on Q1's main terminal, emitter on the rail (the complementary device).
-  net.bjt("Q2", "collector2", main, "vdd", q.bjt2);
-  add_role(net, r, v, kRC2, "collector2", "0");
+  if (same()) {
+    // Q2: base on Q1's main terminal, emitter to ground through RE3, load from the rail.
+    net.bjt("Q2", "collector2", main, "emitter2", q.bjt2);
+    add_role(net, r, v, kRE3, "emitter2", "0");
+    add_role(net, r, v, kRC2, "vdd", "collector2");
+  } else {
+    // Q2: base on Q1's main terminal, emitter on the rail (the complementary device).
+    net.bjt("Q2", "collector2", main, "vdd", q.bjt2);
+    add_role(net, r, v, kRC2, "collector2", "0");
+  }
   add_role(net, r, v, kRF, "collector2", common);
+  add_role(net, r, v, kCf, "collector2", common);
   add_role(net, r, v, kLeg1, common, v[kLeg2] > 0 ? "x" : "0");
   add_role(net, r, v, kLeg2, "x", "0");
   if (v[kLeg2] > 0) add_role(net, r, v, kBypass, "x", "0");
@@ -632,7 +860,7 @@ Performance FeedbackPair::evaluate_n(const Values& v, const Transistor& q, const
     p.problem = "a feedback pair needs its second transistor";
     return p;
   }
-  return pair_evaluate(pair_parts(v, c.supply_v), pair_devices(q), c, d, b);
+  return pair_evaluate(pair_parts(v, c.supply_v, same()), pair_devices(q), c, d, b);
 }
 
 }  // namespace shelfstage::stages::detail

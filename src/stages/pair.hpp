@@ -1,16 +1,19 @@
-// The series-feedback pair both pair topologies share (bjt-fb-pair, jfet-fb-pair): a common
-// source or emitter input device Q1 whose main terminal drives the base of a complementary
-// common-emitter Q2, the output taken at Q2's collector and fed back through RF to Q1's
-// common terminal, which returns to ground through a split leg (RE1 unbypassed, RE2
-// bypassed). Private to the stages layer.
+// The series-feedback pair the pair topologies share (bjt-fb-pair, jfet-fb-pair,
+// bjt-fb-pair-same): a common source or emitter input device Q1 whose main terminal drives the
+// base of a common-emitter Q2, the output taken at Q2's collector and fed back through RF to
+// Q1's common terminal, which returns to ground through a split leg (RE1 unbypassed, RE2
+// bypassed); an optional CF across RF (compensation). Private to the stages layer.
 //
-// The circuit in the N frame (an N-channel or NPN Q1; Q2 is then a PNP with its emitter on
-// the rail):
+// The circuit in the N frame (an N-channel or NPN Q1):
 //   control pin g: DC from a Thevenin source (vth behind rth: the BJT's base divider; the
 //     JFET's gate resistor to ground, vth 0), coupled in through CIN;
 //   Q1: g, common e, main d;  R1 (RC1 or RD) from the rail to d;
-//   Q2: base d, emitter on the rail, collector o;  RC2 from o to ground;
-//   RF from o to e;  RE1 from e to x, RE2 from x to ground, CE across RE2;  COUT from o to the load.
+//   the complementary form: Q2 a PNP, base d, emitter on the rail, collector o; RC2 from o to
+//     ground;
+//   the same-polarity form: Q2 an NPN, base d, emitter e2, collector o; RE3 from e2 to ground,
+//     RC2 from the rail to o;
+//   RF from o to e (CF across it);  RE1 from e to x, RE2 from x to ground, CE across RE2;
+//   COUT from o to the load.
 // Equations:
 //   DC: two unknowns, u (Q1's control voltage, VBE or VGS) and w (Q2's VEB); every node
 //     follows from them (g from the Thevenin source less the base current, e = g - u,
@@ -21,8 +24,8 @@
 //     shunt feedback amplifier's rule: Sedra and Smith, Microelectronic Circuits, on the
 //     series-shunt feedback pair; from memory), and the DC gain from e to o is
 //     1 + RF / (RE1 + RE2), which holds the operating point.
-//   Below mid-band: the same network with CIN, CE and COUT (7 nodes); above it, the device
-//     capacitances and the load's (4 nodes, complex).
+//   Below mid-band: the same network with CIN, CE and COUT folded in; above it, the device
+//     capacitances and the load's (complex; 4 nodes, 5 in the same-polarity form).
 //   Swing: the mid-band solution extended in a straight line until a device leaves its
 //     active region (saturation, cut-off, a JFET's triode edge or gate conduction).
 //   Distortion: the static transfer from the DC equations with the capacitors holding their
@@ -34,20 +37,38 @@
 
 namespace shelfstage::stages::detail {
 
-/// The roles both pairs have, in this order (names by topology: RB1 or RG1 ...).
-enum PairRole : std::size_t { kTop, kBottom, kR1, kRC2, kRF, kLeg1, kLeg2, kBypass, kCin, kCout, kPairRoles };
+/// The roles of a pair, in this order (names by topology: RB1 or RG1 ...): the complementary
+/// form has the first eleven, the same-polarity form all twelve (RE3: Q2's emitter resistor).
+enum PairRole : std::size_t {
+  kTop,
+  kBottom,
+  kR1,
+  kRC2,
+  kRF,
+  kLeg1,
+  kLeg2,
+  kBypass,
+  kCin,
+  kCout,
+  kCf,
+  kRE3,
+  kPairRoles
+};
 
 /// The pair's parts (ohms, farads) in the N frame; 0: absent (top, leg2, bypass only).
 struct PairParts {
+  bool same = false;           ///< the same-polarity form (Q2's emitter on RE3, RC2 to the rail)
   double vcc = 0;              ///< the rail
   double top = 0, bottom = 0;  ///< the control pin's divider: rail to pin (0: none), pin to ground
   double r1 = 0;               ///< rail to Q1's main terminal (Q2's base)
   double rc2 = 0, rf = 0, re1 = 0, re2 = 0, ce = 0, cin = 0, cout = 0;
+  double cf = 0;   ///< across RF (0: none)
+  double re3 = 0;  ///< Q2's emitter to ground (the same-polarity form)
   double vth() const { return top > 0 ? vcc * bottom / (top + bottom) : 0.0; }  ///< the divider's Thevenin volts
   double rth() const { return top > 0 ? par(top, bottom) : bottom; }            ///< ... and ohms
   bool bypassed() const { return re2 > 0 && ce > 0; }
 };
-PairParts pair_parts(const Values& v, double vcc);
+PairParts pair_parts(const Values& v, double vcc, bool same);
 
 /// Q1 and Q2 as the pair takes them.
 struct PairDevices {
@@ -67,9 +88,11 @@ struct PairGains {
 /// The operating point of the pair (N frame) and its small-signal parameters.
 struct PairBias : PairGains {
   bool solved = false;
-  double u = 0, w = 0;  ///< Q1's VBE or VGS; Q2's VEB
+  double u = 0, w = 0;  ///< Q1's VBE or VGS; Q2's VEB (VBE in the same-polarity form)
   double i1 = 0, ib1 = 0, ic2 = 0, ib2 = 0;
   double vg = 0, ve = 0, vx = 0, vd = 0, vo = 0;
+  double ve2 = 0;  ///< Q2's emitter (the rail in the complementary form)
+  double vce2() const { return ve2 > vo ? ve2 - vo : vo - ve2; }
 };
 /// The DC operating point (Newton on u and w).
 PairBias pair_bias(const PairParts& s, const PairDevices& d);
@@ -85,13 +108,30 @@ Values pair_capacitors(const Values& v, const Conditions& c, double f_low_hz);
 /// The shelf's one value nearest to target (0 when it has none).
 double nearest_one(const ValueSource& shelf, double target);
 
-/// The design step both pairs share, once Q1's current i1, its common terminal's DC ve and
-/// the output's DC vo are chosen: R1 for Q2's VEB (veb2) at i1, RC2 for Q2's current, RF for
-/// its share of the current, RE1 for the gain (1 + RF/RE1, two per cent above the ratio
-/// for the finite loop gain) and RE1 + RE2 from KCL at the common terminal; each from the
-/// shelf, into v (the divider roles left as given), handed to emit.
-void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const Conditions& c, double i1, double ve,
-                        double vo, double veb2, const std::function<void(const Values&)>& emit);
+/// What a pair's design equations fix before the feedback legs: Q1's current i1, its common
+/// terminal's DC ve, the output's DC vo, and Q2's base drive: in the complementary form Q2's
+/// VEB (veb2; R1 = veb2 / i1), in the same-polarity form Q1's main terminal vd (R1 carries
+/// i1 and Q2's base current down to it, RE3 puts Q2's emitter a VBE (vbe2) below it).
+struct PairPlan {
+  double i1 = 0, ve = 0, vo = 0;
+  double veb2 = 0;          ///< complementary form
+  bool same = false;        ///< same-polarity form:
+  double vd = 0, vbe2 = 0;  ///< ... Q1's main terminal, Q2's VBE
+  double q2_hfe = 100;      ///< ... Q2's nominal hFE (its base current out of R1's)
+};
+
+/// The design step the pairs share, once the plan is fixed: R1 and Q2's legs (RC2, and RE3
+/// in the same-polarity form) for Q2 at one to ten milliamperes, RF for its share of the
+/// current, RE1 for the gain (1 + RF/RE1, and a ratio above it for the finite loop gain) and
+/// RE1 + RE2 from KCL at the common terminal; each from the shelf, into v (the divider roles
+/// left as given), handed to emit.
+void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const Conditions& c, const PairPlan& plan,
+                        const std::function<void(const Values&)>& emit);
+
+/// The design equations of a pair with a bipolar Q1 (bjt-fb-pair, bjt-fb-pair-same): the
+/// base divider and the plan for pair_feedback_legs, in the form asked.
+void propose_bjt_pair(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf, bool same,
+                      const std::function<void(const Values&)>& emit);
 
 /// A reference design for a pair (Topology::reference): the topology's own design equations
 /// on ideal values for a gain of 10 (knobs: degeneration 0 asks for 3, 1 for 30), of the
@@ -104,12 +144,13 @@ Values pair_reference(const Topology& t, const Transistor& q, const Conditions& 
 /// reference design and its design equations.
 class FeedbackPair : public Topology {
  public:
-  explicit FeedbackPair(std::span<const Role> roles, std::array<std::string_view, 3> nodes)
-      : roles_(roles), nodes_(nodes) {}
+  FeedbackPair(std::span<const Role> roles, std::array<std::string_view, 3> nodes,
+               SecondDevice form = SecondDevice::complement)
+      : roles_(roles), nodes_(nodes), form_(form) {}
   std::span<const Role> roles() const override { return roles_; }
   std::array<std::string_view, 3> node_names() const override { return nodes_; }
   std::span<const InnerNet> inner_nets() const override;
-  SecondDevice second_device() const override { return SecondDevice::complement; }
+  SecondDevice second_device() const override { return form_; }
   /// The loop: Q2's collector, RF, Q1's common terminal, Q1, Q2, back; broken at RF's output
   /// end (the output's low impedance drives RF's far higher one).
   std::optional<LoopBreak> feedback_loop() const override { return LoopBreak{roles_[kRF].name, "collector2"}; }
@@ -124,6 +165,8 @@ class FeedbackPair : public Topology {
  private:
   std::span<const Role> roles_;
   std::array<std::string_view, 3> nodes_;
+  SecondDevice form_;
+  bool same() const { return form_ == SecondDevice::same; }
 };
 
 }  // namespace shelfstage::stages::detail

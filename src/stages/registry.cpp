@@ -14,11 +14,12 @@ const Topology& jfet_boot_follower();
 const Topology& bjt_ce_shunt();
 const Topology& bjt_fb_pair();
 const Topology& jfet_fb_pair();
+const Topology& bjt_fb_pair_same();
 
 std::span<const Topology* const> registry() {
   static const std::array all = {
       &jfet_cs_self(),       &jfet_cs_divider(), &jfet_follower(), &bjt_ce_divider(), &bjt_follower(),
-      &jfet_boot_follower(), &bjt_ce_shunt(),    &bjt_fb_pair(),   &jfet_fb_pair(),
+      &jfet_boot_follower(), &bjt_ce_shunt(),    &bjt_fb_pair(),   &jfet_fb_pair(),   &bjt_fb_pair_same(),
   };
   return all;
 }

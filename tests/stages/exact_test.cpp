@@ -101,12 +101,7 @@ TEST_CASE("Fast evaluators against evaluate_exact over seeded random cases of ev
       // expanded, 3.9e-5 exact at 15 % of the swing, 3.0e-5 exact at 3 %). evaluate_exact
       // also resolves the harmonic only to about a microvolt (64 quasi-static points, each
       // stopping at the solver's vntol of 0.1 uV).
-      // A feedback pair's series is interpolated from its static transfer over three quarters
-      // of its swing (src/stages/pair.cpp): it resolves a second harmonic down to about 0.02 %,
-      // not below (seen: 1.3e-5 against 1.0e-4 at 15 % of the swing).
-      const double hd2_floor = t->second_device() != stages::SecondDevice::none ? 2e-4 : 2e-5;
-      check_close(log, pre + "HD2", sc.label, fast.hd2, exact.hd2, tol.hd2,
-                  std::max(hd2_floor, 1e-6 / sc.c.hd2_peak_v));
+      check_close(log, pre + "HD2", sc.label, fast.hd2, exact.hd2, tol.hd2, std::max(2e-5, 1e-6 / sc.c.hd2_peak_v));
       // A feedback pair's swing is the straight line from the bias to the first device limit.
       // Toward Q2's cut-off it stops early: as Q2's current falls the loop gain goes with it
       // and the output moves further per ampere than at the bias (seen: 0.156 V against
@@ -126,8 +121,11 @@ TEST_CASE("Fast evaluators against evaluate_exact over seeded random cases of ev
     }
     CHECK_MESSAGE(pair_short * 10 <= compared, t->name(), ": ", pair_short,
                   " swings more than 30 % short of the exact");
-    // The sweep must mostly land in the active region, or it tests nothing.
-    CHECK_MESSAGE(compared >= 48, t->name(), ": only ", compared, " of 80 random cases were active");
+    // The sweep must mostly land in the active region, or it tests nothing. The same-polarity
+    // pair leaves Q1 a volt or two between its emitter and Q2's base: parts scattered by a
+    // third each way saturate it in about half the cases.
+    const int least = t->second_device() == stages::SecondDevice::same ? 36 : 48;
+    CHECK_MESSAGE(compared >= least, t->name(), ": only ", compared, " of 80 random cases were active");
     log.report(fmt::format("{}: {} cases compared, {} skipped (not active); worst relative error", t->name(), compared,
                            skipped));
   }

@@ -294,9 +294,13 @@ inline SpiceSwing spice_swing(const StageCase& sc, const Performance& predicted,
   const double k = devices::polarity(sc.q.kind);
   const auto nets = terminal_nets(sc);
   const std::string g = vexpr(nets[0]), s = vexpr(nets[1]), d = vexpr(nets[2]);
-  // A feedback pair amplifies in phase, its output on Q2's collector: driving the input up
-  // takes the output up until Q2 saturates, as a follower's output goes up to its edge.
-  const bool follower = sc.topology->is_buffer() || sc.q.paired;
+  // A feedback pair amplifies in phase, its output on Q2's collector. In the complementary
+  // form driving the input up takes the output up until Q2 saturates, as a follower's output
+  // goes up to its edge; in the same-polarity form Q2 saturates with the output down, as a
+  // common emitter's does, and that side is reached by driving the input down.
+  const bool same_pair = sc.q.paired && sc.topology->second_device() == stages::SecondDevice::same;
+  const bool follower = sc.topology->is_buffer() || (sc.q.paired && !same_pair);
+  const double drive = same_pair ? -1.0 : 1.0;
   const double period = 1.0 / f_hz;
   const double gain = std::abs(predicted.gain);
   // N frame: the saturation side is "down" for the common source/emitter, "up" for followers;
@@ -309,15 +313,16 @@ inline SpiceSwing spice_swing(const StageCase& sc, const Performance& predicted,
   } else {
     edge = fmt::format("Bedge edge 0 V={0}*({1}-{2})-{3:.10g}", k, d, s, sc.q.bjt.vce_sat_v);
   }
-  if (sc.q.paired) {  // Q2's VCE (its emitter on the rail, of the other polarity) reaching vce_sat
+  if (sc.q.paired) {  // Q2's VCE reaching vce_sat (complementary: its emitter on the rail)
     const circuit::Circuit net = sc.topology->netlist(sc.values, sc.q, sc.c);
     const auto& p2 = net.find("Q2")->c.pins;  // collector, base, emitter
     const std::string c2 = vexpr(circuit::spice_net(net, p2[0])), e2 = vexpr(circuit::spice_net(net, p2[2]));
-    edge = fmt::format("Bedge edge 0 V={0}*({1}-{2})-{3:.10g}", k, e2, c2, sc.q.bjt2.vce_sat_v);
+    edge = same_pair ? fmt::format("Bedge edge 0 V={0}*({1}-{2})-{3:.10g}", k, c2, e2, sc.q.bjt2.vce_sat_v)
+                     : fmt::format("Bedge edge 0 V={0}*({1}-{2})-{3:.10g}", k, e2, c2, sc.q.bjt2.vce_sat_v);
   }
   SpiceSwing out;
   {
-    const double amp = k * 2.5 * std::max(sat_pred, 0.05) / gain;
+    const double amp = drive * k * 2.5 * std::max(sat_pred, 0.05) / gain;
     const std::vector<std::string> a = {edge, ".control",
                                         fmt::format("tran {0:.6g} {1:.6g} 0 {0:.6g}", period / 4000, period / 2),
                                         "meas tran onset find v(out) when v(edge)=0 fall=1", ".endc"};
@@ -326,7 +331,7 @@ inline SpiceSwing spice_swing(const StageCase& sc, const Performance& predicted,
     (follower ? out.up_v : out.down_v) = v;
   }
   {
-    const double amp = -k * 4.0 * std::max(cut_pred, 0.05) / gain;
+    const double amp = -drive * k * 4.0 * std::max(cut_pred, 0.05) / gain;
     const std::vector<std::string> a = {
         ".control", fmt::format("tran {0:.6g} {1:.6g} 0 {0:.6g}", period / 4000, period / 2),
         fmt::format("meas tran top max v(out) from=0 to={:.6g}", period / 2),
@@ -564,9 +569,14 @@ inline void check_pair_cases(const Topology& t) {
   // quarters of the swing, reads the rise toward clipping early, so the rated level comes out
   // low, on the safe side: its THD up to 60 % over ngspice's there (seen: +51 %), never below
   // it by more than the usual 10 %.
+  // HD2: both evaluators are quasi-static (they agree with each other to 1e-9); with a
+  // 100 kOhm source the junction capacitances' nonlinearity adds a second harmonic of its own at
+  // the test frequency, which only ngspice sees (seen: 5.14e-4 against ngspice's 5.92e-4 in
+  // the same-polarity form): a floor of 3e-5 on top of the 10 %.
   Tolerances tol;
   tol.swing_short = 0.25;
   tol.thd_over = 0.6;
+  tol.hd2_floor = 3e-5;
   for (const StageCase& sc : cases) check_case(log, sc, tol);
   log.report(fmt::format("{}: {} cases, worst relative error against ngspice", t.name(), cases.size()));
 }
