@@ -56,6 +56,11 @@ class BjtFbPairSame final : public FeedbackPair {
     return "two-transistor series-feedback pair of one polarity: gain 1 + RF/RE1, for a drawer of one type";
   }
   bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
+  // Q1's collector sits a VBE above Q2's emitter, Q2's gain is RC2 / RE3 (a few) and the DC
+  // gain carries the base divider's drop over the hFE spread to the output: on a datasheet's
+  // spread the designs seldom hold a volt of swing (docs/physics.md, "Feedback pairs"), so
+  // the search tries it only when asked by name.
+  bool searched_by_default() const override { return false; }
   Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const override {
     return pair_reference(*this, q, c, k);
   }

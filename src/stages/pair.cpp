@@ -716,7 +716,7 @@ void propose_bjt_pair(const Goal& g, const Transistor& q, const Conditions& c, c
     for (double ve : ves) {
       std::vector<PairPlan> plans;
       if (same) {
-        for (double vce1 : {std::max(1.0, 0.1 * vcc), std::max(2.0, 0.2 * vcc)}) {
+        for (double vce1 : {std::max(1.5, 0.15 * vcc), std::max(3.0, 0.3 * vcc)}) {
           PairPlan p{i1, ve, 0.0, 0.0, true, ve + vce1, vbe2, t2.bf};
           p.vo = 0.5 * (vcc + p.vd - vbe2 + t2.vce_sat_v);
           plans.push_back(p);

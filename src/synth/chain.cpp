@@ -234,9 +234,7 @@ class ChainSearch {
     std::vector<const stages::Topology*> out;
     for (const auto* t : stages::registry()) {
       if (t->is_buffer() != (slot == Slot::buffer)) continue;
-      if (!spec_.topologies.empty() &&
-          std::find(spec_.topologies.begin(), spec_.topologies.end(), t->name()) == spec_.topologies.end())
-        continue;
+      if (!detail::topology_wanted(spec_, *t)) continue;
       out.push_back(t);
     }
     return out;

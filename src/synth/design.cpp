@@ -535,9 +535,7 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   }
   std::vector<Job> jobs;
   for (const auto* t : stages::registry()) {
-    if (!spec.topologies.empty() &&
-        std::find(spec.topologies.begin(), spec.topologies.end(), t->name()) == spec.topologies.end())
-      continue;
+    if (!detail::topology_wanted(spec, *t)) continue;
     for (const auto& d : inv.devices) {
       if (!t->accepts(d.kind)) continue;
       if (!spec.devices.empty() && std::find(spec.devices.begin(), spec.devices.end(), d.name) == spec.devices.end())

@@ -109,6 +109,13 @@ void add_cautions(Candidate& c, const Spec& spec, int next_stage = 0);
 /// Fraction of Monte Carlo builds meeting the spec (a chain: every stage drawn at once).
 double monte_carlo(const Candidate& c, const Spec& spec);
 
+/// Whether the request lets the search try topology t: named by --topology, or, when none is
+/// named, searched by default.
+inline bool topology_wanted(const Spec& spec, const stages::Topology& t) {
+  if (spec.topologies.empty()) return t.searched_by_default();
+  return std::find(spec.topologies.begin(), spec.topologies.end(), t.name()) != spec.topologies.end();
+}
+
 /// One search job: a topology with one device type (or one measured piece).
 struct Job {
   const stages::Topology* topology = nullptr;

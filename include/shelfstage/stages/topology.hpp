@@ -294,6 +294,10 @@ class Topology {
   virtual std::optional<LoopBreak> feedback_loop() const { return std::nullopt; }
   /// A stage with two devices: which second device it takes (SecondDevice::none: one device).
   virtual SecondDevice second_device() const { return SecondDevice::none; }
+  /// Whether the synthesizer tries it when the request names no topology; false: only when
+  /// asked for by name (a stage whose design equations seldom hold over a datasheet's spread,
+  /// kept out of the default search so that it costs nothing there).
+  virtual bool searched_by_default() const { return true; }
   /// Whether a bipolar type of kind `second` may be Q2 beside a Q1 of kind `first`.
   bool accepts_second(devices::DeviceKind first, devices::DeviceKind second) const;
   virtual std::span<const Role> roles() const = 0;
