@@ -12,6 +12,7 @@
 #include "commands.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/report/analysis.hpp"
+#include "shelfstage/synth/stage_spread.hpp"
 #include "shelfstage/stages/topology.hpp"
 #include "shelfstage/units/notation.hpp"
 #include "stage_view.hpp"
@@ -186,9 +187,9 @@ std::vector<report::PartInfo> part_ratings(const stages::Topology& t, const stag
   return parts;
 }
 
-/// The device from the list (or its measured piece) fitted to the stage at its temperature;
-/// returns its spread for the corner pieces.
-devices::DeviceSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::StageUnderTest& s) {
+/// The device from the list (or its measured piece) fitted to the stage at its temperature, and
+/// a pair's Q2; returns their spreads for the corner pieces.
+synth::StageSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::StageUnderTest& s) {
   const stages::Topology& t = *s.topology;
   auto db = ctx.open_database();
   const devices::DeviceRecord record = device_named(db, o.device);
@@ -205,7 +206,8 @@ devices::DeviceSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::
     s.transistor.jfet = spread.jfet(spread.nominal(), s.conditions.celsius);
   else
     s.transistor.bjt = spread.bjt(spread.nominal(), s.conditions.celsius);
-  // A pair's Q2: its nominal piece (the corners listed are Q1's).
+  // A pair's Q2: its nominal piece (the corners pair both devices' corner pieces).
+  std::optional<devices::DeviceSpread> spread2;
   if (t.second_device() == stages::SecondDevice::none) {
     if (o.device2)
       throw InputError(
@@ -217,14 +219,15 @@ devices::DeviceSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::
     if (!t.accepts_second(record.kind, second.kind))
       throw InputError(fmt::format(
           "--device2 '{}' ({}) does not fit {} beside {} ({}): Q2 is bipolar, of the "
-          "other polarity",
-          *o.device2, devices::kind_name(second.kind), t.name(), record.name, devices::kind_name(record.kind)));
-    const devices::DeviceSpread s2(second);
+          "{} polarity",
+          *o.device2, devices::kind_name(second.kind), t.name(), record.name, devices::kind_name(record.kind),
+          t.second_device() == stages::SecondDevice::same ? "same" : "other"));
+    spread2.emplace(second);
     s.transistor.paired = true;
-    s.transistor.bjt2 = s2.bjt(s2.nominal(), s.conditions.celsius);
+    s.transistor.bjt2 = spread2->bjt(spread2->nominal(), s.conditions.celsius);
     s.device += "+" + second.name;
   }
-  return spread;
+  return synth::StageSpread(std::move(spread), std::move(spread2));
 }
 
 /// The analysis's cautions, with its general note on unstated ratings replaced: parts given
@@ -246,11 +249,11 @@ std::vector<std::string> analyze_cautions(const report::Analysis& a) {
 
 /// The analysis as text.
 void print_analysis(Context& ctx, const AnalyzeOptions& o, const report::Analysis& a, const report::StageUnderTest& s,
-                    const devices::DeviceSpread& spread) {
+                    const synth::StageSpread& spread) {
   const stages::Topology& t = *s.topology;
   const auto& c = a.stage.conditions;
   ctx.out << fmt::format("Stage: {}: {}\n", t.name(), t.summary());
-  ctx.out << device_line(s, spread) << "\n";
+  ctx.out << device_line(s, spread.first()) << "\n";
   ctx.out << fmt::format("Conditions: {}{} rail (ground at the battery's {} terminal), load {}, source {}\n\n",
                          c.negative_rail ? "-" : "+", format_value(c.supply_v, Unit::volt), c.negative_rail ? "+" : "-",
                          format_value(c.load_ohm, Unit::ohm), format_value(c.source_ohm, Unit::ohm));
@@ -272,9 +275,9 @@ void run_analyze(const AnalyzeOptions& o, Context& ctx) {
   s.values = values;
   s.parts = part_ratings(t, values, o);
   s.conditions = conditions_from(o);
-  const devices::DeviceSpread spread = fit_device(ctx, o, s);
+  const synth::StageSpread spread = fit_device(ctx, o, s);
 
-  const report::Analysis a = report::analyze_stage(s, &spread);
+  const report::Analysis a = report::analyze_stage(s, &spread.first(), spread.second());
   if (o.spice) write_spice(*o.spice, s);
   if (ctx.global.json)
     print_json(ctx, report::analysis_json(a));
@@ -291,7 +294,8 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
   cmd->add_option("TOPOLOGY", o->topology, "One of: " + stages::topology_names())->type_name("")->required();
   cmd->add_option("--device", o->device, "Transistor type from the device list")->type_name("NAME")->required();
   cmd->add_option("--device2", o->device2,
-                  "A feedback pair's second transistor (Q2): a bipolar type of the other polarity")
+                  "A feedback pair's second transistor (Q2): a bipolar type of the other polarity (of the same for "
+                  "bjt-fb-pair-same)")
       ->type_name("NAME");
   cmd->add_option("--supply", o->supply, "Supply voltage: 9 for a positive rail, -9 for a negative one")
       ->type_name("V")

@@ -194,7 +194,7 @@ void run_show(const ShowOptions& o, Context& ctx) {
 
   const report::StageUnderTest stage = report::stage_under_test(c);
   const synth::StageSpread spread = synth::spread_of(c);
-  const report::Analysis a = report::analyze_stage(stage, &spread.first());
+  const report::Analysis a = report::analyze_stage(stage, &spread.first(), spread.second());
   if (o.spice) write_spice(*o.spice, stage);
 
   // The kept design's cautions, and the hazard caution of the analysis when the design's

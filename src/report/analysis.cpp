@@ -406,25 +406,34 @@ std::vector<std::string> stage_cautions(const Analysis& a) {
   return out;
 }
 
-// The closed form (Detail::core) at each of the spread's corner pieces.
-std::vector<CornerFigures> corner_figures(const StageUnderTest& stage, const devices::DeviceSpread& spread) {
+// The closed form (Detail::core) at each of the spread's corner pieces; with Q2's spread, at
+// every pairing of Q1's corner pieces with Q2's (without it, Q2 stays the stage's own piece).
+std::vector<CornerFigures> corner_figures(const StageUnderTest& stage, const devices::DeviceSpread& spread,
+                                          const devices::DeviceSpread* spread2) {
   const auto& c = stage.conditions;
-  std::vector<CornerFigures> out;
-  for (const auto& f : spread.corners()) {
-    // A pair's Q2 stays the stage's own piece: these are Q1's corners.
-    stages::Transistor qc = stage.transistor;
-    if (devices::is_jfet(qc.kind))
-      qc.jfet = spread.jfet(f, c.celsius);
-    else
-      qc.bjt = spread.bjt(f, c.celsius);
-    out.push_back({f, stage.topology->evaluate(stage.values, qc, c, stages::Detail::core)});
+  std::vector<std::optional<devices::PieceFigures>> seconds = {std::nullopt};
+  if (spread2 && stage.transistor.paired) {
+    seconds.clear();
+    for (const auto& f2 : spread2->corners()) seconds.emplace_back(f2);
   }
+  std::vector<CornerFigures> out;
+  for (const auto& f : spread.corners())
+    for (const auto& f2 : seconds) {
+      stages::Transistor qc = stage.transistor;
+      if (devices::is_jfet(qc.kind))
+        qc.jfet = spread.jfet(f, c.celsius);
+      else
+        qc.bjt = spread.bjt(f, c.celsius);
+      if (f2) qc.bjt2 = spread2->bjt(*f2, c.celsius);
+      out.push_back({f, f2, stage.topology->evaluate(stage.values, qc, c, stages::Detail::core)});
+    }
   return out;
 }
 
 }  // namespace
 
-Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread* spread) {
+Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread* spread,
+                       const devices::DeviceSpread* spread2) {
   check_stage(stage);
   const auto& t = *stage.topology;
   Analysis a;
@@ -447,7 +456,8 @@ Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread*
   a.cautions = stage_cautions(a);
   if (spread) {
     a.spread = spread->description();
-    a.corners = corner_figures(a.stage, *spread);
+    if (spread2 && stage.transistor.paired) a.spread += "; Q2: " + spread2->description();
+    a.corners = corner_figures(a.stage, *spread, spread2);
   }
   return a;
 }
@@ -520,6 +530,7 @@ Json corner_json(const stages::Topology& t, devices::DeviceKind kind, const Corn
   } else {
     cj["hfe"] = cf.piece.hfe;
   }
+  if (cf.piece2) cj["hfe2"] = cf.piece2->hfe;
   cj["figures"] = detail::performance_json(t, cf.performance);
   return cj;
 }
@@ -616,6 +627,15 @@ std::string parts_text(const Analysis& a) {
   return out;
 }
 
+// A corner piece's tag without its figures in parentheses, which the table's own columns
+// give: "hFE min (110), VBE -30 mV" reads "hFE min, VBE -30 mV".
+std::string short_tag(std::string tag) {
+  const auto open = tag.find(" (");
+  const auto close = tag.find(')', open);
+  if (open != std::string::npos && close != std::string::npos) tag.erase(open, close - open + 1);
+  return tag;
+}
+
 std::string corners_text(const Analysis& a) {
   if (a.corners.empty()) return {};
   const auto& t = *a.stage.topology;
@@ -629,38 +649,49 @@ std::string corners_text(const Analysis& a) {
   } else {
     cols.push_back({"hFE", Align::right});
   }
+  const bool paired = !a.corners.empty() && a.corners.front().piece2;
+  if (paired) {
+    cols.push_back({"Q2 piece"});
+    cols.push_back({"Q2 hFE", Align::right});
+  }
   for (const char* title : {"bias", "", "", "gain", "rated pk", "state"}) cols.push_back({title, Align::right});
   cols[cols.size() - 5].title = fmt::format("V({})", names[1]);
   cols[cols.size() - 4].title = fmt::format("V({})", names[2]);
+  if (a.stage.transistor.paired) cols.insert(cols.end() - 3, Column{"V(Q2 collector)", Align::right});
   cols.back().align = Align::left;
   TextTable table(cols);
   for (const auto& cf : a.corners) {
     const auto& p = cf.performance;
-    std::string tag = cf.piece.tag;
-    if (const auto paren = tag.find(" ("); paren != std::string::npos) tag = tag.substr(0, paren);
-    std::vector<std::string> row = {tag};
+    std::vector<std::string> row = {short_tag(cf.piece.tag)};
     if (jfet) {
       row.push_back(format_value(cf.piece.idss_a, Unit::ampere));
       row.push_back(format_value(-devices::polarity(q.kind) * cf.piece.vp_abs_v, Unit::volt));
     } else {
       row.push_back(fmt::format("{:.0f}", cf.piece.hfe));
     }
+    if (cf.piece2) {
+      row.push_back(short_tag(cf.piece2->tag));
+      row.push_back(fmt::format("{:.0f}", cf.piece2->hfe));
+    }
     if (p.valid) {
       row.push_back(format_value(p.bias_current_a, Unit::ampere));
       row.push_back(format_value(p.v_common, Unit::volt));
       row.push_back(format_value(p.v_out, Unit::volt));
+      if (a.stage.transistor.paired) row.push_back(format_value(p.v_out2, Unit::volt));
       row.push_back(fixed3(p.gain));
       row.push_back(format_value(p.swing_peak_v, Unit::volt));
       row.push_back(p.active ? "ok" : p.problem);
     } else {
-      row.insert(row.end(), {"", "", "", "", "", p.problem.empty() ? "cut off" : p.problem});
+      row.insert(row.end(), {"", "", "", "", ""});
+      if (a.stage.transistor.paired) row.emplace_back();
+      row.push_back(p.problem.empty() ? "cut off" : p.problem);
     }
     table.add_row(row);
   }
   std::string out = fmt::format(
-      "The closed form at the device's corner pieces ({}, {:g} °C), to show how far another "
+      "The closed form at {} corner pieces ({}, {:g} °C), to show how far another "
       "piece moves the bias:\n",
-      a.spread, a.stage.conditions.celsius);
+      paired ? "every pairing of Q1's and Q2's" : "the device's", a.spread, a.stage.conditions.celsius);
   out += table.render({"  "});
   return out;
 }

@@ -30,7 +30,7 @@ std::vector<Analysis> analyze_chain(const synth::Candidate& c) {
   for (std::size_t k = 0; k < c.stages.size(); ++k) {
     const auto& s = c.stages[k];
     const synth::StageSpread spread = synth::spread_of(s);
-    analyses.push_back(analyze_stage(stage_under_test(s), &spread.first()));
+    analyses.push_back(analyze_stage(stage_under_test(s), &spread.first(), spread.second()));
     // After the first stage the previous COUT couples the stage: it has no CIN of its own.
     if (k > 0) std::erase_if(analyses.back().parts, [](const PartStress& p) { return p.name == "CIN"; });
   }

@@ -756,7 +756,7 @@ std::string html_report(const ReportInput& in) {
   if (c.is_chain()) return chain_html_report(in);
   if (!c.topology) throw InputError("report: the design has no topology");
   const synth::StageSpread spread = synth::spread_of(c);
-  const Analysis a = analyze_stage(stage_under_test(c), &spread.first());
+  const Analysis a = analyze_stage(stage_under_test(c), &spread.first(), spread.second());
   const Response r = frequency_response(c, in.spec);
   const BiasSpread b = bias_spread(c, in.spec, in.bias_samples);
   Transfer tr;

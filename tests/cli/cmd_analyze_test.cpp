@@ -3,6 +3,7 @@
 #include <doctest/doctest.h>
 
 #include <cmath>
+#include <set>
 #include <nlohmann/json.hpp>
 
 #include "stage_cli.hpp"
@@ -180,4 +181,21 @@ TEST_CASE("analyze a feedback pair: --device2 names Q2, required for a pair and 
   const double gain = j["exact"]["gain"].get<double>();
   CHECK(gain > 70);
   CHECK(gain < 101);
+  // The corners pair every corner piece of Q1 with every one of Q2 (four each: hFE and VBE
+  // limits): sixteen, each naming Q2's hFE, both datasheet ends of it present, and the gain
+  // held by the loop at every one (the ratio 101 less the loop's share, never above it).
+  const auto& corners = j["corners"];
+  REQUIRE(corners.size() == 16);
+  std::set<double> hfe2;
+  for (const auto& cj : corners) {
+    REQUIRE(cj.contains("hfe2"));
+    hfe2.insert(cj["hfe2"].get<double>());
+    CHECK(cj["figures"]["gain"].get<double>() > 60);
+    CHECK(cj["figures"]["gain"].get<double>() < 101);
+  }
+  CHECK(hfe2 == std::set<double>{110, 450});  // SQ-510's datasheet range (data-demo/devices.csv)
+  const auto text = test::run_stage_cli(with({"--device2", "SQ-510"}));
+  REQUIRE(text.status == 0);
+  CHECK(text.out.find("every pairing of Q1's and Q2's corner pieces") != std::string::npos);
+  CHECK(text.out.find("V(Q2 collector)") != std::string::npos);
 }

@@ -76,7 +76,8 @@ struct PartStress {
 /// The fast evaluator's figures at one of the device's corner pieces.
 struct CornerFigures {
   devices::PieceFigures piece;
-  stages::Performance performance;  ///< Detail::core
+  std::optional<devices::PieceFigures> piece2;  ///< a pair's Q2 piece, when its spread is given
+  stages::Performance performance;              ///< Detail::core
 };
 
 /// Everything the analysis found.
@@ -111,7 +112,10 @@ std::string role_list(const stages::Topology& t);
 /// given at 1 V peak, or at half the closed form's swing peak when that is smaller.
 /// Throws InputError when the topology does not take the transistor's kind or a required
 /// role is missing; never for a stage that does not work (that is a warning).
-Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread* spread = nullptr);
+/// With a pair's Q2 spread (spread2) as well, the corners are every pairing of Q1's corner
+/// pieces with Q2's.
+Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread* spread = nullptr,
+                       const devices::DeviceSpread* spread2 = nullptr);
 
 /// {"schema":1,"topology","device":{name,kind,piece,model},"conditions":{...},"exact":{...}|null,
 ///  "closed_form":{...},"differs":[keys],"parts":[...],"warnings","cautions","spread","corners"}.
