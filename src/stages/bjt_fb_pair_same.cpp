@@ -1,14 +1,13 @@
 // bjt-fb-pair-same: the two-transistor series-feedback pair of one polarity (NPN then NPN, or
 // PNP then PNP), for a drawer that holds one type. Q1, a common emitter biased from a divider,
-// drives the base of Q2 from its collector load RC1; Q2, a common emitter with its own
-// emitter resistor RE3 to ground and its load RC2 from the rail, gives the output at its
-// collector, fed back through RF to Q1's emitter, which returns to ground through RE1
+// drives the base of Q2 from its collector load RC1; Q2, a common emitter with its emitter
+// resistor RE3 to ground bypassed by CE3 and its load RC2 from the rail, gives the output at
+// its collector, fed back through RF to Q1's emitter, which returns to ground through RE1
 // (unbypassed) and RE2 (bypassed by CE). Q2 inverts once more, so the loop is negative and the
 // stage a non-inverting amplifier of gain 1 + RF / RE1 whatever either hFE; the DC operating
 // point is held by the same loop. Q2's emitter sits a VBE below Q1's collector, which leaves
-// Q1 a volt or two; Q2's gain (about RC2 / RE3) is lower than the complementary form's, and
-// so is the loop gain: it suits gains up to a few tens. The closed form is shared with the
-// other pairs (pair.hpp).
+// Q1 one or two volts; without CE3 Q2's gain would be RC2 / RE3, a few, and the loop gain too
+// small to matter. The closed form is shared with the other pairs (pair.hpp).
 #include "pair.hpp"
 
 namespace shelfstage::stages {
@@ -45,6 +44,7 @@ constexpr Role kRoles[] = {
      "across RF: compensation, where the loop's phase margin is short",
      {22, 12, false, 'a'}},
     {"RE3", "R8", 'R', false, false, "", "", "Q2's emitter to ground: sets Q2's current", {26, 21, true, 'r'}},
+    {"CE3", "C5", 'C', false, true, "emitter2", "0", "bypass across RE3: Q2's gain, the loop's", {30, 21, true, 'r'}},
 };
 static_assert(std::size(kRoles) == kPairRoles);
 
@@ -56,10 +56,10 @@ class BjtFbPairSame final : public FeedbackPair {
     return "two-transistor series-feedback pair of one polarity: gain 1 + RF/RE1, for a drawer of one type";
   }
   bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
-  // Q1's collector sits a VBE above Q2's emitter, Q2's gain is RC2 / RE3 (a few) and the DC
-  // gain carries the base divider's drop over the hFE spread to the output: on a datasheet's
-  // spread the designs seldom hold a volt of swing (docs/physics.md, "Feedback pairs"), so
-  // the search tries it only when asked by name.
+  // Searched only when named: it costs a large electrolytic (CE3) and more pieces than the
+  // complementary form, whose place it would otherwise take, and, meeting the gain window as a
+  // single stage, it keeps the search from the chains that may score better (docs/physics.md,
+  // "Feedback pairs").
   bool searched_by_default() const override { return false; }
   Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const override {
     return pair_reference(*this, q, c, k);

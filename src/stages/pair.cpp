@@ -29,6 +29,7 @@ PairParts pair_parts(const Values& v, double vcc, bool same) {
   s.cout = v[kCout];
   s.cf = v[kCf];
   s.re3 = same ? v[kRE3] : 0.0;
+  s.ce3 = same ? v[kCe3] : 0.0;
   return s;
 }
 
@@ -51,6 +52,7 @@ using cd = std::complex<double>;
 struct Held {
   bool on = false;
   double delta = 0, rs = 1e-3, vg0 = 0, vx0 = 0, vo0 = 0, rl = 0;
+  double ve20 = 0;  ///< Q2's emitter, held by CE3 (the same-polarity form)
 };
 
 // Every node from (u, w), and the two residuals: KCL at Q1's common terminal and at its main
@@ -107,7 +109,12 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
       g += 1.0 / h.rl;
       rhs += h.vo0 / h.rl;
     }
-    if (s.same) {
+    if (s.same && h.on && s.bypassed3()) {
+      // CE3 holds Q2's emitter: vd = ve2 + w, and KCL at o alone gives vo.
+      n.ve2 = h.ve20;
+      n.vd = n.ve2 + w;
+      n.vo = (s.vcc / s.rc2 + rhs - ibe2 * (1.0 - k * n.vd)) / (g + ibe2 * k);
+    } else if (s.same) {
       // vd = w + RE3 (ic2 + ib2), ic2 = ibe2 (1 + (vo - vd) k); at o, RC2 from the rail feeds
       // Q2's collector and RF: (g) vo + ic2 = vcc / RC2 + rhs.
       const double a = s.re3 * ibe2 * k;
@@ -214,6 +221,8 @@ void bjt_small_signal(const devices::BjtInstance& q, double vbe, double vbc, dou
 // conductances of every branch.
 struct PairSignal : PairGains {
   bool same = false;
+  bool e2_grounded = false;  ///< CE3 a short (mid-band and above): Q2's emitter at AC ground
+  double ce3 = 0;
   double gs = 0, gb = 0, gleg = 0, gf = 0, gr1 = 0, grc2 = 0, gl = 0, gre3 = 0;
   double cpi1 = 0, cmu1 = 0, cpi2 = 0, cmu2 = 0, c_load = 0, cf = 0;
   int n() const { return same ? 5 : 4; }
@@ -230,6 +239,8 @@ PairSignal pair_signal(const PairParts& s, const PairDevices& d, const PairBias&
   m.grc2 = 1.0 / s.rc2;
   m.gl = 1.0 / c.load_ohm;
   m.gre3 = s.same ? 1.0 / s.re3 : 0.0;
+  m.ce3 = s.bypassed3() ? s.ce3 : 0.0;
+  m.e2_grounded = s.bypassed3();
   static_cast<PairGains&>(m) = b;
   if (d.jfet) {
     m.cpi1 = cgs_at(d.j, b.u);
@@ -295,8 +306,13 @@ Mat hf_matrix(const PairSignal& m, cd s, bool load = true) {
   st.y(D, GND, m.gr1);
   st.y(O, GND, m.grc2 + (load ? m.gl + s * m.c_load : cd(0.0)));
   st.device(G, D, E, m.gm1, m.gpi1, m.go1, m.gbce1, s, m.cpi1, m.cmu1);
-  const int e2 = m.same ? E2 : GND;
-  if (m.same) st.y(E2, GND, m.gre3);
+  int e2 = GND;
+  if (m.same && m.e2_grounded) {
+    a(E2, E2) = 1.0;  // the node stands apart: CE3 shorts Q2's emitter to ground
+  } else if (m.same) {
+    e2 = E2;
+    st.y(E2, GND, m.gre3 + s * m.ce3);
+  }
   st.device(D, O, e2, m.gm2, m.gpi2, m.go2, m.gbce2, s, m.cpi2, m.cmu2);
   return a;
 }
@@ -322,7 +338,8 @@ cd lf_transfer(const PairSignal& m, const PairParts& p, cd s) {
   const cd z_leg = p.re2 > 0 ? p.re1 + 1.0 / (1.0 / p.re2 + s * p.ce) : cd(p.re1 + p.re2);
   const cd y_load = ycout * m.gl / (ycout + m.gl);
   lf.cf = 0.0;
-  Mat a = hf_matrix(lf, cd(0.0), false);
+  lf.e2_grounded = false;  // CE3 (when fitted) its own admittance here
+  Mat a = hf_matrix(lf, s, false);
   a(G, G) += y_src - m.gs;
   a(E, E) += 1.0 / z_leg - m.gleg;
   a(O, O) += y_load;
@@ -423,27 +440,84 @@ double input_noise(const PairSignal& m, const PairBias& b, const PairDevices& d,
 // request names: the first three orders come from differences at +/- a/8 and +/- a/4 (fourth-
 // and second-order accurate), the orders four to seven from a least-squares fit of what is left
 // at eight Chebyshev nodes over +/- a.
+// The stage with its capacitors holding their DC and the load returned to the output's DC,
+// driven from the source's deviation: the quasi-static sweeps (distortion, the swing's check)
+// step through it.
+struct Sweep {
+  const PairParts& s;
+  const PairDevices& d;
+  const PairBias& b;
+  Held h;
+  double du = 0, dw = 0;  ///< u and w per volt of the source on the mid-band solution's line
+  Sweep(const PairParts& s_, const PairDevices& d_, const PairBias& b_, const Conditions& c, const RVec& x)
+      : s(s_), d(d_), b(b_) {
+    h.on = true;
+    h.rs = c.source_ohm > 0 ? c.source_ohm : 1e-3;
+    h.vg0 = b.vg;
+    h.vx0 = b.vx;
+    h.vo0 = b.vo;
+    h.ve20 = b.ve2;
+    h.rl = c.load_ohm;
+    // u moves with the control pin less the common terminal; w against Q1's main terminal (the
+    // rail fixes Q2's emitter) or with it less Q2's emitter (the same-polarity form).
+    du = x(G) - x(E);
+    dw = s.same ? x(D) - x(E2) : -x(D);
+  }
+  /// The nodes at the source's deviation delta (false: no solution).
+  bool at(double delta, Nodes& nd) {
+    h.delta = delta;
+    double u = b.u + du * delta, w = b.w + dw * delta;
+    return solve_nodes(s, d, h, u, w, nd);
+  }
+  /// Whether both devices are still in their linear regions at nd (a current under a hundredth
+  /// of its bias counts as cut off, as the exact solver's sweep counts it).
+  bool linear(const Nodes& nd) const {
+    if (!(nd.i1 > 0.01 * b.i1) || !(nd.ic2 > 0.01 * b.ic2)) return false;
+    const double vce2 = s.same ? nd.vo - nd.ve2 : s.vcc - nd.vo;
+    if (vce2 <= d.b2.vce_sat_v) return false;
+    if (d.jfet) return nd.vd - nd.ve >= (nd.vg - nd.ve) + d.j.vp_abs_v && nd.vg - nd.ve <= 0.0;
+    return nd.vd - nd.ve > d.b.vce_sat_v;
+  }
+};
+
+// The straight line's swing checked on the quasi-static sweep (the same-polarity form): where a
+// side's edge is past a device limit (Q1 closes on saturation faster than the line says as the
+// output rises) the side is cut back, and where the sweep is still linear there (the loop keeps
+// Q1 conducting well past the line's cut-off as the output falls) it is carried out, up to
+// three times the line, each by bisection to the last linear point.
+void check_swing(Performance& p, Sweep& sw, double gain) {
+  for (double* side : {&p.swing_up_v, &p.swing_down_v}) {
+    if (!std::isfinite(*side) || !(*side > 0)) continue;
+    // The output up (in the N frame) for a source deviation of the gain's sign.
+    const double sign = (side == &p.swing_up_v ? 1.0 : -1.0) * (gain > 0 ? 1.0 : -1.0);
+    double lo = 0, hi = sign * *side / std::abs(gain);
+    Nodes nd;
+    if (sw.at(hi, nd) && sw.linear(nd)) {
+      lo = hi;
+      hi *= 3.0;
+      if (sw.at(hi, nd) && sw.linear(nd)) {
+        *side = std::abs(nd.vo - sw.b.vo);
+        continue;
+      }
+    }
+    for (int i = 0; i < 14; ++i) {
+      const double mid = 0.5 * (lo + hi);
+      ((sw.at(mid, nd) && sw.linear(nd)) ? lo : hi) = mid;
+    }
+    *side = sw.at(lo, nd) ? std::abs(nd.vo - sw.b.vo) : 0.0;
+  }
+  p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+}
+
 Transfer static_transfer(const PairParts& s, const PairDevices& d, const PairBias& b, const Conditions& c, double a,
                          const RVec& x) {
   Transfer t;
   if (!(a > 0)) return t;
-  Held h;
-  h.on = true;
-  h.rs = c.source_ohm > 0 ? c.source_ohm : 1e-3;
-  h.vg0 = b.vg;
-  h.vx0 = b.vx;
-  h.vo0 = b.vo;
-  h.rl = c.load_ohm;
-  // How u and w move per volt of the source on the mid-band solution's straight line: u with
-  // the control pin less the common terminal; w against Q1's main terminal (the rail fixes
-  // Q2's emitter) or with it less Q2's emitter (the same-polarity form).
-  const double du = x(G) - x(E), dw = s.same ? x(D) - x(E2) : -x(D);
+  Sweep sw(s, d, b, c, x);
   bool ok = true;
   auto out = [&](double delta) {  // the output's deviation for the source's
-    h.delta = delta;
-    double u = b.u + du * delta, w = b.w + dw * delta;
     Nodes nd;
-    if (!solve_nodes(s, d, h, u, w, nd)) ok = false;
+    if (!sw.at(delta, nd)) ok = false;
     return nd.vo - b.vo;
   };
   const double e = a / 8;
@@ -564,13 +638,17 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
   // The input capacitance: Cgd (Cmu) whole, Cgs (Cpi) bootstrapped by the common terminal.
   p.c_in_f = m.cmu1 + m.cpi1 * std::max(0.0, 1.0 - x(E) / x(G));
   set_swing(p, b, d, s, x);
+  if (s.same) {
+    Sweep sw(s, d, b, c, x);
+    check_swing(p, sw, p.gain);
+  }
 
   const double mid = std::abs(p.gain);
   auto lf_below = [&](double w) { return std::abs(lf_transfer(m, s, cd(0.0, w))) < mid / std::sqrt(2.0); };
   auto hf_below = [&](double w) { return std::abs(hf_transfer(m, w)) < mid / std::sqrt(2.0); };
   if (detail == Detail::full) {
     const double p_in = 1.0 / (s.cin * (1.0 / m.gs + p.zin_ohm)), p_out = 1.0 / (s.cout * (c.load_ohm + p.zout_ohm));
-    const double p_e = s.bypassed() ? 1.0 / (s.ce * par(s.re1, s.re2)) : 0.0;
+    const double p_e = (s.bypassed() ? 1.0 / (s.ce * par(s.re1, s.re2)) : 0.0) + (s.bypassed3() ? b.gm2 / s.ce3 : 0.0);
     p.f_low_hz = lf_crossing_hz(lf_below, 0.25 * std::max({p_in, p_out, p_e}), 4.0 * (p_in + p_out + p_e));
     p.f_high_hz = hf_crossing_hz(hf_below, 1e3, 1e7);
   }
@@ -592,6 +670,7 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
     res(kR1, s.r1, s.vcc - b.vd);
     res(kRC2, s.rc2, s.same ? s.vcc - b.vo : b.vo);
     res(kRE3, s.re3, b.ve2);
+    if (s.bypassed3()) p.stress.push_back(cap_stress(kCe3, b.ve2));
     res(kRF, s.rf, b.vo - b.ve);
     res(kLeg1, s.re1, b.ve - b.vx);
     res(kLeg2, s.re2, b.vx);
@@ -603,7 +682,7 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
   return p;
 }
 
-Values pair_capacitors(const Values& v, const Conditions& c, double f) {
+Values pair_capacitors(const Values& v, const Transistor& q, const Conditions& c, double f, bool same) {
   Values t = v;
   const double rth = v[kTop] > 0 ? par(v[kTop], v[kBottom]) : v[kBottom];
   t[kCin] = cap_for(c.source_ohm + rth, f / 6);
@@ -611,6 +690,19 @@ Values pair_capacitors(const Values& v, const Conditions& c, double f) {
   // The closed-loop gain follows 1 + RF / (RE1 + RE2 || ZCE): it shelves down where ZCE
   // reaches RE1 || RE2, so the bypass's corner goes there.
   t[kBypass] = v[kLeg2] > 0 ? cap_for(par(v[kLeg1], v[kLeg2]), f / 4) : 0.0;
+  // Q2's emitter bypass (the same-polarity form) lifts Q2's gain from RC2 / RE3 to gm2 RC2,
+  // and the loop gain with it; inside the loop its reactance only has to stay small against
+  // what drives the emitter, 1/gm2 + R1/(hFE2 + 1), while the loop still has gain to spare: its
+  // corner through ten times that at a quarter of f (at f the loop gain is down about
+  // threefold, the closed-loop gain a few per cent; the band's loss is checked as always).
+  t[kCe3] = 0.0;
+  if (same && v[kRE3] > 0 && q.paired) {
+    const PairBias b = pair_bias(pair_parts(t, c.supply_v, true), pair_devices(q));
+    if (b.solved && b.gm2 > 0) {
+      const double r_drive = 1.0 / b.gm2 + v[kR1] / (q.bjt2.bf + 1.0);
+      t[kCe3] = cap_for(par(v[kRE3], 10.0 * r_drive), f / 4);
+    }
+  }
   return t;
 }
 
@@ -716,7 +808,7 @@ void propose_bjt_pair(const Goal& g, const Transistor& q, const Conditions& c, c
     for (double ve : ves) {
       std::vector<PairPlan> plans;
       if (same) {
-        for (double vce1 : {std::max(1.5, 0.15 * vcc), std::max(3.0, 0.3 * vcc)}) {
+        for (double vce1 : {1.0, std::max(2.0, 0.2 * vcc)}) {
           PairPlan p{i1, ve, 0.0, 0.0, true, ve + vce1, vbe2, t2.bf};
           p.vo = 0.5 * (vcc + p.vd - vbe2 + t2.vce_sat_v);
           plans.push_back(p);
@@ -768,7 +860,7 @@ Values pair_reference(const Topology& t, const Transistor& q, const Conditions& 
   Values best;
   double best_err = std::numeric_limits<double>::infinity();
   t.propose(g, q, c, IdealValues{}, [&](const Values& proposal) {
-    const Values v = pair_capacitors(proposal, c, g.f_low_hz);
+    const Values v = pair_capacitors(proposal, q, c, g.f_low_hz, t.second_device() == SecondDevice::same);
     const Performance p = t.evaluate(v, q, c, Detail::core);
     if (!p.active) return;
     // A design that holds its bias over either device's hFE at half and twice the piece's
@@ -817,8 +909,8 @@ LoadLine FeedbackPair::load_line(const Values& v, const Conditions&) const {
   return l;
 }
 
-Values FeedbackPair::capacitor_targets(const Values& v, const Transistor&, const Conditions& c, double f) const {
-  return pair_capacitors(v, c, f);
+Values FeedbackPair::capacitor_targets(const Values& v, const Transistor& q, const Conditions& c, double f) const {
+  return pair_capacitors(v, q, c, f, same());
 }
 
 circuit::Circuit FeedbackPair::wire(const Values& v, const Transistor& q, const Conditions& c) const {
@@ -838,6 +930,7 @@ circuit::Circuit FeedbackPair::wire(const Values& v, const Transistor& q, const 
     // Q2: base on Q1's main terminal, emitter to ground through RE3, load from the rail.
     net.bjt("Q2", "collector2", main, "emitter2", q.bjt2);
     add_role(net, r, v, kRE3, "emitter2", "0");
+    add_role(net, r, v, kCe3, "emitter2", "0");
     add_role(net, r, v, kRC2, "vdd", "collector2");
   } else {
     // Q2: base on Q1's main terminal, emitter on the rail (the complementary device).

@@ -10,8 +10,8 @@
 //   Q1: g, common e, main d;  R1 (RC1 or RD) from the rail to d;
 //   the complementary form: Q2 a PNP, base d, emitter on the rail, collector o; RC2 from o to
 //     ground;
-//   the same-polarity form: Q2 an NPN, base d, emitter e2, collector o; RE3 from e2 to ground,
-//     RC2 from the rail to o;
+//   the same-polarity form: Q2 an NPN, base d, emitter e2, collector o; RE3 from e2 to ground
+//     bypassed by CE3, RC2 from the rail to o;
 //   RF from o to e (CF across it);  RE1 from e to x, RE2 from x to ground, CE across RE2;
 //   COUT from o to the load.
 // Equations:
@@ -38,7 +38,8 @@
 namespace shelfstage::stages::detail {
 
 /// The roles of a pair, in this order (names by topology: RB1 or RG1 ...): the complementary
-/// form has the first eleven, the same-polarity form all twelve (RE3: Q2's emitter resistor).
+/// form has the first eleven, the same-polarity form all thirteen (RE3: Q2's emitter resistor,
+/// CE3 its bypass).
 enum PairRole : std::size_t {
   kTop,
   kBottom,
@@ -52,6 +53,7 @@ enum PairRole : std::size_t {
   kCout,
   kCf,
   kRE3,
+  kCe3,
   kPairRoles
 };
 
@@ -64,6 +66,8 @@ struct PairParts {
   double rc2 = 0, rf = 0, re1 = 0, re2 = 0, ce = 0, cin = 0, cout = 0;
   double cf = 0;   ///< across RF (0: none)
   double re3 = 0;  ///< Q2's emitter to ground (the same-polarity form)
+  double ce3 = 0;  ///< ... and its bypass (0: none)
+  bool bypassed3() const { return same && re3 > 0 && ce3 > 0; }
   double vth() const { return top > 0 ? vcc * bottom / (top + bottom) : 0.0; }  ///< the divider's Thevenin volts
   double rth() const { return top > 0 ? par(top, bottom) : bottom; }            ///< ... and ohms
   bool bypassed() const { return re2 > 0 && ce > 0; }
@@ -101,9 +105,10 @@ PairBias pair_bias(const PairParts& s, const PairDevices& d);
 /// included (by PairRole); `bias` receives the operating point.
 Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Conditions& c, Detail detail, PairBias& bias);
 
-/// The capacitors the pair needs for f_low_hz (CIN, the bypass and COUT at their PairRole
-/// indices in the Values returned, the resistors as given).
-Values pair_capacitors(const Values& v, const Conditions& c, double f_low_hz);
+/// The capacitors the pair needs for f_low_hz (CIN, the bypasses and COUT at their PairRole
+/// indices in the Values returned, the resistors as given); Q2's emitter bypass (the same-
+/// polarity form) is sized from the operating point with the nominal piece q.
+Values pair_capacitors(const Values& v, const Transistor& q, const Conditions& c, double f_low_hz, bool same);
 
 /// The shelf's one value nearest to target (0 when it has none).
 double nearest_one(const ValueSource& shelf, double target);

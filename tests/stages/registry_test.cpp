@@ -74,7 +74,7 @@ TEST_CASE(
     if (t->is_buffer()) {
       CHECK(ng.gain > 0.5);
       CHECK(ng.gain < 1.0);
-    } else if (t->second_device() == stages::SecondDevice::complement) {
+    } else if (t->second_device() != stages::SecondDevice::none) {
       CHECK(ng.gain > 1.0);
     } else {
       CHECK(ng.gain < -1.0);

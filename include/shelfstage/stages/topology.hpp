@@ -79,7 +79,7 @@ struct ReferenceKnobs {
   double nominal_hfe = 0;      ///< BJT: the hFE the divider is designed for (0: the piece's)
 };
 
-inline constexpr std::size_t kMaxRoles = 12;
+inline constexpr std::size_t kMaxRoles = 13;
 
 /// Role values in ohms or farads, by role index; 0 means an optional role left out.
 struct Values {
