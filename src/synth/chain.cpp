@@ -179,23 +179,37 @@ class ChainSearch {
       s.zin_min_ohm = std::max(s.zin_min_ohm, r.zin);
       s.search_breadth = 0.5;
     }
-    std::vector<Candidate> found = run_jobs(s, shelf_, make_jobs(s, inv_), stats, {});
+    const std::vector<Job> jobs = make_jobs(s, inv_);
+    RankedSearch found(s, shelf_, jobs);
     // The best of each device type first, then the rest by score: a type whose stages score
     // well alone (a high-voltage type's at low gain) must not crowd out the others, whose
-    // stages may be the ones that make a chain.
+    // stages may be the ones that make a chain. Stages are assessed only as far as this
+    // takes them in rank order.
     std::vector<Candidate> kept;
-    std::vector<bool> taken(found.size(), false);
-    auto take = [&](std::size_t i) {
+    std::set<std::size_t> taken;
+    auto take = [&](std::size_t id) {
       if (static_cast<int>(kept.size()) >= kPoolTop) return;
-      if (std::any_of(kept.begin(), kept.end(), [&](const Candidate& k) { return is_variant(k, found[i]); })) return;
-      kept.push_back(found[i]);
-      taken[i] = true;
+      const Candidate& c = found.candidate(id);
+      if (std::any_of(kept.begin(), kept.end(), [&](const Candidate& k) { return is_variant(k, c); })) return;
+      kept.push_back(c);
+      taken.insert(id);
     };
-    std::set<std::string> seen;
-    for (std::size_t i = 0; i < found.size(); ++i)
-      if (seen.insert(found[i].device.name).second) take(i);
-    for (std::size_t i = 0; i < found.size(); ++i)
-      if (!taken[i]) take(i);
+    std::vector<std::size_t> bests;
+    std::set<std::string> devices;
+    for (const Job& j : jobs)
+      if (devices.insert(j.device->name).second)
+        if (const auto id = found.at(0, &j.device->name)) bests.push_back(*id);
+    std::sort(bests.begin(), bests.end(), [&](std::size_t a, std::size_t b) { return found.before(a, b); });
+    for (const std::size_t id : bests) take(id);
+    const RankedSearch::PassOver variant_of_kept = [&](const Candidate& c) {
+      return std::any_of(kept.begin(), kept.end(), [&](const Candidate& k) { return is_variant(k, c); });
+    };
+    for (std::size_t k = 0; static_cast<int>(kept.size()) < kPoolTop; ++k) {
+      const auto id = found.at(k, nullptr, variant_of_kept);
+      if (!id) break;
+      if (!taken.count(*id)) take(*id);
+    }
+    found.tally(stats);
     std::stable_sort(kept.begin(), kept.end(),
                      [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
     return kept;

@@ -7,6 +7,7 @@
 
 #include <algorithm>
 #include <cctype>
+#include <functional>
 #include <atomic>
 #include <chrono>
 #include <cmath>
@@ -65,9 +66,13 @@ class Searcher {
  public:
   Searcher(const Spec& spec, const Shelf& shelf, bool probe) : spec_(spec), shelf_(shelf), probe_(probe) {}
 
-  std::vector<Candidate> run(const detail::Job& job, SearchStats& stats) const {
-    const StageBuilder builder(spec_, shelf_, *job.topology, *job.device, job.piece, job.device_available, probe_,
-                               job.device2, job.device2_available);
+  /// A job's drafting and choice: the builder, and the chosen drafts in the order of the
+  /// choice (none for a probe, which only learns how close the stages come: work.stats).
+  void prepare(const detail::Job& job, detail::JobWork& work) const {
+    work.builder = std::make_unique<StageBuilder>(spec_, shelf_, *job.topology, *job.device, job.piece,
+                                                  job.device_available, probe_, job.device2, job.device2_available);
+    const StageBuilder& builder = *work.builder;
+    SearchStats& stats = work.stats;
     const auto roles = job.topology->roles();
     std::vector<StageBuilder::Draft> found;
     std::unordered_set<std::uint64_t> seen;
@@ -82,14 +87,11 @@ class Searcher {
           StageBuilder::Draft d;
           if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
         });
-    if (probe_) return {};  // a probe only learns how close the stages come (stats)
-    const std::vector<std::size_t> chosen = choose(builder, found, roles, stats);
-    std::vector<Candidate> kept;
-    for (std::size_t i : chosen) {
-      Candidate c = builder.candidate(found[i]);
-      if (builder.assess(c, stats)) kept.push_back(std::move(c));
+    if (probe_) return;
+    for (const auto& [i, quick] : choose(builder, found, roles, stats)) {
+      work.chosen.push_back(std::move(found[i]));
+      work.quick.push_back(quick);
     }
-    return kept;
   }
 
   /// The drafts that get the full corner pass (~100 evaluations each): up to
@@ -100,8 +102,9 @@ class Searcher {
   /// bound of it (the nominal error counted as the worst), and one whose place is already
   /// decided (every family taken and its own full) is never estimated. The choice is the
   /// one a full sort of every estimate would give.
-  std::vector<std::size_t> choose(const StageBuilder& builder, const std::vector<StageBuilder::Draft>& found,
-                                  std::span<const stages::Role> roles, SearchStats& stats) const {
+  std::vector<std::pair<std::size_t, double>> choose(const StageBuilder& builder,
+                                                     const std::vector<StageBuilder::Draft>& found,
+                                                     std::span<const stages::Role> roles, SearchStats& stats) const {
     const auto families = static_cast<std::size_t>(spec_.search_families);
     const int variants = spec_.search_variants;
     auto variant = [&](const StageBuilder::Draft& a, const StageBuilder::Draft& b) {
@@ -117,7 +120,8 @@ class Searcher {
     for (std::size_t i = 0; i < found.size(); ++i) bound.emplace_back(builder.score_floor(found[i]), i);
     std::sort(bound.begin(), bound.end());
     std::priority_queue<Entry, std::vector<Entry>, std::greater<>> scored;
-    std::vector<std::size_t> chosen, heads;
+    std::vector<std::pair<std::size_t, double>> chosen;
+    std::vector<std::size_t> heads;
     std::vector<int> members;
     // The family a draft joins (heads.size() for a new one), or -1 when it cannot be chosen.
     auto family_of = [&](std::size_t i) -> long {
@@ -141,7 +145,7 @@ class Searcher {
         scored.emplace(builder.quick_score(found[i], stats), i);
       }
       if (scored.empty()) break;
-      const std::size_t i = scored.top().second;
+      const auto [quick, i] = scored.top();
       scored.pop();
       const long f = family_of(i);
       if (f < 0) continue;
@@ -150,7 +154,7 @@ class Searcher {
         members.push_back(0);
       }
       ++members[static_cast<std::size_t>(f)];
-      chosen.push_back(i);
+      chosen.emplace_back(i, quick);
     }
     return chosen;
   }
@@ -564,23 +568,217 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   return jobs;
 }
 
+// NOTES (the ranked search):
+//  1. Every job is drafted and makes its choice first (Searcher::prepare, on every core): the
+//     drafts chosen for the corner pass. Nothing is assessed yet.
+//  2. Each chosen draft has a floor under the score its corner pass would give
+//     (StageBuilder::score_floor: the nominal gain error counted as the worst; the worst
+//     gain range holds the nominal gain, and a stage's gain keeps its sign wherever it is
+//     valid, so the worst error is never below the nominal's; the score's other terms are
+//     counted alike or are never negative).
+//     When the request has one supply and one temperature, the draft's quick estimate
+//     (StageBuilder::quick_score) is a floor too, less a slack of a millionth of gain error
+//     for rounding: it takes the gain at the device's corner pieces with the parts nominal at
+//     that supply and temperature, a point the corner pass evaluates as well (with the
+//     distortion or the parts' stress worked out, which leave the gain as it is), and the
+//     corner pass's worst error is the largest over its points. An estimate that met an
+//     invalid corner says nothing (that corner fails the pass too, but the draft's floor is
+//     left as it is).
+//  3. The candidates are handed out in rank order: score, then pieces, then job, then the
+//     job's order of choice, the order a stable sort of every assessed candidate by score and
+//     pieces gives. One is handed out only when its score is below the floor of every draft
+//     not yet assessed; until then the drafts of least floor are assessed, a batch at a time
+//     on every core. A draft whose floor lies above the last score handed out is never
+//     assessed: it could not have ranked before it.
+//  4. The counts (SearchStats) are merged job by job, then each assessed draft's in the order
+//     of jobs and choice, as a search assessing every draft in that order would merge them;
+//     when every draft is assessed (nothing listed), they are the same counts.
+struct RankedSearch::Impl {
+  const Spec& spec;
+  std::vector<JobWork> work;  // by job
+  struct Item {
+    std::uint32_t job = 0, pos = 0;
+    double floor = 0;
+    enum class State : std::uint8_t { pending, held, failed } state = State::pending;
+    Candidate c;
+    long evaluations = 0;
+    std::string failure;
+  };
+  std::vector<Item> items;
+  bool quick_floors = false;  // NOTES 2: the quick estimates are floors too
+
+  // A gain error of a millionth, in score points (NOTES 2).
+  static constexpr double kQuickSlack = 100.0 * 1e-6;
+
+  double floor_of(const JobWork& w, std::size_t k) const {
+    double f = w.builder->score_floor(w.chosen[k]);
+    if (quick_floors && w.quick[k] < 1e6) f = std::max(f, w.quick[k] - kQuickSlack);
+    return f;
+  }
+  // One order of hand-out: over every job, or over the jobs of one first device.
+  struct View {
+    std::vector<std::uint32_t> by_floor;  // its items, least floor first
+    std::vector<bool> dropped;            // by item: passed over (never handed out)
+    std::size_t frontier = 0;             // by_floor before it: assessed
+    std::vector<std::uint32_t> heap;      // assessed and holding, not yet handed out
+    std::vector<std::uint32_t> out;       // handed out, in rank order
+  };
+  View every;
+  std::map<std::string, View> by_device;
+  std::size_t assessed = 0;
+
+  explicit Impl(const Spec& s) : spec(s) {}
+
+  bool ranks_before(std::uint32_t a, std::uint32_t b) const {
+    const Candidate &x = items[a].c, &y = items[b].c;
+    if (x.score != y.score) return x.score < y.score;
+    if (x.pieces != y.pieces) return x.pieces < y.pieces;
+    return a < b;  // items are laid out by job, then order of choice
+  }
+
+  View make_view(const std::function<bool(const Item&)>& keep) const {
+    View v;
+    for (std::uint32_t i = 0; i < items.size(); ++i)
+      if (keep(items[i])) v.by_floor.push_back(i);
+    std::stable_sort(v.by_floor.begin(), v.by_floor.end(),
+                     [&](std::uint32_t a, std::uint32_t b) { return items[a].floor < items[b].floor; });
+    return v;
+  }
+
+  // A pending draft as the candidate it makes (before its corner pass).
+  const Candidate& shell(Item& it) {
+    if (!it.c.topology) it.c = work[it.job].builder->candidate(work[it.job].chosen[it.pos]);
+    return it.c;
+  }
+
+  // Whether the view passes over a pending draft (NOTES 3).
+  bool pass_over(View& v, std::uint32_t i, const PassOver* skip) {
+    if (v.dropped.empty()) v.dropped.assign(items.size(), false);
+    if (!v.dropped[i] && skip && *skip && (*skip)(shell(items[i]))) v.dropped[i] = true;
+    return v.dropped[i];
+  }
+
+  void assess(const std::vector<std::uint32_t>& batch) {
+    parallel_for(batch.size(), [&](std::size_t b) {
+      Item& it = items[batch[b]];
+      const JobWork& w = work[it.job];
+      SearchStats s;
+      if (!it.c.topology) it.c = w.builder->candidate(w.chosen[it.pos]);
+      const bool held = w.builder->assess(it.c, s);
+      it.evaluations = s.evaluations;
+      if (!held && !s.corner_examples.empty()) it.failure = s.corner_examples.begin()->second;
+      it.state = held ? Item::State::held : Item::State::failed;
+      if (!held) it.c = Candidate{};
+    });
+    assessed += batch.size();
+  }
+
+  // Hands out the view's next candidate (NOTES 3); false when none is left.
+  bool step(View& v, const PassOver* skip) {
+    auto later = [&](std::uint32_t a, std::uint32_t b) { return ranks_before(b, a); };
+    for (;;) {
+      // Drafts assessed already (by this view or another), or passed over, leave the frontier.
+      while (v.frontier < v.by_floor.size() && (items[v.by_floor[v.frontier]].state != Item::State::pending ||
+                                                pass_over(v, v.by_floor[v.frontier], skip))) {
+        const std::uint32_t i = v.by_floor[v.frontier++];
+        if (items[i].state == Item::State::pending) continue;
+        if (items[i].state == Item::State::held) {
+          v.heap.push_back(i);
+          std::push_heap(v.heap.begin(), v.heap.end(), later);
+        }
+      }
+      const bool more = v.frontier < v.by_floor.size();
+      if (!v.heap.empty() && (!more || items[v.heap.front()].c.score < items[v.by_floor[v.frontier]].floor)) {
+        std::pop_heap(v.heap.begin(), v.heap.end(), later);
+        v.out.push_back(v.heap.back());
+        v.heap.pop_back();
+        return true;
+      }
+      if (!more) return false;
+      // The next drafts by floor; a batch for every core (one when the cores are busy).
+      const std::size_t want = in_parallel_for ? 1 : 2 * std::max(1u, std::thread::hardware_concurrency());
+      std::vector<std::uint32_t> batch;
+      for (std::size_t k = v.frontier; k < v.by_floor.size() && batch.size() < want; ++k)
+        if (items[v.by_floor[k]].state == Item::State::pending && !pass_over(v, v.by_floor[k], skip))
+          batch.push_back(v.by_floor[k]);
+      assess(batch);
+    }
+  }
+};
+
+RankedSearch::RankedSearch(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, bool probe)
+    : impl_(std::make_unique<Impl>(spec)) {
+  const Searcher searcher(spec, shelf, probe);
+  impl_->work.resize(jobs.size());
+  impl_->quick_floors = spec.supply_lo_v == spec.supply_hi_v && !spec.temp_c;
+  parallel_for(jobs.size(), [&](std::size_t i) { searcher.prepare(jobs[i], impl_->work[i]); });
+  for (std::uint32_t j = 0; j < jobs.size(); ++j) {
+    const JobWork& w = impl_->work[j];
+    for (std::uint32_t k = 0; k < w.chosen.size(); ++k) {
+      Impl::Item it;
+      it.job = j;
+      it.pos = k;
+      it.floor = impl_->floor_of(w, k);
+      impl_->items.push_back(std::move(it));
+    }
+  }
+  impl_->every = impl_->make_view([](const Impl::Item&) { return true; });
+}
+
+RankedSearch::~RankedSearch() = default;
+
+std::optional<std::size_t> RankedSearch::at(std::size_t k, const std::string* device, const PassOver& skip) {
+  Impl& m = *impl_;
+  Impl::View* v = &m.every;
+  if (device) {
+    auto it = m.by_device.find(*device);
+    if (it == m.by_device.end())
+      it = m.by_device
+               .emplace(*device, m.make_view([&](const Impl::Item& i) {
+                 return m.work[i.job].builder->device().name == *device;
+               }))
+               .first;
+    v = &it->second;
+  }
+  while (v->out.size() <= k)
+    if (!m.step(*v, &skip)) return std::nullopt;
+  return v->out[k];
+}
+
+Candidate& RankedSearch::candidate(std::size_t id) { return impl_->items[id].c; }
+
+bool RankedSearch::before(std::size_t a, std::size_t b) const {
+  return impl_->ranks_before(static_cast<std::uint32_t>(a), static_cast<std::uint32_t>(b));
+}
+
+std::vector<Candidate> RankedSearch::all() {
+  std::vector<Candidate> out;
+  for (std::size_t k = 0;; ++k) {
+    const auto id = at(k);
+    if (!id) break;
+    out.push_back(std::move(candidate(*id)));
+  }
+  return out;
+}
+
+void RankedSearch::tally(SearchStats& out) const {
+  for (const JobWork& w : impl_->work) out.merge(w.stats);
+  for (const Impl::Item& it : impl_->items) {
+    out.evaluations += it.evaluations;
+    if (it.state == Impl::Item::State::failed) out.note_corner_failure(it.failure);
+  }
+}
+
+std::size_t RankedSearch::chosen() const { return impl_->items.size(); }
+std::size_t RankedSearch::assessed() const { return impl_->assessed; }
+
 // Runs every job on the machine's cores; the calling thread reports progress.
 std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, SearchStats& tally,
                                 const Progress& progress, bool probe) {
-  Searcher searcher(spec, shelf, probe);
-  std::vector<std::vector<Candidate>> out(jobs.size());
-  std::vector<SearchStats> tallies(jobs.size());
-  detail::parallel_for(jobs.size(), [&](std::size_t i) { out[i] = searcher.run(jobs[i], tallies[i]); });
+  RankedSearch search(spec, shelf, jobs, probe);
   if (progress) progress(static_cast<double>(jobs.size()), static_cast<double>(jobs.size()), "stages searched");
-  std::vector<Candidate> all;
-  for (std::size_t i = 0; i < jobs.size(); ++i) {
-    tally.merge(tallies[i]);
-    for (auto& c : out[i]) all.push_back(std::move(c));
-  }
-  std::stable_sort(all.begin(), all.end(), [](const Candidate& a, const Candidate& b) {
-    if (a.score != b.score) return a.score < b.score;
-    return a.pieces < b.pieces;
-  });
+  std::vector<Candidate> all = search.all();
+  search.tally(tally);
   return all;
 }
 
@@ -706,25 +904,41 @@ namespace {
 // every capacitor): one that fails there gives its place to the next. Best first.
 //
 // The finishing runs on every core, a batch ahead: the candidates not yet known to be variants
-// are finished together, then taken in rank order exactly as one at a time would take them
-// (a variant of one taken in the same batch is dropped then; its work is lost, not its place).
-std::vector<Candidate> finish_top(std::vector<Candidate>& ranked, const Spec& spec, const Shelf& shelf,
-                                  SearchStats& tally) {
+// are finished together, then taken in rank order exactly as one at a time would take them.
+// A batch ends before a variant of one of its own (that one is most often shown, and the
+// variant's finishing would be lost).
+//
+// ranked(k, pass_over) is the k-th of the ranked list; pass_over tells it the candidates this
+// passes over whatever their place (variants of those shown), which it need not hand out.
+using Ranked = std::function<Candidate*(std::size_t, const detail::RankedSearch::PassOver&)>;
+std::vector<Candidate> finish_top(const Ranked& ranked, const Spec& spec, const Shelf& shelf,
+                                  std::vector<std::string>& failures) {
   std::vector<Candidate> shown;
-  auto variant_of_shown = [&](const Candidate& c) {
+  const detail::RankedSearch::PassOver variant_of_shown = [&](const Candidate& c) {
     return std::any_of(shown.begin(), shown.end(), [&](const Candidate& kept) { return is_variant(kept, c); });
   };
   const std::size_t cores = std::max(1u, std::thread::hardware_concurrency());
   std::size_t next = 0;
-  while (static_cast<int>(shown.size()) < spec.top && next < ranked.size()) {
+  bool more = true;
+  while (static_cast<int>(shown.size()) < spec.top && more) {
     const std::size_t want = static_cast<std::size_t>(spec.top) - shown.size();
-    std::vector<std::size_t> batch;
-    for (; next < ranked.size() && batch.size() < std::max(want, cores); ++next)
-      if (!variant_of_shown(ranked[next])) batch.push_back(next);
+    std::vector<Candidate*> batch;
+    for (; batch.size() < std::max(want, cores); ++next) {
+      Candidate* c = ranked(next, variant_of_shown);
+      if (!c) {
+        more = false;
+        break;
+      }
+      if (variant_of_shown(*c)) continue;
+      // A variant of one in the batch waits for the next batch, which knows whether that
+      // one was shown.
+      if (std::any_of(batch.begin(), batch.end(), [&](const Candidate* x) { return is_variant(*x, *c); })) break;
+      batch.push_back(c);
+    }
     std::vector<std::string> broken(batch.size());
     std::vector<std::exception_ptr> thrown(batch.size());
     detail::parallel_for(batch.size(), [&](std::size_t b) {
-      Candidate& c = ranked[batch[b]];
+      Candidate& c = *batch[b];
       try {
         if (!c.is_chain()) detail::finalize(c, shelf);
         broken[b] = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec);
@@ -733,11 +947,11 @@ std::vector<Candidate> finish_top(std::vector<Candidate>& ranked, const Spec& sp
       }
     });
     for (std::size_t b = 0; b < batch.size() && static_cast<int>(shown.size()) < spec.top; ++b) {
-      Candidate& c = ranked[batch[b]];
+      Candidate& c = *batch[b];
       if (variant_of_shown(c)) continue;
       if (thrown[b]) std::rethrow_exception(thrown[b]);
       if (!broken[b].empty()) {
-        tally.note_corner_failure(broken[b]);
+        failures.push_back(broken[b]);
         continue;
       }
       c.id = candidate_id(c, spec.copies);
@@ -767,15 +981,31 @@ std::vector<Candidate> search_designs(const Run& run) {
   const Spec& spec = run.spec;
   std::vector<Candidate> out;
   if (spec.stages_min <= 1) {
-    std::vector<Candidate> singles = detail::run_jobs(spec, run.shelf, run.jobs, run.tally, run.progress);
-    out = finish_top(singles, spec, run.shelf, run.tally);
+    // Single stages are assessed only as far as the list reaches (NOTES: the ranked search).
+    detail::RankedSearch singles(spec, run.shelf, run.jobs);
+    if (run.progress)
+      run.progress(static_cast<double>(run.jobs.size()), static_cast<double>(run.jobs.size()), "stages searched");
+    std::vector<std::string> failures;
+    out = finish_top(
+        [&](std::size_t k, const detail::RankedSearch::PassOver& pass_over) {
+          const auto id = singles.at(k, nullptr, pass_over);
+          return id ? &singles.candidate(*id) : nullptr;
+        },
+        spec, run.shelf, failures);
+    singles.tally(run.tally);
+    for (const auto& f : failures) run.tally.note_corner_failure(f);
   }
   const bool single_meets =
       std::any_of(out.begin(), out.end(), [&](const Candidate& c) { return c.error_worst <= spec.gain_tol; });
   if (spec.stages_max >= 2 && !spec.piece && !single_meets) {
     if (run.progress) run.progress(0, 1, "chains");
     std::vector<Candidate> chains = detail::design_chains(spec, run.inv, run.shelf, run.tally);
-    for (auto& c : finish_top(chains, spec, run.shelf, run.tally)) out.push_back(std::move(c));
+    std::vector<std::string> failures;
+    const Ranked ranked_chains = [&](std::size_t k, const detail::RankedSearch::PassOver&) {
+      return k < chains.size() ? &chains[k] : nullptr;
+    };
+    for (auto& c : finish_top(ranked_chains, spec, run.shelf, failures)) out.push_back(std::move(c));
+    for (const auto& f : failures) run.tally.note_corner_failure(f);
     std::stable_sort(out.begin(), out.end(), [](const Candidate& a, const Candidate& b) {
       if (a.score != b.score) return a.score < b.score;
       return a.pieces < b.pieces;

@@ -2,6 +2,9 @@
 #pragma once
 #include <algorithm>
 #include <atomic>
+#include <functional>
+#include <memory>
+#include <optional>
 #include <thread>
 #include <vector>
 #include <string>
@@ -127,7 +130,52 @@ struct Job {
 };
 /// Every topology x device job the spec allows (InputError for unknown names).
 std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv);
-/// Runs the jobs on the machine's cores; candidates best first.
+/// One job drafted and its choice made: the builder, the drafts chosen for the corner pass
+/// (in the order of the choice) and what the drafting learned.
+struct JobWork {
+  std::unique_ptr<StageBuilder> builder;
+  std::vector<StageBuilder::Draft> chosen;
+  std::vector<double> quick;  ///< each chosen draft's quick estimate (StageBuilder::quick_score)
+  SearchStats stats;
+};
+
+/// The candidates of a search in rank order (score, then pieces, then job, then the job's
+/// order of choice: the order a full sort of every assessed candidate gives), each chosen
+/// draft assessed (the corner pass) only when the order needs it. NOTES in design.cpp.
+class RankedSearch {
+ public:
+  /// Drafts every job and makes its choice (on the machine's cores); assesses nothing yet.
+  RankedSearch(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, bool probe = false);
+  ~RankedSearch();
+  RankedSearch(const RankedSearch&) = delete;
+  RankedSearch& operator=(const RankedSearch&) = delete;
+  /// Whether the caller would pass over a candidate, whatever its place (a variant of one
+  /// it has taken, say); asked of drafts not yet assessed, as the candidates they make
+  /// before their corner pass. The answer must not turn from yes to no as the search goes on.
+  using PassOver = std::function<bool(const Candidate&)>;
+  /// The k-th candidate (best first) that holds at its corners, of every job or of the jobs
+  /// whose first device is named `device`: its id, or nullopt past the end. A draft not yet
+  /// assessed that `skip` passes over is never assessed nor handed out by that order (later
+  /// candidates move up a place).
+  std::optional<std::size_t> at(std::size_t k, const std::string* device = nullptr, const PassOver& skip = {});
+  Candidate& candidate(std::size_t id);
+  /// Whether candidate a ranks before candidate b (both assessed and holding).
+  bool before(std::size_t a, std::size_t b) const;
+  /// Every candidate that holds, best first (every chosen draft assessed).
+  std::vector<Candidate> all();
+  /// Adds what the search learned to tally: the drafting's counts job by job, then each
+  /// assessed draft's, in the order of jobs and choice.
+  void tally(SearchStats& out) const;
+  /// Chosen drafts, and how many of them were assessed.
+  std::size_t chosen() const;
+  std::size_t assessed() const;
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
+/// Runs the jobs on the machine's cores; candidates best first (every chosen draft assessed).
 std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, SearchStats& tally,
                                 const Progress& progress, bool probe = false);
 /// Recipe texts and stock lines of the parts (only for candidates that are shown).

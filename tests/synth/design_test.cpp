@@ -8,6 +8,8 @@
 #include <cmath>
 #include <map>
 
+#include "../src/synth/detail.hpp"
+#include "demo_shelf.hpp"
 #include "fixture.hpp"
 #include "yield_check.hpp"
 #include "shelfstage/circuit/spice.hpp"
@@ -478,5 +480,118 @@ TEST_CASE("the Monte Carlo yield is reproducible for a seed") {
     const double own = test::own_yield(c, s, 4000);
     CAPTURE(own);
     CHECK(std::abs(*c.yield - own) <= 0.15);
+  }
+}
+
+// The ranked search (RankedSearch, design.cpp): candidates handed out in rank order while the
+// corner pass runs only as far as the order needs, against every chosen draft assessed and
+// sorted (run_jobs), on the demo shelf.
+namespace {
+
+struct RankRequest {
+  const char* what;
+  double gain, load, supply_lo, supply_hi, zin;
+  bool band;
+  double swing_vpp;  // 0: none
+  std::vector<std::string> topologies;
+};
+
+synth::Spec rank_spec(const RankRequest& r) {
+  synth::Spec spec = test::basic_spec(r.gain);
+  spec.load_ohm = r.load;
+  spec.supply_lo_v = r.supply_lo;
+  spec.supply_hi_v = r.supply_hi;
+  spec.zin_min_ohm = r.zin;
+  if (!r.band) spec.band_hz.reset();
+  spec.swing_vpp.reset();
+  if (r.swing_vpp > 0) spec.swing_vpp = r.swing_vpp;
+  spec.topologies = r.topologies;
+  spec.stages_max = 1;
+  spec.mc_samples = 0;
+  return spec;
+}
+
+// The same build: topology, devices and values (a draft not yet assessed has no score).
+bool same_build(const synth::Candidate& a, const synth::Candidate& b) {
+  return a.topology == b.topology && a.device.name == b.device.name &&
+         (a.device2 ? a.device2->name : "") == (b.device2 ? b.device2->name : "") && a.values.v == b.values.v;
+}
+
+bool same_design(const synth::Candidate& a, const synth::Candidate& b) {
+  return same_build(a, b) && a.pieces == b.pieces &&
+         std::abs(a.score - b.score) <= 1e-9 * std::max(1.0, std::abs(a.score));
+}
+
+}  // namespace
+
+TEST_CASE("the ranked search hands out the order a full sort gives, assessing only what the order needs") {
+  const synth::Inventory inv = test::demo_shelf();
+  synth::Shelf::Options so;
+  const synth::Shelf shelf(inv.parts, so);
+  // One supply (the quick estimates are floors), a supply range (only the nominal error is),
+  // a band and a swing, a feedback pair.
+  const RankRequest requests[] = {
+      {"gain 10, one supply", 10, 10e3, 12, 12, 100e3, false, 0, {"bjt-ce-divider", "jfet-cs-self"}},
+      {"gain 8, a battery's range, band", 8, 10e3, 7, 9.6, 47e3, true, 0, {"bjt-ce-divider", "bjt-ce-shunt"}},
+      {"gain 10, band and swing, pairs", 10, 10e3, 12, 12, 100e3, true, 2, {"bjt-fb-pair", "bjt-ce-divider"}},
+  };
+  for (const RankRequest& r : requests) {
+    CAPTURE(std::string(r.what));
+    const synth::Spec spec = rank_spec(r);
+    const std::vector<synth::detail::Job> jobs = synth::detail::make_jobs(spec, inv);
+    synth::SearchStats every_stats;
+    const std::vector<synth::Candidate> every = synth::detail::run_jobs(spec, shelf, jobs, every_stats, {});
+    REQUIRE(every.size() >= 12);
+
+    // The first dozen, one at a time: the full sort's, with fewer drafts assessed.
+    synth::detail::RankedSearch lazy(spec, shelf, jobs);
+    for (std::size_t k = 0; k < 12; ++k) {
+      CAPTURE(k);
+      const auto id = lazy.at(k);
+      REQUIRE(id);
+      CHECK(same_design(lazy.candidate(*id), every[k]));
+    }
+    MESSAGE(std::string(r.what) << ": " << lazy.assessed() << " of " << lazy.chosen()
+                                << " chosen drafts assessed for 12");
+    CHECK(lazy.assessed() < lazy.chosen());
+
+    // Passing over the variants of the first (as the list does once it is shown): the full
+    // sort without them, and those never assessed.
+    synth::detail::RankedSearch skipping(spec, shelf, jobs);
+    const synth::detail::RankedSearch::PassOver variant_of_first = [&](const synth::Candidate& c) {
+      return synth::is_variant(every[0], c) && !same_build(every[0], c);
+    };
+    std::vector<const synth::Candidate*> expected;
+    for (const auto& c : every)
+      if (!variant_of_first(c)) expected.push_back(&c);
+    REQUIRE(expected.size() < every.size());  // the first has variants among the candidates
+    for (std::size_t k = 0; k < std::min<std::size_t>(12, expected.size()); ++k) {
+      CAPTURE(k);
+      const auto id = skipping.at(k, nullptr, variant_of_first);
+      REQUIRE(id);
+      CHECK(same_design(skipping.candidate(*id), *expected[k]));
+    }
+
+    // The best of each first device: the full sort's first of that device.
+    synth::detail::RankedSearch by_device(spec, shelf, jobs);
+    for (const auto& job : jobs) {
+      const std::string& name = job.device->name;
+      CAPTURE(name);
+      const auto first =
+          std::find_if(every.begin(), every.end(), [&](const synth::Candidate& c) { return c.device.name == name; });
+      const auto id = by_device.at(0, &name);
+      REQUIRE(id.has_value() == (first != every.end()));
+      if (id) CHECK(same_design(by_device.candidate(*id), *first));
+    }
+
+    // The counts: with every chosen draft assessed, those of the full search.
+    synth::SearchStats lazy_stats;
+    CHECK(lazy.all().size() == every.size());
+    lazy.tally(lazy_stats);
+    CHECK(lazy.assessed() == lazy.chosen());
+    CHECK(lazy_stats.proposals == every_stats.proposals);
+    CHECK(lazy_stats.failures == every_stats.failures);
+    CHECK(lazy_stats.corner_failures == every_stats.corner_failures);
+    CHECK(lazy_stats.corner_examples == every_stats.corner_examples);
   }
 }

@@ -226,6 +226,7 @@ class StageBuilder {
   /// otherwise counts the reason in stats.corner_failures.
   bool assess(Candidate& c, SearchStats& stats) const;
 
+  const devices::DeviceRecord& device() const { return device_; }
   const stages::Transistor& nominal_device() const { return q_; }
   const stages::Conditions& conditions() const { return cond_; }
   stages::Goal goal() const;
