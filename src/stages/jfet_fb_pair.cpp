@@ -43,15 +43,7 @@ constexpr Role kRoles[] = {
     {"CS", "C2", 'C', true, true, "x", "0", "bypass across RS2", {22, 24, true, 'r'}, true},
     {"CIN", "C1", 'C', false, true, "gate", "in", "input coupling", {10, 14, false, 'a'}},
     {"COUT", "C3", 'C', false, true, "collector2", "out", "output coupling", {26, 13, false, 'a'}},
-    {"CF",
-     "C4",
-     'C',
-     true,
-     false,
-     "collector2",
-     "source",
-     "across RF: compensation, where the loop's phase margin is short",
-     {22, 12, false, 'a'}},
+    pair_cf_role("source"),
 };
 static_assert(std::size(kRoles) == kCf + 1);
 

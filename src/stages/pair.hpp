@@ -57,6 +57,20 @@ enum PairRole : std::size_t {
   kPairRoles
 };
 
+/// The compensation capacitor every pair offers across RF (C4, optional, not polarised):
+/// `common` names Q1's common terminal's net ("emitter" or "source").
+constexpr Role pair_cf_role(std::string_view common) {
+  return {"CF",
+          "C4",
+          'C',
+          true,
+          false,
+          "collector2",
+          common,
+          "across RF: compensation, where the loop's phase margin is short",
+          {22, 12, false, 'a'}};
+}
+
 /// The pair's parts (ohms, farads) in the N frame; 0: absent (top, leg2, bypass only).
 struct PairParts {
   bool same = false;           ///< the same-polarity form (Q2's emitter on RE3, RC2 to the rail)
