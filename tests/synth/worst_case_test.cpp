@@ -385,6 +385,18 @@ std::vector<Request> requests() {
     s.top = 1;
     out.push_back({"JFET-input pair, -15 V", s});
   }
+  {
+    // The same-polarity pair from a drawer of one NPN type, on 12 V: Q1 and Q2 both SQ-410,
+    // each at its own limit piece, every pairing.
+    synth::Spec s = base(10, 10e3, 12, 12, 47e3);
+    s.topologies = {"bjt-fb-pair-same"};
+    s.devices = {"SQ-410"};
+    s.band_hz = std::pair{20.0, 20e3};
+    s.swing_vpp = 2;
+    s.stages_max = 1;
+    s.top = 1;
+    out.push_back({"same-polarity pair, NPN only, 12 V", s});
+  }
   return out;
 }
 
