@@ -26,6 +26,7 @@ using Side = PlacedSymbol::Side;
 constexpr double kRailSupply = 2;   // y of the supply rail
 constexpr double kRailGround = 27;  // y of the ground rail
 constexpr double kWidth = 36;
+constexpr double kUprightShift = 6;  // NOTES 2b
 constexpr double kHeight = 29.5;
 
 constexpr double kForbidden = 1e6;  // a route that must not be drawn
@@ -56,22 +57,35 @@ bool second_device(std::string_view designator) {
   return std::stoi(std::string(designator.substr(digits))) % 100 == 2;
 }
 
+// NOTES 2b: how the template stands for a stage: whether it has a second transistor and
+// whether that one's emitter is off the rails (the same-polarity pair), which takes a wider
+// sheet: the bench on the right moves over by kUprightShift.
+struct Frame {
+  bool paired = false;
+  bool upright2 = false;
+  double shift() const { return upright2 ? kUprightShift : 0.0; }
+};
+
 // NOTES 2: the template's own places (the bench and the transistors); the stage's parts from
-// the caller. Grid units; see the header for the rules. `paired`: the stage has a second
-// transistor.
-std::optional<Slot> slot_for(std::string_view role, std::string_view designator, bool paired,
+// the caller. Grid units; see the header for the rules.
+std::optional<Slot> slot_for(std::string_view role, std::string_view designator, const Frame& f,
                              const SchematicOptions& o) {
-  if (role == "supply") return Slot{31, 16, true, Side::right};
+  const double dx = f.shift();
+  if (role == "supply") return Slot{31 + dx, 16, true, Side::right};
   if (role == "signal") return Slot{2, 18, true, Side::right};
   if (role == "source") return Slot{5, 14, false, Side::above};
-  if (role == "load") return Slot{28, 21, true, Side::right};
-  if (role == "load capacitance") return Slot{33, 21, true, Side::right};
+  if (role == "load") return Slot{28 + dx, 21, true, Side::right};
+  if (role == "load capacitance") return Slot{33 + dx, 21, true, Side::right};
   // NOTES 2a: the second transistor up and to the right of the first, its base level with
   // the end of the first's load resistor (x 19, y 8), its collector at x 24: a coupling
   // capacitor's length (4) short of the load at x 28. The collector's net then runs down at
   // x 24, past the first's right side, so both transistors carry their labels on the left.
-  if (role == "device" && second_device(designator)) return Slot{23, 8, true, Side::left};
-  if (role == "device") return Slot{18, 12, true, paired ? Side::left : Side::right};
+  // NOTES 2b: standing upright (its emitter on its own resistor), it moves over to x 25, its
+  // label under its base lead clear of the first; the stage's places run its collector's net
+  // down at x 30, a coupling capacitor's length short of the load, moved over to x 34.
+  if (role == "device" && second_device(designator))
+    return f.upright2 ? Slot{25, 8, true, Side::left} : Slot{23, 8, true, Side::left};
+  if (role == "device") return Slot{18, 12, true, f.paired ? Side::left : Side::right};
   const auto it = o.places.find(role);
   if (it == o.places.end()) return std::nullopt;
   const Place& p = it->second;
@@ -271,7 +285,7 @@ struct Placing {
   const circuit::Circuit& c;
   const SchematicOptions& o;
   bool flipped = false;
-  bool paired = false;  ///< the stage has a second transistor (NOTES 2a)
+  Frame frame;  ///< NOTES 2a, 2b
   std::vector<PlacedPin>& pins;
 
   /// A net as the stage's N frame names it (the rails swap places in a turned-over stage).
@@ -286,7 +300,7 @@ struct Placing {
 /// The slot of a part (NOTES 2), mirrored top to bottom when `mirrored` (NOTES 3a); an
 /// InputError when neither the template nor the stage places its role.
 Slot slot_of(const Placing& pl, const circuit::Component& e, bool mirrored) {
-  auto slot = slot_for(e.role, e.designator, pl.paired, pl.o);
+  auto slot = slot_for(e.role, e.designator, pl.frame, pl.o);
   if (slot && mirrored) {
     slot->y = kRailSupply + kRailGround - slot->y;
     if (slot->side == Side::above)
@@ -467,7 +481,7 @@ void add_terminal_marks(const circuit::Circuit& c, const SchematicOptions& o, Sc
 
 /// The supply rail's name at its left end; the ground sign at the ground rail's left end.
 void add_rail_marks(const circuit::Circuit& c, Schematic& s) {
-  double supply_left = kWidth, ground_left = kWidth;
+  double supply_left = s.width, ground_left = s.width;
   for (const auto& w : s.wires) {
     if (c.net_name(w.net) == "vdd") supply_left = std::min({supply_left, w.a.x, w.b.x});
     if (c.net_name(w.net) == "0") ground_left = std::min({ground_left, w.a.x, w.b.x});
@@ -479,20 +493,23 @@ void add_rail_marks(const circuit::Circuit& c, Schematic& s) {
               units::format_value(std::abs(src->c.value), units::Unit::volt);
     s.marks.push_back({*vdd, {supply_left, kRailSupply}, text, false});
   }
-  s.ground_symbol = {ground_left < kWidth ? ground_left : 2, kRailGround};
+  s.ground_symbol = {ground_left < s.width ? ground_left : 2, kRailGround};
 }
 
 }  // namespace
 
 Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
   Schematic s;
-  s.width = kWidth;
   s.height = kHeight;
   for (std::size_t v = 0; v < c.net_count(); ++v) s.net_names.push_back(c.net_name(v));
-  const bool paired = std::any_of(c.elements().begin(), c.elements().end(), [](const auto& el) {
-    return (el.c.kind == ElementKind::bjt || el.c.kind == ElementKind::jfet) && second_device(el.c.designator);
-  });
-  const Placing pl{c, o, turned_over(c), paired, s.pins};
+  Frame frame;
+  for (const auto& el : c.elements()) {
+    if ((el.c.kind != ElementKind::bjt && el.c.kind != ElementKind::jfet) || !second_device(el.c.designator)) continue;
+    frame.paired = true;
+    frame.upright2 = !is_rail(c.net_name(el.c.pins[2]));
+  }
+  s.width = kWidth + frame.shift();
+  const Placing pl{c, o, turned_over(c), frame, s.pins};
   for (const auto& el : c.elements()) s.symbols.push_back(place(pl, el.c));
   route(c, s);
   add_junctions(s);

@@ -15,11 +15,17 @@ namespace {
 
 using namespace detail;
 
+// A role as the pairs share it, drawn at this form's own place.
+constexpr Role with_spot(Role r, Spot at) {
+  r.at = at;
+  return r;
+}
+
 constexpr Role kRoles[] = {
     {"RB1", "R1", 'R', false, false, "", "", "supply to base: upper bias divider leg", {13, 6, true, 'l'}},
     {"RB2", "R2", 'R', false, false, "", "", "base to ground: lower bias divider leg", {13, 20, true, 'l'}},
     {"RC1", "R3", 'R', false, false, "", "", "supply to Q1's collector: drives Q2's base", {19, 6, true, 'l'}},
-    {"RC2", "R4", 'R', false, false, "", "", "supply to Q2's collector: Q2's load", {24, 4, true, 'r'}},
+    {"RC2", "R4", 'R', false, false, "", "", "supply to Q2's collector: Q2's load", {26, 4, true, 'l'}},
     {"RF",
      "R5",
      'R',
@@ -28,15 +34,15 @@ constexpr Role kRoles[] = {
      "",
      "",
      "output to Q1's emitter: the feedback (gain 1 + RF/RE1)",
-     {22, 15, false, 'b'}},
+     {22, 15, false, 'a'}},
     {"RE1", "R6", 'R', false, false, "", "", "emitter to x, unbypassed: sets the gain with RF", {19, 19, true, 'l'}},
     {"RE2", "R7", 'R', true, false, "", "", "x to ground, bypassed: lowers the DC gain", {19, 24, true, 'l'}},
     {"CE", "C2", 'C', true, true, "x", "0", "bypass across RE2", {22, 24, true, 'r'}, true},
     {"CIN", "C1", 'C', false, true, "base", "in", "input coupling", {10, 14, false, 'a'}},
-    {"COUT", "C3", 'C', false, true, "collector2", "out", "output coupling", {26, 6, false, 'a'}},
-    pair_cf_role("emitter"),
-    {"RE3", "R8", 'R', false, false, "", "", "Q2's emitter to ground: sets Q2's current", {26, 21, true, 'r'}},
-    {"CE3", "C5", 'C', false, true, "emitter2", "0", "bypass across RE3: Q2's gain, the loop's", {30, 21, true, 'r'}},
+    {"COUT", "C3", 'C', false, true, "collector2", "out", "output coupling", {32, 12, false, 'a'}},
+    with_spot(pair_cf_role("emitter"), {22, 17, false, 'b'}),
+    {"RE3", "R8", 'R', false, false, "", "", "Q2's emitter to ground: sets Q2's current", {26, 21, true, 'l'}},
+    {"CE3", "C5", 'C', false, true, "emitter2", "0", "bypass across RE3: Q2's gain, the loop's", {29, 21, true, 'r'}},
 };
 static_assert(std::size(kRoles) == kPairRoles);
 

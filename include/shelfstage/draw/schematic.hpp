@@ -14,6 +14,12 @@
 //     source sits on the supply stands that terminal up, toward its rail, and is drawn as
 //     its own kind (NPN or PNP). Both carry their labels on the left, beside the base lead on
 //     the common terminal's side, where the nets around them leave room.
+//  2b. A second transistor whose emitter is on neither rail (the same-polarity pair: Q2's
+//     emitter on its own resistor) stands as the first does, collector toward the supply, a
+//     column further right; its collector's net runs down on its right and the feedback from
+//     it crosses Q2's emitter leg once for each part (no drawing of that graph without a
+//     crossing keeps both transistors upright and the input on the left). The bench on the
+//     right (load, supply) moves over to make room, and the sheet widens with it.
 //  3. A two-terminal part's ends are ordered by a rank of their nets: vertically the supply
 //     on top, ground at the bottom (an inner net at the level the caller gives); horizontally
 //     along the signal path (source, input, control pin, the stage's output pin, output; an
