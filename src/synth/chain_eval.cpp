@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <fmt/format.h>
+#include <map>
 
 #include "detail.hpp"
 #include "shelfstage/circuit/solver.hpp"
@@ -385,27 +386,52 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
   // The losses at the band's edges on the same pushed chains, moved as the exact solver moves
   // the nominal chain's.
   const double shift_lo = ch.nominal.loss_lo_db - fast0.loss_lo_db, shift_hi = ch.nominal.loss_hi_db - fast0.loss_hi_db;
+  // One supply when the range is one value (the same chains twice otherwise).
+  std::vector<double> supplies = {spec.supply_lo_v};
+  if (spec.supply_hi_v != spec.supply_lo_v) supplies.push_back(spec.supply_hi_v);
+  // The corner of each set of pieces (a piece's index per stage) at each edge, supply and
+  // temperature: both senses start from the nominal pieces and the second round retries the
+  // first's sets, so many are asked for more than once.
+  std::map<std::vector<std::size_t>, double> corners;
   for (const bool low : {true, false})
     for (const double sense : {1.0, -1.0})
-      for (double vs : {spec.supply_lo_v, spec.supply_hi_v})
-        for (double temp : temps) {
+      for (std::size_t si = 0; si < supplies.size(); ++si)
+        for (std::size_t ti = 0; ti < temps.size(); ++ti) {
+          const double vs = supplies[si], temp = temps[ti];
           const stages::Conditions cond = conditions(spec, vs, temp);
           const double from = low ? fast0.f_low_hz : fast0.f_high_hz;
-          auto corner = [&](const std::vector<stages::ChainStage>& list) {
-            return stages::chain_band_edge(list, cond, low, from);
+          // The chain with stage k's piece j in place of its own.
+          auto with = [&](const std::vector<stages::ChainStage>& list, std::size_t k, std::size_t j) {
+            std::vector<stages::ChainStage> t = list;
+            t[k].q = make_transistor(spreads[k], pieces[k][j], temp);
+            return t;
+          };
+          auto corner = [&](const std::vector<std::size_t>& at, const std::vector<stages::ChainStage>& list) {
+            std::vector<std::size_t> key = {low ? 1u : 0u, si, ti};
+            key.insert(key.end(), at.begin(), at.end());
+            const auto it = corners.find(key);
+            if (it != corners.end()) return it->second;
+            const double v = stages::chain_band_edge(list, cond, low, from);
+            corners.emplace(std::move(key), v);
+            return v;
           };
           std::vector<stages::ChainStage> list = nominal;
-          for (std::size_t k = 0; k < n; ++k) list[k].q = make_transistor(spreads[k], pieces[k].back(), temp);
-          double best = corner(list);
+          std::vector<std::size_t> at_piece(n);  // each stage's piece in list (the nominal last)
+          for (std::size_t k = 0; k < n; ++k) {
+            at_piece[k] = pieces[k].size() - 1;
+            list[k].q = make_transistor(spreads[k], pieces[k].back(), temp);
+          }
+          double best = corner(at_piece, list);
           for (int round = 0; round < 2; ++round)
             for (std::size_t k = 0; k < n; ++k)
-              for (const auto& f : pieces[k]) {
-                std::vector<stages::ChainStage> trial = list;
-                trial[k].q = make_transistor(spreads[k], f, temp);
-                const double v = corner(trial);
+              for (std::size_t j = 0; j < pieces[k].size(); ++j) {
+                std::vector<std::size_t> trial = at_piece;
+                trial[k] = j;
+                const double v = corner(trial, with(list, k, j));
                 if (v > 0 && sense * v > sense * best) {
                   best = v;
-                  list = std::move(trial);
+                  list = with(list, k, j);
+                  at_piece = std::move(trial);
                 }
               }
           // Every part of every stage to the end that pushes the corner further: the one
@@ -423,7 +449,7 @@ std::string chain_band_corners(Candidate& ch, const Spec& spec) {
               const double more = stages::chain_loss_at(hi, cond, at, low) - stages::chain_loss_at(lo, cond, at, low);
               pushed[k].values[i] = sense * up * more >= 0 ? rp.combo.hi : rp.combo.lo;
             }
-          const double v = corner(pushed);
+          const double v = stages::chain_band_edge(pushed, cond, low, from);
           if (v > 0) (low ? f_low : f_high).add(v * (low ? r_lo : r_hi));
           if (spec.band_hz) {
             const double edge = low ? spec.band_hz->first : spec.band_hz->second;
