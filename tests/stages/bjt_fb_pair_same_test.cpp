@@ -11,7 +11,9 @@ using namespace shelfstage;
 using namespace shelfstage::test;
 
 TEST_CASE("bjt-fb-pair-same against ngspice: NPN-NPN and PNP-PNP, hFE 100 to 400, 5 V to 24 V") {
-  check_pair_cases(*stages::find_topology("bjt-fb-pair-same"));
+  // Both evaluators within tolerance of ngspice at every case (stage_bench.hpp); most of the
+  // harness's cases have an active reference design.
+  CHECK(check_pair_cases(*stages::find_topology("bjt-fb-pair-same")) >= 12);
 }
 
 TEST_CASE("bjt-fb-pair-same: the gain follows 1 + RF / RE1 across both devices' hFE limits, in ngspice") {
@@ -20,5 +22,6 @@ TEST_CASE("bjt-fb-pair-same: the gain follows 1 + RF / RE1 across both devices' 
   // across the 4:1 spread of both (seen: 8.91..9.27 against a ratio of 9.49).
   const stages::Topology& t = *stages::find_topology("bjt-fb-pair-same");
   const devices::DeviceSpread n(npn_record());
-  check_gain_follows_ratio(t, n, n, 0.9, 1.06);
+  const std::vector<double> gains = check_gain_follows_ratio(t, n, n, 0.9, 1.06);
+  CHECK(gains.size() == 16);  // four corner pieces of each device, every pairing
 }

@@ -10,7 +10,9 @@ using namespace shelfstage;
 using namespace shelfstage::test;
 
 TEST_CASE("jfet-fb-pair against ngspice: N-channel with PNP and P-channel with NPN, 5 V to 24 V") {
-  check_pair_cases(*stages::find_topology("jfet-fb-pair"));
+  // Both evaluators within tolerance of ngspice at every case (stage_bench.hpp); most of the
+  // harness's cases have an active reference design.
+  CHECK(check_pair_cases(*stages::find_topology("jfet-fb-pair")) >= 12);
 }
 
 namespace {

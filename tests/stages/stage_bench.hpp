@@ -548,7 +548,8 @@ inline void check_case(ErrorLog& log, StageCase sc, const Tolerances& tol = {}) 
 }
 
 /// A feedback pair's standard cases against ngspice (both evaluators).
-inline void check_pair_cases(const Topology& t) {
+/// Returns how many cases were compared.
+inline std::size_t check_pair_cases(const Topology& t) {
   ErrorLog log;
   // The harness's conditions and knobs are the same for every topology; where the pair's own
   // design equations find no active design (a JFET of |VP| 4 V on 5 V leaves Q2 no room),
@@ -582,6 +583,7 @@ inline void check_pair_cases(const Topology& t) {
   tol.hd2_floor = 1.2e-4;
   for (const StageCase& sc : cases) check_case(log, sc, tol);
   log.report(fmt::format("{}: {} cases, worst relative error against ngspice", t.name(), cases.size()));
+  return cases.size();
 }
 
 /// A bipolar pair's promise (the series-shunt feedback amplifier's rule, common practice): one
