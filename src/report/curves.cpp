@@ -394,7 +394,7 @@ Transfer transfer_curve(const synth::Candidate& c, const synth::Spec& spec) {
   so.celsius = celsius;
   const auto op = circuit::solve_dc(net, so);
   circuit::Circuit h = circuit::with_capacitors_held(
-      net, op, [](const circuit::Component& e) { return e.role == stages::kRoleLoadCapacitance; });
+      net, op, [](const circuit::Component& e) { return stages::open_at_mid_band(e.role); });
   const std::string out = std::string(stages::kNetOut);
   auto at = [&](double x) {
     h.set_value("VSIG", x);

@@ -265,7 +265,7 @@ class BjtCeDivider final : public Topology {
     // High corner: the hybrid-pi network solved exactly. The low-frequency side comes from
     // CeLowResponse, not from separate sections.
     const detail::HybridPi m = hybrid_pi(s, t);
-    detail::finish_response(p, {}, m, c, d);
+    detail::finish_response(p, {}, m, c, v[COUT], d);
     set_low_response(p, s, v, c, d);
     // Third-order expansion of the exponential law with the Early effect on the mid-band
     // network (HD2 to first order: Vo/(4*IC*RL'*(1 + gm*(Rdeg + Rs''/(beta + 1))))).

@@ -389,7 +389,7 @@ class BjtCeShunt final : public Topology {
     const ShuntSignal s = shunt_signal(b, v, t, c);
     const Eigen::Vector3d x = set_mid_band(p, s, v);
     set_swing(p, s, x, t);
-    detail::finish_response(p, {}, s.m, c, d);
+    detail::finish_response(p, {}, s.m, c, v[COUT], d);
     set_low_response(p, s, v, c, d);
     detail::finish_distortion(
         p, c, [&] { return detail::transfer(s.m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });

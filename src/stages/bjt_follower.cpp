@@ -143,7 +143,7 @@ class BjtFollower final : public Topology {
     m.g_c = 1e9;
     m.out_at_emitter = true;
     // The low-frequency side comes from FollowerLowResponse below, not from separate sections.
-    detail::finish_response(p, {}, m, c, d);
+    detail::finish_response(p, {}, m, c, v[COUT], d);
     {
       // The two coupling corners interact through the base: solve them together.
       const FollowerLowResponse lr{beta, rpi, rth, c.source_ohm, par(v[RE], b.ro_ohm), c.load_ohm, v[CIN], v[COUT]};

@@ -147,10 +147,14 @@ inline double norm2(Cx a) { return a.re * a.re + a.im * a.im; }
 
 namespace {
 // Node voltages (base, emitter, collector) of the network driven by a unit Thevenin source.
-std::array<Cx, 3> hybrid_pi_solve(const HybridPi& m, double w) {
+std::array<Cx, 3> hybrid_pi_solve(const HybridPi& m, double w, Cx* share = nullptr) {
   const Cx ypi{m.gpi, w * m.cpi}, ymu{m.g_f, w * m.cmu};
   const Cx gsrc{m.g_src, 0}, gm{m.gm, 0}, go{m.go, 0};
-  const Cx ge{m.g_e, m.out_at_emitter ? w * m.c_load : 0.0}, gc{m.g_c, m.out_at_emitter ? 0.0 : w * m.c_load};
+  // The load's branch on the output node, in place of its conductance there.
+  const LoadBranch lb = load_branch(m.g_load, m.c_load, m.c_out, w);
+  const Cx yl{lb.y.real() - m.g_load, lb.y.imag()};
+  if (share) *share = {lb.share.real(), lb.share.imag()};
+  const Cx ge = Cx{m.g_e, 0.0} + (m.out_at_emitter ? yl : Cx{}), gc = Cx{m.g_c, 0.0} + (m.out_at_emitter ? Cx{} : yl);
   // Unknowns (vb, ve, vc); a unit Thevenin source drives g_src into the base.
   Cx a[3][4] = {
       {gsrc + ypi + ymu, Cx{} - ypi, Cx{} - ymu, gsrc},
@@ -179,8 +183,17 @@ std::array<Cx, 3> hybrid_pi_solve(const HybridPi& m, double w) {
 }  // namespace
 
 double hybrid_pi_gain(const HybridPi& m, double w) {
-  const auto x = hybrid_pi_solve(m, w);
-  return std::sqrt(norm2(m.out_at_emitter ? x[1] : x[2]));
+  Cx share{1.0, 0.0};
+  const auto x = hybrid_pi_solve(m, w, &share);
+  return std::sqrt(norm2((m.out_at_emitter ? x[1] : x[2]) * share));
+}
+
+LoadBranch load_branch(double g_load, double c_load, double c_out, double w) {
+  using cd = std::complex<double>;
+  const cd yl(g_load, w * c_load);
+  if (!(c_out > 0) || !(w > 0)) return {yl, 1.0};
+  const cd yc(0.0, w * c_out);
+  return {yc * yl / (yc + yl), yc / (yc + yl)};
 }
 
 double hybrid_pi_input_capacitance(const HybridPi& m, double w) {
@@ -222,7 +235,9 @@ double hybrid_pi_corner_hz(const HybridPi& m) {
     lo = hi / 4;
     if (hi >= 1e14) return 1e14 / (2 * std::numbers::pi);
   } else {
-    while (lo > 1e-3 && hybrid_pi_gain(m, lo) < target) lo /= 4;
+    // Not below the output coupling's own corner, which the load branch also carries.
+    const double floor = m.c_out > 0 ? 3.0 * m.g_load / m.c_out : 1e-3;
+    while (lo > floor && hybrid_pi_gain(m, lo) < target) lo /= 4;
     hi = lo * 4;
   }
   for (int i = 0; i < 24; ++i) {
@@ -233,9 +248,13 @@ double hybrid_pi_corner_hz(const HybridPi& m) {
 }
 
 void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& device, const Conditions& c,
-                     Detail detail) {
+                     double c_out, Detail detail) {
   HybridPi m = device;
   m.c_load = c.load_farads;
+  if (c.load_farads > 0 && c_out > 0) {
+    m.c_out = c_out;
+    m.g_load = 1.0 / c.load_ohm;
+  }
   // Input capacitance well below the upper corner (the Miller multiplication holds there).
   p.c_in_f = hybrid_pi_input_capacitance(m, 2 * std::numbers::pi * 10.0);
   if (detail == Detail::full) {

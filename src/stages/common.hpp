@@ -2,6 +2,7 @@
 // and the small helpers every topology file uses. Private to the stages layer.
 #pragma once
 #include <cmath>
+#include <complex>
 #include <numbers>
 #include <span>
 
@@ -50,9 +51,21 @@ double lf_corner_hz(std::span<const LfSection> sections);
 struct HybridPi {
   double g_src = 0, gpi = 0, cpi = 0, cmu = 0, gm = 0, go = 0, g_e = 0, g_c = 0;
   double g_f = 0;               ///< base (gate) to collector (drain): a feedback resistor
-  double c_load = 0;            ///< capacitance from the output node to ground (Conditions::load_farads)
+  double c_load = 0;            ///< capacitance across the load (Conditions::load_farads)
   bool out_at_emitter = false;  ///< followers take the output at the emitter (source)
+  /// With a load capacitance: the output coupling capacitor it hangs behind (0: on the output
+  /// node itself) and the load's own conductance (part of g_c or g_e). Above the band the two
+  /// capacitors divide: the load takes COUT / (COUT + CL) of the node's voltage, which a cable
+  /// of tens of nanofarads behind a microfarad or two makes a loss of its own.
+  double c_out = 0, g_load = 0;
 };
+/// The load behind the output coupling capacitor at angular frequency w > 0: the admittance
+/// the output node sees, and the share of its voltage the load gets. Without c_out (or at
+/// w = 0) the load hangs on the node: g_load + j w c_load, and all of it.
+struct LoadBranch {
+  std::complex<double> y, share;
+};
+LoadBranch load_branch(double g_load, double c_load, double c_out, double w);
 /// The capacitance looking into the base (gate) of the network at angular frequency w: the
 /// imaginary part of the device's input admittance over w (Cpi, and Cmu multiplied by the
 /// gain across it: the Miller effect), farads.
@@ -65,9 +78,10 @@ double hybrid_pi_dc_gain(const HybridPi& m);
 double hybrid_pi_corner_hz(const HybridPi& m);
 /// Sets the band-edge losses of p (always), its input capacitance (always), and f_low, f_high
 /// (Detail::full only: the -3 dB searches cost more than everything else in an evaluation)
-/// from the low-frequency sections and the hybrid-pi model with the load's capacitance.
+/// from the low-frequency sections and the hybrid-pi model with the load's capacitance, which
+/// hangs behind the output coupling capacitor c_out (0: none, the load on the output node).
 void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c,
-                     Detail detail);
+                     double c_out, Detail detail);
 /// Capacitance that puts a first-order corner at f_hz through r_ohm.
 double cap_for(double r_ohm, double f_hz);
 /// Conductance of a resistor that may be absent (0 ohms: a short, given a huge conductance).

@@ -23,7 +23,10 @@ using circuit::ElementKind;
 using circuit::OperatingPoint;
 
 // The load's capacitance is open at mid-band, as the devices' are: it is not held.
-bool is_load_capacitance(const circuit::Component& e) { return e.role == kRoleLoadCapacitance; }
+// Open at mid-band (circuit::with_capacitors_held): the bench's load capacitance, and a
+// compensation capacitor across a feedback resistor (kRoleCompensation), which like a
+// device's capacitance only acts above the band.
+bool is_load_capacitance(const circuit::Component& e) { return open_at_mid_band(e.role); }
 
 struct SweepPoint {
   double out_v = 0;

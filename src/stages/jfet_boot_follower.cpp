@@ -178,7 +178,7 @@ class JfetBootFollower final : public Topology {
     m.g_e = 1.0 / r_ac;
     m.g_c = 1e9;
     m.out_at_emitter = true;
-    detail::finish_response(p, {}, m, c, d);
+    detail::finish_response(p, {}, m, c, v[COUT], d);
     const BootLowResponse lr{gm,         go,     g_rg,  1.0 / v[RS1], 1.0 / v[RS2], rsig,
                              c.load_ohm, v[CIN], v[CB], v[COUT],      p.gain};
     if (v[CIN] > 0 && v[CB] > 0 && v[COUT] > 0) {

@@ -130,7 +130,7 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
   swing(q, b, g, p);
   const LowCorners lf = low_corners(s, c, g, p.zout_ohm);
   const HybridPi m = hybrid_pi(s, q, b, c, g);
-  finish_response(p, std::span<const LfSection>(lf.lf, lf.n), m, c, detail);
+  finish_response(p, std::span<const LfSection>(lf.lf, lf.n), m, c, s.cout, detail);
 
   // Third-order expansion of ID = BETA*(Vov + vgs)^2*(1 + lambda*VDS) on the mid-band
   // network (distortion.hpp). To second order, in closed form, with vgs = v - Rdeg*i and

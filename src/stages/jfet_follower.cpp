@@ -86,7 +86,7 @@ class JfetFollower final : public Topology {
     m.g_e = 1.0 / r_ac;
     m.g_c = 1e9;
     m.out_at_emitter = true;
-    detail::finish_response(p, lf, m, c, d);
+    detail::finish_response(p, lf, m, c, v[COUT], d);
 
     // Third-order expansion of the square law with lambda on the mid-band network (HD2
     // without lambda: Vo/(8*ID*RS'*(1 + gm*RS'))).

@@ -11,12 +11,16 @@
 //    "Striving for small-signal stability", IEEE Circuits and Devices, 2001; from memory).
 // The solver has no current source: the current comes from a source of 1 V behind 1 TOhm,
 // whose loading (1 pS) is far below any node's here, and whose current is read off the
-// node voltages, as are both sides' currents (the forward side is the one resistor moved).
+// node voltages, as are both sides' currents (the forward side is the resistor moved, with
+// every resistor or capacitor beside it between the same two nets: a compensation capacitor
+// across it carries part of the feedback, and a break that left it in place would let the
+// loop close around the injection).
 #include "shelfstage/stages/loop.hpp"
 
 #include <cmath>
 #include <complex>
 #include <fmt/format.h>
+#include <algorithm>
 #include <numbers>
 #include <vector>
 
@@ -33,15 +37,17 @@ constexpr double kInjectOhm = 1e12;
 constexpr const char* kBreakNet = "loop_y";
 constexpr const char* kInjectNet = "loop_i";
 
-// The circuit with the loop broken: the part's end on end_net moved to kBreakNet, a series
-// source VLOOP (+ at the break, - at end_net), and the current injection VINJ behind RINJ into
-// the break. Every other AC source silenced. `voltage` picks which injection carries AC.
-circuit::Circuit broken(const circuit::Circuit& net, const std::string& designator, const std::string& end_net,
+// The circuit with the loop broken: the moved parts' ends on end_net moved to kBreakNet, a
+// series source VLOOP (+ at the break, - at end_net), and the current injection VINJ behind
+// RINJ into the break. Every other AC source silenced. `voltage` picks which injection carries
+// AC.
+circuit::Circuit broken(const circuit::Circuit& net, const std::vector<std::string>& moved, const std::string& end_net,
                         bool voltage) {
   circuit::Circuit b;
   circuit::Circuit::Carry carry;
   carry.net = [&](const circuit::Component& c, const std::string& n) {
-    return c.designator == designator && n == end_net ? std::string(kBreakNet) : n;
+    return n == end_net && std::find(moved.begin(), moved.end(), c.designator) != moved.end() ? std::string(kBreakNet)
+                                                                                              : n;
   };
   carry.keep = [](const circuit::Component& c) {
     return !(c.kind == circuit::ElementKind::vsource && c.ac_volts != 0);
@@ -61,13 +67,13 @@ circuit::Circuit broken(const circuit::Circuit& net, const std::string& designat
 struct Probe {
   circuit::Circuit v_circuit, i_circuit;
   circuit::OperatingPoint v_op, i_op;
-  std::size_t x = 0, y = 0, far = 0, inj = 0;  // nets: return side, break, the moved part's other end, injection
-  double r_moved = 0;                          // the moved part's resistance
+  std::size_t x = 0, y = 0, far = 0, inj = 0;  // nets: return side, break, the moved parts' other end, injection
+  double g_moved = 0, c_moved = 0;             // the moved parts' conductance and capacitance
   cd loop(double f_hz) const {
     const auto v = circuit::solve_ac(v_circuit, v_op, f_hz);
     const cd tv = -v[x] / v[y];
     const auto i = circuit::solve_ac(i_circuit, i_op, f_hz);
-    const cd i_f = (i[y] - i[far]) / r_moved;
+    const cd i_f = (i[y] - i[far]) * cd(g_moved, 2 * std::numbers::pi * f_hz * c_moved);
     const cd i_inj = (i[inj] - i[y]) / kInjectOhm;
     const cd i_r = i_f - i_inj;
     const cd ti = -i_r / i_f;
@@ -85,10 +91,21 @@ LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& de
   const auto end = net.find_net(end_net);
   if (!end || (part->c.pins[0] != *end && part->c.pins[1] != *end))
     throw InputError(fmt::format("loop: {} has no end on net {}", designator, end_net));
-  const std::string far_net = net.net_name(part->c.pins[0] == *end ? part->c.pins[1] : part->c.pins[0]);
+  const std::size_t far = part->c.pins[0] == *end ? part->c.pins[1] : part->c.pins[0];
+  const std::string far_net = net.net_name(far);
   Probe p;
-  p.v_circuit = broken(net, designator, end_net, true);
-  p.i_circuit = broken(net, designator, end_net, false);
+  // The resistor and whatever sits beside it between the same two nets.
+  std::vector<std::string> moved;
+  for (const auto& el : net.elements()) {
+    const bool rc = el.c.kind == circuit::ElementKind::resistor || el.c.kind == circuit::ElementKind::capacitor;
+    const auto [a, b] = std::pair(el.c.pins[0], el.c.pins[1]);
+    if (!rc || !((a == *end && b == far) || (a == far && b == *end))) continue;
+    moved.push_back(el.c.designator);
+    (el.c.kind == circuit::ElementKind::resistor ? p.g_moved : p.c_moved) +=
+        el.c.kind == circuit::ElementKind::resistor ? 1.0 / el.c.value : el.c.value;
+  }
+  p.v_circuit = broken(net, moved, end_net, true);
+  p.i_circuit = broken(net, moved, end_net, false);
   circuit::SolverOptions o;
   o.celsius = celsius;
   p.v_op = circuit::solve_dc(p.v_circuit, o);
@@ -98,7 +115,6 @@ LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& de
   p.y = *p.v_circuit.find_net(kBreakNet);
   p.far = *p.v_circuit.find_net(far_net);
   p.inj = *p.v_circuit.find_net(kInjectNet);
-  p.r_moved = part->c.value;
 
   LoopGain g;
   const cd t_mid = p.loop(f_mid_hz);

@@ -225,6 +225,7 @@ struct PairSignal : PairGains {
   double ce3 = 0;
   double gs = 0, gb = 0, gleg = 0, gf = 0, gr1 = 0, grc2 = 0, gl = 0, gre3 = 0;
   double cpi1 = 0, cmu1 = 0, cpi2 = 0, cmu2 = 0, c_load = 0, cf = 0;
+  double c_out = 0;  ///< with a load capacitance: COUT, which it hangs behind (detail::load_branch)
   int n() const { return same ? 5 : 4; }
 };
 
@@ -252,6 +253,7 @@ PairSignal pair_signal(const PairParts& s, const PairDevices& d, const PairBias&
   m.cpi2 = cbe_at(d.b2, b.w);
   m.cmu2 = cbc_at(d.b2, s.same ? b.vd - b.vo : b.vo - b.vd);
   m.c_load = c.load_farads;
+  if (c.load_farads > 0) m.c_out = s.cout;
   m.cf = s.cf;
   return m;
 }
@@ -304,7 +306,7 @@ Mat hf_matrix(const PairSignal& m, cd s, bool load = true) {
   st.y(E, GND, m.gleg);
   st.y(O, E, m.gf + s * m.cf);
   st.y(D, GND, m.gr1);
-  st.y(O, GND, m.grc2 + (load ? m.gl + s * m.c_load : cd(0.0)));
+  st.y(O, GND, m.grc2 + (load ? load_branch(m.gl, m.c_load, m.c_out, s.imag()).y : cd(0.0)));
   st.device(G, D, E, m.gm1, m.gpi1, m.go1, m.gbce1, s, m.cpi1, m.cmu1);
   int e2 = GND;
   if (m.same && m.e2_grounded) {
@@ -353,13 +355,14 @@ cd lf_transfer(const PairSignal& m, const PairParts& p, cd s) {
 cd hf_transfer(const PairSignal& m, double w) {
   Vec rhs = Vec::Zero(m.n());
   rhs(G) = m.gs;
-  return hf_matrix(m, cd(0.0, w)).partialPivLu().solve(rhs)(O);
+  return hf_matrix(m, cd(0.0, w)).partialPivLu().solve(rhs)(O) * load_branch(m.gl, m.c_load, m.c_out, w).share;
 }
 
 // The angular frequency where a low-pass response falls 3 dB: below3db(w) true above it.
+// Not below `floor_hz`: the load branch carries COUT's own corner too.
 template <class Below>
-double hf_crossing_hz(Below below3db, double lo, double hi) {
-  for (int i = 0; i < 40 && below3db(lo); ++i) lo *= 0.25;
+double hf_crossing_hz(Below below3db, double lo, double hi, double floor_hz) {
+  for (int i = 0; i < 40 && below3db(lo) && 0.25 * lo >= 2 * std::numbers::pi * floor_hz; ++i) lo *= 0.25;
   for (int i = 0; i < 40 && !below3db(hi); ++i) hi *= 4.0;
   if (!below3db(hi)) return 0.0;
   for (int i = 0; i < 40; ++i) {
@@ -650,7 +653,7 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
     const double p_in = 1.0 / (s.cin * (1.0 / m.gs + p.zin_ohm)), p_out = 1.0 / (s.cout * (c.load_ohm + p.zout_ohm));
     const double p_e = (s.bypassed() ? 1.0 / (s.ce * par(s.re1, s.re2)) : 0.0) + (s.bypassed3() ? b.gm2 / s.ce3 : 0.0);
     p.f_low_hz = lf_crossing_hz(lf_below, 0.25 * std::max({p_in, p_out, p_e}), 4.0 * (p_in + p_out + p_e));
-    p.f_high_hz = hf_crossing_hz(hf_below, 1e3, 1e7);
+    p.f_high_hz = hf_crossing_hz(hf_below, std::max(1e3, 6 * std::numbers::pi * p.f_low_hz), 1e7, 3.0 * p.f_low_hz);
   }
   if (c.band_lo_hz > 0)
     p.loss_lo_db = std::max(

@@ -60,7 +60,7 @@ enum PairRole : std::size_t {
 /// The compensation capacitor every pair offers across RF (C4, optional, not polarised):
 /// `common` names Q1's common terminal's net ("emitter" or "source").
 constexpr Role pair_cf_role(std::string_view common) {
-  return {"CF",
+  return {kRoleCompensation,
           "C4",
           'C',
           true,

@@ -190,7 +190,7 @@ TEST_CASE("finish_response: band-edge losses from the sections and the upper pol
   c.band_lo_hz = 20;
   c.band_hi_hz = 100e3;
   Performance p;
-  finish_response(p, lf, m, c, Detail::full);
+  finish_response(p, lf, m, c, 0.0, Detail::full);
   CHECK(p.loss_lo_db == doctest::Approx(10 * std::log10(2.0)).epsilon(1e-6));
   const double fp = 1 / (2 * std::numbers::pi * 100e-12 * 5e3);
   CHECK(p.loss_hi_db == doctest::Approx(10 * std::log10(1 + std::pow(100e3 / fp, 2))).epsilon(1e-4));
@@ -198,7 +198,7 @@ TEST_CASE("finish_response: band-edge losses from the sections and the upper pol
   CHECK(p.f_high_hz == doctest::Approx(fp).epsilon(1e-3));
   // Detail::core leaves the corners alone (they cost the most) but not the losses.
   Performance q;
-  finish_response(q, lf, m, c, Detail::core);
+  finish_response(q, lf, m, c, 0.0, Detail::core);
   CHECK(q.f_low_hz == 0);
   CHECK(q.loss_lo_db == doctest::Approx(p.loss_lo_db));
 }

@@ -244,6 +244,14 @@ enum class Detail { core, stress, full };
 inline constexpr std::string_view kNetSignal = "sig", kNetIn = "in", kNetOut = "out", kNetSupply = "vdd";
 /// The role of the bench's capacitor across the load (CL), present when Conditions::load_farads is.
 inline constexpr std::string_view kRoleLoadCapacitance = "load capacitance";
+/// The role of a compensation capacitor across a feedback resistor (a pair's CF): small, it
+/// acts only above the band, so mid-band figures take it open, as a device's capacitance.
+inline constexpr std::string_view kRoleCompensation = "CF";
+/// Whether a capacitor in this role is open at mid-band (the load capacitance, CF) rather
+/// than a coupling or bypass capacitor's short.
+inline bool open_at_mid_band(std::string_view role) {
+  return role == kRoleLoadCapacitance || role == kRoleCompensation;
+}
 
 /// What a topology's design equations may ask of the synthesizer: which values the shelf
 /// can make (single parts and combinations), so proposals land on real values.
