@@ -251,12 +251,13 @@ void finish_response(Performance& p, std::span<const LfSection> lf, const Hybrid
                      double c_out, Detail detail) {
   HybridPi m = device;
   m.c_load = c.load_farads;
+  // Input capacitance well below the upper corner (the Miller multiplication holds there),
+  // with the load as mid-band has it (COUT a short: at 10 Hz it is not yet one).
+  p.c_in_f = hybrid_pi_input_capacitance(m, 2 * std::numbers::pi * 10.0);
   if (c.load_farads > 0 && c_out > 0) {
     m.c_out = c_out;
     m.g_load = 1.0 / c.load_ohm;
   }
-  // Input capacitance well below the upper corner (the Miller multiplication holds there).
-  p.c_in_f = hybrid_pi_input_capacitance(m, 2 * std::numbers::pi * 10.0);
   if (detail == Detail::full) {
     p.f_low_hz = lf_corner_hz(lf);
     p.f_high_hz = hybrid_pi_corner_hz(m);
