@@ -119,6 +119,20 @@ double parse_fraction(std::string_view field, std::string_view text) {
   return v;
 }
 
+double parse_degrees(std::string_view field, std::string_view text) {
+  std::string_view s = detail::trim(text);
+  for (std::string_view suffix : {"degrees", "degree", "deg", "\u00b0"})
+    if (s.size() > suffix.size() && s.ends_with(suffix)) {
+      s = detail::trim(s.substr(0, s.size() - suffix.size()));
+      break;
+    }
+  double v = 0;
+  const bool digits_only = !s.empty() && s.find_first_not_of("0123456789.+-eE") == std::string_view::npos;
+  if (!digits_only || !units::try_parse_value(s, v) || !std::isfinite(v))
+    throw InputError(fmt::format("{} '{}' is not an angle in degrees (60, or 60deg)", field, units::clip(text)));
+  return v;
+}
+
 double parse_gain_tolerance(std::string_view text) {
   constexpr std::string_view field = "--gain-tol";
   const auto out_of_range = [&] {

@@ -37,6 +37,11 @@ std::string name_field(std::string_view message, std::string_view field);
 /// (write 3% for three percent); so are negative or non-finite values. The error names the field.
 double parse_fraction(std::string_view field, std::string_view text);
 
+/// An angle in degrees: "60", "60deg", "60 °" (a plain number is degrees; SI prefixes are
+/// refused: "60m" is no angle a person means). The error names the field; the range is the
+/// request's to check.
+double parse_degrees(std::string_view field, std::string_view text);
+
 /// The gain window of a design request ("10%", "2.5 %", "±5%", or "-5/+10%", whose wider side
 /// counts): a share above 0 and below 1. The errors name --gain-tol and speak of the gain.
 double parse_gain_tolerance(std::string_view text);

@@ -33,7 +33,7 @@ struct AnalyzeOptions {
   std::string source_z = "0";
   std::vector<std::string> parts;    ///< ROLE=VALUE
   std::vector<std::string> ratings;  ///< ROLE=RATING (W or V)
-  std::optional<std::string> piece, temp, band, hd2_at, spice;
+  std::optional<std::string> piece, temp, band, hd2_at, spice, load_cap;
   std::string max_distortion = "1%";
 };
 
@@ -109,6 +109,7 @@ stages::Conditions conditions_from(const AnalyzeOptions& o) {
   c.supply_v = supply.lo_v;
   c.negative_rail = supply.negative;
   c.load_ohm = positive("--load", o.load, Unit::ohm);
+  if (o.load_cap) c.load_farads = positive("--load-cap", *o.load_cap, Unit::farad);
   c.source_ohm = parse_quantity("--source-z", o.source_z, Unit::ohm);
   if (!std::isfinite(c.source_ohm) || c.source_ohm < 0)
     throw InputError(fmt::format("--source-z '{}' must be zero or positive", o.source_z));
@@ -254,9 +255,11 @@ void print_analysis(Context& ctx, const AnalyzeOptions& o, const report::Analysi
   const auto& c = a.stage.conditions;
   ctx.out << fmt::format("Stage: {}: {}\n", t.name(), t.summary());
   ctx.out << device_line(s, spread.first()) << "\n";
-  ctx.out << fmt::format("Conditions: {}{} rail (ground at the battery's {} terminal), load {}, source {}\n\n",
+  ctx.out << fmt::format("Conditions: {}{} rail (ground at the battery's {} terminal), load {}{}, source {}\n\n",
                          c.negative_rail ? "-" : "+", format_value(c.supply_v, Unit::volt), c.negative_rail ? "+" : "-",
-                         format_value(c.load_ohm, Unit::ohm), format_value(c.source_ohm, Unit::ohm));
+                         format_value(c.load_ohm, Unit::ohm),
+                         c.load_farads > 0 ? " with " + format_value(c.load_farads, Unit::farad) + " across it" : "",
+                         format_value(c.source_ohm, Unit::ohm));
   ctx.out << report::parts_text(a) << "\n";
   ctx.out << report::figures_text(a);
   print_list(ctx.out, "Warnings", a.warnings);
@@ -301,6 +304,8 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
       ->type_name("V")
       ->required();
   cmd->add_option("--load", o->load, "Load resistance at the output (10k, 4k7)")->type_name("OHMS")->required();
+  cmd->add_option("--load-cap", o->load_cap, "Capacitance across the load, e.g. a cable's (470p); default none")
+      ->type_name("FARADS");
   cmd->add_option("--source-z", o->source_z, "Output resistance of the source driving the stage (default 0)")
       ->type_name("OHMS");
   cmd->add_option("--part", o->parts, "A part: ROLE=VALUE in SI or IEC 60062 notation (RD=4k7, CIN=100n); repeat")

@@ -81,6 +81,9 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
   cmd.add_option("--max-distortion", o.max_distortion,
                  "Total harmonic distortion an output may have and count as undistorted (default 1%): the swing "
                  "must stay within it at every corner");
+  cmd.add_option("--phase-margin", o.phase_margin,
+                 "Least phase margin of a feedback stage's loop at every corner, degrees (default 45; 60 for no "
+                 "overshoot): a stage short of it gets a capacitor across its feedback resistor from the shelf");
   cmd.add_option("--prefer", o.prefer,
                  "Rank by gain accuracy alone (accuracy, the default) or by the distortion at the requested swing "
                  "as well (distortion)");
@@ -135,6 +138,7 @@ synth::Spec spec_from_options(const DesignOptions& o) {
   s.combine = o.combine;
   s.gain_tol = parse_gain_tolerance(o.gain_tol);
   s.max_thd = parse_fraction("--max-distortion", o.max_distortion);
+  if (o.phase_margin) s.least_margin_deg = parse_degrees("--phase-margin", *o.phase_margin);
   if (o.prefer == "distortion")
     s.prefer = synth::Spec::Prefer::distortion;
   else if (o.prefer != "accuracy")

@@ -24,10 +24,11 @@ struct DesignOptions {
   std::string gain_tol = "10%";
   std::uint64_t seed = 1;
   int samples = 500;
-  std::string stages = "1..3";        ///< --stages: depth of chains, "1", "2..3", "1..3"
-  std::string spread = "correlated";  ///< --spread: correlated or box
-  std::string max_distortion = "1%";  ///< --max-distortion: THD bound
-  std::string prefer = "accuracy";    ///< --prefer: accuracy or distortion
+  std::string stages = "1..3";              ///< --stages: depth of chains, "1", "2..3", "1..3"
+  std::string spread = "correlated";        ///< --spread: correlated or box
+  std::string max_distortion = "1%";        ///< --max-distortion: THD bound
+  std::optional<std::string> phase_margin;  ///< --phase-margin: a feedback loop's least margin, degrees
+  std::string prefer = "accuracy";          ///< --prefer: accuracy or distortion
   bool no_save = false;
 };
 

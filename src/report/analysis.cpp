@@ -409,7 +409,7 @@ std::vector<std::string> stage_cautions(const Analysis& a) {
 // The closed form (Detail::core) at each of the spread's corner pieces; with Q2's spread, at
 // every pairing of Q1's corner pieces with Q2's (without it, Q2 stays the stage's own piece).
 std::vector<CornerFigures> corner_figures(const StageUnderTest& stage, const devices::DeviceSpread& spread,
-                                          const devices::DeviceSpread* spread2) {
+                                          const devices::DeviceSpread* spread2, double f_mid_hz) {
   const auto& c = stage.conditions;
   std::vector<std::optional<devices::PieceFigures>> seconds = {std::nullopt};
   if (spread2 && stage.transistor.paired) {
@@ -425,9 +425,37 @@ std::vector<CornerFigures> corner_figures(const StageUnderTest& stage, const dev
       else
         qc.bjt = spread.bjt(f, c.celsius);
       if (f2) qc.bjt2 = spread2->bjt(*f2, c.celsius);
-      out.push_back({f, f2, stage.topology->evaluate(stage.values, qc, c, stages::Detail::core)});
+      out.push_back({f, f2, stage.topology->evaluate(stage.values, qc, c, stages::Detail::core), std::nullopt});
+      if (f_mid_hz > 0) {
+        try {
+          out.back().loop = stages::loop_gain(*stage.topology, stage.values, qc, c, f_mid_hz);
+        } catch (const Error&) {
+          // A piece whose operating point does not converge has no loop figure; its row says so.
+        }
+      }
     }
   return out;
+}
+
+// A feedback stage's loop at the nominal piece: where it is broken, the frequency it is read
+// at (the middle of the closed form's band, on a log scale) and its figures.
+void nominal_loop(Analysis& a) {
+  const auto& t = *a.stage.topology;
+  const auto brk = t.feedback_loop();
+  if (!brk) return;
+  const std::size_t role = t.role_index(brk->role);
+  if (role >= t.roles().size() || !(a.stage.values[role] > 0)) return;
+  std::string designator(t.roles()[role].designator);
+  for (const auto& p : a.stage.parts)
+    if (p.role == brk->role && !p.designator.empty()) designator = p.designator;
+  a.loop_broken_at = fmt::format("{} ({}) at the {}", designator, brk->role, t.net_words(brk->net));
+  const double lo = a.closed_form.f_low_hz, hi = a.closed_form.f_high_hz;
+  a.loop_f_mid_hz = lo > 0 && hi > lo ? std::sqrt(lo * hi) : 1e3;
+  try {
+    a.loop = stages::loop_gain(t, a.stage.values, a.stage.transistor, a.stage.conditions, a.loop_f_mid_hz);
+  } catch (const Error& e) {
+    a.loop_problem = e.what();
+  }
 }
 
 }  // namespace
@@ -454,10 +482,11 @@ Analysis analyze_stage(const StageUnderTest& stage, const devices::DeviceSpread*
   }
   if (auto w = bias_warning(a); !w.empty()) a.warnings.insert(a.warnings.begin(), w);
   a.cautions = stage_cautions(a);
+  nominal_loop(a);
   if (spread) {
     a.spread = spread->description();
     if (spread2 && stage.transistor.paired) a.spread += "; Q2: " + spread2->description();
-    a.corners = corner_figures(a.stage, *spread, spread2);
+    a.corners = corner_figures(a.stage, *spread, spread2, a.loop ? a.loop_f_mid_hz : 0.0);
   }
   return a;
 }
@@ -485,6 +514,7 @@ Json device_json(const StageUnderTest& stage) {
 Json conditions_json(const stages::Conditions& c) {
   return {{"supply", (c.negative_rail ? -c.supply_v : c.supply_v)},
           {"load", c.load_ohm},
+          {"load_cap", c.load_farads > 0 ? Json(c.load_farads) : Json(nullptr)},
           {"source_z", c.source_ohm},
           {"temp", c.celsius},
           {"band", c.band_lo_hz > 0 || c.band_hi_hz > 0 ? Json::array({c.band_lo_hz, c.band_hi_hz}) : Json(nullptr)},
@@ -532,6 +562,7 @@ Json corner_json(const stages::Topology& t, devices::DeviceKind kind, const Corn
   }
   if (cf.piece2) cj["hfe2"] = cf.piece2->hfe;
   cj["figures"] = detail::performance_json(t, cf.performance);
+  cj["loop"] = cf.loop ? loop_gain_json(*cf.loop) : Json(nullptr);
   return cj;
 }
 
@@ -557,6 +588,15 @@ Json analysis_json(const Analysis& a) {
   j["parts"] = parts;
   j["warnings"] = a.warnings;
   j["cautions"] = a.cautions;
+  if (a.loop_broken_at.empty()) {
+    j["loop"] = nullptr;
+  } else {
+    Json l = {{"broken_at", a.loop_broken_at}, {"f_mid", a.loop_f_mid_hz}};
+    if (a.loop) l.update(loop_gain_json(*a.loop));
+    l["problem"] = text_or_null(a.loop_problem);
+    l["least_phase_margin"] = synth::kLeastPhaseMarginDeg;
+    j["loop"] = l;
+  }
   j["spread"] = text_or_null(a.spread);
   Json corners = Json::array();
   for (const auto& cf : a.corners) corners.push_back(corner_json(t, a.stage.transistor.kind, cf));
@@ -580,7 +620,26 @@ std::string figures_text(const Analysis& a) {
     for (const auto& r : detail::figure_rows(a)) t.add_row({r.label, r.format(r.closed)});
     out += t.render({"  "});
   }
+  out += loop_text(a);
   return out;
+}
+
+std::string loop_text(const Analysis& a) {
+  if (a.loop_broken_at.empty()) return {};
+  std::string out = fmt::format("Feedback loop: broken at {}, read at {}", a.loop_broken_at,
+                                format_value(a.loop_f_mid_hz, Unit::hertz));
+  if (!a.loop) return out + fmt::format(": not measured ({})\n", a.loop_problem);
+  const auto& g = *a.loop;
+  out += fmt::format(": loop gain {:.3g} ({:.1f} dB)", g.mid, 20 * std::log10(std::max(g.mid, 1e-12)));
+  if (!g.crosses()) return out + "; it stays below 1 at every frequency: no crossover, it cannot oscillate\n";
+  return out + fmt::format(
+                   "; unity-gain crossover {}, phase margin {:.0f}\u00b0 (common practice: at least "
+                   "{:.0f}\u00b0){}\n",
+                   format_value(g.f_cross_hz, Unit::hertz), g.phase_margin_deg, synth::kLeastPhaseMarginDeg,
+                   g.phase_margin_deg < synth::kLeastPhaseMarginDeg
+                       ? ": SHORT, expect ringing; a capacitor across the feedback resistor, or less load "
+                         "capacitance, gives it room"
+                       : "");
 }
 
 std::string parts_text(const Analysis& a) {
@@ -636,6 +695,12 @@ std::string short_tag(std::string tag) {
   return tag;
 }
 
+// A corner's phase margin for the corners table: "94°", "no crossover", or empty.
+std::string margin_shown(const std::optional<stages::LoopGain>& g) {
+  if (!g) return {};
+  return g->crosses() ? fmt::format("{:.0f}\u00b0", g->phase_margin_deg) : "no crossover";
+}
+
 std::string corners_text(const Analysis& a) {
   if (a.corners.empty()) return {};
   const auto& t = *a.stage.topology;
@@ -658,6 +723,9 @@ std::string corners_text(const Analysis& a) {
   cols[cols.size() - 5].title = fmt::format("V({})", names[1]);
   cols[cols.size() - 4].title = fmt::format("V({})", names[2]);
   if (a.stage.transistor.paired) cols.insert(cols.end() - 3, Column{"V(Q2 collector)", Align::right});
+  const bool looped =
+      std::any_of(a.corners.begin(), a.corners.end(), [](const auto& cf) { return cf.loop.has_value(); });
+  if (looped) cols.insert(cols.end() - 1, Column{"margin", Align::right});
   cols.back().align = Align::left;
   TextTable table(cols);
   for (const auto& cf : a.corners) {
@@ -680,10 +748,12 @@ std::string corners_text(const Analysis& a) {
       if (a.stage.transistor.paired) row.push_back(format_value(p.v_out2, Unit::volt));
       row.push_back(fixed3(p.gain));
       row.push_back(format_value(p.swing_peak_v, Unit::volt));
+      if (looped) row.push_back(margin_shown(cf.loop));
       row.push_back(p.active ? "ok" : p.problem);
     } else {
       row.insert(row.end(), {"", "", "", "", ""});
       if (a.stage.transistor.paired) row.emplace_back();
+      if (looped) row.emplace_back();
       row.push_back(p.problem.empty() ? "cut off" : p.problem);
     }
     table.add_row(row);

@@ -73,6 +73,7 @@ Json spec_json(const synth::Spec& s) {
   j["band"] = pair_or_null(s.band_hz);
   j["swing"] = s.swing_vpp ? Json(*s.swing_vpp) : Json(nullptr);
   j["max_distortion"] = s.max_thd;
+  j["phase_margin"] = s.least_margin_deg;
   j["prefer"] = s.prefer == synth::Spec::Prefer::distortion ? "distortion" : "accuracy";
   j["max_current"] = s.max_current_a ? Json(*s.max_current_a) : Json(nullptr);
   j["copies"] = s.copies;
@@ -115,6 +116,7 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
       s.band_hz = std::make_pair(j["band"][0].get<double>(), j["band"][1].get<double>());
     if (j.contains("swing") && j["swing"].is_number()) s.swing_vpp = j["swing"].get<double>();
     s.max_thd = j.value("max_distortion", 0.01);
+    s.least_margin_deg = j.value("phase_margin", synth::kLeastPhaseMarginDeg);
     if (j.value("prefer", std::string("accuracy")) == "distortion") s.prefer = synth::Spec::Prefer::distortion;
     if (j.contains("max_current") && j["max_current"].is_number()) s.max_current_a = j["max_current"].get<double>();
     s.copies = j.at("copies").get<int>();
@@ -282,6 +284,17 @@ Json transistor2_json(const synth::Candidate& c) {
           {"rated", r.any()}};
 }
 
+}  // namespace
+
+Json loop_gain_json(const stages::LoopGain& g) {
+  return {{"gain", g.mid},
+          {"phase", g.mid_phase_deg},
+          {"f_cross", g.crosses() ? Json(g.f_cross_hz) : Json(nullptr)},
+          {"phase_margin", g.crosses() ? Json(g.phase_margin_deg) : Json(nullptr)}};
+}
+
+namespace {
+
 // A feedback stage's loop gain (null for a stage without a loop, and for a chain, whose
 // stages carry their own): at nominal, and its ranges over the corners.
 Json loop_json(const synth::Candidate& c) {
@@ -289,15 +302,11 @@ Json loop_json(const synth::Candidate& c) {
   const synth::LoopFigures& l = *c.loop;
   return {{"broken_at", l.broken_at},
           {"f_mid", l.f_mid_hz},
-          {"nominal",
-           {{"gain", l.nominal.mid},
-            {"phase", l.nominal.mid_phase_deg},
-            {"f_cross", l.nominal.crosses() ? Json(l.nominal.f_cross_hz) : Json(nullptr)},
-            {"phase_margin", l.nominal.crosses() ? Json(l.nominal.phase_margin_deg) : Json(nullptr)}}},
+          {"nominal", loop_gain_json(l.nominal)},
           {"gain", range(l.mid)},
           {"f_cross", range(l.f_cross)},
           {"phase_margin", range(l.margin_deg)},
-          {"least_phase_margin", synth::kLeastPhaseMarginDeg},
+          {"least_phase_margin", l.least_margin_deg},
           {"corners", l.corners},
           {"crossing", l.crossing}};
 }

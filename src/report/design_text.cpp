@@ -159,11 +159,11 @@ std::string loop_lines(const synth::Candidate& s, const std::string& whose) {
     return out;
   }
   out += fmt::format(
-      "  unity-gain crossover {}; phase margin {:.0f}..{:.0f}\u00b0{} (common practice: at least "
+      "  unity-gain crossover {}; phase margin {:.0f}..{:.0f}\u00b0{} (asked for: at least "
       "{:.0f}\u00b0){}\n",
       hz(l.f_cross), l.margin_deg.min, l.margin_deg.max,
       l.crossing < l.corners ? fmt::format(" where it crosses ({} of {})", l.crossing, l.corners) : "",
-      synth::kLeastPhaseMarginDeg, l.margin_deg.min < synth::kLeastPhaseMarginDeg ? ": SHORT, see the cautions" : "");
+      l.least_margin_deg, l.margin_deg.min < l.least_margin_deg ? ": SHORT, see the cautions" : "");
   return out;
 }
 

@@ -553,7 +553,7 @@ std::string finish_chain(Candidate& ch, const Spec& spec) {
   w.thd.add(p.thd);
   if (std::string v = verify_chain_polarity(ch, spec); !v.empty()) return v;
   for (std::size_t k = 0; k < ch.stages.size(); ++k)
-    if (std::string v = assess_loop(ch.stages[k], spec, ch.cautions, fmt::format("stage {}: ", k + 1),
+    if (std::string v = assess_loop(ch.stages[k], spec, fmt::format("stage {}: ", k + 1),
                                     k > 0 ? ch.stages[k - 1].nominal.zout_ohm : -1.0);
         !v.empty())
       return v;

@@ -450,7 +450,12 @@ bool StageBuilder::assess(Candidate& c, SearchStats& stats) const {
 }
 
 void StageBuilder::add_part(Candidate& c, std::size_t role, const Combo& combo) const {
-  const auto& r = topology_.roles()[role];
+  c.parts.push_back(detail::role_part(topology_, role, combo, shelf_));
+}
+
+RolePart detail::role_part(const stages::Topology& topology, std::size_t role, const Combo& combo,
+                           const Shelf& shelf_) {
+  const auto& r = topology.roles()[role];
   RolePart rp;
   rp.role = std::string(r.name);
   rp.designator = std::string(r.designator);
@@ -461,7 +466,7 @@ void StageBuilder::add_part(Candidate& c, std::size_t role, const Combo& combo) 
   rp.rating = combo.rating;
   rp.dielectric = shelf_.groups()[combo.group[0]].dielectric;
   rp.polarised = combo.polarised;
-  c.parts.push_back(rp);
+  return rp;
 }
 
 int StageBuilder::shortfall(const std::array<const Combo*, stages::kMaxRoles>& combos) const {
@@ -830,6 +835,12 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
                                          : " (for one: " + it->second.substr(it->second.find(':') + 2) + ")";
   };
   if (binding == "rating") return "every stage that works runs a part beyond its rating" + example("rating");
+  if (binding == "stability")
+    return fmt::format(
+               "every feedback stage that works keeps less than the {:.0f}\u00b0 of phase margin asked at some corner, "
+               "and no capacitor on the shelf across its feedback resistor brings it up",
+               spec.least_margin_deg) +
+           example("stability");
   if (binding == "polarity") return "every stage that works would reverse-bias an electrolytic" + example("polarity");
   if (binding == "distortion")
     return fmt::format("no stage keeps its THD within {:g} % at {:.3g} Vpp at every corner", 100 * spec.max_thd,
@@ -918,6 +929,8 @@ std::vector<Candidate> finish_top(const Ranked& ranked, const Spec& spec, const 
     return std::any_of(shown.begin(), shown.end(), [&](const Candidate& kept) { return is_variant(kept, c); });
   };
   const std::size_t cores = std::max(1u, std::thread::hardware_concurrency());
+  const int kUnstableLimit = 3 * spec.top + 12;
+  int unstable = 0;
   std::size_t next = 0;
   bool more = true;
   while (static_cast<int>(shown.size()) < spec.top && more) {
@@ -941,7 +954,14 @@ std::vector<Candidate> finish_top(const Ranked& ranked, const Spec& spec, const 
       Candidate& c = *batch[b];
       try {
         if (!c.is_chain()) detail::finalize(c, shelf);
-        broken[b] = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_stage(c, spec);
+        // A loop short of phase margin gets a capacitor across its feedback resistor, if the
+        // shelf has one that brings it up; after many designs none could help, the rest with
+        // a loop of that kind are passed over (each costs a dozen loop sweeps, and designs
+        // further down the list are no better placed).
+        if (!c.is_chain() && c.topology->feedback_loop() && unstable >= kUnstableLimit)
+          broken[b] = "stability: passed over (the designs before it with a loop all fell short of the margin)";
+        else
+          broken[b] = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_with_margin(c, spec, shelf);
       } catch (...) {
         thrown[b] = std::current_exception();
       }
@@ -951,6 +971,7 @@ std::vector<Candidate> finish_top(const Ranked& ranked, const Spec& spec, const 
       if (variant_of_shown(c)) continue;
       if (thrown[b]) std::rethrow_exception(thrown[b]);
       if (!broken[b].empty()) {
+        if (broken[b].starts_with("stability")) ++unstable;
         failures.push_back(broken[b]);
         continue;
       }

@@ -180,6 +180,9 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
                                 const Progress& progress, bool probe = false);
 /// Recipe texts and stock lines of the parts (only for candidates that are shown).
 void finalize(Candidate& c, const Shelf& shelf);
+/// The part list's entry for a combo in a role: designator, pieces' values, tolerance from the
+/// bounds, rating, dielectric (recipe and stock lines come with finalize).
+RolePart role_part(const stages::Topology& topology, std::size_t role, const Combo& combo, const Shelf& shelf);
 
 /// Chains of two or more stages for the spec (spec.stages_max >= 2), best first, each
 /// evaluated as a whole by the exact solver (design() then ranks them with the single
@@ -205,13 +208,21 @@ std::string finish_chain(Candidate& ch, const Spec& spec);
 /// across every capacitor from the exact solver. Returns the first constraint broken or empty.
 std::string finish_stage(Candidate& c, const Spec& spec);
 /// A feedback stage's loop over its corners (LoopFigures) into c.loop (reset for a stage
-/// without a loop); a phase margin under kLeastPhaseMarginDeg at any corner adds a caution,
-/// prefixed, to `cautions`. A chain's stage after the first is measured driven from the
-/// output impedance of the stage before (source_ohm >= 0), as it is in the chain: the loop
-/// gain of a shunt stage grows with the impedance that drives it. Returns a failure
-/// ("bias: ...") when a corner does not solve.
-std::string assess_loop(Candidate& c, const Spec& spec, std::vector<std::string>& cautions,
-                        const std::string& prefix = {}, double source_ohm = -1);
+/// without a loop). A chain's stage after the first is measured driven from the output
+/// impedance of the stage before (source_ohm >= 0), as it is in the chain: the loop gain of a
+/// shunt stage grows with the impedance that drives it. Returns a failure ("bias: ..." when a
+/// corner does not solve, "stability: ..." when the phase margin falls under the request's
+/// least at any corner); c.loop holds the figures either way.
+std::string assess_loop(Candidate& c, const Spec& spec, const std::string& prefix = {}, double source_ohm = -1);
+/// finish_stage for a single stage with a feedback loop that may take a compensation
+/// capacitor (the topology's kRoleCompensation role, empty): when its loop's phase margin
+/// falls under the request's (at the nominal pieces, checked first with one sweep, or at a
+/// corner), the smallest capacitor from the shelf across the feedback resistor that brings it
+/// up at every corner (non-polarised, rated for the rail, stocked for every copy beside the
+/// design's other parts, its zero near the crossover and above the band), the stage finished
+/// again with it. Returns empty when the stage holds (c then holds the design, compensated or
+/// not), else the constraint broken ("stability: ..." when no capacitor helps).
+std::string finish_with_margin(Candidate& c, const Spec& spec, const Shelf& shelf);
 /// Points a chain pays for each stage beyond the first (README "How candidates are ranked").
 inline constexpr double kStagePoints = 3.0;
 

@@ -59,6 +59,15 @@ const std::vector<Relaxation>& relaxations() {
              "within {} THD, short of the {:.3g} Vpp asked",
              stage_words(c), 2 * c.worst.swing_peak.min, percent(s.max_thd), *s.swing_vpp);
        }},
+      {"stability", [](const Spec& s) { return s.least_margin_deg > kLeastPhaseMarginDeg; },
+       [](Spec& s) { s.least_margin_deg = kLeastPhaseMarginDeg; },
+       [](const Spec& s, const Candidate& c) {
+         return fmt::format(
+             "the phase margin binds: the best stage without it ({}) keeps {:.0f}\u00b0 at its worst corner, short "
+             "of the {:.0f}\u00b0 asked (--phase-margin), and no capacitor on the shelf across its feedback "
+             "resistor brings it up",
+             stage_words(c), c.loop && !c.loop->margin_deg.empty ? c.loop->margin_deg.min : 0.0, s.least_margin_deg);
+       }},
       {"current", [](const Spec& s) { return s.max_current_a.has_value(); }, [](Spec& s) { s.max_current_a.reset(); },
        [](const Spec& s, const Candidate& c) {
          return fmt::format(

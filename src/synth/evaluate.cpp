@@ -297,7 +297,7 @@ std::string detail::finish_stage(Candidate& c, const Spec& spec) {
   if (std::string v = detail::verify_polarity(c, spec); !v.empty()) return v;
   c.score = detail::score_of(c, spec);
   detail::add_cautions(c, spec);
-  if (std::string v = detail::assess_loop(c, spec, c.cautions); !v.empty()) return v;
+  if (std::string v = detail::assess_loop(c, spec); !v.empty()) return v;
   return {};
 }
 

@@ -45,6 +45,8 @@ void validate(const Spec& s) {
     require(*s.swing_vpp < 2 * s.supply_lo_v, "swing", *s.swing_vpp, "cannot exceed twice the supply (Vpp)");
   require(finite(s.max_thd) && s.max_thd >= 0.0001 && s.max_thd <= 0.3, "max-distortion", s.max_thd,
           "must be a fraction from 0.01 % to 30 % (e.g. 1%)");
+  require(finite(s.least_margin_deg) && s.least_margin_deg >= 20 && s.least_margin_deg <= 135, "phase-margin",
+          s.least_margin_deg, "must be from 20 to 135 degrees (common practice: 45, or 60 without overshoot)");
   if (s.max_current_a)
     require(finite(*s.max_current_a) && *s.max_current_a > 0, "max-current", *s.max_current_a,
             "must be a positive current");

@@ -194,8 +194,36 @@ TEST_CASE("analyze a feedback pair: --device2 names Q2, required for a pair and 
     CHECK(cj["figures"]["gain"].get<double>() < 101);
   }
   CHECK(hfe2 == std::set<double>{110, 450});  // SQ-510's datasheet range (data-demo/devices.csv)
+  // Its loop, broken at RF's output end: at nominal a loop gain well above one (the gain sits
+  // under the ratio 101 by about 1 / (1 + T)) with a crossover and a margin, and a margin at
+  // every corner. Loop figures are checked against ngspice in tests/stages/loop_test.cpp.
+  const auto& loop = j["loop"];
+  REQUIRE(loop.is_object());
+  CHECK(loop["broken_at"].get<std::string>().find("(RF)") != std::string::npos);
+  CHECK(loop["gain"].get<double>() > 1);
+  CHECK(101 / (1 + 1 / loop["gain"].get<double>()) == doctest::Approx(gain).epsilon(0.05));
+  REQUIRE(loop["phase_margin"].is_number());
+  for (const auto& cj : corners) CHECK(cj["loop"]["phase_margin"].is_number());
   const auto text = test::run_stage_cli(with({"--device2", "SQ-510"}));
   REQUIRE(text.status == 0);
   CHECK(text.out.find("every pairing of Q1's and Q2's corner pieces") != std::string::npos);
   CHECK(text.out.find("V(Q2 collector)") != std::string::npos);
+  CHECK(text.out.find("Feedback loop: broken at R5 (RF)") != std::string::npos);
+  CHECK(text.out.find("margin") != std::string::npos);
+  // A cable across the load and a capacitor across RF: both in the conditions and the parts,
+  // and the upper corner comes down (the cable inside the loop, CF's zero).
+  const auto bare = nlohmann::json::parse(r.out)["exact"]["f_high"].get<double>();
+  const auto cabled =
+      test::run_stage_cli(with({"--device2", "SQ-510", "--load-cap", "10n", "--part", "CF=100p", "--json"}));
+  REQUIRE(cabled.status == 0);
+  const auto jc = nlohmann::json::parse(cabled.out);
+  CHECK(jc["conditions"]["load_cap"].get<double>() == doctest::Approx(10e-9));
+  CHECK(jc["exact"]["f_high"].get<double>() < bare);
+  CHECK(jc["closed_form"]["f_high"].get<double>() ==
+        doctest::Approx(jc["exact"]["f_high"].get<double>()).epsilon(0.01));
+  CHECK(expect_error(with({"--device2", "SQ-510", "--load-cap", "-1n"})).err.find("--load-cap") != std::string::npos);
+  // A stage without a loop has none.
+  const auto plain = test::run_stage_cli(stage_args(s, {"--json"}));
+  REQUIRE(plain.status == 0);
+  CHECK(nlohmann::json::parse(plain.out)["loop"].is_null());
 }

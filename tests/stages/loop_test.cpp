@@ -17,66 +17,22 @@
 #include "shelfstage/stages/loop.hpp"
 #include "stage_bench.hpp"
 #include "support/ngspice.hpp"
+#include "support/spice_loop.hpp"
 
 using namespace shelfstage;
 using namespace shelfstage::test;
 
 namespace {
 
-struct SpiceLoop {
-  double mid = 0, f_cross = 0, margin_deg = 0;
-  bool crosses = false;
-};
-
-// The stage's bench with the end of RF (and of CF beside it, when fitted) on the loop's net
-// moved to a net of its own ("loop_y"), a series source VLOOP from there to that net, and a
-// current source IINJ into loop_y: ngspice runs the voltage injection, then the current
-// injection, and combines them (T = (Tv Ti - 1) / (Tv + Ti + 2), Tv = -V(x) / V(y),
-// Ti = -i_r / i_f).
+// The stage's bench with the loop broken at the end of RF (and of CF beside it, when fitted)
+// on the loop's net, measured by ngspice (support/spice_loop.hpp).
 SpiceLoop spice_loop(const StageCase& sc, double f_mid) {
   const stages::Topology& t = *sc.topology;
-  const circuit::Circuit net = t.netlist(sc.values, sc.q, sc.c);
-  const std::string x(t.feedback_loop()->net);
   std::vector<std::string> moved = {std::string(t.roles()[t.role_index("RF")].designator)};
   if (const std::size_t cf = t.role_index("CF"); cf < t.roles().size() && sc.values[cf] > 0)
     moved.emplace_back(t.roles()[cf].designator);
-  circuit::Circuit b;
-  circuit::Circuit::Carry carry;
-  carry.net = [&](const circuit::Component& c, const std::string& n) {
-    return std::find(moved.begin(), moved.end(), c.designator) != moved.end() && n == x ? std::string("loop_y") : n;
-  };
-  carry.keep = [](const circuit::Component& c) { return c.role != "signal"; };
-  b.append(net, carry);
-  b.vsource("VSIG", "signal", "sig", "0", 0.0, 0.0);
-  b.vsource("VLOOP", "loop", "loop_y", x, 0.0, 1.0);
-  circuit::SpiceOptions o;
-  o.title = "loop gain by double injection";
-  o.celsius = sc.c.celsius;
-  o.analyses = {"IINJ 0 loop_y DC 0 AC 0",
-                ".control",
-                "ac dec 40 10 1e10",
-                fmt::format("let tv = -v({})/v(loop_y)", x),
-                "alter @vloop[acmag] = 0",
-                "alter @iinj[acmag] = 1",
-                "ac dec 40 10 1e10",
-                "let ti = i(vloop)/(1 - i(vloop))",
-                "let tt = (ac1.tv*ti - 1)/(ac1.tv + ti + 2)",
-                "let tm = mag(tt)",
-                "let tp = cph(tt)",
-                fmt::format("meas ac tmid find tm at={:.6g}", f_mid),
-                "meas ac fc when tm=1 fall=last",
-                "meas ac pc find tp when tm=1 fall=last",
-                ".endc"};
-  const SpiceRun r = run_ngspice(circuit::to_spice(b, o));
-  INFO(r.output);
-  SpiceLoop s;
-  s.mid = r.get("tmid");
-  if (const auto fc = r.find("fc")) {
-    s.crosses = true;
-    s.f_cross = *fc;
-    s.margin_deg = 180.0 + r.get("pc") * 180.0 / std::numbers::pi;
-  }
-  return s;
+  return spice_loop_gain(t.netlist(sc.values, sc.q, sc.c), moved, std::string(t.feedback_loop()->net), f_mid,
+                         sc.c.celsius);
 }
 
 // ngspice's upper -3 dB corner of the stage, against a mid-band gain given (the evaluators'

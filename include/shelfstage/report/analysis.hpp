@@ -10,6 +10,7 @@
 #include <nlohmann/json.hpp>
 
 #include "shelfstage/devices/spread.hpp"
+#include "shelfstage/stages/loop.hpp"
 #include "shelfstage/stages/topology.hpp"
 
 namespace shelfstage::report {
@@ -78,6 +79,9 @@ struct CornerFigures {
   devices::PieceFigures piece;
   std::optional<devices::PieceFigures> piece2;  ///< a pair's Q2 piece, when its spread is given
   stages::Performance performance;              ///< Detail::core
+  /// A feedback stage's loop gain at this piece (stages::loop_gain, read at Analysis::loop_f_mid_hz);
+  /// empty without a loop or when its operating point does not converge.
+  std::optional<stages::LoopGain> loop;
 };
 
 /// Everything the analysis found.
@@ -91,6 +95,12 @@ struct Analysis {
   std::vector<std::string> cautions;         ///< hazardous supply, polarised parts, unstated ratings
   std::vector<CornerFigures> corners;        ///< filled when a spread is given
   std::string spread;                        ///< DeviceSpread::description(), when given
+  /// A feedback stage's loop gain at the nominal piece (stages/loop.hpp: broken at the part and
+  /// net the topology names, read at the middle of the closed form's band on a log scale).
+  std::optional<stages::LoopGain> loop;
+  std::string loop_broken_at;  ///< "R5 (RF) at the Q2 collector"; empty without a loop
+  std::string loop_problem;    ///< why `loop` is empty for a stage that has a loop
+  double loop_f_mid_hz = 0;
 
   /// The exact figures when the solver converged, else the closed form.
   const stages::Performance& best() const { return exact ? *exact : closed_form; }
@@ -128,6 +138,9 @@ Json analysis_json(const Analysis& a);
 /// The bias point and the signal figures as a table: the exact figure, and the closed form
 /// beside it where the two differ by more than 1 %.
 std::string figures_text(const Analysis& a);
+/// A feedback stage's loop at the nominal piece in one line (empty without a loop); the end
+/// of figures_text.
+std::string loop_text(const Analysis& a);
 /// The parts: value, recipe, tolerance, stress, rating, share of the rating, + lead.
 std::string parts_text(const Analysis& a);
 /// The closed form at the device's corner pieces (empty when no spread was given).

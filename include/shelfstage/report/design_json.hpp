@@ -6,6 +6,7 @@
 #include <string>
 #include <vector>
 
+#include "shelfstage/stages/loop.hpp"
 #include "shelfstage/synth/design.hpp"
 
 namespace shelfstage::report {
@@ -16,6 +17,10 @@ using Json = nlohmann::ordered_json;
 Json text_or_null(const std::string& s);
 /// A number as JSON, null when it is not given.
 Json number_or_null(const std::optional<double>& v);
+
+/// A loop gain at one build: {"gain" (|T| at mid-band), "phase" (degrees there), "f_cross",
+/// "phase_margin"} (the last two null when |T| never reaches one).
+Json loop_gain_json(const stages::LoopGain& g);
 
 /// The request in SI: gain, load, load_cap, supply (number or [low, high]), rail, spread,
 /// zin, source_z, band, swing, max_distortion, prefer, max_current, copies, temp,

@@ -99,14 +99,15 @@ inline constexpr double kDevicePowerShare = 0.5;
 /// ends, the parts at nominal (their tolerances move |T| by about as much, the crossover and
 /// margin far less), in the conditions the stage works in (a chain stage: into the next).
 struct LoopFigures {
-  std::string broken_at;     ///< where the loop is broken, for people: "R2 (RF) at the collector"
-  double f_mid_hz = 0;       ///< the mid-band frequency |T| is read at
-  stages::LoopGain nominal;  ///< at the nominal piece and supply
-  Range mid;                 ///< |T| at f_mid over the corners (nominal included)
-  Range f_cross;             ///< the unity-gain crossover over the corners that have one
-  Range margin_deg;          ///< the phase margin there
-  int corners = 0;           ///< builds solved
-  int crossing = 0;          ///< ... of which the loop gain reaches one
+  std::string broken_at;         ///< where the loop is broken, for people: "R2 (RF) at the collector"
+  double f_mid_hz = 0;           ///< the mid-band frequency |T| is read at
+  stages::LoopGain nominal;      ///< at the nominal piece and supply
+  Range mid;                     ///< |T| at f_mid over the corners (nominal included)
+  Range f_cross;                 ///< the unity-gain crossover over the corners that have one
+  Range margin_deg;              ///< the phase margin there
+  double least_margin_deg = 45;  ///< the request's least margin (Spec::least_margin_deg)
+  int corners = 0;               ///< builds solved
+  int crossing = 0;              ///< ... of which the loop gain reaches one
 };
 /// Common practice: a feedback loop's phase margin at least 45 degrees (60 for a response
 /// without peaking); below it the stage rings, and near 0 it oscillates.

@@ -35,6 +35,11 @@ struct Spec {
   /// commonly rate an output; common practice). The swing delivered must stay within it at
   /// every corner, and a design's rated output is the largest level that does.
   double max_thd = 0.01;
+  /// The least phase margin a feedback stage's loop may have at any corner, degrees (common
+  /// practice: 45; 60 and more for a step response without overshoot). A stage short of it
+  /// gets a compensation capacitor from the shelf where its topology offers one (across the
+  /// feedback resistor), and is not listed when none brings the margin up.
+  double least_margin_deg = 45.0;
   /// What to rank by beside the gain error: nothing more (accuracy), or the distortion at
   /// the requested level as well (distortion: ten points per percent of worst-case THD).
   enum class Prefer { accuracy, distortion } prefer = Prefer::accuracy;
