@@ -899,6 +899,9 @@ std::string candidate_id(const Candidate& c, int copies) {
   std::string key =
       fmt::format("{}|{}|{}|{}", c.topology->name(), c.device.name, c.piece ? c.piece->label : "", copies);
   if (c.device2) key += "|Q2=" + c.device2->name;  // one-device ids stay as they were
+  // The same parts on a negative rail are another build (the stage mirrored about ground,
+  // every polarised part turned): another id; a positive rail's ids stay as they were.
+  if (c.conditions.negative_rail) key += "|rail=-";
   for (const auto& rp : c.parts) {
     key += "|" + rp.role + "=";
     for (std::size_t k = 0; k < rp.values.size(); ++k)

@@ -11,7 +11,7 @@
 --db @DB@ pick s112731f8
 --db @DB@ show s112731f8 --spice @WORK@/pnp.cir > @WORK@/show.txt
 --db @DB@ design --gain 4 --load 10k --supply -9 --zin 47k --device SQ-410 --stages 1 --top 1 --spread box > @WORK@/npn.txt
---db @DB@ pick s7f0e1897 --json
+--db @DB@ pick saab56892 --json
 # Supplies that are not one rail, and spread models that do not exist.
 --db @DB@ design --gain 4 --load 10k --supply 0 --zin 47k
 --db @DB@ design --gain 4 --load 10k --supply -9..9 --zin 47k
