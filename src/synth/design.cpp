@@ -913,6 +913,15 @@ std::string candidate_id(const Candidate& c, int copies) {
 
 namespace {
 
+// The order designs are listed in: by score, then fewer pieces, then id. Scores are compared
+// to a millionth of a point: the operating points behind them converge to about 1e-11 V from
+// wherever Newton starts (a thread's last solution), and two designs scoring the same would
+// otherwise swap places from run to run.
+bool listed_before(const Candidate& a, const Candidate& b) {
+  return std::make_tuple(std::llround(a.score * 1e6), a.pieces, a.id) <
+         std::make_tuple(std::llround(b.score * 1e6), b.pieces, b.id);
+}
+
 // The best K distinct designs of a ranked list (one-resistor variants of a better one are
 // left out), each finished as it is shown (the full worst case, the exact solver's DC across
 // every capacitor): one that fails there gives its place to the next. Best first.
@@ -982,10 +991,7 @@ std::vector<Candidate> finish_top(const Ranked& ranked, const Spec& spec, const 
       shown.push_back(std::move(c));
     }
   }
-  std::stable_sort(shown.begin(), shown.end(), [](const Candidate& a, const Candidate& b) {
-    if (a.score != b.score) return a.score < b.score;
-    return a.pieces < b.pieces;
-  });
+  std::stable_sort(shown.begin(), shown.end(), listed_before);
   return shown;
 }
 
@@ -1030,10 +1036,7 @@ std::vector<Candidate> search_designs(const Run& run) {
     };
     for (auto& c : finish_top(ranked_chains, spec, run.shelf, failures)) out.push_back(std::move(c));
     for (const auto& f : failures) run.tally.note_corner_failure(f);
-    std::stable_sort(out.begin(), out.end(), [](const Candidate& a, const Candidate& b) {
-      if (a.score != b.score) return a.score < b.score;
-      return a.pieces < b.pieces;
-    });
+    std::stable_sort(out.begin(), out.end(), listed_before);
     if (static_cast<int>(out.size()) > spec.top) out.resize(static_cast<std::size_t>(spec.top));
     if (run.progress) run.progress(1, 1, "chains");
   }
