@@ -32,13 +32,7 @@ double worst_gain_span(const nlohmann::json& design) {
 
 /// The command exits 1 with one line `error: ...` that contains `says`, and prints nothing else.
 void check_refused(const DemoShelf& shelf, const std::vector<std::string>& args, const std::string& says) {
-  const auto r = shelf.run(args);
-  CAPTURE(r.err);
-  CHECK(r.status == 1);
-  CHECK(r.out.empty());
-  CHECK(r.err.starts_with("error: "));
-  CHECK(r.err.find(says) != std::string::npos);
-  CHECK(std::count(r.err.begin(), r.err.end(), '\n') == 1);
+  shelfstage::test::check_refused(shelf.run(args), says);
 }
 
 }  // namespace

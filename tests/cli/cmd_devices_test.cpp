@@ -7,7 +7,7 @@
 
 #include "shelf_fixture.hpp"
 
-using shelfstage::test::CliResult;
+using shelfstage::test::check_refused;
 using shelfstage::test::DemoStock;
 using shelfstage::test::TempDir;
 
@@ -24,16 +24,6 @@ const std::vector<std::string> kOpamp{
 std::vector<std::string> with(std::vector<std::string> a, const std::vector<std::string>& b) {
   a.insert(a.end(), b.begin(), b.end());
   return a;
-}
-
-/// The command exits 1 with one line `error: ...` that contains `says`, and prints nothing else.
-void check_refused(const CliResult& r, const std::string& says) {
-  CAPTURE(r.err);
-  CHECK(r.status == 1);
-  CHECK(r.out.empty());
-  CHECK(r.err.starts_with("error: "));
-  CHECK(r.err.find(says) != std::string::npos);
-  CHECK(std::count(r.err.begin(), r.err.end(), '\n') == 1);
 }
 
 /// The op-amp entry of `devices list --json` by name.
@@ -136,19 +126,20 @@ TEST_CASE("devices add: a bad or missing op-amp figure, or another family's opti
       "--channels '2' does not apply to a PJFET");
   check_refused(shelf.run({"devices", "add", "SA-9", "--kind", "TRIODE"}),
                 "--kind 'TRIODE' is not one of NJFET, PJFET, NPN, PNP, OPAMP");
-  for (const char* name : {"SA-X2", "SQ-9", "SJ-9"}) {
-    const auto all = shelf.json({"devices", "list"}).at("devices");
+  const auto all = shelf.json({"devices", "list"}).at("devices");
+  for (const char* name : {"SA-X2", "SQ-9", "SJ-9"})
     CHECK(std::none_of(all.begin(), all.end(), [&](const auto& d) { return d.at("name") == name; }));
-  }
 }
 
 TEST_CASE("devices import: op-amp rows beside transistor rows; a bad row imports nothing") {
   const DemoStock shelf;
   const TempDir dir;
+  const std::string header =
+      "name,kind,channels,vs_min,vs_max,gbw,slew,aol,out_drop_hi,out_drop_lo,out_drop_ohm,iout_max,cm_drop_hi,"
+      "cm_drop_lo,vos,ib,hfe_min,hfe_max\n";
   const auto file = (dir / "opamps.csv").string();
-  std::ofstream(file) << "name,kind,channels,vs_min,vs_max,gbw,slew,aol,out_drop_hi,out_drop_lo,out_drop_ohm,"
-                         "iout_max,cm_drop_hi,cm_drop_lo,vos,ib,hfe_min,hfe_max\n"
-                         "SA-Q4,OPAMP,4,4,36,3M,10V/us,200V/mV,1.5,1.5,150,20m,0,3,10m,200p,,\n"
+  std::ofstream(file) << header
+                      << "SA-Q4,OPAMP,4,4,36,3M,10V/us,200V/mV,1.5,1.5,150,20m,0,3,10m,200p,,\n"
                          "SQ-77,NPN,,,,,,,,,,,,,,,100,300\n";
   const auto r = shelf.run({"devices", "import", file});
   INFO(r.err);
@@ -160,9 +151,8 @@ TEST_CASE("devices import: op-amp rows beside transistor rows; a bad row imports
   CHECK(d.at("opamp").at("inputs_reach_hi") == true);
 
   const auto bad = (dir / "bad.csv").string();
-  std::ofstream(bad) << "name,kind,channels,vs_min,vs_max,gbw,slew,aol,out_drop_hi,out_drop_lo,out_drop_ohm,"
-                        "iout_max,cm_drop_hi,cm_drop_lo,vos,ib,hfe_min,hfe_max\n"
-                        "SA-Q5,OPAMP,4,4,36,3M,10V/us,200V/mV,1.5,1.5,150,20m,0,3,10m,200p,,\n"
+  std::ofstream(bad) << header
+                     << "SA-Q5,OPAMP,4,4,36,3M,10V/us,200V/mV,1.5,1.5,150,20m,0,3,10m,200p,,\n"
                         "SA-Q6,OPAMP,2,4,36,3M,10V/us,200V/mV,1.5,1.5,150,20m,0,3,10m,200p,100,300\n";
   const auto b = shelf.run({"devices", "import", bad});
   CHECK(b.status == 1);

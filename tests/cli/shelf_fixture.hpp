@@ -5,6 +5,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include <algorithm>
 #include <string>
 
 #include "cli_runner.hpp"
@@ -16,6 +17,17 @@ namespace shelfstage::test {
 inline const std::vector<std::string> kDemoRequest{"design",   "--gain", "10",      "--load",  "10k",
                                                    "--supply", "12",     "--zin",   "100k",    "--source-z",
                                                    "1k",       "--band", "20..20k", "--swing", "2"};
+
+/// The command exited 1 with one line `error: ...` that contains `says`, and printed nothing
+/// else.
+inline void check_refused(const CliResult& r, const std::string& says) {
+  CAPTURE(r.err);
+  CHECK(r.status == 1);
+  CHECK(r.out.empty());
+  CHECK(r.err.starts_with("error: "));
+  CHECK(r.err.find(says) != std::string::npos);
+  CHECK(std::count(r.err.begin(), r.err.end(), '\n') == 1);
+}
 
 /// A database holding the demo shelf's device types and stock (no design yet).
 struct DemoStock {
