@@ -328,7 +328,7 @@ void setup_devices_list(CLI::App& devices_cmd, Context& ctx) {
   cmd->footer(
       "Ranges print as MIN..MAX with units (IDSS 1mA..5mA, VP -3V..-0.5V); TYP is the typical\n"
       "value when known. Measured pieces replace the datasheet range by the bench reading.\n"
-      "Op-amps: GBW and slew typical (a stated minimum after the slash), the output's and the\n"
+      "Op-amps: GBW and slew typical (minima in --json), the output's (at light load) and the\n"
       "inputs' distance from each rail (V+/V-), and RAIL-TO-RAIL for what reaches a rail (in, out).\n"
       "With --json: {\"schema\":1,\"devices\":[...],\"pieces\":[...]}, keys as the CSV columns,\n"
       "plain SI numbers; an op-amp's figures under \"opamp\".");
