@@ -194,6 +194,8 @@ synth::StageSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::Sta
   const stages::Topology& t = *s.topology;
   auto db = ctx.open_database();
   const devices::DeviceRecord record = device_named(db, o.device);
+  if (!devices::is_transistor(record.kind))
+    throw InputError(fmt::format("--device '{}' is an op-amp; {} is a transistor stage", record.name, t.name()));
   if (!t.accepts(record.kind))
     throw InputError(fmt::format("--device '{}' ({}) does not fit {} ({})", o.device, devices::kind_name(record.kind),
                                  t.name(), t.summary()));

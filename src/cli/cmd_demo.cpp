@@ -55,7 +55,7 @@ class TemporaryFile {
 };
 
 struct Loaded {
-  std::size_t devices = 0, lines = 0, pieces = 0;
+  std::size_t transistors = 0, opamps = 0, lines = 0, pieces = 0;
 };
 
 /// Loads the compiled-in demo CSVs: device types first (stock lines refer to them), then the
@@ -64,7 +64,7 @@ Loaded load_demo_shelf(store::Database& db) {
   Loaded n;
   const auto records = store::parse_devices_csv(kDemoDevicesCsv, "demo devices.csv");
   db.put_devices(records);
-  n.devices = records.size();
+  for (const auto& d : records) ++(devices::is_opamp(d.kind) ? n.opamps : n.transistors);
   std::vector<std::string> names;
   for (const auto& d : records) names.push_back(d.name);
   const auto parts = store::parse_stock_csv(kDemoStockCsv, "demo stock.csv", names);
@@ -145,9 +145,9 @@ void run_demo(const DemoOptions& /*o*/, Context& ctx) {
   const Loaded n = load_demo_shelf(db);
   if (!ctx.global.json) {
     ctx.out << fmt::format(
-        "Demo shelf: an invented workshop's parts drawer with {} stock lines, {} transistor types\n"
-        "and {} measured pieces, loaded into {}.\n\n",
-        n.lines, n.devices, n.pieces,
+        "Demo shelf: an invented workshop's parts drawer with {} stock lines, {} transistor and\n"
+        "{} op-amp types and {} measured pieces, loaded into {}.\n\n",
+        n.lines, n.transistors, n.opamps, n.pieces,
         temporary ? "a temporary database that is deleted when the demo ends" : path.string());
   }
   show_demo(db, ctx);

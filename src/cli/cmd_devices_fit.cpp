@@ -63,8 +63,8 @@ void run_devices_fit(const DevicesFitOptions& o, Context& ctx) {
     record = db->device(*o.device);
     if (!record) throw InputError(fmt::format("--device '{}' is not in the device list", *o.device));
     if (!devices::is_jfet(record->kind))
-      throw InputError(fmt::format("--device '{}' is {} {}; self-bias readings fit JFETs", record->name,
-                                   record->kind == DeviceKind::npn ? "an" : "a", devices::kind_name(record->kind)));
+      throw InputError(fmt::format("--device '{}' is {}; self-bias readings fit JFETs", record->name,
+                                   devices::with_article(record->kind)));
     if (o.kind && kind != record->kind)
       throw InputError(fmt::format("--kind '{}' contradicts --device '{}', which is {}", *o.kind, record->name,
                                    devices::kind_name(record->kind)));

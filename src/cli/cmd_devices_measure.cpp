@@ -85,6 +85,9 @@ void run_devices_measure(const DevicesMeasureOptions& o, Context& ctx) {
   auto db = ctx.open_database();
   const auto record = db.device(o.device);
   if (!record) throw InputError(fmt::format("device '{}' is not in the device list", units::clip(o.device)));
+  if (!devices::is_transistor(record->kind))
+    throw InputError(
+        fmt::format("device '{}' is an op-amp; measured pieces are transistors (IDSS and VP, or hFE)", record->name));
   const MeasuredPiece stored = store_piece(db, piece_from_options(o, *record));
   const auto warnings = warn_departures(*record, stored, ctx);
   if (ctx.global.json) {

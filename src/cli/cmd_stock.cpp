@@ -54,7 +54,7 @@ struct StockAddOptions {
 Part part_from_options(const StockAddOptions& o, const store::Database& db) {
   Part p;
   if (!store::parse_kind_code(o.kind, p.kind)) {
-    throw InputError(fmt::format("kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", units::clip(o.kind)));
+    throw InputError(fmt::format("kind '{}' is not one of {}", units::clip(o.kind), store::kind_codes_text()));
   }
   const bool resistor = p.kind == PartKind::resistor;
   const bool capacitor = p.kind == PartKind::capacitor;
@@ -74,7 +74,7 @@ Part part_from_options(const StockAddOptions& o, const store::Database& db) {
   p.qty = parse_count("qty", o.qty);
   if (o.tol) {
     if (!resistor && !capacitor)
-      throw InputError(fmt::format("--tol '{}': transistors have no tolerance", units::clip(*o.tol)));
+      throw InputError(fmt::format("--tol '{}': transistors and op-amps have no tolerance", units::clip(*o.tol)));
     p.tol = detail::parse_tol("--tol", *o.tol);
   }
   if (o.power) {
@@ -115,13 +115,15 @@ void run_stock_add(const StockAddOptions& o, Context& ctx) {
 void setup_stock_add(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockAddOptions>();
   CLI::App* cmd = stock.add_subcommand("add", "Put pieces on the shelf (a new line, or more of an existing one)");
-  cmd->add_option("KIND", o->kind, "R, C, NJFET, PJFET, NPN or PNP")->type_name("")->required();
+  cmd->add_option("KIND", o->kind, "R, C, NJFET, PJFET, NPN, PNP or OPAMP")->type_name("")->required();
   cmd->add_option("VALUE", o->value,
                   "R: ohms, C: farads, in SI or IEC 60062 notation (4.7k, 4k7, 100n, 2u2);\n"
-                  "a transistor: its device name from `shelfstage devices list`")
+                  "a transistor or op-amp: its device name from `shelfstage devices list`")
       ->type_name("")
       ->required();
-  cmd->add_option("QTY", o->qty, "How many pieces (0 records a value you are out of)")->type_name("")->required();
+  cmd->add_option("QTY", o->qty, "How many pieces (op-amps: packages; 0 records a value you are out of)")
+      ->type_name("")
+      ->required();
   cmd->add_option("--tol", o->tol, "Tolerance: 5%, 1%, or -20/+80% for asymmetric (R and C)")->type_name("TOL");
   cmd->add_option("--power", o->power, "Resistor power rating in watts: 0.25, 0.6, 1")->type_name("W");
   cmd->add_option("--volts", o->volts, "Capacitor voltage rating: 6.3, 16, 50")->type_name("V");
@@ -147,7 +149,8 @@ void setup_stock_add(CLI::App& stock, Context& ctx) {
       "Examples:\n"
       "  shelfstage stock add R 4k7 25 --tol 5% --power 0.25 --bin A6\n"
       "  shelfstage stock add C 100u 10 --volts 16 --dielectric electrolytic --bin C4\n"
-      "  shelfstage stock add NPN SQ-410 20 --bin D10");
+      "  shelfstage stock add NPN SQ-410 20 --bin D10\n"
+      "  shelfstage stock add OPAMP SA-210 5 --bin E1 --package DIP-8");
   cmd->callback([o, &ctx] { run_stock_add(*o, ctx); });
 }
 
@@ -172,7 +175,7 @@ std::vector<Part> filter_parts(std::vector<Part> parts, const StockListOptions& 
       bjts = true;
     } else {
       throw InputError(
-          fmt::format("--kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP, JFET, BJT", units::clip(o.kind)));
+          fmt::format("--kind '{}' is not one of {}, JFET, BJT", units::clip(o.kind), store::kind_codes_text()));
     }
   }
   std::erase_if(parts, [&](const Part& p) {
@@ -199,7 +202,7 @@ void run_stock_list(const StockListOptions& o, Context& ctx) {
 void setup_stock_list(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockListOptions>();
   CLI::App* cmd = stock.add_subcommand("list", "Show what is on the shelf, grouped by kind");
-  cmd->add_option("--kind", o->kind, "Only R, C, NJFET, PJFET, NPN, PNP, or JFET / BJT for both polarities")
+  cmd->add_option("--kind", o->kind, "Only R, C, NJFET, PJFET, NPN, PNP, OPAMP, or JFET / BJT for both polarities")
       ->type_name("KIND");
   cmd->add_option("--bin", o->bin, "Only this bin")->type_name("BIN");
   cmd->add_flag("--low", o->low, fmt::format("Only lines with {} or fewer pieces available (to reorder)", kLowMark));
@@ -248,11 +251,12 @@ void setup_stock_import(CLI::App& stock, Context& ctx) {
   add_encoding_option(*cmd, o->encoding);
   cmd->footer(
       "The first row names the columns, in any order: kind, value, qty (required) and tol,\n"
-      "power, volts, dielectric, bin, package, note. kind is R, C, NJFET, PJFET, NPN or PNP;\n"
-      "value is 4.7k / 4k7 / 100n / 2u2 for R and C, a device name for transistors (import\n"
-      "the devices first). Quantities add to matching lines. If any row is bad, nothing is\n"
-      "imported and every bad row is listed with its line number. Text must be UTF-8 without\n"
-      "control characters; a file saved as Latin-1 or Windows-1252 imports with --encoding.");
+      "power, volts, dielectric, bin, package, note. kind is R, C, NJFET, PJFET, NPN, PNP or\n"
+      "OPAMP; value is 4.7k / 4k7 / 100n / 2u2 for R and C, a device name for transistors and\n"
+      "op-amps (import the devices first; an op-amp's qty counts packages). Quantities add to\n"
+      "matching lines. If any row is bad, nothing is imported and every bad row is listed with\n"
+      "its line number. Text must be UTF-8 without control characters; a file saved as Latin-1\n"
+      "or Windows-1252 imports with --encoding.");
   cmd->callback([o, &ctx] { run_stock_import(*o, ctx); });
 }
 
@@ -364,8 +368,8 @@ void setup_stock(CLI::App& parent, Context& ctx) {
   CLI::App* stock = parent.add_subcommand("stock", "Add, list, import, export and correct the parts on the shelf");
   stock->require_subcommand(1);
   stock->footer(
-      "A stock line is one value (or transistor type) in one bin. Name a line by the ID that\n"
-      "`stock list` shows, or by KIND:VALUE[@BIN] (R:4k7@A6, C:100n, NPN:SQ-410).\n"
+      "A stock line is one value (or transistor or op-amp type) in one bin. Name a line by the ID\n"
+      "that `stock list` shows, or by KIND:VALUE[@BIN] (R:4k7@A6, C:100n, NPN:SQ-410, OPAMP:SA-210).\n"
       "Every change of a count goes through the ledger with its reason.\n"
       "Run `shelfstage stock COMMAND --help` for each command.");
   setup_stock_add(*stock, ctx);

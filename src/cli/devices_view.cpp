@@ -1,4 +1,5 @@
-// How the transistor types and measured pieces look to a person (tables) and to a script (JSON).
+// How the transistor and op-amp types and the measured pieces look to a person (tables) and to
+// a script (JSON).
 #include "devices_view.hpp"
 
 #include <fmt/format.h>
@@ -38,6 +39,29 @@ std::string hfe_range_text(const devices::Range& r) {
   return r.min == r.max ? plain(r.min) : plain(r.min) + ".." + plain(r.max);
 }
 
+/// "0.5V/us": a slew rate as datasheets write it.
+std::string slew_text(double v_per_s) { return fmt::format("{:.3g}V/us", v_per_s * 1e-6); }
+
+/// "1.2V/1.2V": a distance from V+ and one from V-.
+std::string drops_text(double hi, double lo) {
+  return quantity_text(hi, Unit::volt) + "/" + quantity_text(lo, Unit::volt);
+}
+
+/// Which rails the inputs and the output reach: "in, out", "in V-, out V-", "out", "no".
+std::string rail_to_rail_text(const devices::OpampParams& o) {
+  auto side = [](std::string_view what, bool hi, bool lo) -> std::string {
+    if (hi && lo) return std::string(what);
+    if (hi) return std::string(what) + " V+";
+    if (lo) return std::string(what) + " V-";
+    return {};
+  };
+  const std::string in = side("in", o.inputs_reach_hi(), o.inputs_reach_lo());
+  const std::string out = side("out", o.output_reaches_hi(), o.output_reaches_lo());
+  if (in.empty() && out.empty()) return "no";
+  if (in.empty() || out.empty()) return in + out;
+  return in + ", " + out;
+}
+
 }  // namespace
 }  // namespace detail
 
@@ -55,8 +79,8 @@ std::string range_text(const devices::Range& range, Unit unit) {
   return quantity_text(range.min, unit) + ".." + quantity_text(range.max, unit);
 }
 
-/// "25V/25V/350mW": the maximum ratings stated (VDS or VCEO, reverse, dissipation), or
-/// "not stated".
+/// "25V/25V/350mW": the maximum ratings stated (VDS or VCEO, reverse, dissipation; an op-amp's
+/// supply, differential input, dissipation), or "not stated".
 std::string ratings_text(const devices::Ratings& r) {
   if (!r.any()) return "not stated";
   auto v = [](const std::optional<double>& x, Unit u) { return x ? units::format_value(*x, u) : std::string("?"); };
@@ -65,7 +89,7 @@ std::string ratings_text(const devices::Ratings& r) {
 
 std::string devices_table(const std::vector<DeviceRecord>& records, const std::vector<MeasuredPiece>& pieces) {
   if (records.empty()) {
-    return "No transistor types yet. Add them with `shelfstage devices add` or "
+    return "No device types yet. Add them with `shelfstage devices add` or "
            "`shelfstage devices import FILE.csv`.\n";
   }
   TextTable jfets({{"NAME"},
@@ -89,9 +113,30 @@ std::string devices_table(const std::vector<DeviceRecord>& records, const std::v
                   {"CJC", Align::right},
                   {"VCEO/VEBO/P MAX", Align::right},
                   {"NOTE"}});
+  TextTable opamps({{"NAME"},
+                    {"CH", Align::right},
+                    {"SUPPLY", Align::right},
+                    {"GBW", Align::right},
+                    {"SLEW", Align::right},
+                    {"VOS", Align::right},
+                    {"IB", Align::right},
+                    {"OUT DROP", Align::right},
+                    {"CM DROP", Align::right},
+                    {"RAIL-TO-RAIL"},
+                    {"IQ", Align::right},
+                    {"VS/VID/P MAX", Align::right},
+                    {"NOTE"}});
   for (const auto& d : records) {
     const std::string kind(devices::kind_name(d.kind));
-    if (devices::is_jfet(d.kind)) {
+    if (devices::is_opamp(d.kind)) {
+      const auto& o = d.opamp;
+      opamps.add_row({d.name, std::to_string(o.channels), range_text({o.vs_min_v, o.vs_max_v, {}}, Unit::volt),
+                      units::format_value(o.gbw_hz.typ, Unit::hertz), detail::slew_text(o.slew_v_per_s.typ),
+                      units::format_value(o.vos_max_v, Unit::volt), units::format_value(o.ib_max_a, Unit::ampere),
+                      detail::drops_text(o.out_drop_hi_v, o.out_drop_lo_v),
+                      detail::drops_text(o.cm_drop_hi_v, o.cm_drop_lo_v), detail::rail_to_rail_text(o),
+                      detail::optional_text(o.iq_a, Unit::ampere), ratings_text(d.ratings), d.note});
+    } else if (devices::is_jfet(d.kind)) {
       const auto& j = d.jfet;
       jfets.add_row({d.name, kind, range_text(j.idss_a, Unit::ampere), detail::typ_text(j.idss_a, Unit::ampere),
                      range_text(j.vp_v, Unit::volt), detail::typ_text(j.vp_v, Unit::volt),
@@ -111,6 +156,12 @@ std::string devices_table(const std::vector<DeviceRecord>& records, const std::v
   if (bjts.row_count() > 0) {
     if (!out.empty()) out += '\n';
     out += fmt::format("BJT types ({})\n{}", bjts.row_count(), bjts.render(layout));
+  }
+  if (opamps.row_count() > 0) {
+    if (!out.empty()) out += '\n';
+    out += fmt::format(
+        "Op-amp types ({}): GBW and slew typical; drops are volts short of V+/V- (output at light load)\n{}",
+        opamps.row_count(), opamps.render(layout));
   }
   if (!pieces.empty()) {
     TextTable measured({{"LABEL"},
@@ -135,13 +186,37 @@ nlohmann::ordered_json device_json(const DeviceRecord& d) {
   nlohmann::ordered_json j;
   j["name"] = d.name;
   j["kind"] = devices::kind_name(d.kind);
-  // The figures of its family, the note, then the maximum ratings (null: not stated).
-  const Family own = devices::is_jfet(d.kind) ? Family::jfet : Family::bjt;
-  for (const auto& c : store::device_columns())
-    if (c.family == own) j[std::string(c.name)] = report::number_or_null(c.get(d));
+  // A transistor's figures, the note, then the maximum ratings (null: not stated); an
+  // op-amp's figures follow in an object of their own.
+  const Family own = store::device_family(d.kind);
+  auto figures = [&](Family family, nlohmann::ordered_json& into) {
+    for (const auto& c : store::device_columns()) {
+      if (c.family != family) continue;
+      const auto v = c.get(d);
+      // A count (an op-amp's channels) is a whole number in JSON too.
+      if (v && c.notation == store::DeviceColumn::Notation::count)
+        into[std::string(c.name)] = static_cast<long long>(std::llround(*v));
+      else
+        into[std::string(c.name)] = report::number_or_null(v);
+    }
+  };
+  if (own != Family::opamp) figures(own, j);
   j["note"] = d.note;
-  for (const auto& c : store::device_columns())
-    if (c.family == Family::rating) j[std::string(c.name)] = report::number_or_null(c.get(d));
+  figures(Family::rating, j);
+  if (own == Family::opamp) {
+    nlohmann::ordered_json o;
+    figures(Family::opamp, o);
+    // What the worst case takes, and which rails are reached (devices::OpampParams).
+    const auto& a = d.opamp;
+    o["gbw_low"] = a.gbw_low_hz();
+    o["slew_low"] = a.slew_low_v_per_s();
+    o["aol_low"] = a.aol_low();
+    o["inputs_reach_hi"] = a.inputs_reach_hi();
+    o["inputs_reach_lo"] = a.inputs_reach_lo();
+    o["output_reaches_hi"] = a.output_reaches_hi();
+    o["output_reaches_lo"] = a.output_reaches_lo();
+    j["opamp"] = std::move(o);
+  }
   return j;
 }
 

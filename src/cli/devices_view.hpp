@@ -1,4 +1,5 @@
-// How the transistor types and measured pieces look to a person (tables) and to a script (JSON).
+// How the transistor and op-amp types and the measured pieces look to a person (tables) and to
+// a script (JSON).
 #pragma once
 #include <nlohmann/json.hpp>
 
@@ -19,7 +20,8 @@ std::string quantity_text(double value, units::Unit unit);
 /// both ends agree.
 std::string range_text(const devices::Range& range, units::Unit unit);
 
-/// The tables `devices list` prints: JFET types, BJT types, then the measured pieces.
+/// The tables `devices list` prints: JFET types, BJT types, op-amp types, then the measured
+/// pieces.
 std::string devices_table(const std::vector<devices::DeviceRecord>& records,
                           const std::vector<devices::MeasuredPiece>& pieces);
 
@@ -27,7 +29,11 @@ std::string devices_table(const std::vector<devices::DeviceRecord>& records,
 /// plain SI numbers: name, kind, then for a JFET idss_min, idss_max, idss_typ, vp_min, vp_max,
 /// vp_typ, lambda, cgs, cgd, tc_idss (fraction per kelvin), tc_vp (volts per kelvin); for a
 /// BJT hfe_min, hfe_max, hfe_typ, is, vaf, cje, cjc, vce_sat; then note and the maximum
-/// ratings v_max, v_rev_max, p_max, p_derate. A missing typical value or rating is null.
+/// ratings v_max, v_rev_max, p_max, p_derate. A missing typical value or rating is null. An
+/// op-amp has name, kind, note, the ratings, and "opamp": its CSV columns (channels ... iq,
+/// null when not stated), then gbw_low, slew_low, aol_low (the stated minimum, or the share of
+/// the typical devices::OpampParams takes) and inputs_reach_hi, inputs_reach_lo,
+/// output_reaches_hi, output_reaches_lo (booleans).
 nlohmann::ordered_json device_json(const devices::DeviceRecord& record);
 
 /// A measured piece: label, device, idss, vp, hfe (null when not measured), uncertainty

@@ -58,8 +58,8 @@ PartSelector parse_selector(std::string_view text) {
   }
   const auto kind_text = text.substr(0, colon);
   if (!store::parse_kind_code(kind_text, s.kind)) {
-    throw InputError(fmt::format("stock line '{}': kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", shown,
-                                 units::clip(kind_text)));
+    throw InputError(fmt::format("stock line '{}': kind '{}' is not one of {}", shown, units::clip(kind_text),
+                                 store::kind_codes_text()));
   }
   std::string_view rest = text.substr(colon + 1);
   const auto at = rest.find('@');

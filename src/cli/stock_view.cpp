@@ -34,7 +34,7 @@ struct Group {
   std::function<std::vector<std::string>(const Part&)> row;
 };
 
-// A transistor line: the same columns for JFETs and BJTs.
+// A line naming a device type: the same columns for JFETs, BJTs and op-amps.
 std::vector<std::string> transistor_row(const Part& p) {
   return {std::to_string(p.id),
           p.device,
@@ -109,6 +109,10 @@ std::vector<Group> groups() {
        transistor_row},
       {"BJTs",
        [](const Part& p) { return p.kind == PartKind::npn || p.kind == PartKind::pnp; },
+       {id, {"DEVICE"}, {"TYPE"}, {"BIN"}, qty, reserved, status, {"PACKAGE"}, {"NOTE"}},
+       transistor_row},
+      {"Op-amps, in packages",
+       [](const Part& p) { return p.kind == PartKind::opamp; },
        {id, {"DEVICE"}, {"TYPE"}, {"BIN"}, qty, reserved, status, {"PACKAGE"}, {"NOTE"}},
        transistor_row},
   };

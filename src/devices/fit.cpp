@@ -450,7 +450,7 @@ std::vector<std::string> datasheet_departures(const DeviceRecord& record, const 
   if (is_jfet(record.kind)) {
     compare("IDSS", piece.idss_a, record.jfet.idss_a, [](double v) { return units::format_value(v, Unit::ampere); });
     compare("VP", piece.vp_v, record.jfet.vp_v, volts_text);
-  } else {
+  } else if (is_bjt(record.kind)) {
     compare("hFE", piece.hfe, record.bjt.hfe, [](double v) { return fmt::format("{:g}", v); });
   }
   return out;

@@ -1,4 +1,4 @@
-// Names of the transistor kinds, as the stock and device CSV files write them.
+// Names of the device kinds, as the stock and device CSV files write them.
 #include <algorithm>
 #include "shelfstage/devices/record.hpp"
 
@@ -12,11 +12,12 @@ struct KindName {
   DeviceKind kind;
   std::string_view name;
 };
-constexpr std::array<KindName, 4> kind_names{{
+constexpr std::array<KindName, 5> kind_names{{
     {DeviceKind::njfet, "NJFET"},
     {DeviceKind::pjfet, "PJFET"},
     {DeviceKind::npn, "NPN"},
     {DeviceKind::pnp, "PNP"},
+    {DeviceKind::opamp, "OPAMP"},
 }};
 
 bool equal_ci(std::string_view a, std::string_view b) {
@@ -46,6 +47,13 @@ bool parse_kind(std::string_view text, DeviceKind& out) {
     }
   }
   return false;
+}
+
+std::string with_article(DeviceKind kind) {
+  if (kind == DeviceKind::opamp) return "an op-amp";
+  // The article as the first letter is spoken: "an NPN" (en), "a PNP" (pee).
+  const std::string_view name = kind_name(kind);
+  return std::string(name.starts_with('N') ? "an " : "a ") + std::string(name);
 }
 
 double Ratings::p_max_at(double celsius) const {

@@ -77,7 +77,18 @@ bool parse_spread_model(std::string_view text, SpreadModel& out) {
   return false;
 }
 
+namespace {
+
+/// The spread model is a transistor's: an op-amp record is refused by name.
+void refuse_opamp(const DeviceRecord& record) {
+  if (!is_transistor(record.kind))
+    throw InputError(fmt::format("device {} is an op-amp: the transistor spread model does not apply", record.name));
+}
+
+}  // namespace
+
 DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options) : record_(record), model_(options.model) {
+  refuse_opamp(record);
   if (is_jfet(record.kind)) {
     const JfetParams& p = record.jfet;
     const double id_lo = std::min(p.idss_a.min, p.idss_a.max);
@@ -115,6 +126,7 @@ DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options) : 
 }
 
 DeviceSpread::DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piece) : record_(record), measured_(true) {
+  refuse_opamp(record);
   const double u = std::clamp(piece.uncertainty, 0.0, 0.5);
   if (is_jfet(record.kind)) {
     if (!piece.idss_a || !piece.vp_v)

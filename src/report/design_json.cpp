@@ -415,21 +415,24 @@ synth::Candidate chain_from_json(const nlohmann::json& j, const std::vector<devi
 }
 
 // The device record, spread model and measured piece a saved single stage names.
-void read_device(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
-                 const std::vector<devices::MeasuredPiece>& pieces, synth::Candidate& c) {
-  const std::string dev = j.at("device").at("name").get<std::string>();
+/// The record a saved design's device (or Q2) names, of the kind it was designed with (a type
+/// removed and listed again under its name may be another kind now, even an op-amp).
+const devices::DeviceRecord& saved_device(const nlohmann::json& saved, const std::vector<devices::DeviceRecord>& devs) {
+  const std::string dev = saved.at("name").get<std::string>();
   const auto it =
       std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev; });
   if (it == devs.end()) throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev));
-  c.device = *it;
-  if (j.contains("device2") && j["device2"].is_object()) {
-    const std::string dev2 = j["device2"].at("name").get<std::string>();
-    const auto it2 =
-        std::find_if(devs.begin(), devs.end(), [&](const auto& d) { return units::escape_text(d.name) == dev2; });
-    if (it2 == devs.end())
-      throw InputError(fmt::format("saved design: device '{}' is no longer in the device list", dev2));
-    c.device2 = *it2;
-  }
+  if (saved.contains("kind") && saved["kind"].is_string() &&
+      saved["kind"].get<std::string>() != devices::kind_name(it->kind))
+    throw InputError(fmt::format("saved design: device '{}' is {} now, not the {} it was designed with", dev,
+                                 devices::kind_name(it->kind), saved["kind"].get<std::string>()));
+  return *it;
+}
+
+void read_device(const nlohmann::json& j, const std::vector<devices::DeviceRecord>& devs,
+                 const std::vector<devices::MeasuredPiece>& pieces, synth::Candidate& c) {
+  c.device = saved_device(j.at("device"), devs);
+  if (j.contains("device2") && j["device2"].is_object()) c.device2 = saved_device(j["device2"], devs);
   if (j.contains("spread") && j["spread"].is_string()) {
     devices::SpreadModel m;
     if (devices::parse_spread_model(j["spread"].get<std::string>(), m)) c.spread_model = m;

@@ -62,6 +62,7 @@ std::string kind_text(devices::DeviceKind k) {
     case devices::DeviceKind::pjfet: return "P-channel JFET";
     case devices::DeviceKind::npn: return "NPN transistor";
     case devices::DeviceKind::pnp: return "PNP transistor";
+    case devices::DeviceKind::opamp: return "op-amp";
   }
   return "transistor";
 }

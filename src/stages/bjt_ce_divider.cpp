@@ -218,7 +218,7 @@ class BjtCeDivider final : public Topology {
   std::string_view summary() const override {
     return "BJT common emitter, divider bias: high gain, moderate input impedance";
   }
-  bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
+  bool accepts(devices::DeviceKind k) const override { return devices::is_bjt(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
   std::span<const InnerNet> inner_nets() const override { return kInner; }

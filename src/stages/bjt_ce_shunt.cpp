@@ -325,7 +325,7 @@ class BjtCeShunt final : public Topology {
   std::string_view summary() const override {
     return "BJT common emitter, collector-to-base feedback: gain set by RF/RIN, little hFE in it";
   }
-  bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
+  bool accepts(devices::DeviceKind k) const override { return devices::is_bjt(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
   // The loop: collector, RF, base, the transistor, back to the collector; broken at RF's

@@ -45,7 +45,7 @@ class BjtFbPair final : public FeedbackPair {
   std::string_view summary() const override {
     return "two-transistor series-feedback pair, bipolar input: gain 1 + RF/RE1, little hFE in it";
   }
-  bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
+  bool accepts(devices::DeviceKind k) const override { return devices::is_bjt(k); }
   Values reference(const Transistor& q, const Conditions& c, const ReferenceKnobs& k) const override {
     return pair_reference(*this, q, c, k);
   }

@@ -53,7 +53,7 @@ class BjtFbPairSame final : public FeedbackPair {
   std::string_view summary() const override {
     return "two-transistor series-feedback pair of one polarity: gain 1 + RF/RE1, for a drawer of one type";
   }
-  bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
+  bool accepts(devices::DeviceKind k) const override { return devices::is_bjt(k); }
   // Searched only when named: it costs a large electrolytic (CE3) and more pieces than the
   // complementary form, whose place it would otherwise take, and, meeting the gain window as a
   // single stage, it keeps the search from the chains that may score better (docs/physics.md,

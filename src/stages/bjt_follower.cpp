@@ -67,7 +67,7 @@ class BjtFollower final : public Topology {
   std::string_view summary() const override {
     return "BJT emitter follower: gain just under one, low output impedance for a heavy load";
   }
-  bool accepts(devices::DeviceKind k) const override { return !devices::is_jfet(k); }
+  bool accepts(devices::DeviceKind k) const override { return devices::is_bjt(k); }
   std::span<const Role> roles() const override { return kRoles; }
   std::array<std::string_view, 3> node_names() const override { return {"base", "emitter", "collector"}; }
   LoadLine load_line(const Values& v, const Conditions& c) const override {

@@ -35,7 +35,8 @@ std::vector<Transistor> transistors_of(const Transistor& q) {
 }
 
 bool Topology::accepts_second(devices::DeviceKind first, devices::DeviceKind second) const {
-  if (devices::is_jfet(second)) return false;
+  // Q2 is bipolar; Q1 a transistor (an op-amp is no Q1 and has no polarity).
+  if (!devices::is_transistor(first) || !devices::is_bjt(second)) return false;
   switch (second_device()) {
     case SecondDevice::none: return false;
     case SecondDevice::complement: return devices::polarity(first) != devices::polarity(second);

@@ -13,6 +13,7 @@
 #include <map>
 #include <optional>
 #include <set>
+#include <span>
 
 #include "shelfstage/units/notation.hpp"
 #include "shelfstage/units/text.hpp"
@@ -581,7 +582,7 @@ std::optional<Part> read_stock_row(const Sheet& sheet, const CsvRow& row, const 
   if (kind_text.empty())
     problems.add(line, "kind is missing");
   else if (!(kind_ok = parse_kind_code(kind_text, p.kind)))
-    problems.add(line, fmt::format("kind '{}' is not one of R, C, NJFET, PJFET, NPN, PNP", shown(kind_text)));
+    problems.add(line, fmt::format("kind '{}' is not one of {}", shown(kind_text), kind_codes_text()));
 
   const auto value_text = sheet.get(row, "value");
   if (value_text.empty()) {
@@ -682,7 +683,7 @@ std::vector<std::string_view> column_names(Family family) {
 /// Every column a device file may have.
 std::vector<std::string_view> device_file_columns() {
   std::vector<std::string_view> known = {"name", "kind"};
-  for (Family f : {Family::jfet, Family::bjt, Family::rating}) {
+  for (Family f : {Family::jfet, Family::bjt, Family::rating, Family::opamp}) {
     const auto names = column_names(f);
     known.insert(known.end(), names.begin(), names.end());
   }
@@ -703,13 +704,29 @@ struct DeviceRow {
     problems.add(row.line, m);
     bad = true;
   }
+  /// A figure written in its column's notation (DeviceColumn::Notation); nullopt, with the
+  /// problem noted, when it cannot be read or a required one is missing.
+  std::optional<double> figure(const DeviceColumn& col, std::string_view text, bool required) {
+    using N = DeviceColumn::Notation;
+    if (col.form == DeviceColumn::Form::tempco) return read_tempco(col.name, text, col.unit, row.line, problems);
+    if (col.notation == N::plain || text.empty())
+      return read_value(col.name, text, col.unit, row.line, problems, required);
+    if (col.notation == N::count) {
+      const auto n = read_count(col.name, text, row.line, problems);
+      return n ? std::optional<double>(*n) : std::nullopt;
+    }
+    try {
+      return col.notation == N::gain ? units::parse_open_loop_gain(text) : units::parse_slew_rate(text);
+    } catch (const InputError& e) {
+      problems.add(row.line, reworded(col.name, e));
+      return std::nullopt;
+    }
+  }
   /// Reads one figure column into the record (nothing when an optional one is empty).
   void read(const DeviceColumn& col, devices::DeviceRecord& d) {
     const auto text = get(col.name);
     const bool required = col.form == DeviceColumn::Form::required;
-    const std::optional<double> v = col.form == DeviceColumn::Form::tempco
-                                        ? read_tempco(col.name, text, col.unit, row.line, problems)
-                                        : read_value(col.name, text, col.unit, row.line, problems, required);
+    const std::optional<double> v = figure(col, text, required);
     // Ratings are magnitudes: a datasheet's -25 V for a P type is 25 V here.
     if (v)
       col.set(d, col.form == DeviceColumn::Form::rating ? std::abs(*v) : *v);
@@ -738,24 +755,38 @@ bool read_name_and_kind(DeviceRow& r, std::map<std::string, std::size_t>& seen, 
     return false;
   }
   if (!devices::parse_kind(kind_text, d.kind)) {
-    r.note(fmt::format("kind '{}' is not one of NJFET, PJFET, NPN, PNP", shown(kind_text)));
+    r.note(fmt::format("kind '{}' is not one of NJFET, PJFET, NPN, PNP, OPAMP", shown(kind_text)));
     return false;
   }
   return true;
 }
 
-/// Figures of the other family on this row point at a shifted or mistyped row.
+/// "JFET", "BJT", "op-amp": a family in messages.
+std::string_view family_words(Family f) {
+  switch (f) {
+    case Family::jfet: return "JFET";
+    case Family::bjt: return "BJT";
+    case Family::opamp: return "op-amp";
+    case Family::rating: return "rating";
+  }
+  return "?";
+}
+
+/// Figures of another family on this row point at a shifted or mistyped row.
 void check_other_family(DeviceRow& r, devices::DeviceKind kind) {
-  const bool jfet = devices::is_jfet(kind);
-  for (std::string_view c : column_names(jfet ? Family::bjt : Family::jfet))
-    if (!r.get(c).empty())
-      r.note(fmt::format("{} '{}' given for kind {} (a {} figure)", c, shown(r.get(c)), devices::kind_name(kind),
-                         jfet ? "BJT" : "JFET"));
+  const Family own = device_family(kind);
+  for (Family other : {Family::jfet, Family::bjt, Family::opamp}) {
+    if (other == own) continue;
+    for (std::string_view c : column_names(other))
+      if (!r.get(c).empty())
+        r.note(fmt::format("{} '{}' given for kind {} ({} {} figure)", c, shown(r.get(c)), devices::kind_name(kind),
+                           other == Family::opamp ? "an" : "a", family_words(other)));
+  }
 }
 
 /// The figures of the record's family and its ratings.
 void read_figures(DeviceRow& r, devices::DeviceRecord& d) {
-  r.read_family(devices::is_jfet(d.kind) ? Family::jfet : Family::bjt, d);
+  r.read_family(device_family(d.kind), d);
   // The two ends of a datasheet range come in either order (-0.5 .. -3 or -3 .. -0.5).
   auto order = [](devices::Range& range) {
     if (range.min > range.max) std::swap(range.min, range.max);
@@ -763,7 +794,7 @@ void read_figures(DeviceRow& r, devices::DeviceRecord& d) {
   if (devices::is_jfet(d.kind)) {
     order(d.jfet.idss_a);
     order(d.jfet.vp_v);
-  } else {
+  } else if (devices::is_bjt(d.kind)) {
     order(d.bjt.hfe);
   }
   r.read_family(Family::rating, d);
@@ -793,26 +824,34 @@ std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std:
 }
 
 std::string write_devices_csv(const std::vector<devices::DeviceRecord>& records) {
-  // The figures of both families (the other family's left empty), the note, the ratings.
+  // The figures of every family (the others' left empty), the note, the ratings, then the
+  // op-amp figures (added last, after the columns files had before them).
+  constexpr Family kBefore[] = {Family::jfet, Family::bjt};
+  constexpr Family kAfter[] = {Family::rating, Family::opamp};
   std::vector<std::string> header = {"name", "kind"};
-  for (Family f : {Family::jfet, Family::bjt}) {
-    const auto names = column_names(f);
-    header.insert(header.end(), names.begin(), names.end());
-  }
+  auto add_names = [&](std::span<const Family> families) {
+    for (Family f : families) {
+      const auto names = column_names(f);
+      header.insert(header.end(), names.begin(), names.end());
+    }
+  };
+  add_names(kBefore);
   header.emplace_back("note");
-  const auto ratings = column_names(Family::rating);
-  header.insert(header.end(), ratings.begin(), ratings.end());
+  add_names(kAfter);
   std::string out = join_row(header);
   auto opt = [](const std::optional<double>& v) { return v ? exact(*v) : std::string(); };
   for (const auto& d : records) {
-    const Family own = devices::is_jfet(d.kind) ? Family::jfet : Family::bjt;
+    const Family own = device_family(d.kind);
     std::vector<std::string> f = {d.name, std::string(devices::kind_name(d.kind))};
-    for (Family family : {Family::jfet, Family::bjt})
-      for (const DeviceColumn& c : device_columns())
-        if (c.family == family) f.push_back(family == own ? opt(c.get(d)) : std::string());
+    auto add_figures = [&](std::span<const Family> families) {
+      for (Family family : families)
+        for (const DeviceColumn& c : device_columns())
+          if (c.family == family)
+            f.push_back(family == own || family == Family::rating ? opt(c.get(d)) : std::string());
+    };
+    add_figures(kBefore);
     f.push_back(d.note);
-    for (const DeviceColumn& c : device_columns())
-      if (c.family == Family::rating) f.push_back(opt(c.get(d)));
+    add_figures(kAfter);
     out += join_row(f);
   }
   return out;

@@ -53,8 +53,11 @@ struct Migration {
   int version;
   std::string_view sql;
 };
-constexpr std::array<Migration, 4> kMigrations{
-    {{1, detail::kSchemaV1}, {2, detail::kSchemaV2}, {3, detail::kSchemaV3}, {4, detail::kSchemaV4}}};
+constexpr std::array<Migration, 5> kMigrations{{{1, detail::kSchemaV1},
+                                                {2, detail::kSchemaV2},
+                                                {3, detail::kSchemaV3},
+                                                {4, detail::kSchemaV4},
+                                                {5, detail::kSchemaV5}}};
 static_assert(kMigrations.back().version == kSchemaVersion, "one migration per schema version");
 
 constexpr const char* kPartColumns =
@@ -64,15 +67,25 @@ constexpr const char* kPartColumns =
 using Family = DeviceColumn::Family;
 
 /// A figure's column in the devices table: its name in a device file (store::device_columns),
-/// but for `is`, an SQL keyword, which is is_a.
-std::string_view sql_column(const DeviceColumn& c) { return c.name == "is" ? "is_a" : c.name; }
+/// but for `is` and `in`, SQL keywords, which are is_a and in_a.
+std::string_view sql_column(const DeviceColumn& c) {
+  if (c.name == "is") return "is_a";
+  if (c.name == "in") return "in_a";
+  return c.name;
+}
+
+/// Whether a column of this family holds a figure of a record of this kind: its own family's
+/// and the ratings (the other families' columns are NULL).
+bool holds(Family family, devices::DeviceKind kind) {
+  return family == Family::rating || family == device_family(kind);
+}
 
 /// The devices table's columns after name and kind, in the order SELECT and INSERT list them:
-/// the JFET and BJT figures, the note (nullptr), the ratings.
+/// the JFET and BJT figures, the note (nullptr), the ratings, the op-amp figures.
 const std::vector<const DeviceColumn*>& device_table_columns() {
   static const std::vector<const DeviceColumn*> order = [] {
     std::vector<const DeviceColumn*> out;
-    for (Family f : {Family::jfet, Family::bjt, Family::rating}) {
+    for (Family f : {Family::jfet, Family::bjt, Family::rating, Family::opamp}) {
       if (f == Family::rating) out.push_back(nullptr);
       for (const DeviceColumn& c : device_columns())
         if (c.family == f) out.push_back(&c);
@@ -144,13 +157,12 @@ devices::DeviceRecord read_device(const Statement& st) {
   const std::string kind = st.text(1);
   if (!devices::parse_kind(kind, d.kind))
     throw DatabaseError(fmt::format("device '{}': unknown kind '{}'", d.name, kind));
-  // The other family's figures are NULL; an optional figure left NULL keeps the record's default.
-  const Family other = devices::is_jfet(d.kind) ? Family::bjt : Family::jfet;
+  // The other families' figures are NULL; an optional figure left NULL keeps the record's default.
   int col = 2;
   for (const DeviceColumn* c : device_table_columns()) {
     if (c == nullptr)
       d.note = st.text(col);
-    else if (c->family != other)
+    else if (holds(c->family, d.kind))
       if (const auto v = st.opt_real(col)) c->set(d, *v);
     ++col;
   }
@@ -314,8 +326,8 @@ void journal_settings(const Connection& conn) {
                                   conn.label(), version, kSchemaVersion));
 }
 
-/// Brings the schema from its current version to kSchemaVersion in one transaction.
-void migrate(Database::Impl& impl, bool fresh) {
+/// The migrations from the file's version on, in one BEGIN IMMEDIATE transaction.
+void migrate_locked(Database::Impl& impl, bool fresh) {
   const Connection& conn = impl.conn;
   impl.immediate([&] {
     // Read again under the write lock: another program may have migrated meanwhile.
@@ -334,6 +346,39 @@ void migrate(Database::Impl& impl, bool fresh) {
       throw DatabaseError(fmt::format("{}: migration from version {} broke a foreign key in table {}; nothing changed",
                                       conn.label(), from, fk.text(0)));
   });
+}
+
+/// Foreign keys off for the life of the guard (a migration that rebuilds a table: kSchemaV5),
+/// on again after it, with legacy_alter_table off as it was before the migration set it;
+/// SQLite ignores foreign_keys inside a transaction, so the guard goes around it.
+class RebuildSettings {
+ public:
+  explicit RebuildSettings(const Connection& conn) : conn_(conn) { conn_.exec("PRAGMA foreign_keys = OFF"); }
+  RebuildSettings(const RebuildSettings&) = delete;
+  RebuildSettings& operator=(const RebuildSettings&) = delete;
+  ~RebuildSettings() {
+    try {
+      conn_.exec("PRAGMA legacy_alter_table = OFF");
+      conn_.exec("PRAGMA foreign_keys = ON");
+    } catch (...) {
+      // migrate() checks that foreign keys are on before the connection is used.
+    }
+  }
+
+ private:
+  const Connection& conn_;
+};
+
+/// Brings the schema from its current version to kSchemaVersion in one transaction.
+void migrate(Database::Impl& impl, bool fresh) {
+  const Connection& conn = impl.conn;
+  {
+    const RebuildSettings rebuilding(conn);
+    migrate_locked(impl, fresh);
+  }
+  // Every later statement relies on foreign keys again.
+  if (conn.prepare("PRAGMA foreign_keys").scalar<int>() != 1)
+    throw DatabaseError(fmt::format("{}: foreign keys did not come back on after the migration", conn.label()));
   impl.version = kSchemaVersion;
 }
 
@@ -720,14 +765,13 @@ void Database::put_devices(const std::vector<devices::DeviceRecord>& records) {
                                    "removed = 0",
                                    device_column_list(), values, updates));
       insert.bind(1, d.name).bind(2, devices::kind_name(d.kind));
-      // The other family's figures are stored as NULL.
-      const Family other = devices::is_jfet(d.kind) ? Family::bjt : Family::jfet;
+      // The other families' figures are stored as NULL.
       int index = 3;
       for (const DeviceColumn* c : device_table_columns()) {
         if (c == nullptr)
           insert.bind(index, trimmed(d.note));
         else
-          insert.bind(index, c->family == other ? std::nullopt : c->get(d));
+          insert.bind(index, holds(c->family, d.kind) ? c->get(d) : std::nullopt);
         ++index;
       }
       insert.run();

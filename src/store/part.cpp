@@ -1,5 +1,5 @@
 // Stock line basics: kind codes, field checks, the short description used in the ledger, and
-// the one table of a transistor type's figure columns.
+// the one table of a device type's figure columns.
 #include "shelfstage/store/part.hpp"
 
 #include <fmt/format.h>
@@ -19,12 +19,13 @@ struct KindName {
   PartKind kind;
   std::string_view code;
 };
-constexpr std::array<KindName, 6> kKinds{{{PartKind::resistor, "R"},
+constexpr std::array<KindName, 7> kKinds{{{PartKind::resistor, "R"},
                                           {PartKind::capacitor, "C"},
                                           {PartKind::njfet, "NJFET"},
                                           {PartKind::pjfet, "PJFET"},
                                           {PartKind::npn, "NPN"},
-                                          {PartKind::pnp, "PNP"}}};
+                                          {PartKind::pnp, "PNP"},
+                                          {PartKind::opamp, "OPAMP"}}};
 
 std::string lower(std::string_view s) {
   std::string out(s);
@@ -74,9 +75,12 @@ PartKind part_kind(devices::DeviceKind kind) {
     case devices::DeviceKind::pjfet: return PartKind::pjfet;
     case devices::DeviceKind::npn: return PartKind::npn;
     case devices::DeviceKind::pnp: return PartKind::pnp;
+    case devices::DeviceKind::opamp: return PartKind::opamp;
   }
   return PartKind::njfet;
 }
+
+std::string_view kind_codes_text() { return "R, C, NJFET, PJFET, NPN, PNP, OPAMP"; }
 
 bool device_kind(PartKind kind, devices::DeviceKind& out) {
   switch (kind) {
@@ -84,6 +88,7 @@ bool device_kind(PartKind kind, devices::DeviceKind& out) {
     case PartKind::pjfet: out = devices::DeviceKind::pjfet; return true;
     case PartKind::npn: out = devices::DeviceKind::npn; return true;
     case PartKind::pnp: out = devices::DeviceKind::pnp; return true;
+    case PartKind::opamp: out = devices::DeviceKind::opamp; return true;
     case PartKind::resistor:
     case PartKind::capacitor: return false;
   }
@@ -114,13 +119,13 @@ std::vector<std::string> part_problems(const Part& p) {
                                 units::format_value(p.value)));
     }
     if (!p.device.empty())
-      out.push_back(
-          fmt::format("device '{}' given for kind {} (only transistors name a device)", p.device, kind_code(p.kind)));
+      out.push_back(fmt::format("device '{}' given for kind {} (only transistors and op-amps name a device)", p.device,
+                                kind_code(p.kind)));
   } else {
+    const char* what = p.kind == PartKind::opamp ? "an op-amp" : "a transistor";
     if (trim(p.device).empty()) out.push_back(fmt::format("device is missing for kind {}", kind_code(p.kind)));
     if (p.value != 0.0)
-      out.push_back(
-          fmt::format("value {} given for kind {} (a transistor names a device)", p.value, kind_code(p.kind)));
+      out.push_back(fmt::format("value {} given for kind {} ({} names a device)", p.value, kind_code(p.kind), what));
     if (p.tol)
       out.push_back(fmt::format("tol {} given for kind {}", units::format_tolerance(*p.tol), kind_code(p.kind)));
   }
@@ -189,13 +194,43 @@ using units::Unit;
 // A column whose figure `at` reaches in a record (a plain number or an optional one), as
 // the record is read (const) and written.
 template <class At>
-constexpr Column column(std::string_view name, F family, Unit unit, Form form, At) {
+constexpr Column column(std::string_view name, F family, Unit unit, Form form, At,
+                        Column::Notation notation = Column::Notation::plain) {
   return {name,
           family,
           unit,
           form,
           [](const DeviceRecord& d) -> std::optional<double> { return At{}(d); },
-          [](DeviceRecord& d, double v) { At{}(d) = v; }};
+          [](DeviceRecord& d, double v) { At{}(d) = v; },
+          notation};
+}
+
+// An op-amp's figure stated as a typical value and perhaps a minimum (devices::TypMin): its
+// two columns, NAME_min and NAME.
+template <class At>
+constexpr Column typ_column(std::string_view name, Unit unit, At, Column::Notation notation) {
+  return column(
+      name, F::opamp, unit, Form::required, [](auto& d) -> auto& { return At{}(d).typ; }, notation);
+}
+template <class At>
+constexpr Column min_column(std::string_view name, Unit unit, At, Column::Notation notation) {
+  return column(
+      name, F::opamp, unit, Form::stated, [](auto& d) -> auto& { return At{}(d).min; }, notation);
+}
+
+using N = Column::Notation;
+
+/// The channel count, a whole number in the record: written as a double, rounded.
+constexpr Column channels_column() {
+  return {"channels",
+          F::opamp,
+          Unit::none,
+          Form::required,
+          [](const DeviceRecord& d) -> std::optional<double> { return d.opamp.channels; },
+          [](DeviceRecord& d, double v) {
+            d.opamp.channels = std::isnan(v) ? 0 : static_cast<int>(std::clamp(std::round(v), -1e6, 1e6));
+          },
+          N::count};
 }
 
 const Column kDeviceColumns[] = {
@@ -247,11 +282,117 @@ const Column kDeviceColumns[] = {
         "p_max", F::rating, Unit::watt, Form::rating, [](auto& d) -> auto& { return d.ratings.p_max_w; }),
     column(
         "p_derate", F::rating, Unit::none, Form::rating, [](auto& d) -> auto& { return d.ratings.derate_w_per_k; }),
+    // Op-amp figures (devices::OpampParams): distances from the rails in volts, noise
+    // densities per root hertz, the slew rate in V/s and the open-loop gain in V/V.
+    channels_column(),
+    column(
+        "vs_min", F::opamp, Unit::volt, Form::required, [](auto& d) -> auto& { return d.opamp.vs_min_v; }),
+    column(
+        "vs_max", F::opamp, Unit::volt, Form::required, [](auto& d) -> auto& { return d.opamp.vs_max_v; }),
+    min_column(
+        "gbw_min", Unit::hertz, [](auto& d) -> auto& { return d.opamp.gbw_hz; }, N::plain),
+    typ_column(
+        "gbw", Unit::hertz, [](auto& d) -> auto& { return d.opamp.gbw_hz; }, N::plain),
+    min_column(
+        "slew_min", Unit::none, [](auto& d) -> auto& { return d.opamp.slew_v_per_s; }, N::slew),
+    typ_column(
+        "slew", Unit::none, [](auto& d) -> auto& { return d.opamp.slew_v_per_s; }, N::slew),
+    min_column(
+        "aol_min", Unit::none, [](auto& d) -> auto& { return d.opamp.aol; }, N::gain),
+    typ_column(
+        "aol", Unit::none, [](auto& d) -> auto& { return d.opamp.aol; }, N::gain),
+    column(
+        "pole2", F::opamp, Unit::hertz, Form::stated, [](auto& d) -> auto& { return d.opamp.pole2_hz; }),
+    column(
+        "out_drop_hi", F::opamp, Unit::volt, Form::required, [](auto& d) -> auto& { return d.opamp.out_drop_hi_v; }),
+    column(
+        "out_drop_lo", F::opamp, Unit::volt, Form::required, [](auto& d) -> auto& { return d.opamp.out_drop_lo_v; }),
+    column(
+        "out_drop_ohm", F::opamp, Unit::ohm, Form::required, [](auto& d) -> auto& { return d.opamp.out_drop_ohm; }),
+    column(
+        "iout_max", F::opamp, Unit::ampere, Form::required, [](auto& d) -> auto& { return d.opamp.iout_max_a; }),
+    column(
+        "cm_drop_hi", F::opamp, Unit::volt, Form::required, [](auto& d) -> auto& { return d.opamp.cm_drop_hi_v; }),
+    column(
+        "cm_drop_lo", F::opamp, Unit::volt, Form::required, [](auto& d) -> auto& { return d.opamp.cm_drop_lo_v; }),
+    column(
+        "vos", F::opamp, Unit::volt, Form::required, [](auto& d) -> auto& { return d.opamp.vos_max_v; }),
+    column(
+        "ib", F::opamp, Unit::ampere, Form::required, [](auto& d) -> auto& { return d.opamp.ib_max_a; }),
+    column(
+        "ios", F::opamp, Unit::ampere, Form::stated, [](auto& d) -> auto& { return d.opamp.ios_max_a; }),
+    column(
+        "en", F::opamp, Unit::volt, Form::stated, [](auto& d) -> auto& { return d.opamp.en_v_rthz; }),
+    column(
+        "in", F::opamp, Unit::ampere, Form::stated, [](auto& d) -> auto& { return d.opamp.in_a_rthz; }),
+    column(
+        "iq", F::opamp, Unit::ampere, Form::stated, [](auto& d) -> auto& { return d.opamp.iq_a; }),
 };
 
 }  // namespace
 
 std::span<const DeviceColumn> device_columns() { return kDeviceColumns; }
+
+DeviceColumn::Family device_family(devices::DeviceKind kind) {
+  if (devices::is_jfet(kind)) return F::jfet;
+  if (devices::is_bjt(kind)) return F::bjt;
+  return F::opamp;
+}
+
+namespace {
+
+/// A figure given as a typical value and perhaps a minimum: each above `lowest`, the minimum
+/// not above the typical.
+void check_typ_min(std::vector<std::string>& out, const std::string& who, std::string_view name,
+                   const devices::TypMin& f, double lowest) {
+  check_at_least(out, who, name, f.typ, lowest, true);
+  if (!f.min) return;
+  const std::string min_name = fmt::format("{}_min", name);
+  check_at_least(out, who, min_name, *f.min, lowest, true);
+  if (std::isfinite(f.typ) && std::isfinite(*f.min) && *f.min > f.typ)
+    out.push_back(fmt::format("{}: {} {} is above {} {}", who, min_name, *f.min, name, f.typ));
+}
+
+/// The op-amp figures (device_problems has the rules).
+void check_opamp(std::vector<std::string>& out, const std::string& who, const devices::DeviceRecord& d) {
+  const auto& o = d.opamp;
+  if (o.channels != 1 && o.channels != 2 && o.channels != 4)
+    out.push_back(fmt::format("{}: channels {} must be 1, 2 or 4 (amplifiers in one package)", who, o.channels));
+  check_at_least(out, who, "vs_min", o.vs_min_v, 0.0, true);
+  check_at_least(out, who, "vs_max", o.vs_max_v, 0.0, true);
+  const bool spans = std::isfinite(o.vs_min_v) && std::isfinite(o.vs_max_v) && o.vs_min_v > 0;
+  if (spans && o.vs_min_v >= o.vs_max_v)
+    out.push_back(fmt::format("{}: vs_min {} is not below vs_max {}", who, o.vs_min_v, o.vs_max_v));
+  check_typ_min(out, who, "gbw", o.gbw_hz, 0.0);
+  check_typ_min(out, who, "slew", o.slew_v_per_s, 0.0);
+  // An open-loop gain of 1 or less is no amplifier (and a dB figure typed as V/V is caught).
+  check_typ_min(out, who, "aol", o.aol, 1.0);
+  if (o.pole2_hz) check_at_least(out, who, "pole2", *o.pole2_hz, 0.0, true);
+  // The output cannot pass a rail; the inputs of some types go a little beyond one.
+  check_at_least(out, who, "out_drop_hi", o.out_drop_hi_v, 0.0, false);
+  check_at_least(out, who, "out_drop_lo", o.out_drop_lo_v, 0.0, false);
+  check_at_least(out, who, "cm_drop_hi", o.cm_drop_hi_v, -1.0, false);
+  check_at_least(out, who, "cm_drop_lo", o.cm_drop_lo_v, -1.0, false);
+  // Both drops together must leave some range at the lowest supply.
+  auto leaves_room = [&](std::string_view hi, double h, std::string_view lo, double l, std::string_view what) {
+    if (spans && std::isfinite(h) && std::isfinite(l) && h + l >= o.vs_min_v)
+      out.push_back(fmt::format("{}: {} {} and {} {} leave no {} at vs_min {}", who, hi, h, lo, l, what, o.vs_min_v));
+  };
+  leaves_room("out_drop_hi", o.out_drop_hi_v, "out_drop_lo", o.out_drop_lo_v, "output swing");
+  leaves_room("cm_drop_hi", o.cm_drop_hi_v, "cm_drop_lo", o.cm_drop_lo_v, "common-mode range");
+  check_at_least(out, who, "out_drop_ohm", o.out_drop_ohm, 0.0, false);
+  check_at_least(out, who, "iout_max", o.iout_max_a, 0.0, true);
+  check_at_least(out, who, "vos", o.vos_max_v, 0.0, false);
+  check_at_least(out, who, "ib", o.ib_max_a, 0.0, false);
+  for (auto [name, v] : {std::pair{"ios", o.ios_max_a}, std::pair{"en", o.en_v_rthz}, std::pair{"in", o.in_a_rthz},
+                         std::pair{"iq", o.iq_a}})
+    if (v) check_at_least(out, who, name, *v, 0.0, false);
+  if (d.ratings.v_max_v && std::isfinite(o.vs_max_v) && *d.ratings.v_max_v < o.vs_max_v)
+    out.push_back(fmt::format("{}: v_max {} (the absolute maximum supply) is below vs_max {}", who, *d.ratings.v_max_v,
+                              o.vs_max_v));
+}
+
+}  // namespace
 
 std::vector<std::string> device_problems(const devices::DeviceRecord& d) {
   std::vector<std::string> out;
@@ -276,6 +417,8 @@ std::vector<std::string> device_problems(const devices::DeviceRecord& d) {
       out.push_back(fmt::format("{}: tc_idss {} must be finite", who, j.tc_idss_per_k));
     if (!std::isfinite(j.tc_vp_v_per_k))
       out.push_back(fmt::format("{}: tc_vp {} must be finite", who, j.tc_vp_v_per_k));
+  } else if (devices::is_opamp(d.kind)) {
+    check_opamp(out, who, d);
   } else {
     const auto& b = d.bjt;
     check_range(out, who, "hfe", b.hfe);
@@ -301,7 +444,10 @@ std::vector<std::string> piece_problems(const devices::MeasuredPiece& m, const d
   if (trim(m.label).empty()) out.push_back("piece label is empty");
   if (!std::isfinite(m.uncertainty) || m.uncertainty < 0.0 || m.uncertainty >= 1.0)
     out.push_back(fmt::format("{}: uncertainty {} must be a fraction in [0, 1)", who, m.uncertainty));
-  if (devices::is_jfet(d.kind)) {
+  if (devices::is_opamp(d.kind)) {
+    out.push_back(fmt::format("{}: device '{}' is an op-amp; measured pieces are transistors (IDSS and VP, or hFE)",
+                              who, d.name));
+  } else if (devices::is_jfet(d.kind)) {
     if (m.hfe) out.push_back(fmt::format("{}: hfe given for JFET '{}'", who, d.name));
     if (!m.idss_a && !m.vp_v) out.push_back(fmt::format("{}: neither idss nor vp measured", who));
     if (m.idss_a && (!std::isfinite(*m.idss_a) || *m.idss_a <= 0.0))

@@ -164,4 +164,110 @@ ALTER TABLE devices ADD COLUMN p_max REAL;      -- watts at 25 °C ambient
 ALTER TABLE devices ADD COLUMN p_derate REAL;   -- watts per kelvin above 25 °C
 )sql";
 
+/// Version 5: op-amp types. The kind CHECKs of devices and parts take 'OPAMP', and devices
+/// gains the op-amp figures (NULL for a transistor, as the other family's are). SQLite cannot
+/// alter a CHECK, so both tables are rebuilt by SQLite's documented procedure for other
+/// table changes (ALTER TABLE, "Making Other Kinds Of Table Schema Changes"): a new table,
+/// the rows copied, the old one dropped, the new one renamed, its indexes made again. It runs
+/// in the migration's transaction with foreign keys off (Database: migrate), and
+/// legacy_alter_table on for the renames, which otherwise check every trigger and refuse
+/// ledger_apply and the reservation triggers while the old parts table is gone (their text
+/// names parts and reads the new table once it has the name). PRAGMA foreign_key_check runs
+/// before the commit. Row ids, the removed flags and every other table are kept as they were.
+/// NOTES: an OPAMP stock line names a device of kind OPAMP and counts packages.
+inline constexpr std::string_view kSchemaV5 = R"sql(
+PRAGMA legacy_alter_table = ON;
+
+CREATE TABLE devices_v5 (
+  name      TEXT PRIMARY KEY COLLATE NOCASE,
+  kind      TEXT NOT NULL CHECK (kind IN ('NJFET', 'PJFET', 'NPN', 'PNP', 'OPAMP')),
+  idss_min  REAL,   -- amperes (JFET)
+  idss_max  REAL,
+  idss_typ  REAL,
+  vp_min    REAL,   -- volts, signed as on a datasheet, vp_min <= vp_max (JFET)
+  vp_max    REAL,
+  vp_typ    REAL,
+  lambda    REAL,   -- 1/V
+  cgs       REAL,   -- farads
+  cgd       REAL,   -- farads
+  tc_idss   REAL,   -- fraction per kelvin
+  tc_vp     REAL,   -- volts per kelvin, on |VP|
+  hfe_min   REAL,   -- (BJT)
+  hfe_max   REAL,
+  hfe_typ   REAL,
+  is_a      REAL,   -- amperes
+  vaf       REAL,   -- volts
+  cje       REAL,   -- farads
+  cjc       REAL,   -- farads
+  vce_sat   REAL,   -- volts
+  note      TEXT NOT NULL DEFAULT '',
+  removed   INTEGER NOT NULL DEFAULT 0 CHECK (removed IN (0, 1)),
+  v_max     REAL,   -- volts: VDS(max), VCEO, or an op-amp's total supply
+  v_rev_max REAL,   -- volts: gate-source reverse, VEBO, or an op-amp's differential input
+  p_max     REAL,   -- watts at 25 °C ambient
+  p_derate  REAL,   -- watts per kelvin above 25 °C
+  channels  INTEGER, -- (op-amp) amplifiers per package
+  vs_min    REAL,   -- volts, supply span V+ - V-
+  vs_max    REAL,
+  gbw_min   REAL,   -- hertz; NULL: not stated
+  gbw       REAL,   -- hertz, typical
+  slew_min  REAL,   -- volts per second; NULL: not stated
+  slew      REAL,
+  aol_min   REAL,   -- V/V; NULL: not stated
+  aol       REAL,
+  pole2     REAL,   -- hertz; NULL: one pole
+  out_drop_hi  REAL,  -- volts short of V+ at light load
+  out_drop_lo  REAL,  -- volts short of V-
+  out_drop_ohm REAL,  -- extra drop per ampere of output current
+  iout_max  REAL,   -- amperes
+  cm_drop_hi REAL,  -- volts short of V+ the inputs reach (negative: beyond it)
+  cm_drop_lo REAL,  -- volts short of V-
+  vos       REAL,   -- volts, maximum
+  ib        REAL,   -- amperes, maximum
+  ios       REAL,   -- amperes, maximum; NULL: not stated
+  en        REAL,   -- V per root hertz at 1 kHz
+  in_a      REAL,   -- A per root hertz
+  iq        REAL    -- amperes per amplifier, maximum
+);
+INSERT INTO devices_v5 (name, kind, idss_min, idss_max, idss_typ, vp_min, vp_max, vp_typ, lambda, cgs, cgd,
+                        tc_idss, tc_vp, hfe_min, hfe_max, hfe_typ, is_a, vaf, cje, cjc, vce_sat, note, removed,
+                        v_max, v_rev_max, p_max, p_derate)
+  SELECT name, kind, idss_min, idss_max, idss_typ, vp_min, vp_max, vp_typ, lambda, cgs, cgd,
+         tc_idss, tc_vp, hfe_min, hfe_max, hfe_typ, is_a, vaf, cje, cjc, vce_sat, note, removed,
+         v_max, v_rev_max, p_max, p_derate FROM devices;
+DROP TABLE devices;
+ALTER TABLE devices_v5 RENAME TO devices;
+
+CREATE TABLE parts_v5 (
+  id         INTEGER PRIMARY KEY,
+  kind       TEXT NOT NULL CHECK (kind IN ('R', 'C', 'NJFET', 'PJFET', 'NPN', 'PNP', 'OPAMP')),
+  value      REAL NOT NULL DEFAULT 0,        -- ohms or farads; 0 for transistors and op-amps
+  device     TEXT COLLATE NOCASE REFERENCES devices(name),  -- transistors and op-amps only
+  tol_minus  REAL,                           -- fraction below nominal; NULL: unknown
+  tol_plus   REAL,                           -- fraction above nominal
+  power_w    REAL,                           -- resistor rating, watts
+  volts      REAL,                           -- capacitor rating, volts
+  dielectric TEXT NOT NULL DEFAULT '',
+  package    TEXT NOT NULL DEFAULT '',
+  qty        INTEGER NOT NULL DEFAULT 0,     -- pieces (op-amps: packages) on hand == sum of the ledger
+  reserved   INTEGER NOT NULL DEFAULT 0,     -- pieces held for planned builds
+  bin        TEXT NOT NULL DEFAULT '',
+  note       TEXT NOT NULL DEFAULT '',
+  removed    INTEGER NOT NULL DEFAULT 0 CHECK (removed IN (0, 1)),
+  CHECK ((kind IN ('R', 'C')) = (device IS NULL)),
+  CHECK (qty >= 0 AND reserved >= 0 AND reserved <= qty)
+);
+INSERT INTO parts_v5 (id, kind, value, device, tol_minus, tol_plus, power_w, volts, dielectric, package, qty,
+                      reserved, bin, note, removed)
+  SELECT id, kind, value, device, tol_minus, tol_plus, power_w, volts, dielectric, package, qty,
+         reserved, bin, note, removed FROM parts;
+DROP TABLE parts;
+ALTER TABLE parts_v5 RENAME TO parts;
+CREATE INDEX parts_value ON parts(kind, value);
+CREATE INDEX parts_device ON parts(device);
+CREATE INDEX parts_line ON parts(kind, bin COLLATE NOCASE, value);
+
+PRAGMA legacy_alter_table = OFF;
+)sql";
+
 }  // namespace shelfstage::store::detail

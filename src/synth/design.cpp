@@ -519,10 +519,12 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   for (const auto& p : inv.parts)
     if (!store::is_passive(p.kind)) stocked[p.device] += p.available();
   for (const auto& name : spec.devices) {
-    const bool known =
-        std::any_of(inv.devices.begin(), inv.devices.end(), [&](const auto& d) { return d.name == name; });
-    if (!known)
+    const auto named =
+        std::find_if(inv.devices.begin(), inv.devices.end(), [&](const auto& d) { return d.name == name; });
+    if (named == inv.devices.end())
       throw InputError(fmt::format("device '{}' is not in the device list (see `shelfstage devices list`)", name));
+    if (!devices::is_transistor(named->kind))
+      throw InputError(fmt::format("device '{}' is an op-amp; the stages designed so far take transistors", name));
   }
   for (const auto& name : spec.topologies)
     if (!stages::find_topology(name)) {
@@ -546,7 +548,8 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   for (const auto* t : stages::registry()) {
     if (!detail::topology_wanted(spec, *t)) continue;
     for (const auto& d : inv.devices) {
-      if (!t->accepts(d.kind)) continue;
+      // Op-amp types are not designed with yet: op-amp stages come with their own topologies.
+      if (!devices::is_transistor(d.kind) || !t->accepts(d.kind)) continue;
       if (!spec.devices.empty() && std::find(spec.devices.begin(), spec.devices.end(), d.name) == spec.devices.end())
         continue;
       if (piece && piece->device != d.name) continue;

@@ -23,6 +23,7 @@
 #include <fmt/format.h>
 
 #include "scan.hpp"
+#include "shelfstage/units/tolerance.hpp"
 
 namespace shelfstage::units {
 
@@ -283,9 +284,9 @@ void check_unit(std::string_view text, Unit expect, const Reading& r) {
                       unit_noun(expect)));
 }
 
-}  // namespace
-
-double parse_value(std::string_view text, Unit expect) {
+/// parse_value, times 10^scale (converted once, NOTES 1); `unit_given` tells whether a unit
+/// was written.
+double parse_scaled(std::string_view text, Unit expect, long scale, bool* unit_given = nullptr) {
   std::size_t pos = 0;
   detail::skip_space(text, pos);
   if (pos == text.size()) fail(kWhat, text, 0, "empty");
@@ -300,8 +301,9 @@ double parse_value(std::string_view text, Unit expect) {
   read_unit(text, pos, r);
   refuse_trailing(text, pos, r);
   check_unit(text, expect, r);
+  if (unit_given != nullptr) *unit_given = r.unit_given || r.unit.has_value();
 
-  const std::optional<double> value = detail::to_double(r.negative, r.d, r.exponent);
+  const std::optional<double> value = detail::to_double(r.negative, r.d, r.exponent + scale);
   const bool zero = r.d.int_digits.find_first_not_of('0') == std::string::npos &&
                     r.d.frac_digits.find_first_not_of('0') == std::string::npos;
   if (zero) return 0.0;  // "-0" is zero, not a signed zero
@@ -309,6 +311,64 @@ double parse_value(std::string_view text, Unit expect) {
     fail(kWhat, text, start, "out of range (the magnitude must lie between 1e-24 and 1e24)");
   }
   return *value;
+}
+
+/// A figure of its own notation: "NUMBER[unit]/PER" (13V/us, 200V/mV), the number in `unit`
+/// and the denominator one of `pers` (its power of ten), or a bare number without a unit.
+/// Errors name `what` and the whole text ("slew '13V/ks': ..."); the columns they give are
+/// the whole text's, as the number comes first.
+struct Per {
+  std::string_view text;
+  long scale;
+};
+template <std::size_t N>
+double parse_figure(std::string_view what, std::string_view text, Unit unit, const std::array<Per, N>& pers,
+                    std::string_view expected, std::string_view bare_unit_refusal) {
+  try {
+    const std::size_t slash = text.rfind('/');
+    if (slash == std::string_view::npos) {
+      bool unit_given = false;
+      const double v = parse_scaled(text, Unit::none, 0, &unit_given);
+      if (unit_given) fail(kWhat, text, 0, bare_unit_refusal);
+      return v;
+    }
+    std::size_t pos = slash + 1;
+    detail::skip_space(text, pos);
+    std::size_t end = text.size();
+    while (end > pos && detail::is_space(text[end - 1])) --end;
+    const std::string_view per = text.substr(pos, end - pos);
+    for (const Per& p : pers)
+      if (per == p.text) return parse_scaled(text.substr(0, slash), unit, -p.scale);
+    fail_at(kWhat, text, pos, fmt::format("'/{}' is not a unit here (write {})", quoted(per), expected));
+  } catch (const ParseError& e) {
+    const std::string m = e.what();
+    const auto colon = m.find("': ");
+    throw ParseError(
+        fmt::format("{} '{}': {}", what, quoted(text), colon == std::string::npos ? m : m.substr(colon + 3)),
+        e.column());
+  }
+}
+
+}  // namespace
+
+double parse_value(std::string_view text, Unit expect) { return parse_scaled(text, expect, 0); }
+
+double parse_slew_rate(std::string_view text) {
+  static constexpr std::array<Per, 5> kPers{{{"us", -6}, {"\xC2\xB5s", -6}, {"\xCE\xBCs", -6}, {"ms", -3}, {"s", 0}}};
+  // A bare figure is volts per second; a volt without its time would be read a million
+  // times too slow if it was meant per microsecond, so it is refused.
+  return parse_figure("slew", text, Unit::volt, kPers, "V/us, V/ms or V/s",
+                      "a slew rate is volts per time: write 13V/us, 0.5V/us, or volts per second as 13M");
+}
+
+double parse_open_loop_gain(std::string_view text) {
+  static constexpr std::array<Per, 5> kPers{{{"mV", -3}, {"uV", -6}, {"\xC2\xB5V", -6}, {"\xCE\xBCV", -6}, {"V", 0}}};
+  std::size_t end = text.size();
+  while (end > 0 && detail::is_space(text[end - 1])) --end;
+  std::size_t at = end >= 2 ? end - 2 : 0;
+  if (end >= 2 && match_ci(text, at, "dB")) return parse_gain(text);
+  return parse_figure("gain", text, Unit::volt, kPers, "V/mV, V/uV or V/V",
+                      "an open-loop gain is V/V (200k), V/mV (200V/mV) or dB (106dB)");
 }
 
 double parse_capacitance(std::string_view text) {

@@ -138,6 +138,8 @@ TEST_CASE("analyze: every mistake is bad input (exit 1) with one error line nami
     CHECK(expect_error(a).err.find("'SJ-999'") != std::string::npos);
     a[5] = "SQ-410";
     CHECK(expect_error(a).err.find("'SQ-410' (NPN)") != std::string::npos);
+    a[5] = "SA-210";  // an op-amp type of the demo shelf: no transistor stage takes it
+    CHECK(expect_error(a).err == "error: --device 'SA-210' is an op-amp; jfet-cs-self is a transistor stage\n");
     a[5] = "SJ-101";
     a.push_back("--piece");
     a.push_back("Q3");
@@ -171,6 +173,7 @@ TEST_CASE("analyze a feedback pair: --device2 names Q2, required for a pair and 
   CHECK(expect_error(pair).err.find("--device2") != std::string::npos);
   CHECK(expect_error(with({"--device2", "SQ-410"})).err.find("SQ-410") != std::string::npos);  // the same polarity
   CHECK(expect_error(with({"--device2", "SJ-101"})).err.find("SJ-101") != std::string::npos);  // not bipolar
+  CHECK(expect_error(with({"--device2", "SA-210"})).err.find("'SA-210' (OPAMP) does not fit") != std::string::npos);
   CHECK(expect_error(stage_args(s, {"--device2", "SQ-510"})).err.find("--device2") != std::string::npos);
   const auto r = test::run_stage_cli(with({"--device2", "SQ-510", "--json"}));
   REQUIRE(r.status == 0);

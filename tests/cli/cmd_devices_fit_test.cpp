@@ -32,13 +32,7 @@ double worst_gain_span(const nlohmann::json& design) {
 
 /// The command exits 1 with one line `error: ...` that contains `says`, and prints nothing else.
 void check_refused(const DemoShelf& shelf, const std::vector<std::string>& args, const std::string& says) {
-  const auto r = shelf.run(args);
-  CAPTURE(r.err);
-  CHECK(r.status == 1);
-  CHECK(r.out.empty());
-  CHECK(r.err.starts_with("error: "));
-  CHECK(r.err.find(says) != std::string::npos);
-  CHECK(std::count(r.err.begin(), r.err.end(), '\n') == 1);
+  shelfstage::test::check_refused(shelf.run(args), says);
 }
 
 }  // namespace
@@ -222,4 +216,26 @@ TEST_CASE("devices measure: misuse is refused with one error line, nothing store
   refused({"devices", "measure", "SJ-101", "--idss", "2m", "--vp", "1", "--uncertainty", "3"}, "reads as 300 %");
   refused({"devices", "measure", "SJ-999", "--hfe", "100"}, "device 'SJ-999' is not in the device list");
   CHECK(shelf.json({"devices", "list"})["pieces"].size() == before);
+}
+
+TEST_CASE("devices measure, devices fit and design refuse an op-amp type by name; nothing is stored") {
+  const shelfstage::test::DemoStock shelf;
+  auto refused = [&](const std::vector<std::string>& args, const std::string& error) {
+    const auto r = shelf.run(args);
+    CHECK(r.status == 1);
+    CHECK(r.out.empty());
+    CHECK(r.err == "error: " + error + "\n");
+  };
+  refused({"devices", "measure", "SA-210", "--hfe", "100"},
+          "device 'SA-210' is an op-amp; measured pieces are transistors (IDSS and VP, or hFE)");
+  refused(with({"devices", "fit", "--device", "SA-430", "--label", "U1"}, kReadings),
+          "--device 'SA-430' is an op-amp; self-bias readings fit JFETs");
+  refused({"design", "--gain", "10", "--load", "10k", "--supply", "12", "--zin", "100k", "--device", "SA-R20"},
+          "device 'SA-R20' is an op-amp; the stages designed so far take transistors");
+  CHECK(shelf.json({"devices", "list"}).at("pieces").empty());
+  // A piece of an op-amp in a pieces file is a bad row, and the file imports nothing.
+  const auto r = shelf.run({"devices", "import", "--pieces", "-"}, "label,device,hfe\nQ9,SQ-410,250\nU1,SA-210,100\n");
+  CHECK(r.status == 1);
+  CHECK(r.err.find("stdin:3: piece 'U1': device 'SA-210' is an op-amp") != std::string::npos);
+  CHECK(shelf.json({"devices", "list"}).at("pieces").empty());
 }

@@ -9,7 +9,7 @@ TEST_CASE("ledger --json: the import, then a build and its undo, by value and by
   DemoShelf shelf;
   auto j = shelf.json({"ledger"});
   CHECK(j["schema"] == 1);
-  // One import entry per stock line with pieces (data-demo/stock.csv has 150 lines).
+  // One import entry per stock line with pieces (data-demo/stock.csv has 153 lines).
   const auto imported = j["entries"].size();
   CHECK(imported >= 140);
   for (const auto& e : j["entries"])

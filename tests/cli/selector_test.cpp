@@ -60,7 +60,7 @@ TEST_CASE("KIND:VALUE[@BIN] reads the value in IEC 60062 or SI notation") {
 TEST_CASE("selectors a tired person might type are refused with a hint") {
   CHECK(message_of([] { parse_selector("4k7"); }).find("KIND:VALUE[@BIN]") != std::string::npos);
   CHECK(message_of([] { parse_selector("L:10u"); }) ==
-        "stock line 'L:10u': kind 'L' is not one of R, C, NJFET, PJFET, NPN, PNP");
+        "stock line 'L:10u': kind 'L' is not one of R, C, NJFET, PJFET, NPN, PNP, OPAMP");
   CHECK(message_of([] { parse_selector("R:"); }) == "stock line 'R:': the value after ':' is empty");
   CHECK(message_of([] { parse_selector("R:4k7@"); }) == "stock line 'R:4k7@': the bin after '@' is empty");
   CHECK(message_of([] { parse_selector(""); }).starts_with("stock line '' is empty"));

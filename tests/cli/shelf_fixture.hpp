@@ -1,10 +1,11 @@
-// Test fixture: a database holding the demo shelf (data-demo/) and one kept design made
-// from it, for the commands that act on kept designs.
+// Test fixtures: a database holding the demo shelf (data-demo/), and the same with one kept
+// design made from it, for the commands that act on kept designs.
 #pragma once
 #include <doctest/doctest.h>
 
 #include <nlohmann/json.hpp>
 
+#include <algorithm>
 #include <string>
 
 #include "cli_runner.hpp"
@@ -17,21 +18,27 @@ inline const std::vector<std::string> kDemoRequest{"design",   "--gain", "10",  
                                                    "--supply", "12",     "--zin",   "100k",    "--source-z",
                                                    "1k",       "--band", "20..20k", "--swing", "2"};
 
-struct DemoShelf {
+/// The command exited 1 with one line `error: ...` that contains `says`, and printed nothing
+/// else.
+inline void check_refused(const CliResult& r, const std::string& says) {
+  CAPTURE(r.err);
+  CHECK(r.status == 1);
+  CHECK(r.out.empty());
+  CHECK(r.err.starts_with("error: "));
+  CHECK(r.err.find(says) != std::string::npos);
+  CHECK(std::count(r.err.begin(), r.err.end(), '\n') == 1);
+}
+
+/// A database holding the demo shelf's device types and stock (no design yet).
+struct DemoStock {
   TempDir dir;
   std::string db = (dir / "stock.db").string();
-  std::string design;  ///< id of the best candidate, kept in the database
 
-  explicit DemoShelf(int copies = 1) {
+  DemoStock() {
     const std::string src = SHELFSTAGE_SOURCE_DIR;
     REQUIRE(run({"init"}).status == 0);
     REQUIRE(run({"devices", "import", src + "/data-demo/devices.csv"}).status == 0);
     REQUIRE(run({"stock", "import", src + "/data-demo/stock.csv"}).status == 0);
-    auto args = kDemoRequest;
-    args.insert(args.end(), {"--copies", std::to_string(copies), "--top", "3", "--samples", "50", "--json"});
-    const auto r = run(args);
-    REQUIRE(r.status == 0);
-    design = nlohmann::json::parse(r.out).at("candidates").at(0).at("id").get<std::string>();
   }
 
   /// `shelfstage --db DB ARGS...` in-process.
@@ -46,6 +53,19 @@ struct DemoShelf {
     INFO(r.err);
     REQUIRE(r.status == 0);
     return nlohmann::json::parse(r.out);
+  }
+};
+
+/// The demo stock and the best design for kDemoRequest, kept.
+struct DemoShelf : DemoStock {
+  std::string design;  ///< id of the best candidate, kept in the database
+
+  explicit DemoShelf(int copies = 1) {
+    auto args = kDemoRequest;
+    args.insert(args.end(), {"--copies", std::to_string(copies), "--top", "3", "--samples", "50", "--json"});
+    const auto r = run(args);
+    REQUIRE(r.status == 0);
+    design = nlohmann::json::parse(r.out).at("candidates").at(0).at("id").get<std::string>();
   }
 };
 

@@ -257,3 +257,17 @@ TEST_CASE("BJT hFE spread: corners at the datasheet ends, samples inside, measur
   bad.bjt.hfe = {0, 0, {}};
   CHECK_THROWS_AS(DeviceSpread{bad}, shelfstage::InputError);
 }
+
+TEST_CASE("An op-amp record has no transistor spread: refused by name, also with a piece") {
+  DeviceRecord r;
+  r.name = "SA-210";
+  r.kind = DeviceKind::opamp;
+  r.opamp.channels = 2;
+  CHECK_THROWS_WITH_AS(DeviceSpread{r}, "device SA-210 is an op-amp: the transistor spread model does not apply",
+                       shelfstage::InputError);
+  MeasuredPiece piece;
+  piece.label = "U1";
+  piece.device = r.name;
+  piece.hfe = 100;
+  CHECK_THROWS_AS(DeviceSpread(r, piece), shelfstage::InputError);
+}

@@ -63,6 +63,7 @@ std::string kind_words(devices::DeviceKind k) {
     case devices::DeviceKind::pjfet: return "P-channel JFET";
     case devices::DeviceKind::npn: return "NPN transistor";
     case devices::DeviceKind::pnp: return "PNP transistor";
+    case devices::DeviceKind::opamp: return "op-amp";
   }
   return "transistor";
 }

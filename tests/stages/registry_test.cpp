@@ -37,6 +37,17 @@ TEST_CASE("registry: each topology once, found by its exact name, unknown names 
   CHECK(stages::find_topology("jfet-cs-self ") == nullptr);
 }
 
+TEST_CASE("registry: no transistor topology takes an op-amp, as Q1 or as a pair's Q2") {
+  for (const stages::Topology* t : stages::registry()) {
+    INFO(t->name());
+    CHECK_FALSE(t->accepts(DeviceKind::opamp));
+    for (auto k : {DeviceKind::njfet, DeviceKind::pjfet, DeviceKind::npn, DeviceKind::pnp}) {
+      CHECK_FALSE(t->accepts_second(k, DeviceKind::opamp));
+      CHECK_FALSE(t->accepts_second(DeviceKind::opamp, k));
+    }
+  }
+}
+
 TEST_CASE("topology_names: every name in registry order, joined by the separator") {
   const auto all = stages::registry();
   const std::string comma = stages::topology_names();

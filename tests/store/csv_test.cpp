@@ -4,6 +4,7 @@
 
 #include <doctest/doctest.h>
 
+#include <cmath>
 #include <fstream>
 #include <sstream>
 
@@ -183,7 +184,7 @@ TEST_CASE("stock: every bad row is reported with its line, and nothing is return
     CHECK(e.problems() == std::vector<std::string>{
                               "stock.csv:3: qty 'ten' is not a whole number",
                               "stock.csv:4: value '4.7q': unknown multiplier 'q' at column 4",
-                              "stock.csv:5: kind 'Q' is not one of R, C, NJFET, PJFET, NPN, PNP",
+                              "stock.csv:5: kind 'Q' is not one of R, C, NJFET, PJFET, NPN, PNP, OPAMP",
                               "stock.csv:6: qty '-3' is negative",
                           });
   }
@@ -403,7 +404,7 @@ TEST_CASE("devices: bad rows are all reported") {
     l3 = l3 || s == "devices.csv:3: idss_max is missing";
     l4 = l4 || s.rfind("devices.csv:4: hfe_max 'x'", 0) == 0;
     l5 = l5 || s == "devices.csv:5: idss_min '1m' given for kind NPN (a JFET figure)";
-    l6 = l6 || s == "devices.csv:6: kind 'TRIODE' is not one of NJFET, PJFET, NPN, PNP";
+    l6 = l6 || s == "devices.csv:6: kind 'TRIODE' is not one of NJFET, PJFET, NPN, PNP, OPAMP";
     l7 = l7 || s == "devices.csv:7: name 'q1' already appears on line 4";
   }
   CHECK(l3);
@@ -411,6 +412,145 @@ TEST_CASE("devices: bad rows are all reported") {
   CHECK(l5);
   CHECK(l6);
   CHECK(l7);
+}
+
+// Invented op-amp types (figures of the usual order for such parts, not any one datasheet's):
+// every notation a datasheet uses, stated minima on one and not on the other, the optional
+// figures given and left out.
+constexpr const char* kOpampCsv =
+    "name,kind,channels,vs_min,vs_max,gbw_min,gbw,slew_min,slew,aol_min,aol,pole2,out_drop_hi,out_drop_lo,"
+    "out_drop_ohm,iout_max,cm_drop_hi,cm_drop_lo,vos,ib,ios,en,in,iq,v_max,note\n"
+    "SA-210,OPAMP,2,10,36V,700k,1.1MHz,0.3V/us,0.5 V/us,25V/mV,200V/mV,2.5M,1.5,1.5,100,25m,2,2,5mV,400n,100n,10n,"
+    "0.6p,2m,40,dual bipolar\n"
+    "SA-R20,opamp,2.0,2.7,5.5,,1M,,600k,,112dB,,0.02,20m,25R,20mA,-0.1,-100m,6m,10pA,,25nV,,100u,,\n";
+
+TEST_CASE("devices: op-amp rows in every notation; unstated figures stay unstated") {
+  const auto d = store::parse_devices_csv(kOpampCsv, "devices.csv");
+  REQUIRE(d.size() == 2);
+  const auto& a = d[0].opamp;
+  CHECK(d[0].kind == devices::DeviceKind::opamp);
+  CHECK(a.channels == 2);
+  CHECK(a.vs_min_v == 10);
+  CHECK(a.vs_max_v == 36);
+  CHECK(a.gbw_hz.typ == 1.1e6);
+  CHECK(a.gbw_hz.min == 7e5);
+  CHECK(a.slew_v_per_s.typ == 5e5);
+  CHECK(a.slew_v_per_s.min == 3e5);
+  CHECK(a.aol.typ == 2e5);
+  CHECK(a.aol.min == 25e3);
+  CHECK(a.pole2_hz == 2.5e6);
+  CHECK(a.out_drop_ohm == 100);
+  CHECK(a.iout_max_a == 25e-3);
+  CHECK(a.vos_max_v == 5e-3);
+  CHECK(a.ib_max_a == 400e-9);
+  CHECK(a.ios_max_a == 100e-9);
+  CHECK(a.en_v_rthz == 10e-9);
+  CHECK(a.in_a_rthz == 0.6e-12);
+  CHECK(a.iq_a == 2e-3);
+  CHECK(d[0].ratings.v_max_v == 40);
+  CHECK(d[0].note == "dual bipolar");
+  const auto& b = d[1].opamp;
+  CHECK(b.slew_v_per_s.typ == 6e5);  // a bare figure is V/s
+  CHECK(b.aol.typ == doctest::Approx(std::pow(10.0, 112.0 / 20.0)));
+  CHECK(b.out_drop_lo_v == 20e-3);
+  CHECK(b.cm_drop_hi_v == -0.1);
+  CHECK(b.cm_drop_lo_v == -0.1);
+  for (const auto& unstated : {b.gbw_hz.min, b.slew_v_per_s.min, b.aol.min, b.pole2_hz, b.ios_max_a, b.in_a_rthz})
+    CHECK_FALSE(unstated);
+  CHECK_FALSE(d[1].ratings.any());
+}
+
+TEST_CASE("devices: import, export, import of op-amps beside transistors gives the same file") {
+  std::string text = kOpampCsv;
+  // A transistor row in the same file (its op-amp columns empty).
+  text += "SQ-410,NPN,,,,,,,,,,,,,,,,,,,,,,,40,npn\n";
+  // The BJT columns put in front of the header and of every row.
+  std::string file;
+  std::istringstream in(text);
+  std::string line;
+  bool header = true;
+  while (std::getline(in, line)) {
+    file += (header ? "hfe_min,hfe_max," : line.starts_with("SQ-410") ? "110,450," : ",,") + line + "\n";
+    header = false;
+  }
+  const auto first = store::parse_devices_csv(file, "devices.csv");
+  REQUIRE(first.size() == 3);
+  const std::string written = store::write_devices_csv(first);
+  // The op-amp columns come after the ratings, where no earlier file had columns.
+  const auto head = written.substr(0, written.find('\n'));
+  CHECK(head.find(",note,v_max,v_rev_max,p_max,p_derate,channels,vs_min,") != std::string::npos);
+  CHECK(head.ends_with(",ios,en,in,iq"));
+  const auto second = store::parse_devices_csv(written, "again.csv");
+  CHECK(store::write_devices_csv(second) == written);
+  // Through the database as well: the table's op-amp columns keep every figure.
+  store::testing::TempDir tmp;
+  auto db = store::Database::create(tmp.file("stock.db"));
+  db.put_devices(second);
+  CHECK(store::write_devices_csv(db.device_records()) == written);
+  const auto back = db.device("sa-r20");
+  REQUIRE(back);
+  CHECK_FALSE(back->opamp.gbw_hz.min);
+  CHECK(back->opamp.channels == 2);
+  // A transistor row keeps its op-amp figures at the defaults, and the other way round.
+  CHECK(db.device("SQ-410")->opamp.gbw_hz.typ == 0);
+  CHECK(back->bjt.hfe.max == 0);
+}
+
+TEST_CASE("devices: an op-amp row with transistor figures, or the other way round, is a bad row") {
+  const auto p = problems_of([] {
+    (void)store::parse_devices_csv(
+        "name,kind,hfe_min,hfe_max,vp_min,channels,vs_min,vs_max,gbw,slew,aol,out_drop_hi,out_drop_lo,out_drop_ohm,"
+        "iout_max,cm_drop_hi,cm_drop_lo,vos,ib\n"
+        "SA-1,OPAMP,,,,2,3,32,1M,0.5V/us,100dB,1.5,0.02,150,20m,1.5,-0.3,5m,250n\n"     // 2: good
+        "SA-2,OPAMP,100,,,2,3,32,1M,0.5V/us,100dB,1.5,0.02,150,20m,1.5,-0.3,5m,250n\n"  // 3: hfe_min
+        "SA-3,OPAMP,,,-1,2,3,32,1M,0.5V/us,100dB,1.5,0.02,150,20m,1.5,-0.3,5m,250n\n"   // 4: vp_min
+        "Q1,NPN,100,400,,2,,,,,,,,,,,,,\n"                                              // 5: channels on a BJT
+        "SA-4,OPAMP,,,,two,3,32,1M,0.5V,1M,1.5,0.02,150,20m,1.5,-0.3,5m,250n\n"         // 6: channels, slew
+        "SA-5,OPAMP,,,,4,3,32,1M,0.5V/us,100dB,1.5,0.02,150,20m,1.5,-0.3,5m,\n"         // 7: ib missing
+        "SA-6,OPAMP,,,,3,3,32,1M,0.5V/us,0.5,1.5,0.02,150,20m,1.5,-0.3,5m,250n\n",      // 8: channels, aol
+        "devices.csv");
+  });
+  CHECK(p == std::vector<std::string>{
+                 "devices.csv:3: hfe_min '100' given for kind OPAMP (a BJT figure)",
+                 "devices.csv:4: vp_min '-1' given for kind OPAMP (a JFET figure)",
+                 "devices.csv:5: channels '2' given for kind NPN (an op-amp figure)",
+                 "devices.csv:6: channels 'two' is not a whole number",
+                 "devices.csv:6: slew '0.5V': a slew rate is volts per time: write 13V/us, 0.5V/us, or volts per "
+                 "second as 13M",
+                 "devices.csv:7: ib is missing",
+                 "devices.csv:8: device 'SA-6': channels 3 must be 1, 2 or 4 (amplifiers in one package)",
+                 "devices.csv:8: device 'SA-6': aol 0.5 must be above 1",
+             });
+}
+
+TEST_CASE("stock: an OPAMP row names an op-amp type; a transistor's kind with it, or it with a transistor, is bad") {
+  auto known = store::parse_devices_csv(kOpampCsv, "devices.csv");
+  devices::DeviceRecord q;
+  q.name = "SQ-410";
+  q.kind = devices::DeviceKind::npn;
+  known.push_back(q);
+  std::vector<std::size_t> at;
+  const auto ok = store::parse_stock_csv("kind,value,qty,bin,package\nOPAMP,sa-210,6,E1,DIP-8\nopamp,SA-R20,0,E3,\n",
+                                         "stock.csv", known, &at);
+  REQUIRE(ok.size() == 2);
+  CHECK(ok[0].kind == PartKind::opamp);
+  CHECK(ok[0].device == "SA-210");
+  CHECK(ok[0].qty == 6);  // packages
+  CHECK(at == std::vector<std::size_t>{2, 3});
+  const auto again = store::parse_stock_csv(store::write_stock_csv(ok), "again.csv", known);
+  CHECK(store::write_stock_csv(again) == store::write_stock_csv(ok));
+  const auto p = problems_of([&] {
+    (void)store::parse_stock_csv(
+        "kind,value,qty,tol\nOPAMP,SQ-410,2,\nNPN,SA-210,1,\nOPAMP,SA-210,1,5%\nOPAMP,SA-999,1,\nOPAMP,4k7,1,\n",
+        "stock.csv", known);
+  });
+  CHECK(p == std::vector<std::string>{
+                 "stock.csv:2: value 'SQ-410' is a device of kind NPN, not OPAMP",
+                 "stock.csv:3: value 'SA-210' is a device of kind OPAMP, not NPN",
+                 "stock.csv:4: tol 5% given for kind OPAMP",
+                 "stock.csv:5: value 'SA-999' is not a device in the device list (import it first with devices import)",
+                 "stock.csv:6: value '4k7' is not a device in the device list (import it first with devices import)",
+             });
 }
 
 TEST_CASE("pieces: percentages or fractions, checked against the device kind") {

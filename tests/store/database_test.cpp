@@ -171,6 +171,132 @@ BEGIN UPDATE parts SET qty = qty + NEW.delta WHERE id = NEW.part_id; END;
 PRAGMA user_version = 1;
 )sql";
 
+/// Versions 2 to 4 as released (the program's migrations of that time), verbatim, so that a
+/// version 4 file is made here as that program made it.
+constexpr const char* kVersions2To4Sql = R"sql(
+CREATE TABLE designs (
+  id             TEXT PRIMARY KEY,
+  created        TEXT NOT NULL,              -- ISO 8601 UTC
+  spec_json      TEXT NOT NULL,
+  candidate_json TEXT NOT NULL
+);
+
+CREATE TABLE builds (
+  id        INTEGER PRIMARY KEY,
+  design_id TEXT NOT NULL REFERENCES designs(id),
+  copies    INTEGER NOT NULL CHECK (copies > 0),
+  state     TEXT NOT NULL CHECK (state IN ('built', 'undone')),
+  created   TEXT NOT NULL,                   -- ISO 8601 UTC
+  undone    TEXT NULL,                       -- ISO 8601 UTC when undone
+  CHECK ((state = 'undone') = (undone IS NOT NULL))
+);
+CREATE INDEX builds_design ON builds(design_id);
+
+CREATE TABLE build_lines (
+  id          INTEGER PRIMARY KEY,
+  build_id    INTEGER NOT NULL REFERENCES builds(id) ON DELETE CASCADE,
+  part_id     INTEGER NOT NULL REFERENCES parts(id),
+  qty         INTEGER NOT NULL CHECK (qty > 0),  -- pieces taken for all copies
+  designators TEXT NOT NULL DEFAULT ''           -- "R1,R3"
+);
+CREATE INDEX build_lines_build ON build_lines(build_id);
+CREATE INDEX build_lines_part ON build_lines(part_id);
+
+CREATE TABLE reservations (
+  id        INTEGER PRIMARY KEY,
+  design_id TEXT REFERENCES designs(id) ON DELETE CASCADE,  -- NULL: held outside any design
+  part_id   INTEGER NOT NULL REFERENCES parts(id),
+  qty       INTEGER NOT NULL CHECK (qty > 0),
+  created   TEXT NOT NULL                    -- ISO 8601 UTC
+);
+CREATE INDEX reservations_part ON reservations(part_id);
+CREATE INDEX reservations_design ON reservations(design_id);
+
+INSERT INTO reservations (design_id, part_id, qty, created)
+  SELECT NULL, id, reserved, strftime('%Y-%m-%dT%H:%M:%SZ', 'now') FROM parts WHERE reserved > 0;
+
+CREATE TRIGGER reservations_hold AFTER INSERT ON reservations
+BEGIN UPDATE parts SET reserved = reserved + NEW.qty WHERE id = NEW.part_id; END;
+CREATE TRIGGER reservations_release AFTER DELETE ON reservations
+BEGIN UPDATE parts SET reserved = reserved - OLD.qty WHERE id = OLD.part_id; END;
+CREATE TRIGGER reservations_change AFTER UPDATE OF qty, part_id ON reservations
+BEGIN
+  UPDATE parts SET reserved = reserved - OLD.qty WHERE id = OLD.part_id;
+  UPDATE parts SET reserved = reserved + NEW.qty WHERE id = NEW.part_id;
+END;
+
+ALTER TABLE devices ADD COLUMN removed INTEGER NOT NULL DEFAULT 0 CHECK (removed IN (0, 1));
+CREATE INDEX parts_line ON parts(kind, bin COLLATE NOCASE, value);
+
+ALTER TABLE devices ADD COLUMN v_max REAL;      -- volts: VDS(max) or VCEO
+ALTER TABLE devices ADD COLUMN v_rev_max REAL;  -- volts: gate-source reverse or VEBO
+ALTER TABLE devices ADD COLUMN p_max REAL;      -- watts at 25 °C ambient
+ALTER TABLE devices ADD COLUMN p_derate REAL;   -- watts per kelvin above 25 °C
+PRAGMA user_version = 4;
+)sql";
+
+/// Every row of a table as text (each column quoted as SQL writes it), in row order; only the
+/// columns given (default: all the table has).
+std::string rows_of(RawDb& raw, const std::string& table, std::string columns = "") {
+  if (columns.empty())
+    columns = raw.text("SELECT group_concat('quote(' || name || ')', ' || '','' || ') FROM pragma_table_info('" +
+                       table + "')");
+  return raw.text("SELECT group_concat(r, '|') FROM (SELECT " + columns + " AS r FROM " + table + " ORDER BY rowid)");
+}
+
+/// A version 4 file with a row in every table: devices (one removed, ratings stated), parts
+/// (one removed), pieces, the ledger, reservations, designs, builds and their lines.
+void make_version4(const std::filesystem::path& path) {
+  RawDb raw(path);
+  REQUIRE(raw.exec("PRAGMA journal_mode = WAL") == SQLITE_OK);
+  REQUIRE(raw.exec(kVersion1Sql) == SQLITE_OK);
+  REQUIRE(raw.exec(kVersions2To4Sql) == SQLITE_OK);
+  REQUIRE(
+      raw.exec(
+          "INSERT INTO devices (name, kind, idss_min, idss_max, vp_min, vp_max, lambda, cgs, cgd, v_max) "
+          "VALUES ('SJ-101', 'NJFET', 1e-3, 5e-3, -3, -0.5, 0.005, 4.5e-12, 1.5e-12, 25);"
+          "INSERT INTO devices (name, kind, hfe_min, hfe_max, is_a, vaf, v_max, v_rev_max, p_max, p_derate) "
+          "VALUES ('SQ-410', 'NPN', 110, 450, 1.5e-14, 80, 40, 6, 0.5, 0.004);"
+          "INSERT INTO devices (name, kind, hfe_min, hfe_max, removed) VALUES ('SQ-OLD', 'PNP', 50, 100, 1);"
+          "INSERT INTO parts (id, kind, value, tol_minus, tol_plus, power_w, bin, note) "
+          "VALUES (1, 'R', 4700, 0.05, 0.05, 0.25, 'A3', 'kit');"
+          "INSERT INTO parts (id, kind, device, bin, package) VALUES (2, 'NPN', 'SQ-410', 'T1', 'TO-92');"
+          "INSERT INTO parts (id, kind, device, bin, removed) VALUES (3, 'PNP', 'SQ-OLD', 'T2', 1);"
+          "INSERT INTO parts (id, kind, value, volts, dielectric, bin) VALUES (4, 'C', 1e-7, 50, 'film', 'B1');"
+          "INSERT INTO ledger (at, part_id, part_desc, delta, reason) "
+          "VALUES ('2026-01-02T03:04:05Z', 1, 'R 4.7k 5% bin A3', 12, 'import');"
+          "INSERT INTO ledger (at, part_id, part_desc, delta, reason) "
+          "VALUES ('2026-01-02T03:04:05Z', 2, 'NPN SQ-410 bin T1', 4, 'import');"
+          "INSERT INTO ledger (at, part_id, part_desc, delta, reason) "
+          "VALUES ('2026-01-02T03:04:05Z', 3, 'PNP SQ-OLD bin T2', 2, 'import');"
+          "INSERT INTO ledger (at, part_id, part_desc, delta, reason) "
+          "VALUES ('2026-01-03T00:00:00Z', 3, 'PNP SQ-OLD bin T2', -2, 'device SQ-OLD removed');"
+          "INSERT INTO ledger (at, part_id, part_desc, delta, reason) "
+          "VALUES ('2026-01-02T03:04:05Z', 4, 'C 100n bin B1', 9, 'import');"
+          "INSERT INTO designs (id, created, spec_json, candidate_json) "
+          "VALUES ('s0123abcd', '2026-01-04T00:00:00Z', '{}', '{}');"
+          "INSERT INTO reservations (design_id, part_id, qty, created) "
+          "VALUES ('s0123abcd', 1, 2, '2026-01-04T00:00:00Z');"
+          "INSERT INTO builds (id, design_id, copies, state, created) "
+          "VALUES (1, 's0123abcd', 1, 'built', '2026-01-05T00:00:00Z');"
+          "INSERT INTO ledger (at, part_id, part_desc, delta, reason, build_id) "
+          "VALUES ('2026-01-05T00:00:00Z', 2, 'NPN SQ-410 bin T1', -1, 'build 1', 1);"
+          "INSERT INTO build_lines (build_id, part_id, qty, designators) VALUES (1, 2, 1, 'Q1');"
+          "INSERT INTO pieces (label, device, hfe, uncertainty, note) VALUES ('Q3', 'SQ-410', 287, 0.05, 'bench');") ==
+      SQLITE_OK);
+  REQUIRE(raw.integer("PRAGMA user_version") == 4);
+}
+
+/// The columns of version 4's devices table, in its order.
+constexpr const char* kVersion4DeviceColumns =
+    "quote(name) || ',' || quote(kind) || ',' || quote(idss_min) || ',' || quote(idss_max) || ',' || "
+    "quote(idss_typ) || ',' || quote(vp_min) || ',' || quote(vp_max) || ',' || quote(vp_typ) || ',' || "
+    "quote(lambda) || ',' || quote(cgs) || ',' || quote(cgd) || ',' || quote(tc_idss) || ',' || quote(tc_vp) || "
+    "',' || quote(hfe_min) || ',' || quote(hfe_max) || ',' || quote(hfe_typ) || ',' || quote(is_a) || ',' || "
+    "quote(vaf) || ',' || quote(cje) || ',' || quote(cjc) || ',' || quote(vce_sat) || ',' || quote(note) || ',' || "
+    "quote(removed) || ',' || quote(v_max) || ',' || quote(v_rev_max) || ',' || quote(p_max) || ',' || "
+    "quote(p_derate)";
+
 }  // namespace
 
 TEST_CASE("create, then open: an empty stock at the current schema version") {
@@ -622,6 +748,109 @@ TEST_CASE("migration: a version 1 file opens at the current version with its dat
   db.adjust(parts[0].id, -9, "use the free ones");
   CHECK_THROWS_AS(db.adjust(parts[0].id, -1, "into the reserve"), InputError);
   check_invariant(db);
+}
+
+TEST_CASE("migration: a version 4 file takes op-amps, with every row, the ledger and the keys kept") {
+  TempDir tmp;
+  const auto path = tmp.file("v4.db");
+  make_version4(path);
+  const std::vector<std::string> tables = {"parts",   "pieces", "ledger",     "reservations",
+                                           "designs", "builds", "build_lines"};
+  std::map<std::string, std::string> before;
+  std::string devices_before;
+  {
+    RawDb raw(path);
+    for (const auto& t : tables) before[t] = rows_of(raw, t);
+    devices_before = rows_of(raw, "devices", kVersion4DeviceColumns);
+    REQUIRE_FALSE(before["ledger"].empty());
+  }
+  {
+    Database db = Database::open(path);
+    CHECK(db.schema_version() == store::kSchemaVersion);
+    CHECK(store::kSchemaVersion == 5);
+    CHECK_FALSE(db.read_only_reason());  // the rebuilt tables are what a new file has
+    CHECK(db.check().ok());
+    CHECK(db.ledger().size() == 6);
+    CHECK(db.device_records().size() == 2);  // SQ-OLD stays removed
+  }
+  RawDb raw(path);
+  CHECK(raw.integer("PRAGMA user_version") == 5);
+  // Every row of every table, as it was (the devices' columns of version 4; the op-amp
+  // columns are NULL).
+  for (const auto& t : tables) {
+    CAPTURE(t);
+    CHECK(rows_of(raw, t) == before[t]);
+  }
+  CHECK(rows_of(raw, "devices", kVersion4DeviceColumns) == devices_before);
+  CHECK(raw.integer("SELECT count(*) FROM devices WHERE channels IS NOT NULL OR gbw IS NOT NULL OR in_a IS NOT "
+                    "NULL") == 0);
+  CHECK(raw.text("SELECT removed FROM devices WHERE name = 'SQ-OLD'") == "1");
+  CHECK(raw.integer("SELECT count(*) FROM pragma_foreign_key_check") == 0);
+  for (const char* index : {"parts_value", "parts_device", "parts_line", "pieces_device", "ledger_part"})
+    CHECK(raw.integer(std::string("SELECT count(*) FROM sqlite_schema WHERE type = 'index' AND name = '") + index +
+                      "'") == 1);
+  // The keys still hold: parts and pieces refer to devices, the ledger and builds to parts.
+  REQUIRE(raw.exec("PRAGMA foreign_keys = ON") == SQLITE_OK);
+  CHECK(raw.exec("INSERT INTO parts (kind, device) VALUES ('NPN', 'NO-SUCH')") != SQLITE_OK);
+  CHECK(raw.exec("INSERT INTO pieces (label, device, uncertainty) VALUES ('X', 'NO-SUCH', 0.03)") != SQLITE_OK);
+  CHECK(raw.exec("DELETE FROM devices WHERE name = 'SQ-410'") != SQLITE_OK);
+  CHECK(raw.exec("INSERT INTO build_lines (build_id, part_id, qty) VALUES (1, 99, 1)") != SQLITE_OK);
+  CHECK(raw.exec("DELETE FROM parts WHERE id = 2") != SQLITE_OK);
+  // The kind CHECKs take OPAMP now (and nothing else new).
+  CHECK(raw.exec("INSERT INTO devices (name, kind) VALUES ('SA-X', 'TRIODE')") != SQLITE_OK);
+  CHECK(raw.exec("INSERT INTO parts (kind, device) VALUES ('TRIODE', 'SQ-410')") != SQLITE_OK);
+
+  // Op-amps go in through the library, and the triggers of the ledger and reservations still
+  // act on the rebuilt parts table.
+  Database db = Database::open(path);
+  devices::DeviceRecord a;
+  a.name = "SA-210";
+  a.kind = devices::DeviceKind::opamp;
+  a.opamp.channels = 2;
+  a.opamp.vs_min_v = 10;
+  a.opamp.vs_max_v = 36;
+  a.opamp.gbw_hz.typ = 1.1e6;
+  a.opamp.slew_v_per_s.typ = 5e5;
+  a.opamp.aol.typ = 2e5;
+  a.opamp.out_drop_hi_v = a.opamp.out_drop_lo_v = 1.5;
+  a.opamp.out_drop_ohm = 100;
+  a.opamp.iout_max_a = 25e-3;
+  a.opamp.cm_drop_hi_v = a.opamp.cm_drop_lo_v = 2;
+  a.opamp.vos_max_v = 5e-3;
+  a.opamp.ib_max_a = 400e-9;
+  db.put_devices({a});
+  Part line;
+  line.kind = PartKind::opamp;
+  line.device = "sa-210";
+  line.qty = 6;
+  line.bin = "E1";
+  const auto id = db.add_part(line, "packages");
+  CHECK(db.part(id)->device == "SA-210");
+  CHECK(db.part(id)->qty == 6);
+  db.adjust(1, -1, "used one");
+  CHECK(db.part(1)->qty == 11);
+  CHECK(db.ledger().size() == 8);
+  check_invariant(db);
+  CHECK(db.check().ok());
+}
+
+TEST_CASE("migration to version 5 is all or nothing: a broken key in a version 4 file leaves it as it was") {
+  TempDir tmp;
+  const auto path = tmp.file("v4.db");
+  make_version4(path);
+  std::string schema_before;
+  {
+    RawDb raw(path);
+    // A stock line naming a device that is not there (foreign keys are off on this connection).
+    REQUIRE(raw.exec("INSERT INTO parts (id, kind, device) VALUES (9, 'NPN', 'GONE')") == SQLITE_OK);
+    schema_before = raw.text("SELECT group_concat(sql, ';') FROM (SELECT sql FROM sqlite_schema ORDER BY name)");
+  }
+  CHECK_THROWS_WITH_AS(Database::open(path), doctest::Contains("broke a foreign key in table parts; nothing changed"),
+                       DatabaseError);
+  RawDb raw(path);
+  CHECK(raw.integer("PRAGMA user_version") == 4);
+  CHECK(raw.text("SELECT group_concat(sql, ';') FROM (SELECT sql FROM sqlite_schema ORDER BY name)") == schema_before);
+  CHECK(raw.integer("SELECT count(*) FROM parts") == 5);
 }
 
 TEST_CASE("a file of a newer schema is refused with DatabaseError, untouched") {

@@ -454,6 +454,23 @@ TEST_CASE("nonsense requests are refused with a clear error naming the field") {
   refused(s, "supply");
 }
 
+TEST_CASE("op-amp types on the shelf are left out of the search; naming one is refused") {
+  // The demo shelf holds three op-amp types, stocked (data-demo/): no job is made for them.
+  const synth::Inventory inv = test::demo_shelf();
+  REQUIRE(std::count_if(inv.devices.begin(), inv.devices.end(),
+                        [](const auto& d) { return devices::is_opamp(d.kind); }) == 3);
+  auto spec = test::basic_spec(10);
+  const auto jobs = synth::detail::make_jobs(spec, inv);
+  REQUIRE_FALSE(jobs.empty());
+  for (const auto& j : jobs) {
+    CHECK(devices::is_transistor(j.device->kind));
+    if (j.device2) CHECK(devices::is_bjt(j.device2->kind));
+  }
+  spec.devices = {"SA-210"};
+  CHECK_THROWS_WITH_AS(synth::detail::make_jobs(spec, inv),
+                       "device 'SA-210' is an op-amp; the stages designed so far take transistors", InputError);
+}
+
 TEST_CASE("a sound but impossible request gives no candidate, the binding constraint and how close it came") {
   synth::Inventory inv = test::small_shelf(10, {test::njfet()});
   auto s = test::basic_spec(400);  // far beyond one JFET stage into 10k

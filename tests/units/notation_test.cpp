@@ -387,3 +387,43 @@ TEST_CASE("a capacitance states its scale: a multiplier, an exponent or the unit
   // Whatever parse_value refuses stays refused, with its own message.
   CHECK_THROWS_WITH_AS(parse_capacitance("4R7"), doctest::Contains("value '4R7'"), ParseError);
 }
+
+TEST_CASE("slew rates as datasheets write them: V/us, V/ms, V/s, or a bare figure in V/s") {
+  using shelfstage::units::parse_slew_rate;
+  // The same decimal conversion as parse_value (NOTES 1): 0.6 V/us is the double 6e5 exactly.
+  CHECK(parse_slew_rate("0.5V/us") == 5e5);
+  CHECK(parse_slew_rate("0.6V/us") == 6e5);
+  CHECK(parse_slew_rate("13V/us") == 13e6);
+  CHECK(parse_slew_rate(" 13 V/us ") == 13e6);
+  CHECK(parse_slew_rate("13V/\xC2\xB5s") == 13e6);  // U+00B5 MICRO SIGN
+  CHECK(parse_slew_rate("13/us") == 13e6);
+  CHECK(parse_slew_rate("500V/ms") == 5e5);
+  CHECK(parse_slew_rate("2.5V/s") == 2.5);
+  CHECK(parse_slew_rate("500k") == 5e5);  // volts per second
+  CHECK(parse_slew_rate("13M") == 13e6);
+  // A volt without its time could be per microsecond or per second: refused, as is any
+  // other time, and a bad number names the whole text.
+  CHECK_THROWS_WITH_AS(parse_slew_rate("13V"), doctest::Contains("slew '13V': a slew rate is volts per time"),
+                       ParseError);
+  CHECK_THROWS_WITH_AS(parse_slew_rate("13V/ks"), doctest::Contains("'/ks' is not a unit here"), ParseError);
+  CHECK_THROWS_WITH_AS(parse_slew_rate("1q3V/us"), doctest::Contains("slew '1q3V/us'"), ParseError);
+  CHECK_THROWS_AS(parse_slew_rate("13A/us"), ParseError);
+  CHECK_THROWS_AS(parse_slew_rate(""), ParseError);
+}
+
+TEST_CASE("open-loop gains: V/V with prefixes, V/mV, V/uV and dB") {
+  using shelfstage::units::parse_open_loop_gain;
+  CHECK(parse_open_loop_gain("200k") == 2e5);
+  CHECK(parse_open_loop_gain("2e5") == 2e5);
+  CHECK(parse_open_loop_gain("200V/mV") == 2e5);
+  CHECK(parse_open_loop_gain("25 V/mV") == 25e3);
+  CHECK(parse_open_loop_gain("1V/uV") == 1e6);
+  CHECK(parse_open_loop_gain("200000V/V") == 2e5);
+  // 20 log10: 100 dB is 1e5 V/V (IEC 60027-3), to the last bits of pow().
+  CHECK(parse_open_loop_gain("100dB") == doctest::Approx(1e5).epsilon(1e-12));
+  CHECK(parse_open_loop_gain("106 dB") == doctest::Approx(std::pow(10.0, 106.0 / 20.0)).epsilon(1e-12));
+  CHECK_THROWS_WITH_AS(parse_open_loop_gain("200V"), doctest::Contains("gain '200V': an open-loop gain is V/V"),
+                       ParseError);
+  CHECK_THROWS_WITH_AS(parse_open_loop_gain("200V/nV"), doctest::Contains("'/nV' is not a unit here"), ParseError);
+  CHECK_THROWS_WITH_AS(parse_open_loop_gain("100q"), doctest::Contains("gain '100q'"), ParseError);
+}

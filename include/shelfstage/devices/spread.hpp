@@ -68,7 +68,7 @@ struct SpreadOptions {
 
 class DeviceSpread {
  public:
-  /// The spread of a stocked type.
+  /// The spread of a stocked transistor type (an op-amp is refused: InputError naming it).
   explicit DeviceSpread(const DeviceRecord& record, SpreadOptions options = {});
   /// The spread of one measured piece of that type.
   DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piece);

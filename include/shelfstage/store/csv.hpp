@@ -63,15 +63,16 @@ class CsvError : public InputError {
 /// `source` names the file in messages. Values: SI or IEC 60062 notation with an optional
 /// unit (4.7k, 4k7, 4.7kohm, 100n, 100nF); power in watts, also as a fraction (0.25, 1/4,
 /// 1/4W, 250mW); volts with an optional V. Rows of empty fields are skipped; a row shorter
-/// than the header leaves the missing fields empty. Transistor rows name a device in
-/// `value`; a name not in known_devices (compared case-insensitively) is a bad row, and the
-/// part takes the spelling of the list.
+/// than the header leaves the missing fields empty. Transistor and op-amp rows name a device
+/// in `value` (an op-amp row's qty counts packages); a name not in known_devices (compared
+/// case-insensitively) is a bad row, and the part takes the spelling of the list.
 /// When `lines` is given it receives the line each returned part was read from.
 std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
                                   const std::vector<std::string>& known_devices,
                                   std::vector<std::size_t>* lines = nullptr);
-/// As above, and a transistor row whose kind differs from its device's kind is a bad row
-/// ("value 'SJ-101' is a device of kind NJFET, not NPN").
+/// As above, and a row whose kind differs from its device's kind is a bad row ("value
+/// 'SJ-101' is a device of kind NJFET, not NPN", "value 'SA-210' is a device of kind OPAMP,
+/// not NPN").
 std::vector<Part> parse_stock_csv(std::string_view text, std::string_view source,
                                   const std::vector<devices::DeviceRecord>& known_devices,
                                   std::vector<std::size_t>* lines = nullptr);
@@ -86,9 +87,13 @@ std::string write_stock_csv(const std::vector<Part>& parts);
 /// name, kind, idss_min, idss_max, vp_min, vp_max (either order; stored with
 /// Range::min <= Range::max numerically), lambda, cgs, cgd (JFET); hfe_min, hfe_max, is,
 /// vaf, cje, cjc (BJT); optional idss_typ, vp_typ, hfe_typ, note; also tc_idss
-/// (fraction per K), tc_vp (V per K), vce_sat (V). Required per row: name, kind, and the
-/// idss and vp ranges (JFET) or the hfe range (BJT); the other figures default to the
-/// DeviceRecord defaults. A figure of the other family on a row is an error.
+/// (fraction per K), tc_vp (V per K), vce_sat (V); the maximum ratings; for op-amps (kind
+/// OPAMP) channels, vs_min, vs_max, gbw, slew, aol, out_drop_hi, out_drop_lo, out_drop_ohm,
+/// iout_max, cm_drop_hi, cm_drop_lo, vos, ib (required) and gbw_min, slew_min, aol_min, pole2,
+/// ios, en, in, iq (empty: not stated), in the notations of DeviceColumn::Notation. Required
+/// per row: name, kind, and the idss and vp ranges (JFET), the hfe range (BJT) or the required
+/// op-amp figures; the other figures default to the DeviceRecord defaults. A figure of
+/// another family on a row is an error. The writer puts the op-amp columns after the ratings.
 std::vector<devices::DeviceRecord> parse_devices_csv(std::string_view text, std::string_view source);
 std::string write_devices_csv(const std::vector<devices::DeviceRecord>& records);
 

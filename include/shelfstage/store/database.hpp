@@ -16,7 +16,7 @@ namespace shelfstage::store {
 
 /// The schema version this build writes. Older files are migrated forward on open; newer
 /// files are refused with a DatabaseError.
-inline constexpr int kSchemaVersion = 4;
+inline constexpr int kSchemaVersion = 5;
 
 /// What `check` found. ok() when every list is empty.
 struct CheckReport {

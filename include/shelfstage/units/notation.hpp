@@ -42,6 +42,15 @@ double parse_value(std::string_view text, Unit expect = Unit::none);
 /// more often microfarads with the unit left out than farads. Throws ParseError.
 double parse_capacitance(std::string_view text);
 
+/// A slew rate in volts per second: `13V/us`, `0.5 V/µs`, `500V/ms`, `13M` (a bare figure
+/// is V/s; a volt without its time is refused). Throws ParseError ("slew '13V': ...").
+double parse_slew_rate(std::string_view text);
+
+/// An open-loop gain in V/V, as datasheets write it: `200k`, `2e5` (V/V), `200V/mV`,
+/// `1V/uV`, `106dB` (units::parse_gain). A unit without the ratio is refused. Throws
+/// ParseError ("gain '200q': ..."). The sign is the caller's to check.
+double parse_open_loop_gain(std::string_view text);
+
 /// As parse_value, but returns false instead of throwing.
 bool try_parse_value(std::string_view text, double& out, Unit expect = Unit::none) noexcept;
 
