@@ -19,7 +19,7 @@ void run_init(const InitOptions& /*options*/, Context& ctx) {
     return;
   }
   ctx.out << fmt::format("Created an empty stock database: {}\n", path.string());
-  ctx.out << "Next: add transistor types (`shelfstage devices import FILE.csv`) and parts\n"
+  ctx.out << "Next: add device types, transistors and op-amps (`shelfstage devices import FILE.csv`), and parts\n"
              "(`shelfstage stock import FILE.csv` or `shelfstage stock add`).\n";
 }
 
