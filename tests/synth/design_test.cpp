@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <cmath>
 #include <map>
+#include <span>
 
 #include "../src/synth/detail.hpp"
 #include "demo_shelf.hpp"
@@ -135,6 +136,26 @@ TEST_CASE("on a small shelf the top 10 equal those of a brute-force enumeration 
 
 namespace {
 
+// Calls visit() with v holding every combination of the values rs in the roles `slots` (an
+// optional role also absent, 0), the other roles as v has them.
+template <class Visit>
+void for_every_combination(std::span<const stages::Role> roles, const std::vector<std::size_t>& slots,
+                           const std::vector<double>& rs, stages::Values& v, const Visit& visit, std::size_t k = 0) {
+  if (k == slots.size()) {
+    visit();
+    return;
+  }
+  const std::size_t r = slots[k];
+  for (double x : rs) {
+    v[r] = x;
+    for_every_combination(roles, slots, rs, v, visit, k + 1);
+  }
+  if (roles[r].optional) {
+    v[r] = 0;
+    for_every_combination(roles, slots, rs, v, visit, k + 1);
+  }
+}
+
 // Every combination of the shelf's single resistors in every resistor role of the request's
 // one topology (optional roles also absent), each drafted and assessed as the search does,
 // listed by the search's rule (score, then pieces; one-resistor variants of a better design
@@ -155,23 +176,10 @@ std::vector<synth::Candidate> enumerate_every(const synth::Spec& spec, const syn
   synth::SearchStats stats;
   std::vector<synth::Candidate> all;
   stages::Values v;
-  auto walk = [&](auto&& self, std::size_t k) -> void {
-    if (k == slots.size()) {
-      synth::Candidate c;
-      if (builder.complete(v, c, stats) && builder.assess(c, stats)) all.push_back(std::move(c));
-      return;
-    }
-    const std::size_t r = slots[k];
-    for (double x : rs) {
-      v[r] = x;
-      self(self, k + 1);
-    }
-    if (roles[r].optional) {
-      v[r] = 0;
-      self(self, k + 1);
-    }
-  };
-  walk(walk, 0);
+  for_every_combination(roles, slots, rs, v, [&] {
+    synth::Candidate c;
+    if (builder.complete(v, c, stats) && builder.assess(c, stats)) all.push_back(std::move(c));
+  });
   std::stable_sort(all.begin(), all.end(), [](const auto& a, const auto& b) {
     return a.score != b.score ? a.score < b.score : a.pieces < b.pieces;
   });
@@ -309,24 +317,12 @@ std::pair<double, int> best_with_roles_free(const synth::Spec& spec, const synth
     if (roles[r].kind == 'R') v[r] = best.values[r];
   std::vector<std::size_t> slots;
   for (const auto& name : free) slots.push_back(topo->role_index(name));
-  auto walk = [&](auto&& self, std::size_t k) -> void {
-    if (k == slots.size()) {
-      synth::Candidate cand;
-      if (!builder.complete(v, cand, stats) || !builder.assess(cand, stats)) return;
-      ++assessed;
-      every_best = std::min(every_best, cand.score);
-      return;
-    }
-    for (double x : rs) {
-      v[slots[k]] = x;
-      self(self, k + 1);
-    }
-    if (roles[slots[k]].optional) {
-      v[slots[k]] = 0;
-      self(self, k + 1);
-    }
-  };
-  walk(walk, 0);
+  for_every_combination(roles, slots, rs, v, [&] {
+    synth::Candidate cand;
+    if (!builder.complete(v, cand, stats) || !builder.assess(cand, stats)) return;
+    ++assessed;
+    every_best = std::min(every_best, cand.score);
+  });
   return {every_best, assessed};
 }
 
