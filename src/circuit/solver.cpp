@@ -21,17 +21,19 @@ constexpr double kGminJunction = 1e-12;  // SPICE's GMIN across every junction
 
 struct Layout {
   std::size_t nodes = 0;                // non-ground nets
-  std::size_t sources = 0;              // voltage sources
-  std::vector<std::size_t> source_row;  // per element index, for vsources
+  std::size_t sources = 0;              // voltage sources and VCVS: one branch current each
+  std::vector<std::size_t> source_row;  // per element index, for vsources and VCVS
   std::size_t size() const { return nodes + sources; }
 };
+
+bool has_branch(ElementKind k) { return k == ElementKind::vsource || k == ElementKind::vcvs; }
 
 Layout layout(const Circuit& c) {
   Layout l;
   l.nodes = c.net_count() - 1;
   l.source_row.assign(c.elements().size(), 0);
   for (std::size_t i = 0; i < c.elements().size(); ++i) {
-    if (c.elements()[i].c.kind == ElementKind::vsource) l.source_row[i] = l.nodes + l.sources++;
+    if (has_branch(c.elements()[i].c.kind)) l.source_row[i] = l.nodes + l.sources++;
   }
   return l;
 }
@@ -99,6 +101,14 @@ struct JunctionState {
 
 struct DcState {
   std::vector<JunctionState> bjt;
+  std::vector<double> diode_v;  // each diode's last limited voltage
+  double vt = 0;                // thermal voltage of the diodes
+  DcState(const Circuit& c, double celsius)
+      : bjt(c.bjts().size()), diode_v(c.diodes().size(), 0.0), vt(devices::thermal_voltage(celsius)) {}
+  void reset() {
+    std::fill(bjt.begin(), bjt.end(), JunctionState{});
+    std::fill(diode_v.begin(), diode_v.end(), 0.0);
+  }
 };
 
 // A voltage source's branch row k: the current variable into its pins, and its value (scaled
@@ -106,6 +116,59 @@ struct DcState {
 void stamp_vsource_dc(const Component& e, long k, double scale, Eigen::MatrixXd& A, Eigen::VectorXd& b) {
   stamp_branch(A, e, k);
   b(k) = scale * e.value;
+}
+
+// A current source's share of the right-hand side: `amps` from pins[0] through it to pins[1].
+template <class V, class T>
+void stamp_isource(V& b, const Component& e, T amps) {
+  stamp_i(b, e.pins[0], amps);
+  stamp_i(b, e.pins[1], -amps);
+}
+
+// A VCCS: gm (v(ctrl+) - v(ctrl-)) from out+ through it to out-.
+template <class M, class T>
+void stamp_vccs_element(M& A, const Component& e, T gm) {
+  stamp_vccs(A, e.pins[0], e.pins[2], e.pins[3], gm);
+  stamp_vccs(A, e.pins[1], e.pins[2], e.pins[3], -gm);
+}
+
+// A VCVS on branch row k: v(out+) - v(out-) - gain (v(ctrl+) - v(ctrl-)) = 0, its branch
+// current into out+ as a voltage source's.
+template <class M>
+void stamp_vcvs(M& A, const Component& e, long k) {
+  stamp_branch(A, e, k);
+  if (row(e.pins[2]) >= 0) A(k, row(e.pins[2])) -= e.value;
+  if (row(e.pins[3]) >= 0) A(k, row(e.pins[3])) += e.value;
+}
+
+// The diode's exponential at v: current and conductance (gmin not included).
+struct DiodeEval {
+  double i = 0, g = 0;
+};
+DiodeEval diode_eval(const DiodeModel& d, double vt, double v) {
+  const double nvt = d.n * vt;
+  const double ex = std::exp(v / nvt);
+  return {d.is_a * (ex - 1.0), d.is_a * ex / nvt};
+}
+
+// A diode linearised at x, its voltage limited against the last one (if `limit`) as a BJT
+// junction's, with gmin across it.
+void stamp_diode_dc(const Circuit& c, const Component& e, const Eigen::VectorXd& x, DcState& st, bool limit,
+                    Eigen::MatrixXd& A, Eigen::VectorXd& b) {
+  const DiodeModel& d = c.diodes()[e.device];
+  const std::size_t an = e.pins[0], ca = e.pins[1];
+  double v = node_v(x, an) - node_v(x, ca);
+  double& last = st.diode_v[e.device];
+  if (limit) {
+    const double nvt = d.n * st.vt;
+    v = pnjlim(v, last, nvt, nvt * std::log(nvt / (std::numbers::sqrt2 * d.is_a)));
+  }
+  last = v;
+  const auto ev = diode_eval(d, st.vt, v);
+  stamp_g(A, an, ca, ev.g + kGminJunction);
+  const double ieq = ev.i - ev.g * v;
+  stamp_i(b, an, ieq);
+  stamp_i(b, ca, -ieq);
 }
 
 // A JFET linearised at x.
@@ -181,6 +244,10 @@ void assemble_dc(const Circuit& c, const Layout& l, const Eigen::VectorXd& x, do
       case ElementKind::vsource: stamp_vsource_dc(e, static_cast<long>(l.source_row[i]), scale, A, b); break;
       case ElementKind::jfet: stamp_jfet_dc(c, e, x, A, b); break;
       case ElementKind::bjt: stamp_bjt_dc(c, e, x, st, limit, A, b); break;
+      case ElementKind::isource: stamp_isource(b, e, scale * e.value); break;
+      case ElementKind::vccs: stamp_vccs_element(A, e, e.value); break;
+      case ElementKind::vcvs: stamp_vcvs(A, e, static_cast<long>(l.source_row[i])); break;
+      case ElementKind::diode: stamp_diode_dc(c, e, x, st, limit, A, b); break;
     }
   }
 }
@@ -266,8 +333,7 @@ double OperatingPoint::v(const Circuit& c, const std::string& net) const {
 OperatingPoint solve_dc(const Circuit& c, const SolverOptions& o) {
   c.validate();
   const Layout l = layout(c);
-  DcState st;
-  st.bjt.resize(c.bjts().size());
+  DcState st(c, o.celsius);
   Eigen::VectorXd x = Eigen::VectorXd::Zero(static_cast<long>(l.size()));
   int iterations = 0;
   std::string method = "newton";
@@ -276,7 +342,7 @@ OperatingPoint solve_dc(const Circuit& c, const SolverOptions& o) {
     // gmin stepping: a shunt from every node to ground, relaxed decade by decade.
     method = "gmin stepping";
     x.setZero();
-    st.bjt.assign(c.bjts().size(), {});
+    st.reset();
     ok = true;
     for (double g = 1e-2; g >= 1e-13 && ok; g /= 10) ok = newton(c, l, x, g, 1.0, st, o, iterations);
     ok = ok && newton(c, l, x, 0.0, 1.0, st, o, iterations);
@@ -285,7 +351,7 @@ OperatingPoint solve_dc(const Circuit& c, const SolverOptions& o) {
     // Source stepping: ramp every source from zero, halving the step on failure.
     method = "source stepping";
     x.setZero();
-    st.bjt.assign(c.bjts().size(), {});
+    st.reset();
     double scale = 0, step = 0.1;
     ok = true;
     while (scale < 1.0 && step > 1e-4) {
@@ -314,6 +380,11 @@ OperatingPoint solve_dc(const Circuit& c, const SolverOptions& o) {
     const Component& e = c.elements()[i].c;
     if (e.kind == ElementKind::vsource) op.source_i.push_back(x(static_cast<long>(l.source_row[i])));
     if (e.kind == ElementKind::jfet || e.kind == ElementKind::bjt) op.devices.push_back(device_op(c, e, x));
+    if (e.kind == ElementKind::diode) {
+      const double v = node_v(x, e.pins[0]) - node_v(x, e.pins[1]);
+      const auto ev = diode_eval(c.diodes()[e.device], st.vt, v);
+      op.diodes.push_back({e.designator, v, ev.i, ev.g});
+    }
   }
   return op;
 }
@@ -328,7 +399,7 @@ Eigen::MatrixXcd ac_matrix(const Circuit& c, const Layout& l, const OperatingPoi
   const cd jw(0, w);
   Eigen::MatrixXcd A = Eigen::MatrixXcd::Zero(static_cast<long>(l.size()), static_cast<long>(l.size()));
   if (rhs) *rhs = Eigen::VectorXcd::Zero(static_cast<long>(l.size()));
-  std::size_t dev = 0;
+  std::size_t dev = 0, diode = 0;
   Eigen::VectorXd x(static_cast<long>(l.size()));
   x.setZero();
   for (std::size_t v = 1; v < c.net_count(); ++v) x(row(v)) = op.node_v[v];
@@ -374,6 +445,12 @@ Eigen::MatrixXcd ac_matrix(const Circuit& c, const Layout& l, const OperatingPoi
         stamp_g(A, bn, cn, jw * d.c_fb_f + kGminJunction);
         break;
       }
+      case ElementKind::isource:
+        if (rhs) stamp_isource(*rhs, e, cd(e.ac_volts));
+        break;
+      case ElementKind::vccs: stamp_vccs_element(A, e, cd(e.value)); break;
+      case ElementKind::vcvs: stamp_vcvs(A, e, static_cast<long>(l.source_row[i])); break;
+      case ElementKind::diode: stamp_g(A, e.pins[0], e.pins[1], cd(op.diodes[diode++].g_s + kGminJunction)); break;
     }
   }
   return A;
@@ -444,16 +521,14 @@ Circuit with_capacitors_held(const Circuit& c, const OperatingPoint& op,
   for (const auto& el : c.elements()) {
     const auto& e = el.c;
     if (e.kind == ElementKind::capacitor && open && open(e)) continue;
-    const std::string a = c.net_name(e.pins[0]), b = c.net_name(e.pins[1]);
-    switch (e.kind) {
-      case ElementKind::resistor: h.resistor(e.designator, e.role, a, b, e.value); break;
-      case ElementKind::capacitor:
-        h.vsource(e.designator, e.role, a, b, op.node_v[e.pins[0]] - op.node_v[e.pins[1]]);
-        break;
-      case ElementKind::vsource: h.vsource(e.designator, e.role, a, b, e.value, e.ac_volts); break;
-      case ElementKind::jfet: h.jfet(e.designator, a, b, c.net_name(e.pins[2]), c.jfets()[e.device]); break;
-      case ElementKind::bjt: h.bjt(e.designator, a, b, c.net_name(e.pins[2]), c.bjts()[e.device]); break;
+    if (e.kind == ElementKind::capacitor) {
+      h.vsource(e.designator, e.role, c.net_name(e.pins[0]), c.net_name(e.pins[1]),
+                op.node_v[e.pins[0]] - op.node_v[e.pins[1]]);
+      continue;
     }
+    std::array<std::string, 4> pins;
+    for (std::size_t i = 0; i < el.pin_count(); ++i) pins[i] = c.net_name(e.pins[i]);
+    h.copy_element(c, e, e.designator, pins);
   }
   return h;
 }

@@ -23,6 +23,10 @@ std::string spice_name(const Component& c) {
     case ElementKind::vsource: prefix = 'V'; break;
     case ElementKind::jfet: prefix = 'J'; break;
     case ElementKind::bjt: prefix = 'Q'; break;
+    case ElementKind::isource: prefix = 'I'; break;
+    case ElementKind::vccs: prefix = 'G'; break;
+    case ElementKind::vcvs: prefix = 'E'; break;
+    case ElementKind::diode: prefix = 'D'; break;
   }
   std::string name = c.designator;
   for (char& ch : name)
@@ -68,6 +72,24 @@ std::string to_spice(const Circuit& c, const SpiceOptions& o) {
         models += fmt::format(".model {} {}(IS={:.10g} BF={:.10g} BR={:.10g}{} CJE={:.10g} CJC={:.10g})\n", model,
                               q.kind == devices::DeviceKind::pnp ? "PNP" : "NPN", q.is_a, q.bf, q.br,
                               early ? fmt::format(" VAF={:.10g}", q.vaf_v) : std::string(), q.cje_f, q.cjc_f);
+        break;
+      }
+      case ElementKind::isource:
+        if (e.ac_volts != 0)
+          out += fmt::format("{} {} {} DC {:.10g} AC {:.10g}\n", name, a, b, e.value, e.ac_volts);
+        else
+          out += fmt::format("{} {} {} DC {:.10g}\n", name, a, b, e.value);
+        break;
+      case ElementKind::vccs:
+      case ElementKind::vcvs:
+        out += fmt::format("{} {} {} {} {} {:.10g}\n", name, a, b, spice_net(c, e.pins[2]), spice_net(c, e.pins[3]),
+                           e.value);
+        break;
+      case ElementKind::diode: {
+        const DiodeModel& d = c.diodes()[e.device];
+        const std::string model = "M" + name;
+        out += fmt::format("{} {} {} {}\n", name, a, b, model);
+        models += fmt::format(".model {} D(IS={:.10g} N={:.10g})\n", model, d.is_a, d.n);
         break;
       }
     }

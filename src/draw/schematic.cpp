@@ -242,6 +242,10 @@ SymbolKind symbol_kind(const circuit::Circuit& c, const circuit::Component& e, c
       return c.jfets()[e.device].kind == devices::DeviceKind::pjfet ? SymbolKind::pjfet : SymbolKind::njfet;
     case ElementKind::bjt:
       return c.bjts()[e.device].kind == devices::DeviceKind::pnp ? SymbolKind::pnp : SymbolKind::npn;
+    case ElementKind::isource:
+    case ElementKind::vccs:
+    case ElementKind::vcvs:
+    case ElementKind::diode: break;  // macro-model elements: no topology draws them yet
   }
   return SymbolKind::resistor;
 }

@@ -5,7 +5,10 @@
 
 #include <doctest/doctest.h>
 
+#include <cmath>
+#include <limits>
 #include <string>
+#include <utility>
 
 #include "shelfstage/error.hpp"
 
@@ -32,6 +35,13 @@ std::string validation_message(const Circuit& c) {
 }
 
 bool has(const std::string& text, const std::string& part) { return text.find(part) != std::string::npos; }
+
+// Checks that validate() refuses the circuit with a message holding every one of `parts`.
+void check_refused(const Circuit& c, std::initializer_list<std::string> parts) {
+  const std::string m = validation_message(c);
+  CAPTURE(m);
+  for (const auto& part : parts) CHECK(has(m, part));
+}
 
 }  // namespace
 
@@ -164,4 +174,93 @@ TEST_CASE("Validation rejects shorted parts and values that are not finite and p
   c.vsource("V1", "supply", "a", "0", std::nan(""));
   c.resistor("R1", "load", "a", "0", 1e3);
   CHECK(has(validation_message(c), "V1"));
+}
+
+TEST_CASE("Macro-model elements in the graph: a current source or a VCCS output gives no DC path, a VCVS output does") {
+  // A net fed by a current source alone floats, and the message names the source.
+  Circuit f;
+  f.isource("I1", "bias", "0", "a", 1e-3);
+  check_refused(f, {"'a'", "no DC path to ground", "current source I1"});
+  f.resistor("R1", "R", "a", "0", 1e3);
+  CHECK(validation_message(f).empty());
+  // A VCCS's output alone: floating; a VCVS's output: held.
+  for (const bool voltage : {false, true}) {
+    CAPTURE(voltage);
+    Circuit c;
+    c.vsource("V1", "signal", "in", "0", 1.0);
+    if (voltage)
+      c.vcvs("E1", "gain", "o", "0", "in", "0", 2.0);
+    else
+      c.vccs("G1", "gain", "o", "0", "in", "0", 1e-3);
+    if (voltage)
+      CHECK(validation_message(c).empty());
+    else
+      check_refused(c, {"'o'", "current source G1"});
+    // Four pins, two edges (output pair and control pair) for one element.
+    const auto* e = c.find(voltage ? "E1" : "G1");
+    REQUIRE(e != nullptr);
+    CHECK(e->pin_count() == 4);
+    CHECK(c.net_name(e->c.pins[0]) == "o");
+    CHECK(c.net_name(e->c.pins[2]) == "in");
+    CHECK(boost::num_edges(c.graph()) == 3);
+    CHECK(c.elements().size() == 2);
+  }
+}
+
+TEST_CASE("Macro-model elements in the graph: a control pair draws no current and gives no path; a diode does") {
+  // The control input of a VCCS on a net of its own: floating, named as such.
+  Circuit c;
+  c.vsource("V1", "supply", "a", "0", 5);
+  c.resistor("R1", "R", "a", "o", 1e3);
+  c.vccs("G1", "gain", "o", "0", "ctl", "0", 1e-3);
+  check_refused(c, {"'ctl'", "control input of G1"});
+  // A control pair does not join its nets to the output's: a resistor across a VCVS's
+  // control pair floats although the output is grounded.
+  Circuit d;
+  d.resistor("R1", "R", "b", "c", 1e3);
+  d.vcvs("E1", "gain", "o", "0", "b", "c", 1.0);
+  d.resistor("RL", "load", "o", "0", 1e3);
+  check_refused(d, {"no DC path to ground", "control input of E1"});
+  // A diode to a source is a DC path (gmin holds it when reverse biased).
+  Circuit e;
+  e.vsource("V1", "clamp", "k", "0", 5);
+  e.isource("I1", "bias", "0", "a", 1e-3);
+  e.diode("D1", "clamp", "a", "k", 1e-14, 1);
+  CHECK(validation_message(e).empty());
+  REQUIRE(e.diodes().size() == 1);
+  CHECK(e.find("D1")->c.device == 0);
+}
+
+TEST_CASE("Validation of macro-model elements: VCVS in a loop of voltage sources, shorted pins, bad diode figures") {
+  auto supplied = [] {
+    Circuit c;
+    c.vsource("V1", "supply", "a", "0", 5);
+    return c;
+  };
+  Circuit loop = supplied();
+  loop.vcvs("E1", "gain", "a", "0", "a", "0", 1.0);
+  check_refused(loop, {"loop of voltage sources", "E1"});
+  Circuit control = supplied();
+  control.resistor("R1", "load", "a", "o", 1e3);
+  control.vccs("G1", "gain", "o", "0", "a", "a", 1e-3);
+  check_refused(control, {"G1 (gain): both control pins on net 'a'"});
+  Circuit output = supplied();
+  output.vccs("G1", "gain", "a", "a", "a", "0", 1e-3);
+  check_refused(output, {"G1 (gain): both ends on net 'a'"});
+  for (const auto& [is, n] : {std::pair{0.0, 1.0}, std::pair{1e-14, -1.0}, std::pair{1e-14, std::nan("")}}) {
+    CAPTURE(is);
+    CAPTURE(n);
+    Circuit c = supplied();
+    c.diode("D7", "clamp", "a", "0", is, n);
+    check_refused(c, {"D7 (clamp): IS"});
+  }
+  Circuit c = supplied();
+  c.resistor("R1", "load", "a", "0", 1e3);
+  c.isource("I1", "bias", "a", "0", std::numeric_limits<double>::infinity());
+  check_refused(c, {"I1 (bias): value is not a finite number"});
+  // Negative transconductance and gain are allowed (an inverting stage).
+  Circuit g = supplied();
+  g.vcvs("E1", "gain", "o", "0", "a", "0", -3.0);
+  g.vccs("G1", "gain", "o", "0", "a", "0", -1e-3);
+  CHECK(validation_message(g).empty());
 }

@@ -149,25 +149,61 @@ Circuit bjt_stage(devices::DeviceKind kind) {
   return c;
 }
 
-// Compares the solver with ngspice on one circuit: node voltages and supply current at the
-// operating point, the complex output at three frequencies, output and input noise.
-void check_against_ngspice(const Circuit& c, const std::vector<std::string>& nets) {
+// Tight tolerances: ngspice's default RELTOL (1e-3) stops its Newton iteration short of the
+// agreement the tests check.
+constexpr const char* kTight = ".options reltol=1e-7 vntol=1e-10 abstol=1e-15";
+
+// The operating point ngspice finds for the writer's netlist; `print` lists what it prints.
+test::SpiceRun ngspice_op(const Circuit& c, const std::string& print) {
   circuit::SpiceOptions o;
-  // Tight tolerances: ngspice's default RELTOL (1e-3) stops its Newton iteration short of
-  // the agreement checked here.
-  o.analyses = {".options reltol=1e-7 vntol=1e-10 abstol=1e-15", ".control", "op"};
-  std::string pr = "print i(vdd)";
+  o.analyses = {kTight, ".control", "op", "print " + print, ".endc"};
+  return test::run_ngspice(circuit::to_spice(c, o));
+}
+
+// What check_against_ngspice compares beside the node voltages.
+struct Compare {
+  std::string out = "out";                       ///< the net whose AC response and noise are compared
+  std::vector<double> freqs = {20.0, 1e3, 1e7};  ///< AC frequencies
+  bool noise = true;                             ///< compare output and input noise at 1 kHz
+};
+
+// The SPICE name of the first element of a kind that `pick` accepts, lower-cased as ngspice
+// prints it.
+std::string first_source(const Circuit& c, bool (*pick)(const circuit::Component&)) {
+  for (const auto& el : c.elements()) {
+    if (!pick(el.c)) continue;
+    std::string name = circuit::spice_name(el.c);
+    for (char& ch : name) ch = static_cast<char>(std::tolower(static_cast<unsigned char>(ch)));
+    return name;
+  }
+  return {};
+}
+
+// Compares the solver with ngspice on one circuit, both running the writer's netlist: node
+// voltages and the first voltage source's current at the operating point, the complex output
+// at each frequency, output and input noise (the input: the first source with an AC value).
+void check_against_ngspice(const Circuit& c, const std::vector<std::string>& nets, const Compare& k = {}) {
+  const std::string supply =
+      first_source(c, [](const circuit::Component& e) { return e.kind == circuit::ElementKind::vsource; });
+  const std::string input = first_source(c, [](const circuit::Component& e) {
+    return (e.kind == circuit::ElementKind::vsource || e.kind == circuit::ElementKind::isource) && e.ac_volts != 0;
+  });
+  circuit::SpiceOptions o;
+  o.analyses = {kTight, ".control", "op"};
+  std::string pr = "print";
+  if (!supply.empty()) pr += " i(" + supply + ")";
   for (const auto& n : nets) pr += " v(" + n + ")";
   o.analyses.push_back(pr);
-  const double freqs[] = {20.0, 1e3, 1e7};
-  for (std::size_t i = 0; i < 3; ++i) {
-    o.analyses.push_back(fmt::format("ac lin 1 {0:g} {0:g}", freqs[i]));
-    o.analyses.push_back(fmt::format("let re{0} = real(v(out))", i));
-    o.analyses.push_back(fmt::format("let im{0} = imag(v(out))", i));
+  for (std::size_t i = 0; i < k.freqs.size(); ++i) {
+    o.analyses.push_back(fmt::format("ac lin 1 {0:g} {0:g}", k.freqs[i]));
+    o.analyses.push_back(fmt::format("let re{0} = real(v({1}))", i, k.out));
+    o.analyses.push_back(fmt::format("let im{0} = imag(v({1}))", i, k.out));
     o.analyses.push_back(fmt::format("print re{0} im{0}", i));
   }
-  o.analyses.push_back("noise v(out) vsig lin 1 1k 1k");
-  o.analyses.push_back("print onoise_spectrum inoise_spectrum");
+  if (k.noise) {
+    o.analyses.push_back(fmt::format("noise v({}) {} lin 1 1k 1k", k.out, input));
+    o.analyses.push_back("print onoise_spectrum inoise_spectrum");
+  }
   o.analyses.push_back(".endc");
   const auto run = test::run_ngspice(circuit::to_spice(c, o));
   CAPTURE(run.output);
@@ -177,17 +213,19 @@ void check_against_ngspice(const Circuit& c, const std::vector<std::string>& net
     // ngspice prints six significant figures: 1e-5 is as close as the comparison can go.
     CHECK(op.v(c, n) == doctest::Approx(run.get("v(" + n + ")")).epsilon(1e-5));
   }
-  CHECK(op.source_i.front() == doctest::Approx(run.get("i(vdd)")).epsilon(1e-5));
-  for (std::size_t i = 0; i < 3; ++i) {
-    CAPTURE(freqs[i]);
-    const auto v = circuit::solve_ac(c, op, freqs[i])[*c.find_net("out")];
+  if (!supply.empty()) CHECK(op.source_i.front() == doctest::Approx(run.get("i(" + supply + ")")).epsilon(1e-5));
+  for (std::size_t i = 0; i < k.freqs.size(); ++i) {
+    CAPTURE(k.freqs[i]);
+    const auto v = circuit::solve_ac(c, op, k.freqs[i])[*c.find_net(k.out)];
     const double mag = std::hypot(run.get(fmt::format("re{}", i)), run.get(fmt::format("im{}", i)));
     CHECK(v.real() == doctest::Approx(run.get(fmt::format("re{}", i))).epsilon(1e-5).scale(mag));
     CHECK(v.imag() == doctest::Approx(run.get(fmt::format("im{}", i))).epsilon(1e-5).scale(mag));
   }
-  const auto n = circuit::noise(c, op, "out", 1e3);
-  CHECK(n.output_v_rthz == doctest::Approx(run.get("onoise_spectrum")).epsilon(1e-5));
-  CHECK(n.input_v_rthz == doctest::Approx(run.get("inoise_spectrum")).epsilon(1e-5));
+  if (k.noise) {
+    const auto n = circuit::noise(c, op, k.out, 1e3);
+    CHECK(n.output_v_rthz == doctest::Approx(run.get("onoise_spectrum")).epsilon(1e-5));
+    CHECK(n.input_v_rthz == doctest::Approx(run.get("inoise_spectrum")).epsilon(1e-5));
+  }
 }
 
 }  // namespace
@@ -289,10 +327,7 @@ TEST_CASE("A stack of three transistors on a divider solves, each VBE near 0.65 
 
 TEST_CASE("Hard DC case against ngspice: the saturated switch with its stiff base drive") {
   const Circuit c = hard_switch();
-  circuit::SpiceOptions o;
-  o.analyses = {".options reltol=1e-7 vntol=1e-10 abstol=1e-15", ".control", "op", "print v(base) v(col) i(vdd)",
-                ".endc"};
-  const auto run = test::run_ngspice(circuit::to_spice(c, o));
+  const auto run = ngspice_op(c, "v(base) v(col) i(vdd)");
   const auto op = circuit::solve_dc(c);
   CHECK(op.v(c, "base") == doctest::Approx(run.get("v(base)")).epsilon(1e-5));
   CHECK(op.v(c, "col") == doctest::Approx(run.get("v(col)")).epsilon(1e-4));
@@ -312,4 +347,242 @@ TEST_CASE("log_sweep: points per decade, both ends included") {
   CHECK(f.front() == doctest::Approx(10));
   CHECK(f.back() == doctest::Approx(1e4));
   CHECK(f[10] == doctest::Approx(100));
+}
+
+// The macro-model elements, each alone in a small circuit, against ngspice running the
+// writer's netlist and against circuit theory (Ohm's and Kirchhoff's laws, the Shockley
+// diode law).
+
+TEST_CASE("Current source: SPICE's sign (the current flows from + through the source to -), DC and AC") {
+  // 1 mA from `a` through I1 to ground: it draws the current out of `a`, which sits at -1 V
+  // on 1 kOhm; a second source from ground into `b` lifts it, in AC too.
+  Circuit c;
+  c.isource("I1", "bias", "a", "0", 1e-3);
+  c.resistor("R1", "R", "a", "0", 1e3);
+  c.isource("I2", "signal", "0", "b", 2e-3, 1e-3);
+  c.resistor("R2", "R", "b", "0", 2e3);
+  c.capacitor("C2", "C", "b", "0", 100e-9);
+  c.vsource("V1", "supply", "s", "0", 5.0);
+  c.resistor("R3", "R", "s", "b", 3e3);
+  const auto op = circuit::solve_dc(c);
+  CHECK(op.v(c, "a") == doctest::Approx(-1.0).epsilon(1e-12));
+  // b: 2 mA into 2k || 3k, plus 5 V through 3k into 2k: 2.4 + 2 V.
+  CHECK(op.v(c, "b") == doctest::Approx(4.4).epsilon(1e-12));
+  // V1 delivers (5 - 4.4)/3k: SPICE's sign, negative.
+  REQUIRE(op.source_i.size() == 1);
+  CHECK(op.source_i[0] == doctest::Approx(-0.2e-3).epsilon(1e-12));
+  // AC: 1 mA into 2k || 3k || C.
+  const double f = 1e3, w = 2 * kPi * f;
+  const std::complex<double> z = 1.0 / (1.0 / 2e3 + 1.0 / 3e3 + std::complex<double>(0, w * 100e-9));
+  const auto v = circuit::solve_ac(c, op, f)[*c.find_net("b")];
+  CHECK(v.real() == doctest::Approx((1e-3 * z).real()).epsilon(1e-12));
+  CHECK(v.imag() == doctest::Approx((1e-3 * z).imag()).epsilon(1e-12));
+  // A current source is noiseless: the noise at b is that of 2k || 3k alone.
+  const auto zb = [&](double fq) {
+    return 1.0 / (1.0 / 2e3 + 1.0 / 3e3 + std::complex<double>(0, 2 * kPi * fq * 100e-9));
+  };
+  CHECK(circuit::noise(c, op, "b", 1e3).output_v_rthz ==
+        doctest::Approx(std::sqrt(4 * kt() * (1.0 / 2e3 + 1.0 / 3e3)) * std::abs(zb(1e3))).epsilon(1e-9));
+  check_against_ngspice(c, {"a", "b", "s"}, {.out = "b", .freqs = {10.0, 1e3, 1e5}});
+}
+
+namespace {
+
+// The control of a controlled source off ground: two dividers of the input, c at 1/2 of it and
+// d at 1/3, each resistor a noise source.
+Circuit control_dividers() {
+  Circuit c;
+  c.vsource("VIN", "signal", "in", "0", 1.0, 1.0);
+  c.resistor("R1", "R", "in", "c", 10e3);
+  c.resistor("R2", "R", "c", "0", 10e3);
+  c.resistor("R3", "R", "in", "d", 20e3);
+  c.resistor("R4", "R", "d", "0", 10e3);
+  return c;
+}
+
+}  // namespace
+
+TEST_CASE("VCCS: gm (v(c) - v(d)) from out+ through the source to out-, all four pins off ground, DC, AC and noise") {
+  // Output: the current from o through G1 into m, o loaded by RL || CL, m by RM.
+  Circuit c = control_dividers();
+  c.vccs("G1", "gain", "o", "m", "c", "d", 2e-3);
+  c.resistor("RL", "R", "o", "0", 1e3);
+  c.capacitor("CL", "C", "o", "0", 100e-9);
+  c.resistor("RM", "R", "m", "0", 500);
+  const auto op = circuit::solve_dc(c);
+  const double i = 2e-3 * (0.5 - 1.0 / 3.0);
+  CHECK(op.v(c, "o") == doctest::Approx(-i * 1e3).epsilon(1e-12));
+  CHECK(op.v(c, "m") == doctest::Approx(i * 500).epsilon(1e-12));
+  CHECK(op.v(c, "c") == doctest::Approx(0.5).epsilon(1e-12));  // the control draws nothing
+  const double w = 2 * kPi * 1e3;
+  const auto h = -2e-3 * (0.5 - 1.0 / 3.0) / (1.0 / 1e3 + std::complex<double>(0, w * 100e-9));
+  const auto v = circuit::solve_ac(c, op, 1e3)[*c.find_net("o")];
+  CHECK(v.real() == doctest::Approx(h.real()).epsilon(1e-12));
+  CHECK(v.imag() == doctest::Approx(h.imag()).epsilon(1e-12));
+  // The control's resistors' noise reaches o through gm: the adjoint solve of a matrix that
+  // is not symmetric any more.
+  check_against_ngspice(c, {"c", "d", "o", "m"}, {.out = "o", .freqs = {10.0, 1e3, 1e5}});
+}
+
+TEST_CASE("VCVS: v(o) - v(m) = gain (v(c) - v(d)), a floating output, DC, AC and noise; no source current of its own") {
+  Circuit c = control_dividers();
+  c.vcvs("E1", "gain", "x", "m", "c", "d", 4.0);
+  c.resistor("RS", "R", "x", "o", 1e3);
+  c.resistor("RL", "R", "o", "0", 2e3);
+  c.capacitor("CL", "C", "o", "0", 100e-9);
+  c.resistor("RM", "R", "m", "0", 1e3);
+  const auto op = circuit::solve_dc(c);
+  const double e = 4.0 * (0.5 - 1.0 / 3.0);
+  CHECK(op.v(c, "x") - op.v(c, "m") == doctest::Approx(e).epsilon(1e-12));
+  // The loop x -> RS -> RL -> ground -> RM -> m carries e / 4k.
+  CHECK(op.v(c, "o") == doctest::Approx(e * 2e3 / 4e3).epsilon(1e-12));
+  CHECK(op.v(c, "m") == doctest::Approx(-e * 1e3 / 4e3).epsilon(1e-12));
+  CHECK(op.source_i.size() == 1);  // VIN's alone
+  const std::complex<double> zo = 1.0 / (1.0 / 2e3 + std::complex<double>(0, 2 * kPi * 1e3 * 100e-9));
+  const auto h = e * zo / (1e3 + zo + 1e3);
+  const auto v = circuit::solve_ac(c, op, 1e3)[*c.find_net("o")];
+  CHECK(v.real() == doctest::Approx(h.real()).epsilon(1e-12));
+  CHECK(v.imag() == doctest::Approx(h.imag()).epsilon(1e-12));
+  check_against_ngspice(c, {"c", "d", "x", "o", "m"}, {.out = "o", .freqs = {10.0, 1e3, 1e5}});
+}
+
+TEST_CASE("Diode: forward drop N Vt ln(I/IS + 1) at three currents, within 0.1 mV of ngspice; its AC conductance") {
+  // A 1N4148-like junction (IS and N of that order, from memory), fed from a current source.
+  const double is = 4e-9, n = 1.8;
+  const double vt = devices::thermal_voltage(devices::kNominalCelsius);
+  for (const double amps : {10e-6, 1e-3, 20e-3}) {
+    CAPTURE(amps);
+    Circuit c;
+    c.isource("IF", "bias", "0", "a", amps, 1e-6);
+    c.diode("D1", "clamp", "a", "0", is, n);
+    const auto op = circuit::solve_dc(c);
+    // The Shockley law; 1 pS of gmin across the junction takes a part in 1e7 of the current.
+    CHECK(op.v(c, "a") == doctest::Approx(n * vt * std::log(amps / is + 1)).epsilon(1e-6));
+    REQUIRE(op.diodes.size() == 1);
+    CHECK(op.diodes[0].i_a == doctest::Approx(amps).epsilon(1e-6));
+    CHECK(op.diodes[0].g_s == doctest::Approx((amps + is) / (n * vt)).epsilon(1e-6));
+    // AC: 1 uA into the small-signal resistance N Vt / I.
+    CHECK(std::abs(circuit::solve_ac(c, op, 1e3)[*c.find_net("a")]) ==
+          doctest::Approx(1e-6 / (op.diodes[0].g_s + 1e-12)).epsilon(1e-9));
+    const auto run = ngspice_op(c, "v(a)");
+    CAPTURE(run.output);
+    CHECK(std::abs(op.v(c, "a") - run.get("v(a)")) < 0.1e-3);
+    // ngspice's diode has shot noise and ours none: the comparison leaves noise out.
+    check_against_ngspice(c, {"a"}, {.out = "a", .freqs = {1e3}, .noise = false});
+  }
+}
+
+namespace {
+
+// An op-amp macro-model of standard elements in a non-inverting stage of gain 10 on +/-12 V:
+// Aol 200k, GBW 1 MHz, a second pole at 5 MHz, Rout 50 Ohm, Vos 1 mV, 100 nA into each input.
+// The input stage's current gm1 vd into R1 || C1 sets the gain and the dominant pole; the
+// second VCCS into R2 || C2 (unity gain) the second pole; the VCVS copies that node behind
+// ROUT. The clamp diodes hold the dominant-pole node within 1.5 V (plus a diode drop) of
+// each rail, through sources hung from the rails: the output follows through the unity
+// gains and ROUT, so it swings less into a heavier load, and no node of the model leaves the
+// rails (the clamp current is gm1 vd at most).
+struct MacroModel {
+  double aol = 200e3, gbw_hz = 1e6, pole2_hz = 5e6, rout = 50, vos = 1e-3, ib = 100e-9;
+  double gm1 = 1e-3, gm2 = 1e-3, headroom = 1.5, is = 1e-15, n = 1;
+  double rf = 90e3, rg = 10e3, rl = 2e3;
+  double r1() const { return aol / gm1; }
+  double c1() const { return 1.0 / (2 * kPi * r1() * gbw_hz / aol); }
+  double r2() const { return 1.0 / gm2; }
+  double c2() const { return 1.0 / (2 * kPi * r2() * pole2_hz); }
+  Circuit stage(double vin_dc) const {
+    Circuit c;
+    c.vsource("VCC", "supply", "vcc", "0", 12.0);
+    c.vsource("VEE", "supply", "vee", "0", -12.0);
+    c.vsource("VSIG", "signal", "in", "0", vin_dc, 1.0);
+    c.vsource("VOS", "offset", "inp", "in", vos);
+    c.isource("IBP", "bias", "inp", "0", ib);
+    c.isource("IBN", "bias", "inm", "0", ib);
+    c.vccs("G1", "gain", "0", "n1", "inp", "inm", gm1);
+    c.resistor("R1", "gain", "n1", "0", r1());
+    c.capacitor("C1", "pole", "n1", "0", c1());
+    c.vccs("G2", "pole2", "0", "n2", "n1", "0", gm2);
+    c.resistor("R2", "pole2", "n2", "0", r2());
+    c.capacitor("C2", "pole2", "n2", "0", c2());
+    c.vcvs("E1", "output", "n3", "0", "n2", "0", 1.0);
+    c.resistor("ROUT", "output", "n3", "out", rout);
+    c.vsource("VCLP", "clamp", "vcc", "clp", headroom);
+    c.vsource("VCLN", "clamp", "cln", "vee", headroom);
+    c.diode("DP", "clamp", "n1", "clp", is, n);
+    c.diode("DN", "clamp", "cln", "n1", is, n);
+    c.resistor("RF", "RF", "out", "inm", rf);
+    c.resistor("RG", "RG", "inm", "0", rg);
+    c.resistor("RL", "load", "out", "0", rl);
+    return c;
+  }
+};
+
+}  // namespace
+
+TEST_CASE("Op-amp macro-model, non-inverting gain 10: DC offset, gain at 1 kHz and -3 dB corner against ngspice") {
+  const MacroModel m;
+  const Circuit c = m.stage(0.0);
+  circuit::SpiceOptions o;
+  o.analyses = {kTight,
+                ".control",
+                "op",
+                "print v(out)",
+                "ac dec 1000 100 10meg",
+                "meas ac g1k find vm(out) at=1k",
+                "meas ac gmax max vm(out)",
+                "let lim = gmax/sqrt(2)",
+                "meas ac fhi when vm(out)=lim fall=1",
+                ".endc"};
+  const std::string text = circuit::to_spice(c, o);
+  const auto run = test::run_ngspice(text);
+  CAPTURE(text);
+  CAPTURE(run.output);
+  CHECK(run.error_lines().empty());
+  const auto op = circuit::solve_dc(c);
+  // Output offset: Vos times the noise gain plus Ib times RF (the textbook sum, from memory),
+  // 10 mV + 9 mV; the finite loop gain takes 5e-5 of it.
+  const double noise_gain = 1 + m.rf / m.rg;
+  CHECK(op.v(c, "out") == doctest::Approx(m.vos * noise_gain + m.ib * m.rf).epsilon(1e-3));
+  CHECK(op.v(c, "out") == doctest::Approx(run.get("v(out)")).epsilon(1e-3));
+  // The clamps are off: picoamperes through them.
+  REQUIRE(op.diodes.size() == 2);
+  for (const auto& d : op.diodes) CHECK(std::abs(d.i_a) < 1e-12);
+  const double g1k = std::abs(circuit::solve_ac(c, op, 1e3)[*c.find_net("out")]);
+  CHECK(g1k == doctest::Approx(noise_gain).epsilon(1e-3));
+  CHECK(g1k == doctest::Approx(run.get("g1k")).epsilon(1e-3));
+  // The corner: GBW over the noise gain for one pole (from memory); ROUT into the load and
+  // the second pole take a few per cent off.
+  const auto k = circuit::find_corners(c, op, "out", 1.0, 1e8);
+  CHECK(k.f_high_hz == doctest::Approx(m.gbw_hz / noise_gain).epsilon(0.05));
+  CHECK(k.f_high_hz == doctest::Approx(run.get("fhi")).epsilon(5e-3));
+  // And the whole operating point, the response and the noise to ngspice's six figures.
+  check_against_ngspice(c, {"inp", "inm", "n1", "n2", "n3", "out"}, {.freqs = {1e3, 1e5, 1e6}});
+}
+
+TEST_CASE("Op-amp macro-model driven into its clamps: the output sits at the clamp, as in ngspice within 10 mV") {
+  const MacroModel m;
+  for (const double vin : {2.0, -2.0}) {
+    CAPTURE(vin);
+    const Circuit c = m.stage(vin);
+    const auto run = ngspice_op(c, "v(out) v(n1)");
+    CAPTURE(run.output);
+    const auto op = circuit::solve_dc(c);
+    CHECK(op.method == "newton");  // the junction limiting takes the clamp on the first try
+    const double out = op.v(c, "out");
+    CHECK(std::abs(out - run.get("v(out)")) < 10e-3);
+    CHECK(std::abs(op.v(c, "n1") - run.get("v(n1)")) < 10e-3);
+    // The clamp: the rail less the headroom plus one diode drop at gm1 vd, then ROUT into
+    // the load and the feedback network (a voltage divider).
+    const double s = vin > 0 ? 1.0 : -1.0;
+    const auto& on = op.diodes[vin > 0 ? 0 : 1];
+    CHECK(on.i_a > 1e-4);
+    // KCL at n1: G1's current less R1's goes through the clamp diode.
+    const double vd = op.v(c, "inp") - op.v(c, "inm");
+    CHECK(on.i_a == doctest::Approx(s * (m.gm1 * vd - op.v(c, "n1") / m.r1())).epsilon(1e-6));
+    const double load = 1.0 / (1.0 / m.rl + 1.0 / (m.rf + m.rg));
+    const double clamp = s * (12.0 - m.headroom) + s * on.v_v;
+    CHECK(out == doctest::Approx(clamp * load / (load + m.rout)).epsilon(1e-6));
+    CHECK(std::abs(out) < 12.0 - m.headroom + 1.0);
+    CHECK(std::abs(out) > 10.0);
+  }
 }

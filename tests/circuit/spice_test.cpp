@@ -242,3 +242,93 @@ TEST_CASE("Test support: ngspice's print, meas and fourier output is parsed") {
   REQUIRE(f.at("v(out)").size() == 3);
   CHECK(f.at("v(out)")[2] == doctest::Approx(0.000509641));
 }
+
+namespace {
+
+// Every macro-model element once, with names that need a prefix and names that do not.
+Circuit macro_elements() {
+  Circuit c;
+  c.vsource("VCC", "supply", "vcc", "0", 12);
+  c.vsource("VSIG", "signal", "in", "0", 0, 1);
+  c.isource("IB1", "bias", "in", "0", 1e-7);
+  c.isource("X2", "signal", "0", "a", 1e-3, 2e-3);
+  c.resistor("RA", "R", "a", "0", 1e3);
+  c.vccs("G1", "gain", "0", "n-1", "in", "a", 2e-5);
+  c.resistor("R1", "R", "n-1", "0", 1e5);
+  c.capacitor("C1", "C", "n-1", "0", 1e-9);
+  c.vcvs("A1", "output", "o", "0", "n-1", "0", -2.5);
+  c.resistor("RL", "load", "o", "0", 1e4);
+  c.diode("D1", "clamp", "o", "vcc", 4e-9, 1.8);
+  return c;
+}
+
+}  // namespace
+
+TEST_CASE("Macro-model elements: I, G, E and D lines in SPICE syntax, a .model D(IS N) per diode") {
+  const Circuit c = macro_elements();
+  circuit::SpiceOptions o;
+  o.signal_transient = "SIN(0 0.1 1k)";  // on the voltage source only
+  const std::string text = circuit::to_spice(c, o);
+  CAPTURE(text);
+  CHECK(line_starting(text, "IB1") == "IB1 in 0 DC 1e-07");
+  CHECK(line_starting(text, "IX2") == "IX2 0 a DC 0.001 AC 0.002");
+  CHECK(line_starting(text, "G1") == "G1 0 n_1 in a 2e-05");
+  CHECK(line_starting(text, "EA1") == "EA1 o 0 n_1 0 -2.5");
+  CHECK(line_starting(text, "D1") == "D1 o vcc MD1");
+  CHECK(line_starting(text, ".model MD1") == ".model MD1 D(IS=4e-09 N=1.8)");
+  CHECK(line_starting(text, "VSIG") == "VSIG in 0 DC 0 AC 1 SIN(0 0.1 1k)");
+  const auto& e = c.elements();
+  CHECK(circuit::spice_name(e[3].c) == "IX2");
+  CHECK(circuit::spice_name(e[8].c) == "EA1");
+}
+
+TEST_CASE("Macro-model elements are carried by append and by with_capacitors_held, pins and figures kept") {
+  const Circuit c = macro_elements();
+  Circuit copy;
+  copy.append(c, {});
+  CHECK(circuit::to_spice(copy) == circuit::to_spice(c));
+  // Renamed nets and designators reach every pin, the control pair's too.
+  Circuit moved;
+  circuit::Circuit::Carry carry;
+  carry.net = [](const circuit::Component&, const std::string& n) { return n == "0" ? n : "x" + n; };
+  carry.designator = [](const circuit::Component& e) { return e.designator + "B"; };
+  moved.append(c, carry);
+  const std::string text = circuit::to_spice(moved);
+  CAPTURE(text);
+  CHECK(line_starting(text, "G1B") == "G1B 0 xn_1 xin xa 2e-05");
+  CHECK(line_starting(text, "EA1B") == "EA1B xo 0 xn_1 0 -2.5");
+  CHECK(line_starting(text, "D1B") == "D1B xo xvcc MD1B");
+  CHECK(line_starting(text, ".model MD1B") == ".model MD1B D(IS=4e-09 N=1.8)");
+  // Held: the capacitor becomes a source at its DC, everything else the same line.
+  const auto op = circuit::solve_dc(c);
+  const Circuit held = circuit::with_capacitors_held(c, op);
+  const std::string h = circuit::to_spice(held);
+  CHECK(line_starting(h, "IX2") == "IX2 0 a DC 0.001 AC 0.002");
+  CHECK(line_starting(h, "EA1") == "EA1 o 0 n_1 0 -2.5");
+  CHECK(line_starting(h, ".model MD1") == ".model MD1 D(IS=4e-09 N=1.8)");
+  const auto oh = circuit::solve_dc(held);
+  CHECK(oh.v(held, "o") == doctest::Approx(op.v(c, "o")).epsilon(1e-9));
+  CHECK(oh.v(held, "n-1") == doctest::Approx(op.v(c, "n-1")).epsilon(1e-9));
+}
+
+TEST_CASE("The macro-model elements' netlist runs in ngspice unchanged, with the operating point of our solver") {
+  const Circuit c = macro_elements();
+  circuit::SpiceOptions o;
+  o.analyses = {".options reltol=1e-7 vntol=1e-10 abstol=1e-15", ".control", "op", "print v(a) v(n_1) v(o)", ".endc"};
+  const std::string text = circuit::to_spice(c, o);
+  const auto run = test::run_ngspice(text);
+  CAPTURE(text);
+  CAPTURE(run.output);
+  CHECK(run.error_lines().empty());
+  const auto op = circuit::solve_dc(c);
+  // a: 1 mA into 1k, +1 V; G1 draws 20 uS (0 - 1 V) out of n-1, -2 V on 100k; o: -2.5 times
+  // that, +5 V, D1 reverse biased by 7 V.
+  CHECK(op.v(c, "a") == doctest::Approx(1.0).epsilon(1e-9));
+  CHECK(op.v(c, "n-1") == doctest::Approx(-2.0).epsilon(1e-9));
+  CHECK(op.v(c, "o") == doctest::Approx(5.0).epsilon(1e-9));
+  for (const char* n : {"a", "n_1", "o"}) {
+    CAPTURE(n);
+    const std::string net = std::string(n) == "n_1" ? "n-1" : n;
+    CHECK(op.v(c, net) == doctest::Approx(run.get(std::string("v(") + n + ")")).epsilon(1e-5));
+  }
+}

@@ -13,6 +13,7 @@
 #include <numbers>
 
 #include "report_fixture.hpp"
+#include "shelfstage/circuit/solver.hpp"
 #include "shelfstage/circuit/spice.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/units/notation.hpp"
@@ -205,22 +206,9 @@ TEST_CASE("transfer_curve: matches ngspice's .dc sweep of the stage with its cap
     so.analyses.push_back(".endc");
     const auto op = test::run_ngspice(circuit::to_spice(net, so));
     auto volt = [&](std::size_t v) { return v == 0 ? 0.0 : op.get("v(" + net.net_name(v) + ")"); };
-    circuit::Circuit h;
-    for (const auto& el : net.elements()) {
-      const auto& e = el.c;
-      const std::string a = net.net_name(e.pins[0]), b = net.net_name(e.pins[1]);
-      switch (e.kind) {
-        case circuit::ElementKind::resistor: h.resistor(e.designator, e.role, a, b, e.value); break;
-        case circuit::ElementKind::capacitor:
-          h.vsource(e.designator, e.role, a, b, volt(e.pins[0]) - volt(e.pins[1]));
-          break;
-        case circuit::ElementKind::vsource: h.vsource(e.designator, e.role, a, b, e.value, e.ac_volts); break;
-        case circuit::ElementKind::jfet:
-          h.jfet(e.designator, a, b, net.net_name(e.pins[2]), net.jfets()[e.device]);
-          break;
-        case circuit::ElementKind::bjt: h.bjt(e.designator, a, b, net.net_name(e.pins[2]), net.bjts()[e.device]); break;
-      }
-    }
+    circuit::OperatingPoint at_ngspice;
+    for (std::size_t v = 0; v < net.net_count(); ++v) at_ngspice.node_v.push_back(volt(v));
+    const circuit::Circuit h = circuit::with_capacitors_held(net, at_ngspice);
     const double in_peak = tr.rated_peak_v / std::abs(tr.gain);
     const std::vector<double> xs = {-2 * in_peak, -in_peak, -0.5 * in_peak, 0.5 * in_peak, in_peak, 2 * in_peak};
     circuit::SpiceOptions sd;

@@ -25,11 +25,21 @@ struct DeviceOp {
   bool bjt_saturated = false;                                         ///< BJTs: vbc > 0 (forward-biased collector)
 };
 
+/// A diode at the operating point.
+struct DiodeOp {
+  std::string designator;
+  double v_v = 0;  ///< anode to cathode
+  double i_a = 0;  ///< anode to cathode through the junction (gmin's share not counted)
+  double g_s = 0;  ///< small-signal conductance of the junction (gmin not counted)
+};
+
 /// A DC solution.
 struct OperatingPoint {
-  std::vector<double> node_v;     ///< by net index; ground is 0
-  std::vector<double> source_i;   ///< current of each voltage source, in element order of sources (into +, SPICE sign)
-  std::vector<DeviceOp> devices;  ///< in element order
+  std::vector<double> node_v;  ///< by net index; ground is 0
+  /// Current of each voltage source (not VCVS), in element order of sources (into +, SPICE sign).
+  std::vector<double> source_i;
+  std::vector<DeviceOp> devices;  ///< transistors, in element order
+  std::vector<DiodeOp> diodes;    ///< in element order
   int iterations = 0;
   std::string method;  ///< "newton", "gmin stepping", "source stepping"
   double v(const Circuit& c, const std::string& net) const;
@@ -44,7 +54,8 @@ struct SolverOptions {
 };
 
 /// Solves the DC operating point. Throws InputError when validation fails and
-/// InfeasibleError when no method converges.
+/// InfeasibleError when no method converges. Diodes take their thermal voltage at
+/// options.celsius (a transistor's comes with its instance).
 OperatingPoint solve_dc(const Circuit& circuit, const SolverOptions& options = {});
 
 /// Complex node voltages at one frequency, the sources driven by their ac_volts.
@@ -58,6 +69,8 @@ std::vector<std::complex<double>> ac_sweep(const Circuit& circuit, const Operati
 /// referred to the input (divided by the magnitude of the transfer from the AC source).
 /// Sources: resistor thermal 4kT/R, JFET channel 8kT*gm/3, BJT shot 2q*Ic and 2q*Ib
 /// (the noise models of ngspice's resistor, JFET level 1 and BJT, without flicker noise).
+/// Current sources, controlled sources and diodes are noiseless (ngspice's diode has shot
+/// noise 2q*I, which a clamp diode held off, at picoamperes, makes negligible).
 struct NoisePoint {
   double output_v_rthz = 0;
   double input_v_rthz = 0;

@@ -17,9 +17,12 @@ struct SpiceOptions {
   std::string signal_transient;
 };
 
-/// The netlist: a title line, one line per element with SPICE-legal names (R/C/V/J/Q
+/// The netlist: a title line, one line per element with SPICE-legal names (R/C/V/J/Q/I/G/E/D
 /// prefixes added where a designator lacks them), one .model per transistor
-/// (NJF/PJF: VTO BETA LAMBDA CGS CGD; NPN/PNP: IS BF BR VAF CJE CJC), .options, analyses, .end.
+/// (NJF/PJF: VTO BETA LAMBDA CGS CGD; NPN/PNP: IS BF BR VAF CJE CJC) and per diode
+/// (D: IS N), .options, analyses, .end. Current sources as `I+ - DC x [AC y]` (the signal
+/// transient goes on the voltage source only), controlled sources as `G|E out+ out- ctrl+ ctrl-
+/// value`.
 std::string to_spice(const Circuit& circuit, const SpiceOptions& options = {});
 
 /// The SPICE name of a net (ground "0"; other names with characters outside [A-Za-z0-9_]
@@ -27,7 +30,7 @@ std::string to_spice(const Circuit& circuit, const SpiceOptions& options = {});
 std::string spice_net(const Circuit& circuit, std::size_t net);
 
 /// The SPICE element name written for a designator (e.g. "RD" stays "RD", "Q1" for a JFET
-/// becomes "JQ1", "VDD" stays "VDD").
+/// becomes "JQ1", "VDD" stays "VDD", "IB1" stays "IB1", "A1" for a VCVS becomes "EA1").
 std::string spice_name(const Component& c);
 
 }  // namespace shelfstage::circuit
