@@ -475,6 +475,10 @@ int StageBuilder::shortfall(const std::array<const Combo*, stages::kMaxRoles>& c
   } else if (device_available_ < spec_.copies || (device2_ && device2_available_ < spec_.copies)) {
     return -1;
   }
+  return detail::parts_short(shelf_, combos, spec_.copies);
+}
+
+int detail::parts_short(const Shelf& shelf, std::span<const Combo* const> combos, int copies) {
   // At most 3 x kMaxRoles groups: a flat list beats a map here.
   std::array<std::pair<std::uint32_t, int>, 3 * stages::kMaxRoles> need{};
   std::size_t n = 0;
@@ -484,12 +488,12 @@ int StageBuilder::shortfall(const std::array<const Combo*, stages::kMaxRoles>& c
       std::size_t j = 0;
       while (j < n && need[j].first != c->group[k]) ++j;
       if (j == n) need[n++] = {c->group[k], 0};
-      need[j].second += spec_.copies;
+      need[j].second += copies;
     }
   }
   int buy = 0;
   for (std::size_t j = 0; j < n; ++j) {
-    const StockGroup& g = shelf_.groups()[need[j].first];
+    const StockGroup& g = shelf.groups()[need[j].first];
     if (g.available >= need[j].second) continue;
     if (!g.buyable) return -1;
     buy += need[j].second - g.available;

@@ -7,6 +7,7 @@
 #include <optional>
 #include <thread>
 #include <vector>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -180,6 +181,10 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
                                 const Progress& progress, bool probe = false);
 /// Recipe texts and stock lines of the parts (only for candidates that are shown).
 void finalize(Candidate& c, const Shelf& shelf);
+/// The pieces to buy to make up the parts `combos` (null entries skipped; at most kMaxRoles of
+/// them) for every copy from the shelf's stock groups: 0 when the shelf holds them all, -1
+/// when a short group cannot be bought (the passive half of StageBuilder::shortfall).
+int parts_short(const Shelf& shelf, std::span<const Combo* const> combos, int copies);
 /// The part list's entry for a combo in a role: designator, pieces' values, tolerance from the
 /// bounds, rating, dielectric (recipe and stock lines come with finalize).
 RolePart role_part(const stages::Topology& topology, std::size_t role, const Combo& combo, const Shelf& shelf);

@@ -4,7 +4,6 @@
 #include <algorithm>
 #include <cmath>
 #include <fmt/format.h>
-#include <map>
 #include <numbers>
 
 #include "detail.hpp"
@@ -99,16 +98,13 @@ std::string finish_with_margin(Candidate& c, const Spec& spec, const Shelf& shel
         "asked",
         nominal.phase_margin_deg, spec.least_margin_deg);
   }
-  // The pieces the design draws from each stock group already, for every copy.
-  std::map<std::uint32_t, int> used;
-  for (const auto& rp : c.parts)
-    for (std::size_t k = 0; k < rp.combo.count; ++k) used[rp.combo.group[k]] += spec.copies;
+  // The stock for every copy, counted with the design's other parts (nothing bought).
+  std::vector<const Combo*> combos;
+  for (const auto& rp : c.parts) combos.push_back(&rp.combo);
+  combos.push_back(nullptr);  // the capacitor tried
   auto stocked = [&](const Combo& cb) {
-    std::map<std::uint32_t, int> need;
-    for (std::size_t k = 0; k < cb.count; ++k) need[cb.group[k]] += spec.copies;
-    for (const auto& [g, n] : need)
-      if (shelf.groups()[g].available < n + (used.contains(g) ? used.at(g) : 0)) return false;
-    return true;
+    combos.back() = &cb;
+    return parts_short(shelf, combos, spec.copies) == 0;
   };
   // A capacitor across RF leads the loop's phase by its zero, 1 / (2 pi RF CF): it acts within
   // a decade and a half of the crossover either way (common practice for lead compensation),
