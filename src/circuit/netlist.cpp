@@ -62,7 +62,7 @@ void Circuit::append(const Circuit& from, const Carry& carry) {
 void Circuit::copy_element(const Circuit& from, const Component& e, const std::string& des,
                            const std::array<std::string, 4>& pin) {
   switch (e.kind) {
-    case ElementKind::resistor: resistor(des, e.role, pin[0], pin[1], e.value); break;
+    case ElementKind::resistor: resistor(des, e.role, pin[0], pin[1], e.value, e.noiseless); break;
     case ElementKind::capacitor: capacitor(des, e.role, pin[0], pin[1], e.value); break;
     case ElementKind::vsource: vsource(des, e.role, pin[0], pin[1], e.value, e.ac_volts); break;
     case ElementKind::jfet: jfet(des, pin[0], pin[1], pin[2], from.jfets()[e.device]); break;
@@ -93,8 +93,9 @@ Component two_terminal(ElementKind kind, const std::string& des, const std::stri
 }  // namespace
 
 void Circuit::resistor(const std::string& des, const std::string& role, const std::string& a, const std::string& b,
-                       double ohms) {
-  const auto c = two_terminal(ElementKind::resistor, des, role, net(a), net(b), ohms);
+                       double ohms, bool noiseless) {
+  auto c = two_terminal(ElementKind::resistor, des, role, net(a), net(b), ohms);
+  c.noiseless = noiseless;
   add_element(c);
 }
 

@@ -497,7 +497,7 @@ NoisePoint noise(const Circuit& c, const OperatingPoint& op, const std::string& 
   std::size_t dev = 0;
   for (const auto& el : c.elements()) {
     const Component& k = el.c;
-    if (k.kind == ElementKind::resistor) add(k.pins[0], k.pins[1], 4 * kt / k.value);
+    if (k.kind == ElementKind::resistor && !k.noiseless) add(k.pins[0], k.pins[1], 4 * kt / k.value);
     if (k.kind == ElementKind::jfet) {
       const DeviceOp& d = op.devices[dev++];
       add(k.pins[0], k.pins[2], 8.0 * kt * std::abs(d.gm_s) / 3.0);

@@ -44,7 +44,9 @@ std::string to_spice(const Circuit& c, const SpiceOptions& o) {
     const std::string a = spice_net(c, e.pins[0]), b = spice_net(c, e.pins[1]);
     switch (e.kind) {
       case ElementKind::resistor:
-      case ElementKind::capacitor: out += fmt::format("{} {} {} {:.10g}\n", name, a, b, e.value); break;
+      case ElementKind::capacitor:
+        out += fmt::format("{} {} {} {:.10g}{}\n", name, a, b, e.value, e.noiseless ? " noisy=0" : "");
+        break;
       case ElementKind::vsource:
         if (e.ac_volts != 0 && !o.signal_transient.empty())
           out +=

@@ -50,6 +50,8 @@ struct Component {
   /// control minus). Vertex indices.
   std::array<std::size_t, 4> pins{0, 0, 0, 0};
   std::size_t device = 0;  ///< index into Circuit::jfets(), bjts() or diodes()
+  /// A resistor of a device's model rather than a part: no thermal noise (SPICE noisy=0).
+  bool noiseless = false;
 };
 
 using Graph = boost::adjacency_list<boost::vecS, boost::vecS, boost::undirectedS, Net, Component>;
@@ -88,8 +90,9 @@ class Circuit {
   const std::string& net_name(std::size_t v) const { return graph_[v].name; }
   std::size_t net_count() const { return boost::num_vertices(graph_); }
 
+  /// A resistor; `noiseless` for one inside a device's model (Component::noiseless).
   void resistor(const std::string& designator, const std::string& role, const std::string& a, const std::string& b,
-                double ohms);
+                double ohms, bool noiseless = false);
   void capacitor(const std::string& designator, const std::string& role, const std::string& plus,
                  const std::string& minus, double farads);
   void vsource(const std::string& designator, const std::string& role, const std::string& plus,
