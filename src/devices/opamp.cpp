@@ -24,6 +24,8 @@ OpampInstance limits_of(const OpampParams& p) {
   q.en_v_rthz = p.en_v_rthz.value_or(0.0);
   q.in_a_rthz = p.in_a_rthz.value_or(0.0);
   q.iq_a = p.iq_a.value_or(0.0);
+  q.vs_min_v = p.vs_min_v;
+  q.vs_max_v = p.vs_max_v;
   return q;
 }
 
@@ -51,6 +53,8 @@ std::vector<OpampPiece> opamp_corners(const OpampParams& p) {
           q.gbw_hz = slow ? p.gbw_low_hz() : p.gbw_hz.typ;
           q.slew_v_per_s = slow ? p.slew_low_v_per_s() : p.slew_v_per_s.typ;
           q.aol = slow ? p.aol_low() : p.aol.typ;
+          // A slow process is slow throughout: its second pole sits lower in proportion.
+          if (slow && q.pole2_hz > 0) q.pole2_hz *= p.gbw_low_hz() / p.gbw_hz.typ;
           q.vos_v = vos_sign * p.vos_max_v;
           // Both inputs at the bias current's maximum magnitude but one, which sits the
           // offset current nearer zero.

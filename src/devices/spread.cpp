@@ -10,6 +10,7 @@
 #include <limits>
 
 #include "shelfstage/error.hpp"
+#include "shelfstage/units/notation.hpp"
 
 namespace shelfstage::devices {
 
@@ -79,16 +80,19 @@ bool parse_spread_model(std::string_view text, SpreadModel& out) {
 
 namespace {
 
-/// The spread model is a transistor's: an op-amp record is refused by name.
+/// A measured piece is a transistor's: an op-amp record is refused by name.
 void refuse_opamp(const DeviceRecord& record) {
   if (!is_transistor(record.kind))
-    throw InputError(fmt::format("device {} is an op-amp: the transistor spread model does not apply", record.name));
+    throw InputError(fmt::format("device {} is an op-amp: a measured piece is a transistor's", record.name));
 }
 
 }  // namespace
 
 DeviceSpread::DeviceSpread(const DeviceRecord& record, SpreadOptions options) : record_(record), model_(options.model) {
-  refuse_opamp(record);
+  if (record.kind == DeviceKind::opamp) {
+    build_opamp();
+    return;
+  }
   if (is_jfet(record.kind)) {
     const JfetParams& p = record.jfet;
     const double id_lo = std::min(p.idss_a.min, p.idss_a.max);
@@ -143,15 +147,36 @@ DeviceSpread::DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piec
   }
 }
 
+void DeviceSpread::build_opamp() {
+  const OpampParams& p = record_.opamp;
+  nominal_.opamp = opamp_nominal(p);
+  nominal_.tag = "nominal";
+  int k = 0;
+  for (auto& piece : opamp_corners(p)) {
+    PieceFigures f;
+    f.opamp = piece.figures;
+    f.tag = fmt::format("corner {} ({})", ++k, piece.tag);
+    corners_.push_back(std::move(f));
+  }
+  description_ = fmt::format("datasheet limits (GBW {}..{}, slew {}..{} V/µs, Vos ±{}, Ib ±{})",
+                             units::format_value(p.gbw_low_hz(), units::Unit::hertz),
+                             units::format_value(p.gbw_hz.typ, units::Unit::hertz), p.slew_low_v_per_s() * 1e-6,
+                             p.slew_v_per_s.typ * 1e-6, units::format_value(p.vos_max_v, units::Unit::volt),
+                             units::format_value(p.ib_max_a, units::Unit::ampere));
+}
+
 std::string_view DeviceSpread::model_name() const {
   if (measured_) return "measured";
+  if (record_.kind == DeviceKind::opamp) return "limits";
   return spread_model_name(model_);
 }
 
 std::vector<PieceFigures> DeviceSpread::diagonal_pieces() const {
   if (!is_jfet(record_.kind) || measured_) return {};
-  PieceFigures small{std::exp(y_lo_), std::exp(x_lo_), 0, "diagonal piece: smallest IDSS, smallest |VP|"};
-  PieceFigures large{std::exp(y_hi_), std::exp(x_hi_), 0, "diagonal piece: largest IDSS, largest |VP|"};
+  PieceFigures small{
+      .idss_a = std::exp(y_lo_), .vp_abs_v = std::exp(x_lo_), .tag = "diagonal piece: smallest IDSS, smallest |VP|"};
+  PieceFigures large{
+      .idss_a = std::exp(y_hi_), .vp_abs_v = std::exp(x_hi_), .tag = "diagonal piece: largest IDSS, largest |VP|"};
   return {small, large};
 }
 
@@ -221,6 +246,16 @@ void DeviceSpread::build_jfet(double vp_lo, double vp_hi, double id_lo, double i
 }
 
 bool DeviceSpread::contains(const PieceFigures& f, double slack) const {
+  if (record_.kind == DeviceKind::opamp) {
+    const OpampParams& p = record_.opamp;
+    const OpampInstance& q = f.opamp;
+    auto within = [&](double v, double lo, double hi) { return v >= lo * (1 - slack) && v <= hi * (1 + slack); };
+    return within(q.gbw_hz, p.gbw_low_hz(), p.gbw_hz.typ) && within(q.aol, p.aol_low(), p.aol.typ) &&
+           within(q.slew_v_per_s, p.slew_low_v_per_s(), p.slew_v_per_s.typ) &&
+           std::abs(q.vos_v) <= p.vos_max_v * (1 + slack) + slack &&
+           std::abs(q.ib_plus_a) <= p.ib_max_a * (1 + slack) + slack &&
+           std::abs(q.ib_minus_a) <= p.ib_max_a * (1 + slack) + slack;
+  }
   if (is_jfet(record_.kind)) {
     const double x = std::log(f.vp_abs_v), y = std::log(f.idss_a);
     return x >= x_lo_ - slack && x <= x_hi_ + slack && y >= y_lo_ - slack && y <= y_hi_ + slack &&
@@ -235,6 +270,30 @@ std::vector<PieceFigures> DeviceSpread::samples(std::size_t n, std::uint64_t see
   std::uniform_real_distribution<double> u01(0.0, 1.0);
   std::vector<PieceFigures> out;
   out.reserve(n);
+  if (record_.kind == DeviceKind::opamp) {
+    const OpampParams& p = record_.opamp;
+    const double ios = std::min(p.ios_max_a.value_or(p.ib_max_a), p.ib_max_a);
+    for (std::size_t i = 0; i < n; ++i) {
+      PieceFigures f;
+      f.opamp = opamp_nominal(p);
+      const double slow = u01(rng);  // one process: 0 typical, 1 at the minima
+      auto between = [&](double typ, double low) {
+        return std::exp(std::log(typ) + slow * (std::log(low) - std::log(typ)));
+      };
+      f.opamp.gbw_hz = between(p.gbw_hz.typ, p.gbw_low_hz());
+      f.opamp.slew_v_per_s = between(p.slew_v_per_s.typ, p.slew_low_v_per_s());
+      f.opamp.aol = between(p.aol.typ, p.aol_low());
+      if (f.opamp.pole2_hz > 0) f.opamp.pole2_hz *= f.opamp.gbw_hz / p.gbw_hz.typ;
+      f.opamp.vos_v = p.vos_max_v * (2 * u01(rng) - 1);
+      const double ib = p.ib_max_a * (2 * u01(rng) - 1);
+      const double apart = ios * (2 * u01(rng) - 1);
+      f.opamp.ib_plus_a = std::clamp(ib + 0.5 * apart, -p.ib_max_a, p.ib_max_a);
+      f.opamp.ib_minus_a = std::clamp(ib - 0.5 * apart, -p.ib_max_a, p.ib_max_a);
+      f.tag = fmt::format("MC {}", i + 1);
+      out.push_back(std::move(f));
+    }
+    return out;
+  }
   if (is_jfet(record_.kind)) {
     const double inf = std::numeric_limits<double>::infinity();
     // Finite sampling range for BETA: the band, or (measured piece) what the box allows.
@@ -249,22 +308,20 @@ std::vector<PieceFigures> DeviceSpread::samples(std::size_t n, std::uint64_t see
         // Degenerate polygon: fall back to points between the nominal and a corner.
         const PieceFigures& c = corners_[out.size() % corners_.size()];
         const double t = u01(rng);
-        PieceFigures f{std::exp((1 - t) * std::log(nominal_.idss_a) + t * std::log(c.idss_a)),
-                       std::exp((1 - t) * std::log(nominal_.vp_abs_v) + t * std::log(c.vp_abs_v)),
-                       0,
-                       {}};
+        PieceFigures f{.idss_a = std::exp((1 - t) * std::log(nominal_.idss_a) + t * std::log(c.idss_a)),
+                       .vp_abs_v = std::exp((1 - t) * std::log(nominal_.vp_abs_v) + t * std::log(c.vp_abs_v))};
         f.tag = fmt::format("MC {}", out.size() + 1);
         out.push_back(f);
         continue;
       }
       if (y < y_lo_ || y > y_hi_) continue;
-      PieceFigures f{std::exp(y), std::exp(x), 0, fmt::format("MC {}", out.size() + 1)};
+      PieceFigures f{.idss_a = std::exp(y), .vp_abs_v = std::exp(x), .tag = fmt::format("MC {}", out.size() + 1)};
       out.push_back(f);
     }
   } else {
     const double lo = std::log(hfe_lo_), hi = std::log(hfe_hi_);
     for (std::size_t i = 0; i < n; ++i) {
-      PieceFigures f{0, 0, std::exp(lo + (hi - lo) * u01(rng)), fmt::format("MC {}", i + 1)};
+      PieceFigures f{.hfe = std::exp(lo + (hi - lo) * u01(rng)), .tag = fmt::format("MC {}", i + 1)};
       f.vbe_shift_v = vbe_spread_ * (2 * u01(rng) - 1);
       out.push_back(f);
     }
@@ -278,6 +335,10 @@ JfetInstance DeviceSpread::jfet(const PieceFigures& f, double celsius) const {
 
 BjtInstance DeviceSpread::bjt(const PieceFigures& f, double celsius) const {
   return bjt_at(record_.bjt, record_.kind, f.hfe, celsius, f.vbe_shift_v);
+}
+
+OpampInstance DeviceSpread::opamp(const PieceFigures& f, double celsius) const {
+  return opamp_at(f.opamp, record_.opamp, celsius);
 }
 
 }  // namespace shelfstage::devices

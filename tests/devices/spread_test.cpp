@@ -258,16 +258,55 @@ TEST_CASE("BJT hFE spread: corners at the datasheet ends, samples inside, measur
   CHECK_THROWS_AS(DeviceSpread{bad}, shelfstage::InputError);
 }
 
-TEST_CASE("An op-amp record has no transistor spread: refused by name, also with a piece") {
+// An op-amp's spread is its datasheet's limits (opamp.hpp): the same pieces the op-amp layer
+// gives, the Monte Carlo inside them, the temperature through opamp_at.
+TEST_CASE("An op-amp record's spread: its datasheet limits as corners, samples within them, a measured piece refused") {
   DeviceRecord r;
   r.name = "SA-210";
   r.kind = DeviceKind::opamp;
   r.opamp.channels = 2;
-  CHECK_THROWS_WITH_AS(DeviceSpread{r}, "device SA-210 is an op-amp: the transistor spread model does not apply",
-                       shelfstage::InputError);
+  r.opamp.vs_min_v = 10;
+  r.opamp.vs_max_v = 36;
+  r.opamp.gbw_hz = {1.1e6, 7e5};
+  r.opamp.slew_v_per_s = {5e5, 3e5};
+  r.opamp.aol = {2e5, 2.5e4};
+  r.opamp.pole2_hz = 2.5e6;
+  r.opamp.vos_max_v = 5e-3;
+  r.opamp.ib_max_a = 400e-9;
+  r.opamp.ios_max_a = 100e-9;
+  const DeviceSpread s(r);
+  CHECK(s.model_name() == "limits");
+  CHECK(s.nominal().opamp.gbw_hz == 1.1e6);
+  CHECK(s.nominal().opamp.vos_v == 0);
+  REQUIRE(s.corners().size() == 16);
+  const auto pieces = opamp_corners(r.opamp);
+  for (std::size_t i = 0; i < pieces.size(); ++i) {
+    CHECK(s.corners()[i].opamp.gbw_hz == pieces[i].figures.gbw_hz);
+    CHECK(s.corners()[i].opamp.vos_v == pieces[i].figures.vos_v);
+    CHECK(s.corners()[i].tag.find(pieces[i].tag) != std::string::npos);
+    CHECK(s.contains(s.corners()[i]));
+  }
+  // A slow piece's second pole sits lower with its GBW (one process).
+  CHECK(pieces.front().figures.pole2_hz == doctest::Approx(2.5e6 * 7e5 / 1.1e6));
+  // Samples inside the limits, reaching toward both ends of the offset.
+  double vos_lo = 0, vos_hi = 0;
+  for (const auto& f : s.samples(400, 7)) {
+    CHECK(s.contains(f));
+    vos_lo = std::min(vos_lo, f.opamp.vos_v);
+    vos_hi = std::max(vos_hi, f.opamp.vos_v);
+    CHECK(std::abs(f.opamp.ib_plus_a - f.opamp.ib_minus_a) <= 100e-9 * (1 + 1e-9));
+  }
+  CHECK(vos_lo < -4e-3);
+  CHECK(vos_hi > 4e-3);
+  PieceFigures beyond = s.nominal();
+  beyond.opamp.vos_v = 6e-3;
+  CHECK_FALSE(s.contains(beyond));
+  // A bipolar input's bias current is the same hot; the instance is the piece's.
+  CHECK(s.opamp(s.corners()[0], 70.0).ib_plus_a == s.corners()[0].opamp.ib_plus_a);
   MeasuredPiece piece;
   piece.label = "U1";
   piece.device = r.name;
   piece.hfe = 100;
-  CHECK_THROWS_AS(DeviceSpread(r, piece), shelfstage::InputError);
+  CHECK_THROWS_WITH_AS(DeviceSpread(r, piece), "device SA-210 is an op-amp: a measured piece is a transistor's",
+                       shelfstage::InputError);
 }

@@ -24,6 +24,7 @@ struct OpampInstance {
   double cm_drop_hi_v = 0, cm_drop_lo_v = 0;
   double en_v_rthz = 0, in_a_rthz = 0;  ///< noise densities (0: not stated)
   double iq_a = 0;                      ///< supply current (0: not stated)
+  double vs_min_v = 0, vs_max_v = 0;    ///< operating supply span (the record's; 0: not stated)
   /// The open-loop gain's dominant pole, GBW / Aol.
   double pole1_hz() const { return aol > 0 ? gbw_hz / aol : 0.0; }
 };

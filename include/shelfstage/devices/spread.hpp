@@ -9,6 +9,7 @@
 #include <vector>
 
 #include "shelfstage/devices/models.hpp"
+#include "shelfstage/devices/opamp.hpp"
 #include "shelfstage/devices/record.hpp"
 
 namespace shelfstage::devices {
@@ -18,8 +19,9 @@ struct PieceFigures {
   double idss_a = 0;       ///< JFET
   double vp_abs_v = 0;     ///< JFET |VP|
   double hfe = 0;          ///< BJT
-  std::string tag;         ///< "nominal", "corner 2 (IDSS 1 mA, |VP| 0.5 V)", "MC 17", ...
+  std::string tag{};       ///< "nominal", "corner 2 (IDSS 1 mA, |VP| 0.5 V)", "MC 17", ...
   double vbe_shift_v = 0;  ///< BJT: the piece's VBE above the type's at one current
+  OpampInstance opamp{};   ///< op-amp: the piece's figures at 25 °C (opamp.hpp)
 };
 
 /// Which JFET pieces a worst case covers (every output names the one it used).
@@ -61,6 +63,11 @@ bool parse_spread_model(std::string_view text, SpreadModel& out);
 /// BJT: hFE over [min, max] (typical or geometric mean as nominal) crossed with VBE shifted by
 /// +/- BjtParams::vbe_spread_v (IS scaled by exp(-+shift/VT)): four corners; a measured piece,
 /// hFE +/- its uncertainty with the same VBE spread.
+/// Op-amp: the datasheet's limits (opamp_corners: 16 pieces); the Monte Carlo draws one
+/// process figure between the minimum and typical GBW, slew rate and open-loop gain (a slow
+/// piece is slow in all three), the offset uniform within +/- its maximum and each bias
+/// current uniform within +/- its maximum, the two inputs apart by at most the offset current.
+/// The JFET model options do not apply; a measured op-amp piece is refused.
 struct SpreadOptions {
   SpreadModel model = SpreadModel::correlated;
   double band_margin = 1.25;  ///< correlated: factor beyond the diagonal pieces' BETAs, each way
@@ -68,9 +75,10 @@ struct SpreadOptions {
 
 class DeviceSpread {
  public:
-  /// The spread of a stocked transistor type (an op-amp is refused: InputError naming it).
+  /// The spread of a stocked transistor or op-amp type.
   explicit DeviceSpread(const DeviceRecord& record, SpreadOptions options = {});
-  /// The spread of one measured piece of that type.
+  /// The spread of one measured piece of that type (transistors only: an op-amp is refused,
+  /// InputError naming it).
   DeviceSpread(const DeviceRecord& record, const MeasuredPiece& piece);
 
   const DeviceRecord& record() const { return record_; }
@@ -94,11 +102,13 @@ class DeviceSpread {
   /// Instances at a temperature.
   JfetInstance jfet(const PieceFigures& f, double celsius = kNominalCelsius) const;
   BjtInstance bjt(const PieceFigures& f, double celsius = kNominalCelsius) const;
+  OpampInstance opamp(const PieceFigures& f, double celsius = kNominalCelsius) const;
 
  private:
   void build_jfet(double vp_lo, double vp_hi, double id_lo, double id_hi, std::optional<double> beta_lo,
                   std::optional<double> beta_hi, double beta_nom, double vp_nom);
   void build_bjt(double hfe_lo, double hfe_hi, double hfe_nom);
+  void build_opamp();
   DeviceRecord record_;
   bool measured_ = false;
   SpreadModel model_ = SpreadModel::correlated;
