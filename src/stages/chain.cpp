@@ -33,6 +33,9 @@ double output_dc(const Topology& t, const Performance& p) {
 }
 
 std::string chain_designator(std::size_t stage, std::string_view designator) {
+  // A device model's element ("U1.G1") goes with its device: "U101.G1".
+  if (const std::size_t dot = designator.find('.'); dot != std::string_view::npos)
+    return chain_designator(stage, designator.substr(0, dot)) + std::string(designator.substr(dot));
   std::size_t digits = designator.size();
   while (digits > 0 && std::isdigit(static_cast<unsigned char>(designator[digits - 1]))) --digits;
   const std::string letters(designator.substr(0, digits));

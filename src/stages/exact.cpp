@@ -11,6 +11,7 @@
 #include <span>
 
 #include "distortion.hpp"
+#include "opamp_model.hpp"
 #include "shelfstage/error.hpp"
 
 namespace shelfstage::stages {
@@ -33,8 +34,23 @@ struct SweepPoint {
   bool edge = false;  // the device has left its linear region
 };
 
+bool is_opamp(const Transistor& q) { return q.kind == devices::DeviceKind::opamp; }
+
+// An op-amp has left its linear region: its output clamped, or an input outside the
+// common-mode range its record states.
+bool opamp_edge(const OperatingPoint& op, const detail::OpampModelAt& m, const devices::OpampInstance& a) {
+  if (detail::clamp_current(op, m) > detail::kClampOnsetA) return true;
+  const double vp = op.node_v[m.v_pos], vn = op.node_v[m.v_neg];
+  for (const std::size_t pin : {m.plus, m.minus}) {
+    const double v = op.node_v[pin];
+    if (v > vp - a.cm_drop_hi_v || v < vn + a.cm_drop_lo_v) return true;
+  }
+  return false;
+}
+
 // One input level of the quasi-static sweep: the output, and whether any device has left its
-// linear region (devices in element order, as the solver reports them).
+// linear region (transistors in element order, as the solver reports them; op-amps in the
+// order of their models).
 SweepPoint sweep_at(Circuit& h, std::span<const Transistor> qs, double x, const std::vector<double>& ic0,
                     const circuit::SolverOptions& so) {
   h.set_value("VSIG", x);
@@ -47,8 +63,17 @@ SweepPoint sweep_at(Circuit& h, std::span<const Transistor> qs, double x, const 
     return s;
   }
   s.out_v = op.v(h, std::string(kNetOut));
-  for (std::size_t i = 0; i < op.devices.size() && i < qs.size(); ++i) {
-    const circuit::DeviceOp& d = op.devices[i];
+  std::size_t dev = 0, amp = 0;
+  std::vector<detail::OpampModelAt> models;
+  for (std::size_t i = 0; i < qs.size(); ++i) {
+    if (is_opamp(qs[i])) {
+      if (models.empty()) models = detail::opamp_models(h);
+      if (amp < models.size()) s.edge = s.edge || opamp_edge(op, models[amp], qs[i].opamp);
+      ++amp;
+      continue;
+    }
+    if (dev >= op.devices.size()) break;
+    const circuit::DeviceOp& d = op.devices[dev++];
     if (devices::is_jfet(qs[i].kind))
       s.edge = s.edge || d.jfet_region != devices::JfetRegion::saturation || d.v_ctrl_v > 0.0;
     else
@@ -153,18 +178,36 @@ Band band_edges(const Circuit& net, const OperatingPoint& op, double mid) {
 }
 
 // The bias figures from the operating point: validity and the linear region for every device,
-// the first device's currents and voltages; returns each device's bias current (|IC| or |ID|).
+// the first device's currents and voltages; returns each device's bias current (|IC| or |ID|;
+// an op-amp's supply current).
 std::vector<double> read_bias(const Circuit& net, const OperatingPoint& op, std::span<const Transistor> qs,
                               Performance& p) {
-  const Element* dev = nullptr;
+  const std::vector<detail::OpampModelAt> models = detail::opamp_models(net);
+  std::vector<const Element*> transistors;
   for (const auto& el : net.elements())
-    if (!dev && (el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt)) dev = &el;
-  const circuit::DeviceOp& d = op.devices.front();
+    if (el.c.kind == ElementKind::jfet || el.c.kind == ElementKind::bjt) transistors.push_back(&el);
   p.valid = true;
   p.active = true;
   std::vector<double> ic0;
+  std::size_t dev = 0, amp = 0;
   for (std::size_t i = 0; i < qs.size(); ++i) {
-    const circuit::DeviceOp& di = op.devices[i];
+    if (is_opamp(qs[i])) {
+      const detail::OpampModelAt& m = models.at(amp++);
+      ic0.push_back(qs[i].opamp.iq_a);
+      if (opamp_edge(op, m, qs[i].opamp)) {
+        p.active = false;
+        if (p.problem.empty()) p.problem = m.designator + ": output clamped or inputs outside their range";
+      }
+      if (i == 0) {
+        p.bias_current_a = qs[i].opamp.iq_a;
+        p.v_out = op.node_v[m.out];
+        p.v_in = op.node_v[m.plus];
+        p.v_common = op.node_v[m.minus];
+      }
+      continue;
+    }
+    const circuit::DeviceOp& di = op.devices.at(dev);
+    const Element* el = transistors.at(dev++);
     ic0.push_back(std::abs(di.i_main_a));
     if (!(std::abs(di.i_main_a) > 1e-9)) {
       p.valid = false;
@@ -174,11 +217,13 @@ std::vector<double> read_bias(const Circuit& net, const OperatingPoint& op, std:
       p.active = p.active && di.jfet_region == devices::JfetRegion::saturation && di.v_ctrl_v <= 0.0;
     else
       p.active = p.active && di.v_main_v > qs[i].bjt.vce_sat_v;
+    if (i == 0) {
+      p.bias_current_a = std::abs(di.i_main_a);
+      p.v_out = op.node_v[el->c.pins[0]];
+      p.v_in = op.node_v[el->c.pins[1]];
+      p.v_common = op.node_v[el->c.pins[2]];
+    }
   }
-  p.bias_current_a = std::abs(d.i_main_a);
-  p.v_out = op.node_v[dev->c.pins[0]];
-  p.v_in = op.node_v[dev->c.pins[1]];
-  p.v_common = op.node_v[dev->c.pins[2]];
   p.supply_current_a = std::abs(op.source_i.front());
   return ic0;
 }
@@ -308,10 +353,12 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
   circuit::SolverOptions so;
   so.celsius = c.celsius;
   const OperatingPoint op = circuit::solve_dc(net, so);
-  if (op.devices.size() != qs.size())
-    throw InputError(
-        fmt::format("evaluate_circuit: {} transistors given for {} in the circuit", qs.size(), op.devices.size()));
-  const double k = devices::polarity(qs.front().kind);
+  const auto transistors =
+      static_cast<std::size_t>(std::count_if(qs.begin(), qs.end(), [](const Transistor& q) { return !is_opamp(q); }));
+  if (op.devices.size() != transistors || detail::opamp_models(net).size() != qs.size() - transistors)
+    throw InputError(fmt::format("evaluate_circuit: {} devices given for {} transistors and {} op-amps in the circuit",
+                                 qs.size(), op.devices.size(), detail::opamp_models(net).size()));
+  const double k = is_opamp(qs.front()) ? 1.0 : devices::polarity(qs.front().kind);
   const std::vector<double> ic0 = read_bias(net, op, qs, p);
 
   const MidBand mb = mid_band(net, op, so, c.load_ohm);

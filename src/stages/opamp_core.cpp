@@ -36,10 +36,48 @@ std::complex<double> open_loop(const devices::OpampInstance& q, double w) {
   return a;
 }
 
+double output_ohm(const devices::OpampInstance& q) { return std::max(q.out_drop_ohm, 1e-3); }
+
+std::complex<double> loop_gain(const OpampCircuit& s, const devices::OpampInstance& q, double w) {
+  using cd = std::complex<double>;
+  const OpampLoop l = opamp_loop(s);
+  // What the output pin drives: the load, its capacitance, and the feedback network.
+  cd y = s.load_ohm > 0 ? 1.0 / s.load_ohm : 0.0;
+  y += cd(0.0, w * s.load_farads);
+  const double r_fb = s.wiring == OpampWiring::inverting ? s.rf : (s.rg > 0 ? s.rf + s.rg : 0.0);
+  if (r_fb > 0) y += 1.0 / r_fb;
+  const cd divider = 1.0 / (1.0 + output_ohm(q) * y);
+  return open_loop(q, w) * divider * l.beta;
+}
+
 std::complex<double> closed_loop(const OpampCircuit& s, const devices::OpampInstance& q, double w) {
   const OpampLoop l = opamp_loop(s);
-  const std::complex<double> t = open_loop(q, w) * l.beta;
+  const std::complex<double> t = loop_gain(s, q, w);
   return l.ideal_gain * t / (1.0 + t);
+}
+
+OpampMargin opamp_margin(const OpampCircuit& s, const devices::OpampInstance& q) {
+  const double two_pi = 2 * std::numbers::pi;
+  auto mag = [&](double f) { return std::abs(loop_gain(s, q, two_pi * f)); };
+  OpampMargin m;
+  if (mag(1e-3) <= 1.0) return m;
+  // |T| falls monotonically for these networks: bisection in log f between a point above
+  // one and a point below.
+  double lo = 1e-3, hi = std::max(1.0, q.gbw_hz);
+  while (hi < 1e13 && mag(hi) > 1.0) hi *= 10.0;
+  if (hi >= 1e13) return m;
+  for (int i = 0; i < 60; ++i) {
+    const double mid = std::sqrt(lo * hi);
+    (mag(mid) > 1.0 ? lo : hi) = mid;
+  }
+  m.f_cross_hz = std::sqrt(lo * hi);
+  // The phase unwrapped, pole by pole (each lags 0..90 degrees; the output divider too).
+  const double w = two_pi * m.f_cross_hz;
+  double phase = -std::atan(w / (two_pi * q.pole1_hz()));
+  if (q.pole2_hz > 0) phase -= std::atan(w / (two_pi * q.pole2_hz));
+  phase += std::arg(loop_gain(s, q, w) / open_loop(q, w));
+  m.margin_deg = 180.0 + phase * 180.0 / std::numbers::pi;
+  return m;
 }
 
 double closed_loop_f_high(const OpampCircuit& s, const devices::OpampInstance& q) {

@@ -30,6 +30,9 @@ struct OpampCircuit {
   /// unity gain at DC): the DC error sees a noise gain of one.
   bool rg_ac_coupled = false;
   double load_ohm = 10e3;
+  /// Capacitance across the load (a cable) at the output pin, with the output's own
+  /// resistance (OpampInstance::out_drop_ohm) a pole inside the loop.
+  double load_farads = 0;
   double v_pos = 6, v_neg = -6;  ///< the rails, volts, relative to the stage's reference
   double v_ref = 0;              ///< the reference the signal rides on (0 split; mid-rail single)
 };
@@ -44,8 +47,21 @@ OpampLoop opamp_loop(const OpampCircuit& s);
 
 /// The open-loop gain at angular frequency w: Aol / ((1 + j w/w1)(1 + j w/w2)), w1 = GBW/Aol.
 std::complex<double> open_loop(const devices::OpampInstance& q, double w);
-/// The closed-loop gain at w (0: DC): ideal gain x A beta / (1 + A beta).
+/// The output resistance the stage's model puts behind the amplifier (the record's extra drop
+/// per ampere, which is what its swing falls by under load; a milliohm floor when none).
+double output_ohm(const devices::OpampInstance& q);
+/// The loop gain at w: A(w) beta, times the divider the output resistance makes with what
+/// the output drives (the load, its capacitance, and the feedback network: RF + RG for the
+/// non-inverting stage, RF for the inverting one, whose - input is a virtual ground).
+std::complex<double> loop_gain(const OpampCircuit& s, const devices::OpampInstance& q, double w);
+/// The closed-loop gain at w (0: DC): ideal gain x T / (1 + T), T = loop_gain.
 std::complex<double> closed_loop(const OpampCircuit& s, const devices::OpampInstance& q, double w);
+/// The loop's unity-gain crossover (hertz) and its phase margin there (degrees, 180 + arg T);
+/// {0, 180} when |T| never reaches one.
+struct OpampMargin {
+  double f_cross_hz = 0, margin_deg = 180;
+};
+OpampMargin opamp_margin(const OpampCircuit& s, const devices::OpampInstance& q);
 /// Where |closed_loop| falls 3 dB below its DC value, hertz (bisection in log f from the
 /// one-pole estimate GBW beta).
 double closed_loop_f_high(const OpampCircuit& s, const devices::OpampInstance& q);

@@ -15,11 +15,19 @@ const Topology& bjt_ce_shunt();
 const Topology& bjt_fb_pair();
 const Topology& jfet_fb_pair();
 const Topology& bjt_fb_pair_same();
+const Topology& opamp_noninv();
+const Topology& opamp_inv();
+const Topology& opamp_buffer();
+const Topology& opamp_noninv_split();
+const Topology& opamp_inv_split();
+const Topology& opamp_buffer_split();
 
 std::span<const Topology* const> registry() {
   static const std::array all = {
-      &jfet_cs_self(),       &jfet_cs_divider(), &jfet_follower(), &bjt_ce_divider(), &bjt_follower(),
-      &jfet_boot_follower(), &bjt_ce_shunt(),    &bjt_fb_pair(),   &jfet_fb_pair(),   &bjt_fb_pair_same(),
+      &jfet_cs_self(), &jfet_cs_divider(),    &jfet_follower(),   &bjt_ce_divider(),
+      &bjt_follower(), &jfet_boot_follower(), &bjt_ce_shunt(),    &bjt_fb_pair(),
+      &jfet_fb_pair(), &bjt_fb_pair_same(),   &opamp_noninv(),    &opamp_inv(),
+      &opamp_buffer(), &opamp_noninv_split(), &opamp_inv_split(), &opamp_buffer_split(),
   };
   return all;
 }

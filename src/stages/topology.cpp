@@ -16,7 +16,7 @@ bool is_bench_net(std::string_view net) { return net == kNetSignal || net == kNe
 Rail rail_of(const Transistor& q, const Conditions& c) {
   Rail r;
   r.sign = c.negative_rail ? -1.0 : 1.0;
-  r.pol = devices::polarity(q.kind);
+  r.pol = q.kind == devices::DeviceKind::opamp ? 1.0 : devices::polarity(q.kind);
   r.flipped = r.sign != r.pol;
   r.offset_v = r.flipped ? r.sign * c.supply_v : 0.0;
   return r;
@@ -45,6 +45,8 @@ bool Topology::accepts_second(devices::DeviceKind first, devices::DeviceKind sec
   return false;
 }
 
+std::string_view Topology::device_designator() const { return accepts(devices::DeviceKind::opamp) ? "U1" : "Q1"; }
+
 std::string_view Rail::net(std::string_view n) const {
   if (!flipped) return n;
   if (n == "0") return kNetSupply;
@@ -71,6 +73,11 @@ std::string Topology::net_words(std::string_view net) const {
   if (net == kNetIn) return "input side";
   if (net == kNetOut) return "output side";
   if (const InnerNet* n = inner_net(net)) return std::string(n->words);
+  if (accepts(devices::DeviceKind::opamp)) {  // the op-amp's pins
+    if (net == node_names()[0]) return "op-amp output";
+    if (net == node_names()[1]) return "op-amp + input";
+    if (net == node_names()[2]) return "op-amp - input";
+  }
   return std::string(net);
 }
 

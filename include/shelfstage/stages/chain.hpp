@@ -38,7 +38,8 @@ double output_dc(const Topology& t, const Performance& p);
 
 /// The designator a stage's part carries in a chain: stage index (from 0) k and the stage's
 /// own designator "R3" give "R" + (100 (k + 1) + 3), i.e. "R103", "R203", "Q101" (common
-/// practice on multi-stage boards: the hundreds say which stage a part belongs to).
+/// practice on multi-stage boards: the hundreds say which stage a part belongs to); an
+/// element of a device's model goes with its device: "U1.G1" gives "U101.G1".
 std::string chain_designator(std::size_t stage, std::string_view designator);
 
 /// The net a stage's own net becomes in the chain: "in" of the first stage stays "in"; "out"

@@ -12,6 +12,7 @@
 
 #include "shelfstage/circuit/netlist.hpp"
 #include "shelfstage/devices/models.hpp"
+#include "shelfstage/devices/opamp.hpp"
 
 namespace shelfstage::stages {
 
@@ -88,12 +89,14 @@ struct Values {
   double operator[](std::size_t i) const { return v[i]; }
 };
 
-/// The transistor piece a stage is evaluated with (one of the two instances is used). A stage
-/// with two devices (a feedback pair) also carries its second transistor, always bipolar: Q2.
+/// The device piece a stage is evaluated with (one of the instances is used, as `kind` says:
+/// a JFET, a BJT or an op-amp channel). A stage with two devices (a feedback pair) also
+/// carries its second transistor, always bipolar: Q2.
 struct Transistor {
   devices::DeviceKind kind = devices::DeviceKind::njfet;
   devices::JfetInstance jfet;
   devices::BjtInstance bjt;
+  devices::OpampInstance opamp;
   bool paired = false;        ///< a second device (Q2) is given
   devices::BjtInstance bjt2;  ///< Q2 (its kind says NPN or PNP)
   /// Q2 alone, as a one-device Transistor (the exact solver takes a list of those).
@@ -101,6 +104,10 @@ struct Transistor {
 };
 /// The devices of a stage as the exact solver lists them: Q1, then Q2 when paired.
 std::vector<Transistor> transistors_of(const Transistor& q);
+
+/// Which supply a topology is built for: one rail and ground (every transistor stage, and the
+/// op-amp stages biased at mid-rail), or a split supply (op-amp stages referred to ground).
+enum class SupplyForm { single, split };
 
 /// Which second device a topology takes: none, one of the opposite polarity to Q1 (the
 /// complementary pair: NPN then PNP, or N-channel then PNP), or one of the same polarity.
@@ -112,6 +119,9 @@ struct Conditions {
   /// The supply as the user wired it: false for a positive rail (ground at the battery's -
   /// terminal), true for a negative one (ground at its + terminal). See Rail.
   bool negative_rail = false;
+  /// A split supply: rails at +supply_v and -supply_v with ground between (op-amp stages
+  /// built for it take both; every other stage takes the + rail and ground alone).
+  bool split_supply = false;
   double load_ohm = 10e3;
   double load_farads = 0;  ///< capacitance across the load (a cable, the next stage's input)
   double source_ohm = 0;
@@ -127,6 +137,9 @@ struct Conditions {
   /// swing_peak_v). Off, the search's passes that need only the gain or the clipping point
   /// skip it: swing_peak_v and clip_peak_v are then both the clipping point, thd 0.
   bool distortion = true;
+  /// The least phase margin a stage whose closed form checks its own loop (an op-amp
+  /// stage) may have, degrees (synth::Spec::least_margin_deg).
+  double least_margin_deg = 45.0;
 };
 
 /// DC across a capacitor, or power in a resistor, for rating checks.
@@ -247,10 +260,13 @@ inline constexpr std::string_view kRoleLoadCapacitance = "load capacitance";
 /// The role of a compensation capacitor across a feedback resistor (a pair's CF): small, it
 /// acts only above the band, so mid-band figures take it open, as a device's capacitance.
 inline constexpr std::string_view kRoleCompensation = "CF";
-/// Whether a capacitor in this role is open at mid-band (the load capacitance, CF) rather
-/// than a coupling or bypass capacitor's short.
+/// The role of the elements of a device's model in a netlist (an op-amp's macro-model): no
+/// part of the stage's, never a part to pick, its capacitors a device's (open at mid-band).
+inline constexpr std::string_view kRoleDeviceModel = "device model";
+/// Whether a capacitor in this role is open at mid-band (the load capacitance, CF, a device
+/// model's) rather than a coupling or bypass capacitor's short.
 inline bool open_at_mid_band(std::string_view role) {
-  return role == kRoleLoadCapacitance || role == kRoleCompensation;
+  return role == kRoleLoadCapacitance || role == kRoleCompensation || role == kRoleDeviceModel;
 }
 
 /// What a topology's design equations may ask of the synthesizer: which values the shelf
@@ -306,6 +322,11 @@ class Topology {
   /// asked for by name (a stage whose design equations seldom hold over a datasheet's spread,
   /// kept out of the default search so that it costs nothing there).
   virtual bool searched_by_default() const { return true; }
+  /// The supply it needs: a single rail (the default; on a split supply such a stage uses the
+  /// + rail and ground), or a split one (offered only when the request gives one).
+  virtual SupplyForm supply_form() const { return SupplyForm::single; }
+  /// The designator of its device on the schematic and the pick list: Q1, or U1 for an op-amp.
+  std::string_view device_designator() const;
   /// Whether a bipolar type of kind `second` may be Q2 beside a Q1 of kind `first`.
   bool accepts_second(devices::DeviceKind first, devices::DeviceKind second) const;
   virtual std::span<const Role> roles() const = 0;
