@@ -57,6 +57,9 @@ void bind_design_options(CLI::App& cmd, DesignOptions& o) {
                  "Supply voltage, or its range over a battery's life (9, 7..9.6); negative for a negative rail "
                  "(-9, -7..-9.6: ground at the battery's + terminal)")
       ->required();
+  cmd.add_flag("--split", o.split,
+               "The supply is split: rails at +V and -V with ground between (--supply 15 --split for +/-15 V); "
+               "op-amp stages referred to ground are offered, and single-rail stages take the + rail");
   cmd.add_option("--zin", o.zin, "Lowest acceptable input impedance (1M, 100k; 0 for none)")->required();
   cmd.add_option("--load-cap", o.load_cap, "Capacitance across the load, e.g. a cable's (470p); default none");
   cmd.add_option("--source-z", o.source_z, "Output resistance of the source driving the stage (default 0)");
@@ -109,6 +112,9 @@ synth::Spec spec_from_options(const DesignOptions& o) {
   s.supply_lo_v = supply.lo_v;
   s.supply_hi_v = supply.hi_v;
   s.negative_rail = supply.negative;
+  if (o.split && supply.negative)
+    throw InputError(fmt::format("--supply '{}' with --split: give the rails' magnitude (15 for +/-15 V)", o.supply));
+  s.split_supply = o.split;
   s.zin_min_ohm = parse_quantity("--zin", o.zin, units::Unit::ohm);
   if (!(s.zin_min_ohm >= 0)) throw InputError(fmt::format("--zin '{}' must be zero or positive", o.zin));
   s.source_ohm = parse_quantity("--source-z", o.source_z, units::Unit::ohm);

@@ -30,6 +30,7 @@ struct DesignOptions {
   std::optional<std::string> phase_margin;  ///< --phase-margin: a feedback loop's least margin, degrees
   std::string prefer = "accuracy";          ///< --prefer: accuracy or distortion
   bool no_save = false;
+  bool split = false;  ///< --split: the supply is +V and -V with ground between
 };
 
 /// Binds the design options to a (sub)command.

@@ -67,6 +67,7 @@ Json spec_json(const synth::Spec& s) {
   else
     j["supply"] = Json::array({s.supply_lo_v, s.supply_hi_v});
   j["rail"] = rail_words(s);
+  j["split"] = s.split_supply;
   j["spread"] = std::string(devices::spread_model_name(s.spread));
   j["zin"] = s.zin_min_ohm;
   j["source_z"] = s.source_ohm;
@@ -103,6 +104,7 @@ synth::Spec spec_from_json(const nlohmann::json& j) {
       s.supply_lo_v = s.supply_hi_v = j["supply"].get<double>();
     }
     s.negative_rail = s.supply_lo_v < 0 || s.supply_hi_v < 0;
+    s.split_supply = j.contains("split") && j["split"].is_boolean() && j["split"].get<bool>();
     const double a = std::abs(s.supply_lo_v), b = std::abs(s.supply_hi_v);
     s.supply_lo_v = std::min(a, b);
     s.supply_hi_v = std::max(a, b);

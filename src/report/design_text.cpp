@@ -40,6 +40,12 @@ std::string fixed3(double v) {
 }
 
 std::string rail_words(const synth::Spec& s) {
+  if (s.split_supply) {
+    const std::string volts = s.supply_lo_v == s.supply_hi_v ? format_value(s.supply_lo_v, Unit::volt)
+                                                             : fmt::format("{}..{}", format_value(s.supply_lo_v),
+                                                                           format_value(s.supply_hi_v, Unit::volt));
+    return fmt::format("\u00b1{} split supply, ground between the rails", volts);
+  }
   // "+9V", "+7..9.6V", "-9V", "-7..-9.6V": each end signed on a negative rail, as typed.
   const std::string sign = s.negative_rail ? "-" : "+";
   const std::string volts = s.supply_lo_v == s.supply_hi_v

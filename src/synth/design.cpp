@@ -527,8 +527,6 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
         std::find_if(inv.devices.begin(), inv.devices.end(), [&](const auto& d) { return d.name == name; });
     if (named == inv.devices.end())
       throw InputError(fmt::format("device '{}' is not in the device list (see `shelfstage devices list`)", name));
-    if (!devices::is_transistor(named->kind))
-      throw InputError(fmt::format("device '{}' is an op-amp; the stages designed so far take transistors", name));
   }
   for (const auto& name : spec.topologies)
     if (!stages::find_topology(name)) {
@@ -551,9 +549,11 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
   std::vector<Job> jobs;
   for (const auto* t : stages::registry()) {
     if (!detail::topology_wanted(spec, *t)) continue;
+    // A split supply's stages only on a split supply; single-rail stages on either (on a
+    // split supply they take the + rail and ground).
+    if (t->supply_form() == stages::SupplyForm::split && !spec.split_supply) continue;
     for (const auto& d : inv.devices) {
-      // Op-amp types are not designed with yet: op-amp stages come with their own topologies.
-      if (!devices::is_transistor(d.kind) || !t->accepts(d.kind)) continue;
+      if (!t->accepts(d.kind)) continue;
       if (!spec.devices.empty() && std::find(spec.devices.begin(), spec.devices.end(), d.name) == spec.devices.end())
         continue;
       if (piece && piece->device != d.name) continue;
@@ -909,6 +909,7 @@ std::string candidate_id(const Candidate& c, int copies) {
   // The same parts on a negative rail are another build (the stage mirrored about ground,
   // every polarised part turned): another id; a positive rail's ids stay as they were.
   if (c.conditions.negative_rail) key += "|rail=-";
+  if (c.conditions.split_supply) key += "|rail=split";
   for (const auto& rp : c.parts) {
     key += "|" + rp.role + "=";
     for (std::size_t k = 0; k < rp.values.size(); ++k)

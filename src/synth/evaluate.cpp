@@ -35,6 +35,8 @@ stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
   stages::Conditions c;
   c.supply_v = supply;
   c.negative_rail = spec.negative_rail;
+  c.split_supply = spec.split_supply;
+  c.least_margin_deg = spec.least_margin_deg;
   c.load_ohm = spec.load_ohm;
   c.load_farads = spec.load_farads;
   c.source_ohm = spec.source_ohm;
@@ -271,7 +273,9 @@ double monte_carlo(const Candidate& c, const Spec& spec) {
 stages::Transistor make_transistor(const devices::DeviceSpread& s, const devices::PieceFigures& f, double celsius) {
   stages::Transistor q;
   q.kind = s.record().kind;
-  if (devices::is_jfet(q.kind))
+  if (q.kind == devices::DeviceKind::opamp)
+    q.opamp = s.opamp(f, celsius);
+  else if (devices::is_jfet(q.kind))
     q.jfet = s.jfet(f, celsius);
   else
     q.bjt = s.bjt(f, celsius);

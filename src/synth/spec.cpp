@@ -29,6 +29,8 @@ void validate(const Spec& s) {
   require(finite(s.supply_lo_v) && s.supply_lo_v > 0, "supply", s.supply_lo_v, "must be a positive voltage");
   require(finite(s.supply_hi_v) && s.supply_hi_v >= s.supply_lo_v, "supply", s.supply_hi_v,
           "range must run from low to high (e.g. 7..9.6)");
+  require(!(s.split_supply && s.negative_rail), "supply", -s.supply_lo_v,
+          "is negative with a split supply: give the rails' magnitude (15 for +/-15 V)");
   require(s.supply_hi_v <= 1000, "supply", s.supply_hi_v, "is far beyond small-signal stages (at most 1000 V)");
   require(finite(s.zin_min_ohm) && s.zin_min_ohm >= 0, "zin", s.zin_min_ohm, "must be zero or a positive resistance");
   require(finite(s.source_ohm) && s.source_ohm >= 0, "source-z", s.source_ohm, "must be zero or a positive resistance");

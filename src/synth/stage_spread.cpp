@@ -1,6 +1,8 @@
 // The pieces of a stage's one or two devices (stage_spread.hpp).
 #include "shelfstage/synth/stage_spread.hpp"
 
+#include "shelfstage/synth/design.hpp"
+
 #include <fmt/format.h>
 
 namespace shelfstage::synth {
@@ -51,11 +53,7 @@ std::string StageSpread::description() const {
 
 stages::Transistor make_transistor(const StageSpread& s, const StagePiece& p, double celsius) {
   stages::Transistor q;
-  q.kind = s.first().record().kind;
-  if (devices::is_jfet(q.kind))
-    q.jfet = s.first().jfet(p.first, celsius);
-  else
-    q.bjt = s.first().bjt(p.first, celsius);
+  q = make_transistor(s.first(), p.first, celsius);
   if (s.second() && p.second) {
     q.paired = true;
     q.bjt2 = s.second()->bjt(*p.second, celsius);

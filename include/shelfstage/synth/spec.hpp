@@ -20,6 +20,10 @@ struct Spec {
   /// A negative supply (`--supply -9`): ground at the battery's + terminal. Every stage is
   /// placed on the rail as stages::Rail says; node voltages come out negative.
   bool negative_rail = false;
+  /// A split supply (`--split`): rails at +supply and -supply with ground between. Op-amp
+  /// stages built for it (stages::SupplyForm::split) are offered beside every single-rail
+  /// stage, which takes the + rail and ground.
+  bool split_supply = false;
   /// Which JFET pieces the worst case and the Monte Carlo cover (DeviceSpread).
   devices::SpreadModel spread = devices::SpreadModel::correlated;
   double zin_min_ohm = 0;
