@@ -112,7 +112,7 @@ std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::P
                            std::size_t chain_stage = std::string::npos) {
   std::vector<Need> out;
   if (c.is_chain()) {
-    // Stage by stage, each with its own transistor (Q101, Q201 ...).
+    // Stage by stage, each with its own device (Q101, U201 ...).
     for (std::size_t k = 0; k < c.stages.size(); ++k)
       for (auto& n : needs_of(c.stages[k], stock, k)) out.push_back(std::move(n));
     return out;
@@ -236,8 +236,8 @@ void allocate_packages(const std::vector<Need>& needs, int copies, Pool& pool, c
     if (next == places.size()) continue;
     std::vector<std::string> left(places.begin() + static_cast<std::ptrdiff_t>(next), places.end());
     const int short_packages = devices::packages_for(*first.record, static_cast<int>(left.size()));
-    ShortItem s =
-        short_item(piece_of(first, stock), short_packages, number + short_packages, std::move(left), std::move(roles));
+    const int needed = devices::packages_for(*first.record, static_cast<int>(places.size()));
+    ShortItem s = short_item(piece_of(first, stock), short_packages, needed, std::move(left), std::move(roles));
     s.channels = per;
     out.packages_short.push_back(std::move(s));
   }
