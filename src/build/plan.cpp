@@ -58,34 +58,45 @@ struct Pool {
   }
 };
 
-/// Pieces one place takes from one line, before the lines are merged.
+/// Pieces one place takes from one line (or one op-amp package and the places its channels
+/// serve), before the lines are merged.
 struct Grant {
-  std::int64_t part_id;
-  bool from_held;
+  std::int64_t part_id = 0;
+  bool from_held = false;
   std::string designator;
+  // An op-amp package: its amplifiers (0: not a package), its number among its type's
+  // packages, the places it serves (channel A first).
+  int channels = 0;
+  int package = 0;
+  std::vector<std::string> places;
 };
 
 /// One piece of one role, needed `copies` times.
 struct Need {
   std::string role;
-  std::string base;  // designator of the role, "Q1" for the transistor
+  std::string base;  // designator of the role, "Q1" for the transistor, "U1" for an op-amp
   int piece = 0, piece_count = 1;
   store::PartKind kind = store::PartKind::resistor;
   double value = 0;
   std::string device;
-  std::vector<std::int64_t> lines;  // bin order
+  const devices::DeviceRecord* record = nullptr;  // a device's type (the candidate's)
+  std::vector<std::int64_t> lines;                // bin order
   // For a short item when none of the lines is left to describe it:
   std::optional<units::Tolerance> tol;
   double rating = 0;
   std::string dielectric;
 };
 
-/// A transistor: every line holding its device type, in bin order.
-Need transistor_need(const devices::DeviceRecord& device, const std::vector<store::Part>& stock,
-                     const std::string& designator) {
+/// An op-amp place: its channels are packed into packages (allocate_packages).
+bool packed(const Need& need) { return need.record != nullptr && devices::is_opamp(need.record->kind); }
+
+/// A device (transistor or op-amp): every line holding its device type, in bin order.
+Need device_need(const devices::DeviceRecord& device, const std::vector<store::Part>& stock,
+                 const std::string& designator) {
   Need q;
-  q.role = "Q";
+  q.role = devices::is_opamp(device.kind) ? "U" : "Q";
   q.base = designator;
+  q.record = &device;
   q.kind = store::part_kind(device.kind);
   q.device = device.name;
   std::vector<const store::Part*> holders;
@@ -101,7 +112,7 @@ std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::P
                            std::size_t chain_stage = std::string::npos) {
   std::vector<Need> out;
   if (c.is_chain()) {
-    // Stage by stage, each with its own transistor (Q101, Q201 ...).
+    // Stage by stage, each with its own device (Q101, U201 ...).
     for (std::size_t k = 0; k < c.stages.size(); ++k)
       for (auto& n : needs_of(c.stages[k], stock, k)) out.push_back(std::move(n));
     return out;
@@ -123,12 +134,12 @@ std::vector<Need> needs_of(const synth::Candidate& c, const std::vector<store::P
       out.push_back(std::move(need));
     }
   }
-  // One line per device: Q1, and a pair's Q2 (Q101, Q102 ... in a chain).
+  // One line per device: Q1 (an op-amp: U1), and a pair's Q2 (Q101, Q102, U201 ... in a chain).
   auto designator = [&](std::string_view q) {
     return chain_stage == std::string::npos ? std::string(q) : stages::chain_designator(chain_stage, q);
   };
-  out.push_back(transistor_need(c.device, stock, designator("Q1")));
-  if (c.device2) out.push_back(transistor_need(*c.device2, stock, designator("Q2")));
+  out.push_back(device_need(c.device, stock, designator(devices::device_designator(c.device.kind))));
+  if (c.device2) out.push_back(device_need(*c.device2, stock, designator("Q2")));
   return out;
 }
 
@@ -161,37 +172,98 @@ bool same_piece(const Piece& a, const Piece& b) {
 
 int kind_order(store::PartKind k) { return static_cast<int>(k); }
 
-/// What the allocation gave (one grant per piece and copy) and left (per need, the places).
+/// What the allocation gave (one grant per piece and copy, one per op-amp package) and left
+/// (per need, the places; op-amp types' short items in packages).
 struct Allocation {
   std::vector<Grant> grants;
   std::vector<std::pair<Need, std::vector<std::string>>> missing;
+  std::vector<ShortItem> packages_short;
 };
 
-Allocation allocate(const std::vector<Need>& needs, int copies, Pool& pool) {
+/// The next piece (or package) a need may take, the design's own held ones first, then the
+/// free ones, each in bin order: taken from the pool; nullopt when every line is empty.
+std::optional<std::pair<std::int64_t, bool>> take_one(const Need& need, Pool& pool) {
+  for (const bool use_held : {true, false}) {
+    for (const auto id : need.lines) {
+      Pool::Entry* e = pool.find(id);
+      if (e == nullptr) continue;
+      int& left_here = use_held ? e->held : e->free;
+      if (left_here <= 0) continue;
+      --left_here;
+      return std::make_pair(id, use_held);
+    }
+  }
+  return std::nullopt;
+}
+
+/// Every op-amp place of each type packed into whole packages (the counting rules in
+/// plan.hpp): places copy by copy, in stage order within a copy; a package is taken only
+/// when the one before is full.
+void allocate_packages(const std::vector<Need>& needs, int copies, Pool& pool, const std::vector<store::Part>& stock,
+                       Allocation& out) {
+  std::vector<bool> done(needs.size(), false);
+  for (std::size_t i = 0; i < needs.size(); ++i) {
+    if (!packed(needs[i]) || done[i]) continue;
+    const Need& first = needs[i];
+    std::vector<const Need*> type;  // every op-amp stage of this type, in stage order
+    for (std::size_t j = i; j < needs.size(); ++j)
+      if (packed(needs[j]) && iequal(needs[j].device, first.device)) {
+        type.push_back(&needs[j]);
+        done[j] = true;
+      }
+    std::vector<std::string> places, roles;
+    for (int copy = 1; copy <= copies; ++copy)
+      for (const Need* n : type) places.push_back(designator(n->base, 0, 1, copy, copies));
+    for (const Need* n : type)
+      if (std::find(roles.begin(), roles.end(), n->base) == roles.end()) roles.push_back(n->base);
+    const int per = devices::channel_units(*first.record, 1);
+    std::size_t next = 0;
+    int number = 0;
+    while (next < places.size()) {
+      const auto got = take_one(first, pool);
+      if (!got) break;
+      const std::size_t end = std::min(places.size(), next + static_cast<std::size_t>(per));
+      Grant g;
+      g.part_id = got->first;
+      g.from_held = got->second;
+      g.channels = per;
+      g.package = ++number;
+      g.places.assign(places.begin() + static_cast<std::ptrdiff_t>(next),
+                      places.begin() + static_cast<std::ptrdiff_t>(end));
+      out.grants.push_back(std::move(g));
+      next = end;
+    }
+    if (next == places.size()) continue;
+    std::vector<std::string> left(places.begin() + static_cast<std::ptrdiff_t>(next), places.end());
+    const int short_packages = devices::packages_for(*first.record, static_cast<int>(left.size()));
+    const int needed = devices::packages_for(*first.record, static_cast<int>(places.size()));
+    ShortItem s = short_item(piece_of(first, stock), short_packages, needed, std::move(left), std::move(roles));
+    s.channels = per;
+    out.packages_short.push_back(std::move(s));
+  }
+}
+
+Allocation allocate(const std::vector<Need>& needs, int copies, Pool& pool, const std::vector<store::Part>& stock) {
   Allocation out;
   for (const Need& need : needs) {
+    if (packed(need)) continue;  // below, all places of a type together
     std::vector<std::string> left;
     for (int copy = 1; copy <= copies; ++copy) {
       const std::string where = designator(need.base, need.piece, need.piece_count, copy, copies);
-      bool got = false;
       // The design's own held pieces first, then the free ones, each in bin order.
-      for (const bool use_held : {true, false}) {
-        for (const auto id : need.lines) {
-          Pool::Entry* e = pool.find(id);
-          if (e == nullptr) continue;
-          int& left_here = use_held ? e->held : e->free;
-          if (left_here <= 0) continue;
-          --left_here;
-          out.grants.push_back({id, use_held, where});
-          got = true;
-          break;
-        }
-        if (got) break;
+      if (const auto got = take_one(need, pool)) {
+        Grant g;
+        g.part_id = got->first;
+        g.from_held = got->second;
+        g.designator = where;
+        out.grants.push_back(std::move(g));
+      } else {
+        left.push_back(where);
       }
-      if (!got) left.push_back(where);
     }
     if (!left.empty()) out.missing.emplace_back(need, std::move(left));
   }
+  allocate_packages(needs, copies, pool, stock, out);
   return out;
 }
 
@@ -211,7 +283,13 @@ std::vector<PickLine> merge_grants(const std::vector<Grant>& grants, Pool& pool)
     }
     ++it->qty;
     if (g.from_held) ++it->from_reserved;
-    it->designators.push_back(g.designator);
+    if (g.channels > 0) {
+      it->channels = g.channels;
+      it->designators.insert(it->designators.end(), g.places.begin(), g.places.end());
+      it->packages.push_back({g.package, g.channels, g.places, g.from_held});
+    } else {
+      it->designators.push_back(g.designator);
+    }
   }
   std::stable_sort(lines.begin(), lines.end(), [](const PickLine& a, const PickLine& b) {
     if (a.bin != b.bin) return bin_less(a.bin, b.bin);
@@ -238,6 +316,8 @@ std::vector<ShortItem> short_items_of(const Allocation& a, int copies, const std
         if (std::find(it->roles.begin(), it->roles.end(), r) == it->roles.end()) it->roles.push_back(r);
     }
   }
+  // Op-amp types, in packages (never merged: one item per type already).
+  items.insert(items.end(), a.packages_short.begin(), a.packages_short.end());
   return items;
 }
 
@@ -281,6 +361,35 @@ std::string item_value_text(store::PartKind kind, double value, std::string_view
   return synth::compact_value(value, kind == store::PartKind::resistor);
 }
 
+char channel_letter(int k) { return static_cast<char>('A' + std::clamp(k, 0, 25)); }
+
+std::vector<PackageCount> package_counts(const Plan& p) {
+  std::vector<PackageCount> out;
+  auto count_of = [&](const std::string& device, int channels) -> PackageCount& {
+    const auto it =
+        std::find_if(out.begin(), out.end(), [&](const PackageCount& c) { return iequal(c.device, device); });
+    if (it != out.end()) return *it;
+    PackageCount c;
+    c.device = device;
+    c.channels = channels;
+    out.push_back(std::move(c));
+    return out.back();
+  };
+  for (const auto& l : p.lines) {
+    if (l.channels <= 0) continue;
+    PackageCount& c = count_of(l.device, l.channels);
+    c.packages += l.qty;
+    for (const auto& pk : l.packages) c.used += static_cast<int>(pk.places.size());
+  }
+  for (const auto& s : p.short_items) {
+    if (s.channels <= 0) continue;
+    PackageCount& c = count_of(s.device, s.channels);
+    c.short_packages += s.qty;
+    c.places_short += static_cast<int>(s.designators.size());
+  }
+  return out;
+}
+
 int Plan::pieces() const {
   int n = 0;
   for (const auto& l : lines) n += l.qty;
@@ -299,7 +408,7 @@ Plan plan_build(const synth::Candidate& c, int copies, const std::vector<store::
   if (c.piece) out.piece = c.piece->label;
   out.copies = copies;
   Pool pool(stock, held);
-  const Allocation a = allocate(needs_of(c, stock), copies, pool);
+  const Allocation a = allocate(needs_of(c, stock), copies, pool, stock);
   out.lines = merge_grants(a.grants, pool);
   out.short_items = short_items_of(a, copies, stock);
   return out;
@@ -310,7 +419,11 @@ std::string short_summary(const Plan& p) {
   for (const auto& s : p.short_items) {
     std::string what = item_value_text(s.kind, s.value, s.device);
     if (s.tol) what += " " + units::format_tolerance(*s.tol);
-    parts.push_back(fmt::format("{} {} ({} short)", fmt::join(s.roles, "/"), what, s.qty));
+    if (s.channels > 0)
+      parts.push_back(
+          fmt::format("{} {} ({} package{} short)", fmt::join(s.roles, "/"), what, s.qty, s.qty == 1 ? "" : "s"));
+    else
+      parts.push_back(fmt::format("{} {} ({} short)", fmt::join(s.roles, "/"), what, s.qty));
   }
   return fmt::format("{}", fmt::join(parts, ", "));
 }

@@ -1,8 +1,10 @@
-// Names of the device kinds, as the stock and device CSV files write them.
+// Names of the device kinds, as the stock and device CSV files write them, and how a type's stock
+// is counted (pieces of a transistor, packages of an op-amp).
 #include <algorithm>
 #include "shelfstage/devices/record.hpp"
 
 #include <array>
+#include <limits>
 
 namespace shelfstage::devices {
 
@@ -55,6 +57,22 @@ std::string with_article(DeviceKind kind) {
   const std::string_view name = kind_name(kind);
   return std::string(name.starts_with('N') ? "an " : "a ") + std::string(name);
 }
+
+int channel_units(const DeviceRecord& device, int packages) {
+  if (packages <= 0) return 0;
+  // A record holds 1, 2 or 4 (the store refuses anything else); a record made by hand with
+  // less than one counts as a single.
+  const long long per = is_opamp(device.kind) ? std::max(1, device.opamp.channels) : 1;
+  return static_cast<int>(std::min<long long>(std::numeric_limits<int>::max(), per * packages));
+}
+
+int packages_for(const DeviceRecord& device, int channels_used) {
+  if (channels_used <= 0) return 0;
+  const int per = is_opamp(device.kind) ? std::max(1, device.opamp.channels) : 1;
+  return channels_used / per + (channels_used % per != 0 ? 1 : 0);
+}
+
+std::string_view device_designator(DeviceKind kind) { return is_opamp(kind) ? "U1" : "Q1"; }
 
 double Ratings::p_max_at(double celsius) const {
   if (!p_max_w) return 0.0;

@@ -647,6 +647,13 @@ std::string pick_section(const ReportInput& in) {
                     rating, l.dielectric, fmt::format("{}", fmt::join(l.designators, " "))});
   }
   h += table({"bin", "#take", "value", "kind", "tol", "rating", "dielectric", "designators"}, rows);
+  if (const auto notes = package_notes(p); !notes.empty()) {
+    // Op-amp lines count packages; which package and channel each U place takes.
+    h += "<h3>Op-amp packages</h3><p>Each U place takes one amplifier (a channel) of a package; channel A is the "
+         "datasheet's amplifier 1.</p><ul>";
+    for (const auto& n : notes) h += "<li>" + esc(n.substr(n.find_first_not_of(' '))) + "</li>";
+    h += "</ul>";
+  }
   if (!p.assemblies.empty()) {
     h += "<h3>Combined values</h3><ul>";
     for (const auto& a : p.assemblies) h += "<li>" + esc(a.text) + "</li>";
@@ -660,7 +667,8 @@ std::string pick_section(const ReportInput& in) {
   if (!p.short_items.empty()) {
     h += "<h3 class=\"warn\">Short</h3><ul>";
     for (const auto& s : p.short_items)
-      h += fmt::format("<li>{} \u00d7 {} for {}</li>", s.qty, esc(build::item_value_text(s.kind, s.value, s.device)),
+      h += fmt::format("<li>{} \u00d7 {}{} for {}</li>", s.qty, esc(build::item_value_text(s.kind, s.value, s.device)),
+                       s.channels > 0 ? fmt::format(" (package{} of {})", s.qty == 1 ? "" : "s", s.channels) : "",
                        esc(fmt::format("{}", fmt::join(s.designators, " "))));
     h += "</ul>";
   }

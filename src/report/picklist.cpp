@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cctype>
 
 #include "shelfstage/report/design_json.hpp"
 #include "shelfstage/report/table.hpp"
@@ -36,6 +37,23 @@ std::string join_word(synth::Join j) {
   return "single";
 }
 
+bool same_name(std::string_view a, std::string_view b) {
+  return a.size() == b.size() && std::equal(a.begin(), a.end(), b.begin(), [](char x, char y) {
+           return std::tolower(static_cast<unsigned char>(x)) == std::tolower(static_cast<unsigned char>(y));
+         });
+}
+
+/// The kind of package an op-amp type comes in, as the trade says it.
+std::string package_word(int channels) {
+  switch (channels) {
+    case 1: return "single";
+    case 2: return "dual";
+    case 4: return "quad";
+    default: break;
+  }
+  return fmt::format("{}-channel", channels);
+}
+
 TableLayout indented() {
   TableLayout layout;
   layout.indent = "  ";
@@ -46,10 +64,11 @@ TableLayout indented() {
 
 std::string net_for_people(std::string_view net, const synth::Candidate& c, std::size_t stage_count) {
   if (c.is_chain()) return fmt::format("net {}", net);
-  // The transistor's designator: Q1, or Q101, Q201 ... in a chain's stage.
-  std::string q = "Q1";
+  // The device's designator: Q1 (an op-amp U1), or Q101, U201 ... in a chain's stage.
+  const std::string_view base = devices::device_designator(c.device.kind);
+  std::string q(base);
   if (!c.parts.empty() && c.parts.front().stage > 0)
-    q = stages::chain_designator(static_cast<std::size_t>(c.parts.front().stage - 1), "Q1");
+    q = stages::chain_designator(static_cast<std::size_t>(c.parts.front().stage - 1), base);
   const int stage = c.parts.empty() ? 0 : c.parts.front().stage;
   if (net == "0") return "ground";
   if (net == "in")
@@ -149,6 +168,20 @@ Json value_json(store::PartKind kind, double value, const std::string& device) {
 
 }  // namespace
 
+/// An op-amp line's packages: each with its channels and the places they serve.
+Json packages_json(const build::PickLine& l) {
+  Json out = Json::array();
+  for (const auto& pk : l.packages) {
+    Json channels = Json::array();
+    for (std::size_t k = 0; k < pk.places.size(); ++k)
+      channels.push_back(
+          {{"channel", std::string(1, build::channel_letter(static_cast<int>(k)))}, {"designator", pk.places[k]}});
+    out.push_back(
+        {{"number", pk.number}, {"channels", channels}, {"spare", pk.spare()}, {"from_reserved", pk.from_reserved}});
+  }
+  return out;
+}
+
 Json short_item_json(const build::ShortItem& s) {
   Json o;
   o["kind"] = kind_json(s.kind);
@@ -161,6 +194,7 @@ Json short_item_json(const build::ShortItem& s) {
   o["dielectric"] = text_or_null(s.dielectric);
   o["needed"] = s.needed;
   o["roles"] = s.roles;
+  if (s.channels > 0) o["channels"] = s.channels;  // an op-amp: qty and needed count packages
   return o;
 }
 
@@ -187,6 +221,10 @@ Json pick_json(const PickList& p) {
     o["rating"] = l.rating > 0 ? Json(l.rating) : Json(nullptr);
     o["dielectric"] = text_or_null(l.dielectric);
     o["from_reserved"] = l.from_reserved;
+    if (l.channels > 0) {  // an op-amp line: qty counts packages
+      o["channels"] = l.channels;
+      o["packages"] = packages_json(l);
+    }
     lines.push_back(o);
   }
   j["lines"] = lines;
@@ -213,6 +251,17 @@ Json pick_json(const PickList& p) {
                         {"text", pol.text}});
   j["polarity"] = polarity;
   j["rail"] = text_or_null(p.rail);
+  if (const auto counts = build::package_counts(p); !counts.empty()) {
+    Json opamps = Json::array();
+    for (const auto& c : counts)
+      opamps.push_back({{"device", c.device},
+                        {"channels", c.channels},
+                        {"packages", c.packages},
+                        {"channels_used", c.used},
+                        {"channels_spare", c.spare()},
+                        {"packages_short", c.short_packages}});
+    j["opamps"] = opamps;
+  }
   return j;
 }
 
@@ -258,10 +307,22 @@ std::string pick_text(const PickList& p) {
       std::string qty = std::to_string(l.qty);
       if (l.from_reserved > 0) qty += fmt::format(" ({} held)", l.from_reserved);
       t.add_row({bin, std::string(kind_letter(l.kind)), build::item_value_text(l.kind, l.value, l.device),
-                 tol_text(l.tol), rating_text(l.kind, l.rating), l.dielectric, qty,
+                 tol_text(l.tol), rating_text(l.kind, l.rating),
+                 l.channels > 0 ? package_word(l.channels) : l.dielectric, qty,
                  fmt::format("{}", fmt::join(l.designators, " "))});
     }
     out += "\n" + t.render(indented());
+  }
+  if (const auto notes = package_notes(p); !notes.empty()) {
+    out +=
+        "\nOp-amp packages (each U place takes one amplifier, a channel, of a package; channel A is the\n"
+        "datasheet's amplifier 1, then B, C, D):\n";
+    for (const auto& n : notes) out += "  " + n + "\n";
+    const auto counts = build::package_counts(p);
+    if (std::any_of(counts.begin(), counts.end(), [](const build::PackageCount& c) { return c.spare() > 0; }))
+      out +=
+          "  Wire each spare channel as a follower (output to its - input) with its + input at a quiet voltage\n"
+          "  inside its input range, so it neither oscillates nor draws extra supply current.\n";
   }
   if (p.piece) out += fmt::format("\nQ1 is the measured piece '{}': take that one from its bin.\n", *p.piece);
   if (!p.assemblies.empty()) {
@@ -281,6 +342,45 @@ std::string pick_text(const PickList& p) {
   return out;
 }
 
+std::vector<std::string> package_notes(const build::Plan& p) {
+  std::vector<std::string> out;
+  for (const auto& c : build::package_counts(p)) {
+    std::string head = fmt::format("{}, {}: ", c.device, package_word(c.channels));
+    if (c.channels == 1)
+      head += fmt::format("{} package{}, one per place", c.packages, c.packages == 1 ? "" : "s");
+    else
+      head += fmt::format("{} package{}, {} of {} {} channels used, {} spare", c.packages, c.packages == 1 ? "" : "s",
+                          c.used, c.packages == 1 ? "its" : "their", c.packages * c.channels,
+                          c.spare() == 0 ? std::string("none") : std::to_string(c.spare()));
+    if (c.short_packages > 0)
+      head += fmt::format("; {} more package{} short ({} place{} without a channel)", c.short_packages,
+                          c.short_packages == 1 ? "" : "s", c.places_short, c.places_short == 1 ? "" : "s");
+    out.push_back(head + ".");
+    if (c.channels == 1) continue;  // the table's FOR column says it all
+    // Each package in order of its number, wherever its line sits on the shelf.
+    std::vector<std::pair<const build::Package*, const build::PickLine*>> packages;
+    for (const auto& l : p.lines)
+      if (l.channels > 0 && same_name(l.device, c.device))
+        for (const auto& pk : l.packages) packages.emplace_back(&pk, &l);
+    std::stable_sort(packages.begin(), packages.end(),
+                     [](const auto& a, const auto& b) { return a.first->number < b.first->number; });
+    for (const auto& [pk, l] : packages) {
+      std::vector<std::string> uses;
+      for (std::size_t k = 0; k < pk->places.size(); ++k)
+        uses.push_back(fmt::format("{} on {}", pk->places[k], build::channel_letter(static_cast<int>(k))));
+      std::vector<std::string> spare;
+      for (int k = static_cast<int>(pk->places.size()); k < pk->channels; ++k)
+        spare.push_back(std::string(1, build::channel_letter(k)));
+      std::string line =
+          fmt::format("  package {} ({}{}): {}", pk->number, l->bin.empty() ? std::string("no bin") : "bin " + l->bin,
+                      pk->from_reserved ? ", held" : "", fmt::join(uses, ", "));
+      if (!spare.empty()) line += fmt::format("; {} spare", fmt::join(spare, " and "));
+      out.push_back(line);
+    }
+  }
+  return out;
+}
+
 std::string shopping_text(const std::vector<build::ShortItem>& items) {
   TextTable t({{"QTY", Align::right}, {"KIND"}, {"VALUE", Align::right}, {"TOL"}, {"RATING"}, {"FOR"}});
   for (const auto& s : items) {
@@ -289,6 +389,8 @@ std::string shopping_text(const std::vector<build::ShortItem>& items) {
     if (!rating.empty()) rating = "at least " + rating;
     if (s.kind == store::PartKind::capacitor && !s.dielectric.empty())
       rating = rating.empty() ? s.dielectric : rating + " " + s.dielectric;
+    // An op-amp is bought in whole packages: the quantity counts them.
+    if (s.channels > 0) rating = fmt::format("{} package{}", package_word(s.channels), s.qty == 1 ? "" : "s");
     t.add_row({std::to_string(s.qty), std::string(kind_letter(s.kind)),
                build::item_value_text(s.kind, s.value, s.device), tol_text(s.tol), rating,
                fmt::format("{}", fmt::join(s.designators, " "))});

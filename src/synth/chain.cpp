@@ -95,8 +95,7 @@ class ChainSearch {
  public:
   ChainSearch(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally)
       : spec_(spec), inv_(inv), shelf_(shelf), tally_(tally) {
-    for (const auto& p : inv.parts)
-      if (!store::is_passive(p.kind)) stocked_[p.device] += p.available();
+    stocked_ = stocked_units(inv);
     // The links are judged at the frequency the capacitors are sized for (the band's low edge,
     // else 20 Hz): a stage's coupling into the next stage's real input impedance must still
     // pass it, band or no band.
@@ -551,19 +550,18 @@ class ChainSearch {
     return out;
   }
 
-  /// One quantity pool for the whole chain: every stage's parts and transistor, every copy.
+  /// One quantity pool for the whole chain: every stage's parts and device, every copy. A
+  /// device counts in the units of stocked_units: a transistor stage takes a piece per copy,
+  /// an op-amp stage a channel per copy, and the channels of every op-amp stage of one type
+  /// share its packages (two stages of a quad type and two copies: one package).
   bool pool_ok(const Candidate& ch) const {
     std::map<std::uint32_t, int> groups;
-    std::map<std::string, int> devices;
-    for (const Candidate& s : ch.stages) {
+    for (const Candidate& s : ch.stages)
       for (const auto& rp : s.parts)
         for (std::size_t k = 0; k < rp.combo.count; ++k) groups[rp.combo.group[k]] += spec_.copies;
-      devices[s.device.name] += spec_.copies;
-      if (s.device2) devices[s.device2->name] += spec_.copies;
-    }
     for (const auto& [gi, need] : groups)
       if (shelf_.groups()[gi].available < need) return false;
-    for (const auto& [name, need] : devices) {
+    for (const auto& [name, need] : device_units_needed(ch, spec_.copies)) {
       const auto it = stocked_.find(name);
       if (it == stocked_.end() || it->second < need) return false;
     }
@@ -659,7 +657,7 @@ class ChainSearch {
   const Inventory& inv_;
   const Shelf& shelf_;
   SearchStats& tally_;
-  std::map<std::string, int> stocked_;
+  std::map<std::string, int> stocked_;  ///< device units by name (stocked_units)
   double band_lo_ = 0, band_hi_ = 0;
   std::map<std::string, std::vector<Candidate>> pools_;
 };

@@ -12,6 +12,7 @@
 #include <chrono>
 #include <cmath>
 #include <fmt/format.h>
+#include <limits>
 #include <map>
 #include <mutex>
 #include <queue>
@@ -517,11 +518,42 @@ void SearchStats::merge(const SearchStats& o) {
 
 namespace detail {
 
+std::map<std::string, int> stocked_units(const Inventory& inv) {
+  // Device names compare without regard to case, as the database keeps them unique; the
+  // map keeps each line's own spelling, as the jobs look it up.
+  auto same = [](std::string_view a, std::string_view b) {
+    return a.size() == b.size() && std::equal(a.begin(), a.end(), b.begin(), [](char x, char y) {
+             return std::tolower(static_cast<unsigned char>(x)) == std::tolower(static_cast<unsigned char>(y));
+           });
+  };
+  std::map<std::string, int> out;
+  for (const auto& p : inv.parts) {
+    if (store::is_passive(p.kind)) continue;
+    const auto rec =
+        std::find_if(inv.devices.begin(), inv.devices.end(), [&](const auto& d) { return same(d.name, p.device); });
+    const int units =
+        rec == inv.devices.end() ? std::max(0, p.available()) : devices::channel_units(*rec, p.available());
+    int& n = out[p.device];
+    n = static_cast<int>(std::min<long long>(std::numeric_limits<int>::max(), static_cast<long long>(n) + units));
+  }
+  return out;
+}
+
+std::map<std::string, int> device_units_needed(const Candidate& c, int copies) {
+  std::map<std::string, int> out;
+  if (c.is_chain()) {
+    for (const Candidate& s : c.stages)
+      for (const auto& [name, n] : device_units_needed(s, copies)) out[name] += n;
+    return out;
+  }
+  out[c.device.name] += copies;
+  if (c.device2) out[c.device2->name] += copies;
+  return out;
+}
+
 std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
-  // Transistors on the shelf, by device name.
-  std::map<std::string, int> stocked;
-  for (const auto& p : inv.parts)
-    if (!store::is_passive(p.kind)) stocked[p.device] += p.available();
+  // Device units on the shelf, by device name: pieces of a transistor, channels of an op-amp.
+  std::map<std::string, int> stocked = stocked_units(inv);
   for (const auto& name : spec.devices) {
     const auto named =
         std::find_if(inv.devices.begin(), inv.devices.end(), [&](const auto& d) { return d.name == name; });

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <atomic>
 #include <functional>
+#include <map>
 #include <memory>
 #include <optional>
 #include <thread>
@@ -125,10 +126,19 @@ struct Job {
   const stages::Topology* topology = nullptr;
   const devices::DeviceRecord* device = nullptr;
   const devices::MeasuredPiece* piece = nullptr;
-  int device_available = 0;
+  int device_available = 0;  ///< units on the shelf (stocked_units): pieces, or an op-amp's channels
   const devices::DeviceRecord* device2 = nullptr;  ///< a pair's Q2
   int device2_available = 0;
 };
+/// The device units on the shelf (available: on hand less reserved), by the stock lines'
+/// device name, in the units a design draws on: pieces of a transistor type, channels of an
+/// op-amp type (packages x channels, devices::channel_units; one op-amp stage takes one
+/// channel per copy). A line whose type has no record counts its pieces.
+std::map<std::string, int> stocked_units(const Inventory& inv);
+/// The device units `copies` copies of a design take, by device name, in the units of
+/// stocked_units: a piece of each transistor (Q1, a pair's Q2) or a channel of the op-amp,
+/// per stage and copy; a chain sums its stages.
+std::map<std::string, int> device_units_needed(const Candidate& c, int copies);
 /// Every topology x device job the spec allows (InputError for unknown names).
 std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv);
 /// One job drafted and its choice made: the builder, the drafts chosen for the corner pass

@@ -7,6 +7,7 @@
 
 #include <doctest/doctest.h>
 
+#include "shelfstage/stages/chain.hpp"
 #include "shelfstage/stages/topology.hpp"
 #include "shelfstage/store/part.hpp"
 #include "shelfstage/synth/design.hpp"
@@ -46,6 +47,18 @@ inline store::Part transistor(std::int64_t id, const std::string& device, int qt
   p.kind = store::PartKind::npn;
   p.device = device;
   p.qty = qty;
+  p.bin = bin;
+  return p;
+}
+
+inline store::Part opamp_line(std::int64_t id, const std::string& device, int qty, const std::string& bin,
+                              int reserved = 0) {
+  store::Part p;
+  p.id = id;
+  p.kind = store::PartKind::opamp;
+  p.device = device;
+  p.qty = qty;
+  p.reserved = reserved;
   p.bin = bin;
   return p;
 }
@@ -113,6 +126,40 @@ inline std::vector<store::Part> ce_shelf() {
           capacitor(12, 4.7e-6, 3, "C1", "electrolytic", 35),
           transistor(20, "sq-420", 1, "D11"),
           transistor(21, "SQ-420", 5, "D9")};
+}
+
+/// An op-amp stage as the build plan sees it: U1 of an op-amp type with `channels`
+/// amplifiers per package ("SA-2" a dual, "SA-4" a quad ...) and two resistors from the CE
+/// shelf (R1 47k, R2 10k). The plan reads no more of the topology than its name, and no
+/// op-amp topology is registered yet: a transistor topology's name stands in.
+inline synth::Candidate opamp_stage(int channels) {
+  synth::Candidate c;
+  c.id = "s0000opamp";
+  c.topology = stages::find_topology("bjt-ce-divider");
+  REQUIRE(c.topology != nullptr);
+  c.device.name = "SA-" + std::to_string(channels);
+  c.device.kind = devices::DeviceKind::opamp;
+  c.device.opamp.channels = channels;
+  c.parts.push_back(role("RF", "R1", 'R', {47e3}, {{1, 2}}));
+  c.parts.push_back(role("RG", "R2", 'R', {10e3}, {{3}}));
+  return c;
+}
+
+/// A chain of the given stages as synth::detail's link makes one: designators in the
+/// hundreds (R101, R201 ...), each part marked with its stage.
+inline synth::Candidate chain_of(std::vector<synth::Candidate> stage_list) {
+  synth::Candidate ch;
+  ch.id = "c0000chain";
+  for (std::size_t k = 0; k < stage_list.size(); ++k) {
+    for (auto& rp : stage_list[k].parts) {
+      rp.designator = stages::chain_designator(k, rp.designator);
+      rp.stage = static_cast<int>(k) + 1;
+      ch.parts.push_back(rp);
+    }
+  }
+  ch.device = stage_list.front().device;
+  ch.stages = std::move(stage_list);
+  return ch;
 }
 
 }  // namespace shelfstage::test

@@ -4,6 +4,9 @@
 
 #include <doctest/doctest.h>
 
+#include <algorithm>
+
+#include "build/plan_fixture.hpp"
 #include "shelf_fixture.hpp"
 
 using namespace shelfstage;
@@ -42,4 +45,28 @@ TEST_CASE("pick_planner: the build plan's lines as withdrawals, or the shortfall
   }
   const auto none = cli::pick_planner(d.candidate, 1)({}, {});
   CHECK(none.short_text.rfind("not enough stock for 1 copy of " + shelf.design + ": ", 0) == 0);
+}
+
+TEST_CASE("pick_planner: an op-amp line is taken in whole packages, not one per place") {
+  // Counting rules of the bench (common practice, build/plan.hpp): three copies of a stage
+  // with a quad op-amp take one package (channels A, B, C) from its line; a transistor line
+  // gives a piece per copy.
+  auto stock = test::ce_shelf();
+  stock.push_back(test::opamp_line(30, "SA-4", 2, "D3"));
+  const auto plan = cli::pick_planner(test::opamp_stage(4), 3)(stock, {});
+  CHECK(plan.short_text.empty());
+  const auto u = std::find_if(plan.take.begin(), plan.take.end(), [](const auto& w) { return w.part_id == 30; });
+  REQUIRE(u != plan.take.end());
+  CHECK(u->qty == 1);
+  CHECK(u->designators == "U1.1,U1.2,U1.3");
+  const auto q = cli::pick_planner(test::ce_stage(), 3)(test::ce_shelf(), {});
+  const auto t = std::find_if(q.take.begin(), q.take.end(), [](const auto& w) { return w.part_id == 21; });
+  REQUIRE(t != q.take.end());
+  CHECK(t->qty == 3);
+  // Short in packages: one dual package for three copies.
+  stock.back().device = "SA-2";
+  stock.back().qty = 1;
+  const auto short_plan = cli::pick_planner(test::opamp_stage(2), 3)(stock, {});
+  CHECK(short_plan.take.empty());
+  CHECK(short_plan.short_text == "not enough stock for 3 copies of s0000opamp: U1 SA-2 (1 package short)");
 }

@@ -1,8 +1,10 @@
-// Tests of src/devices/record.cpp: the device kind names of docs/interface.md, and the op-amp
-// record's derived figures.
+// Tests of src/devices/record.cpp: the device kind names of docs/interface.md, the op-amp
+// record's derived figures, and how a type's stock is counted.
 #include "shelfstage/devices/record.hpp"
 
 #include <doctest/doctest.h>
+
+#include <limits>
 
 using shelfstage::devices::DeviceKind;
 using shelfstage::devices::kind_name;
@@ -104,4 +106,41 @@ TEST_CASE("op-amp record: stated minima kept, unstated ones derived; rails reach
   // Headroom grows by the drop per ampere: 5 mA through 100 ohms is 0.5 V more.
   CHECK(o.out_headroom_hi_v(5e-3) == doctest::Approx(0.551));
   CHECK(o.out_headroom_lo_v(0) == 0.02);
+}
+
+TEST_CASE("counting: a transistor line counts pieces, an op-amp line packages of its channels") {
+  // Counting rules of the bench (common practice): a stock line of an op-amp counts
+  // packages, each op-amp place takes one amplifier of a package; a transistor is one
+  // piece per place.
+  using namespace shelfstage::devices;
+  DeviceRecord q;
+  q.kind = DeviceKind::npn;
+  q.opamp.channels = 4;  // meaningless for a transistor: never read
+  CHECK(channel_units(q, 5) == 5);
+  CHECK(packages_for(q, 5) == 5);
+  DeviceRecord dual;
+  dual.kind = DeviceKind::opamp;
+  dual.opamp.channels = 2;
+  CHECK(channel_units(dual, 1) == 2);
+  CHECK(channel_units(dual, 3) == 6);
+  CHECK(packages_for(dual, 1) == 1);
+  CHECK(packages_for(dual, 2) == 1);
+  CHECK(packages_for(dual, 5) == 3);  // five places: three packages, one channel spare
+  DeviceRecord quad = dual;
+  quad.opamp.channels = 4;
+  CHECK(packages_for(quad, 3) == 1);
+  CHECK(packages_for(quad, 4) == 1);
+  CHECK(packages_for(quad, 5) == 2);
+  CHECK(channel_units(quad, 2) == 8);
+  DeviceRecord single = dual;
+  single.opamp.channels = 1;
+  CHECK(packages_for(single, 3) == 3);
+  // Nothing, or less, needs and gives nothing; a huge stock does not overflow.
+  CHECK(packages_for(quad, 0) == 0);
+  CHECK(channel_units(quad, -2) == 0);
+  CHECK(channel_units(quad, std::numeric_limits<int>::max()) == std::numeric_limits<int>::max());
+  // The board's designators: Q1 for a transistor, U1 for an op-amp (an integrated circuit).
+  CHECK(device_designator(DeviceKind::njfet) == "Q1");
+  CHECK(device_designator(DeviceKind::pnp) == "Q1");
+  CHECK(device_designator(DeviceKind::opamp) == "U1");
 }

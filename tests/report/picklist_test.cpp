@@ -81,3 +81,84 @@ TEST_CASE("shopping_text: quantity, value, tolerance and the least rating to ord
   CHECK(text.find("R2.1 R2.2 R3.1 R3.2") != std::string::npos);
   CHECK(text.find("2  C      220u  20%  at least 16V electrolytic") != std::string::npos);
 }
+
+// Op-amps: counting rules of the bench (common practice, build/plan.hpp): a stock line
+// counts packages, each U place takes one channel of a package, and the places of one type
+// share its packages.
+
+TEST_CASE("pick_text: an op-amp's packages and the channel each place takes, in words") {
+  auto shelf = ce_shelf();
+  shelf.push_back(opamp_line(30, "SA-4", 2, "D3"));
+  const std::string text = report::pick_text(make_pick_list(opamp_stage(4), 3, shelf));
+  // The table: one package (QTY 1) of the quad type for the three places.
+  CHECK(text.find("D3   OPAMP   SA-4") != std::string::npos);
+  CHECK(text.find("quad    1  U1.1 U1.2 U1.3\n") != std::string::npos);
+  CHECK(text.find("SA-4, quad: 1 package, 3 of its 4 channels used, 1 spare.") != std::string::npos);
+  CHECK(text.find("package 1 (bin D3): U1.1 on A, U1.2 on B, U1.3 on C; D spare") != std::string::npos);
+  CHECK(text.find("Wire each spare channel as a follower") != std::string::npos);
+  // Five copies of a dual with one package on the shelf: one taken, two short.
+  shelf.back().device = "SA-2";
+  shelf.back().qty = 1;
+  const std::string short_text = report::pick_text(make_pick_list(opamp_stage(2), 5, shelf));
+  CHECK(short_text.find("SA-2, dual: 1 package, 2 of its 2 channels used, none spare; 2 more packages short (3 "
+                        "places without a channel).") != std::string::npos);
+  CHECK(short_text.find("package 1 (bin D3): U1.1 on A, U1.2 on B\n") != std::string::npos);
+  CHECK(short_text.find("Wire each spare channel") == std::string::npos);  // none is spare
+  CHECK(short_text.find("2  OPAMP   SA-2  dual packages  U1.3 U1.4 U1.5") != std::string::npos);
+}
+
+TEST_CASE("pick_text: a transistor design has no package notes") {
+  const std::string text = report::pick_text(make_pick_list(ce_stage(), 2, ce_shelf()));
+  CHECK(text.find("Op-amp packages") == std::string::npos);
+  CHECK(report::package_notes(make_pick_list(ce_stage(), 2, ce_shelf())).empty());
+}
+
+TEST_CASE("pick_json: an op-amp line's packages and channels, a summary per type, short items in packages") {
+  auto shelf = ce_shelf();
+  shelf.push_back(opamp_line(30, "SA-2", 1, "D3"));
+  const auto j = report::pick_json(make_pick_list(opamp_stage(2), 3, shelf));
+  const auto line =
+      std::find_if(j["lines"].begin(), j["lines"].end(), [](const auto& l) { return l["kind"] == "OPAMP"; });
+  REQUIRE(line != j["lines"].end());
+  CHECK((*line)["value"] == "SA-2");
+  CHECK((*line)["qty"] == 1);  // packages
+  CHECK((*line)["channels"] == 2);
+  CHECK((*line)["designators"] == report::Json::array({"U1.1", "U1.2"}));
+  REQUIRE((*line)["packages"].size() == 1);
+  const auto& pk = (*line)["packages"][0];
+  CHECK(pk["number"] == 1);
+  CHECK(pk["spare"] == 0);
+  CHECK(pk["from_reserved"] == false);
+  REQUIRE(pk["channels"].size() == 2);
+  CHECK(pk["channels"][1]["channel"] == "B");
+  CHECK(pk["channels"][1]["designator"] == "U1.2");
+  REQUIRE(j["short"].size() == 1);
+  CHECK(j["short"][0]["kind"] == "OPAMP");
+  CHECK(j["short"][0]["qty"] == 1);
+  CHECK(j["short"][0]["needed"] == 2);
+  CHECK(j["short"][0]["channels"] == 2);
+  CHECK(j["short"][0]["designators"] == report::Json::array({"U1.3"}));
+  REQUIRE(j["opamps"].size() == 1);
+  CHECK(j["opamps"][0]["device"] == "SA-2");
+  CHECK(j["opamps"][0]["packages"] == 1);
+  CHECK(j["opamps"][0]["channels_used"] == 2);
+  CHECK(j["opamps"][0]["channels_spare"] == 0);
+  CHECK(j["opamps"][0]["packages_short"] == 1);
+  // A transistor design's JSON keeps its keys as they were: no op-amp keys.
+  const auto t = report::pick_json(make_pick_list(ce_stage(), 1, ce_shelf()));
+  CHECK_FALSE(t.contains("opamps"));
+  for (const auto& l : t["lines"]) {
+    CHECK_FALSE(l.contains("channels"));
+    CHECK_FALSE(l.contains("packages"));
+  }
+}
+
+TEST_CASE("net_for_people: an op-amp stage's device is U1 (U201 in a chain's second stage)") {
+  auto c = opamp_stage(2);
+  c.parts.clear();  // no RE1: the stand-in topology's junction falls back on the device's terminal
+  CHECK(report::net_for_people("x", c) == "the emitter of U1 (RE1 is left out)");
+  for (auto& rp : c.parts) rp.stage = 2;
+  c.parts.push_back(role("RF", "R201", 'R', {47e3}, {{1}}));
+  c.parts.back().stage = 2;
+  CHECK(report::net_for_people("x", c) == "the emitter of U201 (RE1 is left out)");
+}

@@ -467,6 +467,62 @@ TEST_CASE("op-amp types on the shelf are left out of the search; naming one is r
                        "device 'SA-210' is an op-amp; the stages designed so far take transistors", InputError);
 }
 
+TEST_CASE("the quantity pool counts an op-amp type in channels, a transistor type in pieces") {
+  // Counting rules of the bench (common practice): an op-amp stock line counts packages, and
+  // each op-amp stage of each copy takes one channel of a package; every stage of one type
+  // in a chain shares its packages. A transistor is a piece per stage and copy.
+  devices::DeviceRecord quad;
+  quad.name = "SA-414";
+  quad.kind = devices::DeviceKind::opamp;
+  quad.opamp.channels = 4;
+  devices::DeviceRecord dual = quad;
+  dual.name = "SA-212";
+  dual.opamp.channels = 2;
+  auto line = [](std::int64_t id, store::PartKind kind, const std::string& device, int qty, int reserved) {
+    store::Part p;
+    p.id = id;
+    p.kind = kind;
+    p.device = device;
+    p.qty = qty;
+    p.reserved = reserved;
+    return p;
+  };
+  synth::Inventory inv;
+  inv.devices = {test::njfet("TJ-1"), quad, dual};
+  inv.parts = {line(1, store::PartKind::njfet, "TJ-1", 3, 1), line(2, store::PartKind::opamp, "SA-414", 1, 0),
+               line(3, store::PartKind::opamp, "SA-212", 2, 1), line(4, store::PartKind::opamp, "SA-212", 2, 0)};
+  const auto units = synth::detail::stocked_units(inv);
+  CHECK(units.at("TJ-1") == 2);    // pieces available: 3 on hand, 1 reserved
+  CHECK(units.at("SA-414") == 4);  // one quad package: four channels
+  CHECK(units.at("SA-212") == 6);  // three dual packages available: six channels
+  // The search's jobs keep the transistor's count in pieces (op-amp types get no job yet).
+  const auto jobs = synth::detail::make_jobs(test::basic_spec(10), inv);
+  REQUIRE_FALSE(jobs.empty());
+  for (const auto& j : jobs) CHECK(j.device_available == 2);
+
+  auto stage = [](const devices::DeviceRecord& d) {
+    synth::Candidate c;
+    c.device = d;
+    return c;
+  };
+  // One op-amp stage: one channel per copy. Five copies of a dual: five channels, which three
+  // packages hold (one channel spare); one package short of six copies' worth is not.
+  CHECK(synth::detail::device_units_needed(stage(dual), 5).at("SA-212") == 5);
+  CHECK(synth::detail::device_units_needed(stage(dual), 5).at("SA-212") <= units.at("SA-212"));
+  CHECK(synth::detail::device_units_needed(stage(dual), 7).at("SA-212") > units.at("SA-212"));
+  // A chain of two stages of the quad type, two copies: four channels, the one package.
+  synth::Candidate chain;
+  chain.stages = {stage(quad), stage(quad)};
+  chain.device = quad;
+  CHECK(synth::detail::device_units_needed(chain, 2).at("SA-414") == 4);
+  CHECK(synth::detail::device_units_needed(chain, 2).at("SA-414") <= units.at("SA-414"));
+  CHECK(synth::detail::device_units_needed(chain, 3).at("SA-414") > units.at("SA-414"));
+  // A transistor stage with a pair's Q2 of its own type: two pieces per copy.
+  synth::Candidate pair = stage(test::npn("TQ-1"));
+  pair.device2 = test::npn("TQ-1");
+  CHECK(synth::detail::device_units_needed(pair, 3).at("TQ-1") == 6);
+}
+
 TEST_CASE("a sound but impossible request gives no candidate, the binding constraint and how close it came") {
   synth::Inventory inv = test::small_shelf(10, {test::njfet()});
   auto s = test::basic_spec(400);  // far beyond one JFET stage into 10k

@@ -158,6 +158,24 @@ struct DeviceRecord {
   std::string note;
 };
 
+// Counting rules of the bench (common practice): a stock line of a transistor type counts
+// pieces, and each place on a board takes one piece; a stock line of an op-amp type counts
+// packages of OpampParams::channels amplifiers, and each op-amp place takes one amplifier (a
+// channel) of a package, so several places share a package and a package may have channels
+// left spare. Every count of a device type's availability and need goes through the three
+// functions below.
+
+/// Amplifiers (channels) that `packages` stocked units of an op-amp type give: packages x
+/// channels (at most INT_MAX); for a transistor type the pieces themselves. 0 for a count
+/// of 0 or less.
+int channel_units(const DeviceRecord& device, int packages);
+/// Stocked units that serve `channels_used` places: ceil(channels_used / channels) packages
+/// of an op-amp type; for a transistor type one piece per place. 0 for a count of 0 or less.
+int packages_for(const DeviceRecord& device, int channels_used);
+/// The designator of a stage's device on the board: "U1" for an op-amp (an integrated
+/// circuit), "Q1" for a transistor, the usual reference designator letters.
+std::string_view device_designator(DeviceKind kind);
+
 /// A transistor measured on the bench: its figures replace the datasheet range, within the
 /// stated uncertainty (a fraction, e.g. 0.03 for 3 %). Op-amps have no measured pieces.
 struct MeasuredPiece {

@@ -62,7 +62,10 @@ std::string net_for_people(std::string_view net, const synth::Candidate& c, std:
 /// "designators"} + part_id, value_text, tol, rating, dielectric, from_reserved],"short":[{
 /// "kind","value","qty","designators"} + value_text, tol, rating, dielectric, needed, roles],
 /// "assembly":[...],"polarity":[...]}. value: ohms or farads for R and C, the device name
-/// for transistors.
+/// for transistors and op-amps. An op-amp line adds "channels" (per package; its qty counts
+/// packages) and "packages" [{"number","channels":[{"channel","designator"}],"spare",
+/// "from_reserved"}], an op-amp short item "channels", and a design with op-amps "opamps"
+/// [{"device","channels","packages","channels_used","channels_spare","packages_short"}].
 Json pick_json(const PickList& p);
 
 /// One short item as pick_json writes it under "short".
@@ -75,6 +78,12 @@ std::string pick_csv(const PickList& p);
 /// The pick list for people: a heading, the table grouped by bin, then assembly, polarity,
 /// and what is short.
 std::string pick_text(const PickList& p);
+
+/// The op-amp packages of a plan for people: per type one line ("SA-414, quad: 1 package, 3
+/// of its 4 channels used, 1 spare."), then for a dual or quad one line per package, which
+/// place each channel serves ("  package 1 (bin D3): U1.1 on A, U1.2 on B, U1.3 on C; D
+/// spare"). Empty for a design without op-amps.
+std::vector<std::string> package_notes(const build::Plan& p);
 
 /// The shopping list for people: one line per item with quantity, value, tolerance, rating,
 /// dielectric and where it goes.

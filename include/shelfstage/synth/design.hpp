@@ -190,7 +190,9 @@ struct SearchStats {
 
 /// Turns resistor sets into candidates for one topology and one device type (or measured
 /// piece): what the guided search does with each proposal, available on its own so a
-/// brute-force check can drive it with every combination.
+/// brute-force check can drive it with every combination. `device_available` (and
+/// `device2_available`): the type's units on the shelf as detail::stocked_units counts them,
+/// pieces of a transistor or channels of an op-amp (one per copy of the stage).
 class StageBuilder {
  public:
   StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
@@ -235,8 +237,8 @@ class StageBuilder {
  private:
   void add_part(Candidate& c, std::size_t role, const Combo& combo) const;
   /// The quantity pool for every role and copy: the pieces to buy to make it up (0 when
-  /// the shelf holds them all), or -1 when it cannot be made up (too few transistors, or a
-  /// short line on a shelf without purchases).
+  /// the shelf holds them all), or -1 when it cannot be made up (too few transistors or
+  /// op-amp channels, or a short line on a shelf without purchases).
   int shortfall(const std::array<const Combo*, stages::kMaxRoles>& combos) const;
   struct Cache;
   const Spec& spec_;
