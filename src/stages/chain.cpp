@@ -44,7 +44,7 @@ std::string chain_designator(std::size_t stage, std::string_view designator) {
 }
 
 std::string chain_net(std::size_t stage, std::size_t count, std::string_view net) {
-  if (net == "0" || net == kNetSupply || net == kNetSignal) return std::string(net);
+  if (net == "0" || net == kNetSupply || net == kNetNegativeSupply || net == kNetSignal) return std::string(net);
   if (net == kNetIn) return stage == 0 ? std::string(kNetIn) : fmt::format("link{}", stage);
   if (net == kNetOut) return stage + 1 == count ? std::string(kNetOut) : fmt::format("link{}", stage + 1);
   return fmt::format("{}{}", net, stage + 1);
@@ -67,6 +67,9 @@ void append_stage(circuit::Circuit& out, const ChainStage& st, std::size_t k, co
   circuit::Circuit::Carry carry;
   carry.keep = [&](const circuit::Component& e) {
     if (k > 0 && e.role == "CIN") return false;
+    // Each rail's source once, from the first stage that has it (a split supply's - rail
+    // may first appear in a later stage).
+    if (e.role == "supply") return out.find(e.designator) == nullptr;
     return !is_bench_role(e.role) || bench_wanted(e.role);
   };
   carry.designator = [&](const circuit::Component& e) {

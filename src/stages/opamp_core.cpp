@@ -36,7 +36,7 @@ std::complex<double> open_loop(const devices::OpampInstance& q, double w) {
   return a;
 }
 
-double output_ohm(const devices::OpampInstance& q) { return std::max(q.out_drop_ohm, 1e-3); }
+double output_ohm(const devices::OpampInstance& q) { return std::max(q.out_drop_ohm, 0.0); }
 
 std::complex<double> loop_gain(const OpampCircuit& s, const devices::OpampInstance& q, double w) {
   using cd = std::complex<double>;
@@ -142,8 +142,9 @@ double opamp_input_noise(const OpampCircuit& s, const devices::OpampInstance& q,
   const double rg = rg_seen(s);
   // The + input's resistance: the source beside the bias resistor (non-inverting), or the
   // bias resistor alone (inverting: the source is in RG).
+  const double r_plus = s.r_plus_ac >= 0 ? s.r_plus_ac : s.r_plus;
   const double rp =
-      s.wiring == OpampWiring::non_inverting ? (s.r_plus > 0 ? par(s.r_plus, s.source_ohm) : s.source_ohm) : s.r_plus;
+      s.wiring == OpampWiring::non_inverting ? (r_plus > 0 ? par(r_plus, s.source_ohm) : s.source_ohm) : r_plus;
   // Output noise: the + input's sources times the noise gain; in through RF, RF's own, and
   // RG's carried to the output by RF/RG.
   double out2 =

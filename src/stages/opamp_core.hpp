@@ -25,6 +25,8 @@ struct OpampCircuit {
   double rf = 0;      ///< output to the - input, ohms (0: a wire, as in a follower)
   double rg = 0;      ///< the - input to the reference (non-inverting) or to the source (inverting); 0: none
   double r_plus = 0;  ///< DC resistance from the + input to its bias (the bias resistor, or the source)
+  /// The same at signal frequencies, where a decoupled reference is a short (negative: r_plus).
+  double r_plus_ac = -1;
   double source_ohm = 0;
   /// RG goes to the reference through a capacitor (a single-supply non-inverting stage with
   /// unity gain at DC): the DC error sees a noise gain of one.
@@ -47,8 +49,8 @@ OpampLoop opamp_loop(const OpampCircuit& s);
 
 /// The open-loop gain at angular frequency w: Aol / ((1 + j w/w1)(1 + j w/w2)), w1 = GBW/Aol.
 std::complex<double> open_loop(const devices::OpampInstance& q, double w);
-/// The output resistance the stage's model puts behind the amplifier (the record's extra drop
-/// per ampere, which is what its swing falls by under load; a milliohm floor when none).
+/// The output resistance behind the amplifier (the record's extra drop per ampere, which is
+/// what its swing falls by under load; the macro-model puts a milliohm when none is given).
 double output_ohm(const devices::OpampInstance& q);
 /// The loop gain at w: A(w) beta, times the divider the output resistance makes with what
 /// the output drives (the load, its capacitance, and the feedback network: RF + RG for the

@@ -215,7 +215,7 @@ class OpampStage final : public Topology {
   circuit::Circuit wire(const Values& v, const Transistor& q, const Conditions& c) const override {
     auto net = detail::bench(c);
     const bool split = supply_ == SupplyForm::split;
-    if (split) net.vsource("VEE", "supply", "vee", "0", -c.supply_v);
+    if (split) net.vsource("VEE", "supply", std::string(kNetNegativeSupply), "0", -c.supply_v);
     const std::string ref = split ? "0" : "ref";
     const std::string out = std::string(out_pin()), plus = std::string(plus_pin()), minus = std::string(minus_pin());
     auto add = [&](int role, const std::string& a, const std::string& b) {
@@ -235,7 +235,8 @@ class OpampStage final : public Topology {
     }
     add(r_.rf, out, minus);
     add(r_.cout, out, "out");
-    detail::add_opamp_model(net, "U1", {plus, minus, out, "vdd", split ? "vee" : "0"}, q.opamp, c.celsius);
+    detail::add_opamp_model(net, "U1", {plus, minus, out, "vdd", split ? std::string(kNetNegativeSupply) : "0"},
+                            q.opamp, c.celsius);
     return net;
   }
 
@@ -288,8 +289,10 @@ detail::OpampCircuit OpampStage::circuit_of(const Values& v, const Conditions& c
   s.rf = at(v, r_.rf);
   s.rg = at(v, r_.rg);
   s.r_plus = form_ == Form::inverting ? r_ref(v) : at(v, r_.rb) + r_ref(v);
+  s.r_plus_ac = form_ == Form::inverting ? 0.0 : at(v, r_.rb);  // CREF holds the reference
   s.source_ohm = c.source_ohm;
-  s.rg_ac_coupled = r_.cg >= 0;
+  // RG cut off at DC: by CG (non-inverting, one supply) or by CIN in series with it (inverting).
+  s.rg_ac_coupled = r_.cg >= 0 || form_ == Form::inverting;
   s.load_ohm = c.load_ohm;
   s.load_farads = c.load_farads;
   s.v_pos = c.supply_v;
@@ -307,8 +310,11 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
   // The DC: the reference plus the offset's and bias currents' error at the output.
   const double v_plus = s.v_ref - a.ib_plus_a * s.r_plus;
   p.v_in = v_plus;
-  p.v_common = v_plus + a.vos_v;
-  p.v_out = s.v_ref + detail::opamp_dc_error(s, a);
+  // The output sets itself where the input difference Vout/Aol (the open-loop gain taken from
+  // ground, as the macro-model has it) times the DC noise gain is taken off the ideal DC.
+  const double ng_dc = s.rg_ac_coupled ? 1.0 : detail::opamp_loop(s).noise_gain;
+  p.v_out = (s.v_ref + detail::opamp_dc_error(s, a)) / (1.0 + ng_dc / a.aol);
+  p.v_common = v_plus + a.vos_v - p.v_out / a.aol;
   p.bias_current_a = a.iq_a;
   const double divider_a = split() ? 0.0 : c.supply_v / (at(v, r_.ra1) + at(v, r_.ra2));
   p.supply_current_a = a.iq_a + divider_a + (split() ? std::abs(p.v_out) / c.load_ohm : 0.0);

@@ -43,8 +43,14 @@ OpampCircuit non_inverting(double rf, double rg) {
 
 }  // namespace
 
+// The textbook forms below take an ideal output (no output resistance).
+devices::OpampInstance ideal_output(devices::OpampInstance q) {
+  q.out_drop_ohm = 0;
+  return q;
+}
+
 TEST_CASE("op-amp stage gain: the ratio less the open-loop gain's share, both wirings") {
-  const auto q = piece(1e6, 1e5);
+  const auto q = ideal_output(piece(1e6, 1e5));
   // Non-inverting 1 + 90k/10k = 10: 10 / (1 + 10/1e5) = 9.999.
   const OpampCircuit ni = non_inverting(90e3, 10e3);
   CHECK(opamp_loop(ni).noise_gain == doctest::Approx(10));
@@ -59,15 +65,20 @@ TEST_CASE("op-amp stage gain: the ratio less the open-loop gain's share, both wi
   CHECK(opamp_loop(inv).ideal_gain == doctest::Approx(-10));
   CHECK(opamp_loop(inv).noise_gain == doctest::Approx(11));
   CHECK(closed_loop(inv, q, 0).real() == doctest::Approx(-10.0 / (1 + 11.0 / 1e5)).epsilon(1e-12));
+  // The output resistance (100 ohm) divides with what the output drives, the load (10k) and
+  // RF + RG (100k): the loop gain falls by 1 / (1 + 100 (1/10k + 1/100k)) = 1/1.011.
+  const auto r = piece(1e6, 1e5);
+  CHECK(std::abs(loop_gain(ni, r, 0)) == doctest::Approx(1e5 * 0.1 / 1.011).epsilon(1e-12));
+  CHECK(output_ohm(r) == 100);
 }
 
 TEST_CASE("op-amp stage band: GBW over the noise gain for one pole; sqrt(2) of it for a maximally flat two-pole loop") {
   const OpampCircuit ni = non_inverting(90e3, 10e3);  // noise gain 10
   // One pole: the closed loop is a single pole at GBW beta (1 + 1/(Aol beta)) ~ 100 kHz.
-  CHECK(closed_loop_f_high(ni, piece(1e6, 1e6)) == doctest::Approx(1e5).epsilon(2e-4));
+  CHECK(closed_loop_f_high(ni, ideal_output(piece(1e6, 1e6))) == doctest::Approx(1e5).epsilon(2e-4));
   // A second pole at twice the loop's crossover (200 kHz): Butterworth, -3 dB at 141 kHz, no
   // peaking above the DC gain.
-  const auto q2 = piece(1e6, 1e6, 2e5);
+  const auto q2 = ideal_output(piece(1e6, 1e6, 2e5));
   CHECK(closed_loop_f_high(ni, q2) == doctest::Approx(std::numbers::sqrt2 * 1e5).epsilon(2e-3));
   double peak = 0;
   for (double f = 1e3; f < 1e6; f *= 1.05)

@@ -28,7 +28,8 @@ TEST_CASE("registry: each topology once, found by its exact name, unknown names 
     CHECK(!t->summary().empty());
     CHECK(t->summary().find('\n') == std::string_view::npos);
     bool any_kind = false;
-    for (auto k : {DeviceKind::njfet, DeviceKind::pjfet, DeviceKind::npn, DeviceKind::pnp}) any_kind |= t->accepts(k);
+    for (auto k : {DeviceKind::njfet, DeviceKind::pjfet, DeviceKind::npn, DeviceKind::pnp, DeviceKind::opamp})
+      any_kind |= t->accepts(k);
     CHECK(any_kind);
   }
   CHECK(stages::find_topology("") == nullptr);
@@ -37,15 +38,27 @@ TEST_CASE("registry: each topology once, found by its exact name, unknown names 
   CHECK(stages::find_topology("jfet-cs-self ") == nullptr);
 }
 
-TEST_CASE("registry: no transistor topology takes an op-amp, as Q1 or as a pair's Q2") {
+TEST_CASE("registry: a topology takes transistors or op-amps, never both; an op-amp is never a pair's Q2") {
+  int opamp_stages = 0;
   for (const stages::Topology* t : stages::registry()) {
     INFO(t->name());
-    CHECK_FALSE(t->accepts(DeviceKind::opamp));
+    const bool transistors = t->accepts(DeviceKind::njfet) || t->accepts(DeviceKind::pjfet) ||
+                             t->accepts(DeviceKind::npn) || t->accepts(DeviceKind::pnp);
+    CHECK(transistors != t->accepts(DeviceKind::opamp));
+    if (t->accepts(DeviceKind::opamp)) {
+      ++opamp_stages;
+      CHECK(t->device_designator() == "U1");
+      CHECK(t->second_device() == stages::SecondDevice::none);
+    } else {
+      CHECK(t->device_designator() == "Q1");
+      CHECK(t->supply_form() == stages::SupplyForm::single);
+    }
     for (auto k : {DeviceKind::njfet, DeviceKind::pjfet, DeviceKind::npn, DeviceKind::pnp}) {
       CHECK_FALSE(t->accepts_second(k, DeviceKind::opamp));
       CHECK_FALSE(t->accepts_second(DeviceKind::opamp, k));
     }
   }
+  CHECK(opamp_stages == 6);  // non-inverting, inverting and buffer, on one supply and split
 }
 
 TEST_CASE("topology_names: every name in registry order, joined by the separator") {
@@ -71,6 +84,7 @@ TEST_CASE(
     "registry: a buffer follows in phase just under one, a feedback pair amplifies in phase (two inverting devices), "
     "every other stage inverts with gain (ngspice)") {
   for (const stages::Topology* t : stages::registry()) {
+    if (!takes_transistors(*t)) continue;  // op-amp stages' signs: opamp_stages_test.cpp
     const bool jfet = t->accepts(DeviceKind::njfet);
     const devices::DeviceSpread spread(jfet ? njfet_record() : npn_record());
     const Transistor q = jfet ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal());

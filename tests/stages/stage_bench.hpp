@@ -115,6 +115,10 @@ inline Transistor with_second(const Topology& t, Transistor q, const devices::Pi
 // for the record's nominal hFE (BJTs: the divider holds the bias across the hFE spread).
 
 /// A stage under test: topology, values, piece and conditions.
+/// Whether a topology takes a transistor (the harness below builds transistor stages; the
+/// op-amp stages have their own tests, opamp_stages_test.cpp).
+inline bool takes_transistors(const Topology& t) { return !t.accepts(devices::DeviceKind::opamp); }
+
 struct StageCase {
   std::string label;
   const Topology* topology = nullptr;
