@@ -161,7 +161,7 @@ std::string describe_net(const Candidate& c, const std::string& net, int next_st
   if (net == "out") return "output (load) side";
   if (const stages::InnerNet* inner = c.topology->inner_net(net)) return std::string(inner->words);
   if (net == "vdd") return "supply rail";
-  return net;
+  return c.topology->net_words(net);  // a terminal by its name, an op-amp's pins in words
 }
 
 void add_cautions(Candidate& c, const Spec& spec, int next_stage) {

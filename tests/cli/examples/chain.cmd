@@ -7,10 +7,11 @@
 --db @DB@ init
 --db @DB@ devices import @SRC@/data-demo/devices.csv
 --db @DB@ stock import @SRC@/data-demo/stock.csv
---db @DB@ design --gain 5 --load 150 --supply 12 --zin 100k --band 20..20k --swing 1 --max-distortion 2% --top 2 --stages 2..3 > @WORK@/chain.txt
+# From the transistor types alone (one of the demo's op-amps takes this request in one stage).
+--db @DB@ design --gain 5 --load 150 --supply 12 --zin 100k --band 20..20k --swing 1 --max-distortion 2% --top 2 --stages 2..3 --device SJ-101 --device SJ-202 --device SJ-P31 --device SQ-410 --device SQ-420 --device SQ-510 > @WORK@/chain.txt
 # Single stages only: the feedback pair holds it alone, its second transistor driving the load
 # (the search's timing line differs run to run, so this too goes to a file).
---db @DB@ design --gain 5 --load 150 --supply 12 --zin 100k --band 20..20k --swing 1 --max-distortion 2% --stages 1 --top 1 > @WORK@/single.txt
+--db @DB@ design --gain 5 --load 150 --supply 12 --zin 100k --band 20..20k --swing 1 --max-distortion 2% --stages 1 --top 1 --device SJ-101 --device SJ-202 --device SJ-P31 --device SQ-410 --device SQ-420 --device SQ-510 > @WORK@/single.txt
 # The pick list of the whole chain, stage by stage (R1xx, Q101 in stage 1; R2xx, Q201 in stage 2),
 # with the electrolytics' polarity as the chain biases them.
 --db @DB@ pick c3b4e4f27

@@ -21,4 +21,6 @@
 --db @DB@ stock export
 --db @DB@ devices measure SA-Q7 --hfe 100
 --db @DB@ analyze bjt-follower --device SA-D5 --supply 12 --load 10k --part R1=100k --part R2=100k --part RE=4k7 --part CIN=1u --part COUT=10u
+# An op-amp type designs op-amp stages; this shelf holds no resistors or capacitors, so the
+# search names the smallest purchase that would build one and exits 2.
 --db @DB@ design --gain 10 --load 10k --supply 12 --zin 100k --device SA-Q7
