@@ -450,21 +450,30 @@ TEST_CASE("nonsense requests are refused with a clear error naming the field") {
   refused(s, "supply");
 }
 
-TEST_CASE("op-amp types on the shelf are left out of the search; naming one is refused") {
-  // The demo shelf holds three op-amp types, stocked (data-demo/): no job is made for them.
+TEST_CASE("op-amp types go to the op-amp stages, transistors to the others; split stages only on a split supply") {
+  // The demo shelf holds three op-amp types, stocked (data-demo/).
   const synth::Inventory inv = test::demo_shelf();
   REQUIRE(std::count_if(inv.devices.begin(), inv.devices.end(),
                         [](const auto& d) { return devices::is_opamp(d.kind); }) == 3);
   auto spec = test::basic_spec(10);
-  const auto jobs = synth::detail::make_jobs(spec, inv);
-  REQUIRE_FALSE(jobs.empty());
-  for (const auto& j : jobs) {
-    CHECK(devices::is_transistor(j.device->kind));
-    if (j.device2) CHECK(devices::is_bjt(j.device2->kind));
-  }
+  auto count = [&](const synth::Spec& s, bool opamp, stages::SupplyForm form) {
+    int n = 0;
+    for (const auto& j : synth::detail::make_jobs(s, inv)) {
+      CHECK(j.topology->accepts(j.device->kind));
+      if (j.device2) CHECK(devices::is_bjt(j.device2->kind));
+      if (devices::is_opamp(j.device->kind) == opamp && j.topology->supply_form() == form) ++n;
+    }
+    return n;
+  };
+  CHECK(count(spec, true, stages::SupplyForm::single) == 9);  // three types, three single-supply stages
+  CHECK(count(spec, true, stages::SupplyForm::split) == 0);
+  CHECK(count(spec, false, stages::SupplyForm::single) > 0);
+  spec.split_supply = true;
+  CHECK(count(spec, true, stages::SupplyForm::split) == 9);
+  CHECK(count(spec, true, stages::SupplyForm::single) == 9);  // one rail of a split supply serves as well
+  CHECK(count(spec, false, stages::SupplyForm::single) > 0);
   spec.devices = {"SA-210"};
-  CHECK_THROWS_WITH_AS(synth::detail::make_jobs(spec, inv),
-                       "device 'SA-210' is an op-amp; the stages designed so far take transistors", InputError);
+  for (const auto& j : synth::detail::make_jobs(spec, inv)) CHECK(j.device->name == "SA-210");
 }
 
 TEST_CASE("the quantity pool counts an op-amp type in channels, a transistor type in pieces") {
@@ -495,10 +504,10 @@ TEST_CASE("the quantity pool counts an op-amp type in channels, a transistor typ
   CHECK(units.at("TJ-1") == 2);    // pieces available: 3 on hand, 1 reserved
   CHECK(units.at("SA-414") == 4);  // one quad package: four channels
   CHECK(units.at("SA-212") == 6);  // three dual packages available: six channels
-  // The search's jobs keep the transistor's count in pieces (op-amp types get no job yet).
+  // The search's jobs count a transistor in pieces, an op-amp in channels.
   const auto jobs = synth::detail::make_jobs(test::basic_spec(10), inv);
   REQUIRE_FALSE(jobs.empty());
-  for (const auto& j : jobs) CHECK(j.device_available == 2);
+  for (const auto& j : jobs) CHECK(j.device_available == units.at(j.device->name));
 
   auto stage = [](const devices::DeviceRecord& d) {
     synth::Candidate c;
