@@ -329,9 +329,23 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
   p.zout_ohm = detail::output_ohm(a) / (1.0 + t0);
 
   // The band: the coupling sections below it, the closed loop above it.
-  detail::LfSection lf[3];
+  detail::LfSection lf[4];
   std::size_t n_lf = 0;
-  if (r_.cin >= 0 && at(v, r_.cin) > 0) lf[n_lf++] = {1.0 / (at(v, r_.cin) * (c.source_ohm + zin)), 0.0};
+  const double cin = at(v, r_.cin), cref = at(v, r_.cref), rref = r_ref(v);
+  if (cin > 0 && form_ != Form::inverting && cref > 0 && rref > 0) {
+    // CIN into RB and the reference, whose decoupled impedance R' || C' adds a capacitive
+    // part below its corner: v+/v = (RB + Zref) / (Rs + 1/(s CIN) + RB + Zref), second order:
+    // s (s + z) / ((s + p1)(s + p2)) times the mid-band divider, z = (RB + R') / (RB R' C'),
+    // p1 p2 the roots of a s^2 + b s + 1 with a = CIN (Rs + RB) R' C', b = CIN (Rs + RB) +
+    // R' C' + CIN R'.
+    const double rb = at(v, r_.rb), rs_rb = c.source_ohm + rb;
+    const double a = cin * rs_rb * rref * cref, b = cin * rs_rb + rref * cref + cin * rref;
+    const double root = std::sqrt(std::max(0.0, b * b - 4 * a));
+    lf[n_lf++] = {(b - root) / (2 * a), 0.0};
+    lf[n_lf++] = {(b + root) / (2 * a), (rb + rref) / (rb * rref * cref)};
+  } else if (cin > 0) {
+    lf[n_lf++] = {1.0 / (cin * (c.source_ohm + zin)), 0.0};
+  }
   if (r_.cout >= 0 && at(v, r_.cout) > 0) lf[n_lf++] = {1.0 / (at(v, r_.cout) * (c.load_ohm + p.zout_ohm)), 0.0};
   if (r_.cg >= 0 && at(v, r_.cg) > 0)  // the noise gain's shelf: NG from one at DC
     lf[n_lf++] = {1.0 / (at(v, r_.cg) * s.rg), 1.0 / (at(v, r_.cg) * (s.rg + s.rf))};

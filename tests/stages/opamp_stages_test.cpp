@@ -153,7 +153,7 @@ TEST_CASE(
     CHECK(std::abs(p.v_out - e.v_out) < 2e-4 + 1e-4 * std::abs(e.v_out));
     CHECK(std::abs(p.v_in - e.v_in) < 2e-4 + 1e-4 * std::abs(e.v_in));
     CHECK(rel(p.f_high_hz, e.f_high_hz) < 0.01);
-    CHECK(rel(p.f_low_hz, e.f_low_hz) < 0.05);
+    CHECK(rel(p.f_low_hz, e.f_low_hz) < 0.01);  // the reference's impedance in the input network included
     CHECK(rel(p.noise_v_rthz, e.noise_v_rthz) < 0.03);
     // Swing (no band asked: no slew limit): the record's headroom at the load's current; the
     // exact solver clips where a clamp passes 1 µA, a few millivolts either side.

@@ -43,6 +43,8 @@ std::vector<devices::PieceFigures> limit_pieces(const devices::DeviceSpread& s) 
             return std::abs(o.idss_a - c.idss_a) < 1e-9 && std::abs(o.vp_abs_v - c.vp_abs_v) < 1e-9;
           }))
         out.push_back(c);
+  } else if (s.record().kind == devices::DeviceKind::opamp) {
+    out = s.corners();  // every limit the datasheet states, each way (devices/opamp.hpp)
   } else {
     const devices::Range& h = s.record().bjt.hfe;
     out.push_back({0, 0, std::min(h.min, h.max), "hFE min"});
@@ -87,18 +89,33 @@ circuit::Circuit netlist_of(const synth::Candidate& c, const Build& b) {
 
 Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_zin) {
   const circuit::Circuit net = netlist_of(c, b);
+  // The first device: a transistor, or an op-amp's model (its elements U1.VOS, U1.G1 and
+  // U1.ROUT name its + input, - input and output: docs/physics.md).
   const circuit::Element* q = nullptr;
-  for (const auto& el : net.elements())
-    if (!q && (el.c.kind == circuit::ElementKind::jfet || el.c.kind == circuit::ElementKind::bjt)) q = &el;
-  REQUIRE(q != nullptr);
-  const bool jfet = q->c.kind == circuit::ElementKind::jfet;
+  const circuit::Element* vos = nullptr;
+  for (const auto& el : net.elements()) {
+    if (q || vos) break;
+    if (el.c.kind == circuit::ElementKind::jfet || el.c.kind == circuit::ElementKind::bjt) q = &el;
+    if (el.c.role == stages::kRoleDeviceModel && el.c.designator.ends_with(".VOS")) vos = &el;
+  }
+  REQUIRE((q != nullptr || vos != nullptr));
+  const bool jfet = q && q->c.kind == circuit::ElementKind::jfet;
   std::vector<std::string> lines = {".control", "op"};
-  auto v_of = [&](std::size_t pin) {
-    const std::string n = circuit::spice_net(net, q->c.pins[pin]);
+  auto v_at = [&](std::size_t net_index) {
+    const std::string n = circuit::spice_net(net, net_index);
     return n == "0" ? std::string("0") : "v(" + n + ")";
   };
-  // The first transistor's pins (ngspice prints nothing for ground: that one is 0).
-  const std::string pins[3] = {v_of(1), v_of(2), v_of(0)};  // gate/base, source/emitter, drain/collector
+  std::string pins[3];  // gate/base/+ input, source/emitter/- input, drain/collector/output
+  if (q) {
+    pins[0] = v_at(q->c.pins[1]);
+    pins[1] = v_at(q->c.pins[2]);
+    pins[2] = v_at(q->c.pins[0]);
+  } else {
+    const std::string u = vos->c.designator.substr(0, vos->c.designator.size() - 4);
+    pins[0] = v_at(vos->c.pins[1]);
+    pins[1] = v_at(net.find(u + ".G1")->c.pins[3]);
+    pins[2] = v_at(net.find(u + ".ROUT")->c.pins[1]);
+  }
   std::string print = "print";
   for (const auto& p : pins)
     if (p != "0") print += " " + p;
@@ -111,8 +128,10 @@ Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_z
         if (n != "0") print += " v(" + n + ")";
     }
   lines.push_back(print);
-  lines.push_back(fmt::format("let iq = abs(@{}[{}])", circuit::spice_name(q->c), jfet ? "id" : "ic"));
-  lines.push_back("print iq");
+  if (q) {
+    lines.push_back(fmt::format("let iq = abs(@{}[{}])", circuit::spice_name(q->c), jfet ? "id" : "ic"));
+    lines.push_back("print iq");
+  }
   lines.push_back("let supply_current = abs(i(vdd))");
   lines.push_back("print supply_current");
   lines.push_back("ac dec 40 0.01 1e10");
@@ -144,7 +163,7 @@ Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_z
   s.zin = r.get("vinm") / r.get("isigm");
   s.zout = b.cond.load_ohm * (r.get("vopen") / r.get("gmid") - 1.0);
   s.supply_a = r.get("supply_current");
-  s.bias_a = r.get("iq");
+  s.bias_a = q ? r.get("iq") : -1.0;  // an op-amp's is its record's supply current: not simulated
   auto v = [&](const std::string& p) { return p == "0" ? 0.0 : r.get(p); };
   s.v_in = v(pins[0]);
   s.v_common = v(pins[1]);
@@ -165,7 +184,12 @@ double simulate_thd(const synth::Candidate& c, const Build& b, double gain, doub
   const circuit::Circuit net = netlist_of(c, b);
   circuit::SolverOptions so;
   so.celsius = b.cond.celsius;
-  const circuit::Circuit held = circuit::with_capacitors_held(net, circuit::solve_dc(net, so));
+  // An op-amp model's own capacitors stay as they are (they are the amplifier's poles).
+  auto is_model = [](const circuit::Component& e) { return e.role == stages::kRoleDeviceModel; };
+  circuit::Circuit held = circuit::with_capacitors_held(net, circuit::solve_dc(net, so), is_model);
+  for (const auto& el : net.elements())
+    if (el.c.kind == circuit::ElementKind::capacitor && is_model(el.c))
+      held.copy_element(net, el.c, el.c.designator, {net.net_name(el.c.pins[0]), net.net_name(el.c.pins[1])});
   circuit::SpiceOptions o;
   o.title = c.topology_name() + " " + b.label + " (THD)";
   o.celsius = b.cond.celsius;
@@ -397,6 +421,50 @@ std::vector<Request> requests() {
     s.top = 1;
     out.push_back({"same-polarity pair, NPN only, 12 V", s});
   }
+  {
+    // Op-amp stages: the macro-model from the record at every one of its 16 limit pieces.
+    synth::Spec s = base(10, 10e3, 11, 13, 100e3);  // non-inverting on one supply
+    s.topologies = {"opamp-noninv"};
+    s.band_hz = std::pair{20.0, 20e3};
+    s.swing_vpp = 4;
+    s.top = 1;
+    out.push_back({"op-amp non-inverting, 11..13 V", s});
+  }
+  {
+    synth::Spec s = base(4.7, 2.2e3, 15, 15, 10e3);  // inverting on +/-15 V into a cable
+    s.topologies = {"opamp-inv-split"};
+    s.split_supply = true;
+    s.load_farads = 2.2e-9;
+    s.band_hz = std::pair{200.0, 20e3};
+    s.swing_vpp = 10;
+    s.top = 1;
+    out.push_back({"op-amp inverting, +/-15 V, 2n2 cable", s});
+  }
+  {
+    synth::Spec s = base(1, 10e3, 4.5, 5.5, 1e6);  // a rail-to-rail buffer on 5 V
+    s.topologies = {"opamp-buffer"};
+    s.band_hz = std::pair{20.0, 20e3};
+    s.swing_vpp = 2;
+    s.top = 1;
+    out.push_back({"op-amp buffer, 4.5..5.5 V", s});
+  }
+  {
+    synth::Spec s = base(21, 4.7e3, 12, 12, 47e3);  // non-inverting on +/-12 V, DC-coupled out
+    s.topologies = {"opamp-noninv-split"};
+    s.split_supply = true;
+    s.band_hz = std::pair{20.0, 20e3};
+    s.top = 1;
+    out.push_back({"op-amp non-inverting, +/-12 V", s});
+  }
+  {
+    // A JFET follower into an op-amp stage (or whatever chain ranks first from these types).
+    synth::Spec s = base(20, 10e3, 12, 12, 10e6);
+    s.devices = {"SJ-101", "SA-430"};
+    s.stages_min = 2;
+    s.band_hz = std::pair{20.0, 20e3};
+    s.top = 1;
+    out.push_back({"chain with an op-amp, 10 MOhm in", s});
+  }
   return out;
 }
 
@@ -471,7 +539,7 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
         // No slack: the claimed ranges carry the model margin (docs/worst-case.md), so ngspice
         // lands inside them; the floors are ngspice's printed precision only.
         check_in("gain", s.gain, w.gain, 0, 0, where);
-        check_in("bias current", s.bias_a, w.bias_current, 0, 1e-12, where);
+        if (s.bias_a >= 0) check_in("bias current", s.bias_a, w.bias_current, 0, 1e-12, where);
         check_in("supply current", s.supply_a, w.supply_current, 0, 1e-12, where);
         check_in("V(gate/base)", s.v_in, w.v_in, 0, 1e-6, where);
         check_in("V(source/emitter)", s.v_common, w.v_common, 0, 1e-6, where);
