@@ -327,6 +327,11 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
   p.gain = l.ideal_gain * t0 / (1.0 + t0) * source_divider;
   p.zin_ohm = zin;
   p.zout_ohm = detail::output_ohm(a) / (1.0 + t0);
+  {
+    // In the band the loop gain falls from the dominant pole up: Rout / |1 + A(w) beta|.
+    const double w_top = 2 * std::numbers::pi * (c.band_hi_hz > 0 ? c.band_hi_hz : 20e3);
+    p.zout_band_ohm = detail::output_ohm(a) / std::abs(1.0 + detail::open_loop(a, w_top) * l.beta);
+  }
 
   // The band: the coupling sections below it, the closed loop above it.
   detail::LfSection lf[4];

@@ -166,7 +166,12 @@ std::string describe_net(const Candidate& c, const std::string& net, int next_st
 
 void add_cautions(Candidate& c, const Spec& spec, int next_stage) {
   c.cautions.clear();
-  if (auto hazard = hazard_caution(spec.supply_hi_v); !hazard.empty()) c.cautions.push_back(hazard);
+  if (auto hazard = hazard_caution(spec.split_supply ? 2 * spec.supply_hi_v : spec.supply_hi_v); !hazard.empty())
+    c.cautions.push_back(hazard);
+  if (spec.split_supply && c.topology && c.topology->supply_form() == stages::SupplyForm::single)
+    c.cautions.push_back(fmt::format("a single-rail stage on the split supply: it takes the + rail (+{}) and ground; "
+                                     "the - rail is not wired to it",
+                                     units::format_value(spec.supply_hi_v, units::Unit::volt)));
   std::vector<std::string> unrated;
   for (const auto& rp : c.parts) {
     const std::string part = fmt::format("{} ({})", rp.designator, rp.role);

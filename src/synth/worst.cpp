@@ -176,6 +176,7 @@ void add_figures(Worst& w, const stages::Performance& p, bool corners) {
   if (p.q2_current_a > 0) w.v_out2.add(p.v_out2);
   w.zin.add(p.zin_ohm);
   w.zout.add(p.zout_ohm);
+  if (p.zout_band_ohm > 0) w.zout.add(p.zout_band_ohm);
   w.supply_current.add(p.supply_current_a);
   w.loss_lo_db.add(p.loss_lo_db);
   w.loss_hi_db.add(p.loss_hi_db);

@@ -193,6 +193,11 @@ struct Performance {
   double v_out = 0;           ///< drain or collector DC volts
   double zin_ohm = 0;         ///< input impedance at mid-band (after source_ohm)
   double zout_ohm = 0;        ///< output impedance at mid-band, seen by the load
+  /// A stage whose loop gain falls inside the band (an op-amp stage, its dominant pole a few
+  /// hertz up): the output impedance at the top of the band it carries (Conditions::
+  /// band_hi_hz, or 20 kHz, the audio band's top, when none is asked), where the loop holds
+  /// it least. 0: as zout_ohm across the band. The worst case spans both.
+  double zout_band_ohm = 0;
   double f_low_hz = 0;        ///< -3 dB points relative to mid-band
   double f_high_hz = 0;
   double loss_lo_db = 0;  ///< loss at Conditions::band_lo_hz relative to mid-band, dB >= 0
@@ -255,6 +260,8 @@ enum class Detail { core, stress, full };
 /// Names of the nets every stage netlist uses: the signal source drives "sig" through
 /// RSIG into "in" (then CIN); the load RL hangs on "out"; the supply is "vdd".
 inline constexpr std::string_view kNetSignal = "sig", kNetIn = "in", kNetOut = "out", kNetSupply = "vdd";
+/// The - rail of a split supply (Conditions::split_supply), driven by "VEE" at -supply.
+inline constexpr std::string_view kNetNegativeSupply = "vee";
 /// The role of the bench's capacitor across the load (CL), present when Conditions::load_farads is.
 inline constexpr std::string_view kRoleLoadCapacitance = "load capacitance";
 /// The role of a compensation capacitor across a feedback resistor (a pair's CF): small, it
