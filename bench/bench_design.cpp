@@ -97,13 +97,36 @@ class StockMaker {
     bjt("BQ-2", devices::DeviceKind::npn, 420, 800, 30);
     bjt("BQ-3", devices::DeviceKind::pnp, 110, 450, 45);
     bjt("BQ-4", devices::DeviceKind::npn, 60, 250, 120);
+    // Two op-amp types, as a drawer holds them: a dual bipolar-input one for 10..36 V and a
+    // dual rail-to-rail CMOS one for low supplies (figures of the usual order, invented).
+    auto opamp = [&](const char* name, double vs0, double vs1, double gbw, double slew, double drop, double cm,
+                     double vos, double ib) {
+      devices::DeviceRecord d;
+      d.name = name;
+      d.kind = devices::DeviceKind::opamp;
+      devices::OpampParams& o = d.opamp;
+      o.channels = 2;
+      o.vs_min_v = vs0;
+      o.vs_max_v = vs1;
+      o.gbw_hz.typ = gbw;
+      o.slew_v_per_s.typ = slew;
+      o.aol.typ = 1e5;
+      o.out_drop_hi_v = o.out_drop_lo_v = drop;
+      o.out_drop_ohm = 80;
+      o.iout_max_a = 20e-3;
+      o.cm_drop_hi_v = o.cm_drop_lo_v = cm;
+      o.vos_max_v = vos;
+      o.ib_max_a = ib;
+      o.iq_a = 1e-3;
+      d.ratings.v_max_v = vs1 * 1.1;
+      inv.devices.push_back(d);
+    };
+    opamp("BU-1", 10, 36, 1e6, 0.5e6, 1.5, 2, 5e-3, 400e-9);
+    opamp("BU-2", 2.7, 5.5, 1e6, 0.6e6, 0.02, -0.1, 6e-3, 10e-12);
     for (const auto& d : inv.devices) {
       store::Part p;
       p.id = id_++;
-      p.kind = d.kind == devices::DeviceKind::njfet   ? store::PartKind::njfet
-               : d.kind == devices::DeviceKind::pjfet ? store::PartKind::pjfet
-               : d.kind == devices::DeviceKind::npn   ? store::PartKind::npn
-                                                      : store::PartKind::pnp;
+      p.kind = store::part_kind(d.kind);
       p.device = d.name;
       p.qty = 25;
       p.bin = "T1";
