@@ -188,7 +188,9 @@ class OpampStage final : public Topology {
   }
   std::span<const Role> roles() const override { return roles_; }
   std::span<const InnerNet> inner_nets() const override { return nets_; }
-  std::array<std::string_view, 3> node_names() const override { return {out_pin(), plus_pin(), minus_pin()}; }
+  // In the order of Performance's v_in, v_common and v_out, as a transistor's (control,
+  // common, main) terminals: the + input, the - input, the output.
+  std::array<std::string_view, 3> node_names() const override { return {plus_pin(), minus_pin(), out_pin()}; }
 
   LoadLine load_line(const Values& v, const Conditions& c) const override {
     // The output pin: no DC load on a single supply (COUT), the load on a split one.
@@ -312,6 +314,11 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
   p.bias_current_a = a.iq_a;
   const double divider_a = split() ? 0.0 : c.supply_v / (at(v, r_.ra1) + at(v, r_.ra2));
   p.supply_current_a = a.iq_a + divider_a + (split() ? std::abs(p.v_out) / c.load_ohm : 0.0);
+  // The output pin's DC: the load on a split supply (COUT blocks it on one supply) and RF
+  // down to the - input (which carries on through RG to ground on a split non-inverting
+  // stage; elsewhere a capacitor stops it and RF carries the bias current alone).
+  p.out_current_a =
+      (split() ? p.v_out / c.load_ohm : 0.0) + (at(v, r_.rf) > 0 ? (p.v_out - p.v_common) / at(v, r_.rf) : 0.0);
 
   // Mid-band: the loop at DC (the op-amp's poles open, every coupling capacitor a short).
   const detail::OpampLoop l = detail::opamp_loop(s);
