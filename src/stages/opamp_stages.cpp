@@ -52,12 +52,12 @@ constexpr std::string_view kCrefWhat = "reference decoupling: keeps the supply's
 constexpr std::string_view kCoutWhat = "output coupling: blocks the reference's DC from the load";
 
 constexpr Role kNonInv1[] = {
-    {"RB", "R1", 'R', false, false, "", "", kRbWhat, {13, 19, true, 'l'}},
-    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20, 7, false, 'a'}},
-    {"RG", "R3", 'R', false, false, "", "", "- input to CG: with RF sets the gain", {16, 19, true, 'l'}},
-    {"RA1", "R4", 'R', false, false, "", "", kRa1What, {7, 7, true, 'l'}},
-    {"RA2", "R5", 'R', false, false, "", "", kRa2What, {7, 21, true, 'l'}},
-    {"CIN", "C1", 'C', false, true, "plus", "in", "input coupling", {10, 14, false, 'a'}},
+    {"RB", "R1", 'R', false, false, "", "", kRbWhat, {13, 17.5, true, 'l'}},
+    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20.5, 23, false, 'b'}},
+    {"RG", "R3", 'R', false, false, "", "", "- input to CG: with RF sets the gain", {15.5, 21, true, 'l'}},
+    {"RA1", "R4", 'R', false, false, "", "", kRa1What, {8, 7, true, 'r'}},
+    {"RA2", "R5", 'R', false, false, "", "", kRa2What, {8, 22, true, 'r'}},
+    {"CIN", "C1", 'C', false, true, "plus", "in", "input coupling", {11, 14, false, 'a'}},
     {"CG",
      "C2",
      'C',
@@ -66,14 +66,14 @@ constexpr Role kNonInv1[] = {
      "g",
      "0",
      "holds the gain to one at DC, so the reference is not amplified",
-     {16, 24, true, 'l'}},
-    {"CREF", "C3", 'C', false, true, "ref", "0", kCrefWhat, {4, 21, true, 'l'}},
-    {"COUT", "C4", 'C', false, true, "opout", "out", kCoutWhat, {25, 14, false, 'b'}},
+     {15.5, 25, true, 'l'}},
+    {"CREF", "C3", 'C', false, true, "ref", "0", kCrefWhat, {5, 22, true, 'l'}},
+    {"COUT", "C4", 'C', false, true, "opout", "out", kCoutWhat, {26, 16, false, 'b'}},
 };
 constexpr Role kNonInv2[] = {
-    {"RB", "R1", 'R', false, false, "", "", "+ input to ground: sets the input impedance", {13, 19, true, 'l'}},
-    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20, 7, false, 'a'}},
-    {"RG", "R3", 'R', false, false, "", "", "- input to ground: with RF sets the gain", {16, 19, true, 'l'}},
+    {"RB", "R1", 'R', false, false, "", "", "+ input to ground: sets the input impedance", {13, 17.5, true, 'l'}},
+    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20.5, 23, false, 'b'}},
+    {"RG", "R3", 'R', false, false, "", "", "- input to ground: with RF sets the gain", {15.5, 21, true, 'l'}},
     {"CIN",
      "C1",
      'C',
@@ -82,7 +82,7 @@ constexpr Role kNonInv2[] = {
      "plus",
      "in",
      "input coupling (no DC across it: non-polarised)",
-     {10, 14, false, 'a'}},
+     {11, 14, false, 'a'}},
 };
 constexpr Role kInv1[] = {
     {"RG",
@@ -93,13 +93,13 @@ constexpr Role kInv1[] = {
      "",
      "",
      "input resistor: sets the input impedance and, with RF, the gain",
-     {13, 14, false, 'a'}},
-    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20, 7, false, 'a'}},
-    {"RA1", "R3", 'R', false, false, "", "", kRa1What, {7, 7, true, 'l'}},
-    {"RA2", "R4", 'R', false, false, "", "", kRa2What, {7, 21, true, 'l'}},
-    {"CIN", "C1", 'C', false, true, "g", "in", "input coupling", {10, 14, false, 'a'}},
-    {"CREF", "C2", 'C', false, true, "ref", "0", kCrefWhat, {4, 21, true, 'l'}},
-    {"COUT", "C3", 'C', false, true, "opout", "out", kCoutWhat, {25, 14, false, 'b'}},
+     {15, 14, false, 'a'}},
+    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20.5, 10, false, 'a'}},
+    {"RA1", "R3", 'R', false, false, "", "", kRa1What, {8, 7, true, 'r'}},
+    {"RA2", "R4", 'R', false, false, "", "", kRa2What, {8, 22, true, 'r'}},
+    {"CIN", "C1", 'C', false, true, "g", "in", "input coupling", {11, 14, false, 'a'}},
+    {"CREF", "C2", 'C', false, true, "ref", "0", kCrefWhat, {5, 22, true, 'l'}},
+    {"COUT", "C3", 'C', false, true, "opout", "out", kCoutWhat, {26, 16, false, 'b'}},
 };
 constexpr Role kInv2[] = {
     {"RG",
@@ -110,8 +110,8 @@ constexpr Role kInv2[] = {
      "",
      "",
      "input resistor: sets the input impedance and, with RF, the gain",
-     {13, 14, false, 'a'}},
-    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20, 7, false, 'a'}},
+     {15, 14, false, 'a'}},
+    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20.5, 10, false, 'a'}},
     {"CIN",
      "C1",
      'C',
@@ -120,18 +120,18 @@ constexpr Role kInv2[] = {
      "g",
      "in",
      "input coupling (no DC across it: non-polarised)",
-     {10, 14, false, 'a'}},
+     {11, 14, false, 'a'}},
 };
 constexpr Role kBuffer1[] = {
-    {"RB", "R1", 'R', false, false, "", "", kRbWhat, {13, 19, true, 'l'}},
-    {"RA1", "R2", 'R', false, false, "", "", kRa1What, {7, 7, true, 'l'}},
-    {"RA2", "R3", 'R', false, false, "", "", kRa2What, {7, 21, true, 'l'}},
-    {"CIN", "C1", 'C', false, true, "plus", "in", "input coupling", {10, 14, false, 'a'}},
-    {"CREF", "C2", 'C', false, true, "ref", "0", kCrefWhat, {4, 21, true, 'l'}},
-    {"COUT", "C3", 'C', false, true, "opout", "out", kCoutWhat, {25, 14, false, 'b'}},
+    {"RB", "R1", 'R', false, false, "", "", kRbWhat, {13, 17.5, true, 'l'}},
+    {"RA1", "R2", 'R', false, false, "", "", kRa1What, {8, 7, true, 'r'}},
+    {"RA2", "R3", 'R', false, false, "", "", kRa2What, {8, 22, true, 'r'}},
+    {"CIN", "C1", 'C', false, true, "plus", "in", "input coupling", {11, 14, false, 'a'}},
+    {"CREF", "C2", 'C', false, true, "ref", "0", kCrefWhat, {5, 22, true, 'l'}},
+    {"COUT", "C3", 'C', false, true, "opout", "out", kCoutWhat, {26, 16, false, 'b'}},
 };
 constexpr Role kBuffer2[] = {
-    {"RB", "R1", 'R', false, false, "", "", "+ input to ground: sets the input impedance", {13, 19, true, 'l'}},
+    {"RB", "R1", 'R', false, false, "", "", "+ input to ground: sets the input impedance", {13, 17.5, true, 'l'}},
     {"CIN",
      "C1",
      'C',
@@ -140,7 +140,7 @@ constexpr Role kBuffer2[] = {
      "plus",
      "in",
      "input coupling (no DC across it: non-polarised)",
-     {10, 14, false, 'a'}},
+     {11, 14, false, 'a'}},
 };
 
 constexpr InnerNet kRefNet = {"ref", "reference (divider tap)", 3.5, {}, 1.5};
