@@ -27,14 +27,19 @@ void add_opamp_model(circuit::Circuit& net, const std::string& u, const OpampPin
   const double two_pi = 2 * std::numbers::pi;
   const double kt4 = 4 * devices::kBoltzmann * (celsius + devices::kZeroCelsius);
   const double vt = devices::kBoltzmann * (celsius + devices::kZeroCelsius) / devices::kCharge;
-  // Inputs: bias currents drawn from the pins (into the amplifier when positive).
-  net.isource(n("IBP"), kRole, pins.plus, "0", q.ib_plus_a);
+  // Inputs: bias currents drawn from the pins (into the amplifier when positive). An input
+  // on ground (the inverting stage's + input on a split supply) takes them from ground itself:
+  // no element (its two ends would be one net).
+  const bool plus_grounded = pins.plus == "0";
+  if (!plus_grounded) net.isource(n("IBP"), kRole, pins.plus, "0", q.ib_plus_a);
   net.isource(n("IBN"), kRole, pins.minus, "0", q.ib_minus_a);
   // Current noise: a resistor's thermal noise voltage turned into a current into each pin.
   if (q.in_a_rthz > 0) {
     const double g = q.in_a_rthz / std::sqrt(kt4 * kNoiseOhm);
-    net.resistor(n("RNIP"), kRole, n("nip"), "0", kNoiseOhm);
-    net.vccs(n("GNIP"), kRole, "0", pins.plus, n("nip"), "0", g);
+    if (!plus_grounded) {
+      net.resistor(n("RNIP"), kRole, n("nip"), "0", kNoiseOhm);
+      net.vccs(n("GNIP"), kRole, "0", pins.plus, n("nip"), "0", g);
+    }
     net.resistor(n("RNIM"), kRole, n("nim"), "0", kNoiseOhm);
     net.vccs(n("GNIM"), kRole, "0", pins.minus, n("nim"), "0", g);
   }
