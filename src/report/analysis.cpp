@@ -528,14 +528,16 @@ Json device_json(const StageUnderTest& stage) {
 }
 
 Json conditions_json(const stages::Conditions& c) {
-  return {{"supply", (c.negative_rail ? -c.supply_v : c.supply_v)},
-          {"load", c.load_ohm},
-          {"load_cap", c.load_farads > 0 ? Json(c.load_farads) : Json(nullptr)},
-          {"source_z", c.source_ohm},
-          {"temp", c.celsius},
-          {"band", c.band_lo_hz > 0 || c.band_hi_hz > 0 ? Json::array({c.band_lo_hz, c.band_hi_hz}) : Json(nullptr)},
-          {"hd2_at", c.hd2_peak_v},
-          {"noise_at", c.noise_f_hz}};
+  Json j = {{"supply", (c.negative_rail ? -c.supply_v : c.supply_v)},
+            {"load", c.load_ohm},
+            {"load_cap", c.load_farads > 0 ? Json(c.load_farads) : Json(nullptr)},
+            {"source_z", c.source_ohm},
+            {"temp", c.celsius},
+            {"band", c.band_lo_hz > 0 || c.band_hi_hz > 0 ? Json::array({c.band_lo_hz, c.band_hi_hz}) : Json(nullptr)},
+            {"hd2_at", c.hd2_peak_v},
+            {"noise_at", c.noise_f_hz}};
+  if (c.split_supply) j["split"] = true;  // rails at +supply and -supply (only then: older documents stay as they were)
+  return j;
 }
 
 Json part_json(const PartStress& p) {

@@ -40,6 +40,19 @@ std::string stage_designator(const synth::Candidate& c, std::string_view designa
 }
 }  // namespace
 
+namespace {
+/// A net for people in the report: an op-amp's pin by its name ("the op-amp output of U1"),
+/// every other net as the pick list says it (net_for_people).
+std::string net_words_here(const std::string& net, const synth::Candidate& c) {
+  if (c.topology && !c.is_chain() && opamp_stage(*c.topology)) {
+    const std::string words = c.topology->net_words(net);
+    if (words.starts_with("op-amp "))
+      return fmt::format("the {} of {}", words.substr(7), stage_designator(c, c.topology->device_designator()));
+  }
+  return net_for_people(net, c);
+}
+}  // namespace
+
 std::string transistor_designator(const synth::Candidate& c) {
   return stage_designator(c, c.topology ? c.topology->device_designator() : std::string_view("Q1"));
 }
@@ -173,7 +186,7 @@ std::vector<std::string> all_cautions(const ReportInput& in, const Analysis& a) 
       const std::string part = fmt::format("{} ({})", rp.designator, rp.role);
       const bool named = std::any_of(cautions.begin(), cautions.end(),
                                      [&](const std::string& s) { return synth::is_polarised_caution(s, part); });
-      if (!named) cautions.push_back(synth::polarised_caution(part, net_for_people(rp.plus_net, in.candidate)));
+      if (!named) cautions.push_back(synth::polarised_caution(part, net_words_here(rp.plus_net, in.candidate)));
     }
   return cautions;
 }
@@ -441,8 +454,9 @@ std::string bias_caption(const ReportInput& in, const BiasSpread& b, int n_in) {
 std::string opamp_bias_note(const ReportInput& in) {
   return fmt::format(
       "<section id=\"bias\"><h2>Bias spread</h2><p class=\"muted\">No bias picture for an op-amp stage: {} has "
-      "no load line to bias on (its loop holds the output at the reference); the output's DC over the corners is "
-      "in the figures below, the DC error from each corner's offset and bias currents.</p></section>",
+      "no load line to bias on (its loop holds the output at its reference, mid-rail or ground); the output's DC "
+      "over the corners is in the figures below, the DC error from each corner's offset and bias "
+      "currents.</p></section>",
       esc(transistor_designator(in.candidate)));
 }
 
@@ -596,7 +610,7 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
     if (!(p.info.rating > 0) && k.empty()) check = "check the rating", k = "note";
     std::string plus;
     if (!r && p.info.polarised)
-      plus = "+ to " + net_for_people(p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net, c);
+      plus = "+ to " + net_words_here(p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net, c);
     rows.push_back(
         {p.designator, p.name, value, recipe, p.info.tol, p.info.dielectric, stress, rating, use, plus, check});
     cls.push_back(k);
