@@ -445,11 +445,13 @@ std::vector<OpampFound> find_opamps(const circuit::Circuit& c) {
   return out;
 }
 
-/// NOTES 6: the - input goes on top unless the signal enters on the + input: a part of the
-/// stage's joins the input ("in") to the + input's net.
+/// NOTES 6: the - input goes on top unless the signal enters on the + input: the + input is
+/// on the input ("in": a chain's later stage, fed by the stage before), or a part of the
+/// stage's joins the input to it.
 bool minus_on_top(const circuit::Circuit& c, const OpampFound& m) {
   const auto in = c.find_net("in");
   if (!in) return true;
+  if (m.plus == *in) return false;
   for (const auto& el : c.elements()) {
     const auto& e = el.c;
     const bool two_ends = e.kind == ElementKind::resistor || e.kind == ElementKind::capacitor;

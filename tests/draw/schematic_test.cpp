@@ -20,6 +20,7 @@
 #include <set>
 
 #include "shelfstage/error.hpp"
+#include "shelfstage/stages/chain.hpp"
 #include "shelfstage/stages/topology.hpp"
 #include "support/browser.hpp"
 #include "support/palette_check.hpp"
@@ -523,6 +524,37 @@ TEST_CASE("lay_out: an op-amp stage is one triangle, drawn as textbooks draw the
       if (m.terminal && m.text == "out" && split) CHECK(std::abs(m.at.x - pin("U1", 2).at.x) < 1);
   }
   CHECK(stages_seen == 6);
+}
+
+TEST_CASE("lay_out: an op-amp stage later in a chain (fed on its input by the stage before) is drawn the same way") {
+  // A chain's second stage has no CIN: its + input is the input net itself, and its parts
+  // carry the stage in the hundreds (U201, R201 ...).
+  const auto& t = *stages::find_topology("opamp-noninv");
+  stages::Transistor q;
+  q.kind = devices::DeviceKind::opamp;
+  q.opamp = {.gbw_hz = 1e6,
+             .aol = 2e5,
+             .slew_v_per_s = 5e5,
+             .out_drop_hi_v = 1.5,
+             .out_drop_lo_v = 1.5,
+             .out_drop_ohm = 100,
+             .iout_max_a = 0.025,
+             .iq_a = 2e-3};
+  stages::Conditions cond;
+  cond.supply_v = 12;
+  const auto c = stages::chain_stage_netlist({&t, t.reference(q, cond, {}), q}, 1, cond);
+  SchematicOptions o;
+  for (const auto& r : t.roles()) o.places[std::string(r.name)] = {r.at.x, r.at.y, r.at.vertical, r.at.label};
+  for (const auto& n : t.inner_nets()) {
+    o.net_levels[std::string(n.name)] = n.level;
+    o.net_orders[std::string(n.name)] = n.order;
+  }
+  const auto s = lay_out(c, o);
+  check_wiring(c, s, "opamp-noninv as stage 2");
+  const auto u =
+      std::find_if(s.symbols.begin(), s.symbols.end(), [](const PlacedSymbol& y) { return y.designator == "U201"; });
+  REQUIRE(u != s.symbols.end());
+  CHECK_FALSE(u->minus_on_top);  // the signal still enters on top, at the + input
 }
 
 TEST_CASE("lay_out: what it cannot draw is an input error naming the part") {
