@@ -35,6 +35,7 @@ struct AnalyzeOptions {
   std::vector<std::string> ratings;  ///< ROLE=RATING (W or V)
   std::optional<std::string> piece, temp, band, hd2_at, spice, load_cap;
   std::string max_distortion = "1%";
+  bool split = false;  ///< --split: rails at +supply and -supply, ground between
 };
 
 bool same_name(std::string_view a, std::string_view b) {
@@ -108,6 +109,9 @@ stages::Conditions conditions_from(const AnalyzeOptions& o) {
   const Supply supply = parse_supply("--supply", o.supply, false);
   c.supply_v = supply.lo_v;
   c.negative_rail = supply.negative;
+  if (o.split && supply.negative)
+    throw InputError(fmt::format("--supply '{}' with --split: give the rails' magnitude (15 for +/-15 V)", o.supply));
+  c.split_supply = o.split;
   c.load_ohm = positive("--load", o.load, Unit::ohm);
   if (o.load_cap) c.load_farads = positive("--load-cap", *o.load_cap, Unit::farad);
   c.source_ohm = parse_quantity("--source-z", o.source_z, Unit::ohm);
@@ -140,7 +144,13 @@ stages::Conditions conditions_from(const AnalyzeOptions& o) {
 std::string device_line(const report::StageUnderTest& s, const devices::DeviceSpread& spread) {
   const auto& q = s.transistor;
   std::string figures;
-  if (devices::is_jfet(q.kind))
+  if (q.kind == devices::DeviceKind::opamp)
+    figures = fmt::format("GBW {}, Aol {:.3g}, slew {:.3g} V/us, Vos {}, Ib+ {}, Ib- {}, Iq {}",
+                          format_value(q.opamp.gbw_hz, Unit::hertz), q.opamp.aol, q.opamp.slew_v_per_s * 1e-6,
+                          format_value(q.opamp.vos_v, Unit::volt), format_value(q.opamp.ib_plus_a, Unit::ampere),
+                          format_value(q.opamp.ib_minus_a, Unit::ampere),
+                          q.opamp.iq_a > 0 ? format_value(q.opamp.iq_a, Unit::ampere) : std::string("not stated"));
+  else if (devices::is_jfet(q.kind))
     figures = fmt::format("IDSS {}, VP {}, lambda {:g}/V", format_value(q.jfet.idss_a, Unit::ampere),
                           format_value(-devices::polarity(q.kind) * q.jfet.vp_abs_v, Unit::volt), q.jfet.lambda_per_v);
   else
@@ -188,14 +198,33 @@ std::vector<report::PartInfo> part_ratings(const stages::Topology& t, const stag
   return parts;
 }
 
+/// The topologies built for a split supply, for an error message.
+std::string split_topologies() {
+  std::vector<std::string> names;
+  for (const stages::Topology* t : stages::registry())
+    if (t->supply_form() == stages::SupplyForm::split) names.emplace_back(t->name());
+  return fmt::format("{}", fmt::join(names, ", "));
+}
+
 /// The device from the list (or its measured piece) fitted to the stage at its temperature, and
 /// a pair's Q2; returns their spreads for the corner pieces.
 synth::StageSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::StageUnderTest& s) {
   const stages::Topology& t = *s.topology;
   auto db = ctx.open_database();
   const devices::DeviceRecord record = device_named(db, o.device);
-  if (!devices::is_transistor(record.kind))
+  const bool opamp_stage = t.accepts(devices::DeviceKind::opamp);
+  if (!devices::is_transistor(record.kind) && !opamp_stage)
     throw InputError(fmt::format("--device '{}' is an op-amp; {} is a transistor stage", record.name, t.name()));
+  if (devices::is_transistor(record.kind) && opamp_stage)
+    throw InputError(fmt::format("--device '{}' is a transistor ({}); {} is an op-amp stage", record.name,
+                                 devices::kind_name(record.kind), t.name()));
+  // The supply the stage is built for: a split one only with --split, and --split only there.
+  if (t.supply_form() == stages::SupplyForm::split && !s.conditions.split_supply)
+    throw InputError(
+        fmt::format("--split is missing: {} works from a split supply (--supply 15 --split for +/-15 V)", t.name()));
+  if (t.supply_form() == stages::SupplyForm::single && s.conditions.split_supply)
+    throw InputError(fmt::format("--split: {} works from one rail and ground; the split-supply stages are {}", t.name(),
+                                 split_topologies()));
   if (!t.accepts(record.kind))
     throw InputError(fmt::format("--device '{}' ({}) does not fit {} ({})", o.device, devices::kind_name(record.kind),
                                  t.name(), t.summary()));
@@ -205,7 +234,9 @@ synth::StageSpread fit_device(Context& ctx, const AnalyzeOptions& o, report::Sta
   s.device = record.name;
   if (piece) s.piece = piece->label;
   s.transistor.kind = record.kind;
-  if (devices::is_jfet(record.kind))
+  if (record.kind == devices::DeviceKind::opamp)
+    s.transistor.opamp = spread.opamp(spread.nominal(), s.conditions.celsius);
+  else if (devices::is_jfet(record.kind))
     s.transistor.jfet = spread.jfet(spread.nominal(), s.conditions.celsius);
   else
     s.transistor.bjt = spread.bjt(spread.nominal(), s.conditions.celsius);
@@ -257,9 +288,12 @@ void print_analysis(Context& ctx, const AnalyzeOptions& o, const report::Analysi
   const auto& c = a.stage.conditions;
   ctx.out << fmt::format("Stage: {}: {}\n", t.name(), t.summary());
   ctx.out << device_line(s, spread.first()) << "\n";
-  ctx.out << fmt::format("Conditions: {}{} rail (ground at the battery's {} terminal), load {}{}, source {}\n\n",
-                         c.negative_rail ? "-" : "+", format_value(c.supply_v, Unit::volt), c.negative_rail ? "+" : "-",
-                         format_value(c.load_ohm, Unit::ohm),
+  const std::string rail =
+      c.split_supply
+          ? fmt::format("\u00b1{} split supply (ground between the rails)", format_value(c.supply_v, Unit::volt))
+          : fmt::format("{}{} rail (ground at the battery's {} terminal)", c.negative_rail ? "-" : "+",
+                        format_value(c.supply_v, Unit::volt), c.negative_rail ? "+" : "-");
+  ctx.out << fmt::format("Conditions: {}, load {}{}, source {}\n\n", rail, format_value(c.load_ohm, Unit::ohm),
                          c.load_farads > 0 ? " with " + format_value(c.load_farads, Unit::farad) + " across it" : "",
                          format_value(c.source_ohm, Unit::ohm));
   ctx.out << report::parts_text(a) << "\n";
@@ -297,7 +331,11 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
   CLI::App* cmd = parent.add_subcommand(
       "analyze", "The full analysis of a stage given part by part (a board already built, or one on paper)");
   cmd->add_option("TOPOLOGY", o->topology, "One of: " + stages::topology_names())->type_name("")->required();
-  cmd->add_option("--device", o->device, "Transistor type from the device list")->type_name("NAME")->required();
+  cmd->add_option(
+         "--device", o->device,
+         "Device type from the device list: a transistor for a transistor stage, an op-amp for an op-amp stage")
+      ->type_name("NAME")
+      ->required();
   cmd->add_option("--device2", o->device2,
                   "A feedback pair's second transistor (Q2): a bipolar type of the other polarity (of the same for "
                   "bjt-fb-pair-same)")
@@ -305,6 +343,9 @@ void setup_analyze(CLI::App& parent, Context& ctx) {
   cmd->add_option("--supply", o->supply, "Supply voltage: 9 for a positive rail, -9 for a negative one")
       ->type_name("V")
       ->required();
+  cmd->add_flag("--split", o->split,
+                "The supply is split: rails at +V and -V with ground between (--supply 15 --split for +/-15 V); "
+                "for the split-supply op-amp stages, which need it");
   cmd->add_option("--load", o->load, "Load resistance at the output (10k, 4k7)")->type_name("OHMS")->required();
   cmd->add_option("--load-cap", o->load_cap, "Capacitance across the load, e.g. a cable's (470p); default none")
       ->type_name("FARADS");

@@ -45,9 +45,37 @@ std::string amps(double v) { return format_value(v, Unit::ampere); }
 std::string ohms(double v) { return format_value(v, Unit::ohm); }
 std::string hertz(double v) { return v > 0 ? format_value(v, Unit::hertz) : "none"; }
 
+// An op-amp's stress beside its ratings (synth::DeviceStress NOTES): its supply span against
+// 80 % of its absolute maximum and within its operating range, its differential input, its
+// dissipation against half its package's rating derated to the ambient.
+void opamp_stress_rows(report::TextTable& t, const synth::Candidate& c, const synth::Spec& spec) {
+  const auto& w = c.worst;
+  const auto& r = c.device.ratings;
+  const auto& o = c.device.opamp;
+  const std::string u(c.topology->device_designator());
+  const double k = spec.split_supply ? 2.0 : 1.0;
+  const synth::Range span{k * spec.supply_lo_v, k * spec.supply_hi_v, false};
+  t.add_row({fmt::format("{} supply span V+ - V- (allowed {}{})", u,
+                         r.v_max_v ? volts(synth::kDeviceVoltageShare * *r.v_max_v) + " absolute, " : "",
+                         o.vs_max_v > 0 ? fmt::format("{}..{} operating", volts(o.vs_min_v), volts(o.vs_max_v))
+                                        : std::string("operating range not stated")),
+             range_text(span, volts)});
+  t.add_row(
+      {fmt::format("{} differential input{}", u,
+                   r.v_rev_max_v ? fmt::format(" (allowed {})", volts(synth::kDeviceVoltageShare * *r.v_rev_max_v))
+                                 : std::string(" (rating not stated)")),
+       range_text(w.device_rev, volts)});
+  t.add_row({fmt::format("{} dissipation{}", u,
+                         r.p_max_w ? fmt::format(" (allowed {})",
+                                                 units::format_value(synth::kDevicePowerShare * w.device_p_allowed.min,
+                                                                     Unit::watt))
+                                   : std::string(" (rating not stated)")),
+             range_text(w.device_p, [](double v) { return units::format_value(v, Unit::watt); })});
+}
+
 std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
   const auto& w = c.worst;
-  const auto names = c.topology->node_names();
+  const auto names = report::node_labels(*c.topology);
   std::string out = fmt::format(
       "Worst case over {} evaluations (closed form: device corners, part tolerances at their bounds, supply {}, "
       "{}):\n",
@@ -58,10 +86,10 @@ std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
                   : fmt::format("{:g} °C", spec.temp_nominal_c()));
   report::TextTable t({{""}, {"min .. max", report::Align::right}});
   t.add_row({"gain", range_text(w.gain, report::fixed3)});
-  t.add_row({names[2] == "drain" ? "drain current" : "collector current", range_text(w.bias_current, amps)});
-  t.add_row({fmt::format("V({})", names[0]), range_text(w.v_in, volts)});
-  t.add_row({fmt::format("V({})", names[1]), range_text(w.v_common, volts)});
-  t.add_row({fmt::format("V({})", names[2]), range_text(w.v_out, volts)});
+  t.add_row({report::device_current_name(*c.topology), range_text(w.bias_current, amps)});
+  t.add_row({names[0], range_text(w.v_in, volts)});
+  t.add_row({names[1], range_text(w.v_common, volts)});
+  t.add_row({names[2], range_text(w.v_out, volts)});
   t.add_row({fmt::format("rated peak (THD {:g} % or less)", 100 * spec.max_thd), range_text(w.swing_peak, volts)});
   if (!w.thd.empty)
     t.add_row({fmt::format("THD at {} peak", volts(spec.swing_vpp ? *spec.swing_vpp / 2 : 1.0)),
@@ -71,7 +99,9 @@ std::string worst_text(const synth::Candidate& c, const synth::Spec& spec) {
   t.add_row({"-3 dB low", range_text(w.f_low, hertz)});
   t.add_row({"-3 dB high", range_text(w.f_high, hertz)});
   t.add_row({"supply current", range_text(w.supply_current, amps)});
-  if (!w.device_v.empty) {
+  if (!w.device_v.empty && c.device.kind == devices::DeviceKind::opamp) {
+    opamp_stress_rows(t, c, spec);
+  } else if (!w.device_v.empty) {
     // The transistor's stress beside its ratings (80 % of a voltage, half the derated dissipation).
     const auto& r = c.device.ratings;
     const bool jfet = devices::is_jfet(c.device.kind);

@@ -26,7 +26,11 @@ using Side = PlacedSymbol::Side;
 constexpr double kRailSupply = 2;   // y of the supply rail
 constexpr double kRailGround = 27;  // y of the ground rail
 constexpr double kWidth = 36;
-constexpr double kUprightShift = 6;  // NOTES 2b
+constexpr double kUprightShift = 6;    // NOTES 2b
+constexpr double kSecondSupply = 4.5;  // NOTES 6: the sheet widens by this for VEE
+// NOTES 6: the op-amp's place: the triangle's centre. Its inputs at x - 3.5 (2 above and 2
+// below the centre), its output at x + 3.5, the triangle itself from x - 2.5 to x + 2.5.
+constexpr Point kOpampAt{20.5, 16};
 constexpr double kHeight = 29.5;
 
 constexpr double kForbidden = 1e6;  // a route that must not be drawn
@@ -71,6 +75,7 @@ struct Frame {
 std::optional<Slot> slot_for(std::string_view role, std::string_view designator, const Frame& f,
                              const SchematicOptions& o) {
   const double dx = f.shift();
+  if (role == "supply" && designator != "VDD") return Slot{31 + kSecondSupply + dx, 16, true, Side::right};
   if (role == "supply") return Slot{31 + dx, 16, true, Side::right};
   if (role == "signal") return Slot{2, 18, true, Side::right};
   if (role == "source") return Slot{5, 14, false, Side::above};
@@ -101,6 +106,8 @@ double vertical_rank(std::string_view net, const SchematicOptions& o) {
   if (net == "vdd") return 0;
   if (net == "drain" || net == "collector") return 1;
   if (net == "gate" || net == "base" || net == "sig" || net == "in" || net == "out") return 2;
+  if (net == "plus" || net == "minus") return 2;  // an op-amp's inputs
+  if (net == "opout") return 1;
   if (net == "source" || net == "emitter") return 3;
   if (net == "0") return 5;
   const auto it = o.net_levels.find(net);
@@ -110,8 +117,8 @@ double vertical_rank(std::string_view net, const SchematicOptions& o) {
 double horizontal_rank(std::string_view net, const SchematicOptions& o) {
   if (net == "sig") return 0;
   if (net == "in") return 1;
-  if (net == "gate" || net == "base") return 2;
-  if (net == "drain" || net == "collector" || net == "source" || net == "emitter") return 3;
+  if (net == "gate" || net == "base" || net == "plus" || net == "minus") return 2;
+  if (net == "drain" || net == "collector" || net == "source" || net == "emitter" || net == "opout") return 3;
   if (net == "out") return 4;
   const auto it = o.net_orders.find(net);
   return it == o.net_orders.end() ? 2.5 : it->second;
@@ -163,6 +170,8 @@ double conflict(const Wire& a, const Wire& b) {
 }
 
 struct Router {
+  std::vector<std::size_t> free_nets;  ///< NOTES 6: nets on an op-amp pin
+  std::vector<PlacedPin> opamp_pins;   ///< ... and those pins
   std::vector<Box> bodies;
   std::vector<PlacedPin> all_pins;
   std::vector<Wire> done;  // wires of nets already routed
@@ -245,7 +254,7 @@ SymbolKind symbol_kind(const circuit::Circuit& c, const circuit::Component& e, c
     case ElementKind::isource:
     case ElementKind::vccs:
     case ElementKind::vcvs:
-    case ElementKind::diode: break;  // macro-model elements: no topology draws them yet
+    case ElementKind::diode: break;  // macro-model elements: never drawn (NOTES 6)
   }
   return SymbolKind::resistor;
 }
@@ -404,19 +413,142 @@ PlacedSymbol place(const Placing& pl, const circuit::Component& e) {
   return sym;
 }
 
+/// NOTES 6: an op-amp's macro-model in the netlist: its designator and its pins' nets.
+struct OpampFound {
+  std::string designator;
+  std::size_t plus = 0, minus = 0, out = 0, v_pos = 0, v_neg = 0;
+};
+
+constexpr std::string_view kDeviceModel = "device model";
+
+std::vector<OpampFound> find_opamps(const circuit::Circuit& c) {
+  std::vector<OpampFound> out;
+  for (const auto& el : c.elements()) {
+    const std::string& d = el.c.designator;
+    if (el.c.role != kDeviceModel || d.size() < 5 || !d.ends_with(".VOS")) continue;
+    OpampFound m;
+    m.designator = d.substr(0, d.size() - 4);
+    m.plus = el.c.pins[1];
+    const auto* g = c.find(m.designator + ".G1");
+    const auto* r = c.find(m.designator + ".ROUT");
+    const auto* hi = c.find(m.designator + ".VCLP");
+    const auto* lo = c.find(m.designator + ".VCLN");
+    if (!g || !r || !hi || !lo)
+      throw InputError(
+          fmt::format("schematic: the op-amp model {} lacks the elements that name its pins", m.designator));
+    m.minus = g->c.pins[3];
+    m.out = r->c.pins[1];
+    m.v_pos = hi->c.pins[0];
+    m.v_neg = lo->c.pins[1];
+    out.push_back(std::move(m));
+  }
+  return out;
+}
+
+/// NOTES 6: the - input goes on top unless the signal enters on the + input: the + input is
+/// on the input ("in": a chain's later stage, fed by the stage before), or a part of the
+/// stage's joins the input to it.
+bool minus_on_top(const circuit::Circuit& c, const OpampFound& m) {
+  const auto in = c.find_net("in");
+  if (!in) return true;
+  if (m.plus == *in) return false;
+  for (const auto& el : c.elements()) {
+    const auto& e = el.c;
+    const bool two_ends = e.kind == ElementKind::resistor || e.kind == ElementKind::capacitor;
+    if (!two_ends || is_bench_role(e.role) || e.role == kDeviceModel) continue;
+    if ((e.pins[0] == *in && e.pins[1] == m.plus) || (e.pins[1] == *in && e.pins[0] == m.plus)) return false;
+  }
+  return true;
+}
+
+/// A rail's name on an op-amp's supply lead: empty for ground (its sign is drawn).
+std::string rail_name(const std::string& net) {
+  if (net == "0") return {};
+  std::string up = net;
+  for (char& ch : up) ch = static_cast<char>(std::toupper(static_cast<unsigned char>(ch)));
+  return up;
+}
+
+/// NOTES 6: the op-amp's symbol at the template's place, its pins in pl.pins.
+PlacedSymbol place_opamp(const Placing& pl, const OpampFound& m) {
+  PlacedSymbol sym;
+  sym.designator = m.designator;
+  sym.role = "device";
+  sym.kind = SymbolKind::opamp;
+  sym.centre = kOpampAt;
+  sym.label_side = Side::right;
+  sym.minus_on_top = minus_on_top(pl.c, m);
+  const Point q = sym.centre;
+  const double plus_y = sym.minus_on_top ? q.y + 2 : q.y - 2, minus_y = sym.minus_on_top ? q.y - 2 : q.y + 2;
+  // The output first: the terminal mark "out" of a split-supply stage goes on it, not on a
+  // buffer's - input, which is the same net.
+  pl.pins.push_back({m.designator, 2, m.out, {q.x + 3.5, q.y}, {1, 0}});
+  pl.pins.push_back({m.designator, 0, m.plus, {q.x - 3.5, plus_y}, {-1, 0}});
+  pl.pins.push_back({m.designator, 1, m.minus, {q.x - 3.5, minus_y}, {-1, 0}});
+  // The triangle, its supply leads with their names and the ground sign.
+  sym.body = {q.x - 2.9, q.y - 4.4, q.x + 2.7, q.y + 4.5};
+  sym.rail_hi = rail_name(pl.c.net_name(m.v_pos));
+  sym.rail_lo = rail_name(pl.c.net_name(m.v_neg));
+  sym.label.push_back(m.designator);
+  const auto it = pl.o.notes.find(m.designator);
+  if (it != pl.o.notes.end()) {
+    if (!it->second.value.empty()) sym.label.push_back(it->second.value);
+    if (!it->second.detail.empty()) sym.label.push_back(it->second.detail);
+  }
+  return sym;
+}
+
 /// The wires of one net (NOTES 4): along its rail, or the cheapest trunk through one of its
 /// pins; an InputError when every way crosses a part.
+/// The cheapest trunk for pins: through one of them or, for a net on an op-amp pin (NOTES 6),
+/// also clear of them.
+std::pair<std::vector<Wire>, double> best_trunk(const Router& r, const std::vector<PlacedPin>& pins, std::size_t net,
+                                                bool free) {
+  std::pair<std::vector<Wire>, double> best{{}, std::numeric_limits<double>::infinity()};
+  for (const auto& p : pins)
+    for (double off : {0.0, 3.0, -3.0, 4.0, -4.0, 5.0, -5.0, 6.0, -6.0}) {
+      if (off != 0 && !free) break;
+      for (bool vertical : {true, false}) {
+        auto cand = r.along(pins, vertical, (vertical ? p.at.x : p.at.y) + off, net);
+        if (cand.second < best.second) best = std::move(cand);
+      }
+    }
+  return best;
+}
+
 std::vector<Wire> route_net(const Router& r, const circuit::Circuit& c, const std::vector<PlacedPin>& pins,
                             std::size_t net) {
   std::pair<std::vector<Wire>, double> best{{}, std::numeric_limits<double>::infinity()};
   if (is_rail(c.net_name(net))) {
     best = r.along(pins, false, c.net_name(net) == "vdd" ? kRailSupply : kRailGround, net);
   } else {
-    for (const auto& p : pins)
-      for (bool vertical : {true, false}) {
-        auto cand = r.along(pins, vertical, vertical ? p.at.x : p.at.y, net);
-        if (cand.second < best.second) best = std::move(cand);
+    // NOTES 6: a net on an op-amp pin may also run clear of its pins, over or under the
+    // triangle (a feedback wire from the output back to an input).
+    const bool free = std::find(r.free_nets.begin(), r.free_nets.end(), net) != r.free_nets.end();
+    best = best_trunk(r, pins, net, free);
+    if (free && best.second >= kForbidden) {
+      // One trunk cannot take both a feedback wire and the rest (a buffer's output on a split
+      // supply: back under the triangle to its - input, and on to the load): the op-amp's
+      // pins on their own trunk, then the rest with its output pin on another.
+      std::vector<PlacedPin> own, rest;
+      for (const auto& p : pins) {
+        const bool of_opamp = std::any_of(r.opamp_pins.begin(), r.opamp_pins.end(), [&](const PlacedPin& q) {
+          return q.designator == p.designator && q.pin == p.pin;
+        });
+        (of_opamp ? own : rest).push_back(p);
       }
+      const auto anchor = std::find_if(own.begin(), own.end(), [](const PlacedPin& p) { return p.pin == 2; });
+      if (own.size() >= 2 && !rest.empty() && anchor != own.end()) {
+        auto a = best_trunk(r, own, net, true);
+        rest.push_back(*anchor);
+        auto b = best_trunk(r, rest, net, true);
+        if (a.second < kForbidden && b.second < kForbidden) {
+          best.first = a.first;
+          best.first.insert(best.first.end(), b.first.begin(), b.first.end());
+          best.second = a.second + b.second;
+        }
+      }
+    }
   }
   if (best.second >= kForbidden)
     throw InputError(fmt::format("schematic: net '{}' cannot be wired without crossing a part", c.net_name(net)));
@@ -429,6 +561,13 @@ void route(const circuit::Circuit& c, Schematic& s) {
   Router r;
   for (const auto& sym : s.symbols) r.bodies.push_back(sym.body);
   r.all_pins = s.pins;
+  for (const auto& sym : s.symbols)
+    if (sym.kind == SymbolKind::opamp)
+      for (const auto& p : s.pins)
+        if (p.designator == sym.designator) {
+          r.free_nets.push_back(p.net);
+          r.opamp_pins.push_back(p);
+        }
 
   std::vector<std::size_t> order;
   for (std::size_t v = 0; v < c.net_count(); ++v)
@@ -497,6 +636,17 @@ void add_rail_marks(const circuit::Circuit& c, Schematic& s) {
               units::format_value(std::abs(src->c.value), units::Unit::volt);
     s.marks.push_back({*vdd, {supply_left, kRailSupply}, text, false});
   }
+  // NOTES 6: a second supply's free end, named with its voltage.
+  for (const auto& el : c.elements()) {
+    if (el.c.role != "supply" || el.c.designator == "VDD") continue;
+    for (const auto& p : s.pins)
+      if (p.designator == el.c.designator && c.net_name(p.net) != "0")
+        s.marks.push_back({p.net,
+                           {p.at.x - 1.2, p.at.y - 0.4},
+                           fmt::format("{} {}{}", el.c.designator, el.c.value >= 0 ? "+" : "\u2212",
+                                       units::format_value(std::abs(el.c.value), units::Unit::volt)),
+                           false});
+  }
   s.ground_symbol = {ground_left < s.width ? ground_left : 2, kRailGround};
 }
 
@@ -513,8 +663,13 @@ Schematic lay_out(const circuit::Circuit& c, const SchematicOptions& o) {
     frame.upright2 = !is_rail(c.net_name(el.c.pins[2]));
   }
   s.width = kWidth + frame.shift();
+  for (const auto& el : c.elements())
+    if (el.c.role == "supply" && el.c.designator != "VDD") s.width += kSecondSupply;  // NOTES 6
   const Placing pl{c, o, turned_over(c), frame, s.pins};
-  for (const auto& el : c.elements()) s.symbols.push_back(place(pl, el.c));
+  // Op-amps first: a net's terminal mark goes on the first pin of a stage part (NOTES 6).
+  for (const auto& m : find_opamps(c)) s.symbols.push_back(place_opamp(pl, m));
+  for (const auto& el : c.elements())
+    if (el.c.role != kDeviceModel) s.symbols.push_back(place(pl, el.c));
   route(c, s);
   add_junctions(s);
   add_terminal_marks(c, o, s);
@@ -669,6 +824,38 @@ void draw_bjt(const Stroke& k) {
     arrow(pen, {a.x + 0.2 * d.x, a.y + 0.2 * d.y}, {-d.x, -d.y}, ink);
 }
 
+// NOTES 6: the triangle, its inputs marked - and + inside, the output at the apex, and the
+// supply leads from its top and bottom edges: named for their rails (a ground sign for ground).
+void draw_opamp(const Stroke& k) {
+  const Pen& pen = k.pen;
+  const std::string& ink = k.ink;
+  const Point q = k.s.centre;
+  pen.filled({{q.x - 2.5, q.y - 3.5}, {q.x - 2.5, q.y + 3.5}, {q.x + 2.5, q.y}}, kDeviceFill);
+  pen.polyline({{q.x - 2.5, q.y - 3.5}, {q.x - 2.5, q.y + 3.5}, {q.x + 2.5, q.y}, {q.x - 2.5, q.y - 3.5}}, ink, 1.8);
+  for (double dy : {-2.0, 2.0}) pen.line({q.x - 3.5, q.y + dy}, {q.x - 2.5, q.y + dy}, ink, k.w);
+  pen.line({q.x + 2.5, q.y}, {q.x + 3.5, q.y}, ink, k.w);
+  const double top = k.s.minus_on_top ? -2.0 : 2.0;  // the - input's side
+  pen.line({q.x - 2.15, q.y + top}, {q.x - 1.55, q.y + top}, ink, 1.8);
+  plus_sign(pen, {q.x - 1.85, q.y - top}, ink);
+  // Supply leads at the middle of the sloping edges (which fall 0.7 per unit towards the apex).
+  const double edge_hi = q.y - 3.5 + 0.7 * 2.5, edge_lo = q.y + 3.5 - 0.7 * 2.5;
+  pen.line({q.x, edge_hi}, {q.x, q.y - 3.5}, ink, k.w);
+  pen.line({q.x, edge_lo}, {q.x, q.y + 3.25}, ink, k.w);
+  auto name = [&](const std::string& rail, double y) {
+    const Point p = pen.px({q.x - 0.3, y});
+    pen.svg.text(p, rail, 10.5, "end", kMuted, "bold");
+  };
+  if (!k.s.rail_hi.empty()) name(k.s.rail_hi, q.y - 3.1);
+  if (k.s.rail_lo.empty()) {
+    const double y = q.y + 3.25;
+    pen.line({q.x - 0.5, y}, {q.x + 0.5, y}, ink, 2);
+    pen.line({q.x - 0.3, y + 0.22}, {q.x + 0.3, y + 0.22}, ink, 2);
+    pen.line({q.x - 0.12, y + 0.44}, {q.x + 0.12, y + 0.44}, ink, 2);
+  } else {
+    name(k.s.rail_lo, q.y + 3.55);
+  }
+}
+
 void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
   const Stroke k{
       pen, s, s.bench ? kBench : kInk, 1.8, Local{s.centre, s.vertical}, s.plus_pin == s.first_end ? -1.0 : 1.0};
@@ -682,6 +869,7 @@ void draw_symbol(const Pen& pen, const PlacedSymbol& s) {
     case SymbolKind::pjfet: return draw_jfet(k);
     case SymbolKind::npn:
     case SymbolKind::pnp: return draw_bjt(k);
+    case SymbolKind::opamp: return draw_opamp(k);
   }
 }
 
@@ -696,6 +884,7 @@ void draw_label(const Pen& pen, const PlacedSymbol& s) {
   switch (s.label_side) {
     case Side::right:
       at = {s.centre.x + (transistor ? 2.1 : source ? 1.2 : 0.85), s.centre.y - gap * (n - 1) / 2 + 0.2};
+      if (s.kind == SymbolKind::opamp) at = {s.centre.x + 0.7, s.centre.y - 3.3};  // over the upper edge
       break;
     case Side::left:
       if (transistor) {

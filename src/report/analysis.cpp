@@ -45,12 +45,19 @@ bool same_name(std::string_view a, std::string_view b) {
 // A transistor of a kind the topology takes (netlist building only looks at the polarity).
 stages::Transistor placeholder(const stages::Topology& t) {
   stages::Transistor q;
-  for (auto k :
-       {devices::DeviceKind::njfet, devices::DeviceKind::npn, devices::DeviceKind::pjfet, devices::DeviceKind::pnp}) {
+  for (auto k : {devices::DeviceKind::njfet, devices::DeviceKind::npn, devices::DeviceKind::pjfet,
+                 devices::DeviceKind::pnp, devices::DeviceKind::opamp}) {
     if (t.accepts(k)) {
       q.kind = k;
       break;
     }
+  }
+  if (q.kind == devices::DeviceKind::opamp) {  // a macro-model needs figures to build its elements
+    q.opamp.gbw_hz = 1e6;
+    q.opamp.aol = 1e5;
+    q.opamp.slew_v_per_s = 1e6;
+    q.opamp.out_drop_hi_v = q.opamp.out_drop_lo_v = 1;
+    q.opamp.iout_max_a = 0.02;
   }
   q.jfet.kind = q.kind;
   q.bjt.kind = q.kind;
@@ -81,9 +88,7 @@ const stages::Stress* stress_of(const stages::Performance& p, std::size_t role) 
   return nullptr;
 }
 
-std::string current_name(const stages::Topology& t) {
-  return t.node_names()[2] == "drain" ? "drain current" : "collector current";
-}
+std::string current_name(const stages::Topology& t) { return device_current_name(t); }
 
 std::string gain_text(double g) { return fmt::format("{} ({:.1f} dB)", fixed3(g), units::to_db(g)); }
 std::string hz_text(double f) { return f > 0 ? format_value(f, Unit::hertz) : "none found"; }
@@ -94,7 +99,7 @@ std::string noise_text(double n) { return fmt::format("{:.3g} nV/√Hz", n * 1e9
 Json or_null(double v) { return v > 0 ? Json(v) : Json(nullptr); }
 
 Json performance_json(const stages::Topology& t, const stages::Performance& p) {
-  const auto names = t.node_names();
+  const auto names = node_keys(t);
   Json j;
   j["valid"] = p.valid;
   j["active"] = p.active;
@@ -102,7 +107,7 @@ Json performance_json(const stages::Topology& t, const stages::Performance& p) {
   j["gain"] = p.gain;
   j["gain_db"] = p.gain != 0 ? Json(units::to_db(p.gain)) : Json(nullptr);
   j["bias_current"] = p.bias_current_a;
-  j["nodes"] = {{std::string(names[0]), p.v_in}, {std::string(names[1]), p.v_common}, {std::string(names[2]), p.v_out}};
+  j["nodes"] = {{names[0], p.v_in}, {names[1], p.v_common}, {names[2], p.v_out}};
   j["zin"] = p.zin_ohm;
   j["zout"] = p.zout_ohm;
   j["f_low"] = or_null(p.f_low_hz);
@@ -137,13 +142,14 @@ std::string ohms(double v) { return format_value(v, Unit::ohm); }
 std::vector<FigureRow> figure_rows(const Analysis& a) {
   const auto& t = *a.stage.topology;
   const auto& c = a.stage.conditions;
-  const auto names = t.node_names();
+  const auto names = node_keys(t);
+  const auto labels = node_labels(t);
   const stages::Performance& f = a.closed_form;
   const stages::Performance& e = a.best();
   std::vector<FigureRow> rows = {
-      {"nodes." + std::string(names[0]), fmt::format("V({})", names[0]), e.v_in, f.v_in, kFloorV, volts},
-      {"nodes." + std::string(names[1]), fmt::format("V({})", names[1]), e.v_common, f.v_common, kFloorV, volts},
-      {"nodes." + std::string(names[2]), fmt::format("V({})", names[2]), e.v_out, f.v_out, kFloorV, volts},
+      {"nodes." + names[0], labels[0], e.v_in, f.v_in, kFloorV, volts},
+      {"nodes." + names[1], labels[1], e.v_common, f.v_common, kFloorV, volts},
+      {"nodes." + names[2], labels[2], e.v_out, f.v_out, kFloorV, volts},
       {"bias_current", (a.stage.transistor.paired ? "Q1 " : "") + current_name(t), e.bias_current_a, f.bias_current_a,
        kFloorA, amps},
       {"supply_current", "supply current", e.supply_current_a, f.supply_current_a, kFloorA, amps},
@@ -377,13 +383,17 @@ PartStress part_stress(const Analysis& a, std::size_t i) {
 // What is wrong with the bias point itself, if anything (empty: it amplifies).
 std::string bias_warning(const Analysis& a) {
   const stages::Performance& best = a.best();
+  const bool opamp = opamp_stage(*a.stage.topology);
   if (!best.valid)
-    return fmt::format("the transistor does not conduct ({}): the stage does not amplify",
+    return fmt::format("the {} does not conduct ({}): the stage does not amplify", opamp ? "op-amp" : "transistor",
                        best.problem.empty() ? a.closed_form.problem : best.problem);
   if (best.active) return {};
   const std::string why = !best.problem.empty()            ? best.problem
                           : !a.closed_form.problem.empty() ? a.closed_form.problem
                                                            : "out of its amplifying region";
+  if (opamp)
+    return fmt::format(
+        "the op-amp is out of its linear range ({}): the small-signal figures do not describe a linear amplifier", why);
   return fmt::format(
       "the transistor is {} at the bias point: the small-signal figures do not describe "
       "a linear amplifier",
@@ -420,7 +430,9 @@ std::vector<CornerFigures> corner_figures(const StageUnderTest& stage, const dev
   for (const auto& f : spread.corners())
     for (const auto& f2 : seconds) {
       stages::Transistor qc = stage.transistor;
-      if (devices::is_jfet(qc.kind))
+      if (qc.kind == devices::DeviceKind::opamp)
+        qc.opamp = spread.opamp(f, c.celsius);
+      else if (devices::is_jfet(qc.kind))
         qc.jfet = spread.jfet(f, c.celsius);
       else
         qc.bjt = spread.bjt(f, c.celsius);
@@ -496,7 +508,9 @@ namespace {
 Json device_json(const StageUnderTest& stage) {
   const auto& q = stage.transistor;
   Json model;
-  if (devices::is_jfet(q.kind)) {
+  if (q.kind == devices::DeviceKind::opamp) {
+    model = opamp_piece_json(q.opamp);
+  } else if (devices::is_jfet(q.kind)) {
     model["idss"] = q.jfet.idss_a;
     model["vp"] = -devices::polarity(q.kind) * q.jfet.vp_abs_v;
     model["lambda"] = q.jfet.lambda_per_v;
@@ -505,21 +519,25 @@ Json device_json(const StageUnderTest& stage) {
     model["bf"] = q.bjt.bf;
     model["vaf"] = q.bjt.vaf_v;
   }
-  return {{"name", stage.device},
-          {"kind", std::string(devices::kind_name(q.kind))},
-          {"piece", text_or_null(stage.piece)},
-          {"model", model}};
+  Json j = {{"name", stage.device},
+            {"kind", std::string(devices::kind_name(q.kind))},
+            {"piece", text_or_null(stage.piece)},
+            {"model", model}};
+  if (opamp_stage(*stage.topology)) j["designator"] = std::string(stage.topology->device_designator());
+  return j;
 }
 
 Json conditions_json(const stages::Conditions& c) {
-  return {{"supply", (c.negative_rail ? -c.supply_v : c.supply_v)},
-          {"load", c.load_ohm},
-          {"load_cap", c.load_farads > 0 ? Json(c.load_farads) : Json(nullptr)},
-          {"source_z", c.source_ohm},
-          {"temp", c.celsius},
-          {"band", c.band_lo_hz > 0 || c.band_hi_hz > 0 ? Json::array({c.band_lo_hz, c.band_hi_hz}) : Json(nullptr)},
-          {"hd2_at", c.hd2_peak_v},
-          {"noise_at", c.noise_f_hz}};
+  Json j = {{"supply", (c.negative_rail ? -c.supply_v : c.supply_v)},
+            {"load", c.load_ohm},
+            {"load_cap", c.load_farads > 0 ? Json(c.load_farads) : Json(nullptr)},
+            {"source_z", c.source_ohm},
+            {"temp", c.celsius},
+            {"band", c.band_lo_hz > 0 || c.band_hi_hz > 0 ? Json::array({c.band_lo_hz, c.band_hi_hz}) : Json(nullptr)},
+            {"hd2_at", c.hd2_peak_v},
+            {"noise_at", c.noise_f_hz}};
+  if (c.split_supply) j["split"] = true;  // rails at +supply and -supply (only then: older documents stay as they were)
+  return j;
 }
 
 Json part_json(const PartStress& p) {
@@ -554,7 +572,9 @@ Json part_json(const PartStress& p) {
 Json corner_json(const stages::Topology& t, devices::DeviceKind kind, const CornerFigures& cf) {
   Json cj;
   cj["tag"] = cf.piece.tag;
-  if (devices::is_jfet(kind)) {
+  if (kind == devices::DeviceKind::opamp) {
+    cj["opamp"] = opamp_piece_json(cf.piece.opamp);  // at 25 °C, as the spread states it
+  } else if (devices::is_jfet(kind)) {
     cj["idss"] = cf.piece.idss_a;
     cj["vp"] = -devices::polarity(kind) * cf.piece.vp_abs_v;
   } else {
@@ -690,8 +710,16 @@ std::string parts_text(const Analysis& a) {
 // give: "hFE min (110), VBE -30 mV" reads "hFE min, VBE -30 mV".
 std::string short_tag(std::string tag) {
   const auto open = tag.find(" (");
-  const auto close = tag.find(')', open);
-  if (open != std::string::npos && close != std::string::npos) tag.erase(open, close - open + 1);
+  if (open == std::string::npos) return tag;
+  // To the parenthesis that closes it: an op-amp corner's figures hold parentheses of their own.
+  int depth = 0;
+  for (std::size_t i = open + 1; i < tag.size(); ++i) {
+    if (tag[i] == '(') ++depth;
+    if (tag[i] == ')' && --depth == 0) {
+      tag.erase(open, i - open + 1);
+      break;
+    }
+  }
   return tag;
 }
 
@@ -701,8 +729,56 @@ std::string margin_shown(const std::optional<stages::LoopGain>& g) {
   return g->crosses() ? fmt::format("{:.0f}\u00b0", g->phase_margin_deg) : "no crossover";
 }
 
+namespace {
+
+// An op-amp's corners: the figures a corner piece moves (GBW, offset, each input's bias
+// current) and what they move at the output (its DC, the gain, the rated peak, the margin).
+std::string opamp_corners_text(const Analysis& a) {
+  const auto& t = *a.stage.topology;
+  const bool looped =
+      std::any_of(a.corners.begin(), a.corners.end(), [](const auto& cf) { return cf.loop.has_value(); });
+  std::vector<Column> cols = {{"piece"},
+                              {"GBW", Align::right},
+                              {"Vos", Align::right},
+                              {"Ib+", Align::right},
+                              {"Ib-", Align::right},
+                              {node_labels(t)[2], Align::right},
+                              {"gain", Align::right},
+                              {"rated pk", Align::right}};
+  if (looped) cols.push_back({"margin", Align::right});
+  cols.push_back({"state"});
+  TextTable table(cols);
+  for (const auto& cf : a.corners) {
+    const auto& q = cf.piece.opamp;
+    const auto& p = cf.performance;
+    std::vector<std::string> row = {short_tag(cf.piece.tag), format_value(q.gbw_hz, Unit::hertz),
+                                    format_value(q.vos_v, Unit::volt), format_value(q.ib_plus_a, Unit::ampere),
+                                    format_value(q.ib_minus_a, Unit::ampere)};
+    if (p.valid) {
+      row.push_back(format_value(p.v_out, Unit::volt));
+      row.push_back(fixed3(p.gain));
+      row.push_back(format_value(p.swing_peak_v, Unit::volt));
+    } else {
+      row.insert(row.end(), {"", "", ""});
+    }
+    if (looped) row.push_back(margin_shown(cf.loop));
+    row.push_back(p.valid && p.active ? "ok" : p.problem.empty() ? "not linear" : p.problem);
+    table.add_row(row);
+  }
+  std::string out = fmt::format(
+      "The closed form at the op-amp's {} corner pieces ({}, {:g} °C), to show how far another piece moves the "
+      "output; a piece at the lower GBW has its slew rate and open-loop gain at their minima too, and Ib+ and Ib- "
+      "are the bias currents into the inputs:\n",
+      a.corners.size(), a.spread, a.stage.conditions.celsius);
+  out += table.render({"  "});
+  return out;
+}
+
+}  // namespace
+
 std::string corners_text(const Analysis& a) {
   if (a.corners.empty()) return {};
+  if (a.stage.transistor.kind == devices::DeviceKind::opamp) return opamp_corners_text(a);
   const auto& t = *a.stage.topology;
   const auto& q = a.stage.transistor;
   const bool jfet = devices::is_jfet(q.kind);
@@ -783,6 +859,16 @@ std::string stage_spice(const StageUnderTest& s) {
     for (std::size_t pin : q->c.pins) {
       const std::string n = circuit::spice_net(net, pin);
       if (n != "0") nodes += fmt::format(" v({})", n);
+    }
+  } else if (opamp_stage(t)) {  // the op-amp's pins: + input, - input, output (each once)
+    std::vector<std::string> seen;
+    for (std::string_view name : t.node_names()) {
+      const auto v = net.find_net(std::string(name));
+      if (!v) continue;
+      const std::string n = circuit::spice_net(net, *v);
+      if (n == "0" || std::find(seen.begin(), seen.end(), n) != seen.end()) continue;
+      seen.push_back(n);
+      nodes += fmt::format(" v({})", n);
     }
   }
   o.analyses = spice_run_lines(nodes);

@@ -143,11 +143,12 @@ std::string chain_html_report(const ReportInput& in) {
     const auto& s = sin.candidate;
     const Analysis& a = analyses[k];
     synth::take_hazard_caution(cautions, a.cautions);
-    const BiasSpread b = bias_spread(s, sin.spec, in.bias_samples);
+    const bool opamp = s.device.kind == devices::DeviceKind::opamp;
+    const BiasSpread b = opamp ? BiasSpread{} : bias_spread(s, sin.spec, in.bias_samples);
     std::string h = fmt::format("<section id=\"stage\"><h2>Stage {}: {} with {}</h2><p>{}</p></section>", k + 1,
                                 esc(s.topology->name()), esc(device_text(s)), esc(s.topology->summary()));
     h += schematic_section(sin);
-    h += bias_section(sin, b);
+    h += opamp ? opamp_bias_note(sin) : bias_section(sin, b);
     h += parts_section(sin, a);
     stage_html += prefix_ids(h, fmt::format("s{}-", k + 1));
   }

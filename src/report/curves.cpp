@@ -276,6 +276,7 @@ std::optional<BiasPoint> bias_point(const stages::Topology& t, const std::string
     so.celsius = cond.celsius;
     const auto op = circuit::solve_dc(net, so);
     BiasPoint p;
+    if (op.devices.empty()) return std::nullopt;  // no transistor: no bias point to draw
     p.v = op.v(net, node);
     p.i_a = std::abs(op.devices.front().i_main_a);
     p.tag = tag;
@@ -366,6 +367,8 @@ BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int s
   if (samples < 0 || samples > 100000)
     throw InputError(fmt::format("bias samples {} must be from 0 to 100000", samples));
   const auto& t = *c.topology;
+  if (c.device.kind == devices::DeviceKind::opamp)
+    throw InputError(fmt::format("bias spread: {} is an op-amp stage, which has no load line to bias on", t.name()));
   const synth::StageSpread spread = synth::spread_of(c);
   const double celsius = spec.temp_nominal_c();
   const stages::Transistor q0 = synth::make_transistor(spread, spread.nominal(), celsius);

@@ -47,6 +47,7 @@ synth::Join join_from(const std::string& s) {
 
 // Names of the three device-terminal nodes as the JSON spells them (docs/interface.md).
 std::array<std::string, 3> node_keys(const synth::Candidate& c) {
+  if (c.device.kind == devices::DeviceKind::opamp) return {"plus", "minus", "output"};
   if (devices::is_jfet(c.device.kind)) return {"gate", "source", "drain"};
   return {"base", "emitter", "collector"};
 }
@@ -154,7 +155,9 @@ Json device_json(const synth::Candidate& c) {
   dev["name"] = units::escape_text(c.device.name);
   dev["kind"] = std::string(devices::kind_name(c.device.kind));
   Json model;
-  if (devices::is_jfet(c.device.kind)) {
+  if (c.device.kind == devices::DeviceKind::opamp) {
+    model = opamp_piece_json(c.nominal_device.opamp);
+  } else if (devices::is_jfet(c.device.kind)) {
     model["idss"] = c.nominal_device.jfet.idss_a;
     model["vp"] = devices::polarity(c.device.kind) * -c.nominal_device.jfet.vp_abs_v;
     model["lambda"] = c.nominal_device.jfet.lambda_per_v;
@@ -258,6 +261,25 @@ Json worst_json(const synth::Candidate& c) {
 Json transistor_json(const synth::Candidate& c) {
   const auto& w = c.worst;
   const auto& r = c.device.ratings;
+  if (c.device.kind == devices::DeviceKind::opamp) {
+    // U1: v_main is its supply span, v_reverse its differential input (DeviceStress NOTES);
+    // its operating range and the nominal piece's figures beside them.
+    const auto& o = c.device.opamp;
+    return {{"designator", std::string(c.topology->device_designator())},
+            {"v_main", range(w.device_v)},
+            {"v_max", number_or_null(r.v_max_v)},
+            {"v_reverse", range(w.device_rev)},
+            {"v_rev_max", number_or_null(r.v_rev_max_v)},
+            {"power", range(w.device_p)},
+            {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr) : Json(w.device_p_allowed.min)},
+            {"p_max", number_or_null(r.p_max_w)},
+            {"voltage_share", synth::kDeviceVoltageShare},
+            {"power_share", synth::kDevicePowerShare},
+            {"rated", r.any()},
+            {"vs_min", o.vs_min_v},
+            {"vs_max", o.vs_max_v},
+            {"opamp", opamp_piece_json(c.nominal_device.opamp)}};
+  }
   return {{"designator", "Q1"},
           {"v_main", range(w.device_v)},
           {"v_max", number_or_null(r.v_max_v)},
@@ -287,6 +309,17 @@ Json transistor2_json(const synth::Candidate& c) {
 }
 
 }  // namespace
+
+Json opamp_piece_json(const devices::OpampInstance& q) {
+  return {{"gbw", q.gbw_hz},
+          {"aol", q.aol},
+          {"pole2", q.pole2_hz > 0 ? Json(q.pole2_hz) : Json(nullptr)},
+          {"slew", q.slew_v_per_s},
+          {"vos", q.vos_v},
+          {"ib_plus", q.ib_plus_a},
+          {"ib_minus", q.ib_minus_a},
+          {"iq", q.iq_a > 0 ? Json(q.iq_a) : Json(nullptr)}};
+}
 
 Json loop_gain_json(const stages::LoopGain& g) {
   return {{"gain", g.mid},

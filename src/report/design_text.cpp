@@ -24,6 +24,28 @@ std::string thd_cell(const synth::Range& thd) {
 
 }  // namespace
 
+bool opamp_stage(const stages::Topology& t) { return t.accepts(devices::DeviceKind::opamp); }
+
+std::array<std::string, 3> node_keys(const stages::Topology& t) {
+  if (opamp_stage(t)) return {"plus", "minus", "output"};
+  const auto n = t.node_names();
+  return {std::string(n[0]), std::string(n[1]), std::string(n[2])};
+}
+
+std::array<std::string, 3> node_labels(const stages::Topology& t) {
+  if (opamp_stage(t)) {
+    const std::string u(t.device_designator());
+    return {fmt::format("V({} +in)", u), fmt::format("V({} -in)", u), fmt::format("V({} out)", u)};
+  }
+  const auto n = t.node_names();
+  return {fmt::format("V({})", n[0]), fmt::format("V({})", n[1]), fmt::format("V({})", n[2])};
+}
+
+std::string device_current_name(const stages::Topology& t) {
+  if (opamp_stage(t)) return fmt::format("{} supply current (quiescent)", t.device_designator());
+  return t.node_names()[2] == "drain" ? "drain current" : "collector current";
+}
+
 std::string upper_corner(double f_hz) {
   // The device models carry no transit time or base resistance: an upper corner beyond
   // 1 GHz says only that the stage is not what limits the bandwidth.

@@ -62,6 +62,8 @@ std::string card_strip(const std::vector<std::pair<std::string, std::string>>& c
 std::string schematic_section(const ReportInput& in);
 std::string response_section(const ReportInput& in, const Response& r);
 std::string bias_section(const ReportInput& in, const BiasSpread& b);
+/// In place of the bias pictures for an op-amp stage: why there are none (one line).
+std::string opamp_bias_note(const ReportInput& in);
 std::string parts_section(const ReportInput& in, const Analysis& a);
 std::string pick_section(const ReportInput& in);
 

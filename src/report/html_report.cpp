@@ -40,7 +40,22 @@ std::string stage_designator(const synth::Candidate& c, std::string_view designa
 }
 }  // namespace
 
-std::string transistor_designator(const synth::Candidate& c) { return stage_designator(c, "Q1"); }
+namespace {
+/// A net for people in the report: an op-amp's pin by its name ("the op-amp output of U1"),
+/// every other net as the pick list says it (net_for_people).
+std::string net_words_here(const std::string& net, const synth::Candidate& c) {
+  if (c.topology && !c.is_chain() && opamp_stage(*c.topology)) {
+    const std::string words = c.topology->net_words(net);
+    if (words.starts_with("op-amp "))
+      return fmt::format("the {} of {}", words.substr(7), stage_designator(c, c.topology->device_designator()));
+  }
+  return net_for_people(net, c);
+}
+}  // namespace
+
+std::string transistor_designator(const synth::Candidate& c) {
+  return stage_designator(c, c.topology ? c.topology->device_designator() : std::string_view("Q1"));
+}
 
 std::string second_transistor_designator(const synth::Candidate& c) { return stage_designator(c, "Q2"); }
 
@@ -171,7 +186,7 @@ std::vector<std::string> all_cautions(const ReportInput& in, const Analysis& a) 
       const std::string part = fmt::format("{} ({})", rp.designator, rp.role);
       const bool named = std::any_of(cautions.begin(), cautions.end(),
                                      [&](const std::string& s) { return synth::is_polarised_caution(s, part); });
-      if (!named) cautions.push_back(synth::polarised_caution(part, net_for_people(rp.plus_net, in.candidate)));
+      if (!named) cautions.push_back(synth::polarised_caution(part, net_words_here(rp.plus_net, in.candidate)));
     }
   return cautions;
 }
@@ -250,8 +265,7 @@ std::string header_section(const ReportInput& in, const Analysis& a) {
   h += fmt::format("<p class=\"muted\">Request: {}</p>", esc(spec_line(in.spec)));
   h += fmt::format("<p class=\"muted\">Kept {}; every figure below recomputed from the device list as it is now.</p>",
                    esc(in.created));
-  const auto names = c.topology->node_names();
-  const auto cards = figure_cards(p, c.yield, {amps(p.bias_current_a), std::string(names[2]) + " current"});
+  const auto cards = figure_cards(p, c.yield, {amps(p.bias_current_a), device_current_name(*c.topology)});
   h += hazard_box(all_cautions(in, a));
   h += card_strip(cards) + "</header>";
   return h;
@@ -437,6 +451,15 @@ std::string bias_caption(const ReportInput& in, const BiasSpread& b, int n_in) {
 
 }  // namespace
 
+std::string opamp_bias_note(const ReportInput& in) {
+  return fmt::format(
+      "<section id=\"bias\"><h2>Bias spread</h2><p class=\"muted\">No bias picture for an op-amp stage: {} has "
+      "no load line to bias on (its loop holds the output at its reference, mid-rail or ground); the output's DC "
+      "over the corners is in the figures below, the DC error from each corner's offset and bias "
+      "currents.</p></section>",
+      esc(transistor_designator(in.candidate)));
+}
+
 std::string bias_section(const ReportInput& in, const BiasSpread& b) {
   const std::string current_name = devices::is_jfet(in.candidate.device.kind) ? "drain current" : "collector current";
   draw::Plot p;
@@ -533,6 +556,37 @@ std::string swing_section(const Transfer& tr) {
   return h + "</section>";
 }
 
+namespace {
+
+// An op-amp's row of the parts table (synth::DeviceStress NOTES): its supply current at its
+// supply span, the worst span, differential input and dissipation; its ratings (the absolute
+// maximum span, the operating range, the differential input, the package); the largest share.
+void opamp_row(const ReportInput& in, const Analysis& a, std::string& stress, std::string& rating, std::string& use) {
+  const auto& c = in.candidate;
+  const auto& w = c.worst;
+  const auto& rt = c.device.ratings;
+  const auto& o = c.device.opamp;
+  const double k = in.spec.split_supply ? 2.0 : 1.0;
+  stress = fmt::format("{} from a {} span", amps(a.best().bias_current_a), volts(k * c.conditions.supply_v));
+  if (!w.device_v.empty)
+    stress += fmt::format("; up to {} span, {} between the inputs, {}", volts(w.device_v.max), volts(w.device_rev.max),
+                          watts(w.device_p.max));
+  auto opt = [](const std::optional<double>& v, std::string (*f)(double)) { return v ? f(*v) : std::string("?"); };
+  rating = fmt::format("supply {} (operating {} \u2026 {}), inputs {} apart, {} at 25 °C", opt(rt.v_max_v, volts),
+                       volts(o.vs_min_v), volts(o.vs_max_v), opt(rt.v_rev_max_v, volts), opt(rt.p_max_w, watts));
+  use = "\u2014";
+  if (!w.device_v.empty && (rt.v_max_v || rt.p_max_w || o.vs_max_v > 0)) {
+    double share = o.vs_max_v > 0 ? w.device_v.max / o.vs_max_v : 0.0;
+    if (rt.v_max_v) share = std::max(share, w.device_v.max / (synth::kDeviceVoltageShare * *rt.v_max_v));
+    if (rt.v_rev_max_v) share = std::max(share, w.device_rev.max / (synth::kDeviceVoltageShare * *rt.v_rev_max_v));
+    if (rt.p_max_w && w.device_p_allowed.min > 0)
+      share = std::max(share, w.device_p.max / (synth::kDevicePowerShare * w.device_p_allowed.min));
+    use = fmt::format("{:.0f} %", share * 100);
+  }
+}
+
+}  // namespace
+
 std::string parts_section(const ReportInput& in, const Analysis& a) {
   const auto& c = in.candidate;
   std::vector<std::vector<std::string>> rows;
@@ -556,7 +610,7 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
     if (!(p.info.rating > 0) && k.empty()) check = "check the rating", k = "note";
     std::string plus;
     if (!r && p.info.polarised)
-      plus = "+ to " + net_for_people(p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net, c);
+      plus = "+ to " + net_words_here(p.info.fitted_plus_net.empty() ? p.plus_net : p.info.fitted_plus_net, c);
     rows.push_back(
         {p.designator, p.name, value, recipe, p.info.tol, p.info.dielectric, stress, rating, use, plus, check});
     cls.push_back(k);
@@ -573,10 +627,10 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
       stress += fmt::format("; up to {}, {} reverse, {}", volts(w.device_v.max), volts(w.device_rev.max),
                             watts(w.device_p.max));
     auto opt = [](const std::optional<double>& v, std::string (*f)(double)) { return v ? f(*v) : std::string("?"); };
-    const std::string rating =
-        rt.any() ? fmt::format("{} {}, {} {}, {} at 25 °C", jfet ? "VDS" : "VCEO", opt(rt.v_max_v, volts),
-                               jfet ? "VGS" : "VEBO", opt(rt.v_rev_max_v, volts), opt(rt.p_max_w, watts))
-                 : "not stated";
+    std::string rating = rt.any()
+                             ? fmt::format("{} {}, {} {}, {} at 25 °C", jfet ? "VDS" : "VCEO", opt(rt.v_max_v, volts),
+                                           jfet ? "VGS" : "VEBO", opt(rt.v_rev_max_v, volts), opt(rt.p_max_w, watts))
+                             : "not stated";
     std::string use = "\u2014";
     if (!w.device_v.empty && (rt.v_max_v || rt.p_max_w)) {
       double share = 0;
@@ -586,6 +640,7 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
         share = std::max(share, w.device_p.max / (synth::kDevicePowerShare * w.device_p_allowed.min));
       use = fmt::format("{:.0f} %", share * 100);
     }
+    if (c.device.kind == devices::DeviceKind::opamp) opamp_row(in, a, stress, rating, use);
     rows.push_back({transistor_designator(c), "device", c.device.name + (c.piece ? " (" + c.piece->label + ")" : ""),
                     kind_text(c.device.kind), "", "", stress, rating, use, "", rt.any() ? "ok" : "check the ratings"});
     cls.emplace_back(rt.any() ? "" : "note");
@@ -623,7 +678,15 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
          "less a quarter of margin, each transistor's voltages against 80 % of its maximum ratings and its "
          "dissipation against half its rating derated to the warmest ambient (common practice); its voltage is the "
          "whole rail, which it holds when cut off. Stress from the exact operating point; a capacitor also takes "
-         "the output's signal peak.</p></section>";
+         "the output's signal peak." +
+         std::string(c.device.kind == devices::DeviceKind::opamp
+                         ? " An op-amp's supply span V+ \u2212 V\u2212 is held against 80 % of its absolute maximum "
+                           "and within its operating range, the voltage between its inputs against 80 % of its "
+                           "differential rating, and its dissipation (the span times its supply current, plus its "
+                           "output's drop times the output's DC current) against half its package's rating derated "
+                           "to the warmest ambient."
+                         : "") +
+         "</p></section>";
 }
 
 std::string pick_section(const ReportInput& in) {
@@ -680,14 +743,14 @@ std::string figures_section(const ReportInput& in, const Analysis& a) {
   const auto& w = c.worst;
   const auto& x = a.best();
   const auto& f = a.closed_form;
-  const auto names = c.topology->node_names();
+  const auto names = node_labels(*c.topology);
   std::vector<std::vector<std::string>> rows = {
       {"gain (V/V)", signed3(x.gain), signed3(f.gain), range_text(w.gain, signed3)},
-      {std::string(names[2]) + " current", amps(x.bias_current_a), amps(f.bias_current_a),
+      {device_current_name(*c.topology), amps(x.bias_current_a), amps(f.bias_current_a),
        range_text(w.bias_current, amps)},
-      {fmt::format("V({})", names[0]), volts(x.v_in), volts(f.v_in), range_text(w.v_in, volts)},
-      {fmt::format("V({})", names[1]), volts(x.v_common), volts(f.v_common), range_text(w.v_common, volts)},
-      {fmt::format("V({})", names[2]), volts(x.v_out), volts(f.v_out), range_text(w.v_out, volts)},
+      {names[0], volts(x.v_in), volts(f.v_in), range_text(w.v_in, volts)},
+      {names[1], volts(x.v_common), volts(f.v_common), range_text(w.v_common, volts)},
+      {names[2], volts(x.v_out), volts(f.v_out), range_text(w.v_out, volts)},
       {"input impedance", ohms(x.zin_ohm), ohms(f.zin_ohm), range_text(w.zin, ohms)},
       {"output impedance", ohms(x.zout_ohm), ohms(f.zout_ohm), range_text(w.zout, ohms)},
       {"\u22123 dB low", hertz(x.f_low_hz), hertz(f.f_low_hz), range_text(w.f_low, hertz)},
@@ -753,6 +816,7 @@ draw::SchematicOptions schematic_notes(const synth::Candidate& c) {
                                        false, ""};
   if (c.device2) o.notes[second_transistor_designator(c)] = {c.device2->name, kind_text(c.device2->kind), false, ""};
   o.notes["VDD"] = {volts(c.conditions.supply_v), "supply", false, ""};
+  if (c.conditions.split_supply) o.notes["VEE"] = {volts(-c.conditions.supply_v), "supply", false, ""};
   o.notes["VSIG"] = {"signal", "", false, ""};
   o.notes["RSIG"] = {c.conditions.source_ohm > 0 ? synth::compact_value(c.conditions.source_ohm, true) : "0 (ideal)",
                      "source", false, ""};
@@ -767,7 +831,8 @@ std::string html_report(const ReportInput& in) {
   const synth::StageSpread spread = synth::spread_of(c);
   const Analysis a = analyze_stage(stage_under_test(c), &spread.first(), spread.second());
   const Response r = frequency_response(c, in.spec);
-  const BiasSpread b = bias_spread(c, in.spec, in.bias_samples);
+  const bool opamp = c.device.kind == devices::DeviceKind::opamp;
+  const BiasSpread b = opamp ? BiasSpread{} : bias_spread(c, in.spec, in.bias_samples);
   Transfer tr;
   try {
     tr = transfer_curve(c, in.spec);
@@ -780,7 +845,7 @@ std::string html_report(const ReportInput& in) {
   h += header_section(in, a);
   h += schematic_section(in);
   h += response_section(in, r);
-  h += bias_section(in, b);
+  h += opamp ? opamp_bias_note(in) : bias_section(in, b);
   h += swing_section(tr);
   h += parts_section(in, a);
   h += pick_section(in);

@@ -52,12 +52,12 @@ constexpr std::string_view kCrefWhat = "reference decoupling: keeps the supply's
 constexpr std::string_view kCoutWhat = "output coupling: blocks the reference's DC from the load";
 
 constexpr Role kNonInv1[] = {
-    {"RB", "R1", 'R', false, false, "", "", kRbWhat, {13, 19, true, 'l'}},
-    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20, 7, false, 'a'}},
-    {"RG", "R3", 'R', false, false, "", "", "- input to CG: with RF sets the gain", {16, 19, true, 'l'}},
-    {"RA1", "R4", 'R', false, false, "", "", kRa1What, {7, 7, true, 'l'}},
-    {"RA2", "R5", 'R', false, false, "", "", kRa2What, {7, 21, true, 'l'}},
-    {"CIN", "C1", 'C', false, true, "plus", "in", "input coupling", {10, 14, false, 'a'}},
+    {"RB", "R1", 'R', false, false, "", "", kRbWhat, {13, 17.5, true, 'l'}},
+    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20.5, 23, false, 'b'}},
+    {"RG", "R3", 'R', false, false, "", "", "- input to CG: with RF sets the gain", {15.5, 21, true, 'l'}},
+    {"RA1", "R4", 'R', false, false, "", "", kRa1What, {8, 7, true, 'r'}},
+    {"RA2", "R5", 'R', false, false, "", "", kRa2What, {8, 22, true, 'r'}},
+    {"CIN", "C1", 'C', false, true, "plus", "in", "input coupling", {11, 14, false, 'a'}},
     {"CG",
      "C2",
      'C',
@@ -66,14 +66,14 @@ constexpr Role kNonInv1[] = {
      "g",
      "0",
      "holds the gain to one at DC, so the reference is not amplified",
-     {16, 24, true, 'l'}},
-    {"CREF", "C3", 'C', false, true, "ref", "0", kCrefWhat, {4, 21, true, 'l'}},
-    {"COUT", "C4", 'C', false, true, "opout", "out", kCoutWhat, {25, 14, false, 'b'}},
+     {15.5, 25, true, 'l'}},
+    {"CREF", "C3", 'C', false, true, "ref", "0", kCrefWhat, {5, 22, true, 'l'}},
+    {"COUT", "C4", 'C', false, true, "opout", "out", kCoutWhat, {26, 16, false, 'b'}},
 };
 constexpr Role kNonInv2[] = {
-    {"RB", "R1", 'R', false, false, "", "", "+ input to ground: sets the input impedance", {13, 19, true, 'l'}},
-    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20, 7, false, 'a'}},
-    {"RG", "R3", 'R', false, false, "", "", "- input to ground: with RF sets the gain", {16, 19, true, 'l'}},
+    {"RB", "R1", 'R', false, false, "", "", "+ input to ground: sets the input impedance", {13, 17.5, true, 'l'}},
+    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20.5, 23, false, 'b'}},
+    {"RG", "R3", 'R', false, false, "", "", "- input to ground: with RF sets the gain", {15.5, 21, true, 'l'}},
     {"CIN",
      "C1",
      'C',
@@ -82,7 +82,7 @@ constexpr Role kNonInv2[] = {
      "plus",
      "in",
      "input coupling (no DC across it: non-polarised)",
-     {10, 14, false, 'a'}},
+     {11, 14, false, 'a'}},
 };
 constexpr Role kInv1[] = {
     {"RG",
@@ -93,13 +93,13 @@ constexpr Role kInv1[] = {
      "",
      "",
      "input resistor: sets the input impedance and, with RF, the gain",
-     {13, 14, false, 'a'}},
-    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20, 7, false, 'a'}},
-    {"RA1", "R3", 'R', false, false, "", "", kRa1What, {7, 7, true, 'l'}},
-    {"RA2", "R4", 'R', false, false, "", "", kRa2What, {7, 21, true, 'l'}},
-    {"CIN", "C1", 'C', false, true, "g", "in", "input coupling", {10, 14, false, 'a'}},
-    {"CREF", "C2", 'C', false, true, "ref", "0", kCrefWhat, {4, 21, true, 'l'}},
-    {"COUT", "C3", 'C', false, true, "opout", "out", kCoutWhat, {25, 14, false, 'b'}},
+     {15, 14, false, 'a'}},
+    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20.5, 10, false, 'a'}},
+    {"RA1", "R3", 'R', false, false, "", "", kRa1What, {8, 7, true, 'r'}},
+    {"RA2", "R4", 'R', false, false, "", "", kRa2What, {8, 22, true, 'r'}},
+    {"CIN", "C1", 'C', false, true, "g", "in", "input coupling", {11, 14, false, 'a'}},
+    {"CREF", "C2", 'C', false, true, "ref", "0", kCrefWhat, {5, 22, true, 'l'}},
+    {"COUT", "C3", 'C', false, true, "opout", "out", kCoutWhat, {26, 16, false, 'b'}},
 };
 constexpr Role kInv2[] = {
     {"RG",
@@ -110,8 +110,8 @@ constexpr Role kInv2[] = {
      "",
      "",
      "input resistor: sets the input impedance and, with RF, the gain",
-     {13, 14, false, 'a'}},
-    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20, 7, false, 'a'}},
+     {15, 14, false, 'a'}},
+    {"RF", "R2", 'R', false, false, "", "", kRfWhat, {20.5, 10, false, 'a'}},
     {"CIN",
      "C1",
      'C',
@@ -120,18 +120,18 @@ constexpr Role kInv2[] = {
      "g",
      "in",
      "input coupling (no DC across it: non-polarised)",
-     {10, 14, false, 'a'}},
+     {11, 14, false, 'a'}},
 };
 constexpr Role kBuffer1[] = {
-    {"RB", "R1", 'R', false, false, "", "", kRbWhat, {13, 19, true, 'l'}},
-    {"RA1", "R2", 'R', false, false, "", "", kRa1What, {7, 7, true, 'l'}},
-    {"RA2", "R3", 'R', false, false, "", "", kRa2What, {7, 21, true, 'l'}},
-    {"CIN", "C1", 'C', false, true, "plus", "in", "input coupling", {10, 14, false, 'a'}},
-    {"CREF", "C2", 'C', false, true, "ref", "0", kCrefWhat, {4, 21, true, 'l'}},
-    {"COUT", "C3", 'C', false, true, "opout", "out", kCoutWhat, {25, 14, false, 'b'}},
+    {"RB", "R1", 'R', false, false, "", "", kRbWhat, {13, 17.5, true, 'l'}},
+    {"RA1", "R2", 'R', false, false, "", "", kRa1What, {8, 7, true, 'r'}},
+    {"RA2", "R3", 'R', false, false, "", "", kRa2What, {8, 22, true, 'r'}},
+    {"CIN", "C1", 'C', false, true, "plus", "in", "input coupling", {11, 14, false, 'a'}},
+    {"CREF", "C2", 'C', false, true, "ref", "0", kCrefWhat, {5, 22, true, 'l'}},
+    {"COUT", "C3", 'C', false, true, "opout", "out", kCoutWhat, {26, 16, false, 'b'}},
 };
 constexpr Role kBuffer2[] = {
-    {"RB", "R1", 'R', false, false, "", "", "+ input to ground: sets the input impedance", {13, 19, true, 'l'}},
+    {"RB", "R1", 'R', false, false, "", "", "+ input to ground: sets the input impedance", {13, 17.5, true, 'l'}},
     {"CIN",
      "C1",
      'C',
@@ -140,7 +140,7 @@ constexpr Role kBuffer2[] = {
      "plus",
      "in",
      "input coupling (no DC across it: non-polarised)",
-     {10, 14, false, 'a'}},
+     {11, 14, false, 'a'}},
 };
 
 constexpr InnerNet kRefNet = {"ref", "reference (divider tap)", 3.5, {}, 1.5};
@@ -188,7 +188,9 @@ class OpampStage final : public Topology {
   }
   std::span<const Role> roles() const override { return roles_; }
   std::span<const InnerNet> inner_nets() const override { return nets_; }
-  std::array<std::string_view, 3> node_names() const override { return {out_pin(), plus_pin(), minus_pin()}; }
+  // In the order of Performance's v_in, v_common and v_out, as a transistor's (control,
+  // common, main) terminals: the + input, the - input, the output.
+  std::array<std::string_view, 3> node_names() const override { return {plus_pin(), minus_pin(), out_pin()}; }
 
   LoadLine load_line(const Values& v, const Conditions& c) const override {
     // The output pin: no DC load on a single supply (COUT), the load on a split one.
@@ -318,6 +320,11 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
   p.bias_current_a = a.iq_a;
   const double divider_a = split() ? 0.0 : c.supply_v / (at(v, r_.ra1) + at(v, r_.ra2));
   p.supply_current_a = a.iq_a + divider_a + (split() ? std::abs(p.v_out) / c.load_ohm : 0.0);
+  // The output pin's DC: the load on a split supply (COUT blocks it on one supply) and RF
+  // down to the - input (which carries on through RG to ground on a split non-inverting
+  // stage; elsewhere a capacitor stops it and RF carries the bias current alone).
+  p.out_current_a =
+      (split() ? p.v_out / c.load_ohm : 0.0) + (at(v, r_.rf) > 0 ? (p.v_out - p.v_common) / at(v, r_.rf) : 0.0);
 
   // Mid-band: the loop at DC (the op-amp's poles open, every coupling capacitor a short).
   const detail::OpampLoop l = detail::opamp_loop(s);
@@ -341,13 +348,13 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
     // CIN into RB and the reference, whose decoupled impedance R' || C' adds a capacitive
     // part below its corner: v+/v = (RB + Zref) / (Rs + 1/(s CIN) + RB + Zref), second order:
     // s (s + z) / ((s + p1)(s + p2)) times the mid-band divider, z = (RB + R') / (RB R' C'),
-    // p1 p2 the roots of a s^2 + b s + 1 with a = CIN (Rs + RB) R' C', b = CIN (Rs + RB) +
-    // R' C' + CIN R'.
+    // p1 p2 the roots of k2 s^2 + k1 s + 1 with k2 = CIN (Rs + RB) R' C', k1 = CIN (Rs + RB)
+    // + R' C' + CIN R'.
     const double rb = at(v, r_.rb), rs_rb = c.source_ohm + rb;
-    const double a = cin * rs_rb * rref * cref, b = cin * rs_rb + rref * cref + cin * rref;
-    const double root = std::sqrt(std::max(0.0, b * b - 4 * a));
-    lf[n_lf++] = {(b - root) / (2 * a), 0.0};
-    lf[n_lf++] = {(b + root) / (2 * a), (rb + rref) / (rb * rref * cref)};
+    const double k2 = cin * rs_rb * rref * cref, k1 = cin * rs_rb + rref * cref + cin * rref;
+    const double root = std::sqrt(std::max(0.0, k1 * k1 - 4 * k2));
+    lf[n_lf++] = {(k1 - root) / (2 * k2), 0.0};
+    lf[n_lf++] = {(k1 + root) / (2 * k2), (rb + rref) / (rb * rref * cref)};
   } else if (cin > 0) {
     lf[n_lf++] = {1.0 / (cin * (c.source_ohm + zin)), 0.0};
   }

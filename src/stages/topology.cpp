@@ -73,10 +73,10 @@ std::string Topology::net_words(std::string_view net) const {
   if (net == kNetIn) return "input side";
   if (net == kNetOut) return "output side";
   if (const InnerNet* n = inner_net(net)) return std::string(n->words);
-  if (accepts(devices::DeviceKind::opamp)) {  // the op-amp's pins
-    if (net == node_names()[0]) return "op-amp output";
-    if (net == node_names()[1]) return "op-amp + input";
-    if (net == node_names()[2]) return "op-amp - input";
+  if (accepts(devices::DeviceKind::opamp)) {             // the op-amp's pins
+    if (net == node_names()[2]) return "op-amp output";  // first: a buffer's - input is its output
+    if (net == node_names()[0]) return "op-amp + input";
+    if (net == node_names()[1]) return "op-amp - input";
   }
   return std::string(net);
 }

@@ -37,6 +37,9 @@ double least_swing_peak(const Spec& spec);
 double signal_peak(const Spec& spec, const stages::Performance& p);
 /// The nominal gain is within the spec's gain window.
 bool gain_ok(const Spec& spec, double gain);
+/// An op-amp's supply span V+ - V- at a supply magnitude: the supply on one rail, twice it on
+/// a split supply (the rails at +supply and -supply).
+double supply_span(const Spec& spec, double supply);
 /// The transistor's stress at one operating point (DeviceStress NOTES) at an ambient.
 DeviceStress device_stress(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius);
 /// A pair's Q2 the same way: the supply's upper end (cut off, it holds it) or its VCE, its

@@ -76,8 +76,23 @@ double signal_peak(const Spec& spec, const stages::Performance& p) {
   return std::max(spec.swing_vpp ? *spec.swing_vpp / 2 : 0.0, p.clip_peak_v);
 }
 
+double supply_span(const Spec& spec, double supply) { return (spec.split_supply ? 2.0 : 1.0) * std::abs(supply); }
+
 DeviceStress device_stress(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius) {
   DeviceStress d;
+  if (c.device.kind == devices::DeviceKind::opamp) {
+    // DeviceStress NOTES: the op-amp's rails on the user's supply (a stage on a negative
+    // rail sits between it and ground), its output between them.
+    const double span = supply_span(spec, spec.supply_hi_v);
+    const double top = spec.split_supply ? spec.supply_hi_v : (spec.negative_rail ? 0.0 : spec.supply_hi_v);
+    const double drop = p.out_current_a >= 0 ? top - p.v_out : p.v_out - (top - span);
+    d.v_main = span;
+    d.v_low = supply_span(spec, spec.supply_lo_v);
+    d.v_rev = std::abs(p.v_common - p.v_in);
+    d.p_w = span * p.bias_current_a + std::max(0.0, drop) * std::abs(p.out_current_a);
+    d.p_allowed_w = c.device.ratings.p_max_at(celsius);
+    return d;
+  }
   d.v_main = std::max(std::abs(spec.supply_hi_v), std::abs(p.v_out - p.v_common));
   if (devices::is_jfet(c.device.kind)) {
     const double input_peak = std::abs(p.gain) > 0 ? p.clip_peak_v / std::abs(p.gain) : 0.0;
@@ -108,6 +123,33 @@ namespace {
 // kDevicePowerShare of them); empty when it holds.
 std::string rate_device(const devices::DeviceRecord& record, const DeviceStress& d, double celsius) {
   const devices::Ratings& r = record.ratings;
+  if (record.kind == devices::DeviceKind::opamp) {
+    // An op-amp (DeviceStress NOTES): its supply span within the operating range the record
+    // states (the datasheet's recommended span, which already sits below the absolute maximum:
+    // the margin a transistor's voltage gets is the maker's here), and never above the absolute
+    // maximum; with no operating maximum stated, the absolute maximum with a transistor's
+    // margin. Its differential input and its dissipation as a transistor's.
+    const devices::OpampParams& o = record.opamp;
+    const double v_share = o.vs_max_v > 0 ? 1.0 : kDeviceVoltageShare;
+    if (r.v_max_v && d.v_main > v_share * *r.v_max_v * (1 + 1e-9))
+      return fmt::format("rating: {} runs from a supply span of {:.3g} V against its absolute maximum of {:.3g} V",
+                         record.name, d.v_main, *r.v_max_v);
+    if (o.vs_max_v > 0 && d.v_main > o.vs_max_v * (1 + 1e-9))
+      return fmt::format(
+          "rating: {} runs from a supply span of {:.3g} V, above its operating range of {:.3g}..{:.3g} V", record.name,
+          d.v_main, o.vs_min_v, o.vs_max_v);
+    if (o.vs_min_v > 0 && d.v_low < o.vs_min_v * (1 - 1e-9))
+      return fmt::format(
+          "rating: {} runs from a supply span of {:.3g} V, below its operating range of {:.3g}..{:.3g} V", record.name,
+          d.v_low, o.vs_min_v, o.vs_max_v);
+    if (r.v_rev_max_v && d.v_rev > kDeviceVoltageShare * *r.v_rev_max_v)
+      return fmt::format("rating: {} takes {:.3g} V between its inputs against its differential rating of {:.3g} V",
+                         record.name, d.v_rev, *r.v_rev_max_v);
+    if (r.p_max_w && d.p_w > kDevicePowerShare * d.p_allowed_w)
+      return fmt::format("rating: {} dissipates {:.3g} W of the {:.3g} W its package may take at {:g} °C", record.name,
+                         d.p_w, d.p_allowed_w, celsius);
+    return {};
+  }
   const bool jfet = devices::is_jfet(record.kind);
   if (r.v_max_v && d.v_main > kDeviceVoltageShare * *r.v_max_v)
     return fmt::format("rating: {} may hold {:.3g} V against its {} of {:.3g} V", record.name, d.v_main,
@@ -186,19 +228,25 @@ void add_cautions(Candidate& c, const Spec& spec, int next_stage) {
   auto unrated_device = [&](const devices::DeviceRecord& d, const Range& v, const Range& rev, const Range& pw) {
     const devices::Ratings& r = d.ratings;
     std::vector<std::string> missing;
-    const bool jfet = devices::is_jfet(d.kind);
-    if (!r.v_max_v) missing.push_back(jfet ? "VDS(max)" : "VCEO");
-    if (!r.v_rev_max_v) missing.push_back(jfet ? "gate-source reverse voltage" : "VEBO");
-    if (!r.p_max_w) missing.push_back("dissipation");
+    const bool jfet = devices::is_jfet(d.kind), opamp = d.kind == devices::DeviceKind::opamp;
+    if (!r.v_max_v) missing.push_back(opamp ? "absolute maximum supply" : jfet ? "VDS(max)" : "VCEO");
+    if (!r.v_rev_max_v)
+      missing.push_back(opamp ? "differential input rating" : jfet ? "gate-source reverse voltage" : "VEBO");
+    if (!r.p_max_w) missing.push_back(opamp ? "package dissipation" : "dissipation");
     if (missing.empty()) return;
     std::string list;
     for (std::size_t i = 0; i < missing.size(); ++i)
       list += (i == 0 ? "" : i + 1 == missing.size() ? " and " : ", ") + missing[i];
     c.cautions.push_back(fmt::format(
-        "the record of {} states no {}: not checked; it must take {:.3g} V{}{} (compare with its datasheet, and "
+        "the record of {} states no {}: not checked; it must take {:.3g} V{}{}{} (compare with its datasheet, and "
         "add the ratings with `devices add --replace`)",
-        d.name, list, v.empty ? spec.supply_hi_v : v.max,
-        rev.empty || rev.max < 0.05 ? "" : fmt::format(", {:.3g} V reverse", rev.max),
+        d.name, list,
+        !v.empty ? v.max
+        : opamp  ? supply_span(spec, spec.supply_hi_v)
+                 : spec.supply_hi_v,
+        opamp ? " between its supply pins" : "",
+        rev.empty || rev.max < 0.05 ? ""
+                                    : fmt::format(", {:.3g} V {}", rev.max, opamp ? "between its inputs" : "reverse"),
         pw.empty ? "" : fmt::format(" and dissipate {:.3g} mW", 1e3 * pw.max)));
   };
   unrated_device(c.device, w.device_v, w.device_rev, w.device_p);

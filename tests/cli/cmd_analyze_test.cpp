@@ -230,3 +230,61 @@ TEST_CASE("analyze a feedback pair: --device2 names Q2, required for a pair and 
   REQUIRE(plain.status == 0);
   CHECK(nlohmann::json::parse(plain.out)["loop"].is_null());
 }
+
+namespace {
+
+// opamp-noninv with the demo's SA-210 (data-demo/devices.csv) on one 12 V supply.
+std::vector<std::string> opamp_args(const Shelf& s, const std::string& topology, const std::string& device,
+                                    std::vector<std::string> more = {}, const std::string& supply = "12") {
+  std::vector<std::string> a = {"analyze",  topology, "--db",   s.db,  "--device", device,
+                                "--supply", supply,   "--load", "10k", "--part",   "RB=100k"};
+  const bool inverting = topology.starts_with("opamp-inv");
+  const bool split = topology.ends_with("-split");
+  if (inverting) a.pop_back(), a.pop_back();  // no RB: the + input goes to the reference
+  for (const char* p : {"RF=47k", "RG=4k7"}) a.insert(a.end(), {"--part", p});
+  if (!split) {
+    for (const char* p : {"RA1=47k", "RA2=47k", "CREF=10u", "COUT=10u"}) a.insert(a.end(), {"--part", p});
+    if (!inverting) a.insert(a.end(), {"--part", "CG=22u"});
+  }
+  a.insert(a.end(), {"--part", "CIN=1u"});
+  a.insert(a.end(), more.begin(), more.end());
+  return a;
+}
+
+}  // namespace
+
+TEST_CASE("analyze an op-amp stage: U1's figures; a transistor there, or the wrong supply, refused by name") {
+  Shelf s;
+  auto r = test::run_stage_cli(opamp_args(s, "opamp-noninv", "SA-210", {"--json"}));
+  REQUIRE_MESSAGE(r.status == 0, r.err);
+  auto doc = nlohmann::json::parse(r.out);
+  CHECK(doc["device"]["kind"] == "OPAMP");
+  CHECK(doc["device"]["designator"] == "U1");
+  // Gain 1 + RF/RG = 11 (the non-inverting stage's textbook gain; the loop gain of some
+  // hundreds leaves it within 1 %).
+  CHECK(doc["exact"]["gain"].get<double>() == doctest::Approx(11).epsilon(0.01));
+  CHECK(doc["corners"].size() == 16);
+  CHECK(doc["conditions"].contains("split") == false);
+  r = test::run_stage_cli(opamp_args(s, "opamp-noninv", "SA-210"));
+  REQUIRE(r.status == 0);
+  CHECK(r.out.find("U1 supply current (quiescent)") != std::string::npos);
+  CHECK(r.out.find("GBW 1.1MHz") != std::string::npos);
+  // A split-supply stage with --split: +/-12 V.
+  r = test::run_stage_cli(opamp_args(s, "opamp-inv-split", "SA-210", {"--split", "--json"}));
+  REQUIRE_MESSAGE(r.status == 0, r.err);
+  doc = nlohmann::json::parse(r.out);
+  CHECK(doc["conditions"]["split"] == true);
+  CHECK(doc["exact"]["gain"].get<double>() == doctest::Approx(-10).epsilon(0.01));  // -RF/RG
+  // Each mistake one error line naming the option and the value.
+  CHECK(expect_error(opamp_args(s, "opamp-noninv", "SQ-410")).err.find("--device 'SQ-410' is a transistor") !=
+        std::string::npos);
+  const std::vector<std::string> follower = {
+      "analyze", "bjt-follower", "--db",   s.db,      "--device", "SA-210", "--supply", "12",     "--load", "10k",
+      "--part",  "R1=100k",      "--part", "R2=100k", "--part",   "RE=4k7", "--part",   "CIN=1u", "--part", "COUT=10u"};
+  CHECK(expect_error(follower).err.find("--device 'SA-210' is an op-amp") != std::string::npos);
+  CHECK(expect_error(opamp_args(s, "opamp-inv-split", "SA-210")).err.find("--split is missing") != std::string::npos);
+  CHECK(expect_error(opamp_args(s, "opamp-noninv", "SA-210", {"--split"})).err.find("--split: opamp-noninv") !=
+        std::string::npos);
+  CHECK(expect_error(opamp_args(s, "opamp-inv-split", "SA-210", {"--split"}, "-12"))
+            .err.find("--supply '-12' with --split") != std::string::npos);
+}

@@ -50,6 +50,9 @@ function(unexpand out text)
   string(REPLACE "${WORK}" "@WORK@" text "${text}")
   string(REPLACE "${examples}" "@EXAMPLES@" text "${text}")
   string(REPLACE "${SRC}" "@SRC@" text "${text}")
+  # When a design was kept (show): a UTC time in ISO 8601, different on every run.
+  string(REGEX REPLACE "[0-9][0-9][0-9][0-9]-[0-9][0-9]-[0-9][0-9]T[0-9][0-9]:[0-9][0-9]:[0-9][0-9]Z" "@TIME@" text
+                       "${text}")
   set(${out} "${text}" PARENT_SCOPE)
 endfunction()
 

@@ -3,8 +3,9 @@
 // resistors left out), the drawn wires, read back purely as geometry, join exactly the pins
 // the netlist puts on each net; no wire crosses a symbol or touches another net; every tee
 // carries a junction dot; a pair's second transistor has a place of its own and is drawn as
-// its own kind; and the drawing is an SVG that Chromium parses and paints. The stage's places
-// come from its roles, as the report passes them.
+// its own kind; an op-amp is one triangle on its model's nets, the input the signal enters on
+// top; and the drawing is an SVG that Chromium parses and paints. The stage's places come
+// from its roles, as the report passes them.
 #include "shelfstage/draw/schematic.hpp"
 
 #include <doctest/doctest.h>
@@ -19,6 +20,7 @@
 #include <set>
 
 #include "shelfstage/error.hpp"
+#include "shelfstage/stages/chain.hpp"
 #include "shelfstage/stages/topology.hpp"
 #include "support/browser.hpp"
 #include "support/palette_check.hpp"
@@ -54,9 +56,39 @@ SchematicOptions placed(const Variant& v, SchematicOptions o = {}) {
 
 /// The topology's netlist at its reference design: a piece of the variant's polarity on a
 /// 12 V rail, 1k source, 10k load.
+bool opamp_stage(const stages::Topology& t) { return t.accepts(devices::DeviceKind::opamp); }
+
 circuit::Circuit build(const Variant& v) {
   const auto& t = topology(v);
   stages::Transistor q;
+  if (opamp_stage(t)) {
+    // An op-amp piece of the usual order for a general-purpose part (from memory), with both
+    // noise densities, so that every element its model can hold is in the netlist.
+    q.kind = devices::DeviceKind::opamp;
+    q.opamp = {.gbw_hz = 1e6,
+               .aol = 2e5,
+               .pole2_hz = 3e6,
+               .slew_v_per_s = 5e5,
+               .vos_v = 1e-3,
+               .ib_plus_a = 1e-7,
+               .ib_minus_a = 1e-7,
+               .out_drop_hi_v = 1.5,
+               .out_drop_lo_v = 1.5,
+               .out_drop_ohm = 100,
+               .iout_max_a = 0.025,
+               .cm_drop_hi_v = 1.5,
+               .cm_drop_lo_v = 1.5,
+               .en_v_rthz = 1e-8,
+               .in_a_rthz = 5e-13,
+               .iq_a = 2e-3,
+               .vs_min_v = 4,
+               .vs_max_v = 36};
+    stages::Conditions c;
+    c.supply_v = 12;
+    c.split_supply = t.supply_form() == stages::SupplyForm::split;
+    c.source_ohm = 1e3;
+    return t.netlist(t.reference(q, c, {}), q, c);
+  }
   const bool jfet = t.accepts(devices::DeviceKind::njfet);
   q.kind = jfet ? (v.p_type ? devices::DeviceKind::pjfet : devices::DeviceKind::njfet)
                 : (v.p_type ? devices::DeviceKind::pnp : devices::DeviceKind::npn);
@@ -89,6 +121,10 @@ std::vector<Variant> variants() {
     std::vector<std::string> optional;
     for (const auto& r : t->roles())
       if (r.optional && r.kind == 'R') optional.emplace_back(r.name);
+    if (opamp_stage(*t)) {  // no polarity, and built for the rail its topology names
+      out.push_back({std::string(t->name())});
+      continue;
+    }
     for (bool p : {false, true})
       for (bool neg : {false, true})
         for (std::size_t mask = 0; mask < (std::size_t{1} << optional.size()); ++mask) {
@@ -127,12 +163,28 @@ struct Dsu {
 /// Reads the drawing as geometry only and checks it against the netlist graph.
 void check_wiring(const circuit::Circuit& c, const Schematic& s, const std::string& what) {
   INFO(what);
-  // Every pin of every element is drawn once, at the net the graph gives it.
+  // Every pin of every element is drawn once, at the net the graph gives it; an op-amp's
+  // model (its elements "U1.<name>", role "device model") as one symbol U1 whose + input,
+  // - input and output (pins 0, 1, 2) are the nets of the model's input offset source, its
+  // input stage's - control pin and its output resistor (src/stages/opamp_model.cpp).
+  const auto model = [](const circuit::Element& el) { return el.c.role == stages::kRoleDeviceModel; };
   std::size_t expected_pins = 0;
-  for (const auto& el : c.elements()) expected_pins += el.pin_count();
+  for (const auto& el : c.elements()) expected_pins += model(el) ? 0 : el.pin_count();
+  for (const auto& el : c.elements()) {
+    if (!model(el) || !el.c.designator.ends_with(".VOS")) continue;
+    const std::string u = el.c.designator.substr(0, el.c.designator.size() - 4);
+    expected_pins += 3;
+    const std::size_t nets[] = {el.c.pins[1], c.find(u + ".G1")->c.pins[3], c.find(u + ".ROUT")->c.pins[1]};
+    for (std::size_t k = 0; k < 3; ++k) {
+      const auto it = std::find_if(s.pins.begin(), s.pins.end(),
+                                   [&](const PlacedPin& p) { return p.designator == u && p.pin == k; });
+      REQUIRE_MESSAGE(it != s.pins.end(), u, " pin ", k);
+      CHECK(it->net == nets[k]);
+    }
+  }
   CHECK(s.pins.size() == expected_pins);
   for (const auto& el : c.elements())
-    for (std::size_t k = 0; k < el.pin_count(); ++k) {
+    for (std::size_t k = 0; k < (model(el) ? 0 : el.pin_count()); ++k) {
       const auto it = std::find_if(s.pins.begin(), s.pins.end(),
                                    [&](const PlacedPin& p) { return p.designator == el.c.designator && p.pin == k; });
       REQUIRE_MESSAGE(it != s.pins.end(), el.c.designator, " pin ", k);
@@ -141,6 +193,7 @@ void check_wiring(const circuit::Circuit& c, const Schematic& s, const std::stri
   // The same from the Boost graph's side: each edge's ends are nets of its component's pins.
   for (auto [ei, ee] = boost::edges(c.graph()); ei != ee; ++ei) {
     const auto& comp = c.graph()[*ei];
+    if (comp.role == stages::kRoleDeviceModel) continue;
     const auto a = boost::source(*ei, c.graph()), b = boost::target(*ei, c.graph());
     std::set<std::size_t> drawn;
     for (const auto& p : s.pins)
@@ -189,7 +242,10 @@ void check_wiring(const circuit::Circuit& c, const Schematic& s, const std::stri
   // No wire through a symbol's body; no crossing of two nets (our templates need none, but
   // one: the same-polarity pair, whose feedback from Q2's collector to Q1's emitter must pass
   // Q2's emitter leg on its way; there one clean crossing of those two nets for each part of
-  // the feedback, RF and CF, and no other).
+  // the feedback, RF and CF, and no other; and an op-amp stage on one supply, whose divider
+  // runs from the supply rail to ground across the signal's way in (the source on the left,
+  // the load on the right, both on ground: no place for it that crosses nothing), where the
+  // reference's wire crosses the input's once).
   for (const auto& w : s.wires)
     for (const auto& sym : s.symbols) {
       const double lx = std::min(w.a.x, w.b.x), hx = std::max(w.a.x, w.b.x);
@@ -202,6 +258,7 @@ void check_wiring(const circuit::Circuit& c, const Schematic& s, const std::stri
     for (const auto& el : c.elements())
       if (el.c.role == "RF" || el.c.role == "CF") ++feedback_parts;
   std::vector<Point> feedback_crossings;
+  int reference_crossings = 0;
   for (std::size_t i = 0; i < nw; ++i)
     for (std::size_t j = i + 1; j < nw; ++j) {
       const auto& a = s.wires[i];
@@ -213,6 +270,10 @@ void check_wiring(const circuit::Circuit& c, const Schematic& s, const std::stri
       if (!(on(x, a) && on(x, b))) continue;
       const std::set<std::string> nets{c.net_name(a.net), c.net_name(b.net)};
       const bool inner = !same(x, a.a) && !same(x, a.b) && !same(x, b.a) && !same(x, b.b);
+      if (inner && nets == std::set<std::string>{"ref", "in"}) {
+        ++reference_crossings;
+        continue;
+      }
       if (feedback_parts > 0 && inner && nets == std::set<std::string>{"collector2", "emitter2"}) {
         if (std::none_of(feedback_crossings.begin(), feedback_crossings.end(), [&](Point q) { return same(q, x); }))
           feedback_crossings.push_back(x);
@@ -221,6 +282,7 @@ void check_wiring(const circuit::Circuit& c, const Schematic& s, const std::stri
       CHECK_MESSAGE(false, "nets ", c.net_name(a.net), " and ", c.net_name(b.net), " cross");
     }
   CHECK(feedback_crossings.size() <= feedback_parts);
+  CHECK(reference_crossings <= 1);
   // Junction dots exactly where three or more connections meet.
   std::vector<Point> points;
   for (const auto& w : s.wires) points.push_back(w.a), points.push_back(w.b);
@@ -405,6 +467,96 @@ TEST_CASE("lay_out: a pair draws its second transistor apart from the first, as 
   CHECK(pairs >= 2);
 }
 
+TEST_CASE("lay_out: an op-amp stage is one triangle, drawn as textbooks draw the stage") {
+  int stages_seen = 0;
+  for (const stages::Topology* t : stages::registry()) {
+    if (!opamp_stage(*t)) continue;
+    ++stages_seen;
+    const Variant v{std::string(t->name())};
+    INFO(v.topology);
+    const auto c = build(v);
+    const auto s = lay_out(c, placed(v));
+    auto symbol = [&](const std::string& d) {
+      const auto it =
+          std::find_if(s.symbols.begin(), s.symbols.end(), [&](const PlacedSymbol& y) { return y.designator == d; });
+      REQUIRE_MESSAGE(it != s.symbols.end(), d);
+      return *it;
+    };
+    auto pin = [&](const std::string& d, std::size_t k) {
+      const auto it = std::find_if(s.pins.begin(), s.pins.end(),
+                                   [&](const PlacedPin& x) { return x.designator == d && x.pin == k; });
+      REQUIRE(it != s.pins.end());
+      return *it;
+    };
+    // One symbol for the whole model: none of its elements drawn.
+    const PlacedSymbol u = symbol("U1");
+    CHECK(u.kind == SymbolKind::opamp);
+    for (const auto& y : s.symbols) CHECK_MESSAGE(y.designator.find('.') == std::string::npos, y.designator);
+    // Inputs on the left, the output at the apex on the right.
+    CHECK(pin("U1", 0).at.x < u.centre.x);
+    CHECK(pin("U1", 1).at.x < u.centre.x);
+    CHECK(pin("U1", 2).at.x > u.centre.x);
+    // The input the signal enters on top: the - input of the inverting stages (the signal
+    // comes through RG), the + input of the others; the feedback resistor on the side of the
+    // - input, over the triangle or under it, its ends between the - input and the output.
+    const bool inverting = v.topology.starts_with("opamp-inv");
+    CHECK(u.minus_on_top == inverting);
+    CHECK((pin("U1", 1).at.y < pin("U1", 0).at.y) == inverting);
+    if (t->role_index("RF") < t->roles().size()) {
+      const PlacedSymbol rf = symbol(des(v, "RF"));
+      CHECK(!rf.vertical);
+      CHECK((rf.centre.y < u.body.y0) == inverting);   // over the triangle
+      CHECK((rf.centre.y > u.body.y1) == !inverting);  // under it
+    }
+    // The supply leads name their rails: VDD above; ground below on one supply (its sign),
+    // VEE on a split one, whose source stands beside VDD and is named at its free end.
+    const bool split = t->supply_form() == stages::SupplyForm::split;
+    CHECK(u.rail_hi == "VDD");
+    CHECK(u.rail_lo == (split ? "VEE" : ""));
+    CHECK((std::find_if(s.symbols.begin(), s.symbols.end(),
+                        [](const PlacedSymbol& y) { return y.designator == "VEE"; }) != s.symbols.end()) == split);
+    if (split) {
+      CHECK(symbol("VEE").centre.x > symbol("VDD").centre.x);
+      CHECK(std::any_of(s.marks.begin(), s.marks.end(), [](const NetMark& m) { return m.text.starts_with("VEE"); }));
+    }
+    // The output terminal on the op-amp's own output on a split supply (no COUT).
+    for (const auto& m : s.marks)
+      if (m.terminal && m.text == "out" && split) CHECK(std::abs(m.at.x - pin("U1", 2).at.x) < 1);
+  }
+  CHECK(stages_seen == 6);
+}
+
+TEST_CASE("lay_out: an op-amp stage later in a chain (fed on its input by the stage before) is drawn the same way") {
+  // A chain's second stage has no CIN: its + input is the input net itself, and its parts
+  // carry the stage in the hundreds (U201, R201 ...).
+  const auto& t = *stages::find_topology("opamp-noninv");
+  stages::Transistor q;
+  q.kind = devices::DeviceKind::opamp;
+  q.opamp = {.gbw_hz = 1e6,
+             .aol = 2e5,
+             .slew_v_per_s = 5e5,
+             .out_drop_hi_v = 1.5,
+             .out_drop_lo_v = 1.5,
+             .out_drop_ohm = 100,
+             .iout_max_a = 0.025,
+             .iq_a = 2e-3};
+  stages::Conditions cond;
+  cond.supply_v = 12;
+  const auto c = stages::chain_stage_netlist({&t, t.reference(q, cond, {}), q}, 1, cond);
+  SchematicOptions o;
+  for (const auto& r : t.roles()) o.places[std::string(r.name)] = {r.at.x, r.at.y, r.at.vertical, r.at.label};
+  for (const auto& n : t.inner_nets()) {
+    o.net_levels[std::string(n.name)] = n.level;
+    o.net_orders[std::string(n.name)] = n.order;
+  }
+  const auto s = lay_out(c, o);
+  check_wiring(c, s, "opamp-noninv as stage 2");
+  const auto u =
+      std::find_if(s.symbols.begin(), s.symbols.end(), [](const PlacedSymbol& y) { return y.designator == "U201"; });
+  REQUIRE(u != s.symbols.end());
+  CHECK_FALSE(u->minus_on_top);  // the signal still enters on top, at the + input
+}
+
 TEST_CASE("lay_out: what it cannot draw is an input error naming the part") {
   const Variant cs{"jfet-cs-self"};
   auto c = build(cs);
@@ -421,13 +573,21 @@ TEST_CASE("lay_out: what it cannot draw is an input error naming the part") {
 TEST_CASE("schematic_svg: Chromium parses and paints it; every designator is in it") {
   const std::string dir = temp_dir();
   for (const auto& v : {Variant{"jfet-cs-self"}, Variant{"bjt-ce-divider", true, true}, Variant{"jfet-follower"},
-                        Variant{"bjt-fb-pair"}, Variant{"bjt-fb-pair-same"}}) {
+                        Variant{"bjt-fb-pair"}, Variant{"bjt-fb-pair-same"}, Variant{"opamp-noninv"},
+                        Variant{"opamp-inv-split"}, Variant{"opamp-buffer-split"}}) {
     SchematicOptions o;
     if (v.topology == "bjt-ce-divider") o.notes[des(v, "COUT")] = {"10u", "25 V", true, "out"};
     const auto c = build(v);
     const std::string svg = schematic_svg(lay_out(c, placed(v, o)), v.topology + " <stage>");
-    for (const auto& el : c.elements())
-      CHECK_MESSAGE(svg.find(">" + el.c.designator + "<") != std::string::npos, el.c.designator);
+    for (const auto& el : c.elements()) {
+      // An op-amp model's elements are not drawn: its designator is (U1).
+      std::string d = el.c.designator;
+      if (el.c.role == stages::kRoleDeviceModel) {
+        CHECK_MESSAGE(svg.find(">" + d + "<") == std::string::npos, d);
+        d = d.substr(0, d.find('.'));
+      }
+      CHECK_MESSAGE(svg.find(">" + d + "<") != std::string::npos, d);
+    }
     // Every colour from the project's palette (draw/palette.hpp).
     CHECK(test::foreign_colours(svg).empty());
     const std::string path = dir + "/" + v.topology + ".svg";

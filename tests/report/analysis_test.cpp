@@ -8,6 +8,8 @@
 #include <numbers>
 #include <string>
 
+#include "report_fixture.hpp"
+#include "shelfstage/devices/spread.hpp"
 #include "shelfstage/error.hpp"
 #include "shelfstage/stages/exact.hpp"
 #include "support/ngspice.hpp"
@@ -364,4 +366,87 @@ TEST_CASE("text: one figure where the evaluators agree, both where they differ b
   const std::string parts = report::parts_text(a);
   CHECK(parts.find("+ to drain") != std::string::npos);
   CHECK(parts.find("not stated") != std::string::npos);
+}
+
+namespace {
+
+// The demo's SA-210 (data-demo/devices.csv: Vos 5 mV, Ib 400 nA at most, Iq 2 mA) in a
+// non-inverting stage on one 12 V supply: the inputs at the divider's mid-rail reference
+// through RB, the gain 1 + RF/RG with CG holding it to one at DC.
+struct OpampBench {
+  devices::DeviceRecord record;
+  devices::DeviceSpread spread;
+  StageUnderTest stage;
+};
+
+OpampBench opamp_bench() {
+  const auto devs = store::parse_devices_csv(test::read_source_file("data-demo/devices.csv"), "devices.csv");
+  const auto it = std::find_if(devs.begin(), devs.end(), [](const auto& d) { return d.name == "SA-210"; });
+  REQUIRE(it != devs.end());
+  OpampBench b{*it, devices::DeviceSpread(*it), {}};
+  const auto& t = *stages::find_topology("opamp-noninv");
+  b.stage.topology = &t;
+  b.stage.values = report::role_values(t, {{"RB", 100e3},
+                                           {"RF", 47e3},
+                                           {"RG", 4.7e3},
+                                           {"RA1", 47e3},
+                                           {"RA2", 47e3},
+                                           {"CIN", 1e-6},
+                                           {"CG", 22e-6},
+                                           {"CREF", 10e-6},
+                                           {"COUT", 10e-6}});
+  b.stage.transistor.kind = devices::DeviceKind::opamp;
+  b.stage.transistor.opamp = b.spread.opamp(b.spread.nominal(), 25);
+  b.stage.conditions.supply_v = 12;
+  b.stage.conditions.load_ohm = 10e3;
+  b.stage.device = "SA-210";
+  return b;
+}
+
+}  // namespace
+
+TEST_CASE("an op-amp stage: U1's supply current and pins, and each corner at its own piece") {
+  const OpampBench b = opamp_bench();
+  const Analysis a = report::analyze_stage(b.stage, &b.spread);
+  // Text: the op-amp's own current and its pins by name; nothing of a transistor.
+  const std::string text = report::figures_text(a);
+  CHECK(text.find("U1 supply current (quiescent)") != std::string::npos);
+  CHECK(text.find("V(U1 +in)") != std::string::npos);
+  CHECK(text.find("V(U1 out)") != std::string::npos);
+  CHECK(text.find("collector") == std::string::npos);
+  // The output's DC: the reference (6 V, RA1 = RA2) less Ib+ through RB and the divider's
+  // Thevenin resistance RA1 || RA2 at the + input, plus Ib- RF (CG leaves no DC path through
+  // RG: the DC gain is one, a textbook non-inverting stage with its gain resistor AC-coupled);
+  // the nominal piece draws half the 400 nA maximum into each input.
+  const double ib = 200e-9, r_plus = 100e3 + 23.5e3;
+  const auto j = report::analysis_json(a);
+  CHECK(j["closed_form"]["nodes"]["output"].get<double>() ==
+        doctest::Approx(6 - ib * r_plus + ib * 47e3).epsilon(1e-5));
+  CHECK(j["closed_form"]["nodes"]["plus"].get<double>() == doctest::Approx(6 - ib * r_plus).epsilon(1e-5));
+  CHECK(j["closed_form"]["nodes"].contains("minus"));
+  CHECK(j["device"]["designator"] == "U1");
+  CHECK(j["device"]["model"]["gbw"].get<double>() == doctest::Approx(1.1e6));      // the record's typical GBW
+  CHECK(j["closed_form"]["bias_current"].get<double>() == doctest::Approx(2e-3));  // the record's Iq
+  // The corners: 16 pieces (devices/opamp.hpp), each evaluated at its own figures. Two pieces
+  // apart only in the offset's sign (corners 1 and 5: Vos -5 mV and +5 mV) put the output
+  // 10 mV apart: the offset reaches the output with the DC gain of one.
+  REQUIRE(a.corners.size() == 16);
+  REQUIRE(j["corners"][0].contains("opamp"));
+  CHECK_FALSE(j["corners"][0].contains("hfe"));
+  CHECK(j["corners"][0]["opamp"]["vos"].get<double>() == doctest::Approx(-5e-3));
+  CHECK(j["corners"][4]["opamp"]["vos"].get<double>() == doctest::Approx(5e-3));
+  CHECK(a.corners[4].performance.v_out - a.corners[0].performance.v_out == doctest::Approx(10e-3).epsilon(0.02));
+  // The table: the figures a corner moves, each row tagged by its number alone.
+  const std::string corners = report::corners_text(a);
+  for (const char* col : {"GBW", "Vos", "Ib+", "Ib-", "V(U1 out)", "rated pk"})
+    CHECK_MESSAGE(corners.find(col) != std::string::npos, col);
+  CHECK(corners.find("hFE") == std::string::npos);
+  CHECK(corners.find("corner 1)") == std::string::npos);
+  CHECK(corners.find("  corner 16 ") != std::string::npos);
+}
+
+TEST_CASE("an op-amp's SPICE netlist prints its pins' voltages") {
+  const OpampBench b = opamp_bench();
+  const std::string net = report::stage_spice(b.stage);
+  CHECK(net.find("print v(plus) v(minus) v(opout)") != std::string::npos);
 }

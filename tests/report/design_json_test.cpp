@@ -208,3 +208,32 @@ TEST_CASE("design_json: schema 1, spec, candidates and search; nothing fits adds
   for (const char* k : {"binding", "detail", "suggestions", "with_purchases", "pieces_to_buy"})
     CHECK_MESSAGE(d["diagnosis"].contains(k), k);
 }
+
+TEST_CASE("candidate_json: an op-amp stage's device is U1, its pins the nodes, its piece's figures and ratings") {
+  // The demo's SA-210 on +/-12 V: a 24 V span (the split supply's definition, 2 x 12 V)
+  // within its 10..36 V operating range and 0.8 x its 40 V absolute maximum.
+  auto spec = test::request("opamp-noninv-split", "SA-210", 5, 12);
+  spec.split_supply = true;
+  const auto c = test::design_one(spec, test::demo_inventory());
+  const auto j = report::candidate_json(c);
+  CHECK(j["device"]["kind"] == "OPAMP");
+  for (const char* key : {"gbw", "aol", "pole2", "slew", "vos", "ib_plus", "ib_minus", "iq"})
+    CHECK_MESSAGE(j["device"]["model"].contains(key), key);
+  CHECK(j["device"]["model"]["gbw"].get<double>() == doctest::Approx(1.1e6));  // data-demo/devices.csv
+  for (const char* key : {"plus", "minus", "output"}) {
+    CHECK_MESSAGE(j["nominal"]["nodes"].contains(key), key);
+    CHECK_MESSAGE(j["worst"]["nodes"].contains(key), key);
+  }
+  CHECK_FALSE(j["nominal"]["nodes"].contains("collector"));
+  CHECK(j["nominal"]["nodes"]["output"].get<double>() == doctest::Approx(c.nominal.v_out));
+  const auto& u = j["transistor"];
+  CHECK(u["designator"] == "U1");
+  CHECK(u["v_main"][1].get<double>() == doctest::Approx(24));
+  CHECK(u["v_max"].get<double>() == doctest::Approx(40));
+  CHECK(u["vs_min"].get<double>() == doctest::Approx(10));
+  CHECK(u["vs_max"].get<double>() == doctest::Approx(36));
+  CHECK(u["v_reverse"][1].get<double>() < 0.1);  // the offset, millivolts: linear operation
+  // At least the quiescent share: the span times the supply current (2 mA).
+  CHECK(u["power"][0].get<double>() >= 24 * 2e-3 * 0.999);
+  CHECK(u["opamp"]["iq"].get<double>() == doctest::Approx(2e-3));
+}

@@ -89,7 +89,7 @@ report::ReportInput input_for(const Case& k, const synth::Inventory& inv) {
 
 /// Checks that hold for every report; returns the dumped DOM.
 std::string check_report(const report::ReportInput& in, const std::string& html, const std::string& dir,
-                         const std::string& name) {
+                         const std::string& name, std::size_t expected_svgs = 6, const std::string& device = "Q1") {
   INFO(name);
   // Self-contained: no scripts, no external references of any kind (the only URLs are the two
   // XML namespaces), a content security policy that forbids fetching anything.
@@ -117,7 +117,7 @@ std::string check_report(const report::ReportInput& in, const std::string& html,
   CHECK(xml_dom.find("parsererror") == std::string::npos);
   std::size_t svgs = 0;
   for (std::size_t at = html.find("<svg"); at != std::string::npos; at = html.find("<svg", at + 1)) ++svgs;
-  CHECK(svgs == 6);  // schematic, gain, phase, bias, transfer, sine
+  CHECK(svgs == expected_svgs);  // schematic, gain, phase, bias (none for an op-amp), transfer, sine
 
   // Rendered: not blank, and not a word on the console.
   const auto run = test::render(page, 1200, 2400);
@@ -132,7 +132,7 @@ std::string check_report(const report::ReportInput& in, const std::string& html,
   const std::string dom = test::dump_dom(page);
   for (const auto& rp : in.candidate.parts)
     CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
-  CHECK(dom.find(">Q1<") != std::string::npos);
+  CHECK(dom.find(">" + device + "<") != std::string::npos);
   for (const char* id : {"schematic", "response", "bias", "swing", "parts", "pick", "figures", "cautions"})
     CHECK_MESSAGE(dom.find(std::string("<section id=\"") + id + "\"") != std::string::npos, id);
 
@@ -175,6 +175,41 @@ TEST_CASE("html_report: every topology, N and P, renders whole in Chromium") {
     for (const auto& rp : in.candidate.parts)
       if (rp.polarised) CHECK(dom.find(rp.designator + " (" + rp.role + ") is polarised") != std::string::npos);
     CHECK(dom.find("Hazardous voltage") == std::string::npos);
+  }
+  if (std::getenv("SHELFSTAGE_KEEP_REPORTS") == nullptr) std::filesystem::remove_all(dir);
+}
+
+TEST_CASE("html_report: an op-amp stage, on one supply and on a split one: U1 as an op-amp, no bias picture") {
+  const auto inv = test::demo_inventory();
+  const std::string dir = temp_dir();
+  for (const bool split : {false, true}) {
+    const Case k = split ? Case{"opamp-inv-split", "SA-210", 5, 12, 2} : Case{"opamp-noninv", "SA-210", 10, 12, 2};
+    report::ReportInput in;
+    in.spec = test::request(k.topology, k.device, k.gain, k.supply_v, k.swing_vpp);
+    in.spec.split_supply = split;
+    in.candidate = test::design_one(in.spec, inv);
+    in.id = in.candidate.id;
+    in.created = "2024-05-01 10:00:00";
+    in.generator = "shelfstage (test)";
+    in.pick = report::make_pick_list(in.candidate, 1, inv.parts);
+    in.bias_samples = 80;
+    const std::string html = report::html_report(in);
+    // Five pictures: the bias picture is left out, and a line says why.
+    const std::string dom = check_report(in, html, dir, k.topology, 5, "U1");
+    CHECK(palette_only(html));
+    CHECK(dom.find("No bias picture for an op-amp stage") != std::string::npos);
+    CHECK(html.find("id=\"bias\"><svg") == std::string::npos);
+    // The schematic draws the op-amp, not its model's elements; the parts table names it.
+    CHECK(dom.find("U1.G1") == std::string::npos);
+    CHECK(dom.find(">op-amp<") != std::string::npos);
+    CHECK(dom.find("U1 supply current (quiescent)") != std::string::npos);
+    CHECK(dom.find("V(U1 out)") != std::string::npos);
+    CHECK(dom.find("collector current") == std::string::npos);
+    // Its stress row: the supply span (12 V, or 2 x 12 V split: the split supply's
+    // definition) and its ratings with the operating range (SA-210: 10..36 V).
+    CHECK(dom.find(split ? "from a 24V span" : "from a 12V span") != std::string::npos);
+    CHECK(dom.find("operating 10V") != std::string::npos);
+    CHECK((dom.find(">VEE<") != std::string::npos) == split);
   }
   if (std::getenv("SHELFSTAGE_KEEP_REPORTS") == nullptr) std::filesystem::remove_all(dir);
 }

@@ -11,6 +11,8 @@
 #include <cmath>
 #include <fmt/format.h>
 
+#include "../src/synth/detail.hpp"
+#include "demo_shelf.hpp"
 #include "fixture.hpp"
 #include "yield_check.hpp"
 
@@ -223,4 +225,121 @@ TEST_CASE("cautions: a supply above 60 V DC is called hazardous; an electrolytic
   spec.supply_lo_v = spec.supply_hi_v = 61;
   c = best(spec, inv);
   CHECK(has("hazardous voltage"));
+}
+
+namespace {
+
+// An op-amp type of the usual order for a general-purpose dual (figures from memory, not one
+// datasheet's): 10..36 V operating span, absolute maximum 40 V, +/-30 V between the inputs,
+// 500 mW package.
+devices::DeviceRecord rated_opamp() {
+  devices::DeviceRecord d;
+  d.name = "TA-2";
+  d.kind = devices::DeviceKind::opamp;
+  d.opamp.channels = 2;
+  d.opamp.vs_min_v = 10;
+  d.opamp.vs_max_v = 36;
+  d.opamp.iq_a = 2e-3;
+  d.ratings.v_max_v = 40;
+  d.ratings.v_rev_max_v = 30;
+  d.ratings.p_max_w = 0.5;
+  return d;
+}
+
+// An operating point of a split-supply stage: the inputs 5 mV apart (the offset), the output
+// at +5 V sourcing 5 V / 2.2k into the load, the op-amp drawing 2 mA.
+stages::Performance split_point() {
+  stages::Performance p;
+  p.valid = p.active = true;
+  p.v_in = 1e-3;      // + input
+  p.v_common = 6e-3;  // - input
+  p.v_out = 5;
+  p.out_current_a = 5 / 2.2e3;
+  p.bias_current_a = 2e-3;
+  return p;
+}
+
+}  // namespace
+
+TEST_CASE("an op-amp's stress: its supply span, the voltage between its inputs, its dissipation") {
+  synth::Candidate c;
+  c.device = rated_opamp();
+  c.topology = stages::find_topology("opamp-noninv-split");
+  synth::Spec spec = basic_spec(5);
+  spec.split_supply = true;
+  spec.supply_lo_v = 12;
+  spec.supply_hi_v = 15;
+  const auto d = synth::detail::device_stress(spec, c, split_point(), 25);
+  // Supply span 2 x 15 V: the split supply's definition (rails at +V and -V), at its upper
+  // end; and 2 x 12 V at its lower end, for the operating range's floor.
+  CHECK(d.v_main == doctest::Approx(30));
+  CHECK(d.v_low == doctest::Approx(24));
+  // The differential input: |V(-) - V(+)|, the offset the loop leaves (5 mV).
+  CHECK(d.v_rev == doctest::Approx(5e-3));
+  // Dissipation: the span times the supply current, plus the output stage's drop from V+
+  // (it sources the load's current: 15 V - 5 V) times that current (a push-pull output
+  // stage, textbook).
+  CHECK(d.p_w == doctest::Approx(30 * 2e-3 + (15 - 5) * (5 / 2.2e3)));
+  CHECK(d.p_allowed_w == doctest::Approx(0.5));  // at 25 °C, the rating itself
+  // Sinking (the output at -5 V with its current into the pin): the drop to V- instead.
+  stages::Performance sink = split_point();
+  sink.v_out = -5;
+  sink.out_current_a = -5 / 2.2e3;
+  CHECK(synth::detail::device_stress(spec, c, sink, 25).p_w == doctest::Approx(30 * 2e-3 + 10 * (5 / 2.2e3)));
+  // On one rail the span is the supply itself.
+  synth::Spec single = basic_spec(5);
+  single.supply_lo_v = single.supply_hi_v = 12;
+  c.topology = stages::find_topology("opamp-noninv");
+  CHECK(synth::detail::device_stress(single, c, split_point(), 25).v_main == doctest::Approx(12));
+}
+
+TEST_CASE("an op-amp over a rating fails the check as a transistor does, each rating named") {
+  synth::Candidate c;
+  c.device = rated_opamp();
+  c.topology = stages::find_topology("opamp-noninv-split");
+  synth::Spec spec = basic_spec(5);
+  spec.split_supply = true;
+  spec.supply_lo_v = spec.supply_hi_v = 15;
+  const stages::Performance p = split_point();
+  CHECK(synth::detail::check_ratings(spec, c, p, 25).empty());  // 30 V of 0.8 x 40 V, 83 mW of 250 mW
+  // The absolute maximum with the transistors' margin: 30 V above 0.8 x 36 V.
+  c.device.ratings.v_max_v = 36;
+  CHECK(synth::detail::check_ratings(spec, c, p, 25).find("absolute maximum") != std::string::npos);
+  c.device.ratings.v_max_v = 40;
+  // The record's operating range, at either end of the supply.
+  c.device.opamp.vs_max_v = 24;
+  CHECK(synth::detail::check_ratings(spec, c, p, 25).find("above its operating range") != std::string::npos);
+  c.device.opamp.vs_max_v = 36;
+  synth::Spec low = spec;
+  low.supply_lo_v = 4;  // a span of 8 V at the low end, under the 10 V floor
+  CHECK(synth::detail::check_ratings(low, c, p, 25).find("below its operating range") != std::string::npos);
+  // The differential input: 5 mV against 0.8 x 5 mV.
+  c.device.ratings.v_rev_max_v = 5e-3;
+  CHECK(synth::detail::check_ratings(spec, c, p, 25).find("between its inputs") != std::string::npos);
+  c.device.ratings.v_rev_max_v = 30;
+  // The package: 83 mW against half of 150 mW.
+  c.device.ratings.p_max_w = 0.15;
+  CHECK(synth::detail::check_ratings(spec, c, p, 25).find("its package may take") != std::string::npos);
+}
+
+TEST_CASE("a design whose op-amp would run beyond its absolute maximum supply is not offered") {
+  // The demo's SA-430 is rated 36 V absolute maximum: 0.8 x 36 V = 28.8 V, under the 30 V span
+  // of a +/-15 V supply; at +/-12 V (24 V) it is within.
+  synth::Spec spec;
+  spec.gain = 5;
+  spec.load_ohm = 10e3;
+  spec.zin_min_ohm = 10e3;
+  spec.split_supply = true;
+  spec.topologies = {"opamp-noninv-split"};
+  spec.devices = {"SA-430"};
+  spec.top = 1;
+  spec.mc_samples = 0;
+  spec.supply_lo_v = spec.supply_hi_v = 15;
+  const auto over = synth::design(spec, demo_shelf());
+  CHECK(over.candidates.empty());
+  CHECK(over.diagnosis.detail.find("rating") != std::string::npos);
+  spec.supply_lo_v = spec.supply_hi_v = 12;
+  const auto within = synth::design(spec, demo_shelf());
+  REQUIRE_FALSE(within.candidates.empty());
+  CHECK(within.candidates.front().worst.device_v.max == doctest::Approx(24));
 }

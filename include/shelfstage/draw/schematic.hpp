@@ -36,6 +36,17 @@
 //     body is refused, and one that leaves a pin sideways costs a little.
 //  5. A junction dot marks every point where three or more wire ends, pins or pass-throughs
 //     meet; nothing else joins (wires of different nets never touch).
+//  6. An op-amp is one symbol: the elements of its macro-model (role "device model", named
+//     "<U>.<element>") are not drawn; the model's own elements give its pins' nets (the +
+//     input behind <U>.VOS, the - input of <U>.G1, the output after <U>.ROUT, the rails of
+//     <U>.VCLP and <U>.VCLN). The triangle stands at the template's place with its inputs on
+//     the left (the one the signal enters on top: + for a non-inverting stage or a buffer,
+//     - for an inverting one, as textbooks draw them), the output at the apex on the right;
+//     its supply pins are short leads named for their rails (a ground sign for ground), not
+//     wired: every rail is drawn once, at the top and the bottom of the sheet. A net on an
+//     op-amp pin may run its trunk clear of the pins (over or under the triangle: a feedback
+//     wire). A second supply (VEE of a split supply) stands right of the first, named at its
+//     free end.
 #pragma once
 #include <cstddef>
 #include <map>
@@ -79,7 +90,7 @@ struct SchematicOptions {
   std::vector<std::string> bench = {"VSIG", "RSIG", "RL", "CL"};
 };
 
-enum class SymbolKind { resistor, capacitor, electrolytic, njfet, pjfet, npn, pnp, dc_source, ac_source };
+enum class SymbolKind { resistor, capacitor, electrolytic, njfet, pjfet, npn, pnp, dc_source, ac_source, opamp };
 
 /// An axis-aligned box in grid units.
 struct Box {
@@ -101,11 +112,17 @@ struct PlacedSymbol {
   enum class Side { left, right, above, below } label_side = Side::right;
   bool bench = false;
   bool flipped = false;  ///< transistors: drawn upside down (source or emitter on top)
+  /// An op-amp (NOTES 6): the - input on top (else the + input), and the names of the rails
+  /// its supply pins go to ("VDD", "VEE"; empty: ground, drawn as its sign).
+  bool minus_on_top = false;
+  std::string rail_hi, rail_lo;
 };
 
 struct PlacedPin {
   std::string designator;
-  std::size_t pin = 0;  ///< index into the component's pins (SPICE order)
+  /// Index into the component's pins (SPICE order); an op-amp's: 0 the + input, 1 the -
+  /// input, 2 the output.
+  std::size_t pin = 0;
   std::size_t net = 0;  ///< vertex index in the circuit
   Point at;
   Point dir;  ///< unit vector along the lead, away from the symbol

@@ -83,7 +83,8 @@ struct BiasSpread {
 /// Monte Carlo builds drawn as the synthesizer draws them for its yield (pieces from the
 /// device spread with seed spec.seed; parts uniform within their bounds, the supply within
 /// its range, the temperature within its range), so the cloud shows the builds the yield
-/// counts. Throws InputError when samples is negative or above 100000.
+/// counts. Throws InputError when samples is negative or above 100000, and for an op-amp
+/// stage (no load line, no bias point of a transistor to draw).
 BiasSpread bias_spread(const synth::Candidate& c, const synth::Spec& spec, int samples);
 
 /// The quasi-static transfer from the source EMF to the load with every capacitor holding its

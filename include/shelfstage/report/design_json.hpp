@@ -21,6 +21,9 @@ Json number_or_null(const std::optional<double>& v);
 /// A loop gain at one build: {"gain" (|T| at mid-band), "phase" (degrees there), "f_cross",
 /// "phase_margin"} (the last two null when |T| never reaches one).
 Json loop_gain_json(const stages::LoopGain& g);
+/// An op-amp piece's figures (docs/interface.md): gbw, aol, pole2, slew, vos, ib_plus,
+/// ib_minus, iq (plain SI; pole2 and iq null when the record states none).
+Json opamp_piece_json(const devices::OpampInstance& q);
 
 /// The request in SI: gain, load, load_cap, supply (number or [low, high]), rail, spread,
 /// zin, source_z, band, swing, max_distortion, prefer, max_current, copies, temp,

@@ -1,6 +1,7 @@
 // Designs for people: the request on one line, and the ranked candidates as a table a
 // bench engineer can scan (figures on one line, the recipes under them).
 #pragma once
+#include <array>
 #include <string>
 
 #include "shelfstage/synth/design.hpp"
@@ -34,6 +35,19 @@ std::string loop_text(const synth::Candidate& c);
 
 /// Why nothing fits, and the purchases that would help, as lines for stderr.
 std::string diagnosis_text(const synth::DesignResult& r);
+
+/// Whether a topology's device is an op-amp (U1) rather than a transistor (Q1).
+bool opamp_stage(const stages::Topology& t);
+/// The keys of a stage's three device nodes in JSON, in the order of Performance's v_in,
+/// v_common, v_out: the topology's terminal nets for a transistor ("gate", "source",
+/// "drain"), the pins for an op-amp ("plus", "minus", "output": its nets differ from stage
+/// to stage, and a buffer's - input is its output).
+std::array<std::string, 3> node_keys(const stages::Topology& t);
+/// The same nodes for people: "V(gate)" ..., or "V(U1 +in)", "V(U1 -in)", "V(U1 out)".
+std::array<std::string, 3> node_labels(const stages::Topology& t);
+/// What the device's current (Performance::bias_current_a) is called: "drain current",
+/// "collector current", or an op-amp's own "U1 supply current (quiescent)".
+std::string device_current_name(const stages::Topology& t);
 
 /// An upper -3 dB corner for a table: ">1GHz" beyond the models' validity, else the value.
 std::string upper_corner(double f_hz);

@@ -217,6 +217,9 @@ struct Performance {
   double noise_v_rthz = 0;  ///< input-referred noise density at Conditions::noise_f_hz
   double c_in_f = 0;        ///< capacitance into the gate or base at mid-band (Miller included)
   double supply_current_a = 0;
+  /// An op-amp stage: the DC current out of the op-amp's output pin into the stage and load
+  /// (negative: sunk), for its dissipation (the closed form fills it; 0 for transistors).
+  double out_current_a = 0;
   /// A stage with a second device (Q2): its collector current, its collector-emitter DC
   /// (magnitude) and its collector's DC volts (the stage's output terminal), N frame for
   /// the last until Topology::evaluate places it on the rail.
@@ -339,7 +342,9 @@ class Topology {
   virtual std::span<const Role> roles() const = 0;
   /// Index of a role by name, or roles().size() when unknown.
   std::size_t role_index(std::string_view role) const;
-  /// Names of the device-terminal nets ("gate","source","drain" or "base","emitter","collector").
+  /// Names of the device-terminal nets in the order of Performance's v_in, v_common, v_out
+  /// ("gate","source","drain" or "base","emitter","collector"; an op-amp's + input, - input
+  /// and output nets: "plus","minus","opout", a buffer's - input being its output).
   virtual std::array<std::string_view, 3> node_names() const = 0;
   /// The stage's own nets that are not device terminals.
   virtual std::span<const InnerNet> inner_nets() const { return {}; }

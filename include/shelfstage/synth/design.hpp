@@ -83,11 +83,19 @@ struct Worst {
 /// gate or base falls to 0 V (a BJT's emitter-base junction is reverse-biased only then);
 /// dissipation: the DC across the main terminals times the bias current (class A into a
 /// resistive load dissipates most with no signal); allowed: the rating derated to the ambient.
+/// An op-amp (U1): voltage: the supply span V+ - V- at the supply's upper end (the supply on
+/// one rail, twice it on a split supply), against its absolute maximum total supply and its
+/// record's operating range (OpampParams::vs_min_v..vs_max_v, the span at the supply's lower
+/// end against vs_min_v); reverse: the differential input voltage, |V(-) - V(+)| at the DC
+/// operating point (the offset, about 0 in linear operation); dissipation: the span times
+/// the supply current, plus the output stage's drop (from the rail it sources from, or to
+/// the one it sinks to) times the output pin's DC current (Performance::out_current_a).
 struct DeviceStress {
   double v_main = 0;       ///< volts the device may hold between drain and source (collector and emitter)
   double v_rev = 0;        ///< reverse volts on the gate-source (emitter-base) junction
   double p_w = 0;          ///< dissipation
   double p_allowed_w = 0;  ///< the rating at this ambient (0: not stated)
+  double v_low = 0;        ///< an op-amp: the supply span at the supply's lower end
 };
 /// Common practice: a semiconductor's voltages at most 80 % of its absolute maximum, its
 /// dissipation at most half its rating derated to the ambient (as for resistors).
