@@ -56,7 +56,7 @@ void opamp_stress_rows(report::TextTable& t, const synth::Candidate& c, const sy
   const double k = spec.split_supply ? 2.0 : 1.0;
   const synth::Range span{k * spec.supply_lo_v, k * spec.supply_hi_v, false};
   t.add_row({fmt::format("{} supply span V+ - V- (allowed {}{})", u,
-                         r.v_max_v ? volts(synth::kDeviceVoltageShare * *r.v_max_v) + " absolute, " : "",
+                         r.v_max_v ? volts(synth::opamp_span_share(o) * *r.v_max_v) + " absolute, " : "",
                          o.vs_max_v > 0 ? fmt::format("{}..{} operating", volts(o.vs_min_v), volts(o.vs_max_v))
                                         : std::string("operating range not stated")),
              range_text(span, volts)});

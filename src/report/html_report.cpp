@@ -680,8 +680,9 @@ std::string parts_section(const ReportInput& in, const Analysis& a) {
          "whole rail, which it holds when cut off. Stress from the exact operating point; a capacitor also takes "
          "the output's signal peak." +
          std::string(c.device.kind == devices::DeviceKind::opamp
-                         ? " An op-amp's supply span V+ \u2212 V\u2212 is held against 80 % of its absolute maximum "
-                           "and within its operating range, the voltage between its inputs against 80 % of its "
+                         ? " An op-amp's supply span V+ \u2212 V\u2212 is held within its operating range and under "
+                           "its absolute maximum (80 % of it when no operating range is stated), the voltage between "
+                           "its inputs against 80 % of its "
                            "differential rating, and its dissipation (the span times its supply current, plus its "
                            "output's drop times the output's DC current) against half its package's rating derated "
                            "to the warmest ambient."

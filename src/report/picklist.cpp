@@ -88,6 +88,12 @@ std::string net_for_people(std::string_view net, const synth::Candidate& c, std:
   for (const char* terminal : {"gate", "drain", "source", "base", "collector", "emitter"})
     if (net == terminal) return fmt::format("the {} of {}", net, q);
   if (net == "vdd" || net == "vcc" || net == "supply") return "the supply rail";
+  if (c.topology && c.topology->accepts(devices::DeviceKind::opamp)) {  // an op-amp's pins: "the output of U1"
+    const auto pins = c.topology->node_names();                         // + input, - input, output
+    if (net == pins[2]) return fmt::format("the output of {}", q);
+    if (net == pins[0]) return fmt::format("the + input of {}", q);
+    if (net == pins[1]) return fmt::format("the - input of {}", q);
+  }
   return fmt::format("net {}", net);
 }
 

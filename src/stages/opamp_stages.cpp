@@ -24,26 +24,6 @@ using detail::OpampWiring;
 
 enum class Form { non_inverting, inverting, buffer };
 
-// Role indices, one enum per stage shape (the tables below follow them).
-namespace ni1 {
-enum : std::size_t { RB, RF, RG, RA1, RA2, CIN, CG, CREF, COUT };
-}
-namespace ni2 {
-enum : std::size_t { RB, RF, RG, CIN };
-}
-namespace in1 {
-enum : std::size_t { RG, RF, RA1, RA2, CIN, CREF, COUT };
-}
-namespace in2 {
-enum : std::size_t { RG, RF, CIN };
-}
-namespace bf1 {
-enum : std::size_t { RB, RA1, RA2, CIN, CREF, COUT };
-}
-namespace bf2 {
-enum : std::size_t { RB, CIN };
-}
-
 constexpr std::string_view kRbWhat = "+ input to the reference: sets the input impedance";
 constexpr std::string_view kRfWhat = "feedback, output to - input: with RG sets the gain";
 constexpr std::string_view kRa1What = "reference divider to the + rail";
@@ -151,10 +131,20 @@ constexpr InnerNet kInv1Nets[] = {kRefNet, kGNetInv};
 constexpr InnerNet kInv2Nets[] = {kGNetInv};
 constexpr InnerNet kBuffer1Nets[] = {kRefNet};
 
-// The roles a stage shape has: -1 where it has none.
+// The roles a stage shape has, by index into its table: -1 where it has none.
 struct Layout {
   int rb = -1, rf = -1, rg = -1, ra1 = -1, ra2 = -1, cin = -1, cg = -1, cref = -1, cout = -1;
 };
+
+Layout layout_of(std::span<const Role> roles) {
+  auto find = [&](std::string_view name) {
+    for (std::size_t i = 0; i < roles.size(); ++i)
+      if (roles[i].name == name) return static_cast<int>(i);
+    return -1;
+  };
+  return {find("RB"),  find("RF"), find("RG"),   find("RA1"), find("RA2"),
+          find("CIN"), find("CG"), find("CREF"), find("COUT")};
+}
 
 // A role's value, 0 when the shape has no such role.
 double at(const Values& v, int i) { return i >= 0 ? v[static_cast<std::size_t>(i)] : 0.0; }
@@ -174,8 +164,14 @@ std::vector<double> bias_resistors(const ValueSource& shelf, double zin_min_ohm,
 class OpampStage final : public Topology {
  public:
   OpampStage(Form form, SupplyForm supply, std::string_view name, std::string_view summary, std::span<const Role> roles,
-             std::span<const InnerNet> nets, Layout layout)
-      : form_(form), supply_(supply), name_(name), summary_(summary), roles_(roles), nets_(nets), r_(layout) {}
+             std::span<const InnerNet> nets)
+      : form_(form),
+        supply_(supply),
+        name_(name),
+        summary_(summary),
+        roles_(roles),
+        nets_(nets),
+        r_(layout_of(roles)) {}
 
   std::string_view name() const override { return name_; }
   std::string_view summary() const override { return summary_; }
@@ -377,14 +373,6 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
   if (c.band_hi_hz > 0)
     p.loss_hi_db = std::max(0.0, -20.0 * std::log10(std::abs(detail::closed_loop(s, a, two_pi * c.band_hi_hz)) / g0));
 
-  // The supply span the op-amp works from (its record's operating range).
-  const double span = s.v_pos - s.v_neg;
-  if ((a.vs_min_v > 0 && span < a.vs_min_v * (1 - 1e-9)) || (a.vs_max_v > 0 && span > a.vs_max_v * (1 + 1e-9))) {
-    p.active = false;
-    p.problem =
-        fmt::format("a supply span of {:.3g} V is outside the op-amp's {:.3g}..{:.3g} V", span, a.vs_min_v, a.vs_max_v);
-  }
-
   // Swing: the output's headroom at each rail with the load's current, the current limit,
   // the inputs' common-mode range, and (with a band) the slew rate at its top edge.
   double swing = detail::opamp_swing_peak(s, a, p.v_out);
@@ -477,7 +465,9 @@ void OpampStage::propose(const Goal& g, const Transistor& q, const Conditions& c
       std::vector<double> rfs;
       shelf.nearest(g.gain * (rg + c.source_ohm), 2, rfs);
       for (double rf : rfs) {
-        if (rf > 10e6) continue;
+        // Common practice: RF from about 1k (below it the output spends its current in the
+        // feedback network) to 10M (above it bias current and stray capacitance take over).
+        if (rf > 10e6 || rf < 1e3) continue;
         Values v;
         set(v, r_.rg, rg);
         set(v, r_.rf, rf);
@@ -516,59 +506,41 @@ void OpampStage::propose(const Goal& g, const Transistor& q, const Conditions& c
 const Topology& opamp_noninv() {
   static const OpampStage t(Form::non_inverting, SupplyForm::single, "opamp-noninv",
                             "op-amp non-inverting stage on one supply: gain 1 + RF/RG, inputs at a mid-rail reference",
-                            kNonInv1, kNonInv1Nets,
-                            {.rb = ni1::RB,
-                             .rf = ni1::RF,
-                             .rg = ni1::RG,
-                             .ra1 = ni1::RA1,
-                             .ra2 = ni1::RA2,
-                             .cin = ni1::CIN,
-                             .cg = ni1::CG,
-                             .cref = ni1::CREF,
-                             .cout = ni1::COUT});
+                            kNonInv1, kNonInv1Nets);
   return t;
 }
 
 const Topology& opamp_inv() {
   static const OpampStage t(Form::inverting, SupplyForm::single, "opamp-inv",
                             "op-amp inverting stage on one supply: gain -RF/RG, + input at a mid-rail reference", kInv1,
-                            kInv1Nets,
-                            {.rf = in1::RF,
-                             .rg = in1::RG,
-                             .ra1 = in1::RA1,
-                             .ra2 = in1::RA2,
-                             .cin = in1::CIN,
-                             .cref = in1::CREF,
-                             .cout = in1::COUT});
+                            kInv1Nets);
   return t;
 }
 
 const Topology& opamp_buffer() {
-  static const OpampStage t(
-      Form::buffer, SupplyForm::single, "opamp-buffer",
-      "op-amp unity-gain buffer on one supply: + input at a mid-rail reference", kBuffer1, kBuffer1Nets,
-      {.rb = bf1::RB, .ra1 = bf1::RA1, .ra2 = bf1::RA2, .cin = bf1::CIN, .cref = bf1::CREF, .cout = bf1::COUT});
+  static const OpampStage t(Form::buffer, SupplyForm::single, "opamp-buffer",
+                            "op-amp unity-gain buffer on one supply: + input at a mid-rail reference", kBuffer1,
+                            kBuffer1Nets);
   return t;
 }
 
 const Topology& opamp_noninv_split() {
   static const OpampStage t(Form::non_inverting, SupplyForm::split, "opamp-noninv-split",
                             "op-amp non-inverting stage on a split supply: gain 1 + RF/RG, output DC-coupled", kNonInv2,
-                            {}, {.rb = ni2::RB, .rf = ni2::RF, .rg = ni2::RG, .cin = ni2::CIN});
+                            {});
   return t;
 }
 
 const Topology& opamp_inv_split() {
   static const OpampStage t(Form::inverting, SupplyForm::split, "opamp-inv-split",
                             "op-amp inverting stage on a split supply: gain -RF/RG, output DC-coupled", kInv2,
-                            kInv2Nets, {.rf = in2::RF, .rg = in2::RG, .cin = in2::CIN});
+                            kInv2Nets);
   return t;
 }
 
 const Topology& opamp_buffer_split() {
   static const OpampStage t(Form::buffer, SupplyForm::split, "opamp-buffer-split",
-                            "op-amp unity-gain buffer on a split supply: output DC-coupled", kBuffer2, {},
-                            {.rb = bf2::RB, .cin = bf2::CIN});
+                            "op-amp unity-gain buffer on a split supply: output DC-coupled", kBuffer2, {});
   return t;
 }
 

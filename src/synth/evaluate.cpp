@@ -130,7 +130,7 @@ std::string rate_device(const devices::DeviceRecord& record, const DeviceStress&
     // maximum; with no operating maximum stated, the absolute maximum with a transistor's
     // margin. Its differential input and its dissipation as a transistor's.
     const devices::OpampParams& o = record.opamp;
-    const double v_share = o.vs_max_v > 0 ? 1.0 : kDeviceVoltageShare;
+    const double v_share = opamp_span_share(o);
     if (r.v_max_v && d.v_main > v_share * *r.v_max_v * (1 + 1e-9))
       return fmt::format("rating: {} runs from a supply span of {:.3g} V against its absolute maximum of {:.3g} V",
                          record.name, d.v_main, *r.v_max_v);
@@ -211,9 +211,10 @@ void add_cautions(Candidate& c, const Spec& spec, int next_stage) {
   if (auto hazard = hazard_caution(spec.split_supply ? 2 * spec.supply_hi_v : spec.supply_hi_v); !hazard.empty())
     c.cautions.push_back(hazard);
   if (spec.split_supply && c.topology && c.topology->supply_form() == stages::SupplyForm::single)
-    c.cautions.push_back(fmt::format("a single-rail stage on the split supply: it takes the + rail (+{}) and ground; "
-                                     "the - rail is not wired to it",
-                                     units::format_value(spec.supply_hi_v, units::Unit::volt)));
+    c.cautions.push_back(
+        fmt::format("a single-rail stage on the split supply: it takes the + rail (+{}) and ground; "
+                    "the - rail is not wired to it",
+                    units::format_value(spec.supply_hi_v, units::Unit::volt)));
   std::vector<std::string> unrated;
   for (const auto& rp : c.parts) {
     const std::string part = fmt::format("{} ({})", rp.designator, rp.role);

@@ -13,10 +13,13 @@
 
 namespace shelfstage::test {
 
-/// The request the fixture designs for (the demo's): a gain of ten into 10k from 12 V.
-inline const std::vector<std::string> kDemoRequest{"design",   "--gain", "10",      "--load",  "10k",
-                                                   "--supply", "12",     "--zin",   "100k",    "--source-z",
-                                                   "1k",       "--band", "20..20k", "--swing", "2"};
+/// The request the fixture designs for (the demo's): a gain of ten into 10k from 12 V, from the
+/// demo's transistor types (its op-amps would take it; the kept-design commands' tests read a
+/// transistor design's Q1, and tests/cli/examples/opamp_show.cmd the op-amp's).
+inline const std::vector<std::string> kDemoRequest{
+    "design",     "--gain",   "10",     "--load",   "10k",     "--supply", "12",       "--zin",    "100k",
+    "--source-z", "1k",       "--band", "20..20k",  "--swing", "2",        "--device", "SJ-101",   "--device",
+    "SJ-202",     "--device", "SJ-P31", "--device", "SQ-410",  "--device", "SQ-420",   "--device", "SQ-510"};
 
 /// The command exited 1 with one line `error: ...` that contains `says`, and printed nothing
 /// else.

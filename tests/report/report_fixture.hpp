@@ -73,10 +73,12 @@ inline synth::Spec request(const std::string& topology, const std::string& devic
   return s;
 }
 
-/// A request one stage cannot meet, a gain of 5 into a heavy load (150 Ω): the best design is
-/// a chain, a gain stage and then a follower.
+/// A request one transistor stage cannot meet, a gain of 5 into a heavy load (150 Ω): from the
+/// transistor types (an op-amp stage takes it alone) the best design is a chain, a gain stage
+/// and then a follower.
 inline synth::Spec chain_request() {
   synth::Spec spec;
+  spec.devices = {"SJ-101", "SJ-202", "SJ-P31", "SQ-410", "SQ-420", "SQ-510"};
   spec.gain = 5;
   spec.load_ohm = 150;
   spec.supply_lo_v = spec.supply_hi_v = 12;

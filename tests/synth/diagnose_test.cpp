@@ -39,9 +39,11 @@ TEST_CASE("a gain the input impedance forbids: the input impedance binds, with t
   // Gain 30 from one stage into 10k at 12 V with Zin >= 470k: a common emitter gets its gain
   // with a bias divider that loads the input well below that.
   synth::Spec s = request(30, 10e3, 12, 470e3);
-  // One-transistor stages: a feedback pair bootstraps its input device and meets it.
+  // One-transistor stages: a feedback pair bootstraps its input device and meets it, and an
+  // op-amp stage's megohm bias resistor does too.
   for (const stages::Topology* t : stages::registry())
-    if (t->second_device() == stages::SecondDevice::none) s.topologies.emplace_back(t->name());
+    if (t->second_device() == stages::SecondDevice::none && !t->accepts(devices::DeviceKind::opamp))
+      s.topologies.emplace_back(t->name());
   const auto r = synth::design(s, shelf());
   REQUIRE(r.candidates.empty());
   CHECK(r.diagnosis.binding == "zin");
@@ -67,11 +69,11 @@ TEST_CASE("a swing the supply cannot give, and one beyond the rail") {
   synth::Spec s = request(5, 10e3, 5, 100e3);
   s.supply_lo_v = 4.5;
   s.supply_hi_v = 5.5;
-  s.swing_vpp = 3;
+  s.swing_vpp = 4.8;  // beyond even a rail-to-rail output at the supply's 4.5 V low end
   const auto r = synth::design(s, shelf());
   REQUIRE(r.candidates.empty());
   CHECK(r.diagnosis.binding == "swing");
-  CHECK(has(r.diagnosis.detail, "short of the 3 Vpp asked"));
+  CHECK(has(r.diagnosis.detail, "short of the 4.8 Vpp asked"));
   s.supply_lo_v = s.supply_hi_v = 12;
   s.swing_vpp = 20;  // the request's own check refuses more than twice the supply
   s.stages_min = 2;
@@ -114,10 +116,12 @@ TEST_CASE("below unity, but beyond any divider's reach: no divider advice") {
   const auto half = synth::design(request(0.5, 10e3, 12, 100e3), shelf());
   REQUIRE_FALSE(half.candidates.empty());
   for (const auto& text : half.candidates.front().cautions) CHECK_FALSE(has(text, "attenuation"));
-  // A buffer into 1k with Zin >= 1M from 5 V: none on this shelf, and the diagnosis does not
-  // send the reader to a divider (at most 0.001 there).
+  // A transistor buffer into 1k with Zin >= 1M from 5 V: none on this shelf (its rail-to-rail
+  // op-amp would be one), and the diagnosis does not send the reader to a divider (at most
+  // 0.001 there).
   synth::Spec s = request(0.95, 1e3, 5, 1e6);
   s.swing_vpp = 1;
+  s.devices = {"SJ-101", "SJ-202", "SJ-P31", "SQ-410", "SQ-420", "SQ-510"};
   const auto r = synth::design(s, shelf());
   REQUIRE(r.candidates.empty());
   CHECK_FALSE(has(r.diagnosis.detail, "divider"));

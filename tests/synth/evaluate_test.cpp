@@ -302,9 +302,17 @@ TEST_CASE("an op-amp over a rating fails the check as a transistor does, each ra
   spec.supply_lo_v = spec.supply_hi_v = 15;
   const stages::Performance p = split_point();
   CHECK(synth::detail::check_ratings(spec, c, p, 25).empty());  // 30 V of 0.8 x 40 V, 83 mW of 250 mW
-  // The absolute maximum with the transistors' margin: 30 V above 0.8 x 36 V.
+  // The absolute maximum: as stated when the record gives an operating range (the maker's own
+  // derating), 30 V over 29 V; with a transistor's margin when it gives none, 30 V over 0.8 x 36 V.
   c.device.ratings.v_max_v = 36;
+  CHECK(synth::detail::check_ratings(spec, c, p, 25).empty());
+  c.device.ratings.v_max_v = 29;
   CHECK(synth::detail::check_ratings(spec, c, p, 25).find("absolute maximum") != std::string::npos);
+  c.device.ratings.v_max_v = 36;
+  const double vs_max = c.device.opamp.vs_max_v;
+  c.device.opamp.vs_max_v = 0;
+  CHECK(synth::detail::check_ratings(spec, c, p, 25).find("absolute maximum") != std::string::npos);
+  c.device.opamp.vs_max_v = vs_max;
   c.device.ratings.v_max_v = 40;
   // The record's operating range, at either end of the supply.
   c.device.opamp.vs_max_v = 24;
@@ -323,8 +331,8 @@ TEST_CASE("an op-amp over a rating fails the check as a transistor does, each ra
 }
 
 TEST_CASE("a design whose op-amp would run beyond its absolute maximum supply is not offered") {
-  // The demo's SA-430 is rated 36 V absolute maximum: 0.8 x 36 V = 28.8 V, under the 30 V span
-  // of a +/-15 V supply; at +/-12 V (24 V) it is within.
+  // The demo's SA-430 works from 10..36 V with 36 V its absolute maximum: a +/-19 V supply's
+  // 38 V span is beyond both; +/-15 V (30 V) is within.
   synth::Spec spec;
   spec.gain = 5;
   spec.load_ohm = 10e3;
@@ -334,12 +342,12 @@ TEST_CASE("a design whose op-amp would run beyond its absolute maximum supply is
   spec.devices = {"SA-430"};
   spec.top = 1;
   spec.mc_samples = 0;
-  spec.supply_lo_v = spec.supply_hi_v = 15;
+  spec.supply_lo_v = spec.supply_hi_v = 19;
   const auto over = synth::design(spec, demo_shelf());
   CHECK(over.candidates.empty());
   CHECK(over.diagnosis.detail.find("rating") != std::string::npos);
-  spec.supply_lo_v = spec.supply_hi_v = 12;
+  spec.supply_lo_v = spec.supply_hi_v = 15;
   const auto within = synth::design(spec, demo_shelf());
   REQUIRE_FALSE(within.candidates.empty());
-  CHECK(within.candidates.front().worst.device_v.max == doctest::Approx(24));
+  CHECK(within.candidates.front().worst.device_v.max == doctest::Approx(30));
 }

@@ -100,6 +100,10 @@ struct DeviceStress {
 /// Common practice: a semiconductor's voltages at most 80 % of its absolute maximum, its
 /// dissipation at most half its rating derated to the ambient (as for resistors).
 inline constexpr double kDeviceVoltageShare = 0.8;
+/// The share of an op-amp's absolute maximum supply its span may reach: all of it when the
+/// record states an operating range (the maker's derated span, which the span must keep to
+/// as well), kDeviceVoltageShare when it states none.
+inline double opamp_span_share(const devices::OpampParams& o) { return o.vs_max_v > 0 ? 1.0 : kDeviceVoltageShare; }
 inline constexpr double kDevicePowerShare = 0.5;
 
 /// A feedback stage's loop gain (stages/loop.hpp) at nominal and over its corners: every
