@@ -235,7 +235,7 @@ TEST_CASE("devices measure and devices fit refuse an op-amp type by name, design
   const auto d =
       shelf.run({"design", "--gain", "10", "--load", "10k", "--supply", "12", "--zin", "100k", "--device", "SA-R20"});
   CHECK(d.status == 2);
-  CHECK(d.err.find("SA-R20 runs from a supply span of 12 V, above its operating range") != std::string::npos);
+  CHECK(d.err.find("SA-R20 runs from a supply span of 12 V against its absolute maximum of 6 V") != std::string::npos);
   CHECK(shelf.json({"devices", "list"}).at("pieces").empty());
   // A piece of an op-amp in a pieces file is a bad row, and the file imports nothing.
   const auto r = shelf.run({"devices", "import", "--pieces", "-"}, "label,device,hfe\nQ9,SQ-410,250\nU1,SA-210,100\n");
