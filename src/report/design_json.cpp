@@ -261,11 +261,8 @@ Json worst_json(const synth::Candidate& c) {
 Json transistor_json(const synth::Candidate& c) {
   const auto& w = c.worst;
   const auto& r = c.device.ratings;
-  if (c.device.kind == devices::DeviceKind::opamp) {
-    // U1: v_main is its supply span, v_reverse its differential input (DeviceStress NOTES);
-    // its operating range and the nominal piece's figures beside them.
-    const auto& o = c.device.opamp;
-    return {{"designator", std::string(c.topology->device_designator())},
+  const bool opamp = c.device.kind == devices::DeviceKind::opamp;
+  Json j = {{"designator", opamp ? std::string(c.topology->device_designator()) : std::string("Q1")},
             {"v_main", range(w.device_v)},
             {"v_max", number_or_null(r.v_max_v)},
             {"v_reverse", range(w.device_rev)},
@@ -273,24 +270,17 @@ Json transistor_json(const synth::Candidate& c) {
             {"power", range(w.device_p)},
             {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr) : Json(w.device_p_allowed.min)},
             {"p_max", number_or_null(r.p_max_w)},
-            {"voltage_share", synth::kDeviceVoltageShare},
+            {"voltage_share", opamp ? synth::opamp_span_share(c.device.opamp) : synth::kDeviceVoltageShare},
             {"power_share", synth::kDevicePowerShare},
-            {"rated", r.any()},
-            {"vs_min", o.vs_min_v},
-            {"vs_max", o.vs_max_v},
-            {"opamp", opamp_piece_json(c.nominal_device.opamp)}};
+            {"rated", r.any()}};
+  if (opamp) {
+    // U1: v_main is its supply span, v_reverse its differential input (DeviceStress NOTES);
+    // its operating range and the nominal piece's figures beside them.
+    j["vs_min"] = c.device.opamp.vs_min_v;
+    j["vs_max"] = c.device.opamp.vs_max_v;
+    j["opamp"] = opamp_piece_json(c.nominal_device.opamp);
   }
-  return {{"designator", "Q1"},
-          {"v_main", range(w.device_v)},
-          {"v_max", number_or_null(r.v_max_v)},
-          {"v_reverse", range(w.device_rev)},
-          {"v_rev_max", number_or_null(r.v_rev_max_v)},
-          {"power", range(w.device_p)},
-          {"power_allowed", w.device_p_allowed.empty || !r.p_max_w ? Json(nullptr) : Json(w.device_p_allowed.min)},
-          {"p_max", number_or_null(r.p_max_w)},
-          {"voltage_share", synth::kDeviceVoltageShare},
-          {"power_share", synth::kDevicePowerShare},
-          {"rated", r.any()}};
+  return j;
 }
 
 // A pair's Q2 the same way (no reverse figure: its base-emitter junction is never reversed).
