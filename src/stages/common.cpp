@@ -262,12 +262,7 @@ void finish_response(Performance& p, std::span<const LfSection> lf, const Hybrid
     p.f_low_hz = lf_corner_hz(lf);
     p.f_high_hz = hybrid_pi_corner_hz(m);
   }
-  if (c.band_lo_hz > 0) {
-    const double w = 2 * std::numbers::pi * c.band_lo_hz;
-    double h2 = 1.0;
-    for (const auto& x : lf) h2 *= (w * w + x.zero_rad * x.zero_rad) / (w * w + x.pole_rad * x.pole_rad);
-    p.loss_lo_db = std::max(0.0, -10.0 * std::log10(h2));
-  }
+  if (c.band_lo_hz > 0) p.loss_lo_db = lf_loss_db(lf, c.band_lo_hz);
   if (c.band_hi_hz > 0) {
     const double r = hybrid_pi_gain(m, 2 * std::numbers::pi * c.band_hi_hz) / hybrid_pi_dc_gain(m);
     p.loss_hi_db = std::max(0.0, -20.0 * std::log10(r));
@@ -293,6 +288,13 @@ void jfet_follower_swing(Performance& p, const devices::JfetInstance& j, const J
   const double gate_limit = gate_conduction_excursion(j.beta(), j.lambda_per_v, j.vp_abs_v, b.id_a, b.vds_v, 1.0, r_ac);
   p.swing_up_v = std::max(0.0, std::min(up, gate_limit));
   p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+}
+
+double lf_loss_db(std::span<const LfSection> sections, double f_hz) {
+  const double w = 2 * std::numbers::pi * f_hz;
+  double h2 = 1.0;
+  for (const auto& x : sections) h2 *= (w * w + x.zero_rad * x.zero_rad) / (w * w + x.pole_rad * x.pole_rad);
+  return std::max(0.0, -10.0 * std::log10(h2));
 }
 
 double cap_for(double r_ohm, double f_hz) { return 1.0 / (2 * std::numbers::pi * r_ohm * f_hz); }

@@ -82,6 +82,9 @@ double hybrid_pi_corner_hz(const HybridPi& m);
 /// hangs behind the output coupling capacitor c_out (0: none, the load on the output node).
 void finish_response(Performance& p, std::span<const LfSection> lf, const HybridPi& m, const Conditions& c,
                      double c_out, Detail detail);
+/// The loss (dB >= 0) at f_hz of the product of the low-frequency sections, relative to their
+/// product at high frequency.
+double lf_loss_db(std::span<const LfSection> sections, double f_hz);
 /// Capacitance that puts a first-order corner at f_hz through r_ohm.
 double cap_for(double r_ohm, double f_hz);
 /// Conductance of a resistor that may be absent (0 ohms: a short, given a huge conductance).

@@ -355,9 +355,10 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
   const OperatingPoint op = circuit::solve_dc(net, so);
   const auto transistors =
       static_cast<std::size_t>(std::count_if(qs.begin(), qs.end(), [](const Transistor& q) { return !is_opamp(q); }));
-  if (op.devices.size() != transistors || detail::opamp_models(net).size() != qs.size() - transistors)
+  const std::size_t opamps = detail::opamp_models(net).size();
+  if (op.devices.size() != transistors || opamps != qs.size() - transistors)
     throw InputError(fmt::format("evaluate_circuit: {} devices given for {} transistors and {} op-amps in the circuit",
-                                 qs.size(), op.devices.size(), detail::opamp_models(net).size()));
+                                 qs.size(), op.devices.size(), opamps));
   const double k = is_opamp(qs.front()) ? 1.0 : devices::polarity(qs.front().kind);
   const std::vector<double> ic0 = read_bias(net, op, qs, p);
 

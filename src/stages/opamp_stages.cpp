@@ -364,12 +364,7 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
     p.f_low_hz = detail::lf_corner_hz(lfs);
     p.f_high_hz = detail::closed_loop_f_high(s, a);
   }
-  if (c.band_lo_hz > 0) {
-    const double w = two_pi * c.band_lo_hz;
-    double h2 = 1.0;
-    for (const auto& x : lfs) h2 *= (w * w + x.zero_rad * x.zero_rad) / (w * w + x.pole_rad * x.pole_rad);
-    p.loss_lo_db = std::max(0.0, -10.0 * std::log10(h2));
-  }
+  if (c.band_lo_hz > 0) p.loss_lo_db = detail::lf_loss_db(lfs, c.band_lo_hz);
   if (c.band_hi_hz > 0)
     p.loss_hi_db = std::max(0.0, -20.0 * std::log10(std::abs(detail::closed_loop(s, a, two_pi * c.band_hi_hz)) / g0));
 

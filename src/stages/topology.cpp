@@ -45,7 +45,10 @@ bool Topology::accepts_second(devices::DeviceKind first, devices::DeviceKind sec
   return false;
 }
 
-std::string_view Topology::device_designator() const { return accepts(devices::DeviceKind::opamp) ? "U1" : "Q1"; }
+std::string_view Topology::device_designator() const {
+  return devices::device_designator(accepts(devices::DeviceKind::opamp) ? devices::DeviceKind::opamp
+                                                                        : devices::DeviceKind::npn);
+}
 
 std::string_view Rail::net(std::string_view n) const {
   if (!flipped) return n;
