@@ -210,6 +210,15 @@ void add_cautions(Candidate& c, const Spec& spec, int next_stage) {
   c.cautions.clear();
   if (auto hazard = hazard_caution(spec.split_supply ? 2 * spec.supply_hi_v : spec.supply_hi_v); !hazard.empty())
     c.cautions.push_back(hazard);
+  // A split-supply op-amp stage's output is DC-coupled: the load takes its offset.
+  if (c.topology && c.topology->supply_form() == stages::SupplyForm::split && !c.worst.v_out.empty) {
+    const double dc = std::max(std::abs(c.worst.v_out.min), std::abs(c.worst.v_out.max));
+    if (dc > 10e-3)
+      c.cautions.push_back(fmt::format(
+          "the output is DC-coupled: the load takes up to {} DC (the offset and the bias current through the "
+          "resistors, times the DC gain); a smaller RB, or a capacitor in series with the load, takes it away",
+          units::format_value(dc, units::Unit::volt)));
+  }
   if (spec.split_supply && c.topology && c.topology->supply_form() == stages::SupplyForm::single)
     c.cautions.push_back(
         fmt::format("a single-rail stage on the split supply: it takes the + rail (+{}) and ground; "
