@@ -351,3 +351,32 @@ TEST_CASE("a design whose op-amp would run beyond its absolute maximum supply is
   REQUIRE_FALSE(within.candidates.empty());
   CHECK(within.candidates.front().worst.device_v.max == doctest::Approx(30));
 }
+
+TEST_CASE("a split-supply op-amp stage's DC-coupled output names the DC its load takes") {
+  // Gain 2 into 1k on +/-5 V from the demo's bipolar-input SA-210 (400 nA of bias current):
+  // the + input's bias resistor carries the bias current, and the output its DC times the DC
+  // gain, straight into the load (no coupling capacitor on a split supply).
+  synth::Spec spec;
+  spec.gain = 2;
+  spec.load_ohm = 1e3;
+  spec.zin_min_ohm = 47e3;
+  spec.split_supply = true;
+  spec.supply_lo_v = spec.supply_hi_v = 5;
+  spec.band_hz = std::pair{20.0, 20e3};
+  spec.topologies = {"opamp-noninv-split"};
+  spec.devices = {"SA-210"};
+  spec.top = 1;
+  spec.mc_samples = 0;
+  const auto r = synth::design(spec, demo_shelf());
+  REQUIRE_FALSE(r.candidates.empty());
+  const auto& c = r.candidates.front();
+  const double dc = std::max(std::abs(c.worst.v_out.min), std::abs(c.worst.v_out.max));
+  const auto it = std::find_if(c.cautions.begin(), c.cautions.end(),
+                               [](const std::string& s) { return s.find("DC-coupled") != std::string::npos; });
+  if (dc > 10e-3) {
+    REQUIRE(it != c.cautions.end());
+    CHECK(it->find(units::format_value(dc, units::Unit::volt)) != std::string::npos);
+  } else {
+    CHECK(it == c.cautions.end());
+  }
+}
