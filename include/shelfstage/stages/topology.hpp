@@ -198,7 +198,7 @@ struct Performance {
   /// band_hi_hz, or 20 kHz, the audio band's top, when none is asked), where the loop holds
   /// it least. 0: as zout_ohm across the band. The worst case spans both.
   double zout_band_ohm = 0;
-  double f_low_hz = 0;        ///< -3 dB points relative to mid-band
+  double f_low_hz = 0;  ///< -3 dB points relative to mid-band
   double f_high_hz = 0;
   double loss_lo_db = 0;  ///< loss at Conditions::band_lo_hz relative to mid-band, dB >= 0
   double loss_hi_db = 0;  ///< loss at Conditions::band_hi_hz relative to mid-band, dB >= 0
