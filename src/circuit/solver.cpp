@@ -393,37 +393,41 @@ namespace {
 
 using cd = std::complex<double>;
 
-Eigen::MatrixXcd ac_matrix(const Circuit& c, const Layout& l, const OperatingPoint& op, double f_hz,
-                           Eigen::VectorXcd* rhs) {
-  const double w = 2 * std::numbers::pi * f_hz;
-  const cd jw(0, w);
-  Eigen::MatrixXcd A = Eigen::MatrixXcd::Zero(static_cast<long>(l.size()), static_cast<long>(l.size()));
-  if (rhs) *rhs = Eigen::VectorXcd::Zero(static_cast<long>(l.size()));
+// The small-signal system at op split by frequency: A = G + jw C, the right-hand side from the
+// AC sources (every stamp is either independent of frequency or jw times a capacitance).
+void ac_parts(const Circuit& c, const Layout& l, const OperatingPoint& op, Eigen::MatrixXd& G, Eigen::MatrixXd& C,
+              Eigen::VectorXcd& rhs) {
+  const auto n = static_cast<long>(l.size());
+  G = Eigen::MatrixXd::Zero(n, n);
+  C = Eigen::MatrixXd::Zero(n, n);
+  rhs = Eigen::VectorXcd::Zero(n);
   std::size_t dev = 0, diode = 0;
-  Eigen::VectorXd x(static_cast<long>(l.size()));
+  Eigen::VectorXd x(n);
   x.setZero();
   for (std::size_t v = 1; v < c.net_count(); ++v) x(row(v)) = op.node_v[v];
   const auto& els = c.elements();
   for (std::size_t i = 0; i < els.size(); ++i) {
     const Component& e = els[i].c;
     switch (e.kind) {
-      case ElementKind::resistor: stamp_g(A, e.pins[0], e.pins[1], cd(1.0 / e.value)); break;
-      case ElementKind::capacitor: stamp_g(A, e.pins[0], e.pins[1], jw * e.value); break;
+      case ElementKind::resistor: stamp_g(G, e.pins[0], e.pins[1], 1.0 / e.value); break;
+      case ElementKind::capacitor: stamp_g(C, e.pins[0], e.pins[1], e.value); break;
       case ElementKind::vsource: {
         const long k = static_cast<long>(l.source_row[i]);
-        stamp_branch(A, e, k);
-        if (rhs) (*rhs)(k) = e.ac_volts;
+        stamp_branch(G, e, k);
+        rhs(k) = e.ac_volts;
         break;
       }
       case ElementKind::jfet: {
         const DeviceOp& d = op.devices[dev++];
         const std::size_t dn = e.pins[0], g = e.pins[1], s = e.pins[2];
-        stamp_vccs(A, dn, g, s, cd(d.gm_s));
-        stamp_vccs(A, dn, dn, s, cd(d.go_s));
-        stamp_vccs(A, s, g, s, cd(-d.gm_s));
-        stamp_vccs(A, s, dn, s, cd(-d.go_s));
-        stamp_g(A, g, s, jw * d.c_in_f + kGminJunction);
-        stamp_g(A, g, dn, jw * d.c_fb_f + kGminJunction);
+        stamp_vccs(G, dn, g, s, d.gm_s);
+        stamp_vccs(G, dn, dn, s, d.go_s);
+        stamp_vccs(G, s, g, s, -d.gm_s);
+        stamp_vccs(G, s, dn, s, -d.go_s);
+        stamp_g(G, g, s, kGminJunction);
+        stamp_g(G, g, dn, kGminJunction);
+        stamp_g(C, g, s, d.c_in_f);
+        stamp_g(C, g, dn, d.c_fb_f);
         break;
       }
       case ElementKind::bjt: {
@@ -434,47 +438,84 @@ Eigen::MatrixXcd ac_matrix(const Circuit& c, const Layout& l, const OperatingPoi
         const double vbe = p * (node_v(x, bn) - node_v(x, en));
         const double vbc = p * (node_v(x, bn) - node_v(x, cn));
         const auto ev = devices::bjt_eval(q, vbe, vbc);
-        stamp_vccs(A, cn, bn, en, cd(ev.dic_dvbe));
-        stamp_vccs(A, cn, bn, cn, cd(ev.dic_dvbc));
-        stamp_vccs(A, bn, bn, en, cd(ev.dib_dvbe));
-        stamp_vccs(A, bn, bn, cn, cd(ev.dib_dvbc));
-        stamp_vccs(A, en, bn, en, cd(-(ev.dic_dvbe + ev.dib_dvbe)));
-        stamp_vccs(A, en, bn, cn, cd(-(ev.dic_dvbc + ev.dib_dvbc)));
+        stamp_vccs(G, cn, bn, en, ev.dic_dvbe);
+        stamp_vccs(G, cn, bn, cn, ev.dic_dvbc);
+        stamp_vccs(G, bn, bn, en, ev.dib_dvbe);
+        stamp_vccs(G, bn, bn, cn, ev.dib_dvbc);
+        stamp_vccs(G, en, bn, en, -(ev.dic_dvbe + ev.dib_dvbe));
+        stamp_vccs(G, en, bn, cn, -(ev.dic_dvbc + ev.dib_dvbc));
         const DeviceOp& d = op.devices[dev - 1];
-        stamp_g(A, bn, en, jw * d.c_in_f + kGminJunction);
-        stamp_g(A, bn, cn, jw * d.c_fb_f + kGminJunction);
+        stamp_g(G, bn, en, kGminJunction);
+        stamp_g(G, bn, cn, kGminJunction);
+        stamp_g(C, bn, en, d.c_in_f);
+        stamp_g(C, bn, cn, d.c_fb_f);
         break;
       }
-      case ElementKind::isource:
-        if (rhs) stamp_isource(*rhs, e, cd(e.ac_volts));
-        break;
-      case ElementKind::vccs: stamp_vccs_element(A, e, cd(e.value)); break;
-      case ElementKind::vcvs: stamp_vcvs(A, e, static_cast<long>(l.source_row[i])); break;
-      case ElementKind::diode: stamp_g(A, e.pins[0], e.pins[1], cd(op.diodes[diode++].g_s + kGminJunction)); break;
+      case ElementKind::isource: stamp_isource(rhs, e, cd(e.ac_volts)); break;
+      case ElementKind::vccs: stamp_vccs_element(G, e, e.value); break;
+      case ElementKind::vcvs: stamp_vcvs(G, e, static_cast<long>(l.source_row[i])); break;
+      case ElementKind::diode: stamp_g(G, e.pins[0], e.pins[1], op.diodes[diode++].g_s + kGminJunction); break;
     }
   }
-  return A;
 }
 
 }  // namespace
 
-std::vector<std::complex<double>> solve_ac(const Circuit& c, const OperatingPoint& op, double f_hz) {
-  const Layout l = layout(c);
+struct AcSystem::Parts {
+  Layout layout;
+  Eigen::MatrixXd g, c;
   Eigen::VectorXcd rhs;
-  const Eigen::MatrixXcd A = ac_matrix(c, l, op, f_hz, &rhs);
-  const Eigen::VectorXcd sol = A.partialPivLu().solve(rhs);
-  std::vector<cd> v(c.net_count(), cd(0));
-  for (std::size_t n = 1; n < c.net_count(); ++n) v[n] = sol(row(n));
+  std::size_t nets = 0;
+  Eigen::MatrixXcd at(double f_hz) const { return g.cast<cd>() + cd(0, 2 * std::numbers::pi * f_hz) * c.cast<cd>(); }
+};
+
+AcSystem::AcSystem(const Circuit& c, const OperatingPoint& op) {
+  auto p = std::make_shared<Parts>();
+  p->layout = layout(c);
+  p->nets = c.net_count();
+  ac_parts(c, p->layout, op, p->g, p->c, p->rhs);
+  parts_ = std::move(p);
+  for (std::size_t i = 0; i < c.elements().size(); ++i)
+    if (c.elements()[i].c.kind == ElementKind::vsource) source_rows_.emplace_back(c.elements()[i].c.designator, i);
+}
+
+std::vector<std::complex<double>> AcSystem::solve(double f_hz) const {
+  const Parts& p = *parts_;
+  const Eigen::VectorXcd sol = p.at(f_hz).partialPivLu().solve(p.rhs);
+  std::vector<cd> v(p.nets, cd(0));
+  for (std::size_t n = 1; n < p.nets; ++n) v[n] = sol(row(n));
   return v;
+}
+
+std::vector<std::vector<std::complex<double>>> AcSystem::solve_each(double f_hz,
+                                                                    std::span<const std::string> sources) const {
+  const Parts& p = *parts_;
+  Eigen::MatrixXcd b = Eigen::MatrixXcd::Zero(static_cast<long>(p.layout.size()), static_cast<long>(sources.size()));
+  for (std::size_t k = 0; k < sources.size(); ++k) {
+    const auto it =
+        std::find_if(source_rows_.begin(), source_rows_.end(), [&](const auto& sr) { return sr.first == sources[k]; });
+    if (it == source_rows_.end()) throw InputError(fmt::format("no voltage source '{}' in the circuit", sources[k]));
+    b(static_cast<long>(p.layout.source_row[it->second]), static_cast<long>(k)) = 1.0;
+  }
+  const Eigen::MatrixXcd sol = p.at(f_hz).partialPivLu().solve(b);
+  std::vector<std::vector<cd>> out(sources.size(), std::vector<cd>(p.nets, cd(0)));
+  for (std::size_t k = 0; k < sources.size(); ++k)
+    for (std::size_t n = 1; n < p.nets; ++n) out[k][n] = sol(row(n), static_cast<long>(k));
+  return out;
+}
+
+std::vector<std::complex<double>> solve_ac(const Circuit& c, const OperatingPoint& op, double f_hz) {
+  return AcSystem(c, op).solve(f_hz);
 }
 
 std::vector<std::complex<double>> ac_sweep(const Circuit& c, const OperatingPoint& op, const std::string& out_net,
                                            const std::vector<double>& f_hz) {
   const auto n = c.find_net(out_net);
   if (!n) throw InputError(fmt::format("no net '{}' in the circuit", out_net));
+  const AcSystem sys(c, op);
   std::vector<cd> out;
   out.reserve(f_hz.size());
-  for (double f : f_hz) out.push_back(solve_ac(c, op, f)[*n]);
+  for (double f : f_hz) out.push_back(sys.solve(f)[*n]);
   return out;
 }
 
@@ -482,8 +523,10 @@ NoisePoint noise(const Circuit& c, const OperatingPoint& op, const std::string& 
   const auto on = c.find_net(out_net);
   if (!on || *on == 0) throw InputError(fmt::format("no net '{}' in the circuit", out_net));
   const Layout l = layout(c);
+  Eigen::MatrixXd g, cap;
   Eigen::VectorXcd rhs;
-  const Eigen::MatrixXcd A = ac_matrix(c, l, op, f_hz, &rhs);
+  ac_parts(c, l, op, g, cap, rhs);
+  const Eigen::MatrixXcd A = g.cast<cd>() + cd(0, 2 * std::numbers::pi * f_hz) * cap.cast<cd>();
   const auto lu = A.partialPivLu();
   const cd h = lu.solve(rhs)(row(*on));
   // Adjoint: z = A^-T e_out gives the transfer from a current injected at any node.
@@ -543,7 +586,8 @@ std::vector<double> log_sweep(double lo, double hi, int per_decade) {
 Corners find_corners(const Circuit& c, const OperatingPoint& op, const std::string& out_net, double f_lo, double f_hi) {
   const auto n = c.find_net(out_net);
   if (!n) throw InputError(fmt::format("no net '{}' in the circuit", out_net));
-  auto mag = [&](double f) { return std::abs(solve_ac(c, op, f)[*n]); };
+  const AcSystem sys(c, op);
+  auto mag = [&](double f) { return std::abs(sys.solve(f)[*n]); };
   const std::vector<double> fs = log_sweep(f_lo, f_hi, 10);
   std::vector<double> m(fs.size());
   std::size_t best = 0;
@@ -553,7 +597,7 @@ Corners find_corners(const Circuit& c, const OperatingPoint& op, const std::stri
   }
   Corners r;
   r.f_mid_hz = fs[best];
-  const cd hm = solve_ac(c, op, fs[best])[*n];
+  const cd hm = sys.solve(fs[best])[*n];
   r.mid_gain = (hm.real() < 0 ? -1.0 : 1.0) * std::abs(hm);
   const double target = m[best] / std::numbers::sqrt2;
   auto bisect = [&](double a, double b) {  // a inside the band (above target), b outside

@@ -21,7 +21,9 @@
 #include <complex>
 #include <fmt/format.h>
 #include <algorithm>
+#include <array>
 #include <numbers>
+#include <optional>
 #include <vector>
 
 #include "shelfstage/circuit/solver.hpp"
@@ -39,10 +41,10 @@ constexpr const char* kInjectNet = "loop_i";
 
 // The circuit with the loop broken: the moved parts' ends on end_net moved to kBreakNet, a
 // series source VLOOP (+ at the break, - at end_net), and the current injection VINJ behind
-// RINJ into the break. Every other AC source silenced. `voltage` picks which injection carries
-// AC.
-circuit::Circuit broken(const circuit::Circuit& net, const std::vector<std::string>& moved, const std::string& end_net,
-                        bool voltage) {
+// RINJ into the break. Every other AC source silenced; both injections at 0 V DC (the
+// operating point is the closed loop's), each driven alone by AcSystem::solve_each.
+circuit::Circuit broken(const circuit::Circuit& net, const std::vector<std::string>& moved,
+                        const std::string& end_net) {
   circuit::Circuit b;
   circuit::Circuit::Carry carry;
   carry.net = [&](const circuit::Component& c, const std::string& n) {
@@ -57,22 +59,23 @@ circuit::Circuit broken(const circuit::Circuit& net, const std::vector<std::stri
   for (const auto& el : net.elements())
     if (el.c.kind == circuit::ElementKind::vsource && el.c.ac_volts != 0)
       b.vsource(el.c.designator, el.c.role, net.net_name(el.c.pins[0]), net.net_name(el.c.pins[1]), el.c.value, 0.0);
-  b.vsource("VLOOP", "loop injection", kBreakNet, end_net, 0.0, voltage ? 1.0 : 0.0);
-  b.vsource("VINJ", "loop injection", kInjectNet, "0", 0.0, voltage ? 0.0 : 1.0);
+  b.vsource("VLOOP", "loop injection", kBreakNet, end_net, 0.0, 0.0);
+  b.vsource("VINJ", "loop injection", kInjectNet, "0", 0.0, 0.0);
   b.resistor("RINJ", "loop injection", kInjectNet, kBreakNet, kInjectOhm);
   return b;
 }
 
 // What the two injections need to read at one frequency.
 struct Probe {
-  circuit::Circuit v_circuit, i_circuit;
-  circuit::OperatingPoint v_op, i_op;
+  std::optional<circuit::AcSystem> system;
   std::size_t x = 0, y = 0, far = 0, inj = 0;  // nets: return side, break, the moved parts' other end, injection
   double g_moved = 0, c_moved = 0;             // the moved parts' conductance and capacitance
   cd loop(double f_hz) const {
-    const auto v = circuit::solve_ac(v_circuit, v_op, f_hz);
+    static const std::array<std::string, 2> kSources = {"VLOOP", "VINJ"};
+    const auto both = system->solve_each(f_hz, kSources);
+    const auto& v = both[0];
     const cd tv = -v[x] / v[y];
-    const auto i = circuit::solve_ac(i_circuit, i_op, f_hz);
+    const auto& i = both[1];
     const cd i_f = (i[y] - i[far]) * cd(g_moved, 2 * std::numbers::pi * f_hz * c_moved);
     const cd i_inj = (i[inj] - i[y]) / kInjectOhm;
     const cd i_r = i_f - i_inj;
@@ -104,17 +107,14 @@ LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& de
     (el.c.kind == circuit::ElementKind::resistor ? p.g_moved : p.c_moved) +=
         el.c.kind == circuit::ElementKind::resistor ? 1.0 / el.c.value : el.c.value;
   }
-  p.v_circuit = broken(net, moved, end_net, true);
-  p.i_circuit = broken(net, moved, end_net, false);
+  const circuit::Circuit b = broken(net, moved, end_net);
   circuit::SolverOptions o;
   o.celsius = celsius;
-  p.v_op = circuit::solve_dc(p.v_circuit, o);
-  p.i_op = circuit::solve_dc(p.i_circuit, o);
-  // Both circuits are built alike: their nets have the same indices.
-  p.x = *p.v_circuit.find_net(end_net);
-  p.y = *p.v_circuit.find_net(kBreakNet);
-  p.far = *p.v_circuit.find_net(far_net);
-  p.inj = *p.v_circuit.find_net(kInjectNet);
+  p.system.emplace(b, circuit::solve_dc(b, o));
+  p.x = *b.find_net(end_net);
+  p.y = *b.find_net(kBreakNet);
+  p.far = *b.find_net(far_net);
+  p.inj = *b.find_net(kInjectNet);
 
   LoopGain g;
   const cd t_mid = p.loop(f_mid_hz);

@@ -1043,16 +1043,27 @@ struct Run {
   const std::vector<detail::Job>& jobs;
   SearchStats& tally;
   const Progress& progress;
+  DesignResult::Phases& phases;
 };
+
+// Seconds since t, and t moved to now.
+double lap(std::chrono::steady_clock::time_point& t) {
+  const auto now = std::chrono::steady_clock::now();
+  const double s = std::chrono::duration<double>(now - t).count();
+  t = now;
+  return s;
+}
 
 // Singles first, finished as shown; chains when none of those holds the gain window at
 // every corner (or when asked for), finished the same way; then the best of both.
 std::vector<Candidate> search_designs(const Run& run) {
   const Spec& spec = run.spec;
   std::vector<Candidate> out;
+  auto t = std::chrono::steady_clock::now();
   if (spec.stages_min <= 1) {
     // Single stages are assessed only as far as the list reaches (NOTES: the ranked search).
     detail::RankedSearch singles(spec, run.shelf, run.jobs);
+    run.phases.propose += lap(t);
     if (run.progress)
       run.progress(static_cast<double>(run.jobs.size()), static_cast<double>(run.jobs.size()), "stages searched");
     std::vector<std::string> failures;
@@ -1064,6 +1075,7 @@ std::vector<Candidate> search_designs(const Run& run) {
         spec, run.shelf, failures);
     singles.tally(run.tally);
     for (const auto& f : failures) run.tally.note_corner_failure(f);
+    run.phases.finish += lap(t);
   }
   const bool single_meets =
       std::any_of(out.begin(), out.end(), [&](const Candidate& c) { return c.error_worst <= spec.gain_tol; });
@@ -1079,6 +1091,7 @@ std::vector<Candidate> search_designs(const Run& run) {
     std::stable_sort(out.begin(), out.end(), listed_before);
     if (static_cast<int>(out.size()) > spec.top) out.resize(static_cast<std::size_t>(spec.top));
     if (run.progress) run.progress(1, 1, "chains");
+    run.phases.chains += lap(t);
   }
   return out;
 }
@@ -1227,13 +1240,16 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   const auto start = std::chrono::steady_clock::now();
   DesignResult r;
   r.spec = spec;
+  auto t = start;
   const std::vector<detail::Job> jobs = detail::make_jobs(spec, inv);
   Shelf::Options so;
   so.combine = spec.combine;
   const Shelf shelf(inv.parts, so);
   SearchStats tally;
-  const Run run{spec, inv, shelf, jobs, tally, progress};
+  const Run run{spec, inv, shelf, jobs, tally, progress, r.phases};
+  r.phases.shelf = lap(t);
   r.candidates = search_designs(run);
+  t = std::chrono::steady_clock::now();
   r.proposals = tally.proposals;
   r.evaluations = tally.evaluations;
   if (divider_reaches(spec))
@@ -1244,7 +1260,9 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
                                     "its drive into the load",
                                     spec.gain, units::to_db(spec.gain)));
   rank_and_yield(r, run);
+  r.phases.yield = lap(t);
   if (r.candidates.empty()) diagnose(r.diagnosis, run);
+  r.phases.diagnose = lap(t);
   r.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   return r;
 }

@@ -3,6 +3,8 @@
 // linearised at the operating point. The reference inside the program for any stage.
 #pragma once
 #include <functional>
+#include <memory>
+#include <span>
 #include <complex>
 #include <string>
 #include <vector>
@@ -57,6 +59,24 @@ struct SolverOptions {
 /// InfeasibleError when no method converges. Diodes take their thermal voltage at
 /// options.celsius (a transistor's comes with its instance).
 OperatingPoint solve_dc(const Circuit& circuit, const SolverOptions& options = {});
+
+/// The small-signal system of a circuit at an operating point, stamped once (conductances
+/// G, capacitances C, the AC sources' right-hand side) and solved as G + j 2 pi f C at any
+/// frequency: a sweep linearises the devices once instead of at every point.
+class AcSystem {
+ public:
+  AcSystem(const Circuit& circuit, const OperatingPoint& op);
+  /// Complex node voltages (by net index, ground 0), the sources driven by their ac_volts.
+  std::vector<std::complex<double>> solve(double f_hz) const;
+  /// The node voltages with each named voltage source alone driving 1 V AC (every other AC
+  /// source silenced), from one factorisation. Throws InputError for a name not a source.
+  std::vector<std::vector<std::complex<double>>> solve_each(double f_hz, std::span<const std::string> sources) const;
+
+ private:
+  struct Parts;
+  std::shared_ptr<const Parts> parts_;
+  std::vector<std::pair<std::string, std::size_t>> source_rows_;  // vsource designator, element index
+};
 
 /// Complex node voltages at one frequency, the sources driven by their ac_volts.
 std::vector<std::complex<double>> solve_ac(const Circuit& circuit, const OperatingPoint& op, double f_hz);

@@ -176,6 +176,12 @@ struct DesignResult {
   long proposals = 0;                 ///< stages proposed by the design equations
   long evaluations = 0;               ///< fast evaluations made
   double seconds = 0;
+  /// Where the seconds went (wall clock): the shelf and the jobs; proposing, drafting and
+  /// choosing single stages; assessing and finishing the listed ones (corners, loops);
+  /// chains; the Monte Carlo; the diagnosis when nothing fits.
+  struct Phases {
+    double shelf = 0, propose = 0, finish = 0, chains = 0, yield = 0, diagnose = 0;
+  } phases;
 };
 
 /// What a search learned on the way: why candidates were stopped and how close they came.
