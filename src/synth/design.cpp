@@ -6,6 +6,7 @@
 #include "shelfstage/synth/design.hpp"
 
 #include <algorithm>
+#include <deque>
 #include <cctype>
 #include <functional>
 #include <atomic>
@@ -75,7 +76,7 @@ class Searcher {
     const StageBuilder& builder = *work.builder;
     SearchStats& stats = work.stats;
     const auto roles = job.topology->roles();
-    std::vector<StageBuilder::Draft> found;
+    std::deque<StageBuilder::Draft> found;  // (a deque: tens of thousands, never moved)
     std::unordered_set<std::uint64_t> seen;
     const ThinnedValues thinned(shelf_, spec_.search_breadth);
     const stages::ValueSource& values =
@@ -104,7 +105,7 @@ class Searcher {
   /// decided (every family taken and its own full) is never estimated. The choice is the
   /// one a full sort of every estimate would give.
   std::vector<std::pair<std::size_t, double>> choose(const StageBuilder& builder,
-                                                     const std::vector<StageBuilder::Draft>& found,
+                                                     const std::deque<StageBuilder::Draft>& found,
                                                      std::span<const stages::Role> roles, SearchStats& stats) const {
     const auto families = static_cast<std::size_t>(spec_.search_families);
     const int variants = spec_.search_variants;
@@ -385,10 +386,10 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     ++stats.failures["stock"];
     return false;
   }
-  d.nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
+  const stages::Performance nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
   ++stats.evaluations;
-  if (!meets_request(spec_, d.nominal, stats, false)) return false;
-  d.error_nominal = std::abs(d.nominal.gain) / spec_.gain - 1.0;
+  if (!meets_request(spec_, nominal, stats, false)) return false;
+  d.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
   count_pieces(d, shelf_, spec_.copies, short_by);
   out = std::move(d);
   return true;
@@ -404,7 +405,7 @@ Candidate StageBuilder::candidate(const Draft& d) const {
   c.nominal_device = q_;
   c.conditions = cond_;
   c.values = d.values;
-  c.nominal = d.nominal;
+  c.nominal = topology_.evaluate(d.values, q_, screen_, stages::Detail::core);
   c.pieces = device2_ ? 2 : 1;
   for (std::size_t i = 0; i < topology_.roles().size(); ++i) {
     if (!d.combos[i]) continue;

@@ -231,7 +231,8 @@ class StageBuilder {
     stages::Values values;
     std::array<const Combo*, stages::kMaxRoles> combos{};
     std::array<std::string_view, stages::kMaxRoles> plus{};  ///< + lead nets of polarised parts
-    stages::Performance nominal;
+    // (Its figures at nominal are worked out again for the few that become candidates: a
+    // search keeps tens of thousands of drafts.)
     double error_nominal = 0;
     int pieces = 0;
     int purchases = 0;  ///< pieces to buy for every copy (a shelf with purchases only)
@@ -248,6 +249,7 @@ class StageBuilder {
   bool assess(Candidate& c, SearchStats& stats) const;
 
   const devices::DeviceRecord& device() const { return device_; }
+  const stages::Topology& topology() const { return topology_; }
   const stages::Transistor& nominal_device() const { return q_; }
   const stages::Conditions& conditions() const { return cond_; }
   stages::Goal goal() const;
