@@ -359,9 +359,16 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     if (roles[i].kind == 'C') trial[i] = targets[i];
   // Most proposals miss the gain window or a constraint already with ideal capacitors:
   // one evaluation settles them before any capacitor is looked up.
-  const auto ideal = t.evaluate(trial, q_, screen_, stages::Detail::core);
+  // The distortion (a power series, the costliest part of an evaluation) only for those that
+  // pass without it: without it the swing is the clipping point and the THD nil, so a stage
+  // that fails then fails with it as well.
+  const auto ideal = t.evaluate(trial, q_, gain_only_, stages::Detail::core);
   ++stats.evaluations;
   if (!meets_request(spec_, ideal, stats, true)) return false;
+  if (screen_.distortion) {
+    ++stats.evaluations;
+    if (!meets_request(spec_, t.evaluate(trial, q_, screen_, stages::Detail::core), stats, true)) return false;
+  }
   const auto pre = t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
   ++stats.evaluations;
   if (!pre.valid) {
