@@ -504,6 +504,21 @@ std::vector<std::vector<std::complex<double>>> AcSystem::solve_each(double f_hz,
   return out;
 }
 
+bool AcSystem::same_as(const AcSystem& o, double rel) const {
+  const Parts &a = *parts_, &b = *o.parts_;
+  if (a.g.rows() != b.g.rows() || a.nets != b.nets || source_rows_ != o.source_rows_) return false;
+  auto close = [&](const Eigen::MatrixXd& x, const Eigen::MatrixXd& y) {
+    for (long r = 0; r < x.rows(); ++r) {
+      const double tol = rel * std::max(x.row(r).cwiseAbs().maxCoeff(), y.row(r).cwiseAbs().maxCoeff());
+      if (((x.row(r) - y.row(r)).cwiseAbs().array() > tol).any()) return false;
+    }
+    return true;
+  };
+  if (!close(a.g, b.g) || !close(a.c, b.c)) return false;
+  const double tol = rel * std::max(a.rhs.cwiseAbs().maxCoeff(), b.rhs.cwiseAbs().maxCoeff());
+  return !((a.rhs - b.rhs).cwiseAbs().array() > tol).any();
+}
+
 std::vector<std::complex<double>> solve_ac(const Circuit& c, const OperatingPoint& op, double f_hz) {
   return AcSystem(c, op).solve(f_hz);
 }

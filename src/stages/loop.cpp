@@ -86,8 +86,19 @@ struct Probe {
 
 }  // namespace
 
+struct LoopMemo::Seen {
+  circuit::AcSystem system;
+  std::array<std::size_t, 4> nets;
+  double g_moved, c_moved, f_mid_hz;
+  LoopGain gain;
+};
+LoopMemo::LoopMemo() = default;
+LoopMemo::~LoopMemo() = default;
+std::size_t LoopMemo::measured() const { return seen_.size(); }
+std::size_t LoopMemo::reused() const { return reused_; }
+
 LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& designator, const std::string& end_net,
-                              double celsius, double f_mid_hz) {
+                              double celsius, double f_mid_hz, LoopMemo* memo) {
   const circuit::Element* part = net.find(designator);
   if (!part || part->c.kind != circuit::ElementKind::resistor)
     throw InputError(fmt::format("loop: no resistor {} to break the loop at", designator));
@@ -115,6 +126,14 @@ LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& de
   p.y = *b.find_net(kBreakNet);
   p.far = *b.find_net(far_net);
   p.inj = *b.find_net(kInjectNet);
+  const std::array<std::size_t, 4> nets = {p.x, p.y, p.far, p.inj};
+  if (memo)
+    for (const LoopMemo::Seen& seen : memo->seen_)
+      if (seen.nets == nets && seen.g_moved == p.g_moved && seen.c_moved == p.c_moved && seen.f_mid_hz == f_mid_hz &&
+          seen.system.same_as(*p.system, 1e-9)) {
+        ++memo->reused_;
+        return seen.gain;
+      }
 
   LoopGain g;
   const cd t_mid = p.loop(f_mid_hz);
@@ -162,17 +181,19 @@ LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& de
     g.f_cross_hz = std::sqrt(lo * hi);
     g.phase_margin_deg = 180.0 + phase_lo * 180.0 / std::numbers::pi;
   }
+  if (memo) memo->seen_.push_back({*p.system, nets, p.g_moved, p.c_moved, f_mid_hz, g});
   return g;
 }
 
 std::optional<LoopGain> loop_gain(const Topology& t, const Values& values, const Transistor& q, const Conditions& c,
-                                  double f_mid_hz) {
+                                  double f_mid_hz, LoopMemo* memo) {
   const auto brk = t.feedback_loop();
   if (!brk) return std::nullopt;
   const std::size_t role = t.role_index(brk->role);
   if (role >= t.roles().size() || !(values[role] > 0)) return std::nullopt;
   const circuit::Circuit net = t.netlist(values, q, c);
-  return loop_gain_of_circuit(net, std::string(t.roles()[role].designator), std::string(brk->net), c.celsius, f_mid_hz);
+  return loop_gain_of_circuit(net, std::string(t.roles()[role].designator), std::string(brk->net), c.celsius, f_mid_hz,
+                              memo);
 }
 
 }  // namespace shelfstage::stages

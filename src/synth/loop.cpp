@@ -34,10 +34,11 @@ std::string assess_loop(Candidate& c, const Spec& spec, const std::string& prefi
   if (spec.temp_c) temps = {spec.temp_c->first, spec.temp_c->second};
   stages::Conditions base = c.conditions;
   if (source_ohm >= 0) base.source_ohm = source_ohm;
+  stages::LoopMemo memo;  // builds whose broken loops are the same system are swept once
   try {
     {
       stages::Conditions cond = base;
-      lf.nominal = *stages::loop_gain(*c.topology, c.values, c.nominal_device, cond, lf.f_mid_hz);
+      lf.nominal = *stages::loop_gain(*c.topology, c.values, c.nominal_device, cond, lf.f_mid_hz, &memo);
     }
     auto join = [&](const stages::LoopGain& g) {
       ++lf.corners;
@@ -55,7 +56,7 @@ std::string assess_loop(Candidate& c, const Spec& spec, const std::string& prefi
           stages::Conditions cond = base;
           cond.supply_v = vs;
           cond.celsius = temp;
-          join(*stages::loop_gain(*c.topology, c.values, make_transistor(spread, f, temp), cond, lf.f_mid_hz));
+          join(*stages::loop_gain(*c.topology, c.values, make_transistor(spread, f, temp), cond, lf.f_mid_hz, &memo));
         }
   } catch (const Error& e) {
     return fmt::format("bias: {} (measuring the feedback loop)", e.what());

@@ -222,3 +222,40 @@ TEST_CASE("op-amp stages: an inverting stage's reference outside the inputs' com
   CHECK_FALSE(p.active);
   CHECK(p.problem.find("common-mode range") != std::string::npos);
 }
+
+TEST_CASE(
+    "the loop memo sweeps once for pieces whose broken loops are the same system, and gives a fresh sweep's "
+    "figures") {
+  // The pieces' offset and bias currents move only the operating point, which leaves the
+  // small-signal system as it is (the clamps stay off); another GBW or supply with a transistor
+  // in the loop changes it.
+  const auto bip = bipolar_dual();
+  const Topology& t = *find_topology("opamp-noninv");
+  Conditions c;
+  c.supply_v = 12;
+  c.load_ohm = 2.2e3;
+  c.load_farads = 10e-9;
+  c.least_margin_deg = 0;
+  const devices::OpampInstance nominal = devices::opamp_nominal(bip);
+  Values v = t.reference(piece(nominal), c, {});
+  set(t, v, "RF", 10e3);
+  set(t, v, "RG", 10e3);
+  devices::OpampInstance offset = nominal;
+  offset.vos_v = 3e-3;
+  offset.ib_plus_a = 300e-9;
+  offset.ib_minus_a = 200e-9;
+  devices::OpampInstance slow = nominal;
+  slow.gbw_hz *= 0.5;
+  LoopMemo memo;
+  for (const auto& a : {nominal, offset, slow, offset}) {
+    const auto fresh = loop_gain(t, v, piece(a), c, 1e3);
+    const auto kept = loop_gain(t, v, piece(a), c, 1e3, &memo);
+    REQUIRE(fresh);
+    REQUIRE(kept);
+    CHECK(kept->mid == doctest::Approx(fresh->mid).epsilon(1e-6));
+    CHECK(kept->f_cross_hz == doctest::Approx(fresh->f_cross_hz).epsilon(1e-6));
+    CHECK(kept->phase_margin_deg == doctest::Approx(fresh->phase_margin_deg).epsilon(1e-6));
+  }
+  CHECK(memo.measured() == 2);  // the nominal piece and the slow one
+  CHECK(memo.reused() == 2);    // the offset piece, twice
+}

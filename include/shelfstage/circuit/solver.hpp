@@ -71,6 +71,10 @@ class AcSystem {
   /// The node voltages with each named voltage source alone driving 1 V AC (every other AC
   /// source silenced), from one factorisation. Throws InputError for a name not a source.
   std::vector<std::vector<std::complex<double>>> solve_each(double f_hz, std::span<const std::string> sources) const;
+  /// True when o has the same unknowns and every entry of its G, C and right-hand side lies
+  /// within `rel` times the largest entry of its row (of G or C) of this one's: the two give
+  /// the same solutions to within about that much at any frequency.
+  bool same_as(const AcSystem& o, double rel) const;
 
  private:
   struct Parts;

@@ -8,6 +8,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <vector>
 
 #include "shelfstage/circuit/netlist.hpp"
 #include "shelfstage/stages/topology.hpp"
@@ -30,15 +31,38 @@ struct LoopGain {
   bool crosses() const { return f_cross_hz > 0; }
 };
 
+/// Loops measured so far, for a run of measurements on builds of one circuit (a design's
+/// corner pieces): a build whose broken loop has the same small-signal system as one measured
+/// (every conductance, capacitance and source within a billionth of the largest in its row:
+/// an op-amp's pieces that differ only in offset and bias currents, a supply's two ends where
+/// the devices' small-signal figures do not move) is given that one's figures instead of a
+/// sweep of its own.
+class LoopMemo {
+ public:
+  struct Seen;
+  LoopMemo();
+  ~LoopMemo();
+  LoopMemo(const LoopMemo&) = delete;
+  LoopMemo& operator=(const LoopMemo&) = delete;
+  std::size_t measured() const;  ///< sweeps made
+  std::size_t reused() const;    ///< measurements answered from an earlier sweep
+
+ private:
+  friend LoopGain loop_gain_of_circuit(const circuit::Circuit&, const std::string&, const std::string&, double, double,
+                                       LoopMemo*);
+  std::vector<Seen> seen_;
+  std::size_t reused_ = 0;
+};
+
 /// The loop gain of any stage-shaped circuit (stages::Topology::netlist, a chain stage's
 /// netlist) broken at the end of the part `designator` on net `end_net`. Throws InputError
 /// when the part or net is not there, InfeasibleError when the operating point does not
 /// converge.
 LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& designator, const std::string& end_net,
-                              double celsius, double f_mid_hz);
+                              double celsius, double f_mid_hz, LoopMemo* memo = nullptr);
 
 /// The loop gain of a stage of topology t (nullopt when t has no feedback loop).
 std::optional<LoopGain> loop_gain(const Topology& t, const Values& values, const Transistor& q, const Conditions& c,
-                                  double f_mid_hz);
+                                  double f_mid_hz, LoopMemo* memo = nullptr);
 
 }  // namespace shelfstage::stages
