@@ -90,10 +90,11 @@ circuit::Circuit chain_netlist(std::span<const ChainStage> stages, const Conditi
   circuit::Circuit out;
   const std::size_t n = stages.size();
   for (std::size_t k = 0; k < n; ++k) {
-    // The bench parts once: supply and signal from the first stage, the load on the last.
+    // The bench parts once: supply and signal from the first stage, the load and the
+    // capacitance across it (the cable) on the last.
     append_stage(
         out, stages[k], k, c, [&](const std::string& net) { return chain_net(k, n, net); },
-        [&](const std::string& role) { return role == "load" ? k + 1 == n : k == 0; });
+        [&](const std::string& role) { return role == "load" || role == kRoleLoadCapacitance ? k + 1 == n : k == 0; });
   }
   return out;
 }

@@ -136,6 +136,23 @@ TEST_CASE("chain netlist: one coupling capacitor between stages, designators by 
   CHECK(stages::chain_net(1, 3, "drain") == "drain2");
 }
 
+TEST_CASE("chain netlist: the load's capacitance (a cable) sits across the load at the chain's output") {
+  // It once sat on the first stage's output (link1), where no cable is: the figures the exact
+  // solver gave for a chain into a cable were those of another circuit.
+  ChainCase cc =
+      make_chain("follower > cs", {{"jfet-follower", njfet_record()}, {"jfet-cs-self", njfet_record()}}, 12, 10e3, 0);
+  cc.c.load_farads = 10e-9;
+  const circuit::Circuit net = stages::chain_netlist(cc.stages, cc.c);
+  int caps = 0;
+  for (const auto& el : net.elements())
+    if (el.c.role == stages::kRoleLoadCapacitance) {
+      ++caps;
+      const std::string a = net.net_name(el.c.pins[0]), b = net.net_name(el.c.pins[1]);
+      CHECK(((a == "out" && b == "0") || (a == "0" && b == "out")));
+    }
+  CHECK(caps == 1);
+}
+
 TEST_CASE("chain netlist: stages of both polarities share one supply and one ground, every node on the rail") {
   for (const bool negative : {false, true}) {
     CAPTURE(negative);
