@@ -76,6 +76,18 @@ void stamp_vccs(M& A, std::size_t into, std::size_t p, std::size_t n, T g) {
   if (row(n) >= 0) A(r, row(n)) -= g;
 }
 
+// A BJT's small-signal conductances at collector cn, base bn and emitter en (the derivatives
+// of its collector and base currents in VBE and VBC; the emitter carries their negative sum).
+template <class M>
+void stamp_bjt(M& A, std::size_t cn, std::size_t bn, std::size_t en, const devices::BjtEval& ev) {
+  stamp_vccs(A, cn, bn, en, ev.dic_dvbe);
+  stamp_vccs(A, cn, bn, cn, ev.dic_dvbc);
+  stamp_vccs(A, bn, bn, en, ev.dib_dvbe);
+  stamp_vccs(A, bn, bn, cn, ev.dib_dvbc);
+  stamp_vccs(A, en, bn, en, -(ev.dic_dvbe + ev.dib_dvbe));
+  stamp_vccs(A, en, bn, cn, -(ev.dic_dvbc + ev.dib_dvbc));
+}
+
 template <class V, class T>
 void stamp_i(V& b, std::size_t node, T current_out) {
   if (row(node) >= 0) b(row(node)) -= current_out;
@@ -215,12 +227,7 @@ void stamp_bjt_dc(const Circuit& c, const Component& e, const Eigen::VectorXd& x
   const double ic = p * ev.ic_a, ib = p * ev.ib_a;
   const double ic_eq = ic - ev.dic_dvbe * (p * vbe) - ev.dic_dvbc * (p * vbc);
   const double ib_eq = ib - ev.dib_dvbe * (p * vbe) - ev.dib_dvbc * (p * vbc);
-  stamp_vccs(A, cn, bn, en, ev.dic_dvbe);
-  stamp_vccs(A, cn, bn, cn, ev.dic_dvbc);
-  stamp_vccs(A, bn, bn, en, ev.dib_dvbe);
-  stamp_vccs(A, bn, bn, cn, ev.dib_dvbc);
-  stamp_vccs(A, en, bn, en, -(ev.dic_dvbe + ev.dib_dvbe));
-  stamp_vccs(A, en, bn, cn, -(ev.dic_dvbc + ev.dib_dvbc));
+  stamp_bjt(A, cn, bn, en, ev);
   stamp_i(b, cn, ic_eq);
   stamp_i(b, bn, ib_eq);
   stamp_i(b, en, -(ic_eq + ib_eq));
@@ -438,12 +445,7 @@ void ac_parts(const Circuit& c, const Layout& l, const OperatingPoint& op, Eigen
         const double vbe = p * (node_v(x, bn) - node_v(x, en));
         const double vbc = p * (node_v(x, bn) - node_v(x, cn));
         const auto ev = devices::bjt_eval(q, vbe, vbc);
-        stamp_vccs(G, cn, bn, en, ev.dic_dvbe);
-        stamp_vccs(G, cn, bn, cn, ev.dic_dvbc);
-        stamp_vccs(G, bn, bn, en, ev.dib_dvbe);
-        stamp_vccs(G, bn, bn, cn, ev.dib_dvbc);
-        stamp_vccs(G, en, bn, en, -(ev.dic_dvbe + ev.dib_dvbe));
-        stamp_vccs(G, en, bn, cn, -(ev.dic_dvbc + ev.dib_dvbc));
+        stamp_bjt(G, cn, bn, en, ev);
         const DeviceOp& d = op.devices[dev - 1];
         stamp_g(G, bn, en, kGminJunction);
         stamp_g(G, bn, cn, kGminJunction);
