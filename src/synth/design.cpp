@@ -362,15 +362,18 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   // The distortion (a power series, the costliest part of an evaluation) only for those that
   // pass without it: without it the swing is the clipping point and the THD nil, so a stage
   // that fails then fails with it as well.
-  const auto ideal = t.evaluate(trial, q_, gain_only_, stages::Detail::core);
+  // On one supply the screen's conditions are the stress pass's (the highest supply, no
+  // distortion): one evaluation with the parts' stress serves both.
+  const bool one_supply = spec_.supply_lo_v == spec_.supply_hi_v;
+  auto ideal = t.evaluate(trial, q_, gain_only_, one_supply ? stages::Detail::stress : stages::Detail::core);
   ++stats.evaluations;
   if (!meets_request(spec_, ideal, stats, true)) return false;
   if (screen_.distortion) {
     ++stats.evaluations;
     if (!meets_request(spec_, t.evaluate(trial, q_, screen_, stages::Detail::core), stats, true)) return false;
   }
-  const auto pre = t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
-  ++stats.evaluations;
+  const auto pre = one_supply ? std::move(ideal) : t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
+  if (!one_supply) ++stats.evaluations;
   if (!pre.valid) {
     ++stats.failures["bias"];
     return false;
