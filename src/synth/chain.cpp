@@ -298,10 +298,13 @@ class ChainSearch {
         std::nth_element(z.begin(), z.begin() + static_cast<long>(z.size() / 2), z.end());
         medians.push_back(z[z.size() / 2]);
       }
-    // Loads within a factor of three of each other make the same designs: the lowest.
+    // Loads within a factor of ten of each other share one pool, designed into the lowest:
+    // the graph's edges evaluate each stage into the next one's real input impedance, so a
+    // stage designed into a heavier load is judged at the gain it really gives (a factor of
+    // three made twice the pools for chains no better on the bench's requests).
     std::sort(medians.begin(), medians.end());
     for (const double m : medians)
-      if (loads.empty() || m > 3.0 * loads.back()) loads.push_back(m);
+      if (loads.empty() || m > 10.0 * loads.back()) loads.push_back(m);
     return loads;
   }
 
