@@ -461,6 +461,11 @@ void ac_parts(const Circuit& c, const Layout& l, const OperatingPoint& op, Eigen
   }
 }
 
+// The system matrix G + j 2 pi f C.
+Eigen::MatrixXcd at_frequency(const Eigen::MatrixXd& g, const Eigen::MatrixXd& c, double f_hz) {
+  return g.cast<cd>() + cd(0, 2 * std::numbers::pi * f_hz) * c.cast<cd>();
+}
+
 }  // namespace
 
 struct AcSystem::Parts {
@@ -468,7 +473,7 @@ struct AcSystem::Parts {
   Eigen::MatrixXd g, c;
   Eigen::VectorXcd rhs;
   std::size_t nets = 0;
-  Eigen::MatrixXcd at(double f_hz) const { return g.cast<cd>() + cd(0, 2 * std::numbers::pi * f_hz) * c.cast<cd>(); }
+  Eigen::MatrixXcd at(double f_hz) const { return at_frequency(g, c, f_hz); }
 };
 
 AcSystem::AcSystem(const Circuit& c, const OperatingPoint& op) {
@@ -543,7 +548,7 @@ NoisePoint noise(const Circuit& c, const OperatingPoint& op, const std::string& 
   Eigen::MatrixXd g, cap;
   Eigen::VectorXcd rhs;
   ac_parts(c, l, op, g, cap, rhs);
-  const Eigen::MatrixXcd A = g.cast<cd>() + cd(0, 2 * std::numbers::pi * f_hz) * cap.cast<cd>();
+  const Eigen::MatrixXcd A = at_frequency(g, cap, f_hz);
   const auto lu = A.partialPivLu();
   const cd h = lu.solve(rhs)(row(*on));
   // Adjoint: z = A^-T e_out gives the transfer from a current injected at any node.
