@@ -330,19 +330,30 @@ TEST_CASE("an op-amp over a rating fails the check as a transistor does, each ra
   CHECK(synth::detail::check_ratings(spec, c, p, 25).find("its package may take") != std::string::npos);
 }
 
+namespace {
+
+// A request for one non-inverting split-supply stage from one of the demo's op-amp types: the
+// best design only, no Monte Carlo.
+synth::Spec split_noninv_spec(double gain, double load_ohm, double zin_ohm, double supply_v, const char* device) {
+  synth::Spec spec;
+  spec.gain = gain;
+  spec.load_ohm = load_ohm;
+  spec.zin_min_ohm = zin_ohm;
+  spec.split_supply = true;
+  spec.supply_lo_v = spec.supply_hi_v = supply_v;
+  spec.topologies = {"opamp-noninv-split"};
+  spec.devices = {device};
+  spec.top = 1;
+  spec.mc_samples = 0;
+  return spec;
+}
+
+}  // namespace
+
 TEST_CASE("a design whose op-amp would run beyond its absolute maximum supply is not offered") {
   // The demo's SA-430 works from 10..36 V with 36 V its absolute maximum: a +/-19 V supply's
   // 38 V span is beyond both; +/-15 V (30 V) is within.
-  synth::Spec spec;
-  spec.gain = 5;
-  spec.load_ohm = 10e3;
-  spec.zin_min_ohm = 10e3;
-  spec.split_supply = true;
-  spec.topologies = {"opamp-noninv-split"};
-  spec.devices = {"SA-430"};
-  spec.top = 1;
-  spec.mc_samples = 0;
-  spec.supply_lo_v = spec.supply_hi_v = 19;
+  synth::Spec spec = split_noninv_spec(5, 10e3, 10e3, 19, "SA-430");
   const auto over = synth::design(spec, demo_shelf());
   CHECK(over.candidates.empty());
   CHECK(over.diagnosis.detail.find("rating") != std::string::npos);
@@ -356,17 +367,8 @@ TEST_CASE("a split-supply op-amp stage's DC-coupled output names the DC its load
   // Gain 2 into 1k on +/-5 V from the demo's bipolar-input SA-210 (400 nA of bias current):
   // the + input's bias resistor carries the bias current, and the output its DC times the DC
   // gain, straight into the load (no coupling capacitor on a split supply).
-  synth::Spec spec;
-  spec.gain = 2;
-  spec.load_ohm = 1e3;
-  spec.zin_min_ohm = 47e3;
-  spec.split_supply = true;
-  spec.supply_lo_v = spec.supply_hi_v = 5;
+  synth::Spec spec = split_noninv_spec(2, 1e3, 47e3, 5, "SA-210");
   spec.band_hz = std::pair{20.0, 20e3};
-  spec.topologies = {"opamp-noninv-split"};
-  spec.devices = {"SA-210"};
-  spec.top = 1;
-  spec.mc_samples = 0;
   const auto r = synth::design(spec, demo_shelf());
   REQUIRE_FALSE(r.candidates.empty());
   const auto& c = r.candidates.front();
