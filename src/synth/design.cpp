@@ -99,11 +99,9 @@ class Searcher {
   /// The drafts that get the full corner pass (~100 evaluations each): up to
   /// spec.search_families families of designs, and in each the spec.search_variants best
   /// variants in one resistor (their quick estimates are near-ties the full pass settles),
-  /// taken in the order of the quick estimate. The estimate (the device's corner pieces) is
-  /// worked out only where it can change the choice: drafts come in the order of a lower
-  /// bound of it (the nominal error counted as the worst), and one whose place is already
-  /// decided (every family taken and its own full) is never estimated. The choice is the
-  /// one a full sort of every estimate would give.
+  /// taken in the order of the quick estimate. The choice is the one a full sort of every
+  /// estimate would give, but the estimates are worked out only as far as they can change
+  /// it (NOTES: the choice).
   std::vector<std::pair<std::size_t, double>> choose(const StageBuilder& builder,
                                                      const std::deque<StageBuilder::Draft>& found,
                                                      std::span<const stages::Role> roles, SearchStats& stats) const {
@@ -121,11 +119,47 @@ class Searcher {
     bound.reserve(found.size());
     for (std::size_t i = 0; i < found.size(); ++i) bound.emplace_back(builder.score_floor(found[i]), i);
     std::sort(bound.begin(), bound.end());
+    // Each draft's estimate so far: the corner pieces worked out (a mask) and the largest
+    // error among them.
+    const std::size_t corners = builder.corner_count();
+    constexpr std::size_t kMaskBits = 64;
+    const std::uint64_t every = corners >= kMaskBits ? ~0ULL : (1ULL << corners) - 1;
+    struct Partial {
+      std::uint64_t done = 0;
+      double worst = 0;
+      std::size_t largest = 0;  // the piece it came from
+    };
+    std::unordered_map<std::size_t, Partial> partial;
+    // How often each corner piece gave a finished estimate its largest error: the likeliest
+    // is worked out first, so that the estimate rises early where it will.
+    std::vector<long> hits(corners, 0);
+    auto finished = [&](const Partial& p) { return p.done == every || std::isinf(p.worst); };
+    auto refine = [&](std::size_t i) {
+      Partial& p = partial[i];
+      if (corners > kMaskBits) {  // (no piece lists this long; estimated whole)
+        p.worst = 0;
+        for (std::size_t k = 0; k < corners && !std::isinf(p.worst); ++k)
+          p.worst = std::max(p.worst, builder.corner_error(found[i], k, stats));
+        p.done = every;
+        return;
+      }
+      std::size_t k = corners;
+      for (std::size_t c = 0; c < corners; ++c)
+        if (!(p.done >> c & 1U) && (k == corners || hits[c] > hits[k])) k = c;
+      const double e = builder.corner_error(found[i], k, stats);
+      p.done |= 1ULL << k;
+      if (e > p.worst || p.done == (1ULL << k)) {
+        p.worst = e;
+        p.largest = k;
+      }
+      if (finished(p)) ++hits[p.largest];
+    };
     std::priority_queue<Entry, std::vector<Entry>, std::greater<>> scored;
     std::vector<std::pair<std::size_t, double>> chosen;
     std::vector<std::size_t> heads;
     std::vector<int> members;
-    // The family a draft joins (heads.size() for a new one), or -1 when it cannot be chosen.
+    // The family a draft joins (heads.size() for a new one), or -1 when it cannot be chosen
+    // (then never: heads only come while fewer than `families`, and a family only fills).
     auto family_of = [&](std::size_t i) -> long {
       std::size_t f = 0;
       while (f < heads.size() && !variant(found[heads[f]], found[i])) ++f;
@@ -138,25 +172,30 @@ class Searcher {
     };
     std::size_t next = 0;
     while (!all_full()) {
-      // Estimate drafts until the best estimated one is known to come first.
+      // Drafts enter (as their floors) until the least entry is known to come first.
       while (next < bound.size() && (scored.empty() || bound[next].first <= scored.top().first)) {
         const std::size_t i = bound[next++].second;
-        // Once every family is taken the heads never change and families only fill: a
-        // draft that cannot join now never can.
         if (heads.size() >= families && family_of(i) < 0) continue;
-        scored.emplace(builder.quick_score(found[i], stats), i);
+        scored.push(bound[next - 1]);
       }
       if (scored.empty()) break;
-      const auto [quick, i] = scored.top();
+      const auto [estimate, i] = scored.top();
       scored.pop();
       const long f = family_of(i);
       if (f < 0) continue;
+      const auto at = partial.try_emplace(i).first;
+      if (!finished(at->second)) {
+        // A floor still: one corner piece more, and back in line.
+        refine(i);
+        scored.emplace(builder.quick_from(found[i], at->second.worst), i);
+        continue;
+      }
       if (static_cast<std::size_t>(f) == heads.size()) {
         heads.push_back(i);
         members.push_back(0);
       }
       ++members[static_cast<std::size_t>(f)];
-      chosen.emplace_back(i, quick);
+      chosen.emplace_back(i, estimate);
     }
     return chosen;
   }
@@ -428,24 +467,34 @@ Candidate StageBuilder::candidate(const Draft& d) const {
   return c;
 }
 
-double StageBuilder::quick_score(const Draft& c, SearchStats& stats) const {
-  double worst = std::abs(c.error_nominal);
-  for (const auto& q : corner_devices_) {
-    const auto p = topology_.evaluate(c.values, q, gain_only_);
-    ++stats.evaluations;
-    if (!p.valid || !p.active) return 1e6;
-    worst = std::max(worst, std::abs(std::abs(p.gain) / spec_.gain - 1.0));
+double StageBuilder::corner_error(const Draft& d, std::size_t k, SearchStats& stats) const {
+  const auto p = topology_.evaluate(d.values, corner_devices_[k], gain_only_);
+  ++stats.evaluations;
+  if (!p.valid || !p.active) return std::numeric_limits<double>::infinity();
+  return std::abs(std::abs(p.gain) / spec_.gain - 1.0);
+}
+
+double StageBuilder::quick_from(const Draft& d, double worst_error) const {
+  if (std::isinf(worst_error)) return 1e6;
+  const double worst = std::max(std::abs(d.error_nominal), worst_error);
+  return 100.0 * (0.5 * std::abs(d.error_nominal) + worst) + detail::kPiecePoints * d.pieces +
+         spec_.purchase_points * d.purchases;
+}
+
+double StageBuilder::quick_score(const Draft& d, SearchStats& stats) const {
+  double worst = 0;
+  for (std::size_t k = 0; k < corner_devices_.size(); ++k) {
+    worst = std::max(worst, corner_error(d, k, stats));
+    if (std::isinf(worst)) break;
   }
-  return 100.0 * (0.5 * std::abs(c.error_nominal) + worst) + detail::kPiecePoints * c.pieces +
-         spec_.purchase_points * c.purchases;
+  return quick_from(d, worst);
 }
 
 double StageBuilder::score_floor(const Draft& c) const {
   // quick_score with the nominal error as the worst: never above it (the worst over the
   // corners includes nothing below the nominal's error in this count, and the sums round
   // the same way).
-  const double nominal = std::abs(c.error_nominal);
-  return 100.0 * (0.5 * nominal + nominal) + detail::kPiecePoints * c.pieces + spec_.purchase_points * c.purchases;
+  return quick_from(c, 0.0);
 }
 
 bool StageBuilder::assess(Candidate& c, SearchStats& stats) const {

@@ -244,6 +244,13 @@ class StageBuilder {
   double quick_score(const Draft& d, SearchStats& stats) const;
   /// A floor under quick_score from the draft alone (no evaluation).
   double score_floor(const Draft& d) const;
+  /// quick_score a corner piece at a time: the device's corner pieces, the gain error at
+  /// the k-th (infinity where the stage is not valid and active there), and the estimate
+  /// from the largest error over some of them (a floor under quick_score; equal to it over
+  /// every piece, infinity giving its 1e6).
+  std::size_t corner_count() const { return corner_devices_.size(); }
+  double corner_error(const Draft& d, std::size_t k, SearchStats& stats) const;
+  double quick_from(const Draft& d, double worst_error) const;
   /// The worst-case pass, score and cautions (no yield). True when every corner holds;
   /// otherwise counts the reason in stats.corner_failures.
   bool assess(Candidate& c, SearchStats& stats) const;
