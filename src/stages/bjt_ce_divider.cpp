@@ -262,6 +262,7 @@ class BjtCeDivider final : public Topology {
     const CeSignal s = ce_signal(b, v, c);
     set_mid_band(p, s, v, c);
     set_swing(p, s, t);
+    if (detail::screened_out(p, c)) return p;
     // High corner: the hybrid-pi network solved exactly. The low-frequency side comes from
     // CeLowResponse, not from separate sections.
     const detail::HybridPi m = hybrid_pi(s, t);

@@ -389,6 +389,7 @@ class BjtCeShunt final : public Topology {
     const ShuntSignal s = shunt_signal(b, v, t, c);
     const Eigen::Vector3d x = set_mid_band(p, s, v);
     set_swing(p, s, x, t);
+    if (detail::screened_out(p, c)) return p;
     detail::finish_response(p, {}, s.m, c, v[COUT], d);
     set_low_response(p, s, v, c, d);
     detail::finish_distortion(

@@ -130,6 +130,7 @@ class BjtFollower final : public Topology {
     p.swing_down_v = b.ie_a * r_ac;
     p.swing_up_v = std::max(0.0, b.vce_v - t.vce_sat_v);
     p.swing_peak_v = std::min(p.swing_up_v, p.swing_down_v);
+    if (detail::screened_out(p, c)) return p;
 
     // High corner: the hybrid-pi network with the collector at AC ground, output at the emitter.
     detail::HybridPi m;

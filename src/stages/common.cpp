@@ -299,6 +299,15 @@ double lf_loss_db(std::span<const LfSection> sections, double f_hz) {
 
 double cap_for(double r_ohm, double f_hz) { return 1.0 / (2 * std::numbers::pi * r_ohm * f_hz); }
 
+bool screened_out(Performance& p, const Conditions& c) {
+  if (c.distortion) return false;  // (the rated swing is not the clipping point then)
+  const bool out = (c.least_clip_v > 0 && p.swing_peak_v < c.least_clip_v) ||
+                   (c.most_current_a > 0 && p.supply_current_a > c.most_current_a) ||
+                   (c.least_zin_ohm > 0 && p.zin_ohm < c.least_zin_ohm);
+  p.cut_short = out;
+  return out;
+}
+
 std::vector<std::pair<double, double>> leg_splits(const ValueSource& shelf, double r_total) {
   std::vector<std::pair<double, double>> out;
   std::vector<double> near;

@@ -87,6 +87,11 @@ void finish_response(Performance& p, std::span<const LfSection> lf, const Hybrid
 double lf_loss_db(std::span<const LfSection> sections, double f_hz);
 /// Capacitance that puts a first-order corner at f_hz through r_ohm.
 double cap_for(double r_ohm, double f_hz);
+
+/// Whether a screen's floors (Conditions::least_clip_v, most_current_a, least_zin_ohm) rule
+/// the stage out already, its clipping point (swing_peak_v, the distortion off), supply
+/// current and input impedance in p being final: then p is marked cut short.
+bool screened_out(Performance& p, const Conditions& c);
 /// Conductance of a resistor that may be absent (0 ohms: a short, given a huge conductance).
 inline double g_of(double r_ohm) { return r_ohm > 0 ? 1.0 / r_ohm : 1e9; }
 

@@ -165,6 +165,7 @@ class JfetBootFollower final : public Topology {
     // rises until VDS meets VGS - VP, or the gate reaches the source.
     const double r_ac = par(v[RS2], c.load_ohm);
     detail::jfet_follower_swing(p, j, b, r_ac);
+    if (detail::screened_out(p, c)) return p;
 
     // High corner: the hybrid-pi network with RG between gate and source (where gpi sits in a
     // bipolar device: the bootstrap), the drain at AC ground, output at the source.

@@ -128,6 +128,7 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
   g.rl_ac = par(s.rd, c.load_ohm);
   mid_band(s, c, g, p);
   swing(q, b, g, p);
+  if (screened_out(p, c)) return p;
   const LowCorners lf = low_corners(s, c, g, p.zout_ohm);
   const HybridPi m = hybrid_pi(s, q, b, c, g);
   finish_response(p, std::span<const LfSection>(lf.lf, lf.n), m, c, s.cout, detail);

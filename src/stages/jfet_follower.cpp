@@ -73,6 +73,7 @@ class JfetFollower final : public Topology {
     // VDS meets VGS - VP, or the gate reaches the source (VGS = 0).
     const double r_ac = par(v[RS], c.load_ohm);
     detail::jfet_follower_swing(p, j, b, r_ac);
+    if (detail::screened_out(p, c)) return p;
 
     detail::LfSection lf[2] = {{1.0 / (v[CIN] * (c.source_ohm + v[RG])), 0.0},
                                {1.0 / (v[COUT] * (p.zout_ohm + c.load_ohm)), 0.0}};

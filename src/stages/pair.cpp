@@ -645,6 +645,7 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
     Sweep sw(s, d, b, c, x);
     check_swing(p, sw, p.gain);
   }
+  if (screened_out(p, c)) return p;
 
   const double mid = std::abs(p.gain);
   auto lf_below = [&](double w) { return std::abs(lf_transfer(m, s, cd(0.0, w))) < mid / std::sqrt(2.0); };

@@ -8,6 +8,7 @@
 #include <algorithm>
 #include <deque>
 #include <cctype>
+#include <cstring>
 #include <functional>
 #include <atomic>
 #include <chrono>
@@ -22,7 +23,6 @@
 #include <thread>
 #include <tuple>
 #include <unordered_map>
-#include <unordered_set>
 
 #include "detail.hpp"
 #include "shelfstage/synth/purchases.hpp"
@@ -64,6 +64,47 @@ class ThinnedValues final : public stages::ValueSource {
   double breadth_;
 };
 
+// The proposals a job has seen, by a 64-bit hash of their values: a flat table with linear
+// probing (a job proposes up to millions; a node per proposal cost more than the hashing).
+class SeenProposals {
+ public:
+  /// False when the proposal was seen before.
+  bool insert(const stages::Values& v, std::size_t n) {
+    std::uint64_t h = 0x9E3779B97F4A7C15ULL;
+    for (std::size_t i = 0; i < n; ++i) {
+      std::uint64_t bits = 0;
+      std::memcpy(&bits, &v.v[i], sizeof bits);
+      h = (h ^ bits) * 0xFF51AFD7ED558CCDULL;
+      h ^= h >> 32;
+    }
+    h |= 1;  // 0 marks an empty slot
+    if (2 * (count_ + 1) > slots_.size()) grow();
+    for (std::size_t i = h & (slots_.size() - 1);; i = (i + 1) & (slots_.size() - 1)) {
+      if (slots_[i] == h) return false;
+      if (slots_[i] == 0) {
+        slots_[i] = h;
+        ++count_;
+        return true;
+      }
+    }
+  }
+
+ private:
+  void grow() {
+    std::vector<std::uint64_t> old(std::max<std::size_t>(1024, 2 * slots_.size()), 0);
+    old.swap(slots_);
+    for (const std::uint64_t h : old)
+      if (h != 0)
+        for (std::size_t i = h & (slots_.size() - 1);; i = (i + 1) & (slots_.size() - 1))
+          if (slots_[i] == 0) {
+            slots_[i] = h;
+            break;
+          }
+  }
+  std::vector<std::uint64_t> slots_;
+  std::size_t count_ = 0;
+};
+
 class Searcher {
  public:
   Searcher(const Spec& spec, const Shelf& shelf, bool probe) : spec_(spec), shelf_(shelf), probe_(probe) {}
@@ -77,18 +118,17 @@ class Searcher {
     SearchStats& stats = work.stats;
     const auto roles = job.topology->roles();
     std::deque<StageBuilder::Draft> found;  // (a deque: tens of thousands, never moved)
-    std::unordered_set<std::uint64_t> seen;
+    SeenProposals seen;
     const ThinnedValues thinned(shelf_, spec_.search_breadth);
     const stages::ValueSource& values =
         spec_.search_breadth < 1.0 ? static_cast<const stages::ValueSource&>(thinned) : shelf_;
-    job.topology->propose(
-        builder.goal(), builder.nominal_device(), builder.conditions(), values, [&](const stages::Values& proposal) {
-          ++stats.proposals;
-          std::string key(reinterpret_cast<const char*>(proposal.v.data()), roles.size() * sizeof(double));
-          if (!seen.insert(fnv1a(key)).second) return;
-          StageBuilder::Draft d;
-          if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
-        });
+    job.topology->propose(builder.goal(), builder.nominal_device(), builder.conditions(), values,
+                          [&](const stages::Values& proposal) {
+                            ++stats.proposals;
+                            if (!seen.insert(proposal, roles.size())) return;
+                            StageBuilder::Draft d;
+                            if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
+                          });
     if (probe_) return;
     for (const auto& [i, quick] : choose(builder, found, roles, stats)) {
       work.chosen.push_back(std::move(found[i]));
@@ -360,6 +400,10 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
   cond_hi_.distortion = false;
   gain_only_ = cond_;
   gain_only_.distortion = false;
+  // The first screen stops an evaluation at the request's floors (a probe, which reports the
+  // gains the stages reach, takes every figure whole).
+  first_ = gain_only_;
+  if (!probe) detail::set_screen_floors(first_, spec);
 }
 
 StageBuilder::~StageBuilder() = default;
@@ -404,7 +448,7 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   // On one supply the screen's conditions are the stress pass's (the highest supply, no
   // distortion): one evaluation with the parts' stress serves both.
   const bool one_supply = spec_.supply_lo_v == spec_.supply_hi_v;
-  auto ideal = t.evaluate(trial, q_, gain_only_, one_supply ? stages::Detail::stress : stages::Detail::core);
+  auto ideal = t.evaluate(trial, q_, first_, one_supply ? stages::Detail::stress : stages::Detail::core);
   ++stats.evaluations;
   if (!meets_request(spec_, ideal, stats, true)) return false;
   if (screen_.distortion) {

@@ -26,6 +26,10 @@ stages::Conditions conditions(const Spec& spec, double supply, double celsius);
 /// The first hard constraint a performance breaks ("bias", "swing" (clipping), "distortion"
 /// (within clipping but beyond the distortion bound), "current", "zin", "band"), or empty.
 std::string violation(const Spec& spec, const stages::Performance& p);
+/// A screen's floors (stages::Conditions::least_clip_v ...) from the request: a stage cut
+/// short at one of them (the distortion off) is one violation() rejects, for the same reason
+/// as the whole evaluation (a part in a billion to spare, for the rounding).
+void set_screen_floors(stages::Conditions& c, const Spec& spec);
 /// The output peak a stage must reach at every corner: the requested swing's, else the
 /// least room (Spec::least_swing of the lowest supply, peak to peak: a stage biased against
 /// a rail clips on the first loud input, so the bench wants some room whatever the request

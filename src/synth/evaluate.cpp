@@ -66,6 +66,17 @@ std::string violation(const Spec& spec, const stages::Performance& p) {
   return {};
 }
 
+void set_screen_floors(stages::Conditions& c, const Spec& spec) {
+  // violation()'s order: "bias" (given as the evaluation gives it), then the swing, then the
+  // distortion (nil with the distortion off), the current and Zin: the first floor missed is
+  // the first violation the figures given show.
+  constexpr double kSpare = 1e-9;
+  c.distortion = false;
+  c.least_clip_v = least_swing_peak(spec) / (1.0 - kModelMargin.swing) * (1.0 - kSpare);
+  c.most_current_a = spec.max_current_a ? *spec.max_current_a / (1.0 + kModelMargin.current) * (1.0 + kSpare) : 0.0;
+  c.least_zin_ohm = spec.zin_min_ohm / (1.0 - kModelMargin.impedance_corner) * (1.0 - kSpare);
+}
+
 double least_swing_peak(const Spec& spec) {
   return spec.swing_vpp ? *spec.swing_vpp / 2 : spec.least_swing * spec.supply_lo_v / 2;
 }

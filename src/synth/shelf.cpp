@@ -552,12 +552,36 @@ std::optional<Combo> Shelf::find_recipe(double nominal) const {
   return std::nullopt;
 }
 
+namespace {
+// resistor()'s answers per thread, in front of the shared map and its lock: the drafts ask
+// for the same values over and over. Direct-mapped, keyed by the shelf's serial number and
+// the value's bits.
+struct ResistorMemo {
+  struct Entry {
+    std::uint64_t shelf = 0, key = 0;
+    const Combo* combo = nullptr;
+  };
+  std::array<Entry, 2048> entries;
+};
+thread_local std::unique_ptr<ResistorMemo> resistor_memo;
+}  // namespace
+
 const Combo* Shelf::resistor(double nominal) const {
   const auto it = std::lower_bound(r1_.begin(), r1_.end(), nominal * (1 - 1e-9),
                                    [](const Combo& c, double t) { return c.nominal < t; });
   if (it != r1_.end() && same(it->nominal, nominal)) return &*it;
   std::uint64_t key = 0;
   std::memcpy(&key, &nominal, sizeof key);
+  if (!resistor_memo) resistor_memo = std::make_unique<ResistorMemo>();
+  auto& e = resistor_memo->entries[(key ^ (key >> 29) ^ serial_) % resistor_memo->entries.size()];
+  if (e.shelf == serial_ && e.key == key) return e.combo;
+  e.shelf = serial_;
+  e.key = key;
+  e.combo = recipe_for(key, nominal);
+  return e.combo;
+}
+
+const Combo* Shelf::recipe_for(std::uint64_t key, double nominal) const {
   {
     std::shared_lock lock(recipes_mutex_);
     const auto hit = recipes_.find(key);

@@ -137,6 +137,13 @@ struct Conditions {
   /// swing_peak_v). Off, the search's passes that need only the gain or the clipping point
   /// skip it: swing_peak_v and clip_peak_v are then both the clipping point, thd 0.
   bool distortion = true;
+  /// A screen's floors (the search's first pass; 0: none). An evaluator may stop as soon as
+  /// the stage is sure to miss one: its clipping point below least_clip_v, its supply current
+  /// above most_current_a or its input impedance below least_zin_ohm. The figures worked out
+  /// after that point are then left out (Performance::cut_short). The distortion must be off.
+  double least_clip_v = 0;
+  double most_current_a = 0;
+  double least_zin_ohm = 0;
   /// The least phase margin a stage whose closed form checks its own loop (an op-amp
   /// stage) may have, degrees (synth::Spec::least_margin_deg).
   double least_margin_deg = 45.0;
@@ -227,6 +234,10 @@ struct Performance {
   double q2_v_main = 0;
   double v_out2 = 0;
   std::vector<Stress> stress;  ///< per role present
+  /// The evaluation stopped at a screen's floor (Conditions::least_clip_v ...): the bias, the
+  /// mid-band gain (without the input capacitance's divider), Zin, the swing and the supply
+  /// current are given; the rest is not.
+  bool cut_short = false;
 };
 
 /// Where a stage sits on the user's supply. Every topology states its circuit in the N frame

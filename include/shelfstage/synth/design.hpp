@@ -282,6 +282,7 @@ class StageBuilder {
   std::vector<stages::Transistor> corner_devices_;
   stages::Conditions cond_, cond_hi_;
   stages::Conditions screen_, gain_only_;  // cond_ with the distortion as the passes need it
+  stages::Conditions first_;               // gain_only_ with the request's floors (the first screen)
   std::unique_ptr<Cache> cache_;
 };
 

@@ -140,6 +140,8 @@ class Shelf final : public stages::ValueSource {
   std::vector<double> r_singles_;                    // distinct single-part stocked resistor values, sorted
   bool market_ = false;
   // Recipes of pair and triple values worked out so far (resistor()).
+  // resistor() past the single parts: the recipe remembered for the value (key: its bits).
+  const Combo* recipe_for(std::uint64_t key, double nominal) const;
   mutable std::shared_mutex recipes_mutex_;
   mutable std::unordered_map<std::uint64_t, std::optional<Combo>> recipes_;
 };
