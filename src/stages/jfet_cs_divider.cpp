@@ -96,15 +96,21 @@ class JfetCsDivider final : public Topology {
   void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
                const std::function<void(const Values&)>& emit) const override {
     const auto& j = q.jfet;
-    for (double vs_frac : {0.12, 0.2, 0.3}) {
+    // A narrower search (Goal::breadth below 1: a chain's stage pools) keeps the ends of each
+    // choice and one divider impedance.
+    const bool narrow = g.breadth < 1.0;
+    const std::vector<double> vs_fracs = narrow ? std::vector<double>{0.12, 0.3} : std::vector<double>{0.12, 0.2, 0.3};
+    const std::vector<double> fracs = narrow ? std::vector<double>{0.2, 0.5} : std::vector<double>{0.2, 0.35, 0.5};
+    for (double vs_frac : vs_fracs) {
       const double vs = vs_frac * c.supply_v;
-      for (double frac : {0.2, 0.35, 0.5}) {
+      for (double frac : fracs) {
         const double id = frac * j.idss_a;
         if (g.max_current_a > 0 && id > g.max_current_a) continue;
         const double vg = vs - j.vp_abs_v * (1.0 - std::sqrt(frac));
         if (vg <= 0.05 * c.supply_v) continue;  // the self-biased stage covers this
         const double r = vg / c.supply_v;
         for (double rpar : {std::max(1e6, g.zin_min_ohm * 1.15), std::max(220e3, g.zin_min_ohm * 1.15)}) {
+          if (narrow && rpar != std::max(1e6, g.zin_min_ohm * 1.15)) continue;
           std::vector<double> r1s, r2s, rs_tot;
           shelf.nearest(rpar / r, 2, r1s);
           shelf.nearest(rpar / (1.0 - r), 2, r2s);

@@ -79,7 +79,17 @@ class JfetCsSelf final : public Topology {
   void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
                const std::function<void(const Values&)>& emit) const override {
     const auto& j = q.jfet;
-    const std::vector<double> rgs = detail::gate_resistors(shelf, g.zin_min_ohm);
+    std::vector<double> rgs = detail::gate_resistors(shelf, g.zin_min_ohm);
+    // A narrower search (Goal::breadth below 1: a chain's stage pools): the least gate
+    // resistor and the one nearest the usual megohm (it sets the input impedance and little
+    // else).
+    if (g.breadth < 1.0 && rgs.size() > 2) {
+      const double usual = std::max(1e6, g.zin_min_ohm);
+      const double near = *std::min_element(rgs.begin() + 1, rgs.end(), [&](double a, double b) {
+        return std::abs(std::log(a / usual)) < std::abs(std::log(b / usual));
+      });
+      rgs = {rgs.front(), near};
+    }
     // Source resistors over the shelf's values between those that set 70 % and 3 % of IDSS.
     auto rs_for = [&](double frac) { return j.vp_abs_v * (1.0 - std::sqrt(frac)) / (frac * j.idss_a); };
     double frac_max = 0.7;

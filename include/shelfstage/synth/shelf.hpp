@@ -139,9 +139,9 @@ class Shelf final : public stages::ValueSource {
   std::vector<double> r3_values_, r3_stock_values_;  // distinct triple nominals (all; without purchases)
   std::vector<double> r_singles_;                    // distinct single-part stocked resistor values, sorted
   bool market_ = false;
-  // Recipes of pair and triple values worked out so far (resistor()).
   // resistor() past the single parts: the recipe remembered for the value (key: its bits).
   const Combo* recipe_for(std::uint64_t key, double nominal) const;
+  // Recipes of pair and triple values worked out so far (resistor()).
   mutable std::shared_mutex recipes_mutex_;
   mutable std::unordered_map<std::uint64_t, std::optional<Combo>> recipes_;
 };
