@@ -773,6 +773,7 @@ struct RankedSearch::Impl {
   };
   View every;
   std::map<std::string, View> by_device;
+  std::map<std::string, View> named;  // at_among()'s views
   std::size_t assessed = 0;
 
   explicit Impl(const Spec& s) : spec(s) {}
@@ -892,6 +893,24 @@ std::optional<std::size_t> RankedSearch::at(std::size_t k, const std::string* de
     if (!m.step(*v, &skip)) return std::nullopt;
   return v->out[k];
 }
+
+std::optional<std::size_t> RankedSearch::at_among(std::size_t k, const std::string& name,
+                                                  const std::function<bool(std::size_t)>& member) {
+  Impl& m = *impl_;
+  auto it = m.named.find(name);
+  if (it == m.named.end())
+    it = m.named
+             .emplace(name, m.make_view([&](const Impl::Item& i) {
+               return member(static_cast<std::size_t>(&i - m.items.data()));
+             }))
+             .first;
+  Impl::View& v = it->second;
+  while (v.out.size() <= k)
+    if (!m.step(v, nullptr)) return std::nullopt;
+  return v.out[k];
+}
+
+const Candidate& RankedSearch::shell(std::size_t id) { return impl_->shell(impl_->items[id]); }
 
 Candidate& RankedSearch::candidate(std::size_t id) { return impl_->items[id].c; }
 

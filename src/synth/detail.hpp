@@ -176,6 +176,12 @@ class RankedSearch {
   /// assessed that `skip` passes over is never assessed nor handed out by that order (later
   /// candidates move up a place).
   std::optional<std::size_t> at(std::size_t k, const std::string* device = nullptr, const PassOver& skip = {});
+  /// The k-th candidate that holds among the drafts `member` accepts (asked once of every
+  /// draft id, 0 to chosen() - 1, when the order named `name` is first used), best first.
+  std::optional<std::size_t> at_among(std::size_t k, const std::string& name,
+                                      const std::function<bool(std::size_t id)>& member);
+  /// A draft as the candidate it makes before its corner pass (its parts; no figures yet).
+  const Candidate& shell(std::size_t id);
   Candidate& candidate(std::size_t id);
   /// Whether candidate a ranks before candidate b (both assessed and holding).
   bool before(std::size_t a, std::size_t b) const;

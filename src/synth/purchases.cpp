@@ -2,9 +2,9 @@
 #include "shelfstage/synth/purchases.hpp"
 
 #include <algorithm>
+#include <fmt/format.h>
 #include <map>
 #include <set>
-#include <tuple>
 
 #include "detail.hpp"
 #include "shelfstage/synth/shelf.hpp"
@@ -90,30 +90,41 @@ std::optional<Purchase> smallest_purchase(const Spec& spec, const Inventory& inv
   Spec ms = spec;
   ms.purchase_points = 1000.0;
   ms.mc_samples = 0;
-  SearchStats tally;
-  std::vector<Candidate> found = detail::run_jobs(ms, market, jobs, tally, {});
-  std::vector<std::pair<std::tuple<int, std::size_t, double>, std::size_t>> order;
-  std::vector<std::vector<PurchaseLine>> lines(found.size());
-  for (std::size_t i = 0; i < found.size(); ++i) {
-    lines[i] = purchase_lines(found[i], market, spec.copies);
+  // The drafts by what they buy (pieces, then lines; known before any corner pass), and
+  // within each such group in rank order: the first that holds at its corners and finishes
+  // is the one a sort of every assessed candidate by (pieces, lines, score) would give, but
+  // only the groups up to it are assessed, and those only as far as their rank order goes.
+  detail::RankedSearch search(ms, market, jobs);
+  using Key = std::pair<int, std::size_t>;  // pieces to buy, lines to buy
+  std::vector<Key> key_of(search.chosen());
+  std::set<Key> keys;
+  for (std::size_t id = 0; id < key_of.size(); ++id) {
     int pieces = 0;
-    for (const auto& l : lines[i]) pieces += l.qty;
-    order.push_back({{pieces, lines[i].size(), found[i].score}, i});
+    const auto lines = purchase_lines(search.shell(id), market, spec.copies);
+    for (const auto& l : lines) pieces += l.qty;
+    key_of[id] = {pieces, lines.size()};
+    keys.insert(key_of[id]);
   }
-  std::stable_sort(order.begin(), order.end(), [](const auto& a, const auto& b) { return a.first < b.first; });
-  for (const auto& [key, i] : order) {
-    Candidate c = found[i];
-    detail::finalize(c, market);
-    // Finished as a listed design is (the full worst case and the exact solver's DC): a
-    // purchase is suggested only for a design that holds.
-    if (!detail::finish_stage(c, ms).empty()) continue;
-    c.purchases = std::get<0>(key);
-    c.id = candidate_id(c, spec.copies);
-    Purchase p;
-    p.design = std::move(c);
-    p.buy = std::move(lines[i]);
-    p.pieces = std::get<0>(key);
-    return p;
+  for (const Key& key : keys) {
+    const std::string name = fmt::format("buy {} pieces on {} lines", key.first, key.second);
+    const auto member = [&](std::size_t id) { return key_of[id] == key; };
+    for (std::size_t k = 0;; ++k) {
+      const auto id = search.at_among(k, name, member);
+      if (!id) break;
+      Candidate c = search.candidate(*id);
+      auto buy = purchase_lines(c, market, spec.copies);
+      detail::finalize(c, market);
+      // Finished as a listed design is (the full worst case and the exact solver's DC): a
+      // purchase is suggested only for a design that holds.
+      if (!detail::finish_stage(c, ms).empty()) continue;
+      c.purchases = key.first;
+      c.id = candidate_id(c, spec.copies);
+      Purchase p;
+      p.buy = std::move(buy);
+      p.design = std::move(c);
+      p.pieces = key.first;
+      return p;
+    }
   }
   return std::nullopt;
 }
