@@ -861,6 +861,10 @@ RankedSearch::RankedSearch(const Spec& spec, const Shelf& shelf, const std::vect
   impl_->work.resize(jobs.size());
   impl_->quick_floors = spec.supply_lo_v == spec.supply_hi_v && !spec.temp_c;
   parallel_for(jobs.size(), [&](std::size_t i) { searcher.prepare(jobs[i], impl_->work[i]); });
+  // (Reserved: an Item carries a Candidate, which the vector would copy as it grows.)
+  std::size_t total = 0;
+  for (const JobWork& w : impl_->work) total += w.chosen.size();
+  impl_->items.reserve(total);
   for (std::uint32_t j = 0; j < jobs.size(); ++j) {
     const JobWork& w = impl_->work[j];
     for (std::uint32_t k = 0; k < w.chosen.size(); ++k) {
