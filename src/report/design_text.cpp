@@ -186,10 +186,12 @@ std::string loop_lines(const synth::Candidate& s, const std::string& whose) {
                            : "");
     return out;
   }
+  // A range that rounds to one figure is printed as that figure.
+  const std::string lo = fmt::format("{:.0f}", l.margin_deg.min), hi = fmt::format("{:.0f}", l.margin_deg.max);
   out += fmt::format(
-      "  unity-gain crossover {}; phase margin {:.0f}..{:.0f}\u00b0{} (asked for: at least "
+      "  unity-gain crossover {}; phase margin {}\u00b0{} (asked for: at least "
       "{:.0f}\u00b0){}\n",
-      hz(l.f_cross), l.margin_deg.min, l.margin_deg.max,
+      hz(l.f_cross), lo == hi ? lo : lo + ".." + hi,
       l.crossing < l.corners ? fmt::format(" where it crosses ({} of {})", l.crossing, l.corners) : "",
       l.least_margin_deg, l.margin_deg.min < l.least_margin_deg ? ": SHORT, see the cautions" : "");
   return out;
