@@ -296,11 +296,14 @@ void Shelf::nearest_from(const ValueIndex& idx, const std::vector<double>& tripl
     Join join = Join::single;
     bool operator<(const Found& o) const { return distance < o.distance; }
   };
-  std::vector<Found> found;
+  // (Kept per thread: a pair scan offers hundreds, and a miss of nearest()'s memo comes here.)
+  thread_local std::vector<Found> found;
+  found.clear();
   auto consider = [&](double value, std::uint32_t a, std::uint32_t b, Join join) {
     found.push_back({value > target ? value / target : target / value, value, a, b, join});
   };
-  std::vector<double> near;
+  thread_local std::vector<double> near;
+  near.clear();
   nearest_in(idx.value, target, n, near);
   nearest_in(triples, target, n, near);
   for (double value : near) consider(value, 0, 0, Join::single);
