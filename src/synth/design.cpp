@@ -140,8 +140,18 @@ class Searcher {
   /// spec.search_families families of designs, and in each the spec.search_variants best
   /// variants in one resistor (their quick estimates are near-ties the full pass settles),
   /// taken in the order of the quick estimate. The choice is the one a full sort of every
-  /// estimate would give, but the estimates are worked out only as far as they can change
-  /// it (NOTES: the choice).
+  /// estimate would give, but the estimates are worked out only as far as they can change it:
+  ///  - a queue holds (value, draft), least first: a draft enters at its floor (score_floor),
+  ///    and drafts enter while their floors are at most the queue's least value;
+  ///  - the estimate is the largest gain error over the corner pieces (StageBuilder::
+  ///    quick_from), so the largest over some of them is a floor under it that only rises as
+  ///    pieces are added; a draft at the head with pieces left gets one more and goes back;
+  ///  - a draft at the head with every piece done (or an invalid one met: 1e6 either way) has
+  ///    its whole estimate, and no draft in the queue or not yet in it can come before it
+  ///    (their floors are at least its value; equal values go by draft index, as the sort's);
+  ///  - a draft whose family is full, or that would start one past the limit, never can be
+  ///    chosen (heads come only while fewer than the limit, and families only fill): it
+  ///    leaves the queue unrefined.
   std::vector<std::pair<std::size_t, double>> choose(const StageBuilder& builder,
                                                      const std::deque<StageBuilder::Draft>& found,
                                                      std::span<const stages::Role> roles, SearchStats& stats) const {
