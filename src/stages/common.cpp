@@ -305,6 +305,9 @@ bool screened_out(Performance& p, const Conditions& c) {
                    (c.most_current_a > 0 && p.supply_current_a > c.most_current_a) ||
                    (c.least_zin_ohm > 0 && p.zin_ohm < c.least_zin_ohm);
   p.cut_short = out;
+  // What finish_distortion() gives with the distortion off: the rated swing is the clipping
+  // point (violation() tells "swing" from "distortion" by it).
+  if (out) p.clip_peak_v = p.swing_peak_v;
   return out;
 }
 

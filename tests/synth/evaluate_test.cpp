@@ -12,6 +12,8 @@
 #include <fmt/format.h>
 
 #include "../src/synth/detail.hpp"
+#include "shelfstage/synth/shelf.hpp"
+#include "shelfstage/synth/stage_spread.hpp"
 #include "demo_shelf.hpp"
 #include "fixture.hpp"
 #include "yield_check.hpp"
@@ -381,4 +383,80 @@ TEST_CASE("a split-supply op-amp stage's DC-coupled output names the DC its load
   } else {
     CHECK(it == c.cautions.end());
   }
+}
+
+TEST_CASE("the first screen's floors: an evaluation cut short gets the verdict the whole evaluation gets") {
+  // detail::set_screen_floors puts the request's least clipping point, largest current and
+  // least Zin into the conditions; an evaluator may then stop after the swing. Over every
+  // proposal the design steps make for several requests (gain stages, followers, pairs; with
+  // and without a swing, a Zin floor, a current budget), violation() must read the same
+  // reason from the evaluation with the floors as from the one without, the floors must cut
+  // some of them short (else this checks nothing), and an evaluation not cut short must be
+  // the same evaluation.
+  const synth::Inventory inv = test::small_shelf(20, {test::njfet(), test::npn(), test::pnp()});
+  synth::Shelf::Options so;
+  const synth::Shelf shelf(inv.parts, so);
+  struct Ask {
+    double gain, load, zin;
+    std::optional<double> swing, current;
+  };
+  const std::vector<Ask> asks = {{10, 10e3, 100e3, std::nullopt, std::nullopt},
+                                 {5, 2.2e3, 1e6, 8.0, std::nullopt},
+                                 {3, 1e3, 20e3, 4.0, 1.5e-3},
+                                 {0.9, 1e3, 100e3, 2.0, std::nullopt}};
+  long compared = 0, cut = 0;
+  for (const Ask& a : asks) {
+    synth::Spec spec = test::basic_spec(a.gain);
+    spec.load_ohm = a.load;
+    spec.zin_min_ohm = a.zin;
+    spec.swing_vpp = a.swing;
+    spec.max_current_a = a.current;
+    stages::Conditions whole = synth::detail::conditions(spec, spec.supply_hi_v, devices::kNominalCelsius);
+    whole.distortion = false;
+    stages::Conditions floors = whole;
+    synth::detail::set_screen_floors(floors, spec);
+    for (const auto* t : stages::registry()) {
+      for (const auto& d1 : inv.devices) {
+        if (!t->accepts(d1.kind)) continue;
+        std::optional<devices::DeviceSpread> second;
+        if (t->second_device() != stages::SecondDevice::none) {
+          const auto d2 = std::find_if(inv.devices.begin(), inv.devices.end(),
+                                       [&](const auto& d) { return t->accepts_second(d1.kind, d.kind); });
+          if (d2 == inv.devices.end()) continue;
+          second = devices::DeviceSpread(*d2);
+        }
+        const synth::StageSpread spread(devices::DeviceSpread(d1), second);
+        const stages::Transistor q = synth::make_transistor(spread, spread.nominal(), devices::kNominalCelsius);
+        stages::Goal g;
+        g.gain = spec.gain;
+        g.zin_min_ohm = spec.zin_min_ohm;
+        g.swing_peak_v = synth::detail::least_swing_peak(spec);
+        g.max_current_a = spec.max_current_a.value_or(0);
+        int taken = 0;
+        t->propose(g, q, whole, shelf, [&](const stages::Values& proposal) {
+          if (taken++ % 7 != 0 || taken > 7 * 400) return;  // every seventh, at most 400 a job
+          stages::Values v = t->capacitor_targets(proposal, q, whole, 20.0);
+          const auto full = t->evaluate(v, q, whole, stages::Detail::core);
+          const auto screened = t->evaluate(v, q, floors, stages::Detail::core);
+          ++compared;
+          INFO(fmt::format("{} with {}: {}", t->name(), d1.name, screened.problem));
+          CHECK(synth::detail::violation(spec, screened) == synth::detail::violation(spec, full));
+          if (screened.cut_short) {
+            ++cut;
+            CHECK(!synth::detail::violation(spec, full).empty());
+          } else {
+            // (A feedback pair's Newton starts from the thread's last point: the same point to
+            // about 1e-11 V, not to the last bit.)
+            CHECK(screened.gain == doctest::Approx(full.gain).epsilon(1e-9));
+            CHECK(screened.swing_peak_v == doctest::Approx(full.swing_peak_v).epsilon(1e-9));
+            CHECK(screened.zin_ohm == doctest::Approx(full.zin_ohm).epsilon(1e-9));
+          }
+        });
+      }
+    }
+  }
+  MESSAGE(fmt::format("{} proposals compared, {} cut short", compared, cut));
+  CHECK(compared > 1000);
+  CHECK(cut > 100);
+  CHECK(cut < compared);
 }

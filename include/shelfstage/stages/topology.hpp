@@ -235,8 +235,8 @@ struct Performance {
   double v_out2 = 0;
   std::vector<Stress> stress;  ///< per role present
   /// The evaluation stopped at a screen's floor (Conditions::least_clip_v ...): the bias, the
-  /// mid-band gain (without the input capacitance's divider), Zin, the swing and the supply
-  /// current are given; the rest is not.
+  /// mid-band gain (without the input capacitance's divider), Zin, the swing (the clipping
+  /// point, as with the distortion off) and the supply current are given; the rest is not.
   bool cut_short = false;
 };
 
