@@ -179,7 +179,7 @@ class Searcher {
       double worst = 0;
       std::size_t largest = 0;  // the piece it came from
     };
-    std::unordered_map<std::size_t, Partial> partial;
+    std::vector<Partial> partial(found.size());
     // How often each corner piece gave a finished estimate its largest error: the likeliest
     // is worked out first, so that the estimate rises early where it will.
     std::vector<long> hits(corners, 0);
@@ -233,11 +233,10 @@ class Searcher {
       scored.pop();
       const long f = family_of(i);
       if (f < 0) continue;
-      const auto at = partial.try_emplace(i).first;
-      if (!finished(at->second)) {
+      if (!finished(partial[i])) {
         // A floor still: one corner piece more, and back in line.
         refine(i);
-        scored.emplace(builder.quick_from(found[i], at->second.worst), i);
+        scored.emplace(builder.quick_from(found[i], partial[i].worst), i);
         continue;
       }
       if (static_cast<std::size_t>(f) == heads.size()) {
@@ -535,18 +534,9 @@ double StageBuilder::quick_from(const Draft& d, double worst_error) const {
          spec_.purchase_points * d.purchases;
 }
 
-double StageBuilder::quick_score(const Draft& d, SearchStats& stats) const {
-  double worst = 0;
-  for (std::size_t k = 0; k < corner_devices_.size(); ++k) {
-    worst = std::max(worst, corner_error(d, k, stats));
-    if (std::isinf(worst)) break;
-  }
-  return quick_from(d, worst);
-}
-
 double StageBuilder::score_floor(const Draft& c) const {
-  // quick_score with the nominal error as the worst: never above it (the worst over the
-  // corners includes nothing below the nominal's error in this count, and the sums round
+  // The quick estimate with the nominal error as the worst: never above it (the worst over
+  // the corners includes nothing below the nominal's error in this count, and the sums round
   // the same way).
   return quick_from(c, 0.0);
 }
@@ -735,7 +725,7 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
 //     valid, so the worst error is never below the nominal's; the score's other terms are
 //     counted alike or are never negative).
 //     When the request has one supply and one temperature, the draft's quick estimate
-//     (StageBuilder::quick_score) is a floor too, less a slack of a millionth of gain error
+//     (StageBuilder::quick_from over every corner piece) is a floor too, less a slack of a millionth of gain error
 //     for rounding: it takes the gain at the device's corner pieces with the parts nominal at
 //     that supply and temperature, a point the corner pass evaluates as well (with the
 //     distortion or the parts' stress worked out, which leave the gain as it is), and the

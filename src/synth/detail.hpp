@@ -153,7 +153,7 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv);
 struct JobWork {
   std::unique_ptr<StageBuilder> builder;
   std::vector<StageBuilder::Draft> chosen;
-  std::vector<double> quick;  ///< each chosen draft's quick estimate (StageBuilder::quick_score)
+  std::vector<double> quick;  ///< each chosen draft's quick estimate (StageBuilder::quick_from)
   SearchStats stats;
 };
 

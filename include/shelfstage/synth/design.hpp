@@ -239,18 +239,16 @@ class StageBuilder {
   };
   bool draft(const stages::Values& resistors, Draft& out, SearchStats& stats) const;
   Candidate candidate(const Draft& d) const;
-  /// A quick worst-case estimate (the device's corner pieces, nominal parts) used to pick
-  /// which candidates get the full corner pass.
-  double quick_score(const Draft& d, SearchStats& stats) const;
-  /// A floor under quick_score from the draft alone (no evaluation).
-  double score_floor(const Draft& d) const;
-  /// quick_score a corner piece at a time: the device's corner pieces, the gain error at
-  /// the k-th (infinity where the stage is not valid and active there), and the estimate
-  /// from the largest error over some of them (a floor under quick_score; equal to it over
-  /// every piece, infinity giving its 1e6).
+  /// The quick estimate used to pick which drafts get the full corner pass, worked out a
+  /// corner piece at a time (nominal parts): the gain error at the device's k-th corner
+  /// piece (infinity where the stage is not valid and active there), and the estimate from
+  /// the largest error over some pieces. Over every piece that is the quick estimate (1e6
+  /// when a piece met infinity); over some, a floor under it.
   std::size_t corner_count() const { return corner_devices_.size(); }
   double corner_error(const Draft& d, std::size_t k, SearchStats& stats) const;
   double quick_from(const Draft& d, double worst_error) const;
+  /// A floor under the quick estimate from the draft alone (no evaluation): quick_from(d, 0).
+  double score_floor(const Draft& d) const;
   /// The worst-case pass, score and cautions (no yield). True when every corner holds;
   /// otherwise counts the reason in stats.corner_failures.
   bool assess(Candidate& c, SearchStats& stats) const;
