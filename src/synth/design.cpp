@@ -772,8 +772,7 @@ struct RankedSearch::Impl {
     std::vector<std::uint32_t> out;       // handed out, in rank order
   };
   View every;
-  std::map<std::string, View> by_device;
-  std::map<std::string, View> named;  // at_among()'s views
+  std::map<std::string, View> views;  // the orders over some drafts, by name, made on first use
   std::size_t assessed = 0;
 
   explicit Impl(const Spec& s) : spec(s) {}
@@ -792,6 +791,12 @@ struct RankedSearch::Impl {
     std::stable_sort(v.by_floor.begin(), v.by_floor.end(),
                      [&](std::uint32_t a, std::uint32_t b) { return items[a].floor < items[b].floor; });
     return v;
+  }
+  // The order named `name` over the drafts `keep` accepts (made on first use).
+  View& view(const std::string& name, const std::function<bool(const Item&)>& keep) {
+    auto it = views.find(name);
+    if (it == views.end()) it = views.emplace(name, make_view(keep)).first;
+    return it->second;
   }
 
   // A pending draft as the candidate it makes (before its corner pass).
@@ -853,6 +858,13 @@ struct RankedSearch::Impl {
       assess(batch);
     }
   }
+
+  // The view's k-th candidate (NOTES 3), stepping it as far as that takes.
+  std::optional<std::size_t> nth(View& v, std::size_t k, const PassOver* skip) {
+    while (v.out.size() <= k)
+      if (!step(v, skip)) return std::nullopt;
+    return v.out[k];
+  }
 };
 
 RankedSearch::RankedSearch(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, bool probe)
@@ -882,36 +894,18 @@ RankedSearch::~RankedSearch() = default;
 
 std::optional<std::size_t> RankedSearch::at(std::size_t k, const std::string* device, const PassOver& skip) {
   Impl& m = *impl_;
-  Impl::View* v = &m.every;
-  if (device) {
-    auto it = m.by_device.find(*device);
-    if (it == m.by_device.end())
-      it = m.by_device
-               .emplace(*device, m.make_view([&](const Impl::Item& i) {
-                 return m.work[i.job].builder->device().name == *device;
-               }))
-               .first;
-    v = &it->second;
-  }
-  while (v->out.size() <= k)
-    if (!m.step(*v, &skip)) return std::nullopt;
-  return v->out[k];
+  if (!device) return m.nth(m.every, k, &skip);
+  return m.nth(
+      m.view("device " + *device, [&](const Impl::Item& i) { return m.work[i.job].builder->device().name == *device; }),
+      k, &skip);
 }
 
 std::optional<std::size_t> RankedSearch::at_among(std::size_t k, const std::string& name,
                                                   const std::function<bool(std::size_t)>& member) {
   Impl& m = *impl_;
-  auto it = m.named.find(name);
-  if (it == m.named.end())
-    it = m.named
-             .emplace(name, m.make_view([&](const Impl::Item& i) {
-               return member(static_cast<std::size_t>(&i - m.items.data()));
-             }))
-             .first;
-  Impl::View& v = it->second;
-  while (v.out.size() <= k)
-    if (!m.step(v, nullptr)) return std::nullopt;
-  return v.out[k];
+  return m.nth(m.view("among " + name,
+                      [&](const Impl::Item& i) { return member(static_cast<std::size_t>(&i - m.items.data())); }),
+               k, nullptr);
 }
 
 const Candidate& RankedSearch::shell(std::size_t id) { return impl_->shell(impl_->items[id]); }
