@@ -294,16 +294,11 @@ class BjtCeDivider final : public Topology {
     // current set by RE far more than by VBE) where the collector still has room for the
     // swing above it.
     const double ve_room = c.supply_v - 2.0 * g.swing_peak_v - t.vce_sat_v - 1.0;
-    // A narrower search (Goal::breadth below 1: a chain's stage pools) takes every other
-    // emitter voltage and divider current.
-    const bool narrow = g.breadth < 1.0;
-    std::vector<double> ves{std::max(1.0, 0.1 * c.supply_v), std::max(1.2, 0.16 * c.supply_v), 0.35 * c.supply_v,
-                            0.6 * c.supply_v};
-    std::vector<double> ks{20.0, 10.0, 4.0, 1.5};
-    if (narrow) {
-      ves = {ves[0], ves[2]};
-      ks = {ks[1], ks[3]};
-    }
+    // A narrower search takes every other emitter voltage and divider current.
+    const double ve1 = std::max(1.0, 0.1 * c.supply_v), ve2 = std::max(1.2, 0.16 * c.supply_v);
+    const double ve3 = 0.35 * c.supply_v, ve4 = 0.6 * c.supply_v;
+    const auto ves = detail::choices(g, {ve1, ve2, ve3, ve4}, {ve1, ve3});
+    const auto ks = detail::choices(g, {20.0, 10.0, 4.0, 1.5}, {10.0, 1.5});
     for (double ic : currents) {
       const double ib = ic / t.bf;
       for (double ve : ves) {

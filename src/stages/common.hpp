@@ -3,8 +3,10 @@
 #pragma once
 #include <cmath>
 #include <complex>
+#include <initializer_list>
 #include <numbers>
 #include <span>
+#include <vector>
 
 #include "shelfstage/circuit/netlist.hpp"
 #include "shelfstage/stages/topology.hpp"
@@ -218,6 +220,13 @@ void jfet_cs_legs(const ValueSource& shelf, const Goal& g, const Conditions& c, 
 
 /// Distinct values, in order.
 void unique_values(std::vector<double>& v);
+
+/// A design step's own choices: all of them, or the narrow few when the search is narrower
+/// (Goal::breadth below 1: a chain's stage pools).
+inline std::vector<double> choices(const Goal& g, std::initializer_list<double> all,
+                                   std::initializer_list<double> narrow) {
+  return g.breadth < 1.0 ? std::vector<double>(narrow) : std::vector<double>(all);
+}
 
 }  // namespace shelfstage::stages::detail
 

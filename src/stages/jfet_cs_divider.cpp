@@ -96,11 +96,11 @@ class JfetCsDivider final : public Topology {
   void propose(const Goal& g, const Transistor& q, const Conditions& c, const ValueSource& shelf,
                const std::function<void(const Values&)>& emit) const override {
     const auto& j = q.jfet;
-    // A narrower search (Goal::breadth below 1: a chain's stage pools) keeps the ends of each
-    // choice and one divider impedance.
-    const bool narrow = g.breadth < 1.0;
-    const std::vector<double> vs_fracs = narrow ? std::vector<double>{0.12, 0.3} : std::vector<double>{0.12, 0.2, 0.3};
-    const std::vector<double> fracs = narrow ? std::vector<double>{0.2, 0.5} : std::vector<double>{0.2, 0.35, 0.5};
+    // A narrower search keeps the ends of each choice and one divider impedance.
+    const auto vs_fracs = detail::choices(g, {0.12, 0.2, 0.3}, {0.12, 0.3});
+    const auto fracs = detail::choices(g, {0.2, 0.35, 0.5}, {0.2, 0.5});
+    const double r_usual = std::max(1e6, g.zin_min_ohm * 1.15), r_low = std::max(220e3, g.zin_min_ohm * 1.15);
+    const auto rpars = detail::choices(g, {r_usual, r_low}, {r_usual});
     for (double vs_frac : vs_fracs) {
       const double vs = vs_frac * c.supply_v;
       for (double frac : fracs) {
@@ -109,8 +109,7 @@ class JfetCsDivider final : public Topology {
         const double vg = vs - j.vp_abs_v * (1.0 - std::sqrt(frac));
         if (vg <= 0.05 * c.supply_v) continue;  // the self-biased stage covers this
         const double r = vg / c.supply_v;
-        for (double rpar : {std::max(1e6, g.zin_min_ohm * 1.15), std::max(220e3, g.zin_min_ohm * 1.15)}) {
-          if (narrow && rpar != std::max(1e6, g.zin_min_ohm * 1.15)) continue;
+        for (double rpar : rpars) {
           std::vector<double> r1s, r2s, rs_tot;
           shelf.nearest(rpar / r, 2, r1s);
           shelf.nearest(rpar / (1.0 - r), 2, r2s);
