@@ -1,6 +1,7 @@
 // The circuit graph: nets as vertices, parts as edges; validation before anything is solved.
 #include "shelfstage/circuit/netlist.hpp"
 
+#include <boost/graph/adjacency_list.hpp>
 #include <boost/graph/connected_components.hpp>
 #include <boost/graph/filtered_graph.hpp>
 #include <boost/pending/disjoint_sets.hpp>
@@ -12,14 +13,15 @@
 namespace shelfstage::circuit {
 
 Circuit::Circuit() {
-  const auto g = boost::add_vertex(Net{"0"}, graph_);
-  names_["0"] = g;
+  nets_.push_back(Net{"0"});
+  names_["0"] = 0;
 }
 
 std::size_t Circuit::net(const std::string& name) {
   const std::string key = (name == "gnd" || name == "GND") ? "0" : name;
   if (auto it = names_.find(key); it != names_.end()) return it->second;
-  const auto v = boost::add_vertex(Net{key}, graph_);
+  const std::size_t v = nets_.size();
+  nets_.push_back(Net{key});
   names_[key] = v;
   return v;
 }
@@ -30,7 +32,7 @@ std::optional<std::size_t> Circuit::find_net(const std::string& name) const {
   return std::nullopt;
 }
 
-void Circuit::add_edge(std::size_t a, std::size_t b, const Component& c) { boost::add_edge(a, b, c, graph_); }
+void Circuit::add_edge(std::size_t a, std::size_t b, const Component& c) { edges_.push_back({a, b, c}); }
 
 void Circuit::add_element(const Component& c) {
   add_edge(c.pins[0], c.pins[1], c);
@@ -181,10 +183,8 @@ void Circuit::set_value(const std::string& designator, double value) {
       found = true;
     }
   }
-  auto [ei, ee] = boost::edges(graph_);
-  for (; ei != ee; ++ei) {
-    if (graph_[*ei].designator == designator) graph_[*ei].value = value;
-  }
+  for (auto& e : edges_)
+    if (e.c.designator == designator) e.c.value = value;
   if (!found) throw InputError(fmt::format("no part '{}' in the circuit", designator));
 }
 
@@ -195,12 +195,15 @@ const Element* Circuit::find(const std::string& designator) const {
 }
 
 namespace {
+// The graph for Boost's algorithms: nets as vertices, components as edges.
+using Graph = boost::adjacency_list<boost::vecS, boost::vecS, boost::undirectedS, Net, Component>;
+
 // Edges that fix a DC voltage or carry a DC current set by voltages: resistors, voltage
 // sources and VCVS outputs, diodes, transistor main paths. A current source or a VCCS output
 // forces a current whatever the voltage across it, so it gives a net no DC path.
 struct ConductsDc {
   const Graph* g = nullptr;
-  bool operator()(const Edge& e) const {
+  bool operator()(const boost::graph_traits<Graph>::edge_descriptor& e) const {
     const Component& c = (*g)[e];
     if (c.kind == ElementKind::capacitor || c.kind == ElementKind::isource || c.kind == ElementKind::vccs) return false;
     return c.branch != Branch::control;
@@ -229,11 +232,14 @@ void Circuit::validate() const {
       throw InputError(
           fmt::format("{} ({}): both control pins on net '{}'", c.designator, c.role, net_name(c.pins[2])));
   }
-  if (boost::degree(0, graph_) == 0) throw InputError("the circuit has no ground: no part touches net '0'");
+  Graph graph(nets_.size());
+  for (std::size_t v = 0; v < nets_.size(); ++v) graph[v] = nets_[v];
+  for (const auto& e : edges_) boost::add_edge(e.a, e.b, e.c, graph);
+  if (boost::degree(0, graph) == 0) throw InputError("the circuit has no ground: no part touches net '0'");
   // Every net needs a DC path to ground.
-  ConductsDc pred{&graph_};
-  boost::filtered_graph<Graph, ConductsDc> dc(graph_, pred);
-  std::vector<int> comp(boost::num_vertices(graph_));
+  ConductsDc pred{&graph};
+  boost::filtered_graph<Graph, ConductsDc> dc(graph, pred);
+  std::vector<int> comp(boost::num_vertices(graph));
   boost::connected_components(dc, comp.data());
   for (std::size_t v = 1; v < comp.size(); ++v) {
     if (comp[v] == comp[0]) continue;

@@ -17,7 +17,7 @@ using circuit::Circuit;
 
 namespace {
 
-devices::JfetInstance jfet() {
+devices::JfetInstance some_jfet() {
   devices::JfetInstance q;
   q.idss_a = 4e-3;
   q.vp_abs_v = 2.0;
@@ -65,7 +65,7 @@ TEST_CASE("A complete JFET stage validates; a transistor is one element with thr
   c.resistor("RD", "RD", "vdd", "drain", 4.7e3);
   c.resistor("RS", "RS1", "source", "0", 1e3);
   c.resistor("RG", "RG", "gate", "0", 1e6);
-  c.jfet("Q1", "drain", "gate", "source", jfet());
+  c.jfet("Q1", "drain", "gate", "source", some_jfet());
   CHECK(validation_message(c).empty());
   REQUIRE(c.elements().size() == 5);
   const auto* q = c.find("Q1");
@@ -76,7 +76,7 @@ TEST_CASE("A complete JFET stage validates; a transistor is one element with thr
   CHECK(c.net_name(q->c.pins[2]) == "source");
   CHECK(c.jfets().size() == 1);
   // The graph holds two edges for it (channel and gate pair).
-  CHECK(boost::num_edges(c.graph()) == 6);
+  CHECK(c.edges().size() == 6);
   c.set_value("RD", 2.2e3);
   CHECK(c.find("RD")->c.value == 2.2e3);
   CHECK_THROWS_AS(c.set_value("R99", 1.0), InputError);
@@ -89,7 +89,7 @@ TEST_CASE("Validation rejects a floating gate and names the net and the transist
   c.capacitor("CIN", "CIN", "gate", "sig", 1e-6);  // a capacitor alone: no DC path
   c.resistor("RD", "RD", "vdd", "drain", 4.7e3);
   c.resistor("RS", "RS1", "source", "0", 1e3);
-  c.jfet("Q1", "drain", "gate", "source", jfet());
+  c.jfet("Q1", "drain", "gate", "source", some_jfet());
   const std::string m = validation_message(c);
   CAPTURE(m);
   CHECK(has(m, "'gate'"));
@@ -202,7 +202,7 @@ TEST_CASE("Macro-model elements in the graph: a current source or a VCCS output 
     CHECK(e->pin_count() == 4);
     CHECK(c.net_name(e->c.pins[0]) == "o");
     CHECK(c.net_name(e->c.pins[2]) == "in");
-    CHECK(boost::num_edges(c.graph()) == 3);
+    CHECK(c.edges().size() == 3);
     CHECK(c.elements().size() == 2);
   }
 }

@@ -190,11 +190,11 @@ void check_wiring(const circuit::Circuit& c, const Schematic& s, const std::stri
       REQUIRE_MESSAGE(it != s.pins.end(), el.c.designator, " pin ", k);
       CHECK(it->net == el.c.pins[k]);
     }
-  // The same from the Boost graph's side: each edge's ends are nets of its component's pins.
-  for (auto [ei, ee] = boost::edges(c.graph()); ei != ee; ++ei) {
-    const auto& comp = c.graph()[*ei];
+  // The same from the graph's side: each edge's ends are nets of its component's pins.
+  for (const auto& edge : c.edges()) {
+    const auto& comp = edge.c;
     if (comp.role == stages::kRoleDeviceModel) continue;
-    const auto a = boost::source(*ei, c.graph()), b = boost::target(*ei, c.graph());
+    const auto a = edge.a, b = edge.b;
     std::set<std::size_t> drawn;
     for (const auto& p : s.pins)
       if (p.designator == comp.designator) drawn.insert(p.net);

@@ -2,6 +2,9 @@
 // designator and value. A transistor is two edges (its channel or collector-emitter path,
 // and its control pair) that share one designator and name all three pins; so is a
 // controlled source (its output pair and its control pair, four pins).
+// The graph is kept as two plain lists (nets, edges); the checks that walk it build a Boost
+// graph from them (netlist.cpp), so this header, included by nearly every file of the
+// library, does not carry Boost.Graph's templates into each of them.
 #pragma once
 #include <array>
 #include <functional>
@@ -10,8 +13,6 @@
 #include <string>
 #include <variant>
 #include <vector>
-
-#include <boost/graph/adjacency_list.hpp>
 
 #include "shelfstage/devices/models.hpp"
 
@@ -54,9 +55,12 @@ struct Component {
   bool noiseless = false;
 };
 
-using Graph = boost::adjacency_list<boost::vecS, boost::vecS, boost::undirectedS, Net, Component>;
-using Vertex = boost::graph_traits<Graph>::vertex_descriptor;
-using Edge = boost::graph_traits<Graph>::edge_descriptor;
+/// One edge of the graph: a component (or one branch of a transistor or controlled source)
+/// between nets `a` and `b`.
+struct Edge {
+  std::size_t a = 0, b = 0;
+  Component c;
+};
 
 /// A junction diode as SPICE's D element with only IS and N given: I = IS (exp(V / (N Vt)) - 1),
 /// no series resistance, no capacitance, no breakdown; Vt at the analysis temperature.
@@ -87,8 +91,8 @@ class Circuit {
   /// The net of that name, created if new. "0" or "gnd" is ground.
   std::size_t net(const std::string& name);
   std::optional<std::size_t> find_net(const std::string& name) const;
-  const std::string& net_name(std::size_t v) const { return graph_[v].name; }
-  std::size_t net_count() const { return boost::num_vertices(graph_); }
+  const std::string& net_name(std::size_t v) const { return nets_[v].name; }
+  std::size_t net_count() const { return nets_.size(); }
 
   /// A resistor; `noiseless` for one inside a device's model (Component::noiseless).
   void resistor(const std::string& designator, const std::string& role, const std::string& a, const std::string& b,
@@ -122,7 +126,9 @@ class Circuit {
   const std::vector<devices::JfetInstance>& jfets() const { return jfets_; }
   const std::vector<devices::BjtInstance>& bjts() const { return bjts_; }
   const std::vector<DiodeModel>& diodes() const { return diodes_; }
-  const Graph& graph() const { return graph_; }
+  /// Every edge of the graph, in insertion order (a transistor's or controlled source's main
+  /// edge, then its control edge).
+  const std::vector<Edge>& edges() const { return edges_; }
 
   /// Changes the value of a two-terminal part (or a source's DC, a controlled source's gm or
   /// gain) by designator.
@@ -164,7 +170,8 @@ class Circuit {
   void controlled(ElementKind kind, const std::string& designator, const std::string& role, const std::string& out_plus,
                   const std::string& out_minus, const std::string& ctrl_plus, const std::string& ctrl_minus,
                   double value);
-  Graph graph_;
+  std::vector<Net> nets_;
+  std::vector<Edge> edges_;
   std::map<std::string, std::size_t> names_;
   std::vector<Element> elements_;
   std::vector<devices::JfetInstance> jfets_;
