@@ -1,6 +1,7 @@
 // The analysis of one stage: both evaluators, part stress against ratings, cautions, corners.
 #include "shelfstage/report/analysis.hpp"
 
+#include <nlohmann/json.hpp>
 #include <algorithm>
 #include <cctype>
 #include <cmath>

@@ -1,6 +1,7 @@
 // Designs to JSON and back (keys: docs/interface.md, only ever added to; numbers in plain SI).
 #include "shelfstage/report/design_json.hpp"
 
+#include <nlohmann/json.hpp>
 #include <fmt/format.h>
 
 #include <algorithm>

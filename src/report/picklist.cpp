@@ -1,6 +1,7 @@
 // Pick lists: the build plan with assembly and polarity notes; JSON, CSV and text views.
 #include "shelfstage/report/picklist.hpp"
 
+#include <nlohmann/json.hpp>
 #include <fmt/format.h>
 
 #include <algorithm>

@@ -2,6 +2,7 @@
 // purchases that would make the kept design more exact.
 #include "shelfstage/report/shop.hpp"
 
+#include <nlohmann/json.hpp>
 #include <fmt/format.h>
 
 #include <cmath>

@@ -2,6 +2,7 @@
 // the 1 % agreement rule, rating warnings (common practice) and cautions, role parsing.
 #include "shelfstage/report/analysis.hpp"
 
+#include <nlohmann/json.hpp>
 #include <doctest/doctest.h>
 
 #include <cmath>

@@ -4,6 +4,7 @@
 // them, and the request back from its JSON.
 #include "shelfstage/report/design_json.hpp"
 
+#include <nlohmann/json.hpp>
 #include <doctest/doctest.h>
 
 #include <regex>

@@ -2,6 +2,7 @@
 // shopping list (the allocation itself: tests/build/plan_test.cpp).
 #include "shelfstage/report/picklist.hpp"
 
+#include <nlohmann/json.hpp>
 #include <doctest/doctest.h>
 
 #include <algorithm>

@@ -7,7 +7,7 @@
 #include <utility>
 #include <vector>
 
-#include <nlohmann/json.hpp>
+#include <nlohmann/json_fwd.hpp>
 
 #include "shelfstage/devices/spread.hpp"
 #include "shelfstage/stages/loop.hpp"

@@ -1,7 +1,7 @@
 // Designs as JSON: the request and the candidates with the keys docs/interface.md lists
 // (only ever added to); and back again, so a kept design can be shown, picked and built.
 #pragma once
-#include <nlohmann/json.hpp>
+#include <nlohmann/json_fwd.hpp>
 #include <optional>
 #include <string>
 #include <vector>
