@@ -15,7 +15,7 @@ using circuit::Circuit;
 
 namespace {
 
-devices::JfetInstance jfet(devices::DeviceKind kind) {
+devices::JfetInstance spice_jfet(devices::DeviceKind kind) {
   devices::JfetInstance q;
   q.kind = kind;
   q.idss_a = 5e-3;
@@ -26,7 +26,7 @@ devices::JfetInstance jfet(devices::DeviceKind kind) {
   return q;
 }
 
-devices::BjtInstance bjt(devices::DeviceKind kind) {
+devices::BjtInstance spice_bjt(devices::DeviceKind kind) {
   devices::BjtInstance q;
   q.kind = kind;
   q.is_a = 6.7e-15;
@@ -65,8 +65,8 @@ TEST_CASE("SPICE names: element prefixes added where missing, net names made leg
   c.capacitor("X2", "COUT", "a b", "0", 1e-6);
   c.vsource("VDD", "supply", "vdd", "0", 12);
   c.vsource("SUP", "supply", "vdd2", "0", 12);
-  c.jfet("Q1", "drain-1", "0", "0", jfet(devices::DeviceKind::njfet));
-  c.bjt("Q2", "vdd", "a b", "0", bjt(devices::DeviceKind::npn));
+  c.jfet("Q1", "drain-1", "0", "0", spice_jfet(devices::DeviceKind::njfet));
+  c.bjt("Q2", "vdd", "a b", "0", spice_bjt(devices::DeviceKind::npn));
   const auto& e = c.elements();
   CHECK(circuit::spice_name(e[0].c) == "RD");
   CHECK(circuit::spice_name(e[1].c) == "R3");
@@ -88,11 +88,11 @@ TEST_CASE("Model lines: NJF/PJF with VTO = -|VP|, BETA = IDSS/VP^2, LAMBDA, CGS,
     c.vsource("VDD", "supply", "vdd", "0", devices::polarity(kind) * 12);
     c.resistor("RD", "RD", "vdd", "d", 2.2e3);
     c.resistor("RG", "RG", "g", "0", 1e6);
-    c.jfet("Q1", "d", "g", "0", jfet(kind));
+    c.jfet("Q1", "d", "g", "0", spice_jfet(kind));
     const std::string text = circuit::to_spice(c);
     const std::string model = line_starting(text, ".model");
     CHECK(model.find(kind == devices::DeviceKind::njfet ? " NJF(" : " PJF(") != std::string::npos);
-    const auto q = jfet(kind);
+    const auto q = spice_jfet(kind);
     CHECK(param(model, "VTO") == doctest::Approx(-1.8));  // negative for both channel types
     CHECK(param(model, "BETA") == doctest::Approx(q.beta()).epsilon(1e-9));
     CHECK(param(model, "LAMBDA") == doctest::Approx(0.012));
@@ -112,7 +112,7 @@ TEST_CASE("Model lines: NPN/PNP with IS, BF, BR, VAF, CJE, CJC (SPICE Gummel-Poo
     c.vsource("VCC", "supply", "vcc", "0", devices::polarity(kind) * 12);
     c.resistor("RC", "RC", "vcc", "col", 2.2e3);
     c.resistor("RB", "R1", "vcc", "base", 1e6);
-    c.bjt("Q1", "col", "base", "0", bjt(kind));
+    c.bjt("Q1", "col", "base", "0", spice_bjt(kind));
     const std::string text = circuit::to_spice(c);
     const std::string model = line_starting(text, ".model");
     CHECK(model.find(kind == devices::DeviceKind::npn ? " NPN(" : " PNP(") != std::string::npos);
@@ -126,7 +126,7 @@ TEST_CASE("Model lines: NPN/PNP with IS, BF, BR, VAF, CJE, CJC (SPICE Gummel-Poo
   }
   // No Early effect: VAF left out (SPICE's default is infinite).
   Circuit c;
-  auto q = bjt(devices::DeviceKind::npn);
+  auto q = spice_bjt(devices::DeviceKind::npn);
   q.vaf_v = 0;
   c.vsource("VCC", "supply", "vcc", "0", 12);
   c.resistor("RB", "R1", "vcc", "base", 1e6);
@@ -153,9 +153,9 @@ Circuit stage(devices::DeviceKind kind) {
   c.capacitor("C3", "COUT", "d", "out", 10e-6);
   c.resistor("RL", "load", "out", "0", 10e3);
   if (is_jfet)
-    c.jfet("Q1", "d", "b", "s", jfet(kind));
+    c.jfet("Q1", "d", "b", "s", spice_jfet(kind));
   else
-    c.bjt("Q1", "d", "b", "s", bjt(kind));
+    c.bjt("Q1", "d", "b", "s", spice_bjt(kind));
   return c;
 }
 

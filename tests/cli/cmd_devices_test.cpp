@@ -21,7 +21,7 @@ const std::vector<std::string> kOpamp{
     "1.5",     "--out-drop-lo", "0.02",  "--out-drop-ohm", "150",     "--iout-max", "20m",   "--cm-drop-hi",
     "1.5",     "--cm-drop-lo",  "-0.3",  "--vos",          "5m",      "--ib",       "250n"};
 
-std::vector<std::string> with(std::vector<std::string> a, const std::vector<std::string>& b) {
+std::vector<std::string> opamp_args(std::vector<std::string> a, const std::vector<std::string>& b) {
   a.insert(a.end(), b.begin(), b.end());
   return a;
 }
@@ -39,7 +39,7 @@ nlohmann::json listed(const DemoStock& shelf, const std::string& name) {
 
 TEST_CASE("devices add: an op-amp from its datasheet figures, listed in its own table and under \"opamp\"") {
   const DemoStock shelf;
-  const auto r = shelf.run(with(kOpamp, {"--gbw-min", "700k", "--en", "40n", "--iq", "0.7m", "--v-max", "32"}));
+  const auto r = shelf.run(opamp_args(kOpamp, {"--gbw-min", "700k", "--en", "40n", "--iq", "0.7m", "--v-max", "32"}));
   INFO(r.err);
   REQUIRE(r.status == 0);
   CHECK(r.out == "Added OPAMP SA-X2.\n");
@@ -114,11 +114,11 @@ TEST_CASE("devices add: a bad or missing op-amp figure, or another family's opti
   check_refused(shelf.run(replaced("--aol", "100q")), "--aol '100q'");
   check_refused(shelf.run(replaced("--vs", "32..32")), "vs_min 32 is not below vs_max 32");
   check_refused(shelf.run(replaced("--cm-drop-lo", "-2")), "cm_drop_lo -2 must be at least -1");
-  check_refused(shelf.run(with(kOpamp, {"--slew-min", "1V/us"})), "slew_min 1000000 is above slew 500000");
-  check_refused(shelf.run(with(kOpamp, {"--v-max", "30"})),
+  check_refused(shelf.run(opamp_args(kOpamp, {"--slew-min", "1V/us"})), "slew_min 1000000 is above slew 500000");
+  check_refused(shelf.run(opamp_args(kOpamp, {"--v-max", "30"})),
                 "v_max 30 (the absolute maximum supply) is below vs_max 32");
-  check_refused(shelf.run(with(kOpamp, {"--hfe", "100..200"})), "--hfe '100..200' does not apply to an op-amp");
-  check_refused(shelf.run(with(kOpamp, {"--vp", "-1..-3"})), "--vp '-1..-3' does not apply to an op-amp");
+  check_refused(shelf.run(opamp_args(kOpamp, {"--hfe", "100..200"})), "--hfe '100..200' does not apply to an op-amp");
+  check_refused(shelf.run(opamp_args(kOpamp, {"--vp", "-1..-3"})), "--vp '-1..-3' does not apply to an op-amp");
   check_refused(shelf.run({"devices", "add", "SQ-9", "--kind", "NPN", "--hfe", "100..300", "--gbw", "1M"}),
                 "--gbw '1M' does not apply to an NPN");
   check_refused(

@@ -24,7 +24,6 @@ using namespace shelfstage;
 namespace {
 
 using Case = test::TopologyCase;
-const auto& kCases = test::kTopologyCases;
 
 const synth::Inventory& inventory() {
   static const synth::Inventory inv = test::demo_inventory();
@@ -64,7 +63,7 @@ double wrap180(double deg) { return deg - 360 * std::round(deg / 360); }
 }  // namespace
 
 TEST_CASE("frequency_response: the nominal curve matches ngspice's AC analysis of the same netlist") {
-  for (const auto& k : kCases) {
+  for (const auto& k : test::kTopologyCases) {
     INFO(k.topology);
     const auto& d = designed(k);
     const auto r = report::frequency_response(d.c, d.spec, 12);
@@ -129,7 +128,7 @@ TEST_CASE("frequency_response: the nominal curve matches ngspice's AC analysis o
 }
 
 TEST_CASE("bias_spread: the nominal operating point matches ngspice's .op; corners, samples, safe region") {
-  for (const auto& k : kCases) {
+  for (const auto& k : test::kTopologyCases) {
     INFO(k.topology);
     const auto& d = designed(k);
     const auto b = report::bias_spread(d.c, d.spec, 40);
@@ -182,11 +181,12 @@ TEST_CASE("bias_spread: the nominal operating point matches ngspice's .op; corne
     // The synthesizer promised the swing at nominal, so the nominal point is safe.
     CHECK(b.nominal.safe);
   }
-  CHECK_THROWS_AS(report::bias_spread(designed(kCases[0]).c, designed(kCases[0]).spec, -1), InputError);
+  CHECK_THROWS_AS(report::bias_spread(designed(test::kTopologyCases[0]).c, designed(test::kTopologyCases[0]).spec, -1),
+                  InputError);
 }
 
 TEST_CASE("transfer_curve: matches ngspice's .dc sweep of the stage with its capacitors held") {
-  for (const auto& k : kCases) {
+  for (const auto& k : test::kTopologyCases) {
     INFO(k.topology);
     const auto& d = designed(k);
     const auto tr = report::transfer_curve(d.c, d.spec);
@@ -244,7 +244,7 @@ TEST_CASE("transfer_curve: matches ngspice's .dc sweep of the stage with its cap
 }
 
 TEST_CASE("response_text: the terminal plot of the response names its -3 dB points") {
-  const auto& d = designed(kCases[0]);
+  const auto& d = designed(test::kTopologyCases[0]);
   const auto r = report::frequency_response(d.c, d.spec);
   const std::string s = report::response_text(r, 60);
   CHECK(s.find("dB") != std::string::npos);
@@ -255,7 +255,7 @@ TEST_CASE("response_text: the terminal plot of the response names its -3 dB poin
 }
 
 TEST_CASE("stage_under_test: the candidate's parts as the analysis takes them") {
-  const auto& d = designed(kCases[3]);
+  const auto& d = designed(test::kTopologyCases[3]);
   const auto s = report::stage_under_test(d.c);
   CHECK(s.topology == d.c.topology);
   CHECK(s.device == d.c.device.name);

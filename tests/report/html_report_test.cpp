@@ -42,7 +42,6 @@ bool palette_only(const std::string& html) {
 }
 
 using Case = test::TopologyCase;
-const auto& kCases = test::kTopologyCases;
 
 /// Capacitors rated for a 70 V supply, added to the demo shelf for the hazard case.
 const char* const kHighVoltageStock =
@@ -161,7 +160,7 @@ TEST_CASE("the browser harness sees console errors and blank pages (so the check
 TEST_CASE("html_report: every topology, N and P, renders whole in Chromium") {
   const auto inv = test::demo_inventory();
   const std::string dir = temp_dir();
-  for (const auto& k : kCases) {
+  for (const auto& k : test::kTopologyCases) {
     const auto in = input_for(k, inv);
     const std::string html = report::html_report(in);
     const std::string dom = check_report(in, html, dir, k.topology);
@@ -372,7 +371,7 @@ TEST_CASE("html_report: above 60 V the hazardous-voltage caution defers to local
 
 TEST_CASE("html_report: without stock the parts are listed with their recipes") {
   const auto inv = test::demo_inventory();
-  auto in = input_for(kCases[0], inv);
+  auto in = input_for(test::kTopologyCases[0], inv);
   in.pick.reset();
   const std::string html = report::html_report(in);
   CHECK(html.find("No stock was given for a pick list") != std::string::npos);
@@ -381,7 +380,7 @@ TEST_CASE("html_report: without stock the parts are listed with their recipes") 
 
 TEST_CASE("schematic_notes: IEC 60062 values, recipes, polarity and the bench") {
   const auto inv = test::demo_inventory();
-  const auto in = input_for(kCases[3], inv);
+  const auto in = input_for(test::kTopologyCases[3], inv);
   const auto o = report::schematic_notes(in.candidate);
   for (const auto& rp : in.candidate.parts) {
     REQUIRE(o.notes.count(rp.designator) == 1);

@@ -205,7 +205,7 @@ TEST_CASE("finish_response: band-edge losses from the sections and the upper pol
 
 TEST_CASE("cap_for, thermal_v2 and the junction capacitances (hand calculations)") {
   // C = 1 / (2 pi R f): 1 k at 159.155 Hz takes 1 uF.
-  CHECK(cap_for(1e3, 1 / (2 * std::numbers::pi * 1e3 * 1e-6)) == doctest::Approx(1e-6));
+  CHECK(detail::cap_for(1e3, 1 / (2 * std::numbers::pi * 1e3 * 1e-6)) == doctest::Approx(1e-6));
   // Johnson-Nyquist 4 k T R: 1 k at 300 K = 1.6568e-17 V^2/Hz, the familiar 4.07 nV/sqrt(Hz).
   CHECK(thermal_v2(1e3, 26.85) == doctest::Approx(4 * 1.380649e-23 * 300 * 1e3).epsilon(1e-9));
   CHECK(std::sqrt(thermal_v2(1e3, 26.85)) == doctest::Approx(4.07e-9).epsilon(0.002));

@@ -13,7 +13,7 @@ using namespace shelfstage::stages::detail;
 
 namespace {
 
-devices::JfetInstance jfet(double idss, double vp_abs, double lambda) {
+devices::JfetInstance square_law_jfet(double idss, double vp_abs, double lambda) {
   devices::JfetInstance q;
   q.idss_a = idss;
   q.vp_abs_v = vp_abs;
@@ -39,7 +39,7 @@ TEST_CASE("jfet_orders: the series of ID = BETA (Vov + u)^2 (1 + lambda (VDS + w
   // Expanding by hand: BETA (Vov^2 + 2 Vov u + u^2)(1 + lambda VDS + lambda w); the terms of
   // order two and up are u^2 BETA (1 + lambda VDS), u w 2 BETA Vov lambda, u^2 w BETA lambda.
   // Checked against the law itself at a small (u, w): the series plus the linear part.
-  const auto q = jfet(5e-3, 2.0, 0.02);
+  const auto q = square_law_jfet(5e-3, 2.0, 0.02);
   const double vov = 0.8, vds = 6.0, beta = q.beta();
   const DeviceOrders k = jfet_orders(q, vov, vds);
   const auto law = [&](double u, double w) { return beta * std::pow(vov + u, 2) * (1 + 0.02 * (vds + w)); };
@@ -81,7 +81,7 @@ TEST_CASE("transfer: a square-law common source has only a second-order term, HD
   // vout = -RL BETA ((Vov + vin)^2 - Vov^2) = -RL (2 BETA Vov vin + BETA vin^2): o1 = -gm RL,
   // o2 = -BETA RL, nothing above. A cosine of peak A gives HD2 = o2 A^2/2 / (o1 A) = A/(4 Vov),
   // the classic square-law result.
-  const auto q = jfet(4e-3, 2.0, 0.0);
+  const auto q = square_law_jfet(4e-3, 2.0, 0.0);
   const double vov = 1.2, rl = 3.3e3, beta = q.beta(), gm = 2 * beta * vov;
   const Transfer t = transfer(grounded(gm, 0, rl), jfet_orders(q, vov, 6));
   CHECK(t.o[1] == doctest::Approx(-gm * rl).epsilon(1e-6));
@@ -127,7 +127,7 @@ TEST_CASE("transfer: emitter degeneration divides HD2 by (1 + gm RE)^2 at the sa
 TEST_CASE("finish_distortion: the rated level is where THD reaches the bound, or the clipping point") {
   // The square-law stage above: THD = |o2| L / (2 o1^2) exactly at output level L (no odd
   // terms), so THD = 1 % at L = 0.02 o1^2 / |o2| = 8 BETA Vov^2 RL x 1 %.
-  const auto q = jfet(4e-3, 2.0, 0.0);
+  const auto q = square_law_jfet(4e-3, 2.0, 0.0);
   const double vov = 1.2, rl = 3.3e3, beta = q.beta(), gm = 2 * beta * vov;
   const Transfer t = transfer(grounded(gm, 0, rl), jfet_orders(q, vov, 6));
   const double rated = 8 * beta * vov * vov * rl * 0.01;

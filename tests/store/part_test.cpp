@@ -19,7 +19,7 @@ bool mentions(const std::vector<std::string>& problems, std::string_view text) {
                      [&](const std::string& p) { return p.find(text) != std::string::npos; });
 }
 
-Part resistor(double ohms, int qty) {
+Part resistor_part(double ohms, int qty) {
   Part p;
   p.kind = PartKind::resistor;
   p.value = ohms;
@@ -78,13 +78,13 @@ TEST_CASE("polarised: electrolytic and tantalum capacitors are; bipolar ones and
     c.dielectric = d;
     CHECK_MESSAGE(!c.polarised(), d);
   }
-  Part r = resistor(1000, 1);
+  Part r = resistor_part(1000, 1);
   r.dielectric = "electrolytic";
   CHECK_FALSE(r.polarised());
 }
 
 TEST_CASE("part_problems: a sound resistor, capacitor and transistor pass") {
-  Part r = resistor(4700, 10);
+  Part r = resistor_part(4700, 10);
   r.tol = units::Tolerance{0.05, 0.05};
   r.power_w = 0.25;
   r.reserved = 10;
@@ -118,18 +118,18 @@ TEST_CASE("part_problems: a sound resistor, capacitor and transistor pass") {
 }
 
 TEST_CASE("part_problems names the field and the value") {
-  CHECK(mentions(store::part_problems(resistor(0, 1)), "value 0 must be above zero"));
+  CHECK(mentions(store::part_problems(resistor_part(0, 1)), "value 0 must be above zero"));
   CHECK(mentions(store::part_problems(resistor(-10, 1)), "value -10"));
-  CHECK(mentions(store::part_problems(resistor(std::numeric_limits<double>::quiet_NaN(), 1)), "value nan"));
-  CHECK(mentions(store::part_problems(resistor(100, -3)), "qty -3 is negative"));
+  CHECK(mentions(store::part_problems(resistor_part(std::numeric_limits<double>::quiet_NaN(), 1)), "value nan"));
+  CHECK(mentions(store::part_problems(resistor_part(100, -3)), "qty -3 is negative"));
 
-  Part r = resistor(100, 2);
+  Part r = resistor_part(100, 2);
   r.reserved = 3;
   CHECK(mentions(store::part_problems(r), "reserved 3 is more than qty 2"));
   r.reserved = -1;
   CHECK(mentions(store::part_problems(r), "reserved -1 is negative"));
 
-  r = resistor(100, 2);
+  r = resistor_part(100, 2);
   r.power_w = 0;
   CHECK(mentions(store::part_problems(r), "power 0 must be above zero"));
   r.power_w.reset();
@@ -170,7 +170,7 @@ TEST_CASE("part_problems names the field and the value") {
 
 namespace {
 
-devices::DeviceRecord njfet() {
+devices::DeviceRecord njfet_record() {
   devices::DeviceRecord d;
   d.name = "SJ-101";
   d.kind = devices::DeviceKind::njfet;
@@ -182,7 +182,7 @@ devices::DeviceRecord njfet() {
   return d;
 }
 
-devices::DeviceRecord npn() {
+devices::DeviceRecord npn_record() {
   devices::DeviceRecord d;
   d.name = "SQ-410";
   d.kind = devices::DeviceKind::npn;
@@ -221,35 +221,35 @@ devices::DeviceRecord opamp() {
 
 TEST_CASE("device_problems: VGS(off) sign follows the channel, ranges are ordered") {
   // Datasheet convention (docs/physics.md, Signs): VGS(off) < 0 for N-channel, > 0 for P-channel.
-  CHECK(store::device_problems(njfet()).empty());
-  CHECK(store::device_problems(npn()).empty());
+  CHECK(store::device_problems(njfet_record()).empty());
+  CHECK(store::device_problems(npn_record()).empty());
 
-  auto d = njfet();
+  auto d = njfet_record();
   d.jfet.vp_v = {0.5, 3.0, std::nullopt};
   CHECK(mentions(store::device_problems(d), "vp_min 0.5 must be negative for an N-channel JFET"));
   d.kind = devices::DeviceKind::pjfet;
   CHECK(store::device_problems(d).empty());
 
-  d = njfet();
+  d = njfet_record();
   d.jfet.idss_a = {5e-3, 1e-3, std::nullopt};
   CHECK(mentions(store::device_problems(d), "idss_min 0.005 is above idss_max 0.001"));
-  d = njfet();
+  d = njfet_record();
   d.jfet.idss_a.typ = 9e-3;
   CHECK(mentions(store::device_problems(d), "idss_typ 0.009 lies outside"));
-  d = njfet();
+  d = njfet_record();
   d.jfet.idss_a.min = 0;
   CHECK(mentions(store::device_problems(d), "idss_min 0 must be above 0"));
-  d = njfet();
+  d = njfet_record();
   d.jfet.cgs_f = -1e-12;
   CHECK(mentions(store::device_problems(d), "cgs"));
 
-  auto b = npn();
+  auto b = npn_record();
   b.bjt.hfe.typ = 500;
   CHECK(mentions(store::device_problems(b), "hfe_typ 500 lies outside"));
-  b = npn();
+  b = npn_record();
   b.bjt.vaf_v = 0;
   CHECK(mentions(store::device_problems(b), "vaf 0 must be above 0"));
-  b = npn();
+  b = npn_record();
   b.name = " ";
   CHECK(mentions(store::device_problems(b), "device name is empty"));
 }
@@ -337,30 +337,30 @@ TEST_CASE("piece_problems: a piece carries the figures of its device's kind") {
   m.device = "SJ-101";
   m.idss_a = 2.9e-3;
   m.vp_v = -1.45;
-  CHECK(store::piece_problems(m, njfet()).empty());
+  CHECK(store::piece_problems(m, njfet_record()).empty());
   m.vp_v = 1.45;
-  CHECK(mentions(store::piece_problems(m, njfet()), "vp 1.45 must be negative for NJFET 'SJ-101'"));
+  CHECK(mentions(store::piece_problems(m, njfet_record()), "vp 1.45 must be negative for NJFET 'SJ-101'"));
   m.vp_v.reset();
   m.idss_a.reset();
-  CHECK(mentions(store::piece_problems(m, njfet()), "neither idss nor vp"));
+  CHECK(mentions(store::piece_problems(m, njfet_record()), "neither idss nor vp"));
   m.idss_a = 2e-3;
   m.uncertainty = 1.5;
-  CHECK(mentions(store::piece_problems(m, njfet()), "uncertainty 1.5"));
+  CHECK(mentions(store::piece_problems(m, njfet_record()), "uncertainty 1.5"));
 
   devices::MeasuredPiece q;
   q.label = "Q3";
   q.device = "SQ-410";
   q.hfe = 287;
-  CHECK(store::piece_problems(q, npn()).empty());
+  CHECK(store::piece_problems(q, npn_record()).empty());
   q.vp_v = -1;
-  CHECK(mentions(store::piece_problems(q, npn()), "idss/vp given for BJT"));
+  CHECK(mentions(store::piece_problems(q, npn_record()), "idss/vp given for BJT"));
   q.vp_v.reset();
   q.hfe.reset();
-  CHECK(mentions(store::piece_problems(q, npn()), "hfe not measured"));
+  CHECK(mentions(store::piece_problems(q, npn_record()), "hfe not measured"));
 }
 
 TEST_CASE("describe: kind, value in SI notation, tolerance, ratings, bin") {
-  Part r = resistor(4700, 1);
+  Part r = resistor_part(4700, 1);
   r.tol = units::Tolerance{0.05, 0.05};
   r.bin = "A3";
   CHECK(store::describe(r) == "R 4.7k 5% bin A3");
