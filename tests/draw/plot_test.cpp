@@ -164,8 +164,8 @@ TEST_CASE("Plot::svg: layers, legend and ticks; Chromium parses and paints it") 
   const auto dir = std::filesystem::temp_directory_path() / ("shelfstage-plot-test-" + std::to_string(rd()));
   std::filesystem::create_directories(dir);
   std::ofstream(dir / "plot.svg") << svg;
-  CHECK(shelfstage::test::dump_dom((dir / "plot.svg").string()).find("parsererror") == std::string::npos);
-  const auto run = shelfstage::test::render((dir / "plot.svg").string(), 700, 400);
+  const auto run = shelfstage::test::render((dir / "plot.svg").string(), 700, 400, {.dom = true});
+  CHECK(run.dom.find("parsererror") == std::string::npos);
   CHECK(run.console.empty());
   REQUIRE(!run.screenshot.empty());
   const auto img = shelfstage::test::decode_png(run.screenshot);

@@ -592,8 +592,8 @@ TEST_CASE("schematic_svg: Chromium parses and paints it; every designator is in 
     CHECK(test::foreign_colours(svg).empty());
     const std::string path = dir + "/" + v.topology + ".svg";
     std::ofstream(path) << svg;
-    CHECK(test::dump_dom(path).find("parsererror") == std::string::npos);
-    const auto run = test::render(path, 760, 620);
+    const auto run = test::render(path, 760, 620, {.dom = true});
+    CHECK(run.dom.find("parsererror") == std::string::npos);
     CHECK(run.console.empty());
     REQUIRE(!run.screenshot.empty());
     const auto img = test::decode_png(run.screenshot);

@@ -118,8 +118,9 @@ std::string check_report(const report::ReportInput& in, const std::string& html,
   for (std::size_t at = html.find("<svg"); at != std::string::npos; at = html.find("<svg", at + 1)) ++svgs;
   CHECK(svgs == expected_svgs);  // schematic, gain, phase, bias (none for an op-amp), transfer, sine
 
-  // Rendered: not blank, and not a word on the console.
-  const auto run = test::render(page, 1200, 2400);
+  // Rendered: not blank, and not a word on the console (the DOM and the PDF print from the
+  // same launch).
+  const auto run = test::render(page, 1200, 2400, {.dom = true, .pdf = true});
   CHECK_MESSAGE(run.console.empty(), run.log);
   REQUIRE(!run.screenshot.empty());
   const auto img = test::decode_png(run.screenshot);
@@ -128,7 +129,7 @@ std::string check_report(const report::ReportInput& in, const std::string& html,
   CHECK(test::inked_fraction(img) > 0.5);  // the paper column on the grey page, and what is on it
 
   // Every part by its designator, in the page as the browser built it.
-  const std::string dom = test::dump_dom(page);
+  const std::string dom = run.dom;
   for (const auto& rp : in.candidate.parts)
     CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
   CHECK(dom.find(">" + device + "<") != std::string::npos);
@@ -136,7 +137,7 @@ std::string check_report(const report::ReportInput& in, const std::string& html,
     CHECK_MESSAGE(dom.find(std::string("<section id=\"") + id + "\"") != std::string::npos, id);
 
   // It prints: a PDF of a few A4 pages.
-  const std::string pdf = test::print_pdf(page);
+  const std::string& pdf = run.pdf;
   REQUIRE(pdf.starts_with("%PDF-"));
   const int pages = test::pdf_pages(pdf);
   CHECK(pages >= 2);
@@ -249,13 +250,13 @@ TEST_CASE("html_report: a chain renders whole, the chain first and then each sta
   const std::string xhtml = dir + "/chain.xhtml";
   std::ofstream(xhtml, std::ios::binary) << html;
   CHECK(test::dump_dom(xhtml).find("parsererror") == std::string::npos);
-  const auto run = test::render(page, 1200, 2400);
+  const auto run = test::render(page, 1200, 2400, {.dom = true, .pdf = true});
   CHECK_MESSAGE(run.console.empty(), run.log);
   REQUIRE(!run.screenshot.empty());
   const auto img = test::decode_png(run.screenshot);
   CHECK(test::distinct_colours(img) > 200);
   CHECK(test::inked_fraction(img) > 0.5);
-  const std::string dom = test::dump_dom(page);
+  const std::string& dom = run.dom;
   for (const auto& rp : in.candidate.parts)
     CHECK_MESSAGE(dom.find(">" + rp.designator + "<") != std::string::npos, rp.designator);
   for (std::size_t k = 0; k < in.candidate.stages.size(); ++k) {
@@ -266,7 +267,7 @@ TEST_CASE("html_report: a chain renders whole, the chain first and then each sta
   }
   for (const char* id : {"stages", "response", "pick", "cautions"})
     CHECK_MESSAGE(dom.find(std::string("<section id=\"") + id + "\"") != std::string::npos, id);
-  const std::string pdf = test::print_pdf(page);
+  const std::string& pdf = run.pdf;
   REQUIRE(pdf.starts_with("%PDF-"));
   CHECK(test::pdf_pages(pdf) >= 2);
   if (std::getenv("SHELFSTAGE_KEEP_REPORTS") == nullptr) std::filesystem::remove_all(dir);

@@ -61,20 +61,27 @@ std::string chromium_program() {
   return p;
 }
 
-BrowserRun render(const std::string& path, int width, int height) {
+BrowserRun render(const std::string& path, int width, int height, RenderAlso also) {
   const std::string program = chromium_program();
   Scratch s("shelfstage-browser-");
   const auto png = s.path / "shot.png";
   const auto err = s.path / "stderr.txt";
+  const auto dom = s.path / "dom.html";
+  const auto pdf = s.path / "page.pdf";
   const std::string url = "file://" + std::filesystem::absolute(path).string();
-  const std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) + " --enable-logging=stderr --v=0 " +
-                          "--hide-scrollbars --screenshot=" + quote(png.string()) +
-                          " --window-size=" + std::to_string(width) + "," + std::to_string(height) + " " + quote(url) +
-                          " >/dev/null 2>" + quote(err.string());
+  std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) + " --enable-logging=stderr --v=0 " +
+                    "--hide-scrollbars --screenshot=" + quote(png.string()) +
+                    " --window-size=" + std::to_string(width) + "," + std::to_string(height);
+  if (also.dom) cmd += " --dump-dom";
+  if (also.pdf) cmd += " --no-pdf-header-footer --print-to-pdf=" + quote(pdf.string());
+  cmd += " " + quote(url) + " >" + (also.dom ? quote(dom.string()) : std::string("/dev/null")) + " 2>" +
+         quote(err.string());
   BrowserRun r;
   r.exit_status = run_shell(cmd);
   r.log = slurp(err);
   if (std::filesystem::exists(png)) r.screenshot = slurp(png);
+  if (also.dom) r.dom = slurp(dom);
+  if (also.pdf && std::filesystem::exists(pdf)) r.pdf = slurp(pdf);
   std::istringstream in(r.log);
   for (std::string line; std::getline(in, line);)
     if (line.find(":CONSOLE") != std::string::npos || line.find("Uncaught") != std::string::npos)
@@ -92,18 +99,6 @@ std::string dump_dom(const std::string& path) {
   const int status = run_shell(cmd);
   if (status != 0) throw std::runtime_error("chromium --dump-dom exited with status " + std::to_string(status));
   return slurp(out);
-}
-
-std::string print_pdf(const std::string& path) {
-  const std::string program = chromium_program();
-  Scratch s("shelfstage-browser-");
-  const auto pdf = s.path / "page.pdf";
-  const std::string url = "file://" + std::filesystem::absolute(path).string();
-  const std::string cmd = "timeout 120 " + quote(program) + " " + flags(s) +
-                          " --no-pdf-header-footer --print-to-pdf=" + quote(pdf.string()) + " " + quote(url) +
-                          " >/dev/null 2>/dev/null";
-  run_shell(cmd);
-  return std::filesystem::exists(pdf) ? slurp(pdf) : std::string();
 }
 
 int pdf_pages(const std::string& pdf) {

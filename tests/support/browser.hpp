@@ -18,21 +18,29 @@ struct BrowserRun {
   std::vector<std::string> console;  ///< console messages and uncaught errors, one per line
   std::string log;                   ///< the whole stderr, for failure messages
   int exit_status = 0;
+  std::string dom;  ///< as dump_dom() gives it, when asked for (RenderAlso::dom)
+  std::string pdf;  ///< the PDF print's bytes, when asked for (RenderAlso::pdf; empty if none was written)
+};
+
+/// What else one render() launch is to leave behind (Chromium does each in the same run, so
+/// a page checked three ways starts the browser once, not three times).
+struct RenderAlso {
+  bool dom = false;  ///< the DOM after loading (--dump-dom)
+  /// The page printed as Chromium does for paper (--print-to-pdf: the print stylesheet
+  /// applies), without Chromium's header and footer.
+  bool pdf = false;
 };
 
 /// Loads file:///path in a fresh profile (--headless --no-sandbox --disable-gpu --no-first-run
 /// --disable-background-networking ...), takes a screenshot of width x height and collects
-/// every console line. Throws std::runtime_error if the program cannot be started.
-BrowserRun render(const std::string& path, int width, int height);
+/// every console line; with `also`, the DOM and the PDF print as well. Throws
+/// std::runtime_error if the program cannot be started.
+BrowserRun render(const std::string& path, int width, int height, RenderAlso also = {});
 
 /// The DOM after loading, as Chromium serialises it (--dump-dom). For an .svg or .xhtml file
 /// Chromium parses with its XML parser and inserts a <parsererror> element when the file is
 /// not well formed.
 std::string dump_dom(const std::string& path);
-
-/// Prints the page to PDF as Chromium does for paper (the print stylesheet applies), without
-/// Chromium's header and footer, and returns the PDF's bytes (empty if none was written).
-std::string print_pdf(const std::string& path);
 
 /// The number of pages of a PDF as Chromium writes it (its /Type /Page objects).
 int pdf_pages(const std::string& pdf);
