@@ -5,6 +5,7 @@
 
 #include <doctest/doctest.h>
 
+#include <fmt/format.h>
 #include <regex>
 
 #include "shelfstage/circuit/solver.hpp"
@@ -241,6 +242,34 @@ TEST_CASE("Test support: ngspice's print, meas and fourier output is parsed") {
   REQUIRE(f.count("v(out)") == 1);
   REQUIRE(f.at("v(out)").size() == 3);
   CHECK(f.at("v(out)")[2] == doctest::Approx(0.000509641));
+}
+
+TEST_CASE("Test support: a batch of netlists through one ngspice gives each its own values, as lone runs do") {
+  // Dividers of 1 V with R2 = 1k .. 5k over R1 = 1k: V(mid) = R2 / (R1 + R2), each printed by its
+  // own netlist, under the same vector name. The second sets reltol, which must not reach the
+  // third (ngspice's `option` with no argument lists the settings in force).
+  std::vector<std::string> nets;
+  for (int k = 1; k <= 5; ++k)
+    nets.push_back(
+        fmt::format("divider {}\nV1 in 0 1\nR1 in mid 1k\nR2 mid 0 {}k\n.control\n{}op\nlet vmid = "
+                    "v(mid)\nprint vmid\n{}.endc\n.end\n",
+                    k, k, k == 2 ? "option reltol=1e-5\n" : "", k == 3 ? "option\n" : ""));
+  const auto runs = test::run_ngspice_batch(nets);
+  REQUIRE(runs.size() == nets.size());
+  for (int k = 1; k <= 5; ++k) {
+    const auto& r = runs[static_cast<std::size_t>(k - 1)];
+    CAPTURE(r.output);
+    CHECK(r.get("vmid") == doctest::Approx(k / (1.0 + k)).epsilon(1e-6));
+    CHECK(r.netlist == nets[static_cast<std::size_t>(k - 1)]);
+    CHECK(r.output.find(fmt::format("divider {}", k == 5 ? 1 : k + 1)) == std::string::npos);
+  }
+  const std::string& listed = runs[2].output;
+  const std::size_t at = listed.find("reltol");
+  REQUIRE(at != std::string::npos);
+  CHECK(listed.substr(at, listed.find('\n', at) - at).find("= 0.001") != std::string::npos);
+  // The same netlist alone gives the same value.
+  CHECK(test::run_ngspice(nets[3]).get("vmid") == doctest::Approx(runs[3].get("vmid")).epsilon(1e-12));
+  CHECK(test::run_ngspice_batch({}).empty());
 }
 
 namespace {

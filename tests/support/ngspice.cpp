@@ -12,6 +12,7 @@
 #include <regex>
 #include <sstream>
 #include <stdexcept>
+#include <utility>
 #include <sys/wait.h>
 
 namespace shelfstage::test {
@@ -110,30 +111,75 @@ std::vector<std::string> SpiceRun::error_lines() const {
   return bad;
 }
 
-SpiceRun run_ngspice(const std::string& netlist) {
+namespace {
+
+// Runs ngspice -b on `file` inside `dir` (so nothing ngspice might write lands elsewhere):
+// its stdout and stderr together, and its exit status.
+std::pair<std::string, int> run_in(const std::filesystem::path& dir, const std::string& file) {
   const std::string program = ngspice_program();
-  Scratch dir("shelfstage-ngspice-");
-  const auto file = dir.path / "stage.cir";
-  {
-    std::ofstream f(file);
-    f << netlist;
-    if (!f) throw std::runtime_error("cannot write " + file.string());
-  }
-  // Run inside the scratch folder so nothing ngspice might write lands elsewhere.
-  const std::string cmd = "cd " + quote(dir.path.string()) + " && " + quote(program) + " -b stage.cir 2>&1";
+  const std::string cmd = "cd " + quote(dir.string()) + " && " + quote(program) + " -b " + quote(file) + " 2>&1";
   FILE* pipe = ::popen(cmd.c_str(), "r");
   if (!pipe) throw std::runtime_error("cannot start " + program);
-  SpiceRun run;
-  run.netlist = netlist;
-
+  std::string output;
   std::array<char, 4096> buf{};
   std::size_t n = 0;
-  while ((n = std::fread(buf.data(), 1, buf.size(), pipe)) > 0) run.output.append(buf.data(), n);
+  while ((n = std::fread(buf.data(), 1, buf.size(), pipe)) > 0) output.append(buf.data(), n);
   const int status = ::pclose(pipe);
-  run.exit_status = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  return {output, WIFEXITED(status) ? WEXITSTATUS(status) : -1};
+}
+
+void write_file(const std::filesystem::path& file, const std::string& text) {
+  std::ofstream f(file);
+  f << text;
+  if (!f) throw std::runtime_error("cannot write " + file.string());
+}
+
+SpiceRun parsed(const std::string& netlist, std::string output, int status) {
+  SpiceRun run;
+  run.netlist = netlist;
+  run.output = std::move(output);
+  run.exit_status = status;
   run.values = parse_values(run.output);
   run.fourier = parse_fourier(run.output);
   return run;
+}
+
+}  // namespace
+
+SpiceRun run_ngspice(const std::string& netlist) {
+  Scratch dir("shelfstage-ngspice-");
+  write_file(dir.path / "stage.cir", netlist);
+  auto [output, status] = run_in(dir.path, "stage.cir");
+  return parsed(netlist, std::move(output), status);
+}
+
+std::vector<SpiceRun> run_ngspice_batch(const std::vector<std::string>& netlists) {
+  if (netlists.empty()) return {};
+  Scratch dir("shelfstage-ngspice-");
+  // A marker line before each netlist's output and one after the last.
+  const std::string mark = "@@shelfstage-batch-";
+  std::string driver = "* shelfstage batch driver\n.control\n";
+  for (std::size_t i = 0; i < netlists.size(); ++i) {
+    const std::string name = "c" + std::to_string(i) + ".cir";
+    write_file(dir.path / name, netlists[i]);
+    driver += "echo " + mark + std::to_string(i) + "\nsource " + name + "\n";
+  }
+  driver += "echo " + mark + "end\n.endc\n.end\n";
+  write_file(dir.path / "driver.cir", driver);
+  const auto [output, status] = run_in(dir.path, "driver.cir");
+  std::vector<SpiceRun> runs;
+  std::size_t at = output.find(mark + "0\n");
+  for (std::size_t i = 0; i < netlists.size(); ++i) {
+    const std::string next = mark + (i + 1 < netlists.size() ? std::to_string(i + 1) : std::string("end")) + "\n";
+    const std::size_t end = at == std::string::npos ? at : output.find(next, at);
+    if (end == std::string::npos)
+      throw std::runtime_error("ngspice stopped before netlist " + std::to_string(i + 1) + " of " +
+                               std::to_string(netlists.size()) + " in a batch; its output:\n" + output);
+    const std::size_t from = output.find('\n', at) + 1;
+    runs.push_back(parsed(netlists[i], output.substr(from, end - from), status));
+    at = end;
+  }
+  return runs;
 }
 
 }  // namespace shelfstage::test

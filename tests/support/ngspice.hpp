@@ -35,6 +35,15 @@ std::string ngspice_program();
 /// Throws std::runtime_error if the program cannot be started.
 SpiceRun run_ngspice(const std::string& netlist);
 
+/// Runs several netlists through one ngspice process and returns one SpiceRun per netlist, in
+/// order, each with the part of the output printed for it. A driver sources each netlist in
+/// turn: each one's .control block runs on its own circuit, with its own plots and vectors,
+/// and `option` settings do not carry over to the next. Starting ngspice costs about as much as
+/// a small circuit's analyses, so the checks that run thousands of builds batch them.
+/// Throws std::runtime_error if the program cannot be started or the output is not split as
+/// expected (ngspice stopped part way).
+std::vector<SpiceRun> run_ngspice_batch(const std::vector<std::string>& netlists);
+
 /// Parses `name = value` lines (exposed for tests of the parser itself).
 std::map<std::string, double> parse_values(const std::string& text);
 /// Parses the tables the `fourier` command prints.

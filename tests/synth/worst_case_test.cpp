@@ -88,7 +88,16 @@ circuit::Circuit netlist_of(const synth::Candidate& c, const Build& b) {
   return b.stages.front().topology->netlist(b.stages.front().values, b.stages.front().q, b.cond);
 }
 
-Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_zin) {
+/// A build's netlist for ngspice (operating point, then the AC figures) and what reading its
+/// output needs.
+struct Probe {
+  std::string netlist;
+  std::string pins[3];  ///< gate/base/+ input, source/emitter/- input, drain/collector/output
+  bool transistor = false;
+  std::map<std::string, std::pair<std::string, std::string>> caps;  ///< polarised: + and - nodes
+};
+
+Probe probe_of(const synth::Candidate& c, const Build& b, double f_mid, double f_zin) {
   const circuit::Circuit net = netlist_of(c, b);
   // The first device: a transistor, or an op-amp's model (its elements U1.VOS, U1.G1 and
   // U1.ROUT name its + input, - input and output: docs/physics.md).
@@ -100,31 +109,31 @@ Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_z
     if (el.c.role == stages::kRoleDeviceModel && el.c.designator.ends_with(".VOS")) vos = &el;
   }
   REQUIRE((q != nullptr || vos != nullptr));
+  Probe p;
+  p.transistor = q != nullptr;
   const bool jfet = q && q->c.kind == circuit::ElementKind::jfet;
   std::vector<std::string> lines = {".control", "op"};
   auto v_at = [&](std::size_t net_index) {
     const std::string n = circuit::spice_net(net, net_index);
     return n == "0" ? std::string("0") : "v(" + n + ")";
   };
-  std::string pins[3];  // gate/base/+ input, source/emitter/- input, drain/collector/output
   if (q) {
-    pins[0] = v_at(q->c.pins[1]);
-    pins[1] = v_at(q->c.pins[2]);
-    pins[2] = v_at(q->c.pins[0]);
+    p.pins[0] = v_at(q->c.pins[1]);
+    p.pins[1] = v_at(q->c.pins[2]);
+    p.pins[2] = v_at(q->c.pins[0]);
   } else {
     const std::string u = vos->c.designator.substr(0, vos->c.designator.size() - 4);
-    pins[0] = v_at(vos->c.pins[1]);
-    pins[1] = v_at(net.find(u + ".G1")->c.pins[3]);
-    pins[2] = v_at(net.find(u + ".ROUT")->c.pins[1]);
+    p.pins[0] = v_at(vos->c.pins[1]);
+    p.pins[1] = v_at(net.find(u + ".G1")->c.pins[3]);
+    p.pins[2] = v_at(net.find(u + ".ROUT")->c.pins[1]);
   }
   std::string print = "print";
-  for (const auto& p : pins)
-    if (p != "0") print += " " + p;
-  std::map<std::string, std::pair<std::string, std::string>> caps;
+  for (const auto& pin : p.pins)
+    if (pin != "0") print += " " + pin;
   for (const auto& rp : c.parts)
     if (rp.kind == 'C' && rp.polarised) {
       REQUIRE_MESSAGE(!rp.plus_node.empty(), rp.designator, " has no + lead named");
-      caps[rp.designator] = {rp.plus_node, rp.minus_node};
+      p.caps[rp.designator] = {rp.plus_node, rp.minus_node};
       for (const auto& n : {rp.plus_node, rp.minus_node})
         if (n != "0") print += " v(" + n + ")";
     }
@@ -155,7 +164,12 @@ Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_z
   o.title = c.topology_name() + " " + b.label;
   o.celsius = b.cond.celsius;
   o.analyses = lines;
-  const SpiceRun r = run_ngspice(circuit::to_spice(net, o));
+  p.netlist = circuit::to_spice(net, o);
+  return p;
+}
+
+/// What ngspice says of a build, from the output of its probe.
+Sim read_probe(const Probe& p, const Build& b, const SpiceRun& r) {
   INFO(r.output);
   Sim s;
   s.gain = (r.get("gre") < 0 ? -1.0 : 1.0) * r.get("gmid");
@@ -164,12 +178,12 @@ Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_z
   s.zin = r.get("vinm") / r.get("isigm");
   s.zout = b.cond.load_ohm * (r.get("vopen") / r.get("gmid") - 1.0);
   s.supply_a = r.get("supply_current");
-  s.bias_a = q ? r.get("iq") : -1.0;  // an op-amp's is its record's supply current: not simulated
-  auto v = [&](const std::string& p) { return p == "0" ? 0.0 : r.get(p); };
-  s.v_in = v(pins[0]);
-  s.v_common = v(pins[1]);
-  s.v_out = v(pins[2]);
-  for (const auto& [des, nodes] : caps)
+  s.bias_a = p.transistor ? r.get("iq") : -1.0;  // an op-amp's is its record's supply current: not simulated
+  auto v = [&](const std::string& pin) { return pin == "0" ? 0.0 : r.get(pin); };
+  s.v_in = v(p.pins[0]);
+  s.v_common = v(p.pins[1]);
+  s.v_out = v(p.pins[2]);
+  for (const auto& [des, nodes] : p.caps)
     s.dc[des] = v(nodes.first == "0" ? "0" : "v(" + nodes.first + ")") -
                 v(nodes.second == "0" ? "0" : "v(" + nodes.second + ")");
   return s;
@@ -180,8 +194,9 @@ Sim simulate(const synth::Candidate& c, const Build& b, double f_mid, double f_z
 /// last. The coupling and bypass capacitors are held at the DC they charged to (sources of
 /// that voltage, from shelfstage's operating point of the build): the figure is a mid-band
 /// one, and a transient long enough for 2 Hz coupling corners to settle would take minutes.
-/// The input is sized from the build's own gain (ngspice's, from simulate()).
-double simulate_thd(const synth::Candidate& c, const Build& b, double gain, double level, double f_hz) {
+/// The input is sized from the build's own gain (ngspice's, from the probe). This is the
+/// netlist; read_thd() reads its output.
+std::string thd_netlist(const synth::Candidate& c, const Build& b, double gain, double level, double f_hz) {
   const circuit::Circuit net = netlist_of(c, b);
   circuit::SolverOptions so;
   so.celsius = b.cond.celsius;
@@ -200,13 +215,37 @@ double simulate_thd(const synth::Candidate& c, const Build& b, double gain, doub
                 fmt::format("tran {0:.6g} {1:.6g} 0 {0:.6g}", period / 1000, 6 * period),
                 fmt::format("fourier {:.6g} v(out)", f_hz), ".endc"};
   o.signal_transient = fmt::format("SIN(0 {:.6g} {:.6g})", level / std::abs(gain), f_hz);
-  const SpiceRun r = run_ngspice(circuit::to_spice(held, o));
+  return circuit::to_spice(held, o);
+}
+
+double read_thd(const SpiceRun& r) {
   const auto it = r.fourier.find("v(out)");
   REQUIRE_MESSAGE((it != r.fourier.end() && it->second.size() >= 4), "no Fourier table:\n", r.output);
   const std::vector<double>& h = it->second;
   double sum = 0;
   for (std::size_t k = 2; k < h.size(); ++k) sum += h[k] * h[k];
   return std::sqrt(sum) / h[1];
+}
+
+/// Runs the netlists through ngspice on two threads, a batch of up to 16 per process (the
+/// start of ngspice costs about as much as one build's analyses).
+std::vector<SpiceRun> run_all(const std::vector<std::string>& netlists) {
+  constexpr std::size_t kBatch = 16;
+  std::vector<std::vector<std::string>> batches;
+  for (std::size_t i = 0; i < netlists.size(); i += kBatch)
+    batches.emplace_back(netlists.begin() + static_cast<std::ptrdiff_t>(i),
+                         netlists.begin() + static_cast<std::ptrdiff_t>(std::min(netlists.size(), i + kBatch)));
+  std::vector<std::vector<SpiceRun>> done(batches.size());
+  auto half = [&](std::size_t first) {
+    for (std::size_t k = first; k < batches.size(); k += 2) done[k] = run_ngspice_batch(batches[k]);
+  };
+  auto other = std::async(std::launch::async, half, 1);
+  half(0);
+  other.get();
+  std::vector<SpiceRun> out;
+  for (auto& d : done)
+    for (auto& r : d) out.push_back(std::move(r));
+  return out;
 }
 
 /// The builds a practitioner checks: every stage at a limit piece (all stages at the same
@@ -535,20 +574,24 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
       REQUIRE((w.f_high.min == 0 || f_mid < w.f_high.min / 20));
       const double f_zin = 40 * w.f_low.max;
       const std::vector<Build> builds = builds_of(c, req.spec);
-      // Two at a time (ngspice is one process per build).
-      std::vector<Sim> sims(builds.size());
+      std::vector<Probe> probes;
+      std::vector<std::string> netlists;
+      for (const auto& b : builds) {
+        probes.push_back(probe_of(c, b, f_mid, f_zin));
+        netlists.push_back(probes.back().netlist);
+      }
+      const std::vector<SpiceRun> probed = run_all(netlists);
+      std::vector<Sim> sims;
+      for (std::size_t i = 0; i < builds.size(); ++i) sims.push_back(read_probe(probes[i], builds[i], probed[i]));
       // With a swing requested, THD at its peak too (at 1 kHz, or mid-band without a band).
       const double level = req.spec.swing_vpp ? *req.spec.swing_vpp / 2 : 0.0;
       const double f_thd = req.spec.band_hz ? std::min(1e3, f_mid) : 1e3;
-      auto run = [&](std::size_t i) {
-        Sim s = simulate(c, builds[i], f_mid, f_zin);
-        if (level > 0) s.thd = simulate_thd(c, builds[i], s.gain, level, f_thd);
-        return s;
-      };
-      for (std::size_t i = 0; i < builds.size(); i += 2) {
-        auto a = std::async(std::launch::async, [&, i] { return run(i); });
-        if (i + 1 < builds.size()) sims[i + 1] = run(i + 1);
-        sims[i] = a.get();
+      if (level > 0) {
+        netlists.clear();
+        for (std::size_t i = 0; i < builds.size(); ++i)
+          netlists.push_back(thd_netlist(c, builds[i], sims[i].gain, level, f_thd));
+        const std::vector<SpiceRun> thd = run_all(netlists);
+        for (std::size_t i = 0; i < builds.size(); ++i) sims[i].thd = read_thd(thd[i]);
       }
       for (std::size_t i = 0; i < builds.size(); ++i) {
         const Sim& s = sims[i];
