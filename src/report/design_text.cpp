@@ -93,8 +93,13 @@ std::string spec_line(const synth::Spec& s) {
   if (s.band_hz)
     out += fmt::format(", band {}..{}", format_value(s.band_hz->first, Unit::hertz),
                        format_value(s.band_hz->second, Unit::hertz));
-  if (s.swing_vpp) out += fmt::format(", swing {} Vpp", format_value(*s.swing_vpp));
-  out += fmt::format(", THD ≤ {:g} %", 100 * s.max_thd);
+  // The distortion bound holds at the swing asked for; without one there is no level to hold
+  // it at, and the search does not apply it (synth::detail::violation), so the line says so
+  // rather than promise it, when a bound other than the default was given.
+  if (s.swing_vpp)
+    out += fmt::format(", swing {} Vpp at THD ≤ {:g} %", format_value(*s.swing_vpp), 100 * s.max_thd);
+  else if (s.max_thd != synth::Spec{}.max_thd)
+    out += fmt::format(", THD ≤ {:g} % not applied (it holds at a swing; none asked)", 100 * s.max_thd);
   if (s.prefer == synth::Spec::Prefer::distortion) out += ", preferring low distortion";
   if (s.max_current_a) out += fmt::format(", ≤ {}", format_value(*s.max_current_a, Unit::ampere));
   if (s.temp_c) out += fmt::format(", {:g}..{:g} °C", s.temp_c->first, s.temp_c->second);

@@ -60,7 +60,12 @@ TEST_CASE("spec_line: the request in words, the gain in decibels, the rail as th
   std::string line = report::spec_line(s);
   // 20 log10(10) = 20 dB (IEC 60027-3: the level of a voltage ratio).
   CHECK(line.rfind("gain 10.0 (20.0 dB) into 10kΩ, +9V rail, ground at the battery's - terminal", 0) == 0);
-  CHECK(line.find("THD ≤ 1 %") != std::string::npos);
+  // No swing asked: the distortion bound is not applied (it holds at a swing), so the
+  // default one is not shown and one given is shown as not applied.
+  CHECK(line.find("THD") == std::string::npos);
+  s.max_thd = 0.003;
+  CHECK(report::spec_line(s).find("THD ≤ 0.3 % not applied (it holds at a swing; none asked)") != std::string::npos);
+  s.max_thd = synth::Spec{}.max_thd;
   CHECK(line.find("1 copy") != std::string::npos);
   CHECK(line.ends_with(report::spread_words(s)));
   // Half: 20 log10(0.5) = -6.02 dB; every option shown once given.
@@ -77,8 +82,8 @@ TEST_CASE("spec_line: the request in words, the gain in decibels, the rail as th
   s.prefer = synth::Spec::Prefer::distortion;
   line = report::spec_line(s);
   for (const char* part :
-       {"gain 0.500 (-6.0 dB) into 10kΩ || 220pF from 600Ω", "Zin ≥ 1MΩ", "band 20Hz..20kHz", "swing 2 Vpp",
-        "preferring low distortion", "≤ 2mA", "0..70 °C", "4 copies", "piece bag 3"}) {
+       {"gain 0.500 (-6.0 dB) into 10kΩ || 220pF from 600Ω", "Zin ≥ 1MΩ", "band 20Hz..20kHz",
+        "swing 2 Vpp at THD ≤ 1 %", "preferring low distortion", "≤ 2mA", "0..70 °C", "4 copies", "piece bag 3"}) {
     INFO(part);
     CHECK(line.find(part) != std::string::npos);
   }
