@@ -262,15 +262,19 @@ void assemble_dc(const Circuit& c, const Layout& l, const Eigen::VectorXd& x, do
 // Newton from x; true on convergence.
 bool newton(const Circuit& c, const Layout& l, Eigen::VectorXd& x, double gshunt, double scale, DcState& st,
             const SolverOptions& o, int& iterations) {
-  Eigen::MatrixXd A;
-  Eigen::VectorXd b;
+  // The system's storage, the factorisation's and the step's, allocated once for every
+  // iteration (a circuit's solve takes tens of them, and the sweeps thousands of solves).
+  const auto size = static_cast<long>(l.size());
+  Eigen::MatrixXd A(size, size), A2(size, size);
+  Eigen::VectorXd b(size), b2(size), dx(size), r(size);
+  Eigen::PartialPivLU<Eigen::MatrixXd> lu(size);
   for (int it = 0; it < o.max_iterations; ++it) {
     ++iterations;
     assemble_dc(c, l, x, gshunt, scale, st, true, A, b);
-    Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
-    Eigen::VectorXd xn = lu.solve(b);
-    if (!xn.allFinite()) return false;
-    Eigen::VectorXd dx = xn - x;
+    lu.compute(A);
+    dx.noalias() = lu.solve(b);
+    if (!dx.allFinite()) return false;
+    dx -= x;
     // Damping: no node moves more than 2 V in one step.
     double worst = 0;
     for (std::size_t n = 0; n < l.nodes; ++n) worst = std::max(worst, std::abs(dx(static_cast<long>(n))));
@@ -282,10 +286,9 @@ bool newton(const Circuit& c, const Layout& l, Eigen::VectorXd& x, double gshunt
     if (done && it > 0) {
       // Confirm the junction limiting did not bend the last step.
       DcState check = st;
-      Eigen::MatrixXd A2;
-      Eigen::VectorXd b2;
       assemble_dc(c, l, x, gshunt, scale, check, false, A2, b2);
-      const Eigen::VectorXd r = A2 * x - b2;
+      r.noalias() = A2 * x;
+      r -= b2;
       if (r.head(static_cast<long>(l.nodes)).cwiseAbs().maxCoeff() < 1e-9 + o.abstol_a * 1e3) return true;
     }
   }
