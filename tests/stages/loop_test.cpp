@@ -26,24 +26,31 @@ namespace {
 
 // The stage's bench with the loop broken at the end of RF (and of CF beside it, when fitted)
 // on the loop's net, measured by ngspice (support/spice_loop.hpp).
-SpiceLoop spice_loop(const StageCase& sc, double f_mid) {
+std::string loop_netlist(const StageCase& sc, double f_mid) {
   const stages::Topology& t = *sc.topology;
   std::vector<std::string> moved = {std::string(t.roles()[t.role_index("RF")].designator)};
   if (const std::size_t cf = t.role_index("CF"); cf < t.roles().size() && sc.values[cf] > 0)
     moved.emplace_back(t.roles()[cf].designator);
-  return spice_loop_gain(t.netlist(sc.values, sc.q, sc.c), moved, std::string(t.feedback_loop()->net), f_mid,
-                         sc.c.celsius);
+  return spice_loop_netlist(t.netlist(sc.values, sc.q, sc.c), moved, std::string(t.feedback_loop()->net), f_mid,
+                            sc.c.celsius);
+}
+
+SpiceLoop spice_loop(const StageCase& sc, double f_mid) {
+  return read_spice_loop(run_ngspice(loop_netlist(sc, f_mid)));
 }
 
 // ngspice's upper -3 dB corner of the stage, against a mid-band gain given (the evaluators'
 // own, with every capacitor as mid-band takes it): with CF the response falls slowly toward
 // one above the zero, and a level read off the sweep at some frequency (where the coupling
 // capacitors still take a few parts in a thousand) would move the corner by a per cent.
-double spice_f_high(const StageCase& sc, double mid_gain) {
+std::string f_high_netlist(const StageCase& sc, double mid_gain) {
   const std::vector<std::string> a = {
       ".control", "ac dec 100 0.01 1e10",
       fmt::format("meas ac fhi when vm(out)={:.9g} fall=last", std::abs(mid_gain) / std::numbers::sqrt2), ".endc"};
-  const SpiceRun r = run_ngspice(stage_netlist(sc, a));
+  return stage_netlist(sc, a);
+}
+
+double read_f_high(const SpiceRun& r) {
   INFO(r.output);
   return r.get("fhi");
 }
@@ -96,6 +103,16 @@ TEST_CASE("loop gain of the feedback pairs against ngspice, with load capacitanc
   // evaluators against ngspice's AC sweep (CF is open at mid-band, as ngspice's sweep has it;
   // held as a short, the exact solver once read a gain of one there).
   int compared = 0, with_cf = 0, shortened = 0;
+  // Every case first, then all of them through ngspice in batches (test::run_ngspice_batch),
+  // then the checks.
+  struct Case {
+    StageCase sc;
+    double load_f = 0, f_zero = 0, f_mid = 0;
+    Performance fast, exact;
+    stages::LoopGain ours;
+  };
+  std::vector<Case> all;
+  std::vector<std::string> netlists;
   for (const char* name : {"bjt-fb-pair", "jfet-fb-pair", "bjt-fb-pair-same"}) {
     const stages::Topology& t = *stages::find_topology(name);
     const std::size_t rf = t.role_index("RF"), cf = t.role_index("CF");
@@ -105,41 +122,65 @@ TEST_CASE("loop gain of the feedback pairs against ngspice, with load capacitanc
       if (!t.evaluate(cases[i].values, cases[i].q, cases[i].c).active) continue;
       for (const double load_f : {0.0, 47e-9})
         for (const double f_zero : {0.0, 3e5, 3e4}) {
-          StageCase sc = cases[i];
-          sc.c.load_farads = load_f;
-          if (f_zero > 0) sc.values[cf] = 1.0 / (2 * std::numbers::pi * f_zero * sc.values[rf]);
-          const Performance fast = t.evaluate(sc.values, sc.q, sc.c, stages::Detail::full);
-          const Performance exact = stages::evaluate_exact(t, sc.values, sc.q, sc.c, stages::Detail::full);
-          const double f_mid = std::sqrt(fast.f_low_hz * fast.f_high_hz);
-          const auto ours = stages::loop_gain(t, sc.values, sc.q, sc.c, f_mid);
+          Case k;
+          k.sc = cases[i];
+          k.load_f = load_f;
+          k.f_zero = f_zero;
+          k.sc.c.load_farads = load_f;
+          if (f_zero > 0) k.sc.values[cf] = 1.0 / (2 * std::numbers::pi * f_zero * k.sc.values[rf]);
+          k.fast = t.evaluate(k.sc.values, k.sc.q, k.sc.c, stages::Detail::full);
+          k.exact = stages::evaluate_exact(t, k.sc.values, k.sc.q, k.sc.c, stages::Detail::full);
+          k.f_mid = std::sqrt(k.fast.f_low_hz * k.fast.f_high_hz);
+          const auto ours = stages::loop_gain(t, k.sc.values, k.sc.q, k.sc.c, k.f_mid);
           REQUIRE(ours.has_value());
-          const SpiceLoop ng = spice_loop(sc, f_mid);
-          const double ng_f_high = spice_f_high(sc, fast.gain);
-          INFO(sc.label, ", CL ", load_f, " F, CF zero ", f_zero, " Hz");
-          MESSAGE(
-              fmt::format("{}, CL {:g} F, CF zero {:g} Hz: |T| {:.4g} (ngspice {:.4g}), crossover {:.4g} Hz "
-                          "({:.4g}), margin {:.1f} deg ({:.1f}); f_high fast {:.4g}, exact {:.4g}, ngspice {:.4g}",
-                          sc.label, load_f, f_zero, ours->mid, ng.mid, ours->f_cross_hz, ng.f_cross,
-                          ours->phase_margin_deg, ng.margin_deg, fast.f_high_hz, exact.f_high_hz, ng_f_high));
-          CHECK(ours->mid == doctest::Approx(ng.mid).epsilon(0.01));
-          CHECK(ours->crosses() == ng.crosses);
-          if (ours->crosses() && ng.crosses) {
-            CHECK(ours->f_cross_hz == doctest::Approx(ng.f_cross).epsilon(0.02));
-            CHECK(std::abs(ours->phase_margin_deg - ng.margin_deg) < 1.5);
-          }
-          CHECK(exact.f_high_hz == doctest::Approx(ng_f_high).epsilon(0.01));
-          CHECK(fast.f_high_hz == doctest::Approx(ng_f_high).epsilon(0.01));
-          ++compared;
-          if (f_zero > 0) {
-            ++with_cf;
-            // A zero inside the band takes the gain down toward one above it.
-            StageCase bare = sc;
-            bare.values[cf] = 0;
-            if (f_zero < 1e5 &&
-                fast.f_high_hz < t.evaluate(bare.values, bare.q, bare.c, stages::Detail::full).f_high_hz)
-              ++shortened;
-          }
+          k.ours = *ours;
+          netlists.push_back(loop_netlist(k.sc, k.f_mid));
+          netlists.push_back(f_high_netlist(k.sc, k.fast.gain));
+          all.push_back(std::move(k));
         }
+    }
+  }
+  std::vector<SpiceRun> runs;
+  for (std::size_t i = 0; i < netlists.size(); i += 16) {
+    const std::vector<std::string> batch(
+        netlists.begin() + static_cast<std::ptrdiff_t>(i),
+        netlists.begin() + static_cast<std::ptrdiff_t>(std::min(netlists.size(), i + 16)));
+    for (auto& r : run_ngspice_batch(batch)) runs.push_back(std::move(r));
+  }
+  REQUIRE(runs.size() == 2 * all.size());
+  for (std::size_t n = 0; n < all.size(); ++n) {
+    const Case& k = all[n];
+    const stages::Topology& t = *k.sc.topology;
+    const SpiceLoop ng = read_spice_loop(runs[2 * n]);
+    const double ng_f_high = read_f_high(runs[2 * n + 1]);
+    const auto* ours = &k.ours;
+    const auto& fast = k.fast;
+    const auto& exact = k.exact;
+    const StageCase& sc = k.sc;
+    const double load_f = k.load_f, f_zero = k.f_zero;
+    const std::size_t cf = t.role_index("CF");
+    INFO(sc.label, ", CL ", load_f, " F, CF zero ", f_zero, " Hz");
+    MESSAGE(
+        fmt::format("{}, CL {:g} F, CF zero {:g} Hz: |T| {:.4g} (ngspice {:.4g}), crossover {:.4g} Hz "
+                    "({:.4g}), margin {:.1f} deg ({:.1f}); f_high fast {:.4g}, exact {:.4g}, ngspice {:.4g}",
+                    sc.label, load_f, f_zero, ours->mid, ng.mid, ours->f_cross_hz, ng.f_cross, ours->phase_margin_deg,
+                    ng.margin_deg, fast.f_high_hz, exact.f_high_hz, ng_f_high));
+    CHECK(ours->mid == doctest::Approx(ng.mid).epsilon(0.01));
+    CHECK(ours->crosses() == ng.crosses);
+    if (ours->crosses() && ng.crosses) {
+      CHECK(ours->f_cross_hz == doctest::Approx(ng.f_cross).epsilon(0.02));
+      CHECK(std::abs(ours->phase_margin_deg - ng.margin_deg) < 1.5);
+    }
+    CHECK(exact.f_high_hz == doctest::Approx(ng_f_high).epsilon(0.01));
+    CHECK(fast.f_high_hz == doctest::Approx(ng_f_high).epsilon(0.01));
+    ++compared;
+    if (f_zero > 0) {
+      ++with_cf;
+      // A zero inside the band takes the gain down toward one above it.
+      StageCase bare = sc;
+      bare.values[cf] = 0;
+      if (f_zero < 1e5 && fast.f_high_hz < t.evaluate(bare.values, bare.q, bare.c, stages::Detail::full).f_high_hz)
+        ++shortened;
     }
   }
   CHECK(compared >= 60);

@@ -38,7 +38,9 @@ SpiceRun run_ngspice(const std::string& netlist);
 /// Runs several netlists through one ngspice process and returns one SpiceRun per netlist, in
 /// order, each with the part of the output printed for it. A driver sources each netlist in
 /// turn: each one's .control block runs on its own circuit, with its own plots and vectors,
-/// and `option` settings do not carry over to the next. Starting ngspice costs about as much as
+/// and `option` settings do not carry over to the next. The plots' names number on across
+/// the batch (the second netlist's first AC sweep is not "ac1"): a netlist that names a plot
+/// takes the name from `$curplot` (support/spice_loop.hpp does). Starting ngspice costs about as much as
 /// a small circuit's analyses, so the checks that run thousands of builds batch them.
 /// Throws std::runtime_error if the program cannot be started or the output is not split as
 /// expected (ngspice stopped part way).
