@@ -103,7 +103,7 @@ TEST_CASE("loop gain of the feedback pairs against ngspice, with load capacitanc
   // evaluators against ngspice's AC sweep (CF is open at mid-band, as ngspice's sweep has it;
   // held as a short, the exact solver once read a gain of one there).
   int compared = 0, with_cf = 0, shortened = 0;
-  // Every case first, then all of them through ngspice in batches (test::run_ngspice_batch),
+  // Every case first, then all of them through ngspice in batches (test::run_ngspice_batches),
   // then the checks.
   struct Case {
     StageCase sc;
@@ -140,20 +140,14 @@ TEST_CASE("loop gain of the feedback pairs against ngspice, with load capacitanc
         }
     }
   }
-  std::vector<SpiceRun> runs;
-  for (std::size_t i = 0; i < netlists.size(); i += 16) {
-    const std::vector<std::string> batch(
-        netlists.begin() + static_cast<std::ptrdiff_t>(i),
-        netlists.begin() + static_cast<std::ptrdiff_t>(std::min(netlists.size(), i + 16)));
-    for (auto& r : run_ngspice_batch(batch)) runs.push_back(std::move(r));
-  }
+  const std::vector<SpiceRun> runs = run_ngspice_batches(netlists);
   REQUIRE(runs.size() == 2 * all.size());
   for (std::size_t n = 0; n < all.size(); ++n) {
     const Case& k = all[n];
     const stages::Topology& t = *k.sc.topology;
     const SpiceLoop ng = read_spice_loop(runs[2 * n]);
     const double ng_f_high = read_f_high(runs[2 * n + 1]);
-    const auto* ours = &k.ours;
+    const stages::LoopGain* ours = &k.ours;
     const auto& fast = k.fast;
     const auto& exact = k.exact;
     const StageCase& sc = k.sc;

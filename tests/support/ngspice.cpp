@@ -3,11 +3,13 @@
 
 #include "scratch.hpp"
 
+#include <algorithm>
 #include <array>
 #include <cctype>
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
+#include <future>
 #include <random>
 #include <regex>
 #include <sstream>
@@ -180,6 +182,25 @@ std::vector<SpiceRun> run_ngspice_batch(const std::vector<std::string>& netlists
     at = end;
   }
   return runs;
+}
+
+std::vector<SpiceRun> run_ngspice_batches(const std::vector<std::string>& netlists, std::size_t per_process) {
+  per_process = std::max<std::size_t>(1, per_process);
+  std::vector<std::vector<std::string>> batches;
+  for (std::size_t i = 0; i < netlists.size(); i += per_process)
+    batches.emplace_back(netlists.begin() + static_cast<std::ptrdiff_t>(i),
+                         netlists.begin() + static_cast<std::ptrdiff_t>(std::min(netlists.size(), i + per_process)));
+  std::vector<std::vector<SpiceRun>> done(batches.size());
+  auto every_other = [&](std::size_t first) {
+    for (std::size_t k = first; k < batches.size(); k += 2) done[k] = run_ngspice_batch(batches[k]);
+  };
+  auto other = std::async(std::launch::async, every_other, 1);
+  every_other(0);
+  other.get();
+  std::vector<SpiceRun> out;
+  for (auto& d : done)
+    for (auto& r : d) out.push_back(std::move(r));
+  return out;
 }
 
 }  // namespace shelfstage::test

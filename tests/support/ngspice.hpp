@@ -46,6 +46,10 @@ SpiceRun run_ngspice(const std::string& netlist);
 /// expected (ngspice stopped part way).
 std::vector<SpiceRun> run_ngspice_batch(const std::vector<std::string>& netlists);
 
+/// Runs many netlists through run_ngspice_batch, `per_process` to a process, two processes at
+/// a time (CI's two cores), and returns their runs in order.
+std::vector<SpiceRun> run_ngspice_batches(const std::vector<std::string>& netlists, std::size_t per_process = 16);
+
 /// Parses `name = value` lines (exposed for tests of the parser itself).
 std::map<std::string, double> parse_values(const std::string& text);
 /// Parses the tables the `fourier` command prints.

@@ -14,7 +14,6 @@
 #include <cstdlib>
 #include <fmt/format.h>
 #include <fstream>
-#include <future>
 #include <map>
 #include <random>
 #include <sstream>
@@ -225,27 +224,6 @@ double read_thd(const SpiceRun& r) {
   double sum = 0;
   for (std::size_t k = 2; k < h.size(); ++k) sum += h[k] * h[k];
   return std::sqrt(sum) / h[1];
-}
-
-/// Runs the netlists through ngspice on two threads, a batch of up to 16 per process (the
-/// start of ngspice costs about as much as one build's analyses).
-std::vector<SpiceRun> run_all(const std::vector<std::string>& netlists) {
-  constexpr std::size_t kBatch = 16;
-  std::vector<std::vector<std::string>> batches;
-  for (std::size_t i = 0; i < netlists.size(); i += kBatch)
-    batches.emplace_back(netlists.begin() + static_cast<std::ptrdiff_t>(i),
-                         netlists.begin() + static_cast<std::ptrdiff_t>(std::min(netlists.size(), i + kBatch)));
-  std::vector<std::vector<SpiceRun>> done(batches.size());
-  auto half = [&](std::size_t first) {
-    for (std::size_t k = first; k < batches.size(); k += 2) done[k] = run_ngspice_batch(batches[k]);
-  };
-  auto other = std::async(std::launch::async, half, 1);
-  half(0);
-  other.get();
-  std::vector<SpiceRun> out;
-  for (auto& d : done)
-    for (auto& r : d) out.push_back(std::move(r));
-  return out;
 }
 
 /// The builds a practitioner checks: every stage at a limit piece (all stages at the same
@@ -580,7 +558,7 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
         probes.push_back(probe_of(c, b, f_mid, f_zin));
         netlists.push_back(probes.back().netlist);
       }
-      const std::vector<SpiceRun> probed = run_all(netlists);
+      const std::vector<SpiceRun> probed = run_ngspice_batches(netlists);
       std::vector<Sim> sims;
       for (std::size_t i = 0; i < builds.size(); ++i) sims.push_back(read_probe(probes[i], builds[i], probed[i]));
       // With a swing requested, THD at its peak too (at 1 kHz, or mid-band without a band).
@@ -590,7 +568,7 @@ TEST_CASE("every claimed worst range holds ngspice at datasheet-limit pieces, to
         netlists.clear();
         for (std::size_t i = 0; i < builds.size(); ++i)
           netlists.push_back(thd_netlist(c, builds[i], sims[i].gain, level, f_thd));
-        const std::vector<SpiceRun> thd = run_all(netlists);
+        const std::vector<SpiceRun> thd = run_ngspice_batches(netlists);
         for (std::size_t i = 0; i < builds.size(); ++i) sims[i].thd = read_thd(thd[i]);
       }
       for (std::size_t i = 0; i < builds.size(); ++i) {
