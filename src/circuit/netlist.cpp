@@ -32,20 +32,30 @@ std::optional<std::size_t> Circuit::find_net(const std::string& name) const {
   return std::nullopt;
 }
 
-void Circuit::add_edge(std::size_t a, std::size_t b, const Component& c) { edges_.push_back({a, b, c}); }
-
-void Circuit::add_element(const Component& c) {
-  add_edge(c.pins[0], c.pins[1], c);
-  elements_.push_back({c});
-}
-
-void Circuit::add_element(Component c, std::size_t main_a, std::size_t main_b, std::size_t control_a,
-                          std::size_t control_b) {
-  c.branch = Branch::main;
-  add_edge(main_a, main_b, c);
-  elements_.push_back({c});
-  c.branch = Branch::control;
-  add_edge(control_a, control_b, c);
+std::vector<Edge> Circuit::edges() const {
+  std::vector<Edge> out;
+  for (const auto& el : elements_) {
+    Component c = el.c;
+    const auto& p = c.pins;
+    switch (c.kind) {
+      case ElementKind::jfet:
+      case ElementKind::bjt:  // the channel or collector-emitter path, then the gate or base pair
+        c.branch = Branch::main;
+        out.push_back({p[0], p[2], c});
+        c.branch = Branch::control;
+        out.push_back({p[1], p[2], c});
+        break;
+      case ElementKind::vccs:
+      case ElementKind::vcvs:  // the output pair, then the control pair
+        c.branch = Branch::main;
+        out.push_back({p[0], p[1], c});
+        c.branch = Branch::control;
+        out.push_back({p[2], p[3], c});
+        break;
+      default: out.push_back({p[0], p[1], c});
+    }
+  }
+  return out;
 }
 
 void Circuit::append(const Circuit& from, const Carry& carry) {
@@ -98,20 +108,20 @@ void Circuit::resistor(const std::string& des, const std::string& role, const st
                        double ohms, bool noiseless) {
   auto c = two_terminal(ElementKind::resistor, des, role, net(a), net(b), ohms);
   c.noiseless = noiseless;
-  add_element(c);
+  elements_.push_back({c});
 }
 
 void Circuit::capacitor(const std::string& des, const std::string& role, const std::string& plus,
                         const std::string& minus, double farads) {
   const auto c = two_terminal(ElementKind::capacitor, des, role, net(plus), net(minus), farads);
-  add_element(c);
+  elements_.push_back({c});
 }
 
 void Circuit::vsource(const std::string& des, const std::string& role, const std::string& plus,
                       const std::string& minus, double dc_volts, double ac_volts) {
   auto c = two_terminal(ElementKind::vsource, des, role, net(plus), net(minus), dc_volts);
   c.ac_volts = ac_volts;
-  add_element(c);
+  elements_.push_back({c});
 }
 
 void Circuit::jfet(const std::string& des, const std::string& drain, const std::string& gate, const std::string& source,
@@ -123,7 +133,8 @@ void Circuit::jfet(const std::string& des, const std::string& drain, const std::
   c.pins = {net(drain), net(gate), net(source), 0};
   c.device = jfets_.size();
   jfets_.push_back(q);
-  add_element(c, c.pins[0], c.pins[2], c.pins[1], c.pins[2]);
+  c.branch = Branch::main;  // its control pair is an edge of its own (edges())
+  elements_.push_back({c});
 }
 
 void Circuit::bjt(const std::string& des, const std::string& collector, const std::string& base,
@@ -135,14 +146,15 @@ void Circuit::bjt(const std::string& des, const std::string& collector, const st
   c.pins = {net(collector), net(base), net(emitter), 0};
   c.device = bjts_.size();
   bjts_.push_back(q);
-  add_element(c, c.pins[0], c.pins[2], c.pins[1], c.pins[2]);
+  c.branch = Branch::main;  // its control pair is an edge of its own (edges())
+  elements_.push_back({c});
 }
 
 void Circuit::isource(const std::string& des, const std::string& role, const std::string& plus,
                       const std::string& minus, double dc_amps, double ac_amps) {
   auto c = two_terminal(ElementKind::isource, des, role, net(plus), net(minus), dc_amps);
   c.ac_volts = ac_amps;
-  add_element(c);
+  elements_.push_back({c});
 }
 
 // A controlled source: its output pair as the main edge, its control pair as the control edge.
@@ -152,7 +164,8 @@ void Circuit::controlled(ElementKind kind, const std::string& des, const std::st
   auto c = two_terminal(kind, des, role, net(out_plus), net(out_minus), value);
   c.pins[2] = net(ctrl_plus);
   c.pins[3] = net(ctrl_minus);
-  add_element(c, c.pins[0], c.pins[1], c.pins[2], c.pins[3]);
+  c.branch = Branch::main;  // its control pair is an edge of its own (edges())
+  elements_.push_back({c});
 }
 
 void Circuit::vccs(const std::string& des, const std::string& role, const std::string& out_plus,
@@ -172,7 +185,7 @@ void Circuit::diode(const std::string& des, const std::string& role, const std::
   auto c = two_terminal(ElementKind::diode, des, role, net(anode), net(cathode), 0.0);
   c.device = diodes_.size();
   diodes_.push_back({is_a, n});
-  add_element(c);
+  elements_.push_back({c});
 }
 
 void Circuit::set_value(const std::string& designator, double value) {
@@ -183,8 +196,6 @@ void Circuit::set_value(const std::string& designator, double value) {
       found = true;
     }
   }
-  for (auto& e : edges_)
-    if (e.c.designator == designator) e.c.value = value;
   if (!found) throw InputError(fmt::format("no part '{}' in the circuit", designator));
 }
 
@@ -234,7 +245,7 @@ void Circuit::validate() const {
   }
   Graph graph(nets_.size());
   for (std::size_t v = 0; v < nets_.size(); ++v) graph[v] = nets_[v];
-  for (const auto& e : edges_) boost::add_edge(e.a, e.b, e.c, graph);
+  for (const auto& e : edges()) boost::add_edge(e.a, e.b, e.c, graph);
   if (boost::degree(0, graph) == 0) throw InputError("the circuit has no ground: no part touches net '0'");
   // Every net needs a DC path to ground.
   ConductsDc pred{&graph};

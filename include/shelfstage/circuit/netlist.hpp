@@ -2,9 +2,10 @@
 // designator and value. A transistor is two edges (its channel or collector-emitter path,
 // and its control pair) that share one designator and name all three pins; so is a
 // controlled source (its output pair and its control pair, four pins).
-// The graph is kept as two plain lists (nets, edges); the checks that walk it build a Boost
-// graph from them (netlist.cpp), so this header, included by nearly every file of the
-// library, does not carry Boost.Graph's templates into each of them.
+// The circuit keeps its nets and elements as plain lists and gives the edges from the
+// elements (edges()); the checks that walk the graph build a Boost graph from them
+// (netlist.cpp), so this header, included by nearly every file of the library, does not
+// carry Boost.Graph's templates into each of them.
 #pragma once
 #include <array>
 #include <functional>
@@ -127,8 +128,8 @@ class Circuit {
   const std::vector<devices::BjtInstance>& bjts() const { return bjts_; }
   const std::vector<DiodeModel>& diodes() const { return diodes_; }
   /// Every edge of the graph, in insertion order (a transistor's or controlled source's main
-  /// edge, then its control edge).
-  const std::vector<Edge>& edges() const { return edges_; }
+  /// edge, then its control edge), from elements().
+  std::vector<Edge> edges() const;
 
   /// Changes the value of a two-terminal part (or a source's DC, a controlled source's gm or
   /// gain) by designator.
@@ -162,16 +163,10 @@ class Circuit {
   void validate() const;
 
  private:
-  void add_edge(std::size_t a, std::size_t b, const Component& c);
-  /// A two-terminal element: one edge between its pins.
-  void add_element(const Component& c);
-  /// An element of two branches: the main edge (the one elements() lists) and the control edge.
-  void add_element(Component c, std::size_t main_a, std::size_t main_b, std::size_t control_a, std::size_t control_b);
   void controlled(ElementKind kind, const std::string& designator, const std::string& role, const std::string& out_plus,
                   const std::string& out_minus, const std::string& ctrl_plus, const std::string& ctrl_minus,
                   double value);
   std::vector<Net> nets_;
-  std::vector<Edge> edges_;
   std::map<std::string, std::size_t> names_;
   std::vector<Element> elements_;
   std::vector<devices::JfetInstance> jfets_;
