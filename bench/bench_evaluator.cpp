@@ -1,5 +1,6 @@
 // Benchmark: the time one candidate costs the fast closed-form evaluator (each topology,
-// Detail::core and Detail::full), the exact MNA evaluation, and ngspice solving the same
+// Detail::core with the distortion off, as the search's gain screens and corner estimates
+// call it, Detail::core and Detail::full), the exact MNA evaluation, and ngspice solving the same
 // stage's operating point (one process running `op` N times in a .control loop that alters a
 // resistor each time; whole process timed and divided, with and without its start-up).
 // Usage: bench_evaluator [path-to-ngspice]   (default: ngspice on the PATH)
@@ -155,6 +156,7 @@ int main(int argc, char** argv) {
   constexpr std::size_t kCore = 200000, kFull = 20000, kExactCore = 200, kExactFull = 50;
   constexpr int kOps = 1000;
   report::TextTable table({{"topology"},
+                           {"search ns", report::Align::right},
                            {"fast core ns", report::Align::right},
                            {"fast full ns", report::Align::right},
                            {"exact core us", report::Align::right},
@@ -172,6 +174,12 @@ int main(int argc, char** argv) {
     }
     // Vary the load a little on every call, as a search varies its candidates.
     stages::Conditions c = b.c;
+    stages::Conditions gain_only = b.c;
+    gain_only.distortion = false;
+    const double search = ns_per_call(kCore, [&](std::size_t i) {
+      gain_only.load_ohm = 10e3 + static_cast<double>(i % 64);
+      g_sink = g_sink + t.evaluate(b.values, b.q, gain_only, stages::Detail::core).gain;
+    });
     const double core = ns_per_call(kCore, [&](std::size_t i) {
       c.load_ohm = 10e3 + static_cast<double>(i % 64);
       g_sink = g_sink + t.evaluate(b.values, b.q, c, stages::Detail::core).gain;
@@ -197,12 +205,13 @@ int main(int argc, char** argv) {
       op_net = fmt::format("{:.1f}", (with_ops - start_only) / kOps * 1e6);
       ratio = fmt::format("{:.0f}", per_op * 1e9 / core);
     }
-    table.add_row({std::string(t.name()), fmt::format("{:.0f}", core), fmt::format("{:.0f}", full),
-                   fmt::format("{:.1f}", exact_core / 1e3), fmt::format("{:.1f}", exact_full / 1e3), op_us, op_net,
-                   ratio});
+    table.add_row({std::string(t.name()), fmt::format("{:.0f}", search), fmt::format("{:.0f}", core),
+                   fmt::format("{:.0f}", full), fmt::format("{:.1f}", exact_core / 1e3),
+                   fmt::format("{:.1f}", exact_full / 1e3), op_us, op_net, ratio});
   }
   fmt::print(
-      "Time per candidate: fast evaluator ({} and {} calls), exact MNA evaluation ({} and {}),\n"
+      "Time per candidate: fast evaluator ({} calls each without and with the distortion, {} in full), exact MNA "
+      "evaluation ({} and {}),\n"
       "ngspice operating point ({} `op` in one ngspice -b process; 'w/o start' subtracts a run with none)\n\n",
       kCore, kFull, kExactCore, kExactFull, kOps);
   fmt::print("{}", table.render());
