@@ -300,6 +300,7 @@ class BjtCeDivider final : public Topology {
     const auto ves = detail::choices(g, {ve1, ve2, ve3, ve4}, {ve1, ve3});
     const auto ks = detail::choices(g, {20.0, 10.0, 4.0, 1.5}, {10.0, 1.5});
     for (double ic : currents) {
+      if (ic < detail::least_swing_current(g, c.load_ohm)) continue;
       const double ib = ic / t.bf;
       for (double ve : ves) {
         if (ve > c.supply_v / 3 && ve > ve_room) continue;

@@ -416,7 +416,13 @@ class BjtCeShunt final : public Topology {
     const double rin_lo = std::max(g.zin_min_ohm * 1.05, 100.0);
     std::vector<double> rins;
     shelf.spread(std::max(0.3 * rin_lo, 100.0), rin_lo * 10.0, 4, rins);
-    for (double ic : {0.1e-3, 0.3e-3, 1e-3, 3e-3}) {
+    // A heavy load wants a collector current a few times its peak current (common practice):
+    // beyond the usual few milliamperes then too.
+    std::vector<double> currents{0.1e-3, 0.3e-3, 1e-3, 3e-3};
+    const double i_load = 4.0 * g.swing_peak_v / c.load_ohm;
+    if (i_load > currents.back()) currents.insert(currents.end(), {i_load, 2.0 * i_load});
+    for (double ic : currents) {
+      if (ic < detail::least_swing_current(g, c.load_ohm)) continue;
       const double ib = ic / t.bf, vbe = t.vt_v * std::log(ic / t.is_a);
       for (double rin : rins) {
         // RF for the gain (the ratio), and RF for the bias alone (a few base currents through

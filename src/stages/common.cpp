@@ -352,6 +352,11 @@ std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, doub
   return out;
 }
 
+double least_swing_current(const Goal& g, double load_ohm) {
+  if (g.probe || !(g.swing_peak_v > 0) || !(load_ohm > 0)) return 0.0;
+  return g.swing_peak_v / (3.0 * load_ohm);
+}
+
 double jfet_drain_room(const JfetBias& b, const Goal& g, const Conditions& c) {
   return (c.supply_v - b.vs_v - b.vgst_v - g.swing_peak_v - 0.5) / b.id_a;
 }

@@ -200,6 +200,15 @@ std::vector<double> gate_resistors(const ValueSource& shelf, double zin_min_ohm)
 std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, double a_int, double gm, double r_deg,
                                    double load_ohm, double room_ohm);
 
+/// The least design current at which a class-A stage may carry the request's swing into the
+/// load at all (0: no bound). Its output's excursion away from the device (a collector or
+/// drain rising as it turns off, an emitter or source falling) is at most the quiescent
+/// current through the pull and the load in parallel, below the current times load_ohm. The
+/// drafted current can land away from the design's (the shelf's nearest values), so a current
+/// is given up only when a third of the swing is beyond it; a probe (how close the stages
+/// come) keeps every current.
+double least_swing_current(const Goal& g, double load_ohm);
+
 /// The largest drain resistor a JFET common source's headroom allows: the drain above the
 /// triode edge by the requested swing and half a volt.
 double jfet_drain_room(const JfetBias& b, const Goal& g, const Conditions& c);

@@ -106,6 +106,7 @@ class JfetCsDivider final : public Topology {
       for (double frac : fracs) {
         const double id = frac * j.idss_a;
         if (g.max_current_a > 0 && id > g.max_current_a) continue;
+        if (id < detail::least_swing_current(g, c.load_ohm)) continue;
         const double vg = vs - j.vp_abs_v * (1.0 - std::sqrt(frac));
         if (vg <= 0.05 * c.supply_v) continue;  // the self-biased stage covers this
         const double r = vg / c.supply_v;

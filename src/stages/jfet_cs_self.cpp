@@ -94,9 +94,11 @@ class JfetCsSelf final : public Topology {
     auto rs_for = [&](double frac) { return j.vp_abs_v * (1.0 - std::sqrt(frac)) / (frac * j.idss_a); };
     double frac_max = 0.7;
     if (g.max_current_a > 0) frac_max = std::min(frac_max, g.max_current_a / j.idss_a);
-    if (frac_max < 0.02) return;
+    // Not below the current that can carry the swing into the load.
+    const double frac_min = std::max(0.03, detail::least_swing_current(g, c.load_ohm) / j.idss_a);
+    if (frac_max < 0.02 || frac_min > frac_max) return;
     std::vector<double> rs_tot;
-    shelf.spread(rs_for(frac_max), rs_for(0.03), 16, rs_tot);
+    shelf.spread(rs_for(frac_max), rs_for(frac_min), 16, rs_tot);
     for (double rg : rgs) {
       const double a_int = g.gain * (rg + c.source_ohm) / rg;
       for (double rt : rs_tot) {
