@@ -116,6 +116,15 @@ class Searcher {
                                                   job.device_available, probe_, job.device2, job.device2_available);
     const StageBuilder& builder = *work.builder;
     SearchStats& stats = work.stats;
+    // A device the supply takes past its rating fails every stage's corner pass (the rating
+    // check there is detail::check_ratings): nothing is drafted (SearchStats::past_rating).
+    for (const devices::DeviceRecord* d : {job.device, job.device2})
+      if (d)
+        if (std::string why = detail::supply_rating(spec_, *d); !why.empty()) {
+          ++stats.past_rating;
+          stats.past_rating_example = std::move(why);
+          return;
+        }
     const auto roles = job.topology->roles();
     std::deque<StageBuilder::Draft> found;  // (a deque: tens of thousands, never moved)
     SeenProposals seen;
@@ -616,6 +625,8 @@ void SearchStats::merge(const SearchStats& o) {
   best_swing = std::max(best_swing, o.best_swing);
   best_zin = std::max(best_zin, o.best_zin);
   if (!o.capacitor_need.empty()) capacitor_need = o.capacitor_need;
+  past_rating += o.past_rating;
+  if (past_rating_example.empty()) past_rating_example = o.past_rating_example;
   proposals += o.proposals;
   evaluations += o.evaluations;
 }
@@ -951,7 +962,7 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
 
 namespace {
 
-std::string describe_binding(const std::string& binding, const Spec& spec, const SearchStats& t) {
+std::string describe_binding(const std::string& binding, const Spec& spec, const SearchStats& t, bool all_past_rating) {
   if (binding == "gain" && t.least_gain < 1e300 && t.least_gain > spec.gain * (1.0 + spec.gain_tol))
     return fmt::format("no stage comes down to a gain of {:.3g} into {}: the lowest any stocked device gives is {:.3g}",
                        spec.gain, units::format_value(spec.load_ohm, units::Unit::ohm), t.least_gain);
@@ -994,6 +1005,12 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
     return it == t.corner_examples.end() ? std::string()
                                          : " (for one: " + it->second.substr(it->second.find(':') + 2) + ")";
   };
+  if (binding == "rating" && all_past_rating)
+    return fmt::format(
+        "no stocked device may take a supply of {:.3g} V (common practice: a transistor holds at most {:.0f} % of "
+        "its VCEO or VDS(max), an op-amp's span stays within its rating; for one: {})",
+        std::abs(spec.supply_hi_v), 100 * kDeviceVoltageShare,
+        t.past_rating_example.substr(t.past_rating_example.find(':') + 2));
   if (binding == "rating") return "every stage that works runs a part beyond its rating" + example("rating");
   if (binding == "stability")
     return fmt::format(
@@ -1253,14 +1270,22 @@ std::string most_common_stop(const SearchStats& tally) {
   return binding;
 }
 
+// Every job's device past its rating on this supply (Searcher::prepare): nothing drafted.
+bool all_past_rating(const Run& run) {
+  return !run.jobs.empty() && run.tally.past_rating >= static_cast<long>(run.jobs.size());
+}
+
 // What binds when nothing fits: the most common stop, unless the gain is out of reach, one
 // copy fits where several do not, or the swing is beyond the supply.
 std::string binding_of(const Run& run) {
   const Spec& spec = run.spec;
   SearchStats& tally = run.tally;
   std::string binding = most_common_stop(tally);
-  if (tally.proposals == 0) binding = run.jobs.empty() ? "devices" : "gain";
-  if (!run.jobs.empty() && !tally.gain_met && tally.best_gain < spec.gain * (1.0 - spec.gain_tol)) {
+  // Every device past its rating on this supply binds, whatever the gain.
+  const bool only_ratings = all_past_rating(run);
+  if (only_ratings) binding = "rating";
+  if (tally.proposals == 0 && !only_ratings) binding = run.jobs.empty() ? "devices" : "gain";
+  if (!run.jobs.empty() && !only_ratings && !tally.gain_met && tally.best_gain < spec.gain * (1.0 - spec.gain_tol)) {
     // No working stage reached the gain: that binds first. How close the stages come:
     // probe with the largest load resistors the headroom allows.
     binding = "gain";
@@ -1290,9 +1315,13 @@ std::string stop_counts(const SearchStats& tally) {
     for (const auto& [k, v] : m) out += fmt::format("{}{} {}", out.empty() ? "" : ", ", v, k);
     return out;
   };
-  return fmt::format(" ({} stages proposed; stopped at nominal: {}; at the corners: {})", tally.proposals,
+  return fmt::format(" ({} stages proposed; stopped at nominal: {}; at the corners: {}{})", tally.proposals,
                      tally.failures.empty() ? "none" : list(tally.failures),
-                     tally.corner_failures.empty() ? "none" : list(tally.corner_failures));
+                     tally.corner_failures.empty() ? "none" : list(tally.corner_failures),
+                     tally.past_rating > 0 ? fmt::format("; {} stage and device pairings not tried, the supply past "
+                                                         "the device's rating",
+                                                         tally.past_rating)
+                                           : std::string());
 }
 
 // The smallest purchase that gives a design, as lines to buy and the design it makes.
@@ -1327,7 +1356,8 @@ void diagnose(Diagnosis& d, const Run& run) {
   const bool searched = !run.jobs.empty();
   const std::string binding = binding_of(run);
   d.binding = binding;
-  d.detail = searched ? describe_binding(binding, spec, run.tally)
+  const bool only_ratings = all_past_rating(run);
+  d.detail = searched ? describe_binding(binding, spec, run.tally, only_ratings)
                       : "no stocked transistor fits the chosen topologies and device filters";
   // A pair takes two types: a filter naming only its input device leaves it no Q2.
   if (!searched && !spec.devices.empty())
@@ -1337,7 +1367,8 @@ void diagnose(Diagnosis& d, const Run& run) {
         d.detail += " (a feedback pair takes two types: name its second transistor, Q2, with --device as well)";
         break;
       }
-  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock")
+  // (A supply past every device's rating: no other limit let go changes that.)
+  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock" && !only_ratings)
     detail::explain_binding(d, spec, run.inv);
   if (divider_reaches(spec))
     d.detail = fmt::format(
@@ -1350,7 +1381,8 @@ void diagnose(Diagnosis& d, const Run& run) {
     d.detail +=
         "; stages that work at nominal fail at the worst-case corners of the device spread, "
         "tolerances or supply (a measured piece, --piece, narrows the spread)";
-  if (!run.tally.failures.empty() || !run.tally.corner_failures.empty()) d.detail += stop_counts(run.tally);
+  if (!run.tally.failures.empty() || !run.tally.corner_failures.empty() || run.tally.past_rating > 0)
+    d.detail += stop_counts(run.tally);
   if (searched && spec.explain_failure) suggest_purchases(d, spec, run.inv);
 }
 

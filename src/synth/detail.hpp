@@ -52,6 +52,11 @@ DeviceStress device2_stress(const Spec& spec, const Candidate& c, const stages::
 /// Power and voltage ratings (parts and the transistor) and electrolytic polarity against one
 /// operating point at an ambient.
 std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius);
+/// What check_ratings says of a device whatever its stage: the supply's upper end past what
+/// its rating allows (a transistor holds the whole supply cut off; an op-amp's span is the
+/// supply's), or an op-amp's span at the lower end below its operating range. Empty when the
+/// supply leaves the device room; otherwise every stage with it fails its corner pass.
+std::string supply_rating(const Spec& spec, const devices::DeviceRecord& record);
 /// How far a worst-case pass goes: `search` for every candidate the search assesses (what
 /// decides feasibility and the score), `full` for the candidates shown (every figure, every
 /// piece's own part directions, the -3 dB corners over the capacitors' tolerances). NOTES in

@@ -176,6 +176,19 @@ std::string rate_device(const devices::DeviceRecord& record, const DeviceStress&
 
 }  // namespace
 
+std::string supply_rating(const Spec& spec, const devices::DeviceRecord& record) {
+  // The parts of device_stress() that depend on the supply alone; the rest left at nothing,
+  // which every rating allows.
+  DeviceStress d;
+  if (record.kind == devices::DeviceKind::opamp) {
+    d.v_main = supply_span(spec, spec.supply_hi_v);
+    d.v_low = supply_span(spec, spec.supply_lo_v);
+  } else {
+    d.v_main = std::abs(spec.supply_hi_v);
+  }
+  return rate_device(record, d, devices::kNominalCelsius);
+}
+
 std::string check_ratings(const Spec& spec, const Candidate& c, const stages::Performance& p, double celsius) {
   if (std::string v = rate_device(c.device, device_stress(spec, c, p, celsius), celsius); !v.empty()) return v;
   if (c.device2)

@@ -135,6 +135,11 @@ TEST_CASE("a supply beyond every transistor's rating: the rating binds, named wi
   REQUIRE(r.candidates.empty());
   CHECK(r.diagnosis.binding == "rating");
   CHECK(has(r.diagnosis.detail, "may hold 48 V against its"));
+  // Said as the supply's doing, not the stages': none is drafted with a device it takes past
+  // its rating, and no other limit let go is tried.
+  CHECK(has(r.diagnosis.detail, "no stocked device may take a supply of 48 V"));
+  CHECK(has(r.diagnosis.detail, "0 stages proposed"));
+  CHECK_FALSE(has(r.diagnosis.detail, "let go alone"));
   // With 30 V, only the types rated 40 V (32 V allowed: SQ-410, SQ-510) may carry it.
   s.supply_lo_v = s.supply_hi_v = 30;
   const auto ok = synth::design(s, shelf());

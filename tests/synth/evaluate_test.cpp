@@ -332,6 +332,49 @@ TEST_CASE("an op-amp over a rating fails the check as a transistor does, each ra
   CHECK(synth::detail::check_ratings(spec, c, p, 25).find("its package may take") != std::string::npos);
 }
 
+TEST_CASE("supply_rating: what check_ratings says whatever the stage, as far as the supply alone decides it") {
+  // Common practice (kDeviceVoltageShare): a transistor holds at most 80 % of its VCEO; cut
+  // off it holds the whole supply, so a 40 V type takes 32 V and no more, whatever its stage.
+  synth::Candidate c;
+  c.device = npn();
+  c.device.ratings.v_max_v = 40;
+  c.device.ratings.v_rev_max_v.reset();
+  c.device.ratings.p_max_w.reset();
+  stages::Performance p;  // a light operating point: 5 V across, 1 mA
+  p.v_out = 7;
+  p.v_common = 2;
+  p.bias_current_a = 1e-3;
+  c.topology = stages::find_topology("bjt-ce-divider");
+  for (double supply : {9.0, 24.0, 32.0, 32.5, 48.0}) {
+    synth::Spec spec = basic_spec(5);
+    spec.supply_lo_v = spec.supply_hi_v = supply;
+    const std::string alone = synth::detail::supply_rating(spec, c.device);
+    CHECK_MESSAGE(alone.empty() == (supply <= 32.0), supply);
+    CHECK(alone == synth::detail::check_ratings(spec, c, p, 25));
+  }
+  // An op-amp: the span against the absolute maximum and the operating range, at either end
+  // of the supply; its inputs and its package are the stage's, not the supply's.
+  c.device = rated_opamp();
+  c.topology = stages::find_topology("opamp-noninv-split");
+  synth::Spec spec = basic_spec(5);
+  spec.split_supply = true;
+  spec.supply_lo_v = spec.supply_hi_v = 15;
+  CHECK(synth::detail::supply_rating(spec, c.device).empty());
+  c.device.ratings.v_max_v = 29;
+  CHECK(synth::detail::supply_rating(spec, c.device).find("absolute maximum") != std::string::npos);
+  c.device.ratings.v_max_v = 40;
+  c.device.opamp.vs_max_v = 24;
+  CHECK(synth::detail::supply_rating(spec, c.device).find("above its operating range") != std::string::npos);
+  c.device.opamp.vs_max_v = 36;
+  synth::Spec low = spec;
+  low.supply_lo_v = 4;
+  CHECK(synth::detail::supply_rating(low, c.device).find("below its operating range") != std::string::npos);
+  c.device.ratings.v_rev_max_v = 5e-3;
+  c.device.ratings.p_max_w = 0.15;
+  CHECK(synth::detail::supply_rating(spec, c.device).empty());
+  CHECK_FALSE(synth::detail::check_ratings(spec, c, split_point(), 25).empty());
+}
+
 namespace {
 
 // A request for one non-inverting split-supply stage from one of the demo's op-amp types: the

@@ -202,6 +202,11 @@ struct SearchStats {
   double best_swing = 0;      ///< largest swing peak among those
   double best_zin = 0;
   std::string capacitor_need;  ///< the last capacitor the shelf could not supply
+  /// Topology and device pairings not drafted at all: the supply takes the device past its
+  /// rating (detail::supply_rating), so every stage with it would fail its corner pass; the
+  /// first such stop in words.
+  long past_rating = 0;
+  std::string past_rating_example;
   long proposals = 0, evaluations = 0;
   void merge(const SearchStats& o);
 };
