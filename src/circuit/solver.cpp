@@ -340,6 +340,24 @@ double OperatingPoint::v(const Circuit& c, const std::string& net) const {
   return node_v[*n];
 }
 
+// A start for Newton from a known solution: its node voltages, and the junction voltages they
+// give as the limiting's last values (limited against nothing, the first step from a junction
+// already forward-biased would be cut back to its critical voltage). Branch currents are left
+// at nothing: Newton's next iterate depends on the node voltages alone.
+void start_from(const Circuit& c, const OperatingPoint& start, Eigen::VectorXd& x, DcState& st) {
+  for (std::size_t v = 1; v < c.net_count(); ++v) x(row(v)) = start.node_v[v];
+  for (const auto& el : c.elements()) {
+    const Component& e = el.c;
+    if (e.kind == ElementKind::bjt) {
+      const double p = devices::polarity(c.bjts()[e.device].kind);
+      st.bjt[e.device].vbe = p * (node_v(x, e.pins[1]) - node_v(x, e.pins[2]));
+      st.bjt[e.device].vbc = p * (node_v(x, e.pins[1]) - node_v(x, e.pins[0]));
+    } else if (e.kind == ElementKind::diode) {
+      st.diode_v[e.device] = node_v(x, e.pins[0]) - node_v(x, e.pins[1]);
+    }
+  }
+}
+
 OperatingPoint solve_dc(const Circuit& c, const SolverOptions& o) {
   c.validate();
   const Layout l = layout(c);
@@ -347,7 +365,16 @@ OperatingPoint solve_dc(const Circuit& c, const SolverOptions& o) {
   Eigen::VectorXd x = Eigen::VectorXd::Zero(static_cast<long>(l.size()));
   int iterations = 0;
   std::string method = "newton";
-  bool ok = newton(c, l, x, 0.0, 1.0, st, o, iterations);
+  bool ok = false;
+  if (o.start && o.start->node_v.size() == c.net_count()) {
+    start_from(c, *o.start, x, st);
+    ok = newton(c, l, x, 0.0, 1.0, st, o, iterations);
+    if (!ok) {
+      x.setZero();
+      st.reset();
+    }
+  }
+  if (!ok) ok = newton(c, l, x, 0.0, 1.0, st, o, iterations);
   if (!ok) {
     // gmin stepping: a shunt from every node to ground, relaxed decade by decade.
     method = "gmin stepping";

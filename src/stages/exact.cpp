@@ -51,13 +51,17 @@ bool opamp_edge(const OperatingPoint& op, const detail::OpampModelAt& m, const d
 // One input level of the quasi-static sweep: the output, and whether any device has left its
 // linear region (transistors in element order, as the solver reports them; op-amps in the
 // order of their models).
+// `last`: the sweep's last solution (empty at first), Newton's start (SolverOptions::start),
+// replaced by this one's.
 SweepPoint sweep_at(Circuit& h, std::span<const Transistor> qs, double x, const std::vector<double>& ic0,
-                    const circuit::SolverOptions& so) {
+                    const circuit::SolverOptions& so, OperatingPoint& last) {
   h.set_value("VSIG", x);
   SweepPoint s;
   OperatingPoint op;
   try {
-    op = circuit::solve_dc(h, so);
+    circuit::SolverOptions from = so;
+    if (!last.node_v.empty()) from.start = &last;
+    op = circuit::solve_dc(h, from);
   } catch (const Error&) {
     s.edge = true;
     return s;
@@ -79,6 +83,7 @@ SweepPoint sweep_at(Circuit& h, std::span<const Transistor> qs, double x, const 
     else
       s.edge = s.edge || d.v_main_v < qs[i].bjt.vce_sat_v || d.i_main_a < 0.01 * ic0[i];
   }
+  last = std::move(op);
   return s;
 }
 
@@ -114,6 +119,7 @@ double input_divider_of(const Circuit& net, Circuit h, const OperatingPoint& hop
 
 struct MidBand {
   double gain = 0, zin_ohm = 0, zout_ohm = 0;
+  OperatingPoint held;  // the circuit's with its capacitors held: where the sweeps start
 };
 
 MidBand mid_band(const Circuit& net, const OperatingPoint& op, const circuit::SolverOptions& so, double load_ohm) {
@@ -133,6 +139,7 @@ MidBand mid_band(const Circuit& net, const OperatingPoint& op, const circuit::So
   m.zout_ohm = std::abs(load_ohm * (vo[out] / vs[out] - 1.0));
   h.set_value("RL", load_ohm);
   m.gain *= input_divider_of(net, h, hop, std::abs(vs[in]) > 0 ? m.zin_ohm : 0.0);
+  m.held = hop;
   return m;
 }
 
@@ -245,8 +252,9 @@ struct Probe {
   std::span<const Transistor> qs;
   const std::vector<double>& ic0;
   const circuit::SolverOptions& so;
-  double out0 = 0;  // the output at rest
-  SweepPoint at(double x) { return sweep_at(h, qs, x, ic0, so); }
+  double out0 = 0;      // the output at rest
+  OperatingPoint last;  // the last point solved (where the next solve starts)
+  SweepPoint at(double x) { return sweep_at(h, qs, x, ic0, so, last); }
 };
 
 // How far the output moves with the input of one sign before a device leaves its linear region.
@@ -372,7 +380,12 @@ Performance evaluate_circuit(const Circuit& net, std::span<const Transistor> qs,
     p.f_high_hz = band.f_high_hz;
   }
   band_losses(net, op, c, mb.gain, p);
-  Probe pr{circuit::with_capacitors_held(net, op, is_load_capacitance), qs, ic0, so, op.v(net, std::string(kNetOut))};
+  Probe pr{circuit::with_capacitors_held(net, op, is_load_capacitance),
+           qs,
+           ic0,
+           so,
+           op.v(net, std::string(kNetOut)),
+           mb.held};
   measure_swing(pr, c, k, p);
   if (detail == Detail::full && p.swing_peak_v > 0) {
     const Harmonics mag = distortion_at_level(pr, c, p);

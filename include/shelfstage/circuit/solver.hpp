@@ -53,6 +53,12 @@ struct SolverOptions {
   double abstol_a = 1e-12;  ///< current tolerance
   double vntol_v = 1e-7;    ///< voltage tolerance
   double reltol = 1e-7;
+  /// A solution of this circuit (the same nets and elements, some values a step away: a
+  /// sweep's last point) to start Newton from: its node voltages and the junction voltages
+  /// they give. From there Newton takes a few iterations instead of tens; when it fails, the
+  /// solve starts again from nothing, so the answer is the same operating point to the
+  /// tolerances either way. Ignored when its nets do not match the circuit's.
+  const OperatingPoint* start = nullptr;
 };
 
 /// Solves the DC operating point. Throws InputError when validation fails and
