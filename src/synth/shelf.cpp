@@ -3,6 +3,7 @@
 #include "shelfstage/synth/shelf.hpp"
 
 #include <algorithm>
+#include <limits>
 #include <cmath>
 #include <fmt/format.h>
 #include <map>
@@ -265,21 +266,59 @@ void pair_anchors(const std::vector<double>& v, double target, std::size_t limit
 }
 }  // namespace
 
-template <class F>
-void Shelf::pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& f) const {
+template <class F, class B>
+void Shelf::pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& f, B&& bound) const {
   const auto& v = idx.value;
   const auto size = static_cast<std::ptrdiff_t>(v.size());
+  // The anchors come in order of value within each join, and the ideal partner falls as the
+  // anchor grows (target - a in series, a target / (a - target) in parallel): each search
+  // for it starts from the last one found, galloping down to bracket it.
+  std::ptrdiff_t last_j0 = size;
+  double last_ideal = std::numeric_limits<double>::infinity();
+  Join last_join = Join::single;
+  auto first_at_least = [&](double ideal, Join join) {
+    // Every j from hi on has v[j] >= ideal: from the last search's answer when its ideal was
+    // at least this one.
+    std::ptrdiff_t hi = size;
+    if (join == last_join && ideal <= last_ideal) hi = last_j0;
+    std::ptrdiff_t lo = 0;
+    for (std::ptrdiff_t step = 1;; step *= 2) {
+      lo = hi - step;
+      if (lo <= 0) {
+        lo = 0;
+        break;
+      }
+      if (v[static_cast<std::size_t>(lo)] < ideal) break;  // the answer lies in (lo, hi]
+      hi = lo;
+    }
+    const auto j0 = static_cast<std::ptrdiff_t>(std::lower_bound(v.begin() + lo, v.begin() + hi, ideal) - v.begin());
+    last_j0 = j0;
+    last_ideal = ideal;
+    last_join = join;
+    return j0;
+  };
   auto partners = [&](std::size_t i, double ideal, Join join) {
-    const auto j0 = static_cast<std::ptrdiff_t>(std::lower_bound(v.begin(), v.end(), ideal) - v.begin());
+    const auto j0 = first_at_least(ideal, join);
     const auto from = std::max<std::ptrdiff_t>(0, j0 - static_cast<std::ptrdiff_t>(n));
     const auto to = std::min(size, j0 + static_cast<std::ptrdiff_t>(n));
-    for (auto j = from; j < to; ++j) {
+    // One partner: false once the pair is as far from target as bound() (every later one on
+    // this side is further: the pair grows with its partner in series and in parallel alike).
+    auto one = [&](std::ptrdiff_t j) {
       const auto ju = static_cast<std::size_t>(j);
-      if (!pair_ok(store::PartKind::resistor, join, idx.group[i], idx.group[ju])) continue;
+      const double value = join == Join::series ? v[i] + v[ju] : v[i] * v[ju] / (v[i] + v[ju]);
+      // (Past the bound by more than rounding: the pair's value is monotonic in its partner
+      // only to the last bit.)
+      if ((value > target ? value / target : target / value) > bound() * (1 + 1e-12)) return false;
+      if (!pair_ok(store::PartKind::resistor, join, idx.group[i], idx.group[ju])) return true;
       // The smaller value first, as the tables list a pair's pieces.
       const auto [ga, gb] =
           v[i] <= v[ju] ? std::pair(idx.group[i], idx.group[ju]) : std::pair(idx.group[ju], idx.group[i]);
-      f(join == Join::series ? v[i] + v[ju] : v[i] * v[ju] / (v[i] + v[ju]), ga, gb, join);
+      f(value, ga, gb, join);
+      return true;
+    };
+    for (auto j = j0; j < to && one(j); ++j) {
+    }
+    for (auto j = j0 - 1; j >= from && one(j); --j) {
     }
   };
   // A stock dense enough to hold more than kPairScan singles in a range has pairs within a
@@ -296,27 +335,42 @@ void Shelf::nearest_from(const ValueIndex& idx, const std::vector<double>& tripl
     Join join = Join::single;
     bool operator<(const Found& o) const { return distance < o.distance; }
   };
-  // (Kept per thread: a pair scan offers hundreds, and a miss of nearest()'s memo comes here.)
+  // Every offer as near as the `keep`-th nearest (4n + 4: a value can come from several
+  // recipes), ties included: `best` holds the keep least distances so far (a heap, the
+  // furthest on top), and an offer further than those is not taken; those taken before the
+  // bound fell below them leave at the end. (Kept per thread: a miss of nearest()'s memo
+  // comes here.)
+  const std::size_t keep = 4 * n + 4;
   thread_local std::vector<Found> found;
+  thread_local std::vector<double> best;
   found.clear();
+  best.clear();
+  auto bound = [&] { return best.size() < keep ? std::numeric_limits<double>::infinity() : best.front(); };
   auto consider = [&](double value, std::uint32_t a, std::uint32_t b, Join join) {
-    found.push_back({value > target ? value / target : target / value, value, a, b, join});
+    const double distance = value > target ? value / target : target / value;
+    if (distance > bound()) return;
+    found.push_back({distance, value, a, b, join});
+    best.push_back(distance);
+    std::push_heap(best.begin(), best.end());
+    if (best.size() > keep) {
+      std::pop_heap(best.begin(), best.end());
+      best.pop_back();
+    }
   };
   thread_local std::vector<double> near;
   near.clear();
   nearest_in(idx.value, target, n, near);
   nearest_in(triples, target, n, near);
   for (double value : near) consider(value, 0, 0, Join::single);
-  if (combine_ >= 2) pairs_near(idx, target, n, consider);
-  // The nearest few, sorted (a value found twice counts once).
-  const std::size_t keep = std::min(found.size(), 4 * n + 4);
-  if (keep == 0) return;
-  std::nth_element(found.begin(), found.begin() + static_cast<std::ptrdiff_t>(keep - 1), found.end());
+  if (combine_ >= 2) pairs_near(idx, target, n, consider, bound);
+  const double furthest = bound();
+  std::erase_if(found, [&](const Found& f) { return f.distance > furthest; });
+  if (found.empty()) return;
   // Where two recipes make one value, the better first (as resistors() sorts them: stocked,
   // fewest pieces, tightest), so that it is the one remembered.
-  std::vector<std::pair<Found, Combo>> window;
-  for (std::size_t k = 0; k < keep; ++k) {
-    const Found& f = found[k];
+  thread_local std::vector<std::pair<Found, Combo>> window;
+  window.clear();
+  for (const Found& f : found) {
     if (f.join != Join::single) {
       window.emplace_back(f, make_combo(store::PartKind::resistor, f.join, {f.a, f.b}));
       continue;
@@ -331,10 +385,14 @@ void Shelf::nearest_from(const ValueIndex& idx, const std::vector<double>& tripl
     if (!c) c = first_of(r3_);
     window.emplace_back(f, c ? *c : Combo{});
   }
+  // (Then by value and recipe: recipes that tie on all of that come in the same order whatever
+  // order the scan offered them in.)
   std::sort(window.begin(), window.end(), [](const auto& x, const auto& y) {
     if (x.first.distance != y.first.distance) return x.first.distance < y.first.distance;
-    return std::make_tuple(x.second.purchase, x.second.count, x.second.hi - x.second.lo) <
-           std::make_tuple(y.second.purchase, y.second.count, y.second.hi - y.second.lo);
+    return std::make_tuple(x.second.purchase, x.second.count, x.second.hi - x.second.lo, x.first.value, x.first.a,
+                           x.first.b, x.first.join) < std::make_tuple(y.second.purchase, y.second.count,
+                                                                      y.second.hi - y.second.lo, y.first.value,
+                                                                      y.first.a, y.first.b, y.first.join);
   });
   std::size_t taken = 0;
   double last = -1;

@@ -12,8 +12,10 @@
 //  2. Electrolytics are never put in series; capacitors of other kinds are.
 //  3. Memory stays linear in the stock: resistor pairs are never tabled. nearest() and
 //     spread() find them on the fly (for each single a in reach, the partners b nearest the
-//     b that would make a+b or a||b hit the target: one binary search; on a dense stock at
-//     most 64 singles of each range, spread over it), and resistor() works
+//     b that would make a+b or a||b hit the target: one search, started from the last
+//     single's, since that b falls as a grows; on a dense stock at most 64 singles of each
+//     range, spread over it; each side of b taken outward only while the pair is nearer than
+//     the 4n + 4 nearest offered so far), and resistor() works
 //     out a value's recipe once and remembers it. Each distinct value makes its pairs with
 //     the best line group of that value (stocked before purchasable, then the tightest).
 //     Capacitors (a few dozen values) and triples (--combine 3, among the 120 best-stocked
@@ -120,9 +122,11 @@ class Shelf final : public stages::ValueSource {
     std::vector<std::uint32_t> group;  ///< the best group of each
   };
   /// Calls f(nominal, group a, group b, join) for the pairs near target from idx: for every single in reach, the
-  /// n partners either side of the ideal one, in series and in parallel.
-  template <class F>
-  void pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& f) const;
+  /// n partners either side of the ideal one, in series and in parallel, each side outward from the ideal
+  /// (the pair moves away from target at every step) until a pair lies as far as bound() (a ratio >= 1: the
+  /// caller has enough pairs that near) or the n are done.
+  template <class F, class B>
+  void pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& f, B&& bound) const;
   /// The n nearest distinct values made from idx (and the triples table) to target.
   void nearest_from(const ValueIndex& idx, const std::vector<double>& triples, double target, std::size_t n,
                     std::vector<double>& out) const;
