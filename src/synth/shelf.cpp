@@ -306,9 +306,9 @@ void Shelf::pairs_near(const ValueIndex& idx, double target, std::size_t n, F&& 
     auto one = [&](std::ptrdiff_t j) {
       const auto ju = static_cast<std::size_t>(j);
       const double value = join == Join::series ? v[i] + v[ju] : v[i] * v[ju] / (v[i] + v[ju]);
-      // (Past the bound by more than rounding: the pair's value is monotonic in its partner
-      // only to the last bit.)
-      if ((value > target ? value / target : target / value) > bound() * (1 + 1e-12)) return false;
+      // (The bound allows for rounding: the pair's value is monotonic in its partner only to
+      // the last bit.)
+      if ((value > target ? value / target : target / value) > bound()) return false;
       if (!pair_ok(store::PartKind::resistor, join, idx.group[i], idx.group[ju])) return true;
       // The smaller value first, as the tables list a pair's pieces.
       const auto [ga, gb] =
@@ -335,24 +335,31 @@ void Shelf::nearest_from(const ValueIndex& idx, const std::vector<double>& tripl
     Join join = Join::single;
     bool operator<(const Found& o) const { return distance < o.distance; }
   };
-  // Every offer as near as the `keep`-th nearest (4n + 4: a value can come from several
-  // recipes), ties included: `best` holds the keep least distances so far (a heap, the
+  // Every offer as near as the n-th nearest distinct value, with every recipe of the values
+  // kept: `best` holds the distances of the n nearest distinct values so far (a heap, the
   // furthest on top), and an offer further than those is not taken; those taken before the
-  // bound fell below them leave at the end. (Kept per thread: a miss of nearest()'s memo
-  // comes here.)
-  const std::size_t keep = 4 * n + 4;
+  // bound fell below them leave at the end. (A value may come from a dozen recipes: counted
+  // by recipe, the nearest few offers could all be one value. A value's recipes lie within
+  // rounding of one distance: the bound allows for it. Kept per thread: a miss of
+  // nearest()'s memo comes here.)
+  constexpr double kRounding = 1e-9;
+  if (n == 0) return;
   thread_local std::vector<Found> found;
   thread_local std::vector<double> best;
   found.clear();
   best.clear();
-  auto bound = [&] { return best.size() < keep ? std::numeric_limits<double>::infinity() : best.front(); };
+  auto bound = [&] {
+    return best.size() < n ? std::numeric_limits<double>::infinity() : best.front() * (1 + kRounding);
+  };
   auto consider = [&](double value, std::uint32_t a, std::uint32_t b, Join join) {
     const double distance = value > target ? value / target : target / value;
     if (distance > bound()) return;
+    const bool known = std::any_of(found.begin(), found.end(), [&](const Found& f) { return same(f.value, value); });
     found.push_back({distance, value, a, b, join});
+    if (known) return;
     best.push_back(distance);
     std::push_heap(best.begin(), best.end());
-    if (best.size() > keep) {
+    if (best.size() > n) {
       std::pop_heap(best.begin(), best.end());
       best.pop_back();
     }

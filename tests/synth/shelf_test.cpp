@@ -4,8 +4,11 @@
 #include <doctest/doctest.h>
 
 #include <algorithm>
+#include <cmath>
+#include <cstdint>
 
 #include "fixture.hpp"
+#include "shelfstage/units/eseries.hpp"
 
 using namespace shelfstage;
 using synth::Join;
@@ -145,4 +148,48 @@ TEST_CASE("nearest offers the nearest values and the nearest single parts on eit
   CHECK(std::find(out.begin(), out.end(), 10680.0) != out.end());  // 10k+680, the nearest
   CHECK(std::find(out.begin(), out.end(), 10e3) != out.end());     // and the singles around it
   CHECK(std::find(out.begin(), out.end(), 12e3) != out.end());
+}
+
+TEST_CASE("nearest's values are the nearest of the whole table of singles and pairs (E12 and E24 shelves)") {
+  // The table (Shelf::resistors(): every single and every pair the rules allow, built by
+  // enumeration) is the reference; nearest() finds pairs on the fly. On these shelves every
+  // range of singles it scans holds fewer than its limit, so the two must agree: the k-th
+  // value nearest() gives lies as far from the target (as a ratio) as the table's k-th
+  // distinct value. E12 and E24 values from IEC 60063.
+  for (int series : {12, 24}) {
+    CAPTURE(series);
+    std::vector<store::Part> parts;
+    std::int64_t id = 1;
+    for (double decade = 1; decade <= 1e5; decade *= 10)
+      for (double m : units::eseries(series)) {
+        parts.push_back(test::resistor(id, m * decade, static_cast<int>(1 + id % 3), "A1", 0.01));
+        ++id;
+      }
+    const Shelf shelf(parts, {});
+    std::vector<double> table;
+    for (const auto& c : shelf.resistors()) table.push_back(c.nominal);
+    auto distance = [](double v, double t) { return std::abs(std::log(v / t)); };
+    std::uint64_t state = 12345;
+    for (int k = 0; k < 300; ++k) {
+      state = state * 6364136223846793005ULL + 1442695040888963407ULL;
+      const double target = 30.0 * std::pow(10.0, 4.0 * static_cast<double>(state >> 11) / 9007199254740992.0);
+      std::vector<double> sorted = table;
+      std::sort(sorted.begin(), sorted.end(),
+                [&](double a, double b) { return distance(a, target) < distance(b, target); });
+      std::vector<double> distinct;
+      for (double v : sorted)
+        if (std::none_of(distinct.begin(), distinct.end(),
+                         [&](double d) { return std::abs(d - v) <= 1e-9 * std::max(d, v); }))
+          distinct.push_back(v);
+      for (std::size_t n : {1u, 2u, 3u}) {
+        CAPTURE(target);
+        CAPTURE(n);
+        std::vector<double> out;
+        shelf.nearest(target, n, out);
+        REQUIRE(out.size() >= n);
+        for (std::size_t i = 0; i < n; ++i)
+          CHECK(distance(out[i], target) == doctest::Approx(distance(distinct[i], target)).epsilon(1e-9).scale(1));
+      }
+    }
+  }
 }
