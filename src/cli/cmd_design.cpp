@@ -212,6 +212,7 @@ synth::DesignResult run_design_on(store::Database& db, const synth::Spec& spec, 
     ctx.out << fmt::format("Searched {} stage proposals ({} evaluations) in {:.2f} s.\n\n", r.proposals, r.evaluations,
                            r.seconds);
     ctx.out << report::candidates_table(r);
+    if (const std::string note = report::gain_window_note(r); !note.empty()) ctx.out << "\n" << note;
     const auto& best = r.candidates.front();
     ctx.out << fmt::format(
         "\nScore: gain error in percent points, half the nominal plus the worst case, plus one per piece.\n");

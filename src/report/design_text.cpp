@@ -169,6 +169,26 @@ std::string candidates_table(const synth::DesignResult& r) {
   return out;
 }
 
+std::string gain_window_note(const synth::DesignResult& r) {
+  const synth::Spec& s = r.spec;
+  std::vector<std::string> outside;
+  for (const auto& c : r.candidates)
+    if (c.error_worst > s.gain_tol) outside.push_back("#" + std::to_string(c.rank));
+  if (outside.empty()) return {};
+  const std::string window = fmt::format("{}..{} (±{:g} %)", fixed3(s.gain * (1 - s.gain_tol)),
+                                         fixed3(s.gain * (1 + s.gain_tol)), 100 * s.gain_tol);
+  const std::string why =
+      "the spread of the transistors and the parts' tolerances carry the gain out of it (a measured piece, "
+      "--piece, narrows a transistor's spread; --gain-tol widens the window)";
+  if (outside.size() == r.candidates.size())
+    return fmt::format("No design here holds the gain within {} at every corner: {}. The closest are listed.\n", window,
+                       why);
+  std::string list;
+  for (const auto& o : outside) list += (list.empty() ? "" : ", ") + o;
+  return fmt::format("{} leave{} the gain window {} at some corner: {}.\n", list, outside.size() == 1 ? "s" : "",
+                     window, why);
+}
+
 namespace {
 
 std::string loop_lines(const synth::Candidate& s, const std::string& whose) {

@@ -136,6 +136,37 @@ TEST_CASE("candidates_table: one line of figures per candidate, its recipes unde
   }
 }
 
+TEST_CASE("gain_window_note: the listed designs whose worst case leaves the gain window, named with it") {
+  // From a real search on the demo shelf (a JFET stage's gain spreads with IDSS), then the
+  // window set against each design's own worst error.
+  const auto inv = test::demo_inventory();
+  synth::Spec spec = test::request("jfet-cs-self", "SJ-101", 5, 12, 0.5);
+  spec.top = 3;
+  synth::DesignResult r = synth::design(spec, inv);
+  REQUIRE(r.candidates.size() >= 2);
+  double most = 0, least = 1;
+  for (const auto& c : r.candidates) {
+    most = std::max(most, c.error_worst);
+    least = std::min(least, c.error_worst);
+  }
+  // Every one inside: nothing to say.
+  r.spec.gain_tol = std::min(0.99, most + 0.01);
+  CHECK(report::gain_window_note(r).empty());
+  // Every one outside: said of them all, with the window in gain.
+  r.spec.gain_tol = least / 2;
+  const std::string all = report::gain_window_note(r);
+  CHECK(all.find("No design here holds the gain within") != std::string::npos);
+  CHECK(all.find(fmt::format("{}..{}", report::fixed3(r.spec.gain * (1 - r.spec.gain_tol)),
+                             report::fixed3(r.spec.gain * (1 + r.spec.gain_tol)))) != std::string::npos);
+  // Some: those named by their rank, and only those.
+  r.candidates[0].error_worst = 0.5 * r.spec.gain_tol;
+  for (std::size_t k = 1; k < r.candidates.size(); ++k) r.candidates[k].error_worst = 2 * r.spec.gain_tol;
+  const std::string some = report::gain_window_note(r);
+  CHECK(some.find("#1") == std::string::npos);
+  CHECK(some.find("#2") != std::string::npos);
+  CHECK(some.find("leave") != std::string::npos);
+}
+
 TEST_CASE("recipe_line and device_text: a stage's roles in order; a chain's by stage, its devices in signal order") {
   synth::Candidate a, b, chain;
   a.device.name = "SJ-101";

@@ -23,6 +23,11 @@ std::string spread_words(const synth::Spec& spec);
 /// role with its recipe ("RD 10k+150  RS2 2k2||6k8").
 std::string candidates_table(const synth::DesignResult& r);
 
+/// A word under the table when listed candidates leave the gain window (Spec::gain_tol) at
+/// some corner (they are ranked by their worst error, not refused for it): which, and the
+/// window; empty when every one holds it at every corner.
+std::string gain_window_note(const synth::DesignResult& r);
+
 /// The roles of one candidate with their recipes on one line.
 std::string recipe_line(const synth::Candidate& c);
 /// The device for people: "SJ-101 [bag 3]", or each stage's for a chain: "SJ-101 > KB-547".
