@@ -65,8 +65,12 @@ BjtBias bjt_bias(const devices::BjtInstance& q, double vth, double rth, double r
   BjtBias b;
   const double inv_vaf = (q.vaf_v > 0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
   // Unknown VBE; IC = IS*exp(VBE/VT)*(1 + VCB/VAF), IB = IS*exp(VBE/VT)/BF (forward active).
-  // KVL: vth = IB*rth + VBE + IE*re. Newton on VBE with the Early factor from the last VCE.
+  // KVL: vth = IB*rth + VBE + IE*re. Newton on VBE with the Early factor from the last VCE,
+  // from the VBE of the current the loop would carry with 0.65 V across the junction (a few
+  // iterations fewer than from 0.65 V itself; the same root).
   double vbe = 0.65;
+  if (const double ic0 = (vth - 0.65) / (re * (1.0 + 1.0 / q.bf) + rth / q.bf); ic0 > 0 && std::isfinite(ic0))
+    vbe = std::clamp(q.vt_v * std::log1p(ic0 / q.is_a), 0.3, 0.9);
   double early = 1.0;
   for (int it = 0; it < 60; ++it) {
     const double e = std::exp(vbe / q.vt_v);
