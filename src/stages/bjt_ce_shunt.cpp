@@ -66,15 +66,11 @@ constexpr detail::CommonRoles kCommon{RC, RE1, RE2, CE, CIN, COUT};
 detail::BjtBias feedback_bias(const devices::BjtInstance& q, const Values& v, double vcc) {
   const double inv_vaf = (q.vaf_v > 0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
   const double rf = v[RF], rc = v[RC], re = v[RE1] + v[RE2], g_rb = v[RB] > 0 ? 1.0 / v[RB] : 0.0;
-  // Newton from the VBE of the current the loop would carry with 0.65 V across the junction
-  // (KVL from the rail through RC and RF: linear in IC then): a few iterations fewer than
-  // from 0.65 V itself, the same root.
-  double vbe = 0.65, early = 1.0;
-  {
-    const double k = rc + (rc + rf) / q.bf + re + re * g_rb * (rc + rf);
-    const double ic0 = (vcc - 0.65 - 0.65 * g_rb * (rc + rf)) / k;
-    if (ic0 > 0 && std::isfinite(ic0)) vbe = std::clamp(q.vt_v * std::log1p(ic0 / q.is_a), 0.3, 0.9);
-  }
+  // Newton's start: KVL from the rail through RC and RF is linear in IC with 0.65 V across
+  // the junction.
+  double vbe = detail::newton_start_vbe(
+      q, (vcc - 0.65 - 0.65 * g_rb * (rc + rf)) / (rc + (rc + rf) / q.bf + re + re * g_rb * (rc + rf)));
+  double early = 1.0;
   for (int it = 0; it < 80; ++it) {
     const double e = std::exp(vbe / q.vt_v), is_e = q.is_a * (e - 1.0), dis = q.is_a * e / q.vt_v;
     const double ib = is_e / q.bf, ic = is_e * early;

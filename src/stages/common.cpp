@@ -61,16 +61,17 @@ JfetBias jfet_bias(const devices::JfetInstance& q, double vg, double rs, double 
   return b;
 }
 
+double newton_start_vbe(const devices::BjtInstance& q, double ic0_a) {
+  if (!(ic0_a > 0) || !std::isfinite(ic0_a)) return 0.65;
+  return std::clamp(q.vt_v * std::log1p(ic0_a / q.is_a), 0.3, 0.9);
+}
+
 BjtBias bjt_bias(const devices::BjtInstance& q, double vth, double rth, double re, double rc, double vcc) {
   BjtBias b;
   const double inv_vaf = (q.vaf_v > 0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
   // Unknown VBE; IC = IS*exp(VBE/VT)*(1 + VCB/VAF), IB = IS*exp(VBE/VT)/BF (forward active).
-  // KVL: vth = IB*rth + VBE + IE*re. Newton on VBE with the Early factor from the last VCE,
-  // from the VBE of the current the loop would carry with 0.65 V across the junction (a few
-  // iterations fewer than from 0.65 V itself; the same root).
-  double vbe = 0.65;
-  if (const double ic0 = (vth - 0.65) / (re * (1.0 + 1.0 / q.bf) + rth / q.bf); ic0 > 0 && std::isfinite(ic0))
-    vbe = std::clamp(q.vt_v * std::log1p(ic0 / q.is_a), 0.3, 0.9);
+  // KVL: vth = IB*rth + VBE + IE*re. Newton on VBE with the Early factor from the last VCE.
+  double vbe = newton_start_vbe(q, (vth - 0.65) / (re * (1.0 + 1.0 / q.bf) + rth / q.bf));
   double early = 1.0;
   for (int it = 0; it < 60; ++it) {
     const double e = std::exp(vbe / q.vt_v);

@@ -34,6 +34,10 @@ struct BjtBias {
 };
 BjtBias bjt_bias(const devices::BjtInstance& q, double vth_v, double rth_ohm, double re_ohm, double rc_ohm,
                  double vcc_v);
+/// Where a bias solve's Newton on VBE starts: the VBE of ic0_a, the current the loop would
+/// carry with 0.65 V across the junction (a few iterations fewer than from 0.65 V itself; the
+/// same root), kept within 0.3..0.9 V; 0.65 V when that current is none.
+double newton_start_vbe(const devices::BjtInstance& q, double ic0_a);
 
 /// A low-frequency section of the response: a high-pass pole (zero at DC), or a shelf
 /// (a pole with a zero above DC, as a bypassed resistor makes).

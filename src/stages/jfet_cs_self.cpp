@@ -96,7 +96,7 @@ class JfetCsSelf final : public Topology {
     if (g.max_current_a > 0) frac_max = std::min(frac_max, g.max_current_a / j.idss_a);
     // Not below the current that can carry the swing into the load.
     const double frac_min = std::max(0.03, detail::least_swing_current(g, c.load_ohm) / j.idss_a);
-    if (frac_max < 0.02 || frac_min > frac_max) return;
+    if (frac_min > frac_max) return;
     std::vector<double> rs_tot;
     shelf.spread(rs_for(frac_max), rs_for(frac_min), 16, rs_tot);
     for (double rg : rgs) {
