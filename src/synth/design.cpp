@@ -1000,17 +1000,17 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
   if (binding == "capacitor")
     return "the shelf holds no capacitor large enough, or rated high enough, for the band and the supply (" +
            t.capacitor_need + ")";
+  // A stop in words without its key ("rating: SQ-410 may hold ..." -> "SQ-410 may hold ...").
+  const auto words = [](const std::string& stop) { return stop.substr(stop.find(':') + 2); };
   const auto example = [&](const std::string& k) {
     const auto it = t.corner_examples.find(k);
-    return it == t.corner_examples.end() ? std::string()
-                                         : " (for one: " + it->second.substr(it->second.find(':') + 2) + ")";
+    return it == t.corner_examples.end() ? std::string() : " (for one: " + words(it->second) + ")";
   };
   if (binding == "rating" && all_past_rating)
     return fmt::format(
         "no stocked device may take a supply of {:.3g} V (common practice: a transistor holds at most {:.0f} % of "
         "its VCEO or VDS(max), an op-amp's span stays within its rating; for one: {})",
-        std::abs(spec.supply_hi_v), 100 * kDeviceVoltageShare,
-        t.past_rating_example.substr(t.past_rating_example.find(':') + 2));
+        std::abs(spec.supply_hi_v), 100 * kDeviceVoltageShare, words(t.past_rating_example));
   if (binding == "rating") return "every stage that works runs a part beyond its rating" + example("rating");
   if (binding == "stability")
     return fmt::format(
