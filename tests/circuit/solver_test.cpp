@@ -334,21 +334,16 @@ TEST_CASE("Hard DC case against ngspice: the saturated switch with its stiff bas
 }
 
 TEST_CASE("A warm start (SolverOptions::start) reaches the cold start's operating point in fewer iterations") {
-  // A common-emitter stage driven quasi-statically from cutoff through the active region into
-  // saturation, each point started from the last, as the swing and distortion sweeps do.
-  Circuit c;
-  c.vsource("VDD", "supply", "vdd", "0", 12.0);
-  c.vsource("VIN", "signal", "drive", "0", 0.0);
-  c.resistor("RB", "RB", "drive", "base", 47e3);
-  c.resistor("RC", "RC", "vdd", "col", 4.7e3);
-  c.resistor("RE", "RE", "emit", "0", 470.0);
-  c.bjt("Q1", "col", "base", "emit", bjt());
+  // The common-emitter stage above driven quasi-statically by its base divider, from cutoff
+  // (R2 1k: the base at 0.25 V) through the active region into saturation (R2 100k), each
+  // point started from the last, as the swing and distortion sweeps do.
+  Circuit c = bjt_stage(devices::DeviceKind::npn);
   circuit::OperatingPoint last;
   int warm_iterations = 0, cold_iterations = 0;
   for (int k = 0; k <= 40; ++k) {
-    const double vin = -1.0 + 0.15 * k;  // -1 V (off) .. 5 V (saturated)
-    CAPTURE(vin);
-    c.set_value("VIN", vin);
+    const double r2 = 1e3 * std::pow(100.0, k / 40.0);
+    CAPTURE(r2);
+    c.set_value("R2", r2);
     const auto cold = circuit::solve_dc(c);
     circuit::SolverOptions o;
     if (k > 0) o.start = &last;
@@ -363,6 +358,7 @@ TEST_CASE("A warm start (SolverOptions::start) reaches the cold start's operatin
     }
     last = warm;
   }
+  CHECK(last.devices.front().bjt_saturated);
   MESSAGE("Newton iterations over the sweep: " << warm_iterations << " warm, " << cold_iterations << " cold");
   CHECK(2 * warm_iterations < cold_iterations);
   // The saturated end against ngspice (the outside check of the point the sweep reached).
