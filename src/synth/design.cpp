@@ -341,9 +341,9 @@ struct CapacitorSizing {
   CapacitorCache& cache;
 };
 
-// Each capacitor from the shelf: at least its target, rated for its DC and the peak. False
-// when the shelf has none (what was needed goes to stats).
-bool fit_capacitors(const CapacitorSizing& cs, StageBuilder::Draft& d, SearchStats& stats) {
+// Each capacitor from the shelf: at least its target, rated for its DC and the peak. When the
+// shelf has none, what was needed (SearchStats::capacitor_need); empty when every one fits.
+std::string fit_capacitors(const CapacitorSizing& cs, StageBuilder::Draft& d) {
   const auto roles = cs.topology.roles();
   for (std::size_t i = 0; i < roles.size(); ++i) {
     if (roles[i].kind != 'C' || !(cs.targets[i] > 0)) continue;
@@ -358,17 +358,14 @@ bool fit_capacitors(const CapacitorSizing& cs, StageBuilder::Draft& d, SearchSta
     // small). The corner pass then checks it is never reversed.
     const bool allow_pol = roles[i].polar_ok && dc >= 0.3;
     const Combo* combo = cs.cache.find(cs.shelf, cs.targets[i], dc + cs.peak, allow_pol);
-    if (!combo) {
-      ++stats.failures["capacitor"];
-      stats.capacitor_need = fmt::format("{} of {} needs at least {} {}rated above {:.3g} V", roles[i].name,
-                                         cs.topology.name(), units::format_value(cs.targets[i], units::Unit::farad),
-                                         allow_pol ? "" : "non-polarised ", 1.25 * (dc + cs.peak));
-      return false;
-    }
+    if (!combo)
+      return fmt::format("{} of {} needs at least {} {}rated above {:.3g} V", roles[i].name, cs.topology.name(),
+                         units::format_value(cs.targets[i], units::Unit::farad), allow_pol ? "" : "non-polarised ",
+                         1.25 * (dc + cs.peak));
     d.combos[i] = combo;
     d.values[i] = combo->nominal;
   }
-  return true;
+  return {};
 }
 
 // A draft's pieces (the transistor and every combo's) and the pieces to buy for every copy
@@ -459,44 +456,51 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   for (std::size_t i = 0; i < roles.size(); ++i)
     if (roles[i].kind == 'C') trial[i] = targets[i];
   // Most proposals miss the gain window or a constraint already with ideal capacitors:
-  // one evaluation settles them before any capacitor is looked up.
-  // The distortion (a power series, the costliest part of an evaluation) only for those that
-  // pass without it: without it the swing is the clipping point and the THD nil, so a stage
-  // that fails then fails with it as well.
+  // one evaluation, without the distortion (a power series, the costliest part of an
+  // evaluation), settles them before any capacitor is looked up. Without it the swing is the
+  // clipping point and the THD nil, so a stage that fails then fails with it as well.
   // On one supply the screen's conditions are the stress pass's (the highest supply, no
   // distortion): one evaluation with the parts' stress serves both.
   const bool one_supply = spec_.supply_lo_v == spec_.supply_hi_v;
   auto ideal = t.evaluate(trial, q_, first_, one_supply ? stages::Detail::stress : stages::Detail::core);
   ++stats.evaluations;
   if (!meets_request(spec_, ideal, stats, true)) return false;
-  if (screen_.distortion) {
+  // The distortion is worked out once, by the nominal evaluation at the end, with the
+  // capacitors fitted: the mid-band figures it screens (the swing, the THD, the current and
+  // Zin) do not depend on the capacitors. A draft that stops before then for another reason
+  // takes the distortion screen first, with the ideal capacitors, so that a stage failing
+  // both is counted as failing the screen (the counts of screening first, SearchStats).
+  auto fails_screen = [&] {
+    if (!screen_.distortion) return false;
     ++stats.evaluations;
-    if (!meets_request(spec_, t.evaluate(trial, q_, screen_, stages::Detail::core), stats, true)) return false;
-  }
+    return !meets_request(spec_, t.evaluate(trial, q_, screen_, stages::Detail::core), stats, true);
+  };
+  auto stop = [&](const char* why) {
+    if (!fails_screen()) ++stats.failures[why];
+    return false;
+  };
   const auto pre = one_supply ? std::move(ideal) : t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
   if (!one_supply) ++stats.evaluations;
-  if (!pre.valid) {
-    ++stats.failures["bias"];
-    return false;
-  }
+  if (!pre.valid) return stop("bias");
   // A capacitor across part of the common leg holds its DC when the supply goes and reverses
   // the control junction by as much (detail::device_stress): past the device's reverse rating
   // at nominal already, no corner will pass it, so the draft stops here rather than taking a
   // family's place in the corner pass.
   if (const auto& vrev = device_.ratings.v_rev_max_v)
     for (const auto& st : pre.stress)
-      if (st.role < roles.size() && roles[st.role].holds_leg && std::abs(st.dc_v) > kDeviceVoltageShare * *vrev) {
-        ++stats.failures["rating"];
-        return false;
-      }
-  if (!fit_capacitors({t, targets, pre, detail::signal_peak(spec_, pre), shelf_, cache_->capacitors}, d, stats))
-    return false;
-  // One quantity pool: every role and every copy.
-  const int short_by = shortfall(d.combos);
-  if (short_by < 0) {
-    ++stats.failures["stock"];
+      if (st.role < roles.size() && roles[st.role].holds_leg && std::abs(st.dc_v) > kDeviceVoltageShare * *vrev)
+        return stop("rating");
+  if (std::string need =
+          fit_capacitors({t, targets, pre, detail::signal_peak(spec_, pre), shelf_, cache_->capacitors}, d);
+      !need.empty()) {
+    if (fails_screen()) return false;
+    ++stats.failures["capacitor"];
+    stats.capacitor_need = std::move(need);
     return false;
   }
+  // One quantity pool: every role and every copy.
+  const int short_by = shortfall(d.combos);
+  if (short_by < 0) return stop("stock");
   const stages::Performance nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
   ++stats.evaluations;
   if (!meets_request(spec_, nominal, stats, false)) return false;
