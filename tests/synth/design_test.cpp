@@ -579,6 +579,31 @@ TEST_CASE("a measured piece narrows the spread, and the ranking shows it") {
   CHECK(measured.candidates.front().score < spread.candidates.front().score);
 }
 
+TEST_CASE("designs alike in score and pieces are listed by the lesser supply current") {
+  // The demo's request on the demo shelf: its op-amp stages take a reference divider at half
+  // the supply, and 100k/100k scores the same as 10k/10k (the divider leaves the gain, the
+  // band and the swing as they are; two resistors either way) while drawing a tenth of the
+  // current. Common practice: of two otherwise equal circuits, build the one that draws less.
+  synth::Spec s = test::basic_spec(10);
+  s.zin_min_ohm = 100e3;
+  s.source_ohm = 1e3;
+  s.swing_vpp = 2;
+  s.max_thd = 0.01;
+  s.mc_samples = 0;
+  s.top = 10;
+  const auto r = synth::design(s, test::demo_shelf());
+  REQUIRE(r.candidates.size() >= 2);
+  int ties = 0;
+  for (std::size_t i = 1; i < r.candidates.size(); ++i) {
+    const auto &a = r.candidates[i - 1], &b = r.candidates[i];
+    if (std::llround(a.score * 1e6) != std::llround(b.score * 1e6) || a.pieces != b.pieces) continue;
+    ++ties;
+    CAPTURE(i);
+    CHECK(a.nominal.supply_current_a <= b.nominal.supply_current_a + 1e-9);
+  }
+  CHECK(ties >= 1);  // the request has such ties (else the check above says nothing)
+}
+
 TEST_CASE("the Monte Carlo yield is reproducible for a seed") {
   synth::Inventory inv = test::small_shelf(10, {test::njfet()});
   auto s = test::basic_spec(4);
