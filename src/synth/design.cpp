@@ -419,6 +419,10 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
   // gains the stages reach, takes every figure whole).
   first_ = gain_only_;
   if (!probe) detail::set_screen_floors(first_, spec);
+  // The quick estimate reads the gain alone: no stage's gain, bias or region depends on the
+  // band's edges, only its losses there (and an op-amp stage's slew-limited swing), which it
+  // then leaves out.
+  gain_only_.band_lo_hz = gain_only_.band_hi_hz = 0;
 }
 
 StageBuilder::~StageBuilder() = default;
@@ -743,7 +747,8 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
 //     (StageBuilder::quick_from over every corner piece) is a floor too, less a slack of a millionth of gain error
 //     for rounding: it takes the gain at the device's corner pieces with the parts nominal at
 //     that supply and temperature, a point the corner pass evaluates as well (with the
-//     distortion or the parts' stress worked out, which leave the gain as it is), and the
+//     distortion, the band's losses or the parts' stress worked out, which leave the gain as
+//     it is: tests/synth/evaluate_test.cpp holds the band's to that), and the
 //     corner pass's worst error is the largest over its points. An estimate that met an
 //     invalid corner says nothing (that corner fails the pass too, but the draft's floor is
 //     left as it is).
