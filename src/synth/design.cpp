@@ -988,6 +988,13 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
         "a swing of {:.3g} Vpp does not fit in a supply of {}: a stage's output swings within its "
         "rail (less its transistor's headroom)",
         *spec.swing_vpp, units::format_value(spec.supply_lo_v, units::Unit::volt));
+  // Stages with the gain that swing enough at nominal, stopped by something else (the swing at
+  // a corner, or another limit): the largest swing they reach says nothing against the swing.
+  if (binding == "swing" && t.best_swing >= detail::least_swing_peak(spec))
+    return fmt::format(
+        "stages with the gain swing {:.3g} Vpp at nominal (up to {:.3g} Vpp), but none that does meets the rest "
+        "of the request",
+        2 * detail::least_swing_peak(spec), 2 * t.best_swing);
   if (binding == "swing")
     return fmt::format("no stage swings {:.3g} Vpp{} at every corner: the best reaches {:.3g} Vpp at nominal",
                        2 * detail::least_swing_peak(spec),
