@@ -529,6 +529,22 @@ thread_local std::unique_ptr<NearestMemo> spread_memo;
 
 }  // namespace
 
+namespace {
+
+// A value offered twice (the nearest single part is often among the nearest values already;
+// on a shelf with purchases the stock's nearest are often the market's) is kept once, where
+// it first came: every design step would only propose the same values again. Only what this
+// call appended, from `start`, and only values equal to the bit (the proposals' dedup is by
+// bits: the search drafts exactly what it did before).
+void drop_repeats(std::vector<double>& out, std::size_t start) {
+  auto end = out.begin() + static_cast<std::ptrdiff_t>(start);
+  for (auto it = end; it != out.end(); ++it)
+    if (std::find(out.begin() + static_cast<std::ptrdiff_t>(start), end, *it) == end) *end++ = *it;
+  out.erase(end, out.end());
+}
+
+}  // namespace
+
 void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) const {
   if (r_index_.value.empty() || !(target > 0)) return;
   std::uint64_t bits = 0;
@@ -548,6 +564,7 @@ void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) cons
   const auto s1 = std::lower_bound(r_singles_.begin(), r_singles_.end(), target);
   if (s1 != r_singles_.end()) out.push_back(*s1);
   if (s1 != r_singles_.begin()) out.push_back(*(s1 - 1));
+  drop_repeats(out, start);
   e.shelf = serial_;
   e.key = bits;
   e.n = n;
@@ -584,6 +601,7 @@ void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>&
   };
   spread_from(r_index_, r3_values_);
   if (market_) spread_from(r_stock_index_, r3_stock_values_);
+  drop_repeats(out, start);
   e.shelf = serial_;
   e.key = lo_bits;
   e.key2 = hi_bits;

@@ -150,6 +150,35 @@ TEST_CASE("nearest offers the nearest values and the nearest single parts on eit
   CHECK(std::find(out.begin(), out.end(), 12e3) != out.end());
 }
 
+TEST_CASE("nearest and spread offer each value once, on a shelf with purchases too") {
+  // The nearest single parts on either side are often among the nearest values already, and
+  // on a shelf with purchases (E24 added, IEC 60063) the stock's nearest values often are the
+  // market's: each is offered once, where it first came.
+  std::vector<store::Part> parts;
+  std::int64_t id = 1;
+  for (const double v : {100.0, 470.0, 1e3, 2.2e3, 4.7e3, 10e3, 47e3, 100e3})
+    parts.push_back(test::resistor(id++, v, 5));
+  Shelf::Options market;
+  market.add_purchases = true;
+  for (const Shelf::Options& o : {Shelf::Options{}, market}) {
+    const Shelf shelf(parts, o);
+    int offered = 0;
+    for (const double target : {150.0, 470.0, 999.0, 3.3e3, 4.7e3, 12.3e3, 47e3}) {
+      std::vector<double> near{-1.0}, spread{-1.0};  // (what was there before stays)
+      shelf.nearest(target, 2, near);
+      shelf.spread(target / 10, target, 8, spread);
+      for (const auto* v : {&near, &spread}) {
+        CHECK(v->front() == -1.0);
+        auto sorted = *v;
+        std::sort(sorted.begin(), sorted.end());
+        CHECK(std::adjacent_find(sorted.begin(), sorted.end()) == sorted.end());
+        offered += static_cast<int>(v->size()) - 1;
+      }
+    }
+    CHECK(offered > 30);
+  }
+}
+
 TEST_CASE("nearest's values are the nearest of the whole table of singles and pairs (E12 and E24 shelves)") {
   // The table (Shelf::resistors(): every single and every pair the rules allow, built by
   // enumeration) is the reference; nearest() finds pairs on the fly. On these shelves every

@@ -95,7 +95,8 @@ class Shelf final : public stages::ValueSource {
 
   // ValueSource (resistances). On a shelf with purchases, nearest() offers the n nearest
   // values the stock alone makes as well as the n nearest overall, so a design that buys
-  // nothing is always proposed beside the closer ones that would.
+  // nothing is always proposed beside the closer ones that would. Each value is offered
+  // once, where it first came.
   void nearest(double target_ohm, std::size_t n, std::vector<double>& out) const override;
   void spread(double lo_ohm, double hi_ohm, std::size_t max_n, std::vector<double>& out) const override;
 
