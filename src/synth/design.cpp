@@ -413,16 +413,18 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
   screen_ = cond_;
   screen_.distortion = spec.swing_vpp.has_value();
   cond_hi_.distortion = false;
+  // The quick estimate reads the gain alone: no distortion, and no band's edges (no stage's
+  // gain, bias or region depends on them, only its losses there and an op-amp stage's
+  // slew-limited swing, which it leaves out).
   gain_only_ = cond_;
   gain_only_.distortion = false;
-  // The first screen stops an evaluation at the request's floors (a probe, which reports the
-  // gains the stages reach, takes every figure whole).
-  first_ = gain_only_;
-  if (!probe) detail::set_screen_floors(first_, spec);
-  // The quick estimate reads the gain alone: no stage's gain, bias or region depends on the
-  // band's edges, only its losses there (and an op-amp stage's slew-limited swing), which it
-  // then leaves out.
   gain_only_.band_lo_hz = gain_only_.band_hi_hz = 0;
+  // The first screen keeps the band (an op-amp's swing is checked there) and stops an
+  // evaluation at the request's floors (a probe, which reports the gains the stages reach,
+  // takes every figure whole).
+  first_ = cond_;
+  first_.distortion = false;
+  if (!probe) detail::set_screen_floors(first_, spec);
 }
 
 StageBuilder::~StageBuilder() = default;
@@ -479,8 +481,11 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     ++stats.evaluations;
     return !meets_request(spec_, t.evaluate(trial, q_, screen_, stages::Detail::core), stats, true);
   };
-  auto stop = [&](const char* why) {
-    if (!fails_screen()) ++stats.failures[why];
+  // `need`: a capacitor stop's (SearchStats::capacitor_need).
+  auto stop = [&](const char* why, std::string need = {}) {
+    if (fails_screen()) return false;
+    ++stats.failures[why];
+    if (!need.empty()) stats.capacitor_need = std::move(need);
     return false;
   };
   const auto pre = one_supply ? std::move(ideal) : t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
@@ -496,12 +501,8 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
         return stop("rating");
   if (std::string need =
           fit_capacitors({t, targets, pre, detail::signal_peak(spec_, pre), shelf_, cache_->capacitors}, d);
-      !need.empty()) {
-    if (fails_screen()) return false;
-    ++stats.failures["capacitor"];
-    stats.capacitor_need = std::move(need);
-    return false;
-  }
+      !need.empty())
+    return stop("capacitor", std::move(need));
   // One quantity pool: every role and every copy.
   const int short_by = shortfall(d.combos);
   if (short_by < 0) return stop("stock");
