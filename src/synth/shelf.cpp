@@ -527,10 +527,6 @@ thread_local std::unique_ptr<NearestMemo> nearest_memo;
 // totals again and again), keyed by both ends' bits and the count.
 thread_local std::unique_ptr<NearestMemo> spread_memo;
 
-}  // namespace
-
-namespace {
-
 // A value offered twice (the nearest single part is often among the nearest values already;
 // on a shelf with purchases the stock's nearest are often the market's) is kept once, where
 // it first came: every design step would only propose the same values again. Only what this

@@ -15,7 +15,7 @@
 //     b that would make a+b or a||b hit the target: one search, started from the last
 //     single's, since that b falls as a grows; on a dense stock at most 64 singles of each
 //     range, spread over it; each side of b taken outward only while the pair is nearer than
-//     the 4n + 4 nearest offered so far), and resistor() works
+//     the n nearest distinct values found so far), and resistor() works
 //     out a value's recipe once and remembers it. Each distinct value makes its pairs with
 //     the best line group of that value (stocked before purchasable, then the tightest).
 //     Capacitors (a few dozen values) and triples (--combine 3, among the 120 best-stocked
