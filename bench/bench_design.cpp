@@ -3,7 +3,9 @@
 // sizes and value distributions. Each case runs in a child process of its own, so its peak
 // memory (max RSS) is its own. Prints one row per case: proposals, evaluations, seconds (the
 // best of the runs), the processor seconds of all its threads (best of the runs: on a machine
-// that is busy with other work, the steadier figure), peak memory, and the top design.
+// that is busy with other work, the steadier figure), peak memory, the number of designs listed
+// and their scores summed (a change that makes the search faster should not make this worse),
+// and the top design.
 //
 // Usage: bench_design [--runs N] [--sizes 250,1000,...] [--stocks eseries,random,hobby]
 //                     [--requests name,...] [--combine 3] [--stages 1]
@@ -261,6 +263,7 @@ struct Result {
   long proposals = 0, evaluations = 0;
   double seconds = 0, cpu_seconds = 0, peak_mb = 0;
   int found = 0;
+  double points = 0;                   // the listed designs' scores, summed (lower is better)
   synth::DesignResult::Phases phases;  // of the best run
   char top[96] = {};
   bool ok = false;
@@ -298,6 +301,8 @@ Result run_case(const std::string& dist, std::size_t lines, const Request& rq, i
       r.proposals = d.proposals;
       r.evaluations = d.evaluations;
       r.found = static_cast<int>(d.candidates.size());
+      r.points = 0;
+      for (const auto& c : d.candidates) r.points += c.score;
       if (!d.candidates.empty())
         std::snprintf(r.top, sizeof r.top, "%s %s err %.1f%%", d.candidates[0].topology_name().c_str(),
                       d.candidates[0].device.name.c_str(), 100 * d.candidates[0].error_worst);
@@ -367,8 +372,9 @@ int main(int argc, char** argv) {
   for (const auto& rq : all)
     if (names.empty() || std::find(names.begin(), names.end(), rq.name) != names.end())
       std::printf("  %-9s %s\n", rq.name, rq.text);
-  std::printf("\n%-9s %-8s %6s %10s %11s %8s %8s %8s  %-35s %s\n", "request", "stock", "lines", "proposals",
-              "evaluations", "seconds", "cpu s", "peak MB", "shelf/propose/finish/chains/yield/diag s", "top design");
+  std::printf("\n%-9s %-8s %6s %10s %11s %8s %8s %8s  %-35s %-12s %s\n", "request", "stock", "lines", "proposals",
+              "evaluations", "seconds", "cpu s", "peak MB", "shelf/propose/finish/chains/yield/diag s", "listed/points",
+              "top design");
   for (const auto& rq : all) {
     if (!names.empty() && std::find(names.begin(), names.end(), rq.name) == names.end()) continue;
     for (const auto& dist : stocks)
@@ -383,8 +389,10 @@ int main(int argc, char** argv) {
         char phases[64];
         std::snprintf(phases, sizeof phases, "%.2f/%.2f/%.2f/%.2f/%.2f/%.2f", ph.shelf, ph.propose, ph.finish,
                       ph.chains, ph.yield, ph.diagnose);
-        std::printf("%-9s %-8s %6zu %10ld %11ld %8.3f %8.3f %8.1f  %-35s %s\n", rq.name, dist.c_str(), lines,
-                    r.proposals, r.evaluations, r.seconds, r.cpu_seconds, r.peak_mb, phases,
+        char listed[32];
+        std::snprintf(listed, sizeof listed, "%d/%.1f", r.found, r.points);
+        std::printf("%-9s %-8s %6zu %10ld %11ld %8.3f %8.3f %8.1f  %-35s %-12s %s\n", rq.name, dist.c_str(), lines,
+                    r.proposals, r.evaluations, r.seconds, r.cpu_seconds, r.peak_mb, phases, listed,
                     r.found ? r.top : "(nothing fits)");
         std::fflush(stdout);
       }
