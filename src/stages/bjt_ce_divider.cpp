@@ -334,7 +334,7 @@ class BjtCeDivider final : public Topology {
                 const double a_int = g.gain * (zin + c.source_ohm) / zin;
                 // The collector above saturation by the swing and a few tenths.
                 const double room = (c.supply_v - ve - t.vce_sat_v - g.swing_peak_v - 0.3) / ic;
-                const auto rcs = detail::load_resistors(shelf, g, a_int, gm, re1, c.load_ohm, room);
+                const auto rcs = detail::load_resistors(shelf, g, a_int, gm, re1, c.load_ohm, room, ic);
                 for (double x : rcs) {
                   Values v;
                   v[R1] = r1;

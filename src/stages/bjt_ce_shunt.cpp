@@ -266,6 +266,14 @@ std::vector<Stress> part_stress(const detail::BjtBias& b, const Values& v) {
   return st;
 }
 
+// Whether a stage whose gain cannot exceed `most` misses the request's window (a tenth of
+// slack for the models). Two such bounds hold for this stage. The collector's transconductance
+// is at most 1/RE1, so the gain from the base is at most (RC || RL || RF) / RE1, and the loop
+// can only lower it. With the base drawing nothing, the gain from the source is
+// A RF / (RF + Rsum + A Rsum) for a gain A from the base and Rsum = Rs + RIN, below
+// RF / Rsum (the base's own current and RB only lower it). A probe keeps every proposal.
+bool short_of_gain(const Goal& g, double most) { return !g.probe && most < 0.9 * g.gain_lo; }
+
 // How a proposal sets its gain: by the ratio RF / (Rs + RIN) (the emitter leg split any way
 // leg_splits offers), or by the emitter leg against the collector load, RF then mostly
 // biasing (RE1 for the gain, unbypassed or over the rest of the leg bypassed).
@@ -313,8 +321,10 @@ void emit_legs(Values v, GainBy by, const Goal& g, const Conditions& c, const Va
   std::vector<std::pair<double, double>> legs;
   if (by == GainBy::ratio) legs = emitter_legs(by, g, c, shelf, 0, ic / t.vt_v, re_total);
   for (double rc : rcs) {
+    if (detail::short_of_swing_up(g, ic, rc, c.load_ohm)) continue;  // (RF loads the collector too)
     if (by == GainBy::leg) legs = emitter_legs(by, g, c, shelf, rc, ic / t.vt_v, re_total);
     for (auto [re1, re2] : legs) {
+      if (short_of_gain(g, par(par(rc, c.load_ohm), v[RF]) / re1)) continue;
       v[RC] = rc;
       v[RE1] = re1;
       v[RE2] = re2;
@@ -437,7 +447,8 @@ class BjtCeShunt final : public Topology {
         for (double rf : found) rfs.emplace_back(rf, GainBy::ratio);
         found.clear();
         shelf.nearest((0.5 * c.supply_v - vbe) / (4.0 * ib), 1, found);
-        for (double rf : found) rfs.emplace_back(rf, GainBy::leg);
+        for (double rf : found)
+          if (!short_of_gain(g, rf / (c.source_ohm + rin))) rfs.emplace_back(rf, GainBy::leg);
         for (auto [rf, by] : rfs)
           for (double ve : {0.0, std::max(0.5, 0.1 * c.supply_v)}) {
             if (by == GainBy::leg && ve == 0.0) continue;  // the leg sets the gain: it needs one

@@ -432,6 +432,7 @@ StageBuilder::~StageBuilder() = default;
 stages::Goal StageBuilder::goal() const {
   stages::Goal g;
   g.gain = spec_.gain;
+  g.gain_lo = spec_.gain * (1.0 - spec_.gain_tol);
   g.zin_min_ohm = spec_.zin_min_ohm;
   g.swing_peak_v = detail::least_swing_peak(spec_);
   g.max_current_a = spec_.max_current_a.value_or(0);

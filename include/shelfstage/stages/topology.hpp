@@ -305,6 +305,7 @@ class ValueSource {
 /// The targets a topology designs toward (the request, in the N frame).
 struct Goal {
   double gain = 10;          ///< |V/V| from the source to the load
+  double gain_lo = 0;        ///< the least |V/V| the request accepts (its window's low end; 0: any)
   double zin_min_ohm = 0;    ///< lowest acceptable input impedance
   double swing_peak_v = 0;   ///< required output peak (0: none)
   double max_current_a = 0;  ///< supply current limit (0: none)

@@ -1,0 +1,138 @@
+// Tests of the bounds the design steps leave proposals out by (src/stages/common.cpp
+// short_of_swing_up; src/stages/bjt_ce_shunt.cpp short_of_gain): each bound is a property of
+// the circuit, checked here on the evaluator over every proposal the design steps make when
+// probing (which prunes nothing), at the device type's nominal piece and its corner pieces.
+//  - A class-A output rises at most by its quiescent current times its pull-up in parallel
+//    with the load (the device turning off: the cutoff end of the AC load line, Sedra & Smith's
+//    treatment of the output swing of a CS or CE stage).
+//  - The collector-to-base feedback stage gains at most (RC || RL || RF) / RE1 (a degenerated
+//    transistor's transconductance is below 1 / RE1) and at most RF / (Rs + RIN) (the shunt
+//    feedback amplifier's closed-loop gain, below its ideal ratio for any finite loop gain).
+#include <doctest/doctest.h>
+
+#include <cmath>
+
+#include "shelfstage/units/eseries.hpp"
+#include "stage_bench.hpp"
+
+using namespace shelfstage;
+using namespace shelfstage::test;
+
+namespace {
+
+// A shelf of every E24 value from 10 ohm to 10 MOhm (IEC 60063's E24 series).
+struct E24Shelf : ValueSource {
+  std::vector<double> all;
+  E24Shelf() {
+    for (double decade = 10; decade < 1e7; decade *= 10)
+      for (double m : units::eseries(24)) all.push_back(m * decade);
+    all.push_back(1e7);
+  }
+  void nearest(double target, std::size_t n, std::vector<double>& out) const override {
+    if (!(target > 0)) return;
+    std::vector<double> by = all;
+    std::sort(by.begin(), by.end(),
+              [&](double a, double b) { return std::abs(std::log(a / target)) < std::abs(std::log(b / target)); });
+    for (std::size_t i = 0; i < n && i < by.size(); ++i) out.push_back(by[i]);
+  }
+  void spread(double lo, double hi, std::size_t n, std::vector<double>& out) const override {
+    for (std::size_t i = 0; i < n; ++i) {
+      const double f = n > 1 ? static_cast<double>(i) / static_cast<double>(n - 1) : 0.0;
+      nearest(lo * std::pow(hi / lo, f), 1, out);
+    }
+  }
+};
+
+struct Request {
+  double supply_v, load_ohm, source_ohm, gain, swing_peak_v, zin_ohm;
+};
+
+constexpr Request kRequests[] = {
+    {12, 10e3, 1e3, 8, 1, 100e3}, {5, 4.7e3, 0, 6, 0.5, 20e3},    {24, 2.2e3, 10e3, 5, 4, 1e6},
+    {15, 330, 50, 3, 1.5, 10e3},  {9, 100e3, 600, 30, 0.3, 47e3}, {48, 47e3, 1e3, 20, 10, 100e3},
+};
+
+// Every proposal of the topology for each request (probing: nothing pruned), evaluated at
+// each piece; check(values, conditions, performance) on those that work.
+template <class Check>
+long each_working_proposal(const Topology& t, const devices::DeviceRecord& record, Check check) {
+  const E24Shelf shelf;
+  const devices::DeviceSpread spread(record);
+  std::vector<Transistor> pieces;
+  const bool jfet = devices::is_jfet(record.kind);
+  pieces.push_back(jfet ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal()));
+  for (const auto& f : spread.corners()) pieces.push_back(jfet ? jfet_piece(spread, f) : bjt_piece(spread, f));
+  long working = 0;
+  for (const Request& r : kRequests) {
+    Conditions c;
+    c.supply_v = r.supply_v;
+    c.load_ohm = r.load_ohm;
+    c.source_ohm = r.source_ohm;
+    Goal g;
+    g.gain = r.gain;
+    g.gain_lo = 0.9 * r.gain;
+    g.swing_peak_v = r.swing_peak_v;
+    g.zin_min_ohm = r.zin_ohm;
+    g.probe = true;
+    std::vector<Values> proposals;
+    t.propose(g, pieces.front(), c, shelf, [&](const Values& v) { proposals.push_back(v); });
+    for (std::size_t i = 0; i < proposals.size(); i += 7) {  // every seventh: the checks take seconds, not minutes
+      Values v = t.capacitor_targets(proposals[i], pieces.front(), c, 20.0);
+      for (const Transistor& q : pieces) {
+        const Performance p = t.evaluate(v, q, c, stages::Detail::core);
+        if (!p.valid || !p.active) continue;
+        ++working;
+        check(v, c, p);
+      }
+    }
+  }
+  return working;
+}
+
+}  // namespace
+
+TEST_CASE("the output rises at most by the bias current times the pull-up in parallel with the load") {
+  struct Case {
+    const char* topology;
+    devices::DeviceRecord record;
+    const char* pull;
+  };
+  const Case cases[] = {{"jfet-cs-self", njfet_record(), "RD"},
+                        {"jfet-cs-divider", njfet_record(), "RD"},
+                        {"bjt-ce-divider", npn_record(), "RC"},
+                        {"bjt-ce-shunt", npn_record(), "RC"}};
+  for (const Case& k : cases) {
+    const Topology& t = *stages::find_topology(k.topology);
+    const std::size_t pull = t.role_index(k.pull);
+    double closest = 0;  // the largest swing up over its bound
+    const long n = each_working_proposal(t, k.record, [&](const Values& v, const Conditions& c, const Performance& p) {
+      const double bound = p.bias_current_a * par(v[pull], c.load_ohm);
+      closest = std::max(closest, p.swing_up_v / bound);
+      CHECK_MESSAGE(p.swing_up_v <= bound * (1 + 1e-9), k.topology, ": swing up ", p.swing_up_v, " V over ", bound);
+    });
+    MESSAGE(fmt::format("{}: {} working stages, swing up at most {:.4f} of its bound", k.topology, n, closest));
+    CHECK(n > 100);
+    CHECK(closest > 0.5);  // the bound is near where stages are, not vacuous
+  }
+}
+
+TEST_CASE("bjt-ce-shunt gains at most (RC || RL || RF) / RE1 and at most RF / (Rs + RIN)") {
+  const Topology& t = *stages::find_topology("bjt-ce-shunt");
+  const std::size_t rin = t.role_index("RIN"), rf = t.role_index("RF"), rc = t.role_index("RC"),
+                    re1 = t.role_index("RE1");
+  double closest_leg = 0, closest_ratio = 0;
+  const long n =
+      each_working_proposal(t, npn_record(), [&](const Values& v, const Conditions& c, const Performance& p) {
+        const double by_leg = par(par(v[rc], c.load_ohm), v[rf]) / v[re1];  // infinite without RE1
+        const double by_ratio = v[rf] / (c.source_ohm + v[rin]);
+        closest_leg = std::max(closest_leg, std::abs(p.gain) / by_leg);
+        closest_ratio = std::max(closest_ratio, std::abs(p.gain) / by_ratio);
+        CHECK(std::abs(p.gain) <= by_leg);
+        CHECK(std::abs(p.gain) <= by_ratio);
+      });
+  MESSAGE(fmt::format("{} working stages; gain at most {:.4f} of (RC || RL || RF) / RE1, {:.4f} of RF / (Rs + RIN)", n,
+                      closest_leg, closest_ratio));
+  CHECK(n > 100);
+  CHECK(closest_leg > 0.3);
+  CHECK(closest_ratio > 0.8);
+}
