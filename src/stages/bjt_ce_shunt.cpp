@@ -321,7 +321,11 @@ void emit_legs(Values v, GainBy by, const Goal& g, const Conditions& c, const Va
   std::vector<std::pair<double, double>> legs;
   if (by == GainBy::ratio) legs = emitter_legs(by, g, c, shelf, 0, ic / t.vt_v, re_total);
   for (double rc : rcs) {
-    if (detail::short_of_swing_up(g, ic, rc, c.load_ohm)) continue;  // (RF loads the collector too)
+    // The collector current moves with RC through the feedback, so the drafted one lands near
+    // the design's but not at it: a collector resistor is given up only when twice the design
+    // current could not carry the swing (over the bench's requests and stocks no draft that
+    // passes is lost).
+    if (detail::short_of_swing_up(g, 2.0 * ic, rc, c.load_ohm)) continue;
     if (by == GainBy::leg) legs = emitter_legs(by, g, c, shelf, rc, ic / t.vt_v, re_total);
     for (auto [re1, re2] : legs) {
       if (short_of_gain(g, par(par(rc, c.load_ohm), v[RF]) / re1)) continue;

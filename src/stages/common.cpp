@@ -348,13 +348,13 @@ double load_resistor_for_gain(double a_int, double gm, double r_deg, double load
 }
 
 std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, double a_int, double gm, double r_deg,
-                                   double load_ohm, double room_ohm, double current_a) {
+                                   double load_ohm, double room_ohm, double most_current_a) {
   std::vector<double> out;
   const double want = load_resistor_for_gain(a_int, gm, r_deg, load_ohm);
   if (want > room_ohm && !g.probe) return out;
   const double r = std::min(want, room_ohm);
   if (r > 0) shelf.nearest(r, 2, out);
-  std::erase_if(out, [&](double x) { return short_of_swing_up(g, current_a, x, load_ohm); });
+  std::erase_if(out, [&](double x) { return short_of_swing_up(g, most_current_a, x, load_ohm); });
   return out;
 }
 
@@ -363,8 +363,8 @@ double least_swing_current(const Goal& g, double load_ohm) {
   return g.swing_peak_v / (3.0 * load_ohm);
 }
 
-bool short_of_swing_up(const Goal& g, double current_a, double pull_ohm, double load_ohm) {
-  return !g.probe && current_a * par(pull_ohm, load_ohm) < 0.5 * g.swing_peak_v;
+bool short_of_swing_up(const Goal& g, double most_current_a, double pull_ohm, double load_ohm) {
+  return !g.probe && most_current_a * par(pull_ohm, load_ohm) < g.swing_peak_v;
 }
 
 double jfet_drain_room(const JfetBias& b, const Goal& g, const Conditions& c) {

@@ -201,10 +201,10 @@ std::vector<double> gate_resistors(const ValueSource& shelf, double zin_min_ohm)
 /// The drain or collector resistors to try: the shelf's nearest to the one that gives the
 /// internal gain a_int (load_resistor_for_gain), when the headroom allows it (room_ohm: the
 /// largest resistor the headroom allows); when probing, the largest the headroom allows.
-/// Those with which the output cannot rise by the swing at the design current current_a
+/// Those with which the output cannot rise by the swing carrying most_current_a
 /// (short_of_swing_up) are left out.
 std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, double a_int, double gm, double r_deg,
-                                   double load_ohm, double room_ohm, double current_a);
+                                   double load_ohm, double room_ohm, double most_current_a);
 
 /// The least design current at which a class-A stage may carry the request's swing into the
 /// load at all (0: no bound). Its output's excursion away from the device (a collector or
@@ -215,16 +215,11 @@ std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, doub
 /// come) keeps every current.
 double least_swing_current(const Goal& g, double load_ohm);
 
-/// Whether a class-A output pulled up through pull_ohm, at a design current of current_a,
-/// falls short of the swing on its way up: as the device turns off the output rises by at
-/// most the current times the pull-up in parallel with the load (less where feedback loads
-/// it too). The drafted current lands near the design's, not at it (the shelf's values), so a
-/// resistor is given up only when half the swing is beyond it: over the bench's requests on
-/// every stock and size, the drafts that pass are the same with and without this (at 0.6
-/// they still were; at 0.7 a few were lost), while a third to a half of the common-source and
-/// common-emitter proposals, which failed on the swing, are no longer made. A probe keeps
-/// every resistor.
-bool short_of_swing_up(const Goal& g, double current_a, double pull_ohm, double load_ohm);
+/// Whether a class-A output pulled up through pull_ohm, carrying at most most_current_a,
+/// falls short of the swing on its way up: as the device turns off the output rises by the
+/// quiescent current times the pull-up in parallel with the load (less where feedback loads
+/// it too). A probe keeps every resistor.
+bool short_of_swing_up(const Goal& g, double most_current_a, double pull_ohm, double load_ohm);
 
 /// The largest drain resistor a JFET common source's headroom allows: the drain above the
 /// triode edge by the requested swing and half a volt.
@@ -239,9 +234,13 @@ void jfet_cs_legs(const ValueSource& shelf, const Goal& g, const Conditions& c, 
                   double vg_v, double rs_total_ohm, double a_int, Emit emit) {
   const JfetBias b = jfet_bias(j, vg_v, rs_total_ohm, 0.0, c.supply_v);
   if (!b.conducts) return;
-  for (auto [rs1, rs2] : leg_splits(shelf, rs_total_ohm))
-    for (double rd : load_resistors(shelf, g, a_int, b.gm_s, rs1, c.load_ohm, jfet_drain_room(b, g, c), b.id_a))
+  for (auto [rs1, rs2] : leg_splits(shelf, rs_total_ohm)) {
+    // The split's own current, at its most (no drain resistor to take VDS, and with it the
+    // channel-length factor, down): the nominal piece's screen sees this leg and gate exactly.
+    const double most_a = jfet_bias(j, vg_v, rs1 + rs2, 0.0, c.supply_v).id_a;
+    for (double rd : load_resistors(shelf, g, a_int, b.gm_s, rs1, c.load_ohm, jfet_drain_room(b, g, c), most_a))
       emit(rd, rs1, rs2);
+  }
 }
 
 /// Distinct values, in order.

@@ -8,15 +8,23 @@
 //  - The collector-to-base feedback stage gains at most (RC || RL || RF) / RE1 (a degenerated
 //    transistor's transconductance is below 1 / RE1) and at most RF / (Rs + RIN) (the shunt
 //    feedback amplifier's closed-loop gain, below its ideal ratio for any finite loop gain).
+//  - A stage biased from a fixed gate or base network carries the most current with no drain
+//    or collector resistor (its full supply across the device: the channel-length or Early
+//    factor at its largest), which the design steps work out to apply the first bound.
 #include <doctest/doctest.h>
 
 #include <cmath>
+#include <functional>
+
+#include "../../src/stages/common.hpp"
 
 #include "shelfstage/units/eseries.hpp"
 #include "stage_bench.hpp"
 
 using namespace shelfstage;
 using namespace shelfstage::test;
+using shelfstage::stages::detail::bjt_bias;
+using shelfstage::stages::detail::jfet_bias;
 
 namespace {
 
@@ -53,7 +61,7 @@ constexpr Request kRequests[] = {
 };
 
 // Every proposal of the topology for each request (probing: nothing pruned), evaluated at
-// each piece; check(values, conditions, performance) on those that work.
+// each piece; check(values, conditions, piece, performance) on those that work.
 template <class Check>
 long each_working_proposal(const Topology& t, const devices::DeviceRecord& record, Check check) {
   const E24Shelf shelf;
@@ -82,7 +90,7 @@ long each_working_proposal(const Topology& t, const devices::DeviceRecord& recor
         const Performance p = t.evaluate(v, q, c, stages::Detail::core);
         if (!p.valid || !p.active) continue;
         ++working;
-        check(v, c, p);
+        check(v, c, q, p);
       }
     }
   }
@@ -92,24 +100,47 @@ long each_working_proposal(const Topology& t, const devices::DeviceRecord& recor
 }  // namespace
 
 TEST_CASE("the output rises at most by the bias current times the pull-up in parallel with the load") {
+  // most(values, conditions, piece): the current with no pull-up (none for the feedback stage,
+  // whose bias moves with RC).
+  using Most = std::function<double(const Values&, const Conditions&, const Transistor&)>;
   struct Case {
     const char* topology;
     devices::DeviceRecord record;
     const char* pull;
+    Most most;
   };
-  const Case cases[] = {{"jfet-cs-self", njfet_record(), "RD"},
-                        {"jfet-cs-divider", njfet_record(), "RD"},
-                        {"bjt-ce-divider", npn_record(), "RC"},
-                        {"bjt-ce-shunt", npn_record(), "RC"}};
+  const auto role = [](const char* topology, const char* name) {
+    return stages::find_topology(topology)->role_index(name);
+  };
+  const Most cs_self = [&](const Values& v, const Conditions& c, const Transistor& q) {
+    return jfet_bias(q.jfet, 0.0, v[role("jfet-cs-self", "RS1")] + v[role("jfet-cs-self", "RS2")], 0.0, c.supply_v)
+        .id_a;
+  };
+  const Most cs_divider = [&](const Values& v, const Conditions& c, const Transistor& q) {
+    const double r1 = v[role("jfet-cs-divider", "R1")], r2 = v[role("jfet-cs-divider", "R2")];
+    const double rs = v[role("jfet-cs-divider", "RS1")] + v[role("jfet-cs-divider", "RS2")];
+    return jfet_bias(q.jfet, c.supply_v * r2 / (r1 + r2), rs, 0.0, c.supply_v).id_a;
+  };
+  const Most ce_divider = [&](const Values& v, const Conditions& c, const Transistor& q) {
+    const double r1 = v[role("bjt-ce-divider", "R1")], r2 = v[role("bjt-ce-divider", "R2")];
+    const double re = v[role("bjt-ce-divider", "RE1")] + v[role("bjt-ce-divider", "RE2")];
+    return bjt_bias(q.bjt, c.supply_v * r2 / (r1 + r2), par(r1, r2), re, 0.0, c.supply_v).ic_a;
+  };
+  const Case cases[] = {{"jfet-cs-self", njfet_record(), "RD", cs_self},
+                        {"jfet-cs-divider", njfet_record(), "RD", cs_divider},
+                        {"bjt-ce-divider", npn_record(), "RC", ce_divider},
+                        {"bjt-ce-shunt", npn_record(), "RC", nullptr}};
   for (const Case& k : cases) {
     const Topology& t = *stages::find_topology(k.topology);
     const std::size_t pull = t.role_index(k.pull);
     double closest = 0;  // the largest swing up over its bound
-    const long n = each_working_proposal(t, k.record, [&](const Values& v, const Conditions& c, const Performance& p) {
-      const double bound = p.bias_current_a * par(v[pull], c.load_ohm);
-      closest = std::max(closest, p.swing_up_v / bound);
-      CHECK_MESSAGE(p.swing_up_v <= bound * (1 + 1e-9), k.topology, ": swing up ", p.swing_up_v, " V over ", bound);
-    });
+    const long n = each_working_proposal(
+        t, k.record, [&](const Values& v, const Conditions& c, const Transistor& q, const Performance& p) {
+          const double bound = p.bias_current_a * par(v[pull], c.load_ohm);
+          closest = std::max(closest, p.swing_up_v / bound);
+          CHECK_MESSAGE(p.swing_up_v <= bound * (1 + 1e-9), k.topology, ": swing up ", p.swing_up_v, " V over ", bound);
+          if (k.most) CHECK(p.bias_current_a <= k.most(v, c, q) * (1 + 1e-9));
+        });
     MESSAGE(fmt::format("{}: {} working stages, swing up at most {:.4f} of its bound", k.topology, n, closest));
     CHECK(n > 100);
     CHECK(closest > 0.5);  // the bound is near where stages are, not vacuous
@@ -121,8 +152,8 @@ TEST_CASE("bjt-ce-shunt gains at most (RC || RL || RF) / RE1 and at most RF / (R
   const std::size_t rin = t.role_index("RIN"), rf = t.role_index("RF"), rc = t.role_index("RC"),
                     re1 = t.role_index("RE1");
   double closest_leg = 0, closest_ratio = 0;
-  const long n =
-      each_working_proposal(t, npn_record(), [&](const Values& v, const Conditions& c, const Performance& p) {
+  const long n = each_working_proposal(
+      t, npn_record(), [&](const Values& v, const Conditions& c, const Transistor&, const Performance& p) {
         const double by_leg = par(par(v[rc], c.load_ohm), v[rf]) / v[re1];  // infinite without RE1
         const double by_ratio = v[rf] / (c.source_ohm + v[rin]);
         closest_leg = std::max(closest_leg, std::abs(p.gain) / by_leg);
