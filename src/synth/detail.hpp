@@ -264,8 +264,8 @@ inline thread_local bool in_parallel_for = false;
 
 /// The one thread pool of the search: Runs fn(i) for i in [0, n) on the machine's cores (fn must not share state
 /// unguarded). Called from inside another parallel_for's work (a chain's stage pools each run
-/// a search), it runs on the calling thread alone: the cores are busy already, and each
-/// thread keeps its own shelf memos warm from one piece of work to the next.
+/// a search), it runs on the calling thread alone: the cores are busy already (the shelf's
+/// answers are shared by every thread, Shelf NOTES 3).
 template <class Fn>
 void parallel_for(std::size_t n, const Fn& fn) {
   if (in_parallel_for || n == 1) {  // (one piece of work: its own may use the cores)

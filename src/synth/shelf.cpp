@@ -176,6 +176,7 @@ Shelf::Shelf(const std::vector<store::Part>& parts, Options options) {
   market_ = options.add_purchases;
   if (options.add_purchases) add_purchasable(groups_, options.purchase_volts);
   serial_ = next_shelf_serial++;
+  answers_ = std::make_unique<Answers>();
   combine_ = options.combine;
   build(c_, store::PartKind::capacitor, 1, options.combine);
   build(r1_, store::PartKind::resistor, 1, 1);
@@ -512,20 +513,55 @@ void Shelf::build(std::vector<Combo>& out, store::PartKind kind, int min_count, 
 
 namespace {
 
-// A small memo of nearest() answers per thread: the design equations ask for the same
-// targets again and again (the same bias point across proposals). Direct-mapped, keyed by
-// the shelf's serial number, the target's bits and n.
-struct NearestMemo {
-  struct Entry {
-    std::uint64_t shelf = 0, key = 0, key2 = 0, n = 0;  // nearest(): the target's bits; spread(): both ends' bits
-    std::vector<double> values;
-  };
-  std::array<Entry, 4096> entries;
+// The answers nearest() and spread() have given, by question: the design equations ask for
+// the same targets again and again (the same bias point across proposals, the same leg
+// totals across splits), from every thread. Sharded, each shard behind its own lock (a
+// lookup holds it for a hash probe and a copy of a few values); a shard keeps at most
+// kAnswersPerShard answers, then answers the rest afresh. An answer depends on the question
+// alone, so which thread put it there does not matter.
+constexpr std::size_t kAnswerShards = 64, kAnswersPerShard = 4096;
+struct Question {
+  std::uint64_t a = 0, b = 0;  // nearest(): the target's bits; spread(): both ends' bits
+  std::uint64_t n = 0;         // how many; spread()'s with its top bit set
+  bool operator==(const Question&) const = default;
 };
-thread_local std::unique_ptr<NearestMemo> nearest_memo;
-// The same for spread() answers (the emitter and source legs are split over the same
-// totals again and again), keyed by both ends' bits and the count.
-thread_local std::unique_ptr<NearestMemo> spread_memo;
+struct QuestionHash {
+  std::size_t operator()(const Question& q) const {
+    std::uint64_t h = (q.a ^ (q.a >> 29)) * 0x9E3779B97F4A7C15ULL;
+    h = (h ^ q.b ^ (q.b >> 31)) * 0xC2B2AE3D27D4EB4FULL;
+    h ^= q.n * 0xFF51AFD7ED558CCDULL;
+    return static_cast<std::size_t>(h ^ (h >> 32));
+  }
+};
+
+}  // namespace
+
+struct Shelf::Answers {
+  struct Shard {
+    std::mutex mutex;
+    std::unordered_map<Question, std::vector<double>, QuestionHash> answers;
+  };
+  std::array<Shard, kAnswerShards> shards;
+  Shard& of(const Question& q) { return shards[QuestionHash{}(q) % kAnswerShards]; }
+  /// Appends the answer to out; false when there is none yet.
+  bool find(const Question& q, std::vector<double>& out) {
+    Shard& s = of(q);
+    std::lock_guard lock(s.mutex);
+    const auto it = s.answers.find(q);
+    if (it == s.answers.end()) return false;
+    out.insert(out.end(), it->second.begin(), it->second.end());
+    return true;
+  }
+  void keep(const Question& q, std::span<const double> values) {
+    Shard& s = of(q);
+    std::lock_guard lock(s.mutex);
+    if (s.answers.size() < kAnswersPerShard) s.answers.try_emplace(q, values.begin(), values.end());
+  }
+};
+
+Shelf::~Shelf() = default;
+
+namespace {
 
 // A value offered twice (the nearest single part is often among the nearest values already;
 // on a shelf with purchases the stock's nearest are often the market's) is kept once, where
@@ -545,12 +581,8 @@ void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) cons
   if (r_index_.value.empty() || !(target > 0)) return;
   std::uint64_t bits = 0;
   std::memcpy(&bits, &target, sizeof bits);
-  if (!nearest_memo) nearest_memo = std::make_unique<NearestMemo>();
-  auto& e = nearest_memo->entries[(bits ^ (bits >> 29) ^ (n * 0x9E3779B97F4A7C15ULL) ^ serial_) % 4096];
-  if (e.shelf == serial_ && e.key == bits && e.n == n) {
-    out.insert(out.end(), e.values.begin(), e.values.end());
-    return;
-  }
+  const Question q{bits, 0, n};
+  if (answers_->find(q, out)) return;
   const std::size_t start = out.size();
   nearest_from(r_index_, r3_values_, target, n, out);
   // On a shelf with purchases, the nearest values that buy nothing too.
@@ -561,10 +593,7 @@ void Shelf::nearest(double target, std::size_t n, std::vector<double>& out) cons
   if (s1 != r_singles_.end()) out.push_back(*s1);
   if (s1 != r_singles_.begin()) out.push_back(*(s1 - 1));
   drop_repeats(out, start);
-  e.shelf = serial_;
-  e.key = bits;
-  e.n = n;
-  e.values.assign(out.begin() + static_cast<std::ptrdiff_t>(start), out.end());
+  answers_->keep(q, std::span<const double>(out).subspan(start));
 }
 
 void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>& out) const {
@@ -576,13 +605,8 @@ void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>&
   std::uint64_t lo_bits = 0, hi_bits = 0;
   std::memcpy(&lo_bits, &lo, sizeof lo_bits);
   std::memcpy(&hi_bits, &hi, sizeof hi_bits);
-  if (!spread_memo) spread_memo = std::make_unique<NearestMemo>();
-  const std::uint64_t key = lo_bits ^ (hi_bits * 0x9E3779B97F4A7C15ULL) ^ (hi_bits >> 31);
-  auto& e = spread_memo->entries[(key ^ (key >> 29) ^ (max_n * 0xC2B2AE3D27D4EB4FULL) ^ serial_) % 4096];
-  if (e.shelf == serial_ && e.key == lo_bits && e.key2 == hi_bits && e.n == max_n) {
-    out.insert(out.end(), e.values.begin(), e.values.end());
-    return;
-  }
+  const Question q{lo_bits, hi_bits, max_n | (1ULL << 63)};
+  if (answers_->find(q, out)) return;
   const std::size_t start = out.size();
   auto spread_from = [&](const ValueIndex& idx, const std::vector<double>& triples) {
     double last = -1;
@@ -598,11 +622,7 @@ void Shelf::spread(double lo, double hi, std::size_t max_n, std::vector<double>&
   spread_from(r_index_, r3_values_);
   if (market_) spread_from(r_stock_index_, r3_stock_values_);
   drop_repeats(out, start);
-  e.shelf = serial_;
-  e.key = lo_bits;
-  e.key2 = hi_bits;
-  e.n = max_n;
-  e.values.assign(out.begin() + static_cast<std::ptrdiff_t>(start), out.end());
+  answers_->keep(q, std::span<const double>(out).subspan(start));
 }
 
 std::optional<Combo> Shelf::find_recipe(double nominal) const {

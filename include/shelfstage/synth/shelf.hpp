@@ -16,13 +16,16 @@
 //     single's, since that b falls as a grows; on a dense stock at most 64 singles of each
 //     range, spread over it; each side of b taken outward only while the pair is nearer than
 //     the n nearest distinct values found so far), and resistor() works
-//     out a value's recipe once and remembers it. Each distinct value makes its pairs with
+//     out a value's recipe once and remembers it. The answers of nearest() and spread() are
+//     kept by question, shared by the search's threads, up to a fixed number (262,144) that
+//     does not grow with the stock. Each distinct value makes its pairs with
 //     the best line group of that value (stocked before purchasable, then the tightest).
 //     Capacitors (a few dozen values) and triples (--combine 3, among the 120 best-stocked
 //     values) are tabled.
 #pragma once
 #include <array>
 #include <optional>
+#include <memory>
 #include <shared_mutex>
 #include <unordered_map>
 #include <cstdint>
@@ -82,6 +85,7 @@ class Shelf final : public stages::ValueSource {
     double purchase_volts = 50;  ///< rating of the capacitors one could buy
   };
   Shelf(const std::vector<store::Part>& parts, Options options);
+  ~Shelf() override;
 
   const std::vector<StockGroup>& groups() const { return groups_; }
   /// Every resistance the shelf can make, with recipes, sorted by nominal, then fewest
@@ -137,7 +141,7 @@ class Shelf final : public stages::ValueSource {
   std::optional<Combo> find_recipe(double nominal) const;
   std::vector<StockGroup> groups_;
   int combine_ = 2;
-  std::uint64_t serial_ = 0;        // a number no other shelf of this process has (nearest()'s memo)
+  std::uint64_t serial_ = 0;        // a number no other shelf of this process has (resistor()'s memo)
   std::vector<Combo> r1_, r3_, c_;  // single and triple resistors, capacitors: sorted by nominal, then pieces
   ValueIndex r_index_;              // every single resistor value
   ValueIndex r_stock_index_;        // market only: the values the stock holds
@@ -149,6 +153,10 @@ class Shelf final : public stages::ValueSource {
   // Recipes of pair and triple values worked out so far (resistor()).
   mutable std::shared_mutex recipes_mutex_;
   mutable std::unordered_map<std::uint64_t, std::optional<Combo>> recipes_;
+  // nearest() and spread() answers worked out so far, shared by every thread of a search
+  // (shelf.cpp: Answers).
+  struct Answers;
+  std::unique_ptr<Answers> answers_;
 };
 
 }  // namespace shelfstage::synth
