@@ -273,7 +273,7 @@ class BjtCeDivider final : public Topology {
     detail::finish_distortion(
         p, c, [&] { return detail::transfer(m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
     if (d != Detail::core) {
-      p.noise_v_rthz = input_noise(s, v, c);
+      if (d == Detail::full) p.noise_v_rthz = input_noise(s, v, c);
       p.stress = part_stress(b, v, c);
     }
     return p;

@@ -413,7 +413,7 @@ class BjtCeShunt final : public Topology {
     detail::finish_distortion(
         p, c, [&] { return detail::transfer(s.m, detail::bjt_orders(b.ic_a, b.ib_a, t.vt_v, b.ro_ohm)); });
     if (d != Detail::core) {
-      p.noise_v_rthz = input_noise(s, v, c, p.gain);
+      if (d == Detail::full) p.noise_v_rthz = input_noise(s, v, c, p.gain);
       p.stress = part_stress(b, v);
     }
     return p;

@@ -141,7 +141,7 @@ Performance jfet_cs(const CsCircuit& s, const devices::JfetInstance& q, const Co
   // lambda cross term (the drain swing modulating the channel) lowers it by roughly
   // 4*lambda*ID*RL', tens of percent for common parts.
   finish_distortion(p, c, [&] { return transfer(m, jfet_orders(q, b.vgst_v, b.vds_v)); });
-  if (detail != Detail::core) p.noise_v_rthz = input_noise(s, c, g);
+  if (detail == Detail::full) p.noise_v_rthz = input_noise(s, c, g);
   return p;
 }
 

@@ -75,7 +75,7 @@ class JfetCsDivider final : public Topology {
     s.cout = v[COUT];
     detail::JfetBias b;
     Performance p = detail::jfet_cs(s, q.jfet, c, d, b);
-    if (d != Detail::core && p.valid) {
+    if (d != Detail::core && p.valid && !p.cut_short) {
       const double i2 = b.id_a * b.id_a;
       const double idiv = s.bias_network_a;
       const double vg = s.vg_v;

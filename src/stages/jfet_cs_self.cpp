@@ -62,7 +62,7 @@ class JfetCsSelf final : public Topology {
     s.cout = v[COUT];
     detail::JfetBias b;
     Performance p = detail::jfet_cs(s, q.jfet, c, d, b);
-    if (d != Detail::core && p.valid) {
+    if (d != Detail::core && p.valid && !p.cut_short) {
       const double i2 = b.id_a * b.id_a;
       p.stress = {detail::res_stress(RG, 0), detail::res_stress(RD, i2 * v[RD])};
       if (v[RS1] > 0) p.stress.push_back(detail::res_stress(RS1, i2 * v[RS1]));

@@ -398,7 +398,7 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
   // the transfer is taken as linear up to clipping.
   p.transfer.o[1] = p.gain;
   if (d != Detail::core) {
-    p.noise_v_rthz = detail::opamp_input_noise(s, a, c.celsius) / source_divider;
+    if (d == Detail::full) p.noise_v_rthz = detail::opamp_input_noise(s, a, c.celsius) / source_divider;
     const double vm = p.v_common;  // the - input's DC
     auto res = [&](int role, double volts) {
       if (role >= 0 && at(v, role) > 0)

@@ -267,8 +267,9 @@ bool is_bench_net(std::string_view net);
 bool is_bench_role(std::string_view role);
 
 /// How much the fast evaluator computes: `core` (bias, gain, Zin, Zout, swing, band-edge
-/// losses) for the search; `stress` adds part stress and noise; `full` adds HD2 and the -3 dB
-/// corners (their searches cost more than all the rest).
+/// losses) for the search; `stress` adds part stress (the rating and polarity checks);
+/// `full` adds the input noise, HD2 and the -3 dB corners (their searches cost more than all
+/// the rest). (The followers' noise, a few sums, comes with `stress` too.)
 enum class Detail { core, stress, full };
 
 /// Names of the nets every stage netlist uses: the signal source drives "sig" through
