@@ -272,7 +272,12 @@ std::vector<Stress> part_stress(const detail::BjtBias& b, const Values& v) {
 // can only lower it. With the base drawing nothing, the gain from the source is
 // A RF / (RF + Rsum + A Rsum) for a gain A from the base and Rsum = Rs + RIN, below
 // RF / Rsum (the base's own current and RB only lower it). A probe keeps every proposal.
-bool short_of_gain(const Goal& g, double most) { return !g.probe && most < 0.9 * g.gain_lo; }
+// Counted in Goal::left_out.
+bool short_of_gain(const Goal& g, double most) {
+  const bool out = !g.probe && most < 0.9 * g.gain_lo;
+  if (out && g.left_out) ++g.left_out->gain;
+  return out;
+}
 
 // How a proposal sets its gain: by the ratio RF / (Rs + RIN) (the emitter leg split any way
 // leg_splits offers), or by the emitter leg against the collector load, RF then mostly

@@ -131,13 +131,23 @@ class Searcher {
     const ThinnedValues thinned(shelf_, spec_.search_breadth);
     const stages::ValueSource& values =
         spec_.search_breadth < 1.0 ? static_cast<const stages::ValueSource&>(thinned) : shelf_;
-    job.topology->propose(builder.goal(), builder.nominal_device(), builder.conditions(), values,
+    // What the design steps leave out by a bound counts as proposed and stopped there
+    // (stages::LeftOut).
+    stages::LeftOut left_out;
+    stages::Goal goal = builder.goal();
+    goal.left_out = &left_out;
+    job.topology->propose(goal, builder.nominal_device(), builder.conditions(), values,
                           [&](const stages::Values& proposal) {
                             ++stats.proposals;
                             if (!seen.insert(proposal, roles.size())) return;
                             StageBuilder::Draft d;
                             if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
                           });
+    for (const auto& [why, n] : {std::pair{"swing", left_out.swing}, std::pair{"gain", left_out.gain}})
+      if (n > 0) {
+        stats.proposals += n;
+        stats.failures[why] += n;
+      }
     if (probe_) return;
     for (const auto& [i, quick] : choose(builder, found, roles, stats)) {
       work.chosen.push_back(std::move(found[i]));

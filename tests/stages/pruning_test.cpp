@@ -167,3 +167,41 @@ TEST_CASE("bjt-ce-shunt gains at most (RC || RL || RF) / RE1 and at most RF / (R
   CHECK(closest_leg > 0.3);
   CHECK(closest_ratio > 0.8);
 }
+
+TEST_CASE("what the design steps leave out by a bound is counted under its stop (Goal::left_out)") {
+  // A swing of 2 V peak into 10k from 12 V at a gain of 8: many drain and collector resistors
+  // cannot rise by it at the currents the steps design for.
+  const E24Shelf shelf;
+  Conditions c;
+  c.supply_v = 12;
+  c.load_ohm = 10e3;
+  stages::LeftOut total;
+  for (const char* name : {"jfet-cs-self", "jfet-cs-divider", "bjt-ce-divider", "bjt-ce-shunt"}) {
+    const Topology& t = *stages::find_topology(name);
+    const bool jfet = t.accepts(devices::DeviceKind::njfet);
+    const devices::DeviceSpread spread(jfet ? njfet_record() : npn_record());
+    const Transistor q = jfet ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal());
+    Goal g;
+    g.gain = 8;
+    g.gain_lo = 7.2;
+    g.swing_peak_v = 2;
+    g.zin_min_ohm = 10e3;
+    stages::LeftOut left;
+    g.left_out = &left;
+    long made = 0;
+    t.propose(g, q, c, shelf, [&](const Values&) { ++made; });
+    MESSAGE(
+        fmt::format("{}: {} proposed, {} left out for the swing, {} for the gain", name, made, left.swing, left.gain));
+    total.swing += left.swing;
+    total.gain += left.gain;
+    // Probing leaves nothing out, and counts nothing.
+    stages::LeftOut none;
+    g.left_out = &none;
+    g.probe = true;
+    t.propose(g, q, c, shelf, [](const Values&) {});
+    CHECK(none.swing == 0);
+    CHECK(none.gain == 0);
+  }
+  CHECK(total.swing > 100);
+  CHECK(total.gain > 10);
+}

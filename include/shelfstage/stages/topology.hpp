@@ -303,6 +303,14 @@ class ValueSource {
   virtual void spread(double lo_ohm, double hi_ohm, std::size_t max_n, std::vector<double>& out) const = 0;
 };
 
+/// The proposals a design step left out by a bound the stage cannot pass (a swing it cannot
+/// rise by, a gain it cannot reach), each under the stop it stands for, so that what the
+/// search says about a request weighs them as the stops they would have been. Each resistor
+/// or proposal left out counts once.
+struct LeftOut {
+  long swing = 0, gain = 0;
+};
+
 /// The targets a topology designs toward (the request, in the N frame).
 struct Goal {
   double gain = 10;          ///< |V/V| from the source to the load
@@ -318,6 +326,8 @@ struct Goal {
   /// How widely to search (Spec::search_breadth): below 1 (a chain's many stage pools) the
   /// design equations try fewer of their own choices as well as fewer shelf values.
   double breadth = 1.0;
+  /// Where the design steps count what they leave out (nullptr: not counted).
+  LeftOut* left_out = nullptr;
 };
 
 /// Where a feedback stage's loop is broken: the end of a part (a role) on a net, which the
