@@ -68,6 +68,22 @@ TEST_CASE("library errors keep their exit status: input 1, infeasible 2, databas
   CHECK(r2.err == "error: not enough 4.7k in stock\n");
 }
 
+TEST_CASE("a design that fits nothing says why in one whole line, its stop counts to the end") {
+  // Over 500 characters on the demo shelf: a 600 ohm load at 1.5 Vpp from a 7..9.6 V battery
+  // in 5 mA, single stages and chains alike.
+  test::TempDir dir;
+  const auto db = (dir / "stock.db").string();
+  REQUIRE(run({"--db", db, "demo"}).status == 0);
+  const auto r = run({"--db", db, "design", "--gain", "3", "--load", "600", "--supply", "7..9.6", "--zin", "20k",
+                      "--swing", "1.5", "--max-current", "5m", "--samples", "0"});
+  CHECK(r.status == 2);
+  CHECK(line_count(r.err) == 1);
+  CHECK(r.err.size() > 500);
+  CHECK(r.err.find("stopped at nominal:") != std::string::npos);
+  CHECK(r.err.ends_with(")\n"));
+  CHECK(r.err.find("...") == std::string::npos);
+}
+
 TEST_CASE("a database from a newer shelfstage is refused with exit 3 and left alone") {
   test::TempDir dir;
   const auto path = (dir / "stock.db").string();
