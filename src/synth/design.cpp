@@ -764,6 +764,12 @@ std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv) {
 //     corner pass's worst error is the largest over its points. An estimate that met an
 //     invalid corner says nothing (that corner fails the pass too, but the draft's floor is
 //     left as it is).
+//     An op-amp stage's gain is its resistors' ratio: their tolerances are most of its worst
+//     case, and the device corners of the quick estimate leave them out, so its floor sat
+//     well under its score and the search assessed many such drafts it never listed. On one
+//     supply and temperature its floor also takes the gain error of the corner pass's gain
+//     pushes at the nominal piece (detail::tolerance_gain_error: points that pass evaluates
+//     as well), worked out for every chosen op-amp draft before anything is assessed.
 //  3. The candidates are handed out in rank order: score, then pieces, then job, then the
 //     job's order of choice, the order a stable sort of every assessed candidate by score and
 //     pieces gives. One is handed out only when its score is below the floor of every draft
@@ -780,6 +786,7 @@ struct RankedSearch::Impl {
     std::uint32_t job = 0, pos = 0;
     double floor = 0;
     enum class State : std::uint8_t { pending, held, failed } state = State::pending;
+    long floor_evaluations = 0;  // NOTES 2: the tolerance floor's
     Candidate c;
     long evaluations = 0;
     std::string failure;
@@ -919,6 +926,21 @@ RankedSearch::RankedSearch(const Spec& spec, const Shelf& shelf, const std::vect
       impl_->items.push_back(std::move(it));
     }
   }
+  // NOTES 2: the op-amp drafts' floors with their parts' tolerances.
+  if (impl_->quick_floors) {
+    std::vector<std::uint32_t> ratio;
+    for (std::uint32_t i = 0; i < impl_->items.size(); ++i)
+      if (jobs[impl_->items[i].job].device->kind == devices::DeviceKind::opamp) ratio.push_back(i);
+    parallel_for(ratio.size(), [&](std::size_t b) {
+      Impl::Item& it = impl_->items[ratio[b]];
+      const JobWork& w = impl_->work[it.job];
+      it.c = w.builder->candidate(w.chosen[it.pos]);
+      const double tol = detail::tolerance_gain_error(it.c, spec, it.floor_evaluations);
+      const double floor = 100.0 * (0.5 * std::abs(it.c.error_nominal) + tol) + detail::kPiecePoints * it.c.pieces +
+                           spec.purchase_points * it.c.purchases - Impl::kQuickSlack;
+      it.floor = std::max(it.floor, floor);
+    });
+  }
   impl_->every = impl_->make_view([](const Impl::Item&) { return true; });
 }
 
@@ -961,7 +983,7 @@ std::vector<Candidate> RankedSearch::all() {
 void RankedSearch::tally(SearchStats& out) const {
   for (const JobWork& w : impl_->work) out.merge(w.stats);
   for (const Impl::Item& it : impl_->items) {
-    out.evaluations += it.evaluations;
+    out.evaluations += it.evaluations + it.floor_evaluations;
     if (it.state == Impl::Item::State::failed) out.note_corner_failure(it.failure);
   }
 }

@@ -100,6 +100,12 @@ void add_model_margin(Worst& w);
 double worst_gain_error(const Range& gain, double target);
 /// Fills c.worst and c.error_worst; returns the first violated constraint or empty.
 std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth);
+/// The largest gain error of the search's corner pass (evaluate_worst at Depth::search) at its
+/// nominal piece with the parts pushed for the gain, either way, on a request of one supply
+/// at the nominal temperature: sets that pass evaluates as they are, so a candidate that holds
+/// has an error_worst at least this. Sets that do not work are left out (that pass rejects
+/// the candidate on them). Costs the pass's directions and two evaluations.
+double tolerance_gain_error(const Candidate& c, const Spec& spec, long& evaluations);
 /// A capacitor whose DC the exact solver reads: its part, the fitted + lead's net as the netlist
 /// names it (empty: not polarised), and the leads' nets once fixed.
 struct CapLeads {

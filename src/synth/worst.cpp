@@ -373,6 +373,30 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
   return {};
 }
 
+double tolerance_gain_error(const Candidate& c, const Spec& spec, long& evaluations) {
+  // As evaluate_worst's prologue at Depth::search.
+  const auto& t = *c.topology;
+  const StageSpread spread = spread_of(c);
+  const double t_nom = spec.temp_nominal_c();
+  const bool distortion = spec.swing_vpp || spec.prefer == Spec::Prefer::distortion;
+  stages::Conditions probe = conditions(spec, spec.supply_nominal_v(), t_nom);
+  probe.distortion = distortion;
+  const stages::Transistor q = make_transistor(spread, spread.nominal(), t_nom);
+  const Directions d = directions(c, q, probe, evaluations);
+  stages::Conditions cond = conditions(spec, spec.supply_lo_v, t_nom);
+  cond.distortion = distortion;
+  double worst = 0;
+  for (const int sense : {+1, -1}) {
+    Signs way{};
+    for (std::size_t i = 0; i < way.size(); ++i)
+      way[i] = static_cast<std::int8_t>(d[static_cast<std::size_t>(kGain)][i] * sense);
+    const auto p = t.evaluate(values_of(c, way), q, cond, stages::Detail::core);
+    ++evaluations;
+    if (p.valid && p.active) worst = std::max(worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
+  }
+  return worst;
+}
+
 std::string read_capacitors(const circuit::Circuit& net, double celsius, std::vector<CapLeads>& leads,
                             const std::string& where) {
   circuit::SolverOptions so;

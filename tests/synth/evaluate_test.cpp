@@ -516,3 +516,46 @@ TEST_CASE(
   CHECK(cut > 100);
   CHECK(cut < compared);
 }
+
+TEST_CASE("tolerance_gain_error: an op-amp stage that holds has a worst error at least this, and it lifts the floor") {
+  // The ranked search's floor for op-amp drafts (NOTES 2 in design.cpp) counts on this: the
+  // gain pushes at the nominal piece are points the corner pass evaluates, so the error there
+  // is never above its worst error. Over the op-amp stages the design steps make on the demo
+  // shelf for two requests, every one that holds is checked; the error must also come above
+  // the device corners' (the quick estimate's) for most of them, or it lifts nothing.
+  const synth::Inventory inv = demo_shelf();
+  const synth::Shelf shelf(inv.parts, synth::Shelf::Options{});
+  long held = 0, lifted = 0;
+  for (const double gain : {4.0, 20.0}) {
+    synth::Spec spec = basic_spec(gain);
+    spec.mc_samples = 0;
+    for (const char* name : {"opamp-noninv", "opamp-inv"}) {
+      const stages::Topology& t = *stages::find_topology(name);
+      for (const auto& d : inv.devices) {
+        if (!t.accepts(d.kind)) continue;
+        const synth::StageBuilder builder(spec, shelf, t, d, nullptr, 10);
+        std::vector<stages::Values> proposals;
+        t.propose(builder.goal(), builder.nominal_device(), builder.conditions(), shelf,
+                  [&](const stages::Values& v) { proposals.push_back(v); });
+        synth::SearchStats stats;
+        for (std::size_t i = 0; i < proposals.size(); i += 5) {
+          synth::StageBuilder::Draft draft;
+          if (!builder.draft(proposals[i], draft, stats)) continue;
+          double corners = 0;
+          for (std::size_t k = 0; k < builder.corner_count(); ++k)
+            corners = std::max(corners, builder.corner_error(draft, k, stats));
+          synth::Candidate c = builder.candidate(draft);
+          long evaluations = 0;
+          const double tol = synth::detail::tolerance_gain_error(c, spec, evaluations);
+          if (!builder.assess(c, stats)) continue;
+          ++held;
+          CHECK(tol <= c.error_worst + 1e-12);
+          if (tol > corners) ++lifted;
+        }
+      }
+    }
+  }
+  MESSAGE(fmt::format("{} op-amp stages held; the tolerance error lifted the floor of {}", held, lifted));
+  CHECK(held > 50);
+  CHECK(lifted * 2 > held);
+}
