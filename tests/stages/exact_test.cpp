@@ -146,13 +146,13 @@ TEST_CASE("Common practice: a load equal to the output impedance loses 6 dB, eve
     if (!takes_transistors(*t)) continue;  // op-amp stages: opamp_stages_test.cpp
     CAPTURE(t->name());
     const bool jfet = t->accepts(DeviceKind::njfet);
-    const devices::DeviceSpread spread(jfet ? njfet_record() : npn_record());
+    const devices::DeviceSpread spread(n_record_for(*t));
     Conditions c;
     c.source_ohm = 1e3;
     c.load_ohm = 10e3;
     Design d;
     d.degeneration = 0.4;
-    const auto q = jfet ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal());
+    const auto q = piece_of(spread, spread.nominal());
     const StageCase sc = design_stage(*t, q, c, d, jfet ? 0.0 : spread.nominal().hfe);
     using Eval = std::function<Performance(const Conditions&)>;
     const Eval fast = [&](const Conditions& k) { return t->evaluate(sc.values, sc.q, k, stages::Detail::core); };

@@ -66,10 +66,8 @@ template <class Check>
 long each_working_proposal(const Topology& t, const devices::DeviceRecord& record, Check check) {
   const E24Shelf shelf;
   const devices::DeviceSpread spread(record);
-  std::vector<Transistor> pieces;
-  const bool jfet = devices::is_jfet(record.kind);
-  pieces.push_back(jfet ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal()));
-  for (const auto& f : spread.corners()) pieces.push_back(jfet ? jfet_piece(spread, f) : bjt_piece(spread, f));
+  std::vector<Transistor> pieces{piece_of(spread, spread.nominal())};
+  for (const auto& f : spread.corners()) pieces.push_back(piece_of(spread, f));
   long working = 0;
   for (const Request& r : kRequests) {
     Conditions c;
@@ -178,9 +176,8 @@ TEST_CASE("what the design steps leave out by a bound is counted under its stop 
   stages::LeftOut total;
   for (const char* name : {"jfet-cs-self", "jfet-cs-divider", "bjt-ce-divider", "bjt-ce-shunt"}) {
     const Topology& t = *stages::find_topology(name);
-    const bool jfet = t.accepts(devices::DeviceKind::njfet);
-    const devices::DeviceSpread spread(jfet ? njfet_record() : npn_record());
-    const Transistor q = jfet ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal());
+    const devices::DeviceSpread spread(n_record_for(t));
+    const Transistor q = piece_of(spread, spread.nominal());
     Goal g;
     g.gain = 8;
     g.gain_lo = 7.2;

@@ -85,9 +85,8 @@ TEST_CASE(
     "every other stage inverts with gain (ngspice)") {
   for (const stages::Topology* t : stages::registry()) {
     if (!takes_transistors(*t)) continue;  // op-amp stages' signs: opamp_stages_test.cpp
-    const bool jfet = t->accepts(DeviceKind::njfet);
-    const devices::DeviceSpread spread(jfet ? njfet_record() : npn_record());
-    const Transistor q = jfet ? jfet_piece(spread, spread.nominal()) : bjt_piece(spread, spread.nominal());
+    const devices::DeviceSpread spread(n_record_for(*t));
+    const Transistor q = piece_of(spread, spread.nominal());
     Conditions c;
     c.supply_v = 12;
     c.load_ohm = 10e3;

@@ -98,6 +98,16 @@ inline Transistor bjt_piece(const devices::DeviceSpread& s, const devices::Piece
   return q;
 }
 
+/// A piece of the record's type (a JFET or a BJT, as its kind says) with figures f.
+inline Transistor piece_of(const devices::DeviceSpread& s, const devices::PieceFigures& f) {
+  return devices::is_jfet(s.record().kind) ? jfet_piece(s, f) : bjt_piece(s, f);
+}
+
+/// The N-channel JFET or NPN record, whichever type the topology takes.
+inline devices::DeviceRecord n_record_for(const Topology& t) {
+  return t.accepts(devices::DeviceKind::njfet) ? njfet_record() : npn_record();
+}
+
 /// The second device a pair topology takes beside q (Topology::second_device): the nominal
 /// piece of the bipolar record of the polarity it asks for; q as it was for other topologies.
 inline Transistor with_second(const Topology& t, Transistor q, const devices::PieceFigures* f = nullptr) {
