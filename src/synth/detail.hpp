@@ -159,18 +159,11 @@ std::map<std::string, int> stocked_units(const Inventory& inv);
 std::map<std::string, int> device_units_needed(const Candidate& c, int copies);
 /// Every topology x device job the spec allows (InputError for unknown names).
 std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv);
-/// One job drafted and its choice made: the builder, the drafts chosen for the corner pass
-/// (in the order of the choice) and what the drafting learned.
-struct JobWork {
-  std::unique_ptr<StageBuilder> builder;
-  std::vector<StageBuilder::Draft> chosen;
-  std::vector<double> quick;  ///< each chosen draft's quick estimate (StageBuilder::quick_from)
-  SearchStats stats;
-};
+struct JobWork;
 
 /// The candidates of a search in rank order (score, then pieces, then job, then the job's
 /// order of choice: the order a full sort of every assessed candidate gives), each chosen
-/// draft assessed (the corner pass) only when the order needs it. NOTES in design.cpp.
+/// draft assessed (the corner pass) only when the order needs it. NOTES in ranked.cpp.
 class RankedSearch {
  public:
   /// Drafts every job and makes its choice (on the machine's cores); assesses nothing yet.

@@ -622,7 +622,7 @@ TEST_CASE("the Monte Carlo yield is reproducible for a seed") {
   }
 }
 
-// The ranked search (RankedSearch, design.cpp): candidates handed out in rank order while the
+// The ranked search (RankedSearch, ranked.cpp): candidates handed out in rank order while the
 // corner pass runs only as far as the order needs, against every chosen draft assessed and
 // sorted (run_jobs), on the demo shelf.
 namespace {

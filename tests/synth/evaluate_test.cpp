@@ -518,7 +518,7 @@ TEST_CASE(
 }
 
 TEST_CASE("tolerance_gain_error: an op-amp stage that holds has a worst error at least this, and it lifts the floor") {
-  // The ranked search's floor for op-amp drafts (NOTES 2 in design.cpp) counts on this: the
+  // The ranked search's floor for op-amp drafts (NOTES 2 in ranked.cpp) counts on this: the
   // gain pushes at the nominal piece are points the corner pass evaluates, so the error there
   // is never above its worst error. Over the op-amp stages the design steps make on the demo
   // shelf for two requests, every one that holds is checked; the error must also come above

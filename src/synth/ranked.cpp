@@ -1,0 +1,518 @@
+// The ranked search under every design: each job (a topology with a device) drafts its
+// proposals and chooses the drafts worth a corner pass (Searcher); RankedSearch hands the
+// candidates out in rank order, assessing a draft only when the order needs it (NOTES below).
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <cstring>
+#include <deque>
+#include <functional>
+#include <limits>
+#include <map>
+#include <queue>
+#include <span>
+#include <thread>
+
+#include "detail.hpp"
+
+namespace shelfstage::synth::detail {
+
+/// One job drafted and its choice made: the builder, the drafts chosen for the corner pass
+/// (in the order of the choice) and what the drafting learned.
+struct JobWork {
+  std::unique_ptr<StageBuilder> builder;
+  std::vector<StageBuilder::Draft> chosen;
+  std::vector<double> quick;  ///< each chosen draft's quick estimate (StageBuilder::quick_from)
+  SearchStats stats;
+};
+
+namespace {
+
+// The shelf's values with fewer choices per question (Spec::search_breadth below 1): the
+// design equations then propose fewer sets. Chains use it for their many stage pools.
+class ThinnedValues final : public stages::ValueSource {
+ public:
+  ThinnedValues(const stages::ValueSource& inner, double breadth) : inner_(inner), breadth_(breadth) {}
+  void nearest(double target_ohm, std::size_t n, std::vector<double>& out) const override {
+    inner_.nearest(target_ohm,
+                   std::max<std::size_t>(1, static_cast<std::size_t>(std::lround(static_cast<double>(n) * breadth_))),
+                   out);
+  }
+  void spread(double lo_ohm, double hi_ohm, std::size_t max_n, std::vector<double>& out) const override {
+    inner_.spread(
+        lo_ohm, hi_ohm,
+        std::max<std::size_t>(2, static_cast<std::size_t>(std::lround(static_cast<double>(max_n) * breadth_))), out);
+  }
+
+ private:
+  const stages::ValueSource& inner_;
+  double breadth_;
+};
+
+// The proposals a job has seen, by a 64-bit hash of their values: a flat table with linear
+// probing (a job proposes up to millions; a node per proposal cost more than the hashing).
+class SeenProposals {
+ public:
+  /// False when the proposal was seen before.
+  bool insert(const stages::Values& v, std::size_t n) {
+    std::uint64_t h = 0x9E3779B97F4A7C15ULL;
+    for (std::size_t i = 0; i < n; ++i) {
+      std::uint64_t bits = 0;
+      std::memcpy(&bits, &v.v[i], sizeof bits);
+      h = (h ^ bits) * 0xFF51AFD7ED558CCDULL;
+      h ^= h >> 32;
+    }
+    h |= 1;  // 0 marks an empty slot
+    if (2 * (count_ + 1) > slots_.size()) grow();
+    for (std::size_t i = h & (slots_.size() - 1);; i = (i + 1) & (slots_.size() - 1)) {
+      if (slots_[i] == h) return false;
+      if (slots_[i] == 0) {
+        slots_[i] = h;
+        ++count_;
+        return true;
+      }
+    }
+  }
+
+ private:
+  void grow() {
+    std::vector<std::uint64_t> old(std::max<std::size_t>(1024, 2 * slots_.size()), 0);
+    old.swap(slots_);
+    for (const std::uint64_t h : old)
+      if (h != 0)
+        for (std::size_t i = h & (slots_.size() - 1);; i = (i + 1) & (slots_.size() - 1))
+          if (slots_[i] == 0) {
+            slots_[i] = h;
+            break;
+          }
+  }
+  std::vector<std::uint64_t> slots_;
+  std::size_t count_ = 0;
+};
+
+class Searcher {
+ public:
+  Searcher(const Spec& spec, const Shelf& shelf, bool probe) : spec_(spec), shelf_(shelf), probe_(probe) {}
+
+  /// A job's drafting and choice: the builder, and the chosen drafts in the order of the
+  /// choice (none for a probe, which only learns how close the stages come: work.stats).
+  void prepare(const detail::Job& job, detail::JobWork& work) const {
+    work.builder = std::make_unique<StageBuilder>(spec_, shelf_, *job.topology, *job.device, job.piece,
+                                                  job.device_available, probe_, job.device2, job.device2_available);
+    const StageBuilder& builder = *work.builder;
+    SearchStats& stats = work.stats;
+    // A device the supply takes past its rating fails every stage's corner pass (the rating
+    // check there is detail::check_ratings): nothing is drafted (SearchStats::past_rating).
+    for (const devices::DeviceRecord* d : {job.device, job.device2})
+      if (d)
+        if (std::string why = detail::supply_rating(spec_, *d); !why.empty()) {
+          ++stats.past_rating;
+          stats.past_rating_example = std::move(why);
+          return;
+        }
+    const auto roles = job.topology->roles();
+    std::deque<StageBuilder::Draft> found;  // (a deque: tens of thousands, never moved)
+    SeenProposals seen;
+    const ThinnedValues thinned(shelf_, spec_.search_breadth);
+    const stages::ValueSource& values =
+        spec_.search_breadth < 1.0 ? static_cast<const stages::ValueSource&>(thinned) : shelf_;
+    // What the design steps leave out by a bound counts as proposed and stopped there
+    // (stages::LeftOut).
+    stages::LeftOut left_out;
+    stages::Goal goal = builder.goal();
+    goal.left_out = &left_out;
+    job.topology->propose(goal, builder.nominal_device(), builder.conditions(), values,
+                          [&](const stages::Values& proposal) {
+                            ++stats.proposals;
+                            if (!seen.insert(proposal, roles.size())) return;
+                            StageBuilder::Draft d;
+                            if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
+                          });
+    for (const auto& [why, n] : {std::pair{"swing", left_out.swing}, std::pair{"gain", left_out.gain}})
+      if (n > 0) {
+        stats.proposals += n;
+        stats.failures[why] += n;
+      }
+    if (probe_) return;
+    for (const auto& [i, quick] : choose(builder, found, roles, stats)) {
+      work.chosen.push_back(std::move(found[i]));
+      work.quick.push_back(quick);
+    }
+  }
+
+  /// The drafts that get the full corner pass (~100 evaluations each): up to
+  /// spec.search_families families of designs, and in each the spec.search_variants best
+  /// variants in one resistor (their quick estimates are near-ties the full pass settles),
+  /// taken in the order of the quick estimate. The choice is the one a full sort of every
+  /// estimate would give, but the estimates are worked out only as far as they can change it:
+  ///  - a queue holds (value, draft), least first: a draft enters at its floor (score_floor),
+  ///    and drafts enter while their floors are at most the queue's least value;
+  ///  - the estimate is the largest gain error over the corner pieces (StageBuilder::
+  ///    quick_from), so the largest over some of them is a floor under it that only rises as
+  ///    pieces are added; a draft at the head with pieces left gets one more and goes back;
+  ///  - a draft at the head with every piece done (or an invalid one met: 1e6 either way) has
+  ///    its whole estimate, and no draft in the queue or not yet in it can come before it
+  ///    (their floors are at least its value; equal values go by draft index, as the sort's);
+  ///  - a draft whose family is full, or that would start one past the limit, never can be
+  ///    chosen (heads come only while fewer than the limit, and families only fill): it
+  ///    leaves the queue unrefined.
+  std::vector<std::pair<std::size_t, double>> choose(const StageBuilder& builder,
+                                                     const std::deque<StageBuilder::Draft>& found,
+                                                     std::span<const stages::Role> roles, SearchStats& stats) const {
+    const auto families = static_cast<std::size_t>(spec_.search_families);
+    const int variants = spec_.search_variants;
+    auto variant = [&](const StageBuilder::Draft& a, const StageBuilder::Draft& b) {
+      int differ = 0;
+      for (std::size_t r = 0; r < roles.size(); ++r)
+        if (roles[r].kind == 'R' && std::abs(a.values[r] - b.values[r]) > 1e-9 * std::max(a.values[r], b.values[r]))
+          ++differ;
+      return differ <= 1;
+    };
+    using Entry = std::pair<double, std::size_t>;
+    std::vector<Entry> bound;
+    bound.reserve(found.size());
+    for (std::size_t i = 0; i < found.size(); ++i) bound.emplace_back(builder.score_floor(found[i]), i);
+    std::sort(bound.begin(), bound.end());
+    // Each draft's estimate so far: the corner pieces worked out (a mask) and the largest
+    // error among them.
+    const std::size_t corners = builder.corner_count();
+    constexpr std::size_t kMaskBits = 64;
+    const std::uint64_t every = corners >= kMaskBits ? ~0ULL : (1ULL << corners) - 1;
+    struct Partial {
+      std::uint64_t done = 0;
+      double worst = 0;
+      std::size_t largest = 0;  // the piece it came from
+    };
+    std::vector<Partial> partial(found.size());
+    // How often each corner piece gave a finished estimate its largest error: the likeliest
+    // is worked out first, so that the estimate rises early where it will.
+    std::vector<long> hits(corners, 0);
+    auto finished = [&](const Partial& p) { return p.done == every || std::isinf(p.worst); };
+    auto refine = [&](std::size_t i) {
+      Partial& p = partial[i];
+      if (corners > kMaskBits) {  // (no piece lists this long; estimated whole)
+        p.worst = 0;
+        for (std::size_t k = 0; k < corners && !std::isinf(p.worst); ++k)
+          p.worst = std::max(p.worst, builder.corner_error(found[i], k, stats));
+        p.done = every;
+        return;
+      }
+      std::size_t k = corners;
+      for (std::size_t c = 0; c < corners; ++c)
+        if (!(p.done >> c & 1U) && (k == corners || hits[c] > hits[k])) k = c;
+      const double e = builder.corner_error(found[i], k, stats);
+      p.done |= 1ULL << k;
+      if (e > p.worst || p.done == (1ULL << k)) {
+        p.worst = e;
+        p.largest = k;
+      }
+      if (finished(p)) ++hits[p.largest];
+    };
+    std::priority_queue<Entry, std::vector<Entry>, std::greater<>> scored;
+    std::vector<std::pair<std::size_t, double>> chosen;
+    std::vector<std::size_t> heads;
+    std::vector<int> members;
+    // The family a draft joins (heads.size() for a new one), or -1 when it cannot be chosen
+    // (then never: heads only come while fewer than `families`, and a family only fills).
+    auto family_of = [&](std::size_t i) -> long {
+      std::size_t f = 0;
+      while (f < heads.size() && !variant(found[heads[f]], found[i])) ++f;
+      if (f == heads.size()) return heads.size() >= families ? -1 : static_cast<long>(f);
+      return members[f] >= variants ? -1 : static_cast<long>(f);
+    };
+    auto all_full = [&] {
+      return heads.size() >= families &&
+             std::all_of(members.begin(), members.end(), [&](int m) { return m >= variants; });
+    };
+    std::size_t next = 0;
+    while (!all_full()) {
+      // Drafts enter (as their floors) until the least entry is known to come first.
+      while (next < bound.size() && (scored.empty() || bound[next].first <= scored.top().first)) {
+        const std::size_t i = bound[next++].second;
+        if (heads.size() >= families && family_of(i) < 0) continue;
+        scored.push(bound[next - 1]);
+      }
+      if (scored.empty()) break;
+      const auto [estimate, i] = scored.top();
+      scored.pop();
+      const long f = family_of(i);
+      if (f < 0) continue;
+      if (!finished(partial[i])) {
+        // A floor still: one corner piece more, and back in line.
+        refine(i);
+        scored.emplace(builder.quick_from(found[i], partial[i].worst), i);
+        continue;
+      }
+      if (static_cast<std::size_t>(f) == heads.size()) {
+        heads.push_back(i);
+        members.push_back(0);
+      }
+      ++members[static_cast<std::size_t>(f)];
+      chosen.emplace_back(i, estimate);
+    }
+    return chosen;
+  }
+
+ private:
+  const Spec& spec_;
+  const Shelf& shelf_;
+  bool probe_;
+};
+
+}  // namespace
+
+// NOTES (the ranked search):
+//  1. Every job is drafted and makes its choice first (Searcher::prepare, on every core): the
+//     drafts chosen for the corner pass. Nothing is assessed yet.
+//  2. Each chosen draft has a floor under the score its corner pass would give
+//     (StageBuilder::score_floor: the nominal gain error counted as the worst; the worst
+//     gain range holds the nominal gain, and a stage's gain keeps its sign wherever it is
+//     valid, so the worst error is never below the nominal's; the score's other terms are
+//     counted alike or are never negative).
+//     When the request has one supply and one temperature, the draft's quick estimate
+//     (StageBuilder::quick_from over every corner piece) is a floor too, less a slack of a millionth of gain error
+//     for rounding: it takes the gain at the device's corner pieces with the parts nominal at
+//     that supply and temperature, a point the corner pass evaluates as well (with the
+//     distortion, the band's losses or the parts' stress worked out, which leave the gain as
+//     it is: tests/synth/evaluate_test.cpp holds the band's to that), and the
+//     corner pass's worst error is the largest over its points. An estimate that met an
+//     invalid corner says nothing (that corner fails the pass too, but the draft's floor is
+//     left as it is).
+//     An op-amp stage's gain is its resistors' ratio: their tolerances are most of its worst
+//     case, and the device corners of the quick estimate leave them out, so its floor sat
+//     well under its score and the search assessed many such drafts it never listed. On one
+//     supply and temperature its floor also takes the gain error of the corner pass's gain
+//     pushes at the nominal piece (detail::tolerance_gain_error: points that pass evaluates
+//     as well), worked out for every chosen op-amp draft before anything is assessed.
+//  3. The candidates are handed out in rank order: score, then pieces, then job, then the
+//     job's order of choice, the order a stable sort of every assessed candidate by score and
+//     pieces gives. One is handed out only when its score is below the floor of every draft
+//     not yet assessed; until then the drafts of least floor are assessed, a batch at a time
+//     on every core. A draft whose floor lies above the last score handed out is never
+//     assessed: it could not have ranked before it.
+//  4. The counts (SearchStats) are merged job by job, then each assessed draft's in the order
+//     of jobs and choice, as a search assessing every draft in that order would merge them;
+//     when every draft is assessed (nothing listed), they are the same counts.
+struct RankedSearch::Impl {
+  const Spec& spec;
+  std::vector<JobWork> work;  // by job
+  struct Item {
+    std::uint32_t job = 0, pos = 0;
+    double floor = 0;
+    enum class State : std::uint8_t { pending, held, failed } state = State::pending;
+    long floor_evaluations = 0;  // NOTES 2: the tolerance floor's
+    Candidate c;
+    long evaluations = 0;
+    std::string failure;
+  };
+  std::vector<Item> items;
+  bool quick_floors = false;  // NOTES 2: the quick estimates are floors too
+
+  // A gain error of a millionth, in score points (NOTES 2).
+  static constexpr double kQuickSlack = 100.0 * 1e-6;
+
+  double floor_of(const JobWork& w, std::size_t k) const {
+    double f = w.builder->score_floor(w.chosen[k]);
+    if (quick_floors && w.quick[k] < 1e6) f = std::max(f, w.quick[k] - kQuickSlack);
+    return f;
+  }
+  // One order of hand-out: over every job, or over the jobs of one first device.
+  struct View {
+    std::vector<std::uint32_t> by_floor;  // its items, least floor first
+    std::vector<bool> dropped;            // by item: passed over (never handed out)
+    std::size_t frontier = 0;             // by_floor before it: assessed
+    std::vector<std::uint32_t> heap;      // assessed and holding, not yet handed out
+    std::vector<std::uint32_t> out;       // handed out, in rank order
+  };
+  View every;
+  std::map<std::string, View> views;  // the orders over some drafts, by name, made on first use
+  std::size_t assessed = 0;
+
+  explicit Impl(const Spec& s) : spec(s) {}
+
+  bool ranks_before(std::uint32_t a, std::uint32_t b) const {
+    const Candidate &x = items[a].c, &y = items[b].c;
+    if (x.score != y.score) return x.score < y.score;
+    if (x.pieces != y.pieces) return x.pieces < y.pieces;
+    return a < b;  // items are laid out by job, then order of choice
+  }
+
+  View make_view(const std::function<bool(const Item&)>& keep) const {
+    View v;
+    for (std::uint32_t i = 0; i < items.size(); ++i)
+      if (keep(items[i])) v.by_floor.push_back(i);
+    std::stable_sort(v.by_floor.begin(), v.by_floor.end(),
+                     [&](std::uint32_t a, std::uint32_t b) { return items[a].floor < items[b].floor; });
+    return v;
+  }
+  // The order named `name` over the drafts `keep` accepts (made on first use).
+  View& view(const std::string& name, const std::function<bool(const Item&)>& keep) {
+    auto it = views.find(name);
+    if (it == views.end()) it = views.emplace(name, make_view(keep)).first;
+    return it->second;
+  }
+
+  // A pending draft as the candidate it makes (before its corner pass).
+  const Candidate& shell(Item& it) {
+    if (!it.c.topology) it.c = work[it.job].builder->candidate(work[it.job].chosen[it.pos]);
+    return it.c;
+  }
+
+  // Whether the view passes over a pending draft (NOTES 3).
+  bool pass_over(View& v, std::uint32_t i, const PassOver* skip) {
+    if (v.dropped.empty()) v.dropped.assign(items.size(), false);
+    if (!v.dropped[i] && skip && *skip && (*skip)(shell(items[i]))) v.dropped[i] = true;
+    return v.dropped[i];
+  }
+
+  void assess(const std::vector<std::uint32_t>& batch) {
+    parallel_for(batch.size(), [&](std::size_t b) {
+      Item& it = items[batch[b]];
+      const JobWork& w = work[it.job];
+      SearchStats s;
+      if (!it.c.topology) it.c = w.builder->candidate(w.chosen[it.pos]);
+      const bool held = w.builder->assess(it.c, s);
+      it.evaluations = s.evaluations;
+      if (!held && !s.corner_examples.empty()) it.failure = s.corner_examples.begin()->second;
+      it.state = held ? Item::State::held : Item::State::failed;
+      if (!held) it.c = Candidate{};
+    });
+    assessed += batch.size();
+  }
+
+  // Hands out the view's next candidate (NOTES 3); false when none is left.
+  bool step(View& v, const PassOver* skip) {
+    auto later = [&](std::uint32_t a, std::uint32_t b) { return ranks_before(b, a); };
+    for (;;) {
+      // Drafts assessed already (by this view or another), or passed over, leave the frontier.
+      while (v.frontier < v.by_floor.size() && (items[v.by_floor[v.frontier]].state != Item::State::pending ||
+                                                pass_over(v, v.by_floor[v.frontier], skip))) {
+        const std::uint32_t i = v.by_floor[v.frontier++];
+        if (items[i].state == Item::State::pending) continue;
+        if (items[i].state == Item::State::held) {
+          v.heap.push_back(i);
+          std::push_heap(v.heap.begin(), v.heap.end(), later);
+        }
+      }
+      const bool more = v.frontier < v.by_floor.size();
+      if (!v.heap.empty() && (!more || items[v.heap.front()].c.score < items[v.by_floor[v.frontier]].floor)) {
+        std::pop_heap(v.heap.begin(), v.heap.end(), later);
+        v.out.push_back(v.heap.back());
+        v.heap.pop_back();
+        return true;
+      }
+      if (!more) return false;
+      // The next drafts by floor; a batch for every core (one when the cores are busy).
+      const std::size_t want = in_parallel_for ? 1 : 2 * std::max(1u, std::thread::hardware_concurrency());
+      std::vector<std::uint32_t> batch;
+      for (std::size_t k = v.frontier; k < v.by_floor.size() && batch.size() < want; ++k)
+        if (items[v.by_floor[k]].state == Item::State::pending && !pass_over(v, v.by_floor[k], skip))
+          batch.push_back(v.by_floor[k]);
+      assess(batch);
+    }
+  }
+
+  // The view's k-th candidate (NOTES 3), stepping it as far as that takes.
+  std::optional<std::size_t> nth(View& v, std::size_t k, const PassOver* skip) {
+    while (v.out.size() <= k)
+      if (!step(v, skip)) return std::nullopt;
+    return v.out[k];
+  }
+};
+
+RankedSearch::RankedSearch(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, bool probe)
+    : impl_(std::make_unique<Impl>(spec)) {
+  const Searcher searcher(spec, shelf, probe);
+  impl_->work.resize(jobs.size());
+  impl_->quick_floors = spec.supply_lo_v == spec.supply_hi_v && !spec.temp_c;
+  parallel_for(jobs.size(), [&](std::size_t i) { searcher.prepare(jobs[i], impl_->work[i]); });
+  // (Reserved: an Item carries a Candidate, which the vector would copy as it grows.)
+  std::size_t total = 0;
+  for (const JobWork& w : impl_->work) total += w.chosen.size();
+  impl_->items.reserve(total);
+  for (std::uint32_t j = 0; j < jobs.size(); ++j) {
+    const JobWork& w = impl_->work[j];
+    for (std::uint32_t k = 0; k < w.chosen.size(); ++k) {
+      Impl::Item it;
+      it.job = j;
+      it.pos = k;
+      it.floor = impl_->floor_of(w, k);
+      impl_->items.push_back(std::move(it));
+    }
+  }
+  // NOTES 2: the op-amp drafts' floors with their parts' tolerances.
+  if (impl_->quick_floors) {
+    std::vector<std::uint32_t> ratio;
+    for (std::uint32_t i = 0; i < impl_->items.size(); ++i)
+      if (jobs[impl_->items[i].job].device->kind == devices::DeviceKind::opamp) ratio.push_back(i);
+    parallel_for(ratio.size(), [&](std::size_t b) {
+      Impl::Item& it = impl_->items[ratio[b]];
+      const JobWork& w = impl_->work[it.job];
+      it.c = w.builder->candidate(w.chosen[it.pos]);
+      const double tol = detail::tolerance_gain_error(it.c, spec, it.floor_evaluations);
+      const double floor = 100.0 * (0.5 * std::abs(it.c.error_nominal) + tol) + detail::kPiecePoints * it.c.pieces +
+                           spec.purchase_points * it.c.purchases - Impl::kQuickSlack;
+      it.floor = std::max(it.floor, floor);
+    });
+  }
+  impl_->every = impl_->make_view([](const Impl::Item&) { return true; });
+}
+
+RankedSearch::~RankedSearch() = default;
+
+std::optional<std::size_t> RankedSearch::at(std::size_t k, const std::string* device, const PassOver& skip) {
+  Impl& m = *impl_;
+  if (!device) return m.nth(m.every, k, &skip);
+  return m.nth(
+      m.view("device " + *device, [&](const Impl::Item& i) { return m.work[i.job].builder->device().name == *device; }),
+      k, &skip);
+}
+
+std::optional<std::size_t> RankedSearch::at_among(std::size_t k, const std::string& name,
+                                                  const std::function<bool(std::size_t)>& member) {
+  Impl& m = *impl_;
+  return m.nth(m.view("among " + name,
+                      [&](const Impl::Item& i) { return member(static_cast<std::size_t>(&i - m.items.data())); }),
+               k, nullptr);
+}
+
+const Candidate& RankedSearch::shell(std::size_t id) { return impl_->shell(impl_->items[id]); }
+
+Candidate& RankedSearch::candidate(std::size_t id) { return impl_->items[id].c; }
+
+bool RankedSearch::before(std::size_t a, std::size_t b) const {
+  return impl_->ranks_before(static_cast<std::uint32_t>(a), static_cast<std::uint32_t>(b));
+}
+
+std::vector<Candidate> RankedSearch::all() {
+  std::vector<Candidate> out;
+  for (std::size_t k = 0;; ++k) {
+    const auto id = at(k);
+    if (!id) break;
+    out.push_back(std::move(candidate(*id)));
+  }
+  return out;
+}
+
+void RankedSearch::tally(SearchStats& out) const {
+  for (const JobWork& w : impl_->work) out.merge(w.stats);
+  for (const Impl::Item& it : impl_->items) {
+    out.evaluations += it.evaluations + it.floor_evaluations;
+    if (it.state == Impl::Item::State::failed) out.note_corner_failure(it.failure);
+  }
+}
+
+std::size_t RankedSearch::chosen() const { return impl_->items.size(); }
+std::size_t RankedSearch::assessed() const { return impl_->assessed; }
+
+// Runs every job on the machine's cores; the calling thread reports progress.
+std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, SearchStats& tally,
+                                const Progress& progress, bool probe) {
+  RankedSearch search(spec, shelf, jobs, probe);
+  if (progress) progress(static_cast<double>(jobs.size()), static_cast<double>(jobs.size()), "stages searched");
+  std::vector<Candidate> all = search.all();
+  search.tally(tally);
+  return all;
+}
+
+}  // namespace shelfstage::synth::detail
