@@ -166,7 +166,7 @@ struct JobWork;
 /// draft assessed (the corner pass) only when the order needs it. NOTES in ranked.cpp.
 class RankedSearch {
  public:
-  /// Drafts every job and makes its choice (on the machine's cores); assesses nothing yet.
+  /// Drafts every job (on the machine's cores); chooses and assesses nothing yet.
   RankedSearch(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, bool probe = false);
   ~RankedSearch();
   RankedSearch(const RankedSearch&) = delete;
@@ -181,7 +181,7 @@ class RankedSearch {
   /// candidates move up a place).
   std::optional<std::size_t> at(std::size_t k, const std::string* device = nullptr, const PassOver& skip = {});
   /// The k-th candidate that holds among the drafts `member` accepts (asked once of every
-  /// draft id, 0 to chosen() - 1, when the order named `name` is first used), best first.
+  /// draft id as it is chosen, during a call with that order's `name`), best first.
   std::optional<std::size_t> at_among(std::size_t k, const std::string& name,
                                       const std::function<bool(std::size_t id)>& member);
   /// A draft as the candidate it makes before its corner pass (its parts; no figures yet).
@@ -194,7 +194,11 @@ class RankedSearch {
   /// Adds what the search learned to tally: the drafting's counts job by job, then each
   /// assessed draft's, in the order of jobs and choice.
   void tally(SearchStats& out) const;
-  /// Chosen drafts, and how many of them were assessed.
+  /// Makes every job's choice whole (the drafts are then ids 0 to chosen() - 1): for a caller
+  /// that reads every chosen draft before it asks for any (the choices are otherwise made as
+  /// far as the hand-out needs, NOTES 5 in ranked.cpp).
+  void choose_all();
+  /// Drafts chosen so far, and how many of them were assessed.
   std::size_t chosen() const;
   std::size_t assessed() const;
 

@@ -95,6 +95,7 @@ std::optional<Purchase> smallest_purchase(const Spec& spec, const Inventory& inv
   // is the one a sort of every assessed candidate by (pieces, lines, score) would give, but
   // only the groups up to it are assessed, and those only as far as their rank order goes.
   detail::RankedSearch search(ms, market, jobs);
+  search.choose_all();
   using Key = std::pair<int, std::size_t>;  // pieces to buy, lines to buy
   std::vector<Key> key_of(search.chosen());
   std::set<Key> keys;

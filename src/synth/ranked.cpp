@@ -12,17 +12,177 @@
 #include <queue>
 #include <span>
 #include <thread>
+#include <tuple>
 
 #include "detail.hpp"
 
 namespace shelfstage::synth::detail {
 
-/// One job drafted and its choice made: the builder, the drafts chosen for the corner pass
-/// (in the order of the choice) and what the drafting learned.
+/// A job's choice of the drafts that get the full corner pass (~100 evaluations each): up to
+/// spec.search_families families of designs, and in each the spec.search_variants best
+/// variants in one resistor (their quick estimates are near-ties the full pass settles), taken
+/// in the order of the quick estimate. The choice is the one a full sort of every estimate
+/// would give, but the estimates are worked out only as far as they can change it:
+///  - a queue holds (value, draft), least first: a draft enters at its floor (score_floor),
+///    and drafts enter while their floors are at most the queue's least value;
+///  - the estimate is the largest gain error over the corner pieces (StageBuilder::
+///    quick_from), so the largest over some of them is a floor under it that only rises as
+///    pieces are added; a draft at the head with pieces left gets one more and goes back;
+///  - a draft at the head with every piece done (or an invalid one met: 1e6 either way) has
+///    its whole estimate, and no draft in the queue or not yet in it can come before it
+///    (their floors are at least its value; equal values go by draft index, as the sort's);
+///  - a draft whose family is full, or that would start one past the limit, never can be
+///    chosen (heads come only while fewer than the limit, and families only fill): it
+///    leaves the queue unrefined.
+/// The choice is made as far as the ranked search needs it (NOTES 5): advance() takes the
+/// steps whose value is at most a limit and pauses at the first above it, so what a paused
+/// choice has chosen is, in order, what the whole choice chooses first, and every draft it
+/// would choose later has a quick estimate of at least frontier().
+class Choice {
+ public:
+  Choice(const StageBuilder& builder, const Spec& spec, std::deque<StageBuilder::Draft> found)
+      : builder_(builder),
+        roles_(builder.topology().roles()),
+        families_(static_cast<std::size_t>(spec.search_families)),
+        variants_(spec.search_variants),
+        found_(std::move(found)),
+        corners_(builder.corner_count()),
+        every_(corners_ >= kMaskBits ? ~0ULL : (1ULL << corners_) - 1),
+        partial_(found_.size()),
+        hits_(corners_, 0) {
+    bound_.reserve(found_.size());
+    for (std::size_t i = 0; i < found_.size(); ++i) bound_.emplace_back(builder.score_floor(found_[i]), i);
+    std::sort(bound_.begin(), bound_.end());
+  }
+
+  /// Takes the choice's steps while the value at the head of its queue is at most `limit`;
+  /// the drafts chosen meanwhile go to `chosen` and their quick estimates to `quick`, in order.
+  void advance(double limit, std::vector<StageBuilder::Draft>& chosen, std::vector<double>& quick, SearchStats& stats) {
+    while (!done_ && !all_full()) {
+      // Drafts enter (as their floors) until the least entry is known to come first.
+      while (next_ < bound_.size() && (scored_.empty() || bound_[next_].first <= scored_.top().first)) {
+        const std::size_t i = bound_[next_++].second;
+        if (heads_.size() >= families_ && family_of(i) < 0) continue;
+        scored_.push(bound_[next_ - 1]);
+      }
+      if (scored_.empty()) break;
+      if (scored_.top().first > limit) return;
+      const auto [estimate, i] = scored_.top();
+      scored_.pop();
+      const long f = family_of(i);
+      if (f < 0) continue;
+      if (!finished(partial_[i])) {
+        // A floor still: one corner piece more, and back in line.
+        refine(i, stats);
+        scored_.emplace(builder_.quick_from(found_[i], partial_[i].worst), i);
+        continue;
+      }
+      if (static_cast<std::size_t>(f) == heads_.size()) {
+        heads_.push_back(i);
+        members_.push_back(0);
+      }
+      ++members_[static_cast<std::size_t>(f)];
+      chosen.push_back(found_[i]);
+      quick.push_back(estimate);
+    }
+    finish();
+  }
+  bool done() const { return done_; }
+  /// A floor under the quick estimate of every draft the choice would still choose (infinity
+  /// when it is made).
+  double frontier() const {
+    if (done_) return std::numeric_limits<double>::infinity();
+    double f = next_ < bound_.size() ? bound_[next_].first : std::numeric_limits<double>::infinity();
+    if (!scored_.empty()) f = std::min(f, scored_.top().first);
+    return f;
+  }
+
+ private:
+  static constexpr std::size_t kMaskBits = 64;
+  using Entry = std::pair<double, std::size_t>;
+  // A draft's estimate so far: the corner pieces worked out (a mask) and the largest error
+  // among them.
+  struct Partial {
+    std::uint64_t done = 0;
+    double worst = 0;
+    std::size_t largest = 0;  // the piece it came from
+  };
+
+  bool finished(const Partial& p) const { return p.done == every_ || std::isinf(p.worst); }
+  bool variant(const StageBuilder::Draft& a, const StageBuilder::Draft& b) const {
+    int differ = 0;
+    for (std::size_t r = 0; r < roles_.size(); ++r)
+      if (roles_[r].kind == 'R' && std::abs(a.values[r] - b.values[r]) > 1e-9 * std::max(a.values[r], b.values[r]))
+        ++differ;
+    return differ <= 1;
+  }
+  void refine(std::size_t i, SearchStats& stats) {
+    Partial& p = partial_[i];
+    if (corners_ > kMaskBits) {  // (no piece lists this long; estimated whole)
+      p.worst = 0;
+      for (std::size_t k = 0; k < corners_ && !std::isinf(p.worst); ++k)
+        p.worst = std::max(p.worst, builder_.corner_error(found_[i], k, stats));
+      p.done = every_;
+      return;
+    }
+    // How often each corner piece gave a finished estimate its largest error: the likeliest
+    // is worked out first, so that the estimate rises early where it will.
+    std::size_t k = corners_;
+    for (std::size_t c = 0; c < corners_; ++c)
+      if (!(p.done >> c & 1U) && (k == corners_ || hits_[c] > hits_[k])) k = c;
+    const double e = builder_.corner_error(found_[i], k, stats);
+    p.done |= 1ULL << k;
+    if (e > p.worst || p.done == (1ULL << k)) {
+      p.worst = e;
+      p.largest = k;
+    }
+    if (finished(p)) ++hits_[p.largest];
+  }
+  // The family a draft joins (heads.size() for a new one), or -1 when it cannot be chosen
+  // (then never: heads only come while fewer than `families`, and a family only fills).
+  long family_of(std::size_t i) const {
+    std::size_t f = 0;
+    while (f < heads_.size() && !variant(found_[heads_[f]], found_[i])) ++f;
+    if (f == heads_.size()) return heads_.size() >= families_ ? -1 : static_cast<long>(f);
+    return members_[f] >= variants_ ? -1 : static_cast<long>(f);
+  }
+  bool all_full() const {
+    return heads_.size() >= families_ &&
+           std::all_of(members_.begin(), members_.end(), [&](int m) { return m >= variants_; });
+  }
+  // The choice made: the drafts go (tens of thousands in a job).
+  void finish() {
+    done_ = true;
+    std::deque<StageBuilder::Draft>().swap(found_);
+    std::vector<Partial>().swap(partial_);
+    std::vector<Entry>().swap(bound_);
+    scored_ = {};
+  }
+
+  const StageBuilder& builder_;
+  std::span<const stages::Role> roles_;
+  std::size_t families_;
+  int variants_;
+  std::deque<StageBuilder::Draft> found_;
+  std::size_t corners_;
+  std::uint64_t every_;
+  std::vector<Partial> partial_;
+  std::vector<long> hits_;
+  std::vector<Entry> bound_;  // (floor, draft), least first
+  std::size_t next_ = 0;      // bound_ before it: entered
+  std::priority_queue<Entry, std::vector<Entry>, std::greater<>> scored_;
+  std::vector<std::size_t> heads_;
+  std::vector<int> members_;
+  bool done_ = false;
+};
+
+/// One job drafted and its choice made as far as it goes: the builder, the drafts chosen for
+/// the corner pass (in the order of the choice) and what the drafting learned.
 struct JobWork {
   std::unique_ptr<StageBuilder> builder;
   std::vector<StageBuilder::Draft> chosen;
-  std::vector<double> quick;  ///< each chosen draft's quick estimate (StageBuilder::quick_from)
+  std::vector<double> quick;       ///< each chosen draft's quick estimate (StageBuilder::quick_from)
+  std::unique_ptr<Choice> choice;  ///< the choice so far (none: nothing to choose)
   SearchStats stats;
 };
 
@@ -134,123 +294,7 @@ class Searcher {
         stats.failures[why] += n;
       }
     if (probe_) return;
-    for (const auto& [i, quick] : choose(builder, found, roles, stats)) {
-      work.chosen.push_back(std::move(found[i]));
-      work.quick.push_back(quick);
-    }
-  }
-
-  /// The drafts that get the full corner pass (~100 evaluations each): up to
-  /// spec.search_families families of designs, and in each the spec.search_variants best
-  /// variants in one resistor (their quick estimates are near-ties the full pass settles),
-  /// taken in the order of the quick estimate. The choice is the one a full sort of every
-  /// estimate would give, but the estimates are worked out only as far as they can change it:
-  ///  - a queue holds (value, draft), least first: a draft enters at its floor (score_floor),
-  ///    and drafts enter while their floors are at most the queue's least value;
-  ///  - the estimate is the largest gain error over the corner pieces (StageBuilder::
-  ///    quick_from), so the largest over some of them is a floor under it that only rises as
-  ///    pieces are added; a draft at the head with pieces left gets one more and goes back;
-  ///  - a draft at the head with every piece done (or an invalid one met: 1e6 either way) has
-  ///    its whole estimate, and no draft in the queue or not yet in it can come before it
-  ///    (their floors are at least its value; equal values go by draft index, as the sort's);
-  ///  - a draft whose family is full, or that would start one past the limit, never can be
-  ///    chosen (heads come only while fewer than the limit, and families only fill): it
-  ///    leaves the queue unrefined.
-  std::vector<std::pair<std::size_t, double>> choose(const StageBuilder& builder,
-                                                     const std::deque<StageBuilder::Draft>& found,
-                                                     std::span<const stages::Role> roles, SearchStats& stats) const {
-    const auto families = static_cast<std::size_t>(spec_.search_families);
-    const int variants = spec_.search_variants;
-    auto variant = [&](const StageBuilder::Draft& a, const StageBuilder::Draft& b) {
-      int differ = 0;
-      for (std::size_t r = 0; r < roles.size(); ++r)
-        if (roles[r].kind == 'R' && std::abs(a.values[r] - b.values[r]) > 1e-9 * std::max(a.values[r], b.values[r]))
-          ++differ;
-      return differ <= 1;
-    };
-    using Entry = std::pair<double, std::size_t>;
-    std::vector<Entry> bound;
-    bound.reserve(found.size());
-    for (std::size_t i = 0; i < found.size(); ++i) bound.emplace_back(builder.score_floor(found[i]), i);
-    std::sort(bound.begin(), bound.end());
-    // Each draft's estimate so far: the corner pieces worked out (a mask) and the largest
-    // error among them.
-    const std::size_t corners = builder.corner_count();
-    constexpr std::size_t kMaskBits = 64;
-    const std::uint64_t every = corners >= kMaskBits ? ~0ULL : (1ULL << corners) - 1;
-    struct Partial {
-      std::uint64_t done = 0;
-      double worst = 0;
-      std::size_t largest = 0;  // the piece it came from
-    };
-    std::vector<Partial> partial(found.size());
-    // How often each corner piece gave a finished estimate its largest error: the likeliest
-    // is worked out first, so that the estimate rises early where it will.
-    std::vector<long> hits(corners, 0);
-    auto finished = [&](const Partial& p) { return p.done == every || std::isinf(p.worst); };
-    auto refine = [&](std::size_t i) {
-      Partial& p = partial[i];
-      if (corners > kMaskBits) {  // (no piece lists this long; estimated whole)
-        p.worst = 0;
-        for (std::size_t k = 0; k < corners && !std::isinf(p.worst); ++k)
-          p.worst = std::max(p.worst, builder.corner_error(found[i], k, stats));
-        p.done = every;
-        return;
-      }
-      std::size_t k = corners;
-      for (std::size_t c = 0; c < corners; ++c)
-        if (!(p.done >> c & 1U) && (k == corners || hits[c] > hits[k])) k = c;
-      const double e = builder.corner_error(found[i], k, stats);
-      p.done |= 1ULL << k;
-      if (e > p.worst || p.done == (1ULL << k)) {
-        p.worst = e;
-        p.largest = k;
-      }
-      if (finished(p)) ++hits[p.largest];
-    };
-    std::priority_queue<Entry, std::vector<Entry>, std::greater<>> scored;
-    std::vector<std::pair<std::size_t, double>> chosen;
-    std::vector<std::size_t> heads;
-    std::vector<int> members;
-    // The family a draft joins (heads.size() for a new one), or -1 when it cannot be chosen
-    // (then never: heads only come while fewer than `families`, and a family only fills).
-    auto family_of = [&](std::size_t i) -> long {
-      std::size_t f = 0;
-      while (f < heads.size() && !variant(found[heads[f]], found[i])) ++f;
-      if (f == heads.size()) return heads.size() >= families ? -1 : static_cast<long>(f);
-      return members[f] >= variants ? -1 : static_cast<long>(f);
-    };
-    auto all_full = [&] {
-      return heads.size() >= families &&
-             std::all_of(members.begin(), members.end(), [&](int m) { return m >= variants; });
-    };
-    std::size_t next = 0;
-    while (!all_full()) {
-      // Drafts enter (as their floors) until the least entry is known to come first.
-      while (next < bound.size() && (scored.empty() || bound[next].first <= scored.top().first)) {
-        const std::size_t i = bound[next++].second;
-        if (heads.size() >= families && family_of(i) < 0) continue;
-        scored.push(bound[next - 1]);
-      }
-      if (scored.empty()) break;
-      const auto [estimate, i] = scored.top();
-      scored.pop();
-      const long f = family_of(i);
-      if (f < 0) continue;
-      if (!finished(partial[i])) {
-        // A floor still: one corner piece more, and back in line.
-        refine(i);
-        scored.emplace(builder.quick_from(found[i], partial[i].worst), i);
-        continue;
-      }
-      if (static_cast<std::size_t>(f) == heads.size()) {
-        heads.push_back(i);
-        members.push_back(0);
-      }
-      ++members[static_cast<std::size_t>(f)];
-      chosen.emplace_back(i, estimate);
-    }
-    return chosen;
+    work.choice = std::make_unique<Choice>(builder, spec_, std::move(found));
   }
 
  private:
@@ -262,39 +306,50 @@ class Searcher {
 }  // namespace
 
 // NOTES (the ranked search):
-//  1. Every job is drafted and makes its choice first (Searcher::prepare, on every core): the
-//     drafts chosen for the corner pass. Nothing is assessed yet.
+//  1. Every job is drafted first (Searcher::prepare, on every core), then makes its choice of
+//     drafts for the corner pass (Choice) as far as NOTES 5 needs it.
 //  2. Each chosen draft has a floor under the score its corner pass would give
 //     (StageBuilder::score_floor: the nominal gain error counted as the worst; the worst
 //     gain range holds the nominal gain, and a stage's gain keeps its sign wherever it is
 //     valid, so the worst error is never below the nominal's; the score's other terms are
 //     counted alike or are never negative).
 //     When the request has one supply and one temperature, the draft's quick estimate
-//     (StageBuilder::quick_from over every corner piece) is a floor too, less a slack of a millionth of gain error
-//     for rounding: it takes the gain at the device's corner pieces with the parts nominal at
-//     that supply and temperature, a point the corner pass evaluates as well (with the
-//     distortion, the band's losses or the parts' stress worked out, which leave the gain as
-//     it is: tests/synth/evaluate_test.cpp holds the band's to that), and the
-//     corner pass's worst error is the largest over its points. An estimate that met an
-//     invalid corner says nothing (that corner fails the pass too, but the draft's floor is
-//     left as it is).
+//     (StageBuilder::quick_from over every corner piece) is a floor too, less a slack of a
+//     millionth of gain error for rounding: it takes the gain at the device's corner pieces
+//     with the parts nominal at that supply and temperature, a point the corner pass
+//     evaluates as well (with the distortion, the band's losses or the parts' stress worked
+//     out, which leave the gain as it is: tests/synth/evaluate_test.cpp holds the band's to
+//     that), and the corner pass's worst error is the largest over its points. An estimate
+//     that met an invalid corner says nothing (that corner fails the pass too, but the
+//     draft's floor is left as it is).
 //     An op-amp stage's gain is its resistors' ratio: their tolerances are most of its worst
 //     case, and the device corners of the quick estimate leave them out, so its floor sat
 //     well under its score and the search assessed many such drafts it never listed. On one
 //     supply and temperature its floor also takes the gain error of the corner pass's gain
 //     pushes at the nominal piece (detail::tolerance_gain_error: points that pass evaluates
-//     as well), worked out for every chosen op-amp draft before anything is assessed.
+//     as well), worked out for every chosen op-amp draft before it can be assessed.
 //  3. The candidates are handed out in rank order: score, then pieces, then job, then the
 //     job's order of choice, the order a stable sort of every assessed candidate by score and
 //     pieces gives. One is handed out only when its score is below the floor of every draft
-//     not yet assessed; until then the drafts of least floor are assessed, a batch at a time
-//     on every core. A draft whose floor lies above the last score handed out is never
-//     assessed: it could not have ranked before it.
+//     not yet assessed, chosen or still to be chosen (NOTES 5); until then the drafts of least
+//     floor are assessed, a batch at a time on every core. A draft whose floor lies above the
+//     last score handed out is never assessed: it could not have ranked before it.
 //  4. The counts (SearchStats) are merged job by job, then each assessed draft's in the order
 //     of jobs and choice, as a search assessing every draft in that order would merge them;
 //     when every draft is assessed (nothing listed), they are the same counts.
+//  5. A choice is made only as far as the hand-out needs it. With the quick estimates floors
+//     (NOTES 2), a draft a paused choice would still choose has a floor of at least the
+//     choice's frontier less the slack (Choice::frontier), so the frontier stands in for all
+//     of them; when it is the least floor of an order, the choices of that order's jobs go on
+//     (on every core) up to a limit a quarter above it, and what they choose joins the order.
+//     Paused where it was, a choice chooses what the whole choice chooses first, in the same
+//     order, so the hand-out is the one every choice made whole gives; the drafts a whole
+//     choice would refine only to choose them past the last score handed out are never
+//     refined (most of a search's quick estimates were). Without quick floors (a supply
+//     range, a temperature range) every choice is made whole at once.
 struct RankedSearch::Impl {
   const Spec& spec;
+  const std::vector<Job>& jobs;
   std::vector<JobWork> work;  // by job
   struct Item {
     std::uint32_t job = 0, pos = 0;
@@ -305,8 +360,10 @@ struct RankedSearch::Impl {
     long evaluations = 0;
     std::string failure;
   };
-  std::vector<Item> items;
+  // (A deque: ids and references stay as choices go on and items join.)
+  std::deque<Item> items;
   bool quick_floors = false;  // NOTES 2: the quick estimates are floors too
+  double limit = 0;           // NOTES 5: the choices are made up to it
 
   // A gain error of a millionth, in score points (NOTES 2).
   static constexpr double kQuickSlack = 100.0 * 1e-6;
@@ -318,38 +375,53 @@ struct RankedSearch::Impl {
   }
   // One order of hand-out: over every job, or over the jobs of one first device.
   struct View {
-    std::vector<std::uint32_t> by_floor;  // its items, least floor first
-    std::vector<bool> dropped;            // by item: passed over (never handed out)
-    std::size_t frontier = 0;             // by_floor before it: assessed
-    std::vector<std::uint32_t> heap;      // assessed and holding, not yet handed out
-    std::vector<std::uint32_t> out;       // handed out, in rank order
+    std::function<bool(std::uint32_t)> keep;  // its items (asked once of each, as it joins)
+    std::function<bool(std::uint32_t)> job;   // its jobs
+    std::size_t seen = 0;                     // items asked of keep
+    std::vector<std::uint32_t> by_floor;      // its items, least floor first
+    std::vector<bool> dropped;                // by item: passed over (never handed out)
+    std::size_t frontier = 0;                 // by_floor before it: assessed
+    std::vector<std::uint32_t> heap;          // assessed and holding, not yet handed out
+    std::vector<std::uint32_t> out;           // handed out, in rank order
   };
   View every;
   std::map<std::string, View> views;  // the orders over some drafts, by name, made on first use
   std::size_t assessed = 0;
 
-  explicit Impl(const Spec& s) : spec(s) {}
+  Impl(const Spec& s, const std::vector<Job>& j) : spec(s), jobs(j) {}
 
+  // Items by (floor, job, order of choice).
+  bool floor_before(std::uint32_t a, std::uint32_t b) const {
+    const Item &x = items[a], &y = items[b];
+    return std::tie(x.floor, x.job, x.pos) < std::tie(y.floor, y.job, y.pos);
+  }
   bool ranks_before(std::uint32_t a, std::uint32_t b) const {
-    const Candidate &x = items[a].c, &y = items[b].c;
-    if (x.score != y.score) return x.score < y.score;
-    if (x.pieces != y.pieces) return x.pieces < y.pieces;
-    return a < b;  // items are laid out by job, then order of choice
+    const Item &x = items[a], &y = items[b];
+    if (x.c.score != y.c.score) return x.c.score < y.c.score;
+    if (x.c.pieces != y.c.pieces) return x.c.pieces < y.c.pieces;
+    return std::tie(x.job, x.pos) < std::tie(y.job, y.pos);
   }
 
-  View make_view(const std::function<bool(const Item&)>& keep) const {
-    View v;
-    for (std::uint32_t i = 0; i < items.size(); ++i)
-      if (keep(items[i])) v.by_floor.push_back(i);
-    std::stable_sort(v.by_floor.begin(), v.by_floor.end(),
-                     [&](std::uint32_t a, std::uint32_t b) { return items[a].floor < items[b].floor; });
-    return v;
+  // The items that joined since the view last looked, in place by floor among those it has
+  // not assessed.
+  void sync(View& v) {
+    const std::size_t old = v.by_floor.size();
+    for (; v.seen < items.size(); ++v.seen)
+      if (v.keep(static_cast<std::uint32_t>(v.seen))) v.by_floor.push_back(static_cast<std::uint32_t>(v.seen));
+    if (v.by_floor.size() == old) return;
+    const auto mid = v.by_floor.begin() + static_cast<long>(old);
+    auto less = [&](std::uint32_t a, std::uint32_t b) { return floor_before(a, b); };
+    std::sort(mid, v.by_floor.end(), less);
+    std::inplace_merge(v.by_floor.begin() + static_cast<long>(v.frontier), mid, v.by_floor.end(), less);
+    v.dropped.resize(items.size(), false);
   }
-  // The order named `name` over the drafts `keep` accepts (made on first use).
-  View& view(const std::string& name, const std::function<bool(const Item&)>& keep) {
-    auto it = views.find(name);
-    if (it == views.end()) it = views.emplace(name, make_view(keep)).first;
-    return it->second;
+  // The order named `name` (made on first use), its membership tests given again on every use
+  // (the caller's functions live as long as its call).
+  View& view(const std::string& name, std::function<bool(std::uint32_t)> keep, std::function<bool(std::uint32_t)> job) {
+    View& v = views[name];
+    v.keep = std::move(keep);
+    v.job = std::move(job);
+    return v;
   }
 
   // A pending draft as the candidate it makes (before its corner pass).
@@ -360,7 +432,6 @@ struct RankedSearch::Impl {
 
   // Whether the view passes over a pending draft (NOTES 3).
   bool pass_over(View& v, std::uint32_t i, const PassOver* skip) {
-    if (v.dropped.empty()) v.dropped.assign(items.size(), false);
     if (!v.dropped[i] && skip && *skip && (*skip)(shell(items[i]))) v.dropped[i] = true;
     return v.dropped[i];
   }
@@ -380,10 +451,57 @@ struct RankedSearch::Impl {
     assessed += batch.size();
   }
 
+  // NOTES 5: a floor under every draft the view's jobs would still choose (infinity when
+  // their choices are made).
+  double unchosen_floor(const View& v) const {
+    double f = std::numeric_limits<double>::infinity();
+    for (std::uint32_t j = 0; j < work.size(); ++j)
+      if (work[j].choice && !work[j].choice->done() && v.job(j)) f = std::min(f, work[j].choice->frontier());
+    return f - kQuickSlack;
+  }
+
+  // The choices of the jobs `job` takes, on every core, up to `to`; what they choose joins
+  // the items (NOTES 2: an op-amp draft's floor with its tolerances).
+  void choose_up_to(double to, const std::function<bool(std::uint32_t)>& job) {
+    limit = std::max(limit, to);
+    std::vector<std::uint32_t> go;
+    for (std::uint32_t j = 0; j < work.size(); ++j)
+      if (work[j].choice && !work[j].choice->done() && job(j) && work[j].choice->frontier() <= limit) go.push_back(j);
+    std::vector<std::size_t> before(work.size());
+    for (std::uint32_t j = 0; j < work.size(); ++j) before[j] = work[j].chosen.size();
+    parallel_for(go.size(), [&](std::size_t g) {
+      JobWork& w = work[go[g]];
+      w.choice->advance(limit, w.chosen, w.quick, w.stats);
+    });
+    const std::size_t first = items.size();
+    for (const std::uint32_t j : go)
+      for (std::size_t k = before[j]; k < work[j].chosen.size(); ++k) {
+        Item it;
+        it.job = j;
+        it.pos = static_cast<std::uint32_t>(k);
+        it.floor = floor_of(work[j], k);
+        items.push_back(std::move(it));
+      }
+    if (!quick_floors) return;
+    std::vector<std::size_t> ratio;
+    for (std::size_t i = first; i < items.size(); ++i)
+      if (jobs[items[i].job].device->kind == devices::DeviceKind::opamp) ratio.push_back(i);
+    parallel_for(ratio.size(), [&](std::size_t b) {
+      Item& it = items[ratio[b]];
+      const JobWork& w = work[it.job];
+      it.c = w.builder->candidate(w.chosen[it.pos]);
+      const double tol = detail::tolerance_gain_error(it.c, spec, it.floor_evaluations);
+      const double floor = 100.0 * (0.5 * std::abs(it.c.error_nominal) + tol) + detail::kPiecePoints * it.c.pieces +
+                           spec.purchase_points * it.c.purchases - kQuickSlack;
+      it.floor = std::max(it.floor, floor);
+    });
+  }
+
   // Hands out the view's next candidate (NOTES 3); false when none is left.
   bool step(View& v, const PassOver* skip) {
     auto later = [&](std::uint32_t a, std::uint32_t b) { return ranks_before(b, a); };
     for (;;) {
+      sync(v);
       // Drafts assessed already (by this view or another), or passed over, leave the frontier.
       while (v.frontier < v.by_floor.size() && (items[v.by_floor[v.frontier]].state != Item::State::pending ||
                                                 pass_over(v, v.by_floor[v.frontier], skip))) {
@@ -395,13 +513,21 @@ struct RankedSearch::Impl {
         }
       }
       const bool more = v.frontier < v.by_floor.size();
-      if (!v.heap.empty() && (!more || items[v.heap.front()].c.score < items[v.by_floor[v.frontier]].floor)) {
+      const double unchosen = unchosen_floor(v);
+      const double least = std::min(more ? items[v.by_floor[v.frontier]].floor : unchosen, unchosen);
+      if (!v.heap.empty() && items[v.heap.front()].c.score < least) {
         std::pop_heap(v.heap.begin(), v.heap.end(), later);
         v.out.push_back(v.heap.back());
         v.heap.pop_back();
         return true;
       }
-      if (!more) return false;
+      if (!more && std::isinf(unchosen)) return false;
+      if (!more || unchosen < items[v.by_floor[v.frontier]].floor) {
+        // NOTES 5: the choices go on, a quarter past the least floor they stand for.
+        const double from = unchosen + kQuickSlack;
+        choose_up_to(from + 0.25 * std::abs(from) + 1.0, v.job);
+        continue;
+      }
       // The next drafts by floor; a batch for every core (one when the cores are busy).
       const std::size_t want = in_parallel_for ? 1 : 2 * std::max(1u, std::thread::hardware_concurrency());
       std::vector<std::uint32_t> batch;
@@ -421,59 +547,39 @@ struct RankedSearch::Impl {
 };
 
 RankedSearch::RankedSearch(const Spec& spec, const Shelf& shelf, const std::vector<Job>& jobs, bool probe)
-    : impl_(std::make_unique<Impl>(spec)) {
+    : impl_(std::make_unique<Impl>(spec, jobs)) {
   const Searcher searcher(spec, shelf, probe);
   impl_->work.resize(jobs.size());
   impl_->quick_floors = spec.supply_lo_v == spec.supply_hi_v && !spec.temp_c;
   parallel_for(jobs.size(), [&](std::size_t i) { searcher.prepare(jobs[i], impl_->work[i]); });
-  // (Reserved: an Item carries a Candidate, which the vector would copy as it grows.)
-  std::size_t total = 0;
-  for (const JobWork& w : impl_->work) total += w.chosen.size();
-  impl_->items.reserve(total);
-  for (std::uint32_t j = 0; j < jobs.size(); ++j) {
-    const JobWork& w = impl_->work[j];
-    for (std::uint32_t k = 0; k < w.chosen.size(); ++k) {
-      Impl::Item it;
-      it.job = j;
-      it.pos = k;
-      it.floor = impl_->floor_of(w, k);
-      impl_->items.push_back(std::move(it));
-    }
-  }
-  // NOTES 2: the op-amp drafts' floors with their parts' tolerances.
-  if (impl_->quick_floors) {
-    std::vector<std::uint32_t> ratio;
-    for (std::uint32_t i = 0; i < impl_->items.size(); ++i)
-      if (jobs[impl_->items[i].job].device->kind == devices::DeviceKind::opamp) ratio.push_back(i);
-    parallel_for(ratio.size(), [&](std::size_t b) {
-      Impl::Item& it = impl_->items[ratio[b]];
-      const JobWork& w = impl_->work[it.job];
-      it.c = w.builder->candidate(w.chosen[it.pos]);
-      const double tol = detail::tolerance_gain_error(it.c, spec, it.floor_evaluations);
-      const double floor = 100.0 * (0.5 * std::abs(it.c.error_nominal) + tol) + detail::kPiecePoints * it.c.pieces +
-                           spec.purchase_points * it.c.purchases - Impl::kQuickSlack;
-      it.floor = std::max(it.floor, floor);
-    });
-  }
-  impl_->every = impl_->make_view([](const Impl::Item&) { return true; });
+  impl_->every.keep = [](std::uint32_t) { return true; };
+  impl_->every.job = [](std::uint32_t) { return true; };
+  if (!impl_->quick_floors) choose_all();
 }
 
 RankedSearch::~RankedSearch() = default;
 
+void RankedSearch::choose_all() {
+  impl_->choose_up_to(std::numeric_limits<double>::infinity(), [](std::uint32_t) { return true; });
+}
+
 std::optional<std::size_t> RankedSearch::at(std::size_t k, const std::string* device, const PassOver& skip) {
   Impl& m = *impl_;
   if (!device) return m.nth(m.every, k, &skip);
+  auto of_device = [&m, name = *device](std::uint32_t j) { return m.work[j].builder->device().name == name; };
   return m.nth(
-      m.view("device " + *device, [&](const Impl::Item& i) { return m.work[i.job].builder->device().name == *device; }),
+      m.view(
+          "device " + *device, [&m, of_device](std::uint32_t i) { return of_device(m.items[i].job); }, of_device),
       k, &skip);
 }
 
 std::optional<std::size_t> RankedSearch::at_among(std::size_t k, const std::string& name,
                                                   const std::function<bool(std::size_t)>& member) {
   Impl& m = *impl_;
-  return m.nth(m.view("among " + name,
-                      [&](const Impl::Item& i) { return member(static_cast<std::size_t>(&i - m.items.data())); }),
-               k, nullptr);
+  return m.nth(
+      m.view(
+          "among " + name, [&member](std::uint32_t i) { return member(i); }, [](std::uint32_t) { return true; }),
+      k, nullptr);
 }
 
 const Candidate& RankedSearch::shell(std::size_t id) { return impl_->shell(impl_->items[id]); }
@@ -496,9 +602,14 @@ std::vector<Candidate> RankedSearch::all() {
 
 void RankedSearch::tally(SearchStats& out) const {
   for (const JobWork& w : impl_->work) out.merge(w.stats);
-  for (const Impl::Item& it : impl_->items) {
-    out.evaluations += it.evaluations + it.floor_evaluations;
-    if (it.state == Impl::Item::State::failed) out.note_corner_failure(it.failure);
+  std::vector<const Impl::Item*> by_choice;
+  for (const Impl::Item& it : impl_->items) by_choice.push_back(&it);
+  std::sort(by_choice.begin(), by_choice.end(), [](const Impl::Item* a, const Impl::Item* b) {
+    return std::tie(a->job, a->pos) < std::tie(b->job, b->pos);
+  });
+  for (const Impl::Item* it : by_choice) {
+    out.evaluations += it->evaluations + it->floor_evaluations;
+    if (it->state == Impl::Item::State::failed) out.note_corner_failure(it->failure);
   }
 }
 

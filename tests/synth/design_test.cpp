@@ -694,6 +694,27 @@ TEST_CASE("the ranked search hands out the order a full sort gives, assessing on
                                 << " chosen drafts assessed for 12");
     CHECK(lazy.assessed() < lazy.chosen());
 
+    // Every job's choice made whole first (NOTES 5 in ranked.cpp): the same first dozen. The
+    // lazy search chose no more drafts and spent no more evaluations; with the quick
+    // estimates floors (one supply) it made its choices only part of the way.
+    synth::detail::RankedSearch whole(spec, shelf, jobs);
+    whole.choose_all();
+    const std::size_t chosen_whole = whole.chosen();
+    for (std::size_t k = 0; k < 12; ++k) {
+      CAPTURE(k);
+      const auto id = whole.at(k);
+      REQUIRE(id);
+      CHECK(same_design(whole.candidate(*id), every[k]));
+    }
+    synth::SearchStats lazy_part, whole_part;
+    lazy.tally(lazy_part);
+    whole.tally(whole_part);
+    MESSAGE(std::string(r.what) << ": " << lazy.chosen() << " drafts chosen of " << chosen_whole << ", "
+                                << lazy_part.evaluations << " evaluations against " << whole_part.evaluations);
+    CHECK(lazy.chosen() <= chosen_whole);
+    CHECK(lazy_part.evaluations <= whole_part.evaluations);
+    if (r.supply_lo == r.supply_hi) CHECK(lazy.chosen() < chosen_whole);
+
     // Passing over the variants of the first (as the list does once it is shown): the full
     // sort without them, and those never assessed.
     synth::detail::RankedSearch skipping(spec, shelf, jobs);
