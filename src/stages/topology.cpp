@@ -121,7 +121,7 @@ void apply_input_divider(Performance& p, const Values& values, std::span<const R
   if (cin >= roles.size()) return;
   const double k = input_divider(c.source_ohm, p.zin_ohm, p.c_in_f, values[cin]);
   if (k == 1.0) return;
-  p.gain *= k;
+  p.gain = p.gain_undivided * k;
   double kn = 1.0;
   for (double& o : p.transfer.o) {
     o *= kn;
@@ -133,6 +133,7 @@ void apply_input_divider(Performance& p, const Values& values, std::span<const R
 
 Performance Topology::evaluate(const Values& values, const Transistor& q, const Conditions& c, Detail detail) const {
   Performance p = evaluate_n(values, q, c, detail);
+  p.gain_undivided = p.gain;
   if (p.valid) apply_input_divider(p, values, roles(), c);
   const Rail rail = rail_of(q, c);
   p.v_in = rail.real(p.v_in);
@@ -152,6 +153,16 @@ Performance Topology::evaluate(const Values& values, const Transistor& q, const 
     s.minus_net = actual >= 0 ? rail.net(neg) : rail.net(pos);
   }
   return p;
+}
+
+double Topology::gain_with(const Values& values, const Conditions& c, const Performance& p) const {
+  Performance q;
+  q.valid = p.valid;
+  q.gain = q.gain_undivided = p.gain_undivided;
+  q.zin_ohm = p.zin_ohm;
+  q.c_in_f = p.c_in_f;
+  if (q.valid) apply_input_divider(q, values, roles(), c);
+  return q.gain;
 }
 
 }  // namespace shelfstage::stages

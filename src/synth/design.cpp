@@ -283,8 +283,18 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   // One quantity pool: every role and every copy.
   const int short_by = shortfall(d.combos);
   if (short_by < 0) return stop("stock");
-  const stages::Performance nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
-  ++stats.evaluations;
+  // With no band and no distortion bound, the nominal figures the request reads are the first
+  // screen's (mid-band, the capacitors shorts: its conditions are screen_ with the request's
+  // floors, which it passed) but for the gain's input divider, which takes the fitted input
+  // capacitor (Topology::gain_with): no second evaluation.
+  stages::Performance nominal;
+  if (!screen_.distortion && !spec_.band_hz) {
+    nominal = one_supply ? pre : ideal;
+    nominal.gain = t.gain_with(d.values, screen_, nominal);
+  } else {
+    nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
+    ++stats.evaluations;
+  }
   if (!meets_request(spec_, nominal, stats, false)) return false;
   d.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
   count_pieces(d, shelf_, spec_.copies, short_by);

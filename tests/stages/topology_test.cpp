@@ -6,6 +6,7 @@
 
 #include <set>
 
+#include "shelfstage/stages/chain.hpp"
 #include "stage_bench.hpp"
 
 using namespace shelfstage;
@@ -199,5 +200,40 @@ TEST_CASE("is_bench_role and is_bench_net: the bench's parts and nets, not the s
       CHECK((is_bench || is_device || t->role_index(el.c.role) < t->roles().size()));
     }
     CHECK(bench == 5);  // supply, signal, source resistance, load, load capacitance
+  }
+}
+
+// Topology::gain_with: the search takes a draft's nominal gain from its first evaluation (other
+// capacitors) when the request reads nothing else a capacitor moves. It must be the gain
+// evaluate() gives with the capacitors fitted: every capacitor changed, the input coupling
+// small against a high source impedance so that its divider with the input capacitance counts.
+TEST_CASE("gain_with: the gain evaluate gives with other capacitors, from an evaluation with these") {
+  for (const stages::Topology* t : stages::registry()) {
+    if (!takes_transistors(*t)) continue;  // (op-amp stages share Topology::evaluate's divider)
+    const devices::DeviceSpread spread(n_record_for(*t));
+    const Transistor q = piece_of(spread, spread.nominal());
+    Conditions c;
+    c.supply_v = 12;
+    c.load_ohm = 10e3;
+    c.source_ohm = 100e3;
+    const StageCase sc = design_stage(*t, q, c, {}, spread.record().bjt.hfe.typ.value_or(0));
+    INFO(std::string(t->name()));
+    const auto roles = t->roles();
+    const std::size_t cin = stages::input_coupling_role(*t);
+    REQUIRE(cin < roles.size());
+    Values other = sc.values;
+    for (std::size_t i = 0; i < roles.size(); ++i)
+      if (roles[i].kind == 'C' && other[i] > 0) other[i] *= i == cin ? 1e-3 : 0.3;
+    const Performance at_fitted = t->evaluate(sc.values, sc.q, c);
+    const Performance at_other = t->evaluate(other, sc.q, c);
+    REQUIRE(at_fitted.valid);
+    REQUIRE(at_other.valid);
+    CHECK(std::abs(at_other.gain / at_fitted.gain - 1.0) > 1e-4);  // the divider counts here
+    // To the last bit, but for the feedback pairs, whose bias is Newton's from the last point
+    // the thread solved (the same to 1e-11 V whatever the start).
+    const bool pair = t->second_device() != stages::SecondDevice::none;
+    const double tol = pair ? 1e-12 * std::abs(at_fitted.gain) : 0.0;
+    CHECK(std::abs(t->gain_with(sc.values, c, at_other) - at_fitted.gain) <= tol);
+    CHECK(std::abs(t->gain_with(other, c, at_fitted) - at_other.gain) <= tol);
   }
 }

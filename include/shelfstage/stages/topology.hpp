@@ -194,6 +194,9 @@ struct Performance {
   /// bypass capacitor short and every device capacitance open, but for the input coupling
   /// capacitor against the input capacitance c_in_f (a flat divider: input_divider()).
   double gain = 0;
+  /// The same with the input coupling capacitor a short as well (before input_divider():
+  /// Topology::gain_with works the gain out from it for another input capacitor).
+  double gain_undivided = 0;
   double bias_current_a = 0;  ///< drain or collector current
   double v_in = 0;            ///< gate or base DC volts
   double v_common = 0;        ///< source or emitter DC volts
@@ -391,6 +394,11 @@ class Topology {
   /// and capacitor stress on the user's rail.
   Performance evaluate(const Values& values, const Transistor& q, const Conditions& c,
                        Detail detail = Detail::core) const;
+  /// The gain evaluate() gives at `values` when `p` is its result at the same resistors,
+  /// device and conditions but other capacitors: every capacitor but the input coupling one
+  /// is a short in the mid-band figures, so only the input divider changes (to the last bit:
+  /// worked out as evaluate() works it out).
+  double gain_with(const Values& values, const Conditions& c, const Performance& p) const;
 
   /// The design equations: proposes resistor sets (capacitor roles left 0) for the goal with
   /// the nominal piece q, drawing only on values the shelf can make. Each proposal goes to
