@@ -85,14 +85,7 @@ TEST_CASE(
     "every other stage inverts with gain (ngspice)") {
   for (const stages::Topology* t : stages::registry()) {
     if (!takes_transistors(*t)) continue;  // op-amp stages' signs: opamp_stages_test.cpp
-    const devices::DeviceSpread spread(n_record_for(*t));
-    const Transistor q = piece_of(spread, spread.nominal());
-    Conditions c;
-    c.supply_v = 12;
-    c.load_ohm = 10e3;
-    c.source_ohm = 1e3;
-    StageCase sc = design_stage(*t, q, c, {}, spread.record().bjt.hfe.typ.value_or(0));
-    sc.label = fmt::format("{} reference design with {}", t->name(), spread.record().name);
+    const StageCase sc = nominal_reference(*t, 1e3);
     INFO(sc.label);
     const SpiceFigures ng = spice_small_signal(sc, 1000.0);
     if (t->is_buffer()) {

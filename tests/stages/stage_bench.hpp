@@ -162,6 +162,19 @@ inline StageCase design_stage(const Topology& t, const Transistor& q, const Cond
   return sc;
 }
 
+/// The topology's reference design with the nominal piece of its N record (with_second's Q2
+/// for a pair), on 12 V into 10 kOhm from a source of source_ohm, labelled with both names.
+inline StageCase nominal_reference(const Topology& t, double source_ohm) {
+  const devices::DeviceSpread spread(n_record_for(t));
+  Conditions c;
+  c.supply_v = 12;
+  c.load_ohm = 10e3;
+  c.source_ohm = source_ohm;
+  StageCase sc = design_stage(t, piece_of(spread, spread.nominal()), c, {}, spread.record().bjt.hfe.typ.value_or(0));
+  sc.label = fmt::format("{} reference design with {}", t.name(), spread.record().name);
+  return sc;
+}
+
 // ---------------------------------------------------------------------------------------
 // ngspice measurements.
 

@@ -210,14 +210,9 @@ TEST_CASE("is_bench_role and is_bench_net: the bench's parts and nets, not the s
 TEST_CASE("gain_with: the gain evaluate gives with other capacitors, from an evaluation with these") {
   for (const stages::Topology* t : stages::registry()) {
     if (!takes_transistors(*t)) continue;  // (op-amp stages share Topology::evaluate's divider)
-    const devices::DeviceSpread spread(n_record_for(*t));
-    const Transistor q = piece_of(spread, spread.nominal());
-    Conditions c;
-    c.supply_v = 12;
-    c.load_ohm = 10e3;
-    c.source_ohm = 100e3;
-    const StageCase sc = design_stage(*t, q, c, {}, spread.record().bjt.hfe.typ.value_or(0));
-    INFO(std::string(t->name()));
+    const StageCase sc = nominal_reference(*t, 100e3);
+    const Conditions& c = sc.c;
+    INFO(sc.label);
     const auto roles = t->roles();
     const std::size_t cin = stages::input_coupling_role(*t);
     REQUIRE(cin < roles.size());
