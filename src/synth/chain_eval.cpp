@@ -512,8 +512,9 @@ std::string verify_chain_polarity(Candidate& ch, const Spec& spec) {
           {&rp, rp.polarised && !rp.plus_net.empty() ? stages::chain_net(k, n, rp.plus_net) : std::string(), {}, {}});
     }
   }
+  circuit::OperatingPoint last;  // each solve starts from the one before (a corner away)
   auto solve = [&](const std::vector<stages::ChainStage>& list, double vs, double temp, const std::string& what) {
-    return read_capacitors(stages::chain_netlist(list, conditions(spec, vs, temp)), temp, leads, what);
+    return read_capacitors(stages::chain_netlist(list, conditions(spec, vs, temp)), temp, leads, what, &last);
   };
   const std::vector<stages::ChainStage> nominal = chain_stages(ch);
   if (std::string v = solve(nominal, spec.supply_nominal_v(), spec.temp_nominal_c(), "nominal"); !v.empty()) return v;

@@ -12,6 +12,7 @@
 #include <string>
 #include <vector>
 
+#include "shelfstage/circuit/solver.hpp"
 #include "shelfstage/synth/design.hpp"
 
 namespace shelfstage::synth::detail {
@@ -116,9 +117,11 @@ struct CapLeads {
 /// Solves the netlist's operating point and joins the DC across each capacitor (from its +
 /// lead) to its part's dc range; the first call fixes the leads (the fitted + lead, else the
 /// end higher) and names them (plus_node, minus_node). Returns "polarity: ..." when a
-/// polarised part is reversed, "bias: ..." when the solver finds no operating point.
+/// polarised part is reversed, "bias: ..." when the solver finds no operating point. `warm`,
+/// when given, holds the operating point of the last solve (a corner a step away: the solver
+/// starts from it, circuit::SolverOptions::start) and takes this one's.
 std::string read_capacitors(const circuit::Circuit& net, double celsius, std::vector<CapLeads>& leads,
-                            const std::string& where);
+                            const std::string& where, circuit::OperatingPoint* warm = nullptr);
 /// The DC across every capacitor of a single stage, from the exact solver at nominal and every
 /// corner (NOTES in worst.cpp): fills each capacitor's dc, plus_node and minus_node. Returns
 /// "polarity: ..." when a polarised part would be reversed, "bias: ..." when the solver finds

@@ -237,6 +237,7 @@ std::string in_band_shares(const Candidate& c, const Spec& spec, const StageSpre
   } else {
     freqs.push_back(1e3);
   }
+  circuit::OperatingPoint last;  // each solve starts from the one before (a corner away)
   for (const auto& f : pieces)
     for (const double temp : temps) {
       const stages::Transistor q = make_transistor(spread, f, temp);
@@ -250,8 +251,10 @@ std::string in_band_shares(const Candidate& c, const Spec& spec, const StageSpre
         if (!vsig || !out || vsig->c.ac_volts == 0) continue;
         circuit::SolverOptions so;
         so.celsius = temp;
+        if (!last.node_v.empty()) so.start = &last;
         try {
-          const circuit::AcSystem sys(net, circuit::solve_dc(net, so));
+          last = circuit::solve_dc(net, so);
+          const circuit::AcSystem sys(net, last);
           for (const double fm : freqs)
             share.add(std::abs(sys.solve(fm)[*out]) / std::abs(vsig->c.ac_volts) / std::abs(p.gain));
         } catch (const Error& e) {
@@ -398,15 +401,17 @@ double tolerance_gain_error(const Candidate& c, const Spec& spec, long& evaluati
 }
 
 std::string read_capacitors(const circuit::Circuit& net, double celsius, std::vector<CapLeads>& leads,
-                            const std::string& where) {
+                            const std::string& where, circuit::OperatingPoint* warm) {
   circuit::SolverOptions so;
   so.celsius = celsius;
+  if (warm && !warm->node_v.empty()) so.start = warm;
   circuit::OperatingPoint op;
   try {
     op = circuit::solve_dc(net, so);
   } catch (const Error& e) {
     return fmt::format("bias: the exact solver finds no operating point ({}: {})", where, e.what());
   }
+  if (warm) *warm = op;
   for (auto& l : leads) {
     const auto* el = net.find(l.part->designator);
     if (!el) continue;
@@ -461,13 +466,14 @@ std::string verify_polarity(Candidate& c, const Spec& spec) {
       rp.dc = c.worst.cap_dc[t.role_index(rp.role)];
       leads.push_back({&rp, rp.polarised ? rp.plus_net : std::string(), {}, {}});
     }
+  circuit::OperatingPoint last;  // each solve starts from the one before (a corner away)
   for (const auto& f : pieces)
     for (double temp : temps) {
       const stages::Transistor q = make_transistor(spread, f, temp);
       for (double vs : supplies)
         for (const Signs& way : ways) {
           const circuit::Circuit net = t.netlist(values_of(c, way), q, conditions(spec, vs, temp));
-          if (std::string v = read_capacitors(net, temp, leads, f.tag); !v.empty()) return v;
+          if (std::string v = read_capacitors(net, temp, leads, f.tag, &last); !v.empty()) return v;
         }
     }
   // A single stage's netlist names its nets as the stage does.

@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "shelfstage/circuit/netlist.hpp"
+#include "shelfstage/circuit/solver.hpp"
 #include "shelfstage/stages/topology.hpp"
 
 namespace shelfstage::stages {
@@ -36,7 +37,8 @@ struct LoopGain {
 /// (every conductance, capacitance and source within a billionth of the largest in its row:
 /// an op-amp's pieces that differ only in offset and bias currents, a supply's two ends where
 /// the devices' small-signal figures do not move) is given that one's figures instead of a
-/// sweep of its own.
+/// sweep of its own. Each build's operating point also starts the next build's solve
+/// (circuit::SolverOptions::start: a corner away, a few Newton steps).
 class LoopMemo {
  public:
   struct Seen;
@@ -52,6 +54,7 @@ class LoopMemo {
                                        LoopMemo*);
   std::vector<Seen> seen_;
   std::size_t reused_ = 0;
+  circuit::OperatingPoint last_;  ///< the last build's broken loop, solved
 };
 
 /// The loop gain of any stage-shaped circuit (stages::Topology::netlist, a chain stage's
