@@ -322,12 +322,14 @@ class Searcher {
 //     that), and the corner pass's worst error is the largest over its points. An estimate
 //     that met an invalid corner says nothing (that corner fails the pass too, but the
 //     draft's floor is left as it is).
-//     An op-amp stage's gain is its resistors' ratio: their tolerances are most of its worst
-//     case, and the device corners of the quick estimate leave them out, so its floor sat
-//     well under its score and the search assessed many such drafts it never listed. On one
-//     supply and temperature its floor also takes the gain error of the corner pass's gain
-//     pushes at the nominal piece (detail::tolerance_gain_error: points that pass evaluates
-//     as well), worked out for every chosen op-amp draft before it can be assessed.
+//     The quick estimate leaves the parts' tolerances out, and they are most of an op-amp
+//     stage's worst case (its gain is its resistors' ratio) and much of a degenerated
+//     transistor stage's, so such floors sat well under the scores and the search assessed
+//     many drafts it never listed (a feedback pair's corner pass works out its distortion by
+//     a dozen solves at each of its points). On one supply and temperature a floor also takes
+//     the gain error of the corner pass's gain pushes at the nominal piece (detail::
+//     tolerance_gain_error: points that pass evaluates as well), worked out when the draft is
+//     about to be assessed (NOTES 6).
 //  3. The candidates are handed out in rank order: score, then pieces, then job, then the
 //     job's order of choice, the order a stable sort of every assessed candidate by score and
 //     pieces gives. One is handed out only when its score is below the floor of every draft
@@ -347,6 +349,15 @@ class Searcher {
 //     choice would refine only to choose them past the last score handed out are never
 //     refined (most of a search's quick estimates were). Without quick floors (a supply
 //     range, a temperature range) every choice is made whole at once.
+//  6. A draft's tolerance floor (NOTES 2: a dozen evaluations without the distortion) is taken
+//     when the draft comes up for assessment, where it costs far less than the corner pass it
+//     may spare: an op-amp draft's (its tolerances are most of its score), and any draft's
+//     when the corner passes work out the distortion (scores of evaluations each, a feedback
+//     pair's a dozen solves apiece); a floor only rises. Each order keeps its drafts by a key, the floor a draft
+//     had when it joined or was last put in place, so a key is never above its draft's floor
+//     and stands in for it in the hand-out (NOTES 3); a draft whose floor rose past its key
+//     goes back to its place before anything is decided at the frontier. The drafts whose
+//     floors rise above the last score handed out are never assessed.
 struct RankedSearch::Impl {
   const Spec& spec;
   const std::vector<Job>& jobs;
@@ -356,6 +367,7 @@ struct RankedSearch::Impl {
     double floor = 0;
     enum class State : std::uint8_t { pending, held, failed } state = State::pending;
     long floor_evaluations = 0;  // NOTES 2: the tolerance floor's
+    bool floor_final = false;    // NOTES 6: the tolerance floor taken (or none to take)
     Candidate c;
     long evaluations = 0;
     std::string failure;
@@ -363,6 +375,7 @@ struct RankedSearch::Impl {
   // (A deque: ids and references stay as choices go on and items join.)
   std::deque<Item> items;
   bool quick_floors = false;  // NOTES 2: the quick estimates are floors too
+  bool distortion = false;    // NOTES 6: the corner passes work out the distortion
   double limit = 0;           // NOTES 5: the choices are made up to it
 
   // A gain error of a millionth, in score points (NOTES 2).
@@ -378,11 +391,17 @@ struct RankedSearch::Impl {
     std::function<bool(std::uint32_t)> keep;  // its items (asked once of each, as it joins)
     std::function<bool(std::uint32_t)> job;   // its jobs
     std::size_t seen = 0;                     // items asked of keep
-    std::vector<std::uint32_t> by_floor;      // its items, least floor first
-    std::vector<bool> dropped;                // by item: passed over (never handed out)
-    std::size_t frontier = 0;                 // by_floor before it: assessed
-    std::vector<std::uint32_t> heap;          // assessed and holding, not yet handed out
-    std::vector<std::uint32_t> out;           // handed out, in rank order
+    // Its items by a key: their floors as they were when they joined or were last put in place
+    // (a floor only rises, NOTES 6), least first.
+    struct Entry {
+      double key;
+      std::uint32_t id;
+    };
+    std::vector<Entry> by_floor;
+    std::vector<bool> dropped;        // by item: passed over (never handed out)
+    std::size_t frontier = 0;         // by_floor before it: assessed
+    std::vector<std::uint32_t> heap;  // assessed and holding, not yet handed out
+    std::vector<std::uint32_t> out;   // handed out, in rank order
   };
   View every;
   std::map<std::string, View> views;  // the orders over some drafts, by name, made on first use
@@ -390,10 +409,10 @@ struct RankedSearch::Impl {
 
   Impl(const Spec& s, const std::vector<Job>& j) : spec(s), jobs(j) {}
 
-  // Items by (floor, job, order of choice).
-  bool floor_before(std::uint32_t a, std::uint32_t b) const {
-    const Item &x = items[a], &y = items[b];
-    return std::tie(x.floor, x.job, x.pos) < std::tie(y.floor, y.job, y.pos);
+  // A view's entries by (key, job, order of choice).
+  bool key_before(const View::Entry& a, const View::Entry& b) const {
+    const Item &x = items[a.id], &y = items[b.id];
+    return std::tie(a.key, x.job, x.pos) < std::tie(b.key, y.job, y.pos);
   }
   bool ranks_before(std::uint32_t a, std::uint32_t b) const {
     const Item &x = items[a], &y = items[b];
@@ -406,14 +425,26 @@ struct RankedSearch::Impl {
   // not assessed.
   void sync(View& v) {
     const std::size_t old = v.by_floor.size();
-    for (; v.seen < items.size(); ++v.seen)
-      if (v.keep(static_cast<std::uint32_t>(v.seen))) v.by_floor.push_back(static_cast<std::uint32_t>(v.seen));
+    for (; v.seen < items.size(); ++v.seen) {
+      const auto id = static_cast<std::uint32_t>(v.seen);
+      if (v.keep(id)) v.by_floor.push_back({items[id].floor, id});
+    }
+    v.dropped.resize(items.size(), false);
     if (v.by_floor.size() == old) return;
     const auto mid = v.by_floor.begin() + static_cast<long>(old);
-    auto less = [&](std::uint32_t a, std::uint32_t b) { return floor_before(a, b); };
+    auto less = [&](const View::Entry& a, const View::Entry& b) { return key_before(a, b); };
     std::sort(mid, v.by_floor.end(), less);
     std::inplace_merge(v.by_floor.begin() + static_cast<long>(v.frontier), mid, v.by_floor.end(), less);
-    v.dropped.resize(items.size(), false);
+  }
+  // NOTES 6: the entry at the frontier, its floor risen past its key, goes to its place.
+  void put_in_place(View& v) {
+    const auto first = v.by_floor.begin() + static_cast<long>(v.frontier);
+    View::Entry e = *first;
+    e.key = items[e.id].floor;
+    auto less = [&](const View::Entry& a, const View::Entry& b) { return key_before(a, b); };
+    const auto to = std::upper_bound(first + 1, v.by_floor.end(), e, less);
+    std::rotate(first, first + 1, to);
+    *(to - 1) = e;
   }
   // The order named `name` (made on first use), its membership tests given again on every use
   // (the caller's functions live as long as its call).
@@ -473,27 +504,28 @@ struct RankedSearch::Impl {
       JobWork& w = work[go[g]];
       w.choice->advance(limit, w.chosen, w.quick, w.stats);
     });
-    const std::size_t first = items.size();
     for (const std::uint32_t j : go)
       for (std::size_t k = before[j]; k < work[j].chosen.size(); ++k) {
         Item it;
         it.job = j;
         it.pos = static_cast<std::uint32_t>(k);
         it.floor = floor_of(work[j], k);
+        it.floor_final = !quick_floors || !(distortion || jobs[j].device->kind == devices::DeviceKind::opamp);
         items.push_back(std::move(it));
       }
-    if (!quick_floors) return;
-    std::vector<std::size_t> ratio;
-    for (std::size_t i = first; i < items.size(); ++i)
-      if (jobs[items[i].job].device->kind == devices::DeviceKind::opamp) ratio.push_back(i);
-    parallel_for(ratio.size(), [&](std::size_t b) {
-      Item& it = items[ratio[b]];
+  }
+
+  // NOTES 6: the tolerance floors of pending drafts (on every core).
+  void take_tolerance_floors(const std::vector<std::uint32_t>& ids) {
+    parallel_for(ids.size(), [&](std::size_t b) {
+      Item& it = items[ids[b]];
       const JobWork& w = work[it.job];
-      it.c = w.builder->candidate(w.chosen[it.pos]);
+      if (!it.c.topology) it.c = w.builder->candidate(w.chosen[it.pos]);
       const double tol = detail::tolerance_gain_error(it.c, spec, it.floor_evaluations);
       const double floor = 100.0 * (0.5 * std::abs(it.c.error_nominal) + tol) + detail::kPiecePoints * it.c.pieces +
                            spec.purchase_points * it.c.purchases - kQuickSlack;
       it.floor = std::max(it.floor, floor);
+      it.floor_final = true;
     });
   }
 
@@ -502,10 +534,16 @@ struct RankedSearch::Impl {
     auto later = [&](std::uint32_t a, std::uint32_t b) { return ranks_before(b, a); };
     for (;;) {
       sync(v);
-      // Drafts assessed already (by this view or another), or passed over, leave the frontier.
-      while (v.frontier < v.by_floor.size() && (items[v.by_floor[v.frontier]].state != Item::State::pending ||
-                                                pass_over(v, v.by_floor[v.frontier], skip))) {
-        const std::uint32_t i = v.by_floor[v.frontier++];
+      // Drafts assessed already (by this view or another), or passed over, leave the frontier;
+      // a draft whose floor rose past its key goes to its place (NOTES 6).
+      while (v.frontier < v.by_floor.size()) {
+        const std::uint32_t f = v.by_floor[v.frontier].id;
+        if (items[f].state == Item::State::pending && items[f].floor > v.by_floor[v.frontier].key) {
+          put_in_place(v);
+          continue;
+        }
+        if (items[f].state == Item::State::pending && !pass_over(v, f, skip)) break;
+        const std::uint32_t i = v.by_floor[v.frontier++].id;
         if (items[i].state == Item::State::pending) continue;
         if (items[i].state == Item::State::held) {
           v.heap.push_back(i);
@@ -514,7 +552,7 @@ struct RankedSearch::Impl {
       }
       const bool more = v.frontier < v.by_floor.size();
       const double unchosen = unchosen_floor(v);
-      const double least = std::min(more ? items[v.by_floor[v.frontier]].floor : unchosen, unchosen);
+      const double least = std::min(more ? v.by_floor[v.frontier].key : unchosen, unchosen);
       if (!v.heap.empty() && items[v.heap.front()].c.score < least) {
         std::pop_heap(v.heap.begin(), v.heap.end(), later);
         v.out.push_back(v.heap.back());
@@ -522,7 +560,7 @@ struct RankedSearch::Impl {
         return true;
       }
       if (!more && std::isinf(unchosen)) return false;
-      if (!more || unchosen < items[v.by_floor[v.frontier]].floor) {
+      if (!more || unchosen < v.by_floor[v.frontier].key) {
         // NOTES 5: the choices go on, a quarter past the least floor they stand for.
         const double from = unchosen + kQuickSlack;
         choose_up_to(from + 0.25 * std::abs(from) + 1.0, v.job);
@@ -530,10 +568,19 @@ struct RankedSearch::Impl {
       }
       // The next drafts by floor; a batch for every core (one when the cores are busy).
       const std::size_t want = in_parallel_for ? 1 : 2 * std::max(1u, std::thread::hardware_concurrency());
-      std::vector<std::uint32_t> batch;
-      for (std::size_t k = v.frontier; k < v.by_floor.size() && batch.size() < want; ++k)
-        if (items[v.by_floor[k]].state == Item::State::pending && !pass_over(v, v.by_floor[k], skip))
-          batch.push_back(v.by_floor[k]);
+      std::vector<std::uint32_t> batch, unfloored;
+      for (std::size_t k = v.frontier; k < v.by_floor.size() && batch.size() < want; ++k) {
+        const std::uint32_t i = v.by_floor[k].id;
+        if (items[i].state != Item::State::pending || pass_over(v, i, skip)) continue;
+        batch.push_back(i);
+        if (!items[i].floor_final) unfloored.push_back(i);
+      }
+      // NOTES 6: a batch's tolerance floors first; those that rise take their places, and the
+      // order is looked at again before anything is assessed.
+      if (!unfloored.empty()) {
+        take_tolerance_floors(unfloored);
+        continue;
+      }
       assess(batch);
     }
   }
@@ -551,6 +598,7 @@ RankedSearch::RankedSearch(const Spec& spec, const Shelf& shelf, const std::vect
   const Searcher searcher(spec, shelf, probe);
   impl_->work.resize(jobs.size());
   impl_->quick_floors = spec.supply_lo_v == spec.supply_hi_v && !spec.temp_c;
+  impl_->distortion = spec.swing_vpp || spec.prefer == Spec::Prefer::distortion;
   parallel_for(jobs.size(), [&](std::size_t i) { searcher.prepare(jobs[i], impl_->work[i]); });
   impl_->every.keep = [](std::uint32_t) { return true; };
   impl_->every.job = [](std::uint32_t) { return true; };

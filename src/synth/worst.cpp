@@ -377,17 +377,17 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
 }
 
 double tolerance_gain_error(const Candidate& c, const Spec& spec, long& evaluations) {
-  // As evaluate_worst's prologue at Depth::search.
+  // As evaluate_worst's prologue at Depth::search, but without the distortion, which moves
+  // no stage's gain (nor so the gain's directions).
   const auto& t = *c.topology;
   const StageSpread spread = spread_of(c);
   const double t_nom = spec.temp_nominal_c();
-  const bool distortion = spec.swing_vpp || spec.prefer == Spec::Prefer::distortion;
   stages::Conditions probe = conditions(spec, spec.supply_nominal_v(), t_nom);
-  probe.distortion = distortion;
+  probe.distortion = false;
   const stages::Transistor q = make_transistor(spread, spread.nominal(), t_nom);
   const Directions d = directions(c, q, probe, evaluations);
   stages::Conditions cond = conditions(spec, spec.supply_lo_v, t_nom);
-  cond.distortion = distortion;
+  cond.distortion = false;
   double worst = 0;
   for (const int sense : {+1, -1}) {
     Signs way{};
