@@ -15,6 +15,7 @@
 #include <limits>
 #include <map>
 #include <mutex>
+#include <optional>
 #include <set>
 #include <span>
 #include <thread>
@@ -188,6 +189,8 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
   // estimate and the capacitors' stress never need it.
   screen_ = cond_;
   screen_.distortion = spec.swing_vpp.has_value();
+  plain_ = screen_;
+  plain_.distortion = false;
   cond_hi_.distortion = false;
   // The quick estimate reads the gain alone: no distortion, and no band's edges (no stage's
   // gain, bias or region depends on them, only its losses there and an op-amp stage's
@@ -225,7 +228,7 @@ bool StageBuilder::complete(const stages::Values& resistors, Candidate& out, Sea
   return true;
 }
 
-bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats& stats) const {
+bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats& stats, bool defer_distortion) const {
   const auto& t = topology_;
   const auto roles = t.roles();
   // A light draft first: values and the combos that make them; a Candidate (strings,
@@ -291,15 +294,38 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   if (!screen_.distortion && !spec_.band_hz) {
     nominal = one_supply ? pre : ideal;
     nominal.gain = t.gain_with(d.values, screen_, nominal);
+  } else if (defer_distortion && screen_.distortion) {
+    // The distortion left out first: a draft that holds so keeps its distortion screen for
+    // later (Draft::distortion_pending; what it counts is counted then). One that fails is
+    // counted as the whole screen would count it: the distortion only adds stops, and those
+    // that come before its check (the bias, the clipping swing) are the same without it;
+    // after it (the current, Zin, band and gain) the whole screen tells which comes first.
+    nominal = t.evaluate(d.values, q_, plain_, stages::Detail::core);
+    ++stats.evaluations;
+    const std::string v = detail::violation(spec_, nominal);
+    if (v.empty() && detail::gain_ok(spec_, nominal.gain)) {
+      d.distortion_pending = true;
+    } else if (v != "bias" && v != "swing" && v != "distortion") {
+      // (A stop the screen's distortion check comes before: the whole screen tells it.)
+      nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
+      ++stats.evaluations;
+    }
   } else {
     nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
     ++stats.evaluations;
   }
-  if (!meets_request(spec_, nominal, stats, false)) return false;
+  if (!d.distortion_pending && !meets_request(spec_, nominal, stats, false)) return false;
   d.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
   count_pieces(d, shelf_, spec_.copies, short_by);
   out = std::move(d);
   return true;
+}
+
+bool StageBuilder::settle_distortion(Draft& d, SearchStats& stats) const {
+  d.distortion_pending = false;
+  const auto p = topology_.evaluate(d.values, q_, screen_, stages::Detail::core);
+  ++stats.evaluations;
+  return meets_request(spec_, p, stats, false);
 }
 
 Candidate StageBuilder::candidate(const Draft& d) const {
@@ -773,9 +799,11 @@ std::vector<Candidate> search_designs(const Run& run) {
   const Spec& spec = run.spec;
   std::vector<Candidate> out;
   auto t = std::chrono::steady_clock::now();
+  // (Kept to the end: when nothing is listed, the diagnosis reads every stop it put off.)
+  std::optional<detail::RankedSearch> kept;
   if (spec.stages_min <= 1) {
     // Single stages are assessed only as far as the list reaches (NOTES: the ranked search).
-    detail::RankedSearch singles(spec, run.shelf, run.jobs);
+    detail::RankedSearch& singles = kept.emplace(spec, run.shelf, run.jobs);
     run.phases.propose += lap(t);
     if (run.progress)
       run.progress(static_cast<double>(run.jobs.size()), static_cast<double>(run.jobs.size()), "stages searched");
@@ -806,6 +834,8 @@ std::vector<Candidate> search_designs(const Run& run) {
     if (run.progress) run.progress(1, 1, "chains");
     run.phases.chains += lap(t);
   }
+  // Nothing listed: the diagnosis reads every stop (NOTES 7 in ranked.cpp).
+  if (out.empty() && kept) kept->settle(run.tally);
   return out;
 }
 

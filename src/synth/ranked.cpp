@@ -71,6 +71,9 @@ class Choice {
       scored_.pop();
       const long f = family_of(i);
       if (f < 0) continue;
+      // (A draft whose distortion screen was put off takes it the first time it comes to the
+      // head: NOTES 7.)
+      if (found_[i].distortion_pending && !builder_.settle_distortion(found_[i], stats)) continue;
       if (!finished(partial_[i])) {
         // A floor still: one corner piece more, and back in line.
         refine(i, stats);
@@ -88,6 +91,11 @@ class Choice {
     finish();
   }
   bool done() const { return done_; }
+  /// The distortion screens still put off, taken (NOTES 7: the counts as drafting whole).
+  void settle(SearchStats& stats) {
+    for (auto& d : found_)
+      if (d.distortion_pending) builder_.settle_distortion(d, stats);
+  }
   /// A floor under the quick estimate of every draft the choice would still choose (infinity
   /// when it is made).
   double frontier() const {
@@ -150,10 +158,9 @@ class Choice {
     return heads_.size() >= families_ &&
            std::all_of(members_.begin(), members_.end(), [&](int m) { return m >= variants_; });
   }
-  // The choice made: the drafts go (tens of thousands in a job).
+  // The choice made: what it kept to make it goes (the drafts stay for settle()).
   void finish() {
     done_ = true;
-    std::deque<StageBuilder::Draft>().swap(found_);
     std::vector<Partial>().swap(partial_);
     std::vector<Entry>().swap(bound_);
     scored_ = {};
@@ -286,7 +293,7 @@ class Searcher {
                             ++stats.proposals;
                             if (!seen.insert(proposal, roles.size())) return;
                             StageBuilder::Draft d;
-                            if (builder.draft(proposal, d, stats)) found.push_back(std::move(d));
+                            if (builder.draft(proposal, d, stats, true)) found.push_back(std::move(d));
                           });
     for (const auto& [why, n] : {std::pair{"swing", left_out.swing}, std::pair{"gain", left_out.gain}})
       if (n > 0) {
@@ -358,6 +365,16 @@ class Searcher {
 //     and stands in for it in the hand-out (NOTES 3); a draft whose floor rose past its key
 //     goes back to its place before anything is decided at the frontier. The drafts whose
 //     floors rise above the last score handed out are never assessed.
+//  7. When the request bounds the distortion, a draft's distortion screen at nominal (a power
+//     series, or for a feedback pair a dozen solves of its bias, where the rest of the draft
+//     is one evaluation) is put off: a draft that holds with the distortion left out is kept
+//     with the screen pending (StageBuilder::draft's defer_distortion) and takes it only when
+//     it first comes to the head of its choice's queue (Choice::advance), where one that
+//     fails it is passed over. A draft that fails cannot be chosen, and a choice looks at no
+//     draft but the head of its queue, so it chooses what it would have chosen with the
+//     screen taken first. The stops the
+//     put-off screens would count are counted when they are taken; settle() takes the rest,
+//     for a diagnosis that reads every stop (run_jobs, and design() when nothing is listed).
 struct RankedSearch::Impl {
   const Spec& spec;
   const std::vector<Job>& jobs;
@@ -607,6 +624,15 @@ RankedSearch::RankedSearch(const Spec& spec, const Shelf& shelf, const std::vect
 
 RankedSearch::~RankedSearch() = default;
 
+void RankedSearch::settle(SearchStats& out) {
+  std::vector<SearchStats> by_job(impl_->work.size());
+  parallel_for(impl_->work.size(), [&](std::size_t j) {
+    JobWork& w = impl_->work[j];
+    if (w.choice) w.choice->settle(by_job[j]);
+  });
+  for (const SearchStats& s : by_job) out.merge(s);
+}
+
 void RankedSearch::choose_all() {
   impl_->choose_up_to(std::numeric_limits<double>::infinity(), [](std::uint32_t) { return true; });
 }
@@ -671,6 +697,7 @@ std::vector<Candidate> run_jobs(const Spec& spec, const Shelf& shelf, const std:
   if (progress) progress(static_cast<double>(jobs.size()), static_cast<double>(jobs.size()), "stages searched");
   std::vector<Candidate> all = search.all();
   search.tally(tally);
+  search.settle(tally);
   return all;
 }
 
