@@ -189,8 +189,6 @@ StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::T
   // estimate and the capacitors' stress never need it.
   screen_ = cond_;
   screen_.distortion = spec.swing_vpp.has_value();
-  plain_ = screen_;
-  plain_.distortion = false;
   cond_hi_.distortion = false;
   // The quick estimate reads the gain alone: no distortion, and no band's edges (no stage's
   // gain, bias or region depends on them, only its losses there and an op-amp stage's
@@ -228,7 +226,7 @@ bool StageBuilder::complete(const stages::Values& resistors, Candidate& out, Sea
   return true;
 }
 
-bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats& stats, bool defer_distortion) const {
+bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats& stats, bool defer_screen) const {
   const auto& t = topology_;
   const auto roles = t.roles();
   // A light draft first: values and the combos that make them; a Candidate (strings,
@@ -290,39 +288,34 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   // screen's (mid-band, the capacitors shorts: its conditions are screen_ with the request's
   // floors, which it passed) but for the gain's input divider, which takes the fitted input
   // capacitor (Topology::gain_with): no second evaluation.
-  stages::Performance nominal;
+  const stages::Performance& first = one_supply ? pre : ideal;
+  double gain = 0;
   if (!screen_.distortion && !spec_.band_hz) {
-    nominal = one_supply ? pre : ideal;
+    stages::Performance nominal = first;
     nominal.gain = t.gain_with(d.values, screen_, nominal);
-  } else if (defer_distortion && screen_.distortion) {
-    // The distortion left out first: a draft that holds so keeps its distortion screen for
-    // later (Draft::distortion_pending; what it counts is counted then). One that fails is
-    // counted as the whole screen would count it: the distortion only adds stops, and those
-    // that come before its check (the bias, the clipping swing) are the same without it;
-    // after it (the current, Zin, band and gain) the whole screen tells which comes first.
-    nominal = t.evaluate(d.values, q_, plain_, stages::Detail::core);
-    ++stats.evaluations;
-    const std::string v = detail::violation(spec_, nominal);
-    if (v.empty() && detail::gain_ok(spec_, nominal.gain)) {
-      d.distortion_pending = true;
-    } else if (v != "bias" && v != "swing" && v != "distortion") {
-      // (A stop the screen's distortion check comes before: the whole screen tells it.)
-      nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
-      ++stats.evaluations;
-    }
+    if (!meets_request(spec_, nominal, stats, false)) return false;
+    gain = nominal.gain;
+  } else if (defer_screen && (gain = t.gain_with(d.values, screen_, first), detail::gain_ok(spec_, gain))) {
+    // With a band or a distortion bound the rest of the screen (the band's losses with the
+    // fitted capacitors, the distortion) is put off while the gain with the fitted input
+    // capacitor holds: Draft::screen_pending, and what it counts is counted when it is taken
+    // (NOTES 7 in ranked.cpp). A draft whose gain that capacitor moves out of the window
+    // takes the whole screen now, so that its stop is counted as the screen gives it.
+    d.screen_pending = true;
   } else {
-    nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
+    const auto nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
     ++stats.evaluations;
+    if (!meets_request(spec_, nominal, stats, false)) return false;
+    gain = nominal.gain;
   }
-  if (!d.distortion_pending && !meets_request(spec_, nominal, stats, false)) return false;
-  d.error_nominal = std::abs(nominal.gain) / spec_.gain - 1.0;
+  d.error_nominal = std::abs(gain) / spec_.gain - 1.0;
   count_pieces(d, shelf_, spec_.copies, short_by);
   out = std::move(d);
   return true;
 }
 
-bool StageBuilder::settle_distortion(Draft& d, SearchStats& stats) const {
-  d.distortion_pending = false;
+bool StageBuilder::settle_screen(Draft& d, SearchStats& stats) const {
+  d.screen_pending = false;
   const auto p = topology_.evaluate(d.values, q_, screen_, stages::Detail::core);
   ++stats.evaluations;
   return meets_request(spec_, p, stats, false);

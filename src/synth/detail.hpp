@@ -197,7 +197,7 @@ class RankedSearch {
   /// Adds what the search learned to tally: the drafting's counts job by job, then each
   /// assessed draft's, in the order of jobs and choice.
   void tally(SearchStats& out) const;
-  /// Takes every distortion screen the drafting put off and no choice took (NOTES 7 in
+  /// Takes every nominal screen the drafting put off and no choice took (NOTES 7 in
   /// ranked.cpp) and adds what they count to out (the stops, the stages' reach), so that
   /// with tally()'s the counts are those of a search drafting whole: for a diagnosis, when
   /// nothing was listed.

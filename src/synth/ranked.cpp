@@ -71,9 +71,9 @@ class Choice {
       scored_.pop();
       const long f = family_of(i);
       if (f < 0) continue;
-      // (A draft whose distortion screen was put off takes it the first time it comes to the
-      // head: NOTES 7.)
-      if (found_[i].distortion_pending && !builder_.settle_distortion(found_[i], stats)) continue;
+      // (A draft whose nominal screen was put off takes it the first time it comes to the head:
+      // NOTES 7.)
+      if (found_[i].screen_pending && !builder_.settle_screen(found_[i], stats)) continue;
       if (!finished(partial_[i])) {
         // A floor still: one corner piece more, and back in line.
         refine(i, stats);
@@ -91,10 +91,10 @@ class Choice {
     finish();
   }
   bool done() const { return done_; }
-  /// The distortion screens still put off, taken (NOTES 7: the counts as drafting whole).
+  /// The nominal screens still put off, taken (NOTES 7: the counts as drafting whole).
   void settle(SearchStats& stats) {
     for (auto& d : found_)
-      if (d.distortion_pending) builder_.settle_distortion(d, stats);
+      if (d.screen_pending) builder_.settle_screen(d, stats);
   }
   /// A floor under the quick estimate of every draft the choice would still choose (infinity
   /// when it is made).
@@ -365,16 +365,17 @@ class Searcher {
 //     and stands in for it in the hand-out (NOTES 3); a draft whose floor rose past its key
 //     goes back to its place before anything is decided at the frontier. The drafts whose
 //     floors rise above the last score handed out are never assessed.
-//  7. When the request bounds the distortion, a draft's distortion screen at nominal (a power
-//     series, or for a feedback pair a dozen solves of its bias, where the rest of the draft
-//     is one evaluation) is put off: a draft that holds with the distortion left out is kept
-//     with the screen pending (StageBuilder::draft's defer_distortion) and takes it only when
-//     it first comes to the head of its choice's queue (Choice::advance), where one that
-//     fails it is passed over. A draft that fails cannot be chosen, and a choice looks at no
-//     draft but the head of its queue, so it chooses what it would have chosen with the
-//     screen taken first. The stops the
-//     put-off screens would count are counted when they are taken; settle() takes the rest,
-//     for a diagnosis that reads every stop (run_jobs, and design() when nothing is listed).
+//  7. When the request has a band or bounds the distortion, the rest of a draft's nominal
+//     screen (the band's losses with the fitted capacitors, the distortion: an evaluation, for
+//     a feedback pair a dozen solves of its bias besides) is put off: a draft that holds on
+//     its first screen, its gain in the window for the fitted input capacitor, is kept with
+//     the screen pending (StageBuilder::draft's defer_screen) and takes it only when it first
+//     comes to the head of its choice's queue (Choice::advance), where one that fails it is
+//     passed over. A draft that fails cannot be chosen, and a choice looks at no draft but
+//     the head of its queue, so it chooses what it would have chosen with the screen taken
+//     first. The stops the put-off screens would count are counted when they are taken;
+//     settle() takes the rest, for a diagnosis that reads every stop (run_jobs, and design()
+//     when nothing is listed).
 struct RankedSearch::Impl {
   const Spec& spec;
   const std::vector<Job>& jobs;

@@ -241,17 +241,19 @@ class StageBuilder {
     double error_nominal = 0;
     int pieces = 0;
     int purchases = 0;  ///< pieces to buy for every copy (a shelf with purchases only)
-    /// Held at nominal with the distortion left out; its distortion screen is still to come
-    /// (draft's defer_distortion, settle_distortion).
-    bool distortion_pending = false;
+    /// Held on the first screen, its gain with the fitted capacitors in the window; the rest
+    /// of its nominal screen (the band, the distortion) still to come (draft's defer_screen,
+    /// settle_screen).
+    bool screen_pending = false;
   };
-  /// With defer_distortion, a draft that holds at nominal with the distortion left out is
-  /// kept with its distortion screen pending (the screen costs more than the rest of the
-  /// draft, and most drafts are never chosen): settle_distortion takes it later, and counts
-  /// it (the stop, the stages' reach) as this would have.
-  bool draft(const stages::Values& resistors, Draft& out, SearchStats& stats, bool defer_distortion = false) const;
-  /// A pending draft's distortion screen: true when it holds; otherwise counts the stop.
-  bool settle_distortion(Draft& d, SearchStats& stats) const;
+  /// With defer_screen, a draft that holds on the first screen, with its gain in the window
+  /// for the fitted input capacitor, is kept with the rest of its nominal screen (the band's
+  /// losses with the fitted capacitors, the distortion) pending: an evaluation, the costliest
+  /// of the draft with the distortion, and most drafts are never chosen. settle_screen takes
+  /// it later and counts it (the stop, the stages' reach) as this would have.
+  bool draft(const stages::Values& resistors, Draft& out, SearchStats& stats, bool defer_screen = false) const;
+  /// A pending draft's nominal screen: true when it holds; otherwise counts the stop.
+  bool settle_screen(Draft& d, SearchStats& stats) const;
   Candidate candidate(const Draft& d) const;
   /// The quick estimate used to pick which drafts get the full corner pass, worked out a
   /// corner piece at a time (nominal parts): the gain error at the device's k-th corner
@@ -294,7 +296,6 @@ class StageBuilder {
   std::vector<stages::Transistor> corner_devices_;
   stages::Conditions cond_, cond_hi_;
   stages::Conditions screen_, gain_only_;  // cond_ with the distortion as the passes need it
-  stages::Conditions plain_;               // screen_ without the distortion (a deferred screen)
   stages::Conditions first_;               // gain_only_ with the request's floors (the first screen)
   std::unique_ptr<Cache> cache_;
 };
