@@ -107,6 +107,29 @@ bool fit_resistors(const Shelf& shelf, std::span<const stages::Role> roles, cons
   return true;
 }
 
+// The nets a builder's drafts put + leads on (a handful per topology), by a byte each
+// (Draft::plus): 1-based indices, 0 for none.
+class NetNames {
+ public:
+  std::uint8_t index(std::string_view net) {
+    static_assert(stages::kMaxRoles * 2 < 255);
+    std::lock_guard lock(mutex_);
+    for (std::size_t i = 0; i < names_.size(); ++i)
+      if (names_[i] == net) return static_cast<std::uint8_t>(i + 1);
+    // (A stage has a few dozen nets at most: the byte never runs out.)
+    names_.push_back(net);
+    return static_cast<std::uint8_t>(names_.size());
+  }
+  std::string_view name(std::uint8_t i) const {
+    std::lock_guard lock(mutex_);
+    return i == 0 ? std::string_view() : names_[i - 1u];
+  }
+
+ private:
+  mutable std::mutex mutex_;
+  std::vector<std::string_view> names_;  // (views of the topologies' own net names)
+};
+
 // What sizing a stage's capacitors reads: their targets, the stress pass at the highest
 // supply (the DC each holds), the signal peak on top, and where the combos come from.
 struct CapacitorSizing {
@@ -116,6 +139,7 @@ struct CapacitorSizing {
   double peak;
   const Shelf& shelf;
   CapacitorCache& cache;
+  NetNames& nets;
 };
 
 // Each capacitor from the shelf: at least its target, rated for its DC and the peak. When the
@@ -125,10 +149,11 @@ std::string fit_capacitors(const CapacitorSizing& cs, StageBuilder::Draft& d) {
   for (std::size_t i = 0; i < roles.size(); ++i) {
     if (roles[i].kind != 'C' || !(cs.targets[i] > 0)) continue;
     double dc = 0;
+    std::string_view plus;
     for (const auto& st : cs.pre.stress)
       if (st.role == i) {
         dc = st.dc_v;
-        d.plus[i] = st.plus_net;
+        plus = st.plus_net;
       }
     // An electrolytic only where it sits on a DC bias (common practice: a few tenths of a
     // volt forward at least; the in-band signal across a coupling or bypass capacitor is
@@ -141,6 +166,7 @@ std::string fit_capacitors(const CapacitorSizing& cs, StageBuilder::Draft& d) {
                          1.25 * (dc + cs.peak));
     d.combos[i] = combo;
     d.values[i] = combo->nominal;
+    if (combo->polarised) d.plus[i] = cs.nets.index(plus);
   }
   return {};
 }
@@ -162,6 +188,7 @@ void count_pieces(StageBuilder::Draft& d, const Shelf& shelf, int copies, int sh
 
 struct StageBuilder::Cache {
   CapacitorCache capacitors;
+  NetNames nets;
 };
 
 StageBuilder::StageBuilder(const Spec& spec, const Shelf& shelf, const stages::Topology& topology,
@@ -277,8 +304,8 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     for (const auto& st : pre.stress)
       if (st.role < roles.size() && roles[st.role].holds_leg && std::abs(st.dc_v) > kDeviceVoltageShare * *vrev)
         return stop("rating");
-  if (std::string need =
-          fit_capacitors({t, targets, pre, detail::signal_peak(spec_, pre), shelf_, cache_->capacitors}, d);
+  if (std::string need = fit_capacitors(
+          {t, targets, pre, detail::signal_peak(spec_, pre), shelf_, cache_->capacitors, cache_->nets}, d);
       !need.empty())
     return stop("capacitor", std::move(need));
   // One quantity pool: every role and every copy.
@@ -336,7 +363,7 @@ Candidate StageBuilder::candidate(const Draft& d) const {
   for (std::size_t i = 0; i < topology_.roles().size(); ++i) {
     if (!d.combos[i]) continue;
     add_part(c, i, *d.combos[i]);
-    if (d.combos[i]->polarised) c.parts.back().plus_net = std::string(d.plus[i]);
+    if (d.combos[i]->polarised) c.parts.back().plus_net = std::string(cache_->nets.name(d.plus[i]));
     c.pieces += d.combos[i]->count;
   }
   c.purchases = d.purchases;

@@ -235,7 +235,9 @@ class StageBuilder {
   struct Draft {
     stages::Values values;
     std::array<const Combo*, stages::kMaxRoles> combos{};
-    std::array<std::string_view, stages::kMaxRoles> plus{};  ///< + lead nets of polarised parts
+    /// The + lead's net of each polarised part, as an index into the builder's net names
+    /// (1-based; 0 none): a byte where a search keeps tens of thousands of drafts.
+    std::array<std::uint8_t, stages::kMaxRoles> plus{};
     // (Its figures at nominal are worked out again for the few that become candidates: a
     // search keeps tens of thousands of drafts.)
     double error_nominal = 0;
