@@ -2,7 +2,6 @@
 // proposals and chooses the drafts worth a corner pass (Searcher); RankedSearch hands the
 // candidates out in rank order, assessing a draft only when the order needs it (NOTES below).
 #include <algorithm>
-#include <chrono>
 #include <cmath>
 #include <cstring>
 #include <deque>
