@@ -292,7 +292,8 @@ class Searcher {
                             ++stats.proposals;
                             if (!seen.insert(proposal, roles.size())) return;
                             StageBuilder::Draft d;
-                            if (builder.draft(proposal, d, stats, true)) found.push_back(std::move(d));
+                            // (A probe keeps no choice to take a put-off screen: it drafts whole.)
+                            if (builder.draft(proposal, d, stats, !probe_)) found.push_back(std::move(d));
                           });
     for (const auto& [why, n] : {std::pair{"swing", left_out.swing}, std::pair{"gain", left_out.gain}})
       if (n > 0) {
