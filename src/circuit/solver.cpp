@@ -358,6 +358,13 @@ void start_from(const Circuit& c, const OperatingPoint& start, Eigen::VectorXd& 
   }
 }
 
+const OperatingPoint& solve_dc_next(const Circuit& c, SolverOptions o, OperatingPoint& last) {
+  if (!last.node_v.empty()) o.start = &last;
+  OperatingPoint op = solve_dc(c, o);
+  last = std::move(op);
+  return last;
+}
+
 OperatingPoint solve_dc(const Circuit& c, const SolverOptions& o) {
   c.validate();
   const Layout l = layout(c);

@@ -51,21 +51,19 @@ bool opamp_edge(const OperatingPoint& op, const detail::OpampModelAt& m, const d
 // One input level of the quasi-static sweep: the output, and whether any device has left its
 // linear region (transistors in element order, as the solver reports them; op-amps in the
 // order of their models).
-// `last`: the sweep's last solution (empty at first), Newton's start (SolverOptions::start),
-// replaced by this one's.
+// `last`: the sweep's last solution (circuit::solve_dc_next), replaced by this one's.
 SweepPoint sweep_at(Circuit& h, std::span<const Transistor> qs, double x, const std::vector<double>& ic0,
                     const circuit::SolverOptions& so, OperatingPoint& last) {
   h.set_value("VSIG", x);
   SweepPoint s;
-  OperatingPoint op;
+  const OperatingPoint* at = nullptr;
   try {
-    circuit::SolverOptions from = so;
-    if (!last.node_v.empty()) from.start = &last;
-    op = circuit::solve_dc(h, from);
+    at = &circuit::solve_dc_next(h, so, last);  // (last is this point's now)
   } catch (const Error&) {
     s.edge = true;
     return s;
   }
+  const OperatingPoint& op = *at;
   s.out_v = op.v(h, std::string(kNetOut));
   std::size_t dev = 0, amp = 0;
   std::vector<detail::OpampModelAt> models;
@@ -83,7 +81,6 @@ SweepPoint sweep_at(Circuit& h, std::span<const Transistor> qs, double x, const 
     else
       s.edge = s.edge || d.v_main_v < qs[i].bjt.vce_sat_v || d.i_main_a < 0.01 * ic0[i];
   }
-  last = std::move(op);
   return s;
 }
 

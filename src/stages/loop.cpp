@@ -121,10 +121,7 @@ LoopGain loop_gain_of_circuit(const circuit::Circuit& net, const std::string& de
   const circuit::Circuit b = broken(net, moved, end_net);
   circuit::SolverOptions o;
   o.celsius = celsius;
-  if (memo && !memo->last_.node_v.empty()) o.start = &memo->last_;
-  circuit::OperatingPoint op = circuit::solve_dc(b, o);
-  if (memo) memo->last_ = op;
-  p.system.emplace(b, std::move(op));
+  p.system.emplace(b, memo ? circuit::solve_dc_next(b, o, memo->last_) : circuit::solve_dc(b, o));
   p.x = *b.find_net(end_net);
   p.y = *b.find_net(kBreakNet);
   p.far = *b.find_net(far_net);

@@ -118,8 +118,8 @@ struct CapLeads {
 /// lead) to its part's dc range; the first call fixes the leads (the fitted + lead, else the
 /// end higher) and names them (plus_node, minus_node). Returns "polarity: ..." when a
 /// polarised part is reversed, "bias: ..." when the solver finds no operating point. `warm`,
-/// when given, holds the operating point of the last solve (a corner a step away: the solver
-/// starts from it, circuit::SolverOptions::start) and takes this one's.
+/// when given, holds the operating point of the last solve (a corner a step away:
+/// circuit::solve_dc_next) and takes this one's.
 std::string read_capacitors(const circuit::Circuit& net, double celsius, std::vector<CapLeads>& leads,
                             const std::string& where, circuit::OperatingPoint* warm = nullptr);
 /// The DC across every capacitor of a single stage, from the exact solver at nominal and every

@@ -251,10 +251,8 @@ std::string in_band_shares(const Candidate& c, const Spec& spec, const StageSpre
         if (!vsig || !out || vsig->c.ac_volts == 0) continue;
         circuit::SolverOptions so;
         so.celsius = temp;
-        if (!last.node_v.empty()) so.start = &last;
         try {
-          last = circuit::solve_dc(net, so);
-          const circuit::AcSystem sys(net, last);
+          const circuit::AcSystem sys(net, circuit::solve_dc_next(net, so, last));
           for (const double fm : freqs)
             share.add(std::abs(sys.solve(fm)[*out]) / std::abs(vsig->c.ac_volts) / std::abs(p.gain));
         } catch (const Error& e) {
@@ -404,14 +402,12 @@ std::string read_capacitors(const circuit::Circuit& net, double celsius, std::ve
                             const std::string& where, circuit::OperatingPoint* warm) {
   circuit::SolverOptions so;
   so.celsius = celsius;
-  if (warm && !warm->node_v.empty()) so.start = warm;
   circuit::OperatingPoint op;
   try {
-    op = circuit::solve_dc(net, so);
+    op = warm ? circuit::solve_dc_next(net, so, *warm) : circuit::solve_dc(net, so);
   } catch (const Error& e) {
     return fmt::format("bias: the exact solver finds no operating point ({}: {})", where, e.what());
   }
-  if (warm) *warm = op;
   for (auto& l : leads) {
     const auto* el = net.find(l.part->designator);
     if (!el) continue;

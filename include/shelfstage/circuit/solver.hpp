@@ -65,6 +65,10 @@ struct SolverOptions {
 /// InfeasibleError when no method converges. Diodes take their thermal voltage at
 /// options.celsius (a transistor's comes with its instance).
 OperatingPoint solve_dc(const Circuit& circuit, const SolverOptions& options = {});
+/// One point of a sweep (corners, levels) over builds of one circuit: solve_dc started from
+/// `last`, the sweep's last solution (empty at first; SolverOptions::start), which then holds
+/// this one's. Throws as solve_dc does, `last` left as it was.
+const OperatingPoint& solve_dc_next(const Circuit& circuit, SolverOptions options, OperatingPoint& last);
 
 /// The small-signal system of a circuit at an operating point, stamped once (conductances
 /// G, capacitances C, the AC sources' right-hand side) and solved as G + j 2 pi f C at any

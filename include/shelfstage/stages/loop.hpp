@@ -38,7 +38,7 @@ struct LoopGain {
 /// an op-amp's pieces that differ only in offset and bias currents, a supply's two ends where
 /// the devices' small-signal figures do not move) is given that one's figures instead of a
 /// sweep of its own. Each build's operating point also starts the next build's solve
-/// (circuit::SolverOptions::start: a corner away, a few Newton steps).
+/// (circuit::solve_dc_next: a corner away, a few Newton steps).
 class LoopMemo {
  public:
   struct Seen;
