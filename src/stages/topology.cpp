@@ -113,15 +113,20 @@ std::size_t input_coupling(std::span<const Role> roles) {
   return roles.size();
 }
 
-// The input's flat capacitive divider (Performance::gain) applied to the closed form's figures:
-// the gain and the transfer's input (o[n] scales with the n-th power); the harmonics at an
-// output level and the output's swing stay as they are.
-void apply_input_divider(Performance& p, const Values& values, std::span<const Role> roles, const Conditions& c) {
+// The input's flat capacitive divider (Performance::gain) for a closed form's figures p at
+// `values`: 1 without an input coupling capacitor.
+double input_divider_at(const Performance& p, const Values& values, std::span<const Role> roles, const Conditions& c) {
   const std::size_t cin = input_coupling(roles);
-  if (cin >= roles.size()) return;
-  const double k = input_divider(c.source_ohm, p.zin_ohm, p.c_in_f, values[cin]);
+  return cin < roles.size() ? input_divider(c.source_ohm, p.zin_ohm, p.c_in_f, values[cin]) : 1.0;
+}
+
+// The divider applied to the closed form's figures: the gain and the transfer's input (o[n]
+// scales with the n-th power); the harmonics at an output level and the output's swing stay
+// as they are.
+void apply_input_divider(Performance& p, const Values& values, std::span<const Role> roles, const Conditions& c) {
+  const double k = input_divider_at(p, values, roles, c);
   if (k == 1.0) return;
-  p.gain = p.gain_undivided * k;
+  p.gain *= k;
   double kn = 1.0;
   for (double& o : p.transfer.o) {
     o *= kn;
@@ -156,13 +161,9 @@ Performance Topology::evaluate(const Values& values, const Transistor& q, const 
 }
 
 double Topology::gain_with(const Values& values, const Conditions& c, const Performance& p) const {
-  Performance q;
-  q.valid = p.valid;
-  q.gain = q.gain_undivided = p.gain_undivided;
-  q.zin_ohm = p.zin_ohm;
-  q.c_in_f = p.c_in_f;
-  if (q.valid) apply_input_divider(q, values, roles(), c);
-  return q.gain;
+  if (!p.valid) return p.gain;  // (evaluate() leaves an invalid stage's gain undivided)
+  const double k = input_divider_at(p, values, roles(), c);
+  return k == 1.0 ? p.gain_undivided : p.gain_undivided * k;
 }
 
 }  // namespace shelfstage::stages

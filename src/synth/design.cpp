@@ -293,7 +293,7 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
     if (!need.empty()) stats.capacitor_need = std::move(need);
     return false;
   };
-  const auto pre = one_supply ? std::move(ideal) : t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
+  auto pre = one_supply ? std::move(ideal) : t.evaluate(trial, q_, cond_hi_, stages::Detail::stress);
   if (!one_supply) ++stats.evaluations;
   if (!pre.valid) return stop("bias");
   // A capacitor across part of the common leg holds its DC when the supply goes and reverses
@@ -311,23 +311,21 @@ bool StageBuilder::draft(const stages::Values& proposal, Draft& out, SearchStats
   // One quantity pool: every role and every copy.
   const int short_by = shortfall(d.combos);
   if (short_by < 0) return stop("stock");
-  // With no band and no distortion bound, the nominal figures the request reads are the first
-  // screen's (mid-band, the capacitors shorts: its conditions are screen_ with the request's
-  // floors, which it passed) but for the gain's input divider, which takes the fitted input
-  // capacitor (Topology::gain_with): no second evaluation.
-  const stages::Performance& first = one_supply ? pre : ideal;
-  double gain = 0;
+  // The first screen (at nominal) with the gain its input divider gives with the fitted input
+  // capacitor (Topology::gain_with; every other capacitor is a short in its mid-band figures).
+  // With no band and no distortion bound those are the nominal figures the request reads: no
+  // second evaluation.
+  stages::Performance& first = one_supply ? pre : ideal;
+  first.gain = t.gain_with(d.values, screen_, first);
+  double gain = first.gain;
   if (!screen_.distortion && !spec_.band_hz) {
-    stages::Performance nominal = first;
-    nominal.gain = t.gain_with(d.values, screen_, nominal);
-    if (!meets_request(spec_, nominal, stats, false)) return false;
-    gain = nominal.gain;
-  } else if (defer_screen && (gain = t.gain_with(d.values, screen_, first), detail::gain_ok(spec_, gain))) {
+    if (!meets_request(spec_, first, stats, false)) return false;
+  } else if (defer_screen && detail::gain_ok(spec_, gain)) {
     // With a band or a distortion bound the rest of the screen (the band's losses with the
-    // fitted capacitors, the distortion) is put off while the gain with the fitted input
-    // capacitor holds: Draft::screen_pending, and what it counts is counted when it is taken
-    // (NOTES 7 in ranked.cpp). A draft whose gain that capacitor moves out of the window
-    // takes the whole screen now, so that its stop is counted as the screen gives it.
+    // fitted capacitors, the distortion) is put off while that gain holds: Draft::
+    // screen_pending, and what it counts is counted when it is taken (NOTES 7 in ranked.cpp).
+    // A draft whose gain the fitted capacitor moves out of the window takes the whole screen
+    // now, so that its stop is counted as the screen gives it.
     d.screen_pending = true;
   } else {
     const auto nominal = t.evaluate(d.values, q_, screen_, stages::Detail::core);
