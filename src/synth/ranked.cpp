@@ -510,7 +510,7 @@ struct RankedSearch::Impl {
   }
 
   // The choices of the jobs `job` takes, on every core, up to `to`; what they choose joins
-  // the items (NOTES 2: an op-amp draft's floor with its tolerances).
+  // the items, with their floors (NOTES 2; the tolerance floor comes later, NOTES 6).
   void choose_up_to(double to, const std::function<bool(std::uint32_t)>& job) {
     limit = std::max(limit, to);
     std::vector<std::uint32_t> go;
@@ -540,9 +540,8 @@ struct RankedSearch::Impl {
       const JobWork& w = work[it.job];
       if (!it.c.topology) it.c = w.builder->candidate(w.chosen[it.pos]);
       const double tol = detail::tolerance_gain_error(it.c, spec, it.floor_evaluations);
-      const double floor = 100.0 * (0.5 * std::abs(it.c.error_nominal) + tol) + detail::kPiecePoints * it.c.pieces +
-                           spec.purchase_points * it.c.purchases - kQuickSlack;
-      it.floor = std::max(it.floor, floor);
+      // (The quick estimate's count with this error as the worst: a floor as score_floor is.)
+      it.floor = std::max(it.floor, w.builder->quick_from(w.chosen[it.pos], tol) - kQuickSlack);
       it.floor_final = true;
     });
   }
