@@ -88,7 +88,9 @@ std::string one_line(std::string_view message) {
     out += '\'';
     pos = close + 1;
   }
-  return units::clip(out, kLongest);
+  // By bytes: an escaped byte is four (a message quoting a value with a stray quote in it
+  // echoed its bytes unclipped, each as \xNN).
+  return units::clip_bytes(out, kLongest);
 }
 
 /// Runs the parsed command; returns its exit status, having printed any error.
@@ -106,6 +108,11 @@ int run_command(CLI::App& app, Context& ctx, int argc, const char* const* argv) 
       if (arg.size() > 3 && arg.starts_with("--") && arg.ends_with('=') && arg.find('=') == arg.size() - 1)
         throw CLI::ValidationError(std::string(arg.substr(0, arg.size() - 1)),
                                    "nothing after '=': give a value, or leave the option out");
+      // CLI11 would take `--version=1` or `--help=yes` as the flag itself and print text even
+      // under --json: these flags take no value at all.
+      for (const std::string_view flag : {"--help", "--version"})
+        if (arg.starts_with(flag) && arg.size() > flag.size() && arg[flag.size()] == '=')
+          throw CLI::ValidationError(std::string(flag), "takes no value: write it alone");
     }
     app.parse(argc, argv);
     return 0;

@@ -146,19 +146,34 @@ std::string escape_text(std::string_view text) {
   return out;
 }
 
-std::string clip(std::string_view text, std::size_t max_chars) {
+namespace {
+
+/// escape_text cut before the character that would pass either limit, "..." marking the cut.
+std::string clip_within(std::string_view text, std::size_t max_chars, std::size_t max_bytes) {
   std::string out;
   std::size_t chars = 0;
   walk(text, [&](std::size_t pos, std::size_t n, std::optional<std::uint32_t> cp) {
-    if (chars == max_chars) {
+    const std::size_t before = out.size();
+    if (chars < max_chars) append_escaped(out, text, pos, n, cp);
+    if (chars == max_chars || out.size() > max_bytes) {
+      out.resize(before);
       out += "...";
       return false;
     }
-    append_escaped(out, text, pos, n, cp);
     ++chars;
     return true;
   });
   return out;
+}
+
+}  // namespace
+
+std::string clip(std::string_view text, std::size_t max_chars) {
+  return clip_within(text, max_chars, std::string::npos);
+}
+
+std::string clip_bytes(std::string_view text, std::size_t max_bytes) {
+  return clip_within(text, std::string::npos, max_bytes);
 }
 
 bool parse_encoding(std::string_view name, Encoding& out) {

@@ -45,6 +45,19 @@ TEST_CASE("--version and --help print on stdout and exit 0") {
   CHECK(sub.out.find("--tol") != std::string::npos);
 }
 
+TEST_CASE("--version and --help take no value: `--version=1` under --json is an error, not text") {
+  // A fuzz find: CLI11 reads `--help=yes` as the flag and printed plain text where --json
+  // promised a JSON document.
+  for (const auto& args : std::vector<std::vector<std::string>>{
+           {"--json", "--version=1"}, {"--version=true"}, {"--json", "--help=yes"}, {"stock", "list", "--help=1"}}) {
+    const auto r = run(args);
+    CHECK(r.status == 1);
+    CHECK(r.out.empty());
+    CHECK(r.err.starts_with("error: --"));
+    CHECK(r.err.find("takes no value") != std::string::npos);
+  }
+}
+
 TEST_CASE("usage errors: exit 1 and one `error:` line on stderr (docs/interface.md)") {
   for (const auto& args : std::vector<std::vector<std::string>>{
            {}, {"frobnicate"}, {"stock"}, {"stock", "add", "R", "4k7"}, {"stock", "list", "--colour"}}) {
@@ -54,6 +67,17 @@ TEST_CASE("usage errors: exit 1 and one `error:` line on stderr (docs/interface.
     CHECK(r.err.starts_with("error: "));
     CHECK(line_count(r.err) == 1);
   }
+}
+
+TEST_CASE("an error line stays short however many bytes it echoes escaped (a fuzz find)") {
+  // A stray quote in the word pairs the message's quotes wrongly, so a long stretch of it
+  // was no quoted value to clip; each of its non-UTF-8 bytes is four bytes escaped.
+  const std::string word = "a'" + std::string(1500, '\xA3') + "'b" + std::string(1500, '\xB4');
+  const auto r = run({word});
+  CHECK(r.status == 1);
+  CHECK(r.err.starts_with("error: unknown command"));
+  CHECK(line_count(r.err) == 1);
+  CHECK(r.err.size() <= 2100);
 }
 
 TEST_CASE("library errors keep their exit status: input 1, infeasible 2, database 3") {

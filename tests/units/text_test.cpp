@@ -101,6 +101,19 @@ TEST_CASE("clip cuts after a number of characters, not bytes, and escapes what i
   CHECK(clip("\xFF\xFF\xFF", 2) == "\\xFF\\xFF...");
 }
 
+TEST_CASE("clip_bytes bounds the escaped text's bytes, cutting only between characters") {
+  CHECK(clip_bytes("short", 10) == "short");
+  CHECK(clip_bytes("short", 5) == "short");
+  CHECK(clip_bytes("shorts", 5) == "short...");
+  CHECK(clip_bytes("ΩΩΩΩ", 5) == "ΩΩ...");                  // 2 bytes each: no half Ω
+  CHECK(clip_bytes("\xFF\xFF\xFF", 9) == "\\xFF\\xFF...");  // an escape is 4 bytes
+  const std::string junk(3000, '\xA3');                     // 12,000 bytes escaped
+  const std::string cut = clip_bytes(junk, 2000);
+  CHECK(cut.size() <= 2003);
+  CHECK(cut.ends_with("\\xA3..."));
+  CHECK_FALSE(find_text_fault(cut));
+}
+
 TEST_CASE("declared encodings convert to UTF-8") {
   Encoding e{};
   CHECK(parse_encoding("Latin-1", e));

@@ -11,7 +11,7 @@
 //     a byte that does not start a well-formed sequence becomes \xNN, a control character
 //     below U+0080 becomes \xNN and one from U+0080 becomes \u0080 (four hex digits).
 //  4. clip is escape_text cut after a number of characters (not bytes) with "..." appended,
-//     so a message never echoes a 100 KB value whole.
+//     so a message never echoes a 100 KB value whole; clip_bytes cuts it by its bytes.
 //  5. to_utf8 from Latin-1 is total (every byte is a character); from Windows-1252 the five
 //     bytes the code page leaves undefined (0x81 0x8D 0x8F 0x90 0x9D) map as Latin-1 does, to
 //     C1 controls, which check_text then refuses.
@@ -52,6 +52,10 @@ std::string escape_text(std::string_view text);
 
 /// escape_text cut after max_chars characters, "..." marking the cut (NOTES 4).
 std::string clip(std::string_view text, std::size_t max_chars = 40);
+/// escape_text cut where it would grow past max_bytes bytes, on a character's (or an
+/// escape's) edge, "..." marking the cut: at most max_bytes + 3 bytes (NOTES 4). An escape is
+/// four bytes and a character up to four, so a cut by characters alone bounds no line.
+std::string clip_bytes(std::string_view text, std::size_t max_bytes);
 
 /// Encodings a file may declare.
 enum class Encoding { utf8, latin1, cp1252 };
