@@ -202,8 +202,9 @@ double input_noise(const CeSignal& s, const Values& v, const Conditions& c) {
 // Power in each resistor present, DC across each capacitor.
 std::vector<Stress> part_stress(const detail::BjtBias& b, const Values& v, const Conditions& c) {
   const double i1 = (c.supply_v - b.vb_v) / v[R1], i2 = b.vb_v / v[R2];
-  std::vector<Stress> st = {detail::res_stress(R1, i1 * i1 * v[R1]), detail::res_stress(R2, i2 * i2 * v[R2]),
-                            detail::res_stress(RC, b.ic_a * b.ic_a * v[RC])};
+  std::vector<Stress> st =
+      detail::stress_list({detail::res_stress(R1, i1 * i1 * v[R1]), detail::res_stress(R2, i2 * i2 * v[R2]),
+                           detail::res_stress(RC, b.ic_a * b.ic_a * v[RC])});
   if (v[RE1] > 0) st.push_back(detail::res_stress(RE1, b.ie_a * b.ie_a * v[RE1]));
   if (v[RE2] > 0) st.push_back(detail::res_stress(RE2, b.ie_a * b.ie_a * v[RE2]));
   if (v[CE] > 0) st.push_back(detail::cap_stress(CE, b.ie_a * v[RE2], v[RE1] > 0 ? "x" : "emitter"));

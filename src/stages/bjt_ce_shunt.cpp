@@ -255,8 +255,8 @@ double input_noise(const ShuntSignal& s, const Values& v, const Conditions& c, d
 // Power in each resistor present, DC across each capacitor.
 std::vector<Stress> part_stress(const detail::BjtBias& b, const Values& v) {
   const double irf = rf_current(b, v), irc = b.ic_a + irf;
-  std::vector<Stress> st = {detail::res_stress(RIN, 0.0), detail::res_stress(RF, irf * irf * v[RF]),
-                            detail::res_stress(RC, irc * irc * v[RC])};
+  std::vector<Stress> st = detail::stress_list({detail::res_stress(RIN, 0.0), detail::res_stress(RF, irf * irf * v[RF]),
+                                                detail::res_stress(RC, irc * irc * v[RC])});
   if (v[RB] > 0) st.push_back(detail::res_stress(RB, b.vb_v * b.vb_v / v[RB]));
   if (v[RE1] > 0) st.push_back(detail::res_stress(RE1, b.ie_a * b.ie_a * v[RE1]));
   if (v[RE2] > 0) st.push_back(detail::res_stress(RE2, b.ie_a * b.ie_a * v[RE2]));

@@ -160,6 +160,14 @@ inline Stress res_stress(std::size_t role, double power_w) {
 /// (negative dc_n_v: the other way round); pos and neg name the netlist's nets of those ends
 /// when they differ from the role's pos_net and neg_net. Topology::evaluate puts it on the rail.
 Stress cap_stress(std::size_t role, double dc_n_v, std::string_view pos = {}, std::string_view neg = {});
+/// A stage's part stress, starting with these, with room for every role: one allocation
+/// where pushing role by role took three or four (a search evaluates hundreds of thousands).
+inline std::vector<Stress> stress_list(std::initializer_list<Stress> first = {}) {
+  std::vector<Stress> st;
+  st.reserve(kMaxRoles);
+  st.insert(st.end(), first);
+  return st;
+}
 /// Polarity of the device: +1 N/NPN, -1 P/PNP.
 inline double pol(const Transistor& q) { return devices::polarity(q.kind); }
 

@@ -79,8 +79,8 @@ class JfetCsDivider final : public Topology {
       const double i2 = b.id_a * b.id_a;
       const double idiv = s.bias_network_a;
       const double vg = s.vg_v;
-      p.stress = {detail::res_stress(R1, idiv * idiv * v[R1]), detail::res_stress(R2, idiv * idiv * v[R2]),
-                  detail::res_stress(RD, i2 * v[RD])};
+      p.stress = detail::stress_list({detail::res_stress(R1, idiv * idiv * v[R1]),
+                                      detail::res_stress(R2, idiv * idiv * v[R2]), detail::res_stress(RD, i2 * v[RD])});
       if (v[RS1] > 0) p.stress.push_back(detail::res_stress(RS1, i2 * v[RS1]));
       if (v[RS2] > 0) p.stress.push_back(detail::res_stress(RS2, i2 * v[RS2]));
       if (v[CS] > 0) p.stress.push_back(detail::cap_stress(CS, b.id_a * v[RS2], v[RS1] > 0 ? "x" : "source"));

@@ -64,7 +64,7 @@ class JfetCsSelf final : public Topology {
     Performance p = detail::jfet_cs(s, q.jfet, c, d, b);
     if (d != Detail::core && p.valid && !p.cut_short) {
       const double i2 = b.id_a * b.id_a;
-      p.stress = {detail::res_stress(RG, 0), detail::res_stress(RD, i2 * v[RD])};
+      p.stress = detail::stress_list({detail::res_stress(RG, 0), detail::res_stress(RD, i2 * v[RD])});
       if (v[RS1] > 0) p.stress.push_back(detail::res_stress(RS1, i2 * v[RS1]));
       if (v[RS2] > 0) p.stress.push_back(detail::res_stress(RS2, i2 * v[RS2]));
       if (v[CS] > 0) p.stress.push_back(detail::cap_stress(CS, b.id_a * v[RS2], v[RS1] > 0 ? "x" : "source"));

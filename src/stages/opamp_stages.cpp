@@ -400,6 +400,7 @@ Performance OpampStage::evaluate_n(const Values& v, const Transistor& q, const C
   if (d != Detail::core) {
     if (d == Detail::full) p.noise_v_rthz = detail::opamp_input_noise(s, a, c.celsius) / source_divider;
     const double vm = p.v_common;  // the - input's DC
+    p.stress = detail::stress_list();
     auto res = [&](int role, double volts) {
       if (role >= 0 && at(v, role) > 0)
         p.stress.push_back(detail::res_stress(static_cast<std::size_t>(role), volts * volts / at(v, role)));

@@ -666,6 +666,7 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
   finish_distortion(p, c, [&] { return static_transfer(s, d, b, c, 0.75 * p.swing_peak_v / mid, x); });
   if (detail != Detail::core) {
     if (detail == Detail::full) p.noise_v_rthz = input_noise(m, b, d, c, p.gain);
+    p.stress = stress_list();
     auto res = [&](std::size_t role, double r, double v) {
       if (r > 0) p.stress.push_back(res_stress(role, v * v / r));
     };
