@@ -689,8 +689,7 @@ Performance pair_evaluate(const PairParts& s, const PairDevices& d, const Condit
 
 Values pair_capacitors(const Values& v, const Transistor& q, const Conditions& c, double f, bool same) {
   Values t = v;
-  const double rth = v[kTop] > 0 ? par(v[kTop], v[kBottom]) : v[kBottom];
-  t[kCin] = cap_for(c.source_ohm + rth, f / 6);
+  t[kCin] = cap_for(c.source_ohm + input_divider_ohm(v), f / 6);
   t[kCout] = cap_for(c.load_ohm, f / 6);
   // The closed-loop gain follows 1 + RF / (RE1 + RE2 || ZCE): it shelves down where ZCE
   // reaches RE1 || RE2, so the bypass's corner goes there.
@@ -711,6 +710,8 @@ Values pair_capacitors(const Values& v, const Transistor& q, const Conditions& c
   return t;
 }
 
+double input_divider_ohm(const Values& v) { return v[kTop] > 0 ? par(v[kTop], v[kBottom]) : v[kBottom]; }
+
 double nearest_one(const ValueSource& shelf, double target) {
   std::vector<double> found;
   shelf.nearest(target, 1, found);
@@ -719,6 +720,18 @@ double nearest_one(const ValueSource& shelf, double target) {
 
 void pair_feedback_legs(Values v, const ValueSource& shelf, const Goal& g, const Conditions& c, const PairPlan& plan,
                         const std::function<void(const Values&)>& emit) {
+  // The input impedance is at most the divider's to ground (tests/stages/pruning_test.cpp): a
+  // divider below the impedance asked leaves every set out, counted as stopped there
+  // (Goal::left_out); a probe keeps them. (The shelf's nearest legs can fall well below the
+  // divider the steps aimed at: a 10 M input asked with nothing above 10 M on the shelf.)
+  if (!g.probe && g.zin_min_ohm > 0 && input_divider_ohm(v) < g.zin_min_ohm) {
+    if (g.left_out) {
+      Goal all = g;
+      all.zin_min_ohm = 0;
+      pair_feedback_legs(v, shelf, all, c, plan, [&](const Values&) { ++g.left_out->zin; });
+    }
+    return;
+  }
   const double i1 = plan.i1, ve = plan.ve, vo = plan.vo, vcc = c.supply_v;
   if (!(i1 > 0) || !(ve > 0) || !(vo > ve + 0.5) || vo > vcc - 0.5) return;
   if (plan.same && !(plan.vd - plan.vbe2 > 0.2 && plan.vd < vo)) return;

@@ -139,6 +139,11 @@ struct PairPlan {
   double q2_hfe = 100;      ///< ... Q2's nominal hFE (its base current out of R1's)
 };
 
+/// The gate or base divider's resistance to ground, TOP || BOTTOM (BOTTOM alone without TOP):
+/// at mid-band the pair's input impedance is at most this (a JFET gate draws nothing; a base
+/// adds its path to an emitter that the feedback moves with it).
+double input_divider_ohm(const Values& v);
+
 /// The design step the pairs share, once the plan is fixed: R1 and Q2's legs (RC2, and RE3
 /// in the same-polarity form) for Q2 at one to ten milliamperes, RF for its share of the
 /// current, RE1 for the gain (1 + RF/RE1, and a ratio above it for the finite loop gain) and

@@ -295,7 +295,8 @@ class Searcher {
                             // (A probe keeps no choice to take a put-off screen: it drafts whole.)
                             if (builder.draft(proposal, d, stats, !probe_)) found.push_back(std::move(d));
                           });
-    for (const auto& [why, n] : {std::pair{"swing", left_out.swing}, std::pair{"gain", left_out.gain}})
+    for (const auto& [why, n] :
+         {std::pair{"swing", left_out.swing}, std::pair{"gain", left_out.gain}, std::pair{"zin", left_out.zin}})
       if (n > 0) {
         stats.proposals += n;
         stats.failures[why] += n;

@@ -11,12 +11,19 @@
 //  - A stage biased from a fixed gate or base network carries the most current with no drain
 //    or collector resistor (its full supply across the device: the channel-length or Early
 //    factor at its largest), which the design steps work out to apply the first bound.
+//  - A feedback pair's input impedance is at most its gate or base divider's resistance to
+//    ground (src/stages/pair.cpp pair_feedback_legs): the divider is in parallel with the
+//    device's input, and at mid-band a JFET gate draws nothing while a base's path runs to an
+//    emitter the series feedback moves with the base (Sedra & Smith's series-shunt feedback
+//    amplifier: its input impedance rises above the device's, it stays in parallel with the
+//    bias network).
 #include <doctest/doctest.h>
 
 #include <cmath>
 #include <functional>
 
 #include "../../src/stages/common.hpp"
+#include "../../src/stages/pair.hpp"
 
 #include "shelfstage/units/eseries.hpp"
 #include "stage_bench.hpp"
@@ -58,6 +65,7 @@ struct Request {
 constexpr Request kRequests[] = {
     {12, 10e3, 1e3, 8, 1, 100e3}, {5, 4.7e3, 0, 6, 0.5, 20e3},    {24, 2.2e3, 10e3, 5, 4, 1e6},
     {15, 330, 50, 3, 1.5, 10e3},  {9, 100e3, 600, 30, 0.3, 47e3}, {48, 47e3, 1e3, 20, 10, 100e3},
+    {9, 10e3, 1e6, 4.6, 0, 10e6},  // a 10 M input behind a 1 M source: no divider above it on the shelf
 };
 
 // Every proposal of the topology for each request (probing: nothing pruned), evaluated at
@@ -66,8 +74,9 @@ template <class Check>
 long each_working_proposal(const Topology& t, const devices::DeviceRecord& record, Check check) {
   const E24Shelf shelf;
   const devices::DeviceSpread spread(record);
-  std::vector<Transistor> pieces{piece_of(spread, spread.nominal())};
-  for (const auto& f : spread.corners()) pieces.push_back(piece_of(spread, f));
+  // (A pair's Q2 at its record's nominal: with_second leaves other topologies' pieces as they are.)
+  std::vector<Transistor> pieces{with_second(t, piece_of(spread, spread.nominal()))};
+  for (const auto& f : spread.corners()) pieces.push_back(with_second(t, piece_of(spread, f)));
   long working = 0;
   for (const Request& r : kRequests) {
     Conditions c;
@@ -166,6 +175,23 @@ TEST_CASE("bjt-ce-shunt gains at most (RC || RL || RF) / RE1 and at most RF / (R
   CHECK(closest_ratio > 0.8);
 }
 
+TEST_CASE("a feedback pair's input impedance is at most its gate or base divider's resistance to ground") {
+  for (const char* name : {"jfet-fb-pair", "bjt-fb-pair", "bjt-fb-pair-same"}) {
+    const Topology& t = *stages::find_topology(name);
+    double closest = 0;
+    const long n = each_working_proposal(
+        t, n_record_for(t), [&](const Values& v, const Conditions&, const Transistor&, const Performance& p) {
+          const double divider = stages::detail::input_divider_ohm(v);
+          closest = std::max(closest, p.zin_ohm / divider);
+          // (A JFET's equals it but for the solve's rounding, a few parts in 1e9.)
+          CHECK_MESSAGE(p.zin_ohm <= divider * (1 + 1e-6), fmt::format("{}: {} > {}", name, p.zin_ohm, divider));
+        });
+    MESSAGE(fmt::format("{}: {} working stages; input impedance at most {:.6f} of the divider's", name, n, closest));
+    CHECK(n > 100);
+    CHECK(closest > 0.5);  // (the bound is near: the divider is most of it)
+  }
+}
+
 TEST_CASE("what the design steps leave out by a bound is counted under its stop (Goal::left_out)") {
   // A swing of 2 V peak into 10k from 12 V at a gain of 8: many drain and collector resistors
   // cannot rise by it at the currents the steps design for.
@@ -201,4 +227,44 @@ TEST_CASE("what the design steps leave out by a bound is counted under its stop 
   }
   CHECK(total.swing > 100);
   CHECK(total.gain > 10);
+}
+
+TEST_CASE("a pair's divider below the input impedance asked leaves its sets out, counted under zin") {
+  // 3 M asked from 9 V: a divider's upper leg would be well above the shelf's 10 M, so the
+  // nearest legs fall below what the steps aimed at.
+  const E24Shelf shelf;
+  Conditions c;
+  c.supply_v = 9;
+  c.load_ohm = 10e3;
+  c.source_ohm = 1e6;
+  long total = 0;
+  for (const char* name : {"jfet-fb-pair", "bjt-fb-pair"}) {
+    const Topology& t = *stages::find_topology(name);
+    const devices::DeviceSpread spread(n_record_for(t));
+    const Transistor q = with_second(t, piece_of(spread, spread.nominal()));
+    Goal g;
+    g.gain = 4.6;
+    g.gain_lo = 4.1;
+    g.zin_min_ohm = 3e6;
+    stages::LeftOut left;
+    g.left_out = &left;
+    long made = 0, below = 0;
+    t.propose(g, q, c, shelf, [&](const Values& v) {
+      ++made;
+      if (stages::detail::input_divider_ohm(v) < g.zin_min_ohm) ++below;
+    });
+    // Probing leaves nothing out: every set it makes is either made or counted above.
+    stages::LeftOut none;
+    g.left_out = &none;
+    g.probe = true;
+    long probed = 0;
+    t.propose(g, q, c, shelf, [&](const Values&) { ++probed; });
+    MESSAGE(
+        fmt::format("{}: {} proposed, {} left out for the input impedance, {} probed", name, made, left.zin, probed));
+    CHECK(below == 0);
+    CHECK(none.zin == 0);
+    CHECK(made + left.zin + left.swing + left.gain == probed);
+    total += left.zin;
+  }
+  CHECK(total > 10);
 }

@@ -311,7 +311,7 @@ class ValueSource {
 /// search says about a request weighs them as the stops they would have been. Each resistor
 /// or proposal left out counts once.
 struct LeftOut {
-  long swing = 0, gain = 0;
+  long swing = 0, gain = 0, zin = 0;
 };
 
 /// The targets a topology designs toward (the request, in the N frame).
