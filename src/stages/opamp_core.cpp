@@ -61,17 +61,36 @@ OpampMargin opamp_margin(const OpampCircuit& s, const devices::OpampInstance& q)
   auto mag = [&](double f) { return std::abs(loop_gain(s, q, two_pi * f)); };
   OpampMargin m;
   if (mag(1e-3) <= 1.0) return m;
-  // |T| falls monotonically for these networks: bisection in log f between a point above
-  // one and a point below.
+  // |T| falls monotonically for these networks: a bracket in log f between a point above one
+  // and a point below, then regula falsi (Illinois) on log |T| against log f, where |T| falls
+  // nearly as a power of f (a bisection step every fourth, so the bracket always shrinks). To
+  // a part in 1e11, as forty halvings of the bracket's sixteen decades gave, in about a
+  // quarter of the evaluations: each listed design's corners, tolerance ends and Monte Carlo
+  // builds take one apiece.
   double lo = 1e-3, hi = std::max(1.0, q.gbw_hz);
   while (hi < 1e13 && mag(hi) > 1.0) hi *= 10.0;
   if (hi >= 1e13) return m;
-  // Forty halvings of a span of at most 16 decades: the crossing to a part in 1e10.
-  for (int i = 0; i < 40; ++i) {
-    const double mid = std::sqrt(lo * hi);
-    (mag(mid) > 1.0 ? lo : hi) = mid;
+  auto excess = [&](double x) { return std::log(mag(std::exp(x))); };
+  double x_lo = std::log(lo), x_hi = std::log(hi);
+  double g_lo = excess(x_lo), g_hi = excess(x_hi);
+  int side = 0;
+  for (int i = 0; i < 200 && x_hi - x_lo > 1e-11; ++i) {
+    double x = i % 4 == 3 || !(g_lo > g_hi) ? 0.5 * (x_lo + x_hi) : (x_lo * g_hi - x_hi * g_lo) / (g_hi - g_lo);
+    if (!(x > x_lo && x < x_hi)) x = 0.5 * (x_lo + x_hi);
+    const double g = excess(x);
+    if (g > 0) {
+      x_lo = x;
+      g_lo = g;
+      if (side == -1) g_hi *= 0.5;
+      side = -1;
+    } else {
+      x_hi = x;
+      g_hi = g;
+      if (side == 1) g_lo *= 0.5;
+      side = 1;
+    }
   }
-  m.f_cross_hz = std::sqrt(lo * hi);
+  m.f_cross_hz = std::exp(0.5 * (x_lo + x_hi));
   // The phase unwrapped, pole by pole (each lags 0..90 degrees; the output divider too).
   const double w = two_pi * m.f_cross_hz;
   double phase = -std::atan(w / (two_pi * q.pole1_hz()));

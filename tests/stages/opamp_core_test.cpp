@@ -137,3 +137,30 @@ TEST_CASE("op-amp stage noise: the op-amp's en alone, then the resistors' 4kTR")
   const double kt4 = 4 * 1.380649e-23 * 298.15;
   CHECK(opamp_input_noise(src, q, 25) == doctest::Approx(std::sqrt(1e-16 + kt4 * 10e3)));
 }
+
+TEST_CASE("op-amp loop crossing: |T| is one there to a part in 1e9, and a one-pole loop keeps 90 degrees") {
+  // The crossing is found by regula falsi on log |T| against log f: checked here on the loop
+  // itself over a grid of op-amps, feedback ratios, output resistances and second poles.
+  int checked = 0;
+  for (const double gbw : {1e5, 1e6, 3e6, 1e7})
+    for (const double aol : {1e4, 2e5})
+      for (const double pole2_per_gbw : {0.0, 0.7, 2.0, 10.0})
+        for (const double out_ohm : {0.0, 100.0})
+          for (const double rf : {0.0, 9e3, 90e3, 990e3}) {
+            auto q = piece(gbw, aol, pole2_per_gbw * gbw);
+            q.out_drop_ohm = out_ohm;
+            const OpampCircuit s = non_inverting(rf, rf > 0 ? 10e3 : 0.0);
+            const OpampMargin m = opamp_margin(s, q);
+            REQUIRE(m.f_cross_hz > 0);
+            const double t = std::abs(loop_gain(s, q, 2 * std::numbers::pi * m.f_cross_hz));
+            CHECK(t == doctest::Approx(1.0).epsilon(1e-9));
+            ++checked;
+          }
+  CHECK(checked == 256);
+  // One pole (textbook): the loop crosses at GBW x beta with 90 degrees to spare, less the
+  // small lag of the output divider (none here).
+  const auto q = ideal_output(piece(1e6, 1e5));
+  const OpampMargin m = opamp_margin(non_inverting(90e3, 10e3), q);
+  CHECK(m.f_cross_hz == doctest::Approx(1e5).epsilon(2e-3));
+  CHECK(m.margin_deg == doctest::Approx(90.0).epsilon(2e-3));
+}
