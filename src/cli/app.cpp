@@ -113,6 +113,10 @@ int run_command(CLI::App& app, Context& ctx, int argc, const char* const* argv) 
       for (const std::string_view flag : {"--help", "--version"})
         if (arg.starts_with(flag) && arg.size() > flag.size() && arg[flag.size()] == '=')
           throw CLI::ValidationError(std::string(flag), "takes no value: write it alone");
+      // Nor `-h1`, `-h=1` or `-hx`: CLI11 reads the flag and prints the help, whatever follows.
+      if (arg.size() > 2 && arg.starts_with("-h"))
+        throw CLI::ValidationError(
+            "-h", "takes no value and joins no other flag: write it alone, not '" + std::string(arg) + "'");
     }
     app.parse(argc, argv);
     return 0;

@@ -46,16 +46,25 @@ TEST_CASE("--version and --help print on stdout and exit 0") {
 }
 
 TEST_CASE("--version and --help take no value: `--version=1` under --json is an error, not text") {
-  // A fuzz find: CLI11 reads `--help=yes` as the flag and printed plain text where --json
-  // promised a JSON document.
-  for (const auto& args : std::vector<std::vector<std::string>>{
-           {"--json", "--version=1"}, {"--version=true"}, {"--json", "--help=yes"}, {"stock", "list", "--help=1"}}) {
+  // A fuzz find: CLI11 reads `--help=yes` (and `-h=1`, `-hx`, `-h1`) as the flag and printed
+  // plain text where --json promised a JSON document.
+  for (const auto& args : std::vector<std::vector<std::string>>{{"--json", "--version=1"},
+                                                                {"--version=true"},
+                                                                {"--json", "--help=yes"},
+                                                                {"stock", "list", "--help=1"},
+                                                                {"--json", "-h=1"},
+                                                                {"--json", "-hx"},
+                                                                {"stock", "list", "-h1"}}) {
     const auto r = run(args);
     CHECK(r.status == 1);
     CHECK(r.out.empty());
-    CHECK(r.err.starts_with("error: --"));
+    CHECK(r.err.starts_with("error: -"));
     CHECK(r.err.find("takes no value") != std::string::npos);
   }
+  // -h alone still prints the help.
+  const auto h = run({"-h"});
+  CHECK(h.status == 0);
+  CHECK(h.out.find("Usage") != std::string::npos);
 }
 
 TEST_CASE("usage errors: exit 1 and one `error:` line on stderr (docs/interface.md)") {
