@@ -162,8 +162,7 @@ Performance Topology::evaluate(const Values& values, const Transistor& q, const 
 
 double Topology::gain_with(const Values& values, const Conditions& c, const Performance& p) const {
   if (!p.valid) return p.gain;  // (evaluate() leaves an invalid stage's gain undivided)
-  const double k = input_divider_at(p, values, roles(), c);
-  return k == 1.0 ? p.gain_undivided : p.gain_undivided * k;
+  return p.gain_undivided * input_divider_at(p, values, roles(), c);  // (times 1 is exact)
 }
 
 }  // namespace shelfstage::stages
