@@ -60,19 +60,27 @@ OpampMargin opamp_margin(const OpampCircuit& s, const devices::OpampInstance& q)
   const double two_pi = 2 * std::numbers::pi;
   auto mag = [&](double f) { return std::abs(loop_gain(s, q, two_pi * f)); };
   OpampMargin m;
-  if (mag(1e-3) <= 1.0) return m;
+  double lo = 1e-3, m_lo = mag(lo);
+  if (m_lo <= 1.0) return m;
   // |T| falls monotonically for these networks: a bracket in log f between a point above one
   // and a point below, then regula falsi (Illinois) on log |T| against log f, where |T| falls
   // nearly as a power of f (a bisection step every fourth, so the bracket always shrinks). To
   // a part in 1e11, as forty halvings of the bracket's sixteen decades gave, in about a
   // quarter of the evaluations: each listed design's corners, tolerance ends and Monte Carlo
   // builds take one apiece.
-  double lo = 1e-3, hi = std::max(1.0, q.gbw_hz);
-  while (hi < 1e13 && mag(hi) > 1.0) hi *= 10.0;
+  // (A decade still above one is the bracket's low end; each end's |T| is kept, not worked
+  // out again.)
+  double hi = std::max(1.0, q.gbw_hz), m_hi = mag(hi);
+  while (hi < 1e13 && m_hi > 1.0) {
+    lo = hi;
+    m_lo = m_hi;
+    hi *= 10.0;
+    m_hi = mag(hi);
+  }
   if (hi >= 1e13) return m;
   auto excess = [&](double x) { return std::log(mag(std::exp(x))); };
   double x_lo = std::log(lo), x_hi = std::log(hi);
-  double g_lo = excess(x_lo), g_hi = excess(x_hi);
+  double g_lo = std::log(m_lo), g_hi = std::log(m_hi);
   int side = 0;
   for (int i = 0; i < 200 && x_hi - x_lo > 1e-11; ++i) {
     double x = i % 4 == 3 || !(g_lo > g_hi) ? 0.5 * (x_lo + x_hi) : (x_lo * g_hi - x_hi * g_lo) / (g_hi - g_lo);
