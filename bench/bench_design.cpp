@@ -5,10 +5,12 @@
 // best of the runs), the processor seconds of all its threads (best of the runs: on a machine
 // that is busy with other work, the steadier figure), peak memory, the number of designs listed
 // and their scores summed (a change that makes the search faster should not make this worse),
-// and the top design.
+// and the top design. With `--lists 1`, each row is followed by the designs listed, by id and
+// score, so that two builds' lists can be compared line by line (a change meant only to make the
+// search faster must leave them as they were).
 //
 // Usage: bench_design [--runs N] [--sizes 250,1000,...] [--stocks eseries,random,hobby]
-//                     [--requests name,...] [--combine 3] [--stages 1]
+//                     [--requests name,...] [--combine 3] [--stages 1] [--lists 1]
 #include <sys/resource.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -22,6 +24,8 @@
 #include <sstream>
 #include <string>
 #include <vector>
+
+#include <fmt/format.h>
 
 #include "shelfstage/synth/design.hpp"
 #include "shelfstage/units/eseries.hpp"
@@ -266,6 +270,7 @@ struct Result {
   double points = 0;                   // the listed designs' scores, summed (lower is better)
   synth::DesignResult::Phases phases;  // of the best run
   char top[96] = {};
+  char list[400] = {};  // the designs listed: id:score, in order
   bool ok = false;
 };
 
@@ -302,7 +307,12 @@ Result run_case(const std::string& dist, std::size_t lines, const Request& rq, i
       r.evaluations = d.evaluations;
       r.found = static_cast<int>(d.candidates.size());
       r.points = 0;
-      for (const auto& c : d.candidates) r.points += c.score;
+      std::string list;
+      for (const auto& c : d.candidates) {
+        r.points += c.score;
+        list += fmt::format("{}{}:{:.4f}", list.empty() ? "" : " ", c.id, c.score);
+      }
+      std::snprintf(r.list, sizeof r.list, "%s", list.c_str());
       if (!d.candidates.empty())
         std::snprintf(r.top, sizeof r.top, "%s %s err %.1f%%", d.candidates[0].topology_name().c_str(),
                       d.candidates[0].device.name.c_str(), 100 * d.candidates[0].error_worst);
@@ -338,13 +348,14 @@ std::vector<std::string> split(const std::string& s) {
 
 int main(int argc, char** argv) {
   int runs = 3, combine = 2, stages = 0;
+  bool lists = false;
   std::vector<std::string> sizes{"250", "1000", "4000", "10000"}, stocks{"eseries", "random", "hobby"}, names;
   // Options come in pairs: a word left without its value (`--help` among them) stops it
   // before the default table, which takes a quarter of an hour.
   if (argc % 2 == 0) {
     std::fprintf(stderr,
                  "usage: bench_design [--runs N] [--sizes 250,1000,...] [--stocks eseries,random,hobby] "
-                 "[--requests NAME,...] [--combine N] [--stages N]\n");
+                 "[--requests NAME,...] [--combine N] [--stages N] [--lists 1]\n");
     return 1;
   }
   for (int i = 1; i + 1 < argc; i += 2) {
@@ -361,6 +372,8 @@ int main(int argc, char** argv) {
       combine = std::atoi(v.c_str());
     else if (k == "--stages")
       stages = std::atoi(v.c_str());
+    else if (k == "--lists")
+      lists = std::atoi(v.c_str()) != 0;
     else {
       std::fprintf(stderr, "bench_design: unknown option %s\n", k.c_str());
       return 1;
@@ -394,6 +407,7 @@ int main(int argc, char** argv) {
         std::printf("%-9s %-8s %6zu %10ld %11ld %8.3f %8.3f %8.1f  %-35s %-12s %s\n", rq.name, dist.c_str(), lines,
                     r.proposals, r.evaluations, r.seconds, r.cpu_seconds, r.peak_mb, phases, listed,
                     r.found ? r.top : "(nothing fits)");
+        if (lists) std::printf("  list %s %s %zu: %s\n", rq.name, dist.c_str(), lines, r.list);
         std::fflush(stdout);
       }
   }

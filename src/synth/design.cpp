@@ -723,10 +723,14 @@ bool listed_before(const Candidate& a, const Candidate& b) {
 // left out), each finished as it is shown (the full worst case, the exact solver's DC across
 // every capacitor): one that fails there gives its place to the next. Best first.
 //
-// The finishing runs on every core, a batch ahead: the candidates not yet known to be variants
-// are finished together, then taken in rank order exactly as one at a time would take them.
-// A batch ends before a variant of one of its own (that one is most often shown, and the
-// variant's finishing would be lost).
+// The finishing runs on every core, a batch ahead, and the list is then taken in rank order
+// exactly as one at a time would take it. A batch is the next candidates not yet finished
+// that nothing shown makes variants of, passing over (for now) those that are variants of one
+// in the batch: that one is most often shown and the variant's finishing would be lost; when
+// it is not, the variant is finished in a later batch and the taking stops there until then.
+// (A batch that stopped at the first such variant was one candidate long whenever the best
+// designs were variants of each other, as an op-amp stage's ten best are: the cores took
+// turns.) What a finishing found is kept by candidate, whichever batch did it.
 //
 // ranked(k, pass_over) is the k-th of the ranked list; pass_over tells it the candidates this
 // passes over whatever their place (variants of those shown), which it need not hand out.
@@ -737,28 +741,27 @@ std::vector<Candidate> finish_top(const Ranked& ranked, const Spec& spec, const 
   const detail::RankedSearch::PassOver variant_of_shown = [&](const Candidate& c) {
     return std::any_of(shown.begin(), shown.end(), [&](const Candidate& kept) { return is_variant(kept, c); });
   };
+  struct Finished {
+    std::string broken;
+    std::exception_ptr thrown;
+  };
+  std::map<const Candidate*, Finished> finished;
   const std::size_t cores = std::max(1u, std::thread::hardware_concurrency());
   const int kUnstableLimit = 3 * spec.top + 12;
   int unstable = 0;
-  std::size_t next = 0;
+  std::size_t next = 0;  // the first place not yet taken
   bool more = true;
   while (static_cast<int>(shown.size()) < spec.top && more) {
     const std::size_t want = static_cast<std::size_t>(spec.top) - shown.size();
     std::vector<Candidate*> batch;
-    for (; batch.size() < std::max(want, cores); ++next) {
-      Candidate* c = ranked(next, variant_of_shown);
-      if (!c) {
-        more = false;
-        break;
-      }
-      if (variant_of_shown(*c)) continue;
-      // A variant of one in the batch waits for the next batch, which knows whether that
-      // one was shown.
-      if (std::any_of(batch.begin(), batch.end(), [&](const Candidate* x) { return is_variant(*x, *c); })) break;
+    for (std::size_t k = next; batch.size() < std::max(want, cores); ++k) {
+      Candidate* c = ranked(k, variant_of_shown);
+      if (!c) break;
+      if (finished.count(c) || variant_of_shown(*c)) continue;
+      if (std::any_of(batch.begin(), batch.end(), [&](const Candidate* x) { return is_variant(*x, *c); })) continue;
       batch.push_back(c);
     }
-    std::vector<std::string> broken(batch.size());
-    std::vector<std::exception_ptr> thrown(batch.size());
+    std::vector<Finished> done(batch.size());
     detail::parallel_for(batch.size(), [&](std::size_t b) {
       Candidate& c = *batch[b];
       try {
@@ -768,24 +771,32 @@ std::vector<Candidate> finish_top(const Ranked& ranked, const Spec& spec, const 
         // a loop of that kind are passed over (each costs a dozen loop sweeps, and designs
         // further down the list are no better placed).
         if (!c.is_chain() && c.topology->feedback_loop() && unstable >= kUnstableLimit)
-          broken[b] = "stability: passed over (the designs before it with a loop all fell short of the margin)";
+          done[b].broken = "stability: passed over (the designs before it with a loop all fell short of the margin)";
         else
-          broken[b] = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_with_margin(c, spec, shelf);
+          done[b].broken = c.is_chain() ? detail::finish_chain(c, spec) : detail::finish_with_margin(c, spec, shelf);
       } catch (...) {
-        thrown[b] = std::current_exception();
+        done[b].thrown = std::current_exception();
       }
     });
-    for (std::size_t b = 0; b < batch.size() && static_cast<int>(shown.size()) < spec.top; ++b) {
-      Candidate& c = *batch[b];
-      if (variant_of_shown(c)) continue;
-      if (thrown[b]) std::rethrow_exception(thrown[b]);
-      if (!broken[b].empty()) {
-        if (broken[b].starts_with("stability")) ++unstable;
-        failures.push_back(broken[b]);
+    for (std::size_t b = 0; b < batch.size(); ++b) finished.emplace(batch[b], std::move(done[b]));
+    // Taken in rank order up to the first candidate not yet finished.
+    for (; static_cast<int>(shown.size()) < spec.top; ++next) {
+      Candidate* c = ranked(next, variant_of_shown);
+      if (!c) {
+        more = false;
+        break;
+      }
+      if (variant_of_shown(*c)) continue;
+      const auto it = finished.find(c);
+      if (it == finished.end()) break;
+      if (it->second.thrown) std::rethrow_exception(it->second.thrown);
+      if (!it->second.broken.empty()) {
+        if (it->second.broken.starts_with("stability")) ++unstable;
+        failures.push_back(it->second.broken);
         continue;
       }
-      c.id = candidate_id(c, spec.copies);
-      shown.push_back(std::move(c));
+      c->id = candidate_id(*c, spec.copies);
+      shown.push_back(std::move(*c));
     }
   }
   std::stable_sort(shown.begin(), shown.end(), listed_before);
