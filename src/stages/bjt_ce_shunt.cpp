@@ -60,31 +60,50 @@ constexpr InnerNet kInner[] = {{"x", "RE1\u2013RE2 junction", 4, "RE1"},
                                {"xin", "CIN\u2013RIN junction", 2.5, {}, 1.5}};
 constexpr detail::CommonRoles kCommon{RC, RE1, RE2, CE, CIN, COUT};
 
-// The bias the feedback sets: Newton on VBE (exponential law, Early effect from the last VCE),
-// as detail::bjt_bias does for a divider, with the base fed from the collector through RF and
-// returned to ground through RB (rb 0: absent).
+// The bias the feedback sets: Newton on VBE (exponential law, Early effect), as
+// detail::bjt_bias does for a divider, with the base fed from the collector through RF and
+// returned to ground through RB (rb 0: absent). At a given VBE the rest is linear: VCB is RF's
+// drop, RF carries the base current and RB's (vb / RB), and vb rises with IC through RE, so the
+// Early factor at that VBE is one division (early_at), and Newton's slope carries its change
+// (exact Newton: five or six steps where the factor taken from the step before took ten).
 detail::BjtBias feedback_bias(const devices::BjtInstance& q, const Values& v, double vcc) {
   const double inv_vaf = (q.vaf_v > 0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
   const double rf = v[RF], rc = v[RC], re = v[RE1] + v[RE2], g_rb = v[RB] > 0 ? 1.0 / v[RB] : 0.0;
+  // early = 1 + k (ib + g_rb (vbe + (ic + ib) re)) with ic = is_e early, k = RF / VAF; and its
+  // slope in VBE (dis: d is_e / d VBE). At the solution RF's drop is positive and below the
+  // rail, so the factor lies between 1 and 1 + vcc / VAF: a step far from it is held there.
+  const double k = rf * inv_vaf, most = 1.0 + vcc * inv_vaf;
+  auto early_at = [&](double vbe, double is_e, double dis, double& slope) {
+    slope = 0.0;
+    if (!(k > 0)) return 1.0;
+    const double ib = is_e / q.bf, den = 1.0 - k * g_rb * re * is_e;
+    const double early = (1.0 + k * (ib + g_rb * (vbe + ib * re))) / den;
+    if (!(den > 0) || !(early < most)) return most;
+    if (!(early > 1.0)) return 1.0;
+    slope = (k * (dis / q.bf + g_rb * (1.0 + dis / q.bf * re)) + early * k * g_rb * re * dis) / den;
+    return early;
+  };
   // Newton's start: KVL from the rail through RC and RF is linear in IC with 0.65 V across
   // the junction.
   double vbe = detail::newton_start_vbe(
       q, (vcc - 0.65 - 0.65 * g_rb * (rc + rf)) / (rc + (rc + rf) / q.bf + re + re * g_rb * (rc + rf)));
-  double early = 1.0;
   for (int it = 0; it < 80; ++it) {
     const double e = std::exp(vbe / q.vt_v), is_e = q.is_a * (e - 1.0), dis = q.is_a * e / q.vt_v;
+    double d_early = 0;
+    const double early = early_at(vbe, is_e, dis, d_early);
     const double ib = is_e / q.bf, ic = is_e * early;
     const double vb = vbe + (ic + ib) * re, irf = ib + vb * g_rb;
     const double f = (ic + irf) * rc + irf * rf + vb - vcc;
-    const double dib = dis / q.bf, dic = dis * early, dvb = 1.0 + (dic + dib) * re, dirf = dib + dvb * g_rb;
+    const double dib = dis / q.bf, dic = dis * early + is_e * d_early, dvb = 1.0 + (dic + dib) * re,
+                 dirf = dib + dvb * g_rb;
     const double step = std::clamp(f / ((dic + dirf) * rc + dirf * rf + dvb), -0.1, 0.1);
     vbe -= step;
-    const double vc = vb + irf * rf;
-    early = 1.0 + std::max(0.0, vc - vb) * inv_vaf;
     if (std::abs(step) < 1e-10) break;
   }
   detail::BjtBias b;
-  const double is_e = q.is_a * (std::exp(vbe / q.vt_v) - 1.0);
+  const double e = std::exp(vbe / q.vt_v), is_e = q.is_a * (e - 1.0);
+  double unused = 0;
+  const double early = early_at(vbe, is_e, q.is_a * e / q.vt_v, unused);
   b.vbe_v = vbe;
   b.ib_a = is_e / q.bf;
   b.ic_a = is_e * early;
