@@ -173,10 +173,20 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
 // Newton on (u, w) from (u0, w0); the Jacobian by differences (the residuals are cheap), kept
 // once the steps are below a tenth of a millivolt (the chord method: the last steps converge
 // as fast and cost a third).
+//
+// A pair with no point where both devices work (Q1 driven into saturation, its collector
+// junction's current clamped at e^40) can hold the damped steps in a cycle of two, back and
+// forth by the largest step: each step is then a function of the point alone (a fresh
+// Jacobian each time), so a point met again two steps on, with the steps still large, repeats
+// for ever and the solve fails as it would at the last iteration (a pair's bias on the bench's
+// chain request: one solve in eighty, a sixth of the pair's Newton work, spent so).
 bool solve_nodes(const PairParts& s, const PairDevices& d, const Held& h, double& u, double& w, Nodes& out) {
   const double u_lo = d.jfet ? -d.j.vp_abs_v + 1e-4 : 0.05, u_hi = d.jfet ? 0.6 : 1.2;
   double a = 0, b = 0, c = 0, e = 0;
   bool fresh = true;
+  constexpr double kNone = std::numeric_limits<double>::quiet_NaN();
+  double u_back[2] = {kNone, kNone}, w_back[2] = {kNone, kNone};  // the points one and two steps back
+  int fresh_run = 0;                                              // steps in a row with a fresh Jacobian
   for (int it = 0; it < 80; ++it) {
     const Nodes n = nodes_at(s, d, u, w, h);
     if (fresh) {
@@ -193,9 +203,17 @@ bool solve_nodes(const PairParts& s, const PairDevices& d, const Held& h, double
     const double k = std::max({std::abs(du) / 0.05, std::abs(dw) / 0.05, 1.0});
     du /= k;
     dw /= k;
+    fresh_run = fresh ? fresh_run + 1 : 0;
+    u_back[1] = u_back[0];
+    w_back[1] = w_back[0];
+    u_back[0] = u;
+    w_back[0] = w;
     u = std::clamp(u - du, u_lo, u_hi);
     w = std::clamp(w - dw, 0.05, 1.2);
     fresh = std::abs(du) > 1e-4 || std::abs(dw) > 1e-4 || it >= 40;
+    if (fresh_run >= 2 && std::max(std::abs(du), std::abs(dw)) > 1e-3 && std::abs(u - u_back[1]) < 1e-9 &&
+        std::abs(w - w_back[1]) < 1e-9)
+      return false;
     if (std::abs(du) < 1e-11 && std::abs(dw) < 1e-11) {
       out = nodes_at(s, d, u, w, h);
       return std::abs(out.r_e) < 1e-9 && std::abs(out.r_d) < 1e-9;
