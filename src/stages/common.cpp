@@ -66,7 +66,9 @@ double newton_start_vbe(const devices::BjtInstance& q, double ic0_a) {
   return std::clamp(q.vt_v * std::log1p(ic0_a / q.is_a), 0.3, 0.9);
 }
 
-BjtBias bjt_bias(const devices::BjtInstance& q, double vth, double rth, double re, double rc, double vcc) {
+namespace {
+
+BjtBias solve_bjt_bias(const devices::BjtInstance& q, double vth, double rth, double re, double rc, double vcc) {
   BjtBias b;
   const double inv_vaf = (q.vaf_v > 0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
   // Unknown VBE; IC = IS*exp(VBE/VT)*(1 + VCB/VAF), IB = IS*exp(VBE/VT)/BF (forward active).
@@ -120,6 +122,13 @@ BjtBias bjt_bias(const devices::BjtInstance& q, double vth, double rth, double r
   // Output conductance dIC/dVCE at fixed VBE: Ibe/VAF in the Gummel-Poon form.
   b.ro_ohm = inv_vaf > 0 ? q.vaf_v / std::max(is_e, 1e-30) : std::numeric_limits<double>::infinity();
   return b;
+}
+
+}  // namespace
+
+BjtBias bjt_bias(const devices::BjtInstance& q, double vth, double rth, double re, double rc, double vcc) {
+  return last_solved(std::array{q.is_a, q.bf, q.vaf_v, q.vt_v, vth, rth, re, rc, vcc},
+                     [&] { return solve_bjt_bias(q, vth, rth, re, rc, vcc); });
 }
 
 double lf_corner_hz(std::span<const LfSection> s) {

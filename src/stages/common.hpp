@@ -1,6 +1,7 @@
 // Shared closed-form pieces of the stage evaluators: bias solutions, corner finders,
 // and the small helpers every topology file uses. Private to the stages layer.
 #pragma once
+#include <array>
 #include <cmath>
 #include <complex>
 #include <initializer_list>
@@ -23,6 +24,23 @@ struct JfetBias {
   bool saturated() const { return conducts && vds_v >= vgst_v; }
 };
 JfetBias jfet_bias(const devices::JfetInstance& q, double vg_v, double rs_ohm, double rd_ohm, double vdd_v);
+
+/// The last answer of a bias solve on this thread, by its inputs: a draft asks for the same
+/// operating point twice in a row (its capacitors are sized from it, then the stage is
+/// evaluated with them, and capacitors do not move the DC), and the second is a copy. One entry
+/// per call site (the lambda's type) and thread; inputs compared exactly, so that a hit is the
+/// answer the solve would give.
+template <std::size_t N, class Solve>
+auto last_solved(const std::array<double, N>& inputs, const Solve& solve) -> decltype(solve()) {
+  thread_local std::array<double, N> last_inputs{};
+  thread_local decltype(solve()) last{};
+  thread_local bool held = false;
+  if (held && inputs == last_inputs) return last;
+  last = solve();
+  last_inputs = inputs;
+  held = true;
+  return last;
+}
 
 /// BJT bias (NPN frame): base fed from a Thevenin source vth_v behind rth_ohm, emitter
 /// resistor re_ohm, collector resistor rc_ohm to vcc_v. Exponential law with Early effect,
