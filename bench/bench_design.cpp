@@ -258,6 +258,15 @@ std::vector<Request> requests() {
     s.source_ohm = 10e3;
     out.push_back({"chain", "gain 100 into 10k, 12 V, Zin 1M, 10k source (needs a chain)", s});
   }
+  {
+    // A preamplifier on a battery: a gain no single transistor holds over its spread, a
+    // high input impedance and a swing, so that the feedback pairs' corner passes (their
+    // quasi-static distortion sweeps) carry the search.
+    auto s = base(25, 2e3, 9, 470e3);
+    s.band_hz = std::make_pair(30.0, 15e3);
+    s.swing_vpp = 3;
+    out.push_back({"preamp", "gain 25 into 2k, 9 V, Zin 470k, 30..15k, 3 Vpp", s});
+  }
   return out;
 }
 
