@@ -56,38 +56,92 @@ struct Held {
   double ve20 = 0;  ///< Q2's emitter, held by CE3 (the same-polarity form)
 };
 
+// A value with its derivatives in u and w: nodes_at taken with these gives the residuals'
+// Jacobian exactly, in one pass (forward-mode differentiation; the values are the same
+// operations on the same numbers, so they are the double pass's to the last bit).
+struct Dual {
+  double v = 0, du = 0, dw = 0;
+  Dual() = default;
+  Dual(double x) : v(x) {}  // NOLINT: a constant, implicitly
+  Dual(double x, double a, double b) : v(x), du(a), dw(b) {}
+  Dual& operator+=(const Dual& o) {
+    v += o.v;
+    du += o.du;
+    dw += o.dw;
+    return *this;
+  }
+};
+Dual operator+(const Dual& a, const Dual& b) { return {a.v + b.v, a.du + b.du, a.dw + b.dw}; }
+Dual operator-(const Dual& a, const Dual& b) { return {a.v - b.v, a.du - b.du, a.dw - b.dw}; }
+Dual operator-(const Dual& a) { return {-a.v, -a.du, -a.dw}; }
+Dual operator*(const Dual& a, const Dual& b) { return {a.v * b.v, a.du * b.v + a.v * b.du, a.dw * b.v + a.v * b.dw}; }
+Dual operator/(const Dual& a, const Dual& b) {
+  const double q = a.v / b.v;
+  return {q, (a.du - q * b.du) / b.v, (a.dw - q * b.dw) / b.v};
+}
+Dual exp(const Dual& a) {
+  const double e = std::exp(a.v);
+  return {e, e * a.du, e * a.dw};
+}
+double value(double x) { return x; }
+double value(const Dual& x) { return x.v; }
+using std::exp;
+
+// The JFET's drain current at (VGS, VDS) (devices::jfet_eval), with its derivatives through
+// the device's own gm and gds.
+double jfet_current(const devices::JfetInstance& j, double vgs, double vds) {
+  return devices::jfet_eval(j, vgs, vds).id_a;
+}
+Dual jfet_current(const devices::JfetInstance& j, const Dual& vgs, const Dual& vds) {
+  const devices::JfetEval e = devices::jfet_eval(j, vgs.v, vds.v);
+  return {e.id_a, e.gm_s * vgs.du + e.gds_s * vds.du, e.gm_s * vgs.dw + e.gds_s * vds.dw};
+}
+
+// exp(x) with the pair's clamps: nothing past 40 VT reverse (exp() < 5e-18), and held at e^40
+// past 40 VT forward (a junction that far on is a failed solve's iterate, not an answer).
+template <class T>
+T junction_exp(const T& x) {
+  if (value(x) < -40.0) return T(0.0);
+  if (value(x) > 40.0) return T(std::exp(40.0));
+  return exp(x);
+}
+
 // Every node from (u, w), and the two residuals: KCL at Q1's common terminal and at its main
 // terminal (currents in minus currents out).
-struct Nodes {
-  double i1 = 0, ib1 = 0, ic2 = 0, ib2 = 0, vg = 0, ve = 0, vx = 0, vd = 0, vo = 0, ve2 = 0;
-  double r_e = 0, r_d = 0;
+template <class T>
+struct NodesOf {
+  T i1 = 0, ib1 = 0, ic2 = 0, ib2 = 0, vg = 0, ve = 0, vx = 0, vd = 0, vo = 0, ve2 = 0;
+  T r_e = 0, r_d = 0;
 };
+using Nodes = NodesOf<double>;
 
 // devices::bjt_eval's collector and base currents (the same equations) with each junction's
 // exponential taken once: a reverse-biased junction past 40 VT contributes exp() < 5e-18 of IS,
 // taken as 0 (its -IS stays).
+template <class T>
 struct BjtCurrents {
-  double ic = 0, ib = 0;
+  T ic = 0, ib = 0;
 };
-BjtCurrents bjt_currents(const devices::BjtInstance& q, double ebe, double vbc) {
-  const double x = vbc / q.vt_v;
-  const double ebc = x < -40.0 ? 0.0 : std::exp(std::min(x, 40.0));
-  const double ibe = q.is_a * (ebe - 1.0), ibc = q.is_a * (ebc - 1.0);
+template <class T>
+BjtCurrents<T> bjt_currents(const devices::BjtInstance& q, const T& ebe, const T& vbc) {
+  const T ebc = junction_exp(vbc / q.vt_v);
+  const T ibe = q.is_a * (ebe - 1.0), ibc = q.is_a * (ebc - 1.0);
   const double inv_vaf = (q.vaf_v > 0.0 && std::isfinite(q.vaf_v)) ? 1.0 / q.vaf_v : 0.0;
   return {(ibe - ibc) * (1.0 - vbc * inv_vaf) - ibc / q.br, ibe / q.bf + ibc / q.br};
 }
 
-Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, const Held& h) {
-  Nodes n;
-  const double ebe1 = d.jfet ? 0.0 : std::exp(u / d.b.vt_v);
-  const double ib1_fwd = d.jfet ? 0.0 : d.b.is_a * (ebe1 - 1.0) / d.b.bf;
+template <class T>
+NodesOf<T> nodes_at(const PairParts& s, const PairDevices& d, const T& u, const T& w, const Held& h) {
+  NodesOf<T> n;
+  const T ebe1 = d.jfet ? T(0.0) : exp(u / d.b.vt_v);
+  const T ib1_fwd = d.jfet ? T(0.0) : d.b.is_a * (ebe1 - 1.0) / d.b.bf;
   const double gt = s.rth() > 0 ? 1.0 / s.rth() : 0.0;
   // Q2 in an NPN's frame (the complementary form's PNP mirrored: VBE -> VEB = w). Its
   // collector current is linear in its VCB through the Early term, ic2 = ibe2 (1 + vcb k), so
   // KCL at o (and, in the same-polarity form, Q2's emitter on RE3) gives vo (and vd) by a
   // linear solve; the reverse junction's femtoamperes follow from bjt_currents.
-  const double ebe2 = std::exp(w / d.b2.vt_v);
-  const double ibe2 = d.b2.is_a * (ebe2 - 1.0);
+  const T ebe2 = exp(w / d.b2.vt_v);
+  const T ibe2 = d.b2.is_a * (ebe2 - 1.0);
   const double k = (d.b2.vaf_v > 0 && std::isfinite(d.b2.vaf_v)) ? 1.0 / d.b2.vaf_v : 0.0;
   // Q1's base current has a reverse part, IS (exp(VBC / VT) - 1) / BR: -IS / BR in the active
   // region, but a Q1 a few tenths of a volt from saturation draws a base current through its
@@ -95,7 +149,7 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
   // harmonic it makes was nine times the rest, seen). The pin's voltage and the junction's
   // bias depend on each other: Newton on the reverse part from its reverse-biased value (one
   // pass in the active region).
-  double ebc1 = 0.0, ib1_rev = d.jfet ? 0.0 : -d.b.is_a / d.b.br;
+  T ebc1 = 0.0, ib1_rev = d.jfet ? 0.0 : -d.b.is_a / d.b.br;
   for (int pass = 0; pass < 8; ++pass) {
     n.ib1 = ib1_fwd + ib1_rev;
     if (h.on) {
@@ -105,7 +159,8 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
       n.vg = s.vth() - n.ib1 * s.rth();
     }
     n.ve = n.vg - u;
-    double g = 1.0 / s.rc2 + 1.0 / s.rf, rhs = n.ve / s.rf;
+    double g = 1.0 / s.rc2 + 1.0 / s.rf;
+    T rhs = n.ve / s.rf;
     if (h.on) {
       g += 1.0 / h.rl;
       rhs += h.vo0 / h.rl;
@@ -118,10 +173,10 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
     } else if (s.same) {
       // vd = w + RE3 (ic2 + ib2), ic2 = ibe2 (1 + (vo - vd) k); at o, RC2 from the rail feeds
       // Q2's collector and RF: (g) vo + ic2 = vcc / RC2 + rhs.
-      const double a = s.re3 * ibe2 * k;
-      const double a11 = 1.0 + a, a12 = -a, b1 = w + s.re3 * ibe2 * (1.0 + 1.0 / d.b2.bf);
-      const double a21 = -ibe2 * k, a22 = g + ibe2 * k, b2 = s.vcc / s.rc2 + rhs - ibe2;
-      const double det = a11 * a22 - a12 * a21;
+      const T a = s.re3 * ibe2 * k;
+      const T a11 = 1.0 + a, a12 = -a, b1 = w + s.re3 * ibe2 * (1.0 + 1.0 / d.b2.bf);
+      const T a21 = -ibe2 * k, a22 = g + ibe2 * k, b2 = s.vcc / s.rc2 + rhs - ibe2;
+      const T det = a11 * a22 - a12 * a21;
       n.vd = (b1 * a22 - a12 * b2) / det;
       n.vo = (a11 * b2 - a21 * b1) / det;
       n.ve2 = n.vd - w;
@@ -129,34 +184,33 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
       // The rail less Q2's VEB; ic2 = a + b vo with VCB = vo - vd (mirrored), out of o's KCL.
       n.vd = s.vcc - w;
       n.ve2 = s.vcc;
-      const double a = ibe2 * (1.0 + n.vd * k), b = -ibe2 * k;
+      const T a = ibe2 * (1.0 + n.vd * k), b = -ibe2 * k;
       n.vo = (rhs + a) / (g - b);
     }
     if (d.jfet) break;
-    const double x1 = (n.vg - n.vd) / d.b.vt_v;
-    ebc1 = x1 < -40.0 ? 0.0 : std::exp(std::min(x1, 40.0));
-    const double next = d.b.is_a * (ebc1 - 1.0) / d.b.br;
+    ebc1 = junction_exp((n.vg - n.vd) / d.b.vt_v);
+    const T next = d.b.is_a * (ebc1 - 1.0) / d.b.br;
     // Newton on ib1_rev: the pin falls by r_pin per ampere of base current (the collector
     // junction's own pull on vd is second order), so `next` falls by its slope times r_pin.
     const double r_pin = h.on ? 1.0 / (gt + 1.0 / h.rs) : s.rth();
-    const double slope = d.b.is_a * ebc1 / (d.b.br * d.b.vt_v) * r_pin;
-    const double step = (next - ib1_rev) / (1.0 + slope);
+    const T slope = d.b.is_a * ebc1 / (d.b.br * d.b.vt_v) * r_pin;
+    const T step = (next - ib1_rev) / (1.0 + slope);
     ib1_rev += step;
-    if (std::abs(step) * (r_pin + 1.0) < 1e-13) break;
+    if (std::abs(value(step)) * (r_pin + 1.0) < 1e-13) break;
   }
   n.ib1 = ib1_fwd + ib1_rev;
   if (d.jfet) {
-    n.i1 = devices::jfet_eval(d.j, u, n.vd - n.ve).id_a;
+    n.i1 = jfet_current(d.j, u, n.vd - n.ve);
   } else {
     // devices::bjt_eval's collector current with both exponentials at hand.
-    const double ibe = d.b.is_a * (ebe1 - 1.0), ibc = d.b.is_a * (ebc1 - 1.0);
+    const T ibe = d.b.is_a * (ebe1 - 1.0), ibc = d.b.is_a * (ebc1 - 1.0);
     const double inv_vaf = (d.b.vaf_v > 0.0 && std::isfinite(d.b.vaf_v)) ? 1.0 / d.b.vaf_v : 0.0;
     n.i1 = (ibe - ibc) * (1.0 - (n.vg - n.vd) * inv_vaf) - ibc / d.b.br;
   }
-  const BjtCurrents q2 = bjt_currents(d.b2, ebe2, s.same ? n.vd - n.vo : n.vo - n.vd);
+  const BjtCurrents<T> q2 = bjt_currents(d.b2, ebe2, s.same ? n.vd - n.vo : n.vo - n.vd);
   n.ic2 = q2.ic;
   n.ib2 = q2.ib;
-  double leg;
+  T leg;
   if (h.on && s.bypassed()) {
     n.vx = h.vx0;
     leg = (n.ve - n.vx) / s.re1;
@@ -171,9 +225,9 @@ Nodes nodes_at(const PairParts& s, const PairDevices& d, double u, double w, con
   return n;
 }
 
-// Newton on (u, w) from (u0, w0); the Jacobian by differences (the residuals are cheap), kept
-// once the steps are below a tenth of a millivolt (the chord method: the last steps converge
-// as fast and cost a third).
+// Newton on (u, w) from (u0, w0); the Jacobian exact (nodes_at on Dual), kept once the steps
+// are below a tenth of a millivolt (the chord method: the last steps converge as fast, each
+// the residuals alone).
 //
 // A pair with no point where both devices work (Q1 driven into saturation, its collector
 // junction's current clamped at e^40) can hold the damped steps in a cycle of two, back and
@@ -189,18 +243,23 @@ bool solve_nodes(const PairParts& s, const PairDevices& d, const Held& h, double
   double u_back[2] = {kNone, kNone}, w_back[2] = {kNone, kNone};  // the points one and two steps back
   int fresh_run = 0;                                              // steps in a row with a fresh Jacobian
   for (int it = 0; it < 80; ++it) {
-    const Nodes n = nodes_at(s, d, u, w, h);
+    double r_e = 0, r_d = 0;
     if (fresh) {
-      const double hs = 1e-7;
-      const Nodes nu = nodes_at(s, d, u + hs, w, h), nw = nodes_at(s, d, u, w + hs, h);
-      a = (nu.r_e - n.r_e) / hs;
-      b = (nw.r_e - n.r_e) / hs;
-      c = (nu.r_d - n.r_d) / hs;
-      e = (nw.r_d - n.r_d) / hs;
+      const NodesOf<Dual> n = nodes_at(s, d, Dual(u, 1.0, 0.0), Dual(w, 0.0, 1.0), h);
+      r_e = n.r_e.v;
+      r_d = n.r_d.v;
+      a = n.r_e.du;
+      b = n.r_e.dw;
+      c = n.r_d.du;
+      e = n.r_d.dw;
+    } else {
+      const Nodes n = nodes_at(s, d, u, w, h);
+      r_e = n.r_e;
+      r_d = n.r_d;
     }
     const double det = a * e - b * c;
     if (!(std::abs(det) > 0) || !std::isfinite(det)) return false;
-    double du = (n.r_e * e - b * n.r_d) / det, dw = (a * n.r_d - c * n.r_e) / det;
+    double du = (r_e * e - b * r_d) / det, dw = (a * r_d - c * r_e) / det;
     const double k = std::max({std::abs(du) / 0.05, std::abs(dw) / 0.05, 1.0});
     du /= k;
     dw /= k;
