@@ -87,15 +87,17 @@ Directions directions(const Candidate& c, const stages::Transistor& q, const sta
 struct PartSet {
   Signs way{};
   stages::Detail detail = stages::Detail::core;
+  bool distortion = true;  ///< (the search's depth) pushed for a figure the distortion decides
 };
 
-void add_set(std::vector<PartSet>& sets, const Signs& way, stages::Detail detail) {
+void add_set(std::vector<PartSet>& sets, const Signs& way, stages::Detail detail, bool distortion = true) {
   for (auto& s : sets)
     if (s.way == way) {
       s.detail = std::max(s.detail, detail);
+      s.distortion = s.distortion || distortion;
       return;
     }
-  sets.push_back({way, detail});
+  sets.push_back({way, detail, distortion});
 }
 
 // The sets for one piece: nominal parts first, then each push (the full depth: every figure
@@ -118,7 +120,7 @@ std::vector<PartSet> part_sets(const Directions& d, Depth depth) {
     stages::Detail detail = stages::Detail::core;
     if (full) detail = (p.figure == kLossLo || p.figure == kLossHi) ? stages::Detail::full : stages::Detail::stress;
     if (!full && p.figure == kBias) detail = stages::Detail::stress;
-    add_set(sets, way, detail);
+    add_set(sets, way, detail, full || p.figure == kSwing || p.figure == kThd);
   }
   return sets;
 }
@@ -274,7 +276,10 @@ std::string in_band_shares(const Candidate& c, const Spec& spec, const StageSpre
 //     Depth::search: signs taken once, at the nominal piece, for the figures that decide
 //     whether the stage holds and how it scores (gain both ways, bias current both ways, the
 //     smallest swing, the largest supply current, the smallest input impedance, the largest
-//     band-edge losses and distortion). Depth::full (the candidates shown): signs taken at
+//     band-edge losses and distortion; the distortion, a feedback pair's costliest part by far
+//     (a quasi-static sweep), is worked out on the nominal set and on the sets pushed for the
+//     swing and the distortion, the figures it decides: the other sets read the swing to
+//     clipping). Depth::full (the designs shown, a chain shown stage by stage): signs taken at
 //     every piece, for every figure both ways: gain, bias and supply current, swing, Zin, Zout,
 //     the three node voltages, both band-edge losses and the distortion. Without a band, the losses are taken at the
 //     nominal -3 dB points, so that the sets pushed for them range the corners.
@@ -326,8 +331,8 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
       const stages::Transistor q = make_transistor(spread, f, temp);
       for (double vs : supplies) {
         stages::Conditions cond = conditions(spec, vs, temp);
-        cond.distortion = distortion;
         for (const PartSet& set : sets) {
+          cond.distortion = distortion && set.distortion;
           const auto p = t.evaluate(values_of(c, set.way), q, cond, set.detail);
           ++evaluations;
           ++w.evaluations;
