@@ -754,7 +754,11 @@ std::vector<Candidate> finish_top(const Ranked& ranked, const Spec& spec, const 
   while (static_cast<int>(shown.size()) < spec.top && more) {
     const std::size_t want = static_cast<std::size_t>(spec.top) - shown.size();
     std::vector<Candidate*> batch;
-    for (std::size_t k = next; batch.size() < std::max(want, cores); ++k) {
+    // The look past a batch's variants stops within a few batches' length: each candidate
+    // looked at is assessed to be handed out, and a variant of one that is then shown would
+    // have been passed over unassessed.
+    const std::size_t batch_size = std::max(want, cores);
+    for (std::size_t k = next; batch.size() < batch_size && k < next + 4 * batch_size; ++k) {
       Candidate* c = ranked(k, variant_of_shown);
       if (!c) break;
       if (finished.count(c) || variant_of_shown(*c)) continue;
