@@ -146,13 +146,15 @@ class StockMaker {
   int bin_ = 0;
 };
 
-// Resistor lines until the stock holds `lines` lines, by distribution:
+// Resistor lines until the stock holds `lines` lines, by distribution (one seed per
+// distribution, whatever the size: a stock is the first lines of every larger one of its
+// distribution, so that a row's change with the size is the size's and not another draw's):
 //  eseries: E24 5 % then E96 1 % values over six decades from 10 ohm, round-robin by decade,
 //           then the same values again in further bins;
 //  random:  log-uniform 1 % values 10 ohm..10M (no two alike), a few pieces each;
 //  hobby:   E12 5 % values 10 ohm..10M with gaps, in small bags, many duplicated across bins.
 synth::Inventory make_stock(const std::string& dist, std::size_t lines) {
-  StockMaker m(static_cast<unsigned>(lines * 7 + dist.size()));
+  StockMaker m(static_cast<unsigned>(7 + 1000 * dist.size()));
   m.capacitors();
   m.devices();
   const auto& e96 = units::eseries(96);
