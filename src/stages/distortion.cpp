@@ -1,6 +1,8 @@
 // Harmonic distortion by power series of the device law on the mid-band network.
 #include "distortion.hpp"
 
+#include "roots.hpp"
+
 #include <cmath>
 #include <limits>
 #include <utility>
@@ -240,24 +242,10 @@ double Transfer::level_for(double bound, double max_level) const {
     f_lo = excess(lo);
   }
   if (f_lo > 0) return 0.0;
-  double x_lo = std::log(lo), x_hi = std::log(hi);
-  int side = 0;
-  for (int i = 0; i < 60 && x_hi - x_lo > 1e-7; ++i) {
-    const double x = (x_lo * f_hi - x_hi * f_lo) / (f_hi - f_lo);
-    const double f = excess(std::exp(x));
-    if (f > 0) {
-      x_hi = x;
-      f_hi = f;
-      if (side == 1) f_lo *= 0.5;
-      side = 1;
-    } else {
-      x_lo = x;
-      f_lo = f;
-      if (side == -1) f_hi *= 0.5;
-      side = -1;
-    }
-  }
-  return std::min(max_level, std::abs(harmonics_at_input(std::exp(x_lo))[1]));
+  detail::Bracket b{std::log(lo), f_lo, std::log(hi), f_hi};
+  detail::illinois(
+      b, [&](double x) { return excess(std::exp(x)); }, 1e-7, 60);
+  return std::min(max_level, std::abs(harmonics_at_input(std::exp(b.lo))[1]));
 }
 
 }  // namespace shelfstage::stages

@@ -1,6 +1,8 @@
 // The closed form of an op-amp gain stage (opamp_core.hpp).
 #include "opamp_core.hpp"
 
+#include "roots.hpp"
+
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -78,27 +80,10 @@ OpampMargin opamp_margin(const OpampCircuit& s, const devices::OpampInstance& q)
     m_hi = mag(hi);
   }
   if (hi >= 1e13) return m;
-  auto excess = [&](double x) { return std::log(mag(std::exp(x))); };
-  double x_lo = std::log(lo), x_hi = std::log(hi);
-  double g_lo = std::log(m_lo), g_hi = std::log(m_hi);
-  int side = 0;
-  for (int i = 0; i < 200 && x_hi - x_lo > 1e-11; ++i) {
-    double x = i % 4 == 3 || !(g_lo > g_hi) ? 0.5 * (x_lo + x_hi) : (x_lo * g_hi - x_hi * g_lo) / (g_hi - g_lo);
-    if (!(x > x_lo && x < x_hi)) x = 0.5 * (x_lo + x_hi);
-    const double g = excess(x);
-    if (g > 0) {
-      x_lo = x;
-      g_lo = g;
-      if (side == -1) g_hi *= 0.5;
-      side = -1;
-    } else {
-      x_hi = x;
-      g_hi = g;
-      if (side == 1) g_lo *= 0.5;
-      side = 1;
-    }
-  }
-  m.f_cross_hz = std::exp(0.5 * (x_lo + x_hi));
+  Bracket b{std::log(lo), std::log(m_lo), std::log(hi), std::log(m_hi)};
+  illinois(
+      b, [&](double x) { return std::log(mag(std::exp(x))); }, 1e-11, 200, 4);
+  m.f_cross_hz = std::exp(0.5 * (b.lo + b.hi));
   // The phase unwrapped, pole by pole (each lags 0..90 degrees; the output divider too).
   const double w = two_pi * m.f_cross_hz;
   double phase = -std::atan(w / (two_pi * q.pole1_hz()));
