@@ -530,8 +530,10 @@ struct Sweep {
   const PairBias& b;
   Held h;
   double du = 0, dw = 0;  ///< u and w per volt of the source on the mid-band solution's line
-  Sweep(const PairParts& s_, const PairDevices& d_, const PairBias& b_, const Conditions& c, const RVec& x)
-      : s(s_), d(d_), b(b_) {
+  Sweep(const PairParts& s_, const PairDevices& d_, const PairBias& b_, const Conditions& c, const RVec& x,
+        bool predict_ = false)
+      : s(s_), d(d_), b(b_), predict(predict_) {
+    if (predict) known.push_back({0.0, b.u, b.w});
     h.on = true;
     h.rs = c.source_ohm > 0 ? c.source_ohm : 1e-3;
     h.vg0 = b.vg;
@@ -546,7 +548,7 @@ struct Sweep {
   }
   /// With `predict`, the points solved so far: the source's deviation, u and w (the bias
   /// point at none).
-  bool predict = false;
+  bool predict;
   std::vector<std::array<double, 3>> known;
   /// The nodes at the source's deviation delta (false: no solution). Newton starts on the
   /// mid-band line; with `predict` (the distortion's sweep, inside the linear range), where
@@ -583,9 +585,7 @@ struct Sweep {
       }
     }
     if (!solve_nodes(s, d, h, u, w, nd)) return false;
-    if (!predict) return true;
-    if (known.empty()) known.push_back({0.0, b.u, b.w});
-    if (std::none_of(known.begin(), known.end(), [&](const auto& k) { return k[0] == delta; }))
+    if (predict && std::none_of(known.begin(), known.end(), [&](const auto& k) { return k[0] == delta; }))
       known.push_back({delta, u, w});
     return true;
   }
@@ -633,8 +633,7 @@ Transfer static_transfer(const PairParts& s, const PairDevices& d, const PairBia
                          const RVec& x) {
   Transfer t;
   if (!(a > 0)) return t;
-  Sweep sw(s, d, b, c, x);
-  sw.predict = true;
+  Sweep sw(s, d, b, c, x, true);
   bool ok = true;
   auto out = [&](double delta) {  // the output's deviation for the source's
     Nodes nd;
