@@ -827,7 +827,7 @@ Values pair_capacitors(const Values& v, const Transistor& q, const Conditions& c
   return t;
 }
 
-double input_divider_ohm(const Values& v) { return v[kTop] > 0 ? par(v[kTop], v[kBottom]) : v[kBottom]; }
+double input_divider_ohm(const Values& v) { return divider_ohm(v[kTop], v[kBottom]); }
 
 double nearest_one(const ValueSource& shelf, double target) {
   std::vector<double> found;

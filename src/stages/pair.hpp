@@ -71,6 +71,9 @@ constexpr Role pair_cf_role(std::string_view common) {
           {22, 12, false, 'a'}};
 }
 
+/// A control pin's divider to ground: TOP || BOTTOM, or BOTTOM alone without TOP (top 0).
+inline double divider_ohm(double top, double bottom) { return top > 0 ? par(top, bottom) : bottom; }
+
 /// The pair's parts (ohms, farads) in the N frame; 0: absent (top, leg2, bypass only).
 struct PairParts {
   bool same = false;           ///< the same-polarity form (Q2's emitter on RE3, RC2 to the rail)
@@ -83,7 +86,7 @@ struct PairParts {
   double ce3 = 0;  ///< ... and its bypass (0: none)
   bool bypassed3() const { return same && re3 > 0 && ce3 > 0; }
   double vth() const { return top > 0 ? vcc * bottom / (top + bottom) : 0.0; }  ///< the divider's Thevenin volts
-  double rth() const { return top > 0 ? par(top, bottom) : bottom; }            ///< ... and ohms
+  double rth() const { return divider_ohm(top, bottom); }                       ///< ... and ohms
   bool bypassed() const { return re2 > 0 && ce > 0; }
 };
 PairParts pair_parts(const Values& v, double vcc, bool same);
