@@ -103,7 +103,8 @@ int run_command(CLI::App& app, Context& ctx, int argc, const char* const* argv) 
   try {
     // CLI11 reads `--db=` as `--db` alone and takes the next word for its value, so that
     // `--db= stock list` would look for the command `list`: say what is wrong instead.
-    for (int i = 1; i < argc; ++i) {
+    // (Past `--` every word is a positional, a file name such as `-hum.csv` included.)
+    for (int i = 1; i < argc && std::string_view(argv[i]) != "--"; ++i) {
       const std::string_view arg = argv[i];
       if (arg.size() > 3 && arg.starts_with("--") && arg.ends_with('=') && arg.find('=') == arg.size() - 1)
         throw CLI::ValidationError(std::string(arg.substr(0, arg.size() - 1)),

@@ -67,6 +67,18 @@ TEST_CASE("--version and --help take no value: `--version=1` under --json is an 
   CHECK(h.out.find("Usage") != std::string::npos);
 }
 
+TEST_CASE("past `--` a word is a positional, whatever it starts with") {
+  // The pre-scan for `-hx` and `--db=` stops at `--`, as CLI11's parse does: a file named
+  // `-hum.csv` is looked for, not refused as a misspelt -h.
+  const auto r = run({"stock", "import", "--", "-hum.csv"});
+  CHECK(r.status == 1);
+  CHECK(r.out.empty());
+  CHECK(r.err.find("cannot read '-hum.csv'") != std::string::npos);
+  CHECK(r.err.find("takes no value") == std::string::npos);
+  // Before `--` it is still the error it was.
+  CHECK(run({"stock", "import", "-hum.csv"}).err.find("takes no value") != std::string::npos);
+}
+
 TEST_CASE("usage errors: exit 1 and one `error:` line on stderr (docs/interface.md)") {
   for (const auto& args : std::vector<std::vector<std::string>>{
            {}, {"frobnicate"}, {"stock"}, {"stock", "add", "R", "4k7"}, {"stock", "list", "--colour"}}) {
