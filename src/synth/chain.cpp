@@ -58,6 +58,13 @@ constexpr std::size_t kToCorners = 60, kToExact = 12;
 /// Paths whose last gain stage is redesigned for the exact gain left to it.
 constexpr std::size_t kRefine = 6;
 
+/// Conditions for the figures the graph and the refinements read (gain, impedances, the
+/// band's losses): the distortion, which moves none of them, left out.
+stages::Conditions small_signal(stages::Conditions c) {
+  c.distortion = false;
+  return c;
+}
+
 std::vector<Plan> plans_for(const Spec& spec) {
   using enum Slot;
   const std::vector<Plan> all = {{buffer, gain},       {gain, buffer},         {gain, gain},
@@ -241,6 +248,7 @@ class ChainSearch {
   /// The last stage's band-edge losses into the load.
   double last_loss(const Candidate& c) {
     stages::Conditions cc = c.conditions;
+    cc.distortion = false;  // (small-signal figures only, here and below)
     cc.band_lo_hz = band_lo_;
     cc.band_hi_hz = band_hi_;
     const auto p = c.topology->evaluate(c.values, c.nominal_device, cc);
@@ -351,6 +359,7 @@ class ChainSearch {
     if (!(zin >= 2.0 * a.nominal.zout_ohm)) return std::nullopt;
     if (!link_polarity_ok(a, b)) return std::nullopt;
     stages::Conditions ca = a.conditions;
+    ca.distortion = false;
     ca.load_ohm = zin;
     ca.band_lo_hz = band_lo_;
     ca.band_hi_hz = band_hi_;
@@ -511,7 +520,7 @@ class ChainSearch {
     const std::size_t n = p.stages.size();
     std::vector<stages::ChainStage> list;
     for (const Candidate* c : p.stages) list.push_back(synth::chain_stage(*c));
-    const stages::Conditions cond = conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c());
+    const stages::Conditions cond = small_signal(conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c()));
     const stages::ChainPerformance cp = stages::evaluate_chain(list, cond, stages::Detail::core);
     const double others = std::abs(cp.whole.gain / cp.each[r].gain);
     if (!(others > 0) || !std::isfinite(others)) return std::nullopt;
@@ -538,7 +547,7 @@ class ChainSearch {
     const std::size_t n = j.path.stages.size(), r = j.stage;
     std::vector<stages::ChainStage> list;
     for (const Candidate* c : j.path.stages) list.push_back(chain_stage(*c));
-    const stages::Conditions cond = conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c());
+    const stages::Conditions cond = small_signal(conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c()));
     std::vector<Path> out;
     for (const Candidate& c : made) {
       Path q = j.path;
