@@ -251,7 +251,8 @@ void whole_chain_worst(Backward& acc, const ChainPass& pass) {
   w.zout = pass.ch.stages.back().worst.zout;
 }
 
-// NOTES 3: the last stage's output impedance fed from the previous stage's at both ends.
+// NOTES 3: the last stage's output impedance fed from the previous stage's at both ends (the
+// distortion left out: it moves no impedance).
 std::string fed_zout(ChainPass& pass, Range& zout) {
   const std::size_t n = pass.ch.stages.size();
   const Candidate& last = pass.ch.stages.back();
@@ -265,7 +266,7 @@ std::string fed_zout(ChainPass& pass, Range& zout) {
   for (double z : {zprev.min, zprev.max}) {
     Candidate fed = last;
     plain.source_ohm = z;
-    if (const std::string v = evaluate_worst(fed, plain, pass.evaluations, Depth::full); !v.empty())
+    if (const std::string v = evaluate_worst(fed, plain, pass.evaluations, Depth::full, false); !v.empty())
       return fmt::format("{}: stage {} fed from stage {}", v, n, n - 1);
     zout.add(fed.worst.zout.min);
     zout.add(fed.worst.zout.max);

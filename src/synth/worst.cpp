@@ -293,12 +293,12 @@ std::string in_band_shares(const Candidate& c, const Spec& spec, const StageSpre
 //     read from the widened gain range.
 //  7. With a load capacitance (Depth::full), the gain range also takes the exact solver's
 //     in-band gain (in_band_shares above).
-std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth) {
+std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth, bool wanted) {
   const auto& t = *c.topology;
   const StageSpread spread = spread_of(c);
   const double t_nom = spec.temp_nominal_c();
   // The search's pass works out the distortion only when the request bounds or ranks by it.
-  const bool distortion = depth == Depth::full || spec.swing_vpp || spec.prefer == Spec::Prefer::distortion;
+  const bool distortion = wanted && (depth == Depth::full || spec.swing_vpp || spec.prefer == Spec::Prefer::distortion);
   stages::Conditions nom_cond = conditions(spec, spec.supply_nominal_v(), t_nom);
   nom_cond.distortion = distortion;
   // Without a band the losses are probed at the nominal -3 dB points (NOTES 2).
