@@ -16,19 +16,22 @@
 //     twice the first's output impedance (common practice: Zout well under the next Zin, at
 //     least a half) (N and P stages mix on the one rail). The edge carries the loading: the
 //     first stage's gain evaluated into the second's input impedance.
-//  4. Every path through the graph is a chain; its gain is the product along the path. The
-//     paths nearest the requested gain are drawn on one quantity pool (every stage, every
-//     copy, the transistors too), evaluated whole (each stage into the next, fast), then at
-//     their corners stage by stage (each stage's worst case in the conditions the chain puts
-//     it in; the chain's gain range is the product of the stages' ranges, the pieces being
-//     independent), and the best are solved whole by the exact solver, which gives the
-//     figures shown.
+//  4. Every path through the graph is a chain; its gain is the product along the path. Each
+//     path's score is foreseen from its stages' pools (foresee: the path's gain with each
+//     stage's worst-case spread as its pool found it). In that order, the paths are drawn on
+//     one quantity pool (every stage, every copy, the transistors too), evaluated whole (each
+//     stage into the next, fast), then at their corners stage by stage (each stage's worst
+//     case in the conditions the chain puts it in; the chain's gain range is the product of
+//     the stages' ranges, the pieces being independent), until the forecasts pass the score
+//     of the kToExact-th best chain assessed (with room for the forecast's error); the best
+//     are solved whole by the exact solver, which gives the figures shown.
 #include <algorithm>
 #include <boost/graph/adjacency_list.hpp>
 #include <cmath>
 #include <fmt/format.h>
 #include <map>
 #include <optional>
+#include <limits>
 #include <set>
 #include <atomic>
 #include <thread>
@@ -57,6 +60,9 @@ constexpr int kPoolTop = 8;
 constexpr std::size_t kToCorners = 60, kToExact = 12;
 /// Paths whose last gain stage is redesigned for the exact gain left to it.
 constexpr std::size_t kRefine = 6;
+/// How far a chain's score may come out below its forecast (foresee) and still be worth its
+/// corner pass: a share of the bar and points besides.
+constexpr struct { double share, points; } kForesightRoom = {0.05, 3.0};
 
 /// Conditions for the figures the graph and the refinements read (gain, impedances, the
 /// band's losses): the distortion, which moves none of them, left out.
@@ -95,8 +101,36 @@ using Graph = boost::adjacency_list<boost::vecS, boost::vecS, boost::directedS, 
 /// A chain found in the graph, before its corner pass.
 struct Path {
   std::vector<const Candidate*> stages;
-  double rank = 0;  ///< |gain error| and pieces, for the order of the corner pass
+  double rank = 0;      ///< |gain error| and pieces, for the refinements' choice
+  double foreseen = 0;  ///< the score foreseen from the stages' pools (foresee), for the corner pass
 };
+
+/// A chain's score foreseen before its corner pass: its gain along the path (each stage into
+/// the next) with each stage's worst-case gain range in its pool as a share of the stage's
+/// nominal gain there, the shares multiplied as the corner pass multiplies the stages' ranges
+/// (the chain puts a stage in other conditions than its pool's, so this is a forecast, not a
+/// bound); the pieces and the stage points as score_of and rescore count them.
+double foresee(const std::vector<const Candidate*>& stages, double gain, const Spec& spec) {
+  double lo = 1.0, hi = 1.0, thd = 0.0;
+  int pieces = 0;
+  for (const Candidate* c : stages) {
+    const double g = std::abs(c->nominal.gain);
+    if (g > 0 && !c->worst.gain.empty) {
+      const double a = std::abs(c->worst.gain.min), b = std::abs(c->worst.gain.max);
+      lo *= std::min(a, b) / g;
+      hi *= std::max(a, b) / g;
+    }
+    if (!c->worst.thd.empty) thd += c->worst.thd.max;
+    pieces += c->pieces;
+  }
+  const double g = std::abs(gain) / spec.gain;
+  const double nominal = std::abs(g - 1.0);
+  const double worst = std::max({nominal, std::abs(g * lo - 1.0), std::abs(g * hi - 1.0)});
+  double s =
+      100.0 * (0.5 * nominal + worst) + kPiecePoints * pieces + kStagePoints * static_cast<double>(stages.size() - 1);
+  if (spec.prefer == Spec::Prefer::distortion) s += 1000.0 * thd;
+  return s;
+}
 
 class ChainSearch {
  public:
@@ -113,7 +147,7 @@ class ChainSearch {
   std::vector<Candidate> run() {
     // Fewer stages first: when a chain of two holds the gain window at every corner, a chain
     // of three is not searched (it would need to be far better to pay for its stage).
-    std::vector<Candidate> out;
+    std::vector<Candidate>& out = found_;
     std::size_t depth = 0;
     for (const Plan& plan : plans_for(spec_)) {
       if (plan.size() != depth) {
@@ -125,7 +159,7 @@ class ChainSearch {
       for (auto& c : search_plan(plan)) out.push_back(std::move(c));
     }
     std::stable_sort(out.begin(), out.end(), [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
-    return out;
+    return std::move(out);
   }
 
  private:
@@ -279,7 +313,7 @@ class ChainSearch {
     build_graph(pg);
     std::vector<Path> paths = all_paths(pg);
     refine(paths, plan);
-    std::vector<Candidate> assessed = corner_pass(linked_chains(paths));
+    std::vector<Candidate> assessed = corner_pass(paths);
     return solve_best(assessed);
   }
 
@@ -407,10 +441,10 @@ class ChainSearch {
         if (err <= std::max(0.25, 2 * spec_.gain_tol) && loss + last_loss(*c) <= 1.0 && thd <= spec_.max_thd) {
           int pieces = 0;
           for (const Candidate* s : stack) pieces += s->pieces;
-          // With a swing asked, paths with THD to spare go first (only kToCorners reach the
-          // corner pass, where THD grows): a tenth of the bound costs a point.
-          paths.push_back(
-              {stack, 100.0 * err + kPiecePoints * pieces + (thd_counts ? 10.0 * thd / spec_.max_thd : 0.0)});
+          // With a swing asked, paths with THD to spare are refined first (the corner pass
+          // adds to the THD): a tenth of the bound costs a point.
+          paths.push_back({stack, 100.0 * err + kPiecePoints * pieces + (thd_counts ? 10.0 * thd / spec_.max_thd : 0.0),
+                           foresee(stack, total, spec_)});
         }
       } else {
         for (auto [e, end] = boost::out_edges(v, g); e != end; ++e)
@@ -437,36 +471,64 @@ class ChainSearch {
     std::stable_sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
   }
 
-  /// The best paths (up to kToCorners) joined into chains that the quantity pool holds.
-  std::vector<Candidate> linked_chains(const std::vector<Path>& paths) {
-    std::vector<Candidate> linked;
-    for (const Path& path : paths) {
-      if (linked.size() >= kToCorners) break;
-      Candidate ch = link(path);
-      unpolarise_links(ch);
-      if (!pool_ok(ch)) {
-        ++tally_.failures["stock"];
+  /// The score a chain must foresee to be worth its corner pass: none while fewer than
+  /// kToExact distinct chains have been assessed (this plan's, and those earlier plans kept);
+  /// then the kToExact-th best score, with room for the forecast's error (kForesightRoom).
+  double bar(const std::vector<Candidate>& assessed) const {
+    std::vector<const Candidate*> all;
+    for (const auto* v : {&assessed, &found_})
+      for (const Candidate& c : *v) all.push_back(&c);
+    std::stable_sort(all.begin(), all.end(),
+                     [](const Candidate* a, const Candidate* b) { return a->score < b->score; });
+    std::vector<const Candidate*> distinct;
+    for (const Candidate* c : all) {
+      if (std::any_of(distinct.begin(), distinct.end(), [&](const Candidate* d) { return is_variant(*d, *c); }))
         continue;
-      }
-      linked.push_back(std::move(ch));
+      distinct.push_back(c);
+      if (distinct.size() == kToExact)
+        return distinct.back()->score * (1.0 + kForesightRoom.share) + kForesightRoom.points;
     }
-    return linked;
+    return std::numeric_limits<double>::infinity();
   }
 
-  /// The corner passes on every core; what they found is tallied after. The chains that
+  /// The corner passes (on every core, a batch at a time) over the paths in the order of their
+  /// foreseen scores, each joined into a chain the quantity pool holds, up to kToCorners
+  /// chains; the pass stops at the first path foreseen past the bar (bar()). The chains that
   /// hold, best first.
-  std::vector<Candidate> corner_pass(std::vector<Candidate> linked) {
-    std::vector<std::string> failed(linked.size());
-    std::vector<long> evals(linked.size(), 0);
-    parallel_for(linked.size(),
-                 [&](std::size_t i) { failed[i] = chain_corners(linked[i], spec_, evals[i], Depth::search); });
+  std::vector<Candidate> corner_pass(std::vector<Path>& paths) {
+    std::stable_sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.foreseen < b.foreseen; });
+    const std::size_t batch_size = 4 * std::max(1u, std::thread::hardware_concurrency());
     std::vector<Candidate> assessed;
-    for (std::size_t i = 0; i < linked.size(); ++i) {
-      tally_.evaluations += evals[i];
-      if (failed[i].empty())
-        assessed.push_back(std::move(linked[i]));
-      else
-        tally_.note_corner_failure(failed[i]);
+    std::size_t next = 0, linked = 0;
+    bool past = false;
+    while (!past && linked < kToCorners && next < paths.size()) {
+      const double limit = bar(assessed);
+      std::vector<Candidate> batch;
+      for (; next < paths.size() && batch.size() < batch_size && linked < kToCorners; ++next) {
+        if (paths[next].foreseen > limit) {
+          past = true;
+          break;
+        }
+        Candidate ch = link(paths[next]);
+        unpolarise_links(ch);
+        if (!pool_ok(ch)) {
+          ++tally_.failures["stock"];
+          continue;
+        }
+        batch.push_back(std::move(ch));
+        ++linked;
+      }
+      std::vector<std::string> failed(batch.size());
+      std::vector<long> evals(batch.size(), 0);
+      parallel_for(batch.size(),
+                   [&](std::size_t i) { failed[i] = chain_corners(batch[i], spec_, evals[i], Depth::search); });
+      for (std::size_t i = 0; i < batch.size(); ++i) {
+        tally_.evaluations += evals[i];
+        if (failed[i].empty())
+          assessed.push_back(std::move(batch[i]));
+        else
+          tally_.note_corner_failure(failed[i]);
+      }
     }
     std::stable_sort(assessed.begin(), assessed.end(),
                      [](const Candidate& a, const Candidate& b) { return a.score < b.score; });
@@ -562,6 +624,7 @@ class ChainSearch {
       int pieces = 0;
       for (const Candidate* st : q.stages) pieces += st->pieces;
       q.rank = 100.0 * err + kPiecePoints * pieces;
+      q.foreseen = foresee(q.stages, whole.gain, spec_);
       out.push_back(std::move(q));
     }
     return out;
@@ -677,6 +740,7 @@ class ChainSearch {
   std::map<std::string, int> stocked_;  ///< device units by name (stocked_units)
   double band_lo_ = 0, band_hi_ = 0;
   std::map<std::string, std::vector<Candidate>> pools_;
+  std::vector<Candidate> found_;  ///< the chains the plans searched so far keep, best first
 };
 
 }  // namespace
