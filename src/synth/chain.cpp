@@ -134,8 +134,8 @@ double foresee(const std::vector<const Candidate*>& stages, double gain, const S
 
 class ChainSearch {
  public:
-  ChainSearch(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally)
-      : spec_(spec), inv_(inv), shelf_(shelf), tally_(tally) {
+  ChainSearch(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally, double ceiling)
+      : spec_(spec), inv_(inv), shelf_(shelf), tally_(tally), ceiling_(ceiling) {
     stocked_ = stocked_units(inv);
     // The links are judged at the frequency the capacitors are sized for (the band's low edge,
     // else 20 Hz): a stage's coupling into the next stage's real input impedance must still
@@ -471,10 +471,11 @@ class ChainSearch {
     std::stable_sort(paths.begin(), paths.end(), [](const Path& a, const Path& b) { return a.rank < b.rank; });
   }
 
-  /// The score a chain must foresee to be worth its corner pass: none while fewer than
-  /// kToExact distinct chains have been assessed (this plan's, and those earlier plans kept);
-  /// then the kToExact-th best score, with room for the forecast's error (kForesightRoom).
+  /// The score a chain must foresee to be worth its corner pass: the ceiling, or the
+  /// kToExact-th best score of the distinct chains assessed (this plan's, and those earlier
+  /// plans kept) when lower, with room for the forecast's error (kForesightRoom).
   double bar(const std::vector<Candidate>& assessed) const {
+    const auto room = [](double score) { return score * (1.0 + kForesightRoom.share) + kForesightRoom.points; };
     std::vector<const Candidate*> all;
     for (const auto* v : {&assessed, &found_})
       for (const Candidate& c : *v) all.push_back(&c);
@@ -485,10 +486,9 @@ class ChainSearch {
       if (std::any_of(distinct.begin(), distinct.end(), [&](const Candidate* d) { return is_variant(*d, *c); }))
         continue;
       distinct.push_back(c);
-      if (distinct.size() == kToExact)
-        return distinct.back()->score * (1.0 + kForesightRoom.share) + kForesightRoom.points;
+      if (distinct.size() == kToExact) return room(std::min(c->score, ceiling_));
     }
-    return std::numeric_limits<double>::infinity();
+    return room(ceiling_);
   }
 
   /// The corner passes (on every core, a batch at a time) over the paths in the order of their
@@ -737,6 +737,7 @@ class ChainSearch {
   const Inventory& inv_;
   const Shelf& shelf_;
   SearchStats& tally_;
+  double ceiling_;                      ///< design_chains' ceiling
   std::map<std::string, int> stocked_;  ///< device units by name (stocked_units)
   double band_lo_ = 0, band_hi_ = 0;
   std::map<std::string, std::vector<Candidate>> pools_;
@@ -745,9 +746,10 @@ class ChainSearch {
 
 }  // namespace
 
-std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally) {
+std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally,
+                                     double ceiling) {
   if (spec.stages_max < 2 || spec.piece) return {};
-  ChainSearch search(spec, inv, shelf, tally);
+  ChainSearch search(spec, inv, shelf, tally, ceiling);
   return search.run();
 }
 

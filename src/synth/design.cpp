@@ -855,7 +855,13 @@ std::vector<Candidate> search_designs(const Run& run) {
       std::any_of(out.begin(), out.end(), [&](const Candidate& c) { return c.error_worst <= spec.gain_tol; });
   if (spec.stages_max >= 2 && !spec.piece && !single_meets) {
     if (run.progress) run.progress(0, 1, "chains");
-    std::vector<Candidate> chains = detail::design_chains(spec, run.inv, run.shelf, run.tally);
+    // With the list full of single stages, a chain past the last of them is not shown: its
+    // finishing (the full worst case, which only adds to the score: more points, every
+    // piece's own directions) is spared, with a point of room.
+    const double ceiling =
+        static_cast<int>(out.size()) >= spec.top ? out.back().score : std::numeric_limits<double>::infinity();
+    std::vector<Candidate> chains = detail::design_chains(spec, run.inv, run.shelf, run.tally, ceiling);
+    std::erase_if(chains, [&](const Candidate& c) { return c.score > ceiling + 1.0; });
     std::vector<std::string> failures;
     const Ranked ranked_chains = [&](std::size_t k, const detail::RankedSearch::PassOver&) {
       return k < chains.size() ? &chains[k] : nullptr;

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <atomic>
 #include <functional>
+#include <limits>
 #include <map>
 #include <memory>
 #include <optional>
@@ -232,8 +233,11 @@ RolePart role_part(const stages::Topology& topology, std::size_t role, const Com
 
 /// Chains of two or more stages for the spec (spec.stages_max >= 2), best first, each
 /// evaluated as a whole by the exact solver (design() then ranks them with the single
-/// stages by the same score). Never throws for "nothing fits".
-std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally);
+/// stages by the same score). `ceiling`: the score of the last single stage the list shows when
+/// single stages fill it (a chain scoring past it is not shown; the corner passes stop short
+/// of it), else infinity. Never throws for "nothing fits".
+std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally,
+                                     double ceiling = std::numeric_limits<double>::infinity());
 /// A chain's corner pass (its stages' values, devices and parts given): each stage at its
 /// corners in the conditions the chain puts it in; fills the chain's figures from the fast
 /// evaluation, its worst range, pieces, cautions and score. Returns the first constraint
