@@ -15,10 +15,10 @@
 --db @DB@ design --gain 5 --load 150 --supply 12 --zin 100k --band 20..20k --swing 1 --max-distortion 2% --stages 1 --top 1 --device SJ-101 --device SJ-202 --device SJ-P31 --device SQ-410 --device SQ-420 --device SQ-510 > @WORK@/single.txt
 # The pick list of the whole chain, stage by stage (R1xx, Q101 in stage 1; R2xx, Q201 in stage 2),
 # with the electrolytics' polarity as the chain biases them.
---db @DB@ pick cb6e62601
---db @DB@ pick cb6e62601 --copies 2 --json
+--db @DB@ pick ca885b801
+--db @DB@ pick ca885b801 --copies 2 --json
 # Built in one transaction, then undone: the counts come back.
---db @DB@ build cb6e62601
+--db @DB@ build ca885b801
 --db @DB@ builds undo 1
 --db @DB@ check
 # Odd depths.
