@@ -1,7 +1,10 @@
 // The root command and the one place where failures become `error:` lines and exit statuses.
+#include <cctype>
 #include <exception>
 #include <new>
 #include <ostream>
+#include <string>
+#include <vector>
 
 #include "commands.hpp"
 #include "output.hpp"
@@ -34,15 +37,46 @@ std::string command_path(const CLI::App& app) {
   return path;
 }
 
+/// " (did you mean X?)" when `typed` is a slip for one of `known`, else empty.
+std::string did_you_mean(std::string_view typed, const std::vector<std::string>& known) {
+  const std::string near = units::closest_word(typed, known);
+  return near.empty() ? std::string() : " (did you mean " + near + "?)";
+}
+
+/// Every option `where` takes as it is written (--load, -o), the root's (--db, --json) too.
+std::vector<std::string> option_names(const CLI::App& root, const CLI::App& where) {
+  std::vector<std::string> names;
+  for (const CLI::App* a : {&where, &root})
+    for (const CLI::Option* opt : a->get_options()) {
+      for (const std::string& l : opt->get_lnames()) names.push_back("--" + l);
+      for (const std::string& s : opt->get_snames()) names.push_back("-" + s);
+    }
+  return names;
+}
+
 /// The one-line message for a parse error. CLI11 says "A subcommand is required" both for a
-/// missing command and for a misspelt one; say which, and name the commands there are.
+/// missing command and for a misspelt one; say which, and name the commands there are. For
+/// words it did not expect it lists them all, last first: name the first option it did not
+/// know (with the one meant, for a slip), else the first stray word.
 std::string parse_error_text(const CLI::App& app, const CLI::ParseError& e) {
   const std::string hint = " (see `" + command_path(app) + " --help`)";
   const CLI::App* where = deepest(app);
+  if (dynamic_cast<const CLI::ExtrasError*>(&e) != nullptr) {
+    const auto extra = app.remaining(true);
+    for (const std::string& word : extra) {
+      const bool number = word.size() > 1 && (std::isdigit(static_cast<unsigned char>(word[1])) != 0 || word[1] == '.');
+      if (word.size() < 2 || word[0] != '-' || number) continue;
+      const std::string name = word.substr(0, word.find('='));
+      return "unknown option '" + name + "'" + did_you_mean(name, option_names(app, *where)) + hint;
+    }
+    if (!extra.empty()) return "unexpected argument '" + extra.front() + "'" + hint;
+  }
   if (dynamic_cast<const CLI::RequiredError*>(&e) != nullptr && where->get_require_subcommand_min() > 0 &&
       where->get_subcommands().empty()) {
     const auto extra = app.remaining(true);
-    if (!extra.empty()) return "unknown command '" + extra.front() + "'" + hint;
+    std::vector<std::string> commands;
+    for (const CLI::App* sub : where->get_subcommands({})) commands.push_back(sub->get_name());
+    if (!extra.empty()) return "unknown command '" + extra.front() + "'" + did_you_mean(extra.front(), commands) + hint;
     std::string names;
     for (const CLI::App* sub : where->get_subcommands({})) {
       if (!names.empty()) names += ", ";

@@ -3,6 +3,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <array>
 #include <cctype>
 
@@ -174,6 +175,43 @@ std::string clip(std::string_view text, std::size_t max_chars) {
 
 std::string clip_bytes(std::string_view text, std::size_t max_bytes) {
   return clip_within(text, std::string::npos, max_bytes);
+}
+
+namespace {
+
+// Levenshtein's distance: single-character insertions, deletions and substitutions.
+std::size_t edit_distance(std::string_view a, std::string_view b) {
+  std::vector<std::size_t> row(b.size() + 1);
+  for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;
+  for (std::size_t i = 1; i <= a.size(); ++i) {
+    std::size_t diagonal = row[0];
+    row[0] = i;
+    for (std::size_t j = 1; j <= b.size(); ++j) {
+      const std::size_t up = row[j];
+      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diagonal + (a[i - 1] == b[j - 1] ? 0 : 1)});
+      diagonal = up;
+    }
+  }
+  return row[b.size()];
+}
+
+}  // namespace
+
+std::string closest_word(std::string_view typed, const std::vector<std::string>& known) {
+  if (typed.size() < 3) return {};  // ("-x": one edit from every short option)
+  const std::size_t allowed = std::max<std::size_t>(1, typed.size() / 3);
+  std::string best;
+  std::size_t best_distance = allowed + 1;
+  for (const std::string& word : known) {
+    if (word == typed) return word;
+    // A word cut short counts as one edit away, however much is missing.
+    const std::size_t d = word.starts_with(typed) ? 1 : edit_distance(typed, word);
+    if (d < best_distance) {
+      best = word;
+      best_distance = d;
+    }
+  }
+  return best;
 }
 
 bool parse_encoding(std::string_view name, Encoding& out) {

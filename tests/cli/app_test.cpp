@@ -90,6 +90,20 @@ TEST_CASE("usage errors: exit 1 and one `error:` line on stderr (docs/interface.
   }
 }
 
+TEST_CASE("a misspelt option or command is named, with the one meant when it is a slip") {
+  const auto r = run({"design", "--gain", "5", "--load", "10k", "--supply", "9", "--zin", "100k", "--source", "600"});
+  CHECK(r.status == 1);
+  CHECK(r.out.empty());
+  CHECK(r.err == "error: unknown option '--source' (did you mean --source-z?) (see `shelfstage design --help`)\n");
+  CHECK(run({"stock", "list", "--jsno"}).err.starts_with("error: unknown option '--jsno' (did you mean --json?)"));
+  CHECK(run({"stock", "lst"}).err.starts_with("error: unknown command 'lst' (did you mean list?)"));
+  // Nothing near: named alone; a stray word that is no option: named as such.
+  CHECK(run({"stock", "list", "--frobnicate"}).err.starts_with("error: unknown option '--frobnicate' (see"));
+  const auto stray = run({"design", "--gain", "5", "--load", "10k", "--supply", "9", "--zin", "100k", "600"});
+  CHECK(stray.status == 1);
+  CHECK(stray.err.starts_with("error: unexpected argument '600' (see"));
+}
+
 TEST_CASE("an error line stays short however many bytes it echoes escaped (a fuzz find)") {
   // A stray quote in the word pairs the message's quotes wrongly, so a long stretch of it
   // was no quoted value to clip; each of its non-UTF-8 bytes is four bytes escaped.

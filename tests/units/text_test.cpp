@@ -136,3 +136,16 @@ TEST_CASE("declared encodings convert to UTF-8") {
   CHECK_FALSE(find_text_fault(to_utf8(all, Encoding::latin1)));
   CHECK(to_utf8("as is \xE4", Encoding::utf8) == "as is \xE4");
 }
+
+TEST_CASE("closest_word: a slip of the keyboard or a word cut short, else nothing") {
+  const std::vector<std::string> options = {"--gain", "--load", "--supply", "--swing", "--source-z", "--json"};
+  CHECK(units::closest_word("--swng", options) == "--swing");        // a letter left out
+  CHECK(units::closest_word("--sorce-z", options) == "--source-z");  // and another
+  CHECK(units::closest_word("--source", options) == "--source-z");   // cut short
+  CHECK(units::closest_word("--jsno", options) == "--json");         // two letters swapped: two edits
+  CHECK(units::closest_word("--load", options) == "--load");
+  CHECK(units::closest_word("--frobnicate", options).empty());  // nothing near
+  CHECK(units::closest_word("-x", {"-h", "-o"}).empty());       // too short to tell
+  CHECK(units::closest_word("", options).empty());
+  CHECK(units::closest_word("lst", {"add", "list", "import"}) == "list");
+}

@@ -21,6 +21,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <vector>
 
 namespace shelfstage::units {
 
@@ -56,6 +57,13 @@ std::string clip(std::string_view text, std::size_t max_chars = 40);
 /// escape's) edge, "..." marking the cut: at most max_bytes + 3 bytes (NOTES 4). An escape is
 /// four bytes and a character up to four, so a cut by characters alone bounds no line.
 std::string clip_bytes(std::string_view text, std::size_t max_bytes);
+
+/// The word of `known` a person most likely meant by `typed` (a slip of the keyboard: the
+/// fewest single-character edits, at most a third of the word's length and at least one
+/// allowed; or `typed` cut short, a known word that starts with it, counted as one edit), or
+/// empty when none is close or `typed` is shorter than three characters. Ties go to the first
+/// in `known`.
+std::string closest_word(std::string_view typed, const std::vector<std::string>& known);
 
 /// Encodings a file may declare.
 enum class Encoding { utf8, latin1, cp1252 };
