@@ -269,6 +269,16 @@ std::vector<Request> requests() {
     s.swing_vpp = 3;
     out.push_back({"preamp", "gain 25 into 2k, 9 V, Zin 470k, 30..15k, 3 Vpp", s});
   }
+  {
+    // A request nothing on these drawers meets: 1.55 V peak into 150 ohm from 9 V at a gain
+    // of 8 and a 10k input. Every plan is searched, then the diagnosis searches again (the
+    // gain probe, each limit let go, the smallest purchase): the time a person waits to hear
+    // why not.
+    auto s = base(8, 150, 9, 10e3);
+    s.band_hz = std::make_pair(50.0, 15e3);
+    s.swing_vpp = 3.1;
+    out.push_back({"no-fit", "gain 8 into 150, 9 V, Zin 10k, 50..15k, 3.1 Vpp (fits nothing)", s});
+  }
   return out;
 }
 
