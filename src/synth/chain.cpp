@@ -401,8 +401,40 @@ class ChainSearch {
       for (const auto* p : pools(requests))
         for (const auto& c : *p) layers[pos].push_back(&c);
       if (layers[pos].empty()) return false;
+      if (floor_of(layers, pos) > bar({})) return false;
     }
     return true;
+  }
+
+  /// A floor under the foreseen score (foresee) of every path through the layers from `from`
+  /// on, whatever the layers before them: each layer's least spread of worst-case gain (the
+  /// highest end over the lowest) multiplied, and the least error a gain with that spread can
+  /// have, centred; each layer's fewest pieces (a stage after the first without its input
+  /// capacitor, as link() takes it); the stage points. When it lies past the bar, no path of
+  /// the plan would reach the corner pass, whatever the pools before it: they are not made.
+  /// (A refinement redesigns a path's last gain stage, and its spread could come out below
+  /// the pool's least: the forecast's room covers that as it covers the forecast's error.)
+  double floor_of(const std::vector<std::vector<const Candidate*>>& layers, std::size_t from) const {
+    double spread = 1.0;
+    int pieces = 0;
+    for (std::size_t pos = from; pos < layers.size(); ++pos) {
+      double least_spread = std::numeric_limits<double>::infinity();
+      int least_pieces = std::numeric_limits<int>::max();
+      for (const Candidate* c : layers[pos]) {
+        const double a = std::abs(c->worst.gain.min), b = std::abs(c->worst.gain.max);
+        least_spread =
+            std::min(least_spread, c->worst.gain.empty || std::min(a, b) <= 0 ? 1.0 : std::max(a, b) / std::min(a, b));
+        int p = c->pieces;
+        if (pos > 0)
+          for (const auto& rp : c->parts)
+            if (rp.role == "CIN") p -= static_cast<int>(rp.combo.count);
+        least_pieces = std::min(least_pieces, p);
+      }
+      spread *= least_spread;
+      pieces += least_pieces;
+    }
+    return 100.0 * (spread - 1.0) / (spread + 1.0) + kPiecePoints * pieces +
+           kStagePoints * static_cast<double>(layers.size() - 1);
   }
 
   /// The edge from a to b when the loading is acceptable: b's input impedance at least
