@@ -110,7 +110,6 @@ Probe probe_of(const synth::Candidate& c, const Build& b, double f_mid, double f
   REQUIRE((q != nullptr || vos != nullptr));
   Probe p;
   p.transistor = q != nullptr;
-  const bool jfet = q && q->c.kind == circuit::ElementKind::jfet;
   std::vector<std::string> lines = {".control", "op"};
   auto v_at = [&](std::size_t net_index) {
     const std::string n = circuit::spice_net(net, net_index);
@@ -137,8 +136,13 @@ Probe probe_of(const synth::Candidate& c, const Build& b, double f_mid, double f
         if (n != "0") print += " v(" + n + ")";
     }
   lines.push_back(print);
+  // The bias current through a 0 V source in series with the drain or collector (below):
+  // ngspice 39's own reading of a transistor's collector current, @Q[ic], can disagree with
+  // the circuit it solved. A PNP follower's read 496 uA where the emitter resistor carried
+  // 479 uA and the base gave 2 uA (its Early term, VAF 90 V, in play: without it the two
+  // agree); the series source reads the 478 uA that Kirchhoff's current law leaves.
   if (q) {
-    lines.push_back(fmt::format("let iq = abs(@{}[{}])", circuit::spice_name(q->c), jfet ? "id" : "ic"));
+    lines.push_back("let iq = abs(i(viq_probe))");
     lines.push_back("print iq");
   }
   lines.push_back("let supply_current = abs(i(vdd))");
@@ -164,6 +168,16 @@ Probe probe_of(const synth::Candidate& c, const Build& b, double f_mid, double f
   o.celsius = b.cond.celsius;
   o.analyses = lines;
   p.netlist = circuit::to_spice(net, o);
+  if (q) {
+    // The drain or collector moved to a probe node, and the 0 V source from its net to it.
+    const std::string name = circuit::spice_name(q->c), main = circuit::spice_net(net, q->c.pins[0]);
+    const std::string line = "\n" + name + " " + main + " ";
+    const auto at = p.netlist.find(line);
+    REQUIRE_MESSAGE(at != std::string::npos, "no line for ", name, " in\n", p.netlist);
+    const auto end = p.netlist.find('\n', at + 1);
+    p.netlist.replace(at, line.size(), "\n" + name + " iq_probe ");
+    p.netlist.insert(end - main.size() + std::string("iq_probe").size(), "\nVIQ_PROBE " + main + " iq_probe DC 0");
+  }
   return p;
 }
 
@@ -363,6 +377,19 @@ std::vector<Request> requests() {
     s.max_thd = 0.03;  // 1 % is out of reach for a single stage into 220 ohm at 4.5 V
     s.top = 1;
     out.push_back({"5 V into 220 ohm, 0..50 C", s});
+  }
+  {
+    // A follower into a gain stage into 150 ohm with a swing: a buffer's pool takes stages
+    // ranked by distortion as well as by score (chain.cpp), and the best chain on the demo
+    // shelf puts a PNP follower in front of an NPN stage.
+    synth::Spec s = base(5, 150, 12, 12, 100e3);
+    s.devices = {"SJ-101", "SJ-202", "SJ-P31", "SQ-410", "SQ-420", "SQ-510"};
+    s.band_hz = std::pair{20.0, 20e3};
+    s.swing_vpp = 1.0;
+    s.max_thd = 0.02;
+    s.stages_min = 2;
+    s.top = 1;
+    out.push_back({"follower-led chain into 150 ohm", s});
   }
   {
     synth::Spec s = base(30, 10e3, 9, 9, 470e3);  // a chain from P-type parts only, +9 V
