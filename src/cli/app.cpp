@@ -1,4 +1,5 @@
 // The root command and the one place where failures become `error:` lines and exit statuses.
+#include <algorithm>
 #include <cctype>
 #include <exception>
 #include <new>
@@ -67,7 +68,10 @@ std::string parse_error_text(const CLI::App& app, const CLI::ParseError& e) {
       const bool number = word.size() > 1 && (std::isdigit(static_cast<unsigned char>(word[1])) != 0 || word[1] == '.');
       if (word.size() < 2 || word[0] != '-' || number) continue;
       const std::string name = word.substr(0, word.find('='));
-      return "unknown option '" + name + "'" + did_you_mean(name, option_names(app, *where)) + hint;
+      const std::vector<std::string> known = option_names(app, *where);
+      // A known option left over stood where none is taken (after `--`): a stray word.
+      if (std::find(known.begin(), known.end(), name) != known.end()) break;
+      return "unknown option '" + name + "'" + did_you_mean(name, known) + hint;
     }
     if (!extra.empty()) return "unexpected argument '" + extra.front() + "'" + hint;
   }

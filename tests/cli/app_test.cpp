@@ -102,6 +102,10 @@ TEST_CASE("a misspelt option or command is named, with the one meant when it is 
   const auto stray = run({"design", "--gain", "5", "--load", "10k", "--supply", "9", "--zin", "100k", "600"});
   CHECK(stray.status == 1);
   CHECK(stray.err.starts_with("error: unexpected argument '600' (see"));
+  // Past `--` an option's name is a word like any other.
+  const auto past = run({"design", "--gain", "5", "--load", "10k", "--supply", "9", "--zin", "100k", "--", "--swing"});
+  CHECK(past.status == 1);
+  CHECK(past.err.starts_with("error: unexpected argument '--swing' (see"));
 }
 
 TEST_CASE("an error line stays short however many bytes it echoes escaped (a fuzz find)") {
