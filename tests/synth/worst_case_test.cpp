@@ -110,6 +110,21 @@ Probe probe_of(const synth::Candidate& c, const Build& b, double f_mid, double f
   REQUIRE((q != nullptr || vos != nullptr));
   Probe p;
   p.transistor = q != nullptr;
+  // The bias current through a 0 V source in series with the drain or collector: ngspice 39's
+  // own reading of a transistor's collector current, @Q[ic], can disagree with the circuit it
+  // solved. A PNP follower's read 496 uA where the emitter resistor carried 479 uA and the base
+  // gave 2 uA (its Early term, VAF 90 V, in play: without it the two agree); the series source
+  // reads the 478 uA that Kirchhoff's current law leaves.
+  circuit::Circuit probed;
+  if (q) {
+    const std::string main = net.net_name(q->c.pins[0]), des = q->c.designator;
+    circuit::Circuit::Carry carry;
+    carry.net = [&](const circuit::Component& e, const std::string& n) {
+      return e.designator == des && n == main ? std::string("iq_probe") : n;
+    };
+    probed.append(net, carry);
+    probed.vsource("VIQ", "bias current probe", main, "iq_probe", 0.0);
+  }
   std::vector<std::string> lines = {".control", "op"};
   auto v_at = [&](std::size_t net_index) {
     const std::string n = circuit::spice_net(net, net_index);
@@ -136,13 +151,8 @@ Probe probe_of(const synth::Candidate& c, const Build& b, double f_mid, double f
         if (n != "0") print += " v(" + n + ")";
     }
   lines.push_back(print);
-  // The bias current through a 0 V source in series with the drain or collector (below):
-  // ngspice 39's own reading of a transistor's collector current, @Q[ic], can disagree with
-  // the circuit it solved. A PNP follower's read 496 uA where the emitter resistor carried
-  // 479 uA and the base gave 2 uA (its Early term, VAF 90 V, in play: without it the two
-  // agree); the series source reads the 478 uA that Kirchhoff's current law leaves.
   if (q) {
-    lines.push_back("let iq = abs(i(viq_probe))");
+    lines.push_back(fmt::format("let iq = abs(i({}))", circuit::spice_name(probed.find("VIQ")->c)));
     lines.push_back("print iq");
   }
   lines.push_back("let supply_current = abs(i(vdd))");
@@ -167,17 +177,7 @@ Probe probe_of(const synth::Candidate& c, const Build& b, double f_mid, double f
   o.title = c.topology_name() + " " + b.label;
   o.celsius = b.cond.celsius;
   o.analyses = lines;
-  p.netlist = circuit::to_spice(net, o);
-  if (q) {
-    // The drain or collector moved to a probe node, and the 0 V source from its net to it.
-    const std::string name = circuit::spice_name(q->c), main = circuit::spice_net(net, q->c.pins[0]);
-    const std::string line = "\n" + name + " " + main + " ";
-    const auto at = p.netlist.find(line);
-    REQUIRE_MESSAGE(at != std::string::npos, "no line for ", name, " in\n", p.netlist);
-    const auto end = p.netlist.find('\n', at + 1);
-    p.netlist.replace(at, line.size(), "\n" + name + " iq_probe ");
-    p.netlist.insert(end - main.size() + std::string("iq_probe").size(), "\nVIQ_PROBE " + main + " iq_probe DC 0");
-  }
+  p.netlist = circuit::to_spice(q ? probed : net, o);
   return p;
 }
 
