@@ -144,8 +144,7 @@ std::vector<double> evaluate_from_load(std::span<const ChainStage> stages, const
 // previous stage's output impedance as its source (the gains stay those from the node).
 void drive_from_previous(std::span<const ChainStage> stages, ChainPerformance& r) {
   for (std::size_t k = 1; k < stages.size(); ++k) {
-    Conditions ck = r.conditions[k];
-    ck.distortion = false;  // (an impedance: the distortion's sweeps would not move it)
+    Conditions ck = small_signal(r.conditions[k]);  // (an impedance)
     ck.source_ohm = r.each[k - 1].zout_ohm;
     r.each[k].zout_ohm = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, Detail::core).zout_ohm;
   }
@@ -256,8 +255,7 @@ void take_ends(ChainPerformance& r) {
 double chain_loss_db(std::span<const ChainStage> stages, const ChainPerformance& r, double f, bool low) {
   double sum = 0;
   for (std::size_t k = 0; k < stages.size(); ++k) {
-    Conditions ck = r.conditions[k];
-    ck.distortion = false;  // (a loss is a small-signal figure: the distortion's sweeps would not move it)
+    Conditions ck = small_signal(r.conditions[k]);  // (a loss)
     ck.band_lo_hz = low ? f : 0.0;
     ck.band_hi_hz = low ? 0.0 : f;
     const Performance p = stages[k].topology->evaluate(stages[k].values, stages[k].q, ck, Detail::core);
@@ -333,22 +331,12 @@ ChainPerformance evaluate_chain(std::span<const ChainStage> stages, const Condit
   return r;
 }
 
-namespace {
-
-// The cascade as the band's figures need it: the small-signal figures alone.
-ChainPerformance small_signal_chain(std::span<const ChainStage> stages, Conditions c) {
-  c.distortion = false;
-  return evaluate_chain(stages, c, Detail::core);
-}
-
-}  // namespace
-
 double chain_loss_at(std::span<const ChainStage> stages, const Conditions& c, double f_hz, bool low) {
-  return chain_loss_db(stages, small_signal_chain(stages, c), f_hz, low);
+  return chain_loss_db(stages, evaluate_chain(stages, small_signal(c), Detail::core), f_hz, low);
 }
 
 double chain_band_edge(std::span<const ChainStage> stages, const Conditions& c, bool low, double from_hz) {
-  return band_edge_from(stages, small_signal_chain(stages, c), low, from_hz);
+  return band_edge_from(stages, evaluate_chain(stages, small_signal(c), Detail::core), low, from_hz);
 }
 
 }  // namespace shelfstage::stages

@@ -64,13 +64,6 @@ constexpr std::size_t kRefine = 6;
 /// corner pass: a share of the bar and points besides.
 constexpr struct { double share, points; } kForesightRoom = {0.05, 3.0};
 
-/// Conditions for the figures the graph and the refinements read (gain, impedances, the
-/// band's losses): the distortion, which moves none of them, left out.
-stages::Conditions small_signal(stages::Conditions c) {
-  c.distortion = false;
-  return c;
-}
-
 std::vector<Plan> plans_for(const Spec& spec) {
   using enum Slot;
   const std::vector<Plan> all = {{buffer, gain},       {gain, buffer},         {gain, gain},
@@ -301,8 +294,8 @@ class ChainSearch {
 
   /// The last stage's band-edge losses into the load.
   double last_loss(const Candidate& c) {
-    stages::Conditions cc = c.conditions;
-    cc.distortion = false;  // (small-signal figures only, here and below)
+    // (Here, in the graph's edges and in the refinements: small-signal figures alone.)
+    stages::Conditions cc = stages::small_signal(c.conditions);
     cc.band_lo_hz = band_lo_;
     cc.band_hi_hz = band_hi_;
     const auto p = c.topology->evaluate(c.values, c.nominal_device, cc);
@@ -444,8 +437,7 @@ class ChainSearch {
     const double zin = b.nominal.zin_ohm;
     if (!(zin >= 2.0 * a.nominal.zout_ohm)) return std::nullopt;
     if (!link_polarity_ok(a, b)) return std::nullopt;
-    stages::Conditions ca = a.conditions;
-    ca.distortion = false;
+    stages::Conditions ca = stages::small_signal(a.conditions);
     ca.load_ohm = zin;
     ca.band_lo_hz = band_lo_;
     ca.band_hi_hz = band_hi_;
@@ -634,7 +626,8 @@ class ChainSearch {
     const std::size_t n = p.stages.size();
     std::vector<stages::ChainStage> list;
     for (const Candidate* c : p.stages) list.push_back(synth::chain_stage(*c));
-    const stages::Conditions cond = small_signal(conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c()));
+    const stages::Conditions cond =
+        stages::small_signal(conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c()));
     const stages::ChainPerformance cp = stages::evaluate_chain(list, cond, stages::Detail::core);
     const double others = std::abs(cp.whole.gain / cp.each[r].gain);
     if (!(others > 0) || !std::isfinite(others)) return std::nullopt;
@@ -661,7 +654,8 @@ class ChainSearch {
     const std::size_t n = j.path.stages.size(), r = j.stage;
     std::vector<stages::ChainStage> list;
     for (const Candidate* c : j.path.stages) list.push_back(chain_stage(*c));
-    const stages::Conditions cond = small_signal(conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c()));
+    const stages::Conditions cond =
+        stages::small_signal(conditions(spec_, spec_.supply_nominal_v(), spec_.temp_nominal_c()));
     std::vector<Path> out;
     for (const Candidate& c : made) {
       Path q = j.path;

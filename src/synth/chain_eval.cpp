@@ -335,9 +335,8 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, De
 
 std::string chain_exact(Candidate& ch, const Spec& spec, stages::Detail detail, bool scale_worst) {
   const std::vector<stages::ChainStage> list = chain_stages(ch);
-  stages::Conditions small = ch.conditions;
-  small.distortion = false;  // (the gain alone is read)
-  const stages::Performance fast = stages::evaluate_chain(list, small).whole;
+  // (The gain alone is read.)
+  const stages::Performance fast = stages::evaluate_chain(list, stages::small_signal(ch.conditions)).whole;
   stages::Performance p;
   try {
     const circuit::Circuit net = stages::chain_netlist(list, ch.conditions);

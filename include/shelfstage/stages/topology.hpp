@@ -149,6 +149,14 @@ struct Conditions {
   double least_margin_deg = 45.0;
 };
 
+/// The conditions with the distortion left out (Conditions::distortion), for a caller that
+/// reads small-signal figures alone: the gain, the impedances, the band's losses and corners,
+/// which the distortion's sweeps (a feedback pair's, a dozen bias solves) do not move.
+inline Conditions small_signal(Conditions c) {
+  c.distortion = false;
+  return c;
+}
+
 /// DC across a capacitor, or power in a resistor, for rating checks.
 struct Stress {
   std::size_t role = 0;
