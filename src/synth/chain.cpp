@@ -98,6 +98,21 @@ struct Path {
   double foreseen = 0;  ///< the score foreseen from the stages' pools (foresee), for the corner pass
 };
 
+/// A stage's worst-case gain range as magnitudes, the lower end first; nullopt when it has
+/// none or an end at zero.
+std::optional<std::pair<double, double>> gain_ends(const Candidate& c) {
+  const double a = std::abs(c.worst.gain.min), b = std::abs(c.worst.gain.max);
+  if (c.worst.gain.empty || std::min(a, b) <= 0) return std::nullopt;
+  return std::pair{std::min(a, b), std::max(a, b)};
+}
+
+/// The pieces a stage brings to a chain at position `pos`: its own, less its input capacitor
+/// after the first stage (link() takes it away).
+int pieces_in_chain(const Candidate& c, std::size_t pos) {
+  const RolePart* cin = pos > 0 ? part_of(c, "CIN") : nullptr;
+  return c.pieces - (cin ? static_cast<int>(cin->combo.count) : 0);
+}
+
 /// A chain's score foreseen before its corner pass: its gain along the path (each stage into
 /// the next) with each stage's worst-case gain range in its pool as a share of the stage's
 /// nominal gain there, the shares multiplied as the corner pass multiplies the stages' ranges
@@ -108,10 +123,9 @@ double foresee(const std::vector<const Candidate*>& stages, double gain, const S
   int pieces = 0;
   for (const Candidate* c : stages) {
     const double g = std::abs(c->nominal.gain);
-    if (g > 0 && !c->worst.gain.empty) {
-      const double a = std::abs(c->worst.gain.min), b = std::abs(c->worst.gain.max);
-      lo *= std::min(a, b) / g;
-      hi *= std::max(a, b) / g;
+    if (const auto ends = gain_ends(*c); ends && g > 0) {
+      lo *= ends->first / g;
+      hi *= ends->second / g;
     }
     if (!c->worst.thd.empty) thd += c->worst.thd.max;
     pieces += c->pieces;
@@ -119,10 +133,7 @@ double foresee(const std::vector<const Candidate*>& stages, double gain, const S
   const double g = std::abs(gain) / spec.gain;
   const double nominal = std::abs(g - 1.0);
   const double worst = std::max({nominal, std::abs(g * lo - 1.0), std::abs(g * hi - 1.0)});
-  double s =
-      100.0 * (0.5 * nominal + worst) + kPiecePoints * pieces + kStagePoints * static_cast<double>(stages.size() - 1);
-  if (spec.prefer == Spec::Prefer::distortion) s += 1000.0 * thd;
-  return s;
+  return score_points(nominal, worst, pieces, thd, 0, spec) + stage_points(stages.size());
 }
 
 class ChainSearch {
@@ -414,20 +425,14 @@ class ChainSearch {
       double least_spread = std::numeric_limits<double>::infinity();
       int least_pieces = std::numeric_limits<int>::max();
       for (const Candidate* c : layers[pos]) {
-        const double a = std::abs(c->worst.gain.min), b = std::abs(c->worst.gain.max);
-        least_spread =
-            std::min(least_spread, c->worst.gain.empty || std::min(a, b) <= 0 ? 1.0 : std::max(a, b) / std::min(a, b));
-        int p = c->pieces;
-        if (pos > 0)
-          for (const auto& rp : c->parts)
-            if (rp.role == "CIN") p -= static_cast<int>(rp.combo.count);
-        least_pieces = std::min(least_pieces, p);
+        const auto ends = gain_ends(*c);
+        least_spread = std::min(least_spread, ends ? ends->second / ends->first : 1.0);
+        least_pieces = std::min(least_pieces, pieces_in_chain(*c, pos));
       }
       spread *= least_spread;
       pieces += least_pieces;
     }
-    return 100.0 * (spread - 1.0) / (spread + 1.0) + kPiecePoints * pieces +
-           kStagePoints * static_cast<double>(layers.size() - 1);
+    return kPiecePoints * pieces + 100.0 * (spread - 1.0) / (spread + 1.0) + stage_points(layers.size());
   }
 
   /// The edge from a to b when the loading is acceptable: b's input impedance at least
@@ -702,12 +707,8 @@ class ChainSearch {
       Candidate s = *path.stages[k];
       if (k > 0) {
         const std::size_t cin = stages::input_coupling_role(*s.topology);
-        const auto it =
-            std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "CIN"; });
-        if (it != s.parts.end()) {
-          s.pieces -= static_cast<int>(it->combo.count);  // (chains never search a shelf with purchases)
-          s.parts.erase(it);
-        }
+        s.pieces = pieces_in_chain(s, k);  // (chains never search a shelf with purchases)
+        std::erase_if(s.parts, [](const RolePart& rp) { return rp.role == "CIN"; });
         if (cin < s.topology->roles().size()) s.values[cin] = stages::kLinkedCin;
       }
       for (auto& rp : s.parts) {
@@ -730,8 +731,8 @@ class ChainSearch {
   /// (a volt at nominal, so the corners keep its sign), else the shelf must have a
   /// non-polarised capacitor of its value (unpolarise_links fits it).
   bool link_polarity_ok(const Candidate& a, const Candidate& b) const {
-    const auto it = std::find_if(a.parts.begin(), a.parts.end(), [](const RolePart& rp) { return rp.role == "COUT"; });
-    if (it == a.parts.end() || !it->polarised) return true;
+    const RolePart* it = part_of(a, "COUT");
+    if (!it || !it->polarised) return true;
     const double dc = link_dc(a, b);
     if (std::abs(dc) >= 1.0) return true;
     const double volts = std::max(std::abs(a.nominal.v_out), std::abs(b.nominal.v_in)) + a.nominal.clip_peak_v;
@@ -745,9 +746,8 @@ class ChainSearch {
   void unpolarise_links(Candidate& ch) const {
     for (std::size_t k = 0; k + 1 < ch.stages.size(); ++k) {
       Candidate& s = ch.stages[k];
-      const auto it =
-          std::find_if(s.parts.begin(), s.parts.end(), [](const RolePart& rp) { return rp.role == "COUT"; });
-      if (it == s.parts.end() || !it->polarised) continue;
+      RolePart* it = part_of(s, "COUT");
+      if (!it || !it->polarised) continue;
       const std::size_t i = s.topology->role_index("COUT");
       if (std::abs(link_dc(s, ch.stages[k + 1])) >= 1.5) continue;  // well clear: the corner pass decides
       const double volts =

@@ -37,15 +37,18 @@ void rescore(Candidate& ch, const Spec& spec) {
   ch.error_nominal = std::abs(ch.nominal.gain) / g - 1.0;
   ch.error_worst = std::max({std::abs(std::abs(ch.worst.gain.min) / g - 1.0),
                              std::abs(std::abs(ch.worst.gain.max) / g - 1.0), std::abs(ch.error_nominal)});
-  ch.score = score_of(ch, spec) + kStagePoints * static_cast<double>(ch.stages.size() - 1);
+  ch.score = score_of(ch, spec) + stage_points(ch.stages.size());
 }
 
 }  // namespace
 
-// A stage's part by role, or nullptr.
-RolePart* part_of(Candidate& s, std::string_view role) {
+const RolePart* part_of(const Candidate& s, std::string_view role) {
   const auto it = std::find_if(s.parts.begin(), s.parts.end(), [&](const RolePart& rp) { return rp.role == role; });
   return it == s.parts.end() ? nullptr : &*it;
+}
+
+RolePart* part_of(Candidate& s, std::string_view role) {
+  return const_cast<RolePart*>(part_of(static_cast<const Candidate&>(s), role));
 }
 
 // NOTES (a chain's worst case):

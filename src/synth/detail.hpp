@@ -23,6 +23,13 @@ inline constexpr double kPiecePoints = 1.0;
 /// README "How candidates are ranked": percent points of gain error, half the nominal plus
 /// the whole worst case, and kPiecePoints per piece. Lower is better.
 double score_of(const Candidate& c, const Spec& spec);
+/// score_of's points from the figures themselves (the distortion's only with --prefer
+/// distortion): for a score foreseen before a candidate exists (a chain's, synth/chain.cpp).
+double score_points(double error_nominal, double error_worst, int pieces, double thd_max, int purchases,
+                    const Spec& spec);
+/// A stage's part by role, or nullptr.
+RolePart* part_of(Candidate& s, std::string_view role);
+const RolePart* part_of(const Candidate& s, std::string_view role);
 
 stages::Conditions conditions(const Spec& spec, double supply, double celsius);
 /// The first hard constraint a performance breaks ("bias", "swing" (clipping), "distortion"
@@ -275,6 +282,8 @@ std::string assess_loop(Candidate& c, const Spec& spec, const std::string& prefi
 std::string finish_with_margin(Candidate& c, const Spec& spec, const Shelf& shelf);
 /// Points a chain pays for each stage beyond the first (README "How candidates are ranked").
 inline constexpr double kStagePoints = 3.0;
+/// What a chain of n stages pays for its stages beyond the first.
+inline double stage_points(std::size_t n) { return kStagePoints * static_cast<double>(n - 1); }
 
 /// Set in the threads of a parallel_for while they run its work (see below).
 inline thread_local bool in_parallel_for = false;

@@ -23,12 +23,18 @@ void Range::add(double v) {
 
 namespace detail {
 
-double score_of(const Candidate& c, const Spec& spec) {
-  double s = 100.0 * (0.5 * std::abs(c.error_nominal) + c.error_worst) + kPiecePoints * c.pieces;
+double score_points(double error_nominal, double error_worst, int pieces, double thd_max, int purchases,
+                    const Spec& spec) {
+  double s = 100.0 * (0.5 * std::abs(error_nominal) + error_worst) + kPiecePoints * pieces;
   // --prefer distortion: ten points per percent of the worst-case THD at the requested level.
-  if (spec.prefer == Spec::Prefer::distortion && !c.worst.thd.empty) s += 1000.0 * c.worst.thd.max;
-  s += spec.purchase_points * c.purchases;
+  if (spec.prefer == Spec::Prefer::distortion) s += 1000.0 * thd_max;
+  s += spec.purchase_points * purchases;
   return s;
+}
+
+double score_of(const Candidate& c, const Spec& spec) {
+  return score_points(c.error_nominal, c.error_worst, c.pieces, c.worst.thd.empty ? 0.0 : c.worst.thd.max, c.purchases,
+                      spec);
 }
 
 stages::Conditions conditions(const Spec& spec, double supply, double celsius) {
