@@ -199,85 +199,51 @@ struct Request {
 };
 
 std::vector<Request> requests() {
-  std::vector<Request> out;
-  auto base = [](double gain, double load, double supply, double zin) {
-    synth::Spec s;
-    s.gain = gain;
-    s.load_ohm = load;
-    s.supply_lo_v = s.supply_hi_v = supply;
-    s.zin_min_ohm = zin;
-    s.top = 10;
-    return s;
+  // One row per request: what the command line would say, then the figures (0: not asked).
+  struct Row {
+    const char* name;
+    const char* text;
+    double gain, load, supply_lo, supply_hi, zin;
+    double source = 0, band_lo = 0, band_hi = 0, swing = 0, max_current = 0;
   };
-  {
-    auto s = base(8, 10e3, 12, 100e3);
-    out.push_back({"plain", "gain 8 into 10k, 12 V, Zin 100k (no band, no swing)", s});
-  }
-  {
-    auto s = base(10, 10e3, 12, 100e3);
-    s.source_ohm = 1e3;
-    s.band_hz = std::make_pair(20.0, 20e3);
-    s.swing_vpp = 2;
-    out.push_back({"audio", "gain 10 into 10k, 12 V, Zin 100k, 1k source, 20..20k, 2 Vpp", s});
-  }
-  {
-    auto s = base(5, 2.2e3, 24, 1e6);
-    s.swing_vpp = 8;
-    out.push_back({"line-24v", "gain 5 into 2k2, 24 V, Zin 1M, 8 Vpp", s});
-  }
-  {
-    auto s = base(1, 600, 9, 100e3);
-    s.swing_vpp = 2;
-    s.band_hz = std::make_pair(20.0, 20e3);
-    out.push_back({"buffer", "gain 1 into 600, 9 V, Zin 100k, 20..20k, 2 Vpp", s});
-  }
-  {
-    auto s = base(3, 330, 15, 10e3);
-    s.swing_vpp = 3;
-    out.push_back({"heavy", "gain 3 into 330, 15 V, Zin 10k, 3 Vpp", s});
-  }
-  {
-    auto s = base(20, 47e3, 48, 100e3);
-    s.band_hz = std::make_pair(10.0, 50e3);
-    s.swing_vpp = 20;
-    out.push_back({"hv-48v", "gain 20 into 47k, 48 V, Zin 100k, 10..50k, 20 Vpp", s});
-  }
-  {
-    auto s = base(4, 10e3, 9, 10e6);
-    s.source_ohm = 1e6;
-    s.band_hz = std::make_pair(5.0, 20e3);
-    out.push_back({"hi-zin", "gain 4 into 10k, 9 V, Zin 10M, 1M source, 5..20k", s});
-  }
-  {
-    auto s = base(6, 4.7e3, 5, 20e3);
-    s.supply_lo_v = 4.5;
-    s.supply_hi_v = 5.5;
-    s.max_current_a = 1e-3;
-    out.push_back({"5v-1ma", "gain 6 into 4k7, 4.5..5.5 V, Zin 20k, 1 mA budget", s});
-  }
-  {
-    auto s = base(100, 10e3, 12, 1e6);
-    s.source_ohm = 10e3;
-    out.push_back({"chain", "gain 100 into 10k, 12 V, Zin 1M, 10k source (needs a chain)", s});
-  }
-  {
-    // A preamplifier on a battery: a gain no single transistor holds over its spread, a
-    // high input impedance and a swing, so that the feedback pairs' corner passes (their
-    // quasi-static distortion sweeps) carry the search.
-    auto s = base(25, 2e3, 9, 470e3);
-    s.band_hz = std::make_pair(30.0, 15e3);
-    s.swing_vpp = 3;
-    out.push_back({"preamp", "gain 25 into 2k, 9 V, Zin 470k, 30..15k, 3 Vpp", s});
-  }
-  {
-    // A request nothing on these drawers meets: 1.55 V peak into 150 ohm from 9 V at a gain
-    // of 8 and a 10k input. Every plan is searched, then the diagnosis searches again (the
-    // gain probe, each limit let go, the smallest purchase): the time a person waits to hear
-    // why not.
-    auto s = base(8, 150, 9, 10e3);
-    s.band_hz = std::make_pair(50.0, 15e3);
-    s.swing_vpp = 3.1;
-    out.push_back({"no-fit", "gain 8 into 150, 9 V, Zin 10k, 50..15k, 3.1 Vpp (fits nothing)", s});
+  static const Row rows[] = {
+      {"plain", "gain 8 into 10k, 12 V, Zin 100k (no band, no swing)", 8, 10e3, 12, 12, 100e3},
+      {"audio", "gain 10 into 10k, 12 V, Zin 100k, 1k source, 20..20k, 2 Vpp", 10, 10e3, 12, 12, 100e3, 1e3, 20, 20e3,
+       2},
+      {"line-24v", "gain 5 into 2k2, 24 V, Zin 1M, 8 Vpp", 5, 2.2e3, 24, 24, 1e6, 0, 0, 0, 8},
+      {"buffer", "gain 1 into 600, 9 V, Zin 100k, 20..20k, 2 Vpp", 1, 600, 9, 9, 100e3, 0, 20, 20e3, 2},
+      {"heavy", "gain 3 into 330, 15 V, Zin 10k, 3 Vpp", 3, 330, 15, 15, 10e3, 0, 0, 0, 3},
+      {"hv-48v", "gain 20 into 47k, 48 V, Zin 100k, 10..50k, 20 Vpp", 20, 47e3, 48, 48, 100e3, 0, 10, 50e3, 20},
+      {"hi-zin", "gain 4 into 10k, 9 V, Zin 10M, 1M source, 5..20k", 4, 10e3, 9, 9, 10e6, 1e6, 5, 20e3},
+      {"5v-1ma", "gain 6 into 4k7, 4.5..5.5 V, Zin 20k, 1 mA budget", 6, 4.7e3, 4.5, 5.5, 20e3, 0, 0, 0, 0, 1e-3},
+      {"chain", "gain 100 into 10k, 12 V, Zin 1M, 10k source (needs a chain)", 100, 10e3, 12, 12, 1e6, 10e3},
+      // A preamplifier on a battery: a gain no single transistor holds over its spread, a
+      // high input impedance and a swing, so that the feedback pairs' corner passes (their
+      // quasi-static distortion sweeps) carry the search.
+      {"preamp", "gain 25 into 2k, 9 V, Zin 470k, 30..15k, 3 Vpp", 25, 2e3, 9, 9, 470e3, 0, 30, 15e3, 3},
+      // A request nothing on these drawers meets: 1.55 V peak into 150 ohm from 9 V at a gain
+      // of 8 and a 10k input. Every plan is searched, then the diagnosis searches again (the
+      // gain probe, each limit let go, the smallest purchase): the time a person waits to hear
+      // why not.
+      {"no-fit", "gain 8 into 150, 9 V, Zin 10k, 50..15k, 3.1 Vpp (fits nothing)", 8, 150, 9, 9, 10e3, 0, 50, 15e3,
+       3.1},
+  };
+  std::vector<Request> out;
+  for (const Row& r : rows) {
+    Request& q = out.emplace_back();
+    q.name = r.name;
+    q.text = r.text;
+    synth::Spec& s = q.spec;
+    s.gain = r.gain;
+    s.load_ohm = r.load;
+    s.supply_lo_v = r.supply_lo;
+    s.supply_hi_v = r.supply_hi;
+    s.zin_min_ohm = r.zin;
+    s.source_ohm = r.source;
+    if (r.band_hi > 0) s.band_hz = std::make_pair(r.band_lo, r.band_hi);
+    if (r.swing > 0) s.swing_vpp = r.swing;
+    if (r.max_current > 0) s.max_current_a = r.max_current;
+    s.top = 10;
   }
   return out;
 }

@@ -108,9 +108,9 @@ void add_model_margin(Worst& w);
 /// The worst relative gain error of a gain range against the target magnitude.
 double worst_gain_error(const Range& gain, double target);
 /// Fills c.worst and c.error_worst; returns the first violated constraint or empty. With
-/// `distortion` false the distortion is never worked out (the THD range stays at zero, the
+/// `wanted` false the distortion is never worked out (the THD range stays at zero, the
 /// swing is the clipping point): for a caller that reads other figures only.
-std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth, bool distortion = true);
+std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth, bool wanted = true);
 /// The largest gain error of the search's corner pass (evaluate_worst at Depth::search) at its
 /// nominal piece with the parts pushed for the gain, either way, on a request of one supply
 /// at the nominal temperature: sets that pass evaluates as they are, so a candidate that holds
