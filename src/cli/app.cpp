@@ -64,11 +64,11 @@ std::string parse_error_text(const CLI::App& app, const CLI::ParseError& e) {
   const CLI::App* where = deepest(app);
   if (dynamic_cast<const CLI::ExtrasError*>(&e) != nullptr) {
     const auto extra = app.remaining(true);
+    const std::vector<std::string> known = option_names(app, *where);
     for (const std::string& word : extra) {
       const bool number = word.size() > 1 && (std::isdigit(static_cast<unsigned char>(word[1])) != 0 || word[1] == '.');
       if (word.size() < 2 || word[0] != '-' || number) continue;
       const std::string name = word.substr(0, word.find('='));
-      const std::vector<std::string> known = option_names(app, *where);
       // A known option left over stood where none is taken (after `--`): a stray word.
       if (std::find(known.begin(), known.end(), name) != known.end()) break;
       return "unknown option '" + name + "'" + did_you_mean(name, known) + hint;
@@ -82,10 +82,7 @@ std::string parse_error_text(const CLI::App& app, const CLI::ParseError& e) {
     for (const CLI::App* sub : where->get_subcommands({})) commands.push_back(sub->get_name());
     if (!extra.empty()) return "unknown command '" + extra.front() + "'" + did_you_mean(extra.front(), commands) + hint;
     std::string names;
-    for (const CLI::App* sub : where->get_subcommands({})) {
-      if (!names.empty()) names += ", ";
-      names += sub->get_name();
-    }
+    for (const std::string& c : commands) names += (names.empty() ? "" : ", ") + c;
     return "`" + command_path(app) + "` needs a command: " + names + hint;
   }
   return e.what() + hint;
