@@ -54,10 +54,13 @@ const std::vector<Relaxation>& relaxations() {
          s.least_swing = 0;
        },
        [](const Spec& s, const Candidate& c) {
+         // (The stage named is the most accurate one without the limit, not the one that swings
+         // most: its swing says what that stage gives, not what the supply allows.)
          return fmt::format(
-             "the swing binds: on this supply the best stage without it ({}) delivers {:.3g} Vpp at every corner "
-             "within {} THD, short of the {:.3g} Vpp asked",
-             stage_words(c), 2 * c.worst.swing_peak.min, percent(s.max_thd), *s.swing_vpp);
+             "the swing binds: without it a stage meets the rest of the request, but none holds the swing at every "
+             "corner within {} THD (the most accurate without the limit, {}, gives {:.3g} Vpp, short of the {:.3g} "
+             "Vpp asked)",
+             percent(s.max_thd), stage_words(c), 2 * c.worst.swing_peak.min, *s.swing_vpp);
        }},
       {"stability", [](const Spec& s) { return s.least_margin_deg > kLeastPhaseMarginDeg; },
        [](Spec& s) { s.least_margin_deg = kLeastPhaseMarginDeg; },
