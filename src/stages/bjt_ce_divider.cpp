@@ -334,13 +334,14 @@ class BjtCeDivider final : public Topology {
                 if (zin < g.zin_min_ohm * 1.02) continue;
                 const double a_int = g.gain * (zin + c.source_ohm) / zin;
                 // The stage's own current at its most (no collector resistor to take VCE, and
-                // with it the Early factor, down): the nominal piece's screen sees this divider
-                // and leg exactly.
+                // with it the Early factor, down), and with it its transconductance: the nominal
+                // piece's screen sees this divider and leg exactly.
                 const double most_a =
                     detail::bjt_bias(t, c.supply_v * r2 / (r1 + r2), rth, re1 + re2, 0.0, c.supply_v).ic_a;
                 // The collector above saturation by the swing and a few tenths.
                 const double room = (c.supply_v - ve - t.vce_sat_v - g.swing_peak_v - 0.3) / ic;
-                const auto rcs = detail::load_resistors(shelf, g, a_int, gm, re1, c.load_ohm, room, most_a);
+                const auto rcs =
+                    detail::load_resistors(shelf, g, a_int, gm, re1, c.load_ohm, room, most_a, most_a / t.vt_v);
                 for (double x : rcs) {
                   Values v;
                   v[R1] = r1;

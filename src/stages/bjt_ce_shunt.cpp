@@ -290,18 +290,12 @@ std::vector<Stress> part_stress(const detail::BjtBias& b, const Values& v) {
   return st;
 }
 
-// Whether a stage whose gain cannot exceed `most` misses the request's window (a tenth of
-// slack for the models). Two such bounds hold for this stage. The collector's transconductance
+// Two bounds on this stage's gain for detail::short_of_gain. The collector's transconductance
 // is at most 1/RE1, so the gain from the base is at most (RC || RL || RF) / RE1, and the loop
 // can only lower it. With the base drawing nothing, the gain from the source is
 // A RF / (RF + Rsum + A Rsum) for a gain A from the base and Rsum = Rs + RIN, below
-// RF / Rsum (the base's own current and RB only lower it). A probe keeps every proposal.
-// Counted in Goal::left_out.
-bool short_of_gain(const Goal& g, double most) {
-  const bool out = !g.probe && most < 0.9 * g.gain_lo;
-  if (out && g.left_out) ++g.left_out->gain;
-  return out;
-}
+// RF / Rsum (the base's own current and RB only lower it).
+using detail::short_of_gain;
 
 // How a proposal sets its gain: by the ratio RF / (Rs + RIN) (the emitter leg split any way
 // leg_splits offers), or by the emitter leg against the collector load, RF then mostly

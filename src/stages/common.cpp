@@ -368,14 +368,26 @@ double load_resistor_for_gain(double a_int, double gm, double r_deg, double load
   return 1.0 / (1.0 / rl_ac - 1.0 / load_ohm);
 }
 
+bool short_of_gain(const Goal& g, double most) {
+  const bool out = !g.probe && most < 0.9 * g.gain_lo;
+  if (out && g.left_out) {
+    ++g.left_out->gain;
+    g.left_out->least_gain = std::min(g.left_out->least_gain, most);
+  }
+  return out;
+}
+
 std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, double a_int, double gm, double r_deg,
-                                   double load_ohm, double room_ohm, double most_current_a) {
+                                   double load_ohm, double room_ohm, double most_current_a, double gm_most) {
   std::vector<double> out;
   const double want = load_resistor_for_gain(a_int, gm, r_deg, load_ohm);
   if (want > room_ohm && !g.probe) return out;
   const double r = std::min(want, room_ohm);
   if (r > 0) shelf.nearest(r, 2, out);
-  std::erase_if(out, [&](double x) { return short_of_swing_up(g, most_current_a, x, load_ohm); });
+  std::erase_if(out, [&](double x) {
+    return short_of_swing_up(g, most_current_a, x, load_ohm) ||
+           short_of_gain(g, gm_most * par(x, load_ohm) / (1.0 + gm_most * r_deg));
+  });
   return out;
 }
 

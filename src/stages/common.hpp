@@ -224,13 +224,21 @@ double load_resistor_for_gain(double a_int, double gm, double r_deg, double load
 /// scale, and the one nearest 1M (the bench's usual choice).
 std::vector<double> gate_resistors(const ValueSource& shelf, double zin_min_ohm);
 
+/// Whether a stage whose gain cannot exceed `most` misses the request's window (a tenth of
+/// slack for the models). A probe keeps every proposal. Counted in Goal::left_out.
+bool short_of_gain(const Goal& g, double most);
+
 /// The drain or collector resistors to try: the shelf's nearest to the one that gives the
 /// internal gain a_int (load_resistor_for_gain), when the headroom allows it (room_ohm: the
 /// largest resistor the headroom allows); when probing, the largest the headroom allows.
 /// Those with which the output cannot rise by the swing carrying most_current_a
-/// (short_of_swing_up) are left out.
+/// (short_of_swing_up) are left out, and those with which the gain cannot reach the request's
+/// window (short_of_gain): from the control terminal the gain is at most
+/// gm (R || RL) / (1 + gm r_deg), rising with gm, and gm_most is the most the stage's bias
+/// allows (its current at its most; the output resistance and the input's own loading only
+/// lower it).
 std::vector<double> load_resistors(const ValueSource& shelf, const Goal& g, double a_int, double gm, double r_deg,
-                                   double load_ohm, double room_ohm, double most_current_a);
+                                   double load_ohm, double room_ohm, double most_current_a, double gm_most);
 
 /// The least design current at which a class-A stage may carry the request's swing into the
 /// load at all (0: no bound). Its output's excursion away from the device (a collector or
@@ -261,10 +269,13 @@ void jfet_cs_legs(const ValueSource& shelf, const Goal& g, const Conditions& c, 
   const JfetBias b = jfet_bias(j, vg_v, rs_total_ohm, 0.0, c.supply_v);
   if (!b.conducts) return;
   for (auto [rs1, rs2] : leg_splits(shelf, rs_total_ohm)) {
-    // The split's own current, at its most (no drain resistor to take VDS, and with it the
-    // channel-length factor, down): the nominal piece's screen sees this leg and gate exactly.
-    const double most_a = jfet_bias(j, vg_v, rs1 + rs2, 0.0, c.supply_v).id_a;
-    for (double rd : load_resistors(shelf, g, a_int, b.gm_s, rs1, c.load_ohm, jfet_drain_room(b, g, c), most_a))
+    // The split's own current and transconductance, at their most (no drain resistor to take
+    // VDS, and with it the channel-length factor, down): the nominal piece's screen sees this
+    // leg and gate exactly.
+    // (gm = 2 sqrt(BETA (1 + lambda VDS) ID): at its most there as well.)
+    const JfetBias most = jfet_bias(j, vg_v, rs1 + rs2, 0.0, c.supply_v);
+    for (double rd :
+         load_resistors(shelf, g, a_int, b.gm_s, rs1, c.load_ohm, jfet_drain_room(b, g, c), most.id_a, most.gm_s))
       emit(rd, rs1, rs2);
   }
 }

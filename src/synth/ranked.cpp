@@ -301,6 +301,9 @@ class Searcher {
         stats.proposals += n;
         stats.failures[why] += n;
       }
+    // (A stage left out short of the gain reaches less than the bound it was left out by: the
+    // least gain the stages reach is at most that.)
+    if (left_out.gain > 0) stats.least_gain = std::min(stats.least_gain, left_out.least_gain);
     if (probe_) return;
     work.choice = std::make_unique<Choice>(builder, spec_, std::move(found));
   }

@@ -1,5 +1,5 @@
 // Tests of the bounds the design steps leave proposals out by (src/stages/common.cpp
-// short_of_swing_up; src/stages/bjt_ce_shunt.cpp short_of_gain): each bound is a property of
+// short_of_swing_up, short_of_gain and load_resistors; src/stages/bjt_ce_shunt.cpp): each bound is a property of
 // the circuit, checked here on the evaluator over every proposal the design steps make when
 // probing (which prunes nothing), at the device type's nominal piece and its corner pieces.
 //  - A class-A output rises at most by its quiescent current times its pull-up in parallel
@@ -21,6 +21,7 @@
 
 #include <cmath>
 #include <functional>
+#include <string_view>
 
 #include "../../src/stages/common.hpp"
 #include "../../src/stages/pair.hpp"
@@ -175,6 +176,49 @@ TEST_CASE("bjt-ce-shunt gains at most (RC || RL || RF) / RE1 and at most RF / (R
   CHECK(closest_ratio > 0.8);
 }
 
+TEST_CASE("a common source or emitter gains at most gm (R || RL) / (1 + gm R1) at its largest transconductance") {
+  // The small-signal gain of a source- or emitter-degenerated stage from its gate or base,
+  // gm RL' / (1 + gm RS1) (Sedra & Smith's CS and CE amplifiers with a source or emitter
+  // resistance), rises with gm; the output resistance, the base's own current and the input
+  // divider only lower the gain from the source. The largest gm the bias allows is at the
+  // stage's largest current: with no drain or collector resistor (the bound above), gm = IC/VT
+  // for the BJT and 2 sqrt(BETA (1 + lambda VDS) ID) for the JFET (common.cpp load_resistors).
+  struct Case {
+    const char* topology;
+    devices::DeviceRecord record;
+    const char* pull;
+    const char* r1;
+  };
+  const Case cases[] = {{"jfet-cs-self", njfet_record(), "RD", "RS1"},
+                        {"jfet-cs-divider", njfet_record(), "RD", "RS1"},
+                        {"bjt-ce-divider", npn_record(), "RC", "RE1"}};
+  for (const Case& k : cases) {
+    const Topology& t = *stages::find_topology(k.topology);
+    const auto at = [&](const Values& v, const char* name) { return v[t.role_index(name)]; };
+    double closest = 0;
+    const long n = each_working_proposal(
+        t, k.record, [&](const Values& v, const Conditions& c, const Transistor& q, const Performance& p) {
+          double gm = 0;
+          const double rs = std::string_view(k.topology) == "bjt-ce-divider" ? at(v, "RE1") + at(v, "RE2")
+                                                                             : at(v, "RS1") + at(v, "RS2");
+          if (std::string_view(k.topology) == "jfet-cs-self") {
+            gm = jfet_bias(q.jfet, 0.0, rs, 0.0, c.supply_v).gm_s;
+          } else {
+            const double r1 = at(v, "R1"), r2 = at(v, "R2");
+            gm = std::string_view(k.topology) == "jfet-cs-divider"
+                     ? jfet_bias(q.jfet, c.supply_v * r2 / (r1 + r2), rs, 0.0, c.supply_v).gm_s
+                     : bjt_bias(q.bjt, c.supply_v * r2 / (r1 + r2), par(r1, r2), rs, 0.0, c.supply_v).ic_a / q.bjt.vt_v;
+          }
+          const double bound = gm * par(at(v, k.pull), c.load_ohm) / (1.0 + gm * at(v, k.r1));
+          closest = std::max(closest, std::abs(p.gain) / bound);
+          CHECK_MESSAGE(std::abs(p.gain) <= bound * (1 + 1e-9), k.topology, ": gain ", p.gain, " over ", bound);
+        });
+    MESSAGE(fmt::format("{}: {} working stages, gain at most {:.4f} of its bound", k.topology, n, closest));
+    CHECK(n > 100);
+    CHECK(closest > 0.8);  // the bound is near where stages are, not vacuous
+  }
+}
+
 TEST_CASE("a feedback pair's input impedance is at most its gate or base divider's resistance to ground") {
   for (const char* name : {"jfet-fb-pair", "bjt-fb-pair", "bjt-fb-pair-same"}) {
     const Topology& t = *stages::find_topology(name);
@@ -227,6 +271,36 @@ TEST_CASE("what the design steps leave out by a bound is counted under its stop 
   }
   CHECK(total.swing > 100);
   CHECK(total.gain > 10);
+}
+
+TEST_CASE("a common source that cannot reach the gain into a heavy load proposes nothing, counted under gain") {
+  // A gain of 8 into 150 ohm asks gm (RD || 150) >= 8: above 53 mS even with RD open, where
+  // the test JFET gives a few mS at IDSS (2 IDSS / |VP|). Every proposal is left out; a probe
+  // (how close the stages come) still proposes them.
+  const E24Shelf shelf;
+  Conditions c;
+  c.supply_v = 9;
+  c.load_ohm = 150;
+  for (const char* name : {"jfet-cs-self", "jfet-cs-divider"}) {
+    const Topology& t = *stages::find_topology(name);
+    const devices::DeviceSpread spread(n_record_for(t));
+    const Transistor q = piece_of(spread, spread.nominal());
+    Goal g;
+    g.gain = 8;
+    g.gain_lo = 7.2;
+    g.zin_min_ohm = 10e3;
+    stages::LeftOut left;
+    g.left_out = &left;
+    long made = 0;
+    t.propose(g, q, c, shelf, [&](const Values&) { ++made; });
+    CHECK_MESSAGE(made == 0, name);
+    CHECK(left.gain > 10);
+    CHECK(left.least_gain < 1.0);  // (the bound each was left out by: far below the gain)
+    g.probe = true;
+    long probed = 0;
+    t.propose(g, q, c, shelf, [&](const Values&) { ++probed; });
+    CHECK(probed > 10);
+  }
 }
 
 TEST_CASE("a pair's divider below the input impedance asked leaves its sets out, counted under zin") {

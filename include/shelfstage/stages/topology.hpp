@@ -4,6 +4,7 @@
 #include <array>
 #include <cstddef>
 #include <functional>
+#include <limits>
 #include <optional>
 #include <span>
 #include <string>
@@ -320,6 +321,7 @@ class ValueSource {
 /// or proposal left out counts once.
 struct LeftOut {
   long swing = 0, gain = 0, zin = 0;
+  double least_gain = std::numeric_limits<double>::infinity();  ///< the least bound a gain stop was left out by
 };
 
 /// The targets a topology designs toward (the request, in the N frame).
