@@ -919,6 +919,22 @@ bool all_past_rating(const Run& run) {
   return !run.jobs.empty() && run.tally.past_rating >= static_cast<long>(run.jobs.size());
 }
 
+// Whether no working stage reached the gain.
+bool short_of_gain(const Run& run) {
+  return !run.jobs.empty() && !all_past_rating(run) && !run.tally.gain_met &&
+         run.tally.best_gain < run.spec.gain * (1.0 - run.spec.gain_tol);
+}
+
+// How close the stages come to a gain none reaches: a probe with the largest load resistors the
+// headroom allows. For the words alone, so only when they are given: not for a diagnosis's own
+// searches (which only ask whether anything fits) and not when letting a limit go names what
+// binds (a third of a request that fits nothing went on these probes).
+void probe_gain(const Run& run) {
+  SearchStats probe;
+  detail::run_jobs(run.spec, run.shelf, run.jobs, probe, {}, true);
+  run.tally.best_gain = std::max(run.tally.best_gain, probe.best_gain);
+}
+
 // What binds when nothing fits: the most common stop, unless the gain is out of reach, one
 // copy fits where several do not, or the swing is beyond the supply.
 std::string binding_of(const Run& run) {
@@ -929,18 +945,9 @@ std::string binding_of(const Run& run) {
   const bool only_ratings = all_past_rating(run);
   if (only_ratings) binding = "rating";
   if (tally.proposals == 0 && !only_ratings) binding = run.jobs.empty() ? "devices" : "gain";
-  if (!run.jobs.empty() && !only_ratings && !tally.gain_met && tally.best_gain < spec.gain * (1.0 - spec.gain_tol)) {
-    // No working stage reached the gain: that binds first. How close the stages come:
-    // probe with the largest load resistors the headroom allows (for the words: not for a
-    // diagnosis's own searches, which only ask whether anything fits; a third of a request
-    // that fits nothing went on their probes).
-    binding = "gain";
-    if (spec.explain_failure) {
-      SearchStats probe;
-      detail::run_jobs(spec, run.shelf, run.jobs, probe, {}, true);
-      tally.best_gain = std::max(tally.best_gain, probe.best_gain);
-    }
-  }
+  // No working stage reached the gain: that binds first (how close the stages come:
+  // probe_gain).
+  if (short_of_gain(run)) binding = "gain";
   // Several copies that the shelf holds too few pieces for: when one copy fits, the
   // quantity binds, whatever stopped the rest.
   if (spec.explain_failure && spec.copies > 1 && tally.failures.count("stock") && !run.jobs.empty()) {
@@ -1003,10 +1010,23 @@ void diagnose(Diagnosis& d, const Run& run) {
   const Spec& spec = run.spec;
   const bool searched = !run.jobs.empty();
   const std::string binding = binding_of(run);
-  d.binding = binding;
   const bool only_ratings = all_past_rating(run);
-  d.detail = searched ? describe_binding(binding, spec, run.tally, only_ratings)
-                      : "no stocked transistor fits the chosen topologies and device filters";
+  // Each limit let go in turn names what binds, when one alone does (not the quantity: one copy
+  // fits there; not a supply past every device's rating: no other limit let go changes that).
+  detail::Relaxed relaxed;
+  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock" && !only_ratings)
+    relaxed = detail::relax_each(spec, run.inv);
+  if (!relaxed.binding.empty()) {
+    d.binding = relaxed.binding;
+    d.detail = relaxed.detail;
+  } else {
+    if (binding == "gain" && spec.explain_failure && short_of_gain(run)) probe_gain(run);
+    d.binding = binding;
+    d.detail = searched ? describe_binding(binding, spec, run.tally, only_ratings)
+                        : "no stocked transistor fits the chosen topologies and device filters";
+    if (relaxed.any && binding != "gain")
+      d.detail += "; no one limit of the request, let go alone, gives a single stage that works";
+  }
   // A pair takes two types: a filter naming only its input device leaves it no Q2.
   if (!searched && !spec.devices.empty())
     for (const auto* t : stages::registry())
@@ -1015,9 +1035,6 @@ void diagnose(Diagnosis& d, const Run& run) {
         d.detail += " (a feedback pair takes two types: name its second transistor, Q2, with --device as well)";
         break;
       }
-  // (A supply past every device's rating: no other limit let go changes that.)
-  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock" && !only_ratings)
-    detail::explain_binding(d, spec, run.inv);
   if (divider_reaches(spec))
     d.detail = fmt::format(
         "a gain of {:.3g} is an attenuation of {:.1f} dB: two resistors as a divider give it without a "

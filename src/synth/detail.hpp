@@ -73,10 +73,16 @@ std::string supply_rating(const Spec& spec, const devices::DeviceRecord& record)
 enum class Depth { search, full };
 /// An electrolytic's smallest forward DC at any point checked (volts).
 inline constexpr double kPolarForwardV = 0.1;
+/// What letting each relaxable constraint of a request go in turn found (relax_each).
+struct Relaxed {
+  bool any = false;     ///< the request has one to let go
+  std::string binding;  ///< the first whose relaxation gives a design (empty: none does)
+  std::string detail;   ///< that design's figure against the request, in words
+};
 /// When nothing fits: searches again with each relaxable constraint of the spec let go in turn
 /// (single stages, the best only) and, for the first whose relaxation gives a design, names it
 /// as binding with that design's figure against the request (diagnose.cpp).
-void explain_binding(Diagnosis& d, const Spec& spec, const Inventory& inv);
+Relaxed relax_each(const Spec& spec, const Inventory& inv);
 /// How far the closed-form evaluator may sit from a full circuit simulation of the same build
 /// (measured against ngspice in tests/stages: gain within 0.05 %, bias and node voltages
 /// within 0.05 %, the -3 dB corners within 0.06 %, the clipping swing within 4.3 %, THD at the

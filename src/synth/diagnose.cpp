@@ -104,28 +104,27 @@ const std::vector<Relaxation>& relaxations() {
 //  2. The order goes from the constraint most often set by habit to the one least often:
 //     input impedance, distortion (before the swing it qualifies), swing, current, band.
 //  3. When no single relaxation finds a design, more than one constraint binds: the count of
-//     stops (design.cpp) stays the answer, and the sentence says so.
-void explain_binding(Diagnosis& d, const Spec& spec, const Inventory& inv) {
+//     stops (design.cpp) stays the answer, and the sentence says so (diagnose in design.cpp).
+Relaxed relax_each(const Spec& spec, const Inventory& inv) {
   Spec base = spec;
   base.explain_failure = false;
   base.top = 1;
   base.mc_samples = 0;
   base.stages_min = 1;
   base.stages_max = 1;
-  bool any = false;
+  Relaxed out;
   for (const Relaxation& r : relaxations()) {
     if (!r.applies(spec)) continue;
-    any = true;
+    out.any = true;
     Spec probe = base;
     r.relax(probe);
     const DesignResult got = design(probe, inv);
     if (got.candidates.empty()) continue;
-    d.binding = r.binding;
-    d.detail = r.said(spec, got.candidates.front());
-    return;
+    out.binding = r.binding;
+    out.detail = r.said(spec, got.candidates.front());
+    break;
   }
-  if (any && d.binding != "gain")
-    d.detail += "; no one limit of the request, let go alone, gives a single stage that works";
+  return out;
 }
 
 }  // namespace shelfstage::synth::detail
