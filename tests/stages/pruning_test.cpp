@@ -236,36 +236,47 @@ TEST_CASE("a feedback pair's input impedance is at most its gate or base divider
   }
 }
 
+namespace {
+
+// The proposals the design steps make for a gain of 8 (window from 7.2) with the topology's
+// nominal test piece, the stops of what they leave out going to `left` (probing: nothing left
+// out).
+long proposals_for_8(const char* name, const Conditions& c, double swing_peak_v, bool probe, stages::LeftOut& left) {
+  const E24Shelf shelf;
+  const Topology& t = *stages::find_topology(name);
+  const devices::DeviceSpread spread(n_record_for(t));
+  const Transistor q = piece_of(spread, spread.nominal());
+  Goal g;
+  g.gain = 8;
+  g.gain_lo = 7.2;
+  g.swing_peak_v = swing_peak_v;
+  g.zin_min_ohm = 10e3;
+  g.probe = probe;
+  g.left_out = &left;
+  long made = 0;
+  t.propose(g, q, c, shelf, [&](const Values&) { ++made; });
+  return made;
+}
+
+}  // namespace
+
 TEST_CASE("what the design steps leave out by a bound is counted under its stop (Goal::left_out)") {
   // A swing of 2 V peak into 10k from 12 V at a gain of 8: many drain and collector resistors
   // cannot rise by it at the currents the steps design for.
-  const E24Shelf shelf;
   Conditions c;
   c.supply_v = 12;
   c.load_ohm = 10e3;
   stages::LeftOut total;
   for (const char* name : {"jfet-cs-self", "jfet-cs-divider", "bjt-ce-divider", "bjt-ce-shunt"}) {
-    const Topology& t = *stages::find_topology(name);
-    const devices::DeviceSpread spread(n_record_for(t));
-    const Transistor q = piece_of(spread, spread.nominal());
-    Goal g;
-    g.gain = 8;
-    g.gain_lo = 7.2;
-    g.swing_peak_v = 2;
-    g.zin_min_ohm = 10e3;
     stages::LeftOut left;
-    g.left_out = &left;
-    long made = 0;
-    t.propose(g, q, c, shelf, [&](const Values&) { ++made; });
+    const long made = proposals_for_8(name, c, 2, false, left);
     MESSAGE(
         fmt::format("{}: {} proposed, {} left out for the swing, {} for the gain", name, made, left.swing, left.gain));
     total.swing += left.swing;
     total.gain += left.gain;
     // Probing leaves nothing out, and counts nothing.
     stages::LeftOut none;
-    g.left_out = &none;
-    g.probe = true;
-    t.propose(g, q, c, shelf, [](const Values&) {});
+    proposals_for_8(name, c, 2, true, none);
     CHECK(none.swing == 0);
     CHECK(none.gain == 0);
   }
@@ -277,29 +288,15 @@ TEST_CASE("a common source that cannot reach the gain into a heavy load proposes
   // A gain of 8 into 150 ohm asks gm (RD || 150) >= 8: above 53 mS even with RD open, where
   // the test JFET gives a few mS at IDSS (2 IDSS / |VP|). Every proposal is left out; a probe
   // (how close the stages come) still proposes them.
-  const E24Shelf shelf;
   Conditions c;
   c.supply_v = 9;
   c.load_ohm = 150;
   for (const char* name : {"jfet-cs-self", "jfet-cs-divider"}) {
-    const Topology& t = *stages::find_topology(name);
-    const devices::DeviceSpread spread(n_record_for(t));
-    const Transistor q = piece_of(spread, spread.nominal());
-    Goal g;
-    g.gain = 8;
-    g.gain_lo = 7.2;
-    g.zin_min_ohm = 10e3;
-    stages::LeftOut left;
-    g.left_out = &left;
-    long made = 0;
-    t.propose(g, q, c, shelf, [&](const Values&) { ++made; });
-    CHECK_MESSAGE(made == 0, name);
+    stages::LeftOut left, none;
+    CHECK_MESSAGE(proposals_for_8(name, c, 0, false, left) == 0, name);
     CHECK(left.gain > 10);
     CHECK(left.least_gain < 1.0);  // (the bound each was left out by: far below the gain)
-    g.probe = true;
-    long probed = 0;
-    t.propose(g, q, c, shelf, [&](const Values&) { ++probed; });
-    CHECK(probed > 10);
+    CHECK(proposals_for_8(name, c, 0, true, none) > 10);
   }
 }
 
