@@ -276,6 +276,11 @@ class Searcher {
           stats.past_rating_example = std::move(why);
           return;
         }
+    stages::Goal goal = builder.goal();
+    // A buffer gains less than one from its source (is_buffer): short of a window whose low end
+    // is past that with the models' tenth of slack (as stages' short_of_gain), it proposes
+    // nothing (and is not counted as proposing). A probe keeps it.
+    if (job.topology->is_buffer() && !probe_ && 1.0 < 0.9 * goal.gain_lo) return;
     const auto roles = job.topology->roles();
     std::deque<StageBuilder::Draft> found;  // (a deque: tens of thousands, never moved)
     SeenProposals seen;
@@ -285,7 +290,6 @@ class Searcher {
     // What the design steps leave out by a bound counts as proposed and stopped there
     // (stages::LeftOut).
     stages::LeftOut left_out;
-    stages::Goal goal = builder.goal();
     goal.left_out = &left_out;
     job.topology->propose(goal, builder.nominal_device(), builder.conditions(), values,
                           [&](const stages::Values& proposal) {
