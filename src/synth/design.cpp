@@ -600,6 +600,12 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
                        2 * detail::least_swing_peak(spec),
                        spec.swing_vpp ? "" : " (the least room kept when no swing is asked: a tenth of the supply)",
                        2 * t.best_swing);
+  // Likewise stages with the gain whose input impedance holds at nominal.
+  if (binding == "zin" && t.best_zin >= spec.zin_min_ohm)
+    return fmt::format(
+        "stages with the gain keep their input impedance above {} at nominal (up to {}), but none that does meets "
+        "the rest of the request",
+        units::format_value(spec.zin_min_ohm, units::Unit::ohm), units::format_value(t.best_zin, units::Unit::ohm));
   if (binding == "zin")
     return fmt::format("no stage keeps its input impedance above {}: the best reaches {}",
                        units::format_value(spec.zin_min_ohm, units::Unit::ohm),
@@ -1005,18 +1011,46 @@ bool divider_reaches(const Spec& spec) {
   return spec.gain < 1.0 && spec.gain <= spec.load_ohm / (spec.source_ohm + std::max(spec.zin_min_ohm, spec.load_ohm));
 }
 
+// What every stage takes and the shelf holds none of, in words (empty: it holds some of each):
+// resistors, capacitors, or a piece of any transistor or op-amp type the stages take.
+std::string shelf_lacks(const Run& run) {
+  bool resistors = false, capacitors = false;
+  for (const auto& p : run.inv.parts)
+    if (!p.removed && p.available() > 0) {
+      resistors |= p.kind == store::PartKind::resistor;
+      capacitors |= p.kind == store::PartKind::capacitor;
+    }
+  if (!resistors || !capacitors)
+    return fmt::format("the shelf holds no {} to build a stage with", !resistors && !capacitors
+                                                                          ? "resistors or capacitors"
+                                                                      : !resistors ? "resistors"
+                                                                                   : "capacitors");
+  const bool any_device = std::any_of(run.jobs.begin(), run.jobs.end(), [](const detail::Job& j) {
+    return j.device_available > 0 && (!j.device2 || j.device2_available > 0);
+  });
+  if (!run.jobs.empty() && !any_device)
+    return "the shelf holds no piece of the transistor or op-amp types the stages take (their types are described, "
+           "none is stocked)";
+  return {};
+}
+
 // When nothing fits: which constraint binds, why, and what purchases would help.
 void diagnose(Diagnosis& d, const Run& run) {
   const Spec& spec = run.spec;
   const bool searched = !run.jobs.empty();
   const std::string binding = binding_of(run);
   const bool only_ratings = all_past_rating(run);
+  // A shelf without a kind of part every stage takes: that binds, whatever the counts say.
+  const std::string lacks = searched && !only_ratings ? shelf_lacks(run) : std::string();
   // Each limit let go in turn names what binds, when one alone does (not the quantity: one copy
   // fits there; not a supply past every device's rating: no other limit let go changes that).
   detail::Relaxed relaxed;
-  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock" && !only_ratings)
+  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock" && !only_ratings && lacks.empty())
     relaxed = detail::relax_each(spec, run.inv);
-  if (!relaxed.binding.empty()) {
+  if (!lacks.empty()) {
+    d.binding = "stock";
+    d.detail = lacks;
+  } else if (!relaxed.binding.empty()) {
     d.binding = relaxed.binding;
     d.detail = relaxed.detail;
   } else {
