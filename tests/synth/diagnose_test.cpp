@@ -181,3 +181,24 @@ TEST_CASE("a pair with only its input device named says its second transistor mu
   s.devices.push_back("SQ-510");  // named: the pair is designed
   CHECK_FALSE(synth::design(s, shelf()).candidates.empty());
 }
+
+TEST_CASE("a drawer without a kind of part every stage takes says so, not that the gain is out of reach") {
+  // The demo shelf's request of gain 8 into 10k fits (checked first); with the resistors
+  // taken off, or the transistors and op-amps, nothing can, and the reason is the drawer.
+  const synth::Spec s = request(8, 10e3, 12, 100e3);
+  REQUIRE_FALSE(synth::design(s, shelf()).candidates.empty());
+  auto without = [&](auto drop) {
+    synth::Inventory inv = shelf();
+    std::erase_if(inv.parts, drop);
+    return synth::design(s, inv);
+  };
+  const auto no_r = without([](const store::Part& p) { return p.kind == store::PartKind::resistor; });
+  REQUIRE(no_r.candidates.empty());
+  CHECK(no_r.diagnosis.binding == "stock");
+  CHECK(has(no_r.diagnosis.detail, "the shelf holds no resistors to build a stage with"));
+  CHECK_FALSE(has(no_r.diagnosis.detail, "the largest any stocked device reaches"));
+  const auto no_q = without([](const store::Part& p) { return !store::is_passive(p.kind); });
+  REQUIRE(no_q.candidates.empty());
+  CHECK(no_q.diagnosis.binding == "stock");
+  CHECK(has(no_q.diagnosis.detail, "no piece of the transistor or op-amp types"));
+}
