@@ -196,7 +196,9 @@ double parse_gain(std::string_view text) {
     gain = from_db(gain);
   } else {
     if (negative) {
-      fail_at(what, text, start, "a gain in V/V is a magnitude: give it without a sign, or in dB");
+      fail(what, text, start,
+           "a gain in V/V is a magnitude: give it without a sign (an inverting stage's as well; a loss as a gain below "
+           "one, or in negative dB)");
     }
     if (gain == 0) fail(what, text, start, "must be greater than zero");
     if (gain < detail::min_magnitude || gain > detail::max_magnitude) out_of_range();

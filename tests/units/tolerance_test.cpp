@@ -147,7 +147,8 @@ TEST_CASE("Gain in V/V or dB: 10 10x 10 V/V 20dB 20 dB -6dB") {
 TEST_CASE("Gain errors: zero, negative V/V, NaN, junk") {
   CHECK(message("0", true) == "gain '0': must be greater than zero");
   CHECK(message("-10", true) ==
-        "gain '-10': a gain in V/V is a magnitude: give it without a sign, or in dB at column 1");
+        "gain '-10': a gain in V/V is a magnitude: give it without a sign (an inverting stage's as well; a loss as a "
+        "gain below one, or in negative dB)");
   CHECK(message("", true) == "gain '': empty");
   CHECK(message("ten", true) == "gain 'ten': expected a number, found 't' at column 1");
   CHECK(message("10 dBm", true) ==
