@@ -102,9 +102,11 @@ const std::vector<Relaxation>& relaxations() {
 //     diagnosis of its own), with one constraint let go and every other kept. The first that
 //     finds a design names the binding constraint, with its figure against the request.
 //  2. The order goes from the constraint most often set by habit to the one least often:
-//     input impedance, distortion (before the swing it qualifies), swing, current, band.
+//     input impedance, distortion (before the swing it qualifies), swing, phase margin,
+//     current, band.
 //  3. When no single relaxation finds a design, more than one constraint binds: the count of
-//     stops (design.cpp) stays the answer, and the sentence says so (diagnose in design.cpp).
+//     stops (design.cpp) stays the answer, and the sentence says so (diagnose in design.cpp,
+//     which only then probes how close the stages come to a gain none reaches).
 Relaxed relax_each(const Spec& spec, const Inventory& inv) {
   Spec base = spec;
   base.explain_failure = false;
