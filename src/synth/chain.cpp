@@ -385,7 +385,14 @@ class ChainSearch {
     const double share = gain_share(plan);
     const double out_peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0.0;
     layers.resize(n);
+    // The fewest pieces the positions before `pos` bring, their pools not yet made.
+    const auto ahead = [&](std::size_t pos) {
+      int pieces = 0;
+      for (std::size_t k = 0; k < pos; ++k) pieces += least_pieces(plan[k], k);
+      return pieces;
+    };
     for (std::size_t pos = n; pos-- > 0;) {
+      if (floor_of(layers, pos + 1, ahead(pos + 1)) > bar({})) return false;
       double after = 1.0;  // gain assumed after this position
       for (std::size_t k = pos + 1; k < n; ++k) after *= plan[k] == Slot::gain ? share : kBufferGain;
       const double peak = out_peak / after;
@@ -405,34 +412,64 @@ class ChainSearch {
       for (const auto* p : pools(requests))
         for (const auto& c : *p) layers[pos].push_back(&c);
       if (layers[pos].empty()) return false;
-      if (floor_of(layers, pos) > bar({})) return false;
+      if (floor_of(layers, pos, ahead(pos)) > bar({})) return false;
     }
     return true;
   }
 
+  /// The fewest pieces a stage of the slot brings to a chain at position `pos` (as
+  /// pieces_in_chain counts them), before its pool is made: its device and a piece for each
+  /// role it cannot leave out, less the input capacitor after the first stage.
+  int least_pieces(Slot slot, std::size_t pos) const {
+    int least = std::numeric_limits<int>::max();
+    for (const auto* t : topologies(slot)) {
+      int pieces = 1;
+      for (const auto& role : t->roles())
+        if (!role.optional && !(pos > 0 && role.name == "CIN")) ++pieces;
+      least = std::min(least, pieces);
+    }
+    return least == std::numeric_limits<int>::max() ? 0 : least;
+  }
+
   /// A floor under the foreseen score (foresee) of every path through the layers from `from`
-  /// on, whatever the layers before them: each layer's least spread of worst-case gain (the
-  /// highest end over the lowest) multiplied, and the least error a gain with that spread can
-  /// have, centred; each layer's fewest pieces (a stage after the first without its input
-  /// capacitor, as link() takes it); the stage points. When it lies past the bar, no path of
-  /// the plan would reach the corner pass, whatever the pools before it: they are not made.
+  /// on, with `ahead` pieces at the least before them: each layer's least spread of worst-case
+  /// gain (the highest end over the lowest) multiplied, and the least error a gain with that
+  /// spread can have, centred; each layer's fewest pieces (a stage after the first without its
+  /// input capacitor, as link() takes it) and those ahead; the stage points. When it lies past
+  /// the bar, no path of the plan would reach the corner pass, whatever the pools before it:
+  /// they are not made (nor any pool, when the stage points and the least pieces of every
+  /// position pass it already).
   /// (A refinement redesigns a path's last gain stage, and its spread could come out below
   /// the pool's least: the forecast's room covers that as it covers the forecast's error.)
-  double floor_of(const std::vector<std::vector<const Candidate*>>& layers, std::size_t from) const {
-    double spread = 1.0;
-    int pieces = 0;
+  double floor_of(const std::vector<std::vector<const Candidate*>>& layers, std::size_t from, int ahead) const {
+    // Over every choice of one stage per layer: the least spread (its log) for each count of
+    // pieces, only the counts whose spread is below every smaller count's kept (the least
+    // spread and the fewest pieces of a layer are seldom one stage's).
+    std::map<int, double> least{{ahead, 0.0}};
     for (std::size_t pos = from; pos < layers.size(); ++pos) {
-      double least_spread = std::numeric_limits<double>::infinity();
-      int least_pieces = std::numeric_limits<int>::max();
+      std::map<int, double> layer;
       for (const Candidate* c : layers[pos]) {
         const auto ends = gain_ends(*c);
-        least_spread = std::min(least_spread, ends ? ends->second / ends->first : 1.0);
-        least_pieces = std::min(least_pieces, pieces_in_chain(*c, pos));
+        const double log_spread = ends ? std::log(ends->second / ends->first) : 0.0;
+        const auto [it, fresh] = layer.emplace(pieces_in_chain(*c, pos), log_spread);
+        if (!fresh) it->second = std::min(it->second, log_spread);
       }
-      spread *= least_spread;
-      pieces += least_pieces;
+      std::map<int, double> joined;
+      for (const auto& [pa, sa] : least)
+        for (const auto& [pb, sb] : layer) {
+          const auto [it, fresh] = joined.emplace(pa + pb, sa + sb);
+          if (!fresh) it->second = std::min(it->second, sa + sb);
+        }
+      least.clear();
+      for (const auto& [p, ls] : joined)
+        if (least.empty() || ls < least.rbegin()->second) least.emplace(p, ls);
     }
-    return kPiecePoints * pieces + 100.0 * (spread - 1.0) / (spread + 1.0) + stage_points(layers.size());
+    double floor = std::numeric_limits<double>::infinity();
+    for (const auto& [p, ls] : least) {
+      const double spread = std::exp(ls);
+      floor = std::min(floor, kPiecePoints * p + 100.0 * (spread - 1.0) / (spread + 1.0));
+    }
+    return floor + stage_points(layers.size());
   }
 
   /// The edge from a to b when the loading is acceptable: b's input impedance at least
