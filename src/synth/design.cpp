@@ -962,7 +962,7 @@ std::string binding_of(const Run& run) {
     one.mc_samples = 0;
     one.top = 1;
     one.explain_failure = false;
-    if (!design(one, run.inv).candidates.empty()) binding = "stock";
+    if (!detail::design_on(one, run.inv, run.shelf).candidates.empty()) binding = "stock";
   }
   // A swing beyond the supply binds before anything else: an output swings within its rail.
   if (spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v) binding = "swing";
@@ -1046,7 +1046,7 @@ void diagnose(Diagnosis& d, const Run& run) {
   // fits there; not a supply past every device's rating: no other limit let go changes that).
   detail::Relaxed relaxed;
   if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock" && !only_ratings && lacks.empty())
-    relaxed = detail::relax_each(spec, run.inv);
+    relaxed = detail::relax_each(spec, run.inv, run.shelf);
   if (!lacks.empty()) {
     d.binding = "stock";
     d.detail = lacks;
@@ -1087,19 +1087,17 @@ void diagnose(Diagnosis& d, const Run& run) {
 
 }  // namespace
 
-DesignResult design(const Spec& spec, const Inventory& inv, const Progress& progress) {
+namespace detail {
+
+DesignResult design_on(const Spec& spec, const Inventory& inv, const Shelf& shelf, const Progress& progress) {
   validate(spec);
   const auto start = std::chrono::steady_clock::now();
   DesignResult r;
   r.spec = spec;
   auto t = start;
   const std::vector<detail::Job> jobs = detail::make_jobs(spec, inv);
-  Shelf::Options so;
-  so.combine = spec.combine;
-  const Shelf shelf(inv.parts, so);
   SearchStats tally;
   const Run run{spec, inv, shelf, jobs, tally, progress, r.phases};
-  r.phases.shelf = lap(t);
   r.candidates = search_designs(run);
   t = std::chrono::steady_clock::now();
   r.proposals = tally.proposals;
@@ -1116,6 +1114,21 @@ DesignResult design(const Spec& spec, const Inventory& inv, const Progress& prog
   if (r.candidates.empty()) diagnose(r.diagnosis, run);
   r.phases.diagnose = lap(t);
   r.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return r;
+}
+
+}  // namespace detail
+
+DesignResult design(const Spec& spec, const Inventory& inv, const Progress& progress) {
+  validate(spec);
+  const auto start = std::chrono::steady_clock::now();
+  Shelf::Options so;
+  so.combine = spec.combine;
+  const Shelf shelf(inv.parts, so);
+  const double built = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  DesignResult r = detail::design_on(spec, inv, shelf, progress);
+  r.phases.shelf = built;
+  r.seconds += built;
   return r;
 }
 

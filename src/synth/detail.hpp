@@ -82,7 +82,10 @@ struct Relaxed {
 /// When nothing fits: searches again with each relaxable constraint of the spec let go in turn
 /// (single stages, the best only) and, for the first whose relaxation gives a design, names it
 /// as binding with that design's figure against the request (diagnose.cpp).
-Relaxed relax_each(const Spec& spec, const Inventory& inv);
+Relaxed relax_each(const Spec& spec, const Inventory& inv, const Shelf& shelf);
+/// design() on a shelf already built from inv.parts with spec.combine: the searches a search
+/// makes of its own (a diagnosis's) share the shelf and what it has learned.
+DesignResult design_on(const Spec& spec, const Inventory& inv, const Shelf& shelf, const Progress& progress = {});
 /// How far the closed-form evaluator may sit from a full circuit simulation of the same build
 /// (measured against ngspice in tests/stages: gain within 0.05 %, bias and node voltages
 /// within 0.05 %, the -3 dB corners within 0.06 %, the clipping swing within 4.3 %, THD at the

@@ -107,7 +107,7 @@ const std::vector<Relaxation>& relaxations() {
 //  3. When no single relaxation finds a design, more than one constraint binds: the count of
 //     stops (design.cpp) stays the answer, and the sentence says so (diagnose in design.cpp,
 //     which only then probes how close the stages come to a gain none reaches).
-Relaxed relax_each(const Spec& spec, const Inventory& inv) {
+Relaxed relax_each(const Spec& spec, const Inventory& inv, const Shelf& shelf) {
   Spec base = spec;
   base.explain_failure = false;
   base.top = 1;
@@ -120,7 +120,7 @@ Relaxed relax_each(const Spec& spec, const Inventory& inv) {
     out.any = true;
     Spec probe = base;
     r.relax(probe);
-    const DesignResult got = design(probe, inv);
+    const DesignResult got = design_on(probe, inv, shelf);
     if (got.candidates.empty()) continue;
     out.binding = r.binding;
     out.detail = r.said(spec, got.candidates.front());
