@@ -926,7 +926,7 @@ bool all_past_rating(const Run& run) {
 }
 
 // Whether no working stage reached the gain.
-bool short_of_gain(const Run& run) {
+bool no_stage_reaches_gain(const Run& run) {
   return !run.jobs.empty() && !all_past_rating(run) && !run.tally.gain_met &&
          run.tally.best_gain < run.spec.gain * (1.0 - run.spec.gain_tol);
 }
@@ -953,7 +953,7 @@ std::string binding_of(const Run& run) {
   if (tally.proposals == 0 && !only_ratings) binding = run.jobs.empty() ? "devices" : "gain";
   // No working stage reached the gain: that binds first (how close the stages come:
   // probe_gain).
-  if (short_of_gain(run)) binding = "gain";
+  if (no_stage_reaches_gain(run)) binding = "gain";
   // Several copies that the shelf holds too few pieces for: when one copy fits, the
   // quantity binds, whatever stopped the rest.
   if (spec.explain_failure && spec.copies > 1 && tally.failures.count("stock") && !run.jobs.empty()) {
@@ -1054,7 +1054,7 @@ void diagnose(Diagnosis& d, const Run& run) {
     d.binding = relaxed.binding;
     d.detail = relaxed.detail;
   } else {
-    if (binding == "gain" && spec.explain_failure && short_of_gain(run)) probe_gain(run);
+    if (binding == "gain" && spec.explain_failure && no_stage_reaches_gain(run)) probe_gain(run);
     d.binding = binding;
     d.detail = searched ? describe_binding(binding, spec, run.tally, only_ratings)
                         : "no stocked transistor fits the chosen topologies and device filters";
