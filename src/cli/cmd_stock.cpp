@@ -54,7 +54,11 @@ struct StockAddOptions {
 Part part_from_options(const StockAddOptions& o, const store::Database& db) {
   Part p;
   if (!store::parse_kind_code(o.kind, p.kind)) {
-    throw InputError(fmt::format("kind '{}' is not one of {}", units::clip(o.kind), store::kind_codes_text()));
+    // (KIND:VALUE names a line in the other commands; here the kind and value are two words.)
+    throw InputError(fmt::format("kind '{}' is not one of {}{}", units::clip(o.kind), store::kind_codes_text(),
+                                 o.kind.find(':') != std::string::npos
+                                     ? " (`stock add` takes the kind and the value as two words: R 4k7)"
+                                     : ""));
   }
   const bool resistor = p.kind == PartKind::resistor;
   const bool capacitor = p.kind == PartKind::capacitor;

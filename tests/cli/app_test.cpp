@@ -108,6 +108,23 @@ TEST_CASE("a misspelt option or command is named, with the one meant when it is 
   CHECK(past.err.starts_with("error: unexpected argument '--swing' (see"));
 }
 
+TEST_CASE("`stock add` given a line's name (KIND:VALUE) says to write the kind and the value apart") {
+  // The other stock commands name a line R:4k7@A6; `add` takes KIND VALUE QTY. CLI11 alone
+  // said "QTY is required".
+  const auto r = run({"stock", "add", "R:4k7@A6", "10"});
+  CHECK(r.status == 1);
+  CHECK(r.out.empty());
+  CHECK(r.err ==
+        "error: KIND 'R:4k7@A6': give the kind and the value as two words, then the count (`shelfstage stock add R "
+        "4k7 QTY --bin A6`) (see `shelfstage stock add --help`)\n");
+  CHECK(run({"stock", "add", "NPN:SQ-410"}).err.starts_with("error: KIND 'NPN:SQ-410': give the kind and the value"));
+  // With all three words the kind is refused, with the same hint.
+  CHECK(run({"stock", "add", "R:4k7", "10", "3"}).err.find("takes the kind and the value as two words") !=
+        std::string::npos);
+  // A kind without a colon keeps CLI11's word for the missing count.
+  CHECK(run({"stock", "add", "R", "4k7"}).err.starts_with("error: QTY is required"));
+}
+
 TEST_CASE("an error line stays short however many bytes it echoes escaped (a fuzz find)") {
   // A stray quote in the word pairs the message's quotes wrongly, so a long stretch of it
   // was no quoted value to clip; each of its non-UTF-8 bytes is four bytes escaped.
