@@ -181,6 +181,23 @@ std::map<std::string, int> stocked_units(const Inventory& inv);
 std::map<std::string, int> device_units_needed(const Candidate& c, int copies);
 /// Every topology x device job the spec allows (InputError for unknown names).
 std::vector<Job> make_jobs(const Spec& spec, const Inventory& inv);
+/// One design run: the request, the stock, the shelf made of it, the search jobs, the tally.
+struct Run {
+  const Spec& spec;
+  const Inventory& inv;
+  const Shelf& shelf;
+  const std::vector<Job>& jobs;
+  SearchStats& tally;
+  const Progress& progress;
+  DesignResult::Phases& phases;
+};
+/// When nothing fits: which constraint binds, why, and what purchases would help
+/// (diagnose.cpp).
+void diagnose(Diagnosis& d, const Run& run);
+/// Whether the gain is an attenuation two resistors give as a divider, within the input
+/// impedance asked (diagnose.cpp).
+bool divider_reaches(const Spec& spec);
+
 struct JobWork;
 
 /// The candidates of a search in rank order (score, then pieces, then job, then the job's
