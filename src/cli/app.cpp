@@ -85,24 +85,6 @@ std::string parse_error_text(const CLI::App& app, const CLI::ParseError& e) {
     for (const std::string& c : commands) names += (names.empty() ? "" : ", ") + c;
     return "`" + command_path(app) + "` needs a command: " + names + hint;
   }
-  // `stock add R:4k7 10`: the line-name form other commands take (KIND:VALUE), where `add`
-  // takes the kind and the value as two words; CLI11 then says only that QTY is missing.
-  if (dynamic_cast<const CLI::RequiredError*>(&e) != nullptr) {
-    const CLI::Option* kind = where->get_option_no_throw("KIND");
-    if (kind != nullptr && where->get_option_no_throw("VALUE") != nullptr && kind->count() > 0) {
-      const std::string given = kind->results().front();
-      const auto colon = given.find(':');
-      if (colon != std::string::npos && colon > 0) {
-        std::string value = given.substr(colon + 1), bin;
-        if (const auto at = value.find('@'); at != std::string::npos) {
-          bin = " --bin " + value.substr(at + 1);
-          value.resize(at);
-        }
-        return "KIND '" + given + "': give the kind and the value as two words, then the count (`" + command_path(app) +
-               " " + given.substr(0, colon) + " " + value + " QTY" + bin + "`)" + hint;
-      }
-    }
-  }
   return e.what() + hint;
 }
 

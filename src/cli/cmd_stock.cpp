@@ -54,11 +54,7 @@ struct StockAddOptions {
 Part part_from_options(const StockAddOptions& o, const store::Database& db) {
   Part p;
   if (!store::parse_kind_code(o.kind, p.kind)) {
-    // (KIND:VALUE names a line in the other commands; here the kind and value are two words.)
-    throw InputError(fmt::format("kind '{}' is not one of {}{}", units::clip(o.kind), store::kind_codes_text(),
-                                 o.kind.find(':') != std::string::npos
-                                     ? " (`stock add` takes the kind and the value as two words: R 4k7)"
-                                     : ""));
+    throw InputError(fmt::format("kind '{}' is not one of {}", units::clip(o.kind), store::kind_codes_text()));
   }
   const bool resistor = p.kind == PartKind::resistor;
   const bool capacitor = p.kind == PartKind::capacitor;
@@ -119,7 +115,26 @@ void run_stock_add(const StockAddOptions& o, Context& ctx) {
 void setup_stock_add(CLI::App& stock, Context& ctx) {
   auto o = std::make_shared<StockAddOptions>();
   CLI::App* cmd = stock.add_subcommand("add", "Put pieces on the shelf (a new line, or more of an existing one)");
-  cmd->add_option("KIND", o->kind, "R, C, NJFET, PJFET, NPN, PNP or OPAMP")->type_name("")->required();
+  // (`stock add R:4k7 10`: the line-name form the other stock commands take. Checked as the
+  // word is read, before CLI11 would say only that QTY is missing.)
+  const CLI::Validator two_words(
+      [](const std::string& kind) -> std::string {
+        const auto colon = kind.find(':');
+        if (colon == std::string::npos || colon == 0) return {};
+        std::string value = kind.substr(colon + 1), bin;
+        if (const auto at = value.find('@'); at != std::string::npos) {
+          bin = " --bin " + value.substr(at + 1);
+          value.resize(at);
+        }
+        return fmt::format(
+            "'{}': give the kind and the value as two words, then the count (`shelfstage stock add {} {} QTY{}`)", kind,
+            kind.substr(0, colon), value, bin);
+      },
+      "");
+  cmd->add_option("KIND", o->kind, "R, C, NJFET, PJFET, NPN, PNP or OPAMP")
+      ->type_name("")
+      ->required()
+      ->check(two_words);
   cmd->add_option("VALUE", o->value,
                   "R: ohms, C: farads, in SI or IEC 60062 notation (4.7k, 4k7, 100n, 2u2);\n"
                   "a transistor or op-amp: its device name from `shelfstage devices list`")
