@@ -32,6 +32,16 @@ struct Relaxation {
   std::function<std::string(const Spec&, const Candidate&)> said;
 };
 
+// The request as a diagnosis's own search puts it: only whether anything fits (the best
+// design, no Monte Carlo, no diagnosis of its own).
+Spec asking_whether_it_fits(const Spec& spec) {
+  Spec s = spec;
+  s.explain_failure = false;
+  s.top = 1;
+  s.mc_samples = 0;
+  return s;
+}
+
 std::string stage_words(const Candidate& c) { return fmt::format("{} with {}", c.topology_name(), c.device.name); }
 
 const std::vector<Relaxation>& relaxations() {
@@ -111,10 +121,7 @@ const std::vector<Relaxation>& relaxations() {
 //     stops (binding_of, below) stays the answer, and the sentence says so (diagnose, which
 //     only then probes how close the stages come to a gain none reaches).
 Relaxed relax_each(const Spec& spec, const Inventory& inv, const Shelf& shelf) {
-  Spec base = spec;
-  base.explain_failure = false;
-  base.top = 1;
-  base.mc_samples = 0;
+  Spec base = asking_whether_it_fits(spec);
   base.stages_min = 1;
   base.stages_max = 1;
   Relaxed out;
@@ -154,14 +161,14 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
         *spec.swing_vpp, units::format_value(spec.supply_lo_v, units::Unit::volt));
   // Stages with the gain that swing enough at nominal, stopped by something else (the swing at
   // a corner, or another limit): the largest swing they reach says nothing against the swing.
-  if (binding == "swing" && t.best_swing >= detail::least_swing_peak(spec))
+  if (binding == "swing" && t.best_swing >= least_swing_peak(spec))
     return fmt::format(
         "stages with the gain swing {:.3g} Vpp at nominal (up to {:.3g} Vpp), but none that does meets the rest "
         "of the request",
-        2 * detail::least_swing_peak(spec), 2 * t.best_swing);
+        2 * least_swing_peak(spec), 2 * t.best_swing);
   if (binding == "swing")
     return fmt::format("no stage swings {:.3g} Vpp{} at every corner: the best reaches {:.3g} Vpp at nominal",
-                       2 * detail::least_swing_peak(spec),
+                       2 * least_swing_peak(spec),
                        spec.swing_vpp ? "" : " (the least room kept when no swing is asked: a tenth of the supply)",
                        2 * t.best_swing);
   // Likewise stages with the gain whose input impedance holds at nominal.
@@ -252,7 +259,7 @@ bool no_stage_reaches_gain(const Run& run) {
 // binds (a third of a request that fits nothing went on these probes).
 void probe_gain(const Run& run) {
   SearchStats probe;
-  detail::run_jobs(run.spec, run.shelf, run.jobs, probe, {}, true);
+  run_jobs(run.spec, run.shelf, run.jobs, probe, {}, true);
   run.tally.best_gain = std::max(run.tally.best_gain, probe.best_gain);
 }
 
@@ -272,12 +279,9 @@ std::string binding_of(const Run& run) {
   // Several copies that the shelf holds too few pieces for: when one copy fits, the
   // quantity binds, whatever stopped the rest.
   if (spec.explain_failure && spec.copies > 1 && tally.failures.count("stock") && !run.jobs.empty()) {
-    Spec one = spec;
+    Spec one = asking_whether_it_fits(spec);
     one.copies = 1;
-    one.mc_samples = 0;
-    one.top = 1;
-    one.explain_failure = false;
-    if (!detail::design_on(one, run.inv, run.shelf).candidates.empty()) binding = "stock";
+    if (!design_on(one, run.inv, run.shelf).candidates.empty()) binding = "stock";
   }
   // A swing beyond the supply binds before anything else: an output swings within its rail.
   if (spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v) binding = "swing";
@@ -332,7 +336,7 @@ std::string shelf_lacks(const Run& run) {
                                                                           ? "resistors or capacitors"
                                                                       : !resistors ? "resistors"
                                                                                    : "capacitors");
-  const bool any_device = std::any_of(run.jobs.begin(), run.jobs.end(), [](const detail::Job& j) {
+  const bool any_device = std::any_of(run.jobs.begin(), run.jobs.end(), [](const Job& j) {
     return j.device_available > 0 && (!j.device2 || j.device2_available > 0);
   });
   if (!run.jobs.empty() && !any_device)
@@ -354,15 +358,16 @@ bool divider_reaches(const Spec& spec) {
 void diagnose(Diagnosis& d, const Run& run) {
   const Spec& spec = run.spec;
   const bool searched = !run.jobs.empty();
-  const std::string binding = binding_of(run);
   const bool only_ratings = all_past_rating(run);
   // A shelf without a kind of part every stage takes: that binds, whatever the counts say.
   const std::string lacks = searched && !only_ratings ? shelf_lacks(run) : std::string();
+  const std::string binding = lacks.empty() ? binding_of(run) : "stock";
   // Each limit let go in turn names what binds, when one alone does (not the quantity: one copy
-  // fits there; not a supply past every device's rating: no other limit let go changes that).
-  detail::Relaxed relaxed;
-  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock" && !only_ratings && lacks.empty())
-    relaxed = detail::relax_each(spec, run.inv, run.shelf);
+  // fits there, or the drawer lacks a kind of part; not a supply past every device's rating: no
+  // other limit let go changes that).
+  Relaxed relaxed;
+  if (searched && spec.explain_failure && spec.stages_min <= 1 && binding != "stock" && !only_ratings)
+    relaxed = relax_each(spec, run.inv, run.shelf);
   if (!lacks.empty()) {
     d.binding = "stock";
     d.detail = lacks;
