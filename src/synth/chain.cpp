@@ -29,9 +29,9 @@
 #include <boost/graph/adjacency_list.hpp>
 #include <cmath>
 #include <fmt/format.h>
+#include <limits>
 #include <map>
 #include <optional>
-#include <limits>
 #include <set>
 #include <atomic>
 #include <thread>
@@ -385,6 +385,8 @@ class ChainSearch {
     const double share = gain_share(plan);
     const double out_peak = spec_.swing_vpp ? *spec_.swing_vpp / 2 : 0.0;
     layers.resize(n);
+    // (The chains kept so far do not change while the plan's pools are made.)
+    const double limit = bar({});
     // The fewest pieces the positions before `pos` bring, their pools not yet made.
     const auto ahead = [&](std::size_t pos) {
       int pieces = 0;
@@ -392,7 +394,7 @@ class ChainSearch {
       return pieces;
     };
     for (std::size_t pos = n; pos-- > 0;) {
-      if (floor_of(layers, pos + 1, ahead(pos + 1)) > bar({})) return false;
+      if (floor_of(layers, pos + 1, ahead(pos + 1)) > limit) return false;
       double after = 1.0;  // gain assumed after this position
       for (std::size_t k = pos + 1; k < n; ++k) after *= plan[k] == Slot::gain ? share : kBufferGain;
       const double peak = out_peak / after;
@@ -412,7 +414,7 @@ class ChainSearch {
       for (const auto* p : pools(requests))
         for (const auto& c : *p) layers[pos].push_back(&c);
       if (layers[pos].empty()) return false;
-      if (floor_of(layers, pos, ahead(pos)) > bar({})) return false;
+      if (floor_of(layers, pos, ahead(pos)) > limit) return false;
     }
     return true;
   }
