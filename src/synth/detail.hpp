@@ -83,8 +83,9 @@ struct Relaxed {
 /// (single stages, the best only) and, for the first whose relaxation gives a design, names it
 /// as binding with that design's figure against the request (diagnose.cpp).
 Relaxed relax_each(const Spec& spec, const Inventory& inv, const Shelf& shelf);
-/// design() on a shelf already built from inv.parts with spec.combine: the searches a search
-/// makes of its own (a diagnosis's) share the shelf and what it has learned.
+/// design() on a shelf already built from inv.parts with spec.combine, for a spec design()
+/// has validated (or one made from such by letting a limit go): the searches a search makes
+/// of its own (a diagnosis's) share the shelf and what it has learned.
 DesignResult design_on(const Spec& spec, const Inventory& inv, const Shelf& shelf, const Progress& progress = {});
 /// How far the closed-form evaluator may sit from a full circuit simulation of the same build
 /// (measured against ngspice in tests/stages: gain within 0.05 %, bias and node voltages
