@@ -151,8 +151,13 @@ std::string describe_binding(const std::string& binding, const Spec& spec, const
         "stages reach a gain of {:.3g} (up to {:.3g} into {}), but none that does meets the rest of the "
         "request",
         spec.gain, t.best_gain, units::format_value(spec.load_ohm, units::Unit::ohm));
+  // (The stages searched, and the probe of how close they come, keep the input impedance
+  // asked: the words say so, since without it the gain may well be in reach.)
   if (binding == "gain")
-    return fmt::format("no stage reaches a gain of {:.3g} into {}: the largest any stocked device reaches is {:.3g}",
+    return fmt::format("no stage{} reaches a gain of {:.3g} into {}: the largest any stocked device reaches is {:.3g}",
+                       spec.zin_min_ohm > 0 ? fmt::format(" with an input impedance of {} or more",
+                                                          units::format_value(spec.zin_min_ohm, units::Unit::ohm))
+                                            : std::string(),
                        spec.gain, units::format_value(spec.load_ohm, units::Unit::ohm), t.best_gain);
   if (binding == "swing" && spec.swing_vpp && *spec.swing_vpp >= spec.supply_lo_v)
     return fmt::format(

@@ -202,3 +202,23 @@ TEST_CASE("a drawer without a kind of part every stage takes says so, not that t
   CHECK(no_q.diagnosis.binding == "stock");
   CHECK(has(no_q.diagnosis.detail, "no piece of the transistor or op-amp types"));
 }
+
+TEST_CASE("a gain out of reach under the input impedance asked says so with the impedance") {
+  // A common emitter from a divider with Zin >= 220k: beta (re + RE1) must stay above it, so the
+  // unbypassed RE1 caps the gain near (RC || RL) / RE1, a few into 2k2 (Sedra & Smith's CE with
+  // an emitter resistance). Without the limit a gain of 20 is in reach, but the distortion at
+  // 2 Vpp from 7 V then binds too: no one limit let go gives a stage, and the gain's words
+  // stand. They must carry the impedance they were found under.
+  synth::Spec s = request(20, 2.2e3, 7, 220e3);
+  s.supply_hi_v = 9.6;
+  s.band_hz = std::make_pair(40.0, 12e3);
+  s.swing_vpp = 2;
+  s.temp_c = std::make_pair(0.0, 45.0);
+  s.copies = 2;
+  s.topologies = {"bjt-ce-divider", "jfet-cs-divider", "bjt-ce-shunt"};
+  const auto r = synth::design(s, shelf());
+  REQUIRE(r.candidates.empty());
+  REQUIRE(r.diagnosis.binding == "gain");  // (else this checks nothing)
+  CHECK(has(r.diagnosis.detail, "no stage with an input impedance of 220k"));
+  CHECK(has(r.diagnosis.detail, "the largest any stocked device reaches"));
+}
