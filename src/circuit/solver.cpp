@@ -8,6 +8,7 @@
 #include <fmt/format.h>
 #include <numbers>
 
+#include "shelfstage/circuit/complex_pivot.hpp"
 #include "shelfstage/error.hpp"
 
 namespace shelfstage::circuit {

@@ -23,6 +23,7 @@
 
 #include "common.hpp"
 #include "distortion.hpp"
+#include "shelfstage/circuit/complex_pivot.hpp"
 
 namespace shelfstage::stages {
 namespace {

@@ -10,6 +10,7 @@
 #include <numbers>
 
 #include "distortion.hpp"
+#include "shelfstage/circuit/complex_pivot.hpp"
 #include "shelfstage/error.hpp"
 
 namespace shelfstage::stages::detail {
