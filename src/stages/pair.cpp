@@ -226,22 +226,11 @@ NodesOf<T> nodes_at(const PairParts& s, const PairDevices& d, const T& u, const 
   return n;
 }
 
-// The values of nodes taken on Dual (the same numbers as the double pass).
+// The values of nodes taken on Dual (the same numbers as the double pass), in NodesOf's order.
 Nodes values_of(const NodesOf<Dual>& n) {
-  Nodes v;
-  v.i1 = n.i1.v;
-  v.ib1 = n.ib1.v;
-  v.ic2 = n.ic2.v;
-  v.ib2 = n.ib2.v;
-  v.vg = n.vg.v;
-  v.ve = n.ve.v;
-  v.vx = n.vx.v;
-  v.vd = n.vd.v;
-  v.vo = n.vo.v;
-  v.ve2 = n.ve2.v;
-  v.r_e = n.r_e.v;
-  v.r_d = n.r_d.v;
-  return v;
+  const auto v = [](const Dual& x) { return x.v; };
+  return {v(n.i1), v(n.ib1), v(n.ic2), v(n.ib2), v(n.vg),  v(n.ve),
+          v(n.vx), v(n.vd),  v(n.vo),  v(n.ve2), v(n.r_e), v(n.r_d)};
 }
 
 // Newton on (u, w) from (u0, w0); the Jacobian exact (nodes_at on Dual), kept once the steps
