@@ -293,6 +293,12 @@ std::string in_band_shares(const Candidate& c, const Spec& spec, const StageSpre
 //     read from the widened gain range.
 //  7. With a load capacitance (Depth::full), the gain range also takes the exact solver's
 //     in-band gain (in_band_shares above).
+//  8. Depth::search takes the parts as given at every point before it works out the parts'
+//     directions and the sets they push: a stage that fails at a corner piece with its
+//     parts as given (most that fail do: the piece moves a figure more than a part's
+//     tolerance) is rejected without the directions' two evaluations per part. The points
+//     and sets are the same either way, and every range and the worst error are the same
+//     whatever the order; only which failure is named first can differ.
 std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, Depth depth, bool wanted) {
   const auto& t = *c.topology;
   const StageSpread spread = spread_of(c);
@@ -320,38 +326,73 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
 
   Worst w;
   c.error_worst = 0;
-  std::vector<PartSet> search_sets;
-  if (depth == Depth::search)
-    search_sets = part_sets(directions(c, make_transistor(spread, spread.nominal(), t_nom), probe, evaluations), depth);
-  for (const auto& f : pieces) {
-    const std::vector<PartSet> sets =
-        depth == Depth::search ? search_sets
-                               : part_sets(directions(c, make_transistor(spread, f, t_nom), probe, evaluations), depth);
+  // One set at one point: evaluated, checked, and its figures taken into w (a rejection's
+  // reason, else empty).
+  auto take = [&](const PartSet& set, const stages::Transistor& q, double temp,
+                  stages::Conditions& cond) -> std::string {
+    cond.distortion = distortion && set.distortion;
+    const auto p = t.evaluate(values_of(c, set.way), q, cond, set.detail);
+    ++evaluations;
+    ++w.evaluations;
+    std::string failed = violation(spec, p);
+    if (failed.empty() && set.detail != stages::Detail::core) failed = check_ratings(spec, c, p, temp);
+    if (!failed.empty()) return failed;
+    add_figures(w, p, set.detail == stages::Detail::full);
+    if (set.detail != stages::Detail::core) {
+      add_cap_dc(w, c, p);
+      add_device_stress(w, device_stress(spec, c, p, temp));
+      if (c.device2) add_device2_stress(w, device2_stress(spec, c, p, temp));
+    }
+    c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
+    return {};
+  };
+  // Every temperature and supply at one piece, then every piece: `at` for each point (the
+  // first rejection's reason, else empty).
+  auto at_piece = [&](const StagePiece& f, auto&& at) -> std::string {
     for (double temp : temps) {
       const stages::Transistor q = make_transistor(spread, f, temp);
       for (double vs : supplies) {
         stages::Conditions cond = conditions(spec, vs, temp);
-        for (const PartSet& set : sets) {
-          cond.distortion = distortion && set.distortion;
-          const auto p = t.evaluate(values_of(c, set.way), q, cond, set.detail);
-          ++evaluations;
-          ++w.evaluations;
-          std::string failed = violation(spec, p);
-          if (failed.empty() && set.detail != stages::Detail::core) failed = check_ratings(spec, c, p, temp);
-          if (!failed.empty()) {  // rejected: its ranges no longer matter
-            c.worst = w;
-            return failed;
-          }
-          add_figures(w, p, set.detail == stages::Detail::full);
-          if (set.detail != stages::Detail::core) {
-            add_cap_dc(w, c, p);
-            add_device_stress(w, device_stress(spec, c, p, temp));
-            if (c.device2) add_device2_stress(w, device2_stress(spec, c, p, temp));
-          }
-          c.error_worst = std::max(c.error_worst, std::abs(std::abs(p.gain) / spec.gain - 1.0));
-        }
+        if (std::string v = at(q, temp, cond); !v.empty()) return v;
       }
     }
+    return {};
+  };
+  auto each_point = [&](auto&& at) -> std::string {
+    for (const auto& f : pieces)
+      if (std::string v = at_piece(f, at); !v.empty()) return v;
+    return {};
+  };
+  auto each_set = [&](const std::vector<PartSet>& sets) {
+    return [all = &sets, &take](const stages::Transistor& q, double temp, stages::Conditions& cond) -> std::string {
+      for (const PartSet& set : *all)
+        if (std::string v = take(set, q, temp, cond); !v.empty()) return v;
+      return {};
+    };
+  };
+  std::string failed;
+  if (depth == Depth::search) {
+    // NOTES 8: the parts as given at every point first (part_sets' first set at this depth),
+    // then the parts' directions and the sets they push.
+    const std::vector<PartSet> as_given{{Signs{}, stages::Detail::stress, true}};
+    failed = each_point(each_set(as_given));
+    if (failed.empty()) {
+      std::vector<PartSet> sets =
+          part_sets(directions(c, make_transistor(spread, spread.nominal(), t_nom), probe, evaluations), depth);
+      if (sets.front().way == Signs{} && sets.front().detail == stages::Detail::stress && sets.front().distortion)
+        sets.erase(sets.begin());
+      failed = each_point(each_set(sets));
+    }
+  } else {
+    for (const auto& f : pieces) {
+      const std::vector<PartSet> sets =
+          part_sets(directions(c, make_transistor(spread, f, t_nom), probe, evaluations), depth);
+      if (failed = at_piece(f, each_set(sets)); !failed.empty()) break;
+    }
+  }
+  if (!failed.empty()) {  // rejected: its ranges no longer matter
+    c.worst = w;
+    return failed;
   }
   // NOTES 7: a load capacitance's share of the in-band gain.
   if (depth == Depth::full && spec.load_farads > 0) {
