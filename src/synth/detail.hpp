@@ -2,10 +2,12 @@
 #pragma once
 #include <algorithm>
 #include <atomic>
+#include <exception>
 #include <functional>
 #include <limits>
 #include <map>
 #include <memory>
+#include <mutex>
 #include <optional>
 #include <thread>
 #include <vector>
@@ -318,7 +320,10 @@ inline thread_local bool in_parallel_for = false;
 /// The one thread pool of the search: Runs fn(i) for i in [0, n) on the machine's cores (fn must not share state
 /// unguarded). Called from inside another parallel_for's work (a chain's stage pools each run
 /// a search), it runs on the calling thread alone: the cores are busy already (the shelf's
-/// answers are shared by every thread, Shelf NOTES 3).
+/// answers are shared by every thread, Shelf NOTES 3). An exception an item throws reaches
+/// the caller, on whichever thread the item ran (the first one, when several throw), and the
+/// items not yet taken are left, as a loop on one thread leaves them: an exception escaping
+/// a thread's function would end the program.
 template <class Fn>
 void parallel_for(std::size_t n, const Fn& fn) {
   if (in_parallel_for || n == 1) {  // (one piece of work: its own may use the cores)
@@ -326,9 +331,19 @@ void parallel_for(std::size_t n, const Fn& fn) {
     return;
   }
   std::atomic<std::size_t> next{0};
+  std::mutex thrown_lock;
+  std::exception_ptr thrown;
   auto worker = [&] {
     in_parallel_for = true;
-    for (std::size_t i = next++; i < n; i = next++) fn(i);
+    for (std::size_t i = next++; i < n; i = next++) {
+      try {
+        fn(i);
+      } catch (...) {
+        const std::lock_guard held(thrown_lock);
+        if (!thrown) thrown = std::current_exception();
+        next = n;
+      }
+    }
     in_parallel_for = false;
   };
   const unsigned k = std::min<unsigned>(std::max(1u, std::thread::hardware_concurrency()), static_cast<unsigned>(n));
@@ -336,6 +351,7 @@ void parallel_for(std::size_t n, const Fn& fn) {
   for (unsigned t = 1; t < k; ++t) threads.emplace_back(worker);
   worker();
   for (auto& th : threads) th.join();
+  if (thrown) std::rethrow_exception(thrown);
 }
 
 }  // namespace shelfstage::synth::detail

@@ -8,6 +8,7 @@
 #include <cmath>
 #include <map>
 #include <span>
+#include <stdexcept>
 
 #include "../src/synth/detail.hpp"
 #include "demo_shelf.hpp"
@@ -38,6 +39,29 @@ int stock_of(const synth::Inventory& inv, double value) {
 }
 
 }  // namespace
+
+TEST_CASE("parallel_for: every item runs once, and an item's exception reaches the caller") {
+  // The search's one thread pool. An exception escaping a thread's function would end the
+  // program (std::terminate): a failure deep in a search must come back as an error instead.
+  std::vector<int> ran(64, 0);
+  synth::detail::parallel_for(ran.size(), [&](std::size_t i) { ++ran[i]; });
+  CHECK(std::all_of(ran.begin(), ran.end(), [](int k) { return k == 1; }));
+  for (const std::size_t bad : {std::size_t{0}, std::size_t{37}, std::size_t{63}})
+    CHECK_THROWS_WITH_AS(synth::detail::parallel_for(64,
+                                                     [&](std::size_t i) {
+                                                       if (i == bad) throw std::runtime_error("item failed");
+                                                     }),
+                         "item failed", std::runtime_error);
+  // Inside another loop's work the items run on the calling thread; the exception comes out
+  // of both loops.
+  CHECK_THROWS_AS(synth::detail::parallel_for(4,
+                                              [](std::size_t) {
+                                                synth::detail::parallel_for(8, [](std::size_t j) {
+                                                  if (j == 5) throw std::runtime_error("inner");
+                                                });
+                                              }),
+                  std::runtime_error);
+}
 
 TEST_CASE("only stocked values and quantities: one piece short and the best design is not offered") {
   for (int copies : {1, 3}) {
