@@ -592,6 +592,7 @@ class ChainSearch {
     while (!past && linked < kToCorners && next < paths.size()) {
       const double limit = bar(assessed);
       std::vector<Candidate> batch;
+      std::vector<std::vector<const void*>> ids;  // each chain's stages as its pools hold them
       for (; next < paths.size() && batch.size() < batch_size && linked < kToCorners; ++next) {
         if (paths[next].foreseen > limit) {
           past = true;
@@ -604,12 +605,14 @@ class ChainSearch {
           continue;
         }
         batch.push_back(std::move(ch));
+        ids.emplace_back(paths[next].stages.begin(), paths[next].stages.end());
         ++linked;
       }
       std::vector<std::string> failed(batch.size());
       std::vector<long> evals(batch.size(), 0);
-      parallel_for(batch.size(),
-                   [&](std::size_t i) { failed[i] = chain_corners(batch[i], spec_, evals[i], Depth::search); });
+      parallel_for(batch.size(), [&](std::size_t i) {
+        failed[i] = chain_corners(batch[i], spec_, evals[i], Depth::search, &memo_, ids[i]);
+      });
       for (std::size_t i = 0; i < batch.size(); ++i) {
         tally_.evaluations += evals[i];
         if (failed[i].empty())
@@ -826,6 +829,7 @@ class ChainSearch {
   std::map<std::string, int> stocked_;  ///< device units by name (stocked_units)
   double band_lo_ = 0, band_hi_ = 0;
   std::map<std::string, std::vector<Candidate>> pools_;
+  ChainMemo memo_;                ///< the corner passes' stages, by the pooled stages from each position on
   std::vector<Candidate> found_;  ///< the chains the plans searched so far keep, best first
 };
 

@@ -4,6 +4,8 @@
 #include <cmath>
 #include <fmt/format.h>
 #include <map>
+#include <memory>
+#include <mutex>
 
 #include "detail.hpp"
 #include "shelfstage/circuit/solver.hpp"
@@ -72,6 +74,13 @@ RolePart* part_of(Candidate& s, std::string_view role) {
 //     kPolarForwardV forward across all of it (turned round when the next stage sits higher),
 //     and its rating must hold the largest.
 //  5. The chain's -3 dB corners are sought on the whole chain (chain_band_corners).
+//  6. A stage's pass depends on the stages from it to the load alone: its load is the next
+//     stage's input impedance, its level the requested output over the gain after it, its
+//     source the node before it (the first stage's, the request's source, is the whole
+//     chain), and its output capacitor is fitted for the next stage. The search's corner
+//     passes (ChainMemo) take the stages from a position on that an earlier chain had there
+//     from that chain's pass: the same figures, or the same failure, without the corners
+//     again (the best chains of a plan share their last stages: about half the stage passes).
 
 namespace {
 
@@ -317,14 +326,63 @@ void gather_cautions(Candidate& ch, const std::vector<Spec>& subs) {
 
 }  // namespace
 
-std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth) {
+struct ChainMemo::Impl {
+  /// A stage's pass as stage_in_chain left it: the failure, else the stage, its request and
+  /// the chain's figures from it to the load.
+  struct Found {
+    std::string failed;
+    Candidate stage;
+    Spec sub;
+    Backward acc;
+  };
+  /// The chain's length and the stages from a position on.
+  using Key = std::pair<std::size_t, std::vector<const void*>>;
+  std::mutex lock;
+  std::map<Key, std::shared_ptr<const Found>> found;
+};
+
+ChainMemo::ChainMemo() : impl_(std::make_unique<Impl>()) {}
+ChainMemo::~ChainMemo() = default;
+
+std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth, ChainMemo* memo,
+                          std::span<const void* const> ids) {
   const std::size_t n = ch.stages.size();
   ChainPass pass{ch, spec, evaluations, depth, {}, std::vector<Spec>(n)};
   if (std::string v = chain_nominal(pass); !v.empty()) return v;
+  if (ids.size() != n || depth != Depth::search) memo = nullptr;
   // From the last stage back, so each knows the smallest gain after it (for its peak).
   Backward acc;
-  for (std::size_t k = n; k-- > 0;)
-    if (std::string v = stage_in_chain(pass, k, acc); !v.empty()) return v;
+  for (std::size_t k = n; k-- > 0;) {
+    // NOTES 6: the stages from k on, and where k stands (the links' designators and input
+    // capacitors go by it).
+    ChainMemo::Impl::Key key;
+    std::shared_ptr<const ChainMemo::Impl::Found> seen;
+    if (memo) {
+      key = {n, std::vector<const void*>(ids.begin() + static_cast<std::ptrdiff_t>(k), ids.end())};
+      const std::lock_guard held(memo->impl().lock);
+      if (const auto it = memo->impl().found.find(key); it != memo->impl().found.end()) seen = it->second;
+    }
+    if (seen) {
+      if (!seen->failed.empty()) return seen->failed;
+      ch.stages[k] = seen->stage;
+      pass.subs[k] = seen->sub;
+      acc = seen->acc;
+      continue;
+    }
+    std::string v = stage_in_chain(pass, k, acc);
+    if (memo) {
+      auto found = std::make_shared<ChainMemo::Impl::Found>();
+      found->failed = v;
+      if (v.empty()) {
+        found->stage = ch.stages[k];
+        found->sub = pass.subs[k];
+        found->acc = acc;
+      }
+      const std::lock_guard held(memo->impl().lock);
+      memo->impl().found.emplace(std::move(key), std::move(found));
+    }
+    if (!v.empty()) return v;
+  }
   if (std::string v = close_totals(acc, spec); !v.empty()) return v;
   if (std::string v = check_links(ch, spec); !v.empty()) return v;
   whole_chain_worst(acc, pass);

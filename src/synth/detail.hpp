@@ -274,11 +274,31 @@ RolePart role_part(const stages::Topology& topology, std::size_t role, const Com
 /// of it), else infinity. Never throws for "nothing fits".
 std::vector<Candidate> design_chains(const Spec& spec, const Inventory& inv, const Shelf& shelf, SearchStats& tally,
                                      double ceiling = std::numeric_limits<double>::infinity());
+/// What the corner passes of chains (Depth::search) found for their stages from some position
+/// to the last, by the stages there: a stage's conditions are set from the load back, so
+/// every chain with the same stages from that position on puts it in the same ones and gets
+/// the same worst case (NOTES 6 in chain_eval.cpp). Shared by the threads of a corner pass.
+class ChainMemo {
+ public:
+  ChainMemo();
+  ~ChainMemo();
+  ChainMemo(const ChainMemo&) = delete;
+  ChainMemo& operator=(const ChainMemo&) = delete;
+  struct Impl;
+  Impl& impl() { return *impl_; }
+
+ private:
+  std::unique_ptr<Impl> impl_;
+};
+
 /// A chain's corner pass (its stages' values, devices and parts given): each stage at its
 /// corners in the conditions the chain puts it in; fills the chain's figures from the fast
 /// evaluation, its worst range, pieces, cautions and score. Returns the first constraint
-/// broken ("swing: stage 2") or empty.
-std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth);
+/// broken ("swing: stage 2") or empty. With a memo (Depth::search), `ids` names each stage
+/// (the same id for the same stage, as its place in a stage pool), and the stages from a
+/// position on that a chain before had there take what that chain's pass found.
+std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, Depth depth, ChainMemo* memo = nullptr,
+                          std::span<const void* const> ids = {});
 /// The whole chain by the exact solver: its figures replace the fast ones and the worst
 /// gain range moves with the exact-to-fast ratio. Returns the constraint broken or empty.
 /// The search solves with Detail::core; the chains shown are solved again with Detail::full
