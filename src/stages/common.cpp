@@ -397,7 +397,7 @@ double least_swing_current(const Goal& g, double load_ohm) {
 }
 
 bool short_of_swing_up(const Goal& g, double most_current_a, double pull_ohm, double load_ohm) {
-  const bool out = !g.probe && most_current_a * par(pull_ohm, load_ohm) < g.swing_peak_v;
+  const bool out = !g.probe && g.swing_credit * most_current_a * par(pull_ohm, load_ohm) < g.swing_peak_v;
   if (out && g.left_out) ++g.left_out->swing;
   return out;
 }

@@ -252,7 +252,8 @@ double least_swing_current(const Goal& g, double load_ohm);
 /// Whether a class-A output pulled up through pull_ohm, carrying at most most_current_a,
 /// falls short of the swing on its way up: as the device turns off the output rises by the
 /// quiescent current times the pull-up in parallel with the load (less where feedback loads
-/// it too). A probe keeps every resistor. Counted in Goal::left_out.
+/// it too), and the request's screen credits the stage with Goal::swing_credit of its swing.
+/// A probe keeps every resistor. Counted in Goal::left_out.
 bool short_of_swing_up(const Goal& g, double most_current_a, double pull_ohm, double load_ohm);
 
 /// The largest drain resistor a JFET common source's headroom allows: the drain above the

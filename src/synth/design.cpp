@@ -238,6 +238,7 @@ stages::Goal StageBuilder::goal() const {
   g.gain_lo = spec_.gain * (1.0 - spec_.gain_tol);
   g.zin_min_ohm = spec_.zin_min_ohm;
   g.swing_peak_v = detail::least_swing_peak(spec_);
+  g.swing_credit = 1.0 - detail::kModelMargin.swing;  // (violation())
   g.max_current_a = spec_.max_current_a.value_or(0);
   g.f_low_hz = spec_.f_low_target_hz();
   g.probe = probe_;

@@ -659,3 +659,31 @@ TEST_CASE("a draft's nominal screen put off and taken later decides and counts a
   CHECK(put_off > drafts);  // (every draft that holds was put off, and some that fail)
   CHECK(failed_later > 0);
 }
+
+TEST_CASE("the design steps credit a stage with the share of its swing that the screen counts") {
+  // stages::short_of_swing_up leaves out a pull-up with which the largest swing the stage
+  // could give, times Goal::swing_credit, falls short of the swing asked. That stops only
+  // stages the request's screen (violation()) stops too when the screen credits a stage with
+  // the same share: a swing just over the credited edge passes, one just under it fails.
+  const synth::Inventory inv = test::small_shelf(10, {test::npn()});
+  const synth::Shelf shelf(inv.parts, {});
+  for (const bool asked : {true, false}) {
+    synth::Spec spec = test::basic_spec(8);
+    if (!asked) spec.swing_vpp.reset();
+    const synth::StageBuilder builder(spec, shelf, *stages::find_topology("bjt-ce-divider"), inv.devices.at(0), nullptr,
+                                      10);
+    const stages::Goal g = builder.goal();
+    REQUIRE(g.swing_credit > 0.5);
+    REQUIRE(g.swing_credit <= 1.0);
+    stages::Performance p;
+    p.valid = p.active = true;
+    p.gain = 8;
+    p.zin_ohm = 1e9;
+    const double edge = g.swing_peak_v / g.swing_credit;
+    p.swing_peak_v = p.clip_peak_v = edge * (1 + 1e-9);
+    CHECK_MESSAGE(synth::detail::violation(spec, p).empty(), "swing asked: ", asked);
+    p.swing_peak_v = p.clip_peak_v = edge * (1 - 1e-9);
+    // ("distortion" when a swing is asked and the stage clips past it: the rated swing is short.)
+    CHECK_MESSAGE(!synth::detail::violation(spec, p).empty(), "swing asked: ", asked);
+  }
+}

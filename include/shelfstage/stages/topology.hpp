@@ -326,10 +326,13 @@ struct LeftOut {
 
 /// The targets a topology designs toward (the request, in the N frame).
 struct Goal {
-  double gain = 10;          ///< |V/V| from the source to the load
-  double gain_lo = 0;        ///< the least |V/V| the request accepts (its window's low end; 0: any)
-  double zin_min_ohm = 0;    ///< lowest acceptable input impedance
-  double swing_peak_v = 0;   ///< required output peak (0: none)
+  double gain = 10;         ///< |V/V| from the source to the load
+  double gain_lo = 0;       ///< the least |V/V| the request accepts (its window's low end; 0: any)
+  double zin_min_ohm = 0;   ///< lowest acceptable input impedance
+  double swing_peak_v = 0;  ///< required output peak (0: none)
+  /// The share of a stage's output swing the request's screen credits it with (the swing
+  /// less the model's margin): a bound on the swing is compared with swing_peak_v after it.
+  double swing_credit = 1.0;
   double max_current_a = 0;  ///< supply current limit (0: none)
   double f_low_hz = 20;      ///< lowest frequency to pass (capacitors are sized for it)
   /// Probing how far the stage can go: where the gain is out of reach within the headroom,
