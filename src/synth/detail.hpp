@@ -12,6 +12,7 @@
 #include <thread>
 #include <vector>
 #include <span>
+#include <system_error>
 #include <string>
 #include <vector>
 
@@ -368,7 +369,13 @@ void parallel_for(std::size_t n, const Fn& fn) {
   };
   const unsigned k = std::min<unsigned>(std::max(1u, std::thread::hardware_concurrency()), static_cast<unsigned>(n));
   std::vector<std::thread> threads;
-  for (unsigned t = 1; t < k; ++t) threads.emplace_back(worker);
+  for (unsigned t = 1; t < k; ++t) {
+    try {
+      threads.emplace_back(worker);
+    } catch (const std::system_error&) {
+      break;  // no more threads to be had (a process limit): those started and this one take every item
+    }
+  }
   worker();
   for (auto& th : threads) th.join();
   if (thrown) std::rethrow_exception(thrown);
