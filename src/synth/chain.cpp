@@ -303,15 +303,17 @@ class ChainSearch {
     return out;
   }
 
-  /// The last stage's band-edge losses into the load.
+  /// The last stage's band-edge losses into the load (once per pooled stage: every path
+  /// ending in it asks).
   double last_loss(const Candidate& c) {
+    if (const auto it = last_losses_.find(&c); it != last_losses_.end()) return it->second;
     // (Here, in the graph's edges and in the refinements: small-signal figures alone.)
     stages::Conditions cc = stages::small_signal(c.conditions);
     cc.band_lo_hz = band_lo_;
     cc.band_hi_hz = band_hi_;
     const auto p = c.topology->evaluate(c.values, c.nominal_device, cc);
     ++tally_.evaluations;
-    return p.loss_lo_db + p.loss_hi_db;
+    return last_losses_[&c] = p.loss_lo_db + p.loss_hi_db;
   }
 
   std::vector<const stages::Topology*> topologies(Slot slot) const {
@@ -829,8 +831,9 @@ class ChainSearch {
   std::map<std::string, int> stocked_;  ///< device units by name (stocked_units)
   double band_lo_ = 0, band_hi_ = 0;
   std::map<std::string, std::vector<Candidate>> pools_;
-  ChainMemo memo_;                ///< the corner passes' stages, by the pooled stages from each position on
-  std::vector<Candidate> found_;  ///< the chains the plans searched so far keep, best first
+  ChainMemo memo_;  ///< the corner passes' stages, by the pooled stages from each position on
+  std::map<const Candidate*, double> last_losses_;  ///< last_loss by pooled stage
+  std::vector<Candidate> found_;                    ///< the chains the plans searched so far keep, best first
 };
 
 }  // namespace
