@@ -369,6 +369,7 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, De
       acc = seen->acc;
       continue;
     }
+    const long before = evaluations;
     std::string v = stage_in_chain(pass, k, acc);
     if (memo) {
       auto found = std::make_shared<ChainMemo::Impl::Found>();
@@ -379,7 +380,9 @@ std::string chain_corners(Candidate& ch, const Spec& spec, long& evaluations, De
         found->acc = acc;
       }
       const std::lock_guard held(memo->impl().lock);
-      memo->impl().found.emplace(std::move(key), std::move(found));
+      // A chain on another thread found the same meanwhile: its evaluations are counted, these
+      // are not (the count is the same however the threads meet).
+      if (!memo->impl().found.emplace(std::move(key), std::move(found)).second) evaluations = before;
     }
     if (!v.empty()) return v;
   }
