@@ -88,6 +88,7 @@ struct PartSet {
   Signs way{};
   stages::Detail detail = stages::Detail::core;
   bool distortion = true;  ///< (the search's depth) pushed for a figure the distortion decides
+  bool operator==(const PartSet&) const = default;
 };
 
 void add_set(std::vector<PartSet>& sets, const Signs& way, stages::Detail detail, bool distortion = true) {
@@ -104,10 +105,14 @@ void add_set(std::vector<PartSet>& sets, const Signs& way, stages::Detail detail
 // both ways). Sets pushed for the band-edge losses are evaluated in full, so that they range
 // the -3 dB corners too; every set in full depth, and the nominal and bias sets in the
 // search, carry part stress for the rating and polarity checks.
+// The parts as given: every depth's first set.
+PartSet as_given(Depth depth) {
+  return {Signs{}, depth == Depth::full ? stages::Detail::full : stages::Detail::stress, true};
+}
+
 std::vector<PartSet> part_sets(const Directions& d, Depth depth) {
-  std::vector<PartSet> sets;
+  std::vector<PartSet> sets{as_given(depth)};
   const bool full = depth == Depth::full;
-  add_set(sets, Signs{}, full ? stages::Detail::full : stages::Detail::stress);
   std::vector<Push> pushes(std::begin(kSearchPushes), std::end(kSearchPushes));
   if (full) {
     pushes.clear();
@@ -374,13 +379,14 @@ std::string evaluate_worst(Candidate& c, const Spec& spec, long& evaluations, De
   if (depth == Depth::search) {
     // NOTES 8: the parts as given at every point first (part_sets' first set at this depth),
     // then the parts' directions and the sets they push.
-    const std::vector<PartSet> as_given{{Signs{}, stages::Detail::stress, true}};
-    failed = each_point(each_set(as_given));
+    const std::vector<PartSet> given{as_given(depth)};
+    failed = each_point(each_set(given));
     if (failed.empty()) {
       std::vector<PartSet> sets =
           part_sets(directions(c, make_transistor(spread, spread.nominal(), t_nom), probe, evaluations), depth);
-      if (sets.front().way == Signs{} && sets.front().detail == stages::Detail::stress && sets.front().distortion)
-        sets.erase(sets.begin());
+      // (A push whose parts all stay put merges into the first set; at this depth that
+      // changes nothing in it.)
+      if (sets.front() == given.front()) sets.erase(sets.begin());
       failed = each_point(each_set(sets));
     }
   } else {
