@@ -395,8 +395,10 @@ class ChainSearch {
       for (std::size_t k = 0; k < pos; ++k) pieces += least_pieces(plan[k], k);
       return pieces;
     };
+    // Before any pool: the least pieces of every position and the stage points alone. (After
+    // each position's pools, the floor over the layers made so far, below.)
+    if (floor_of(layers, n, ahead(n)) > limit) return false;
     for (std::size_t pos = n; pos-- > 0;) {
-      if (floor_of(layers, pos + 1, ahead(pos + 1)) > limit) return false;
       double after = 1.0;  // gain assumed after this position
       for (std::size_t k = pos + 1; k < n; ++k) after *= plan[k] == Slot::gain ? share : kBufferGain;
       const double peak = out_peak / after;
